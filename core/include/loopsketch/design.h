@@ -1,0 +1,169 @@
+#pragma once
+
+// The design model: the one source of truth that the Sketch edits, the loader fills and
+// every analysis reads. Field names follow the design file schema loopsketch.design/1.
+
+#include "loopsketch/eseries.h"
+#include "loopsketch/value.h"
+
+#include <map>
+#include <optional>
+#include <span>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace loopsketch {
+
+inline constexpr std::string_view kDesignSchema = "loopsketch.design/1";
+inline constexpr std::string_view kGroundNode = "0";
+
+enum class PartType { Resistor, Capacitor, Inductor, VSource, ISource, GainBlock, Load };
+
+/// A number with the text it was written as. `text` empty means it was written as a plain
+/// JSON number; saving writes back whichever form was read, so files round-trip unchanged.
+struct Value
+{
+    double si = 0.0; ///< SI base units (ohm, farad, henry, hertz, V/V, fraction)
+    std::string text;
+
+    bool operator==(const Value &) const = default;
+};
+
+/// Static description of one numeric field of a part type.
+struct FieldSpec
+{
+    std::string_view name; ///< JSON key, e.g. "value", "r_out"
+    ValueKind kind;
+    ValueRange range;
+    bool required;
+    double defaultValue; ///< SI value used when the field is absent and not required
+};
+
+/// Static description of a part type: its JSON name, terminals and fields, in file order.
+struct PartSpec
+{
+    PartType type;
+    std::string_view typeName; ///< "resistor", "gain_block", ...
+    std::vector<std::string_view> terminals; ///< node keys, e.g. {"a", "b"}
+    std::vector<FieldSpec> fields; ///< numeric fields
+    bool hasFrequencyLists = false; ///< poles_hz / zeros_hz (gain block)
+    bool isSignalSource = false;
+};
+
+/// The spec of a type; every PartType has one.
+const PartSpec &partSpec(PartType type);
+
+/// The type whose JSON name is `typeName`, nullopt when unknown.
+std::optional<PartType> parsePartType(std::string_view typeName);
+
+/// All specs, in the order the palette shows them.
+std::span<const PartSpec> allPartSpecs();
+
+struct Part
+{
+    std::string id;
+    PartType type = PartType::Resistor;
+    std::vector<std::string> nodes; ///< one per partSpec(type).terminals, same order
+    std::map<std::string, Value> fields; ///< only the fields present in the file
+    std::vector<Value> polesHz; ///< gain block only
+    std::vector<Value> zerosHz; ///< gain block only
+    std::optional<ESeries> series;
+    std::optional<Value> tolerance; ///< fraction, e.g. 0.01 for "1%"
+
+    /// The node on terminal `terminal` ("a", "in_n" ...); empty when the type has no such
+    /// terminal.
+    std::string node(std::string_view terminal) const;
+
+    /// The SI value of a field, or the spec's default when absent.
+    double number(std::string_view field) const;
+
+    /// True when the field is present in the file.
+    bool has(std::string_view field) const { return fields.count(std::string(field)) != 0; }
+
+    /// The field that an E-series step changes: "value" for R/C/L, "r" for a load,
+    /// empty for types without one.
+    std::string_view primaryField() const;
+
+    bool operator==(const Part &) const = default;
+};
+
+enum class OutputKind { Voltage, Current };
+
+struct Sweep
+{
+    Value start{1.0, "1"};
+    Value stop{1e9, "1G"};
+    int pointsPerDecade = 100;
+
+    /// Frequencies in Hz, logarithmically spaced, start and stop included.
+    std::vector<double> frequencies() const;
+    bool operator==(const Sweep &) const = default;
+};
+
+struct Specs
+{
+    std::optional<Value> gainMin; ///< closed-loop gain window (signed, gain units)
+    std::optional<Value> gainMax;
+    std::optional<Value> bandwidthMin; ///< Hz
+    std::optional<double> phaseMarginMinDeg;
+    bool operator==(const Specs &) const = default;
+};
+
+struct Candidate
+{
+    std::string name;
+    std::map<std::string, Value> values; ///< part id -> primary-field value
+    bool operator==(const Candidate &) const = default;
+};
+
+struct SketchPlacement
+{
+    double x = 0;
+    double y = 0;
+    int rotation = 0; ///< degrees, multiple of 90
+    bool operator==(const SketchPlacement &) const = default;
+};
+
+struct SketchWire
+{
+    std::vector<std::pair<double, double>> points;
+    bool operator==(const SketchWire &) const = default;
+};
+
+struct SketchLayout
+{
+    std::map<std::string, SketchPlacement> parts;
+    std::vector<SketchWire> wires;
+    bool operator==(const SketchLayout &) const = default;
+};
+
+struct Design
+{
+    std::string title;
+    std::string notes;
+    std::vector<Part> parts;
+    std::string input; ///< id of the signal source
+    OutputKind output = OutputKind::Voltage;
+    Sweep sweep;
+    Specs specs;
+    std::vector<Candidate> candidates;
+    std::optional<SketchLayout> sketch;
+
+    const Part *findPart(std::string_view id) const;
+    Part *findPart(std::string_view id);
+
+    /// The unique part of a type (gain block, load); nullptr when absent or ambiguous.
+    const Part *uniquePart(PartType type) const;
+    /// The signal source named by `input`; nullptr when absent.
+    const Part *signalSource() const;
+
+    bool operator==(const Design &) const = default;
+};
+
+/// Checks a design in memory: the same rules the loader applies (ids, nodes, ground,
+/// floating subnetworks, value ranges, exactly one gain block / source / load, sweep).
+/// Empty when the design is valid. `file` is copied into each diagnostic.
+Diagnostics validateDesign(const Design &design, std::string_view file = {});
+
+} // namespace loopsketch

@@ -1,0 +1,10 @@
+# Fails when any file under core/ includes a Qt header or mentions a Qt6 target.
+file(GLOB_RECURSE files "${CORE_DIR}/*.h" "${CORE_DIR}/*.cpp" "${CORE_DIR}/CMakeLists.txt")
+foreach(f IN LISTS files)
+    file(STRINGS "${f}" hits REGEX "#include[ \t]*<Q|#include[ \t]*<Qt|Qt6::")
+    if(hits)
+        message(FATAL_ERROR "core must not depend on Qt: ${f}: ${hits}")
+    endif()
+endforeach()
+list(LENGTH files n)
+message(STATUS "checked ${n} core files: no Qt")
