@@ -1,1 +1,333 @@
-// in progress
+#include "loopsketch/circuit.h"
+
+#include <Eigen/LU>
+
+#include <cmath>
+#include <map>
+#include <numbers>
+
+namespace loopsketch {
+
+namespace {
+
+constexpr double kMinReciprocalCondition = 1e-14;
+// In the per-frequency loops: only an exactly singular or overflowing solve is rejected; a
+// badly scaled but regular matrix (1 GOhm beside a 1e6 gain) has a tiny unscaled rcond.
+constexpr double kMinLoopReciprocalCondition = 1e-30;
+
+bool isGround(const std::string &node)
+{
+    return node == "0";
+}
+
+/// Sparse linear combination of unknowns, used to chain the gain block's sections.
+using Combination = std::vector<std::pair<int, double>>;
+
+class Stamper
+{
+public:
+    explicit Stamper(const Netlist &netlist) : m_netlist(netlist) { }
+
+    Result<DescriptorSystem> run()
+    {
+        for (const auto &e : m_netlist.elements) {
+            if (!std::isfinite(e.value))
+                return fail(e.name, "value is not a finite number");
+            node(e.a);
+            node(e.b);
+        }
+        for (const auto &cs : m_netlist.controlled) {
+            node(cs.inP);
+            node(cs.inN);
+            node(cs.out);
+        }
+        const int nodeCount = static_cast<int>(m_sys.nodes.size());
+        for (const auto &n : m_sys.nodes)
+            m_sys.unknowns.push_back("v(" + n + ")");
+        // Branch currents and states are numbered after the nodes.
+        for (const auto &e : m_netlist.elements) {
+            if (e.kind == NetlistElement::Kind::Inductor
+                || e.kind == NetlistElement::Kind::VoltageSource) {
+                m_branch[e.name] = static_cast<int>(m_sys.unknowns.size());
+                m_sys.unknowns.push_back("i(" + e.name + ")");
+            }
+        }
+        for (std::size_t c = 0; c < m_netlist.controlled.size(); ++c) {
+            const auto &cs = m_netlist.controlled[c];
+            m_controlledBranch.push_back(static_cast<int>(m_sys.unknowns.size()));
+            m_sys.unknowns.push_back("i(" + cs.out + ".source)");
+            std::vector<int> states;
+            for (std::size_t p = 0; p < cs.polesHz.size(); ++p) {
+                states.push_back(static_cast<int>(m_sys.unknowns.size()));
+                m_sys.unknowns.push_back("x(" + cs.out + ".p" + std::to_string(p + 1) + ")");
+            }
+            m_states.push_back(states);
+        }
+        const int n = static_cast<int>(m_sys.unknowns.size());
+        (void)nodeCount;
+        m_sys.G = Eigen::MatrixXd::Zero(n, n);
+        m_sys.C = Eigen::MatrixXd::Zero(n, n);
+        m_sys.B = Eigen::MatrixXd::Zero(n, m_netlist.inputCount);
+
+        for (const auto &e : m_netlist.elements) {
+            if (auto bad = stampElement(e); !bad.empty())
+                return fail(e.name, bad);
+        }
+        std::vector<Combination> returns;
+        for (std::size_t c = 0; c < m_netlist.controlled.size(); ++c) {
+            auto r = stampControlled(m_netlist.controlled[c], m_controlledBranch[c], m_states[c]);
+            if (!r)
+                return r.diagnostics();
+            returns.push_back(*r);
+        }
+        m_sys.L = Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(m_netlist.outputs.size()), n);
+        for (std::size_t o = 0; o < m_netlist.outputs.size(); ++o) {
+            const auto &out = m_netlist.outputs[o];
+            const auto row = static_cast<Eigen::Index>(o);
+            switch (out.kind) {
+            case NetlistOutput::Kind::VoltageBetween:
+                if (int i = index(out.a); i >= 0)
+                    m_sys.L(row, i) += 1.0;
+                if (int i = index(out.b); i >= 0)
+                    m_sys.L(row, i) -= 1.0;
+                break;
+            case NetlistOutput::Kind::BranchCurrent: {
+                auto it = m_branch.find(out.a);
+                if (it == m_branch.end())
+                    return fail(out.a,
+                                "output asks for the current of an element without a "
+                                "branch current");
+                m_sys.L(row, it->second) = 1.0;
+                break;
+            }
+            case NetlistOutput::Kind::ControlledReturn:
+                if (returns.empty())
+                    return fail(out.a, "output asks for a controlled source that is not there");
+                for (auto [i, coeff] : returns.front())
+                    m_sys.L(row, i) += coeff;
+                break;
+            }
+        }
+        return std::move(m_sys);
+    }
+
+private:
+    Diagnostics fail(const std::string &element, const std::string &message) const
+    {
+        return Diagnostics{Diagnostic{{}, element, {}, message}};
+    }
+
+    void node(const std::string &name)
+    {
+        if (isGround(name) || m_nodeIndex.count(name))
+            return;
+        m_nodeIndex[name] = static_cast<int>(m_sys.nodes.size());
+        m_sys.nodes.push_back(name);
+    }
+
+    int index(const std::string &name) const
+    {
+        if (isGround(name))
+            return -1;
+        auto it = m_nodeIndex.find(name);
+        return it == m_nodeIndex.end() ? -1 : it->second;
+    }
+
+    void add(Eigen::MatrixXd &m, int r, int c, double v)
+    {
+        if (r >= 0 && c >= 0)
+            m(r, c) += v;
+    }
+
+    void stampAdmittance(Eigen::MatrixXd &m, int a, int b, double y)
+    {
+        add(m, a, a, y);
+        add(m, b, b, y);
+        add(m, a, b, -y);
+        add(m, b, a, -y);
+    }
+
+    std::string stampElement(const NetlistElement &e)
+    {
+        const int a = index(e.a);
+        const int b = index(e.b);
+        switch (e.kind) {
+        case NetlistElement::Kind::Resistor:
+            if (!(e.value > 0))
+                return "resistance must be greater than zero";
+            stampAdmittance(m_sys.G, a, b, 1.0 / e.value);
+            break;
+        case NetlistElement::Kind::Capacitor:
+            if (e.value < 0)
+                return "capacitance must not be negative";
+            stampAdmittance(m_sys.C, a, b, e.value);
+            break;
+        case NetlistElement::Kind::Inductor:
+        case NetlistElement::Kind::VoltageSource: {
+            const int j = m_branch.at(e.name);
+            add(m_sys.G, a, j, 1.0);
+            add(m_sys.G, b, j, -1.0);
+            add(m_sys.G, j, a, 1.0);
+            add(m_sys.G, j, b, -1.0);
+            if (e.kind == NetlistElement::Kind::Inductor) {
+                if (!(e.value > 0))
+                    return "inductance must be greater than zero";
+                m_sys.C(j, j) = -e.value;
+            } else if (e.input >= 0) {
+                m_sys.B(j, e.input) = 1.0;
+            }
+            break;
+        }
+        case NetlistElement::Kind::CurrentSource:
+            if (e.input >= 0) {
+                add(m_sys.B, a, e.input, 1.0);
+                add(m_sys.B, b, e.input, -1.0);
+            }
+            break;
+        }
+        return {};
+    }
+
+    /// Each pole is a first-order section  w + w'/wp = u; a zero paired with the pole makes
+    /// the section output  y = (wp/wz) u + (1 - wp/wz) w  algebraic, so no derivative of an
+    /// unknown is ever needed. Returns the combination gain * H(s) * vd.
+    Result<Combination> stampControlled(const ControlledSourceElement &cs, int branch,
+                                        const std::vector<int> &states)
+    {
+        if (cs.zerosHz.size() > cs.polesHz.size())
+            return fail(cs.out, "more zeros than poles (an improper gain) is not supported");
+        if (!std::isfinite(cs.gain))
+            return fail(cs.out, "gain is not a finite number");
+        Combination u;
+        if (int p = index(cs.inP); p >= 0)
+            u.push_back({p, 1.0});
+        if (int q = index(cs.inN); q >= 0)
+            u.push_back({q, -1.0});
+        for (std::size_t k = 0; k < cs.polesHz.size(); ++k) {
+            const double wp = 2.0 * std::numbers::pi * cs.polesHz[k];
+            if (!(wp > 0) || !std::isfinite(wp))
+                return fail(cs.out, "pole frequencies must be positive and finite");
+            const int w = states[k];
+            m_sys.G(w, w) += 1.0;
+            m_sys.C(w, w) += 1.0 / wp;
+            for (auto [i, coeff] : u)
+                m_sys.G(w, i) -= coeff;
+            Combination y;
+            if (k < cs.zerosHz.size()) {
+                const double wz = 2.0 * std::numbers::pi * cs.zerosHz[k];
+                if (!(wz > 0) || !std::isfinite(wz))
+                    return fail(cs.out, "zero frequencies must be positive and finite");
+                const double ratio = wp / wz;
+                for (auto [i, coeff] : u)
+                    y.push_back({i, ratio * coeff});
+                y.push_back({w, 1.0 - ratio});
+            } else {
+                y.push_back({w, 1.0});
+            }
+            u = std::move(y);
+        }
+        Combination ret;
+        for (auto [i, coeff] : u)
+            ret.push_back({i, cs.gain * coeff});
+
+        const int out = index(cs.out);
+        add(m_sys.G, out, branch, 1.0);
+        add(m_sys.G, branch, out, 1.0);
+        if (cs.mode == ControlledSourceElement::Mode::Normal) {
+            for (auto [i, coeff] : ret)
+                m_sys.G(branch, i) -= coeff;
+        } else if (cs.testInput >= 0) {
+            m_sys.B(branch, cs.testInput) = 1.0;
+        }
+        return ret;
+    }
+
+    const Netlist &m_netlist;
+    DescriptorSystem m_sys;
+    std::map<std::string, int> m_nodeIndex;
+    std::map<std::string, int> m_branch;
+    std::vector<int> m_controlledBranch;
+    std::vector<std::vector<int>> m_states;
+};
+
+} // namespace
+
+Result<DescriptorSystem> assembleSystem(const Netlist &netlist)
+{
+    return Stamper(netlist).run();
+}
+
+Eigen::MatrixXcd equilibrated(const Eigen::MatrixXcd &a)
+{
+    Eigen::MatrixXcd m = a;
+    for (Eigen::Index i = 0; i < m.rows(); ++i) {
+        const double r = m.row(i).cwiseAbs().maxCoeff();
+        if (r > 0)
+            m.row(i) /= r;
+    }
+    for (Eigen::Index j = 0; j < m.cols(); ++j) {
+        const double c = m.col(j).cwiseAbs().maxCoeff();
+        if (c > 0)
+            m.col(j) /= c;
+    }
+    return m;
+}
+
+bool isSingular(const Eigen::MatrixXcd &a)
+{
+    if (a.rows() == 0)
+        return false;
+    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(equilibrated(a));
+    return !(lu.rcond() > kMinReciprocalCondition);
+}
+
+std::string describeSingularity(const DescriptorSystem &system, std::complex<double> s)
+{
+    const Eigen::MatrixXcd a = equilibrated(system.G.cast<std::complex<double>>() + s * system.C);
+    Eigen::FullPivLU<Eigen::MatrixXcd> lu(a);
+    lu.setThreshold(1e-10);
+    if (lu.isInvertible())
+        return {};
+    const Eigen::MatrixXcd kernel = lu.kernel();
+    std::vector<std::string> involved;
+    for (Eigen::Index i = 0; i < kernel.rows(); ++i) {
+        if (kernel.row(i).cwiseAbs().maxCoeff() > 1e-6 * kernel.cwiseAbs().maxCoeff())
+            involved.push_back(system.unknowns[static_cast<std::size_t>(i)]);
+    }
+    std::string text = "the circuit has no unique solution";
+    if (s == std::complex<double>(0.0))
+        text += " at DC";
+    text += ": ";
+    for (std::size_t i = 0; i < involved.size(); ++i)
+        text += (i ? ", " : "") + involved[i];
+    text += " not determined (a floating node or subnetwork, a loop of voltage sources, or an "
+            "inductor loop)";
+    return text;
+}
+
+Result<std::vector<Eigen::MatrixXcd>> solveDense(const DescriptorSystem &system,
+                                                 const std::vector<double> &frequenciesHz)
+{
+    const int n = system.size();
+    Eigen::MatrixXcd a(n, n);
+    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(n);
+    const Eigen::MatrixXcd b = system.B.cast<std::complex<double>>();
+    std::vector<Eigen::MatrixXcd> out;
+    out.reserve(frequenciesHz.size());
+    for (double f : frequenciesHz) {
+        const std::complex<double> s(0.0, 2.0 * std::numbers::pi * f);
+        a = system.G.cast<std::complex<double>>() + s * system.C;
+        lu.compute(a);
+        const Eigen::MatrixXcd x = lu.solve(b);
+        if (!(lu.rcond() > kMinLoopReciprocalCondition) || !x.allFinite()) {
+            std::string why = describeSingularity(system, s);
+            if (why.empty())
+                why = "the circuit equations are too ill-conditioned to solve";
+            return Diagnostic{{}, {}, {}, why};
+        }
+        out.push_back(system.L * x);
+    }
+    return out;
+}
+
+} // namespace loopsketch

@@ -1,1 +1,306 @@
-// in progress
+#include "loopsketch/reducedsystem.h"
+
+#include <Eigen/Eigenvalues>
+#include <Eigen/LU>
+#include <Eigen/SVD>
+#include <unsupported/Eigen/MatrixFunctions>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numbers>
+
+namespace loopsketch {
+
+namespace {
+
+constexpr double kRankThreshold = 1e-12;
+constexpr double kMinReciprocalCondition
+    = 1e-30; // see circuit.cpp: loops reject only exact singularity
+
+using Index = Eigen::Index;
+
+Eigen::MatrixXd select(const Eigen::MatrixXd &m, const std::vector<Index> &rows,
+                       const std::vector<Index> &cols)
+{
+    Eigen::MatrixXd out(static_cast<Index>(rows.size()), static_cast<Index>(cols.size()));
+    for (std::size_t i = 0; i < rows.size(); ++i)
+        for (std::size_t j = 0; j < cols.size(); ++j)
+            out(static_cast<Index>(i), static_cast<Index>(j)) = m(rows[i], cols[j]);
+    return out;
+}
+
+Eigen::MatrixXd selectRows(const Eigen::MatrixXd &m, const std::vector<Index> &rows)
+{
+    Eigen::MatrixXd out(static_cast<Index>(rows.size()), m.cols());
+    for (std::size_t i = 0; i < rows.size(); ++i)
+        out.row(static_cast<Index>(i)) = m.row(rows[i]);
+    return out;
+}
+
+Eigen::MatrixXd selectCols(const Eigen::MatrixXd &m, const std::vector<Index> &cols)
+{
+    Eigen::MatrixXd out(m.rows(), static_cast<Index>(cols.size()));
+    for (std::size_t j = 0; j < cols.size(); ++j)
+        out.col(static_cast<Index>(j)) = m.col(cols[j]);
+    return out;
+}
+
+std::vector<Index> complement(Index n, const std::vector<Index> &taken)
+{
+    std::vector<bool> used(static_cast<std::size_t>(n), false);
+    for (Index i : taken)
+        used[static_cast<std::size_t>(i)] = true;
+    std::vector<Index> rest;
+    for (Index i = 0; i < n; ++i)
+        if (!used[static_cast<std::size_t>(i)])
+            rest.push_back(i);
+    return rest;
+}
+
+/// Scales each row of the pencil so that its largest reactive entry is 1 (rows without
+/// one: largest static entry), so rank and eigenvalue tolerances mean the same in every
+/// row whatever its units (siemens, farads, seconds).
+Eigen::VectorXd rowScales(const Eigen::MatrixXd &g, const Eigen::MatrixXd &c)
+{
+    Eigen::VectorXd scale(g.rows());
+    for (Index i = 0; i < g.rows(); ++i) {
+        double m = c.row(i).cwiseAbs().maxCoeff();
+        if (!(m > 0))
+            m = g.row(i).cwiseAbs().maxCoeff();
+        scale(i) = m > 0 ? 1.0 / m : 1.0;
+    }
+    return scale;
+}
+
+} // namespace
+
+Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system)
+{
+    const Index n = system.G.rows();
+    std::vector<Index> staticSet;
+    for (Index i = 0; i < n; ++i) {
+        if (system.C.row(i).cwiseAbs().maxCoeff() == 0.0
+            && system.C.col(i).cwiseAbs().maxCoeff() == 0.0)
+            staticSet.push_back(i);
+    }
+    // Eliminate the largest regular part of the static block; what is left of it (branch
+    // rows of voltage sources on reactive nodes, for example) stays in the pencil.
+    std::vector<Index> sRows, sCols;
+    if (!staticSet.empty()) {
+        const Eigen::MatrixXd gss = select(system.G, staticSet, staticSet);
+        Eigen::FullPivLU<Eigen::MatrixXd> lu(gss);
+        lu.setThreshold(kRankThreshold);
+        const Index rank = lu.rank();
+        const Eigen::PermutationMatrix<Eigen::Dynamic> pInverse = lu.permutationP().inverse();
+        const auto &rowOrder = pInverse.indices();
+        const auto &colOrder = lu.permutationQ().indices();
+        for (Index i = 0; i < rank; ++i) {
+            sRows.push_back(staticSet[static_cast<std::size_t>(rowOrder(i))]);
+            sCols.push_back(staticSet[static_cast<std::size_t>(colOrder(i))]);
+        }
+        std::sort(sRows.begin(), sRows.end());
+        std::sort(sCols.begin(), sCols.end());
+    }
+    const std::vector<Index> kRows = complement(n, sRows);
+    const std::vector<Index> kCols = complement(n, sCols);
+
+    ReducedSystem r;
+    for (Index c : kCols)
+        r.m_unknowns.push_back(system.unknowns[static_cast<std::size_t>(c)]);
+    const Eigen::MatrixXd gkk = select(system.G, kRows, kCols);
+    const Eigen::MatrixXd ckk = select(system.C, kRows, kCols);
+    const Eigen::MatrixXd bk = selectRows(system.B, kRows);
+    const Eigen::MatrixXd lk = selectCols(system.L, kCols);
+    if (sRows.empty()) {
+        r.m_gr = gkk;
+        r.m_cr = ckk;
+        r.m_br = bk;
+        r.m_lr = lk;
+        r.m_dr = Eigen::MatrixXd::Zero(system.L.rows(), system.B.cols());
+    } else {
+        const Eigen::MatrixXd gss = select(system.G, sRows, sCols);
+        Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss);
+        if (isSingular(gss.cast<std::complex<double>>()))
+            return Diagnostic{{}, {}, {}, describeSingularity(system, 0.0)};
+        const Eigen::MatrixXd gks = select(system.G, kRows, sCols);
+        const Eigen::MatrixXd gsk = select(system.G, sRows, kCols);
+        const Eigen::MatrixXd xsk = lu.solve(gsk); // Gss^-1 Gsk
+        const Eigen::MatrixXd xsb = lu.solve(selectRows(system.B, sRows)); // Gss^-1 Bs
+        const Eigen::MatrixXd ls = selectCols(system.L, sCols);
+        r.m_gr = gkk - gks * xsk;
+        r.m_cr = ckk;
+        r.m_br = bk - gks * xsb;
+        r.m_lr = lk - ls * xsk;
+        r.m_dr = ls * xsb;
+    }
+    const Eigen::VectorXd scale = rowScales(r.m_gr, r.m_cr);
+    r.m_gr = scale.asDiagonal() * r.m_gr;
+    r.m_cr = scale.asDiagonal() * r.m_cr;
+    r.m_br = scale.asDiagonal() * r.m_br;
+
+    // A pencil singular at every frequency has no solution anywhere: report it now.
+    const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
+    if (isSingular(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr)) {
+        std::string why = describeSingularity(system, probe);
+        if (why.empty())
+            why = "the circuit equations are too ill-conditioned to solve";
+        return Diagnostic{{}, {}, {}, why};
+    }
+    return r;
+}
+
+Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
+{
+    Eigen::MatrixXcd h = m_dr.cast<std::complex<double>>();
+    if (order() == 0)
+        return h;
+    Eigen::MatrixXcd a = m_gr.cast<std::complex<double>>() + s * m_cr;
+    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(a);
+    const Eigen::MatrixXcd z = lu.solve(m_br.cast<std::complex<double>>());
+    if (!(lu.rcond() > kMinReciprocalCondition) || !z.allFinite())
+        return Eigen::MatrixXcd::Constant(h.rows(), h.cols(),
+                                          std::numeric_limits<double>::quiet_NaN());
+    h.noalias() += m_lr * z;
+    return h;
+}
+
+std::vector<Eigen::MatrixXcd> ReducedSystem::sweep(const std::vector<double> &frequenciesHz) const
+{
+    const Index k = order();
+    std::vector<Eigen::MatrixXcd> out;
+    out.reserve(frequenciesHz.size());
+    const Eigen::MatrixXcd gr = m_gr.cast<std::complex<double>>();
+    const Eigen::MatrixXcd br = m_br.cast<std::complex<double>>();
+    const Eigen::MatrixXcd lr = m_lr.cast<std::complex<double>>();
+    const Eigen::MatrixXcd dr = m_dr.cast<std::complex<double>>();
+    Eigen::MatrixXcd a(k, k);
+    Eigen::MatrixXcd z(k, br.cols());
+    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(k);
+    for (double f : frequenciesHz) {
+        if (k == 0) {
+            out.push_back(dr);
+            continue;
+        }
+        const std::complex<double> s(0.0, 2.0 * std::numbers::pi * f);
+        a = gr + s * m_cr;
+        lu.compute(a);
+        z = lu.solve(br);
+        if (!(lu.rcond() > kMinReciprocalCondition) || !z.allFinite()) {
+            out.push_back(Eigen::MatrixXcd::Constant(dr.rows(), dr.cols(),
+                                                     std::numeric_limits<double>::quiet_NaN()));
+            continue;
+        }
+        out.push_back(dr + lr * z);
+    }
+    return out;
+}
+
+bool ReducedSystem::dcRegular() const
+{
+    if (order() == 0)
+        return true;
+    return !isSingular(m_gr.cast<std::complex<double>>());
+}
+
+std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
+{
+    std::vector<std::complex<double>> poles;
+    if (order() == 0)
+        return poles;
+    // (Gr + s Cr) v = 0  <=>  Gr v = lambda Cr v with lambda = -s.
+    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
+    ges.compute(m_gr, m_cr, false);
+    if (ges.info() != Eigen::Success)
+        return poles;
+    const Eigen::VectorXcd alphas = ges.alphas();
+    const Eigen::VectorXd betas = ges.betas();
+    for (Index i = 0; i < alphas.size(); ++i) {
+        const double b = betas(i);
+        if (std::abs(b) > 1e-13 * std::abs(alphas(i)) && b != 0.0) {
+            std::complex<double> s = -alphas(i) / b;
+            if (std::abs(s.imag()) < 1e-12 * std::abs(s))
+                s = {s.real(), 0.0};
+            poles.push_back(s);
+        }
+    }
+    std::sort(poles.begin(), poles.end(), [](auto x, auto y) {
+        return std::abs(x) != std::abs(y) ? std::abs(x) < std::abs(y) : x.imag() < y.imag();
+    });
+    return poles;
+}
+
+Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
+                                                        const std::vector<double> &times) const
+{
+    const Index k = order();
+    std::vector<double> y(times.size(), 0.0);
+    if (k == 0) {
+        std::fill(y.begin(), y.end(), m_dr(output, input));
+        return y;
+    }
+    // Split Cr = U S V^T into its dynamic (rank r) and algebraic parts; eliminating the
+    // algebraic part (index 1) leaves the proper state space  w' = A w + b u, y = c w + d u.
+    Eigen::JacobiSVD<Eigen::MatrixXd> svd(m_cr, Eigen::ComputeFullU | Eigen::ComputeFullV);
+    const Eigen::VectorXd sv = svd.singularValues();
+    Index rank = 0;
+    while (rank < sv.size() && sv(rank) > 1e-10 * sv(0))
+        ++rank;
+    const Eigen::MatrixXd gh = svd.matrixU().transpose() * m_gr * svd.matrixV();
+    const Eigen::VectorXd bh = svd.matrixU().transpose() * m_br.col(input);
+    const Eigen::RowVectorXd lh = m_lr.row(output) * svd.matrixV();
+    const Index q = k - rank;
+    Eigen::MatrixXd a = gh.topLeftCorner(rank, rank);
+    Eigen::VectorXd b = bh.head(rank);
+    Eigen::RowVectorXd c = lh.head(rank);
+    double d = m_dr(output, input);
+    if (q > 0) {
+        const Eigen::MatrixXd g22 = gh.bottomRightCorner(q, q);
+        Eigen::PartialPivLU<Eigen::MatrixXd> lu(g22);
+        if (isSingular(g22.cast<std::complex<double>>()))
+            return Diagnostic{{},
+                              {},
+                              {},
+                              "the step response is not defined: the circuit has "
+                              "an impulsive (higher-index) mode"};
+        const Eigen::MatrixXd x21 = lu.solve(gh.bottomLeftCorner(q, rank));
+        const Eigen::VectorXd xb2 = lu.solve(bh.tail(q));
+        a -= gh.topRightCorner(rank, q) * x21;
+        b -= gh.topRightCorner(rank, q) * xb2;
+        c -= lh.tail(q) * x21;
+        d += lh.tail(q).dot(xb2);
+    }
+    const Eigen::VectorXd sInv = sv.head(rank).cwiseInverse();
+    a = -(sInv.asDiagonal() * a);
+    b = sInv.asDiagonal() * b;
+    if (rank == 0) {
+        std::fill(y.begin(), y.end(), d);
+        return y;
+    }
+    // Augmented exponential exp([[A, b], [0, 0]] dt) = [[Phi, Gamma], [0, 1]] propagates the
+    // state over one step exactly for a constant input.
+    Eigen::MatrixXd aug = Eigen::MatrixXd::Zero(rank + 1, rank + 1);
+    Eigen::VectorXd w = Eigen::VectorXd::Zero(rank);
+    double last = 0.0;
+    double lastDt = -1.0;
+    Eigen::MatrixXd phi, gamma;
+    for (std::size_t i = 0; i < times.size(); ++i) {
+        const double dt = times[i] - last;
+        if (dt > 0) {
+            if (std::abs(dt - lastDt) > 1e-12 * dt) {
+                aug.topLeftCorner(rank, rank) = a * dt;
+                aug.topRightCorner(rank, 1) = b * dt;
+                const Eigen::MatrixXd e = aug.exp();
+                phi = e.topLeftCorner(rank, rank);
+                gamma = e.topRightCorner(rank, 1);
+                lastDt = dt;
+            }
+            w = phi * w + gamma;
+            last = times[i];
+        }
+        y[i] = c.dot(w) + d;
+    }
+    return y;
+}
+
+} // namespace loopsketch

@@ -1,0 +1,35 @@
+#include "cli.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+
+#include <iostream>
+
+#ifdef LOOPSKETCH_HAVE_GUI
+int runGui(int argc, char **argv);
+#endif
+
+int main(int argc, char **argv)
+{
+    using namespace loopsketch;
+    std::vector<std::string> args(argv + 1, argv + argc);
+    if (auto code = app::runCommandLine(args, std::cout, std::cerr))
+        return *code;
+#ifdef LOOPSKETCH_HAVE_GUI
+    return runGui(argc, argv);
+#else
+    // Built without the GUI: show the design's analysis instead of a window.
+    auto design = args.empty() ? parseDesign(app::demoDesignText(), "demo") : loadDesign(args[0]);
+    if (!design) {
+        std::cerr << "loopsketch: " << design.errorText() << "\n";
+        return app::kExitBadInput;
+    }
+    auto analysis = analyze(*design, args.empty() ? "demo" : args[0]);
+    if (!analysis) {
+        std::cerr << "loopsketch: " << analysis.errorText() << "\n";
+        return app::kExitBadInput;
+    }
+    std::cout << analysisToText(*analysis);
+    return app::kExitOk;
+#endif
+}

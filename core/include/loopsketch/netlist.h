@@ -1,0 +1,72 @@
+#pragma once
+
+// A flat list of primitive linear elements between named nodes: the level below the design
+// model at which every analysis (exact solution, A circuit, return ratio, two-port network)
+// is assembled into a descriptor system.
+
+#include <string>
+#include <vector>
+
+namespace loopsketch {
+
+/// The gain block's controlled source as an element: e = gain * H(s) * (v(inP) - v(inN)),
+/// H(s) = prod(1 + s/2pi z) / prod(1 + s/2pi p), driving node `out` against ground.
+struct ControlledSourceElement
+{
+    enum class Mode {
+        Normal, ///< e follows the input difference
+        TestDriven, ///< e is an independent source (return-ratio test); H(s)*vd is an output
+    };
+    std::string inP;
+    std::string inN;
+    std::string out;
+    double gain = 1.0; ///< V/V at DC, sign included
+    std::vector<double> polesHz; ///< > 0
+    std::vector<double> zerosHz; ///< > 0, no more than poles
+    Mode mode = Mode::Normal;
+    int testInput = -1; ///< input column driving e in TestDriven mode
+};
+
+struct NetlistElement
+{
+    enum class Kind { Resistor, Capacitor, Inductor, VoltageSource, CurrentSource };
+    Kind kind = Kind::Resistor;
+    std::string name; ///< for diagnostics and branch-current outputs
+    std::string a; ///< resistor/capacitor/inductor: a; voltage source: +; current source: into
+    std::string b; ///< resistor/capacitor/inductor: b; voltage source: -; current source: out of
+    double value = 0; ///< ohm, farad, henry; ignored for sources
+    int input = -1; ///< sources: input column (unit value), -1 = zero value (short / open)
+};
+
+/// What an output row measures.
+struct NetlistOutput
+{
+    enum class Kind {
+        VoltageBetween, ///< v(a) - v(b)
+        BranchCurrent, ///< current through element `a` (inductor or voltage source), + to -
+        ControlledReturn, ///< gain * H(s) * vd of the controlled source (return ratio)
+    };
+    Kind kind = Kind::VoltageBetween;
+    std::string a;
+    std::string b;
+};
+
+struct Netlist
+{
+    std::vector<NetlistElement> elements;
+    std::vector<ControlledSourceElement> controlled;
+    int inputCount = 0;
+    std::vector<NetlistOutput> outputs;
+
+    void addResistor(std::string name, std::string a, std::string b, double ohms);
+    void addCapacitor(std::string name, std::string a, std::string b, double farads);
+    void addInductor(std::string name, std::string a, std::string b, double henries);
+    void addVoltageSource(std::string name, std::string pos, std::string neg, int input);
+    void addCurrentSource(std::string name, std::string into, std::string outOf, int input);
+    /// Allocates a new input column and returns its index.
+    int addInput() { return inputCount++; }
+    /// Appends an output row and returns its index.
+    int addOutput(NetlistOutput output);
+};
+
+} // namespace loopsketch

@@ -1,0 +1,338 @@
+// Descriptor-system assembly, the dense reference solve and the reduced fast path, checked
+// against closed forms of elementary circuits.
+
+#include "loopsketch/circuit.h"
+#include "loopsketch/reducedsystem.h"
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <Eigen/Eigenvalues>
+
+#include <cmath>
+#include <numbers>
+#include <random>
+
+using namespace loopsketch;
+using ::testing::HasSubstr;
+
+namespace {
+
+constexpr double kPi = std::numbers::pi;
+using cd = std::complex<double>;
+
+double relErr(cd a, cd b)
+{
+    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
+}
+
+DescriptorSystem assembleOrDie(const Netlist &n)
+{
+    auto s = assembleSystem(n);
+    EXPECT_TRUE(s.ok()) << s.errorText();
+    return *s;
+}
+
+Netlist rcLowPass(double r, double c)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("V1", "in", "0", in);
+    n.addResistor("R1", "in", "out", r);
+    n.addCapacitor("C1", "out", "0", c);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "out", "0"});
+    return n;
+}
+
+std::vector<double> logGrid(double start, double stop, int perDecade)
+{
+    std::vector<double> f;
+    const int n = static_cast<int>(std::round(std::log10(stop / start) * perDecade));
+    for (int i = 0; i <= n; ++i)
+        f.push_back(start * std::pow(10.0, static_cast<double>(i) / perDecade));
+    return f;
+}
+
+} // namespace
+
+// Source: first-order RC low-pass, H = 1/(1 + j w R C), pole at f = 1/(2 pi R C)
+// (any circuits textbook; common practice).
+TEST(Circuit, RcLowPassPoleFrequency)
+{
+    const double r = 1e3, c = 1e-6;
+    const auto sys = assembleOrDie(rcLowPass(r, c));
+    const double fc = 1.0 / (2 * kPi * r * c);
+    auto dense = solveDense(sys, {fc});
+    ASSERT_TRUE(dense.ok());
+    EXPECT_NEAR(std::abs((*dense)[0](0, 0)), 1.0 / std::sqrt(2.0), 1e-12);
+    EXPECT_NEAR(std::arg((*dense)[0](0, 0)), -kPi / 4, 1e-12);
+    auto reduced = ReducedSystem::build(sys);
+    ASSERT_TRUE(reduced.ok()) << reduced.errorText();
+    EXPECT_EQ(reduced->order(), 1);
+    const auto poles = reduced->naturalFrequencies();
+    ASSERT_EQ(poles.size(), 1u);
+    EXPECT_NEAR(poles[0].real(), -1.0 / (r * c), 1e-9 / (r * c));
+    EXPECT_NEAR(poles[0].imag(), 0.0, 1e-12);
+}
+
+// Source: step response of a first-order low-pass, y = 1 - exp(-t / RC) (common practice).
+TEST(Circuit, RcStepResponseIsExponential)
+{
+    const double r = 2.2e3, c = 4.7e-9, tau = r * c;
+    auto reduced = ReducedSystem::build(assembleOrDie(rcLowPass(r, c)));
+    ASSERT_TRUE(reduced.ok());
+    std::vector<double> t;
+    for (int i = 0; i <= 100; ++i)
+        t.push_back(i * tau / 20);
+    auto y = reduced->stepResponse(0, 0, t);
+    ASSERT_TRUE(y.ok()) << y.errorText();
+    for (std::size_t i = 0; i < t.size(); ++i)
+        EXPECT_NEAR((*y)[i], 1.0 - std::exp(-t[i] / tau), 1e-10) << "t = " << t[i];
+}
+
+// Source: a single-pole amplifier a(f) = a0 / (1 + j f/fp) is 3 dB down with -45 degrees at
+// f = fp (common practice).
+TEST(Circuit, SinglePoleGainBlockIsThreeDbDownAtItsPole)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("V1", "p", "0", in);
+    ControlledSourceElement cs;
+    cs.inP = "p";
+    cs.inN = "0";
+    cs.out = "e";
+    cs.gain = 2e5;
+    cs.polesHz = {10.0};
+    n.controlled.push_back(cs);
+    n.addResistor("RL", "e", "0", 1e3);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "e", "0"});
+    auto reduced = ReducedSystem::build(assembleOrDie(n));
+    ASSERT_TRUE(reduced.ok());
+    const cd h = reduced->evaluate(cd(0, 2 * kPi * 10.0))(0, 0);
+    EXPECT_NEAR(std::abs(h), 2e5 / std::sqrt(2.0), 1e-6);
+    EXPECT_NEAR(std::arg(h), -kPi / 4, 1e-12);
+    EXPECT_NEAR(reduced->evaluate(0.0)(0, 0).real(), 2e5, 1e-6);
+}
+
+// Inverting stage with finite gain a, input resistance r_in and output resistance r_out,
+// loaded by RL. Closed form by Cramer's rule on the two nodal equations (KCL at the
+// inverting input n and the output o, e = -a v_n behind r_out); textbook nodal analysis.
+TEST(Circuit, InvertingStageMatchesNodalClosedForm)
+{
+    const double r1 = 10e3, r2 = 100e3, rin = 1e6, rout = 75.0, rl = 2e3, a = 1e4;
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("VS", "s", "0", in);
+    n.addResistor("R1", "s", "n", r1);
+    n.addResistor("R2", "n", "o", r2);
+    n.addResistor("RIN", "n", "0", rin);
+    ControlledSourceElement cs;
+    cs.inP = "0";
+    cs.inN = "n";
+    cs.out = "e";
+    cs.gain = a;
+    n.controlled.push_back(cs);
+    n.addResistor("ROUT", "e", "o", rout);
+    n.addResistor("RL", "o", "0", rl);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "o", "0"});
+    // [g11 g12; g21 g22] [vn; vo] = [1/R1; 0] vs
+    const double g11 = 1 / r1 + 1 / r2 + 1 / rin, g12 = -1 / r2;
+    const double g21 = -1 / r2 + a / rout, g22 = 1 / r2 + 1 / rout + 1 / rl;
+    const double expected = (-g21 / r1) / (g11 * g22 - g12 * g21);
+    auto dense = solveDense(assembleOrDie(n), {0.0});
+    ASSERT_TRUE(dense.ok());
+    EXPECT_NEAR((*dense)[0](0, 0).real() / expected, 1.0, 1e-12);
+    // And the familiar limit: -R2/R1 / (1 + (1 + R2/R1)/a) when r_in -> inf, r_out -> 0
+    // (Franco, Design with Operational Amplifiers, 3rd ed., ch. 1, from memory).
+    EXPECT_NEAR(expected, -10.0 / (1 + 11.0 / a), 0.01);
+}
+
+// Source: reciprocity theorem for linear passive (RLC) networks, z12 = z21 (any network
+// theory textbook; common practice).
+TEST(Circuit, PassiveNetworkIsReciprocal)
+{
+    Netlist n;
+    const int i1 = n.addInput();
+    const int i2 = n.addInput();
+    n.addCurrentSource("I1", "p1", "0", i1);
+    n.addCurrentSource("I2", "p2", "0", i2);
+    n.addResistor("Ra", "p1", "m", 1e3);
+    n.addCapacitor("Ca", "m", "0", 10e-9);
+    n.addInductor("La", "m", "p2", 1e-3);
+    n.addResistor("Rb", "p2", "0", 4.7e3);
+    n.addResistor("Rc", "p1", "p2", 22e3);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "p1", "0"});
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "p2", "0"});
+    auto h = solveDense(assembleOrDie(n), logGrid(10, 1e7, 5));
+    ASSERT_TRUE(h.ok());
+    for (const auto &z : *h)
+        EXPECT_LT(relErr(z(0, 1), z(1, 0)), 1e-12);
+}
+
+// Source: superposition theorem for linear circuits (common practice): the response to two
+// sources at once is the sum of the responses to each.
+TEST(Circuit, SuperpositionHolds)
+{
+    Netlist n;
+    const int va = n.addInput();
+    const int ib = n.addInput();
+    n.addVoltageSource("VA", "a", "0", va);
+    n.addCurrentSource("IB", "b", "0", ib);
+    n.addResistor("R1", "a", "b", 1e3);
+    n.addResistor("R2", "b", "0", 2e3);
+    n.addCapacitor("C1", "b", "0", 1e-9);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "b", "0"});
+    auto sys = assembleOrDie(n);
+    auto both = sys;
+    both.B = sys.B.col(0) * 1.5 + sys.B.col(1) * 2e-3; // one input carrying both sources
+    const auto f = logGrid(1e3, 1e7, 4);
+    auto h = solveDense(sys, f);
+    auto hb = solveDense(both, f);
+    ASSERT_TRUE(h.ok() && hb.ok());
+    for (std::size_t i = 0; i < f.size(); ++i)
+        EXPECT_LT(relErr((*hb)[i](0, 0), 1.5 * (*h)[i](0, 0) + 2e-3 * (*h)[i](0, 1)), 1e-12);
+}
+
+TEST(Circuit, FloatingSubnetworkIsReportedWithItsNodes)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("V1", "a", "0", in);
+    n.addResistor("R1", "a", "0", 1e3);
+    n.addResistor("R2", "x", "y", 1e3); // touches nothing else
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "a", "0"});
+    auto sys = assembleOrDie(n);
+    auto dense = solveDense(sys, {1e3});
+    ASSERT_FALSE(dense.ok());
+    EXPECT_THAT(dense.errorText(), HasSubstr("v(x)"));
+    EXPECT_THAT(dense.errorText(), HasSubstr("v(y)"));
+    EXPECT_THAT(dense.errorText(), HasSubstr("floating"));
+    auto reduced = ReducedSystem::build(sys);
+    ASSERT_FALSE(reduced.ok());
+    EXPECT_THAT(reduced.errorText(), HasSubstr("v(x)"));
+}
+
+TEST(Circuit, LoopOfVoltageSourcesIsReported)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("V1", "a", "0", in);
+    n.addVoltageSource("V2", "a", "0", -1);
+    n.addResistor("R1", "a", "0", 1e3);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "a", "0"});
+    auto dense = solveDense(assembleOrDie(n), {1e3});
+    ASSERT_FALSE(dense.ok());
+    EXPECT_THAT(dense.errorText(), HasSubstr("i(V1)"));
+    EXPECT_THAT(dense.errorText(), HasSubstr("i(V2)"));
+}
+
+TEST(Circuit, InductorLoopIsSingularOnlyAtDc)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addCurrentSource("I1", "a", "0", in);
+    n.addResistor("R1", "a", "0", 1e3);
+    n.addInductor("L1", "a", "0", 1e-3);
+    n.addInductor("L2", "a", "0", 2e-3);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "a", "0"});
+    auto sys = assembleOrDie(n);
+    auto dc = solveDense(sys, {0.0});
+    ASSERT_FALSE(dc.ok());
+    EXPECT_THAT(dc.errorText(), HasSubstr("at DC"));
+    EXPECT_THAT(dc.errorText(), HasSubstr("i(L1)"));
+    EXPECT_TRUE(solveDense(sys, {1e3}).ok());
+    auto reduced = ReducedSystem::build(sys);
+    ASSERT_TRUE(reduced.ok()) << reduced.errorText();
+    EXPECT_FALSE(reduced->dcRegular());
+    EXPECT_FALSE(reduced->evaluate(0.0).allFinite());
+    EXPECT_TRUE(reduced->evaluate(cd(0, 2 * kPi * 1e3)).allFinite());
+}
+
+TEST(Circuit, NonFiniteValueIsRejectedWithTheElementNamed)
+{
+    Netlist n;
+    n.addResistor("R7", "a", "0", std::numeric_limits<double>::infinity());
+    auto s = assembleSystem(n);
+    ASSERT_FALSE(s.ok());
+    EXPECT_THAT(s.errorText(), HasSubstr("R7"));
+}
+
+// The reduced fast path must agree with the dense LU to 1e-9 relative over a wide sweep,
+// on randomised RC ladders around a two-pole gain block with feedback.
+TEST(ReducedSystem, AgreesWithDenseLuOnRandomLoops)
+{
+    std::mt19937 rng(20261201);
+    std::uniform_real_distribution<double> decade(0.0, 1.0);
+    const auto pick = [&](double lo, double hi) {
+        return lo * std::pow(hi / lo, decade(rng));
+    };
+    const auto f = logGrid(1.0, 1e9, 50);
+    for (int trial = 0; trial < 20; ++trial) {
+        Netlist n;
+        const int in = n.addInput();
+        n.addVoltageSource("VS", "s0", "0", in);
+        n.addResistor("RS", "s0", "p", pick(10, 10e3));
+        ControlledSourceElement cs;
+        cs.inP = "p";
+        cs.inN = "m";
+        cs.out = "e";
+        cs.gain = pick(1e3, 1e6);
+        cs.polesHz = {pick(1, 100), pick(1e6, 1e8)};
+        cs.zerosHz = {pick(1e7, 1e9)};
+        n.controlled.push_back(cs);
+        n.addResistor("RO", "e", "o", pick(1, 200));
+        n.addResistor("RIN", "p", "m", pick(1e5, 1e9));
+        n.addCapacitor("CIN", "p", "m", pick(1e-12, 10e-12));
+        n.addResistor("R2", "o", "m", pick(1e3, 1e6));
+        n.addCapacitor("C2", "o", "m", pick(1e-13, 1e-11));
+        n.addResistor("R1", "m", "0", pick(100, 1e5));
+        n.addResistor("RL", "o", "0", pick(100, 1e5));
+        n.addCapacitor("CL", "o", "0", pick(1e-12, 1e-9));
+        n.addOutput({NetlistOutput::Kind::VoltageBetween, "o", "0"});
+        n.addOutput({NetlistOutput::Kind::VoltageBetween, "p", "m"});
+        const auto sys = assembleOrDie(n);
+        auto dense = solveDense(sys, f);
+        auto reduced = ReducedSystem::build(sys);
+        ASSERT_TRUE(dense.ok()) << dense.errorText();
+        ASSERT_TRUE(reduced.ok()) << reduced.errorText();
+        EXPECT_LT(reduced->order(), sys.size());
+        const auto fast = reduced->sweep(f);
+        for (std::size_t i = 0; i < f.size(); ++i)
+            for (int o = 0; o < 2; ++o)
+                ASSERT_LT(relErr(fast[i](o, 0), (*dense)[i](o, 0)), 1e-9)
+                    << "trial " << trial << " f " << f[i] << " output " << o;
+    }
+}
+
+// Natural frequencies from the reduced pencil equal the finite generalized eigenvalues of
+// the full (G, C) pencil (Eigen's QZ on the unreduced matrices as second opinion).
+TEST(ReducedSystem, NaturalFrequenciesMatchFullPencil)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("VS", "s", "0", in);
+    n.addResistor("R1", "s", "a", 1e3);
+    n.addCapacitor("C1", "a", "0", 1e-9);
+    n.addInductor("L1", "a", "b", 1e-3);
+    n.addCapacitor("C2", "b", "0", 2e-9);
+    n.addResistor("R2", "b", "0", 500);
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "b", "0"});
+    const auto sys = assembleOrDie(n);
+    auto reduced = ReducedSystem::build(sys);
+    ASSERT_TRUE(reduced.ok());
+    auto poles = reduced->naturalFrequencies();
+    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges(sys.G, sys.C, false);
+    std::vector<cd> full;
+    for (Eigen::Index i = 0; i < ges.alphas().size(); ++i)
+        if (std::abs(ges.betas()(i)) > 1e-12 * std::abs(ges.alphas()(i)))
+            full.push_back(-ges.alphas()(i) / ges.betas()(i));
+    ASSERT_EQ(poles.size(), 3u);
+    ASSERT_EQ(full.size(), 3u);
+    for (const cd p : poles) {
+        double best = 1e300;
+        for (const cd q : full)
+            best = std::min(best, relErr(p, q));
+        EXPECT_LT(best, 1e-8) << p;
+        EXPECT_LT(p.real(), 0.0); // passive RLC: stable
+    }
+}
