@@ -60,13 +60,21 @@ std::optional<PartType> parsePartType(std::string_view typeName);
 /// All specs, in the order the palette shows them.
 std::span<const PartSpec> allPartSpecs();
 
+/// The spec of field `field` of a type, nullptr when the type has no such field.
+const FieldSpec *findFieldSpec(PartType type, std::string_view field);
+
+/// Characters allowed in a part id: letters, digits, '_' and '-'.
+bool isValidPartId(std::string_view id);
+
 struct Part
 {
     std::string id;
     PartType type = PartType::Resistor;
     std::vector<std::string> nodes; ///< one per partSpec(type).terminals, same order
     std::map<std::string, Value> fields; ///< only the fields present in the file
-    std::vector<Value> polesHz; ///< gain block only
+    /// Gain block only, Hz. When the gain block has `gbw`, the first pole sits at
+    /// gbw / |gain| and polesHz lists the remaining poles only (giving both would double it).
+    std::vector<Value> polesHz;
     std::vector<Value> zerosHz; ///< gain block only
     std::optional<ESeries> series;
     std::optional<Value> tolerance; ///< fraction, e.g. 0.01 for "1%"
@@ -75,7 +83,8 @@ struct Part
     /// terminal.
     std::string node(std::string_view terminal) const;
 
-    /// The SI value of a field, or the spec's default when absent.
+    /// The SI value of a field, or the spec's default when absent (r_parallel and r_in:
+    /// +infinity, i.e. ideal; gbw: 0, i.e. not given; parasitics: 0).
     double number(std::string_view field) const;
 
     /// True when the field is present in the file.
