@@ -12,7 +12,7 @@ namespace loopsketch {
 
 namespace {
 
-std::string quoted(std::string_view s)
+std::string inQuotes(std::string_view s)
 {
     return "\"" + std::string(s) + "\"";
 }
@@ -36,7 +36,7 @@ public:
     void checkNumber(const std::string &part, const std::string &field, double v, ValueRange range,
                      const std::string &text)
     {
-        const std::string shown = text.empty() ? std::string() : " (" + quoted(text) + ")";
+        const std::string shown = text.empty() ? std::string() : " (" + inQuotes(text) + ")";
         if (!std::isfinite(v)) {
             add(part, field, "value" + shown + " is not a finite number");
             return;
@@ -90,9 +90,10 @@ void checkParts(const Design &d, Checker &c)
         if (p.id.empty()) {
             c.add(label, "id", "part has an empty id");
         } else if (!isValidPartId(p.id)) {
-            c.add(label, "id", "id " + quoted(p.id) + " may use only letters, digits, '_' and '-'");
+            c.add(label, "id",
+                  "id " + inQuotes(p.id) + " may use only letters, digits, '_' and '-'");
         } else if (!seen.insert(p.id).second) {
-            c.add(label, "id", "id " + quoted(p.id) + " is used by more than one part");
+            c.add(label, "id", "id " + inQuotes(p.id) + " is used by more than one part");
         }
 
         const PartSpec &spec = partSpec(p.type);
@@ -108,11 +109,11 @@ void checkParts(const Design &d, Checker &c)
         if (spec.terminals.size() == 2 && p.nodes.size() == 2 && !p.nodes[0].empty()
             && p.nodes[0] == p.nodes[1]) {
             c.add(label, std::string(spec.terminals[1]),
-                  "both terminals are on node " + quoted(p.nodes[0]) + " (the part is shorted)");
+                  "both terminals are on node " + inQuotes(p.nodes[0]) + " (the part is shorted)");
         }
         if (p.type == PartType::GainBlock && p.nodes.size() == 3) {
             if (!p.nodes[0].empty() && p.nodes[0] == p.nodes[1])
-                c.add(label, "in_n", "in_p and in_n are both on node " + quoted(p.nodes[0]));
+                c.add(label, "in_n", "in_p and in_n are both on node " + inQuotes(p.nodes[0]));
             if (p.nodes[2] == kGroundNode)
                 c.add(label, "out", "the gain block output is on ground \"0\"");
         }
@@ -128,7 +129,7 @@ void checkParts(const Design &d, Checker &c)
         }
         for (const auto &[name, value] : p.fields) {
             if (!findFieldSpec(p.type, name))
-                c.add(label, name, "a " + typeName(p.type) + " has no field " + quoted(name));
+                c.add(label, name, "a " + typeName(p.type) + " has no field " + inQuotes(name));
         }
         if (p.type == PartType::GainBlock) {
             if (auto it = p.fields.find("gain"); it != p.fields.end() && it->second.si == 0.0)
@@ -179,7 +180,7 @@ void checkConnectivity(const Design &d, Checker &c)
     for (const auto &[node, list] : touches) {
         if (node != kGroundNode && list.size() == 1) {
             c.add(list.front().first, list.front().second,
-                  "node " + quoted(node) + " is dangling: only terminal " + list.front().second
+                  "node " + inQuotes(node) + " is dangling: only terminal " + list.front().second
                       + " of part " + list.front().first + " connects to it");
         }
     }
@@ -193,7 +194,7 @@ void checkConnectivity(const Design &d, Checker &c)
         std::string names;
         std::set<std::string> parts;
         for (const std::string &n : nodes) {
-            names += (names.empty() ? "" : ", ") + quoted(n);
+            names += (names.empty() ? "" : ", ") + inQuotes(n);
             for (const auto &[part, terminal] : touches[n])
                 parts.insert(part);
         }
@@ -238,7 +239,7 @@ void checkRoles(const Design &d, Checker &c)
     if (d.input.empty()) {
         c.add("", "input", "input is empty: it must name the signal source");
     } else if (const Part *p = d.findPart(d.input); !p) {
-        c.add("", "input", "input names part " + quoted(d.input) + ", which does not exist");
+        c.add("", "input", "input names part " + inQuotes(d.input) + ", which does not exist");
     } else if (!partSpec(p->type).isSignalSource) {
         c.add(d.input, "input",
               "input names " + d.input + ", a " + typeName(p->type)
@@ -303,18 +304,18 @@ void checkCandidates(const Design &d, Checker &c)
         if (cand.name.empty())
             c.add("", "candidates", "candidate " + label + " has an empty name");
         else if (!names.insert(cand.name).second)
-            c.add("", "candidates", "candidate name " + quoted(cand.name) + " is used twice");
+            c.add("", "candidates", "candidate name " + inQuotes(cand.name) + " is used twice");
         for (const auto &[id, value] : cand.values) {
             const Part *p = d.findPart(id);
             if (!p) {
                 c.add(id, "candidates",
-                      "candidate " + quoted(label) + " names part " + quoted(id)
+                      "candidate " + inQuotes(label) + " names part " + inQuotes(id)
                           + ", which does not exist");
                 continue;
             }
             if (p->primaryField().empty()) {
                 c.add(id, "candidates",
-                      "candidate " + quoted(label) + ": a " + typeName(p->type)
+                      "candidate " + inQuotes(label) + ": a " + typeName(p->type)
                           + " has no value to change");
                 continue;
             }
@@ -331,7 +332,7 @@ void checkSketch(const Design &d, Checker &c)
         return;
     for (const auto &[id, placement] : d.sketch->parts) {
         if (!d.findPart(id))
-            c.add(id, "sketch", "sketch places part " + quoted(id) + ", which does not exist");
+            c.add(id, "sketch", "sketch places part " + inQuotes(id) + ", which does not exist");
         if (!std::isfinite(placement.x) || !std::isfinite(placement.y))
             c.add(id, "sketch", "sketch position is not a finite number");
         if (placement.rotation % 90 != 0)
