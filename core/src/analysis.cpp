@@ -1,23 +1,183 @@
 #include "loopsketch/analysis.h"
 
+#include "loopsketch/circuit.h"
+#include "loopsketch/loopcircuit.h"
+#include "loopsketch/metrics.h"
+
+#include <Eigen/LU>
+
+#include <cmath>
+
 namespace loopsketch {
+
+namespace {
+
+constexpr double kSensitivityStep = 1e-6; // relative, central difference
+
+OptionalNumber realPart(std::complex<double> v)
+{
+    return finiteOrNone(v.real());
+}
+
+OptionalNumber errorPct(const OptionalNumber &estimate, const OptionalNumber &exact)
+{
+    if (!estimate || !exact || *exact == 0.0)
+        return std::nullopt;
+    return finiteOrNone((*estimate - *exact) / *exact * 100.0);
+}
+
+OptionalNumber decibels(const OptionalNumber &factor)
+{
+    if (!factor || !(std::abs(*factor) > 0))
+        return std::nullopt;
+    return finiteOrNone(20.0 * std::log10(std::abs(*factor)));
+}
+
+/// DC gain of the full circuit by one dense real solve (cheap enough for finite
+/// differences, and independent of the reduced path).
+OptionalNumber dcGain(const Design &design)
+{
+    auto system = assembleSystem(buildLoopNetlist(design));
+    if (!system)
+        return std::nullopt;
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(system->G);
+    const Eigen::VectorXd x = lu.solve(system->B.col(loopio::kSource));
+    if (!x.allFinite() || isSingular(system->G.cast<std::complex<double>>()))
+        return std::nullopt;
+    return finiteOrNone(system->L.row(loopio::kOutput).dot(x));
+}
+
+/// The field whose sensitivity is reported for a part: its value, the gain block's gain,
+/// the source's own resistance. Empty when the part has none that acts at DC.
+std::string sensitivityField(const Part &p)
+{
+    switch (p.type) {
+    case PartType::GainBlock:
+        return "gain";
+    case PartType::VSource:
+        return p.number("r_series") > 0 ? "r_series" : "";
+    case PartType::ISource:
+        return p.has("r_parallel") ? "r_parallel" : "";
+    default:
+        return std::string(p.primaryField());
+    }
+}
+
+std::map<std::string, double> computeSensitivity(const Design &design, double gain)
+{
+    std::map<std::string, double> out;
+    if (!(std::abs(gain) > 0))
+        return out;
+    for (std::size_t i = 0; i < design.parts.size(); ++i) {
+        const std::string field = sensitivityField(design.parts[i]);
+        if (field.empty())
+            continue;
+        const double base = design.parts[i].number(field);
+        OptionalNumber g[2];
+        for (int k = 0; k < 2; ++k) {
+            Design d = design;
+            d.parts[i].fields[field].si = base * (1.0 + (k ? kSensitivityStep : -kSensitivityStep));
+            g[k] = dcGain(d);
+        }
+        if (g[0] && g[1])
+            out[design.parts[i].id] = (*g[1] - *g[0]) / (2 * kSensitivityStep * gain);
+    }
+    return out;
+}
+
+} // namespace
 
 Result<Analysis> analyze(const Design &design, std::string_view file)
 {
     if (auto problems = validateDesign(design, file); !problems.empty())
         return problems;
-    Analysis a;
-    a.title = design.title;
-    a.gainUnit = gainUnit(design);
-    a.frequenciesHz = design.sweep.frequencies();
-    auto exact = computeExactSolution(design, a.frequenciesHz);
-    if (!exact) {
-        Diagnostics d = exact.diagnostics();
+    auto built = LoopModel::build(design);
+    if (!built) {
+        Diagnostics d = built.diagnostics();
         for (auto &x : d)
             x.file = std::string(file);
         return d;
     }
-    a.exact = std::move(exact).value();
+    const LoopModel &model = *built;
+    Analysis a;
+    a.title = design.title;
+    a.gainUnit = gainUnit(design);
+    a.frequenciesHz = design.sweep.frequencies();
+    a.topology = model.topology().topology;
+    a.topologyReason = model.topology().reason;
+    a.twoPortProblem = model.twoPortProblem();
+
+    const LoopPoint dc = model.at(0.0);
+    a.exact.gain = realPart(dc.gain);
+    a.exact.zIn = realPart(dc.zIn);
+    a.exact.zOut = realPart(dc.zOut);
+    a.returnRatio = {realPart(dc.loopGain), realPart(dc.gainInf), realPart(dc.feedthrough),
+                     realPart(dc.rrGain),   realPart(dc.rrZIn),   realPart(dc.rrZOut)};
+    if (model.hasTwoPort()) {
+        TwoPortSummary t;
+        t.a = realPart(dc.a);
+        t.beta = realPart(dc.beta);
+        t.loopGain = realPart(dc.tpLoopGain);
+        t.closedLoop = realPart(dc.closedLoop);
+        t.gain = realPart(dc.tpGain);
+        t.zIn = realPart(dc.tpZIn);
+        t.zOut = realPart(dc.tpZOut);
+        t.gainErrorPct = errorPct(t.gain, a.exact.gain);
+        t.zInErrorPct = errorPct(t.zIn, a.exact.zIn);
+        t.zOutErrorPct = errorPct(t.zOut, a.exact.zOut);
+        t.inputLoading = realPart(dc.inputLoading);
+        t.outputLoading = realPart(dc.outputLoading);
+        t.inputLoadingDb = decibels(t.inputLoading);
+        t.outputLoadingDb = decibels(t.outputLoading);
+        a.twoPort = t;
+    }
+    if (a.returnRatio.loopGain)
+        a.desensitivityDb = decibels(1.0 + *a.returnRatio.loopGain);
+
+    AnalysisCurves &c = a.curves;
+    const std::size_t n = a.frequenciesHz.size();
+    for (Curve *curve :
+         {&c.gainExact, &c.zInExact, &c.zOutExact, &c.loopGain, &c.gainReturnRatio,
+          &c.zInReturnRatio, &c.zOutReturnRatio, &c.zInOpenLoop, &c.zOutOpenLoop, &c.a, &c.beta,
+          &c.loopGainTwoPort, &c.closedLoop, &c.gainTwoPort, &c.zInTwoPort, &c.zOutTwoPort,
+          &c.inputLoading, &c.outputLoading, &c.desensitivity})
+        curve->reserve(n);
+    for (double f : a.frequenciesHz) {
+        const LoopPoint p = model.at({0.0, 2.0 * std::numbers::pi * f});
+        c.gainExact.push_back(p.gain);
+        c.zInExact.push_back(p.zIn);
+        c.zOutExact.push_back(p.zOut);
+        c.loopGain.push_back(p.loopGain);
+        c.gainReturnRatio.push_back(p.rrGain);
+        c.zInReturnRatio.push_back(p.rrZIn);
+        c.zOutReturnRatio.push_back(p.rrZOut);
+        c.zInOpenLoop.push_back(p.zInOpenLoop);
+        c.zOutOpenLoop.push_back(p.zOutOpenLoop);
+        c.a.push_back(p.a);
+        c.beta.push_back(p.beta);
+        c.loopGainTwoPort.push_back(p.tpLoopGain);
+        c.closedLoop.push_back(p.closedLoop);
+        c.gainTwoPort.push_back(p.tpGain);
+        c.zInTwoPort.push_back(p.tpZIn);
+        c.zOutTwoPort.push_back(p.tpZOut);
+        c.inputLoading.push_back(p.inputLoading);
+        c.outputLoading.push_back(p.outputLoading);
+        c.desensitivity.push_back(1.0 + p.loopGain);
+    }
+    a.exact.gainSweep = c.gainExact;
+    a.exact.zInSweep = c.zInExact;
+    a.exact.zOutSweep = c.zOutExact;
+
+    a.margins = computeMargins(model, a.frequenciesHz, c.loopGain, dc.loopGain);
+    if (a.exact.gain) {
+        a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);
+        a.peakingDb = computePeaking(c.gainExact, *a.exact.gain);
+    }
+    a.poles = describePoles(model.closedLoopPoles());
+    if (a.exact.gain)
+        a.step = computeStep(model, a.poles, a.bandwidthHz, *a.exact.gain);
+    if (a.exact.gain)
+        a.sensitivity = computeSensitivity(design, *a.exact.gain);
     return a;
 }
 

@@ -40,6 +40,47 @@ std::string csvNumber(double v)
     return os.str();
 }
 
+Json topologyJson(const Analysis &a)
+{
+    if (!a.topology)
+        return nullptr;
+    const Topology &t = *a.topology;
+    Json j;
+    j["mixing"] = toString(t.mixing);
+    j["sampling"] = toString(t.sampling);
+    j["name"] = t.name();
+    j["parameters"] = toString(t.parameters());
+    j["gain_type"] = t.gainType();
+    j["gain_unit"] = t.gainUnit();
+    j["network"] = t.networkParts;
+    j["port1"] = {t.port1Node, "0"};
+    j["port2"] = {t.port2Node, "0"};
+    return j;
+}
+
+Json twoPortJson(const Analysis &a)
+{
+    if (!a.twoPort)
+        return nullptr;
+    const TwoPortSummary &t = *a.twoPort;
+    Json j;
+    j["a"] = number(t.a);
+    j["beta"] = number(t.beta);
+    j["loop_gain"] = number(t.loopGain);
+    j["closed_loop"] = number(t.closedLoop);
+    j["gain"] = number(t.gain);
+    j["z_in"] = number(t.zIn);
+    j["z_out"] = number(t.zOut);
+    j["error_pct"] = {{"gain", number(t.gainErrorPct)},
+                      {"z_in", number(t.zInErrorPct)},
+                      {"z_out", number(t.zOutErrorPct)}};
+    j["loading"] = {{"input", number(t.inputLoading)},
+                    {"output", number(t.outputLoading)},
+                    {"input_db", number(t.inputLoadingDb)},
+                    {"output_db", number(t.outputLoadingDb)}};
+    return j;
+}
+
 } // namespace
 
 std::string analysisToJson(const Analysis &a)
@@ -48,43 +89,125 @@ std::string analysisToJson(const Analysis &a)
     j["schema"] = kAnalysisSchema;
     j["title"] = a.title;
     j["gain_unit"] = a.gainUnit;
-    j["topology"] = nullptr;
+    j["topology"] = topologyJson(a);
+    if (!a.topology)
+        j["reason"] = a.topologyReason;
+    else if (!a.twoPort)
+        j["reason"] = a.twoPortProblem;
     Json dc;
     dc["exact"] = {{"gain", number(a.exact.gain)},
                    {"z_in", number(a.exact.zIn)},
                    {"z_out", number(a.exact.zOut)}};
-    dc["two_port"] = nullptr;
-    dc["return_ratio"] = nullptr;
+    dc["two_port"] = twoPortJson(a);
+    const ReturnRatioSummary &r = a.returnRatio;
+    dc["return_ratio"] = {{"loop_gain", number(r.loopGain)},
+                          {"gain_inf", number(r.gainInf)},
+                          {"feedthrough", number(r.feedthrough)},
+                          {"gain", number(r.gain)},
+                          {"z_in", number(r.zIn)},
+                          {"z_out", number(r.zOut)}};
     j["dc"] = dc;
-    j["margins"] = nullptr;
-    j["closed_loop"] = nullptr;
-    j["desensitivity_db"] = nullptr;
-    j["sensitivity"] = nullptr;
+    j["margins"] = {{"crossover_hz", number(a.margins.crossoverHz)},
+                    {"phase_margin_deg", number(a.margins.phaseMarginDeg)},
+                    {"gain_margin_db", number(a.margins.gainMarginDb)},
+                    {"phase_crossover_hz", number(a.margins.phaseCrossoverHz)}};
+    Json poles = Json::array();
+    for (const auto &p : a.poles)
+        poles.push_back({{"re", p.s.real()},
+                         {"im", p.s.imag()},
+                         {"f_n_hz", p.naturalHz},
+                         {"damping", p.damping},
+                         {"q", number(p.q)}});
+    j["closed_loop"] = {{"bandwidth_hz", number(a.bandwidthHz)},
+                        {"peaking_db", number(a.peakingDb)},
+                        {"poles", poles},
+                        {"step",
+                         {{"rise_time_s", number(a.step.riseTimeS)},
+                          {"overshoot_pct", number(a.step.overshootPct)},
+                          {"settling_time_s", number(a.step.settlingTimeS)}}}};
+    j["desensitivity_db"] = number(a.desensitivityDb);
+    Json sens = Json::object();
+    for (const auto &[id, v] : a.sensitivity)
+        sens[id] = number(v);
+    j["sensitivity"] = sens;
     return j.dump(2) + "\n";
 }
 
 std::string analysisToText(const Analysis &a)
 {
     std::ostringstream os;
-    os << a.title << "\n";
-    os << "Exact solution at DC\n";
-    const auto show = [&](const char *label, const OptionalNumber &v, const std::string &unit) {
-        os << "  " << label << ": " << (v ? formatEngineering(*v, 6, unit) : "none") << "\n";
-    };
-    show("gain ", a.exact.gain, a.gainUnit);
-    show("z_in ", a.exact.zIn, "Ω");
+    const auto show
+        = [&](const std::string &label, const OptionalNumber &v, const std::string &unit) {
+              os << "  " << label;
+              for (std::size_t i = label.size(); i < 26; ++i)
+                  os << ' ';
+              os << (v ? formatEngineering(*v, 5, unit) : "none") << "\n";
+          };
+    os << a.title << "\n\n";
+    if (a.topology)
+        os << "Topology: " << a.topology->name() << " · " << toString(a.topology->parameters())
+           << " parameters · " << a.topology->gainType() << "\n\n";
+    else
+        os << "Topology: no single-loop two-port form (" << a.topologyReason << ")\n\n";
+    os << "Exact solution (DC)\n";
+    show("gain", a.exact.gain, a.gainUnit);
+    show("z_in", a.exact.zIn, "Ω");
     show("z_out", a.exact.zOut, "Ω");
+    if (a.twoPort) {
+        const auto &t = *a.twoPort;
+        os << "\nTwo-port estimate (DC)\n";
+        show("A", t.a, a.topology->gainUnit());
+        show("beta", t.beta, "");
+        show("loop gain A·beta", t.loopGain, "");
+        show("gain", t.gain, a.gainUnit);
+        show("  error vs exact", t.gainErrorPct, "%");
+        show("z_in", t.zIn, "Ω");
+        show("z_out", t.zOut, "Ω");
+        show("input loading", t.inputLoadingDb, "dB");
+        show("output loading", t.outputLoadingDb, "dB");
+    } else if (!a.twoPortProblem.empty()) {
+        os << "\nTwo-port estimate: " << a.twoPortProblem << "\n";
+    }
+    os << "\nReturn ratio (DC)\n";
+    show("loop gain T", a.returnRatio.loopGain, "");
+    show("gain (asymptotic model)", a.returnRatio.gain, a.gainUnit);
+    show("z_in (Blackman)", a.returnRatio.zIn, "Ω");
+    show("z_out (Blackman)", a.returnRatio.zOut, "Ω");
+    os << "\nStability and response\n";
+    show("desensitivity 1+T", a.desensitivityDb, "dB");
+    show("loop crossover", a.margins.crossoverHz, "Hz");
+    show("phase margin", a.margins.phaseMarginDeg, "°");
+    show("gain margin", a.margins.gainMarginDb, "dB");
+    show("closed-loop bandwidth", a.bandwidthHz, "Hz");
+    show("peaking", a.peakingDb, "dB");
+    show("step rise time", a.step.riseTimeS, "s");
+    show("step overshoot", a.step.overshootPct, "%");
+    show("step settling (1 %)", a.step.settlingTimeS, "s");
     return os.str();
 }
 
 std::string sweepToCsv(const Analysis &a)
 {
+    const AnalysisCurves &c = a.curves;
+    const std::pair<const char *, const Curve *> columns[] = {
+        {"a", &c.a},
+        {"loop_gain", &c.loopGain},
+        {"gain_two_port", &c.gainTwoPort},
+        {"gain_exact", &c.gainExact},
+        {"z_in", &c.zInExact},
+        {"z_out", &c.zOutExact},
+        {"desensitivity", &c.desensitivity},
+    };
     std::ostringstream os;
-    os << "f_hz,gain_exact_db,gain_exact_deg,z_in_db,z_in_deg,z_out_db,z_out_deg\n";
+    os << "f_hz";
+    for (const auto &[name, curve] : columns)
+        os << ',' << name << "_db," << name << "_deg";
+    os << '\n';
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
         os << csvNumber(a.frequenciesHz[i]);
-        for (const Curve *c : {&a.exact.gainSweep, &a.exact.zInSweep, &a.exact.zOutSweep})
-            os << ',' << csvNumber(magnitudeDb((*c)[i])) << ',' << csvNumber(phaseDeg((*c)[i]));
+        for (const auto &[name, curve] : columns)
+            os << ',' << csvNumber(magnitudeDb((*curve)[i])) << ','
+               << csvNumber(phaseDeg((*curve)[i]));
         os << '\n';
     }
     return os.str();

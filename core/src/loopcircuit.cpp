@@ -89,8 +89,11 @@ void addSource(Netlist &n, const Part &src, LoopCircuitOptions::Source mode)
 
 void addGainBlock(Netlist &n, const Part &gb, const LoopCircuitOptions &options)
 {
-    const std::string inP = gb.node("in_p");
-    const std::string inN = gb.node("in_n");
+    const auto split = [&](const std::string &node) {
+        return !options.splitNode.empty() && node == options.splitNode ? node + "#in" : node;
+    };
+    const std::string inP = split(gb.node("in_p"));
+    const std::string inN = split(gb.node("in_n"));
     const std::string out = gb.node("out");
     if (gb.has("r_in"))
         n.addResistor(gb.id + ":r_in", inP, inN, gb.number("r_in"));
@@ -154,7 +157,7 @@ Netlist buildLoopNetlist(const Design &design, const LoopCircuitOptions &options
     std::string sense; // element whose branch current is the load current
     if (options.load) {
         std::string hot = la;
-        if (design.output == OutputKind::Current) {
+        if (design.output == OutputKind::Current || options.senseLoadCurrent) {
             hot = load->id + ":i";
             sense = load->id + ":sense";
             n.addVoltageSource(sense, hot, lb, -1);
@@ -168,17 +171,23 @@ Netlist buildLoopNetlist(const Design &design, const LoopCircuitOptions &options
     n.addCurrentSource("port:in", ip, im, loopio::kInputPort);
     n.addCurrentSource("port:load", la, lb, loopio::kLoadPort);
 
+    const NetlistOutput noCurrent{NetlistOutput::Kind::VoltageBetween, la, la}; // zero row
+    const NetlistOutput loadCurrent
+        = sense.empty() ? noCurrent : NetlistOutput{NetlistOutput::Kind::BranchCurrent, sense, {}};
     if (design.output == OutputKind::Voltage)
         n.addOutput({NetlistOutput::Kind::VoltageBetween, la, lb});
-    else if (!sense.empty())
-        n.addOutput({NetlistOutput::Kind::BranchCurrent, sense, {}});
     else
-        n.addOutput({NetlistOutput::Kind::VoltageBetween, la, la}); // no load, no current
+        n.addOutput(loadCurrent);
     n.addOutput({NetlistOutput::Kind::VoltageBetween, ip, im});
     n.addOutput({NetlistOutput::Kind::VoltageBetween, la, lb});
     n.addOutput({NetlistOutput::Kind::ControlledReturn, {}, {}});
     const Part *gb = design.uniquePart(PartType::GainBlock);
-    n.addOutput({NetlistOutput::Kind::VoltageBetween, gb->node("in_p"), gb->node("in_n")});
+    const auto split = [&](const std::string &node) {
+        return !options.splitNode.empty() && node == options.splitNode ? node + "#in" : node;
+    };
+    n.addOutput(
+        {NetlistOutput::Kind::VoltageBetween, split(gb->node("in_p")), split(gb->node("in_n"))});
+    n.addOutput(loadCurrent);
     return n;
 }
 

@@ -1,12 +1,15 @@
 #pragma once
 
 // The one result object of a recomputation: what the Readout, every panel, the review
-// sheet and `loopsketch analyze --json` show. All numbers in SI base units; std::nullopt
-// (JSON null) where a quantity does not exist.
+// sheet and `loopsketch analyze --json` show. Numbers in SI base units; std::nullopt (JSON
+// null) where a quantity does not exist; NaN inside curves marks a frequency where it does
+// not exist.
 
 #include "loopsketch/design.h"
 #include "loopsketch/exactsolution.h"
+#include "loopsketch/loopmodel.h"
 #include "loopsketch/result.h"
+#include "loopsketch/topology.h"
 
 #include <complex>
 #include <map>
@@ -21,12 +24,77 @@ inline constexpr std::string_view kAnalysisSchema = "loopsketch.analysis/1";
 using OptionalNumber = std::optional<double>;
 using Curve = std::vector<std::complex<double>>;
 
+struct TwoPortSummary
+{
+    OptionalNumber a, beta, loopGain, closedLoop; ///< in the topology's gain unit
+    OptionalNumber gain, zIn, zOut; ///< comparable with the exact solution
+    OptionalNumber gainErrorPct, zInErrorPct, zOutErrorPct; ///< (estimate - exact)/exact
+    OptionalNumber inputLoading, outputLoading; ///< factors (1 = no loading)
+    OptionalNumber inputLoadingDb, outputLoadingDb;
+};
+
+struct ReturnRatioSummary
+{
+    OptionalNumber loopGain, gainInf, feedthrough, gain, zIn, zOut;
+};
+
+struct Margins
+{
+    OptionalNumber crossoverHz; ///< |T| = 1 (the one with the worst phase margin)
+    OptionalNumber phaseMarginDeg; ///< 180 + unwrapped phase of T at crossover, worst
+    OptionalNumber gainMarginDb; ///< -20 log10 |T| where the phase reaches -180
+    OptionalNumber phaseCrossoverHz;
+};
+
+struct ClosedLoopPole
+{
+    std::complex<double> s; ///< rad/s
+    double naturalHz = 0; ///< |s| / 2 pi
+    double damping = 0; ///< -Re(s) / |s|
+    double q = 0; ///< |s| / (-2 Re s)
+};
+
+struct StepResult
+{
+    OptionalNumber riseTimeS; ///< 10 % to 90 % of the final value
+    OptionalNumber overshootPct; ///< (peak - final) / final
+    OptionalNumber settlingTimeS; ///< last time outside +-1 % of the final value
+    std::vector<double> timeS;
+    std::vector<double> response; ///< output per unit source step
+    double finalValue = 0;
+};
+
+/// The curves every panel draws, one value per frequency of the sweep.
+struct AnalysisCurves
+{
+    Curve gainExact, zInExact, zOutExact;
+    Curve loopGain; ///< T_rr
+    Curve gainReturnRatio, zInReturnRatio, zOutReturnRatio;
+    Curve zInOpenLoop, zOutOpenLoop; ///< gain block's gain at 0 ("without feedback")
+    Curve a, beta, loopGainTwoPort, closedLoop, gainTwoPort, zInTwoPort, zOutTwoPort;
+    Curve inputLoading, outputLoading;
+    Curve desensitivity; ///< 1 + T_rr
+};
+
 struct Analysis
 {
     std::string title;
-    std::string gainUnit; ///< "V/V", "V/A" ...
+    std::string gainUnit; ///< of `gain` everywhere: "V/V", "V/A" ...
     std::vector<double> frequenciesHz;
-    ExactSolution exact;
+    std::optional<Topology> topology;
+    std::string topologyReason; ///< why there is no two-port form (topology empty)
+    std::string twoPortProblem; ///< why the estimate is missing despite a topology
+    ExactSolution exact; ///< DC values and exact curves
+    std::optional<TwoPortSummary> twoPort;
+    ReturnRatioSummary returnRatio;
+    Margins margins;
+    OptionalNumber bandwidthHz; ///< closed-loop (exact) -3 dB
+    OptionalNumber peakingDb; ///< closed-loop peak above the DC gain, >= 0
+    std::vector<ClosedLoopPole> poles;
+    StepResult step;
+    OptionalNumber desensitivityDb; ///< 20 log10 |1 + T| at DC
+    std::map<std::string, double> sensitivity; ///< part id -> %/% of the DC gain
+    AnalysisCurves curves;
 };
 
 /// Runs every analysis of the design over its sweep. Fails with diagnostics when the

@@ -1,6 +1,7 @@
 #pragma once
 
-// The exact solution: the full circuit solved as it stands (DESIGN.md §5).
+// The exact solution: the full circuit solved as it stands (DESIGN.md §5). LoopModel
+// computes it; this holds its DC values and curves.
 
 #include "loopsketch/design.h"
 #include "loopsketch/result.h"
@@ -25,11 +26,6 @@ struct ExactSolution
     std::vector<std::complex<double>> zInSweep;
     std::vector<std::complex<double>> zOutSweep;
 };
-
-/// Solves the design at DC and at each frequency (Hz). The design must be valid. Fails,
-/// naming the nodes involved, when the circuit has no unique solution.
-Result<ExactSolution> computeExactSolution(const Design &design,
-                                           const std::vector<double> &frequenciesHz);
 
 /// A DC value that exists only when finite.
 std::optional<double> finiteOrNone(double value);

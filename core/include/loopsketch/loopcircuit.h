@@ -25,6 +25,7 @@ inline constexpr int kInputVoltage = 1; ///< output: voltage across the source's
 inline constexpr int kLoadVoltage = 2; ///< output: voltage across the load's terminals
 inline constexpr int kReturned = 3; ///< output: gain * H(s) * vd of the gain block
 inline constexpr int kDifferential = 4; ///< output: v(in_p) - v(in_n)
+inline constexpr int kLoadCurrent = 5; ///< output: load current a -> b (0 unless sensed)
 } // namespace loopio
 
 struct LoopCircuitOptions
@@ -41,6 +42,12 @@ struct LoopCircuitOptions
     /// Passive parts for which this returns false are left out (the two-port A circuit
     /// adds its own copies of the feedback network).
     std::function<bool(const Part &)> includePart;
+    /// Measure the load current (output kLoadCurrent) even for a voltage output.
+    bool senseLoadCurrent = false;
+    /// Gain-block input terminals on this node move to node "<node>#in": the A circuit of a
+    /// network whose two ports share one node (a sense resistor in series-series) keeps the
+    /// input loop and the output loop apart.
+    std::string splitNode;
 };
 
 /// The gain block's DC gain (V/V, sign included) and pole list with gbw applied.

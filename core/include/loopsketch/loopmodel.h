@@ -1,0 +1,74 @@
+#pragma once
+
+// LoopModel: every reduced system one design needs (exact solution, return ratio, two-port
+// estimate), built once per recomputation and evaluated at any complex frequency. The
+// analyses sample it over the sweep and refine crossings on it by root finding.
+
+#include "loopsketch/design.h"
+#include "loopsketch/reducedsystem.h"
+#include "loopsketch/result.h"
+#include "loopsketch/topology.h"
+#include "loopsketch/twoport.h"
+
+#include <complex>
+#include <memory>
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace loopsketch {
+
+using Complex = std::complex<double>;
+
+/// Every quantity of one frequency. NaN marks a quantity that does not exist there.
+struct LoopPoint
+{
+    // Exact solution.
+    Complex gain, zIn, zOut;
+    // Return ratio of the gain block's controlled source.
+    Complex loopGain; ///< T_rr
+    Complex gainInf; ///< G_inf of the asymptotic gain model
+    Complex feedthrough; ///< G_0
+    Complex rrGain; ///< G_inf T/(1+T) + G_0/(1+T)
+    Complex rrZIn, rrZOut; ///< Blackman
+    Complex zInOpenLoop, zOutOpenLoop; ///< Z_D: the impedances with the gain block's gain at 0
+    // Two-port estimate (NaN without a topology).
+    Complex a, beta, tpLoopGain, closedLoop, tpGain, tpZIn, tpZOut;
+    Complex inputLoading, outputLoading; ///< factors, 1 = no loading
+    TwoPortMatrix network; ///< the network's parameters of the topology's set
+};
+
+class LoopModel
+{
+public:
+    /// Builds every system of a valid design. Fails when the circuit has no solution.
+    static Result<LoopModel> build(const Design &design);
+
+    const TopologyResult &topology() const { return m_topology; }
+    /// Why the two-port estimate is missing although a topology was found (e.g. the
+    /// network's parameter set does not exist); empty otherwise.
+    const std::string &twoPortProblem() const { return m_twoPortProblem; }
+    bool hasTwoPort() const { return m_twoPort != nullptr; }
+
+    LoopPoint at(Complex s) const;
+
+    /// Fast single quantities for root finding.
+    Complex loopGainAt(Complex s) const;
+    Complex gainAt(Complex s) const;
+
+    /// Closed-loop natural frequencies (rad/s) of the exact circuit.
+    std::vector<Complex> closedLoopPoles() const;
+    /// Unit-step response of the exact output at `times` (s).
+    Result<std::vector<double>> stepResponse(const std::vector<double> &times) const;
+
+private:
+    struct TwoPortSystems;
+
+    std::optional<ReducedSystem> m_full, m_input, m_output; // exact
+    std::optional<ReducedSystem> m_rrFull, m_rrInput, m_rrOutput; // return ratio
+    std::shared_ptr<const TwoPortSystems> m_twoPort;
+    TopologyResult m_topology;
+    std::string m_twoPortProblem;
+};
+
+} // namespace loopsketch
