@@ -167,15 +167,23 @@ private:
         advance();
         return true;
     }
+    // a value has ended: the next location is the next array element or the next key
     void advance()
     {
-        if (!m_frames.empty() && !m_frames.back().object)
+        if (m_frames.empty())
+            return;
+        if (m_frames.back().object)
+            m_frames.back().key.clear();
+        else
             ++m_frames.back().index;
     }
     bool push(bool object)
     {
         if (m_frames.size() + 1 > kMaxNesting) {
-            const Location at = location();
+            Location at = location();
+            // name only where the nesting starts, not the 64-level path
+            if (const auto cut = at.field.find_first_of("[.", 1); cut != std::string::npos)
+                at.field.resize(cut);
             m_diagnostics.push_back(
                 {std::string(m_file), at.part, at.field,
                  "JSON nested deeper than " + std::to_string(kMaxNesting) + " levels"});
@@ -221,6 +229,14 @@ private:
     Diagnostics m_diagnostics;
 };
 
+// " in sweep", " at the top level", or nothing inside a part (the part is named already).
+std::string placeOf(const std::string &part, const std::string &where)
+{
+    if (!where.empty())
+        return " in " + where;
+    return part.empty() ? " at the top level" : "";
+}
+
 // DOM pass: keys, types and values into a Design.
 class Reader
 {
@@ -238,7 +254,10 @@ public:
     void typeError(const std::string &part, const std::string &field, const Json &j,
                    std::string_view expected)
     {
-        error(part, field, "expected " + std::string(expected) + ", found " + j.type_name());
+        std::string found = j.type_name();
+        if (j.is_number() || j.is_boolean())
+            found += " " + j.dump();
+        error(part, field, "expected " + std::string(expected) + ", found " + found);
     }
 
     // Reports every key of `obj` not in `allowed`. `where` names the object for keys outside
@@ -255,8 +274,7 @@ public:
             for (std::string_view a : more)
                 known = known || a == k;
             if (!known)
-                error(part, where,
-                      "unknown key " + inQuotes(k) + (where.empty() ? "" : " in " + where));
+                error(part, where, "unknown key " + inQuotes(k) + placeOf(part, where));
         }
     }
 

@@ -4,6 +4,7 @@
 #include "loopsketch/designfile.h"
 
 #include <cmath>
+#include <cstdio>
 #include <map>
 #include <set>
 #include <string>
@@ -36,7 +37,14 @@ public:
     void checkNumber(const std::string &part, const std::string &field, double v, ValueRange range,
                      const std::string &text)
     {
-        const std::string shown = text.empty() ? std::string() : " (" + inQuotes(text) + ")";
+        std::string shown;
+        if (!text.empty()) {
+            shown = " (" + inQuotes(text) + ")";
+        } else if (std::isfinite(v)) {
+            char buf[32];
+            std::snprintf(buf, sizeof buf, "%g", v);
+            shown = std::string(" (") + buf + ")";
+        }
         if (!std::isfinite(v)) {
             add(part, field, "value" + shown + " is not a finite number");
             return;
