@@ -141,7 +141,17 @@ std::string analysisToText(const Analysis &a)
               os << "  " << label;
               for (std::size_t i = label.size(); i < 26; ++i)
                   os << ' ';
-              os << (v ? formatEngineering(*v, 5, unit) : "none") << "\n";
+              if (!v) {
+                  os << "none\n";
+              } else if (unit == "%" || unit == "dB" || unit == "°") {
+                  // Percentages, decibels and degrees read best without SI prefixes.
+                  std::ostringstream plain;
+                  plain.precision(std::abs(*v) < 1e-3 ? 2 : 5);
+                  plain << *v;
+                  os << plain.str() << " " << unit << "\n";
+              } else {
+                  os << formatEngineering(*v, 5, unit) << "\n";
+              }
           };
     os << a.title << "\n\n";
     if (a.topology)

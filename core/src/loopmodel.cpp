@@ -54,6 +54,10 @@ void addNetworkCopy(Netlist &n, const std::vector<Part> &parts, const std::strin
                 return std::string(kGroundNode);
             return prefix + node;
         };
+        // A network whose ports share one node (a lone sense resistor) attaches that node
+        // at whichever port this copy is attached by.
+        if (node == port1 && node == port2)
+            return end2 == PortEnd::Attached ? place(end2, port2At) : place(end1, port1At);
         if (node == port1)
             return place(end1, port1At);
         if (node == port2)
@@ -201,10 +205,13 @@ Result<LoopModel> LoopModel::build(const Design &design)
         Netlist n = withCopies(so);
         // The source-side parts go too: what is left is the loop the source drives.
         std::erase_if(n.elements, [&](const NetlistElement &e) { return sourceIds.count(e.name); });
-        const int in = n.addInput();
-        n.addCurrentSource("test:q", t.sourceInput, "0", in);
+        n.inputCount = 0;
         n.outputs.clear();
+        n.addCurrentSource("test:q", t.sourceInput, "0", n.addInput());
         n.addOutput({NetlistOutput::Kind::VoltageBetween, t.sourceInput, "0"});
+        std::erase_if(n.elements, [](const NetlistElement &e) {
+            return e.kind == NetlistElement::Kind::CurrentSource && e.name.rfind("port:", 0) == 0;
+        });
         sys->aSeriesInput = optionalOf(reduce(n));
     }
     if (t.sampling == Connection::Series) {

@@ -156,7 +156,7 @@ TopologyResult identifyTopology(const Design &d)
                         "the feedback network also connects to the signal "
                         "source directly (part "
                             + p->id + ")"};
-            if (n == otherInput)
+            if (n == otherInput && !isGround(n))
                 return {std::nullopt,
                         "the feedback network connects to both gain-block inputs "
                         "(part "

@@ -2,6 +2,8 @@
 
 #include "loopsketch/loopcircuit.h"
 
+#include <Eigen/LU>
+
 #include <cmath>
 #include <limits>
 
