@@ -177,8 +177,9 @@ Result<LoopModel> LoopModel::build(const Design &design)
     LoopCircuitOptions aOpts;
     aOpts.senseLoadCurrent = t.sampling == Connection::Series;
     Netlist aNet = withCopies(aOpts);
-    auto sys = std::make_shared<TwoPortSystems>(
-        TwoPortSystems{t, std::move(network).value(), ReducedSystem{}});
+    auto sys = std::make_shared<TwoPortSystems>();
+    sys->topology = t;
+    sys->network = std::move(network).value();
     sys->testP1 = aNet.addInput();
     aNet.addCurrentSource("test:p1", p1, "0", sys->testP1);
     sys->testP2 = aNet.addInput();
