@@ -1,0 +1,517 @@
+// The built command-line program, run as a user runs it: exit codes, messages on stderr,
+// the analysis text and JSON, and the sweep CSV, checked against the core analysis.
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/value.h"
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+#include <nlohmann/json.hpp>
+
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <atomic>
+#include <cctype>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+using namespace loopsketch;
+using ::testing::HasSubstr;
+using ::testing::Not;
+namespace fs = std::filesystem;
+using Json = nlohmann::json;
+
+namespace {
+
+const fs::path kCli = LOOPSKETCH_CLI;
+const fs::path kDesignsDir = LOOPSKETCH_DESIGNS_DIR;
+const fs::path kMalformedDir = fs::path(LOOPSKETCH_TEST_DATA_DIR) / "malformed";
+
+class TempDir
+{
+public:
+    TempDir()
+    {
+        static std::atomic<int> counter{0};
+        m_path = fs::temp_directory_path()
+            / ("loopsketch-cli-test-" + std::to_string(::getpid()) + "-"
+               + std::to_string(counter++));
+        fs::create_directories(m_path);
+    }
+    ~TempDir()
+    {
+        std::error_code ec;
+        fs::remove_all(m_path, ec);
+    }
+    TempDir(const TempDir &) = delete;
+    TempDir &operator=(const TempDir &) = delete;
+    const fs::path &path() const { return m_path; }
+
+private:
+    fs::path m_path;
+};
+
+std::string readText(const fs::path &path)
+{
+    std::ifstream in(path, std::ios::binary);
+    std::ostringstream os;
+    os << in.rdbuf();
+    return os.str();
+}
+
+std::string shellQuoted(const std::string &s)
+{
+    std::string q = "'";
+    for (char c : s)
+        q += c == '\'' ? std::string("'\\''") : std::string(1, c);
+    return q + "'";
+}
+
+struct CliRun
+{
+    bool exited = false; ///< false: killed by a signal (a crash)
+    int exitCode = -1;
+    std::string out;
+    std::string err;
+};
+
+CliRun runCli(const std::vector<std::string> &args)
+{
+    TempDir dir;
+    const fs::path out = dir.path() / "stdout";
+    const fs::path err = dir.path() / "stderr";
+    std::string cmd = shellQuoted(kCli.string());
+    for (const auto &a : args)
+        cmd += " " + shellQuoted(a);
+    cmd += " >" + shellQuoted(out.string()) + " 2>" + shellQuoted(err.string()) + " </dev/null";
+    const int status = std::system(cmd.c_str());
+    CliRun r;
+    if (status != -1 && WIFEXITED(status)) {
+        r.exited = true;
+        r.exitCode = WEXITSTATUS(status);
+    }
+    r.out = readText(out);
+    r.err = readText(err);
+    return r;
+}
+
+std::vector<std::string> exampleDesigns()
+{
+    std::vector<std::string> files;
+    for (const auto &e : fs::directory_iterator(kDesignsDir))
+        if (e.path().extension() == ".loopsketch")
+            files.push_back(e.path().filename().string());
+    std::sort(files.begin(), files.end());
+    return files;
+}
+
+Analysis coreAnalysis(const Design &d)
+{
+    auto a = analyze(d);
+    EXPECT_TRUE(a.ok()) << a.errorText();
+    return a.ok() ? *a : Analysis{};
+}
+
+Analysis coreAnalysisOfFile(const fs::path &path)
+{
+    auto d = loadDesign(path.string());
+    EXPECT_TRUE(d.ok()) << d.errorText();
+    return d.ok() ? coreAnalysis(*d) : Analysis{};
+}
+
+double relErr(double value, double expected)
+{
+    return std::abs(value - expected) / std::abs(expected);
+}
+
+std::vector<std::string> splitCsvLine(const std::string &line)
+{
+    std::vector<std::string> cells;
+    std::string cell;
+    std::istringstream is(line);
+    while (std::getline(is, cell, ','))
+        cells.push_back(cell);
+    if (!line.empty() && line.back() == ',')
+        cells.emplace_back();
+    return cells;
+}
+
+std::string testName(const std::string &file)
+{
+    std::string name = file.substr(0, file.find('.'));
+    for (char &ch : name)
+        ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
+    return name;
+}
+
+// ----- malformed files --------------------------------------------------------------------
+
+struct MalformedCase
+{
+    std::string file;
+    std::string expected;
+};
+
+std::vector<MalformedCase> malformedCases()
+{
+    std::vector<MalformedCase> cases;
+    std::ifstream in(kMalformedDir / "expected.tsv");
+    std::string line;
+    while (std::getline(in, line)) {
+        if (line.empty() || line.front() == '#')
+            continue;
+        const auto tab = line.find('\t');
+        if (tab == std::string::npos)
+            continue;
+        cases.push_back({line.substr(0, tab), line.substr(tab + 1)});
+    }
+    return cases;
+}
+
+class CliMalformed : public ::testing::TestWithParam<MalformedCase>
+{
+};
+
+// Exit codes and messages: DESIGN.md §6 (0 ok, 2 bad input naming file, part and field).
+TEST_P(CliMalformed, ExitsTwoNamingFileAndField)
+{
+    const MalformedCase &c = GetParam();
+    const fs::path path = kMalformedDir / c.file;
+    ASSERT_TRUE(fs::exists(path)) << path;
+    for (const std::vector<std::string> &args :
+         {std::vector<std::string>{"analyze", path.string()},
+          std::vector<std::string>{"analyze", path.string(), "--json"}}) {
+        const CliRun r = runCli(args);
+        ASSERT_TRUE(r.exited) << "killed by a signal: " << c.file;
+        EXPECT_EQ(r.exitCode, 2) << r.err;
+        EXPECT_THAT(r.err, HasSubstr(c.file));
+        EXPECT_THAT(r.err, HasSubstr(c.expected));
+        EXPECT_THAT(r.err, Not(HasSubstr("internal error")));
+        EXPECT_TRUE(r.out.empty()) << r.out;
+    }
+    TempDir dir;
+    const fs::path csv = dir.path() / "out.csv";
+    const CliRun s = runCli({"sweep", path.string(), "--csv", csv.string()});
+    ASSERT_TRUE(s.exited);
+    EXPECT_EQ(s.exitCode, 2) << s.err;
+    EXPECT_THAT(s.err, HasSubstr(c.expected));
+    EXPECT_FALSE(fs::exists(csv));
+}
+
+INSTANTIATE_TEST_SUITE_P(Files, CliMalformed, ::testing::ValuesIn(malformedCases()),
+                         [](const auto &row) { return testName(row.param.file); });
+
+TEST(Cli, MalformedListCoversTheDirectory)
+{
+    const auto cases = malformedCases();
+    EXPECT_GE(cases.size(), 20u);
+    std::size_t files = 0;
+    for (const auto &e : fs::directory_iterator(kMalformedDir))
+        files += e.path().extension() == ".loopsketch";
+    EXPECT_EQ(files, cases.size());
+}
+
+// ----- example designs --------------------------------------------------------------------
+
+class CliExample : public ::testing::TestWithParam<std::string>
+{
+protected:
+    fs::path path() const { return kDesignsDir / GetParam(); }
+};
+
+TEST_P(CliExample, AnalyzePrintsTheExactSolution)
+{
+    const Analysis a = coreAnalysisOfFile(path());
+    ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
+    const CliRun r = runCli({"analyze", path().string()});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 0) << r.err;
+    EXPECT_TRUE(r.err.empty()) << r.err;
+    EXPECT_THAT(r.out, HasSubstr(a.title));
+    const auto section = r.out.find("Exact solution (DC)");
+    ASSERT_NE(section, std::string::npos) << r.out;
+    const std::string exact = r.out.substr(section, r.out.find("\n\n", section) - section);
+    EXPECT_THAT(exact, HasSubstr(formatEngineering(*a.exact.gain, 5, a.gainUnit)));
+    EXPECT_THAT(exact, HasSubstr(formatEngineering(*a.exact.zIn, 5, "Ω")));
+    EXPECT_THAT(exact, HasSubstr(formatEngineering(*a.exact.zOut, 5, "Ω")));
+    EXPECT_THAT(exact, Not(HasSubstr("nan")));
+    EXPECT_THAT(exact, Not(HasSubstr("inf")));
+}
+
+const Json &at(const Json &j, const std::string &key)
+{
+    static const Json missing;
+    if (!j.is_object() || !j.contains(key)) {
+        ADD_FAILURE() << "missing key \"" << key << "\" in " << j.dump().substr(0, 200);
+        return missing;
+    }
+    return j.at(key);
+}
+
+void expectKeys(const Json &j, const std::vector<std::string> &keys, const std::string &where)
+{
+    ASSERT_TRUE(j.is_object()) << where << " is not an object: " << j.dump().substr(0, 200);
+    for (const auto &k : keys)
+        EXPECT_TRUE(j.contains(k)) << where << " lacks \"" << k << "\"";
+}
+
+double jsonNumber(const Json &j)
+{
+    EXPECT_TRUE(j.is_number()) << j.dump();
+    return j.is_number() ? j.get<double>() : std::nan("");
+}
+
+// Keys of schema loopsketch.analysis/1: DESIGN.md §6.
+void expectAnalysisSchema(const Json &j)
+{
+    EXPECT_EQ(at(j, "schema"), "loopsketch.analysis/1");
+    expectKeys(j, {"topology", "dc", "margins", "closed_loop", "desensitivity_db", "sensitivity"},
+               "top level");
+    if (j.contains("topology")) {
+        const Json &t = j.at("topology");
+        if (t.is_null())
+            EXPECT_TRUE(j.contains("reason"));
+        else
+            expectKeys(t, {"mixing", "sampling", "name", "parameters", "gain_type"}, "topology");
+    }
+    const Json &dc = at(j, "dc");
+    expectKeys(dc, {"exact", "two_port", "return_ratio"}, "dc");
+    expectKeys(at(dc, "exact"), {"gain", "z_in", "z_out"}, "dc.exact");
+    const Json &tp = at(dc, "two_port");
+    if (!tp.is_null()) {
+        expectKeys(tp,
+                   {"a", "beta", "loop_gain", "closed_loop", "gain", "z_in", "z_out", "error_pct",
+                    "loading"},
+                   "dc.two_port");
+        expectKeys(at(tp, "loading"), {"input_db", "output_db"}, "dc.two_port.loading");
+    }
+    expectKeys(at(dc, "return_ratio"), {"loop_gain", "gain_inf", "feedthrough", "gain"},
+               "dc.return_ratio");
+    expectKeys(at(j, "margins"),
+               {"crossover_hz", "phase_margin_deg", "gain_margin_db", "phase_crossover_hz"},
+               "margins");
+    const Json &cl = at(j, "closed_loop");
+    expectKeys(cl, {"bandwidth_hz", "peaking_db", "poles", "step"}, "closed_loop");
+    EXPECT_TRUE(at(cl, "poles").is_array());
+    expectKeys(at(cl, "step"), {"rise_time_s", "overshoot_pct", "settling_time_s"},
+               "closed_loop.step");
+    EXPECT_TRUE(at(j, "sensitivity").is_object());
+}
+
+TEST_P(CliExample, AnalyzeJsonHasTheSchemaAndTheCoreValues)
+{
+    const Analysis a = coreAnalysisOfFile(path());
+    ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
+    const CliRun r = runCli({"analyze", path().string(), "--json"});
+    ASSERT_TRUE(r.exited);
+    ASSERT_EQ(r.exitCode, 0) << r.err;
+    Json j;
+    ASSERT_NO_THROW(j = Json::parse(r.out)) << r.out.substr(0, 400);
+    expectAnalysisSchema(j);
+    const Json &exact = at(at(j, "dc"), "exact");
+    EXPECT_LT(relErr(jsonNumber(at(exact, "gain")), *a.exact.gain), 1e-12);
+    EXPECT_LT(relErr(jsonNumber(at(exact, "z_in")), *a.exact.zIn), 1e-12);
+    EXPECT_LT(relErr(jsonNumber(at(exact, "z_out")), *a.exact.zOut), 1e-12);
+    // Every example has a canonical topology, so the estimate and its sections are filled.
+    EXPECT_TRUE(at(j, "topology").is_object());
+    EXPECT_TRUE(at(at(j, "dc"), "two_port").is_object());
+}
+
+TEST_P(CliExample, SweepCsvHasOneRowPerFrequencyAndTheExactGain)
+{
+    const Analysis a = coreAnalysisOfFile(path());
+    ASSERT_FALSE(a.frequenciesHz.empty());
+    ASSERT_EQ(a.curves.gainExact.size(), a.frequenciesHz.size());
+    TempDir dir;
+    const fs::path csv = dir.path() / "sweep.csv";
+    const CliRun r = runCli({"sweep", path().string(), "--csv", csv.string()});
+    ASSERT_TRUE(r.exited);
+    ASSERT_EQ(r.exitCode, 0) << r.err;
+    ASSERT_TRUE(fs::exists(csv));
+    std::istringstream lines(readText(csv));
+    std::string line;
+    ASSERT_TRUE(std::getline(lines, line));
+    const auto header = splitCsvLine(line);
+    ASSERT_FALSE(header.empty());
+    EXPECT_EQ(header.front(), "f_hz");
+    const auto col = std::find(header.begin(), header.end(), "gain_exact_db");
+    ASSERT_NE(col, header.end()) << line;
+    const auto gainCol = static_cast<std::size_t>(col - header.begin());
+    EXPECT_NE(std::find(header.begin(), header.end(), "gain_exact_deg"), header.end());
+    std::size_t row = 0;
+    double worstDb = 0;
+    while (std::getline(lines, line)) {
+        ASSERT_LT(row, a.frequenciesHz.size()) << "more rows than frequencies";
+        const auto cells = splitCsvLine(line);
+        ASSERT_EQ(cells.size(), header.size()) << line;
+        EXPECT_LT(relErr(std::stod(cells[0]), a.frequenciesHz[row]), 1e-9) << line;
+        const double db = std::stod(cells[gainCol]);
+        const double expected = 20 * std::log10(std::abs(a.curves.gainExact[row]));
+        worstDb = std::max(worstDb, std::abs(db - expected));
+        EXPECT_NEAR(db, expected, 1e-6) << "row " << row;
+        ++row;
+    }
+    EXPECT_EQ(row, a.frequenciesHz.size());
+    std::cout << "[ csv ] " << GetParam() << ": " << row << " rows, worst gain_exact_db error "
+              << worstDb << " dB\n";
+}
+
+INSTANTIATE_TEST_SUITE_P(Resources, CliExample, ::testing::ValuesIn(exampleDesigns()),
+                         [](const auto &row) { return testName(row.param); });
+
+// ----- candidates -------------------------------------------------------------------------
+
+Design withCandidate(Design d, const Candidate &c)
+{
+    for (const auto &[id, value] : c.values) {
+        Part *p = d.findPart(id);
+        EXPECT_NE(p, nullptr) << id;
+        if (p)
+            p->fields[std::string(p->primaryField())] = value;
+    }
+    return d;
+}
+
+TEST(Cli, CandidatesOfTheDemoChangeTheAnalysis)
+{
+    auto demo = loadDesign((kDesignsDir / "demo.loopsketch").string());
+    ASSERT_TRUE(demo.ok()) << demo.errorText();
+    ASSERT_GE(demo->candidates.size(), 2u);
+    const Analysis base = coreAnalysis(*demo);
+    ASSERT_TRUE(base.exact.gain);
+    for (const Candidate &c : demo->candidates) {
+        const Analysis expected = coreAnalysis(withCandidate(*demo, c));
+        ASSERT_TRUE(expected.exact.gain);
+        for (const std::string &file :
+             {std::string("demo"), (kDesignsDir / "demo.loopsketch").string()}) {
+            const CliRun r = runCli({"analyze", file, "--json", "--candidate", c.name});
+            ASSERT_TRUE(r.exited);
+            ASSERT_EQ(r.exitCode, 0) << c.name << ": " << r.err;
+            Json j;
+            ASSERT_NO_THROW(j = Json::parse(r.out));
+            const double gain = jsonNumber(at(at(at(j, "dc"), "exact"), "gain"));
+            EXPECT_LT(relErr(gain, *expected.exact.gain), 1e-12) << c.name;
+            if (c.values.count("RF")) {
+                EXPECT_GT(relErr(gain, *base.exact.gain), 1e-3) << c.name;
+            }
+        }
+        const CliRun text = runCli({"analyze", "demo", "--candidate", c.name});
+        ASSERT_TRUE(text.exited);
+        EXPECT_EQ(text.exitCode, 0) << text.err;
+        EXPECT_THAT(text.out, HasSubstr(formatEngineering(*expected.exact.gain, 5, "V/A")));
+    }
+}
+
+TEST(Cli, UnknownCandidateIsBadInput)
+{
+    const CliRun r = runCli({"analyze", "demo", "--candidate", "Turbo"});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 2);
+    EXPECT_THAT(r.err, HasSubstr("\"Turbo\""));
+    EXPECT_TRUE(r.out.empty());
+}
+
+// ----- options and errors -----------------------------------------------------------------
+
+TEST(Cli, HelpExitsZero)
+{
+    for (const char *flag : {"--help", "-h"}) {
+        const CliRun r = runCli({flag});
+        ASSERT_TRUE(r.exited);
+        EXPECT_EQ(r.exitCode, 0) << flag;
+        EXPECT_THAT(r.out, HasSubstr("analyze FILE"));
+        EXPECT_THAT(r.out, HasSubstr("sweep FILE --csv OUT"));
+    }
+}
+
+TEST(Cli, VersionPrintsTheProjectVersion)
+{
+    const CliRun r = runCli({"--version"});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 0);
+    EXPECT_THAT(r.out, HasSubstr(LOOPSKETCH_PROJECT_VERSION));
+}
+
+TEST(Cli, UnknownCommandAndOptionAreBadInput)
+{
+    const std::vector<std::vector<std::string>> cases = {
+        {"frobnicate", "demo"},
+        {"--frobnicate"},
+        {"analyze", "demo", "--frobnicate"},
+        {"analyze", "demo", "--csv", "x.csv"},
+        {"sweep", "demo", "--json"},
+        {"analyze"},
+        {"sweep", "demo"},
+        {"analyze", "demo", "--candidate"},
+        {"analyze", "demo", "other.loopsketch"},
+    };
+    for (const auto &args : cases) {
+        const CliRun r = runCli(args);
+        std::string joined;
+        for (const auto &a : args)
+            joined += a + " ";
+        ASSERT_TRUE(r.exited) << joined;
+        EXPECT_EQ(r.exitCode, 2) << joined << "\n" << r.err;
+        EXPECT_FALSE(r.err.empty()) << joined;
+    }
+}
+
+TEST(Cli, MissingFileIsBadInputNamingTheFile)
+{
+    TempDir dir;
+    const fs::path missing = dir.path() / "no-such-design.loopsketch";
+    for (const std::vector<std::string> &args :
+         {std::vector<std::string>{"analyze", missing.string()},
+          std::vector<std::string>{"sweep", missing.string(), "--csv",
+                                   (dir.path() / "x.csv").string()}}) {
+        const CliRun r = runCli(args);
+        ASSERT_TRUE(r.exited);
+        EXPECT_EQ(r.exitCode, 2) << r.err;
+        EXPECT_THAT(r.err, HasSubstr("no-such-design.loopsketch"));
+    }
+    EXPECT_FALSE(fs::exists(dir.path() / "x.csv"));
+}
+
+TEST(Cli, AnalyzeDemoWorks)
+{
+    const auto demo = loadDesign((kDesignsDir / "demo.loopsketch").string());
+    ASSERT_TRUE(demo.ok()) << demo.errorText();
+    const Analysis a = coreAnalysis(*demo);
+    ASSERT_TRUE(a.exact.gain);
+    const CliRun r = runCli({"analyze", "demo"});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 0) << r.err;
+    EXPECT_THAT(r.out, HasSubstr(demo->title));
+    EXPECT_THAT(r.out, HasSubstr(formatEngineering(*a.exact.gain, 5, a.gainUnit)));
+    const CliRun j = runCli({"analyze", "demo", "--json"});
+    ASSERT_TRUE(j.exited);
+    ASSERT_EQ(j.exitCode, 0) << j.err;
+    Json parsed;
+    ASSERT_NO_THROW(parsed = Json::parse(j.out));
+    expectAnalysisSchema(parsed);
+    EXPECT_LT(relErr(jsonNumber(at(at(at(parsed, "dc"), "exact"), "gain")), *a.exact.gain), 1e-12);
+}
+
+TEST(Cli, CsvIntoMissingDirectoryIsBadInputAndWritesNothing)
+{
+    TempDir dir;
+    const fs::path missingDir = dir.path() / "no-such-dir";
+    const fs::path csv = missingDir / "sweep.csv";
+    const CliRun r = runCli({"sweep", "demo", "--csv", csv.string()});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 2) << r.err;
+    EXPECT_THAT(r.err, HasSubstr("sweep.csv"));
+    EXPECT_FALSE(fs::exists(csv));
+    EXPECT_FALSE(fs::exists(missingDir));
+    EXPECT_EQ(std::distance(fs::directory_iterator(dir.path()), fs::directory_iterator{}), 0);
+}
+
+} // namespace
