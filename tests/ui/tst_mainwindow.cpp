@@ -1,0 +1,321 @@
+// The desktop application against core: what the window shows after an edit must be what
+// core's analyze() gives for the edited design.
+
+#include "designdocument.h"
+#include "inspector.h"
+#include "mainwindow.h"
+#include "panels.h"
+#include "partitem.h"
+#include "qtadapter.h"
+#include "readout.h"
+#include "sketchlayout.h"
+#include "sketchscene.h"
+#include "sketchview.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/eseries.h"
+
+#include <QApplication>
+#include <QDir>
+#include <QLineEdit>
+#include <QSignalSpy>
+#include <QStandardPaths>
+#include <QTemporaryDir>
+#include <QTest>
+#include <QWheelEvent>
+#include <QXYSeries>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <memory>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+using ::testing::HasSubstr;
+
+namespace {
+
+const std::string kDesigns = LOOPSKETCH_DESIGNS_DIR;
+
+class MainWindowTest : public ::testing::Test
+{
+protected:
+    void SetUp() override
+    {
+        window = std::make_unique<MainWindow>();
+        window->setAskBeforeDiscarding(false);
+        window->resize(1500, 940);
+        window->show();
+        QString error;
+        ASSERT_TRUE(window->openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
+            << error.toStdString();
+        QApplication::processEvents();
+        ASSERT_NE(doc()->analysis(), nullptr);
+    }
+
+    DesignDocument *doc() const { return window->document(); }
+
+    double valueOf(const std::string &id) const
+    {
+        return doc()->design().findPart(id)->number("value");
+    }
+
+    /// Sends a wheel notch (120 units per notch) to the Sketch's viewport over a part.
+    void wheelOver(const std::string &id, int notches, Qt::KeyboardModifiers modifiers = {})
+    {
+        PartItem *item = window->sketchScene()->partItem(id);
+        ASSERT_NE(item, nullptr);
+        SketchView *view = window->sketchView();
+        const QPoint pos = view->mapFromScene(item->mapToScene(QPointF(0, 0)));
+        QWheelEvent event(QPointF(pos), QPointF(view->viewport()->mapToGlobal(pos)), QPoint(),
+                          QPoint(0, 120 * notches), Qt::NoButton, modifiers, Qt::NoScrollPhase,
+                          false);
+        QApplication::sendEvent(view->viewport(), &event);
+    }
+
+    /// Waits for the coalesced recomputation that follows an edit.
+    void waitForRecompute()
+    {
+        QSignalSpy spy(doc(), &DesignDocument::analysisChanged);
+        ASSERT_TRUE(spy.wait(5000));
+    }
+
+    /// core's own result for the document's design with one value changed.
+    Analysis expectedWith(const std::string &id, double value) const
+    {
+        Design d = doc()->design();
+        d.findPart(id)->fields["value"].si = value;
+        auto a = analyze(d);
+        EXPECT_TRUE(a.ok()) << a.errorText();
+        return *a;
+    }
+
+    /// The window shows `expected`: Readout texts and every point of the |T| curve.
+    void expectShows(const Analysis &expected) const
+    {
+        const Readout *readout = window->readout();
+        EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
+                  engineering(expected.exact.gain, expected.gainUnit, 4));
+        EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(expected.bandwidthHz, "Hz"));
+        QXYSeries *t = window->loopGainPanel()->series(LoopGainPanel::kT);
+        ASSERT_NE(t, nullptr);
+        const QList<QPointF> want
+            = curvePoints(expected.frequenciesHz, expected.curves.loopGain, CurvePart::MagnitudeDb);
+        const QList<QPointF> got = t->points();
+        ASSERT_EQ(got.size(), want.size());
+        ASSERT_GT(got.size(), 100);
+        for (qsizetype i = 0; i < got.size(); ++i) {
+            ASSERT_NEAR(got[i].x(), want[i].x(), 1e-12) << "point " << i;
+            ASSERT_NEAR(got[i].y(), want[i].y(), 1e-9) << "point " << i;
+        }
+    }
+
+    std::unique_ptr<MainWindow> window;
+};
+
+TEST_F(MainWindowTest, OpensTheDemoLaidOutAsStored)
+{
+    EXPECT_EQ(doc()->design().title, "Dust-sensor photodiode front end, rev A");
+    // The stored sketch places RF at (0, -80) (resources/designs/demo.loopsketch).
+    PartItem *rf = window->sketchScene()->partItem("RF");
+    ASSERT_NE(rf, nullptr);
+    EXPECT_NEAR(rf->pos().x(), 0.0, 1e-9);
+    EXPECT_NEAR(rf->pos().y(), -80.0, 1e-9);
+    expectShows(*analyze(doc()->design()));
+    EXPECT_EQ(window->sketchView()->badgeText(), topologyBadge(*doc()->analysis()));
+    EXPECT_THAT(window->sketchView()->badgeText().toStdString(), HasSubstr("shunt-shunt"));
+    EXPECT_THAT(window->statusText().toStdString(), HasSubstr("recomputed in"));
+    EXPECT_THAT(window->windowTitle().toStdString(), HasSubstr("demo.loopsketch"));
+}
+
+TEST_F(MainWindowTest, WheelStepMovesFeedbackResistorToNextE24Value)
+{
+    ASSERT_NEAR(valueOf("RF"), 1e6, 1e-3);
+    wheelOver("RF", 1);
+    waitForRecompute();
+    // IEC 60063 E24: 1.0 is followed by 1.1.
+    EXPECT_NEAR(valueOf("RF"), 1.1e6, 1e-3);
+    EXPECT_EQ(doc()->design().findPart("RF")->fields.at("value").text, "1.1M");
+    expectShows(expectedWith("RF", 1.1e6));
+    EXPECT_TRUE(window->isWindowModified());
+}
+
+TEST_F(MainWindowTest, UndoRestoresValueReadoutAndCurve)
+{
+    const Analysis before = *doc()->analysis();
+    wheelOver("RF", 1);
+    waitForRecompute();
+    ASSERT_NEAR(valueOf("RF"), 1.1e6, 1e-3);
+    doc()->undoStack()->undo();
+    waitForRecompute();
+    EXPECT_NEAR(valueOf("RF"), 1e6, 1e-3);
+    expectShows(before);
+    EXPECT_FALSE(window->isWindowModified());
+}
+
+TEST_F(MainWindowTest, WheelBurstMergesIntoOneUndoStep)
+{
+    wheelOver("RF", 1);
+    wheelOver("RF", 1);
+    wheelOver("RF", 1);
+    waitForRecompute();
+    // IEC 60063 E24: 1.0, 1.1, 1.2, 1.3.
+    EXPECT_NEAR(valueOf("RF"), 1.3e6, 1e-3);
+    EXPECT_EQ(doc()->undoStack()->count(), 1);
+    doc()->undoStack()->undo();
+    EXPECT_NEAR(valueOf("RF"), 1e6, 1e-3);
+}
+
+TEST_F(MainWindowTest, ShiftWheelStepsADecadeAndDownwardsWorks)
+{
+    wheelOver("RF", 1, Qt::ShiftModifier);
+    waitForRecompute();
+    EXPECT_NEAR(valueOf("RF"), 10e6, 1e-2);
+    // CF is E12 in the demo: 2.2 p steps down to 1.8 p (IEC 60063 E12).
+    wheelOver("CF", -1);
+    waitForRecompute();
+    EXPECT_NEAR(valueOf("CF"), 1.8e-12, 1e-18);
+}
+
+TEST_F(MainWindowTest, ArrowKeysStepTheSelectedPart)
+{
+    window->sketchScene()->selectPart("RF");
+    QTest::keyClick(window->sketchView(), Qt::Key_Down);
+    waitForRecompute();
+    // IEC 60063 E24: below 1.0 comes 0.91 of the decade beneath.
+    EXPECT_NEAR(valueOf("RF"), 910e3, 1e-3);
+}
+
+TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
+{
+    window->sketchScene()->selectPart("RF");
+    Inspector *inspector = window->inspector();
+    ASSERT_EQ(inspector->partId(), "RF");
+    QLineEdit *edit = inspector->fieldEdit("value");
+    ASSERT_NE(edit, nullptr);
+    const Design before = doc()->design();
+    edit->selectAll();
+    QTest::keyClicks(edit, "12kk");
+    QTest::keyClick(edit, Qt::Key_Return);
+    QApplication::processEvents();
+    EXPECT_EQ(doc()->design(), before);
+    EXPECT_EQ(doc()->undoStack()->count(), 0);
+    EXPECT_THAT(inspector->fieldError("value").toStdString(), HasSubstr("12kk"));
+    EXPECT_THAT(inspector->fieldError("value").toStdString(), HasSubstr("RF"));
+
+    // Valid RKM text then goes through (IEC 60062: 2M2 = 2.2 MΩ) and clears the mark.
+    edit->selectAll();
+    QTest::keyClicks(edit, "2M2");
+    QTest::keyClick(edit, Qt::Key_Return);
+    waitForRecompute();
+    EXPECT_NEAR(valueOf("RF"), 2.2e6, 1e-3);
+    EXPECT_TRUE(inspector->fieldError("value").isEmpty());
+    expectShows(expectedWith("RF", 2.2e6));
+}
+
+TEST_F(MainWindowTest, SaveReloadGivesTheSameDesign)
+{
+    wheelOver("RF", 2);
+    waitForRecompute();
+    QTemporaryDir dir;
+    ASSERT_TRUE(dir.isValid());
+    const QString path = dir.filePath("stepped.loopsketch");
+    QString error;
+    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
+    EXPECT_FALSE(window->isWindowModified());
+    auto reloaded = loadDesign(path.toStdString());
+    ASSERT_TRUE(reloaded.ok()) << reloaded.errorText();
+    EXPECT_EQ(*reloaded, doc()->design());
+    EXPECT_NEAR(reloaded->findPart("RF")->number("value"), 1.2e6, 1e-3);
+
+    MainWindow second;
+    second.setAskBeforeDiscarding(false);
+    ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+    EXPECT_EQ(second.document()->design(), doc()->design());
+}
+
+TEST_F(MainWindowTest, DraggingAPartIsOneUndoableMoveOnTheGrid)
+{
+    PartItem *rl = window->sketchScene()->partItem("RL");
+    SketchView *view = window->sketchView();
+    const QPoint from = view->mapFromScene(rl->mapToScene(QPointF(0, 0)));
+    const QPoint to = view->mapFromScene(rl->mapToScene(QPointF(0, 0)) + QPointF(43, 18));
+    QTest::mousePress(view->viewport(), Qt::LeftButton, {}, from);
+    QTest::mouseMove(view->viewport(), (from + to) / 2);
+    QTest::mouseMove(view->viewport(), to);
+    QTest::mouseRelease(view->viewport(), Qt::LeftButton, {}, to);
+    ASSERT_TRUE(doc()->design().sketch.has_value());
+    const SketchPlacement moved = doc()->design().sketch->parts.at("RL");
+    EXPECT_NEAR(std::fmod(moved.x, kGrid), 0.0, 1e-9);
+    EXPECT_NEAR(std::fmod(moved.y, kGrid), 0.0, 1e-9);
+    EXPECT_GT(moved.x, 220.0);
+    EXPECT_EQ(doc()->undoStack()->count(), 1);
+    doc()->undoStack()->undo();
+    EXPECT_NEAR(doc()->design().sketch->parts.at("RL").x, 220.0, 1e-9);
+    EXPECT_NEAR(rl->pos().x(), 220.0, 1e-9);
+}
+
+TEST(MainWindowLayout, DesignWithoutSketchGetsAReadableLayout)
+{
+    MainWindow window;
+    QString error;
+    ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/contact-mic-preamp.loopsketch"),
+                                &error))
+        << error.toStdString();
+    const Design &d = window.document()->design();
+    ASSERT_FALSE(d.sketch.has_value());
+    std::vector<QRectF> bodies;
+    for (const Part &p : d.parts) {
+        PartItem *item = window.sketchScene()->partItem(p.id);
+        ASSERT_NE(item, nullptr) << p.id;
+        QTransform t;
+        t.rotate(item->symbolRotation());
+        bodies.push_back(t.mapRect(bodyRect(p.type)).translated(item->pos()));
+    }
+    for (std::size_t i = 0; i < bodies.size(); ++i) {
+        for (std::size_t j = i + 1; j < bodies.size(); ++j)
+            EXPECT_FALSE(bodies[i].intersects(bodies[j])) << d.parts[i].id << " " << d.parts[j].id;
+    }
+    // Gain block in the middle, source left of it, load right of it.
+    EXPECT_LT(window.sketchScene()->partItem("VS")->pos().x(),
+              window.sketchScene()->partItem("U1")->pos().x());
+    EXPECT_GT(window.sketchScene()->partItem("RL")->pos().x(),
+              window.sketchScene()->partItem("U1")->pos().x());
+}
+
+TEST_F(MainWindowTest, WritesAWindowScreenshot)
+{
+    wheelOver("CF", 1);
+    waitForRecompute();
+    QApplication::processEvents();
+    const QString path = QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-window.png";
+    QFile::remove(path);
+    const QPixmap shot = window->grab();
+    ASSERT_FALSE(shot.isNull());
+    ASSERT_TRUE(shot.save(path));
+    QImage image(path);
+    EXPECT_EQ(image.width(), shot.width());
+    EXPECT_GE(image.width(), 1200);
+    for (std::size_t i = 0; i < window->panels().size(); ++i) {
+        const QString panelPath = QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+            + QStringLiteral("/loopsketch-panel-%1.png").arg(i);
+        EXPECT_TRUE(window->panels()[i]->grab().save(panelPath));
+    }
+}
+
+} // namespace
+
+int main(int argc, char **argv)
+{
+    ::testing::InitGoogleTest(&argc, argv);
+    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
+        qputenv("QT_QPA_PLATFORM", "offscreen");
+    QStandardPaths::setTestModeEnabled(true);
+    QApplication app(argc, argv);
+    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
+    QApplication::setApplicationName(QStringLiteral("tst_mainwindow"));
+    return RUN_ALL_TESTS();
+}

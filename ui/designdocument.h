@@ -1,0 +1,98 @@
+#pragma once
+
+// The document/controller: owns the one Design (the single source of truth), the one
+// QUndoStack and the latest Analysis. Every edit goes through an undoable command; every
+// change schedules exactly one recomputation on a coalescing timer.
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/design.h"
+
+#include <QObject>
+#include <QString>
+#include <QTimer>
+#include <QUndoStack>
+
+#include <map>
+#include <optional>
+#include <utility>
+
+namespace loopsketch::ui {
+
+class DesignDocument : public QObject
+{
+    Q_OBJECT
+
+public:
+    explicit DesignDocument(QObject *parent = nullptr);
+
+    const Design &design() const { return m_design; }
+    /// The latest successful analysis; nullptr before the first one.
+    const Analysis *analysis() const { return m_analysis ? &*m_analysis : nullptr; }
+    QUndoStack *undoStack() { return &m_undoStack; }
+
+    /// Replaces the design (open, new): clears the undo history and recomputes at once.
+    void reset(Design design, const QString &filePath);
+    QString filePath() const { return m_filePath; }
+    bool isModified() const { return !m_undoStack.isClean(); }
+    /// Atomic save through core; on failure `error` says why and nothing changes.
+    bool save(const QString &path, QString *error);
+
+    /// The sketch positions in use: the stored layout, or the automatic one.
+    const SketchLayout &layout() const { return m_layout; }
+
+    // Edits, each one undoable command.
+    /// Steps the primary value of `partId` through its E-series (E24 when it has none);
+    /// `decade` steps by a whole decade. Consecutive steps of one part merge into one undo
+    /// step while they come in a burst. Returns false when the part has no primary value.
+    bool stepPart(const std::string &partId, int steps, bool decade);
+    /// Sets a numeric field from text; on a parse error `error` holds the message and the
+    /// design keeps its last valid value.
+    bool setFieldText(const std::string &partId, const std::string &field, const QString &text,
+                      QString *error);
+    void setSeries(const std::string &partId, std::optional<ESeries> series);
+    bool setToleranceText(const std::string &partId, const QString &text, QString *error);
+    /// Moves parts to new sketch positions (scene units), one undo step for all of them.
+    void moveParts(const std::map<std::string, std::pair<double, double>> &positions);
+    /// Turns a part's symbol by 90 degrees clockwise.
+    void rotatePart(const std::string &partId);
+
+    /// Runs the pending recomputation now (tests, benchmarks).
+    void recomputeNow();
+    /// Milliseconds of the last core analyze() call.
+    double lastAnalysisMs() const { return m_lastAnalysisMs; }
+    QString lastDiagnostics() const { return m_diagnostics; }
+
+    // Used by the commands only.
+    void applyField(const std::string &partId, const std::string &field, const Value &value);
+    void applySeries(const std::string &partId, std::optional<ESeries> series);
+    void applyTolerance(const std::string &partId, std::optional<Value> tolerance);
+    void applySketch(const std::optional<SketchLayout> &sketch);
+
+signals:
+    /// The design was replaced (open, new): views rebuild.
+    void designReset();
+    /// One part's fields changed (values, series, tolerance).
+    void partChanged(const QString &partId);
+    /// Sketch positions changed.
+    void layoutChanged();
+    void analysisChanged(const loopsketch::Analysis &analysis);
+    /// Analysis failed or succeeded; empty text when there is nothing to report.
+    void diagnosticsChanged(const QString &text);
+    void filePathChanged(const QString &path);
+
+private:
+    void scheduleRecompute();
+    void recompute();
+    void rebuildLayout();
+
+    Design m_design;
+    std::optional<Analysis> m_analysis;
+    SketchLayout m_layout;
+    QUndoStack m_undoStack;
+    QTimer m_recomputeTimer;
+    QString m_filePath;
+    QString m_diagnostics;
+    double m_lastAnalysisMs = 0.0;
+};
+
+} // namespace loopsketch::ui

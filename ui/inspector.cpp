@@ -1,0 +1,243 @@
+#include "inspector.h"
+
+#include "designdocument.h"
+#include "qtadapter.h"
+
+#include "loopsketch/eseries.h"
+#include "loopsketch/value.h"
+
+#include <QComboBox>
+#include <QFormLayout>
+#include <QLabel>
+#include <QLineEdit>
+#include <QVBoxLayout>
+
+#include <cmath>
+
+namespace loopsketch::ui {
+
+namespace {
+
+QString fieldText(const Part &part, const FieldSpec &spec)
+{
+    const auto it = part.fields.find(std::string(spec.name));
+    if (it == part.fields.end())
+        return {};
+    if (!it->second.text.empty())
+        return toQString(it->second.text);
+    return toQString(formatEngineering(it->second.si, 4));
+}
+
+QString defaultHint(const FieldSpec &spec)
+{
+    if (std::isinf(spec.defaultValue))
+        return QObject::tr("∞ (ideal)");
+    if (spec.defaultValue == 0.0)
+        return QObject::tr("0 (not given)");
+    return toQString(formatValue(spec.defaultValue, spec.kind));
+}
+
+QString typeLabel(PartType type)
+{
+    switch (type) {
+    case PartType::Resistor:
+        return QObject::tr("resistor");
+    case PartType::Capacitor:
+        return QObject::tr("capacitor");
+    case PartType::Inductor:
+        return QObject::tr("inductor");
+    case PartType::VSource:
+        return QObject::tr("signal source (voltage)");
+    case PartType::ISource:
+        return QObject::tr("signal source (current)");
+    case PartType::GainBlock:
+        return QObject::tr("gain block");
+    case PartType::Load:
+        return QObject::tr("load");
+    }
+    return {};
+}
+
+const char *kErrorStyle
+    = "QLineEdit, QComboBox { border: 1.5px solid #b3261e; background: #fdeceb; }";
+
+} // namespace
+
+Inspector::Inspector(DesignDocument *document, QWidget *parent)
+    : QWidget(parent), m_document(document)
+{
+    auto *layout = new QVBoxLayout(this);
+    layout->setContentsMargins(8, 6, 8, 6);
+    m_header = new QLabel(this);
+    m_header->setWordWrap(true);
+    layout->addWidget(m_header);
+    layout->addStretch(1);
+    showPart({});
+}
+
+void Inspector::showPart(const std::string &partId)
+{
+    m_partId = partId;
+    m_edits.clear();
+    m_errors.clear();
+    m_series = nullptr;
+    m_tolerance = nullptr;
+    m_toleranceError = nullptr;
+    if (m_form) {
+        m_form->hide();
+        m_form->deleteLater();
+        m_form = nullptr;
+    }
+    const Part *part = m_document->design().findPart(partId);
+    if (!part) {
+        m_header->setText(tr("<span style='color:#5a6270'>Select a part on the Sketch to edit "
+                             "it. Wheel over a part steps its value through its E-series; "
+                             "Shift+wheel steps a decade; Ctrl+wheel zooms.</span>"));
+        return;
+    }
+    QStringList nodes;
+    const auto &terminals = partSpec(part->type).terminals;
+    for (std::size_t i = 0; i < terminals.size() && i < part->nodes.size(); ++i)
+        nodes << toQString(terminals[i]) + QStringLiteral(" → ") + toQString(part->nodes[i]);
+    m_header->setText(
+        QStringLiteral("<b style='font-size:11pt'>%1</b> &nbsp;%2<br>"
+                       "<span style='color:#5a6270'>%3</span>")
+            .arg(toQString(part->id), typeLabel(part->type), nodes.join(QStringLiteral(", "))));
+
+    m_form = new QWidget(this);
+    auto *form = new QFormLayout(m_form);
+    form->setContentsMargins(0, 4, 0, 0);
+    form->setFieldGrowthPolicy(QFormLayout::AllNonFixedFieldsGrow);
+    for (const FieldSpec &spec : partSpec(part->type).fields) {
+        const std::string field(spec.name);
+        auto *edit = new QLineEdit(m_form);
+        edit->setText(fieldText(*part, spec));
+        if (!spec.required)
+            edit->setPlaceholderText(defaultHint(spec));
+        edit->setToolTip(tr("%1, in %2")
+                             .arg(toQString(field),
+                                  toQString(unitSymbol(spec.kind)).isEmpty()
+                                      ? tr("plain numbers")
+                                      : toQString(unitSymbol(spec.kind))));
+        auto *error = new QLabel(m_form);
+        error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
+        error->setWordWrap(true);
+        error->hide();
+        auto *box = new QVBoxLayout;
+        box->setSpacing(1);
+        box->addWidget(edit);
+        box->addWidget(error);
+        form->addRow(toQString(field), box);
+        m_edits[field] = edit;
+        m_errors[field] = error;
+        connect(edit, &QLineEdit::editingFinished, this, [this, field] { commitField(field); });
+    }
+    if (!part->primaryField().empty()) {
+        m_series = new QComboBox(m_form);
+        m_series->addItem(tr("none (E24 for stepping)"));
+        for (ESeries s : allESeries())
+            m_series->addItem(toQString(toString(s)));
+        m_series->setCurrentIndex(part->series ? int(*part->series) + 1 : 0);
+        form->addRow(tr("series"), m_series);
+        connect(m_series, &QComboBox::activated, this, [this](int index) {
+            std::optional<ESeries> s;
+            if (index > 0)
+                s = allESeries()[std::size_t(index - 1)];
+            m_document->setSeries(m_partId, s);
+        });
+
+        m_tolerance = new QComboBox(m_form);
+        m_tolerance->setEditable(true);
+        m_tolerance->addItems({QString(), QStringLiteral("0.1%"), QStringLiteral("0.5%"),
+                               QStringLiteral("1%"), QStringLiteral("2%"), QStringLiteral("5%"),
+                               QStringLiteral("10%"), QStringLiteral("20%")});
+        m_tolerance->setCurrentText(part->tolerance ? toQString(part->tolerance->text) : QString());
+        m_toleranceError = new QLabel(m_form);
+        m_toleranceError->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
+        m_toleranceError->setWordWrap(true);
+        m_toleranceError->hide();
+        auto *box = new QVBoxLayout;
+        box->setSpacing(1);
+        box->addWidget(m_tolerance);
+        box->addWidget(m_toleranceError);
+        form->addRow(tr("tolerance"), box);
+        connect(m_tolerance, &QComboBox::activated, this, [this](int) { commitTolerance(); });
+        connect(m_tolerance->lineEdit(), &QLineEdit::editingFinished, this,
+                [this] { commitTolerance(); });
+    }
+    if (part->type == PartType::GainBlock) {
+        QStringList poles, zeros;
+        for (const Value &v : part->polesHz)
+            poles << toQString(formatEngineering(v.si, 3, "Hz"));
+        for (const Value &v : part->zerosHz)
+            zeros << toQString(formatEngineering(v.si, 3, "Hz"));
+        form->addRow(tr("poles"),
+                     new QLabel(poles.isEmpty() ? tr("none") : poles.join(", "), m_form));
+        form->addRow(tr("zeros"),
+                     new QLabel(zeros.isEmpty() ? tr("none") : zeros.join(", "), m_form));
+    }
+    static_cast<QVBoxLayout *>(layout())->insertWidget(1, m_form);
+}
+
+void Inspector::refresh()
+{
+    const Part *part = m_document->design().findPart(m_partId);
+    if (!part) {
+        showPart({});
+        return;
+    }
+    for (const FieldSpec &spec : partSpec(part->type).fields) {
+        const std::string field(spec.name);
+        QLineEdit *edit = fieldEdit(field);
+        if (!edit || m_errors[field]->isVisible())
+            continue;
+        const QString text = fieldText(*part, spec);
+        if (edit->text() != text)
+            edit->setText(text);
+    }
+    if (m_series)
+        m_series->setCurrentIndex(part->series ? int(*part->series) + 1 : 0);
+    if (m_tolerance && !m_toleranceError->isVisible())
+        m_tolerance->setCurrentText(part->tolerance ? toQString(part->tolerance->text) : QString());
+}
+
+QLineEdit *Inspector::fieldEdit(const std::string &field) const
+{
+    const auto it = m_edits.find(field);
+    return it == m_edits.end() ? nullptr : it->second;
+}
+
+QString Inspector::fieldError(const std::string &field) const
+{
+    const auto it = m_errors.find(field);
+    return it == m_errors.end() || it->second->isHidden() ? QString() : it->second->text();
+}
+
+void Inspector::markError(QWidget *widget, QLabel *label, const QString &message)
+{
+    widget->setStyleSheet(message.isEmpty() ? QString() : QString::fromLatin1(kErrorStyle));
+    widget->setToolTip(message);
+    label->setText(message);
+    label->setVisible(!message.isEmpty());
+}
+
+void Inspector::commitField(const std::string &field)
+{
+    QLineEdit *edit = fieldEdit(field);
+    if (!edit)
+        return;
+    QString error;
+    const bool ok = m_document->setFieldText(m_partId, field, edit->text(), &error);
+    markError(edit, m_errors[field], ok ? QString() : error);
+}
+
+void Inspector::commitTolerance()
+{
+    if (!m_tolerance)
+        return;
+    QString error;
+    const bool ok = m_document->setToleranceText(m_partId, m_tolerance->currentText(), &error);
+    markError(m_tolerance, m_toleranceError, ok ? QString() : error);
+}
+
+} // namespace loopsketch::ui

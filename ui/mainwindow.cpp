@@ -1,0 +1,452 @@
+#include "mainwindow.h"
+
+#include "designdocument.h"
+#include "inspector.h"
+#include "panels.h"
+#include "partitem.h"
+#include "partspalette.h"
+#include "qtadapter.h"
+#include "readout.h"
+#include "sketchscene.h"
+#include "sketchview.h"
+
+#include "loopsketch/designfile.h"
+
+#include <QAction>
+#include <QApplication>
+#include <QCloseEvent>
+#include <QDir>
+#include <QDockWidget>
+#include <QElapsedTimer>
+#include <QFile>
+#include <QFileDialog>
+#include <QFileInfo>
+#include <QLabel>
+#include <QMenuBar>
+#include <QMessageBox>
+#include <QMimeData>
+#include <QSettings>
+#include <QStandardPaths>
+#include <QStatusBar>
+#include <QTimer>
+
+namespace loopsketch::ui {
+
+namespace {
+
+constexpr int kMaxRecent = 8;
+const char *kStateKey = "window/state";
+const char *kGeometryKey = "window/geometry";
+const char *kRecentKey = "recentFiles";
+
+QString recoveryPath()
+{
+    const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
+    return dir.isEmpty() ? QString() : dir + QStringLiteral("/recovery.loopsketch");
+}
+
+} // namespace
+
+MainWindow::MainWindow(QWidget *parent)
+    : QMainWindow(parent), m_document(new DesignDocument(this)), m_scene(new SketchScene(this)),
+      m_view(new SketchView(m_scene, this)), m_readout(new Readout(this)),
+      m_inspector(new Inspector(m_document, this)), m_palette(new PartsPalette(this)),
+      m_timing(new QLabel(this)), m_diagnostics(new QLabel(this))
+{
+    setObjectName(QStringLiteral("MainWindow"));
+    setCentralWidget(m_view);
+    setAcceptDrops(true);
+    setDockOptions(AnimatedDocks | AllowNestedDocks | AllowTabbedDocks);
+    createDocks();
+    createActions();
+    statusBar()->addWidget(m_timing);
+    statusBar()->addWidget(m_diagnostics, 1);
+    m_diagnostics->setStyleSheet(QStringLiteral("color: #b3261e;"));
+    m_diagnostics->setWordWrap(false);
+
+    connect(m_document, &DesignDocument::designReset, this, &MainWindow::rebuildSketch);
+    connect(m_document, &DesignDocument::analysisChanged, this, &MainWindow::showAnalysis);
+    connect(m_document, &DesignDocument::diagnosticsChanged, this, [this](const QString &text) {
+        m_diagnostics->setText(text.section(QLatin1Char('\n'), 0, 0));
+        m_diagnostics->setToolTip(text);
+    });
+    connect(m_document, &DesignDocument::partChanged, this, [this](const QString &id) {
+        m_scene->updatePart(toStdString(id));
+        m_palette->showDesign(m_document->design());
+        if (toQString(m_inspector->partId()) == id)
+            m_inspector->refresh();
+    });
+    connect(m_document, &DesignDocument::layoutChanged, this,
+            [this] { m_scene->applyLayout(m_document->layout()); });
+    connect(m_document, &DesignDocument::filePathChanged, this, &MainWindow::updateTitle);
+    connect(m_document->undoStack(), &QUndoStack::cleanChanged, this, &MainWindow::updateTitle);
+    connect(m_scene, &QGraphicsScene::selectionChanged, this, &MainWindow::selectionChanged);
+    connect(m_scene, &SketchScene::partsMoved, this,
+            [this](const QHash<QString, QPointF> &positions) {
+                std::map<std::string, std::pair<double, double>> moves;
+                for (auto it = positions.begin(); it != positions.end(); ++it)
+                    moves[toStdString(it.key())] = {it.value().x(), it.value().y()};
+                m_document->moveParts(moves);
+            });
+    connect(m_view, &SketchView::stepRequested, m_document, &DesignDocument::stepPart);
+    connect(m_view, &SketchView::rotateRequested, m_document, &DesignDocument::rotatePart);
+    connect(m_palette, &PartsPalette::partActivated, this,
+            [this](const std::string &id) { m_scene->selectPart(id); });
+
+    auto *recovery = new QTimer(this);
+    recovery->setInterval(30000);
+    connect(recovery, &QTimer::timeout, this, &MainWindow::writeRecovery);
+    recovery->start();
+
+    resize(1500, 940);
+    m_defaultState = saveState();
+    QSettings settings;
+    restoreGeometry(settings.value(kGeometryKey).toByteArray());
+    restoreState(settings.value(kStateKey).toByteArray());
+    updateTitle();
+}
+
+MainWindow::~MainWindow() = default;
+
+void MainWindow::createDocks()
+{
+    setCorner(Qt::TopLeftCorner, Qt::TopDockWidgetArea);
+    setCorner(Qt::TopRightCorner, Qt::TopDockWidgetArea);
+    setCorner(Qt::BottomLeftCorner, Qt::LeftDockWidgetArea);
+    setCorner(Qt::BottomRightCorner, Qt::RightDockWidgetArea);
+
+    auto makeDock = [this](const QString &title, const QString &name, QWidget *widget,
+                           Qt::DockWidgetArea area) {
+        auto *dock = new QDockWidget(title, this);
+        dock->setObjectName(name);
+        dock->setWidget(widget);
+        addDockWidget(area, dock);
+        m_docks.push_back(dock);
+        return dock;
+    };
+    auto *readoutDock
+        = makeDock(tr("Readout"), QStringLiteral("ReadoutDock"), m_readout, Qt::TopDockWidgetArea);
+    readoutDock->setFeatures(QDockWidget::NoDockWidgetFeatures);
+    readoutDock->setTitleBarWidget(new QWidget(readoutDock));
+    auto *partsDock
+        = makeDock(tr("Parts"), QStringLiteral("PartsDock"), m_palette, Qt::LeftDockWidgetArea);
+    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"), m_inspector,
+                                   Qt::LeftDockWidgetArea);
+    splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
+
+    m_loopGain = new LoopGainPanel(this);
+    auto *impedance = new ImpedancePanel(this);
+    auto *desens = new DesensitivityPanel(this);
+    auto *step = new StepPanel(this);
+    auto *poles = new PolesPanel(this);
+    m_panels = {m_loopGain, impedance, desens, step, poles};
+    auto *loopDock = makeDock(tr("Loop gain"), QStringLiteral("LoopGainDock"), m_loopGain,
+                              Qt::RightDockWidgetArea);
+    auto *impDock = makeDock(tr("Impedance"), QStringLiteral("ImpedanceDock"), impedance,
+                             Qt::RightDockWidgetArea);
+    splitDockWidget(loopDock, impDock, Qt::Vertical);
+    auto *desDock = makeDock(tr("Desensitivity"), QStringLiteral("DesensitivityDock"), desens,
+                             Qt::BottomDockWidgetArea);
+    auto *stepDock
+        = makeDock(tr("Step"), QStringLiteral("StepDock"), step, Qt::BottomDockWidgetArea);
+    auto *polesDock
+        = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
+    splitDockWidget(desDock, stepDock, Qt::Horizontal);
+    splitDockWidget(stepDock, polesDock, Qt::Horizontal);
+    resizeDocks({partsDock, inspectorDock}, {260, 420}, Qt::Vertical);
+    resizeDocks({partsDock}, {270}, Qt::Horizontal);
+    resizeDocks({loopDock}, {620}, Qt::Horizontal);
+    resizeDocks({loopDock, impDock}, {460, 330}, Qt::Vertical);
+    resizeDocks({desDock}, {270}, Qt::Vertical);
+}
+
+void MainWindow::createActions()
+{
+    QMenu *file = menuBar()->addMenu(tr("&File"));
+    QMenu *newMenu = file->addMenu(tr("&New from example"));
+    const QStringList examples = QDir(QStringLiteral(":/designs")).entryList({"*.loopsketch"});
+    for (const QString &name : examples) {
+        QString label = name;
+        label.chop(int(QStringLiteral(".loopsketch").size()));
+        newMenu->addAction(label, this,
+                           [this, name] { newFromExample(QStringLiteral(":/designs/") + name); });
+    }
+    QAction *open = file->addAction(tr("&Open…"), this, &MainWindow::openDialog);
+    open->setShortcut(QKeySequence::Open);
+    m_recentMenu = file->addMenu(tr("Open &recent"));
+    updateRecentMenu();
+    file->addSeparator();
+    QAction *saveAction = file->addAction(tr("&Save"), this, [this] { save(); });
+    saveAction->setShortcut(QKeySequence::Save);
+    QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
+    saveAsAction->setShortcut(QKeySequence::SaveAs);
+    file->addSeparator();
+    QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
+    quit->setShortcut(QKeySequence::Quit);
+
+    QMenu *edit = menuBar()->addMenu(tr("&Edit"));
+    QAction *undo = m_document->undoStack()->createUndoAction(this, tr("&Undo"));
+    undo->setShortcut(QKeySequence::Undo);
+    QAction *redo = m_document->undoStack()->createRedoAction(this, tr("&Redo"));
+    redo->setShortcut(QKeySequence::Redo);
+    edit->addAction(undo);
+    edit->addAction(redo);
+
+    m_viewMenu = menuBar()->addMenu(tr("&View"));
+    m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
+    m_viewMenu->addAction(tr("Restore panel arrangement"), this,
+                          [this] { restoreState(m_defaultState); });
+    m_viewMenu->addSeparator();
+    for (QDockWidget *dock : m_docks) {
+        if (dock->features() != QDockWidget::NoDockWidgetFeatures)
+            m_viewMenu->addAction(dock->toggleViewAction());
+    }
+
+    QMenu *help = menuBar()->addMenu(tr("&Help"));
+    help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
+}
+
+bool MainWindow::openText(const std::string &text, const QString &name, QString *error)
+{
+    auto design = parseDesign(text, toStdString(name));
+    if (!design) {
+        if (error)
+            *error = toQString(design.errorText());
+        return false;
+    }
+    m_displayName = name;
+    m_document->reset(std::move(design).value(), QString());
+    return true;
+}
+
+bool MainWindow::openFile(const QString &path, QString *error)
+{
+    auto design = loadDesign(toStdString(path));
+    if (!design) {
+        if (error)
+            *error = toQString(design.errorText());
+        return false;
+    }
+    m_displayName = QFileInfo(path).fileName();
+    m_document->reset(std::move(design).value(), path);
+    addRecentFile(path);
+    return true;
+}
+
+bool MainWindow::saveTo(const QString &path, QString *error)
+{
+    if (!m_document->save(path, error))
+        return false;
+    m_displayName = QFileInfo(path).fileName();
+    addRecentFile(path);
+    updateTitle();
+    return true;
+}
+
+QString MainWindow::statusText() const
+{
+    return m_timing->text() + QStringLiteral(" ") + m_diagnostics->text();
+}
+
+void MainWindow::updateTitle()
+{
+    const QString name = m_displayName.isEmpty() ? tr("untitled") : m_displayName;
+    setWindowTitle(tr("%1[*] — Loopsketch").arg(name));
+    setWindowModified(m_document->isModified());
+}
+
+void MainWindow::rebuildSketch()
+{
+    m_scene->rebuild(&m_document->design(), m_document->layout());
+    m_palette->showDesign(m_document->design());
+    m_inspector->showPart({});
+    m_view->fitDesign();
+    updateTitle();
+}
+
+void MainWindow::showAnalysis(const Analysis &analysis)
+{
+    QElapsedTimer timer;
+    timer.start();
+    m_readout->showAnalysis(analysis, m_document->design());
+    for (PlotPanel *panel : m_panels)
+        panel->showAnalysis(analysis);
+    m_view->setBadge(topologyBadge(analysis), analysis.topology.has_value());
+    const double panelsMs = double(timer.nsecsElapsed()) / 1e6;
+    m_timing->setText(tr("recomputed in %1 ms (analysis %2 ms, panels %3 ms)")
+                          .arg(m_document->lastAnalysisMs() + panelsMs, 0, 'f', 1)
+                          .arg(m_document->lastAnalysisMs(), 0, 'f', 1)
+                          .arg(panelsMs, 0, 'f', 1));
+}
+
+void MainWindow::selectionChanged()
+{
+    const std::string id = m_scene->selectedPartId();
+    if (id != m_inspector->partId())
+        m_inspector->showPart(id);
+    m_palette->selectPart(id);
+}
+
+void MainWindow::addRecentFile(const QString &path)
+{
+    QSettings settings;
+    QStringList files = settings.value(kRecentKey).toStringList();
+    const QString absolute = QFileInfo(path).absoluteFilePath();
+    files.removeAll(absolute);
+    files.prepend(absolute);
+    while (files.size() > kMaxRecent)
+        files.removeLast();
+    settings.setValue(kRecentKey, files);
+    updateRecentMenu();
+}
+
+void MainWindow::updateRecentMenu()
+{
+    if (!m_recentMenu)
+        return;
+    m_recentMenu->clear();
+    const QStringList files = QSettings().value(kRecentKey).toStringList();
+    for (const QString &f : files) {
+        m_recentMenu
+            ->addAction(QFileInfo(f).fileName(), this,
+                        [this, f] {
+                            if (!maybeSave())
+                                return;
+                            QString error;
+                            if (!openFile(f, &error))
+                                QMessageBox::warning(this, tr("Open design"), error);
+                        })
+            ->setToolTip(f);
+    }
+    m_recentMenu->setEnabled(!files.isEmpty());
+}
+
+void MainWindow::newFromExample(const QString &resource)
+{
+    if (!maybeSave())
+        return;
+    QFile file(resource);
+    if (!file.open(QIODevice::ReadOnly))
+        return;
+    const QByteArray text = file.readAll();
+    QString error;
+    if (!openText(text.toStdString(), tr("untitled"), &error))
+        QMessageBox::warning(this, tr("New design"), error);
+    m_displayName.clear();
+    updateTitle();
+}
+
+void MainWindow::openDialog()
+{
+    if (!maybeSave())
+        return;
+    const QString path = QFileDialog::getOpenFileName(this, tr("Open design"), QString(),
+                                                      tr("Loopsketch designs (*.loopsketch)"));
+    if (path.isEmpty())
+        return;
+    QString error;
+    if (!openFile(path, &error))
+        QMessageBox::warning(this, tr("Open design"), error);
+}
+
+bool MainWindow::save()
+{
+    if (m_document->filePath().isEmpty())
+        return saveAs();
+    QString error;
+    if (!saveTo(m_document->filePath(), &error)) {
+        QMessageBox::warning(this, tr("Save design"), error);
+        return false;
+    }
+    return true;
+}
+
+bool MainWindow::saveAs()
+{
+    QString path = QFileDialog::getSaveFileName(this, tr("Save design"), m_document->filePath(),
+                                                tr("Loopsketch designs (*.loopsketch)"));
+    if (path.isEmpty())
+        return false;
+    if (!path.endsWith(QStringLiteral(".loopsketch")))
+        path += QStringLiteral(".loopsketch");
+    QString error;
+    if (!saveTo(path, &error)) {
+        QMessageBox::warning(this, tr("Save design"), error);
+        return false;
+    }
+    return true;
+}
+
+bool MainWindow::maybeSave()
+{
+    if (!m_document->isModified() || !m_ask)
+        return true;
+    const auto answer = QMessageBox::question(
+        this, tr("Unsaved changes"),
+        tr("%1 has changes that are not saved. Save them first?")
+            .arg(m_displayName.isEmpty() ? tr("This design") : m_displayName),
+        QMessageBox::Save | QMessageBox::Discard | QMessageBox::Cancel, QMessageBox::Save);
+    if (answer == QMessageBox::Save)
+        return save();
+    return answer == QMessageBox::Discard;
+}
+
+void MainWindow::closeEvent(QCloseEvent *event)
+{
+    if (!maybeSave()) {
+        event->ignore();
+        return;
+    }
+    QSettings settings;
+    settings.setValue(kGeometryKey, saveGeometry());
+    settings.setValue(kStateKey, saveState());
+    const QString recovery = recoveryPath();
+    if (!recovery.isEmpty())
+        QFile::remove(recovery);
+    event->accept();
+}
+
+void MainWindow::dragEnterEvent(QDragEnterEvent *event)
+{
+    if (event->mimeData()->hasUrls())
+        event->acceptProposedAction();
+}
+
+void MainWindow::dropEvent(QDropEvent *event)
+{
+    const auto urls = event->mimeData()->urls();
+    if (urls.isEmpty() || !urls.front().isLocalFile() || !maybeSave())
+        return;
+    QString error;
+    if (!openFile(urls.front().toLocalFile(), &error))
+        QMessageBox::warning(this, tr("Open design"), error);
+}
+
+void MainWindow::writeRecovery()
+{
+    const QString path = recoveryPath();
+    if (path.isEmpty() || !m_document->isModified())
+        return;
+    QDir().mkpath(QFileInfo(path).absolutePath());
+    writeFileAtomically(toStdString(path), serializeDesign(m_document->design()));
+}
+
+void MainWindow::about()
+{
+    QMessageBox::about(
+        this, tr("About Loopsketch"),
+        tr("<h3>Loopsketch %1</h3>"
+           "<p>Negative-feedback loop design around amplifiers: two-port estimate, exact "
+           "solution and return ratio of one linear circuit, side by side.</p>"
+           "<p><b>What the model does not cover.</b> Loopsketch computes a small-signal "
+           "linear model. It does not model supply limits, slew rate, output saturation, "
+           "common-mode limits, thermal effects, breakdown, or any large-signal behaviour, "
+           "and its gain block is a generic linear amplifier, not a model of any real "
+           "device. Check a design on the bench. Designs connected to mains, high voltage, "
+           "medical equipment or safety functions must follow the applicable standards, "
+           "local codes and licensed engineering practice; Loopsketch is not a substitute "
+           "for them.</p>")
+            .arg(QStringLiteral(LOOPSKETCH_VERSION)));
+}
+
+} // namespace loopsketch::ui

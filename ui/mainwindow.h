@@ -1,0 +1,96 @@
+#pragma once
+
+// The main window: Parts and Inspector docks, the Sketch in the middle, the Readout strip
+// on top and the linked plot panels as docks whose arrangement persists.
+
+#include <QMainWindow>
+
+#include <string>
+#include <vector>
+
+class QDockWidget;
+class QLabel;
+class QMenu;
+
+namespace loopsketch {
+struct Analysis;
+}
+
+namespace loopsketch::ui {
+
+class DesignDocument;
+class Inspector;
+class PartsPalette;
+class PlotPanel;
+class Readout;
+class SketchScene;
+class SketchView;
+class LoopGainPanel;
+
+class MainWindow : public QMainWindow
+{
+    Q_OBJECT
+
+public:
+    explicit MainWindow(QWidget *parent = nullptr);
+    ~MainWindow() override;
+
+    /// Opens the design text (the embedded demo) under a display name, without a file.
+    bool openText(const std::string &text, const QString &name, QString *error = nullptr);
+    /// Opens a design file; on failure `error` says why and the current design stays.
+    bool openFile(const QString &path, QString *error = nullptr);
+    bool saveTo(const QString &path, QString *error = nullptr);
+
+    DesignDocument *document() const { return m_document; }
+    SketchScene *sketchScene() const { return m_scene; }
+    SketchView *sketchView() const { return m_view; }
+    Readout *readout() const { return m_readout; }
+    Inspector *inspector() const { return m_inspector; }
+    LoopGainPanel *loopGainPanel() const { return m_loopGain; }
+    const std::vector<PlotPanel *> &panels() const { return m_panels; }
+    QString statusText() const;
+    /// Asks before discarding unsaved changes (false: the user cancelled). Tests turn the
+    /// question off.
+    bool maybeSave();
+    void setAskBeforeDiscarding(bool ask) { m_ask = ask; }
+
+protected:
+    void closeEvent(QCloseEvent *event) override;
+    void dragEnterEvent(QDragEnterEvent *event) override;
+    void dropEvent(QDropEvent *event) override;
+
+private:
+    void createDocks();
+    void createActions();
+    void updateTitle();
+    void rebuildSketch();
+    void showAnalysis(const Analysis &analysis);
+    void selectionChanged();
+    void addRecentFile(const QString &path);
+    void updateRecentMenu();
+    void newFromExample(const QString &resource);
+    void openDialog();
+    bool save();
+    bool saveAs();
+    void about();
+    void writeRecovery();
+
+    DesignDocument *m_document;
+    SketchScene *m_scene;
+    SketchView *m_view;
+    Readout *m_readout;
+    Inspector *m_inspector;
+    PartsPalette *m_palette;
+    LoopGainPanel *m_loopGain = nullptr;
+    std::vector<PlotPanel *> m_panels;
+    std::vector<QDockWidget *> m_docks;
+    QLabel *m_timing;
+    QLabel *m_diagnostics;
+    QMenu *m_recentMenu = nullptr;
+    QMenu *m_viewMenu = nullptr;
+    QString m_displayName;
+    QByteArray m_defaultState;
+    bool m_ask = true;
+};
+
+} // namespace loopsketch::ui

@@ -1,0 +1,253 @@
+#include "panels.h"
+
+#include "qtadapter.h"
+
+#include "loopsketch/value.h"
+
+#include <QCategoryAxis>
+#include <QChart>
+#include <QLineSeries>
+#include <QScatterSeries>
+#include <QValueAxis>
+
+#include <cmath>
+
+namespace loopsketch::ui {
+
+namespace {
+
+double frequencyLo(const Analysis &a)
+{
+    return a.frequenciesHz.empty() ? 0.0 : std::log10(a.frequenciesHz.front());
+}
+
+double frequencyHi(const Analysis &a)
+{
+    return a.frequenciesHz.empty() ? 9.0 : std::log10(a.frequenciesHz.back());
+}
+
+} // namespace
+
+LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), parent)
+{
+    m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
+    m_mag = addValueAxis(tr("magnitude (dB)"), Qt::AlignLeft);
+    m_phase = addValueAxis(tr("phase (°), dashed"), Qt::AlignRight, false);
+    const QString names[4] = {kA, kT, kTwoPort, kExact};
+    const QColor colours[4] = {palette::kOrange, palette::kBlue, palette::kPurple, palette::kBlack};
+    for (int i = 0; i < 4; ++i) {
+        m_magSeries[i] = addLine(names[i], colours[i], Qt::SolidLine, m_x, m_mag);
+        m_phaseSeries[i]
+            = addLine(kPhase + names[i], colours[i], Qt::DashLine, m_x, m_phase, false);
+    }
+    m_crossover = addMarker(QStringLiteral("crossover"), palette::kVermillion, m_x, m_mag);
+    m_gainMargin = addMarker(QStringLiteral("gain margin"), palette::kGreen, m_x, m_mag);
+    m_phaseMargin = addMarker(QStringLiteral("phase margin"), palette::kSkyBlue, m_x, m_phase);
+}
+
+void LoopGainPanel::showAnalysis(const Analysis &a)
+{
+    const auto &f = a.frequenciesHz;
+    const Curve *curves[4]
+        = {&a.curves.a, &a.curves.loopGain, &a.curves.gainTwoPort, &a.curves.gainExact};
+    QList<QPointF> mags[4], phases[4];
+    for (int i = 0; i < 4; ++i) {
+        mags[i] = curvePoints(f, *curves[i], CurvePart::MagnitudeDb);
+        phases[i] = curvePoints(f, *curves[i], CurvePart::PhaseDeg);
+    }
+    double lo = 0, hi = 0;
+    if (yRange({&mags[0], &mags[1], &mags[2], &mags[3]}, &lo, &hi))
+        setRoundRange(m_mag, std::max(lo, hi - 300.0), std::max(hi, 0.0), 40);
+    if (yRange({&phases[0], &phases[1], &phases[2], &phases[3]}, &lo, &hi))
+        setRoundRange(m_phase, lo, hi, 90);
+    for (int i = 0; i < 4; ++i) {
+        m_magSeries[i]->replace(mags[i]);
+        m_phaseSeries[i]->replace(phases[i]);
+    }
+    setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
+
+    QList<QPointF> crossover, phaseMargin, gainMargin;
+    if (a.margins.crossoverHz && *a.margins.crossoverHz > 0) {
+        const double x = std::log10(*a.margins.crossoverHz);
+        crossover.append(QPointF(x, 0.0));
+        if (a.margins.phaseMarginDeg)
+            phaseMargin.append(QPointF(x, *a.margins.phaseMarginDeg - 180.0));
+    }
+    if (a.margins.phaseCrossoverHz && *a.margins.phaseCrossoverHz > 0 && a.margins.gainMarginDb)
+        gainMargin.append(
+            QPointF(std::log10(*a.margins.phaseCrossoverHz), -*a.margins.gainMarginDb));
+    m_crossover->replace(crossover);
+    m_phaseMargin->replace(phaseMargin);
+    m_gainMargin->replace(gainMargin);
+    rename(m_crossover, tr("crossover %1").arg(engineering(a.margins.crossoverHz, "Hz")));
+    rename(m_phaseMargin,
+           tr("phase margin %1")
+               .arg(a.margins.phaseMarginDeg
+                        ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + "°"
+                        : QStringLiteral("—")));
+    rename(m_gainMargin,
+           tr("gain margin %1")
+               .arg(a.margins.gainMarginDb
+                        ? toQString(formatEngineering(*a.margins.gainMarginDb, 3)) + " dB"
+                        : QStringLiteral("—")));
+    const QString unit = toQString(a.gainUnit);
+    m_mag->setTitleText(unit == QStringLiteral("V/V") || unit == QStringLiteral("A/A")
+                            ? tr("magnitude (dB)")
+                            : tr("magnitude (dB; A and gains re 1 %1)").arg(unit));
+}
+
+ImpedancePanel::ImpedancePanel(QWidget *parent) : PlotPanel(tr("Impedance"), parent)
+{
+    m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
+    m_y = addLogAxis(tr("|z| (Ω)"), Qt::AlignLeft);
+    m_lines[0] = addLine(tr("z_in with feedback"), palette::kBlue, Qt::SolidLine, m_x, m_y);
+    m_lines[1] = addLine(tr("z_in without feedback"), palette::kSkyBlue, Qt::DashLine, m_x, m_y);
+    m_lines[2] = addLine(tr("z_out with feedback"), palette::kVermillion, Qt::SolidLine, m_x, m_y);
+    m_lines[3] = addLine(tr("z_out without feedback"), palette::kOrange, Qt::DashLine, m_x, m_y);
+}
+
+void ImpedancePanel::showAnalysis(const Analysis &a)
+{
+    const Curve *curves[4]
+        = {&a.curves.zInExact, &a.curves.zInOpenLoop, &a.curves.zOutExact, &a.curves.zOutOpenLoop};
+    QList<QPointF> points[4];
+    for (int i = 0; i < 4; ++i)
+        points[i] = curvePoints(a.frequenciesHz, *curves[i], CurvePart::Log10Magnitude);
+    double lo = 0, hi = 0;
+    if (yRange({&points[0], &points[1], &points[2], &points[3]}, &lo, &hi))
+        setDecadeRange(m_y, std::floor(lo), std::ceil(hi), "Ω");
+    for (int i = 0; i < 4; ++i)
+        m_lines[i]->replace(points[i]);
+    setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
+}
+
+DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensitivity"), parent)
+{
+    m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
+    m_y = addValueAxis(tr("|1 + T| (dB)"), Qt::AlignLeft);
+    m_line = addLine(tr("|1 + T|"), palette::kBlue, Qt::SolidLine, m_x, m_y);
+}
+
+void DesensitivityPanel::showAnalysis(const Analysis &a)
+{
+    const QList<QPointF> points
+        = curvePoints(a.frequenciesHz, a.curves.desensitivity, CurvePart::MagnitudeDb);
+    double lo = 0, hi = 0;
+    if (yRange({&points}, &lo, &hi))
+        setRoundRange(m_y, std::min(lo, 0.0), hi, 20);
+    m_line->replace(points);
+    setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
+}
+
+StepPanel::StepPanel(QWidget *parent) : PlotPanel(tr("Step"), parent)
+{
+    m_x = addValueAxis(tr("time (s)"), Qt::AlignBottom);
+    m_y = addValueAxis(tr("output per unit step"), Qt::AlignLeft);
+    m_line = addLine(tr("step response"), palette::kBlue, Qt::SolidLine, m_x, m_y);
+    m_final = addLine(tr("final value"), palette::kBlack, Qt::DotLine, m_x, m_y);
+    m_settling = addLine(tr("settling"), palette::kGreen, Qt::DashLine, m_x, m_y);
+    m_peak = addMarker(tr("overshoot"), palette::kVermillion, m_x, m_y);
+    m_x->setTickType(QValueAxis::TicksFixed);
+    m_y->setTickType(QValueAxis::TicksFixed);
+    m_x->setTickCount(6);
+    m_y->setTickCount(6);
+}
+
+void StepPanel::showAnalysis(const Analysis &a)
+{
+    const StepResult &s = a.step;
+    double tMax = 0, yMax = 0;
+    for (double t : s.timeS) {
+        if (std::isfinite(t))
+            tMax = std::max(tMax, std::abs(t));
+    }
+    for (double y : s.response) {
+        if (std::isfinite(y))
+            yMax = std::max(yMax, std::abs(y));
+    }
+    const ScalePrefix tp = scalePrefixFor(tMax);
+    const ScalePrefix yp = scalePrefixFor(yMax);
+    const QList<QPointF> points = realPoints(s.timeS, s.response, tp.factor, yp.factor);
+    double lo = 0, hi = 0;
+    if (!yRange({&points}, &lo, &hi))
+        lo = hi = 0;
+    lo = std::min(lo, 0.0);
+    hi = std::max(hi, 0.0);
+    const double pad = 0.05 * (hi - lo);
+    m_y->setRange(lo - pad, hi + pad);
+    m_x->setRange(0, tMax * tp.factor);
+    m_x->setTitleText(tr("time (%1s)").arg(tp.prefix));
+    m_y->setTitleText(tr("output per unit step (%1%2)").arg(yp.prefix, toQString(a.gainUnit)));
+    m_line->replace(points);
+
+    QList<QPointF> finalLine;
+    if (std::isfinite(s.finalValue))
+        finalLine = {QPointF(0, s.finalValue * yp.factor),
+                     QPointF(tMax * tp.factor, s.finalValue * yp.factor)};
+    m_final->replace(finalLine);
+
+    QList<QPointF> settling;
+    if (s.settlingTimeS)
+        settling = {QPointF(*s.settlingTimeS * tp.factor, lo - pad),
+                    QPointF(*s.settlingTimeS * tp.factor, hi + pad)};
+    m_settling->replace(settling);
+    rename(m_settling, tr("settling to 1 %: %1").arg(engineering(s.settlingTimeS, "s")));
+
+    // The overshoot marker sits on the sample farthest beyond the final value.
+    QList<QPointF> peak;
+    if (s.overshootPct && *s.overshootPct > 0 && !points.isEmpty()) {
+        const double sign = s.finalValue >= 0 ? 1.0 : -1.0;
+        QPointF best = points.front();
+        for (const QPointF &p : points) {
+            if (sign * p.y() > sign * best.y())
+                best = p;
+        }
+        peak.append(best);
+    }
+    m_peak->replace(peak);
+    rename(m_peak,
+           tr("overshoot %1")
+               .arg(s.overshootPct ? toQString(formatEngineering(*s.overshootPct, 3)) + " %"
+                                   : QStringLiteral("—")));
+}
+
+PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
+{
+    m_x = addValueAxis(tr("σ = Re s (rad/s)"), Qt::AlignBottom);
+    m_y = addValueAxis(tr("ω = Im s (rad/s)"), Qt::AlignLeft);
+    m_x->setTickType(QValueAxis::TicksFixed);
+    m_y->setTickType(QValueAxis::TicksFixed);
+    m_x->setTickCount(5);
+    m_y->setTickCount(5);
+    m_axis = addLine(tr("jω axis"), QColor(0x99, 0x99, 0x99), Qt::DotLine, m_x, m_y, false);
+    m_poles = addMarker(tr("closed-loop poles"), palette::kVermillion, m_x, m_y, 10);
+    m_poles->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+}
+
+void PolesPanel::showAnalysis(const Analysis &a)
+{
+    double reMax = 0, imMax = 0;
+    for (const ClosedLoopPole &p : a.poles) {
+        if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag())) {
+            reMax = std::max(reMax, std::abs(p.s.real()));
+            imMax = std::max(imMax, std::abs(p.s.imag()));
+        }
+    }
+    const double span = std::max(reMax, imMax);
+    const ScalePrefix sp = scalePrefixFor(span);
+    QList<QPointF> points;
+    for (const ClosedLoopPole &p : a.poles) {
+        if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag()))
+            points.append(QPointF(p.s.real() * sp.factor, p.s.imag() * sp.factor));
+    }
+    const double r = span > 0 ? span * sp.factor * 1.1 : 1.0;
+    m_x->setRange(-r, r * 0.25);
+    m_y->setRange(-r, r);
+    m_axis->replace({QPointF(0, -r), QPointF(0, r)});
+    m_poles->replace(points);
+    m_x->setTitleText(tr("σ = Re s (%1rad/s)").arg(sp.prefix));
+    m_y->setTitleText(tr("ω = Im s (%1rad/s)").arg(sp.prefix));
+    rename(m_poles, tr("closed-loop poles (%1)").arg(points.size()));
+}
+
+} // namespace loopsketch::ui

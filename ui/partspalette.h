@@ -1,0 +1,34 @@
+#pragma once
+
+// The Parts palette: the symbols Loopsketch knows, and the parts of the open design
+// (clicking one selects it on the Sketch).
+
+#include "loopsketch/design.h"
+
+#include <QWidget>
+
+#include <string>
+
+class QListWidget;
+
+namespace loopsketch::ui {
+
+class PartsPalette : public QWidget
+{
+    Q_OBJECT
+
+public:
+    explicit PartsPalette(QWidget *parent = nullptr);
+
+    void showDesign(const Design &design);
+    void selectPart(const std::string &partId);
+
+signals:
+    void partActivated(const std::string &partId);
+
+private:
+    QListWidget *m_kinds;
+    QListWidget *m_parts;
+};
+
+} // namespace loopsketch::ui

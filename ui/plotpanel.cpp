@@ -1,0 +1,171 @@
+#include "plotpanel.h"
+
+#include "qtadapter.h"
+
+#include "loopsketch/value.h"
+
+#include <QCategoryAxis>
+#include <QChart>
+#include <QLegend>
+#include <QLegendMarker>
+#include <QLineSeries>
+#include <QScatterSeries>
+#include <QValueAxis>
+
+#include <cmath>
+
+namespace loopsketch::ui {
+
+PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
+{
+    auto *c = new QChart;
+    c->setTitle(title);
+    QFont titleFont = c->titleFont();
+    titleFont.setPointSizeF(10);
+    titleFont.setBold(true);
+    c->setTitleFont(titleFont);
+    c->setBackgroundRoundness(0);
+    c->setMargins(QMargins(6, 4, 6, 4));
+    c->setAnimationOptions(QChart::NoAnimation);
+    c->legend()->setAlignment(Qt::AlignBottom);
+    QFont legendFont = c->legend()->font();
+    legendFont.setPointSizeF(8);
+    c->legend()->setFont(legendFont);
+    setChart(c);
+    setRenderHint(QPainter::Antialiasing, true);
+    setMinimumSize(320, 220);
+}
+
+QXYSeries *PlotPanel::series(const QString &name) const
+{
+    const auto it = m_series.find(name);
+    return it == m_series.end() ? nullptr : it->second;
+}
+
+QLineSeries *PlotPanel::addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
+                                QAbstractAxis *x, QAbstractAxis *y, bool inLegend)
+{
+    auto *s = new QLineSeries;
+    s->setName(name);
+    QPen pen(colour, 1.8, style);
+    pen.setCapStyle(Qt::FlatCap);
+    s->setPen(pen);
+    chart()->addSeries(s);
+    s->attachAxis(x);
+    s->attachAxis(y);
+    if (!inLegend) {
+        for (QLegendMarker *m : chart()->legend()->markers(s))
+            m->setVisible(false);
+    }
+    m_series[name] = s;
+    return s;
+}
+
+QScatterSeries *PlotPanel::addMarker(const QString &name, const QColor &colour, QAbstractAxis *x,
+                                     QAbstractAxis *y, double size)
+{
+    auto *s = new QScatterSeries;
+    s->setName(name);
+    s->setMarkerSize(size);
+    s->setColor(colour);
+    s->setBorderColor(Qt::white);
+    chart()->addSeries(s);
+    s->attachAxis(x);
+    s->attachAxis(y);
+    m_series[name] = s;
+    return s;
+}
+
+QValueAxis *PlotPanel::addValueAxis(const QString &title, Qt::Alignment alignment, bool grid)
+{
+    auto *axis = new QValueAxis;
+    axis->setTitleText(title);
+    QFont f = axis->titleFont();
+    f.setPointSizeF(8.5);
+    f.setBold(false);
+    axis->setTitleFont(f);
+    QFont lf = axis->labelsFont();
+    lf.setPointSizeF(8);
+    axis->setLabelsFont(lf);
+    axis->setGridLineVisible(grid);
+    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
+    axis->setTickType(QValueAxis::TicksDynamic);
+    axis->setLabelFormat(QStringLiteral("%g"));
+    chart()->addAxis(axis, alignment);
+    return axis;
+}
+
+QCategoryAxis *PlotPanel::addLogAxis(const QString &title, Qt::Alignment alignment)
+{
+    auto *axis = new QCategoryAxis;
+    axis->setTitleText(title);
+    QFont f = axis->titleFont();
+    f.setPointSizeF(8.5);
+    f.setBold(false);
+    axis->setTitleFont(f);
+    QFont lf = axis->labelsFont();
+    lf.setPointSizeF(8);
+    axis->setLabelsFont(lf);
+    axis->setLabelsPosition(QCategoryAxis::AxisLabelsPositionOnValue);
+    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
+    chart()->addAxis(axis, alignment);
+    return axis;
+}
+
+void PlotPanel::setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit)
+{
+    if (!(hi > lo)) {
+        lo -= 0.5;
+        hi += 0.5;
+    }
+    const QStringList old = axis->categoriesLabels();
+    for (const QString &label : old)
+        axis->remove(label);
+    axis->setStartValue(lo);
+    for (int k = int(std::ceil(lo - 1e-9)); k <= int(std::floor(hi + 1e-9)); ++k)
+        axis->append(toQString(formatEngineering(std::pow(10.0, k), 3, unit)), k);
+    axis->setRange(lo, hi);
+}
+
+void PlotPanel::setRoundRange(QValueAxis *axis, double lo, double hi, double step)
+{
+    double a = std::floor(lo / step) * step;
+    double b = std::ceil(hi / step) * step;
+    if (!(b > a)) {
+        a -= step;
+        b += step;
+    }
+    axis->setTickAnchor(0);
+    axis->setTickInterval(step);
+    axis->setRange(a, b);
+}
+
+void PlotPanel::rename(QXYSeries *s, const QString &name)
+{
+    for (auto it = m_series.begin(); it != m_series.end(); ++it) {
+        if (it->second == s) {
+            m_series.erase(it);
+            break;
+        }
+    }
+    s->setName(name);
+    m_series[name] = s;
+}
+
+bool yRange(std::initializer_list<const QList<QPointF> *> lists, double *lo, double *hi)
+{
+    bool any = false;
+    for (const QList<QPointF> *list : lists) {
+        for (const QPointF &p : *list) {
+            if (!any) {
+                *lo = *hi = p.y();
+                any = true;
+            }
+            *lo = std::min(*lo, p.y());
+            *hi = std::max(*hi, p.y());
+        }
+    }
+    return any;
+}
+
+} // namespace loopsketch::ui

@@ -1,0 +1,69 @@
+#pragma once
+
+// Base of the linked plot panels: a chart view with our palette, a log frequency axis
+// labelled 1, 10, 100, 1k ... 1G, and helpers that push whole curves with replace().
+
+#include "loopsketch/analysis.h"
+
+#include <QChartView>
+#include <QColor>
+#include <QList>
+#include <QPointF>
+
+#include <map>
+
+class QAbstractAxis;
+class QCategoryAxis;
+class QLineSeries;
+class QScatterSeries;
+class QValueAxis;
+class QXYSeries;
+
+namespace loopsketch::ui {
+
+/// Okabe-Ito colours, safe for the common colour-vision deficiencies.
+namespace palette {
+inline const QColor kOrange{0xE6, 0x9F, 0x00};
+inline const QColor kSkyBlue{0x56, 0xB4, 0xE9};
+inline const QColor kGreen{0x00, 0x9E, 0x73};
+inline const QColor kYellow{0xF0, 0xE4, 0x42};
+inline const QColor kBlue{0x00, 0x72, 0xB2};
+inline const QColor kVermillion{0xD5, 0x5E, 0x00};
+inline const QColor kPurple{0xCC, 0x79, 0xA7};
+inline const QColor kBlack{0x22, 0x22, 0x22};
+} // namespace palette
+
+class PlotPanel : public QChartView
+{
+    Q_OBJECT
+
+public:
+    explicit PlotPanel(const QString &title, QWidget *parent = nullptr);
+
+    virtual void showAnalysis(const Analysis &analysis) = 0;
+
+    /// The series named `name` (its legend text), nullptr when there is none.
+    QXYSeries *series(const QString &name) const;
+
+protected:
+    QLineSeries *addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
+                         QAbstractAxis *x, QAbstractAxis *y, bool inLegend = true);
+    QScatterSeries *addMarker(const QString &name, const QColor &colour, QAbstractAxis *x,
+                              QAbstractAxis *y, double size = 9.0);
+    QValueAxis *addValueAxis(const QString &title, Qt::Alignment alignment, bool grid = true);
+    /// x = log10(f / Hz); decade labels drawn by us (QLogValueAxis prints 1e+06).
+    QCategoryAxis *addLogAxis(const QString &title, Qt::Alignment alignment);
+    /// Sets a decade axis to cover [lo, hi] (log10 units) with a label at every decade.
+    static void setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit);
+    /// Sets a value axis to a range with round ticks, `step` apart.
+    static void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Sets a series' name, keeping the lookup table in step.
+    void rename(QXYSeries *series, const QString &name);
+
+    std::map<QString, QXYSeries *> m_series;
+};
+
+/// Minimum and maximum y of point lists; false when all are empty.
+bool yRange(std::initializer_list<const QList<QPointF> *> lists, double *lo, double *hi);
+
+} // namespace loopsketch::ui

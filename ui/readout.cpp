@@ -1,0 +1,192 @@
+#include "readout.h"
+
+#include "qtadapter.h"
+
+#include "loopsketch/value.h"
+
+#include <QHBoxLayout>
+#include <QLabel>
+#include <QVBoxLayout>
+
+#include <cmath>
+
+namespace loopsketch::ui {
+
+namespace {
+
+enum Verdict { kNoVerdict = 0, kPass = 1, kFail = -1 };
+
+QString dB(const OptionalNumber &v)
+{
+    if (!v)
+        return QStringLiteral("—");
+    return toQString(formatEngineering(*v, 3)) + QStringLiteral(" dB");
+}
+
+QString signedPct(const OptionalNumber &v)
+{
+    if (!v)
+        return QStringLiteral("—");
+    return (*v >= 0 ? QStringLiteral("+") : QString()) + toQString(formatEngineering(*v, 2))
+        + QStringLiteral(" %");
+}
+
+} // namespace
+
+Readout::Readout(QWidget *parent) : QWidget(parent)
+{
+    auto *row = new QHBoxLayout(this);
+    row->setContentsMargins(10, 6, 10, 6);
+    row->setSpacing(18);
+    for (int i = 0; i < 9; ++i) {
+        auto *box = new QVBoxLayout;
+        box->setSpacing(1);
+        auto *title = new QLabel(this);
+        auto *value = new QLabel(this);
+        title->setStyleSheet(QStringLiteral("color: #5a6270; font-size: 8pt;"));
+        value->setStyleSheet(
+            QStringLiteral("color: #1d2127; font-size: 10.5pt; font-weight: 600;"));
+        value->setTextInteractionFlags(Qt::TextSelectableByMouse);
+        box->addWidget(title);
+        box->addWidget(value);
+        row->addLayout(box);
+        m_cells.push_back({title, value});
+    }
+    row->addStretch(1);
+    setAutoFillBackground(true);
+    QPalette p = palette();
+    p.setColor(QPalette::Window, QColor(0xf3, 0xf5, 0xf8));
+    setPalette(p);
+}
+
+Readout::Cell &Readout::cell(int index)
+{
+    return m_cells.at(std::size_t(index));
+}
+
+void Readout::setCell(int index, const QString &title, const QString &value, const QString &tooltip,
+                      int verdict)
+{
+    Cell &c = cell(index);
+    c.title->setText(title);
+    c.value->setText(value);
+    c.value->setToolTip(tooltip);
+    c.title->setToolTip(tooltip);
+    QString colour = QStringLiteral("#1d2127");
+    if (verdict == kPass)
+        colour = QStringLiteral("#00734f");
+    else if (verdict == kFail)
+        colour = QStringLiteral("#b3261e");
+    c.value->setStyleSheet(
+        QStringLiteral("color: %1; font-size: 10.5pt; font-weight: 600;").arg(colour));
+}
+
+void Readout::showAnalysis(const Analysis &a, const Design &design)
+{
+    const std::string &unit = a.gainUnit;
+    const Specs &specs = design.specs;
+
+    // Closed-loop gain (exact), checked against the spec window.
+    int gainVerdict = kNoVerdict;
+    QString gainSpec;
+    if (a.exact.gain && (specs.gainMin || specs.gainMax)) {
+        const double g = *a.exact.gain;
+        const bool ok = (!specs.gainMin || g >= specs.gainMin->si)
+            && (!specs.gainMax || g <= specs.gainMax->si);
+        gainVerdict = ok ? kPass : kFail;
+        gainSpec = tr("spec %1 … %2")
+                       .arg(specs.gainMin ? engineering(specs.gainMin->si, unit) : QString("—"),
+                            specs.gainMax ? engineering(specs.gainMax->si, unit) : QString("—"));
+    }
+    setCell(0, tr("closed-loop gain, exact"), engineering(a.exact.gain, unit, 4), gainSpec,
+            gainVerdict);
+
+    if (a.twoPort) {
+        setCell(1, tr("two-port estimate"),
+                engineering(a.twoPort->gain, unit, 4) + QStringLiteral("  (")
+                    + signedPct(a.twoPort->gainErrorPct) + QStringLiteral(")"),
+                tr("two-port estimate of the closed-loop gain, error against the exact "
+                   "solution in brackets"));
+    } else {
+        setCell(1, tr("two-port estimate"), QStringLiteral("—"),
+                a.topology ? toQString(a.twoPortProblem) : toQString(a.topologyReason));
+    }
+
+    const OptionalNumber t0 = a.returnRatio.loopGain;
+    setCell(2, tr("loop gain T at DC"),
+            t0 ? engineering(t0, "") + QStringLiteral("  (") + dB(toDecibels(std::abs(*t0)))
+                    + QStringLiteral(")")
+               : QStringLiteral("—"),
+            tr("return ratio at DC"));
+    setCell(3, tr("desensitivity 1+T"), dB(a.desensitivityDb), tr("at DC"));
+
+    if (a.twoPort) {
+        setCell(4, tr("loading in / out"),
+                dB(a.twoPort->inputLoadingDb) + QStringLiteral(" / ")
+                    + dB(a.twoPort->outputLoadingDb),
+                tr("gain lost to the feedback network's loading at the input and the output "
+                   "port"));
+    } else {
+        setCell(4, tr("loading in / out"), QStringLiteral("—"));
+    }
+
+    int bwVerdict = kNoVerdict;
+    QString bwSpec;
+    if (specs.bandwidthMin) {
+        bwVerdict = a.bandwidthHz && *a.bandwidthHz >= specs.bandwidthMin->si ? kPass : kFail;
+        bwSpec = tr("spec ≥ %1").arg(engineering(specs.bandwidthMin->si, "Hz"));
+    }
+    setCell(5, tr("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"), bwSpec, bwVerdict);
+
+    int pmVerdict = kNoVerdict;
+    QString pmSpec;
+    if (specs.phaseMarginMinDeg) {
+        pmVerdict
+            = a.margins.phaseMarginDeg && *a.margins.phaseMarginDeg >= *specs.phaseMarginMinDeg
+            ? kPass
+            : kFail;
+        pmSpec = tr("spec ≥ %1°").arg(toQString(formatEngineering(*specs.phaseMarginMinDeg, 3)));
+    }
+    setCell(6, tr("phase margin"),
+            a.margins.phaseMarginDeg
+                ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + QStringLiteral("°")
+                : QStringLiteral("—"),
+            pmSpec
+                + (a.margins.crossoverHz
+                       ? tr("  crossover %1").arg(engineering(a.margins.crossoverHz, "Hz"))
+                       : QString()),
+            pmVerdict);
+    setCell(7, tr("peaking"), dB(a.peakingDb));
+
+    const int verdicts[] = {gainVerdict, bwVerdict, pmVerdict};
+    int checked = 0, failed = 0;
+    for (int v : verdicts) {
+        checked += v != kNoVerdict;
+        failed += v == kFail;
+    }
+    if (checked == 0)
+        setCell(8, tr("specs"), tr("none set"));
+    else if (failed == 0)
+        setCell(8, tr("specs"), tr("pass (%1 of %1)").arg(checked), {}, kPass);
+    else
+        setCell(8, tr("specs"), tr("fail (%1 of %2)").arg(failed).arg(checked), {}, kFail);
+}
+
+QString Readout::plainText() const
+{
+    QStringList lines;
+    for (const Cell &c : m_cells)
+        lines << c.title->text() + QStringLiteral(": ") + c.value->text();
+    return lines.join(QLatin1Char('\n'));
+}
+
+QString Readout::cellText(const QString &title) const
+{
+    for (const Cell &c : m_cells) {
+        if (c.title->text() == title)
+            return c.value->text();
+    }
+    return {};
+}
+
+} // namespace loopsketch::ui

@@ -1,0 +1,42 @@
+#pragma once
+
+// The Readout: one strip of the numbers a designer decides on, every one formatted from
+// core's Analysis in engineering notation with its unit.
+
+#include "loopsketch/analysis.h"
+
+#include <QWidget>
+
+#include <vector>
+
+class QLabel;
+
+namespace loopsketch::ui {
+
+class Readout : public QWidget
+{
+    Q_OBJECT
+
+public:
+    explicit Readout(QWidget *parent = nullptr);
+
+    void showAnalysis(const Analysis &analysis, const Design &design);
+    /// All cells as "title: value" lines (for tests and the clipboard).
+    QString plainText() const;
+    /// The value text of the cell with `title`, empty when there is none.
+    QString cellText(const QString &title) const;
+
+private:
+    struct Cell
+    {
+        QLabel *title;
+        QLabel *value;
+    };
+    Cell &cell(int index);
+    void setCell(int index, const QString &title, const QString &value, const QString &tooltip = {},
+                 int verdict = 0);
+
+    std::vector<Cell> m_cells;
+};
+
+} // namespace loopsketch::ui

@@ -1,0 +1,172 @@
+#include "sketchscene.h"
+
+#include "partitem.h"
+#include "qtadapter.h"
+#include "sketchlayout.h"
+
+#include <QGraphicsPathItem>
+#include <QPainterPath>
+#include <QPen>
+
+namespace loopsketch::ui {
+
+namespace {
+
+const QColor kWire(0x2b, 0x2f, 0x36);
+
+} // namespace
+
+SketchScene::SketchScene(QObject *parent) : QGraphicsScene(parent)
+{
+    setBackgroundBrush(QColor(0xfc, 0xfc, 0xfb));
+}
+
+void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
+{
+    clear();
+    m_items.clear();
+    m_design = design;
+    m_layout = layout;
+    m_wires
+        = addPath(QPainterPath(), QPen(kWire, 1.4, Qt::SolidLine, Qt::SquareCap, Qt::MiterJoin));
+    m_wires->setZValue(-1);
+    m_dots = addPath(QPainterPath(), QPen(kWire, 1.4), QBrush(kWire));
+    m_dots->setZValue(-1);
+    if (!design)
+        return;
+    m_applying = true;
+    for (const Part &p : design->parts) {
+        const auto it = layout.parts.find(p.id);
+        const SketchPlacement placement = it != layout.parts.end() ? it->second : SketchPlacement{};
+        auto *item = new PartItem(p, placement.rotation);
+        item->setPos(placement.x, placement.y);
+        addItem(item);
+        m_items[p.id] = item;
+    }
+    m_applying = false;
+    reroute();
+}
+
+void SketchScene::updatePart(const std::string &partId)
+{
+    PartItem *item = partItem(partId);
+    const Part *part = m_design ? m_design->findPart(partId) : nullptr;
+    if (item && part)
+        item->update(*part, item->symbolRotation());
+}
+
+void SketchScene::applyLayout(const SketchLayout &layout)
+{
+    m_layout = layout;
+    m_applying = true;
+    for (auto &[id, item] : m_items) {
+        const auto it = layout.parts.find(id);
+        if (it == layout.parts.end())
+            continue;
+        item->setPos(it->second.x, it->second.y);
+        if (item->symbolRotation() != it->second.rotation && m_design) {
+            if (const Part *part = m_design->findPart(id))
+                item->update(*part, it->second.rotation);
+        }
+    }
+    m_applying = false;
+    reroute();
+}
+
+PartItem *SketchScene::partItem(const std::string &partId) const
+{
+    const auto it = m_items.find(partId);
+    return it == m_items.end() ? nullptr : it->second;
+}
+
+std::string SketchScene::selectedPartId() const
+{
+    const auto items = selectedItems();
+    if (items.size() != 1)
+        return {};
+    auto *item = qgraphicsitem_cast<PartItem *>(items.front());
+    return item ? item->partId() : std::string();
+}
+
+void SketchScene::selectPart(const std::string &partId)
+{
+    clearSelection();
+    if (PartItem *item = partItem(partId)) {
+        item->setSelected(true);
+        item->setFocus();
+    }
+}
+
+void SketchScene::partDragged()
+{
+    if (!m_applying)
+        reroute();
+}
+
+void SketchScene::reportMoves()
+{
+    QHash<QString, QPointF> moved;
+    for (const auto &[id, item] : m_items) {
+        const auto it = m_layout.parts.find(id);
+        const QPointF was
+            = it != m_layout.parts.end() ? QPointF(it->second.x, it->second.y) : QPointF();
+        if (item->pos() != was)
+            moved.insert(toQString(id), item->pos());
+    }
+    if (!moved.isEmpty())
+        emit partsMoved(moved);
+}
+
+void SketchScene::reroute()
+{
+    if (!m_design || !m_wires)
+        return;
+    SketchLayout current = m_layout;
+    for (const auto &[id, item] : m_items) {
+        SketchPlacement &p = current.parts[id];
+        p.x = item->pos().x();
+        p.y = item->pos().y();
+        p.rotation = item->symbolRotation();
+    }
+    const SketchWiring wiring = routeWires(*m_design, current);
+    QPainterPath wires;
+    for (const QPolygonF &w : wiring.wires)
+        wires.addPolygon(w);
+    for (const auto &[at, dir] : wiring.grounds) {
+        // A short lead along the pin, then down to three bars.
+        const bool horizontal = std::abs(dir.x()) > 0.5;
+        QPointF p = at;
+        if (horizontal) {
+            const QPointF q = p + dir * 12.0;
+            wires.moveTo(p);
+            wires.lineTo(q);
+            p = q;
+        } else if (dir.y() < 0) {
+            // A ground on a pin that points up is drawn above it, bars facing up.
+            const QPointF q = p + QPointF(0, -12);
+            wires.moveTo(p);
+            wires.lineTo(q);
+            for (int i = 0; i < 3; ++i) {
+                const double half = 10.0 - 3.5 * i;
+                wires.moveTo(q + QPointF(-half, -4.0 * i));
+                wires.lineTo(q + QPointF(half, -4.0 * i));
+            }
+            continue;
+        }
+        const QPointF q = p + QPointF(0, 12);
+        wires.moveTo(p);
+        wires.lineTo(q);
+        for (int i = 0; i < 3; ++i) {
+            const double half = 10.0 - 3.5 * i;
+            wires.moveTo(q + QPointF(-half, 4.0 * i));
+            wires.lineTo(q + QPointF(half, 4.0 * i));
+        }
+    }
+    m_wires->setPath(wires);
+    QPainterPath dots;
+    for (const QPointF &j : wiring.junctions)
+        dots.addEllipse(j, 3.0, 3.0);
+    m_dots->setPath(dots);
+}
+
+} // namespace loopsketch::ui

@@ -1,0 +1,123 @@
+#include "sketchview.h"
+
+#include "partitem.h"
+#include "sketchscene.h"
+
+#include <QKeyEvent>
+#include <QLabel>
+#include <QWheelEvent>
+
+#include <cmath>
+
+namespace loopsketch::ui {
+
+SketchView::SketchView(SketchScene *scene, QWidget *parent)
+    : QGraphicsView(scene, parent), m_badge(new QLabel(this))
+{
+    setRenderHint(QPainter::Antialiasing, true);
+    setDragMode(QGraphicsView::ScrollHandDrag);
+    setTransformationAnchor(QGraphicsView::AnchorUnderMouse);
+    setViewportUpdateMode(QGraphicsView::BoundingRectViewportUpdate);
+    setFocusPolicy(Qt::StrongFocus);
+    m_badge->setAttribute(Qt::WA_TransparentForMouseEvents);
+    m_badge->move(8, 8);
+    setBadge(QString(), true);
+}
+
+void SketchView::setBadge(const QString &text, bool twoPortForm)
+{
+    m_badge->setVisible(!text.isEmpty());
+    m_badge->setText(text);
+    m_badge->setStyleSheet(
+        twoPortForm ? QStringLiteral("QLabel { background: #e8f1f8; color: #0b3d5c; border: 1px "
+                                     "solid #9cc3de; border-radius: 9px; padding: 2px 9px; }")
+                    : QStringLiteral("QLabel { background: #fbf0e4; color: #6b3a00; border: 1px "
+                                     "solid #e0b27a; border-radius: 9px; padding: 2px 9px; }"));
+    m_badge->adjustSize();
+}
+
+QString SketchView::badgeText() const
+{
+    return m_badge->text();
+}
+
+void SketchView::zoomBy(double factor)
+{
+    const double current = transform().m11();
+    const double next = std::clamp(current * factor, 0.2, 5.0);
+    scale(next / current, next / current);
+}
+
+void SketchView::fitDesign()
+{
+    if (!scene())
+        return;
+    const QRectF items = scene()->itemsBoundingRect().adjusted(-40, -50, 40, 30);
+    setSceneRect(items.adjusted(-400, -400, 400, 400));
+    resetTransform();
+    fitInView(items, Qt::KeepAspectRatio);
+    if (transform().m11() > 1.4)
+        zoomBy(1.4 / transform().m11());
+}
+
+void SketchView::wheelEvent(QWheelEvent *event)
+{
+    const QPoint delta = event->angleDelta();
+    const int d = delta.y() != 0 ? delta.y() : delta.x();
+    if (event->modifiers() & Qt::ControlModifier) {
+        zoomBy(std::pow(1.0015, d));
+        event->accept();
+        return;
+    }
+    auto *part = qgraphicsitem_cast<PartItem *>(itemAt(event->position().toPoint()));
+    if (!part) {
+        QGraphicsView::wheelEvent(event);
+        return;
+    }
+    // High-resolution wheels deliver fractions of a notch; step once per 120 units.
+    m_wheelRemainder += d;
+    const int steps = m_wheelRemainder / 120;
+    m_wheelRemainder -= steps * 120;
+    if (steps != 0)
+        emit stepRequested(part->partId(), steps, event->modifiers() & Qt::ShiftModifier);
+    event->accept();
+}
+
+void SketchView::keyPressEvent(QKeyEvent *event)
+{
+    auto *sketch = qobject_cast<SketchScene *>(scene());
+    const std::string id = sketch ? sketch->selectedPartId() : std::string();
+    if (!id.empty()) {
+        const bool decade = event->modifiers() & Qt::ShiftModifier;
+        switch (event->key()) {
+        case Qt::Key_Up:
+            emit stepRequested(id, 1, decade);
+            return;
+        case Qt::Key_Down:
+            emit stepRequested(id, -1, decade);
+            return;
+        case Qt::Key_R:
+            emit rotateRequested(id);
+            return;
+        default:
+            break;
+        }
+    }
+    if (event->key() == Qt::Key_Plus || event->key() == Qt::Key_Equal) {
+        zoomBy(1.2);
+        return;
+    }
+    if (event->key() == Qt::Key_Minus) {
+        zoomBy(1 / 1.2);
+        return;
+    }
+    QGraphicsView::keyPressEvent(event);
+}
+
+void SketchView::resizeEvent(QResizeEvent *event)
+{
+    QGraphicsView::resizeEvent(event);
+    m_badge->move(8, 8);
+}
+
+} // namespace loopsketch::ui

@@ -1,0 +1,44 @@
+#pragma once
+
+// The Sketch's view: Ctrl+wheel zooms, wheel over a part steps its value through its
+// E-series (Shift: a decade), arrow keys step the selected part, drag on the background pans.
+
+#include <QGraphicsView>
+
+#include <string>
+
+class QLabel;
+
+namespace loopsketch::ui {
+
+class SketchScene;
+
+class SketchView : public QGraphicsView
+{
+    Q_OBJECT
+
+public:
+    explicit SketchView(SketchScene *scene, QWidget *parent = nullptr);
+
+    /// The topology badge shown in the top left corner.
+    void setBadge(const QString &text, bool twoPortForm);
+    QString badgeText() const;
+    void zoomBy(double factor);
+    void fitDesign();
+
+signals:
+    /// The user asked to step a part's value by `steps` positions (decade: whole decades).
+    void stepRequested(const std::string &partId, int steps, bool decade);
+    void rotateRequested(const std::string &partId);
+
+protected:
+    void wheelEvent(QWheelEvent *event) override;
+    void keyPressEvent(QKeyEvent *event) override;
+    void resizeEvent(QResizeEvent *event) override;
+
+private:
+    QLabel *m_badge;
+    int m_wheelRemainder = 0;
+};
+
+} // namespace loopsketch::ui
