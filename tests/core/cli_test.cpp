@@ -88,10 +88,13 @@ CliRun runCli(const std::vector<std::string> &args)
     TempDir dir;
     const fs::path out = dir.path() / "stdout";
     const fs::path err = dir.path() / "stderr";
+    // Appended piece by piece: `" " + string` trips GCC 12's false -Wrestrict (bug 105329).
     std::string cmd = shellQuoted(kCli.string());
     for (const auto &a : args)
-        cmd += " " + shellQuoted(a);
-    cmd += " >" + shellQuoted(out.string()) + " 2>" + shellQuoted(err.string()) + " </dev/null";
+        cmd.append(" ").append(shellQuoted(a));
+    cmd.append(" >").append(shellQuoted(out.string()));
+    cmd.append(" 2>").append(shellQuoted(err.string()));
+    cmd.append(" </dev/null");
     const int status = std::system(cmd.c_str());
     CliRun r;
     if (status != -1 && WIFEXITED(status)) {
