@@ -87,11 +87,12 @@ std::map<std::string, double> computeSensitivity(const Design &design, double ga
 
 } // namespace
 
-Result<Analysis> analyze(const Design &design, std::string_view file)
+Result<Analysis> analyze(const Design &design, std::string_view file,
+                         const AnalysisOptions &options)
 {
     if (auto problems = validateDesign(design, file); !problems.empty())
         return problems;
-    auto built = LoopModel::build(design);
+    auto built = LoopModel::build(design, options.solver);
     if (!built) {
         Diagnostics d = built.diagnostics();
         for (auto &x : d)
@@ -176,7 +177,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file)
     a.poles = describePoles(model.closedLoopPoles());
     if (a.exact.gain)
         a.step = computeStep(model, a.poles, a.bandwidthHz, *a.exact.gain);
-    if (a.exact.gain)
+    if (a.exact.gain && options.sensitivity)
         a.sensitivity = computeSensitivity(design, *a.exact.gain);
     return a;
 }

@@ -14,17 +14,17 @@ namespace {
 const Complex kNaN(std::numeric_limits<double>::quiet_NaN(),
                    std::numeric_limits<double>::quiet_NaN());
 
-Result<ReducedSystem> reduce(const Netlist &netlist)
+Result<ReducedSystem> reduceWith(SolverPath path, const Netlist &netlist)
 {
     auto system = assembleSystem(netlist);
     if (!system)
         return system.diagnostics();
-    return ReducedSystem::build(*system);
+    return ReducedSystem::build(*system, path);
 }
 
-Result<ReducedSystem> reduce(const Design &d, const LoopCircuitOptions &o)
+Result<ReducedSystem> reduceWith(SolverPath path, const Design &d, const LoopCircuitOptions &o)
 {
-    return reduce(buildLoopNetlist(d, o));
+    return reduceWith(path, buildLoopNetlist(d, o));
 }
 
 std::optional<ReducedSystem> optionalOf(Result<ReducedSystem> r)
@@ -106,11 +106,14 @@ struct LoopModel::TwoPortSystems
     double gIn = 0, cIn = 0, rOut = 0; // the gain block's
 };
 
-Result<LoopModel> LoopModel::build(const Design &design)
+Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
 {
+    const auto reduce = [path](const auto &...args) {
+        return reduceWith(path, args...);
+    };
     using Source = LoopCircuitOptions::Source;
     LoopModel m;
-    auto full = reduce(design, {});
+    auto full = reduce(design, LoopCircuitOptions{});
     if (!full)
         return full.diagnostics();
     m.m_full = std::move(full).value();
@@ -267,7 +270,8 @@ namespace {
 /// Blackman: Z = Z_D (1 + T_sc) / (1 + T_oc), from a test-driven system with a port.
 Complex blackman(const ReducedSystem &r, Complex s, int portVoltage, int portInput, Complex &zd)
 {
-    const Eigen::MatrixXcd h = r.evaluate(s);
+    thread_local Eigen::MatrixXcd h;
+    r.evaluateInto(s, {portInput, loopio::kTest}, {portVoltage, loopio::kReturned}, h);
     zd = h(portVoltage, portInput);
     const Complex tOc = -h(loopio::kReturned, loopio::kTest);
     const Complex tSc = -(h(loopio::kReturned, loopio::kTest)
@@ -284,22 +288,24 @@ Complex parallel(Complex a, Complex b)
 
 Complex LoopModel::loopGainAt(Complex s) const
 {
-    return -m_rrFull->evaluate(s)(loopio::kReturned, loopio::kTest);
+    return -m_rrFull->entry(s, loopio::kReturned, loopio::kTest);
 }
 
 Complex LoopModel::gainAt(Complex s) const
 {
-    return m_full->evaluate(s)(loopio::kOutput, loopio::kSource);
+    return m_full->entry(s, loopio::kOutput, loopio::kSource);
 }
 
 LoopPoint LoopModel::at(Complex s) const
 {
     LoopPoint p;
     p.gain = gainAt(s);
-    p.zIn = m_input ? m_input->evaluate(s)(loopio::kInputVoltage, loopio::kInputPort) : kNaN;
-    p.zOut = m_output ? m_output->evaluate(s)(loopio::kLoadVoltage, loopio::kLoadPort) : kNaN;
+    p.zIn = m_input ? m_input->entry(s, loopio::kInputVoltage, loopio::kInputPort) : kNaN;
+    p.zOut = m_output ? m_output->entry(s, loopio::kLoadVoltage, loopio::kLoadPort) : kNaN;
 
-    const Eigen::MatrixXcd rr = m_rrFull->evaluate(s);
+    thread_local Eigen::MatrixXcd rr;
+    m_rrFull->evaluateInto(s, {loopio::kSource, loopio::kTest},
+                           {loopio::kOutput, loopio::kReturned}, rr);
     const Complex t = -rr(loopio::kReturned, loopio::kTest);
     const Complex g0 = rr(loopio::kOutput, loopio::kSource);
     const Complex through
@@ -340,7 +346,8 @@ LoopPoint LoopModel::at(Complex s) const
             vOc = zs;
         }
     } else {
-        const Eigen::MatrixXcd z = x.sourceSide->evaluate(s);
+        thread_local Eigen::MatrixXcd z;
+        x.sourceSide->evaluateInto(s, {}, z);
         zSS = z(0, 0), zSP = z(0, 1), zPS = z(1, 0), zPP = z(1, 1);
         if (x.voltageSource) {
             vOc = zPS / (x.rSeries + zSS);
@@ -354,7 +361,9 @@ LoopPoint LoopModel::at(Complex s) const
     }
     const Complex kSrc = seriesMix ? vOc : vOc * ys; // Thevenin voltage or Norton current
 
-    const Eigen::MatrixXcd a = x.aFull.evaluate(s);
+    thread_local Eigen::MatrixXcd a;
+    x.aFull.evaluateInto(s, {loopio::kSource, x.testP1, x.testP2},
+                         {loopio::kOutput, x.sampled, x.outP1, x.outP2}, a);
     const Complex sampled = x.sampledSign * a(x.sampled, loopio::kSource);
     p.a = sampled / kSrc;
     p.network = x.network.at(s);
@@ -366,7 +375,7 @@ LoopPoint LoopModel::at(Complex s) const
 
     Complex zNode;
     if (seriesMix) {
-        const Complex zq = x.aSeriesInput ? x.aSeriesInput->evaluate(s)(0, 0) : kNaN;
+        const Complex zq = x.aSeriesInput ? x.aSeriesInput->entry(s, 0, 0) : kNaN;
         zNode = (zs + zq) * desens - zs;
     } else {
         const Complex ri = a(x.outP1, x.testP1);
@@ -378,7 +387,7 @@ LoopPoint LoopModel::at(Complex s) const
     const Complex zl = 1.0 / yl;
     if (seriesSample) {
         const Complex zRest = x.aSeriesOutput
-            ? x.aSeriesOutput->evaluate(s)(loopio::kLoadVoltage, loopio::kLoadPort)
+            ? x.aSeriesOutput->entry(s, loopio::kLoadVoltage, loopio::kLoadPort)
             : kNaN;
         p.tpZOut = (zl + zRest) * desens - zl;
     } else {

@@ -75,11 +75,11 @@ Eigen::VectorXd rowScales(const Eigen::MatrixXd &g, const Eigen::MatrixXd &c)
 
 } // namespace
 
-Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system)
+Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system, SolverPath path)
 {
     const Index n = system.G.rows();
     std::vector<Index> staticSet;
-    for (Index i = 0; i < n; ++i) {
+    for (Index i = 0; i < n && path == SolverPath::Reduced; ++i) {
         if (system.C.row(i).cwiseAbs().maxCoeff() == 0.0
             && system.C.col(i).cwiseAbs().maxCoeff() == 0.0)
             staticSet.push_back(i);
@@ -134,11 +134,8 @@ Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system)
         r.m_lr = lk - ls * xsk;
         r.m_dr = ls * xsb;
     }
-    const Eigen::VectorXd scale = rowScales(r.m_gr, r.m_cr);
-    r.m_gr = scale.asDiagonal() * r.m_gr;
-    r.m_cr = scale.asDiagonal() * r.m_cr;
-    r.m_br = scale.asDiagonal() * r.m_br;
 
+    r.m_path = path;
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
     if (isSingular(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr)) {
@@ -152,47 +149,146 @@ Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system)
 
 Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
 {
-    Eigen::MatrixXcd h = m_dr.cast<std::complex<double>>();
-    if (order() == 0)
-        return h;
-    Eigen::MatrixXcd a = m_gr.cast<std::complex<double>>() + s * m_cr;
-    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(a);
-    const Eigen::MatrixXcd z = lu.solve(m_br.cast<std::complex<double>>());
-    if (!(lu.rcond() > kMinReciprocalCondition) || !z.allFinite())
-        return Eigen::MatrixXcd::Constant(h.rows(), h.cols(),
-                                          std::numeric_limits<double>::quiet_NaN());
-    h.noalias() += m_lr * z;
+    Eigen::MatrixXcd h;
+    evaluateInto(s, {}, h);
     return h;
+}
+
+std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, int input) const
+{
+    thread_local Eigen::MatrixXcd h;
+    evaluateInto(s, {input}, {output}, h);
+    return h(output, input);
+}
+
+void ReducedSystem::evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
+                                 std::initializer_list<int> outputs, Eigen::MatrixXcd &h) const
+{
+    using cd = std::complex<double>;
+    const Index k = order();
+    const Index p = this->outputs();
+    if (h.rows() != p || h.cols() != this->inputs())
+        h.resize(p, this->inputs());
+    const auto columns = [&](auto &&body) {
+        if (inputs.size() == 0)
+            for (int c = 0; c < this->inputs(); ++c)
+                body(c);
+        else
+            for (int c : inputs)
+                body(c);
+    };
+    const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                 std::numeric_limits<double>::quiet_NaN());
+    if (k == 0) {
+        columns([&](int c) { h.col(c) = m_dr.col(c).cast<cd>(); });
+        return;
+    }
+    if (m_path == SolverPath::DenseLu) {
+        Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m_gr.cast<cd>() + s * m_cr);
+        const bool regular = lu.rcond() > kMinReciprocalCondition;
+        columns([&](int c) {
+            const Eigen::VectorXcd z = lu.solve(m_br.col(c).cast<cd>());
+            if (regular && z.allFinite())
+                h.col(c) = m_dr.col(c).cast<cd>() + m_lr * z;
+            else
+                h.col(c).setConstant(nan);
+        });
+        return;
+    }
+    // Gaussian elimination with partial pivoting on the small pencil, on the stack for the
+    // usual sizes: the same backward stability as a library LU without its allocation and
+    // condition-estimate overhead, which dominate at k = 3..8.
+    constexpr Index kStack = 12;
+    thread_local std::vector<cd> heapA, heapY;
+    cd stackA[kStack * kStack], stackY[kStack];
+    Index pivot[kStack];
+    std::vector<Index> heapPivot;
+    cd *a = stackA, *y = stackY;
+    Index *piv = pivot;
+    if (k > kStack) {
+        heapA.resize(static_cast<std::size_t>(k * k));
+        heapY.resize(static_cast<std::size_t>(k));
+        heapPivot.resize(static_cast<std::size_t>(k));
+        a = heapA.data();
+        y = heapY.data();
+        piv = heapPivot.data();
+    }
+    const double *g = m_gr.data(), *c = m_cr.data(); // column-major
+    for (Index col = 0; col < k; ++col)
+        for (Index r = 0; r < k; ++r)
+            a[r * k + col] = cd(g[col * k + r], 0.0) + s * c[col * k + r];
+    bool singular = false;
+    for (Index j = 0; j < k; ++j) {
+        Index best = j;
+        double bestMag = std::abs(a[j * k + j].real()) + std::abs(a[j * k + j].imag());
+        for (Index r = j + 1; r < k; ++r) {
+            const double m = std::abs(a[r * k + j].real()) + std::abs(a[r * k + j].imag());
+            if (m > bestMag) {
+                best = r;
+                bestMag = m;
+            }
+        }
+        piv[j] = best;
+        if (!(bestMag > 0.0)) {
+            singular = true;
+            break;
+        }
+        if (best != j)
+            for (Index cc = 0; cc < k; ++cc)
+                std::swap(a[j * k + cc], a[best * k + cc]);
+        const cd inv = 1.0 / a[j * k + j];
+        for (Index r = j + 1; r < k; ++r) {
+            const cd f = a[r * k + j] * inv;
+            a[r * k + j] = f;
+            if (f != cd(0.0))
+                for (Index cc = j + 1; cc < k; ++cc)
+                    a[r * k + cc] -= f * a[j * k + cc];
+        }
+    }
+    const double *br = m_br.data(), *lr = m_lr.data(), *dr = m_dr.data();
+    columns([&](int col) {
+        if (singular) {
+            h.col(col).setConstant(nan);
+            return;
+        }
+        for (Index r = 0; r < k; ++r)
+            y[r] = br[col * k + r];
+        // Rows were swapped whole (multipliers included), so all swaps come first.
+        for (Index j = 0; j < k; ++j)
+            std::swap(y[j], y[piv[j]]);
+        for (Index j = 0; j < k; ++j)
+            for (Index r = j + 1; r < k; ++r)
+                y[r] -= a[r * k + j] * y[j];
+        for (Index r = k - 1; r >= 0; --r) {
+            cd acc = y[r];
+            for (Index cc = r + 1; cc < k; ++cc)
+                acc -= a[r * k + cc] * y[cc];
+            y[r] = acc / a[r * k + r];
+        }
+        bool finite = true;
+        const auto row = [&](Index o) {
+            cd acc = dr[col * p + o];
+            for (Index cc = 0; cc < k; ++cc)
+                acc += lr[cc * p + o] * y[cc];
+            h(o, col) = acc;
+            finite = finite && std::isfinite(acc.real()) && std::isfinite(acc.imag());
+        };
+        if (outputs.size() == 0)
+            for (Index o = 0; o < p; ++o)
+                row(o);
+        else
+            for (int o : outputs)
+                row(o);
+        if (!finite)
+            h.col(col).setConstant(nan);
+    });
 }
 
 std::vector<Eigen::MatrixXcd> ReducedSystem::sweep(const std::vector<double> &frequenciesHz) const
 {
-    const Index k = order();
-    std::vector<Eigen::MatrixXcd> out;
-    out.reserve(frequenciesHz.size());
-    const Eigen::MatrixXcd gr = m_gr.cast<std::complex<double>>();
-    const Eigen::MatrixXcd br = m_br.cast<std::complex<double>>();
-    const Eigen::MatrixXcd lr = m_lr.cast<std::complex<double>>();
-    const Eigen::MatrixXcd dr = m_dr.cast<std::complex<double>>();
-    Eigen::MatrixXcd a(k, k);
-    Eigen::MatrixXcd z(k, br.cols());
-    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(k);
-    for (double f : frequenciesHz) {
-        if (k == 0) {
-            out.push_back(dr);
-            continue;
-        }
-        const std::complex<double> s(0.0, 2.0 * std::numbers::pi * f);
-        a = gr + s * m_cr;
-        lu.compute(a);
-        z = lu.solve(br);
-        if (!(lu.rcond() > kMinReciprocalCondition) || !z.allFinite()) {
-            out.push_back(Eigen::MatrixXcd::Constant(dr.rows(), dr.cols(),
-                                                     std::numeric_limits<double>::quiet_NaN()));
-            continue;
-        }
-        out.push_back(dr + lr * z);
-    }
+    std::vector<Eigen::MatrixXcd> out(frequenciesHz.size());
+    for (std::size_t i = 0; i < frequenciesHz.size(); ++i)
+        evaluateInto({0.0, 2.0 * std::numbers::pi * frequenciesHz[i]}, {}, out[i]);
     return out;
 }
 
@@ -209,8 +305,12 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
     if (order() == 0)
         return poles;
     // (Gr + s Cr) v = 0  <=>  Gr v = lambda Cr v with lambda = -s.
+    // Row scaling (each row's reactive entries to 1) makes the infinite-eigenvalue test
+    // mean the same in every row; the per-frequency solves keep the unscaled rows, whose
+    // pivots partial pivoting chooses better.
+    const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
     Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
-    ges.compute(m_gr, m_cr, false);
+    ges.compute(scale.asDiagonal() * m_gr, scale.asDiagonal() * m_cr, false);
     if (ges.info() != Eigen::Success)
         return poles;
     const Eigen::VectorXcd alphas = ges.alphas();
@@ -241,13 +341,17 @@ Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
     }
     // Split Cr = U S V^T into its dynamic (rank r) and algebraic parts; eliminating the
     // algebraic part (index 1) leaves the proper state space  w' = A w + b u, y = c w + d u.
-    Eigen::JacobiSVD<Eigen::MatrixXd> svd(m_cr, Eigen::ComputeFullU | Eigen::ComputeFullV);
+    const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
+    const Eigen::MatrixXd gs = scale.asDiagonal() * m_gr;
+    const Eigen::MatrixXd cs = scale.asDiagonal() * m_cr;
+    const Eigen::MatrixXd bs = scale.asDiagonal() * m_br;
+    Eigen::JacobiSVD<Eigen::MatrixXd> svd(cs, Eigen::ComputeFullU | Eigen::ComputeFullV);
     const Eigen::VectorXd sv = svd.singularValues();
     Index rank = 0;
     while (rank < sv.size() && sv(rank) > 1e-10 * sv(0))
         ++rank;
-    const Eigen::MatrixXd gh = svd.matrixU().transpose() * m_gr * svd.matrixV();
-    const Eigen::VectorXd bh = svd.matrixU().transpose() * m_br.col(input);
+    const Eigen::MatrixXd gh = svd.matrixU().transpose() * gs * svd.matrixV();
+    const Eigen::VectorXd bh = svd.matrixU().transpose() * bs.col(input);
     const Eigen::RowVectorXd lh = m_lr.row(output) * svd.matrixV();
     const Index q = k - rank;
     Eigen::MatrixXd a = gh.topLeftCorner(rank, rank);

@@ -80,7 +80,8 @@ Result<TwoPortNetwork> TwoPortNetwork::build(const std::vector<Part> &parts,
 
 TwoPortMatrix TwoPortNetwork::at(std::complex<double> s) const
 {
-    const Eigen::MatrixXcd h = m_system->evaluate(s);
+    thread_local Eigen::MatrixXcd h;
+    m_system->evaluateInto(s, {}, h);
     TwoPortMatrix m;
     const auto [i1, i2] = currentDriven(m_set);
     const bool byCurrent[2] = {i1, i2};

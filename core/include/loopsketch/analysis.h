@@ -97,9 +97,16 @@ struct Analysis
     AnalysisCurves curves;
 };
 
+struct AnalysisOptions
+{
+    SolverPath solver = SolverPath::Reduced;
+    bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
+};
+
 /// Runs every analysis of the design over its sweep. Fails with diagnostics when the
 /// design is invalid or the circuit has no solution.
-Result<Analysis> analyze(const Design &design, std::string_view file = {});
+Result<Analysis> analyze(const Design &design, std::string_view file = {},
+                         const AnalysisOptions &options = {});
 
 /// The `loopsketch.analysis/1` JSON text (two-space indent, trailing newline).
 std::string analysisToJson(const Analysis &analysis);

@@ -42,7 +42,7 @@ class LoopModel
 {
 public:
     /// Builds every system of a valid design. Fails when the circuit has no solution.
-    static Result<LoopModel> build(const Design &design);
+    static Result<LoopModel> build(const Design &design, SolverPath path = SolverPath::Reduced);
 
     const TopologyResult &topology() const { return m_topology; }
     /// Why the two-port estimate is missing although a topology was found (e.g. the

@@ -16,16 +16,23 @@
 #include <Eigen/Core>
 
 #include <complex>
+#include <initializer_list>
 #include <vector>
 
 namespace loopsketch {
+
+/// How the per-frequency solves are done: the reduced k x k pencil (the product), or a
+/// dense LU of the whole MNA matrix at every frequency (the straightforward reference the
+/// benchmark and tests compare against).
+enum class SolverPath { Reduced, DenseLu };
 
 class ReducedSystem
 {
 public:
     /// Reduces the system once. Fails, naming the unknowns involved, when the static part is
     /// singular in a way no frequency can cure (a voltage-source loop, a floating subnetwork).
-    static Result<ReducedSystem> build(const DescriptorSystem &system);
+    static Result<ReducedSystem> build(const DescriptorSystem &system,
+                                       SolverPath path = SolverPath::Reduced);
 
     int outputs() const { return static_cast<int>(m_lr.rows()); }
     int inputs() const { return static_cast<int>(m_br.cols()); }
@@ -34,6 +41,21 @@ public:
     /// Transfer matrix (outputs x inputs) at complex frequency s (rad/s). Entries are NaN
     /// when the pencil is singular at s (check with allFinite()).
     Eigen::MatrixXcd evaluate(std::complex<double> s) const;
+
+    /// The same into `h` (resized to outputs x inputs only when needed), computing only the
+    /// columns listed in `inputs` (all when empty); the other columns are left as they were.
+    /// The hot path of every sweep: no allocation once `h` has its size.
+    void evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
+                      Eigen::MatrixXcd &h) const
+    {
+        evaluateInto(s, inputs, {}, h);
+    }
+    /// ... and only the rows listed in `outputs` (all when empty).
+    void evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
+                      std::initializer_list<int> outputs, Eigen::MatrixXcd &h) const;
+
+    /// One entry at s.
+    std::complex<double> entry(std::complex<double> s, int output, int input) const;
 
     /// Transfer matrices at j 2 pi f for each f (Hz).
     std::vector<Eigen::MatrixXcd> sweep(const std::vector<double> &frequenciesHz) const;
@@ -61,6 +83,7 @@ private:
     Eigen::MatrixXd m_lr; ///< outputs x k
     Eigen::MatrixXd m_dr; ///< outputs x inputs, static feedthrough of the eliminated part
     std::vector<std::string> m_unknowns; ///< names of the kept unknowns
+    SolverPath m_path = SolverPath::Reduced;
 };
 
 } // namespace loopsketch
