@@ -43,6 +43,10 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
     m_crossover = addMarker(QStringLiteral("crossover"), palette::kVermillion, m_x, m_mag);
     m_gainMargin = addMarker(QStringLiteral("gain margin"), palette::kGreen, m_x, m_mag);
     m_phaseMargin = addMarker(QStringLiteral("phase margin"), palette::kSkyBlue, m_x, m_phase);
+    for (QXYSeries *s :
+         {static_cast<QXYSeries *>(m_crossover), static_cast<QXYSeries *>(m_gainMargin),
+          static_cast<QXYSeries *>(m_phaseMargin)})
+        hideFromLegend(s);
 }
 
 void LoopGainPanel::showAnalysis(const Analysis &a)
@@ -79,17 +83,14 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
     m_crossover->replace(crossover);
     m_phaseMargin->replace(phaseMargin);
     m_gainMargin->replace(gainMargin);
-    rename(m_crossover, tr("crossover %1").arg(engineering(a.margins.crossoverHz, "Hz")));
-    rename(m_phaseMargin,
-           tr("phase margin %1")
-               .arg(a.margins.phaseMarginDeg
-                        ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + "°"
-                        : QStringLiteral("—")));
-    rename(m_gainMargin,
-           tr("gain margin %1")
-               .arg(a.margins.gainMarginDb
-                        ? toQString(formatEngineering(*a.margins.gainMarginDb, 3)) + " dB"
-                        : QStringLiteral("—")));
+    const QString pm = a.margins.phaseMarginDeg
+        ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + QStringLiteral("°")
+        : QStringLiteral("—");
+    const QString gm = a.margins.gainMarginDb
+        ? QString::number(*a.margins.gainMarginDb, 'f', 1) + QStringLiteral(" dB")
+        : QStringLiteral("—");
+    chart()->setTitle(tr("crossover %1  ·  phase margin %2  ·  gain margin %3")
+                          .arg(engineering(a.margins.crossoverHz, "Hz"), pm, gm));
     const QString unit = toQString(a.gainUnit);
     m_mag->setTitleText(unit == QStringLiteral("V/V") || unit == QStringLiteral("A/A")
                             ? tr("magnitude (dB)")
@@ -100,10 +101,10 @@ ImpedancePanel::ImpedancePanel(QWidget *parent) : PlotPanel(tr("Impedance"), par
 {
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
     m_y = addLogAxis(tr("|z| (Ω)"), Qt::AlignLeft);
-    m_lines[0] = addLine(tr("z_in with feedback"), palette::kBlue, Qt::SolidLine, m_x, m_y);
-    m_lines[1] = addLine(tr("z_in without feedback"), palette::kSkyBlue, Qt::DashLine, m_x, m_y);
-    m_lines[2] = addLine(tr("z_out with feedback"), palette::kVermillion, Qt::SolidLine, m_x, m_y);
-    m_lines[3] = addLine(tr("z_out without feedback"), palette::kOrange, Qt::DashLine, m_x, m_y);
+    m_lines[0] = addLine(tr("z_in"), palette::kBlue, Qt::SolidLine, m_x, m_y);
+    m_lines[1] = addLine(tr("z_in, no feedback"), palette::kSkyBlue, Qt::DashLine, m_x, m_y);
+    m_lines[2] = addLine(tr("z_out"), palette::kVermillion, Qt::SolidLine, m_x, m_y);
+    m_lines[3] = addLine(tr("z_out, no feedback"), palette::kOrange, Qt::DashLine, m_x, m_y);
 }
 
 void ImpedancePanel::showAnalysis(const Analysis &a)
@@ -119,6 +120,8 @@ void ImpedancePanel::showAnalysis(const Analysis &a)
     for (int i = 0; i < 4; ++i)
         m_lines[i]->replace(points[i]);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
+    chart()->setTitle(tr("at DC: z_in %1  ·  z_out %2")
+                          .arg(engineering(a.exact.zIn, "Ω"), engineering(a.exact.zOut, "Ω")));
 }
 
 DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensitivity"), parent)
@@ -137,20 +140,20 @@ void DesensitivityPanel::showAnalysis(const Analysis &a)
         setRoundRange(m_y, std::min(lo, 0.0), hi, 20);
     m_line->replace(points);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
+    chart()->setTitle(tr("|1 + T| at DC: %1")
+                          .arg(a.desensitivityDb
+                                   ? QString::number(*a.desensitivityDb, 'f', 1) + " dB"
+                                   : QStringLiteral("—")));
 }
 
 StepPanel::StepPanel(QWidget *parent) : PlotPanel(tr("Step"), parent)
 {
     m_x = addValueAxis(tr("time (s)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("output per unit step"), Qt::AlignLeft);
-    m_line = addLine(tr("step response"), palette::kBlue, Qt::SolidLine, m_x, m_y);
+    m_line = addLine(tr("response"), palette::kBlue, Qt::SolidLine, m_x, m_y);
     m_final = addLine(tr("final value"), palette::kBlack, Qt::DotLine, m_x, m_y);
-    m_settling = addLine(tr("settling"), palette::kGreen, Qt::DashLine, m_x, m_y);
-    m_peak = addMarker(tr("overshoot"), palette::kVermillion, m_x, m_y);
-    m_x->setTickType(QValueAxis::TicksFixed);
-    m_y->setTickType(QValueAxis::TicksFixed);
-    m_x->setTickCount(6);
-    m_y->setTickCount(6);
+    m_settling = addLine(tr("settled (1 %)"), palette::kGreen, Qt::DashLine, m_x, m_y);
+    m_peak = addMarker(tr("peak"), palette::kVermillion, m_x, m_y);
 }
 
 void StepPanel::showAnalysis(const Analysis &a)
@@ -174,10 +177,10 @@ void StepPanel::showAnalysis(const Analysis &a)
     lo = std::min(lo, 0.0);
     hi = std::max(hi, 0.0);
     const double pad = 0.05 * (hi - lo);
-    m_y->setRange(lo - pad, hi + pad);
-    m_x->setRange(0, tMax * tp.factor);
+    setNiceRange(m_y, lo - pad, hi + pad, 5);
+    setNiceRange(m_x, 0, tMax * tp.factor, 5);
     m_x->setTitleText(tr("time (%1s)").arg(tp.prefix));
-    m_y->setTitleText(tr("output per unit step (%1%2)").arg(yp.prefix, toQString(a.gainUnit)));
+    m_y->setTitleText(tr("output (%1%2)").arg(yp.prefix, toQString(a.gainUnit)));
     m_line->replace(points);
 
     QList<QPointF> finalLine;
@@ -191,8 +194,6 @@ void StepPanel::showAnalysis(const Analysis &a)
         settling = {QPointF(*s.settlingTimeS * tp.factor, lo - pad),
                     QPointF(*s.settlingTimeS * tp.factor, hi + pad)};
     m_settling->replace(settling);
-    rename(m_settling, tr("settling to 1 %: %1").arg(engineering(s.settlingTimeS, "s")));
-
     // The overshoot marker sits on the sample farthest beyond the final value.
     QList<QPointF> peak;
     if (s.overshootPct && *s.overshootPct > 0 && !points.isEmpty()) {
@@ -205,20 +206,17 @@ void StepPanel::showAnalysis(const Analysis &a)
         peak.append(best);
     }
     m_peak->replace(peak);
-    rename(m_peak,
-           tr("overshoot %1")
-               .arg(s.overshootPct ? toQString(formatEngineering(*s.overshootPct, 3)) + " %"
-                                   : QStringLiteral("—")));
+    chart()->setTitle(tr("overshoot %1  ·  settling (1 %) %2  ·  rise %3")
+                          .arg(s.overshootPct
+                                   ? QString::number(*s.overshootPct, 'f', 1) + QStringLiteral(" %")
+                                   : QStringLiteral("—"),
+                               engineering(s.settlingTimeS, "s"), engineering(s.riseTimeS, "s")));
 }
 
 PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
 {
     m_x = addValueAxis(tr("σ = Re s (rad/s)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("ω = Im s (rad/s)"), Qt::AlignLeft);
-    m_x->setTickType(QValueAxis::TicksFixed);
-    m_y->setTickType(QValueAxis::TicksFixed);
-    m_x->setTickCount(5);
-    m_y->setTickCount(5);
     m_axis = addLine(tr("jω axis"), QColor(0x99, 0x99, 0x99), Qt::DotLine, m_x, m_y, false);
     m_poles = addMarker(tr("closed-loop poles"), palette::kVermillion, m_x, m_y, 10);
     m_poles->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
@@ -241,13 +239,23 @@ void PolesPanel::showAnalysis(const Analysis &a)
             points.append(QPointF(p.s.real() * sp.factor, p.s.imag() * sp.factor));
     }
     const double r = span > 0 ? span * sp.factor * 1.1 : 1.0;
-    m_x->setRange(-r, r * 0.25);
-    m_y->setRange(-r, r);
+    setNiceRange(m_x, -r, r * 0.2, 4);
+    setNiceRange(m_y, -r, r, 4);
     m_axis->replace({QPointF(0, -r), QPointF(0, r)});
     m_poles->replace(points);
     m_x->setTitleText(tr("σ = Re s (%1rad/s)").arg(sp.prefix));
     m_y->setTitleText(tr("ω = Im s (%1rad/s)").arg(sp.prefix));
     rename(m_poles, tr("closed-loop poles (%1)").arg(points.size()));
+    // The dominant pole (lowest natural frequency) is what a designer reads first.
+    const ClosedLoopPole *dominant = nullptr;
+    for (const ClosedLoopPole &p : a.poles) {
+        if (!dominant || p.naturalHz < dominant->naturalHz)
+            dominant = &p;
+    }
+    chart()->setTitle(dominant ? tr("lowest: f₀ %1, ζ %2")
+                                     .arg(engineering(dominant->naturalHz, "Hz"))
+                                     .arg(dominant->damping, 0, 'f', 2)
+                               : tr("no finite poles"));
 }
 
 } // namespace loopsketch::ui

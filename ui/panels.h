@@ -19,8 +19,8 @@ public:
 
     static inline const QString kA = QStringLiteral("A");
     static inline const QString kT = QStringLiteral("T (return ratio)");
-    static inline const QString kTwoPort = QStringLiteral("closed loop, two-port");
-    static inline const QString kExact = QStringLiteral("closed loop, exact");
+    static inline const QString kTwoPort = QStringLiteral("gain, two-port");
+    static inline const QString kExact = QStringLiteral("gain, exact");
     static inline const QString kPhase = QStringLiteral("phase ");
 
 private:

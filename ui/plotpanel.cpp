@@ -21,8 +21,8 @@ PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
     auto *c = new QChart;
     c->setTitle(title);
     QFont titleFont = c->titleFont();
-    titleFont.setPointSizeF(10);
-    titleFont.setBold(true);
+    titleFont.setPointSizeF(8.5);
+    titleFont.setBold(false);
     c->setTitleFont(titleFont);
     c->setBackgroundRoundness(0);
     c->setMargins(QMargins(6, 4, 6, 4));
@@ -118,13 +118,77 @@ void PlotPanel::setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::s
         lo -= 0.5;
         hi += 0.5;
     }
+    DecadeAxis &state = m_decadeAxes[axis];
+    state.lo = lo;
+    state.hi = hi;
+    state.unit = std::string(unit);
+    applyDecades(axis, state);
+}
+
+void PlotPanel::applyDecades(QCategoryAxis *axis, DecadeAxis &state)
+{
+    const QRectF plot = chart()->plotArea();
+    const bool vertical = axis->orientation() == Qt::Vertical;
+    const double pixels = vertical ? plot.height() : plot.width();
+    const double span = state.hi - state.lo;
+    // Room for a label such as "100k" (horizontal) or one text line (vertical).
+    const double room = vertical ? 22.0 : 40.0;
+    int step = 1;
+    if (pixels > 0) {
+        while (step < 6 && pixels * step / span < room)
+            ++step;
+    }
+    if (step == state.step && state.lo == state.drawnLo && state.hi == state.drawnHi
+        && state.unit == state.drawnUnit)
+        return;
+    // Rebuilding the categories relayouts the chart, so it happens only when they change.
     const QStringList old = axis->categoriesLabels();
     for (const QString &label : old)
         axis->remove(label);
-    axis->setStartValue(lo);
-    for (int k = int(std::ceil(lo - 1e-9)); k <= int(std::floor(hi + 1e-9)); ++k)
-        axis->append(toQString(formatEngineering(std::pow(10.0, k), 3, unit)), k);
-    axis->setRange(lo, hi);
+    axis->setStartValue(state.lo);
+    const int first = int(std::ceil(state.lo - 1e-9));
+    for (int k = first; k <= int(std::floor(state.hi + 1e-9)); ++k) {
+        if ((k - first) % step == 0 || step == 1)
+            axis->append(toQString(formatEngineering(std::pow(10.0, k), 3, state.unit)), k);
+    }
+    axis->setRange(state.lo, state.hi);
+    state.step = step;
+    state.drawnLo = state.lo;
+    state.drawnHi = state.hi;
+    state.drawnUnit = state.unit;
+}
+
+void PlotPanel::resizeEvent(QResizeEvent *event)
+{
+    QChartView::resizeEvent(event);
+    for (auto &[axis, state] : m_decadeAxes)
+        applyDecades(axis, state);
+}
+
+void PlotPanel::setNiceRange(QValueAxis *axis, double lo, double hi, int ticks)
+{
+    if (!(hi > lo)) {
+        lo -= 1;
+        hi += 1;
+    }
+    const double raw = (hi - lo) / std::max(1, ticks);
+    const double decade = std::pow(10.0, std::floor(std::log10(raw)));
+    double step = decade;
+    for (double m : {1.0, 2.0, 5.0, 10.0}) {
+        step = m * decade;
+        if (step >= raw)
+            break;
+    }
+    axis->setTickType(QValueAxis::TicksDynamic);
+    axis->setTickAnchor(0);
+    axis->setTickInterval(step);
+    axis->setRange(std::floor(lo / step) * step, std::ceil(hi / step) * step);
+}
+
+void PlotPanel::hideFromLegend(QXYSeries *s)
+{
+    for (QLegendMarker *m : chart()->legend()->markers(s))
+        m->setVisible(false);
 }
 
 void PlotPanel::setRoundRange(QValueAxis *axis, double lo, double hi, double step)

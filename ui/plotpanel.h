@@ -11,6 +11,7 @@
 #include <QPointF>
 
 #include <map>
+#include <string>
 
 class QAbstractAxis;
 class QCategoryAxis;
@@ -53,14 +54,32 @@ protected:
     QValueAxis *addValueAxis(const QString &title, Qt::Alignment alignment, bool grid = true);
     /// x = log10(f / Hz); decade labels drawn by us (QLogValueAxis prints 1e+06).
     QCategoryAxis *addLogAxis(const QString &title, Qt::Alignment alignment);
-    /// Sets a decade axis to cover [lo, hi] (log10 units) with a label at every decade.
-    static void setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit);
+    /// Sets a decade axis to cover [lo, hi] (log10 units) with a label at every decade, or
+    /// at every second or third one when the plot is too small to hold them all.
+    void setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit);
     /// Sets a value axis to a range with round ticks, `step` apart.
     static void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Sets a value axis to [lo, hi] with about `ticks` ticks at 1, 2 or 5 times a power of 10.
+    static void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
+    /// Hides a series' legend entry.
+    void hideFromLegend(QXYSeries *series);
+    void resizeEvent(QResizeEvent *event) override;
     /// Sets a series' name, keeping the lookup table in step.
     void rename(QXYSeries *series, const QString &name);
 
     std::map<QString, QXYSeries *> m_series;
+
+private:
+    struct DecadeAxis
+    {
+        double lo = 0, hi = 0;
+        std::string unit;
+        int step = 0; ///< decades between labels as last drawn; 0 = never drawn
+        double drawnLo = 0, drawnHi = 0;
+        std::string drawnUnit;
+    };
+    void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
+    std::map<QCategoryAxis *, DecadeAxis> m_decadeAxes;
 };
 
 /// Minimum and maximum y of point lists; false when all are empty.

@@ -18,17 +18,20 @@ enum Verdict { kNoVerdict = 0, kPass = 1, kFail = -1 };
 
 QString dB(const OptionalNumber &v)
 {
-    if (!v)
+    if (!v || !std::isfinite(*v))
         return QStringLiteral("—");
-    return toQString(formatEngineering(*v, 3)) + QStringLiteral(" dB");
+    const double shown = std::abs(*v) < 0.05 ? 0.0 : *v;
+    return QString::number(shown, 'f', std::abs(shown) >= 100 ? 0 : 1) + QStringLiteral(" dB");
 }
 
 QString signedPct(const OptionalNumber &v)
 {
-    if (!v)
+    if (!v || !std::isfinite(*v))
         return QStringLiteral("—");
-    return (*v >= 0 ? QStringLiteral("+") : QString()) + toQString(formatEngineering(*v, 2))
-        + QStringLiteral(" %");
+    if (std::abs(*v) < 0.01)
+        return QStringLiteral("< 0.01 %");
+    return (*v >= 0 ? QStringLiteral("+") : QString())
+        + QString::number(*v, 'f', std::abs(*v) < 10 ? 2 : 1) + QStringLiteral(" %");
 }
 
 } // namespace
