@@ -97,7 +97,7 @@ struct LoopModel::TwoPortSystems
     ReducedSystem aFull;
     std::optional<ReducedSystem> aSeriesInput; // Z seen at the source-driven input
     std::optional<ReducedSystem> aSeriesOutput; // Z seen by the load, load removed
-    std::optional<ReducedSystem> sourceSide; // z-matrix of the source-side parts
+    TwoPortNetwork sourceSide; // h parameters from the source's terminals to its input
     int testP1 = -1, testP2 = -1, outP1 = -1, outP2 = -1, sampled = -1;
     double sampledSign = 1.0;
     bool voltageSource = true;
@@ -233,23 +233,15 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         sys->gParallel = src->has("r_parallel") ? 1.0 / src->number("r_parallel") : 0.0;
         sys->cParallel = src->number("c_parallel");
     }
-    if (!sourceParts.empty()) {
-        Netlist n;
-        const auto identity = [](const std::string &node) {
-            return node;
-        };
-        for (const Part &p : sourceParts)
-            addPassivePart(n, p, {}, identity);
+    {
+        // h parameters of what lies between the source's terminals (port 1) and the
+        // gain-block input it drives (port 2); with no parts there it is a plain wire.
         const auto [hot, cold] = inputPortNodes(design);
         const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
-        n.addCurrentSource("test:s", srcHot, "0", n.addInput());
-        n.addCurrentSource("test:q", t.sourceInput, "0", n.addInput());
-        n.addOutput({NetlistOutput::Kind::VoltageBetween, srcHot, "0"});
-        n.addOutput({NetlistOutput::Kind::VoltageBetween, t.sourceInput, "0"});
-        auto side = reduce(n);
+        auto side = TwoPortNetwork::build(sourceParts, srcHot, t.sourceInput, ParameterSet::H);
         if (!side) {
             m.m_twoPortProblem = "the parts between the source and the gain block have no "
-                                 "solution: "
+                                 "two-port form: "
                 + side.errorText();
             return m;
         }
@@ -273,6 +265,8 @@ Complex blackman(const ReducedSystem &r, Complex s, int portVoltage, int portInp
     thread_local Eigen::MatrixXcd h;
     r.evaluateInto(s, {portInput, loopio::kTest}, {portVoltage, loopio::kReturned}, h);
     zd = h(portVoltage, portInput);
+    if (zd == Complex(0.0))
+        return 0.0; // a port held by an ideal source stays at zero impedance
     const Complex tOc = -h(loopio::kReturned, loopio::kTest);
     const Complex tSc = -(h(loopio::kReturned, loopio::kTest)
                           - h(loopio::kReturned, portInput) * h(portVoltage, loopio::kTest) / zd);
@@ -332,34 +326,21 @@ LoopPoint LoopModel::at(Complex s) const
     const bool seriesMix = top.mixing == Connection::Series;
     const bool seriesSample = top.sampling == Connection::Series;
 
-    // The source as seen from the gain-block input it drives.
-    Complex vOc, zs, ys;
-    Complex zSS, zSP, zPS, zPP;
-    if (!x.sourceSide) {
-        if (x.voltageSource) {
-            vOc = 1.0;
-            zs = x.rSeries;
-            ys = 1.0 / zs;
-        } else {
-            ys = x.gParallel + s * x.cParallel;
-            zs = 1.0 / ys;
-            vOc = zs;
-        }
-    } else {
-        thread_local Eigen::MatrixXcd z;
-        x.sourceSide->evaluateInto(s, {}, z);
-        zSS = z(0, 0), zSP = z(0, 1), zPS = z(1, 0), zPP = z(1, 1);
-        if (x.voltageSource) {
-            vOc = zPS / (x.rSeries + zSS);
-            zs = zPP - zPS * zSP / (zSS + x.rSeries);
-        } else {
-            const Complex ysrc = x.gParallel + s * x.cParallel;
-            vOc = zPS / (1.0 + ysrc * zSS);
-            zs = zPP - zPS * zSP * ysrc / (1.0 + ysrc * zSS);
-        }
-        ys = 1.0 / zs;
-    }
-    const Complex kSrc = seriesMix ? vOc : vOc * ys; // Thevenin voltage or Norton current
+    // The source as seen from the gain-block input it drives, through the source-side
+    // two-port h: V_S = h11 I_S + h12 V_P, I_P = h21 I_S + h22 V_P (currents into it).
+    const TwoPortMatrix h = x.sourceSide.at(s);
+    const Complex h11 = h(0, 0), h12 = h(0, 1), h21 = h(1, 0), h22 = h(1, 1);
+    const Complex ySrc = x.gParallel + s * x.cParallel;
+    // Source equation  u11 I_S + u12 V_S = 1  (1 V behind r_series, or 1 A beside ySrc).
+    const Complex u11 = x.voltageSource ? Complex(x.rSeries) : Complex(1.0);
+    const Complex u12 = x.voltageSource ? Complex(1.0) : ySrc;
+    // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
+    const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
+    const Complex vOpen = -h21 / (c1 * h22 - c2 * h21); // V_P with the input open
+    const Complex iShort = -h21 / c1; // Norton current into the input
+    const Complex ys = h22 - h21 * c2 / c1; // admittance with the source zeroed
+    const Complex zs = 1.0 / ys;
+    const Complex kSrc = seriesMix ? vOpen : iShort;
 
     thread_local Eigen::MatrixXcd a;
     x.aFull.evaluateInto(s, {loopio::kSource, x.testP1, x.testP2},
@@ -381,7 +362,7 @@ LoopPoint LoopModel::at(Complex s) const
         const Complex ri = a(x.outP1, x.testP1);
         zNode = 1.0 / (desens / ri - ys);
     }
-    p.tpZIn = x.sourceSide ? zSS - zSP * zPS / (zPP + zNode) : zNode;
+    p.tpZIn = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
 
     const Complex yl = 1.0 / x.loadR + s * x.loadC;
     const Complex zl = 1.0 / yl;

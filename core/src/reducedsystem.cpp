@@ -200,17 +200,22 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::initializer_list<i
     // condition-estimate overhead, which dominate at k = 3..8.
     constexpr Index kStack = 12;
     thread_local std::vector<cd> heapA, heapY;
-    cd stackA[kStack * kStack], stackY[kStack];
+    // Raw storage: std::complex zero-initialises, which would cost more than the solve.
+    alignas(16) double rawA[2 * kStack * kStack], rawY[2 * kStack], rawInv[2 * kStack];
     Index pivot[kStack];
-    std::vector<Index> heapPivot;
-    cd *a = stackA, *y = stackY;
+    thread_local std::vector<cd> heapInv;
+    thread_local std::vector<Index> heapPivot;
+    cd *a = reinterpret_cast<cd *>(rawA), *y = reinterpret_cast<cd *>(rawY);
+    cd *invDiag = reinterpret_cast<cd *>(rawInv);
     Index *piv = pivot;
     if (k > kStack) {
         heapA.resize(static_cast<std::size_t>(k * k));
         heapY.resize(static_cast<std::size_t>(k));
+        heapInv.resize(static_cast<std::size_t>(k));
         heapPivot.resize(static_cast<std::size_t>(k));
         a = heapA.data();
         y = heapY.data();
+        invDiag = heapInv.data();
         piv = heapPivot.data();
     }
     const double *g = m_gr.data(), *c = m_cr.data(); // column-major
@@ -237,6 +242,7 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::initializer_list<i
             for (Index cc = 0; cc < k; ++cc)
                 std::swap(a[j * k + cc], a[best * k + cc]);
         const cd inv = 1.0 / a[j * k + j];
+        invDiag[j] = inv;
         for (Index r = j + 1; r < k; ++r) {
             const cd f = a[r * k + j] * inv;
             a[r * k + j] = f;
@@ -263,7 +269,7 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::initializer_list<i
             cd acc = y[r];
             for (Index cc = r + 1; cc < k; ++cc)
                 acc -= a[r * k + cc] * y[cc];
-            y[r] = acc / a[r * k + r];
+            y[r] = acc * invDiag[r];
         }
         bool finite = true;
         const auto row = [&](Index o) {

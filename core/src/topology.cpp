@@ -145,9 +145,17 @@ TopologyResult identifyTopology(const Design &d)
         return {std::nullopt, "the feedback network connects to both gain-block inputs"};
     t.port1Node = reachesN ? inN : inP;
     const std::string otherInput = reachesN ? inP : inN;
-    // Parts hanging from port 1 (the lower leg of a divider) belong to the network too.
+    // Parts hanging from port 1 (the lower leg of a divider) belong to the network too,
+    // but not those on the source's side of port 1 (R1 of an inverting stage driven by a
+    // voltage source): they are part of the source.
+    std::set<const Part *> sourceRegion;
+    if (srcHot != t.port1Node && srcHot != inP && srcHot != inN) {
+        std::set<std::string> regionSeen;
+        for (const Part *p : explore(d, {srcHot}, {t.port1Node, inP, inN, t.port2Node}, regionSeen))
+            sourceRegion.insert(p);
+    }
     for (const Part *p : explore(d, {t.port1Node}, {t.port2Node, srcHot, otherInput}, seen))
-        if (std::find(network.begin(), network.end(), p) == network.end())
+        if (!sourceRegion.count(p) && std::find(network.begin(), network.end(), p) == network.end())
             network.push_back(p);
     for (const Part *p : network) {
         for (const std::string &n : {p->node("a"), p->node("b")}) {
