@@ -179,6 +179,15 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         a.step = computeStep(model, a.poles, a.bandwidthHz, *a.exact.gain);
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = computeSensitivity(design, *a.exact.gain);
+    if (options.noise) {
+        NoiseOptions noiseOptions = options.noiseOptions;
+        if (!noiseOptions.closedLoopBandwidthHz)
+            noiseOptions.closedLoopBandwidthHz = a.bandwidthHz;
+        if (auto noise = analyzeNoise(design, noiseOptions))
+            a.noise = std::move(noise).value();
+        else
+            a.noiseProblem = noise.diagnostics().front().message;
+    }
     return a;
 }
 

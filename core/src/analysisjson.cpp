@@ -81,6 +81,63 @@ Json twoPortJson(const Analysis &a)
     return j;
 }
 
+const char *noiseKindName(NoiseSourceKind kind)
+{
+    switch (kind) {
+    case NoiseSourceKind::Resistor:
+        return "resistor";
+    case NoiseSourceKind::VoltageNoise:
+        return "voltage_noise";
+    case NoiseSourceKind::CurrentNoise:
+        return "current_noise";
+    }
+    return "";
+}
+
+// Output and input units from the gain unit "V/A": output "V", input "A".
+std::pair<std::string, std::string> noiseUnits(const std::string &gainUnit)
+{
+    const auto slash = gainUnit.find('/');
+    if (slash == std::string::npos)
+        return {"V", "V"};
+    return {gainUnit.substr(0, slash), gainUnit.substr(slash + 1)};
+}
+
+Json noiseJson(const Analysis &a)
+{
+    if (!a.noise || a.noise->frequenciesHz.empty())
+        return nullptr;
+    const NoiseAnalysis &n = *a.noise;
+    const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
+    Json j;
+    j["temperature_k"] = n.temperatureK;
+    j["output_unit"] = outUnit;
+    j["input_unit"] = inUnit;
+    j["band"] = {{"low_hz", number(n.bandLowHz)},
+                 {"high_hz", number(n.bandHighHz)},
+                 {"brick_wall", n.brickWall},
+                 {"method", n.bandMethod}};
+    j["output_rms"] = number(n.outputRms);
+    j["input_rms"] = number(n.inputRms);
+    j["at_hz"] = n.frequenciesHz.front();
+    j["output_density"] = number(n.outputDensity.front());
+    j["input_density"] = number(n.inputDensity.front());
+    j["noise_gain"] = number(n.noiseGain.front());
+    const double total = n.outputRms ? *n.outputRms * *n.outputRms : 0.0;
+    Json sources = Json::array();
+    for (const NoiseContribution &c : n.contributions) {
+        sources.push_back(
+            {{"name", c.name},
+             {"part", c.partId},
+             {"kind", noiseKindName(c.kind)},
+             {"output_density", number(std::sqrt(c.outputPsd.front()))},
+             {"rms", number(c.rms)},
+             {"share_pct", total > 0 ? number(100.0 * c.rms * c.rms / total) : Json(nullptr)}});
+    }
+    j["contributions"] = sources;
+    return j;
+}
+
 } // namespace
 
 std::string analysisToJson(const Analysis &a)
@@ -130,6 +187,9 @@ std::string analysisToJson(const Analysis &a)
     for (const auto &[id, v] : a.sensitivity)
         sens[id] = number(v);
     j["sensitivity"] = sens;
+    j["noise"] = noiseJson(a);
+    if (!a.noise && !a.noiseProblem.empty())
+        j["noise_problem"] = a.noiseProblem;
     return j.dump(2) + "\n";
 }
 
@@ -212,12 +272,19 @@ std::string sweepToCsv(const Analysis &a)
     os << "f_hz";
     for (const auto &[name, curve] : columns)
         os << ',' << name << "_db," << name << "_deg";
+    const bool noise = a.noise && a.noise->outputDensity.size() == a.frequenciesHz.size();
+    // densities in the output's and the source's unit per sqrt(Hz) (V or A)
+    if (noise)
+        os << ",output_noise_v_per_rthz,input_noise_per_rthz";
     os << '\n';
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
         os << csvNumber(a.frequenciesHz[i]);
         for (const auto &[name, curve] : columns)
             os << ',' << csvNumber(magnitudeDb((*curve)[i])) << ','
                << csvNumber(phaseDeg((*curve)[i]));
+        if (noise)
+            os << ',' << csvNumber(a.noise->outputDensity[i]) << ','
+               << csvNumber(a.noise->inputDensity[i]);
         os << '\n';
     }
     return os.str();

@@ -56,7 +56,13 @@ const std::array<PartSpec, 7> &specTable()
           // absent r_in: infinite input resistance
           {"r_in", ValueKind::Resistance, ValueRange::Positive, false, kInfinity},
           {"c_in", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0},
-          {"r_out", ValueKind::Resistance, ValueRange::NonNegative, false, 0.0}},
+          {"r_out", ValueKind::Resistance, ValueRange::NonNegative, false, 0.0},
+          // noise densities (absent: noiseless): en in V/sqrt(Hz) in series with in_p, in in
+          // A/sqrt(Hz) at each input; corners of the 1/f region (absent or 0: white only)
+          {"en", ValueKind::Plain, ValueRange::NonNegative, false, 0.0},
+          {"en_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0},
+          {"in", ValueKind::Plain, ValueRange::NonNegative, false, 0.0},
+          {"in_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0}},
          true,
          false},
         {PartType::Load,
@@ -193,6 +199,11 @@ const Part *Design::uniquePart(PartType type) const
         found = &p;
     }
     return found;
+}
+
+double Design::temperatureK() const
+{
+    return temperature ? temperature->si : kDefaultTemperatureK;
 }
 
 const Part *Design::signalSource() const

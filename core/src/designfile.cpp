@@ -437,6 +437,40 @@ public:
         }
     }
 
+    // A number of kelvin, or a text: "300 K", "300K", "25 °C", "25 C", or a bare number.
+    std::optional<Value> readTemperature(const Json &j)
+    {
+        if (j.is_number())
+            return Value{j.get<double>(), {}};
+        if (!j.is_string()) {
+            typeError("", "temperature", j, "a number of kelvin or a text such as \"300 K\"");
+            return std::nullopt;
+        }
+        const std::string text = j.get<std::string>();
+        std::string_view number = text;
+        double offset = 0.0;
+        const auto strip = [&](std::string_view suffix) {
+            if (number.size() < suffix.size() || !number.ends_with(suffix))
+                return false;
+            number.remove_suffix(suffix.size());
+            return true;
+        };
+        if (strip("°C") || strip("C"))
+            offset = 273.15;
+        else
+            strip("K");
+        while (!number.empty() && number.back() == ' ')
+            number.remove_suffix(1);
+        Result<double> v = parseValue(number, ValueKind::Plain, ValueRange::Any);
+        if (!v.ok() || number.empty()) {
+            error("", "temperature",
+                  inQuotes(text)
+                      + " is not a temperature (write kelvin as 300 or \"300 K\", or \"25 °C\")");
+            return std::nullopt;
+        }
+        return Value{*v + offset, text};
+    }
+
     void readSpecs(const Json &j, Specs &specs)
     {
         if (!j.is_object()) {
@@ -605,7 +639,7 @@ public:
         }
         checkKeys(root,
                   {"schema", "title", "notes", "parts", "input", "output", "sweep", "specs",
-                   "candidates", "sketch"},
+                   "candidates", "sketch", "temperature"},
                   "", "");
         if (auto it = root.find("schema"); it == root.end()) {
             error("", "schema",
@@ -661,6 +695,8 @@ public:
         }
         if (auto it = root.find("sweep"); it != root.end())
             readSweep(*it, d.sweep);
+        if (auto it = root.find("temperature"); it != root.end())
+            d.temperature = readTemperature(*it);
         if (auto it = root.find("specs"); it != root.end())
             readSpecs(*it, d.specs);
         if (auto it = root.find("candidates"); it != root.end())
@@ -823,6 +859,8 @@ std::string serializeDesign(const Design &d)
     s += ",\n  \"sweep\": {\"start\": " + jsonValue(d.sweep.start)
         + ", \"stop\": " + jsonValue(d.sweep.stop)
         + ", \"points_per_decade\": " + std::to_string(d.sweep.pointsPerDecade) + "}";
+    if (d.temperature)
+        s += ",\n  \"temperature\": " + jsonValue(*d.temperature);
 
     std::vector<std::string> specs;
     if (d.specs.gainMin || d.specs.gainMax) {

@@ -303,6 +303,15 @@ void checkSpecs(const Specs &s, Checker &c)
     }
 }
 
+void checkTemperature(const Design &d, Checker &c)
+{
+    if (!d.temperature)
+        return;
+    const double t = d.temperature->si;
+    if (!std::isfinite(t) || !(t > 0))
+        c.add("", "temperature", "temperature must be above absolute zero (0 K, -273.15 °C)");
+}
+
 void checkCandidates(const Design &d, Checker &c)
 {
     std::set<std::string> names;
@@ -375,6 +384,7 @@ Diagnostics validateDesign(const Design &design, std::string_view file)
     checkRoles(design, c);
     checkSweep(design.sweep, c);
     checkSpecs(design.specs, c);
+    checkTemperature(design, c);
     checkCandidates(design, c);
     checkSketch(design, c);
     return c.take();

@@ -8,6 +8,7 @@
 #include "loopsketch/design.h"
 #include "loopsketch/exactsolution.h"
 #include "loopsketch/loopmodel.h"
+#include "loopsketch/noise.h"
 #include "loopsketch/result.h"
 #include "loopsketch/topology.h"
 
@@ -95,12 +96,16 @@ struct Analysis
     OptionalNumber desensitivityDb; ///< 20 log10 |1 + T| at DC
     std::map<std::string, double> sensitivity; ///< part id -> %/% of the DC gain
     AnalysisCurves curves;
+    std::optional<NoiseAnalysis> noise; ///< absent when noiseProblem says why
+    std::string noiseProblem;
 };
 
 struct AnalysisOptions
 {
     SolverPath solver = SolverPath::Reduced;
     bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
+    bool noise = true; ///< the noise analysis (one transposed solve per frequency)
+    NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
 
 /// Runs every analysis of the design over its sweep. Fails with diagnostics when the

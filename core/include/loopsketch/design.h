@@ -17,6 +17,8 @@ namespace loopsketch {
 
 inline constexpr std::string_view kDesignSchema = "loopsketch.design/1";
 inline constexpr std::string_view kGroundNode = "0";
+/// Temperature of every resistor when the design gives none: 25 °C, in kelvin.
+inline constexpr double kDefaultTemperatureK = 298.15;
 
 enum class PartType { Resistor, Capacitor, Inductor, VSource, ISource, GainBlock, Load };
 
@@ -158,6 +160,12 @@ struct Design
     Specs specs;
     std::vector<Candidate> candidates;
     std::optional<SketchLayout> sketch;
+    /// Kelvin; written as a number of kelvin or a text such as "300 K" or "25 °C".
+    /// Absent: kDefaultTemperatureK.
+    std::optional<Value> temperature;
+
+    /// The resistors' temperature in kelvin (the default when the file gives none).
+    double temperatureK() const;
 
     const Part *findPart(std::string_view id) const;
     Part *findPart(std::string_view id);

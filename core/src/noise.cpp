@@ -1,0 +1,291 @@
+#include "loopsketch/noise.h"
+
+#include "loopsketch/circuit.h"
+#include "loopsketch/loopcircuit.h"
+
+#include <Eigen/LU>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <map>
+#include <numbers>
+
+namespace loopsketch {
+
+double thermalNoiseVoltage(double ohms, double kelvin)
+{
+    return std::sqrt(4.0 * kBoltzmann * kelvin * ohms);
+}
+
+double thermalNoiseCurrent(double ohms, double kelvin)
+{
+    return std::sqrt(4.0 * kBoltzmann * kelvin / ohms);
+}
+
+double flickerDensity(double white, double cornerHz, double hz)
+{
+    return white * std::sqrt(1.0 + cornerHz / hz);
+}
+
+double integratePsd(const std::vector<double> &hz, const std::vector<double> &psd, double low,
+                    double high)
+{
+    if (hz.size() < 2 || psd.size() != hz.size())
+        return 0.0;
+    low = std::max(low, hz.front());
+    high = std::min(high, hz.back());
+    if (!(high > low))
+        return 0.0;
+    double sum = 0.0;
+    for (std::size_t i = 0; i + 1 < hz.size(); ++i) {
+        const double f1 = hz[i], f2 = hz[i + 1];
+        const double a = std::max(f1, low), b = std::min(f2, high);
+        if (!(b > a))
+            continue;
+        const double span = std::log(f2 / f1);
+        const auto at = [&](double f) {
+            const double t = span > 0 ? std::log(f / f1) / span : 0.0;
+            return (psd[i] + t * (psd[i + 1] - psd[i])) * f;
+        };
+        sum += 0.5 * (at(a) + at(b)) * std::log(b / a);
+    }
+    return sum;
+}
+
+namespace {
+
+std::string partIdOf(const std::string &elementName)
+{
+    return elementName.substr(0, elementName.find(':'));
+}
+
+struct Source
+{
+    NoiseContribution contribution;
+    int plus = -1; ///< unknown whose adjoint entry is added (-1: ground)
+    int minus = -1; ///< unknown whose adjoint entry is subtracted
+    double whiteDensity = 0; ///< A/sqrt(Hz) for currents, V/sqrt(Hz) for en
+    double cornerHz = 0;
+};
+
+// First frequency where |H| falls below |H(f0)| / sqrt(2), interpolated in log f.
+std::optional<double> bandwidthFromGain(const std::vector<double> &f,
+                                        const std::vector<std::complex<double>> &h)
+{
+    if (h.empty() || !(std::abs(h.front()) > 0))
+        return std::nullopt;
+    const double level = std::abs(h.front()) / std::numbers::sqrt2;
+    for (std::size_t i = 1; i < h.size(); ++i) {
+        const double m0 = std::abs(h[i - 1]), m1 = std::abs(h[i]);
+        if (m1 < level && m0 >= level) {
+            const double t = (std::log(m0) - std::log(level)) / (std::log(m0) - std::log(m1));
+            return std::exp(std::log(f[i - 1]) + t * std::log(f[i] / f[i - 1]));
+        }
+    }
+    return std::nullopt;
+}
+
+} // namespace
+
+Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &options)
+{
+    const Part *gb = design.uniquePart(PartType::GainBlock);
+    if (!gb || !design.signalSource() || !design.uniquePart(PartType::Load))
+        return Diagnostic{{}, {}, {}, "noise needs one gain block, one signal source and one load"};
+
+    Netlist netlist = buildLoopNetlist(design);
+    // en in series with in_p: the pin stays on the design's node, the block's input
+    // resistance, capacitance and controlled source move behind the zero-valued source.
+    const std::string pinP = gb->node("in_p");
+    const std::string pinN = gb->node("in_n");
+    const std::string behind = gb->id + ":en+";
+    const std::string enName = gb->id + ":en";
+    for (ControlledSourceElement &cs : netlist.controlled) {
+        if (cs.inP == pinP)
+            cs.inP = behind;
+    }
+    for (NetlistElement &e : netlist.elements) {
+        if ((e.name == gb->id + ":r_in" || e.name == gb->id + ":c_in") && e.a == pinP)
+            e.a = behind;
+    }
+    netlist.addVoltageSource(enName, behind, pinP, -1);
+
+    auto assembled = assembleSystem(netlist);
+    if (!assembled)
+        return assembled.diagnostics();
+    const DescriptorSystem &sys = *assembled;
+
+    std::map<std::string, int> nodeIndex;
+    for (std::size_t i = 0; i < sys.nodes.size(); ++i)
+        nodeIndex[sys.nodes[i]] = static_cast<int>(i);
+    const auto indexOf = [&](const std::string &node) {
+        auto it = nodeIndex.find(node);
+        return it == nodeIndex.end() ? -1 : it->second;
+    };
+    int enRow = -1;
+    for (std::size_t i = 0; i < sys.unknowns.size(); ++i) {
+        if (sys.unknowns[i] == "i(" + enName + ")")
+            enRow = static_cast<int>(i);
+    }
+
+    NoiseAnalysis result;
+    result.temperatureK = design.temperatureK();
+    result.frequenciesHz = design.sweep.frequencies();
+    const double fourKT = 4.0 * kBoltzmann * result.temperatureK;
+
+    std::vector<Source> sources;
+    for (const NetlistElement &e : netlist.elements) {
+        if (e.kind != NetlistElement::Kind::Resistor)
+            continue;
+        Source s;
+        s.contribution.name = e.name;
+        s.contribution.partId = partIdOf(e.name);
+        s.contribution.kind = NoiseSourceKind::Resistor;
+        s.plus = indexOf(e.a);
+        s.minus = indexOf(e.b);
+        s.whiteDensity = std::sqrt(fourKT / e.value);
+        sources.push_back(std::move(s));
+    }
+    if (gb->number("en") > 0) {
+        Source s;
+        s.contribution = {enName, gb->id, NoiseSourceKind::VoltageNoise, {}, 0};
+        s.plus = enRow;
+        s.whiteDensity = gb->number("en");
+        s.cornerHz = gb->number("en_corner_hz");
+        sources.push_back(std::move(s));
+    }
+    if (gb->number("in") > 0) {
+        for (const auto &[terminal, pin] : {std::pair{"in_p", pinP}, std::pair{"in_n", pinN}}) {
+            Source s;
+            s.contribution
+                = {gb->id + ":in(" + terminal + ")", gb->id, NoiseSourceKind::CurrentNoise, {}, 0};
+            s.plus = indexOf(pin);
+            s.whiteDensity = gb->number("in");
+            s.cornerHz = gb->number("in_corner_hz");
+            sources.push_back(std::move(s));
+        }
+    }
+
+    const std::size_t count = result.frequenciesHz.size();
+    for (Source &s : sources)
+        s.contribution.outputPsd.reserve(count);
+    result.outputDensity.reserve(count);
+    result.inputDensity.reserve(count);
+    result.noiseGain.reserve(count);
+    result.gain.reserve(count);
+
+    const Eigen::VectorXcd row
+        = sys.L.row(loopio::kOutput).transpose().cast<std::complex<double>>();
+    const Eigen::VectorXcd sourceColumn = sys.B.col(loopio::kSource).cast<std::complex<double>>();
+    for (double f : result.frequenciesHz) {
+        const std::complex<double> s(0.0, 2.0 * std::numbers::pi * f);
+        const Eigen::MatrixXcd m = sys.G.cast<std::complex<double>>() + s * sys.C;
+        const Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m.transpose());
+        const Eigen::VectorXcd z = lu.solve(row);
+        if (!z.allFinite()) {
+            const std::string why = describeSingularity(sys, s);
+            return Diagnostic{{},
+                              {},
+                              {},
+                              "noise: the circuit has no solution at " + std::to_string(f) + " Hz"
+                                  + (why.empty() ? std::string() : " (" + why + ")")};
+        }
+        const auto entry = [&](int i) {
+            return i >= 0 ? z(i) : std::complex<double>(0.0);
+        };
+        const std::complex<double> gain = z.cwiseProduct(sourceColumn).sum();
+        double total = 0.0;
+        for (Source &src : sources) {
+            const double density = flickerDensity(src.whiteDensity, src.cornerHz, f);
+            const double psd = std::norm(density * (entry(src.plus) - entry(src.minus)));
+            src.contribution.outputPsd.push_back(psd);
+            total += psd;
+        }
+        result.gain.push_back(gain);
+        result.noiseGain.push_back(std::abs(entry(enRow)));
+        result.outputDensity.push_back(std::sqrt(total));
+        const double g = std::abs(gain);
+        result.inputDensity.push_back(g > 0 ? std::sqrt(total) / g
+                                            : std::numeric_limits<double>::quiet_NaN());
+    }
+
+    const std::vector<double> &hz = result.frequenciesHz;
+    if (hz.size() < 2)
+        return Diagnostic{{}, {}, "sweep", "noise: the sweep needs at least two frequencies"};
+    const double gain0 = std::abs(result.gain.front());
+    if (options.bandLowHz || options.bandHighHz) {
+        const double low = options.bandLowHz.value_or(hz.front());
+        const double high = options.bandHighHz.value_or(hz.back());
+        const double slack = 1e-9 * hz.back();
+        if (!(std::isfinite(low) && std::isfinite(high) && low < high)
+            || low < hz.front() * (1 - 1e-12) || high > hz.back() + slack) {
+            return Diagnostic{{},
+                              {},
+                              "noise band",
+                              "noise band must lie within the sweep and have its low end below "
+                              "its high end"};
+        }
+        result.bandLowHz = low;
+        result.bandHighHz = high;
+        result.brickWall = false;
+        result.bandMethod = "the given band, output and input-referred density integrated";
+    } else {
+        std::optional<double> bw = options.closedLoopBandwidthHz;
+        if (!bw)
+            bw = bandwidthFromGain(hz, result.gain);
+        result.bandLowHz = hz.front();
+        if (bw && *bw > 0) {
+            result.bandHighHz = std::min(std::numbers::pi / 2.0 * *bw, hz.back());
+            result.brickWall = true;
+            result.bandMethod
+                = "sweep start to pi/2 times the closed-loop -3 dB bandwidth (brick-wall "
+                  "equivalent of a single-pole roll-off): input-referred density integrated, "
+                  "output = that times the gain at the sweep start";
+            if (std::numbers::pi / 2.0 * *bw > hz.back())
+                result.bandMethod += "; cut at the sweep stop";
+        } else {
+            result.bandHighHz = hz.back();
+            result.brickWall = false;
+            result.bandMethod = "no closed-loop -3 dB frequency in the sweep: the whole sweep, "
+                                "output and input-referred density integrated";
+        }
+    }
+
+    const bool gainEverywhere = std::all_of(result.inputDensity.begin(), result.inputDensity.end(),
+                                            [](double v) { return std::isfinite(v); });
+    std::vector<double> inputPsd(hz.size());
+    if (gainEverywhere) {
+        for (std::size_t i = 0; i < hz.size(); ++i)
+            inputPsd[i] = result.inputDensity[i] * result.inputDensity[i];
+        result.inputRms
+            = std::sqrt(integratePsd(hz, inputPsd, result.bandLowHz, result.bandHighHz));
+    }
+    if (result.brickWall) {
+        if (gainEverywhere) {
+            result.outputRms = *result.inputRms * gain0;
+            for (Source &src : sources) {
+                std::vector<double> referred(hz.size());
+                for (std::size_t i = 0; i < hz.size(); ++i)
+                    referred[i] = src.contribution.outputPsd[i] / std::norm(result.gain[i]);
+                src.contribution.rms
+                    = std::sqrt(integratePsd(hz, referred, result.bandLowHz, result.bandHighHz))
+                    * gain0;
+            }
+        }
+    } else {
+        std::vector<double> outputPsd(hz.size());
+        for (std::size_t i = 0; i < hz.size(); ++i)
+            outputPsd[i] = result.outputDensity[i] * result.outputDensity[i];
+        result.outputRms
+            = std::sqrt(integratePsd(hz, outputPsd, result.bandLowHz, result.bandHighHz));
+        for (Source &src : sources)
+            src.contribution.rms = std::sqrt(
+                integratePsd(hz, src.contribution.outputPsd, result.bandLowHz, result.bandHighHz));
+    }
+    for (Source &src : sources)
+        result.contributions.push_back(std::move(src.contribution));
+    return result;
+}
+
+} // namespace loopsketch
