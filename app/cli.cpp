@@ -4,7 +4,13 @@
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
+#include "loopsketch/exactsolution.h"
+#include "loopsketch/spread.h"
+#include "loopsketch/suggest.h"
 
+#include <charconv>
+#include <cmath>
+#include <cstdint>
 #include <exception>
 #include <ostream>
 
@@ -23,6 +29,13 @@ std::string usage()
            "  loopsketch analyze FILE [--json] [--candidate NAME]\n"
            "                                           analyse a design and print the results\n"
            "  loopsketch sweep FILE --csv OUT          write the frequency sweep as CSV\n"
+           "  loopsketch spread FILE --trials N --seed S [--normal] [--gain-spread PCT]\n"
+           "                    [--gbw-spread PCT] [--json]\n"
+           "                                           worst case and Monte Carlo over the "
+           "tolerances\n"
+           "  loopsketch suggest FILE --parts RF,CF [--decades D] [--best N] [--json]\n"
+           "                                           E-series values that best meet the "
+           "specs\n"
            "  loopsketch --help | --version\n"
            "\n"
            "FILE may be \"demo\" for the embedded demo design.\n"
@@ -39,7 +52,46 @@ struct Options
     bool json = false;
     std::string candidate;
     std::string csvOut;
+    SpreadOptions spread;
+    SuggestOptions suggest;
 };
+
+std::optional<long long> parseInteger(const std::string &text)
+{
+    long long v = 0;
+    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), v);
+    if (ec != std::errc() || end != text.data() + text.size())
+        return std::nullopt;
+    return v;
+}
+
+std::optional<double> parseNumber(const std::string &text)
+{
+    try {
+        std::size_t used = 0;
+        const double v = std::stod(text, &used);
+        if (used != text.size() || !std::isfinite(v))
+            return std::nullopt;
+        return v;
+    } catch (const std::exception &) {
+        return std::nullopt;
+    }
+}
+
+std::vector<std::string> splitList(const std::string &text)
+{
+    std::vector<std::string> out;
+    std::size_t start = 0;
+    for (;;) {
+        const std::size_t comma = text.find(',', start);
+        out.push_back(text.substr(start, comma - start));
+        if (comma == std::string::npos)
+            break;
+        start = comma + 1;
+    }
+    std::erase_if(out, [](const std::string &s) { return s.empty(); });
+    return out;
+}
 
 Result<Design> loadForCli(const std::string &file)
 {
@@ -90,6 +142,25 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
             return reportDiagnostics(err, withCandidate.diagnostics());
         design = std::move(withCandidate).value();
     }
+    if (o.command == "spread") {
+        auto worst = worstCase(design, o.spread, o.file);
+        if (!worst)
+            return reportDiagnostics(err, worst.diagnostics());
+        auto mc = monteCarlo(design, o.spread, o.file);
+        if (!mc)
+            return reportDiagnostics(err, mc.diagnostics());
+        const std::string unit = gainUnit(design);
+        out << (o.json ? spreadToJson(*worst, *mc, unit) : spreadToText(*worst, *mc, unit));
+        return kExitOk;
+    }
+    if (o.command == "suggest") {
+        auto found = suggestValues(design, o.suggest, o.file);
+        if (!found)
+            return reportDiagnostics(err, found.diagnostics());
+        const std::string unit = gainUnit(design);
+        out << (o.json ? suggestToJson(*found, unit) : suggestToText(*found, unit));
+        return kExitOk;
+    }
     auto analysis = analyze(design, o.file);
     if (!analysis)
         return reportDiagnostics(err, analysis.diagnostics());
@@ -122,7 +193,7 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
         out << "loopsketch " << LOOPSKETCH_VERSION << "\n";
         return kExitOk;
     }
-    if (first != "analyze" && first != "sweep") {
+    if (first != "analyze" && first != "sweep" && first != "spread" && first != "suggest") {
         if (first.rfind("-", 0) == 0)
             return badInput(err, "unknown option \"" + first + "\"\n" + usage());
         if (args.size() == 1)
@@ -139,8 +210,47 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             (void)flag;
             return args[++i];
         };
-        if (a == "--json" && o.command == "analyze") {
+        const bool spread = o.command == "spread", suggest = o.command == "suggest";
+        if (a == "--json" && (o.command == "analyze" || spread || suggest)) {
             o.json = true;
+        } else if (a == "--trials" && spread) {
+            auto v = value("--trials");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 1 || *n > kMaxTrials)
+                return badInput(
+                    err, "--trials needs a whole number from 1 to " + std::to_string(kMaxTrials));
+            o.spread.trials = static_cast<int>(*n);
+        } else if (a == "--seed" && spread) {
+            auto v = value("--seed");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0)
+                return badInput(err, "--seed needs a whole number >= 0");
+            o.spread.seed = static_cast<std::uint64_t>(*n);
+        } else if (a == "--normal" && spread) {
+            o.spread.distribution = SpreadDistribution::Normal;
+        } else if ((a == "--gain-spread" || a == "--gbw-spread") && spread) {
+            auto v = value(a.c_str());
+            const auto pct = v ? parseNumber(*v) : std::nullopt;
+            if (!pct || !(*pct > 0 && *pct < 100))
+                return badInput(err, a + " needs a percentage between 0 and 100 (excluded)");
+            (a == "--gain-spread" ? o.spread.gainSpread : o.spread.gbwSpread) = *pct / 100.0;
+        } else if (a == "--parts" && suggest) {
+            auto v = value("--parts");
+            if (!v || splitList(*v).empty())
+                return badInput(err, "--parts needs part ids separated by commas, e.g. RF,CF");
+            o.suggest.parts = splitList(*v);
+        } else if (a == "--decades" && suggest) {
+            auto v = value("--decades");
+            const auto d = v ? parseNumber(*v) : std::nullopt;
+            if (!d || !(*d > 0 && *d <= 12))
+                return badInput(err, "--decades needs a number above 0 and at most 12");
+            o.suggest.decades = *d;
+        } else if (a == "--best" && suggest) {
+            auto v = value("--best");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 1 || *n > 1000)
+                return badInput(err, "--best needs a whole number from 1 to 1000");
+            o.suggest.best = static_cast<int>(*n);
         } else if (a == "--candidate" && o.command == "analyze") {
             auto v = value("--candidate");
             if (!v)
@@ -163,6 +273,8 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
         return badInput(err, o.command + " needs a design FILE");
     if (o.command == "sweep" && o.csvOut.empty())
         return badInput(err, "sweep needs --csv OUT");
+    if (o.command == "suggest" && o.suggest.parts.empty())
+        return badInput(err, "suggest needs --parts, e.g. --parts RF,CF");
     try {
         return run(o, out, err);
     } catch (const std::exception &e) {

@@ -1,0 +1,70 @@
+#pragma once
+
+// Lean evaluation of one design variant for the spread and suggest searches: only the two
+// reduced systems the three metrics need (exact gain, return ratio), sampled on a coarse
+// grid and refined by bisection. A full LoopModel also builds the impedance and two-port
+// systems, which would cost about as much again per trial.
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/design.h"
+#include "loopsketch/result.h"
+
+#include <atomic>
+#include <cstddef>
+#include <functional>
+#include <string_view>
+#include <vector>
+
+namespace loopsketch {
+
+/// The metrics of one trial. nullopt where a metric does not exist (no -3 dB point in the
+/// grid, no loop crossover).
+struct TrialMetrics
+{
+    OptionalNumber gain; ///< closed-loop DC gain of the exact solution, signed, gain unit
+    OptionalNumber bandwidthHz; ///< closed-loop -3 dB frequency, Hz
+    OptionalNumber phaseMarginDeg; ///< worst phase margin over all loop crossovers, degrees
+};
+
+/// Log-spaced grid over the design's sweep with `pointsPerDecade` (>= 1) points per decade,
+/// start and stop included (Hz).
+std::vector<double> coarseGrid(const Sweep &sweep, int pointsPerDecade);
+
+/// The three metrics of a valid design on `gridHz` (ascending, Hz). Fails when the circuit
+/// has no solution. Crossings are refined to 1e-10 relative in frequency.
+Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &gridHz);
+
+/// Only the closed-loop DC gain (the cheap first stage of a search).
+Result<double> evaluateDcGain(const Design &design);
+
+/// Progress report: trials done so far and the total. Called from worker threads, one call
+/// at a time.
+using ProgressCallback = std::function<void(std::size_t done, std::size_t total)>;
+
+/// Which of the design's specs a trial meets. A missing bandwidth (no -3 dB point inside the
+/// sweep) meets bandwidth_min when the sweep ends above it; a missing phase margin (no
+/// crossover) fails phase_margin_min_deg.
+struct SpecCheck
+{
+    bool gain = true, bandwidth = true, phaseMargin = true;
+    bool all() const { return gain && bandwidth && phaseMargin; }
+};
+SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &metrics);
+
+/// True when the design has at least one spec.
+bool hasSpecs(const Specs &specs);
+
+namespace detail {
+
+/// Runs job(index, worker) for index 0 .. count-1 on `threads` std::threads (0: all hardware
+/// threads). Stops early when `cancel` becomes true; returns the number of jobs run.
+std::size_t runParallel(std::size_t count, int threads,
+                        const std::function<void(std::size_t index, int worker)> &job,
+                        const ProgressCallback &progress, const std::atomic<bool> *cancel);
+
+/// The worker count runParallel uses for `threads` and `count`.
+int workerCount(int threads, std::size_t count);
+
+} // namespace detail
+
+} // namespace loopsketch

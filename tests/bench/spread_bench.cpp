@@ -1,0 +1,61 @@
+// Spread and suggest speed targets (issue 5): 10,000 Monte Carlo trials with gain,
+// bandwidth and phase margin on the demo design under 1 s on the 2-core machine; a suggest
+// search over two parts in E96 across two decades under 2 s.
+
+#include "loopsketch/designfile.h"
+#include "loopsketch/spread.h"
+#include "loopsketch/suggest.h"
+
+#include <benchmark/benchmark.h>
+
+#include <string>
+
+namespace {
+
+loopsketch::Design demo()
+{
+    auto d = loopsketch::loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
+    if (!d)
+        throw std::runtime_error(d.errorText());
+    return *d;
+}
+
+void monteCarloDemo(benchmark::State &state)
+{
+    const loopsketch::Design design = demo();
+    loopsketch::SpreadOptions o;
+    o.trials = 10000;
+    o.seed = 7;
+    o.gainSpread = 0.5;
+    o.threads = static_cast<int>(state.range(0));
+    for (auto _ : state) {
+        auto r = loopsketch::monteCarlo(design, o);
+        if (!r)
+            state.SkipWithError(r.errorText().c_str());
+        benchmark::DoNotOptimize(r);
+    }
+}
+BENCHMARK(monteCarloDemo)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+void suggestDemoE96TwoDecades(benchmark::State &state)
+{
+    loopsketch::Design design = demo();
+    for (const char *id : {"RF", "CF"})
+        design.findPart(id)->series = loopsketch::ESeries::E96;
+    loopsketch::SuggestOptions o;
+    o.parts = {"RF", "CF"};
+    o.ranges = {{"RF", {1e5, 1e7}}, {"CF", {1e-13, 1e-11}}};
+    for (auto _ : state) {
+        auto r = loopsketch::suggestValues(design, o);
+        if (!r)
+            state.SkipWithError(r.errorText().c_str());
+        else
+            state.counters["combinations"] = static_cast<double>(r->combinations);
+        benchmark::DoNotOptimize(r);
+    }
+}
+BENCHMARK(suggestDemoE96TwoDecades)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+} // namespace
+
+BENCHMARK_MAIN();

@@ -1,0 +1,236 @@
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/spread.h"
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <string>
+
+using namespace loopsketch;
+using ::testing::HasSubstr;
+
+namespace {
+
+// Invented test circuit: non-inverting stage, gain 1 + R2/R1, around a gain block of 1e9
+// (180 dB) with one pole at 1 Hz, so the loop gain error (about 3e-9) is far below every
+// tolerance checked here.
+std::string nonInverting(const std::string &r1Extra, const std::string &r2Extra,
+                         const std::string &specs = "")
+{
+    return R"({"schema": "loopsketch.design/1", "title": "x", "parts": [
+      {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+      {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out",
+       "gain": "180dB", "poles_hz": ["1"]},
+      {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "10k")"
+        + r2Extra + R"(},
+      {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "4.7k")"
+        + r1Extra + R"(},
+      {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1M"}],
+      "input": "VS", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20})"
+        + specs + "}";
+}
+
+Design parse(const std::string &text)
+{
+    auto d = parseDesign(text, "test.loopsketch");
+    EXPECT_TRUE(d.ok()) << d.errorText();
+    return d ? *d : Design{};
+}
+
+constexpr double kRatio = 10.0 / 4.7;
+
+} // namespace
+
+TEST(WorstCase, NonInvertingGainMatchesClosedForm)
+{
+    // Common practice (worst-case analysis of 1 + R2/R1): the maximum takes R2 high and R1
+    // low, the minimum the opposite.
+    const Design d = parse(nonInverting(R"(, "tolerance": "1%")", R"(, "tolerance": "5%")"));
+    auto r = worstCase(d, {});
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    EXPECT_TRUE(r->exhaustive);
+    EXPECT_EQ(r->corners, 4u);
+    const double hi = 1.0 + kRatio * 1.05 / 0.99, lo = 1.0 + kRatio * 0.95 / 1.01;
+    ASSERT_TRUE(r->gain.max && r->gain.min);
+    EXPECT_NEAR(*r->gain.max, hi, hi * 1e-7);
+    EXPECT_NEAR(*r->gain.min, lo, lo * 1e-7);
+    EXPECT_EQ(r->gain.maxCorner, (std::vector<int>{1, -1})); // R2 +, R1 -
+}
+
+TEST(WorstCase, SensitivityCornersBeyondTwelveQuantities)
+{
+    // 13 series resistors of 1k (5 %) as R2: past the vertex limit. 1 + R2/R1 is monotonic
+    // in every resistor, so the sensitivity corners hit the closed form (common practice).
+    std::string chain;
+    std::string text = nonInverting(R"(, "tolerance": "2%")", "");
+    const std::string r2
+        = R"({"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "10k"},)";
+    std::string parts;
+    for (int i = 0; i < 13; ++i) {
+        const std::string a = i == 0 ? "out" : "n" + std::to_string(i);
+        const std::string b = i == 12 ? "fb" : "n" + std::to_string(i + 1);
+        parts += R"({"id": "RS)" + std::to_string(i) + R"(", "type": "resistor", "a": ")" + a
+            + R"(", "b": ")" + b + R"(", "value": "1k", "tolerance": "5%"},)";
+    }
+    text.replace(text.find(r2.substr(0, 20)),
+                 text.find("{\"id\": \"R1\"") - text.find(r2.substr(0, 20)), parts);
+    const Design d = parse(text);
+    auto r = worstCase(d, {});
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    EXPECT_FALSE(r->exhaustive);
+    EXPECT_EQ(r->quantities.size(), 14u);
+    const double hi = 1.0 + 13e3 * 1.05 / (4.7e3 * 0.98), lo = 1.0 + 13e3 * 0.95 / (4.7e3 * 1.02);
+    ASSERT_TRUE(r->gain.max && r->gain.min);
+    EXPECT_NEAR(*r->gain.max, hi, hi * 1e-7);
+    EXPECT_NEAR(*r->gain.min, lo, lo * 1e-7);
+}
+
+TEST(MonteCarlo, UniformLinearCaseMatchesAnalyticMeanAndStd)
+{
+    // Only R2 varies, so G = 1 + kRatio f with f uniform on [0.95, 1.05]: mean 1 + kRatio,
+    // std kRatio * 0.05 / sqrt(3) (uniform variance (b - a)^2 / 12, common practice).
+    // Bounds: 5 standard errors; se(mean) = sigma / sqrt(N), se(std) = sigma
+    // sqrt((kurtosis - 1) / (4 N)) with kurtosis 1.8 for the uniform law (common practice).
+    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    SpreadOptions o;
+    o.trials = 10000;
+    o.seed = 11;
+    auto r = monteCarlo(d, o);
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    const double n = o.trials, sigma = kRatio * 0.05 / std::sqrt(3.0);
+    EXPECT_EQ(r->gain.count, 10000u);
+    EXPECT_NEAR(r->gain.mean, 1.0 + kRatio, 5 * sigma / std::sqrt(n));
+    EXPECT_NEAR(r->gain.std, sigma, 5 * sigma * std::sqrt(0.8 / (4 * n)));
+    EXPECT_GE(r->gain.min, 1.0 + kRatio * 0.95 - 1e-6);
+    EXPECT_LE(r->gain.max, 1.0 + kRatio * 1.05 + 1e-6);
+}
+
+TEST(MonteCarlo, NormalLinearCaseMatchesAnalyticMeanAndStd)
+{
+    // Tolerance = 3 sigma: std kRatio * 0.05 / 3; se(std) = sigma / sqrt(2 N) for the normal
+    // law (common practice). Bounds: 5 standard errors.
+    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    SpreadOptions o;
+    o.trials = 10000;
+    o.seed = 5;
+    o.distribution = SpreadDistribution::Normal;
+    auto r = monteCarlo(d, o);
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    const double n = o.trials, sigma = kRatio * 0.05 / 3.0;
+    EXPECT_NEAR(r->gain.mean, 1.0 + kRatio, 5 * sigma / std::sqrt(n));
+    EXPECT_NEAR(r->gain.std, sigma, 5 * sigma / std::sqrt(2 * n));
+}
+
+TEST(MonteCarlo, YieldAgainstGainWindow)
+{
+    // Window [1 + kRatio, +inf) catches half of a symmetric uniform spread; bound: 5 binomial
+    // standard errors sqrt(p (1 - p) / N) (common practice).
+    const Design d = parse(
+        nonInverting("", R"(, "tolerance": "5%")", R"(, "specs": {"gain": ["3.12766", "100"]})"));
+    SpreadOptions o;
+    o.trials = 10000;
+    auto r = monteCarlo(d, o);
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    EXPECT_TRUE(r->hasSpecs);
+    const double p = (1.0 + kRatio * 1.05 - 3.12766) / (kRatio * 0.1);
+    EXPECT_NEAR(r->yield, p, 5 * std::sqrt(p * (1 - p) / 10000.0));
+}
+
+TEST(MonteCarlo, SameSeedSameNumbersForAnyThreadCount)
+{
+    const Design d = parse(nonInverting(R"(, "tolerance": "1%")", R"(, "tolerance": "5%")"));
+    SpreadOptions o;
+    o.trials = 3000;
+    o.seed = 42;
+    o.gainSpread = 0.5;
+    o.threads = 1;
+    auto a = monteCarlo(d, o);
+    o.threads = 3;
+    auto b = monteCarlo(d, o);
+    o.seed = 43;
+    auto c = monteCarlo(d, o);
+    ASSERT_TRUE(a.ok() && b.ok() && c.ok());
+    EXPECT_NEAR(a->gain.mean, b->gain.mean, 1e-15 * std::abs(a->gain.mean));
+    EXPECT_NEAR(a->gain.std, b->gain.std, 1e-15 * a->gain.std);
+    EXPECT_NEAR(a->phaseMarginDeg.mean, b->phaseMarginDeg.mean, 1e-12);
+    EXPECT_EQ(a->gain.histogram, b->gain.histogram);
+    EXPECT_GT(std::abs(a->gain.mean - c->gain.mean), 1e-9); // another seed, other draws
+}
+
+TEST(MonteCarlo, TrialMetricsAgreeWithFullAnalysis)
+{
+    // The lean per-trial evaluation against analyze() on the demo design (same model).
+    auto d = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
+    ASSERT_TRUE(d.ok()) << d.errorText();
+    auto full = analyze(*d);
+    ASSERT_TRUE(full.ok());
+    auto lean = evaluateTrial(*d, coarseGrid(d->sweep, 10));
+    ASSERT_TRUE(lean.ok());
+    ASSERT_TRUE(lean->gain && lean->bandwidthHz && lean->phaseMarginDeg);
+    EXPECT_NEAR(*lean->gain, *full->exact.gain, 1e-9 * std::abs(*full->exact.gain));
+    EXPECT_NEAR(*lean->bandwidthHz, *full->bandwidthHz, 1e-6 * *full->bandwidthHz);
+    EXPECT_NEAR(*lean->phaseMarginDeg, *full->margins.phaseMarginDeg, 1e-6);
+}
+
+TEST(MonteCarlo, CancelAndProgress)
+{
+    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    SpreadOptions o;
+    o.trials = 500;
+    std::size_t last = 0, total = 0;
+    o.progress = [&](std::size_t done, std::size_t all) {
+        last = std::max(last, done);
+        total = all;
+    };
+    auto r = monteCarlo(d, o);
+    ASSERT_TRUE(r.ok());
+    EXPECT_EQ(last, 500u);
+    EXPECT_EQ(total, 500u);
+    EXPECT_FALSE(r->cancelled);
+    std::atomic<bool> cancel{true};
+    o.cancel = &cancel;
+    auto c = monteCarlo(d, o);
+    ASSERT_TRUE(c.ok());
+    EXPECT_TRUE(c->cancelled);
+    EXPECT_EQ(c->completed, 0u);
+}
+
+TEST(Spread, ClearErrors)
+{
+    const Design plain = parse(nonInverting("", ""));
+    auto none = monteCarlo(plain, {}, "plain.loopsketch");
+    ASSERT_FALSE(none.ok());
+    EXPECT_THAT(none.errorText(), HasSubstr("nothing to spread: no part has a tolerance"));
+    EXPECT_THAT(none.errorText(), HasSubstr("plain.loopsketch"));
+    EXPECT_FALSE(worstCase(plain, {}).ok());
+
+    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    SpreadOptions o;
+    o.trials = 0;
+    EXPECT_THAT(monteCarlo(d, o).errorText(), HasSubstr("trials must be between 1 and 1000000"));
+    o.trials = 2'000'000;
+    EXPECT_THAT(monteCarlo(d, o).errorText(), HasSubstr("trials must be between 1 and 1000000"));
+    o.trials = 10;
+    o.gbwSpread = 0.2;
+    auto gbw = monteCarlo(d, o);
+    ASSERT_FALSE(gbw.ok());
+    EXPECT_EQ(gbw.diagnostics().front().part, "U1");
+    EXPECT_THAT(gbw.errorText(), HasSubstr("gbw spread needs the gain block to give its gbw"));
+    o.gbwSpread.reset();
+    o.gainSpread = 1.5;
+    EXPECT_THAT(monteCarlo(d, o).errorText(), HasSubstr("between 0 % and 100 %"));
+}
+
+TEST(Spread, MetricStatsOfKnownValues)
+{
+    // Sample mean and (n - 1) standard deviation of 1, 2, 3, 4: 2.5 and sqrt(5/3) (arithmetic).
+    const auto s = metricStats({1, 2, std::nan(""), 3, 4}, 2);
+    EXPECT_EQ(s.count, 4u);
+    EXPECT_EQ(s.missing, 1u);
+    EXPECT_NEAR(s.mean, 2.5, 1e-15);
+    EXPECT_NEAR(s.std, std::sqrt(5.0 / 3.0), 1e-15);
+    EXPECT_EQ(s.histogram, (std::vector<std::size_t>{2, 2}));
+}

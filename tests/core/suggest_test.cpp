@@ -1,0 +1,140 @@
+#include "loopsketch/designfile.h"
+#include "loopsketch/suggest.h"
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <string>
+
+using namespace loopsketch;
+using ::testing::HasSubstr;
+
+namespace {
+
+// Invented test circuit: non-inverting stage 1 + R2/R1 around a 180 dB gain block with one
+// pole at 1 Hz (loop gain error about 3e-9), both resistors in E12, starting off target.
+std::string nonInverting(const std::string &specs)
+{
+    return R"({"schema": "loopsketch.design/1", "title": "x", "parts": [
+      {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+      {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out",
+       "gain": "180dB", "poles_hz": ["1"]},
+      {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "12k", "series": "E12"},
+      {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "3.9k", "series": "E12"},
+      {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1M"}],
+      "input": "VS", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20},
+      "specs": )"
+        + specs + "}";
+}
+
+Design parse(const std::string &text)
+{
+    auto d = parseDesign(text, "test.loopsketch");
+    EXPECT_TRUE(d.ok()) << d.errorText();
+    return d ? *d : Design{};
+}
+
+double valueOf(const Suggestion &s, const std::string &id)
+{
+    for (const auto &[part, v] : s.values)
+        if (part == id)
+            return v;
+    return std::nan("");
+}
+
+SuggestOptions twoResistors()
+{
+    SuggestOptions o;
+    o.parts = {"R2", "R1"};
+    o.ranges = {{"R1", {1e3, 10e3}}, {"R2", {1e3, 100e3}}};
+    return o;
+}
+
+} // namespace
+
+TEST(Suggest, FindsExactSeriesRatio)
+{
+    // 10 / 4.7: both values are in the IEC 60063 E12 table, so 1 + 10k/4.7k hits the
+    // window centre 1 + 10/4.7 = 3.12766 exactly (up to the loop gain error).
+    const Design d = parse(nonInverting(R"({"gain": ["3.11202", "3.14330"]})"));
+    auto r = suggestValues(d, twoResistors());
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    EXPECT_TRUE(r->targetsMet);
+    EXPECT_EQ(r->combinations, 13u * 25u); // E12: 1k..10k is 13 values, 1k..100k is 25
+    ASSERT_FALSE(r->suggestions.empty());
+    const Suggestion &best = r->suggestions.front();
+    EXPECT_NEAR(valueOf(best, "R2") / valueOf(best, "R1"), 10.0 / 4.7, 1e-9);
+    ASSERT_TRUE(best.gainErrorPct);
+    EXPECT_NEAR(*best.gainErrorPct, 0.0, 1e-4);
+    EXPECT_TRUE(best.meetsSpecs);
+}
+
+TEST(Suggest, BestPairWhenNoRatioIsExact)
+{
+    // Gain 3 needs R2/R1 = 2, which no E12 pair gives. From the IEC 60063 E12 table, the
+    // ratios four steps apart are 2.2, 2.25, 2.2, 2.167, 2.136, 2.074, 2.061 (6.8/3.3),
+    // 2.103, 2.128, 2.143, 2.206, 2.195 and three steps apart at most 1.833: the nearest is
+    // 6.8/3.3 = 2.0606 (derived by hand from the IEC 60063 table), a gain error of +2.02 %.
+    const Design d = parse(nonInverting(R"({"gain": ["2.9", "3.1"]})"));
+    auto r = suggestValues(d, twoResistors());
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    ASSERT_FALSE(r->suggestions.empty());
+    const Suggestion &best = r->suggestions.front();
+    EXPECT_NEAR(valueOf(best, "R2") / valueOf(best, "R1"), 6.8 / 3.3, 1e-9);
+    ASSERT_TRUE(best.gainErrorPct);
+    EXPECT_NEAR(*best.gainErrorPct, (1.0 + 6.8 / 3.3 - 3.0) / 3.0 * 100.0, 1e-4);
+}
+
+TEST(Suggest, UnreachableTargetsAreFlagged)
+{
+    const Design far = parse(nonInverting(R"({"gain": ["999", "1001"]})"));
+    auto r = suggestValues(far, twoResistors());
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    EXPECT_FALSE(r->targetsMet);
+    EXPECT_THAT(r->unmet, HasSubstr("no combination meets the gain window"));
+    ASSERT_FALSE(r->suggestions.empty()); // still the best attempts: 100k / 1k
+    EXPECT_NEAR(valueOf(r->suggestions.front(), "R2") / valueOf(r->suggestions.front(), "R1"),
+                100.0, 1e-9);
+
+    // A one-pole loop has about 90 degrees of phase margin: 120 is out of reach.
+    const Design margin
+        = parse(nonInverting(R"({"gain": ["2.9", "3.2"], "phase_margin_min_deg": 120})"));
+    auto m = suggestValues(margin, twoResistors());
+    ASSERT_TRUE(m.ok()) << m.errorText();
+    EXPECT_FALSE(m->targetsMet);
+    EXPECT_THAT(m->unmet,
+                HasSubstr("no combination within the gain window meets the minimum phase margin"));
+}
+
+TEST(Suggest, ClearErrors)
+{
+    const Design d = parse(nonInverting(R"({"gain": ["2.9", "3.1"]})"));
+    SuggestOptions o = twoResistors();
+    o.parts = {"R9"};
+    auto unknown = suggestValues(d, o, "t.loopsketch");
+    ASSERT_FALSE(unknown.ok());
+    EXPECT_THAT(unknown.errorText(), HasSubstr("t.loopsketch: part R9"));
+    EXPECT_THAT(unknown.errorText(), HasSubstr("no part named \"R9\""));
+
+    o.parts = {"U1"};
+    EXPECT_THAT(suggestValues(d, o).errorText(), HasSubstr("has no value to choose"));
+
+    o.parts = {"R1"};
+    o.ranges = {{"R1", {4.8e3, 5.5e3}}}; // E12 has 4.7k and 5.6k, nothing between
+    auto empty = suggestValues(d, o);
+    ASSERT_FALSE(empty.ok());
+    EXPECT_THAT(empty.errorText(), HasSubstr("empty range: no E12 value between"));
+
+    o.ranges.clear();
+    o.parts = {"RL"};
+    EXPECT_THAT(suggestValues(d, o).errorText(), HasSubstr("gives no series"));
+
+    o.parts = {};
+    EXPECT_THAT(suggestValues(d, o).errorText(), HasSubstr("at least one part"));
+
+    const Design noWindow = parse(nonInverting(R"({"bandwidth_min": "1k"})"));
+    EXPECT_THAT(suggestValues(noWindow, twoResistors()).errorText(),
+                HasSubstr("needs the specs' gain window"));
+}
