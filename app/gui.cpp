@@ -18,8 +18,8 @@ int runGui(int argc, char **argv)
     loopsketch::ui::MainWindow window;
     QString error;
     const QStringList args = QApplication::arguments().mid(1);
-    bool opened = false;
-    if (!args.isEmpty()) {
+    bool opened = window.offerRecovery();
+    if (!opened && !args.isEmpty()) {
         opened = window.openFile(args.front(), &error);
         if (!opened)
             QMessageBox::warning(&window, QObject::tr("Open design"), error);

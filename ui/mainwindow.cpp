@@ -39,13 +39,40 @@ const char *kStateKey = "window/state";
 const char *kGeometryKey = "window/geometry";
 const char *kRecentKey = "recentFiles";
 
-QString recoveryPath()
+} // namespace
+
+QString MainWindow::recoveryFile()
 {
     const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
     return dir.isEmpty() ? QString() : dir + QStringLiteral("/recovery.loopsketch");
 }
 
-} // namespace
+bool MainWindow::offerRecovery()
+{
+    const QString path = recoveryFile();
+    QFile file(path);
+    if (path.isEmpty() || !file.exists() || !file.open(QIODevice::ReadOnly))
+        return false;
+    const QByteArray text = file.readAll();
+    file.close();
+    const auto answer = QMessageBox::question(
+        this, tr("Restore unsaved work"),
+        tr("Loopsketch did not close normally last time. Restore the design that was being "
+           "edited?"),
+        QMessageBox::Yes | QMessageBox::No, QMessageBox::Yes);
+    if (answer != QMessageBox::Yes) {
+        QFile::remove(path);
+        return false;
+    }
+    QString error;
+    if (!openText(text.toStdString(), tr("recovered design"), &error)) {
+        QMessageBox::warning(this, tr("Restore unsaved work"), error);
+        return false;
+    }
+    m_document->undoStack()->resetClean();
+    updateTitle();
+    return true;
+}
 
 MainWindow::MainWindow(QWidget *parent)
     : QMainWindow(parent), m_document(new DesignDocument(this)), m_scene(new SketchScene(this)),
@@ -57,8 +84,8 @@ MainWindow::MainWindow(QWidget *parent)
     setCentralWidget(m_view);
     m_view->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
     m_view->setVerticalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
-    m_palette->setMinimumWidth(210);
-    m_inspector->setMinimumWidth(250);
+    m_palette->setMinimumWidth(200);
+    m_inspector->setMinimumWidth(220);
     setAcceptDrops(true);
     setDockOptions(AnimatedDocks | AllowNestedDocks | AllowTabbedDocks);
     createDocks();
@@ -106,7 +133,7 @@ MainWindow::MainWindow(QWidget *parent)
     m_defaultState = saveState();
     QSettings settings;
     restoreGeometry(settings.value(kGeometryKey).toByteArray());
-    restoreState(settings.value(kStateKey).toByteArray());
+    m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray());
     updateTitle();
 }
 
@@ -157,11 +184,6 @@ void MainWindow::createDocks()
         = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
     splitDockWidget(desDock, stepDock, Qt::Horizontal);
     splitDockWidget(stepDock, polesDock, Qt::Horizontal);
-    resizeDocks({partsDock, inspectorDock}, {260, 420}, Qt::Vertical);
-    resizeDocks({partsDock}, {270}, Qt::Horizontal);
-    resizeDocks({loopDock}, {620}, Qt::Horizontal);
-    resizeDocks({loopDock, impDock}, {460, 330}, Qt::Vertical);
-    resizeDocks({desDock}, {270}, Qt::Vertical);
 }
 
 void MainWindow::createActions()
@@ -404,10 +426,31 @@ void MainWindow::closeEvent(QCloseEvent *event)
     QSettings settings;
     settings.setValue(kGeometryKey, saveGeometry());
     settings.setValue(kStateKey, saveState());
-    const QString recovery = recoveryPath();
+    const QString recovery = recoveryFile();
     if (!recovery.isEmpty())
         QFile::remove(recovery);
     event->accept();
+}
+
+void MainWindow::showEvent(QShowEvent *event)
+{
+    QMainWindow::showEvent(event);
+    if (m_sizedDocks)
+        return;
+    m_sizedDocks = true;
+    // Dock sizes only take once the window has its size and its layout ran.
+    QTimer::singleShot(0, this, [this] {
+        auto dock = [this](const char *name) {
+            return findChild<QDockWidget *>(name);
+        };
+        resizeDocks({dock("PartsDock")}, {230}, Qt::Horizontal);
+        resizeDocks({dock("LoopGainDock")}, {width() * 2 / 5}, Qt::Horizontal);
+        resizeDocks({dock("LoopGainDock"), dock("ImpedanceDock")},
+                    {height() * 11 / 20, height() * 9 / 20}, Qt::Vertical);
+        resizeDocks({dock("DesensitivityDock")}, {height() * 3 / 10}, Qt::Vertical);
+        resizeDocks({dock("PartsDock"), dock("InspectorDock")}, {height() / 3, height() / 2},
+                    Qt::Vertical);
+    });
 }
 
 void MainWindow::dragEnterEvent(QDragEnterEvent *event)
@@ -428,7 +471,7 @@ void MainWindow::dropEvent(QDropEvent *event)
 
 void MainWindow::writeRecovery()
 {
-    const QString path = recoveryPath();
+    const QString path = recoveryFile();
     if (path.isEmpty() || !m_document->isModified())
         return;
     QDir().mkpath(QFileInfo(path).absolutePath());

@@ -53,9 +53,15 @@ public:
     /// question off.
     bool maybeSave();
     void setAskBeforeDiscarding(bool ask) { m_ask = ask; }
+    /// Where unsaved work is written every 30 s; removed when the window closes normally.
+    static QString recoveryFile();
+    /// When a recovery file from an earlier session exists, offers to restore it. True when
+    /// it was restored (the restored design counts as unsaved).
+    bool offerRecovery();
 
 protected:
     void closeEvent(QCloseEvent *event) override;
+    void showEvent(QShowEvent *event) override;
     void dragEnterEvent(QDragEnterEvent *event) override;
     void dropEvent(QDropEvent *event) override;
 
@@ -91,6 +97,7 @@ private:
     QString m_displayName;
     QByteArray m_defaultState;
     bool m_ask = true;
+    bool m_sizedDocks = false;
 };
 
 } // namespace loopsketch::ui

@@ -64,11 +64,11 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
         setRoundRange(m_mag, std::max(lo, hi - 300.0), std::max(hi, 0.0), 40);
     if (yRange({&phases[0], &phases[1], &phases[2], &phases[3]}, &lo, &hi))
         setRoundRange(m_phase, lo, hi, 90);
-    for (int i = 0; i < 4; ++i) {
-        m_magSeries[i]->replace(mags[i]);
-        m_phaseSeries[i]->replace(phases[i]);
-    }
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
+    for (int i = 0; i < 4; ++i) {
+        replaceThinned(m_magSeries[i], mags[i], frequencyLo(a), frequencyHi(a));
+        replaceThinned(m_phaseSeries[i], phases[i], frequencyLo(a), frequencyHi(a));
+    }
 
     QList<QPointF> crossover, phaseMargin, gainMargin;
     if (a.margins.crossoverHz && *a.margins.crossoverHz > 0) {
@@ -89,8 +89,8 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
     const QString gm = a.margins.gainMarginDb
         ? QString::number(*a.margins.gainMarginDb, 'f', 1) + QStringLiteral(" dB")
         : QStringLiteral("—");
-    chart()->setTitle(tr("crossover %1  ·  phase margin %2  ·  gain margin %3")
-                          .arg(engineering(a.margins.crossoverHz, "Hz"), pm, gm));
+    setTitle(tr("crossover %1  ·  phase margin %2  ·  gain margin %3")
+                 .arg(engineering(a.margins.crossoverHz, "Hz"), pm, gm));
     const QString unit = toQString(a.gainUnit);
     m_mag->setTitleText(unit == QStringLiteral("V/V") || unit == QStringLiteral("A/A")
                             ? tr("magnitude (dB)")
@@ -117,11 +117,11 @@ void ImpedancePanel::showAnalysis(const Analysis &a)
     double lo = 0, hi = 0;
     if (yRange({&points[0], &points[1], &points[2], &points[3]}, &lo, &hi))
         setDecadeRange(m_y, std::floor(lo), std::ceil(hi), "Ω");
-    for (int i = 0; i < 4; ++i)
-        m_lines[i]->replace(points[i]);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
-    chart()->setTitle(tr("at DC: z_in %1  ·  z_out %2")
-                          .arg(engineering(a.exact.zIn, "Ω"), engineering(a.exact.zOut, "Ω")));
+    for (int i = 0; i < 4; ++i)
+        replaceThinned(m_lines[i], points[i], frequencyLo(a), frequencyHi(a));
+    setTitle(tr("at DC: z_in %1  ·  z_out %2")
+                 .arg(engineering(a.exact.zIn, "Ω"), engineering(a.exact.zOut, "Ω")));
 }
 
 DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensitivity"), parent)
@@ -138,12 +138,11 @@ void DesensitivityPanel::showAnalysis(const Analysis &a)
     double lo = 0, hi = 0;
     if (yRange({&points}, &lo, &hi))
         setRoundRange(m_y, std::min(lo, 0.0), hi, 20);
-    m_line->replace(points);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
-    chart()->setTitle(tr("|1 + T| at DC: %1")
-                          .arg(a.desensitivityDb
-                                   ? QString::number(*a.desensitivityDb, 'f', 1) + " dB"
-                                   : QStringLiteral("—")));
+    replaceThinned(m_line, points, frequencyLo(a), frequencyHi(a));
+    setTitle(tr("|1 + T| at DC: %1")
+                 .arg(a.desensitivityDb ? QString::number(*a.desensitivityDb, 'f', 1) + " dB"
+                                        : QStringLiteral("—")));
 }
 
 StepPanel::StepPanel(QWidget *parent) : PlotPanel(tr("Step"), parent)
@@ -151,9 +150,10 @@ StepPanel::StepPanel(QWidget *parent) : PlotPanel(tr("Step"), parent)
     m_x = addValueAxis(tr("time (s)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("output per unit step"), Qt::AlignLeft);
     m_line = addLine(tr("response"), palette::kBlue, Qt::SolidLine, m_x, m_y);
-    m_final = addLine(tr("final value"), palette::kBlack, Qt::DotLine, m_x, m_y);
+    m_final = addLine(tr("final"), palette::kBlack, Qt::DotLine, m_x, m_y);
     m_settling = addLine(tr("settled (1 %)"), palette::kGreen, Qt::DashLine, m_x, m_y);
     m_peak = addMarker(tr("peak"), palette::kVermillion, m_x, m_y);
+    hideFromLegend(m_peak);
 }
 
 void StepPanel::showAnalysis(const Analysis &a)
@@ -181,7 +181,7 @@ void StepPanel::showAnalysis(const Analysis &a)
     setNiceRange(m_x, 0, tMax * tp.factor, 5);
     m_x->setTitleText(tr("time (%1s)").arg(tp.prefix));
     m_y->setTitleText(tr("output (%1%2)").arg(yp.prefix, toQString(a.gainUnit)));
-    m_line->replace(points);
+    replaceThinned(m_line, points, 0.0, tMax * tp.factor);
 
     QList<QPointF> finalLine;
     if (std::isfinite(s.finalValue))
@@ -196,7 +196,7 @@ void StepPanel::showAnalysis(const Analysis &a)
     m_settling->replace(settling);
     // The overshoot marker sits on the sample farthest beyond the final value.
     QList<QPointF> peak;
-    if (s.overshootPct && *s.overshootPct > 0 && !points.isEmpty()) {
+    if (s.overshootPct && *s.overshootPct >= 0.05 && !points.isEmpty()) {
         const double sign = s.finalValue >= 0 ? 1.0 : -1.0;
         QPointF best = points.front();
         for (const QPointF &p : points) {
@@ -206,11 +206,11 @@ void StepPanel::showAnalysis(const Analysis &a)
         peak.append(best);
     }
     m_peak->replace(peak);
-    chart()->setTitle(tr("overshoot %1  ·  settling (1 %) %2  ·  rise %3")
-                          .arg(s.overshootPct
-                                   ? QString::number(*s.overshootPct, 'f', 1) + QStringLiteral(" %")
-                                   : QStringLiteral("—"),
-                               engineering(s.settlingTimeS, "s"), engineering(s.riseTimeS, "s")));
+    setTitle(tr("overshoot %1  ·  settling (1 %) %2  ·  rise %3")
+                 .arg(s.overshootPct
+                          ? QString::number(*s.overshootPct, 'f', 1) + QStringLiteral(" %")
+                          : QStringLiteral("—"),
+                      engineering(s.settlingTimeS, "s"), engineering(s.riseTimeS, "s")));
 }
 
 PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
@@ -252,10 +252,10 @@ void PolesPanel::showAnalysis(const Analysis &a)
         if (!dominant || p.naturalHz < dominant->naturalHz)
             dominant = &p;
     }
-    chart()->setTitle(dominant ? tr("lowest: f₀ %1, ζ %2")
-                                     .arg(engineering(dominant->naturalHz, "Hz"))
-                                     .arg(dominant->damping, 0, 'f', 2)
-                               : tr("no finite poles"));
+    setTitle(dominant ? tr("lowest: f₀ %1, ζ %2")
+                            .arg(engineering(dominant->naturalHz, "Hz"))
+                            .arg(dominant->damping, 0, 'f', 2)
+                      : tr("no finite poles"));
 }
 
 } // namespace loopsketch::ui

@@ -34,6 +34,7 @@ PartsPalette::PartsPalette(QWidget *parent)
     m_kinds->setMaximumHeight(m_kinds->sizeHintForRow(0) * 8 + 6);
     layout->addWidget(m_kinds);
     layout->addWidget(new QLabel(tr("<b>In this design</b>"), this));
+    m_parts->setMaximumHeight(m_kinds->sizeHintForRow(0) * 9 + 6);
     layout->addWidget(m_parts, 1);
     connect(m_parts, &QListWidget::itemClicked, this, [this](QListWidgetItem *item) {
         emit partActivated(toStdString(item->data(Qt::UserRole).toString()));

@@ -33,7 +33,7 @@ PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
     c->legend()->setFont(legendFont);
     setChart(c);
     setRenderHint(QPainter::Antialiasing, true);
-    setMinimumSize(320, 220);
+    setMinimumSize(240, 190);
 }
 
 QXYSeries *PlotPanel::series(const QString &name) const
@@ -47,7 +47,10 @@ QLineSeries *PlotPanel::addLine(const QString &name, const QColor &colour, Qt::P
 {
     auto *s = new QLineSeries;
     s->setName(name);
-    QPen pen(colour, 1.8, style);
+    // Dashed wide pens go through Qt's slow dash stroker; a one-pixel cosmetic dashed pen
+    // is drawn by the raster engine's fast path and reads just as well for the phase.
+    QPen pen(colour, style == Qt::SolidLine ? 1.8 : 1.0, style);
+    pen.setCosmetic(style != Qt::SolidLine);
     pen.setCapStyle(Qt::FlatCap);
     s->setPen(pen);
     chart()->addSeries(s);
@@ -163,6 +166,8 @@ void PlotPanel::resizeEvent(QResizeEvent *event)
     QChartView::resizeEvent(event);
     for (auto &[axis, state] : m_decadeAxes)
         applyDecades(axis, state);
+    for (auto &[s, full] : m_fullCurves)
+        thin(s, full.points, full.xMin, full.xMax);
 }
 
 void PlotPanel::setNiceRange(QValueAxis *axis, double lo, double hi, int ticks)
@@ -179,10 +184,71 @@ void PlotPanel::setNiceRange(QValueAxis *axis, double lo, double hi, int ticks)
         if (step >= raw)
             break;
     }
-    axis->setTickType(QValueAxis::TicksDynamic);
-    axis->setTickAnchor(0);
-    axis->setTickInterval(step);
-    axis->setRange(std::floor(lo / step) * step, std::ceil(hi / step) * step);
+    applyRange(axis, std::floor(lo / step) * step, std::ceil(hi / step) * step, step);
+}
+
+void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
+{
+    // Every axis change relayouts the chart and recomputes its series; skip the no-ops.
+    if (axis->tickType() != QValueAxis::TicksDynamic)
+        axis->setTickType(QValueAxis::TicksDynamic);
+    if (axis->tickAnchor() != 0.0)
+        axis->setTickAnchor(0);
+    if (axis->tickInterval() != step)
+        axis->setTickInterval(step);
+    if (axis->min() != lo || axis->max() != hi)
+        axis->setRange(lo, hi);
+}
+
+void PlotPanel::setTitle(const QString &title)
+{
+    if (chart()->title() != title)
+        chart()->setTitle(title);
+}
+
+void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
+{
+    m_fullCurves[s] = {points, xMin, xMax};
+    thin(s, points, xMin, xMax);
+}
+
+QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const
+{
+    const auto it = m_fullCurves.find(s);
+    return it == m_fullCurves.end() ? s->points() : it->second.points;
+}
+
+void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
+{
+    // Columns two pixels wide; each keeps its lowest and highest point, in sweep order.
+    const double columns = chart()->plotArea().width() / 2.0;
+    if (!(columns > 0) || !(xMax > xMin) || points.size() < qsizetype(2 * columns)) {
+        s->replace(points);
+        return;
+    }
+    const double perColumn = (xMax - xMin) / columns;
+    QList<QPointF> kept;
+    kept.reserve(qsizetype(2 * columns) + 4);
+    const qsizetype n = points.size();
+    qsizetype i = 0;
+    while (i < n) {
+        const double column = std::floor((points[i].x() - xMin) / perColumn);
+        qsizetype j = i, lowest = i, highest = i;
+        while (j < n && std::floor((points[j].x() - xMin) / perColumn) == column) {
+            if (points[j].y() < points[lowest].y())
+                lowest = j;
+            if (points[j].y() > points[highest].y())
+                highest = j;
+            ++j;
+        }
+        kept.append(points[std::min(lowest, highest)]);
+        if (lowest != highest)
+            kept.append(points[std::max(lowest, highest)]);
+        i = j;
+    }
+    if (kept.back() != points.back())
+        kept.append(points.back());
+    s->replace(kept);
 }
 
 void PlotPanel::hideFromLegend(QXYSeries *s)
@@ -199,9 +265,7 @@ void PlotPanel::setRoundRange(QValueAxis *axis, double lo, double hi, double ste
         a -= step;
         b += step;
     }
-    axis->setTickAnchor(0);
-    axis->setTickInterval(step);
-    axis->setRange(a, b);
+    applyRange(axis, a, b, step);
 }
 
 void PlotPanel::rename(QXYSeries *s, const QString &name)

@@ -45,6 +45,8 @@ public:
 
     /// The series named `name` (its legend text), nullptr when there is none.
     QXYSeries *series(const QString &name) const;
+    /// The points handed to replaceThinned() before thinning for the screen.
+    QList<QPointF> fullPoints(QXYSeries *series) const;
 
 protected:
     QLineSeries *addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
@@ -61,6 +63,14 @@ protected:
     static void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
     /// Sets a value axis to [lo, hi] with about `ticks` ticks at 1, 2 or 5 times a power of 10.
     static void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
+    /// Replaces a frequency curve's points, thinned to the points that matter on screen: in
+    /// each pixel column the first, lowest, highest and last point survive, so peaks stay
+    /// exact. Every point kept is one of core's, unchanged.
+    void replaceThinned(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
+    /// Sets the axis only where it differs (each change relayouts the chart).
+    static void applyRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Sets the chart's title line when it differs.
+    void setTitle(const QString &title);
     /// Hides a series' legend entry.
     void hideFromLegend(QXYSeries *series);
     void resizeEvent(QResizeEvent *event) override;
@@ -79,6 +89,13 @@ private:
         std::string drawnUnit;
     };
     void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
+    void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
+    struct FullCurve
+    {
+        QList<QPointF> points;
+        double xMin = 0, xMax = 0;
+    };
+    std::map<QXYSeries *, FullCurve> m_fullCurves; ///< re-thinned when the panel resizes
     std::map<QCategoryAxis *, DecadeAxis> m_decadeAxes;
 };
 

@@ -56,8 +56,11 @@ void SketchView::fitDesign()
     setSceneRect(items.adjusted(-400, -400, 400, 400));
     resetTransform();
     fitInView(items, Qt::KeepAspectRatio);
-    if (transform().m11() > 1.4)
-        zoomBy(1.4 / transform().m11());
+    if (transform().m11() > 1.4) {
+        const double f = 1.4 / transform().m11();
+        scale(f, f);
+    }
+    m_autoFit = true;
 }
 
 void SketchView::wheelEvent(QWheelEvent *event)
@@ -65,6 +68,7 @@ void SketchView::wheelEvent(QWheelEvent *event)
     const QPoint delta = event->angleDelta();
     const int d = delta.y() != 0 ? delta.y() : delta.x();
     if (event->modifiers() & Qt::ControlModifier) {
+        m_autoFit = false;
         zoomBy(std::pow(1.0015, d));
         event->accept();
         return;
@@ -104,10 +108,12 @@ void SketchView::keyPressEvent(QKeyEvent *event)
         }
     }
     if (event->key() == Qt::Key_Plus || event->key() == Qt::Key_Equal) {
+        m_autoFit = false;
         zoomBy(1.2);
         return;
     }
     if (event->key() == Qt::Key_Minus) {
+        m_autoFit = false;
         zoomBy(1 / 1.2);
         return;
     }
@@ -118,6 +124,8 @@ void SketchView::resizeEvent(QResizeEvent *event)
 {
     QGraphicsView::resizeEvent(event);
     m_badge->move(8, 8);
+    if (m_autoFit)
+        fitDesign();
 }
 
 } // namespace loopsketch::ui

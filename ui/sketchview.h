@@ -39,6 +39,7 @@ protected:
 private:
     QLabel *m_badge;
     int m_wheelRemainder = 0;
+    bool m_autoFit = true; ///< refit on resize until the user zooms
 };
 
 } // namespace loopsketch::ui

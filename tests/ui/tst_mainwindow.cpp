@@ -104,12 +104,24 @@ protected:
         ASSERT_NE(t, nullptr);
         const QList<QPointF> want
             = curvePoints(expected.frequenciesHz, expected.curves.loopGain, CurvePart::MagnitudeDb);
-        const QList<QPointF> got = t->points();
-        ASSERT_EQ(got.size(), want.size());
-        ASSERT_GT(got.size(), 100);
-        for (qsizetype i = 0; i < got.size(); ++i) {
-            ASSERT_NEAR(got[i].x(), want[i].x(), 1e-12) << "point " << i;
-            ASSERT_NEAR(got[i].y(), want[i].y(), 1e-9) << "point " << i;
+        ASSERT_GT(want.size(), 100);
+        // Before thinning for the screen, the panel holds every point of core's curve.
+        const QList<QPointF> full = window->loopGainPanel()->fullPoints(t);
+        ASSERT_EQ(full.size(), want.size());
+        for (qsizetype i = 0; i < full.size(); ++i) {
+            ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
+            ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
+        }
+        // What is drawn is a subset of those points, each at its own frequency, unchanged.
+        const QList<QPointF> drawn = t->points();
+        ASSERT_GT(drawn.size(), 50);
+        qsizetype j = 0;
+        for (const QPointF &p : drawn) {
+            while (j < want.size() && want[j].x() < p.x() - 1e-12)
+                ++j;
+            ASSERT_LT(j, want.size());
+            ASSERT_NEAR(p.x(), want[j].x(), 1e-12);
+            ASSERT_NEAR(p.y(), want[j].y(), 1e-9);
         }
     }
 
