@@ -144,7 +144,7 @@ void MainWindow::createDocks()
     setCorner(Qt::TopLeftCorner, Qt::TopDockWidgetArea);
     setCorner(Qt::TopRightCorner, Qt::TopDockWidgetArea);
     setCorner(Qt::BottomLeftCorner, Qt::LeftDockWidgetArea);
-    setCorner(Qt::BottomRightCorner, Qt::RightDockWidgetArea);
+    setCorner(Qt::BottomRightCorner, Qt::BottomDockWidgetArea);
 
     auto makeDock = [this](const QString &title, const QString &name, QWidget *widget,
                            Qt::DockWidgetArea area) {
@@ -447,7 +447,9 @@ void MainWindow::showEvent(QShowEvent *event)
         resizeDocks({dock("LoopGainDock")}, {width() * 2 / 5}, Qt::Horizontal);
         resizeDocks({dock("LoopGainDock"), dock("ImpedanceDock")},
                     {height() * 11 / 20, height() * 9 / 20}, Qt::Vertical);
-        resizeDocks({dock("DesensitivityDock")}, {height() * 3 / 10}, Qt::Vertical);
+        resizeDocks({dock("DesensitivityDock")}, {height() / 4}, Qt::Vertical);
+        resizeDocks({dock("DesensitivityDock"), dock("StepDock"), dock("PolesDock")},
+                    {width() / 3, width() / 3, width() / 3}, Qt::Horizontal);
         resizeDocks({dock("PartsDock"), dock("InspectorDock")}, {height() / 3, height() / 2},
                     Qt::Vertical);
     });

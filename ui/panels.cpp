@@ -94,7 +94,7 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
     const QString unit = toQString(a.gainUnit);
     m_mag->setTitleText(unit == QStringLiteral("V/V") || unit == QStringLiteral("A/A")
                             ? tr("magnitude (dB)")
-                            : tr("magnitude (dB; A and gains re 1 %1)").arg(unit));
+                            : tr("magnitude (dB re 1 %1)").arg(unit));
 }
 
 ImpedancePanel::ImpedancePanel(QWidget *parent) : PlotPanel(tr("Impedance"), parent)

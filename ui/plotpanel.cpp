@@ -6,6 +6,7 @@
 
 #include <QCategoryAxis>
 #include <QChart>
+#include <QGraphicsSimpleTextItem>
 #include <QLegend>
 #include <QLegendMarker>
 #include <QLineSeries>
@@ -19,11 +20,15 @@ namespace loopsketch::ui {
 PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
 {
     auto *c = new QChart;
-    c->setTitle(title);
+    setObjectName(title);
+    c->setTitle(QStringLiteral(" "));
     QFont titleFont = c->titleFont();
     titleFont.setPointSizeF(8.5);
     titleFont.setBold(false);
     c->setTitleFont(titleFont);
+    m_summary = new QGraphicsSimpleTextItem(c);
+    m_summary->setFont(titleFont);
+    m_summary->setBrush(QColor(0x2b, 0x2f, 0x36));
     c->setBackgroundRoundness(0);
     c->setMargins(QMargins(6, 4, 6, 4));
     c->setAnimationOptions(QChart::NoAnimation);
@@ -164,6 +169,7 @@ void PlotPanel::applyDecades(QCategoryAxis *axis, DecadeAxis &state)
 void PlotPanel::resizeEvent(QResizeEvent *event)
 {
     QChartView::resizeEvent(event);
+    placeSummary();
     for (auto &[axis, state] : m_decadeAxes)
         applyDecades(axis, state);
     for (auto &[s, full] : m_fullCurves)
@@ -202,8 +208,24 @@ void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
 
 void PlotPanel::setTitle(const QString &title)
 {
-    if (chart()->title() != title)
-        chart()->setTitle(title);
+    // A chart title change relayouts the whole chart (about 1 ms a panel), so the title
+    // is a fixed blank line and the summary a plain text item drawn over it.
+    if (m_summary->text() == title)
+        return;
+    m_summary->setText(title);
+    placeSummary();
+}
+
+QString PlotPanel::summary() const
+{
+    return m_summary->text();
+}
+
+void PlotPanel::placeSummary()
+{
+    const double w = m_summary->boundingRect().width();
+    m_summary->setPos(std::max(4.0, (chart()->size().width() - w) / 2.0),
+                      chart()->margins().top() + 3.0);
 }
 
 void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)

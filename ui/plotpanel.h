@@ -14,6 +14,7 @@
 #include <string>
 
 class QAbstractAxis;
+class QGraphicsSimpleTextItem;
 class QCategoryAxis;
 class QLineSeries;
 class QScatterSeries;
@@ -69,7 +70,9 @@ protected:
     void replaceThinned(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
     /// Sets the axis only where it differs (each change relayouts the chart).
     static void applyRange(QValueAxis *axis, double lo, double hi, double step);
-    /// Sets the chart's title line when it differs.
+    /// The summary line above the plot (crossover, margins ...).
+    QString summary() const;
+    /// Sets the summary line above the plot.
     void setTitle(const QString &title);
     /// Hides a series' legend entry.
     void hideFromLegend(QXYSeries *series);
@@ -89,6 +92,8 @@ private:
         std::string drawnUnit;
     };
     void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
+    void placeSummary();
+    QGraphicsSimpleTextItem *m_summary = nullptr;
     void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
     struct FullCurve
     {

@@ -4,6 +4,8 @@
 #include "designdocument.h"
 #include "mainwindow.h"
 #include "partitem.h"
+#include "plotpanel.h"
+#include "readout.h"
 #include "sketchscene.h"
 #include "sketchview.h"
 
@@ -64,6 +66,29 @@ void BM_WheelStepToAllPanelsRepainted(benchmark::State &state)
     state.counters["update_ms"] = benchmark::Counter(updateMs, benchmark::Counter::kAvgIterations);
 }
 BENCHMARK(BM_WheelStepToAllPanelsRepainted)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+/// Where the frame goes: one synchronous repaint of a single widget of the window
+/// (0-4: the panels in window order, 5: the Sketch, 6: the Readout).
+void BM_RepaintOneWidget(benchmark::State &state)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    if (!window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"))) {
+        state.SkipWithError("demo design did not open");
+        return;
+    }
+    QApplication::processEvents();
+    const auto index = std::size_t(state.range(0));
+    QWidget *widget = index < window.panels().size()
+        ? static_cast<QWidget *>(window.panels()[index]->viewport())
+        : index == 5 ? static_cast<QWidget *>(window.sketchView()->viewport())
+                     : static_cast<QWidget *>(window.readout());
+    for (auto _ : state)
+        widget->repaint();
+}
+BENCHMARK(BM_RepaintOneWidget)->DenseRange(0, 6)->Unit(benchmark::kMillisecond)->UseRealTime();
 
 } // namespace
 
