@@ -242,8 +242,8 @@ QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const
 
 void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
 {
-    // Columns two pixels wide; each keeps its lowest and highest point, in sweep order.
-    const double columns = chart()->plotArea().width() / 2.0;
+    // Columns three pixels wide; each keeps its lowest and highest point, in sweep order.
+    const double columns = chart()->plotArea().width() / 3.0;
     if (!(columns > 0) || !(xMax > xMin) || points.size() < qsizetype(2 * columns)) {
         s->replace(points);
         return;

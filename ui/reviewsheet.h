@@ -1,0 +1,53 @@
+#pragma once
+
+// The review sheet: a vector PDF of one design and its analysis for a design review, and
+// the same plots as SVG files. Every number comes from core's Analysis; this only lays out.
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/design.h"
+
+#include <QRectF>
+#include <QString>
+
+class QPainter;
+
+namespace loopsketch::ui {
+
+enum class SheetPageSize { A4, Letter };
+
+/// The plots of the sheet, in sheet order.
+enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step };
+
+/// All plots, in sheet order.
+inline constexpr SheetPlot kSheetPlots[]
+    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity, SheetPlot::Step};
+
+/// File name stem of a plot's SVG ("loop-gain", "impedance" ...).
+QString sheetPlotFileStem(SheetPlot plot);
+
+/// Draws one plot (title, legend, axes, curves) into `rect` (device units); `unitsPerMm`
+/// converts the sheet's millimetre sizes to device units.
+void drawSheetPlot(QPainter &painter, const QRectF &rect, double unitsPerMm, SheetPlot plot,
+                   const Analysis &analysis);
+
+/// The text of the first revision mention in the notes (e.g. "rev B"), else in the title;
+/// empty when neither has one.
+QString revisionText(const Design &design);
+
+/// FNV-1a (32 bit) of the design's saved text, as 8 lower-case hex digits.
+QString designContentHash(const Design &design);
+
+/// Writes the review sheet as PDF to `path` through a QSaveFile (no partial file on
+/// failure). `fileName` is shown in the title block. On failure returns false and sets
+/// `error` to a message naming the path. Needs a QApplication (the sketch is a scene).
+bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
+                       SheetPageSize pageSize, const QString &fileName, QString *error);
+
+/// The number of pages renderReviewSheet writes for this design and page size.
+int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize);
+
+/// Writes one SVG per plot into directory `dir` (created when missing), each through a
+/// QSaveFile. On failure returns false and sets `error`.
+bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error);
+
+} // namespace loopsketch::ui
