@@ -1,5 +1,7 @@
 #include "loopsketch/noise.h"
 
+#include "loopsketch/reducedsystem.h"
+
 #include "loopsketch/circuit.h"
 #include "loopsketch/loopcircuit.h"
 
@@ -175,15 +177,42 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
     result.noiseGain.reserve(count);
     result.gain.reserve(count);
 
-    const Eigen::VectorXcd row
-        = sys.L.row(loopio::kOutput).transpose().cast<std::complex<double>>();
-    const Eigen::VectorXcd sourceColumn = sys.B.col(loopio::kSource).cast<std::complex<double>>();
+    // One injection column per noise source (a unit current across a resistor or at an
+    // input, a unit voltage on en's row) plus the signal source, one output row: the
+    // reduced fast path then gives every source's transfer per frequency with one small
+    // LU, instead of a full transposed LU (the adjoint) at every frequency.
+    DescriptorSystem injections = sys;
+    const int n = sys.size();
+    injections.B = Eigen::MatrixXd::Zero(n, static_cast<Eigen::Index>(sources.size()) + 1);
+    for (std::size_t k = 0; k < sources.size(); ++k) {
+        const auto col = static_cast<Eigen::Index>(k);
+        if (sources[k].plus >= 0)
+            injections.B(sources[k].plus, col) += 1.0;
+        if (sources[k].minus >= 0)
+            injections.B(sources[k].minus, col) -= 1.0;
+    }
+    const auto gainColumn = static_cast<Eigen::Index>(sources.size());
+    injections.B.col(gainColumn) = sys.B.col(loopio::kSource);
+    Eigen::Index enColumn = -1;
+    for (std::size_t k = 0; k < sources.size(); ++k)
+        if (sources[k].plus == enRow && enRow >= 0)
+            enColumn = static_cast<Eigen::Index>(k);
+    if (enRow >= 0 && enColumn < 0) {
+        // No en given: still report the noise gain, from an extra column on en's row.
+        injections.B.conservativeResize(Eigen::NoChange, injections.B.cols() + 1);
+        injections.B.col(injections.B.cols() - 1).setZero();
+        injections.B(enRow, injections.B.cols() - 1) = 1.0;
+        enColumn = injections.B.cols() - 1;
+    }
+    injections.L = sys.L.row(loopio::kOutput);
+    auto reduced = ReducedSystem::build(injections);
+    if (!reduced)
+        return Diagnostic{{}, {}, {}, "noise: " + reduced.errorText()};
+    Eigen::MatrixXcd h;
     for (double f : result.frequenciesHz) {
         const std::complex<double> s(0.0, 2.0 * std::numbers::pi * f);
-        const Eigen::MatrixXcd m = sys.G.cast<std::complex<double>>() + s * sys.C;
-        const Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m.transpose());
-        const Eigen::VectorXcd z = lu.solve(row);
-        if (!z.allFinite()) {
+        reduced->evaluateInto(s, {}, h);
+        if (!h.allFinite()) {
             const std::string why = describeSingularity(sys, s);
             return Diagnostic{{},
                               {},
@@ -191,19 +220,17 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
                               "noise: the circuit has no solution at " + std::to_string(f) + " Hz"
                                   + (why.empty() ? std::string() : " (" + why + ")")};
         }
-        const auto entry = [&](int i) {
-            return i >= 0 ? z(i) : std::complex<double>(0.0);
-        };
-        const std::complex<double> gain = z.cwiseProduct(sourceColumn).sum();
+        const std::complex<double> gain = h(0, gainColumn);
         double total = 0.0;
-        for (Source &src : sources) {
+        for (std::size_t k = 0; k < sources.size(); ++k) {
+            Source &src = sources[k];
             const double density = flickerDensity(src.whiteDensity, src.cornerHz, f);
-            const double psd = std::norm(density * (entry(src.plus) - entry(src.minus)));
+            const double psd = std::norm(density * h(0, static_cast<Eigen::Index>(k)));
             src.contribution.outputPsd.push_back(psd);
             total += psd;
         }
         result.gain.push_back(gain);
-        result.noiseGain.push_back(std::abs(entry(enRow)));
+        result.noiseGain.push_back(enColumn >= 0 ? std::abs(h(0, enColumn)) : 0.0);
         result.outputDensity.push_back(std::sqrt(total));
         const double g = std::abs(gain);
         result.inputDensity.push_back(g > 0 ? std::sqrt(total) / g
