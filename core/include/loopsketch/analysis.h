@@ -104,7 +104,7 @@ struct AnalysisOptions
 {
     SolverPath solver = SolverPath::Reduced;
     bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
-    bool noise = true; ///< the noise analysis (one transposed solve per frequency)
+    bool noise = true; ///< the noise analysis (one reduced solve per frequency)
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
 
