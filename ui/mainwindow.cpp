@@ -171,6 +171,14 @@ void MainWindow::createDocks()
     auto *step = new StepPanel(this);
     auto *poles = new PolesPanel(this);
     m_panels = {m_loopGain, impedance, desens, step, poles};
+    // The linked frequency cursor: hovering one frequency panel marks the same frequency
+    // in all of them.
+    for (PlotPanel *source : m_panels) {
+        connect(source, &PlotPanel::frequencyHovered, this, [this](double log10Hz) {
+            for (PlotPanel *p : m_panels)
+                p->showFrequencyCursor(log10Hz);
+        });
+    }
     auto *loopDock = makeDock(tr("Loop gain"), QStringLiteral("LoopGainDock"), m_loopGain,
                               Qt::RightDockWidgetArea);
     auto *impDock = makeDock(tr("Impedance"), QStringLiteral("ImpedanceDock"), impedance,

@@ -10,6 +10,7 @@
 #include <QScatterSeries>
 #include <QValueAxis>
 
+#include <algorithm>
 #include <cmath>
 
 namespace loopsketch::ui {
@@ -66,8 +67,11 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
         setRoundRange(m_phase, lo, hi, 90);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
     for (int i = 0; i < 4; ++i) {
-        replaceThinned(m_magSeries[i], mags[i], frequencyLo(a), frequencyHi(a));
-        replaceThinned(m_phaseSeries[i], phases[i], frequencyLo(a), frequencyHi(a));
+        // The cursor lists the magnitudes and the loop gain's phase.
+        replaceThinned(m_magSeries[i], mags[i], frequencyLo(a), frequencyHi(a),
+                       CursorFormat::Decibels);
+        replaceThinned(m_phaseSeries[i], phases[i], frequencyLo(a), frequencyHi(a),
+                       i == 1 ? CursorFormat::Degrees : CursorFormat::None);
     }
 
     QList<QPointF> crossover, phaseMargin, gainMargin;
@@ -119,7 +123,8 @@ void ImpedancePanel::showAnalysis(const Analysis &a)
         setDecadeRange(m_y, std::floor(lo), std::ceil(hi), "Ω");
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
     for (int i = 0; i < 4; ++i)
-        replaceThinned(m_lines[i], points[i], frequencyLo(a), frequencyHi(a));
+        replaceThinned(m_lines[i], points[i], frequencyLo(a), frequencyHi(a),
+                       CursorFormat::Log10Ohms);
     setTitle(tr("at DC: z_in %1  ·  z_out %2")
                  .arg(engineering(a.exact.zIn, "Ω"), engineering(a.exact.zOut, "Ω")));
 }
@@ -139,10 +144,27 @@ void DesensitivityPanel::showAnalysis(const Analysis &a)
     if (yRange({&points}, &lo, &hi))
         setRoundRange(m_y, std::min(lo, 0.0), hi, 20);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
-    replaceThinned(m_line, points, frequencyLo(a), frequencyHi(a));
-    setTitle(tr("|1 + T| at DC: %1")
+    replaceThinned(m_line, points, frequencyLo(a), frequencyHi(a), CursorFormat::Decibels);
+    // Gain sensitivity (%/%) of the parts that move the DC gain most.
+    std::vector<std::pair<std::string, double>> sens(a.sensitivity.begin(), a.sensitivity.end());
+    std::sort(sens.begin(), sens.end(),
+              [](const auto &l, const auto &r) { return std::abs(l.second) > std::abs(r.second); });
+    QStringList top, all;
+    for (std::size_t i = 0; i < sens.size(); ++i) {
+        if (std::abs(sens[i].second) < 5e-4)
+            continue;
+        const QString item = toQString(sens[i].first) + QStringLiteral(" ")
+            + QString::number(sens[i].second, 'f', 3);
+        all << item;
+        if (top.size() < 2)
+            top << item;
+    }
+    setTitle(tr("|1 + T| at DC %1  ·  gain sensitivity %2 %/%")
                  .arg(a.desensitivityDb ? QString::number(*a.desensitivityDb, 'f', 1) + " dB"
-                                        : QStringLiteral("—")));
+                                        : QStringLiteral("—"),
+                      top.isEmpty() ? QStringLiteral("—") : top.join(QStringLiteral(", "))));
+    setToolTip(tr("Gain sensitivity, % change of the DC gain per % change of the part:\n")
+               + all.join(QLatin1Char('\n')));
 }
 
 StepPanel::StepPanel(QWidget *parent) : PlotPanel(tr("Step"), parent)
@@ -215,8 +237,8 @@ void StepPanel::showAnalysis(const Analysis &a)
 
 PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
 {
-    m_x = addValueAxis(tr("σ = Re s (rad/s)"), Qt::AlignBottom);
-    m_y = addValueAxis(tr("ω = Im s (rad/s)"), Qt::AlignLeft);
+    m_x = addValueAxis(tr("Re s (rad/s)"), Qt::AlignBottom);
+    m_y = addValueAxis(tr("Im s (rad/s)"), Qt::AlignLeft);
     m_axis = addLine(tr("jω axis"), QColor(0x99, 0x99, 0x99), Qt::DotLine, m_x, m_y, false);
     m_poles = addMarker(tr("closed-loop poles"), palette::kVermillion, m_x, m_y, 10);
     m_poles->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
@@ -243,8 +265,8 @@ void PolesPanel::showAnalysis(const Analysis &a)
     setNiceRange(m_y, -r, r, 4);
     m_axis->replace({QPointF(0, -r), QPointF(0, r)});
     m_poles->replace(points);
-    m_x->setTitleText(tr("σ = Re s (%1rad/s)").arg(sp.prefix));
-    m_y->setTitleText(tr("ω = Im s (%1rad/s)").arg(sp.prefix));
+    m_x->setTitleText(tr("Re s (%1rad/s)").arg(sp.prefix));
+    m_y->setTitleText(tr("Im s (%1rad/s)").arg(sp.prefix));
     rename(m_poles, tr("closed-loop poles (%1)").arg(points.size()));
     // The dominant pole (lowest natural frequency) is what a designer reads first.
     const ClosedLoopPole *dominant = nullptr;

@@ -6,13 +6,17 @@
 
 #include <QCategoryAxis>
 #include <QChart>
+#include <QGraphicsLineItem>
+#include <QGraphicsRectItem>
 #include <QGraphicsSimpleTextItem>
 #include <QLegend>
 #include <QLegendMarker>
 #include <QLineSeries>
+#include <QMouseEvent>
 #include <QScatterSeries>
 #include <QValueAxis>
 
+#include <algorithm>
 #include <cmath>
 
 namespace loopsketch::ui {
@@ -37,6 +41,7 @@ PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
     legendFont.setPointSizeF(8);
     c->legend()->setFont(legendFont);
     setChart(c);
+    connect(c, &QChart::plotAreaChanged, this, &PlotPanel::plotAreaChanged);
     setRenderHint(QPainter::Antialiasing, true);
     setMinimumSize(240, 190);
 }
@@ -117,6 +122,10 @@ QCategoryAxis *PlotPanel::addLogAxis(const QString &title, Qt::Alignment alignme
     axis->setLabelsPosition(QCategoryAxis::AxisLabelsPositionOnValue);
     axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
     chart()->addAxis(axis, alignment);
+    if (alignment == Qt::AlignBottom) {
+        m_frequencyAxis = axis;
+        viewport()->setMouseTracking(true);
+    }
     return axis;
 }
 
@@ -170,10 +179,21 @@ void PlotPanel::resizeEvent(QResizeEvent *event)
 {
     QChartView::resizeEvent(event);
     placeSummary();
+}
+
+void PlotPanel::plotAreaChanged()
+{
+    // Label spacing and curve thinning depend on the plot's pixels, known only after the
+    // chart's own layout ran.
     for (auto &[axis, state] : m_decadeAxes)
         applyDecades(axis, state);
     for (auto &[s, full] : m_fullCurves)
         thin(s, full.points, full.xMin, full.xMax);
+    for (const auto &[axis, r] : m_roundAxes)
+        applyRound(axis, r);
+    placeSummary();
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
 }
 
 void PlotPanel::setNiceRange(QValueAxis *axis, double lo, double hi, int ticks)
@@ -228,10 +248,114 @@ void PlotPanel::placeSummary()
                       chart()->margins().top() + 3.0);
 }
 
-void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
+void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax,
+                               CursorFormat format)
 {
-    m_fullCurves[s] = {points, xMin, xMax};
+    const auto known = m_fullCurves.find(s);
+    const int order = known != m_fullCurves.end() ? known->second.order : int(m_fullCurves.size());
+    m_fullCurves[s] = {points, xMin, xMax, format, order};
     thin(s, points, xMin, xMax);
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
+}
+
+void PlotPanel::mouseMoveEvent(QMouseEvent *event)
+{
+    QChartView::mouseMoveEvent(event);
+    if (!m_frequencyAxis || m_series.empty())
+        return;
+    const QPointF inChart = chart()->mapFromScene(mapToScene(event->pos()));
+    if (!chart()->plotArea().contains(inChart)) {
+        emit frequencyHovered(std::nan(""));
+        return;
+    }
+    emit frequencyHovered(chart()->mapToValue(inChart, m_series.begin()->second).x());
+}
+
+void PlotPanel::leaveEvent(QEvent *event)
+{
+    QChartView::leaveEvent(event);
+    if (m_frequencyAxis)
+        emit frequencyHovered(std::nan(""));
+}
+
+QString PlotPanel::cursorText() const
+{
+    return m_cursorText && m_cursorText->isVisible() ? m_cursorText->text() : QString();
+}
+
+void PlotPanel::showFrequencyCursor(double log10Hz)
+{
+    if (!m_frequencyAxis)
+        return;
+    m_cursorAt = log10Hz;
+    if (!m_cursorLine) {
+        m_cursorLine = new QGraphicsLineItem(chart());
+        m_cursorLine->setPen(QPen(QColor(0x55, 0x5b, 0x66), 1.0, Qt::SolidLine));
+        m_cursorLine->setZValue(20);
+        m_cursorBox = new QGraphicsRectItem(chart());
+        m_cursorBox->setBrush(QColor(255, 255, 255, 225));
+        m_cursorBox->setPen(QPen(QColor(0xc8, 0xcd, 0xd4), 1.0));
+        m_cursorBox->setZValue(21);
+        m_cursorText = new QGraphicsSimpleTextItem(chart());
+        QFont f = m_cursorText->font();
+        f.setPointSizeF(8);
+        m_cursorText->setFont(f);
+        m_cursorText->setZValue(22);
+    }
+    const QRectF plot = chart()->plotArea();
+    const bool visible = std::isfinite(log10Hz) && log10Hz >= m_frequencyAxis->min()
+        && log10Hz <= m_frequencyAxis->max() && !m_series.empty();
+    m_cursorLine->setVisible(visible);
+    m_cursorBox->setVisible(visible);
+    m_cursorText->setVisible(visible);
+    if (!visible)
+        return;
+    const double x = chart()->mapToPosition(QPointF(log10Hz, 0), m_series.begin()->second).x();
+    m_cursorLine->setLine(x, plot.top(), x, plot.bottom());
+    QStringList lines;
+    lines << tr("f = %1").arg(toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz")));
+    std::vector<std::pair<QXYSeries *, const FullCurve *>> curves;
+    for (const auto &[s, full] : m_fullCurves)
+        curves.emplace_back(s, &full);
+    std::sort(curves.begin(), curves.end(),
+              [](const auto &l, const auto &r) { return l.second->order < r.second->order; });
+    for (const auto &[s, fullCurve] : curves) {
+        const FullCurve &full = *fullCurve;
+        if (full.format == CursorFormat::None || full.points.isEmpty())
+            continue;
+        // The sweep point nearest the cursor; values are core's, not interpolated.
+        const auto it = std::lower_bound(full.points.begin(), full.points.end(), log10Hz,
+                                         [](const QPointF &p, double v) { return p.x() < v; });
+        auto best = it == full.points.end() ? std::prev(it) : it;
+        if (it != full.points.begin() && it != full.points.end()
+            && std::abs(std::prev(it)->x() - log10Hz) < std::abs(it->x() - log10Hz))
+            best = std::prev(it);
+        if (std::abs(best->x() - log10Hz) > 0.05)
+            continue;
+        QString value;
+        switch (full.format) {
+        case CursorFormat::Decibels:
+            value = QString::number(best->y(), 'f', 1) + QStringLiteral(" dB");
+            break;
+        case CursorFormat::Degrees:
+            value = QString::number(best->y(), 'f', 1) + QStringLiteral("°");
+            break;
+        case CursorFormat::Log10Ohms:
+            value = toQString(formatEngineering(std::pow(10.0, best->y()), 3, "Ω"));
+            break;
+        case CursorFormat::None:
+            break;
+        }
+        lines << s->name() + QStringLiteral(": ") + value;
+    }
+    m_cursorText->setText(lines.join(QLatin1Char('\n')));
+    const QRectF text = m_cursorText->boundingRect();
+    double left = x + 8;
+    if (left + text.width() + 8 > plot.right())
+        left = x - 8 - text.width();
+    m_cursorText->setPos(left, plot.top() + 6);
+    m_cursorBox->setRect(QRectF(left - 4, plot.top() + 3, text.width() + 8, text.height() + 6));
 }
 
 QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const
@@ -281,11 +405,29 @@ void PlotPanel::hideFromLegend(QXYSeries *s)
 
 void PlotPanel::setRoundRange(QValueAxis *axis, double lo, double hi, double step)
 {
-    double a = std::floor(lo / step) * step;
-    double b = std::ceil(hi / step) * step;
-    if (!(b > a)) {
-        a -= step;
-        b += step;
+    m_roundAxes[axis] = {lo, hi, step};
+    applyRound(axis, m_roundAxes[axis]);
+}
+
+void PlotPanel::applyRound(QValueAxis *axis, const RoundAxis &r)
+{
+    // Wider steps (x2) while the labels would crowd: about 26 px per label vertically.
+    const QRectF plot = chart()->plotArea();
+    const double pixels = axis->orientation() == Qt::Vertical ? plot.height() : plot.width() / 2;
+    const double maxTicks = std::max(2.0, pixels / 26.0);
+    double step = r.step;
+    double a = 0, b = 0;
+    for (int i = 0; i < 6; ++i) {
+        // A curve a hair beyond a round value does not cost a whole extra step.
+        a = std::floor(r.lo / step + 0.02) * step;
+        b = std::ceil(r.hi / step - 0.02) * step;
+        if (!(b > a)) {
+            a -= step;
+            b += step;
+        }
+        if (!(pixels > 0) || (b - a) / step <= maxTicks)
+            break;
+        step *= 2;
     }
     applyRange(axis, a, b, step);
 }

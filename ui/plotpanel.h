@@ -10,11 +10,14 @@
 #include <QList>
 #include <QPointF>
 
+#include <cmath>
 #include <map>
 #include <string>
 
 class QAbstractAxis;
 class QGraphicsSimpleTextItem;
+class QGraphicsLineItem;
+class QGraphicsRectItem;
 class QCategoryAxis;
 class QLineSeries;
 class QScatterSeries;
@@ -49,7 +52,21 @@ public:
     /// The points handed to replaceThinned() before thinning for the screen.
     QList<QPointF> fullPoints(QXYSeries *series) const;
 
+    /// True for panels over frequency, which take part in the linked frequency cursor.
+    bool hasFrequencyAxis() const { return m_frequencyAxis != nullptr; }
+    /// Shows the linked cursor at log10(f / Hz); NaN hides it.
+    void showFrequencyCursor(double log10Hz);
+    /// The cursor's text (empty when hidden).
+    QString cursorText() const;
+
+signals:
+    /// The mouse hovers the plot at log10(f / Hz); NaN when it left.
+    void frequencyHovered(double log10Hz);
+
 protected:
+    /// How a curve's value reads in the cursor text; None leaves it out.
+    enum class CursorFormat { None, Decibels, Degrees, Log10Ohms };
+
     QLineSeries *addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
                          QAbstractAxis *x, QAbstractAxis *y, bool inLegend = true);
     QScatterSeries *addMarker(const QString &name, const QColor &colour, QAbstractAxis *x,
@@ -61,13 +78,15 @@ protected:
     /// at every second or third one when the plot is too small to hold them all.
     void setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit);
     /// Sets a value axis to a range with round ticks, `step` apart.
-    static void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Steps double while the labels would crowd the axis.
+    void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
     /// Sets a value axis to [lo, hi] with about `ticks` ticks at 1, 2 or 5 times a power of 10.
     static void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
     /// Replaces a frequency curve's points, thinned to the points that matter on screen: in
-    /// each pixel column the first, lowest, highest and last point survive, so peaks stay
-    /// exact. Every point kept is one of core's, unchanged.
-    void replaceThinned(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
+    /// each three-pixel column its lowest and highest point survive, so peaks stay exact.
+    /// Every point kept is one of core's, unchanged. `format` puts it in the cursor text.
+    void replaceThinned(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax,
+                        CursorFormat format = CursorFormat::None);
     /// Sets the axis only where it differs (each change relayouts the chart).
     static void applyRange(QValueAxis *axis, double lo, double hi, double step);
     /// The summary line above the plot (crossover, margins ...).
@@ -77,6 +96,8 @@ protected:
     /// Hides a series' legend entry.
     void hideFromLegend(QXYSeries *series);
     void resizeEvent(QResizeEvent *event) override;
+    void mouseMoveEvent(QMouseEvent *event) override;
+    void leaveEvent(QEvent *event) override;
     /// Sets a series' name, keeping the lookup table in step.
     void rename(QXYSeries *series, const QString &name);
 
@@ -93,13 +114,27 @@ private:
     };
     void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
     void placeSummary();
+    struct RoundAxis
+    {
+        double lo = 0, hi = 0, step = 1;
+    };
+    void applyRound(QValueAxis *axis, const RoundAxis &r);
+    std::map<QValueAxis *, RoundAxis> m_roundAxes;
+    void plotAreaChanged();
     QGraphicsSimpleTextItem *m_summary = nullptr;
     void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
     struct FullCurve
     {
         QList<QPointF> points;
         double xMin = 0, xMax = 0;
+        CursorFormat format = CursorFormat::None;
+        int order = 0; ///< first-shown order, the order of the cursor's lines
     };
+    QCategoryAxis *m_frequencyAxis = nullptr;
+    QGraphicsLineItem *m_cursorLine = nullptr;
+    QGraphicsSimpleTextItem *m_cursorText = nullptr;
+    QGraphicsRectItem *m_cursorBox = nullptr;
+    double m_cursorAt = std::nan("");
     std::map<QXYSeries *, FullCurve> m_fullCurves; ///< re-thinned when the panel resizes
     std::map<QCategoryAxis *, DecadeAxis> m_decadeAxes;
 };

@@ -5,6 +5,8 @@
 
 #include <QKeyEvent>
 #include <QLabel>
+#include <QMouseEvent>
+#include <QScrollBar>
 #include <QWheelEvent>
 
 #include <cmath>
@@ -15,7 +17,7 @@ SketchView::SketchView(SketchScene *scene, QWidget *parent)
     : QGraphicsView(scene, parent), m_badge(new QLabel(this))
 {
     setRenderHint(QPainter::Antialiasing, true);
-    setDragMode(QGraphicsView::ScrollHandDrag);
+    setDragMode(QGraphicsView::RubberBandDrag);
     setTransformationAnchor(QGraphicsView::AnchorUnderMouse);
     setViewportUpdateMode(QGraphicsView::BoundingRectViewportUpdate);
     setFocusPolicy(Qt::StrongFocus);
@@ -118,6 +120,43 @@ void SketchView::keyPressEvent(QKeyEvent *event)
         return;
     }
     QGraphicsView::keyPressEvent(event);
+}
+
+void SketchView::mousePressEvent(QMouseEvent *event)
+{
+    if (event->button() == Qt::MiddleButton) {
+        m_panning = true;
+        m_autoFit = false;
+        m_panFrom = event->position().toPoint();
+        viewport()->setCursor(Qt::ClosedHandCursor);
+        event->accept();
+        return;
+    }
+    QGraphicsView::mousePressEvent(event);
+}
+
+void SketchView::mouseMoveEvent(QMouseEvent *event)
+{
+    if (m_panning) {
+        const QPoint d = event->position().toPoint() - m_panFrom;
+        m_panFrom = event->position().toPoint();
+        horizontalScrollBar()->setValue(horizontalScrollBar()->value() - d.x());
+        verticalScrollBar()->setValue(verticalScrollBar()->value() - d.y());
+        event->accept();
+        return;
+    }
+    QGraphicsView::mouseMoveEvent(event);
+}
+
+void SketchView::mouseReleaseEvent(QMouseEvent *event)
+{
+    if (m_panning && event->button() == Qt::MiddleButton) {
+        m_panning = false;
+        viewport()->unsetCursor();
+        event->accept();
+        return;
+    }
+    QGraphicsView::mouseReleaseEvent(event);
 }
 
 void SketchView::resizeEvent(QResizeEvent *event)

@@ -1,7 +1,8 @@
 #pragma once
 
 // The Sketch's view: Ctrl+wheel zooms, wheel over a part steps its value through its
-// E-series (Shift: a decade), arrow keys step the selected part, drag on the background pans.
+// E-series (Shift: a decade), arrow keys step the selected part, R turns it; a drag on the
+// background selects with a rubber band, a middle-button drag pans.
 
 #include <QGraphicsView>
 
@@ -35,11 +36,16 @@ protected:
     void wheelEvent(QWheelEvent *event) override;
     void keyPressEvent(QKeyEvent *event) override;
     void resizeEvent(QResizeEvent *event) override;
+    void mousePressEvent(QMouseEvent *event) override;
+    void mouseMoveEvent(QMouseEvent *event) override;
+    void mouseReleaseEvent(QMouseEvent *event) override;
 
 private:
     QLabel *m_badge;
     int m_wheelRemainder = 0;
-    bool m_autoFit = true; ///< refit on resize until the user zooms
+    bool m_autoFit = true; ///< refit on resize until the user zooms or pans
+    bool m_panning = false;
+    QPoint m_panFrom;
 };
 
 } // namespace loopsketch::ui

@@ -15,10 +15,13 @@
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/eseries.h"
+#include "loopsketch/value.h"
 
 #include <QApplication>
+#include <QChart>
 #include <QDir>
 #include <QLineEdit>
+#include <QMouseEvent>
 #include <QSignalSpy>
 #include <QStandardPaths>
 #include <QTemporaryDir>
@@ -270,6 +273,49 @@ TEST_F(MainWindowTest, DraggingAPartIsOneUndoableMoveOnTheGrid)
     EXPECT_NEAR(rl->pos().x(), 220.0, 1e-9);
 }
 
+TEST_F(MainWindowTest, HoveringOnePanelShowsTheFrequencyInAllFrequencyPanels)
+{
+    QTest::qWait(200);
+    LoopGainPanel *loop = window->loopGainPanel();
+    QChart *chart = loop->chart();
+    const QPointF centre = chart->plotArea().center();
+    const QPoint pos = loop->mapFromScene(chart->mapToScene(centre));
+    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
+                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
+    QApplication::sendEvent(loop->viewport(), &move);
+
+    const double log10Hz = chart->mapToValue(centre, loop->series(LoopGainPanel::kT)).x();
+    const Analysis &a = *doc()->analysis();
+    std::size_t nearest = 0;
+    for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
+        if (std::abs(std::log10(a.frequenciesHz[i]) - log10Hz)
+            < std::abs(std::log10(a.frequenciesHz[nearest]) - log10Hz))
+            nearest = i;
+    }
+    const QString fText
+        = QStringLiteral("f = ") + toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz"));
+    int frequencyPanels = 0;
+    for (PlotPanel *panel : window->panels()) {
+        if (!panel->hasFrequencyAxis()) {
+            EXPECT_TRUE(panel->cursorText().isEmpty());
+            continue;
+        }
+        ++frequencyPanels;
+        EXPECT_THAT(panel->cursorText().toStdString(), HasSubstr(fText.toStdString()));
+    }
+    EXPECT_EQ(frequencyPanels, 3);
+    // The loop gain's value in the cursor is core's |T| at the nearest sweep frequency.
+    const QString tText = LoopGainPanel::kT + QStringLiteral(": ")
+        + QString::number(toDecibels(std::abs(a.curves.loopGain[nearest])), 'f', 1)
+        + QStringLiteral(" dB");
+    EXPECT_THAT(loop->cursorText().toStdString(), HasSubstr(tText.toStdString()));
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-cursor.png");
+
+    QEvent leave(QEvent::Leave);
+    QApplication::sendEvent(loop, &leave);
+    EXPECT_TRUE(loop->cursorText().isEmpty());
+}
+
 TEST(MainWindowLayout, DesignWithoutSketchGetsAReadableLayout)
 {
     MainWindow window;
@@ -302,7 +348,8 @@ TEST_F(MainWindowTest, WritesAWindowScreenshot)
 {
     wheelOver("CF", 1);
     waitForRecompute();
-    QApplication::processEvents();
+    // Let the charts' layouts settle (label spacing follows the plot's final size).
+    QTest::qWait(200);
     const QString path = QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-window.png";
     QFile::remove(path);
     const QPixmap shot = window->grab();
