@@ -215,11 +215,61 @@ INSTANTIATE_TEST_SUITE_P(Files, CliMalformed, ::testing::ValuesIn(malformedCases
 TEST(Cli, MalformedListCoversTheDirectory)
 {
     const auto cases = malformedCases();
-    EXPECT_GE(cases.size(), 20u);
+    EXPECT_GE(cases.size(), 40u);
     std::size_t files = 0;
     for (const auto &e : fs::directory_iterator(kMalformedDir))
         files += e.path().extension() == ".loopsketch";
     EXPECT_EQ(files, cases.size());
+}
+
+// Hostile files too big to commit, written at run time: the size and part-count limits of
+// designfile.h (16 MiB, 10,000 parts) must reach the user as exit code 2 and a message.
+TEST(Cli, TwentyMebibyteFileIsBadInput)
+{
+    TempDir dir;
+    const fs::path big = dir.path() / "twenty-mib.loopsketch";
+    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    ASSERT_FALSE(text.empty());
+    const auto close = text.rfind('}');
+    ASSERT_NE(close, std::string::npos);
+    text.insert(close, std::string(20u * 1024u * 1024u, ' '));
+    {
+        std::ofstream(big, std::ios::binary) << text;
+    }
+    ASSERT_GE(fs::file_size(big), 20u * 1024u * 1024u);
+    const CliRun r = runCli({"analyze", big.string()});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 2) << r.err;
+    EXPECT_THAT(r.err, HasSubstr("twenty-mib.loopsketch"));
+    EXPECT_THAT(r.err, HasSubstr("16 MiB"));
+    EXPECT_TRUE(r.out.empty());
+}
+
+TEST(Cli, MorePartsThanTheLimitIsBadInput)
+{
+    // demo has 5 parts; extra resistors from "out" to ground keep every node grounded
+    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    const std::string anchor = "\"parts\": [";
+    const auto at = text.find(anchor);
+    ASSERT_NE(at, std::string::npos);
+    std::string extra;
+    for (std::size_t i = 5; i <= kMaxParts; ++i)
+        extra.append("\n    {\"id\": \"RX")
+            .append(std::to_string(i))
+            .append(
+                "\", \"type\": \"resistor\", \"a\": \"out\", \"b\": \"0\", \"value\": \"1M\"},");
+    text.insert(at + anchor.size(), extra);
+    TempDir dir;
+    const fs::path many = dir.path() / "many-parts.loopsketch";
+    {
+        std::ofstream(many, std::ios::binary) << text;
+    }
+    const CliRun r = runCli({"analyze", many.string()});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 2) << r.err.substr(0, 500);
+    EXPECT_THAT(r.err, HasSubstr("many-parts.loopsketch"));
+    EXPECT_THAT(r.err, HasSubstr("10001 parts; at most 10000"));
+    EXPECT_TRUE(r.out.empty());
 }
 
 // ----- example designs --------------------------------------------------------------------
