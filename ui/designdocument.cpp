@@ -65,7 +65,9 @@ bool DesignDocument::stepPart(const std::string &partId, int steps, bool decade)
     if (!(after > 0) || !std::isfinite(after))
         return false;
     const auto it = part->fields.find(field);
-    const Value oldValue = it != part->fields.end() ? it->second : Value{before, {}};
+    std::optional<Value> oldValue;
+    if (it != part->fields.end())
+        oldValue = it->second;
     const Value newValue{after, formatEngineering(after, 3)};
     m_undoStack.push(new SetFieldCommand(this, partId, field, oldValue, newValue, true));
     return true;
@@ -85,8 +87,8 @@ bool DesignDocument::setFieldText(const std::string &partId, const std::string &
     if (trimmed.empty() && !spec->required) {
         if (!part->has(field))
             return true;
-        m_undoStack.push(new SetFieldCommand(this, partId, field, part->fields.at(field),
-                                             Value{spec->defaultValue, {}}, false));
+        m_undoStack.push(
+            new SetFieldCommand(this, partId, field, part->fields.at(field), std::nullopt, false));
         return true;
     }
     auto parsed = parseValue(trimmed, spec->kind, spec->range);
@@ -101,7 +103,9 @@ bool DesignDocument::setFieldText(const std::string &partId, const std::string &
     }
     const Value newValue{*parsed, trimmed};
     const auto it = part->fields.find(field);
-    const Value oldValue = it != part->fields.end() ? it->second : Value{part->number(field), {}};
+    std::optional<Value> oldValue;
+    if (it != part->fields.end())
+        oldValue = it->second;
     if (oldValue == newValue)
         return true;
     m_undoStack.push(new SetFieldCommand(this, partId, field, oldValue, newValue, false));
@@ -174,13 +178,118 @@ void DesignDocument::rotatePart(const std::string &partId)
         new SetSketchCommand(this, m_design.sketch, after, tr("Rotate %1").arg(toQString(partId))));
 }
 
-void DesignDocument::applyField(const std::string &partId, const std::string &field,
-                                const Value &value)
+namespace {
+
+struct GainBlockPreset
+{
+    const char *name;
+    const char *gain, *poles, *rIn, *cIn, *rOut;
+};
+
+// Round numbers of our own choosing, typical of broad classes of amplifiers.
+const GainBlockPreset kPresets[] = {
+    {"general purpose (100 dB, 10 Hz / 5 MHz)", "100dB", "10, 5M", "10M", "5p", "100"},
+    {"wide band (90 dB, 1 kHz / 200 MHz)", "90dB", "1k, 200M", "1M", "2p", "30"},
+    {"precision low speed (130 dB, 0.3 Hz / 1 MHz)", "130dB", "0.3, 1M", "100M", "8p", "200"},
+    {"FET input (110 dB, 10 Hz / 40 MHz)", "110dB", "10, 40M", "1T", "4p", "50"},
+};
+
+std::vector<std::string> splitList(const std::string &text)
+{
+    std::vector<std::string> items;
+    std::string current;
+    for (char ch : text) {
+        if (ch == ',' || ch == ';' || ch == ' ' || ch == '\t') {
+            if (!current.empty())
+                items.push_back(current);
+            current.clear();
+        } else {
+            current += ch;
+        }
+    }
+    if (!current.empty())
+        items.push_back(current);
+    return items;
+}
+
+} // namespace
+
+bool DesignDocument::setFrequencyListText(const std::string &partId, const std::string &list,
+                                          const QString &text, QString *error)
+{
+    const Part *part = m_design.findPart(partId);
+    if (!part || part->type != PartType::GainBlock || (list != "poles_hz" && list != "zeros_hz"))
+        return false;
+    std::vector<Value> values;
+    const auto items = splitList(toStdString(text));
+    for (std::size_t i = 0; i < items.size(); ++i) {
+        auto parsed = parseValue(items[i], ValueKind::Frequency, ValueRange::Positive);
+        if (!parsed) {
+            if (error) {
+                Diagnostic d = parsed.diagnostics().front();
+                d.part = partId;
+                d.field = list + "[" + std::to_string(i) + "]";
+                *error = toQString(d.toString());
+            }
+            return false;
+        }
+        values.push_back(Value{*parsed, items[i]});
+    }
+    const std::vector<Value> &before = list == "poles_hz" ? part->polesHz : part->zerosHz;
+    if (values == before)
+        return true;
+    m_undoStack.push(new SetFrequencyListCommand(this, partId, list, before, values));
+    return true;
+}
+
+QStringList DesignDocument::gainBlockPresets()
+{
+    QStringList names;
+    for (const auto &p : kPresets)
+        names << QString::fromUtf8(p.name);
+    return names;
+}
+
+void DesignDocument::applyGainBlockPreset(const std::string &partId, int index)
+{
+    const Part *part = m_design.findPart(partId);
+    if (!part || part->type != PartType::GainBlock || index < 0
+        || index >= int(std::size(kPresets)))
+        return;
+    const GainBlockPreset &p = kPresets[index];
+    m_undoStack.beginMacro(tr("Gain block preset: %1").arg(QString::fromUtf8(p.name)));
+    QString ignored;
+    setFieldText(partId, "gain", QString::fromUtf8(p.gain), &ignored);
+    if (m_design.findPart(partId)->has("gbw"))
+        setFieldText(partId, "gbw", QString(), &ignored);
+    setFrequencyListText(partId, "poles_hz", QString::fromUtf8(p.poles), &ignored);
+    setFieldText(partId, "r_in", QString::fromUtf8(p.rIn), &ignored);
+    setFieldText(partId, "c_in", QString::fromUtf8(p.cIn), &ignored);
+    setFieldText(partId, "r_out", QString::fromUtf8(p.rOut), &ignored);
+    m_undoStack.endMacro();
+}
+
+void DesignDocument::applyFrequencyList(const std::string &partId, const std::string &list,
+                                        const std::vector<Value> &values)
 {
     Part *part = m_design.findPart(partId);
     if (!part)
         return;
-    part->fields[field] = value;
+    (list == "poles_hz" ? part->polesHz : part->zerosHz) = values;
+    emit partChanged(toQString(partId));
+    scheduleRecompute();
+}
+
+void DesignDocument::applyField(const std::string &partId, const std::string &field,
+                                const std::optional<Value> &value)
+{
+    Part *part = m_design.findPart(partId);
+    if (!part)
+        return;
+    if (value)
+        part->fields[field] = *value;
+    else
+        part->fields.erase(field);
     emit partChanged(toQString(partId));
     scheduleRecompute();
 }

@@ -9,6 +9,7 @@
 
 #include <QObject>
 #include <QString>
+#include <QStringList>
 #include <QTimer>
 #include <QUndoStack>
 
@@ -50,6 +51,14 @@ public:
     bool setFieldText(const std::string &partId, const std::string &field, const QString &text,
                       QString *error);
     void setSeries(const std::string &partId, std::optional<ESeries> series);
+    /// Sets the gain block's "poles_hz" or "zeros_hz" from text such as "10, 40M"; on a
+    /// parse error `error` names the entry and nothing changes.
+    bool setFrequencyListText(const std::string &partId, const std::string &list,
+                              const QString &text, QString *error);
+    /// Generic gain-block presets with neutral names (no real device is modelled).
+    static QStringList gainBlockPresets();
+    /// Applies preset `index` of gainBlockPresets() as one undo step.
+    void applyGainBlockPreset(const std::string &partId, int index);
     bool setToleranceText(const std::string &partId, const QString &text, QString *error);
     /// Moves parts to new sketch positions (scene units), one undo step for all of them.
     void moveParts(const std::map<std::string, std::pair<double, double>> &positions);
@@ -63,10 +72,14 @@ public:
     QString lastDiagnostics() const { return m_diagnostics; }
 
     // Used by the commands only.
-    void applyField(const std::string &partId, const std::string &field, const Value &value);
+    /// nullopt removes the field (its default applies).
+    void applyField(const std::string &partId, const std::string &field,
+                    const std::optional<Value> &value);
     void applySeries(const std::string &partId, std::optional<ESeries> series);
     void applyTolerance(const std::string &partId, std::optional<Value> tolerance);
     void applySketch(const std::optional<SketchLayout> &sketch);
+    void applyFrequencyList(const std::string &partId, const std::string &list,
+                            const std::vector<Value> &values);
 
 signals:
     /// The design was replaced (open, new): views rebuild.

@@ -6,13 +6,15 @@
 namespace loopsketch::ui {
 
 SetFieldCommand::SetFieldCommand(DesignDocument *document, std::string partId, std::string field,
-                                 Value before, Value after, bool burst)
+                                 std::optional<Value> before, std::optional<Value> after,
+                                 bool burst)
     : m_document(document), m_partId(std::move(partId)), m_field(std::move(field)),
       m_before(std::move(before)), m_after(std::move(after)), m_burst(burst),
       m_time(std::chrono::steady_clock::now())
 {
     setText(QObject::tr("Set %1 %2 to %3")
-                .arg(toQString(m_partId), toQString(m_field), toQString(m_after.text)));
+                .arg(toQString(m_partId), toQString(m_field),
+                     m_after ? toQString(m_after->text) : QObject::tr("default")));
 }
 
 bool SetFieldCommand::mergeWith(const QUndoCommand *other)
@@ -72,6 +74,25 @@ void SetToleranceCommand::redo()
 void SetToleranceCommand::undo()
 {
     m_document->applyTolerance(m_partId, m_before);
+}
+
+SetFrequencyListCommand::SetFrequencyListCommand(DesignDocument *document, std::string partId,
+                                                 std::string list, std::vector<Value> before,
+                                                 std::vector<Value> after)
+    : m_document(document), m_partId(std::move(partId)), m_list(std::move(list)),
+      m_before(std::move(before)), m_after(std::move(after))
+{
+    setText(QObject::tr("Set %1 %2").arg(toQString(m_partId), toQString(m_list)));
+}
+
+void SetFrequencyListCommand::redo()
+{
+    m_document->applyFrequencyList(m_partId, m_list, m_after);
+}
+
+void SetFrequencyListCommand::undo()
+{
+    m_document->applyFrequencyList(m_partId, m_list, m_before);
 }
 
 SetSketchCommand::SetSketchCommand(DesignDocument *document, std::optional<SketchLayout> before,

@@ -10,6 +10,7 @@
 #include <chrono>
 #include <optional>
 #include <string>
+#include <vector>
 
 namespace loopsketch::ui {
 
@@ -24,8 +25,9 @@ public:
     /// Steps closer together than this belong to one burst.
     static constexpr std::chrono::milliseconds kBurstGap{1000};
 
-    SetFieldCommand(DesignDocument *document, std::string partId, std::string field, Value before,
-                    Value after, bool burst);
+    /// A field that is nullopt is absent from the part (the spec's default applies).
+    SetFieldCommand(DesignDocument *document, std::string partId, std::string field,
+                    std::optional<Value> before, std::optional<Value> after, bool burst);
 
     int id() const override { return m_burst ? kBurstId : -1; }
     bool mergeWith(const QUndoCommand *other) override;
@@ -36,8 +38,8 @@ private:
     DesignDocument *m_document;
     std::string m_partId;
     std::string m_field;
-    Value m_before;
-    Value m_after;
+    std::optional<Value> m_before;
+    std::optional<Value> m_after;
     bool m_burst;
     std::chrono::steady_clock::time_point m_time;
 };
@@ -68,6 +70,22 @@ private:
     DesignDocument *m_document;
     std::string m_partId;
     std::optional<Value> m_before, m_after;
+};
+
+/// The gain block's pole or zero list ("poles_hz" / "zeros_hz").
+class SetFrequencyListCommand : public QUndoCommand
+{
+public:
+    SetFrequencyListCommand(DesignDocument *document, std::string partId, std::string list,
+                            std::vector<Value> before, std::vector<Value> after);
+    void redo() override;
+    void undo() override;
+
+private:
+    DesignDocument *m_document;
+    std::string m_partId;
+    std::string m_list;
+    std::vector<Value> m_before, m_after;
 };
 
 /// A change of the stored sketch layout (moving a part). Holds the whole layout before and

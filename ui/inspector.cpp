@@ -166,15 +166,53 @@ void Inspector::showPart(const std::string &partId)
                 [this] { commitTolerance(); });
     }
     if (part->type == PartType::GainBlock) {
-        QStringList poles, zeros;
-        for (const Value &v : part->polesHz)
-            poles << toQString(formatEngineering(v.si, 3, "Hz"));
-        for (const Value &v : part->zerosHz)
-            zeros << toQString(formatEngineering(v.si, 3, "Hz"));
-        form->addRow(tr("poles"),
-                     new QLabel(poles.isEmpty() ? tr("none") : poles.join(", "), m_form));
-        form->addRow(tr("zeros"),
-                     new QLabel(zeros.isEmpty() ? tr("none") : zeros.join(", "), m_form));
+        for (const char *list : {"poles_hz", "zeros_hz"}) {
+            const std::vector<Value> &values
+                = std::string(list) == "poles_hz" ? part->polesHz : part->zerosHz;
+            QStringList texts;
+            for (const Value &v : values)
+                texts << (v.text.empty() ? toQString(formatEngineering(v.si, 4))
+                                         : toQString(v.text));
+            auto *edit = new QLineEdit(texts.join(QStringLiteral(", ")), m_form);
+            edit->setPlaceholderText(tr("none"));
+            edit->setToolTip(tr("%1: frequencies in Hz, separated by commas").arg(list));
+            auto *error = new QLabel(m_form);
+            error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
+            error->setWordWrap(true);
+            error->hide();
+            auto *box = new QVBoxLayout;
+            box->setSpacing(1);
+            box->addWidget(edit);
+            box->addWidget(error);
+            form->addRow(toQString(list), box);
+            m_edits[list] = edit;
+            m_errors[list] = error;
+            const std::string name(list);
+            connect(edit, &QLineEdit::editingFinished, this, [this, name] {
+                QLineEdit *e = fieldEdit(name);
+                QString message;
+                const bool ok
+                    = m_document->setFrequencyListText(m_partId, name, e->text(), &message);
+                markError(e, m_errors[name], ok ? QString() : message);
+            });
+        }
+        auto *presets = new QComboBox(m_form);
+        presets->addItem(tr("apply a generic preset…"));
+        presets->addItems(DesignDocument::gainBlockPresets());
+        presets->setToolTip(tr("Generic gain blocks with round numbers; no real device is "
+                               "modelled."));
+        form->addRow(tr("preset"), presets);
+        connect(presets, &QComboBox::activated, this, [this, presets](int index) {
+            if (index > 0)
+                m_document->applyGainBlockPreset(m_partId, index - 1);
+            presets->setCurrentIndex(0);
+        });
+        auto *hint = new QLabel(tr("gain in V/V or dB (\"110dB\"); gbw sets the first pole at "
+                                   "gbw / gain"),
+                                m_form);
+        hint->setWordWrap(true);
+        hint->setStyleSheet(QStringLiteral("color: #5a6270; font-size: 8pt;"));
+        form->addRow(hint);
     }
     static_cast<QVBoxLayout *>(layout())->insertWidget(1, m_form);
 }
@@ -194,6 +232,18 @@ void Inspector::refresh()
         const QString text = fieldText(*part, spec);
         if (edit->text() != text)
             edit->setText(text);
+    }
+    if (part->type == PartType::GainBlock) {
+        for (const char *list : {"poles_hz", "zeros_hz"}) {
+            QLineEdit *edit = fieldEdit(list);
+            if (!edit || m_errors[list]->isVisible())
+                continue;
+            QStringList texts;
+            for (const Value &v : std::string(list) == "poles_hz" ? part->polesHz : part->zerosHz)
+                texts << (v.text.empty() ? toQString(formatEngineering(v.si, 4))
+                                         : toQString(v.text));
+            edit->setText(texts.join(QStringLiteral(", ")));
+        }
     }
     if (m_series)
         m_series->setCurrentIndex(part->series ? int(*part->series) + 1 : 0);

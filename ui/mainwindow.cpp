@@ -15,6 +15,7 @@
 #include <QAction>
 #include <QApplication>
 #include <QCloseEvent>
+#include <QDateTime>
 #include <QDir>
 #include <QDockWidget>
 #include <QElapsedTimer>
@@ -103,7 +104,8 @@ MainWindow::MainWindow(QWidget *parent)
     });
     connect(m_document, &DesignDocument::partChanged, this, [this](const QString &id) {
         m_scene->updatePart(toStdString(id));
-        m_palette->showDesign(m_document->design());
+        if (const Part *part = m_document->design().findPart(toStdString(id)))
+            m_palette->updatePart(*part);
         if (toQString(m_inspector->partId()) == id)
             m_inspector->refresh();
     });
@@ -123,6 +125,16 @@ MainWindow::MainWindow(QWidget *parent)
     connect(m_view, &SketchView::rotateRequested, m_document, &DesignDocument::rotatePart);
     connect(m_palette, &PartsPalette::partActivated, this,
             [this](const std::string &id) { m_scene->selectPart(id); });
+
+    m_settleTimer = new QTimer(this);
+    m_settleTimer->setSingleShot(true);
+    m_settleTimer->setInterval(250);
+    connect(m_settleTimer, &QTimer::timeout, this, [this] {
+        for (PlotPanel *panel : m_panels) {
+            panel->setRenderHint(QPainter::Antialiasing, true);
+            panel->viewport()->update();
+        }
+    });
 
     auto *recovery = new QTimer(this);
     recovery->setInterval(30000);
@@ -302,6 +314,16 @@ void MainWindow::showAnalysis(const Analysis &analysis)
 {
     QElapsedTimer timer;
     timer.start();
+    // Inside a burst of edits (wheel, arrow keys) the panels draw without antialiasing,
+    // which saves a few ms a frame; the settled frame is drawn smooth again.
+    const qint64 now = QDateTime::currentMSecsSinceEpoch();
+    const bool burst = now - m_lastAnalysisAt < 250;
+    m_lastAnalysisAt = now;
+    if (burst) {
+        for (PlotPanel *panel : m_panels)
+            panel->setRenderHint(QPainter::Antialiasing, false);
+        m_settleTimer->start();
+    }
     m_readout->showAnalysis(analysis, m_document->design());
     for (PlotPanel *panel : m_panels)
         panel->showAnalysis(analysis);

@@ -11,6 +11,7 @@
 class QDockWidget;
 class QLabel;
 class QMenu;
+class QTimer;
 
 namespace loopsketch {
 struct Analysis;
@@ -98,6 +99,8 @@ private:
     QByteArray m_defaultState;
     bool m_ask = true;
     bool m_sizedDocks = false;
+    QTimer *m_settleTimer = nullptr; ///< antialiasing back on once a burst of edits settles
+    qint64 m_lastAnalysisAt = 0;
 };
 
 } // namespace loopsketch::ui

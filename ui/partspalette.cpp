@@ -51,6 +51,15 @@ void PartsPalette::showDesign(const Design &design)
     }
 }
 
+void PartsPalette::updatePart(const Part &part)
+{
+    for (int i = 0; i < m_parts->count(); ++i) {
+        QListWidgetItem *item = m_parts->item(i);
+        if (item->data(Qt::UserRole).toString() == toQString(part.id))
+            item->setText(toQString(part.id) + QStringLiteral("   ") + PartItem::valueText(part));
+    }
+}
+
 void PartsPalette::selectPart(const std::string &partId)
 {
     for (int i = 0; i < m_parts->count(); ++i) {

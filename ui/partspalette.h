@@ -21,6 +21,8 @@ public:
     explicit PartsPalette(QWidget *parent = nullptr);
 
     void showDesign(const Design &design);
+    /// Refreshes one part's line.
+    void updatePart(const Part &part);
     void selectPart(const std::string &partId);
 
 signals:

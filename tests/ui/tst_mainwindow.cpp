@@ -231,6 +231,48 @@ TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
     expectShows(expectedWith("RF", 2.2e6));
 }
 
+TEST_F(MainWindowTest, GainBlockPolesPresetsAndClearedFieldsAreUndoable)
+{
+    window->sketchScene()->selectPart("U1");
+    Inspector *inspector = window->inspector();
+    ASSERT_EQ(inspector->partId(), "U1");
+    QLineEdit *poles = inspector->fieldEdit("poles_hz");
+    ASSERT_NE(poles, nullptr);
+    const Design before = doc()->design();
+
+    poles->selectAll();
+    QTest::keyClicks(poles, "10, 2xM");
+    QTest::keyClick(poles, Qt::Key_Return);
+    EXPECT_EQ(doc()->design(), before);
+    EXPECT_THAT(inspector->fieldError("poles_hz").toStdString(), HasSubstr("poles_hz[1]"));
+
+    poles->selectAll();
+    QTest::keyClicks(poles, "10, 20M");
+    QTest::keyClick(poles, Qt::Key_Return);
+    waitForRecompute();
+    const Part *u1 = doc()->design().findPart("U1");
+    ASSERT_EQ(u1->polesHz.size(), 2u);
+    EXPECT_NEAR(u1->polesHz[1].si, 20e6, 1e-3);
+    EXPECT_TRUE(inspector->fieldError("poles_hz").isEmpty());
+
+    // Clearing an optional field removes it; the spec's default applies again.
+    QLineEdit *cIn = inspector->fieldEdit("c_in");
+    ASSERT_NE(cIn, nullptr);
+    cIn->clear();
+    QTest::keyClick(cIn, Qt::Key_Return);
+    EXPECT_FALSE(doc()->design().findPart("U1")->has("c_in"));
+
+    // Preset 0 is "general purpose": poles 10 Hz and 5 MHz.
+    doc()->applyGainBlockPreset("U1", 0);
+    ASSERT_EQ(doc()->design().findPart("U1")->polesHz.size(), 2u);
+    EXPECT_NEAR(doc()->design().findPart("U1")->polesHz[1].si, 5e6, 1e-3);
+    const int steps = doc()->undoStack()->count();
+    EXPECT_EQ(steps, 3); // poles, c_in, and the whole preset as one step
+    for (int i = 0; i < steps; ++i)
+        doc()->undoStack()->undo();
+    EXPECT_EQ(doc()->design(), before);
+}
+
 TEST_F(MainWindowTest, SaveReloadGivesTheSameDesign)
 {
     wheelOver("RF", 2);

@@ -1,0 +1,202 @@
+// `loopsketch export` run headless on the example designs: the review sheet's page count,
+// its extracted text against `analyze --json`, the CSV against the sweep, and the errors.
+// pdfinfo and pdftotext are Debian's poppler-utils (packaging/build-deps.txt).
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/value.h"
+
+#include <QDir>
+#include <QFile>
+#include <QFileInfo>
+#include <QJsonDocument>
+#include <QJsonObject>
+#include <QProcess>
+#include <QRegularExpression>
+#include <QStringList>
+#include <QTemporaryDir>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+using testing::HasSubstr;
+
+namespace {
+
+struct Run
+{
+    int exitCode = -1;
+    QString out, err;
+};
+
+Run run(const QString &program, const QStringList &args)
+{
+    QProcess p;
+    QProcessEnvironment env = QProcessEnvironment::systemEnvironment();
+    env.remove(QStringLiteral("DISPLAY"));
+    env.remove(QStringLiteral("WAYLAND_DISPLAY"));
+    env.remove(QStringLiteral("QT_QPA_PLATFORM")); // export must choose offscreen itself
+    p.setProcessEnvironment(env);
+    p.start(program, args);
+    if (!p.waitForFinished(60000))
+        return {};
+    return {p.exitStatus() == QProcess::NormalExit ? p.exitCode() : -1,
+            QString::fromUtf8(p.readAllStandardOutput()),
+            QString::fromUtf8(p.readAllStandardError())};
+}
+
+Run loopsketch(const QStringList &args)
+{
+    return run(QStringLiteral(LOOPSKETCH_BIN), args);
+}
+
+QString designPath(const char *name)
+{
+    return QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(QLatin1String(name));
+}
+
+// Formatted the way the review sheet formats them (reviewsheet.cpp: eng() and degrees()).
+QString sheetNumber(double v, std::string_view unit)
+{
+    return QString::fromStdString(loopsketch::formatEngineering(v, 4, unit));
+}
+
+struct SheetCase
+{
+    const char *design;
+    int pages; // the layout: first page title to metrics, plots on 2 and 3, cautions last
+};
+
+class ReviewSheetExport : public testing::TestWithParam<SheetCase>
+{
+};
+
+TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
+{
+    const SheetCase c = GetParam();
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf"), csv = tmp.filePath("sweep.csv"),
+                  svg = tmp.filePath("plots");
+    const Run exported
+        = loopsketch({QStringLiteral("export"), designPath(c.design), QStringLiteral("--pdf"), pdf,
+                      QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
+    ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
+    ASSERT_TRUE(QFileInfo::exists(pdf));
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+        QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
+        ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
+        EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
+    }
+
+    const Run info = run(QStringLiteral("pdfinfo"), {pdf});
+    ASSERT_EQ(info.exitCode, 0) << info.err.toStdString();
+    const auto pages = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
+    ASSERT_TRUE(pages.hasMatch());
+    const int pageCount = pages.captured(1).toInt();
+    EXPECT_EQ(pageCount, c.pages);
+
+    const Run text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
+    const std::string sheet = text.out.toStdString();
+    for (int i = 1; i <= pageCount; ++i)
+        EXPECT_THAT(sheet,
+                    HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(pageCount).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr("What the model does not cover"));
+
+    const Run json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
+    ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
+    const QJsonObject a = QJsonDocument::fromJson(json.out.toUtf8()).object();
+    const std::string unit = a["gain_unit"].toString().toStdString();
+    const QJsonValue gain = a["dc"].toObject()["exact"].toObject()["gain"];
+    const QJsonValue pm = a["margins"].toObject()["phase_margin_deg"];
+    const QJsonValue bw = a["closed_loop"].toObject()["bandwidth_hz"];
+    ASSERT_TRUE(gain.isDouble());
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain.toDouble(), unit).toStdString()));
+    if (pm.isDouble())
+        EXPECT_THAT(
+            sheet,
+            HasSubstr(QString::fromStdString(loopsketch::formatEngineering(pm.toDouble(), 3) + "°")
+                          .toStdString()));
+    if (bw.isDouble())
+        EXPECT_THAT(sheet, HasSubstr(sheetNumber(bw.toDouble(), "Hz").toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(a["title"].toString().toStdString()));
+
+    // CSV: the exact gain column against the sweep of the same design.
+    auto design = loopsketch::loadDesign(designPath(c.design).toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto analysis = loopsketch::analyze(*design);
+    ASSERT_TRUE(analysis) << analysis.errorText();
+    QFile csvFile(csv);
+    ASSERT_TRUE(csvFile.open(QIODevice::ReadOnly | QIODevice::Text));
+    const QStringList lines = QString::fromUtf8(csvFile.readAll()).split('\n', Qt::SkipEmptyParts);
+    ASSERT_EQ(lines.size(), static_cast<qsizetype>(analysis->frequenciesHz.size() + 1));
+    const QStringList header = lines.front().split(',');
+    const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
+    ASSERT_GE(fCol, 0);
+    ASSERT_GE(gCol, 0);
+    for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
+        const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
+        ASSERT_EQ(cells.size(), header.size()) << "row " << i;
+        bool okF = false, okG = false;
+        const double f = cells[fCol].toDouble(&okF), g = cells[gCol].toDouble(&okG);
+        ASSERT_TRUE(okF && okG) << "row " << i;
+        const double fExpected = analysis->frequenciesHz[i];
+        EXPECT_NEAR(f, fExpected, 1e-6 * fExpected) << "row " << i;
+        // 20 log10 |G| (common practice); the CSV has 10 significant digits
+        const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
+        EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
+    }
+}
+
+INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
+                         testing::Values(SheetCase{"demo", 3}, SheetCase{"contact-mic-preamp", 3},
+                                         SheetCase{"excitation-current-driver", 3},
+                                         SheetCase{"gas-cell-current-amplifier", 3}));
+
+TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("missing-dir/sheet.pdf");
+    const Run r = loopsketch({"export", designPath("demo"), "--pdf", pdf});
+    EXPECT_EQ(r.exitCode, 2);
+    EXPECT_THAT(r.err.toStdString(), HasSubstr("cannot write the review sheet"));
+    EXPECT_THAT(r.err.toStdString(), HasSubstr(pdf.toStdString()));
+    EXPECT_FALSE(QFileInfo::exists(pdf));
+    EXPECT_TRUE(QDir(tmp.path()).entryList(QDir::NoDotAndDotDot | QDir::AllEntries).isEmpty());
+}
+
+TEST(ReviewSheetErrors, DesignWithDiagnosticsWritesNoFile)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    QFile in(designPath("demo"));
+    ASSERT_TRUE(in.open(QIODevice::ReadOnly));
+    QByteArray text = in.readAll();
+    const QByteArray good = "\"value\": \"1M\"";
+    ASSERT_TRUE(text.contains(good));
+    text.replace(good, "\"value\": \"12kk\"");
+    const QString bad = tmp.filePath("bad.loopsketch");
+    QFile out(bad);
+    ASSERT_TRUE(out.open(QIODevice::WriteOnly));
+    out.write(text);
+    out.close();
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const Run r = loopsketch({"export", bad, "--pdf", pdf});
+    EXPECT_EQ(r.exitCode, 2);
+    EXPECT_THAT(r.err.toStdString(), HasSubstr("RF"));
+    EXPECT_THAT(r.err.toStdString(), HasSubstr("12kk"));
+    EXPECT_FALSE(QFileInfo::exists(pdf));
+}
+
+TEST(ReviewSheetErrors, ExportNeedsPdf)
+{
+    const Run r = loopsketch({"export", designPath("demo")});
+    EXPECT_EQ(r.exitCode, 2);
+    EXPECT_THAT(r.err.toStdString(), HasSubstr("--pdf"));
+}
+
+} // namespace
