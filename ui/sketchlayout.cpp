@@ -93,8 +93,19 @@ SketchLayout automaticLayout(const Design &design)
         // The node that is not ground goes on top.
         return p.nodes.size() == 2 && p.nodes[0] == kGroundNode ? 270 : 90;
     };
-    if (source)
-        layout.parts[source->id] = {-240, 40, verticalRotation(*source)};
+    if (source) {
+        // The source's hot pin level with the gain-block input it drives.
+        double y = 40;
+        if (gain && source->nodes.size() == 2) {
+            const std::string &hot
+                = source->nodes[0] == kGroundNode ? source->nodes[1] : source->nodes[0];
+            if (hot == gain->node("in_p"))
+                y = 60;
+            else if (hot == gain->node("in_n"))
+                y = 20;
+        }
+        layout.parts[source->id] = {-240, y, verticalRotation(*source)};
+    }
     if (load) {
         layout.parts[load->id] = {240, 60, verticalRotation(*load)};
         for (const auto &n : load->nodes) {
@@ -126,6 +137,10 @@ SketchLayout automaticLayout(const Design &design)
                 || (in(inputNodes, b) && in(outputNodes, a)))) {
             const int rotation = in(inputNodes, a) ? 0 : 180;
             layout.parts[p.id] = {0, -80.0 - 60.0 * above++, rotation};
+        } else if (grounded && load && load->nodes.size() == 2 && load->nodes[0] != kGroundNode
+                   && load->nodes[1] != kGroundNode && hot == load->nodes[1]) {
+            // Series sampling: the sense part hangs under the load.
+            layout.parts[p.id] = {240.0 + 60.0 * belowOut++, 180, verticalRotation(p)};
         } else if (grounded && in(inputNodes, hot)) {
             layout.parts[p.id] = {-120.0 - 60.0 * belowIn++, 100, verticalRotation(p)};
         } else if (grounded && in(outputNodes, hot)) {
@@ -171,22 +186,66 @@ bool along(const QLineF &segment, QPointF direction)
     return d.x() * direction.x() + d.y() * direction.y() > 0;
 }
 
-QPolygonF route(const Pin &p, const Pin &q, const std::vector<QRectF> &bodies)
+bool onSegment(QPointF point, const QLineF &segment)
 {
-    const QPointF corners[2] = {QPointF(q.at.x(), p.at.y()), QPointF(p.at.x(), q.at.y())};
+    const QRectF r = QRectF(segment.p1(), segment.p2()).normalized().adjusted(-0.5, -0.5, 0.5, 0.5);
+    return r.contains(point);
+}
+
+/// Scores a polyline: crossing a body costs 10, touching a foreign pin 8, leaving or
+/// arriving against a pin's direction 2 or 1, plus a little for each bend.
+int scoreRoute(const QPolygonF &route, const Pin &p, const Pin &q,
+               const std::vector<QRectF> &bodies, const std::vector<QPointF> &pins)
+{
+    int score = 0;
+    for (qsizetype i = 0; i + 1 < route.size(); ++i) {
+        const QLineF segment(route[i], route[i + 1]);
+        if (segment.length() < 1e-9)
+            continue;
+        score += 10 * crossings(segment, bodies);
+        for (const QPointF &pin : pins) {
+            const bool endpoint
+                = (pin - p.at).manhattanLength() < 0.5 || (pin - q.at).manhattanLength() < 0.5;
+            if (!endpoint && onSegment(pin, segment))
+                score += 8;
+        }
+    }
+    const QLineF first(route[0], route[1]);
+    if (first.length() > 1e-9 && !along(first, p.direction))
+        score += 2;
+    const QLineF arriving(route[route.size() - 1], route[route.size() - 2]);
+    if (arriving.length() > 1e-9 && !along(arriving, q.direction))
+        score += 1;
+    return score + int(route.size());
+}
+
+QPolygonF route(const Pin &p, const Pin &q, const std::vector<QRectF> &bodies,
+                const std::vector<QPointF> &pins)
+{
+    // Candidates: one bend either way, and the same after a one-grid stub out of each pin.
+    std::vector<QPolygonF> candidates;
+    for (int stub = 0; stub < 2; ++stub) {
+        const QPointF a = p.at + p.direction * (kGrid * stub);
+        const QPointF b = q.at + q.direction * (kGrid * stub);
+        for (const QPointF &corner : {QPointF(b.x(), a.y()), QPointF(a.x(), b.y())}) {
+            QPolygonF r;
+            r << p.at;
+            if (stub)
+                r << a;
+            r << corner;
+            if (stub)
+                r << b;
+            r << q.at;
+            candidates.push_back(r);
+        }
+    }
     int bestScore = std::numeric_limits<int>::max();
     QPolygonF best;
-    for (const QPointF &c : corners) {
-        const QLineF first(p.at, c), second(c, q.at);
-        int score = 10 * (crossings(first, bodies) + crossings(second, bodies));
-        if (first.length() > 1e-9 && !along(first, p.direction))
-            score += 2;
-        const QLineF arriving(second.p2(), second.p1());
-        if (second.length() > 1e-9 && !along(arriving, q.direction))
-            score += 1;
+    for (const QPolygonF &r : candidates) {
+        const int score = scoreRoute(r, p, q, bodies, pins);
         if (score < bestScore) {
             bestScore = score;
-            best = QPolygonF({p.at, c, q.at});
+            best = r;
         }
     }
     return best;
@@ -213,6 +272,13 @@ SketchWiring routeWires(const Design &design, const SketchLayout &layout)
                 nodes[p.nodes[i]].push_back({at, dir});
         }
     }
+    std::vector<QPointF> allPins;
+    for (const auto &[name, pins] : nodes) {
+        for (const Pin &pin : pins)
+            allPins.push_back(pin.at);
+    }
+    for (const auto &[at, dir] : wiring.grounds)
+        allPins.push_back(at);
     for (auto &[name, pins] : nodes) {
         if (pins.size() < 2)
             continue;
@@ -241,7 +307,7 @@ SketchWiring routeWires(const Design &design, const SketchLayout &layout)
             inTree[to] = true;
             ++degree[from];
             ++degree[to];
-            wiring.wires.push_back(route(pins[from], pins[to], bodies));
+            wiring.wires.push_back(route(pins[from], pins[to], bodies, allPins));
         }
         for (std::size_t i = 0; i < pins.size(); ++i) {
             if (degree[i] >= 2)

@@ -407,6 +407,34 @@ TEST_F(MainWindowTest, WritesAWindowScreenshot)
     }
 }
 
+/// Every example design opens, is analysed and leaves a screenshot for inspection; designs
+/// without a stored sketch show the automatic layout.
+class ExampleDesign : public ::testing::TestWithParam<const char *>
+{
+};
+
+TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    const std::string name = GetParam();
+    ASSERT_TRUE(
+        window.openFile(QString::fromStdString(kDesigns + "/" + name + ".loopsketch"), &error))
+        << error.toStdString();
+    ASSERT_NE(window.document()->analysis(), nullptr);
+    EXPECT_EQ(window.sketchView()->badgeText(), topologyBadge(*window.document()->analysis()));
+    QTest::qWait(200);
+    EXPECT_TRUE(window.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-"
+                                   + QString::fromStdString(name) + ".png"));
+}
+
+INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,
+                         ::testing::Values("contact-mic-preamp", "excitation-current-driver",
+                                           "gas-cell-current-amplifier"));
+
 } // namespace
 
 int main(int argc, char **argv)
