@@ -346,7 +346,10 @@ void DesignDocument::recomputeNow()
 void DesignDocument::recompute()
 {
     const auto start = std::chrono::steady_clock::now();
-    auto result = analyze(m_design, toStdString(m_filePath));
+    // Everything the window shows; the noise analysis has no panel yet, so it is skipped.
+    AnalysisOptions options;
+    options.noise = false;
+    auto result = analyze(m_design, toStdString(m_filePath), options);
     m_lastAnalysisMs
         = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
               .count();

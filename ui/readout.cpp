@@ -71,8 +71,10 @@ void Readout::setCell(int index, const QString &title, const QString &value, con
                       int verdict)
 {
     Cell &c = cell(index);
-    c.title->setText(title);
-    c.value->setText(value);
+    if (c.title->text() != title)
+        c.title->setText(title);
+    if (c.value->text() != value)
+        c.value->setText(value);
     c.value->setToolTip(tooltip);
     c.title->setToolTip(tooltip);
     QString colour = QStringLiteral("#1d2127");
@@ -80,8 +82,11 @@ void Readout::setCell(int index, const QString &title, const QString &value, con
         colour = QStringLiteral("#00734f");
     else if (verdict == kFail)
         colour = QStringLiteral("#b3261e");
-    c.value->setStyleSheet(
-        QStringLiteral("color: %1; font-size: 10.5pt; font-weight: 600;").arg(colour));
+    // Restyling re-polishes the label, which costs more than the whole text update.
+    const QString style
+        = QStringLiteral("color: %1; font-size: 10.5pt; font-weight: 600;").arg(colour);
+    if (c.value->styleSheet() != style)
+        c.value->setStyleSheet(style);
 }
 
 void Readout::showAnalysis(const Analysis &a, const Design &design)

@@ -28,6 +28,10 @@ SketchView::SketchView(SketchScene *scene, QWidget *parent)
 
 void SketchView::setBadge(const QString &text, bool twoPortForm)
 {
+    // Called on every recomputation: restyling re-polishes, so only on a change.
+    if (m_badge->text() == text && m_badgeForm == int(twoPortForm))
+        return;
+    m_badgeForm = int(twoPortForm);
     m_badge->setVisible(!text.isEmpty());
     m_badge->setText(text);
     m_badge->setStyleSheet(

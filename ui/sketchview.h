@@ -45,6 +45,7 @@ private:
     int m_wheelRemainder = 0;
     bool m_autoFit = true; ///< refit on resize until the user zooms or pans
     bool m_panning = false;
+    int m_badgeForm = -1; ///< style last applied: 1 two-port form, 0 none, -1 never
     QPoint m_panFrom;
 };
 
