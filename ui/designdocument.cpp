@@ -8,8 +8,10 @@
 #include "loopsketch/eseries.h"
 #include "loopsketch/value.h"
 
+#include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <set>
 
 namespace loopsketch::ui {
 
@@ -267,6 +269,149 @@ void DesignDocument::applyGainBlockPreset(const std::string &partId, int index)
     setFieldText(partId, "c_in", QString::fromUtf8(p.cIn), &ignored);
     setFieldText(partId, "r_out", QString::fromUtf8(p.rOut), &ignored);
     m_undoStack.endMacro();
+}
+
+void DesignDocument::pushDesign(Design after, const QString &text)
+{
+    m_undoStack.push(new SetDesignCommand(this, m_design, std::move(after), text));
+}
+
+void DesignDocument::applyDesign(const Design &design)
+{
+    m_design = design;
+    rebuildLayout();
+    emit structureChanged();
+    scheduleRecompute();
+}
+
+std::string DesignDocument::addPart(PartType type, double x, double y)
+{
+    static const std::map<PartType, std::string> prefixes
+        = {{PartType::Resistor, "R"}, {PartType::Capacitor, "C"}, {PartType::Inductor, "L"},
+           {PartType::VSource, "VS"}, {PartType::ISource, "IS"},  {PartType::GainBlock, "U"},
+           {PartType::Load, "RL"}};
+    const std::string prefix = prefixes.at(type);
+    std::string id;
+    for (int n = 1; id.empty() || m_design.findPart(id); ++n)
+        id = prefix + std::to_string(n);
+    std::set<std::string> nodes;
+    for (const Part &p : m_design.parts)
+        nodes.insert(p.nodes.begin(), p.nodes.end());
+    Part part;
+    part.id = id;
+    part.type = type;
+    int k = 1;
+    for (std::size_t i = 0; i < partSpec(type).terminals.size(); ++i) {
+        std::string node;
+        do
+            node = "n" + std::to_string(k++);
+        while (nodes.count(node));
+        nodes.insert(node);
+        part.nodes.push_back(node);
+    }
+    for (const FieldSpec &f : partSpec(type).fields) {
+        if (f.required)
+            part.fields[std::string(f.name)] = f.kind == ValueKind::Gain ? Value{1e5, "100dB"}
+                : f.kind == ValueKind::Capacitance                       ? Value{1e-9, "1n"}
+                : f.kind == ValueKind::Inductance                        ? Value{1e-3, "1m"}
+                                                                         : Value{1e3, "1k"};
+    }
+    Design after = m_design;
+    after.parts.push_back(part);
+    SketchLayout layout = m_layout;
+    // A free grid place: step right until no part sits within 80 units.
+    double px = snapToGrid(x), py = snapToGrid(y);
+    for (int tries = 0; tries < 50; ++tries) {
+        bool taken = false;
+        for (const auto &[other, placement] : layout.parts)
+            taken = taken || (std::abs(placement.x - px) < 80 && std::abs(placement.y - py) < 60);
+        if (!taken)
+            break;
+        px += 100;
+    }
+    layout.parts[id] = {px, py, 0};
+    after.sketch = layout;
+    if (after.input.empty() && partSpec(type).isSignalSource)
+        after.input = id;
+    pushDesign(std::move(after), tr("Add %1").arg(toQString(id)));
+    return id;
+}
+
+void DesignDocument::removeParts(const std::vector<std::string> &partIds)
+{
+    Design after = m_design;
+    bool removed = false;
+    for (const std::string &id : partIds) {
+        const auto it = std::find_if(after.parts.begin(), after.parts.end(),
+                                     [&](const Part &p) { return p.id == id; });
+        if (it == after.parts.end())
+            continue;
+        after.parts.erase(it);
+        removed = true;
+    }
+    if (!removed)
+        return;
+    SketchLayout layout = m_layout;
+    for (const std::string &id : partIds)
+        layout.parts.erase(id);
+    after.sketch = layout;
+    pushDesign(std::move(after),
+               partIds.size() == 1 ? tr("Delete %1").arg(toQString(partIds[0]))
+                                   : tr("Delete %1 parts").arg(partIds.size()));
+}
+
+bool DesignDocument::connectPins(const std::string &partA, const std::string &terminalA,
+                                 const std::string &partB, const std::string &terminalB)
+{
+    const Part *a = m_design.findPart(partA);
+    const Part *b = m_design.findPart(partB);
+    if (!a || !b)
+        return false;
+    std::string keep = a->node(terminalA);
+    std::string drop = b->node(terminalB);
+    if (keep.empty() || drop.empty() || keep == drop)
+        return false;
+    // Ground wins; otherwise the node with more pins keeps its name, so wiring a new part
+    // into a named node ("in", "out") does not rename it.
+    auto pinsOn = [this](const std::string &node) {
+        int n = 0;
+        for (const Part &p : m_design.parts)
+            n += int(std::count(p.nodes.begin(), p.nodes.end(), node));
+        return n;
+    };
+    if (drop == kGroundNode || (keep != kGroundNode && pinsOn(drop) > pinsOn(keep)))
+        std::swap(keep, drop);
+    Design after = m_design;
+    for (Part &p : after.parts) {
+        for (std::string &n : p.nodes) {
+            if (n == drop)
+                n = keep;
+        }
+    }
+    if (!after.sketch)
+        after.sketch = m_layout;
+    pushDesign(
+        std::move(after),
+        tr("Connect %1.%2 to %3.%4")
+            .arg(toQString(partA), toQString(terminalA), toQString(partB), toQString(terminalB)));
+    return true;
+}
+
+bool DesignDocument::groundPin(const std::string &partId, const std::string &terminal)
+{
+    const Part *part = m_design.findPart(partId);
+    if (!part)
+        return false;
+    const auto &terminals = partSpec(part->type).terminals;
+    const auto t = std::find(terminals.begin(), terminals.end(), terminal);
+    if (t == terminals.end() || part->nodes[std::size_t(t - terminals.begin())] == kGroundNode)
+        return false;
+    Design after = m_design;
+    after.findPart(partId)->nodes[std::size_t(t - terminals.begin())] = std::string(kGroundNode);
+    if (!after.sketch)
+        after.sketch = m_layout;
+    pushDesign(std::move(after), tr("Ground %1.%2").arg(toQString(partId), toQString(terminal)));
+    return true;
 }
 
 void DesignDocument::applyFrequencyList(const std::string &partId, const std::string &list,

@@ -65,6 +65,20 @@ public:
     /// Turns a part's symbol by 90 degrees clockwise.
     void rotatePart(const std::string &partId);
 
+    // Structural edits (parts and connections), each one undoable step.
+    /// Adds a part of `type` with fresh, unconnected nodes at a free place near (x, y);
+    /// returns its id.
+    std::string addPart(PartType type, double x, double y);
+    /// Removes parts; a removed signal source leaves the design invalid until a new one is
+    /// chosen, which the diagnostics say.
+    void removeParts(const std::vector<std::string> &partIds);
+    /// Joins the nodes on two pins: the ground node wins, else the node with more pins
+    /// keeps its name. False when they already share a node.
+    bool connectPins(const std::string &partA, const std::string &terminalA,
+                     const std::string &partB, const std::string &terminalB);
+    /// Puts one pin on the ground node.
+    bool groundPin(const std::string &partId, const std::string &terminal);
+
     /// Runs the pending recomputation now (tests, benchmarks).
     void recomputeNow();
     /// Milliseconds of the last core analyze() call.
@@ -78,6 +92,8 @@ public:
     void applySeries(const std::string &partId, std::optional<ESeries> series);
     void applyTolerance(const std::string &partId, std::optional<Value> tolerance);
     void applySketch(const std::optional<SketchLayout> &sketch);
+    /// Replaces the whole design (structural edits and their undo).
+    void applyDesign(const Design &design);
     void applyFrequencyList(const std::string &partId, const std::string &list,
                             const std::vector<Value> &values);
 
@@ -88,6 +104,8 @@ signals:
     void partChanged(const QString &partId);
     /// Sketch positions changed.
     void layoutChanged();
+    /// Parts were added, removed or reconnected: the Sketch rebuilds (the history stays).
+    void structureChanged();
     void analysisChanged(const loopsketch::Analysis &analysis);
     /// Analysis failed or succeeded; empty text when there is nothing to report.
     void diagnosticsChanged(const QString &text);
@@ -97,6 +115,7 @@ private:
     void scheduleRecompute();
     void recompute();
     void rebuildLayout();
+    void pushDesign(Design after, const QString &text);
 
     Design m_design;
     std::optional<Analysis> m_analysis;

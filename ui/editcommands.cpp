@@ -95,6 +95,23 @@ void SetFrequencyListCommand::undo()
     m_document->applyFrequencyList(m_partId, m_list, m_before);
 }
 
+SetDesignCommand::SetDesignCommand(DesignDocument *document, Design before, Design after,
+                                   const QString &text)
+    : m_document(document), m_before(std::move(before)), m_after(std::move(after))
+{
+    setText(text);
+}
+
+void SetDesignCommand::redo()
+{
+    m_document->applyDesign(m_after);
+}
+
+void SetDesignCommand::undo()
+{
+    m_document->applyDesign(m_before);
+}
+
 SetSketchCommand::SetSketchCommand(DesignDocument *document, std::optional<SketchLayout> before,
                                    std::optional<SketchLayout> after, const QString &text)
     : m_document(document), m_before(std::move(before)), m_after(std::move(after))

@@ -88,6 +88,19 @@ private:
     std::vector<Value> m_before, m_after;
 };
 
+/// A structural edit (add, remove, connect): the whole design before and after.
+class SetDesignCommand : public QUndoCommand
+{
+public:
+    SetDesignCommand(DesignDocument *document, Design before, Design after, const QString &text);
+    void redo() override;
+    void undo() override;
+
+private:
+    DesignDocument *m_document;
+    Design m_before, m_after;
+};
+
 /// A change of the stored sketch layout (moving a part). Holds the whole layout before and
 /// after, so the first move of an automatically laid out design undoes to "no layout".
 class SetSketchCommand : public QUndoCommand

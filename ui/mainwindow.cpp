@@ -123,6 +123,25 @@ MainWindow::MainWindow(QWidget *parent)
             });
     connect(m_view, &SketchView::stepRequested, m_document, &DesignDocument::stepPart);
     connect(m_view, &SketchView::rotateRequested, m_document, &DesignDocument::rotatePart);
+    connect(m_view, &SketchView::deleteRequested, m_document, &DesignDocument::removeParts);
+    connect(m_view, &SketchView::connectRequested, m_document, &DesignDocument::connectPins);
+    connect(m_view, &SketchView::groundRequested, m_document, &DesignDocument::groundPin);
+    connect(m_palette, &PartsPalette::placeRequested, this, [this](PartType type) {
+        const QPointF centre = m_view->mapToScene(m_view->viewport()->rect().center());
+        const std::string id = m_document->addPart(type, centre.x(), centre.y() + 160);
+        m_scene->selectPart(id);
+    });
+    connect(m_document, &DesignDocument::structureChanged, this, [this] {
+        const std::string selected = m_scene->selectedPartId();
+        m_scene->rebuild(&m_document->design(), m_document->layout());
+        m_palette->showDesign(m_document->design());
+        if (m_document->design().findPart(m_inspector->partId()))
+            m_inspector->showPart(m_inspector->partId());
+        else
+            m_inspector->showPart({});
+        if (!selected.empty())
+            m_scene->selectPart(selected);
+    });
     connect(m_palette, &PartsPalette::partActivated, this,
             [this](const std::string &id) { m_scene->selectPart(id); });
 

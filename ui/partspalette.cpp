@@ -16,20 +16,37 @@ PartsPalette::PartsPalette(QWidget *parent)
     layout->setContentsMargins(6, 4, 6, 4);
     auto *kindsTitle = new QLabel(tr("<b>Symbols</b>"), this);
     layout->addWidget(kindsTitle);
-    const char *kinds[][2] = {
-        {"signal source (voltage)", "vsource: pos, neg, optional r_series"},
-        {"signal source (current)", "isource: current into 'to'; optional r_parallel, c_parallel"},
-        {"gain block", "gain_block: in_p, in_n, out; gain, poles, zeros, r_in, c_in, r_out"},
-        {"resistor", "resistor: a, b, value"},
-        {"capacitor", "capacitor: a, b, value"},
-        {"inductor", "inductor: a, b, value"},
-        {"load", "load: a, b, r, optional c"},
-        {"ground", "node \"0\""},
+    struct Kind
+    {
+        const char *label;
+        const char *tip;
+        int type; ///< PartType, or -1 for ground (a node, not a part)
     };
-    for (const auto &k : kinds) {
-        auto *item = new QListWidgetItem(tr(k[0]), m_kinds);
-        item->setToolTip(QString::fromUtf8(k[1]));
+    const Kind kinds[] = {
+        {"signal source (voltage)", "pos, neg, optional r_series", int(PartType::VSource)},
+        {"signal source (current)", "current into 'to'; optional r_parallel, c_parallel",
+         int(PartType::ISource)},
+        {"gain block", "in_p, in_n, out; gain, poles, zeros, r_in, c_in, r_out",
+         int(PartType::GainBlock)},
+        {"resistor", "a, b, value", int(PartType::Resistor)},
+        {"capacitor", "a, b, value", int(PartType::Capacitor)},
+        {"inductor", "a, b, value", int(PartType::Inductor)},
+        {"load", "a, b, r, optional c", int(PartType::Load)},
+        {"ground", "right-click a pin on the Sketch to connect it to ground", -1},
+    };
+    for (const Kind &k : kinds) {
+        auto *item = new QListWidgetItem(tr(k.label), m_kinds);
+        item->setData(Qt::UserRole, k.type);
+        item->setToolTip(k.type < 0 ? tr(k.tip)
+                                    : tr("Double-click to place. Terminals and fields: %1. "
+                                         "Drag from pin to pin on the Sketch to wire it.")
+                                          .arg(tr(k.tip)));
     }
+    connect(m_kinds, &QListWidget::itemDoubleClicked, this, [this](QListWidgetItem *item) {
+        const int type = item->data(Qt::UserRole).toInt();
+        if (type >= 0)
+            emit placeRequested(PartType(type));
+    });
     m_kinds->setSelectionMode(QAbstractItemView::NoSelection);
     m_kinds->setMaximumHeight(m_kinds->sizeHintForRow(0) * 8 + 6);
     layout->addWidget(m_kinds);

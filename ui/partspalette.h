@@ -27,6 +27,8 @@ public:
 
 signals:
     void partActivated(const std::string &partId);
+    /// Double-click on a symbol: place a new part of that type.
+    void placeRequested(loopsketch::PartType type);
 
 private:
     QListWidget *m_kinds;

@@ -88,6 +88,38 @@ std::string SketchScene::selectedPartId() const
     return item ? item->partId() : std::string();
 }
 
+bool SketchScene::pinAt(QPointF scenePos, double radius, std::string *partId, std::string *terminal,
+                        QPointF *at) const
+{
+    double best = radius;
+    bool found = false;
+    for (const auto &[id, item] : m_items) {
+        const SketchPlacement placement{item->pos().x(), item->pos().y(), item->symbolRotation()};
+        for (const PinGeometry &pin : pinGeometry(item->partType())) {
+            const QPointF p = toScene(placement, pin.position);
+            const double d = QLineF(p, scenePos).length();
+            if (d <= best) {
+                best = d;
+                found = true;
+                *partId = id;
+                *terminal = pin.terminal;
+                *at = p;
+            }
+        }
+    }
+    return found;
+}
+
+std::vector<std::string> SketchScene::selectedPartIds() const
+{
+    std::vector<std::string> ids;
+    for (QGraphicsItem *item : selectedItems()) {
+        if (auto *part = qgraphicsitem_cast<PartItem *>(item))
+            ids.push_back(part->partId());
+    }
+    return ids;
+}
+
 void SketchScene::selectPart(const std::string &partId)
 {
     clearSelection();

@@ -10,6 +10,8 @@
 #include <QPointF>
 
 #include <map>
+#include <string>
+#include <vector>
 
 class QGraphicsPathItem;
 
@@ -33,6 +35,12 @@ public:
     /// The id of the single selected part, empty when none or several.
     std::string selectedPartId() const;
     void selectPart(const std::string &partId);
+
+    /// The pin nearest `scenePos` within `radius`; false when there is none.
+    bool pinAt(QPointF scenePos, double radius, std::string *partId, std::string *terminal,
+               QPointF *at) const;
+    /// Ids of all selected parts.
+    std::vector<std::string> selectedPartIds() const;
 
     // Called by PartItem.
     void partDragged();

@@ -3,8 +3,11 @@
 #include "partitem.h"
 #include "sketchscene.h"
 
+#include <QContextMenuEvent>
+#include <QGraphicsLineItem>
 #include <QKeyEvent>
 #include <QLabel>
+#include <QMenu>
 #include <QMouseEvent>
 #include <QScrollBar>
 #include <QWheelEvent>
@@ -113,6 +116,13 @@ void SketchView::keyPressEvent(QKeyEvent *event)
             break;
         }
     }
+    if (sketch && (event->key() == Qt::Key_Delete || event->key() == Qt::Key_Backspace)) {
+        const auto ids = sketch->selectedPartIds();
+        if (!ids.empty()) {
+            emit deleteRequested(ids);
+            return;
+        }
+    }
     if (event->key() == Qt::Key_Plus || event->key() == Qt::Key_Equal) {
         m_autoFit = false;
         zoomBy(1.2);
@@ -128,6 +138,16 @@ void SketchView::keyPressEvent(QKeyEvent *event)
 
 void SketchView::mousePressEvent(QMouseEvent *event)
 {
+    auto *sketch = qobject_cast<SketchScene *>(scene());
+    QPointF at;
+    if (event->button() == Qt::LeftButton && sketch
+        && sketch->pinAt(mapToScene(event->position().toPoint()), 7.0, &m_wirePart, &m_wireTerminal,
+                         &at)) {
+        m_wire = sketch->addLine(QLineF(at, at), QPen(QColor(0x00, 0x72, 0xb2), 1.5, Qt::DashLine));
+        m_wire->setZValue(50);
+        event->accept();
+        return;
+    }
     if (event->button() == Qt::MiddleButton) {
         m_panning = true;
         m_autoFit = false;
@@ -141,6 +161,13 @@ void SketchView::mousePressEvent(QMouseEvent *event)
 
 void SketchView::mouseMoveEvent(QMouseEvent *event)
 {
+    if (m_wire) {
+        QLineF line = m_wire->line();
+        line.setP2(mapToScene(event->position().toPoint()));
+        m_wire->setLine(line);
+        event->accept();
+        return;
+    }
     if (m_panning) {
         const QPoint d = event->position().toPoint() - m_panFrom;
         m_panFrom = event->position().toPoint();
@@ -154,6 +181,19 @@ void SketchView::mouseMoveEvent(QMouseEvent *event)
 
 void SketchView::mouseReleaseEvent(QMouseEvent *event)
 {
+    if (m_wire && event->button() == Qt::LeftButton) {
+        delete m_wire;
+        m_wire = nullptr;
+        auto *sketch = qobject_cast<SketchScene *>(scene());
+        std::string part, terminal;
+        QPointF at;
+        if (sketch
+            && sketch->pinAt(mapToScene(event->position().toPoint()), 9.0, &part, &terminal, &at)
+            && !(part == m_wirePart && terminal == m_wireTerminal))
+            emit connectRequested(m_wirePart, m_wireTerminal, part, terminal);
+        event->accept();
+        return;
+    }
     if (m_panning && event->button() == Qt::MiddleButton) {
         m_panning = false;
         viewport()->unsetCursor();
@@ -161,6 +201,31 @@ void SketchView::mouseReleaseEvent(QMouseEvent *event)
         return;
     }
     QGraphicsView::mouseReleaseEvent(event);
+}
+
+void SketchView::contextMenuEvent(QContextMenuEvent *event)
+{
+    auto *sketch = qobject_cast<SketchScene *>(scene());
+    if (!sketch)
+        return;
+    const QPointF scenePos = mapToScene(event->pos());
+    std::string part, terminal;
+    QPointF at;
+    QMenu menu(this);
+    if (sketch->pinAt(scenePos, 7.0, &part, &terminal, &at)) {
+        menu.addAction(tr("Connect %1.%2 to ground")
+                           .arg(QString::fromStdString(part), QString::fromStdString(terminal)),
+                       this, [this, part, terminal] { emit groundRequested(part, terminal); });
+    } else if (auto *item = qgraphicsitem_cast<PartItem *>(itemAt(event->pos()))) {
+        const std::string id = item->partId();
+        menu.addAction(tr("Rotate %1").arg(QString::fromStdString(id)), this,
+                       [this, id] { emit rotateRequested(id); });
+        menu.addAction(tr("Delete %1").arg(QString::fromStdString(id)), this,
+                       [this, id] { emit deleteRequested({id}); });
+    } else {
+        return;
+    }
+    menu.exec(event->globalPos());
 }
 
 void SketchView::resizeEvent(QResizeEvent *event)

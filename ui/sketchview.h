@@ -2,13 +2,16 @@
 
 // The Sketch's view: Ctrl+wheel zooms, wheel over a part steps its value through its
 // E-series (Shift: a decade), arrow keys step the selected part, R turns it; a drag on the
-// background selects with a rubber band, a middle-button drag pans.
+// background selects with a rubber band, a middle-button drag pans, a drag from a pin to
+// another pin draws a wire (joins their nodes), Delete removes the selection.
 
 #include <QGraphicsView>
 
 #include <string>
+#include <vector>
 
 class QLabel;
+class QGraphicsLineItem;
 
 namespace loopsketch::ui {
 
@@ -31,6 +34,11 @@ signals:
     /// The user asked to step a part's value by `steps` positions (decade: whole decades).
     void stepRequested(const std::string &partId, int steps, bool decade);
     void rotateRequested(const std::string &partId);
+    void deleteRequested(const std::vector<std::string> &partIds);
+    /// A wire was drawn from one pin to another.
+    void connectRequested(const std::string &partA, const std::string &terminalA,
+                          const std::string &partB, const std::string &terminalB);
+    void groundRequested(const std::string &partId, const std::string &terminal);
 
 protected:
     void wheelEvent(QWheelEvent *event) override;
@@ -39,12 +47,16 @@ protected:
     void mousePressEvent(QMouseEvent *event) override;
     void mouseMoveEvent(QMouseEvent *event) override;
     void mouseReleaseEvent(QMouseEvent *event) override;
+    void contextMenuEvent(QContextMenuEvent *event) override;
 
 private:
     QLabel *m_badge;
     int m_wheelRemainder = 0;
     bool m_autoFit = true; ///< refit on resize until the user zooms or pans
     bool m_panning = false;
+    // A wire being drawn from a pin.
+    QGraphicsLineItem *m_wire = nullptr;
+    std::string m_wirePart, m_wireTerminal;
     int m_badgeForm = -1; ///< style last applied: 1 two-port form, 0 none, -1 never
     QPoint m_panFrom;
 };

@@ -273,6 +273,49 @@ TEST_F(MainWindowTest, GainBlockPolesPresetsAndClearedFieldsAreUndoable)
     EXPECT_EQ(doc()->design(), before);
 }
 
+TEST_F(MainWindowTest, PlaceWireGroundAndDeleteAPartAreUndoable)
+{
+    const Design before = doc()->design();
+    const std::string id = doc()->addPart(PartType::Resistor, 0, 200);
+    EXPECT_EQ(id, "R1");
+    ASSERT_NE(window->sketchScene()->partItem(id), nullptr);
+    const Part *r1 = doc()->design().findPart(id);
+    ASSERT_NE(r1, nullptr);
+    EXPECT_EQ(r1->nodes.size(), 2u);
+    EXPECT_NE(r1->nodes[0], r1->nodes[1]);
+
+    // Draw a wire with the mouse from R1's pin a to RL's pin a (the output node).
+    SketchView *view = window->sketchView();
+    std::string part, terminal;
+    QPointF from, to;
+    PartItem *r1Item = window->sketchScene()->partItem(id);
+    ASSERT_TRUE(window->sketchScene()->pinAt(r1Item->mapToScene(QPointF(-40, 0)), 1.0, &part,
+                                             &terminal, &from));
+    EXPECT_EQ(terminal, "a");
+    PartItem *rl = window->sketchScene()->partItem("RL");
+    const SketchPlacement rlPlace{rl->pos().x(), rl->pos().y(), rl->symbolRotation()};
+    to = toScene(rlPlace, QPointF(-40, 0));
+    QTest::mousePress(view->viewport(), Qt::LeftButton, {}, view->mapFromScene(from));
+    QTest::mouseMove(view->viewport(), view->mapFromScene(to));
+    QTest::mouseRelease(view->viewport(), Qt::LeftButton, {}, view->mapFromScene(to));
+    EXPECT_EQ(doc()->design().findPart(id)->nodes[0], "out");
+
+    ASSERT_TRUE(doc()->groundPin(id, "b"));
+    EXPECT_EQ(doc()->design().findPart(id)->nodes[1], "0");
+    waitForRecompute();
+    // R1 from out to ground now loads the output: core's result for the edited design.
+    expectShows(*analyze(doc()->design()));
+
+    window->sketchScene()->selectPart(id);
+    QTest::keyClick(view, Qt::Key_Delete);
+    EXPECT_EQ(doc()->design().findPart(id), nullptr);
+    EXPECT_EQ(window->sketchScene()->partItem(id), nullptr);
+
+    while (doc()->undoStack()->canUndo())
+        doc()->undoStack()->undo();
+    EXPECT_EQ(doc()->design(), before);
+}
+
 TEST_F(MainWindowTest, SaveReloadGivesTheSameDesign)
 {
     wheelOver("RF", 2);
