@@ -197,7 +197,7 @@ void Inspector::showPart(const std::string &partId)
             });
         }
         auto *presets = new QComboBox(m_form);
-        presets->addItem(tr("apply a generic preset…"));
+        presets->addItem(tr("choose…"));
         presets->addItems(DesignDocument::gainBlockPresets());
         presets->setToolTip(tr("Generic gain blocks with round numbers; no real device is "
                                "modelled."));

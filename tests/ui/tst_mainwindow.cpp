@@ -433,8 +433,11 @@ TEST_F(MainWindowTest, WritesAWindowScreenshot)
 {
     wheelOver("CF", 1);
     waitForRecompute();
-    // Let the charts' layouts settle (label spacing follows the plot's final size).
-    QTest::qWait(200);
+    // Let the charts' layouts settle (label spacing follows the plot's final size) and the
+    // settled, antialiased frame follow the burst.
+    QTest::qWait(500);
+    window->sketchScene()->selectPart("RF");
+    QApplication::processEvents();
     const QString path = QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-window.png";
     QFile::remove(path);
     const QPixmap shot = window->grab();
@@ -443,6 +446,10 @@ TEST_F(MainWindowTest, WritesAWindowScreenshot)
     QImage image(path);
     EXPECT_EQ(image.width(), shot.width());
     EXPECT_GE(image.width(), 1200);
+    window->sketchScene()->selectPart("U1");
+    QApplication::processEvents();
+    EXPECT_TRUE(window->inspector()->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                                 + "/loopsketch-inspector-gain-block.png"));
     for (std::size_t i = 0; i < window->panels().size(); ++i) {
         const QString panelPath = QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
             + QStringLiteral("/loopsketch-panel-%1.png").arg(i);
