@@ -1,6 +1,9 @@
 #include "cli.h"
 
 #include "demodesign.h"
+#ifdef LOOPSKETCH_HAVE_GUI
+#include "exportcommand.h"
+#endif
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
@@ -36,6 +39,12 @@ std::string usage()
            "  loopsketch suggest FILE --parts RF,CF [--decades D] [--best N] [--json]\n"
            "                                           E-series values that best meet the "
            "specs\n"
+#ifdef LOOPSKETCH_HAVE_GUI
+           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR]\n"
+           "                                           write the review sheet (PDF), the "
+           "sweep\n"
+           "                                           (CSV) and one SVG per plot\n"
+#endif
            "  loopsketch --help | --version\n"
            "\n"
            "FILE may be \"demo\" for the embedded demo design.\n"
@@ -52,6 +61,9 @@ struct Options
     bool json = false;
     std::string candidate;
     std::string csvOut;
+    std::string pdfOut;
+    std::string svgDir;
+    bool letter = false;
     SpreadOptions spread;
     SuggestOptions suggest;
 };
@@ -174,6 +186,10 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
             return reportDiagnostics(err, written.diagnostics());
         return kExitOk;
     }
+#ifdef LOOPSKETCH_HAVE_GUI
+    if (o.command == "export")
+        return runExport(design, *analysis, {o.file, o.pdfOut, o.csvOut, o.svgDir, o.letter}, err);
+#endif
     return badInput(err, "unknown command \"" + o.command + "\"");
 }
 
@@ -193,7 +209,11 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
         out << "loopsketch " << LOOPSKETCH_VERSION << "\n";
         return kExitOk;
     }
-    if (first != "analyze" && first != "sweep" && first != "spread" && first != "suggest") {
+    bool known = first == "analyze" || first == "sweep" || first == "spread" || first == "suggest";
+#ifdef LOOPSKETCH_HAVE_GUI
+    known = known || first == "export";
+#endif
+    if (!known) {
         if (first.rfind("-", 0) == 0)
             return badInput(err, "unknown option \"" + first + "\"\n" + usage());
         if (args.size() == 1)
@@ -256,7 +276,15 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             if (!v)
                 return badInput(err, "--candidate needs a candidate name");
             o.candidate = *v;
-        } else if (a == "--csv" && o.command == "sweep") {
+        } else if ((a == "--pdf" || a == "--svg") && o.command == "export") {
+            auto v = value(a.c_str());
+            if (!v)
+                return badInput(err, a + (a == "--pdf" ? " needs an output file name"
+                                                       : " needs an output directory"));
+            (a == "--pdf" ? o.pdfOut : o.svgDir) = *v;
+        } else if (a == "--letter" && o.command == "export") {
+            o.letter = true;
+        } else if (a == "--csv" && (o.command == "sweep" || o.command == "export")) {
             auto v = value("--csv");
             if (!v)
                 return badInput(err, "--csv needs an output file name");
@@ -273,6 +301,8 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
         return badInput(err, o.command + " needs a design FILE");
     if (o.command == "sweep" && o.csvOut.empty())
         return badInput(err, "sweep needs --csv OUT");
+    if (o.command == "export" && o.pdfOut.empty())
+        return badInput(err, "export needs --pdf OUT");
     if (o.command == "suggest" && o.suggest.parts.empty())
         return badInput(err, "suggest needs --parts, e.g. --parts RF,CF");
     try {

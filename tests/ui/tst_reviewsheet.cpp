@@ -25,13 +25,13 @@ using testing::HasSubstr;
 
 namespace {
 
-struct Run
+struct CliRun
 {
     int exitCode = -1;
     QString out, err;
 };
 
-Run run(const QString &program, const QStringList &args)
+CliRun run(const QString &program, const QStringList &args)
 {
     QProcess p;
     QProcessEnvironment env = QProcessEnvironment::systemEnvironment();
@@ -47,7 +47,7 @@ Run run(const QString &program, const QStringList &args)
             QString::fromUtf8(p.readAllStandardError())};
 }
 
-Run loopsketch(const QStringList &args)
+CliRun loopsketch(const QStringList &args)
 {
     return run(QStringLiteral(LOOPSKETCH_BIN), args);
 }
@@ -80,7 +80,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("sheet.pdf"), csv = tmp.filePath("sweep.csv"),
                   svg = tmp.filePath("plots");
-    const Run exported
+    const CliRun exported
         = loopsketch({QStringLiteral("export"), designPath(c.design), QStringLiteral("--pdf"), pdf,
                       QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
@@ -91,14 +91,14 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
         EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
     }
 
-    const Run info = run(QStringLiteral("pdfinfo"), {pdf});
+    const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
     ASSERT_EQ(info.exitCode, 0) << info.err.toStdString();
     const auto pages = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
     ASSERT_TRUE(pages.hasMatch());
     const int pageCount = pages.captured(1).toInt();
     EXPECT_EQ(pageCount, c.pages);
 
-    const Run text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
     ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
     const std::string sheet = text.out.toStdString();
     for (int i = 1; i <= pageCount; ++i)
@@ -106,7 +106,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(pageCount).toStdString()));
     EXPECT_THAT(sheet, HasSubstr("What the model does not cover"));
 
-    const Run json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
+    const CliRun json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
     const QJsonObject a = QJsonDocument::fromJson(json.out.toUtf8()).object();
     const std::string unit = a["gain_unit"].toString().toStdString();
@@ -115,13 +115,12 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     const QJsonValue bw = a["closed_loop"].toObject()["bandwidth_hz"];
     ASSERT_TRUE(gain.isDouble());
     EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain.toDouble(), unit).toStdString()));
-    if (pm.isDouble())
-        EXPECT_THAT(
-            sheet,
-            HasSubstr(QString::fromStdString(loopsketch::formatEngineering(pm.toDouble(), 3) + "°")
-                          .toStdString()));
-    if (bw.isDouble())
+    if (pm.isDouble()) {
+        EXPECT_THAT(sheet, HasSubstr(loopsketch::formatEngineering(pm.toDouble(), 3) + "°"));
+    }
+    if (bw.isDouble()) {
         EXPECT_THAT(sheet, HasSubstr(sheetNumber(bw.toDouble(), "Hz").toStdString()));
+    }
     EXPECT_THAT(sheet, HasSubstr(a["title"].toString().toStdString()));
 
     // CSV: the exact gain column against the sweep of the same design.
@@ -154,14 +153,19 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
                          testing::Values(SheetCase{"demo", 3}, SheetCase{"contact-mic-preamp", 3},
                                          SheetCase{"excitation-current-driver", 3},
-                                         SheetCase{"gas-cell-current-amplifier", 3}));
+                                         SheetCase{"gas-cell-current-amplifier", 3}),
+                         [](const testing::TestParamInfo<SheetCase> &param) {
+                             std::string name = param.param.design;
+                             std::erase(name, '-');
+                             return name;
+                         });
 
 TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)
 {
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("missing-dir/sheet.pdf");
-    const Run r = loopsketch({"export", designPath("demo"), "--pdf", pdf});
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf});
     EXPECT_EQ(r.exitCode, 2);
     EXPECT_THAT(r.err.toStdString(), HasSubstr("cannot write the review sheet"));
     EXPECT_THAT(r.err.toStdString(), HasSubstr(pdf.toStdString()));
@@ -185,7 +189,7 @@ TEST(ReviewSheetErrors, DesignWithDiagnosticsWritesNoFile)
     out.write(text);
     out.close();
     const QString pdf = tmp.filePath("sheet.pdf");
-    const Run r = loopsketch({"export", bad, "--pdf", pdf});
+    const CliRun r = loopsketch({"export", bad, "--pdf", pdf});
     EXPECT_EQ(r.exitCode, 2);
     EXPECT_THAT(r.err.toStdString(), HasSubstr("RF"));
     EXPECT_THAT(r.err.toStdString(), HasSubstr("12kk"));
@@ -194,7 +198,7 @@ TEST(ReviewSheetErrors, DesignWithDiagnosticsWritesNoFile)
 
 TEST(ReviewSheetErrors, ExportNeedsPdf)
 {
-    const Run r = loopsketch({"export", designPath("demo")});
+    const CliRun r = loopsketch({"export", designPath("demo")});
     EXPECT_EQ(r.exitCode, 2);
     EXPECT_THAT(r.err.toStdString(), HasSubstr("--pdf"));
 }

@@ -1,0 +1,27 @@
+#pragma once
+
+// `loopsketch export`: the review sheet (PDF), the sweep (CSV) and the plots (SVG), without a
+// display. Built only with the GUI (LOOPSKETCH_HAVE_GUI).
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/design.h"
+
+#include <iosfwd>
+#include <string>
+
+namespace loopsketch::app {
+
+struct ExportRequest
+{
+    std::string file; ///< the design file as given, shown in the title block
+    std::string pdfOut;
+    std::string csvOut; ///< empty: no CSV
+    std::string svgDir; ///< empty: no SVG
+    bool letter = false; ///< US Letter instead of A4
+};
+
+/// Writes what `request` asks for; returns an exit code (0, or 2 with a message on `err`).
+int runExport(const Design &design, const Analysis &analysis, const ExportRequest &request,
+              std::ostream &err);
+
+} // namespace loopsketch::app

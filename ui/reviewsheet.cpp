@@ -1,0 +1,1039 @@
+#include "reviewsheet.h"
+
+#include "sketchlayout.h"
+#include "sketchscene.h"
+
+#include "loopsketch/designfile.h"
+#include "loopsketch/metrics.h"
+#include "loopsketch/value.h"
+
+#include <QBuffer>
+#include <QDate>
+#include <QDir>
+#include <QFileInfo>
+#include <QFontMetricsF>
+#include <QPainter>
+#include <QPdfWriter>
+#include <QPolygonF>
+#include <QRegularExpression>
+#include <QSaveFile>
+#include <QSvgGenerator>
+#include <QSvgRenderer>
+
+#include <algorithm>
+#include <cmath>
+#include <numbers>
+#include <vector>
+
+namespace loopsketch::ui {
+
+namespace {
+
+const QString kFontFamily = QStringLiteral("DejaVu Sans");
+constexpr double kBodyPt = 8.5;
+constexpr double kRowMm = 4.6;
+const QColor kInk(20, 20, 20);
+const QColor kRule(150, 150, 150);
+const QColor kGrid(215, 215, 215);
+const QColor kPass(20, 110, 40);
+const QColor kFail(170, 20, 20);
+
+// The text of README.md's "What the model does not cover".
+const char *const kCautions
+    = "Loopsketch computes a small-signal linear model. It does not model supply limits, slew "
+      "rate, output saturation, common-mode limits, thermal effects, breakdown, or any "
+      "large-signal behaviour, and its gain block is a generic linear amplifier, not a model of "
+      "any real device. Check a design on the bench. Designs connected to mains, high voltage, "
+      "medical equipment or safety functions must follow the applicable standards, local codes "
+      "and licensed engineering practice; Loopsketch is not a substitute for them.";
+
+QFont sheetFont(double pt, bool bold = false)
+{
+    QFont f(kFontFamily);
+    f.setPointSizeF(pt);
+    f.setBold(bold);
+    f.setStyleHint(QFont::SansSerif);
+    // no ligatures: the extracted text (search, copy) must read "fi", not one glyph
+    f.setStyleStrategy(QFont::PreferNoShaping);
+    return f;
+}
+
+QString q(const std::string &s)
+{
+    return QString::fromStdString(s);
+}
+
+QString eng(const OptionalNumber &v, std::string_view unit, int digits = 4)
+{
+    if (!v)
+        return QStringLiteral("—");
+    return q(formatEngineering(*v, digits, unit));
+}
+
+QString degrees(const OptionalNumber &v)
+{
+    if (!v)
+        return QStringLiteral("—");
+    return q(formatEngineering(*v, 3)) + QStringLiteral("°");
+}
+
+QString decibels(const OptionalNumber &v)
+{
+    if (!v)
+        return QStringLiteral("—");
+    return q(formatEngineering(*v, 3)) + QStringLiteral(" dB");
+}
+
+QString percent(const OptionalNumber &v)
+{
+    if (!v)
+        return QStringLiteral("—");
+    if (std::abs(*v) < 0.001)
+        return QStringLiteral("< 0.001 %");
+    return QString::number(*v, 'g', 3) + QStringLiteral(" %");
+}
+
+QString partTypeText(PartType t)
+{
+    switch (t) {
+    case PartType::Resistor:
+        return QStringLiteral("resistor");
+    case PartType::Capacitor:
+        return QStringLiteral("capacitor");
+    case PartType::Inductor:
+        return QStringLiteral("inductor");
+    case PartType::VSource:
+        return QStringLiteral("voltage source");
+    case PartType::ISource:
+        return QStringLiteral("current source");
+    case PartType::GainBlock:
+        return QStringLiteral("gain block");
+    case PartType::Load:
+        return QStringLiteral("load");
+    }
+    return {};
+}
+
+// ---------------------------------------------------------------------------------------
+// Page layout: a cursor running down the page in millimetres. With m_painter null it only
+// measures, so the page count is known before the first page is drawn.
+
+class SheetWriter
+{
+public:
+    SheetWriter(QPainter *painter, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm,
+                double unitsPerMm, int totalPages)
+        : m_p(painter), m_device(device), m_pdf(pdf), m_pageMm(pageMm), m_k(unitsPerMm),
+          m_total(totalPages)
+    { }
+
+    double width() const { return m_pageMm.width(); }
+    double bottom() const { return m_pageMm.height() - 9.0; } // footer below
+    double y() const { return m_y; }
+    void advance(double mm) { m_y += mm; }
+    int page() const { return m_page; }
+    QPainter *painter() const { return m_p; }
+    double k() const { return m_k; }
+
+    QRectF toDevice(const QRectF &mm) const
+    {
+        return {mm.x() * m_k, mm.y() * m_k, mm.width() * m_k, mm.height() * m_k};
+    }
+
+    void ensure(double mm)
+    {
+        if (m_y + mm > bottom())
+            newPage();
+    }
+
+    void newPage()
+    {
+        footer();
+        if (m_p && m_pdf)
+            m_pdf->newPage();
+        ++m_page;
+        m_y = 0;
+    }
+
+    void finish() { footer(); }
+
+    double textHeight(const QString &text, const QFont &font, double widthMm) const
+    {
+        const QFontMetricsF fm(font, m_device);
+        const QRectF r = fm.boundingRect(QRectF(0, 0, widthMm * m_k, 1e9),
+                                         Qt::TextWordWrap | Qt::AlignLeft, text);
+        return r.height() / m_k;
+    }
+
+    /// A wrapped paragraph at the cursor.
+    void paragraph(const QString &text, const QFont &font, double indentMm = 0,
+                   const QColor &colour = kInk)
+    {
+        const double w = width() - indentMm;
+        const double h = textHeight(text, font, w);
+        ensure(h);
+        if (m_p) {
+            m_p->setFont(font);
+            m_p->setPen(colour);
+            m_p->drawText(toDevice(QRectF(indentMm, m_y, w, h + 1)),
+                          Qt::TextWordWrap | Qt::AlignLeft | Qt::AlignTop, text);
+        }
+        m_y += h;
+    }
+
+    void heading(const QString &text)
+    {
+        ensure(14);
+        m_y += 3;
+        paragraph(text, sheetFont(11, true));
+        rule(0.3);
+        m_y += 1.5;
+    }
+
+    void rule(double widthMm, double fromMm = 0, double toMm = -1)
+    {
+        if (toMm < 0)
+            toMm = width();
+        if (m_p) {
+            m_p->setPen(QPen(kRule, widthMm * m_k));
+            m_p->drawLine(QPointF(fromMm * m_k, m_y * m_k), QPointF(toMm * m_k, m_y * m_k));
+        }
+    }
+
+    void cell(const QRectF &mm, const QString &text, const QFont &font, Qt::Alignment align,
+              const QColor &colour = kInk)
+    {
+        if (!m_p)
+            return;
+        m_p->setFont(font);
+        m_p->setPen(colour);
+        const QRectF inner(mm.x() + 1.0, mm.y(), mm.width() - 2.0, mm.height());
+        m_p->drawText(toDevice(inner), static_cast<int>(align | Qt::AlignVCenter), text);
+    }
+
+    struct Column
+    {
+        QString title;
+        double widthMm;
+        Qt::Alignment align = Qt::AlignLeft;
+    };
+    struct Row
+    {
+        QStringList cells;
+        std::vector<QColor> colours = {}; // optional per cell
+    };
+
+    /// A table with a bold header row; rows that do not fit go to the next page, which
+    /// repeats the header.
+    void table(const std::vector<Column> &columns, const std::vector<Row> &rows)
+    {
+        const QFont head = sheetFont(kBodyPt, true), body = sheetFont(kBodyPt);
+        ensure(kRowMm * 2);
+        header(columns, head);
+        for (std::size_t r = 0; r < rows.size(); ++r) {
+            if (m_y + kRowMm > bottom()) {
+                newPage();
+                header(columns, head);
+            }
+            if (m_p && r % 2 == 1) {
+                m_p->fillRect(toDevice(QRectF(0, m_y, totalWidth(columns), kRowMm)),
+                              QColor(244, 244, 244));
+            }
+            double x = 0;
+            for (std::size_t c = 0; c < columns.size(); ++c) {
+                const QColor colour = c < rows[r].colours.size() ? rows[r].colours[c] : kInk;
+                cell(QRectF(x, m_y, columns[c].widthMm, kRowMm),
+                     c < static_cast<std::size_t>(rows[r].cells.size())
+                         ? rows[r].cells[static_cast<qsizetype>(c)]
+                         : QString(),
+                     body, columns[c].align, colour);
+                x += columns[c].widthMm;
+            }
+            m_y += kRowMm;
+        }
+        rule(0.2, 0, totalWidth(columns));
+        m_y += 2;
+    }
+
+private:
+    static double totalWidth(const std::vector<Column> &columns)
+    {
+        double w = 0;
+        for (const auto &c : columns)
+            w += c.widthMm;
+        return w;
+    }
+
+    void header(const std::vector<Column> &columns, const QFont &font)
+    {
+        double x = 0;
+        for (const auto &c : columns) {
+            cell(QRectF(x, m_y, c.widthMm, kRowMm), c.title, font, c.align);
+            x += c.widthMm;
+        }
+        m_y += kRowMm;
+        rule(0.25, 0, totalWidth(columns));
+        m_y += 0.4;
+    }
+
+    void footer()
+    {
+        if (!m_p)
+            return;
+        const QString text = QStringLiteral("page %1 of %2").arg(m_page).arg(m_total);
+        cell(QRectF(0, m_pageMm.height() - 5, width(), 5), text, sheetFont(7.5), Qt::AlignRight,
+             kRule);
+        cell(QRectF(0, m_pageMm.height() - 5, width(), 5),
+             QStringLiteral("Loopsketch review sheet"), sheetFont(7.5), Qt::AlignLeft, kRule);
+    }
+
+    QPainter *m_p;
+    QPaintDevice *m_device;
+    QPdfWriter *m_pdf;
+    QSizeF m_pageMm;
+    double m_k;
+    int m_total;
+    int m_page = 1;
+    double m_y = 0;
+};
+
+// ---------------------------------------------------------------------------------------
+// Plots
+
+struct Series
+{
+    QString name;
+    std::vector<double> x, y; // x in Hz (log axes) or s; NaN breaks the line
+    QColor colour;
+    Qt::PenStyle style = Qt::SolidLine;
+};
+
+double niceStep(double span, int maxTicks, std::initializer_list<double> steps)
+{
+    for (double s : steps)
+        if (span / s <= maxTicks)
+            return s;
+    return *(steps.end() - 1) * std::ceil(span / (maxTicks * *(steps.end() - 1)));
+}
+
+struct Axis
+{
+    double lo = 0, hi = 1;
+    bool log = false;
+    double step = 1; // linear axes
+};
+
+double mapAxis(const Axis &a, double v, double from, double to)
+{
+    const double t = a.log ? (std::log10(v) - a.lo) / (a.hi - a.lo) : (v - a.lo) / (a.hi - a.lo);
+    return from + t * (to - from);
+}
+
+void finiteRange(const std::vector<Series> &series, bool useX, double &lo, double &hi)
+{
+    lo = INFINITY;
+    hi = -INFINITY;
+    for (const auto &s : series)
+        for (double v : useX ? s.x : s.y)
+            if (std::isfinite(v)) {
+                lo = std::min(lo, v);
+                hi = std::max(hi, v);
+            }
+}
+
+/// One panel: frame, grid, tick labels, curves. `yFormat` gives a tick label.
+void drawPanel(QPainter &p, const QRectF &area, double k, const Axis &xa, const Axis &ya,
+               const std::vector<Series> &series, const QString &yTitle, bool xLabels,
+               const QString &xTitle, bool yLogOhm)
+{
+    const QFont tick = sheetFont(6.5);
+    p.setFont(tick);
+    const QFontMetricsF fm(tick, p.device());
+    const double pad = 1.2 * k;
+
+    p.setPen(QPen(kGrid, 0.15 * k));
+    // x grid and labels
+    std::vector<std::pair<double, QString>> xt;
+    if (xa.log) {
+        for (int d = static_cast<int>(std::ceil(xa.lo - 1e-9));
+             d <= static_cast<int>(std::floor(xa.hi + 1e-9)); ++d)
+            xt.emplace_back(std::pow(10.0, d),
+                            QString::fromStdString(formatEngineering(std::pow(10.0, d), 3)));
+        for (int d = static_cast<int>(std::floor(xa.lo)); d < static_cast<int>(std::ceil(xa.hi));
+             ++d)
+            for (int m = 2; m <= 9; ++m) {
+                const double v = m * std::pow(10.0, d);
+                if (std::log10(v) <= xa.lo || std::log10(v) >= xa.hi)
+                    continue;
+                const double x = mapAxis(xa, v, area.left(), area.right());
+                p.setPen(QPen(QColor(235, 235, 235), 0.1 * k));
+                p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+            }
+    } else {
+        for (double v = std::ceil(xa.lo / xa.step) * xa.step; v <= xa.hi + 1e-12 * std::abs(xa.hi);
+             v += xa.step)
+            xt.emplace_back(v, QString::fromStdString(formatEngineering(v, 3, "s")));
+    }
+    for (const auto &[v, label] : xt) {
+        const double x = mapAxis(xa, v, area.left(), area.right());
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+        if (xLabels) {
+            p.setPen(kInk);
+            const double w = fm.horizontalAdvance(label);
+            p.drawText(QPointF(x - w / 2, area.bottom() + pad + fm.ascent()), label);
+        }
+    }
+    if (xLabels && !xTitle.isEmpty()) {
+        p.setPen(kInk);
+        const double w = fm.horizontalAdvance(xTitle);
+        p.drawText(QPointF(area.right() - w, area.bottom() + pad + fm.ascent() + fm.height()),
+                   xTitle);
+    }
+    // y grid and labels
+    double maxLabel = 0;
+    for (double v = std::ceil(ya.lo / ya.step - 1e-9) * ya.step; v <= ya.hi + 1e-9 * ya.step;
+         v += ya.step) {
+        const double y = mapAxis(ya, v, area.bottom(), area.top());
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(area.left(), y), QPointF(area.right(), y));
+        const QString label = yLogOhm
+            ? QString::fromStdString(formatEngineering(std::pow(10.0, v), 3))
+            : QString::fromStdString(formatEngineering(std::abs(v) < 1e-9 * ya.step ? 0.0 : v, 3));
+        const double w = fm.horizontalAdvance(label);
+        maxLabel = std::max(maxLabel, w);
+        p.setPen(kInk);
+        p.drawText(QPointF(area.left() - pad - w, y + fm.ascent() / 2 - fm.descent() / 2), label);
+    }
+    if (!yTitle.isEmpty()) {
+        p.save();
+        p.translate(area.left() - pad * 2 - maxLabel - fm.descent(), area.center().y());
+        p.rotate(-90);
+        p.setPen(kInk);
+        p.drawText(QPointF(-fm.horizontalAdvance(yTitle) / 2, 0), yTitle);
+        p.restore();
+    }
+    // curves
+    p.save();
+    p.setClipRect(area);
+    p.setRenderHint(QPainter::Antialiasing);
+    for (const auto &s : series) {
+        QPen pen(s.colour, 0.35 * k, s.style);
+        pen.setJoinStyle(Qt::RoundJoin);
+        p.setPen(pen);
+        QPolygonF line;
+        const auto flush = [&] {
+            if (line.size() > 1)
+                p.drawPolyline(line);
+            line.clear();
+        };
+        for (std::size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+            if (!std::isfinite(s.x[i]) || !std::isfinite(s.y[i]) || (xa.log && s.x[i] <= 0)) {
+                flush();
+                continue;
+            }
+            const double yv
+                = std::clamp(s.y[i], ya.lo - 10 * (ya.hi - ya.lo), ya.hi + 10 * (ya.hi - ya.lo));
+            line << QPointF(mapAxis(xa, s.x[i], area.left(), area.right()),
+                            mapAxis(ya, yv, area.bottom(), area.top()));
+        }
+        flush();
+    }
+    p.restore();
+    p.setPen(QPen(kRule, 0.25 * k));
+    p.setBrush(Qt::NoBrush);
+    p.drawRect(area);
+}
+
+Axis linearAxis(const std::vector<Series> &series, std::initializer_list<double> steps,
+                double minSpan, int maxTicks = 6)
+{
+    Axis a;
+    double lo, hi;
+    finiteRange(series, false, lo, hi);
+    if (!std::isfinite(lo)) {
+        lo = 0;
+        hi = 1;
+    }
+    if (hi - lo < minSpan) {
+        const double mid = (hi + lo) / 2;
+        lo = mid - minSpan / 2;
+        hi = mid + minSpan / 2;
+    }
+    a.step = niceStep(hi - lo, maxTicks, steps);
+    a.lo = std::floor(lo / a.step) * a.step;
+    a.hi = std::ceil(hi / a.step) * a.step;
+    if (a.hi <= a.lo)
+        a.hi = a.lo + a.step;
+    return a;
+}
+
+Axis frequencyAxis(const Analysis &a)
+{
+    Axis x;
+    x.log = true;
+    if (a.frequenciesHz.empty() || !(a.frequenciesHz.front() > 0)) {
+        x.lo = 0;
+        x.hi = 9;
+        return x;
+    }
+    x.lo = std::log10(a.frequenciesHz.front());
+    x.hi = std::log10(a.frequenciesHz.back());
+    if (x.hi <= x.lo)
+        x.hi = x.lo + 1;
+    return x;
+}
+
+Series dbSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour,
+                Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, a.frequenciesHz, {}, colour, style};
+    s.y.reserve(c.size());
+    for (const auto &v : c)
+        s.y.push_back(std::isfinite(std::abs(v)) ? toDecibels(std::abs(v)) : NAN);
+    s.x.resize(s.y.size());
+    return s;
+}
+
+Series logOhmSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour,
+                    Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, a.frequenciesHz, {}, colour, style};
+    for (const auto &v : c)
+        s.y.push_back(std::abs(v) > 0 && std::isfinite(std::abs(v)) ? std::log10(std::abs(v))
+                                                                    : NAN);
+    s.x.resize(s.y.size());
+    return s;
+}
+
+Series phaseSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour)
+{
+    Series s{name, a.frequenciesHz, {}, colour, Qt::SolidLine};
+    if (c.empty())
+        return s;
+    const std::vector<double> ph = unwrapPhase(c, std::arg(c.front()));
+    for (std::size_t i = 0; i < ph.size(); ++i)
+        s.y.push_back(std::isfinite(std::abs(c[i])) ? ph[i] * 180.0 / std::numbers::pi : NAN);
+    s.x.resize(s.y.size());
+    return s;
+}
+
+bool hasFinite(const Curve &c)
+{
+    return std::any_of(c.begin(), c.end(),
+                       [](const auto &v) { return std::isfinite(std::abs(v)); });
+}
+
+void drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Series> &series)
+{
+    const QFont f = sheetFont(6.5);
+    p.setFont(f);
+    const QFontMetricsF fm(f, p.device());
+    double x = area.left();
+    const double y = area.center().y();
+    for (const auto &s : series) {
+        p.setPen(QPen(s.colour, 0.5 * k, s.style));
+        p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+        x += 7 * k;
+        p.setPen(kInk);
+        p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), s.name);
+        x += fm.horizontalAdvance(s.name) + 4 * k;
+    }
+}
+
+const QColor kBlue(25, 80, 160), kOrange(205, 110, 20), kGreen(40, 130, 70), kPurple(120, 60, 150);
+
+} // namespace
+
+QString sheetPlotFileStem(SheetPlot plot)
+{
+    switch (plot) {
+    case SheetPlot::LoopGain:
+        return QStringLiteral("loop-gain");
+    case SheetPlot::Impedance:
+        return QStringLiteral("impedance");
+    case SheetPlot::Desensitivity:
+        return QStringLiteral("desensitivity");
+    case SheetPlot::Step:
+        return QStringLiteral("step");
+    }
+    return {};
+}
+
+void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, const Analysis &a)
+{
+    p.save();
+    const QFont titleFont = sheetFont(8.5, true);
+    p.setFont(titleFont);
+    const QFontMetricsF tfm(titleFont, p.device());
+    const double left = rect.left() + 17 * k, right = rect.right() - 2 * k;
+    const double top = rect.top() + tfm.height() + 6 * k, bottom = rect.bottom() - 9 * k;
+    const QRectF legendRect(left, rect.top() + tfm.height() + 0.5 * k, right - left, 4 * k);
+    const Axis fx = frequencyAxis(a);
+    const QString unit = q(a.gainUnit);
+    QString title;
+    std::vector<Series> legend;
+    switch (plot) {
+    case SheetPlot::LoopGain: {
+        title = QStringLiteral("Loop gain and closed-loop gain");
+        std::vector<Series> mag;
+        mag.push_back(dbSeries(QStringLiteral("|T| (return ratio)"), a, a.curves.loopGain, kBlue));
+        mag.push_back(dbSeries(QStringLiteral("closed loop, exact (dB %1)").arg(unit), a,
+                               a.curves.gainExact, kOrange));
+        if (hasFinite(a.curves.gainTwoPort))
+            mag.push_back(dbSeries(QStringLiteral("closed loop, two-port"), a, a.curves.gainTwoPort,
+                                   kGreen, Qt::DashLine));
+        std::vector<Series> ph{
+            phaseSeries(QStringLiteral("phase of T"), a, a.curves.loopGain, kBlue)};
+        legend = mag;
+        const double mid = top + (bottom - top) * 0.58;
+        Axis ym = linearAxis(mag, {10, 20, 40, 50, 100}, 20, 6);
+        Axis yp = linearAxis(ph, {45, 90, 180, 360}, 90, 5);
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 2 * k)), k, fx, ym, mag,
+                  QStringLiteral("dB"), false, {}, false);
+        drawPanel(p, QRectF(QPointF(left, mid + 1 * k), QPointF(right, bottom)), k, fx, yp, ph,
+                  QStringLiteral("phase of T (°)"), true, QStringLiteral("Hz"), false);
+        break;
+    }
+    case SheetPlot::Impedance: {
+        title = QStringLiteral("Impedance (exact)");
+        std::vector<Series> z{
+            logOhmSeries(QStringLiteral("|z_in|"), a, a.curves.zInExact, kBlue),
+            logOhmSeries(QStringLiteral("|z_out|"), a, a.curves.zOutExact, kOrange)};
+        legend = z;
+        Axis y = linearAxis(z, {1, 2, 3, 4, 5}, 1, 6);
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, fx, y, z,
+                  QStringLiteral("Ω"), true, QStringLiteral("Hz"), true);
+        break;
+    }
+    case SheetPlot::Desensitivity: {
+        title = QStringLiteral("Desensitivity |1 + T|");
+        std::vector<Series> d{
+            dbSeries(QStringLiteral("|1 + T|"), a, a.curves.desensitivity, kPurple)};
+        legend = d;
+        Axis y = linearAxis(d, {10, 20, 40, 50, 100}, 20, 6);
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, fx, y, d,
+                  QStringLiteral("dB"), true, QStringLiteral("Hz"), false);
+        break;
+    }
+    case SheetPlot::Step: {
+        title = QStringLiteral("Step response (per unit source step, %1)").arg(unit);
+        Series s{QStringLiteral("output"), a.step.timeS, a.step.response, kBlue, Qt::SolidLine};
+        std::vector<Series> st{s};
+        legend = st;
+        Axis x;
+        double lo, hi;
+        finiteRange(st, true, lo, hi);
+        if (!std::isfinite(lo) || hi <= lo) {
+            lo = 0;
+            hi = 1;
+        }
+        x.lo = lo;
+        x.hi = hi;
+        const double mag = std::pow(10.0, std::floor(std::log10(hi - lo)));
+        x.step = mag * niceStep((hi - lo) / mag, 6, {0.5, 1, 2, 2.5, 5, 10});
+        finiteRange(st, false, lo, hi);
+        if (!std::isfinite(lo)) {
+            lo = 0;
+            hi = 1;
+        }
+        lo = std::min(lo, 0.0);
+        hi = std::max(hi, 0.0);
+        if (hi - lo <= 0)
+            hi = lo + 1;
+        Axis y;
+        const double ymag = std::pow(10.0, std::floor(std::log10(hi - lo)));
+        y.step = ymag * niceStep((hi - lo) / ymag, 6, {0.2, 0.25, 0.5, 1, 2, 2.5, 5, 10});
+        y.lo = std::floor(lo / y.step) * y.step;
+        y.hi = std::ceil(hi / y.step) * y.step;
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, x, y, st, unit, true,
+                  QStringLiteral("time"), false);
+        break;
+    }
+    }
+    p.setFont(titleFont);
+    p.setPen(kInk);
+    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()), title);
+    drawLegend(p, legendRect, k, legend);
+    p.restore();
+}
+
+QString revisionText(const Design &design)
+{
+    static const QRegularExpression re(
+        QStringLiteral("\\b(rev(?:ision)?\\.?\\s*[A-Za-z0-9][A-Za-z0-9.]*)"),
+        QRegularExpression::CaseInsensitiveOption);
+    for (const std::string *text : {&design.notes, &design.title}) {
+        const auto m = re.match(q(*text));
+        if (m.hasMatch())
+            return m.captured(1);
+    }
+    return {};
+}
+
+QString designContentHash(const Design &design)
+{
+    const std::string text = serializeDesign(design);
+    std::uint32_t h = 2166136261u; // FNV-1a offset basis and prime (32 bit)
+    for (unsigned char c : text) {
+        h ^= c;
+        h *= 16777619u;
+    }
+    return QStringLiteral("%1").arg(h, 8, 16, QLatin1Char('0'));
+}
+
+namespace {
+
+void titleBlock(SheetWriter &w, const Design &d, const QString &fileName)
+{
+    w.paragraph(d.title.empty() ? QStringLiteral("Untitled design") : q(d.title),
+                sheetFont(15, true));
+    w.advance(1.5);
+    const QString rev = revisionText(d);
+    const std::vector<SheetWriter::Column> cols{{QStringLiteral("File"), 70},
+                                                {QStringLiteral("Date"), 28},
+                                                {QStringLiteral("Content hash"), 30},
+                                                {QStringLiteral("Revision"), 52}};
+    w.table(cols,
+            {{{fileName.isEmpty() ? QStringLiteral("(not saved)") : fileName,
+               QDate::currentDate().toString(Qt::ISODate), designContentHash(d),
+               rev.isEmpty() ? QStringLiteral("not stated in the notes") : rev}}});
+    if (!d.notes.empty())
+        w.paragraph(q(d.notes), sheetFont(kBodyPt), 0, QColor(60, 60, 60));
+}
+
+void sketchSection(SheetWriter &w, const Design &d)
+{
+    w.heading(QStringLiteral("Sketch"));
+    const double h = 62;
+    w.ensure(h);
+    if (QPainter *p = w.painter()) {
+        SketchScene scene;
+        scene.rebuild(&d, d.sketch ? *d.sketch : automaticLayout(d));
+        const QRectF source = scene.itemsBoundingRect().adjusted(-10, -10, 10, 10);
+        // Through an SVG in memory: the scene's point-size fonts would otherwise be sized for
+        // the PDF's 1200 dpi while its geometry is scaled to the target.
+        QBuffer buffer;
+        buffer.open(QIODevice::ReadWrite);
+        {
+            QSvgGenerator svg;
+            svg.setOutputDevice(&buffer);
+            const QSize size = source.size().toSize();
+            svg.setSize(size);
+            svg.setViewBox(QRect(QPoint(0, 0), size));
+            QPainter sp(&svg);
+            scene.render(&sp, QRectF(QPointF(0, 0), QSizeF(size)), source, Qt::KeepAspectRatio);
+        }
+        QSvgRenderer renderer(buffer.data());
+        renderer.setAspectRatioMode(Qt::KeepAspectRatio);
+        renderer.render(p, w.toDevice(QRectF(0, w.y(), w.width(), h)));
+    }
+    w.advance(h + 2);
+}
+
+void partsSection(SheetWriter &w, const Design &d)
+{
+    w.heading(QStringLiteral("Parts"));
+    std::vector<SheetWriter::Row> rows;
+    for (const Part &part : d.parts) {
+        QString value = QStringLiteral("—"), rkm = QStringLiteral("—");
+        const std::string_view field = part.primaryField();
+        if (!field.empty() && part.has(field)) {
+            const FieldSpec *spec = findFieldSpec(part.type, field);
+            const double v = part.number(field);
+            value = q(formatValue(v, spec ? spec->kind : ValueKind::Plain, 3));
+            if (spec
+                && (spec->kind == ValueKind::Resistance || spec->kind == ValueKind::Capacitance))
+                rkm = q(formatRkm(v, spec->kind, 3));
+        } else if (part.type == PartType::GainBlock && part.has("gain")) {
+            value = q(formatEngineering(part.number("gain"), 3, "V/V"));
+        }
+        rows.push_back(
+            {{q(part.id), partTypeText(part.type), value, rkm,
+              part.series ? q(toString(*part.series)) : QStringLiteral("—"),
+              part.tolerance ? q(formatValue(part.tolerance->si, ValueKind::Tolerance, 3))
+                             : QStringLiteral("—")}});
+    }
+    w.table({{QStringLiteral("Id"), 24},
+             {QStringLiteral("Type"), 36},
+             {QStringLiteral("Value"), 40, Qt::AlignRight},
+             {QStringLiteral("RKM"), 22, Qt::AlignRight},
+             {QStringLiteral("Series"), 24, Qt::AlignRight},
+             {QStringLiteral("Tolerance"), 26, Qt::AlignRight}},
+            rows);
+}
+
+void topologySection(SheetWriter &w, const Analysis &a)
+{
+    w.heading(QStringLiteral("Topology"));
+    const QFont f = sheetFont(kBodyPt);
+    if (a.topology) {
+        const Topology &t = *a.topology;
+        QString parts;
+        for (const auto &id : t.networkParts)
+            parts += (parts.isEmpty() ? QString() : QStringLiteral(", ")) + q(id);
+        w.paragraph(
+            QStringLiteral("%1 feedback, %2 parameters, %3 gain (%4). Feedback network: %5.")
+                .arg(q(t.name()), q(toString(t.parameters())), q(t.gainType()), q(t.gainUnit()),
+                     parts.isEmpty() ? QStringLiteral("—") : parts),
+            f);
+        if (!a.twoPortProblem.empty())
+            w.paragraph(QStringLiteral("No two-port estimate: %1").arg(q(a.twoPortProblem)), f);
+    } else {
+        w.paragraph(QStringLiteral("Not a two-port feedback form: %1").arg(q(a.topologyReason)), f);
+    }
+    w.advance(1);
+}
+
+void methodSection(SheetWriter &w, const Analysis &a)
+{
+    w.heading(QStringLiteral("Methods side by side (DC)"));
+    const std::string gu = a.gainUnit;
+    const auto &tp = a.twoPort;
+    const auto &rr = a.returnRatio;
+    const auto tpv = [&](OptionalNumber TwoPortSummary::*m) {
+        return tp ? (*tp).*m : OptionalNumber{};
+    };
+    std::vector<SheetWriter::Row> rows{
+        {{QStringLiteral("gain"), eng(tpv(&TwoPortSummary::gain), gu), eng(a.exact.gain, gu),
+          eng(rr.gain, gu), percent(tpv(&TwoPortSummary::gainErrorPct))}},
+        {{QStringLiteral("loop gain"), eng(tpv(&TwoPortSummary::loopGain), ""), QStringLiteral("—"),
+          eng(rr.loopGain, ""), QStringLiteral("—")}},
+        {{QStringLiteral("z_in"), eng(tpv(&TwoPortSummary::zIn), "Ω"), eng(a.exact.zIn, "Ω"),
+          eng(rr.zIn, "Ω"), percent(tpv(&TwoPortSummary::zInErrorPct))}},
+        {{QStringLiteral("z_out"), eng(tpv(&TwoPortSummary::zOut), "Ω"), eng(a.exact.zOut, "Ω"),
+          eng(rr.zOut, "Ω"), percent(tpv(&TwoPortSummary::zOutErrorPct))}},
+    };
+    w.table({{QStringLiteral("Quantity"), 30},
+             {QStringLiteral("Two-port estimate"), 40, Qt::AlignRight},
+             {QStringLiteral("Exact solution"), 40, Qt::AlignRight},
+             {QStringLiteral("Return ratio"), 40, Qt::AlignRight},
+             {QStringLiteral("Estimate error"), 30, Qt::AlignRight}},
+            rows);
+    w.paragraph(QStringLiteral("Error = (two-port estimate − exact) / exact."), sheetFont(7.5), 0,
+                QColor(90, 90, 90));
+}
+
+void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
+{
+    w.heading(QStringLiteral("Key metrics against the specs"));
+    const std::string gu = a.gainUnit;
+    std::vector<SheetWriter::Row> rows;
+    const auto verdict = [](std::optional<bool> ok) -> std::pair<QString, QColor> {
+        if (!ok)
+            return {QStringLiteral("no spec"), QColor(110, 110, 110)};
+        return *ok ? std::pair{QStringLiteral("pass"), kPass}
+                   : std::pair{QStringLiteral("fail"), kFail};
+    };
+    const auto add = [&](const QString &name, const QString &value, const QString &spec,
+                         std::optional<bool> ok) {
+        const auto [text, colour] = verdict(ok);
+        rows.push_back({{name, value, spec, text}, {kInk, kInk, kInk, colour}});
+    };
+    {
+        const Specs &s = d.specs;
+        std::optional<bool> ok;
+        QString spec = QStringLiteral("—");
+        if (s.gainMin || s.gainMax) {
+            spec = QStringLiteral("%1 … %2").arg(
+                s.gainMin ? eng(s.gainMin->si, gu) : QStringLiteral("−∞"),
+                s.gainMax ? eng(s.gainMax->si, gu) : QStringLiteral("+∞"));
+            ok = a.exact.gain && (!s.gainMin || *a.exact.gain >= s.gainMin->si)
+                && (!s.gainMax || *a.exact.gain <= s.gainMax->si);
+        }
+        add(QStringLiteral("DC gain (exact)"), eng(a.exact.gain, gu), spec, ok);
+    }
+    {
+        std::optional<bool> ok;
+        QString spec = QStringLiteral("—");
+        if (d.specs.bandwidthMin) {
+            spec = QStringLiteral("≥ %1").arg(eng(d.specs.bandwidthMin->si, "Hz"));
+            ok = a.bandwidthHz && *a.bandwidthHz >= d.specs.bandwidthMin->si;
+        }
+        add(QStringLiteral("bandwidth (−3 dB)"), eng(a.bandwidthHz, "Hz"), spec, ok);
+    }
+    {
+        std::optional<bool> ok;
+        QString spec = QStringLiteral("—");
+        if (d.specs.phaseMarginMinDeg) {
+            spec = QStringLiteral("≥ %1").arg(degrees(*d.specs.phaseMarginMinDeg));
+            ok = a.margins.phaseMarginDeg
+                && *a.margins.phaseMarginDeg >= *d.specs.phaseMarginMinDeg;
+        }
+        add(QStringLiteral("phase margin"), degrees(a.margins.phaseMarginDeg), spec, ok);
+    }
+    add(QStringLiteral("crossover |T| = 1"), eng(a.margins.crossoverHz, "Hz"), QStringLiteral("—"),
+        {});
+    add(QStringLiteral("gain margin"), decibels(a.margins.gainMarginDb), QStringLiteral("—"), {});
+    add(QStringLiteral("peaking"), decibels(a.peakingDb), QStringLiteral("—"), {});
+    add(QStringLiteral("desensitivity at DC"), decibels(a.desensitivityDb), QStringLiteral("—"),
+        {});
+    add(QStringLiteral("rise time 10–90 %"), eng(a.step.riseTimeS, "s"), QStringLiteral("—"), {});
+    add(QStringLiteral("overshoot"), percent(a.step.overshootPct), QStringLiteral("—"), {});
+    add(QStringLiteral("settling to ±1 %"), eng(a.step.settlingTimeS, "s"), QStringLiteral("—"),
+        {});
+    w.table({{QStringLiteral("Metric"), 50},
+             {QStringLiteral("Value"), 40, Qt::AlignRight},
+             {QStringLiteral("Spec"), 50, Qt::AlignRight},
+             {QStringLiteral("Verdict"), 30, Qt::AlignRight}},
+            rows);
+}
+
+void candidatesSection(SheetWriter &w, const Design &d)
+{
+    if (d.candidates.empty())
+        return;
+    w.heading(QStringLiteral("Candidates"));
+    std::vector<SheetWriter::Row> rows;
+    for (const Candidate &c : d.candidates) {
+        QString values;
+        for (const auto &[id, v] : c.values) {
+            const Part *part = d.findPart(id);
+            const FieldSpec *spec
+                = part ? findFieldSpec(part->type, part->primaryField()) : nullptr;
+            const QString text = q(formatValue(v.si, spec ? spec->kind : ValueKind::Plain, 3));
+            values += (values.isEmpty() ? QString() : QStringLiteral(", ")) + q(id) + " = " + text;
+        }
+        rows.push_back({{q(c.name), values}});
+    }
+    w.table({{QStringLiteral("Candidate"), 50}, {QStringLiteral("Changed values"), 130}}, rows);
+}
+
+void plotsSection(SheetWriter &w, const Analysis &a)
+{
+    w.heading(QStringLiteral("Plots"));
+    const double gap = 5;
+    for (SheetPlot plot : kSheetPlots) {
+        const double ph = plot == SheetPlot::LoopGain ? 120 : 95;
+        w.ensure(ph);
+        if (QPainter *p = w.painter())
+            drawSheetPlot(*p, w.toDevice(QRectF(0, w.y(), w.width(), ph)), w.k(), plot, a);
+        w.advance(ph + gap);
+    }
+}
+
+void cautionsSection(SheetWriter &w)
+{
+    w.heading(QStringLiteral("What the model does not cover"));
+    w.paragraph(QString::fromUtf8(kCautions), sheetFont(kBodyPt));
+}
+
+int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm, double k,
+               int totalPages, const Design &d, const Analysis &a, const QString &fileName)
+{
+    SheetWriter w(p, device, pdf, pageMm, k, totalPages);
+    titleBlock(w, d, fileName);
+    sketchSection(w, d);
+    partsSection(w, d);
+    topologySection(w, a);
+    methodSection(w, a);
+    metricsSection(w, d, a);
+    candidatesSection(w, d);
+    plotsSection(w, a);
+    cautionsSection(w);
+    w.finish();
+    return w.page();
+}
+
+void setUpWriter(QPdfWriter &pdf, SheetPageSize size, const QString &title)
+{
+    pdf.setPageSize(QPageSize(size == SheetPageSize::A4 ? QPageSize::A4 : QPageSize::Letter));
+    pdf.setPageMargins(QMarginsF(15, 14, 15, 12), QPageLayout::Millimeter);
+    pdf.setTitle(title);
+    pdf.setCreator(QStringLiteral("Loopsketch"));
+}
+
+QSizeF paintSizeMm(const QPdfWriter &pdf)
+{
+    return pdf.pageLayout().paintRect(QPageLayout::Millimeter).size();
+}
+
+} // namespace
+
+int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize)
+{
+    QPdfWriter pdf(QString{});
+    setUpWriter(pdf, pageSize, {});
+    return paintSheet(nullptr, &pdf, nullptr, paintSizeMm(pdf), pdf.resolution() / 25.4, 0, design,
+                      analysis, {});
+}
+
+bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
+                       SheetPageSize pageSize, const QString &fileName, QString *error)
+{
+    const int pages = reviewSheetPageCount(design, analysis, pageSize);
+    QSaveFile file(path);
+    if (!file.open(QIODevice::WriteOnly)) {
+        if (error)
+            *error = QStringLiteral("%1: cannot write the review sheet: %2")
+                         .arg(path, file.errorString());
+        return false;
+    }
+    {
+        QPdfWriter pdf(&file);
+        setUpWriter(pdf, pageSize, q(design.title));
+        QPainter painter;
+        if (!painter.begin(&pdf)) {
+            file.cancelWriting();
+            if (error)
+                *error = QStringLiteral("%1: cannot start the PDF").arg(path);
+            return false;
+        }
+        paintSheet(&painter, &pdf, &pdf, paintSizeMm(pdf), pdf.resolution() / 25.4, pages, design,
+                   analysis, fileName);
+        painter.end();
+    }
+    if (!file.commit()) {
+        if (error)
+            *error = QStringLiteral("%1: cannot write the review sheet: %2")
+                         .arg(path, file.errorString());
+        return false;
+    }
+    return true;
+}
+
+bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error)
+{
+    if (!QDir().mkpath(dir)) {
+        if (error)
+            *error = QStringLiteral("%1: cannot create the directory").arg(dir);
+        return false;
+    }
+    constexpr int kResolution = 90;
+    const double k = kResolution / 25.4;
+    const QSizeF sizeMm(170, 110);
+    for (SheetPlot plot : kSheetPlots) {
+        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + QStringLiteral(".svg"));
+        QSaveFile file(path);
+        if (!file.open(QIODevice::WriteOnly)) {
+            if (error)
+                *error
+                    = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
+            return false;
+        }
+        {
+            QSvgGenerator svg;
+            svg.setOutputDevice(&file);
+            svg.setResolution(kResolution);
+            const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
+                           static_cast<int>(std::lround(sizeMm.height() * k)));
+            svg.setSize(px);
+            svg.setViewBox(QRect(QPoint(0, 0), px));
+            svg.setTitle(q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
+            QPainter painter(&svg);
+            painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
+            drawSheetPlot(painter,
+                          QRectF(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k),
+                          k, plot, analysis);
+        }
+        if (!file.commit()) {
+            if (error)
+                *error
+                    = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
+            return false;
+        }
+    }
+    return true;
+}
+
+} // namespace loopsketch::ui
