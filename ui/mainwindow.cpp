@@ -122,6 +122,7 @@ MainWindow::MainWindow(QWidget *parent)
                 m_document->moveParts(moves);
             });
     connect(m_view, &SketchView::stepRequested, m_document, &DesignDocument::stepPart);
+    connect(m_scene, &SketchScene::stepRequested, m_document, &DesignDocument::stepPart);
     connect(m_view, &SketchView::rotateRequested, m_document, &DesignDocument::rotatePart);
     connect(m_view, &SketchView::deleteRequested, m_document, &DesignDocument::removeParts);
     connect(m_view, &SketchView::connectRequested, m_document, &DesignDocument::connectPins);

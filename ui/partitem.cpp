@@ -92,6 +92,7 @@ void PartItem::update(const Part &part, int rotation)
     m_rotation = ((rotation % 360) + 360) % 360;
     m_label = toQString(part.id);
     m_value = valueText(part);
+    m_hasValue = !part.primaryField().empty();
     layoutLabel();
     QGraphicsItem::update();
 }
@@ -263,11 +264,41 @@ QVariant PartItem::itemChange(GraphicsItemChange change, const QVariant &value)
 void PartItem::mousePressEvent(QGraphicsSceneMouseEvent *event)
 {
     m_pressPos = pos();
+    m_labelDrag
+        = m_hasValue && event->button() == Qt::LeftButton && m_labelRect.contains(event->pos());
+    if (m_labelDrag) {
+        // Dragging the value label up or down steps the value instead of moving the part.
+        m_dragOrigin = event->screenPos().y();
+        m_dragSteps = 0;
+        event->accept();
+        return;
+    }
     QGraphicsItem::mousePressEvent(event);
+}
+
+void PartItem::mouseMoveEvent(QGraphicsSceneMouseEvent *event)
+{
+    if (!m_labelDrag) {
+        QGraphicsItem::mouseMoveEvent(event);
+        return;
+    }
+    const int steps = int((m_dragOrigin - event->screenPos().y()) / kPixelsPerStep);
+    if (steps != m_dragSteps) {
+        if (auto *s = dynamic_cast<SketchScene *>(scene()))
+            emit s->stepRequested(m_id, steps - m_dragSteps,
+                                  event->modifiers() & Qt::ShiftModifier);
+        m_dragSteps = steps;
+    }
+    event->accept();
 }
 
 void PartItem::mouseReleaseEvent(QGraphicsSceneMouseEvent *event)
 {
+    if (m_labelDrag) {
+        m_labelDrag = false;
+        event->accept();
+        return;
+    }
     QGraphicsItem::mouseReleaseEvent(event);
     if (pos() != m_pressPos) {
         if (auto *s = dynamic_cast<SketchScene *>(scene()))

@@ -28,12 +28,18 @@ public:
     /// Updates the label and orientation from the part.
     void update(const Part &part, int rotation);
 
+    /// The value label's area, in item coordinates.
+    QRectF labelRect() const { return m_labelRect; }
+    /// Screen pixels of vertical label drag per E-series step.
+    static constexpr double kPixelsPerStep = 12.0;
+
     /// Text of the value label, e.g. "1 MΩ" or "110 dB".
     static QString valueText(const Part &part);
 
 protected:
     QVariant itemChange(GraphicsItemChange change, const QVariant &value) override;
     void mousePressEvent(QGraphicsSceneMouseEvent *event) override;
+    void mouseMoveEvent(QGraphicsSceneMouseEvent *event) override;
     void mouseReleaseEvent(QGraphicsSceneMouseEvent *event) override;
 
 private:
@@ -47,6 +53,10 @@ private:
     QString m_value;
     QRectF m_labelRect; ///< in item coordinates (the item is not rotated; the symbol is)
     QPointF m_pressPos;
+    bool m_hasValue = false; ///< the part has a primary value (steppable)
+    bool m_labelDrag = false; ///< a vertical drag on the value label steps the value
+    double m_dragOrigin = 0; ///< screen y where the label drag started
+    int m_dragSteps = 0; ///< steps already requested in this drag
 };
 
 } // namespace loopsketch::ui

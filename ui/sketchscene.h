@@ -49,6 +49,8 @@ public:
 signals:
     /// Parts the user dropped at new places (scene coordinates, on the grid).
     void partsMoved(const QHash<QString, QPointF> &positions);
+    /// The user dragged a value label: step the part's value by `steps` positions.
+    void stepRequested(const std::string &partId, int steps, bool decade);
 
 private:
     void reroute();

@@ -195,6 +195,24 @@ TEST_F(MainWindowTest, ShiftWheelStepsADecadeAndDownwardsWorks)
     EXPECT_NEAR(valueOf("CF"), 1.8e-12, 1e-18);
 }
 
+TEST_F(MainWindowTest, DraggingTheValueLabelUpStepsTheValue)
+{
+    PartItem *rf = window->sketchScene()->partItem("RF");
+    SketchView *view = window->sketchView();
+    const QPointF label = rf->mapToScene(rf->labelRect().center());
+    const QPoint from = view->mapFromScene(label);
+    // Three steps' worth of pixels upwards: IEC 60063 E24 1.0 -> 1.1 -> 1.2 -> 1.3.
+    const QPoint to = from - QPoint(0, int(3 * PartItem::kPixelsPerStep + 4));
+    QTest::mousePress(view->viewport(), Qt::LeftButton, {}, from);
+    QTest::mouseMove(view->viewport(), from - QPoint(0, 8));
+    QTest::mouseMove(view->viewport(), to);
+    QTest::mouseRelease(view->viewport(), Qt::LeftButton, {}, to);
+    waitForRecompute();
+    EXPECT_NEAR(valueOf("RF"), 1.3e6, 1e-3);
+    EXPECT_NEAR(rf->pos().y(), -80.0, 1e-9); // the part itself did not move
+    EXPECT_EQ(doc()->undoStack()->count(), 1);
+}
+
 TEST_F(MainWindowTest, ArrowKeysStepTheSelectedPart)
 {
     window->sketchScene()->selectPart("RF");
