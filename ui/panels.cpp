@@ -6,8 +6,10 @@
 
 #include <QCategoryAxis>
 #include <QChart>
+#include <QCursor>
 #include <QLineSeries>
 #include <QScatterSeries>
+#include <QToolTip>
 #include <QValueAxis>
 
 #include <algorithm>
@@ -242,6 +244,35 @@ PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
     m_axis = addLine(tr("jω axis"), QColor(0x99, 0x99, 0x99), Qt::DotLine, m_x, m_y, false);
     m_poles = addMarker(tr("closed-loop poles"), palette::kVermillion, m_x, m_y, 10);
     m_poles->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+    connect(m_poles, &QScatterSeries::hovered, this, [this](const QPointF &point, bool state) {
+        if (!state) {
+            QToolTip::hideText();
+            return;
+        }
+        // The pole under the mouse: core's numbers for it.
+        const ClosedLoopPole *nearest = nullptr;
+        double best = 0;
+        for (const ClosedLoopPole &p : m_shown) {
+            const double d
+                = std::hypot(p.s.real() * m_scale - point.x(), p.s.imag() * m_scale - point.y());
+            if (!nearest || d < best) {
+                nearest = &p;
+                best = d;
+            }
+        }
+        if (!nearest)
+            return;
+        QToolTip::showText(
+            QCursor::pos(),
+            tr("s = %1 %2 j%3 rad/s\nf₀ %4, ζ %5, Q %6")
+                .arg(toQString(formatEngineering(nearest->s.real(), 3)),
+                     nearest->s.imag() < 0 ? QStringLiteral("−") : QStringLiteral("+"),
+                     toQString(formatEngineering(std::abs(nearest->s.imag()), 3)),
+                     engineering(nearest->naturalHz, "Hz"))
+                .arg(nearest->damping, 0, 'f', 3)
+                .arg(nearest->q, 0, 'f', 3),
+            this);
+    });
 }
 
 void PolesPanel::showAnalysis(const Analysis &a)
@@ -265,6 +296,8 @@ void PolesPanel::showAnalysis(const Analysis &a)
     setNiceRange(m_y, -r, r, 4);
     m_axis->replace({QPointF(0, -r), QPointF(0, r)});
     m_poles->replace(points);
+    m_shown = a.poles;
+    m_scale = sp.factor;
     m_x->setTitleText(tr("Re s (%1rad/s)").arg(sp.prefix));
     m_y->setTitleText(tr("Im s (%1rad/s)").arg(sp.prefix));
     rename(m_poles, tr("closed-loop poles (%1)").arg(points.size()));

@@ -87,6 +87,8 @@ private:
     QValueAxis *m_x, *m_y;
     QScatterSeries *m_poles;
     QLineSeries *m_axis;
+    std::vector<ClosedLoopPole> m_shown; ///< for the hover text
+    double m_scale = 1.0; ///< chart units per rad/s
 };
 
 } // namespace loopsketch::ui
