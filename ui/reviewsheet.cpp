@@ -207,8 +207,11 @@ public:
             return;
         m_p->setFont(font);
         m_p->setPen(colour);
-        const QRectF inner(mm.x() + 1.0, mm.y(), mm.width() - 2.0, mm.height());
-        m_p->drawText(toDevice(inner), static_cast<int>(align | Qt::AlignVCenter), text);
+        const QRectF inner = toDevice(QRectF(mm.x() + 1.0, mm.y(), mm.width() - 2.0, mm.height()));
+        // a value too long for its column ends in "…" rather than running into the next
+        const QString shown
+            = QFontMetricsF(font, m_device).elidedText(text, Qt::ElideRight, inner.width());
+        m_p->drawText(inner, static_cast<int>(align | Qt::AlignVCenter), shown);
     }
 
     struct Column
@@ -754,12 +757,12 @@ void partsSection(SheetWriter &w, const Design &d)
               part.tolerance ? q(formatValue(part.tolerance->si, ValueKind::Tolerance, 3))
                              : QStringLiteral("—")}});
     }
-    w.table({{QStringLiteral("Id"), 24},
-             {QStringLiteral("Type"), 36},
+    w.table({{QStringLiteral("Id"), 26},
+             {QStringLiteral("Type"), 38},
              {QStringLiteral("Value"), 40, Qt::AlignRight},
              {QStringLiteral("RKM"), 22, Qt::AlignRight},
              {QStringLiteral("Series"), 24, Qt::AlignRight},
-             {QStringLiteral("Tolerance"), 26, Qt::AlignRight}},
+             {QStringLiteral("Tolerance"), 30, Qt::AlignRight}},
             rows);
 }
 
@@ -872,9 +875,9 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
     add(QStringLiteral("overshoot"), percent(a.step.overshootPct), QStringLiteral("—"), {});
     add(QStringLiteral("settling to ±1 %"), eng(a.step.settlingTimeS, "s"), QStringLiteral("—"),
         {});
-    w.table({{QStringLiteral("Metric"), 50},
+    w.table({{QStringLiteral("Metric"), 55},
              {QStringLiteral("Value"), 40, Qt::AlignRight},
-             {QStringLiteral("Spec"), 50, Qt::AlignRight},
+             {QStringLiteral("Spec"), 55, Qt::AlignRight},
              {QStringLiteral("Verdict"), 30, Qt::AlignRight}},
             rows);
 }

@@ -97,6 +97,8 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     ASSERT_TRUE(pages.hasMatch());
     const int pageCount = pages.captured(1).toInt();
     EXPECT_EQ(pageCount, c.pages);
+    // A4 is 210 mm x 297 mm (ISO 216) = 595 pt x 842 pt, rounded
+    EXPECT_THAT(info.out.toStdString(), HasSubstr("595 x 842 pts"));
 
     const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
     ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
@@ -159,6 +161,27 @@ INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
                              std::erase(name, '-');
                              return name;
                          });
+
+TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("letter.pdf");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--letter", "--pdf", pdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
+    // US Letter is 8.5 in x 11 in = 612 pt x 792 pt (ANSI/ASME Y14.1)
+    EXPECT_THAT(info.out.toStdString(), HasSubstr("612 x 792 pts"));
+    const auto pages = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
+    ASSERT_TRUE(pages.hasMatch());
+    const int n = pages.captured(1).toInt();
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    for (int i = 1; i <= n; ++i)
+        EXPECT_THAT(text.out.toStdString(),
+                    HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(n).toStdString()));
+    EXPECT_THAT(text.out.toStdString(),
+                testing::Not(HasSubstr(QStringLiteral("page %1 of").arg(n + 1).toStdString())));
+}
 
 TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)
 {
