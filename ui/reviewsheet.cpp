@@ -592,9 +592,9 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
         const double mid = top + (bottom - top) * 0.58;
         Axis ym = linearAxis(mag, {10, 20, 40, 50, 100}, 20, 6);
         Axis yp = linearAxis(ph, {45, 90, 180, 360}, 90, 5);
-        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 2 * k)), k, fx, ym, mag,
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx, ym, mag,
                   QStringLiteral("dB"), false, {}, false);
-        drawPanel(p, QRectF(QPointF(left, mid + 1 * k), QPointF(right, bottom)), k, fx, yp, ph,
+        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx, yp, ph,
                   QStringLiteral("phase of T (°)"), true, QStringLiteral("Hz"), false);
         break;
     }
