@@ -125,8 +125,15 @@ Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system, Solve
             return Diagnostic{{}, {}, {}, describeSingularity(system, 0.0)};
         const Eigen::MatrixXd gks = select(system.G, kRows, sCols);
         const Eigen::MatrixXd gsk = select(system.G, sRows, kCols);
-        const Eigen::MatrixXd xsk = lu.solve(gsk); // Gss^-1 Gsk
-        const Eigen::MatrixXd xsb = lu.solve(selectRows(system.B, sRows)); // Gss^-1 Bs
+        // Eigen's triangular solve touches element (0,0) even of an empty right-hand side,
+        // so a fully static circuit (no kept unknowns) skips it.
+        const auto solve = [&lu](const Eigen::MatrixXd &rhs) -> Eigen::MatrixXd {
+            if (rhs.cols() == 0)
+                return Eigen::MatrixXd(rhs.rows(), 0);
+            return lu.solve(rhs);
+        };
+        const Eigen::MatrixXd xsk = solve(gsk); // Gss^-1 Gsk
+        const Eigen::MatrixXd xsb = solve(selectRows(system.B, sRows)); // Gss^-1 Bs
         const Eigen::MatrixXd ls = selectCols(system.L, sCols);
         r.m_gr = gkk - gks * xsk;
         r.m_cr = ckk;
