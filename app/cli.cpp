@@ -279,8 +279,10 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
         } else if ((a == "--pdf" || a == "--svg") && o.command == "export") {
             auto v = value(a.c_str());
             if (!v)
-                return badInput(err, a + (a == "--pdf" ? " needs an output file name"
-                                                       : " needs an output directory"));
+                return badInput(err,
+                                a
+                                    + (a == "--pdf" ? " needs an output file name"
+                                                    : " needs an output directory"));
             (a == "--pdf" ? o.pdfOut : o.svgDir) = *v;
         } else if (a == "--letter" && o.command == "export") {
             o.letter = true;

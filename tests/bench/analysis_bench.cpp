@@ -69,8 +69,9 @@ double medianMs(loopsketch::SolverPath path, int runs)
         const auto t0 = std::chrono::steady_clock::now();
         auto a = loopsketch::analyze(demo(), {}, options);
         benchmark::DoNotOptimize(a);
-        ms.push_back(std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0)
-                         .count());
+        ms.push_back(
+            std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - t0)
+                .count());
     }
     std::nth_element(ms.begin(), ms.begin() + runs / 2, ms.end());
     return ms[static_cast<std::size_t>(runs / 2)];
@@ -86,7 +87,7 @@ int main(int argc, char **argv)
     // Side by side in the same process, for the ratio the design asks for.
     const double reduced = medianMs(loopsketch::SolverPath::Reduced, 101);
     const double dense = medianMs(loopsketch::SolverPath::DenseLu, 31);
-    std::cout << "full analysis of the demo, median: reduced " << reduced << " ms, dense LU " << dense
-              << " ms, speed-up " << dense / reduced << "x (targets: < 0.5 ms, >= 20x)\n";
+    std::cout << "full analysis of the demo, median: reduced " << reduced << " ms, dense LU "
+              << dense << " ms, speed-up " << dense / reduced << "x (targets: < 0.5 ms, >= 20x)\n";
     return 0;
 }
