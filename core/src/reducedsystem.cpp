@@ -380,12 +380,14 @@ Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
                               {},
                               "the step response is not defined: the circuit has "
                               "an impulsive (higher-index) mode"};
-        const Eigen::MatrixXd x21 = lu.solve(gh.bottomLeftCorner(q, rank));
         const Eigen::VectorXd xb2 = lu.solve(bh.tail(q));
-        a -= gh.topRightCorner(rank, q) * x21;
-        b -= gh.topRightCorner(rank, q) * xb2;
-        c -= lh.tail(q) * x21;
         d += lh.tail(q).dot(xb2);
+        if (rank > 0) { // Eigen's solve must not see an empty right-hand side (UBSan)
+            const Eigen::MatrixXd x21 = lu.solve(gh.bottomLeftCorner(q, rank));
+            a -= gh.topRightCorner(rank, q) * x21;
+            b -= gh.topRightCorner(rank, q) * xb2;
+            c -= lh.tail(q) * x21;
+        }
     }
     const Eigen::VectorXd sInv = sv.head(rank).cwiseInverse();
     a = -(sInv.asDiagonal() * a);
