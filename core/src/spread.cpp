@@ -136,6 +136,34 @@ Result<std::vector<double>> nominalGrid(const Design &design, const SpreadOption
     return grid;
 }
 
+/// What worst case and Monte Carlo both start from: a valid design and options, the
+/// toleranced quantities, the coarse grid and the nominal metrics.
+struct SpreadSetup
+{
+    std::vector<SpreadQuantity> quantities;
+    std::vector<double> grid;
+    TrialMetrics nominal;
+};
+
+Result<SpreadSetup> prepareSpread(const Design &design, const SpreadOptions &options,
+                                  std::string_view file)
+{
+    if (auto problems = validateDesign(design, file); !problems.empty())
+        return problems;
+    if (auto problems = checkOptions(options, file); !problems.empty())
+        return problems;
+    auto quantities = spreadQuantities(design, options, file);
+    if (!quantities)
+        return quantities.diagnostics();
+    auto grid = nominalGrid(design, options, file);
+    if (!grid)
+        return grid.diagnostics();
+    auto nominal = evaluateTrial(design, *grid);
+    if (!nominal)
+        return nominal.diagnostics();
+    return SpreadSetup{std::move(quantities).value(), std::move(grid).value(), *nominal};
+}
+
 } // namespace
 
 std::string toString(SpreadDistribution distribution)
@@ -256,23 +284,15 @@ MetricStats metricStats(const std::vector<double> &values, int bins)
 Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &options,
                                   std::string_view file)
 {
-    if (auto problems = validateDesign(design, file); !problems.empty())
-        return problems;
-    if (auto problems = checkOptions(options, file); !problems.empty())
-        return problems;
-    auto quantities = spreadQuantities(design, options, file);
-    if (!quantities)
-        return quantities.diagnostics();
-    auto grid = nominalGrid(design, options, file);
-    if (!grid)
-        return grid.diagnostics();
-    auto nominal = evaluateTrial(design, *grid);
-    if (!nominal)
-        return nominal.diagnostics();
+    auto prepared = prepareSpread(design, options, file);
+    if (!prepared)
+        return prepared.diagnostics();
+    SpreadSetup setup = std::move(prepared).value();
+    const std::vector<double> &grid = setup.grid;
 
     WorstCaseResult r;
-    r.quantities = std::move(quantities).value();
-    r.nominal = *nominal;
+    r.quantities = std::move(setup.quantities);
+    r.nominal = setup.nominal;
     const std::vector<SpreadQuantity> &q = r.quantities;
     const std::size_t n = q.size();
     r.exhaustive = n <= static_cast<std::size_t>(kMaxVertexQuantities);
@@ -302,7 +322,7 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
                 const std::size_t k = i / 2;
                 f[k] += (i % 2 ? 1.0 : -1.0) * kSensitivityFraction * q[k].tolerance;
                 bool failed = false;
-                probes[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, *grid, failed);
+                probes[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
             },
             {}, options.cancel);
         if (ran < 2 * n) {
@@ -345,7 +365,7 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
             for (std::size_t k = 0; k < n; ++k)
                 f[k] = 1.0 + corners[c][k] * q[k].tolerance;
             bool failed = false;
-            results[c] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, *grid, failed);
+            results[c] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
             ran[c] = 1;
         },
         options.progress, options.cancel);
@@ -365,26 +385,18 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
 Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &options,
                                     std::string_view file)
 {
-    if (auto problems = validateDesign(design, file); !problems.empty())
-        return problems;
-    if (auto problems = checkOptions(options, file); !problems.empty())
-        return problems;
-    auto quantities = spreadQuantities(design, options, file);
-    if (!quantities)
-        return quantities.diagnostics();
-    auto grid = nominalGrid(design, options, file);
-    if (!grid)
-        return grid.diagnostics();
-    auto nominal = evaluateTrial(design, *grid);
-    if (!nominal)
-        return nominal.diagnostics();
+    auto prepared = prepareSpread(design, options, file);
+    if (!prepared)
+        return prepared.diagnostics();
+    SpreadSetup setup = std::move(prepared).value();
+    const std::vector<double> &grid = setup.grid;
 
     MonteCarloResult r;
-    r.quantities = std::move(quantities).value();
+    r.quantities = std::move(setup.quantities);
     r.distribution = options.distribution;
     r.seed = options.seed;
     r.trials = static_cast<std::size_t>(options.trials);
-    r.nominal = *nominal;
+    r.nominal = setup.nominal;
     const std::vector<SpreadQuantity> &q = r.quantities;
 
     std::vector<TrialMetrics> results(r.trials);
@@ -403,7 +415,7 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
             for (std::size_t k = 0; k < q.size(); ++k)
                 f[k] = drawFactor(g, options.distribution, q[k].tolerance);
             bool failed = false;
-            results[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, *grid, failed);
+            results[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
             state[i] = failed ? 2 : 1;
         },
         options.progress, options.cancel);
