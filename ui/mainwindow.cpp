@@ -258,6 +258,9 @@ void MainWindow::createActions()
     edit->addAction(undo);
     edit->addAction(redo);
 
+    // Candidates, spread and value suggestions add their actions here.
+    m_designMenu = menuBar()->addMenu(tr("&Design"));
+
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
     m_viewMenu->addAction(tr("Restore panel arrangement"), this,

@@ -50,6 +50,8 @@ public:
     LoopGainPanel *loopGainPanel() const { return m_loopGain; }
     const std::vector<PlotPanel *> &panels() const { return m_panels; }
     QString statusText() const;
+    /// The Design menu (candidates, spread, suggestions).
+    QMenu *designMenu() const { return m_designMenu; }
     /// Asks before discarding unsaved changes (false: the user cancelled). Tests turn the
     /// question off.
     bool maybeSave();
@@ -95,6 +97,7 @@ private:
     QLabel *m_diagnostics;
     QMenu *m_recentMenu = nullptr;
     QMenu *m_viewMenu = nullptr;
+    QMenu *m_designMenu = nullptr;
     QString m_displayName;
     QByteArray m_defaultState;
     bool m_ask = true;
