@@ -208,29 +208,41 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
     auto reduced = ReducedSystem::build(injections);
     if (!reduced)
         return Diagnostic{{}, {}, {}, "noise: " + reduced.errorText()};
-    Eigen::MatrixXcd h;
-    for (double f : result.frequenciesHz) {
-        const std::complex<double> s(0.0, 2.0 * std::numbers::pi * f);
-        reduced->evaluateInto(s, {}, h);
-        if (!h.allFinite()) {
-            const std::string why = describeSingularity(sys, s);
-            return Diagnostic{{},
-                              {},
-                              {},
-                              "noise: the circuit has no solution at " + std::to_string(f) + " Hz"
-                                  + (why.empty() ? std::string() : " (" + why + ")")};
+    const auto columns = static_cast<std::size_t>(injections.B.cols());
+    std::vector<TransferEntry> entries(columns);
+    for (std::size_t k = 0; k < columns; ++k)
+        entries[k] = {0, static_cast<int>(k)};
+    std::vector<std::complex<double>> points(count);
+    for (std::size_t i = 0; i < count; ++i)
+        points[i] = {0.0, 2.0 * std::numbers::pi * result.frequenciesHz[i]};
+    const std::vector<std::complex<double>> transfer = reduced->sweepEntries(points, entries);
+    const auto h = [&](std::size_t column, std::size_t i) {
+        return transfer[column * count + i];
+    };
+    for (std::size_t i = 0; i < count; ++i) {
+        const double f = result.frequenciesHz[i];
+        for (std::size_t k = 0; k < columns; ++k) {
+            if (!std::isfinite(h(k, i).real()) || !std::isfinite(h(k, i).imag())) {
+                const std::string why = describeSingularity(sys, points[i]);
+                return Diagnostic{{},
+                                  {},
+                                  {},
+                                  "noise: the circuit has no solution at " + std::to_string(f)
+                                      + " Hz" + (why.empty() ? std::string() : " (" + why + ")")};
+            }
         }
-        const std::complex<double> gain = h(0, gainColumn);
+        const std::complex<double> gain = h(static_cast<std::size_t>(gainColumn), i);
         double total = 0.0;
         for (std::size_t k = 0; k < sources.size(); ++k) {
             Source &src = sources[k];
             const double density = flickerDensity(src.whiteDensity, src.cornerHz, f);
-            const double psd = std::norm(density * h(0, static_cast<Eigen::Index>(k)));
+            const double psd = std::norm(density * h(k, i));
             src.contribution.outputPsd.push_back(psd);
             total += psd;
         }
         result.gain.push_back(gain);
-        result.noiseGain.push_back(enColumn >= 0 ? std::abs(h(0, enColumn)) : 0.0);
+        result.noiseGain.push_back(
+            enColumn >= 0 ? std::abs(h(static_cast<std::size_t>(enColumn), i)) : 0.0);
         result.outputDensity.push_back(std::sqrt(total));
         const double g = std::abs(gain);
         result.inputDensity.push_back(g > 0 ? std::sqrt(total) / g

@@ -1,5 +1,7 @@
 #include "loopsketch/reducedsystem.h"
 
+#include "pencilsweep.h"
+
 #include <Eigen/Eigenvalues>
 #include <Eigen/LU>
 #include <Eigen/SVD>
@@ -163,138 +165,87 @@ Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
 
 std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, int input) const
 {
-    thread_local Eigen::MatrixXcd h;
-    evaluateInto(s, {input}, {output}, h);
-    return h(output, input);
+    if (m_path == SolverPath::DenseLu) {
+        thread_local Eigen::MatrixXcd h;
+        const int in[] = {input}, out[] = {output};
+        evaluateInto(s, in, out, h);
+        return h(output, input);
+    }
+    const TransferEntry e[] = {{output, input}};
+    std::complex<double> h;
+    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h);
+    return h;
 }
 
-void ReducedSystem::evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
-                                 std::initializer_list<int> outputs, Eigen::MatrixXcd &h) const
+void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> inputs,
+                                 std::span<const int> outputs, Eigen::MatrixXcd &h) const
 {
     using cd = std::complex<double>;
-    const Index k = order();
-    const Index p = this->outputs();
-    if (h.rows() != p || h.cols() != this->inputs())
-        h.resize(p, this->inputs());
-    const auto columns = [&](auto &&body) {
-        if (inputs.size() == 0)
-            for (int c = 0; c < this->inputs(); ++c)
-                body(c);
-        else
-            for (int c : inputs)
-                body(c);
-    };
-    const cd nan(std::numeric_limits<double>::quiet_NaN(),
-                 std::numeric_limits<double>::quiet_NaN());
-    if (k == 0) {
-        columns([&](int c) { h.col(c) = m_dr.col(c).cast<cd>(); });
-        return;
+    if (h.rows() != this->outputs() || h.cols() != this->inputs())
+        h.resize(this->outputs(), this->inputs());
+    thread_local std::vector<int> allInputs, allOutputs;
+    if (inputs.empty()) {
+        allInputs.resize(static_cast<std::size_t>(this->inputs()));
+        for (int c = 0; c < this->inputs(); ++c)
+            allInputs[static_cast<std::size_t>(c)] = c;
+        inputs = allInputs;
     }
-    if (m_path == SolverPath::DenseLu) {
+    if (outputs.empty()) {
+        allOutputs.resize(static_cast<std::size_t>(this->outputs()));
+        for (int o = 0; o < this->outputs(); ++o)
+            allOutputs[static_cast<std::size_t>(o)] = o;
+        outputs = allOutputs;
+    }
+    if (m_path == SolverPath::DenseLu && order() > 0) {
+        const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                     std::numeric_limits<double>::quiet_NaN());
         Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m_gr.cast<cd>() + s * m_cr);
         const bool regular = lu.rcond() > kMinReciprocalCondition;
-        columns([&](int c) {
+        for (int c : inputs) {
             const Eigen::VectorXcd z = lu.solve(m_br.col(c).cast<cd>());
             if (regular && z.allFinite())
                 h.col(c) = m_dr.col(c).cast<cd>() + m_lr * z;
             else
                 h.col(c).setConstant(nan);
-        });
+        }
         return;
     }
-    // Gaussian elimination with partial pivoting on the small pencil, on the stack for the
-    // usual sizes: the same backward stability as a library LU without its allocation and
-    // condition-estimate overhead, which dominate at k = 3..8.
-    constexpr Index kStack = 12;
-    thread_local std::vector<cd> heapA, heapY;
-    // Raw storage: std::complex zero-initialises, which would cost more than the solve.
-    alignas(16) double rawA[2 * kStack * kStack], rawY[2 * kStack], rawInv[2 * kStack];
-    Index pivot[kStack];
-    thread_local std::vector<cd> heapInv;
-    thread_local std::vector<Index> heapPivot;
-    cd *a = reinterpret_cast<cd *>(rawA), *y = reinterpret_cast<cd *>(rawY);
-    cd *invDiag = reinterpret_cast<cd *>(rawInv);
-    Index *piv = pivot;
-    if (k > kStack) {
-        heapA.resize(static_cast<std::size_t>(k * k));
-        heapY.resize(static_cast<std::size_t>(k));
-        heapInv.resize(static_cast<std::size_t>(k));
-        heapPivot.resize(static_cast<std::size_t>(k));
-        a = heapA.data();
-        y = heapY.data();
-        invDiag = heapInv.data();
-        piv = heapPivot.data();
+    thread_local std::vector<TransferEntry> entries;
+    thread_local std::vector<cd> values;
+    entries.clear();
+    for (int c : inputs)
+        for (int o : outputs)
+            entries.push_back({o, c});
+    values.resize(entries.size());
+    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, entries, values.data());
+    for (std::size_t e = 0; e < entries.size(); ++e)
+        h(entries[e].output, entries[e].input) = values[e];
+}
+
+std::vector<std::complex<double>>
+ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
+                            std::span<const TransferEntry> entries) const
+{
+    std::vector<std::complex<double>> out(entries.size() * s.size());
+    if (m_path == SolverPath::Reduced) {
+        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data());
+        return out;
     }
-    const double *g = m_gr.data(), *c = m_cr.data(); // column-major
-    for (Index col = 0; col < k; ++col)
-        for (Index r = 0; r < k; ++r)
-            a[r * k + col] = cd(g[col * k + r], 0.0) + s * c[col * k + r];
-    bool singular = false;
-    for (Index j = 0; j < k; ++j) {
-        Index best = j;
-        double bestMag = std::abs(a[j * k + j].real()) + std::abs(a[j * k + j].imag());
-        for (Index r = j + 1; r < k; ++r) {
-            const double m = std::abs(a[r * k + j].real()) + std::abs(a[r * k + j].imag());
-            if (m > bestMag) {
-                best = r;
-                bestMag = m;
-            }
-        }
-        piv[j] = best;
-        if (!(bestMag > 0.0)) {
-            singular = true;
-            break;
-        }
-        if (best != j)
-            for (Index cc = 0; cc < k; ++cc)
-                std::swap(a[j * k + cc], a[best * k + cc]);
-        const cd inv = 1.0 / a[j * k + j];
-        invDiag[j] = inv;
-        for (Index r = j + 1; r < k; ++r) {
-            const cd f = a[r * k + j] * inv;
-            a[r * k + j] = f;
-            if (f != cd(0.0))
-                for (Index cc = j + 1; cc < k; ++cc)
-                    a[r * k + cc] -= f * a[j * k + cc];
-        }
+    // The reference path: one dense LU of the whole matrix per point, as evaluateInto().
+    std::vector<int> inputs, outputs;
+    for (const TransferEntry &e : entries) {
+        if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
+            inputs.push_back(e.input);
+        if (std::find(outputs.begin(), outputs.end(), e.output) == outputs.end())
+            outputs.push_back(e.output);
     }
-    const double *br = m_br.data(), *lr = m_lr.data(), *dr = m_dr.data();
-    columns([&](int col) {
-        if (singular) {
-            h.col(col).setConstant(nan);
-            return;
-        }
-        for (Index r = 0; r < k; ++r)
-            y[r] = br[col * k + r];
-        // Rows were swapped whole (multipliers included), so all swaps come first.
-        for (Index j = 0; j < k; ++j)
-            std::swap(y[j], y[piv[j]]);
-        for (Index j = 0; j < k; ++j)
-            for (Index r = j + 1; r < k; ++r)
-                y[r] -= a[r * k + j] * y[j];
-        for (Index r = k - 1; r >= 0; --r) {
-            cd acc = y[r];
-            for (Index cc = r + 1; cc < k; ++cc)
-                acc -= a[r * k + cc] * y[cc];
-            y[r] = acc * invDiag[r];
-        }
-        bool finite = true;
-        const auto row = [&](Index o) {
-            cd acc = dr[col * p + o];
-            for (Index cc = 0; cc < k; ++cc)
-                acc += lr[cc * p + o] * y[cc];
-            h(o, col) = acc;
-            finite = finite && std::isfinite(acc.real()) && std::isfinite(acc.imag());
-        };
-        if (outputs.size() == 0)
-            for (Index o = 0; o < p; ++o)
-                row(o);
-        else
-            for (int o : outputs)
-                row(o);
-        if (!finite)
-            h.col(col).setConstant(nan);
-    });
+    Eigen::MatrixXcd h;
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        evaluateInto(s[i], inputs, outputs, h);
+        for (std::size_t e = 0; e < entries.size(); ++e)
+            out[e * s.size() + i] = h(entries[e].output, entries[e].input);
+    }
+    return out;
 }
 
 std::vector<Eigen::MatrixXcd> ReducedSystem::sweep(const std::vector<double> &frequenciesHz) const

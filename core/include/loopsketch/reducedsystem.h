@@ -17,6 +17,7 @@
 
 #include <complex>
 #include <initializer_list>
+#include <span>
 #include <vector>
 
 namespace loopsketch {
@@ -25,6 +26,13 @@ namespace loopsketch {
 /// dense LU of the whole MNA matrix at every frequency (the straightforward reference the
 /// benchmark and tests compare against).
 enum class SolverPath { Reduced, DenseLu };
+
+/// Output row and input column of one transfer-matrix entry.
+struct TransferEntry
+{
+    int output = 0;
+    int input = 0;
+};
 
 class ReducedSystem
 {
@@ -52,10 +60,26 @@ public:
     }
     /// ... and only the rows listed in `outputs` (all when empty).
     void evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
-                      std::initializer_list<int> outputs, Eigen::MatrixXcd &h) const;
+                      std::initializer_list<int> outputs, Eigen::MatrixXcd &h) const
+    {
+        evaluateInto(s, std::span<const int>(inputs.begin(), inputs.size()),
+                     std::span<const int>(outputs.begin(), outputs.size()), h);
+    }
+
+    /// The same with the lists as spans.
+    void evaluateInto(std::complex<double> s, std::span<const int> inputs,
+                      std::span<const int> outputs, Eigen::MatrixXcd &h) const;
 
     /// One entry at s.
     std::complex<double> entry(std::complex<double> s, int output, int input) const;
+
+    /// The listed entries at every complex frequency of `s` (rad/s), entry-major: entry e
+    /// at s[i] is result[e * s.size() + i]; NaN where the pencil is singular. The sweeps of
+    /// the analyses: one tight loop per system, one factorisation per point shared by all
+    /// entries, and on the reduced path one solve per distinct row or column, whichever
+    /// are fewer.
+    std::vector<std::complex<double>> sweepEntries(std::span<const std::complex<double>> s,
+                                                   std::span<const TransferEntry> entries) const;
 
     /// Transfer matrices at j 2 pi f for each f (Hz).
     std::vector<Eigen::MatrixXcd> sweep(const std::vector<double> &frequenciesHz) const;
