@@ -7,6 +7,7 @@
 #include <Eigen/LU>
 
 #include <cmath>
+#include <numbers>
 
 namespace loopsketch {
 
@@ -137,34 +138,31 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 
     AnalysisCurves &c = a.curves;
     const std::size_t n = a.frequenciesHz.size();
-    for (Curve *curve :
-         {&c.gainExact, &c.zInExact, &c.zOutExact, &c.loopGain, &c.gainReturnRatio,
-          &c.zInReturnRatio, &c.zOutReturnRatio, &c.zInOpenLoop, &c.zOutOpenLoop, &c.a, &c.beta,
-          &c.loopGainTwoPort, &c.closedLoop, &c.gainTwoPort, &c.zInTwoPort, &c.zOutTwoPort,
-          &c.inputLoading, &c.outputLoading, &c.desensitivity})
-        curve->reserve(n);
-    for (double f : a.frequenciesHz) {
-        const LoopPoint p = model.at({0.0, 2.0 * std::numbers::pi * f});
-        c.gainExact.push_back(p.gain);
-        c.zInExact.push_back(p.zIn);
-        c.zOutExact.push_back(p.zOut);
-        c.loopGain.push_back(p.loopGain);
-        c.gainReturnRatio.push_back(p.rrGain);
-        c.zInReturnRatio.push_back(p.rrZIn);
-        c.zOutReturnRatio.push_back(p.rrZOut);
-        c.zInOpenLoop.push_back(p.zInOpenLoop);
-        c.zOutOpenLoop.push_back(p.zOutOpenLoop);
-        c.a.push_back(p.a);
-        c.beta.push_back(p.beta);
-        c.loopGainTwoPort.push_back(p.tpLoopGain);
-        c.closedLoop.push_back(p.closedLoop);
-        c.gainTwoPort.push_back(p.tpGain);
-        c.zInTwoPort.push_back(p.tpZIn);
-        c.zOutTwoPort.push_back(p.tpZOut);
-        c.inputLoading.push_back(p.inputLoading);
-        c.outputLoading.push_back(p.outputLoading);
-        c.desensitivity.push_back(1.0 + p.loopGain);
-    }
+    std::vector<Complex> points(n);
+    for (std::size_t i = 0; i < n; ++i)
+        points[i] = {0.0, 2.0 * std::numbers::pi * a.frequenciesHz[i]};
+    LoopCurves sweep = model.sweep(points);
+    c.gainExact = std::move(sweep.gain);
+    c.zInExact = std::move(sweep.zIn);
+    c.zOutExact = std::move(sweep.zOut);
+    c.loopGain = std::move(sweep.loopGain);
+    c.gainReturnRatio = std::move(sweep.rrGain);
+    c.zInReturnRatio = std::move(sweep.rrZIn);
+    c.zOutReturnRatio = std::move(sweep.rrZOut);
+    c.zInOpenLoop = std::move(sweep.zInOpenLoop);
+    c.zOutOpenLoop = std::move(sweep.zOutOpenLoop);
+    c.a = std::move(sweep.a);
+    c.beta = std::move(sweep.beta);
+    c.loopGainTwoPort = std::move(sweep.tpLoopGain);
+    c.closedLoop = std::move(sweep.closedLoop);
+    c.gainTwoPort = std::move(sweep.tpGain);
+    c.zInTwoPort = std::move(sweep.tpZIn);
+    c.zOutTwoPort = std::move(sweep.tpZOut);
+    c.inputLoading = std::move(sweep.inputLoading);
+    c.outputLoading = std::move(sweep.outputLoading);
+    c.desensitivity.resize(n);
+    for (std::size_t i = 0; i < n; ++i)
+        c.desensitivity[i] = 1.0 + c.loopGain[i];
     a.exact.gainSweep = c.gainExact;
     a.exact.zInSweep = c.zInExact;
     a.exact.zOutSweep = c.zOutExact;

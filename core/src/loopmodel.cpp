@@ -259,18 +259,43 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
 
 namespace {
 
-/// Blackman: Z = Z_D (1 + T_sc) / (1 + T_oc), from a test-driven system with a port.
-Complex blackman(const ReducedSystem &r, Complex s, int portVoltage, int portInput, Complex &zd)
+using Curve = std::vector<Complex>;
+
+Curve nanCurve(std::size_t n)
 {
-    thread_local Eigen::MatrixXcd h;
-    r.evaluateInto(s, {portInput, loopio::kTest}, {portVoltage, loopio::kReturned}, h);
-    zd = h(portVoltage, portInput);
-    if (zd == Complex(0.0))
-        return 0.0; // a port held by an ideal source stays at zero impedance
-    const Complex tOc = -h(loopio::kReturned, loopio::kTest);
-    const Complex tSc = -(h(loopio::kReturned, loopio::kTest)
-                          - h(loopio::kReturned, portInput) * h(portVoltage, loopio::kTest) / zd);
-    return zd * (1.0 + tSc) / (1.0 + tOc);
+    return Curve(n, kNaN);
+}
+
+/// One entry of a system over the sweep.
+Curve entryCurve(const ReducedSystem &r, std::span<const Complex> s, int output, int input)
+{
+    const TransferEntry e[] = {{output, input}};
+    return r.sweepEntries(s, e);
+}
+
+/// Blackman: Z = Z_D (1 + T_sc) / (1 + T_oc), from a test-driven system with a port.
+Curve blackman(const ReducedSystem &r, std::span<const Complex> s, int portVoltage, int portInput,
+               Curve &zd)
+{
+    const TransferEntry e[] = {{portVoltage, portInput},
+                               {loopio::kReturned, loopio::kTest},
+                               {loopio::kReturned, portInput},
+                               {portVoltage, loopio::kTest}};
+    const Curve h = r.sweepEntries(s, e);
+    const std::size_t n = s.size();
+    Curve z(n);
+    zd.resize(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        zd[i] = h[i];
+        if (zd[i] == Complex(0.0)) {
+            z[i] = 0.0; // a port held by an ideal source stays at zero impedance
+            continue;
+        }
+        const Complex tOc = -h[n + i];
+        const Complex tSc = -(h[n + i] - h[2 * n + i] * h[3 * n + i] / zd[i]);
+        z[i] = zd[i] * (1.0 + tSc) / (1.0 + tOc);
+    }
+    return z;
 }
 
 Complex parallel(Complex a, Complex b)
@@ -292,122 +317,178 @@ Complex LoopModel::gainAt(Complex s) const
 
 LoopPoint LoopModel::at(Complex s) const
 {
+    const LoopCurves c = sweep({&s, 1});
     LoopPoint p;
-    p.gain = gainAt(s);
-    p.zIn = m_input ? m_input->entry(s, loopio::kInputVoltage, loopio::kInputPort) : kNaN;
-    p.zOut = m_output ? m_output->entry(s, loopio::kLoadVoltage, loopio::kLoadPort) : kNaN;
+    p.gain = c.gain[0];
+    p.zIn = c.zIn[0];
+    p.zOut = c.zOut[0];
+    p.loopGain = c.loopGain[0];
+    p.gainInf = c.gainInf[0];
+    p.feedthrough = c.feedthrough[0];
+    p.rrGain = c.rrGain[0];
+    p.rrZIn = c.rrZIn[0];
+    p.rrZOut = c.rrZOut[0];
+    p.zInOpenLoop = c.zInOpenLoop[0];
+    p.zOutOpenLoop = c.zOutOpenLoop[0];
+    p.a = c.a[0];
+    p.beta = c.beta[0];
+    p.tpLoopGain = c.tpLoopGain[0];
+    p.closedLoop = c.closedLoop[0];
+    p.tpGain = c.tpGain[0];
+    p.tpZIn = c.tpZIn[0];
+    p.tpZOut = c.tpZOut[0];
+    p.inputLoading = c.inputLoading[0];
+    p.outputLoading = c.outputLoading[0];
+    p.network = c.network[0];
+    return p;
+}
 
-    thread_local Eigen::MatrixXcd rr;
-    m_rrFull->evaluateInto(s, {loopio::kSource, loopio::kTest},
-                           {loopio::kOutput, loopio::kReturned}, rr);
-    const Complex t = -rr(loopio::kReturned, loopio::kTest);
-    const Complex g0 = rr(loopio::kOutput, loopio::kSource);
-    const Complex through
-        = rr(loopio::kOutput, loopio::kTest) * rr(loopio::kReturned, loopio::kSource);
-    p.loopGain = t;
-    p.feedthrough = g0;
-    p.gainInf = g0 + through / t;
-    p.rrGain = p.gainInf * t / (1.0 + t) + g0 / (1.0 + t);
-    p.zInOpenLoop = p.zOutOpenLoop = kNaN;
-    p.rrZIn = m_rrInput
-        ? blackman(*m_rrInput, s, loopio::kInputVoltage, loopio::kInputPort, p.zInOpenLoop)
-        : kNaN;
-    p.rrZOut = m_rrOutput
-        ? blackman(*m_rrOutput, s, loopio::kLoadVoltage, loopio::kLoadPort, p.zOutOpenLoop)
-        : kNaN;
+LoopCurves LoopModel::sweep(std::span<const Complex> s) const
+{
+    const std::size_t n = s.size();
+    LoopCurves c;
+    c.gain = entryCurve(*m_full, s, loopio::kOutput, loopio::kSource);
+    c.zIn = m_input ? entryCurve(*m_input, s, loopio::kInputVoltage, loopio::kInputPort)
+                    : nanCurve(n);
+    c.zOut = m_output ? entryCurve(*m_output, s, loopio::kLoadVoltage, loopio::kLoadPort)
+                      : nanCurve(n);
 
-    p.a = p.beta = p.tpLoopGain = p.closedLoop = p.tpGain = p.tpZIn = p.tpZOut = kNaN;
-    p.inputLoading = p.outputLoading = kNaN;
-    p.network.setConstant(kNaN);
-    if (!m_twoPort)
-        return p;
+    {
+        const TransferEntry e[] = {{loopio::kReturned, loopio::kTest},
+                                   {loopio::kOutput, loopio::kSource},
+                                   {loopio::kOutput, loopio::kTest},
+                                   {loopio::kReturned, loopio::kSource}};
+        const Curve rr = m_rrFull->sweepEntries(s, e);
+        c.loopGain.resize(n);
+        c.feedthrough.resize(n);
+        c.gainInf.resize(n);
+        c.rrGain.resize(n);
+        for (std::size_t i = 0; i < n; ++i) {
+            const Complex t = -rr[i];
+            const Complex g0 = rr[n + i];
+            const Complex through = rr[2 * n + i] * rr[3 * n + i];
+            c.loopGain[i] = t;
+            c.feedthrough[i] = g0;
+            c.gainInf[i] = g0 + through / t;
+            c.rrGain[i] = c.gainInf[i] * t / (1.0 + t) + g0 / (1.0 + t);
+        }
+    }
+    c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
+    c.rrZIn = m_rrInput
+        ? blackman(*m_rrInput, s, loopio::kInputVoltage, loopio::kInputPort, c.zInOpenLoop)
+        : nanCurve(n);
+    c.rrZOut = m_rrOutput
+        ? blackman(*m_rrOutput, s, loopio::kLoadVoltage, loopio::kLoadPort, c.zOutOpenLoop)
+        : nanCurve(n);
+
+    for (Curve *curve : {&c.a, &c.beta, &c.tpLoopGain, &c.closedLoop, &c.tpGain, &c.tpZIn,
+                         &c.tpZOut, &c.inputLoading, &c.outputLoading})
+        *curve = nanCurve(n);
+    if (!m_twoPort) {
+        TwoPortMatrix none;
+        none.setConstant(kNaN);
+        c.network.assign(n, none);
+        return c;
+    }
     const TwoPortSystems &x = *m_twoPort;
     const Topology &top = x.topology;
     const bool seriesMix = top.mixing == Connection::Series;
     const bool seriesSample = top.sampling == Connection::Series;
 
-    // The source as seen from the gain-block input it drives, through the source-side
-    // two-port h: V_S = h11 I_S + h12 V_P, I_P = h21 I_S + h22 V_P (currents into it).
-    const TwoPortMatrix h = x.sourceSide.at(s);
-    const Complex h11 = h(0, 0), h12 = h(0, 1), h21 = h(1, 0), h22 = h(1, 1);
-    const Complex ySrc = x.gParallel + s * x.cParallel;
-    // Source equation  u11 I_S + u12 V_S = 1  (1 V behind r_series, or 1 A beside ySrc).
-    const Complex u11 = x.voltageSource ? Complex(x.rSeries) : Complex(1.0);
-    const Complex u12 = x.voltageSource ? Complex(1.0) : ySrc;
-    // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
-    const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
-    const Complex vOpen = -h21 / (c1 * h22 - c2 * h21); // V_P with the input open
-    const Complex iShort = -h21 / c1; // Norton current into the input
-    const Complex ys = h22 - h21 * c2 / c1; // admittance with the source zeroed
-    const Complex zs = 1.0 / ys;
-    const Complex kSrc = seriesMix ? vOpen : iShort;
+    const std::vector<TwoPortMatrix> sourceSide = x.sourceSide.sweep(s);
+    c.network = x.network.sweep(s);
+    std::vector<TransferEntry> aEntries
+        = {{x.sampled, loopio::kSource}, {loopio::kOutput, loopio::kSource}};
+    if (!seriesMix)
+        aEntries.push_back({x.outP1, x.testP1});
+    if (!seriesSample)
+        aEntries.push_back({x.outP2, x.testP2});
+    const Curve aCurves = x.aFull.sweepEntries(s, aEntries);
+    const auto aEntry = [&](std::size_t e, std::size_t i) {
+        return aCurves[e * n + i];
+    };
+    const Curve zq = seriesMix && x.aSeriesInput ? entryCurve(*x.aSeriesInput, s, 0, 0)
+                                                 : nanCurve(seriesMix ? n : 0);
+    const Curve zRest = seriesSample && x.aSeriesOutput
+        ? entryCurve(*x.aSeriesOutput, s, loopio::kLoadVoltage, loopio::kLoadPort)
+        : nanCurve(seriesSample ? n : 0);
 
-    thread_local Eigen::MatrixXcd a;
-    x.aFull.evaluateInto(s, {loopio::kSource, x.testP1, x.testP2},
-                         {loopio::kOutput, x.sampled, x.outP1, x.outP2}, a);
-    const Complex sampled = x.sampledSign * a(x.sampled, loopio::kSource);
-    p.a = sampled / kSrc;
-    p.network = x.network.at(s);
-    p.beta = p.network(0, 1);
-    p.tpLoopGain = p.a * p.beta;
-    const Complex desens = 1.0 + p.tpLoopGain;
-    p.closedLoop = p.a / desens;
-    p.tpGain = p.closedLoop * kSrc * (a(loopio::kOutput, loopio::kSource) / sampled);
+    for (std::size_t i = 0; i < n; ++i) {
+        // The source as seen from the gain-block input it drives, through the source-side
+        // two-port h: V_S = h11 I_S + h12 V_P, I_P = h21 I_S + h22 V_P (currents into it).
+        const TwoPortMatrix &h = sourceSide[i];
+        const Complex h11 = h(0, 0), h12 = h(0, 1), h21 = h(1, 0), h22 = h(1, 1);
+        const Complex ySrc = x.gParallel + s[i] * x.cParallel;
+        // Source equation  u11 I_S + u12 V_S = 1  (1 V behind r_series, or 1 A beside ySrc).
+        const Complex u11 = x.voltageSource ? Complex(x.rSeries) : Complex(1.0);
+        const Complex u12 = x.voltageSource ? Complex(1.0) : ySrc;
+        // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
+        const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
+        const Complex vOpen = -h21 / (c1 * h22 - c2 * h21); // V_P with the input open
+        const Complex iShort = -h21 / c1; // Norton current into the input
+        const Complex ys = h22 - h21 * c2 / c1; // admittance with the source zeroed
+        const Complex zs = 1.0 / ys;
+        const Complex kSrc = seriesMix ? vOpen : iShort;
 
-    Complex zNode;
-    if (seriesMix) {
-        const Complex zq = x.aSeriesInput ? x.aSeriesInput->entry(s, 0, 0) : kNaN;
-        zNode = (zs + zq) * desens - zs;
-    } else {
-        const Complex ri = a(x.outP1, x.testP1);
-        zNode = 1.0 / (desens / ri - ys);
-    }
-    p.tpZIn = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
+        const Complex sampled = x.sampledSign * aEntry(0, i);
+        c.a[i] = sampled / kSrc;
+        const TwoPortMatrix &network = c.network[i];
+        c.beta[i] = network(0, 1);
+        c.tpLoopGain[i] = c.a[i] * c.beta[i];
+        const Complex desens = 1.0 + c.tpLoopGain[i];
+        c.closedLoop[i] = c.a[i] / desens;
+        c.tpGain[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
 
-    const Complex yl = 1.0 / x.loadR + s * x.loadC;
-    const Complex zl = 1.0 / yl;
-    if (seriesSample) {
-        const Complex zRest = x.aSeriesOutput
-            ? x.aSeriesOutput->entry(s, loopio::kLoadVoltage, loopio::kLoadPort)
-            : kNaN;
-        p.tpZOut = (zl + zRest) * desens - zl;
-    } else {
-        const Complex ro = a(x.outP2, x.testP2);
-        p.tpZOut = 1.0 / (desens / ro - yl);
-    }
+        Complex zNode;
+        if (seriesMix) {
+            zNode = (zs + zq[i]) * desens - zs;
+        } else {
+            const Complex ri = aEntry(2, i);
+            zNode = 1.0 / (desens / ri - ys);
+        }
+        c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
 
-    // Loading budget: what the network's port loading costs against an unloaded input
-    // and output (1 = nothing lost).
-    const TwoPortMatrix &n = p.network;
-    Complex zn1, zn2;
-    switch (top.parameters()) {
-    case ParameterSet::H:
-        zn1 = n(0, 0), zn2 = 1.0 / n(1, 1);
-        break;
-    case ParameterSet::Y:
-        zn1 = 1.0 / n(0, 0), zn2 = 1.0 / n(1, 1);
-        break;
-    case ParameterSet::Z:
-        zn1 = n(0, 0), zn2 = n(1, 1);
-        break;
-    case ParameterSet::G:
-        zn1 = 1.0 / n(0, 0), zn2 = n(1, 1);
-        break;
+        const Complex yl = 1.0 / x.loadR + s[i] * x.loadC;
+        const Complex zl = 1.0 / yl;
+        if (seriesSample) {
+            c.tpZOut[i] = (zl + zRest[i]) * desens - zl;
+        } else {
+            const Complex ro = aEntry(seriesMix ? 2 : 3, i);
+            c.tpZOut[i] = 1.0 / (desens / ro - yl);
+        }
+
+        // Loading budget: what the network's port loading costs against an unloaded input
+        // and output (1 = nothing lost).
+        Complex zn1, zn2;
+        switch (top.parameters()) {
+        case ParameterSet::H:
+            zn1 = network(0, 0), zn2 = 1.0 / network(1, 1);
+            break;
+        case ParameterSet::Y:
+            zn1 = 1.0 / network(0, 0), zn2 = 1.0 / network(1, 1);
+            break;
+        case ParameterSet::Z:
+            zn1 = network(0, 0), zn2 = network(1, 1);
+            break;
+        case ParameterSet::G:
+            zn1 = 1.0 / network(0, 0), zn2 = network(1, 1);
+            break;
+        }
+        const Complex yIn = x.gIn + s[i] * x.cIn;
+        if (seriesMix) {
+            c.inputLoading[i]
+                = std::abs(yIn) == 0.0 ? Complex(1.0) : (1.0 / yIn + zs) / (1.0 / yIn + zs + zn1);
+        } else {
+            c.inputLoading[i] = (ys + yIn) / (ys + 1.0 / zn1 + yIn);
+        }
+        if (seriesSample) {
+            c.outputLoading[i] = (x.rOut + zl) / (x.rOut + zl + zn2);
+        } else {
+            const Complex zp = parallel(zl, zn2);
+            c.outputLoading[i] = zp * (x.rOut + zl) / (zl * (x.rOut + zp));
+        }
     }
-    const Complex yIn = x.gIn + s * x.cIn;
-    if (seriesMix) {
-        p.inputLoading
-            = std::abs(yIn) == 0.0 ? Complex(1.0) : (1.0 / yIn + zs) / (1.0 / yIn + zs + zn1);
-    } else {
-        p.inputLoading = (ys + yIn) / (ys + 1.0 / zn1 + yIn);
-    }
-    if (seriesSample) {
-        p.outputLoading = (x.rOut + zl) / (x.rOut + zl + zn2);
-    } else {
-        const Complex zp = parallel(zl, zn2);
-        p.outputLoading = zp * (x.rOut + zl) / (zl * (x.rOut + zp));
-    }
-    return p;
+    return c;
 }
 
 std::vector<Complex> LoopModel::closedLoopPoles() const

@@ -80,21 +80,29 @@ Result<TwoPortNetwork> TwoPortNetwork::build(const std::vector<Part> &parts,
 
 TwoPortMatrix TwoPortNetwork::at(std::complex<double> s) const
 {
-    thread_local Eigen::MatrixXcd h;
-    m_system->evaluateInto(s, {}, h);
-    TwoPortMatrix m;
+    return sweep({&s, 1}).front();
+}
+
+std::vector<TwoPortMatrix> TwoPortNetwork::sweep(std::span<const std::complex<double>> s) const
+{
+    const TransferEntry entries[] = {{0, 0}, {1, 0}, {0, 1}, {1, 1}};
+    const std::vector<std::complex<double>> h = m_system->sweepEntries(s, entries);
     const auto [i1, i2] = currentDriven(m_set);
     const bool byCurrent[2] = {i1, i2};
-    for (int r = 0; r < 2; ++r) {
-        // A voltage-driven port reports the source's branch current, which flows out of
-        // the network; the convention wants the current into it.
-        const double sign = byCurrent[r] ? 1.0 : -1.0;
-        for (int c = 0; c < 2; ++c)
-            m(r, c) = sign * h(r, c);
+    std::vector<TwoPortMatrix> out(s.size());
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        TwoPortMatrix &m = out[i];
+        for (int e = 0; e < 4; ++e) {
+            const int r = entries[e].output, c = entries[e].input;
+            // A voltage-driven port reports the source's branch current, which flows out of
+            // the network; the convention wants the current into it.
+            const double sign = byCurrent[r] ? 1.0 : -1.0;
+            m(r, c) = sign * h[static_cast<std::size_t>(e) * s.size() + i];
+        }
+        if (!m.allFinite())
+            m.setConstant(kNaN);
     }
-    if (!m.allFinite())
-        m.setConstant(kNaN);
-    return m;
+    return out;
 }
 
 namespace {

@@ -13,6 +13,7 @@
 #include <complex>
 #include <memory>
 #include <optional>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -38,6 +39,18 @@ struct LoopPoint
     TwoPortMatrix network; ///< the network's parameters of the topology's set
 };
 
+/// LoopPoint's quantities over a list of frequencies, one vector per quantity (same
+/// meanings and NaN rule), index i for the i-th frequency.
+struct LoopCurves
+{
+    std::vector<Complex> gain, zIn, zOut;
+    std::vector<Complex> loopGain, gainInf, feedthrough, rrGain, rrZIn, rrZOut;
+    std::vector<Complex> zInOpenLoop, zOutOpenLoop;
+    std::vector<Complex> a, beta, tpLoopGain, closedLoop, tpGain, tpZIn, tpZOut;
+    std::vector<Complex> inputLoading, outputLoading;
+    std::vector<TwoPortMatrix> network;
+};
+
 class LoopModel
 {
 public:
@@ -51,6 +64,11 @@ public:
     bool hasTwoPort() const { return m_twoPort != nullptr; }
 
     LoopPoint at(Complex s) const;
+
+    /// Every quantity at each complex frequency of `s` (rad/s): the sweeps of the analysis.
+    /// Each system is solved over the whole list in one pass (see
+    /// ReducedSystem::sweepEntries), so this is much faster than at() per frequency.
+    LoopCurves sweep(std::span<const Complex> s) const;
 
     /// Fast single quantities for root finding.
     Complex loopGainAt(Complex s) const;

@@ -14,6 +14,7 @@
 
 #include <complex>
 #include <optional>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -35,6 +36,9 @@ public:
 
     /// [[x11, x12], [x21, x22]] at s (rad/s); NaN where the set does not exist at s.
     TwoPortMatrix at(std::complex<double> s) const;
+
+    /// at() for every s of a list (rad/s), in one sweep of the network's system.
+    std::vector<TwoPortMatrix> sweep(std::span<const std::complex<double>> s) const;
 
 private:
     ParameterSet m_set = ParameterSet::Z;
