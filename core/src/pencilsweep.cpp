@@ -59,49 +59,53 @@ void makePlan(std::span<const TransferEntry> entries, Plan &plan)
     }
 }
 
-constexpr int kLanes = 2;
-/// Two points side by side (GCC/Clang vector extension): one value per point.
-using Lanes = double __attribute__((vector_size(kLanes * sizeof(double))));
-using LaneMask = long long __attribute__((vector_size(kLanes * sizeof(long long))));
+/// Points side by side (GCC/Clang vector extension): one value per point. Two fill an SSE2
+/// register (every x86-64), four an AVX2 one.
+using Lanes2 = double __attribute__((vector_size(2 * sizeof(double))));
+using Lanes4 = double __attribute__((vector_size(4 * sizeof(double))));
 
-inline Lanes absOf(Lanes x)
-{
-    return x < 0.0 ? -x : x;
-}
+template<typename L> constexpr int laneCount = static_cast<int>(sizeof(L) / sizeof(double));
 
 /// A complex number per lane.
-struct LaneComplex
+template<typename L> struct LaneComplex
 {
-    Lanes re, im;
+    L re, im;
 };
 
-inline LaneComplex mul(LaneComplex x, LaneComplex y)
+template<typename L> [[gnu::always_inline]] inline L magnitude2(LaneComplex<L> x)
+{
+    return x.re * x.re + x.im * x.im;
+}
+
+template<typename L>
+[[gnu::always_inline]] inline LaneComplex<L> mul(LaneComplex<L> x, LaneComplex<L> y)
 {
     return {x.re * y.re - x.im * y.im, x.re * y.im + x.im * y.re};
 }
 
-inline void subMul(LaneComplex &acc, LaneComplex x, LaneComplex y)
+template<typename L>
+[[gnu::always_inline]] inline void subMul(LaneComplex<L> &acc, LaneComplex<L> x, LaneComplex<L> y)
 {
     acc.re -= x.re * y.re - x.im * y.im;
     acc.im -= x.re * y.im + x.im * y.re;
 }
 
-inline LaneComplex select(LaneMask m, LaneComplex x, LaneComplex y)
+/// Per lane: x where `take` holds, else y (`take` a lane comparison result).
+template<typename L, typename M>
+[[gnu::always_inline]] inline LaneComplex<L> select(M take, LaneComplex<L> x, LaneComplex<L> y)
 {
-    return {m ? x.re : y.re, m ? x.im : y.im};
+    return {take ? x.re : y.re, take ? x.im : y.im};
 }
 
-/// 1 / x with one real division per lane; the library's scaled division in a lane whose
-/// squared magnitude could overflow or underflow.
-inline LaneComplex reciprocal(LaneComplex x)
+/// 1 / x from its squared magnitude with one real division per lane; the library's scaled
+/// division in a lane whose squared magnitude over- or underflows.
+template<typename L>
+[[gnu::always_inline]] inline LaneComplex<L> reciprocal(LaneComplex<L> x, L mag2)
 {
-    const Lanes scale = 1.0 / (x.re * x.re + x.im * x.im);
-    LaneComplex r{x.re * scale, -x.im * scale};
-    const Lanes ar = absOf(x.re), ai = absOf(x.im);
-    const Lanes m = ar > ai ? ar : ai;
-    const LaneMask ok = (m > 1e-150) & (m < 1e150);
-    for (int w = 0; w < kLanes; ++w) {
-        if (!ok[w]) {
+    const L scale = 1.0 / mag2;
+    LaneComplex<L> r{x.re * scale, -x.im * scale};
+    for (int w = 0; w < laneCount<L>; ++w) {
+        if (!(mag2[w] > 1e-290 && mag2[w] < 1e290)) {
             const cd inv = 1.0 / cd(x.re[w], x.im[w]);
             r.re[w] = inv.real();
             r.im[w] = inv.imag();
@@ -110,44 +114,81 @@ inline LaneComplex reciprocal(LaneComplex x)
     return r;
 }
 
-/// The sweep for order K (0: any order, given by `kAny`), two points at a time. One
-/// point's elimination is a chain of dependent divisions and products that leaves the core
-/// waiting on latency; two independent points side by side fill it, in vector registers.
-/// Partial pivoting stays per point: the row swaps are lane-wise selects. Compile-time K
-/// lets the compiler unroll the elimination at the usual orders.
-template<int K>
-void sweepOrder(const PencilView &p, int kAny, std::span<const cd> points,
-                std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+/// Swaps rows j and r of `rows` (length `n` each) in the lanes where `take` holds.
+template<typename L, typename M>
+[[gnu::always_inline]] inline void swapLanes(M take, LaneComplex<L> *rowJ, LaneComplex<L> *rowR,
+                                             Index n)
 {
+    for (Index cc = 0; cc < n; ++cc) {
+        const LaneComplex<L> top = rowJ[cc];
+        rowJ[cc] = select(take, rowR[cc], top);
+        rowR[cc] = select(take, top, rowR[cc]);
+    }
+}
+
+/// The sweep for order K (0: any order, given by `kAny`), several points at a time (L).
+/// One point's elimination is a chain of dependent divisions and products that leaves the
+/// core waiting on latency; independent points side by side in vector registers fill it.
+/// Partial pivoting stays per point. Neighbouring frequencies nearly always choose the same
+/// pivot row, so that case is a plain row swap (`uniform`), and only lanes that disagree
+/// pay for lane-wise selects. Compile-time K lets the compiler unroll the elimination.
+template<int K, typename L>
+[[gnu::always_inline]] inline void
+sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
+           std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    using LC = LaneComplex<L>;
+    constexpr int W = laneCount<L>;
     const Index k = K > 0 ? K : kAny;
     const Index outputs = p.l.rows();
     const auto nPoints = static_cast<Index>(points.size());
     const auto nVectors = static_cast<Index>(plan.vectors.size());
     // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
     constexpr Index cap = K > 0 ? K : 1;
-    LaneComplex aStack[cap * cap], invStack[cap], yStack[cap];
-    Lanes pivStack[cap];
-    LaneComplex *a = aStack, *invDiag = invStack, *y = yStack;
-    Lanes *piv = pivStack; // row swapped with row j, per lane (a small integer as double)
+    LC aStack[cap * cap], invStack[cap], yStack[cap];
+    L pivStack[cap];
+    Index uniformStack[cap];
+    LC *a = aStack, *invDiag = invStack, *y = yStack;
+    L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
+    Index *uniform = uniformStack; // that row when every lane chose it, else -1
     if constexpr (K == 0) {
-        thread_local std::vector<LaneComplex> work;
-        thread_local std::vector<Lanes> pivots;
+        thread_local std::vector<LC> work;
+        thread_local std::vector<L> pivots;
+        thread_local std::vector<Index> same;
         work.resize(static_cast<std::size_t>(k * k + 2 * k));
         pivots.resize(static_cast<std::size_t>(k));
+        same.resize(static_cast<std::size_t>(k));
         a = work.data();
         invDiag = a + k * k;
         y = invDiag + k;
         piv = pivots.data();
+        uniform = same.data();
     }
     const double *g = p.g.data(), *c = p.c.data(), *b = p.b.data(), *l = p.l.data();
     const double *d = p.d.data();
     const cd nan(std::numeric_limits<double>::quiet_NaN(),
                  std::numeric_limits<double>::quiet_NaN());
+    const auto isUniform = [](L v) {
+        for (int w = 1; w < W; ++w)
+            if (v[w] != v[0])
+                return false;
+        return true;
+    };
+    // Row swaps of the right-hand side, in the order of the factorisation or reversed.
+    const auto swapRhs = [&](Index j) {
+        if (uniform[j] >= 0) {
+            if (uniform[j] != j)
+                std::swap(y[j], y[uniform[j]]);
+            return;
+        }
+        for (Index r = j + 1; r < k; ++r)
+            swapLanes<L>(piv[j] == static_cast<double>(r), y + j, y + r, 1);
+    };
 
-    for (Index i0 = 0; i0 < nPoints; i0 += kLanes) {
-        const Index lanes = std::min<Index>(kLanes, nPoints - i0);
-        Lanes sr, si;
-        for (int w = 0; w < kLanes; ++w) {
+    for (Index i0 = 0; i0 < nPoints; i0 += W) {
+        const Index lanes = std::min<Index>(W, nPoints - i0);
+        L sr, si;
+        for (int w = 0; w < W; ++w) {
             // A short last group repeats its last point.
             const cd s = points[static_cast<std::size_t>(i0 + std::min<Index>(w, lanes - 1))];
             sr[w] = s.real();
@@ -158,34 +199,37 @@ void sweepOrder(const PencilView &p, int kAny, std::span<const cd> points,
                 const double gv = g[col * k + r], cv = c[col * k + r];
                 a[r * k + col] = {gv + sr * cv, si * cv};
             }
-        LaneMask singular = {};
+        L singular = {};
         for (Index j = 0; j < k; ++j) {
-            Lanes bestMag = absOf(a[j * k + j].re) + absOf(a[j * k + j].im);
-            // Row numbers as doubles: double compares vectorise on every x86-64, 64-bit
-            // integer ones need SSE4.1.
-            Lanes best = Lanes{} + static_cast<double>(j);
+            // Pivot by squared modulus, which the reciprocal needs anyway.
+            L bestMag = magnitude2(a[j * k + j]);
+            L best = L{} + static_cast<double>(j);
             for (Index r = j + 1; r < k; ++r) {
-                const Lanes m = absOf(a[r * k + j].re) + absOf(a[r * k + j].im);
-                const LaneMask better = m > bestMag;
+                const L m = magnitude2(a[r * k + j]);
+                const auto better = m > bestMag;
                 bestMag = better ? m : bestMag;
-                best = better ? Lanes{} + static_cast<double>(r) : best;
+                best = better ? L{} + static_cast<double>(r) : best;
             }
             piv[j] = best;
-            for (Index r = j + 1; r < k; ++r) {
-                const LaneMask swap = best == static_cast<double>(r);
-                for (Index cc = 0; cc < k; ++cc) {
-                    const LaneComplex top = a[j * k + cc];
-                    a[j * k + cc] = select(swap, a[r * k + cc], top);
-                    a[r * k + cc] = select(swap, top, a[r * k + cc]);
-                }
+            if (isUniform(best)) {
+                const auto row = static_cast<Index>(best[0]);
+                uniform[j] = row;
+                if (row != j)
+                    for (Index cc = 0; cc < k; ++cc)
+                        std::swap(a[j * k + cc], a[row * k + cc]);
+            } else {
+                uniform[j] = -1;
+                for (Index r = j + 1; r < k; ++r)
+                    swapLanes<L>(best == static_cast<double>(r), a + j * k, a + r * k, k);
             }
-            const LaneMask zero = !(bestMag > 0.0);
-            singular |= zero;
-            a[j * k + j].re = zero ? Lanes{} + 1.0 : a[j * k + j].re; // keeps the lane finite
-            const LaneComplex inv = reciprocal(a[j * k + j]);
+            const auto zero = (a[j * k + j].re == 0.0) & (a[j * k + j].im == 0.0);
+            singular = zero ? L{} + 1.0 : singular;
+            a[j * k + j].re = zero ? L{} + 1.0 : a[j * k + j].re; // keeps the lane finite
+            bestMag = zero ? L{} + 1.0 : bestMag;
+            const LC inv = reciprocal(a[j * k + j], bestMag);
             invDiag[j] = inv;
             for (Index r = j + 1; r < k; ++r) {
-                const LaneComplex f = mul(a[r * k + j], inv);
+                const LC f = mul(a[r * k + j], inv);
                 a[r * k + j] = f;
                 for (Index cc = j + 1; cc < k; ++cc)
                     subMul(a[r * k + cc], f, a[j * k + cc]);
@@ -196,19 +240,14 @@ void sweepOrder(const PencilView &p, int kAny, std::span<const cd> points,
             if (!plan.transposed) {
                 // P A = L U with whole rows swapped (multipliers included): swaps first.
                 for (Index r = 0; r < k; ++r)
-                    y[r] = {Lanes{} + b[which * k + r], Lanes{}};
+                    y[r] = {L{} + b[which * k + r], L{}};
                 for (Index j = 0; j < k; ++j)
-                    for (Index r = j + 1; r < k; ++r) {
-                        const LaneMask swap = piv[j] == static_cast<double>(r);
-                        const LaneComplex top = y[j];
-                        y[j] = select(swap, y[r], top);
-                        y[r] = select(swap, top, y[r]);
-                    }
+                    swapRhs(j);
                 for (Index j = 0; j < k; ++j)
                     for (Index r = j + 1; r < k; ++r)
                         subMul(y[r], a[r * k + j], y[j]);
                 for (Index r = k - 1; r >= 0; --r) {
-                    LaneComplex acc = y[r];
+                    LC acc = y[r];
                     for (Index cc = r + 1; cc < k; ++cc)
                         subMul(acc, a[r * k + cc], y[cc]);
                     y[r] = mul(acc, invDiag[r]);
@@ -216,7 +255,7 @@ void sweepOrder(const PencilView &p, int kAny, std::span<const cd> points,
             } else {
                 // A^T = U^T L^T P: solve U^T x = l, then L^T y = x, then undo the swaps.
                 for (Index r = 0; r < k; ++r) {
-                    LaneComplex acc{Lanes{} + l[r * outputs + which], Lanes{}};
+                    LC acc{L{} + l[r * outputs + which], L{}};
                     for (Index m = 0; m < r; ++m)
                         subMul(acc, a[m * k + r], y[m]);
                     y[r] = mul(acc, invDiag[r]);
@@ -225,26 +264,21 @@ void sweepOrder(const PencilView &p, int kAny, std::span<const cd> points,
                     for (Index m = r + 1; m < k; ++m)
                         subMul(y[r], a[m * k + r], y[m]);
                 for (Index j = k - 1; j >= 0; --j)
-                    for (Index r = k - 1; r > j; --r) {
-                        const LaneMask swap = piv[j] == static_cast<double>(r);
-                        const LaneComplex top = y[j];
-                        y[j] = select(swap, y[r], top);
-                        y[r] = select(swap, top, y[r]);
-                    }
+                    swapRhs(j);
             }
             for (std::size_t e = 0; e < entries.size(); ++e) {
                 if (plan.slot[e] != v)
                     continue;
                 const int other = plan.other[e];
-                LaneComplex acc;
+                LC acc;
                 if (!plan.transposed) {
-                    acc = {Lanes{} + d[which * outputs + other], Lanes{}};
+                    acc = {L{} + d[which * outputs + other], L{}};
                     for (Index m = 0; m < k; ++m) {
                         acc.re += l[m * outputs + other] * y[m].re;
                         acc.im += l[m * outputs + other] * y[m].im;
                     }
                 } else {
-                    acc = {Lanes{} + d[other * outputs + which], Lanes{}};
+                    acc = {L{} + d[other * outputs + which], L{}};
                     for (Index m = 0; m < k; ++m) {
                         acc.re += b[other * k + m] * y[m].re;
                         acc.im += b[other * k + m] * y[m].im;
@@ -254,35 +288,76 @@ void sweepOrder(const PencilView &p, int kAny, std::span<const cd> points,
                 for (Index w = 0; w < lanes; ++w) {
                     const double re = acc.re[w], im = acc.im[w];
                     const bool finite = std::isfinite(re) && std::isfinite(im);
-                    dst[w] = finite && !singular[w] ? cd(re, im) : nan;
+                    dst[w] = finite && singular[w] == 0.0 ? cd(re, im) : nan;
                 }
             }
         }
     }
 }
 
+template<int K>
+void sweepOrder(const PencilView &p, int k, std::span<const cd> points,
+                std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    sweepLanes<K, Lanes2>(p, k, points, entries, plan, out);
+}
+
+#if defined(__x86_64__) && defined(__GNUC__)
+#define LOOPSKETCH_HAVE_AVX2_SWEEP 1
+/// The same four points at a time, for processors with AVX2 (chosen at run time; the
+/// arithmetic per point is the same, so are the results).
+template<int K>
+__attribute__((target("avx2"))) void
+sweepOrderAvx2(const PencilView &p, int k, std::span<const cd> points,
+               std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    sweepLanes<K, Lanes4>(p, k, points, entries, plan, out);
+}
+#endif
+
+template<int K> struct Baseline
+{
+    static void run(const PencilView &p, int k, std::span<const cd> points,
+                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+    {
+        sweepOrder<K>(p, k, points, entries, plan, out);
+    }
+};
+
+#ifdef LOOPSKETCH_HAVE_AVX2_SWEEP
+template<int K> struct WithAvx2
+{
+    static void run(const PencilView &p, int k, std::span<const cd> points,
+                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+    {
+        sweepOrderAvx2<K>(p, k, points, entries, plan, out);
+    }
+};
+#endif
+
+template<template<int> typename Sweep>
 void sweepAnyOrder(const PencilView &pencil, int k, std::span<const cd> points,
                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
 {
     switch (k) {
     case 1:
-        return sweepOrder<1>(pencil, k, points, entries, plan, out);
+        return Sweep<1>::run(pencil, k, points, entries, plan, out);
     case 2:
-        return sweepOrder<2>(pencil, k, points, entries, plan, out);
+        return Sweep<2>::run(pencil, k, points, entries, plan, out);
     case 3:
-        return sweepOrder<3>(pencil, k, points, entries, plan, out);
+        return Sweep<3>::run(pencil, k, points, entries, plan, out);
     case 4:
-        return sweepOrder<4>(pencil, k, points, entries, plan, out);
+        return Sweep<4>::run(pencil, k, points, entries, plan, out);
     case 5:
-        return sweepOrder<5>(pencil, k, points, entries, plan, out);
+        return Sweep<5>::run(pencil, k, points, entries, plan, out);
     case 6:
-        return sweepOrder<6>(pencil, k, points, entries, plan, out);
+        return Sweep<6>::run(pencil, k, points, entries, plan, out);
     case 7:
-        return sweepOrder<7>(pencil, k, points, entries, plan, out);
+        return Sweep<7>::run(pencil, k, points, entries, plan, out);
     case 8:
-        return sweepOrder<8>(pencil, k, points, entries, plan, out);
+        return Sweep<8>::run(pencil, k, points, entries, plan, out);
     default:
-        return sweepOrder<0>(pencil, k, points, entries, plan, out);
+        return Sweep<0>::run(pencil, k, points, entries, plan, out);
     }
 }
 
@@ -302,7 +377,12 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
     }
     thread_local Plan plan;
     makePlan(entries, plan);
-    sweepAnyOrder(pencil, k, points, entries, plan, out);
+#ifdef LOOPSKETCH_HAVE_AVX2_SWEEP
+    static const bool avx2 = __builtin_cpu_supports("avx2");
+    if (avx2)
+        return sweepAnyOrder<WithAvx2>(pencil, k, points, entries, plan, out);
+#endif
+    sweepAnyOrder<Baseline>(pencil, k, points, entries, plan, out);
 }
 
 } // namespace loopsketch::detail
