@@ -46,6 +46,10 @@ double integratePsd(const std::vector<double> &hz, const std::vector<double> &ps
         if (!(b > a))
             continue;
         const double span = std::log(f2 / f1);
+        if (a == f1 && b == f2) { // a whole interval: no interpolation, one logarithm
+            sum += 0.5 * (psd[i] * f1 + psd[i + 1] * f2) * span;
+            continue;
+        }
         const auto at = [&](double f) {
             const double t = span > 0 ? std::log(f / f1) / span : 0.0;
             return (psd[i] + t * (psd[i + 1] - psd[i])) * f;

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
 #include <limits>
 #include <utility>
 #include <vector>
@@ -59,6 +60,71 @@ void makePlan(std::span<const TransferEntry> entries, Plan &plan)
     }
 }
 
+/// One point by the textbook elimination in std::complex arithmetic (pivots by |re| + |im|,
+/// the library's scaled division): the fallback for a point where the fast lanes met a
+/// pivot too small or too large to square, or a result that is not finite. Writes entry e
+/// to out[e * stride]; every entry NaN when the pencil is singular at s.
+void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntry> entries, cd *out,
+                         Index stride)
+{
+    const Index k = p.g.rows();
+    const Index outputs = p.l.rows();
+    const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                 std::numeric_limits<double>::quiet_NaN());
+    std::vector<cd> a(static_cast<std::size_t>(k * k)), y(static_cast<std::size_t>(k));
+    std::vector<Index> piv(static_cast<std::size_t>(k));
+    for (Index col = 0; col < k; ++col)
+        for (Index r = 0; r < k; ++r)
+            a[r * k + col] = cd(p.g(r, col), 0.0) + s * p.c(r, col);
+    for (Index j = 0; j < k; ++j) {
+        Index best = j;
+        double bestMag = std::abs(a[j * k + j].real()) + std::abs(a[j * k + j].imag());
+        for (Index r = j + 1; r < k; ++r) {
+            const double m = std::abs(a[r * k + j].real()) + std::abs(a[r * k + j].imag());
+            if (m > bestMag) {
+                best = r;
+                bestMag = m;
+            }
+        }
+        piv[j] = best;
+        if (!(bestMag > 0.0)) {
+            for (std::size_t e = 0; e < entries.size(); ++e)
+                out[static_cast<Index>(e) * stride] = nan;
+            return;
+        }
+        for (Index cc = 0; cc < k; ++cc)
+            std::swap(a[j * k + cc], a[best * k + cc]);
+        for (Index r = j + 1; r < k; ++r) {
+            const cd f = a[r * k + j] / a[j * k + j];
+            a[r * k + j] = f;
+            for (Index cc = j + 1; cc < k; ++cc)
+                a[r * k + cc] -= f * a[j * k + cc];
+        }
+    }
+    for (std::size_t e = 0; e < entries.size(); ++e) {
+        const int col = entries[e].input, row = entries[e].output;
+        for (Index r = 0; r < k; ++r)
+            y[r] = p.b(r, col);
+        for (Index j = 0; j < k; ++j)
+            std::swap(y[j], y[piv[j]]);
+        for (Index j = 0; j < k; ++j)
+            for (Index r = j + 1; r < k; ++r)
+                y[r] -= a[r * k + j] * y[j];
+        for (Index r = k - 1; r >= 0; --r) {
+            cd acc = y[r];
+            for (Index cc = r + 1; cc < k; ++cc)
+                acc -= a[r * k + cc] * y[cc];
+            y[r] = acc / a[r * k + r];
+        }
+        cd acc = p.d(row, col);
+        for (Index m = 0; m < k; ++m)
+            acc += p.l(row, m) * y[m];
+        const bool finite = std::isfinite(acc.real()) && std::isfinite(acc.imag());
+        out[static_cast<Index>(e) * stride] = finite ? acc : nan;
+    }
+    (void)outputs;
+}
+
 /// Points side by side (GCC/Clang vector extension): one value per point. Two fill an SSE2
 /// register (every x86-64), four an AVX2 one.
 using Lanes2 = double __attribute__((vector_size(2 * sizeof(double))));
@@ -97,21 +163,13 @@ template<typename L, typename M>
     return {take ? x.re : y.re, take ? x.im : y.im};
 }
 
-/// 1 / x from its squared magnitude with one real division per lane; the library's scaled
-/// division in a lane whose squared magnitude over- or underflows.
+/// 1 / x from its squared magnitude: one real division per lane. Lanes whose squared
+/// magnitude over- or underflows are flagged by the caller and solved again carefully.
 template<typename L>
 [[gnu::always_inline]] inline LaneComplex<L> reciprocal(LaneComplex<L> x, L mag2)
 {
     const L scale = 1.0 / mag2;
-    LaneComplex<L> r{x.re * scale, -x.im * scale};
-    for (int w = 0; w < laneCount<L>; ++w) {
-        if (!(mag2[w] > 1e-290 && mag2[w] < 1e290)) {
-            const cd inv = 1.0 / cd(x.re[w], x.im[w]);
-            r.re[w] = inv.real();
-            r.im[w] = inv.imag();
-        }
-    }
-    return r;
+    return {x.re * scale, -x.im * scale};
 }
 
 /// Swaps rows j and r of `rows` (length `n` each) in the lanes where `take` holds.
@@ -185,8 +243,36 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
             swapLanes<L>(piv[j] == static_cast<double>(r), y + j, y + r, 1);
     };
 
+    // Which entries of each row can be non-zero (bit c for column c), from G and C, then
+    // followed through swaps and fill-in: the reduced pencils are sparse (the gain block's
+    // states form a chain, a test-driven block does not feed back), and skipping products
+    // with exact zeros changes no result.
+    using Pattern = std::uint32_t;
+    Pattern patternStack[cap], startStack[cap];
+    Pattern *nz = patternStack, *start = startStack;
+    thread_local std::vector<Pattern> patterns;
+    if (K == 0 || k > 32) {
+        patterns.assign(static_cast<std::size_t>(2 * k), 0);
+        nz = patterns.data();
+        start = nz + k;
+    }
+    const bool sparse = k <= 32;
+    for (Index r = 0; r < k; ++r) {
+        start[r] = 0;
+        for (Index col = 0; col < k && sparse; ++col)
+            if (g[col * k + r] != 0.0 || c[col * k + r] != 0.0)
+                start[r] |= Pattern(1) << col;
+        if (!sparse)
+            start[r] = ~Pattern(0);
+    }
+    const auto has = [&](Index r, Index col) {
+        return !sparse || ((nz[r] >> col) & 1u) != 0;
+    };
+
     for (Index i0 = 0; i0 < nPoints; i0 += W) {
         const Index lanes = std::min<Index>(W, nPoints - i0);
+        for (Index r = 0; r < k; ++r)
+            nz[r] = start[r];
         L sr, si;
         for (int w = 0; w < W; ++w) {
             // A short last group repeats its last point.
@@ -199,7 +285,7 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 const double gv = g[col * k + r], cv = c[col * k + r];
                 a[r * k + col] = {gv + sr * cv, si * cv};
             }
-        L singular = {};
+        L retry = {}; // non-zero in a lane that needs the careful solve
         for (Index j = 0; j < k; ++j) {
             // Pivot by squared modulus, which the reciprocal needs anyway.
             L bestMag = magnitude2(a[j * k + j]);
@@ -214,25 +300,32 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
             if (isUniform(best)) {
                 const auto row = static_cast<Index>(best[0]);
                 uniform[j] = row;
-                if (row != j)
+                if (row != j) {
                     for (Index cc = 0; cc < k; ++cc)
                         std::swap(a[j * k + cc], a[row * k + cc]);
+                    std::swap(nz[j], nz[row]);
+                }
             } else {
                 uniform[j] = -1;
-                for (Index r = j + 1; r < k; ++r)
+                for (Index r = j + 1; r < k; ++r) {
                     swapLanes<L>(best == static_cast<double>(r), a + j * k, a + r * k, k);
+                    nz[j] = nz[r] = nz[j] | nz[r]; // either row's entries, lane by lane
+                }
             }
-            const auto zero = (a[j * k + j].re == 0.0) & (a[j * k + j].im == 0.0);
-            singular = zero ? L{} + 1.0 : singular;
-            a[j * k + j].re = zero ? L{} + 1.0 : a[j * k + j].re; // keeps the lane finite
-            bestMag = zero ? L{} + 1.0 : bestMag;
+            // A zero, tiny or huge pivot: that point is solved again carefully at the end.
+            retry = (bestMag < 1e-290) | (bestMag > 1e290) ? L{} + 1.0 : retry;
             const LC inv = reciprocal(a[j * k + j], bestMag);
             invDiag[j] = inv;
+            const Pattern right = sparse ? nz[j] & ~((Pattern(2) << j) - 1) : 0;
             for (Index r = j + 1; r < k; ++r) {
+                if (!has(r, j))
+                    continue;
                 const LC f = mul(a[r * k + j], inv);
                 a[r * k + j] = f;
                 for (Index cc = j + 1; cc < k; ++cc)
-                    subMul(a[r * k + cc], f, a[j * k + cc]);
+                    if (has(j, cc))
+                        subMul(a[r * k + cc], f, a[j * k + cc]);
+                nz[r] |= right;
             }
         }
         for (Index v = 0; v < nVectors; ++v) {
@@ -245,11 +338,13 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                     swapRhs(j);
                 for (Index j = 0; j < k; ++j)
                     for (Index r = j + 1; r < k; ++r)
-                        subMul(y[r], a[r * k + j], y[j]);
+                        if (has(r, j))
+                            subMul(y[r], a[r * k + j], y[j]);
                 for (Index r = k - 1; r >= 0; --r) {
                     LC acc = y[r];
                     for (Index cc = r + 1; cc < k; ++cc)
-                        subMul(acc, a[r * k + cc], y[cc]);
+                        if (has(r, cc))
+                            subMul(acc, a[r * k + cc], y[cc]);
                     y[r] = mul(acc, invDiag[r]);
                 }
             } else {
@@ -257,12 +352,14 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 for (Index r = 0; r < k; ++r) {
                     LC acc{L{} + l[r * outputs + which], L{}};
                     for (Index m = 0; m < r; ++m)
-                        subMul(acc, a[m * k + r], y[m]);
+                        if (has(m, r))
+                            subMul(acc, a[m * k + r], y[m]);
                     y[r] = mul(acc, invDiag[r]);
                 }
                 for (Index r = k - 2; r >= 0; --r)
                     for (Index m = r + 1; m < k; ++m)
-                        subMul(y[r], a[m * k + r], y[m]);
+                        if (has(m, r))
+                            subMul(y[r], a[m * k + r], y[m]);
                 for (Index j = k - 1; j >= 0; --j)
                     swapRhs(j);
             }
@@ -284,14 +381,18 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                         acc.im += b[other * k + m] * y[m].im;
                     }
                 }
+                // Non-finite results go the careful way too (x * 0 is NaN for inf and NaN).
+                const L probe = acc.re * 0.0 + acc.im * 0.0;
+                retry = probe != 0.0 ? L{} + 1.0 : retry;
                 cd *dst = out + static_cast<Index>(e) * nPoints + i0;
-                for (Index w = 0; w < lanes; ++w) {
-                    const double re = acc.re[w], im = acc.im[w];
-                    const bool finite = std::isfinite(re) && std::isfinite(im);
-                    dst[w] = finite && singular[w] == 0.0 ? cd(re, im) : nan;
-                }
+                for (Index w = 0; w < lanes; ++w)
+                    dst[w] = cd(acc.re[w], acc.im[w]);
             }
         }
+        for (Index w = 0; w < lanes; ++w)
+            if (retry[w] != 0.0)
+                solvePointCarefully(p, points[static_cast<std::size_t>(i0 + w)], entries,
+                                    out + i0 + w, nPoints);
     }
 }
 

@@ -350,7 +350,7 @@ Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
     // Augmented exponential exp([[A, b], [0, 0]] dt) = [[Phi, Gamma], [0, 1]] propagates the
     // state over one step exactly for a constant input.
     Eigen::MatrixXd aug = Eigen::MatrixXd::Zero(rank + 1, rank + 1);
-    Eigen::VectorXd w = Eigen::VectorXd::Zero(rank);
+    Eigen::VectorXd w = Eigen::VectorXd::Zero(rank), next(rank);
     double last = 0.0;
     double lastDt = -1.0;
     Eigen::MatrixXd phi, gamma;
@@ -365,10 +365,21 @@ Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
                 gamma = e.topRightCorner(rank, 1);
                 lastDt = dt;
             }
-            w = phi * w + gamma;
+            // Plain loops: at rank 2..8 the library's product costs more in set-up (and a
+            // temporary per step) than in arithmetic, over thousands of steps.
+            for (Index r = 0; r < rank; ++r) {
+                double acc = gamma(r);
+                for (Index m = 0; m < rank; ++m)
+                    acc += phi(r, m) * w(m);
+                next(r) = acc;
+            }
+            w.swap(next);
             last = times[i];
         }
-        y[i] = c.dot(w) + d;
+        double out = d;
+        for (Index m = 0; m < rank; ++m)
+            out += c(m) * w(m);
+        y[i] = out;
     }
     return y;
 }
