@@ -69,17 +69,26 @@ std::map<std::string, double> computeSensitivity(const Design &design, double ga
     std::map<std::string, double> out;
     if (!(std::abs(gain) > 0))
         return out;
+    // One copy of the design, each field nudged and put back in turn: copying the whole
+    // design per nudge cost more than the solves.
+    Design d = design;
     for (std::size_t i = 0; i < design.parts.size(); ++i) {
         const std::string field = sensitivityField(design.parts[i]);
         if (field.empty())
             continue;
         const double base = design.parts[i].number(field);
         OptionalNumber g[2];
+        auto &fields = d.parts[i].fields;
+        const bool given = fields.count(field) != 0;
+        const auto original = given ? fields.at(field) : Value{};
         for (int k = 0; k < 2; ++k) {
-            Design d = design;
-            d.parts[i].fields[field].si = base * (1.0 + (k ? kSensitivityStep : -kSensitivityStep));
+            fields[field].si = base * (1.0 + (k ? kSensitivityStep : -kSensitivityStep));
             g[k] = dcGain(d);
         }
+        if (given)
+            fields[field] = original;
+        else
+            fields.erase(field);
         if (g[0] && g[1])
             out[design.parts[i].id] = (*g[1] - *g[0]) / (2 * kSensitivityStep * gain);
     }

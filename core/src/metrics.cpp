@@ -109,8 +109,11 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
     const auto logMag = [&](double hz) {
         return std::log(std::abs(model.loopGainAt(jw(hz))));
     };
+    std::vector<double> logMagnitude(t.size());
+    for (std::size_t i = 0; i < t.size(); ++i)
+        logMagnitude[i] = std::log(std::abs(t[i]));
     for (std::size_t i = 0; i + 1 < f.size(); ++i) {
-        const double a = std::log(std::abs(t[i])), b = std::log(std::abs(t[i + 1]));
+        const double a = logMagnitude[i], b = logMagnitude[i + 1];
         if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
             continue;
         const double fc = bisectLog(logMag, f[i], f[i + 1]);

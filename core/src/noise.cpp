@@ -27,6 +27,8 @@ double thermalNoiseCurrent(double ohms, double kelvin)
 
 double flickerDensity(double white, double cornerHz, double hz)
 {
+    if (cornerHz == 0.0) // white noise (every resistor): skip the root of exactly 1
+        return white;
     return white * std::sqrt(1.0 + cornerHz / hz);
 }
 

@@ -126,9 +126,11 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
 }
 
 /// Points side by side (GCC/Clang vector extension): one value per point. Two fill an SSE2
-/// register (every x86-64), four an AVX2 one.
+/// register (every x86-64), four an AVX2 one, eight an AVX-512 one. Wider than the
+/// register, the compiler splits the vectors badly, so each width has its own target.
 using Lanes2 = double __attribute__((vector_size(2 * sizeof(double))));
 using Lanes4 = double __attribute__((vector_size(4 * sizeof(double))));
+using Lanes8 = double __attribute__((vector_size(8 * sizeof(double))));
 
 template<typename L> constexpr int laneCount = static_cast<int>(sizeof(L) / sizeof(double));
 
@@ -404,15 +406,24 @@ void sweepOrder(const PencilView &p, int k, std::span<const cd> points,
 }
 
 #if defined(__x86_64__) && defined(__GNUC__)
-#define LOOPSKETCH_HAVE_AVX2_SWEEP 1
-/// The same four points at a time, for processors with AVX2 (chosen at run time; the
-/// arithmetic per point is the same, so are the results).
+#define LOOPSKETCH_HAVE_WIDE_SWEEP 1
+// The same four or eight points at a time, for processors with AVX2 or AVX-512, chosen at
+// run time. The arithmetic per point is the same (this file is compiled without
+// contraction into fused multiply-adds), so are the results.
 template<int K>
 __attribute__((target("avx2"))) void
 sweepOrderAvx2(const PencilView &p, int k, std::span<const cd> points,
                std::span<const TransferEntry> entries, const Plan &plan, cd *out)
 {
     sweepLanes<K, Lanes4>(p, k, points, entries, plan, out);
+}
+
+template<int K>
+__attribute__((target("avx512f"))) void
+sweepOrderAvx512(const PencilView &p, int k, std::span<const cd> points,
+                 std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    sweepLanes<K, Lanes8>(p, k, points, entries, plan, out);
 }
 #endif
 
@@ -425,13 +436,22 @@ template<int K> struct Baseline
     }
 };
 
-#ifdef LOOPSKETCH_HAVE_AVX2_SWEEP
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
 template<int K> struct WithAvx2
 {
     static void run(const PencilView &p, int k, std::span<const cd> points,
                     std::span<const TransferEntry> entries, const Plan &plan, cd *out)
     {
         sweepOrderAvx2<K>(p, k, points, entries, plan, out);
+    }
+};
+
+template<int K> struct WithAvx512
+{
+    static void run(const PencilView &p, int k, std::span<const cd> points,
+                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+    {
+        sweepOrderAvx512<K>(p, k, points, entries, plan, out);
     }
 };
 #endif
@@ -478,8 +498,12 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
     }
     thread_local Plan plan;
     makePlan(entries, plan);
-#ifdef LOOPSKETCH_HAVE_AVX2_SWEEP
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
+    // A single point (root finding) costs a whole group: the narrowest that is not slower.
+    static const bool avx512 = __builtin_cpu_supports("avx512f");
     static const bool avx2 = __builtin_cpu_supports("avx2");
+    if (avx512 && points.size() > 4)
+        return sweepAnyOrder<WithAvx512>(pencil, k, points, entries, plan, out);
     if (avx2)
         return sweepAnyOrder<WithAvx2>(pencil, k, points, entries, plan, out);
 #endif
