@@ -32,8 +32,21 @@ double flickerDensity(double white, double cornerHz, double hz)
     return white * std::sqrt(1.0 + cornerHz / hz);
 }
 
-double integratePsd(const std::vector<double> &hz, const std::vector<double> &psd, double low,
-                    double high)
+namespace {
+
+/// ln(hz[i + 1] / hz[i]) for each interval: the same for every density integrated over one
+/// sweep, so the noise analysis takes them once for all its sources.
+std::vector<double> logSpans(const std::vector<double> &hz)
+{
+    std::vector<double> spans(hz.size() > 1 ? hz.size() - 1 : 0);
+    for (std::size_t i = 0; i < spans.size(); ++i)
+        spans[i] = std::log(hz[i + 1] / hz[i]);
+    return spans;
+}
+
+/// integratePsd() with the intervals' logarithms given.
+double integrateWithSpans(const std::vector<double> &hz, const std::vector<double> &spans,
+                          const std::vector<double> &psd, double low, double high)
 {
     if (hz.size() < 2 || psd.size() != hz.size())
         return 0.0;
@@ -47,7 +60,7 @@ double integratePsd(const std::vector<double> &hz, const std::vector<double> &ps
         const double a = std::max(f1, low), b = std::min(f2, high);
         if (!(b > a))
             continue;
-        const double span = std::log(f2 / f1);
+        const double span = spans[i];
         if (a == f1 && b == f2) { // a whole interval: no interpolation, one logarithm
             sum += 0.5 * (psd[i] * f1 + psd[i + 1] * f2) * span;
             continue;
@@ -59,6 +72,16 @@ double integratePsd(const std::vector<double> &hz, const std::vector<double> &ps
         sum += 0.5 * (at(a) + at(b)) * std::log(b / a);
     }
     return sum;
+}
+
+} // namespace
+
+double integratePsd(const std::vector<double> &hz, const std::vector<double> &psd, double low,
+                    double high)
+{
+    if (hz.size() < 2 || psd.size() != hz.size())
+        return 0.0;
+    return integrateWithSpans(hz, logSpans(hz), psd, low, high);
 }
 
 namespace {
@@ -297,14 +320,17 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
         }
     }
 
+    const std::vector<double> spans = logSpans(hz);
+    const auto integrate = [&](const std::vector<double> &psd) {
+        return integrateWithSpans(hz, spans, psd, result.bandLowHz, result.bandHighHz);
+    };
     const bool gainEverywhere = std::all_of(result.inputDensity.begin(), result.inputDensity.end(),
                                             [](double v) { return std::isfinite(v); });
     std::vector<double> inputPsd(hz.size());
     if (gainEverywhere) {
         for (std::size_t i = 0; i < hz.size(); ++i)
             inputPsd[i] = result.inputDensity[i] * result.inputDensity[i];
-        result.inputRms
-            = std::sqrt(integratePsd(hz, inputPsd, result.bandLowHz, result.bandHighHz));
+        result.inputRms = std::sqrt(integrate(inputPsd));
     }
     if (result.brickWall) {
         if (gainEverywhere) {
@@ -313,20 +339,16 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
                 std::vector<double> referred(hz.size());
                 for (std::size_t i = 0; i < hz.size(); ++i)
                     referred[i] = src.contribution.outputPsd[i] / std::norm(result.gain[i]);
-                src.contribution.rms
-                    = std::sqrt(integratePsd(hz, referred, result.bandLowHz, result.bandHighHz))
-                    * gain0;
+                src.contribution.rms = std::sqrt(integrate(referred)) * gain0;
             }
         }
     } else {
         std::vector<double> outputPsd(hz.size());
         for (std::size_t i = 0; i < hz.size(); ++i)
             outputPsd[i] = result.outputDensity[i] * result.outputDensity[i];
-        result.outputRms
-            = std::sqrt(integratePsd(hz, outputPsd, result.bandLowHz, result.bandHighHz));
+        result.outputRms = std::sqrt(integrate(outputPsd));
         for (Source &src : sources)
-            src.contribution.rms = std::sqrt(
-                integratePsd(hz, src.contribution.outputPsd, result.bandLowHz, result.bandHighHz));
+            src.contribution.rms = std::sqrt(integrate(src.contribution.outputPsd));
     }
     for (Source &src : sources)
         result.contributions.push_back(std::move(src.contribution));
