@@ -43,7 +43,7 @@ OptionalNumber dcGain(const Design &design)
         return std::nullopt;
     Eigen::PartialPivLU<Eigen::MatrixXd> lu(system->G);
     const Eigen::VectorXd x = lu.solve(system->B.col(loopio::kSource));
-    if (!x.allFinite() || isSingular(system->G.cast<std::complex<double>>()))
+    if (!x.allFinite() || isSingular(system->G))
         return std::nullopt;
     return finiteOrNone(system->L.row(loopio::kOutput).dot(x));
 }

@@ -281,6 +281,26 @@ bool isSingular(const Eigen::MatrixXcd &a)
     return !(lu.rcond() > kMinReciprocalCondition);
 }
 
+bool isSingular(const Eigen::MatrixXd &a)
+{
+    if (a.rows() == 0)
+        return false;
+    // The same equilibration and test in real arithmetic, several times cheaper.
+    Eigen::MatrixXd m = a;
+    for (Eigen::Index i = 0; i < m.rows(); ++i) {
+        const double r = m.row(i).cwiseAbs().maxCoeff();
+        if (r > 0)
+            m.row(i) /= r;
+    }
+    for (Eigen::Index j = 0; j < m.cols(); ++j) {
+        const double c = m.col(j).cwiseAbs().maxCoeff();
+        if (c > 0)
+            m.col(j) /= c;
+    }
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(m);
+    return !(lu.rcond() > kMinReciprocalCondition);
+}
+
 std::string describeSingularity(const DescriptorSystem &system, std::complex<double> s)
 {
     const Eigen::MatrixXcd a = equilibrated(system.G.cast<std::complex<double>>() + s * system.C);

@@ -123,7 +123,7 @@ Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system, Solve
     } else {
         const Eigen::MatrixXd gss = select(system.G, sRows, sCols);
         Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss);
-        if (isSingular(gss.cast<std::complex<double>>()))
+        if (isSingular(gss))
             return Diagnostic{{}, {}, {}, describeSingularity(system, 0.0)};
         const Eigen::MatrixXd gks = select(system.G, kRows, sCols);
         const Eigen::MatrixXd gsk = select(system.G, sRows, kCols);
@@ -147,7 +147,7 @@ Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system, Solve
     r.m_path = path;
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
-    if (isSingular(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr)) {
+    if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
         std::string why = describeSingularity(system, probe);
         if (why.empty())
             why = "the circuit equations are too ill-conditioned to solve";
@@ -260,7 +260,7 @@ bool ReducedSystem::dcRegular() const
 {
     if (order() == 0)
         return true;
-    return !isSingular(m_gr.cast<std::complex<double>>());
+    return !isSingular(m_gr);
 }
 
 std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
@@ -325,7 +325,7 @@ Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
     if (q > 0) {
         const Eigen::MatrixXd g22 = gh.bottomRightCorner(q, q);
         Eigen::PartialPivLU<Eigen::MatrixXd> lu(g22);
-        if (isSingular(g22.cast<std::complex<double>>()))
+        if (isSingular(g22))
             return Diagnostic{{},
                               {},
                               {},

@@ -45,6 +45,8 @@ Eigen::MatrixXcd equilibrated(const Eigen::MatrixXcd &a);
 
 /// True when the matrix is numerically singular after equilibration.
 bool isSingular(const Eigen::MatrixXcd &a);
+/// The same for a real matrix (a static block, G at DC), in real arithmetic.
+bool isSingular(const Eigen::MatrixXd &a);
 
 /// Names the unknowns that take part in a singularity of (G + sC) at s, e.g.
 /// "nodes mid, x are floating". Empty when the matrix is regular.
