@@ -87,7 +87,8 @@ std::vector<double> unwrapPhase(const Curve &values, double start)
     out.reserve(values.size());
     double previous = start;
     for (const auto &v : values) {
-        if (!std::isfinite(std::abs(v)) || std::abs(v) == 0.0) {
+        const double magnitude = std::abs(v);
+        if (!std::isfinite(magnitude) || magnitude == 0.0) {
             out.push_back(std::nan(""));
             continue;
         }
@@ -165,9 +166,11 @@ OptionalNumber computePeaking(const Curve &gain, double gainDc)
     if (!(std::abs(gainDc) > 0) || !std::isfinite(gainDc))
         return std::nullopt;
     double peak = 0.0;
-    for (const auto &g : gain)
-        if (std::isfinite(std::abs(g)))
-            peak = std::max(peak, 20.0 * std::log10(std::abs(g) / std::abs(gainDc)));
+    for (const auto &g : gain) {
+        const double magnitude = std::abs(g);
+        if (std::isfinite(magnitude))
+            peak = std::max(peak, 20.0 * std::log10(magnitude / std::abs(gainDc)));
+    }
     return peak;
 }
 

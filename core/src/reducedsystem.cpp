@@ -367,11 +367,16 @@ Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
             }
             // Plain loops: at rank 2..8 the library's product costs more in set-up (and a
             // temporary per step) than in arithmetic, over thousands of steps.
-            for (Index r = 0; r < rank; ++r) {
-                double acc = gamma(r);
-                for (Index m = 0; m < rank; ++m)
-                    acc += phi(r, m) * w(m);
-                next(r) = acc;
+            // Column by column, so the inner loop runs over contiguous memory.
+            const double *ph = phi.data(), *wv = w.data();
+            double *nx = next.data();
+            for (Index r = 0; r < rank; ++r)
+                nx[r] = gamma(r);
+            for (Index m = 0; m < rank; ++m) {
+                const double wm = wv[m];
+                const double *column = ph + m * rank;
+                for (Index r = 0; r < rank; ++r)
+                    nx[r] += column[r] * wm;
             }
             w.swap(next);
             last = times[i];
