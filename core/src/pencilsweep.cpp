@@ -485,7 +485,8 @@ void sweepAnyOrder(const PencilView &pencil, int k, std::span<const cd> points,
 } // namespace
 
 void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>> points,
-                 std::span<const TransferEntry> entries, std::complex<double> *out)
+                 std::span<const TransferEntry> entries, std::complex<double> *out,
+                 SweepWidth width)
 {
     const auto k = static_cast<int>(pencil.g.rows());
     const auto nPoints = static_cast<Index>(points.size());
@@ -499,15 +500,39 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
     thread_local Plan plan;
     makePlan(entries, plan);
 #ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
-    // A single point (root finding) costs a whole group: the narrowest that is not slower.
-    static const bool avx512 = __builtin_cpu_supports("avx512f");
-    static const bool avx2 = __builtin_cpu_supports("avx2");
-    if (avx512 && points.size() > 4)
+    if (width == SweepWidth::Automatic) // a single point (root finding) costs a whole group
+        width = sweepWidthAvailable(SweepWidth::Eight) && points.size() > 4 ? SweepWidth::Eight
+            : sweepWidthAvailable(SweepWidth::Four)                         ? SweepWidth::Four
+                                                                            : SweepWidth::Two;
+    if (width == SweepWidth::Eight && sweepWidthAvailable(SweepWidth::Eight))
         return sweepAnyOrder<WithAvx512>(pencil, k, points, entries, plan, out);
-    if (avx2)
+    if (width != SweepWidth::Two && sweepWidthAvailable(SweepWidth::Four))
         return sweepAnyOrder<WithAvx2>(pencil, k, points, entries, plan, out);
 #endif
+    (void)width;
     sweepAnyOrder<Baseline>(pencil, k, points, entries, plan, out);
 }
 
 } // namespace loopsketch::detail
+
+namespace loopsketch {
+
+bool sweepWidthAvailable(SweepWidth width)
+{
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
+    static const bool avx512 = __builtin_cpu_supports("avx512f");
+    static const bool avx2 = __builtin_cpu_supports("avx2");
+    switch (width) {
+    case SweepWidth::Eight:
+        return avx512;
+    case SweepWidth::Four:
+        return avx2;
+    default:
+        return true;
+    }
+#else
+    return width == SweepWidth::Automatic || width == SweepWidth::Two;
+#endif
+}
+
+} // namespace loopsketch

@@ -26,6 +26,7 @@ struct PencilView
 /// out[e * points.size() + i] = entry e at points[i] (s in rad/s). Every entry of a point is
 /// NaN where the pencil is singular there; an entry that overflows is NaN.
 void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>> points,
-                 std::span<const TransferEntry> entries, std::complex<double> *out);
+                 std::span<const TransferEntry> entries, std::complex<double> *out,
+                 SweepWidth width = SweepWidth::Automatic);
 
 } // namespace loopsketch::detail

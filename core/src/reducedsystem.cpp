@@ -224,11 +224,11 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
 
 std::vector<std::complex<double>>
 ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
-                            std::span<const TransferEntry> entries) const
+                            std::span<const TransferEntry> entries, SweepWidth width) const
 {
     std::vector<std::complex<double>> out(entries.size() * s.size());
     if (m_path == SolverPath::Reduced) {
-        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data());
+        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
         return out;
     }
     // The reference path: one dense LU of the whole matrix per point, as evaluateInto().

@@ -27,6 +27,14 @@ namespace loopsketch {
 /// benchmark and tests compare against).
 enum class SolverPath { Reduced, DenseLu };
 
+/// How many frequencies the reduced sweep solves side by side in vector registers. Automatic
+/// takes the widest the processor runs (eight with AVX-512, four with AVX2, else two); the
+/// others exist so tests can check that every width gives the same numbers.
+enum class SweepWidth { Automatic, Two, Four, Eight };
+
+/// True when the processor can run the sweep at `width`.
+bool sweepWidthAvailable(SweepWidth width);
+
 /// Output row and input column of one transfer-matrix entry.
 struct TransferEntry
 {
@@ -79,7 +87,8 @@ public:
     /// entries, and on the reduced path one solve per distinct row or column, whichever
     /// are fewer.
     std::vector<std::complex<double>> sweepEntries(std::span<const std::complex<double>> s,
-                                                   std::span<const TransferEntry> entries) const;
+                                                   std::span<const TransferEntry> entries,
+                                                   SweepWidth width = SweepWidth::Automatic) const;
 
     /// Transfer matrices at j 2 pi f for each f (Hz).
     std::vector<Eigen::MatrixXcd> sweep(const std::vector<double> &frequenciesHz) const;
