@@ -2,6 +2,7 @@
 
 #include "designdocument.h"
 #include "inspector.h"
+#include "noisepanel.h"
 #include "panels.h"
 #include "partitem.h"
 #include "partspalette.h"
@@ -203,6 +204,8 @@ void MainWindow::createDocks()
     auto *step = new StepPanel(this);
     auto *poles = new PolesPanel(this);
     m_panels = {m_loopGain, impedance, desens, step, poles};
+    auto *noise = new NoisePanel(this);
+    m_panels.push_back(noise);
     // The linked frequency cursor: hovering one frequency panel marks the same frequency
     // in all of them.
     for (PlotPanel *source : m_panels) {
@@ -210,12 +213,17 @@ void MainWindow::createDocks()
             for (PlotPanel *p : m_panels)
                 p->showFrequencyCursor(log10Hz);
         });
+        connect(source, &PlotPanel::frequencyHovered, noise, &NoisePanel::showValuesAt);
     }
     auto *loopDock = makeDock(tr("Loop gain"), QStringLiteral("LoopGainDock"), m_loopGain,
                               Qt::RightDockWidgetArea);
     auto *impDock = makeDock(tr("Impedance"), QStringLiteral("ImpedanceDock"), impedance,
                              Qt::RightDockWidgetArea);
     splitDockWidget(loopDock, impDock, Qt::Vertical);
+    auto *noiseDock
+        = makeDock(tr("Noise"), QStringLiteral("NoiseDock"), noise, Qt::RightDockWidgetArea);
+    tabifyDockWidget(impDock, noiseDock);
+    impDock->raise();
     auto *desDock = makeDock(tr("Desensitivity"), QStringLiteral("DesensitivityDock"), desens,
                              Qt::BottomDockWidgetArea);
     auto *stepDock

@@ -406,7 +406,7 @@ TEST_F(MainWindowTest, HoveringOnePanelShowsTheFrequencyInAllFrequencyPanels)
         ++frequencyPanels;
         EXPECT_THAT(panel->cursorText().toStdString(), HasSubstr(fText.toStdString()));
     }
-    EXPECT_EQ(frequencyPanels, 3);
+    EXPECT_EQ(frequencyPanels, 4); // loop gain, impedance, desensitivity, noise
     // The loop gain's value in the cursor is core's |T| at the nearest sweep frequency.
     const QString tText = LoopGainPanel::kT + QStringLiteral(": ")
         + QString::number(toDecibels(std::abs(a.curves.loopGain[nearest])), 'f', 1)

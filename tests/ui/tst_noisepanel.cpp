@@ -1,0 +1,314 @@
+// The Noise panel and the Readout's noise cell against core's NoiseAnalysis: one band per
+// source plus the total, the stack's top equal to core's total density, the linked cursor,
+// the integrated RMS text, and the reason shown when there is no noise analysis.
+
+#include "designdocument.h"
+#include "mainwindow.h"
+#include "noisepanel.h"
+#include "panels.h"
+#include "qtadapter.h"
+#include "readout.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/value.h"
+
+#include <QApplication>
+#include <QAreaSeries>
+#include <QChart>
+#include <QDockWidget>
+#include <QFile>
+#include <QLegend>
+#include <QLegendMarker>
+#include <QLineSeries>
+#include <QMouseEvent>
+#include <QStandardPaths>
+#include <QTest>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <memory>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+using ::testing::HasSubstr;
+
+namespace {
+
+const QString kDemo = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch");
+
+double relErr(double value, double expected)
+{
+    return std::abs(value - expected) / std::abs(expected);
+}
+
+/// The demo with the gain block's voltage and current noise given (invented values).
+std::string demoWithGainBlockNoise()
+{
+    QFile f(kDemo);
+    EXPECT_TRUE(f.open(QIODevice::ReadOnly));
+    std::string text = f.readAll().toStdString();
+    const std::string rOut = R"("r_out": "50")";
+    const auto at = text.find(rOut);
+    EXPECT_NE(at, std::string::npos);
+    text.replace(at, rOut.size(),
+                 R"("r_out": "50", "en": "9n", "en_corner_hz": "300", "in": "3f")");
+    return text;
+}
+
+/// The sweep index nearest `hz`.
+std::size_t indexNear(const std::vector<double> &f, double hz)
+{
+    std::size_t best = 0;
+    for (std::size_t i = 0; i < f.size(); ++i) {
+        if (std::abs(std::log10(f[i] / hz)) < std::abs(std::log10(f[best] / hz)))
+            best = i;
+    }
+    return best;
+}
+
+class NoisePanelTest : public ::testing::Test
+{
+protected:
+    void SetUp() override
+    {
+        window = std::make_unique<MainWindow>();
+        window->setAskBeforeDiscarding(false);
+        window->resize(1500, 940);
+        window->show();
+        QString error;
+        ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
+        QDockWidget *dock = window->findChild<QDockWidget *>(QStringLiteral("NoiseDock"));
+        ASSERT_NE(dock, nullptr);
+        dock->raise();
+        QTest::qWait(100);
+        for (PlotPanel *p : window->panels()) {
+            if (auto *n = qobject_cast<NoisePanel *>(p))
+                panel = n;
+        }
+        ASSERT_NE(panel, nullptr);
+        ASSERT_NE(window->document()->analysis(), nullptr);
+        ASSERT_TRUE(window->document()->analysis()->noise.has_value());
+    }
+
+    const NoiseAnalysis &noise() const { return *window->document()->analysis()->noise; }
+
+    /// The density at sweep index i of the top of the stack.
+    double stackTopAt(std::size_t i) const
+    {
+        const QStringList names = panel->bandNames();
+        EXPECT_FALSE(names.isEmpty());
+        QAreaSeries *top = panel->band(names.back());
+        EXPECT_NE(top, nullptr);
+        const QList<QPointF> points = panel->fullPoints(top->upperSeries());
+        EXPECT_EQ(points.size(), qsizetype(noise().frequenciesHz.size()));
+        EXPECT_NEAR(points[qsizetype(i)].x(), std::log10(noise().frequenciesHz[i]), 1e-12);
+        return std::pow(10.0, points[qsizetype(i)].y());
+    }
+
+    std::unique_ptr<MainWindow> window;
+    NoisePanel *panel = nullptr;
+};
+
+TEST_F(NoisePanelTest, OneBandPerSourcePlusTotalAndInputReferred)
+{
+    const NoiseAnalysis &n = noise();
+    ASSERT_GE(n.contributions.size(), 2u);
+    const QStringList names = panel->bandNames();
+    ASSERT_EQ(names.size(), qsizetype(n.contributions.size()));
+    for (const NoiseContribution &c : n.contributions) {
+        EXPECT_TRUE(names.contains(noiseSourceName(c))) << c.name;
+        QAreaSeries *b = panel->band(noiseSourceName(c));
+        ASSERT_NE(b, nullptr) << c.name;
+        EXPECT_NE(b->chart(), nullptr) << c.name;
+    }
+    EXPECT_TRUE(names.contains(QStringLiteral("RF thermal")));
+    EXPECT_TRUE(names.contains(QStringLiteral("PD1 r_parallel thermal")));
+    // The demo's noise is set by RF (4kT/RF through the feedback resistor), so its band
+    // lies at the bottom of the stack, right under the total.
+    EXPECT_EQ(names.front(), QStringLiteral("RF thermal"));
+    ASSERT_NE(panel->series(NoisePanel::kTotal), nullptr);
+    ASSERT_NE(panel->series(NoisePanel::kInput), nullptr);
+    // Every finite point of core's total density, unchanged (x = log10 f, y = log10 density).
+    const QList<QPointF> total = panel->fullPoints(panel->series(NoisePanel::kTotal));
+    ASSERT_EQ(total.size(), qsizetype(n.outputDensity.size()));
+    for (qsizetype i = 0; i < total.size(); ++i)
+        ASSERT_NEAR(std::pow(10.0, total[i].y()), n.outputDensity[std::size_t(i)],
+                    1e-12 * n.outputDensity[std::size_t(i)]);
+    const QList<QPointF> input = panel->fullPoints(panel->series(NoisePanel::kInput));
+    ASSERT_EQ(input.size(), qsizetype(n.inputDensity.size()));
+    EXPECT_NEAR(std::pow(10.0, input[0].y()), n.inputDensity[0], 1e-12 * n.inputDensity[0]);
+    EXPECT_TRUE(panel->problemText().isEmpty());
+    // The legend names the sources that reach 1 % of the power somewhere: RF, and r_out
+    // where the loop has given up; U1's 1 TΩ input resistance never does (core's shares).
+    const auto legendShows = [&](const char *name) {
+        const auto markers
+            = panel->chart()->legend()->markers(panel->band(QString::fromUtf8(name)));
+        return !markers.isEmpty() && markers.front()->isVisible();
+    };
+    EXPECT_TRUE(legendShows("RF thermal"));
+    EXPECT_TRUE(legendShows("U1 r_out thermal"));
+    EXPECT_FALSE(legendShows("U1 r_in thermal")) << panel->toolTip().toStdString();
+    // Axis titles carry the units of a transimpedance stage: V at the output, A at the input.
+    const auto axes = panel->chart()->axes(Qt::Vertical);
+    QStringList titles;
+    for (const QAbstractAxis *axis : axes)
+        titles << axis->titleText();
+    EXPECT_THAT(titles.join('|').toStdString(), HasSubstr("(V/√Hz)"));
+    EXPECT_THAT(titles.join('|').toStdString(), HasSubstr("(A/√Hz)"));
+}
+
+TEST_F(NoisePanelTest, StackTopEqualsTotalDensity)
+{
+    // Uncorrelated sources add in power (common practice; the core test
+    // Noise.ContributionsAddInPower holds core to it): the stack's top is the total.
+    const NoiseAnalysis &n = noise();
+    for (double hz : {1.0, 1e3, 1e5, 1e7}) {
+        const std::size_t i = indexNear(n.frequenciesHz, hz);
+        EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
+    }
+    // The bottom band's top is its own source alone: sqrt of its output power density.
+    const QString bottom = panel->bandNames().front();
+    const NoiseContribution *source = nullptr;
+    for (const NoiseContribution &c : n.contributions) {
+        if (noiseSourceName(c) == bottom)
+            source = &c;
+    }
+    ASSERT_NE(source, nullptr);
+    const std::size_t i = indexNear(n.frequenciesHz, 1e3);
+    const QList<QPointF> first = panel->fullPoints(panel->band(bottom)->upperSeries());
+    EXPECT_LT(relErr(std::pow(10.0, first[qsizetype(i)].y()), std::sqrt(source->outputPsd[i])),
+              1e-9);
+}
+
+TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
+{
+    QString error;
+    ASSERT_TRUE(window->openText(demoWithGainBlockNoise(), QStringLiteral("noisy"), &error))
+        << error.toStdString();
+    QApplication::processEvents();
+    const NoiseAnalysis &n = noise();
+    const QStringList names = panel->bandNames();
+    ASSERT_EQ(names.size(), qsizetype(n.contributions.size()));
+    for (const char *name : {"U1 e_n", "U1 i_n at in_p", "U1 i_n at in_n", "RF thermal"})
+        EXPECT_TRUE(names.contains(QString::fromUtf8(name))) << name;
+    for (double hz : {10.0, 1e4, 1e6, 1e8}) {
+        const std::size_t i = indexNear(n.frequenciesHz, hz);
+        EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
+    }
+    // Back to the demo: the extra bands leave the chart and the legend.
+    ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
+    QApplication::processEvents();
+    EXPECT_EQ(panel->bandNames().size(), qsizetype(noise().contributions.size()));
+    int inChart = 0;
+    for (QAbstractSeries *s : panel->chart()->series())
+        inChart += s->type() == QAbstractSeries::SeriesTypeArea;
+    EXPECT_EQ(inChart, int(noise().contributions.size()));
+    EXPECT_LT(relErr(stackTopAt(100), noise().outputDensity[100]), 1e-9);
+}
+
+TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
+{
+    LoopGainPanel *loop = window->loopGainPanel();
+    QChart *chart = loop->chart();
+    const QPointF at = chart->plotArea().center();
+    const QPoint pos = loop->mapFromScene(chart->mapToScene(at));
+    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
+                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
+    QApplication::sendEvent(loop->viewport(), &move);
+    const double log10Hz = chart->mapToValue(at, loop->series(LoopGainPanel::kT)).x();
+    const QString fText
+        = QStringLiteral("f = ") + toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz"));
+    EXPECT_EQ(panel->cursorText(), fText);
+    EXPECT_EQ(loop->cursorText().section('\n', 0, 0), fText);
+    // The values under it are core's at the nearest sweep point.
+    const NoiseAnalysis &n = noise();
+    const std::size_t i = indexNear(n.frequenciesHz, std::pow(10.0, log10Hz));
+    const std::string values = panel->valuesText().toStdString();
+    EXPECT_THAT(values,
+                HasSubstr("total output: " + formatEngineering(n.outputDensity[i], 3, "V/√Hz")));
+    EXPECT_THAT(values,
+                HasSubstr("input-referred: " + formatEngineering(n.inputDensity[i], 3, "A/√Hz")));
+    EXPECT_THAT(values, HasSubstr("RF thermal: "));
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-noise-cursor.png");
+
+    QEvent leave(QEvent::Leave);
+    QApplication::sendEvent(loop, &leave);
+    EXPECT_TRUE(panel->cursorText().isEmpty());
+    EXPECT_TRUE(panel->valuesText().isEmpty());
+}
+
+TEST_F(NoisePanelTest, ReadoutShowsCoreRmsWithTheBand)
+{
+    // core's own analysis of the same file, formatted as the Readout promises.
+    auto design = loadDesign(kDemo.toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto a = analyze(*design);
+    ASSERT_TRUE(a) << a.errorText();
+    ASSERT_TRUE(a->noise && a->noise->outputRms && a->noise->inputRms);
+    const NoiseAnalysis &n = *a->noise;
+    const QString title = QStringLiteral("noise rms out / in, ")
+        + toQString(formatEngineering(n.bandLowHz, 3, "Hz")) + QStringLiteral("–")
+        + toQString(formatEngineering(n.bandHighHz, 3, "Hz"));
+    const QString want = toQString(formatEngineering(*n.outputRms, 3, "V")) + QStringLiteral(" / ")
+        + toQString(formatEngineering(*n.inputRms, 3, "A"));
+    EXPECT_EQ(window->readout()->cellText(title), want);
+    EXPECT_THAT(window->readout()->plainText().toStdString(), testing::Not(HasSubstr("nan")));
+    EXPECT_THAT(panel->summaryText().toStdString(),
+                HasSubstr(want.section(" / ", 0, 0).toStdString()));
+}
+
+TEST_F(NoisePanelTest, WritesAScreenshot)
+{
+    QTest::qWait(300);
+    EXPECT_TRUE(window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                    + "/loopsketch-noise-window.png"));
+    EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                   + "/loopsketch-noise-panel.png"));
+}
+
+TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
+{
+    auto design = loadDesign(kDemo.toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto a = analyze(*design);
+    ASSERT_TRUE(a) << a.errorText();
+    NoisePanel panel;
+    panel.resize(600, 360);
+    panel.show();
+    panel.showAnalysis(*a);
+    EXPECT_FALSE(panel.bandNames().isEmpty());
+    Analysis without = *a;
+    without.noise.reset();
+    without.noiseProblem = "noise: the circuit has no solution at 12 Hz";
+    panel.showAnalysis(without);
+    EXPECT_THAT(panel.problemText().toStdString(),
+                HasSubstr("No noise analysis: the circuit has no solution at 12 Hz"));
+    EXPECT_TRUE(panel.bandNames().isEmpty());
+    EXPECT_TRUE(panel.fullPoints(panel.series(NoisePanel::kTotal)).isEmpty());
+    EXPECT_TRUE(panel.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                  + "/loopsketch-noise-absent.png"));
+    Readout readout;
+    readout.showAnalysis(without, *design);
+    EXPECT_EQ(readout.cellText(QStringLiteral("noise rms out / in")), QStringLiteral("—"));
+    // And back: the plot returns, the message goes.
+    panel.showAnalysis(*a);
+    EXPECT_TRUE(panel.problemText().isEmpty());
+    EXPECT_EQ(panel.bandNames().size(), qsizetype(a->noise->contributions.size()));
+}
+
+} // namespace
+
+int main(int argc, char **argv)
+{
+    ::testing::InitGoogleTest(&argc, argv);
+    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
+        qputenv("QT_QPA_PLATFORM", "offscreen");
+    QStandardPaths::setTestModeEnabled(true);
+    QApplication app(argc, argv);
+    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
+    QApplication::setApplicationName(QStringLiteral("tst_noisepanel"));
+    return RUN_ALL_TESTS();
+}
