@@ -1,5 +1,6 @@
 #include "reviewsheet.h"
 
+#include "noisepanel.h"
 #include "sketchlayout.h"
 #include "sketchscene.h"
 
@@ -546,6 +547,59 @@ void drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Ser
 
 const QColor kBlue(25, 80, 160), kOrange(205, 110, 20), kGreen(40, 130, 70), kPurple(120, 60, 150);
 
+/// log10 of a density per sweep frequency; NaN where there is none (breaks the line).
+Series logDensitySeries(const QString &name, const std::vector<double> &hz,
+                        const std::vector<double> &density, QColor colour,
+                        Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, hz, {}, colour, style};
+    s.y.reserve(hz.size());
+    for (std::size_t i = 0; i < hz.size(); ++i) {
+        const double v = i < density.size() ? density[i] : NAN;
+        s.y.push_back(std::isfinite(v) && v > 0 ? std::log10(v) : NAN);
+    }
+    return s;
+}
+
+/// Decades from the first series' peak down to at most `decades` below it.
+Axis decadeAxis(const std::vector<Series> &series, int decades)
+{
+    Axis a;
+    double lo = INFINITY, hi = -INFINITY;
+    finiteRange(series, false, lo, hi);
+    double peak = -INFINITY;
+    for (double v : series.front().y)
+        if (std::isfinite(v))
+            peak = std::max(peak, v);
+    if (!std::isfinite(peak)) {
+        a.lo = -9;
+        a.hi = -6;
+        return a;
+    }
+    a.hi = std::ceil(std::max(peak, hi) + 0.05);
+    a.lo = std::max(std::floor(lo), a.hi - decades);
+    if (a.hi - a.lo < 2)
+        a.lo = a.hi - 2;
+    a.step = a.hi - a.lo > 5 ? 2 : 1;
+    return a;
+}
+
+/// The sweep index the sheet quotes source densities at: 1 kHz when the band holds it
+/// (a common reference point of noise data, common practice), else the band's centre on
+/// a log scale.
+std::size_t noiseReferenceIndex(const NoiseAnalysis &n)
+{
+    const double want
+        = n.bandLowHz <= 1e3 && n.bandHighHz >= 1e3 ? 1e3 : std::sqrt(n.bandLowHz * n.bandHighHz);
+    std::size_t best = 0;
+    for (std::size_t i = 0; i < n.frequenciesHz.size(); ++i) {
+        if (std::abs(std::log(n.frequenciesHz[i] / want))
+            < std::abs(std::log(n.frequenciesHz[best] / want)))
+            best = i;
+    }
+    return best;
+}
+
 } // namespace
 
 QString sheetPlotFileStem(SheetPlot plot)
@@ -559,6 +613,8 @@ QString sheetPlotFileStem(SheetPlot plot)
         return QStringLiteral("desensitivity");
     case SheetPlot::Step:
         return QStringLiteral("step");
+    case SheetPlot::Noise:
+        return QStringLiteral("noise");
     }
     return {};
 }
@@ -651,6 +707,44 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
         y.hi = std::ceil(hi / y.step) * y.step;
         drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, x, y, st, unit, true,
                   QStringLiteral("time"), false);
+        break;
+    }
+    case SheetPlot::Noise: {
+        const NoiseUnits u = noiseUnits(a);
+        title = QStringLiteral("Noise density, output and input-referred");
+        if (!a.noise || a.noise->frequenciesHz.empty()) {
+            p.setFont(sheetFont(kBodyPt));
+            p.setPen(kInk);
+            p.drawText(QRectF(QPointF(left, top), QPointF(right, bottom)),
+                       Qt::AlignCenter | Qt::TextWordWrap,
+                       QStringLiteral("No noise analysis: %1")
+                           .arg(a.noiseProblem.empty() ? QStringLiteral("not computed")
+                                                       : q(a.noiseProblem)));
+            break;
+        }
+        const NoiseAnalysis &n = *a.noise;
+        // The total and the three largest sources' own densities at the output.
+        std::vector<Series> out{logDensitySeries(QStringLiteral("total output"), n.frequenciesHz,
+                                                 n.outputDensity, kBlue)};
+        const QColor colours[] = {kOrange, kGreen, kPurple};
+        const auto order = noiseSourcesByShare(n);
+        for (std::size_t i = 0; i < order.size() && i < 3; ++i) {
+            std::vector<double> own(order[i]->outputPsd.size());
+            for (std::size_t j = 0; j < own.size(); ++j)
+                own[j] = std::sqrt(order[i]->outputPsd[j]);
+            out.push_back(logDensitySeries(noiseSourceName(*order[i]), n.frequenciesHz, own,
+                                           colours[i], Qt::DashLine));
+        }
+        std::vector<Series> in{logDensitySeries(QStringLiteral("input-referred"), n.frequenciesHz,
+                                                n.inputDensity, kBlue)};
+        legend = out;
+        const double mid = top + (bottom - top) * 0.58;
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx,
+                  decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false,
+                  {}, true);
+        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx,
+                  decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
+                  QStringLiteral("Hz"), true);
         break;
     }
     }
@@ -882,6 +976,83 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
             rows);
 }
 
+void noiseSection(SheetWriter &w, const Analysis &a)
+{
+    w.heading(QStringLiteral("Noise"));
+    const QFont f = sheetFont(kBodyPt);
+    if (!a.noise) {
+        w.paragraph(
+            QStringLiteral("No noise analysis: %1")
+                .arg(a.noiseProblem.empty() ? QStringLiteral("not computed") : q(a.noiseProblem)),
+            f);
+        w.advance(1);
+        return;
+    }
+    const NoiseAnalysis &n = *a.noise;
+    const NoiseUnits u = noiseUnits(a);
+    const std::string out = u.output.toStdString(), in = u.input.toStdString();
+    w.paragraph(QStringLiteral("Output noise %1 rms, input-referred %2 rms, over %3–%4 at %5 K "
+                               "(%6 °C).")
+                    .arg(eng(n.outputRms, out), eng(n.inputRms, in), eng(n.bandLowHz, "Hz"),
+                         eng(n.bandHighHz, "Hz"), QString::number(n.temperatureK, 'f', 2),
+                         QString::number(n.temperatureK - 273.15, 'g', 5)),
+                f);
+    w.paragraph(QStringLiteral("Band: %1.").arg(q(n.bandMethod)), sheetFont(7.5), 0,
+                QColor(90, 90, 90));
+    w.advance(1.5);
+    if (n.contributions.empty() || n.frequenciesHz.empty())
+        return;
+    const std::size_t ref = noiseReferenceIndex(n);
+    const auto order = noiseSourcesByShare(n);
+    const auto share = [&](double rms) -> QString {
+        if (!n.outputRms || !(*n.outputRms > 0))
+            return QStringLiteral("—");
+        const double pct = 100.0 * rms * rms / (*n.outputRms * *n.outputRms);
+        return pct < 0.01 ? QStringLiteral("< 0.01 %") : QString::number(pct, 'f', 2) + " %";
+    };
+    const auto kind = [](NoiseSourceKind k) {
+        switch (k) {
+        case NoiseSourceKind::Resistor:
+            return QStringLiteral("thermal (4kTR)");
+        case NoiseSourceKind::VoltageNoise:
+            return QStringLiteral("input voltage noise");
+        case NoiseSourceKind::CurrentNoise:
+            return QStringLiteral("input current noise");
+        }
+        return QString();
+    };
+    constexpr std::size_t kRows = 5;
+    std::vector<SheetWriter::Row> rows;
+    double restPower = 0, restPsd = 0;
+    for (std::size_t i = 0; i < order.size(); ++i) {
+        const NoiseContribution &c = *order[i];
+        const double psd = ref < c.outputPsd.size() ? c.outputPsd[ref] : NAN;
+        // Five rows, or six when the sixth is the last source: an "others" row of one
+        // source would only hide its name.
+        if (i >= kRows && order.size() > kRows + 1) {
+            restPower += c.rms * c.rms;
+            restPsd += psd;
+            continue;
+        }
+        rows.push_back({{noiseSourceName(c), kind(c.kind), eng(std::sqrt(psd), out + "/√Hz"),
+                         eng(c.rms, out), share(c.rms)}});
+    }
+    if (order.size() > kRows + 1)
+        rows.push_back({{QStringLiteral("%1 other sources").arg(order.size() - kRows),
+                         QStringLiteral("—"), eng(std::sqrt(restPsd), out + "/√Hz"),
+                         eng(std::sqrt(restPower), out), share(std::sqrt(restPower))}});
+    w.table({{QStringLiteral("Source"), 46},
+             {QStringLiteral("Kind"), 30},
+             {QStringLiteral("Output density, %1").arg(eng(n.frequenciesHz[ref], "Hz", 3)), 42,
+              Qt::AlignRight},
+             {QStringLiteral("RMS at the output"), 34, Qt::AlignRight},
+             {QStringLiteral("Share of power"), 28, Qt::AlignRight}},
+            rows);
+    w.paragraph(QStringLiteral("Share = the source's output power over the band / the total; "
+                               "uncorrelated sources add in power."),
+                sheetFont(7.5), 0, QColor(90, 90, 90));
+}
+
 void candidatesSection(SheetWriter &w, const Design &d)
 {
     if (d.candidates.empty())
@@ -907,7 +1078,7 @@ void plotsSection(SheetWriter &w, const Analysis &a)
     w.heading(QStringLiteral("Plots"));
     const double gap = 5;
     for (SheetPlot plot : kSheetPlots) {
-        const double ph = plot == SheetPlot::LoopGain ? 120 : 95;
+        const double ph = plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? 120 : 95;
         w.ensure(ph);
         if (QPainter *p = w.painter())
             drawSheetPlot(*p, w.toDevice(QRectF(0, w.y(), w.width(), ph)), w.k(), plot, a);
@@ -931,6 +1102,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     topologySection(w, a);
     methodSection(w, a);
     metricsSection(w, d, a);
+    noiseSection(w, a);
     candidatesSection(w, d);
     plotsSection(w, a);
     cautionsSection(w);

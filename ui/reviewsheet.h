@@ -16,11 +16,12 @@ namespace loopsketch::ui {
 enum class SheetPageSize { A4, Letter };
 
 /// The plots of the sheet, in sheet order.
-enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step };
+enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step, Noise };
 
 /// All plots, in sheet order.
 inline constexpr SheetPlot kSheetPlots[]
-    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity, SheetPlot::Step};
+    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity, SheetPlot::Step,
+       SheetPlot::Noise};
 
 /// File name stem of a plot's SVG ("loop-gain", "impedance" ...).
 QString sheetPlotFileStem(SheetPlot plot);

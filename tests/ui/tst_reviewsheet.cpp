@@ -9,6 +9,7 @@
 #include <QDir>
 #include <QFile>
 #include <QFileInfo>
+#include <QJsonArray>
 #include <QJsonDocument>
 #include <QJsonObject>
 #include <QProcess>
@@ -66,7 +67,8 @@ QString sheetNumber(double v, std::string_view unit)
 struct SheetCase
 {
     const char *design;
-    int pages; // the layout: first page title to metrics, plots on 2 and 3, cautions last
+    int pages; // the layout: first page title to metrics, noise and plots on 2 to 4,
+               // cautions last
 };
 
 class ReviewSheetExport : public testing::TestWithParam<SheetCase>
@@ -85,7 +87,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                       QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
     ASSERT_TRUE(QFileInfo::exists(pdf));
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "noise"}) {
         QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
         ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
         EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
@@ -125,6 +127,31 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     }
     EXPECT_THAT(sheet, HasSubstr(a["title"].toString().toStdString()));
 
+    // Noise totals and band as the sheet formats them (4 digits, as eng()), from the same
+    // numbers `analyze --json` prints; the largest source's share of the power with it.
+    const QJsonObject noise = a["noise"].toObject();
+    ASSERT_FALSE(noise.isEmpty());
+    const std::string outUnit = noise["output_unit"].toString().toStdString();
+    const std::string inUnit = noise["input_unit"].toString().toStdString();
+    ASSERT_TRUE(noise["output_rms"].isDouble());
+    ASSERT_TRUE(noise["input_rms"].isDouble());
+    EXPECT_THAT(sheet,
+                HasSubstr("Output noise "
+                          + sheetNumber(noise["output_rms"].toDouble(), outUnit).toStdString()
+                          + " rms, input-referred "
+                          + sheetNumber(noise["input_rms"].toDouble(), inUnit).toStdString()
+                          + " rms"));
+    const QJsonObject band = noise["band"].toObject();
+    EXPECT_THAT(sheet,
+                HasSubstr("over " + sheetNumber(band["low_hz"].toDouble(), "Hz").toStdString() + "–"
+                          + sheetNumber(band["high_hz"].toDouble(), "Hz").toStdString()));
+    double topShare = 0;
+    for (const QJsonValue &source : noise["contributions"].toArray())
+        topShare = std::max(topShare, source.toObject()["share_pct"].toDouble());
+    EXPECT_GT(topShare, 0);
+    EXPECT_THAT(sheet, HasSubstr(QString::number(topShare, 'f', 2).toStdString() + " %"));
+    EXPECT_THAT(sheet, HasSubstr("Noise density, output and input-referred"));
+
     // CSV: the exact gain column against the sweep of the same design.
     auto design = loopsketch::loadDesign(designPath(c.design).toStdString());
     ASSERT_TRUE(design) << design.errorText();
@@ -153,9 +180,9 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
-                         testing::Values(SheetCase{"demo", 3}, SheetCase{"contact-mic-preamp", 3},
-                                         SheetCase{"excitation-current-driver", 3},
-                                         SheetCase{"gas-cell-current-amplifier", 3}),
+                         testing::Values(SheetCase{"demo", 4}, SheetCase{"contact-mic-preamp", 4},
+                                         SheetCase{"excitation-current-driver", 4},
+                                         SheetCase{"gas-cell-current-amplifier", 4}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');
