@@ -165,6 +165,14 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
     ASSERT_GE(fCol, 0);
     ASSERT_GE(gCol, 0);
+    // The noise densities' columns carry their units as the other columns do.
+    const QString outCol
+        = QStringLiteral("output_noise_%1_per_rthz").arg(QString::fromStdString(outUnit).toLower());
+    const QString inCol
+        = QStringLiteral("input_noise_%1_per_rthz").arg(QString::fromStdString(inUnit).toLower());
+    const qsizetype nCol = header.indexOf(outCol);
+    EXPECT_GE(nCol, 0) << lines.front().toStdString();
+    EXPECT_GE(header.indexOf(inCol), 0) << lines.front().toStdString();
     for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
         const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
         ASSERT_EQ(cells.size(), header.size()) << "row " << i;
@@ -176,6 +184,10 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
         // 20 log10 |G| (common practice); the CSV has 10 significant digits
         const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
         EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
+        if (nCol >= 0 && analysis->noise) {
+            const double want = analysis->noise->outputDensity[i];
+            EXPECT_NEAR(cells[nCol].toDouble(), want, 1e-8 * want) << "row " << i;
+        }
     }
 }
 
@@ -188,6 +200,41 @@ INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
                              std::erase(name, '-');
                              return name;
                          });
+
+// `loopsketch analyze FILE` (text): the noise lines carry core's totals, band and largest
+// sources, formatted as the text form formats every value (5 digits).
+TEST(AnalyzeText, NoiseTotalsBandAndLargestSources)
+{
+    const CliRun text = loopsketch({QStringLiteral("analyze"), designPath("demo")});
+    ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
+    const CliRun json = loopsketch({QStringLiteral("analyze"), designPath("demo"), "--json"});
+    ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
+    const QJsonObject noise
+        = QJsonDocument::fromJson(json.out.toUtf8()).object()["noise"].toObject();
+    ASSERT_FALSE(noise.isEmpty());
+    const std::string out = text.out.toStdString();
+    const auto five = [](double v, std::string_view unit) {
+        return loopsketch::formatEngineering(v, 5, unit);
+    };
+    EXPECT_THAT(out, HasSubstr("Noise ("));
+    EXPECT_THAT(
+        out, HasSubstr("output, rms               " + five(noise["output_rms"].toDouble(), "V")));
+    EXPECT_THAT(out,
+                HasSubstr("input-referred, rms       " + five(noise["input_rms"].toDouble(), "A")));
+    const QJsonObject band = noise["band"].toObject();
+    EXPECT_THAT(out,
+                HasSubstr(five(band["low_hz"].toDouble(), "Hz") + " – "
+                          + five(band["high_hz"].toDouble(), "Hz")));
+    // The demo's noise is set by its 1 MΩ feedback resistor (core: share 99.8 %).
+    EXPECT_THAT(out, HasSubstr("largest sources           RF thermal: "));
+    const auto lines = QString::fromStdString(out).split('\n');
+    const qsizetype at = lines.indexOf(QRegularExpression(QStringLiteral("^  largest sources.*")));
+    ASSERT_GE(at, 0);
+    ASSERT_LT(at + 2, lines.size());
+    EXPECT_THAT(lines[at + 1].toStdString(), HasSubstr("% of the power"));
+    EXPECT_THAT(lines[at + 2].toStdString(), HasSubstr("% of the power"));
+    EXPECT_THAT(out, testing::Not(HasSubstr("nan")));
+}
 
 TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
 {
