@@ -224,6 +224,7 @@ void MainWindow::createDocks()
         = makeDock(tr("Noise"), QStringLiteral("NoiseDock"), noise, Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, noiseDock);
     impDock->raise();
+    connect(noiseDock, &QDockWidget::visibilityChanged, noise, &NoisePanel::setOnScreen);
     auto *desDock = makeDock(tr("Desensitivity"), QStringLiteral("DesensitivityDock"), desens,
                              Qt::BottomDockWidgetArea);
     auto *stepDock

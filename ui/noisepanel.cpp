@@ -15,6 +15,7 @@
 #include <QLegend>
 #include <QLegendMarker>
 #include <QLineSeries>
+#include <QSignalBlocker>
 #include <QTextDocument>
 #include <QTextOption>
 
@@ -214,20 +215,45 @@ void NoisePanel::setBandCount(std::size_t count)
 
 void NoisePanel::showAnalysis(const Analysis &a)
 {
-    m_units = noiseUnits(a);
+    // While off screen (its tab behind another) the panel keeps what it would draw and
+    // draws it when it comes on screen. The frequency axis follows at once, so the linked
+    // cursor knows the panel's range.
+    const double xLo = a.frequenciesHz.empty() ? 0.0 : std::log10(a.frequenciesHz.front());
+    const double xHi = a.frequenciesHz.empty() ? 9.0 : std::log10(a.frequenciesHz.back());
+    setDecadeRange(m_x, xLo, xHi, {});
+    Pending in{noiseUnits(a), xLo, xHi, a.noise, toQString(a.noiseProblem)};
+    if (!m_onScreen) {
+        m_pending = std::move(in);
+        return;
+    }
+    m_pending.reset();
+    draw(std::move(in));
+}
+
+void NoisePanel::setOnScreen(bool onScreen)
+{
+    m_onScreen = onScreen;
+    if (onScreen && m_pending) {
+        Pending in = std::move(*m_pending);
+        m_pending.reset();
+        draw(std::move(in));
+    }
+}
+
+void NoisePanel::draw(Pending in)
+{
+    m_units = in.units;
+    const double xLo = in.xLo, xHi = in.xHi;
     const QString yTitle = tr("output (%1/√Hz)").arg(m_units.output);
     if (m_y->titleText() != yTitle)
         m_y->setTitleText(yTitle);
     const QString inTitle = tr("input (%1/√Hz)").arg(m_units.input);
     if (m_yInput->titleText() != inTitle)
         m_yInput->setTitleText(inTitle);
-    const double xLo = a.frequenciesHz.empty() ? 0.0 : std::log10(a.frequenciesHz.front());
-    const double xHi = a.frequenciesHz.empty() ? 9.0 : std::log10(a.frequenciesHz.back());
-    setDecadeRange(m_x, xLo, xHi, {});
 
-    const bool drawable = a.noise && !a.noise->frequenciesHz.empty()
-        && a.noise->outputDensity.size() == a.noise->frequenciesHz.size()
-        && std::any_of(a.noise->outputDensity.begin(), a.noise->outputDensity.end(),
+    const bool drawable = in.noise && !in.noise->frequenciesHz.empty()
+        && in.noise->outputDensity.size() == in.noise->frequenciesHz.size()
+        && std::any_of(in.noise->outputDensity.begin(), in.noise->outputDensity.end(),
                        [](double v) { return std::isfinite(v) && v > 0; });
     if (!drawable) {
         m_noise.reset();
@@ -236,8 +262,7 @@ void NoisePanel::showAnalysis(const Analysis &a)
         replaceThinned(m_input, {}, xLo, xHi);
         m_bandEdge->replace(QList<QPointF>{});
         m_bandEdgeAt = std::nan("");
-        QString why
-            = !a.noise ? toQString(a.noiseProblem) : tr("no noise source reaches the output");
+        QString why = !in.noise ? in.problem : tr("no noise source reaches the output");
         if (why.startsWith(QStringLiteral("noise: ")))
             why.remove(0, 7);
         m_problem->setPlainText(
@@ -258,7 +283,7 @@ void NoisePanel::showAnalysis(const Analysis &a)
         m_yInput->setVisible(true);
         chart()->legend()->setVisible(true);
     }
-    m_noise = *a.noise;
+    m_noise = std::move(in.noise);
     const NoiseAnalysis &n = *m_noise;
     const std::vector<double> &hz = n.frequenciesHz;
 
@@ -292,6 +317,33 @@ void NoisePanel::showAnalysis(const Analysis &a)
     // sources below it to that plus its own, drawn as density.
     const std::vector<const NoiseContribution *> order = noiseSourcesByShare(n);
     setBandCount(order.size());
+
+    // A band that never reaches 1 % of the power somewhere in the sweep is thinner than its
+    // outline: it is not drawn (its power still lifts the bands above it) and leaves the
+    // legend with it. The tooltip lists every source.
+    std::vector<char> drawn(order.size());
+    QStringList all;
+    int quiet = 0;
+    for (std::size_t k = 0; k < order.size(); ++k) {
+        const NoiseContribution &c = *order[k];
+        double most = 0;
+        for (std::size_t i = 0; i < hz.size() && i < c.outputPsd.size(); ++i) {
+            const double t = n.outputDensity[i] * n.outputDensity[i];
+            if (t > 0)
+                most = std::max(most, c.outputPsd[i] / t);
+        }
+        drawn[k] = most >= 0.01;
+        quiet += !drawn[k];
+        const auto share = noiseSharePct(n, c);
+        all << tr("%1: %2 of the power over the band, at most %3 % at one frequency")
+                   .arg(noiseSourceName(c),
+                        share ? QString::number(*share, 'g', 3) + QStringLiteral(" %")
+                              : QStringLiteral("—"),
+                        QString::number(100.0 * most, 'g', 3));
+    }
+    setToolTip(tr("Noise sources, largest first:\n") + all.join(QLatin1Char('\n'))
+               + (quiet > 0 ? tr("\n(%n source(s) below 1 % everywhere not drawn)", nullptr, quiet)
+                            : QString()));
     std::vector<double> cumulative(hz.size(), 0.0);
     const double floorY = bottom - 1.0;
     QList<QPointF> lower{QPointF(xLo, floorY), QPointF(xHi, floorY)};
@@ -318,42 +370,23 @@ void NoisePanel::showAnalysis(const Analysis &a)
             b.area->setBrush(fill);
             b.area->setPen(QPen(colour.darker(115), 0.8));
         }
-        replaceThinned(b.lower, lower, xLo, xHi);
-        replaceThinned(b.upper, upper, xLo, xHi);
+        // Each boundary replaced rebuilds the band's path and hover outline: the lower one
+        // quietly, so a band rebuilds once, on the upper one, with both new; a band not
+        // drawn keeps its data current without rebuilding (shown again, it rebuilds).
+        if (b.area->isVisible() != bool(drawn[k]))
+            b.area->setVisible(drawn[k]);
+        {
+            const QSignalBlocker lowerQuiet(b.lower);
+            replaceThinned(b.lower, lower, xLo, xHi);
+        }
+        {
+            const QSignalBlocker upperQuiet(drawn[k] ? nullptr : b.upper);
+            replaceThinned(b.upper, upper, xLo, xHi);
+        }
         lower = std::move(upper);
     }
     replaceThinned(m_total, total, xLo, xHi);
     replaceThinned(m_input, input, xLo, xHi);
-
-    // The legend names the sources that reach 1 % of the total power somewhere in the
-    // sweep; the others are thinner than a line. The tooltip lists them all.
-    QStringList all;
-    int quiet = 0;
-    for (std::size_t k = 0; k < order.size(); ++k) {
-        const NoiseContribution &c = *order[k];
-        double most = 0;
-        for (std::size_t i = 0; i < hz.size() && i < c.outputPsd.size(); ++i) {
-            const double t = n.outputDensity[i] * n.outputDensity[i];
-            if (t > 0)
-                most = std::max(most, c.outputPsd[i] / t);
-        }
-        const bool shown = most >= 0.01;
-        quiet += !shown;
-        for (QLegendMarker *m : chart()->legend()->markers(m_bands[k].area)) {
-            if (m->isVisible() != shown)
-                m->setVisible(shown);
-        }
-        const auto share = noiseSharePct(n, c);
-        all << tr("%1: %2 of the power over the band, at most %3 % at one frequency")
-                   .arg(noiseSourceName(c),
-                        share ? QString::number(*share, 'g', 3) + QStringLiteral(" %")
-                              : QStringLiteral("—"),
-                        QString::number(100.0 * most, 'g', 3));
-    }
-    setToolTip(tr("Noise sources, largest first:\n") + all.join(QLatin1Char('\n'))
-               + (quiet > 0 ? tr("\n(%n source(s) below 1 % everywhere left out of the legend)",
-                                 nullptr, quiet)
-                            : QString()));
 
     QList<QPointF> edge;
     if (n.bandHighHz > 0 && n.bandHighHz < hz.back() * (1 - 1e-9)) {
@@ -366,7 +399,7 @@ void NoisePanel::showAnalysis(const Analysis &a)
     const QString out = n.outputRms
         ? toQString(formatEngineering(*n.outputRms, 3, toStdString(m_units.output)))
         : QStringLiteral("—");
-    const QString in = n.inputRms
+    const QString inRms = n.inputRms
         ? toQString(formatEngineering(*n.inputRms, 3, toStdString(m_units.input)))
         : QStringLiteral("—");
     QString lead;
@@ -376,7 +409,7 @@ void NoisePanel::showAnalysis(const Analysis &a)
                        .arg(noiseSourceName(*order.front()),
                             QString::number(*share, 'f', *share < 99.95 ? 1 : 2));
     }
-    setTitle(tr("%1 rms out, %2 rms in  ·  %3%4").arg(out, in, noiseBandText(n), lead));
+    setTitle(tr("%1 rms out, %2 rms in  ·  %3%4").arg(out, inRms, noiseBandText(n), lead));
     placeOverlays();
     showValuesAt(m_cursorAt);
 }

@@ -63,11 +63,23 @@ public:
     QString summaryText() const { return summary(); }
 
 public slots:
+    /// Off screen (a tab behind another; QDockWidget::visibilityChanged), analyses are kept
+    /// and only the latest is drawn when the panel comes back on screen.
+    void setOnScreen(bool onScreen);
     /// Lists the densities at the sweep point nearest log10(f / Hz) under the cursor's
     /// frequency box; NaN hides them.
     void showValuesAt(double log10Hz);
 
 private:
+    /// What showAnalysis() takes from an Analysis.
+    struct Pending
+    {
+        NoiseUnits units;
+        double xLo = 0, xHi = 0; ///< log10(f / Hz) of the sweep
+        std::optional<NoiseAnalysis> noise;
+        QString problem;
+    };
+    void draw(Pending in);
     void setBandCount(std::size_t count);
     void placeOverlays();
 
@@ -82,6 +94,8 @@ private:
     std::vector<Band> m_bands; ///< bottom of the stack first; the pool beyond m_shownBands
     std::size_t m_shownBands = 0; ///< bands in the chart
     std::optional<NoiseAnalysis> m_noise; ///< what is drawn, for the cursor values
+    std::optional<Pending> m_pending; ///< the latest analysis while off screen
+    bool m_onScreen = true;
     NoiseUnits m_units;
     double m_cursorAt = std::nan("");
     double m_bandEdgeAt = std::nan(""); ///< log10(f / Hz) of the band's upper end as drawn

@@ -106,6 +106,38 @@ void BM_RepaintOneWidget(benchmark::State &state)
 }
 BENCHMARK(BM_RepaintOneWidget)->DenseRange(0, 7)->Unit(benchmark::kMillisecond)->UseRealTime();
 
+/// One panel's showAnalysis() alone (series replaced, axes set; no painting), alternating
+/// between the demo and the demo with RF one E24 step up so the data changes every time
+/// (0-5: the panels in window order, the Noise panel last).
+void BM_UpdateOnePanel(benchmark::State &state)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    if (!window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"))) {
+        state.SkipWithError("demo design did not open");
+        return;
+    }
+    if (std::size_t(state.range(0)) + 1 == window.panels().size()) {
+        // The Noise panel draws only on screen (else it keeps the analysis for later).
+        if (auto *dock = window.findChild<QDockWidget *>(QStringLiteral("NoiseDock")))
+            dock->raise();
+    }
+    QApplication::processEvents();
+    const loopsketch::Analysis first = *window.document()->analysis();
+    wheelOver(window, "RF", 1);
+    window.document()->recomputeNow();
+    const loopsketch::Analysis second = *window.document()->analysis();
+    PlotPanel *panel = window.panels().at(std::size_t(state.range(0)));
+    bool flip = false;
+    for (auto _ : state) {
+        panel->showAnalysis(flip ? first : second);
+        flip = !flip;
+    }
+}
+BENCHMARK(BM_UpdateOnePanel)->DenseRange(0, 5)->Unit(benchmark::kMillisecond)->UseRealTime();
+
 } // namespace
 
 int main(int argc, char **argv)

@@ -151,6 +151,9 @@ TEST_F(NoisePanelTest, OneBandPerSourcePlusTotalAndInputReferred)
     EXPECT_TRUE(legendShows("RF thermal"));
     EXPECT_TRUE(legendShows("U1 r_out thermal"));
     EXPECT_FALSE(legendShows("U1 r_in thermal")) << panel->toolTip().toStdString();
+    // Such a band is thinner than its outline: not drawn, its power still in the stack.
+    EXPECT_TRUE(panel->band(QStringLiteral("RF thermal"))->isVisible());
+    EXPECT_FALSE(panel->band(QStringLiteral("U1 r_in thermal"))->isVisible());
     // Axis titles carry the units of a transimpedance stage: V at the output, A at the input.
     const auto axes = panel->chart()->axes(Qt::Vertical);
     QStringList titles;
@@ -198,6 +201,9 @@ TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
         const std::size_t i = indexNear(n.frequenciesHz, hz);
         EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
     }
+    QTest::qWait(100);
+    EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                   + "/loopsketch-noise-gain-block.png"));
     // Back to the demo: the extra bands leave the chart and the legend.
     ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
     QApplication::processEvents();
@@ -267,6 +273,46 @@ TEST_F(NoisePanelTest, WritesAScreenshot)
                                     + "/loopsketch-noise-window.png"));
     EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
                                    + "/loopsketch-noise-panel.png"));
+}
+
+TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    ASSERT_TRUE(window.openFile(kDemo, &error)) << error.toStdString();
+    QApplication::processEvents();
+    NoisePanel *panel = nullptr;
+    for (PlotPanel *p : window.panels()) {
+        if (auto *n = qobject_cast<NoisePanel *>(p))
+            panel = n;
+    }
+    ASSERT_NE(panel, nullptr);
+    // Behind the Impedance tab by default, once the dock layout has run (a tab behind
+    // another stays visible but is moved off screen).
+    QTest::qWait(200);
+    const auto onScreen = [&](QWidget *w) {
+        return QRect(w->mapTo(&window, QPoint(0, 0)), w->size()).intersects(window.rect());
+    };
+    ASSERT_FALSE(onScreen(panel));
+    ASSERT_TRUE(onScreen(window.panels()[1]));
+    // A new analysis while hidden is kept, not drawn: the bands are still the demo's.
+    ASSERT_TRUE(window.openText(demoWithGainBlockNoise(), QStringLiteral("noisy"), &error))
+        << error.toStdString();
+    QApplication::processEvents();
+    const NoiseAnalysis &n = *window.document()->analysis()->noise;
+    ASSERT_GT(n.contributions.size(), 5u);
+    EXPECT_FALSE(panel->bandNames().contains(QStringLiteral("U1 e_n")));
+    window.findChild<QDockWidget *>(QStringLiteral("NoiseDock"))->raise();
+    QApplication::processEvents();
+    ASSERT_TRUE(onScreen(panel));
+    EXPECT_EQ(panel->bandNames().size(), qsizetype(n.contributions.size()));
+    EXPECT_TRUE(panel->bandNames().contains(QStringLiteral("U1 e_n")));
+    const QList<QPointF> total = panel->fullPoints(panel->series(NoisePanel::kTotal));
+    ASSERT_EQ(total.size(), qsizetype(n.outputDensity.size()));
+    EXPECT_LT(relErr(std::pow(10.0, total[200].y()), n.outputDensity[200]), 1e-12);
 }
 
 TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
