@@ -188,13 +188,14 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
             return v && std::isfinite(*v) ? toQString(formatEngineering(*v, 3, toStdString(symbol)))
                                           : QStringLiteral("—");
         };
-        setCell(9, tr("noise rms out / in, %1").arg(noiseBandText(n)),
+        // Short title and value: the strip sets the window's minimum width (under 1280 px).
+        setCell(9, tr("rms noise, %1").arg(noiseBandText(n)),
                 rms(n.outputRms, u.output) + QStringLiteral(" / ") + rms(n.inputRms, u.input),
-                tr("integrated noise at the output and referred to the input (%1 K)\nband: %2")
+                tr("integrated noise: at the output / referred to the input, at %1 K\nband: %2")
                     .arg(n.temperatureK, 0, 'f', 2)
                     .arg(toQString(n.bandMethod)));
     } else {
-        setCell(9, tr("noise rms out / in"), QStringLiteral("—"),
+        setCell(9, tr("rms noise"), QStringLiteral("—"),
                 a.noise ? tr("no integrated noise: the gain is zero within the sweep")
                         : toQString(a.noiseProblem));
     }

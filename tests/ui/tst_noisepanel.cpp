@@ -255,12 +255,15 @@ TEST_F(NoisePanelTest, ReadoutShowsCoreRmsWithTheBand)
     ASSERT_TRUE(a) << a.errorText();
     ASSERT_TRUE(a->noise && a->noise->outputRms && a->noise->inputRms);
     const NoiseAnalysis &n = *a->noise;
-    const QString title = QStringLiteral("noise rms out / in, ")
+    const QString title = QStringLiteral("rms noise, ")
         + toQString(formatEngineering(n.bandLowHz, 3, "Hz")) + QStringLiteral("–")
         + toQString(formatEngineering(n.bandHighHz, 3, "Hz"));
     const QString want = toQString(formatEngineering(*n.outputRms, 3, "V")) + QStringLiteral(" / ")
         + toQString(formatEngineering(*n.inputRms, 3, "A"));
     EXPECT_EQ(window->readout()->cellText(title), want);
+    // The strip sets the window's minimum width; with the noise cell it still fits a
+    // 1280 px wide screen (common practice for a laptop-sized minimum).
+    EXPECT_LE(window->readout()->minimumSizeHint().width(), 1280);
     EXPECT_THAT(window->readout()->plainText().toStdString(), testing::Not(HasSubstr("nan")));
     EXPECT_THAT(panel->summaryText().toStdString(),
                 HasSubstr(want.section(" / ", 0, 0).toStdString()));
@@ -338,7 +341,7 @@ TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
                                   + "/loopsketch-noise-absent.png"));
     Readout readout;
     readout.showAnalysis(without, *design);
-    EXPECT_EQ(readout.cellText(QStringLiteral("noise rms out / in")), QStringLiteral("—"));
+    EXPECT_EQ(readout.cellText(QStringLiteral("rms noise")), QStringLiteral("—"));
     // And back: the plot returns, the message goes.
     panel.showAnalysis(*a);
     EXPECT_TRUE(panel.problemText().isEmpty());
