@@ -27,6 +27,9 @@ namespace loopsketch::ui {
 
 namespace {
 
+/// Sources that never reach this share of the power at any frequency are not drawn.
+constexpr double kDrawnShare = 0.03;
+
 // Source colours by core's source order, so a source keeps its colour while edits reorder
 // the stack. Vermillion is the input-referred curve's and black the total's.
 const QColor kSourceColours[]
@@ -298,12 +301,13 @@ void NoisePanel::draw(Pending in)
             input.append(QPointF(x, std::log10(n.inputDensity[i])));
     }
 
-    // Decades shown: from the total's peak down to its floor, 2 to 6 decades; the
-    // input-referred axis spans as many decades from its own minimum, so slopes compare.
+    // Decades shown: from the total's peak to a decade under its minimum (so the stack
+    // keeps some height everywhere), 2 to 7 decades; the input-referred axis spans as many
+    // decades from its own minimum, so slopes compare.
     double lo = 0, hi = 0;
     yRange({&total}, &lo, &hi);
     const double top = std::ceil(hi + 0.05);
-    const double span = std::clamp(top - std::floor(lo), 2.0, 6.0);
+    const double span = std::clamp(top - std::floor(lo) + 1.0, 2.0, 7.0);
     const double bottom = top - span;
     setDecadeRange(m_y, bottom, top, {});
     double inLo = 0, inHi = 0;
@@ -312,14 +316,16 @@ void NoisePanel::draw(Pending in)
         setDecadeRange(m_yInput, inBottom, inBottom + span, {});
     }
 
-    // Stack: the largest source at the bottom, so the band under the total line belongs to
-    // the source that sets it wherever one dominates. Each band runs from the power of the
-    // sources below it to that plus its own, drawn as density.
+    // Stack, in power: under the total density, the height from the plot's bottom up to the
+    // total is split among the sources in proportion to their share of the power at that
+    // frequency (on a log axis, cumulative densities would give the lowest band most of the
+    // height whatever its share). The top of the stack is the total; the largest source
+    // over the band sits at the bottom.
     const std::vector<const NoiseContribution *> order = noiseSourcesByShare(n);
     setBandCount(order.size());
 
-    // A band that never reaches 1 % of the power somewhere in the sweep is thinner than its
-    // outline: it is not drawn (its power still lifts the bands above it) and leaves the
+    // A band that never reaches 3 % of the power anywhere in the sweep is a few pixels at
+    // most: it is not drawn (its share still lifts the bands above it) and leaves the
     // legend with it. The tooltip lists every source.
     std::vector<char> drawn(order.size());
     QStringList all;
@@ -332,7 +338,7 @@ void NoisePanel::draw(Pending in)
             if (t > 0)
                 most = std::max(most, c.outputPsd[i] / t);
         }
-        drawn[k] = most >= 0.01;
+        drawn[k] = most >= kDrawnShare;
         quiet += !drawn[k];
         const auto share = noiseSharePct(n, c);
         all << tr("%1: %2 of the power over the band, at most %3 % at one frequency")
@@ -342,11 +348,17 @@ void NoisePanel::draw(Pending in)
                         QString::number(100.0 * most, 'g', 3));
     }
     setToolTip(tr("Noise sources, largest first:\n") + all.join(QLatin1Char('\n'))
-               + (quiet > 0 ? tr("\n(%n source(s) below 1 % everywhere not drawn)", nullptr, quiet)
-                            : QString()));
-    std::vector<double> cumulative(hz.size(), 0.0);
-    const double floorY = bottom - 1.0;
-    QList<QPointF> lower{QPointF(xLo, floorY), QPointF(xHi, floorY)};
+               + (quiet > 0 ? tr("\n(%n source(s) below 3 % everywhere not drawn)", nullptr, quiet)
+                            : QString())
+               + tr("\nBand heights: each source's share of the power at that frequency."));
+    std::vector<double> totalPsd(hz.size(), 0.0), cumulative(hz.size(), 0.0);
+    for (const NoiseContribution *c : order) {
+        for (std::size_t i = 0; i < hz.size() && i < c->outputPsd.size(); ++i) {
+            if (std::isfinite(c->outputPsd[i]))
+                totalPsd[i] += c->outputPsd[i];
+        }
+    }
+    QList<QPointF> lower{QPointF(xLo, bottom), QPointF(xHi, bottom)};
     for (std::size_t k = 0; k < order.size(); ++k) {
         const NoiseContribution &c = *order[k];
         QList<QPointF> upper;
@@ -354,8 +366,15 @@ void NoisePanel::draw(Pending in)
         for (std::size_t i = 0; i < hz.size(); ++i) {
             if (i < c.outputPsd.size() && std::isfinite(c.outputPsd[i]))
                 cumulative[i] += c.outputPsd[i];
-            const double y = cumulative[i] > 0 ? 0.5 * std::log10(cumulative[i]) : floorY;
-            upper.append(QPointF(std::log10(hz[i]), std::max(y, floorY)));
+            double y = bottom;
+            if (totalPsd[i] > 0) {
+                const double yTotal = 0.5 * std::log10(totalPsd[i]);
+                // The last band ends on the total itself, not on a rounded sum.
+                y = k + 1 == order.size()
+                    ? yTotal
+                    : bottom + (yTotal - bottom) * cumulative[i] / totalPsd[i];
+            }
+            upper.append(QPointF(std::log10(hz[i]), y));
         }
         Band &b = m_bands[k];
         b.source = &c;
@@ -370,17 +389,15 @@ void NoisePanel::draw(Pending in)
             b.area->setBrush(fill);
             b.area->setPen(QPen(colour.darker(115), 0.8));
         }
-        // Each boundary replaced rebuilds the band's path and hover outline: the lower one
-        // quietly, so a band rebuilds once, on the upper one, with both new; a band not
-        // drawn keeps its data current without rebuilding (shown again, it rebuilds).
+        // Each boundary replaced rebuilds the band's path and hover outline (the area keeps
+        // its own copy of each boundary's geometry, so both must be replaced). A band not
+        // drawn keeps its data current without rebuilding; shown again, it rebuilds.
         if (b.area->isVisible() != bool(drawn[k]))
             b.area->setVisible(drawn[k]);
         {
-            const QSignalBlocker lowerQuiet(b.lower);
-            replaceThinned(b.lower, lower, xLo, xHi);
-        }
-        {
+            const QSignalBlocker lowerQuiet(drawn[k] ? nullptr : b.lower);
             const QSignalBlocker upperQuiet(drawn[k] ? nullptr : b.upper);
+            replaceThinned(b.lower, lower, xLo, xHi);
             replaceThinned(b.upper, upper, xLo, xHi);
         }
         lower = std::move(upper);

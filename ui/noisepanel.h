@@ -48,7 +48,7 @@ public:
     explicit NoisePanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
-    static inline const QString kTotal = QStringLiteral("total output");
+    static inline const QString kTotal = QStringLiteral("total");
     static inline const QString kInput = QStringLiteral("input-referred");
 
     /// Source names of the stacked bands, bottom of the stack first.

@@ -172,18 +172,29 @@ TEST_F(NoisePanelTest, StackTopEqualsTotalDensity)
         const std::size_t i = indexNear(n.frequenciesHz, hz);
         EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
     }
-    // The bottom band's top is its own source alone: sqrt of its output power density.
-    const QString bottom = panel->bandNames().front();
-    const NoiseContribution *source = nullptr;
-    for (const NoiseContribution &c : n.contributions) {
-        if (noiseSourceName(c) == bottom)
-            source = &c;
+    // Each band's height, from the plot's bottom to the total on the log axis, is its
+    // source's share of the power at that frequency (core's per-source output power over
+    // core's total).
+    for (double hz : {1e3, 3e6, 1e8}) {
+        const std::size_t i = indexNear(n.frequenciesHz, hz);
+        const double yBottom
+            = panel->fullPoints(panel->band(panel->bandNames().front())->lowerSeries()).front().y();
+        const double yTop = std::log10(n.outputDensity[i]);
+        const double total = n.outputDensity[i] * n.outputDensity[i];
+        double sum = 0;
+        for (const NoiseContribution &c : n.contributions) {
+            QAreaSeries *b = panel->band(noiseSourceName(c));
+            ASSERT_NE(b, nullptr);
+            const double upper = panel->fullPoints(b->upperSeries())[qsizetype(i)].y();
+            const QList<QPointF> lowerPoints = panel->fullPoints(b->lowerSeries());
+            const double lower
+                = lowerPoints.size() == 2 ? lowerPoints.front().y() : lowerPoints[qsizetype(i)].y();
+            const double share = (upper - lower) / (yTop - yBottom);
+            EXPECT_NEAR(share, c.outputPsd[i] / total, 1e-9) << c.name << " at " << hz << " Hz";
+            sum += share;
+        }
+        EXPECT_NEAR(sum, 1.0, 1e-9) << hz << " Hz";
     }
-    ASSERT_NE(source, nullptr);
-    const std::size_t i = indexNear(n.frequenciesHz, 1e3);
-    const QList<QPointF> first = panel->fullPoints(panel->band(bottom)->upperSeries());
-    EXPECT_LT(relErr(std::pow(10.0, first[qsizetype(i)].y()), std::sqrt(source->outputPsd[i])),
-              1e-9);
 }
 
 TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
@@ -202,8 +213,34 @@ TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
         EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
     }
     QTest::qWait(100);
-    EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
-                                   + "/loopsketch-noise-gain-block.png"));
+    const QImage shot = panel->grab().toImage();
+    EXPECT_TRUE(
+        shot.save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-noise-gain-block.png"));
+    // What is painted, not only the data: at 2 Hz the 1/f voltage noise (9 nV/√Hz with a
+    // 300 Hz corner, about 110 nV/√Hz there, against RF's 128 nV/√Hz) holds a large part
+    // of the height, and the pixel in the middle of its band has its fill colour.
+    {
+        const std::size_t i = indexNear(n.frequenciesHz, 2.0);
+        QAreaSeries *en = panel->band(QStringLiteral("U1 e_n"));
+        ASSERT_NE(en, nullptr);
+        ASSERT_TRUE(en->isVisible());
+        const double yMid = 0.5
+            * (panel->fullPoints(en->lowerSeries())[qsizetype(i)].y()
+               + panel->fullPoints(en->upperSeries())[qsizetype(i)].y());
+        const QPointF inChart
+            = panel->chart()->mapToPosition(QPointF(std::log10(n.frequenciesHz[i]), yMid), en);
+        const QPoint pixel = panel->mapFromScene(panel->chart()->mapToScene(inChart));
+        const QColor painted = shot.pixelColor(pixel * shot.devicePixelRatio());
+        const QColor fill = en->brush().color();
+        // the fill (Okabe-Ito yellow at alpha 150) over the white plot
+        const double a = fill.alphaF();
+        const auto over = [a](int c) {
+            return a * c + (1 - a) * 255;
+        };
+        EXPECT_NEAR(painted.red(), over(fill.red()), 12) << pixel.x() << "," << pixel.y();
+        EXPECT_NEAR(painted.green(), over(fill.green()), 12);
+        EXPECT_NEAR(painted.blue(), over(fill.blue()), 12);
+    }
     // Back to the demo: the extra bands leave the chart and the legend.
     ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
     QApplication::processEvents();
@@ -233,8 +270,7 @@ TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
     const NoiseAnalysis &n = noise();
     const std::size_t i = indexNear(n.frequenciesHz, std::pow(10.0, log10Hz));
     const std::string values = panel->valuesText().toStdString();
-    EXPECT_THAT(values,
-                HasSubstr("total output: " + formatEngineering(n.outputDensity[i], 3, "V/√Hz")));
+    EXPECT_THAT(values, HasSubstr("total: " + formatEngineering(n.outputDensity[i], 3, "V/√Hz")));
     EXPECT_THAT(values,
                 HasSubstr("input-referred: " + formatEngineering(n.inputDensity[i], 3, "A/√Hz")));
     EXPECT_THAT(values, HasSubstr("RF thermal: "));
@@ -277,6 +313,61 @@ TEST_F(NoisePanelTest, WritesAScreenshot)
     EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
                                    + "/loopsketch-noise-panel.png"));
 }
+
+/// Every example design: the axes carry the units its gain implies, the stack's top is the
+/// total, and a screenshot of the panel is left for inspection.
+class NoiseExample : public ::testing::TestWithParam<const char *>
+{
+};
+
+TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    const QString path = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(GetParam());
+    ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
+    window.findChild<QDockWidget *>(QStringLiteral("NoiseDock"))->raise();
+    QTest::qWait(150);
+    NoisePanel *panel = nullptr;
+    for (PlotPanel *p : window.panels()) {
+        if (auto *n = qobject_cast<NoisePanel *>(p))
+            panel = n;
+    }
+    ASSERT_NE(panel, nullptr);
+    const Analysis &a = *window.document()->analysis();
+    ASSERT_TRUE(a.noise.has_value()) << a.noiseProblem;
+    // "V/A": output density in V/√Hz, input-referred in A/√Hz (DESIGN.md §5 gain units).
+    const QString unit = toQString(a.gainUnit);
+    const QString out = unit.section('/', 0, 0), in = unit.section('/', 1, 1);
+    QStringList titles;
+    for (const QAbstractAxis *axis : panel->chart()->axes(Qt::Vertical))
+        titles << axis->titleText();
+    EXPECT_TRUE(titles.contains(QStringLiteral("output (%1/√Hz)").arg(out)))
+        << titles.join('|').toStdString();
+    EXPECT_TRUE(titles.contains(QStringLiteral("input (%1/√Hz)").arg(in)))
+        << titles.join('|').toStdString();
+    const NoiseAnalysis &n = *a.noise;
+    const QStringList names = panel->bandNames();
+    ASSERT_EQ(names.size(), qsizetype(n.contributions.size()));
+    const QList<QPointF> top = panel->fullPoints(panel->band(names.back())->upperSeries());
+    ASSERT_EQ(top.size(), qsizetype(n.frequenciesHz.size()));
+    const std::size_t i = indexNear(n.frequenciesHz, 1e3);
+    EXPECT_LT(relErr(std::pow(10.0, top[qsizetype(i)].y()), n.outputDensity[i]), 1e-9);
+    EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                   + QStringLiteral("/loopsketch-noise-%1.png").arg(GetParam())));
+}
+
+INSTANTIATE_TEST_SUITE_P(Examples, NoiseExample,
+                         ::testing::Values("contact-mic-preamp", "excitation-current-driver",
+                                           "gas-cell-current-amplifier"),
+                         [](const ::testing::TestParamInfo<const char *> &param) {
+                             std::string name = param.param;
+                             std::erase(name, '-');
+                             return name;
+                         });
 
 TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
 {
