@@ -1,5 +1,6 @@
 #include "mainwindow.h"
 
+#include "candidatespanel.h"
 #include "designdocument.h"
 #include "inspector.h"
 #include "panels.h"
@@ -224,6 +225,29 @@ void MainWindow::createDocks()
         = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
     splitDockWidget(desDock, stepDock, Qt::Horizontal);
     splitDockWidget(stepDock, polesDock, Qt::Horizontal);
+
+    // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
+    m_candidates = new CandidatesPanel(m_document, this);
+    m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"), m_candidates,
+                                Qt::RightDockWidgetArea);
+    tabifyDockWidget(impDock, m_candidatesDock);
+    impDock->raise();
+    connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
+        const std::vector<OverlaySource> sources = m_candidates->overlaySources();
+        for (PlotPanel *p : m_panels) {
+            if (p->hasOverlays())
+                p->setOverlaySources(sources);
+        }
+    });
+    connect(m_candidates->pinAction(), &QAction::triggered, this, &MainWindow::showCandidates);
+}
+
+void MainWindow::showCandidates()
+{
+    m_candidatesDock->show();
+    m_candidatesDock->raise();
+    if (auto *loop = findChild<QDockWidget *>(QStringLiteral("LoopGainDock")))
+        resizeDocks({loop, m_candidatesDock}, {height() / 2, height() / 2}, Qt::Vertical);
 }
 
 void MainWindow::createActions()
@@ -260,6 +284,27 @@ void MainWindow::createActions()
 
     // Candidates, spread and value suggestions add their actions here.
     m_designMenu = menuBar()->addMenu(tr("&Design"));
+    QAction *pin = m_candidates->pinAction();
+    pin->setShortcut(Qt::CTRL | Qt::SHIFT | Qt::Key_P);
+    m_designMenu->addAction(pin);
+    QAction *overlayAll = m_designMenu->addAction(tr("Overlay candidates on every plot"));
+    overlayAll->setCheckable(true);
+    connect(overlayAll, &QAction::triggered, this, [this](bool on) {
+        for (PlotPanel *p : m_panels) {
+            if (p->hasOverlays())
+                p->overlayAction()->setChecked(on);
+        }
+    });
+    for (PlotPanel *p : m_panels) {
+        if (!p->hasOverlays())
+            continue;
+        connect(p->overlayAction(), &QAction::toggled, overlayAll, [this, overlayAll] {
+            bool all = true;
+            for (PlotPanel *q : m_panels)
+                all = all && (!q->hasOverlays() || q->overlayAction()->isChecked());
+            overlayAll->setChecked(all);
+        });
+    }
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
