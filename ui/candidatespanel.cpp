@@ -27,7 +27,11 @@ namespace loopsketch::ui {
 
 namespace {
 
-constexpr int kSettleMs = 300; ///< after the last edit of a burst
+// A burst of edits (wheel, arrow keys) leaves the table alone: the Readout shows the design
+// live, and the table follows once the edits pause, then the worker runs for the columns
+// whose applied design changed.
+constexpr int kTableSettleMs = 120;
+constexpr int kWorkerSettleMs = 150;
 constexpr std::size_t kCacheSize = 48;
 const QString kNoValue = QStringLiteral("—");
 
@@ -178,8 +182,13 @@ CandidatesPanel::CandidatesPanel(DesignDocument *document, QWidget *parent)
     layout->addLayout(buttons);
     layout->addWidget(m_table, 1);
 
-    connect(m_document, &DesignDocument::analysisChanged, this, [this] { refresh(kSettleMs); });
-    connect(m_document, &DesignDocument::diagnosticsChanged, this, [this] { refresh(kSettleMs); });
+    // Every recomputation, failed or not, ends with diagnosticsChanged (the analysis is in
+    // place by then), so it is the one signal to follow.
+    m_refreshLater.setSingleShot(true);
+    m_refreshLater.setInterval(kTableSettleMs);
+    connect(&m_refreshLater, &QTimer::timeout, this, [this] { refresh(kWorkerSettleMs); });
+    connect(m_document, &DesignDocument::diagnosticsChanged, &m_refreshLater,
+            qOverload<>(&QTimer::start));
     connect(m_document, &DesignDocument::candidatesChanged, this, [this] { refresh(0); });
     connect(m_document, &DesignDocument::structureChanged, this, [this] { refresh(0); });
     connect(m_document, &DesignDocument::designReset, this, [this] {
@@ -247,6 +256,7 @@ CandidatesPanel::ComputedPtr CandidatesPanel::cached(const Design &key) const
 
 void CandidatesPanel::refresh(int delayMs)
 {
+    m_refreshLater.stop();
     const Design &design = m_document->design();
     m_missing.clear();
     std::map<std::string, ComputedPtr> shown;
@@ -271,7 +281,10 @@ void CandidatesPanel::refresh(int delayMs)
     }
     if (!m_missing.empty() && (delayMs > 0 || !m_settle.isActive()))
         m_settle.start(delayMs);
-    fillTable();
+    // A hidden table (the dock behind a tab) is filled when it shows or is read.
+    m_tableDirty = true;
+    if (isVisible())
+        fillTable();
     std::vector<OverlaySource> sources = overlaySources();
     const bool same = sources.size() == m_emitted.size()
         && std::equal(sources.begin(), sources.end(), m_emitted.begin(),
@@ -332,7 +345,7 @@ void CandidatesPanel::workerFinished(std::vector<ComputedPtr> results, double ms
 
 bool CandidatesPanel::isUpToDate() const
 {
-    return m_missing.empty() && !m_busy && !m_settle.isActive();
+    return m_missing.empty() && !m_busy && !m_settle.isActive() && !m_refreshLater.isActive();
 }
 
 std::vector<OverlaySource> CandidatesPanel::overlaySources() const
@@ -347,8 +360,21 @@ std::vector<OverlaySource> CandidatesPanel::overlaySources() const
     return sources;
 }
 
+void CandidatesPanel::showEvent(QShowEvent *event)
+{
+    QWidget::showEvent(event);
+    flush();
+}
+
+void CandidatesPanel::flush() const
+{
+    if (m_tableDirty)
+        const_cast<CandidatesPanel *>(this)->fillTable();
+}
+
 void CandidatesPanel::fillTable()
 {
+    m_tableDirty = false;
     const Design &design = m_document->design();
     const Specs &specs = design.specs;
     const Analysis *currentAnalysis
@@ -712,15 +738,24 @@ void CandidatesPanel::fillTable()
                         + toQString(v.text.empty() ? formatEngineering(v.si, 3) : v.text);
             tip = tr("Candidate \"%1\": %2\nOverlay curves drawn in this colour and dash.")
                       .arg(col.name, values.join(QStringLiteral(", ")));
-            h->setIcon(styleIcon(int(ci) - 1));
+            // The icon is drawn once per column position (setting one relayouts the header).
+            if (h->data(Qt::UserRole + 1).toInt() != int(ci)) {
+                h->setIcon(styleIcon(int(ci) - 1));
+                h->setData(Qt::UserRole + 1, int(ci));
+            }
         } else {
             tip = tr("The design as it is now");
-            h->setIcon(QIcon());
+            if (h->data(Qt::UserRole + 1).toInt() != 0) {
+                h->setIcon(QIcon());
+                h->setData(Qt::UserRole + 1, 0);
+            }
         }
         if (col.stale)
             tip += tr("\n(updating: the numbers shown are from before the last edit)");
-        h->setToolTip(tip);
-        h->setData(Qt::UserRole, col.name);
+        if (h->toolTip() != tip)
+            h->setToolTip(tip);
+        if (h->data(Qt::UserRole).toString() != col.name)
+            h->setData(Qt::UserRole, col.name);
         for (std::size_t r = 0; r < rows.size(); ++r) {
             const Cell &cell = cells[r][ci];
             QTableWidgetItem *item = m_table->item(int(r), int(ci));
@@ -744,7 +779,8 @@ void CandidatesPanel::fillTable()
             f.setItalic(cell.inherited);
             if (item->font() != f)
                 item->setFont(f);
-            item->setData(Qt::UserRole, isBest);
+            if (item->data(Qt::UserRole).toBool() != isBest)
+                item->setData(Qt::UserRole, isBest);
             QColor fg = palette().color(QPalette::Text);
             if (cell.verdict > 0)
                 fg = QColor(0x00, 0x73, 0x4f);
@@ -780,11 +816,13 @@ void CandidatesPanel::setStatus(const QString &text)
 
 QString CandidatesPanel::statusText() const
 {
+    flush();
     return m_status->text();
 }
 
 QStringList CandidatesPanel::columnNames() const
 {
+    flush();
     QStringList names;
     for (int c = 0; c < m_table->columnCount(); ++c)
         names << m_table->horizontalHeaderItem(c)->data(Qt::UserRole).toString();
@@ -793,6 +831,7 @@ QStringList CandidatesPanel::columnNames() const
 
 QStringList CandidatesPanel::rowNames() const
 {
+    flush();
     QStringList names;
     for (int r = 0; r < m_table->rowCount(); ++r)
         names << m_table->verticalHeaderItem(r)->text();
@@ -813,6 +852,7 @@ QTableWidgetItem *findCell(const QTableWidget *table, const QStringList &rows,
 
 QString CandidatesPanel::cellText(const QString &row, const QString &column) const
 {
+    flush();
     const QTableWidgetItem *item = findCell(m_table, rowNames(), columnNames(), row, column);
     if (!item)
         return {};
@@ -824,18 +864,21 @@ QString CandidatesPanel::cellText(const QString &row, const QString &column) con
 
 QString CandidatesPanel::cellToolTip(const QString &row, const QString &column) const
 {
+    flush();
     const QTableWidgetItem *item = findCell(m_table, rowNames(), columnNames(), row, column);
     return item ? item->toolTip() : QString();
 }
 
 bool CandidatesPanel::isBest(const QString &row, const QString &column) const
 {
+    flush();
     const QTableWidgetItem *item = findCell(m_table, rowNames(), columnNames(), row, column);
     return item && item->data(Qt::UserRole).toBool();
 }
 
 bool CandidatesPanel::selectCandidate(const QString &name)
 {
+    flush();
     const int c = int(columnNames().indexOf(name));
     if (c <= 0)
         return false;
@@ -847,6 +890,7 @@ bool CandidatesPanel::selectCandidate(const QString &name)
 
 QString CandidatesPanel::selectedCandidate() const
 {
+    flush();
     const auto ranges = m_table->selectedRanges();
     if (ranges.isEmpty())
         return {};

@@ -94,6 +94,9 @@ signals:
     /// The candidates' analyses shown changed (the overlays follow).
     void resultsChanged();
 
+protected:
+    void showEvent(QShowEvent *event) override;
+
 private:
     struct Computed
     {
@@ -117,6 +120,8 @@ private:
     void startWorker();
     void workerFinished(std::vector<ComputedPtr> results, double ms);
     void fillTable();
+    /// Fills the table now when a refresh left it for later.
+    void flush() const;
     void updateActions();
     void setStatus(const QString &text);
 
@@ -124,7 +129,8 @@ private:
     QTableWidget *m_table;
     QLabel *m_status;
     QAction *m_pin, *m_rename, *m_delete, *m_makeCurrent;
-    QTimer m_settle;
+    QTimer m_refreshLater; ///< restarted by every recomputation of the document
+    QTimer m_settle; ///< starts the worker
     QThreadPool m_pool;
     bool m_busy = false;
     bool m_again = false;
@@ -136,6 +142,7 @@ private:
     std::vector<OverlaySource> m_emitted; ///< as last announced by resultsChanged()
     double m_lastComputeMs = 0;
     QString m_message;
+    mutable bool m_tableDirty = true;
 };
 
 } // namespace loopsketch::ui
