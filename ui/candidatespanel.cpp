@@ -921,6 +921,7 @@ void CandidatesPanel::pinWithDialog()
             return;
         QString error;
         if (m_document->pinCandidate(name, &error)) {
+            m_table->setFocus();
             selectCandidate(name.trimmed());
             return;
         }
@@ -944,6 +945,7 @@ void CandidatesPanel::renameWithDialog()
             return;
         QString error;
         if (m_document->renameCandidate(from, name, &error)) {
+            m_table->setFocus();
             selectCandidate(name.trimmed());
             return;
         }

@@ -465,11 +465,14 @@ TEST(Cli, CandidatesOfTheDemoChangeTheAnalysis)
 
 TEST(Cli, UnknownCandidateIsBadInput)
 {
-    const CliRun r = runCli({"analyze", "demo", "--candidate", "Turbo"});
-    ASSERT_TRUE(r.exited);
-    EXPECT_EQ(r.exitCode, 2);
-    EXPECT_THAT(r.err, HasSubstr("\"Turbo\""));
-    EXPECT_TRUE(r.out.empty());
+    for (const std::string &file :
+         {std::string("demo"), (kDesignsDir / "demo.loopsketch").string()}) {
+        const CliRun r = runCli({"analyze", file, "--candidate", "Turbo"});
+        ASSERT_TRUE(r.exited);
+        EXPECT_EQ(r.exitCode, 2) << file;
+        EXPECT_THAT(r.err, HasSubstr("\"Turbo\"")) << file;
+        EXPECT_TRUE(r.out.empty()) << file;
+    }
 }
 
 // ----- options and errors -----------------------------------------------------------------

@@ -23,12 +23,16 @@
 #include <QChart>
 #include <QDockWidget>
 #include <QFile>
+#include <QInputDialog>
+#include <QLabel>
+#include <QLineEdit>
 #include <QMenu>
 #include <QSignalSpy>
 #include <QStandardPaths>
 #include <QTableWidget>
 #include <QTemporaryDir>
 #include <QTest>
+#include <QTimer>
 #include <QXYSeries>
 
 #include <gmock/gmock.h>
@@ -158,6 +162,81 @@ TEST_F(CandidatesTest, NamesMustBeUniqueAndNotEmpty)
     EXPECT_THAT(error.toStdString(), HasSubstr("no candidate named \"Turbo\""));
     EXPECT_EQ(text(), before);
     EXPECT_EQ(doc()->undoStack()->count(), commands);
+}
+
+/// Answers the next name dialogs in turn: each entry is typed into the dialog's line edit
+/// and accepted; the label text each dialog showed is kept.
+class DialogAnswers : public QObject
+{
+public:
+    explicit DialogAnswers(QStringList answers) : m_answers(std::move(answers))
+    {
+        m_timer.setInterval(20);
+        connect(&m_timer, &QTimer::timeout, this, &DialogAnswers::poll);
+        m_timer.start();
+    }
+    QStringList labels;
+    QStringList defaults;
+
+private:
+    void poll()
+    {
+        auto *dialog = qobject_cast<QInputDialog *>(QApplication::activeModalWidget());
+        if (!dialog || m_answers.isEmpty())
+            return;
+        labels << dialog->labelText();
+        defaults << dialog->textValue();
+        dialog->setTextValue(m_answers.takeFirst());
+        dialog->accept();
+    }
+    QStringList m_answers;
+    QTimer m_timer;
+};
+
+TEST_F(CandidatesTest, PinDialogOffersADefaultAndAsksAgainWithTheReason)
+{
+    DialogAnswers answers({"Fast", "", "Wide"});
+    panel()->pinAction()->trigger(); // returns once a name was accepted
+    ASSERT_EQ(answers.labels.size(), 3);
+    EXPECT_EQ(answers.defaults[0], QStringLiteral("Candidate 1"));
+    EXPECT_THAT(answers.labels[1].toStdString(), HasSubstr("\"Fast\" exists already"));
+    EXPECT_THAT(answers.labels[2].toStdString(), HasSubstr("not empty"));
+    EXPECT_EQ(doc()->design().candidates.size(), 3u);
+    EXPECT_EQ(doc()->design().candidates.back().name, "Wide");
+    EXPECT_EQ(panel()->selectedCandidate(), QStringLiteral("Wide"));
+    // Pinning brings the Candidates dock forward.
+    EXPECT_TRUE(panel()->isVisible());
+}
+
+TEST_F(CandidatesTest, KeyboardRenamesDeletesAndMakesCurrent)
+{
+    window->showCandidates();
+    window->activateWindow();
+    ASSERT_TRUE(QTest::qWaitForWindowActive(window.get()));
+    QTableWidget *table = panel()->table();
+    table->setFocus();
+    ASSERT_TRUE(panel()->selectCandidate(QStringLiteral("Fast")));
+    {
+        DialogAnswers answers({"Quick"});
+        QTest::keyClick(table, Qt::Key_F2);
+        ASSERT_EQ(answers.defaults.size(), 1);
+        EXPECT_EQ(answers.defaults[0], QStringLiteral("Fast"));
+    }
+    EXPECT_EQ(panel()->selectedCandidate(), QStringLiteral("Quick"));
+    // Focus goes back to the table once the dialog has closed.
+    window->activateWindow();
+    ASSERT_TRUE(QTest::qWaitForWindowActive(window.get()));
+    table->setFocus();
+    QTest::keyClick(table, Qt::Key_Return, Qt::ControlModifier);
+    EXPECT_EQ(doc()->design().findPart("CF")->fields.at("value").text, "1p");
+    QTest::keyClick(table, Qt::Key_Delete);
+    ASSERT_EQ(doc()->design().candidates.size(), 1u);
+    EXPECT_EQ(doc()->design().candidates[0].name, "High gain");
+    // The arrow keys move the selection between columns; the current design has no actions.
+    ASSERT_TRUE(panel()->selectCandidate(QStringLiteral("High gain")));
+    QTest::keyClick(table, Qt::Key_Left);
+    EXPECT_TRUE(panel()->selectedCandidate().isEmpty());
+    EXPECT_FALSE(panel()->deleteAction()->isEnabled());
 }
 
 TEST_F(CandidatesTest, RenameDeleteAndMakeCurrentAreUndoable)
