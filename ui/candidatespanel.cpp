@@ -600,9 +600,9 @@ void CandidatesPanel::fillTable()
                 cell.tip = tr("no part of this design carries a tolerance");
             } else if (w->worstMin && w->worstMax && std::isfinite(*w->worstMin)
                        && std::isfinite(*w->worstMax)) {
+                // The unit is the gain row's; leaving it out keeps the columns narrow.
                 cell.text = toQString(formatEngineering(*w->worstMin, 4)) + QStringLiteral(" … ")
-                    + toQString(formatEngineering(*w->worstMax, 4)) + QStringLiteral(" ")
-                    + toQString(unit);
+                    + toQString(formatEngineering(*w->worstMax, 4));
                 const double nominal = a->exact.gain ? *a->exact.gain : 0.0;
                 QString relative;
                 if (nominal != 0) {
@@ -617,8 +617,8 @@ void CandidatesPanel::fillTable()
                     cell.score = -std::round(widthPct * 100.0) / 100.0;
                     relative += tr(", width %1 %").arg(widthPct, 0, 'f', 2);
                 }
-                cell.tip = tr("DC gain over the parts' tolerances%1, %2 corners%3")
-                               .arg(relative)
+                cell.tip = tr("DC gain in %1 over the parts' tolerances%2, %3 corners%4")
+                               .arg(toQString(unit), relative)
                                .arg(w->corners)
                                .arg(w->worstExhaustive ? tr(", every vertex")
                                                        : tr(", sensitivity corners (approximate)"));

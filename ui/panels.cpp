@@ -55,10 +55,11 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
 
 std::vector<PlotPanel::OverlayLine> LoopGainPanel::overlayLines(const Analysis &a) const
 {
-    // The loop gain only: the candidates' closed-loop gains sit on top of the design's and
-    // their bandwidth and peaking are in the Candidates table.
     return {{QStringLiteral("T"),
              curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb), m_mag,
+             CursorFormat::Decibels},
+            {QStringLiteral("gain"),
+             curvePoints(a.frequenciesHz, a.curves.gainExact, CurvePart::MagnitudeDb), m_mag,
              CursorFormat::Decibels}};
 }
 

@@ -301,10 +301,24 @@ QStringList PlotPanel::overlaySeriesNames() const
     return names;
 }
 
+QStringList PlotPanel::legendLabels() const
+{
+    QStringList labels;
+    for (const QLegendMarker *m : chart()->legend()->markers()) {
+        if (m->isVisible())
+            labels << m->label();
+    }
+    return labels;
+}
+
 QColor PlotPanel::overlayColour(int index)
 {
-    static const QColor colours[] = {palette::kVermillion, palette::kGreen,  palette::kPurple,
-                                     palette::kSkyBlue,    palette::kOrange, palette::kBlue};
+    // Green first (no panel draws a curve in it), then colour-blind-safe tones that the
+    // panels' own curves do not use (wine, indigo, olive, teal and rose of Paul Tol's
+    // "muted" scheme, hex values from memory).
+    static const QColor colours[]
+        = {palette::kGreen,          QColor(0x88, 0x22, 0x55), QColor(0x33, 0x22, 0x88),
+           QColor(0x99, 0x99, 0x33), QColor(0x44, 0xAA, 0x99), QColor(0xCC, 0x66, 0x77)};
     return colours[std::size_t(index) % std::size(colours)];
 }
 
@@ -325,6 +339,7 @@ void PlotPanel::rebuildOverlays()
             if (!source.analysis || source.analysis->frequenciesHz.empty())
                 continue;
             const auto &f = source.analysis->frequenciesHz;
+            bool firstOfSource = true;
             for (OverlayLine &line : overlayLines(*source.analysis)) {
                 const QString name = source.name + QStringLiteral(": ") + line.quantity;
                 QLineSeries *s = used < m_overlaySeries.size() ? m_overlaySeries[used] : nullptr;
@@ -357,6 +372,14 @@ void PlotPanel::rebuildOverlays()
                     s->setPen(pen);
                 replaceThinned(s, line.points, std::log10(f.front()), std::log10(f.back()),
                                line.format);
+                // One legend entry per candidate, its name in its colour; the series keep
+                // their full names for the cursor text.
+                for (QLegendMarker *m : chart()->legend()->markers(s)) {
+                    m->setVisible(firstOfSource);
+                    if (firstOfSource && m->label() != source.name)
+                        m->setLabel(source.name);
+                }
+                firstOfSource = false;
                 ++used;
             }
         }

@@ -78,8 +78,12 @@ public:
     QAction *overlayAction() const { return m_overlayAction; }
     /// The candidates to overlay, in column order; drawn while the toggle is on.
     void setOverlaySources(std::vector<OverlaySource> sources);
-    /// Legend names of the overlay curves drawn now ("Fast: T").
+    /// Names of the overlay curves drawn now ("Fast: T"); the legend has one entry per
+    /// candidate, labelled with its name.
     QStringList overlaySeriesNames() const;
+    /// The visible legend labels, in legend order (as of the legend's last layout, which
+    /// runs from the event loop).
+    QStringList legendLabels() const;
     /// The colour and dash of candidate `index`'s overlays (the Candidates panel uses the
     /// same in its column headers).
     static QColor overlayColour(int index);

@@ -409,8 +409,15 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     const auto seriesBefore = loop->chart()->series().size();
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
     loop->overlayAction()->setChecked(true);
-    EXPECT_EQ(loop->overlaySeriesNames(), QStringList({"Fast: T", "High gain: T"}));
-    EXPECT_EQ(loop->chart()->series().size(), seriesBefore + 2);
+    EXPECT_EQ(loop->overlaySeriesNames(),
+              QStringList({"Fast: T", "Fast: gain", "High gain: T", "High gain: gain"}));
+    EXPECT_EQ(loop->chart()->series().size(), seriesBefore + 4);
+    // One legend entry per candidate, named after it, after the panel's own curves (once the
+    // legend's posted layout has run).
+    QApplication::processEvents();
+    EXPECT_EQ(loop->legendLabels(),
+              QStringList({LoopGainPanel::kA, LoopGainPanel::kT, LoopGainPanel::kTwoPort,
+                           LoopGainPanel::kExact, "Fast", "High gain"}));
 
     // The overlay holds every point of core's loop gain for that candidate.
     const Design design = doc()->design();
@@ -439,6 +446,8 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
 
     loop->overlayAction()->setChecked(false);
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
+    QApplication::processEvents();
+    EXPECT_EQ(loop->legendLabels().size(), 4);
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore);
     EXPECT_EQ(loop->series(QStringLiteral("Wide: T")), nullptr);
 
@@ -518,6 +527,16 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
     ASSERT_TRUE(panel()->grab().save(dirName + "/loopsketch-candidates-panel.png"));
     ASSERT_TRUE(
         window->loopGainPanel()->grab().save(dirName + "/loopsketch-candidates-overlay.png"));
+    auto *impedanceDock = window->findChild<QDockWidget *>(QStringLiteral("ImpedanceDock"));
+    ASSERT_NE(impedanceDock, nullptr);
+    impedanceDock->raise();
+    for (PlotPanel *p : window->panels()) {
+        if (p->objectName() == QStringLiteral("Impedance")) {
+            p->overlayAction()->setChecked(true);
+            QTest::qWait(200);
+            ASSERT_TRUE(p->grab().save(dirName + "/loopsketch-candidates-impedance.png"));
+        }
+    }
     // The whole table, undocked with room to spare.
     auto *dock = window->findChild<QDockWidget *>(QStringLiteral("CandidatesDock"));
     ASSERT_NE(dock, nullptr);
