@@ -1,6 +1,7 @@
 #include "mainwindow.h"
 
 #include "designdocument.h"
+#include "exportactions.h"
 #include "inspector.h"
 #include "panels.h"
 #include "partitem.h"
@@ -272,6 +273,8 @@ void MainWindow::createActions()
     saveAction->setShortcut(QKeySequence::Save);
     QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
     saveAsAction->setShortcut(QKeySequence::SaveAs);
+    addExportMenu(file, this, m_document,
+                  [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
