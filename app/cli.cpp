@@ -40,10 +40,10 @@ std::string usage()
            "                                           E-series values that best meet the "
            "specs\n"
 #ifdef LOOPSKETCH_HAVE_GUI
-           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR]\n"
+           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR] [--png DIR]\n"
            "                                           write the review sheet (PDF), the "
            "sweep\n"
-           "                                           (CSV) and one SVG per plot\n"
+           "                                           (CSV) and one SVG or PNG per plot\n"
 #endif
            "  loopsketch --help | --version\n"
            "\n"
@@ -63,6 +63,7 @@ struct Options
     std::string csvOut;
     std::string pdfOut;
     std::string svgDir;
+    std::string pngDir;
     bool letter = false;
     SpreadOptions spread;
     SuggestOptions suggest;
@@ -188,7 +189,8 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
     }
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
-        return runExport(design, *analysis, {o.file, o.pdfOut, o.csvOut, o.svgDir, o.letter}, err);
+        return runExport(design, *analysis,
+                         {o.file, o.pdfOut, o.csvOut, o.svgDir, o.pngDir, o.letter}, err);
 #endif
     return badInput(err, "unknown command \"" + o.command + "\"");
 }
@@ -276,14 +278,14 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             if (!v)
                 return badInput(err, "--candidate needs a candidate name");
             o.candidate = *v;
-        } else if ((a == "--pdf" || a == "--svg") && o.command == "export") {
+        } else if ((a == "--pdf" || a == "--svg" || a == "--png") && o.command == "export") {
             auto v = value(a.c_str());
             if (!v)
                 return badInput(err,
                                 a
                                     + (a == "--pdf" ? " needs an output file name"
                                                     : " needs an output directory"));
-            (a == "--pdf" ? o.pdfOut : o.svgDir) = *v;
+            (a == "--pdf" ? o.pdfOut : a == "--svg" ? o.svgDir : o.pngDir) = *v;
         } else if (a == "--letter" && o.command == "export") {
             o.letter = true;
         } else if (a == "--csv" && (o.command == "sweep" || o.command == "export")) {

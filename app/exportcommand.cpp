@@ -10,6 +10,7 @@
 
 #include <memory>
 #include <ostream>
+#include <utility>
 
 namespace loopsketch::app {
 
@@ -43,10 +44,14 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
             return kExitBadInput;
         }
     }
-    if (!request.svgDir.empty()
-        && !ui::writeSheetPlotsSvg(analysis, QString::fromStdString(request.svgDir), &error)) {
-        err << "loopsketch: " << error.toStdString() << "\n";
-        return kExitBadInput;
+    const std::pair<const std::string &, ui::PlotFormat> plotDirs[]
+        = {{request.svgDir, ui::PlotFormat::Svg}, {request.pngDir, ui::PlotFormat::Png}};
+    for (const auto &[dir, format] : plotDirs) {
+        if (!dir.empty()
+            && !ui::writeSheetPlots(analysis, QString::fromStdString(dir), format, &error)) {
+            err << "loopsketch: " << error.toStdString() << "\n";
+            return kExitBadInput;
+        }
     }
     return kExitOk;
 }

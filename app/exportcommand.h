@@ -1,6 +1,6 @@
 #pragma once
 
-// `loopsketch export`: the review sheet (PDF), the sweep (CSV) and the plots (SVG), without a
+// `loopsketch export`: the review sheet (PDF), the sweep (CSV) and the plots (SVG, PNG), without a
 // display. Built only with the GUI (LOOPSKETCH_HAVE_GUI).
 
 #include "loopsketch/analysis.h"
@@ -17,6 +17,7 @@ struct ExportRequest
     std::string pdfOut;
     std::string csvOut; ///< empty: no CSV
     std::string svgDir; ///< empty: no SVG
+    std::string pngDir; ///< empty: no PNG
     bool letter = false; ///< US Letter instead of A4
 };
 

@@ -46,8 +46,15 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
 /// The number of pages renderReviewSheet writes for this design and page size.
 int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize);
 
-/// Writes one SVG per plot into directory `dir` (created when missing), each through a
-/// QSaveFile. On failure returns false and sets `error`.
-bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error);
+/// File formats of the plot export.
+enum class PlotFormat { Svg, Png };
+
+/// ".svg" / ".png".
+QString plotFileSuffix(PlotFormat format);
+
+/// Writes one file per plot (vector SVG, or PNG at 150 dpi) into directory `dir` (created
+/// when missing), each through a QSaveFile. On failure returns false and sets `error`.
+bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
+                     QString *error);
 
 } // namespace loopsketch::ui
