@@ -474,14 +474,14 @@ bool DesignDocument::pinCandidate(const QString &name, QString *error)
     c.name = toStdString(name.trimmed());
     for (const Part &p : m_design.parts) {
         const std::string field(p.primaryField());
-        if (field.empty())
+        if (field.empty() || p.type == PartType::Load)
             continue;
         const auto it = p.fields.find(field);
         c.values[p.id] = it != p.fields.end() ? it->second : Value{p.number(field), {}};
     }
     if (c.values.empty()) {
         if (error)
-            *error = tr("No part has a value to pin (resistor, capacitor, inductor or load).");
+            *error = tr("There is no resistor, capacitor or inductor whose value could be pinned.");
         return false;
     }
     std::vector<Candidate> after = m_design.candidates;

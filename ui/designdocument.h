@@ -90,9 +90,10 @@ public:
     /// Why `name` cannot name a candidate (empty, already used); empty when it can.
     /// `ignore` is a name that may be reused (the one being renamed).
     QString candidateNameProblem(const QString &name, const QString &ignore = {}) const;
-    /// Stores the primary value of every part that has one (R, C, L, load r) under `name`
-    /// (trimmed). False with `error` set when the name is empty or taken, or no part has a
-    /// value.
+    /// Stores the value of every resistor, capacitor and inductor under `name` (trimmed).
+    /// The load is left out: it is the circuit's surroundings, not a design choice, so
+    /// making a candidate current later does not undo a change of the load. False with
+    /// `error` set when the name is empty or taken, or there is no such part.
     bool pinCandidate(const QString &name, QString *error);
     bool renameCandidate(const QString &from, const QString &to, QString *error);
     bool deleteCandidate(const QString &name);
