@@ -32,7 +32,7 @@ namespace {
 // whose applied design changed.
 constexpr int kTableSettleMs = 120;
 constexpr int kWorkerSettleMs = 150;
-constexpr std::size_t kCacheSize = 48;
+constexpr std::size_t kCacheSize = 24; ///< results; curves make each about 0.3 MB (estimated)
 const QString kNoValue = QStringLiteral("—");
 
 /// One cell: text, tooltip, and a score where higher is better (nullopt: not ranked).
