@@ -41,9 +41,14 @@ std::string usage()
            "specs\n"
 #ifdef LOOPSKETCH_HAVE_GUI
            "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR]\n"
+           "                    [--spread-trials N] [--spread-seed S]\n"
            "                                           write the review sheet (PDF), the "
            "sweep\n"
-           "                                           (CSV) and one SVG per plot\n"
+           "                                           (CSV) and one SVG per plot; the sheet's\n"
+           "                                           spread section runs N Monte Carlo "
+           "trials\n"
+           "                                           (default 2000, 0: none) with seed S "
+           "(default 1)\n"
 #endif
            "  loopsketch --help | --version\n"
            "\n"
@@ -64,6 +69,8 @@ struct Options
     std::string pdfOut;
     std::string svgDir;
     bool letter = false;
+    int spreadTrials = 2000; ///< export: Monte Carlo trials on the sheet, 0 = no spread section
+    std::uint64_t spreadSeed = 1;
     SpreadOptions spread;
     SuggestOptions suggest;
 };
@@ -188,7 +195,9 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
     }
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
-        return runExport(design, *analysis, {o.file, o.pdfOut, o.csvOut, o.svgDir, o.letter}, err);
+        return runExport(
+            design, *analysis,
+            {o.file, o.pdfOut, o.csvOut, o.svgDir, o.letter, o.spreadTrials, o.spreadSeed}, err);
 #endif
     return badInput(err, "unknown command \"" + o.command + "\"");
 }
@@ -286,6 +295,20 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             (a == "--pdf" ? o.pdfOut : o.svgDir) = *v;
         } else if (a == "--letter" && o.command == "export") {
             o.letter = true;
+        } else if (a == "--spread-trials" && o.command == "export") {
+            auto v = value("--spread-trials");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0 || *n > kMaxTrials)
+                return badInput(err,
+                                "--spread-trials needs a whole number from 0 (no spread) to "
+                                    + std::to_string(kMaxTrials));
+            o.spreadTrials = static_cast<int>(*n);
+        } else if (a == "--spread-seed" && o.command == "export") {
+            auto v = value("--spread-seed");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0)
+                return badInput(err, "--spread-seed needs a whole number >= 0");
+            o.spreadSeed = static_cast<std::uint64_t>(*n);
         } else if (a == "--csv" && (o.command == "sweep" || o.command == "export")) {
             auto v = value("--csv");
             if (!v)

@@ -6,6 +6,7 @@
 #include "loopsketch/analysis.h"
 #include "loopsketch/design.h"
 
+#include <cstdint>
 #include <iosfwd>
 #include <string>
 
@@ -18,6 +19,13 @@ struct ExportRequest
     std::string csvOut; ///< empty: no CSV
     std::string svgDir; ///< empty: no SVG
     bool letter = false; ///< US Letter instead of A4
+    /// Monte Carlo trials of the sheet's spread section, run when the design has toleranced
+    /// parts; 0 leaves the section out.
+    int spreadTrials = kDefaultSpreadTrials;
+    std::uint64_t spreadSeed = kDefaultSpreadSeed;
+
+    static constexpr int kDefaultSpreadTrials = 2000;
+    static constexpr std::uint64_t kDefaultSpreadSeed = 1;
 };
 
 /// Writes what `request` asks for; returns an exit code (0, or 2 with a message on `err`).

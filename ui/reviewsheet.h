@@ -5,6 +5,7 @@
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/design.h"
+#include "loopsketch/spread.h"
 
 #include <QRectF>
 #include <QString>
@@ -14,6 +15,13 @@ class QPainter;
 namespace loopsketch::ui {
 
 enum class SheetPageSize { A4, Letter };
+
+/// Spread results for the sheet: worst case and Monte Carlo of the sheet's design.
+struct SheetSpread
+{
+    WorstCaseResult worstCase;
+    MonteCarloResult monteCarlo;
+};
 
 /// The plots of the sheet, in sheet order.
 enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step };
@@ -38,13 +46,16 @@ QString revisionText(const Design &design);
 QString designContentHash(const Design &design);
 
 /// Writes the review sheet as PDF to `path` through a QSaveFile (no partial file on
-/// failure). `fileName` is shown in the title block. On failure returns false and sets
-/// `error` to a message naming the path. Needs a QApplication (the sketch is a scene).
+/// failure). `fileName` is shown in the title block. `spread`, when given, adds the spread
+/// section. On failure returns false and sets `error` to a message naming the path. Needs a
+/// QApplication (the sketch is a scene).
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
-                       SheetPageSize pageSize, const QString &fileName, QString *error);
+                       SheetPageSize pageSize, const QString &fileName, QString *error,
+                       const SheetSpread *spread = nullptr);
 
-/// The number of pages renderReviewSheet writes for this design and page size.
-int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize);
+/// The number of pages renderReviewSheet writes for this design, page size and spread.
+int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
+                         const SheetSpread *spread = nullptr);
 
 /// Writes one SVG per plot into directory `dir` (created when missing), each through a
 /// QSaveFile. On failure returns false and sets `error`.
