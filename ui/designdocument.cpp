@@ -149,6 +149,27 @@ bool DesignDocument::setToleranceText(const std::string &partId, const QString &
     return true;
 }
 
+void DesignDocument::applyValues(const std::vector<std::pair<std::string, double>> &values,
+                                 std::optional<ESeries> series, const QString &text)
+{
+    m_undoStack.beginMacro(text);
+    for (const auto &[id, v] : values) {
+        const Part *part = m_design.findPart(id);
+        if (!part || part->primaryField().empty() || !(v > 0) || !std::isfinite(v))
+            continue;
+        const std::string field(part->primaryField());
+        std::optional<Value> before;
+        if (const auto it = part->fields.find(field); it != part->fields.end())
+            before = it->second;
+        const Value after{v, formatEngineering(v, 3)};
+        if (before != after)
+            m_undoStack.push(new SetFieldCommand(this, id, field, before, after, false));
+        if (series && part->series != series)
+            m_undoStack.push(new SetSeriesCommand(this, id, part->series, series));
+    }
+    m_undoStack.endMacro();
+}
+
 void DesignDocument::moveParts(const std::map<std::string, std::pair<double, double>> &positions)
 {
     SketchLayout after = m_layout;

@@ -9,6 +9,8 @@
 #include "readout.h"
 #include "sketchscene.h"
 #include "sketchview.h"
+#include "spreadpanel.h"
+#include "suggestdialog.h"
 
 #include "loopsketch/designfile.h"
 
@@ -224,6 +226,12 @@ void MainWindow::createDocks()
         = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
     splitDockWidget(desDock, stepDock, Qt::Horizontal);
     splitDockWidget(stepDock, polesDock, Qt::Horizontal);
+
+    m_spread = new SpreadPanel(m_document, this);
+    auto *spreadDock
+        = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), m_spread, Qt::RightDockWidgetArea);
+    tabifyDockWidget(loopDock, spreadDock);
+    loopDock->raise();
 }
 
 void MainWindow::createActions()
@@ -260,6 +268,17 @@ void MainWindow::createActions()
 
     // Candidates, spread and value suggestions add their actions here.
     m_designMenu = menuBar()->addMenu(tr("&Design"));
+    m_designMenu->addAction(tr("&Spread over tolerances"), this, [this] {
+        auto *dock = findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
+        dock->show();
+        dock->raise();
+    });
+    m_designMenu->addAction(tr("Suggest &values…"), this, [this] {
+        SuggestDialog *dialog = suggestDialog();
+        dialog->show();
+        dialog->raise();
+        dialog->activateWindow();
+    });
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
@@ -273,6 +292,13 @@ void MainWindow::createActions()
 
     QMenu *help = menuBar()->addMenu(tr("&Help"));
     help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
+}
+
+SuggestDialog *MainWindow::suggestDialog()
+{
+    if (!m_suggest)
+        m_suggest = new SuggestDialog(m_document, this);
+    return m_suggest;
 }
 
 bool MainWindow::openText(const std::string &text, const QString &name, QString *error)
