@@ -7,6 +7,7 @@
 #include "partspalette.h"
 #include "qtadapter.h"
 #include "readout.h"
+#include "reviewsheet.h"
 #include "sketchscene.h"
 #include "sketchview.h"
 #include "spreadpanel.h"
@@ -254,6 +255,13 @@ void MainWindow::createActions()
     saveAction->setShortcut(QKeySequence::Save);
     QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
     saveAsAction->setShortcut(QKeySequence::SaveAs);
+    file->addAction(tr("&Export review sheet…"), this, [this] {
+        const QString path = QFileDialog::getSaveFileName(this, tr("Export review sheet"),
+                                                          QString(), tr("PDF (*.pdf)"));
+        QString error;
+        if (!path.isEmpty() && !exportReviewSheet(path, &error))
+            QMessageBox::warning(this, tr("Export review sheet"), error);
+    });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
@@ -336,6 +344,19 @@ bool MainWindow::saveTo(const QString &path, QString *error)
     addRecentFile(path);
     updateTitle();
     return true;
+}
+
+bool MainWindow::exportReviewSheet(const QString &path, QString *error)
+{
+    const Analysis *analysis = m_document->analysis();
+    if (!analysis || !m_document->lastDiagnostics().isEmpty()) {
+        if (error)
+            *error = tr("The design has problems to fix before a review sheet: %1")
+                         .arg(m_document->lastDiagnostics());
+        return false;
+    }
+    return renderReviewSheet(m_document->design(), *analysis, path, SheetPageSize::A4,
+                             m_displayName, error, m_spread->completedResult());
 }
 
 QString MainWindow::statusText() const

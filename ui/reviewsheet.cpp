@@ -907,7 +907,8 @@ QString spreadNumber(const OptionalNumber &v, int metric, const std::string &gai
     if (!v || !std::isfinite(*v))
         return QStringLiteral("—");
     if (metric == 2)
-        return QString::number(*v, 'f', 2) + QStringLiteral("°");
+        return QString::number(*v, *v != 0 && std::abs(*v) < 0.01 ? 'g' : 'f', 2)
+            + QStringLiteral("°");
     return eng(v, metric == 0 ? std::string_view(gainUnit) : std::string_view("Hz"));
 }
 
@@ -1077,25 +1078,27 @@ void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const She
     for (const SpreadQuantity &sq : mc.quantities)
         quantities << QStringLiteral("%1 %2 ±%3 %")
                           .arg(q(sq.part), q(sq.field),
-                               q(formatEngineering(sq.tolerance * 100, 3)));
+                               QString::number(sq.tolerance * 100, 'g', 3));
     const QFont f = sheetFont(kBodyPt);
-    w.paragraph(QStringLiteral("Toleranced quantities: %1. Worst case: %2. Monte Carlo: %3 trials "
-                               "(%4 completed), %5 distribution%6, seed %7.")
-                    .arg(quantities.join(QStringLiteral(", ")),
-                         wc.exhaustive
-                             ? QStringLiteral("all %1 corners of the tolerance box").arg(wc.corners)
-                             : QStringLiteral("%1 sensitivity corners, an approximation beyond %2 "
-                                              "quantities")
-                                   .arg(wc.corners)
-                                   .arg(kMaxVertexQuantities))
-                    .arg(mc.trials)
-                    .arg(mc.completed)
-                    .arg(q(toString(mc.distribution)),
-                         mc.distribution == SpreadDistribution::Normal
-                             ? QStringLiteral(" (tolerance = 3σ)")
-                             : QString())
-                    .arg(mc.seed),
-                f);
+    w.paragraph(
+        QStringLiteral("Toleranced quantities: %1. Worst case: %2. Monte Carlo: %3 trials "
+                       "(%4 completed), %5 distribution%6, seed %7.")
+            .arg(quantities.join(QStringLiteral(", ")),
+                 wc.exhaustive
+                     ? (wc.corners == 2
+                            ? QStringLiteral("both corners of the tolerance box")
+                            : QStringLiteral("all %1 corners of the tolerance box").arg(wc.corners))
+                     : QStringLiteral("%1 sensitivity corners, an approximation beyond %2 "
+                                      "quantities")
+                           .arg(wc.corners)
+                           .arg(kMaxVertexQuantities))
+            .arg(mc.trials)
+            .arg(mc.completed)
+            .arg(q(toString(mc.distribution)),
+                 mc.distribution == SpreadDistribution::Normal ? QStringLiteral(" (tolerance = 3σ)")
+                                                               : QString())
+            .arg(mc.seed),
+        f);
     w.advance(1.5);
     std::vector<SheetWriter::Row> rows;
     const MetricRange *ranges[] = {&wc.gain, &wc.bandwidthHz, &wc.phaseMarginDeg};

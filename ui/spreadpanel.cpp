@@ -93,8 +93,7 @@ OptionalNumber nominalOf(const TrialMetrics &t, SpreadPanel::Metric m)
 QString quantityText(const SpreadQuantity &q)
 {
     return QStringLiteral("%1 %2 ±%3 %")
-        .arg(toQString(q.part), toQString(q.field),
-             toQString(formatEngineering(q.tolerance * 100, 3)));
+        .arg(toQString(q.part), toQString(q.field), QString::number(q.tolerance * 100, 'g', 3));
 }
 
 QString metricName(SpreadPanel::Metric m)
@@ -156,7 +155,9 @@ QString SpreadPanel::formatMetric(Metric metric, double value, const std::string
     case Metric::PhaseMargin:
         break;
     }
-    return QString::number(value, 'f', 2) + QStringLiteral("°");
+    // two decimals; a spread below 0.01° keeps two significant digits instead of "0.00"
+    const bool tiny = value != 0 && std::abs(value) < 0.01;
+    return QString::number(value, tiny ? 'g' : 'f', 2) + QStringLiteral("°");
 }
 
 SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
@@ -584,8 +585,9 @@ void SpreadPanel::updatePreview()
     QString text
         = tr("Spread: %1. Worst case: %2; Monte Carlo: %3 trials.")
               .arg(spread.join(QStringLiteral(", ")),
-                   n <= std::size_t(kMaxVertexQuantities) ? tr("all %1 corners").arg(cornerCount(n))
-                                                          : tr("sensitivity corners"),
+                   n <= std::size_t(kMaxVertexQuantities)
+                       ? (n == 1 ? tr("both corners") : tr("all %1 corners").arg(cornerCount(n)))
+                       : tr("sensitivity corners"),
                    QLocale().toString(m_trials->value()));
     if (m_result && !m_resultCurrent)
         text = tr("The design changed since the results below were computed; press Run for "
@@ -673,7 +675,9 @@ void SpreadPanel::showResult()
     const MonteCarloResult &mc = m_result->monteCarlo;
     m_method->setText(
         wc.exhaustive
-            ? tr("Worst case: all %1 corners of the tolerance box evaluated.").arg(wc.corners)
+            ? (wc.corners == 2 ? tr("Worst case: both corners of the tolerance box evaluated.")
+                               : tr("Worst case: all %1 corners of the tolerance box evaluated.")
+                                     .arg(wc.corners))
             : tr("Worst case: %1 sensitivity corners, an approximation (more than %2 toleranced "
                  "quantities).")
                   .arg(wc.corners)

@@ -19,8 +19,10 @@
 #include <QElapsedTimer>
 #include <QLineSeries>
 #include <QLocale>
+#include <QProcess>
 #include <QSignalSpy>
 #include <QStandardPaths>
+#include <QTemporaryDir>
 #include <QTest>
 #include <QValueAxis>
 
@@ -36,6 +38,7 @@
 using namespace loopsketch;
 using namespace loopsketch::ui;
 using ::testing::HasSubstr;
+using ::testing::Not;
 using Metric = SpreadPanel::Metric;
 using Column = SpreadPanel::Column;
 
@@ -84,12 +87,23 @@ protected:
     std::unique_ptr<SpreadPanel> panel;
 };
 
+/// The text of a PDF by pdftotext (Debian's poppler-utils).
+std::string pdfText(const QString &pdf)
+{
+    QProcess p;
+    p.start(QStringLiteral("pdftotext"), {pdf, QStringLiteral("-")});
+    if (!p.waitForFinished(30000) || p.exitCode() != 0)
+        return {};
+    return QString::fromUtf8(p.readAllStandardOutput()).toStdString();
+}
+
 QString coreText(Metric m, double v, const std::string &unit)
 {
     // The panel's formats: engineering with 4 digits (value.h formatEngineering), degrees
-    // with two decimals.
+    // with two decimals (two significant digits below 0.01).
     if (m == Metric::PhaseMargin)
-        return QString::number(v, 'f', 2) + QStringLiteral("°");
+        return QString::number(v, v != 0 && std::abs(v) < 0.01 ? 'g' : 'f', 2)
+            + QStringLiteral("°");
     return QString::fromStdString(formatEngineering(v, 4, m == Metric::Gain ? unit : "Hz"));
 }
 
@@ -333,6 +347,19 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
                                    + "/loopsketch-spread-window.png"));
     EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
                                    + "/loopsketch-spread-panel.png"));
+
+    // The review sheet from the GUI carries this run; after an edit it no longer does.
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString withRun = tmp.filePath("with.pdf"), afterEdit = tmp.filePath("after.pdf");
+    ASSERT_TRUE(window.exportReviewSheet(withRun, &error)) << error.toStdString();
+    const std::string sheet = pdfText(withRun);
+    EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
+    EXPECT_THAT(sheet, HasSubstr("10000 trials (10000 completed), uniform distribution, seed 1"));
+    ASSERT_TRUE(window.document()->stepPart("CF", 1, false));
+    window.document()->recomputeNow();
+    ASSERT_TRUE(window.exportReviewSheet(afterEdit, &error)) << error.toStdString();
+    EXPECT_THAT(pdfText(afterEdit), Not(HasSubstr("Spread over tolerances")));
 }
 
 } // namespace
