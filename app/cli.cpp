@@ -40,15 +40,16 @@ std::string usage()
            "                                           E-series values that best meet the "
            "specs\n"
 #ifdef LOOPSKETCH_HAVE_GUI
-           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR]\n"
+           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR] [--png DIR]\n"
            "                    [--spread-trials N] [--spread-seed S]\n"
            "                                           write the review sheet (PDF), the "
            "sweep\n"
-           "                                           (CSV) and one SVG per plot; the sheet's\n"
-           "                                           spread section runs N Monte Carlo "
-           "trials\n"
-           "                                           (default 2000, 0: none) with seed S "
-           "(default 1)\n"
+           "                                           (CSV) and one SVG or PNG per plot; the\n"
+           "                                           sheet's spread section runs N Monte "
+           "Carlo\n"
+           "                                           trials (default 2000, 0: none) with "
+           "seed S\n"
+           "                                           (default 1)\n"
 #endif
            "  loopsketch --help | --version\n"
            "\n"
@@ -68,6 +69,7 @@ struct Options
     std::string csvOut;
     std::string pdfOut;
     std::string svgDir;
+    std::string pngDir;
     bool letter = false;
     int spreadTrials = 2000; ///< export: Monte Carlo trials on the sheet, 0 = no spread section
     std::uint64_t spreadSeed = 1;
@@ -195,9 +197,10 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
     }
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
-        return runExport(
-            design, *analysis,
-            {o.file, o.pdfOut, o.csvOut, o.svgDir, o.letter, o.spreadTrials, o.spreadSeed}, err);
+        return runExport(design, *analysis,
+                         {o.file, o.pdfOut, o.csvOut, o.svgDir, o.pngDir, o.letter, o.spreadTrials,
+                          o.spreadSeed},
+                         err);
 #endif
     return badInput(err, "unknown command \"" + o.command + "\"");
 }
@@ -285,14 +288,14 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             if (!v)
                 return badInput(err, "--candidate needs a candidate name");
             o.candidate = *v;
-        } else if ((a == "--pdf" || a == "--svg") && o.command == "export") {
+        } else if ((a == "--pdf" || a == "--svg" || a == "--png") && o.command == "export") {
             auto v = value(a.c_str());
             if (!v)
                 return badInput(err,
                                 a
                                     + (a == "--pdf" ? " needs an output file name"
                                                     : " needs an output directory"));
-            (a == "--pdf" ? o.pdfOut : o.svgDir) = *v;
+            (a == "--pdf" ? o.pdfOut : a == "--svg" ? o.svgDir : o.pngDir) = *v;
         } else if (a == "--letter" && o.command == "export") {
             o.letter = true;
         } else if (a == "--spread-trials" && o.command == "export") {

@@ -4,7 +4,6 @@
 #include "reviewsheet.h"
 
 #include "loopsketch/designfile.h"
-#include "loopsketch/spread.h"
 
 #include <QApplication>
 #include <QFileInfo>
@@ -12,6 +11,7 @@
 #include <memory>
 #include <optional>
 #include <ostream>
+#include <utility>
 
 namespace loopsketch::app {
 
@@ -28,24 +28,15 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         static char *argv[] = {name, nullptr};
         owned = std::make_unique<QApplication>(argc, argv);
     }
-    // The spread section: worst case and Monte Carlo over the parts' tolerances (uniform, no
-    // gain block spread), when the design has any.
+    // The spread section: worst case and Monte Carlo over the parts' tolerances, when the
+    // design has any.
     std::optional<ui::SheetSpread> spread;
-    if (request.spreadTrials > 0) {
-        SpreadOptions options;
-        options.trials = request.spreadTrials;
-        options.seed = request.spreadSeed;
-        if (spreadQuantities(design, options, request.file)) {
-            auto worst = worstCase(design, options, request.file);
-            auto mc = worst ? monteCarlo(design, options, request.file) : worst.diagnostics();
-            if (!worst || !mc) {
-                err << "loopsketch: " << (worst ? mc.errorText() : worst.errorText()) << "\n";
-                return kExitBadInput;
-            }
-            spread = ui::SheetSpread{*worst, *mc};
-        }
-    }
     QString error;
+    if (!ui::computeSheetSpread(design, request.spreadTrials, request.spreadSeed, request.file,
+                                &spread, &error)) {
+        err << "loopsketch: " << error.toStdString() << "\n";
+        return kExitBadInput;
+    }
     const QString shownName = request.file == "demo"
         ? QStringLiteral("demo")
         : QFileInfo(QString::fromStdString(request.file)).fileName();
@@ -62,10 +53,14 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
             return kExitBadInput;
         }
     }
-    if (!request.svgDir.empty()
-        && !ui::writeSheetPlotsSvg(analysis, QString::fromStdString(request.svgDir), &error)) {
-        err << "loopsketch: " << error.toStdString() << "\n";
-        return kExitBadInput;
+    const std::pair<const std::string &, ui::PlotFormat> plotDirs[]
+        = {{request.svgDir, ui::PlotFormat::Svg}, {request.pngDir, ui::PlotFormat::Png}};
+    for (const auto &[dir, format] : plotDirs) {
+        if (!dir.empty()
+            && !ui::writeSheetPlots(analysis, QString::fromStdString(dir), format, &error)) {
+            err << "loopsketch: " << error.toStdString() << "\n";
+            return kExitBadInput;
+        }
     }
     return kExitOk;
 }

@@ -1,6 +1,7 @@
 #include "mainwindow.h"
 
 #include "designdocument.h"
+#include "exportactions.h"
 #include "inspector.h"
 #include "panels.h"
 #include "partitem.h"
@@ -255,13 +256,10 @@ void MainWindow::createActions()
     saveAction->setShortcut(QKeySequence::Save);
     QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
     saveAsAction->setShortcut(QKeySequence::SaveAs);
-    file->addAction(tr("&Export review sheet…"), this, [this] {
-        const QString path = QFileDialog::getSaveFileName(this, tr("Export review sheet"),
-                                                          QString(), tr("PDF (*.pdf)"));
-        QString error;
-        if (!path.isEmpty() && !exportReviewSheet(path, &error))
-            QMessageBox::warning(this, tr("Export review sheet"), error);
-    });
+    addExportMenu(
+        file, this, m_document,
+        [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; },
+        [this] { return m_spread->completedResult(); });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
@@ -344,19 +342,6 @@ bool MainWindow::saveTo(const QString &path, QString *error)
     addRecentFile(path);
     updateTitle();
     return true;
-}
-
-bool MainWindow::exportReviewSheet(const QString &path, QString *error)
-{
-    const Analysis *analysis = m_document->analysis();
-    if (!analysis || !m_document->lastDiagnostics().isEmpty()) {
-        if (error)
-            *error = tr("The design has problems to fix before a review sheet: %1")
-                         .arg(m_document->lastDiagnostics());
-        return false;
-    }
-    return renderReviewSheet(m_document->design(), *analysis, path, SheetPageSize::A4,
-                             m_displayName, error, m_spread->completedResult());
 }
 
 QString MainWindow::statusText() const

@@ -43,9 +43,6 @@ public:
     /// Opens a design file; on failure `error` says why and the current design stays.
     bool openFile(const QString &path, QString *error = nullptr);
     bool saveTo(const QString &path, QString *error = nullptr);
-    /// Writes the review sheet (A4 PDF) of the current design and analysis, with the Spread
-    /// panel's last completed run when it is for the design as it is now.
-    bool exportReviewSheet(const QString &path, QString *error = nullptr);
 
     DesignDocument *document() const { return m_document; }
     SketchScene *sketchScene() const { return m_scene; }

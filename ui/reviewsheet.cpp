@@ -12,6 +12,7 @@
 #include <QDir>
 #include <QFileInfo>
 #include <QFontMetricsF>
+#include <QImage>
 #include <QPainter>
 #include <QPdfWriter>
 #include <QPolygonF>
@@ -1205,6 +1206,33 @@ QSizeF paintSizeMm(const QPdfWriter &pdf)
 
 } // namespace
 
+bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
+                        const std::string &file, std::optional<SheetSpread> *out, QString *error)
+{
+    out->reset();
+    if (trials <= 0)
+        return true;
+    SpreadOptions options;
+    options.trials = trials;
+    options.seed = seed;
+    if (!spreadQuantities(design, options, file))
+        return true;
+    auto worst = worstCase(design, options, file);
+    if (!worst) {
+        if (error)
+            *error = q(worst.errorText());
+        return false;
+    }
+    auto mc = monteCarlo(design, options, file);
+    if (!mc) {
+        if (error)
+            *error = q(mc.errorText());
+        return false;
+    }
+    *out = SheetSpread{std::move(worst).value(), std::move(mc).value()};
+    return true;
+}
+
 int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
                          const SheetSpread *spread)
 {
@@ -1249,18 +1277,29 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
     return true;
 }
 
-bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error)
+QString plotFileSuffix(PlotFormat format)
+{
+    return format == PlotFormat::Svg ? QStringLiteral(".svg") : QStringLiteral(".png");
+}
+
+bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
+                     QString *error)
 {
     if (!QDir().mkpath(dir)) {
         if (error)
             *error = QStringLiteral("%1: cannot create the directory").arg(dir);
         return false;
     }
-    constexpr int kResolution = 90;
-    const double k = kResolution / 25.4;
+    // SVG at 90 dpi keeps the drawing's nominal size in viewers; PNG at 150 dpi is sharp
+    // enough for slides and documents without being huge.
+    const int resolution = format == PlotFormat::Svg ? 90 : 150;
+    const double k = resolution / 25.4;
     const QSizeF sizeMm(170, 110);
+    const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
+                   static_cast<int>(std::lround(sizeMm.height() * k)));
+    const QRectF plotRect(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k);
     for (SheetPlot plot : kSheetPlots) {
-        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + QStringLiteral(".svg"));
+        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + plotFileSuffix(format));
         QSaveFile file(path);
         if (!file.open(QIODevice::WriteOnly)) {
             if (error)
@@ -1268,20 +1307,32 @@ bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *e
                     = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
             return false;
         }
-        {
+        if (format == PlotFormat::Svg) {
             QSvgGenerator svg;
             svg.setOutputDevice(&file);
-            svg.setResolution(kResolution);
-            const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
-                           static_cast<int>(std::lround(sizeMm.height() * k)));
+            svg.setResolution(resolution);
             svg.setSize(px);
             svg.setViewBox(QRect(QPoint(0, 0), px));
             svg.setTitle(q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
             QPainter painter(&svg);
             painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
-            drawSheetPlot(painter,
-                          QRectF(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k),
-                          k, plot, analysis);
+            drawSheetPlot(painter, plotRect, k, plot, analysis);
+        } else {
+            QImage image(px, QImage::Format_RGB32);
+            const int dotsPerMetre = static_cast<int>(std::lround(resolution / 0.0254));
+            image.setDotsPerMeterX(dotsPerMetre); // point-sized fonts scale with the image
+            image.setDotsPerMeterY(dotsPerMetre);
+            image.fill(Qt::white);
+            {
+                QPainter painter(&image);
+                painter.setRenderHint(QPainter::Antialiasing);
+                painter.setRenderHint(QPainter::TextAntialiasing);
+                drawSheetPlot(painter, plotRect, k, plot, analysis);
+            }
+            image.setText(QStringLiteral("Title"),
+                          q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
+            if (!image.save(&file, "PNG"))
+                file.cancelWriting();
         }
         if (!file.commit()) {
             if (error)

@@ -10,6 +10,10 @@
 #include <QRectF>
 #include <QString>
 
+#include <cstdint>
+#include <optional>
+#include <string>
+
 class QPainter;
 
 namespace loopsketch::ui {
@@ -22,6 +26,17 @@ struct SheetSpread
     WorstCaseResult worstCase;
     MonteCarloResult monteCarlo;
 };
+
+/// The spread a sheet carries when no run is given: Monte Carlo trials and seed (uniform over
+/// each part's tolerance, no gain block spread), the defaults of `loopsketch export`.
+inline constexpr int kSheetSpreadTrials = 2000;
+inline constexpr std::uint64_t kSheetSpreadSeed = 1;
+
+/// Worst case and Monte Carlo of `design` for the sheet with `trials` and `seed`. Sets `out`
+/// to nullopt when the design has nothing to spread (no tolerances) or `trials` is 0. On a
+/// failure of core returns false with its diagnostics in `error`.
+bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
+                        const std::string &file, std::optional<SheetSpread> *out, QString *error);
 
 /// The plots of the sheet, in sheet order.
 enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step };
@@ -57,8 +72,15 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
 int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
                          const SheetSpread *spread = nullptr);
 
-/// Writes one SVG per plot into directory `dir` (created when missing), each through a
-/// QSaveFile. On failure returns false and sets `error`.
-bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error);
+/// File formats of the plot export.
+enum class PlotFormat { Svg, Png };
+
+/// ".svg" / ".png".
+QString plotFileSuffix(PlotFormat format);
+
+/// Writes one file per plot (vector SVG, or PNG at 150 dpi) into directory `dir` (created
+/// when missing), each through a QSaveFile. On failure returns false and sets `error`.
+bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
+                     QString *error);
 
 } // namespace loopsketch::ui

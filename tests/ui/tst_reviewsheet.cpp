@@ -2,6 +2,8 @@
 // its extracted text against `analyze --json`, the CSV against the sweep, and the errors.
 // pdfinfo and pdftotext are Debian's poppler-utils (packaging/build-deps.txt).
 
+#include "clirun.h"
+
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/value.h"
@@ -9,9 +11,9 @@
 #include <QDir>
 #include <QFile>
 #include <QFileInfo>
+#include <QImage>
 #include <QJsonDocument>
 #include <QJsonObject>
-#include <QProcess>
 #include <QRegularExpression>
 #include <QStringList>
 #include <QTemporaryDir>
@@ -24,28 +26,6 @@
 using testing::HasSubstr;
 
 namespace {
-
-struct CliRun
-{
-    int exitCode = -1;
-    QString out, err;
-};
-
-CliRun run(const QString &program, const QStringList &args)
-{
-    QProcess p;
-    QProcessEnvironment env = QProcessEnvironment::systemEnvironment();
-    env.remove(QStringLiteral("DISPLAY"));
-    env.remove(QStringLiteral("WAYLAND_DISPLAY"));
-    env.remove(QStringLiteral("QT_QPA_PLATFORM")); // export must choose offscreen itself
-    p.setProcessEnvironment(env);
-    p.start(program, args);
-    if (!p.waitForFinished(60000))
-        return {};
-    return {p.exitStatus() == QProcess::NormalExit ? p.exitCode() : -1,
-            QString::fromUtf8(p.readAllStandardOutput()),
-            QString::fromUtf8(p.readAllStandardError())};
-}
 
 CliRun loopsketch(const QStringList &args)
 {
@@ -272,6 +252,28 @@ TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(n).toStdString()));
     EXPECT_THAT(text.out.toStdString(),
                 testing::Not(HasSubstr(QStringLiteral("page %1 of").arg(n + 1).toStdString())));
+}
+
+TEST(ReviewSheetPlots, PngFilesAreWholeImages)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+        const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
+        ASSERT_FALSE(image.isNull()) << stem;
+        // 170 mm x 110 mm at 150 dpi (reviewsheet.cpp), 25.4 mm per inch
+        EXPECT_EQ(image.width(), 1004) << stem;
+        EXPECT_EQ(image.height(), 650) << stem;
+        // Drawn, not blank: the curves and text leave many non-white pixels.
+        int inked = 0;
+        for (int y = 0; y < image.height(); y += 4)
+            for (int x = 0; x < image.width(); x += 4)
+                inked += image.pixel(x, y) != qRgb(255, 255, 255);
+        EXPECT_GT(inked, 500) << stem;
+    }
 }
 
 TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)

@@ -3,6 +3,7 @@
 // destruction during a run must stop the worker without a crash.
 
 #include "designdocument.h"
+#include "exportactions.h"
 #include "mainwindow.h"
 #include "spreadpanel.h"
 
@@ -348,18 +349,29 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
     EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
                                    + "/loopsketch-spread-panel.png"));
 
-    // The review sheet from the GUI carries this run; after an edit it no longer does.
+    // The review sheet exported from the GUI (File > Export) carries this run; after an edit
+    // the run is out of date and the sheet carries the command line's default run instead.
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString withRun = tmp.filePath("with.pdf"), afterEdit = tmp.filePath("after.pdf");
-    ASSERT_TRUE(window.exportReviewSheet(withRun, &error)) << error.toStdString();
+    ASSERT_TRUE(exportReviewSheet(*window.document(), withRun, SheetPageSize::A4,
+                                  QStringLiteral("demo.loopsketch"), &error,
+                                  panel->completedResult()))
+        << error.toStdString();
     const std::string sheet = pdfText(withRun);
     EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
     EXPECT_THAT(sheet, HasSubstr("10000 trials (10000 completed), uniform distribution, seed 1"));
     ASSERT_TRUE(window.document()->stepPart("CF", 1, false));
     window.document()->recomputeNow();
-    ASSERT_TRUE(window.exportReviewSheet(afterEdit, &error)) << error.toStdString();
-    EXPECT_THAT(pdfText(afterEdit), Not(HasSubstr("Spread over tolerances")));
+    ASSERT_EQ(panel->completedResult(), nullptr);
+    ASSERT_TRUE(exportReviewSheet(*window.document(), afterEdit, SheetPageSize::A4,
+                                  QStringLiteral("demo.loopsketch"), &error,
+                                  panel->completedResult()))
+        << error.toStdString();
+    EXPECT_THAT(
+        pdfText(afterEdit),
+        HasSubstr(
+            QStringLiteral("%1 trials (%1 completed)").arg(kSheetSpreadTrials).toStdString()));
 }
 
 } // namespace
