@@ -737,7 +737,9 @@ void SpreadPanel::showHistogram(Metric metric)
             plotLo = std::min(plotLo, v);
             plotHi = std::max(plotHi, v);
         } else {
-            offPlot << formatMetric(metric, v, unit);
+            offPlot << (metric == Metric::Gain ? QString() : QStringLiteral("≥ "))
+                    + formatMetric(metric, v, unit)
+                    + (v < lo ? tr(", left of the plot") : tr(", right of the plot"));
         }
     }
     const double nominal = [&] {
@@ -815,14 +817,13 @@ void SpreadPanel::showHistogram(Metric metric)
                 + tr("spec ≥ %1").arg(formatMetric(metric, specs.front(), unit));
         if (!offPlot.isEmpty())
             tip += QStringLiteral(" ")
-                + tr("(%1 off the plot)").arg(offPlot.join(QStringLiteral(", ")));
+                + QStringLiteral("(%1)").arg(offPlot.join(QStringLiteral("; ")));
     }
     h.view->setToolTip(tip);
     // A blank title otherwise keeps the three plot areas level.
-    h.view->chart()->setTitle(
-        offPlot.isEmpty()
-            ? QStringLiteral(" ")
-            : tr("spec %1 lies off the plot").arg(offPlot.join(QStringLiteral(", "))));
+    h.view->chart()->setTitle(offPlot.isEmpty()
+                                  ? QStringLiteral(" ")
+                                  : tr("spec %1").arg(offPlot.join(QStringLiteral("; "))));
 }
 
 } // namespace loopsketch::ui
