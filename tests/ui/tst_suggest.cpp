@@ -164,6 +164,17 @@ TEST_F(SuggestDialogTest, ASeriesOtherThanThePartsIsAppliedWithTheValues)
     EXPECT_EQ(document.design().findPart("R1")->series, ESeries::E12);
 }
 
+TEST_F(SuggestDialogTest, ApplyingTheCurrentValuesIsNoUndoStep)
+{
+    const int commands = document.undoStack()->count();
+    document.applyValues({{"R2", value("R2")}, {"R1", value("R1")}}, std::nullopt,
+                         QStringLiteral("no change"));
+    EXPECT_EQ(document.undoStack()->count(), commands);
+    document.applyValues({{"R2", 22e3}}, std::nullopt, QStringLiteral("one change"));
+    EXPECT_EQ(document.undoStack()->count(), commands + 1);
+    EXPECT_NEAR(value("R2"), 22e3, 1e-9);
+}
+
 TEST_F(SuggestDialogTest, CancelStopsTheSearch)
 {
     dialog->setPartChecked("R2", true);
