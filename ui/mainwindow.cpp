@@ -56,10 +56,34 @@ bool MainWindow::offerRecovery()
 {
     const QString path = recoveryFile();
     QFile file(path);
-    if (path.isEmpty() || !file.exists() || !file.open(QIODevice::ReadOnly))
+    if (path.isEmpty() || !file.exists())
         return false;
-    const QByteArray text = file.readAll();
+    QString problem;
+    QByteArray text;
+    if (file.open(QIODevice::ReadOnly))
+        text = file.readAll();
+    else
+        problem = tr("%1: %2").arg(path, file.errorString());
     file.close();
+    if (problem.isEmpty()) {
+        if (auto parsed = parseDesign(text.toStdString(), toStdString(path)); !parsed)
+            problem = toQString(parsed.errorText());
+    }
+    if (!problem.isEmpty()) {
+        // Kept under another name: the normal close and the next autosave would otherwise
+        // remove or overwrite the only copy of that work.
+        const QString kept = QFileInfo(path).absolutePath() + QStringLiteral("/recovery-")
+            + QDateTime::currentDateTime().toString(QStringLiteral("yyyyMMdd-hhmmss"))
+            + QStringLiteral(".unreadable.loopsketch");
+        const bool moved = QFile::rename(path, kept);
+        QMessageBox::warning(
+            this, tr("Restore unsaved work"),
+            tr("The unsaved work from the last session cannot be restored:\n%1\n\n%2")
+                .arg(problem,
+                     moved ? tr("The file was kept as %1.").arg(kept)
+                           : tr("It could not be moved aside and stays at %1.").arg(path)));
+        return false;
+    }
     const auto answer = QMessageBox::question(
         this, tr("Restore unsaved work"),
         tr("Loopsketch did not close normally last time. Restore the design that was being "
@@ -161,7 +185,9 @@ MainWindow::MainWindow(QWidget *parent)
     });
 
     auto *recovery = new QTimer(this);
-    recovery->setInterval(30000);
+    // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
+    const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
+    recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);
     connect(recovery, &QTimer::timeout, this, &MainWindow::writeRecovery);
     recovery->start();
 
