@@ -41,9 +41,15 @@ std::string usage()
            "specs\n"
 #ifdef LOOPSKETCH_HAVE_GUI
            "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR] [--png DIR]\n"
+           "                    [--spread-trials N] [--spread-seed S]\n"
            "                                           write the review sheet (PDF), the "
            "sweep\n"
-           "                                           (CSV) and one SVG or PNG per plot\n"
+           "                                           (CSV) and one SVG or PNG per plot; the\n"
+           "                                           sheet's spread section runs N Monte "
+           "Carlo\n"
+           "                                           trials (default 2000, 0: none) with "
+           "seed S\n"
+           "                                           (default 1)\n"
 #endif
            "  loopsketch --help | --version\n"
            "\n"
@@ -65,6 +71,8 @@ struct Options
     std::string svgDir;
     std::string pngDir;
     bool letter = false;
+    int spreadTrials = 2000; ///< export: Monte Carlo trials on the sheet, 0 = no spread section
+    std::uint64_t spreadSeed = 1;
     SpreadOptions spread;
     SuggestOptions suggest;
 };
@@ -190,7 +198,9 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
         return runExport(design, *analysis,
-                         {o.file, o.pdfOut, o.csvOut, o.svgDir, o.pngDir, o.letter}, err);
+                         {o.file, o.pdfOut, o.csvOut, o.svgDir, o.pngDir, o.letter, o.spreadTrials,
+                          o.spreadSeed},
+                         err);
 #endif
     return badInput(err, "unknown command \"" + o.command + "\"");
 }
@@ -288,6 +298,20 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             (a == "--pdf" ? o.pdfOut : a == "--svg" ? o.svgDir : o.pngDir) = *v;
         } else if (a == "--letter" && o.command == "export") {
             o.letter = true;
+        } else if (a == "--spread-trials" && o.command == "export") {
+            auto v = value("--spread-trials");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0 || *n > kMaxTrials)
+                return badInput(err,
+                                "--spread-trials needs a whole number from 0 (no spread) to "
+                                    + std::to_string(kMaxTrials));
+            o.spreadTrials = static_cast<int>(*n);
+        } else if (a == "--spread-seed" && o.command == "export") {
+            auto v = value("--spread-seed");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0)
+                return badInput(err, "--spread-seed needs a whole number >= 0");
+            o.spreadSeed = static_cast<std::uint64_t>(*n);
         } else if (a == "--csv" && (o.command == "sweep" || o.command == "export")) {
             auto v = value("--csv");
             if (!v)

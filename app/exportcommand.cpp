@@ -9,6 +9,7 @@
 #include <QFileInfo>
 
 #include <memory>
+#include <optional>
 #include <ostream>
 #include <utility>
 
@@ -27,13 +28,21 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         static char *argv[] = {name, nullptr};
         owned = std::make_unique<QApplication>(argc, argv);
     }
+    // The spread section: worst case and Monte Carlo over the parts' tolerances, when the
+    // design has any.
+    std::optional<ui::SheetSpread> spread;
     QString error;
+    if (!ui::computeSheetSpread(design, request.spreadTrials, request.spreadSeed, request.file,
+                                &spread, &error)) {
+        err << "loopsketch: " << error.toStdString() << "\n";
+        return kExitBadInput;
+    }
     const QString shownName = request.file == "demo"
         ? QStringLiteral("demo")
         : QFileInfo(QString::fromStdString(request.file)).fileName();
     if (!ui::renderReviewSheet(design, analysis, QString::fromStdString(request.pdfOut),
                                request.letter ? ui::SheetPageSize::Letter : ui::SheetPageSize::A4,
-                               shownName, &error)) {
+                               shownName, &error, spread ? &*spread : nullptr)) {
         err << "loopsketch: " << error.toStdString() << "\n";
         return kExitBadInput;
     }

@@ -6,6 +6,7 @@
 #include "loopsketch/analysis.h"
 #include "loopsketch/design.h"
 
+#include <cstdint>
 #include <iosfwd>
 #include <string>
 
@@ -19,6 +20,10 @@ struct ExportRequest
     std::string svgDir; ///< empty: no SVG
     std::string pngDir; ///< empty: no PNG
     bool letter = false; ///< US Letter instead of A4
+    /// Monte Carlo trials of the sheet's spread section, run when the design has toleranced
+    /// parts; 0 leaves the section out.
+    int spreadTrials = 2000; ///< ui::kSheetSpreadTrials
+    std::uint64_t spreadSeed = 1; ///< ui::kSheetSpreadSeed
 };
 
 /// Writes what `request` asks for; returns an exit code (0, or 2 with a message on `err`).

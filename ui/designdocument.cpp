@@ -149,6 +149,44 @@ bool DesignDocument::setToleranceText(const std::string &partId, const QString &
     return true;
 }
 
+void DesignDocument::applyValues(const std::vector<std::pair<std::string, double>> &values,
+                                 std::optional<ESeries> series, const QString &text)
+{
+    struct Change
+    {
+        std::string id, field;
+        std::optional<Value> before;
+        std::optional<Value> after; ///< nullopt: the value stays
+        std::optional<ESeries> seriesBefore;
+        bool series = false;
+    };
+    std::vector<Change> changes;
+    for (const auto &[id, v] : values) {
+        const Part *part = m_design.findPart(id);
+        if (!part || part->primaryField().empty() || !(v > 0) || !std::isfinite(v))
+            continue;
+        Change c{id, std::string(part->primaryField()), {}, {}, part->series, false};
+        if (const auto it = part->fields.find(c.field); it != part->fields.end())
+            c.before = it->second;
+        const Value after{v, formatEngineering(v, 3)};
+        if (c.before != after)
+            c.after = after;
+        c.series = series && part->series != series;
+        if (c.after || c.series)
+            changes.push_back(std::move(c));
+    }
+    if (changes.empty())
+        return;
+    m_undoStack.beginMacro(text);
+    for (const Change &c : changes) {
+        if (c.after)
+            m_undoStack.push(new SetFieldCommand(this, c.id, c.field, c.before, c.after, false));
+        if (c.series)
+            m_undoStack.push(new SetSeriesCommand(this, c.id, c.seriesBefore, series));
+    }
+    m_undoStack.endMacro();
+}
+
 void DesignDocument::moveParts(const std::map<std::string, std::pair<double, double>> &positions)
 {
     SketchLayout after = m_layout;

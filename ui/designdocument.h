@@ -65,6 +65,10 @@ public:
     /// Applies preset `index` of gainBlockPresets() as one undo step.
     void applyGainBlockPreset(const std::string &partId, int index);
     bool setToleranceText(const std::string &partId, const QString &text, QString *error);
+    /// Sets the primary values (SI) of several parts, and their series when `series` is
+    /// given, as one undo step named `text` (a suggestion applied).
+    void applyValues(const std::vector<std::pair<std::string, double>> &values,
+                     std::optional<ESeries> series, const QString &text);
     /// Moves parts to new sketch positions (scene units), one undo step for all of them.
     void moveParts(const std::map<std::string, std::pair<double, double>> &positions);
     /// Turns a part's symbol by 90 degrees clockwise.

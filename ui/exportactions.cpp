@@ -35,11 +35,20 @@ void reportFailure(QWidget *parent, const QString &what, const QString &error)
 } // namespace
 
 bool exportReviewSheet(const DesignDocument &document, const QString &path, SheetPageSize pageSize,
-                       const QString &shownName, QString *error)
+                       const QString &shownName, QString *error, const SheetSpread *spread)
 {
     const auto analysis = analyseForExport(document, error);
-    return analysis
-        && renderReviewSheet(document.design(), *analysis, path, pageSize, shownName, error);
+    if (!analysis)
+        return false;
+    std::optional<SheetSpread> defaultSpread;
+    if (!spread) {
+        if (!computeSheetSpread(document.design(), kSheetSpreadTrials, kSheetSpreadSeed,
+                                toStdString(document.filePath()), &defaultSpread, error))
+            return false;
+        spread = defaultSpread ? &*defaultSpread : nullptr;
+    }
+    return renderReviewSheet(document.design(), *analysis, path, pageSize, shownName, error,
+                             spread);
 }
 
 bool exportSweepCsv(const DesignDocument &document, const QString &path, QString *error)
@@ -64,7 +73,7 @@ bool exportPlots(const DesignDocument &document, const QString &dir, PlotFormat 
 }
 
 void addExportMenu(QMenu *menu, QWidget *parent, const DesignDocument *document,
-                   std::function<QString()> shownName)
+                   std::function<QString()> shownName, std::function<const SheetSpread *()> spread)
 {
     QMenu *exportMenu = menu->addMenu(QObject::tr("E&xport"));
     exportMenu->addAction(QObject::tr("Review sheet (PDF)…"), parent, [=] {
@@ -80,7 +89,7 @@ void addExportMenu(QMenu *menu, QWidget *parent, const DesignDocument *document,
         QString error;
         if (!exportReviewSheet(*document, path,
                                filter == letter ? SheetPageSize::Letter : SheetPageSize::A4,
-                               shownName(), &error))
+                               shownName(), &error, spread ? spread() : nullptr))
             reportFailure(parent, QObject::tr("review sheet"), error);
     });
     exportMenu->addAction(QObject::tr("Sweep (CSV)…"), parent, [=] {

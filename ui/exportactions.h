@@ -19,9 +19,12 @@ namespace loopsketch::ui {
 class DesignDocument;
 
 /// Writes the review sheet of the document's design to `path`. `shownName` goes into the
-/// title block. On failure returns false, sets `error` and leaves no file behind.
+/// title block. `spread` is the spread section's run (the Spread panel's); without one the
+/// command line's default run is made. On failure returns false, sets `error` and leaves no
+/// file behind.
 bool exportReviewSheet(const DesignDocument &document, const QString &path, SheetPageSize pageSize,
-                       const QString &shownName, QString *error);
+                       const QString &shownName, QString *error,
+                       const SheetSpread *spread = nullptr);
 
 /// Writes the sweep CSV (the columns of `loopsketch sweep`) to `path`, atomically.
 bool exportSweepCsv(const DesignDocument &document, const QString &path, QString *error);
@@ -31,8 +34,10 @@ bool exportPlots(const DesignDocument &document, const QString &dir, PlotFormat 
                  QString *error);
 
 /// Adds an "Export" submenu to `menu`. Each action asks for a path, runs the export and
-/// reports a failure in a message box. `shownName` gives the design's display name.
+/// reports a failure in a message box. `shownName` gives the design's display name, `spread`
+/// the run for the sheet's spread section (nullptr: the default run).
 void addExportMenu(QMenu *menu, QWidget *parent, const DesignDocument *document,
-                   std::function<QString()> shownName);
+                   std::function<QString()> shownName,
+                   std::function<const SheetSpread *()> spread = {});
 
 } // namespace loopsketch::ui

@@ -9,8 +9,11 @@
 #include "partspalette.h"
 #include "qtadapter.h"
 #include "readout.h"
+#include "reviewsheet.h"
 #include "sketchscene.h"
 #include "sketchview.h"
+#include "spreadpanel.h"
+#include "suggestdialog.h"
 
 #include "loopsketch/designfile.h"
 
@@ -253,6 +256,12 @@ void MainWindow::createDocks()
     splitDockWidget(desDock, stepDock, Qt::Horizontal);
     splitDockWidget(stepDock, polesDock, Qt::Horizontal);
 
+    m_spread = new SpreadPanel(m_document, this);
+    auto *spreadDock
+        = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), m_spread, Qt::RightDockWidgetArea);
+    tabifyDockWidget(loopDock, spreadDock);
+    loopDock->raise();
+
     // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
     m_candidates = new CandidatesPanel(m_document, this);
     m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"), m_candidates,
@@ -297,8 +306,10 @@ void MainWindow::createActions()
     saveAction->setShortcut(QKeySequence::Save);
     QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
     saveAsAction->setShortcut(QKeySequence::SaveAs);
-    addExportMenu(file, this, m_document,
-                  [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; });
+    addExportMenu(
+        file, this, m_document,
+        [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; },
+        [this] { return m_spread->completedResult(); });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
@@ -334,6 +345,18 @@ void MainWindow::createActions()
             overlayAll->setChecked(all);
         });
     }
+    m_designMenu->addSeparator();
+    m_designMenu->addAction(tr("&Spread over tolerances"), this, [this] {
+        auto *dock = findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
+        dock->show();
+        dock->raise();
+    });
+    m_designMenu->addAction(tr("Suggest &values…"), this, [this] {
+        SuggestDialog *dialog = suggestDialog();
+        dialog->show();
+        dialog->raise();
+        dialog->activateWindow();
+    });
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
@@ -347,6 +370,13 @@ void MainWindow::createActions()
 
     QMenu *help = menuBar()->addMenu(tr("&Help"));
     help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
+}
+
+SuggestDialog *MainWindow::suggestDialog()
+{
+    if (!m_suggest)
+        m_suggest = new SuggestDialog(m_document, this);
+    return m_suggest;
 }
 
 bool MainWindow::openText(const std::string &text, const QString &name, QString *error)

@@ -28,6 +28,8 @@ class Readout;
 class SketchScene;
 class SketchView;
 class LoopGainPanel;
+class SpreadPanel;
+class SuggestDialog;
 
 class MainWindow : public QMainWindow
 {
@@ -53,6 +55,9 @@ public:
     CandidatesPanel *candidatesPanel() const { return m_candidates; }
     /// Brings the Candidates dock forward with room for its table (after a pin).
     void showCandidates();
+    SpreadPanel *spreadPanel() const { return m_spread; }
+    /// The Suggest values dialog, created on first use.
+    SuggestDialog *suggestDialog();
     QString statusText() const;
     /// The Design menu (candidates, spread, suggestions).
     QMenu *designMenu() const { return m_designMenu; }
@@ -97,6 +102,8 @@ private:
     LoopGainPanel *m_loopGain = nullptr;
     CandidatesPanel *m_candidates = nullptr;
     QDockWidget *m_candidatesDock = nullptr;
+    SpreadPanel *m_spread = nullptr;
+    SuggestDialog *m_suggest = nullptr;
     std::vector<PlotPanel *> m_panels;
     std::vector<QDockWidget *> m_docks;
     QLabel *m_timing;

@@ -46,7 +46,9 @@ QString sheetNumber(double v, std::string_view unit)
 struct SheetCase
 {
     const char *design;
-    int pages; // the layout: first page title to metrics, plots on 2 and 3, cautions last
+    // the layout: first page title to metrics; candidates, spread and the loop gain plot on 2;
+    // the other plots on 3 and 4, cautions last
+    int pages;
 };
 
 class ReviewSheetExport : public testing::TestWithParam<SheetCase>
@@ -133,14 +135,103 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
-                         testing::Values(SheetCase{"demo", 3}, SheetCase{"contact-mic-preamp", 3},
-                                         SheetCase{"excitation-current-driver", 3},
-                                         SheetCase{"gas-cell-current-amplifier", 3}),
+                         testing::Values(SheetCase{"demo", 4}, SheetCase{"contact-mic-preamp", 4},
+                                         SheetCase{"excitation-current-driver", 4},
+                                         SheetCase{"gas-cell-current-amplifier", 4}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');
                              return name;
                          });
+
+int pageCount(const QString &pdf)
+{
+    const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
+    const auto m = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
+    return m.hasMatch() ? m.captured(1).toInt() : -1;
+}
+
+TEST(ReviewSheetSpread, StatesTrialsSeedAndTheNumbersOfSpreadJson)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--spread-trials",
+                                 "700", "--spread-seed", "42"});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0);
+    const std::string sheet = text.out.toStdString();
+    EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
+    EXPECT_THAT(sheet, HasSubstr("700 trials (700 completed), uniform distribution, seed 42"));
+    EXPECT_THAT(sheet, HasSubstr("all 4 corners")); // RF and CF toleranced: 2^2 vertices
+
+    // The same run by the spread command (same defaults: uniform, no gain block spread).
+    const CliRun json
+        = loopsketch({"spread", designPath("demo"), "--trials", "700", "--seed", "42", "--json"});
+    ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
+    const QJsonObject j = QJsonDocument::fromJson(json.out.toUtf8()).object();
+    const std::string unit = j["gain_unit"].toString().toStdString();
+    const QJsonObject mc = j["monte_carlo"].toObject();
+    const QJsonObject gain = mc["gain"].toObject();
+    ASSERT_TRUE(gain["mean"].isDouble());
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain["mean"].toDouble(), unit).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain["std"].toDouble(), unit).toStdString()));
+    const QJsonObject wcGain = j["worst_case"].toObject()["gain"].toObject();
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(wcGain["min"].toDouble(), unit).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(wcGain["max"].toDouble(), unit).toStdString()));
+    const QJsonObject bw = mc["bandwidth_hz"].toObject();
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(bw["mean"].toDouble(), "Hz").toStdString()));
+    ASSERT_TRUE(mc["yield"].isDouble());
+    EXPECT_THAT(sheet,
+                HasSubstr(QStringLiteral("Yield against the specs: %1 % (%2 of 700")
+                              .arg(mc["yield"].toDouble() * 100.0, 0, 'f', 2)
+                              .arg(mc["passed"].toInt())
+                              .toStdString()));
+}
+
+TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString withSpread = tmp.filePath("with.pdf"), without = tmp.filePath("without.pdf");
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", withSpread}).exitCode, 0);
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
+                  .exitCode,
+              0);
+    EXPECT_EQ(pageCount(withSpread), 4);
+    EXPECT_EQ(pageCount(without), 3);
+    const CliRun text = run(QStringLiteral("pdftotext"), {without, "-"});
+    EXPECT_THAT(text.out.toStdString(), testing::Not(HasSubstr("Spread over tolerances")));
+
+    // The demo with every tolerance removed: nothing to spread, so no section and no error.
+    QFile in(designPath("demo"));
+    ASSERT_TRUE(in.open(QIODevice::ReadOnly));
+    QByteArray design = in.readAll();
+    design.replace(", \"tolerance\": \"1%\"", "").replace(", \"tolerance\": \"10%\"", "");
+    ASSERT_FALSE(design.contains("tolerance"));
+    const QString plain = tmp.filePath("plain.loopsketch");
+    QFile out(plain);
+    ASSERT_TRUE(out.open(QIODevice::WriteOnly));
+    out.write(design);
+    out.close();
+    const QString plainPdf = tmp.filePath("plain.pdf");
+    const CliRun r = loopsketch({"export", plain, "--pdf", plainPdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    EXPECT_EQ(pageCount(plainPdf), 3);
+    EXPECT_THAT(run(QStringLiteral("pdftotext"), {plainPdf, "-"}).out.toStdString(),
+                testing::Not(HasSubstr("Spread over tolerances")));
+}
+
+TEST(ReviewSheetSpread, BadSpreadTrialsIsBadInput)
+{
+    for (const char *n : {"-1", "x", "1000001"}) {
+        const CliRun r = loopsketch(
+            {"export", designPath("demo"), "--pdf", "/tmp/unused.pdf", "--spread-trials", n});
+        EXPECT_EQ(r.exitCode, 2) << n;
+        EXPECT_THAT(r.err.toStdString(), HasSubstr("--spread-trials")) << n;
+    }
+}
 
 TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
 {
