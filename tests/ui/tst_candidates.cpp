@@ -316,6 +316,34 @@ TEST_F(CandidatesTest, TableShowsCoreAnalysisOfEachCandidate)
               engineering(fastAfter.exact.zOut, "Ω"));
 }
 
+TEST_F(CandidatesTest, ABurstOfEditsLeavesTheTableUntilItSettles)
+{
+    window->showCandidates();
+    QApplication::processEvents();
+    ASSERT_TRUE(panel()->isVisible());
+    const QTableWidgetItem *cell = panel()->table()->item(
+        int(panel()->rowNames().indexOf(CandidatesPanel::kBandwidthRow)), 0);
+    ASSERT_NE(cell, nullptr);
+    const QString drawn = cell->text();
+    const QString before
+        = panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn);
+    // Three E12 steps of CF as a wheel burst would send them, each recomputed at once: the
+    // visible table is not touched while they come.
+    for (int i = 0; i < 3; ++i) {
+        ASSERT_TRUE(doc()->stepPart("CF", 1, false));
+        doc()->recomputeNow();
+        QApplication::processEvents();
+    }
+    EXPECT_FALSE(panel()->isUpToDate());
+    EXPECT_EQ(cell->text(), drawn);
+    settle();
+    const Analysis now = coreAnalysis(doc()->design());
+    EXPECT_EQ(panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn),
+              engineering(now.bandwidthHz, "Hz"));
+    EXPECT_NE(panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn),
+              before);
+}
+
 TEST_F(CandidatesTest, BestMarksTheRightCell)
 {
     const Design design = doc()->design();
