@@ -6,6 +6,7 @@
 #endif
 
 #include "loopsketch/analysis.h"
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/exactsolution.h"
 #include "loopsketch/spread.h"
@@ -132,23 +133,6 @@ int reportDiagnostics(std::ostream &err, const Diagnostics &d)
     for (const auto &x : d)
         err << "loopsketch: " << x.toString() << "\n";
     return kExitBadInput;
-}
-
-Result<Design> applyCandidate(Design design, const std::string &name, const std::string &file)
-{
-    for (const auto &c : design.candidates) {
-        if (c.name != name)
-            continue;
-        for (const auto &[id, value] : c.values) {
-            Part *p = design.findPart(id);
-            if (!p || p->primaryField().empty())
-                return Diagnostic{file, id, "candidates",
-                                  "candidate \"" + name + "\" changes a part that has no value"};
-            p->fields[std::string(p->primaryField())] = value;
-        }
-        return design;
-    }
-    return Diagnostic{file, {}, "candidates", "no candidate named \"" + name + "\""};
 }
 
 int run(const Options &o, std::ostream &out, std::ostream &err)

@@ -4,6 +4,7 @@
 #include "qtadapter.h"
 #include "sketchlayout.h"
 
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/eseries.h"
 #include "loopsketch/value.h"
@@ -454,32 +455,14 @@ bool DesignDocument::groundPin(const std::string &partId, const std::string &ter
 
 Design designWithCandidate(const Design &design, const Candidate &candidate, QString *problem)
 {
-    Design d = design;
-    for (const auto &[id, value] : candidate.values) {
-        Part *p = d.findPart(id);
-        if (!p || p->primaryField().empty()) {
-            if (problem)
-                *problem = QObject::tr("candidate \"%1\" changes part %2, which has no value")
-                               .arg(toQString(candidate.name), toQString(id));
-            continue;
-        }
-        p->fields[std::string(p->primaryField())] = value;
+    auto applied = applyCandidate(design, candidate);
+    if (!applied) {
+        if (problem)
+            *problem = toQString(applied.errorText());
+        return design;
     }
-    return d;
+    return std::move(applied).value();
 }
-
-namespace {
-
-const Candidate *findCandidate(const Design &d, const std::string &name)
-{
-    for (const Candidate &c : d.candidates) {
-        if (c.name == name)
-            return &c;
-    }
-    return nullptr;
-}
-
-} // namespace
 
 QString DesignDocument::nextCandidateName() const
 {
