@@ -13,6 +13,7 @@
 #include <QDir>
 #include <QFileInfo>
 #include <QFontMetricsF>
+#include <QImage>
 #include <QPainter>
 #include <QPdfWriter>
 #include <QPolygonF>
@@ -1073,12 +1074,267 @@ void candidatesSection(SheetWriter &w, const Design &d)
     w.table({{QStringLiteral("Candidate"), 50}, {QStringLiteral("Changed values"), 130}}, rows);
 }
 
+QString spreadNumber(const OptionalNumber &v, int metric, const std::string &gainUnit)
+{
+    if (!v || !std::isfinite(*v))
+        return QStringLiteral("—");
+    if (metric == 2)
+        return QString::number(*v, *v != 0 && std::abs(*v) < 0.01 ? 'g' : 'f', 2)
+            + QStringLiteral("°");
+    return eng(v, metric == 0 ? std::string_view(gainUnit) : std::string_view("Hz"));
+}
+
+/// The gain histogram of a Monte Carlo run, with the spec window and the nominal gain.
+void drawGainHistogram(QPainter &p, const QRectF &rect, double k, const MetricStats &s,
+                       const Specs &specs, const OptionalNumber &nominal, const std::string &unit)
+{
+    p.save();
+    const QFont tick = sheetFont(6.5), titleFont = sheetFont(8.5, true);
+    const QFontMetricsF fm(tick, p.device()), tfm(titleFont, p.device());
+    double lo = s.histogramLow, hi = s.histogramHigh;
+    if (!(hi > lo)) {
+        const double pad = std::max(std::abs(lo) * 1e-3, 1e-12);
+        lo -= pad;
+        hi += pad;
+    }
+    const double span = hi - lo;
+    std::vector<double> limits;
+    for (const auto &v : {specs.gainMin, specs.gainMax})
+        if (v && v->si >= lo - 3 * span && v->si <= hi + 3 * span)
+            limits.push_back(v->si);
+    double plotLo = lo, plotHi = hi;
+    for (double v : limits) {
+        plotLo = std::min(plotLo, v);
+        plotHi = std::max(plotHi, v);
+    }
+    const double pad = (plotHi - plotLo) * 0.04;
+    plotLo -= pad;
+    plotHi += pad;
+    // tick labels with one prefix for the whole axis (e.g. MV/A)
+    const double mag = std::max(std::abs(plotLo), std::abs(plotHi));
+    static const std::pair<double, const char *> prefixes[]
+        = {{1e12, "T"}, {1e9, "G"},  {1e6, "M"},  {1e3, "k"},  {1, ""},
+           {1e-3, "m"}, {1e-6, "µ"}, {1e-9, "n"}, {1e-12, "p"}};
+    double factor = 1;
+    QString prefix;
+    for (const auto &[f, name] : prefixes) {
+        if (mag >= f) {
+            factor = 1 / f;
+            prefix = QString::fromUtf8(name);
+            break;
+        }
+    }
+    const double rawStep = (plotHi - plotLo) * factor / 6;
+    const double decade = std::pow(10.0, std::floor(std::log10(rawStep)));
+    double step = decade;
+    for (double m : {1.0, 2.0, 2.5, 5.0, 10.0}) {
+        step = m * decade;
+        if (step >= rawStep)
+            break;
+    }
+    const double xLo = std::floor(plotLo * factor / step) * step;
+    const double xHi = std::ceil(plotHi * factor / step) * step;
+    std::size_t top = 1;
+    for (std::size_t c : s.histogram)
+        top = std::max(top, c);
+    const double yStep = niceStep(
+        double(top) * 1.1, 4, {1,   2,    5,    10,   20,   25,    50,    100,   200,   250,
+                               500, 1000, 2000, 2500, 5000, 10000, 20000, 25000, 50000, 100000});
+    const double yHi = std::ceil(double(top) * 1.1 / yStep) * yStep;
+
+    const QRectF area(rect.left() + 17 * k, rect.top() + tfm.height() + 3 * k,
+                      rect.width() - 19 * k, rect.height() - tfm.height() - 12 * k);
+    const auto X = [&](double v) {
+        return area.left() + (v * factor - xLo) / (xHi - xLo) * area.width();
+    };
+    const auto Y = [&](double c) {
+        return area.bottom() - c / yHi * area.height();
+    };
+    p.setFont(tick);
+    const int decimals = std::max(0, -static_cast<int>(std::floor(std::log10(step) + 1e-9)));
+    for (double v = xLo; v <= xHi + step * 1e-6; v += step) {
+        const double x = area.left() + (v - xLo) / (xHi - xLo) * area.width();
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+        const QString label = QString::number(std::abs(v) < step * 1e-6 ? 0.0 : v, 'f', decimals);
+        p.setPen(kInk);
+        p.drawText(
+            QPointF(x - fm.horizontalAdvance(label) / 2, area.bottom() + 1.2 * k + fm.ascent()),
+            label);
+    }
+    double maxLabel = 0;
+    for (double c = 0; c <= yHi + yStep * 1e-6; c += yStep) {
+        const double y = Y(c);
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(area.left(), y), QPointF(area.right(), y));
+        const QString label = QString::number(c, 'f', 0);
+        maxLabel = std::max(maxLabel, fm.horizontalAdvance(label));
+        p.setPen(kInk);
+        p.drawText(QPointF(area.left() - 1.2 * k - fm.horizontalAdvance(label),
+                           y + fm.ascent() / 2 - fm.descent() / 2),
+                   label);
+    }
+    const QString xTitle = QStringLiteral("closed-loop gain (%1%2)").arg(prefix, q(unit));
+    p.drawText(QPointF(area.right() - fm.horizontalAdvance(xTitle),
+                       area.bottom() + 1.2 * k + fm.ascent() + fm.height()),
+               xTitle);
+    p.save();
+    p.translate(area.left() - 2.4 * k - maxLabel - fm.descent(), area.center().y());
+    p.rotate(-90);
+    const QString yTitle = QStringLiteral("trials");
+    p.drawText(QPointF(-fm.horizontalAdvance(yTitle) / 2, 0), yTitle);
+    p.restore();
+
+    p.save();
+    p.setClipRect(area);
+    QPolygonF outline;
+    const std::size_t bins = s.histogram.size();
+    const double width = bins ? (s.histogramHigh - s.histogramLow) / double(bins) : 0;
+    const double base = width > 0 ? s.histogramLow : lo;
+    const double binWidth = width > 0 ? width : (hi - lo) / double(std::max<std::size_t>(bins, 1));
+    outline << QPointF(X(base), Y(0));
+    for (std::size_t b = 0; b < bins; ++b) {
+        const double c = double(s.histogram[b]);
+        outline << QPointF(X(base + double(b) * binWidth), Y(c))
+                << QPointF(X(base + double(b + 1) * binWidth), Y(c));
+    }
+    outline << QPointF(X(base + double(bins) * binWidth), Y(0));
+    p.setPen(QPen(kBlue, 0.3 * k));
+    p.setBrush(QColor(kBlue.red(), kBlue.green(), kBlue.blue(), 60));
+    p.drawPolygon(outline);
+    p.setBrush(Qt::NoBrush);
+    p.setPen(QPen(kFail, 0.35 * k, Qt::DashLine));
+    for (double v : limits)
+        p.drawLine(QPointF(X(v), area.top()), QPointF(X(v), area.bottom()));
+    if (nominal && std::isfinite(*nominal)) {
+        p.setPen(QPen(kInk, 0.3 * k, Qt::DotLine));
+        p.drawLine(QPointF(X(*nominal), area.top()), QPointF(X(*nominal), area.bottom()));
+    }
+    p.restore();
+    p.setPen(QPen(kRule, 0.25 * k));
+    p.drawRect(area);
+
+    p.setFont(titleFont);
+    p.setPen(kInk);
+    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()),
+               QStringLiteral("Monte Carlo: closed-loop gain"));
+    // legend beside the title
+    p.setFont(tick);
+    double x = rect.left() + tfm.horizontalAdvance(QStringLiteral("Monte Carlo: closed-loop gain"))
+        + 6 * k;
+    const double y = rect.top() + tfm.ascent() - fm.ascent() / 2 + fm.descent() / 2;
+    const auto legend = [&](const QPen &pen, const QString &text) {
+        p.setPen(pen);
+        p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+        x += 7 * k;
+        p.setPen(kInk);
+        p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), text);
+        x += fm.horizontalAdvance(text) + 4 * k;
+    };
+    legend(QPen(kBlue, 0.5 * k), QStringLiteral("trials per bin"));
+    if (!limits.empty())
+        legend(QPen(kFail, 0.35 * k, Qt::DashLine), QStringLiteral("spec window"));
+    legend(QPen(kInk, 0.3 * k, Qt::DotLine), QStringLiteral("nominal"));
+    p.restore();
+}
+
+void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const SheetSpread *spread)
+{
+    if (!spread)
+        return;
+    const WorstCaseResult &wc = spread->worstCase;
+    const MonteCarloResult &mc = spread->monteCarlo;
+    const std::string gu = a.gainUnit;
+    w.heading(QStringLiteral("Spread over tolerances"));
+    QStringList quantities;
+    for (const SpreadQuantity &sq : mc.quantities)
+        quantities << QStringLiteral("%1 %2 ±%3 %")
+                          .arg(q(sq.part), q(sq.field),
+                               QString::number(sq.tolerance * 100, 'g', 3));
+    const QFont f = sheetFont(kBodyPt);
+    w.paragraph(
+        QStringLiteral("Toleranced quantities: %1. Worst case: %2. Monte Carlo: %3 trials "
+                       "(%4 completed), %5 distribution%6, seed %7.")
+            .arg(quantities.join(QStringLiteral(", ")),
+                 wc.exhaustive
+                     ? (wc.corners == 2
+                            ? QStringLiteral("both corners of the tolerance box")
+                            : QStringLiteral("all %1 corners of the tolerance box").arg(wc.corners))
+                     : QStringLiteral("%1 sensitivity corners, an approximation beyond %2 "
+                                      "quantities")
+                           .arg(wc.corners)
+                           .arg(kMaxVertexQuantities))
+            .arg(mc.trials)
+            .arg(mc.completed)
+            .arg(q(toString(mc.distribution)),
+                 mc.distribution == SpreadDistribution::Normal ? QStringLiteral(" (tolerance = 3σ)")
+                                                               : QString())
+            .arg(mc.seed),
+        f);
+    w.advance(1.5);
+    std::vector<SheetWriter::Row> rows;
+    const MetricRange *ranges[] = {&wc.gain, &wc.bandwidthHz, &wc.phaseMarginDeg};
+    const MetricStats *stats[] = {&mc.gain, &mc.bandwidthHz, &mc.phaseMarginDeg};
+    const OptionalNumber nominal[]
+        = {mc.nominal.gain, mc.nominal.bandwidthHz, mc.nominal.phaseMarginDeg};
+    const QString names[] = {QStringLiteral("DC gain"), QStringLiteral("bandwidth (−3 dB)"),
+                             QStringLiteral("phase margin")};
+    for (int m = 0; m < 3; ++m) {
+        const MetricStats &s = *stats[m];
+        const auto stat = [&](double v) {
+            return s.count ? spreadNumber(v, m, gu) : QStringLiteral("—");
+        };
+        rows.push_back({{names[m], spreadNumber(nominal[m], m, gu),
+                         spreadNumber(ranges[m]->min, m, gu), spreadNumber(ranges[m]->max, m, gu),
+                         stat(s.min), stat(s.mean), stat(s.max), stat(s.std)}});
+    }
+    const double cw = (w.width() - 33) / 7;
+    w.table({{QStringLiteral("Metric"), 33},
+             {QStringLiteral("Nominal"), cw, Qt::AlignRight},
+             {QStringLiteral("Worst min"), cw, Qt::AlignRight},
+             {QStringLiteral("Worst max"), cw, Qt::AlignRight},
+             {QStringLiteral("MC min"), cw, Qt::AlignRight},
+             {QStringLiteral("MC mean"), cw, Qt::AlignRight},
+             {QStringLiteral("MC max"), cw, Qt::AlignRight},
+             {QStringLiteral("Std dev"), cw, Qt::AlignRight}},
+            rows);
+    QString yield = mc.hasSpecs
+        ? QStringLiteral("Yield against the specs: %1 % (%2 of %3 trials meet every spec).")
+              .arg(mc.yield * 100.0, 0, 'f', 2)
+              .arg(mc.passed)
+              .arg(mc.completed)
+        : QStringLiteral("Yield: the design has no specs.");
+    if (mc.failed)
+        yield += QStringLiteral(" %1 trials had no circuit solution.").arg(mc.failed);
+    if (mc.bandwidthHz.missing)
+        yield += QStringLiteral(" %1 trials have no −3 dB point inside the sweep.")
+                     .arg(mc.bandwidthHz.missing);
+    w.paragraph(yield, sheetFont(kBodyPt, true));
+    w.paragraph(QStringLiteral("Worst min/max: extremes over the corners; MC: Monte Carlo "
+                               "statistics (std dev with n − 1)."),
+                sheetFont(7.5), 0, QColor(90, 90, 90));
+    if (mc.gain.count == 0 || mc.gain.histogram.empty())
+        return;
+    const double h = 58;
+    w.advance(2);
+    w.ensure(h);
+    if (QPainter *p = w.painter())
+        drawGainHistogram(*p, w.toDevice(QRectF(0, w.y(), w.width(), h)), w.k(), mc.gain, d.specs,
+                          mc.nominal.gain, gu);
+    w.advance(h + 2);
+}
+
 void plotsSection(SheetWriter &w, const Analysis &a)
 {
+    const auto height = [](SheetPlot plot) {
+        return plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? 120.0 : 95.0;
+    };
+    // The heading goes with the first plot (never alone at the foot of a page).
+    w.ensure(20 + height(kSheetPlots[0]));
     w.heading(QStringLiteral("Plots"));
     const double gap = 5;
     for (SheetPlot plot : kSheetPlots) {
-        const double ph = plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? 120 : 95;
+        const double ph = height(plot);
         w.ensure(ph);
         if (QPainter *p = w.painter())
             drawSheetPlot(*p, w.toDevice(QRectF(0, w.y(), w.width(), ph)), w.k(), plot, a);
@@ -1093,7 +1349,8 @@ void cautionsSection(SheetWriter &w)
 }
 
 int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm, double k,
-               int totalPages, const Design &d, const Analysis &a, const QString &fileName)
+               int totalPages, const Design &d, const Analysis &a, const QString &fileName,
+               const SheetSpread *spread)
 {
     SheetWriter w(p, device, pdf, pageMm, k, totalPages);
     titleBlock(w, d, fileName);
@@ -1104,6 +1361,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     metricsSection(w, d, a);
     noiseSection(w, a);
     candidatesSection(w, d);
+    spreadSection(w, d, a, spread);
     plotsSection(w, a);
     cautionsSection(w);
     w.finish();
@@ -1125,18 +1383,47 @@ QSizeF paintSizeMm(const QPdfWriter &pdf)
 
 } // namespace
 
-int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize)
+bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
+                        const std::string &file, std::optional<SheetSpread> *out, QString *error)
+{
+    out->reset();
+    if (trials <= 0)
+        return true;
+    SpreadOptions options;
+    options.trials = trials;
+    options.seed = seed;
+    if (!spreadQuantities(design, options, file))
+        return true;
+    auto worst = worstCase(design, options, file);
+    if (!worst) {
+        if (error)
+            *error = q(worst.errorText());
+        return false;
+    }
+    auto mc = monteCarlo(design, options, file);
+    if (!mc) {
+        if (error)
+            *error = q(mc.errorText());
+        return false;
+    }
+    *out = SheetSpread{std::move(worst).value(), std::move(mc).value()};
+    return true;
+}
+
+int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
+                         const SheetSpread *spread)
 {
     QPdfWriter pdf(QString{});
     setUpWriter(pdf, pageSize, {});
     return paintSheet(nullptr, &pdf, nullptr, paintSizeMm(pdf), pdf.resolution() / 25.4, 0, design,
-                      analysis, {});
+                      analysis, {}, spread);
 }
 
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
-                       SheetPageSize pageSize, const QString &fileName, QString *error)
+                       SheetPageSize pageSize, const QString &fileName, QString *error,
+                       const SheetSpread *spread)
 {
-    const int pages = reviewSheetPageCount(design, analysis, pageSize);
+    const int pages = reviewSheetPageCount(design, analysis, pageSize, spread);
     QSaveFile file(path);
     if (!file.open(QIODevice::WriteOnly)) {
         if (error)
@@ -1155,7 +1442,7 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
             return false;
         }
         paintSheet(&painter, &pdf, &pdf, paintSizeMm(pdf), pdf.resolution() / 25.4, pages, design,
-                   analysis, fileName);
+                   analysis, fileName, spread);
         painter.end();
     }
     if (!file.commit()) {
@@ -1167,18 +1454,29 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
     return true;
 }
 
-bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error)
+QString plotFileSuffix(PlotFormat format)
+{
+    return format == PlotFormat::Svg ? QStringLiteral(".svg") : QStringLiteral(".png");
+}
+
+bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
+                     QString *error)
 {
     if (!QDir().mkpath(dir)) {
         if (error)
             *error = QStringLiteral("%1: cannot create the directory").arg(dir);
         return false;
     }
-    constexpr int kResolution = 90;
-    const double k = kResolution / 25.4;
+    // SVG at 90 dpi keeps the drawing's nominal size in viewers; PNG at 150 dpi is sharp
+    // enough for slides and documents without being huge.
+    const int resolution = format == PlotFormat::Svg ? 90 : 150;
+    const double k = resolution / 25.4;
     const QSizeF sizeMm(170, 110);
+    const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
+                   static_cast<int>(std::lround(sizeMm.height() * k)));
+    const QRectF plotRect(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k);
     for (SheetPlot plot : kSheetPlots) {
-        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + QStringLiteral(".svg"));
+        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + plotFileSuffix(format));
         QSaveFile file(path);
         if (!file.open(QIODevice::WriteOnly)) {
             if (error)
@@ -1186,20 +1484,32 @@ bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *e
                     = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
             return false;
         }
-        {
+        if (format == PlotFormat::Svg) {
             QSvgGenerator svg;
             svg.setOutputDevice(&file);
-            svg.setResolution(kResolution);
-            const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
-                           static_cast<int>(std::lround(sizeMm.height() * k)));
+            svg.setResolution(resolution);
             svg.setSize(px);
             svg.setViewBox(QRect(QPoint(0, 0), px));
             svg.setTitle(q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
             QPainter painter(&svg);
             painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
-            drawSheetPlot(painter,
-                          QRectF(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k),
-                          k, plot, analysis);
+            drawSheetPlot(painter, plotRect, k, plot, analysis);
+        } else {
+            QImage image(px, QImage::Format_RGB32);
+            const int dotsPerMetre = static_cast<int>(std::lround(resolution / 0.0254));
+            image.setDotsPerMeterX(dotsPerMetre); // point-sized fonts scale with the image
+            image.setDotsPerMeterY(dotsPerMetre);
+            image.fill(Qt::white);
+            {
+                QPainter painter(&image);
+                painter.setRenderHint(QPainter::Antialiasing);
+                painter.setRenderHint(QPainter::TextAntialiasing);
+                drawSheetPlot(painter, plotRect, k, plot, analysis);
+            }
+            image.setText(QStringLiteral("Title"),
+                          q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
+            if (!image.save(&file, "PNG"))
+                file.cancelWriting();
         }
         if (!file.commit()) {
             if (error)

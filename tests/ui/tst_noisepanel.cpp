@@ -254,6 +254,7 @@ TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
 
 TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
 {
+    QTest::qWait(200); // the dock layout settles (tab bars take their room)
     LoopGainPanel *loop = window->loopGainPanel();
     QChart *chart = loop->chart();
     const QPointF at = chart->plotArea().center();
@@ -261,7 +262,9 @@ TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
     QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
                      Qt::NoButton, Qt::NoButton, Qt::NoModifier);
     QApplication::sendEvent(loop->viewport(), &move);
-    const double log10Hz = chart->mapToValue(at, loop->series(LoopGainPanel::kT)).x();
+    // The frequency of the pixel the event carries (the plot's centre rounded to it).
+    const QPointF hit = chart->mapFromScene(loop->mapToScene(pos));
+    const double log10Hz = chart->mapToValue(hit, loop->series(LoopGainPanel::kT)).x();
     const QString fText
         = QStringLiteral("f = ") + toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz"));
     EXPECT_EQ(panel->cursorText(), fText);

@@ -2,6 +2,8 @@
 // its extracted text against `analyze --json`, the CSV against the sweep, and the errors.
 // pdfinfo and pdftotext are Debian's poppler-utils (packaging/build-deps.txt).
 
+#include "clirun.h"
+
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/value.h"
@@ -9,10 +11,10 @@
 #include <QDir>
 #include <QFile>
 #include <QFileInfo>
+#include <QImage>
 #include <QJsonArray>
 #include <QJsonDocument>
 #include <QJsonObject>
-#include <QProcess>
 #include <QRegularExpression>
 #include <QStringList>
 #include <QTemporaryDir>
@@ -25,28 +27,6 @@
 using testing::HasSubstr;
 
 namespace {
-
-struct CliRun
-{
-    int exitCode = -1;
-    QString out, err;
-};
-
-CliRun run(const QString &program, const QStringList &args)
-{
-    QProcess p;
-    QProcessEnvironment env = QProcessEnvironment::systemEnvironment();
-    env.remove(QStringLiteral("DISPLAY"));
-    env.remove(QStringLiteral("WAYLAND_DISPLAY"));
-    env.remove(QStringLiteral("QT_QPA_PLATFORM")); // export must choose offscreen itself
-    p.setProcessEnvironment(env);
-    p.start(program, args);
-    if (!p.waitForFinished(60000))
-        return {};
-    return {p.exitStatus() == QProcess::NormalExit ? p.exitCode() : -1,
-            QString::fromUtf8(p.readAllStandardOutput()),
-            QString::fromUtf8(p.readAllStandardError())};
-}
 
 CliRun loopsketch(const QStringList &args)
 {
@@ -67,8 +47,9 @@ QString sheetNumber(double v, std::string_view unit)
 struct SheetCase
 {
     const char *design;
-    int pages; // the layout: first page title to metrics, noise and plots on 2 to 4,
-               // cautions last
+    // the layout: first page title to metrics; noise, candidates, spread and plots on the
+    // following pages, cautions last
+    int pages;
 };
 
 class ReviewSheetExport : public testing::TestWithParam<SheetCase>
@@ -192,9 +173,9 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
-                         testing::Values(SheetCase{"demo", 4}, SheetCase{"contact-mic-preamp", 4},
-                                         SheetCase{"excitation-current-driver", 4},
-                                         SheetCase{"gas-cell-current-amplifier", 4}),
+                         testing::Values(SheetCase{"demo", 5}, SheetCase{"contact-mic-preamp", 5},
+                                         SheetCase{"excitation-current-driver", 5},
+                                         SheetCase{"gas-cell-current-amplifier", 5}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');
@@ -236,6 +217,95 @@ TEST(AnalyzeText, NoiseTotalsBandAndLargestSources)
     EXPECT_THAT(out, testing::Not(HasSubstr("nan")));
 }
 
+int pageCount(const QString &pdf)
+{
+    const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
+    const auto m = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
+    return m.hasMatch() ? m.captured(1).toInt() : -1;
+}
+
+TEST(ReviewSheetSpread, StatesTrialsSeedAndTheNumbersOfSpreadJson)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--spread-trials",
+                                 "700", "--spread-seed", "42"});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0);
+    const std::string sheet = text.out.toStdString();
+    EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
+    EXPECT_THAT(sheet, HasSubstr("700 trials (700 completed), uniform distribution, seed 42"));
+    EXPECT_THAT(sheet, HasSubstr("all 4 corners")); // RF and CF toleranced: 2^2 vertices
+
+    // The same run by the spread command (same defaults: uniform, no gain block spread).
+    const CliRun json
+        = loopsketch({"spread", designPath("demo"), "--trials", "700", "--seed", "42", "--json"});
+    ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
+    const QJsonObject j = QJsonDocument::fromJson(json.out.toUtf8()).object();
+    const std::string unit = j["gain_unit"].toString().toStdString();
+    const QJsonObject mc = j["monte_carlo"].toObject();
+    const QJsonObject gain = mc["gain"].toObject();
+    ASSERT_TRUE(gain["mean"].isDouble());
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain["mean"].toDouble(), unit).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain["std"].toDouble(), unit).toStdString()));
+    const QJsonObject wcGain = j["worst_case"].toObject()["gain"].toObject();
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(wcGain["min"].toDouble(), unit).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(wcGain["max"].toDouble(), unit).toStdString()));
+    const QJsonObject bw = mc["bandwidth_hz"].toObject();
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(bw["mean"].toDouble(), "Hz").toStdString()));
+    ASSERT_TRUE(mc["yield"].isDouble());
+    EXPECT_THAT(sheet,
+                HasSubstr(QStringLiteral("Yield against the specs: %1 % (%2 of 700")
+                              .arg(mc["yield"].toDouble() * 100.0, 0, 'f', 2)
+                              .arg(mc["passed"].toInt())
+                              .toStdString()));
+}
+
+TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString withSpread = tmp.filePath("with.pdf"), without = tmp.filePath("without.pdf");
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", withSpread}).exitCode, 0);
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
+                  .exitCode,
+              0);
+    EXPECT_EQ(pageCount(withSpread), 5);
+    EXPECT_EQ(pageCount(without), 4);
+    const CliRun text = run(QStringLiteral("pdftotext"), {without, "-"});
+    EXPECT_THAT(text.out.toStdString(), testing::Not(HasSubstr("Spread over tolerances")));
+
+    // The demo with every tolerance removed: nothing to spread, so no section and no error.
+    QFile in(designPath("demo"));
+    ASSERT_TRUE(in.open(QIODevice::ReadOnly));
+    QByteArray design = in.readAll();
+    design.replace(", \"tolerance\": \"1%\"", "").replace(", \"tolerance\": \"10%\"", "");
+    ASSERT_FALSE(design.contains("tolerance"));
+    const QString plain = tmp.filePath("plain.loopsketch");
+    QFile out(plain);
+    ASSERT_TRUE(out.open(QIODevice::WriteOnly));
+    out.write(design);
+    out.close();
+    const QString plainPdf = tmp.filePath("plain.pdf");
+    const CliRun r = loopsketch({"export", plain, "--pdf", plainPdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    EXPECT_EQ(pageCount(plainPdf), 4);
+    EXPECT_THAT(run(QStringLiteral("pdftotext"), {plainPdf, "-"}).out.toStdString(),
+                testing::Not(HasSubstr("Spread over tolerances")));
+}
+
+TEST(ReviewSheetSpread, BadSpreadTrialsIsBadInput)
+{
+    for (const char *n : {"-1", "x", "1000001"}) {
+        const CliRun r = loopsketch(
+            {"export", designPath("demo"), "--pdf", "/tmp/unused.pdf", "--spread-trials", n});
+        EXPECT_EQ(r.exitCode, 2) << n;
+        EXPECT_THAT(r.err.toStdString(), HasSubstr("--spread-trials")) << n;
+    }
+}
+
 TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
 {
     QTemporaryDir tmp;
@@ -255,6 +325,28 @@ TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(n).toStdString()));
     EXPECT_THAT(text.out.toStdString(),
                 testing::Not(HasSubstr(QStringLiteral("page %1 of").arg(n + 1).toStdString())));
+}
+
+TEST(ReviewSheetPlots, PngFilesAreWholeImages)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+        const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
+        ASSERT_FALSE(image.isNull()) << stem;
+        // 170 mm x 110 mm at 150 dpi (reviewsheet.cpp), 25.4 mm per inch
+        EXPECT_EQ(image.width(), 1004) << stem;
+        EXPECT_EQ(image.height(), 650) << stem;
+        // Drawn, not blank: the curves and text leave many non-white pixels.
+        int inked = 0;
+        for (int y = 0; y < image.height(); y += 4)
+            for (int x = 0; x < image.width(); x += 4)
+                inked += image.pixel(x, y) != qRgb(255, 255, 255);
+        EXPECT_GT(inked, 500) << stem;
+    }
 }
 
 TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)
