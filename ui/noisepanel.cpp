@@ -247,12 +247,6 @@ void NoisePanel::draw(Pending in)
 {
     m_units = in.units;
     const double xLo = in.xLo, xHi = in.xHi;
-    const QString yTitle = tr("output (%1/√Hz)").arg(m_units.output);
-    if (m_y->titleText() != yTitle)
-        m_y->setTitleText(yTitle);
-    const QString inTitle = tr("input (%1/√Hz)").arg(m_units.input);
-    if (m_yInput->titleText() != inTitle)
-        m_yInput->setTitleText(inTitle);
 
     const bool drawable = in.noise && !in.noise->frequenciesHz.empty()
         && in.noise->outputDensity.size() == in.noise->frequenciesHz.size()
@@ -490,13 +484,26 @@ void NoisePanel::showValuesAt(double log10Hz)
                      .arg(noiseSourceName(*here[k].second),
                           QString::number(pct, 'f', pct >= 99.95 ? 2 : 1));
     }
-    m_valuesText->setText(lines.join(QLatin1Char('\n')));
+    m_valuesLines = lines;
     placeOverlays();
 }
 
 void NoisePanel::placeOverlays()
 {
     const QRectF plot = chart()->plotArea();
+    // Axis titles with their quantity where the plot is tall enough, else the unit alone
+    // (the right axis keeps the input-referred curve's colour either way).
+    const auto title = [&](QCategoryAxis *axis, const QString &quantity, const QString &unit) {
+        const QString full = tr("%1 (%2/√Hz)").arg(quantity, unit);
+        const QString text
+            = QFontMetricsF(axis->titleFont()).horizontalAdvance(full) + 8 < plot.height()
+            ? full
+            : tr("%1/√Hz").arg(unit);
+        if (axis->titleText() != text)
+            axis->setTitleText(text);
+    };
+    title(m_y, tr("output"), m_units.output);
+    title(m_yInput, tr("input"), m_units.input);
     if (m_problem->isVisible()) {
         m_problem->setTextWidth(std::max(120.0, plot.width() - 40));
         QTextOption option = m_problem->document()->defaultTextOption();
@@ -521,11 +528,17 @@ void NoisePanel::placeOverlays()
         = tr("f = %1").arg(toQString(formatEngineering(std::pow(10.0, m_cursorAt), 3, "Hz")));
     const double fWidth = fm.horizontalAdvance(fText);
     const bool fRight = x + 8 + fWidth + 8 <= plot.right();
+    const double topY = plot.top() + 3 + fm.height() + 6 - 1;
+    // As many lines as the plot has room for under the frequency box, most important first.
+    const auto room
+        = qsizetype(std::max(1.0, std::floor((plot.bottom() - topY - 6) / fm.lineSpacing())));
+    const QString shown = m_valuesLines.mid(0, room).join(QLatin1Char('\n'));
+    if (m_valuesText->text() != shown)
+        m_valuesText->setText(shown);
     const QRectF text = m_valuesText->boundingRect();
     double left = fRight ? x + 8 : x - 8 - text.width();
     if (left + text.width() + 8 > plot.right())
         left = x - 8 - text.width();
-    const double topY = plot.top() + 3 + fm.height() + 6 - 1;
     m_valuesText->setPos(left, topY + 3);
     m_valuesBox->setRect(QRectF(left - 4, topY, text.width() + 8, text.height() + 6));
 }

@@ -103,6 +103,7 @@ private:
     QGraphicsTextItem *m_problem = nullptr;
     QGraphicsRectItem *m_valuesBox = nullptr;
     QGraphicsSimpleTextItem *m_valuesText = nullptr;
+    QStringList m_valuesLines; ///< the cursor's values, most important first
 };
 
 } // namespace loopsketch::ui
