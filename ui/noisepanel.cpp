@@ -381,7 +381,7 @@ void NoisePanel::draw(Pending in)
         fill.setAlpha(150);
         if (b.area->brush().color() != fill) {
             b.area->setBrush(fill);
-            b.area->setPen(QPen(colour.darker(115), 0.8));
+            b.area->setPen(Qt::NoPen);
         }
         // Each boundary replaced rebuilds the band's path and hover outline (the area keeps
         // its own copy of each boundary's geometry, so both must be replaced). A band not
