@@ -838,6 +838,9 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         const auto [text, colour] = verdict(ok);
         rows.push_back({{name, value, spec, text}, {kInk, kInk, kInk, colour}});
     };
+    // Core's spec check, the one the Candidates panel and the spread yield use.
+    const SpecCheck check = checkSpecs(
+        d.specs, d.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
     {
         const Specs &s = d.specs;
         std::optional<bool> ok;
@@ -846,8 +849,7 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
             spec = QStringLiteral("%1 … %2").arg(
                 s.gainMin ? eng(s.gainMin->si, gu) : QStringLiteral("−∞"),
                 s.gainMax ? eng(s.gainMax->si, gu) : QStringLiteral("+∞"));
-            ok = a.exact.gain && (!s.gainMin || *a.exact.gain >= s.gainMin->si)
-                && (!s.gainMax || *a.exact.gain <= s.gainMax->si);
+            ok = check.gain;
         }
         add(QStringLiteral("DC gain (exact)"), eng(a.exact.gain, gu), spec, ok);
     }
@@ -856,17 +858,20 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         QString spec = QStringLiteral("—");
         if (d.specs.bandwidthMin) {
             spec = QStringLiteral("≥ %1").arg(eng(d.specs.bandwidthMin->si, "Hz"));
-            ok = a.bandwidthHz && *a.bandwidthHz >= d.specs.bandwidthMin->si;
+            ok = check.bandwidth;
         }
-        add(QStringLiteral("bandwidth (−3 dB)"), eng(a.bandwidthHz, "Hz"), spec, ok);
+        // No -3 dB point inside the sweep: the closed loop is flat beyond its end.
+        const QString value = a.bandwidthHz
+            ? eng(a.bandwidthHz, "Hz")
+            : QStringLiteral("> %1").arg(eng(d.sweep.stop.si, "Hz"));
+        add(QStringLiteral("bandwidth (−3 dB)"), value, spec, ok);
     }
     {
         std::optional<bool> ok;
         QString spec = QStringLiteral("—");
         if (d.specs.phaseMarginMinDeg) {
             spec = QStringLiteral("≥ %1").arg(degrees(*d.specs.phaseMarginMinDeg));
-            ok = a.margins.phaseMarginDeg
-                && *a.margins.phaseMarginDeg >= *d.specs.phaseMarginMinDeg;
+            ok = check.phaseMargin;
         }
         add(QStringLiteral("phase margin"), degrees(a.margins.phaseMarginDeg), spec, ok);
     }
