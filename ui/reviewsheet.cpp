@@ -4,8 +4,10 @@
 #include "sketchlayout.h"
 #include "sketchscene.h"
 
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/metrics.h"
+#include "loopsketch/trialmetrics.h"
 #include "loopsketch/value.h"
 
 #include <QBuffer>
@@ -24,6 +26,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <functional>
 #include <numbers>
 #include <vector>
 
@@ -183,9 +186,10 @@ public:
         m_y += h;
     }
 
-    void heading(const QString &text)
+    /// A section heading; `keepWithMm` of what follows must fit on the same page too.
+    void heading(const QString &text, double keepWithMm = 0)
     {
-        ensure(14);
+        ensure(14 + keepWithMm);
         m_y += 3;
         paragraph(text, sheetFont(11, true));
         rule(0.3);
@@ -928,6 +932,9 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         const auto [text, colour] = verdict(ok);
         rows.push_back({{name, value, spec, text}, {kInk, kInk, kInk, colour}});
     };
+    // Core's spec check, the one the Candidates panel and the spread yield use.
+    const SpecCheck check = checkSpecs(
+        d.specs, d.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
     {
         const Specs &s = d.specs;
         std::optional<bool> ok;
@@ -936,8 +943,7 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
             spec = QStringLiteral("%1 … %2").arg(
                 s.gainMin ? eng(s.gainMin->si, gu) : QStringLiteral("−∞"),
                 s.gainMax ? eng(s.gainMax->si, gu) : QStringLiteral("+∞"));
-            ok = a.exact.gain && (!s.gainMin || *a.exact.gain >= s.gainMin->si)
-                && (!s.gainMax || *a.exact.gain <= s.gainMax->si);
+            ok = check.gain;
         }
         add(QStringLiteral("DC gain (exact)"), eng(a.exact.gain, gu), spec, ok);
     }
@@ -946,17 +952,20 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         QString spec = QStringLiteral("—");
         if (d.specs.bandwidthMin) {
             spec = QStringLiteral("≥ %1").arg(eng(d.specs.bandwidthMin->si, "Hz"));
-            ok = a.bandwidthHz && *a.bandwidthHz >= d.specs.bandwidthMin->si;
+            ok = check.bandwidth;
         }
-        add(QStringLiteral("bandwidth (−3 dB)"), eng(a.bandwidthHz, "Hz"), spec, ok);
+        // No -3 dB point inside the sweep: the closed loop is flat beyond its end.
+        const QString value = a.bandwidthHz
+            ? eng(a.bandwidthHz, "Hz")
+            : QStringLiteral("> %1").arg(eng(d.sweep.stop.si, "Hz"));
+        add(QStringLiteral("bandwidth (−3 dB)"), value, spec, ok);
     }
     {
         std::optional<bool> ok;
         QString spec = QStringLiteral("—");
         if (d.specs.phaseMarginMinDeg) {
             spec = QStringLiteral("≥ %1").arg(degrees(*d.specs.phaseMarginMinDeg));
-            ok = a.margins.phaseMarginDeg
-                && *a.margins.phaseMarginDeg >= *d.specs.phaseMarginMinDeg;
+            ok = check.phaseMargin;
         }
         add(QStringLiteral("phase margin"), degrees(a.margins.phaseMarginDeg), spec, ok);
     }
@@ -1054,24 +1063,134 @@ void noiseSection(SheetWriter &w, const Analysis &a)
                 sheetFont(7.5), 0, QColor(90, 90, 90));
 }
 
-void candidatesSection(SheetWriter &w, const Design &d)
+/// One column of the candidates comparison: the current design or a candidate.
+struct CandidateColumn
+{
+    QString name;
+    Design design;
+    std::optional<Analysis> analysis;
+    QString problem; ///< why there is no analysis
+};
+
+std::vector<CandidateColumn> candidateColumns(const Design &d, const Analysis &current)
+{
+    std::vector<CandidateColumn> columns{{QStringLiteral("current design"), d, current, {}}};
+    AnalysisOptions lean; // the comparison shows no sensitivity or noise figures
+    lean.sensitivity = false;
+    lean.noise = false;
+    for (const Candidate &c : d.candidates) {
+        CandidateColumn col{q(c.name), d, std::nullopt, {}};
+        auto applied = applyCandidate(d, c);
+        if (applied) {
+            col.design = *applied;
+            auto analysis = analyze(col.design, {}, lean);
+            if (analysis)
+                col.analysis = std::move(analysis).value();
+            else
+                col.problem = q(analysis.errorText());
+        } else {
+            col.problem = q(applied.errorText());
+        }
+        columns.push_back(std::move(col));
+    }
+    return columns;
+}
+
+QString specVerdict(const Design &d, const std::optional<Analysis> &a)
+{
+    if (!a || !hasSpecs(d.specs))
+        return QStringLiteral("—");
+    const SpecCheck check = checkSpecs(
+        d.specs, d.sweep, TrialMetrics{a->exact.gain, a->bandwidthHz, a->margins.phaseMarginDeg});
+    QStringList failed;
+    if (!check.gain)
+        failed << QStringLiteral("gain");
+    if (!check.bandwidth)
+        failed << QStringLiteral("bandwidth");
+    if (!check.phaseMargin)
+        failed << QStringLiteral("margin");
+    return failed.isEmpty() ? QStringLiteral("pass") : QStringLiteral("fail: ") + failed.join(", ");
+}
+
+/// A part's primary value as the parts table writes it ("1 MΩ"), or "—".
+QString primaryValueText(const Design &d, const std::string &partId)
+{
+    const Part *part = d.findPart(partId);
+    if (!part)
+        return QStringLiteral("—");
+    const auto it = part->fields.find(std::string(part->primaryField()));
+    if (it == part->fields.end())
+        return QStringLiteral("—");
+    const FieldSpec *spec = findFieldSpec(part->type, part->primaryField());
+    return q(formatValue(it->second.si, spec ? spec->kind : ValueKind::Plain, 3));
+}
+
+/// The current design and every candidate side by side, four columns to a table.
+void candidatesSection(SheetWriter &w, const Design &d, const Analysis &current)
 {
     if (d.candidates.empty())
         return;
     w.heading(QStringLiteral("Candidates"));
-    std::vector<SheetWriter::Row> rows;
-    for (const Candidate &c : d.candidates) {
-        QString values;
-        for (const auto &[id, v] : c.values) {
-            const Part *part = d.findPart(id);
-            const FieldSpec *spec
-                = part ? findFieldSpec(part->type, part->primaryField()) : nullptr;
-            const QString text = q(formatValue(v.si, spec ? spec->kind : ValueKind::Plain, 3));
-            values += (values.isEmpty() ? QString() : QStringLiteral(", ")) + q(id) + " = " + text;
-        }
-        rows.push_back({{q(c.name), values}});
+    const std::vector<CandidateColumn> columns = candidateColumns(d, current);
+    const std::string &gu = current.gainUnit;
+
+    // Rows for the parts some candidate changes, in the design's part order.
+    std::vector<const Part *> changed;
+    for (const Part &p : d.parts) {
+        if (std::any_of(d.candidates.begin(), d.candidates.end(),
+                        [&](const Candidate &c) { return c.values.count(p.id) > 0; }))
+            changed.push_back(&p);
     }
-    w.table({{QStringLiteral("Candidate"), 50}, {QStringLiteral("Changed values"), 130}}, rows);
+    using Metric = std::function<QString(const CandidateColumn &)>;
+    const auto analysed = [](auto f) -> Metric {
+        return [f](const CandidateColumn &c) {
+            return c.analysis ? f(*c.analysis) : QStringLiteral("—");
+        };
+    };
+    std::vector<std::pair<QString, Metric>> rows;
+    for (const Part *p : changed) {
+        rows.push_back({q(p->id), [p](const CandidateColumn &c) {
+                            return primaryValueText(c.design, p->id);
+                        }});
+    }
+    rows.push_back({QStringLiteral("DC gain (exact)"),
+                    analysed([&](const Analysis &a) { return eng(a.exact.gain, gu); })});
+    rows.push_back({QStringLiteral("bandwidth (−3 dB)"),
+                    analysed([](const Analysis &a) { return eng(a.bandwidthHz, "Hz"); })});
+    rows.push_back({QStringLiteral("phase margin"),
+                    analysed([](const Analysis &a) { return degrees(a.margins.phaseMarginDeg); })});
+    rows.push_back({QStringLiteral("peaking"),
+                    analysed([](const Analysis &a) { return decibels(a.peakingDb); })});
+    rows.push_back({QStringLiteral("desensitivity at DC"),
+                    analysed([](const Analysis &a) { return decibels(a.desensitivityDb); })});
+    rows.push_back({QStringLiteral("z_in"),
+                    analysed([](const Analysis &a) { return eng(a.exact.zIn, "Ω"); })});
+    rows.push_back({QStringLiteral("z_out"),
+                    analysed([](const Analysis &a) { return eng(a.exact.zOut, "Ω"); })});
+    rows.push_back({QStringLiteral("specs"), [](const CandidateColumn &c) {
+                        return specVerdict(c.design, c.analysis);
+                    }});
+
+    constexpr std::size_t kPerTable = 4;
+    for (std::size_t first = 0; first < columns.size(); first += kPerTable) {
+        const std::size_t last = std::min(columns.size(), first + kPerTable);
+        std::vector<SheetWriter::Column> header{{QStringLiteral(""), 40}};
+        for (std::size_t c = first; c < last; ++c)
+            header.push_back({columns[c].name, 35, Qt::AlignRight});
+        std::vector<SheetWriter::Row> tableRows;
+        for (const auto &[label, metric] : rows) {
+            SheetWriter::Row row{{label}};
+            for (std::size_t c = first; c < last; ++c)
+                row.cells << metric(columns[c]);
+            tableRows.push_back(std::move(row));
+        }
+        w.table(header, tableRows);
+        w.advance(2);
+    }
+    for (const CandidateColumn &c : columns) {
+        if (!c.problem.isEmpty())
+            w.paragraph(c.name + QStringLiteral(": ") + c.problem, sheetFont(kBodyPt));
+    }
 }
 
 QString spreadNumber(const OptionalNumber &v, int metric, const std::string &gainUnit)
@@ -1326,13 +1445,11 @@ void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const She
 
 void plotsSection(SheetWriter &w, const Analysis &a)
 {
-    const auto height = [](SheetPlot plot) {
-        return plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? 120.0 : 95.0;
+    constexpr double kTallMm = 120, kOtherMm = 95, gap = 5;
+    const auto height = [&](SheetPlot plot) {
+        return plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? kTallMm : kOtherMm;
     };
-    // The heading goes with the first plot (never alone at the foot of a page).
-    w.ensure(20 + height(kSheetPlots[0]));
-    w.heading(QStringLiteral("Plots"));
-    const double gap = 5;
+    w.heading(QStringLiteral("Plots"), height(kSheetPlots[0]));
     for (SheetPlot plot : kSheetPlots) {
         const double ph = height(plot);
         w.ensure(ph);
@@ -1360,7 +1477,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     methodSection(w, a);
     metricsSection(w, d, a);
     noiseSection(w, a);
-    candidatesSection(w, d);
+    candidatesSection(w, d, a);
     spreadSection(w, d, a, spread);
     plotsSection(w, a);
     cautionsSection(w);
