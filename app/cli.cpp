@@ -6,6 +6,7 @@
 #endif
 
 #include "loopsketch/analysis.h"
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/exactsolution.h"
 #include "loopsketch/spread.h"
@@ -40,10 +41,16 @@ std::string usage()
            "                                           E-series values that best meet the "
            "specs\n"
 #ifdef LOOPSKETCH_HAVE_GUI
-           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR]\n"
+           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR] [--png DIR]\n"
+           "                    [--spread-trials N] [--spread-seed S]\n"
            "                                           write the review sheet (PDF), the "
            "sweep\n"
-           "                                           (CSV) and one SVG per plot\n"
+           "                                           (CSV) and one SVG or PNG per plot; the\n"
+           "                                           sheet's spread section runs N Monte "
+           "Carlo\n"
+           "                                           trials (default 2000, 0: none) with "
+           "seed S\n"
+           "                                           (default 1)\n"
 #endif
            "  loopsketch --help | --version\n"
            "\n"
@@ -63,7 +70,10 @@ struct Options
     std::string csvOut;
     std::string pdfOut;
     std::string svgDir;
+    std::string pngDir;
     bool letter = false;
+    int spreadTrials = 2000; ///< export: Monte Carlo trials on the sheet, 0 = no spread section
+    std::uint64_t spreadSeed = 1;
     SpreadOptions spread;
     SuggestOptions suggest;
 };
@@ -125,23 +135,6 @@ int reportDiagnostics(std::ostream &err, const Diagnostics &d)
     return kExitBadInput;
 }
 
-Result<Design> applyCandidate(Design design, const std::string &name, const std::string &file)
-{
-    for (const auto &c : design.candidates) {
-        if (c.name != name)
-            continue;
-        for (const auto &[id, value] : c.values) {
-            Part *p = design.findPart(id);
-            if (!p || p->primaryField().empty())
-                return Diagnostic{file, id, "candidates",
-                                  "candidate \"" + name + "\" changes a part that has no value"};
-            p->fields[std::string(p->primaryField())] = value;
-        }
-        return design;
-    }
-    return Diagnostic{file, {}, "candidates", "no candidate named \"" + name + "\""};
-}
-
 int run(const Options &o, std::ostream &out, std::ostream &err)
 {
     auto loaded = loadForCli(o.file);
@@ -188,7 +181,10 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
     }
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
-        return runExport(design, *analysis, {o.file, o.pdfOut, o.csvOut, o.svgDir, o.letter}, err);
+        return runExport(design, *analysis,
+                         {o.file, o.pdfOut, o.csvOut, o.svgDir, o.pngDir, o.letter, o.spreadTrials,
+                          o.spreadSeed},
+                         err);
 #endif
     return badInput(err, "unknown command \"" + o.command + "\"");
 }
@@ -276,16 +272,30 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             if (!v)
                 return badInput(err, "--candidate needs a candidate name");
             o.candidate = *v;
-        } else if ((a == "--pdf" || a == "--svg") && o.command == "export") {
+        } else if ((a == "--pdf" || a == "--svg" || a == "--png") && o.command == "export") {
             auto v = value(a.c_str());
             if (!v)
                 return badInput(err,
                                 a
                                     + (a == "--pdf" ? " needs an output file name"
                                                     : " needs an output directory"));
-            (a == "--pdf" ? o.pdfOut : o.svgDir) = *v;
+            (a == "--pdf" ? o.pdfOut : a == "--svg" ? o.svgDir : o.pngDir) = *v;
         } else if (a == "--letter" && o.command == "export") {
             o.letter = true;
+        } else if (a == "--spread-trials" && o.command == "export") {
+            auto v = value("--spread-trials");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0 || *n > kMaxTrials)
+                return badInput(err,
+                                "--spread-trials needs a whole number from 0 (no spread) to "
+                                    + std::to_string(kMaxTrials));
+            o.spreadTrials = static_cast<int>(*n);
+        } else if (a == "--spread-seed" && o.command == "export") {
+            auto v = value("--spread-seed");
+            const auto n = v ? parseInteger(*v) : std::nullopt;
+            if (!n || *n < 0)
+                return badInput(err, "--spread-seed needs a whole number >= 0");
+            o.spreadSeed = static_cast<std::uint64_t>(*n);
         } else if (a == "--csv" && (o.command == "sweep" || o.command == "export")) {
             auto v = value("--csv");
             if (!v)

@@ -9,7 +9,9 @@
 #include <QFileInfo>
 
 #include <memory>
+#include <optional>
 #include <ostream>
+#include <utility>
 
 namespace loopsketch::app {
 
@@ -26,13 +28,21 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         static char *argv[] = {name, nullptr};
         owned = std::make_unique<QApplication>(argc, argv);
     }
+    // The spread section: worst case and Monte Carlo over the parts' tolerances, when the
+    // design has any.
+    std::optional<ui::SheetSpread> spread;
     QString error;
+    if (!ui::computeSheetSpread(design, request.spreadTrials, request.spreadSeed, request.file,
+                                &spread, &error)) {
+        err << "loopsketch: " << error.toStdString() << "\n";
+        return kExitBadInput;
+    }
     const QString shownName = request.file == "demo"
         ? QStringLiteral("demo")
         : QFileInfo(QString::fromStdString(request.file)).fileName();
     if (!ui::renderReviewSheet(design, analysis, QString::fromStdString(request.pdfOut),
                                request.letter ? ui::SheetPageSize::Letter : ui::SheetPageSize::A4,
-                               shownName, &error)) {
+                               shownName, &error, spread ? &*spread : nullptr)) {
         err << "loopsketch: " << error.toStdString() << "\n";
         return kExitBadInput;
     }
@@ -43,10 +53,14 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
             return kExitBadInput;
         }
     }
-    if (!request.svgDir.empty()
-        && !ui::writeSheetPlotsSvg(analysis, QString::fromStdString(request.svgDir), &error)) {
-        err << "loopsketch: " << error.toStdString() << "\n";
-        return kExitBadInput;
+    const std::pair<const std::string &, ui::PlotFormat> plotDirs[]
+        = {{request.svgDir, ui::PlotFormat::Svg}, {request.pngDir, ui::PlotFormat::Png}};
+    for (const auto &[dir, format] : plotDirs) {
+        if (!dir.empty()
+            && !ui::writeSheetPlots(analysis, QString::fromStdString(dir), format, &error)) {
+            err << "loopsketch: " << error.toStdString() << "\n";
+            return kExitBadInput;
+        }
     }
     return kExitOk;
 }

@@ -1,11 +1,12 @@
 #pragma once
 
-// `loopsketch export`: the review sheet (PDF), the sweep (CSV) and the plots (SVG), without a
+// `loopsketch export`: the review sheet (PDF), the sweep (CSV) and the plots (SVG, PNG), without a
 // display. Built only with the GUI (LOOPSKETCH_HAVE_GUI).
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/design.h"
 
+#include <cstdint>
 #include <iosfwd>
 #include <string>
 
@@ -17,7 +18,12 @@ struct ExportRequest
     std::string pdfOut;
     std::string csvOut; ///< empty: no CSV
     std::string svgDir; ///< empty: no SVG
+    std::string pngDir; ///< empty: no PNG
     bool letter = false; ///< US Letter instead of A4
+    /// Monte Carlo trials of the sheet's spread section, run when the design has toleranced
+    /// parts; 0 leaves the section out.
+    int spreadTrials = 2000; ///< ui::kSheetSpreadTrials
+    std::uint64_t spreadSeed = 1; ///< ui::kSheetSpreadSeed
 };
 
 /// Writes what `request` asks for; returns an exit code (0, or 2 with a message on `err`).

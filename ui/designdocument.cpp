@@ -4,6 +4,7 @@
 #include "qtadapter.h"
 #include "sketchlayout.h"
 
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/eseries.h"
 #include "loopsketch/value.h"
@@ -147,6 +148,44 @@ bool DesignDocument::setToleranceText(const std::string &partId, const QString &
         return true;
     m_undoStack.push(new SetToleranceCommand(this, partId, part->tolerance, tolerance));
     return true;
+}
+
+void DesignDocument::applyValues(const std::vector<std::pair<std::string, double>> &values,
+                                 std::optional<ESeries> series, const QString &text)
+{
+    struct Change
+    {
+        std::string id, field;
+        std::optional<Value> before;
+        std::optional<Value> after; ///< nullopt: the value stays
+        std::optional<ESeries> seriesBefore;
+        bool series = false;
+    };
+    std::vector<Change> changes;
+    for (const auto &[id, v] : values) {
+        const Part *part = m_design.findPart(id);
+        if (!part || part->primaryField().empty() || !(v > 0) || !std::isfinite(v))
+            continue;
+        Change c{id, std::string(part->primaryField()), {}, {}, part->series, false};
+        if (const auto it = part->fields.find(c.field); it != part->fields.end())
+            c.before = it->second;
+        const Value after{v, formatEngineering(v, 3)};
+        if (c.before != after)
+            c.after = after;
+        c.series = series && part->series != series;
+        if (c.after || c.series)
+            changes.push_back(std::move(c));
+    }
+    if (changes.empty())
+        return;
+    m_undoStack.beginMacro(text);
+    for (const Change &c : changes) {
+        if (c.after)
+            m_undoStack.push(new SetFieldCommand(this, c.id, c.field, c.before, c.after, false));
+        if (c.series)
+            m_undoStack.push(new SetSeriesCommand(this, c.id, c.seriesBefore, series));
+    }
+    m_undoStack.endMacro();
 }
 
 void DesignDocument::moveParts(const std::map<std::string, std::pair<double, double>> &positions)
@@ -414,6 +453,151 @@ bool DesignDocument::groundPin(const std::string &partId, const std::string &ter
     return true;
 }
 
+Design designWithCandidate(const Design &design, const Candidate &candidate, QString *problem)
+{
+    auto applied = applyCandidate(design, candidate);
+    if (!applied) {
+        if (problem)
+            *problem = toQString(applied.errorText());
+        return design;
+    }
+    return std::move(applied).value();
+}
+
+QString DesignDocument::nextCandidateName() const
+{
+    for (int n = 1;; ++n) {
+        const QString name = tr("Candidate %1").arg(n);
+        if (!findCandidate(m_design, toStdString(name)))
+            return name;
+    }
+}
+
+QString DesignDocument::candidateNameProblem(const QString &name, const QString &ignore) const
+{
+    const QString trimmed = name.trimmed();
+    if (trimmed.isEmpty())
+        return tr("A candidate needs a name that is not empty.");
+    if (trimmed != ignore.trimmed() && findCandidate(m_design, toStdString(trimmed)))
+        return tr("A candidate named \"%1\" exists already; choose another name.").arg(trimmed);
+    return {};
+}
+
+bool DesignDocument::pinCandidate(const QString &name, QString *error)
+{
+    const QString problem = candidateNameProblem(name);
+    if (!problem.isEmpty()) {
+        if (error)
+            *error = problem;
+        return false;
+    }
+    Candidate c;
+    c.name = toStdString(name.trimmed());
+    for (const Part &p : m_design.parts) {
+        const std::string field(p.primaryField());
+        if (field.empty() || p.type == PartType::Load)
+            continue;
+        const auto it = p.fields.find(field);
+        c.values[p.id] = it != p.fields.end() ? it->second : Value{p.number(field), {}};
+    }
+    if (c.values.empty()) {
+        if (error)
+            *error = tr("There is no resistor, capacitor or inductor whose value could be pinned.");
+        return false;
+    }
+    std::vector<Candidate> after = m_design.candidates;
+    after.push_back(std::move(c));
+    m_undoStack.push(new SetCandidatesCommand(this, m_design.candidates, std::move(after),
+                                              tr("Pin candidate %1").arg(name.trimmed())));
+    return true;
+}
+
+bool DesignDocument::renameCandidate(const QString &from, const QString &to, QString *error)
+{
+    const std::string oldName = toStdString(from);
+    if (!findCandidate(m_design, oldName)) {
+        if (error)
+            *error = tr("There is no candidate named \"%1\".").arg(from);
+        return false;
+    }
+    const QString problem = candidateNameProblem(to, from);
+    if (!problem.isEmpty()) {
+        if (error)
+            *error = problem;
+        return false;
+    }
+    const std::string newName = toStdString(to.trimmed());
+    if (newName == oldName)
+        return true;
+    std::vector<Candidate> after = m_design.candidates;
+    for (Candidate &c : after) {
+        if (c.name == oldName)
+            c.name = newName;
+    }
+    m_undoStack.push(
+        new SetCandidatesCommand(this, m_design.candidates, std::move(after),
+                                 tr("Rename candidate %1 to %2").arg(from, to.trimmed())));
+    return true;
+}
+
+bool DesignDocument::deleteCandidate(const QString &name)
+{
+    std::vector<Candidate> after = m_design.candidates;
+    const std::string key = toStdString(name);
+    const auto removed = std::erase_if(after, [&](const Candidate &c) { return c.name == key; });
+    if (removed == 0)
+        return false;
+    m_undoStack.push(new SetCandidatesCommand(this, m_design.candidates, std::move(after),
+                                              tr("Delete candidate %1").arg(name)));
+    return true;
+}
+
+bool DesignDocument::makeCandidateCurrent(const QString &name, QString *error)
+{
+    const Candidate *c = findCandidate(m_design, toStdString(name));
+    if (!c) {
+        if (error)
+            *error = tr("There is no candidate named \"%1\".").arg(name);
+        return false;
+    }
+    std::vector<std::pair<std::string, Value>> changes;
+    for (const auto &[id, value] : c->values) {
+        const Part *p = m_design.findPart(id);
+        if (!p || p->primaryField().empty()) {
+            if (error)
+                *error = tr("Candidate \"%1\" changes part %2, which has no value.")
+                             .arg(name, toQString(id));
+            return false;
+        }
+        const auto it = p->fields.find(std::string(p->primaryField()));
+        if (it == p->fields.end() || it->second != value)
+            changes.emplace_back(id, value);
+    }
+    if (changes.empty()) {
+        if (error)
+            *error = tr("The design already has the values of candidate \"%1\".").arg(name);
+        return false;
+    }
+    m_undoStack.beginMacro(tr("Make candidate %1 current").arg(name));
+    for (const auto &[id, value] : changes) {
+        const Part *p = m_design.findPart(id);
+        const std::string field(p->primaryField());
+        const auto it = p->fields.find(field);
+        std::optional<Value> before;
+        if (it != p->fields.end())
+            before = it->second;
+        m_undoStack.push(new SetFieldCommand(this, id, field, before, value, false));
+    }
+    m_undoStack.endMacro();
+    return true;
+}
+
+void DesignDocument::applyCandidates(const std::vector<Candidate> &candidates)
+{
+    m_design.candidates = candidates;
+    emit candidatesChanged();
+}
+
 void DesignDocument::applyFrequencyList(const std::string &partId, const std::string &list,
                                         const std::vector<Value> &values)
 {
@@ -491,9 +675,9 @@ void DesignDocument::recomputeNow()
 void DesignDocument::recompute()
 {
     const auto start = std::chrono::steady_clock::now();
-    // Everything the window shows; the noise analysis has no panel yet, so it is skipped.
+    // Everything the window shows, the Noise panel's analysis included.
     AnalysisOptions options;
-    options.noise = false;
+    options.noise = true;
     auto result = analyze(m_design, toStdString(m_filePath), options);
     m_lastAnalysisMs
         = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)

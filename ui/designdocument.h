@@ -19,6 +19,11 @@
 
 namespace loopsketch::ui {
 
+/// The design with a candidate's values on the parts' primary fields (the rule of
+/// `loopsketch analyze --candidate`); `problem` names a part the candidate cannot change.
+Design designWithCandidate(const Design &design, const Candidate &candidate,
+                           QString *problem = nullptr);
+
 class DesignDocument : public QObject
 {
     Q_OBJECT
@@ -60,6 +65,10 @@ public:
     /// Applies preset `index` of gainBlockPresets() as one undo step.
     void applyGainBlockPreset(const std::string &partId, int index);
     bool setToleranceText(const std::string &partId, const QString &text, QString *error);
+    /// Sets the primary values (SI) of several parts, and their series when `series` is
+    /// given, as one undo step named `text` (a suggestion applied).
+    void applyValues(const std::vector<std::pair<std::string, double>> &values,
+                     std::optional<ESeries> series, const QString &text);
     /// Moves parts to new sketch positions (scene units), one undo step for all of them.
     void moveParts(const std::map<std::string, std::pair<double, double>> &positions);
     /// Turns a part's symbol by 90 degrees clockwise.
@@ -79,6 +88,23 @@ public:
     /// Puts one pin on the ground node.
     bool groundPin(const std::string &partId, const std::string &terminal);
 
+    // Candidates (design file key `candidates`), each edit one undo step.
+    /// "Candidate N" with the smallest N >= 1 that no candidate uses yet.
+    QString nextCandidateName() const;
+    /// Why `name` cannot name a candidate (empty, already used); empty when it can.
+    /// `ignore` is a name that may be reused (the one being renamed).
+    QString candidateNameProblem(const QString &name, const QString &ignore = {}) const;
+    /// Stores the value of every resistor, capacitor and inductor under `name` (trimmed).
+    /// The load is left out: it is the circuit's surroundings, not a design choice, so
+    /// making a candidate current later does not undo a change of the load. False with
+    /// `error` set when the name is empty or taken, or there is no such part.
+    bool pinCandidate(const QString &name, QString *error);
+    bool renameCandidate(const QString &from, const QString &to, QString *error);
+    bool deleteCandidate(const QString &name);
+    /// Applies the candidate's values to the parts, one undo step. False with `error` set
+    /// when there is no such candidate or the design already has its values.
+    bool makeCandidateCurrent(const QString &name, QString *error);
+
     /// Runs the pending recomputation now (tests, benchmarks).
     void recomputeNow();
     /// Milliseconds of the last core analyze() call.
@@ -96,6 +122,7 @@ public:
     void applyDesign(const Design &design);
     void applyFrequencyList(const std::string &partId, const std::string &list,
                             const std::vector<Value> &values);
+    void applyCandidates(const std::vector<Candidate> &candidates);
 
 signals:
     /// The design was replaced (open, new): views rebuild.
@@ -110,6 +137,9 @@ signals:
     /// Analysis failed or succeeded; empty text when there is nothing to report.
     void diagnosticsChanged(const QString &text);
     void filePathChanged(const QString &path);
+    /// The candidate list changed (pin, rename, delete and their undo); the analysis of the
+    /// design itself does not depend on it, so no recomputation follows.
+    void candidatesChanged();
 
 private:
     void scheduleRecompute();

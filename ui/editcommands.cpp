@@ -129,4 +129,21 @@ void SetSketchCommand::undo()
     m_document->applySketch(m_before);
 }
 
+SetCandidatesCommand::SetCandidatesCommand(DesignDocument *document, std::vector<Candidate> before,
+                                           std::vector<Candidate> after, const QString &text)
+    : m_document(document), m_before(std::move(before)), m_after(std::move(after))
+{
+    setText(text);
+}
+
+void SetCandidatesCommand::redo()
+{
+    m_document->applyCandidates(m_after);
+}
+
+void SetCandidatesCommand::undo()
+{
+    m_document->applyCandidates(m_before);
+}
+
 } // namespace loopsketch::ui

@@ -116,4 +116,18 @@ private:
     std::optional<SketchLayout> m_before, m_after;
 };
 
+/// The candidate list before and after (pin, rename, delete).
+class SetCandidatesCommand : public QUndoCommand
+{
+public:
+    SetCandidatesCommand(DesignDocument *document, std::vector<Candidate> before,
+                         std::vector<Candidate> after, const QString &text);
+    void redo() override;
+    void undo() override;
+
+private:
+    DesignDocument *m_document;
+    std::vector<Candidate> m_before, m_after;
+};
+
 } // namespace loopsketch::ui

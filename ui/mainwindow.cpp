@@ -1,14 +1,20 @@
 #include "mainwindow.h"
 
+#include "candidatespanel.h"
 #include "designdocument.h"
+#include "exportactions.h"
 #include "inspector.h"
+#include "noisepanel.h"
 #include "panels.h"
 #include "partitem.h"
 #include "partspalette.h"
 #include "qtadapter.h"
 #include "readout.h"
+#include "reviewsheet.h"
 #include "sketchscene.h"
 #include "sketchview.h"
+#include "spreadpanel.h"
+#include "suggestdialog.h"
 
 #include "loopsketch/designfile.h"
 
@@ -52,10 +58,34 @@ bool MainWindow::offerRecovery()
 {
     const QString path = recoveryFile();
     QFile file(path);
-    if (path.isEmpty() || !file.exists() || !file.open(QIODevice::ReadOnly))
+    if (path.isEmpty() || !file.exists())
         return false;
-    const QByteArray text = file.readAll();
+    QString problem;
+    QByteArray text;
+    if (file.open(QIODevice::ReadOnly))
+        text = file.readAll();
+    else
+        problem = tr("%1: %2").arg(path, file.errorString());
     file.close();
+    if (problem.isEmpty()) {
+        if (auto parsed = parseDesign(text.toStdString(), toStdString(path)); !parsed)
+            problem = toQString(parsed.errorText());
+    }
+    if (!problem.isEmpty()) {
+        // Kept under another name: the normal close and the next autosave would otherwise
+        // remove or overwrite the only copy of that work.
+        const QString kept = QFileInfo(path).absolutePath() + QStringLiteral("/recovery-")
+            + QDateTime::currentDateTime().toString(QStringLiteral("yyyyMMdd-hhmmss"))
+            + QStringLiteral(".unreadable.loopsketch");
+        const bool moved = QFile::rename(path, kept);
+        QMessageBox::warning(
+            this, tr("Restore unsaved work"),
+            tr("The unsaved work from the last session cannot be restored:\n%1\n\n%2")
+                .arg(problem,
+                     moved ? tr("The file was kept as %1.").arg(kept)
+                           : tr("It could not be moved aside and stays at %1.").arg(path)));
+        return false;
+    }
     const auto answer = QMessageBox::question(
         this, tr("Restore unsaved work"),
         tr("Loopsketch did not close normally last time. Restore the design that was being "
@@ -157,7 +187,9 @@ MainWindow::MainWindow(QWidget *parent)
     });
 
     auto *recovery = new QTimer(this);
-    recovery->setInterval(30000);
+    // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
+    const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
+    recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);
     connect(recovery, &QTimer::timeout, this, &MainWindow::writeRecovery);
     recovery->start();
 
@@ -203,6 +235,8 @@ void MainWindow::createDocks()
     auto *step = new StepPanel(this);
     auto *poles = new PolesPanel(this);
     m_panels = {m_loopGain, impedance, desens, step, poles};
+    auto *noise = new NoisePanel(this);
+    m_panels.push_back(noise);
     // The linked frequency cursor: hovering one frequency panel marks the same frequency
     // in all of them.
     for (PlotPanel *source : m_panels) {
@@ -210,12 +244,18 @@ void MainWindow::createDocks()
             for (PlotPanel *p : m_panels)
                 p->showFrequencyCursor(log10Hz);
         });
+        connect(source, &PlotPanel::frequencyHovered, noise, &NoisePanel::showValuesAt);
     }
     auto *loopDock = makeDock(tr("Loop gain"), QStringLiteral("LoopGainDock"), m_loopGain,
                               Qt::RightDockWidgetArea);
     auto *impDock = makeDock(tr("Impedance"), QStringLiteral("ImpedanceDock"), impedance,
                              Qt::RightDockWidgetArea);
     splitDockWidget(loopDock, impDock, Qt::Vertical);
+    auto *noiseDock
+        = makeDock(tr("Noise"), QStringLiteral("NoiseDock"), noise, Qt::RightDockWidgetArea);
+    tabifyDockWidget(impDock, noiseDock);
+    impDock->raise();
+    connect(noiseDock, &QDockWidget::visibilityChanged, noise, &NoisePanel::setOnScreen);
     auto *desDock = makeDock(tr("Desensitivity"), QStringLiteral("DesensitivityDock"), desens,
                              Qt::BottomDockWidgetArea);
     auto *stepDock
@@ -224,6 +264,35 @@ void MainWindow::createDocks()
         = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
     splitDockWidget(desDock, stepDock, Qt::Horizontal);
     splitDockWidget(stepDock, polesDock, Qt::Horizontal);
+
+    m_spread = new SpreadPanel(m_document, this);
+    auto *spreadDock
+        = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), m_spread, Qt::RightDockWidgetArea);
+    tabifyDockWidget(loopDock, spreadDock);
+    loopDock->raise();
+
+    // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
+    m_candidates = new CandidatesPanel(m_document, this);
+    m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"), m_candidates,
+                                Qt::RightDockWidgetArea);
+    tabifyDockWidget(impDock, m_candidatesDock);
+    impDock->raise();
+    connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
+        const std::vector<OverlaySource> sources = m_candidates->overlaySources();
+        for (PlotPanel *p : m_panels) {
+            if (p->hasOverlays())
+                p->setOverlaySources(sources);
+        }
+    });
+    connect(m_candidates->pinAction(), &QAction::triggered, this, &MainWindow::showCandidates);
+}
+
+void MainWindow::showCandidates()
+{
+    m_candidatesDock->show();
+    m_candidatesDock->raise();
+    if (auto *loop = findChild<QDockWidget *>(QStringLiteral("LoopGainDock")))
+        resizeDocks({loop, m_candidatesDock}, {height() / 2, height() / 2}, Qt::Vertical);
 }
 
 void MainWindow::createActions()
@@ -246,6 +315,10 @@ void MainWindow::createActions()
     saveAction->setShortcut(QKeySequence::Save);
     QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
     saveAsAction->setShortcut(QKeySequence::SaveAs);
+    addExportMenu(
+        file, this, m_document,
+        [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; },
+        [this] { return m_spread->completedResult(); });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
@@ -260,6 +333,39 @@ void MainWindow::createActions()
 
     // Candidates, spread and value suggestions add their actions here.
     m_designMenu = menuBar()->addMenu(tr("&Design"));
+    QAction *pin = m_candidates->pinAction();
+    pin->setShortcut(Qt::CTRL | Qt::SHIFT | Qt::Key_P);
+    m_designMenu->addAction(pin);
+    QAction *overlayAll = m_designMenu->addAction(tr("Overlay candidates on every plot"));
+    overlayAll->setCheckable(true);
+    connect(overlayAll, &QAction::triggered, this, [this](bool on) {
+        for (PlotPanel *p : m_panels) {
+            if (p->hasOverlays())
+                p->overlayAction()->setChecked(on);
+        }
+    });
+    for (PlotPanel *p : m_panels) {
+        if (!p->hasOverlays())
+            continue;
+        connect(p->overlayAction(), &QAction::toggled, overlayAll, [this, overlayAll] {
+            bool all = true;
+            for (PlotPanel *q : m_panels)
+                all = all && (!q->hasOverlays() || q->overlayAction()->isChecked());
+            overlayAll->setChecked(all);
+        });
+    }
+    m_designMenu->addSeparator();
+    m_designMenu->addAction(tr("&Spread over tolerances"), this, [this] {
+        auto *dock = findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
+        dock->show();
+        dock->raise();
+    });
+    m_designMenu->addAction(tr("Suggest &values…"), this, [this] {
+        SuggestDialog *dialog = suggestDialog();
+        dialog->show();
+        dialog->raise();
+        dialog->activateWindow();
+    });
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
@@ -273,6 +379,13 @@ void MainWindow::createActions()
 
     QMenu *help = menuBar()->addMenu(tr("&Help"));
     help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
+}
+
+SuggestDialog *MainWindow::suggestDialog()
+{
+    if (!m_suggest)
+        m_suggest = new SuggestDialog(m_document, this);
+    return m_suggest;
 }
 
 bool MainWindow::openText(const std::string &text, const QString &name, QString *error)

@@ -19,6 +19,7 @@ struct Analysis;
 
 namespace loopsketch::ui {
 
+class CandidatesPanel;
 class DesignDocument;
 class Inspector;
 class PartsPalette;
@@ -27,6 +28,8 @@ class Readout;
 class SketchScene;
 class SketchView;
 class LoopGainPanel;
+class SpreadPanel;
+class SuggestDialog;
 
 class MainWindow : public QMainWindow
 {
@@ -49,6 +52,12 @@ public:
     Inspector *inspector() const { return m_inspector; }
     LoopGainPanel *loopGainPanel() const { return m_loopGain; }
     const std::vector<PlotPanel *> &panels() const { return m_panels; }
+    CandidatesPanel *candidatesPanel() const { return m_candidates; }
+    /// Brings the Candidates dock forward with room for its table (after a pin).
+    void showCandidates();
+    SpreadPanel *spreadPanel() const { return m_spread; }
+    /// The Suggest values dialog, created on first use.
+    SuggestDialog *suggestDialog();
     QString statusText() const;
     /// The Design menu (candidates, spread, suggestions).
     QMenu *designMenu() const { return m_designMenu; }
@@ -91,6 +100,10 @@ private:
     Inspector *m_inspector;
     PartsPalette *m_palette;
     LoopGainPanel *m_loopGain = nullptr;
+    CandidatesPanel *m_candidates = nullptr;
+    QDockWidget *m_candidatesDock = nullptr;
+    SpreadPanel *m_spread = nullptr;
+    SuggestDialog *m_suggest = nullptr;
     std::vector<PlotPanel *> m_panels;
     std::vector<QDockWidget *> m_docks;
     QLabel *m_timing;

@@ -50,6 +50,17 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
          {static_cast<QXYSeries *>(m_crossover), static_cast<QXYSeries *>(m_gainMargin),
           static_cast<QXYSeries *>(m_phaseMargin)})
         hideFromLegend(s);
+    enableOverlays();
+}
+
+std::vector<PlotPanel::OverlayLine> LoopGainPanel::overlayLines(const Analysis &a) const
+{
+    return {{QStringLiteral("T"),
+             curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb), m_mag,
+             CursorFormat::Decibels},
+            {QStringLiteral("gain"),
+             curvePoints(a.frequenciesHz, a.curves.gainExact, CurvePart::MagnitudeDb), m_mag,
+             CursorFormat::Decibels}};
 }
 
 void LoopGainPanel::showAnalysis(const Analysis &a)
@@ -111,6 +122,17 @@ ImpedancePanel::ImpedancePanel(QWidget *parent) : PlotPanel(tr("Impedance"), par
     m_lines[1] = addLine(tr("z_in, no feedback"), palette::kSkyBlue, Qt::DashLine, m_x, m_y);
     m_lines[2] = addLine(tr("z_out"), palette::kVermillion, Qt::SolidLine, m_x, m_y);
     m_lines[3] = addLine(tr("z_out, no feedback"), palette::kOrange, Qt::DashLine, m_x, m_y);
+    enableOverlays();
+}
+
+std::vector<PlotPanel::OverlayLine> ImpedancePanel::overlayLines(const Analysis &a) const
+{
+    return {{QStringLiteral("z_in"),
+             curvePoints(a.frequenciesHz, a.curves.zInExact, CurvePart::Log10Magnitude), m_y,
+             CursorFormat::Log10Ohms},
+            {QStringLiteral("z_out"),
+             curvePoints(a.frequenciesHz, a.curves.zOutExact, CurvePart::Log10Magnitude), m_y,
+             CursorFormat::Log10Ohms}};
 }
 
 void ImpedancePanel::showAnalysis(const Analysis &a)
@@ -136,6 +158,14 @@ DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensit
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("|1 + T| (dB)"), Qt::AlignLeft);
     m_line = addLine(tr("|1 + T|"), palette::kBlue, Qt::SolidLine, m_x, m_y);
+    enableOverlays();
+}
+
+std::vector<PlotPanel::OverlayLine> DesensitivityPanel::overlayLines(const Analysis &a) const
+{
+    return {{QStringLiteral("|1 + T|"),
+             curvePoints(a.frequenciesHz, a.curves.desensitivity, CurvePart::MagnitudeDb), m_y,
+             CursorFormat::Decibels}};
 }
 
 void DesensitivityPanel::showAnalysis(const Analysis &a)

@@ -23,6 +23,9 @@ public:
     static inline const QString kExact = QStringLiteral("gain, exact");
     static inline const QString kPhase = QStringLiteral("phase ");
 
+protected:
+    std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
+
 private:
     QCategoryAxis *m_x;
     QValueAxis *m_mag, *m_phase;
@@ -39,6 +42,9 @@ public:
     explicit ImpedancePanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
+protected:
+    std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
+
 private:
     QCategoryAxis *m_x, *m_y;
     QLineSeries *m_lines[4];
@@ -52,6 +58,9 @@ class DesensitivityPanel : public PlotPanel
 public:
     explicit DesensitivityPanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
+
+protected:
+    std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
 
 private:
     QCategoryAxis *m_x;

@@ -4,6 +4,7 @@
 
 #include "loopsketch/value.h"
 
+#include <QAction>
 #include <QCategoryAxis>
 #include <QChart>
 #include <QGraphicsLineItem>
@@ -14,6 +15,7 @@
 #include <QLineSeries>
 #include <QMouseEvent>
 #include <QScatterSeries>
+#include <QToolButton>
 #include <QValueAxis>
 
 #include <algorithm>
@@ -244,8 +246,154 @@ QString PlotPanel::summary() const
 void PlotPanel::placeSummary()
 {
     const double w = m_summary->boundingRect().width();
-    m_summary->setPos(std::max(4.0, (chart()->size().width() - w) / 2.0),
-                      chart()->margins().top() + 3.0);
+    const double full = chart()->size().width();
+    // The overlay toggle sits in the top right corner when the summary leaves room for it,
+    // else in the bottom right corner, level with the frequency axis title.
+    double room = full;
+    if (m_overlayButton) {
+        const int bw = m_overlayButton->width();
+        if (w + 2.0 * (bw + 8.0) <= full) {
+            m_overlayButton->move(width() - bw - 4, 2);
+            room = full - bw - 8.0;
+        } else {
+            const QPointF below
+                = mapFromScene(chart()->mapToScene(chart()->plotArea().bottomRight()));
+            m_overlayButton->move(width() - bw - 4, int(below.y()) + 16);
+        }
+    }
+    m_summary->setPos(std::max(4.0, (room - w) / 2.0), chart()->margins().top() + 3.0);
+}
+
+void PlotPanel::enableOverlays()
+{
+    if (m_overlayAction)
+        return;
+    m_overlayAction = new QAction(tr("Overlay candidates"), this);
+    m_overlayAction->setCheckable(true);
+    m_overlayAction->setToolTip(
+        tr("Overlay the pinned candidates' curves (thin, dashed, named in the legend)"));
+    addAction(m_overlayAction);
+    setContextMenuPolicy(Qt::ActionsContextMenu);
+    m_overlayButton = new QToolButton(this);
+    m_overlayButton->setDefaultAction(m_overlayAction);
+    m_overlayButton->setAutoRaise(true);
+    m_overlayButton->setToolButtonStyle(Qt::ToolButtonTextOnly);
+    QFont f = m_overlayButton->font();
+    f.setPointSizeF(7.5);
+    m_overlayButton->setFont(f);
+    m_overlayButton->adjustSize();
+    m_overlayButton->move(width() - m_overlayButton->width() - 4, 2);
+    connect(m_overlayAction, &QAction::toggled, this, [this] { rebuildOverlays(); });
+}
+
+void PlotPanel::setOverlaySources(std::vector<OverlaySource> sources)
+{
+    m_overlaySources = std::move(sources);
+    if (m_overlayAction && (m_overlayAction->isChecked() || !m_overlaySeries.empty()))
+        rebuildOverlays();
+}
+
+QStringList PlotPanel::overlaySeriesNames() const
+{
+    QStringList names;
+    for (const QLineSeries *s : m_overlaySeries)
+        names << s->name();
+    return names;
+}
+
+QStringList PlotPanel::legendLabels() const
+{
+    QStringList labels;
+    for (const QLegendMarker *m : chart()->legend()->markers()) {
+        if (m->isVisible())
+            labels << m->label();
+    }
+    return labels;
+}
+
+QColor PlotPanel::overlayColour(int index)
+{
+    // Green first (no panel draws a curve in it), then colour-blind-safe tones that the
+    // panels' own curves do not use (wine, indigo, olive, teal and rose of Paul Tol's
+    // "muted" scheme, hex values from memory).
+    static const QColor colours[]
+        = {palette::kGreen,          QColor(0x88, 0x22, 0x55), QColor(0x33, 0x22, 0x88),
+           QColor(0x99, 0x99, 0x33), QColor(0x44, 0xAA, 0x99), QColor(0xCC, 0x66, 0x77)};
+    return colours[std::size_t(index) % std::size(colours)];
+}
+
+Qt::PenStyle PlotPanel::overlayStyle(int index)
+{
+    // The panels' own curves are solid, or dashed for the curves without feedback.
+    static const Qt::PenStyle styles[]
+        = {Qt::DotLine, Qt::DashDotLine, Qt::DashDotDotLine, Qt::DashLine};
+    return styles[std::size_t(index) % std::size(styles)];
+}
+
+void PlotPanel::rebuildOverlays()
+{
+    std::size_t used = 0;
+    if (m_overlayAction && m_overlayAction->isChecked() && m_frequencyAxis) {
+        for (std::size_t i = 0; i < m_overlaySources.size(); ++i) {
+            const OverlaySource &source = m_overlaySources[i];
+            if (!source.analysis || source.analysis->frequenciesHz.empty())
+                continue;
+            const auto &f = source.analysis->frequenciesHz;
+            bool firstOfSource = true;
+            for (OverlayLine &line : overlayLines(*source.analysis)) {
+                const QString name = source.name + QStringLiteral(": ") + line.quantity;
+                QLineSeries *s = used < m_overlaySeries.size() ? m_overlaySeries[used] : nullptr;
+                if (s && !s->attachedAxes().contains(line.y)) {
+                    // Same slot, other axis: replaced below by a fresh series.
+                    chart()->removeSeries(s);
+                    m_fullCurves.erase(s);
+                    std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
+                    delete s;
+                    s = nullptr;
+                }
+                if (!s) {
+                    s = new QLineSeries;
+                    s->setName(name);
+                    chart()->addSeries(s);
+                    s->attachAxis(m_frequencyAxis);
+                    s->attachAxis(line.y);
+                    if (used < m_overlaySeries.size())
+                        m_overlaySeries[used] = s;
+                    else
+                        m_overlaySeries.push_back(s);
+                    m_series[name] = s;
+                } else if (s->name() != name) {
+                    rename(s, name);
+                }
+                QPen pen(overlayColour(int(i)), 1.0, overlayStyle(int(i)));
+                pen.setCosmetic(true);
+                pen.setCapStyle(Qt::FlatCap);
+                if (s->pen() != pen)
+                    s->setPen(pen);
+                replaceThinned(s, line.points, std::log10(f.front()), std::log10(f.back()),
+                               line.format);
+                // One legend entry per candidate, its name in its colour; the series keep
+                // their full names for the cursor text.
+                for (QLegendMarker *m : chart()->legend()->markers(s)) {
+                    m->setVisible(firstOfSource);
+                    if (firstOfSource && m->label() != source.name)
+                        m->setLabel(source.name);
+                }
+                firstOfSource = false;
+                ++used;
+            }
+        }
+    }
+    while (m_overlaySeries.size() > used) {
+        QLineSeries *s = m_overlaySeries.back();
+        m_overlaySeries.pop_back();
+        chart()->removeSeries(s);
+        m_fullCurves.erase(s);
+        std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
+        delete s;
+    }
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
 }
 
 void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax,

@@ -12,9 +12,13 @@
 
 #include <cmath>
 #include <map>
+#include <memory>
 #include <string>
+#include <vector>
 
 class QAbstractAxis;
+class QAction;
+class QToolButton;
 class QGraphicsSimpleTextItem;
 class QGraphicsLineItem;
 class QGraphicsRectItem;
@@ -38,6 +42,13 @@ inline const QColor kPurple{0xCC, 0x79, 0xA7};
 inline const QColor kBlack{0x22, 0x22, 0x22};
 } // namespace palette
 
+/// One candidate's analysis for the overlays of the frequency panels.
+struct OverlaySource
+{
+    QString name; ///< the candidate's name, shown in the legend
+    std::shared_ptr<const Analysis> analysis;
+};
+
 class PlotPanel : public QChartView
 {
     Q_OBJECT
@@ -59,6 +70,25 @@ public:
     /// The cursor's text (empty when hidden).
     QString cursorText() const;
 
+    // Candidate overlays: thin dashed curves, one set per candidate, for panels whose
+    // overlayLines() names any.
+    /// True when the panel draws candidate overlays (it has a toggle).
+    bool hasOverlays() const { return m_overlayAction != nullptr; }
+    /// The checkable "Overlay candidates" toggle; nullptr for panels without overlays.
+    QAction *overlayAction() const { return m_overlayAction; }
+    /// The candidates to overlay, in column order; drawn while the toggle is on.
+    void setOverlaySources(std::vector<OverlaySource> sources);
+    /// Names of the overlay curves drawn now ("Fast: T"); the legend has one entry per
+    /// candidate, labelled with its name.
+    QStringList overlaySeriesNames() const;
+    /// The visible legend labels, in legend order (as of the legend's last layout, which
+    /// runs from the event loop).
+    QStringList legendLabels() const;
+    /// The colour and dash of candidate `index`'s overlays (the Candidates panel uses the
+    /// same in its column headers).
+    static QColor overlayColour(int index);
+    static Qt::PenStyle overlayStyle(int index);
+
 signals:
     /// The mouse hovers the plot at log10(f / Hz); NaN when it left.
     void frequencyHovered(double log10Hz);
@@ -66,6 +96,20 @@ signals:
 protected:
     /// How a curve's value reads in the cursor text; None leaves it out.
     enum class CursorFormat { None, Decibels, Degrees, Log10Ohms };
+
+    /// One curve a panel overlays for each candidate.
+    struct OverlayLine
+    {
+        QString quantity; ///< legend text after the candidate's name, e.g. "T"
+        QList<QPointF> points; ///< x = log10(f / Hz), as the panel's own curves
+        QAbstractAxis *y = nullptr;
+        CursorFormat format = CursorFormat::None;
+    };
+    /// The curves to overlay from a candidate's analysis; a panel returning any calls
+    /// enableOverlays() in its constructor.
+    virtual std::vector<OverlayLine> overlayLines(const Analysis &) const { return {}; }
+    /// Creates the "Overlay candidates" toggle (a corner button and a context-menu entry).
+    void enableOverlays();
 
     QLineSeries *addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
                          QAbstractAxis *x, QAbstractAxis *y, bool inLegend = true);
@@ -121,7 +165,12 @@ private:
     void applyRound(QValueAxis *axis, const RoundAxis &r);
     std::map<QValueAxis *, RoundAxis> m_roundAxes;
     void plotAreaChanged();
+    void rebuildOverlays();
     QGraphicsSimpleTextItem *m_summary = nullptr;
+    QAction *m_overlayAction = nullptr;
+    QToolButton *m_overlayButton = nullptr;
+    std::vector<OverlaySource> m_overlaySources;
+    std::vector<QLineSeries *> m_overlaySeries;
     void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
     struct FullCurve
     {

@@ -1,5 +1,6 @@
 #include "readout.h"
 
+#include "noisepanel.h"
 #include "qtadapter.h"
 
 #include "loopsketch/value.h"
@@ -41,7 +42,7 @@ Readout::Readout(QWidget *parent) : QWidget(parent)
     auto *row = new QHBoxLayout(this);
     row->setContentsMargins(10, 6, 10, 6);
     row->setSpacing(18);
-    for (int i = 0; i < 9; ++i) {
+    for (int i = 0; i < 10; ++i) {
         auto *box = new QVBoxLayout;
         box->setSpacing(1);
         auto *title = new QLabel(this);
@@ -178,6 +179,26 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
         setCell(8, tr("specs"), tr("pass (%1 of %1)").arg(checked), {}, kPass);
     else
         setCell(8, tr("specs"), tr("fail (%1 of %2)").arg(failed).arg(checked), {}, kFail);
+
+    // Integrated noise over core's band, referred to the output and to the input.
+    if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {
+        const NoiseAnalysis &n = *a.noise;
+        const NoiseUnits u = noiseUnits(a);
+        const auto rms = [](const OptionalNumber &v, const QString &symbol) {
+            return v && std::isfinite(*v) ? toQString(formatEngineering(*v, 3, toStdString(symbol)))
+                                          : QStringLiteral("—");
+        };
+        // Short title and value: the strip sets the window's minimum width (under 1280 px).
+        setCell(9, tr("rms noise, %1").arg(noiseBandText(n)),
+                rms(n.outputRms, u.output) + QStringLiteral(" / ") + rms(n.inputRms, u.input),
+                tr("integrated noise: at the output / referred to the input, at %1 K\nband: %2")
+                    .arg(n.temperatureK, 0, 'f', 2)
+                    .arg(toQString(n.bandMethod)));
+    } else {
+        setCell(9, tr("rms noise"), QStringLiteral("—"),
+                a.noise ? tr("no integrated noise: the gain is zero within the sweep")
+                        : toQString(a.noiseProblem));
+    }
 }
 
 QString Readout::plainText() const

@@ -1,10 +1,13 @@
 #include "reviewsheet.h"
 
+#include "noisepanel.h"
 #include "sketchlayout.h"
 #include "sketchscene.h"
 
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/metrics.h"
+#include "loopsketch/trialmetrics.h"
 #include "loopsketch/value.h"
 
 #include <QBuffer>
@@ -12,6 +15,7 @@
 #include <QDir>
 #include <QFileInfo>
 #include <QFontMetricsF>
+#include <QImage>
 #include <QPainter>
 #include <QPdfWriter>
 #include <QPolygonF>
@@ -22,6 +26,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <functional>
 #include <numbers>
 #include <vector>
 
@@ -181,9 +186,10 @@ public:
         m_y += h;
     }
 
-    void heading(const QString &text)
+    /// A section heading; `keepWithMm` of what follows must fit on the same page too.
+    void heading(const QString &text, double keepWithMm = 0)
     {
-        ensure(14);
+        ensure(14 + keepWithMm);
         m_y += 3;
         paragraph(text, sheetFont(11, true));
         rule(0.3);
@@ -546,6 +552,59 @@ void drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Ser
 
 const QColor kBlue(25, 80, 160), kOrange(205, 110, 20), kGreen(40, 130, 70), kPurple(120, 60, 150);
 
+/// log10 of a density per sweep frequency; NaN where there is none (breaks the line).
+Series logDensitySeries(const QString &name, const std::vector<double> &hz,
+                        const std::vector<double> &density, QColor colour,
+                        Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, hz, {}, colour, style};
+    s.y.reserve(hz.size());
+    for (std::size_t i = 0; i < hz.size(); ++i) {
+        const double v = i < density.size() ? density[i] : NAN;
+        s.y.push_back(std::isfinite(v) && v > 0 ? std::log10(v) : NAN);
+    }
+    return s;
+}
+
+/// Decades from the first series' peak down to at most `decades` below it.
+Axis decadeAxis(const std::vector<Series> &series, int decades)
+{
+    Axis a;
+    double lo = INFINITY, hi = -INFINITY;
+    finiteRange(series, false, lo, hi);
+    double peak = -INFINITY;
+    for (double v : series.front().y)
+        if (std::isfinite(v))
+            peak = std::max(peak, v);
+    if (!std::isfinite(peak)) {
+        a.lo = -9;
+        a.hi = -6;
+        return a;
+    }
+    a.hi = std::ceil(std::max(peak, hi) + 0.05);
+    a.lo = std::max(std::floor(lo), a.hi - decades);
+    if (a.hi - a.lo < 2)
+        a.lo = a.hi - 2;
+    a.step = a.hi - a.lo > 5 ? 2 : 1;
+    return a;
+}
+
+/// The sweep index the sheet quotes source densities at: 1 kHz when the band holds it
+/// (a common reference point of noise data, common practice), else the band's centre on
+/// a log scale.
+std::size_t noiseReferenceIndex(const NoiseAnalysis &n)
+{
+    const double want
+        = n.bandLowHz <= 1e3 && n.bandHighHz >= 1e3 ? 1e3 : std::sqrt(n.bandLowHz * n.bandHighHz);
+    std::size_t best = 0;
+    for (std::size_t i = 0; i < n.frequenciesHz.size(); ++i) {
+        if (std::abs(std::log(n.frequenciesHz[i] / want))
+            < std::abs(std::log(n.frequenciesHz[best] / want)))
+            best = i;
+    }
+    return best;
+}
+
 } // namespace
 
 QString sheetPlotFileStem(SheetPlot plot)
@@ -559,6 +618,8 @@ QString sheetPlotFileStem(SheetPlot plot)
         return QStringLiteral("desensitivity");
     case SheetPlot::Step:
         return QStringLiteral("step");
+    case SheetPlot::Noise:
+        return QStringLiteral("noise");
     }
     return {};
 }
@@ -651,6 +712,44 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
         y.hi = std::ceil(hi / y.step) * y.step;
         drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, x, y, st, unit, true,
                   QStringLiteral("time"), false);
+        break;
+    }
+    case SheetPlot::Noise: {
+        const NoiseUnits u = noiseUnits(a);
+        title = QStringLiteral("Noise density, output and input-referred");
+        if (!a.noise || a.noise->frequenciesHz.empty()) {
+            p.setFont(sheetFont(kBodyPt));
+            p.setPen(kInk);
+            p.drawText(QRectF(QPointF(left, top), QPointF(right, bottom)),
+                       Qt::AlignCenter | Qt::TextWordWrap,
+                       QStringLiteral("No noise analysis: %1")
+                           .arg(a.noiseProblem.empty() ? QStringLiteral("not computed")
+                                                       : q(a.noiseProblem)));
+            break;
+        }
+        const NoiseAnalysis &n = *a.noise;
+        // The total and the three largest sources' own densities at the output.
+        std::vector<Series> out{logDensitySeries(QStringLiteral("total output"), n.frequenciesHz,
+                                                 n.outputDensity, kBlue)};
+        const QColor colours[] = {kOrange, kGreen, kPurple};
+        const auto order = noiseSourcesByShare(n);
+        for (std::size_t i = 0; i < order.size() && i < 3; ++i) {
+            std::vector<double> own(order[i]->outputPsd.size());
+            for (std::size_t j = 0; j < own.size(); ++j)
+                own[j] = std::sqrt(order[i]->outputPsd[j]);
+            out.push_back(logDensitySeries(noiseSourceName(*order[i]), n.frequenciesHz, own,
+                                           colours[i], Qt::DashLine));
+        }
+        std::vector<Series> in{logDensitySeries(QStringLiteral("input-referred"), n.frequenciesHz,
+                                                n.inputDensity, kBlue)};
+        legend = out;
+        const double mid = top + (bottom - top) * 0.58;
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx,
+                  decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false,
+                  {}, true);
+        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx,
+                  decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
+                  QStringLiteral("Hz"), true);
         break;
     }
     }
@@ -833,6 +932,9 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         const auto [text, colour] = verdict(ok);
         rows.push_back({{name, value, spec, text}, {kInk, kInk, kInk, colour}});
     };
+    // Core's spec check, the one the Candidates panel and the spread yield use.
+    const SpecCheck check = checkSpecs(
+        d.specs, d.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
     {
         const Specs &s = d.specs;
         std::optional<bool> ok;
@@ -841,8 +943,7 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
             spec = QStringLiteral("%1 … %2").arg(
                 s.gainMin ? eng(s.gainMin->si, gu) : QStringLiteral("−∞"),
                 s.gainMax ? eng(s.gainMax->si, gu) : QStringLiteral("+∞"));
-            ok = a.exact.gain && (!s.gainMin || *a.exact.gain >= s.gainMin->si)
-                && (!s.gainMax || *a.exact.gain <= s.gainMax->si);
+            ok = check.gain;
         }
         add(QStringLiteral("DC gain (exact)"), eng(a.exact.gain, gu), spec, ok);
     }
@@ -851,17 +952,20 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         QString spec = QStringLiteral("—");
         if (d.specs.bandwidthMin) {
             spec = QStringLiteral("≥ %1").arg(eng(d.specs.bandwidthMin->si, "Hz"));
-            ok = a.bandwidthHz && *a.bandwidthHz >= d.specs.bandwidthMin->si;
+            ok = check.bandwidth;
         }
-        add(QStringLiteral("bandwidth (−3 dB)"), eng(a.bandwidthHz, "Hz"), spec, ok);
+        // No -3 dB point inside the sweep: the closed loop is flat beyond its end.
+        const QString value = a.bandwidthHz
+            ? eng(a.bandwidthHz, "Hz")
+            : QStringLiteral("> %1").arg(eng(d.sweep.stop.si, "Hz"));
+        add(QStringLiteral("bandwidth (−3 dB)"), value, spec, ok);
     }
     {
         std::optional<bool> ok;
         QString spec = QStringLiteral("—");
         if (d.specs.phaseMarginMinDeg) {
             spec = QStringLiteral("≥ %1").arg(degrees(*d.specs.phaseMarginMinDeg));
-            ok = a.margins.phaseMarginDeg
-                && *a.margins.phaseMarginDeg >= *d.specs.phaseMarginMinDeg;
+            ok = check.phaseMargin;
         }
         add(QStringLiteral("phase margin"), degrees(a.margins.phaseMarginDeg), spec, ok);
     }
@@ -882,32 +986,472 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
             rows);
 }
 
-void candidatesSection(SheetWriter &w, const Design &d)
+void noiseSection(SheetWriter &w, const Analysis &a)
+{
+    w.heading(QStringLiteral("Noise"));
+    const QFont f = sheetFont(kBodyPt);
+    if (!a.noise) {
+        w.paragraph(
+            QStringLiteral("No noise analysis: %1")
+                .arg(a.noiseProblem.empty() ? QStringLiteral("not computed") : q(a.noiseProblem)),
+            f);
+        w.advance(1);
+        return;
+    }
+    const NoiseAnalysis &n = *a.noise;
+    const NoiseUnits u = noiseUnits(a);
+    const std::string out = u.output.toStdString(), in = u.input.toStdString();
+    w.paragraph(QStringLiteral("Output noise %1 rms, input-referred %2 rms, over %3–%4 at %5 K "
+                               "(%6 °C).")
+                    .arg(eng(n.outputRms, out), eng(n.inputRms, in), eng(n.bandLowHz, "Hz"),
+                         eng(n.bandHighHz, "Hz"), QString::number(n.temperatureK, 'f', 2),
+                         QString::number(n.temperatureK - 273.15, 'g', 5)),
+                f);
+    w.paragraph(QStringLiteral("Band: %1.").arg(q(n.bandMethod)), sheetFont(7.5), 0,
+                QColor(90, 90, 90));
+    w.advance(1.5);
+    if (n.contributions.empty() || n.frequenciesHz.empty())
+        return;
+    const std::size_t ref = noiseReferenceIndex(n);
+    const auto order = noiseSourcesByShare(n);
+    const auto share = [&](double rms) -> QString {
+        if (!n.outputRms || !(*n.outputRms > 0))
+            return QStringLiteral("—");
+        const double pct = 100.0 * rms * rms / (*n.outputRms * *n.outputRms);
+        return pct < 0.01 ? QStringLiteral("< 0.01 %") : QString::number(pct, 'f', 2) + " %";
+    };
+    const auto kind = [](NoiseSourceKind k) {
+        switch (k) {
+        case NoiseSourceKind::Resistor:
+            return QStringLiteral("thermal (4kTR)");
+        case NoiseSourceKind::VoltageNoise:
+            return QStringLiteral("input voltage noise");
+        case NoiseSourceKind::CurrentNoise:
+            return QStringLiteral("input current noise");
+        }
+        return QString();
+    };
+    constexpr std::size_t kRows = 5;
+    std::vector<SheetWriter::Row> rows;
+    double restPower = 0, restPsd = 0;
+    for (std::size_t i = 0; i < order.size(); ++i) {
+        const NoiseContribution &c = *order[i];
+        const double psd = ref < c.outputPsd.size() ? c.outputPsd[ref] : NAN;
+        // Five rows, or six when the sixth is the last source: an "others" row of one
+        // source would only hide its name.
+        if (i >= kRows && order.size() > kRows + 1) {
+            restPower += c.rms * c.rms;
+            restPsd += psd;
+            continue;
+        }
+        rows.push_back({{noiseSourceName(c), kind(c.kind), eng(std::sqrt(psd), out + "/√Hz"),
+                         eng(c.rms, out), share(c.rms)}});
+    }
+    if (order.size() > kRows + 1)
+        rows.push_back({{QStringLiteral("%1 other sources").arg(order.size() - kRows),
+                         QStringLiteral("—"), eng(std::sqrt(restPsd), out + "/√Hz"),
+                         eng(std::sqrt(restPower), out), share(std::sqrt(restPower))}});
+    w.table({{QStringLiteral("Source"), 46},
+             {QStringLiteral("Kind"), 30},
+             {QStringLiteral("Output density, %1").arg(eng(n.frequenciesHz[ref], "Hz", 3)), 42,
+              Qt::AlignRight},
+             {QStringLiteral("RMS at the output"), 34, Qt::AlignRight},
+             {QStringLiteral("Share of power"), 28, Qt::AlignRight}},
+            rows);
+    w.paragraph(QStringLiteral("Share = the source's output power over the band / the total; "
+                               "uncorrelated sources add in power."),
+                sheetFont(7.5), 0, QColor(90, 90, 90));
+}
+
+/// One column of the candidates comparison: the current design or a candidate.
+struct CandidateColumn
+{
+    QString name;
+    Design design;
+    std::optional<Analysis> analysis;
+    QString problem; ///< why there is no analysis
+};
+
+std::vector<CandidateColumn> candidateColumns(const Design &d, const Analysis &current)
+{
+    std::vector<CandidateColumn> columns{{QStringLiteral("current design"), d, current, {}}};
+    AnalysisOptions lean; // the comparison shows no sensitivity or noise figures
+    lean.sensitivity = false;
+    lean.noise = false;
+    for (const Candidate &c : d.candidates) {
+        CandidateColumn col{q(c.name), d, std::nullopt, {}};
+        auto applied = applyCandidate(d, c);
+        if (applied) {
+            col.design = *applied;
+            auto analysis = analyze(col.design, {}, lean);
+            if (analysis)
+                col.analysis = std::move(analysis).value();
+            else
+                col.problem = q(analysis.errorText());
+        } else {
+            col.problem = q(applied.errorText());
+        }
+        columns.push_back(std::move(col));
+    }
+    return columns;
+}
+
+QString specVerdict(const Design &d, const std::optional<Analysis> &a)
+{
+    if (!a || !hasSpecs(d.specs))
+        return QStringLiteral("—");
+    const SpecCheck check = checkSpecs(
+        d.specs, d.sweep, TrialMetrics{a->exact.gain, a->bandwidthHz, a->margins.phaseMarginDeg});
+    QStringList failed;
+    if (!check.gain)
+        failed << QStringLiteral("gain");
+    if (!check.bandwidth)
+        failed << QStringLiteral("bandwidth");
+    if (!check.phaseMargin)
+        failed << QStringLiteral("margin");
+    return failed.isEmpty() ? QStringLiteral("pass") : QStringLiteral("fail: ") + failed.join(", ");
+}
+
+/// A part's primary value as the parts table writes it ("1 MΩ"), or "—".
+QString primaryValueText(const Design &d, const std::string &partId)
+{
+    const Part *part = d.findPart(partId);
+    if (!part)
+        return QStringLiteral("—");
+    const auto it = part->fields.find(std::string(part->primaryField()));
+    if (it == part->fields.end())
+        return QStringLiteral("—");
+    const FieldSpec *spec = findFieldSpec(part->type, part->primaryField());
+    return q(formatValue(it->second.si, spec ? spec->kind : ValueKind::Plain, 3));
+}
+
+/// The current design and every candidate side by side, four columns to a table.
+void candidatesSection(SheetWriter &w, const Design &d, const Analysis &current)
 {
     if (d.candidates.empty())
         return;
     w.heading(QStringLiteral("Candidates"));
-    std::vector<SheetWriter::Row> rows;
-    for (const Candidate &c : d.candidates) {
-        QString values;
-        for (const auto &[id, v] : c.values) {
-            const Part *part = d.findPart(id);
-            const FieldSpec *spec
-                = part ? findFieldSpec(part->type, part->primaryField()) : nullptr;
-            const QString text = q(formatValue(v.si, spec ? spec->kind : ValueKind::Plain, 3));
-            values += (values.isEmpty() ? QString() : QStringLiteral(", ")) + q(id) + " = " + text;
-        }
-        rows.push_back({{q(c.name), values}});
+    const std::vector<CandidateColumn> columns = candidateColumns(d, current);
+    const std::string &gu = current.gainUnit;
+
+    // Rows for the parts some candidate changes, in the design's part order.
+    std::vector<const Part *> changed;
+    for (const Part &p : d.parts) {
+        if (std::any_of(d.candidates.begin(), d.candidates.end(),
+                        [&](const Candidate &c) { return c.values.count(p.id) > 0; }))
+            changed.push_back(&p);
     }
-    w.table({{QStringLiteral("Candidate"), 50}, {QStringLiteral("Changed values"), 130}}, rows);
+    using Metric = std::function<QString(const CandidateColumn &)>;
+    const auto analysed = [](auto f) -> Metric {
+        return [f](const CandidateColumn &c) {
+            return c.analysis ? f(*c.analysis) : QStringLiteral("—");
+        };
+    };
+    std::vector<std::pair<QString, Metric>> rows;
+    for (const Part *p : changed) {
+        rows.push_back({q(p->id), [p](const CandidateColumn &c) {
+                            return primaryValueText(c.design, p->id);
+                        }});
+    }
+    rows.push_back({QStringLiteral("DC gain (exact)"),
+                    analysed([&](const Analysis &a) { return eng(a.exact.gain, gu); })});
+    rows.push_back({QStringLiteral("bandwidth (−3 dB)"),
+                    analysed([](const Analysis &a) { return eng(a.bandwidthHz, "Hz"); })});
+    rows.push_back({QStringLiteral("phase margin"),
+                    analysed([](const Analysis &a) { return degrees(a.margins.phaseMarginDeg); })});
+    rows.push_back({QStringLiteral("peaking"),
+                    analysed([](const Analysis &a) { return decibels(a.peakingDb); })});
+    rows.push_back({QStringLiteral("desensitivity at DC"),
+                    analysed([](const Analysis &a) { return decibels(a.desensitivityDb); })});
+    rows.push_back({QStringLiteral("z_in"),
+                    analysed([](const Analysis &a) { return eng(a.exact.zIn, "Ω"); })});
+    rows.push_back({QStringLiteral("z_out"),
+                    analysed([](const Analysis &a) { return eng(a.exact.zOut, "Ω"); })});
+    rows.push_back({QStringLiteral("specs"), [](const CandidateColumn &c) {
+                        return specVerdict(c.design, c.analysis);
+                    }});
+
+    constexpr std::size_t kPerTable = 4;
+    for (std::size_t first = 0; first < columns.size(); first += kPerTable) {
+        const std::size_t last = std::min(columns.size(), first + kPerTable);
+        std::vector<SheetWriter::Column> header{{QStringLiteral(""), 40}};
+        for (std::size_t c = first; c < last; ++c)
+            header.push_back({columns[c].name, 35, Qt::AlignRight});
+        std::vector<SheetWriter::Row> tableRows;
+        for (const auto &[label, metric] : rows) {
+            SheetWriter::Row row{{label}};
+            for (std::size_t c = first; c < last; ++c)
+                row.cells << metric(columns[c]);
+            tableRows.push_back(std::move(row));
+        }
+        w.table(header, tableRows);
+        w.advance(2);
+    }
+    for (const CandidateColumn &c : columns) {
+        if (!c.problem.isEmpty())
+            w.paragraph(c.name + QStringLiteral(": ") + c.problem, sheetFont(kBodyPt));
+    }
+}
+
+QString spreadNumber(const OptionalNumber &v, int metric, const std::string &gainUnit)
+{
+    if (!v || !std::isfinite(*v))
+        return QStringLiteral("—");
+    if (metric == 2)
+        return QString::number(*v, *v != 0 && std::abs(*v) < 0.01 ? 'g' : 'f', 2)
+            + QStringLiteral("°");
+    return eng(v, metric == 0 ? std::string_view(gainUnit) : std::string_view("Hz"));
+}
+
+/// The gain histogram of a Monte Carlo run, with the spec window and the nominal gain.
+void drawGainHistogram(QPainter &p, const QRectF &rect, double k, const MetricStats &s,
+                       const Specs &specs, const OptionalNumber &nominal, const std::string &unit)
+{
+    p.save();
+    const QFont tick = sheetFont(6.5), titleFont = sheetFont(8.5, true);
+    const QFontMetricsF fm(tick, p.device()), tfm(titleFont, p.device());
+    double lo = s.histogramLow, hi = s.histogramHigh;
+    if (!(hi > lo)) {
+        const double pad = std::max(std::abs(lo) * 1e-3, 1e-12);
+        lo -= pad;
+        hi += pad;
+    }
+    const double span = hi - lo;
+    std::vector<double> limits;
+    for (const auto &v : {specs.gainMin, specs.gainMax})
+        if (v && v->si >= lo - 3 * span && v->si <= hi + 3 * span)
+            limits.push_back(v->si);
+    double plotLo = lo, plotHi = hi;
+    for (double v : limits) {
+        plotLo = std::min(plotLo, v);
+        plotHi = std::max(plotHi, v);
+    }
+    const double pad = (plotHi - plotLo) * 0.04;
+    plotLo -= pad;
+    plotHi += pad;
+    // tick labels with one prefix for the whole axis (e.g. MV/A)
+    const double mag = std::max(std::abs(plotLo), std::abs(plotHi));
+    static const std::pair<double, const char *> prefixes[]
+        = {{1e12, "T"}, {1e9, "G"},  {1e6, "M"},  {1e3, "k"},  {1, ""},
+           {1e-3, "m"}, {1e-6, "µ"}, {1e-9, "n"}, {1e-12, "p"}};
+    double factor = 1;
+    QString prefix;
+    for (const auto &[f, name] : prefixes) {
+        if (mag >= f) {
+            factor = 1 / f;
+            prefix = QString::fromUtf8(name);
+            break;
+        }
+    }
+    const double rawStep = (plotHi - plotLo) * factor / 6;
+    const double decade = std::pow(10.0, std::floor(std::log10(rawStep)));
+    double step = decade;
+    for (double m : {1.0, 2.0, 2.5, 5.0, 10.0}) {
+        step = m * decade;
+        if (step >= rawStep)
+            break;
+    }
+    const double xLo = std::floor(plotLo * factor / step) * step;
+    const double xHi = std::ceil(plotHi * factor / step) * step;
+    std::size_t top = 1;
+    for (std::size_t c : s.histogram)
+        top = std::max(top, c);
+    const double yStep = niceStep(
+        double(top) * 1.1, 4, {1,   2,    5,    10,   20,   25,    50,    100,   200,   250,
+                               500, 1000, 2000, 2500, 5000, 10000, 20000, 25000, 50000, 100000});
+    const double yHi = std::ceil(double(top) * 1.1 / yStep) * yStep;
+
+    const QRectF area(rect.left() + 17 * k, rect.top() + tfm.height() + 3 * k,
+                      rect.width() - 19 * k, rect.height() - tfm.height() - 12 * k);
+    const auto X = [&](double v) {
+        return area.left() + (v * factor - xLo) / (xHi - xLo) * area.width();
+    };
+    const auto Y = [&](double c) {
+        return area.bottom() - c / yHi * area.height();
+    };
+    p.setFont(tick);
+    const int decimals = std::max(0, -static_cast<int>(std::floor(std::log10(step) + 1e-9)));
+    for (double v = xLo; v <= xHi + step * 1e-6; v += step) {
+        const double x = area.left() + (v - xLo) / (xHi - xLo) * area.width();
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+        const QString label = QString::number(std::abs(v) < step * 1e-6 ? 0.0 : v, 'f', decimals);
+        p.setPen(kInk);
+        p.drawText(
+            QPointF(x - fm.horizontalAdvance(label) / 2, area.bottom() + 1.2 * k + fm.ascent()),
+            label);
+    }
+    double maxLabel = 0;
+    for (double c = 0; c <= yHi + yStep * 1e-6; c += yStep) {
+        const double y = Y(c);
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(area.left(), y), QPointF(area.right(), y));
+        const QString label = QString::number(c, 'f', 0);
+        maxLabel = std::max(maxLabel, fm.horizontalAdvance(label));
+        p.setPen(kInk);
+        p.drawText(QPointF(area.left() - 1.2 * k - fm.horizontalAdvance(label),
+                           y + fm.ascent() / 2 - fm.descent() / 2),
+                   label);
+    }
+    const QString xTitle = QStringLiteral("closed-loop gain (%1%2)").arg(prefix, q(unit));
+    p.drawText(QPointF(area.right() - fm.horizontalAdvance(xTitle),
+                       area.bottom() + 1.2 * k + fm.ascent() + fm.height()),
+               xTitle);
+    p.save();
+    p.translate(area.left() - 2.4 * k - maxLabel - fm.descent(), area.center().y());
+    p.rotate(-90);
+    const QString yTitle = QStringLiteral("trials");
+    p.drawText(QPointF(-fm.horizontalAdvance(yTitle) / 2, 0), yTitle);
+    p.restore();
+
+    p.save();
+    p.setClipRect(area);
+    QPolygonF outline;
+    const std::size_t bins = s.histogram.size();
+    const double width = bins ? (s.histogramHigh - s.histogramLow) / double(bins) : 0;
+    const double base = width > 0 ? s.histogramLow : lo;
+    const double binWidth = width > 0 ? width : (hi - lo) / double(std::max<std::size_t>(bins, 1));
+    outline << QPointF(X(base), Y(0));
+    for (std::size_t b = 0; b < bins; ++b) {
+        const double c = double(s.histogram[b]);
+        outline << QPointF(X(base + double(b) * binWidth), Y(c))
+                << QPointF(X(base + double(b + 1) * binWidth), Y(c));
+    }
+    outline << QPointF(X(base + double(bins) * binWidth), Y(0));
+    p.setPen(QPen(kBlue, 0.3 * k));
+    p.setBrush(QColor(kBlue.red(), kBlue.green(), kBlue.blue(), 60));
+    p.drawPolygon(outline);
+    p.setBrush(Qt::NoBrush);
+    p.setPen(QPen(kFail, 0.35 * k, Qt::DashLine));
+    for (double v : limits)
+        p.drawLine(QPointF(X(v), area.top()), QPointF(X(v), area.bottom()));
+    if (nominal && std::isfinite(*nominal)) {
+        p.setPen(QPen(kInk, 0.3 * k, Qt::DotLine));
+        p.drawLine(QPointF(X(*nominal), area.top()), QPointF(X(*nominal), area.bottom()));
+    }
+    p.restore();
+    p.setPen(QPen(kRule, 0.25 * k));
+    p.drawRect(area);
+
+    p.setFont(titleFont);
+    p.setPen(kInk);
+    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()),
+               QStringLiteral("Monte Carlo: closed-loop gain"));
+    // legend beside the title
+    p.setFont(tick);
+    double x = rect.left() + tfm.horizontalAdvance(QStringLiteral("Monte Carlo: closed-loop gain"))
+        + 6 * k;
+    const double y = rect.top() + tfm.ascent() - fm.ascent() / 2 + fm.descent() / 2;
+    const auto legend = [&](const QPen &pen, const QString &text) {
+        p.setPen(pen);
+        p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+        x += 7 * k;
+        p.setPen(kInk);
+        p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), text);
+        x += fm.horizontalAdvance(text) + 4 * k;
+    };
+    legend(QPen(kBlue, 0.5 * k), QStringLiteral("trials per bin"));
+    if (!limits.empty())
+        legend(QPen(kFail, 0.35 * k, Qt::DashLine), QStringLiteral("spec window"));
+    legend(QPen(kInk, 0.3 * k, Qt::DotLine), QStringLiteral("nominal"));
+    p.restore();
+}
+
+void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const SheetSpread *spread)
+{
+    if (!spread)
+        return;
+    const WorstCaseResult &wc = spread->worstCase;
+    const MonteCarloResult &mc = spread->monteCarlo;
+    const std::string gu = a.gainUnit;
+    w.heading(QStringLiteral("Spread over tolerances"));
+    QStringList quantities;
+    for (const SpreadQuantity &sq : mc.quantities)
+        quantities << QStringLiteral("%1 %2 ±%3 %")
+                          .arg(q(sq.part), q(sq.field),
+                               QString::number(sq.tolerance * 100, 'g', 3));
+    const QFont f = sheetFont(kBodyPt);
+    w.paragraph(
+        QStringLiteral("Toleranced quantities: %1. Worst case: %2. Monte Carlo: %3 trials "
+                       "(%4 completed), %5 distribution%6, seed %7.")
+            .arg(quantities.join(QStringLiteral(", ")),
+                 wc.exhaustive
+                     ? (wc.corners == 2
+                            ? QStringLiteral("both corners of the tolerance box")
+                            : QStringLiteral("all %1 corners of the tolerance box").arg(wc.corners))
+                     : QStringLiteral("%1 sensitivity corners, an approximation beyond %2 "
+                                      "quantities")
+                           .arg(wc.corners)
+                           .arg(kMaxVertexQuantities))
+            .arg(mc.trials)
+            .arg(mc.completed)
+            .arg(q(toString(mc.distribution)),
+                 mc.distribution == SpreadDistribution::Normal ? QStringLiteral(" (tolerance = 3σ)")
+                                                               : QString())
+            .arg(mc.seed),
+        f);
+    w.advance(1.5);
+    std::vector<SheetWriter::Row> rows;
+    const MetricRange *ranges[] = {&wc.gain, &wc.bandwidthHz, &wc.phaseMarginDeg};
+    const MetricStats *stats[] = {&mc.gain, &mc.bandwidthHz, &mc.phaseMarginDeg};
+    const OptionalNumber nominal[]
+        = {mc.nominal.gain, mc.nominal.bandwidthHz, mc.nominal.phaseMarginDeg};
+    const QString names[] = {QStringLiteral("DC gain"), QStringLiteral("bandwidth (−3 dB)"),
+                             QStringLiteral("phase margin")};
+    for (int m = 0; m < 3; ++m) {
+        const MetricStats &s = *stats[m];
+        const auto stat = [&](double v) {
+            return s.count ? spreadNumber(v, m, gu) : QStringLiteral("—");
+        };
+        rows.push_back({{names[m], spreadNumber(nominal[m], m, gu),
+                         spreadNumber(ranges[m]->min, m, gu), spreadNumber(ranges[m]->max, m, gu),
+                         stat(s.min), stat(s.mean), stat(s.max), stat(s.std)}});
+    }
+    const double cw = (w.width() - 33) / 7;
+    w.table({{QStringLiteral("Metric"), 33},
+             {QStringLiteral("Nominal"), cw, Qt::AlignRight},
+             {QStringLiteral("Worst min"), cw, Qt::AlignRight},
+             {QStringLiteral("Worst max"), cw, Qt::AlignRight},
+             {QStringLiteral("MC min"), cw, Qt::AlignRight},
+             {QStringLiteral("MC mean"), cw, Qt::AlignRight},
+             {QStringLiteral("MC max"), cw, Qt::AlignRight},
+             {QStringLiteral("Std dev"), cw, Qt::AlignRight}},
+            rows);
+    QString yield = mc.hasSpecs
+        ? QStringLiteral("Yield against the specs: %1 % (%2 of %3 trials meet every spec).")
+              .arg(mc.yield * 100.0, 0, 'f', 2)
+              .arg(mc.passed)
+              .arg(mc.completed)
+        : QStringLiteral("Yield: the design has no specs.");
+    if (mc.failed)
+        yield += QStringLiteral(" %1 trials had no circuit solution.").arg(mc.failed);
+    if (mc.bandwidthHz.missing)
+        yield += QStringLiteral(" %1 trials have no −3 dB point inside the sweep.")
+                     .arg(mc.bandwidthHz.missing);
+    w.paragraph(yield, sheetFont(kBodyPt, true));
+    w.paragraph(QStringLiteral("Worst min/max: extremes over the corners; MC: Monte Carlo "
+                               "statistics (std dev with n − 1)."),
+                sheetFont(7.5), 0, QColor(90, 90, 90));
+    if (mc.gain.count == 0 || mc.gain.histogram.empty())
+        return;
+    const double h = 58;
+    w.advance(2);
+    w.ensure(h);
+    if (QPainter *p = w.painter())
+        drawGainHistogram(*p, w.toDevice(QRectF(0, w.y(), w.width(), h)), w.k(), mc.gain, d.specs,
+                          mc.nominal.gain, gu);
+    w.advance(h + 2);
 }
 
 void plotsSection(SheetWriter &w, const Analysis &a)
 {
-    w.heading(QStringLiteral("Plots"));
-    const double gap = 5;
+    constexpr double kTallMm = 120, kOtherMm = 95, gap = 5;
+    const auto height = [&](SheetPlot plot) {
+        return plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? kTallMm : kOtherMm;
+    };
+    w.heading(QStringLiteral("Plots"), height(kSheetPlots[0]));
     for (SheetPlot plot : kSheetPlots) {
-        const double ph = plot == SheetPlot::LoopGain ? 120 : 95;
+        const double ph = height(plot);
         w.ensure(ph);
         if (QPainter *p = w.painter())
             drawSheetPlot(*p, w.toDevice(QRectF(0, w.y(), w.width(), ph)), w.k(), plot, a);
@@ -922,7 +1466,8 @@ void cautionsSection(SheetWriter &w)
 }
 
 int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm, double k,
-               int totalPages, const Design &d, const Analysis &a, const QString &fileName)
+               int totalPages, const Design &d, const Analysis &a, const QString &fileName,
+               const SheetSpread *spread)
 {
     SheetWriter w(p, device, pdf, pageMm, k, totalPages);
     titleBlock(w, d, fileName);
@@ -931,7 +1476,9 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     topologySection(w, a);
     methodSection(w, a);
     metricsSection(w, d, a);
-    candidatesSection(w, d);
+    noiseSection(w, a);
+    candidatesSection(w, d, a);
+    spreadSection(w, d, a, spread);
     plotsSection(w, a);
     cautionsSection(w);
     w.finish();
@@ -953,18 +1500,47 @@ QSizeF paintSizeMm(const QPdfWriter &pdf)
 
 } // namespace
 
-int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize)
+bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
+                        const std::string &file, std::optional<SheetSpread> *out, QString *error)
+{
+    out->reset();
+    if (trials <= 0)
+        return true;
+    SpreadOptions options;
+    options.trials = trials;
+    options.seed = seed;
+    if (!spreadQuantities(design, options, file))
+        return true;
+    auto worst = worstCase(design, options, file);
+    if (!worst) {
+        if (error)
+            *error = q(worst.errorText());
+        return false;
+    }
+    auto mc = monteCarlo(design, options, file);
+    if (!mc) {
+        if (error)
+            *error = q(mc.errorText());
+        return false;
+    }
+    *out = SheetSpread{std::move(worst).value(), std::move(mc).value()};
+    return true;
+}
+
+int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
+                         const SheetSpread *spread)
 {
     QPdfWriter pdf(QString{});
     setUpWriter(pdf, pageSize, {});
     return paintSheet(nullptr, &pdf, nullptr, paintSizeMm(pdf), pdf.resolution() / 25.4, 0, design,
-                      analysis, {});
+                      analysis, {}, spread);
 }
 
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
-                       SheetPageSize pageSize, const QString &fileName, QString *error)
+                       SheetPageSize pageSize, const QString &fileName, QString *error,
+                       const SheetSpread *spread)
 {
-    const int pages = reviewSheetPageCount(design, analysis, pageSize);
+    const int pages = reviewSheetPageCount(design, analysis, pageSize, spread);
     QSaveFile file(path);
     if (!file.open(QIODevice::WriteOnly)) {
         if (error)
@@ -983,7 +1559,7 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
             return false;
         }
         paintSheet(&painter, &pdf, &pdf, paintSizeMm(pdf), pdf.resolution() / 25.4, pages, design,
-                   analysis, fileName);
+                   analysis, fileName, spread);
         painter.end();
     }
     if (!file.commit()) {
@@ -995,18 +1571,29 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
     return true;
 }
 
-bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error)
+QString plotFileSuffix(PlotFormat format)
+{
+    return format == PlotFormat::Svg ? QStringLiteral(".svg") : QStringLiteral(".png");
+}
+
+bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
+                     QString *error)
 {
     if (!QDir().mkpath(dir)) {
         if (error)
             *error = QStringLiteral("%1: cannot create the directory").arg(dir);
         return false;
     }
-    constexpr int kResolution = 90;
-    const double k = kResolution / 25.4;
+    // SVG at 90 dpi keeps the drawing's nominal size in viewers; PNG at 150 dpi is sharp
+    // enough for slides and documents without being huge.
+    const int resolution = format == PlotFormat::Svg ? 90 : 150;
+    const double k = resolution / 25.4;
     const QSizeF sizeMm(170, 110);
+    const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
+                   static_cast<int>(std::lround(sizeMm.height() * k)));
+    const QRectF plotRect(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k);
     for (SheetPlot plot : kSheetPlots) {
-        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + QStringLiteral(".svg"));
+        const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + plotFileSuffix(format));
         QSaveFile file(path);
         if (!file.open(QIODevice::WriteOnly)) {
             if (error)
@@ -1014,20 +1601,32 @@ bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *e
                     = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
             return false;
         }
-        {
+        if (format == PlotFormat::Svg) {
             QSvgGenerator svg;
             svg.setOutputDevice(&file);
-            svg.setResolution(kResolution);
-            const QSize px(static_cast<int>(std::lround(sizeMm.width() * k)),
-                           static_cast<int>(std::lround(sizeMm.height() * k)));
+            svg.setResolution(resolution);
             svg.setSize(px);
             svg.setViewBox(QRect(QPoint(0, 0), px));
             svg.setTitle(q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
             QPainter painter(&svg);
             painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
-            drawSheetPlot(painter,
-                          QRectF(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k),
-                          k, plot, analysis);
+            drawSheetPlot(painter, plotRect, k, plot, analysis);
+        } else {
+            QImage image(px, QImage::Format_RGB32);
+            const int dotsPerMetre = static_cast<int>(std::lround(resolution / 0.0254));
+            image.setDotsPerMeterX(dotsPerMetre); // point-sized fonts scale with the image
+            image.setDotsPerMeterY(dotsPerMetre);
+            image.fill(Qt::white);
+            {
+                QPainter painter(&image);
+                painter.setRenderHint(QPainter::Antialiasing);
+                painter.setRenderHint(QPainter::TextAntialiasing);
+                drawSheetPlot(painter, plotRect, k, plot, analysis);
+            }
+            image.setText(QStringLiteral("Title"),
+                          q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
+            if (!image.save(&file, "PNG"))
+                file.cancelWriting();
         }
         if (!file.commit()) {
             if (error)

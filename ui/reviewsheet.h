@@ -5,9 +5,14 @@
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/design.h"
+#include "loopsketch/spread.h"
 
 #include <QRectF>
 #include <QString>
+
+#include <cstdint>
+#include <optional>
+#include <string>
 
 class QPainter;
 
@@ -15,12 +20,31 @@ namespace loopsketch::ui {
 
 enum class SheetPageSize { A4, Letter };
 
+/// Spread results for the sheet: worst case and Monte Carlo of the sheet's design.
+struct SheetSpread
+{
+    WorstCaseResult worstCase;
+    MonteCarloResult monteCarlo;
+};
+
+/// The spread a sheet carries when no run is given: Monte Carlo trials and seed (uniform over
+/// each part's tolerance, no gain block spread), the defaults of `loopsketch export`.
+inline constexpr int kSheetSpreadTrials = 2000;
+inline constexpr std::uint64_t kSheetSpreadSeed = 1;
+
+/// Worst case and Monte Carlo of `design` for the sheet with `trials` and `seed`. Sets `out`
+/// to nullopt when the design has nothing to spread (no tolerances) or `trials` is 0. On a
+/// failure of core returns false with its diagnostics in `error`.
+bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
+                        const std::string &file, std::optional<SheetSpread> *out, QString *error);
+
 /// The plots of the sheet, in sheet order.
-enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step };
+enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step, Noise };
 
 /// All plots, in sheet order.
 inline constexpr SheetPlot kSheetPlots[]
-    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity, SheetPlot::Step};
+    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity, SheetPlot::Step,
+       SheetPlot::Noise};
 
 /// File name stem of a plot's SVG ("loop-gain", "impedance" ...).
 QString sheetPlotFileStem(SheetPlot plot);
@@ -38,16 +62,26 @@ QString revisionText(const Design &design);
 QString designContentHash(const Design &design);
 
 /// Writes the review sheet as PDF to `path` through a QSaveFile (no partial file on
-/// failure). `fileName` is shown in the title block. On failure returns false and sets
-/// `error` to a message naming the path. Needs a QApplication (the sketch is a scene).
+/// failure). `fileName` is shown in the title block. `spread`, when given, adds the spread
+/// section. On failure returns false and sets `error` to a message naming the path. Needs a
+/// QApplication (the sketch is a scene).
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
-                       SheetPageSize pageSize, const QString &fileName, QString *error);
+                       SheetPageSize pageSize, const QString &fileName, QString *error,
+                       const SheetSpread *spread = nullptr);
 
-/// The number of pages renderReviewSheet writes for this design and page size.
-int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize);
+/// The number of pages renderReviewSheet writes for this design, page size and spread.
+int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
+                         const SheetSpread *spread = nullptr);
 
-/// Writes one SVG per plot into directory `dir` (created when missing), each through a
-/// QSaveFile. On failure returns false and sets `error`.
-bool writeSheetPlotsSvg(const Analysis &analysis, const QString &dir, QString *error);
+/// File formats of the plot export.
+enum class PlotFormat { Svg, Png };
+
+/// ".svg" / ".png".
+QString plotFileSuffix(PlotFormat format);
+
+/// Writes one file per plot (vector SVG, or PNG at 150 dpi) into directory `dir` (created
+/// when missing), each through a QSaveFile. On failure returns false and sets `error`.
+bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
+                     QString *error);
 
 } // namespace loopsketch::ui

@@ -4,6 +4,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <numbers>
 #include <sstream>
@@ -101,6 +103,28 @@ std::pair<std::string, std::string> noiseUnits(const std::string &gainUnit)
     if (slash == std::string::npos)
         return {"V", "V"};
     return {gainUnit.substr(0, slash), gainUnit.substr(slash + 1)};
+}
+
+// A source's name as the GUI's legend and the review sheet give it: "RF thermal",
+// "PD1 r_parallel thermal", "U1 e_n", "U1 i_n at in_n".
+std::string noiseSourceLabel(const NoiseContribution &c)
+{
+    switch (c.kind) {
+    case NoiseSourceKind::Resistor: {
+        const auto colon = c.name.find(':');
+        return (colon == std::string::npos ? c.partId : c.partId + " " + c.name.substr(colon + 1))
+            + " thermal";
+    }
+    case NoiseSourceKind::VoltageNoise:
+        return c.partId + " e_n";
+    case NoiseSourceKind::CurrentNoise: {
+        const auto open = c.name.find('('), close = c.name.rfind(')');
+        if (open != std::string::npos && close != std::string::npos && close > open)
+            return c.partId + " i_n at " + c.name.substr(open + 1, close - open - 1);
+        return c.partId + " i_n";
+    }
+    }
+    return c.name;
 }
 
 Json noiseJson(const Analysis &a)
@@ -253,6 +277,41 @@ std::string analysisToText(const Analysis &a)
     show("step rise time", a.step.riseTimeS, "s");
     show("step overshoot", a.step.overshootPct, "%");
     show("step settling (1 %)", a.step.settlingTimeS, "s");
+    if (a.noise && !a.noise->frequenciesHz.empty()) {
+        const NoiseAnalysis &n = *a.noise;
+        const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
+        std::ostringstream kelvin;
+        kelvin << n.temperatureK;
+        os << "\nNoise (" << kelvin.str() << " K)\n";
+        show("output, rms", n.outputRms, outUnit);
+        show("input-referred, rms", n.inputRms, inUnit);
+        const auto line = [&](const std::string &label, const std::string &text) {
+            os << "  " << label << std::string(label.size() < 26 ? 26 - label.size() : 1, ' ')
+               << text << "\n";
+        };
+        line("band",
+             formatEngineering(n.bandLowHz, 5, "Hz") + " – "
+                 + formatEngineering(n.bandHighHz, 5, "Hz"));
+        line("band method", n.bandMethod);
+        // The three largest sources by their share of the output power over the band.
+        std::vector<const NoiseContribution *> order;
+        for (const NoiseContribution &c : n.contributions)
+            order.push_back(&c);
+        std::stable_sort(order.begin(), order.end(),
+                         [](const auto *l, const auto *r) { return l->rms > r->rms; });
+        const double total = n.outputRms ? *n.outputRms * *n.outputRms : 0.0;
+        for (std::size_t i = 0; i < order.size() && i < 3 && total > 0; ++i) {
+            const double pct = 100.0 * order[i]->rms * order[i]->rms / total;
+            std::ostringstream share;
+            share.precision(pct < 1e-3 ? 2 : 4);
+            share << pct;
+            line(i == 0 ? "largest sources" : "",
+                 noiseSourceLabel(*order[i]) + ": " + share.str() + " % of the power, "
+                     + formatEngineering(order[i]->rms, 5, outUnit) + " rms");
+        }
+    } else if (!a.noiseProblem.empty()) {
+        os << "\nNoise: " << a.noiseProblem << "\n";
+    }
     return os.str();
 }
 
@@ -273,9 +332,19 @@ std::string sweepToCsv(const Analysis &a)
     for (const auto &[name, curve] : columns)
         os << ',' << name << "_db," << name << "_deg";
     const bool noise = a.noise && a.noise->outputDensity.size() == a.frequenciesHz.size();
-    // densities in the output's and the source's unit per sqrt(Hz) (V or A)
-    if (noise)
-        os << ",output_noise_v_per_rthz,input_noise_per_rthz";
+    // Densities per sqrt(Hz) in the output's and the signal source's unit, named with
+    // that unit as the other columns are (f_hz, _db, _deg): output_noise_v_per_rthz,
+    // input_noise_a_per_rthz for a transimpedance stage.
+    if (noise) {
+        auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
+        const auto lower = [](std::string u) {
+            for (char &ch : u)
+                ch = static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
+            return u;
+        };
+        os << ",output_noise_" << lower(outUnit) << "_per_rthz,input_noise_" << lower(inUnit)
+           << "_per_rthz";
+    }
     os << '\n';
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
         os << csvNumber(a.frequenciesHz[i]);

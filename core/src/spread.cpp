@@ -485,7 +485,7 @@ Json rangeJson(const MetricRange &r, const OptionalNumber &nominal)
 std::string quantityText(const SpreadQuantity &q)
 {
     std::ostringstream os;
-    os << q.part << " " << q.field << " +-" << formatEngineering(q.tolerance * 100.0, 3) << " %";
+    os << q.part << " " << q.field << " +-" << formatValue(q.tolerance, ValueKind::Tolerance, 3);
     return os.str();
 }
 

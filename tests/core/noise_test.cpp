@@ -306,7 +306,8 @@ TEST(Noise, AnalysisJsonAndCsvCarryNoise)
     EXPECT_THAT(json, HasSubstr("\"contributions\""));
     const std::string csv = sweepToCsv(*a);
     const std::string header = csv.substr(0, csv.find('\n'));
-    EXPECT_THAT(header, HasSubstr(",output_noise_v_per_rthz,input_noise_per_rthz"));
+    // units in the names as the other columns: the demo is V out per A in
+    EXPECT_THAT(header, HasSubstr(",output_noise_v_per_rthz,input_noise_a_per_rthz"));
 }
 
 TEST(Noise, BandOutsideTheSweepIsAnError)

@@ -234,3 +234,19 @@ TEST(Spread, MetricStatsOfKnownValues)
     EXPECT_NEAR(s.std, std::sqrt(5.0 / 3.0), 1e-15);
     EXPECT_EQ(s.histogram, (std::vector<std::size_t>{2, 2}));
 }
+
+TEST(Spread, TextNamesTolerancesAsPercent)
+{
+    // A 0.1 % resistor is written "0.1%" as on the part (common practice), never with an
+    // SI prefix on the percentage.
+    const Design d = parse(nonInverting(R"(, "tolerance": "0.1%")", R"(, "tolerance": "5%")"));
+    SpreadOptions options;
+    options.trials = 10;
+    auto worst = worstCase(d, options);
+    auto mc = monteCarlo(d, options);
+    ASSERT_TRUE(worst.ok() && mc.ok());
+    const std::string text = spreadToText(*worst, *mc, "V/V");
+    EXPECT_THAT(text, HasSubstr("R1 value +-0.1%"));
+    EXPECT_THAT(text, HasSubstr("R2 value +-5%"));
+    EXPECT_THAT(text, ::testing::Not(HasSubstr("m %")));
+}

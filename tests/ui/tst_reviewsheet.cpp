@@ -2,16 +2,20 @@
 // its extracted text against `analyze --json`, the CSV against the sweep, and the errors.
 // pdfinfo and pdftotext are Debian's poppler-utils (packaging/build-deps.txt).
 
+#include "clirun.h"
+
 #include "loopsketch/analysis.h"
+#include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/value.h"
 
 #include <QDir>
 #include <QFile>
 #include <QFileInfo>
+#include <QImage>
+#include <QJsonArray>
 #include <QJsonDocument>
 #include <QJsonObject>
-#include <QProcess>
 #include <QRegularExpression>
 #include <QStringList>
 #include <QTemporaryDir>
@@ -24,28 +28,6 @@
 using testing::HasSubstr;
 
 namespace {
-
-struct CliRun
-{
-    int exitCode = -1;
-    QString out, err;
-};
-
-CliRun run(const QString &program, const QStringList &args)
-{
-    QProcess p;
-    QProcessEnvironment env = QProcessEnvironment::systemEnvironment();
-    env.remove(QStringLiteral("DISPLAY"));
-    env.remove(QStringLiteral("WAYLAND_DISPLAY"));
-    env.remove(QStringLiteral("QT_QPA_PLATFORM")); // export must choose offscreen itself
-    p.setProcessEnvironment(env);
-    p.start(program, args);
-    if (!p.waitForFinished(60000))
-        return {};
-    return {p.exitStatus() == QProcess::NormalExit ? p.exitCode() : -1,
-            QString::fromUtf8(p.readAllStandardOutput()),
-            QString::fromUtf8(p.readAllStandardError())};
-}
 
 CliRun loopsketch(const QStringList &args)
 {
@@ -66,7 +48,9 @@ QString sheetNumber(double v, std::string_view unit)
 struct SheetCase
 {
     const char *design;
-    int pages; // the layout: first page title to metrics, plots on 2 and 3, cautions last
+    // the layout: first page title to metrics; noise, candidates, spread and plots on the
+    // following pages, cautions last
+    int pages;
 };
 
 class ReviewSheetExport : public testing::TestWithParam<SheetCase>
@@ -85,7 +69,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                       QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
     ASSERT_TRUE(QFileInfo::exists(pdf));
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "noise"}) {
         QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
         ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
         EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
@@ -125,6 +109,31 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     }
     EXPECT_THAT(sheet, HasSubstr(a["title"].toString().toStdString()));
 
+    // Noise totals and band as the sheet formats them (4 digits, as eng()), from the same
+    // numbers `analyze --json` prints; the largest source's share of the power with it.
+    const QJsonObject noise = a["noise"].toObject();
+    ASSERT_FALSE(noise.isEmpty());
+    const std::string outUnit = noise["output_unit"].toString().toStdString();
+    const std::string inUnit = noise["input_unit"].toString().toStdString();
+    ASSERT_TRUE(noise["output_rms"].isDouble());
+    ASSERT_TRUE(noise["input_rms"].isDouble());
+    EXPECT_THAT(sheet,
+                HasSubstr("Output noise "
+                          + sheetNumber(noise["output_rms"].toDouble(), outUnit).toStdString()
+                          + " rms, input-referred "
+                          + sheetNumber(noise["input_rms"].toDouble(), inUnit).toStdString()
+                          + " rms"));
+    const QJsonObject band = noise["band"].toObject();
+    EXPECT_THAT(sheet,
+                HasSubstr("over " + sheetNumber(band["low_hz"].toDouble(), "Hz").toStdString() + "–"
+                          + sheetNumber(band["high_hz"].toDouble(), "Hz").toStdString()));
+    double topShare = 0;
+    for (const QJsonValue &source : noise["contributions"].toArray())
+        topShare = std::max(topShare, source.toObject()["share_pct"].toDouble());
+    EXPECT_GT(topShare, 0);
+    EXPECT_THAT(sheet, HasSubstr(QString::number(topShare, 'f', 2).toStdString() + " %"));
+    EXPECT_THAT(sheet, HasSubstr("Noise density, output and input-referred"));
+
     // CSV: the exact gain column against the sweep of the same design.
     auto design = loopsketch::loadDesign(designPath(c.design).toStdString());
     ASSERT_TRUE(design) << design.errorText();
@@ -138,6 +147,14 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
     ASSERT_GE(fCol, 0);
     ASSERT_GE(gCol, 0);
+    // The noise densities' columns carry their units as the other columns do.
+    const QString outCol
+        = QStringLiteral("output_noise_%1_per_rthz").arg(QString::fromStdString(outUnit).toLower());
+    const QString inCol
+        = QStringLiteral("input_noise_%1_per_rthz").arg(QString::fromStdString(inUnit).toLower());
+    const qsizetype nCol = header.indexOf(outCol);
+    EXPECT_GE(nCol, 0) << lines.front().toStdString();
+    EXPECT_GE(header.indexOf(inCol), 0) << lines.front().toStdString();
     for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
         const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
         ASSERT_EQ(cells.size(), header.size()) << "row " << i;
@@ -149,18 +166,146 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
         // 20 log10 |G| (common practice); the CSV has 10 significant digits
         const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
         EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
+        if (nCol >= 0 && analysis->noise) {
+            const double want = analysis->noise->outputDensity[i];
+            EXPECT_NEAR(cells[nCol].toDouble(), want, 1e-8 * want) << "row " << i;
+        }
     }
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
-                         testing::Values(SheetCase{"demo", 3}, SheetCase{"contact-mic-preamp", 3},
-                                         SheetCase{"excitation-current-driver", 3},
-                                         SheetCase{"gas-cell-current-amplifier", 3}),
+                         testing::Values(SheetCase{"demo", 5}, SheetCase{"contact-mic-preamp", 5},
+                                         SheetCase{"excitation-current-driver", 5},
+                                         SheetCase{"gas-cell-current-amplifier", 5}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');
                              return name;
                          });
+
+// `loopsketch analyze FILE` (text): the noise lines carry core's totals, band and largest
+// sources, formatted as the text form formats every value (5 digits).
+TEST(AnalyzeText, NoiseTotalsBandAndLargestSources)
+{
+    const CliRun text = loopsketch({QStringLiteral("analyze"), designPath("demo")});
+    ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
+    const CliRun json = loopsketch({QStringLiteral("analyze"), designPath("demo"), "--json"});
+    ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
+    const QJsonObject noise
+        = QJsonDocument::fromJson(json.out.toUtf8()).object()["noise"].toObject();
+    ASSERT_FALSE(noise.isEmpty());
+    const std::string out = text.out.toStdString();
+    const auto five = [](double v, std::string_view unit) {
+        return loopsketch::formatEngineering(v, 5, unit);
+    };
+    EXPECT_THAT(out, HasSubstr("Noise ("));
+    EXPECT_THAT(
+        out, HasSubstr("output, rms               " + five(noise["output_rms"].toDouble(), "V")));
+    EXPECT_THAT(out,
+                HasSubstr("input-referred, rms       " + five(noise["input_rms"].toDouble(), "A")));
+    const QJsonObject band = noise["band"].toObject();
+    EXPECT_THAT(out,
+                HasSubstr(five(band["low_hz"].toDouble(), "Hz") + " – "
+                          + five(band["high_hz"].toDouble(), "Hz")));
+    // The demo's noise is set by its 1 MΩ feedback resistor (core: share 99.8 %).
+    EXPECT_THAT(out, HasSubstr("largest sources           RF thermal: "));
+    const auto lines = QString::fromStdString(out).split('\n');
+    const qsizetype at = lines.indexOf(QRegularExpression(QStringLiteral("^  largest sources.*")));
+    ASSERT_GE(at, 0);
+    ASSERT_LT(at + 2, lines.size());
+    EXPECT_THAT(lines[at + 1].toStdString(), HasSubstr("% of the power"));
+    EXPECT_THAT(lines[at + 2].toStdString(), HasSubstr("% of the power"));
+    EXPECT_THAT(out, testing::Not(HasSubstr("nan")));
+}
+
+int pageCount(const QString &pdf)
+{
+    const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
+    const auto m = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
+    return m.hasMatch() ? m.captured(1).toInt() : -1;
+}
+
+TEST(ReviewSheetSpread, StatesTrialsSeedAndTheNumbersOfSpreadJson)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--spread-trials",
+                                 "700", "--spread-seed", "42"});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0);
+    const std::string sheet = text.out.toStdString();
+    EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
+    EXPECT_THAT(sheet, HasSubstr("700 trials (700 completed), uniform distribution, seed 42"));
+    EXPECT_THAT(sheet, HasSubstr("all 4 corners")); // RF and CF toleranced: 2^2 vertices
+
+    // The same run by the spread command (same defaults: uniform, no gain block spread).
+    const CliRun json
+        = loopsketch({"spread", designPath("demo"), "--trials", "700", "--seed", "42", "--json"});
+    ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
+    const QJsonObject j = QJsonDocument::fromJson(json.out.toUtf8()).object();
+    const std::string unit = j["gain_unit"].toString().toStdString();
+    const QJsonObject mc = j["monte_carlo"].toObject();
+    const QJsonObject gain = mc["gain"].toObject();
+    ASSERT_TRUE(gain["mean"].isDouble());
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain["mean"].toDouble(), unit).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(gain["std"].toDouble(), unit).toStdString()));
+    const QJsonObject wcGain = j["worst_case"].toObject()["gain"].toObject();
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(wcGain["min"].toDouble(), unit).toStdString()));
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(wcGain["max"].toDouble(), unit).toStdString()));
+    const QJsonObject bw = mc["bandwidth_hz"].toObject();
+    EXPECT_THAT(sheet, HasSubstr(sheetNumber(bw["mean"].toDouble(), "Hz").toStdString()));
+    ASSERT_TRUE(mc["yield"].isDouble());
+    EXPECT_THAT(sheet,
+                HasSubstr(QStringLiteral("Yield against the specs: %1 % (%2 of 700")
+                              .arg(mc["yield"].toDouble() * 100.0, 0, 'f', 2)
+                              .arg(mc["passed"].toInt())
+                              .toStdString()));
+}
+
+TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString withSpread = tmp.filePath("with.pdf"), without = tmp.filePath("without.pdf");
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", withSpread}).exitCode, 0);
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
+                  .exitCode,
+              0);
+    EXPECT_EQ(pageCount(withSpread), 5);
+    EXPECT_LE(pageCount(without), pageCount(withSpread));
+    const CliRun text = run(QStringLiteral("pdftotext"), {without, "-"});
+    EXPECT_THAT(text.out.toStdString(), testing::Not(HasSubstr("Spread over tolerances")));
+
+    // The demo with every tolerance removed: nothing to spread, so no section and no error.
+    QFile in(designPath("demo"));
+    ASSERT_TRUE(in.open(QIODevice::ReadOnly));
+    QByteArray design = in.readAll();
+    design.replace(", \"tolerance\": \"1%\"", "").replace(", \"tolerance\": \"10%\"", "");
+    ASSERT_FALSE(design.contains("tolerance"));
+    const QString plain = tmp.filePath("plain.loopsketch");
+    QFile out(plain);
+    ASSERT_TRUE(out.open(QIODevice::WriteOnly));
+    out.write(design);
+    out.close();
+    const QString plainPdf = tmp.filePath("plain.pdf");
+    const CliRun r = loopsketch({"export", plain, "--pdf", plainPdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    EXPECT_LE(pageCount(plainPdf), pageCount(withSpread));
+    EXPECT_THAT(run(QStringLiteral("pdftotext"), {plainPdf, "-"}).out.toStdString(),
+                testing::Not(HasSubstr("Spread over tolerances")));
+}
+
+TEST(ReviewSheetSpread, BadSpreadTrialsIsBadInput)
+{
+    for (const char *n : {"-1", "x", "1000001"}) {
+        const CliRun r = loopsketch(
+            {"export", designPath("demo"), "--pdf", "/tmp/unused.pdf", "--spread-trials", n});
+        EXPECT_EQ(r.exitCode, 2) << n;
+        EXPECT_THAT(r.err.toStdString(), HasSubstr("--spread-trials")) << n;
+    }
+}
 
 TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
 {
@@ -181,6 +326,53 @@ TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(n).toStdString()));
     EXPECT_THAT(text.out.toStdString(),
                 testing::Not(HasSubstr(QStringLiteral("page %1 of").arg(n + 1).toStdString())));
+}
+
+TEST(ReviewSheetPlots, PngFilesAreWholeImages)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+        const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
+        ASSERT_FALSE(image.isNull()) << stem;
+        // 170 mm x 110 mm at 150 dpi (reviewsheet.cpp), 25.4 mm per inch
+        EXPECT_EQ(image.width(), 1004) << stem;
+        EXPECT_EQ(image.height(), 650) << stem;
+        // Drawn, not blank: the curves and text leave many non-white pixels.
+        int inked = 0;
+        for (int y = 0; y < image.height(); y += 4)
+            for (int x = 0; x < image.width(); x += 4)
+                inked += image.pixel(x, y) != qRgb(255, 255, 255);
+        EXPECT_GT(inked, 500) << stem;
+    }
+}
+
+TEST(ReviewSheetCandidates, ComparisonShowsEachCandidatesAnalysis)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const std::string sheet
+        = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"}).out.toStdString();
+    auto design = loopsketch::loadDesign(designPath("demo").toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    ASSERT_GE(design->candidates.size(), 2u);
+    for (const loopsketch::Candidate &c : design->candidates) {
+        auto applied = loopsketch::applyCandidate(*design, c);
+        ASSERT_TRUE(applied) << applied.errorText();
+        auto a = loopsketch::analyze(*applied);
+        ASSERT_TRUE(a) << a.errorText();
+        EXPECT_THAT(sheet, HasSubstr(c.name)) << c.name;
+        ASSERT_TRUE(a->bandwidthHz) << c.name;
+        EXPECT_THAT(sheet, HasSubstr(sheetNumber(*a->bandwidthHz, "Hz").toStdString())) << c.name;
+        ASSERT_TRUE(a->exact.zIn) << c.name;
+        EXPECT_THAT(sheet, HasSubstr(sheetNumber(*a->exact.zIn, "Ω").toStdString())) << c.name;
+    }
 }
 
 TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)

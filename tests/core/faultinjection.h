@@ -1,0 +1,139 @@
+#pragma once
+
+// Test-only fault injection for saves. A forked child gets a private mount namespace in
+// which a tiny tmpfs (a genuinely full disk) or a read-only remount (refused to root as
+// well, unlike file modes) can be made without touching the machine's own mounts; the
+// mounts vanish with the child.
+
+#include <cerrno>
+#include <cstring>
+#include <functional>
+#include <string>
+
+#include <fcntl.h>
+#include <sched.h>
+#include <sys/mount.h>
+#include <sys/statvfs.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+namespace loopsketch::test {
+
+inline std::string osFailure(const std::string &what)
+{
+    return what + ": " + std::strerror(errno);
+}
+
+inline bool writeWholeFile(const char *path, const std::string &text)
+{
+    const int fd = ::open(path, O_WRONLY);
+    if (fd < 0)
+        return false;
+    const bool ok = ::write(fd, text.data(), text.size()) == static_cast<ssize_t>(text.size());
+    return ::close(fd) == 0 && ok;
+}
+
+/// Moves the calling single-threaded process into a private mount namespace (through a user
+/// namespace that maps the caller to root when it is not root). Empty on success, else why not.
+inline std::string enterPrivateMountNamespace()
+{
+    if (::geteuid() != 0) {
+        const std::string uid = std::to_string(::geteuid());
+        const std::string gid = std::to_string(::getegid());
+        if (::unshare(CLONE_NEWUSER | CLONE_NEWNS) != 0)
+            return osFailure("unshare(CLONE_NEWUSER | CLONE_NEWNS)");
+        if (!writeWholeFile("/proc/self/setgroups", "deny")
+            || !writeWholeFile("/proc/self/uid_map", "0 " + uid + " 1")
+            || !writeWholeFile("/proc/self/gid_map", "0 " + gid + " 1"))
+            return osFailure("mapping the user namespace");
+    } else if (::unshare(CLONE_NEWNS) != 0) {
+        return osFailure("unshare(CLONE_NEWNS)");
+    }
+    // without this a shared root would propagate the test's mounts back to the machine
+    if (::mount(nullptr, "/", nullptr, MS_REC | MS_PRIVATE, nullptr) != 0)
+        return osFailure("making / private");
+    return {};
+}
+
+/// Mounts a tmpfs of `bytes` (rounded up to pages by the kernel) on `dir`.
+inline std::string mountSmallTmpfs(const std::string &dir, std::size_t bytes)
+{
+    const std::string options = "size=" + std::to_string(bytes) + ",mode=0755";
+    if (::mount("loopsketch-test", dir.c_str(), "tmpfs", MS_NOSUID | MS_NODEV, options.c_str())
+        != 0)
+        return osFailure("mounting a tmpfs on " + dir);
+    return {};
+}
+
+/// Remounts the file system on `dir` read-only and confirms it with statvfs (ST_RDONLY).
+inline std::string remountReadOnly(const std::string &dir)
+{
+    if (::mount(nullptr, dir.c_str(), nullptr, MS_REMOUNT | MS_RDONLY | MS_NOSUID | MS_NODEV,
+                nullptr)
+        != 0)
+        return osFailure("remounting " + dir + " read-only");
+    struct statvfs info
+    {
+    };
+    if (::statvfs(dir.c_str(), &info) != 0)
+        return osFailure("statvfs " + dir);
+    if ((info.f_flag & ST_RDONLY) == 0)
+        return dir + " is not read-only after the remount";
+    return {};
+}
+
+/// What a forked child reported: its exit code (128 + signal when killed) and its text.
+struct ChildOutcome
+{
+    int exitCode = -1;
+    std::string output;
+};
+
+/// Exit code a child uses for "this machine cannot provide the fault"; the output says why.
+constexpr int kChildCannotInject = 77;
+
+/// Runs `body` in a forked child. The child writes its findings to `out` and returns its
+/// exit code; the parent gets both. The parent's own mounts and limits stay untouched.
+inline ChildOutcome runInChild(const std::function<int(std::string &out)> &body)
+{
+    int fds[2];
+    if (::pipe(fds) != 0)
+        return {-1, osFailure("pipe")};
+    const pid_t pid = ::fork();
+    if (pid < 0)
+        return {-1, osFailure("fork")};
+    if (pid == 0) {
+        ::close(fds[0]);
+        std::string out;
+        int code = 3;
+        try {
+            code = body(out);
+        } catch (const std::exception &e) {
+            out = std::string("exception in the child: ") + e.what();
+        }
+        for (std::size_t done = 0; done < out.size();) {
+            const ssize_t n = ::write(fds[1], out.data() + done, out.size() - done);
+            if (n <= 0)
+                break;
+            done += static_cast<std::size_t>(n);
+        }
+        ::_exit(code);
+    }
+    ::close(fds[1]);
+    ChildOutcome outcome;
+    char buffer[4096];
+    for (ssize_t n; (n = ::read(fds[0], buffer, sizeof buffer)) != 0;) {
+        if (n < 0 && errno == EINTR)
+            continue;
+        if (n < 0)
+            break;
+        outcome.output.append(buffer, static_cast<std::size_t>(n));
+    }
+    ::close(fds[0]);
+    int status = 0;
+    while (::waitpid(pid, &status, 0) < 0 && errno == EINTR) { }
+    outcome.exitCode = WIFEXITED(status) ? WEXITSTATUS(status) : 128 + WTERMSIG(status);
+    return outcome;
+}
+
+} // namespace loopsketch::test

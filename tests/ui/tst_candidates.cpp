@@ -1,0 +1,589 @@
+// Candidates in the desktop application: pin, rename, delete and make current through the
+// document's undo stack, the side-by-side table against core's own analyze() and worstCase()
+// of each candidate, the best-value marks, the overlays of the frequency panels, and the
+// candidates' round trip through the design file.
+//
+// Reference for every number: core's analyze() / worstCase() on the demo design with the
+// candidate's values written into the parts' primary fields (the rule of
+// `loopsketch analyze --candidate`, applied here independently of the ui's helper).
+
+#include "candidatespanel.h"
+#include "designdocument.h"
+#include "mainwindow.h"
+#include "panels.h"
+#include "qtadapter.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/spread.h"
+#include "loopsketch/value.h"
+
+#include <QAction>
+#include <QApplication>
+#include <QChart>
+#include <QDockWidget>
+#include <QFile>
+#include <QInputDialog>
+#include <QLabel>
+#include <QLineEdit>
+#include <QMenu>
+#include <QSignalSpy>
+#include <QStandardPaths>
+#include <QTableWidget>
+#include <QTemporaryDir>
+#include <QTest>
+#include <QTimer>
+#include <QXYSeries>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <memory>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+using ::testing::HasSubstr;
+
+namespace {
+
+const std::string kDesigns = LOOPSKETCH_DESIGNS_DIR;
+
+/// The candidate's values on the parts' primary fields, written out here on purpose rather
+/// than through designWithCandidate(), so the table is checked against an independent path.
+Design applied(Design d, const Candidate &c)
+{
+    for (const auto &[id, value] : c.values) {
+        Part *p = d.findPart(id);
+        EXPECT_NE(p, nullptr) << id;
+        if (p)
+            p->fields[std::string(p->primaryField())] = value;
+    }
+    return d;
+}
+
+Analysis coreAnalysis(const Design &d)
+{
+    auto a = analyze(d);
+    EXPECT_TRUE(a.ok()) << a.errorText();
+    return a.ok() ? *a : Analysis{};
+}
+
+const Candidate &candidateNamed(const Design &d, const std::string &name)
+{
+    for (const Candidate &c : d.candidates) {
+        if (c.name == name)
+            return c;
+    }
+    ADD_FAILURE() << "no candidate " << name;
+    static const Candidate none;
+    return none;
+}
+
+class CandidatesTest : public ::testing::Test
+{
+protected:
+    void SetUp() override
+    {
+        window = std::make_unique<MainWindow>();
+        window->setAskBeforeDiscarding(false);
+        window->resize(1500, 940);
+        window->show();
+        QString error;
+        ASSERT_TRUE(window->openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
+            << error.toStdString();
+        QApplication::processEvents();
+        ASSERT_NE(doc()->analysis(), nullptr);
+        ASSERT_EQ(doc()->design().candidates.size(), 2u);
+        settle();
+    }
+
+    DesignDocument *doc() const { return window->document(); }
+    CandidatesPanel *panel() const { return window->candidatesPanel(); }
+    std::string text() const { return serializeDesign(doc()->design()); }
+
+    /// Waits until the document's analysis and every candidate column are current.
+    void settle()
+    {
+        ASSERT_TRUE(QTest::qWaitFor(
+            [this] {
+                QApplication::processEvents();
+                return panel()->isUpToDate();
+            },
+            15000));
+    }
+
+    /// Undo then redo: the design text goes back to `before` and forward to `after` exactly.
+    void expectUndoRedo(const std::string &before, const std::string &after)
+    {
+        ASSERT_NE(before, after);
+        EXPECT_EQ(text(), after);
+        doc()->undoStack()->undo();
+        EXPECT_EQ(text(), before);
+        doc()->undoStack()->redo();
+        EXPECT_EQ(text(), after);
+    }
+
+    std::unique_ptr<MainWindow> window;
+};
+
+TEST_F(CandidatesTest, PinStoresEveryPartValueAndUndoRedoRestoreTheText)
+{
+    EXPECT_EQ(doc()->nextCandidateName(), QStringLiteral("Candidate 1"));
+    const std::string before = text();
+    QString error;
+    ASSERT_TRUE(doc()->pinCandidate(QStringLiteral("  Candidate 1 "), &error))
+        << error.toStdString();
+    const std::string after = text();
+    const Candidate &c = candidateNamed(doc()->design(), "Candidate 1");
+    // RF and CF are the demo's resistors and capacitors; the load RL is not pinned.
+    ASSERT_EQ(c.values.size(), 2u);
+    EXPECT_EQ(c.values.at("RF").text, "1M");
+    EXPECT_EQ(c.values.at("CF").text, "2.2p");
+    EXPECT_EQ(c.values.count("RL"), 0u);
+    EXPECT_EQ(doc()->nextCandidateName(), QStringLiteral("Candidate 2"));
+    expectUndoRedo(before, after);
+    EXPECT_TRUE(window->isWindowModified());
+}
+
+TEST_F(CandidatesTest, NamesMustBeUniqueAndNotEmpty)
+{
+    const std::string before = text();
+    const int commands = doc()->undoStack()->count();
+    QString error;
+    EXPECT_FALSE(doc()->pinCandidate(QStringLiteral("   "), &error));
+    EXPECT_THAT(error.toStdString(), HasSubstr("not empty"));
+    EXPECT_FALSE(doc()->pinCandidate(QStringLiteral("Fast"), &error));
+    EXPECT_THAT(error.toStdString(), HasSubstr("\"Fast\" exists already"));
+    EXPECT_FALSE(
+        doc()->renameCandidate(QStringLiteral("Fast"), QStringLiteral("High gain"), &error));
+    EXPECT_THAT(error.toStdString(), HasSubstr("\"High gain\" exists already"));
+    EXPECT_FALSE(doc()->renameCandidate(QStringLiteral("Turbo"), QStringLiteral("X"), &error));
+    EXPECT_THAT(error.toStdString(), HasSubstr("no candidate named \"Turbo\""));
+    EXPECT_EQ(text(), before);
+    EXPECT_EQ(doc()->undoStack()->count(), commands);
+}
+
+/// Answers the next name dialogs in turn: each entry is typed into the dialog's line edit
+/// and accepted; the label text each dialog showed is kept.
+class DialogAnswers : public QObject
+{
+public:
+    explicit DialogAnswers(QStringList answers) : m_answers(std::move(answers))
+    {
+        m_timer.setInterval(20);
+        connect(&m_timer, &QTimer::timeout, this, &DialogAnswers::poll);
+        m_timer.start();
+    }
+    QStringList labels;
+    QStringList defaults;
+
+private:
+    void poll()
+    {
+        auto *dialog = qobject_cast<QInputDialog *>(QApplication::activeModalWidget());
+        if (!dialog || m_answers.isEmpty())
+            return;
+        labels << dialog->labelText();
+        defaults << dialog->textValue();
+        dialog->setTextValue(m_answers.takeFirst());
+        dialog->accept();
+    }
+    QStringList m_answers;
+    QTimer m_timer;
+};
+
+TEST_F(CandidatesTest, PinDialogOffersADefaultAndAsksAgainWithTheReason)
+{
+    DialogAnswers answers({"Fast", "", "Wide"});
+    panel()->pinAction()->trigger(); // returns once a name was accepted
+    ASSERT_EQ(answers.labels.size(), 3);
+    EXPECT_EQ(answers.defaults[0], QStringLiteral("Candidate 1"));
+    EXPECT_THAT(answers.labels[1].toStdString(), HasSubstr("\"Fast\" exists already"));
+    EXPECT_THAT(answers.labels[2].toStdString(), HasSubstr("not empty"));
+    EXPECT_EQ(doc()->design().candidates.size(), 3u);
+    EXPECT_EQ(doc()->design().candidates.back().name, "Wide");
+    EXPECT_EQ(panel()->selectedCandidate(), QStringLiteral("Wide"));
+    // Pinning brings the Candidates dock forward.
+    EXPECT_TRUE(panel()->isVisible());
+}
+
+TEST_F(CandidatesTest, KeyboardRenamesDeletesAndMakesCurrent)
+{
+    window->showCandidates();
+    window->activateWindow();
+    ASSERT_TRUE(QTest::qWaitForWindowActive(window.get()));
+    QTableWidget *table = panel()->table();
+    table->setFocus();
+    ASSERT_TRUE(panel()->selectCandidate(QStringLiteral("Fast")));
+    {
+        DialogAnswers answers({"Quick"});
+        QTest::keyClick(table, Qt::Key_F2);
+        ASSERT_EQ(answers.defaults.size(), 1);
+        EXPECT_EQ(answers.defaults[0], QStringLiteral("Fast"));
+    }
+    EXPECT_EQ(panel()->selectedCandidate(), QStringLiteral("Quick"));
+    // Focus goes back to the table once the dialog has closed.
+    window->activateWindow();
+    ASSERT_TRUE(QTest::qWaitForWindowActive(window.get()));
+    table->setFocus();
+    QTest::keyClick(table, Qt::Key_Return, Qt::ControlModifier);
+    EXPECT_EQ(doc()->design().findPart("CF")->fields.at("value").text, "1p");
+    QTest::keyClick(table, Qt::Key_Delete);
+    ASSERT_EQ(doc()->design().candidates.size(), 1u);
+    EXPECT_EQ(doc()->design().candidates[0].name, "High gain");
+    // The arrow keys move the selection between columns; the current design has no actions.
+    ASSERT_TRUE(panel()->selectCandidate(QStringLiteral("High gain")));
+    QTest::keyClick(table, Qt::Key_Left);
+    EXPECT_TRUE(panel()->selectedCandidate().isEmpty());
+    EXPECT_FALSE(panel()->deleteAction()->isEnabled());
+}
+
+TEST_F(CandidatesTest, RenameDeleteAndMakeCurrentAreUndoable)
+{
+    std::string before = text();
+    QString error;
+    ASSERT_TRUE(doc()->renameCandidate(QStringLiteral("Fast"), QStringLiteral("Quick"), &error));
+    EXPECT_EQ(candidateNamed(doc()->design(), "Quick").values.at("CF").text, "1p");
+    expectUndoRedo(before, text());
+    settle();
+    EXPECT_EQ(panel()->columnNames(),
+              QStringList({CandidatesPanel::kCurrentColumn, "Quick", "High gain"}));
+
+    // Delete from the panel: select the column, trigger the action (Delete key).
+    before = text();
+    ASSERT_TRUE(panel()->selectCandidate(QStringLiteral("High gain")));
+    EXPECT_TRUE(panel()->deleteAction()->isEnabled());
+    panel()->deleteAction()->trigger();
+    EXPECT_EQ(doc()->design().candidates.size(), 1u);
+    expectUndoRedo(before, text());
+
+    // Make current from the panel: CF takes the candidate's 1p; the Readout follows.
+    before = text();
+    ASSERT_TRUE(panel()->selectCandidate(QStringLiteral("Quick")));
+    panel()->makeCurrentAction()->trigger();
+    EXPECT_EQ(doc()->design().findPart("CF")->fields.at("value").text, "1p");
+    const std::string after = text();
+    doc()->undoStack()->undo();
+    EXPECT_EQ(text(), before);
+    doc()->undoStack()->redo();
+    EXPECT_EQ(text(), after);
+    // A second time there is nothing to change, and the panel says so.
+    panel()->makeCurrentAction()->trigger();
+    EXPECT_EQ(text(), after);
+    EXPECT_THAT(panel()->statusText().toStdString(), HasSubstr("already has the values"));
+}
+
+TEST_F(CandidatesTest, TableShowsCoreAnalysisOfEachCandidate)
+{
+    const Design design = doc()->design();
+    const Analysis current = coreAnalysis(design);
+    const std::string unit = current.gainUnit;
+    EXPECT_EQ(panel()->cellText(CandidatesPanel::kGainRow, CandidatesPanel::kCurrentColumn),
+              engineering(current.exact.gain, unit, 4));
+    for (const Candidate &c : design.candidates) {
+        const QString name = toQString(c.name);
+        const Analysis a = coreAnalysis(applied(design, c));
+        ASSERT_TRUE(a.exact.gain);
+        EXPECT_EQ(panel()->cellText(CandidatesPanel::kGainRow, name),
+                  engineering(a.exact.gain, unit, 4))
+            << c.name;
+        EXPECT_EQ(panel()->cellText(CandidatesPanel::kBandwidthRow, name),
+                  engineering(a.bandwidthHz, "Hz"))
+            << c.name;
+        EXPECT_EQ(panel()->cellText(CandidatesPanel::kZOutRow, name),
+                  engineering(a.exact.zOut, "Ω"))
+            << c.name;
+        // Worst case: core's vertex enumeration over RF 1 % and CF 10 % of this candidate.
+        auto worst = worstCase(applied(design, c), SpreadOptions{});
+        ASSERT_TRUE(worst.ok()) << worst.errorText();
+        EXPECT_THAT(panel()->cellText(CandidatesPanel::kWorstCaseRow, name).toStdString(),
+                    HasSubstr(formatEngineering(*worst->gain.min, 4) + " … "
+                              + formatEngineering(*worst->gain.max, 4)))
+            << c.name;
+    }
+    // The columns really differ: "High gain" doubles RF, so its gain is not the design's.
+    EXPECT_NE(panel()->cellText(CandidatesPanel::kGainRow, "High gain"),
+              panel()->cellText(CandidatesPanel::kGainRow, CandidatesPanel::kCurrentColumn));
+
+    // An edit of a part no candidate sets (the load) moves every column once it settles.
+    QString error;
+    ASSERT_TRUE(doc()->setFieldText("RL", "r", QStringLiteral("1k"), &error));
+    settle();
+    const Analysis fastAfter
+        = coreAnalysis(applied(doc()->design(), candidateNamed(doc()->design(), "Fast")));
+    EXPECT_EQ(panel()->cellText(CandidatesPanel::kZOutRow, "Fast"),
+              engineering(fastAfter.exact.zOut, "Ω"));
+}
+
+TEST_F(CandidatesTest, ABurstOfEditsLeavesTheTableUntilItSettles)
+{
+    window->showCandidates();
+    QApplication::processEvents();
+    ASSERT_TRUE(panel()->isVisible());
+    const QTableWidgetItem *cell = panel()->table()->item(
+        int(panel()->rowNames().indexOf(CandidatesPanel::kBandwidthRow)), 0);
+    ASSERT_NE(cell, nullptr);
+    const QString drawn = cell->text();
+    const QString before
+        = panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn);
+    // Three E12 steps of CF as a wheel burst would send them, each recomputed at once: the
+    // visible table is not touched while they come.
+    for (int i = 0; i < 3; ++i) {
+        ASSERT_TRUE(doc()->stepPart("CF", 1, false));
+        doc()->recomputeNow();
+        QApplication::processEvents();
+    }
+    EXPECT_FALSE(panel()->isUpToDate());
+    EXPECT_EQ(cell->text(), drawn);
+    settle();
+    const Analysis now = coreAnalysis(doc()->design());
+    EXPECT_EQ(panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn),
+              engineering(now.bandwidthHz, "Hz"));
+    EXPECT_NE(panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn),
+              before);
+}
+
+TEST_F(CandidatesTest, BestMarksTheRightCell)
+{
+    const Design design = doc()->design();
+    const QStringList columns = panel()->columnNames();
+    std::vector<Analysis> analyses{coreAnalysis(design)};
+    for (const Candidate &c : design.candidates)
+        analyses.push_back(coreAnalysis(applied(design, c)));
+    ASSERT_EQ(std::size_t(columns.size()), analyses.size());
+    const double centre = 0.5 * (design.specs.gainMin->si + design.specs.gainMax->si);
+    // The columns with the highest score; ties are all marked.
+    auto bestColumns = [&](auto score) {
+        double top = score(analyses[0]);
+        for (const Analysis &a : analyses)
+            top = std::max(top, score(a));
+        std::vector<bool> marked;
+        for (const Analysis &a : analyses)
+            marked.push_back(top - score(a) <= 1e-9 * std::abs(top));
+        return marked;
+    };
+    struct Expectation
+    {
+        QString row;
+        std::vector<bool> columns;
+        std::string tip;
+    };
+    const Expectation rows[] = {
+        {CandidatesPanel::kBandwidthRow,
+         bestColumns([](const Analysis &a) { return *a.bandwidthHz; }), "widest bandwidth"},
+        {CandidatesPanel::kPhaseMarginRow,
+         bestColumns([](const Analysis &a) { return *a.margins.phaseMarginDeg; }),
+         "largest phase margin"},
+        {CandidatesPanel::kGainErrorRow,
+         bestColumns([&](const Analysis &a) { return -std::abs(*a.exact.gain - centre); }),
+         "smallest gain error"},
+        {CandidatesPanel::kPeakingRow, bestColumns([](const Analysis &a) { return -*a.peakingDb; }),
+         "least peaking"},
+    };
+    for (const Expectation &e : rows) {
+        ASSERT_LT(std::count(e.columns.begin(), e.columns.end(), true), qsizetype(analyses.size()))
+            << e.row.toStdString() << ": all equal, nothing to check";
+        for (std::size_t i = 0; i < analyses.size(); ++i) {
+            EXPECT_EQ(panel()->isBest(e.row, columns[qsizetype(i)]), e.columns[i])
+                << e.row.toStdString() << " / " << columns[qsizetype(i)].toStdString();
+            if (e.columns[i]) {
+                EXPECT_THAT(panel()->cellToolTip(e.row, columns[qsizetype(i)]).toStdString(),
+                            HasSubstr(e.tip));
+            }
+        }
+    }
+    const std::size_t widest = std::size_t(
+        std::find(rows[0].columns.begin(), rows[0].columns.end(), true) - rows[0].columns.begin());
+    // Marked by a glyph and bold, not by colour alone.
+    const QStringList rowNames = panel()->rowNames();
+    const QTableWidgetItem *item = panel()->table()->item(
+        int(rowNames.indexOf(CandidatesPanel::kBandwidthRow)), int(widest));
+    ASSERT_NE(item, nullptr);
+    EXPECT_TRUE(item->text().startsWith(CandidatesPanel::kBestMarker));
+    EXPECT_TRUE(item->font().bold());
+    // "High gain" misses the gain window, so it meets fewer specs than the design does.
+    EXPECT_FALSE(panel()->isBest(CandidatesPanel::kSpecsMetRow, "High gain"));
+}
+
+TEST_F(CandidatesTest, NoNumberIsNaNAndMissingOnesSayWhy)
+{
+    Design d = doc()->design();
+    d.specs = Specs{};
+    for (Part &p : d.parts)
+        p.tolerance.reset();
+    doc()->reset(d, {});
+    settle();
+    const QString fast = QStringLiteral("Fast");
+    EXPECT_EQ(panel()->cellText(CandidatesPanel::kGainErrorRow, fast), QStringLiteral("—"));
+    EXPECT_THAT(panel()->cellToolTip(CandidatesPanel::kGainErrorRow, fast).toStdString(),
+                HasSubstr("no gain spec"));
+    EXPECT_EQ(panel()->cellText(CandidatesPanel::kWorstCaseRow, fast),
+              QStringLiteral("no tolerances"));
+    for (const QString &row : panel()->rowNames()) {
+        for (const QString &column : panel()->columnNames()) {
+            const QString t = panel()->cellText(row, column);
+            EXPECT_FALSE(t.isEmpty()) << row.toStdString() << " / " << column.toStdString();
+            EXPECT_FALSE(t.contains(QStringLiteral("nan"), Qt::CaseInsensitive)) << t.toStdString();
+            EXPECT_FALSE(t.contains(QStringLiteral("inf"), Qt::CaseInsensitive)) << t.toStdString();
+        }
+    }
+}
+
+TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
+{
+    LoopGainPanel *loop = window->loopGainPanel();
+    ASSERT_TRUE(loop->hasOverlays());
+    const auto seriesBefore = loop->chart()->series().size();
+    EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
+    loop->overlayAction()->setChecked(true);
+    EXPECT_EQ(loop->overlaySeriesNames(),
+              QStringList({"Fast: T", "Fast: gain", "High gain: T", "High gain: gain"}));
+    EXPECT_EQ(loop->chart()->series().size(), seriesBefore + 4);
+    // One legend entry per candidate, named after it, after the panel's own curves (once the
+    // legend's posted layout has run).
+    QApplication::processEvents();
+    EXPECT_EQ(loop->legendLabels(),
+              QStringList({LoopGainPanel::kA, LoopGainPanel::kT, LoopGainPanel::kTwoPort,
+                           LoopGainPanel::kExact, "Fast", "High gain"}));
+
+    // The overlay holds every point of core's loop gain for that candidate.
+    const Design design = doc()->design();
+    const Analysis fast = coreAnalysis(applied(design, candidateNamed(design, "Fast")));
+    const QList<QPointF> want
+        = curvePoints(fast.frequenciesHz, fast.curves.loopGain, CurvePart::MagnitudeDb);
+    QXYSeries *s = loop->series(QStringLiteral("Fast: T"));
+    ASSERT_NE(s, nullptr);
+    const QList<QPointF> full = loop->fullPoints(s);
+    ASSERT_EQ(full.size(), want.size());
+    for (qsizetype i = 0; i < full.size(); i += 37)
+        EXPECT_NEAR(full[i].y(), want[i].y(), 1e-9) << i;
+    // Thinner and dashed, unlike the panel's own solid curves.
+    EXPECT_NE(s->pen().style(), Qt::SolidLine);
+    EXPECT_LT(s->pen().widthF(), loop->series(LoopGainPanel::kT)->pen().widthF());
+
+    // A new pin shows up once its analysis is in; a deletion takes its curves away.
+    QString error;
+    ASSERT_TRUE(doc()->pinCandidate(QStringLiteral("Wide"), &error));
+    settle();
+    EXPECT_TRUE(loop->overlaySeriesNames().contains(QStringLiteral("Wide: T")));
+    ASSERT_TRUE(doc()->deleteCandidate(QStringLiteral("Fast")));
+    settle();
+    EXPECT_FALSE(loop->overlaySeriesNames().contains(QStringLiteral("Fast: T")));
+    EXPECT_EQ(loop->series(QStringLiteral("Fast: T")), nullptr);
+
+    loop->overlayAction()->setChecked(false);
+    EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
+    QApplication::processEvents();
+    EXPECT_EQ(loop->legendLabels().size(), 4);
+    EXPECT_EQ(loop->chart()->series().size(), seriesBefore);
+    EXPECT_EQ(loop->series(QStringLiteral("Wide: T")), nullptr);
+
+    // The Design menu's toggle turns on every frequency panel's overlays.
+    QAction *all = nullptr;
+    for (QAction *a : window->designMenu()->actions()) {
+        if (a->text() == QStringLiteral("Overlay candidates on every plot"))
+            all = a;
+    }
+    ASSERT_NE(all, nullptr);
+    all->trigger();
+    int withOverlays = 0;
+    for (PlotPanel *p : window->panels()) {
+        if (!p->hasOverlays())
+            continue;
+        ++withOverlays;
+        EXPECT_FALSE(p->overlaySeriesNames().isEmpty()) << p->objectName().toStdString();
+        for (const QString &n : p->overlaySeriesNames())
+            EXPECT_TRUE(n.startsWith("High gain: ") || n.startsWith("Wide: ")) << n.toStdString();
+    }
+    EXPECT_EQ(withOverlays, 3); // Loop gain, Impedance, Desensitivity
+}
+
+TEST_F(CandidatesTest, SavingAndReloadingKeepsCandidates)
+{
+    QString error;
+    ASSERT_TRUE(doc()->pinCandidate(QStringLiteral("Bench copy"), &error));
+    ASSERT_TRUE(
+        doc()->renameCandidate(QStringLiteral("Fast"), QStringLiteral("Fast, 1 pF"), &error));
+    QTemporaryDir dir;
+    ASSERT_TRUE(dir.isValid());
+    const QString path = dir.filePath(QStringLiteral("with-candidates.loopsketch"));
+    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
+    EXPECT_FALSE(window->isWindowModified());
+    const std::vector<Candidate> saved = doc()->design().candidates;
+
+    auto loaded = loadDesign(toStdString(path));
+    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
+    EXPECT_EQ(loaded->candidates, saved);
+
+    MainWindow other;
+    other.setAskBeforeDiscarding(false);
+    ASSERT_TRUE(other.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(QTest::qWaitFor(
+        [&] {
+            QApplication::processEvents();
+            return other.candidatesPanel()->isUpToDate();
+        },
+        15000));
+    EXPECT_EQ(
+        other.candidatesPanel()->columnNames(),
+        QStringList({CandidatesPanel::kCurrentColumn, "Fast, 1 pF", "High gain", "Bench copy"}));
+    EXPECT_EQ(other.candidatesPanel()->cellText(CandidatesPanel::kGainRow, "Bench copy"),
+              other.candidatesPanel()->cellText(CandidatesPanel::kGainRow,
+                                                CandidatesPanel::kCurrentColumn));
+}
+
+TEST_F(CandidatesTest, WritesACandidatesScreenshot)
+{
+    QString error;
+    // A third candidate: CF one E12 step up from the design's 2.2p.
+    ASSERT_TRUE(doc()->setFieldText("CF", "value", QStringLiteral("2.7p"), &error));
+    ASSERT_TRUE(doc()->pinCandidate(QStringLiteral("Calm"), &error));
+    ASSERT_TRUE(doc()->setFieldText("CF", "value", QStringLiteral("2.2p"), &error));
+    ASSERT_EQ(doc()->design().candidates.size(), 3u);
+    EXPECT_EQ(doc()->design().findPart("CF")->fields.at("value").text, "2.2p");
+    settle();
+    window->showCandidates();
+    window->loopGainPanel()->overlayAction()->setChecked(true);
+    for (PlotPanel *p : window->panels()) {
+        if (p->objectName() == QStringLiteral("Desensitivity"))
+            p->overlayAction()->setChecked(true);
+    }
+    QTest::qWait(400);
+    const QString dirName = QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR);
+    ASSERT_TRUE(window->grab().save(dirName + "/loopsketch-candidates-window.png"));
+    ASSERT_TRUE(panel()->grab().save(dirName + "/loopsketch-candidates-panel.png"));
+    ASSERT_TRUE(
+        window->loopGainPanel()->grab().save(dirName + "/loopsketch-candidates-overlay.png"));
+    auto *impedanceDock = window->findChild<QDockWidget *>(QStringLiteral("ImpedanceDock"));
+    ASSERT_NE(impedanceDock, nullptr);
+    impedanceDock->raise();
+    for (PlotPanel *p : window->panels()) {
+        if (p->objectName() == QStringLiteral("Impedance")) {
+            p->overlayAction()->setChecked(true);
+            QTest::qWait(200);
+            ASSERT_TRUE(p->grab().save(dirName + "/loopsketch-candidates-impedance.png"));
+        }
+    }
+    // The whole table, undocked with room to spare.
+    auto *dock = window->findChild<QDockWidget *>(QStringLiteral("CandidatesDock"));
+    ASSERT_NE(dock, nullptr);
+    dock->setFloating(true);
+    dock->resize(760, 470);
+    QTest::qWait(100);
+    ASSERT_TRUE(panel()->grab().save(dirName + "/loopsketch-candidates-table.png"));
+}
+
+} // namespace
+
+int main(int argc, char **argv)
+{
+    ::testing::InitGoogleTest(&argc, argv);
+    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
+        qputenv("QT_QPA_PLATFORM", "offscreen");
+    QStandardPaths::setTestModeEnabled(true);
+    QApplication app(argc, argv);
+    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
+    QApplication::setApplicationName(QStringLiteral("tst_candidates"));
+    return RUN_ALL_TESTS();
+}

@@ -1,0 +1,459 @@
+// The Noise panel and the Readout's noise cell against core's NoiseAnalysis: one band per
+// source plus the total, the stack's top equal to core's total density, the linked cursor,
+// the integrated RMS text, and the reason shown when there is no noise analysis.
+
+#include "designdocument.h"
+#include "mainwindow.h"
+#include "noisepanel.h"
+#include "panels.h"
+#include "qtadapter.h"
+#include "readout.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/value.h"
+
+#include <QApplication>
+#include <QAreaSeries>
+#include <QChart>
+#include <QDockWidget>
+#include <QFile>
+#include <QLegend>
+#include <QLegendMarker>
+#include <QLineSeries>
+#include <QMouseEvent>
+#include <QStandardPaths>
+#include <QTest>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <memory>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+using ::testing::HasSubstr;
+
+namespace {
+
+const QString kDemo = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch");
+
+double relErr(double value, double expected)
+{
+    return std::abs(value - expected) / std::abs(expected);
+}
+
+/// The demo with the gain block's voltage and current noise given (invented values).
+std::string demoWithGainBlockNoise()
+{
+    QFile f(kDemo);
+    EXPECT_TRUE(f.open(QIODevice::ReadOnly));
+    std::string text = f.readAll().toStdString();
+    const std::string rOut = R"("r_out": "50")";
+    const auto at = text.find(rOut);
+    EXPECT_NE(at, std::string::npos);
+    text.replace(at, rOut.size(),
+                 R"("r_out": "50", "en": "9n", "en_corner_hz": "300", "in": "3f")");
+    return text;
+}
+
+/// The sweep index nearest `hz`.
+std::size_t indexNear(const std::vector<double> &f, double hz)
+{
+    std::size_t best = 0;
+    for (std::size_t i = 0; i < f.size(); ++i) {
+        if (std::abs(std::log10(f[i] / hz)) < std::abs(std::log10(f[best] / hz)))
+            best = i;
+    }
+    return best;
+}
+
+class NoisePanelTest : public ::testing::Test
+{
+protected:
+    void SetUp() override
+    {
+        window = std::make_unique<MainWindow>();
+        window->setAskBeforeDiscarding(false);
+        window->resize(1500, 940);
+        window->show();
+        QString error;
+        ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
+        QDockWidget *dock = window->findChild<QDockWidget *>(QStringLiteral("NoiseDock"));
+        ASSERT_NE(dock, nullptr);
+        dock->raise();
+        QTest::qWait(100);
+        for (PlotPanel *p : window->panels()) {
+            if (auto *n = qobject_cast<NoisePanel *>(p))
+                panel = n;
+        }
+        ASSERT_NE(panel, nullptr);
+        ASSERT_NE(window->document()->analysis(), nullptr);
+        ASSERT_TRUE(window->document()->analysis()->noise.has_value());
+    }
+
+    const NoiseAnalysis &noise() const { return *window->document()->analysis()->noise; }
+
+    /// The density at sweep index i of the top of the stack.
+    double stackTopAt(std::size_t i) const
+    {
+        const QStringList names = panel->bandNames();
+        EXPECT_FALSE(names.isEmpty());
+        QAreaSeries *top = panel->band(names.back());
+        EXPECT_NE(top, nullptr);
+        const QList<QPointF> points = panel->fullPoints(top->upperSeries());
+        EXPECT_EQ(points.size(), qsizetype(noise().frequenciesHz.size()));
+        EXPECT_NEAR(points[qsizetype(i)].x(), std::log10(noise().frequenciesHz[i]), 1e-12);
+        return std::pow(10.0, points[qsizetype(i)].y());
+    }
+
+    std::unique_ptr<MainWindow> window;
+    NoisePanel *panel = nullptr;
+};
+
+TEST_F(NoisePanelTest, OneBandPerSourcePlusTotalAndInputReferred)
+{
+    const NoiseAnalysis &n = noise();
+    ASSERT_GE(n.contributions.size(), 2u);
+    const QStringList names = panel->bandNames();
+    ASSERT_EQ(names.size(), qsizetype(n.contributions.size()));
+    for (const NoiseContribution &c : n.contributions) {
+        EXPECT_TRUE(names.contains(noiseSourceName(c))) << c.name;
+        QAreaSeries *b = panel->band(noiseSourceName(c));
+        ASSERT_NE(b, nullptr) << c.name;
+        EXPECT_NE(b->chart(), nullptr) << c.name;
+    }
+    EXPECT_TRUE(names.contains(QStringLiteral("RF thermal")));
+    EXPECT_TRUE(names.contains(QStringLiteral("PD1 r_parallel thermal")));
+    // The demo's noise is set by RF (4kT/RF through the feedback resistor), so its band
+    // lies at the bottom of the stack, right under the total.
+    EXPECT_EQ(names.front(), QStringLiteral("RF thermal"));
+    ASSERT_NE(panel->series(NoisePanel::kTotal), nullptr);
+    ASSERT_NE(panel->series(NoisePanel::kInput), nullptr);
+    // Every finite point of core's total density, unchanged (x = log10 f, y = log10 density).
+    const QList<QPointF> total = panel->fullPoints(panel->series(NoisePanel::kTotal));
+    ASSERT_EQ(total.size(), qsizetype(n.outputDensity.size()));
+    for (qsizetype i = 0; i < total.size(); ++i)
+        ASSERT_NEAR(std::pow(10.0, total[i].y()), n.outputDensity[std::size_t(i)],
+                    1e-12 * n.outputDensity[std::size_t(i)]);
+    const QList<QPointF> input = panel->fullPoints(panel->series(NoisePanel::kInput));
+    ASSERT_EQ(input.size(), qsizetype(n.inputDensity.size()));
+    EXPECT_NEAR(std::pow(10.0, input[0].y()), n.inputDensity[0], 1e-12 * n.inputDensity[0]);
+    EXPECT_TRUE(panel->problemText().isEmpty());
+    // The legend names the sources that reach 1 % of the power somewhere: RF, and r_out
+    // where the loop has given up; U1's 1 TΩ input resistance never does (core's shares).
+    const auto legendShows = [&](const char *name) {
+        const auto markers
+            = panel->chart()->legend()->markers(panel->band(QString::fromUtf8(name)));
+        return !markers.isEmpty() && markers.front()->isVisible();
+    };
+    EXPECT_TRUE(legendShows("RF thermal"));
+    EXPECT_TRUE(legendShows("U1 r_out thermal"));
+    EXPECT_FALSE(legendShows("U1 r_in thermal")) << panel->toolTip().toStdString();
+    // Such a band is thinner than its outline: not drawn, its power still in the stack.
+    EXPECT_TRUE(panel->band(QStringLiteral("RF thermal"))->isVisible());
+    EXPECT_FALSE(panel->band(QStringLiteral("U1 r_in thermal"))->isVisible());
+    // Axis titles carry the units of a transimpedance stage: V at the output, A at the input.
+    const auto axes = panel->chart()->axes(Qt::Vertical);
+    QStringList titles;
+    for (const QAbstractAxis *axis : axes)
+        titles << axis->titleText();
+    EXPECT_THAT(titles.join('|').toStdString(), HasSubstr("V/√Hz"));
+    EXPECT_THAT(titles.join('|').toStdString(), HasSubstr("A/√Hz"));
+}
+
+TEST_F(NoisePanelTest, StackTopEqualsTotalDensity)
+{
+    // Uncorrelated sources add in power (common practice; the core test
+    // Noise.ContributionsAddInPower holds core to it): the stack's top is the total.
+    const NoiseAnalysis &n = noise();
+    for (double hz : {1.0, 1e3, 1e5, 1e7}) {
+        const std::size_t i = indexNear(n.frequenciesHz, hz);
+        EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
+    }
+    // Each band's height, from the plot's bottom to the total on the log axis, is its
+    // source's share of the power at that frequency (core's per-source output power over
+    // core's total).
+    for (double hz : {1e3, 3e6, 1e8}) {
+        const std::size_t i = indexNear(n.frequenciesHz, hz);
+        const double yBottom
+            = panel->fullPoints(panel->band(panel->bandNames().front())->lowerSeries()).front().y();
+        const double yTop = std::log10(n.outputDensity[i]);
+        const double total = n.outputDensity[i] * n.outputDensity[i];
+        double sum = 0;
+        for (const NoiseContribution &c : n.contributions) {
+            QAreaSeries *b = panel->band(noiseSourceName(c));
+            ASSERT_NE(b, nullptr);
+            const double upper = panel->fullPoints(b->upperSeries())[qsizetype(i)].y();
+            const QList<QPointF> lowerPoints = panel->fullPoints(b->lowerSeries());
+            const double lower
+                = lowerPoints.size() == 2 ? lowerPoints.front().y() : lowerPoints[qsizetype(i)].y();
+            const double share = (upper - lower) / (yTop - yBottom);
+            EXPECT_NEAR(share, c.outputPsd[i] / total, 1e-9) << c.name << " at " << hz << " Hz";
+            sum += share;
+        }
+        EXPECT_NEAR(sum, 1.0, 1e-9) << hz << " Hz";
+    }
+}
+
+TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
+{
+    QString error;
+    ASSERT_TRUE(window->openText(demoWithGainBlockNoise(), QStringLiteral("noisy"), &error))
+        << error.toStdString();
+    QApplication::processEvents();
+    const NoiseAnalysis &n = noise();
+    const QStringList names = panel->bandNames();
+    ASSERT_EQ(names.size(), qsizetype(n.contributions.size()));
+    for (const char *name : {"U1 e_n", "U1 i_n at in_p", "U1 i_n at in_n", "RF thermal"})
+        EXPECT_TRUE(names.contains(QString::fromUtf8(name))) << name;
+    for (double hz : {10.0, 1e4, 1e6, 1e8}) {
+        const std::size_t i = indexNear(n.frequenciesHz, hz);
+        EXPECT_LT(relErr(stackTopAt(i), n.outputDensity[i]), 1e-9) << hz << " Hz";
+    }
+    QTest::qWait(100);
+    const QImage shot = panel->grab().toImage();
+    EXPECT_TRUE(
+        shot.save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-noise-gain-block.png"));
+    // What is painted, not only the data: at 2 Hz the 1/f voltage noise (9 nV/√Hz with a
+    // 300 Hz corner, about 110 nV/√Hz there, against RF's 128 nV/√Hz) holds a large part
+    // of the height, and the pixel in the middle of its band has its fill colour.
+    {
+        const std::size_t i = indexNear(n.frequenciesHz, 2.0);
+        QAreaSeries *en = panel->band(QStringLiteral("U1 e_n"));
+        ASSERT_NE(en, nullptr);
+        ASSERT_TRUE(en->isVisible());
+        const double yMid = 0.5
+            * (panel->fullPoints(en->lowerSeries())[qsizetype(i)].y()
+               + panel->fullPoints(en->upperSeries())[qsizetype(i)].y());
+        const QPointF inChart
+            = panel->chart()->mapToPosition(QPointF(std::log10(n.frequenciesHz[i]), yMid), en);
+        const QPoint pixel = panel->mapFromScene(panel->chart()->mapToScene(inChart));
+        const QColor painted = shot.pixelColor(pixel * shot.devicePixelRatio());
+        const QColor fill = en->brush().color();
+        // the fill (Okabe-Ito yellow at alpha 150) over the white plot
+        const double a = fill.alphaF();
+        const auto over = [a](int c) {
+            return a * c + (1 - a) * 255;
+        };
+        EXPECT_NEAR(painted.red(), over(fill.red()), 12) << pixel.x() << "," << pixel.y();
+        EXPECT_NEAR(painted.green(), over(fill.green()), 12);
+        EXPECT_NEAR(painted.blue(), over(fill.blue()), 12);
+    }
+    // Back to the demo: the extra bands leave the chart and the legend.
+    ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
+    QApplication::processEvents();
+    EXPECT_EQ(panel->bandNames().size(), qsizetype(noise().contributions.size()));
+    int inChart = 0;
+    for (QAbstractSeries *s : panel->chart()->series())
+        inChart += s->type() == QAbstractSeries::SeriesTypeArea;
+    EXPECT_EQ(inChart, int(noise().contributions.size()));
+    EXPECT_LT(relErr(stackTopAt(100), noise().outputDensity[100]), 1e-9);
+}
+
+TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
+{
+    QTest::qWait(200); // the dock layout settles (tab bars take their room)
+    LoopGainPanel *loop = window->loopGainPanel();
+    QChart *chart = loop->chart();
+    const QPointF at = chart->plotArea().center();
+    const QPoint pos = loop->mapFromScene(chart->mapToScene(at));
+    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
+                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
+    QApplication::sendEvent(loop->viewport(), &move);
+    // The frequency of the pixel the event carries (the plot's centre rounded to it).
+    const QPointF hit = chart->mapFromScene(loop->mapToScene(pos));
+    const double log10Hz = chart->mapToValue(hit, loop->series(LoopGainPanel::kT)).x();
+    const QString fText
+        = QStringLiteral("f = ") + toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz"));
+    EXPECT_EQ(panel->cursorText(), fText);
+    EXPECT_EQ(loop->cursorText().section('\n', 0, 0), fText);
+    // The values under it are core's at the nearest sweep point.
+    const NoiseAnalysis &n = noise();
+    const std::size_t i = indexNear(n.frequenciesHz, std::pow(10.0, log10Hz));
+    const std::string values = panel->valuesText().toStdString();
+    EXPECT_THAT(values, HasSubstr("total: " + formatEngineering(n.outputDensity[i], 3, "V/√Hz")));
+    EXPECT_THAT(values,
+                HasSubstr("input-referred: " + formatEngineering(n.inputDensity[i], 3, "A/√Hz")));
+    EXPECT_THAT(values, HasSubstr("RF thermal: "));
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-noise-cursor.png");
+
+    QEvent leave(QEvent::Leave);
+    QApplication::sendEvent(loop, &leave);
+    EXPECT_TRUE(panel->cursorText().isEmpty());
+    EXPECT_TRUE(panel->valuesText().isEmpty());
+}
+
+TEST_F(NoisePanelTest, ReadoutShowsCoreRmsWithTheBand)
+{
+    // core's own analysis of the same file, formatted as the Readout promises.
+    auto design = loadDesign(kDemo.toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto a = analyze(*design);
+    ASSERT_TRUE(a) << a.errorText();
+    ASSERT_TRUE(a->noise && a->noise->outputRms && a->noise->inputRms);
+    const NoiseAnalysis &n = *a->noise;
+    const QString title = QStringLiteral("rms noise, ")
+        + toQString(formatEngineering(n.bandLowHz, 3, "Hz")) + QStringLiteral("–")
+        + toQString(formatEngineering(n.bandHighHz, 3, "Hz"));
+    const QString want = toQString(formatEngineering(*n.outputRms, 3, "V")) + QStringLiteral(" / ")
+        + toQString(formatEngineering(*n.inputRms, 3, "A"));
+    EXPECT_EQ(window->readout()->cellText(title), want);
+    // The strip sets the window's minimum width; with the noise cell it still fits a
+    // 1280 px wide screen (common practice for a laptop-sized minimum).
+    EXPECT_LE(window->readout()->minimumSizeHint().width(), 1280);
+    EXPECT_THAT(window->readout()->plainText().toStdString(), testing::Not(HasSubstr("nan")));
+    EXPECT_THAT(panel->summaryText().toStdString(),
+                HasSubstr(want.section(" / ", 0, 0).toStdString()));
+}
+
+TEST_F(NoisePanelTest, WritesAScreenshot)
+{
+    QTest::qWait(300);
+    EXPECT_TRUE(window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                    + "/loopsketch-noise-window.png"));
+    EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                   + "/loopsketch-noise-panel.png"));
+}
+
+/// Every example design: the axes carry the units its gain implies, the stack's top is the
+/// total, and a screenshot of the panel is left for inspection.
+class NoiseExample : public ::testing::TestWithParam<const char *>
+{
+};
+
+TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    const QString path = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(GetParam());
+    ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
+    window.findChild<QDockWidget *>(QStringLiteral("NoiseDock"))->raise();
+    QTest::qWait(150);
+    NoisePanel *panel = nullptr;
+    for (PlotPanel *p : window.panels()) {
+        if (auto *n = qobject_cast<NoisePanel *>(p))
+            panel = n;
+    }
+    ASSERT_NE(panel, nullptr);
+    const Analysis &a = *window.document()->analysis();
+    ASSERT_TRUE(a.noise.has_value()) << a.noiseProblem;
+    // "V/A": output density in V/√Hz, input-referred in A/√Hz (DESIGN.md §5 gain units).
+    const QString unit = toQString(a.gainUnit);
+    const QString out = unit.section('/', 0, 0), in = unit.section('/', 1, 1);
+    QStringList titles;
+    for (const QAbstractAxis *axis : panel->chart()->axes(Qt::Vertical))
+        titles << axis->titleText();
+    // "output (V/√Hz)", or the unit alone where the plot is short
+    ASSERT_EQ(titles.size(), 2);
+    EXPECT_TRUE(titles[0].endsWith(QStringLiteral("%1/√Hz").arg(out)))
+        << titles.join('|').toStdString();
+    EXPECT_TRUE(titles[1].endsWith(QStringLiteral("%1/√Hz").arg(in)))
+        << titles.join('|').toStdString();
+    const NoiseAnalysis &n = *a.noise;
+    const QStringList names = panel->bandNames();
+    ASSERT_EQ(names.size(), qsizetype(n.contributions.size()));
+    const QList<QPointF> top = panel->fullPoints(panel->band(names.back())->upperSeries());
+    ASSERT_EQ(top.size(), qsizetype(n.frequenciesHz.size()));
+    const std::size_t i = indexNear(n.frequenciesHz, 1e3);
+    EXPECT_LT(relErr(std::pow(10.0, top[qsizetype(i)].y()), n.outputDensity[i]), 1e-9);
+    EXPECT_TRUE(panel->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                   + QStringLiteral("/loopsketch-noise-%1.png").arg(GetParam())));
+}
+
+INSTANTIATE_TEST_SUITE_P(Examples, NoiseExample,
+                         ::testing::Values("contact-mic-preamp", "excitation-current-driver",
+                                           "gas-cell-current-amplifier"),
+                         [](const ::testing::TestParamInfo<const char *> &param) {
+                             std::string name = param.param;
+                             std::erase(name, '-');
+                             return name;
+                         });
+
+TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    ASSERT_TRUE(window.openFile(kDemo, &error)) << error.toStdString();
+    QApplication::processEvents();
+    NoisePanel *panel = nullptr;
+    for (PlotPanel *p : window.panels()) {
+        if (auto *n = qobject_cast<NoisePanel *>(p))
+            panel = n;
+    }
+    ASSERT_NE(panel, nullptr);
+    // Behind the Impedance tab by default, once the dock layout has run (a tab behind
+    // another stays visible but is moved off screen).
+    QTest::qWait(200);
+    const auto onScreen = [&](QWidget *w) {
+        return QRect(w->mapTo(&window, QPoint(0, 0)), w->size()).intersects(window.rect());
+    };
+    ASSERT_FALSE(onScreen(panel));
+    ASSERT_TRUE(onScreen(window.panels()[1]));
+    // A new analysis while hidden is kept, not drawn: the bands are still the demo's.
+    ASSERT_TRUE(window.openText(demoWithGainBlockNoise(), QStringLiteral("noisy"), &error))
+        << error.toStdString();
+    QApplication::processEvents();
+    const NoiseAnalysis &n = *window.document()->analysis()->noise;
+    ASSERT_GT(n.contributions.size(), 5u);
+    EXPECT_FALSE(panel->bandNames().contains(QStringLiteral("U1 e_n")));
+    window.findChild<QDockWidget *>(QStringLiteral("NoiseDock"))->raise();
+    QApplication::processEvents();
+    ASSERT_TRUE(onScreen(panel));
+    EXPECT_EQ(panel->bandNames().size(), qsizetype(n.contributions.size()));
+    EXPECT_TRUE(panel->bandNames().contains(QStringLiteral("U1 e_n")));
+    const QList<QPointF> total = panel->fullPoints(panel->series(NoisePanel::kTotal));
+    ASSERT_EQ(total.size(), qsizetype(n.outputDensity.size()));
+    EXPECT_LT(relErr(std::pow(10.0, total[200].y()), n.outputDensity[200]), 1e-12);
+}
+
+TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
+{
+    auto design = loadDesign(kDemo.toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto a = analyze(*design);
+    ASSERT_TRUE(a) << a.errorText();
+    NoisePanel panel;
+    panel.resize(600, 360);
+    panel.show();
+    panel.showAnalysis(*a);
+    EXPECT_FALSE(panel.bandNames().isEmpty());
+    Analysis without = *a;
+    without.noise.reset();
+    without.noiseProblem = "noise: the circuit has no solution at 12 Hz";
+    panel.showAnalysis(without);
+    EXPECT_THAT(panel.problemText().toStdString(),
+                HasSubstr("No noise analysis: the circuit has no solution at 12 Hz"));
+    EXPECT_TRUE(panel.bandNames().isEmpty());
+    EXPECT_TRUE(panel.fullPoints(panel.series(NoisePanel::kTotal)).isEmpty());
+    EXPECT_TRUE(panel.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                  + "/loopsketch-noise-absent.png"));
+    Readout readout;
+    readout.showAnalysis(without, *design);
+    EXPECT_EQ(readout.cellText(QStringLiteral("rms noise")), QStringLiteral("—"));
+    // And back: the plot returns, the message goes.
+    panel.showAnalysis(*a);
+    EXPECT_TRUE(panel.problemText().isEmpty());
+    EXPECT_EQ(panel.bandNames().size(), qsizetype(a->noise->contributions.size()));
+}
+
+} // namespace
+
+int main(int argc, char **argv)
+{
+    ::testing::InitGoogleTest(&argc, argv);
+    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
+        qputenv("QT_QPA_PLATFORM", "offscreen");
+    QStandardPaths::setTestModeEnabled(true);
+    QApplication app(argc, argv);
+    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
+    QApplication::setApplicationName(QStringLiteral("tst_noisepanel"));
+    return RUN_ALL_TESTS();
+}
