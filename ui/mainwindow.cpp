@@ -32,6 +32,7 @@
 #include <QMenuBar>
 #include <QMessageBox>
 #include <QMimeData>
+#include <QScrollArea>
 #include <QSettings>
 #include <QStandardPaths>
 #include <QStatusBar>
@@ -265,17 +266,22 @@ void MainWindow::createDocks()
     splitDockWidget(desDock, stepDock, Qt::Horizontal);
     splitDockWidget(stepDock, polesDock, Qt::Horizontal);
 
+    // The Spread panel holds controls, a table and three histograms: it scrolls rather than
+    // forcing its height on the whole window.
     m_spread = new SpreadPanel(m_document, this);
-    auto *spreadDock
-        = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), m_spread, Qt::RightDockWidgetArea);
-    tabifyDockWidget(loopDock, spreadDock);
-    loopDock->raise();
+    auto *spreadScroll = new QScrollArea(this);
+    spreadScroll->setWidget(m_spread);
+    spreadScroll->setWidgetResizable(true);
+    spreadScroll->setFrameShape(QFrame::NoFrame);
+    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), spreadScroll,
+                                Qt::RightDockWidgetArea);
 
     // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
     m_candidates = new CandidatesPanel(m_document, this);
     m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"), m_candidates,
                                 Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, m_candidatesDock);
+    tabifyDockWidget(impDock, spreadDock);
     impDock->raise();
     connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
         const std::vector<OverlaySource> sources = m_candidates->overlaySources();
@@ -610,10 +616,10 @@ void MainWindow::showEvent(QShowEvent *event)
             return findChild<QDockWidget *>(name);
         };
         resizeDocks({dock("PartsDock")}, {230}, Qt::Horizontal);
-        resizeDocks({dock("LoopGainDock")}, {width() * 2 / 5}, Qt::Horizontal);
-        resizeDocks({dock("LoopGainDock"), dock("ImpedanceDock")},
-                    {height() * 11 / 20, height() * 9 / 20}, Qt::Vertical);
-        resizeDocks({dock("DesensitivityDock")}, {height() / 4}, Qt::Vertical);
+        resizeDocks({dock("LoopGainDock")}, {width() * 9 / 20}, Qt::Horizontal);
+        resizeDocks({dock("LoopGainDock"), dock("ImpedanceDock")}, {height() / 2, height() / 2},
+                    Qt::Vertical);
+        resizeDocks({dock("DesensitivityDock")}, {height() * 7 / 25}, Qt::Vertical);
         resizeDocks({dock("DesensitivityDock"), dock("StepDock"), dock("PolesDock")},
                     {width() / 3, width() / 3, width() / 3}, Qt::Horizontal);
         resizeDocks({dock("PartsDock"), dock("InspectorDock")}, {height() / 3, height() / 2},

@@ -248,7 +248,7 @@ void PlotPanel::placeSummary()
     const double w = m_summary->boundingRect().width();
     const double full = chart()->size().width();
     // The overlay toggle sits in the top right corner when the summary leaves room for it,
-    // else in the bottom right corner, level with the frequency axis title.
+    // else in the bottom right corner, level with the centred legend.
     double room = full;
     if (m_overlayButton) {
         const int bw = m_overlayButton->width();
@@ -256,9 +256,7 @@ void PlotPanel::placeSummary()
             m_overlayButton->move(width() - bw - 4, 2);
             room = full - bw - 8.0;
         } else {
-            const QPointF below
-                = mapFromScene(chart()->mapToScene(chart()->plotArea().bottomRight()));
-            m_overlayButton->move(width() - bw - 4, int(below.y()) + 16);
+            m_overlayButton->move(width() - bw - 4, height() - m_overlayButton->height() - 2);
         }
     }
     m_summary->setPos(std::max(4.0, (room - w) / 2.0), chart()->margins().top() + 3.0);

@@ -3,6 +3,7 @@
 #include "noisepanel.h"
 #include "qtadapter.h"
 
+#include "loopsketch/trialmetrics.h"
 #include "loopsketch/value.h"
 
 #include <QHBoxLayout>
@@ -94,15 +95,15 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
 {
     const std::string &unit = a.gainUnit;
     const Specs &specs = design.specs;
+    // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
+    const SpecCheck check = checkSpecs(
+        specs, design.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;
     QString gainSpec;
-    if (a.exact.gain && (specs.gainMin || specs.gainMax)) {
-        const double g = *a.exact.gain;
-        const bool ok = (!specs.gainMin || g >= specs.gainMin->si)
-            && (!specs.gainMax || g <= specs.gainMax->si);
-        gainVerdict = ok ? kPass : kFail;
+    if (specs.gainMin || specs.gainMax) {
+        gainVerdict = check.gain ? kPass : kFail;
         gainSpec = tr("spec %1 … %2")
                        .arg(specs.gainMin ? engineering(specs.gainMin->si, unit) : QString("—"),
                             specs.gainMax ? engineering(specs.gainMax->si, unit) : QString("—"));
@@ -142,18 +143,19 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     int bwVerdict = kNoVerdict;
     QString bwSpec;
     if (specs.bandwidthMin) {
-        bwVerdict = a.bandwidthHz && *a.bandwidthHz >= specs.bandwidthMin->si ? kPass : kFail;
+        bwVerdict = check.bandwidth ? kPass : kFail;
         bwSpec = tr("spec ≥ %1").arg(engineering(specs.bandwidthMin->si, "Hz"));
     }
-    setCell(5, tr("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"), bwSpec, bwVerdict);
+    // No -3 dB point inside the sweep: the closed loop is flat beyond its end.
+    setCell(5, tr("bandwidth −3 dB"),
+            a.bandwidthHz ? engineering(a.bandwidthHz, "Hz")
+                          : QStringLiteral("> ") + engineering(design.sweep.stop.si, "Hz"),
+            bwSpec, bwVerdict);
 
     int pmVerdict = kNoVerdict;
     QString pmSpec;
     if (specs.phaseMarginMinDeg) {
-        pmVerdict
-            = a.margins.phaseMarginDeg && *a.margins.phaseMarginDeg >= *specs.phaseMarginMinDeg
-            ? kPass
-            : kFail;
+        pmVerdict = check.phaseMargin ? kPass : kFail;
         pmSpec = tr("spec ≥ %1°").arg(toQString(formatEngineering(*specs.phaseMarginMinDeg, 3)));
     }
     setCell(6, tr("phase margin"),
