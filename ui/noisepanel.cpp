@@ -2,6 +2,7 @@
 
 #include "qtadapter.h"
 
+#include "loopsketch/noisenames.h"
 #include "loopsketch/value.h"
 
 #include <QAreaSeries>
@@ -62,38 +63,15 @@ QString density(double v, const QString &unit)
 
 } // namespace
 
-NoiseUnits noiseUnits(const Analysis &a)
+NoiseUnitText noiseUnits(const Analysis &a)
 {
-    const QString unit = toQString(a.gainUnit);
-    const qsizetype slash = unit.indexOf(QLatin1Char('/'));
-    if (slash < 0)
-        return {QStringLiteral("V"), QStringLiteral("V")};
-    return {unit.left(slash), unit.mid(slash + 1)};
+    const NoiseUnits u = loopsketch::noiseUnits(a.gainUnit);
+    return {toQString(u.output), toQString(u.input)};
 }
 
 QString noiseSourceName(const NoiseContribution &c)
 {
-    const QString name = toQString(c.name);
-    const QString part = toQString(c.partId);
-    switch (c.kind) {
-    case NoiseSourceKind::Resistor: {
-        // "RF" is the part itself; "PD1:r_parallel" a resistance inside a part.
-        const qsizetype colon = name.indexOf(QLatin1Char(':'));
-        const QString what = colon < 0 ? part : part + QLatin1Char(' ') + name.mid(colon + 1);
-        return what + QStringLiteral(" thermal");
-    }
-    case NoiseSourceKind::VoltageNoise:
-        return part + QStringLiteral(" e_n");
-    case NoiseSourceKind::CurrentNoise: {
-        // "U1:in(in_n)": the current noise at the in_n pin.
-        const qsizetype open = name.indexOf(QLatin1Char('('));
-        const qsizetype close = name.lastIndexOf(QLatin1Char(')'));
-        if (open >= 0 && close > open)
-            return part + QStringLiteral(" i_n at ") + name.mid(open + 1, close - open - 1);
-        return part + QStringLiteral(" i_n");
-    }
-    }
-    return name;
+    return toQString(noiseSourceLabel(c));
 }
 
 QString noiseBandText(const NoiseAnalysis &n)

@@ -19,12 +19,12 @@ class QGraphicsTextItem;
 namespace loopsketch::ui {
 
 /// Units of the noise densities: the output's and the signal source's ("V/A" gives V and A).
-struct NoiseUnits
+struct NoiseUnitText
 {
     QString output;
     QString input;
 };
-NoiseUnits noiseUnits(const Analysis &analysis);
+NoiseUnitText noiseUnits(const Analysis &analysis);
 
 /// A source's name for legends and tables: "RF thermal", "PD1 r_parallel thermal",
 /// "U1 e_n", "U1 i_n at in_n".
@@ -74,7 +74,7 @@ private:
     /// What showAnalysis() takes from an Analysis.
     struct Pending
     {
-        NoiseUnits units;
+        NoiseUnitText units;
         double xLo = 0, xHi = 0; ///< log10(f / Hz) of the sweep
         std::optional<NoiseAnalysis> noise;
         QString problem;
@@ -96,7 +96,7 @@ private:
     std::optional<NoiseAnalysis> m_noise; ///< what is drawn, for the cursor values
     std::optional<Pending> m_pending; ///< the latest analysis while off screen
     bool m_onScreen = true;
-    NoiseUnits m_units;
+    NoiseUnitText m_units;
     double m_cursorAt = std::nan("");
     double m_bandEdgeAt = std::nan(""); ///< log10(f / Hz) of the band's upper end as drawn
     QGraphicsSimpleTextItem *m_bandLabel = nullptr;

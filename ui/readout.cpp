@@ -185,7 +185,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     // Integrated noise over core's band, referred to the output and to the input.
     if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {
         const NoiseAnalysis &n = *a.noise;
-        const NoiseUnits u = noiseUnits(a);
+        const NoiseUnitText u = noiseUnits(a);
         const auto rms = [](const OptionalNumber &v, const QString &symbol) {
             return v && std::isfinite(*v) ? toQString(formatEngineering(*v, 3, toStdString(symbol)))
                                           : QStringLiteral("—");

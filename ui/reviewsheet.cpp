@@ -715,7 +715,7 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
         break;
     }
     case SheetPlot::Noise: {
-        const NoiseUnits u = noiseUnits(a);
+        const NoiseUnitText u = noiseUnits(a);
         title = QStringLiteral("Noise density, output and input-referred");
         if (!a.noise || a.noise->frequenciesHz.empty()) {
             p.setFont(sheetFont(kBodyPt));
@@ -999,7 +999,7 @@ void noiseSection(SheetWriter &w, const Analysis &a)
         return;
     }
     const NoiseAnalysis &n = *a.noise;
-    const NoiseUnits u = noiseUnits(a);
+    const NoiseUnitText u = noiseUnits(a);
     const std::string out = u.output.toStdString(), in = u.input.toStdString();
     w.paragraph(QStringLiteral("Output noise %1 rms, input-referred %2 rms, over %3–%4 at %5 K "
                                "(%6 °C).")

@@ -1,4 +1,5 @@
 #include "loopsketch/analysis.h"
+#include "loopsketch/noisenames.h"
 
 #include "loopsketch/value.h"
 
@@ -94,37 +95,6 @@ const char *noiseKindName(NoiseSourceKind kind)
         return "current_noise";
     }
     return "";
-}
-
-// Output and input units from the gain unit "V/A": output "V", input "A".
-std::pair<std::string, std::string> noiseUnits(const std::string &gainUnit)
-{
-    const auto slash = gainUnit.find('/');
-    if (slash == std::string::npos)
-        return {"V", "V"};
-    return {gainUnit.substr(0, slash), gainUnit.substr(slash + 1)};
-}
-
-// A source's name as the GUI's legend and the review sheet give it: "RF thermal",
-// "PD1 r_parallel thermal", "U1 e_n", "U1 i_n at in_n".
-std::string noiseSourceLabel(const NoiseContribution &c)
-{
-    switch (c.kind) {
-    case NoiseSourceKind::Resistor: {
-        const auto colon = c.name.find(':');
-        return (colon == std::string::npos ? c.partId : c.partId + " " + c.name.substr(colon + 1))
-            + " thermal";
-    }
-    case NoiseSourceKind::VoltageNoise:
-        return c.partId + " e_n";
-    case NoiseSourceKind::CurrentNoise: {
-        const auto open = c.name.find('('), close = c.name.rfind(')');
-        if (open != std::string::npos && close != std::string::npos && close > open)
-            return c.partId + " i_n at " + c.name.substr(open + 1, close - open - 1);
-        return c.partId + " i_n";
-    }
-    }
-    return c.name;
 }
 
 Json noiseJson(const Analysis &a)
