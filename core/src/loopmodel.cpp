@@ -298,11 +298,6 @@ Curve blackman(const ReducedSystem &r, std::span<const Complex> s, int portVolta
     return z;
 }
 
-Complex parallel(Complex a, Complex b)
-{
-    return a * b / (a + b);
-}
-
 } // namespace
 
 Complex LoopModel::loopGainAt(Complex s) const
@@ -370,7 +365,7 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             c.loopGain[i] = t;
             c.feedthrough[i] = g0;
             c.gainInf[i] = g0 + through / t;
-            c.rrGain[i] = c.gainInf[i] * t / (1.0 + t) + g0 / (1.0 + t);
+            c.rrGain[i] = (c.gainInf[i] * t + g0) / (1.0 + t);
         }
     }
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
@@ -425,9 +420,11 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
         const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
         const Complex vOpen = -h21 / (c1 * h22 - c2 * h21); // V_P with the input open
-        const Complex iShort = -h21 / c1; // Norton current into the input
-        const Complex ys = h22 - h21 * c2 / c1; // admittance with the source zeroed
-        const Complex zs = 1.0 / ys;
+        const Complex invC1 = 1.0 / c1;
+        const Complex iShort = -h21 * invC1; // Norton current into the input
+        const Complex ys = h22 - h21 * c2 * invC1; // admittance with the source zeroed
+        // Only series mixing reads the source as an impedance.
+        const Complex zs = seriesMix ? 1.0 / ys : Complex(0.0);
         const Complex kSrc = seriesMix ? vOpen : iShort;
 
         const Complex sampled = x.sampledSign * aEntry(0, i);
@@ -443,8 +440,9 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         if (seriesMix) {
             zNode = (zs + zq[i]) * desens - zs;
         } else {
+            // 1 / (desens / ri - ys) with one quotient.
             const Complex ri = aEntry(2, i);
-            zNode = 1.0 / (desens / ri - ys);
+            zNode = ri / (desens - ys * ri);
         }
         c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
 
@@ -454,38 +452,37 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             c.tpZOut[i] = (zl + zRest[i]) * desens - zl;
         } else {
             const Complex ro = aEntry(seriesMix ? 2 : 3, i);
-            c.tpZOut[i] = 1.0 / (desens / ro - yl);
+            c.tpZOut[i] = ro / (desens - yl * ro);
         }
 
         // Loading budget: what the network's port loading costs against an unloaded input
         // and output (1 = nothing lost).
-        Complex zn1, zn2;
-        switch (top.parameters()) {
-        case ParameterSet::H:
-            zn1 = network(0, 0), zn2 = 1.0 / network(1, 1);
-            break;
-        case ParameterSet::Y:
-            zn1 = 1.0 / network(0, 0), zn2 = 1.0 / network(1, 1);
-            break;
-        case ParameterSet::Z:
-            zn1 = network(0, 0), zn2 = network(1, 1);
-            break;
-        case ParameterSet::G:
-            zn1 = 1.0 / network(0, 0), zn2 = network(1, 1);
-            break;
-        }
+        // Port 1 is read as an impedance under series mixing and as an admittance under
+        // shunt mixing: take whichever form the parameter set holds without inverting twice.
+        const bool port1Impedance
+            = top.parameters() == ParameterSet::H || top.parameters() == ParameterSet::Z;
+        const bool port2Impedance
+            = top.parameters() == ParameterSet::Z || top.parameters() == ParameterSet::G;
+        const Complex n11 = network(0, 0);
+        const Complex zn2 = port2Impedance ? network(1, 1) : 1.0 / network(1, 1);
         const Complex yIn = x.gIn + s[i] * x.cIn;
         if (seriesMix) {
-            c.inputLoading[i]
-                = std::abs(yIn) == 0.0 ? Complex(1.0) : (1.0 / yIn + zs) / (1.0 / yIn + zs + zn1);
+            const Complex zn1 = port1Impedance ? n11 : 1.0 / n11;
+            if (std::abs(yIn) == 0.0) {
+                c.inputLoading[i] = Complex(1.0);
+            } else {
+                const Complex zInSide = 1.0 / yIn + zs;
+                c.inputLoading[i] = zInSide / (zInSide + zn1);
+            }
         } else {
-            c.inputLoading[i] = (ys + yIn) / (ys + 1.0 / zn1 + yIn);
+            const Complex yn1 = port1Impedance ? 1.0 / n11 : n11;
+            c.inputLoading[i] = (ys + yIn) / (ys + yn1 + yIn);
         }
         if (seriesSample) {
             c.outputLoading[i] = (x.rOut + zl) / (x.rOut + zl + zn2);
         } else {
-            const Complex zp = parallel(zl, zn2);
-            c.outputLoading[i] = zp * (x.rOut + zl) / (zl * (x.rOut + zp));
+            // zp (rOut + zl) / (zl (rOut + zp)) with zp = zl || zn2, over one quotient.
+            c.outputLoading[i] = zn2 * (x.rOut + zl) / (x.rOut * (zl + zn2) + zl * zn2);
         }
     }
     return c;
