@@ -4,6 +4,8 @@
 #include "loopsketch/loopcircuit.h"
 #include "loopsketch/metrics.h"
 
+#include "noisesweep.h"
+
 #include <Eigen/LU>
 
 #include <cmath>
@@ -190,7 +192,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         NoiseOptions noiseOptions = options.noiseOptions;
         if (!noiseOptions.closedLoopBandwidthHz)
             noiseOptions.closedLoopBandwidthHz = a.bandwidthHz;
-        if (auto noise = analyzeNoise(design, noiseOptions))
+        if (auto noise = detail::analyzeNoiseOver(design, noiseOptions, a.frequenciesHz, points))
             a.noise = std::move(noise).value();
         else
             a.noiseProblem = noise.diagnostics().front().message;

@@ -1,5 +1,7 @@
 #include "loopsketch/noise.h"
 
+#include "noisesweep.h"
+
 #include "loopsketch/reducedsystem.h"
 
 #include "loopsketch/circuit.h"
@@ -121,6 +123,17 @@ std::optional<double> bandwidthFromGain(const std::vector<double> &f,
 
 Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &options)
 {
+    const std::vector<double> hz = design.sweep.frequencies();
+    std::vector<std::complex<double>> points(hz.size());
+    for (std::size_t i = 0; i < hz.size(); ++i)
+        points[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
+    return detail::analyzeNoiseOver(design, options, hz, points);
+}
+
+Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const NoiseOptions &options,
+                                               const std::vector<double> &frequenciesHz,
+                                               std::span<const std::complex<double>> points)
+{
     const Part *gb = design.uniquePart(PartType::GainBlock);
     if (!gb || !design.signalSource() || !design.uniquePart(PartType::Load))
         return Diagnostic{{}, {}, {}, "noise needs one gain block, one signal source and one load"};
@@ -162,7 +175,7 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
 
     NoiseAnalysis result;
     result.temperatureK = design.temperatureK();
-    result.frequenciesHz = design.sweep.frequencies();
+    result.frequenciesHz = frequenciesHz;
     const double fourKT = 4.0 * kBoltzmann * result.temperatureK;
 
     std::vector<Source> sources;
@@ -241,9 +254,6 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
     std::vector<TransferEntry> entries(columns);
     for (std::size_t k = 0; k < columns; ++k)
         entries[k] = {0, static_cast<int>(k)};
-    std::vector<std::complex<double>> points(count);
-    for (std::size_t i = 0; i < count; ++i)
-        points[i] = {0.0, 2.0 * std::numbers::pi * result.frequenciesHz[i]};
     const std::vector<std::complex<double>> transfer = reduced->sweepEntries(points, entries);
     const auto h = [&](std::size_t column, std::size_t i) {
         return transfer[column * count + i];
