@@ -279,12 +279,15 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
             src.contribution.outputPsd.push_back(psd);
             total += psd;
         }
+        // Magnitudes as roots of the squared norms: finite transfers of a circuit are far
+        // from the range where the square overflows, and this skips hypot's scaling.
         result.gain.push_back(gain);
         result.noiseGain.push_back(
-            enColumn >= 0 ? std::abs(h(static_cast<std::size_t>(enColumn), i)) : 0.0);
-        result.outputDensity.push_back(std::sqrt(total));
-        const double g = std::abs(gain);
-        result.inputDensity.push_back(g > 0 ? std::sqrt(total) / g
+            enColumn >= 0 ? std::sqrt(std::norm(h(static_cast<std::size_t>(enColumn), i))) : 0.0);
+        const double outputDensity = std::sqrt(total);
+        result.outputDensity.push_back(outputDensity);
+        const double g = std::sqrt(std::norm(gain));
+        result.inputDensity.push_back(g > 0 ? outputDensity / g
                                             : std::numeric_limits<double>::quiet_NaN());
     }
 
@@ -345,10 +348,12 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
     if (result.brickWall) {
         if (gainEverywhere) {
             result.outputRms = *result.inputRms * gain0;
+            std::vector<double> gainNorm(hz.size()), referred(hz.size());
+            for (std::size_t i = 0; i < hz.size(); ++i)
+                gainNorm[i] = std::norm(result.gain[i]);
             for (Source &src : sources) {
-                std::vector<double> referred(hz.size());
                 for (std::size_t i = 0; i < hz.size(); ++i)
-                    referred[i] = src.contribution.outputPsd[i] / std::norm(result.gain[i]);
+                    referred[i] = src.contribution.outputPsd[i] / gainNorm[i];
                 src.contribution.rms = std::sqrt(integrate(referred)) * gain0;
             }
         }
