@@ -79,23 +79,38 @@ double phaseNear(std::complex<double> v, double reference)
     return p + 2.0 * kPi * std::round((reference - p) / (2.0 * kPi));
 }
 
-} // namespace
-
-std::vector<double> unwrapPhase(const Curve &values, double start)
+/// unwrapPhase() with each value's magnitude given.
+std::vector<double> unwrapPhaseWith(const Curve &values, const std::vector<double> &magnitudes,
+                                    double start)
 {
     std::vector<double> out;
     out.reserve(values.size());
     double previous = start;
-    for (const auto &v : values) {
-        const double magnitude = std::abs(v);
+    for (std::size_t i = 0; i < values.size(); ++i) {
+        const double magnitude = magnitudes[i];
         if (!std::isfinite(magnitude) || magnitude == 0.0) {
             out.push_back(std::nan(""));
             continue;
         }
-        previous = phaseNear(v, previous);
+        previous = phaseNear(values[i], previous);
         out.push_back(previous);
     }
     return out;
+}
+
+std::vector<double> magnitudesOf(const Curve &values)
+{
+    std::vector<double> m(values.size());
+    for (std::size_t i = 0; i < values.size(); ++i)
+        m[i] = std::abs(values[i]);
+    return m;
+}
+
+} // namespace
+
+std::vector<double> unwrapPhase(const Curve &values, double start)
+{
+    return unwrapPhaseWith(values, magnitudesOf(values), start);
 }
 
 Margins computeMargins(const LoopModel &model, const std::vector<double> &f, const Curve &t,
@@ -106,16 +121,19 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
         return m;
     const double startPhase
         = std::isfinite(std::abs(tDc)) && std::abs(tDc) > 0 ? std::arg(tDc) : std::arg(t.front());
-    const std::vector<double> phase = unwrapPhase(t, startPhase);
+    const std::vector<double> magnitude = magnitudesOf(t);
+    const std::vector<double> phase = unwrapPhaseWith(t, magnitude, startPhase);
     const auto logMag = [&](double hz) {
         return std::log(std::abs(model.loopGainAt(jw(hz))));
     };
-    std::vector<double> logMagnitude(t.size());
-    for (std::size_t i = 0; i < t.size(); ++i)
-        logMagnitude[i] = std::log(std::abs(t[i]));
+    // Gain crossovers: |T| passes 1. The logarithm is finite exactly for a finite, non-zero
+    // magnitude and negative exactly below 1, so the magnitudes decide without it.
+    const auto usable = [](double v) {
+        return std::isfinite(v) && v > 0.0;
+    };
     for (std::size_t i = 0; i + 1 < f.size(); ++i) {
-        const double a = logMagnitude[i], b = logMagnitude[i + 1];
-        if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
+        const double a = magnitude[i], b = magnitude[i + 1];
+        if (!usable(a) || !usable(b) || (a < 1.0) == (b < 1.0))
             continue;
         const double fc = bisectLog(logMag, f[i], f[i + 1]);
         const double ph = phaseNear(model.loopGainAt(jw(fc)), phase[i]);
@@ -152,11 +170,14 @@ OptionalNumber computeBandwidth(const LoopModel &model, const std::vector<double
     if (!(std::abs(gainDc) > 0) || !std::isfinite(gainDc))
         return std::nullopt;
     const double level = std::abs(gainDc) / std::sqrt(2.0);
+    double here = f.empty() ? 0.0 : std::abs(gain[0]);
     for (std::size_t i = 0; i + 1 < f.size(); ++i) {
-        if (std::abs(gain[i]) >= level && std::abs(gain[i + 1]) < level) {
+        const double next = std::abs(gain[i + 1]);
+        if (here >= level && next < level) {
             return bisectLog([&](double hz) { return std::abs(model.gainAt(jw(hz))) - level; },
                              f[i], f[i + 1]);
         }
+        here = next;
     }
     return std::nullopt;
 }
@@ -165,13 +186,16 @@ OptionalNumber computePeaking(const Curve &gain, double gainDc)
 {
     if (!(std::abs(gainDc) > 0) || !std::isfinite(gainDc))
         return std::nullopt;
-    double peak = 0.0;
+    // The decibel level rises with the magnitude: one logarithm, of the largest.
+    double largest = -1.0;
     for (const auto &g : gain) {
         const double magnitude = std::abs(g);
         if (std::isfinite(magnitude))
-            peak = std::max(peak, 20.0 * std::log10(magnitude / std::abs(gainDc)));
+            largest = std::max(largest, magnitude);
     }
-    return peak;
+    if (largest < 0.0)
+        return 0.0;
+    return std::max(0.0, 20.0 * std::log10(largest / std::abs(gainDc)));
 }
 
 std::vector<ClosedLoopPole> describePoles(const std::vector<std::complex<double>> &poles)
