@@ -291,9 +291,10 @@ Curve blackman(const ReducedSystem &r, std::span<const Complex> s, int portVolta
             z[i] = 0.0; // a port held by an ideal source stays at zero impedance
             continue;
         }
-        const Complex tOc = -h[n + i];
-        const Complex tSc = -(h[n + i] - h[2 * n + i] * h[3 * n + i] / zd[i]);
-        z[i] = zd[i] * (1.0 + tSc) / (1.0 + tOc);
+        // With T_oc = -h1 and T_sc = -(h1 - h2 h3 / Z_D):
+        // Z_D (1 + T_sc) / (1 + T_oc) = (Z_D (1 - h1) + h2 h3) / (1 - h1), one quotient.
+        const Complex openLoop = 1.0 - h[n + i];
+        z[i] = (zd[i] * openLoop + h[2 * n + i] * h[3 * n + i]) / openLoop;
     }
     return z;
 }
@@ -419,13 +420,13 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         const Complex u12 = x.voltageSource ? Complex(1.0) : ySrc;
         // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
         const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
-        const Complex vOpen = -h21 / (c1 * h22 - c2 * h21); // V_P with the input open
         const Complex invC1 = 1.0 / c1;
         const Complex iShort = -h21 * invC1; // Norton current into the input
         const Complex ys = h22 - h21 * c2 * invC1; // admittance with the source zeroed
         // Only series mixing reads the source as an impedance.
         const Complex zs = seriesMix ? 1.0 / ys : Complex(0.0);
-        const Complex kSrc = seriesMix ? vOpen : iShort;
+        // Series mixing drives with the open-circuit voltage V_P, shunt with the current.
+        const Complex kSrc = seriesMix ? -h21 / (c1 * h22 - c2 * h21) : iShort;
 
         const Complex sampled = x.sampledSign * aEntry(0, i);
         c.a[i] = sampled / kSrc;
@@ -447,7 +448,7 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
 
         const Complex yl = 1.0 / x.loadR + s[i] * x.loadC;
-        const Complex zl = 1.0 / yl;
+        const Complex zl = seriesSample ? 1.0 / yl : Complex(0.0);
         if (seriesSample) {
             c.tpZOut[i] = (zl + zRest[i]) * desens - zl;
         } else {
@@ -481,8 +482,9 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         if (seriesSample) {
             c.outputLoading[i] = (x.rOut + zl) / (x.rOut + zl + zn2);
         } else {
-            // zp (rOut + zl) / (zl (rOut + zp)) with zp = zl || zn2, over one quotient.
-            c.outputLoading[i] = zn2 * (x.rOut + zl) / (x.rOut * (zl + zn2) + zl * zn2);
+            // zp (rOut + zl) / (zl (rOut + zp)) with zp = zl || zn2 and zl = 1 / yl, over one
+            // quotient.
+            c.outputLoading[i] = zn2 * (1.0 + x.rOut * yl) / (x.rOut * (1.0 + zn2 * yl) + zn2);
         }
     }
     return c;
