@@ -534,15 +534,3 @@ INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,
                                            "gas-cell-current-amplifier"));
 
 } // namespace
-
-int main(int argc, char **argv)
-{
-    ::testing::InitGoogleTest(&argc, argv);
-    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
-        qputenv("QT_QPA_PLATFORM", "offscreen");
-    QStandardPaths::setTestModeEnabled(true);
-    QApplication app(argc, argv);
-    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
-    QApplication::setApplicationName(QStringLiteral("tst_mainwindow"));
-    return RUN_ALL_TESTS();
-}

@@ -450,15 +450,3 @@ TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
 }
 
 } // namespace
-
-int main(int argc, char **argv)
-{
-    ::testing::InitGoogleTest(&argc, argv);
-    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
-        qputenv("QT_QPA_PLATFORM", "offscreen");
-    QStandardPaths::setTestModeEnabled(true);
-    QApplication app(argc, argv);
-    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
-    QApplication::setApplicationName(QStringLiteral("tst_noisepanel"));
-    return RUN_ALL_TESTS();
-}
