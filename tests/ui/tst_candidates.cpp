@@ -8,6 +8,7 @@
 // `loopsketch analyze --candidate`, applied here independently of the ui's helper).
 
 #include "candidatespanel.h"
+#include "demowindowtest.h"
 #include "designdocument.h"
 #include "mainwindow.h"
 #include "panels.h"
@@ -80,25 +81,18 @@ const Candidate &candidateNamed(const Design &d, const std::string &name)
     return none;
 }
 
-class CandidatesTest : public ::testing::Test
+class CandidatesTest : public DemoWindowTest
 {
 protected:
     void SetUp() override
     {
-        window = std::make_unique<MainWindow>();
-        window->setAskBeforeDiscarding(false);
-        window->resize(1500, 940);
-        window->show();
-        QString error;
-        ASSERT_TRUE(window->openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
-            << error.toStdString();
-        QApplication::processEvents();
-        ASSERT_NE(doc()->analysis(), nullptr);
+        DemoWindowTest::SetUp();
+        if (HasFatalFailure())
+            return;
         ASSERT_EQ(doc()->design().candidates.size(), 2u);
         settle();
     }
 
-    DesignDocument *doc() const { return window->document(); }
     CandidatesPanel *panel() const { return window->candidatesPanel(); }
     std::string text() const { return serializeDesign(doc()->design()); }
 
@@ -123,8 +117,6 @@ protected:
         doc()->undoStack()->redo();
         EXPECT_EQ(text(), after);
     }
-
-    std::unique_ptr<MainWindow> window;
 };
 
 TEST_F(CandidatesTest, PinStoresEveryPartValueAndUndoRedoRestoreTheText)
@@ -575,15 +567,3 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
 }
 
 } // namespace
-
-int main(int argc, char **argv)
-{
-    ::testing::InitGoogleTest(&argc, argv);
-    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
-        qputenv("QT_QPA_PLATFORM", "offscreen");
-    QStandardPaths::setTestModeEnabled(true);
-    QApplication app(argc, argv);
-    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
-    QApplication::setApplicationName(QStringLiteral("tst_candidates"));
-    return RUN_ALL_TESTS();
-}

@@ -1,6 +1,7 @@
 // The desktop application against core: what the window shows after an edit must be what
 // core's analyze() gives for the edited design.
 
+#include "demowindowtest.h"
 #include "designdocument.h"
 #include "inspector.h"
 #include "mainwindow.h"
@@ -44,24 +45,9 @@ namespace {
 
 const std::string kDesigns = LOOPSKETCH_DESIGNS_DIR;
 
-class MainWindowTest : public ::testing::Test
+class MainWindowTest : public DemoWindowTest
 {
 protected:
-    void SetUp() override
-    {
-        window = std::make_unique<MainWindow>();
-        window->setAskBeforeDiscarding(false);
-        window->resize(1500, 940);
-        window->show();
-        QString error;
-        ASSERT_TRUE(window->openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
-            << error.toStdString();
-        QApplication::processEvents();
-        ASSERT_NE(doc()->analysis(), nullptr);
-    }
-
-    DesignDocument *doc() const { return window->document(); }
-
     double valueOf(const std::string &id) const
     {
         return doc()->design().findPart(id)->number("value");
@@ -128,8 +114,6 @@ protected:
             ASSERT_NEAR(p.y(), want[j].y(), 1e-9);
         }
     }
-
-    std::unique_ptr<MainWindow> window;
 };
 
 TEST_F(MainWindowTest, OpensTheDemoLaidOutAsStored)
@@ -534,15 +518,3 @@ INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,
                                            "gas-cell-current-amplifier"));
 
 } // namespace
-
-int main(int argc, char **argv)
-{
-    ::testing::InitGoogleTest(&argc, argv);
-    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
-        qputenv("QT_QPA_PLATFORM", "offscreen");
-    QStandardPaths::setTestModeEnabled(true);
-    QApplication app(argc, argv);
-    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
-    QApplication::setApplicationName(QStringLiteral("tst_mainwindow"));
-    return RUN_ALL_TESTS();
-}

@@ -2,6 +2,7 @@
 // source plus the total, the stack's top equal to core's total density, the linked cursor,
 // the integrated RMS text, and the reason shown when there is no noise analysis.
 
+#include "demowindowtest.h"
 #include "designdocument.h"
 #include "mainwindow.h"
 #include "noisepanel.h"
@@ -70,17 +71,14 @@ std::size_t indexNear(const std::vector<double> &f, double hz)
     return best;
 }
 
-class NoisePanelTest : public ::testing::Test
+class NoisePanelTest : public DemoWindowTest
 {
 protected:
     void SetUp() override
     {
-        window = std::make_unique<MainWindow>();
-        window->setAskBeforeDiscarding(false);
-        window->resize(1500, 940);
-        window->show();
-        QString error;
-        ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
+        DemoWindowTest::SetUp();
+        if (HasFatalFailure())
+            return;
         QDockWidget *dock = window->findChild<QDockWidget *>(QStringLiteral("NoiseDock"));
         ASSERT_NE(dock, nullptr);
         dock->raise();
@@ -109,7 +107,6 @@ protected:
         return std::pow(10.0, points[qsizetype(i)].y());
     }
 
-    std::unique_ptr<MainWindow> window;
     NoisePanel *panel = nullptr;
 };
 
@@ -450,15 +447,3 @@ TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
 }
 
 } // namespace
-
-int main(int argc, char **argv)
-{
-    ::testing::InitGoogleTest(&argc, argv);
-    if (qEnvironmentVariableIsEmpty("QT_QPA_PLATFORM") && qEnvironmentVariableIsEmpty("DISPLAY"))
-        qputenv("QT_QPA_PLATFORM", "offscreen");
-    QStandardPaths::setTestModeEnabled(true);
-    QApplication app(argc, argv);
-    QApplication::setOrganizationName(QStringLiteral("LoopsketchTests"));
-    QApplication::setApplicationName(QStringLiteral("tst_noisepanel"));
-    return RUN_ALL_TESTS();
-}
