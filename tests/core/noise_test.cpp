@@ -321,3 +321,35 @@ TEST(Noise, BandOutsideTheSweepIsAnError)
     ASSERT_FALSE(n.ok());
     EXPECT_THAT(n.errorText(), HasSubstr("noise band must lie within the sweep"));
 }
+
+// The noise analysis inside analyze() runs over the grid the loop model was swept on; the
+// standalone analyzeNoise() computes the design's grid itself. Given the same closed-loop
+// bandwidth both describe the same circuit at the same frequencies (common practice: one
+// computation reached two ways must agree).
+TEST(Noise, AnalysisNoiseMatchesTheStandaloneNoiseAnalysis)
+{
+    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
+    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
+    auto a = analyze(*loaded);
+    ASSERT_TRUE(a.ok()) << a.errorText();
+    ASSERT_TRUE(a->noise.has_value()) << a->noiseProblem;
+    NoiseOptions o;
+    o.closedLoopBandwidthHz = a->bandwidthHz;
+    auto alone = analyzeNoise(*loaded, o);
+    ASSERT_TRUE(alone.ok()) << alone.errorText();
+    const NoiseAnalysis &inside = *a->noise;
+    ASSERT_EQ(inside.frequenciesHz.size(), alone->frequenciesHz.size());
+    ASSERT_EQ(inside.frequenciesHz.size(), a->frequenciesHz.size());
+    for (std::size_t i = 0; i < inside.frequenciesHz.size(); i += 50) {
+        EXPECT_LT(relErr(inside.frequenciesHz[i], alone->frequenciesHz[i]), 1e-15) << i;
+        EXPECT_LT(relErr(inside.outputDensity[i], alone->outputDensity[i]), 1e-12) << i;
+        EXPECT_LT(relErr(inside.noiseGain[i], alone->noiseGain[i]), 1e-12) << i;
+    }
+    ASSERT_TRUE(inside.outputRms && alone->outputRms);
+    EXPECT_LT(relErr(*inside.outputRms, *alone->outputRms), 1e-12);
+    EXPECT_NEAR(inside.bandHighHz, alone->bandHighHz, 1e-9 * alone->bandHighHz);
+    ASSERT_EQ(inside.contributions.size(), alone->contributions.size());
+    for (std::size_t k = 0; k < inside.contributions.size(); ++k)
+        EXPECT_LT(relErr(inside.contributions[k].rms, alone->contributions[k].rms), 1e-12)
+            << inside.contributions[k].name;
+}
