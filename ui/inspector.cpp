@@ -18,6 +18,21 @@ namespace loopsketch::ui {
 
 namespace {
 
+/// Adds a form row holding `editor` with a hidden error line under it; returns the line.
+QLabel *addRowWithError(QFormLayout *form, const QString &label, QWidget *editor)
+{
+    auto *error = new QLabel(editor->parentWidget());
+    error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
+    error->setWordWrap(true);
+    error->hide();
+    auto *box = new QVBoxLayout;
+    box->setSpacing(1);
+    box->addWidget(editor);
+    box->addWidget(error);
+    form->addRow(label, box);
+    return error;
+}
+
 QString fieldText(const Part &part, const FieldSpec &spec)
 {
     const auto it = part.fields.find(std::string(spec.name));
@@ -119,15 +134,7 @@ void Inspector::showPart(const std::string &partId)
                                   toQString(unitSymbol(spec.kind)).isEmpty()
                                       ? tr("plain numbers")
                                       : toQString(unitSymbol(spec.kind))));
-        auto *error = new QLabel(m_form);
-        error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-        error->setWordWrap(true);
-        error->hide();
-        auto *box = new QVBoxLayout;
-        box->setSpacing(1);
-        box->addWidget(edit);
-        box->addWidget(error);
-        form->addRow(toQString(field), box);
+        QLabel *error = addRowWithError(form, toQString(field), edit);
         m_edits[field] = edit;
         m_errors[field] = error;
         connect(edit, &QLineEdit::editingFinished, this, [this, field] { commitField(field); });
@@ -152,15 +159,7 @@ void Inspector::showPart(const std::string &partId)
                                QStringLiteral("1%"), QStringLiteral("2%"), QStringLiteral("5%"),
                                QStringLiteral("10%"), QStringLiteral("20%")});
         m_tolerance->setCurrentText(part->tolerance ? toQString(part->tolerance->text) : QString());
-        m_toleranceError = new QLabel(m_form);
-        m_toleranceError->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-        m_toleranceError->setWordWrap(true);
-        m_toleranceError->hide();
-        auto *box = new QVBoxLayout;
-        box->setSpacing(1);
-        box->addWidget(m_tolerance);
-        box->addWidget(m_toleranceError);
-        form->addRow(tr("tolerance"), box);
+        m_toleranceError = addRowWithError(form, tr("tolerance"), m_tolerance);
         connect(m_tolerance, &QComboBox::activated, this, [this](int) { commitTolerance(); });
         connect(m_tolerance->lineEdit(), &QLineEdit::editingFinished, this,
                 [this] { commitTolerance(); });
@@ -176,15 +175,7 @@ void Inspector::showPart(const std::string &partId)
             auto *edit = new QLineEdit(texts.join(QStringLiteral(", ")), m_form);
             edit->setPlaceholderText(tr("none"));
             edit->setToolTip(tr("%1: frequencies in Hz, separated by commas").arg(list));
-            auto *error = new QLabel(m_form);
-            error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-            error->setWordWrap(true);
-            error->hide();
-            auto *box = new QVBoxLayout;
-            box->setSpacing(1);
-            box->addWidget(edit);
-            box->addWidget(error);
-            form->addRow(toQString(list), box);
+            QLabel *error = addRowWithError(form, toQString(list), edit);
             m_edits[list] = edit;
             m_errors[list] = error;
             const std::string name(list);
