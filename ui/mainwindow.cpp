@@ -32,11 +32,16 @@
 #include <QMenuBar>
 #include <QMessageBox>
 #include <QMimeData>
+#include <QRegularExpression>
 #include <QScrollArea>
 #include <QSettings>
 #include <QStandardPaths>
 #include <QStatusBar>
 #include <QTimer>
+
+#include <cerrno>
+
+#include <signal.h>
 
 namespace loopsketch::ui {
 
@@ -51,15 +56,59 @@ const char *kRecentKey = "recentFiles";
 
 QString MainWindow::recoveryFile()
 {
-    const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
-    return dir.isEmpty() ? QString() : dir + QStringLiteral("/recovery.loopsketch");
+    return recoveryFileOf(QCoreApplication::applicationPid());
 }
+
+QString MainWindow::recoveryFileOf(qint64 pid)
+{
+    const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
+    return dir.isEmpty() ? QString() : dir + QStringLiteral("/recovery-%1.loopsketch").arg(pid);
+}
+
+namespace {
+
+/// Recovery files whose process has ended, newest first; the name of versions before one
+/// file per process ("recovery.loopsketch") counts as ended too.
+QStringList orphanedRecoveryFiles()
+{
+    const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
+    if (dir.isEmpty())
+        return {};
+    static const QRegularExpression name(QStringLiteral("^recovery(?:-(\\d+))?\\.loopsketch$"));
+    QStringList orphans;
+    const QFileInfoList files = QDir(dir).entryInfoList({QStringLiteral("recovery*.loopsketch")},
+                                                        QDir::Files, QDir::Time);
+    for (const QFileInfo &f : files) {
+        const auto m = name.match(f.fileName());
+        if (!m.hasMatch())
+            continue; // e.g. a kept-aside unreadable file
+        if (!m.captured(1).isEmpty()) {
+            const qint64 pid = m.captured(1).toLongLong();
+            // kill(pid, 0) probes without signalling; only "no such process" means gone.
+            if (pid == QCoreApplication::applicationPid() || ::kill(static_cast<pid_t>(pid), 0) == 0
+                || errno != ESRCH)
+                continue;
+        }
+        orphans << f.absoluteFilePath();
+    }
+    return orphans;
+}
+
+} // namespace
 
 bool MainWindow::offerRecovery()
 {
-    const QString path = recoveryFile();
+    for (const QString &path : orphanedRecoveryFiles()) {
+        if (offerRecoveryFrom(path))
+            return true;
+    }
+    return false;
+}
+
+bool MainWindow::offerRecoveryFrom(const QString &path)
+{
     QFile file(path);
-    if (path.isEmpty() || !file.exists())
+    if (!file.exists())
         return false;
     QString problem;
     QByteArray text;
@@ -73,8 +122,7 @@ bool MainWindow::offerRecovery()
             problem = toQString(parsed.errorText());
     }
     if (!problem.isEmpty()) {
-        // Kept under another name: the normal close and the next autosave would otherwise
-        // remove or overwrite the only copy of that work.
+        // Kept under another name, so it is neither offered at every start nor lost.
         const QString kept = QFileInfo(path).absolutePath() + QStringLiteral("/recovery-")
             + QDateTime::currentDateTime().toString(QStringLiteral("yyyyMMdd-hhmmss"))
             + QStringLiteral(".unreadable.loopsketch");
@@ -103,6 +151,9 @@ bool MainWindow::offerRecovery()
     }
     m_document->undoStack()->resetClean();
     updateTitle();
+    // The work now lives in this process's recovery file; only then the old one goes.
+    if (writeRecovery())
+        QFile::remove(path);
     return true;
 }
 
@@ -643,13 +694,13 @@ void MainWindow::dropEvent(QDropEvent *event)
         QMessageBox::warning(this, tr("Open design"), error);
 }
 
-void MainWindow::writeRecovery()
+bool MainWindow::writeRecovery()
 {
     const QString path = recoveryFile();
     if (path.isEmpty() || !m_document->isModified())
-        return;
+        return false;
     QDir().mkpath(QFileInfo(path).absolutePath());
-    writeFileAtomically(toStdString(path), serializeDesign(m_document->design()));
+    return writeFileAtomically(toStdString(path), serializeDesign(m_document->design())).ok();
 }
 
 void MainWindow::about()

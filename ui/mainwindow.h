@@ -65,10 +65,15 @@ public:
     /// question off.
     bool maybeSave();
     void setAskBeforeDiscarding(bool ask) { m_ask = ask; }
-    /// Where unsaved work is written every 30 s; removed when the window closes normally.
+    /// Where this process writes unsaved work every 30 s; removed when the window closes
+    /// normally. One file per process, so two running copies never share or delete each
+    /// other's work.
     static QString recoveryFile();
-    /// When a recovery file from an earlier session exists, offers to restore it. True when
-    /// it was restored (the restored design counts as unsaved).
+    /// The recovery file of process `pid`.
+    static QString recoveryFileOf(qint64 pid);
+    /// Offers to restore the work of a copy that did not close normally (a recovery file
+    /// whose process is gone), newest first. True when one was restored (it counts as
+    /// unsaved, and is written to this process's recovery file at once).
     bool offerRecovery();
 
 protected:
@@ -91,7 +96,11 @@ private:
     bool save();
     bool saveAs();
     void about();
-    void writeRecovery();
+    /// Writes unsaved work to recoveryFile(); false when there was nothing to write or the
+    /// write failed.
+    bool writeRecovery();
+    /// offerRecovery() for one file.
+    bool offerRecoveryFrom(const QString &path);
 
     DesignDocument *m_document;
     SketchScene *m_scene;

@@ -123,7 +123,9 @@ protected:
         qputenv("XDG_DATA_HOME", m_data.path().toLocal8Bit());
         // Isolation: this process and its children use the temporary data directory.
         ASSERT_EQ(MainWindow::recoveryFile(),
-                  m_data.path() + QStringLiteral("/Loopsketch/loopsketch/recovery.loopsketch"));
+                  m_data.path()
+                      + QStringLiteral("/Loopsketch/loopsketch/recovery-%1.loopsketch")
+                            .arg(QCoreApplication::applicationPid()));
         m_edited = m_data.filePath(QStringLiteral("edited.loopsketch"));
     }
 
@@ -173,7 +175,7 @@ TEST_F(RecoveryTest, KilledEditorsWorkIsOfferedAndRestoredAsUnsaved)
     // One wheel notch up from 1.0 MOhm: the next E24 value, 1.1 MOhm (IEC 60063, E24).
     EXPECT_NEAR(editedDesign->findPart("RF")->number("value"), 1.1e6, 1e-3);
 
-    const QString recovery = MainWindow::recoveryFile();
+    const QString recovery = MainWindow::recoveryFileOf(editor.processId());
     EXPECT_TRUE(QTest::qWaitFor([&] { return readAll(recovery) == edited; }, 10000))
         << "the autosave never wrote the edited design to " << recovery.toStdString();
     ASSERT_EQ(::kill(pid_t(editor.processId()), SIGKILL), 0);
@@ -193,20 +195,57 @@ TEST_F(RecoveryTest, KilledEditorsWorkIsOfferedAndRestoredAsUnsaved)
     EXPECT_TRUE(window.isWindowModified());
     EXPECT_TRUE(window.document()->filePath().isEmpty()) << "the recovery file is no document";
 
+    EXPECT_FALSE(QFile::exists(recovery)) << "restored work leaves the dead copy's file";
+    EXPECT_EQ(readAll(MainWindow::recoveryFile()), edited)
+        << "restored work is at once in this process's recovery file";
     window.close();
-    EXPECT_FALSE(QFile::exists(recovery)) << "a normal close removes the recovery file";
+    EXPECT_FALSE(QFile::exists(MainWindow::recoveryFile()))
+        << "a normal close removes the recovery file";
+}
+
+// Two copies of the application running side by side: the second neither offers nor
+// removes the first one's unsaved work, and a normal close of one leaves the other's file.
+TEST_F(RecoveryTest, RunningCopysRecoveryFileIsLeftAlone)
+{
+    QProcess other; // stands in for a second running copy: alive for the whole test
+    other.start(QStringLiteral("sleep"), {QStringLiteral("30")});
+    ASSERT_TRUE(other.waitForStarted(10000));
+    const QByteArray demo = readAll(kDemo);
+    const QString othersFile = MainWindow::recoveryFileOf(other.processId());
+    ASSERT_TRUE(writeAll(othersFile, demo));
+    {
+        MainWindow window;
+        window.setAskBeforeDiscarding(false);
+        BoxWatcher box(QMessageBox::Yes);
+        EXPECT_FALSE(window.offerRecovery());
+        QTest::qWait(100);
+        EXPECT_FALSE(box.seen().seen) << "a running copy's work is not offered";
+        window.close();
+    }
+    EXPECT_EQ(readAll(othersFile), demo) << "a normal close must not touch another copy's file";
+    other.kill();
+    ASSERT_TRUE(other.waitForFinished(10000));
+
+    // Once that copy is gone, its work is offered.
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    BoxWatcher box(QMessageBox::Yes);
+    EXPECT_TRUE(window.offerRecovery());
+    EXPECT_TRUE(box.seen().seen);
+    EXPECT_EQ(serializeDesign(window.document()->design()), demo.toStdString());
 }
 
 TEST_F(RecoveryTest, NormalCloseOfTheEditorRemovesItsRecoveryFile)
 {
     QProcess editor;
     startEditor(editor, {QStringLiteral("--close-after-autosave")});
+    const qint64 editorPid = editor.processId();
     const QByteArray said = waitForLine(editor, "autosaved", 60000);
     ASSERT_TRUE(editor.waitForFinished(20000)) << said.toStdString();
     EXPECT_EQ(editor.exitStatus(), QProcess::NormalExit);
     EXPECT_EQ(editor.exitCode(), 0) << childErrors(editor);
     EXPECT_TRUE(said.contains("autosaved\n")) << "the recovery file existed before the close";
-    EXPECT_FALSE(QFile::exists(MainWindow::recoveryFile()));
+    EXPECT_FALSE(QFile::exists(MainWindow::recoveryFileOf(editorPid)));
 
     MainWindow window;
     window.setAskBeforeDiscarding(false);
@@ -221,7 +260,9 @@ TEST_F(RecoveryTest, CorruptRecoveryFileIsReportedAndKeptAside)
     const QByteArray demo = readAll(kDemo);
     ASSERT_GT(demo.size(), 200);
     const QByteArray corrupt = demo.left(demo.size() / 2); // cut in the middle of the JSON
-    const QString recovery = MainWindow::recoveryFile();
+    // Left by a copy that has ended: the file name of versions before one file per process.
+    const QString recovery = QFileInfo(MainWindow::recoveryFile()).absolutePath()
+        + QStringLiteral("/recovery.loopsketch");
     ASSERT_TRUE(writeAll(recovery, corrupt));
 
     {
