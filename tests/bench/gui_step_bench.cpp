@@ -32,22 +32,31 @@ void wheelOver(MainWindow &window, const std::string &id, int notches)
     QApplication::sendEvent(view->viewport(), &event);
 }
 
-/// Argument 0: the default arrangement (the Noise dock behind Impedance); 1: the Noise dock
-/// raised, so the Noise panel is repainted instead of the Impedance panel.
-void BM_WheelStepToAllPanelsRepainted(benchmark::State &state)
+/// Shows `window` at the screenshots' size with the demo open; `raiseNoise` brings the Noise
+/// dock to the front of its tabs. False (the benchmark skipped) when the demo does not open.
+bool openDemo(MainWindow &window, benchmark::State &state, bool raiseNoise)
 {
-    MainWindow window;
     window.setAskBeforeDiscarding(false);
     window.resize(1500, 940);
     window.show();
     if (!window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"))) {
         state.SkipWithError("demo design did not open");
-        return;
+        return false;
     }
-    if (state.range(0) == 1) {
+    if (raiseNoise) {
         if (auto *dock = window.findChild<QDockWidget *>(QStringLiteral("NoiseDock")))
             dock->raise();
     }
+    return true;
+}
+
+/// Argument 0: the default arrangement (the Noise dock behind Impedance); 1: the Noise dock
+/// raised, so the Noise panel is repainted instead of the Impedance panel.
+void BM_WheelStepToAllPanelsRepainted(benchmark::State &state)
+{
+    MainWindow window;
+    if (!openDemo(window, state, state.range(0) == 1))
+        return;
     QApplication::processEvents();
     window.repaint();
     int direction = 1;
@@ -83,20 +92,11 @@ BENCHMARK(BM_WheelStepToAllPanelsRepainted)
 void BM_RepaintOneWidget(benchmark::State &state)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
-    if (!window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"))) {
-        state.SkipWithError("demo design did not open");
-        return;
-    }
     const auto index = std::size_t(state.range(0));
-    const std::size_t panels = window.panels().size();
-    // The Noise panel shares its dock area's tabs with Impedance: raise it when measured.
-    if (index + 1 == panels) {
-        if (auto *dock = window.findChild<QDockWidget *>(QStringLiteral("NoiseDock")))
-            dock->raise();
-    }
+    // The Noise panel (last) shares its dock area's tabs with Impedance: raise it when measured.
+    const std::size_t panels = window.panels().size(); // made by the constructor
+    if (!openDemo(window, state, index + 1 == panels))
+        return;
     QApplication::processEvents();
     QWidget *widget = index < panels ? static_cast<QWidget *>(window.panels()[index]->viewport())
         : index == panels            ? static_cast<QWidget *>(window.sketchView()->viewport())
@@ -112,18 +112,9 @@ BENCHMARK(BM_RepaintOneWidget)->DenseRange(0, 7)->Unit(benchmark::kMillisecond)-
 void BM_UpdateOnePanel(benchmark::State &state)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
-    if (!window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"))) {
-        state.SkipWithError("demo design did not open");
+    // The Noise panel (last) draws only on screen (else it keeps the analysis for later).
+    if (!openDemo(window, state, std::size_t(state.range(0)) + 1 == window.panels().size()))
         return;
-    }
-    if (std::size_t(state.range(0)) + 1 == window.panels().size()) {
-        // The Noise panel draws only on screen (else it keeps the analysis for later).
-        if (auto *dock = window.findChild<QDockWidget *>(QStringLiteral("NoiseDock")))
-            dock->raise();
-    }
     QApplication::processEvents();
     const loopsketch::Analysis first = *window.document()->analysis();
     wheelOver(window, "RF", 1);
