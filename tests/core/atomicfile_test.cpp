@@ -92,6 +92,26 @@ bool writePrevious(const fs::path &path)
     return bool(out.flush());
 }
 
+/// In the child: a private mount namespace with a 64 KiB tmpfs at `mount` holding the
+/// previous version of `target`. 0 when ready, else the child's exit code with the reason in
+/// `out` (test::kChildCannotInject: no fault can be made here, the test skips).
+int prepareSmallMount(const fs::path &mount, const fs::path &target, std::string &out)
+{
+    if (auto why = test::enterPrivateMountNamespace(); !why.empty()) {
+        out = why;
+        return test::kChildCannotInject;
+    }
+    if (auto why = test::mountSmallTmpfs(mount.string(), 64 * 1024); !why.empty()) {
+        out = why;
+        return test::kChildCannotInject;
+    }
+    if (!writePrevious(target)) {
+        out = "cannot write the previous file";
+        return 3;
+    }
+    return 0;
+}
+
 TEST(AtomicSaveFaults, FullDiskMidFileKeepsThePreviousFileAndLeavesNoTemporary)
 {
     TempDir dir;
@@ -102,18 +122,8 @@ TEST(AtomicSaveFaults, FullDiskMidFileKeepsThePreviousFileAndLeavesNoTemporary)
     const std::string text(5 * 4096 + 321, 'x');
 
     const auto outcome = test::runInChild([&](std::string &out) {
-        if (auto why = test::enterPrivateMountNamespace(); !why.empty()) {
-            out = why;
-            return test::kChildCannotInject;
-        }
-        if (auto why = test::mountSmallTmpfs(mount.string(), 64 * 1024); !why.empty()) {
-            out = why;
-            return test::kChildCannotInject;
-        }
-        if (!writePrevious(target)) {
-            out = "cannot write the previous file";
-            return 3;
-        }
+        if (const int failed = prepareSmallMount(mount, target, out))
+            return failed;
         // Fill the file system to the last byte, then give one page back.
         const fs::path filler = mount / "filler";
         const int fd = ::open(filler.c_str(), O_WRONLY | O_CREAT, 0644);
@@ -179,18 +189,8 @@ TEST(AtomicSaveFaults, ReadOnlyFileSystemRefusesEvenRootAndKeepsTheFile)
     ASSERT_TRUE(design.ok()) << design.errorText();
 
     const auto outcome = test::runInChild([&](std::string &out) {
-        if (auto why = test::enterPrivateMountNamespace(); !why.empty()) {
-            out = why;
-            return test::kChildCannotInject;
-        }
-        if (auto why = test::mountSmallTmpfs(mount.string(), 64 * 1024); !why.empty()) {
-            out = why;
-            return test::kChildCannotInject;
-        }
-        if (!writePrevious(target)) {
-            out = "cannot write the previous file";
-            return 3;
-        }
+        if (const int failed = prepareSmallMount(mount, target, out))
+            return failed;
         if (auto why = test::remountReadOnly(mount.string()); !why.empty()) {
             out = why;
             return test::kChildCannotInject;
