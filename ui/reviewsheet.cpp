@@ -1028,6 +1028,8 @@ void noiseSection(SheetWriter &w, const Analysis &a)
             return QStringLiteral("input voltage noise");
         case NoiseSourceKind::CurrentNoise:
             return QStringLiteral("input current noise");
+        case NoiseSourceKind::Shot:
+            return QStringLiteral("shot (2qI)");
         }
         return QString();
     };
