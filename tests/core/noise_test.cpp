@@ -8,6 +8,7 @@
 #include "loopsketch/designfile.h"
 #include "loopsketch/loopcircuit.h"
 #include "loopsketch/noise.h"
+#include "loopsketch/noisenames.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
@@ -381,4 +382,237 @@ TEST(Noise, AnalysisNoiseMatchesTheStandaloneNoiseAnalysis)
     for (std::size_t k = 0; k < inside.contributions.size(); ++k)
         EXPECT_LT(relErr(inside.contributions[k].rms, alone->contributions[k].rms), 1e-12)
             << inside.contributions[k].name;
+}
+
+namespace {
+
+/// A transimpedance stage: a 15 pF photodiode with 1 GOhm shunt into the inverting input of
+/// a generic FET-input gain block (120 dB, 10 MHz gain-bandwidth, second pole 60 MHz), RF
+/// 200 kOhm with CF 4.7 pF, load 2 kOhm || 100 pF. `gainBlockExtra` and `sourceExtra` add
+/// fields (noise, r_in, c_in ...).
+std::string tiaParts(const std::string &gainBlockExtra, const std::string &sourceExtra = {},
+                     const std::string &rOut = "50")
+{
+    return R"({"id": "PD1", "type": "isource", "to": "in", "from": "0", "r_parallel": "1G",
+               "c_parallel": "15p")"
+        + sourceExtra + R"(},
+            {"id": "U1", "type": "gain_block", "in_p": "0", "in_n": "in", "out": "out",
+             "gain": "120dB", "gbw": "10M", "poles_hz": ["60M"], "r_out": ")"
+        + rOut + "\"" + gainBlockExtra + R"(},
+            {"id": "RF", "type": "resistor", "a": "in", "b": "out", "value": "200k"},
+            {"id": "CF", "type": "capacitor", "a": "in", "b": "out", "value": "4.7p"},
+            {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "2k", "c": "100p"})";
+}
+
+// 1 Hz and 10 Hz: grid points of a sweep from 1 Hz with 20 points per decade.
+constexpr std::size_t kAt1Hz = 0, kAt10Hz = 20;
+
+} // namespace
+
+// Issue 17: the gain block's r_in and r_out are small-signal values, not resistors; with
+// en = in = 0 the TIA's output density at low frequency is that of RF and the shunt alone,
+// sqrt(4kT RF + 4kT RF^2 / R_sh) (common practice; k from CODATA 2018, exact SI value),
+// whatever r_in is (it loads the inverting node, which the loop holds at virtual ground).
+TEST(Noise, GainBlockResistancesAreNoiseless)
+{
+    const double k = 1.380649e-23, t = 298.15, rf = 200e3, rsh = 1e9;
+    const double expected = std::sqrt(4 * k * t * rf + 4 * k * t * rf * rf / rsh);
+    for (const char *rIn : {"1M", "1T"}) {
+        const Design d = parse(designText(tiaParts(std::string(R"(, "r_in": ")") + rIn + "\""),
+                                          "PD1"));
+        auto n = analyzeNoise(d);
+        ASSERT_TRUE(n.ok()) << n.errorText();
+        for (const NoiseContribution &c : n->contributions) {
+            EXPECT_NE(c.name, "U1:r_in") << rIn;
+            EXPECT_NE(c.name, "U1:r_out") << rIn;
+            EXPECT_EQ(c.kind, NoiseSourceKind::Resistor) << c.name;
+        }
+        EXPECT_EQ(n->contributions.size(), 3u) << rIn; // PD1:r_parallel, RF, RL
+        EXPECT_LT(relErr(n->outputDensity[kAt1Hz], expected), 1e-3) << rIn;
+        EXPECT_LT(relErr(n->outputDensity[kAt10Hz], expected), 1e-3) << rIn;
+    }
+}
+
+// 2qI (Schottky's shot noise formula, common practice), q = 1.602176634e-19 C (CODATA
+// 2018, exact SI value): 5 uA gives 1.266 pA/sqrt(Hz); the digits 1.2657712 derived from it.
+TEST(Noise, ShotNoiseOfADirectCurrent)
+{
+    EXPECT_NEAR(kElementaryCharge, 1.602176634e-19, 1e-30);
+    EXPECT_NEAR(shotNoiseCurrent(5e-6), 1.266e-12, 0.0005e-12);
+    EXPECT_LT(relErr(shotNoiseCurrent(5e-6), 1.2657712e-12), 1e-7);
+    EXPECT_LT(relErr(shotNoiseCurrent(-5e-6), 1.2657712e-12), 1e-7); // |i_dc|
+    EXPECT_NEAR(shotNoiseCurrent(0.0), 0.0, 1e-300);
+
+    // In the TIA the shot noise current flows through RF: 1.2658 pA x 200 kOhm at low
+    // frequency (the ideal transimpedance relation, common practice), named "PD1 shot".
+    const Design d = parse(designText(tiaParts("", R"(, "i_dc": "5u")"), "PD1"));
+    auto n = analyzeNoise(d);
+    ASSERT_TRUE(n.ok()) << n.errorText();
+    const NoiseContribution *shot = find(*n, "PD1:shot");
+    ASSERT_NE(shot, nullptr);
+    EXPECT_EQ(shot->kind, NoiseSourceKind::Shot);
+    EXPECT_EQ(noiseSourceLabel(*shot), "PD1 shot");
+    EXPECT_LT(relErr(std::sqrt(shot->outputPsd[kAt1Hz]), 1.2657712e-12 * 200e3), 1e-3);
+}
+
+// Issue 18: the TIA's density at low frequency against the closed form
+//   sqrt(4kT RF + 4kT RF^2/R_sh + (i_n RF)^2 + 2q i_dc RF^2 + (e_n,f (1 + RF/R_sh))^2),
+// e_n,f = e_n sqrt(1 + f_c/f) (common practice: RF's and the shunt's thermal noise, the
+// current noises through RF, e_n times the noise gain 1 + RF/R_sh; k and q CODATA 2018).
+TEST(Noise, TransimpedanceDensityAgainstTheClosedForm)
+{
+    const double k = 1.380649e-23, q = 1.602176634e-19, t = 298.15;
+    const double rf = 200e3, rsh = 1e9, en = 6e-9, fc = 100, in = 1e-15, idc = 2e-9;
+    const Design d = parse(designText(
+        tiaParts(R"(, "c_in": "5p", "en": "6n", "en_corner_hz": "100", "in": "1f")",
+                 R"(, "i_dc": "2n")"),
+        "PD1"));
+    auto n = analyzeNoise(d);
+    ASSERT_TRUE(n.ok()) << n.errorText();
+    for (std::size_t i : {kAt1Hz, kAt10Hz}) {
+        const double f = n->frequenciesHz[i];
+        const double enf = en * std::sqrt(1 + fc / f);
+        const double expected = std::sqrt(4 * k * t * rf + 4 * k * t * rf * rf / rsh
+                                          + (in * rf) * (in * rf) + 2 * q * idc * rf * rf
+                                          + std::pow(enf * (1 + rf / rsh), 2));
+        EXPECT_LT(relErr(n->outputDensity[i], expected), 1e-3) << f << " Hz";
+    }
+}
+
+// Issue 18: en sits in series with in_p, the input capacitances on the pins, so c_in and
+// c_cm count in en's noise gain. With r_out = 0 and no r_in the noise gain is exactly
+// a / (1 + a beta), beta = 1 / (1 + Z_F Y_in), Y_in = 1/R_sh + s (C_D + c_in + c_cm), Z_F =
+// RF || CF (the textbook non-inverting noise gain with finite open-loop gain, common
+// practice).
+TEST(Noise, InputCapacitancesCountInTheVoltageNoiseGain)
+{
+    const double rf = 200e3, cf = 4.7e-12, rsh = 1e9, cd = 15e-12, a0 = 1e6;
+    struct Case
+    {
+        double cin, ccm;
+        const char *text;
+    };
+    for (const Case &c : {Case{0.0, 0.0, R"("c_in": "0", "c_cm": "0")"},
+                          Case{5e-12, 0.0, R"("c_in": "5p", "c_cm": "0")"},
+                          Case{0.0, 3e-12, R"("c_in": "0", "c_cm": "3p")"},
+                          Case{5e-12, 3e-12, R"("c_in": "5p", "c_cm": "3p")"}}) {
+        const double cin = c.cin, ccm = c.ccm;
+        const std::string extra = std::string(R"(, "en": "6n", )") + c.text;
+        const Design d = parse(designText(tiaParts(extra, {}, "0"), "PD1"));
+        auto n = analyzeNoise(d);
+        ASSERT_TRUE(n.ok()) << n.errorText();
+        for (std::size_t i = 0; i < n->frequenciesHz.size(); i += 20) {
+            const double f = n->frequenciesHz[i];
+            const std::complex<double> s(0.0, 2 * kPi * f);
+            const std::complex<double> a
+                = a0 / ((1.0 + s / (2 * kPi * 10e6 / a0)) * (1.0 + s / (2 * kPi * 60e6)));
+            const std::complex<double> zf = rf / (1.0 + s * rf * cf);
+            const std::complex<double> yin = 1.0 / rsh + s * (cd + cin + ccm);
+            const std::complex<double> beta = 1.0 / (1.0 + zf * yin);
+            EXPECT_LT(relErr(n->noiseGain[i], std::abs(a / (1.0 + a * beta))), 1e-9)
+                << f << " Hz, c_in " << cin << ", c_cm " << ccm;
+        }
+    }
+}
+
+// c_cm is part of the circuit, not only of the noise: from each input pin to ground, so in
+// a non-inverting stage it loads the source (common practice). A 10 kOhm source into a
+// follower with c_cm = 1 nF: the input pin's node is a single pole at 1 / (2 pi 10k 1n).
+TEST(Noise, CommonModeCapacitanceLoadsTheCircuit)
+{
+    const Design d = parse(designText(
+        R"({"id": "V1", "type": "vsource", "pos": "P", "neg": "0", "r_series": "10k"},
+           {"id": "U1", "type": "gain_block", "in_p": "P", "in_n": "out", "out": "out",
+            "gain": "1e7", "c_cm": "1n"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"})",
+        "V1"));
+    auto a = analyze(d);
+    ASSERT_TRUE(a.ok()) << a.errorText();
+    ASSERT_TRUE(a->bandwidthHz);
+    // c_cm at in_n sits on the follower's output, driven by an ideal source: no effect
+    EXPECT_LT(relErr(*a->bandwidthHz, 1.0 / (2 * kPi * 10e3 * 1e-9)), 1e-4);
+}
+
+// Issue 12: the default band's figure does not move with the sweep stop (the integral
+// converges on the model, beyond the sweep where needed). The demo with en = 50 nV/sqrt(Hz),
+// stops from 100 kHz to 10 GHz; the integral to convergence within 0.1 % (common practice:
+// a figure of the circuit cannot depend on how far the plot is drawn).
+TEST(Noise, DefaultBandDoesNotMoveWithTheSweepStop)
+{
+    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
+    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
+    Design d = *loaded;
+    d.findPart("U1")->fields["en"] = {50e-9, "50n"};
+    std::vector<double> rms;
+    for (const auto &[stop, text] : {std::pair{1e8, "100M"}, std::pair{1e10, "10G"},
+                                     std::pair{1e9, "1G"}, std::pair{1e5, "100k"}}) {
+        d.sweep.stop = {stop, text};
+        auto n = analyzeNoise(d);
+        ASSERT_TRUE(n.ok()) << n.errorText();
+        EXPECT_EQ(n->bandKind, NoiseBandKind::Converged) << text;
+        EXPECT_THAT(n->bandMethod, HasSubstr("under 0.1 % of the total")) << text;
+        ASSERT_TRUE(n->outputRms);
+        rms.push_back(*n->outputRms);
+    }
+    for (double r : rms)
+        EXPECT_LT(relErr(r, rms.front()), 1e-3);
+}
+
+// Where the density stays flat above the sweep (a resistive divider at the output with no
+// capacitance: feedthrough of the load's and the source's thermal noise), the integral does
+// not converge; the band then ends at the sweep stop and says so (issue 12).
+TEST(Noise, FlatDensityEndsTheBandAtTheSweepStop)
+{
+    const Design d = parse(designText(
+        R"({"id": "V1", "type": "vsource", "pos": "P", "neg": "0", "r_series": "1k"},
+           {"id": "U1", "type": "gain_block", "in_p": "P", "in_n": "out", "out": "out",
+            "gain": "1e5", "gbw": "1M", "r_out": "100"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1k"})",
+        "V1"));
+    auto n = analyzeNoise(d);
+    ASSERT_TRUE(n.ok()) << n.errorText();
+    EXPECT_EQ(n->bandKind, NoiseBandKind::SweepStop);
+    EXPECT_NEAR(n->bandHighHz, 1e6, 1e-6);
+    EXPECT_THAT(n->bandMethod, HasSubstr("does not fall fast enough"));
+    ASSERT_TRUE(n->outputRms);
+    // the sweep's own integral of the same density (trapezoid in ln f on the grid)
+    std::vector<double> psd(n->outputDensity.size());
+    for (std::size_t i = 0; i < psd.size(); ++i)
+        psd[i] = n->outputDensity[i] * n->outputDensity[i];
+    EXPECT_LT(relErr(*n->outputRms * *n->outputRms,
+                     integratePsd(n->frequenciesHz, psd, 1.0, 1e6)),
+              1e-3);
+}
+
+// The design's noise_band sets the band; the file keeps noise_band, c_cm and i_dc.
+TEST(Noise, DesignFileNoiseBandCommonModeCapacitanceAndDcCurrent)
+{
+    const std::string text = designText(
+        tiaParts(R"(, "c_cm": "2p")", R"(, "i_dc": "5.002uA")"), "PD1",
+        R"(, "noise_band": ["1", "1M"])");
+    const Design d = parse(text);
+    ASSERT_TRUE(d.noiseBand);
+    EXPECT_NEAR(d.noiseBand->low.si, 1.0, 1e-12);
+    EXPECT_NEAR(d.noiseBand->high.si, 1e6, 1e-6);
+    EXPECT_NEAR(d.findPart("PD1")->number("i_dc"), 5.002e-6, 1e-18);
+    EXPECT_NEAR(d.findPart("U1")->number("c_cm"), 2e-12, 1e-24);
+    const std::string saved = serializeDesign(d);
+    EXPECT_THAT(saved, HasSubstr(R"("noise_band": ["1", "1M"])"));
+    EXPECT_THAT(saved, HasSubstr(R"("i_dc": "5.002uA")"));
+    EXPECT_THAT(saved, HasSubstr(R"("c_cm": "2p")"));
+    auto again = parseDesign(saved);
+    ASSERT_TRUE(again.ok()) << again.errorText();
+    EXPECT_EQ(serializeDesign(*again), saved);
+
+    auto n = analyzeNoise(d);
+    ASSERT_TRUE(n.ok()) << n.errorText();
+    EXPECT_EQ(n->bandKind, NoiseBandKind::Given);
+    EXPECT_NEAR(n->bandLowHz, 1.0, 1e-12);
+    EXPECT_NEAR(n->bandHighHz, 1e6, 1e-6);
+    EXPECT_THAT(n->bandMethod, HasSubstr("noise_band"));
+    // input-referred: the output figure over |gain| at the band's low end, stated
+    ASSERT_TRUE(n->outputRms && n->inputRms);
+    EXPECT_NEAR(n->inputGainHz, 1.0, 1e-12);
+    EXPECT_LT(relErr(*n->inputRms, *n->outputRms / std::abs(n->gain.front())), 1e-6);
+    EXPECT_THAT(n->bandMethod, HasSubstr("|gain| at 1 Hz"));
 }
