@@ -418,8 +418,8 @@ TEST(Noise, GainBlockResistancesAreNoiseless)
     const double k = 1.380649e-23, t = 298.15, rf = 200e3, rsh = 1e9;
     const double expected = std::sqrt(4 * k * t * rf + 4 * k * t * rf * rf / rsh);
     for (const char *rIn : {"1M", "1T"}) {
-        const Design d = parse(designText(tiaParts(std::string(R"(, "r_in": ")") + rIn + "\""),
-                                          "PD1"));
+        const Design d
+            = parse(designText(tiaParts(std::string(R"(, "r_in": ")") + rIn + "\""), "PD1"));
         auto n = analyzeNoise(d);
         ASSERT_TRUE(n.ok()) << n.errorText();
         for (const NoiseContribution &c : n->contributions) {
@@ -463,18 +463,18 @@ TEST(Noise, TransimpedanceDensityAgainstTheClosedForm)
 {
     const double k = 1.380649e-23, q = 1.602176634e-19, t = 298.15;
     const double rf = 200e3, rsh = 1e9, en = 6e-9, fc = 100, in = 1e-15, idc = 2e-9;
-    const Design d = parse(designText(
-        tiaParts(R"(, "c_in": "5p", "en": "6n", "en_corner_hz": "100", "in": "1f")",
-                 R"(, "i_dc": "2n")"),
-        "PD1"));
+    const Design d = parse(
+        designText(tiaParts(R"(, "c_in": "5p", "en": "6n", "en_corner_hz": "100", "in": "1f")",
+                            R"(, "i_dc": "2n")"),
+                   "PD1"));
     auto n = analyzeNoise(d);
     ASSERT_TRUE(n.ok()) << n.errorText();
     for (std::size_t i : {kAt1Hz, kAt10Hz}) {
         const double f = n->frequenciesHz[i];
         const double enf = en * std::sqrt(1 + fc / f);
-        const double expected = std::sqrt(4 * k * t * rf + 4 * k * t * rf * rf / rsh
-                                          + (in * rf) * (in * rf) + 2 * q * idc * rf * rf
-                                          + std::pow(enf * (1 + rf / rsh), 2));
+        const double expected
+            = std::sqrt(4 * k * t * rf + 4 * k * t * rf * rf / rsh + (in * rf) * (in * rf)
+                        + 2 * q * idc * rf * rf + std::pow(enf * (1 + rf / rsh), 2));
         EXPECT_LT(relErr(n->outputDensity[i], expected), 1e-3) << f << " Hz";
     }
 }
@@ -579,17 +579,15 @@ TEST(Noise, FlatDensityEndsTheBandAtTheSweepStop)
     std::vector<double> psd(n->outputDensity.size());
     for (std::size_t i = 0; i < psd.size(); ++i)
         psd[i] = n->outputDensity[i] * n->outputDensity[i];
-    EXPECT_LT(relErr(*n->outputRms * *n->outputRms,
-                     integratePsd(n->frequenciesHz, psd, 1.0, 1e6)),
+    EXPECT_LT(relErr(*n->outputRms * *n->outputRms, integratePsd(n->frequenciesHz, psd, 1.0, 1e6)),
               1e-3);
 }
 
 // The design's noise_band sets the band; the file keeps noise_band, c_cm and i_dc.
 TEST(Noise, DesignFileNoiseBandCommonModeCapacitanceAndDcCurrent)
 {
-    const std::string text = designText(
-        tiaParts(R"(, "c_cm": "2p")", R"(, "i_dc": "5.002uA")"), "PD1",
-        R"(, "noise_band": ["1", "1M"])");
+    const std::string text = designText(tiaParts(R"(, "c_cm": "2p")", R"(, "i_dc": "5.002uA")"),
+                                        "PD1", R"(, "noise_band": ["1", "1M"])");
     const Design d = parse(text);
     ASSERT_TRUE(d.noiseBand);
     EXPECT_NEAR(d.noiseBand->low.si, 1.0, 1e-12);
