@@ -700,7 +700,16 @@ bool MainWindow::writeRecovery()
     if (path.isEmpty() || !m_document->isModified())
         return false;
     QDir().mkpath(QFileInfo(path).absolutePath());
-    return writeFileAtomically(toStdString(path), serializeDesign(m_document->design())).ok();
+    auto written = writeFileAtomically(toStdString(path), serializeDesign(m_document->design()));
+    if (!written) {
+        // Not a dialog every 30 s: a note in the status bar, so the user knows to save.
+        statusBar()->showMessage(tr("Autosave of the unsaved work failed (%1); save the design "
+                                    "to keep it.")
+                                     .arg(toQString(written.errorText())),
+                                 20000);
+        return false;
+    }
+    return true;
 }
 
 void MainWindow::about()

@@ -11,6 +11,7 @@
 #include <gtest/gtest.h>
 #include <nlohmann/json.hpp>
 
+#include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -23,6 +24,7 @@
 #include <fstream>
 #include <sstream>
 #include <string>
+#include <thread>
 #include <vector>
 
 using namespace loopsketch;
@@ -67,6 +69,19 @@ std::string readText(const fs::path &path)
     std::ostringstream os;
     os << in.rdbuf();
     return os.str();
+}
+
+/// The names in `dir`, sorted, separated by spaces.
+std::string entriesOf(const fs::path &dir)
+{
+    std::vector<std::string> names;
+    for (const auto &e : fs::directory_iterator(dir))
+        names.push_back(e.path().filename().string());
+    std::sort(names.begin(), names.end());
+    std::string joined;
+    for (const auto &n : names)
+        joined.append(joined.empty() ? "" : " ").append(n);
+    return joined;
 }
 
 std::string shellQuoted(const std::string &s)
@@ -570,6 +585,106 @@ TEST(Cli, CsvIntoMissingDirectoryIsBadInputAndWritesNothing)
     EXPECT_FALSE(fs::exists(csv));
     EXPECT_FALSE(fs::exists(missingDir));
     EXPECT_EQ(std::distance(fs::directory_iterator(dir.path()), fs::directory_iterator{}), 0);
+}
+
+// ----- outputs: never the input, devices written directly, "-" is standard output ----------
+// Loopsketch's own output contract (DEVELOPERS.md, "Outputs"); /dev/full's ENOSPC is Linux's
+// full(4); file types are POSIX stat(2)'s.
+
+TEST(CliOutputs, SweepOntoItsOwnDesignIsRefusedInEverySpelling)
+{
+    TempDir dir;
+    const fs::path design = dir.path() / "a.loopsketch";
+    fs::copy_file(kDesignsDir / "demo.loopsketch", design);
+    const std::string before = readText(design);
+    fs::create_directory(dir.path() / "sub");
+    fs::create_hard_link(design, dir.path() / "hard.csv");
+    fs::create_symlink(design, dir.path() / "soft.csv");
+    for (const fs::path &csv : {design, dir.path() / "sub" / ".." / "." / "a.loopsketch",
+                                dir.path() / "hard.csv", dir.path() / "soft.csv"}) {
+        const CliRun r = runCli({"sweep", design.string(), "--csv", csv.string()});
+        ASSERT_TRUE(r.exited);
+        EXPECT_EQ(r.exitCode, 2) << csv << ": " << r.err;
+        EXPECT_THAT(r.err, HasSubstr("refused"));
+        EXPECT_THAT(r.err, HasSubstr(csv.string()));
+        EXPECT_EQ(readText(design), before) << csv;
+    }
+    // the design read through the hard link, written through its first name
+    const CliRun viaLink
+        = runCli({"sweep", (dir.path() / "hard.csv").string(), "--csv", design.string()});
+    EXPECT_EQ(viaLink.exitCode, 2) << viaLink.err;
+    EXPECT_EQ(readText(design), before);
+    // the JSON of analyze onto the design, through --out
+    const CliRun json = runCli({"analyze", design.string(), "--json", "--out", design.string()});
+    EXPECT_EQ(json.exitCode, 2) << json.err;
+    EXPECT_EQ(readText(design), before);
+    EXPECT_EQ(entriesOf(dir.path()), "a.loopsketch hard.csv soft.csv sub");
+}
+
+TEST(CliOutputs, DevNullIsWrittenAndStaysACharacterDevice)
+{
+    const CliRun r = runCli({"sweep", "demo", "--csv", "/dev/null"});
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 0) << r.err;
+    struct stat info
+    {
+    };
+    ASSERT_EQ(::lstat("/dev/null", &info), 0);
+    EXPECT_TRUE(S_ISCHR(info.st_mode)) << "a device must never be renamed over";
+    for (const auto &e : fs::directory_iterator("/dev"))
+        EXPECT_THAT(e.path().filename().string(), Not(HasSubstr(".null.")));
+}
+
+TEST(CliOutputs, FifoGetsTheWholeSweep)
+{
+    TempDir dir;
+    const fs::path fifo = dir.path() / "sweep.fifo";
+    ASSERT_EQ(::mkfifo(fifo.c_str(), 0600), 0);
+    std::string received;
+    std::thread reader([&] { received = readText(fifo); });
+    const CliRun r = runCli({"sweep", "demo", "--csv", fifo.string()});
+    reader.join();
+    ASSERT_TRUE(r.exited);
+    EXPECT_EQ(r.exitCode, 0) << r.err;
+    const Analysis a = coreAnalysis(*parseDesign(readText(kDesignsDir / "demo.loopsketch")));
+    EXPECT_TRUE(received == sweepToCsv(a)) << received.size() << " bytes received";
+    EXPECT_TRUE(fs::is_fifo(fs::symlink_status(fifo)));
+    EXPECT_EQ(entriesOf(dir.path()), "sweep.fifo");
+}
+
+TEST(CliOutputs, DashIsStandardOutputForCsvAndJson)
+{
+    const CliRun csv = runCli({"sweep", "demo", "--csv", "-"});
+    ASSERT_TRUE(csv.exited);
+    EXPECT_EQ(csv.exitCode, 0) << csv.err;
+    const Analysis a = coreAnalysis(*parseDesign(readText(kDesignsDir / "demo.loopsketch")));
+    EXPECT_TRUE(csv.out == sweepToCsv(a));
+    const CliRun json = runCli({"analyze", "demo", "--json", "--out", "-"});
+    const CliRun plain = runCli({"analyze", "demo", "--json"});
+    EXPECT_EQ(json.exitCode, 0) << json.err;
+    EXPECT_FALSE(json.out.empty());
+    EXPECT_EQ(json.out, plain.out);
+}
+
+TEST(CliOutputs, JsonOutWritesTheFileAndNothingOnStandardOutput)
+{
+    TempDir dir;
+    const fs::path file = dir.path() / "a.json";
+    const CliRun r = runCli({"analyze", "demo", "--json", "--out", file.string()});
+    EXPECT_EQ(r.exitCode, 0) << r.err;
+    EXPECT_TRUE(r.out.empty());
+    EXPECT_EQ(readText(file), runCli({"analyze", "demo", "--json"}).out);
+}
+
+TEST(CliOutputs, FullStandardOutputIsExitTwo)
+{
+    if (!fs::exists("/dev/full"))
+        GTEST_SKIP() << "no /dev/full on this machine";
+    const std::string cmd
+        = shellQuoted(kCli.string()) + " analyze demo --json >/dev/full 2>/dev/null";
+    const int status = std::system(cmd.c_str());
+    ASSERT_TRUE(WIFEXITED(status));
+    EXPECT_EQ(WEXITSTATUS(status), 2);
 }
 
 // ----- spread and suggest ------------------------------------------------------------------
