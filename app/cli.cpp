@@ -21,6 +21,8 @@
 #include <exception>
 #include <ostream>
 
+#include <unistd.h>
+
 namespace loopsketch::app {
 
 std::string_view demoDesignText()
@@ -205,7 +207,7 @@ Result<Outputs> planOutputs(const Options &o)
 /// so a full disk behind a redirection is an error too), a file through the atomic writer.
 int emit(const OutputTarget &target, const std::string &text, std::ostream &out, std::ostream &err)
 {
-    if (target.kind == OutputTargetKind::StandardOutput) {
+    if (target.kind == OutputTargetKind::Descriptor && target.descriptor == STDOUT_FILENO) {
         errno = 0;
         out << text;
         out.flush();

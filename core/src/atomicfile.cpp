@@ -26,6 +26,29 @@ namespace {
 
 constexpr const char *kStandardOutputName = "standard output";
 
+/// The descriptor a path names by itself ("/dev/stdout", "/dev/fd/3" ...), or -1.
+int namedDescriptor(const std::string &path)
+{
+    if (path == "/dev/stdout")
+        return STDOUT_FILENO;
+    if (path == "/dev/stderr")
+        return STDERR_FILENO;
+    for (const std::string prefix : {"/dev/fd/", "/proc/self/fd/"}) {
+        if (path.size() > prefix.size() && path.compare(0, prefix.size(), prefix) == 0) {
+            const std::string digits = path.substr(prefix.size());
+            if (digits.size() > 6 || digits.find_first_not_of("0123456789") != std::string::npos)
+                return -1;
+            return std::stoi(digits);
+        }
+    }
+    return -1;
+}
+
+std::string descriptorName(const OutputTarget &t)
+{
+    return t.descriptor == STDOUT_FILENO ? std::string(kStandardOutputName) : t.path;
+}
+
 Diagnostic osError(const std::string &path, const std::string &what, int error)
 {
     return Diagnostic{path, "", "", what + ": " + std::strerror(error)};
@@ -69,10 +92,10 @@ struct FileId
     bool operator==(const FileId &) const = default;
 };
 
-Result<bool> writeStandardOutput(std::string_view contents)
+Result<bool> writeDescriptor(const OutputTarget &target, std::string_view contents)
 {
-    if (const int error = writeAll(STDOUT_FILENO, contents))
-        return osError(kStandardOutputName, "write failed", error);
+    if (const int error = writeAll(target.descriptor, contents))
+        return osError(descriptorName(target), "write failed", error);
     return true;
 }
 
@@ -170,8 +193,13 @@ Result<OutputTarget> resolveOutput(const std::string &path, bool allowStandardOu
     OutputTarget target;
     target.path = path;
     target.writePath = path;
-    if (path == "-" && allowStandardOutput) {
-        target.kind = OutputTargetKind::StandardOutput;
+    const int descriptor
+        = path == "-" && allowStandardOutput ? STDOUT_FILENO : namedDescriptor(path);
+    if (descriptor >= 0) {
+        if (::fcntl(descriptor, F_GETFL) < 0)
+            return osError(path, "the file descriptor is not open", errno);
+        target.kind = OutputTargetKind::Descriptor;
+        target.descriptor = descriptor;
         return target;
     }
     struct stat info
@@ -222,19 +250,18 @@ Result<bool> checkOutputsApart(const std::vector<std::string> &inputs,
     const auto idOf = [](const OutputTarget &t) -> std::optional<FileId> {
         if (t.kind == OutputTargetKind::RegularFile || t.kind == OutputTargetKind::Special)
             return FileId{t.device, t.inode};
-        if (t.kind == OutputTargetKind::StandardOutput) {
+        if (t.kind == OutputTargetKind::Descriptor) {
             struct stat info
             {
             };
-            if (::fstat(STDOUT_FILENO, &info) == 0 && S_ISREG(info.st_mode))
+            if (::fstat(t.descriptor, &info) == 0 && S_ISREG(info.st_mode))
                 return FileId{static_cast<std::uint64_t>(info.st_dev),
                               static_cast<std::uint64_t>(info.st_ino)};
         }
         return std::nullopt;
     };
     const auto nameOf = [](const OutputTarget &t) {
-        return t.kind == OutputTargetKind::StandardOutput ? std::string(kStandardOutputName)
-                                                          : t.path;
+        return t.kind == OutputTargetKind::Descriptor ? descriptorName(t) : t.path;
     };
     for (std::size_t i = 0; i < outputs.size(); ++i) {
         const OutputTarget &out = outputs[i];
@@ -248,8 +275,8 @@ Result<bool> checkOutputsApart(const std::vector<std::string> &inputs,
         }
         for (std::size_t j = 0; j < i; ++j) {
             const OutputTarget &other = outputs[j];
-            bool same = out.kind == OutputTargetKind::StandardOutput
-                && other.kind == OutputTargetKind::StandardOutput;
+            bool same = out.kind == OutputTargetKind::Descriptor
+                && other.kind == OutputTargetKind::Descriptor && out.descriptor == other.descriptor;
             if (const auto otherId = idOf(other); id && otherId)
                 same = same || *id == *otherId;
             if (out.kind == OutputTargetKind::NewFile && other.kind == OutputTargetKind::NewFile)
@@ -268,8 +295,8 @@ Result<bool> checkOutputsApart(const std::vector<std::string> &inputs,
 Result<bool> writeOutput(const OutputTarget &target, std::string_view contents)
 {
     switch (target.kind) {
-    case OutputTargetKind::StandardOutput:
-        return writeStandardOutput(contents);
+    case OutputTargetKind::Descriptor:
+        return writeDescriptor(target, contents);
     case OutputTargetKind::Special:
         return writeSpecial(target, contents);
     case OutputTargetKind::NewFile:

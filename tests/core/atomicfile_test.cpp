@@ -334,7 +334,7 @@ TEST(OutputTargets, DashIsStandardOutputOnlyWhereAllowed)
 {
     const auto out = resolveOutput("-", true);
     ASSERT_TRUE(out.ok()) << out.errorText();
-    EXPECT_EQ(out->kind, OutputTargetKind::StandardOutput);
+    EXPECT_EQ(out->kind, OutputTargetKind::Descriptor);
     const auto file = resolveOutput("-", false);
     ASSERT_TRUE(file.ok()) << file.errorText();
     EXPECT_EQ(file->kind, OutputTargetKind::NewFile);
@@ -503,4 +503,46 @@ TEST(AtomicSaveFaults, FileSizeLimitGivesAnErrorAndLeavesNoTemporary)
     EXPECT_THAT(outcome.output, HasSubstr("File too large"));
     EXPECT_EQ(readBytes(target), kOriginal);
     EXPECT_EQ(entriesOf(dir.path()), "keep.loopsketch");
+}
+
+TEST(AtomicSaveFaults, FullDiskDesignSaveKeepsThePreviousDesign)
+{
+    TempDir dir;
+    const fs::path mount = dir.path() / "small";
+    fs::create_directory(mount);
+    const fs::path target = mount / "keep.loopsketch";
+    auto design = loadDesign(kDemo.string());
+    ASSERT_TRUE(design.ok()) << design.errorText();
+    // a design longer than the one page left: the notes carry 8 KiB of text
+    Design big = *design;
+    big.notes = std::string(8192, 'n');
+
+    const auto outcome = test::runInChild([&](std::string &out) {
+        if (const int failed = prepareSmallMount(mount, target, out))
+            return failed;
+        const fs::path filler = mount / "filler";
+        const int fd = ::open(filler.c_str(), O_WRONLY | O_CREAT, 0644);
+        const std::string page(4096, 'f');
+        off_t size = 0;
+        for (ssize_t n; (n = ::write(fd, page.data(), page.size())) > 0;)
+            size += n;
+        if (errno != ENOSPC || ::ftruncate(fd, size - 4096) != 0) {
+            out = test::osFailure("filling the tmpfs");
+            return 3;
+        }
+        ::close(fd);
+        const auto failed = saveDesign(big, target.string());
+        out += field("error", failed.ok() ? "" : failed.errorText());
+        out += field("content", readBytes(target));
+        out += field("entries", entriesOf(mount));
+        return 0;
+    });
+    if (outcome.exitCode == test::kChildCannotInject)
+        GTEST_SKIP() << "no private small file system on this machine: " << outcome.output;
+    ASSERT_EQ(outcome.exitCode, 0) << outcome.output;
+    const std::string error = fieldOf(outcome.output, "error");
+    EXPECT_THAT(error, HasSubstr(target.string()));
+    EXPECT_THAT(error, HasSubstr("No space left on device"));
+    EXPECT_EQ(fieldOf(outcome.output, "content"), kOriginal);
+    EXPECT_EQ(fieldOf(outcome.output, "entries"), "filler keep.loopsketch");
 }

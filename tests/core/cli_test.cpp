@@ -666,6 +666,33 @@ TEST(CliOutputs, DashIsStandardOutputForCsvAndJson)
     EXPECT_EQ(json.out, plain.out);
 }
 
+TEST(CliOutputs, DevStdoutIntoAPipeIsWrittenNotReplaced)
+{
+    // /dev/stdout leads to a pipe here ("pipe:[n]", no file to rename over); with standard
+    // output redirected to a file it must be that open file, written where the shell opened it.
+    TempDir dir;
+    const fs::path piped = dir.path() / "piped.csv", rc = dir.path() / "rc";
+    const std::string cmd = "{ " + shellQuoted(kCli.string())
+        + " sweep demo --csv /dev/stdout; echo $? >" + shellQuoted(rc.string()) + "; } | cat >"
+        + shellQuoted(piped.string());
+    ASSERT_EQ(std::system(cmd.c_str()), 0);
+    EXPECT_EQ(readText(rc), "0\n");
+    const Analysis a = coreAnalysis(*parseDesign(readText(kDesignsDir / "demo.loopsketch")));
+    EXPECT_TRUE(readText(piped) == sweepToCsv(a)) << readText(piped).size() << " bytes";
+
+    const fs::path redirected = dir.path() / "redirected.csv";
+    const std::string header = "written by the shell first\n";
+    {
+        std::ofstream out(redirected, std::ios::binary);
+        out << header;
+    }
+    const std::string append = shellQuoted(kCli.string()) + " sweep demo --csv /dev/stdout >>"
+        + shellQuoted(redirected.string());
+    ASSERT_EQ(std::system(append.c_str()), 0);
+    EXPECT_TRUE(readText(redirected) == header + sweepToCsv(a));
+    EXPECT_EQ(entriesOf(dir.path()), "piped.csv rc redirected.csv");
+}
+
 TEST(CliOutputs, JsonOutWritesTheFileAndNothingOnStandardOutput)
 {
     TempDir dir;

@@ -17,7 +17,8 @@ namespace loopsketch {
 
 /// How an output path is written.
 enum class OutputTargetKind {
-    StandardOutput, ///< "-": written to file descriptor 1 as it is
+    Descriptor, ///< an open file descriptor, written as it is: "-" and /dev/stdout (1),
+                ///< /dev/stderr (2), /dev/fd/N and /proc/self/fd/N (N)
     NewFile, ///< nothing at the path yet: a temporary file renamed into place
     RegularFile, ///< an existing regular file: replaced atomically, its mode kept
     Special, ///< a character or block device, FIFO or socket: opened and written, never replaced
@@ -32,16 +33,19 @@ struct OutputTarget
     std::uint64_t device = 0; ///< st_dev of the existing file (RegularFile, Special)
     std::uint64_t inode = 0; ///< st_ino of the existing file (RegularFile, Special)
     std::string canonical; ///< absolute path without "." / ".." / links (NewFile)
+    int descriptor = -1; ///< the descriptor written (Descriptor)
 };
 
 /// Resolves `path` for writing. `allowStandardOutput`: "-" means standard output (CSV, JSON
-/// and text outputs); otherwise "-" is an ordinary file name. Fails, naming the path, for an
+/// and text outputs); otherwise "-" is an ordinary file name. /dev/stdout, /dev/stderr,
+/// /dev/fd/N and /proc/self/fd/N always mean the open descriptor (whatever it leads to, a
+/// pipe or a file the shell opened, it is written, never replaced). Fails, naming the path, for an
 /// empty path, a directory, or a folder that does not exist.
 Result<OutputTarget> resolveOutput(const std::string &path, bool allowStandardOutput = false);
 
 /// Refuses, naming both paths, an output that is one of `inputs` (same device and inode, so
 /// another spelling, a symbolic link or a hard link is caught) or the same file as another
-/// output (an existing file by inode, a new one by its canonical path; two "-" outputs too).
+/// output (an existing file by inode, a new one by its canonical path; one descriptor twice).
 /// `inputs` that do not exist are skipped (the loader reports them).
 Result<bool> checkOutputsApart(const std::vector<std::string> &inputs,
                                const std::vector<OutputTarget> &outputs);
