@@ -799,6 +799,39 @@ TEST(CliSpread, DesignWithoutTolerancesIsBadInputNamingTheFile)
     EXPECT_THAT(g.out, HasSubstr("U1 gain"));
 }
 
+// A design that loads and validates but has no circuit solution: an ideal voltage source
+// straight across the gain block's output, which has no output resistance (two voltage
+// sources in parallel; common practice: modified nodal analysis has no unique solution then).
+// Every command's message names the file, spread's and suggest's as well as analyze's.
+TEST(CliMessages, EveryCommandNamesTheFileOfAnUnsolvableCircuit)
+{
+    TempDir dir;
+    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    const std::string source
+        = R"({"id": "PD1", "type": "isource", "to": "in", "from": "0", "r_parallel": "500M", "c_parallel": "20p"})";
+    const std::string rOut = R"("r_out": "50")";
+    ASSERT_NE(text.find(source), std::string::npos);
+    ASSERT_NE(text.find(rOut), std::string::npos);
+    text.replace(text.find(source), source.size(),
+                 R"({"id": "PD1", "type": "vsource", "pos": "out", "neg": "0"})");
+    text.replace(text.find(rOut), rOut.size(), R"("r_out": "0")");
+    const fs::path file = dir.path() / "parallel-sources.loopsketch";
+    std::ofstream(file, std::ios::binary) << text;
+    for (const std::vector<std::string> &args :
+         {std::vector<std::string>{"analyze", file.string()},
+          std::vector<std::string>{"sweep", file.string(), "--csv", "-"},
+          std::vector<std::string>{"spread", file.string(), "--trials", "10", "--seed", "1"},
+          std::vector<std::string>{"spread", file.string(), "--trials", "10", "--seed", "1",
+                                   "--json"}}) {
+        const CliRun r = runCli(args);
+        ASSERT_TRUE(r.exited);
+        EXPECT_EQ(r.exitCode, 2) << args.front() << ": " << r.err;
+        EXPECT_THAT(r.err, HasSubstr("no unique solution")) << args.front();
+        EXPECT_THAT(r.err, HasSubstr("parallel-sources.loopsketch: ")) << args.front();
+        EXPECT_TRUE(r.out.empty()) << args.front();
+    }
+}
+
 TEST(CliSpread, BadTrialsAndSeedAreBadInput)
 {
     for (const std::vector<std::string> &args :
