@@ -149,6 +149,23 @@ int reportDiagnostics(std::ostream &err, const Diagnostics &d, const std::string
     return kExitBadInput;
 }
 
+/// `diagnostics` with "cannot write the <what>: " before each message, so a message says which
+/// output failed as well as where and why.
+Diagnostics forOutput(Diagnostics diagnostics, const std::string &what)
+{
+    for (auto &d : diagnostics)
+        d.message = "cannot write the " + what + ": " + d.message;
+    return diagnostics;
+}
+
+/// What the text output of a command holds, for messages.
+std::string textOutputName(const std::string &command)
+{
+    return command == "analyze" ? "analysis"
+        : command == "spread"   ? "spread results"
+                                : "suggestions";
+}
+
 /// Every output of one command, resolved and checked against the input and each other before
 /// any work is done.
 struct Outputs
@@ -162,23 +179,24 @@ Result<Outputs> planOutputs(const Options &o)
     Outputs planned;
     std::vector<OutputTarget> all;
     Diagnostics problems;
-    const auto resolve = [&](const std::string &path, bool allowStandardOutput) {
-        auto target = resolveOutput(path, allowStandardOutput);
-        if (!target) {
-            problems.insert(problems.end(), target.diagnostics().begin(),
-                            target.diagnostics().end());
-            return std::optional<OutputTarget>();
-        }
-        all.push_back(*target);
-        return std::optional<OutputTarget>(*target);
-    };
+    const auto resolve
+        = [&](const std::string &path, bool allowStandardOutput, const std::string &what) {
+              auto target = resolveOutput(path, allowStandardOutput);
+              if (!target) {
+                  const Diagnostics named = forOutput(target.diagnostics(), what);
+                  problems.insert(problems.end(), named.begin(), named.end());
+                  return std::optional<OutputTarget>();
+              }
+              all.push_back(*target);
+              return std::optional<OutputTarget>(*target);
+          };
     if (o.command == "analyze" || o.command == "spread" || o.command == "suggest")
-        planned.text = resolve(o.textOut, true);
+        planned.text = resolve(o.textOut, true, textOutputName(o.command));
     if (!o.csvOut.empty())
-        planned.csv = resolve(o.csvOut, true);
+        planned.csv = resolve(o.csvOut, true, "sweep");
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export") {
-        resolve(o.pdfOut, false);
+        resolve(o.pdfOut, false, "review sheet");
         for (const auto &[dir, svg] : {std::pair{o.svgDir, true}, std::pair{o.pngDir, false}}) {
             if (dir.empty())
                 continue;
@@ -189,7 +207,7 @@ Result<Outputs> planOutputs(const Options &o)
                 continue;
             }
             for (const auto &file : *files)
-                resolve(file, false);
+                resolve(file, false, "plot");
         }
     }
 #endif
@@ -205,7 +223,8 @@ Result<Outputs> planOutputs(const Options &o)
 
 /// Writes a command's text, CSV or JSON to its target: standard output through `out` (checked,
 /// so a full disk behind a redirection is an error too), a file through the atomic writer.
-int emit(const OutputTarget &target, const std::string &text, std::ostream &out, std::ostream &err)
+int emit(const OutputTarget &target, const std::string &what, const std::string &text,
+         std::ostream &out, std::ostream &err)
 {
     if (target.kind == OutputTargetKind::Descriptor && target.descriptor == STDOUT_FILENO) {
         errno = 0;
@@ -214,14 +233,14 @@ int emit(const OutputTarget &target, const std::string &text, std::ostream &out,
         if (!out) {
             const int error = errno;
             return badInput(err,
-                            std::string("standard output: write failed")
+                            "standard output: cannot write the " + what + ": write failed"
                                 + (error ? std::string(": ") + std::strerror(error) : ""));
         }
         return kExitOk;
     }
     auto written = writeOutput(target, text);
     if (!written)
-        return reportDiagnostics(err, written.diagnostics());
+        return reportDiagnostics(err, forOutput(written.diagnostics(), what));
     return kExitOk;
 }
 
@@ -248,7 +267,7 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
         if (!mc)
             return reportDiagnostics(err, mc.diagnostics(), o.file);
         const std::string unit = gainUnit(design);
-        return emit(*outputs->text,
+        return emit(*outputs->text, textOutputName(o.command),
                     o.json ? spreadToJson(*worst, *mc, unit) : spreadToText(*worst, *mc, unit), out,
                     err);
     }
@@ -257,17 +276,17 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
         if (!found)
             return reportDiagnostics(err, found.diagnostics(), o.file);
         const std::string unit = gainUnit(design);
-        return emit(*outputs->text,
+        return emit(*outputs->text, textOutputName(o.command),
                     o.json ? suggestToJson(*found, unit) : suggestToText(*found, unit), out, err);
     }
     auto analysis = analyze(design, o.file);
     if (!analysis)
         return reportDiagnostics(err, analysis.diagnostics(), o.file);
     if (o.command == "analyze")
-        return emit(*outputs->text, o.json ? analysisToJson(*analysis) : analysisToText(*analysis),
-                    out, err);
+        return emit(*outputs->text, textOutputName(o.command),
+                    o.json ? analysisToJson(*analysis) : analysisToText(*analysis), out, err);
     if (o.command == "sweep")
-        return emit(*outputs->csv, sweepToCsv(*analysis), out, err);
+        return emit(*outputs->csv, "sweep", sweepToCsv(*analysis), out, err);
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
         return runExport(design, *analysis,

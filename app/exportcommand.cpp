@@ -69,7 +69,9 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         auto written = target ? writeOutput(*target, sweepToCsv(analysis))
                               : Result<bool>(target.diagnostics());
         if (!written) {
-            err << "loopsketch: " << written.errorText() << "\n";
+            for (const auto &d : written.diagnostics())
+                err << "loopsketch: " << d.file << ": cannot write the sweep: " << d.message
+                    << "\n";
             return kExitBadInput;
         }
     }
