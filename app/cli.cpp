@@ -208,6 +208,10 @@ Result<Outputs> planOutputs(const Options &o)
             }
             for (const auto &file : *files)
                 resolve(file, false, "plot");
+            // a folder still to be made must not be another output's file either
+            if (files->empty())
+                if (auto folder = resolveOutput(dir); folder)
+                    all.push_back(*folder);
         }
     }
 #endif

@@ -322,6 +322,9 @@ TEST(OutputTargets, FifoIsWrittenDirectlyToItsReader)
         received = s.str();
     });
     const auto written = writeFileAtomically(fifo.string(), text);
+    // should the write have failed before opening the FIFO, release the waiting reader
+    if (const int fd = ::open(fifo.c_str(), O_WRONLY | O_NONBLOCK); fd >= 0)
+        ::close(fd);
     reader.join();
     EXPECT_TRUE(written.ok()) << written.errorText();
     EXPECT_EQ(received.size(), text.size());

@@ -11,6 +11,7 @@
 #include <gtest/gtest.h>
 #include <nlohmann/json.hpp>
 
+#include <fcntl.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -643,6 +644,9 @@ TEST(CliOutputs, FifoGetsTheWholeSweep)
     std::string received;
     std::thread reader([&] { received = readText(fifo); });
     const CliRun r = runCli({"sweep", "demo", "--csv", fifo.string()});
+    // should the program have failed before opening the FIFO, release the waiting reader
+    if (const int fd = ::open(fifo.c_str(), O_WRONLY | O_NONBLOCK); fd >= 0)
+        ::close(fd);
     reader.join();
     ASSERT_TRUE(r.exited);
     EXPECT_EQ(r.exitCode, 0) << r.err;
@@ -664,6 +668,23 @@ TEST(CliOutputs, DashIsStandardOutputForCsvAndJson)
     EXPECT_EQ(json.exitCode, 0) << json.err;
     EXPECT_FALSE(json.out.empty());
     EXPECT_EQ(json.out, plain.out);
+}
+
+TEST(CliOutputs, StandardOutputAppendingToTheDesignIsRefused)
+{
+    TempDir dir;
+    const fs::path design = dir.path() / "a.loopsketch";
+    fs::copy_file(kDesignsDir / "demo.loopsketch", design);
+    const std::string before = readText(design);
+    for (const std::string &args : {" sweep " + shellQuoted(design.string()) + " --csv - >>",
+                                    " analyze " + shellQuoted(design.string()) + " --json >>"}) {
+        const std::string cmd
+            = shellQuoted(kCli.string()) + args + shellQuoted(design.string()) + " 2>/dev/null";
+        const int status = std::system(cmd.c_str());
+        ASSERT_TRUE(WIFEXITED(status));
+        EXPECT_EQ(WEXITSTATUS(status), 2) << args;
+        EXPECT_EQ(readText(design), before) << args;
+    }
 }
 
 TEST(CliOutputs, DevStdoutIntoAPipeIsWrittenNotReplaced)
