@@ -283,14 +283,29 @@ std::vector<std::string> temporariesIn(const fs::path &dir, const std::string &s
 
 } // namespace
 
+// The device tests write in a child whose /dev/null and /dev/full are protected mount points
+// (test::isolateDeviceNodes): a writer that renamed over them would fail with EBUSY there
+// instead of replacing the machine's device nodes.
 TEST(OutputTargets, DevNullIsWrittenDirectlyAndStaysADevice)
 {
     ASSERT_TRUE(isCharacterDevice("/dev/null"));
-    const auto target = resolveOutput("/dev/null");
-    ASSERT_TRUE(target.ok()) << target.errorText();
-    EXPECT_EQ(target->kind, OutputTargetKind::Special);
-    const auto written = writeFileAtomically("/dev/null", std::string(100000, 'x'));
-    EXPECT_TRUE(written.ok()) << written.errorText();
+    const auto outcome = test::runInChild([&](std::string &out) {
+        if (auto why = test::isolateDeviceNodes(); !why.empty()) {
+            out = why;
+            return test::kChildCannotInject;
+        }
+        const auto target = resolveOutput("/dev/null");
+        out += field(
+            "kind", target.ok() && target->kind == OutputTargetKind::Special ? "special" : "other");
+        const auto written = writeFileAtomically("/dev/null", std::string(100000, 'x'));
+        out += field("written", written.ok() ? "ok" : written.errorText());
+        return 0;
+    });
+    if (outcome.exitCode == test::kChildCannotInject)
+        GTEST_SKIP() << "cannot protect the device nodes here: " << outcome.output;
+    ASSERT_EQ(outcome.exitCode, 0) << outcome.output;
+    EXPECT_EQ(fieldOf(outcome.output, "kind"), "special");
+    EXPECT_EQ(fieldOf(outcome.output, "written"), "ok");
     EXPECT_TRUE(isCharacterDevice("/dev/null")) << "a device must never be renamed over";
     EXPECT_TRUE(temporariesIn("/dev", "null").empty());
 }
@@ -300,10 +315,20 @@ TEST(OutputTargets, DevFullReportsNoSpaceAndStaysADevice)
     // /dev/full: every write fails with ENOSPC (Linux null(4)/full(4) man page).
     if (!fs::exists("/dev/full"))
         GTEST_SKIP() << "no /dev/full on this machine";
-    const auto written = writeFileAtomically("/dev/full", "some bytes\n");
-    ASSERT_FALSE(written.ok());
-    EXPECT_THAT(written.errorText(), HasSubstr("/dev/full"));
-    EXPECT_THAT(written.errorText(), HasSubstr("No space left on device"));
+    const auto outcome = test::runInChild([&](std::string &out) {
+        if (auto why = test::isolateDeviceNodes(); !why.empty()) {
+            out = why;
+            return test::kChildCannotInject;
+        }
+        const auto written = writeFileAtomically("/dev/full", "some bytes\n");
+        out = written.ok() ? "ok" : written.errorText();
+        return 0;
+    });
+    if (outcome.exitCode == test::kChildCannotInject)
+        GTEST_SKIP() << "cannot protect the device nodes here: " << outcome.output;
+    ASSERT_EQ(outcome.exitCode, 0) << outcome.output;
+    EXPECT_THAT(outcome.output, HasSubstr("/dev/full"));
+    EXPECT_THAT(outcome.output, HasSubstr("No space left on device"));
     EXPECT_TRUE(isCharacterDevice("/dev/full"));
     EXPECT_TRUE(temporariesIn("/dev", "full").empty());
 }

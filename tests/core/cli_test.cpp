@@ -1,6 +1,8 @@
 // The built command-line program, run as a user runs it: exit codes, messages on stderr,
 // the analysis text and JSON, and the sweep CSV, checked against the core analysis.
 
+#include "faultinjection.h"
+
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/spread.h"
@@ -624,9 +626,21 @@ TEST(CliOutputs, SweepOntoItsOwnDesignIsRefusedInEverySpelling)
 
 TEST(CliOutputs, DevNullIsWrittenAndStaysACharacterDevice)
 {
-    const CliRun r = runCli({"sweep", "demo", "--csv", "/dev/null"});
-    ASSERT_TRUE(r.exited);
-    EXPECT_EQ(r.exitCode, 0) << r.err;
+    // Run in a child whose /dev/null is a protected mount point (test::isolateDeviceNodes):
+    // a program that renamed over it fails with EBUSY there instead of replacing the node.
+    const auto outcome = test::runInChild([&](std::string &out) {
+        if (auto why = test::isolateDeviceNodes(); !why.empty()) {
+            out = why;
+            return test::kChildCannotInject;
+        }
+        const CliRun r = runCli({"sweep", "demo", "--csv", "/dev/null"});
+        out = std::to_string(r.exitCode) + " " + r.err;
+        return 0;
+    });
+    if (outcome.exitCode == test::kChildCannotInject)
+        GTEST_SKIP() << "cannot protect the device nodes here: " << outcome.output;
+    ASSERT_EQ(outcome.exitCode, 0) << outcome.output;
+    EXPECT_EQ(outcome.output, "0 ");
     struct stat info
     {
     };

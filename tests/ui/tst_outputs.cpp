@@ -40,6 +40,12 @@ const std::string kCli = LOOPSKETCH_BIN;
 const std::string kDemo = LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch";
 const std::string kPrevious = "previous output, must survive\n";
 
+/// Set in main(): empty when this process runs in a private mount namespace whose /dev/null
+/// and /dev/full are protected mount points (test::isolateDeviceNodes), else why not. Tests
+/// that hand a device to the program skip without it, so that a faulty program can never
+/// replace the machine's device nodes.
+std::string g_devicesUnprotected = "not set up";
+
 std::string readBytes(const fs::path &path)
 {
     std::ifstream in(path, std::ios::binary);
@@ -206,6 +212,8 @@ class OutputFaults : public ::testing::TestWithParam<OutputCase>
 TEST_P(OutputFaults, FullDiskGivesExitTwoAndKeepsThePreviousFile)
 {
     const OutputCase &c = GetParam();
+    if (!c.target && !g_devicesUnprotected.empty())
+        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
     TempDir dir;
     const fs::path mount = dir.path() / "small";
     fs::create_directory(mount);
@@ -269,6 +277,8 @@ TEST_P(OutputFaults, FullDiskGivesExitTwoAndKeepsThePreviousFile)
 TEST_P(OutputFaults, FileSizeLimitGivesExitTwoNotASignalAndLeavesNoTemporary)
 {
     const OutputCase &c = GetParam();
+    if (!c.target && !g_devicesUnprotected.empty())
+        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
     TempDir dir;
     const fs::path out = dir.path() / "out";
     fs::create_directory(out);
@@ -309,6 +319,8 @@ INSTANTIATE_TEST_SUITE_P(Kinds, OutputFaults, ::testing::ValuesIn(kOutputCases),
 
 TEST(ExportOutputs, SheetOntoItsOwnDesignIsRefusedBeforeAnyWork)
 {
+    if (!g_devicesUnprotected.empty())
+        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
     TempDir dir;
     const fs::path design = dir.path() / "b.loopsketch";
     fs::copy_file(kDemo, design);
@@ -351,6 +363,8 @@ TEST(ExportOutputs, TwoOutputsNamingOneFileAreRefusedAndNothingIsWritten)
 
 TEST(ExportOutputs, SheetToDevFullIsAnErrorAndTheDeviceStays)
 {
+    if (!g_devicesUnprotected.empty())
+        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
     if (!fs::exists("/dev/full"))
         GTEST_SKIP() << "no /dev/full on this machine";
     TempDir dir;
@@ -368,6 +382,8 @@ TEST(ExportOutputs, SheetToDevFullIsAnErrorAndTheDeviceStays)
 
 TEST(ExportOutputs, CsvDashGoesToStandardOutput)
 {
+    if (!g_devicesUnprotected.empty())
+        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
     TempDir dir;
     const fs::path file = dir.path() / "sweep.csv";
     const CliRun toFile = runCli({"sweep", kDemo, "--csv", file.string()}, dir.path());
@@ -380,3 +396,12 @@ TEST(ExportOutputs, CsvDashGoesToStandardOutput)
 }
 
 } // namespace
+
+int main(int argc, char **argv)
+{
+    ::testing::InitGoogleTest(&argc, argv);
+    // still single-threaded, as unshare() into a user namespace requires
+    if (!GTEST_FLAG_GET(list_tests))
+        g_devicesUnprotected = test::isolateDeviceNodes();
+    return RUN_ALL_TESTS();
+}
