@@ -253,7 +253,14 @@ MainWindow::MainWindow(QWidget *parent)
     updateTitle();
 }
 
-MainWindow::~MainWindow() = default;
+MainWindow::~MainWindow()
+{
+    // The document is a child, destroyed after this body and after the members; its undo
+    // stack emits cleanChanged as it goes, which must not reach the half-destroyed window
+    // (updateTitle() on freed members aborted tst_candidates now and then).
+    QObject::disconnect(m_document->undoStack(), nullptr, nullptr, nullptr);
+    QObject::disconnect(m_document, nullptr, nullptr, nullptr);
+}
 
 void MainWindow::createDocks()
 {
