@@ -319,6 +319,14 @@ TEST(Noise, AnalysisJsonAndCsvCarryNoise)
     EXPECT_THAT(json, HasSubstr("\"noise\": {"));
     EXPECT_THAT(json, HasSubstr("\"output_rms\""));
     EXPECT_THAT(json, HasSubstr("\"contributions\""));
+    // the band and the method stated (issue 12): the demo has no noise_band
+    EXPECT_THAT(json, HasSubstr("\"kind\": \"converged\""));
+    EXPECT_THAT(json, HasSubstr("until the power left above is under 0.1 % of the total"));
+    EXPECT_THAT(json, HasSubstr("\"input_rms_gain_at_hz\""));
+    EXPECT_THAT(json, HasSubstr("\"brick_wall_equivalent\": {"));
+    const std::string text = analysisToText(*a);
+    EXPECT_THAT(text, HasSubstr("band method"));
+    EXPECT_THAT(text, HasSubstr("brick-wall equivalent"));
     const std::string csv = sweepToCsv(*a);
     const std::string header = csv.substr(0, csv.find('\n'));
     // units in the names as the other columns: the demo is V out per A in

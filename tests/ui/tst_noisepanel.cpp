@@ -311,6 +311,9 @@ TEST_F(NoisePanelTest, ReadoutShowsCoreRmsWithTheBand)
     EXPECT_THAT(window->readout()->plainText().toStdString(), testing::Not(HasSubstr("nan")));
     EXPECT_THAT(panel->summaryText().toStdString(),
                 HasSubstr(want.section(" / ", 0, 0).toStdString()));
+    // how the band was set, in the title; the whole method in the tooltip (issue 12)
+    EXPECT_THAT(panel->summaryText().toStdString(), HasSubstr("(to convergence)"));
+    EXPECT_THAT(panel->toolTip().toStdString(), HasSubstr(n.bandMethod));
 }
 
 TEST_F(NoisePanelTest, WritesAScreenshot)
