@@ -622,3 +622,37 @@ TEST(Noise, DesignFileNoiseBandCommonModeCapacitanceAndDcCurrent)
     EXPECT_LT(relErr(*n->inputRms, *n->outputRms / std::abs(n->gain.front())), 1e-6);
     EXPECT_THAT(n->bandMethod, HasSubstr("|gain| at 1 Hz"));
 }
+
+// With in_p on ground, c_cm at in_n and c_in both sit from the inverting node to ground
+// (common practice): 3 pF of c_cm gives the same circuit as 3 pF more of c_in, in the exact
+// gain, in the two-port estimate's input loading and in en's noise gain.
+TEST(Noise, CommonModeCapacitanceAtAGroundedInputActsLikeInputCapacitance)
+{
+    const Design cm
+        = parse(designText(tiaParts(R"(, "en": "6n", "c_in": "5p", "c_cm": "3p")"), "PD1"));
+    const Design diff = parse(designText(tiaParts(R"(, "en": "6n", "c_in": "8p")"), "PD1"));
+    auto a = analyze(cm);
+    auto b = analyze(diff);
+    ASSERT_TRUE(a.ok()) << a.errorText();
+    ASSERT_TRUE(b.ok()) << b.errorText();
+    ASSERT_TRUE(a->noise && b->noise);
+    ASSERT_EQ(a->frequenciesHz.size(), b->frequenciesHz.size());
+    ASSERT_EQ(a->curves.inputLoading.size(), a->frequenciesHz.size());
+    for (std::size_t i = 0; i < a->frequenciesHz.size(); i += 10) {
+        EXPECT_LT(std::abs(a->curves.gainExact[i] - b->curves.gainExact[i]),
+                  1e-9 * std::abs(b->curves.gainExact[i]))
+            << a->frequenciesHz[i];
+        EXPECT_LT(std::abs(a->curves.inputLoading[i] - b->curves.inputLoading[i]),
+                  1e-9 * std::abs(b->curves.inputLoading[i]))
+            << a->frequenciesHz[i];
+        EXPECT_LT(relErr(a->noise->noiseGain[i], b->noise->noiseGain[i]), 1e-9)
+            << a->frequenciesHz[i];
+    }
+    // and 3 pF more does change the loading at high frequency (the check can fail)
+    const Design less = parse(designText(tiaParts(R"(, "en": "6n", "c_in": "5p")"), "PD1"));
+    auto c = analyze(less);
+    ASSERT_TRUE(c.ok()) << c.errorText();
+    const std::size_t top = c->frequenciesHz.size() - 1;
+    EXPECT_GT(std::abs(c->curves.inputLoading[top] - b->curves.inputLoading[top]),
+              1e-3 * std::abs(b->curves.inputLoading[top]));
+}
