@@ -203,7 +203,7 @@ class CliMalformed : public ::testing::TestWithParam<MalformedCase>
 {
 };
 
-// Exit codes and messages: DESIGN.md §6 (0 ok, 2 bad input naming file, part and field).
+// Exit codes and messages: core/README.md §9 (0 ok, 2 bad input naming file, part and field).
 TEST_P(CliMalformed, ExitsTwoNamingFileAndField)
 {
     const MalformedCase &c = GetParam();
@@ -342,7 +342,7 @@ double jsonNumber(const Json &j)
     return j.is_number() ? j.get<double>() : std::nan("");
 }
 
-// Keys of schema loopsketch.analysis/1: DESIGN.md §6.
+// Keys of schema loopsketch.analysis/1: core/README.md §7.
 void expectAnalysisSchema(const Json &j)
 {
     EXPECT_EQ(at(j, "schema"), "loopsketch.analysis/1");
