@@ -639,7 +639,7 @@ public:
         }
         checkKeys(root,
                   {"schema", "title", "notes", "parts", "input", "output", "sweep", "specs",
-                   "candidates", "sketch", "temperature"},
+                   "candidates", "sketch", "temperature", "settling_band"},
                   "", "");
         if (auto it = root.find("schema"); it == root.end()) {
             error("", "schema",
@@ -697,6 +697,8 @@ public:
             readSweep(*it, d.sweep);
         if (auto it = root.find("temperature"); it != root.end())
             d.temperature = readTemperature(*it);
+        if (auto it = root.find("settling_band"); it != root.end())
+            d.settlingBand = readValue(*it, ValueKind::Tolerance, "", "settling_band");
         if (auto it = root.find("specs"); it != root.end())
             readSpecs(*it, d.specs);
         if (auto it = root.find("candidates"); it != root.end())
@@ -861,6 +863,8 @@ std::string serializeDesign(const Design &d)
         + ", \"points_per_decade\": " + std::to_string(d.sweep.pointsPerDecade) + "}";
     if (d.temperature)
         s += ",\n  \"temperature\": " + jsonValue(*d.temperature);
+    if (d.settlingBand)
+        s += ",\n  \"settling_band\": " + jsonValue(*d.settlingBand);
 
     std::vector<std::string> specs;
     if (d.specs.gainMin || d.specs.gainMax) {

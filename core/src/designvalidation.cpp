@@ -312,6 +312,15 @@ void checkTemperature(const Design &d, Checker &c)
         c.add("", "temperature", "temperature must be above absolute zero (0 K, -273.15 °C)");
 }
 
+void checkSettlingBand(const Design &d, Checker &c)
+{
+    if (!d.settlingBand)
+        return;
+    const double b = d.settlingBand->si;
+    if (!std::isfinite(b) || !(b > 0) || !(b < 1))
+        c.add("", "settling_band", "settling_band must be between 0 % and 100 % (both excluded)");
+}
+
 void checkCandidates(const Design &d, Checker &c)
 {
     std::set<std::string> names;
@@ -385,6 +394,7 @@ Diagnostics validateDesign(const Design &design, std::string_view file)
     checkSweep(design.sweep, c);
     checkSpecs(design.specs, c);
     checkTemperature(design, c);
+    checkSettlingBand(design, c);
     checkCandidates(design, c);
     checkSketch(design, c);
     return c.take();
