@@ -97,7 +97,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     const Specs &specs = design.specs;
     // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
     const SpecCheck check = checkSpecs(
-        specs, design.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
+        specs, design.sweep, trialMetricsOf(a));
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;

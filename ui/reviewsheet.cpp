@@ -934,7 +934,7 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
     };
     // Core's spec check, the one the Candidates panel and the spread yield use.
     const SpecCheck check = checkSpecs(
-        d.specs, d.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
+        d.specs, d.sweep, trialMetricsOf(a));
     {
         const Specs &s = d.specs;
         std::optional<bool> ok;
@@ -1101,7 +1101,7 @@ QString specVerdict(const Design &d, const std::optional<Analysis> &a)
     if (!a || !hasSpecs(d.specs))
         return QStringLiteral("—");
     const SpecCheck check = checkSpecs(
-        d.specs, d.sweep, TrialMetrics{a->exact.gain, a->bandwidthHz, a->margins.phaseMarginDeg});
+        d.specs, d.sweep, trialMetricsOf(*a));
     QStringList failed;
     if (!check.gain)
         failed << QStringLiteral("gain");

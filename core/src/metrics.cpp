@@ -394,12 +394,35 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
     };
     // Refines a level crossing of the normalised response between t[i] and t[i + 1] by
     // bisection on the model.
+    // Refines a level crossing between t[i] and t[i + 1] on the model: regula falsi with
+    // the Illinois modification (about ten evaluations of the exact response where
+    // halving needs fifty), falling back to halving when it stalls.
     const auto cross = [&](std::size_t i, const auto &offset) {
         double lo = t[i], hi = t[i + 1];
-        const bool lowBelow = offset(lo) < 0;
+        double flo = offset(lo), fhi = offset(hi);
+        if (!((flo < 0) != (fhi < 0)))
+            return 0.5 * (lo + hi);
+        int kept = 0;
         for (int k = 0; k < 100 && hi - lo > 1e-14 * hi; ++k) {
-            const double mid = 0.5 * (lo + hi);
-            ((offset(mid) < 0) == lowBelow ? lo : hi) = mid;
+            double x = (lo * fhi - hi * flo) / (fhi - flo);
+            if (k % 4 == 3 || !(x > lo && x < hi))
+                x = 0.5 * (lo + hi);
+            const double fx = offset(x);
+            if (fx == 0.0)
+                return x;
+            if ((fx < 0) == (flo < 0)) {
+                lo = x;
+                flo = fx;
+                if (kept == 1)
+                    fhi *= 0.5;
+                kept = 1;
+            } else {
+                hi = x;
+                fhi = fx;
+                if (kept == -1)
+                    flo *= 0.5;
+                kept = -1;
+            }
         }
         return 0.5 * (lo + hi);
     };
@@ -442,8 +465,19 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
         r.settlingTimeS = cross(lastOutside, [&](double time) {
             return std::abs(normalised(time) - 1.0) - band;
         });
-    // The curve shown: the display span, stretched to 1.25 times the settling time.
-    const double shown = std::max(span, r.settlingTimeS ? 1.25 * *r.settlingTimeS : 0.0);
+    // The curve shown: the display span, stretched to 1.25 times the settling time and on
+    // until the response stays within 1e-10 of the final value (so the curve ends at the
+    // DC gain), but to no more than 100 spans: a slow mode of tiny weight must not flatten
+    // the plot.
+    std::size_t lastAway = 0;
+    for (std::size_t i = y.size(); i-- > 0;) {
+        if (std::abs(at(i) - 1.0) > 1e-10) {
+            lastAway = std::min(i + 1, y.size() - 1);
+            break;
+        }
+    }
+    double shown = std::max(span, r.settlingTimeS ? 1.25 * *r.settlingTimeS : 0.0);
+    shown = std::max(shown, std::min(t[lastAway], 100.0 * span));
     for (std::size_t i = 0; i < y.size() && (i <= kPoints || t[i] <= shown); ++i) {
         r.timeS.push_back(t[i]);
         r.response.push_back(y[i]);
