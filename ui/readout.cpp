@@ -96,8 +96,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     const std::string &unit = a.gainUnit;
     const Specs &specs = design.specs;
     // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
-    const SpecCheck check = checkSpecs(
-        specs, design.sweep, trialMetricsOf(a));
+    const SpecCheck check = checkSpecs(specs, design.sweep, trialMetricsOf(a));
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;

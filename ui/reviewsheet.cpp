@@ -933,8 +933,7 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
         rows.push_back({{name, value, spec, text}, {kInk, kInk, kInk, colour}});
     };
     // Core's spec check, the one the Candidates panel and the spread yield use.
-    const SpecCheck check = checkSpecs(
-        d.specs, d.sweep, trialMetricsOf(a));
+    const SpecCheck check = checkSpecs(d.specs, d.sweep, trialMetricsOf(a));
     {
         const Specs &s = d.specs;
         std::optional<bool> ok;
@@ -1100,8 +1099,7 @@ QString specVerdict(const Design &d, const std::optional<Analysis> &a)
 {
     if (!a || !hasSpecs(d.specs))
         return QStringLiteral("—");
-    const SpecCheck check = checkSpecs(
-        d.specs, d.sweep, trialMetricsOf(*a));
+    const SpecCheck check = checkSpecs(d.specs, d.sweep, trialMetricsOf(*a));
     QStringList failed;
     if (!check.gain)
         failed << QStringLiteral("gain");

@@ -173,21 +173,23 @@ std::string analysisToJson(const Analysis &a)
                          {"f_n_hz", p.naturalHz},
                          {"damping", p.damping},
                          {"q", number(p.q)}});
-    j["closed_loop"] = {{"stable", a.stable},
-                        {"rhp_poles", a.rhpPoles},
-                        {"reason", a.closedLoopReason.empty() ? Json(nullptr)
-                                                              : Json(a.closedLoopReason)},
-                        {"bandwidth_hz", number(a.bandwidthHz)},
-                        {"peaking_db", number(a.peakingDb)},
-                        {"peaking_hz", number(a.peakingHz)},
-                        {"feedthrough_db", number(a.feedthroughDb)},
-                        {"feedthrough_hz", number(a.feedthroughHz)},
-                        {"poles", poles},
-                        {"step",
-                         {{"rise_time_s", number(a.step.riseTimeS)},
-                          {"overshoot_pct", number(a.step.overshootPct)},
-                          {"settling_time_s", number(a.step.settlingTimeS)},
-                          {"settling_band", number(a.step.settlingBand)}}}};
+    j["closed_loop"]
+        = {{"stable", a.stable},
+           {"rhp_poles", a.rhpPoles},
+           {"reason", a.closedLoopReason.empty() ? Json(nullptr) : Json(a.closedLoopReason)},
+           {"bandwidth_hz", number(a.bandwidthHz)},
+           {"peaking_db", number(a.peakingDb)},
+           {"peaking_hz", number(a.peakingHz)},
+           {"feedthrough_db", number(a.feedthroughDb)},
+           {"feedthrough_hz", number(a.feedthroughHz)},
+           {"poles", poles},
+           {"step",
+            {{"rise_time_s", number(a.step.riseTimeS)},
+             {"overshoot_pct", number(a.step.overshootPct)},
+             {"settling_time_s", number(a.step.settlingTimeS)},
+             {"settling_band", number(a.step.settlingBand)},
+             {"final_value",
+              a.step.response.empty() ? Json(nullptr) : number(a.step.response.back())}}}};
     j["desensitivity_db"] = number(a.desensitivityDb);
     Json sens = Json::object();
     for (const auto &[id, v] : a.sensitivity)
@@ -255,8 +257,8 @@ std::string analysisToText(const Analysis &a)
     show("z_out (Blackman)", a.returnRatio.zOut, "Ω");
     os << "\nStability and response\n";
     const auto row = [&](const std::string &label, const std::string &value) {
-        os << "  " << label << std::string(label.size() < 26 ? 26 - label.size() : 1, ' ')
-           << value << "\n";
+        os << "  " << label << std::string(label.size() < 26 ? 26 - label.size() : 1, ' ') << value
+           << "\n";
     };
     row("closed loop", a.stable ? "stable" : "UNSTABLE");
     for (const ClosedLoopPole &p : a.poles) {

@@ -462,9 +462,8 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
     if (lastOutside == y.size())
         r.settlingTimeS = 0.0;
     else if (lastOutside + 1 < y.size())
-        r.settlingTimeS = cross(lastOutside, [&](double time) {
-            return std::abs(normalised(time) - 1.0) - band;
-        });
+        r.settlingTimeS = cross(
+            lastOutside, [&](double time) { return std::abs(normalised(time) - 1.0) - band; });
     // The curve shown: the display span, stretched to 1.25 times the settling time and on
     // until the response stays within 1e-10 of the final value (so the curve ends at the
     // DC gain), but to no more than 100 spans: a slow mode of tiny weight must not flatten

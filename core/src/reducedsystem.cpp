@@ -263,32 +263,16 @@ bool ReducedSystem::dcRegular() const
     return !isSingular(m_gr);
 }
 
-std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
+namespace {
+
+/// Power-of-two row and column balancing of the pencil (a few sweeps): neither changes
+/// the eigenvalues, and QZ's errors follow the balanced entries instead of the units.
+void balance(Eigen::MatrixXd &g, Eigen::MatrixXd &c)
 {
-    std::vector<std::complex<double>> poles;
-    if (order() == 0)
-        return poles;
-    // (Gr + s Cr) v = 0  <=>  Gr v = lambda Cr v with lambda = -s.
-    // Row scaling (each row's reactive entries to 1) makes the infinite-eigenvalue test
-    // mean the same in every row; the per-frequency solves keep the unscaled rows, whose
-    // pivots partial pivoting chooses better.
-    const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
-    Eigen::MatrixXd g = scale.asDiagonal() * m_gr;
-    Eigen::MatrixXd c = scale.asDiagonal() * m_cr;
-    if (!g.allFinite()) { // a gain near the largest double: no row scaling
-        g = m_gr;
-        c = m_cr;
-    }
-    // Frequency scaling (s = w0 s') and a few sweeps of power-of-two row and column
-    // balancing keep a gain block of 1e300 from overflowing the QZ iteration; neither
-    // changes the eigenvalues.
-    double w0 = g.cwiseAbs().maxCoeff();
-    if (!(w0 > 0) || !std::isfinite(w0))
-        w0 = 1.0;
-    g /= w0;
     for (int sweep = 0; sweep < 4; ++sweep) {
         for (Index i = 0; i < g.rows(); ++i) {
-            const double m = std::max(g.row(i).cwiseAbs().maxCoeff(), c.row(i).cwiseAbs().maxCoeff());
+            const double m
+                = std::max(g.row(i).cwiseAbs().maxCoeff(), c.row(i).cwiseAbs().maxCoeff());
             if (m > 0 && std::isfinite(m)) {
                 const double f = std::exp2(-std::round(std::log2(m)));
                 g.row(i) *= f;
@@ -296,7 +280,8 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
             }
         }
         for (Index j = 0; j < g.cols(); ++j) {
-            const double m = std::max(g.col(j).cwiseAbs().maxCoeff(), c.col(j).cwiseAbs().maxCoeff());
+            const double m
+                = std::max(g.col(j).cwiseAbs().maxCoeff(), c.col(j).cwiseAbs().maxCoeff());
             if (m > 0 && std::isfinite(m)) {
                 const double f = std::exp2(-std::round(std::log2(m)));
                 g.col(j) *= f;
@@ -304,6 +289,15 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
             }
         }
     }
+}
+
+/// Finite generalized eigenvalues s of (g + s c) v = 0, the pencil scaled by w0 first
+/// (s = w0 s').
+std::vector<std::complex<double>> finiteEigenvalues(Eigen::MatrixXd g, Eigen::MatrixXd c, double w0)
+{
+    std::vector<std::complex<double>> poles;
+    g /= w0;
+    balance(g, c);
     Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
     ges.compute(g, c, false);
     if (ges.info() != Eigen::Success)
@@ -320,8 +314,39 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
             std::complex<double> s = -w0 * (alphas(i) / b);
             if (std::abs(s.imag()) < 1e-12 * std::abs(s))
                 s = {s.real(), 0.0};
-            poles.push_back(s);
+            if (std::isfinite(std::abs(s)))
+                poles.push_back(s);
         }
+    }
+    return poles;
+}
+
+} // namespace
+
+std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
+{
+    if (order() == 0)
+        return {};
+    // (Gr + s Cr) v = 0  <=>  Gr v = lambda Cr v with lambda = -s.
+    // Row scaling (each row's reactive entries to 1) makes the infinite-eigenvalue test
+    // mean the same in every row; the per-frequency solves keep the unscaled rows, whose
+    // pivots partial pivoting chooses better.
+    const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
+    Eigen::MatrixXd g = scale.asDiagonal() * m_gr;
+    Eigen::MatrixXd c = scale.asDiagonal() * m_cr;
+    if (!g.allFinite()) { // a gain near the largest double: no row scaling
+        g = m_gr;
+        c = m_cr;
+    }
+    // Balanced as it is, the pencil gives the most accurate poles; a very high gain
+    // (1e20 and beyond) puts some of them where only a frequency scaling by the largest
+    // entry keeps them finite. The attempt that finds more finite poles wins.
+    std::vector<std::complex<double>> poles = finiteEigenvalues(g, c, 1.0);
+    const double w0 = g.cwiseAbs().maxCoeff();
+    if (w0 > 0 && std::isfinite(w0) && w0 != 1.0) {
+        std::vector<std::complex<double>> scaled = finiteEigenvalues(g, c, w0);
+        if (scaled.size() > poles.size())
+            poles = std::move(scaled);
     }
     std::sort(poles.begin(), poles.end(), [](auto x, auto y) {
         return std::abs(x) != std::abs(y) ? std::abs(x) < std::abs(y) : x.imag() < y.imag();

@@ -328,8 +328,9 @@ TEST(GainMargins, ConditionallyStableLoopReportsEveryGainMargin)
         const Analysis onAxis = analyzeOrFail(scaled.design());
         double nearest = 1e300;
         for (const ClosedLoopPole &p : onAxis.poles)
-            nearest = std::min(nearest, std::abs(p.s - std::complex<double>(0, 2 * kPi * g.frequencyHz))
-                                            / std::abs(p.s));
+            nearest = std::min(nearest,
+                               std::abs(p.s - std::complex<double>(0, 2 * kPi * g.frequencyHz))
+                                   / std::abs(p.s));
         EXPECT_LT(nearest, 1e-6) << g.db << " dB at " << g.frequencyHz << " Hz";
         scaled.gain = f.gain * std::pow(10.0, (g.db + intoUnstable[i]) / 20.0);
         EXPECT_FALSE(analyzeOrFail(scaled.design()).stable) << g.db;
@@ -348,8 +349,7 @@ TEST(GainMargins, CrossingsAboveTheSweepStopAreFoundOnTheModel)
     const Analysis shortSweep = analyzeOrFail(f.design());
     ASSERT_GT(value(full.margins.crossoverHz), 1e5);
     EXPECT_LT(rel(value(shortSweep.margins.crossoverHz), value(full.margins.crossoverHz)), 1e-9);
-    EXPECT_NEAR(value(shortSweep.margins.phaseMarginDeg), value(full.margins.phaseMarginDeg),
-                1e-7);
+    EXPECT_NEAR(value(shortSweep.margins.phaseMarginDeg), value(full.margins.phaseMarginDeg), 1e-7);
     EXPECT_NEAR(value(shortSweep.margins.gainMarginDb), value(full.margins.gainMarginDb), 1e-7);
     EXPECT_THAT(analysisToText(shortSweep), HasSubstr("(above the sweep stop)"));
     EXPECT_THAT(analysisToText(full), ::testing::Not(HasSubstr("(above the sweep stop)")));
@@ -382,8 +382,8 @@ TEST(Peaking, TwoPoleLoopMatchesTheResonantPeakOnACoarseGrid)
 // property of the passband).
 TEST(Peaking, CurrentDriverPeakingDoesNotDependOnTheSweepStop)
 {
-    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR)
-                             + "/excitation-current-driver.loopsketch");
+    auto loaded
+        = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/excitation-current-driver.loopsketch");
     ASSERT_TRUE(loaded.ok()) << loaded.errorText();
     std::vector<double> peaking, feedthrough;
     for (double stop : {1e7, 1e8, 1e9, 3e9}) {
@@ -448,8 +448,8 @@ TEST(Step, TwoPoleOvershootAtTheExactPeak)
         f.polesHz = {fn / (2 * zeta * a0), 2 * zeta * fn};
         const Analysis a = analyzeOrFail(f.design());
         // The loop departs from the ideal two-pole form by ~1/(4 zeta^2 a0) < 3e-8.
-        EXPECT_NEAR(value(a.step.overshootPct), 100 * std::exp(-kPi * zeta / std::sqrt(1 - zeta * zeta)),
-                    1e-5)
+        EXPECT_NEAR(value(a.step.overshootPct),
+                    100 * std::exp(-kPi * zeta / std::sqrt(1 - zeta * zeta)), 1e-5)
             << zeta;
     }
 }
