@@ -349,6 +349,8 @@ std::string analysisToText(const Analysis &a)
             os << "  " << label << std::string(label.size() < 26 ? 26 - label.size() : 1, ' ')
                << text << "\n";
         };
+        if (!a.stable)
+            return os.str(); // no band and no shares of a power that does not exist
         line("band",
              formatEngineering(n.bandLowHz, 5, "Hz") + " – "
                  + formatEngineering(n.bandHighHz, 5, "Hz"));
