@@ -571,6 +571,7 @@ TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
 
 INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,
                          ::testing::Values("contact-mic-preamp", "excitation-current-driver",
-                                           "gas-cell-current-amplifier"));
+                                           "gas-cell-current-amplifier",
+                                           "turbidity-probe-front-end"));
 
 } // namespace

@@ -123,6 +123,14 @@ struct Specs
     bool operator==(const Specs &) const = default;
 };
 
+/// The band over which the noise is integrated, Hz (design-file key `noise_band`).
+struct NoiseBand
+{
+    Value low;
+    Value high;
+    bool operator==(const NoiseBand &) const = default;
+};
+
 struct Candidate
 {
     std::string name;
@@ -168,6 +176,9 @@ struct Design
     /// Fraction of the final value within which the step counts as settled; written as a
     /// fraction or a percentage ("0.1%"). Absent: kDefaultSettlingBand.
     std::optional<Value> settlingBand;
+    /// The band the noise rms is integrated over, [f1, f2] Hz. Absent: from the sweep start
+    /// until the integral has converged (see analyzeNoise()).
+    std::optional<NoiseBand> noiseBand;
 
     /// The resistors' temperature in kelvin (the default when the file gives none).
     double temperatureK() const;
