@@ -153,7 +153,9 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
         if ((e.name == gb->id + ":r_in" || e.name == gb->id + ":c_in") && e.a == pinP)
             e.a = behind;
     }
-    netlist.addVoltageSource(enName, behind, pinP, -1);
+    NetlistElement &en = netlist.addVoltageSource(enName, behind, pinP, -1);
+    en.part = gb->id;
+    en.field = "en";
 
     auto assembled = assembleSystem(netlist);
     if (!assembled)
