@@ -219,10 +219,9 @@ TEST(Accuracy, TwoHundredFortyDecibelGainKeepsDcAccuracyAndEveryPole)
 }
 
 // The demo at 240 dB: all four natural frequencies stay (the reduced order), each within
-// 1e-7 of a root of the return difference 1 + T(s) (closed-loop poles are the zeros of 1 + T for a loop
-// without hidden modes; common practice), and z_out to 1e-8 of r_out / (1 + T) at DC with
-// the load removed (the output resistance divided by the return difference; common
-// practice).
+// 1e-7 of a root of the return difference 1 + T(s) (closed-loop poles are the zeros of 1 + T for a
+// loop without hidden modes; common practice), and z_out to 1e-8 of r_out / (1 + T) at DC with the
+// load removed (the output resistance divided by the return difference; common practice).
 TEST(Accuracy, DemoAtTwoHundredFortyDecibelsKeepsEveryPole)
 {
     Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
