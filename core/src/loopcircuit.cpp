@@ -115,6 +115,13 @@ void addGainBlock(Netlist &n, const Part &gb, const LoopCircuitOptions &options)
         own(n.addResistor(gb.id + ":r_in", inP, inN, gb.number("r_in")), "r_in");
     if (gb.number("c_in") > 0)
         own(n.addCapacitor(gb.id + ":c_in", inP, inN, gb.number("c_in")), "c_in");
+    if (const double ccm = gb.number("c_cm"); ccm > 0) {
+        // from each input pin to ground; a pin on ground has none
+        if (gb.node("in_p") != kGroundNode)
+            own(n.addCapacitor(gb.id + ":c_cm(in_p)", inP, std::string(kGroundNode), ccm), "c_cm");
+        if (gb.node("in_n") != kGroundNode)
+            own(n.addCapacitor(gb.id + ":c_cm(in_n)", inN, std::string(kGroundNode), ccm), "c_cm");
+    }
     ControlledSourceElement cs;
     cs.part = gb.id;
     cs.inP = inP;
