@@ -28,6 +28,8 @@ public:
     QString cellText(const QString &title) const;
     /// The warnings line ("" when the analysis has no warnings).
     QString warningText() const;
+    /// The instability banner's text; empty when the loop is stable.
+    QString bannerText() const;
 
 private:
     struct Cell
@@ -41,6 +43,7 @@ private:
 
     std::vector<Cell> m_cells;
     QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns
+    QLabel *m_banner = nullptr; ///< "UNSTABLE" and the poles that make it so
 };
 
 } // namespace loopsketch::ui
