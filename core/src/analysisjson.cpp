@@ -226,6 +226,12 @@ std::string analysisToJson(const Analysis &a)
     j["noise"] = noiseJson(a);
     if (!a.noise && !a.noiseProblem.empty())
         j["noise_problem"] = a.noiseProblem;
+    Json warnings = Json::array();
+    for (const Diagnostic &w : a.warnings)
+        warnings.push_back({{"part", w.part.empty() ? Json(nullptr) : Json(w.part)},
+                            {"field", w.field.empty() ? Json(nullptr) : Json(w.field)},
+                            {"message", w.message}});
+    j["warnings"] = warnings;
     return j.dump(2) + "\n";
 }
 
@@ -254,6 +260,12 @@ std::string analysisToText(const Analysis &a)
         os << "UNSTABLE: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
            << ".\nNo bandwidth, peaking, step response or noise rms: they do not exist for an "
               "unstable loop.\n\n";
+    if (!a.warnings.empty()) {
+        os << "Warnings\n";
+        for (const Diagnostic &w : a.warnings)
+            os << "  " << w.toString() << "\n";
+        os << "\n";
+    }
     if (a.topology)
         os << "Topology: " << a.topology->name() << " · " << toString(a.topology->parameters())
            << " parameters · " << a.topology->gainType() << "\n\n";
