@@ -1,6 +1,7 @@
 #include "loopsketch/suggest.h"
 
 #include "loopsketch/value.h"
+#include "loopsketch/workbudget.h"
 
 #include <nlohmann/json.hpp>
 
@@ -167,6 +168,17 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
     const std::vector<double> grid = coarseGrid(design.sweep, o.pointsPerDecade);
     if (grid.size() < 2)
         return error(file, {}, "sweep", "the sweep has no frequency range to evaluate");
+    // Up front: the DC gain of every combination, then at least `best` full trials.
+    const CircuitSize size = circuitSize(design);
+    const double dcOps = dcGainOperations(size), trialOps = trialOperations(size, grid.size());
+    const auto combinations = static_cast<double>(r.combinations);
+    if (auto over = checkRepeatedBudget(
+            design, file, r.combinations,
+            dcOps + trialOps * std::min(static_cast<double>(o.best), combinations) / combinations,
+            "the search", "narrow the ranges or pick fewer parts, bringing the combinations",
+            "parts");
+        !over.empty())
+        return over;
 
     const int workers = detail::workerCount(o.threads, r.combinations);
     struct Workspace
@@ -227,6 +239,13 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
                       });
     const std::size_t inWindow = chosen.size();
     chosen.insert(chosen.end(), rest.begin(), rest.begin() + static_cast<std::ptrdiff_t>(extra));
+    // After pruning: the full trials that will actually run.
+    if (auto over = checkRepeatedBudget(
+            design, file, chosen.size(), trialOps,
+            "evaluating the " + std::to_string(inWindow) + " combinations inside the gain window",
+            "narrow the gain window or the ranges, bringing them", "specs.gain");
+        !over.empty())
+        return over;
 
     // Stage 2: every metric of the chosen combinations.
     std::vector<TrialMetrics> metrics(chosen.size());
