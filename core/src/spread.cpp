@@ -3,6 +3,8 @@
 #include "loopsketch/value.h"
 #include "loopsketch/workbudget.h"
 
+#include "jsonnumber.h"
+
 #include <nlohmann/json.hpp>
 
 #include <algorithm>
@@ -470,9 +472,7 @@ namespace {
 
 Json number(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
-        return nullptr;
-    return *v;
+    return detail::jsonNumber(v);
 }
 
 Json statsJson(const MetricStats &s)
@@ -509,20 +509,16 @@ std::string quantityText(const SpreadQuantity &q)
 
 std::string numberText(const OptionalNumber &v, std::string_view unit)
 {
-    if (!v || !std::isfinite(*v))
+    if (!v || std::isnan(*v))
         return "none";
     return formatEngineering(*v, 4, unit);
 }
 
 std::string degreesText(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
+    if (!v || std::isnan(*v))
         return "none";
-    std::ostringstream os;
-    os.setf(std::ios::fixed);
-    os.precision(2);
-    os << *v << " deg";
-    return os.str();
+    return formatFixed(*v, 2) + " deg";
 }
 
 } // namespace

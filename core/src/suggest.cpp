@@ -3,6 +3,8 @@
 #include "loopsketch/value.h"
 #include "loopsketch/workbudget.h"
 
+#include "jsonnumber.h"
+
 #include <nlohmann/json.hpp>
 
 #include <algorithm>
@@ -156,7 +158,8 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
 
     SuggestResult r;
     r.ranges = std::move(ranges).value();
-    r.targetGain = (design.specs.gainMin->si + design.specs.gainMax->si) / 2.0;
+    // halves first: a window near the largest double must not overflow to infinity
+    r.targetGain = design.specs.gainMin->si / 2.0 + design.specs.gainMax->si / 2.0;
     r.combinations = 1;
     for (const auto &range : r.ranges) {
         r.combinations *= range.values.size();
@@ -274,7 +277,7 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
             left /= range.values.size();
         }
         s.metrics = metrics[i];
-        if (s.metrics.gain && r.targetGain != 0)
+        if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
             s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
         s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
         s.meetsSpecs = s.specs.all();
@@ -301,9 +304,7 @@ namespace {
 
 Json number(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
-        return nullptr;
-    return *v;
+    return detail::jsonNumber(v);
 }
 
 } // namespace
@@ -313,7 +314,7 @@ std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
     Json j;
     j["schema"] = "loopsketch.suggest/1";
     j["gain_unit"] = gainUnit;
-    j["target_gain"] = r.targetGain;
+    j["target_gain"] = number(r.targetGain);
     Json ranges = Json::array();
     for (const auto &range : r.ranges)
         ranges.push_back({{"part", range.part},
@@ -376,22 +377,14 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
         os << "\n   gain "
            << (s.metrics.gain ? formatEngineering(*s.metrics.gain, 5, gainUnit) : "none");
         if (s.gainErrorPct) {
-            std::ostringstream e;
-            e.setf(std::ios::fixed);
-            e.precision(3);
-            e << *s.gainErrorPct;
-            os << " (" << e.str() << " %)";
+            os << " (" << formatFixed(*s.gainErrorPct, 3) << " %)";
         }
         os << ", bandwidth "
            << (s.metrics.bandwidthHz ? formatEngineering(*s.metrics.bandwidthHz, 3, "Hz")
                                      : "above the sweep");
         os << ", phase margin ";
         if (s.metrics.phaseMarginDeg) {
-            std::ostringstream p;
-            p.setf(std::ios::fixed);
-            p.precision(1);
-            p << *s.metrics.phaseMarginDeg << " deg";
-            os << p.str();
+            os << formatFixed(*s.metrics.phaseMarginDeg, 1) << " deg";
         } else {
             os << "none";
         }
