@@ -135,15 +135,33 @@ std::string utf8Prefix(std::string_view s, std::size_t chars)
 }
 
 // A key or id as messages show it: long ones cut, so that a hostile 100,000-character key
-// makes a short message.
+// makes a short message, and control characters written as JSON escapes (\u0000), so that
+// none reaches the terminal.
+std::string escapedControls(std::string_view text)
+{
+    std::string out;
+    for (const char ch : text) {
+        const auto c = static_cast<unsigned char>(ch);
+        if (c < 0x20 || c == 0x7F) {
+            char esc[8];
+            std::snprintf(esc, sizeof esc, "\\u%04X", static_cast<unsigned>(c));
+            out += esc;
+        } else {
+            out += ch;
+        }
+    }
+    return out;
+}
+
 std::string shownKey(std::string_view key)
 {
-    return utf8Prefix(key, 40);
+    return escapedControls(utf8Prefix(key, 40));
 }
 
 std::string shownId(std::string_view id)
 {
-    return utf8Length(id) <= kMaxPartIdChars ? std::string(id) : utf8Prefix(id, 16);
+    return escapedControls(utf8Length(id) <= kMaxPartIdChars ? std::string(id)
+                                                             : utf8Prefix(id, 16));
 }
 
 std::pair<std::size_t, std::size_t> lineColumn(std::string_view text, std::size_t offset)
