@@ -180,7 +180,7 @@ Diagnostics checkAnalysisBudget(const Design &design, std::string_view file, boo
 Diagnostics checkRepeatedBudget(const Design &design, std::string_view file,
                                 std::size_t evaluations, double operationsEach,
                                 std::string_view what, std::string_view reduce,
-                                std::string_view field)
+                                std::string_view field, bool reduceCountsEvaluations)
 {
     const CircuitSize size = circuitSize(design);
     const std::string f(file);
@@ -201,9 +201,11 @@ Diagnostics checkRepeatedBudget(const Design &design, std::string_view file,
                      + ": even one evaluation is over it; reduce the number of parts or "
                        "capacitors"}};
     }
+    const std::string count = std::to_string(static_cast<std::size_t>(fit));
     return {{f, "", std::string(field),
-             head + ": " + std::string(reduce) + " to at most "
-                 + std::to_string(static_cast<std::size_t>(fit))}};
+             head + ": " + std::string(reduce)
+                 + (reduceCountsEvaluations ? " to at most " + count
+                                            : " (at most " + count + " evaluations fit)")}};
 }
 
 } // namespace loopsketch

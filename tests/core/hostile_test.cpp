@@ -229,20 +229,30 @@ void runEveryCommand(const fs::path &file, const MalformedCase &c)
                 << what << ": an output was written although the command failed";
         }
         if (c.exitCode == 2) {
+            // refused by every command; analyze and sweep give the row's message (the other
+            // commands may first refuse their own options or budgets)
             EXPECT_EQ(r.exitCode, 2) << what << "\n" << r.out.substr(0, 500);
-            EXPECT_THAT(r.err, HasSubstr(c.expected)) << what;
+            if (args[0] == "analyze" || args[0] == "sweep" || !c.file.starts_with("generated-")) {
+                EXPECT_THAT(r.err, HasSubstr(c.expected)) << what;
+            }
         } else if (args[0] == "analyze") {
             EXPECT_EQ(r.exitCode, 0) << what << "\n" << r.err;
             if (args.size() == 2) {
                 EXPECT_THAT(r.out, HasSubstr(c.expected)) << what;
             }
         }
-        expectCleanText(r.err, what + " (stderr)");
+        // the file's own name ("nan-value.loopsketch") is not output to scan
+        const auto withoutPath = [&](std::string text) {
+            for (auto at = text.find(f); at != std::string::npos; at = text.find(f, at))
+                text.erase(at, f.size());
+            return text;
+        };
+        expectCleanText(withoutPath(r.err), what + " (stderr)");
         if (r.exitCode == 0) {
             if (args.back() == "--json")
                 expectCleanJson(r.out, what);
             else
-                expectCleanText(r.out, what);
+                expectCleanText(withoutPath(r.out), what);
             if (args[0] == "sweep")
                 expectCleanCsv(csv, what);
             if (args[0] == "export") {

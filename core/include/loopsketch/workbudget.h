@@ -46,11 +46,13 @@ Diagnostics checkAnalysisBudget(const Design &design, std::string_view file, boo
 
 /// Refuses `evaluations` runs of `operationsEach` multiply-adds when their total exceeds
 /// kMaxWorkOperations. `what` names the run ("the Monte Carlo run", "the worst case") and
-/// `reduce` what the user can reduce; the message gives the largest count within budget.
+/// `reduce` what the user can reduce; the message gives the largest count within budget, as
+/// "to at most N" when the evaluations are what `reduce` counts (trials, combinations), else
+/// as "at most N evaluations fit".
 Diagnostics checkRepeatedBudget(const Design &design, std::string_view file,
                                 std::size_t evaluations, double operationsEach,
                                 std::string_view what, std::string_view reduce,
-                                std::string_view field);
+                                std::string_view field, bool reduceCountsEvaluations = true);
 
 /// "2.3e10": the short form of an operation count used in the budget messages.
 std::string operationsText(double operations);
