@@ -1,7 +1,9 @@
 // The window refuses oversized work with the same message as the command line (issue 14:
 // bounded work, said up front): the document's recomputation reports core's diagnostic.
 
+#ifndef LOOPSKETCH_TEST_DATA_DIR
 #define LOOPSKETCH_TEST_DATA_DIR ""
+#endif
 #include "../core/hostilecorpus.h"
 
 #include "designdocument.h"
