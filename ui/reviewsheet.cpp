@@ -92,8 +92,8 @@ QString decibels(const OptionalNumber &v)
 
 QString percent(const OptionalNumber &v)
 {
-    if (!v)
-        return QStringLiteral("—");
+    if (!v || !std::isfinite(*v)) // "—" where it does not exist, "∞" where infinite
+        return QString::fromStdString(v ? nonFiniteText(*v) : std::string("—"));
     if (std::abs(*v) < 0.001)
         return QStringLiteral("< 0.001 %");
     return QString::number(*v, 'g', 3) + QStringLiteral(" %");

@@ -4,6 +4,7 @@
 #include "loopsketch/loopcircuit.h"
 #include "loopsketch/metrics.h"
 #include "loopsketch/partlimits.h"
+#include "loopsketch/workbudget.h"
 
 #include "noisesweep.h"
 
@@ -106,6 +107,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 {
     if (auto problems = validateDesign(design, file); !problems.empty())
         return problems;
+    if (auto over = checkAnalysisBudget(design, file, options.sensitivity); !over.empty())
+        return over;
     auto built = LoopModel::build(design, options.solver);
     if (!built) {
         Diagnostics d = built.diagnostics();

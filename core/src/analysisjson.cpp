@@ -3,6 +3,8 @@
 
 #include "loopsketch/value.h"
 
+#include "jsonnumber.h"
+
 #include <nlohmann/json.hpp>
 
 #include <algorithm>
@@ -19,9 +21,7 @@ using Json = nlohmann::ordered_json;
 
 Json number(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
-        return nullptr;
-    return *v;
+    return detail::jsonNumber(v);
 }
 
 double magnitudeDb(std::complex<double> v)
@@ -35,12 +35,7 @@ double phaseDeg(std::complex<double> v)
 
 std::string csvNumber(double v)
 {
-    if (!std::isfinite(v))
-        return {};
-    std::ostringstream os;
-    os.precision(10);
-    os << v;
-    return os.str();
+    return detail::csvNumber(v);
 }
 
 Json topologyJson(const Analysis &a)
@@ -124,7 +119,7 @@ Json noiseJson(const Analysis &a)
     const NoiseAnalysis &n = *a.noise;
     const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
     Json j;
-    j["temperature_k"] = n.temperatureK;
+    j["temperature_k"] = number(n.temperatureK);
     j["output_unit"] = outUnit;
     j["input_unit"] = inUnit;
     j["band"] = {{"low_hz", number(n.bandLowHz)},
@@ -141,7 +136,7 @@ Json noiseJson(const Analysis &a)
                                       {"method", kBrickWallMethod}};
     else
         j["brick_wall_equivalent"] = nullptr;
-    j["at_hz"] = n.frequenciesHz.front();
+    j["at_hz"] = number(n.frequenciesHz.front());
     j["output_density"] = number(n.outputDensity.front());
     j["input_density"] = number(n.inputDensity.front());
     j["noise_gain"] = number(n.noiseGain.front());
@@ -196,10 +191,10 @@ std::string analysisToJson(const Analysis &a)
                     {"gain_margins_db", gainMargins}};
     Json poles = Json::array();
     for (const auto &p : a.poles)
-        poles.push_back({{"re", p.s.real()},
-                         {"im", p.s.imag()},
-                         {"f_n_hz", p.naturalHz},
-                         {"damping", p.damping},
+        poles.push_back({{"re", number(p.s.real())},
+                         {"im", number(p.s.imag())},
+                         {"f_n_hz", number(p.naturalHz)},
+                         {"damping", number(p.damping)},
                          {"q", number(p.q)}});
     j["closed_loop"]
         = {{"stable", a.stable},
@@ -243,14 +238,11 @@ std::string analysisToText(const Analysis &a)
               os << "  " << label;
               for (std::size_t i = label.size(); i < 26; ++i)
                   os << ' ';
-              if (!v) {
-                  os << "none\n";
+              if (!v || std::isnan(*v)) {
+                  os << "\u2014\n"; // the quantity does not exist
               } else if (unit == "%" || unit == "dB" || unit == "°") {
                   // Percentages, decibels and degrees read best without SI prefixes.
-                  std::ostringstream plain;
-                  plain.precision(std::abs(*v) < 1e-3 ? 2 : 5);
-                  plain << *v;
-                  os << plain.str() << " " << unit << "\n";
+                  os << formatPlain(*v, std::abs(*v) < 1e-3 ? 2 : 5) << " " << unit << "\n";
               } else {
                   os << formatEngineering(*v, 5, unit) << "\n";
               }
@@ -332,11 +324,9 @@ std::string analysisToText(const Analysis &a)
     show("gain margin", a.margins.gainMarginDb, "dB");
     if (a.margins.gainMargins.size() > 1) {
         for (const GainMargin &g : a.margins.gainMargins) {
-            std::ostringstream db;
-            db.precision(5);
-            db << g.db << " dB at " << formatEngineering(g.frequencyHz, 5, "Hz")
-               << where(g.frequencyHz);
-            row("  phase crossing", db.str());
+            row("  phase crossing",
+                formatPlain(g.db, 5) + " dB at " + formatEngineering(g.frequencyHz, 5, "Hz")
+                    + where(g.frequencyHz));
         }
     } else {
         frequency("phase crossover", a.margins.phaseCrossoverHz);
@@ -375,9 +365,7 @@ std::string analysisToText(const Analysis &a)
     if (a.noise && !a.noise->frequenciesHz.empty()) {
         const NoiseAnalysis &n = *a.noise;
         const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
-        std::ostringstream kelvin;
-        kelvin << n.temperatureK;
-        os << "\nNoise (" << kelvin.str() << " K)\n";
+        os << "\nNoise (" << formatPlain(n.temperatureK, 6) << " K)\n";
         if (a.stable) {
             show("output, rms", n.outputRms, outUnit);
             show("input-referred, rms", n.inputRms, inUnit);
@@ -410,12 +398,9 @@ std::string analysisToText(const Analysis &a)
         const double total = n.outputRms ? *n.outputRms * *n.outputRms : 0.0;
         for (std::size_t i = 0; i < order.size() && i < 3 && total > 0; ++i) {
             const double pct = 100.0 * order[i]->rms * order[i]->rms / total;
-            std::ostringstream share;
-            share.precision(pct < 1e-3 ? 2 : 4);
-            share << pct;
             line(i == 0 ? "largest sources" : "",
-                 noiseSourceLabel(*order[i]) + ": " + share.str() + " % of the power, "
-                     + formatEngineering(order[i]->rms, 5, outUnit) + " rms");
+                 noiseSourceLabel(*order[i]) + ": " + formatPlain(pct, pct < 1e-3 ? 2 : 4)
+                     + " % of the power, " + formatEngineering(order[i]->rms, 5, outUnit) + " rms");
         }
     } else if (!a.noiseProblem.empty()) {
         os << "\nNoise: " << a.noiseProblem << "\n";

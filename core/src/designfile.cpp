@@ -16,6 +16,7 @@
 #include <optional>
 #include <set>
 #include <system_error>
+#include <unordered_set>
 
 namespace loopsketch {
 
@@ -75,6 +76,94 @@ std::optional<std::size_t> firstInvalidUtf8(std::string_view s)
     return std::nullopt;
 }
 
+// Offset of the first control character (C0 other than tab, line feed and carriage return,
+// or DEL) outside a JSON string. The JSON parser stops quietly at a NUL between values, so
+// everything after it went unread; inside strings it rejects control characters itself and
+// names the field.
+std::optional<std::size_t> firstControlOutsideString(std::string_view s)
+{
+    bool inString = false, escaped = false;
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        const auto c = static_cast<unsigned char>(s[i]);
+        if (inString) {
+            if (escaped)
+                escaped = false;
+            else if (c == '\\')
+                escaped = true;
+            else if (c == '"')
+                inString = false;
+            continue;
+        }
+        if (c == '"')
+            inString = true;
+        else if ((c < 0x20 && c != '\t' && c != '\n' && c != '\r') || c == 0x7F)
+            return i;
+    }
+    return std::nullopt;
+}
+
+std::string controlName(char ch)
+{
+    static constexpr const char *kNames[32]
+        = {"NUL", "SOH", "STX", "ETX", "EOT", "ENQ", "ACK", "BEL", "BS",  "TAB", "LF",
+           "VT",  "FF",  "CR",  "SO",  "SI",  "DLE", "DC1", "DC2", "DC3", "DC4", "NAK",
+           "SYN", "ETB", "CAN", "EM",  "SUB", "ESC", "FS",  "GS",  "RS",  "US"};
+    const auto c = static_cast<unsigned char>(ch);
+    char code[8];
+    std::snprintf(code, sizeof code, "U+%04X", static_cast<unsigned>(c));
+    return std::string(code) + " (" + (c < 32 ? kNames[c] : "DEL") + ")";
+}
+
+// Characters (code points) of valid UTF-8 text.
+std::size_t utf8Length(std::string_view s)
+{
+    std::size_t n = 0;
+    for (const char ch : s)
+        n += (static_cast<unsigned char>(ch) & 0xC0) != 0x80;
+    return n;
+}
+
+// At most `chars` code points of `s`, with "…" when cut.
+std::string utf8Prefix(std::string_view s, std::size_t chars)
+{
+    std::size_t n = 0;
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        if ((static_cast<unsigned char>(s[i]) & 0xC0) != 0x80 && n++ == chars)
+            return std::string(s.substr(0, i)) + "\u2026";
+    }
+    return std::string(s);
+}
+
+// A key or id as messages show it: long ones cut, so that a hostile 100,000-character key
+// makes a short message, and control characters written as JSON escapes (\u0000), so that
+// none reaches the terminal.
+std::string escapedControls(std::string_view text)
+{
+    std::string out;
+    for (const char ch : text) {
+        const auto c = static_cast<unsigned char>(ch);
+        if (c < 0x20 || c == 0x7F) {
+            char esc[8];
+            std::snprintf(esc, sizeof esc, "\\u%04X", static_cast<unsigned>(c));
+            out += esc;
+        } else {
+            out += ch;
+        }
+    }
+    return out;
+}
+
+std::string shownKey(std::string_view key)
+{
+    return escapedControls(utf8Prefix(key, 40));
+}
+
+std::string shownId(std::string_view id)
+{
+    return escapedControls(utf8Length(id) <= kMaxPartIdChars ? std::string(id)
+                                                             : utf8Prefix(id, 16));
+}
+
 std::pair<std::size_t, std::size_t> lineColumn(std::string_view text, std::size_t offset)
 {
     std::size_t line = 1, column = 1;
@@ -96,23 +185,25 @@ struct Location
     std::string field;
 };
 
-// SAX pass: syntax, duplicate keys, nesting depth. Builds nothing.
-class StructureCheck final : public nlohmann::json_sax<Json>
+// SAX pass: syntax, duplicate keys, nesting depth, and the DOM. nlohmann's own DOM builder
+// inserts every key through ordered_map's linear search, so an object of n keys took
+// O(n^2) time; here keys are appended directly (duplicates are caught by a hash set first).
+class DomBuilder final : public nlohmann::json_sax<Json>
 {
 public:
-    StructureCheck(std::string_view text, std::string_view file) : m_text(text), m_file(file) { }
+    DomBuilder(std::string_view text, std::string_view file) : m_text(text), m_file(file) { }
 
-    bool null() override { return scalar(); }
-    bool boolean(bool) override { return scalar(); }
-    bool number_integer(number_integer_t) override { return scalar(); }
-    bool number_unsigned(number_unsigned_t) override { return scalar(); }
-    bool number_float(number_float_t, const string_t &) override { return scalar(); }
-    bool binary(binary_t &) override { return scalar(); }
+    bool null() override { return scalar(Json(nullptr)); }
+    bool boolean(bool v) override { return scalar(Json(v)); }
+    bool number_integer(number_integer_t v) override { return scalar(Json(v)); }
+    bool number_unsigned(number_unsigned_t v) override { return scalar(Json(v)); }
+    bool number_float(number_float_t v, const string_t &) override { return scalar(Json(v)); }
+    bool binary(binary_t &) override { return scalar(Json(nullptr)); }
     bool string(string_t &val) override
     {
         if (!m_frames.empty() && m_frames.back().object && m_frames.back().key == "id")
             m_frames.back().id = val;
-        return scalar();
+        return scalar(Json(std::move(val)));
     }
     bool start_object(std::size_t) override { return push(true); }
     bool end_object() override { return pop(); }
@@ -151,19 +242,43 @@ public:
     }
 
     const Diagnostics &diagnostics() const { return m_diagnostics; }
+    Json takeRoot() { return std::move(m_root); }
 
 private:
     struct Frame
     {
         bool object = false;
+        Json *value = nullptr; ///< the object or array being filled
         std::string key; ///< the key being read (objects)
         std::size_t index = 0; ///< the element being read (arrays)
-        std::set<std::string> keys;
+        std::unordered_set<std::string> keys;
         std::string id; ///< value of an "id" key, to name parts in messages
     };
 
-    bool scalar()
+    // Places a finished or opened value where the document is now; returns it. Elements are
+    // only ever appended to the innermost open container, so the pointers on the stack stay
+    // valid.
+    Json *place(Json &&v)
     {
+        if (m_frames.empty()) {
+            m_root = std::move(v);
+            return &m_root;
+        }
+        Frame &f = m_frames.back();
+        if (f.object) {
+            auto &items
+                = static_cast<Json::object_t::Container &>(f.value->get_ref<Json::object_t &>());
+            items.emplace_back(f.key, std::move(v));
+            return &items.back().second;
+        }
+        auto &items = f.value->get_ref<Json::array_t &>();
+        items.push_back(std::move(v));
+        return &items.back();
+    }
+
+    bool scalar(Json &&v)
+    {
+        place(std::move(v));
         advance();
         return true;
     }
@@ -189,7 +304,8 @@ private:
                  "JSON nested deeper than " + std::to_string(kMaxNesting) + " levels"});
             return false;
         }
-        m_frames.push_back({object, {}, 0, {}, {}});
+        Json *v = place(object ? Json(Json::value_t::object) : Json(Json::value_t::array));
+        m_frames.push_back({object, v, {}, 0, {}, {}});
         return true;
     }
     bool pop()
@@ -207,7 +323,7 @@ private:
         if (m_frames.size() >= 3 && m_frames[0].object && m_frames[0].key == "parts"
             && !m_frames[1].object && m_frames[2].object) {
             at.part = m_frames[2].id.empty() ? "#" + std::to_string(m_frames[1].index + 1)
-                                             : m_frames[2].id;
+                                             : shownId(m_frames[2].id);
             first = 2;
         }
         for (std::size_t i = first; i < m_frames.size(); ++i) {
@@ -215,7 +331,7 @@ private:
             if (f.object) {
                 if (f.key.empty())
                     break;
-                at.field += (at.field.empty() ? "" : ".") + f.key;
+                at.field += (at.field.empty() ? "" : ".") + shownKey(f.key);
             } else {
                 at.field += "[" + std::to_string(f.index) + "]";
             }
@@ -226,6 +342,7 @@ private:
     std::string_view m_text;
     std::string_view m_file;
     std::vector<Frame> m_frames;
+    Json m_root;
     Diagnostics m_diagnostics;
 };
 
@@ -260,12 +377,15 @@ public:
         error(part, field, "expected " + std::string(expected) + ", found " + found);
     }
 
-    // Reports every key of `obj` not in `allowed`. `where` names the object for keys outside
-    // a part ("sweep", "specs" ...).
+    // Reports the keys of `obj` not in `allowed` in one message: the first kUnknownKeysNamed
+    // of them by name, then their count. `where` names the object for keys outside a part
+    // ("sweep", "specs" ...).
     void checkKeys(const Json &obj, std::initializer_list<std::string_view> allowed,
                    const std::string &part, const std::string &where,
                    const std::vector<std::string_view> &more = {})
     {
+        std::size_t unknown = 0;
+        std::string named;
         for (auto it = obj.begin(); it != obj.end(); ++it) {
             const std::string &k = it.key();
             bool known = false;
@@ -273,8 +393,19 @@ public:
                 known = known || a == k;
             for (std::string_view a : more)
                 known = known || a == k;
-            if (!known)
-                error(part, where, "unknown key " + inQuotes(k) + placeOf(part, where));
+            if (known)
+                continue;
+            if (++unknown <= kUnknownKeysNamed)
+                named += (named.empty() ? "" : ", ") + inQuotes(shownKey(k));
+        }
+        if (unknown == 1) {
+            error(part, where, "unknown key " + named + placeOf(part, where));
+        } else if (unknown > 1) {
+            error(part, where,
+                  std::to_string(unknown) + " unknown keys" + placeOf(part, where) + ": " + named
+                      + (unknown > kUnknownKeysNamed
+                             ? " and " + std::to_string(unknown - kUnknownKeysNamed) + " more"
+                             : std::string()));
         }
     }
 
@@ -319,6 +450,16 @@ public:
             typeError(part, field, j, "a list of frequencies");
             return out;
         }
+        // refused before reading: validateDesign would refuse the list anyway
+        const std::size_t limit
+            = field == "poles_hz" ? kMaxPolesPerGainBlock : kMaxZerosPerGainBlock;
+        if (j.size() > limit) {
+            error(part, field,
+                  "the gain block has " + std::to_string(j.size()) + " "
+                      + (field == "poles_hz" ? "poles" : "zeros") + "; at most "
+                      + std::to_string(limit) + " are allowed");
+            return out;
+        }
         for (const Json &e : j) {
             if (auto v = readValue(e, kind, part, field))
                 out.push_back(*v);
@@ -338,6 +479,12 @@ public:
             error(label, "id", "part has no id");
         } else if (auto id = readString(*it, label, "id")) {
             part.id = *id;
+            if (const std::size_t n = utf8Length(*id); n > kMaxPartIdChars) {
+                error(label + " (" + shownId(*id) + ")", "id",
+                      "the id is " + std::to_string(n) + " characters long; at most "
+                          + std::to_string(kMaxPartIdChars) + " are allowed");
+                return std::nullopt;
+            }
             if (!id->empty())
                 label = *id;
         }
@@ -523,6 +670,12 @@ public:
     {
         if (!j.is_array()) {
             typeError("", "candidates", j, "a list of candidates");
+            return;
+        }
+        if (j.size() > kMaxCandidates) {
+            error("", "candidates",
+                  "the design has " + std::to_string(j.size()) + " candidates; at most "
+                      + std::to_string(kMaxCandidates) + " are allowed");
             return;
         }
         for (std::size_t i = 0; i < j.size(); ++i) {
@@ -808,16 +961,21 @@ Result<Design> parseDesign(std::string_view text, std::string_view file)
                               + std::to_string(line) + ", column " + std::to_string(column)
                               + "): design files are UTF-8 text"};
     }
-    StructureCheck check(text, file);
-    const bool syntaxOk = Json::sax_parse(text.begin(), text.end(), &check);
-    if (!check.diagnostics().empty())
-        return check.diagnostics();
+    if (auto bad = firstControlOutsideString(text)) {
+        const auto [line, column] = lineColumn(text, *bad);
+        return Diagnostic{fileName, "", "",
+                          "control character " + controlName(text[*bad]) + " at byte offset "
+                              + std::to_string(*bad) + " (line " + std::to_string(line)
+                              + ", column " + std::to_string(column)
+                              + "): design files are JSON text"};
+    }
+    DomBuilder builder(text, file);
+    const bool syntaxOk = Json::sax_parse(text.begin(), text.end(), &builder);
+    if (!builder.diagnostics().empty())
+        return builder.diagnostics();
     if (!syntaxOk)
         return Diagnostic{fileName, "", "", "invalid JSON"};
-
-    const Json root = Json::parse(text.begin(), text.end(), nullptr, false);
-    if (root.is_discarded())
-        return Diagnostic{fileName, "", "", "invalid JSON"};
+    const Json root = builder.takeRoot();
 
     Reader reader(file);
     std::optional<Design> design = reader.readDesign(root);

@@ -388,6 +388,66 @@ void checkSketch(const Design &d, Checker &c)
     }
 }
 
+std::size_t utf8Length(std::string_view s)
+{
+    std::size_t n = 0;
+    for (const char ch : s)
+        n += (static_cast<unsigned char>(ch) & 0xC0) != 0x80;
+    return n;
+}
+
+std::string utf8Prefix(std::string_view s, std::size_t chars)
+{
+    std::size_t n = 0;
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        if ((static_cast<unsigned char>(s[i]) & 0xC0) != 0x80 && n++ == chars)
+            return std::string(s.substr(0, i)) + "\u2026";
+    }
+    return std::string(s);
+}
+
+std::string tooLong(std::string_view what, std::size_t length, std::size_t limit,
+                    std::string_view unit)
+{
+    return std::string(what) + " is " + std::to_string(length) + " " + std::string(unit)
+        + " long; at most " + std::to_string(limit) + " are allowed";
+}
+
+// The size limits of limits.h. Checked first: a part id of 100,000 characters must not
+// reach the other messages, which name parts by id.
+void checkLimits(const Design &d, Checker &c)
+{
+    if (const std::size_t n = utf8Length(d.title); n > kMaxTitleChars)
+        c.add("", "title", tooLong("the title", n, kMaxTitleChars, "characters"));
+    if (d.notes.size() > kMaxNotesBytes)
+        c.add("", "notes",
+              tooLong("the notes text", d.notes.size(), kMaxNotesBytes, "bytes") + " (64 KiB)");
+    for (std::size_t i = 0; i < d.parts.size(); ++i) {
+        const Part &p = d.parts[i];
+        if (const std::size_t n = utf8Length(p.id); n > kMaxPartIdChars) {
+            c.add("#" + std::to_string(i + 1) + " (" + utf8Prefix(p.id, 16) + ")", "id",
+                  tooLong("the id", n, kMaxPartIdChars, "characters"));
+        }
+        if (p.polesHz.size() > kMaxPolesPerGainBlock)
+            c.add(utf8Prefix(p.id, kMaxPartIdChars), "poles_hz",
+                  "the gain block has " + std::to_string(p.polesHz.size()) + " poles; at most "
+                      + std::to_string(kMaxPolesPerGainBlock) + " are allowed");
+        if (p.zerosHz.size() > kMaxZerosPerGainBlock)
+            c.add(utf8Prefix(p.id, kMaxPartIdChars), "zeros_hz",
+                  "the gain block has " + std::to_string(p.zerosHz.size()) + " zeros; at most "
+                      + std::to_string(kMaxZerosPerGainBlock) + " are allowed");
+    }
+    if (d.candidates.size() > kMaxCandidates)
+        c.add("", "candidates",
+              "the design has " + std::to_string(d.candidates.size()) + " candidates; at most "
+                  + std::to_string(kMaxCandidates) + " are allowed");
+    for (std::size_t i = 0; i < d.candidates.size() && i < kMaxCandidates; ++i) {
+        if (const std::size_t n = utf8Length(d.candidates[i].name); n > kMaxCandidateNameChars)
+            c.add("", "candidates[" + std::to_string(i) + "].name",
+                  tooLong("the candidate name", n, kMaxCandidateNameChars, "characters"));
+    }
+}
+
 } // namespace
 
 Diagnostics validateDesign(const Design &design, std::string_view file)
@@ -399,6 +459,9 @@ Diagnostics validateDesign(const Design &design, std::string_view file)
                   + std::to_string(kMaxParts) + " are allowed");
         return c.take();
     }
+    checkLimits(design, c);
+    if (Diagnostics limits = c.take(); !limits.empty())
+        return limits;
     checkParts(design, c);
     checkConnectivity(design, c);
     checkRoles(design, c);

@@ -1,6 +1,9 @@
 #include "loopsketch/spread.h"
 
 #include "loopsketch/value.h"
+#include "loopsketch/workbudget.h"
+
+#include "jsonnumber.h"
 
 #include <nlohmann/json.hpp>
 
@@ -158,6 +161,11 @@ Result<SpreadSetup> prepareSpread(const Design &design, const SpreadOptions &opt
     auto grid = nominalGrid(design, options, file);
     if (!grid)
         return grid.diagnostics();
+    if (auto over
+        = checkRepeatedBudget(design, file, 1, trialOperations(circuitSize(design), grid->size()),
+                              "the nominal trial", "", "parts");
+        !over.empty())
+        return over;
     auto nominal = evaluateTrial(design, *grid);
     if (!nominal)
         return nominal.diagnostics();
@@ -296,6 +304,13 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
     const std::vector<SpreadQuantity> &q = r.quantities;
     const std::size_t n = q.size();
     r.exhaustive = n <= static_cast<std::size_t>(kMaxVertexQuantities);
+    // every vertex, or two probes per quantity and a corner pair per metric
+    const std::size_t evaluations = r.exhaustive ? std::size_t{1} << n : 2 * n + 6;
+    if (auto over = checkRepeatedBudget(
+            design, file, evaluations, trialOperations(circuitSize(design), grid.size()),
+            "the worst case", "reduce the toleranced parts", "tolerance");
+        !over.empty())
+        return over;
 
     // The corners to evaluate: every vertex, or the sensitivity corners.
     std::vector<std::vector<int>> corners;
@@ -390,6 +405,11 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
         return prepared.diagnostics();
     SpreadSetup setup = std::move(prepared).value();
     const std::vector<double> &grid = setup.grid;
+    if (auto over = checkRepeatedBudget(design, file, static_cast<std::size_t>(options.trials),
+                                        trialOperations(circuitSize(design), grid.size()),
+                                        "the Monte Carlo run", "reduce the trials", "trials");
+        !over.empty())
+        return over;
 
     MonteCarloResult r;
     r.quantities = std::move(setup.quantities);
@@ -452,9 +472,7 @@ namespace {
 
 Json number(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
-        return nullptr;
-    return *v;
+    return detail::jsonNumber(v);
 }
 
 Json statsJson(const MetricStats &s)
@@ -491,20 +509,16 @@ std::string quantityText(const SpreadQuantity &q)
 
 std::string numberText(const OptionalNumber &v, std::string_view unit)
 {
-    if (!v || !std::isfinite(*v))
+    if (!v || std::isnan(*v))
         return "none";
     return formatEngineering(*v, 4, unit);
 }
 
 std::string degreesText(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
+    if (!v || std::isnan(*v))
         return "none";
-    std::ostringstream os;
-    os.setf(std::ios::fixed);
-    os.precision(2);
-    os << *v << " deg";
-    return os.str();
+    return formatFixed(*v, 2) + " deg";
 }
 
 } // namespace

@@ -1,6 +1,9 @@
 #include "loopsketch/suggest.h"
 
 #include "loopsketch/value.h"
+#include "loopsketch/workbudget.h"
+
+#include "jsonnumber.h"
 
 #include <nlohmann/json.hpp>
 
@@ -155,7 +158,8 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
 
     SuggestResult r;
     r.ranges = std::move(ranges).value();
-    r.targetGain = (design.specs.gainMin->si + design.specs.gainMax->si) / 2.0;
+    // halves first: a window near the largest double must not overflow to infinity
+    r.targetGain = design.specs.gainMin->si / 2.0 + design.specs.gainMax->si / 2.0;
     r.combinations = 1;
     for (const auto &range : r.ranges) {
         r.combinations *= range.values.size();
@@ -167,6 +171,17 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
     const std::vector<double> grid = coarseGrid(design.sweep, o.pointsPerDecade);
     if (grid.size() < 2)
         return error(file, {}, "sweep", "the sweep has no frequency range to evaluate");
+    // Up front: the DC gain of every combination, then at least `best` full trials.
+    const CircuitSize size = circuitSize(design);
+    const double dcOps = dcGainOperations(size), trialOps = trialOperations(size, grid.size());
+    const auto combinations = static_cast<double>(r.combinations);
+    if (auto over = checkRepeatedBudget(
+            design, file, r.combinations,
+            dcOps + trialOps * std::min(static_cast<double>(o.best), combinations) / combinations,
+            "the search", "narrow the ranges or pick fewer parts, bringing the combinations",
+            "parts");
+        !over.empty())
+        return over;
 
     const int workers = detail::workerCount(o.threads, r.combinations);
     struct Workspace
@@ -227,6 +242,13 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
                       });
     const std::size_t inWindow = chosen.size();
     chosen.insert(chosen.end(), rest.begin(), rest.begin() + static_cast<std::ptrdiff_t>(extra));
+    // After pruning: the full trials that will actually run.
+    if (auto over = checkRepeatedBudget(
+            design, file, chosen.size(), trialOps,
+            "evaluating the " + std::to_string(inWindow) + " combinations inside the gain window",
+            "narrow the gain window or the ranges, bringing them", "specs.gain");
+        !over.empty())
+        return over;
 
     // Stage 2: every metric of the chosen combinations.
     std::vector<TrialMetrics> metrics(chosen.size());
@@ -255,7 +277,7 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
             left /= range.values.size();
         }
         s.metrics = metrics[i];
-        if (s.metrics.gain && r.targetGain != 0)
+        if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
             s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
         s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
         s.meetsSpecs = s.specs.all();
@@ -282,9 +304,7 @@ namespace {
 
 Json number(const OptionalNumber &v)
 {
-    if (!v || !std::isfinite(*v))
-        return nullptr;
-    return *v;
+    return detail::jsonNumber(v);
 }
 
 } // namespace
@@ -294,7 +314,7 @@ std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
     Json j;
     j["schema"] = "loopsketch.suggest/1";
     j["gain_unit"] = gainUnit;
-    j["target_gain"] = r.targetGain;
+    j["target_gain"] = number(r.targetGain);
     Json ranges = Json::array();
     for (const auto &range : r.ranges)
         ranges.push_back({{"part", range.part},
@@ -357,22 +377,14 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
         os << "\n   gain "
            << (s.metrics.gain ? formatEngineering(*s.metrics.gain, 5, gainUnit) : "none");
         if (s.gainErrorPct) {
-            std::ostringstream e;
-            e.setf(std::ios::fixed);
-            e.precision(3);
-            e << *s.gainErrorPct;
-            os << " (" << e.str() << " %)";
+            os << " (" << formatFixed(*s.gainErrorPct, 3) << " %)";
         }
         os << ", bandwidth "
            << (s.metrics.bandwidthHz ? formatEngineering(*s.metrics.bandwidthHz, 3, "Hz")
                                      : "above the sweep");
         os << ", phase margin ";
         if (s.metrics.phaseMarginDeg) {
-            std::ostringstream p;
-            p.setf(std::ios::fixed);
-            p.precision(1);
-            p << *s.metrics.phaseMarginDeg << " deg";
-            os << p.str();
+            os << formatFixed(*s.metrics.phaseMarginDeg, 1) << " deg";
         } else {
             os << "none";
         }

@@ -7,6 +7,7 @@
 #include <cstddef>
 #include <limits>
 #include <optional>
+#include <sstream>
 #include <string>
 #include <system_error>
 
@@ -428,10 +429,42 @@ std::string unitSymbol(ValueKind kind)
     return "";
 }
 
-std::string formatEngineering(double value, int significantDigits, std::string_view unit)
+std::string nonFiniteText(double value)
+{
+    if (std::isnan(value))
+        return std::string(kNoValue);
+    if (std::isinf(value))
+        return value > 0 ? "\u221E" : "-\u221E";
+    return {};
+}
+
+std::string formatPlain(double value, int precision)
 {
     if (!std::isfinite(value))
+        return nonFiniteText(value);
+    std::ostringstream os;
+    os.precision(precision);
+    os << value;
+    return os.str();
+}
+
+std::string formatFixed(double value, int decimals)
+{
+    if (!std::isfinite(value))
+        return nonFiniteText(value);
+    std::ostringstream os;
+    os.setf(std::ios::fixed);
+    os.precision(decimals);
+    os << value;
+    return os.str();
+}
+
+std::string formatEngineering(double value, int significantDigits, std::string_view unit)
+{
+    if (std::isnan(value))
         return std::string(kNoValue);
+    if (std::isinf(value))
+        return nonFiniteText(value) + (unit.empty() ? "" : " " + std::string(unit));
     const std::string unitText(unit);
     if (value == 0.0)
         return unit.empty() ? "0" : "0 " + unitText;
@@ -453,8 +486,10 @@ std::string formatEngineering(double value, int significantDigits, std::string_v
 
 std::string formatValue(double value, ValueKind kind, int significantDigits)
 {
-    if (!std::isfinite(value))
+    if (std::isnan(value))
         return std::string(kNoValue);
+    if (std::isinf(value))
+        return formatEngineering(value, significantDigits, unitSymbol(kind));
     switch (kind) {
     case ValueKind::Tolerance: {
         // Percent without a space ("1%"), the way tolerances are printed on parts and in

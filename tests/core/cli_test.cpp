@@ -9,6 +9,8 @@
 #include "loopsketch/suggest.h"
 #include "loopsketch/value.h"
 
+#include "malformedcorpus.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 #include <nlohmann/json.hpp>
@@ -40,7 +42,7 @@ namespace {
 
 const fs::path kCli = LOOPSKETCH_CLI;
 const fs::path kDesignsDir = LOOPSKETCH_DESIGNS_DIR;
-const fs::path kMalformedDir = fs::path(LOOPSKETCH_TEST_DATA_DIR) / "malformed";
+using test::kMalformedDir;
 
 class TempDir
 {
@@ -177,27 +179,8 @@ std::string testName(const std::string &file)
 
 // ----- malformed files --------------------------------------------------------------------
 
-struct MalformedCase
-{
-    std::string file;
-    std::string expected;
-};
-
-std::vector<MalformedCase> malformedCases()
-{
-    std::vector<MalformedCase> cases;
-    std::ifstream in(kMalformedDir / "expected.tsv");
-    std::string line;
-    while (std::getline(in, line)) {
-        if (line.empty() || line.front() == '#')
-            continue;
-        const auto tab = line.find('\t');
-        if (tab == std::string::npos)
-            continue;
-        cases.push_back({line.substr(0, tab), line.substr(tab + 1)});
-    }
-    return cases;
-}
+using test::MalformedCase;
+using test::malformedCases;
 
 class CliMalformed : public ::testing::TestWithParam<MalformedCase>
 {
@@ -234,8 +217,8 @@ INSTANTIATE_TEST_SUITE_P(Files, CliMalformed, ::testing::ValuesIn(malformedCases
 
 TEST(Cli, MalformedListCoversTheDirectory)
 {
-    const auto cases = malformedCases();
-    EXPECT_GE(cases.size(), 40u);
+    const auto cases = malformedCases(false);
+    EXPECT_GE(cases.size(), 150u);
     std::size_t files = 0;
     for (const auto &e : fs::directory_iterator(kMalformedDir))
         files += e.path().extension() == ".loopsketch";

@@ -6,6 +6,8 @@
 #include "loopsketch/design.h"
 #include "loopsketch/designfile.h"
 
+#include "malformedcorpus.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -26,7 +28,7 @@ namespace fs = std::filesystem;
 
 namespace {
 
-const fs::path kMalformedDir = fs::path(LOOPSKETCH_TEST_DATA_DIR) / "malformed";
+using test::kMalformedDir;
 const fs::path kDesignsDir = fs::path(LOOPSKETCH_DESIGNS_DIR);
 
 std::string readBytes(const fs::path &p)
@@ -63,32 +65,8 @@ std::string replaced(std::string text, std::string_view from, std::string_view t
     return text;
 }
 
-struct MalformedCase
-{
-    std::string file;
-    std::string expected;
-};
-
-void PrintTo(const MalformedCase &c, std::ostream *os)
-{
-    *os << c.file;
-}
-
-std::vector<MalformedCase> malformedCases()
-{
-    std::vector<MalformedCase> cases;
-    std::ifstream in(kMalformedDir / "expected.tsv");
-    std::string line;
-    while (std::getline(in, line)) {
-        if (line.empty() || line[0] == '#')
-            continue;
-        const auto tab = line.find('\t');
-        if (tab == std::string::npos)
-            continue;
-        cases.push_back({line.substr(0, tab), line.substr(tab + 1)});
-    }
-    return cases;
-}
+using test::MalformedCase;
+using test::malformedCases;
 
 std::vector<std::string> exampleDesigns()
 {
@@ -136,8 +114,8 @@ TEST(DesignFile, BaseOfMalformedFilesIsValid)
 
 TEST(DesignFile, MalformedSetIsComplete)
 {
-    const auto cases = malformedCases();
-    EXPECT_GE(cases.size(), 24u);
+    const auto cases = malformedCases(false);
+    EXPECT_GE(cases.size(), 150u);
     std::size_t files = 0;
     for (const auto &e : fs::directory_iterator(kMalformedDir))
         files += e.path().extension() == ".loopsketch" ? 1 : 0;
@@ -172,12 +150,22 @@ TEST_P(MalformedFile, IsRejectedNamingWhere)
 }
 
 INSTANTIATE_TEST_SUITE_P(Files, MalformedFile, ::testing::ValuesIn(malformedCases()),
-                         [](const auto &row) {
-                             std::string name = row.param.file.substr(0, row.param.file.find('.'));
-                             for (char &ch : name)
-                                 ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
-                             return name;
-                         });
+                         [](const auto &row) { return test::caseName(row.param.file); });
+
+// The corpus's hostile but valid files (limits reached exactly, numbers at the edge of double,
+// an ideal source) load.
+TEST(DesignFile, HostileButValidFilesLoad)
+{
+    std::size_t valid = 0;
+    for (const MalformedCase &c : malformedCases(false)) {
+        if (c.exitCode != 0)
+            continue;
+        ++valid;
+        const auto loaded = loadDesign((kMalformedDir / c.file).string());
+        EXPECT_TRUE(loaded.ok()) << c.file << ": " << loaded.errorText();
+    }
+    EXPECT_GE(valid, 10u);
+}
 
 class ExampleDesign : public ::testing::TestWithParam<std::string>
 {

@@ -322,8 +322,15 @@ TEST(Value, EngineeringNotationKeepsSignZeroAndHidesNonFinite)
     EXPECT_EQ(formatEngineering(0.0, 3, "F"), "0 F");
     EXPECT_EQ(formatEngineering(std::nan("")), kEmDash);
     EXPECT_EQ(formatEngineering(std::nan(""), 3, "F"), kEmDash);
-    EXPECT_EQ(formatEngineering(HUGE_VAL), kEmDash);
-    EXPECT_EQ(formatEngineering(-HUGE_VAL), kEmDash);
+    // an infinite quantity (an open input) is shown as one, never as a printf "inf"
+    EXPECT_EQ(formatEngineering(HUGE_VAL), "\u221E");
+    EXPECT_EQ(formatEngineering(-HUGE_VAL, 3, "Ω"), "-\u221E Ω");
+    EXPECT_EQ(formatPlain(std::nan("")), kEmDash);
+    EXPECT_EQ(formatPlain(-HUGE_VAL), "-\u221E");
+    EXPECT_EQ(formatPlain(12.5, 3), "12.5");
+    EXPECT_EQ(formatFixed(-std::nan(""), 3), kEmDash);
+    EXPECT_EQ(formatFixed(HUGE_VAL, 1), "\u221E");
+    EXPECT_EQ(formatFixed(-0.5, 3), "-0.500");
 }
 
 TEST(Value, EngineeringNotationOutsidePrefixRangeFallsBackToExponent)
@@ -368,7 +375,7 @@ TEST(Value, FormatsValuesOfEachKind)
     EXPECT_EQ(formatValue(0.0, ValueKind::Tolerance), "0%");
     EXPECT_EQ(formatValue(std::nan(""), ValueKind::Tolerance), kEmDash);
     EXPECT_EQ(formatValue(std::nan(""), ValueKind::Gain), kEmDash);
-    EXPECT_EQ(formatValue(HUGE_VAL, ValueKind::Resistance), kEmDash);
+    EXPECT_EQ(formatValue(HUGE_VAL, ValueKind::Resistance), "\u221E Ω");
 }
 
 TEST(Value, UnitSymbols)

@@ -15,7 +15,7 @@ cmake -S "$src" -B "$build" -G Ninja -DCMAKE_BUILD_TYPE=Release \
     -DCMAKE_CXX_FLAGS="-g -fsanitize=fuzzer-no-link,address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer" \
     -DLOOPSKETCH_BUILD_FUZZERS=ON -DLOOPSKETCH_BUILD_TESTS=OFF \
     -DLOOPSKETCH_BUILD_GUI=OFF -DLOOPSKETCH_BUILD_BENCHMARKS=OFF >/dev/null
-cmake --build "$build" -j"$jobs" --target design_fuzzer value_fuzzer
+cmake --build "$build" -j"$jobs" --target design_fuzzer value_fuzzer cli_fuzzer
 
 mkdir -p "$build/logs"
 for target in design_fuzzer value_fuzzer; do
@@ -32,10 +32,21 @@ for v in 4k7 R47 2M2 1R0 4n7 2p2 "10 kΩ" "2.2 µF" "1.5 MHz" 100dB -230k 1% 0.5
     printf '%s' "$v" >"$build/corpus/value_fuzzer/seed-$i"
 done
 
+# Argument lists (NUL between arguments) near the real ones.
+mkdir -p "$build/corpus/cli_fuzzer" "$build/artifacts/cli_fuzzer"
+i=0
+for a in "analyze|demo|--json" "sweep|demo|--csv|out.csv" "spread|demo|--trials|400|--seed|17" \
+    "suggest|demo|--parts|RF,CF|--decades|2|--best|5" "export|demo|--pdf|a.pdf|--svg|dir" \
+    "--help" "--version" "analyze|demo|--candidate|Fast|--out|-"; do
+    i=$((i + 1))
+    printf '%s' "$a" | tr '|' '\000' >"$build/corpus/cli_fuzzer/seed-$i"
+done
+
 pids=""
-for target in design_fuzzer value_fuzzer; do
+for target in design_fuzzer value_fuzzer cli_fuzzer; do
     maxlen=65536
     [ "$target" = value_fuzzer ] && maxlen=256
+    [ "$target" = cli_fuzzer ] && maxlen=1024
     "$build/tests/fuzz/$target" -max_total_time="$duration" -max_len="$maxlen" -timeout=10 \
         -rss_limit_mb=2048 -print_final_stats=1 \
         -artifact_prefix="$build/artifacts/$target/" "$build/corpus/$target" \
@@ -46,7 +57,7 @@ status=0
 for pid in $pids; do
     wait "$pid" || status=1
 done
-for target in design_fuzzer value_fuzzer; do
+for target in design_fuzzer value_fuzzer cli_fuzzer; do
     echo "== $target"
     grep -E '^stat::number_of_executed_units|^stat::peak_rss_mb|ERROR|SUMMARY' \
         "$build/logs/$target.log" || true

@@ -3,6 +3,7 @@
 // Reading and writing design files (schema loopsketch.design/1, JSON, ".loopsketch").
 
 #include "loopsketch/design.h"
+#include "loopsketch/limits.h"
 #include "loopsketch/result.h"
 
 #include <cstddef>
@@ -10,10 +11,6 @@
 #include <string_view>
 
 namespace loopsketch {
-
-inline constexpr std::size_t kMaxDesignFileBytes = 16u * 1024u * 1024u;
-inline constexpr std::size_t kMaxParts = 10000;
-inline constexpr std::size_t kMaxSweepPoints = 10000;
 
 /// Parses design JSON text. `file` names the source in diagnostics. Rejects unknown keys,
 /// duplicate keys, invalid UTF-8, truncated JSON, text over kMaxDesignFileBytes, more than

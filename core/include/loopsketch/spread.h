@@ -4,6 +4,7 @@
 // gain, bandwidth and phase margin. Worst case by corners, and Monte Carlo.
 
 #include "loopsketch/design.h"
+#include "loopsketch/limits.h"
 #include "loopsketch/result.h"
 #include "loopsketch/trialmetrics.h"
 
@@ -15,10 +16,6 @@
 #include <vector>
 
 namespace loopsketch {
-
-/// Corner count up to which worstCase() enumerates every vertex (2^12 = 4096 corners).
-inline constexpr int kMaxVertexQuantities = 12;
-inline constexpr int kMaxTrials = 1'000'000;
 
 enum class SpreadDistribution {
     Uniform, ///< uniform over nominal * (1 +- tolerance)

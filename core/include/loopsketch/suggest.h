@@ -5,6 +5,7 @@
 
 #include "loopsketch/design.h"
 #include "loopsketch/eseries.h"
+#include "loopsketch/limits.h"
 #include "loopsketch/result.h"
 #include "loopsketch/trialmetrics.h"
 
@@ -17,8 +18,6 @@
 #include <vector>
 
 namespace loopsketch {
-
-inline constexpr std::size_t kMaxCombinations = 1'000'000;
 
 struct SuggestOptions
 {

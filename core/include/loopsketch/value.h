@@ -43,8 +43,20 @@ std::string unitSymbol(ValueKind kind);
 /// Engineering notation: the SI prefix is chosen so that 1 to 3 digits stand before the
 /// point ("4.7 kΩ", "220 kΩ", "1.5 pF", "30 MHz"), with `significantDigits` digits,
 /// trailing zeros dropped. `unit` empty gives the bare number with prefix ("4.7k").
-/// Zero prints as "0", non-finite values as "—" (never "nan" or "inf").
+/// Zero prints as "0", NaN (a quantity that does not exist) as "—", infinity (an open input,
+/// an ideal source) as "∞" or "-∞" with the unit; never "nan" or "inf".
 std::string formatEngineering(double value, int significantDigits = 3, std::string_view unit = {});
+
+/// A plain number with `precision` significant digits, no prefix (percentages, decibels,
+/// degrees): "—" for NaN, "∞" / "-∞" for infinities, never "nan" or "inf".
+std::string formatPlain(double value, int precision = 5);
+
+/// Fixed-point text with `decimals` digits after the point ("12.300"); "—", "∞" or "-∞" for
+/// non-finite values.
+std::string formatFixed(double value, int decimals);
+
+/// The text of a non-finite value: "—" for NaN, "∞" or "-∞"; empty for a finite value.
+std::string nonFiniteText(double value);
 
 /// Formats a value of `kind` with its unit symbol (Tolerance as percent, Gain as V/V).
 std::string formatValue(double value, ValueKind kind, int significantDigits = 3);

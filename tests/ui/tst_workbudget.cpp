@@ -1,0 +1,54 @@
+// The window refuses oversized work with the same message as the command line (issue 14:
+// bounded work, said up front): the document's recomputation reports core's diagnostic.
+
+#ifndef LOOPSKETCH_TEST_DATA_DIR
+#define LOOPSKETCH_TEST_DATA_DIR ""
+#endif
+#include "../core/hostilecorpus.h"
+
+#include "designdocument.h"
+#include "qtadapter.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/designfile.h"
+
+#include <QSignalSpy>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+using ::testing::HasSubstr;
+
+namespace {
+
+void expectSameRefusal(std::size_t resistors, const std::string &expected)
+{
+    auto design = parseDesign(test::hostileDesign(test::resistorNetwork(resistors, true)), "chain");
+    ASSERT_TRUE(design.ok()) << design.errorText();
+    const auto cli = analyze(*design, "chain.loopsketch");
+    ASSERT_FALSE(cli.ok());
+    EXPECT_THAT(cli.errorText(), HasSubstr(expected));
+
+    DesignDocument document;
+    QSignalSpy spy(&document, &DesignDocument::diagnosticsChanged);
+    document.reset(*design, QStringLiteral("chain.loopsketch"));
+    document.recomputeNow();
+    ASSERT_GE(spy.count(), 1);
+    const QString shown = spy.last().at(0).toString();
+    EXPECT_EQ(toStdString(shown), cli.errorText());
+    EXPECT_EQ(document.analysis(), nullptr);
+}
+
+TEST(WindowWorkBudget, TooManyUnknownsGiveTheCommandLinesMessage)
+{
+    expectSameRefusal(2100, "the circuit has 2104 unknowns");
+}
+
+TEST(WindowWorkBudget, TooMuchWorkGivesTheCommandLinesMessage)
+{
+    expectSameRefusal(400, "the analysis would take about");
+}
+
+} // namespace
