@@ -91,6 +91,15 @@ void Readout::setCell(int index, const QString &title, const QString &value, con
         c.value->setStyleSheet(style);
 }
 
+void Readout::showUnavailable(const QString &reason)
+{
+    if (m_cells.empty())
+        setCell(0, tr("closed-loop gain, exact"), QStringLiteral("—"));
+    for (int i = 0; i < int(m_cells.size()); ++i)
+        setCell(i, m_cells[std::size_t(i)].title->text(), QStringLiteral("—"),
+                tr("Not analysed: %1").arg(reason), kNoVerdict);
+}
+
 void Readout::showAnalysis(const Analysis &a, const Design &design)
 {
     const std::string &unit = a.gainUnit;
