@@ -307,6 +307,31 @@ QStringList DesignDocument::gainBlockPresets()
     return names;
 }
 
+int DesignDocument::gainBlockPresetInEffect(const std::string &partId) const
+{
+    const Part *part = m_design.findPart(partId);
+    if (!part || part->type != PartType::GainBlock || part->has("gbw") || !part->zerosHz.empty())
+        return -1;
+    auto same = [](double a, const char *text, ValueKind kind) {
+        auto v = parseValue(text, kind, ValueRange::Any);
+        return v && std::abs(a - *v) <= 1e-9 * std::abs(*v);
+    };
+    for (int i = 0; i < int(std::size(kPresets)); ++i) {
+        const GainBlockPreset &p = kPresets[i];
+        const auto poles = splitList(p.poles);
+        bool match = same(part->number("gain"), p.gain, ValueKind::Gain)
+            && same(part->number("r_in"), p.rIn, ValueKind::Resistance)
+            && same(part->number("c_in"), p.cIn, ValueKind::Capacitance)
+            && same(part->number("r_out"), p.rOut, ValueKind::Resistance)
+            && poles.size() == part->polesHz.size();
+        for (std::size_t k = 0; match && k < poles.size(); ++k)
+            match = same(part->polesHz[k].si, poles[k].c_str(), ValueKind::Frequency);
+        if (match)
+            return i;
+    }
+    return -1;
+}
+
 void DesignDocument::applyGainBlockPreset(const std::string &partId, int index)
 {
     const Part *part = m_design.findPart(partId);
@@ -839,11 +864,16 @@ void DesignDocument::recompute()
         // Never leave the last good numbers standing as if they were current.
         m_analysis.reset();
         m_diagnostics = toQString(result.errorText());
-        QString partId;
-        if (!result.diagnostics().empty())
-            partId = toQString(result.diagnostics().front().part);
+        QString partId, reason = m_diagnostics;
+        if (!result.diagnostics().empty()) {
+            // Over the plots, the first problem without the file's path.
+            Diagnostic first = result.diagnostics().front();
+            partId = toQString(first.part);
+            first.file.clear();
+            reason = toQString(first.toString());
+        }
         emit diagnosticsChanged(m_diagnostics);
-        emit analysisUnavailable(m_diagnostics, partId);
+        emit analysisUnavailable(reason, partId);
         return;
     }
     m_analysis = std::move(result).value();

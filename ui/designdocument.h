@@ -65,6 +65,9 @@ public:
                               const QString &text, QString *error);
     /// Generic gain-block presets with neutral names (no real device is modelled).
     static QStringList gainBlockPresets();
+    /// The preset whose values the gain block has now (index into gainBlockPresets()), -1
+    /// when its values are its own ("custom").
+    int gainBlockPresetInEffect(const std::string &partId) const;
     /// Applies preset `index` of gainBlockPresets() as one undo step.
     void applyGainBlockPreset(const std::string &partId, int index);
     bool setToleranceText(const std::string &partId, const QString &text, QString *error);

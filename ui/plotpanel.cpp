@@ -15,6 +15,7 @@
 #include <QLegendMarker>
 #include <QLineSeries>
 #include <QMouseEvent>
+#include <QRegularExpression>
 #include <QScatterSeries>
 #include <QToolButton>
 #include <QValueAxis>
@@ -236,8 +237,16 @@ void PlotPanel::showUnavailable(const QString &reason)
             m_unavailable->hide();
         return;
     }
-    for (auto &[name, series] : m_series)
+    static const QRegularExpression count(QStringLiteral(" \\(\\d+\\)$"));
+    std::vector<std::pair<QXYSeries *, QString>> counted;
+    for (auto &[name, series] : m_series) {
         series->replace(QList<QPointF>());
+        // A count in a legend label ("poles (4)") is a number of the last analysis too.
+        if (name.contains(count))
+            counted.emplace_back(series, QString(name).remove(count));
+    }
+    for (const auto &[series, name] : counted)
+        rename(series, name);
     for (auto &[series, curve] : m_fullCurves)
         curve.points.clear();
     for (QLineSeries *s : m_overlaySeries)

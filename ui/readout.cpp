@@ -8,6 +8,7 @@
 
 #include <QHBoxLayout>
 #include <QLabel>
+#include <QRegularExpression>
 #include <QVBoxLayout>
 
 #include <cmath>
@@ -95,9 +96,13 @@ void Readout::showUnavailable(const QString &reason)
 {
     if (m_cells.empty())
         setCell(0, tr("closed-loop gain, exact"), QStringLiteral("—"));
-    for (int i = 0; i < int(m_cells.size()); ++i)
-        setCell(i, m_cells[std::size_t(i)].title->text(), QStringLiteral("—"),
-                tr("Not analysed: %1").arg(reason), kNoVerdict);
+    for (int i = 0; i < int(m_cells.size()); ++i) {
+        // A title that carries numbers of the last analysis (a noise band) loses them.
+        QString title = m_cells[std::size_t(i)].title->text();
+        if (title.contains(QRegularExpression(QStringLiteral("\\d"))))
+            title = title.section(QStringLiteral(", "), 0, 0);
+        setCell(i, title, QStringLiteral("—"), tr("Not analysed: %1").arg(reason), kNoVerdict);
+    }
 }
 
 void Readout::showAnalysis(const Analysis &a, const Design &design)

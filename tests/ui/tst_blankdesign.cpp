@@ -550,3 +550,41 @@ TEST_F(BlankDesignTest, StaleNeverWithAFloatingNode)
 }
 
 } // namespace
+
+namespace {
+
+// ---- Inspector in the designer's words ----
+
+TEST_F(BlankDesignTest, InspectorLabelsWithUnitsAndThePresetInEffect)
+{
+    window->newDesign();
+    settle();
+    emit window->partsPalette()->placeRequested(int(PartType::GainBlock));
+    ASSERT_EQ(window->inspector()->partId(), "U1");
+    Inspector *inspector = window->inspector();
+    EXPECT_EQ(inspector->fieldLabel("gain"), QStringLiteral("open-loop gain"));
+    EXPECT_EQ(inspector->fieldLabel("gbw"), QStringLiteral("gain-bandwidth (Hz)"));
+    EXPECT_EQ(inspector->fieldLabel("poles_hz"), QStringLiteral("poles (Hz)"));
+    EXPECT_EQ(inspector->fieldLabel("r_in"), QStringLiteral("input resistance (Ω)"));
+    EXPECT_EQ(inspector->fieldLabel("en"), QStringLiteral("voltage noise density (V/√Hz)"));
+    EXPECT_THAT(inspector->fieldEdit("r_in")->toolTip().toStdString(), HasSubstr("r_in"));
+
+    // A new gain block has its own values (with a finite gain-bandwidth): "custom".
+    QComboBox *presets = inspector->presetChooser();
+    ASSERT_NE(presets, nullptr);
+    EXPECT_EQ(presets->currentText(), QStringLiteral("custom"));
+    // Choosing a preset keeps it shown; editing a value afterwards makes it custom again.
+    presets->setCurrentIndex(2);
+    emit presets->activated(2);
+    EXPECT_EQ(presets->currentText(), DesignDocument::gainBlockPresets().at(1));
+    EXPECT_EQ(doc()->gainBlockPresetInEffect("U1"), 1);
+    type(inspector->fieldEdit("r_out"), QStringLiteral("75"));
+    EXPECT_EQ(inspector->presetChooser()->currentText(), QStringLiteral("custom"));
+
+    // Renaming from the Inspector.
+    type(inspector->nameEdit(), QStringLiteral("AMP"));
+    ASSERT_NE(doc()->design().findPart("AMP"), nullptr);
+    EXPECT_EQ(inspector->partId(), "AMP");
+}
+
+} // namespace
