@@ -405,6 +405,7 @@ void DesignDocument::setProperties(const Design &properties, const QString &text
     after.sweep = properties.sweep;
     after.specs = properties.specs;
     after.temperature = properties.temperature;
+    after.noiseBand = properties.noiseBand;
     if (after == m_design)
         return;
     if (!after.sketch)

@@ -138,6 +138,13 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
              "degrees Celsius (\"25 °C\"). Empty: 25 °C.",
              "25 °C"});
 
+    addEdit({"noise_band_low", "noise band from (Hz)",
+             "Lower end of the band the output noise rms is integrated over. Both ends empty: "
+             "from the sweep start until the integral has settled.",
+             "sweep start"});
+    addEdit({"noise_band_high", "noise band to (Hz)",
+             "Upper end of the band the output noise rms is integrated over.", "until settled"});
+
     auto *specsTitle = new QLabel(tr("<b>Specs</b> (empty: not checked)"), this);
     form->addRow(specsTitle);
     addEdit({"gain_min", "gain, lowest", "Lowest acceptable closed-loop gain (signed).", "—"});
@@ -183,6 +190,8 @@ void DesignPropertiesPanel::refresh()
     set("sweep_stop", valueText(d.sweep.stop));
     m_points->setValue(d.sweep.pointsPerDecade);
     set("temperature", valueText(d.temperature));
+    set("noise_band_low", d.noiseBand ? valueText(d.noiseBand->low) : QString());
+    set("noise_band_high", d.noiseBand ? valueText(d.noiseBand->high) : QString());
     set("gain_min", valueText(d.specs.gainMin));
     set("gain_max", valueText(d.specs.gainMax));
     set("bandwidth_min", valueText(d.specs.bandwidthMin));
@@ -289,6 +298,42 @@ void DesignPropertiesPanel::commit(const std::string &key)
             after.temperature = parsed->temperature;
         }
         label = tr("Temperature");
+    } else if (key == "noise_band_low" || key == "noise_band_high") {
+        const bool low = key == "noise_band_low";
+        const QString other
+            = m_edits.at(low ? "noise_band_high" : "noise_band_low")->text().trimmed();
+        std::optional<Value> v;
+        if (!parse(ValueKind::Frequency, ValueRange::Positive, &v, true))
+            return;
+        if (!v && other.isEmpty()) {
+            after.noiseBand.reset();
+        } else if (!v || other.isEmpty()) {
+            showError(key,
+                      tr("%1: give both ends of the noise band, or neither")
+                          .arg(QString::fromStdString(key)));
+            return;
+        } else {
+            std::optional<Value> o;
+            auto parsed
+                = parseValue(toStdString(other), ValueKind::Frequency, ValueRange::Positive);
+            if (!parsed) {
+                showError(key,
+                          tr("%1: the other end is not a frequency yet")
+                              .arg(QString::fromStdString(key)));
+                return;
+            }
+            o = Value{*parsed, toStdString(other)};
+            NoiseBand band{low ? *v : *o, low ? *o : *v};
+            if (!(band.low.si < band.high.si)) {
+                showError(key,
+                          tr("%1: the band must start below where it ends")
+                              .arg(QString::fromStdString(key)));
+                return;
+            }
+            after.noiseBand = band;
+        }
+        showError(low ? "noise_band_high" : "noise_band_low", QString());
+        label = tr("Noise band");
     } else if (key == "gain_min" || key == "gain_max") {
         if (!parse(ValueKind::Gain, ValueRange::Any,
                    key == "gain_min" ? &after.specs.gainMin : &after.specs.gainMax, true))

@@ -36,6 +36,7 @@ public:
     void refresh();
 
     /// The editor of a property: "title", "sweep_start", "sweep_stop", "temperature",
+    /// "noise_band_low", "noise_band_high",
     /// "gain_min", "gain_max", "bandwidth_min", "phase_margin_min_deg"; nullptr otherwise.
     QLineEdit *edit(const std::string &key) const;
     QPlainTextEdit *notesEdit() const { return m_notes; }

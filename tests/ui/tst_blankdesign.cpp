@@ -251,6 +251,17 @@ TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
     type(props->edit("gain_max"), QStringLiteral("11.1"));
     type(props->edit("bandwidth_min"), QStringLiteral("500k"));
     type(props->edit("phase_margin_min_deg"), QStringLiteral("60"));
+    type(props->edit("noise_band_low"), QStringLiteral("10"));
+    EXPECT_THAT(props->error("noise_band_low").toStdString(), HasSubstr("both ends"));
+    type(props->edit("noise_band_high"), QStringLiteral("100k"));
+    EXPECT_TRUE(props->error("noise_band_low").isEmpty());
+    ASSERT_TRUE(doc()->design().noiseBand.has_value());
+    EXPECT_NEAR(doc()->design().noiseBand->low.si, 10.0, 1e-12);
+    EXPECT_NEAR(doc()->design().noiseBand->high.si, 1e5, 1e-6);
+    type(props->edit("sweep_stop"), QStringLiteral("12kk"));
+    EXPECT_THAT(props->error("sweep_stop").toStdString(), HasSubstr("12kk"));
+    EXPECT_NEAR(doc()->design().sweep.stop.si, 1e9, 1.0);
+    type(props->edit("sweep_stop"), QStringLiteral("1G"));
     EXPECT_EQ(doc()->design().title, "Bench preamp, gain 11");
     ASSERT_TRUE(doc()->design().specs.gainMin.has_value());
     EXPECT_NEAR(doc()->design().specs.gainMin->si, 10.9, 1e-12);
