@@ -62,7 +62,7 @@ void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
         const QPointF anchor = layout.grounds.empty()
             ? QPointF(0, 0)
             : QPointF(layout.grounds.front().x, layout.grounds.front().y);
-        m_hint->setPos(anchor.x() - r.width() / 2, anchor.y() - 60);
+        m_hint->setPos(anchor.x() - r.width() / 2, anchor.y() - 220);
     }
     m_applying = false;
     reroute();

@@ -28,6 +28,7 @@
 #include <QDir>
 #include <QDropEvent>
 #include <QLineEdit>
+#include <QListWidget>
 #include <QMimeData>
 #include <QSignalSpy>
 #include <QTemporaryDir>
@@ -597,6 +598,28 @@ TEST_F(BlankDesignTest, InspectorLabelsWithUnitsAndThePresetInEffect)
     type(inspector->nameEdit(), QStringLiteral("AMP"));
     ASSERT_NE(doc()->design().findPart("AMP"), nullptr);
     EXPECT_EQ(inspector->partId(), "AMP");
+}
+
+} // namespace
+
+namespace {
+
+TEST_F(BlankDesignTest, DeleteKeyInThePartsListRemovesTheSelectedParts)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    QListWidget *list = window->partsPalette()->partList();
+    list->setFocus();
+    list->clearSelection();
+    for (int i = 0; i < list->count(); ++i) {
+        if (list->item(i)->data(Qt::UserRole).toString() == QStringLiteral("CF"))
+            list->item(i)->setSelected(true);
+    }
+    ASSERT_EQ(list->selectedItems().size(), 1);
+    QTest::keyClick(list, Qt::Key_Delete);
+    EXPECT_EQ(doc()->design().findPart("CF"), nullptr);
+    EXPECT_NE(doc()->design().findPart("RF"), nullptr);
+    doc()->undoStack()->undo();
+    EXPECT_NE(doc()->design().findPart("CF"), nullptr);
 }
 
 } // namespace
