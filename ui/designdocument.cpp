@@ -37,8 +37,24 @@ void DesignDocument::reset(Design design, const QString &filePath)
     recompute();
 }
 
+Design DesignDocument::blankDesign()
+{
+    Design design;
+    design.sketch.emplace();
+    design.sketch->grounds.push_back({0.0, 120.0});
+    return design;
+}
+
 bool DesignDocument::save(const QString &path, QString *error)
 {
+    // The file must open again: check the text with the loader before anything is written.
+    if (auto reread = parseDesign(serializeDesign(m_design), DesignRules::Draft, toStdString(path));
+        !reread) {
+        if (error)
+            *error = tr("Not saved, the file could not be opened again: %1")
+                         .arg(toQString(reread.errorText()));
+        return false;
+    }
     auto saved = saveDesign(m_design, toStdString(path));
     if (!saved) {
         if (error)
@@ -291,6 +307,31 @@ QStringList DesignDocument::gainBlockPresets()
     return names;
 }
 
+int DesignDocument::gainBlockPresetInEffect(const std::string &partId) const
+{
+    const Part *part = m_design.findPart(partId);
+    if (!part || part->type != PartType::GainBlock || part->has("gbw") || !part->zerosHz.empty())
+        return -1;
+    auto same = [](double a, const char *text, ValueKind kind) {
+        auto v = parseValue(text, kind, ValueRange::Any);
+        return v && std::abs(a - *v) <= 1e-9 * std::abs(*v);
+    };
+    for (int i = 0; i < int(std::size(kPresets)); ++i) {
+        const GainBlockPreset &p = kPresets[i];
+        const auto poles = splitList(p.poles);
+        bool match = same(part->number("gain"), p.gain, ValueKind::Gain)
+            && same(part->number("r_in"), p.rIn, ValueKind::Resistance)
+            && same(part->number("c_in"), p.cIn, ValueKind::Capacitance)
+            && same(part->number("r_out"), p.rOut, ValueKind::Resistance)
+            && poles.size() == part->polesHz.size();
+        for (std::size_t k = 0; match && k < poles.size(); ++k)
+            match = same(part->polesHz[k].si, poles[k].c_str(), ValueKind::Frequency);
+        if (match)
+            return i;
+    }
+    return -1;
+}
+
 void DesignDocument::applyGainBlockPreset(const std::string &partId, int index)
 {
     const Part *part = m_design.findPart(partId);
@@ -310,9 +351,142 @@ void DesignDocument::applyGainBlockPreset(const std::string &partId, int index)
     m_undoStack.endMacro();
 }
 
+QStringList DesignDocument::tidy(Design &design) const
+{
+    QStringList notices;
+    for (Candidate &c : design.candidates) {
+        const auto dropped = std::erase_if(
+            c.values, [&](const auto &entry) { return design.findPart(entry.first) == nullptr; });
+        if (dropped > 0 && !c.values.empty())
+            notices << tr("Candidate \"%1\" no longer sets the deleted part's value.")
+                           .arg(toQString(c.name));
+    }
+    const auto emptied = std::erase_if(design.candidates, [&](const Candidate &c) {
+        const Candidate *before = findCandidate(m_design, c.name);
+        if (!c.values.empty() || !before || before->values.empty())
+            return false;
+        notices << tr("Candidate \"%1\" named only deleted parts and was removed.")
+                       .arg(toQString(c.name));
+        return true;
+    });
+    (void)emptied;
+    const Part *input = design.findPart(design.input);
+    if (!input || !partSpec(input->type).isSignalSource) {
+        std::vector<std::string> sources;
+        for (const Part &p : design.parts) {
+            if (partSpec(p.type).isSignalSource)
+                sources.push_back(p.id);
+        }
+        const std::string chosen = sources.size() == 1 ? sources.front() : std::string();
+        if (chosen != design.input && !chosen.empty())
+            notices << tr("The signal source is now %1.").arg(toQString(chosen));
+        design.input = chosen;
+    }
+    return notices;
+}
+
 void DesignDocument::pushDesign(Design after, const QString &text)
 {
+    const QStringList notices = tidy(after);
+    if (after == m_design)
+        return;
     m_undoStack.push(new SetDesignCommand(this, m_design, std::move(after), text));
+    if (!notices.isEmpty())
+        emit noticeIssued(notices.join(QLatin1Char(' ')));
+}
+
+void DesignDocument::setProperties(const Design &properties, const QString &text)
+{
+    Design after = m_design;
+    after.title = properties.title;
+    after.notes = properties.notes;
+    after.input = properties.input;
+    after.output = properties.output;
+    after.sweep = properties.sweep;
+    after.specs = properties.specs;
+    after.temperature = properties.temperature;
+    after.noiseBand = properties.noiseBand;
+    if (after == m_design)
+        return;
+    if (!after.sketch)
+        after.sketch = m_layout;
+    m_undoStack.push(new SetDesignCommand(this, m_design, std::move(after), text));
+}
+
+void DesignDocument::addGround(double x, double y)
+{
+    Design after = m_design;
+    SketchLayout layout = m_layout;
+    layout.grounds.push_back({snapToGrid(x), snapToGrid(y)});
+    after.sketch = layout;
+    pushDesign(std::move(after), tr("Add ground symbol"));
+}
+
+bool DesignDocument::moveGround(int index, double x, double y)
+{
+    if (index < 0 || index >= int(m_layout.grounds.size()))
+        return false;
+    SketchLayout after = m_layout;
+    after.grounds[std::size_t(index)] = {snapToGrid(x), snapToGrid(y)};
+    if (after == m_layout)
+        return false;
+    m_undoStack.push(new SetSketchCommand(this, m_design.sketch, after, tr("Move ground symbol")));
+    return true;
+}
+
+void DesignDocument::removeGrounds(const std::vector<int> &indices)
+{
+    SketchLayout after = m_layout;
+    std::vector<int> sorted = indices;
+    std::sort(sorted.rbegin(), sorted.rend());
+    bool removed = false;
+    for (int i : sorted) {
+        if (i >= 0 && i < int(after.grounds.size())) {
+            after.grounds.erase(after.grounds.begin() + i);
+            removed = true;
+        }
+    }
+    if (removed)
+        m_undoStack.push(
+            new SetSketchCommand(this, m_design.sketch, after, tr("Delete ground symbol")));
+}
+
+bool DesignDocument::renamePart(const std::string &from, const std::string &to, QString *error)
+{
+    if (!m_design.findPart(from)) {
+        if (error)
+            *error = tr("There is no part %1.").arg(toQString(from));
+        return false;
+    }
+    if (to == from)
+        return true;
+    if (!isValidPartId(to)) {
+        if (error)
+            *error = tr("\"%1\" cannot name a part: use letters, digits, '_' and '-'.")
+                         .arg(toQString(to));
+        return false;
+    }
+    if (m_design.findPart(to)) {
+        if (error)
+            *error = tr("A part named %1 exists already.").arg(toQString(to));
+        return false;
+    }
+    Design after = m_design;
+    after.findPart(from)->id = to;
+    for (Candidate &c : after.candidates) {
+        if (auto node = c.values.extract(from))
+            c.values[to] = node.mapped();
+    }
+    if (after.input == from)
+        after.input = to;
+    SketchLayout layout = m_layout;
+    if (auto node = layout.parts.extract(from)) {
+        node.key() = to;
+        layout.parts.insert(std::move(node));
+    }
+    after.sketch = layout;
+    pushDesign(std::move(after), tr("Rename %1 to %2").arg(toQString(from), toQString(to)));
+    return true;
 }
 
 void DesignDocument::applyDesign(const Design &design)
@@ -354,6 +528,11 @@ std::string DesignDocument::addPart(PartType type, double x, double y)
                 : f.kind == ValueKind::Capacitance                       ? Value{1e-9, "1n"}
                 : f.kind == ValueKind::Inductance                        ? Value{1e-3, "1m"}
                                                                          : Value{1e3, "1k"};
+    }
+    if (type == PartType::GainBlock) {
+        // A finite gain-bandwidth from the start, so bandwidth, margins and the step
+        // response mean something as soon as the loop is closed.
+        part.fields["gbw"] = Value{10e6, "10M"};
     }
     Design after = m_design;
     after.parts.push_back(part);
@@ -683,8 +862,19 @@ void DesignDocument::recompute()
         = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
               .count();
     if (!result) {
+        // Never leave the last good numbers standing as if they were current.
+        m_analysis.reset();
         m_diagnostics = toQString(result.errorText());
+        QString partId, reason = m_diagnostics;
+        if (!result.diagnostics().empty()) {
+            // Over the plots, the first problem without the file's path.
+            Diagnostic first = result.diagnostics().front();
+            partId = toQString(first.part);
+            first.file.clear();
+            reason = toQString(first.toString());
+        }
         emit diagnosticsChanged(m_diagnostics);
+        emit analysisUnavailable(reason, partId);
         return;
     }
     m_analysis = std::move(result).value();

@@ -38,9 +38,12 @@ public:
 
     /// Replaces the design (open, new): clears the undo history and recomputes at once.
     void reset(Design design, const QString &filePath);
+    /// A design with no parts: one ground symbol on the Sketch, default sweep, no specs.
+    static Design blankDesign();
     QString filePath() const { return m_filePath; }
     bool isModified() const { return !m_undoStack.isClean(); }
-    /// Atomic save through core; on failure `error` says why and nothing changes.
+    /// Atomic save through core; on failure `error` says why and nothing changes. A design
+    /// whose text the loader would refuse is never written (the reason names part and field).
     bool save(const QString &path, QString *error);
 
     /// The sketch positions in use: the stored layout, or the automatic one.
@@ -62,6 +65,9 @@ public:
                               const QString &text, QString *error);
     /// Generic gain-block presets with neutral names (no real device is modelled).
     static QStringList gainBlockPresets();
+    /// The preset whose values the gain block has now (index into gainBlockPresets()), -1
+    /// when its values are its own ("custom").
+    int gainBlockPresetInEffect(const std::string &partId) const;
     /// Applies preset `index` of gainBlockPresets() as one undo step.
     void applyGainBlockPreset(const std::string &partId, int index);
     bool setToleranceText(const std::string &partId, const QString &text, QString *error);
@@ -87,6 +93,18 @@ public:
                      const std::string &partB, const std::string &terminalB);
     /// Puts one pin on the ground node.
     bool groundPin(const std::string &partId, const std::string &terminal);
+    /// Places a free-standing ground symbol at (x, y) (scene units, snapped to the grid).
+    void addGround(double x, double y);
+    /// Moves ground symbol `index` of the layout; false when there is no such symbol.
+    bool moveGround(int index, double x, double y);
+    /// Removes ground symbols by index (the pins on ground stay on ground).
+    void removeGrounds(const std::vector<int> &indices);
+    /// Renames a part and everything that names it (candidates, the input, the layout), as
+    /// one undo step. False with `error` set when the new id is invalid or taken.
+    bool renamePart(const std::string &from, const std::string &to, QString *error);
+    /// Replaces the design-wide properties (title, notes, input, output, sweep, specs,
+    /// temperature) of `after`, one undo step named `text`; the parts are not touched.
+    void setProperties(const Design &after, const QString &text);
 
     // Candidates (design file key `candidates`), each edit one undo step.
     /// "Candidate N" with the smallest N >= 1 that no candidate uses yet.
@@ -107,6 +125,8 @@ public:
 
     /// Runs the pending recomputation now (tests, benchmarks).
     void recomputeNow();
+    /// Why the design cannot be analysed now; empty when the analysis is current.
+    QString unavailableReason() const { return m_analysis ? QString() : m_diagnostics; }
     /// Milliseconds of the last core analyze() call.
     double lastAnalysisMs() const { return m_lastAnalysisMs; }
     QString lastDiagnostics() const { return m_diagnostics; }
@@ -134,6 +154,12 @@ signals:
     /// Parts were added, removed or reconnected: the Sketch rebuilds (the history stays).
     void structureChanged();
     void analysisChanged(const loopsketch::Analysis &analysis);
+    /// The design cannot be analysed: every view drops its numbers and shows `reason`.
+    /// `partId` names the offending part when the reason names one.
+    void analysisUnavailable(const QString &reason, const QString &partId);
+    /// Something changed as a consequence of an edit (a candidate emptied by a deletion and
+    /// removed, the input chosen): one line for the status bar.
+    void noticeIssued(const QString &text);
     /// Analysis failed or succeeded; empty text when there is nothing to report.
     void diagnosticsChanged(const QString &text);
     void filePathChanged(const QString &path);
@@ -146,6 +172,9 @@ private:
     void recompute();
     void rebuildLayout();
     void pushDesign(Design after, const QString &text);
+    /// Keeps what names parts consistent with the parts (candidates, input) after a
+    /// structural edit; returns notices for the user.
+    QStringList tidy(Design &design) const;
 
     Design m_design;
     std::optional<Analysis> m_analysis;

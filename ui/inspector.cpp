@@ -73,6 +73,60 @@ QString typeLabel(PartType type)
     return {};
 }
 
+/// A field in the designer's words, with its unit, and a tooltip that also names the file key.
+struct FieldWords
+{
+    QString label;
+    QString tip;
+};
+
+FieldWords fieldWords(PartType type, std::string_view field)
+{
+    struct Entry
+    {
+        const char *field;
+        const char *label;
+        const char *tip;
+    };
+    static const Entry entries[] = {
+        {"gain", "open-loop gain", "Low-frequency gain of the block, in V/V or dB (\"110dB\")."},
+        {"gbw", "gain-bandwidth (Hz)",
+         "Gain-bandwidth product; the first pole sits at gain-bandwidth / gain."},
+        {"r_in", "input resistance (Ω)", "Differential resistance between the inputs."},
+        {"c_in", "input capacitance (F)", "Differential capacitance between the inputs."},
+        {"r_out", "output resistance (Ω)", "Resistance in series with the output."},
+        {"en", "voltage noise density (V/√Hz)", "Input voltage noise density, white part."},
+        {"en_corner_hz", "voltage noise 1/f corner (Hz)",
+         "Below this frequency the voltage noise density rises as 1/√f."},
+        {"in", "current noise density (A/√Hz)", "Input current noise density, white part."},
+        {"in_corner_hz", "current noise 1/f corner (Hz)",
+         "Below this frequency the current noise density rises as 1/√f."},
+        {"c_cm", "common-mode capacitance (F)", "Capacitance from each input to ground."},
+        {"r_series", "source resistance (Ω)", "Internal resistance in series with the source."},
+        {"r_parallel", "source resistance (Ω)", "Internal resistance across the source."},
+        {"c_parallel", "source capacitance (F)", "Internal capacitance across the source."},
+        {"i_dc", "DC current (A)", "DC current through the source; its shot noise counts."},
+    };
+    const QString key = QString::fromUtf8(field.data(), qsizetype(field.size()));
+    for (const Entry &e : entries) {
+        if (field == e.field)
+            return {QObject::tr(e.label),
+                    QObject::tr("%1 (file key \"%2\")").arg(QObject::tr(e.tip), key)};
+    }
+    if (field == "value") {
+        const QString unit = type == PartType::Resistor ? QStringLiteral("Ω")
+            : type == PartType::Capacitor               ? QStringLiteral("F")
+                                                        : QStringLiteral("H");
+        return {QObject::tr("value (%1)").arg(unit),
+                QObject::tr("Value; wheel over the part steps it through its E-series.")};
+    }
+    if (type == PartType::Load && field == "r")
+        return {QObject::tr("load resistance (Ω)"), QObject::tr("Resistance of the load.")};
+    if (type == PartType::Load && field == "c")
+        return {QObject::tr("load capacitance (F)"), QObject::tr("Capacitance across the load.")};
+    return {key, key};
+}
+
 const char *kErrorStyle
     = "QLineEdit, QComboBox { border: 1.5px solid #b3261e; background: #fdeceb; }";
 
@@ -98,6 +152,9 @@ void Inspector::showPart(const std::string &partId)
     m_series = nullptr;
     m_tolerance = nullptr;
     m_toleranceError = nullptr;
+    m_presets = nullptr;
+    m_name = nullptr;
+    m_nameError = nullptr;
     if (m_form) {
         m_form->hide();
         m_form->deleteLater();
@@ -123,18 +180,30 @@ void Inspector::showPart(const std::string &partId)
     auto *form = new QFormLayout(m_form);
     form->setContentsMargins(0, 4, 0, 0);
     form->setFieldGrowthPolicy(QFormLayout::AllNonFixedFieldsGrow);
+    form->setRowWrapPolicy(QFormLayout::WrapLongRows);
+    m_name = new QLineEdit(toQString(part->id), m_form);
+    m_name->setToolTip(tr("The part's name; candidates and the input follow a new name."));
+    m_nameError = addRowWithError(form, tr("name"), m_name);
+    connect(m_name, &QLineEdit::editingFinished, this, [this] {
+        const std::string to = toStdString(m_name->text().trimmed());
+        if (to == m_partId)
+            return;
+        QString message;
+        const std::string from = m_partId;
+        if (m_document->renamePart(from, to, &message))
+            showPart(to);
+        else
+            markError(m_name, m_nameError, message);
+    });
     for (const FieldSpec &spec : partSpec(part->type).fields) {
         const std::string field(spec.name);
         auto *edit = new QLineEdit(m_form);
         edit->setText(fieldText(*part, spec));
         if (!spec.required)
             edit->setPlaceholderText(defaultHint(spec));
-        edit->setToolTip(tr("%1, in %2")
-                             .arg(toQString(field),
-                                  toQString(unitSymbol(spec.kind)).isEmpty()
-                                      ? tr("plain numbers")
-                                      : toQString(unitSymbol(spec.kind))));
-        QLabel *error = addRowWithError(form, toQString(field), edit);
+        const FieldWords words = fieldWords(part->type, spec.name);
+        edit->setToolTip(words.tip);
+        QLabel *error = addRowWithError(form, words.label, edit);
         m_edits[field] = edit;
         m_errors[field] = error;
         connect(edit, &QLineEdit::editingFinished, this, [this, field] { commitField(field); });
@@ -174,8 +243,13 @@ void Inspector::showPart(const std::string &partId)
                                          : toQString(v.text));
             auto *edit = new QLineEdit(texts.join(QStringLiteral(", ")), m_form);
             edit->setPlaceholderText(tr("none"));
-            edit->setToolTip(tr("%1: frequencies in Hz, separated by commas").arg(list));
-            QLabel *error = addRowWithError(form, toQString(list), edit);
+            const bool poles = std::string(list) == "poles_hz";
+            edit->setToolTip(
+                tr("%1 of the open-loop gain: frequencies in Hz, separated by "
+                   "commas (file key \"%2\")")
+                    .arg(poles ? tr("Poles") : tr("Zeros"), QString::fromLatin1(list)));
+            QLabel *error
+                = addRowWithError(form, poles ? tr("poles (Hz)") : tr("zeros (Hz)"), edit);
             m_edits[list] = edit;
             m_errors[list] = error;
             const std::string name(list);
@@ -187,19 +261,21 @@ void Inspector::showPart(const std::string &partId)
                 markError(e, m_errors[name], ok ? QString() : message);
             });
         }
-        auto *presets = new QComboBox(m_form);
-        presets->addItem(tr("choose…"));
-        presets->addItems(DesignDocument::gainBlockPresets());
-        presets->setToolTip(tr("Generic gain blocks with round numbers; no real device is "
-                               "modelled."));
-        form->addRow(tr("preset"), presets);
-        connect(presets, &QComboBox::activated, this, [this, presets](int index) {
+        m_presets = new QComboBox(m_form);
+        m_presets->addItem(tr("custom"));
+        m_presets->addItems(DesignDocument::gainBlockPresets());
+        m_presets->setToolTip(tr("Generic gain blocks with round numbers; no real device is "
+                                 "modelled. \"custom\": the values are the block's own."));
+        m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
+        form->addRow(tr("preset"), m_presets);
+        connect(m_presets, &QComboBox::activated, this, [this](int index) {
             if (index > 0)
                 m_document->applyGainBlockPreset(m_partId, index - 1);
-            presets->setCurrentIndex(0);
+            m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
         });
-        auto *hint = new QLabel(tr("gain in V/V or dB (\"110dB\"); gbw sets the first pole at "
-                                   "gbw / gain"),
+        auto *hint = new QLabel(tr("Gain in V/V or dB (\"110dB\"); the gain-bandwidth sets the "
+                                   "first pole at gain-bandwidth / gain, and the poles listed "
+                                   "come after it."),
                                 m_form);
         hint->setWordWrap(true);
         hint->setStyleSheet(QStringLiteral("color: #5a6270; font-size: 8pt;"));
@@ -238,6 +314,8 @@ void Inspector::refresh()
     }
     if (m_series)
         m_series->setCurrentIndex(part->series ? int(*part->series) + 1 : 0);
+    if (m_presets)
+        m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
     if (m_tolerance && !m_toleranceError->isVisible())
         m_tolerance->setCurrentText(part->tolerance ? toQString(part->tolerance->text) : QString());
 }
@@ -246,6 +324,24 @@ QLineEdit *Inspector::fieldEdit(const std::string &field) const
 {
     const auto it = m_edits.find(field);
     return it == m_edits.end() ? nullptr : it->second;
+}
+
+QString Inspector::fieldLabel(const std::string &field) const
+{
+    QLineEdit *edit = fieldEdit(field);
+    auto *form = m_form ? qobject_cast<QFormLayout *>(m_form->layout()) : nullptr;
+    if (!edit || !form)
+        return {};
+    for (int row = 0; row < form->rowCount(); ++row) {
+        QLayoutItem *fieldItem = form->itemAt(row, QFormLayout::FieldRole);
+        QLayout *box = fieldItem ? fieldItem->layout() : nullptr;
+        if (box && box->indexOf(edit) >= 0) {
+            if (auto *label
+                = qobject_cast<QLabel *>(form->itemAt(row, QFormLayout::LabelRole)->widget()))
+                return label->text();
+        }
+    }
+    return {};
 }
 
 QString Inspector::fieldError(const std::string &field) const

@@ -34,6 +34,11 @@ public:
     QLineEdit *fieldEdit(const std::string &field) const;
     QComboBox *seriesChooser() const { return m_series; }
     QComboBox *toleranceChooser() const { return m_tolerance; }
+    /// The gain block's preset box ("custom" or the preset in effect); nullptr otherwise.
+    QComboBox *presetChooser() const { return m_presets; }
+    QLineEdit *nameEdit() const { return m_name; }
+    /// The label of a field's row ("open-loop gain", "poles (Hz)" ...).
+    QString fieldLabel(const std::string &field) const;
     /// The message shown for the field's last invalid text, empty when it is valid.
     QString fieldError(const std::string &field) const;
 
@@ -51,6 +56,9 @@ private:
     QComboBox *m_series = nullptr;
     QComboBox *m_tolerance = nullptr;
     QLabel *m_toleranceError = nullptr;
+    QComboBox *m_presets = nullptr;
+    QLineEdit *m_name = nullptr;
+    QLabel *m_nameError = nullptr;
 };
 
 } // namespace loopsketch::ui

@@ -2,6 +2,7 @@
 
 #include "candidatespanel.h"
 #include "designdocument.h"
+#include "designpropertiespanel.h"
 #include "exportactions.h"
 #include "inspector.h"
 #include "noisepanel.h"
@@ -118,7 +119,8 @@ bool MainWindow::offerRecoveryFrom(const QString &path)
         problem = tr("%1: %2").arg(path, file.errorString());
     file.close();
     if (problem.isEmpty()) {
-        if (auto parsed = parseDesign(text.toStdString(), toStdString(path)); !parsed)
+        if (auto parsed = parseDesign(text.toStdString(), DesignRules::Draft, toStdString(path));
+            !parsed)
             problem = toQString(parsed.errorText());
     }
     if (!problem.isEmpty()) {
@@ -177,9 +179,13 @@ MainWindow::MainWindow(QWidget *parent)
     statusBar()->addWidget(m_diagnostics, 1);
     m_diagnostics->setStyleSheet(QStringLiteral("color: #b3261e;"));
     m_diagnostics->setWordWrap(false);
+    m_diagnostics->setTextInteractionFlags(Qt::TextSelectableByMouse);
 
     connect(m_document, &DesignDocument::designReset, this, &MainWindow::rebuildSketch);
     connect(m_document, &DesignDocument::analysisChanged, this, &MainWindow::showAnalysis);
+    connect(m_document, &DesignDocument::analysisUnavailable, this, &MainWindow::showUnavailable);
+    connect(m_document, &DesignDocument::noticeIssued, this,
+            [this](const QString &text) { statusBar()->showMessage(text, 15000); });
     connect(m_document, &DesignDocument::diagnosticsChanged, this, [this](const QString &text) {
         m_diagnostics->setText(text.section(QLatin1Char('\n'), 0, 0));
         m_diagnostics->setToolTip(text);
@@ -209,11 +215,15 @@ MainWindow::MainWindow(QWidget *parent)
     connect(m_view, &SketchView::deleteRequested, m_document, &DesignDocument::removeParts);
     connect(m_view, &SketchView::connectRequested, m_document, &DesignDocument::connectPins);
     connect(m_view, &SketchView::groundRequested, m_document, &DesignDocument::groundPin);
-    connect(m_palette, &PartsPalette::placeRequested, this, [this](PartType type) {
-        const QPointF centre = m_view->mapToScene(m_view->viewport()->rect().center());
-        const std::string id = m_document->addPart(type, centre.x(), centre.y() + 160);
-        m_scene->selectPart(id);
+    connect(m_view, &SketchView::placeRequested, this, &MainWindow::placeSymbol);
+    connect(m_view, &SketchView::deleteGroundsRequested, m_document,
+            &DesignDocument::removeGrounds);
+    connect(m_scene, &SketchScene::groundMoved, this,
+            [this](int index, QPointF at) { m_document->moveGround(index, at.x(), at.y()); });
+    connect(m_palette, &PartsPalette::placeRequested, this, [this](int symbol) {
+        placeSymbol(symbol, m_view->mapToScene(m_view->viewport()->rect().center()));
     });
+    connect(m_palette, &PartsPalette::deleteRequested, m_document, &DesignDocument::removeParts);
     connect(m_document, &DesignDocument::structureChanged, this, [this] {
         const std::string selected = m_scene->selectedPartId();
         m_scene->rebuild(&m_document->design(), m_document->layout());
@@ -260,6 +270,8 @@ MainWindow::~MainWindow()
     // (updateTitle() on freed members aborted tst_candidates now and then).
     QObject::disconnect(m_document->undoStack(), nullptr, nullptr, nullptr);
     QObject::disconnect(m_document, nullptr, nullptr, nullptr);
+    // Likewise the scene: a part still selected when it goes emits selectionChanged.
+    QObject::disconnect(m_scene, nullptr, nullptr, nullptr);
 }
 
 void MainWindow::createDocks()
@@ -287,6 +299,15 @@ void MainWindow::createDocks()
     auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"), m_inspector,
                                    Qt::LeftDockWidgetArea);
     splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
+    m_properties = new DesignPropertiesPanel(m_document, this);
+    auto *propertiesScroll = new QScrollArea(this);
+    propertiesScroll->setWidget(m_properties);
+    propertiesScroll->setWidgetResizable(true);
+    propertiesScroll->setFrameShape(QFrame::NoFrame);
+    auto *propertiesDock = makeDock(tr("Design"), QStringLiteral("DesignPropertiesDock"),
+                                    propertiesScroll, Qt::LeftDockWidgetArea);
+    tabifyDockWidget(inspectorDock, propertiesDock);
+    inspectorDock->raise();
 
     m_loopGain = new LoopGainPanel(this);
     auto *impedance = new ImpedancePanel(this);
@@ -362,6 +383,9 @@ void MainWindow::showCandidates()
 void MainWindow::createActions()
 {
     QMenu *file = menuBar()->addMenu(tr("&File"));
+    QAction *newAction = file->addAction(tr("&New"), this, &MainWindow::newDesign);
+    newAction->setShortcut(QKeySequence::New);
+    newAction->setObjectName(QStringLiteral("NewDesignAction"));
     QMenu *newMenu = file->addMenu(tr("&New from example"));
     const QStringList examples = QDir(QStringLiteral(":/designs")).entryList({"*.loopsketch"});
     for (const QString &name : examples) {
@@ -454,7 +478,7 @@ SuggestDialog *MainWindow::suggestDialog()
 
 bool MainWindow::openText(const std::string &text, const QString &name, QString *error)
 {
-    auto design = parseDesign(text, toStdString(name));
+    auto design = parseDesign(text, DesignRules::Draft, toStdString(name));
     if (!design) {
         if (error)
             *error = toQString(design.errorText());
@@ -467,7 +491,7 @@ bool MainWindow::openText(const std::string &text, const QString &name, QString 
 
 bool MainWindow::openFile(const QString &path, QString *error)
 {
-    auto design = loadDesign(toStdString(path));
+    auto design = loadDesign(toStdString(path), DesignRules::Draft);
     if (!design) {
         if (error)
             *error = toQString(design.errorText());
@@ -525,8 +549,11 @@ void MainWindow::showAnalysis(const Analysis &analysis)
         m_settleTimer->start();
     }
     m_readout->showAnalysis(analysis, m_document->design());
-    for (PlotPanel *panel : m_panels)
+    m_scene->markProblem({});
+    for (PlotPanel *panel : m_panels) {
+        panel->showUnavailable(QString());
         panel->showAnalysis(analysis);
+    }
     m_view->setBadge(topologyBadge(analysis), analysis.topology.has_value());
     const double panelsMs = double(timer.nsecsElapsed()) / 1e6;
     m_timing->setText(tr("recomputed in %1 ms (analysis %2 ms, panels %3 ms)")
@@ -575,6 +602,42 @@ void MainWindow::updateRecentMenu()
             ->setToolTip(f);
     }
     m_recentMenu->setEnabled(!files.isEmpty());
+}
+
+void MainWindow::newDesign()
+{
+    if (!maybeSave())
+        return;
+    m_displayName.clear();
+    m_document->reset(DesignDocument::blankDesign(), QString());
+    if (auto *dock = findChild<QDockWidget *>(QStringLiteral("DesignPropertiesDock"))) {
+        dock->show();
+        dock->raise();
+    }
+    updateTitle();
+}
+
+void MainWindow::placeSymbol(int symbol, QPointF scenePos)
+{
+    if (symbol < 0) {
+        m_document->addGround(scenePos.x(), scenePos.y());
+        return;
+    }
+    if (symbol > int(PartType::Load))
+        return;
+    const std::string id = m_document->addPart(PartType(symbol), scenePos.x(), scenePos.y());
+    m_scene->selectPart(id);
+}
+
+void MainWindow::showUnavailable(const QString &reason, const QString &partId)
+{
+    m_readout->showUnavailable(reason);
+    for (PlotPanel *panel : m_panels)
+        panel->showUnavailable(reason);
+    m_view->setBadge(tr("not analysed"), false);
+    m_timing->clear();
+    if (!partId.isEmpty())
+        m_scene->markProblem(toStdString(partId));
 }
 
 void MainWindow::newFromExample(const QString &resource)

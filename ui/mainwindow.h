@@ -4,6 +4,7 @@
 // on top and the linked plot panels as docks whose arrangement persists.
 
 #include <QMainWindow>
+#include <QPointF>
 
 #include <string>
 #include <vector>
@@ -20,6 +21,7 @@ struct Analysis;
 namespace loopsketch::ui {
 
 class CandidatesPanel;
+class DesignPropertiesPanel;
 class DesignDocument;
 class Inspector;
 class PartsPalette;
@@ -50,6 +52,12 @@ public:
     SketchView *sketchView() const { return m_view; }
     Readout *readout() const { return m_readout; }
     Inspector *inspector() const { return m_inspector; }
+    PartsPalette *partsPalette() const { return m_palette; }
+    DesignPropertiesPanel *designProperties() const { return m_properties; }
+    /// File > New: a blank design (asks before discarding unsaved changes).
+    void newDesign();
+    /// Places a palette symbol (a PartType, or -1 for ground) at a scene point, one undo step.
+    void placeSymbol(int symbol, QPointF scenePos);
     LoopGainPanel *loopGainPanel() const { return m_loopGain; }
     const std::vector<PlotPanel *> &panels() const { return m_panels; }
     CandidatesPanel *candidatesPanel() const { return m_candidates; }
@@ -88,6 +96,7 @@ private:
     void updateTitle();
     void rebuildSketch();
     void showAnalysis(const Analysis &analysis);
+    void showUnavailable(const QString &reason, const QString &partId);
     void selectionChanged();
     void addRecentFile(const QString &path);
     void updateRecentMenu();
@@ -108,6 +117,7 @@ private:
     Readout *m_readout;
     Inspector *m_inspector;
     PartsPalette *m_palette;
+    DesignPropertiesPanel *m_properties = nullptr;
     LoopGainPanel *m_loopGain = nullptr;
     CandidatesPanel *m_candidates = nullptr;
     QDockWidget *m_candidatesDock = nullptr;

@@ -3,14 +3,42 @@
 #include "partitem.h"
 #include "qtadapter.h"
 
+#include <QAction>
 #include <QLabel>
 #include <QListWidget>
+#include <QMimeData>
 #include <QVBoxLayout>
 
 namespace loopsketch::ui {
 
+namespace {
+
+QMimeData *symbolData(const QListWidgetItem *item)
+{
+    auto *data = new QMimeData;
+    data->setData(PartsPalette::kSymbolMimeType,
+                  QByteArray::number(item->data(Qt::UserRole).toInt()));
+    return data;
+}
+
+/// The symbol list: its drags carry the symbol's type for the Sketch to place.
+class SymbolList : public QListWidget
+{
+public:
+    using QListWidget::QListWidget;
+
+protected:
+    QStringList mimeTypes() const override { return {PartsPalette::kSymbolMimeType}; }
+    QMimeData *mimeData(const QList<QListWidgetItem *> &items) const override
+    {
+        return items.isEmpty() ? nullptr : symbolData(items.front());
+    }
+};
+
+} // namespace
+
 PartsPalette::PartsPalette(QWidget *parent)
-    : QWidget(parent), m_kinds(new QListWidget(this)), m_parts(new QListWidget(this))
+    : QWidget(parent), m_kinds(new SymbolList(this)), m_parts(new QListWidget(this))
 {
     auto *layout = new QVBoxLayout(this);
     layout->setContentsMargins(6, 4, 6, 4);
@@ -32,22 +60,22 @@ PartsPalette::PartsPalette(QWidget *parent)
         {"capacitor", "a, b, value", int(PartType::Capacitor)},
         {"inductor", "a, b, value", int(PartType::Inductor)},
         {"load", "a, b, r, optional c", int(PartType::Load)},
-        {"ground", "right-click a pin on the Sketch to connect it to ground", -1},
+        {"ground", "wire a pin to it to connect the pin to ground", -1},
     };
     for (const Kind &k : kinds) {
         auto *item = new QListWidgetItem(tr(k.label), m_kinds);
         item->setData(Qt::UserRole, k.type);
-        item->setToolTip(k.type < 0 ? tr(k.tip)
-                                    : tr("Double-click to place. Terminals and fields: %1. "
-                                         "Drag from pin to pin on the Sketch to wire it.")
-                                          .arg(tr(k.tip)));
+        item->setToolTip(
+            tr("Drag onto the Sketch, or double-click to place at its centre. "
+               "%1. Drag from pin to pin on the Sketch to wire.")
+                .arg(k.type < 0 ? tr(k.tip) : tr("Terminals and fields: %1").arg(tr(k.tip))));
     }
     connect(m_kinds, &QListWidget::itemDoubleClicked, this, [this](QListWidgetItem *item) {
-        const int type = item->data(Qt::UserRole).toInt();
-        if (type >= 0)
-            emit placeRequested(PartType(type));
+        emit placeRequested(item->data(Qt::UserRole).toInt());
     });
-    m_kinds->setSelectionMode(QAbstractItemView::NoSelection);
+    m_kinds->setSelectionMode(QAbstractItemView::SingleSelection);
+    m_kinds->setDragEnabled(true);
+    m_kinds->setDragDropMode(QAbstractItemView::DragOnly);
     m_kinds->setMaximumHeight(m_kinds->sizeHintForRow(0) * 8 + 6);
     layout->addWidget(m_kinds);
     layout->addWidget(new QLabel(tr("<b>In this design</b>"), this));
@@ -56,6 +84,28 @@ PartsPalette::PartsPalette(QWidget *parent)
     connect(m_parts, &QListWidget::itemClicked, this, [this](QListWidgetItem *item) {
         emit partActivated(toStdString(item->data(Qt::UserRole).toString()));
     });
+    m_parts->setSelectionMode(QAbstractItemView::ExtendedSelection);
+    auto *remove = new QAction(tr("Delete"), m_parts);
+    remove->setShortcuts({QKeySequence::Delete, QKeySequence(Qt::Key_Backspace)});
+    remove->setShortcutContext(Qt::WidgetShortcut);
+    m_parts->addAction(remove);
+    m_parts->setContextMenuPolicy(Qt::ActionsContextMenu);
+    connect(remove, &QAction::triggered, this, [this] {
+        std::vector<std::string> ids;
+        for (QListWidgetItem *item : m_parts->selectedItems())
+            ids.push_back(toStdString(item->data(Qt::UserRole).toString()));
+        if (!ids.empty())
+            emit deleteRequested(ids);
+    });
+}
+
+QMimeData *PartsPalette::dragData(const QString &label) const
+{
+    for (int i = 0; i < m_kinds->count(); ++i) {
+        if (m_kinds->item(i)->text() == label)
+            return symbolData(m_kinds->item(i));
+    }
+    return nullptr;
 }
 
 void PartsPalette::showDesign(const Design &design)

@@ -10,10 +10,12 @@
 #include <QGraphicsLineItem>
 #include <QGraphicsRectItem>
 #include <QGraphicsSimpleTextItem>
+#include <QGraphicsTextItem>
 #include <QLegend>
 #include <QLegendMarker>
 #include <QLineSeries>
 #include <QMouseEvent>
+#include <QRegularExpression>
 #include <QScatterSeries>
 #include <QToolButton>
 #include <QValueAxis>
@@ -226,6 +228,48 @@ void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
         axis->setTickInterval(step);
     if (axis->min() != lo || axis->max() != hi)
         axis->setRange(lo, hi);
+}
+
+void PlotPanel::showUnavailable(const QString &reason)
+{
+    if (reason.isEmpty()) {
+        if (m_unavailable)
+            m_unavailable->hide();
+        return;
+    }
+    static const QRegularExpression count(QStringLiteral(" \\(\\d+\\)$"));
+    std::vector<std::pair<QXYSeries *, QString>> counted;
+    for (auto &[name, series] : m_series) {
+        series->replace(QList<QPointF>());
+        // A count in a legend label ("poles (4)") is a number of the last analysis too.
+        if (name.contains(count))
+            counted.emplace_back(series, QString(name).remove(count));
+    }
+    for (const auto &[series, name] : counted)
+        rename(series, name);
+    for (auto &[series, curve] : m_fullCurves)
+        curve.points.clear();
+    for (QLineSeries *s : m_overlaySeries)
+        s->replace(QList<QPointF>());
+    setTitle(tr("not analysed"));
+    showFrequencyCursor(std::nan(""));
+    if (!m_unavailable) {
+        m_unavailable = new QGraphicsTextItem(chart());
+        m_unavailable->setDefaultTextColor(QColor(0x8a, 0x1c, 0x14));
+        m_unavailable->setZValue(100);
+    }
+    const QRectF area = chart()->plotArea();
+    m_unavailable->setTextWidth(std::max(120.0, area.width() - 24));
+    m_unavailable->setPlainText(
+        tr("Not analysed: %1").arg(reason.section(QLatin1Char('\n'), 0, 0)));
+    m_unavailable->setPos(area.left() + 12,
+                          area.center().y() - m_unavailable->boundingRect().height() / 2);
+    m_unavailable->show();
+}
+
+QString PlotPanel::unavailableText() const
+{
+    return m_unavailable && m_unavailable->isVisible() ? m_unavailable->toPlainText() : QString();
 }
 
 void PlotPanel::setTitle(const QString &title)

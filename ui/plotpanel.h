@@ -59,6 +59,12 @@ public:
     explicit PlotPanel(const QString &title, QWidget *parent = nullptr);
 
     virtual void showAnalysis(const Analysis &analysis) = 0;
+    /// The design cannot be analysed: every curve is cleared and `reason` is shown over the
+    /// plot, so no earlier numbers stand as if current. An empty reason removes the notice
+    /// (the next showAnalysis() fills the curves again).
+    void showUnavailable(const QString &reason);
+    /// The notice shown over the plot, empty when the plot is current.
+    QString unavailableText() const;
 
     /// The series named `name` (its legend text), nullptr when there is none.
     QXYSeries *series(const QString &name) const;
@@ -167,6 +173,7 @@ private:
     void plotAreaChanged();
     void rebuildOverlays();
     QGraphicsSimpleTextItem *m_summary = nullptr;
+    QGraphicsTextItem *m_unavailable = nullptr;
     QAction *m_overlayAction = nullptr;
     QToolButton *m_overlayButton = nullptr;
     std::vector<OverlaySource> m_overlaySources;

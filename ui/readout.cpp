@@ -8,6 +8,7 @@
 
 #include <QHBoxLayout>
 #include <QLabel>
+#include <QRegularExpression>
 #include <QVBoxLayout>
 
 #include <cmath>
@@ -106,6 +107,19 @@ void Readout::setCell(int index, const QString &title, const QString &value, con
         = QStringLiteral("color: %1; font-size: 10.5pt; font-weight: 600;").arg(colour);
     if (c.value->styleSheet() != style)
         c.value->setStyleSheet(style);
+}
+
+void Readout::showUnavailable(const QString &reason)
+{
+    if (m_cells.empty())
+        setCell(0, tr("closed-loop gain, exact"), QStringLiteral("—"));
+    for (int i = 0; i < int(m_cells.size()); ++i) {
+        // A title that carries numbers of the last analysis (a noise band) loses them.
+        QString title = m_cells[std::size_t(i)].title->text();
+        if (title.contains(QRegularExpression(QStringLiteral("\\d"))))
+            title = title.section(QStringLiteral(", "), 0, 0);
+        setCell(i, title, QStringLiteral("—"), tr("Not analysed: %1").arg(reason), kNoVerdict);
+    }
 }
 
 void Readout::showAnalysis(const Analysis &a, const Design &design)

@@ -21,6 +21,8 @@ public:
     explicit Readout(QWidget *parent = nullptr);
 
     void showAnalysis(const Analysis &analysis, const Design &design);
+    /// The design cannot be analysed: every value reads "—", `reason` in the tooltips.
+    void showUnavailable(const QString &reason);
     /// All cells as "title: value" lines, then the warnings line when shown (for tests and
     /// the clipboard).
     QString plainText() const;

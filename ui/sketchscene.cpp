@@ -1,10 +1,12 @@
 #include "sketchscene.h"
 
+#include "groundsymbolitem.h"
 #include "partitem.h"
 #include "qtadapter.h"
 #include "sketchlayout.h"
 
 #include <QGraphicsPathItem>
+#include <QGraphicsSimpleTextItem>
 #include <QPainterPath>
 #include <QPen>
 
@@ -25,6 +27,9 @@ void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
 {
     clear();
     m_items.clear();
+    m_grounds.clear();
+    m_hint = nullptr;
+    m_problemMark = nullptr;
     m_design = design;
     m_layout = layout;
     m_wires
@@ -43,8 +48,77 @@ void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
         addItem(item);
         m_items[p.id] = item;
     }
+    for (std::size_t i = 0; i < layout.grounds.size(); ++i) {
+        auto *ground = new GroundSymbolItem(int(i));
+        ground->setPos(layout.grounds[i].x, layout.grounds[i].y);
+        addItem(ground);
+        m_grounds.push_back(ground);
+    }
+    if (design->parts.empty()) {
+        m_hint = addSimpleText(tr("Drag parts here from the Parts list (or double-click one), "
+                                  "then drag from pin to pin to wire them."));
+        m_hint->setBrush(QColor(0x5a, 0x60, 0x6b));
+        const QRectF r = m_hint->boundingRect();
+        const QPointF anchor = layout.grounds.empty()
+            ? QPointF(0, 0)
+            : QPointF(layout.grounds.front().x, layout.grounds.front().y);
+        m_hint->setPos(anchor.x() - r.width() / 2, anchor.y() - 220);
+    }
     m_applying = false;
     reroute();
+    markProblem(m_problem);
+}
+
+void SketchScene::markProblem(const std::string &partId)
+{
+    m_problem = partId;
+    PartItem *item = partItem(partId);
+    if (!item) {
+        if (m_problemMark)
+            m_problemMark->hide();
+        return;
+    }
+    if (!m_problemMark) {
+        m_problemMark = addPath(QPainterPath(), QPen(QColor(0xb3, 0x26, 0x1e), 2.0, Qt::DashLine));
+        m_problemMark->setZValue(-2);
+    }
+    QPainterPath ring;
+    ring.addRoundedRect(item->sceneBoundingRect().adjusted(-6, -6, 6, 6), 8, 8);
+    m_problemMark->setPath(ring);
+    m_problemMark->setToolTip(tr("The analysis stops at %1").arg(toQString(partId)));
+    m_problemMark->show();
+}
+
+int SketchScene::groundAt(QPointF scenePos, double radius, QPointF *at) const
+{
+    int found = -1;
+    double best = radius;
+    for (std::size_t i = 0; i < m_grounds.size(); ++i) {
+        const QPointF p = m_grounds[i]->pos() + GroundSymbolItem::pinPosition();
+        const double d = QLineF(p, scenePos).length();
+        if (d <= best) {
+            best = d;
+            found = int(i);
+            if (at)
+                *at = p;
+        }
+    }
+    return found;
+}
+
+std::vector<int> SketchScene::selectedGrounds() const
+{
+    std::vector<int> indices;
+    for (QGraphicsItem *item : selectedItems()) {
+        if (auto *g = qgraphicsitem_cast<GroundSymbolItem *>(item))
+            indices.push_back(g->index());
+    }
+    return indices;
+}
+
+QString SketchScene::hintText() const
+{
+    return m_hint ? m_hint->text() : QString();
 }
 
 void SketchScene::updatePart(const std::string &partId)
@@ -69,6 +143,14 @@ void SketchScene::applyLayout(const SketchLayout &layout)
                 item->update(*part, it->second.rotation);
         }
     }
+    if (m_design && layout.grounds.size() != m_grounds.size()) {
+        // A symbol added or removed: rebuild (selection and items are cheap here).
+        m_applying = false;
+        rebuild(m_design, layout);
+        return;
+    }
+    for (std::size_t i = 0; i < m_grounds.size(); ++i)
+        m_grounds[i]->setPos(layout.grounds[i].x, layout.grounds[i].y);
     m_applying = false;
     reroute();
 }

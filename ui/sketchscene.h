@@ -14,6 +14,7 @@
 #include <vector>
 
 class QGraphicsPathItem;
+class QGraphicsSimpleTextItem;
 
 namespace loopsketch::ui {
 
@@ -41,6 +42,17 @@ public:
                QPointF *at) const;
     /// Ids of all selected parts.
     std::vector<std::string> selectedPartIds() const;
+    /// The free-standing ground symbol whose pin is nearest `scenePos` within `radius`
+    /// (its index in the layout), -1 when there is none.
+    int groundAt(QPointF scenePos, double radius, QPointF *at = nullptr) const;
+    /// Indices of the selected ground symbols.
+    std::vector<int> selectedGrounds() const;
+    /// Rings the part the analysis cannot get past in red; empty removes the mark.
+    void markProblem(const std::string &partId);
+    /// The part marked by markProblem(), empty when none.
+    std::string problemPart() const { return m_problem; }
+    /// The one-line hint shown while the design has no parts; empty when hidden.
+    QString hintText() const;
 
     // Called by PartItem.
     void partDragged();
@@ -51,6 +63,8 @@ signals:
     void partsMoved(const QHash<QString, QPointF> &positions);
     /// The user dragged a value label: step the part's value by `steps` positions.
     void stepRequested(const std::string &partId, int steps, bool decade);
+    /// The user dropped ground symbol `index` at a new place (scene coordinates).
+    void groundMoved(int index, QPointF position);
 
 private:
     void reroute();
@@ -60,6 +74,10 @@ private:
     std::map<std::string, PartItem *> m_items;
     QGraphicsPathItem *m_wires = nullptr;
     QGraphicsPathItem *m_dots = nullptr;
+    std::vector<QGraphicsItem *> m_grounds;
+    QGraphicsSimpleTextItem *m_hint = nullptr;
+    QGraphicsPathItem *m_problemMark = nullptr;
+    std::string m_problem;
     bool m_applying = false;
 };
 

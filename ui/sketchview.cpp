@@ -1,13 +1,16 @@
 #include "sketchview.h"
 
 #include "partitem.h"
+#include "partspalette.h"
 #include "sketchscene.h"
 
 #include <QContextMenuEvent>
+#include <QDragEnterEvent>
 #include <QGraphicsLineItem>
 #include <QKeyEvent>
 #include <QLabel>
 #include <QMenu>
+#include <QMimeData>
 #include <QMouseEvent>
 #include <QScrollBar>
 #include <QWheelEvent>
@@ -24,6 +27,7 @@ SketchView::SketchView(SketchScene *scene, QWidget *parent)
     setTransformationAnchor(QGraphicsView::AnchorUnderMouse);
     setViewportUpdateMode(QGraphicsView::BoundingRectViewportUpdate);
     setFocusPolicy(Qt::StrongFocus);
+    setAcceptDrops(true);
     m_badge->setAttribute(Qt::WA_TransparentForMouseEvents);
     m_badge->move(8, 8);
     setBadge(QString(), true);
@@ -118,10 +122,13 @@ void SketchView::keyPressEvent(QKeyEvent *event)
     }
     if (sketch && (event->key() == Qt::Key_Delete || event->key() == Qt::Key_Backspace)) {
         const auto ids = sketch->selectedPartIds();
-        if (!ids.empty()) {
+        const auto grounds = sketch->selectedGrounds();
+        if (!grounds.empty())
+            emit deleteGroundsRequested(grounds);
+        if (!ids.empty())
             emit deleteRequested(ids);
+        if (!ids.empty() || !grounds.empty())
             return;
-        }
     }
     if (event->key() == Qt::Key_Plus || event->key() == Qt::Key_Equal) {
         m_autoFit = false;
@@ -140,9 +147,17 @@ void SketchView::mousePressEvent(QMouseEvent *event)
 {
     auto *sketch = qobject_cast<SketchScene *>(scene());
     QPointF at;
-    if (event->button() == Qt::LeftButton && sketch
-        && sketch->pinAt(mapToScene(event->position().toPoint()), 7.0, &m_wirePart, &m_wireTerminal,
-                         &at)) {
+    const QPointF scenePos = mapToScene(event->position().toPoint());
+    bool fromPin = false;
+    if (event->button() == Qt::LeftButton && sketch) {
+        fromPin = sketch->pinAt(scenePos, 7.0, &m_wirePart, &m_wireTerminal, &at);
+        if (!fromPin && sketch->groundAt(scenePos, 7.0, &at) >= 0) {
+            fromPin = true;
+            m_wirePart.clear();
+            m_wireTerminal.clear();
+        }
+    }
+    if (fromPin) {
         m_wire = sketch->addLine(QLineF(at, at), QPen(QColor(0x00, 0x72, 0xb2), 1.5, Qt::DashLine));
         m_wire->setZValue(50);
         event->accept();
@@ -187,10 +202,17 @@ void SketchView::mouseReleaseEvent(QMouseEvent *event)
         auto *sketch = qobject_cast<SketchScene *>(scene());
         std::string part, terminal;
         QPointF at;
-        if (sketch
-            && sketch->pinAt(mapToScene(event->position().toPoint()), 9.0, &part, &terminal, &at)
-            && !(part == m_wirePart && terminal == m_wireTerminal))
+        const QPointF end = mapToScene(event->position().toPoint());
+        const bool onPin = sketch && sketch->pinAt(end, 9.0, &part, &terminal, &at);
+        const bool onGround = !onPin && sketch && sketch->groundAt(end, 9.0) >= 0;
+        if (m_wirePart.empty()) {
+            if (onPin)
+                emit groundRequested(part, terminal);
+        } else if (onGround) {
+            emit groundRequested(m_wirePart, m_wireTerminal);
+        } else if (onPin && !(part == m_wirePart && terminal == m_wireTerminal)) {
             emit connectRequested(m_wirePart, m_wireTerminal, part, terminal);
+        }
         event->accept();
         return;
     }
@@ -226,6 +248,35 @@ void SketchView::contextMenuEvent(QContextMenuEvent *event)
         return;
     }
     menu.exec(event->globalPos());
+}
+
+void SketchView::dragEnterEvent(QDragEnterEvent *event)
+{
+    if (event->mimeData()->hasFormat(PartsPalette::kSymbolMimeType))
+        event->acceptProposedAction();
+    else
+        event->ignore();
+}
+
+void SketchView::dragMoveEvent(QDragMoveEvent *event)
+{
+    if (event->mimeData()->hasFormat(PartsPalette::kSymbolMimeType))
+        event->acceptProposedAction();
+    else
+        event->ignore();
+}
+
+void SketchView::dropEvent(QDropEvent *event)
+{
+    bool ok = false;
+    const int symbol
+        = QString::fromUtf8(event->mimeData()->data(PartsPalette::kSymbolMimeType)).toInt(&ok);
+    if (!ok) {
+        event->ignore();
+        return;
+    }
+    event->acceptProposedAction();
+    emit placeRequested(symbol, mapToScene(event->position().toPoint()));
 }
 
 void SketchView::resizeEvent(QResizeEvent *event)

@@ -39,6 +39,10 @@ signals:
     void connectRequested(const std::string &partA, const std::string &terminalA,
                           const std::string &partB, const std::string &terminalB);
     void groundRequested(const std::string &partId, const std::string &terminal);
+    /// A symbol from the Parts palette was dropped at `scenePos`: `symbol` is a PartType, or
+    /// -1 for a ground symbol.
+    void placeRequested(int symbol, QPointF scenePos);
+    void deleteGroundsRequested(const std::vector<int> &indices);
 
 protected:
     void wheelEvent(QWheelEvent *event) override;
@@ -48,6 +52,9 @@ protected:
     void mouseMoveEvent(QMouseEvent *event) override;
     void mouseReleaseEvent(QMouseEvent *event) override;
     void contextMenuEvent(QContextMenuEvent *event) override;
+    void dragEnterEvent(QDragEnterEvent *event) override;
+    void dragMoveEvent(QDragMoveEvent *event) override;
+    void dropEvent(QDropEvent *event) override;
 
 private:
     QLabel *m_badge;
@@ -56,7 +63,7 @@ private:
     bool m_panning = false;
     // A wire being drawn from a pin.
     QGraphicsLineItem *m_wire = nullptr;
-    std::string m_wirePart, m_wireTerminal;
+    std::string m_wirePart, m_wireTerminal; ///< empty part: the wire starts at a ground symbol
     int m_badgeForm = -1; ///< style last applied: 1 two-port form, 0 none, -1 never
     QPoint m_panFrom;
 };

@@ -733,7 +733,7 @@ public:
             typeError("", "sketch", j, "an object");
             return;
         }
-        checkKeys(j, {"parts", "wires"}, "", "sketch");
+        checkKeys(j, {"parts", "wires", "grounds"}, "", "sketch");
         if (auto parts = j.find("parts"); parts != j.end()) {
             if (!parts->is_object()) {
                 typeError("", "sketch.parts", *parts, "an object of part id: placement");
@@ -797,6 +797,21 @@ public:
                     wire.points.emplace_back(pt[0].get<double>(), pt[1].get<double>());
                 }
                 sketch.wires.push_back(std::move(wire));
+            }
+        }
+        if (auto grounds = j.find("grounds"); grounds != j.end()) {
+            if (!grounds->is_array()) {
+                typeError("", "sketch.grounds", *grounds, "a list of [x, y] points");
+                return;
+            }
+            for (std::size_t i = 0; i < grounds->size(); ++i) {
+                const Json &pt = (*grounds)[i];
+                if (!pt.is_array() || pt.size() != 2 || !pt[0].is_number() || !pt[1].is_number()) {
+                    error("", "sketch.grounds[" + std::to_string(i) + "]",
+                          "expected an [x, y] point");
+                    continue;
+                }
+                sketch.grounds.push_back({pt[0].get<double>(), pt[1].get<double>()});
             }
         }
     }
@@ -947,6 +962,11 @@ std::string partLine(const Part &p)
 
 Result<Design> parseDesign(std::string_view text, std::string_view file)
 {
+    return parseDesign(text, DesignRules::Complete, file);
+}
+
+Result<Design> parseDesign(std::string_view text, DesignRules rules, std::string_view file)
+{
     const std::string fileName(file);
     if (text.size() > kMaxDesignFileBytes) {
         return Diagnostic{fileName, "", "",
@@ -981,12 +1001,17 @@ Result<Design> parseDesign(std::string_view text, std::string_view file)
     std::optional<Design> design = reader.readDesign(root);
     if (reader.failed() || !design)
         return reader.take();
-    if (Diagnostics problems = validateDesign(*design, file); !problems.empty())
+    if (Diagnostics problems = validateDesign(*design, rules, file); !problems.empty())
         return problems;
     return std::move(*design);
 }
 
 Result<Design> loadDesign(const std::string &path)
+{
+    return loadDesign(path, DesignRules::Complete);
+}
+
+Result<Design> loadDesign(const std::string &path, DesignRules rules)
 {
     namespace fs = std::filesystem;
     std::error_code ec;
@@ -1014,7 +1039,7 @@ Result<Design> loadDesign(const std::string &path)
     if (in.bad())
         return Diagnostic{path, "", "", "error while reading the file"};
     text.resize(static_cast<std::size_t>(in.gcount()));
-    return parseDesign(text, path);
+    return parseDesign(text, rules, path);
 }
 
 std::string serializeDesign(const Design &d)
@@ -1091,8 +1116,11 @@ std::string serializeDesign(const Design &d)
             }
             s += "    },\n";
         }
+        // Written only when there are some, so files from before ground symbols round-trip
+        // byte-identically.
+        const std::string afterWires = d.sketch->grounds.empty() ? "\n" : ",\n";
         if (d.sketch->wires.empty()) {
-            s += "    \"wires\": []\n";
+            s += "    \"wires\": []" + afterWires;
         } else {
             s += "    \"wires\": [\n";
             for (std::size_t i = 0; i < d.sketch->wires.size(); ++i) {
@@ -1103,7 +1131,14 @@ std::string serializeDesign(const Design &d)
                         + jsonNumber(pts[k].second) + "]";
                 s += i + 1 < d.sketch->wires.size() ? "]},\n" : "]}\n";
             }
-            s += "    ]\n";
+            s += "    ]" + afterWires;
+        }
+        if (!d.sketch->grounds.empty()) {
+            s += "    \"grounds\": [";
+            for (std::size_t i = 0; i < d.sketch->grounds.size(); ++i)
+                s += (i ? ", [" : "[") + jsonNumber(d.sketch->grounds[i].x) + ", "
+                    + jsonNumber(d.sketch->grounds[i].y) + "]";
+            s += "]\n";
         }
         s += "  }";
     }

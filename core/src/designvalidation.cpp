@@ -89,7 +89,7 @@ private:
     std::vector<int> m_parent;
 };
 
-void checkParts(const Design &d, Checker &c)
+void checkParts(const Design &d, Checker &c, bool wiring)
 {
     std::set<std::string> seen;
     for (std::size_t i = 0; i < d.parts.size(); ++i) {
@@ -114,12 +114,12 @@ void checkParts(const Design &d, Checker &c)
             if (p.nodes[t].empty())
                 c.add(label, std::string(spec.terminals[t]), "node name is empty");
         }
-        if (spec.terminals.size() == 2 && p.nodes.size() == 2 && !p.nodes[0].empty()
+        if (wiring && spec.terminals.size() == 2 && p.nodes.size() == 2 && !p.nodes[0].empty()
             && p.nodes[0] == p.nodes[1]) {
             c.add(label, std::string(spec.terminals[1]),
                   "both terminals are on node " + inQuotes(p.nodes[0]) + " (the part is shorted)");
         }
-        if (p.type == PartType::GainBlock && p.nodes.size() == 3) {
+        if (wiring && p.type == PartType::GainBlock && p.nodes.size() == 3) {
             if (!p.nodes[0].empty() && p.nodes[0] == p.nodes[1])
                 c.add(label, "in_n", "in_p and in_n are both on node " + inQuotes(p.nodes[0]));
             if (p.nodes[2] == kGroundNode)
@@ -217,6 +217,21 @@ void checkConnectivity(const Design &d, Checker &c)
     }
 }
 
+/// In a draft only the input's reference is checked: empty, or an existing signal source.
+void checkInput(const Design &d, Checker &c, bool required)
+{
+    if (d.input.empty()) {
+        if (required)
+            c.add("", "input", "input is empty: it must name the signal source");
+    } else if (const Part *p = d.findPart(d.input); !p) {
+        c.add("", "input", "input names part " + inQuotes(d.input) + ", which does not exist");
+    } else if (!partSpec(p->type).isSignalSource) {
+        c.add(d.input, "input",
+              "input names " + d.input + ", a " + typeName(p->type)
+                  + "; it must name the signal source (vsource or isource)");
+    }
+}
+
 void checkRoles(const Design &d, Checker &c)
 {
     std::vector<std::string> gainBlocks, sources, loads;
@@ -243,16 +258,7 @@ void checkRoles(const Design &d, Checker &c)
     exactlyOne(gainBlocks, "gain block");
     exactlyOne(sources, "signal source");
     exactlyOne(loads, "load");
-
-    if (d.input.empty()) {
-        c.add("", "input", "input is empty: it must name the signal source");
-    } else if (const Part *p = d.findPart(d.input); !p) {
-        c.add("", "input", "input names part " + inQuotes(d.input) + ", which does not exist");
-    } else if (!partSpec(p->type).isSignalSource) {
-        c.add(d.input, "input",
-              "input names " + d.input + ", a " + typeName(p->type)
-                  + "; it must name the signal source (vsource or isource)");
-    }
+    checkInput(d, c, true);
 }
 
 void checkSweep(const Sweep &s, Checker &c)
@@ -452,6 +458,12 @@ void checkLimits(const Design &d, Checker &c)
 
 Diagnostics validateDesign(const Design &design, std::string_view file)
 {
+    return validateDesign(design, DesignRules::Complete, file);
+}
+
+Diagnostics validateDesign(const Design &design, DesignRules rules, std::string_view file)
+{
+    const bool complete = rules == DesignRules::Complete;
     Checker c(file);
     if (design.parts.size() > kMaxParts) {
         c.add("", "parts",
@@ -462,9 +474,13 @@ Diagnostics validateDesign(const Design &design, std::string_view file)
     checkLimits(design, c);
     if (Diagnostics limits = c.take(); !limits.empty())
         return limits;
-    checkParts(design, c);
-    checkConnectivity(design, c);
-    checkRoles(design, c);
+    checkParts(design, c, complete);
+    if (complete) {
+        checkConnectivity(design, c);
+        checkRoles(design, c);
+    } else {
+        checkInput(design, c, false);
+    }
     checkSweep(design.sweep, c);
     checkSpecs(design.specs, c);
     checkTemperature(design, c);

@@ -426,6 +426,58 @@ TEST(DesignFile, InMemoryDesignRoundTrips)
     EXPECT_EQ(serializeDesign(*back), text);
 }
 
+TEST(DesignFile, GroundSymbolsRoundTripAndAreCheckedWhereTheyStand)
+{
+    auto base = parseDesign(kBase, "b");
+    ASSERT_TRUE(base.ok()) << base.errorText();
+    Design d = *base;
+    d.sketch = SketchLayout{};
+    d.sketch->grounds = {{0, 120}, {-40.5, 260}};
+    const std::string text = serializeDesign(d);
+    EXPECT_THAT(text, HasSubstr("\"grounds\": [[0, 120], [-40.5, 260]]"));
+    const auto back = parseDesign(text, "g");
+    ASSERT_TRUE(back.ok()) << back.errorText();
+    EXPECT_TRUE(*back == d);
+    EXPECT_EQ(serializeDesign(*back), text);
+
+    const auto bad = parseDesign(replaced(text, "[-40.5, 260]", "[-40.5]"), "g.loopsketch");
+    ASSERT_FALSE(bad.ok());
+    EXPECT_THAT(bad.errorText(), HasSubstr("sketch.grounds[1]"));
+}
+
+TEST(DesignFile, DraftRulesAcceptAnUnfinishedCircuitButNotBrokenReferences)
+{
+    // A design being drawn: no gain block, no load, a dangling node, a shorted part.
+    const std::string draft = R"({
+  "schema": "loopsketch.design/1",
+  "title": "",
+  "parts": [
+    {"id": "R1", "type": "resistor", "a": "n1", "b": "0", "value": "1k"},
+    {"id": "R2", "type": "resistor", "a": "n2", "b": "n2", "value": "10k"}
+  ],
+  "input": "",
+  "output": "voltage",
+  "sweep": {"start": "1", "stop": "1G", "points_per_decade": 100}
+}
+)";
+    const auto strict = parseDesign(draft, "d.loopsketch");
+    ASSERT_FALSE(strict.ok());
+    EXPECT_THAT(strict.errorText(), HasSubstr("no gain block"));
+    const auto relaxed = parseDesign(draft, DesignRules::Draft, "d.loopsketch");
+    ASSERT_TRUE(relaxed.ok()) << relaxed.errorText();
+    EXPECT_EQ(serializeDesign(*relaxed), draft);
+
+    // What names a part must still name one that exists, and values must still parse.
+    const auto ghostInput = parseDesign(replaced(draft, "\"input\": \"\"", "\"input\": \"VS7\""),
+                                        DesignRules::Draft, "d.loopsketch");
+    ASSERT_FALSE(ghostInput.ok());
+    EXPECT_THAT(ghostInput.errorText(), HasSubstr("input names part \"VS7\""));
+    const auto badValue
+        = parseDesign(replaced(draft, "\"10k\"", "\"10kk\""), DesignRules::Draft, "d.loopsketch");
+    ASSERT_FALSE(badValue.ok());
+    EXPECT_THAT(badValue.errorText(), HasSubstr("part R2"));
+}
+
 TEST(DesignFile, OptionalSectionsAreOmitted)
 {
     const auto d = parseDesign(kBase, "b");

@@ -152,10 +152,20 @@ struct SketchWire
     bool operator==(const SketchWire &) const = default;
 };
 
+/// A free-standing ground symbol on the Sketch (design-file key `sketch.grounds`): pins
+/// wired to it sit on node "0". Scene units, like placements.
+struct SketchGround
+{
+    double x = 0;
+    double y = 0;
+    bool operator==(const SketchGround &) const = default;
+};
+
 struct SketchLayout
 {
     std::map<std::string, SketchPlacement> parts;
     std::vector<SketchWire> wires;
+    std::vector<SketchGround> grounds;
     bool operator==(const SketchLayout &) const = default;
 };
 
@@ -200,5 +210,19 @@ struct Design
 /// floating subnetworks, value ranges, exactly one gain block / source / load, sweep).
 /// Empty when the design is valid. `file` is copied into each diagnostic.
 Diagnostics validateDesign(const Design &design, std::string_view file = {});
+
+/// Which rules a check applies.
+enum class DesignRules {
+    /// Everything an analysis needs (the default of the loader and of every analysis).
+    Complete,
+    /// A design being drawn: what a file must hold to mean something (ids, values, sweep,
+    /// specs, candidates and the input naming existing parts, the layout), without the
+    /// rules of a finished circuit (one gain block, source and load; ground; no dangling or
+    /// floating node; no shorted part). The Sketch saves and opens drafts.
+    Draft,
+};
+
+/// validateDesign() with a choice of rules.
+Diagnostics validateDesign(const Design &design, DesignRules rules, std::string_view file = {});
 
 } // namespace loopsketch

@@ -16,9 +16,14 @@ namespace loopsketch {
 /// duplicate keys, invalid UTF-8, truncated JSON, text over kMaxDesignFileBytes, more than
 /// kMaxParts parts, and everything validateDesign() rejects.
 Result<Design> parseDesign(std::string_view text, std::string_view file = {});
+/// parseDesign() with a choice of rules: DesignRules::Draft also accepts a design still
+/// being drawn (what the Sketch saves), everything else as strict.
+Result<Design> parseDesign(std::string_view text, DesignRules rules, std::string_view file = {});
 
 /// Reads and parses a file from disk.
 Result<Design> loadDesign(const std::string &path);
+/// loadDesign() with a choice of rules (see parseDesign()).
+Result<Design> loadDesign(const std::string &path, DesignRules rules);
 
 /// The canonical JSON text of a design: fixed key order, two-space indent, trailing newline.
 /// parseDesign(serializeDesign(d)) == d, and a canonical file saves back byte-identical.

@@ -1,0 +1,625 @@
+// A design session from a blank page: File > New, parts dropped from the palette, pins wired
+// by dragging, values typed into the Inspector and the design's properties; the integrity of
+// everything that names a part across deletions and renames (files that always reopen); and
+// views that never show the last good numbers once the design cannot be analysed.
+
+#include "designdocument.h"
+#include "designpropertiespanel.h"
+#include "groundsymbolitem.h"
+#include "inspector.h"
+#include "mainwindow.h"
+#include "panels.h"
+#include "partitem.h"
+#include "partspalette.h"
+#include "plotpanel.h"
+#include "qtadapter.h"
+#include "readout.h"
+#include "sketchlayout.h"
+#include "sketchscene.h"
+#include "sketchview.h"
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/candidate.h"
+#include "loopsketch/designfile.h"
+
+#include <QAction>
+#include <QApplication>
+#include <QComboBox>
+#include <QDir>
+#include <QDropEvent>
+#include <QLineEdit>
+#include <QListWidget>
+#include <QMimeData>
+#include <QSignalSpy>
+#include <QTemporaryDir>
+#include <QTest>
+#include <QXYSeries>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <iostream>
+#include <memory>
+#include <random>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+using ::testing::HasSubstr;
+
+namespace {
+
+const QString kDesigns = QStringLiteral(LOOPSKETCH_DESIGNS_DIR);
+
+class BlankDesignTest : public ::testing::Test
+{
+protected:
+    void SetUp() override
+    {
+        window = std::make_unique<MainWindow>();
+        window->setAskBeforeDiscarding(false);
+        window->resize(1500, 940);
+        window->show();
+        ASSERT_TRUE(QTest::qWaitForWindowExposed(window.get()));
+    }
+
+    DesignDocument *doc() const { return window->document(); }
+    SketchView *view() const { return window->sketchView(); }
+    SketchScene *scene() const { return window->sketchScene(); }
+
+    void openExample(const QString &name)
+    {
+        QString error;
+        ASSERT_TRUE(window->openFile(kDesigns + QLatin1Char('/') + name, &error))
+            << error.toStdString();
+        QApplication::processEvents();
+    }
+
+    /// Drags the palette symbol `label` onto the Sketch and drops it at viewport point `at`
+    /// (the drag data is the palette's own).
+    void dropSymbol(const QString &label, QPoint at)
+    {
+        std::unique_ptr<QMimeData> data(window->partsPalette()->dragData(label));
+        ASSERT_NE(data, nullptr) << label.toStdString();
+        QWidget *vp = view()->viewport();
+        QDragEnterEvent enter(at, Qt::CopyAction, data.get(), Qt::LeftButton, Qt::NoModifier);
+        QApplication::sendEvent(vp, &enter);
+        ASSERT_TRUE(enter.isAccepted());
+        QDragMoveEvent move(at, Qt::CopyAction, data.get(), Qt::LeftButton, Qt::NoModifier);
+        QApplication::sendEvent(vp, &move);
+        QDropEvent drop(QPointF(at), Qt::CopyAction, data.get(), Qt::LeftButton, Qt::NoModifier);
+        QApplication::sendEvent(vp, &drop);
+        QApplication::processEvents();
+    }
+
+    QPointF pinPos(const std::string &part, const std::string &terminal) const
+    {
+        PartItem *item = scene()->partItem(part);
+        EXPECT_NE(item, nullptr) << part;
+        if (!item)
+            return {};
+        const SketchPlacement placement{item->pos().x(), item->pos().y(), item->symbolRotation()};
+        for (const PinGeometry &pin : pinGeometry(item->partType())) {
+            if (pin.terminal == terminal)
+                return toScene(placement, pin.position);
+        }
+        ADD_FAILURE() << part << " has no pin " << terminal;
+        return {};
+    }
+
+    /// A mouse drag on the Sketch from one scene point to another.
+    void dragOnSketch(QPointF from, QPointF to)
+    {
+        QWidget *vp = view()->viewport();
+        const QPoint a = view()->mapFromScene(from), b = view()->mapFromScene(to);
+        QTest::mousePress(vp, Qt::LeftButton, {}, a);
+        QTest::mouseMove(vp, (a + b) / 2);
+        QTest::mouseMove(vp, b);
+        QTest::mouseRelease(vp, Qt::LeftButton, {}, b);
+    }
+
+    void wire(const std::string &pa, const std::string &ta, const std::string &pb,
+              const std::string &tb)
+    {
+        dragOnSketch(pinPos(pa, ta), pinPos(pb, tb));
+        EXPECT_EQ(doc()->design().findPart(pa)->node(ta), doc()->design().findPart(pb)->node(tb))
+            << pa << "." << ta << " to " << pb << "." << tb;
+    }
+
+    void wireToGround(const std::string &part, const std::string &terminal)
+    {
+        ASSERT_FALSE(doc()->layout().grounds.empty());
+        const SketchGround g = doc()->layout().grounds.front();
+        dragOnSketch(pinPos(part, terminal), QPointF(g.x, g.y));
+        EXPECT_EQ(doc()->design().findPart(part)->node(terminal), "0") << part << "." << terminal;
+    }
+
+    /// Types `text` into a line edit and presses Return, as a user would.
+    static void type(QLineEdit *edit, const QString &text)
+    {
+        ASSERT_NE(edit, nullptr);
+        edit->setFocus();
+        edit->selectAll();
+        QTest::keyClick(edit, Qt::Key_Delete);
+        QTest::keyClicks(edit, text);
+        QTest::keyClick(edit, Qt::Key_Return);
+    }
+
+    void settle()
+    {
+        QApplication::processEvents();
+        doc()->recomputeNow();
+        QApplication::processEvents();
+    }
+
+    /// The window shows nothing of an analysis: Readout values "—", every plot empty with its
+    /// notice, the badge says so.
+    void expectNotAnalysed() const
+    {
+        EXPECT_EQ(doc()->analysis(), nullptr);
+        const QStringList lines = window->readout()->plainText().split(QLatin1Char('\n'));
+        ASSERT_FALSE(lines.isEmpty());
+        for (const QString &line : lines)
+            EXPECT_TRUE(line.endsWith(QStringLiteral(": —"))) << line.toStdString();
+        for (PlotPanel *panel : window->panels()) {
+            EXPECT_THAT(panel->unavailableText().toStdString(), HasSubstr("Not analysed"));
+            for (QAbstractSeries *s : panel->chart()->series()) {
+                if (auto *xy = qobject_cast<QXYSeries *>(s)) {
+                    EXPECT_EQ(xy->count(), 0) << xy->name().toStdString();
+                }
+            }
+        }
+        EXPECT_EQ(view()->badgeText(), QStringLiteral("not analysed"));
+    }
+
+    std::unique_ptr<MainWindow> window;
+};
+
+// ---- From a blank page ----
+
+TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
+{
+    auto *newAction = window->findChild<QAction *>(QStringLiteral("NewDesignAction"));
+    ASSERT_NE(newAction, nullptr);
+    EXPECT_EQ(newAction->shortcut(), QKeySequence(QKeySequence::New));
+    newAction->trigger();
+    settle();
+    EXPECT_TRUE(doc()->design().parts.empty());
+    EXPECT_TRUE(doc()->design().candidates.empty());
+    EXPECT_TRUE(doc()->design().title.empty());
+    ASSERT_EQ(doc()->layout().grounds.size(), 1u);
+    EXPECT_FALSE(scene()->hintText().isEmpty());
+    expectNotAnalysed();
+
+    // Parts dropped from the palette land where they are dropped (on the grid).
+    const QSize size = view()->viewport()->size();
+    auto at = [&](double fx, double fy) {
+        return QPoint(int(size.width() * fx), int(size.height() * fy));
+    };
+    struct Drop
+    {
+        QString label;
+        QPoint where;
+        std::string id;
+    };
+    const Drop drops[] = {
+        {QStringLiteral("signal source (voltage)"), at(0.18, 0.55), "VS1"},
+        {QStringLiteral("gain block"), at(0.45, 0.45), "U1"},
+        {QStringLiteral("resistor"), at(0.40, 0.75), "R1"},
+        {QStringLiteral("resistor"), at(0.50, 0.20), "R2"},
+        {QStringLiteral("load"), at(0.78, 0.60), "RL1"},
+    };
+    for (const Drop &d : drops) {
+        dropSymbol(d.label, d.where);
+        PartItem *item = scene()->partItem(d.id);
+        ASSERT_NE(item, nullptr) << d.id;
+        const QPointF want = view()->mapToScene(d.where);
+        EXPECT_NEAR(item->pos().x(), snapToGrid(want.x()), 1e-9) << d.id;
+        EXPECT_NEAR(item->pos().y(), snapToGrid(want.y()), 1e-9) << d.id;
+    }
+    EXPECT_TRUE(scene()->hintText().isEmpty());
+    EXPECT_EQ(doc()->design().input, "VS1"); // the only source, chosen automatically
+    EXPECT_NEAR(doc()->design().findPart("U1")->number("gbw"), 10e6, 1.0);
+
+    // Wiring, pin to pin by dragging; grounds by dragging a pin onto the ground symbol.
+    wire("VS1", "pos", "U1", "in_p");
+    wire("U1", "out", "R2", "b");
+    wire("R2", "a", "U1", "in_n");
+    wire("R1", "b", "U1", "in_n");
+    wire("RL1", "a", "U1", "out");
+    wireToGround("VS1", "neg");
+    wireToGround("R1", "a");
+    wireToGround("RL1", "b");
+
+    // Values through the Inspector.
+    scene()->selectPart("R2");
+    QApplication::processEvents();
+    ASSERT_EQ(window->inspector()->partId(), "R2");
+    type(window->inspector()->fieldEdit("value"), QStringLiteral("10k"));
+    scene()->selectPart("R1");
+    QApplication::processEvents();
+    type(window->inspector()->fieldEdit("value"), QStringLiteral("1k"));
+    scene()->selectPart("RL1");
+    QApplication::processEvents();
+    type(window->inspector()->fieldEdit("r"), QStringLiteral("2k"));
+    EXPECT_NEAR(doc()->design().findPart("R2")->number("value"), 10e3, 1e-9);
+    EXPECT_NEAR(doc()->design().findPart("RL1")->number("r"), 2e3, 1e-9);
+
+    // Design properties: title and specs.
+    DesignPropertiesPanel *props = window->designProperties();
+    type(props->edit("title"), QStringLiteral("Bench preamp, gain 11"));
+    type(props->edit("gain_min"), QStringLiteral("10.9"));
+    type(props->edit("gain_max"), QStringLiteral("11.1"));
+    type(props->edit("bandwidth_min"), QStringLiteral("500k"));
+    type(props->edit("phase_margin_min_deg"), QStringLiteral("60"));
+    type(props->edit("noise_band_low"), QStringLiteral("10"));
+    EXPECT_THAT(props->error("noise_band_low").toStdString(), HasSubstr("both ends"));
+    type(props->edit("noise_band_high"), QStringLiteral("100k"));
+    EXPECT_TRUE(props->error("noise_band_low").isEmpty());
+    ASSERT_TRUE(doc()->design().noiseBand.has_value());
+    EXPECT_NEAR(doc()->design().noiseBand->low.si, 10.0, 1e-12);
+    EXPECT_NEAR(doc()->design().noiseBand->high.si, 1e5, 1e-6);
+    type(props->edit("sweep_stop"), QStringLiteral("12kk"));
+    EXPECT_THAT(props->error("sweep_stop").toStdString(), HasSubstr("12kk"));
+    EXPECT_NEAR(doc()->design().sweep.stop.si, 1e9, 1.0);
+    type(props->edit("sweep_stop"), QStringLiteral("1G"));
+    EXPECT_EQ(doc()->design().title, "Bench preamp, gain 11");
+    ASSERT_TRUE(doc()->design().specs.gainMin.has_value());
+    EXPECT_NEAR(doc()->design().specs.gainMin->si, 10.9, 1e-12);
+    EXPECT_EQ(props->inputChooser()->currentText(), QStringLiteral("VS1"));
+
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr) << doc()->lastDiagnostics().toStdString();
+    auto expected = analyze(doc()->design());
+    ASSERT_TRUE(expected.ok()) << expected.errorText();
+    const Analysis &a = *expected;
+
+    // Outside check: an ideal non-inverting stage has gain 1 + R2/R1 = 11; with an
+    // open-loop gain of 1e5 the loop gain is 1e5/11, so the gain is 11/(1 + 11e-5) = 10.9988
+    // (common practice: G = (1 + R2/R1) / (1 + 1/T)).
+    ASSERT_TRUE(a.exact.gain.has_value());
+    EXPECT_NEAR(*a.exact.gain, 11.0 / (1.0 + 11.0 / 1e5), 2e-3);
+    // A one-pole gain block of gain-bandwidth 10 MHz in a loop with beta = 1/11 crosses
+    // over near GBW * beta = 909 kHz (common practice; within 3 %).
+    ASSERT_TRUE(a.margins.crossoverHz.has_value());
+    EXPECT_NEAR(*a.margins.crossoverHz, 10e6 / 11.0, 0.03 * 10e6 / 11.0);
+
+    const Readout *readout = window->readout();
+    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
+              engineering(a.exact.gain, a.gainUnit, 4));
+    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"));
+    QXYSeries *t = window->loopGainPanel()->series(LoopGainPanel::kT);
+    ASSERT_NE(t, nullptr);
+    const QList<QPointF> want
+        = curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb);
+    const QList<QPointF> full = window->loopGainPanel()->fullPoints(t);
+    ASSERT_GT(want.size(), 100);
+    ASSERT_EQ(full.size(), want.size());
+    for (qsizetype i = 0; i < full.size(); ++i) {
+        ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
+        ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
+    }
+    for (PlotPanel *panel : window->panels())
+        EXPECT_TRUE(panel->unavailableText().isEmpty());
+
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/from-blank.png"));
+
+    // The whole session undoes back to the blank page.
+    while (doc()->undoStack()->canUndo())
+        doc()->undoStack()->undo();
+    EXPECT_EQ(doc()->design(), DesignDocument::blankDesign());
+}
+
+TEST_F(BlankDesignTest, FromBlankDoubleClickPlacesAtTheCentreAndGroundIsPlaceable)
+{
+    window->newDesign();
+    settle();
+    const QPointF centre = view()->mapToScene(view()->viewport()->rect().center());
+    emit window->partsPalette()->placeRequested(int(PartType::Resistor));
+    PartItem *r1 = scene()->partItem("R1");
+    ASSERT_NE(r1, nullptr);
+    // Within one grid step of the centre, or beside the ground symbol if that sits there.
+    EXPECT_LT(QLineF(r1->pos(), centre).length(), 120.0);
+    EXPECT_TRUE(view()->viewport()->rect().contains(view()->mapFromScene(r1->pos())));
+
+    dropSymbol(QStringLiteral("ground"), view()->viewport()->rect().center() + QPoint(0, 150));
+    ASSERT_EQ(doc()->layout().grounds.size(), 2u);
+    doc()->undoStack()->undo();
+    EXPECT_EQ(doc()->layout().grounds.size(), 1u);
+}
+
+// ---- Integrity: what names a part follows it; files always reopen ----
+
+TEST_F(BlankDesignTest, ReopenAfterDeletingAPartNamedByACandidate)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    const Design before = doc()->design();
+    // The demo's candidates name CF; find one that names only CF, if any, and one more.
+    int naming = 0;
+    for (const Candidate &c : before.candidates)
+        naming += c.values.count("CF") != 0;
+    ASSERT_GT(naming, 0) << "the demo has no candidate naming CF";
+    QSignalSpy notices(doc(), &DesignDocument::noticeIssued);
+
+    scene()->selectPart("CF");
+    QTest::keyClick(view(), Qt::Key_Delete);
+    ASSERT_EQ(doc()->design().findPart("CF"), nullptr);
+    for (const Candidate &c : doc()->design().candidates) {
+        EXPECT_EQ(c.values.count("CF"), 0u) << c.name;
+        EXPECT_FALSE(c.values.empty()) << c.name;
+    }
+    EXPECT_EQ(notices.count(), 1);
+
+    QTemporaryDir dir;
+    const QString path = dir.filePath(QStringLiteral("no-cf.loopsketch"));
+    QString error;
+    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
+    auto reloaded = loadDesign(path.toStdString());
+    ASSERT_TRUE(reloaded.ok()) << reloaded.errorText();
+    EXPECT_EQ(*reloaded, doc()->design());
+    MainWindow second;
+    second.setAskBeforeDiscarding(false);
+    ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+
+    // One undo step brings the part and every candidate entry back.
+    doc()->undoStack()->undo();
+    EXPECT_EQ(doc()->design(), before);
+}
+
+TEST_F(BlankDesignTest, ReopenAfterRenamingAndDeletingTheSource)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    const std::string source = doc()->design().input;
+    ASSERT_FALSE(source.empty());
+    QString error;
+    ASSERT_TRUE(doc()->renamePart(source, "SRC9", &error)) << error.toStdString();
+    EXPECT_EQ(doc()->design().input, "SRC9");
+    EXPECT_FALSE(doc()->renamePart("SRC9", "bad id!", &error));
+    EXPECT_THAT(error.toStdString(), HasSubstr("bad id!"));
+    doc()->removeParts({"SRC9"});
+    EXPECT_TRUE(doc()->design().input.empty());
+    QTemporaryDir dir;
+    const QString path = dir.filePath(QStringLiteral("no-source.loopsketch"));
+    // A design without a source is a draft: it saves and opens again, and the command
+    // line's strict loader says what is missing.
+    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
+    auto reloaded = loadDesign(path.toStdString(), DesignRules::Draft);
+    ASSERT_TRUE(reloaded.ok()) << reloaded.errorText();
+    EXPECT_EQ(*reloaded, doc()->design());
+    auto strict = loadDesign(path.toStdString());
+    ASSERT_FALSE(strict.ok());
+    EXPECT_THAT(strict.errorText(), HasSubstr("no signal source"));
+    MainWindow second;
+    second.setAskBeforeDiscarding(false);
+    ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+    EXPECT_EQ(second.document()->design(), doc()->design());
+}
+
+/// One random edit of the kinds a user makes; the document decides what is allowed.
+void randomEdit(DesignDocument *doc, std::mt19937 &rng)
+{
+    const Design &d = doc->design();
+    auto pick = [&](std::size_t n) {
+        return std::uniform_int_distribution<std::size_t>(0, n - 1)(rng);
+    };
+    auto randomPin = [&](std::string *part, std::string *terminal) {
+        if (d.parts.empty())
+            return false;
+        const Part &p = d.parts[pick(d.parts.size())];
+        const auto &terminals = partSpec(p.type).terminals;
+        *part = p.id;
+        *terminal = std::string(terminals[pick(terminals.size())]);
+        return true;
+    };
+    QString error;
+    switch (pick(11)) {
+    case 0: {
+        const auto specs = allPartSpecs();
+        doc->addPart(specs[pick(specs.size())].type, double(pick(600)) - 300,
+                     double(pick(400)) - 200);
+        break;
+    }
+    case 1: {
+        std::string pa, ta, pb, tb;
+        if (randomPin(&pa, &ta) && randomPin(&pb, &tb))
+            doc->connectPins(pa, ta, pb, tb);
+        break;
+    }
+    case 2:
+        if (!d.parts.empty())
+            doc->removeParts({d.parts[pick(d.parts.size())].id});
+        break;
+    case 3:
+        if (!d.parts.empty())
+            doc->renamePart(d.parts[pick(d.parts.size())].id, "X" + std::to_string(pick(50)),
+                            &error);
+        break;
+    case 4:
+        if (!d.parts.empty())
+            doc->rotatePart(d.parts[pick(d.parts.size())].id);
+        break;
+    case 5:
+        doc->pinCandidate(doc->nextCandidateName(), &error);
+        break;
+    case 6: {
+        Design after = d;
+        after.title = "edit " + std::to_string(pick(1000));
+        after.output = pick(2) ? OutputKind::Current : OutputKind::Voltage;
+        after.sweep.pointsPerDecade = int(10 + pick(90));
+        doc->setProperties(after, QStringLiteral("properties"));
+        break;
+    }
+    case 7: {
+        std::string p, t;
+        if (randomPin(&p, &t))
+            doc->groundPin(p, t);
+        break;
+    }
+    case 8:
+        doc->addGround(double(pick(400)) - 200, double(pick(400)));
+        break;
+    case 9:
+        if (!d.candidates.empty())
+            doc->deleteCandidate(toQString(d.candidates[pick(d.candidates.size())].name));
+        break;
+    default:
+        if (!d.parts.empty()) {
+            const Part &p = d.parts[pick(d.parts.size())];
+            if (!p.primaryField().empty())
+                doc->stepPart(p.id, int(pick(5)) - 2, false);
+        }
+        break;
+    }
+}
+
+TEST_F(BlankDesignTest, ReopenAfterRandomEditSequencesOnEveryExampleAndABlankDesign)
+{
+    QStringList starts = QDir(kDesigns).entryList({QStringLiteral("*.loopsketch")});
+    ASSERT_GE(starts.size(), 3);
+    starts << QString(); // the blank design
+    QTemporaryDir dir;
+    int saved = 0, complete = 0;
+    for (const QString &start : starts) {
+        for (unsigned seed = 1; seed <= 8; ++seed) {
+            if (start.isEmpty())
+                window->newDesign();
+            else
+                openExample(start);
+            const Design original = doc()->design();
+            std::mt19937 rng(seed * 7919u + unsigned(start.size()));
+            for (int step = 0; step < int(3 * seed - 2); ++step)
+                randomEdit(doc(), rng);
+            const QString path = dir.filePath(QStringLiteral("edited.loopsketch"));
+            QString error;
+            const std::string where = (start.isEmpty() ? std::string("blank") : start.toStdString())
+                + " seed " + std::to_string(seed);
+            ASSERT_TRUE(window->saveTo(path, &error)) << where << ": " << error.toStdString();
+            auto reloaded = loadDesign(path.toStdString(), DesignRules::Draft);
+            ASSERT_TRUE(reloaded.ok()) << where << ": " << reloaded.errorText();
+            EXPECT_EQ(*reloaded, doc()->design()) << where;
+            // A design complete enough to analyse loads under the strict rules as well.
+            if (validateDesign(doc()->design()).empty()) {
+                auto strict = loadDesign(path.toStdString());
+                EXPECT_TRUE(strict.ok()) << where << ": " << strict.errorText();
+                ++complete;
+            }
+            ++saved;
+            while (doc()->undoStack()->canUndo())
+                doc()->undoStack()->undo();
+            EXPECT_EQ(doc()->design(), original) << where;
+        }
+    }
+    EXPECT_EQ(saved, 8 * int(starts.size()));
+    EXPECT_GT(complete, 0) << "no edited design was complete: the strict loader went untested";
+    std::cout << "[          ] " << saved << " edited designs saved and reopened, " << complete
+              << " of them complete\n";
+}
+
+// ---- Never stale ----
+
+TEST_F(BlankDesignTest, StaleNeverAfterDeletingTheSource)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr);
+    doc()->removeParts({doc()->design().input});
+    settle();
+    expectNotAnalysed();
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/stale-no-source.png"));
+    doc()->undoStack()->undo();
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr);
+    for (PlotPanel *panel : window->panels())
+        EXPECT_TRUE(panel->unavailableText().isEmpty());
+    EXPECT_NE(window->readout()->cellText("closed-loop gain, exact"), QStringLiteral("—"));
+}
+
+TEST_F(BlankDesignTest, StaleNeverAfterDeletingAllParts)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    std::vector<std::string> ids;
+    for (const Part &p : doc()->design().parts)
+        ids.push_back(p.id);
+    doc()->removeParts(ids);
+    settle();
+    expectNotAnalysed();
+    EXPECT_FALSE(scene()->hintText().isEmpty());
+}
+
+TEST_F(BlankDesignTest, StaleNeverWithAFloatingNode)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    // Two new parts joined only to each other: an island with no path to ground.
+    const std::string r = doc()->addPart(PartType::Resistor, 300, 300);
+    const std::string c = doc()->addPart(PartType::Capacitor, 420, 300);
+    ASSERT_TRUE(doc()->connectPins(r, "b", c, "a"));
+    ASSERT_TRUE(doc()->connectPins(r, "a", c, "b"));
+    settle();
+    expectNotAnalysed();
+    EXPECT_FALSE(scene()->problemPart().empty());
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/stale-floating.png"));
+}
+
+} // namespace
+
+namespace {
+
+// ---- Inspector in the designer's words ----
+
+TEST_F(BlankDesignTest, InspectorLabelsWithUnitsAndThePresetInEffect)
+{
+    window->newDesign();
+    settle();
+    emit window->partsPalette()->placeRequested(int(PartType::GainBlock));
+    ASSERT_EQ(window->inspector()->partId(), "U1");
+    Inspector *inspector = window->inspector();
+    EXPECT_EQ(inspector->fieldLabel("gain"), QStringLiteral("open-loop gain"));
+    EXPECT_EQ(inspector->fieldLabel("gbw"), QStringLiteral("gain-bandwidth (Hz)"));
+    EXPECT_EQ(inspector->fieldLabel("poles_hz"), QStringLiteral("poles (Hz)"));
+    EXPECT_EQ(inspector->fieldLabel("r_in"), QStringLiteral("input resistance (Ω)"));
+    EXPECT_EQ(inspector->fieldLabel("en"), QStringLiteral("voltage noise density (V/√Hz)"));
+    EXPECT_THAT(inspector->fieldEdit("r_in")->toolTip().toStdString(), HasSubstr("r_in"));
+
+    // A new gain block has its own values (with a finite gain-bandwidth): "custom".
+    QComboBox *presets = inspector->presetChooser();
+    ASSERT_NE(presets, nullptr);
+    EXPECT_EQ(presets->currentText(), QStringLiteral("custom"));
+    // Choosing a preset keeps it shown; editing a value afterwards makes it custom again.
+    presets->setCurrentIndex(2);
+    emit presets->activated(2);
+    EXPECT_EQ(presets->currentText(), DesignDocument::gainBlockPresets().at(1));
+    EXPECT_EQ(doc()->gainBlockPresetInEffect("U1"), 1);
+    type(inspector->fieldEdit("r_out"), QStringLiteral("75"));
+    EXPECT_EQ(inspector->presetChooser()->currentText(), QStringLiteral("custom"));
+
+    // Renaming from the Inspector.
+    type(inspector->nameEdit(), QStringLiteral("AMP"));
+    ASSERT_NE(doc()->design().findPart("AMP"), nullptr);
+    EXPECT_EQ(inspector->partId(), "AMP");
+}
+
+} // namespace
+
+namespace {
+
+TEST_F(BlankDesignTest, DeleteKeyInThePartsListRemovesTheSelectedParts)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    QListWidget *list = window->partsPalette()->partList();
+    list->setFocus();
+    list->clearSelection();
+    for (int i = 0; i < list->count(); ++i) {
+        if (list->item(i)->data(Qt::UserRole).toString() == QStringLiteral("CF"))
+            list->item(i)->setSelected(true);
+    }
+    ASSERT_EQ(list->selectedItems().size(), 1);
+    QTest::keyClick(list, Qt::Key_Delete);
+    EXPECT_EQ(doc()->design().findPart("CF"), nullptr);
+    EXPECT_NE(doc()->design().findPart("RF"), nullptr);
+    doc()->undoStack()->undo();
+    EXPECT_NE(doc()->design().findPart("CF"), nullptr);
+}
+
+} // namespace

@@ -1,0 +1,68 @@
+#pragma once
+
+// Design properties: what belongs to the whole design rather than to one part (title,
+// notes, the signal source, the output, the sweep, the temperature and the specs). Every
+// change is one undoable step; text is parsed by core and invalid text is marked red with
+// the reason, leaving the design as it was (the Inspector's rule).
+
+#include <QString>
+#include <QWidget>
+
+#include <map>
+#include <string>
+
+class QComboBox;
+class QLabel;
+class QLineEdit;
+class QPlainTextEdit;
+class QSpinBox;
+
+namespace loopsketch {
+struct Design;
+}
+
+namespace loopsketch::ui {
+
+class DesignDocument;
+
+class DesignPropertiesPanel : public QWidget
+{
+    Q_OBJECT
+
+public:
+    explicit DesignPropertiesPanel(DesignDocument *document, QWidget *parent = nullptr);
+
+    /// Shows the document's design (after an edit, an undo or an open).
+    void refresh();
+
+    /// The editor of a property: "title", "sweep_start", "sweep_stop", "temperature",
+    /// "noise_band_low", "noise_band_high",
+    /// "gain_min", "gain_max", "bandwidth_min", "phase_margin_min_deg"; nullptr otherwise.
+    QLineEdit *edit(const std::string &key) const;
+    QPlainTextEdit *notesEdit() const { return m_notes; }
+    QComboBox *inputChooser() const { return m_input; }
+    QComboBox *outputChooser() const { return m_output; }
+    QSpinBox *pointsPerDecade() const { return m_points; }
+    /// The message shown for the property's last invalid text, empty when it is valid.
+    QString error(const std::string &key) const;
+
+protected:
+    bool eventFilter(QObject *watched, QEvent *event) override;
+
+private:
+    void commit(const std::string &key);
+    void commitNotes();
+    void showError(const std::string &key, const QString &message);
+
+    DesignDocument *m_document;
+    std::map<std::string, QLineEdit *> m_edits;
+    std::map<std::string, QLabel *> m_errors;
+    QPlainTextEdit *m_notes = nullptr;
+    QComboBox *m_input = nullptr;
+    QComboBox *m_output = nullptr;
+    QSpinBox *m_points = nullptr;
+    QLabel *m_inputHint = nullptr;
+    bool m_refreshing = false;
+};
+
+} // namespace loopsketch::ui
