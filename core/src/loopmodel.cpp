@@ -366,7 +366,10 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             c.loopGain[i] = t;
             c.feedthrough[i] = g0;
             c.gainInf[i] = g0 + through / t;
-            c.rrGain[i] = (c.gainInf[i] * t + g0) / (1.0 + t);
+            // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
+            // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
+            // where G_inf is not.
+            c.rrGain[i] = g0 + through / (1.0 + t);
         }
     }
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
@@ -462,10 +465,7 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         // shunt mixing: take whichever form the parameter set holds without inverting twice.
         const bool port1Impedance
             = top.parameters() == ParameterSet::H || top.parameters() == ParameterSet::Z;
-        const bool port2Impedance
-            = top.parameters() == ParameterSet::Z || top.parameters() == ParameterSet::G;
         const Complex n11 = network(0, 0);
-        const Complex zn2 = port2Impedance ? network(1, 1) : 1.0 / network(1, 1);
         const Complex yIn = x.gIn + s[i] * x.cIn;
         if (seriesMix) {
             const Complex zn1 = port1Impedance ? n11 : 1.0 / n11;
@@ -479,12 +479,17 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             const Complex yn1 = port1Impedance ? 1.0 / n11 : n11;
             c.inputLoading[i] = (ys + yIn) / (ys + yn1 + yIn);
         }
+        // Series sampling holds port 2 as an impedance (z, g), shunt sampling as an
+        // admittance (h, y): use it as it is, so an open port 2 (y22 = 0, a network with
+        // nothing from port 1 to ground) gives no loading rather than infinity / infinity.
         if (seriesSample) {
+            const Complex zn2 = network(1, 1);
             c.outputLoading[i] = (x.rOut + zl) / (x.rOut + zl + zn2);
         } else {
-            // zp (rOut + zl) / (zl (rOut + zp)) with zp = zl || zn2 and zl = 1 / yl, over one
-            // quotient.
-            c.outputLoading[i] = zn2 * (1.0 + x.rOut * yl) / (x.rOut * (1.0 + zn2 * yl) + zn2);
+            // zp (rOut + zl) / (zl (rOut + zp)) with zp = 1 / (yl + yn2) and zl = 1 / yl,
+            // over one quotient.
+            const Complex yn2 = network(1, 1);
+            c.outputLoading[i] = (1.0 + x.rOut * yl) / (1.0 + x.rOut * (yl + yn2));
         }
     }
     return c;
