@@ -2,6 +2,7 @@
 
 #include "loopsketch/loopcircuit.h"
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <map>
@@ -96,6 +97,7 @@ struct LoopModel::TwoPortSystems
     TwoPortNetwork network;
     ReducedSystem aFull;
     std::optional<ReducedSystem> aSeriesInput; // Z seen at the source-driven input
+    bool inputDrawsNoCurrent = false; // nothing left at that input: Z is infinite
     std::optional<ReducedSystem> aSeriesOutput; // Z seen by the load, load removed
     TwoPortNetwork sourceSide; // h parameters from the source's terminals to its input
     int testP1 = -1, testP2 = -1, outP1 = -1, outP2 = -1, sampled = -1;
@@ -174,6 +176,11 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
                        inCopyPort2, p2);
         addNetworkCopy(n, networkParts, "A.out:", t.port1Node, outCopyPort1, p1, t.port2Node,
                        PortEnd::Attached, p2);
+        // A network that is a bare wire (a follower's output straight to its input): the
+        // input copy, port 2 shorted, holds the split input at ground, through a source that
+        // of 0 V (input -1).
+        if (split && networkParts.empty() && inCopyPort2 == PortEnd::Shorted)
+            n.addVoltageSource("A.in:wire", p1, std::string(kGroundNode), -1);
         return n;
     };
 
@@ -216,7 +223,14 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         std::erase_if(n.elements, [](const NetlistElement &e) {
             return e.kind == NetlistElement::Kind::CurrentSource && e.name.rfind("port:", 0) == 0;
         });
-        sys->aSeriesInput = optionalOf(reduce(n));
+        // With the legs at the input counted on the source's side, an input with an ideal
+        // r_in and no c_in has nothing left on it but the test source: it draws no current.
+        sys->inputDrawsNoCurrent
+            = std::none_of(n.elements.begin(), n.elements.end(), [&](const NetlistElement &e) {
+                  return e.name != "test:q" && (e.a == t.sourceInput || e.b == t.sourceInput);
+              });
+        if (!sys->inputDrawsNoCurrent)
+            sys->aSeriesInput = optionalOf(reduce(n));
     }
     if (t.sampling == Connection::Series) {
         LoopCircuitOptions so;
@@ -406,6 +420,8 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
     const auto aEntry = [&](std::size_t e, std::size_t i) {
         return aCurves[e * n + i];
     };
+    // NaN (marking the estimate missing) when the input's system has no solution, unused
+    // when the input draws no current.
     const Curve zq = seriesMix && x.aSeriesInput ? entryCurve(*x.aSeriesInput, s, 0, 0)
                                                  : nanCurve(seriesMix ? n : 0);
     const Curve zRest = seriesSample && x.aSeriesOutput
@@ -427,7 +443,9 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         const Complex iShort = -h21 * invC1; // Norton current into the input
         const Complex ys = h22 - h21 * c2 * invC1; // admittance with the source zeroed
         // Only series mixing reads the source as an impedance.
-        const Complex zs = seriesMix ? 1.0 / ys : Complex(0.0);
+        // 1 / ys over one quotient: 0 for an ideal voltage source right at the input (c1 = 0),
+        // where ys itself is infinite.
+        const Complex zs = seriesMix ? c1 / (c1 * h22 - c2 * h21) : Complex(0.0);
         // Series mixing drives with the open-circuit voltage V_P, shunt with the current.
         const Complex kSrc = seriesMix ? -h21 / (c1 * h22 - c2 * h21) : iShort;
 
@@ -440,15 +458,18 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         c.closedLoop[i] = c.a[i] / desens;
         c.tpGain[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
 
-        Complex zNode;
-        if (seriesMix) {
-            zNode = (zs + zq[i]) * desens - zs;
+        if (seriesMix && x.inputDrawsNoCurrent) {
+            // The node's impedance (zs + zq) desens - zs is infinite: the limit.
+            c.tpZIn[i] = h11 - h12 * h21 / h22;
+        } else if (seriesMix) {
+            const Complex zNode = (zs + zq[i]) * desens - zs;
+            c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
         } else {
             // 1 / (desens / ri - ys) with one quotient.
             const Complex ri = aEntry(2, i);
-            zNode = ri / (desens - ys * ri);
+            const Complex zNode = ri / (desens - ys * ri);
+            c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
         }
-        c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
 
         const Complex yl = 1.0 / x.loadR + s[i] * x.loadC;
         const Complex zl = seriesSample ? 1.0 / yl : Complex(0.0);
