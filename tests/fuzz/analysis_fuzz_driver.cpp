@@ -5,7 +5,9 @@
 // analyze FILE` or with `--seed S --count 1`) beside seed-<S>.txt, the failures.
 //
 // Usage: analysis_fuzz_driver [--seed S] [--count N] [--seconds T] [--out DIR] [--no-fork]
-//                             [--dense] [--verbose]
+//                             [--dense] [--print] [--verbose] [--file PATH]...
+// --file PATH (repeatable) checks saved designs instead of generated ones.
+// --print writes the designs' text to stdout instead of checking them.
 // --dense analyzes on the dense LU path (SolverPath::DenseLu) instead of the reduced one.
 // Stops after N designs or T seconds, whichever comes first (at least one bound is needed).
 // Exit status 0 when every design passed, 1 when any failed, 64 on a usage error.
@@ -44,6 +46,8 @@ struct Options
     bool fork = true;
     bool verbose = false;
     bool dense = false;
+    bool print = false;
+    std::vector<std::string> files;
 };
 
 /// The child's report through the pipe: one tagged line per item.
@@ -163,6 +167,10 @@ bool parseArgs(int argc, char **argv, Options &o)
             o.out = argv[++i];
         else if (a == "--no-fork")
             o.fork = false;
+        else if (a == "--file" && hasValue)
+            o.files.push_back(argv[++i]);
+        else if (a == "--print")
+            o.print = true;
         else if (a == "--dense")
             o.dense = true;
         else if (a == "--verbose")
@@ -170,7 +178,30 @@ bool parseArgs(int argc, char **argv, Options &o)
         else
             return false;
     }
-    return o.count > 0 || o.seconds > 0;
+    return o.count > 0 || o.seconds > 0 || !o.files.empty();
+}
+
+/// Checks saved design files (a reproducer, say) and prints every failure.
+int checkFiles(const Options &o)
+{
+    int failed = 0;
+    for (const std::string &path : o.files) {
+        std::ifstream in(path, std::ios::binary);
+        std::stringstream text;
+        text << in.rdbuf();
+        const CheckReport r = o.fork ? runForked(text.str(), path, o.dense)
+                                     : checkDesignText(text.str(), path, o.dense);
+        std::printf("%s: %s\n", path.c_str(),
+                    !r.failures.empty() ? "FAIL"
+                        : r.analyzed    ? (r.exempt ? "ok (exempt by warnings)" : "ok")
+                                        : ("refused: " + r.refusal).c_str());
+        for (const auto &f : r.failures)
+            std::printf("  %s\n", f.c_str());
+        for (const auto &w : r.warnings)
+            std::printf("  warning: %s\n", w.c_str());
+        failed += !r.failures.empty();
+    }
+    return failed == 0 ? 0 : 1;
 }
 
 } // namespace
@@ -181,10 +212,13 @@ int main(int argc, char **argv)
     if (!parseArgs(argc, argv, o)) {
         std::fprintf(stderr,
                      "usage: %s [--seed S] [--count N] [--seconds T] [--out DIR] "
-                     "[--no-fork] [--dense] [--verbose]   (N or T required)\n",
+                     "[--no-fork] [--dense] [--print] [--verbose] [--file PATH]...   (N, T or a "
+                     "file required)\n",
                      argv[0]);
         return 64;
     }
+    if (!o.files.empty())
+        return checkFiles(o);
     const auto start = std::chrono::steady_clock::now();
     const auto elapsed = [&] {
         return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
@@ -201,6 +235,11 @@ int main(int argc, char **argv)
         RandomSource random(seed);
         const GeneratedDesign g = generateDesign(random);
         const std::string name = "seed-" + std::to_string(seed) + ".loopsketch";
+        if (o.print) {
+            std::fputs(g.text.c_str(), stdout);
+            ++executions;
+            continue;
+        }
         const CheckReport r
             = o.fork ? runForked(g.text, name, o.dense) : checkDesignText(g.text, name, o.dense);
         ++executions;
@@ -240,6 +279,8 @@ int main(int argc, char **argv)
                     r.failures.front().c_str(), base.c_str());
         std::fflush(stdout);
     }
+    if (o.print)
+        return 0;
     const double t = elapsed();
     const long analyzed = executions - refused - (kinds.count("crash") ? kinds["crash"] : 0);
     std::printf("analysis fuzz: seeds %llu..%llu, %ld executions in %.1f s (%.0f/s)\n",
