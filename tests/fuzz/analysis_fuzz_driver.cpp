@@ -55,8 +55,9 @@ std::string encode(const CheckReport &r)
 {
     std::ostringstream o;
     o << "loaded " << r.loaded << "\nanalyzed " << r.analyzed << "\nexempt " << r.exempt
-      << "\ntopology " << r.hadTopology << "\ntwoport " << r.twoPortChecked << "\nworst "
-      << r.worstAgm << ' ' << r.worstBlackman << ' ' << r.worstTwoPort << '\n';
+      << "\nlimits " << r.limitWarnings << "\ntopology " << r.hadTopology << "\ntwoport "
+      << r.twoPortChecked << "\nworst " << r.worstAgm << ' ' << r.worstBlackman << ' '
+      << r.worstTwoPort << '\n';
     for (const auto &f : r.failures)
         o << "failure " << f << '\n';
     for (const auto &w : r.warnings)
@@ -85,6 +86,8 @@ CheckReport decode(const std::string &text)
             r.analyzed = rest == "1";
         else if (tag == "exempt")
             r.exempt = rest == "1";
+        else if (tag == "limits")
+            r.limitWarnings = std::atoi(rest.c_str());
         else if (tag == "topology")
             r.hadTopology = rest == "1";
         else if (tag == "twoport")
@@ -224,6 +227,7 @@ int main(int argc, char **argv)
         return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
     };
     long executions = 0, failed = 0, exempt = 0, refused = 0, topology = 0, twoPort = 0;
+    long withLimitWarnings = 0;
     double worstAgm = 0, worstBlackman = 0, worstTwoPort = 0;
     std::map<std::string, long> kinds;
     std::map<std::string, long> shapes;
@@ -245,6 +249,7 @@ int main(int argc, char **argv)
         ++executions;
         ++shapes[shapeName(g.shape)];
         exempt += r.exempt;
+        withLimitWarnings += r.limitWarnings > 0;
         refused += r.loaded && !r.analyzed && r.failures.empty();
         topology += r.hadTopology;
         twoPort += r.twoPortChecked;
@@ -299,6 +304,7 @@ int main(int argc, char **argv)
                 exempt, analyzed,
                 analyzed > 0 ? 100.0 * static_cast<double>(exempt) / static_cast<double>(analyzed)
                              : 0.0);
+    std::printf("  designs with part-limit warnings (exempting nothing): %ld\n", withLimitWarnings);
     std::printf("  worst error/allowed: asymptotic gain %.3g, Blackman %.3g, two-port %.3g\n",
                 worstAgm, worstBlackman, worstTwoPort);
     std::printf("  failed: %ld", failed);

@@ -10,6 +10,14 @@
 #include <cstdio>
 #include <numbers>
 #include <regex>
+#include <set>
+
+// The part-limit warnings (values outside what real parts offer) come with the accuracy
+// warnings in Analysis::warnings but exempt nothing: only a solve's own accuracy check does.
+#if __has_include("loopsketch/partlimits.h")
+#include "loopsketch/partlimits.h"
+#define LOOPSKETCH_FUZZ_PART_LIMITS 1
+#endif
 
 namespace loopsketch::fuzz {
 
@@ -34,15 +42,26 @@ std::string fmt(double v)
     return buf;
 }
 
-/// The accuracy warnings of an analysis. `Analysis::warnings` (DESIGN.md §6) is filled by
-/// the solves' own accuracy checks; the adapter keeps this file compiling whether or not
-/// the member exists yet.
-template<typename A> std::vector<std::string> accuracyWarnings(const A &analysis)
+/// The accuracy warnings of an analysis: Analysis::warnings (DESIGN.md section 6) without
+/// the part-limit warnings. The adapter keeps this file compiling whether or not the member
+/// and partlimits.h exist yet.
+template<typename A>
+std::vector<std::string> accuracyWarnings([[maybe_unused]] const Design &design, const A &analysis,
+                                          int &limitWarnings)
 {
     std::vector<std::string> out;
     if constexpr (requires { analysis.warnings; }) {
-        for (const auto &w : analysis.warnings)
-            out.push_back(w.toString());
+        std::set<std::string> limits;
+#ifdef LOOPSKETCH_FUZZ_PART_LIMITS
+        for (const Diagnostic &w : partLimitWarnings(design))
+            limits.insert(w.toString());
+#endif
+        for (const auto &w : analysis.warnings) {
+            if (limits.count(w.toString()))
+                ++limitWarnings;
+            else
+                out.push_back(w.toString());
+        }
     }
     return out;
 }
@@ -351,7 +370,7 @@ CheckReport checkDesignText(std::string_view text, const std::string &file, bool
     report.analyzed = true;
     const Analysis &a = *analysis;
     report.hadTopology = a.topology.has_value();
-    report.warnings = accuracyWarnings(a);
+    report.warnings = accuracyWarnings(*design, a, report.limitWarnings);
     report.exempt = !report.warnings.empty();
 
     checkScalars(a, c);

@@ -32,7 +32,8 @@ struct CheckReport
     bool analyzed = false; ///< analyze() gave a result (else `refusal` says why)
     std::string refusal;
     bool exempt = false; ///< warnings raised: identity checks skipped
-    std::vector<std::string> warnings;
+    std::vector<std::string> warnings; ///< accuracy warnings (these exempt)
+    int limitWarnings = 0; ///< part-limit warnings (values no real part has): exempt nothing
     std::vector<std::string> failures; ///< "kind: detail", empty when all checks pass
     bool hadTopology = false;
     bool twoPortChecked = false; ///< the large-T two-port check ran on at least one point
