@@ -6,17 +6,22 @@
 #endif
 
 #include "loopsketch/analysis.h"
+#include "loopsketch/atomicfile.h"
 #include "loopsketch/candidate.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/exactsolution.h"
 #include "loopsketch/spread.h"
 #include "loopsketch/suggest.h"
 
+#include <cerrno>
 #include <charconv>
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 #include <exception>
 #include <ostream>
+
+#include <unistd.h>
 
 namespace loopsketch::app {
 
@@ -30,14 +35,15 @@ std::string usage()
     return "Usage:\n"
            "  loopsketch [FILE]                        open the GUI (the demo design when no "
            "FILE)\n"
-           "  loopsketch analyze FILE [--json] [--candidate NAME]\n"
+           "  loopsketch analyze FILE [--json] [--candidate NAME] [--out OUT]\n"
            "                                           analyse a design and print the results\n"
            "  loopsketch sweep FILE --csv OUT          write the frequency sweep as CSV\n"
            "  loopsketch spread FILE --trials N --seed S [--normal] [--gain-spread PCT]\n"
-           "                    [--gbw-spread PCT] [--json]\n"
+           "                    [--gbw-spread PCT] [--json] [--out OUT]\n"
            "                                           worst case and Monte Carlo over the "
            "tolerances\n"
            "  loopsketch suggest FILE --parts RF,CF [--decades D] [--best N] [--json]\n"
+           "                    [--out OUT]\n"
            "                                           E-series values that best meet the "
            "specs\n"
 #ifdef LOOPSKETCH_HAVE_GUI
@@ -54,7 +60,9 @@ std::string usage()
 #endif
            "  loopsketch --help | --version\n"
            "\n"
-           "FILE may be \"demo\" for the embedded demo design.\n"
+           "FILE may be \"demo\" for the embedded demo design. --out writes the text or JSON\n"
+           "to OUT instead of standard output; OUT \"-\" for --csv or --out is standard output.\n"
+           "An output that is the design file or another output of the command is refused.\n"
            "Exit codes: 0 ok, 2 bad input (the message names file, part and field),\n"
            "1 internal error.\n";
 }
@@ -67,6 +75,7 @@ struct Options
     std::string file;
     bool json = false;
     std::string candidate;
+    std::string textOut = "-"; ///< --out: the printed text or JSON; "-" is standard output
     std::string csvOut;
     std::string pdfOut;
     std::string svgDir;
@@ -128,57 +137,160 @@ int badInput(std::ostream &err, const std::string &message)
     return kExitBadInput;
 }
 
-int reportDiagnostics(std::ostream &err, const Diagnostics &d)
+/// Prints the diagnostics; one that names no file gets `file`, so every message says which
+/// design it is about.
+int reportDiagnostics(std::ostream &err, const Diagnostics &d, const std::string &file = {})
 {
-    for (const auto &x : d)
+    for (Diagnostic x : d) {
+        if (x.file.empty())
+            x.file = file;
         err << "loopsketch: " << x.toString() << "\n";
+    }
     return kExitBadInput;
+}
+
+/// `diagnostics` with "cannot write the <what>: " before each message, so a message says which
+/// output failed as well as where and why.
+Diagnostics forOutput(Diagnostics diagnostics, const std::string &what)
+{
+    for (auto &d : diagnostics)
+        d.message = "cannot write the " + what + ": " + d.message;
+    return diagnostics;
+}
+
+/// What the text output of a command holds, for messages.
+std::string textOutputName(const std::string &command)
+{
+    return command == "analyze" ? "analysis"
+        : command == "spread"   ? "spread results"
+                                : "suggestions";
+}
+
+/// Every output of one command, resolved and checked against the input and each other before
+/// any work is done.
+struct Outputs
+{
+    std::optional<OutputTarget> text; ///< analyze, spread, suggest: the printed text or JSON
+    std::optional<OutputTarget> csv; ///< sweep, export --csv
+};
+
+Result<Outputs> planOutputs(const Options &o)
+{
+    Outputs planned;
+    std::vector<OutputTarget> all;
+    Diagnostics problems;
+    const auto resolve
+        = [&](const std::string &path, bool allowStandardOutput, const std::string &what) {
+              auto target = resolveOutput(path, allowStandardOutput);
+              if (!target) {
+                  const Diagnostics named = forOutput(target.diagnostics(), what);
+                  problems.insert(problems.end(), named.begin(), named.end());
+                  return std::optional<OutputTarget>();
+              }
+              all.push_back(*target);
+              return std::optional<OutputTarget>(*target);
+          };
+    if (o.command == "analyze" || o.command == "spread" || o.command == "suggest")
+        planned.text = resolve(o.textOut, true, textOutputName(o.command));
+    if (!o.csvOut.empty())
+        planned.csv = resolve(o.csvOut, true, "sweep");
+#ifdef LOOPSKETCH_HAVE_GUI
+    if (o.command == "export") {
+        resolve(o.pdfOut, false, "review sheet");
+        for (const auto &[dir, svg] : {std::pair{o.svgDir, true}, std::pair{o.pngDir, false}}) {
+            if (dir.empty())
+                continue;
+            auto files = plotOutputPaths(dir, svg);
+            if (!files) {
+                problems.insert(problems.end(), files.diagnostics().begin(),
+                                files.diagnostics().end());
+                continue;
+            }
+            for (const auto &file : *files)
+                resolve(file, false, "plot");
+            // a folder still to be made must not be another output's file either
+            if (files->empty())
+                if (auto folder = resolveOutput(dir); folder)
+                    all.push_back(*folder);
+        }
+    }
+#endif
+    if (!problems.empty())
+        return problems;
+    std::vector<std::string> inputs;
+    if (o.file != "demo")
+        inputs.push_back(o.file);
+    if (auto apart = checkOutputsApart(inputs, all); !apart)
+        return apart.diagnostics();
+    return planned;
+}
+
+/// Writes a command's text, CSV or JSON to its target: standard output through `out` (checked,
+/// so a full disk behind a redirection is an error too), a file through the atomic writer.
+int emit(const OutputTarget &target, const std::string &what, const std::string &text,
+         std::ostream &out, std::ostream &err)
+{
+    if (target.kind == OutputTargetKind::Descriptor && target.descriptor == STDOUT_FILENO) {
+        errno = 0;
+        out << text;
+        out.flush();
+        if (!out) {
+            const int error = errno;
+            return badInput(err,
+                            "standard output: cannot write the " + what + ": write failed"
+                                + (error ? std::string(": ") + std::strerror(error) : ""));
+        }
+        return kExitOk;
+    }
+    auto written = writeOutput(target, text);
+    if (!written)
+        return reportDiagnostics(err, forOutput(written.diagnostics(), what));
+    return kExitOk;
 }
 
 int run(const Options &o, std::ostream &out, std::ostream &err)
 {
+    auto outputs = planOutputs(o);
+    if (!outputs)
+        return reportDiagnostics(err, outputs.diagnostics());
     auto loaded = loadForCli(o.file);
     if (!loaded)
-        return reportDiagnostics(err, loaded.diagnostics());
+        return reportDiagnostics(err, loaded.diagnostics(), o.file);
     Design design = std::move(loaded).value();
     if (!o.candidate.empty()) {
         auto withCandidate = applyCandidate(std::move(design), o.candidate, o.file);
         if (!withCandidate)
-            return reportDiagnostics(err, withCandidate.diagnostics());
+            return reportDiagnostics(err, withCandidate.diagnostics(), o.file);
         design = std::move(withCandidate).value();
     }
     if (o.command == "spread") {
         auto worst = worstCase(design, o.spread, o.file);
         if (!worst)
-            return reportDiagnostics(err, worst.diagnostics());
+            return reportDiagnostics(err, worst.diagnostics(), o.file);
         auto mc = monteCarlo(design, o.spread, o.file);
         if (!mc)
-            return reportDiagnostics(err, mc.diagnostics());
+            return reportDiagnostics(err, mc.diagnostics(), o.file);
         const std::string unit = gainUnit(design);
-        out << (o.json ? spreadToJson(*worst, *mc, unit) : spreadToText(*worst, *mc, unit));
-        return kExitOk;
+        return emit(*outputs->text, textOutputName(o.command),
+                    o.json ? spreadToJson(*worst, *mc, unit) : spreadToText(*worst, *mc, unit), out,
+                    err);
     }
     if (o.command == "suggest") {
         auto found = suggestValues(design, o.suggest, o.file);
         if (!found)
-            return reportDiagnostics(err, found.diagnostics());
+            return reportDiagnostics(err, found.diagnostics(), o.file);
         const std::string unit = gainUnit(design);
-        out << (o.json ? suggestToJson(*found, unit) : suggestToText(*found, unit));
-        return kExitOk;
+        return emit(*outputs->text, textOutputName(o.command),
+                    o.json ? suggestToJson(*found, unit) : suggestToText(*found, unit), out, err);
     }
     auto analysis = analyze(design, o.file);
     if (!analysis)
-        return reportDiagnostics(err, analysis.diagnostics());
-    if (o.command == "analyze") {
-        out << (o.json ? analysisToJson(*analysis) : analysisToText(*analysis));
-        return kExitOk;
-    }
-    if (o.command == "sweep") {
-        auto written = writeFileAtomically(o.csvOut, sweepToCsv(*analysis));
-        if (!written)
-            return reportDiagnostics(err, written.diagnostics());
-        return kExitOk;
-    }
+        return reportDiagnostics(err, analysis.diagnostics(), o.file);
+    if (o.command == "analyze")
+        return emit(*outputs->text, textOutputName(o.command),
+                    o.json ? analysisToJson(*analysis) : analysisToText(*analysis), out, err);
+    if (o.command == "sweep")
+        return emit(*outputs->csv, "sweep", sweepToCsv(*analysis), out, err);
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export")
         return runExport(design, *analysis,
@@ -267,6 +379,11 @@ std::optional<int> runCommandLine(const std::vector<std::string> &args, std::ost
             if (!n || *n < 1 || *n > 1000)
                 return badInput(err, "--best needs a whole number from 1 to 1000");
             o.suggest.best = static_cast<int>(*n);
+        } else if (a == "--out" && (o.command == "analyze" || spread || suggest)) {
+            auto v = value("--out");
+            if (!v || v->empty())
+                return badInput(err, "--out needs an output file name (\"-\": standard output)");
+            o.textOut = *v;
         } else if (a == "--candidate" && o.command == "analyze") {
             auto v = value("--candidate");
             if (!v)

@@ -3,9 +3,11 @@
 #include "cli.h"
 #include "reviewsheet.h"
 
+#include "loopsketch/atomicfile.h"
 #include "loopsketch/designfile.h"
 
 #include <QApplication>
+#include <QDir>
 #include <QFileInfo>
 
 #include <memory>
@@ -14,6 +16,22 @@
 #include <utility>
 
 namespace loopsketch::app {
+
+Result<std::vector<std::string>> plotOutputPaths(const std::string &dir, bool svg)
+{
+    const QFileInfo info(QString::fromStdString(dir));
+    if (!info.exists())
+        return std::vector<std::string>{};
+    if (!info.isDir())
+        return Diagnostic{dir, "", "", "cannot write the plots: this is not a directory"};
+    std::vector<std::string> paths;
+    const ui::PlotFormat format = svg ? ui::PlotFormat::Svg : ui::PlotFormat::Png;
+    for (ui::SheetPlot plot : ui::kSheetPlots)
+        paths.push_back(QDir(QString::fromStdString(dir))
+                            .filePath(ui::sheetPlotFileStem(plot) + ui::plotFileSuffix(format))
+                            .toStdString());
+    return paths;
+}
 
 int runExport(const Design &design, const Analysis &analysis, const ExportRequest &request,
               std::ostream &err)
@@ -47,9 +65,13 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         return kExitBadInput;
     }
     if (!request.csvOut.empty()) {
-        auto written = writeFileAtomically(request.csvOut, sweepToCsv(analysis));
+        auto target = resolveOutput(request.csvOut, true);
+        auto written = target ? writeOutput(*target, sweepToCsv(analysis))
+                              : Result<bool>(target.diagnostics());
         if (!written) {
-            err << "loopsketch: " << written.errorText() << "\n";
+            for (const auto &d : written.diagnostics())
+                err << "loopsketch: " << d.file << ": cannot write the sweep: " << d.message
+                    << "\n";
             return kExitBadInput;
         }
     }

@@ -5,10 +5,12 @@
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/design.h"
+#include "loopsketch/result.h"
 
 #include <cstdint>
 #include <iosfwd>
 #include <string>
+#include <vector>
 
 namespace loopsketch::app {
 
@@ -16,7 +18,7 @@ struct ExportRequest
 {
     std::string file; ///< the design file as given, shown in the title block
     std::string pdfOut;
-    std::string csvOut; ///< empty: no CSV
+    std::string csvOut; ///< empty: no CSV; "-": standard output
     std::string svgDir; ///< empty: no SVG
     std::string pngDir; ///< empty: no PNG
     bool letter = false; ///< US Letter instead of A4
@@ -25,6 +27,11 @@ struct ExportRequest
     int spreadTrials = 2000; ///< ui::kSheetSpreadTrials
     std::uint64_t spreadSeed = 1; ///< ui::kSheetSpreadSeed
 };
+
+/// The files `export --svg DIR` (svg) or `--png DIR` writes, for the output check before any
+/// work: none when DIR does not exist yet (it is created, so nothing there can be clobbered);
+/// a diagnostic when DIR exists and is not a directory.
+Result<std::vector<std::string>> plotOutputPaths(const std::string &dir, bool svg);
 
 /// Writes what `request` asks for; returns an exit code (0, or 2 with a message on `err`).
 int runExport(const Design &design, const Analysis &analysis, const ExportRequest &request,

@@ -3,6 +3,7 @@
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 
+#include <csignal>
 #include <iostream>
 
 #ifdef LOOPSKETCH_HAVE_GUI
@@ -12,6 +13,9 @@ int runGui(int argc, char **argv);
 int main(int argc, char **argv)
 {
     using namespace loopsketch;
+    // A file-size limit (ulimit -f) then makes write() fail with EFBIG, which every writer
+    // reports and cleans up after, instead of killing the process mid-file.
+    std::signal(SIGXFSZ, SIG_IGN);
     std::vector<std::string> args(argv + 1, argv + argc);
     if (auto code = app::runCommandLine(args, std::cout, std::cerr))
         return *code;

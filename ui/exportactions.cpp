@@ -1,12 +1,15 @@
 #include "exportactions.h"
 
 #include "designdocument.h"
+#include "outputfile.h"
 #include "qtadapter.h"
 
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 
+#include <QDir>
 #include <QFileDialog>
+#include <QFileInfo>
 #include <QMenu>
 #include <QMessageBox>
 
@@ -37,6 +40,8 @@ void reportFailure(QWidget *parent, const QString &what, const QString &error)
 bool exportReviewSheet(const DesignDocument &document, const QString &path, SheetPageSize pageSize,
                        const QString &shownName, QString *error, const SheetSpread *spread)
 {
+    if (!checkOutputPath(path, QStringLiteral("review sheet"), error, document.filePath()))
+        return false;
     const auto analysis = analyseForExport(document, error);
     if (!analysis)
         return false;
@@ -53,21 +58,28 @@ bool exportReviewSheet(const DesignDocument &document, const QString &path, Shee
 
 bool exportSweepCsv(const DesignDocument &document, const QString &path, QString *error)
 {
+    const QString what = QStringLiteral("sweep");
+    if (!checkOutputPath(path, what, error, document.filePath()))
+        return false;
     const auto analysis = analyseForExport(document, error);
     if (!analysis)
         return false;
-    auto written = writeFileAtomically(toStdString(path), sweepToCsv(*analysis));
-    if (!written) {
-        if (error)
-            *error = toQString(written.errorText());
-        return false;
-    }
-    return true;
+    const std::string csv = sweepToCsv(*analysis);
+    return writeOutputFile(path, QByteArray(csv.data(), qsizetype(csv.size())), what, error,
+                           document.filePath());
 }
 
 bool exportPlots(const DesignDocument &document, const QString &dir, PlotFormat format,
                  QString *error)
 {
+    if (QFileInfo(dir).isDir()) {
+        for (SheetPlot plot : kSheetPlots) {
+            const QString path
+                = QDir(dir).filePath(sheetPlotFileStem(plot) + plotFileSuffix(format));
+            if (!checkOutputPath(path, QStringLiteral("plot"), error, document.filePath()))
+                return false;
+        }
+    }
     const auto analysis = analyseForExport(document, error);
     return analysis && writeSheetPlots(*analysis, dir, format, error);
 }

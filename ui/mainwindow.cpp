@@ -253,7 +253,14 @@ MainWindow::MainWindow(QWidget *parent)
     updateTitle();
 }
 
-MainWindow::~MainWindow() = default;
+MainWindow::~MainWindow()
+{
+    // The document is a child, destroyed after this body and after the members; its undo
+    // stack emits cleanChanged as it goes, which must not reach the half-destroyed window
+    // (updateTitle() on freed members aborted tst_candidates now and then).
+    QObject::disconnect(m_document->undoStack(), nullptr, nullptr, nullptr);
+    QObject::disconnect(m_document, nullptr, nullptr, nullptr);
+}
 
 void MainWindow::createDocks()
 {
@@ -700,7 +707,16 @@ bool MainWindow::writeRecovery()
     if (path.isEmpty() || !m_document->isModified())
         return false;
     QDir().mkpath(QFileInfo(path).absolutePath());
-    return writeFileAtomically(toStdString(path), serializeDesign(m_document->design())).ok();
+    auto written = writeFileAtomically(toStdString(path), serializeDesign(m_document->design()));
+    if (!written) {
+        // Not a dialog every 30 s: a note in the status bar, so the user knows to save.
+        statusBar()->showMessage(tr("Autosave of the unsaved work failed (%1); save the design "
+                                    "to keep it.")
+                                     .arg(toQString(written.errorText())),
+                                 20000);
+        return false;
+    }
+    return true;
 }
 
 void MainWindow::about()

@@ -1,6 +1,7 @@
 #include "reviewsheet.h"
 
 #include "noisepanel.h"
+#include "outputfile.h"
 #include "sketchlayout.h"
 #include "sketchscene.h"
 
@@ -20,7 +21,6 @@
 #include <QPdfWriter>
 #include <QPolygonF>
 #include <QRegularExpression>
-#include <QSaveFile>
 #include <QSvgGenerator>
 #include <QSvgRenderer>
 
@@ -1541,34 +1541,40 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
                        const SheetSpread *spread)
 {
     const int pages = reviewSheetPageCount(design, analysis, pageSize, spread);
-    QSaveFile file(path);
-    if (!file.open(QIODevice::WriteOnly)) {
-        if (error)
-            *error = QStringLiteral("%1: cannot write the review sheet: %2")
-                         .arg(path, file.errorString());
-        return false;
-    }
+    // Rendered whole into memory first: QPdfWriter reports no write errors, so the bytes go to
+    // disk through the checked writer, and only a finished document (trailer written) does.
+    QBuffer buffer;
+    buffer.open(QIODevice::WriteOnly);
     {
-        QPdfWriter pdf(&file);
+        QPdfWriter pdf(&buffer);
         setUpWriter(pdf, pageSize, q(design.title));
         QPainter painter;
         if (!painter.begin(&pdf)) {
-            file.cancelWriting();
             if (error)
-                *error = QStringLiteral("%1: cannot start the PDF").arg(path);
+                *error = QStringLiteral("%1: cannot write the review sheet: cannot start the PDF")
+                             .arg(path);
             return false;
         }
         paintSheet(&painter, &pdf, &pdf, paintSizeMm(pdf), pdf.resolution() / 25.4, pages, design,
                    analysis, fileName, spread);
-        painter.end();
+        if (!painter.end()) {
+            if (error)
+                *error = QStringLiteral("%1: cannot write the review sheet: the PDF could not be "
+                                        "finished")
+                             .arg(path);
+            return false;
+        }
     }
-    if (!file.commit()) {
+    const QByteArray &bytes = buffer.data();
+    if (!bytes.startsWith("%PDF-") || !bytes.trimmed().endsWith("%%EOF")) {
         if (error)
-            *error = QStringLiteral("%1: cannot write the review sheet: %2")
-                         .arg(path, file.errorString());
+            *error = QStringLiteral("%1: cannot write the review sheet: the PDF came out "
+                                    "incomplete (%2 bytes)")
+                         .arg(path)
+                         .arg(bytes.size());
         return false;
     }
-    return true;
+    return writeOutputFile(path, bytes, QStringLiteral("review sheet"), error);
 }
 
 QString plotFileSuffix(PlotFormat format)
@@ -1594,46 +1600,49 @@ bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat fo
     const QRectF plotRect(3 * k, 3 * k, (sizeMm.width() - 6) * k, (sizeMm.height() - 6) * k);
     for (SheetPlot plot : kSheetPlots) {
         const QString path = QDir(dir).filePath(sheetPlotFileStem(plot) + plotFileSuffix(format));
-        QSaveFile file(path);
-        if (!file.open(QIODevice::WriteOnly)) {
-            if (error)
-                *error
-                    = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
-            return false;
-        }
+        // Rendered into memory, checked, then handed to the one checked writer.
+        QBuffer buffer;
+        buffer.open(QIODevice::WriteOnly);
+        bool rendered = false;
         if (format == PlotFormat::Svg) {
             QSvgGenerator svg;
-            svg.setOutputDevice(&file);
+            svg.setOutputDevice(&buffer);
             svg.setResolution(resolution);
             svg.setSize(px);
             svg.setViewBox(QRect(QPoint(0, 0), px));
             svg.setTitle(q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
-            QPainter painter(&svg);
-            painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
-            drawSheetPlot(painter, plotRect, k, plot, analysis);
+            QPainter painter;
+            if (painter.begin(&svg)) {
+                painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
+                drawSheetPlot(painter, plotRect, k, plot, analysis);
+                rendered = painter.end() && buffer.data().trimmed().endsWith("</svg>");
+            }
         } else {
             QImage image(px, QImage::Format_RGB32);
             const int dotsPerMetre = static_cast<int>(std::lround(resolution / 0.0254));
             image.setDotsPerMeterX(dotsPerMetre); // point-sized fonts scale with the image
             image.setDotsPerMeterY(dotsPerMetre);
             image.fill(Qt::white);
-            {
-                QPainter painter(&image);
+            QPainter painter;
+            if (painter.begin(&image)) {
                 painter.setRenderHint(QPainter::Antialiasing);
                 painter.setRenderHint(QPainter::TextAntialiasing);
                 drawSheetPlot(painter, plotRect, k, plot, analysis);
+                if (painter.end()) {
+                    image.setText(QStringLiteral("Title"),
+                                  q(analysis.title) + QStringLiteral(" — ")
+                                      + sheetPlotFileStem(plot));
+                    rendered = image.save(&buffer, "PNG") && !buffer.data().isEmpty();
+                }
             }
-            image.setText(QStringLiteral("Title"),
-                          q(analysis.title) + QStringLiteral(" — ") + sheetPlotFileStem(plot));
-            if (!image.save(&file, "PNG"))
-                file.cancelWriting();
         }
-        if (!file.commit()) {
+        if (!rendered) {
             if (error)
-                *error
-                    = QStringLiteral("%1: cannot write the plot: %2").arg(path, file.errorString());
+                *error = QStringLiteral("%1: cannot write the plot: rendering it failed").arg(path);
             return false;
         }
+        if (!writeOutputFile(path, buffer.data(), QStringLiteral("plot"), error))
+            return false;
     }
     return true;
 }

@@ -61,10 +61,11 @@ QString revisionText(const Design &design);
 /// FNV-1a (32 bit) of the design's saved text, as 8 lower-case hex digits.
 QString designContentHash(const Design &design);
 
-/// Writes the review sheet as PDF to `path` through a QSaveFile (no partial file on
-/// failure). `fileName` is shown in the title block. `spread`, when given, adds the spread
-/// section. On failure returns false and sets `error` to a message naming the path. Needs a
-/// QApplication (the sketch is a scene).
+/// Writes the review sheet as PDF to `path`: rendered into memory, checked to be a finished
+/// PDF, then written by core's output writer (atomic for a regular file, so no partial file
+/// and the previous one kept on failure; direct for a device or FIFO). `fileName` is shown in the
+/// title block. `spread`, when given, adds the spread section. On failure returns false and sets
+/// `error` to a message naming the path. Needs a QApplication (the sketch is a scene).
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
                        SheetPageSize pageSize, const QString &fileName, QString *error,
                        const SheetSpread *spread = nullptr);
@@ -80,7 +81,8 @@ enum class PlotFormat { Svg, Png };
 QString plotFileSuffix(PlotFormat format);
 
 /// Writes one file per plot (vector SVG, or PNG at 150 dpi) into directory `dir` (created
-/// when missing), each through a QSaveFile. On failure returns false and sets `error`.
+/// when missing), each rendered into memory and written by core's output writer. On failure
+/// returns false and sets `error` to a message naming the file and the reason.
 bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
                      QString *error);
 

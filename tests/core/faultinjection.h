@@ -55,6 +55,21 @@ inline std::string enterPrivateMountNamespace()
     return {};
 }
 
+/// For tests that write to device nodes: a private mount namespace in which /dev/null and
+/// /dev/full are bind-mounted onto themselves. A rename or unlink over a mount point fails with
+/// EBUSY, so a faulty writer gets an error here instead of replacing the machine's device
+/// nodes with regular files (as root it could). Empty on success, else why not.
+inline std::string isolateDeviceNodes()
+{
+    if (auto why = enterPrivateMountNamespace(); !why.empty())
+        return why;
+    for (const char *node : {"/dev/null", "/dev/full"}) {
+        if (::mount(node, node, nullptr, MS_BIND, nullptr) != 0)
+            return osFailure(std::string("bind-mounting ") + node + " onto itself");
+    }
+    return {};
+}
+
 /// Mounts a tmpfs of `bytes` (rounded up to pages by the kernel) on `dir`.
 inline std::string mountSmallTmpfs(const std::string &dir, std::size_t bytes)
 {

@@ -22,6 +22,10 @@
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
+#include <csignal>
+
+#include <sys/resource.h>
+
 using namespace loopsketch;
 using namespace loopsketch::ui;
 using ::testing::HasSubstr;
@@ -153,6 +157,77 @@ TEST_F(GuiExport, SheetOpenElsewhereIsReplacedWhole)
     EXPECT_GE(pdfPages(pdf), 3);
     EXPECT_EQ(QDir(tmp.path()).entryList(QDir::NoDotAndDotDot | QDir::AllEntries),
               QStringList{QStringLiteral("sheet.pdf")});
+}
+
+// File > Export onto the open design's own file is refused before any work, in any spelling.
+TEST_F(GuiExport, ExportOntoTheOpenDesignIsRefused)
+{
+    const QString design = tmp.filePath("mine.loopsketch");
+    ASSERT_TRUE(QFile::copy(kDemo, design));
+    auto loaded = loadDesign(toStdString(design));
+    ASSERT_TRUE(loaded) << loaded.errorText();
+    document.reset(*loaded, design);
+    document.recomputeNow();
+    const QByteArray before = readAll(design);
+    ASSERT_TRUE(QFile::link(design, tmp.filePath("link.pdf")));
+    QString error;
+    for (const QString &path :
+         {design, tmp.filePath("./mine.loopsketch"), tmp.filePath("link.pdf")}) {
+        EXPECT_FALSE(exportReviewSheet(document, path, SheetPageSize::A4, "mine", &error))
+            << path.toStdString();
+        EXPECT_THAT(error.toStdString(), HasSubstr("refused"));
+        EXPECT_THAT(error.toStdString(), HasSubstr(path.toStdString()));
+        EXPECT_FALSE(exportSweepCsv(document, path, &error)) << path.toStdString();
+        EXPECT_THAT(error.toStdString(), HasSubstr("refused"));
+        EXPECT_EQ(readAll(design), before) << path.toStdString();
+    }
+}
+
+// A file-size limit (RLIMIT_FSIZE, write() fails with EFBIG once SIGXFSZ is ignored, as
+// app/main.cpp does) while File > Export writes: the previous files stay, the message names
+// the path and the reason, no temporary file remains.
+TEST_F(GuiExport, SizeLimitDuringExportKeepsThePreviousFiles)
+{
+    const QString pdf = tmp.filePath("sheet.pdf"), csv = tmp.filePath("sweep.csv");
+    const QString plots = tmp.filePath("plots");
+    ASSERT_TRUE(QDir().mkpath(plots));
+    const QString png
+        = QDir(plots).filePath(sheetPlotFileStem(kSheetPlots[0]) + plotFileSuffix(PlotFormat::Png));
+    const QByteArray previous("previous export, must survive\n");
+    for (const QString &path : {pdf, csv, png}) {
+        QFile f(path);
+        ASSERT_TRUE(f.open(QIODevice::WriteOnly));
+        ASSERT_EQ(f.write(previous), previous.size());
+    }
+    const QStringList entries
+        = QDir(tmp.path()).entryList(QDir::NoDotAndDotDot | QDir::AllEntries | QDir::Hidden);
+
+    rlimit old{};
+    ASSERT_EQ(::getrlimit(RLIMIT_FSIZE, &old), 0);
+    auto oldHandler = std::signal(SIGXFSZ, SIG_IGN);
+    rlimit small = old;
+    small.rlim_cur = 4096;
+    ASSERT_EQ(::setrlimit(RLIMIT_FSIZE, &small), 0);
+    QString pdfError, csvError, pngError;
+    const bool pdfOk = exportReviewSheet(document, pdf, SheetPageSize::A4, "demo", &pdfError);
+    const bool csvOk = exportSweepCsv(document, csv, &csvError);
+    const bool pngOk = exportPlots(document, plots, PlotFormat::Png, &pngError);
+    ::setrlimit(RLIMIT_FSIZE, &old);
+    std::signal(SIGXFSZ, oldHandler);
+
+    EXPECT_FALSE(pdfOk);
+    EXPECT_FALSE(csvOk);
+    EXPECT_FALSE(pngOk);
+    const std::pair<QString, QString> cases[] = {{pdf, pdfError}, {csv, csvError}, {png, pngError}};
+    for (const auto &[path, error] : cases) {
+        EXPECT_THAT(error.toStdString(), HasSubstr(path.toStdString()));
+        EXPECT_THAT(error.toStdString(), HasSubstr("File too large"));
+        EXPECT_EQ(readAll(path), previous) << path.toStdString();
+    }
+    EXPECT_EQ(QDir(tmp.path()).entryList(QDir::NoDotAndDotDot | QDir::AllEntries | QDir::Hidden),
+              entries);
+    EXPECT_EQ(QDir(plots).entryList(QDir::NoDotAndDotDot | QDir::AllEntries | QDir::Hidden),
+              QStringList{QFileInfo(png).fileName()});
 }
 
 } // namespace

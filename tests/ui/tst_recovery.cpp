@@ -26,6 +26,7 @@
 #include <QMessageBox>
 #include <QProcess>
 #include <QPushButton>
+#include <QStatusBar>
 #include <QTemporaryDir>
 #include <QTest>
 #include <QTimer>
@@ -296,6 +297,36 @@ TEST_F(RecoveryTest, CorruptRecoveryFileIsReportedAndKeptAside)
     EXPECT_FALSE(again.offerRecovery());
     QTest::qWait(100);
     EXPECT_FALSE(box.seen().seen) << "the kept file is not offered again at every start";
+}
+
+// Autosave that cannot write its recovery file (here under /proc, which takes no new files
+// from root either) says so in the status bar, naming the path, instead of failing silently.
+TEST(FailedAutosave, IsShownInTheStatusBar)
+{
+    QTemporaryDir dir;
+    ASSERT_TRUE(dir.isValid());
+    const QString path = dir.filePath(QStringLiteral("demo.loopsketch"));
+    ASSERT_TRUE(QFile::copy(kDemo, path));
+    const QByteArray oldData = qgetenv("XDG_DATA_HOME");
+    qputenv("XDG_DATA_HOME", "/proc/loopsketch-no-data");
+    qputenv("LOOPSKETCH_AUTOSAVE_MS", "50");
+    QString message;
+    {
+        MainWindow window;
+        window.setAskBeforeDiscarding(false);
+        QString error;
+        ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
+        ASSERT_TRUE(window.document()->stepPart("RF", 1, false));
+        for (int i = 0; i < 100 && message.isEmpty(); ++i) {
+            QTest::qWait(20);
+            message = window.statusBar()->currentMessage();
+        }
+    }
+    qunsetenv("LOOPSKETCH_AUTOSAVE_MS");
+    qputenv("XDG_DATA_HOME", oldData);
+    EXPECT_THAT(message.toStdString(), HasSubstr("Autosave"));
+    EXPECT_THAT(message.toStdString(), HasSubstr("/proc/loopsketch-no-data"));
+    EXPECT_FALSE(QFileInfo::exists(QStringLiteral("/proc/loopsketch-no-data")));
 }
 
 class FailedSaveTest : public ::testing::Test
