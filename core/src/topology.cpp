@@ -229,6 +229,10 @@ TopologyResult identifyTopology(const Design &d)
                     queue.push_back(other);
         }
     }
+    if (srcSeen.count(t.port1Node) && srcSeen.count(otherInput) && !isGround(otherInput))
+        return {std::nullopt,
+                "the signal source drives both gain-block inputs (a differential drive), so "
+                "the input has no single mixing port"};
     if (srcSeen.count(t.port1Node)) {
         t.mixing = Connection::Shunt;
         t.sourceInput = t.port1Node;

@@ -1290,3 +1290,24 @@ TEST(FeedbackFuzzFound, OpenPortTwoGivesNoOutputLoading)
     for (const cd v : a.curves.outputLoading)
         EXPECT_LT(std::abs(v - 1.0), 1e-12);
 }
+
+// Common practice: a source that drives both gain-block inputs (here through RA to the
+// inverting input and RB to the non-inverting one) is a differential drive, not one mixing
+// port. Before the fix it was taken as shunt mixing, with a two-port loop gain of the wrong
+// sign.
+TEST(FeedbackFuzzFound, SourceDrivingBothInputsHasNoTwoPortForm)
+{
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", "r_series": "100"},
+           {"id": "RA", "type": "resistor", "a": "in", "b": "inn", "value": "10k"},
+           {"id": "RB", "type": "resistor", "a": "in", "b": "inp", "value": "10k"},
+           {"id": "RG", "type": "resistor", "a": "inp", "b": "0", "value": "10k"},
+           {"id": "U1", "type": "gain_block", "in_p": "inp", "in_n": "inn", "out": "out", "gain": 1e5},
+           {"id": "RF", "type": "resistor", "a": "out", "b": "inn", "value": "100k"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"})"));
+    const Analysis a = analyzeOrFail(d);
+    EXPECT_FALSE(a.topology.has_value());
+    EXPECT_NE(a.topologyReason.find("both gain-block inputs"), std::string::npos)
+        << a.topologyReason;
+    EXPECT_FALSE(a.twoPort.has_value());
+}
