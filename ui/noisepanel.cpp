@@ -80,6 +80,19 @@ QString noiseBandText(const NoiseAnalysis &n)
         + toQString(formatEngineering(n.bandHighHz, 3, "Hz"));
 }
 
+QString noiseBandKindText(const NoiseAnalysis &n)
+{
+    switch (n.bandKind) {
+    case NoiseBandKind::Given:
+        return QObject::tr("noise_band");
+    case NoiseBandKind::Converged:
+        return QObject::tr("to convergence");
+    case NoiseBandKind::SweepStop:
+        return QObject::tr("to the sweep stop, not converged");
+    }
+    return {};
+}
+
 std::vector<const NoiseContribution *> noiseSourcesByShare(const NoiseAnalysis &n)
 {
     std::vector<const NoiseContribution *> sorted;
@@ -398,7 +411,10 @@ void NoisePanel::draw(Pending in)
                        .arg(noiseSourceName(*order.front()),
                             QString::number(*share, 'f', *share < 99.95 ? 1 : 2));
     }
-    setTitle(tr("%1 rms out, %2 rms in  ·  %3%4").arg(out, inRms, noiseBandText(n), lead));
+    setTitle(tr("%1 rms out, %2 rms in  ·  %3 (%4)%5")
+                 .arg(out, inRms, noiseBandText(n), noiseBandKindText(n), lead));
+    setToolTip(tr("rms: the output density integrated over the band on the circuit model\n%1")
+                   .arg(toQString(n.bandMethod)));
     placeOverlays();
     showValuesAt(m_cursorAt);
 }

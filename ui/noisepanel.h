@@ -33,6 +33,10 @@ QString noiseSourceName(const NoiseContribution &contribution);
 /// The integrated band, "1 Hz–145 kHz".
 QString noiseBandText(const NoiseAnalysis &noise);
 
+/// How the band was set, in a few words: "noise_band", "to convergence", "to the sweep stop,
+/// not converged".
+QString noiseBandKindText(const NoiseAnalysis &noise);
+
 /// The contributions, largest output RMS over the band first (ties: core's order).
 std::vector<const NoiseContribution *> noiseSourcesByShare(const NoiseAnalysis &noise);
 

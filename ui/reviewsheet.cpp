@@ -1007,8 +1007,12 @@ void noiseSection(SheetWriter &w, const Analysis &a)
                          eng(n.bandHighHz, "Hz"), QString::number(n.temperatureK, 'f', 2),
                          QString::number(n.temperatureK - 273.15, 'g', 5)),
                 f);
-    w.paragraph(QStringLiteral("Band: %1.").arg(q(n.bandMethod)), sheetFont(7.5), 0,
-                QColor(90, 90, 90));
+    QString method = QStringLiteral("Band (%1): %2.").arg(noiseBandKindText(n), q(n.bandMethod));
+    if (n.brickWall && n.brickWall->outputRms)
+        method += QStringLiteral(" Brick-wall equivalent for comparison: %1 rms (input-referred "
+                                 "density to π/2 · f₋₃dB = %2, times the gain at the sweep start).")
+                      .arg(eng(n.brickWall->outputRms, out), eng(n.brickWall->highHz, "Hz"));
+    w.paragraph(method, sheetFont(7.5), 0, QColor(90, 90, 90));
     w.advance(1.5);
     if (n.contributions.empty() || n.frequenciesHz.empty())
         return;
@@ -1028,6 +1032,8 @@ void noiseSection(SheetWriter &w, const Analysis &a)
             return QStringLiteral("input voltage noise");
         case NoiseSourceKind::CurrentNoise:
             return QStringLiteral("input current noise");
+        case NoiseSourceKind::Shot:
+            return QStringLiteral("shot (2qI)");
         }
         return QString();
     };

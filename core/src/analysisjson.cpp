@@ -93,9 +93,29 @@ const char *noiseKindName(NoiseSourceKind kind)
         return "voltage_noise";
     case NoiseSourceKind::CurrentNoise:
         return "current_noise";
+    case NoiseSourceKind::Shot:
+        return "shot";
     }
     return "";
 }
+
+const char *noiseBandKindName(NoiseBandKind kind)
+{
+    switch (kind) {
+    case NoiseBandKind::Given:
+        return "noise_band";
+    case NoiseBandKind::Converged:
+        return "converged";
+    case NoiseBandKind::SweepStop:
+        return "sweep_stop";
+    }
+    return "";
+}
+
+constexpr const char *kBrickWallMethod
+    = "input-referred density integrated from the sweep start to pi/2 times the closed-loop "
+      "-3 dB bandwidth (single-pole equivalent noise bandwidth), times the gain at the sweep "
+      "start";
 
 Json noiseJson(const Analysis &a)
 {
@@ -109,10 +129,18 @@ Json noiseJson(const Analysis &a)
     j["input_unit"] = inUnit;
     j["band"] = {{"low_hz", number(n.bandLowHz)},
                  {"high_hz", number(n.bandHighHz)},
-                 {"brick_wall", n.brickWall},
+                 {"kind", noiseBandKindName(n.bandKind)},
                  {"method", n.bandMethod}};
     j["output_rms"] = number(n.outputRms);
     j["input_rms"] = number(n.inputRms);
+    j["input_rms_gain_at_hz"] = number(n.inputGainHz);
+    if (n.brickWall)
+        j["brick_wall_equivalent"] = {{"high_hz", number(n.brickWall->highHz)},
+                                      {"output_rms", number(n.brickWall->outputRms)},
+                                      {"input_rms", number(n.brickWall->inputRms)},
+                                      {"method", kBrickWallMethod}};
+    else
+        j["brick_wall_equivalent"] = nullptr;
     j["at_hz"] = n.frequenciesHz.front();
     j["output_density"] = number(n.outputDensity.front());
     j["input_density"] = number(n.inputDensity.front());
@@ -263,6 +291,12 @@ std::string analysisToText(const Analysis &a)
              formatEngineering(n.bandLowHz, 5, "Hz") + " – "
                  + formatEngineering(n.bandHighHz, 5, "Hz"));
         line("band method", n.bandMethod);
+        if (n.brickWall && n.brickWall->outputRms)
+            line("brick-wall equivalent",
+                 formatEngineering(*n.brickWall->outputRms, 5, outUnit)
+                     + " rms (input-referred density to pi/2 f_-3dB = "
+                     + formatEngineering(n.brickWall->highHz, 4, "Hz")
+                     + ", times the gain at the sweep start)");
         // The three largest sources by their share of the output power over the band.
         std::vector<const NoiseContribution *> order;
         for (const NoiseContribution &c : n.contributions)

@@ -44,7 +44,10 @@ const std::array<PartSpec, 7> &specTable()
          {"to", "from"},
          {// absent r_parallel: ideal source (infinite parallel resistance)
           {"r_parallel", ValueKind::Resistance, ValueRange::Positive, false, kInfinity},
-          {"c_parallel", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0}},
+          {"c_parallel", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0},
+          // the DC current through the source (dark current plus mean photocurrent), A: its
+          // shot noise 2q|i_dc| is a noise source of its own (absent: no shot noise)
+          {"i_dc", ValueKind::Current, ValueRange::Any, false, 0.0}},
          false,
          true},
         {PartType::GainBlock,
@@ -56,9 +59,13 @@ const std::array<PartSpec, 7> &specTable()
           // absent r_in: infinite input resistance
           {"r_in", ValueKind::Resistance, ValueRange::Positive, false, kInfinity},
           {"c_in", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0},
+          // common-mode input capacitance, from each input pin to ground
+          {"c_cm", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0},
           {"r_out", ValueKind::Resistance, ValueRange::NonNegative, false, 0.0},
-          // noise densities (absent: noiseless): en in V/sqrt(Hz) in series with in_p, in in
-          // A/sqrt(Hz) at each input; corners of the 1/f region (absent or 0: white only)
+          // noise densities (absent: noiseless): en in V/sqrt(Hz) in series with in_p (between
+          // the in_p pin and the controlled source, so r_in, c_in and c_cm at the pins count
+          // in its noise gain), in in A/sqrt(Hz) at each input; corners of the 1/f region
+          // (absent or 0: white only). r_in and r_out are small-signal values: noiseless.
           {"en", ValueKind::Plain, ValueRange::NonNegative, false, 0.0},
           {"en_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0},
           {"in", ValueKind::Plain, ValueRange::NonNegative, false, 0.0},

@@ -471,6 +471,23 @@ public:
         return Value{*v + offset, text};
     }
 
+    // [f1, f2]: two frequencies.
+    std::optional<NoiseBand> readNoiseBand(const Json &j)
+    {
+        if (!j.is_array() || j.size() != 2) {
+            error("", "noise_band",
+                  std::string("expected a [low, high] pair of frequencies, found ")
+                      + (j.is_array() ? "a list of " + std::to_string(j.size())
+                                      : std::string(j.type_name())));
+            return std::nullopt;
+        }
+        auto low = readValue(j[0], ValueKind::Frequency, "", "noise_band");
+        auto high = readValue(j[1], ValueKind::Frequency, "", "noise_band");
+        if (!low || !high)
+            return std::nullopt;
+        return NoiseBand{*low, *high};
+    }
+
     void readSpecs(const Json &j, Specs &specs)
     {
         if (!j.is_object()) {
@@ -639,7 +656,7 @@ public:
         }
         checkKeys(root,
                   {"schema", "title", "notes", "parts", "input", "output", "sweep", "specs",
-                   "candidates", "sketch", "temperature"},
+                   "candidates", "sketch", "temperature", "noise_band"},
                   "", "");
         if (auto it = root.find("schema"); it == root.end()) {
             error("", "schema",
@@ -697,6 +714,8 @@ public:
             readSweep(*it, d.sweep);
         if (auto it = root.find("temperature"); it != root.end())
             d.temperature = readTemperature(*it);
+        if (auto it = root.find("noise_band"); it != root.end())
+            d.noiseBand = readNoiseBand(*it);
         if (auto it = root.find("specs"); it != root.end())
             readSpecs(*it, d.specs);
         if (auto it = root.find("candidates"); it != root.end())
@@ -861,6 +880,9 @@ std::string serializeDesign(const Design &d)
         + ", \"points_per_decade\": " + std::to_string(d.sweep.pointsPerDecade) + "}";
     if (d.temperature)
         s += ",\n  \"temperature\": " + jsonValue(*d.temperature);
+    if (d.noiseBand)
+        s += ",\n  \"noise_band\": [" + jsonValue(d.noiseBand->low) + ", "
+            + jsonValue(d.noiseBand->high) + "]";
 
     std::vector<std::string> specs;
     if (d.specs.gainMin || d.specs.gainMax) {

@@ -312,6 +312,17 @@ void checkTemperature(const Design &d, Checker &c)
         c.add("", "temperature", "temperature must be above absolute zero (0 K, -273.15 °C)");
 }
 
+void checkNoiseBand(const Design &d, Checker &c)
+{
+    if (!d.noiseBand)
+        return;
+    const double low = d.noiseBand->low.si, high = d.noiseBand->high.si;
+    if (!std::isfinite(low) || !(low > 0) || !std::isfinite(high) || !(high > 0))
+        c.add("", "noise_band", "noise_band ends must be frequencies greater than zero");
+    else if (!(low < high))
+        c.add("", "noise_band", "noise_band [low, high] has low not below high");
+}
+
 void checkCandidates(const Design &d, Checker &c)
 {
     std::set<std::string> names;
@@ -385,6 +396,7 @@ Diagnostics validateDesign(const Design &design, std::string_view file)
     checkSweep(design.sweep, c);
     checkSpecs(design.specs, c);
     checkTemperature(design, c);
+    checkNoiseBand(design, c);
     checkCandidates(design, c);
     checkSketch(design, c);
     return c.take();

@@ -99,6 +99,13 @@ void addGainBlock(Netlist &n, const Part &gb, const LoopCircuitOptions &options)
         n.addResistor(gb.id + ":r_in", inP, inN, gb.number("r_in"));
     if (gb.number("c_in") > 0)
         n.addCapacitor(gb.id + ":c_in", inP, inN, gb.number("c_in"));
+    if (const double ccm = gb.number("c_cm"); ccm > 0) {
+        // from each input pin to ground; a pin on ground has none
+        if (gb.node("in_p") != kGroundNode)
+            n.addCapacitor(gb.id + ":c_cm(in_p)", inP, std::string(kGroundNode), ccm);
+        if (gb.node("in_n") != kGroundNode)
+            n.addCapacitor(gb.id + ":c_cm(in_n)", inN, std::string(kGroundNode), ccm);
+    }
     ControlledSourceElement cs;
     cs.inP = inP;
     cs.inN = inN;

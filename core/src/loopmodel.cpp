@@ -105,7 +105,7 @@ struct LoopModel::TwoPortSystems
     bool voltageSource = true;
     double rSeries = 0, gParallel = 0, cParallel = 0; // the source's own impedance
     double loadR = 1, loadC = 0;
-    double gIn = 0, cIn = 0, rOut = 0; // the gain block's
+    double gIn = 0, cIn = 0, cCm = 0, rOut = 0; // the gain block's
 };
 
 Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
@@ -266,6 +266,7 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     const Part *gb = design.uniquePart(PartType::GainBlock);
     sys->gIn = gb->has("r_in") ? 1.0 / gb->number("r_in") : 0.0;
     sys->cIn = gb->number("c_in");
+    sys->cCm = gb->number("c_cm");
     sys->rOut = gb->number("r_out");
     m.m_twoPort = sys;
     return m;
@@ -497,8 +498,10 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
                 c.inputLoading[i] = zInSide / (zInSide + zn1);
             }
         } else {
+            // the mixing pin's common-mode capacitance to ground loads it too
             const Complex yn1 = port1Impedance ? 1.0 / n11 : n11;
-            c.inputLoading[i] = (ys + yIn) / (ys + yn1 + yIn);
+            const Complex yPin = yIn + s[i] * x.cCm;
+            c.inputLoading[i] = (ys + yPin) / (ys + yn1 + yPin);
         }
         // Series sampling holds port 2 as an impedance (z, g), shunt sampling as an
         // admittance (h, y): use it as it is, so an open port 2 (y22 = 0, a network with

@@ -1,11 +1,14 @@
 #include "loopsketch/noise.h"
 
+#include "bandintegral.h"
+#include "noisemodel.h"
 #include "noisesweep.h"
 
 #include "loopsketch/reducedsystem.h"
 
 #include "loopsketch/circuit.h"
 #include "loopsketch/loopcircuit.h"
+#include "loopsketch/value.h"
 
 #include <Eigen/LU>
 
@@ -17,6 +20,11 @@
 
 namespace loopsketch {
 
+using detail::BandIntegral;
+using detail::ConvergedBand;
+using detail::DensityColumns;
+using detail::NoiseSamples;
+
 double thermalNoiseVoltage(double ohms, double kelvin)
 {
     return std::sqrt(4.0 * kBoltzmann * kelvin * ohms);
@@ -25,6 +33,11 @@ double thermalNoiseVoltage(double ohms, double kelvin)
 double thermalNoiseCurrent(double ohms, double kelvin)
 {
     return std::sqrt(4.0 * kBoltzmann * kelvin / ohms);
+}
+
+double shotNoiseCurrent(double amps)
+{
+    return std::sqrt(2.0 * kElementaryCharge * std::abs(amps));
 }
 
 double flickerDensity(double white, double cornerHz, double hz)
@@ -88,20 +101,6 @@ double integratePsd(const std::vector<double> &hz, const std::vector<double> &ps
 
 namespace {
 
-std::string partIdOf(const std::string &elementName)
-{
-    return elementName.substr(0, elementName.find(':'));
-}
-
-struct Source
-{
-    NoiseContribution contribution;
-    int plus = -1; ///< unknown whose adjoint entry is added (-1: ground)
-    int minus = -1; ///< unknown whose adjoint entry is subtracted
-    double whiteDensity = 0; ///< A/sqrt(Hz) for currents, V/sqrt(Hz) for en
-    double cornerHz = 0;
-};
-
 // First frequency where |H| falls below |H(f0)| / sqrt(2), interpolated in log f.
 std::optional<double> bandwidthFromGain(const std::vector<double> &f,
                                         const std::vector<std::complex<double>> &h)
@@ -119,6 +118,29 @@ std::optional<double> bandwidthFromGain(const std::vector<double> &f,
     return std::nullopt;
 }
 
+// The default band's march stops here unconverged: far above any loop this tool is for, and
+// fixed so that the figure does not follow the sweep stop.
+constexpr double kConvergenceCapHz = 1e12;
+// Share of the total power that may lie above the default band's end.
+constexpr double kRemainingShare = 1e-3;
+// Relative accuracy of the band integrals.
+constexpr double kIntegralTolerance = 1e-6;
+
+std::string frequencyText(double hz)
+{
+    return formatEngineering(hz, 4, "Hz");
+}
+
+Diagnostic noSolution(const detail::NoiseModel &model, double hz)
+{
+    const std::string why = model.describeFailure({0.0, 2.0 * std::numbers::pi * hz});
+    return Diagnostic{{},
+                      {},
+                      {},
+                      "noise: the circuit has no solution at " + frequencyText(hz)
+                          + (why.empty() ? std::string() : " (" + why + ")")};
+}
+
 } // namespace
 
 Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &options)
@@ -134,239 +156,166 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
                                                const std::vector<double> &frequenciesHz,
                                                std::span<const std::complex<double>> points)
 {
-    const Part *gb = design.uniquePart(PartType::GainBlock);
-    if (!gb || !design.signalSource() || !design.uniquePart(PartType::Load))
-        return Diagnostic{{}, {}, {}, "noise needs one gain block, one signal source and one load"};
-
-    Netlist netlist = buildLoopNetlist(design);
-    // en in series with in_p: the pin stays on the design's node, the block's input
-    // resistance, capacitance and controlled source move behind the zero-valued source.
-    const std::string pinP = gb->node("in_p");
-    const std::string pinN = gb->node("in_n");
-    const std::string behind = gb->id + ":en+";
-    const std::string enName = gb->id + ":en";
-    for (ControlledSourceElement &cs : netlist.controlled) {
-        if (cs.inP == pinP)
-            cs.inP = behind;
-    }
-    for (NetlistElement &e : netlist.elements) {
-        if ((e.name == gb->id + ":r_in" || e.name == gb->id + ":c_in") && e.a == pinP)
-            e.a = behind;
-    }
-    netlist.addVoltageSource(enName, behind, pinP, -1);
-
-    auto assembled = assembleSystem(netlist);
-    if (!assembled)
-        return assembled.diagnostics();
-    const DescriptorSystem &sys = *assembled;
-
-    std::map<std::string, int> nodeIndex;
-    for (std::size_t i = 0; i < sys.nodes.size(); ++i)
-        nodeIndex[sys.nodes[i]] = static_cast<int>(i);
-    const auto indexOf = [&](const std::string &node) {
-        auto it = nodeIndex.find(node);
-        return it == nodeIndex.end() ? -1 : it->second;
-    };
-    int enRow = -1;
-    for (std::size_t i = 0; i < sys.unknowns.size(); ++i) {
-        if (sys.unknowns[i] == "i(" + enName + ")")
-            enRow = static_cast<int>(i);
-    }
+    auto built = NoiseModel::build(design);
+    if (!built)
+        return built.diagnostics();
+    const NoiseModel &model = *built;
+    const std::vector<double> &hz = frequenciesHz;
+    if (hz.size() < 2)
+        return Diagnostic{{}, {}, "sweep", "noise: the sweep needs at least two frequencies"};
 
     NoiseAnalysis result;
     result.temperatureK = design.temperatureK();
     result.frequenciesHz = frequenciesHz;
-    const double fourKT = 4.0 * kBoltzmann * result.temperatureK;
-
-    std::vector<Source> sources;
-    for (const NetlistElement &e : netlist.elements) {
-        if (e.kind != NetlistElement::Kind::Resistor)
-            continue;
-        Source s;
-        s.contribution.name = e.name;
-        s.contribution.partId = partIdOf(e.name);
-        s.contribution.kind = NoiseSourceKind::Resistor;
-        s.plus = indexOf(e.a);
-        s.minus = indexOf(e.b);
-        s.whiteDensity = std::sqrt(fourKT / e.value);
-        sources.push_back(std::move(s));
+    const std::size_t count = hz.size();
+    NoiseSamples grid = model.evaluate(hz, points);
+    if (!grid.ok)
+        return noSolution(model, grid.failedAtHz);
+    const std::size_t sources = model.sources().size();
+    for (std::size_t k = 0; k < sources; ++k) {
+        NoiseContribution c = model.sources()[k];
+        c.outputPsd.assign(grid.psd.begin() + static_cast<std::ptrdiff_t>(k * count),
+                           grid.psd.begin() + static_cast<std::ptrdiff_t>((k + 1) * count));
+        result.contributions.push_back(std::move(c));
     }
-    if (gb->number("en") > 0) {
-        Source s;
-        s.contribution = {enName, gb->id, NoiseSourceKind::VoltageNoise, {}, 0};
-        s.plus = enRow;
-        s.whiteDensity = gb->number("en");
-        s.cornerHz = gb->number("en_corner_hz");
-        sources.push_back(std::move(s));
-    }
-    if (gb->number("in") > 0) {
-        for (const auto &[terminal, pin] : {std::pair{"in_p", pinP}, std::pair{"in_n", pinN}}) {
-            Source s;
-            s.contribution
-                = {gb->id + ":in(" + terminal + ")", gb->id, NoiseSourceKind::CurrentNoise, {}, 0};
-            s.plus = indexOf(pin);
-            s.whiteDensity = gb->number("in");
-            s.cornerHz = gb->number("in_corner_hz");
-            sources.push_back(std::move(s));
-        }
-    }
-
-    const std::size_t count = result.frequenciesHz.size();
-    for (Source &s : sources)
-        s.contribution.outputPsd.reserve(count);
-    result.outputDensity.reserve(count);
-    result.inputDensity.reserve(count);
-    result.noiseGain.reserve(count);
-    result.gain.reserve(count);
-
-    // One injection column per noise source (a unit current across a resistor or at an
-    // input, a unit voltage on en's row) plus the signal source, one output row: the
-    // reduced fast path then gives every source's transfer per frequency with one small
-    // LU, instead of a full transposed LU (the adjoint) at every frequency.
-    DescriptorSystem injections = sys;
-    const int n = sys.size();
-    injections.B = Eigen::MatrixXd::Zero(n, static_cast<Eigen::Index>(sources.size()) + 1);
-    for (std::size_t k = 0; k < sources.size(); ++k) {
-        const auto col = static_cast<Eigen::Index>(k);
-        if (sources[k].plus >= 0)
-            injections.B(sources[k].plus, col) += 1.0;
-        if (sources[k].minus >= 0)
-            injections.B(sources[k].minus, col) -= 1.0;
-    }
-    const auto gainColumn = static_cast<Eigen::Index>(sources.size());
-    injections.B.col(gainColumn) = sys.B.col(loopio::kSource);
-    Eigen::Index enColumn = -1;
-    for (std::size_t k = 0; k < sources.size(); ++k)
-        if (sources[k].plus == enRow && enRow >= 0)
-            enColumn = static_cast<Eigen::Index>(k);
-    if (enRow >= 0 && enColumn < 0) {
-        // No en given: still report the noise gain, from an extra column on en's row.
-        injections.B.conservativeResize(Eigen::NoChange, injections.B.cols() + 1);
-        injections.B.col(injections.B.cols() - 1).setZero();
-        injections.B(enRow, injections.B.cols() - 1) = 1.0;
-        enColumn = injections.B.cols() - 1;
-    }
-    injections.L = sys.L.row(loopio::kOutput);
-    auto reduced = ReducedSystem::build(injections);
-    if (!reduced)
-        return Diagnostic{{}, {}, {}, "noise: " + reduced.errorText()};
-    const auto columns = static_cast<std::size_t>(injections.B.cols());
-    std::vector<TransferEntry> entries(columns);
-    for (std::size_t k = 0; k < columns; ++k)
-        entries[k] = {0, static_cast<int>(k)};
-    const std::vector<std::complex<double>> transfer = reduced->sweepEntries(points, entries);
-    const auto h = [&](std::size_t column, std::size_t i) {
-        return transfer[column * count + i];
-    };
+    result.gain = std::move(grid.gain);
+    result.noiseGain = std::move(grid.noiseGain);
+    result.outputDensity.resize(count);
+    result.inputDensity.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
-        const double f = result.frequenciesHz[i];
-        for (std::size_t k = 0; k < columns; ++k) {
-            if (!std::isfinite(h(k, i).real()) || !std::isfinite(h(k, i).imag())) {
-                const std::string why = describeSingularity(sys, points[i]);
-                return Diagnostic{{},
-                                  {},
-                                  {},
-                                  "noise: the circuit has no solution at " + std::to_string(f)
-                                      + " Hz" + (why.empty() ? std::string() : " (" + why + ")")};
-            }
-        }
-        const std::complex<double> gain = h(static_cast<std::size_t>(gainColumn), i);
         double total = 0.0;
-        for (std::size_t k = 0; k < sources.size(); ++k) {
-            Source &src = sources[k];
-            const double density = flickerDensity(src.whiteDensity, src.cornerHz, f);
-            const double psd = std::norm(density * h(k, i));
-            src.contribution.outputPsd.push_back(psd);
-            total += psd;
-        }
-        // Magnitudes as roots of the squared norms: finite transfers of a circuit are far
-        // from the range where the square overflows, and this skips hypot's scaling.
-        result.gain.push_back(gain);
-        result.noiseGain.push_back(
-            enColumn >= 0 ? std::sqrt(std::norm(h(static_cast<std::size_t>(enColumn), i))) : 0.0);
-        const double outputDensity = std::sqrt(total);
-        result.outputDensity.push_back(outputDensity);
-        const double g = std::sqrt(std::norm(gain));
-        result.inputDensity.push_back(g > 0 ? outputDensity / g
-                                            : std::numeric_limits<double>::quiet_NaN());
+        for (std::size_t k = 0; k < sources; ++k)
+            total += grid.psd[k * count + i];
+        result.outputDensity[i] = std::sqrt(total);
+        const double g = std::sqrt(std::norm(result.gain[i]));
+        result.inputDensity[i]
+            = g > 0 ? result.outputDensity[i] / g : std::numeric_limits<double>::quiet_NaN();
     }
 
-    const std::vector<double> &hz = result.frequenciesHz;
-    if (hz.size() < 2)
-        return Diagnostic{{}, {}, "sweep", "noise: the sweep needs at least two frequencies"};
-    const double gain0 = std::abs(result.gain.front());
+    // The densities of every source on the model, for the band integrals.
+    const DensityColumns perSource = [&](std::span<const double> f, std::vector<double> &values) {
+        NoiseSamples s = model.evaluate(f);
+        if (!s.ok)
+            return false;
+        values = std::move(s.psd);
+        return true;
+    };
+
+    // The band.
+    std::optional<double> low, high;
+    bool fromDesign = false;
     if (options.bandLowHz || options.bandHighHz) {
-        const double low = options.bandLowHz.value_or(hz.front());
-        const double high = options.bandHighHz.value_or(hz.back());
-        const double slack = 1e-9 * hz.back();
-        if (!(std::isfinite(low) && std::isfinite(high) && low < high)
-            || low < hz.front() * (1 - 1e-12) || high > hz.back() + slack) {
+        low = options.bandLowHz.value_or(hz.front());
+        high = options.bandHighHz.value_or(hz.back());
+    } else if (design.noiseBand) {
+        low = design.noiseBand->low.si;
+        high = design.noiseBand->high.si;
+        fromDesign = true;
+    }
+    BandIntegral integral;
+    if (low) {
+        if (!(std::isfinite(*low) && std::isfinite(*high) && *low > 0 && *low < *high)) {
             return Diagnostic{{},
                               {},
-                              "noise band",
-                              "noise band must lie within the sweep and have its low end below "
-                              "its high end"};
+                              "noise_band",
+                              "noise band must be two frequencies above zero with the low end "
+                              "below the high end"};
         }
-        result.bandLowHz = low;
-        result.bandHighHz = high;
-        result.brickWall = false;
-        result.bandMethod = "the given band, output and input-referred density integrated";
+        result.bandKind = NoiseBandKind::Given;
+        result.bandLowHz = *low;
+        result.bandHighHz = *high;
+        integral = integrateBand(perSource, sources, *low, *high, kIntegralTolerance,
+                                 2.0 /*per decade*/);
+        result.bandMethod = std::string("output density integrated over ")
+            + (fromDesign ? "the design's noise_band" : "the given band");
     } else {
-        std::optional<double> bw = options.closedLoopBandwidthHz;
-        if (!bw)
-            bw = bandwidthFromGain(hz, result.gain);
         result.bandLowHz = hz.front();
-        if (bw && *bw > 0) {
-            result.bandHighHz = std::min(std::numbers::pi / 2.0 * *bw, hz.back());
-            result.brickWall = true;
+        // Not before the circuit's last natural frequency below the cap: above it every
+        // density is a plain power law, so the estimate of the power left above is sound.
+        double lastPoleHz = 0;
+        for (const std::complex<double> &p : model.naturalFrequencies()) {
+            const double f = std::abs(p) / (2.0 * std::numbers::pi);
+            if (std::isfinite(f) && f < kConvergenceCapHz)
+                lastPoleHz = std::max(lastPoleHz, f);
+        }
+        const double cap = std::max(kConvergenceCapHz, 10.0 * hz.back());
+        ConvergedBand march
+            = integrateUntilConverged(perSource, sources, hz.front(), cap, 2.0 * lastPoleHz,
+                                      kRemainingShare, kIntegralTolerance);
+        if (!march.ok)
+            return noSolution(model, march.failedAtHz);
+        if (march.converged) {
+            result.bandKind = NoiseBandKind::Converged;
+            result.bandHighHz = march.highHz;
+            integral = std::move(march.integral);
             result.bandMethod
-                = "sweep start to pi/2 times the closed-loop -3 dB bandwidth (brick-wall "
-                  "equivalent of a single-pole roll-off): input-referred density integrated, "
-                  "output = that times the gain at the sweep start";
-            if (std::numbers::pi / 2.0 * *bw > hz.back())
-                result.bandMethod += "; cut at the sweep stop";
+                = "output density integrated on the circuit model from the sweep start until "
+                  "the power left above is under 0.1 % of the total"
+                + std::string(march.highHz > hz.back() ? " (beyond the sweep stop)" : "");
         } else {
+            result.bandKind = NoiseBandKind::SweepStop;
             result.bandHighHz = hz.back();
-            result.brickWall = false;
-            result.bandMethod = "no closed-loop -3 dB frequency in the sweep: the whole sweep, "
-                                "output and input-referred density integrated";
+            integral
+                = integrateBand(perSource, sources, hz.front(), hz.back(), kIntegralTolerance, 2.0);
+            result.bandMethod
+                = "output density integrated from the sweep start to the sweep stop: above the "
+                  "sweep the density does not fall fast enough for the integral to converge "
+                  "(flat noise at high frequency, e.g. feedthrough), so the figure depends on "
+                  "the sweep stop";
         }
     }
+    if (!integral.ok)
+        return noSolution(model, integral.failedAtHz);
+    for (std::size_t k = 0; k < sources; ++k)
+        result.contributions[k].rms = std::sqrt(std::max(integral.columns[k], 0.0));
+    result.outputRms = std::sqrt(std::max(integral.total, 0.0));
 
-    const std::vector<double> spans = logSpans(hz);
-    const auto integrate = [&](const std::vector<double> &psd) {
-        return integrateWithSpans(hz, spans, psd, result.bandLowHz, result.bandHighHz);
-    };
-    const bool gainEverywhere = std::all_of(result.inputDensity.begin(), result.inputDensity.end(),
-                                            [](double v) { return std::isfinite(v); });
-    std::vector<double> inputPsd(hz.size());
-    if (gainEverywhere) {
-        for (std::size_t i = 0; i < hz.size(); ++i)
-            inputPsd[i] = result.inputDensity[i] * result.inputDensity[i];
-        result.inputRms = std::sqrt(integrate(inputPsd));
+    // Input-referred: the output figure over the gain at the band's low end.
+    result.inputGainHz = result.bandLowHz;
+    {
+        const double f[] = {result.inputGainHz};
+        NoiseSamples at = model.evaluate(f);
+        if (!at.ok)
+            return noSolution(model, at.failedAtHz);
+        const double g = std::abs(at.gain.front());
+        if (g > 0)
+            result.inputRms = *result.outputRms / g;
     }
-    if (result.brickWall) {
-        if (gainEverywhere) {
-            result.outputRms = *result.inputRms * gain0;
-            std::vector<double> gainNorm(hz.size()), referred(hz.size());
-            for (std::size_t i = 0; i < hz.size(); ++i)
-                gainNorm[i] = std::norm(result.gain[i]);
-            for (Source &src : sources) {
-                for (std::size_t i = 0; i < hz.size(); ++i)
-                    referred[i] = src.contribution.outputPsd[i] / gainNorm[i];
-                src.contribution.rms = std::sqrt(integrate(referred)) * gain0;
+    result.bandMethod
+        += "; input-referred rms = output rms / |gain| at " + frequencyText(result.inputGainHz);
+
+    // The brick-wall equivalent, for comparison with the older figure.
+    std::optional<double> bw = options.closedLoopBandwidthHz;
+    if (!bw)
+        bw = bandwidthFromGain(hz, result.gain);
+    const double gain0 = std::abs(result.gain.front());
+    if (bw && *bw > 0 && gain0 > 0) {
+        BrickWallNoise brick;
+        brick.highHz = std::numbers::pi / 2.0 * *bw;
+        const DensityColumns inputReferred
+            = [&](std::span<const double> f, std::vector<double> &values) {
+                  NoiseSamples s = model.evaluate(f);
+                  if (!s.ok)
+                      return false;
+                  values.assign(f.size(), 0.0);
+                  for (std::size_t i = 0; i < f.size(); ++i) {
+                      double total = 0;
+                      for (std::size_t k = 0; k < sources; ++k)
+                          total += s.psd[k * f.size() + i];
+                      values[i] = total / std::norm(s.gain[i]);
+                  }
+                  return true;
+              };
+        if (brick.highHz > hz.front()) {
+            BandIntegral b = integrateBand(inputReferred, 1, hz.front(), brick.highHz,
+                                           kIntegralTolerance, 2.0);
+            if (b.ok && std::isfinite(b.total)) {
+                brick.inputRms = std::sqrt(std::max(b.total, 0.0));
+                brick.outputRms = *brick.inputRms * gain0;
             }
         }
-    } else {
-        std::vector<double> outputPsd(hz.size());
-        for (std::size_t i = 0; i < hz.size(); ++i)
-            outputPsd[i] = result.outputDensity[i] * result.outputDensity[i];
-        result.outputRms = std::sqrt(integrate(outputPsd));
-        for (Source &src : sources)
-            src.contribution.rms = std::sqrt(integrate(src.contribution.outputPsd));
+        result.brickWall = brick;
     }
-    for (Source &src : sources)
-        result.contributions.push_back(std::move(src.contribution));
     return result;
 }
 

@@ -13,6 +13,8 @@ std::string noiseSourceLabel(const NoiseContribution &c)
     }
     case NoiseSourceKind::VoltageNoise:
         return c.partId + " e_n";
+    case NoiseSourceKind::Shot:
+        return c.partId + " shot";
     case NoiseSourceKind::CurrentNoise: {
         // "U1:in(in_n)": the current noise at the in_n pin.
         const auto open = c.name.find('('), close = c.name.rfind(')');

@@ -124,6 +124,8 @@ std::optional<UnitMatch> unitAt(std::string_view text, ValueKind kind)
         return std::nullopt;
     case ValueKind::Tolerance:
         return startsWith("%") ? std::optional(UnitMatch{1, UnitMeaning::Percent}) : std::nullopt;
+    case ValueKind::Current:
+        return startsWith("A") ? std::optional(UnitMatch{1}) : std::nullopt;
     case ValueKind::Plain:
         return std::nullopt;
     }
@@ -418,6 +420,8 @@ std::string unitSymbol(ValueKind kind)
         return "V/V";
     case ValueKind::Tolerance:
         return "%";
+    case ValueKind::Current:
+        return "A";
     case ValueKind::Plain:
         return "";
     }

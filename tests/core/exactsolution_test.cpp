@@ -552,6 +552,21 @@ const std::map<std::string, std::function<DcValues()>> &exampleClosedForms()
              const double zOut = det2(g11, 0, g21, 1) / det2(g11, g12, g21, g22 - 1 / rl);
              return DcValues{gain, zIn, zOut};
          }},
+        // Shunt-shunt transimpedance, the demo's nodes and equations: Is into "in",
+        // Rp = 1 G, r_in = 1 T, r_out = 50, a = 120 dB (gbw and poles are 1 at DC),
+        // RF = 200 k (in-out), RL = 2 k.
+        {"turbidity-probe-front-end.loopsketch",
+         [] {
+             const double rp = 1e9, rin = 1e12, rout = 50, rf = 200e3, rl = 2e3;
+             const double a = 1e6;
+             const double g12 = -1 / rf, g21 = -1 / rf + a / rout;
+             const double g11 = 1 / rp + 1 / rin + 1 / rf, g22 = 1 / rf + 1 / rout + 1 / rl;
+             const double det = det2(g11, g12, g21, g22);
+             const double gain = det2(g11, 1, g21, 0) / det;
+             const double zIn = det2(1, g12, 0, g22) / det2(g11 - 1 / rp, g12, g21, g22);
+             const double zOut = det2(g11, 0, g21, 1) / det2(g11, g12, g21, g22 - 1 / rl);
+             return DcValues{gain, zIn, zOut};
+         }},
         // Series-series current driver: Rs = 100, r_in = 2 M, r_out = 60, a = 106 dB,
         // RS = 1 k (fb-0), load RL = 500 from out (a) to fb (b), output = load current.
         // Nodes (p = in, n = fb, o = out), e = a (v_p - v_n):

@@ -2,6 +2,7 @@
 """Second opinion from SciPy/NumPy (Debian python3-scipy) on the feedback engine.
 
 Usage: scipy_second_opinion.py LOOPSKETCH_CLI DESIGN_FILE
+       scipy_second_opinion.py --noise LOOPSKETCH_CLI DESIGN_FILE   (see noise_main below)
 
 The design must be a unity-gain follower around a gain block with ideal terminals (no
 r_in, r_out = 0) and no zeros, so its loop gain is the rational function
@@ -41,7 +42,12 @@ def parse_number(text):
     t = text.strip()
     if t.endswith("dB"):
         return 10.0 ** (float(t[:-2]) / 20.0)
-    prefixes = {"p": 1e-12, "n": 1e-9, "u": 1e-6, "m": 1e-3, "k": 1e3, "M": 1e6, "G": 1e9}
+    for unit in ("Hz", "A", "F"):
+        if t.endswith(unit) and len(t) > len(unit):
+            t = t[: -len(unit)].strip()
+            break
+    prefixes = {"f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "\u00b5": 1e-6, "m": 1e-3,
+                "k": 1e3, "M": 1e6, "G": 1e9, "T": 1e12}
     if t and t[-1] in prefixes:
         return float(t[:-1]) * prefixes[t[-1]]
     return float(t)
@@ -144,5 +150,270 @@ def main():
     return 0
 
 
+# ----- noise --------------------------------------------------------------------------------
+#
+# An independent nodal model of the design's noise, written from the part definitions in
+# DESIGN.md section 4 and never reading Loopsketch's noise output: complex modified nodal
+# analysis per frequency (numpy.linalg.solve), one forward solve per noise source (not the
+# adjoint), the gain block as a voltage-controlled voltage source whose controlling voltage is
+# v(in_p) + e_n - v(in_n) (e_n in series with the non-inverting input), r_in and c_in between
+# the pins and c_cm from each pin to ground, r_in and r_out noiseless. Sources: 4kT/R of every
+# resistor, of the source's own resistance and of the load; 2q|i_dc| of a current source;
+# e_n and i_n with their 1/f corners (density^2 = white^2 (1 + f_c / f)). Constants: CODATA
+# 2018 (scipy.constants), exact in the 2019 SI.
+
+from scipy import constants, integrate  # noqa: E402
+
+
+def temperature_of(design):
+    t = design.get("temperature")
+    if t is None:
+        return 298.15
+    if isinstance(t, (int, float)):
+        return float(t)
+    t = t.strip()
+    if t.endswith("°C") or t.endswith("C"):
+        return float(t.rstrip("°C ").strip()) + 273.15
+    return float(t.rstrip("K ").strip())
+
+
+class NoiseNodal:
+    def __init__(self, design):
+        if design["output"] != "voltage":
+            raise SystemExit("the noise second opinion handles voltage outputs")
+        self.temp = temperature_of(design)
+        four_kt = 4.0 * constants.k * self.temp
+        self.nodes = {}
+        self.twoterm = []   # (kind, a, b, value)
+        self.sources = []   # (name, kind, data, white psd, corner)
+        self.vsources = []  # (pos, neg)
+        self.gb = None
+        src_id = design["input"]
+
+        def node(name):
+            if name == "0":
+                return -1
+            return self.nodes.setdefault(name, len(self.nodes))
+
+        for p in design["parts"]:
+            t = p["type"]
+            num = lambda key, default=None: parse_number(p[key]) if key in p else default
+            if t in ("resistor", "capacitor", "inductor"):
+                a, b, v = node(p["a"]), node(p["b"]), parse_number(p["value"])
+                self.twoterm.append((t, a, b, v))
+                if t == "resistor":
+                    self.sources.append((p["id"], "current", (a, b), four_kt / v, 0.0))
+            elif t == "isource" and p["id"] == src_id:
+                a, b = node(p["to"]), node(p["from"])
+                if "r_parallel" in p:
+                    rp = num("r_parallel")
+                    self.twoterm.append(("resistor", a, b, rp))
+                    self.sources.append((p["id"] + ":r_parallel", "current", (a, b),
+                                         four_kt / rp, 0.0))
+                if num("c_parallel", 0.0) > 0:
+                    self.twoterm.append(("capacitor", a, b, num("c_parallel")))
+                if num("i_dc", 0.0) != 0:
+                    self.sources.append((p["id"] + ":shot", "current", (a, b),
+                                         2.0 * constants.e * abs(num("i_dc")), 0.0))
+            elif t == "vsource" and p["id"] == src_id:
+                rs = num("r_series", 0.0)
+                if rs > 0:
+                    inner = node(p["id"] + ":int")
+                    self.vsources.append((inner, node(p["neg"])))
+                    self.twoterm.append(("resistor", inner, node(p["pos"]), rs))
+                    self.sources.append((p["id"] + ":r_series", "current",
+                                         (inner, node(p["pos"])), four_kt / rs, 0.0))
+                else:
+                    self.vsources.append((node(p["pos"]), node(p["neg"])))
+            elif t == "gain_block":
+                a0 = parse_number(p["gain"])
+                poles = ([num("gbw") / abs(a0)] if "gbw" in p else []) + \
+                    [parse_number(x) for x in p.get("poles_hz", [])]
+                zeros = [parse_number(x) for x in p.get("zeros_hz", [])]
+                ip, inn, out = node(p["in_p"]), node(p["in_n"]), node(p["out"])
+                rout = num("r_out", 0.0)
+                e = node(p["id"] + ":e") if rout > 0 else out
+                if rout > 0:
+                    self.twoterm.append(("resistor", e, out, rout))  # noiseless
+                if "r_in" in p:
+                    self.twoterm.append(("resistor", ip, inn, num("r_in")))  # noiseless
+                if num("c_in", 0.0) > 0:
+                    self.twoterm.append(("capacitor", ip, inn, num("c_in")))
+                for pin in (ip, inn):
+                    if num("c_cm", 0.0) > 0 and pin >= 0:
+                        self.twoterm.append(("capacitor", pin, -1, num("c_cm")))
+                self.gb = (a0, poles, zeros, ip, inn, e)
+                if num("en", 0.0) > 0:
+                    self.sources.append((p["id"] + ":en", "en", None, num("en") ** 2,
+                                         num("en_corner_hz", 0.0)))
+                if num("in", 0.0) > 0:
+                    for term, pin in (("in_p", ip), ("in_n", inn)):
+                        if pin >= 0:
+                            self.sources.append((p["id"] + ":in(" + term + ")", "current",
+                                                 (pin, -1), num("in") ** 2,
+                                                 num("in_corner_hz", 0.0)))
+            elif t == "load":
+                a, b, r = node(p["a"]), node(p["b"]), parse_number(p["r"])
+                self.twoterm.append(("resistor", a, b, r))
+                self.sources.append((p["id"], "current", (a, b), four_kt / r, 0.0))
+                if "c" in p and parse_number(p["c"]) > 0:
+                    self.twoterm.append(("capacitor", a, b, parse_number(p["c"])))
+                self.out = (a, b)
+
+    def psd(self, f):
+        """Output power density of every source at frequency f (Hz), V^2/Hz."""
+        s = 2j * math.pi * f
+        n = len(self.nodes)
+        size = n + len(self.vsources) + 1
+        y = np.zeros((size, size), dtype=complex)
+
+        def stamp(a, b, g):
+            if a >= 0:
+                y[a, a] += g
+            if b >= 0:
+                y[b, b] += g
+            if a >= 0 and b >= 0:
+                y[a, b] -= g
+                y[b, a] -= g
+
+        for kind, a, b, v in self.twoterm:
+            stamp(a, b, 1.0 / v if kind == "resistor" else s * v if kind == "capacitor"
+                  else 1.0 / (s * v))
+        for k, (pos, neg) in enumerate(self.vsources):
+            row = n + k
+            for node_, sign in ((pos, 1.0), (neg, -1.0)):
+                if node_ >= 0:
+                    y[node_, row] += sign
+                    y[row, node_] += sign
+        a0, poles, zeros, ip, inn, e = self.gb
+        gain = a0 * np.prod([1 + s / (2 * math.pi * z) for z in zeros]) / \
+            np.prod([1 + s / (2 * math.pi * p) for p in poles])
+        row = size - 1
+        y[e, row] += 1.0        # the source's current leaves the KCL of node e
+        y[row, e] += 1.0        # v(e) - a (v(in_p) - v(in_n)) = a e_n
+        if ip >= 0:
+            y[row, ip] -= gain
+        if inn >= 0:
+            y[row, inn] += gain
+        rhs = np.zeros((size, len(self.sources)), dtype=complex)
+        weights = np.zeros(len(self.sources))
+        for k, (name, kind, where, white, corner) in enumerate(self.sources):
+            if kind == "en":
+                rhs[row, k] = gain
+            else:
+                a, b = where
+                if a >= 0:
+                    rhs[a, k] += 1.0
+                if b >= 0:
+                    rhs[b, k] -= 1.0
+            weights[k] = white * (1.0 + corner / f)
+        x = np.linalg.solve(y, rhs)
+        a, b = self.out
+        vout = (x[a] if a >= 0 else 0.0) - (x[b] if b >= 0 else 0.0)
+        return np.abs(vout) ** 2 * weights
+
+    def total(self, f):
+        return float(np.sum(self.psd(f)))
+
+    def integral(self, low, high):
+        """Power over [low, high] Hz: scipy.integrate.quad in u = ln f of psd(f) f."""
+        value, _ = integrate.quad(lambda u: self.total(math.exp(u)) * math.exp(u),
+                                  math.log(low), math.log(high), limit=2000,
+                                  epsabs=0.0, epsrel=1e-10)
+        return value
+
+
+def run_cli(cli, design, workdir, name):
+    import os
+    path = os.path.join(workdir, name + ".loopsketch")
+    with open(path, "w", encoding="utf-8") as f:
+        json.dump(design, f)
+    csv_path = os.path.join(workdir, name + ".csv")
+    subprocess.run([cli, "sweep", path, "--csv", csv_path], check=True, capture_output=True)
+    analysis = json.loads(subprocess.run([cli, "analyze", path, "--json"], check=True,
+                                         capture_output=True, text=True).stdout)
+    with open(csv_path, encoding="utf-8") as f:
+        rows = [line.strip().split(",") for line in f if line.strip()]
+    header = rows[0]
+    col = next(i for i, h in enumerate(header) if h.startswith("output_noise_"))
+    grid = [(float(r[0]), float(r[col])) for r in rows[1:]]
+    return analysis, grid
+
+
+# Tolerances: both sides solve the same linear circuit in double precision, so the densities
+# agree far below 1e-6 (the issue asks 1 %; the CSV carries 10 digits); the rms figures to the
+# quadratures' accuracy (Loopsketch's adaptive Gauss-Kronrod aims at 1e-6 of the power).
+TOL_DENSITY = 1e-6
+TOL_RMS = 2e-5
+
+
+def noise_main(cli, design_path):
+    import copy
+    import tempfile
+    with open(design_path, encoding="utf-8") as f:
+        base = json.load(f)
+    failures = []
+
+    def check(name, got, expected, tol):
+        err = abs(got - expected) / abs(expected)
+        ok = err <= tol
+        print(f"{'ok  ' if ok else 'FAIL'} {name}: loopsketch {got:.10g}, scipy {expected:.10g}, "
+              f"rel diff {err:.2e} (tol {tol:g})")
+        if not ok:
+            failures.append(name)
+
+    gb = next(p for p in base["parts"] if p["type"] == "gain_block")
+    variants = [("c_in " + gb.get("c_in", "0"), None), ("c_in 0", "0")]
+    with tempfile.TemporaryDirectory() as work:
+        for label, c_in in variants:
+            design = copy.deepcopy(base)
+            if c_in is not None:
+                next(p for p in design["parts"] if p["type"] == "gain_block")["c_in"] = c_in
+            model = NoiseNodal(design)
+            analysis, grid = run_cli(cli, design, work, "variant")
+            # densities at the sweep rows nearest these frequencies, at the row's frequency
+            for want in (1.0, 1e3, 1e6, 1e8):
+                f, density = min(grid, key=lambda r: abs(math.log(r[0] / want)))
+                check(f"{label}: output density at {f:.6g} Hz", density,
+                      math.sqrt(model.total(f)), TOL_DENSITY)
+            noise = analysis["noise"]
+            if "noise_band" in design:
+                low, high = (parse_number(v) for v in design["noise_band"])
+                if noise["band"]["kind"] != "noise_band" or \
+                        abs(noise["band"]["low_hz"] - low) > 1e-12 * low or \
+                        abs(noise["band"]["high_hz"] - high) > 1e-12 * high:
+                    failures.append(f"{label}: band")
+                    print(f"FAIL {label}: band {noise['band']} is not the design's noise_band")
+                check(f"{label}: output rms over the noise_band", noise["output_rms"],
+                      math.sqrt(model.integral(low, high)), TOL_RMS)
+        # the default band: Loopsketch's converged band, checked on the same band, and the
+        # power above it (to 10 THz) under 0.1 % of the whole
+        design = copy.deepcopy(base)
+        design.pop("noise_band", None)
+        model = NoiseNodal(design)
+        analysis, _ = run_cli(cli, design, work, "default-band")
+        noise = analysis["noise"]
+        low, high = noise["band"]["low_hz"], noise["band"]["high_hz"]
+        print(f"     default band: {noise['band']['kind']}, {low:g} Hz to {high:g} Hz")
+        if noise["band"]["kind"] != "converged":
+            failures.append("default band kind")
+        inside = model.integral(low, high)
+        check("default band: output rms", noise["output_rms"], math.sqrt(inside), TOL_RMS)
+        above = model.integral(high, 1e13)
+        share = above / (inside + above)
+        ok = share < 1e-3
+        print(f"{'ok  ' if ok else 'FAIL'} default band: power above {high:g} Hz is "
+              f"{100 * share:.3g} % of the whole (limit 0.1 %)")
+        if not ok:
+            failures.append("default band convergence")
+    if failures:
+        print("disagreements: " + ", ".join(failures))
+        return 1
+    print("scipy's nodal noise model agrees with loopsketch on every checked quantity")
+    return 0
+
+
 if __name__ == "__main__":
+    if len(sys.argv) == 4 and sys.argv[1] == "--noise":
+        sys.exit(noise_main(sys.argv[2], sys.argv[3]))
     sys.exit(main())

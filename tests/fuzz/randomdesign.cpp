@@ -284,6 +284,8 @@ GeneratedDesign generateDesign(RandomSource &r)
         gb.fields.push_back({"c_in", number(r.logUniform(kCMin, kCMax))});
     if (r.chance(0.7))
         gb.fields.push_back({"r_out", number(r.logUniform(kRMin, 1e5))});
+    if (r.chance(0.2))
+        gb.fields.push_back({"c_cm", number(r.logUniform(kCMin, 1e-9))});
 
     GenPart load{"LD", "load", {}, {}};
     load.fields.push_back({"r", number(r.logUniform(kRMin, kRMax))});

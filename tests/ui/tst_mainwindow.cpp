@@ -515,6 +515,7 @@ TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
 
 INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,
                          ::testing::Values("contact-mic-preamp", "excitation-current-driver",
-                                           "gas-cell-current-amplifier"));
+                                           "gas-cell-current-amplifier",
+                                           "turbidity-probe-front-end"));
 
 } // namespace

@@ -176,7 +176,8 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
                          testing::Values(SheetCase{"demo", 5}, SheetCase{"contact-mic-preamp", 5},
                                          SheetCase{"excitation-current-driver", 5},
-                                         SheetCase{"gas-cell-current-amplifier", 5}),
+                                         SheetCase{"gas-cell-current-amplifier", 5},
+                                         SheetCase{"turbidity-probe-front-end", 5}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');

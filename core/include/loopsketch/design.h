@@ -121,6 +121,14 @@ struct Specs
     bool operator==(const Specs &) const = default;
 };
 
+/// The band over which the noise is integrated, Hz (design-file key `noise_band`).
+struct NoiseBand
+{
+    Value low;
+    Value high;
+    bool operator==(const NoiseBand &) const = default;
+};
+
 struct Candidate
 {
     std::string name;
@@ -163,6 +171,9 @@ struct Design
     /// Kelvin; written as a number of kelvin or a text such as "300 K" or "25 °C".
     /// Absent: kDefaultTemperatureK.
     std::optional<Value> temperature;
+    /// The band the noise rms is integrated over, [f1, f2] Hz. Absent: from the sweep start
+    /// until the integral has converged (see analyzeNoise()).
+    std::optional<NoiseBand> noiseBand;
 
     /// The resistors' temperature in kelvin (the default when the file gives none).
     double temperatureK() const;

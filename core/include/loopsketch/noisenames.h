@@ -10,7 +10,7 @@
 
 namespace loopsketch {
 
-/// "RF thermal", "PD1 r_parallel thermal", "U1 e_n", "U1 i_n at in_n".
+/// "RF thermal", "PD1 r_parallel thermal", "PD1 shot", "U1 e_n", "U1 i_n at in_n".
 std::string noiseSourceLabel(const NoiseContribution &contribution);
 
 /// Units of the noise densities' numerators: the output's and the signal source's.

@@ -20,6 +20,7 @@ enum class ValueKind {
     Gain, ///< dimensionless V/V (or V/A, A/A ...); "V/V" or a "dB" suffix (20 log10)
     Tolerance, ///< fraction; "1%" -> 0.01, a bare number is a fraction
     Plain, ///< dimensionless number with optional SI prefix
+    Current, ///< ampere; "A"
 };
 
 /// Which values make sense for a field.
