@@ -98,6 +98,7 @@ struct LoopModel::TwoPortSystems
     TwoPortNetwork network;
     ReducedSystem aFull;
     std::optional<ReducedSystem> aSeriesInput; // Z seen at the source-driven input
+    bool inputDrawsNoCurrent = false; // nothing left at that input: Z is infinite
     std::optional<ReducedSystem> aSeriesOutput; // Z seen by the load, load removed
     TwoPortNetwork sourceSide; // h parameters from the source's terminals to its input
     int testP1 = -1, testP2 = -1, outP1 = -1, outP2 = -1, sampled = -1;
@@ -179,6 +180,11 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
                        inCopyPort2, p2);
         addNetworkCopy(n, networkParts, "A.out:", t.port1Node, outCopyPort1, p1, t.port2Node,
                        PortEnd::Attached, p2);
+        // A network that is a bare wire (a follower's output straight to its input): the
+        // input copy, port 2 shorted, holds the split input at ground, through a source that
+        // of 0 V (input -1).
+        if (split && networkParts.empty() && inCopyPort2 == PortEnd::Shorted)
+            n.addVoltageSource("A.in:wire", p1, std::string(kGroundNode), -1);
         return n;
     };
 
@@ -221,7 +227,14 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         std::erase_if(n.elements, [](const NetlistElement &e) {
             return e.kind == NetlistElement::Kind::CurrentSource && e.name.rfind("port:", 0) == 0;
         });
-        sys->aSeriesInput = optionalOf(reduce(n));
+        // With the legs at the input counted on the source's side, an input with an ideal
+        // r_in and no c_in has nothing left on it but the test source: it draws no current.
+        sys->inputDrawsNoCurrent
+            = std::none_of(n.elements.begin(), n.elements.end(), [&](const NetlistElement &e) {
+                  return e.name != "test:q" && (e.a == t.sourceInput || e.b == t.sourceInput);
+              });
+        if (!sys->inputDrawsNoCurrent)
+            sys->aSeriesInput = optionalOf(reduce(n));
     }
     if (t.sampling == Connection::Series) {
         LoopCircuitOptions so;
@@ -420,7 +433,10 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             c.loopGain[i] = t;
             c.feedthrough[i] = g0;
             c.gainInf[i] = g0 + through / t;
-            c.rrGain[i] = (c.gainInf[i] * t + g0) / (1.0 + t);
+            // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
+            // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
+            // where G_inf is not.
+            c.rrGain[i] = g0 + through / (1.0 + t);
         }
     }
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
@@ -457,6 +473,8 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
     const auto aEntry = [&](std::size_t e, std::size_t i) {
         return aCurves[e * n + i];
     };
+    // NaN (marking the estimate missing) when the input's system has no solution, unused
+    // when the input draws no current.
     const Curve zq = seriesMix && x.aSeriesInput ? entryCurve(*x.aSeriesInput, s, 0, 0)
                                                  : nanCurve(seriesMix ? n : 0);
     const Curve zRest = seriesSample && x.aSeriesOutput
@@ -478,7 +496,9 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         const Complex iShort = -h21 * invC1; // Norton current into the input
         const Complex ys = h22 - h21 * c2 * invC1; // admittance with the source zeroed
         // Only series mixing reads the source as an impedance.
-        const Complex zs = seriesMix ? 1.0 / ys : Complex(0.0);
+        // 1 / ys over one quotient: 0 for an ideal voltage source right at the input (c1 = 0),
+        // where ys itself is infinite.
+        const Complex zs = seriesMix ? c1 / (c1 * h22 - c2 * h21) : Complex(0.0);
         // Series mixing drives with the open-circuit voltage V_P, shunt with the current.
         const Complex kSrc = seriesMix ? -h21 / (c1 * h22 - c2 * h21) : iShort;
 
@@ -491,15 +511,18 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         c.closedLoop[i] = c.a[i] / desens;
         c.tpGain[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
 
-        Complex zNode;
-        if (seriesMix) {
-            zNode = (zs + zq[i]) * desens - zs;
+        if (seriesMix && x.inputDrawsNoCurrent) {
+            // The node's impedance (zs + zq) desens - zs is infinite: the limit.
+            c.tpZIn[i] = h11 - h12 * h21 / h22;
+        } else if (seriesMix) {
+            const Complex zNode = (zs + zq[i]) * desens - zs;
+            c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
         } else {
             // 1 / (desens / ri - ys) with one quotient.
             const Complex ri = aEntry(2, i);
-            zNode = ri / (desens - ys * ri);
+            const Complex zNode = ri / (desens - ys * ri);
+            c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
         }
-        c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
 
         const Complex yl = 1.0 / x.loadR + s[i] * x.loadC;
         const Complex zl = seriesSample ? 1.0 / yl : Complex(0.0);
@@ -516,10 +539,7 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         // shunt mixing: take whichever form the parameter set holds without inverting twice.
         const bool port1Impedance
             = top.parameters() == ParameterSet::H || top.parameters() == ParameterSet::Z;
-        const bool port2Impedance
-            = top.parameters() == ParameterSet::Z || top.parameters() == ParameterSet::G;
         const Complex n11 = network(0, 0);
-        const Complex zn2 = port2Impedance ? network(1, 1) : 1.0 / network(1, 1);
         const Complex yIn = x.gIn + s[i] * x.cIn;
         if (seriesMix) {
             const Complex zn1 = port1Impedance ? n11 : 1.0 / n11;
@@ -535,12 +555,17 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             const Complex yPin = yIn + s[i] * x.cCm;
             c.inputLoading[i] = (ys + yPin) / (ys + yn1 + yPin);
         }
+        // Series sampling holds port 2 as an impedance (z, g), shunt sampling as an
+        // admittance (h, y): use it as it is, so an open port 2 (y22 = 0, a network with
+        // nothing from port 1 to ground) gives no loading rather than infinity / infinity.
         if (seriesSample) {
+            const Complex zn2 = network(1, 1);
             c.outputLoading[i] = (x.rOut + zl) / (x.rOut + zl + zn2);
         } else {
-            // zp (rOut + zl) / (zl (rOut + zp)) with zp = zl || zn2 and zl = 1 / yl, over one
-            // quotient.
-            c.outputLoading[i] = zn2 * (1.0 + x.rOut * yl) / (x.rOut * (1.0 + zn2 * yl) + zn2);
+            // zp (rOut + zl) / (zl (rOut + zp)) with zp = 1 / (yl + yn2) and zl = 1 / yl,
+            // over one quotient.
+            const Complex yn2 = network(1, 1);
+            c.outputLoading[i] = (1.0 + x.rOut * yl) / (1.0 + x.rOut * (yl + yn2));
         }
     }
     return c;

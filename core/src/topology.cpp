@@ -133,8 +133,31 @@ TopologyResult identifyTopology(const Design &d)
 
     // The feedback network: passive parts reachable from port 2 up to a gain-block input.
     std::set<std::string> seen;
-    const std::set<std::string> stops{inP, inN, srcHot};
+    std::set<std::string> stops{inP, inN, srcHot};
+    // Shunt sampling at a node other than the gain-block output: the parts between the
+    // output and that node (a series output resistor, an output filter) carry the output to
+    // the load and belong to the amplifier, not to the network that feeds back.
+    std::set<const Part *> outputPath;
+    if (t.sampling == Connection::Shunt && t.port2Node != out) {
+        stops.insert(out);
+        std::set<std::string> pathSeen;
+        for (const Part *p : explore(d, {out}, {t.port2Node, inP, inN, srcHot}, pathSeen)) {
+            for (const std::string &n : {p->node("a"), p->node("b")})
+                if ((n == inP || n == inN || n == srcHot) && !isGround(n))
+                    return {std::nullopt,
+                            "the gain-block output reaches an input outside the network at the "
+                            "load (part "
+                                + p->id + "), so the output has no single sampling port"};
+            outputPath.insert(p);
+        }
+    }
     auto network = explore(d, {t.port2Node}, stops, seen);
+    if (!outputPath.empty()) {
+        std::erase_if(network, [&](const Part *p) { return outputPath.count(p) != 0; });
+        seen = {t.port2Node};
+        for (const Part *p : network)
+            seen.insert({p->node("a"), p->node("b")});
+    }
     const bool reachesP = seen.count(inP) && !isGround(inP);
     const bool reachesN = seen.count(inN) && !isGround(inN);
     if (!reachesP && !reachesN)
@@ -187,7 +210,10 @@ TopologyResult identifyTopology(const Design &d)
     while (!queue.empty()) {
         const std::string node = queue.back();
         queue.pop_back();
-        if (node == inP || node == inN)
+        // Stop at the network's input; go on through the other input, so that parts
+        // hanging there (to ground, under series mixing) count as the source's: they sit
+        // across the source, outside the loop that the feedback closes.
+        if (node == t.port1Node)
             continue;
         for (const Part &p : d.parts) {
             if (!isPassive(p) || netIds.count(p.id))
@@ -203,6 +229,10 @@ TopologyResult identifyTopology(const Design &d)
                     queue.push_back(other);
         }
     }
+    if (srcSeen.count(t.port1Node) && srcSeen.count(otherInput) && !isGround(otherInput))
+        return {std::nullopt,
+                "the signal source drives both gain-block inputs (a differential drive), so "
+                "the input has no single mixing port"};
     if (srcSeen.count(t.port1Node)) {
         t.mixing = Connection::Shunt;
         t.sourceInput = t.port1Node;

@@ -1,6 +1,7 @@
 #!/bin/sh
 # Builds the libFuzzer targets with clang (ASan + UBSan) and runs each for DURATION seconds,
-# all targets in parallel. Seeds: the example designs and the malformed corpus.
+# all targets in parallel. Seeds: the example designs and the malformed corpus (the analysis
+# fuzzer starts from an empty corpus: its input steers the design generator).
 # Usage: tests/fuzz/run-fuzzers.sh DURATION [BUILD_DIR]
 # Crashing inputs land in BUILD_DIR/artifacts/<target>/; logs in BUILD_DIR/logs/.
 set -eu
@@ -15,7 +16,7 @@ cmake -S "$src" -B "$build" -G Ninja -DCMAKE_BUILD_TYPE=Release \
     -DCMAKE_CXX_FLAGS="-g -fsanitize=fuzzer-no-link,address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer" \
     -DLOOPSKETCH_BUILD_FUZZERS=ON -DLOOPSKETCH_BUILD_TESTS=OFF \
     -DLOOPSKETCH_BUILD_GUI=OFF -DLOOPSKETCH_BUILD_BENCHMARKS=OFF >/dev/null
-cmake --build "$build" -j"$jobs" --target design_fuzzer value_fuzzer cli_fuzzer
+cmake --build "$build" -j"$jobs" --target design_fuzzer value_fuzzer cli_fuzzer analysis_fuzzer
 
 mkdir -p "$build/logs"
 for target in design_fuzzer value_fuzzer; do
@@ -43,10 +44,13 @@ for a in "analyze|demo|--json" "sweep|demo|--csv|out.csv" "spread|demo|--trials|
 done
 
 pids=""
-for target in design_fuzzer value_fuzzer cli_fuzzer; do
+for target in design_fuzzer value_fuzzer cli_fuzzer analysis_fuzzer; do
+    mkdir -p "$build/corpus/$target" "$build/artifacts/$target"
     maxlen=65536
     [ "$target" = value_fuzzer ] && maxlen=256
     [ "$target" = cli_fuzzer ] && maxlen=1024
+    # The analysis fuzzer's bytes steer the design generator: 8 bytes a choice.
+    [ "$target" = analysis_fuzzer ] && maxlen=4096
     "$build/tests/fuzz/$target" -max_total_time="$duration" -max_len="$maxlen" -timeout=10 \
         -rss_limit_mb=2048 -print_final_stats=1 \
         -artifact_prefix="$build/artifacts/$target/" "$build/corpus/$target" \
@@ -57,7 +61,7 @@ status=0
 for pid in $pids; do
     wait "$pid" || status=1
 done
-for target in design_fuzzer value_fuzzer cli_fuzzer; do
+for target in design_fuzzer value_fuzzer cli_fuzzer analysis_fuzzer; do
     echo "== $target"
     grep -E '^stat::number_of_executed_units|^stat::peak_rss_mb|ERROR|SUMMARY' \
         "$build/logs/$target.log" || true

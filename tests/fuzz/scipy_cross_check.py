@@ -1,0 +1,280 @@
+#!/usr/bin/python3
+"""Second opinion from NumPy/SciPy (Debian python3-scipy) on generated designs.
+
+Usage: scipy_cross_check.py LOOPSKETCH_CLI ANALYSIS_FUZZ_DRIVER COUNT [FIRST_SEED]
+
+Takes the first COUNT seeds (from FIRST_SEED, default 1) whose generated design (`analysis_fuzz_driver --print`)
+the CLI analyzes, runs `loopsketch sweep FILE --csv` on each, and recomputes the exact gain,
+z_in, z_out and the return-ratio loop gain T at every sweep frequency with its own modified
+nodal analysis: scipy.linalg.lu_factor/lu_solve on the complex matrix at s = j 2 pi f, the
+gain block as a voltage source of gain(s) (v(in_p) - v(in_n)) evaluated as the rational
+function itself (core realises its poles as internal states instead), following the
+conventions of DESIGN.md section 5. A design the CLI refuses (exit 2) is skipped; any other
+failure fails the check.
+
+Tolerances: 1e-5 dB in magnitude and 1e-4 degree in phase (the CSV carries 10 significant
+digits, about 1e-7 dB), at frequencies where the MNA matrix, its rows and columns scaled to
+unit maximum, gives the value read off (a node voltage difference) to a relative error of
+eps times cond * max|scaled solution| / |value| (normwise error bound of a backward-stable
+solve, carried to the one value); that number must stay below 1e8 (this side good to ~2e-8).
+The other points (round-off residues of a true zero, nearly singular matrices) are counted
+and reported, not compared.
+"""
+
+import csv
+import math
+import os
+import subprocess
+import sys
+import tempfile
+import json
+
+import numpy as np
+from scipy import linalg
+
+TOL_DB = 1e-5
+TOL_DEG = 1e-4
+MAX_COND = 1e8
+
+
+class Mna:
+    """Nodes and extra branch unknowns; Y x = b."""
+
+    def __init__(self, nodes, extra):
+        self.index = {n: i for i, n in enumerate(nodes)}
+        self.n = len(nodes) + extra
+        self.Y = np.zeros((self.n, self.n), dtype=complex)
+        self.b = np.zeros(self.n, dtype=complex)
+
+    def idx(self, node):
+        return None if node == "0" else self.index[node]
+
+    def admittance(self, a, b, y):
+        ia, ib = self.idx(a), self.idx(b)
+        if ia is not None:
+            self.Y[ia, ia] += y
+        if ib is not None:
+            self.Y[ib, ib] += y
+        if ia is not None and ib is not None:
+            self.Y[ia, ib] -= y
+            self.Y[ib, ia] -= y
+
+    def current(self, into, out_of, value):
+        if self.idx(into) is not None:
+            self.b[self.idx(into)] += value
+        if self.idx(out_of) is not None:
+            self.b[self.idx(out_of)] -= value
+
+    def voltage_source(self, row, pos, neg, coeffs, value):
+        """Branch `row`: v(pos) - v(neg) - sum(c v(node)) = value; its current flows out of
+        pos into the circuit."""
+        for node, sign in ((pos, 1.0), (neg, -1.0)):
+            i = self.idx(node)
+            if i is not None:
+                self.Y[i, row] -= sign  # current leaves pos through the source
+                self.Y[row, i] += sign
+        for node, c in coeffs:
+            i = self.idx(node)
+            if i is not None:
+                self.Y[row, i] -= c
+        self.b[row] += value
+
+    def solve(self):
+        d = np.max(np.abs(self.Y), axis=1)
+        d[d == 0] = 1.0
+        rows = self.Y / d[:, None]
+        c = np.max(np.abs(rows), axis=0)
+        c[c == 0] = 1.0
+        scaled = rows / c[None, :]
+        cond = np.linalg.cond(scaled)
+        if not np.isfinite(cond) or cond > 1e15:
+            return np.full(self.n, np.nan), math.inf
+        y = linalg.lu_solve(linalg.lu_factor(scaled), self.b / d)
+        self.ymax = np.max(np.abs(y))
+        self.c = c
+        return y / c, cond
+
+    def v(self, x, node):
+        i = self.idx(node)
+        return 0.0 if i is None else x[i]
+
+
+def num(part, key, default=None):
+    value = part.get(key, default)
+    if value is None:
+        return None
+    return float(value)
+
+
+def gain_of(gb, s):
+    g = num(gb, "gain")
+    poles = [float(p) for p in gb.get("poles_hz", [])]
+    if "gbw" in gb:
+        poles = [num(gb, "gbw") / abs(g)] + poles
+    h = complex(g)
+    for z in gb.get("zeros_hz", []):
+        h *= 1 + s / (2 * math.pi * float(z))
+    for p in poles:
+        h /= 1 + s / (2 * math.pi * p)
+    return h
+
+
+def solve(design, s, mode):
+    """mode: 'gain' (source on), 'z_in' (source removed, 1 A test at its terminals),
+    'z_out' (source zeroed, load removed, 1 A test into load a), 'loop' (source zeroed,
+    controlled source replaced by a unit test source). Returns (quantity, condition)."""
+    parts = design["parts"]
+    src = next(p for p in parts if p["id"] == design["input"])
+    gb = next(p for p in parts if p["type"] == "gain_block")
+    load = next(p for p in parts if p["type"] == "load")
+    voltage = src["type"] == "vsource"
+    hot, cold = (src["pos"], src["neg"]) if voltage else (src["to"], src["from"])
+    nodes = set()
+    for p in parts:
+        for key in ("a", "b", "pos", "neg", "to", "from", "in_p", "in_n", "out"):
+            if key in p and p[key] != "0":
+                nodes.add(p[key])
+    r_series = num(src, "r_series", 0.0) if voltage else 0.0
+    if voltage and r_series > 0:
+        nodes.add("#src")
+    r_out = num(gb, "r_out", 0.0)
+    if r_out > 0:
+        nodes.add("#e")
+    inductors = [p for p in parts if p["type"] == "inductor"]
+    nodes = sorted(nodes)
+    extra = len(inductors) + 1 + (1 if voltage and mode in ("gain", "z_out", "loop") else 0)
+    m = Mna(nodes, extra)
+    row = len(nodes)
+    for p in parts:
+        if p["type"] == "resistor":
+            m.admittance(p["a"], p["b"], 1.0 / num(p, "value"))
+        elif p["type"] == "capacitor":
+            m.admittance(p["a"], p["b"], s * num(p, "value"))
+    for p in inductors:  # branch current I from b to a through it: v(a) - v(b) + sL I = 0
+        m.voltage_source(row, p["a"], p["b"], [], 0.0)
+        m.Y[row, row] = s * num(p, "value")
+        row += 1
+    if "r_in" in gb:
+        m.admittance(gb["in_p"], gb["in_n"], 1.0 / num(gb, "r_in"))
+    m.admittance(gb["in_p"], gb["in_n"], s * num(gb, "c_in", 0.0))
+    e_node = "#e" if r_out > 0 else gb["out"]
+    if r_out > 0:
+        m.admittance("#e", gb["out"], 1.0 / r_out)
+    g = gain_of(gb, s)
+    if mode == "loop":
+        m.voltage_source(row, e_node, "0", [], 1.0)
+    else:
+        m.voltage_source(row, e_node, "0", [(gb["in_p"], g), (gb["in_n"], -g)], 0.0)
+    row += 1
+    load_y = 1.0 / num(load, "r") + s * num(load, "c", 0.0)
+    if mode != "z_out":
+        m.admittance(load["a"], load["b"], load_y)
+    # The source: its own impedance stays unless it is removed (z_in).
+    if voltage:
+        if mode != "z_in":
+            at = "#src" if r_series > 0 else hot
+            if r_series > 0:
+                m.admittance("#src", hot, 1.0 / r_series)
+            m.voltage_source(row, at, cold, [], 1.0 if mode == "gain" else 0.0)
+    else:
+        if mode != "z_in":
+            if "r_parallel" in src:
+                m.admittance(hot, cold, 1.0 / num(src, "r_parallel"))
+            m.admittance(hot, cold, s * num(src, "c_parallel", 0.0))
+            if mode == "gain":
+                m.current(src["to"], src["from"], 1.0)
+    if mode == "z_in":
+        m.current(hot, cold, 1.0)
+    if mode == "z_out":
+        m.current(load["a"], load["b"], 1.0)
+    x, cond = m.solve()
+
+    def between(a, b):
+        """v(a) - v(b) and the condition it is known to: a backward-stable solve of the
+        scaled system y = c x errs by about eps cond max|y| in each y, so by eps cond
+        max|y| / c in v(a) and v(b); relative to |v(a) - v(b)| that is eps times the
+        returned number."""
+        va, vb = m.v(x, a), m.v(x, b)
+        d = va - vb
+        if not math.isfinite(cond) or not abs(d) > 0:
+            return d, math.inf
+        scales = [m.c[m.idx(n)] for n in (a, b) if m.idx(n) is not None]
+        return d, cond * m.ymax / (min(scales) * abs(d))
+
+    if mode == "gain":
+        vload, k = between(load["a"], load["b"])
+        return (vload if design.get("output", "voltage") == "voltage" else vload * load_y), k
+    if mode == "z_in":
+        return between(hot, cold)
+    if mode == "z_out":
+        return between(load["a"], load["b"])
+    vd, k = between(gb["in_p"], gb["in_n"])
+    return -g * vd, k
+
+
+def main():
+    if len(sys.argv) not in (4, 5):
+        raise SystemExit(__doc__)
+    cli, driver, count = sys.argv[1], sys.argv[2], int(sys.argv[3])
+    first = int(sys.argv[4]) if len(sys.argv) == 5 else 1
+    failures = compared = skipped = designs = 0
+    seed = first - 1
+    with tempfile.TemporaryDirectory() as tmp:
+        while designs < count:
+            seed += 1
+            if seed - first > 10 * count + 100:
+                print(f"FAIL: fewer than {count} analyzable designs among the seeds tried")
+                return 1
+            text = subprocess.run([driver, "--seed", str(seed), "--count", "1", "--print"],
+                                  check=True, capture_output=True, text=True).stdout
+            path = os.path.join(tmp, f"seed-{seed}.loopsketch")
+            out = os.path.join(tmp, f"seed-{seed}.csv")
+            with open(path, "w", encoding="utf-8") as f:
+                f.write(text)
+            run = subprocess.run([cli, "sweep", path, "--csv", out], capture_output=True,
+                                 text=True)
+            if run.returncode == 2:
+                continue
+            designs += 1
+            if run.returncode != 0:
+                print(f"FAIL seed {seed}: loopsketch sweep exited {run.returncode}: "
+                      f"{run.stderr.strip()}")
+                failures += 1
+                continue
+            design = json.loads(text)
+            with open(out, encoding="utf-8") as f:
+                rows = list(csv.DictReader(f))
+            worst = 0.0
+            for r in rows:
+                s = 2j * math.pi * float(r["f_hz"])
+                for column, mode in (("gain_exact", "gain"), ("z_in", "z_in"),
+                                     ("z_out", "z_out"), ("loop_gain", "loop")):
+                    cli_db, cli_deg = r[column + "_db"], r[column + "_deg"]
+                    ref, cond = solve(design, s, mode)
+                    if cond > MAX_COND or not np.isfinite(ref) or abs(ref) == 0:
+                        skipped += 1
+                        continue
+                    if cli_db in ("", "nan", "-nan") or cli_deg in ("", "nan", "-nan"):
+                        print(f"FAIL seed {seed} {column} at {r['f_hz']} Hz: CLI gives no "
+                              f"value, reference {ref:.6g}")
+                        failures += 1
+                        continue
+                    compared += 1
+                    ddb = abs(float(cli_db) - 20 * math.log10(abs(ref)))
+                    ddeg = abs((float(cli_deg) - math.degrees(np.angle(ref)) + 180) % 360 - 180)
+                    worst = max(worst, ddb)
+                    if ddb > TOL_DB or ddeg > TOL_DEG:
+                        failures += 1
+                        if failures <= 20:
+                            print(f"FAIL seed {seed} {column} at {r['f_hz']} Hz: CLI "
+                                  f"{cli_db} dB {cli_deg} deg, reference "
+                                  f"{20 * math.log10(abs(ref)):.10g} dB "
+                                  f"{math.degrees(np.angle(ref)):.10g} deg (cond {cond:.2g})")
+            print(f"seed {seed}: {len(rows)} frequencies, worst |dB difference| {worst:.2e}")
+    print(f"{designs} designs, {compared} values compared, {skipped} not compared "
+          f"(condition above {MAX_COND:g} or no finite value), {failures} failures")
+    return 1 if failures else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
