@@ -127,7 +127,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
             t0 ? engineering(t0, "") + QStringLiteral("  (") + dB(toDecibels(std::abs(*t0)))
                     + QStringLiteral(")")
                : QStringLiteral("—"),
-            tr("return ratio at DC"));
+            tr("return ratio at DC, a pure ratio (no unit)"));
     setCell(3, tr("desensitivity 1+T"), dB(a.desensitivityDb), tr("at DC"));
 
     if (a.twoPort) {
@@ -169,18 +169,22 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
             pmVerdict);
     setCell(7, tr("peaking"), dB(a.peakingDb));
 
-    const int verdicts[] = {gainVerdict, bwVerdict, pmVerdict};
-    int checked = 0, failed = 0;
-    for (int v : verdicts) {
-        checked += v != kNoVerdict;
-        failed += v == kFail;
-    }
-    if (checked == 0)
+    // The failing specs by name, their reasons in the tooltip (core's specVerdicts(), the
+    // same verdicts as checkSpecs()).
+    if (a.specs.empty()) {
         setCell(8, tr("specs"), tr("none set"));
-    else if (failed == 0)
-        setCell(8, tr("specs"), tr("pass (%1 of %1)").arg(checked), {}, kPass);
-    else
-        setCell(8, tr("specs"), tr("fail (%1 of %2)").arg(failed).arg(checked), {}, kFail);
+    } else {
+        QString reasons;
+        for (const SpecVerdict &v : a.specs)
+            reasons += (reasons.isEmpty() ? QString() : QStringLiteral("\n")) + toQString(v.label)
+                + QStringLiteral(": ") + (v.pass ? tr("pass") : tr("fail"))
+                + (v.reason.empty() ? QString() : QStringLiteral(" (") + toQString(v.reason) + ")");
+        const std::string failing = failingSpecLabels(a.specs);
+        if (failing.empty())
+            setCell(8, tr("specs"), tr("all pass (%1)").arg(a.specs.size()), reasons, kPass);
+        else
+            setCell(8, tr("specs"), tr("fails: %1").arg(toQString(failing)), reasons, kFail);
+    }
 
     // Integrated noise over core's band, referred to the output and to the input.
     if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {

@@ -63,12 +63,12 @@ const std::array<PartSpec, 7> &specTable()
           {"gbw", ValueKind::Frequency, ValueRange::Positive, false, 0.0, "gain-bandwidth", "Hz"},
           // absent r_in: infinite input resistance
           {"r_in", ValueKind::Resistance, ValueRange::Positive, false, kInfinity,
-           "input resistance (differential)", "Ω"},
+           "diff. input resistance", "Ω"},
           {"c_in", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0,
-           "input capacitance (differential)", "F"},
+           "diff. input capacitance", "F"},
           // common-mode input capacitance, from each input pin to ground
           {"c_cm", ValueKind::Capacitance, ValueRange::NonNegative, false, 0.0,
-           "input capacitance (each pin to ground)", "F"},
+           "common-mode input cap.", "F"},
           {"r_out", ValueKind::Resistance, ValueRange::NonNegative, false, 0.0, "output resistance",
            "Ω"},
           // noise densities (absent: noiseless): en in V/sqrt(Hz) in series with in_p (between
@@ -80,7 +80,7 @@ const std::array<PartSpec, 7> &specTable()
           {"en_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0,
            "e_n 1/f corner", "Hz"},
           {"in", ValueKind::Plain, ValueRange::NonNegative, false, 0.0,
-           "current noise i_n (each input)", "A/√Hz"},
+           "current noise i_n per pin", "A/√Hz"},
           {"in_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0,
            "i_n 1/f corner", "Hz"}},
          true,
@@ -162,7 +162,7 @@ std::string defaultNote(const FieldSpec &spec)
     if (spec.name == "en" || spec.name == "in")
         return "not given: noiseless";
     if (spec.name == "en_corner_hz" || spec.name == "in_corner_hz")
-        return "not given: white noise only";
+        return "not given: white only";
     return "not given";
 }
 
@@ -192,13 +192,13 @@ std::vector<PartFieldText> partFieldTexts(const Part &part)
         if (!row.given)
             row.note = defaultNote(spec);
         else if (spec.name == "gbw" && part.number("gain") != 0.0)
-            row.note = "first pole at gbw / |gain| = "
+            row.note = "gbw/|gain| = "
                 + withUnit(v / std::abs(part.number("gain")), "Hz");
         rows.push_back(std::move(row));
     }
     if (partSpec(part.type).hasFrequencyLists) {
         const bool gbw = part.has("gbw");
-        rows.push_back({"poles_hz", gbw ? "poles (after the gbw pole)" : "poles",
+        rows.push_back({"poles_hz", gbw ? "further poles" : "poles",
                         part.polesHz.empty() ? "\u2014" : frequencyList(part.polesHz), "",
                         part.polesHz.empty() ? "no poles listed" : "", true});
         rows.push_back({"zeros_hz", "zeros",
