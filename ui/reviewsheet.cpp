@@ -854,12 +854,12 @@ void partsSection(SheetWriter &w, const Design &d)
                             {i == 0 ? kInk : grey, kInk, kInk, kInk, kInk, grey}});
         }
     }
-    w.table({{QStringLiteral("Part"), 20},
+    w.table({{QStringLiteral("Part"), 19},
              {QStringLiteral("Field"), 22},
-             {QStringLiteral("Quantity"), 50},
-             {QStringLiteral("Value"), 32, Qt::AlignRight},
+             {QStringLiteral("Quantity"), 46},
+             {QStringLiteral("Value"), 41, Qt::AlignRight},
              {QStringLiteral("RKM"), 11, Qt::AlignRight},
-             {QStringLiteral("Note"), 45}},
+             {QStringLiteral("Note"), 41}},
             rows);
 }
 

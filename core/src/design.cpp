@@ -79,8 +79,8 @@ const std::array<PartSpec, 7> &specTable()
            "V/√Hz"},
           {"en_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0,
            "e_n 1/f corner", "Hz"},
-          {"in", ValueKind::Plain, ValueRange::NonNegative, false, 0.0,
-           "current noise i_n per pin", "A/√Hz"},
+          {"in", ValueKind::Plain, ValueRange::NonNegative, false, 0.0, "current noise i_n",
+           "A/√Hz"},
           {"in_corner_hz", ValueKind::Frequency, ValueRange::NonNegative, false, 0.0,
            "i_n 1/f corner", "Hz"}},
          true,
@@ -192,8 +192,7 @@ std::vector<PartFieldText> partFieldTexts(const Part &part)
         if (!row.given)
             row.note = defaultNote(spec);
         else if (spec.name == "gbw" && part.number("gain") != 0.0)
-            row.note = "gbw/|gain| = "
-                + withUnit(v / std::abs(part.number("gain")), "Hz");
+            row.note = "gbw/|gain| = " + withUnit(v / std::abs(part.number("gain")), "Hz");
         rows.push_back(std::move(row));
     }
     if (partSpec(part.type).hasFrequencyLists) {
