@@ -630,7 +630,7 @@ void CandidatesPanel::fillTable()
         // specs
         int met = 0, checked = 0;
         if (a) {
-            const TrialMetrics m{a->exact.gain, a->bandwidthHz, a->margins.phaseMarginDeg};
+            const TrialMetrics m = trialMetricsOf(*a);
             const SpecCheck check = checkSpecs(specs, design.sweep, m);
             auto verdict = [&](bool ok, const QString &what) {
                 Cell &cell = cells[r++][ci];

@@ -260,11 +260,17 @@ void StepPanel::showAnalysis(const Analysis &a)
         peak.append(best);
     }
     m_peak->replace(peak);
-    setTitle(tr("overshoot %1  ·  settling (1 %) %2  ·  rise %3")
+    const QString band = QString::number(s.settlingBand * 100, 'g', 3) + QStringLiteral(" %");
+    rename(m_settling, tr("settled (%1)").arg(band));
+    if (!a.stable) {
+        setTitle(tr("UNSTABLE: no step response (the output grows without bound)"));
+        return;
+    }
+    setTitle(tr("overshoot %1  ·  settling (%2) %3  ·  rise %4")
                  .arg(s.overshootPct
                           ? QString::number(*s.overshootPct, 'f', 1) + QStringLiteral(" %")
                           : QStringLiteral("—"),
-                      engineering(s.settlingTimeS, "s"), engineering(s.riseTimeS, "s")));
+                      band, engineering(s.settlingTimeS, "s"), engineering(s.riseTimeS, "s")));
 }
 
 PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
@@ -307,11 +313,12 @@ PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
 
 void PolesPanel::showAnalysis(const Analysis &a)
 {
-    double reMax = 0, imMax = 0;
+    double reMax = 0, imMax = 0, rightMost = 0;
     for (const ClosedLoopPole &p : a.poles) {
         if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag())) {
             reMax = std::max(reMax, std::abs(p.s.real()));
             imMax = std::max(imMax, std::abs(p.s.imag()));
+            rightMost = std::max(rightMost, p.s.real());
         }
     }
     const double span = std::max(reMax, imMax);
@@ -322,7 +329,8 @@ void PolesPanel::showAnalysis(const Analysis &a)
             points.append(QPointF(p.s.real() * sp.factor, p.s.imag() * sp.factor));
     }
     const double r = span > 0 ? span * sp.factor * 1.1 : 1.0;
-    setNiceRange(m_x, -r, r * 0.2, 4);
+    // Right half-plane poles stay on the plot: they are what the designer must move.
+    setNiceRange(m_x, -r, std::max(r * 0.2, rightMost * sp.factor * 1.1), 4);
     setNiceRange(m_y, -r, r, 4);
     m_axis->replace({QPointF(0, -r), QPointF(0, r)});
     m_poles->replace(points);
@@ -337,10 +345,15 @@ void PolesPanel::showAnalysis(const Analysis &a)
         if (!dominant || p.naturalHz < dominant->naturalHz)
             dominant = &p;
     }
-    setTitle(dominant ? tr("lowest: f₀ %1, ζ %2")
-                            .arg(engineering(dominant->naturalHz, "Hz"))
-                            .arg(dominant->damping, 0, 'f', 2)
-                      : tr("no finite poles"));
+    if (!a.stable)
+        setTitle(tr("UNSTABLE  ·  %1 in the right half-plane: %2")
+                     .arg(a.rhpPoles)
+                     .arg(unstablePolesText(a, 2)));
+    else
+        setTitle(dominant ? tr("lowest: f₀ %1, ζ %2")
+                                .arg(engineering(dominant->naturalHz, "Hz"))
+                                .arg(dominant->damping, 0, 'f', 2)
+                          : tr("no finite poles"));
 }
 
 } // namespace loopsketch::ui

@@ -54,6 +54,8 @@ class PlotPanel : public QChartView
     Q_OBJECT
 
 public:
+    /// The summary line above the plot (crossover, margins ...).
+    QString summary() const;
     explicit PlotPanel(const QString &title, QWidget *parent = nullptr);
 
     virtual void showAnalysis(const Analysis &analysis) = 0;
@@ -133,8 +135,6 @@ protected:
                         CursorFormat format = CursorFormat::None);
     /// Sets the axis only where it differs (each change relayouts the chart).
     static void applyRange(QValueAxis *axis, double lo, double hi, double step);
-    /// The summary line above the plot (crossover, margins ...).
-    QString summary() const;
     /// Sets the summary line above the plot.
     void setTitle(const QString &title);
     /// Hides a series' legend entry.

@@ -2,6 +2,8 @@
 
 #include "loopsketch/value.h"
 
+#include <QStringList>
+
 #include <cmath>
 #include <numbers>
 
@@ -101,6 +103,28 @@ QString topologyBadge(const Analysis &analysis)
     const Topology &t = *analysis.topology;
     return toQString(t.name()) + QStringLiteral(" · ") + toQString(toString(t.parameters()))
         + QStringLiteral(" parameters · ") + toQString(t.gainType());
+}
+
+QString unstablePolesText(const Analysis &a, int limit)
+{
+    QStringList shown;
+    int more = 0;
+    for (const ClosedLoopPole &p : a.poles) {
+        if (p.s.real() < -1e-9 * std::abs(p.s) || p.s.imag() < 0)
+            continue; // stable, or the lower half of a pair shown with its upper half
+        if (static_cast<int>(shown.size()) >= limit) {
+            ++more;
+            continue;
+        }
+        QString text = toQString(formatEngineering(p.s.real(), 3));
+        if (p.s.imag() > 0)
+            text += QStringLiteral(" ± j") + toQString(formatEngineering(p.s.imag(), 3));
+        shown << text + QStringLiteral(" rad/s");
+    }
+    QString text = shown.join(QStringLiteral(", "));
+    if (more > 0)
+        text += QStringLiteral(" and %1 more").arg(more);
+    return text;
 }
 
 } // namespace loopsketch::ui

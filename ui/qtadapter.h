@@ -49,6 +49,10 @@ struct ScalePrefix
 };
 ScalePrefix scalePrefixFor(double magnitude);
 
+/// The closed-loop poles that make the loop unstable (right half-plane, then the jω axis),
+/// a conjugate pair as one "a ± jb rad/s"; at most `limit` entries, then "and n more".
+QString unstablePolesText(const Analysis &analysis, int limit = 3);
+
 /// "shunt-shunt · y parameters · transresistance", or the reason there is no two-port form.
 QString topologyBadge(const Analysis &analysis);
 

@@ -43,6 +43,13 @@ Readout::Readout(QWidget *parent) : QWidget(parent)
     auto *row = new QHBoxLayout(this);
     row->setContentsMargins(10, 6, 10, 6);
     row->setSpacing(18);
+    // An unstable loop is the first thing the strip says: white on red, the poles below.
+    m_banner = new QLabel(this);
+    m_banner->setStyleSheet(QStringLiteral("background: #b3261e; color: white; font-size: 9pt; "
+                                           "padding: 2px 8px; border-radius: 3px;"));
+    m_banner->setTextFormat(Qt::RichText);
+    m_banner->hide();
+    row->addWidget(m_banner);
     for (int i = 0; i < 10; ++i) {
         auto *box = new QVBoxLayout;
         box->setSpacing(1);
@@ -96,8 +103,22 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     const std::string &unit = a.gainUnit;
     const Specs &specs = design.specs;
     // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
-    const SpecCheck check = checkSpecs(
-        specs, design.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
+    const SpecCheck check = checkSpecs(specs, design.sweep, trialMetricsOf(a));
+    if (a.stable) {
+        m_banner->hide();
+        m_banner->clear();
+    } else {
+        const QString poles = unstablePolesText(a, 1);
+        m_banner->setText(
+            QStringLiteral("<b style=\"font-size: 11pt\">UNSTABLE</b><br>")
+            + (a.rhpPoles == 1 ? tr("1 RHP pole: %1") : tr("%1 RHP poles: %2").arg(a.rhpPoles))
+                  .arg(poles.toHtmlEscaped()));
+        m_banner->setToolTip(toQString(a.closedLoopReason) + QStringLiteral("\n")
+                             + unstablePolesText(a, 20));
+        m_banner->show();
+    }
+    const QString unstable = tr("— (unstable)");
+    const QString unstableTip = tr("no closed-loop value: the loop is unstable");
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;
@@ -148,9 +169,10 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     }
     // No -3 dB point inside the sweep: the closed loop is flat beyond its end.
     setCell(5, tr("bandwidth −3 dB"),
-            a.bandwidthHz ? engineering(a.bandwidthHz, "Hz")
-                          : QStringLiteral("> ") + engineering(design.sweep.stop.si, "Hz"),
-            bwSpec, bwVerdict);
+            !a.stable           ? unstable
+                : a.bandwidthHz ? engineering(a.bandwidthHz, "Hz")
+                                : QStringLiteral("> ") + engineering(design.sweep.stop.si, "Hz"),
+            a.stable ? bwSpec : unstableTip, bwVerdict);
 
     int pmVerdict = kNoVerdict;
     QString pmSpec;
@@ -167,11 +189,23 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                        ? tr("  crossover %1").arg(engineering(a.margins.crossoverHz, "Hz"))
                        : QString()),
             pmVerdict);
-    setCell(7, tr("peaking"), dB(a.peakingDb));
+    if (a.stable)
+        setCell(7, tr("peaking"), dB(a.peakingDb),
+                a.feedthroughDb
+                    ? tr("feedthrough rises to %1 above the passband").arg(dB(a.feedthroughDb))
+                    : QString());
+    else
+        setCell(7, tr("peaking"), unstable, unstableTip);
 
     // The failing specs by name, their reasons in the tooltip (core's specVerdicts(), the
-    // same verdicts as checkSpecs()).
-    if (a.specs.empty()) {
+    // same verdicts as checkSpecs(): an unstable loop fails every spec, reason "unstable").
+    if (!a.stable) {
+        const std::string failing = failingSpecLabels(a.specs);
+        setCell(8, tr("specs"),
+                failing.empty() ? tr("fail: unstable")
+                                : tr("fails: %1 (unstable)").arg(toQString(failing)),
+                toQString(a.closedLoopReason), kFail);
+    } else if (a.specs.empty()) {
         setCell(8, tr("specs"), tr("none set"));
     } else {
         QString reasons;
@@ -201,9 +235,10 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                     .arg(n.temperatureK, 0, 'f', 2)
                     .arg(toQString(n.bandMethod)));
     } else {
-        setCell(9, tr("rms noise"), QStringLiteral("—"),
-                a.noise ? tr("no integrated noise: the gain is zero within the sweep")
-                        : toQString(a.noiseProblem));
+        setCell(9, tr("rms noise"), a.stable ? QStringLiteral("—") : unstable,
+                !a.stable     ? unstableTip
+                    : a.noise ? tr("no integrated noise: the gain is zero within the sweep")
+                              : toQString(a.noiseProblem));
     }
 }
 
@@ -213,6 +248,11 @@ QString Readout::plainText() const
     for (const Cell &c : m_cells)
         lines << c.title->text() + QStringLiteral(": ") + c.value->text();
     return lines.join(QLatin1Char('\n'));
+}
+
+QString Readout::bannerText() const
+{
+    return m_banner->isHidden() ? QString() : m_banner->text();
 }
 
 QString Readout::cellText(const QString &title) const

@@ -25,6 +25,8 @@ public:
     QString plainText() const;
     /// The value text of the cell with `title`, empty when there is none.
     QString cellText(const QString &title) const;
+    /// The instability banner's text; empty when the loop is stable.
+    QString bannerText() const;
 
 private:
     struct Cell
@@ -37,6 +39,7 @@ private:
                  int verdict = 0);
 
     std::vector<Cell> m_cells;
+    QLabel *m_banner = nullptr; ///< "UNSTABLE" and the poles that make it so
 };
 
 } // namespace loopsketch::ui

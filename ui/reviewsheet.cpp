@@ -2,6 +2,7 @@
 
 #include "noisepanel.h"
 #include "outputfile.h"
+#include "qtadapter.h"
 #include "sketchlayout.h"
 #include "sketchscene.h"
 
@@ -663,7 +664,8 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
         break;
     }
     case SheetPlot::Step: {
-        title = QStringLiteral("Step response (per unit source step, %1)").arg(unit);
+        title = a.stable ? QStringLiteral("Step response (per unit source step, %1)").arg(unit)
+                         : QStringLiteral("Step response: none, the loop is unstable");
         Series s{QStringLiteral("output"), a.step.timeS, a.step.response, kBlue, Qt::SolidLine};
         std::vector<Series> st{s};
         legend = st;
@@ -765,6 +767,20 @@ void titleBlock(SheetWriter &w, const Design &d, const Analysis &a, const QStrin
 {
     w.paragraph(d.title.empty() ? QStringLiteral("Untitled design") : q(d.title),
                 sheetFont(15, true));
+    if (!a.stable) {
+        // First thing on the sheet: the loop does not work, and why.
+        w.advance(1);
+        w.paragraph(QStringLiteral("UNSTABLE"), sheetFont(14, true), 0, kFail);
+        w.paragraph(QStringLiteral("%1 closed-loop pole%2 in the right half-plane: %3. "
+                                   "Bandwidth, peaking, step response and noise rms do not "
+                                   "exist; every spec fails. The loop gain and impedance "
+                                   "plots below show what to change.")
+                        .arg(a.rhpPoles)
+                        .arg(a.rhpPoles == 1 ? QString() : QStringLiteral("s"))
+                        .arg(unstablePolesText(a, 4)),
+                    sheetFont(kBodyPt, true), 0, kFail);
+        w.advance(1);
+    }
     w.advance(1.5);
     // The revision as the design file writes it; no column when the file gives none.
     const QString rev = revisionText(d);
@@ -923,20 +939,22 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
     w.heading(QStringLiteral("Key metrics against the specs"));
     const std::string gu = a.gainUnit;
     std::vector<SheetWriter::Row> rows;
-    const auto verdict = [](std::optional<bool> ok) -> std::pair<QString, QColor> {
+    const auto verdict = [&a](std::optional<bool> ok) -> std::pair<QString, QColor> {
         if (!ok)
             return {QStringLiteral("no spec"), QColor(110, 110, 110)};
+        if (!a.stable)
+            return {QStringLiteral("fail: unstable"), kFail};
         return *ok ? std::pair{QStringLiteral("pass"), kPass}
                    : std::pair{QStringLiteral("fail"), kFail};
     };
+    const QString none = QStringLiteral("— (unstable)");
     const auto add = [&](const QString &name, const QString &value, const QString &spec,
                          std::optional<bool> ok) {
         const auto [text, colour] = verdict(ok);
         rows.push_back({{name, value, spec, text}, {kInk, kInk, kInk, colour}});
     };
     // Core's spec check, the one the Candidates panel and the spread yield use.
-    const SpecCheck check = checkSpecs(
-        d.specs, d.sweep, TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg});
+    const SpecCheck check = checkSpecs(d.specs, d.sweep, trialMetricsOf(a));
     {
         const Specs &s = d.specs;
         std::optional<bool> ok;
@@ -957,9 +975,9 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
             ok = check.bandwidth;
         }
         // No -3 dB point inside the sweep: the closed loop is flat beyond its end.
-        const QString value = a.bandwidthHz
-            ? eng(a.bandwidthHz, "Hz")
-            : QStringLiteral("> %1").arg(eng(d.sweep.stop.si, "Hz"));
+        const QString value = !a.stable ? none
+            : a.bandwidthHz             ? eng(a.bandwidthHz, "Hz")
+                                        : QStringLiteral("> %1").arg(eng(d.sweep.stop.si, "Hz"));
         add(QStringLiteral("bandwidth (−3 dB)"), value, spec, ok);
     }
     {
@@ -974,13 +992,25 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
     add(QStringLiteral("crossover |T| = 1"), eng(a.margins.crossoverHz, "Hz"), QStringLiteral("—"),
         {});
     add(QStringLiteral("gain margin"), decibels(a.margins.gainMarginDb), QStringLiteral("—"), {});
-    add(QStringLiteral("peaking"), decibels(a.peakingDb), QStringLiteral("—"), {});
+    if (a.margins.gainMargins.size() > 1) {
+        QStringList all;
+        for (const GainMargin &g : a.margins.gainMargins)
+            all << QStringLiteral("%1 at %2").arg(decibels(g.db), eng(g.frequencyHz, "Hz", 3));
+        add(QStringLiteral("every phase crossing"), all.join(QStringLiteral(", ")),
+            QStringLiteral("—"), {});
+    }
+    add(QStringLiteral("peaking"), a.stable ? decibels(a.peakingDb) : none, QStringLiteral("—"),
+        {});
+    if (a.feedthroughDb)
+        add(QStringLiteral("feedthrough rise"), decibels(a.feedthroughDb), QStringLiteral("—"), {});
     add(QStringLiteral("desensitivity at DC"), decibels(a.desensitivityDb), QStringLiteral("—"),
         {});
-    add(QStringLiteral("rise time 10–90 %"), eng(a.step.riseTimeS, "s"), QStringLiteral("—"), {});
-    add(QStringLiteral("overshoot"), percent(a.step.overshootPct), QStringLiteral("—"), {});
-    add(QStringLiteral("settling to ±1 %"), eng(a.step.settlingTimeS, "s"), QStringLiteral("—"),
-        {});
+    add(QStringLiteral("rise time 10–90 %"), a.stable ? eng(a.step.riseTimeS, "s") : none,
+        QStringLiteral("—"), {});
+    add(QStringLiteral("overshoot"), a.stable ? percent(a.step.overshootPct) : none,
+        QStringLiteral("—"), {});
+    add(QStringLiteral("settling to ±%1 %").arg(a.step.settlingBand * 100, 0, 'g', 3),
+        a.stable ? eng(a.step.settlingTimeS, "s") : none, QStringLiteral("—"), {});
     w.table({{QStringLiteral("Metric"), 55},
              {QStringLiteral("Value"), 40, Qt::AlignRight},
              {QStringLiteral("Spec"), 55, Qt::AlignRight},
@@ -1011,6 +1041,11 @@ void noiseSection(SheetWriter &w, const Analysis &a)
     const NoiseAnalysis &n = *a.noise;
     const NoiseUnitText u = noiseUnits(a);
     const std::string out = u.output.toStdString(), in = u.input.toStdString();
+    if (!a.stable) {
+        w.paragraph(QStringLiteral("No noise rms: the loop is unstable."), f, 0, kFail);
+        w.advance(1);
+        return;
+    }
     w.paragraph(QStringLiteral("Output noise %1 rms, input-referred %2 rms, over %3–%4 at %5 K "
                                "(%6 °C).")
                     .arg(eng(n.outputRms, out), eng(n.inputRms, in), eng(n.bandLowHz, "Hz"),
@@ -1116,8 +1151,9 @@ QString specVerdict(const Design &d, const std::optional<Analysis> &a)
 {
     if (!a || !hasSpecs(d.specs))
         return QStringLiteral("—");
-    const SpecCheck check = checkSpecs(
-        d.specs, d.sweep, TrialMetrics{a->exact.gain, a->bandwidthHz, a->margins.phaseMarginDeg});
+    const SpecCheck check = checkSpecs(d.specs, d.sweep, trialMetricsOf(*a));
+    if (!check.stable)
+        return QStringLiteral("fail: unstable");
     QStringList failed;
     if (!check.gain)
         failed << QStringLiteral("gain");

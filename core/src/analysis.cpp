@@ -207,29 +207,71 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     a.exact.zInSweep = c.zInExact;
     a.exact.zOutSweep = c.zOutExact;
 
-    a.margins = computeMargins(model, a.frequenciesHz, c.loopGain, dc.loopGain);
-    if (a.exact.gain) {
-        a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);
-        a.peakingDb = computePeaking(c.gainExact, *a.exact.gain);
+    const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
+    a.poles = describePoles(closedLoopPoles);
+    const Stability verdict = assessStability(a.poles);
+    a.stable = verdict.stable;
+    a.rhpPoles = verdict.rhpPoles;
+    a.closedLoopReason = verdict.reason;
+
+    // The loop beyond the sweep, where crossings may lie: as far as its poles and the
+    // closed loop's reach.
+    std::vector<Complex> loopPoles = model.loopGainPoles();
+    loopPoles.insert(loopPoles.end(), closedLoopPoles.begin(), closedLoopPoles.end());
+    const BeyondSweep beyond = frequenciesBeyondSweep(a.frequenciesHz, loopPoles);
+    const auto pointsAt = [](const std::vector<double> &hz) {
+        std::vector<Complex> s(hz.size());
+        for (std::size_t i = 0; i < hz.size(); ++i)
+            s[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
+        return s;
+    };
+    const std::vector<Complex> below = pointsAt(beyond.below), above = pointsAt(beyond.above);
+    {
+        std::vector<double> f = beyond.below;
+        f.insert(f.end(), a.frequenciesHz.begin(), a.frequenciesHz.end());
+        f.insert(f.end(), beyond.above.begin(), beyond.above.end());
+        Curve t = model.loopGainOver(below);
+        t.insert(t.end(), c.loopGain.begin(), c.loopGain.end());
+        const Curve tAbove = model.loopGainOver(above);
+        t.insert(t.end(), tAbove.begin(), tAbove.end());
+        a.margins = computeMargins(model, f, t, dc.loopGain);
     }
-    a.poles = describePoles(model.closedLoopPoles());
-    if (a.exact.gain)
-        a.step = computeStep(model, a.poles, a.bandwidthHz, *a.exact.gain);
+    a.step.settlingBand = design.settlingBandFraction();
+    if (a.exact.gain && a.stable) {
+        a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);
+        std::vector<double> f = a.frequenciesHz;
+        f.insert(f.end(), beyond.above.begin(), beyond.above.end());
+        Curve g = c.gainExact;
+        const Curve gAbove = model.gainOver(above);
+        g.insert(g.end(), gAbove.begin(), gAbove.end());
+        const Peaking peaking = computePeaking(model, f, g, *a.exact.gain);
+        a.peakingDb = peaking.db;
+        a.peakingHz = peaking.hz;
+        a.feedthroughDb = peaking.feedthroughDb;
+        a.feedthroughHz = peaking.feedthroughHz;
+        if (auto step = model.stepModel())
+            a.step = computeStep(*step, a.poles, a.bandwidthHz, *a.exact.gain,
+                                 design.settlingBandFraction());
+    }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = computeSensitivity(design, *a.exact.gain);
     if (options.noise) {
         NoiseOptions noiseOptions = options.noiseOptions;
         if (!noiseOptions.closedLoopBandwidthHz)
             noiseOptions.closedLoopBandwidthHz = a.bandwidthHz;
-        if (auto noise = detail::analyzeNoiseOver(design, noiseOptions, a.frequenciesHz, points))
+        if (auto noise = detail::analyzeNoiseOver(design, noiseOptions, a.frequenciesHz, points)) {
             a.noise = std::move(noise).value();
-        else
+            if (!a.stable) { // the densities exist; a noise power over a band does not
+                a.noise->outputRms.reset();
+                a.noise->inputRms.reset();
+                for (NoiseContribution &contribution : a.noise->contributions)
+                    contribution.rms = std::numeric_limits<double>::quiet_NaN();
+            }
+        } else
             a.noiseProblem = noise.diagnostics().front().message;
     }
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
-    a.specs = specVerdicts(design.specs, design.sweep,
-                           TrialMetrics{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg},
-                           a.gainUnit);
+    a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;
 }
 

@@ -283,10 +283,14 @@ std::string analysisToJson(const Analysis &a)
                           {"z_in", number(r.zIn)},
                           {"z_out", number(r.zOut)}};
     j["dc"] = dc;
+    Json gainMargins = Json::array();
+    for (const GainMargin &g : a.margins.gainMargins)
+        gainMargins.push_back({{"db", number(g.db)}, {"frequency_hz", number(g.frequencyHz)}});
     j["margins"] = {{"crossover_hz", number(a.margins.crossoverHz)},
                     {"phase_margin_deg", number(a.margins.phaseMarginDeg)},
                     {"gain_margin_db", number(a.margins.gainMarginDb)},
-                    {"phase_crossover_hz", number(a.margins.phaseCrossoverHz)}};
+                    {"phase_crossover_hz", number(a.margins.phaseCrossoverHz)},
+                    {"gain_margins_db", gainMargins}};
     Json poles = Json::array();
     for (const auto &p : a.poles)
         poles.push_back({{"re", p.s.real()},
@@ -294,13 +298,23 @@ std::string analysisToJson(const Analysis &a)
                          {"f_n_hz", p.naturalHz},
                          {"damping", p.damping},
                          {"q", number(p.q)}});
-    j["closed_loop"] = {{"bandwidth_hz", number(a.bandwidthHz)},
-                        {"peaking_db", number(a.peakingDb)},
-                        {"poles", poles},
-                        {"step",
-                         {{"rise_time_s", number(a.step.riseTimeS)},
-                          {"overshoot_pct", number(a.step.overshootPct)},
-                          {"settling_time_s", number(a.step.settlingTimeS)}}}};
+    j["closed_loop"]
+        = {{"stable", a.stable},
+           {"rhp_poles", a.rhpPoles},
+           {"reason", a.closedLoopReason.empty() ? Json(nullptr) : Json(a.closedLoopReason)},
+           {"bandwidth_hz", number(a.bandwidthHz)},
+           {"peaking_db", number(a.peakingDb)},
+           {"peaking_hz", number(a.peakingHz)},
+           {"feedthrough_db", number(a.feedthroughDb)},
+           {"feedthrough_hz", number(a.feedthroughHz)},
+           {"poles", poles},
+           {"step",
+            {{"rise_time_s", number(a.step.riseTimeS)},
+             {"overshoot_pct", number(a.step.overshootPct)},
+             {"settling_time_s", number(a.step.settlingTimeS)},
+             {"settling_band", number(a.step.settlingBand)},
+             {"final_value",
+              a.step.response.empty() ? Json(nullptr) : number(a.step.response.back())}}}};
     j["desensitivity_db"] = number(a.desensitivityDb);
     Json sens = Json::object();
     for (const auto &[id, v] : a.sensitivity)
@@ -385,6 +399,10 @@ std::string analysisToText(const Analysis &a, const Design *design)
         }
     };
     os << a.title << "\n\n";
+    if (!a.stable)
+        os << "UNSTABLE: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
+           << ".\nNo bandwidth, peaking, step response or noise rms: they do not exist for an "
+              "unstable loop.\n\n";
     if (design) {
         if (!design->revision.empty())
             os << "Revision: " << design->revision << "\n\n";
@@ -420,27 +438,101 @@ std::string analysisToText(const Analysis &a, const Design *design)
     show("z_in (Blackman)", a.returnRatio.zIn, "Ω");
     show("z_out (Blackman)", a.returnRatio.zOut, "Ω");
     os << "\nStability and response\n";
+    const auto row = [&](const std::string &label, const std::string &value) {
+        os << "  " << label << std::string(label.size() < 26 ? 26 - label.size() : 1, ' ') << value
+           << "\n";
+    };
+    row("closed loop", a.stable ? "stable" : "UNSTABLE");
+    for (const ClosedLoopPole &p : a.poles) {
+        if (p.s.real() < 0)
+            continue;
+        std::ostringstream pole;
+        pole << formatEngineering(p.s.real(), 5, "") << (p.s.imag() < 0 ? " - j" : " + j")
+             << formatEngineering(std::abs(p.s.imag()), 5, "") << " rad/s ("
+             << formatEngineering(p.naturalHz, 5, "Hz") << ")";
+        row(p.s.real() > 0 ? "  right-half-plane pole" : "  pole on the jw axis", pole.str());
+    }
     show("desensitivity 1+T", a.desensitivityDb, "dB");
-    show("loop crossover", a.margins.crossoverHz, "Hz");
+    // A crossing found on the model beyond the sweep says so.
+    const double start = a.frequenciesHz.empty() ? 0.0 : a.frequenciesHz.front();
+    const double stop = a.frequenciesHz.empty() ? 0.0 : a.frequenciesHz.back();
+    const auto where = [&](double hz) -> std::string {
+        if (hz > stop * (1 + 1e-12))
+            return " (above the sweep stop)";
+        if (hz < start * (1 - 1e-12))
+            return " (below the sweep start)";
+        return "";
+    };
+    const auto frequency = [&](const std::string &label, const OptionalNumber &hz) {
+        if (!hz)
+            show(label, hz, "Hz");
+        else
+            row(label, formatEngineering(*hz, 5, "Hz") + where(*hz));
+    };
+    frequency("loop crossover", a.margins.crossoverHz);
     show("phase margin", a.margins.phaseMarginDeg, "°");
     show("gain margin", a.margins.gainMarginDb, "dB");
-    show("closed-loop bandwidth", a.bandwidthHz, "Hz");
-    show("peaking", a.peakingDb, "dB");
-    show("step rise time", a.step.riseTimeS, "s");
-    show("step overshoot", a.step.overshootPct, "%");
-    show("step settling (1 %)", a.step.settlingTimeS, "s");
+    if (a.margins.gainMargins.size() > 1) {
+        for (const GainMargin &g : a.margins.gainMargins) {
+            std::ostringstream db;
+            db.precision(5);
+            db << g.db << " dB at " << formatEngineering(g.frequencyHz, 5, "Hz")
+               << where(g.frequencyHz);
+            row("  phase crossing", db.str());
+        }
+    } else {
+        frequency("phase crossover", a.margins.phaseCrossoverHz);
+    }
+    const std::string absent = a.stable ? "" : "none (unstable)";
+    if (!a.stable) {
+        for (const char *label : {"closed-loop bandwidth", "peaking", "step rise time",
+                                  "step overshoot", "step settling"})
+            row(label, absent);
+    } else {
+        if (!a.bandwidthHz && !a.curves.gainExact.empty() && a.exact.gain
+            && std::abs(a.curves.gainExact.back()) >= std::abs(*a.exact.gain) / std::sqrt(2.0))
+            row("closed-loop bandwidth", "above the sweep stop");
+        else
+            show("closed-loop bandwidth", a.bandwidthHz, "Hz");
+        show("peaking", a.peakingDb, "dB");
+        if (a.peakingHz)
+            frequency("  at", a.peakingHz);
+        if (a.feedthroughDb) {
+            std::ostringstream db;
+            db.precision(5);
+            db << *a.feedthroughDb << " dB";
+            if (a.feedthroughHz)
+                db << " at " << formatEngineering(*a.feedthroughHz, 5, "Hz")
+                   << where(*a.feedthroughHz);
+            else
+                db << " towards high frequency";
+            row("feedthrough rise", db.str());
+        }
+        show("step rise time", a.step.riseTimeS, "s");
+        show("step overshoot", a.step.overshootPct, "%");
+        std::ostringstream band;
+        band << "step settling (" << a.step.settlingBand * 100 << " %)";
+        show(band.str(), a.step.settlingTimeS, "s");
+    }
     if (a.noise && !a.noise->frequenciesHz.empty()) {
         const NoiseAnalysis &n = *a.noise;
         const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
         std::ostringstream kelvin;
         kelvin << n.temperatureK;
         os << "\nNoise (" << kelvin.str() << " K)\n";
-        show("output, rms", n.outputRms, outUnit);
-        show("input-referred, rms", n.inputRms, inUnit);
+        if (a.stable) {
+            show("output, rms", n.outputRms, outUnit);
+            show("input-referred, rms", n.inputRms, inUnit);
+        } else {
+            row("output, rms", absent);
+            row("input-referred, rms", absent);
+        }
         const auto line = [&](const std::string &label, const std::string &text) {
             os << "  " << label << std::string(label.size() < 26 ? 26 - label.size() : 1, ' ')
                << text << "\n";
         };
+        if (!a.stable)
+            return os.str(); // no band and no shares of a power that does not exist
         line("band",
              formatEngineering(n.bandLowHz, 5, "Hz") + " – "
                  + formatEngineering(n.bandHighHz, 5, "Hz"));

@@ -309,6 +309,11 @@ double Design::temperatureK() const
     return temperature ? temperature->si : kDefaultTemperatureK;
 }
 
+double Design::settlingBandFraction() const
+{
+    return settlingBand ? settlingBand->si : kDefaultSettlingBand;
+}
+
 const Part *Design::signalSource() const
 {
     const Part *p = findPart(input);

@@ -656,7 +656,7 @@ public:
         }
         checkKeys(root,
                   {"schema", "title", "revision", "notes", "parts", "input", "output", "sweep",
-                   "specs", "candidates", "sketch", "temperature", "noise_band"},
+                   "specs", "candidates", "sketch", "temperature", "noise_band", "settling_band"},
                   "", "");
         if (auto it = root.find("schema"); it == root.end()) {
             error("", "schema",
@@ -716,6 +716,8 @@ public:
             readSweep(*it, d.sweep);
         if (auto it = root.find("temperature"); it != root.end())
             d.temperature = readTemperature(*it);
+        if (auto it = root.find("settling_band"); it != root.end())
+            d.settlingBand = readValue(*it, ValueKind::Tolerance, "", "settling_band");
         if (auto it = root.find("noise_band"); it != root.end())
             d.noiseBand = readNoiseBand(*it);
         if (auto it = root.find("specs"); it != root.end())
@@ -884,6 +886,8 @@ std::string serializeDesign(const Design &d)
         + ", \"points_per_decade\": " + std::to_string(d.sweep.pointsPerDecade) + "}";
     if (d.temperature)
         s += ",\n  \"temperature\": " + jsonValue(*d.temperature);
+    if (d.settlingBand)
+        s += ",\n  \"settling_band\": " + jsonValue(*d.settlingBand);
     if (d.noiseBand)
         s += ",\n  \"noise_band\": [" + jsonValue(d.noiseBand->low) + ", "
             + jsonValue(d.noiseBand->high) + "]";

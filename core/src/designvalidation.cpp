@@ -323,6 +323,15 @@ void checkNoiseBand(const Design &d, Checker &c)
         c.add("", "noise_band", "noise_band [low, high] has low not below high");
 }
 
+void checkSettlingBand(const Design &d, Checker &c)
+{
+    if (!d.settlingBand)
+        return;
+    const double b = d.settlingBand->si;
+    if (!std::isfinite(b) || !(b > 0) || !(b < 1))
+        c.add("", "settling_band", "settling_band must be between 0 % and 100 % (both excluded)");
+}
+
 void checkCandidates(const Design &d, Checker &c)
 {
     std::set<std::string> names;
@@ -396,6 +405,7 @@ Diagnostics validateDesign(const Design &design, std::string_view file)
     checkSweep(design.sweep, c);
     checkSpecs(design.specs, c);
     checkTemperature(design, c);
+    checkSettlingBand(design, c);
     checkNoiseBand(design, c);
     checkCandidates(design, c);
     checkSketch(design, c);

@@ -302,6 +302,21 @@ Curve blackman(const ReducedSystem &r, std::span<const Complex> s, int portVolta
 
 } // namespace
 
+std::vector<Complex> LoopModel::loopGainOver(std::span<const Complex> s) const
+{
+    const TransferEntry e[] = {{loopio::kReturned, loopio::kTest}};
+    std::vector<Complex> t = m_rrFull->sweepEntries(s, e);
+    for (Complex &v : t)
+        v = -v;
+    return t;
+}
+
+std::vector<Complex> LoopModel::gainOver(std::span<const Complex> s) const
+{
+    const TransferEntry e[] = {{loopio::kOutput, loopio::kSource}};
+    return m_full->sweepEntries(s, e);
+}
+
 Complex LoopModel::loopGainAt(Complex s) const
 {
     return -m_rrFull->entry(s, loopio::kReturned, loopio::kTest);
@@ -496,6 +511,16 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
 std::vector<Complex> LoopModel::closedLoopPoles() const
 {
     return m_full->naturalFrequencies();
+}
+
+std::vector<Complex> LoopModel::loopGainPoles() const
+{
+    return m_rrFull->naturalFrequencies();
+}
+
+Result<StepModel> LoopModel::stepModel() const
+{
+    return StepModel::build(*m_full, loopio::kOutput, loopio::kSource);
 }
 
 Result<std::vector<double>> LoopModel::stepResponse(const std::vector<double> &times) const

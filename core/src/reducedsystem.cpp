@@ -1,11 +1,11 @@
 #include "loopsketch/reducedsystem.h"
 
+#include "loopsketch/stepmodel.h"
+
 #include "pencilsweep.h"
 
 #include <Eigen/Eigenvalues>
 #include <Eigen/LU>
-#include <Eigen/SVD>
-#include <unsupported/Eigen/MatrixFunctions>
 
 #include <algorithm>
 #include <cmath>
@@ -263,30 +263,90 @@ bool ReducedSystem::dcRegular() const
     return !isSingular(m_gr);
 }
 
-std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
+namespace {
+
+/// Power-of-two row and column balancing of the pencil (a few sweeps): neither changes
+/// the eigenvalues, and QZ's errors follow the balanced entries instead of the units.
+void balance(Eigen::MatrixXd &g, Eigen::MatrixXd &c)
+{
+    for (int sweep = 0; sweep < 4; ++sweep) {
+        for (Index i = 0; i < g.rows(); ++i) {
+            const double m
+                = std::max(g.row(i).cwiseAbs().maxCoeff(), c.row(i).cwiseAbs().maxCoeff());
+            if (m > 0 && std::isfinite(m)) {
+                const double f = std::exp2(-std::round(std::log2(m)));
+                g.row(i) *= f;
+                c.row(i) *= f;
+            }
+        }
+        for (Index j = 0; j < g.cols(); ++j) {
+            const double m
+                = std::max(g.col(j).cwiseAbs().maxCoeff(), c.col(j).cwiseAbs().maxCoeff());
+            if (m > 0 && std::isfinite(m)) {
+                const double f = std::exp2(-std::round(std::log2(m)));
+                g.col(j) *= f;
+                c.col(j) *= f;
+            }
+        }
+    }
+}
+
+/// Finite generalized eigenvalues s of (g + s c) v = 0, the pencil scaled by w0 first
+/// (s = w0 s').
+std::vector<std::complex<double>> finiteEigenvalues(Eigen::MatrixXd g, Eigen::MatrixXd c, double w0)
 {
     std::vector<std::complex<double>> poles;
-    if (order() == 0)
+    g /= w0;
+    balance(g, c);
+    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
+    ges.compute(g, c, false);
+    if (ges.info() != Eigen::Success)
         return poles;
+    const Eigen::VectorXcd alphas = ges.alphas();
+    const Eigen::VectorXd betas = ges.betas();
+    // An infinite mode's beta is round-off of the balanced C; a finite one's is of its
+    // order whatever its frequency. A test relative to alpha would drop the fast poles of
+    // a very high gain (alpha ~ |s| beta), and report none at all.
+    const double cNorm = c.cwiseAbs().maxCoeff();
+    for (Index i = 0; i < alphas.size(); ++i) {
+        const double b = betas(i);
+        if (std::abs(b) > 1e-13 * cNorm && b != 0.0 && std::isfinite(std::abs(alphas(i)))) {
+            std::complex<double> s = -w0 * (alphas(i) / b);
+            if (std::abs(s.imag()) < 1e-12 * std::abs(s))
+                s = {s.real(), 0.0};
+            if (std::isfinite(std::abs(s)))
+                poles.push_back(s);
+        }
+    }
+    return poles;
+}
+
+} // namespace
+
+std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
+{
+    if (order() == 0)
+        return {};
     // (Gr + s Cr) v = 0  <=>  Gr v = lambda Cr v with lambda = -s.
     // Row scaling (each row's reactive entries to 1) makes the infinite-eigenvalue test
     // mean the same in every row; the per-frequency solves keep the unscaled rows, whose
     // pivots partial pivoting chooses better.
     const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
-    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
-    ges.compute(scale.asDiagonal() * m_gr, scale.asDiagonal() * m_cr, false);
-    if (ges.info() != Eigen::Success)
-        return poles;
-    const Eigen::VectorXcd alphas = ges.alphas();
-    const Eigen::VectorXd betas = ges.betas();
-    for (Index i = 0; i < alphas.size(); ++i) {
-        const double b = betas(i);
-        if (std::abs(b) > 1e-13 * std::abs(alphas(i)) && b != 0.0) {
-            std::complex<double> s = -alphas(i) / b;
-            if (std::abs(s.imag()) < 1e-12 * std::abs(s))
-                s = {s.real(), 0.0};
-            poles.push_back(s);
-        }
+    Eigen::MatrixXd g = scale.asDiagonal() * m_gr;
+    Eigen::MatrixXd c = scale.asDiagonal() * m_cr;
+    if (!g.allFinite()) { // a gain near the largest double: no row scaling
+        g = m_gr;
+        c = m_cr;
+    }
+    // Balanced as it is, the pencil gives the most accurate poles; a very high gain
+    // (1e20 and beyond) puts some of them where only a frequency scaling by the largest
+    // entry keeps them finite. The attempt that finds more finite poles wins.
+    std::vector<std::complex<double>> poles = finiteEigenvalues(g, c, 1.0);
+    const double w0 = g.cwiseAbs().maxCoeff();
+    if (w0 > 0 && std::isfinite(w0) && w0 != 1.0) {
+        std::vector<std::complex<double>> scaled = finiteEigenvalues(g, c, w0);
+        if (scaled.size() > poles.size())
+            poles = std::move(scaled);
     }
     std::sort(poles.begin(), poles.end(), [](auto x, auto y) {
         return std::abs(x) != std::abs(y) ? std::abs(x) < std::abs(y) : x.imag() < y.imag();
@@ -297,96 +357,10 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
 Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
                                                         const std::vector<double> &times) const
 {
-    const Index k = order();
-    std::vector<double> y(times.size(), 0.0);
-    if (k == 0) {
-        std::fill(y.begin(), y.end(), m_dr(output, input));
-        return y;
-    }
-    // Split Cr = U S V^T into its dynamic (rank r) and algebraic parts; eliminating the
-    // algebraic part (index 1) leaves the proper state space  w' = A w + b u, y = c w + d u.
-    const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
-    const Eigen::MatrixXd gs = scale.asDiagonal() * m_gr;
-    const Eigen::MatrixXd cs = scale.asDiagonal() * m_cr;
-    const Eigen::MatrixXd bs = scale.asDiagonal() * m_br;
-    Eigen::JacobiSVD<Eigen::MatrixXd> svd(cs, Eigen::ComputeFullU | Eigen::ComputeFullV);
-    const Eigen::VectorXd sv = svd.singularValues();
-    Index rank = 0;
-    while (rank < sv.size() && sv(rank) > 1e-10 * sv(0))
-        ++rank;
-    const Eigen::MatrixXd gh = svd.matrixU().transpose() * gs * svd.matrixV();
-    const Eigen::VectorXd bh = svd.matrixU().transpose() * bs.col(input);
-    const Eigen::RowVectorXd lh = m_lr.row(output) * svd.matrixV();
-    const Index q = k - rank;
-    Eigen::MatrixXd a = gh.topLeftCorner(rank, rank);
-    Eigen::VectorXd b = bh.head(rank);
-    Eigen::RowVectorXd c = lh.head(rank);
-    double d = m_dr(output, input);
-    if (q > 0) {
-        const Eigen::MatrixXd g22 = gh.bottomRightCorner(q, q);
-        Eigen::PartialPivLU<Eigen::MatrixXd> lu(g22);
-        if (isSingular(g22))
-            return Diagnostic{{},
-                              {},
-                              {},
-                              "the step response is not defined: the circuit has "
-                              "an impulsive (higher-index) mode"};
-        const Eigen::VectorXd xb2 = lu.solve(bh.tail(q));
-        d += lh.tail(q).dot(xb2);
-        if (rank > 0) { // Eigen's solve must not see an empty right-hand side (UBSan)
-            const Eigen::MatrixXd x21 = lu.solve(gh.bottomLeftCorner(q, rank));
-            a -= gh.topRightCorner(rank, q) * x21;
-            b -= gh.topRightCorner(rank, q) * xb2;
-            c -= lh.tail(q) * x21;
-        }
-    }
-    const Eigen::VectorXd sInv = sv.head(rank).cwiseInverse();
-    a = -(sInv.asDiagonal() * a);
-    b = sInv.asDiagonal() * b;
-    if (rank == 0) {
-        std::fill(y.begin(), y.end(), d);
-        return y;
-    }
-    // Augmented exponential exp([[A, b], [0, 0]] dt) = [[Phi, Gamma], [0, 1]] propagates the
-    // state over one step exactly for a constant input.
-    Eigen::MatrixXd aug = Eigen::MatrixXd::Zero(rank + 1, rank + 1);
-    Eigen::VectorXd w = Eigen::VectorXd::Zero(rank), next(rank);
-    double last = 0.0;
-    double lastDt = -1.0;
-    Eigen::MatrixXd phi, gamma;
-    for (std::size_t i = 0; i < times.size(); ++i) {
-        const double dt = times[i] - last;
-        if (dt > 0) {
-            if (std::abs(dt - lastDt) > 1e-12 * dt) {
-                aug.topLeftCorner(rank, rank) = a * dt;
-                aug.topRightCorner(rank, 1) = b * dt;
-                const Eigen::MatrixXd e = aug.exp();
-                phi = e.topLeftCorner(rank, rank);
-                gamma = e.topRightCorner(rank, 1);
-                lastDt = dt;
-            }
-            // Plain loops: at rank 2..8 the library's product costs more in set-up (and a
-            // temporary per step) than in arithmetic, over thousands of steps.
-            // Column by column, so the inner loop runs over contiguous memory.
-            const double *ph = phi.data(), *wv = w.data();
-            double *nx = next.data();
-            for (Index r = 0; r < rank; ++r)
-                nx[r] = gamma(r);
-            for (Index m = 0; m < rank; ++m) {
-                const double wm = wv[m];
-                const double *column = ph + m * rank;
-                for (Index r = 0; r < rank; ++r)
-                    nx[r] += column[r] * wm;
-            }
-            w.swap(next);
-            last = times[i];
-        }
-        double out = d;
-        for (Index m = 0; m < rank; ++m)
-            out += c(m) * w(m);
-        y[i] = out;
-    }
-    return y;
+    auto model = StepModel::build(*this, output, input);
+    if (!model)
+        return model.diagnostics();
+    return model->sample(times);
 }
 
 } // namespace loopsketch

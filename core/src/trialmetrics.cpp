@@ -96,6 +96,9 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
     };
 
     TrialMetrics m;
+    for (const auto &s : full->naturalFrequencies())
+        if (s.real() >= -1e-9 * std::abs(s))
+            m.stable = false; // as assessStability(): right half-plane or jw axis
     const double g0 = full->entry(0.0, loopio::kOutput, loopio::kSource).real();
     m.gain = finite(g0);
     const std::complex<double> t0 = -rr->entry(0.0, loopio::kReturned, loopio::kTest);
@@ -153,9 +156,22 @@ bool hasSpecs(const Specs &specs)
     return specs.gainMin || specs.gainMax || specs.bandwidthMin || specs.phaseMarginMinDeg;
 }
 
+TrialMetrics trialMetricsOf(const Analysis &a)
+{
+    return {a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, a.stable};
+}
+
 SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &m)
 {
     SpecCheck c;
+    if (!m.stable) {
+        c.stable = false;
+        c.reason = "unstable";
+        c.gain = !(specs.gainMin || specs.gainMax);
+        c.bandwidth = !specs.bandwidthMin;
+        c.phaseMargin = !specs.phaseMarginMinDeg;
+        return c;
+    }
     if (specs.gainMin || specs.gainMax) {
         c.gain = m.gain.has_value();
         if (m.gain && specs.gainMin && *m.gain < specs.gainMin->si)
@@ -227,6 +243,13 @@ std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep, co
         else if (!v.pass)
             v.reason = "below the minimum";
         out.push_back(std::move(v));
+    }
+    if (!check.stable) {
+        // checkSpecs() fails every spec of an unstable loop, for that one reason
+        for (SpecVerdict &v : out) {
+            v.pass = false;
+            v.reason = check.reason;
+        }
     }
     return out;
 }

@@ -1054,9 +1054,8 @@ class SecondOrder : public ::testing::TestWithParam<SecondOrderRow>
 //   wB = wn sqrt(1 - 2 zeta^2 + sqrt(4 zeta^4 - 4 zeta^2 + 2)).
 // The table rows are reference-values.md section 5 (derived from these formulas).
 // Tolerances: half a unit of the table's last printed digit, plus for the step overshoot
-// the sampling of the step (2000 points: < 0.002 percentage points at the peak) and for
-// the peaking the sweep grid the peak is read from (the grid maximum of the ideal second-
-// order response is computed here, on the same grid).
+// the departure of the loop from the ideal two-pole form; the overshoot peak and the
+// peaking are located on the model, not read off the time or frequency grid.
 TEST_P(SecondOrder, PhaseMarginOvershootAndPeakingMatchTheTable)
 {
     const SecondOrderRow row = GetParam();
@@ -1069,9 +1068,11 @@ TEST_P(SecondOrder, PhaseMarginOvershootAndPeakingMatchTheTable)
     const double mrDb = row.zeta < std::sqrt(0.5)
         ? 20.0 * std::log10(1.0 / (2 * row.zeta * std::sqrt(1 - row.zeta * row.zeta)))
         : 0.0;
+    // The peak is refined on the model, so the grid's own maximum (computed here for the
+    // message) no longer costs accuracy.
     const double gridLoss = mrDb - peakDbOnGrid(a.frequenciesHz, row.zeta, fn);
-    const double peakTol = 0.0005 + std::max(gridLoss, 0.0);
-    EXPECT_NEAR(value(a.peakingDb), row.peakDb, peakTol) << "grid loss " << gridLoss;
+    EXPECT_NEAR(value(a.peakingDb), row.peakDb, 0.0005) << "grid loss " << gridLoss;
+    EXPECT_NEAR(value(a.peakingDb), mrDb, 1e-6);
 
     // The same relations evaluated in double precision: far tighter.
     const double z = row.zeta, z2 = z * z;
@@ -1081,7 +1082,7 @@ TEST_P(SecondOrder, PhaseMarginOvershootAndPeakingMatchTheTable)
     EXPECT_LT(
         rel(value(a.bandwidthHz), fn * std::sqrt(1 - 2 * z2 + std::sqrt(4 * z2 * z2 - 4 * z2 + 2))),
         1e-6);
-    EXPECT_NEAR(value(a.step.overshootPct), 100 * std::exp(-kPi * z / std::sqrt(1 - z2)), 0.002);
+    EXPECT_NEAR(value(a.step.overshootPct), 100 * std::exp(-kPi * z / std::sqrt(1 - z2)), 1e-5);
     // The closed-loop poles: a pair at wn with damping zeta.
     ASSERT_EQ(a.poles.size(), 2u);
     for (const ClosedLoopPole &p : a.poles) {

@@ -4,16 +4,25 @@
 Usage: scipy_second_opinion.py LOOPSKETCH_CLI DESIGN_FILE
        scipy_second_opinion.py --noise LOOPSKETCH_CLI DESIGN_FILE   (see noise_main below)
 
-The design must be a unity-gain follower around a gain block with ideal terminals (no
-r_in, r_out = 0) and no zeros, so its loop gain is the rational function
-    T(s) = a0 / prod_k (1 + s / w_k)
-and the closed loop is T / (1 + T). The script reads a0 and the poles from the design file,
-runs `loopsketch analyze FILE --json` and checks, with SciPy's and NumPy's own routines:
+The design must be a unity-gain follower around a gain block with no r_in and no zeros,
+driving a load R (optionally with C in parallel) through its r_out. This script builds its
+own nodal model: the node equation at the output,
+    (v_out - A(s) (v_in - v_out)) / r_out + v_out / R + s C v_out = 0,
+gives the loop gain
+    T(s) = A(s) R / (R + r_out (1 + s R C)),   A(s) = a0 / prod_k (1 + s / w_k)
+(T = A when r_out = 0) and the closed loop T / (1 + T). It runs `loopsketch analyze FILE
+--json` (never reading anything else of ours) and checks, with SciPy's and NumPy's own
+routines:
   - crossover frequency |T(j w)| = 1 and phase margin (scipy.signal.freqs + scipy.optimize.brentq),
   - gain margin and phase-crossover frequency (same),
   - closed-loop poles: roots of the characteristic polynomial den(s) + num(s) (numpy.roots),
   - closed-loop -3 dB bandwidth (scipy.signal.freqs + brentq),
-  - DC gain a0 / (1 + a0).
+  - DC gain,
+  - the unit-step response in closed form from the closed-loop poles and residues,
+    y(t) = G(0) + sum_i num(p_i) / (p_i den'(p_i)) e^(p_i t), sampled on 200,001 points
+    from 0 to 30 time constants of the slowest pole and refined by brentq: the step's
+    final value, 10-90 % rise time, overshoot and settling time to the design's band
+    (settling_band, default 1 %).
 Exit code 0 when everything agrees within the stated tolerances, 1 otherwise.
 """
 
@@ -33,6 +42,9 @@ TOL_DEG = 1e-7
 TOL_DB = 1e-7
 TOL_POLE = 1e-8  # numpy.roots on a cubic with coefficients over ~20 decades
 TOL_GAIN = 1e-12
+# The step metrics: the brief of the check is 1e-3 (relative; overshoot in percentage
+# points), far below what a time grid of 2000 points over the plot could give.
+TOL_STEP = 1e-3
 
 
 def parse_number(text):
@@ -60,8 +72,8 @@ def loop_from_design(path):
     if len(blocks) != 1:
         raise SystemExit("expected one gain block")
     gb = blocks[0]
-    if gb["in_n"] != gb["out"] or "r_in" in gb or parse_number(gb.get("r_out", 0)) != 0:
-        raise SystemExit("the design is not an ideal-terminal follower")
+    if gb["in_n"] != gb["out"] or "r_in" in gb or "c_in" in gb:
+        raise SystemExit("the design is not a follower without r_in")
     if gb.get("zeros_hz") or "gbw" in gb:
         raise SystemExit("zeros and gbw are not handled here")
     a0 = parse_number(gb["gain"])
@@ -69,13 +81,63 @@ def loop_from_design(path):
     den = np.array([1.0])
     for w in poles_rad:
         den = np.polymul(den, [1.0 / w, 1.0])
+    r_out = parse_number(gb.get("r_out", 0))
     num = np.array([a0])
+    if r_out > 0:
+        loads = [p for p in design["parts"] if p["type"] == "load"]
+        if len(loads) != 1 or {loads[0]["a"], loads[0]["b"]} != {gb["out"], "0"}:
+            raise SystemExit("expected one load from the output to ground")
+        r = parse_number(loads[0]["r"])
+        c = parse_number(loads[0].get("c", 0))
+        # T = A R / (R + r_out (1 + s R C)): numerator a0 R, denominator den * (...)
+        num = np.array([a0 * r])
+        den = np.polymul(den, [r_out * r * c, r + r_out])
     return a0, num, den, design
 
 
 def response(num, den, hz):
     _, h = signal.freqs(num, den, worN=[2 * math.pi * hz])
     return h[0]
+
+
+def check_step(j, design, num, den_cl, poles, dc, check):
+    """The step response in closed form from the poles and residues of G(s)/s."""
+    band = design.get("settling_band", 0.01)
+    if isinstance(band, str):
+        band = float(band[:-1]) / 100.0 if band.endswith("%") else float(band)
+    d_den = np.polyder(den_cl)
+    residues = [np.polyval(num, p) / (p * np.polyval(d_den, p)) for p in poles]
+
+    def y(t):
+        return dc + sum((r * np.exp(p * t)).real for r, p in zip(residues, poles))
+
+    slowest = min(-p.real for p in poles)
+    t = np.linspace(0.0, 30.0 / slowest, 200001)
+    v = y(t)
+
+    def first_crossing(level):
+        i = int(np.argmax(v / dc >= level))
+        return optimize.brentq(lambda x: y(x) / dc - level, t[i - 1], t[i], xtol=1e-300,
+                               rtol=1e-15)
+
+    rise = first_crossing(0.9) - first_crossing(0.1)
+    outside = np.nonzero(np.abs(v / dc - 1.0) > band)[0]
+    i = outside[-1]
+    settling = optimize.brentq(lambda x: abs(y(x) / dc - 1.0) - band, t[i], t[i + 1],
+                               xtol=1e-300, rtol=1e-15)
+    k = int(np.argmax(v / dc))
+    peak = v[k] / dc
+    if 0 < k < len(t) - 1:
+        res = optimize.minimize_scalar(lambda x: -y(x) / dc, bracket=(t[k - 1], t[k], t[k + 1]),
+                                       tol=1e-14)
+        peak = max(peak, -res.fun)
+    overshoot = max(0.0, (peak - 1.0) * 100.0)
+    step = j["closed_loop"]["step"]
+    check("step final value", step["final_value"], dc, TOL_STEP)
+    check("step final value at 1e-9", step["final_value"], dc, 1e-9)
+    check("step rise_time_s", step["rise_time_s"], rise, TOL_STEP)
+    check("step settling_time_s", step["settling_time_s"], settling, TOL_STEP)
+    check("step overshoot_pct", step["overshoot_pct"], overshoot, TOL_STEP, relative=False)
 
 
 def main():
@@ -136,12 +198,14 @@ def main():
             if not ok:
                 failures.append(f"pole {k}")
 
-    dc = a0 / (1.0 + a0)
+    dc = num[-1] / (den[-1] + num[-1])
     check("dc gain", j["dc"]["exact"]["gain"], dc, TOL_GAIN)
     level = dc / math.sqrt(2.0)
     fb = optimize.brentq(lambda f: abs(response(num, den_cl, f)) - level, start, stop,
                          xtol=1e-300, rtol=1e-15, maxiter=500)
     check("bandwidth_hz", j["closed_loop"]["bandwidth_hz"], fb, TOL_FREQ)
+
+    check_step(j, design, num, den_cl, poles, dc, check)
 
     if failures:
         print("disagreements: " + ", ".join(failures))

@@ -16,6 +16,7 @@
 #include "loopsketch/analysis.h"
 #include "loopsketch/designfile.h"
 #include "loopsketch/eseries.h"
+#include "loopsketch/trialmetrics.h"
 #include "loopsketch/value.h"
 
 #include <QApplication>
@@ -163,12 +164,27 @@ TEST_F(MainWindowTest, BandwidthBeyondTheSweepReadsAsSuchAndMeetsItsSpec)
     const Analysis *a = doc()->analysis();
     ASSERT_NE(a, nullptr);
     ASSERT_FALSE(a->bandwidthHz.has_value());
-    ASSERT_FALSE(a->margins.phaseMarginDeg.has_value());
+    // The loop crossover lies above the sweep stop: found on the model all the same.
+    ASSERT_TRUE(a->margins.phaseMarginDeg.has_value());
+    ASSERT_TRUE(a->margins.crossoverHz.has_value());
+    EXPECT_GT(*a->margins.crossoverHz, 80e3);
     EXPECT_EQ(window->readout()->cellText("bandwidth −3 dB"), QStringLiteral("> 80 kHz"));
     ASSERT_TRUE(doc()->design().specs.bandwidthMin);
-    // The Readout names the failing spec (core's verdicts: no loop crossover inside the sweep
-    // fails phase_margin_min_deg; the bandwidth passes, the sweep ending above its minimum).
-    EXPECT_EQ(window->readout()->cellText("specs"), QStringLiteral("fails: phase margin"));
+    // The Readout shows core's spec check (bandwidth meets its spec: the sweep ends above
+    // bandwidth_min with no -3 dB point) and names the failing specs.
+    const SpecCheck check
+        = checkSpecs(doc()->design().specs, doc()->design().sweep, trialMetricsOf(*a));
+    EXPECT_TRUE(check.bandwidth);
+    QStringList failing;
+    if (!check.gain)
+        failing << QStringLiteral("gain");
+    if (!check.bandwidth)
+        failing << QStringLiteral("bandwidth");
+    if (!check.phaseMargin)
+        failing << QStringLiteral("phase margin");
+    EXPECT_EQ(window->readout()->cellText("specs"),
+              failing.isEmpty() ? QStringLiteral("all pass (3)")
+                                : QStringLiteral("fails: ") + failing.join(QStringLiteral(", ")));
 }
 
 TEST_F(MainWindowTest, UndoRestoresValueReadoutAndCurve)
@@ -513,6 +529,62 @@ TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
     QTest::qWait(200);
     EXPECT_TRUE(window.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-"
                                    + QString::fromStdString(name) + ".png"));
+}
+
+// An unstable design (invented; a pair of right-half-plane poles): the Readout leads with
+// UNSTABLE and the poles, the closed-loop cells read unstable instead of numbers, every spec
+// fails for that reason, the Poles panel says so and keeps the poles on the plot, and the
+// Step panel shows no response. Core's verdict is the reference.
+TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    ASSERT_TRUE(window.openFile(
+        QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error))
+        << error.toStdString();
+    const Analysis *a = window.document()->analysis();
+    ASSERT_NE(a, nullptr);
+    ASSERT_FALSE(a->stable);
+    EXPECT_EQ(a->rhpPoles, 2);
+    Readout *readout = window.readout();
+    EXPECT_THAT(readout->bannerText().toStdString(), HasSubstr("UNSTABLE"));
+    EXPECT_THAT(readout->bannerText().toStdString(), HasSubstr("2 RHP poles"));
+    EXPECT_THAT(readout->bannerText().toStdString(),
+                HasSubstr(unstablePolesText(*a, 1).toStdString()));
+    EXPECT_THAT(readout->cellText(QStringLiteral("specs")).toStdString(), HasSubstr("unstable"));
+    EXPECT_THAT(readout->cellText(QStringLiteral("bandwidth −3 dB")).toStdString(),
+                HasSubstr("unstable"));
+    EXPECT_THAT(readout->cellText(QStringLiteral("peaking")).toStdString(), HasSubstr("unstable"));
+    const QString text = readout->plainText();
+    EXPECT_FALSE(text.contains(QStringLiteral("nan"), Qt::CaseInsensitive)) << text.toStdString();
+    bool polesSeen = false, stepSeen = false;
+    for (PlotPanel *panel : window.panels()) {
+        if (auto *poles = dynamic_cast<PolesPanel *>(panel)) {
+            polesSeen = true;
+            EXPECT_THAT(poles->summary().toStdString(), HasSubstr("UNSTABLE"));
+            EXPECT_THAT(poles->summary().toStdString(), HasSubstr("right half-plane"));
+        }
+        if (auto *step = dynamic_cast<StepPanel *>(panel)) {
+            stepSeen = true;
+            EXPECT_THAT(step->summary().toStdString(), HasSubstr("UNSTABLE"));
+        }
+    }
+    EXPECT_TRUE(polesSeen);
+    EXPECT_TRUE(stepSeen);
+    // A stable design clears the banner.
+    ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/contact-mic-preamp.loopsketch"),
+                                &error))
+        << error.toStdString();
+    QTest::qWait(50);
+    EXPECT_TRUE(window.readout()->bannerText().isEmpty());
+    ASSERT_TRUE(window.openFile(
+        QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error));
+    QTest::qWait(200);
+    EXPECT_TRUE(
+        window.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-unstable.png"));
 }
 
 INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,

@@ -298,6 +298,49 @@ int pageCount(const QString &pdf)
     return m.hasMatch() ? m.captured(1).toInt() : -1;
 }
 
+// An unstable design's sheet says UNSTABLE on its first page, above the sketch, with the
+// poles of analyze --json; the closed-loop metrics read unstable and every spec fails.
+TEST(ReviewSheetUnstable, FirstPageSaysUnstableWithThePoles)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString design
+        = QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch");
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const CliRun r = loopsketch({"export", design, "--pdf", pdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const CliRun first
+        = run(QStringLiteral("pdftotext"),
+              {QStringLiteral("-f"), "1", "-l", "1", QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(first.exitCode, 0) << first.err.toStdString();
+    const std::string page = first.out.toStdString();
+    const auto unstable = page.find("UNSTABLE");
+    ASSERT_NE(unstable, std::string::npos) << page;
+    EXPECT_LT(unstable, page.find("Sketch"));
+    EXPECT_THAT(page, HasSubstr("2 closed-loop poles in the right half-plane"));
+    auto loaded = loopsketch::loadDesign(design.toStdString());
+    ASSERT_TRUE(loaded.ok());
+    auto analysis = loopsketch::analyze(*loaded);
+    ASSERT_TRUE(analysis.ok());
+    // The sheet writes each right-half-plane pole's real part with three digits.
+    ASSERT_EQ(analysis->rhpPoles, 2);
+    for (const loopsketch::ClosedLoopPole &p : analysis->poles) {
+        if (p.s.real() > 0) {
+            EXPECT_THAT(page, HasSubstr(loopsketch::formatEngineering(p.s.real(), 3)));
+        }
+    }
+    const CliRun all = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    const std::string sheet = all.out.toStdString();
+    EXPECT_THAT(sheet, HasSubstr("fail: unstable"));
+    EXPECT_THAT(sheet, HasSubstr("No noise rms: the loop is unstable."));
+    EXPECT_THAT(sheet, ::testing::Not(HasSubstr("nan")));
+    EXPECT_THAT(sheet, ::testing::Not(HasSubstr(" pass")));
+    const CliRun png = run(QStringLiteral("pdftoppm"),
+                           {QStringLiteral("-f"), "1", "-l", "1", "-r", "60", "-png", pdf,
+                            QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/sheet-unstable")});
+    EXPECT_EQ(png.exitCode, 0) << png.err.toStdString();
+}
+
 TEST(ReviewSheetSpread, StatesTrialsSeedAndTheNumbersOfSpreadJson)
 {
     QTemporaryDir tmp;

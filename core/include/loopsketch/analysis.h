@@ -39,12 +39,20 @@ struct ReturnRatioSummary
     OptionalNumber loopGain, gainInf, feedthrough, gain, zIn, zOut;
 };
 
+/// One phase crossing of the loop gain (unwrapped phase at an odd multiple of -180 deg).
+struct GainMargin
+{
+    double db = 0; ///< -20 log10 |T|: positive, the gain may rise by this much; negative, fall
+    double frequencyHz = 0;
+};
+
 struct Margins
 {
     OptionalNumber crossoverHz; ///< |T| = 1 (the one with the worst phase margin)
     OptionalNumber phaseMarginDeg; ///< 180 + unwrapped phase of T at crossover, worst
-    OptionalNumber gainMarginDb; ///< -20 log10 |T| where the phase reaches -180
-    OptionalNumber phaseCrossoverHz;
+    OptionalNumber gainMarginDb; ///< of gainMargins, the one nearest 0 dB (least margin)
+    OptionalNumber phaseCrossoverHz; ///< its frequency
+    std::vector<GainMargin> gainMargins; ///< every phase crossing, ascending in frequency
 };
 
 struct ClosedLoopPole
@@ -59,7 +67,8 @@ struct StepResult
 {
     OptionalNumber riseTimeS; ///< 10 % to 90 % of the final value
     OptionalNumber overshootPct; ///< (peak - final) / final
-    OptionalNumber settlingTimeS; ///< last time outside +-1 % of the final value
+    OptionalNumber settlingTimeS; ///< last time outside +-settlingBand of the final value
+    double settlingBand = kDefaultSettlingBand; ///< fraction of the final value
     std::vector<double> timeS;
     std::vector<double> response; ///< output per unit source step
     double finalValue = 0;
@@ -106,8 +115,17 @@ struct Analysis
     std::optional<TwoPortSummary> twoPort;
     ReturnRatioSummary returnRatio;
     Margins margins;
+    /// False when a closed-loop pole lies in the right half-plane or on the imaginary
+    /// axis; bandwidth, peaking, step metrics and noise rms are then absent.
+    bool stable = true;
+    int rhpPoles = 0; ///< closed-loop poles with Re s > 0
+    std::string closedLoopReason; ///< why the closed-loop quantities are absent
     OptionalNumber bandwidthHz; ///< closed-loop (exact) -3 dB
-    OptionalNumber peakingDb; ///< closed-loop peak above the DC gain, >= 0
+    OptionalNumber peakingDb; ///< peak of |G| above |G(0)| within the passband, >= 0
+    OptionalNumber peakingHz; ///< its frequency; absent when there is no peak
+    /// A rise of |G| above the passband from feedthrough: its level relative to |G(0)|
+    /// (dB) and, when it peaks inside the examined range, its frequency.
+    OptionalNumber feedthroughDb, feedthroughHz;
     std::vector<ClosedLoopPole> poles;
     StepResult step;
     OptionalNumber desensitivityDb; ///< 20 log10 |1 + T| at DC

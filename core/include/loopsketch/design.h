@@ -19,6 +19,8 @@ inline constexpr std::string_view kDesignSchema = "loopsketch.design/1";
 inline constexpr std::string_view kGroundNode = "0";
 /// Temperature of every resistor when the design gives none: 25 °C, in kelvin.
 inline constexpr double kDefaultTemperatureK = 298.15;
+/// The step-settling band (fraction of the final value) when the design gives none.
+inline constexpr double kDefaultSettlingBand = 0.01;
 
 enum class PartType { Resistor, Capacitor, Inductor, VSource, ISource, GainBlock, Load };
 
@@ -196,12 +198,17 @@ struct Design
     /// Kelvin; written as a number of kelvin or a text such as "300 K" or "25 °C".
     /// Absent: kDefaultTemperatureK.
     std::optional<Value> temperature;
+    /// Fraction of the final value within which the step counts as settled; written as a
+    /// fraction or a percentage ("0.1%"). Absent: kDefaultSettlingBand.
+    std::optional<Value> settlingBand;
     /// The band the noise rms is integrated over, [f1, f2] Hz. Absent: from the sweep start
     /// until the integral has converged (see analyzeNoise()).
     std::optional<NoiseBand> noiseBand;
 
     /// The resistors' temperature in kelvin (the default when the file gives none).
     double temperatureK() const;
+    /// The settling band as a fraction (the default when the file gives none).
+    double settlingBandFraction() const;
 
     const Part *findPart(std::string_view id) const;
     Part *findPart(std::string_view id);

@@ -7,6 +7,7 @@
 #include "loopsketch/design.h"
 #include "loopsketch/reducedsystem.h"
 #include "loopsketch/result.h"
+#include "loopsketch/stepmodel.h"
 #include "loopsketch/topology.h"
 #include "loopsketch/twoport.h"
 
@@ -70,14 +71,24 @@ public:
     /// ReducedSystem::sweepEntries), so this is much faster than at() per frequency.
     LoopCurves sweep(std::span<const Complex> s) const;
 
+    /// T_rr alone and the exact gain alone at each complex frequency of `s` (rad/s): the
+    /// loop and the closed loop beyond the sweep.
+    std::vector<Complex> loopGainOver(std::span<const Complex> s) const;
+    std::vector<Complex> gainOver(std::span<const Complex> s) const;
+
     /// Fast single quantities for root finding.
     Complex loopGainAt(Complex s) const;
     Complex gainAt(Complex s) const;
 
     /// Closed-loop natural frequencies (rad/s) of the exact circuit.
     std::vector<Complex> closedLoopPoles() const;
+    /// Natural frequencies (rad/s) of the loop with the gain block's controlled source
+    /// test-driven: the poles of the loop gain T_rr.
+    std::vector<Complex> loopGainPoles() const;
     /// Unit-step response of the exact output at `times` (s).
     Result<std::vector<double>> stepResponse(const std::vector<double> &times) const;
+    /// The exact output's step response as a state space, exact at any time.
+    Result<StepModel> stepModel() const;
 
 private:
     struct TwoPortSystems;

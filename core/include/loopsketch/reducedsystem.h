@@ -108,6 +108,9 @@ public:
 
     const Eigen::MatrixXd &gr() const { return m_gr; }
     const Eigen::MatrixXd &cr() const { return m_cr; }
+    const Eigen::MatrixXd &br() const { return m_br; }
+    const Eigen::MatrixXd &lr() const { return m_lr; }
+    const Eigen::MatrixXd &dr() const { return m_dr; }
 
 private:
     Eigen::MatrixXd m_gr; ///< k x k

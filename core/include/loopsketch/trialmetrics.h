@@ -25,7 +25,11 @@ struct TrialMetrics
     OptionalNumber gain; ///< closed-loop DC gain of the exact solution, signed, gain unit
     OptionalNumber bandwidthHz; ///< closed-loop -3 dB frequency, Hz
     OptionalNumber phaseMarginDeg; ///< worst phase margin over all loop crossovers, degrees
+    bool stable = true; ///< no closed-loop pole in the right half-plane or on the jw axis
 };
+
+/// The metrics of a full analysis, for the spec check.
+TrialMetrics trialMetricsOf(const Analysis &analysis);
 
 /// Log-spaced grid over the design's sweep with `pointsPerDecade` (>= 1) points per decade,
 /// start and stop included (Hz).
@@ -44,11 +48,14 @@ using ProgressCallback = std::function<void(std::size_t done, std::size_t total)
 
 /// Which of the design's specs a trial meets. A missing bandwidth (no -3 dB point inside the
 /// sweep) meets bandwidth_min when the sweep ends above it; a missing phase margin (no
-/// crossover) fails phase_margin_min_deg.
+/// crossover) fails phase_margin_min_deg. An unstable trial fails every spec it has, with
+/// the reason "unstable", and fails all() even without specs.
 struct SpecCheck
 {
     bool gain = true, bandwidth = true, phaseMargin = true;
-    bool all() const { return gain && bandwidth && phaseMargin; }
+    bool stable = true;
+    std::string reason; ///< "unstable" when every spec fails for that; else empty
+    bool all() const { return stable && gain && bandwidth && phaseMargin; }
 };
 SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &metrics);
 
