@@ -218,6 +218,8 @@ std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a
               {"margins.phase_margin_deg", "\u00B0"},
               {"margins.gain_margin_db", "dB"},
               {"margins.phase_crossover_hz", "Hz"},
+              {"margins.gain_margins_db[].db", "dB"},
+              {"margins.gain_margins_db[].frequency_hz", "Hz"},
               {"closed_loop.bandwidth_hz", "Hz"},
               {"closed_loop.peaking_db", "dB"},
               {"closed_loop.poles[].re", "rad/s"},
@@ -228,6 +230,9 @@ std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a
               {"closed_loop.step.rise_time_s", "s"},
               {"closed_loop.step.overshoot_pct", "%"},
               {"closed_loop.step.settling_time_s", "s"},
+              {"closed_loop.feedthrough_db", "dB"},
+              {"closed_loop.step.settling_band", ratio},
+              {"closed_loop.step.final_value", g},
               {"desensitivity_db", "dB"},
               {"sensitivity.*", "%/%"}});
     if (a.noise && !a.noise->frequenciesHz.empty()) {
