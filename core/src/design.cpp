@@ -13,7 +13,7 @@ namespace {
 
 constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
-// The table behind DESIGN.md §4. Terminals and fields are listed in file order; the
+// The table behind core/README.md §6.2 (parts). Terminals and fields are listed in file order; the
 // serializer writes them in this order.
 //
 // Gain block: `gbw` (gain-bandwidth product, Hz) places the FIRST pole at gbw / |gain|.

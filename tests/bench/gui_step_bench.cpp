@@ -1,5 +1,5 @@
 // One E-series wheel step on the feedback resistor, through the real event path, to every
-// panel and the Readout repainted: DESIGN.md §7 asks for under one 60 Hz frame (16 ms).
+// panel and the Readout repainted: ui/README.md §3 asks for under one 60 Hz frame (16 ms).
 
 #include "designdocument.h"
 #include "mainwindow.h"

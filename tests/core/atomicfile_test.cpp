@@ -3,7 +3,7 @@
 // behind and the message names the path. The faults are real ones made in a forked child
 // (faultinjection.h): a 64 KiB tmpfs that runs out of space and a tmpfs remounted read-only,
 // which refuses root too. The expected behaviour is Loopsketch's own save contract
-// (DESIGN.md §4, atomic replace); errno texts are glibc's strerror wording.
+// (core/README.md §1, atomic replace); errno texts are glibc's strerror wording.
 
 #include "faultinjection.h"
 

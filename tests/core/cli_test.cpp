@@ -205,7 +205,7 @@ class CliMalformed : public ::testing::TestWithParam<MalformedCase>
 {
 };
 
-// Exit codes and messages: DESIGN.md §6 (0 ok, 2 bad input naming file, part and field).
+// Exit codes and messages: core/README.md §9 (0 ok, 2 bad input naming file, part and field).
 TEST_P(CliMalformed, ExitsTwoNamingFileAndField)
 {
     const MalformedCase &c = GetParam();
@@ -344,7 +344,7 @@ double jsonNumber(const Json &j)
     return j.is_number() ? j.get<double>() : std::nan("");
 }
 
-// Keys of schema loopsketch.analysis/1: DESIGN.md §6.
+// Keys of schema loopsketch.analysis/1: core/README.md §7.
 void expectAnalysisSchema(const Json &j)
 {
     EXPECT_EQ(at(j, "schema"), "loopsketch.analysis/1");
@@ -808,6 +808,99 @@ TEST(Cli, HelpExitsZero)
         EXPECT_THAT(r.out, HasSubstr("analyze FILE"));
         EXPECT_THAT(r.out, HasSubstr("sweep FILE --csv OUT"));
     }
+}
+
+// ----- README's command-line synopsis against --help -----------------------------------
+// Common practice: the README's "Command line" block states the same command lines as
+// `loopsketch --help`, so a new option or command changes both or this test fails.
+
+/// The command lines of a usage text: a synopsis starts at a line whose first word is
+/// "loopsketch" and continues over the following lines that start (after indentation) with
+/// an option, "[" or "-"; each line's description, after the first run of two or more
+/// spaces, is dropped. Words are joined by single spaces.
+std::vector<std::string> commandSynopses(const std::string &text)
+{
+    std::vector<std::string> synopses;
+    std::istringstream in(text);
+    std::string line;
+    bool open = false;
+    while (std::getline(in, line)) {
+        const std::size_t first = line.find_first_not_of(' ');
+        if (first == std::string::npos) {
+            open = false;
+            continue;
+        }
+        std::string body = line.substr(first);
+        const bool starts = body.rfind("loopsketch", 0) == 0;
+        const bool continues = open && (body.front() == '[' || body.front() == '-');
+        if (!starts && !continues) {
+            open = false; // a description line ends the synopsis
+            continue;
+        }
+        if (const std::size_t gap = body.find("  "); gap != std::string::npos)
+            body.resize(gap);
+        std::istringstream words(body);
+        std::string joined, w;
+        while (words >> w)
+            joined.append(joined.empty() ? "" : " ").append(w);
+        if (starts)
+            synopses.push_back(joined);
+        else
+            synopses.back().append(" ").append(joined);
+        open = true;
+    }
+    return synopses;
+}
+
+/// The fenced block under README.md's "## Command line" heading.
+std::string readmeCommandBlock(const std::string &readme)
+{
+    const std::size_t heading = readme.find("\n## Command line\n");
+    if (heading == std::string::npos)
+        return {};
+    const std::size_t open = readme.find("```", heading);
+    if (open == std::string::npos)
+        return {};
+    const std::size_t start = readme.find('\n', open);
+    const std::size_t close = readme.find("\n```", start);
+    if (start == std::string::npos || close == std::string::npos)
+        return {};
+    return readme.substr(start + 1, close - start);
+}
+
+TEST(CliSynopsis, ExtractsCommandLinesAndDropsDescriptions)
+{
+    const std::string text = "Usage:\n"
+                             "  loopsketch run FILE [--x N]   does a thing\n"
+                             "                 [--y]\n"
+                             "                                 more words\n"
+                             "                                 [not an option line]\n"
+                             "  loopsketch --help\n";
+    EXPECT_EQ(commandSynopses(text),
+              (std::vector<std::string>{"loopsketch run FILE [--x N] [--y]", "loopsketch --help"}));
+}
+
+TEST(CliSynopsis, ReadmeCommandLineBlockMatchesHelp)
+{
+    const CliRun help = runCli({"--help"});
+    ASSERT_TRUE(help.exited);
+    ASSERT_EQ(help.exitCode, 0);
+    std::vector<std::string> fromHelp = commandSynopses(help.out);
+    const std::string block = readmeCommandBlock(readText(LOOPSKETCH_README));
+    ASSERT_FALSE(block.empty()) << "README.md has no fenced block under \"## Command line\"";
+    std::vector<std::string> fromReadme = commandSynopses(block);
+    // A build without the GUI has no `export` command and leaves it out of --help; the
+    // README documents the full program, so its export line is compared only when the
+    // binary has the command.
+    const CliRun exportProbe = runCli({"export"});
+    ASSERT_TRUE(exportProbe.exited);
+    if (exportProbe.err.find("unknown command") != std::string::npos)
+        std::erase_if(fromReadme,
+                      [](const std::string &s) { return s.rfind("loopsketch export", 0) == 0; });
+    // analyze, sweep, spread, suggest, the GUI line and --help at the very least
+    EXPECT_GE(fromHelp.size(), 6U) << help.out;
+    EXPECT_EQ(fromReadme, fromHelp) << "README.md's \"Command line\" block has drifted from "
+                                       "`loopsketch --help`; copy the command lines over";
 }
 
 TEST(Cli, VersionPrintsTheProjectVersion)

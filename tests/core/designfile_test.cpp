@@ -1,6 +1,6 @@
 // Design files: every malformed file is rejected with a message naming file, part and field;
 // the example designs load, validate and save back byte-identical; saves are atomic.
-// The rules checked here are Loopsketch's own file format (DESIGN.md §4), so the expected
+// The rules checked here are Loopsketch's own file format (core/README.md §6), so the expected
 // texts come from that format's definition, not from an outside source.
 
 #include "loopsketch/design.h"

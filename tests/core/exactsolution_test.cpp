@@ -446,7 +446,7 @@ TEST(ExactSolution, SinglePoleFollowerBandwidthIsPoleTimesOnePlusGain)
     EXPECT_LT(relErr(*an.bandwidthHz, fp * (1 + a0)), 1e-6);
 }
 
-// ----- definitions of z_in and z_out (DESIGN.md §5) ----------------------------------------
+// ----- definitions of z_in and z_out (core/README.md §3) ---------------------------------
 
 // z_in is seen by the source without its own r_series; z_out is seen by the load with the
 // source zeroed (r_series kept) and without the load. So r_series must not move z_in, RL

@@ -411,7 +411,7 @@ TEST(FeedbackTrade, VoltageGainTendsToMinusRfOverRs)
     EXPECT_LT(previous, 1e-5);
 }
 
-// Common practice (and DESIGN.md section 5): shunt mixing divides the A circuit's input
+// Common practice (and core/README.md §4): shunt mixing divides the A circuit's input
 // impedance by 1 + T. The A circuit of the transresistance stage, by hand: the source (no
 // r_parallel), RF to ground (port 2 shorted) and r_in in parallel.
 TEST(FeedbackTrade, ShuntMixingDividesInputImpedance)
@@ -439,7 +439,7 @@ TEST(FeedbackTrade, ShuntMixingDividesInputImpedance)
     }
 }
 
-// Common practice (and DESIGN.md section 5): series mixing multiplies the A circuit's input
+// Common practice (and core/README.md §4): series mixing multiplies the A circuit's input
 // impedance by 1 + T. The A circuit of Sedra & Smith's series-shunt circuit, by hand:
 // Rs + Rid + R1 || R2 (port 1 with port 2 shorted); the source's Rs is removed again.
 TEST(FeedbackTrade, SeriesMixingMultipliesInputImpedance)
@@ -1131,7 +1131,7 @@ template<typename F> double bisect(F fn, double lo, double hi)
 } // namespace
 
 // The crossover and phase-crossover frequencies are refined by root finding on the model
-// (DESIGN.md section 5): |T(fc)| = 1 and arg T(fpc) = -180 deg to 1e-9, better than any
+// (core/README.md §4, Metrics): |T(fc)| = 1 and arg T(fpc) = -180 deg to 1e-9, better than any
 // grid frequency, and equal to the roots of the rational loop gain found by hand.
 TEST(FeedbackMargins, CrossingsAreRefinedOnTheModel)
 {

@@ -217,7 +217,7 @@ def main():
 # ----- noise --------------------------------------------------------------------------------
 #
 # An independent nodal model of the design's noise, written from the part definitions in
-# DESIGN.md section 4 and never reading Loopsketch's noise output: complex modified nodal
+# core/README.md section 6.2 and never reading Loopsketch's noise output: complex modified nodal
 # analysis per frequency (numpy.linalg.solve), one forward solve per noise source (not the
 # adjoint), the gain block as a voltage-controlled voltage source whose controlling voltage is
 # v(in_p) + e_n - v(in_n) (e_n in series with the non-inverting input), r_in and c_in between

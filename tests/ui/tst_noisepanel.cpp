@@ -350,7 +350,7 @@ TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
     ASSERT_NE(panel, nullptr);
     const Analysis &a = *window.document()->analysis();
     ASSERT_TRUE(a.noise.has_value()) << a.noiseProblem;
-    // "V/A": output density in V/√Hz, input-referred in A/√Hz (DESIGN.md §5 gain units).
+    // "V/A": output density in V/√Hz, input-referred in A/√Hz (core/README.md §3, signs and gains).
     const QString unit = toQString(a.gainUnit);
     const QString out = unit.section('/', 0, 0), in = unit.section('/', 1, 1);
     QStringList titles;

@@ -8,7 +8,7 @@
 // part-way) or read-only (a tmpfs remounted read-only in this process's private mount
 // namespace, which stops root too) must show a message naming the path, keep the file
 // byte-identical, leave no temporary file and keep the document modified.
-// The expected behaviour is Loopsketch's own (DESIGN.md: atomic saves, recovery offer);
+// The expected behaviour is Loopsketch's own (ui/README.md §5: atomic saves, recovery offer);
 // the one value checked is RF's next E24 step after 1.0 MOhm, 1.1 MOhm (IEC 60063, E24).
 
 #include "../core/faultinjection.h"

@@ -340,7 +340,7 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
         << error.toStdString();
     auto *dock = window.findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
     ASSERT_NE(dock, nullptr);
-    EXPECT_EQ(dock->windowTitle(), QStringLiteral("Spread")); // DESIGN.md §2
+    EXPECT_EQ(dock->windowTitle(), QStringLiteral("Spread")); // ui/README.md §4 (panel names)
     dock->show();
     dock->raise();
     SpreadPanel *panel = window.spreadPanel();

@@ -1,6 +1,6 @@
 #pragma once
 
-// The exact solution: the full circuit solved as it stands (DESIGN.md §5). LoopModel
+// The exact solution: the full circuit solved as it stands (core/README.md §4). LoopModel
 // computes it; this holds its DC values and curves.
 
 #include "loopsketch/design.h"

@@ -1,8 +1,8 @@
 #pragma once
 
-// Feedback topology from the connections alone (DESIGN.md §5): which passive parts form the
-// feedback network, where its two ports sit, and how it mixes at the input and samples at
-// the output.
+// Feedback topology from the connections alone (core/README.md §4, Topology): which passive
+// parts form the feedback network, where its two ports sit, and how it mixes at the input and
+// samples at the output.
 
 #include "loopsketch/design.h"
 
