@@ -337,6 +337,7 @@ void PlotPanel::rebuildOverlays()
             if (!source.analysis || source.analysis->frequenciesHz.empty())
                 continue;
             const auto &f = source.analysis->frequenciesHz;
+            bool firstOfSource = true;
             for (OverlayLine &line : overlayLines(*source.analysis)) {
                 const QString name = source.name + QStringLiteral(": ") + line.quantity;
                 QLineSeries *s = used < m_overlaySeries.size() ? m_overlaySeries[used] : nullptr;
@@ -369,13 +370,15 @@ void PlotPanel::rebuildOverlays()
                     s->setPen(pen);
                 replaceThinned(s, line.points, std::log10(f.front()), std::log10(f.back()),
                                line.format);
-                // Every overlay curve in the legend as "candidate: quantity", so a reader can
-                // tell which quantity each dashed curve is.
+                // One legend entry per candidate, its name in its colour (one entry per curve
+                // is elided past reading in the panel's width); the series keep their full
+                // "candidate: quantity" names for the cursor text.
                 for (QLegendMarker *m : chart()->legend()->markers(s)) {
-                    m->setVisible(true);
-                    if (m->label() != name)
-                        m->setLabel(name);
+                    m->setVisible(firstOfSource);
+                    if (firstOfSource && m->label() != source.name)
+                        m->setLabel(source.name);
                 }
+                firstOfSource = false;
                 ++used;
             }
         }
