@@ -688,7 +688,11 @@ void DesignDocument::recompute()
         return;
     }
     m_analysis = std::move(result).value();
-    m_diagnostics.clear();
+    // Where the numbers cannot be trusted to full accuracy, the status line says so.
+    QStringList warnings;
+    for (const Diagnostic &w : m_analysis->warnings)
+        warnings << tr("Warning: %1").arg(toQString(w.toString()));
+    m_diagnostics = warnings.join(QLatin1Char('\n'));
     emit diagnosticsChanged(m_diagnostics);
     emit analysisChanged(*m_analysis);
 }

@@ -40,7 +40,11 @@ QString signedPct(const OptionalNumber &v)
 
 Readout::Readout(QWidget *parent) : QWidget(parent)
 {
-    auto *row = new QHBoxLayout(this);
+    auto *column = new QVBoxLayout(this);
+    column->setContentsMargins(0, 0, 0, 0);
+    column->setSpacing(0);
+    auto *row = new QHBoxLayout;
+    column->addLayout(row);
     row->setContentsMargins(10, 6, 10, 6);
     row->setSpacing(18);
     // An unstable loop is the first thing the strip says: white on red, the poles below.
@@ -65,6 +69,12 @@ Readout::Readout(QWidget *parent) : QWidget(parent)
         m_cells.push_back({title, value});
     }
     row->addStretch(1);
+    m_warnings = new QLabel(this);
+    m_warnings->setStyleSheet(QStringLiteral("color: #b3261e; padding: 0 10px 6px 10px;"));
+    m_warnings->setWordWrap(true);
+    m_warnings->setTextInteractionFlags(Qt::TextSelectableByMouse);
+    m_warnings->hide();
+    column->addWidget(m_warnings);
     setAutoFillBackground(true);
     QPalette p = palette();
     p.setColor(QPalette::Window, QColor(0xf3, 0xf5, 0xf8));
@@ -240,6 +250,28 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                     : a.noise ? tr("no integrated noise: the gain is zero within the sweep")
                               : toQString(a.noiseProblem));
     }
+
+    // Numbers whose accuracy the solver could not assure, or values no real part has.
+    if (a.warnings.empty()) {
+        m_warnings->hide();
+        m_warnings->clear();
+    } else {
+        QStringList all;
+        for (const Diagnostic &w : a.warnings)
+            all << toQString(w.toString());
+        QString text = tr("Warning: %1").arg(all.front());
+        if (all.size() > 1)
+            text += tr("  (and %n more)", nullptr, int(all.size() - 1));
+        m_warnings->setText(text);
+        m_warnings->setToolTip(all.join(QLatin1Char('\n')));
+        m_warnings->show();
+    }
+}
+
+QString Readout::warningText() const
+{
+    return m_warnings->isVisible() || !m_warnings->text().isEmpty() ? m_warnings->text()
+                                                                    : QString();
 }
 
 QString Readout::plainText() const
@@ -247,6 +279,8 @@ QString Readout::plainText() const
     QStringList lines;
     for (const Cell &c : m_cells)
         lines << c.title->text() + QStringLiteral(": ") + c.value->text();
+    if (!m_warnings->text().isEmpty())
+        lines << m_warnings->text();
     return lines.join(QLatin1Char('\n'));
 }
 

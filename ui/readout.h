@@ -21,10 +21,13 @@ public:
     explicit Readout(QWidget *parent = nullptr);
 
     void showAnalysis(const Analysis &analysis, const Design &design);
-    /// All cells as "title: value" lines (for tests and the clipboard).
+    /// All cells as "title: value" lines, then the warnings line when shown (for tests and
+    /// the clipboard).
     QString plainText() const;
     /// The value text of the cell with `title`, empty when there is none.
     QString cellText(const QString &title) const;
+    /// The warnings line ("" when the analysis has no warnings).
+    QString warningText() const;
     /// The instability banner's text; empty when the loop is stable.
     QString bannerText() const;
 
@@ -39,6 +42,7 @@ private:
                  int verdict = 0);
 
     std::vector<Cell> m_cells;
+    QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns
     QLabel *m_banner = nullptr; ///< "UNSTABLE" and the poles that make it so
 };
 

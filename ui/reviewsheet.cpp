@@ -1511,6 +1511,18 @@ void plotsSection(SheetWriter &w, const Analysis &a)
     }
 }
 
+/// Numbers the solver could not assure, or values no real part has: said before any number.
+void warningsSection(SheetWriter &w, const Analysis &a)
+{
+    if (a.warnings.empty())
+        return;
+    w.heading(QStringLiteral("Warnings"));
+    const QFont f = sheetFont(kBodyPt);
+    for (const Diagnostic &d : a.warnings)
+        w.paragraph(q(d.toString()), f);
+    w.advance(1);
+}
+
 void cautionsSection(SheetWriter &w)
 {
     w.heading(QStringLiteral("What the model does not cover"));
@@ -1523,6 +1535,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
 {
     SheetWriter w(p, device, pdf, pageMm, k, totalPages);
     titleBlock(w, d, a, fileName, spread);
+    warningsSection(w, a);
     sketchSection(w, d);
     partsSection(w, d);
     topologySection(w, a);

@@ -3,6 +3,7 @@
 #include "loopsketch/circuit.h"
 #include "loopsketch/loopcircuit.h"
 #include "loopsketch/metrics.h"
+#include "loopsketch/partlimits.h"
 #include "loopsketch/trialmetrics.h"
 
 #include "noisesweep.h"
@@ -132,6 +133,9 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     }
     const LoopModel &model = *built;
     Analysis a;
+    a.warnings = partLimitWarnings(design);
+    for (const Diagnostic &w : model.warnings())
+        a.warnings.push_back(w);
     a.title = design.title;
     a.gainUnit = gainUnit(design);
     a.frequenciesHz = design.sweep.frequencies();

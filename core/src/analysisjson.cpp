@@ -328,6 +328,12 @@ std::string analysisToJson(const Analysis &a)
     j["noise"] = noiseJson(a);
     if (!a.noise && !a.noiseProblem.empty())
         j["noise_problem"] = a.noiseProblem;
+    Json warnings = Json::array();
+    for (const Diagnostic &w : a.warnings)
+        warnings.push_back({{"part", w.part.empty() ? Json(nullptr) : Json(w.part)},
+                            {"field", w.field.empty() ? Json(nullptr) : Json(w.field)},
+                            {"message", w.message}});
+    j["warnings"] = warnings;
     j["specs"] = specsJson(a);
     Json units = Json::object();
     for (const auto &[key, unit] : analysisUnits(a))
@@ -412,6 +418,12 @@ std::string analysisToText(const Analysis &a, const Design *design)
         if (!design->revision.empty())
             os << "Revision: " << design->revision << "\n\n";
         os << partsToText(*design) << "\n";
+    }
+    if (!a.warnings.empty()) {
+        os << "Warnings\n";
+        for (const Diagnostic &w : a.warnings)
+            os << "  " << w.toString() << "\n";
+        os << "\n";
     }
     if (a.topology)
         os << "Topology: " << a.topology->name() << " · " << toString(a.topology->parameters())

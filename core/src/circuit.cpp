@@ -2,6 +2,7 @@
 
 #include <Eigen/LU>
 
+#include <algorithm>
 #include <cmath>
 #include <map>
 #include <numbers>
@@ -23,6 +24,31 @@ bool isGround(const std::string &node)
 /// Sparse linear combination of unknowns, used to chain the gain block's sections.
 using Combination = std::vector<std::pair<int, double>>;
 
+/// A node in the user's words. Internal nodes carry the part id before a colon ("U1:e",
+/// "SIG:int", "RL:i"); copies of the feedback network a prefix ("A.in:"); a split input
+/// node a "#in" suffix.
+std::string nodeLabel(std::string name)
+{
+    for (const char *prefix : {"A.in:", "A.out:"})
+        if (name.rfind(prefix, 0) == 0)
+            name = name.substr(std::string_view(prefix).size());
+    if (const auto hash = name.find('#'); hash != std::string::npos)
+        name = name.substr(0, hash);
+    const auto colon = name.find(':');
+    if (colon == std::string::npos)
+        return "node " + name;
+    const std::string part = name.substr(0, colon), what = name.substr(colon + 1);
+    if (what == "e")
+        return "the output of " + part + " inside its r_out";
+    if (what == "int")
+        return "the inside of " + part + " behind its r_series";
+    if (what == "i")
+        return "the current-sense node of " + part;
+    if (what == "en+")
+        return "the input of " + part + " behind its noise source";
+    return "a node inside " + part;
+}
+
 class Stamper
 {
 public:
@@ -32,7 +58,7 @@ public:
     {
         for (const auto &e : m_netlist.elements) {
             if (!std::isfinite(e.value))
-                return fail(e.name, "value is not a finite number");
+                return fail(e, "value is not a finite number");
             node(e.a);
             node(e.b);
         }
@@ -41,37 +67,43 @@ public:
             node(cs.inN);
             node(cs.out);
         }
-        const int nodeCount = static_cast<int>(m_sys.nodes.size());
-        for (const auto &n : m_sys.nodes)
+        for (const auto &n : m_sys.nodes) {
             m_sys.unknowns.push_back("v(" + n + ")");
+            m_sys.unknownOrigins.push_back({UnknownOrigin::Kind::Node, -1, 0});
+        }
         // Branch currents and states are numbered after the nodes.
         for (const auto &e : m_netlist.elements) {
-            if (e.kind == NetlistElement::Kind::Inductor
-                || e.kind == NetlistElement::Kind::VoltageSource) {
+            if (hasBranchCurrent(e)) {
                 m_branch[e.name] = static_cast<int>(m_sys.unknowns.size());
                 m_sys.unknowns.push_back("i(" + e.name + ")");
+                m_sys.unknownOrigins.push_back(
+                    {UnknownOrigin::Kind::Current, origin(e.part, e.field), 0});
             }
         }
         for (std::size_t c = 0; c < m_netlist.controlled.size(); ++c) {
             const auto &cs = m_netlist.controlled[c];
+            const int who = origin(cs.part, {});
             m_controlledBranch.push_back(static_cast<int>(m_sys.unknowns.size()));
             m_sys.unknowns.push_back("i(" + cs.out + ".source)");
+            m_sys.unknownOrigins.push_back({UnknownOrigin::Kind::SourceCurrent, who, 0});
             std::vector<int> states;
             for (std::size_t p = 0; p < cs.polesHz.size(); ++p) {
                 states.push_back(static_cast<int>(m_sys.unknowns.size()));
                 m_sys.unknowns.push_back("x(" + cs.out + ".p" + std::to_string(p + 1) + ")");
+                m_sys.unknownOrigins.push_back(
+                    {UnknownOrigin::Kind::State, who, static_cast<int>(p) + 1});
             }
             m_states.push_back(states);
         }
         const int n = static_cast<int>(m_sys.unknowns.size());
-        (void)nodeCount;
         m_sys.G = Eigen::MatrixXd::Zero(n, n);
         m_sys.C = Eigen::MatrixXd::Zero(n, n);
         m_sys.B = Eigen::MatrixXd::Zero(n, m_netlist.inputCount);
 
         for (const auto &e : m_netlist.elements) {
+            m_origin = origin(e.part, e.field);
             if (auto bad = stampElement(e); !bad.empty())
-                return fail(e.name, bad);
+                return fail(e, bad);
         }
         std::vector<Combination> returns;
         for (std::size_t c = 0; c < m_netlist.controlled.size(); ++c) {
@@ -94,7 +126,7 @@ public:
             case NetlistOutput::Kind::BranchCurrent: {
                 auto it = m_branch.find(out.a);
                 if (it == m_branch.end())
-                    return fail(out.a,
+                    return fail(out.a, {},
                                 "output asks for the current of an element without a "
                                 "branch current");
                 m_sys.L(row, it->second) = 1.0;
@@ -102,7 +134,7 @@ public:
             }
             case NetlistOutput::Kind::ControlledReturn:
                 if (returns.empty())
-                    return fail(out.a, "output asks for a controlled source that is not there");
+                    return fail(out.a, {}, "output asks for a controlled source that is not there");
                 for (auto [i, coeff] : returns.front())
                     m_sys.L(row, i) += coeff;
                 break;
@@ -112,9 +144,33 @@ public:
     }
 
 private:
-    Diagnostics fail(const std::string &element, const std::string &message) const
+    Diagnostics fail(const std::string &part, const std::string &field,
+                     const std::string &message) const
     {
-        return Diagnostics{Diagnostic{{}, element, {}, message}};
+        return Diagnostics{Diagnostic{{}, part, field, message}};
+    }
+
+    /// An element's failure in the user's words: its part and field when it has them.
+    Diagnostics fail(const NetlistElement &e, const std::string &message) const
+    {
+        return e.part.empty() ? fail(e.name, {}, message) : fail(e.part, e.field, message);
+    }
+
+    static bool hasBranchCurrent(const NetlistElement &e)
+    {
+        return e.kind == NetlistElement::Kind::Inductor
+            || e.kind == NetlistElement::Kind::VoltageSource
+            || (e.kind == NetlistElement::Kind::Resistor && std::isfinite(e.value) && e.value > 0
+                && e.value < kImpedanceFormBelowOhms);
+    }
+
+    int origin(const std::string &part, const std::string &field)
+    {
+        for (std::size_t i = 0; i < m_sys.origins.size(); ++i)
+            if (m_sys.origins[i].part == part && m_sys.origins[i].field == field)
+                return static_cast<int>(i);
+        m_sys.origins.push_back({part, field});
+        return static_cast<int>(m_sys.origins.size()) - 1;
     }
 
     void node(const std::string &name)
@@ -135,8 +191,11 @@ private:
 
     void add(Eigen::MatrixXd &m, int r, int c, double v)
     {
-        if (r >= 0 && c >= 0)
-            m(r, c) += v;
+        if (r < 0 || c < 0)
+            return;
+        m(r, c) += v;
+        if (v != 0.0 && (&m == &m_sys.G || &m == &m_sys.C))
+            m_sys.stamps.push_back({m_origin, r, c, v, &m == &m_sys.C});
     }
 
     void stampAdmittance(Eigen::MatrixXd &m, int a, int b, double y)
@@ -155,7 +214,16 @@ private:
         case NetlistElement::Kind::Resistor:
             if (!(e.value > 0))
                 return "resistance must be greater than zero";
-            stampAdmittance(m_sys.G, a, b, 1.0 / e.value);
+            if (auto it = m_branch.find(e.name); it != m_branch.end()) {
+                const int j = it->second;
+                add(m_sys.G, a, j, 1.0);
+                add(m_sys.G, b, j, -1.0);
+                add(m_sys.G, j, a, 1.0);
+                add(m_sys.G, j, b, -1.0);
+                add(m_sys.G, j, j, -e.value);
+            } else {
+                stampAdmittance(m_sys.G, a, b, 1.0 / e.value);
+            }
             break;
         case NetlistElement::Kind::Capacitor:
             if (e.value < 0)
@@ -172,7 +240,7 @@ private:
             if (e.kind == NetlistElement::Kind::Inductor) {
                 if (!(e.value > 0))
                     return "inductance must be greater than zero";
-                m_sys.C(j, j) = -e.value;
+                add(m_sys.C, j, j, -e.value);
             } else if (e.input >= 0) {
                 m_sys.B(j, e.input) = 1.0;
             }
@@ -194,10 +262,16 @@ private:
     Result<Combination> stampControlled(const ControlledSourceElement &cs, int branch,
                                         const std::vector<int> &states)
     {
+        const std::string who = cs.part.empty() ? cs.out : cs.part;
         if (cs.zerosHz.size() > cs.polesHz.size())
-            return fail(cs.out, "more zeros than poles (an improper gain) is not supported");
+            return fail(who, "zeros_hz",
+                        "more zeros than poles (an improper gain) is not supported");
         if (!std::isfinite(cs.gain))
-            return fail(cs.out, "gain is not a finite number");
+            return fail(who, "gain", "gain is not a finite number");
+        const int topology = origin(cs.part, {});
+        const int gainOrigin = origin(cs.part, "gain");
+        const int poleOrigin = origin(cs.part, "poles_hz");
+        const int zeroOrigin = origin(cs.part, "zeros_hz");
         Combination u;
         if (int p = index(cs.inP); p >= 0)
             u.push_back({p, 1.0});
@@ -206,17 +280,19 @@ private:
         for (std::size_t k = 0; k < cs.polesHz.size(); ++k) {
             const double wp = 2.0 * std::numbers::pi * cs.polesHz[k];
             if (!(wp > 0) || !std::isfinite(wp))
-                return fail(cs.out, "pole frequencies must be positive and finite");
+                return fail(who, "poles_hz", "pole frequencies must be positive and finite");
             const int w = states[k];
-            m_sys.G(w, w) += 1.0;
-            m_sys.C(w, w) += 1.0 / wp;
+            m_origin = poleOrigin;
+            add(m_sys.G, w, w, 1.0);
+            add(m_sys.C, w, w, 1.0 / wp);
+            m_origin = k == 0 ? topology : (k - 1 < cs.zerosHz.size() ? zeroOrigin : poleOrigin);
             for (auto [i, coeff] : u)
-                m_sys.G(w, i) -= coeff;
+                add(m_sys.G, w, i, -coeff);
             Combination y;
             if (k < cs.zerosHz.size()) {
                 const double wz = 2.0 * std::numbers::pi * cs.zerosHz[k];
                 if (!(wz > 0) || !std::isfinite(wz))
-                    return fail(cs.out, "zero frequencies must be positive and finite");
+                    return fail(who, "zeros_hz", "zero frequencies must be positive and finite");
                 const double ratio = wp / wz;
                 for (auto [i, coeff] : u)
                     y.push_back({i, ratio * coeff});
@@ -231,11 +307,13 @@ private:
             ret.push_back({i, cs.gain * coeff});
 
         const int out = index(cs.out);
+        m_origin = topology;
         add(m_sys.G, out, branch, 1.0);
         add(m_sys.G, branch, out, 1.0);
         if (cs.mode == ControlledSourceElement::Mode::Normal) {
+            m_origin = gainOrigin;
             for (auto [i, coeff] : ret)
-                m_sys.G(branch, i) -= coeff;
+                add(m_sys.G, branch, i, -coeff);
         } else if (cs.testInput >= 0) {
             m_sys.B(branch, cs.testInput) = 1.0;
         }
@@ -248,6 +326,7 @@ private:
     std::map<std::string, int> m_branch;
     std::vector<int> m_controlledBranch;
     std::vector<std::vector<int>> m_states;
+    int m_origin = 0; ///< origin of the entries being stamped
 };
 
 } // namespace
@@ -301,7 +380,33 @@ bool isSingular(const Eigen::MatrixXd &a)
     return !(lu.rcond() > kMinReciprocalCondition);
 }
 
-std::string describeSingularity(const DescriptorSystem &system, std::complex<double> s)
+std::string unknownLabel(const DescriptorSystem &system, std::size_t index)
+{
+    if (index >= system.unknownOrigins.size())
+        return system.unknowns.at(index);
+    const UnknownOrigin &u = system.unknownOrigins[index];
+    if (u.kind == UnknownOrigin::Kind::Node)
+        return index < system.nodes.size() ? nodeLabel(system.nodes[index])
+                                           : system.unknowns[index];
+    const StampOrigin *o
+        = u.origin >= 0 ? &system.origins[static_cast<std::size_t>(u.origin)] : nullptr;
+    if (!o || o->part.empty()) // an element of the analysis itself: its internal name
+        return system.unknowns[index];
+    switch (u.kind) {
+    case UnknownOrigin::Kind::Current: {
+        const bool own = !o->field.empty() && o->field != "value" && o->field != "r";
+        return "the current of " + o->part + (own ? " (" + o->field + ")" : std::string());
+    }
+    case UnknownOrigin::Kind::SourceCurrent:
+        return "the output current of " + o->part;
+    case UnknownOrigin::Kind::State:
+        return "pole " + std::to_string(u.pole) + " of " + o->part;
+    default:
+        return system.unknowns[index];
+    }
+}
+
+Diagnostic singularityDiagnostic(const DescriptorSystem &system, std::complex<double> s)
 {
     const Eigen::MatrixXcd a = equilibrated(system.G.cast<std::complex<double>>() + s * system.C);
     Eigen::FullPivLU<Eigen::MatrixXcd> lu(a);
@@ -309,20 +414,45 @@ std::string describeSingularity(const DescriptorSystem &system, std::complex<dou
     if (lu.isInvertible())
         return {};
     const Eigen::MatrixXcd kernel = lu.kernel();
-    std::vector<std::string> involved;
-    for (Eigen::Index i = 0; i < kernel.rows(); ++i) {
-        if (kernel.row(i).cwiseAbs().maxCoeff() > 1e-6 * kernel.cwiseAbs().maxCoeff())
-            involved.push_back(system.unknowns[static_cast<std::size_t>(i)]);
-    }
+    std::vector<bool> involved(static_cast<std::size_t>(kernel.rows()), false);
     std::string text = "the circuit has no unique solution";
     if (s == std::complex<double>(0.0))
         text += " at DC";
     text += ": ";
-    for (std::size_t i = 0; i < involved.size(); ++i)
-        text += (i ? ", " : "") + involved[i];
+    bool first = true;
+    for (Eigen::Index i = 0; i < kernel.rows(); ++i) {
+        if (kernel.row(i).cwiseAbs().maxCoeff() > 1e-6 * kernel.cwiseAbs().maxCoeff()) {
+            involved[static_cast<std::size_t>(i)] = true;
+            const auto k = static_cast<std::size_t>(i);
+            text += (first ? "" : ", ") + unknownLabel(system, k);
+            first = false;
+        }
+    }
     text += " not determined (a floating node or subnetwork, a loop of voltage sources, or an "
             "inductor loop)";
-    return text;
+    // The user's parts whose entries touch what is not determined.
+    std::vector<std::string> parts;
+    for (const StampEntry &e : system.stamps) {
+        const std::string &part = system.origins[static_cast<std::size_t>(e.origin)].part;
+        if (part.empty() || !involved[static_cast<std::size_t>(e.col)])
+            continue;
+        if (std::find(parts.begin(), parts.end(), part) == parts.end())
+            parts.push_back(part);
+    }
+    if (!parts.empty()) {
+        text += "; parts involved: ";
+        for (std::size_t i = 0; i < parts.size(); ++i)
+            text += (i ? ", " : "") + parts[i];
+    }
+    Diagnostic d{{}, {}, {}, text};
+    if (parts.size() == 1)
+        d.part = parts.front();
+    return d;
+}
+
+std::string describeSingularity(const DescriptorSystem &system, std::complex<double> s)
+{
+    return singularityDiagnostic(system, s).message;
 }
 
 Result<std::vector<Eigen::MatrixXcd>> solveDense(const DescriptorSystem &system,

@@ -28,19 +28,23 @@ void addPassivePart(Netlist &netlist, const Part &part, const std::string &nameP
     const std::string b = mapNode(part.node("b"));
     const std::string name = namePrefix + part.id;
     const double v = part.number("value");
+    NetlistElement *e = nullptr;
     switch (part.type) {
     case PartType::Resistor:
-        netlist.addResistor(name, a, b, v);
+        e = &netlist.addResistor(name, a, b, v);
         break;
     case PartType::Capacitor:
-        netlist.addCapacitor(name, a, b, v);
+        e = &netlist.addCapacitor(name, a, b, v);
         break;
     case PartType::Inductor:
-        netlist.addInductor(name, a, b, v);
+        e = &netlist.addInductor(name, a, b, v);
         break;
     default:
         assert(false && "addPassivePart takes resistors, capacitors and inductors");
+        return;
     }
+    e->part = part.id;
+    e->field = "value";
 }
 
 std::pair<std::string, std::string> inputPortNodes(const Design &design)
@@ -71,20 +75,28 @@ void addSource(Netlist &n, const Part &src, LoopCircuitOptions::Source mode)
         const double rs = src.number("r_series");
         if (rs > 0) {
             const std::string inner = src.id + ":int";
-            n.addVoltageSource(src.id, inner, src.node("neg"), input);
-            n.addResistor(src.id + ":r_series", inner, src.node("pos"), rs);
+            n.addVoltageSource(src.id, inner, src.node("neg"), input).part = src.id;
+            NetlistElement &r = n.addResistor(src.id + ":r_series", inner, src.node("pos"), rs);
+            r.part = src.id;
+            r.field = "r_series";
         } else {
-            n.addVoltageSource(src.id, src.node("pos"), src.node("neg"), input);
+            n.addVoltageSource(src.id, src.node("pos"), src.node("neg"), input).part = src.id;
         }
         return;
     }
-    n.addCurrentSource(src.id, src.node("to"), src.node("from"), input);
-    if (src.has("r_parallel"))
-        n.addResistor(src.id + ":r_parallel", src.node("to"), src.node("from"),
-                      src.number("r_parallel"));
-    if (src.number("c_parallel") > 0)
-        n.addCapacitor(src.id + ":c_parallel", src.node("to"), src.node("from"),
-                       src.number("c_parallel"));
+    n.addCurrentSource(src.id, src.node("to"), src.node("from"), input).part = src.id;
+    if (src.has("r_parallel")) {
+        NetlistElement &r = n.addResistor(src.id + ":r_parallel", src.node("to"), src.node("from"),
+                                          src.number("r_parallel"));
+        r.part = src.id;
+        r.field = "r_parallel";
+    }
+    if (src.number("c_parallel") > 0) {
+        NetlistElement &c = n.addCapacitor(src.id + ":c_parallel", src.node("to"), src.node("from"),
+                                           src.number("c_parallel"));
+        c.part = src.id;
+        c.field = "c_parallel";
+    }
 }
 
 void addGainBlock(Netlist &n, const Part &gb, const LoopCircuitOptions &options)
@@ -95,24 +107,29 @@ void addGainBlock(Netlist &n, const Part &gb, const LoopCircuitOptions &options)
     const std::string inP = split(gb.node("in_p"));
     const std::string inN = split(gb.node("in_n"));
     const std::string out = gb.node("out");
+    const auto own = [&gb](NetlistElement &e, const char *field) {
+        e.part = gb.id;
+        e.field = field;
+    };
     if (gb.has("r_in"))
-        n.addResistor(gb.id + ":r_in", inP, inN, gb.number("r_in"));
+        own(n.addResistor(gb.id + ":r_in", inP, inN, gb.number("r_in")), "r_in");
     if (gb.number("c_in") > 0)
-        n.addCapacitor(gb.id + ":c_in", inP, inN, gb.number("c_in"));
+        own(n.addCapacitor(gb.id + ":c_in", inP, inN, gb.number("c_in")), "c_in");
     if (const double ccm = gb.number("c_cm"); ccm > 0) {
         // from each input pin to ground; a pin on ground has none
         if (gb.node("in_p") != kGroundNode)
-            n.addCapacitor(gb.id + ":c_cm(in_p)", inP, std::string(kGroundNode), ccm);
+            own(n.addCapacitor(gb.id + ":c_cm(in_p)", inP, std::string(kGroundNode), ccm), "c_cm");
         if (gb.node("in_n") != kGroundNode)
-            n.addCapacitor(gb.id + ":c_cm(in_n)", inN, std::string(kGroundNode), ccm);
+            own(n.addCapacitor(gb.id + ":c_cm(in_n)", inN, std::string(kGroundNode), ccm), "c_cm");
     }
     ControlledSourceElement cs;
+    cs.part = gb.id;
     cs.inP = inP;
     cs.inN = inN;
     cs.out = out;
     if (const double rout = gb.number("r_out"); rout > 0) {
         cs.out = gb.id + ":e";
-        n.addResistor(gb.id + ":r_out", cs.out, out, rout);
+        own(n.addResistor(gb.id + ":r_out", cs.out, out, rout), "r_out");
     }
     cs.gain = gainBlockGain(gb) * options.gainScale;
     cs.polesHz = gainBlockPolesHz(gb);
@@ -167,11 +184,18 @@ Netlist buildLoopNetlist(const Design &design, const LoopCircuitOptions &options
         if (design.output == OutputKind::Current || options.senseLoadCurrent) {
             hot = load->id + ":i";
             sense = load->id + ":sense";
-            n.addVoltageSource(sense, hot, lb, -1);
+            n.addVoltageSource(sense, hot, lb, -1).part = load->id;
         }
-        n.addResistor(load->id, la, sense.empty() ? lb : hot, load->number("r"));
-        if (load->number("c") > 0)
-            n.addCapacitor(load->id + ":c", la, sense.empty() ? lb : hot, load->number("c"));
+        NetlistElement &r
+            = n.addResistor(load->id, la, sense.empty() ? lb : hot, load->number("r"));
+        r.part = load->id;
+        r.field = "r";
+        if (load->number("c") > 0) {
+            NetlistElement &c
+                = n.addCapacitor(load->id + ":c", la, sense.empty() ? lb : hot, load->number("c"));
+            c.part = load->id;
+            c.field = "c";
+        }
     }
 
     const auto [ip, im] = inputPortNodes(design);

@@ -2,9 +2,11 @@
 
 #include "loopsketch/loopcircuit.h"
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <map>
+#include <numbers>
 #include <set>
 
 namespace loopsketch {
@@ -19,7 +21,7 @@ Result<ReducedSystem> reduceWith(SolverPath path, const Netlist &netlist)
     auto system = assembleSystem(netlist);
     if (!system)
         return system.diagnostics();
-    return ReducedSystem::build(*system, path);
+    return ReducedSystem::build(std::move(system).value(), path);
 }
 
 Result<ReducedSystem> reduceWith(SolverPath path, const Design &d, const LoopCircuitOptions &o)
@@ -136,6 +138,9 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     o.source = Source::Zeroed;
     o.load = false;
     m.m_rrOutput = optionalOf(reduce(design, o));
+
+    if (path == SolverPath::Reduced)
+        m.checkAccuracy(design);
 
     m.m_topology = identifyTopology(design);
     if (!m.m_topology.topology)
@@ -301,6 +306,39 @@ Curve blackman(const ReducedSystem &r, std::span<const Complex> s, int portVolta
 }
 
 } // namespace
+
+void LoopModel::checkAccuracy(const Design &design)
+{
+    std::vector<Complex> probes = {Complex(0.0)};
+    const std::vector<double> hz = design.sweep.frequencies();
+    if (!hz.empty()) {
+        // DC stands for the low end; the middle and the top of the sweep for the rest.
+        const double mid = std::sqrt(hz.front() * hz.back());
+        for (double f : {mid, hz.back()})
+            probes.push_back({0.0, 2.0 * std::numbers::pi * f});
+    }
+    const auto run
+        = [&](std::optional<ReducedSystem> &system, int output, int input, const char *quantity) {
+              if (!system)
+                  return;
+              const CheckedEntry entries[] = {{{output, input}, quantity}};
+              AccuracyCheck c = system->checkAccuracy(probes, entries, kAssuredRelativeError);
+              m_worstRelativeError = std::max(m_worstRelativeError, c.worstRelativeError);
+              m_refinedSystems += c.refined ? 1 : 0;
+              for (Diagnostic &d : c.warnings) {
+                  const bool known
+                      = std::any_of(m_warnings.begin(), m_warnings.end(), [&](const Diagnostic &w) {
+                            return w.part == d.part && w.field == d.field;
+                        });
+                  if (!known)
+                      m_warnings.push_back(std::move(d));
+              }
+          };
+    run(m_full, loopio::kOutput, loopio::kSource, "the gain");
+    run(m_input, loopio::kInputVoltage, loopio::kInputPort, "z_in");
+    run(m_output, loopio::kLoadVoltage, loopio::kLoadPort, "z_out");
+    run(m_rrFull, loopio::kReturned, loopio::kTest, "the loop gain");
+}
 
 std::vector<Complex> LoopModel::loopGainOver(std::span<const Complex> s) const
 {

@@ -21,34 +21,36 @@ NetlistElement makeElement(NetlistElement::Kind kind, std::string name, std::str
 
 } // namespace
 
-void Netlist::addResistor(std::string name, std::string a, std::string b, double ohms)
+NetlistElement &Netlist::addResistor(std::string name, std::string a, std::string b, double ohms)
 {
-    elements.push_back(makeElement(NetlistElement::Kind::Resistor, std::move(name), std::move(a),
-                                   std::move(b), ohms, -1));
+    return elements.emplace_back(makeElement(NetlistElement::Kind::Resistor, std::move(name),
+                                             std::move(a), std::move(b), ohms, -1));
 }
 
-void Netlist::addCapacitor(std::string name, std::string a, std::string b, double farads)
+NetlistElement &Netlist::addCapacitor(std::string name, std::string a, std::string b, double farads)
 {
-    elements.push_back(makeElement(NetlistElement::Kind::Capacitor, std::move(name), std::move(a),
-                                   std::move(b), farads, -1));
+    return elements.emplace_back(makeElement(NetlistElement::Kind::Capacitor, std::move(name),
+                                             std::move(a), std::move(b), farads, -1));
 }
 
-void Netlist::addInductor(std::string name, std::string a, std::string b, double henries)
+NetlistElement &Netlist::addInductor(std::string name, std::string a, std::string b, double henries)
 {
-    elements.push_back(makeElement(NetlistElement::Kind::Inductor, std::move(name), std::move(a),
-                                   std::move(b), henries, -1));
+    return elements.emplace_back(makeElement(NetlistElement::Kind::Inductor, std::move(name),
+                                             std::move(a), std::move(b), henries, -1));
 }
 
-void Netlist::addVoltageSource(std::string name, std::string pos, std::string neg, int input)
+NetlistElement &Netlist::addVoltageSource(std::string name, std::string pos, std::string neg,
+                                          int input)
 {
-    elements.push_back(makeElement(NetlistElement::Kind::VoltageSource, std::move(name),
-                                   std::move(pos), std::move(neg), 0.0, input));
+    return elements.emplace_back(makeElement(NetlistElement::Kind::VoltageSource, std::move(name),
+                                             std::move(pos), std::move(neg), 0.0, input));
 }
 
-void Netlist::addCurrentSource(std::string name, std::string into, std::string outOf, int input)
+NetlistElement &Netlist::addCurrentSource(std::string name, std::string into, std::string outOf,
+                                          int input)
 {
-    elements.push_back(makeElement(NetlistElement::Kind::CurrentSource, std::move(name),
-                                   std::move(into), std::move(outOf), 0.0, input));
+    return elements.emplace_back(makeElement(NetlistElement::Kind::CurrentSource, std::move(name),
+                                             std::move(into), std::move(outOf), 0.0, input));
 }
 
 int Netlist::addOutput(NetlistOutput output)

@@ -35,7 +35,9 @@ Result<NoiseModel> NoiseModel::build(const Design &design)
         if (cs.inP == pinP)
             cs.inP = behind;
     }
-    netlist.addVoltageSource(enName, behind, pinP, -1);
+    NetlistElement &en = netlist.addVoltageSource(enName, behind, pinP, -1);
+    en.part = gb->id;
+    en.field = "en";
 
     auto assembled = assembleSystem(netlist);
     if (!assembled)

@@ -4,6 +4,7 @@
 #include <cmath>
 #include <cstdint>
 #include <limits>
+#include <new>
 #include <utility>
 #include <vector>
 
@@ -140,6 +141,28 @@ template<typename L> struct LaneComplex
     L re, im;
 };
 
+/// The widest lane vector (AVX-512) is 64 bytes. Scratch for any width is aligned to that,
+/// not to alignof of the lane type: GCC reports alignof of these vector types as 16 where
+/// the type is declared (outside the functions compiled for AVX), while the code generated
+/// inside them stores whole 32- or 64-byte vectors with aligned instructions.
+inline constexpr std::size_t kLaneAlignment = 64;
+
+/// std::allocator with kLaneAlignment alignment, for the scratch of the general order.
+template<typename T> struct LaneAllocator
+{
+    using value_type = T;
+    LaneAllocator() = default;
+    template<typename U> LaneAllocator(const LaneAllocator<U> &) { }
+    T *allocate(std::size_t n)
+    {
+        return static_cast<T *>(::operator new(n * sizeof(T), std::align_val_t(kLaneAlignment)));
+    }
+    void deallocate(T *p, std::size_t) { ::operator delete(p, std::align_val_t(kLaneAlignment)); }
+    template<typename U> bool operator==(const LaneAllocator<U> &) const { return true; }
+};
+
+template<typename T> using LaneVector = std::vector<T, LaneAllocator<T>>;
+
 template<typename L> [[gnu::always_inline]] inline L magnitude2(LaneComplex<L> x)
 {
     return x.re * x.re + x.im * x.im;
@@ -205,15 +228,15 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     const auto nVectors = static_cast<Index>(plan.vectors.size());
     // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
     constexpr Index cap = K > 0 ? K : 1;
-    LC aStack[cap * cap], invStack[cap], yStack[cap];
-    L pivStack[cap];
+    alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap];
+    alignas(kLaneAlignment) L pivStack[cap];
     Index uniformStack[cap];
     LC *a = aStack, *invDiag = invStack, *y = yStack;
     L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
     Index *uniform = uniformStack; // that row when every lane chose it, else -1
     if constexpr (K == 0) {
-        thread_local std::vector<LC> work;
-        thread_local std::vector<L> pivots;
+        thread_local LaneVector<LC> work;
+        thread_local LaneVector<L> pivots;
         thread_local std::vector<Index> same;
         work.resize(static_cast<std::size_t>(k * k + 2 * k));
         pivots.resize(static_cast<std::size_t>(k));

@@ -3,6 +3,9 @@
 #include "loopsketch/stepmodel.h"
 
 #include "pencilsweep.h"
+#include "refinedsolve.h"
+
+#include "loopsketch/value.h"
 
 #include <Eigen/Eigenvalues>
 #include <Eigen/LU>
@@ -11,6 +14,7 @@
 #include <cmath>
 #include <limits>
 #include <numbers>
+#include <sstream>
 
 namespace loopsketch {
 
@@ -77,8 +81,10 @@ Eigen::VectorXd rowScales(const Eigen::MatrixXd &g, const Eigen::MatrixXd &c)
 
 } // namespace
 
-Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system, SolverPath path)
+Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, SolverPath path)
 {
+    auto shared = std::make_shared<const DescriptorSystem>(std::move(fullSystem));
+    const DescriptorSystem &system = *shared;
     const Index n = system.G.rows();
     std::vector<Index> staticSet;
     for (Index i = 0; i < n && path == SolverPath::Reduced; ++i) {
@@ -145,6 +151,7 @@ Result<ReducedSystem> ReducedSystem::build(const DescriptorSystem &system, Solve
     }
 
     r.m_path = path;
+    r.m_system = std::move(shared);
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
     if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
@@ -165,7 +172,7 @@ Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
 
 std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, int input) const
 {
-    if (m_path == SolverPath::DenseLu) {
+    if (m_path == SolverPath::DenseLu || m_refined) {
         thread_local Eigen::MatrixXcd h;
         const int in[] = {input}, out[] = {output};
         evaluateInto(s, in, out, h);
@@ -195,6 +202,20 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
         for (int o = 0; o < this->outputs(); ++o)
             allOutputs[static_cast<std::size_t>(o)] = o;
         outputs = allOutputs;
+    }
+    if (m_refined) {
+        const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                     std::numeric_limits<double>::quiet_NaN());
+        detail::RefinedSolver solver(*m_system);
+        const bool regular = solver.factor(s);
+        for (int c : inputs) {
+            const Eigen::VectorXcd x = regular ? solver.solve(c) : Eigen::VectorXcd();
+            for (int o : outputs) {
+                const cd v = regular ? solver.output(o, x) : nan;
+                h(o, c) = std::isfinite(v.real()) && std::isfinite(v.imag()) ? v : nan;
+            }
+        }
+        return;
     }
     if (m_path == SolverPath::DenseLu && order() > 0) {
         const cd nan(std::numeric_limits<double>::quiet_NaN(),
@@ -227,11 +248,12 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
                             std::span<const TransferEntry> entries, SweepWidth width) const
 {
     std::vector<std::complex<double>> out(entries.size() * s.size());
-    if (m_path == SolverPath::Reduced) {
+    if (m_path == SolverPath::Reduced && !m_refined) {
         detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
         return out;
     }
-    // The reference path: one dense LU of the whole matrix per point, as evaluateInto().
+    // The reference path (one dense LU of the whole matrix per point) and the refined one,
+    // as evaluateInto().
     std::vector<int> inputs, outputs;
     for (const TransferEntry &e : entries) {
         if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
@@ -352,6 +374,89 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
         return std::abs(x) != std::abs(y) ? std::abs(x) < std::abs(y) : x.imag() < y.imag();
     });
     return poles;
+}
+
+AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>> probes,
+                                           std::span<const CheckedEntry> entries, double tolerance)
+{
+    AccuracyCheck check;
+    if (!m_system || entries.empty() || probes.empty())
+        return check;
+    std::vector<TransferEntry> plain;
+    for (const CheckedEntry &e : entries)
+        plain.push_back(e.entry);
+    const std::vector<std::complex<double>> fast = sweepEntries(probes, plain);
+    detail::RefinedSolver solver(*m_system);
+    bool missed = false;
+    struct Worst
+    {
+        double relative = 0;
+        std::size_t entry = 0;
+        std::complex<double> s;
+        std::vector<double> shares;
+    } worst;
+    std::vector<double> shares;
+    for (std::size_t p = 0; p < probes.size(); ++p) {
+        if (!solver.factor(probes[p]))
+            continue;
+        std::vector<std::pair<int, Eigen::VectorXcd>> solved; // per input, solved once
+        std::vector<Eigen::VectorXcd> residuals;
+        for (std::size_t e = 0; e < entries.size(); ++e) {
+            const TransferEntry te = entries[e].entry;
+            std::size_t which = solved.size();
+            for (std::size_t q = 0; q < solved.size(); ++q)
+                if (solved[q].first == te.input)
+                    which = q;
+            if (which == solved.size()) {
+                Eigen::VectorXcd r;
+                solved.emplace_back(te.input, solver.solve(te.input, &r));
+                residuals.push_back(std::move(r));
+            }
+            const Eigen::VectorXcd &x = solved[which].second;
+            const std::complex<double> careful = solver.output(te.output, x);
+            const double size = std::abs(careful);
+            if (!(size > 0) || !std::isfinite(size))
+                continue;
+            const double bound
+                = solver.errorBound(te.output, te.input, x, residuals[which], &shares);
+            const double relative = bound / size;
+            const std::complex<double> got = fast[e * probes.size() + p];
+            const double miss = std::abs(got - careful) / size;
+            if (!(miss <= std::max(tolerance, 4.0 * relative)))
+                missed = true;
+            if (relative > worst.relative)
+                worst = {relative, e, probes[p], shares};
+        }
+    }
+    check.worstRelativeError = worst.relative;
+    if (missed && m_path == SolverPath::Reduced) {
+        m_refined = true;
+        check.refined = true;
+    }
+    if (worst.relative > tolerance) {
+        // Name the user's part and field with the largest share of the bound.
+        int top = -1;
+        for (std::size_t o = 0; o < worst.shares.size(); ++o)
+            if (!m_system->origins[o].part.empty()
+                && (top < 0 || worst.shares[o] > worst.shares[static_cast<std::size_t>(top)]))
+                top = static_cast<int>(o);
+        const double hz = std::abs(worst.s) / (2.0 * std::numbers::pi);
+        std::ostringstream bound;
+        bound.precision(2);
+        bound << worst.relative;
+        Diagnostic d;
+        if (top >= 0) {
+            d.part = m_system->origins[static_cast<std::size_t>(top)].part;
+            d.field = m_system->origins[static_cast<std::size_t>(top)].field;
+        }
+        d.message = "accuracy cannot be assured: " + entries[worst.entry].quantity + " at "
+            + (hz == 0.0 ? std::string("DC") : formatEngineering(hz, 3, "Hz")) + " may be off by "
+            + bound.str()
+            + " of its value (rounding in the circuit equations, largest share from this "
+              "value)";
+        check.warnings.push_back(d);
+    }
+    return check;
 }
 
 Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,

@@ -398,6 +398,10 @@ TEST_P(CliExample, AnalyzeJsonHasTheSchemaAndTheCoreValues)
     // Every example has a canonical topology, so the estimate and its sections are filled.
     EXPECT_TRUE(at(j, "topology").is_object());
     EXPECT_TRUE(at(at(j, "dc"), "two_port").is_object());
+    // Ordinary designs: the solves' own checks pass and every value is one real parts
+    // have, so `warnings` is there and empty (DESIGN.md section 6).
+    ASSERT_TRUE(at(j, "warnings").is_array());
+    EXPECT_TRUE(at(j, "warnings").empty()) << at(j, "warnings").dump();
 }
 
 TEST_P(CliExample, SweepCsvHasOneRowPerFrequencyAndTheExactGain)

@@ -593,3 +593,20 @@ INSTANTIATE_TEST_SUITE_P(Examples, ExampleDesign,
                                            "turbidity-probe-front-end"));
 
 } // namespace
+
+// A value no real part has (RF = 1e-300 ohm, a short) analyses, and the warning naming the
+// part and field reaches the status line and the Readout; the demo itself shows none.
+TEST_F(MainWindowTest, WarningReachesTheStatusLineAndTheReadout)
+{
+    EXPECT_TRUE(window->readout()->warningText().isEmpty());
+    EXPECT_THAT(window->statusText().toStdString(), ::testing::Not(HasSubstr("Warning")));
+    Design d = doc()->design();
+    d.findPart("RF")->fields["value"] = Value{1e-300, {}};
+    doc()->reset(d, QString());
+    doc()->recomputeNow();
+    QApplication::processEvents();
+    EXPECT_THAT(window->statusText().toStdString(), HasSubstr("Warning: part RF, field value"));
+    EXPECT_THAT(window->readout()->warningText().toStdString(), HasSubstr("part RF, field value"));
+    QTest::qWait(300);
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-warning.png");
+}

@@ -134,6 +134,10 @@ struct Analysis
     std::optional<NoiseAnalysis> noise; ///< absent when noiseProblem says why
     std::string noiseProblem;
     std::vector<SpecVerdict> specs; ///< one per spec of the design (specVerdicts())
+    /// Where the numbers cannot be trusted to full accuracy, each naming the user's part and
+    /// field: a solve whose own check failed, or a value outside what real parts offer.
+    /// Empty for ordinary designs. `file` is left empty (the caller knows it).
+    Diagnostics warnings;
 };
 
 struct AnalysisOptions

@@ -16,6 +16,39 @@
 
 namespace loopsketch {
 
+/// The user's part and field behind some matrix entries ("RF", "value"; "U1", "gain").
+/// Part empty: a test source or port of the analysis itself.
+struct StampOrigin
+{
+    std::string part;
+    std::string field;
+};
+
+/// One entry written into G (reactive = false) or C (reactive = true) by an origin.
+struct StampEntry
+{
+    int origin = 0; ///< index into DescriptorSystem::origins
+    int row = 0;
+    int col = 0;
+    double value = 0;
+    bool reactive = false;
+};
+
+/// What an unknown is, for naming it in the user's words (see unknownLabel()).
+struct UnknownOrigin
+{
+    enum class Kind { Node, Current, SourceCurrent, State };
+    Kind kind = Kind::Node;
+    int origin = -1; ///< index into DescriptorSystem::origins; -1 for nodes
+    int pole = 0; ///< State: which pole of the gain block, from 1
+};
+
+/// Resistors below this many ohms are stamped in impedance form (their current is an
+/// unknown, v(a) - v(b) - R i = 0) instead of as a conductance: a near-short then keeps
+/// entries of order 1 instead of 1/R, which would swamp every other conductance at its
+/// nodes (1e-15 ohm beside 1 Mohm leaves nothing of the 1 Mohm in double precision).
+inline constexpr double kImpedanceFormBelowOhms = 1.0;
+
 struct DescriptorSystem
 {
     Eigen::MatrixXd G; ///< n x n, siemens / dimensionless rows
@@ -24,6 +57,9 @@ struct DescriptorSystem
     Eigen::MatrixXd L; ///< outputs x n
     std::vector<std::string> unknowns; ///< "v(in)", "i(RF)", "x(U1.p1)" ...
     std::vector<std::string> nodes; ///< node names, index = unknown index for voltages
+    std::vector<UnknownOrigin> unknownOrigins; ///< per unknown, for unknownLabel()
+    std::vector<StampOrigin> origins;
+    std::vector<StampEntry> stamps; ///< every entry of G and C with its origin
 
     int size() const { return static_cast<int>(G.rows()); }
 };
@@ -48,8 +84,17 @@ bool isSingular(const Eigen::MatrixXcd &a);
 /// The same for a real matrix (a static block, G at DC), in real arithmetic.
 bool isSingular(const Eigen::MatrixXd &a);
 
-/// Names the unknowns that take part in a singularity of (G + sC) at s, e.g.
-/// "nodes mid, x are floating". Empty when the matrix is regular.
+/// Unknown `index` in the user's words: "node in", "the output of U1 inside its r_out",
+/// "the current of RX", "pole 2 of U1".
+std::string unknownLabel(const DescriptorSystem &system, std::size_t index);
+
+/// Names, in the user's words, the unknowns and parts that take part in a singularity of
+/// (G + sC) at s, e.g. "node mid, node x not determined (...); parts involved: R5, R6".
+/// Empty when the matrix is regular.
 std::string describeSingularity(const DescriptorSystem &system, std::complex<double> s);
+
+/// The same as a diagnostic; when a single part is involved, it is named in `part`.
+/// Message empty when the matrix is regular.
+Diagnostic singularityDiagnostic(const DescriptorSystem &system, std::complex<double> s);
 
 } // namespace loopsketch

@@ -82,6 +82,16 @@ public:
 
     /// Closed-loop natural frequencies (rad/s) of the exact circuit.
     std::vector<Complex> closedLoopPoles() const;
+    /// Where the solves' own checks (ReducedSystem::checkAccuracy, at DC and at the start,
+    /// middle and end of the design's sweep) could not assure the accuracy of the exact
+    /// solution and the return ratio, each naming a part and field. Empty for ordinary
+    /// designs.
+    const Diagnostics &warnings() const { return m_warnings; }
+    /// The largest relative error bound those checks found (a measure for tests).
+    double worstRelativeError() const { return m_worstRelativeError; }
+    /// How many of the checked systems missed the careful solve and now use it throughout.
+    int refinedSystems() const { return m_refinedSystems; }
+
     /// Natural frequencies (rad/s) of the loop with the gain block's controlled source
     /// test-driven: the poles of the loop gain T_rr.
     std::vector<Complex> loopGainPoles() const;
@@ -90,14 +100,22 @@ public:
     /// The exact output's step response as a state space, exact at any time.
     Result<StepModel> stepModel() const;
 
+    /// The relative error the accuracy checks accept before they warn.
+    static constexpr double kAssuredRelativeError = 1e-8;
+
 private:
     struct TwoPortSystems;
+
+    void checkAccuracy(const Design &design);
 
     std::optional<ReducedSystem> m_full, m_input, m_output; // exact
     std::optional<ReducedSystem> m_rrFull, m_rrInput, m_rrOutput; // return ratio
     std::shared_ptr<const TwoPortSystems> m_twoPort;
     TopologyResult m_topology;
     std::string m_twoPortProblem;
+    Diagnostics m_warnings;
+    double m_worstRelativeError = 0;
+    int m_refinedSystems = 0;
 };
 
 } // namespace loopsketch

@@ -17,6 +17,7 @@ struct ControlledSourceElement
         Normal, ///< e follows the input difference
         TestDriven, ///< e is an independent source (return-ratio test); H(s)*vd is an output
     };
+    std::string part; ///< the user's gain block (its id), for messages; empty when internal
     std::string inP;
     std::string inN;
     std::string out;
@@ -31,7 +32,11 @@ struct NetlistElement
 {
     enum class Kind { Resistor, Capacitor, Inductor, VoltageSource, CurrentSource };
     Kind kind = Kind::Resistor;
-    std::string name; ///< for diagnostics and branch-current outputs
+    std::string name; ///< internal, unique: branch-current outputs and noise refer to it
+    /// The user's part and field whose value this element carries ("RF", "value"; "U1",
+    /// "r_out"), so that messages speak of them; part empty for test sources and ports.
+    std::string part;
+    std::string field;
     std::string a; ///< resistor/capacitor/inductor: a; voltage source: +; current source: into
     std::string b; ///< resistor/capacitor/inductor: b; voltage source: -; current source: out of
     double value = 0; ///< ohm, farad, henry; ignored for sources
@@ -58,11 +63,12 @@ struct Netlist
     int inputCount = 0;
     std::vector<NetlistOutput> outputs;
 
-    void addResistor(std::string name, std::string a, std::string b, double ohms);
-    void addCapacitor(std::string name, std::string a, std::string b, double farads);
-    void addInductor(std::string name, std::string a, std::string b, double henries);
-    void addVoltageSource(std::string name, std::string pos, std::string neg, int input);
-    void addCurrentSource(std::string name, std::string into, std::string outOf, int input);
+    NetlistElement &addResistor(std::string name, std::string a, std::string b, double ohms);
+    NetlistElement &addCapacitor(std::string name, std::string a, std::string b, double farads);
+    NetlistElement &addInductor(std::string name, std::string a, std::string b, double henries);
+    NetlistElement &addVoltageSource(std::string name, std::string pos, std::string neg, int input);
+    NetlistElement &addCurrentSource(std::string name, std::string into, std::string outOf,
+                                     int input);
     /// Allocates a new input column and returns its index.
     int addInput() { return inputCount++; }
     /// Appends an output row and returns its index.

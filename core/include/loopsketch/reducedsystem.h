@@ -17,7 +17,9 @@
 
 #include <complex>
 #include <initializer_list>
+#include <memory>
 #include <span>
+#include <string>
 #include <vector>
 
 namespace loopsketch {
@@ -42,12 +44,38 @@ struct TransferEntry
     int input = 0;
 };
 
+/// An entry whose accuracy is checked, with the quantity it gives in the user's words.
+struct CheckedEntry
+{
+    TransferEntry entry;
+    std::string quantity; ///< "gain", "z_in", "loop gain" ...
+};
+
+/// What ReducedSystem::checkAccuracy() found.
+struct AccuracyCheck
+{
+    /// The reduced solves missed the careful solve of the full system; the system now
+    /// solves the full matrix with iterative refinement at every frequency.
+    bool refined = false;
+    /// Largest first-order error bound of a checked entry, relative to its value.
+    double worstRelativeError = 0;
+    /// Entries whose bound exceeds the tolerance, each naming the part and field that
+    /// contributes most to it.
+    Diagnostics warnings;
+};
+
 class ReducedSystem
 {
 public:
     /// Reduces the system once. Fails, naming the unknowns involved, when the static part is
     /// singular in a way no frequency can cure (a voltage-source loop, a floating subnetwork).
     static Result<ReducedSystem> build(const DescriptorSystem &system,
+                                       SolverPath path = SolverPath::Reduced)
+    {
+        return build(DescriptorSystem(system), path);
+    }
+    /// The same, keeping `system` (for checkAccuracy()) without a copy.
+    static Result<ReducedSystem> build(DescriptorSystem &&system,
                                        SolverPath path = SolverPath::Reduced);
 
     int outputs() const { return static_cast<int>(m_lr.rows()); }
@@ -106,6 +134,19 @@ public:
     Result<std::vector<double>> stepResponse(int output, int input,
                                              const std::vector<double> &times) const;
 
+    /// Checks `entries` at the complex frequencies `probes` (rad/s; points where the
+    /// circuit is singular are skipped) against the full nodal system solved with
+    /// equilibration and iterative refinement. Where the fast path is off by more than
+    /// `tolerance` (relative) and the careful solve is better, the system switches to the
+    /// careful solve everywhere; where the careful solve's own error bound (componentwise
+    /// backward error times the condition of the entry) exceeds `tolerance`, a warning names
+    /// the part and field whose rounding dominates.
+    AccuracyCheck checkAccuracy(std::span<const std::complex<double>> probes,
+                                std::span<const CheckedEntry> entries, double tolerance = 1e-8);
+
+    /// True when the system solves the full matrix with refinement (see checkAccuracy()).
+    bool refined() const { return m_refined; }
+
     const Eigen::MatrixXd &gr() const { return m_gr; }
     const Eigen::MatrixXd &cr() const { return m_cr; }
     const Eigen::MatrixXd &br() const { return m_br; }
@@ -120,6 +161,8 @@ private:
     Eigen::MatrixXd m_dr; ///< outputs x inputs, static feedthrough of the eliminated part
     std::vector<std::string> m_unknowns; ///< names of the kept unknowns
     SolverPath m_path = SolverPath::Reduced;
+    std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
+    bool m_refined = false;
 };
 
 } // namespace loopsketch

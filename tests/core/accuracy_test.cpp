@@ -1,0 +1,369 @@
+// Trust on any design: the solves' own accuracy checks, the warnings they give in the user's
+// words, designs with near-shorts and extreme gains, and values no real part has.
+
+#include "loopsketch/analysis.h"
+#include "loopsketch/circuit.h"
+#include "loopsketch/designfile.h"
+#include "loopsketch/loopcircuit.h"
+#include "loopsketch/loopmodel.h"
+#include "loopsketch/partlimits.h"
+#include "loopsketch/reducedsystem.h"
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <filesystem>
+#include <fstream>
+#include <numbers>
+#include <set>
+#include <sstream>
+
+using namespace loopsketch;
+using ::testing::HasSubstr;
+using ::testing::Not;
+
+namespace {
+
+namespace fs = std::filesystem;
+using cd = std::complex<double>;
+constexpr double kPi = std::numbers::pi;
+const fs::path kDesignsDir = LOOPSKETCH_DESIGNS_DIR;
+
+double relErr(double a, double b)
+{
+    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
+}
+
+double relErr(cd a, cd b)
+{
+    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
+}
+
+Design loadOrDie(const fs::path &path)
+{
+    auto d = loadDesign(path.string());
+    EXPECT_TRUE(d.ok()) << d.errorText();
+    return *d;
+}
+
+Design parseOrDie(const std::string &text)
+{
+    auto d = parseDesign(text);
+    EXPECT_TRUE(d.ok()) << d.errorText();
+    return *d;
+}
+
+Analysis analyzeOrDie(const Design &d)
+{
+    auto a = analyze(d);
+    EXPECT_TRUE(a.ok()) << a.errorText();
+    return *a;
+}
+
+Part &part(Design &d, const std::string &id)
+{
+    Part *p = d.findPart(id);
+    EXPECT_NE(p, nullptr) << id;
+    return *p;
+}
+
+/// The demo with a resistor RX of `ohms` in series with RF (RF now ends on a new node).
+Design demoWithSeriesResistor(double ohms)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Part &rf = part(d, "RF");
+    const std::string end = rf.nodes[1];
+    rf.nodes[1] = "rf_end";
+    Part rx;
+    rx.id = "RX";
+    rx.type = PartType::Resistor;
+    rx.nodes = {"rf_end", end};
+    rx.fields["value"] = Value{ohms, {}};
+    d.parts.push_back(rx);
+    return d;
+}
+
+bool hasWarningFor(const Analysis &a, const std::string &partId)
+{
+    for (const Diagnostic &w : a.warnings)
+        if (w.part == partId)
+            return true;
+    return false;
+}
+
+/// An inverting amplifier around a gain block of `gainDb`, ideal inputs, 50 ohm output,
+/// poles at 10 Hz and 1 MHz; 10k in, 100k feedback, 2k load.
+std::string invertingDesign(const std::string &gainDb)
+{
+    return R"({"schema": "loopsketch.design/1", "title": "inverting, extreme gain",
+      "parts": [
+        {"id": "VS", "type": "vsource", "pos": "s", "neg": "0"},
+        {"id": "U1", "type": "gain_block", "in_p": "0", "in_n": "m", "out": "out",
+         "gain": ")"
+        + gainDb + R"(", "r_out": "50", "poles_hz": ["10", "1M"]},
+        {"id": "R1", "type": "resistor", "a": "s", "b": "m", "value": "10k"},
+        {"id": "R2", "type": "resistor", "a": "m", "b": "out", "value": "100k"},
+        {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "2k"}],
+      "input": "VS", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20}})";
+}
+
+} // namespace
+
+// Every shipped example and the demo: no warnings, and the checks' own error bound far
+// below the tolerance (common practice: ordinary designs solve to near rounding level).
+TEST(Accuracy, OrdinaryDesignsCarryNoWarnings)
+{
+    int seen = 0;
+    for (const auto &entry : fs::directory_iterator(kDesignsDir)) {
+        if (entry.path().extension() != ".loopsketch")
+            continue;
+        ++seen;
+        const Design d = loadOrDie(entry.path());
+        const Analysis a = analyzeOrDie(d);
+        EXPECT_TRUE(a.warnings.empty()) << entry.path() << ": " << toString(a.warnings);
+        auto model = LoopModel::build(d);
+        ASSERT_TRUE(model.ok()) << model.errorText();
+        EXPECT_LT(model->worstRelativeError(), 1e-9) << entry.path();
+        EXPECT_EQ(model->refinedSystems(), 0) << entry.path() << ": the fast path sufficed";
+    }
+    EXPECT_GE(seen, 4);
+}
+
+// 1e-15 ohm (and 1e-12 ohm) in series with RF: the circuit is the demo's to within 1e-21
+// relative, so the numbers must be the demo's (derived from the demo's own circuit); the
+// near-short is named as a value no real resistor has.
+TEST(Accuracy, NearShortInSeriesWithTheFeedbackResistorGivesTheDemosNumbers)
+{
+    const Analysis demo = analyzeOrDie(loadOrDie(kDesignsDir / "demo.loopsketch"));
+    ASSERT_TRUE(demo.exact.gain && demo.exact.zIn && demo.exact.zOut);
+    ASSERT_TRUE(demo.margins.phaseMarginDeg);
+    for (double ohms : {1e-15, 1e-12}) {
+        const Analysis a = analyzeOrDie(demoWithSeriesResistor(ohms));
+        ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut) << ohms;
+        EXPECT_LT(relErr(*a.exact.gain, *demo.exact.gain), 1e-9) << ohms;
+        EXPECT_LT(relErr(*a.exact.zIn, *demo.exact.zIn), 1e-9) << ohms;
+        EXPECT_LT(relErr(*a.exact.zOut, *demo.exact.zOut), 1e-9) << ohms;
+        ASSERT_TRUE(a.margins.phaseMarginDeg) << ohms;
+        EXPECT_NEAR(*a.margins.phaseMarginDeg, *demo.margins.phaseMarginDeg, 1e-6) << ohms;
+        ASSERT_EQ(a.poles.size(), demo.poles.size()) << ohms;
+        for (std::size_t i = 0; i < a.poles.size(); ++i) {
+            EXPECT_LT(relErr(a.poles[i].s, demo.poles[i].s), 1e-8) << ohms;
+            EXPECT_LT(a.poles[i].s.real(), 0.0) << ohms;
+        }
+        ASSERT_TRUE(hasWarningFor(a, "RX")) << toString(a.warnings);
+        EXPECT_EQ(a.warnings.front().field, "value");
+        EXPECT_THAT(a.warnings.front().message, HasSubstr("below what real parts offer"));
+    }
+}
+
+// A 1e-15 ohm load shorts the output: the stage stays stable (no invented right-half-plane
+// pole; passive short at the output of a stable loop, common practice) and RL's r is named.
+TEST(Accuracy, NearShortLoadInventsNoUnstablePole)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    part(d, "RL").fields["r"] = Value{1e-15, {}};
+    const Analysis a = analyzeOrDie(d);
+    ASSERT_FALSE(a.poles.empty());
+    for (const ClosedLoopPole &p : a.poles)
+        EXPECT_LT(p.s.real(), 0.0) << p.s;
+    ASSERT_TRUE(hasWarningFor(a, "RL"));
+    EXPECT_EQ(a.warnings.front().field, "r");
+}
+
+// RF = 1e-300 ohm is a short, not a floating node: the analysis runs and names RF's value.
+TEST(Accuracy, FeedbackResistorOfTenToTheMinus300IsAShortNamedByItsValue)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    part(d, "RF").fields["value"] = Value{1e-300, {}};
+    auto a = analyze(d);
+    ASSERT_TRUE(a.ok()) << a.errorText();
+    ASSERT_FALSE(a->warnings.empty());
+    EXPECT_EQ(a->warnings.front().part, "RF");
+    EXPECT_EQ(a->warnings.front().field, "value");
+}
+
+// A 240 dB gain block with ordinary parts: DC gain, z_in and z_out to 1e-8 against the
+// nodal equations of the two-node circuit solved by hand (Cramer's rule, long double), and
+// both closed-loop poles against the roots of (1 + s/w1)(1 + s/w2) + k A0 = 0 with k the
+// resistive feedback fraction from the controlled source to the inverting input (derived
+// from this test's circuit; common practice).
+TEST(Accuracy, TwoHundredFortyDecibelGainKeepsDcAccuracyAndEveryPole)
+{
+    const Design d = parseOrDie(invertingDesign("240dB"));
+    const Analysis a = analyzeOrDie(d);
+    using ld = long double;
+    const ld a0 = 1e12L, g1 = 1 / 10e3L, g2 = 1 / 100e3L, gl = 1 / 2e3L, go = 1 / 50.0L;
+    const ld det = (g1 + g2) * (g2 + gl + go) + g2 * (a0 * go - g2);
+    const ld gain = -(a0 * go - g2) * g1 / det;
+    const ld vm = (g2 + gl + go) * g1 / det; // per volt of source
+    const ld zIn = 1 / (g1 * (1 - vm));
+    const ld detOut = (g1 + g2) * (g2 + go) + g2 * (a0 * go - g2);
+    const ld zOut = (g1 + g2) / detOut;
+    ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
+    EXPECT_LT(relErr(*a.exact.gain, static_cast<double>(gain)), 1e-8);
+    EXPECT_LT(relErr(*a.exact.zIn, static_cast<double>(zIn)), 1e-8);
+    EXPECT_LT(relErr(*a.exact.zOut, static_cast<double>(zOut)), 1e-8);
+
+    const ld k = g2 * go / ((g1 + g2) * (g2 + gl + go) - g2 * g2);
+    const ld w1 = 2 * std::numbers::pi_v<ld> * 10, w2 = 2 * std::numbers::pi_v<ld> * 1e6L;
+    const ld b = w1 + w2, c = w1 * w2 * (1 + k * a0);
+    const ld disc = b * b - 4 * c; // negative: a complex pair
+    ASSERT_LT(disc, 0);
+    const cd expected(static_cast<double>(-b / 2), static_cast<double>(std::sqrt(-disc) / 2));
+    ASSERT_EQ(a.poles.size(), 2u) << "every closed-loop pole kept";
+    for (const ClosedLoopPole &p : a.poles)
+        EXPECT_LT(relErr(cd(p.s.real(), std::abs(p.s.imag())), expected), 1e-8) << p.s;
+    EXPECT_TRUE(a.warnings.empty()) << toString(a.warnings);
+}
+
+// The demo at 240 dB: all four natural frequencies stay (the reduced order), each within
+// 1e-7 of a root of the return difference 1 + T(s) (closed-loop poles are the zeros of 1 + T for a
+// loop without hidden modes; common practice), and z_out to 1e-8 of r_out / (1 + T) at DC with the
+// load removed (the output resistance divided by the return difference; common practice).
+TEST(Accuracy, DemoAtTwoHundredFortyDecibelsKeepsEveryPole)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    part(d, "U1").fields["gain"] = Value{1e12, "240dB"};
+    auto model = LoopModel::build(d);
+    ASSERT_TRUE(model.ok()) << model.errorText();
+    const auto poles = model->closedLoopPoles();
+    ASSERT_EQ(poles.size(), 4u);
+    for (const cd p : poles) {
+        // One Newton step towards the root of 1 + T from p: how far p is from it. (A pole
+        // beside a zero of T, as RF CF makes here, moves T a lot for a small step in s, so
+        // the distance in s is the measure, not |1 + T| itself.)
+        const cd t = model->loopGainAt(p);
+        const double h = 1e-6 * std::abs(p);
+        const cd slope = (model->loopGainAt(p + h) - model->loopGainAt(p - h)) / (2.0 * h);
+        EXPECT_LT(std::abs((1.0 + t) / slope) / std::abs(p), 1e-7) << p << " T " << t;
+    }
+    // z_out at DC: 50 ohm against RF + (500 Mohm || 1 Tohm), divided by 1 + T with
+    // T = A0 (500M || 1T) / (50 + 1M + 500M || 1T): the demo's parts.
+    const long double rsh = 500e6L * 1e12L / (500e6L + 1e12L);
+    const long double rest = 1e6L + rsh;
+    const long double zOpen = 50.0L * rest / (50.0L + rest);
+    const long double t = 1e12L * rsh / (50.0L + rest);
+    const Analysis a = analyzeOrDie(d);
+    ASSERT_TRUE(a.exact.zOut);
+    EXPECT_LT(relErr(*a.exact.zOut, static_cast<double>(zOpen / (1 + t))), 1e-8);
+    // Correct numbers or a warning from the solve's own check (not from a value limit:
+    // 240 dB is one real parts reach).
+    for (const Diagnostic &w : a.warnings) {
+        EXPECT_EQ(w.part, "U1");
+        EXPECT_THAT(w.message, HasSubstr("accuracy cannot be assured"));
+    }
+}
+
+// A balanced bridge of in-range resistors whose output is a difference of one part in
+// 1e13: the refined solve's own error bound exceeds 1e-8 of the output and the warning
+// names a bridge resistor and its field (bound from rounding; common practice).
+TEST(Accuracy, CheckWarnsWhereTheOutputIsATinyDifference)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("V1", "top", "0", in).part = "V1";
+    const auto resistor = [&](const char *id, const char *a, const char *b, double ohms) {
+        NetlistElement &e = n.addResistor(id, a, b, ohms);
+        e.part = id;
+        e.field = "value";
+    };
+    resistor("RA", "top", "l", 1000.0);
+    resistor("RB", "l", "0", 1000.0);
+    resistor("RC", "top", "r", 1000.0);
+    resistor("RD", "r", "0", 1000.0 * (1 + 1e-13));
+    n.addCapacitor("CL", "l", "0", 1e-9).part = "CL";
+    n.addOutput({NetlistOutput::Kind::VoltageBetween, "r", "l"});
+    auto sys = assembleSystem(n);
+    ASSERT_TRUE(sys.ok()) << sys.errorText();
+    auto reduced = ReducedSystem::build(*sys);
+    ASSERT_TRUE(reduced.ok()) << reduced.errorText();
+    const cd probes[] = {0.0};
+    const CheckedEntry entries[] = {{{0, 0}, "the bridge output"}};
+    ReducedSystem bridge = std::move(reduced).value();
+    const AccuracyCheck check = bridge.checkAccuracy(probes, entries, 1e-8);
+    EXPECT_GT(check.worstRelativeError, 1e-8);
+    ASSERT_EQ(check.warnings.size(), 1u);
+    EXPECT_THAT(check.warnings.front().part, ::testing::AnyOf("RA", "RB", "RC", "RD"));
+    EXPECT_EQ(check.warnings.front().field, "value");
+    EXPECT_THAT(check.warnings.front().message, HasSubstr("the bridge output"));
+
+    // The same bridge out of balance by one part in 100 is well conditioned: no warning.
+    Netlist m = n;
+    m.elements[4].value = 1010.0;
+    auto sysM = assembleSystem(m);
+    ASSERT_TRUE(sysM.ok());
+    auto reducedM = ReducedSystem::build(*sysM);
+    ASSERT_TRUE(reducedM.ok());
+    ReducedSystem offBalance = std::move(reducedM).value();
+    const AccuracyCheck fine = offBalance.checkAccuracy(probes, entries, 1e-8);
+    EXPECT_LT(fine.worstRelativeError, 1e-12);
+    EXPECT_TRUE(fine.warnings.empty());
+}
+
+// Values outside what real parts offer are named with their field; 0 meaning "absent"
+// and infinity meaning "ideal" are not (limits: PartLimits, common practice).
+TEST(Accuracy, ValuesNoRealPartHasAreNamed)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    EXPECT_TRUE(partLimitWarnings(d).empty());
+    part(d, "CF").fields["value"] = Value{1e-16, {}};
+    part(d, "RF").fields["value"] = Value{1e14, {}};
+    part(d, "RL").fields["c"] = Value{0.0, {}};
+    part(d, "U1").fields["gain"] = Value{1e15, {}};
+    const Diagnostics w = partLimitWarnings(d);
+    ASSERT_EQ(w.size(), 3u) << toString(w);
+    std::set<std::pair<std::string, std::string>> named;
+    for (const Diagnostic &x : w)
+        named.insert({x.part, x.field});
+    EXPECT_TRUE(named.count({"CF", "value"}));
+    EXPECT_TRUE(named.count({"RF", "value"}));
+    EXPECT_TRUE(named.count({"U1", "gain"}));
+}
+
+// The warnings reach the JSON (an array of {part, field, message}) and the text output.
+TEST(Accuracy, WarningsAppearInJsonAndText)
+{
+    const Analysis a = analyzeOrDie(demoWithSeriesResistor(1e-15));
+    const std::string json = analysisToJson(a);
+    EXPECT_THAT(json, HasSubstr("\"warnings\": ["));
+    EXPECT_THAT(json, HasSubstr("\"part\": \"RX\""));
+    EXPECT_THAT(json, HasSubstr("\"field\": \"value\""));
+    const std::string text = analysisToText(a);
+    EXPECT_THAT(text, HasSubstr("Warnings"));
+    EXPECT_THAT(text, HasSubstr("part RX, field value"));
+    const Analysis demo = analyzeOrDie(loadOrDie(kDesignsDir / "demo.loopsketch"));
+    EXPECT_THAT(analysisToJson(demo), HasSubstr("\"warnings\": []"));
+    EXPECT_THAT(analysisToText(demo), Not(HasSubstr("Warnings")));
+}
+
+// Messages speak of the user's parts and fields, never of internal names such as U1:e.
+TEST(Accuracy, MessagesNameTheUsersPartAndField)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Netlist n = buildLoopNetlist(d);
+    n.controlled.front().polesHz.front() = -5.0;
+    auto sys = assembleSystem(n);
+    ASSERT_FALSE(sys.ok());
+    EXPECT_EQ(sys.diagnostics().front().part, "U1");
+    EXPECT_EQ(sys.diagnostics().front().field, "poles_hz");
+    EXPECT_THAT(sys.errorText(), Not(HasSubstr(":e")));
+
+    // A node held only by a capacitor has no DC solution: the message names the node and
+    // the parts at it in the user's words.
+    Netlist f = buildLoopNetlist(d);
+    NetlistElement &c = f.addCapacitor("CX", "out", "island", 1e-12);
+    c.part = "CX";
+    c.field = "value";
+    NetlistElement &r = f.addResistor("RX", "island", "island2", 1e3);
+    r.part = "RX";
+    r.field = "value";
+    auto fs = assembleSystem(f);
+    ASSERT_TRUE(fs.ok());
+    const std::string why = describeSingularity(*fs, 0.0);
+    EXPECT_THAT(why, HasSubstr("node island"));
+    EXPECT_THAT(why, HasSubstr("RX"));
+    EXPECT_THAT(why, Not(HasSubstr("v(")));
+    EXPECT_THAT(why, Not(HasSubstr("U1:e")));
+}
