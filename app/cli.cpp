@@ -200,7 +200,8 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
         return reportDiagnostics(err, analysis.diagnostics(), o.file);
     if (o.command == "analyze")
         return emit(*outputs->text, textOutputName(o.command),
-                    o.json ? analysisToJson(*analysis) : analysisToText(*analysis), out, err);
+                    o.json ? analysisToJson(*analysis) : analysisToText(*analysis, &design), out,
+                    err);
     if (o.command == "sweep")
         return emit(*outputs->csv, "sweep", sweepToCsv(*analysis), out, err);
 #ifdef LOOPSKETCH_HAVE_GUI

@@ -33,7 +33,7 @@ int main(int argc, char **argv)
         std::cerr << "loopsketch: " << analysis.errorText() << "\n";
         return app::kExitBadInput;
     }
-    std::cout << analysisToText(*analysis);
+    std::cout << analysisToText(*analysis, &*design);
     return app::kExitOk;
 #endif
 }

@@ -55,10 +55,10 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
 
 std::vector<PlotPanel::OverlayLine> LoopGainPanel::overlayLines(const Analysis &a) const
 {
-    return {{QStringLiteral("T"),
+    return {{QStringLiteral("loop gain T"),
              curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb), m_mag,
              CursorFormat::Decibels},
-            {QStringLiteral("gain"),
+            {QStringLiteral("gain, exact"),
              curvePoints(a.frequenciesHz, a.curves.gainExact, CurvePart::MagnitudeDb), m_mag,
              CursorFormat::Decibels}};
 }
@@ -108,10 +108,11 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
         : QStringLiteral("—");
     setTitle(tr("crossover %1  ·  phase margin %2  ·  gain margin %3")
                  .arg(engineering(a.margins.crossoverHz, "Hz"), pm, gm));
-    const QString unit = toQString(a.gainUnit);
-    m_mag->setTitleText(unit == QStringLiteral("V/V") || unit == QStringLiteral("A/A")
-                            ? tr("magnitude (dB)")
-                            : tr("magnitude (dB re 1 %1)").arg(unit));
+    // The axis carries the unitless loop gain too: plain dB (the gains' reference unit is in
+    // the panel's tooltip).
+    m_mag->setTitleText(tr("magnitude (dB)"));
+    setToolTip(
+        tr("T and A·β are pure ratios; the gains' dB are re 1 %1").arg(toQString(a.gainUnit)));
 }
 
 ImpedancePanel::ImpedancePanel(QWidget *parent) : PlotPanel(tr("Impedance"), parent)

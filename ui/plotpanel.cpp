@@ -414,8 +414,9 @@ void PlotPanel::rebuildOverlays()
                     s->setPen(pen);
                 replaceThinned(s, line.points, std::log10(f.front()), std::log10(f.back()),
                                line.format);
-                // One legend entry per candidate, its name in its colour; the series keep
-                // their full names for the cursor text.
+                // One legend entry per candidate, its name in its colour (one entry per curve
+                // is elided past reading in the panel's width); the series keep their full
+                // "candidate: quantity" names for the cursor text.
                 for (QLegendMarker *m : chart()->legend()->markers(s)) {
                     m->setVisible(firstOfSource);
                     if (firstOfSource && m->label() != source.name)

@@ -172,7 +172,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
             t0 ? engineering(t0, "") + QStringLiteral("  (") + dB(toDecibels(std::abs(*t0)))
                     + QStringLiteral(")")
                : QStringLiteral("—"),
-            tr("return ratio at DC"));
+            tr("return ratio at DC, a pure ratio (no unit)"));
     setCell(3, tr("desensitivity 1+T"), dB(a.desensitivityDb), tr("at DC"));
 
     if (a.twoPort) {
@@ -221,22 +221,28 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     else
         setCell(7, tr("peaking"), unstable, unstableTip);
 
-    const int verdicts[] = {gainVerdict, bwVerdict, pmVerdict};
-    int checked = 0, failed = 0;
-    for (int v : verdicts) {
-        checked += v != kNoVerdict;
-        failed += v == kFail;
-    }
-    if (!a.stable)
+    // The failing specs by name, their reasons in the tooltip (core's specVerdicts(), the
+    // same verdicts as checkSpecs(): an unstable loop fails every spec, reason "unstable").
+    if (!a.stable) {
+        const std::string failing = failingSpecLabels(a.specs);
         setCell(8, tr("specs"),
-                checked ? tr("fail: unstable (%1 of %1)").arg(checked) : tr("fail: unstable"),
+                failing.empty() ? tr("fail: unstable")
+                                : tr("fails: %1 (unstable)").arg(toQString(failing)),
                 toQString(a.closedLoopReason), kFail);
-    else if (checked == 0)
+    } else if (a.specs.empty()) {
         setCell(8, tr("specs"), tr("none set"));
-    else if (failed == 0)
-        setCell(8, tr("specs"), tr("pass (%1 of %1)").arg(checked), {}, kPass);
-    else
-        setCell(8, tr("specs"), tr("fail (%1 of %2)").arg(failed).arg(checked), {}, kFail);
+    } else {
+        QString reasons;
+        for (const SpecVerdict &v : a.specs)
+            reasons += (reasons.isEmpty() ? QString() : QStringLiteral("\n")) + toQString(v.label)
+                + QStringLiteral(": ") + (v.pass ? tr("pass") : tr("fail"))
+                + (v.reason.empty() ? QString() : QStringLiteral(" (") + toQString(v.reason) + ")");
+        const std::string failing = failingSpecLabels(a.specs);
+        if (failing.empty())
+            setCell(8, tr("specs"), tr("all pass (%1)").arg(a.specs.size()), reasons, kPass);
+        else
+            setCell(8, tr("specs"), tr("fails: %1").arg(toQString(failing)), reasons, kFail);
+    }
 
     // Integrated noise over core's band, referred to the output and to the input.
     if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {

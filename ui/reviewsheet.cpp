@@ -71,8 +71,11 @@ QString q(const std::string &s)
 
 QString eng(const OptionalNumber &v, std::string_view unit, int digits = 4)
 {
-    if (!v || !std::isfinite(*v))
+    if (!v || std::isnan(*v))
         return QStringLiteral("—");
+    if (std::isinf(*v)) // an open input: infinite, not missing
+        return (*v > 0 ? QStringLiteral("∞") : QStringLiteral("−∞"))
+            + (unit.empty() ? QString() : QStringLiteral(" ") + q(std::string(unit)));
     return q(formatEngineering(*v, digits, unit));
 }
 
@@ -97,27 +100,6 @@ QString percent(const OptionalNumber &v)
     if (std::abs(*v) < 0.001)
         return QStringLiteral("< 0.001 %");
     return QString::number(*v, 'g', 3) + QStringLiteral(" %");
-}
-
-QString partTypeText(PartType t)
-{
-    switch (t) {
-    case PartType::Resistor:
-        return QStringLiteral("resistor");
-    case PartType::Capacitor:
-        return QStringLiteral("capacitor");
-    case PartType::Inductor:
-        return QStringLiteral("inductor");
-    case PartType::VSource:
-        return QStringLiteral("voltage source");
-    case PartType::ISource:
-        return QStringLiteral("current source");
-    case PartType::GainBlock:
-        return QStringLiteral("gain block");
-    case PartType::Load:
-        return QStringLiteral("load");
-    }
-    return {};
 }
 
 // ---------------------------------------------------------------------------------------
@@ -188,7 +170,7 @@ public:
     }
 
     /// A section heading; `keepWithMm` of what follows must fit on the same page too.
-    void heading(const QString &text, double keepWithMm = 0)
+    void heading(const QString &text, double keepWithMm = 12)
     {
         ensure(14 + keepWithMm);
         m_y += 3;
@@ -764,15 +746,7 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
 
 QString revisionText(const Design &design)
 {
-    static const QRegularExpression re(
-        QStringLiteral("\\b(rev(?:ision)?\\.?\\s*[A-Za-z0-9][A-Za-z0-9.]*)"),
-        QRegularExpression::CaseInsensitiveOption);
-    for (const std::string *text : {&design.notes, &design.title}) {
-        const auto m = re.match(q(*text));
-        if (m.hasMatch())
-            return m.captured(1);
-    }
-    return {};
+    return q(design.revision);
 }
 
 QString designContentHash(const Design &design)
@@ -788,7 +762,8 @@ QString designContentHash(const Design &design)
 
 namespace {
 
-void titleBlock(SheetWriter &w, const Design &d, const Analysis &a, const QString &fileName)
+void titleBlock(SheetWriter &w, const Design &d, const Analysis &a, const QString &fileName,
+                const SheetSpread *spread)
 {
     w.paragraph(d.title.empty() ? QStringLiteral("Untitled design") : q(d.title),
                 sheetFont(15, true));
@@ -807,15 +782,43 @@ void titleBlock(SheetWriter &w, const Design &d, const Analysis &a, const QStrin
         w.advance(1);
     }
     w.advance(1.5);
+    // The revision as the design file writes it; no column when the file gives none.
     const QString rev = revisionText(d);
-    const std::vector<SheetWriter::Column> cols{{QStringLiteral("File"), 70},
-                                                {QStringLiteral("Date"), 28},
-                                                {QStringLiteral("Content hash"), 30},
-                                                {QStringLiteral("Revision"), 52}};
-    w.table(cols,
-            {{{fileName.isEmpty() ? QStringLiteral("(not saved)") : fileName,
-               QDate::currentDate().toString(Qt::ISODate), designContentHash(d),
-               rev.isEmpty() ? QStringLiteral("not stated in the notes") : rev}}});
+    std::vector<SheetWriter::Column> cols{{QStringLiteral("File"), 70},
+                                          {QStringLiteral("Date"), 28},
+                                          {QStringLiteral("Design hash"), 30}};
+    QStringList cells{fileName.isEmpty() ? QStringLiteral("(not saved)") : fileName,
+                      QDate::currentDate().toString(Qt::ISODate), designContentHash(d)};
+    if (!rev.isEmpty()) {
+        cols.push_back({QStringLiteral("Revision"), 52});
+        cells << rev;
+    }
+    w.table(cols, {{cells}});
+    // Provenance: what produced these numbers, so a reviewer can reproduce them.
+    const double kelvin = d.temperatureK();
+    QString band = QStringLiteral("not computed");
+    if (a.noise)
+        band = eng(a.noise->bandLowHz, "Hz") + QStringLiteral(" – ")
+            + eng(a.noise->bandHighHz, "Hz")
+            + (a.noise->bandKind == NoiseBandKind::Given ? QStringLiteral(" (noise_band)")
+                                                         : QStringLiteral(" (until converged)"));
+    QString monteCarlo = QStringLiteral("none (no toleranced parts, or 0 trials)");
+    if (spread)
+        monteCarlo = QStringLiteral("%1 trials (%2 completed), seed %3")
+                         .arg(spread->monteCarlo.trials)
+                         .arg(spread->monteCarlo.completed)
+                         .arg(spread->monteCarlo.seed);
+    w.paragraph(
+        QStringLiteral("Loopsketch %1 · design hash FNV-1a (32 bit) of the saved design text · "
+                       "sweep %2 – %3, %4 points per decade · temperature %5 K (%6 °C%7) · "
+                       "noise band %8 · Monte Carlo %9")
+            .arg(QStringLiteral(LOOPSKETCH_VERSION), eng(d.sweep.start.si, "Hz"),
+                 eng(d.sweep.stop.si, "Hz"))
+            .arg(d.sweep.pointsPerDecade)
+            .arg(QString::number(kelvin, 'g', 6), QString::number(kelvin - 273.15, 'g', 5),
+                 d.temperature ? QString() : QStringLiteral(", the default"), band, monteCarlo),
+        sheetFont(7.5), 0, QColor(70, 70, 70));
+    w.advance(1);
     if (!d.notes.empty())
         w.paragraph(q(d.notes), sheetFont(kBodyPt), 0, QColor(60, 60, 60));
 }
@@ -851,33 +854,28 @@ void sketchSection(SheetWriter &w, const Design &d)
 
 void partsSection(SheetWriter &w, const Design &d)
 {
-    w.heading(QStringLiteral("Parts"));
+    w.heading(QStringLiteral("Parts"), 3 * kRowMm);
+    // Every field that enters the analysis, from core's one table (partFieldTexts()), the
+    // same rows as `loopsketch analyze`.
     std::vector<SheetWriter::Row> rows;
+    const QColor grey(100, 100, 100);
     for (const Part &part : d.parts) {
-        QString value = QStringLiteral("—"), rkm = QStringLiteral("—");
-        const std::string_view field = part.primaryField();
-        if (!field.empty() && part.has(field)) {
-            const FieldSpec *spec = findFieldSpec(part.type, field);
-            const double v = part.number(field);
-            value = q(formatValue(v, spec ? spec->kind : ValueKind::Plain, 3));
-            if (spec
-                && (spec->kind == ValueKind::Resistance || spec->kind == ValueKind::Capacitance))
-                rkm = q(formatRkm(v, spec->kind, 3));
-        } else if (part.type == PartType::GainBlock && part.has("gain")) {
-            value = q(formatEngineering(part.number("gain"), 3, "V/V"));
+        const std::vector<PartFieldText> fields = partFieldTexts(part);
+        for (std::size_t i = 0; i < fields.size(); ++i) {
+            const PartFieldText &f = fields[i];
+            const QString who = i == 0 ? q(part.id)
+                : i == 1               ? q(std::string(partSpec(part.type).typeName))
+                                       : QString();
+            rows.push_back({{who, q(f.field), q(f.label), q(f.value), q(f.rkm), q(f.note)},
+                            {i == 0 ? kInk : grey, kInk, kInk, kInk, kInk, grey}});
         }
-        rows.push_back(
-            {{q(part.id), partTypeText(part.type), value, rkm,
-              part.series ? q(toString(*part.series)) : QStringLiteral("—"),
-              part.tolerance ? q(formatValue(part.tolerance->si, ValueKind::Tolerance, 3))
-                             : QStringLiteral("—")}});
     }
-    w.table({{QStringLiteral("Id"), 26},
-             {QStringLiteral("Type"), 38},
-             {QStringLiteral("Value"), 40, Qt::AlignRight},
-             {QStringLiteral("RKM"), 22, Qt::AlignRight},
-             {QStringLiteral("Series"), 24, Qt::AlignRight},
-             {QStringLiteral("Tolerance"), 30, Qt::AlignRight}},
+    w.table({{QStringLiteral("Part"), 19},
+             {QStringLiteral("Field"), 22},
+             {QStringLiteral("Quantity"), 46},
+             {QStringLiteral("Value"), 41, Qt::AlignRight},
+             {QStringLiteral("RKM"), 11, Qt::AlignRight},
+             {QStringLiteral("Note"), 41}},
             rows);
 }
 
@@ -915,8 +913,12 @@ void methodSection(SheetWriter &w, const Analysis &a)
     std::vector<SheetWriter::Row> rows{
         {{QStringLiteral("gain"), eng(tpv(&TwoPortSummary::gain), gu), eng(a.exact.gain, gu),
           eng(rr.gain, gu), percent(tpv(&TwoPortSummary::gainErrorPct))}},
-        {{QStringLiteral("loop gain"), eng(tpv(&TwoPortSummary::loopGain), ""), QStringLiteral("—"),
-          eng(rr.loopGain, ""), QStringLiteral("—")}},
+        {{QStringLiteral("loop gain (ratio)"), eng(tpv(&TwoPortSummary::loopGain), ""),
+          QStringLiteral("—"), eng(rr.loopGain, ""), QStringLiteral("—")}},
+        {{QStringLiteral("feedback factor β"),
+          a.topology ? eng(tpv(&TwoPortSummary::beta), a.topology->feedbackUnit())
+                     : QStringLiteral("—"),
+          QStringLiteral("—"), QStringLiteral("—"), QStringLiteral("—")}},
         {{QStringLiteral("z_in"), eng(tpv(&TwoPortSummary::zIn), "Ω"), eng(a.exact.zIn, "Ω"),
           eng(rr.zIn, "Ω"), percent(tpv(&TwoPortSummary::zInErrorPct))}},
         {{QStringLiteral("z_out"), eng(tpv(&TwoPortSummary::zOut), "Ω"), eng(a.exact.zOut, "Ω"),
@@ -1014,6 +1016,14 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
              {QStringLiteral("Spec"), 55, Qt::AlignRight},
              {QStringLiteral("Verdict"), 30, Qt::AlignRight}},
             rows);
+    // Name what fails and why (core's specVerdicts(), the verdicts of checkSpecs()).
+    QStringList failing;
+    for (const SpecVerdict &v : a.specs)
+        if (!v.pass)
+            failing << q(v.label) + (v.reason.empty() ? QString() : " (" + q(v.reason) + ")");
+    if (!failing.isEmpty())
+        w.paragraph(QStringLiteral("Fails: %1.").arg(failing.join(QStringLiteral("; "))),
+                    sheetFont(kBodyPt, true), 0, kFail);
 }
 
 void noiseSection(SheetWriter &w, const Analysis &a)
@@ -1524,7 +1534,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
                const SheetSpread *spread)
 {
     SheetWriter w(p, device, pdf, pageMm, k, totalPages);
-    titleBlock(w, d, a, fileName);
+    titleBlock(w, d, a, fileName, spread);
     warningsSection(w, a);
     sketchSection(w, d);
     partsSection(w, d);

@@ -442,6 +442,7 @@ void SpreadPanel::run()
     setBusy(true);
     m_progress->setRange(0, static_cast<int>(std::min<std::size_t>(state->total, INT_MAX)));
     m_progress->setValue(0);
+    m_progress->setFormat(QStringLiteral("%p %"));
     setMessage(tr("Running %1 worst-case corners and %2 Monte Carlo trials…")
                    .arg(corners)
                    .arg(QLocale().toString(base.trials)),
@@ -478,6 +479,21 @@ void SpreadPanel::run()
             this, [this, delivery] { deliver(delivery); }, Qt::QueuedConnection);
     });
     m_progressTimer->start();
+}
+
+QString SpreadPanel::progressText() const
+{
+    return m_progress->text();
+}
+
+int SpreadPanel::progressValue() const
+{
+    return m_progress->value();
+}
+
+int SpreadPanel::progressMaximum() const
+{
+    return m_progress->maximum();
 }
 
 void SpreadPanel::cancel()
@@ -521,9 +537,18 @@ void SpreadPanel::deliver(const std::shared_ptr<Delivery> &delivery)
     m_resultSpecs = delivery->specs;
     m_resultCurrent = true;
     const MonteCarloResult &mc = m_result->monteCarlo;
-    m_progress->setValue(m_progress->maximum());
+    if (mc.cancelled || userCancelled) {
+        // The bar shows how far the run got, never a full bar for a run cut short.
+        m_progress->setRange(0, static_cast<int>(std::min<std::size_t>(mc.trials, INT_MAX)));
+        m_progress->setValue(static_cast<int>(std::min<std::size_t>(mc.completed, INT_MAX)));
+        m_progress->setFormat(tr("cancelled at %1 of %2")
+                                  .arg(QLocale().toString(qulonglong(mc.completed)),
+                                       QLocale().toString(qulonglong(mc.trials))));
+    } else {
+        m_progress->setValue(m_progress->maximum());
+    }
     QString text = mc.cancelled || userCancelled
-        ? tr("Cancelled after %1 of %2 trials; the statistics below cover those.")
+        ? tr("Cancelled at %1 of %2 trials; the statistics below cover those.")
               .arg(QLocale().toString(qulonglong(mc.completed)),
                    QLocale().toString(qulonglong(mc.trials)))
         : tr("%1 trials, %2, seed %3, in %4 s.")

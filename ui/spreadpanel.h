@@ -71,6 +71,10 @@ public:
     bool isRunning() const { return m_running; }
     /// Corners and trials done so far in the running run (worst-case corners first).
     std::size_t progressDone() const { return m_state ? m_state->done.load() : 0; }
+    /// The progress bar as shown: its text, value and maximum.
+    QString progressText() const;
+    int progressValue() const;
+    int progressMaximum() const;
 
     /// The last result shown (possibly cancelled part way); nullptr before the first.
     const SheetSpread *lastResult() const { return m_result ? &*m_result : nullptr; }

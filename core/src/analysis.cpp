@@ -5,6 +5,7 @@
 #include "loopsketch/metrics.h"
 #include "loopsketch/partlimits.h"
 #include "loopsketch/workbudget.h"
+#include "loopsketch/trialmetrics.h"
 
 #include "noisesweep.h"
 
@@ -23,6 +24,23 @@ constexpr double kSensitivityStep = 1e-6; // relative, central difference
 OptionalNumber realPart(std::complex<double> v)
 {
     return finiteOrNone(v.real());
+}
+
+/// An impedance at DC: its real part, +infinity when it has no finite DC value and grows
+/// as the frequency falls (an open node at DC: a capacitance only, or nothing), nullopt when
+/// it does not exist at all. `low` and `lower` are the model at two falling frequencies far
+/// below any pole (1 µHz and 1 nHz): a capacitive impedance grows 1000x between them.
+OptionalNumber dcImpedance(std::complex<double> dc, std::complex<double> low,
+                           std::complex<double> lower)
+{
+    if (std::isfinite(dc.real()))
+        return dc.real();
+    const double a = std::abs(low), b = std::abs(lower);
+    if (std::isfinite(a) && std::isfinite(b) && a > 0 && b > 100.0 * a)
+        return std::numeric_limits<double>::infinity();
+    if (std::isinf(dc.real()))
+        return std::numeric_limits<double>::infinity();
+    return std::nullopt;
 }
 
 OptionalNumber errorPct(const OptionalNumber &estimate, const OptionalNumber &exact)
@@ -130,10 +148,20 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 
     const LoopPoint dc = model.at(0.0);
     a.exact.gain = realPart(dc.gain);
-    a.exact.zIn = realPart(dc.zIn);
-    a.exact.zOut = realPart(dc.zOut);
+    // Only when an impedance has no finite DC value: is it infinite (an open node) or absent?
+    const bool openAtDc = !std::isfinite(dc.zIn.real()) || !std::isfinite(dc.zOut.real())
+        || !std::isfinite(dc.rrZIn.real()) || !std::isfinite(dc.rrZOut.real())
+        || !std::isfinite(dc.tpZIn.real()) || !std::isfinite(dc.tpZOut.real());
+    const std::complex<double> twoPi(0.0, 2.0 * std::numbers::pi);
+    const LoopPoint low = openAtDc ? model.at(twoPi * 1e-6) : dc;
+    const LoopPoint lower = openAtDc ? model.at(twoPi * 1e-9) : dc;
+    const auto z = [&](std::complex<double> LoopPoint::*m) {
+        return dcImpedance(dc.*m, low.*m, lower.*m);
+    };
+    a.exact.zIn = z(&LoopPoint::zIn);
+    a.exact.zOut = z(&LoopPoint::zOut);
     a.returnRatio = {realPart(dc.loopGain), realPart(dc.gainInf), realPart(dc.feedthrough),
-                     realPart(dc.rrGain),   realPart(dc.rrZIn),   realPart(dc.rrZOut)};
+                     realPart(dc.rrGain),   z(&LoopPoint::rrZIn), z(&LoopPoint::rrZOut)};
     if (model.hasTwoPort()) {
         TwoPortSummary t;
         t.a = realPart(dc.a);
@@ -141,8 +169,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         t.loopGain = realPart(dc.tpLoopGain);
         t.closedLoop = realPart(dc.closedLoop);
         t.gain = realPart(dc.tpGain);
-        t.zIn = realPart(dc.tpZIn);
-        t.zOut = realPart(dc.tpZOut);
+        t.zIn = z(&LoopPoint::tpZIn);
+        t.zOut = z(&LoopPoint::tpZOut);
         t.gainErrorPct = errorPct(t.gain, a.exact.gain);
         t.zInErrorPct = errorPct(t.zIn, a.exact.zIn);
         t.zOutErrorPct = errorPct(t.zOut, a.exact.zOut);
@@ -249,6 +277,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         } else
             a.noiseProblem = noise.diagnostics().front().message;
     }
+    // The same check as the Candidates panel and the spread yield (checkSpecs()).
+    a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;
 }
 

@@ -1,5 +1,6 @@
 #include "loopsketch/analysis.h"
 #include "loopsketch/noisenames.h"
+#include "loopsketch/trialmetrics.h"
 
 #include "loopsketch/value.h"
 
@@ -19,6 +20,8 @@ namespace {
 
 using Json = nlohmann::ordered_json;
 
+// null where the quantity does not exist, the string "inf" where it is infinite (an open
+// input), the number otherwise.
 Json number(const OptionalNumber &v)
 {
     return detail::jsonNumber(v);
@@ -155,7 +158,104 @@ Json noiseJson(const Analysis &a)
     return j;
 }
 
+Json specsJson(const Analysis &a)
+{
+    Json list = Json::array();
+    for (const SpecVerdict &v : a.specs) {
+        Json limit = v.isWindow ? Json::array({number(v.low), number(v.high)}) : number(v.low);
+        list.push_back({{"name", v.name},
+                        {"limit", limit},
+                        {"value", number(v.value)},
+                        {"pass", v.pass},
+                        {"reason", v.reason}});
+    }
+    return list;
+}
+
 } // namespace
+
+std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a)
+{
+    const std::string g = a.gainUnit, ohm = "\u03A9", ratio = "1";
+    std::vector<std::pair<std::string, std::string>> u{
+        {"dc.exact.gain", g},
+        {"dc.exact.z_in", ohm},
+        {"dc.exact.z_out", ohm},
+    };
+    if (a.twoPort && a.topology) {
+        const std::string tg = a.topology->gainUnit();
+        u.insert(u.end(),
+                 {{"dc.two_port.a", tg},
+                  {"dc.two_port.beta", a.topology->feedbackUnit()},
+                  {"dc.two_port.loop_gain", ratio},
+                  {"dc.two_port.closed_loop", tg},
+                  {"dc.two_port.gain", g},
+                  {"dc.two_port.z_in", ohm},
+                  {"dc.two_port.z_out", ohm},
+                  {"dc.two_port.error_pct.gain", "%"},
+                  {"dc.two_port.error_pct.z_in", "%"},
+                  {"dc.two_port.error_pct.z_out", "%"},
+                  {"dc.two_port.loading.input", ratio},
+                  {"dc.two_port.loading.output", ratio},
+                  {"dc.two_port.loading.input_db", "dB"},
+                  {"dc.two_port.loading.output_db", "dB"}});
+    }
+    u.insert(u.end(),
+             {{"dc.return_ratio.loop_gain", ratio},
+              {"dc.return_ratio.gain_inf", g},
+              {"dc.return_ratio.feedthrough", g},
+              {"dc.return_ratio.gain", g},
+              {"dc.return_ratio.z_in", ohm},
+              {"dc.return_ratio.z_out", ohm},
+              {"margins.crossover_hz", "Hz"},
+              {"margins.phase_margin_deg", "\u00B0"},
+              {"margins.gain_margin_db", "dB"},
+              {"margins.phase_crossover_hz", "Hz"},
+              {"margins.gain_margins_db[].db", "dB"},
+              {"margins.gain_margins_db[].frequency_hz", "Hz"},
+              {"closed_loop.bandwidth_hz", "Hz"},
+              {"closed_loop.peaking_db", "dB"},
+              {"closed_loop.poles[].re", "rad/s"},
+              {"closed_loop.poles[].im", "rad/s"},
+              {"closed_loop.poles[].f_n_hz", "Hz"},
+              {"closed_loop.poles[].damping", ratio},
+              {"closed_loop.poles[].q", ratio},
+              {"closed_loop.step.rise_time_s", "s"},
+              {"closed_loop.step.overshoot_pct", "%"},
+              {"closed_loop.step.settling_time_s", "s"},
+              {"closed_loop.feedthrough_db", "dB"},
+              {"closed_loop.step.settling_band", ratio},
+              {"closed_loop.step.final_value", g},
+              {"desensitivity_db", "dB"},
+              {"sensitivity.*", "%/%"}});
+    if (a.noise && !a.noise->frequenciesHz.empty()) {
+        const auto [out, in] = noiseUnits(a.gainUnit);
+        const std::string outDensity = out + "/\u221AHz", inDensity = in + "/\u221AHz";
+        u.insert(u.end(),
+                 {{"noise.temperature_k", "K"},
+                  {"noise.band.low_hz", "Hz"},
+                  {"noise.band.high_hz", "Hz"},
+                  {"noise.output_rms", out},
+                  {"noise.input_rms", in},
+                  {"noise.input_rms_gain_at_hz", "Hz"},
+                  {"noise.brick_wall_equivalent.high_hz", "Hz"},
+                  {"noise.brick_wall_equivalent.output_rms", out},
+                  {"noise.brick_wall_equivalent.input_rms", in},
+                  {"noise.at_hz", "Hz"},
+                  {"noise.output_density", outDensity},
+                  {"noise.input_density", inDensity},
+                  {"noise.noise_gain", out + "/V"},
+                  {"noise.contributions[].output_density", outDensity},
+                  {"noise.contributions[].rms", out},
+                  {"noise.contributions[].share_pct", "%"}});
+    }
+    for (std::size_t i = 0; i < a.specs.size(); ++i) {
+        const std::string key = "specs[" + std::to_string(i) + "]";
+        u.push_back({key + ".limit", a.specs[i].unit});
+        u.push_back({key + ".value", a.specs[i].unit});
+    }
+    return u;
+}
 
 std::string analysisToJson(const Analysis &a)
 {
@@ -227,31 +327,88 @@ std::string analysisToJson(const Analysis &a)
                             {"field", w.field.empty() ? Json(nullptr) : Json(w.field)},
                             {"message", w.message}});
     j["warnings"] = warnings;
+    j["specs"] = specsJson(a);
+    Json units = Json::object();
+    for (const auto &[key, unit] : analysisUnits(a))
+        units[key] = unit;
+    j["units"] = units;
     return j.dump(2) + "\n";
 }
 
-std::string analysisToText(const Analysis &a)
+namespace {
+
+/// The text of one part's header line: "RF  resistor  a=in b=out".
+std::string partHeader(const Part &p)
+{
+    const PartSpec &spec = partSpec(p.type);
+    std::string line = p.id + "  " + std::string(spec.typeName) + " ";
+    for (std::size_t i = 0; i < spec.terminals.size() && i < p.nodes.size(); ++i)
+        line += " " + std::string(spec.terminals[i]) + "=" + p.nodes[i];
+    return line;
+}
+
+std::string padded(const std::string &text, std::size_t columns)
+{
+    // column count in characters, not bytes (labels carry "Ω", "√", "–")
+    std::size_t chars = 0;
+    for (unsigned char c : text)
+        chars += (c & 0xC0) != 0x80;
+    return text + std::string(chars < columns ? columns - chars : 1, ' ');
+}
+
+} // namespace
+
+std::string partsToText(const Design &design)
 {
     std::ostringstream os;
-    const auto show
-        = [&](const std::string &label, const OptionalNumber &v, const std::string &unit) {
-              os << "  " << label;
-              for (std::size_t i = label.size(); i < 26; ++i)
-                  os << ' ';
-              if (!v || std::isnan(*v)) {
-                  os << "\u2014\n"; // the quantity does not exist
-              } else if (unit == "%" || unit == "dB" || unit == "°") {
-                  // Percentages, decibels and degrees read best without SI prefixes.
-                  os << formatPlain(*v, std::abs(*v) < 1e-3 ? 2 : 5) << " " << unit << "\n";
-              } else {
-                  os << formatEngineering(*v, 5, unit) << "\n";
-              }
-          };
+    os << "Parts (every field the analysis uses; \"not given\": the default it uses)\n";
+    for (const Part &p : design.parts) {
+        os << "  " << partHeader(p) << "\n";
+        for (const PartFieldText &f : partFieldTexts(p)) {
+            std::string value = f.value;
+            if (!f.rkm.empty())
+                value += " (RKM " + f.rkm + ")";
+            if (!f.note.empty())
+                value += "  [" + f.note + "]";
+            os << "    " << padded(f.field, 14) << padded(f.label, 40) << value << "\n";
+        }
+    }
+    return os.str();
+}
+
+std::string analysisToText(const Analysis &a, const Design *design)
+{
+    std::ostringstream os;
+    const auto show = [&](const std::string &label, const OptionalNumber &v,
+                          const std::string &unit) {
+        os << "  " << padded(label, 26);
+        if (!v || std::isnan(*v)) {
+            os << "\u2014\n"; // the quantity does not exist
+        } else if (std::isinf(*v)) {
+            os << (*v > 0 ? "\u221E" : "-\u221E") << (unit == "ratio" ? "" : " " + unit) << "\n";
+        } else if (unit == "ratio") {
+            // A pure ratio (loop gain): no unit, named as such, with its decibels.
+            std::ostringstream db;
+            db.precision(4);
+            db << toDecibels(std::abs(*v));
+            os << formatEngineering(*v, 5) << " (ratio, " << db.str() << " dB)\n";
+        } else if (unit == "%" || unit == "dB" || unit == "\u00B0") {
+            // Percentages, decibels and degrees read best without SI prefixes.
+            os << formatPlain(*v, std::abs(*v) < 1e-3 ? 2 : 5) << " " << unit << "\n";
+        } else {
+            os << formatEngineering(*v, 5, unit) << "\n";
+        }
+    };
     os << a.title << "\n\n";
     if (!a.stable)
         os << "UNSTABLE: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
            << ".\nNo bandwidth, peaking, step response or noise rms: they do not exist for an "
               "unstable loop.\n\n";
+    if (design) {
+        if (!design->revision.empty())
+            os << "Revision: " << design->revision << "\n\n";
+        os << partsToText(*design) << "\n";
+    }
     if (!a.warnings.empty()) {
         os << "Warnings\n";
         for (const Diagnostic &w : a.warnings)
@@ -271,8 +428,8 @@ std::string analysisToText(const Analysis &a)
         const auto &t = *a.twoPort;
         os << "\nTwo-port estimate (DC)\n";
         show("A", t.a, a.topology->gainUnit());
-        show("beta", t.beta, "");
-        show("loop gain A·beta", t.loopGain, "");
+        show("feedback factor \u03B2", t.beta, a.topology->feedbackUnit());
+        show("loop gain A\u00B7\u03B2", t.loopGain, "ratio");
         show("gain", t.gain, a.gainUnit);
         show("  error vs exact", t.gainErrorPct, "%");
         show("z_in", t.zIn, "Ω");
@@ -283,7 +440,7 @@ std::string analysisToText(const Analysis &a)
         os << "\nTwo-port estimate: " << a.twoPortProblem << "\n";
     }
     os << "\nReturn ratio (DC)\n";
-    show("loop gain T", a.returnRatio.loopGain, "");
+    show("loop gain T", a.returnRatio.loopGain, "ratio");
     show("gain (asymptotic model)", a.returnRatio.gain, a.gainUnit);
     show("z_in (Blackman)", a.returnRatio.zIn, "Ω");
     show("z_out (Blackman)", a.returnRatio.zOut, "Ω");
@@ -404,6 +561,26 @@ std::string analysisToText(const Analysis &a)
         }
     } else if (!a.noiseProblem.empty()) {
         os << "\nNoise: " << a.noiseProblem << "\n";
+    }
+    if (!a.specs.empty()) {
+        os << "\nSpecs\n";
+        for (const SpecVerdict &v : a.specs) {
+            const auto limit = [&](const OptionalNumber &x, const char *open) {
+                return x ? formatEngineering(*x, 4, v.unit) : std::string(open);
+            };
+            std::string text = v.isWindow
+                ? limit(v.low, "-\u221E") + " \u2026 " + limit(v.high, "+\u221E")
+                : "\u2265 " + limit(v.low, "\u2014");
+            text += ", value "
+                + (v.value ? formatEngineering(*v.value, 5, v.unit) : std::string("\u2014"));
+            text += v.pass ? ": pass" : ": FAIL";
+            if (!v.reason.empty())
+                text += " (" + v.reason + ")";
+            os << "  " << padded(v.label, 26) << text << "\n";
+        }
+        const std::string failing = failingSpecLabels(a.specs);
+        if (!failing.empty())
+            os << "  fails: " << failing << "\n";
     }
     return os.str();
 }

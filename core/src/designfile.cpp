@@ -823,8 +823,8 @@ public:
             return std::nullopt;
         }
         checkKeys(root,
-                  {"schema", "title", "notes", "parts", "input", "output", "sweep", "specs",
-                   "candidates", "sketch", "temperature", "noise_band", "settling_band"},
+                  {"schema", "title", "revision", "notes", "parts", "input", "output", "sweep",
+                   "specs", "candidates", "sketch", "temperature", "noise_band", "settling_band"},
                   "", "");
         if (auto it = root.find("schema"); it == root.end()) {
             error("", "schema",
@@ -843,6 +843,8 @@ public:
         Design d;
         if (auto it = root.find("title"); it != root.end())
             d.title = readString(*it, "", "title").value_or("");
+        if (auto it = root.find("revision"); it != root.end())
+            d.revision = readString(*it, "", "revision").value_or("");
         if (auto it = root.find("notes"); it != root.end())
             d.notes = readString(*it, "", "notes").value_or("");
 
@@ -1047,6 +1049,8 @@ std::string serializeDesign(const Design &d)
     std::string s = "{\n";
     s += "  \"schema\": " + jsonString(kDesignSchema) + ",\n";
     s += "  \"title\": " + jsonString(d.title) + ",\n";
+    if (!d.revision.empty())
+        s += "  \"revision\": " + jsonString(d.revision) + ",\n";
     if (!d.notes.empty())
         s += "  \"notes\": " + jsonString(d.notes) + ",\n";
     if (d.parts.empty()) {

@@ -51,6 +51,13 @@ std::string Topology::gainUnit() const
     return out + "/" + in;
 }
 
+std::string Topology::feedbackUnit() const
+{
+    if (mixing == sampling)
+        return mixing == Connection::Shunt ? "S" : "\u03A9";
+    return mixing == Connection::Series ? "V/V" : "A/A";
+}
+
 namespace {
 
 bool isPassive(const Part &p)

@@ -190,6 +190,80 @@ SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics 
     return c;
 }
 
+std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep, const TrialMetrics &m,
+                                      std::string_view gainUnit)
+{
+    const SpecCheck check = checkSpecs(specs, sweep, m);
+    const auto verdict = [](std::string name, std::string label, std::string unit) {
+        SpecVerdict v;
+        v.name = std::move(name);
+        v.label = std::move(label);
+        v.unit = std::move(unit);
+        return v;
+    };
+    std::vector<SpecVerdict> out;
+    if (specs.gainMin || specs.gainMax) {
+        SpecVerdict v = verdict("gain", "gain", std::string(gainUnit));
+        if (specs.gainMin)
+            v.low = specs.gainMin->si;
+        if (specs.gainMax)
+            v.high = specs.gainMax->si;
+        v.isWindow = true;
+        v.value = m.gain;
+        v.pass = check.gain;
+        if (!m.gain)
+            v.reason = "no DC gain";
+        else if (specs.gainMin && *m.gain < specs.gainMin->si)
+            v.reason = "below the minimum";
+        else if (specs.gainMax && *m.gain > specs.gainMax->si)
+            v.reason = "above the maximum";
+        out.push_back(std::move(v));
+    }
+    if (specs.bandwidthMin) {
+        SpecVerdict v = verdict("bandwidth_min", "bandwidth", "Hz");
+        v.low = specs.bandwidthMin->si;
+        v.value = m.bandwidthHz;
+        v.pass = check.bandwidth;
+        if (m.bandwidthHz && !v.pass)
+            v.reason = "below the minimum";
+        else if (!m.bandwidthHz && !m.gain)
+            v.reason = "no DC gain";
+        else if (!m.bandwidthHz)
+            v.reason = v.pass ? "no -3 dB point inside the sweep, which ends above the minimum"
+                              : "no -3 dB point inside the sweep, which ends below the minimum";
+        out.push_back(std::move(v));
+    }
+    if (specs.phaseMarginMinDeg) {
+        SpecVerdict v = verdict("phase_margin_min_deg", "phase margin", "\u00B0");
+        v.low = *specs.phaseMarginMinDeg;
+        v.value = m.phaseMarginDeg;
+        v.pass = check.phaseMargin;
+        if (!m.phaseMarginDeg)
+            v.reason = "no loop crossover";
+        else if (!v.pass)
+            v.reason = "below the minimum";
+        out.push_back(std::move(v));
+    }
+    if (!check.stable) {
+        // checkSpecs() fails every spec of an unstable loop, for that one reason
+        for (SpecVerdict &v : out) {
+            v.pass = false;
+            v.reason = check.reason;
+        }
+    }
+    return out;
+}
+
+std::string failingSpecLabels(const std::vector<SpecVerdict> &verdicts)
+{
+    std::string text;
+    for (const SpecVerdict &v : verdicts) {
+        if (!v.pass)
+            text += (text.empty() ? "" : ", ") + v.label;
+    }
+    return text;
+}
+
 namespace detail {
 
 int workerCount(int threads, std::size_t count)

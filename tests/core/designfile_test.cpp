@@ -637,3 +637,26 @@ TEST(AtomicSave, ReplacesExistingFileKeepingMode)
               fs::perms::owner_read | fs::perms::owner_write | fs::perms::group_read);
     EXPECT_EQ(dir.entryCount(), 1u);
 }
+
+// `revision` is optional: kept as written (not derived from the title or the notes), written
+// back after the title, and absent from a file that had none.
+TEST(DesignFile, RevisionIsKeptAsWrittenAndOptional)
+{
+    auto base = parseDesign(kBase, "b");
+    ASSERT_TRUE(base.ok()) << base.errorText();
+    EXPECT_TRUE(base->revision.empty());
+    EXPECT_THAT(serializeDesign(*base), Not(HasSubstr("\"revision\"")));
+    Design d = *base;
+    d.notes = "rev Q in the notes is not the revision";
+    d.revision = "C.2 (after the bench run)";
+    const std::string text = serializeDesign(d);
+    EXPECT_THAT(text, HasSubstr("\"revision\": \"C.2 (after the bench run)\""));
+    const auto back = parseDesign(text, "rt");
+    ASSERT_TRUE(back.ok()) << back.errorText();
+    EXPECT_EQ(back->revision, "C.2 (after the bench run)");
+    EXPECT_EQ(serializeDesign(*back), text);
+    const auto wrongType = parseDesign(
+        replaced(text, "\"revision\": \"C.2 (after the bench run)\"", "\"revision\": 3"), "bad");
+    ASSERT_FALSE(wrongType.ok());
+    EXPECT_THAT(wrongType.errorText(), HasSubstr("revision"));
+}

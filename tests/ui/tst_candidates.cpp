@@ -430,7 +430,8 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
     loop->overlayAction()->setChecked(true);
     EXPECT_EQ(loop->overlaySeriesNames(),
-              QStringList({"Fast: T", "Fast: gain", "High gain: T", "High gain: gain"}));
+              QStringList({"Fast: loop gain T", "Fast: gain, exact", "High gain: loop gain T",
+                           "High gain: gain, exact"}));
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore + 4);
     // One legend entry per candidate, named after it, after the panel's own curves (once the
     // legend's posted layout has run).
@@ -444,7 +445,7 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     const Analysis fast = coreAnalysis(applied(design, candidateNamed(design, "Fast")));
     const QList<QPointF> want
         = curvePoints(fast.frequenciesHz, fast.curves.loopGain, CurvePart::MagnitudeDb);
-    QXYSeries *s = loop->series(QStringLiteral("Fast: T"));
+    QXYSeries *s = loop->series(QStringLiteral("Fast: loop gain T"));
     ASSERT_NE(s, nullptr);
     const QList<QPointF> full = loop->fullPoints(s);
     ASSERT_EQ(full.size(), want.size());
@@ -458,18 +459,18 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     QString error;
     ASSERT_TRUE(doc()->pinCandidate(QStringLiteral("Wide"), &error));
     settle();
-    EXPECT_TRUE(loop->overlaySeriesNames().contains(QStringLiteral("Wide: T")));
+    EXPECT_TRUE(loop->overlaySeriesNames().contains(QStringLiteral("Wide: loop gain T")));
     ASSERT_TRUE(doc()->deleteCandidate(QStringLiteral("Fast")));
     settle();
-    EXPECT_FALSE(loop->overlaySeriesNames().contains(QStringLiteral("Fast: T")));
-    EXPECT_EQ(loop->series(QStringLiteral("Fast: T")), nullptr);
+    EXPECT_FALSE(loop->overlaySeriesNames().contains(QStringLiteral("Fast: loop gain T")));
+    EXPECT_EQ(loop->series(QStringLiteral("Fast: loop gain T")), nullptr);
 
     loop->overlayAction()->setChecked(false);
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
     QApplication::processEvents();
     EXPECT_EQ(loop->legendLabels().size(), 4);
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore);
-    EXPECT_EQ(loop->series(QStringLiteral("Wide: T")), nullptr);
+    EXPECT_EQ(loop->series(QStringLiteral("Wide: loop gain T")), nullptr);
 
     // The Design menu's toggle turns on every frequency panel's overlays.
     QAction *all = nullptr;

@@ -23,6 +23,7 @@
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 
 using testing::HasSubstr;
@@ -91,6 +92,77 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
         EXPECT_THAT(sheet,
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(pageCount).toStdString()));
     EXPECT_THAT(sheet, HasSubstr("What the model does not cover"));
+
+    // Parts: every field of every part (partSpec() lists them) on one line of the sheet with
+    // its quantity, its value in engineering notation with the unit, and the RKM code where
+    // the value has one; a field left out or cut short ("…") fails. Common practice.
+    {
+        auto parts = loopsketch::loadDesign(designPath(c.design).toStdString());
+        ASSERT_TRUE(parts) << parts.errorText();
+        const QStringList sheetLines = text.out.split('\n');
+        for (const loopsketch::Part &part : parts->parts) {
+            EXPECT_THAT(sheet, HasSubstr(part.id));
+            const auto rows = loopsketch::partFieldTexts(part);
+            for (const loopsketch::FieldSpec &spec : loopsketch::partSpec(part.type).fields)
+                EXPECT_TRUE(std::any_of(rows.begin(), rows.end(),
+                                        [&](const auto &r) { return r.field == spec.name; }))
+                    << part.id << "." << spec.name;
+            for (const loopsketch::PartFieldText &row : rows) {
+                // compared without spaces: pdftotext drops the narrow one in "0 F"
+                const auto squeezed = [](QString t) {
+                    return t.remove(QLatin1Char(' '));
+                };
+                const auto has = [&](const QString &line) {
+                    return line.contains(QString::fromStdString(" " + row.field + " "))
+                        && line.contains(QString::fromStdString(row.label))
+                        && squeezed(line).contains(squeezed(QString::fromStdString(row.value)))
+                        && line.contains(QString::fromStdString(row.rkm))
+                        && !line.contains(QStringLiteral("…"));
+                };
+                EXPECT_TRUE(std::any_of(sheetLines.begin(), sheetLines.end(), has))
+                    << part.id << "." << row.field << ": " << row.label << " " << row.value << " "
+                    << row.rkm;
+            }
+        }
+    }
+    // Provenance on the first page: version, design hash, sweep, temperature, noise band,
+    // Monte Carlo trials and seed.
+    {
+        const std::string first = sheet.substr(0, sheet.find('\f'));
+        EXPECT_THAT(first, HasSubstr("Loopsketch " LOOPSKETCH_PROJECT_VERSION));
+        EXPECT_THAT(first, HasSubstr("Design hash"));
+        EXPECT_THAT(first, HasSubstr("points per decade"));
+        EXPECT_THAT(first, HasSubstr(" K ("));
+        EXPECT_THAT(first, HasSubstr("noise band"));
+        EXPECT_THAT(first, HasSubstr("2000 trials"));
+        EXPECT_THAT(first, HasSubstr("seed 1"));
+    }
+    // No heading at the foot of a page without its first lines: the last line of each page
+    // above the footer is never a section heading.
+    {
+        const QStringList headings{"Sketch",
+                                   "Parts",
+                                   "Topology",
+                                   "Methods side by side (DC)",
+                                   "Key metrics against the specs",
+                                   "Noise",
+                                   "Candidates",
+                                   "Spread over tolerances",
+                                   "Plots",
+                                   "What the model does not cover"};
+        const QStringList pageTexts = text.out.split('\f');
+        for (qsizetype p = 0; p < pageTexts.size(); ++p) {
+            QStringList lines = pageTexts[p].split('\n');
+            lines.removeIf([](const QString &l) {
+                return l.trimmed().isEmpty()
+                    || l.contains(QStringLiteral("Loopsketch review sheet"));
+            });
+            if (!lines.isEmpty()) {
+                EXPECT_FALSE(headings.contains(lines.last().trimmed()))
+                    << "page " << p + 1 << " ends with the heading " << lines.last().toStdString();
+            }
+        }
+    }
 
     const CliRun json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
@@ -463,3 +535,36 @@ TEST(ReviewSheetErrors, ExportNeedsPdf)
 }
 
 } // namespace
+
+// `revision` is shown as the design file writes it, and left out when it gives none (never
+// guessed from the title or the notes, whatever they say).
+TEST(ReviewSheetRevision, AsWrittenOrLeftOut)
+{
+    auto design = loopsketch::loadDesign(designPath("demo").toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    ASSERT_TRUE(design->revision.empty());
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const auto sheetOf = [&](const loopsketch::Design &d) {
+        const QString file = tmp.filePath("d.loopsketch"), pdf = tmp.filePath("d.pdf");
+        QFile f(file);
+        EXPECT_TRUE(f.open(QIODevice::WriteOnly));
+        f.write(QByteArray::fromStdString(loopsketch::serializeDesign(d)));
+        f.close();
+        const CliRun r = run(QStringLiteral(LOOPSKETCH_BIN),
+                             {QStringLiteral("export"), file, QStringLiteral("--pdf"), pdf,
+                              QStringLiteral("--spread-trials"), QStringLiteral("0")});
+        EXPECT_EQ(r.exitCode, 0) << r.err.toStdString();
+        return run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"})
+            .out.toStdString();
+    };
+    loopsketch::Design d = *design;
+    d.notes += " Rev Z appears in the notes.";
+    const std::string without = sheetOf(d);
+    EXPECT_THAT(without, testing::Not(HasSubstr("Revision")));
+    EXPECT_THAT(without, testing::Not(HasSubstr("not stated")));
+    d.revision = "B.7 (bench)";
+    const std::string with = sheetOf(d);
+    EXPECT_THAT(with, HasSubstr("Revision"));
+    EXPECT_THAT(with, HasSubstr("B.7 (bench)"));
+}

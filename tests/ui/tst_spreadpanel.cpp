@@ -257,7 +257,15 @@ TEST_F(SpreadPanelTest, CancelStopsALongRunAndShowsThePartialResult)
     EXPECT_TRUE(mc.cancelled);
     EXPECT_LT(mc.completed, mc.trials);
     EXPECT_GT(mc.completed, 0u);
-    EXPECT_THAT(panel->messageText().toStdString(), HasSubstr("Cancelled after"));
+    EXPECT_THAT(panel->messageText().toStdString(), HasSubstr("Cancelled at"));
+    // The bar stays where the run stopped: "cancelled at N of M", not a full bar.
+    EXPECT_EQ(panel->progressText(),
+              QStringLiteral("cancelled at %1 of %2")
+                  .arg(QLocale().toString(qulonglong(mc.completed)),
+                       QLocale().toString(qulonglong(mc.trials))));
+    EXPECT_EQ(panel->progressMaximum(), static_cast<int>(mc.trials));
+    EXPECT_EQ(panel->progressValue(), static_cast<int>(mc.completed));
+    EXPECT_LT(panel->progressValue(), panel->progressMaximum());
     EXPECT_EQ(panel->completedResult(), nullptr); // a partial run never goes on the sheet
     EXPECT_NE(panel->cellText(Metric::Gain, Column::Mean), QStringLiteral("—"));
 }

@@ -74,6 +74,23 @@ struct StepResult
     double finalValue = 0;
 };
 
+/// One spec's verdict as the analysis JSON (`specs`), the Readout and the review sheet show
+/// it; `pass` is checkSpecs()'s verdict for that spec.
+struct SpecVerdict
+{
+    std::string name; ///< design-file key: "gain", "bandwidth_min", "phase_margin_min_deg"
+    std::string label; ///< what a reviewer reads: "gain", "bandwidth", "phase margin"
+    std::string unit; ///< of the limits and the value: the gain unit, "Hz" or "°"
+    OptionalNumber low; ///< lower limit (gain minimum, bandwidth_min, phase_margin_min_deg)
+    OptionalNumber high; ///< upper limit (gain maximum only)
+    bool isWindow = false; ///< the limit is a [low, high] window (gain)
+    OptionalNumber value; ///< the design's value; nullopt where it does not exist
+    bool pass = true;
+    /// Why it fails ("below the minimum", "no loop crossover" ...); on a pass, empty unless
+    /// the value is missing ("no -3 dB point inside the sweep, which ends above the minimum").
+    std::string reason;
+};
+
 /// The curves every panel draws, one value per frequency of the sweep.
 struct AnalysisCurves
 {
@@ -116,6 +133,7 @@ struct Analysis
     AnalysisCurves curves;
     std::optional<NoiseAnalysis> noise; ///< absent when noiseProblem says why
     std::string noiseProblem;
+    std::vector<SpecVerdict> specs; ///< one per spec of the design (specVerdicts())
     /// Where the numbers cannot be trusted to full accuracy, each naming the user's part and
     /// field: a solve whose own check failed, or a value outside what real parts offer.
     /// Empty for ordinary designs. `file` is left empty (the caller knows it).
@@ -138,8 +156,19 @@ Result<Analysis> analyze(const Design &design, std::string_view file = {},
 /// The `loopsketch.analysis/1` JSON text (two-space indent, trailing newline).
 std::string analysisToJson(const Analysis &analysis);
 
-/// A readable text summary for the terminal.
-std::string analysisToText(const Analysis &analysis);
+/// A readable text summary for the terminal. With `design`, it starts with the Parts table
+/// (every field of every part, partFieldTexts()).
+std::string analysisToText(const Analysis &analysis, const Design *design = nullptr);
+
+/// The Parts table as text: every part with its nodes and every field of partFieldTexts().
+std::string partsToText(const Design &design);
+
+/// The unit of every numeric key path of analysisToJson()'s output, as its top-level
+/// `units` object holds it: "dc.two_port.beta" -> "S", "closed_loop.poles[].re" -> "rad/s"
+/// ("[]" stands for every element of a list, "*" for every key of a map; "[0]" for one list
+/// element whose unit differs from its siblings', as in `specs`). "1" marks a pure ratio
+/// (a loop gain, a damping ratio).
+std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &analysis);
 
 /// Sweep table as CSV: f_hz, then magnitude (dB) and phase (deg) columns per curve.
 std::string sweepToCsv(const Analysis &analysis);

@@ -42,6 +42,8 @@ struct FieldSpec
     ValueRange range;
     bool required;
     double defaultValue; ///< SI value used when the field is absent and not required
+    std::string_view label; ///< what a reviewer reads, e.g. "output resistance"
+    std::string_view unit; ///< unit symbol shown with the value: "Ω", "F", "V/√Hz", "V/V"
 };
 
 /// Static description of a part type: its JSON name, terminals and fields, in file order.
@@ -66,6 +68,20 @@ std::span<const PartSpec> allPartSpecs();
 
 /// The spec of field `field` of a type, nullptr when the type has no such field.
 const FieldSpec *findFieldSpec(PartType type, std::string_view field);
+
+/// One field of a part as a reviewer reads it: the review sheet's Parts table, the
+/// `analyze` text and the Inspector all show these rows, so they agree.
+struct PartFieldText
+{
+    std::string field; ///< design-file key: "r_in", "poles_hz", "series", "tolerance" ...
+    std::string label; ///< "input resistance (differential)"
+    std::string value; ///< engineering notation with unit: "10 MΩ", "316.2 kV/V (110 dB)"
+    std::string rkm; ///< IEC 60062 RKM code of a finite resistance or capacitance, else empty
+    /// Why the value reads as it does when it is not simply the file's: "not given: ideal",
+    /// "first pole at gbw / |gain| = 3.162 Hz". Empty otherwise.
+    std::string note;
+    bool given = true; ///< false: absent from the file, `value` is what the analysis uses
+};
 
 /// Characters allowed in a part id: letters, digits, '_' and '-'.
 bool isValidPartId(std::string_view id);
@@ -100,6 +116,12 @@ struct Part
 
     bool operator==(const Part &) const = default;
 };
+
+/// Every field of `part` that enters the analysis, in partSpec() order (absent fields with
+/// the default the analysis uses), then the gain block's poles and zeros, then the E-series
+/// and tolerance when given. Values in engineering notation with units (4 significant
+/// digits), infinite values as "∞ <unit>".
+std::vector<PartFieldText> partFieldTexts(const Part &part);
 
 enum class OutputKind { Voltage, Current };
 
@@ -172,6 +194,9 @@ struct SketchLayout
 struct Design
 {
     std::string title;
+    /// The design's revision as written in the file (`revision`, optional); empty when the
+    /// file gives none. Shown as written, never derived from the title or the notes.
+    std::string revision;
     std::string notes;
     std::vector<Part> parts;
     std::string input; ///< id of the signal source

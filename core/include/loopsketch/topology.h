@@ -32,6 +32,9 @@ struct Topology
     std::string gainType() const;
     /// Unit of A and the closed loop in this topology: "V/V", "V/A", "A/V", "A/A".
     std::string gainUnit() const;
+    /// Unit of the feedback factor beta (x12 of the parameter set): "S" (y), "Ω" (z), "V/V"
+    /// (h), "A/A" (g); the inverse of gainUnit(), so A*beta is a pure ratio.
+    std::string feedbackUnit() const;
 };
 
 std::string toString(Connection c);

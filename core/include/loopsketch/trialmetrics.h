@@ -59,6 +59,14 @@ struct SpecCheck
 };
 SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &metrics);
 
+/// The verdict of every spec the design states, in the order gain, bandwidth, phase margin.
+/// `gainUnit` is the unit of the closed-loop gain ("V/V", "V/A" ...).
+std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep,
+                                      const TrialMetrics &metrics, std::string_view gainUnit);
+
+/// The labels of the failing specs joined by ", " ("gain, phase margin"); empty when all pass.
+std::string failingSpecLabels(const std::vector<SpecVerdict> &verdicts);
+
 /// True when the design has at least one spec.
 bool hasSpecs(const Specs &specs);
 
