@@ -4,8 +4,8 @@
 #include "loopsketch/loopcircuit.h"
 #include "loopsketch/metrics.h"
 #include "loopsketch/partlimits.h"
-#include "loopsketch/workbudget.h"
 #include "loopsketch/trialmetrics.h"
+#include "loopsketch/workbudget.h"
 
 #include "noisesweep.h"
 
