@@ -100,8 +100,8 @@ std::vector<const NoiseContribution *> noiseSourcesByShare(const NoiseAnalysis &
         sorted.push_back(&c);
     // Without RMS values (no gain at some frequency) the sweep's summed power orders them.
     const auto weight = [&](const NoiseContribution *c) {
-        if (n.outputRms)
-            return c->rms;
+        if (n.outputRms && c->rms)
+            return *c->rms;
         return std::accumulate(c->outputPsd.begin(), c->outputPsd.end(), 0.0);
     };
     std::stable_sort(sorted.begin(), sorted.end(),
@@ -111,9 +111,9 @@ std::vector<const NoiseContribution *> noiseSourcesByShare(const NoiseAnalysis &
 
 std::optional<double> noiseSharePct(const NoiseAnalysis &n, const NoiseContribution &c)
 {
-    if (!n.outputRms || !(*n.outputRms > 0) || !std::isfinite(*n.outputRms))
+    if (!n.outputRms || !(*n.outputRms > 0) || !std::isfinite(*n.outputRms) || !c.rms)
         return std::nullopt;
-    return 100.0 * c.rms * c.rms / (*n.outputRms * *n.outputRms);
+    return 100.0 * *c.rms * *c.rms / (*n.outputRms * *n.outputRms);
 }
 
 NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)

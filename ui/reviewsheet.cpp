@@ -1091,12 +1091,12 @@ void noiseSection(SheetWriter &w, const Analysis &a)
         // Five rows, or six when the sixth is the last source: an "others" row of one
         // source would only hide its name.
         if (i >= kRows && order.size() > kRows + 1) {
-            restPower += c.rms * c.rms;
+            restPower += c.rms ? *c.rms * *c.rms : 0.0;
             restPsd += psd;
             continue;
         }
         rows.push_back({{noiseSourceName(c), kind(c.kind), eng(std::sqrt(psd), out + "/√Hz"),
-                         eng(c.rms, out), share(c.rms)}});
+                         eng(c.rms.value_or(NAN), out), share(c.rms.value_or(NAN))}});
     }
     if (order.size() > kRows + 1)
         rows.push_back({{QStringLiteral("%1 other sources").arg(order.size() - kRows),

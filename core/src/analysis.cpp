@@ -272,7 +272,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
                 a.noise->outputRms.reset();
                 a.noise->inputRms.reset();
                 for (NoiseContribution &contribution : a.noise->contributions)
-                    contribution.rms = std::numeric_limits<double>::quiet_NaN();
+                    contribution.rms.reset();
             }
         } else
             a.noiseProblem = noise.diagnostics().front().message;

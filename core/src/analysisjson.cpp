@@ -152,7 +152,8 @@ Json noiseJson(const Analysis &a)
              {"kind", noiseKindName(c.kind)},
              {"output_density", number(std::sqrt(c.outputPsd.front()))},
              {"rms", number(c.rms)},
-             {"share_pct", total > 0 ? number(100.0 * c.rms * c.rms / total) : Json(nullptr)}});
+             {"share_pct",
+              total > 0 && c.rms ? number(100.0 * *c.rms * *c.rms / total) : Json(nullptr)}});
     }
     j["contributions"] = sources;
     return j;
@@ -390,7 +391,10 @@ std::string analysisToText(const Analysis &a, const Design *design)
             // A pure ratio (loop gain): no unit, named as such, with its decibels.
             std::ostringstream db;
             db.precision(4);
-            db << toDecibels(std::abs(*v));
+            if (*v == 0.0)
+                db << "-\u221E"; // the decibels of an exact zero
+            else
+                db << toDecibels(std::abs(*v));
             os << formatEngineering(*v, 5) << " (ratio, " << db.str() << " dB)\n";
         } else if (unit == "%" || unit == "dB" || unit == "\u00B0") {
             // Percentages, decibels and degrees read best without SI prefixes.
@@ -550,14 +554,16 @@ std::string analysisToText(const Analysis &a, const Design *design)
         std::vector<const NoiseContribution *> order;
         for (const NoiseContribution &c : n.contributions)
             order.push_back(&c);
-        std::stable_sort(order.begin(), order.end(),
-                         [](const auto *l, const auto *r) { return l->rms > r->rms; });
+        std::stable_sort(order.begin(), order.end(), [](const auto *l, const auto *r) {
+            return l->rms.value_or(0) > r->rms.value_or(0);
+        });
         const double total = n.outputRms ? *n.outputRms * *n.outputRms : 0.0;
-        for (std::size_t i = 0; i < order.size() && i < 3 && total > 0; ++i) {
-            const double pct = 100.0 * order[i]->rms * order[i]->rms / total;
+        for (std::size_t i = 0; i < order.size() && i < 3 && total > 0 && order[i]->rms; ++i) {
+            const double rms = *order[i]->rms;
+            const double pct = 100.0 * rms * rms / total;
             line(i == 0 ? "largest sources" : "",
                  noiseSourceLabel(*order[i]) + ": " + formatPlain(pct, pct < 1e-3 ? 2 : 4)
-                     + " % of the power, " + formatEngineering(order[i]->rms, 5, outUnit) + " rms");
+                     + " % of the power, " + formatEngineering(rms, 5, outUnit) + " rms");
         }
     } else if (!a.noiseProblem.empty()) {
         os << "\nNoise: " << a.noiseProblem << "\n";

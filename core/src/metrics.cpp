@@ -339,7 +339,10 @@ std::vector<ClosedLoopPole> describePoles(const std::vector<std::complex<double>
         const double wn = std::abs(s);
         p.naturalHz = wn / (2 * kPi);
         p.damping = wn > 0 ? -s.real() / wn : 1.0;
-        p.q = s.real() != 0.0 ? wn / (-2.0 * s.real()) : std::numeric_limits<double>::infinity();
+        // A pole at the origin is real: Q = 1/(2 damping) = 0.5 as for any real pole.
+        p.q = s.real() != 0.0 ? wn / (-2.0 * s.real())
+            : wn > 0          ? std::numeric_limits<double>::infinity()
+                              : 0.5;
         out.push_back(p);
     }
     return out;

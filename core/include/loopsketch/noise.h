@@ -61,7 +61,9 @@ struct NoiseContribution
     /// Per sweep frequency: power density at the output, V^2/Hz (A^2/Hz for a current
     /// output).
     std::vector<double> outputPsd;
-    double rms = 0; ///< output RMS of this source over the band, V (A for a current output)
+    /// Output RMS of this source over the band, V (A for a current output); empty where a
+    /// noise power does not exist (an unstable loop).
+    std::optional<double> rms;
 };
 
 /// How the band of the rms figures was set.
