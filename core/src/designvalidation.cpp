@@ -277,16 +277,29 @@ void checkSweep(const Sweep &s, Checker &c)
         c.add("", "sweep.stop", "sweep stop must be above sweep start");
         ends = false;
     }
+    // Frequencies are formed as start * (stop/start)^x: a span past kMaxSweepDecades
+    // overflows that ratio, and no loop needs it.
+    if (ends && std::log10(f1) - std::log10(f0) > kMaxSweepDecades) {
+        c.add("", "sweep.start",
+              "the sweep spans " + formatPlain(std::log10(f1) - std::log10(f0), 4)
+                  + " decades; at most " + std::to_string(kMaxSweepDecades)
+                  + " are allowed (raise the start or lower the stop)");
+        ends = false;
+    }
     if (s.pointsPerDecade < 1 || s.pointsPerDecade > 1000) {
         c.add("", "sweep.points_per_decade", "points_per_decade must be an integer from 1 to 1000");
         return;
     }
     if (ends) {
-        const double points = std::round(std::log10(f1 / f0) * s.pointsPerDecade) + 1;
-        if (points > static_cast<double>(kMaxSweepPoints)) {
+        const double points = std::round((std::log10(f1) - std::log10(f0)) * s.pointsPerDecade) + 1;
+        if (!(points <= static_cast<double>(kMaxSweepPoints))) {
+            // An infinite count (a span of ~1e308 decades) cannot be written as a number.
+            const std::string count = std::isfinite(points)
+                ? std::to_string(static_cast<long long>(points))
+                : std::string("too many");
             c.add("", "sweep.points_per_decade",
-                  "the sweep has " + std::to_string(static_cast<long long>(points))
-                      + " points; at most " + std::to_string(kMaxSweepPoints) + " are allowed");
+                  "the sweep has " + count + " points; at most " + std::to_string(kMaxSweepPoints)
+                      + " are allowed");
         }
     }
 }

@@ -876,14 +876,13 @@ TEST(CliSynopsis, ReadmeCommandLineBlockMatchesHelp)
     const std::string block = readmeCommandBlock(readText(LOOPSKETCH_README));
     ASSERT_FALSE(block.empty()) << "README.md has no fenced block under \"## Command line\"";
     std::vector<std::string> fromReadme = commandSynopses(block);
-    // A build without the GUI has no `export` command and leaves it out of --help; the
-    // README documents the full program, so its export line is compared only when the
-    // binary has the command.
-    const CliRun exportProbe = runCli({"export"});
-    ASSERT_TRUE(exportProbe.exited);
-    if (exportProbe.err.find("unknown command") != std::string::npos)
-        std::erase_if(fromReadme,
-                      [](const std::string &s) { return s.rfind("loopsketch export", 0) == 0; });
+    // A build without the GUI (the asan preset) has no `export` command and leaves it out
+    // of --help; the README documents the full program, so its export line is compared only
+    // when the binary has the command.
+#ifndef LOOPSKETCH_TEST_HAVE_GUI
+    std::erase_if(fromReadme,
+                  [](const std::string &s) { return s.rfind("loopsketch export", 0) == 0; });
+#endif
     // analyze, sweep, spread, suggest, the GUI line and --help at the very least
     EXPECT_GE(fromHelp.size(), 6U) << help.out;
     EXPECT_EQ(fromReadme, fromHelp) << "README.md's \"Command line\" block has drifted from "

@@ -15,6 +15,8 @@ inline constexpr std::size_t kMaxDesignFileBytes = 16u * 1024u * 1024u;
 inline constexpr std::size_t kMaxParts = 10000;
 /// Most frequency points in one sweep.
 inline constexpr std::size_t kMaxSweepPoints = 10000;
+/// Decades one sweep may span (stop / start at most 1e20).
+inline constexpr int kMaxSweepDecades = 20;
 /// Longest part id, in characters (UTF-8 code points).
 inline constexpr std::size_t kMaxPartIdChars = 64;
 /// Longest candidate name, in characters (UTF-8 code points).
