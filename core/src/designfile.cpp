@@ -6,6 +6,8 @@
 
 #include "loopsketch/designfile.h"
 
+#include "utf8text.h"
+
 #include <nlohmann/json.hpp>
 
 #include <charconv>
@@ -115,24 +117,8 @@ std::string controlName(char ch)
 }
 
 // Characters (code points) of valid UTF-8 text.
-std::size_t utf8Length(std::string_view s)
-{
-    std::size_t n = 0;
-    for (const char ch : s)
-        n += (static_cast<unsigned char>(ch) & 0xC0) != 0x80;
-    return n;
-}
-
-// At most `chars` code points of `s`, with "…" when cut.
-std::string utf8Prefix(std::string_view s, std::size_t chars)
-{
-    std::size_t n = 0;
-    for (std::size_t i = 0; i < s.size(); ++i) {
-        if ((static_cast<unsigned char>(s[i]) & 0xC0) != 0x80 && n++ == chars)
-            return std::string(s.substr(0, i)) + "\u2026";
-    }
-    return std::string(s);
-}
+using detail::utf8Length;
+using detail::utf8Prefix;
 
 // A key or id as messages show it: long ones cut, so that a hostile 100,000-character key
 // makes a short message, and control characters written as JSON escapes (\u0000), so that

@@ -3,6 +3,8 @@
 #include "loopsketch/design.h"
 #include "loopsketch/designfile.h"
 
+#include "utf8text.h"
+
 #include <cmath>
 #include <cstdio>
 #include <map>
@@ -407,23 +409,8 @@ void checkSketch(const Design &d, Checker &c)
     }
 }
 
-std::size_t utf8Length(std::string_view s)
-{
-    std::size_t n = 0;
-    for (const char ch : s)
-        n += (static_cast<unsigned char>(ch) & 0xC0) != 0x80;
-    return n;
-}
-
-std::string utf8Prefix(std::string_view s, std::size_t chars)
-{
-    std::size_t n = 0;
-    for (std::size_t i = 0; i < s.size(); ++i) {
-        if ((static_cast<unsigned char>(s[i]) & 0xC0) != 0x80 && n++ == chars)
-            return std::string(s.substr(0, i)) + "\u2026";
-    }
-    return std::string(s);
-}
+using detail::utf8Length;
+using detail::utf8Prefix;
 
 std::string tooLong(std::string_view what, std::size_t length, std::size_t limit,
                     std::string_view unit)
