@@ -1,12 +1,12 @@
 #include "analysischecks.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/circuit.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopcircuit.h"
-#include "loopsketch/loopmodel.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/loopmodel.h"
 
-#include "refinedsolve.h"
+#include "circuit/refinedsolve.h"
 
 #include <algorithm>
 #include <array>
@@ -22,8 +22,8 @@
 
 // The part-limit warnings (values outside what real parts offer) come with the accuracy
 // warnings in Analysis::warnings but exempt nothing: only a solve's own accuracy check does.
-#if __has_include("loopsketch/partlimits.h")
-#include "loopsketch/partlimits.h"
+#if __has_include("loopsketch/design/partlimits.h")
+#include "loopsketch/design/partlimits.h"
 #define LOOPSKETCH_FUZZ_PART_LIMITS 1
 #endif
 
@@ -309,7 +309,7 @@ void checkCurves(const Analysis &a, Checker &c)
 /// tolerance kIdentityTolerance has nothing to be relative to, and both sides of an
 /// identity are rounding of the same size as their difference.
 ///
-/// Derivation. The product's careful solve (core/src/refinedsolve.*) bounds the absolute
+/// Derivation. The product's careful solve (core/src/circuit/refinedsolve.*) bounds the absolute
 /// error of an entry h = l^T A^-1 b of a system A = G + sC to first order by
 ///   beta(h) = |z|^T |r| + eps * (sum over stamps |z_row| |stamp value (times |s| if
 ///             reactive)| |x_col| + sum_i |z_i| |b_i|),   z = A^-T l,
