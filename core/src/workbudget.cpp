@@ -1,5 +1,6 @@
 #include "loopsketch/workbudget.h"
 
+#include "loopsketch/circuit.h"
 #include "loopsketch/loopcircuit.h"
 #include "loopsketch/netlist.h"
 
@@ -82,8 +83,9 @@ CircuitSize circuitSize(const Design &design)
         node(c.inP);
         node(c.inN);
         node(c.out);
-        s.unknowns += 1 + c.polesHz.size();
-        dynamic += c.polesHz.size();
+        const std::size_t states = gainBlockStates(netlist, c);
+        s.unknowns += 1 + states;
+        dynamic += states;
     }
     s.unknowns += nodes.size();
     s.reducedOrder = std::min(s.unknowns, dynamic);

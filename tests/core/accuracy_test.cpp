@@ -256,6 +256,31 @@ TEST(Accuracy, DemoAtTwoHundredFortyDecibelsKeepsEveryPole)
     }
 }
 
+// A follower whose gain block has zeros far below its poles (0.027 Hz and 1.691 kHz under
+// 400 MHz and 15 GHz: pole-zero ratios whose product is 1.3e17): gain(0) = 13 whatever the
+// zeros, so the loop gain at DC is 13 RL / (RL + r_out) and the closed-loop gain
+// T / (1 + T) (follower: the output divides across r_out and RL, the whole output fed
+// back; common practice). The former stamping of the zeros gave T = 122.35 here.
+TEST(Accuracy, FollowerWithZerosFarBelowPolesKeepsItsLoopGain)
+{
+    const Design d = parseOrDie(R"({"schema": "loopsketch.design/1", "title": "follower",
+      "parts": [
+        {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+        {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "out", "out": "out",
+         "gain": 13, "poles_hz": [4e8, 1.5e10], "zeros_hz": [0.027, 1691], "r_out": 31},
+        {"id": "RL", "type": "load", "a": "out", "b": "0", "r": 1e6}],
+      "input": "VS", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1M", "points_per_decade": 2}})");
+    auto model = LoopModel::build(d);
+    ASSERT_TRUE(model.ok()) << model.errorText();
+    const double t = 13.0 * 1e6 / (1e6 + 31.0);
+    EXPECT_LT(relErr(model->loopGainAt(0.0), cd(t)), 1e-12);
+    const Analysis a = analyzeOrDie(d);
+    ASSERT_TRUE(a.exact.gain);
+    EXPECT_LT(relErr(*a.exact.gain, t / (1 + t)), 1e-12);
+    EXPECT_TRUE(a.warnings.empty()) << toString(a.warnings);
+}
+
 // A balanced bridge of in-range resistors whose output is a difference of one part in
 // 1e13: the refined solve's own error bound exceeds 1e-8 of the output and the warning
 // names a bridge resistor and its field (bound from rounding; common practice).
