@@ -379,12 +379,12 @@ std::complex<double> newtonStep(const ScaledPencil &p, std::complex<double> s)
     const cd sp = s / p.w0;
     const Eigen::MatrixXcd a = p.g.cast<cd>() + sp * p.c.cast<cd>();
     Eigen::PartialPivLU<Eigen::MatrixXcd> lu(a);
-    const Eigen::MatrixXcd x = lu.solve(p.c.cast<cd>());
-    if (!x.allFinite())
+    if ((lu.matrixLU().diagonal().array() == cd(0.0)).any())
         return 0.0;
+    const Eigen::MatrixXcd x = lu.solve(p.c.cast<cd>());
     const cd trace = x.trace();
-    if (!(std::abs(trace) > 0))
-        return {std::numeric_limits<double>::quiet_NaN(), 0.0};
+    if (!(std::abs(trace) > 0) || !std::isfinite(std::abs(trace)))
+        return {std::numeric_limits<double>::quiet_NaN(), 0.0}; // overflow: no verdict
     return p.w0 / trace;
 }
 
@@ -584,6 +584,30 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
         return std::abs(x) != std::abs(y) ? std::abs(x) < std::abs(y) : x.imag() < y.imag();
     });
     return poles;
+}
+
+std::optional<Diagnostic> ReducedSystem::unconfirmedPolesWarning() const
+{
+    if (m_unconfirmedPoles <= 0 || !m_system)
+        return std::nullopt;
+    const StampEntry *largest = nullptr;
+    for (const StampEntry &e : m_system->stamps) {
+        const StampOrigin &o = m_system->origins[static_cast<std::size_t>(e.origin)];
+        if (!o.part.empty() && !e.reactive
+            && (!largest || std::abs(e.value) > std::abs(largest->value)))
+            largest = &e;
+    }
+    Diagnostic d;
+    if (largest) {
+        d.part = m_system->origins[static_cast<std::size_t>(largest->origin)].part;
+        d.field = m_system->origins[static_cast<std::size_t>(largest->origin)].field;
+    }
+    d.message = "accuracy cannot be assured: " + std::to_string(m_unconfirmedPoles)
+        + (m_unconfirmedPoles == 1 ? " natural frequency" : " natural frequencies")
+        + " of the circuit counted but not located, so the poles listed are not all of "
+          "them (rounding in the circuit equations, whose largest entry comes from this "
+          "value)";
+    return d;
 }
 
 AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>> probes,

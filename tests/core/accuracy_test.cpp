@@ -284,6 +284,24 @@ TEST(Accuracy, DemoKeepsEveryPoleFromOneHundredTwentyToFourHundredDecibels)
     }
 }
 
+// The demo at 1e50 (1000 dB): the argument principle counts four natural frequencies but
+// the pencil, spanning 1e50 to 1e-12, lets Newton's method confirm only some; the analysis
+// says so and names the gain block's gain, whose entry is the largest, rather than listing
+// fewer poles silently (common practice: a solve that cannot check itself says so).
+TEST(Accuracy, PolesThatCannotBeLocatedAreNamedInAWarning)
+{
+    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    part(d, "U1").fields["gain"] = Value{1e50, {}};
+    const Analysis a = analyzeOrDie(d);
+    ASSERT_LT(a.poles.size(), 4u) << "the case no longer exercises the warning";
+    bool named = false;
+    for (const Diagnostic &w : a.warnings)
+        named = named
+            || (w.part == "U1" && w.field == "gain"
+                && w.message.find("counted but not located") != std::string::npos);
+    EXPECT_TRUE(named) << toString(a.warnings);
+}
+
 // A follower whose gain block has zeros far below its poles (0.027 Hz and 1.691 kHz under
 // 400 MHz and 15 GHz: pole-zero ratios whose product is 1.3e17): gain(0) = 13 whatever the
 // zeros, so the loop gain at DC is 13 RL / (RL + r_out) and the closed-loop gain

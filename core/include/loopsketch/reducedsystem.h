@@ -18,6 +18,7 @@
 #include <complex>
 #include <initializer_list>
 #include <memory>
+#include <optional>
 #include <span>
 #include <string>
 #include <vector>
@@ -130,6 +131,10 @@ public:
     /// How many natural frequencies the last naturalFrequencies() call counted but could
     /// not locate (0 when every one was found and confirmed).
     int unconfirmedPoles() const { return m_unconfirmedPoles; }
+    /// When the last naturalFrequencies() call left some unlocated, a warning naming the
+    /// part and field behind the largest entry of the circuit equations (the value that
+    /// stretches their range the most); std::nullopt otherwise.
+    std::optional<Diagnostic> unconfirmedPolesWarning() const;
 
     /// True when the DC point (s = 0) is regular.
     bool dcRegular() const;
