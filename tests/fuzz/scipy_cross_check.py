@@ -8,8 +8,9 @@ the CLI analyzes, runs `loopsketch sweep FILE --csv` on each, and recomputes the
 z_in, z_out and the return-ratio loop gain T at every sweep frequency with its own modified
 nodal analysis: scipy.linalg.lu_factor/lu_solve on the complex matrix at s = j 2 pi f, the
 gain block as a voltage source of gain(s) (v(in_p) - v(in_n)) evaluated as the rational
-function itself (core realises its poles as internal states instead), following the
-conventions of DESIGN.md section 5. A design the CLI refuses (exit 2) is skipped; any other
+function itself (core realises its poles as internal states instead), c_in between the
+inputs and c_cm from each input to ground, following the conventions of DESIGN.md
+sections 4 and 5. A design the CLI refuses (exit 2) is skipped; any other
 failure fails the check.
 
 Tolerances: 1e-5 dB in magnitude and 1e-4 degree in phase (the CSV carries 10 significant
@@ -157,6 +158,8 @@ def solve(design, s, mode):
     if "r_in" in gb:
         m.admittance(gb["in_p"], gb["in_n"], 1.0 / num(gb, "r_in"))
     m.admittance(gb["in_p"], gb["in_n"], s * num(gb, "c_in", 0.0))
+    for pin in ("in_p", "in_n"):  # c_cm from each input pin to ground (DESIGN.md section 4)
+        m.admittance(gb[pin], "0", s * num(gb, "c_cm", 0.0))
     e_node = "#e" if r_out > 0 else gb["out"]
     if r_out > 0:
         m.admittance("#e", gb["out"], 1.0 / r_out)

@@ -215,6 +215,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     a.exact.zOutSweep = c.zOutExact;
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
+    if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())
+        a.warnings.push_back(std::move(*w));
     a.poles = describePoles(closedLoopPoles);
     const Stability verdict = assessStability(a.poles);
     a.stable = verdict.stable;

@@ -1,5 +1,6 @@
 #include "loopsketch/analysis/workbudget.h"
 
+#include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/circuit/netlist.h"
 
@@ -82,8 +83,9 @@ CircuitSize circuitSize(const Design &design)
         node(c.inP);
         node(c.inN);
         node(c.out);
-        s.unknowns += 1 + c.polesHz.size();
-        dynamic += c.polesHz.size();
+        const std::size_t states = gainBlockStates(netlist, c);
+        s.unknowns += 1 + states;
+        dynamic += states;
     }
     s.unknowns += nodes.size();
     s.reducedOrder = std::min(s.unknowns, dynamic);

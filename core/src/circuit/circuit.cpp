@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <numbers>
 
@@ -92,6 +93,11 @@ public:
                 m_sys.unknowns.push_back("x(" + cs.out + ".p" + std::to_string(p + 1) + ")");
                 m_sys.unknownOrigins.push_back(
                     {UnknownOrigin::Kind::State, who, static_cast<int>(p) + 1});
+            }
+            if (gainBlockStates(m_netlist, cs) > cs.polesHz.size()) {
+                states.push_back(static_cast<int>(m_sys.unknowns.size()));
+                m_sys.unknowns.push_back("x(" + cs.out + ".z)");
+                m_sys.unknownOrigins.push_back({UnknownOrigin::Kind::ZeroOutput, who, 0});
             }
             m_states.push_back(states);
         }
@@ -256,9 +262,21 @@ private:
         return {};
     }
 
-    /// Each pole is a first-order section  w + w'/wp = u; a zero paired with the pole makes
-    /// the section output  y = (wp/wz) u + (1 - wp/wz) w  algebraic, so no derivative of an
-    /// unknown is ever needed. Returns the combination gain * H(s) * vd.
+    /// The gain block's H(s) = prod(1 + s/wz) / prod(1 + s/wp) as a chain of first-order
+    /// sections, one state per pole, each of unit gain at DC:
+    ///     w_k + w_k'/wp_k = w_{k-1} + w_{k-1}'/wz      (w_0 = vd)
+    /// where the zero term is present only for a section's input that carries a zero. A
+    /// zero is thus the derivative of the signal before it, an entry of C, rather than the
+    /// difference (wp/wz) u + (1 - wp/wz) w of a section's input and state: that difference
+    /// cancels to about wz/wp of its terms below the pole and, chained, loses all accuracy
+    /// when zeros lie far below the poles. Here every entry is 1, 1/wp or 1/wz and no sum
+    /// cancels, so each section is as accurate as its own factor (1 + s/wz)/(1 + s/wp).
+    /// Zero k follows pole k (the user's order), so with fewer zeros than poles the chain
+    /// ends on a state and the output needs no derivative. With as many zeros as poles one
+    /// zero must sit at an end: in front of the first pole (a derivative of the input
+    /// nodes) when those nodes are reactive already, so the reduced order does not grow;
+    /// otherwise behind the last one, in one more unknown y = w_n + w_n'/wz_n (see
+    /// gainBlockStates()). Returns the combination gain * H(s) * vd.
     Result<Combination> stampControlled(const ControlledSourceElement &cs, int branch,
                                         const std::vector<int> &states)
     {
@@ -272,35 +290,55 @@ private:
         const int gainOrigin = origin(cs.part, "gain");
         const int poleOrigin = origin(cs.part, "poles_hz");
         const int zeroOrigin = origin(cs.part, "zeros_hz");
-        Combination u;
+        std::vector<double> wp, wz;
+        for (double f : cs.polesHz) {
+            wp.push_back(2.0 * std::numbers::pi * f);
+            if (!(wp.back() > 0) || !std::isfinite(wp.back()))
+                return fail(who, "poles_hz", "pole frequencies must be positive and finite");
+        }
+        for (double f : cs.zerosHz) {
+            wz.push_back(2.0 * std::numbers::pi * f);
+            if (!(wz.back() > 0) || !std::isfinite(wz.back()))
+                return fail(who, "zeros_hz", "zero frequencies must be positive and finite");
+        }
+        const std::size_t n = wp.size();
+        const bool zerosInFront
+            = !wz.empty() && wz.size() == n && gainBlockStates(m_netlist, cs) == n;
+        // zeroIn[k]: the zero (rad/s) on the input of section k, 0 for none; zeroIn[n]: on
+        // the output of the chain.
+        std::vector<double> zeroIn(n + 1, 0.0);
+        for (std::size_t z = 0; z < wz.size(); ++z)
+            zeroIn[zerosInFront ? z : z + 1] = wz[z];
+
+        Combination u; // the input of the next section: vd, then a state
         if (int p = index(cs.inP); p >= 0)
             u.push_back({p, 1.0});
         if (int q = index(cs.inN); q >= 0)
             u.push_back({q, -1.0});
-        for (std::size_t k = 0; k < cs.polesHz.size(); ++k) {
-            const double wp = 2.0 * std::numbers::pi * cs.polesHz[k];
-            if (!(wp > 0) || !std::isfinite(wp))
-                return fail(who, "poles_hz", "pole frequencies must be positive and finite");
+        const auto link = [&](int row, std::size_t k) {
+            m_origin = k == 0 ? topology : poleOrigin;
+            for (auto [i, coeff] : u)
+                add(m_sys.G, row, i, -coeff);
+            if (zeroIn[k] > 0) {
+                m_origin = zeroOrigin;
+                for (auto [i, coeff] : u)
+                    add(m_sys.C, row, i, -coeff / zeroIn[k]);
+            }
+        };
+        for (std::size_t k = 0; k < n; ++k) {
             const int w = states[k];
             m_origin = poleOrigin;
             add(m_sys.G, w, w, 1.0);
-            add(m_sys.C, w, w, 1.0 / wp);
-            m_origin = k == 0 ? topology : (k - 1 < cs.zerosHz.size() ? zeroOrigin : poleOrigin);
-            for (auto [i, coeff] : u)
-                add(m_sys.G, w, i, -coeff);
-            Combination y;
-            if (k < cs.zerosHz.size()) {
-                const double wz = 2.0 * std::numbers::pi * cs.zerosHz[k];
-                if (!(wz > 0) || !std::isfinite(wz))
-                    return fail(who, "zeros_hz", "zero frequencies must be positive and finite");
-                const double ratio = wp / wz;
-                for (auto [i, coeff] : u)
-                    y.push_back({i, ratio * coeff});
-                y.push_back({w, 1.0 - ratio});
-            } else {
-                y.push_back({w, 1.0});
-            }
-            u = std::move(y);
+            add(m_sys.C, w, w, 1.0 / wp[k]);
+            link(w, k);
+            u = {{w, 1.0}};
+        }
+        if (zeroIn[n] > 0) { // y = w_n + w_n'/wz_n
+            const int y = states.back();
+            m_origin = zeroOrigin;
+            add(m_sys.G, y, y, 1.0);
+            link(y, n);
+            u = {{y, 1.0}};
         }
         Combination ret;
         for (auto [i, coeff] : u)
@@ -330,6 +368,22 @@ private:
 };
 
 } // namespace
+
+std::size_t gainBlockStates(const Netlist &netlist, const ControlledSourceElement &cs)
+{
+    const auto reactive = [&netlist](const std::string &node) {
+        if (isGround(node))
+            return true;
+        for (const auto &e : netlist.elements)
+            if (e.kind == NetlistElement::Kind::Capacitor && e.value != 0.0 && e.a != e.b
+                && (e.a == node || e.b == node))
+                return true;
+        return false;
+    };
+    const bool zeroOutput = !cs.zerosHz.empty() && cs.zerosHz.size() == cs.polesHz.size()
+        && !(reactive(cs.inP) && reactive(cs.inN));
+    return cs.polesHz.size() + (zeroOutput ? 1 : 0);
+}
 
 Result<DescriptorSystem> assembleSystem(const Netlist &netlist)
 {
@@ -401,6 +455,8 @@ std::string unknownLabel(const DescriptorSystem &system, std::size_t index)
         return "the output current of " + o->part;
     case UnknownOrigin::Kind::State:
         return "pole " + std::to_string(u.pole) + " of " + o->part;
+    case UnknownOrigin::Kind::ZeroOutput:
+        return "the zeros of " + o->part;
     default:
         return system.unknowns[index];
     }

@@ -2,6 +2,8 @@
 
 #include "loopsketch/circuit/circuit.h"
 
+#include "circuit/rowscales.h"
+
 #include <Eigen/Eigenvalues>
 #include <Eigen/LU>
 #include <Eigen/SVD>
@@ -15,19 +17,6 @@ namespace {
 
 using Index = Eigen::Index;
 
-/// The same row scaling as the pole computation: each row's largest reactive entry to 1.
-Eigen::VectorXd rowScales(const Eigen::MatrixXd &g, const Eigen::MatrixXd &c)
-{
-    Eigen::VectorXd scale(g.rows());
-    for (Index i = 0; i < g.rows(); ++i) {
-        double m = c.row(i).cwiseAbs().maxCoeff();
-        if (!(m > 0))
-            m = g.row(i).cwiseAbs().maxCoeff();
-        scale(i) = m > 0 ? 1.0 / m : 1.0;
-    }
-    return scale;
-}
-
 } // namespace
 
 Result<StepModel> StepModel::build(const ReducedSystem &system, int output, int input)
@@ -39,7 +28,7 @@ Result<StepModel> StepModel::build(const ReducedSystem &system, int output, int 
         return m;
     // Split Cr = U S V^T into its dynamic (rank r) and algebraic parts; eliminating the
     // algebraic part (index 1) leaves the proper state space.
-    const Eigen::VectorXd scale = rowScales(system.gr(), system.cr());
+    const Eigen::VectorXd scale = detail::rowScales(system.gr(), system.cr());
     const Eigen::MatrixXd gs = scale.asDiagonal() * system.gr();
     const Eigen::MatrixXd cs = scale.asDiagonal() * system.cr();
     const Eigen::MatrixXd bs = scale.asDiagonal() * system.br();

@@ -2,7 +2,8 @@
 
 // Modified nodal analysis as a descriptor system  G x + C dx/dt = B u,  y = L x.
 // Unknowns are node voltages (ground "0" excluded), branch currents of inductors and voltage
-// sources, and the internal states of the gain block (one per pole), so the same system
+// sources, and the internal states of the gain block (one per pole, and one more for the
+// last zero when there are as many zeros as poles), so the same system
 // serves AC sweeps ((G + sC) x = B u), natural frequencies and time response.
 
 #include "loopsketch/base/result.h"
@@ -37,7 +38,9 @@ struct StampEntry
 /// What an unknown is, for naming it in the user's words (see unknownLabel()).
 struct UnknownOrigin
 {
-    enum class Kind { Node, Current, SourceCurrent, State };
+    /// State: one per pole of a gain block; ZeroOutput: the output of its last zero, an
+    /// unknown of its own when the block has as many zeros as poles.
+    enum class Kind { Node, Current, SourceCurrent, State, ZeroOutput };
     Kind kind = Kind::Node;
     int origin = -1; ///< index into DescriptorSystem::origins; -1 for nodes
     int pole = 0; ///< State: which pole of the gain block, from 1
@@ -67,6 +70,12 @@ struct DescriptorSystem
 /// Stamps a netlist. Fails (with the element named) on unknown output references or
 /// non-finite values; a structurally valid netlist always assembles.
 Result<DescriptorSystem> assembleSystem(const Netlist &netlist);
+
+/// How many internal unknowns assembleSystem() gives gain block `cs` of `netlist`: one
+/// state per pole, and one more for its last zero when it has as many zeros as poles and
+/// an input node without a capacitor (with capacitors on both, that zero is stamped on the
+/// input nodes, whose columns of C are not empty anyway, and the reduced order stays).
+std::size_t gainBlockStates(const Netlist &netlist, const ControlledSourceElement &cs);
 
 /// The straightforward reference: dense LU of (G + sC) at each frequency, H = L x.
 /// Returns outputs x inputs per frequency; used by tests and the benchmark as the

@@ -18,6 +18,7 @@
 #include <complex>
 #include <initializer_list>
 #include <memory>
+#include <optional>
 #include <span>
 #include <string>
 #include <vector>
@@ -128,8 +129,18 @@ public:
     std::vector<Eigen::MatrixXcd> sweep(const std::vector<double> &frequenciesHz) const;
 
     /// Finite natural frequencies (rad/s): the finite generalized eigenvalues of (G, C),
-    /// sorted by magnitude.
+    /// sorted by magnitude. Candidates from QZ under several scalings of the pencil are kept
+    /// only where Newton's method on det(G + sC) confirms (and polishes) them; the argument
+    /// principle counts the roots, and Newton's method with deflation looks for any the
+    /// candidates missed.
     std::vector<std::complex<double>> naturalFrequencies() const;
+    /// How many natural frequencies the last naturalFrequencies() call counted but could
+    /// not locate (0 when every one was found and confirmed).
+    int unconfirmedPoles() const { return m_unconfirmedPoles; }
+    /// When the last naturalFrequencies() call left some unlocated, a warning naming the
+    /// part and field behind the largest entry of the circuit equations (the value that
+    /// stretches their range the most); std::nullopt otherwise.
+    std::optional<Diagnostic> unconfirmedPolesWarning() const;
 
     /// True when the DC point (s = 0) is regular.
     bool dcRegular() const;
@@ -178,6 +189,7 @@ private:
     std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
     bool m_refined = false;
     bool m_singularAtDc = false;
+    mutable int m_unconfirmedPoles = 0; ///< of the last naturalFrequencies()
 };
 
 } // namespace loopsketch

@@ -82,6 +82,12 @@ public:
 
     /// Closed-loop natural frequencies (rad/s) of the exact circuit.
     std::vector<Complex> closedLoopPoles() const;
+    /// After closedLoopPoles(): a warning naming a part and field when some closed-loop
+    /// poles were counted but could not be located (ReducedSystem::unconfirmedPoles()).
+    std::optional<Diagnostic> closedLoopPolesWarning() const
+    {
+        return m_full->unconfirmedPolesWarning();
+    }
     /// Where the solves' own checks (ReducedSystem::checkAccuracy, at DC and at the start,
     /// middle and end of the design's sweep) could not assure the accuracy of the exact
     /// solution and the return ratio, each naming a part and field. Empty for ordinary
