@@ -431,3 +431,27 @@ TEST(ReducedSystem, NaturalFrequenciesMatchFullPencil)
         EXPECT_LT(p.real(), 0.0); // passive RLC: stable
     }
 }
+
+// Kirchhoff's current law (common practice): a subnetwork that meets the rest only through
+// a current source and a controlled source's input has no path to ground, whatever its
+// values; a capacitor, an inductor and a voltage source are paths, a zero capacitance and
+// a controlled source's input are not.
+TEST(Circuit, NodesWithoutGroundAreFoundFromTheConnections)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addCurrentSource("I1", "a", "0", in);
+    n.addCapacitor("C1", "a", "b", 1e-9);
+    n.addResistor("R1", "b", "p", 1e3);
+    n.addCapacitor("C0", "p", "0", 0.0);
+    ControlledSourceElement e;
+    e.inP = "p";
+    e.inN = "q";
+    e.out = "o";
+    n.controlled.push_back(e);
+    n.addInductor("L1", "q", "0", 1e-3);
+    n.addResistor("RO", "o", "r", 1e3);
+    EXPECT_EQ(nodesWithoutGround(n), (std::vector<std::string>{"a", "b", "p"}));
+    n.addVoltageSource("V1", "p", "0", -1);
+    EXPECT_TRUE(nodesWithoutGround(n).empty());
+}
