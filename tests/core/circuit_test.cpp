@@ -455,3 +455,16 @@ TEST(Circuit, NodesWithoutGroundAreFoundFromTheConnections)
     n.addVoltageSource("V1", "p", "0", -1);
     EXPECT_TRUE(nodesWithoutGround(n).empty());
 }
+
+// Definition (a matrix with a zero column has determinant 0): diag(1, 0) is singular. Eigen's
+// condition estimate reads it as perfectly conditioned (rcond 1), so a test on the estimate
+// alone let the step model eliminate through a zero pivot and fill the response with NaN.
+TEST(Circuit, ExactlyZeroPivotIsSingular)
+{
+    Eigen::MatrixXd real = Eigen::MatrixXd::Zero(2, 2);
+    real(0, 0) = -3.6e8;
+    EXPECT_TRUE(isSingular(real));
+    EXPECT_TRUE(isSingular(Eigen::MatrixXcd(real.cast<std::complex<double>>())));
+    real(1, 1) = 1e-3;
+    EXPECT_FALSE(isSingular(real));
+}
