@@ -132,6 +132,7 @@ Json noiseJson(const Analysis &a)
     j["output_rms"] = number(n.outputRms);
     j["input_rms"] = number(n.inputRms);
     j["input_rms_gain_at_hz"] = number(n.inputGainHz);
+    j["input_problem"] = n.inputProblem.empty() ? Json(nullptr) : Json(n.inputProblem);
     if (n.brickWall)
         j["brick_wall_equivalent"] = {{"high_hz", number(n.brickWall->highHz)},
                                       {"output_rms", number(n.brickWall->outputRms)},
@@ -531,7 +532,10 @@ std::string analysisToText(const Analysis &a, const Design *design)
         os << "\nNoise (" << formatPlain(n.temperatureK, 6) << " K)\n";
         if (a.stable) {
             show("output, rms", n.outputRms, outUnit);
-            show("input-referred, rms", n.inputRms, inUnit);
+            if (n.inputProblem.empty())
+                show("input-referred, rms", n.inputRms, inUnit);
+            else
+                row("input-referred, rms", "— (" + n.inputProblem + ")");
         } else {
             row("output, rms", absent);
             row("input-referred, rms", absent);
