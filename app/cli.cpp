@@ -7,13 +7,13 @@
 #include "exportcommand.h"
 #endif
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/atomicfile.h"
-#include "loopsketch/candidate.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/exactsolution.h"
-#include "loopsketch/spread.h"
-#include "loopsketch/suggest.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/analysis/suggest.h"
+#include "loopsketch/design/atomicfile.h"
+#include "loopsketch/design/candidate.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/exactsolution.h"
 
 #include <cerrno>
 #include <charconv>

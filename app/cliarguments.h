@@ -3,8 +3,8 @@
 // The command line's arguments: commands, options and their values, checked before any file
 // is read. Kept apart from running the commands so that a fuzzer can drive it alone.
 
-#include "loopsketch/spread.h"
-#include "loopsketch/suggest.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/analysis/suggest.h"
 
 #include <cstdint>
 #include <iosfwd>

@@ -1,10 +1,10 @@
 #include "exportcommand.h"
 
 #include "cli.h"
-#include "reviewsheet.h"
+#include "sheet/reviewsheet.h"
 
-#include "loopsketch/atomicfile.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/atomicfile.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QApplication>
 #include <QDir>

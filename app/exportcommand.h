@@ -3,9 +3,9 @@
 // `loopsketch export`: the review sheet (PDF), the sweep (CSV) and the plots (SVG, PNG), without a
 // display. Built only with the GUI (LOOPSKETCH_HAVE_GUI).
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/design.h"
-#include "loopsketch/result.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/base/result.h"
+#include "loopsketch/design/design.h"
 
 #include <cstdint>
 #include <iosfwd>

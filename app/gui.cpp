@@ -2,7 +2,7 @@
 // `loopsketch FILE` opens FILE.
 
 #include "cli.h"
-#include "mainwindow.h"
+#include "window/mainwindow.h"
 
 #include <QApplication>
 #include <QMessageBox>

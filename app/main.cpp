@@ -1,7 +1,7 @@
 #include "cli.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
 
 #include <csignal>
 #include <iostream>

@@ -4,8 +4,8 @@
 //   build/<preset>/tests/bench/analysis_bench --benchmark_repetitions=5
 // The ratio of the two medians is the speed-up the design asks for (>= 20x).
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
 
 #include <benchmark/benchmark.h>
 

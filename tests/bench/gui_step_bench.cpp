@@ -1,13 +1,13 @@
 // One E-series wheel step on the feedback resistor, through the real event path, to every
 // panel and the Readout repainted: ui/README.md §3 asks for under one 60 Hz frame (16 ms).
 
-#include "designdocument.h"
-#include "mainwindow.h"
-#include "partitem.h"
-#include "plotpanel.h"
-#include "readout.h"
-#include "sketchscene.h"
-#include "sketchview.h"
+#include "panels/plotpanel.h"
+#include "panels/readout.h"
+#include "sketch/partitem.h"
+#include "sketch/sketchscene.h"
+#include "sketch/sketchview.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
 #include <QApplication>
 #include <QDockWidget>

@@ -2,7 +2,7 @@
 // Before the loader built its own DOM (nlohmann's ordered_json inserted every key through a
 // linear search) this grew as N^2: 50k keys 1.4 s, 100k 8.7 s, 200k about 35 s.
 
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/designfile.h"
 
 #include "../core/hostilecorpus.h"
 

@@ -2,9 +2,9 @@
 // bandwidth and phase margin on the demo design under 1 s on the 2-core machine; a suggest
 // search over two parts in E96 across two decades under 2 s.
 
-#include "loopsketch/designfile.h"
-#include "loopsketch/spread.h"
-#include "loopsketch/suggest.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/analysis/suggest.h"
+#include "loopsketch/design/designfile.h"
 
 #include <benchmark/benchmark.h>
 

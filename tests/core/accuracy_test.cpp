@@ -1,13 +1,13 @@
 // Trust on any design: the solves' own accuracy checks, the warnings they give in the user's
 // words, designs with near-shorts and extreme gains, and values no real part has.
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/circuit.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopcircuit.h"
-#include "loopsketch/loopmodel.h"
-#include "loopsketch/partlimits.h"
-#include "loopsketch/reducedsystem.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/circuit/reducedsystem.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/design/partlimits.h"
+#include "loopsketch/feedback/loopmodel.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -7,9 +7,9 @@
 
 #include "faultinjection.h"
 
-#include "loopsketch/atomicfile.h"
-#include "loopsketch/design.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/atomicfile.h"
+#include "loopsketch/design/design.h"
+#include "loopsketch/design/designfile.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -1,8 +1,8 @@
 // Descriptor-system assembly, the dense reference solve and the reduced fast path, checked
 // against closed forms of elementary circuits.
 
-#include "loopsketch/circuit.h"
-#include "loopsketch/reducedsystem.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/reducedsystem.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -3,12 +3,12 @@
 
 #include "faultinjection.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/spread.h"
-#include "loopsketch/suggest.h"
-#include "loopsketch/trialmetrics.h"
-#include "loopsketch/value.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/analysis/suggest.h"
+#include "loopsketch/analysis/trialmetrics.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
 
 #include "malformedcorpus.h"
 

@@ -3,8 +3,8 @@
 // The rules checked here are Loopsketch's own file format (core/README.md §6), so the expected
 // texts come from that format's definition, not from an outside source.
 
-#include "loopsketch/design.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/design.h"
+#include "loopsketch/design/designfile.h"
 
 #include "malformedcorpus.h"
 

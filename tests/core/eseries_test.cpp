@@ -1,4 +1,4 @@
-#include "loopsketch/eseries.h"
+#include "loopsketch/base/eseries.h"
 
 #include <gtest/gtest.h>
 
@@ -12,7 +12,7 @@ using namespace loopsketch;
 namespace {
 
 // IEC 60063, table values as listed in /work/shared/reference-values.md §1.1
-// (rob-smallshire/eseries, zh-Wikipedia). Typed separately from core/src/eseries.cpp.
+// (rob-smallshire/eseries, zh-Wikipedia). Typed separately from core/src/base/eseries.cpp.
 const std::vector<double> kE3Standard{1.0, 2.2, 4.7};
 const std::vector<double> kE6Standard{1.0, 1.5, 2.2, 3.3, 4.7, 6.8};
 const std::vector<double> kE12Standard{1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2};

@@ -2,10 +2,10 @@
 // against closed forms written out by hand, against textbook circuits, and against the dense
 // reference solve of the same netlist.
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/circuit.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopcircuit.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/designfile.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -3,10 +3,10 @@
 // asymptotic gain model and Blackman's formula, and second-order control relations. The
 // source of every expected value is named beside its check.
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopmodel.h"
-#include "loopsketch/twoport.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/loopmodel.h"
+#include "loopsketch/feedback/twoport.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -3,10 +3,10 @@
 // Routh-Hurwitz criterion, the definition of gain margin, the second-order relations and
 // the single-pole closed forms.
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopmodel.h"
-#include "loopsketch/trialmetrics.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/trialmetrics.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/loopmodel.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

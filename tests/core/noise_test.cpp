@@ -3,12 +3,12 @@
 // bandwidth of a single-pole roll-off, the adjoint solve against one forward solve per
 // source, and the per-source contributions adding in power.
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/circuit.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopcircuit.h"
-#include "loopsketch/noise.h"
-#include "loopsketch/noisenames.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/noise.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/report/noisenames.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

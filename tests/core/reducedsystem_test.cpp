@@ -1,8 +1,8 @@
 // The reduced sweep kernel at every order and vector width, against the dense LU of the
 // whole nodal matrix (the straightforward reference; common practice).
 
-#include "loopsketch/circuit.h"
-#include "loopsketch/reducedsystem.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/reducedsystem.h"
 
 #include <gtest/gtest.h>
 

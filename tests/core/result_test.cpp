@@ -1,4 +1,4 @@
-#include "loopsketch/result.h"
+#include "loopsketch/base/result.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -1,6 +1,6 @@
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/spread.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/design/designfile.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

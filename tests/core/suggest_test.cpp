@@ -1,5 +1,5 @@
-#include "loopsketch/designfile.h"
-#include "loopsketch/suggest.h"
+#include "loopsketch/analysis/suggest.h"
+#include "loopsketch/design/designfile.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

@@ -1,4 +1,4 @@
-#include "loopsketch/value.h"
+#include "loopsketch/base/value.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

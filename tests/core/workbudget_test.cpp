@@ -1,13 +1,13 @@
 // Work budgets (limits.h, workbudget.h): the size of a run is counted before any matrix is
 // built, and a run over budget is refused at once with a message saying what to reduce.
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/circuit.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopcircuit.h"
-#include "loopsketch/spread.h"
-#include "loopsketch/suggest.h"
-#include "loopsketch/workbudget.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/analysis/suggest.h"
+#include "loopsketch/analysis/workbudget.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/designfile.h"
 
 #include "hostilecorpus.h"
 

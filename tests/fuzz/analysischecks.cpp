@@ -1,8 +1,8 @@
 #include "analysischecks.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/loopmodel.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/loopmodel.h"
 
 #include <algorithm>
 #include <cmath>
@@ -15,7 +15,7 @@
 // The part-limit warnings (values outside what real parts offer) come with the accuracy
 // warnings in Analysis::warnings but exempt nothing: only a solve's own accuracy check does.
 #if __has_include("loopsketch/partlimits.h")
-#include "loopsketch/partlimits.h"
+#include "loopsketch/design/partlimits.h"
 #define LOOPSKETCH_FUZZ_PART_LIMITS 1
 #endif
 

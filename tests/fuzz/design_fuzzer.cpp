@@ -1,7 +1,7 @@
 // libFuzzer target for the design-file loader: any byte string must give a Design or a
 // diagnostic, never a crash, a hang or a sanitizer report. A parsed design must also
 // survive a save/load round trip.
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/designfile.h"
 
 #include <cstddef>
 #include <cstdint>

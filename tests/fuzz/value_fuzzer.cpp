@@ -1,6 +1,6 @@
 // libFuzzer target for the value parser: every ValueKind and ValueRange on any text. A
 // success must be finite and inside the range; a failure must carry a message.
-#include "loopsketch/value.h"
+#include "loopsketch/base/value.h"
 
 #include <array>
 #include <cmath>

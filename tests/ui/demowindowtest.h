@@ -3,8 +3,8 @@
 // The fixture of the window tests: a shown main window at the screenshots' size (1500 x 940)
 // with the demo design open and analysed.
 
-#include "designdocument.h"
-#include "mainwindow.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
 #include <QApplication>
 #include <QString>

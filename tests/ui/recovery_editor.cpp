@@ -7,13 +7,13 @@
 //
 //   recovery_editor DESIGN EDITED_OUT [--close-after-autosave]
 
-#include "designdocument.h"
-#include "mainwindow.h"
-#include "partitem.h"
-#include "sketchscene.h"
-#include "sketchview.h"
+#include "sketch/partitem.h"
+#include "sketch/sketchscene.h"
+#include "sketch/sketchview.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QApplication>
 #include <QFile>

@@ -3,24 +3,24 @@
 // everything that names a part across deletions and renames (files that always reopen); and
 // views that never show the last good numbers once the design cannot be analysed.
 
-#include "designdocument.h"
-#include "designpropertiespanel.h"
-#include "groundsymbolitem.h"
-#include "inspector.h"
-#include "mainwindow.h"
-#include "panels.h"
-#include "partitem.h"
-#include "partspalette.h"
-#include "plotpanel.h"
-#include "qtadapter.h"
-#include "readout.h"
-#include "sketchlayout.h"
-#include "sketchscene.h"
-#include "sketchview.h"
+#include "panels/panels.h"
+#include "panels/plotpanel.h"
+#include "panels/readout.h"
+#include "sketch/designpropertiespanel.h"
+#include "sketch/groundsymbolitem.h"
+#include "sketch/inspector.h"
+#include "sketch/partitem.h"
+#include "sketch/partspalette.h"
+#include "sketch/sketchlayout.h"
+#include "sketch/sketchscene.h"
+#include "sketch/sketchview.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/candidate.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/candidate.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QAction>
 #include <QApplication>

@@ -7,17 +7,17 @@
 // candidate's values written into the parts' primary fields (the rule of
 // `loopsketch analyze --candidate`, applied here independently of the ui's helper).
 
-#include "candidatespanel.h"
 #include "demowindowtest.h"
-#include "designdocument.h"
-#include "mainwindow.h"
-#include "panels.h"
-#include "qtadapter.h"
+#include "panels/candidatespanel.h"
+#include "panels/panels.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/spread.h"
-#include "loopsketch/value.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QAction>
 #include <QApplication>

@@ -4,12 +4,12 @@
 
 #include "clirun.h"
 
-#include "designdocument.h"
-#include "exportactions.h"
-#include "qtadapter.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+#include "window/exportactions.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QApplication>
 #include <QDir>

@@ -2,22 +2,22 @@
 // core's analyze() gives for the edited design.
 
 #include "demowindowtest.h"
-#include "designdocument.h"
-#include "inspector.h"
-#include "mainwindow.h"
-#include "panels.h"
-#include "partitem.h"
-#include "qtadapter.h"
-#include "readout.h"
-#include "sketchlayout.h"
-#include "sketchscene.h"
-#include "sketchview.h"
+#include "panels/panels.h"
+#include "panels/readout.h"
+#include "sketch/inspector.h"
+#include "sketch/partitem.h"
+#include "sketch/sketchlayout.h"
+#include "sketch/sketchscene.h"
+#include "sketch/sketchview.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/eseries.h"
-#include "loopsketch/trialmetrics.h"
-#include "loopsketch/value.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/trialmetrics.h"
+#include "loopsketch/base/eseries.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QApplication>
 #include <QChart>

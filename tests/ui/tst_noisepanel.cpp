@@ -3,16 +3,16 @@
 // the integrated RMS text, and the reason shown when there is no noise analysis.
 
 #include "demowindowtest.h"
-#include "designdocument.h"
-#include "mainwindow.h"
-#include "noisepanel.h"
-#include "panels.h"
-#include "qtadapter.h"
-#include "readout.h"
+#include "panels/noisepanel.h"
+#include "panels/panels.h"
+#include "panels/readout.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/value.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QApplication>
 #include <QAreaSeries>

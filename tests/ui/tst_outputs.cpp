@@ -12,7 +12,7 @@
 
 #include "../core/faultinjection.h"
 
-#include "reviewsheet.h"
+#include "sheet/reviewsheet.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>

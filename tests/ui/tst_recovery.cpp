@@ -13,10 +13,10 @@
 
 #include "../core/faultinjection.h"
 
-#include "designdocument.h"
-#include "mainwindow.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/designfile.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QAction>
 #include <QApplication>

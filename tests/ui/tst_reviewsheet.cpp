@@ -4,10 +4,10 @@
 
 #include "clirun.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/candidate.h"
-#include "loopsketch/designfile.h"
-#include "loopsketch/value.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/candidate.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QDir>
 #include <QFile>

@@ -2,15 +2,15 @@
 // and monteCarlo() give for the same design, options and seed; cancel, design changes and
 // destruction during a run must stop the worker without a crash.
 
-#include "designdocument.h"
-#include "exportactions.h"
-#include "mainwindow.h"
-#include "spreadpanel.h"
+#include "panels/spreadpanel.h"
+#include "window/designdocument.h"
+#include "window/exportactions.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/designfile.h"
-#include "loopsketch/exactsolution.h"
-#include "loopsketch/spread.h"
-#include "loopsketch/value.h"
+#include "loopsketch/analysis/spread.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/exactsolution.h"
 
 #include <QAbstractSeries>
 #include <QApplication>

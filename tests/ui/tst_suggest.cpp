@@ -2,13 +2,13 @@
 // where one exists, one click applies a row as one undo step, and undo restores the design
 // text exactly.
 
-#include "designdocument.h"
-#include "mainwindow.h"
-#include "suggestdialog.h"
+#include "panels/suggestdialog.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
 
-#include "loopsketch/designfile.h"
-#include "loopsketch/eseries.h"
-#include "loopsketch/suggest.h"
+#include "loopsketch/analysis/suggest.h"
+#include "loopsketch/base/eseries.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QApplication>
 #include <QMenu>

@@ -6,11 +6,11 @@
 #endif
 #include "../core/hostilecorpus.h"
 
-#include "designdocument.h"
-#include "qtadapter.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
 
-#include "loopsketch/analysis.h"
-#include "loopsketch/designfile.h"
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QSignalSpy>
 

@@ -1,0 +1,179 @@
+#pragma once
+
+// The one result object of a recomputation: what the Readout, every panel, the review
+// sheet and `loopsketch analyze --json` show. Numbers in SI base units; std::nullopt (JSON
+// null) where a quantity does not exist; NaN inside curves marks a frequency where it does
+// not exist.
+
+#include "loopsketch/analysis/noise.h"
+#include "loopsketch/base/result.h"
+#include "loopsketch/design/design.h"
+#include "loopsketch/feedback/exactsolution.h"
+#include "loopsketch/feedback/loopmodel.h"
+#include "loopsketch/feedback/topology.h"
+
+#include <complex>
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace loopsketch {
+
+inline constexpr std::string_view kAnalysisSchema = "loopsketch.analysis/1";
+
+using OptionalNumber = std::optional<double>;
+using Curve = std::vector<std::complex<double>>;
+
+struct TwoPortSummary
+{
+    OptionalNumber a, beta, loopGain, closedLoop; ///< in the topology's gain unit
+    OptionalNumber gain, zIn, zOut; ///< comparable with the exact solution
+    OptionalNumber gainErrorPct, zInErrorPct, zOutErrorPct; ///< (estimate - exact)/exact
+    OptionalNumber inputLoading, outputLoading; ///< factors (1 = no loading)
+    OptionalNumber inputLoadingDb, outputLoadingDb;
+};
+
+struct ReturnRatioSummary
+{
+    OptionalNumber loopGain, gainInf, feedthrough, gain, zIn, zOut;
+};
+
+/// One phase crossing of the loop gain (unwrapped phase at an odd multiple of -180 deg).
+struct GainMargin
+{
+    double db = 0; ///< -20 log10 |T|: positive, the gain may rise by this much; negative, fall
+    double frequencyHz = 0;
+};
+
+struct Margins
+{
+    OptionalNumber crossoverHz; ///< |T| = 1 (the one with the worst phase margin)
+    OptionalNumber phaseMarginDeg; ///< 180 + unwrapped phase of T at crossover, worst
+    OptionalNumber gainMarginDb; ///< of gainMargins, the one nearest 0 dB (least margin)
+    OptionalNumber phaseCrossoverHz; ///< its frequency
+    std::vector<GainMargin> gainMargins; ///< every phase crossing, ascending in frequency
+};
+
+struct ClosedLoopPole
+{
+    std::complex<double> s; ///< rad/s
+    double naturalHz = 0; ///< |s| / 2 pi
+    double damping = 0; ///< -Re(s) / |s|
+    double q = 0; ///< |s| / (-2 Re s)
+};
+
+struct StepResult
+{
+    OptionalNumber riseTimeS; ///< 10 % to 90 % of the final value
+    OptionalNumber overshootPct; ///< (peak - final) / final
+    OptionalNumber settlingTimeS; ///< last time outside +-settlingBand of the final value
+    double settlingBand = kDefaultSettlingBand; ///< fraction of the final value
+    std::vector<double> timeS;
+    std::vector<double> response; ///< output per unit source step
+    double finalValue = 0;
+    /// Why there is no step response although the loop is stable (a higher-index mode, a
+    /// response that cannot be computed to the accuracy the metrics need); empty otherwise.
+    std::string problem;
+};
+
+/// One spec's verdict as the analysis JSON (`specs`), the Readout and the review sheet show
+/// it; `pass` is checkSpecs()'s verdict for that spec.
+struct SpecVerdict
+{
+    std::string name; ///< design-file key: "gain", "bandwidth_min", "phase_margin_min_deg"
+    std::string label; ///< what a reviewer reads: "gain", "bandwidth", "phase margin"
+    std::string unit; ///< of the limits and the value: the gain unit, "Hz" or "°"
+    OptionalNumber low; ///< lower limit (gain minimum, bandwidth_min, phase_margin_min_deg)
+    OptionalNumber high; ///< upper limit (gain maximum only)
+    bool isWindow = false; ///< the limit is a [low, high] window (gain)
+    OptionalNumber value; ///< the design's value; nullopt where it does not exist
+    bool pass = true;
+    /// Why it fails ("below the minimum", "no loop crossover" ...); on a pass, empty unless
+    /// the value is missing ("no -3 dB point inside the sweep, which ends above the minimum").
+    std::string reason;
+};
+
+/// The curves every panel draws, one value per frequency of the sweep.
+struct AnalysisCurves
+{
+    Curve gainExact, zInExact, zOutExact;
+    Curve loopGain; ///< T_rr
+    Curve gainReturnRatio, zInReturnRatio, zOutReturnRatio;
+    Curve zInOpenLoop, zOutOpenLoop; ///< gain block's gain at 0 ("without feedback")
+    Curve a, beta, loopGainTwoPort, closedLoop, gainTwoPort, zInTwoPort, zOutTwoPort;
+    Curve inputLoading, outputLoading;
+    Curve desensitivity; ///< 1 + T_rr
+};
+
+struct Analysis
+{
+    std::string title;
+    std::string gainUnit; ///< of `gain` everywhere: "V/V", "V/A" ...
+    std::vector<double> frequenciesHz;
+    std::optional<Topology> topology;
+    std::string topologyReason; ///< why there is no two-port form (topology empty)
+    std::string twoPortProblem; ///< why the estimate is missing despite a topology
+    ExactSolution exact; ///< DC values and exact curves
+    std::optional<TwoPortSummary> twoPort;
+    ReturnRatioSummary returnRatio;
+    Margins margins;
+    /// False when a closed-loop pole lies in the right half-plane or on the imaginary
+    /// axis; bandwidth, peaking, step metrics and noise rms are then absent.
+    bool stable = true;
+    int rhpPoles = 0; ///< closed-loop poles with Re s > 0
+    std::string closedLoopReason; ///< why the closed-loop quantities are absent
+    OptionalNumber bandwidthHz; ///< closed-loop (exact) -3 dB
+    OptionalNumber peakingDb; ///< peak of |G| above |G(0)| within the passband, >= 0
+    OptionalNumber peakingHz; ///< its frequency; absent when there is no peak
+    /// A rise of |G| above the passband from feedthrough: its level relative to |G(0)|
+    /// (dB) and, when it peaks inside the examined range, its frequency.
+    OptionalNumber feedthroughDb, feedthroughHz;
+    std::vector<ClosedLoopPole> poles;
+    StepResult step;
+    OptionalNumber desensitivityDb; ///< 20 log10 |1 + T| at DC
+    std::map<std::string, double> sensitivity; ///< part id -> %/% of the DC gain
+    AnalysisCurves curves;
+    std::optional<NoiseAnalysis> noise; ///< absent when noiseProblem says why
+    std::string noiseProblem;
+    std::vector<SpecVerdict> specs; ///< one per spec of the design (specVerdicts())
+    /// Where the numbers cannot be trusted to full accuracy, each naming the user's part and
+    /// field: a solve whose own check failed, or a value outside what real parts offer.
+    /// Empty for ordinary designs. `file` is left empty (the caller knows it).
+    Diagnostics warnings;
+};
+
+struct AnalysisOptions
+{
+    SolverPath solver = SolverPath::Reduced;
+    bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
+    bool noise = true; ///< the noise analysis (one reduced solve per frequency)
+    NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
+};
+
+/// Runs every analysis of the design over its sweep. Fails with diagnostics when the
+/// design is invalid or the circuit has no solution.
+Result<Analysis> analyze(const Design &design, std::string_view file = {},
+                         const AnalysisOptions &options = {});
+
+/// The `loopsketch.analysis/1` JSON text (two-space indent, trailing newline).
+std::string analysisToJson(const Analysis &analysis);
+
+/// A readable text summary for the terminal. With `design`, it starts with the Parts table
+/// (every field of every part, partFieldTexts()).
+std::string analysisToText(const Analysis &analysis, const Design *design = nullptr);
+
+/// The Parts table as text: every part with its nodes and every field of partFieldTexts().
+std::string partsToText(const Design &design);
+
+/// The unit of every numeric key path of analysisToJson()'s output, as its top-level
+/// `units` object holds it: "dc.two_port.beta" -> "S", "closed_loop.poles[].re" -> "rad/s"
+/// ("[]" stands for every element of a list, "*" for every key of a map; "[0]" for one list
+/// element whose unit differs from its siblings', as in `specs`). "1" marks a pure ratio
+/// (a loop gain, a damping ratio).
+std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &analysis);
+
+/// Sweep table as CSV: f_hz, then magnitude (dB) and phase (deg) columns per curve.
+std::string sweepToCsv(const Analysis &analysis);
+
+} // namespace loopsketch

@@ -1,0 +1,86 @@
+#pragma once
+
+// Lean evaluation of one design variant for the spread and suggest searches: only the two
+// reduced systems the three metrics need (exact gain, return ratio), sampled on a coarse
+// grid and refined by bisection. A full LoopModel also builds the impedance and two-port
+// systems, which would cost about as much again per trial.
+
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/base/result.h"
+#include "loopsketch/design/design.h"
+
+#include <atomic>
+#include <cstddef>
+#include <functional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace loopsketch {
+
+/// The metrics of one trial. nullopt where a metric does not exist (no -3 dB point in the
+/// grid, no loop crossover).
+struct TrialMetrics
+{
+    OptionalNumber gain; ///< closed-loop DC gain of the exact solution, signed, gain unit
+    OptionalNumber bandwidthHz; ///< closed-loop -3 dB frequency, Hz
+    OptionalNumber phaseMarginDeg; ///< worst phase margin over all loop crossovers, degrees
+    bool stable = true; ///< no closed-loop pole in the right half-plane or on the jw axis
+};
+
+/// The metrics of a full analysis, for the spec check.
+TrialMetrics trialMetricsOf(const Analysis &analysis);
+
+/// Log-spaced grid over the design's sweep with `pointsPerDecade` (>= 1) points per decade,
+/// start and stop included (Hz).
+std::vector<double> coarseGrid(const Sweep &sweep, int pointsPerDecade);
+
+/// The three metrics of a valid design on `gridHz` (ascending, Hz). Fails when the circuit
+/// has no solution. Crossings are refined to 1e-10 relative in frequency.
+Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &gridHz);
+
+/// Only the closed-loop DC gain (the cheap first stage of a search).
+Result<double> evaluateDcGain(const Design &design);
+
+/// Progress report: trials done so far and the total. Called from worker threads, one call
+/// at a time.
+using ProgressCallback = std::function<void(std::size_t done, std::size_t total)>;
+
+/// Which of the design's specs a trial meets. A missing bandwidth (no -3 dB point inside the
+/// sweep) meets bandwidth_min when the sweep ends above it; a missing phase margin (no
+/// crossover) fails phase_margin_min_deg. An unstable trial fails every spec it has, with
+/// the reason "unstable", and fails all() even without specs.
+struct SpecCheck
+{
+    bool gain = true, bandwidth = true, phaseMargin = true;
+    bool stable = true;
+    std::string reason; ///< "unstable" when every spec fails for that; else empty
+    bool all() const { return stable && gain && bandwidth && phaseMargin; }
+};
+SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &metrics);
+
+/// The verdict of every spec the design states, in the order gain, bandwidth, phase margin.
+/// `gainUnit` is the unit of the closed-loop gain ("V/V", "V/A" ...).
+std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep,
+                                      const TrialMetrics &metrics, std::string_view gainUnit);
+
+/// The labels of the failing specs joined by ", " ("gain, phase margin"); empty when all pass.
+std::string failingSpecLabels(const std::vector<SpecVerdict> &verdicts);
+
+/// True when the design has at least one spec.
+bool hasSpecs(const Specs &specs);
+
+namespace detail {
+
+/// Runs job(index, worker) for index 0 .. count-1 on `threads` std::threads (0: all hardware
+/// threads). Stops early when `cancel` becomes true; returns the number of jobs run.
+std::size_t runParallel(std::size_t count, int threads,
+                        const std::function<void(std::size_t index, int worker)> &job,
+                        const ProgressCallback &progress, const std::atomic<bool> *cancel);
+
+/// The worker count runParallel uses for `threads` and `count`.
+int workerCount(int threads, std::size_t count);
+
+} // namespace detail
+
+} // namespace loopsketch

@@ -1,0 +1,168 @@
+#pragma once
+
+// The fast sweep path. Only the unknowns K that carry capacitance, inductance or a
+// gain-block state change with frequency; the others are eliminated once by a Schur
+// complement (a static, exact reduction), leaving a k x k pencil, k = |K| (3..8 for a
+// typical loop, against 15..30 MNA unknowns):
+//   (Gr + s Cr) z = Br u,   y = Lr z + Dr u.
+// Each frequency then costs one k x k LU instead of an n x n one, with the same backward
+// stability as the full solve (no pole-residue sums, whose cancellation would lose the
+// small high-frequency values). The finite generalized eigenvalues of (Gr, Cr) are the
+// circuit's natural frequencies (det(G + sC) = det(Gss) det(Gr + sCr)).
+
+#include "loopsketch/base/result.h"
+#include "loopsketch/circuit/circuit.h"
+
+#include <Eigen/Core>
+
+#include <complex>
+#include <initializer_list>
+#include <memory>
+#include <span>
+#include <string>
+#include <vector>
+
+namespace loopsketch {
+
+/// How the per-frequency solves are done: the reduced k x k pencil (the product), or a
+/// dense LU of the whole MNA matrix at every frequency (the straightforward reference the
+/// benchmark and tests compare against).
+enum class SolverPath { Reduced, DenseLu };
+
+/// How many frequencies the reduced sweep solves side by side in vector registers. Automatic
+/// takes the widest the processor runs (eight with AVX-512, four with AVX2, else two); the
+/// others exist so tests can check that every width gives the same numbers.
+enum class SweepWidth { Automatic, Two, Four, Eight };
+
+/// True when the processor can run the sweep at `width`.
+bool sweepWidthAvailable(SweepWidth width);
+
+/// Output row and input column of one transfer-matrix entry.
+struct TransferEntry
+{
+    int output = 0;
+    int input = 0;
+};
+
+/// An entry whose accuracy is checked, with the quantity it gives in the user's words.
+struct CheckedEntry
+{
+    TransferEntry entry;
+    std::string quantity; ///< "gain", "z_in", "loop gain" ...
+};
+
+/// What ReducedSystem::checkAccuracy() found.
+struct AccuracyCheck
+{
+    /// The reduced solves missed the careful solve of the full system; the system now
+    /// solves the full matrix with iterative refinement at every frequency.
+    bool refined = false;
+    /// Largest first-order error bound of a checked entry, relative to its value.
+    double worstRelativeError = 0;
+    /// Entries whose bound exceeds the tolerance, each naming the part and field that
+    /// contributes most to it.
+    Diagnostics warnings;
+};
+
+class ReducedSystem
+{
+public:
+    /// Reduces the system once. Fails, naming the unknowns involved, when the static part is
+    /// singular in a way no frequency can cure (a voltage-source loop, a floating subnetwork).
+    static Result<ReducedSystem> build(const DescriptorSystem &system,
+                                       SolverPath path = SolverPath::Reduced)
+    {
+        return build(DescriptorSystem(system), path);
+    }
+    /// The same, keeping `system` (for checkAccuracy()) without a copy.
+    static Result<ReducedSystem> build(DescriptorSystem &&system,
+                                       SolverPath path = SolverPath::Reduced);
+
+    int outputs() const { return static_cast<int>(m_lr.rows()); }
+    int inputs() const { return static_cast<int>(m_br.cols()); }
+    int order() const { return static_cast<int>(m_gr.rows()); }
+
+    /// Transfer matrix (outputs x inputs) at complex frequency s (rad/s). Entries are NaN
+    /// when the pencil is singular at s (check with allFinite()).
+    Eigen::MatrixXcd evaluate(std::complex<double> s) const;
+
+    /// The same into `h` (resized to outputs x inputs only when needed), computing only the
+    /// columns listed in `inputs` (all when empty); the other columns are left as they were.
+    /// The hot path of every sweep: no allocation once `h` has its size.
+    void evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
+                      Eigen::MatrixXcd &h) const
+    {
+        evaluateInto(s, inputs, {}, h);
+    }
+    /// ... and only the rows listed in `outputs` (all when empty).
+    void evaluateInto(std::complex<double> s, std::initializer_list<int> inputs,
+                      std::initializer_list<int> outputs, Eigen::MatrixXcd &h) const
+    {
+        evaluateInto(s, std::span<const int>(inputs.begin(), inputs.size()),
+                     std::span<const int>(outputs.begin(), outputs.size()), h);
+    }
+
+    /// The same with the lists as spans.
+    void evaluateInto(std::complex<double> s, std::span<const int> inputs,
+                      std::span<const int> outputs, Eigen::MatrixXcd &h) const;
+
+    /// One entry at s.
+    std::complex<double> entry(std::complex<double> s, int output, int input) const;
+
+    /// The listed entries at every complex frequency of `s` (rad/s), entry-major: entry e
+    /// at s[i] is result[e * s.size() + i]; NaN where the pencil is singular. The sweeps of
+    /// the analyses: one tight loop per system, one factorisation per point shared by all
+    /// entries, and on the reduced path one solve per distinct row or column, whichever
+    /// are fewer.
+    std::vector<std::complex<double>> sweepEntries(std::span<const std::complex<double>> s,
+                                                   std::span<const TransferEntry> entries,
+                                                   SweepWidth width = SweepWidth::Automatic) const;
+
+    /// Transfer matrices at j 2 pi f for each f (Hz).
+    std::vector<Eigen::MatrixXcd> sweep(const std::vector<double> &frequenciesHz) const;
+
+    /// Finite natural frequencies (rad/s): the finite generalized eigenvalues of (G, C),
+    /// sorted by magnitude.
+    std::vector<std::complex<double>> naturalFrequencies() const;
+
+    /// True when the DC point (s = 0) is regular.
+    bool dcRegular() const;
+
+    /// Unit-step response (input stepping from 0 to 1 at t = 0) of one output at `times`
+    /// (s, ascending, >= 0). Exact at each time for the linear model (matrix exponential of
+    /// the proper state-space part). Fails for a non-proper (impulsive) response.
+    Result<std::vector<double>> stepResponse(int output, int input,
+                                             const std::vector<double> &times) const;
+
+    /// Checks `entries` at the complex frequencies `probes` (rad/s; points where the
+    /// circuit is singular are skipped) against the full nodal system solved with
+    /// equilibration and iterative refinement. Where the fast path is off by more than
+    /// `tolerance` (relative) and the careful solve is better, the system switches to the
+    /// careful solve everywhere; where the careful solve's own error bound (componentwise
+    /// backward error times the condition of the entry) exceeds `tolerance`, a warning names
+    /// the part and field whose rounding dominates.
+    AccuracyCheck checkAccuracy(std::span<const std::complex<double>> probes,
+                                std::span<const CheckedEntry> entries, double tolerance = 1e-8);
+
+    /// True when the system solves the full matrix with refinement (see checkAccuracy()).
+    bool refined() const { return m_refined; }
+
+    const Eigen::MatrixXd &gr() const { return m_gr; }
+    const Eigen::MatrixXd &cr() const { return m_cr; }
+    const Eigen::MatrixXd &br() const { return m_br; }
+    const Eigen::MatrixXd &lr() const { return m_lr; }
+    const Eigen::MatrixXd &dr() const { return m_dr; }
+
+private:
+    Eigen::MatrixXd m_gr; ///< k x k
+    Eigen::MatrixXd m_cr; ///< k x k
+    Eigen::MatrixXd m_br; ///< k x inputs
+    Eigen::MatrixXd m_lr; ///< outputs x k
+    Eigen::MatrixXd m_dr; ///< outputs x inputs, static feedthrough of the eliminated part
+    std::vector<std::string> m_unknowns; ///< names of the kept unknowns
+    SolverPath m_path = SolverPath::Reduced;
+    std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
+    bool m_refined = false;
+};
+
+} // namespace loopsketch

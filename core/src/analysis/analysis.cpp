@@ -1,0 +1,287 @@
+#include "loopsketch/analysis/analysis.h"
+
+#include "loopsketch/analysis/trialmetrics.h"
+#include "loopsketch/analysis/workbudget.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/partlimits.h"
+#include "loopsketch/feedback/metrics.h"
+
+#include "detail/noisesweep.h"
+
+#include <Eigen/LU>
+
+#include <cmath>
+#include <limits>
+#include <numbers>
+
+namespace loopsketch {
+
+namespace {
+
+constexpr double kSensitivityStep = 1e-6; // relative, central difference
+
+OptionalNumber realPart(std::complex<double> v)
+{
+    return finiteOrNone(v.real());
+}
+
+/// An impedance at DC: its real part, +infinity when it has no finite DC value and grows
+/// as the frequency falls (an open node at DC: a capacitance only, or nothing), nullopt when
+/// it does not exist at all. `low` and `lower` are the model at two falling frequencies far
+/// below any pole (1 µHz and 1 nHz): a capacitive impedance grows 1000x between them.
+OptionalNumber dcImpedance(std::complex<double> dc, std::complex<double> low,
+                           std::complex<double> lower)
+{
+    if (std::isfinite(dc.real()))
+        return dc.real();
+    const double a = std::abs(low), b = std::abs(lower);
+    if (std::isfinite(a) && std::isfinite(b) && a > 0 && b > 100.0 * a)
+        return std::numeric_limits<double>::infinity();
+    if (std::isinf(dc.real()))
+        return std::numeric_limits<double>::infinity();
+    return std::nullopt;
+}
+
+OptionalNumber errorPct(const OptionalNumber &estimate, const OptionalNumber &exact)
+{
+    if (!estimate || !exact || *exact == 0.0)
+        return std::nullopt;
+    return finiteOrNone((*estimate - *exact) / *exact * 100.0);
+}
+
+OptionalNumber decibels(const OptionalNumber &factor)
+{
+    if (!factor || !(std::abs(*factor) > 0))
+        return std::nullopt;
+    return finiteOrNone(20.0 * std::log10(std::abs(*factor)));
+}
+
+/// DC gain of the full circuit by one dense real solve (cheap enough for finite
+/// differences, and independent of the reduced path).
+OptionalNumber dcGain(const Design &design)
+{
+    auto system = assembleSystem(buildLoopNetlist(design));
+    if (!system)
+        return std::nullopt;
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(system->G);
+    const Eigen::VectorXd x = lu.solve(system->B.col(loopio::kSource));
+    if (!x.allFinite() || isSingular(system->G))
+        return std::nullopt;
+    return finiteOrNone(system->L.row(loopio::kOutput).dot(x));
+}
+
+/// The field whose sensitivity is reported for a part: its value, the gain block's gain,
+/// the source's own resistance. Empty when the part has none that acts at DC.
+std::string sensitivityField(const Part &p)
+{
+    switch (p.type) {
+    case PartType::GainBlock:
+        return "gain";
+    case PartType::VSource:
+        return p.number("r_series") > 0 ? "r_series" : "";
+    case PartType::ISource:
+        return p.has("r_parallel") ? "r_parallel" : "";
+    default:
+        return std::string(p.primaryField());
+    }
+}
+
+std::map<std::string, double> computeSensitivity(const Design &design, double gain)
+{
+    std::map<std::string, double> out;
+    if (!(std::abs(gain) > 0))
+        return out;
+    // One copy of the design, each field nudged and put back in turn: copying the whole
+    // design per nudge cost more than the solves.
+    Design d = design;
+    for (std::size_t i = 0; i < design.parts.size(); ++i) {
+        const std::string field = sensitivityField(design.parts[i]);
+        if (field.empty())
+            continue;
+        const double base = design.parts[i].number(field);
+        OptionalNumber g[2];
+        auto &fields = d.parts[i].fields;
+        const bool given = fields.count(field) != 0;
+        const auto original = given ? fields.at(field) : Value{};
+        for (int k = 0; k < 2; ++k) {
+            fields[field].si = base * (1.0 + (k ? kSensitivityStep : -kSensitivityStep));
+            g[k] = dcGain(d);
+        }
+        if (given)
+            fields[field] = original;
+        else
+            fields.erase(field);
+        if (g[0] && g[1])
+            out[design.parts[i].id] = (*g[1] - *g[0]) / (2 * kSensitivityStep * gain);
+    }
+    return out;
+}
+
+} // namespace
+
+Result<Analysis> analyze(const Design &design, std::string_view file,
+                         const AnalysisOptions &options)
+{
+    if (auto problems = validateDesign(design, file); !problems.empty())
+        return problems;
+    if (auto over = checkAnalysisBudget(design, file, options.sensitivity); !over.empty())
+        return over;
+    auto built = LoopModel::build(design, options.solver);
+    if (!built) {
+        Diagnostics d = built.diagnostics();
+        for (auto &x : d)
+            x.file = std::string(file);
+        return d;
+    }
+    const LoopModel &model = *built;
+    Analysis a;
+    a.warnings = partLimitWarnings(design);
+    for (const Diagnostic &w : model.warnings())
+        a.warnings.push_back(w);
+    a.title = design.title;
+    a.gainUnit = gainUnit(design);
+    a.frequenciesHz = design.sweep.frequencies();
+    a.topology = model.topology().topology;
+    a.topologyReason = model.topology().reason;
+    a.twoPortProblem = model.twoPortProblem();
+
+    const LoopPoint dc = model.at(0.0);
+    a.exact.gain = realPart(dc.gain);
+    // Only when an impedance has no finite DC value: is it infinite (an open node) or absent?
+    const bool openAtDc = !std::isfinite(dc.zIn.real()) || !std::isfinite(dc.zOut.real())
+        || !std::isfinite(dc.rrZIn.real()) || !std::isfinite(dc.rrZOut.real())
+        || !std::isfinite(dc.tpZIn.real()) || !std::isfinite(dc.tpZOut.real());
+    const std::complex<double> twoPi(0.0, 2.0 * std::numbers::pi);
+    const LoopPoint low = openAtDc ? model.at(twoPi * 1e-6) : dc;
+    const LoopPoint lower = openAtDc ? model.at(twoPi * 1e-9) : dc;
+    const auto z = [&](std::complex<double> LoopPoint::*m) {
+        return dcImpedance(dc.*m, low.*m, lower.*m);
+    };
+    a.exact.zIn = z(&LoopPoint::zIn);
+    a.exact.zOut = z(&LoopPoint::zOut);
+    a.returnRatio = {realPart(dc.loopGain), realPart(dc.gainInf), realPart(dc.feedthrough),
+                     realPart(dc.rrGain),   z(&LoopPoint::rrZIn), z(&LoopPoint::rrZOut)};
+    if (model.hasTwoPort()) {
+        TwoPortSummary t;
+        t.a = realPart(dc.a);
+        t.beta = realPart(dc.beta);
+        t.loopGain = realPart(dc.tpLoopGain);
+        t.closedLoop = realPart(dc.closedLoop);
+        t.gain = realPart(dc.tpGain);
+        t.zIn = z(&LoopPoint::tpZIn);
+        t.zOut = z(&LoopPoint::tpZOut);
+        t.gainErrorPct = errorPct(t.gain, a.exact.gain);
+        t.zInErrorPct = errorPct(t.zIn, a.exact.zIn);
+        t.zOutErrorPct = errorPct(t.zOut, a.exact.zOut);
+        t.inputLoading = realPart(dc.inputLoading);
+        t.outputLoading = realPart(dc.outputLoading);
+        t.inputLoadingDb = decibels(t.inputLoading);
+        t.outputLoadingDb = decibels(t.outputLoading);
+        a.twoPort = t;
+    }
+    if (a.returnRatio.loopGain)
+        a.desensitivityDb = decibels(1.0 + *a.returnRatio.loopGain);
+
+    AnalysisCurves &c = a.curves;
+    const std::size_t n = a.frequenciesHz.size();
+    std::vector<Complex> points(n);
+    for (std::size_t i = 0; i < n; ++i)
+        points[i] = {0.0, 2.0 * std::numbers::pi * a.frequenciesHz[i]};
+    LoopCurves sweep = model.sweep(points);
+    c.gainExact = std::move(sweep.gain);
+    c.zInExact = std::move(sweep.zIn);
+    c.zOutExact = std::move(sweep.zOut);
+    c.loopGain = std::move(sweep.loopGain);
+    c.gainReturnRatio = std::move(sweep.rrGain);
+    c.zInReturnRatio = std::move(sweep.rrZIn);
+    c.zOutReturnRatio = std::move(sweep.rrZOut);
+    c.zInOpenLoop = std::move(sweep.zInOpenLoop);
+    c.zOutOpenLoop = std::move(sweep.zOutOpenLoop);
+    c.a = std::move(sweep.a);
+    c.beta = std::move(sweep.beta);
+    c.loopGainTwoPort = std::move(sweep.tpLoopGain);
+    c.closedLoop = std::move(sweep.closedLoop);
+    c.gainTwoPort = std::move(sweep.tpGain);
+    c.zInTwoPort = std::move(sweep.tpZIn);
+    c.zOutTwoPort = std::move(sweep.tpZOut);
+    c.inputLoading = std::move(sweep.inputLoading);
+    c.outputLoading = std::move(sweep.outputLoading);
+    c.desensitivity.resize(n);
+    for (std::size_t i = 0; i < n; ++i)
+        c.desensitivity[i] = 1.0 + c.loopGain[i];
+    a.exact.gainSweep = c.gainExact;
+    a.exact.zInSweep = c.zInExact;
+    a.exact.zOutSweep = c.zOutExact;
+
+    const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
+    a.poles = describePoles(closedLoopPoles);
+    const Stability verdict = assessStability(a.poles);
+    a.stable = verdict.stable;
+    a.rhpPoles = verdict.rhpPoles;
+    a.closedLoopReason = verdict.reason;
+
+    // The loop beyond the sweep, where crossings may lie: as far as its poles and the
+    // closed loop's reach.
+    std::vector<Complex> loopPoles = model.loopGainPoles();
+    loopPoles.insert(loopPoles.end(), closedLoopPoles.begin(), closedLoopPoles.end());
+    const BeyondSweep beyond = frequenciesBeyondSweep(a.frequenciesHz, loopPoles);
+    const auto pointsAt = [](const std::vector<double> &hz) {
+        std::vector<Complex> s(hz.size());
+        for (std::size_t i = 0; i < hz.size(); ++i)
+            s[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
+        return s;
+    };
+    const std::vector<Complex> below = pointsAt(beyond.below), above = pointsAt(beyond.above);
+    {
+        std::vector<double> f = beyond.below;
+        f.insert(f.end(), a.frequenciesHz.begin(), a.frequenciesHz.end());
+        f.insert(f.end(), beyond.above.begin(), beyond.above.end());
+        Curve t = model.loopGainOver(below);
+        t.insert(t.end(), c.loopGain.begin(), c.loopGain.end());
+        const Curve tAbove = model.loopGainOver(above);
+        t.insert(t.end(), tAbove.begin(), tAbove.end());
+        a.margins = computeMargins(model, f, t, dc.loopGain);
+    }
+    a.step.settlingBand = design.settlingBandFraction();
+    if (a.exact.gain && a.stable) {
+        a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);
+        std::vector<double> f = a.frequenciesHz;
+        f.insert(f.end(), beyond.above.begin(), beyond.above.end());
+        Curve g = c.gainExact;
+        const Curve gAbove = model.gainOver(above);
+        g.insert(g.end(), gAbove.begin(), gAbove.end());
+        const Peaking peaking = computePeaking(model, f, g, *a.exact.gain);
+        a.peakingDb = peaking.db;
+        a.peakingHz = peaking.hz;
+        a.feedthroughDb = peaking.feedthroughDb;
+        a.feedthroughHz = peaking.feedthroughHz;
+        if (auto step = model.stepModel())
+            a.step = computeStep(*step, a.poles, a.bandwidthHz, *a.exact.gain,
+                                 design.settlingBandFraction());
+        else
+            a.step.problem = step.diagnostics().front().message;
+    }
+    if (a.exact.gain && options.sensitivity)
+        a.sensitivity = computeSensitivity(design, *a.exact.gain);
+    if (options.noise) {
+        NoiseOptions noiseOptions = options.noiseOptions;
+        if (!noiseOptions.closedLoopBandwidthHz)
+            noiseOptions.closedLoopBandwidthHz = a.bandwidthHz;
+        if (auto noise = detail::analyzeNoiseOver(design, noiseOptions, a.frequenciesHz, points)) {
+            a.noise = std::move(noise).value();
+            if (!a.stable) { // the densities exist; a noise power over a band does not
+                a.noise->outputRms.reset();
+                a.noise->inputRms.reset();
+                for (NoiseContribution &contribution : a.noise->contributions)
+                    contribution.rms.reset();
+            }
+        } else
+            a.noiseProblem = noise.diagnostics().front().message;
+    }
+    // The same check as the Candidates panel and the spread yield (checkSpecs()).
+    a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
+    return a;
+}
+
+} // namespace loopsketch

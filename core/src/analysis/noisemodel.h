@@ -1,0 +1,73 @@
+#pragma once
+
+// The circuit the noise analysis solves: the loop netlist with the gain block's en in series
+// with in_p, one injection per noise source, the closed-loop gain and en's noise gain, all
+// reduced once and evaluated at any frequencies (the sweep's, and those the band integral
+// asks for beyond it).
+
+#include "loopsketch/analysis/noise.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/reducedsystem.h"
+
+#include <complex>
+#include <span>
+#include <vector>
+
+namespace loopsketch::detail {
+
+/// Densities at a set of frequencies.
+struct NoiseSamples
+{
+    /// Output power density of each source, source-major: psd[k * n + i], V^2/Hz (A^2/Hz for
+    /// a current output).
+    std::vector<double> psd;
+    std::vector<std::complex<double>> gain; ///< closed-loop gain per frequency
+    std::vector<double> noiseGain; ///< |output per unit en| per frequency
+    /// First frequency where the circuit had no solution (Hz), NaN when none.
+    double failedAtHz = 0;
+    bool ok = true;
+};
+
+class NoiseModel
+{
+public:
+    /// Builds the noise circuit of a valid design.
+    static Result<NoiseModel> build(const Design &design);
+
+    /// The sources in the order of NoiseSamples::psd, with their names and kinds (no
+    /// densities).
+    const std::vector<NoiseContribution> &sources() const { return m_contributions; }
+
+    /// Evaluates at `hz` (Hz) with `points` the matching s = j 2 pi f (rad/s).
+    NoiseSamples evaluate(std::span<const double> hz,
+                          std::span<const std::complex<double>> points) const;
+    /// The same, computing the points.
+    NoiseSamples evaluate(std::span<const double> hz) const;
+
+    /// The circuit's natural frequencies, rad/s (those of the loop: en is a zero source).
+    std::vector<std::complex<double>> naturalFrequencies() const
+    {
+        return m_reduced->naturalFrequencies();
+    }
+
+    /// Why the circuit has no solution at s, for a diagnostic ("" when unknown).
+    std::string describeFailure(std::complex<double> s) const;
+
+private:
+    struct Injection
+    {
+        int plus = -1; ///< unknown whose entry is +1 (-1: ground)
+        int minus = -1;
+        double white = 0; ///< A/sqrt(Hz) for currents, V/sqrt(Hz) for en
+        double cornerHz = 0;
+    };
+    std::vector<NoiseContribution> m_contributions;
+    std::vector<Injection> m_injections;
+    DescriptorSystem m_system;
+    std::optional<ReducedSystem> m_reduced;
+    std::size_t m_gainColumn = 0;
+    std::size_t m_enColumn = 0; ///< the column of en's transfer (noise gain)
+    std::size_t m_columns = 0;
+};
+
+} // namespace loopsketch::detail

@@ -1,0 +1,617 @@
+#include "loopsketch/analysis/spread.h"
+
+#include "loopsketch/analysis/workbudget.h"
+#include "loopsketch/base/value.h"
+
+#include "report/jsonnumber.h"
+
+#include <nlohmann/json.hpp>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numbers>
+#include <random>
+#include <sstream>
+
+namespace loopsketch {
+
+namespace {
+
+using Json = nlohmann::ordered_json;
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+constexpr double kSensitivityFraction = 0.01; // of each tolerance, beyond the vertex limit
+
+Diagnostic error(std::string_view file, std::string part, std::string field, std::string message)
+{
+    return Diagnostic{std::string(file), std::move(part), std::move(field), std::move(message)};
+}
+
+Diagnostics checkOptions(const SpreadOptions &o, std::string_view file)
+{
+    Diagnostics d;
+    if (o.trials < 1 || o.trials > kMaxTrials)
+        d.push_back(error(file, {}, "trials",
+                          "trials must be between 1 and " + std::to_string(kMaxTrials) + ", got "
+                              + std::to_string(o.trials)));
+    if (o.histogramBins < 1 || o.histogramBins > 1000)
+        d.push_back(error(file, {}, "bins", "histogram bins must be between 1 and 1000"));
+    if (o.pointsPerDecade < 1 || o.pointsPerDecade > 1000)
+        d.push_back(
+            error(file, {}, "points_per_decade", "points per decade must be between 1 and 1000"));
+    return d;
+}
+
+/// A worker's own copy of the design and where each quantity lives in it.
+struct Workspace
+{
+    Design design;
+    std::vector<double *> targets;
+
+    Workspace(const Design &d, const std::vector<SpreadQuantity> &quantities) : design(d)
+    {
+        for (const auto &q : quantities) {
+            Part *p = design.findPart(q.part);
+            Value &v = p->fields[q.field];
+            v.si = q.nominal;
+            targets.push_back(&v.si);
+        }
+    }
+
+    /// Sets quantity k to nominal * factors[k] and evaluates.
+    TrialMetrics evaluate(const std::vector<SpreadQuantity> &quantities,
+                          const std::vector<double> &factors, const std::vector<double> &grid,
+                          bool &failed)
+    {
+        for (std::size_t k = 0; k < quantities.size(); ++k)
+            *targets[k] = quantities[k].nominal * factors[k];
+        auto m = evaluateTrial(design, grid);
+        failed = !m.ok();
+        return m ? *m : TrialMetrics{};
+    }
+};
+
+/// The per-trial generator: a function of (seed, trial) only.
+std::mt19937_64 trialGenerator(std::uint64_t seed, std::uint64_t trial)
+{
+    std::seed_seq seq{static_cast<std::uint32_t>(seed), static_cast<std::uint32_t>(seed >> 32),
+                      static_cast<std::uint32_t>(trial), static_cast<std::uint32_t>(trial >> 32)};
+    return std::mt19937_64(seq);
+}
+
+/// Uniform in [0, 1) from the top 53 bits, the same on every standard library.
+double unit(std::mt19937_64 &g)
+{
+    return static_cast<double>(g() >> 11) * 0x1.0p-53;
+}
+
+/// Standard normal by Box-Muller (portable, unlike std::normal_distribution).
+double standardNormal(std::mt19937_64 &g)
+{
+    const double u1 = 1.0 - unit(g); // (0, 1]
+    const double u2 = unit(g);
+    return std::sqrt(-2.0 * std::log(u1)) * std::cos(2.0 * std::numbers::pi * u2);
+}
+
+double drawFactor(std::mt19937_64 &g, SpreadDistribution distribution, double tolerance)
+{
+    if (distribution == SpreadDistribution::Uniform)
+        return 1.0 + tolerance * (2.0 * unit(g) - 1.0);
+    for (;;) {
+        const double f = 1.0 + tolerance / 3.0 * standardNormal(g);
+        if (f > 0)
+            return f;
+    }
+}
+
+double orNaN(const OptionalNumber &v)
+{
+    return v ? *v : kNaN;
+}
+
+struct Corner
+{
+    std::vector<int> signs;
+    TrialMetrics metrics;
+};
+
+void updateRange(MetricRange &r, const OptionalNumber &v, const std::vector<int> &signs)
+{
+    if (!v)
+        return;
+    if (!r.min || *v < *r.min) {
+        r.min = v;
+        r.minCorner = signs;
+    }
+    if (!r.max || *v > *r.max) {
+        r.max = v;
+        r.maxCorner = signs;
+    }
+}
+
+Result<std::vector<double>> nominalGrid(const Design &design, const SpreadOptions &options,
+                                        std::string_view file)
+{
+    auto grid = coarseGrid(design.sweep, options.pointsPerDecade);
+    if (grid.size() < 2)
+        return error(file, {}, "sweep", "the sweep has no frequency range to evaluate");
+    return grid;
+}
+
+/// What worst case and Monte Carlo both start from: a valid design and options, the
+/// toleranced quantities, the coarse grid and the nominal metrics.
+struct SpreadSetup
+{
+    std::vector<SpreadQuantity> quantities;
+    std::vector<double> grid;
+    TrialMetrics nominal;
+};
+
+Result<SpreadSetup> prepareSpread(const Design &design, const SpreadOptions &options,
+                                  std::string_view file)
+{
+    if (auto problems = validateDesign(design, file); !problems.empty())
+        return problems;
+    if (auto problems = checkOptions(options, file); !problems.empty())
+        return problems;
+    auto quantities = spreadQuantities(design, options, file);
+    if (!quantities)
+        return quantities.diagnostics();
+    auto grid = nominalGrid(design, options, file);
+    if (!grid)
+        return grid.diagnostics();
+    if (auto over
+        = checkRepeatedBudget(design, file, 1, trialOperations(circuitSize(design), grid->size()),
+                              "the nominal trial", "", "parts");
+        !over.empty())
+        return over;
+    auto nominal = evaluateTrial(design, *grid);
+    if (!nominal)
+        return nominal.diagnostics();
+    return SpreadSetup{std::move(quantities).value(), std::move(grid).value(), *nominal};
+}
+
+} // namespace
+
+std::string toString(SpreadDistribution distribution)
+{
+    return distribution == SpreadDistribution::Normal ? "normal" : "uniform";
+}
+
+std::optional<SpreadDistribution> parseSpreadDistribution(std::string_view text)
+{
+    if (text == "uniform")
+        return SpreadDistribution::Uniform;
+    if (text == "normal")
+        return SpreadDistribution::Normal;
+    return std::nullopt;
+}
+
+Result<std::vector<SpreadQuantity>>
+spreadQuantities(const Design &design, const SpreadOptions &options, std::string_view file)
+{
+    std::vector<SpreadQuantity> out;
+    Diagnostics problems;
+    for (const Part &p : design.parts) {
+        if (!p.tolerance)
+            continue;
+        const std::string field(p.primaryField());
+        if (field.empty()) {
+            problems.push_back(error(file, p.id, "tolerance",
+                                     "a tolerance applies to a part's value, and a "
+                                         + std::string(partSpec(p.type).typeName)
+                                         + " has none to spread"));
+            continue;
+        }
+        const double t = p.tolerance->si;
+        if (!(t > 0 && t < 1)) {
+            if (t != 0)
+                problems.push_back(error(file, p.id, "tolerance",
+                                         "tolerance must be between 0 % and 100 % (excluded)"));
+            continue;
+        }
+        out.push_back({p.id, field, p.number(field), t});
+    }
+    const auto addGainBlock = [&](const std::optional<double> &spread, const char *field) {
+        if (!spread)
+            return;
+        const Part *gb = design.uniquePart(PartType::GainBlock);
+        if (!gb) {
+            problems.push_back(error(file, {}, field,
+                                     "a spread for the gain block's " + std::string(field)
+                                         + " needs exactly one gain block"));
+            return;
+        }
+        if (!(*spread > 0 && *spread < 1)) {
+            problems.push_back(error(file, gb->id, field,
+                                     "the " + std::string(field)
+                                         + " spread must be between 0 % and 100 % (excluded)"));
+            return;
+        }
+        if (!gb->has(field)) {
+            problems.push_back(error(file, gb->id, field,
+                                     "a " + std::string(field)
+                                         + " spread needs the gain block to give its "
+                                         + std::string(field)));
+            return;
+        }
+        out.push_back({gb->id, field, gb->number(field), *spread});
+    };
+    addGainBlock(options.gainSpread, "gain");
+    addGainBlock(options.gbwSpread, "gbw");
+    if (!problems.empty())
+        return problems;
+    if (out.empty())
+        return error(file, {}, "tolerance",
+                     "nothing to spread: no part has a tolerance and no gain or gbw spread is "
+                     "given");
+    return out;
+}
+
+MetricStats metricStats(const std::vector<double> &values, int bins)
+{
+    MetricStats s;
+    double sum = 0;
+    for (double v : values) {
+        if (!std::isfinite(v)) {
+            ++s.missing;
+            continue;
+        }
+        if (s.count == 0 || v < s.min)
+            s.min = v;
+        if (s.count == 0 || v > s.max)
+            s.max = v;
+        sum += v;
+        ++s.count;
+    }
+    if (s.count == 0)
+        return s;
+    s.mean = sum / static_cast<double>(s.count);
+    double squares = 0;
+    for (double v : values)
+        if (std::isfinite(v))
+            squares += (v - s.mean) * (v - s.mean);
+    s.std = s.count > 1 ? std::sqrt(squares / static_cast<double>(s.count - 1)) : 0.0;
+    const std::size_t n = static_cast<std::size_t>(std::max(1, bins));
+    s.histogram.assign(n, 0);
+    s.histogramLow = s.min;
+    s.histogramHigh = s.max;
+    const double width = (s.max - s.min) / static_cast<double>(n);
+    for (double v : values) {
+        if (!std::isfinite(v))
+            continue;
+        std::size_t b = 0;
+        if (width > 0)
+            b = std::min(n - 1, static_cast<std::size_t>((v - s.min) / width));
+        ++s.histogram[b];
+    }
+    return s;
+}
+
+Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &options,
+                                  std::string_view file)
+{
+    auto prepared = prepareSpread(design, options, file);
+    if (!prepared)
+        return prepared.diagnostics();
+    SpreadSetup setup = std::move(prepared).value();
+    const std::vector<double> &grid = setup.grid;
+
+    WorstCaseResult r;
+    r.quantities = std::move(setup.quantities);
+    r.nominal = setup.nominal;
+    const std::vector<SpreadQuantity> &q = r.quantities;
+    const std::size_t n = q.size();
+    r.exhaustive = n <= static_cast<std::size_t>(kMaxVertexQuantities);
+    // every vertex, or two probes per quantity and a corner pair per metric
+    const std::size_t evaluations = r.exhaustive ? std::size_t{1} << n : 2 * n + 6;
+    if (auto over = checkRepeatedBudget(
+            design, file, evaluations, trialOperations(circuitSize(design), grid.size()),
+            "the worst case", "reduce the toleranced parts", "tolerance");
+        !over.empty())
+        return over;
+
+    // The corners to evaluate: every vertex, or the sensitivity corners.
+    std::vector<std::vector<int>> corners;
+    if (r.exhaustive) {
+        const std::size_t count = std::size_t{1} << n;
+        corners.reserve(count);
+        for (std::size_t c = 0; c < count; ++c) {
+            std::vector<int> s(n);
+            for (std::size_t k = 0; k < n; ++k)
+                s[k] = (c >> k) & 1 ? 1 : -1;
+            corners.push_back(std::move(s));
+        }
+    } else {
+        std::vector<TrialMetrics> probes(2 * n);
+        const int workers = detail::workerCount(options.threads, 2 * n);
+        std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
+        spaces.reserve(static_cast<std::size_t>(workers));
+        for (int w = 0; w < workers; ++w)
+            spaces.emplace_back(design, q);
+        const std::size_t ran = detail::runParallel(
+            2 * n, workers,
+            [&](std::size_t i, int w) {
+                std::vector<double> f(n, 1.0);
+                const std::size_t k = i / 2;
+                f[k] += (i % 2 ? 1.0 : -1.0) * kSensitivityFraction * q[k].tolerance;
+                bool failed = false;
+                probes[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
+            },
+            {}, options.cancel);
+        if (ran < 2 * n) {
+            r.cancelled = true;
+            return r;
+        }
+        const auto signsOf = [&](auto metric) {
+            std::vector<int> s(n);
+            for (std::size_t k = 0; k < n; ++k) {
+                const double slope
+                    = orNaN(metric(probes[2 * k + 1])) - orNaN(metric(probes[2 * k]));
+                s[k] = slope < 0 ? -1 : 1;
+            }
+            return s;
+        };
+        const auto negated = [](std::vector<int> s) {
+            for (int &x : s)
+                x = -x;
+            return s;
+        };
+        for (const auto &s : {signsOf([](const TrialMetrics &m) { return m.gain; }),
+                              signsOf([](const TrialMetrics &m) { return m.bandwidthHz; }),
+                              signsOf([](const TrialMetrics &m) { return m.phaseMarginDeg; })}) {
+            corners.push_back(s);
+            corners.push_back(negated(s));
+        }
+    }
+
+    std::vector<TrialMetrics> results(corners.size());
+    std::vector<char> ran(corners.size(), 0);
+    const int workers = detail::workerCount(options.threads, corners.size());
+    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
+    spaces.reserve(static_cast<std::size_t>(workers));
+    for (int w = 0; w < workers; ++w)
+        spaces.emplace_back(design, q);
+    detail::runParallel(
+        corners.size(), workers,
+        [&](std::size_t c, int w) {
+            std::vector<double> f(n);
+            for (std::size_t k = 0; k < n; ++k)
+                f[k] = 1.0 + corners[c][k] * q[k].tolerance;
+            bool failed = false;
+            results[c] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
+            ran[c] = 1;
+        },
+        options.progress, options.cancel);
+    for (std::size_t c = 0; c < corners.size(); ++c) {
+        if (!ran[c]) {
+            r.cancelled = true;
+            continue;
+        }
+        ++r.corners;
+        updateRange(r.gain, results[c].gain, corners[c]);
+        updateRange(r.bandwidthHz, results[c].bandwidthHz, corners[c]);
+        updateRange(r.phaseMarginDeg, results[c].phaseMarginDeg, corners[c]);
+    }
+    return r;
+}
+
+Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &options,
+                                    std::string_view file)
+{
+    auto prepared = prepareSpread(design, options, file);
+    if (!prepared)
+        return prepared.diagnostics();
+    SpreadSetup setup = std::move(prepared).value();
+    const std::vector<double> &grid = setup.grid;
+    if (auto over = checkRepeatedBudget(design, file, static_cast<std::size_t>(options.trials),
+                                        trialOperations(circuitSize(design), grid.size()),
+                                        "the Monte Carlo run", "reduce the trials", "trials");
+        !over.empty())
+        return over;
+
+    MonteCarloResult r;
+    r.quantities = std::move(setup.quantities);
+    r.distribution = options.distribution;
+    r.seed = options.seed;
+    r.trials = static_cast<std::size_t>(options.trials);
+    r.nominal = setup.nominal;
+    const std::vector<SpreadQuantity> &q = r.quantities;
+
+    std::vector<TrialMetrics> results(r.trials);
+    std::vector<char> state(r.trials, 0); // 0 not run, 1 ok, 2 no solution
+    const int workers = detail::workerCount(options.threads, r.trials);
+    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
+    spaces.reserve(static_cast<std::size_t>(workers));
+    for (int w = 0; w < workers; ++w)
+        spaces.emplace_back(design, q);
+    detail::runParallel(
+        r.trials, workers,
+        [&](std::size_t i, int w) {
+            std::mt19937_64 g = trialGenerator(options.seed, i);
+            thread_local std::vector<double> f;
+            f.resize(q.size());
+            for (std::size_t k = 0; k < q.size(); ++k)
+                f[k] = drawFactor(g, options.distribution, q[k].tolerance);
+            bool failed = false;
+            results[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
+            state[i] = failed ? 2 : 1;
+        },
+        options.progress, options.cancel);
+
+    // Statistics in trial order, so that they do not depend on the thread count.
+    std::vector<double> gain, bandwidth, margin;
+    gain.reserve(r.trials);
+    bandwidth.reserve(r.trials);
+    margin.reserve(r.trials);
+    r.hasSpecs = hasSpecs(design.specs);
+    for (std::size_t i = 0; i < r.trials; ++i) {
+        if (state[i] == 0)
+            continue;
+        ++r.completed;
+        if (state[i] == 2) {
+            ++r.failed;
+            continue;
+        }
+        gain.push_back(orNaN(results[i].gain));
+        bandwidth.push_back(orNaN(results[i].bandwidthHz));
+        margin.push_back(orNaN(results[i].phaseMarginDeg));
+        if (checkSpecs(design.specs, design.sweep, results[i]).all())
+            ++r.passed;
+    }
+    r.cancelled = r.completed < r.trials;
+    r.gain = metricStats(gain, options.histogramBins);
+    r.bandwidthHz = metricStats(bandwidth, options.histogramBins);
+    r.phaseMarginDeg = metricStats(margin, options.histogramBins);
+    r.yield = r.completed ? static_cast<double>(r.passed) / static_cast<double>(r.completed) : 0.0;
+    return r;
+}
+
+namespace {
+
+Json number(const OptionalNumber &v)
+{
+    return detail::jsonNumber(v);
+}
+
+Json statsJson(const MetricStats &s)
+{
+    Json j;
+    j["count"] = s.count;
+    j["missing"] = s.missing;
+    const bool any = s.count > 0;
+    j["min"] = any ? Json(s.min) : Json(nullptr);
+    j["mean"] = any ? Json(s.mean) : Json(nullptr);
+    j["max"] = any ? Json(s.max) : Json(nullptr);
+    j["std"] = any ? Json(s.std) : Json(nullptr);
+    j["histogram"] = {{"low", any ? Json(s.histogramLow) : Json(nullptr)},
+                      {"high", any ? Json(s.histogramHigh) : Json(nullptr)},
+                      {"counts", s.histogram}};
+    return j;
+}
+
+Json rangeJson(const MetricRange &r, const OptionalNumber &nominal)
+{
+    return {{"nominal", number(nominal)},
+            {"min", number(r.min)},
+            {"max", number(r.max)},
+            {"min_corner", r.minCorner},
+            {"max_corner", r.maxCorner}};
+}
+
+std::string quantityText(const SpreadQuantity &q)
+{
+    std::ostringstream os;
+    os << q.part << " " << q.field << " +-" << formatValue(q.tolerance, ValueKind::Tolerance, 3);
+    return os.str();
+}
+
+std::string numberText(const OptionalNumber &v, std::string_view unit)
+{
+    if (!v || std::isnan(*v))
+        return "none";
+    return formatEngineering(*v, 4, unit);
+}
+
+std::string degreesText(const OptionalNumber &v)
+{
+    if (!v || std::isnan(*v))
+        return "none";
+    return formatFixed(*v, 2) + " deg";
+}
+
+} // namespace
+
+std::string spreadToJson(const WorstCaseResult &w, const MonteCarloResult &mc,
+                         const std::string &gainUnit)
+{
+    Json j;
+    j["schema"] = "loopsketch.spread/1";
+    j["gain_unit"] = gainUnit;
+    Json qs = Json::array();
+    for (const auto &q : mc.quantities)
+        qs.push_back({{"part", q.part},
+                      {"field", q.field},
+                      {"nominal", q.nominal},
+                      {"tolerance", q.tolerance}});
+    j["quantities"] = qs;
+    j["worst_case"] = {{"method", w.exhaustive ? "vertices" : "sensitivity_corners"},
+                       {"corners", w.corners},
+                       {"cancelled", w.cancelled},
+                       {"gain", rangeJson(w.gain, w.nominal.gain)},
+                       {"bandwidth_hz", rangeJson(w.bandwidthHz, w.nominal.bandwidthHz)},
+                       {"phase_margin_deg", rangeJson(w.phaseMarginDeg, w.nominal.phaseMarginDeg)}};
+    j["monte_carlo"] = {{"distribution", toString(mc.distribution)},
+                        {"seed", mc.seed},
+                        {"trials", mc.trials},
+                        {"completed", mc.completed},
+                        {"failed", mc.failed},
+                        {"cancelled", mc.cancelled},
+                        {"gain", statsJson(mc.gain)},
+                        {"bandwidth_hz", statsJson(mc.bandwidthHz)},
+                        {"phase_margin_deg", statsJson(mc.phaseMarginDeg)},
+                        {"yield", mc.hasSpecs ? Json(mc.yield) : Json(nullptr)},
+                        {"passed", mc.passed}};
+    return j.dump(2) + "\n";
+}
+
+std::string spreadToText(const WorstCaseResult &w, const MonteCarloResult &mc,
+                         const std::string &gainUnit)
+{
+    std::ostringstream os;
+    os << "Toleranced quantities:";
+    for (std::size_t k = 0; k < mc.quantities.size(); ++k)
+        os << (k ? ", " : " ") << quantityText(mc.quantities[k]);
+    os << "\n\nWorst case ("
+       << (w.exhaustive ? "all " + std::to_string(w.corners) + " corners"
+                        : std::to_string(w.corners) + " sensitivity corners, an approximation")
+       << "):\n";
+    const auto rangeLine
+        = [&](const char *name, const MetricRange &r, const OptionalNumber &nom, const auto &fmt) {
+              os << "  " << name << "nominal " << fmt(nom) << ", min " << fmt(r.min) << ", max "
+                 << fmt(r.max) << "\n";
+          };
+    const auto gainFmt = [&](const OptionalNumber &v) {
+        return numberText(v, gainUnit);
+    };
+    const auto hzFmt = [](const OptionalNumber &v) {
+        return numberText(v, "Hz");
+    };
+    rangeLine("gain          ", w.gain, w.nominal.gain, gainFmt);
+    rangeLine("bandwidth     ", w.bandwidthHz, w.nominal.bandwidthHz, hzFmt);
+    rangeLine("phase margin  ", w.phaseMarginDeg, w.nominal.phaseMarginDeg, degreesText);
+
+    os << "\nMonte Carlo (" << mc.completed << " of " << mc.trials << " trials, "
+       << toString(mc.distribution) << ", seed " << mc.seed << "):\n";
+    const auto statsLine = [&](const char *name, const MetricStats &s, const auto &fmt) {
+        os << "  " << name;
+        if (s.count == 0) {
+            os << "none\n";
+            return;
+        }
+        os << "min " << fmt(s.min) << ", mean " << fmt(s.mean) << ", max " << fmt(s.max) << ", std "
+           << fmt(s.std);
+        if (s.missing)
+            os << " (" << s.missing << " trials without one)";
+        os << "\n";
+    };
+    statsLine("gain          ", mc.gain, gainFmt);
+    statsLine("bandwidth     ", mc.bandwidthHz, hzFmt);
+    statsLine("phase margin  ", mc.phaseMarginDeg, degreesText);
+    if (mc.failed)
+        os << "  " << mc.failed << " trials had no circuit solution\n";
+    if (mc.hasSpecs) {
+        std::ostringstream y;
+        y.setf(std::ios::fixed);
+        y.precision(2);
+        y << mc.yield * 100.0;
+        os << "  yield         " << y.str() << " % (" << mc.passed << " of " << mc.completed
+           << " trials meet every spec)\n";
+    } else {
+        os << "  yield         no specs in the design\n";
+    }
+    return os.str();
+}
+
+} // namespace loopsketch

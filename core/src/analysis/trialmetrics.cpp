@@ -1,0 +1,321 @@
+#include "loopsketch/analysis/trialmetrics.h"
+
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/circuit/reducedsystem.h"
+#include "loopsketch/feedback/metrics.h"
+
+#include <algorithm>
+#include <cmath>
+#include <mutex>
+#include <numbers>
+#include <thread>
+
+namespace loopsketch {
+
+namespace {
+
+constexpr double kPi = std::numbers::pi;
+constexpr int kBisectionSteps = 60;
+constexpr double kBisectionTolerance = 1e-10; // relative, in frequency
+
+std::complex<double> jw(double hz)
+{
+    return {0.0, 2.0 * kPi * hz};
+}
+
+template<typename F> double bisectLog(F f, double lo, double hi)
+{
+    double flo = f(lo);
+    for (int i = 0; i < kBisectionSteps && hi / lo - 1.0 > kBisectionTolerance; ++i) {
+        const double mid = std::sqrt(lo * hi);
+        const double fm = f(mid);
+        if (!std::isfinite(fm))
+            break;
+        if ((fm < 0) == (flo < 0)) {
+            lo = mid;
+            flo = fm;
+        } else {
+            hi = mid;
+        }
+    }
+    return std::sqrt(lo * hi);
+}
+
+double phaseNear(std::complex<double> v, double reference)
+{
+    const double p = std::arg(v);
+    return p + 2.0 * kPi * std::round((reference - p) / (2.0 * kPi));
+}
+
+Result<ReducedSystem> reduce(const Design &design, const LoopCircuitOptions &options)
+{
+    auto system = assembleSystem(buildLoopNetlist(design, options));
+    if (!system)
+        return system.diagnostics();
+    return ReducedSystem::build(*system);
+}
+
+OptionalNumber finite(double v)
+{
+    return std::isfinite(v) ? OptionalNumber(v) : std::nullopt;
+}
+
+} // namespace
+
+std::vector<double> coarseGrid(const Sweep &sweep, int pointsPerDecade)
+{
+    const double start = sweep.start.si, stop = sweep.stop.si;
+    std::vector<double> f;
+    if (!(start > 0) || !(stop > start) || pointsPerDecade < 1)
+        return f;
+    const double decades = std::log10(stop / start);
+    const int n = std::max(1, static_cast<int>(std::ceil(decades * pointsPerDecade - 1e-9)));
+    f.reserve(static_cast<std::size_t>(n) + 1);
+    for (int i = 0; i <= n; ++i)
+        f.push_back(start * std::pow(10.0, decades * i / n));
+    f.back() = stop;
+    return f;
+}
+
+Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &f)
+{
+    auto full = reduce(design, {});
+    if (!full)
+        return full.diagnostics();
+    LoopCircuitOptions rrOptions;
+    rrOptions.testDriven = true;
+    auto rr = reduce(design, rrOptions);
+    if (!rr)
+        return rr.diagnostics();
+    const auto gainAt = [&](double hz) {
+        return full->entry(jw(hz), loopio::kOutput, loopio::kSource);
+    };
+    const auto loopAt = [&](double hz) {
+        return -rr->entry(jw(hz), loopio::kReturned, loopio::kTest);
+    };
+
+    TrialMetrics m;
+    for (const auto &s : full->naturalFrequencies())
+        if (s.real() >= -1e-9 * std::abs(s))
+            m.stable = false; // as assessStability(): right half-plane or jw axis
+    const double g0 = full->entry(0.0, loopio::kOutput, loopio::kSource).real();
+    m.gain = finite(g0);
+    const std::complex<double> t0 = -rr->entry(0.0, loopio::kReturned, loopio::kTest);
+    if (f.size() < 2)
+        return m;
+
+    thread_local Curve gain, loop;
+    gain.resize(f.size());
+    loop.resize(f.size());
+    for (std::size_t i = 0; i < f.size(); ++i) {
+        gain[i] = gainAt(f[i]);
+        loop[i] = loopAt(f[i]);
+    }
+
+    // Bandwidth: the first fall through |G(0)|/sqrt(2), as computeBandwidth() finds it.
+    if (m.gain && std::abs(g0) > 0) {
+        const double level = std::abs(g0) / std::sqrt(2.0);
+        for (std::size_t i = 0; i + 1 < f.size(); ++i) {
+            if (std::abs(gain[i]) >= level && std::abs(gain[i + 1]) < level) {
+                m.bandwidthHz = bisectLog([&](double hz) { return std::abs(gainAt(hz)) - level; },
+                                          f[i], f[i + 1]);
+                break;
+            }
+        }
+    }
+
+    // Phase margin: phase unwrapped from DC, worst over all |T| = 1 crossings, as
+    // computeMargins() does on the full sweep.
+    const double startPhase
+        = std::isfinite(std::abs(t0)) && std::abs(t0) > 0 ? std::arg(t0) : std::arg(loop.front());
+    const std::vector<double> phase = unwrapPhase(loop, startPhase);
+    for (std::size_t i = 0; i + 1 < f.size(); ++i) {
+        const double a = std::log(std::abs(loop[i])), b = std::log(std::abs(loop[i + 1]));
+        if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
+            continue;
+        const double fc
+            = bisectLog([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
+        const double pm = 180.0 + phaseNear(loopAt(fc), phase[i]) * 180.0 / kPi;
+        if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
+            m.phaseMarginDeg = pm;
+    }
+    return m;
+}
+
+Result<double> evaluateDcGain(const Design &design)
+{
+    auto full = reduce(design, {});
+    if (!full)
+        return full.diagnostics();
+    return full->entry(0.0, loopio::kOutput, loopio::kSource).real();
+}
+
+bool hasSpecs(const Specs &specs)
+{
+    return specs.gainMin || specs.gainMax || specs.bandwidthMin || specs.phaseMarginMinDeg;
+}
+
+TrialMetrics trialMetricsOf(const Analysis &a)
+{
+    return {a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, a.stable};
+}
+
+SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &m)
+{
+    SpecCheck c;
+    if (!m.stable) {
+        c.stable = false;
+        c.reason = "unstable";
+        c.gain = !(specs.gainMin || specs.gainMax);
+        c.bandwidth = !specs.bandwidthMin;
+        c.phaseMargin = !specs.phaseMarginMinDeg;
+        return c;
+    }
+    if (specs.gainMin || specs.gainMax) {
+        c.gain = m.gain.has_value();
+        if (m.gain && specs.gainMin && *m.gain < specs.gainMin->si)
+            c.gain = false;
+        if (m.gain && specs.gainMax && *m.gain > specs.gainMax->si)
+            c.gain = false;
+    }
+    if (specs.bandwidthMin) {
+        if (m.bandwidthHz)
+            c.bandwidth = *m.bandwidthHz >= specs.bandwidthMin->si;
+        else
+            c.bandwidth = m.gain.has_value() && sweep.stop.si >= specs.bandwidthMin->si;
+    }
+    if (specs.phaseMarginMinDeg)
+        c.phaseMargin = m.phaseMarginDeg && *m.phaseMarginDeg >= *specs.phaseMarginMinDeg;
+    return c;
+}
+
+std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep, const TrialMetrics &m,
+                                      std::string_view gainUnit)
+{
+    const SpecCheck check = checkSpecs(specs, sweep, m);
+    const auto verdict = [](std::string name, std::string label, std::string unit) {
+        SpecVerdict v;
+        v.name = std::move(name);
+        v.label = std::move(label);
+        v.unit = std::move(unit);
+        return v;
+    };
+    std::vector<SpecVerdict> out;
+    if (specs.gainMin || specs.gainMax) {
+        SpecVerdict v = verdict("gain", "gain", std::string(gainUnit));
+        if (specs.gainMin)
+            v.low = specs.gainMin->si;
+        if (specs.gainMax)
+            v.high = specs.gainMax->si;
+        v.isWindow = true;
+        v.value = m.gain;
+        v.pass = check.gain;
+        if (!m.gain)
+            v.reason = "no DC gain";
+        else if (specs.gainMin && *m.gain < specs.gainMin->si)
+            v.reason = "below the minimum";
+        else if (specs.gainMax && *m.gain > specs.gainMax->si)
+            v.reason = "above the maximum";
+        out.push_back(std::move(v));
+    }
+    if (specs.bandwidthMin) {
+        SpecVerdict v = verdict("bandwidth_min", "bandwidth", "Hz");
+        v.low = specs.bandwidthMin->si;
+        v.value = m.bandwidthHz;
+        v.pass = check.bandwidth;
+        if (m.bandwidthHz && !v.pass)
+            v.reason = "below the minimum";
+        else if (!m.bandwidthHz && !m.gain)
+            v.reason = "no DC gain";
+        else if (!m.bandwidthHz)
+            v.reason = v.pass ? "no -3 dB point inside the sweep, which ends above the minimum"
+                              : "no -3 dB point inside the sweep, which ends below the minimum";
+        out.push_back(std::move(v));
+    }
+    if (specs.phaseMarginMinDeg) {
+        SpecVerdict v = verdict("phase_margin_min_deg", "phase margin", "\u00B0");
+        v.low = *specs.phaseMarginMinDeg;
+        v.value = m.phaseMarginDeg;
+        v.pass = check.phaseMargin;
+        if (!m.phaseMarginDeg)
+            v.reason = "no loop crossover";
+        else if (!v.pass)
+            v.reason = "below the minimum";
+        out.push_back(std::move(v));
+    }
+    if (!check.stable) {
+        // checkSpecs() fails every spec of an unstable loop, for that one reason
+        for (SpecVerdict &v : out) {
+            v.pass = false;
+            v.reason = check.reason;
+        }
+    }
+    return out;
+}
+
+std::string failingSpecLabels(const std::vector<SpecVerdict> &verdicts)
+{
+    std::string text;
+    for (const SpecVerdict &v : verdicts) {
+        if (!v.pass)
+            text += (text.empty() ? "" : ", ") + v.label;
+    }
+    return text;
+}
+
+namespace detail {
+
+int workerCount(int threads, std::size_t count)
+{
+    int n = threads > 0 ? threads : static_cast<int>(std::thread::hardware_concurrency());
+    n = std::max(1, n);
+    if (count < static_cast<std::size_t>(n))
+        n = static_cast<int>(std::max<std::size_t>(1, count));
+    return n;
+}
+
+std::size_t runParallel(std::size_t count, int threads,
+                        const std::function<void(std::size_t, int)> &job,
+                        const ProgressCallback &progress, const std::atomic<bool> *cancel)
+{
+    const int workers = workerCount(threads, count);
+    std::atomic<std::size_t> next{0}, done{0};
+    std::mutex progressMutex;
+    // Small chunks keep the workers balanced while keeping the shared counter cold.
+    const std::size_t chunk = std::clamp<std::size_t>(count / (64 * workers), 1, 64);
+    const std::size_t reportEvery = std::max<std::size_t>(1, count / 100);
+    const auto work = [&](int worker) {
+        for (;;) {
+            if (cancel && cancel->load(std::memory_order_relaxed))
+                return;
+            const std::size_t begin = next.fetch_add(chunk);
+            if (begin >= count)
+                return;
+            const std::size_t end = std::min(count, begin + chunk);
+            for (std::size_t i = begin; i < end; ++i)
+                job(i, worker);
+            const std::size_t before = done.fetch_add(end - begin);
+            const std::size_t after = before + (end - begin);
+            if (progress && (after / reportEvery != before / reportEvery || after == count)) {
+                std::lock_guard lock(progressMutex);
+                progress(after, count);
+            }
+        }
+    };
+    if (workers == 1) {
+        work(0);
+    } else {
+        std::vector<std::thread> pool;
+        pool.reserve(static_cast<std::size_t>(workers));
+        for (int w = 0; w < workers; ++w)
+            pool.emplace_back(work, w);
+        for (auto &t : pool)
+            t.join();
+    }
+    return done.load();
+}
+
+} // namespace detail
+
+} // namespace loopsketch

@@ -1,0 +1,471 @@
+#include "loopsketch/circuit/reducedsystem.h"
+
+#include "loopsketch/feedback/stepmodel.h"
+
+#include "circuit/refinedsolve.h"
+#include "detail/pencilsweep.h"
+
+#include "loopsketch/base/value.h"
+
+#include <Eigen/Eigenvalues>
+#include <Eigen/LU>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numbers>
+#include <sstream>
+
+namespace loopsketch {
+
+namespace {
+
+constexpr double kRankThreshold = 1e-12;
+constexpr double kMinReciprocalCondition
+    = 1e-30; // see circuit.cpp: loops reject only exact singularity
+
+using Index = Eigen::Index;
+
+Eigen::MatrixXd select(const Eigen::MatrixXd &m, const std::vector<Index> &rows,
+                       const std::vector<Index> &cols)
+{
+    Eigen::MatrixXd out(static_cast<Index>(rows.size()), static_cast<Index>(cols.size()));
+    for (std::size_t i = 0; i < rows.size(); ++i)
+        for (std::size_t j = 0; j < cols.size(); ++j)
+            out(static_cast<Index>(i), static_cast<Index>(j)) = m(rows[i], cols[j]);
+    return out;
+}
+
+Eigen::MatrixXd selectRows(const Eigen::MatrixXd &m, const std::vector<Index> &rows)
+{
+    Eigen::MatrixXd out(static_cast<Index>(rows.size()), m.cols());
+    for (std::size_t i = 0; i < rows.size(); ++i)
+        out.row(static_cast<Index>(i)) = m.row(rows[i]);
+    return out;
+}
+
+Eigen::MatrixXd selectCols(const Eigen::MatrixXd &m, const std::vector<Index> &cols)
+{
+    Eigen::MatrixXd out(m.rows(), static_cast<Index>(cols.size()));
+    for (std::size_t j = 0; j < cols.size(); ++j)
+        out.col(static_cast<Index>(j)) = m.col(cols[j]);
+    return out;
+}
+
+std::vector<Index> complement(Index n, const std::vector<Index> &taken)
+{
+    std::vector<bool> used(static_cast<std::size_t>(n), false);
+    for (Index i : taken)
+        used[static_cast<std::size_t>(i)] = true;
+    std::vector<Index> rest;
+    for (Index i = 0; i < n; ++i)
+        if (!used[static_cast<std::size_t>(i)])
+            rest.push_back(i);
+    return rest;
+}
+
+/// Scales each row of the pencil so that its largest reactive entry is 1 (rows without
+/// one: largest static entry), so rank and eigenvalue tolerances mean the same in every
+/// row whatever its units (siemens, farads, seconds).
+Eigen::VectorXd rowScales(const Eigen::MatrixXd &g, const Eigen::MatrixXd &c)
+{
+    Eigen::VectorXd scale(g.rows());
+    for (Index i = 0; i < g.rows(); ++i) {
+        double m = c.row(i).cwiseAbs().maxCoeff();
+        if (!(m > 0))
+            m = g.row(i).cwiseAbs().maxCoeff();
+        scale(i) = m > 0 ? 1.0 / m : 1.0;
+    }
+    return scale;
+}
+
+} // namespace
+
+Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, SolverPath path)
+{
+    auto shared = std::make_shared<const DescriptorSystem>(std::move(fullSystem));
+    const DescriptorSystem &system = *shared;
+    const Index n = system.G.rows();
+    std::vector<Index> staticSet;
+    for (Index i = 0; i < n && path == SolverPath::Reduced; ++i) {
+        if (system.C.row(i).cwiseAbs().maxCoeff() == 0.0
+            && system.C.col(i).cwiseAbs().maxCoeff() == 0.0)
+            staticSet.push_back(i);
+    }
+    // Eliminate the largest regular part of the static block; what is left of it (branch
+    // rows of voltage sources on reactive nodes, for example) stays in the pencil.
+    std::vector<Index> sRows, sCols;
+    if (!staticSet.empty()) {
+        const Eigen::MatrixXd gss = select(system.G, staticSet, staticSet);
+        Eigen::FullPivLU<Eigen::MatrixXd> lu(gss);
+        lu.setThreshold(kRankThreshold);
+        const Index rank = lu.rank();
+        const Eigen::PermutationMatrix<Eigen::Dynamic> pInverse = lu.permutationP().inverse();
+        const auto &rowOrder = pInverse.indices();
+        const auto &colOrder = lu.permutationQ().indices();
+        for (Index i = 0; i < rank; ++i) {
+            sRows.push_back(staticSet[static_cast<std::size_t>(rowOrder(i))]);
+            sCols.push_back(staticSet[static_cast<std::size_t>(colOrder(i))]);
+        }
+        std::sort(sRows.begin(), sRows.end());
+        std::sort(sCols.begin(), sCols.end());
+    }
+    const std::vector<Index> kRows = complement(n, sRows);
+    const std::vector<Index> kCols = complement(n, sCols);
+
+    ReducedSystem r;
+    for (Index c : kCols)
+        r.m_unknowns.push_back(system.unknowns[static_cast<std::size_t>(c)]);
+    const Eigen::MatrixXd gkk = select(system.G, kRows, kCols);
+    const Eigen::MatrixXd ckk = select(system.C, kRows, kCols);
+    const Eigen::MatrixXd bk = selectRows(system.B, kRows);
+    const Eigen::MatrixXd lk = selectCols(system.L, kCols);
+    if (sRows.empty()) {
+        r.m_gr = gkk;
+        r.m_cr = ckk;
+        r.m_br = bk;
+        r.m_lr = lk;
+        r.m_dr = Eigen::MatrixXd::Zero(system.L.rows(), system.B.cols());
+    } else {
+        const Eigen::MatrixXd gss = select(system.G, sRows, sCols);
+        Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss);
+        if (isSingular(gss))
+            return Diagnostic{{}, {}, {}, describeSingularity(system, 0.0)};
+        const Eigen::MatrixXd gks = select(system.G, kRows, sCols);
+        const Eigen::MatrixXd gsk = select(system.G, sRows, kCols);
+        // Eigen's triangular solve touches element (0,0) even of an empty right-hand side,
+        // so a fully static circuit (no kept unknowns) skips it.
+        const auto solve = [&lu](const Eigen::MatrixXd &rhs) -> Eigen::MatrixXd {
+            if (rhs.cols() == 0)
+                return Eigen::MatrixXd(rhs.rows(), 0);
+            return lu.solve(rhs);
+        };
+        const Eigen::MatrixXd xsk = solve(gsk); // Gss^-1 Gsk
+        const Eigen::MatrixXd xsb = solve(selectRows(system.B, sRows)); // Gss^-1 Bs
+        const Eigen::MatrixXd ls = selectCols(system.L, sCols);
+        r.m_gr = gkk - gks * xsk;
+        r.m_cr = ckk;
+        r.m_br = bk - gks * xsb;
+        r.m_lr = lk - ls * xsk;
+        r.m_dr = ls * xsb;
+    }
+
+    r.m_path = path;
+    r.m_system = std::move(shared);
+    // A pencil singular at every frequency has no solution anywhere: report it now.
+    const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
+    if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
+        std::string why = describeSingularity(system, probe);
+        if (why.empty())
+            why = "the circuit equations are too ill-conditioned to solve";
+        return Diagnostic{{}, {}, {}, why};
+    }
+    return r;
+}
+
+Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
+{
+    Eigen::MatrixXcd h;
+    evaluateInto(s, {}, h);
+    return h;
+}
+
+std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, int input) const
+{
+    if (m_path == SolverPath::DenseLu || m_refined) {
+        thread_local Eigen::MatrixXcd h;
+        const int in[] = {input}, out[] = {output};
+        evaluateInto(s, in, out, h);
+        return h(output, input);
+    }
+    const TransferEntry e[] = {{output, input}};
+    std::complex<double> h;
+    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h);
+    return h;
+}
+
+void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> inputs,
+                                 std::span<const int> outputs, Eigen::MatrixXcd &h) const
+{
+    using cd = std::complex<double>;
+    if (h.rows() != this->outputs() || h.cols() != this->inputs())
+        h.resize(this->outputs(), this->inputs());
+    thread_local std::vector<int> allInputs, allOutputs;
+    if (inputs.empty()) {
+        allInputs.resize(static_cast<std::size_t>(this->inputs()));
+        for (int c = 0; c < this->inputs(); ++c)
+            allInputs[static_cast<std::size_t>(c)] = c;
+        inputs = allInputs;
+    }
+    if (outputs.empty()) {
+        allOutputs.resize(static_cast<std::size_t>(this->outputs()));
+        for (int o = 0; o < this->outputs(); ++o)
+            allOutputs[static_cast<std::size_t>(o)] = o;
+        outputs = allOutputs;
+    }
+    if (m_refined) {
+        const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                     std::numeric_limits<double>::quiet_NaN());
+        detail::RefinedSolver solver(*m_system);
+        const bool regular = solver.factor(s);
+        for (int c : inputs) {
+            const Eigen::VectorXcd x = regular ? solver.solve(c) : Eigen::VectorXcd();
+            for (int o : outputs) {
+                const cd v = regular ? solver.output(o, x) : nan;
+                h(o, c) = std::isfinite(v.real()) && std::isfinite(v.imag()) ? v : nan;
+            }
+        }
+        return;
+    }
+    if (m_path == SolverPath::DenseLu && order() > 0) {
+        const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                     std::numeric_limits<double>::quiet_NaN());
+        Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m_gr.cast<cd>() + s * m_cr);
+        const bool regular = lu.rcond() > kMinReciprocalCondition;
+        for (int c : inputs) {
+            const Eigen::VectorXcd z = lu.solve(m_br.col(c).cast<cd>());
+            if (regular && z.allFinite())
+                h.col(c) = m_dr.col(c).cast<cd>() + m_lr * z;
+            else
+                h.col(c).setConstant(nan);
+        }
+        return;
+    }
+    thread_local std::vector<TransferEntry> entries;
+    thread_local std::vector<cd> values;
+    entries.clear();
+    for (int c : inputs)
+        for (int o : outputs)
+            entries.push_back({o, c});
+    values.resize(entries.size());
+    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, entries, values.data());
+    for (std::size_t e = 0; e < entries.size(); ++e)
+        h(entries[e].output, entries[e].input) = values[e];
+}
+
+std::vector<std::complex<double>>
+ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
+                            std::span<const TransferEntry> entries, SweepWidth width) const
+{
+    std::vector<std::complex<double>> out(entries.size() * s.size());
+    if (m_path == SolverPath::Reduced && !m_refined) {
+        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
+        return out;
+    }
+    // The reference path (one dense LU of the whole matrix per point) and the refined one,
+    // as evaluateInto().
+    std::vector<int> inputs, outputs;
+    for (const TransferEntry &e : entries) {
+        if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
+            inputs.push_back(e.input);
+        if (std::find(outputs.begin(), outputs.end(), e.output) == outputs.end())
+            outputs.push_back(e.output);
+    }
+    Eigen::MatrixXcd h;
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        evaluateInto(s[i], inputs, outputs, h);
+        for (std::size_t e = 0; e < entries.size(); ++e)
+            out[e * s.size() + i] = h(entries[e].output, entries[e].input);
+    }
+    return out;
+}
+
+std::vector<Eigen::MatrixXcd> ReducedSystem::sweep(const std::vector<double> &frequenciesHz) const
+{
+    std::vector<Eigen::MatrixXcd> out(frequenciesHz.size());
+    for (std::size_t i = 0; i < frequenciesHz.size(); ++i)
+        evaluateInto({0.0, 2.0 * std::numbers::pi * frequenciesHz[i]}, {}, out[i]);
+    return out;
+}
+
+bool ReducedSystem::dcRegular() const
+{
+    if (order() == 0)
+        return true;
+    return !isSingular(m_gr);
+}
+
+namespace {
+
+/// Power-of-two row and column balancing of the pencil (a few sweeps): neither changes
+/// the eigenvalues, and QZ's errors follow the balanced entries instead of the units.
+void balance(Eigen::MatrixXd &g, Eigen::MatrixXd &c)
+{
+    for (int sweep = 0; sweep < 4; ++sweep) {
+        for (Index i = 0; i < g.rows(); ++i) {
+            const double m
+                = std::max(g.row(i).cwiseAbs().maxCoeff(), c.row(i).cwiseAbs().maxCoeff());
+            if (m > 0 && std::isfinite(m)) {
+                const double f = std::exp2(-std::round(std::log2(m)));
+                g.row(i) *= f;
+                c.row(i) *= f;
+            }
+        }
+        for (Index j = 0; j < g.cols(); ++j) {
+            const double m
+                = std::max(g.col(j).cwiseAbs().maxCoeff(), c.col(j).cwiseAbs().maxCoeff());
+            if (m > 0 && std::isfinite(m)) {
+                const double f = std::exp2(-std::round(std::log2(m)));
+                g.col(j) *= f;
+                c.col(j) *= f;
+            }
+        }
+    }
+}
+
+/// Finite generalized eigenvalues s of (g + s c) v = 0, the pencil scaled by w0 first
+/// (s = w0 s').
+std::vector<std::complex<double>> finiteEigenvalues(Eigen::MatrixXd g, Eigen::MatrixXd c, double w0)
+{
+    std::vector<std::complex<double>> poles;
+    g /= w0;
+    balance(g, c);
+    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
+    ges.compute(g, c, false);
+    if (ges.info() != Eigen::Success)
+        return poles;
+    const Eigen::VectorXcd alphas = ges.alphas();
+    const Eigen::VectorXd betas = ges.betas();
+    // An infinite mode's beta is round-off of the balanced C; a finite one's is of its
+    // order whatever its frequency. A test relative to alpha would drop the fast poles of
+    // a very high gain (alpha ~ |s| beta), and report none at all.
+    const double cNorm = c.cwiseAbs().maxCoeff();
+    for (Index i = 0; i < alphas.size(); ++i) {
+        const double b = betas(i);
+        if (std::abs(b) > 1e-13 * cNorm && b != 0.0 && std::isfinite(std::abs(alphas(i)))) {
+            std::complex<double> s = -w0 * (alphas(i) / b);
+            if (std::abs(s.imag()) < 1e-12 * std::abs(s))
+                s = {s.real(), 0.0};
+            if (std::isfinite(std::abs(s)))
+                poles.push_back(s);
+        }
+    }
+    return poles;
+}
+
+} // namespace
+
+std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
+{
+    if (order() == 0)
+        return {};
+    // (Gr + s Cr) v = 0  <=>  Gr v = lambda Cr v with lambda = -s.
+    // Row scaling (each row's reactive entries to 1) makes the infinite-eigenvalue test
+    // mean the same in every row; the per-frequency solves keep the unscaled rows, whose
+    // pivots partial pivoting chooses better.
+    const Eigen::VectorXd scale = rowScales(m_gr, m_cr);
+    Eigen::MatrixXd g = scale.asDiagonal() * m_gr;
+    Eigen::MatrixXd c = scale.asDiagonal() * m_cr;
+    if (!g.allFinite()) { // a gain near the largest double: no row scaling
+        g = m_gr;
+        c = m_cr;
+    }
+    // Balanced as it is, the pencil gives the most accurate poles; a very high gain
+    // (1e20 and beyond) puts some of them where only a frequency scaling by the largest
+    // entry keeps them finite. The attempt that finds more finite poles wins.
+    std::vector<std::complex<double>> poles = finiteEigenvalues(g, c, 1.0);
+    const double w0 = g.cwiseAbs().maxCoeff();
+    if (w0 > 0 && std::isfinite(w0) && w0 != 1.0) {
+        std::vector<std::complex<double>> scaled = finiteEigenvalues(g, c, w0);
+        if (scaled.size() > poles.size())
+            poles = std::move(scaled);
+    }
+    std::sort(poles.begin(), poles.end(), [](auto x, auto y) {
+        return std::abs(x) != std::abs(y) ? std::abs(x) < std::abs(y) : x.imag() < y.imag();
+    });
+    return poles;
+}
+
+AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>> probes,
+                                           std::span<const CheckedEntry> entries, double tolerance)
+{
+    AccuracyCheck check;
+    if (!m_system || entries.empty() || probes.empty())
+        return check;
+    std::vector<TransferEntry> plain;
+    for (const CheckedEntry &e : entries)
+        plain.push_back(e.entry);
+    const std::vector<std::complex<double>> fast = sweepEntries(probes, plain);
+    detail::RefinedSolver solver(*m_system);
+    bool missed = false;
+    struct Worst
+    {
+        double relative = 0;
+        std::size_t entry = 0;
+        std::complex<double> s;
+        std::vector<double> shares;
+    } worst;
+    std::vector<double> shares;
+    for (std::size_t p = 0; p < probes.size(); ++p) {
+        if (!solver.factor(probes[p]))
+            continue;
+        std::vector<std::pair<int, Eigen::VectorXcd>> solved; // per input, solved once
+        std::vector<Eigen::VectorXcd> residuals;
+        for (std::size_t e = 0; e < entries.size(); ++e) {
+            const TransferEntry te = entries[e].entry;
+            std::size_t which = solved.size();
+            for (std::size_t q = 0; q < solved.size(); ++q)
+                if (solved[q].first == te.input)
+                    which = q;
+            if (which == solved.size()) {
+                Eigen::VectorXcd r;
+                solved.emplace_back(te.input, solver.solve(te.input, &r));
+                residuals.push_back(std::move(r));
+            }
+            const Eigen::VectorXcd &x = solved[which].second;
+            const std::complex<double> careful = solver.output(te.output, x);
+            const double size = std::abs(careful);
+            if (!(size > 0) || !std::isfinite(size))
+                continue;
+            const double bound
+                = solver.errorBound(te.output, te.input, x, residuals[which], &shares);
+            const double relative = bound / size;
+            const std::complex<double> got = fast[e * probes.size() + p];
+            const double miss = std::abs(got - careful) / size;
+            if (!(miss <= std::max(tolerance, 4.0 * relative)))
+                missed = true;
+            if (relative > worst.relative)
+                worst = {relative, e, probes[p], shares};
+        }
+    }
+    check.worstRelativeError = worst.relative;
+    if (missed && m_path == SolverPath::Reduced) {
+        m_refined = true;
+        check.refined = true;
+    }
+    if (worst.relative > tolerance) {
+        // Name the user's part and field with the largest share of the bound.
+        int top = -1;
+        for (std::size_t o = 0; o < worst.shares.size(); ++o)
+            if (!m_system->origins[o].part.empty()
+                && (top < 0 || worst.shares[o] > worst.shares[static_cast<std::size_t>(top)]))
+                top = static_cast<int>(o);
+        const double hz = std::abs(worst.s) / (2.0 * std::numbers::pi);
+        std::ostringstream bound;
+        bound.precision(2);
+        bound << worst.relative;
+        Diagnostic d;
+        if (top >= 0) {
+            d.part = m_system->origins[static_cast<std::size_t>(top)].part;
+            d.field = m_system->origins[static_cast<std::size_t>(top)].field;
+        }
+        d.message = "accuracy cannot be assured: " + entries[worst.entry].quantity + " at "
+            + (hz == 0.0 ? std::string("DC") : formatEngineering(hz, 3, "Hz")) + " may be off by "
+            + bound.str()
+            + " of its value (rounding in the circuit equations, largest share from this "
+              "value)";
+        check.warnings.push_back(d);
+    }
+    return check;
+}
+
+Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,
+                                                        const std::vector<double> &times) const
+{
+    auto model = StepModel::build(*this, output, input);
+    if (!model)
+        return model.diagnostics();
+    return model->sample(times);
+}
+
+} // namespace loopsketch

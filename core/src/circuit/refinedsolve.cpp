@@ -1,0 +1,126 @@
+#include "circuit/refinedsolve.h"
+
+#include <cmath>
+#include <limits>
+
+namespace loopsketch::detail {
+
+namespace {
+
+using cd = std::complex<double>;
+using cld = std::complex<long double>;
+using Index = Eigen::Index;
+
+constexpr double kMinPivot = 1e-30;
+constexpr int kMaxRefinements = 4;
+
+} // namespace
+
+bool RefinedSolver::factor(cd s)
+{
+    m_s = s;
+    const Index n = m_system.G.rows();
+    m_a = m_system.G.cast<cd>() + s * m_system.C;
+    // Powers of two, so the scaling itself rounds nothing.
+    const auto power2 = [](double v) {
+        return v > 0 && std::isfinite(v) ? std::exp2(std::round(-std::log2(v))) : 1.0;
+    };
+    m_rowScale.resize(n);
+    m_colScale.resize(n);
+    for (Index i = 0; i < n; ++i)
+        m_rowScale(i) = power2(m_a.row(i).cwiseAbs().maxCoeff());
+    for (Index j = 0; j < n; ++j)
+        m_colScale(j) = power2((m_rowScale.asDiagonal() * m_a.col(j)).cwiseAbs().maxCoeff());
+    m_lu.compute(m_rowScale.asDiagonal() * m_a * m_colScale.asDiagonal());
+    // The pivots of the equilibrated matrix (whose entries are at most 1) as a cheap
+    // regularity test: an exactly or numerically singular matrix leaves one near zero.
+    const Eigen::VectorXcd pivots = m_lu.matrixLU().diagonal();
+    const double smallest = pivots.cwiseAbs().minCoeff();
+    return n == 0 || (smallest > kMinPivot && std::isfinite(pivots.cwiseAbs().maxCoeff()));
+}
+
+Eigen::VectorXcd RefinedSolver::applyInverse(const Eigen::VectorXcd &rhs) const
+{
+    return m_colScale.asDiagonal() * m_lu.solve(m_rowScale.asDiagonal() * rhs);
+}
+
+Eigen::VectorXcd RefinedSolver::solve(int input, Eigen::VectorXcd *residual) const
+{
+    const Index n = m_a.rows();
+    const Eigen::VectorXcd b = m_system.B.col(input).cast<cd>();
+    Eigen::VectorXcd x = applyInverse(b);
+    Eigen::VectorXcd r(n), bestR(n);
+    double best = std::numeric_limits<double>::infinity();
+    Eigen::VectorXcd bestX = x;
+    for (int step = 0; step <= kMaxRefinements; ++step) {
+        // Residual b - A x with each row's sum in extended precision; its size measured in
+        // the equilibrated rows, where every row counts alike.
+        double size = 0.0, terms = 0.0;
+        for (Index i = 0; i < n; ++i) {
+            cld acc = b(i);
+            double rowTerms = 0.0;
+            for (Index j = 0; j < n; ++j) {
+                if (m_a(i, j) != cd(0.0)) {
+                    acc -= cld(m_a(i, j)) * cld(x(j));
+                    rowTerms += std::abs(m_a(i, j)) * std::abs(x(j));
+                }
+            }
+            r(i) = cd(static_cast<double>(acc.real()), static_cast<double>(acc.imag()));
+            size = std::max(size, m_rowScale(i) * std::abs(r(i)));
+            terms = std::max(terms, m_rowScale(i) * rowTerms);
+        }
+        if (!(size < best)) // no longer improving (or not finite)
+            break;
+        // Stagnating, or at the rounding of the terms themselves: as good as it gets.
+        const bool enough
+            = size > 0.5 * best || size <= 4.0 * std::numeric_limits<double>::epsilon() * terms;
+        best = size;
+        bestX = x;
+        bestR = r;
+        if (size == 0.0 || enough)
+            break;
+        x += applyInverse(r);
+    }
+    if (residual)
+        *residual = bestR;
+    return bestX;
+}
+
+cd RefinedSolver::output(int output, const Eigen::VectorXcd &x) const
+{
+    return m_system.L.row(output).cast<cd>() * x;
+}
+
+double RefinedSolver::errorBound(int output, int input, const Eigen::VectorXcd &x,
+                                 const Eigen::VectorXcd &residual,
+                                 std::vector<double> *originShares) const
+{
+    // z = A^-T l: how the output moves per unit residual in each row.
+    const Eigen::VectorXcd l = m_system.L.row(output).transpose().cast<cd>();
+    // P (S_r A S_c) = L U, so (S_r A S_c)^T = U^T L^T P and A^-T = S_r (U^T L^T P)^-1 S_c.
+    const Eigen::MatrixXcd &lu = m_lu.matrixLU();
+    Eigen::VectorXcd v
+        = lu.triangularView<Eigen::Upper>().transpose().solve((m_colScale.asDiagonal() * l).eval());
+    v = lu.triangularView<Eigen::UnitLower>().transpose().solve(v);
+    const Eigen::VectorXcd z = m_rowScale.asDiagonal() * (m_lu.permutationP().transpose() * v);
+    // The error left by the residual (x is off by A^-1 r, the output by z^T r), plus one
+    // rounding of every entry and every right-hand side term: the uncertainty of the
+    // residual itself and of the values as stored.
+    const double eps = std::numeric_limits<double>::epsilon();
+    if (originShares)
+        originShares->assign(m_system.origins.size(), 0.0);
+    double bound = 0.0;
+    for (const StampEntry &e : m_system.stamps) {
+        const double entry = e.reactive ? std::abs(e.value * m_s) : std::abs(e.value);
+        const double term = eps * std::abs(z(e.row)) * entry * std::abs(x(e.col));
+        bound += term;
+        if (originShares)
+            (*originShares)[static_cast<std::size_t>(e.origin)] += term;
+    }
+    for (Index i = 0; i < z.size(); ++i)
+        bound += eps * std::abs(z(i)) * std::abs(m_system.B(i, input))
+            + std::abs(z(i)) * std::abs(residual(i));
+    return bound;
+}
+
+} // namespace loopsketch::detail

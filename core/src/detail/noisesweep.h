@@ -1,0 +1,20 @@
+#pragma once
+
+// The noise analysis over a frequency grid its caller already holds: analyze() computes the
+// design's sweep and its points s = j 2 pi f once for the loop model and passes them here.
+
+#include "loopsketch/analysis/noise.h"
+
+#include <complex>
+#include <span>
+#include <vector>
+
+namespace loopsketch::detail {
+
+/// analyzeNoise() over `frequenciesHz` (the design's sweep, Hz) with `points` the matching
+/// s = j 2 pi f, rad/s.
+Result<NoiseAnalysis> analyzeNoiseOver(const Design &design, const NoiseOptions &options,
+                                       const std::vector<double> &frequenciesHz,
+                                       std::span<const std::complex<double>> points);
+
+} // namespace loopsketch::detail

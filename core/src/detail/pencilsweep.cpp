@@ -1,0 +1,561 @@
+#include "detail/pencilsweep.h"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdint>
+#include <limits>
+#include <new>
+#include <utility>
+#include <vector>
+
+// Only functions of this file (internal linkage, inlined) pass the 32-byte lane vectors,
+// so the note that their calling convention differs with AVX concerns no interface.
+#if defined(__GNUC__) && !defined(__clang__)
+#pragma GCC diagnostic ignored "-Wpsabi"
+#endif
+
+namespace loopsketch::detail {
+
+namespace {
+
+using cd = std::complex<double>;
+using Index = Eigen::Index;
+
+/// Which vectors each point solves for: columns of B (direct) or rows of L (transposed),
+/// and for each entry the solved vector it reads and the index it pairs it with.
+struct Plan
+{
+    bool transposed = false;
+    std::vector<int> vectors; ///< column (direct) or row (transposed) of each solve
+    std::vector<int> slot; ///< per entry: index into `vectors`
+    std::vector<int> other; ///< per entry: its row (direct) or column (transposed)
+    std::vector<int> rows, cols; ///< scratch, kept to avoid allocating per call
+};
+
+void makePlan(std::span<const TransferEntry> entries, Plan &plan)
+{
+    std::vector<int> &rows = plan.rows, &cols = plan.cols;
+    rows.clear();
+    cols.clear();
+    const auto addUnique = [](std::vector<int> &v, int x) {
+        for (int y : v)
+            if (y == x)
+                return;
+        v.push_back(x);
+    };
+    for (const TransferEntry &e : entries) {
+        addUnique(rows, e.output);
+        addUnique(cols, e.input);
+    }
+    plan.transposed = rows.size() < cols.size();
+    plan.vectors.assign(plan.transposed ? rows.begin() : cols.begin(),
+                        plan.transposed ? rows.end() : cols.end());
+    plan.slot.resize(entries.size());
+    plan.other.resize(entries.size());
+    for (std::size_t e = 0; e < entries.size(); ++e) {
+        const int key = plan.transposed ? entries[e].output : entries[e].input;
+        for (std::size_t v = 0; v < plan.vectors.size(); ++v)
+            if (plan.vectors[v] == key)
+                plan.slot[e] = static_cast<int>(v);
+        plan.other[e] = plan.transposed ? entries[e].input : entries[e].output;
+    }
+}
+
+/// One point by the textbook elimination in std::complex arithmetic (pivots by |re| + |im|,
+/// the library's scaled division): the fallback for a point where the fast lanes met a
+/// pivot too small or too large to square, or a result that is not finite. Writes entry e
+/// to out[e * stride]; every entry NaN when the pencil is singular at s.
+void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntry> entries, cd *out,
+                         Index stride)
+{
+    const Index k = p.g.rows();
+    const Index outputs = p.l.rows();
+    const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                 std::numeric_limits<double>::quiet_NaN());
+    std::vector<cd> a(static_cast<std::size_t>(k * k)), y(static_cast<std::size_t>(k));
+    std::vector<Index> piv(static_cast<std::size_t>(k));
+    for (Index col = 0; col < k; ++col)
+        for (Index r = 0; r < k; ++r)
+            a[r * k + col] = cd(p.g(r, col), 0.0) + s * p.c(r, col);
+    for (Index j = 0; j < k; ++j) {
+        Index best = j;
+        double bestMag = std::abs(a[j * k + j].real()) + std::abs(a[j * k + j].imag());
+        for (Index r = j + 1; r < k; ++r) {
+            const double m = std::abs(a[r * k + j].real()) + std::abs(a[r * k + j].imag());
+            if (m > bestMag) {
+                best = r;
+                bestMag = m;
+            }
+        }
+        piv[j] = best;
+        if (!(bestMag > 0.0)) {
+            for (std::size_t e = 0; e < entries.size(); ++e)
+                out[static_cast<Index>(e) * stride] = nan;
+            return;
+        }
+        for (Index cc = 0; cc < k; ++cc)
+            std::swap(a[j * k + cc], a[best * k + cc]);
+        for (Index r = j + 1; r < k; ++r) {
+            const cd f = a[r * k + j] / a[j * k + j];
+            a[r * k + j] = f;
+            for (Index cc = j + 1; cc < k; ++cc)
+                a[r * k + cc] -= f * a[j * k + cc];
+        }
+    }
+    for (std::size_t e = 0; e < entries.size(); ++e) {
+        const int col = entries[e].input, row = entries[e].output;
+        for (Index r = 0; r < k; ++r)
+            y[r] = p.b(r, col);
+        for (Index j = 0; j < k; ++j)
+            std::swap(y[j], y[piv[j]]);
+        for (Index j = 0; j < k; ++j)
+            for (Index r = j + 1; r < k; ++r)
+                y[r] -= a[r * k + j] * y[j];
+        for (Index r = k - 1; r >= 0; --r) {
+            cd acc = y[r];
+            for (Index cc = r + 1; cc < k; ++cc)
+                acc -= a[r * k + cc] * y[cc];
+            y[r] = acc / a[r * k + r];
+        }
+        cd acc = p.d(row, col);
+        for (Index m = 0; m < k; ++m)
+            acc += p.l(row, m) * y[m];
+        const bool finite = std::isfinite(acc.real()) && std::isfinite(acc.imag());
+        out[static_cast<Index>(e) * stride] = finite ? acc : nan;
+    }
+    (void)outputs;
+}
+
+/// Points side by side (GCC/Clang vector extension): one value per point. Two fill an SSE2
+/// register (every x86-64), four an AVX2 one, eight an AVX-512 one. Wider than the
+/// register, the compiler splits the vectors badly, so each width has its own target.
+using Lanes2 = double __attribute__((vector_size(2 * sizeof(double))));
+using Lanes4 = double __attribute__((vector_size(4 * sizeof(double))));
+using Lanes8 = double __attribute__((vector_size(8 * sizeof(double))));
+
+template<typename L> constexpr int laneCount = static_cast<int>(sizeof(L) / sizeof(double));
+
+/// A complex number per lane.
+template<typename L> struct LaneComplex
+{
+    L re, im;
+};
+
+/// The widest lane vector (AVX-512) is 64 bytes. Scratch for any width is aligned to that,
+/// not to alignof of the lane type: GCC reports alignof of these vector types as 16 where
+/// the type is declared (outside the functions compiled for AVX), while the code generated
+/// inside them stores whole 32- or 64-byte vectors with aligned instructions.
+inline constexpr std::size_t kLaneAlignment = 64;
+
+/// std::allocator with kLaneAlignment alignment, for the scratch of the general order.
+template<typename T> struct LaneAllocator
+{
+    using value_type = T;
+    LaneAllocator() = default;
+    template<typename U> LaneAllocator(const LaneAllocator<U> &) { }
+    T *allocate(std::size_t n)
+    {
+        return static_cast<T *>(::operator new(n * sizeof(T), std::align_val_t(kLaneAlignment)));
+    }
+    void deallocate(T *p, std::size_t) { ::operator delete(p, std::align_val_t(kLaneAlignment)); }
+    template<typename U> bool operator==(const LaneAllocator<U> &) const { return true; }
+};
+
+template<typename T> using LaneVector = std::vector<T, LaneAllocator<T>>;
+
+template<typename L> [[gnu::always_inline]] inline L magnitude2(LaneComplex<L> x)
+{
+    return x.re * x.re + x.im * x.im;
+}
+
+template<typename L>
+[[gnu::always_inline]] inline LaneComplex<L> mul(LaneComplex<L> x, LaneComplex<L> y)
+{
+    return {x.re * y.re - x.im * y.im, x.re * y.im + x.im * y.re};
+}
+
+template<typename L>
+[[gnu::always_inline]] inline void subMul(LaneComplex<L> &acc, LaneComplex<L> x, LaneComplex<L> y)
+{
+    acc.re -= x.re * y.re - x.im * y.im;
+    acc.im -= x.re * y.im + x.im * y.re;
+}
+
+/// Per lane: x where `take` holds, else y (`take` a lane comparison result).
+template<typename L, typename M>
+[[gnu::always_inline]] inline LaneComplex<L> select(M take, LaneComplex<L> x, LaneComplex<L> y)
+{
+    return {take ? x.re : y.re, take ? x.im : y.im};
+}
+
+/// 1 / x from its squared magnitude: one real division per lane. Lanes whose squared
+/// magnitude over- or underflows are flagged by the caller and solved again carefully.
+template<typename L>
+[[gnu::always_inline]] inline LaneComplex<L> reciprocal(LaneComplex<L> x, L mag2)
+{
+    const L scale = 1.0 / mag2;
+    return {x.re * scale, -x.im * scale};
+}
+
+/// Swaps rows j and r of `rows` (length `n` each) in the lanes where `take` holds.
+template<typename L, typename M>
+[[gnu::always_inline]] inline void swapLanes(M take, LaneComplex<L> *rowJ, LaneComplex<L> *rowR,
+                                             Index n)
+{
+    for (Index cc = 0; cc < n; ++cc) {
+        const LaneComplex<L> top = rowJ[cc];
+        rowJ[cc] = select(take, rowR[cc], top);
+        rowR[cc] = select(take, top, rowR[cc]);
+    }
+}
+
+/// The sweep for order K (0: any order, given by `kAny`), several points at a time (L).
+/// One point's elimination is a chain of dependent divisions and products that leaves the
+/// core waiting on latency; independent points side by side in vector registers fill it.
+/// Partial pivoting stays per point. Neighbouring frequencies nearly always choose the same
+/// pivot row, so that case is a plain row swap (`uniform`), and only lanes that disagree
+/// pay for lane-wise selects. Compile-time K lets the compiler unroll the elimination.
+template<int K, typename L>
+[[gnu::always_inline]] inline void
+sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
+           std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    using LC = LaneComplex<L>;
+    constexpr int W = laneCount<L>;
+    const Index k = K > 0 ? K : kAny;
+    const Index outputs = p.l.rows();
+    const auto nPoints = static_cast<Index>(points.size());
+    const auto nVectors = static_cast<Index>(plan.vectors.size());
+    // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
+    constexpr Index cap = K > 0 ? K : 1;
+    alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap];
+    alignas(kLaneAlignment) L pivStack[cap];
+    Index uniformStack[cap];
+    LC *a = aStack, *invDiag = invStack, *y = yStack;
+    L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
+    Index *uniform = uniformStack; // that row when every lane chose it, else -1
+    if constexpr (K == 0) {
+        thread_local LaneVector<LC> work;
+        thread_local LaneVector<L> pivots;
+        thread_local std::vector<Index> same;
+        work.resize(static_cast<std::size_t>(k * k + 2 * k));
+        pivots.resize(static_cast<std::size_t>(k));
+        same.resize(static_cast<std::size_t>(k));
+        a = work.data();
+        invDiag = a + k * k;
+        y = invDiag + k;
+        piv = pivots.data();
+        uniform = same.data();
+    }
+    const double *g = p.g.data(), *c = p.c.data(), *b = p.b.data(), *l = p.l.data();
+    const double *d = p.d.data();
+    const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                 std::numeric_limits<double>::quiet_NaN());
+    const auto isUniform = [](L v) {
+        for (int w = 1; w < W; ++w)
+            if (v[w] != v[0])
+                return false;
+        return true;
+    };
+    // Row swaps of the right-hand side, in the order of the factorisation or reversed.
+    const auto swapRhs = [&](Index j) {
+        if (uniform[j] >= 0) {
+            if (uniform[j] != j)
+                std::swap(y[j], y[uniform[j]]);
+            return;
+        }
+        for (Index r = j + 1; r < k; ++r)
+            swapLanes<L>(piv[j] == static_cast<double>(r), y + j, y + r, 1);
+    };
+
+    // Which entries of each row can be non-zero (bit c for column c), from G and C, then
+    // followed through swaps and fill-in: the reduced pencils are sparse (the gain block's
+    // states form a chain, a test-driven block does not feed back), and skipping products
+    // with exact zeros changes no result.
+    using Pattern = std::uint32_t;
+    Pattern patternStack[cap], startStack[cap];
+    Pattern *nz = patternStack, *start = startStack;
+    thread_local std::vector<Pattern> patterns;
+    if (K == 0 || k > 32) {
+        patterns.assign(static_cast<std::size_t>(2 * k), 0);
+        nz = patterns.data();
+        start = nz + k;
+    }
+    const bool sparse = k <= 32;
+    for (Index r = 0; r < k; ++r) {
+        start[r] = 0;
+        for (Index col = 0; col < k && sparse; ++col)
+            if (g[col * k + r] != 0.0 || c[col * k + r] != 0.0)
+                start[r] |= Pattern(1) << col;
+        if (!sparse)
+            start[r] = ~Pattern(0);
+    }
+    const auto has = [&](Index r, Index col) {
+        return !sparse || ((nz[r] >> col) & 1u) != 0;
+    };
+
+    for (Index i0 = 0; i0 < nPoints; i0 += W) {
+        const Index lanes = std::min<Index>(W, nPoints - i0);
+        for (Index r = 0; r < k; ++r)
+            nz[r] = start[r];
+        L sr, si;
+        for (int w = 0; w < W; ++w) {
+            // A short last group repeats its last point.
+            const cd s = points[static_cast<std::size_t>(i0 + std::min<Index>(w, lanes - 1))];
+            sr[w] = s.real();
+            si[w] = s.imag();
+        }
+        for (Index r = 0; r < k; ++r)
+            for (Index col = 0; col < k; ++col) {
+                const double gv = g[col * k + r], cv = c[col * k + r];
+                a[r * k + col] = {gv + sr * cv, si * cv};
+            }
+        L retry = {}; // non-zero in a lane that needs the careful solve
+        for (Index j = 0; j < k; ++j) {
+            // Pivot by squared modulus, which the reciprocal needs anyway.
+            L bestMag = magnitude2(a[j * k + j]);
+            L best = L{} + static_cast<double>(j);
+            for (Index r = j + 1; r < k; ++r) {
+                const L m = magnitude2(a[r * k + j]);
+                const auto better = m > bestMag;
+                bestMag = better ? m : bestMag;
+                best = better ? L{} + static_cast<double>(r) : best;
+            }
+            piv[j] = best;
+            if (isUniform(best)) {
+                const auto row = static_cast<Index>(best[0]);
+                uniform[j] = row;
+                if (row != j) {
+                    for (Index cc = 0; cc < k; ++cc)
+                        std::swap(a[j * k + cc], a[row * k + cc]);
+                    std::swap(nz[j], nz[row]);
+                }
+            } else {
+                uniform[j] = -1;
+                for (Index r = j + 1; r < k; ++r) {
+                    swapLanes<L>(best == static_cast<double>(r), a + j * k, a + r * k, k);
+                    nz[j] = nz[r] = nz[j] | nz[r]; // either row's entries, lane by lane
+                }
+            }
+            // A zero, tiny or huge pivot: that point is solved again carefully at the end.
+            retry = (bestMag < 1e-290) | (bestMag > 1e290) ? L{} + 1.0 : retry;
+            const LC inv = reciprocal(a[j * k + j], bestMag);
+            invDiag[j] = inv;
+            const Pattern right = sparse ? nz[j] & ~((Pattern(2) << j) - 1) : 0;
+            for (Index r = j + 1; r < k; ++r) {
+                if (!has(r, j))
+                    continue;
+                const LC f = mul(a[r * k + j], inv);
+                a[r * k + j] = f;
+                for (Index cc = j + 1; cc < k; ++cc)
+                    if (has(j, cc))
+                        subMul(a[r * k + cc], f, a[j * k + cc]);
+                nz[r] |= right;
+            }
+        }
+        for (Index v = 0; v < nVectors; ++v) {
+            const int which = plan.vectors[static_cast<std::size_t>(v)];
+            if (!plan.transposed) {
+                // P A = L U with whole rows swapped (multipliers included): swaps first.
+                for (Index r = 0; r < k; ++r)
+                    y[r] = {L{} + b[which * k + r], L{}};
+                for (Index j = 0; j < k; ++j)
+                    swapRhs(j);
+                for (Index j = 0; j < k; ++j)
+                    for (Index r = j + 1; r < k; ++r)
+                        if (has(r, j))
+                            subMul(y[r], a[r * k + j], y[j]);
+                for (Index r = k - 1; r >= 0; --r) {
+                    LC acc = y[r];
+                    for (Index cc = r + 1; cc < k; ++cc)
+                        if (has(r, cc))
+                            subMul(acc, a[r * k + cc], y[cc]);
+                    y[r] = mul(acc, invDiag[r]);
+                }
+            } else {
+                // A^T = U^T L^T P: solve U^T x = l, then L^T y = x, then undo the swaps.
+                for (Index r = 0; r < k; ++r) {
+                    LC acc{L{} + l[r * outputs + which], L{}};
+                    for (Index m = 0; m < r; ++m)
+                        if (has(m, r))
+                            subMul(acc, a[m * k + r], y[m]);
+                    y[r] = mul(acc, invDiag[r]);
+                }
+                for (Index r = k - 2; r >= 0; --r)
+                    for (Index m = r + 1; m < k; ++m)
+                        if (has(m, r))
+                            subMul(y[r], a[m * k + r], y[m]);
+                for (Index j = k - 1; j >= 0; --j)
+                    swapRhs(j);
+            }
+            for (std::size_t e = 0; e < entries.size(); ++e) {
+                if (plan.slot[e] != v)
+                    continue;
+                const int other = plan.other[e];
+                LC acc;
+                if (!plan.transposed) {
+                    acc = {L{} + d[which * outputs + other], L{}};
+                    for (Index m = 0; m < k; ++m) {
+                        acc.re += l[m * outputs + other] * y[m].re;
+                        acc.im += l[m * outputs + other] * y[m].im;
+                    }
+                } else {
+                    acc = {L{} + d[other * outputs + which], L{}};
+                    for (Index m = 0; m < k; ++m) {
+                        acc.re += b[other * k + m] * y[m].re;
+                        acc.im += b[other * k + m] * y[m].im;
+                    }
+                }
+                // Non-finite results go the careful way too (x * 0 is NaN for inf and NaN).
+                const L probe = acc.re * 0.0 + acc.im * 0.0;
+                retry = probe != 0.0 ? L{} + 1.0 : retry;
+                cd *dst = out + static_cast<Index>(e) * nPoints + i0;
+                for (Index w = 0; w < lanes; ++w)
+                    dst[w] = cd(acc.re[w], acc.im[w]);
+            }
+        }
+        for (Index w = 0; w < lanes; ++w)
+            if (retry[w] != 0.0)
+                solvePointCarefully(p, points[static_cast<std::size_t>(i0 + w)], entries,
+                                    out + i0 + w, nPoints);
+    }
+}
+
+template<int K>
+void sweepOrder(const PencilView &p, int k, std::span<const cd> points,
+                std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    sweepLanes<K, Lanes2>(p, k, points, entries, plan, out);
+}
+
+#if defined(__x86_64__) && defined(__GNUC__)
+#define LOOPSKETCH_HAVE_WIDE_SWEEP 1
+// The same four or eight points at a time, for processors with AVX2 or AVX-512, chosen at
+// run time. The arithmetic per point is the same (this file is compiled without
+// contraction into fused multiply-adds), so are the results.
+template<int K>
+__attribute__((target("avx2"))) void
+sweepOrderAvx2(const PencilView &p, int k, std::span<const cd> points,
+               std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    sweepLanes<K, Lanes4>(p, k, points, entries, plan, out);
+}
+
+template<int K>
+__attribute__((target("avx512f"))) void
+sweepOrderAvx512(const PencilView &p, int k, std::span<const cd> points,
+                 std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    sweepLanes<K, Lanes8>(p, k, points, entries, plan, out);
+}
+#endif
+
+template<int K> struct Baseline
+{
+    static void run(const PencilView &p, int k, std::span<const cd> points,
+                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+    {
+        sweepOrder<K>(p, k, points, entries, plan, out);
+    }
+};
+
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
+template<int K> struct WithAvx2
+{
+    static void run(const PencilView &p, int k, std::span<const cd> points,
+                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+    {
+        sweepOrderAvx2<K>(p, k, points, entries, plan, out);
+    }
+};
+
+template<int K> struct WithAvx512
+{
+    static void run(const PencilView &p, int k, std::span<const cd> points,
+                    std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+    {
+        sweepOrderAvx512<K>(p, k, points, entries, plan, out);
+    }
+};
+#endif
+
+template<template<int> typename Sweep>
+void sweepAnyOrder(const PencilView &pencil, int k, std::span<const cd> points,
+                   std::span<const TransferEntry> entries, const Plan &plan, cd *out)
+{
+    switch (k) {
+    case 1:
+        return Sweep<1>::run(pencil, k, points, entries, plan, out);
+    case 2:
+        return Sweep<2>::run(pencil, k, points, entries, plan, out);
+    case 3:
+        return Sweep<3>::run(pencil, k, points, entries, plan, out);
+    case 4:
+        return Sweep<4>::run(pencil, k, points, entries, plan, out);
+    case 5:
+        return Sweep<5>::run(pencil, k, points, entries, plan, out);
+    case 6:
+        return Sweep<6>::run(pencil, k, points, entries, plan, out);
+    case 7:
+        return Sweep<7>::run(pencil, k, points, entries, plan, out);
+    case 8:
+        return Sweep<8>::run(pencil, k, points, entries, plan, out);
+    default:
+        return Sweep<0>::run(pencil, k, points, entries, plan, out);
+    }
+}
+
+} // namespace
+
+void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>> points,
+                 std::span<const TransferEntry> entries, std::complex<double> *out,
+                 SweepWidth width)
+{
+    const auto k = static_cast<int>(pencil.g.rows());
+    const auto nPoints = static_cast<Index>(points.size());
+    if (k == 0) {
+        for (std::size_t e = 0; e < entries.size(); ++e)
+            for (Index i = 0; i < nPoints; ++i)
+                out[static_cast<Index>(e) * nPoints + i]
+                    = pencil.d(entries[e].output, entries[e].input);
+        return;
+    }
+    thread_local Plan plan;
+    makePlan(entries, plan);
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
+    if (width == SweepWidth::Automatic) // a single point (root finding) costs a whole group
+        width = sweepWidthAvailable(SweepWidth::Eight) && points.size() > 4 ? SweepWidth::Eight
+            : sweepWidthAvailable(SweepWidth::Four)                         ? SweepWidth::Four
+                                                                            : SweepWidth::Two;
+    if (width == SweepWidth::Eight && sweepWidthAvailable(SweepWidth::Eight))
+        return sweepAnyOrder<WithAvx512>(pencil, k, points, entries, plan, out);
+    if (width != SweepWidth::Two && sweepWidthAvailable(SweepWidth::Four))
+        return sweepAnyOrder<WithAvx2>(pencil, k, points, entries, plan, out);
+#endif
+    (void)width;
+    sweepAnyOrder<Baseline>(pencil, k, points, entries, plan, out);
+}
+
+} // namespace loopsketch::detail
+
+namespace loopsketch {
+
+bool sweepWidthAvailable(SweepWidth width)
+{
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
+    static const bool avx512 = __builtin_cpu_supports("avx512f");
+    static const bool avx2 = __builtin_cpu_supports("avx2");
+    switch (width) {
+    case SweepWidth::Eight:
+        return avx512;
+    case SweepWidth::Four:
+        return avx2;
+    default:
+        return true;
+    }
+#else
+    return width == SweepWidth::Automatic || width == SweepWidth::Two;
+#endif
+}
+
+} // namespace loopsketch

@@ -1,0 +1,654 @@
+#include "panels/plotpanel.h"
+
+#include "support/qtadapter.h"
+
+#include "loopsketch/base/value.h"
+
+#include <QAction>
+#include <QCategoryAxis>
+#include <QChart>
+#include <QGraphicsLineItem>
+#include <QGraphicsRectItem>
+#include <QGraphicsSimpleTextItem>
+#include <QGraphicsTextItem>
+#include <QLegend>
+#include <QLegendMarker>
+#include <QLineSeries>
+#include <QMouseEvent>
+#include <QRegularExpression>
+#include <QScatterSeries>
+#include <QToolButton>
+#include <QValueAxis>
+
+#include <algorithm>
+#include <cmath>
+
+namespace loopsketch::ui {
+
+PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
+{
+    auto *c = new QChart;
+    setObjectName(title);
+    c->setTitle(QStringLiteral(" "));
+    QFont titleFont = c->titleFont();
+    titleFont.setPointSizeF(8.5);
+    titleFont.setBold(false);
+    c->setTitleFont(titleFont);
+    m_summary = new QGraphicsSimpleTextItem(c);
+    m_summary->setFont(titleFont);
+    m_summary->setBrush(QColor(0x2b, 0x2f, 0x36));
+    c->setBackgroundRoundness(0);
+    c->setMargins(QMargins(6, 4, 6, 4));
+    c->setAnimationOptions(QChart::NoAnimation);
+    c->legend()->setAlignment(Qt::AlignBottom);
+    QFont legendFont = c->legend()->font();
+    legendFont.setPointSizeF(8);
+    c->legend()->setFont(legendFont);
+    setChart(c);
+    connect(c, &QChart::plotAreaChanged, this, &PlotPanel::plotAreaChanged);
+    setRenderHint(QPainter::Antialiasing, true);
+    setMinimumSize(240, 190);
+}
+
+QXYSeries *PlotPanel::series(const QString &name) const
+{
+    const auto it = m_series.find(name);
+    return it == m_series.end() ? nullptr : it->second;
+}
+
+QLineSeries *PlotPanel::addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
+                                QAbstractAxis *x, QAbstractAxis *y, bool inLegend)
+{
+    auto *s = new QLineSeries;
+    s->setName(name);
+    // Dashed wide pens go through Qt's slow dash stroker; a one-pixel cosmetic dashed pen
+    // is drawn by the raster engine's fast path and reads just as well for the phase.
+    QPen pen(colour, style == Qt::SolidLine ? 1.8 : 1.0, style);
+    pen.setCosmetic(style != Qt::SolidLine);
+    pen.setCapStyle(Qt::FlatCap);
+    s->setPen(pen);
+    chart()->addSeries(s);
+    s->attachAxis(x);
+    s->attachAxis(y);
+    if (!inLegend) {
+        for (QLegendMarker *m : chart()->legend()->markers(s))
+            m->setVisible(false);
+    }
+    m_series[name] = s;
+    return s;
+}
+
+QScatterSeries *PlotPanel::addMarker(const QString &name, const QColor &colour, QAbstractAxis *x,
+                                     QAbstractAxis *y, double size)
+{
+    auto *s = new QScatterSeries;
+    s->setName(name);
+    s->setMarkerSize(size);
+    s->setColor(colour);
+    s->setBorderColor(Qt::white);
+    chart()->addSeries(s);
+    s->attachAxis(x);
+    s->attachAxis(y);
+    m_series[name] = s;
+    return s;
+}
+
+QValueAxis *PlotPanel::addValueAxis(const QString &title, Qt::Alignment alignment, bool grid)
+{
+    auto *axis = new QValueAxis;
+    axis->setTitleText(title);
+    QFont f = axis->titleFont();
+    f.setPointSizeF(8.5);
+    f.setBold(false);
+    axis->setTitleFont(f);
+    QFont lf = axis->labelsFont();
+    lf.setPointSizeF(8);
+    axis->setLabelsFont(lf);
+    axis->setGridLineVisible(grid);
+    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
+    axis->setTickType(QValueAxis::TicksDynamic);
+    axis->setLabelFormat(QStringLiteral("%g"));
+    chart()->addAxis(axis, alignment);
+    return axis;
+}
+
+QCategoryAxis *PlotPanel::addLogAxis(const QString &title, Qt::Alignment alignment)
+{
+    auto *axis = new QCategoryAxis;
+    axis->setTitleText(title);
+    QFont f = axis->titleFont();
+    f.setPointSizeF(8.5);
+    f.setBold(false);
+    axis->setTitleFont(f);
+    QFont lf = axis->labelsFont();
+    lf.setPointSizeF(8);
+    axis->setLabelsFont(lf);
+    axis->setLabelsPosition(QCategoryAxis::AxisLabelsPositionOnValue);
+    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
+    chart()->addAxis(axis, alignment);
+    if (alignment == Qt::AlignBottom) {
+        m_frequencyAxis = axis;
+        viewport()->setMouseTracking(true);
+    }
+    return axis;
+}
+
+void PlotPanel::setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit)
+{
+    if (!(hi > lo)) {
+        lo -= 0.5;
+        hi += 0.5;
+    }
+    DecadeAxis &state = m_decadeAxes[axis];
+    state.lo = lo;
+    state.hi = hi;
+    state.unit = std::string(unit);
+    applyDecades(axis, state);
+}
+
+void PlotPanel::applyDecades(QCategoryAxis *axis, DecadeAxis &state)
+{
+    const QRectF plot = chart()->plotArea();
+    const bool vertical = axis->orientation() == Qt::Vertical;
+    const double pixels = vertical ? plot.height() : plot.width();
+    const double span = state.hi - state.lo;
+    // Room for a label such as "100k" (horizontal) or one text line (vertical).
+    const double room = vertical ? 22.0 : 40.0;
+    int step = 1;
+    if (pixels > 0) {
+        while (step < 6 && pixels * step / span < room)
+            ++step;
+    }
+    if (step == state.step && state.lo == state.drawnLo && state.hi == state.drawnHi
+        && state.unit == state.drawnUnit)
+        return;
+    // Rebuilding the categories relayouts the chart, so it happens only when they change.
+    const QStringList old = axis->categoriesLabels();
+    for (const QString &label : old)
+        axis->remove(label);
+    axis->setStartValue(state.lo);
+    const int first = int(std::ceil(state.lo - 1e-9));
+    for (int k = first; k <= int(std::floor(state.hi + 1e-9)); ++k) {
+        if ((k - first) % step == 0 || step == 1)
+            axis->append(toQString(formatEngineering(std::pow(10.0, k), 3, state.unit)), k);
+    }
+    axis->setRange(state.lo, state.hi);
+    state.step = step;
+    state.drawnLo = state.lo;
+    state.drawnHi = state.hi;
+    state.drawnUnit = state.unit;
+}
+
+void PlotPanel::resizeEvent(QResizeEvent *event)
+{
+    QChartView::resizeEvent(event);
+    placeSummary();
+}
+
+void PlotPanel::plotAreaChanged()
+{
+    // Label spacing and curve thinning depend on the plot's pixels, known only after the
+    // chart's own layout ran.
+    for (auto &[axis, state] : m_decadeAxes)
+        applyDecades(axis, state);
+    for (auto &[s, full] : m_fullCurves)
+        thin(s, full.points, full.xMin, full.xMax);
+    for (const auto &[axis, r] : m_roundAxes)
+        applyRound(axis, r);
+    placeSummary();
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
+}
+
+void PlotPanel::setNiceRange(QValueAxis *axis, double lo, double hi, int ticks)
+{
+    if (!(hi > lo)) {
+        lo -= 1;
+        hi += 1;
+    }
+    const double raw = (hi - lo) / std::max(1, ticks);
+    const double decade = std::pow(10.0, std::floor(std::log10(raw)));
+    double step = decade;
+    for (double m : {1.0, 2.0, 5.0, 10.0}) {
+        step = m * decade;
+        if (step >= raw)
+            break;
+    }
+    applyRange(axis, std::floor(lo / step) * step, std::ceil(hi / step) * step, step);
+}
+
+void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
+{
+    // Every axis change relayouts the chart and recomputes its series; skip the no-ops.
+    if (axis->tickType() != QValueAxis::TicksDynamic)
+        axis->setTickType(QValueAxis::TicksDynamic);
+    if (axis->tickAnchor() != 0.0)
+        axis->setTickAnchor(0);
+    if (axis->tickInterval() != step)
+        axis->setTickInterval(step);
+    if (axis->min() != lo || axis->max() != hi)
+        axis->setRange(lo, hi);
+}
+
+void PlotPanel::showUnavailable(const QString &reason)
+{
+    if (reason.isEmpty()) {
+        if (m_unavailable)
+            m_unavailable->hide();
+        return;
+    }
+    static const QRegularExpression count(QStringLiteral(" \\(\\d+\\)$"));
+    std::vector<std::pair<QXYSeries *, QString>> counted;
+    for (auto &[name, series] : m_series) {
+        series->replace(QList<QPointF>());
+        // A count in a legend label ("poles (4)") is a number of the last analysis too.
+        if (name.contains(count))
+            counted.emplace_back(series, QString(name).remove(count));
+    }
+    for (const auto &[series, name] : counted)
+        rename(series, name);
+    for (auto &[series, curve] : m_fullCurves)
+        curve.points.clear();
+    for (QLineSeries *s : m_overlaySeries)
+        s->replace(QList<QPointF>());
+    setTitle(tr("not analysed"));
+    showFrequencyCursor(std::nan(""));
+    if (!m_unavailable) {
+        m_unavailable = new QGraphicsTextItem(chart());
+        m_unavailable->setDefaultTextColor(QColor(0x8a, 0x1c, 0x14));
+        m_unavailable->setZValue(100);
+    }
+    const QRectF area = chart()->plotArea();
+    m_unavailable->setTextWidth(std::max(120.0, area.width() - 24));
+    m_unavailable->setPlainText(
+        tr("Not analysed: %1").arg(reason.section(QLatin1Char('\n'), 0, 0)));
+    m_unavailable->setPos(area.left() + 12,
+                          area.center().y() - m_unavailable->boundingRect().height() / 2);
+    m_unavailable->show();
+}
+
+QString PlotPanel::unavailableText() const
+{
+    return m_unavailable && m_unavailable->isVisible() ? m_unavailable->toPlainText() : QString();
+}
+
+void PlotPanel::setTitle(const QString &title)
+{
+    // A chart title change relayouts the whole chart (about 1 ms a panel), so the title
+    // is a fixed blank line and the summary a plain text item drawn over it.
+    if (m_summary->text() == title)
+        return;
+    m_summary->setText(title);
+    placeSummary();
+}
+
+QString PlotPanel::summary() const
+{
+    return m_summary->text();
+}
+
+void PlotPanel::placeSummary()
+{
+    const double w = m_summary->boundingRect().width();
+    const double full = chart()->size().width();
+    // The overlay toggle sits in the top right corner when the summary leaves room for it,
+    // else in the bottom right corner, level with the centred legend.
+    double room = full;
+    if (m_overlayButton) {
+        const int bw = m_overlayButton->width();
+        if (w + 2.0 * (bw + 8.0) <= full) {
+            m_overlayButton->move(width() - bw - 4, 2);
+            room = full - bw - 8.0;
+        } else {
+            m_overlayButton->move(width() - bw - 4, height() - m_overlayButton->height() - 2);
+        }
+    }
+    m_summary->setPos(std::max(4.0, (room - w) / 2.0), chart()->margins().top() + 3.0);
+}
+
+void PlotPanel::enableOverlays()
+{
+    if (m_overlayAction)
+        return;
+    m_overlayAction = new QAction(tr("Overlay candidates"), this);
+    m_overlayAction->setCheckable(true);
+    m_overlayAction->setToolTip(
+        tr("Overlay the pinned candidates' curves (thin, dashed, named in the legend)"));
+    addAction(m_overlayAction);
+    setContextMenuPolicy(Qt::ActionsContextMenu);
+    m_overlayButton = new QToolButton(this);
+    m_overlayButton->setDefaultAction(m_overlayAction);
+    m_overlayButton->setAutoRaise(true);
+    m_overlayButton->setToolButtonStyle(Qt::ToolButtonTextOnly);
+    QFont f = m_overlayButton->font();
+    f.setPointSizeF(7.5);
+    m_overlayButton->setFont(f);
+    m_overlayButton->adjustSize();
+    m_overlayButton->move(width() - m_overlayButton->width() - 4, 2);
+    connect(m_overlayAction, &QAction::toggled, this, [this] { rebuildOverlays(); });
+}
+
+void PlotPanel::setOverlaySources(std::vector<OverlaySource> sources)
+{
+    m_overlaySources = std::move(sources);
+    if (m_overlayAction && (m_overlayAction->isChecked() || !m_overlaySeries.empty()))
+        rebuildOverlays();
+}
+
+QStringList PlotPanel::overlaySeriesNames() const
+{
+    QStringList names;
+    for (const QLineSeries *s : m_overlaySeries)
+        names << s->name();
+    return names;
+}
+
+QStringList PlotPanel::legendLabels() const
+{
+    QStringList labels;
+    for (const QLegendMarker *m : chart()->legend()->markers()) {
+        if (m->isVisible())
+            labels << m->label();
+    }
+    return labels;
+}
+
+QColor PlotPanel::overlayColour(int index)
+{
+    // Green first (no panel draws a curve in it), then colour-blind-safe tones that the
+    // panels' own curves do not use (wine, indigo, olive, teal and rose of Paul Tol's
+    // "muted" scheme, hex values from memory).
+    static const QColor colours[]
+        = {palette::kGreen,          QColor(0x88, 0x22, 0x55), QColor(0x33, 0x22, 0x88),
+           QColor(0x99, 0x99, 0x33), QColor(0x44, 0xAA, 0x99), QColor(0xCC, 0x66, 0x77)};
+    return colours[std::size_t(index) % std::size(colours)];
+}
+
+Qt::PenStyle PlotPanel::overlayStyle(int index)
+{
+    // The panels' own curves are solid, or dashed for the curves without feedback.
+    static const Qt::PenStyle styles[]
+        = {Qt::DotLine, Qt::DashDotLine, Qt::DashDotDotLine, Qt::DashLine};
+    return styles[std::size_t(index) % std::size(styles)];
+}
+
+void PlotPanel::rebuildOverlays()
+{
+    std::size_t used = 0;
+    if (m_overlayAction && m_overlayAction->isChecked() && m_frequencyAxis) {
+        for (std::size_t i = 0; i < m_overlaySources.size(); ++i) {
+            const OverlaySource &source = m_overlaySources[i];
+            if (!source.analysis || source.analysis->frequenciesHz.empty())
+                continue;
+            const auto &f = source.analysis->frequenciesHz;
+            bool firstOfSource = true;
+            for (OverlayLine &line : overlayLines(*source.analysis)) {
+                const QString name = source.name + QStringLiteral(": ") + line.quantity;
+                QLineSeries *s = used < m_overlaySeries.size() ? m_overlaySeries[used] : nullptr;
+                if (s && !s->attachedAxes().contains(line.y)) {
+                    // Same slot, other axis: replaced below by a fresh series.
+                    chart()->removeSeries(s);
+                    m_fullCurves.erase(s);
+                    std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
+                    delete s;
+                    s = nullptr;
+                }
+                if (!s) {
+                    s = new QLineSeries;
+                    s->setName(name);
+                    chart()->addSeries(s);
+                    s->attachAxis(m_frequencyAxis);
+                    s->attachAxis(line.y);
+                    if (used < m_overlaySeries.size())
+                        m_overlaySeries[used] = s;
+                    else
+                        m_overlaySeries.push_back(s);
+                    m_series[name] = s;
+                } else if (s->name() != name) {
+                    rename(s, name);
+                }
+                QPen pen(overlayColour(int(i)), 1.0, overlayStyle(int(i)));
+                pen.setCosmetic(true);
+                pen.setCapStyle(Qt::FlatCap);
+                if (s->pen() != pen)
+                    s->setPen(pen);
+                replaceThinned(s, line.points, std::log10(f.front()), std::log10(f.back()),
+                               line.format);
+                // One legend entry per candidate, its name in its colour (one entry per curve
+                // is elided past reading in the panel's width); the series keep their full
+                // "candidate: quantity" names for the cursor text.
+                for (QLegendMarker *m : chart()->legend()->markers(s)) {
+                    m->setVisible(firstOfSource);
+                    if (firstOfSource && m->label() != source.name)
+                        m->setLabel(source.name);
+                }
+                firstOfSource = false;
+                ++used;
+            }
+        }
+    }
+    while (m_overlaySeries.size() > used) {
+        QLineSeries *s = m_overlaySeries.back();
+        m_overlaySeries.pop_back();
+        chart()->removeSeries(s);
+        m_fullCurves.erase(s);
+        std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
+        delete s;
+    }
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
+}
+
+void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax,
+                               CursorFormat format)
+{
+    const auto known = m_fullCurves.find(s);
+    const int order = known != m_fullCurves.end() ? known->second.order : int(m_fullCurves.size());
+    m_fullCurves[s] = {points, xMin, xMax, format, order};
+    thin(s, points, xMin, xMax);
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
+}
+
+void PlotPanel::mouseMoveEvent(QMouseEvent *event)
+{
+    QChartView::mouseMoveEvent(event);
+    if (!m_frequencyAxis || m_series.empty())
+        return;
+    const QPointF inChart = chart()->mapFromScene(mapToScene(event->pos()));
+    if (!chart()->plotArea().contains(inChart)) {
+        emit frequencyHovered(std::nan(""));
+        return;
+    }
+    emit frequencyHovered(chart()->mapToValue(inChart, m_series.begin()->second).x());
+}
+
+void PlotPanel::leaveEvent(QEvent *event)
+{
+    QChartView::leaveEvent(event);
+    if (m_frequencyAxis)
+        emit frequencyHovered(std::nan(""));
+}
+
+QString PlotPanel::cursorText() const
+{
+    return m_cursorText && m_cursorText->isVisible() ? m_cursorText->text() : QString();
+}
+
+void PlotPanel::showFrequencyCursor(double log10Hz)
+{
+    if (!m_frequencyAxis)
+        return;
+    m_cursorAt = log10Hz;
+    if (!m_cursorLine) {
+        m_cursorLine = new QGraphicsLineItem(chart());
+        m_cursorLine->setPen(QPen(QColor(0x55, 0x5b, 0x66), 1.0, Qt::SolidLine));
+        m_cursorLine->setZValue(20);
+        m_cursorBox = new QGraphicsRectItem(chart());
+        m_cursorBox->setBrush(QColor(255, 255, 255, 225));
+        m_cursorBox->setPen(QPen(QColor(0xc8, 0xcd, 0xd4), 1.0));
+        m_cursorBox->setZValue(21);
+        m_cursorText = new QGraphicsSimpleTextItem(chart());
+        QFont f = m_cursorText->font();
+        f.setPointSizeF(8);
+        m_cursorText->setFont(f);
+        m_cursorText->setZValue(22);
+    }
+    const QRectF plot = chart()->plotArea();
+    const bool visible = std::isfinite(log10Hz) && log10Hz >= m_frequencyAxis->min()
+        && log10Hz <= m_frequencyAxis->max() && !m_series.empty();
+    m_cursorLine->setVisible(visible);
+    m_cursorBox->setVisible(visible);
+    m_cursorText->setVisible(visible);
+    if (!visible)
+        return;
+    const double x = chart()->mapToPosition(QPointF(log10Hz, 0), m_series.begin()->second).x();
+    m_cursorLine->setLine(x, plot.top(), x, plot.bottom());
+    QStringList lines;
+    lines << tr("f = %1").arg(toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz")));
+    std::vector<std::pair<QXYSeries *, const FullCurve *>> curves;
+    for (const auto &[s, full] : m_fullCurves)
+        curves.emplace_back(s, &full);
+    std::sort(curves.begin(), curves.end(),
+              [](const auto &l, const auto &r) { return l.second->order < r.second->order; });
+    for (const auto &[s, fullCurve] : curves) {
+        const FullCurve &full = *fullCurve;
+        if (full.format == CursorFormat::None || full.points.isEmpty())
+            continue;
+        // The sweep point nearest the cursor; values are core's, not interpolated.
+        const auto it = std::lower_bound(full.points.begin(), full.points.end(), log10Hz,
+                                         [](const QPointF &p, double v) { return p.x() < v; });
+        auto best = it == full.points.end() ? std::prev(it) : it;
+        if (it != full.points.begin() && it != full.points.end()
+            && std::abs(std::prev(it)->x() - log10Hz) < std::abs(it->x() - log10Hz))
+            best = std::prev(it);
+        if (std::abs(best->x() - log10Hz) > 0.05)
+            continue;
+        QString value;
+        switch (full.format) {
+        case CursorFormat::Decibels:
+            value = QString::number(best->y(), 'f', 1) + QStringLiteral(" dB");
+            break;
+        case CursorFormat::Degrees:
+            value = QString::number(best->y(), 'f', 1) + QStringLiteral("°");
+            break;
+        case CursorFormat::Log10Ohms:
+            value = toQString(formatEngineering(std::pow(10.0, best->y()), 3, "Ω"));
+            break;
+        case CursorFormat::None:
+            break;
+        }
+        lines << s->name() + QStringLiteral(": ") + value;
+    }
+    m_cursorText->setText(lines.join(QLatin1Char('\n')));
+    const QRectF text = m_cursorText->boundingRect();
+    double left = x + 8;
+    if (left + text.width() + 8 > plot.right())
+        left = x - 8 - text.width();
+    m_cursorText->setPos(left, plot.top() + 6);
+    m_cursorBox->setRect(QRectF(left - 4, plot.top() + 3, text.width() + 8, text.height() + 6));
+}
+
+QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const
+{
+    const auto it = m_fullCurves.find(s);
+    return it == m_fullCurves.end() ? s->points() : it->second.points;
+}
+
+void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
+{
+    // Columns three pixels wide; each keeps its lowest and highest point, in sweep order.
+    const double columns = chart()->plotArea().width() / 3.0;
+    if (!(columns > 0) || !(xMax > xMin) || points.size() < qsizetype(2 * columns)) {
+        s->replace(points);
+        return;
+    }
+    const double perColumn = (xMax - xMin) / columns;
+    QList<QPointF> kept;
+    kept.reserve(qsizetype(2 * columns) + 4);
+    const qsizetype n = points.size();
+    qsizetype i = 0;
+    while (i < n) {
+        const double column = std::floor((points[i].x() - xMin) / perColumn);
+        qsizetype j = i, lowest = i, highest = i;
+        while (j < n && std::floor((points[j].x() - xMin) / perColumn) == column) {
+            if (points[j].y() < points[lowest].y())
+                lowest = j;
+            if (points[j].y() > points[highest].y())
+                highest = j;
+            ++j;
+        }
+        kept.append(points[std::min(lowest, highest)]);
+        if (lowest != highest)
+            kept.append(points[std::max(lowest, highest)]);
+        i = j;
+    }
+    if (kept.back() != points.back())
+        kept.append(points.back());
+    s->replace(kept);
+}
+
+void PlotPanel::hideFromLegend(QXYSeries *s)
+{
+    for (QLegendMarker *m : chart()->legend()->markers(s))
+        m->setVisible(false);
+}
+
+void PlotPanel::setRoundRange(QValueAxis *axis, double lo, double hi, double step)
+{
+    m_roundAxes[axis] = {lo, hi, step};
+    applyRound(axis, m_roundAxes[axis]);
+}
+
+void PlotPanel::applyRound(QValueAxis *axis, const RoundAxis &r)
+{
+    // Wider steps (x2) while the labels would crowd: about 26 px per label vertically.
+    const QRectF plot = chart()->plotArea();
+    const double pixels = axis->orientation() == Qt::Vertical ? plot.height() : plot.width() / 2;
+    const double maxTicks = std::max(2.0, pixels / 26.0);
+    double step = r.step;
+    double a = 0, b = 0;
+    for (int i = 0; i < 6; ++i) {
+        // A curve a hair beyond a round value does not cost a whole extra step.
+        a = std::floor(r.lo / step + 0.02) * step;
+        b = std::ceil(r.hi / step - 0.02) * step;
+        if (!(b > a)) {
+            a -= step;
+            b += step;
+        }
+        if (!(pixels > 0) || (b - a) / step <= maxTicks)
+            break;
+        step *= 2;
+    }
+    applyRange(axis, a, b, step);
+}
+
+void PlotPanel::rename(QXYSeries *s, const QString &name)
+{
+    for (auto it = m_series.begin(); it != m_series.end(); ++it) {
+        if (it->second == s) {
+            m_series.erase(it);
+            break;
+        }
+    }
+    s->setName(name);
+    m_series[name] = s;
+}
+
+bool yRange(std::initializer_list<const QList<QPointF> *> lists, double *lo, double *hi)
+{
+    bool any = false;
+    for (const QList<QPointF> *list : lists) {
+        for (const QPointF &p : *list) {
+            if (!any) {
+                *lo = *hi = p.y();
+                any = true;
+            }
+            *lo = std::min(*lo, p.y());
+            *hi = std::max(*hi, p.y());
+        }
+    }
+    return any;
+}
+
+} // namespace loopsketch::ui

@@ -1,0 +1,201 @@
+#pragma once
+
+// Base of the linked plot panels: a chart view with our palette, a log frequency axis
+// labelled 1, 10, 100, 1k ... 1G, and helpers that push whole curves with replace().
+
+#include "loopsketch/analysis/analysis.h"
+
+#include <QChartView>
+#include <QColor>
+#include <QList>
+#include <QPointF>
+
+#include <cmath>
+#include <map>
+#include <memory>
+#include <string>
+#include <vector>
+
+class QAbstractAxis;
+class QAction;
+class QToolButton;
+class QGraphicsSimpleTextItem;
+class QGraphicsLineItem;
+class QGraphicsRectItem;
+class QCategoryAxis;
+class QLineSeries;
+class QScatterSeries;
+class QValueAxis;
+class QXYSeries;
+
+namespace loopsketch::ui {
+
+/// Okabe-Ito colours, safe for the common colour-vision deficiencies.
+namespace palette {
+inline const QColor kOrange{0xE6, 0x9F, 0x00};
+inline const QColor kSkyBlue{0x56, 0xB4, 0xE9};
+inline const QColor kGreen{0x00, 0x9E, 0x73};
+inline const QColor kYellow{0xF0, 0xE4, 0x42};
+inline const QColor kBlue{0x00, 0x72, 0xB2};
+inline const QColor kVermillion{0xD5, 0x5E, 0x00};
+inline const QColor kPurple{0xCC, 0x79, 0xA7};
+inline const QColor kBlack{0x22, 0x22, 0x22};
+} // namespace palette
+
+/// One candidate's analysis for the overlays of the frequency panels.
+struct OverlaySource
+{
+    QString name; ///< the candidate's name, shown in the legend
+    std::shared_ptr<const Analysis> analysis;
+};
+
+class PlotPanel : public QChartView
+{
+    Q_OBJECT
+
+public:
+    /// The summary line above the plot (crossover, margins ...).
+    QString summary() const;
+    explicit PlotPanel(const QString &title, QWidget *parent = nullptr);
+
+    virtual void showAnalysis(const Analysis &analysis) = 0;
+    /// The design cannot be analysed: every curve is cleared and `reason` is shown over the
+    /// plot, so no earlier numbers stand as if current. An empty reason removes the notice
+    /// (the next showAnalysis() fills the curves again).
+    void showUnavailable(const QString &reason);
+    /// The notice shown over the plot, empty when the plot is current.
+    QString unavailableText() const;
+
+    /// The series named `name` (its legend text), nullptr when there is none.
+    QXYSeries *series(const QString &name) const;
+    /// The points handed to replaceThinned() before thinning for the screen.
+    QList<QPointF> fullPoints(QXYSeries *series) const;
+
+    /// True for panels over frequency, which take part in the linked frequency cursor.
+    bool hasFrequencyAxis() const { return m_frequencyAxis != nullptr; }
+    /// Shows the linked cursor at log10(f / Hz); NaN hides it.
+    void showFrequencyCursor(double log10Hz);
+    /// The cursor's text (empty when hidden).
+    QString cursorText() const;
+
+    // Candidate overlays: thin dashed curves, one set per candidate, for panels whose
+    // overlayLines() names any.
+    /// True when the panel draws candidate overlays (it has a toggle).
+    bool hasOverlays() const { return m_overlayAction != nullptr; }
+    /// The checkable "Overlay candidates" toggle; nullptr for panels without overlays.
+    QAction *overlayAction() const { return m_overlayAction; }
+    /// The candidates to overlay, in column order; drawn while the toggle is on.
+    void setOverlaySources(std::vector<OverlaySource> sources);
+    /// Names of the overlay curves drawn now ("Fast: T"); the legend has one entry per
+    /// candidate, labelled with its name.
+    QStringList overlaySeriesNames() const;
+    /// The visible legend labels, in legend order (as of the legend's last layout, which
+    /// runs from the event loop).
+    QStringList legendLabels() const;
+    /// The colour and dash of candidate `index`'s overlays (the Candidates panel uses the
+    /// same in its column headers).
+    static QColor overlayColour(int index);
+    static Qt::PenStyle overlayStyle(int index);
+
+signals:
+    /// The mouse hovers the plot at log10(f / Hz); NaN when it left.
+    void frequencyHovered(double log10Hz);
+
+protected:
+    /// How a curve's value reads in the cursor text; None leaves it out.
+    enum class CursorFormat { None, Decibels, Degrees, Log10Ohms };
+
+    /// One curve a panel overlays for each candidate.
+    struct OverlayLine
+    {
+        QString quantity; ///< legend text after the candidate's name, e.g. "T"
+        QList<QPointF> points; ///< x = log10(f / Hz), as the panel's own curves
+        QAbstractAxis *y = nullptr;
+        CursorFormat format = CursorFormat::None;
+    };
+    /// The curves to overlay from a candidate's analysis; a panel returning any calls
+    /// enableOverlays() in its constructor.
+    virtual std::vector<OverlayLine> overlayLines(const Analysis &) const { return {}; }
+    /// Creates the "Overlay candidates" toggle (a corner button and a context-menu entry).
+    void enableOverlays();
+
+    QLineSeries *addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
+                         QAbstractAxis *x, QAbstractAxis *y, bool inLegend = true);
+    QScatterSeries *addMarker(const QString &name, const QColor &colour, QAbstractAxis *x,
+                              QAbstractAxis *y, double size = 9.0);
+    QValueAxis *addValueAxis(const QString &title, Qt::Alignment alignment, bool grid = true);
+    /// x = log10(f / Hz); decade labels drawn by us (QLogValueAxis prints 1e+06).
+    QCategoryAxis *addLogAxis(const QString &title, Qt::Alignment alignment);
+    /// Sets a decade axis to cover [lo, hi] (log10 units) with a label at every decade, or
+    /// at every second or third one when the plot is too small to hold them all.
+    void setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::string_view unit);
+    /// Sets a value axis to a range with round ticks, `step` apart.
+    /// Steps double while the labels would crowd the axis.
+    void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Sets a value axis to [lo, hi] with about `ticks` ticks at 1, 2 or 5 times a power of 10.
+    static void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
+    /// Replaces a frequency curve's points, thinned to the points that matter on screen: in
+    /// each three-pixel column its lowest and highest point survive, so peaks stay exact.
+    /// Every point kept is one of core's, unchanged. `format` puts it in the cursor text.
+    void replaceThinned(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax,
+                        CursorFormat format = CursorFormat::None);
+    /// Sets the axis only where it differs (each change relayouts the chart).
+    static void applyRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Sets the summary line above the plot.
+    void setTitle(const QString &title);
+    /// Hides a series' legend entry.
+    void hideFromLegend(QXYSeries *series);
+    void resizeEvent(QResizeEvent *event) override;
+    void mouseMoveEvent(QMouseEvent *event) override;
+    void leaveEvent(QEvent *event) override;
+    /// Sets a series' name, keeping the lookup table in step.
+    void rename(QXYSeries *series, const QString &name);
+
+    std::map<QString, QXYSeries *> m_series;
+
+private:
+    struct DecadeAxis
+    {
+        double lo = 0, hi = 0;
+        std::string unit;
+        int step = 0; ///< decades between labels as last drawn; 0 = never drawn
+        double drawnLo = 0, drawnHi = 0;
+        std::string drawnUnit;
+    };
+    void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
+    void placeSummary();
+    struct RoundAxis
+    {
+        double lo = 0, hi = 0, step = 1;
+    };
+    void applyRound(QValueAxis *axis, const RoundAxis &r);
+    std::map<QValueAxis *, RoundAxis> m_roundAxes;
+    void plotAreaChanged();
+    void rebuildOverlays();
+    QGraphicsSimpleTextItem *m_summary = nullptr;
+    QGraphicsTextItem *m_unavailable = nullptr;
+    QAction *m_overlayAction = nullptr;
+    QToolButton *m_overlayButton = nullptr;
+    std::vector<OverlaySource> m_overlaySources;
+    std::vector<QLineSeries *> m_overlaySeries;
+    void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
+    struct FullCurve
+    {
+        QList<QPointF> points;
+        double xMin = 0, xMax = 0;
+        CursorFormat format = CursorFormat::None;
+        int order = 0; ///< first-shown order, the order of the cursor's lines
+    };
+    QCategoryAxis *m_frequencyAxis = nullptr;
+    QGraphicsLineItem *m_cursorLine = nullptr;
+    QGraphicsSimpleTextItem *m_cursorText = nullptr;
+    QGraphicsRectItem *m_cursorBox = nullptr;
+    double m_cursorAt = std::nan("");
+    std::map<QXYSeries *, FullCurve> m_fullCurves; ///< re-thinned when the panel resizes
+    std::map<QCategoryAxis *, DecadeAxis> m_decadeAxes;
+};
+
+/// Minimum and maximum y of point lists; false when all are empty.
+bool yRange(std::initializer_list<const QList<QPointF> *> lists, double *lo, double *hi);
+
+} // namespace loopsketch::ui

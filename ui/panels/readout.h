@@ -1,0 +1,51 @@
+#pragma once
+
+// The Readout: one strip of the numbers a designer decides on, every one formatted from
+// core's Analysis in engineering notation with its unit.
+
+#include "loopsketch/analysis/analysis.h"
+
+#include <QWidget>
+
+#include <vector>
+
+class QLabel;
+
+namespace loopsketch::ui {
+
+class Readout : public QWidget
+{
+    Q_OBJECT
+
+public:
+    explicit Readout(QWidget *parent = nullptr);
+
+    void showAnalysis(const Analysis &analysis, const Design &design);
+    /// The design cannot be analysed: every value reads "—", `reason` in the tooltips.
+    void showUnavailable(const QString &reason);
+    /// All cells as "title: value" lines, then the warnings line when shown (for tests and
+    /// the clipboard).
+    QString plainText() const;
+    /// The value text of the cell with `title`, empty when there is none.
+    QString cellText(const QString &title) const;
+    /// The warnings line ("" when the analysis has no warnings).
+    QString warningText() const;
+    /// The instability banner's text; empty when the loop is stable.
+    QString bannerText() const;
+
+private:
+    struct Cell
+    {
+        QLabel *title;
+        QLabel *value;
+    };
+    Cell &cell(int index);
+    void setCell(int index, const QString &title, const QString &value, const QString &tooltip = {},
+                 int verdict = 0);
+
+    std::vector<Cell> m_cells;
+    QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns
+    QLabel *m_banner = nullptr; ///< "UNSTABLE" and the poles that make it so
+};
+
+} // namespace loopsketch::ui

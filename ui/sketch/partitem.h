@@ -1,0 +1,62 @@
+#pragma once
+
+// One part on the Sketch: our own symbol, drawn in the part's own coordinates with the pins
+// at multiples of the grid, and its value label in engineering notation.
+
+#include "loopsketch/design/design.h"
+
+#include <QGraphicsItem>
+#include <QString>
+
+namespace loopsketch::ui {
+
+class PartItem : public QGraphicsItem
+{
+public:
+    enum { Type = UserType + 1 };
+
+    explicit PartItem(const Part &part, int rotation);
+
+    int type() const override { return Type; }
+    QRectF boundingRect() const override;
+    QPainterPath shape() const override;
+    void paint(QPainter *painter, const QStyleOptionGraphicsItem *option, QWidget *widget) override;
+
+    const std::string &partId() const { return m_id; }
+    PartType partType() const { return m_type; }
+    int symbolRotation() const { return m_rotation; }
+    /// Updates the label and orientation from the part.
+    void update(const Part &part, int rotation);
+
+    /// The value label's area, in item coordinates.
+    QRectF labelRect() const { return m_labelRect; }
+    /// Screen pixels of vertical label drag per E-series step.
+    static constexpr double kPixelsPerStep = 12.0;
+
+    /// Text of the value label, e.g. "1 MΩ" or "110 dB".
+    static QString valueText(const Part &part);
+
+protected:
+    QVariant itemChange(GraphicsItemChange change, const QVariant &value) override;
+    void mousePressEvent(QGraphicsSceneMouseEvent *event) override;
+    void mouseMoveEvent(QGraphicsSceneMouseEvent *event) override;
+    void mouseReleaseEvent(QGraphicsSceneMouseEvent *event) override;
+
+private:
+    void layoutLabel();
+    void paintSymbol(QPainter *painter) const;
+
+    std::string m_id;
+    PartType m_type;
+    int m_rotation = 0;
+    QString m_label;
+    QString m_value;
+    QRectF m_labelRect; ///< in item coordinates (the item is not rotated; the symbol is)
+    QPointF m_pressPos;
+    bool m_hasValue = false; ///< the part has a primary value (steppable)
+    bool m_labelDrag = false; ///< a vertical drag on the value label steps the value
+    double m_dragOrigin = 0; ///< screen y where the label drag started
+    int m_dragSteps = 0; ///< steps already requested in this drag
+};
+
+} // namespace loopsketch::ui

@@ -1,0 +1,286 @@
+#include "sketch/sketchscene.h"
+
+#include "sketch/groundsymbolitem.h"
+#include "sketch/partitem.h"
+#include "sketch/sketchlayout.h"
+#include "support/qtadapter.h"
+
+#include <QGraphicsPathItem>
+#include <QGraphicsSimpleTextItem>
+#include <QPainterPath>
+#include <QPen>
+
+namespace loopsketch::ui {
+
+namespace {
+
+const QColor kWire(0x2b, 0x2f, 0x36);
+
+} // namespace
+
+SketchScene::SketchScene(QObject *parent) : QGraphicsScene(parent)
+{
+    setBackgroundBrush(QColor(0xfc, 0xfc, 0xfb));
+}
+
+void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
+{
+    clear();
+    m_items.clear();
+    m_grounds.clear();
+    m_hint = nullptr;
+    m_problemMark = nullptr;
+    m_design = design;
+    m_layout = layout;
+    m_wires
+        = addPath(QPainterPath(), QPen(kWire, 1.4, Qt::SolidLine, Qt::SquareCap, Qt::MiterJoin));
+    m_wires->setZValue(-1);
+    m_dots = addPath(QPainterPath(), QPen(kWire, 1.4), QBrush(kWire));
+    m_dots->setZValue(-1);
+    if (!design)
+        return;
+    m_applying = true;
+    for (const Part &p : design->parts) {
+        const auto it = layout.parts.find(p.id);
+        const SketchPlacement placement = it != layout.parts.end() ? it->second : SketchPlacement{};
+        auto *item = new PartItem(p, placement.rotation);
+        item->setPos(placement.x, placement.y);
+        addItem(item);
+        m_items[p.id] = item;
+    }
+    for (std::size_t i = 0; i < layout.grounds.size(); ++i) {
+        auto *ground = new GroundSymbolItem(int(i));
+        ground->setPos(layout.grounds[i].x, layout.grounds[i].y);
+        addItem(ground);
+        m_grounds.push_back(ground);
+    }
+    if (design->parts.empty()) {
+        m_hint = addSimpleText(tr("Drag parts here from the Parts list (or double-click one), "
+                                  "then drag from pin to pin to wire them."));
+        m_hint->setBrush(QColor(0x5a, 0x60, 0x6b));
+        const QRectF r = m_hint->boundingRect();
+        const QPointF anchor = layout.grounds.empty()
+            ? QPointF(0, 0)
+            : QPointF(layout.grounds.front().x, layout.grounds.front().y);
+        m_hint->setPos(anchor.x() - r.width() / 2, anchor.y() - 220);
+    }
+    m_applying = false;
+    reroute();
+    markProblem(m_problem);
+}
+
+void SketchScene::markProblem(const std::string &partId)
+{
+    m_problem = partId;
+    PartItem *item = partItem(partId);
+    if (!item) {
+        if (m_problemMark)
+            m_problemMark->hide();
+        return;
+    }
+    if (!m_problemMark) {
+        m_problemMark = addPath(QPainterPath(), QPen(QColor(0xb3, 0x26, 0x1e), 2.0, Qt::DashLine));
+        m_problemMark->setZValue(-2);
+    }
+    QPainterPath ring;
+    ring.addRoundedRect(item->sceneBoundingRect().adjusted(-6, -6, 6, 6), 8, 8);
+    m_problemMark->setPath(ring);
+    m_problemMark->setToolTip(tr("The analysis stops at %1").arg(toQString(partId)));
+    m_problemMark->show();
+}
+
+int SketchScene::groundAt(QPointF scenePos, double radius, QPointF *at) const
+{
+    int found = -1;
+    double best = radius;
+    for (std::size_t i = 0; i < m_grounds.size(); ++i) {
+        const QPointF p = m_grounds[i]->pos() + GroundSymbolItem::pinPosition();
+        const double d = QLineF(p, scenePos).length();
+        if (d <= best) {
+            best = d;
+            found = int(i);
+            if (at)
+                *at = p;
+        }
+    }
+    return found;
+}
+
+std::vector<int> SketchScene::selectedGrounds() const
+{
+    std::vector<int> indices;
+    for (QGraphicsItem *item : selectedItems()) {
+        if (auto *g = qgraphicsitem_cast<GroundSymbolItem *>(item))
+            indices.push_back(g->index());
+    }
+    return indices;
+}
+
+QString SketchScene::hintText() const
+{
+    return m_hint ? m_hint->text() : QString();
+}
+
+void SketchScene::updatePart(const std::string &partId)
+{
+    PartItem *item = partItem(partId);
+    const Part *part = m_design ? m_design->findPart(partId) : nullptr;
+    if (item && part)
+        item->update(*part, item->symbolRotation());
+}
+
+void SketchScene::applyLayout(const SketchLayout &layout)
+{
+    m_layout = layout;
+    m_applying = true;
+    for (auto &[id, item] : m_items) {
+        const auto it = layout.parts.find(id);
+        if (it == layout.parts.end())
+            continue;
+        item->setPos(it->second.x, it->second.y);
+        if (item->symbolRotation() != it->second.rotation && m_design) {
+            if (const Part *part = m_design->findPart(id))
+                item->update(*part, it->second.rotation);
+        }
+    }
+    if (m_design && layout.grounds.size() != m_grounds.size()) {
+        // A symbol added or removed: rebuild (selection and items are cheap here).
+        m_applying = false;
+        rebuild(m_design, layout);
+        return;
+    }
+    for (std::size_t i = 0; i < m_grounds.size(); ++i)
+        m_grounds[i]->setPos(layout.grounds[i].x, layout.grounds[i].y);
+    m_applying = false;
+    reroute();
+}
+
+PartItem *SketchScene::partItem(const std::string &partId) const
+{
+    const auto it = m_items.find(partId);
+    return it == m_items.end() ? nullptr : it->second;
+}
+
+std::string SketchScene::selectedPartId() const
+{
+    const auto items = selectedItems();
+    if (items.size() != 1)
+        return {};
+    auto *item = qgraphicsitem_cast<PartItem *>(items.front());
+    return item ? item->partId() : std::string();
+}
+
+bool SketchScene::pinAt(QPointF scenePos, double radius, std::string *partId, std::string *terminal,
+                        QPointF *at) const
+{
+    double best = radius;
+    bool found = false;
+    for (const auto &[id, item] : m_items) {
+        const SketchPlacement placement{item->pos().x(), item->pos().y(), item->symbolRotation()};
+        for (const PinGeometry &pin : pinGeometry(item->partType())) {
+            const QPointF p = toScene(placement, pin.position);
+            const double d = QLineF(p, scenePos).length();
+            if (d <= best) {
+                best = d;
+                found = true;
+                *partId = id;
+                *terminal = pin.terminal;
+                *at = p;
+            }
+        }
+    }
+    return found;
+}
+
+std::vector<std::string> SketchScene::selectedPartIds() const
+{
+    std::vector<std::string> ids;
+    for (QGraphicsItem *item : selectedItems()) {
+        if (auto *part = qgraphicsitem_cast<PartItem *>(item))
+            ids.push_back(part->partId());
+    }
+    return ids;
+}
+
+void SketchScene::selectPart(const std::string &partId)
+{
+    clearSelection();
+    if (PartItem *item = partItem(partId)) {
+        item->setSelected(true);
+        item->setFocus();
+    }
+}
+
+void SketchScene::partDragged()
+{
+    if (!m_applying)
+        reroute();
+}
+
+void SketchScene::reportMoves()
+{
+    QHash<QString, QPointF> moved;
+    for (const auto &[id, item] : m_items) {
+        const auto it = m_layout.parts.find(id);
+        const QPointF was
+            = it != m_layout.parts.end() ? QPointF(it->second.x, it->second.y) : QPointF();
+        if (item->pos() != was)
+            moved.insert(toQString(id), item->pos());
+    }
+    if (!moved.isEmpty())
+        emit partsMoved(moved);
+}
+
+void SketchScene::reroute()
+{
+    if (!m_design || !m_wires)
+        return;
+    SketchLayout current = m_layout;
+    for (const auto &[id, item] : m_items) {
+        SketchPlacement &p = current.parts[id];
+        p.x = item->pos().x();
+        p.y = item->pos().y();
+        p.rotation = item->symbolRotation();
+    }
+    const SketchWiring wiring = routeWires(*m_design, current);
+    QPainterPath wires;
+    for (const QPolygonF &w : wiring.wires)
+        wires.addPolygon(w);
+    for (const auto &[at, dir] : wiring.grounds) {
+        // A short lead along the pin, then down to three bars.
+        const bool horizontal = std::abs(dir.x()) > 0.5;
+        QPointF p = at;
+        if (horizontal) {
+            const QPointF q = p + dir * 12.0;
+            wires.moveTo(p);
+            wires.lineTo(q);
+            p = q;
+        } else if (dir.y() < 0) {
+            // A ground on a pin that points up is drawn above it, bars facing up.
+            const QPointF q = p + QPointF(0, -12);
+            wires.moveTo(p);
+            wires.lineTo(q);
+            for (int i = 0; i < 3; ++i) {
+                const double half = 10.0 - 3.5 * i;
+                wires.moveTo(q + QPointF(-half, -4.0 * i));
+                wires.lineTo(q + QPointF(half, -4.0 * i));
+            }
+            continue;
+        }
+        const QPointF q = p + QPointF(0, 12);
+        wires.moveTo(p);
+        wires.lineTo(q);
+        for (int i = 0; i < 3; ++i) {
+            const double half = 10.0 - 3.5 * i;
+            wires.moveTo(q + QPointF(-half, 4.0 * i));
+            wires.lineTo(q + QPointF(half, 4.0 * i));
+        }
+    }
+    m_wires->setPath(wires);
+    QPainterPath dots;
+    for (const QPointF &j : wiring.junctions)
+        dots.addEllipse(j, 3.0, 3.0);
+    m_dots->setPath(dots);
+}
+
+} // namespace loopsketch::ui

@@ -1,0 +1,84 @@
+#pragma once
+
+// The Sketch's scene: part symbols, orthogonal wires between pins of one node, ground
+// symbols. It shows the design and reports intent (parts moved); it never edits the model.
+
+#include "loopsketch/design/design.h"
+
+#include <QGraphicsScene>
+#include <QHash>
+#include <QPointF>
+
+#include <map>
+#include <string>
+#include <vector>
+
+class QGraphicsPathItem;
+class QGraphicsSimpleTextItem;
+
+namespace loopsketch::ui {
+
+class PartItem;
+
+class SketchScene : public QGraphicsScene
+{
+    Q_OBJECT
+
+public:
+    explicit SketchScene(QObject *parent = nullptr);
+
+    /// Shows a design laid out as `layout`. The design must outlive the scene's use of it.
+    void rebuild(const Design *design, const SketchLayout &layout);
+    void updatePart(const std::string &partId);
+    void applyLayout(const SketchLayout &layout);
+
+    PartItem *partItem(const std::string &partId) const;
+    /// The id of the single selected part, empty when none or several.
+    std::string selectedPartId() const;
+    void selectPart(const std::string &partId);
+
+    /// The pin nearest `scenePos` within `radius`; false when there is none.
+    bool pinAt(QPointF scenePos, double radius, std::string *partId, std::string *terminal,
+               QPointF *at) const;
+    /// Ids of all selected parts.
+    std::vector<std::string> selectedPartIds() const;
+    /// The free-standing ground symbol whose pin is nearest `scenePos` within `radius`
+    /// (its index in the layout), -1 when there is none.
+    int groundAt(QPointF scenePos, double radius, QPointF *at = nullptr) const;
+    /// Indices of the selected ground symbols.
+    std::vector<int> selectedGrounds() const;
+    /// Rings the part the analysis cannot get past in red; empty removes the mark.
+    void markProblem(const std::string &partId);
+    /// The part marked by markProblem(), empty when none.
+    std::string problemPart() const { return m_problem; }
+    /// The one-line hint shown while the design has no parts; empty when hidden.
+    QString hintText() const;
+
+    // Called by PartItem.
+    void partDragged();
+    void reportMoves();
+
+signals:
+    /// Parts the user dropped at new places (scene coordinates, on the grid).
+    void partsMoved(const QHash<QString, QPointF> &positions);
+    /// The user dragged a value label: step the part's value by `steps` positions.
+    void stepRequested(const std::string &partId, int steps, bool decade);
+    /// The user dropped ground symbol `index` at a new place (scene coordinates).
+    void groundMoved(int index, QPointF position);
+
+private:
+    void reroute();
+
+    const Design *m_design = nullptr;
+    SketchLayout m_layout;
+    std::map<std::string, PartItem *> m_items;
+    QGraphicsPathItem *m_wires = nullptr;
+    QGraphicsPathItem *m_dots = nullptr;
+    std::vector<QGraphicsItem *> m_grounds;
+    QGraphicsSimpleTextItem *m_hint = nullptr;
+    QGraphicsPathItem *m_problemMark = nullptr;
+    std::string m_problem;
+    bool m_applying = false;
+};
+
+} // namespace loopsketch::ui

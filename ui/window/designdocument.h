@@ -1,0 +1,189 @@
+#pragma once
+
+// The document/controller: owns the one Design (the single source of truth), the one
+// QUndoStack and the latest Analysis. Every edit goes through an undoable command; every
+// change schedules exactly one recomputation on a coalescing timer.
+
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/design.h"
+
+#include <QObject>
+#include <QString>
+#include <QStringList>
+#include <QTimer>
+#include <QUndoStack>
+
+#include <map>
+#include <optional>
+#include <utility>
+
+namespace loopsketch::ui {
+
+/// The design with a candidate's values on the parts' primary fields (the rule of
+/// `loopsketch analyze --candidate`); `problem` names a part the candidate cannot change.
+Design designWithCandidate(const Design &design, const Candidate &candidate,
+                           QString *problem = nullptr);
+
+class DesignDocument : public QObject
+{
+    Q_OBJECT
+
+public:
+    explicit DesignDocument(QObject *parent = nullptr);
+
+    const Design &design() const { return m_design; }
+    /// The latest successful analysis; nullptr before the first one.
+    const Analysis *analysis() const { return m_analysis ? &*m_analysis : nullptr; }
+    QUndoStack *undoStack() { return &m_undoStack; }
+
+    /// Replaces the design (open, new): clears the undo history and recomputes at once.
+    void reset(Design design, const QString &filePath);
+    /// A design with no parts: one ground symbol on the Sketch, default sweep, no specs.
+    static Design blankDesign();
+    QString filePath() const { return m_filePath; }
+    bool isModified() const { return !m_undoStack.isClean(); }
+    /// Atomic save through core; on failure `error` says why and nothing changes. A design
+    /// whose text the loader would refuse is never written (the reason names part and field).
+    bool save(const QString &path, QString *error);
+
+    /// The sketch positions in use: the stored layout, or the automatic one.
+    const SketchLayout &layout() const { return m_layout; }
+
+    // Edits, each one undoable command.
+    /// Steps the primary value of `partId` through its E-series (E24 when it has none);
+    /// `decade` steps by a whole decade. Consecutive steps of one part merge into one undo
+    /// step while they come in a burst. Returns false when the part has no primary value.
+    bool stepPart(const std::string &partId, int steps, bool decade);
+    /// Sets a numeric field from text; on a parse error `error` holds the message and the
+    /// design keeps its last valid value.
+    bool setFieldText(const std::string &partId, const std::string &field, const QString &text,
+                      QString *error);
+    void setSeries(const std::string &partId, std::optional<ESeries> series);
+    /// Sets the gain block's "poles_hz" or "zeros_hz" from text such as "10, 40M"; on a
+    /// parse error `error` names the entry and nothing changes.
+    bool setFrequencyListText(const std::string &partId, const std::string &list,
+                              const QString &text, QString *error);
+    /// Generic gain-block presets with neutral names (no real device is modelled).
+    static QStringList gainBlockPresets();
+    /// The preset whose values the gain block has now (index into gainBlockPresets()), -1
+    /// when its values are its own ("custom").
+    int gainBlockPresetInEffect(const std::string &partId) const;
+    /// Applies preset `index` of gainBlockPresets() as one undo step.
+    void applyGainBlockPreset(const std::string &partId, int index);
+    bool setToleranceText(const std::string &partId, const QString &text, QString *error);
+    /// Sets the primary values (SI) of several parts, and their series when `series` is
+    /// given, as one undo step named `text` (a suggestion applied).
+    void applyValues(const std::vector<std::pair<std::string, double>> &values,
+                     std::optional<ESeries> series, const QString &text);
+    /// Moves parts to new sketch positions (scene units), one undo step for all of them.
+    void moveParts(const std::map<std::string, std::pair<double, double>> &positions);
+    /// Turns a part's symbol by 90 degrees clockwise.
+    void rotatePart(const std::string &partId);
+
+    // Structural edits (parts and connections), each one undoable step.
+    /// Adds a part of `type` with fresh, unconnected nodes at a free place near (x, y);
+    /// returns its id.
+    std::string addPart(PartType type, double x, double y);
+    /// Removes parts; a removed signal source leaves the design invalid until a new one is
+    /// chosen, which the diagnostics say.
+    void removeParts(const std::vector<std::string> &partIds);
+    /// Joins the nodes on two pins: the ground node wins, else the node with more pins
+    /// keeps its name. False when they already share a node.
+    bool connectPins(const std::string &partA, const std::string &terminalA,
+                     const std::string &partB, const std::string &terminalB);
+    /// Puts one pin on the ground node.
+    bool groundPin(const std::string &partId, const std::string &terminal);
+    /// Places a free-standing ground symbol at (x, y) (scene units, snapped to the grid).
+    void addGround(double x, double y);
+    /// Moves ground symbol `index` of the layout; false when there is no such symbol.
+    bool moveGround(int index, double x, double y);
+    /// Removes ground symbols by index (the pins on ground stay on ground).
+    void removeGrounds(const std::vector<int> &indices);
+    /// Renames a part and everything that names it (candidates, the input, the layout), as
+    /// one undo step. False with `error` set when the new id is invalid or taken.
+    bool renamePart(const std::string &from, const std::string &to, QString *error);
+    /// Replaces the design-wide properties (title, notes, input, output, sweep, specs,
+    /// temperature) of `after`, one undo step named `text`; the parts are not touched.
+    void setProperties(const Design &after, const QString &text);
+
+    // Candidates (design file key `candidates`), each edit one undo step.
+    /// "Candidate N" with the smallest N >= 1 that no candidate uses yet.
+    QString nextCandidateName() const;
+    /// Why `name` cannot name a candidate (empty, already used); empty when it can.
+    /// `ignore` is a name that may be reused (the one being renamed).
+    QString candidateNameProblem(const QString &name, const QString &ignore = {}) const;
+    /// Stores the value of every resistor, capacitor and inductor under `name` (trimmed).
+    /// The load is left out: it is the circuit's surroundings, not a design choice, so
+    /// making a candidate current later does not undo a change of the load. False with
+    /// `error` set when the name is empty or taken, or there is no such part.
+    bool pinCandidate(const QString &name, QString *error);
+    bool renameCandidate(const QString &from, const QString &to, QString *error);
+    bool deleteCandidate(const QString &name);
+    /// Applies the candidate's values to the parts, one undo step. False with `error` set
+    /// when there is no such candidate or the design already has its values.
+    bool makeCandidateCurrent(const QString &name, QString *error);
+
+    /// Runs the pending recomputation now (tests, benchmarks).
+    void recomputeNow();
+    /// Why the design cannot be analysed now; empty when the analysis is current.
+    QString unavailableReason() const { return m_analysis ? QString() : m_diagnostics; }
+    /// Milliseconds of the last core analyze() call.
+    double lastAnalysisMs() const { return m_lastAnalysisMs; }
+    QString lastDiagnostics() const { return m_diagnostics; }
+
+    // Used by the commands only.
+    /// nullopt removes the field (its default applies).
+    void applyField(const std::string &partId, const std::string &field,
+                    const std::optional<Value> &value);
+    void applySeries(const std::string &partId, std::optional<ESeries> series);
+    void applyTolerance(const std::string &partId, std::optional<Value> tolerance);
+    void applySketch(const std::optional<SketchLayout> &sketch);
+    /// Replaces the whole design (structural edits and their undo).
+    void applyDesign(const Design &design);
+    void applyFrequencyList(const std::string &partId, const std::string &list,
+                            const std::vector<Value> &values);
+    void applyCandidates(const std::vector<Candidate> &candidates);
+
+signals:
+    /// The design was replaced (open, new): views rebuild.
+    void designReset();
+    /// One part's fields changed (values, series, tolerance).
+    void partChanged(const QString &partId);
+    /// Sketch positions changed.
+    void layoutChanged();
+    /// Parts were added, removed or reconnected: the Sketch rebuilds (the history stays).
+    void structureChanged();
+    void analysisChanged(const loopsketch::Analysis &analysis);
+    /// The design cannot be analysed: every view drops its numbers and shows `reason`.
+    /// `partId` names the offending part when the reason names one.
+    void analysisUnavailable(const QString &reason, const QString &partId);
+    /// Something changed as a consequence of an edit (a candidate emptied by a deletion and
+    /// removed, the input chosen): one line for the status bar.
+    void noticeIssued(const QString &text);
+    /// Analysis failed or succeeded; empty text when there is nothing to report.
+    void diagnosticsChanged(const QString &text);
+    void filePathChanged(const QString &path);
+    /// The candidate list changed (pin, rename, delete and their undo); the analysis of the
+    /// design itself does not depend on it, so no recomputation follows.
+    void candidatesChanged();
+
+private:
+    void scheduleRecompute();
+    void recompute();
+    void rebuildLayout();
+    void pushDesign(Design after, const QString &text);
+    /// Keeps what names parts consistent with the parts (candidates, input) after a
+    /// structural edit; returns notices for the user.
+    QStringList tidy(Design &design) const;
+
+    Design m_design;
+    std::optional<Analysis> m_analysis;
+    SketchLayout m_layout;
+    QUndoStack m_undoStack;
+    QTimer m_recomputeTimer;
+    QString m_filePath;
+    QString m_diagnostics;
+    double m_lastAnalysisMs = 0.0;
+};
+
+} // namespace loopsketch::ui
