@@ -1,6 +1,6 @@
 #include "loopsketch/circuit/netlist.h"
 
-#include "loopsketch/design.h"
+#include "loopsketch/design/design.h"
 
 #include <algorithm>
 #include <cmath>
