@@ -531,3 +531,40 @@ TEST(ReducedSystem, NaturalFrequenciesMatchFullPencil)
         EXPECT_LT(p.real(), 0.0); // passive RLC: stable
     }
 }
+
+// Kirchhoff's current law (common practice): a subnetwork that meets the rest only through
+// a current source and a controlled source's input has no path to ground, whatever its
+// values; a capacitor, an inductor and a voltage source are paths, a zero capacitance and
+// a controlled source's input are not.
+TEST(Circuit, NodesWithoutGroundAreFoundFromTheConnections)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addCurrentSource("I1", "a", "0", in);
+    n.addCapacitor("C1", "a", "b", 1e-9);
+    n.addResistor("R1", "b", "p", 1e3);
+    n.addCapacitor("C0", "p", "0", 0.0);
+    ControlledSourceElement e;
+    e.inP = "p";
+    e.inN = "q";
+    e.out = "o";
+    n.controlled.push_back(e);
+    n.addInductor("L1", "q", "0", 1e-3);
+    n.addResistor("RO", "o", "r", 1e3);
+    EXPECT_EQ(nodesWithoutGround(n), (std::vector<std::string>{"a", "b", "p"}));
+    n.addVoltageSource("V1", "p", "0", -1);
+    EXPECT_TRUE(nodesWithoutGround(n).empty());
+}
+
+// Definition (a matrix with a zero column has determinant 0): diag(1, 0) is singular. Eigen's
+// condition estimate reads it as perfectly conditioned (rcond 1), so a test on the estimate
+// alone let the step model eliminate through a zero pivot and fill the response with NaN.
+TEST(Circuit, ExactlyZeroPivotIsSingular)
+{
+    Eigen::MatrixXd real = Eigen::MatrixXd::Zero(2, 2);
+    real(0, 0) = -3.6e8;
+    EXPECT_TRUE(isSingular(real));
+    EXPECT_TRUE(isSingular(Eigen::MatrixXcd(real.cast<std::complex<double>>())));
+    real(1, 1) = 1e-3;
+    EXPECT_FALSE(isSingular(real));
+}

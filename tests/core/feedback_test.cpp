@@ -1312,3 +1312,65 @@ TEST(FeedbackFuzzFound, SourceDrivingBothInputsHasNoTwoPortForm)
         << a.topologyReason;
     EXPECT_FALSE(a.twoPort.has_value());
 }
+
+// Kirchhoff's current law (common practice): a feedback network that touches ground nowhere
+// (here RF alone, from the load's return to the inverting input) cannot return a port
+// current, so its z parameters are infinite and the two-port estimate does not exist. Before
+// the fix the parameters came out of a nearly singular solve as round-off (about -2.7e20 Ω
+// for such a network), and every curve of the estimate was NaN beside a DC summary.
+TEST(FeedbackFuzzFound, NetworkWithoutGroundHasNoTwoPortEstimate)
+{
+    const Part rf = [] {
+        auto d = parseDesign(designText(
+                                 R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": 1e4, "r_out": "100"},
+           {"id": "LD", "type": "load", "a": "out", "b": "ret", "r": "1k"},
+           {"id": "RF", "type": "resistor", "a": "ret", "b": "fb", "value": "100G"})"),
+                             "generated");
+        EXPECT_TRUE(d.ok()) << d.errorText();
+        return d.ok() ? *d->findPart("RF") : Part{};
+    }();
+    auto network = TwoPortNetwork::build({rf}, "fb", "ret", ParameterSet::Z);
+    ASSERT_FALSE(network.ok());
+    EXPECT_THAT(network.errorText(), HasSubstr("no path to ground"));
+
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": 1e4, "r_out": "100"},
+           {"id": "LD", "type": "load", "a": "out", "b": "ret", "r": "1k"},
+           {"id": "RF", "type": "resistor", "a": "ret", "b": "fb", "value": "100G"})"));
+    const Analysis a = analyzeOrFail(d);
+    ASSERT_TRUE(a.topology.has_value()) << a.topologyReason;
+    EXPECT_EQ(a.topology->name(), "series-series");
+    EXPECT_FALSE(a.twoPort.has_value());
+    EXPECT_THAT(a.twoPortProblem, HasSubstr("no path to ground"));
+    for (const cd v : a.curves.a)
+        EXPECT_TRUE(std::isnan(v.real()));
+}
+
+// Kirchhoff's current law (common practice): a current source that reaches the gain block
+// only through a chain of series capacitors and resistors into an ideal input (no r_in, c_in
+// or c_cm) drives no current into the chain: z_in is infinite at every frequency. The design
+// is the fuzzer's seed 91 (tests/data/fuzz-found). Before the fix the input's system, singular
+// at every frequency, was solved anyway: z_in read about 1e20 Ω at some frequencies and NaN
+// at 47 of 124.
+TEST(FeedbackFuzzFound, InputLeadingOnlyIntoAnIdealInputHasNoFiniteImpedance)
+{
+    auto d = loadDesign(std::string(LOOPSKETCH_TEST_DATA_DIR)
+                        + "/fuzz-found/z-in-round-off-for-open-input.loopsketch");
+    ASSERT_TRUE(d.ok()) << d.errorText();
+    const Analysis a = analyzeOrFail(*d);
+    EXPECT_TRUE(!a.exact.zIn || (std::isinf(*a.exact.zIn) && *a.exact.zIn > 0));
+    const auto infinite = [](cd v) {
+        return std::isinf(v.real()) && v.real() > 0;
+    };
+    const auto missing = [](cd v) {
+        return std::isnan(v.real());
+    };
+    const auto &z = a.curves.zInExact;
+    EXPECT_TRUE(std::all_of(z.begin(), z.end(), infinite)
+                || std::all_of(z.begin(), z.end(), missing));
+    const auto &zr = a.curves.zInReturnRatio;
+    EXPECT_TRUE(std::all_of(zr.begin(), zr.end(), infinite)
+                || std::all_of(zr.begin(), zr.end(), missing));
+}

@@ -474,3 +474,74 @@ TEST(Stability, TrialMetricsCarryTheVerdict)
     EXPECT_TRUE(s->stable);
     EXPECT_TRUE(checkSpecs(none, stableDesign.sweep, *s).all());
 }
+
+namespace {
+
+Analysis analyzeFuzzFound(const std::string &name)
+{
+    auto d = loadDesign(std::string(LOOPSKETCH_TEST_DATA_DIR) + "/fuzz-found/" + name);
+    EXPECT_TRUE(d.ok()) << d.errorText();
+    if (!d.ok())
+        return {};
+    auto a = analyze(*d);
+    EXPECT_TRUE(a.ok()) << a.errorText();
+    return a.ok() ? *a : Analysis{};
+}
+
+} // namespace
+
+// Common practice (no number may be shown that the model cannot back): on designs the
+// fuzzer found, a stable loop's step response is either finite at every point with its
+// metrics, or absent with the reason said. Before the fix the first showed NaN from its
+// first point (a zero pivot Eigen's condition estimate reads as 1, in a higher-index
+// circuit), the second ran off to -9e26 and NaN after 1 s (the matrix exponential of a loop
+// with modes from 0.6 to 1.6e11 rad/s), the third NaN from its 110th point; the metrics
+// beside them read "overshoot 0 %, settled at 0 s".
+TEST(StepFuzzFound, ResponseIsFiniteOrAbsentWithAReason)
+{
+    for (const char *name :
+         {"step-capacitance-across-ideal-source.loopsketch",
+          "step-stiff-over-long-times.loopsketch", "step-swing-beyond-resolution.loopsketch",
+          "metrics-step-response-not-finite.loopsketch"}) {
+        SCOPED_TRACE(name);
+        const Analysis a = analyzeFuzzFound(name);
+        ASSERT_TRUE(a.stable);
+        const StepResult &s = a.step;
+        if (s.response.empty()) {
+            EXPECT_FALSE(s.problem.empty());
+            EXPECT_FALSE(s.riseTimeS || s.overshootPct || s.settlingTimeS);
+            continue;
+        }
+        EXPECT_TRUE(s.problem.empty()) << s.problem;
+        for (std::size_t i = 0; i < s.response.size(); ++i)
+            ASSERT_TRUE(std::isfinite(s.response[i]) && std::isfinite(s.timeS[i])) << i;
+    }
+    // A capacitance straight across the ideal source: said so.
+    EXPECT_THAT(analyzeFuzzFound("step-capacitance-across-ideal-source.loopsketch").step.problem,
+                HasSubstr("higher-index"));
+}
+
+// Definition of the natural frequencies (common practice): the step model's modes are the
+// closed-loop poles, which analyze() finds apart from it (generalized eigenvalues of the
+// loop's pencil). The design is the fuzzer's seed 381: modes from 1.3e5 to 5.2e11 rad/s.
+// Before the fix the step model mixed states of every scale in one rotation and put the
+// complex pair at -115113 ± j1.0668e7 rad/s against the poles' -125987 ± j1.0669e7 (9 %).
+TEST(StepFuzzFound, StiffStepModelKeepsTheClosedLoopPoles)
+{
+    auto d = loadDesign(std::string(LOOPSKETCH_TEST_DATA_DIR)
+                        + "/fuzz-found/step-swing-beyond-resolution.loopsketch");
+    ASSERT_TRUE(d.ok()) << d.errorText();
+    auto model = LoopModel::build(*d);
+    ASSERT_TRUE(model.ok()) << model.errorText();
+    auto step = model->stepModel();
+    ASSERT_TRUE(step.ok()) << step.errorText();
+    const std::vector<std::complex<double>> poles = model->closedLoopPoles();
+    const std::vector<std::complex<double>> modes = step->modes();
+    ASSERT_EQ(modes.size(), poles.size());
+    for (const std::complex<double> &p : poles) {
+        double nearest = INFINITY;
+        for (const std::complex<double> &m : modes)
+            nearest = std::min(nearest, std::abs(m - p) / std::abs(p));
+        EXPECT_LT(nearest, 1e-6) << p;
+    }
+}

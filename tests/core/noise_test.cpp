@@ -657,3 +657,49 @@ TEST(Noise, CommonModeCapacitanceAtAGroundedInputActsLikeInputCapacitance)
     EXPECT_GT(std::abs(c->curves.inputLoading[top] - b->curves.inputLoading[top]),
               1e-3 * std::abs(b->curves.inputLoading[top]));
 }
+
+// Definition of input-referred noise (output density over |gain|, common practice): where
+// the signal never reaches the output the gain is zero and there is nothing to refer the
+// noise to. Two designs of the fuzzer whose gain is zero in truth and round-off in the
+// solve: seed 260 (a current source whose load current has no return) and seed 374 (the
+// output held at 0 V by a gain block following ground). Before the fix the input-referred
+// density was NaN at the sweep frequencies where the round-off happened to be an exact 0
+// and up to 1e25 V/sqrt(Hz) elsewhere, and an input-referred rms was formed from it.
+TEST(NoiseFuzzFound, ZeroGainHasNoInputReferredNoise)
+{
+    for (const char *name : {"noise-input-density-not-finite.loopsketch",
+                             "noise-zero-gain-from-an-ideal-follower-of-ground.loopsketch"}) {
+        SCOPED_TRACE(name);
+        auto d = loadDesign(std::string(LOOPSKETCH_TEST_DATA_DIR) + "/fuzz-found/" + name);
+        ASSERT_TRUE(d.ok()) << d.errorText();
+        auto a = analyze(*d);
+        ASSERT_TRUE(a.ok()) << a.errorText();
+        ASSERT_TRUE(a->noise.has_value()) << a->noiseProblem;
+        const NoiseAnalysis &n = *a->noise;
+        EXPECT_THAT(n.inputProblem, HasSubstr("does not reach the output"));
+        EXPECT_FALSE(n.inputRms.has_value());
+        for (std::size_t i = 0; i < n.inputDensity.size(); ++i) {
+            EXPECT_TRUE(std::isnan(n.inputDensity[i])) << n.frequenciesHz[i];
+            EXPECT_TRUE(std::isfinite(n.outputDensity[i])) << n.frequenciesHz[i];
+        }
+        const std::string json = analysisToJson(*a);
+        EXPECT_THAT(json, HasSubstr("\"input_problem\": \"the closed-loop gain is zero"));
+        if (a->stable) { // an unstable loop's text says "none (unstable)" instead
+            EXPECT_THAT(analysisToText(*a), HasSubstr("no input-referred noise"));
+        }
+    }
+}
+
+// Common practice: an ordinary loop (the demo) has its input-referred figures and no reason
+// against them.
+TEST(NoiseFuzzFound, OrdinaryLoopKeepsItsInputReferredNoise)
+{
+    auto d = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
+    ASSERT_TRUE(d.ok()) << d.errorText();
+    auto a = analyze(*d);
+    ASSERT_TRUE(a.ok() && a->noise) << a.errorText();
+    EXPECT_TRUE(a->noise->inputProblem.empty()) << a->noise->inputProblem;
+    EXPECT_TRUE(a->noise->inputRms.has_value());
+    for (double v : a->noise->inputDensity)
+        EXPECT_TRUE(std::isfinite(v) && v > 0);
+}

@@ -254,9 +254,17 @@ void checkScalars(const Analysis &a, Checker &c)
         c.number("noise.band_high_hz", n.bandHighHz);
         for (const auto &[name, v] : {std::pair{"noise.output_density", &n.outputDensity},
                                       {"noise.input_density", &n.inputDensity},
-                                      {"noise.noise_gain", &n.noiseGain}})
+                                      {"noise.noise_gain", &n.noiseGain}}) {
+            // The input-referred density may be missing as a whole, and then only with the
+            // reason beside it and no input-referred rms (the curve rule of checkCurves).
+            if (v == &n.inputDensity && !n.inputProblem.empty() && !n.inputRms
+                && std::all_of(v->begin(), v->end(), [](double x) { return std::isnan(x); }))
+                continue;
             if (std::any_of(v->begin(), v->end(), [](double x) { return !std::isfinite(x); }))
                 c.fail("nan-curve", std::string(name) + " has a value that is not finite");
+        }
+        if (!n.inputProblem.empty() && n.inputRms)
+            c.fail("no-reason", "noise: an input-referred rms beside a reason it has none");
         for (const NoiseContribution &k : n.contributions)
             if (k.rms)
                 c.number("noise." + k.name + ".rms", *k.rms);

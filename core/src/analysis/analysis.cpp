@@ -261,6 +261,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         if (auto step = model.stepModel())
             a.step = computeStep(*step, a.poles, a.bandwidthHz, *a.exact.gain,
                                  design.settlingBandFraction());
+        else
+            a.step.problem = step.diagnostics().front().message;
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = computeSensitivity(design, *a.exact.gain);

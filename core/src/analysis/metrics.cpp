@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <limits>
 #include <numbers>
 #include <string>
@@ -389,6 +390,33 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
         dt *= 2.0;
     }
     const std::vector<double> y = model.sample(t);
+    // The grid runs on until every mode has decayed, so its last value is the final value
+    // up to round-off of the largest swing; anything else (a stiff propagator that lost its
+    // accuracy over long times) makes every metric untrustworthy: none is reported.
+    {
+        double swing = std::abs(finalValue);
+        bool finite = true;
+        for (double v : y) {
+            finite = finite && std::isfinite(v);
+            swing = std::max(swing, std::abs(v));
+        }
+        if (!finite || !(std::abs(y.back() - finalValue) <= 1e-6 * swing)) {
+            r.problem = "the step response could not be computed accurately on this stiff "
+                        "loop (its time-domain model does not settle to the DC gain)";
+            return r;
+        }
+        // Round-off of the largest swing (about 1e-10 of it, with the cancellation between
+        // modes) must stay well inside the settling band, or rise, overshoot and settling
+        // would be read off round-off.
+        if (!(1e-10 * swing <= 0.1 * band * std::abs(finalValue))) {
+            char ratio[32];
+            std::snprintf(ratio, sizeof ratio, "%.2g", swing / std::abs(finalValue));
+            r.problem = std::string("the step response swings to ") + ratio
+                + " times its final value: the metrics cannot be resolved within the "
+                  "settling band";
+            return r;
+        }
+    }
     const auto normalised = [&](double time) {
         return model.valueAt(time) / finalValue;
     };

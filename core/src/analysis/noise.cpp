@@ -180,6 +180,15 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
     }
     result.gain = std::move(grid.gain);
     result.noiseGain = std::move(grid.noiseGain);
+    // A rational gain that is not zero vanishes on the jw axis only at its own zeros, which
+    // a sweep grid does not hit exactly; an exact 0 at a sweep frequency means the signal
+    // never reaches the output (no path, or one that cancels to nothing), and the values
+    // beside it are round-off of that zero, not a gain to refer the noise through.
+    const bool gainIsZero = std::any_of(result.gain.begin(), result.gain.end(),
+                                        [](std::complex<double> g) { return g == 0.0; });
+    if (gainIsZero)
+        result.inputProblem = "the closed-loop gain is zero (the signal source does not reach "
+                              "the output), so there is no input-referred noise";
     result.outputDensity.resize(count);
     result.inputDensity.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
@@ -189,7 +198,7 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
         result.outputDensity[i] = std::sqrt(total);
         const double g = std::sqrt(std::norm(result.gain[i]));
         result.inputDensity[i]
-            = g > 0 ? result.outputDensity[i] / g : std::numeric_limits<double>::quiet_NaN();
+            = gainIsZero ? std::numeric_limits<double>::quiet_NaN() : result.outputDensity[i] / g;
     }
 
     // The densities of every source on the model, for the band integrals.
@@ -278,18 +287,22 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
         if (!at.ok)
             return noSolution(model, at.failedAtHz);
         const double g = std::abs(at.gain.front());
-        if (g > 0)
+        if (g > 0 && !gainIsZero)
             result.inputRms = *result.outputRms / g;
+        else if (result.inputProblem.empty())
+            result.inputProblem = "the closed-loop gain is zero at "
+                + frequencyText(result.inputGainHz) + ", so there is no input-referred noise";
     }
-    result.bandMethod
-        += "; input-referred rms = output rms / |gain| at " + frequencyText(result.inputGainHz);
+    if (result.inputProblem.empty())
+        result.bandMethod
+            += "; input-referred rms = output rms / |gain| at " + frequencyText(result.inputGainHz);
 
     // The brick-wall equivalent, for comparison with the older figure.
     std::optional<double> bw = options.closedLoopBandwidthHz;
     if (!bw)
         bw = bandwidthFromGain(hz, result.gain);
     const double gain0 = std::abs(result.gain.front());
-    if (bw && *bw > 0 && gain0 > 0) {
+    if (bw && *bw > 0 && gain0 > 0 && !gainIsZero) {
         BrickWallNoise brick;
         brick.highHz = std::numbers::pi / 2.0 * *bw;
         const DensityColumns inputReferred

@@ -411,6 +411,11 @@ bool isSingular(const Eigen::MatrixXcd &a)
     if (a.rows() == 0)
         return false;
     Eigen::PartialPivLU<Eigen::MatrixXcd> lu(equilibrated(a));
+    // Eigen's estimate reads an exactly zero pivot as well conditioned (rcond 1 for
+    // diag(1, 0)): look at the pivots first.
+    const auto pivots = lu.matrixLU().diagonal().cwiseAbs();
+    if (!(pivots.minCoeff() > 0) || !pivots.allFinite())
+        return true;
     return !(lu.rcond() > kMinReciprocalCondition);
 }
 
@@ -431,6 +436,9 @@ bool isSingular(const Eigen::MatrixXd &a)
             m.col(j) /= c;
     }
     Eigen::PartialPivLU<Eigen::MatrixXd> lu(m);
+    const auto pivots = lu.matrixLU().diagonal().cwiseAbs();
+    if (!(pivots.minCoeff() > 0) || !pivots.allFinite())
+        return true;
     return !(lu.rcond() > kMinReciprocalCondition);
 }
 

@@ -17,6 +17,101 @@ namespace {
 
 using Index = Eigen::Index;
 
+/// Balances A by a diagonal similarity of powers of two (Osborne's iteration, as in
+/// Parlett and Reinsch, "Balancing a matrix for calculation of eigenvalues and
+/// eigenvectors", Numer. Math. 13, 1969): each state's row and column get comparable norms.
+/// Returns the scale of each state (state = scale x balanced state). A stiff loop's state
+/// space comes out of the reduction with entries from 1e-20 to 1e20; balanced, its norm
+/// falls by many orders, and the matrix exponential and the eigenvalues, whose errors
+/// grow with that norm, keep their accuracy.
+Eigen::VectorXd balance(Eigen::MatrixXd &a)
+{
+    const Index n = a.rows();
+    Eigen::VectorXd d = Eigen::VectorXd::Ones(n);
+    bool done = false;
+    for (int sweep = 0; sweep < 100 && !done; ++sweep) {
+        done = true;
+        for (Index i = 0; i < n; ++i) {
+            double c = a.col(i).cwiseAbs().sum() - std::abs(a(i, i));
+            double r = a.row(i).cwiseAbs().sum() - std::abs(a(i, i));
+            if (!(c > 0) || !(r > 0) || !std::isfinite(c) || !std::isfinite(r))
+                continue;
+            const double total = c + r;
+            double f = 1.0;
+            while (c < r / 2.0) {
+                f *= 2.0;
+                c *= 4.0;
+            }
+            while (c >= r * 2.0) {
+                f /= 2.0;
+                c /= 4.0;
+            }
+            if ((c + r) / f < 0.95 * total) {
+                done = false;
+                d(i) *= f;
+                a.row(i) /= f;
+                a.col(i) *= f;
+            }
+        }
+    }
+    return d;
+}
+
+/// The proper state space by a permutation alone: the states are the unknowns with a
+/// reactive entry in their column, the differential equations the rows with one in their
+/// row; the rest (index 1) is eliminated. No rotation mixes a node voltage with a
+/// gain-block state of another scale, so nothing cancels. False when those rows and
+/// columns do not form a well-conditioned square block (a loop of capacitors, for one).
+bool splitByPermutation(const Eigen::MatrixXd &g, const Eigen::MatrixXd &c,
+                        const Eigen::MatrixXd &b, const Eigen::MatrixXd &l, double d0,
+                        Eigen::MatrixXd &a, Eigen::VectorXd &bOut, Eigen::RowVectorXd &cOut,
+                        double &dOut)
+{
+    const Index k = g.rows();
+    std::vector<Index> rows, cols, restRows, restCols;
+    for (Index i = 0; i < k; ++i) {
+        (c.row(i).cwiseAbs().maxCoeff() > 0 ? rows : restRows).push_back(i);
+        (c.col(i).cwiseAbs().maxCoeff() > 0 ? cols : restCols).push_back(i);
+    }
+    if (rows.size() != cols.size() || rows.empty())
+        return false;
+    const auto n = static_cast<Index>(rows.size()), q = k - n;
+    const auto pick = [](const Eigen::MatrixXd &m, const std::vector<Index> &r,
+                         const std::vector<Index> &cc) {
+        Eigen::MatrixXd out(static_cast<Index>(r.size()), static_cast<Index>(cc.size()));
+        for (Index i = 0; i < out.rows(); ++i)
+            for (Index j = 0; j < out.cols(); ++j)
+                out(i, j) = m(r[static_cast<std::size_t>(i)], cc[static_cast<std::size_t>(j)]);
+        return out;
+    };
+    const Eigen::MatrixXd c11 = pick(c, rows, cols);
+    if (isSingular(c11))
+        return false;
+    Eigen::MatrixXd g11 = pick(g, rows, cols);
+    Eigen::VectorXd b1 = pick(b, rows, {0});
+    Eigen::RowVectorXd l1 = pick(l, {0}, cols);
+    dOut = d0;
+    if (q > 0) {
+        const Eigen::MatrixXd g22 = pick(g, restRows, restCols);
+        if (isSingular(g22))
+            return false;
+        Eigen::PartialPivLU<Eigen::MatrixXd> lu(g22);
+        const Eigen::MatrixXd g12 = pick(g, rows, restCols);
+        const Eigen::MatrixXd x21 = lu.solve(pick(g, restRows, cols));
+        const Eigen::VectorXd xb2 = lu.solve(pick(b, restRows, {0}));
+        const Eigen::RowVectorXd l2 = pick(l, {0}, restCols);
+        g11 -= g12 * x21;
+        b1 -= g12 * xb2;
+        dOut += l2.dot(xb2);
+        l1 -= l2 * x21;
+    }
+    Eigen::PartialPivLU<Eigen::MatrixXd> lu(c11);
+    a = -lu.solve(g11);
+    bOut = lu.solve(b1);
+    cOut = l1;
+    return a.allFinite() && bOut.allFinite() && cOut.allFinite() && std::isfinite(dOut);
+}
+
 } // namespace
 
 Result<StepModel> StepModel::build(const ReducedSystem &system, int output, int input)
@@ -26,6 +121,22 @@ Result<StepModel> StepModel::build(const ReducedSystem &system, int output, int 
     m.m_d = system.dr()(output, input);
     if (k == 0)
         return m;
+    {
+        Eigen::MatrixXd a;
+        Eigen::VectorXd b;
+        Eigen::RowVectorXd c;
+        double d = 0;
+        if (splitByPermutation(system.gr(), system.cr(), system.br().col(input),
+                               system.lr().row(output), m.m_d, a, b, c, d)) {
+            const Eigen::VectorXd scale = balance(a);
+            m.m_a = a;
+            m.m_b = scale.cwiseInverse().asDiagonal() * b;
+            m.m_c = c * scale.asDiagonal();
+            m.m_d = d;
+            m.prepareModes();
+            return m;
+        }
+    }
     // Split Cr = U S V^T into its dynamic (rank r) and algebraic parts; eliminating the
     // algebraic part (index 1) leaves the proper state space.
     const Eigen::VectorXd scale = detail::rowScales(system.gr(), system.cr());
@@ -51,8 +162,10 @@ Result<StepModel> StepModel::build(const ReducedSystem &system, int output, int 
             return Diagnostic{{},
                               {},
                               {},
-                              "the step response is not defined: the circuit has "
-                              "an impulsive (higher-index) mode"};
+                              "the step response is not computed: the circuit has a "
+                              "higher-index mode (a capacitance straight across an ideal "
+                              "source, for one), which this time-domain model does not "
+                              "handle"};
         const Eigen::VectorXd xb2 = lu.solve(bh.tail(q));
         m.m_d += lh.tail(q).dot(xb2);
         if (rank > 0) { // Eigen's solve must not see an empty right-hand side (UBSan)
@@ -64,9 +177,52 @@ Result<StepModel> StepModel::build(const ReducedSystem &system, int output, int 
     }
     const Eigen::VectorXd sInv = sv.head(rank).cwiseInverse();
     m.m_a = -(sInv.asDiagonal() * a);
-    m.m_b = sInv.asDiagonal() * b;
-    m.m_c = c;
+    const Eigen::VectorXd d = balance(m.m_a);
+    m.m_b = d.cwiseInverse().asDiagonal() * (sInv.asDiagonal() * b);
+    m.m_c = c * d.asDiagonal();
+    m.prepareModes();
     return m;
+}
+
+void StepModel::prepareModes()
+{
+    using Complex = std::complex<double>;
+    const Index r = m_a.rows();
+    if (r == 0 || !m_a.allFinite())
+        return;
+    Eigen::EigenSolver<Eigen::MatrixXd> es(m_a, true);
+    if (es.info() != Eigen::Success)
+        return;
+    const Eigen::VectorXcd lambda = es.eigenvalues();
+    const Eigen::MatrixXcd v = es.eigenvectors();
+    const double largest = lambda.cwiseAbs().maxCoeff();
+    if (!(lambda.cwiseAbs().minCoeff() > 1e-13 * largest))
+        return; // a mode at the origin: the exponential handles it
+    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(v);
+    // Residues through V^-1 lose about 1/rcond(V) of their accuracy: keep the modal form
+    // only where that stays near 1e-8.
+    if (!(lu.rcond() > 1e-8))
+        return;
+    const Eigen::VectorXcd vb = lu.solve(m_b.cast<Complex>());
+    const Eigen::RowVectorXcd cv = m_c.cast<Complex>() * v;
+    const double final = finalValue();
+    if (!std::isfinite(final) || !vb.allFinite() || !cv.allFinite())
+        return;
+    std::vector<Complex> weight(static_cast<std::size_t>(r));
+    Complex atZero = final;
+    double scale = std::abs(final) + std::abs(m_d);
+    for (Index i = 0; i < r; ++i) {
+        weight[static_cast<std::size_t>(i)] = cv(i) * vb(i) / lambda(i);
+        atZero += weight[static_cast<std::size_t>(i)];
+        scale += std::abs(weight[static_cast<std::size_t>(i)]);
+    }
+    // y(0+) = d: the residues and the final value must agree with the state space.
+    if (!(std::abs(atZero.real() - m_d) <= 1e-8 * scale))
+        return;
+    m_modal = true;
+    m_final = final;
+    m_lambda.assign(lambda.data(), lambda.data() + r);
+    m_weight = std::move(weight);
 }
 
 double StepModel::valueAt(double t) const
@@ -74,6 +230,12 @@ double StepModel::valueAt(double t) const
     const Index r = m_a.rows();
     if (r == 0 || !(t > 0))
         return m_d;
+    if (m_modal) {
+        double y = m_final;
+        for (std::size_t i = 0; i < m_lambda.size(); ++i)
+            y += (m_weight[i] * std::exp(m_lambda[i] * t)).real();
+        return y;
+    }
     // exp([[A, b], [0, 0]] t) = [[Phi, Gamma], [0, 1]]: Gamma is the state at t.
     Eigen::MatrixXd aug = Eigen::MatrixXd::Zero(r + 1, r + 1);
     aug.topLeftCorner(r, r) = m_a * t;
@@ -87,6 +249,12 @@ double StepModel::slopeAt(double t) const
     const Index r = m_a.rows();
     if (r == 0)
         return 0.0;
+    if (m_modal) {
+        double slope = 0.0;
+        for (std::size_t i = 0; i < m_lambda.size(); ++i)
+            slope += (m_weight[i] * m_lambda[i] * std::exp(m_lambda[i] * t)).real();
+        return slope;
+    }
     const Eigen::MatrixXd phi = (m_a * t).exp();
     return m_c.dot(phi * m_b);
 }
@@ -97,6 +265,11 @@ std::vector<double> StepModel::sample(const std::vector<double> &times) const
     std::vector<double> y(times.size(), m_d);
     if (rank == 0)
         return y;
+    if (m_modal) {
+        for (std::size_t i = 0; i < times.size(); ++i)
+            y[i] = valueAt(times[i]);
+        return y;
+    }
     Eigen::MatrixXd aug = Eigen::MatrixXd::Zero(rank + 1, rank + 1);
     Eigen::VectorXd w = Eigen::VectorXd::Zero(rank), next(rank);
     double last = 0.0;
@@ -146,6 +319,8 @@ std::vector<std::complex<double>> StepModel::modes() const
     std::vector<std::complex<double>> out;
     if (m_a.rows() == 0)
         return out;
+    if (m_modal)
+        return m_lambda;
     Eigen::EigenSolver<Eigen::MatrixXd> es(m_a, false);
     if (es.info() != Eigen::Success)
         return out;

@@ -16,8 +16,28 @@ namespace {
 const Complex kNaN(std::numeric_limits<double>::quiet_NaN(),
                    std::numeric_limits<double>::quiet_NaN());
 
+/// The nodes in words, for a message: "node x" or "nodes x, y and z".
+std::string nodeList(const std::vector<std::string> &nodes)
+{
+    std::string text = nodes.size() == 1 ? "node " : "nodes ";
+    for (std::size_t i = 0; i < nodes.size(); ++i)
+        text += (i == 0 ? "" : i + 1 == nodes.size() ? " and " : ", ") + nodes[i];
+    return text;
+}
+
 Result<ReducedSystem> reduceWith(SolverPath path, const Netlist &netlist)
 {
+    // Decided from the connections, not from a pivot: rounding can leave such a system
+    // looking solvable at some frequencies, with values made of round-off (an input port
+    // that leads only into an ideal gain-block input, with no r_in or c_in).
+    if (const std::vector<std::string> floating = nodesWithoutGround(netlist); !floating.empty())
+        return Diagnostic{{},
+                          {},
+                          {},
+                          "the circuit has no solution: " + nodeList(floating)
+                              + (floating.size() == 1 ? " has" : " have")
+                              + " no path to ground (only gain-block inputs or current "
+                                "sources lead there)"};
     auto system = assembleSystem(netlist);
     if (!system)
         return system.diagnostics();

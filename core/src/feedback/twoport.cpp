@@ -60,6 +60,19 @@ Result<TwoPortNetwork> TwoPortNetwork::build(const std::vector<Part> &parts,
         else
             n.addOutput({NetlistOutput::Kind::BranchCurrent, "port" + std::to_string(k + 1), {}});
     }
+    // A current-driven port into parts with no path to ground: the port currents have no
+    // return, so the parameters are infinite (rounding would make them merely huge).
+    if (const std::vector<std::string> floating = nodesWithoutGround(n); !floating.empty()) {
+        std::string names;
+        for (const std::string &node : floating)
+            names += (names.empty() ? "" : ", ") + node;
+        return Diagnostic{{},
+                          {},
+                          {},
+                          toString(set) + " parameters of the feedback network do not exist: "
+                              + "the network has no path to ground from " + names
+                              + " (the port currents have no return)"};
+    }
     auto system = assembleSystem(n);
     if (!system)
         return system.diagnostics();

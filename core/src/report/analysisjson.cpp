@@ -132,6 +132,7 @@ Json noiseJson(const Analysis &a)
     j["output_rms"] = number(n.outputRms);
     j["input_rms"] = number(n.inputRms);
     j["input_rms_gain_at_hz"] = number(n.inputGainHz);
+    j["input_problem"] = n.inputProblem.empty() ? Json(nullptr) : Json(n.inputProblem);
     if (n.brickWall)
         j["brick_wall_equivalent"] = {{"high_hz", number(n.brickWall->highHz)},
                                       {"output_rms", number(n.brickWall->outputRms)},
@@ -297,23 +298,23 @@ std::string analysisToJson(const Analysis &a)
                          {"f_n_hz", number(p.naturalHz)},
                          {"damping", number(p.damping)},
                          {"q", number(p.q)}});
-    j["closed_loop"]
-        = {{"stable", a.stable},
-           {"rhp_poles", a.rhpPoles},
-           {"reason", a.closedLoopReason.empty() ? Json(nullptr) : Json(a.closedLoopReason)},
-           {"bandwidth_hz", number(a.bandwidthHz)},
-           {"peaking_db", number(a.peakingDb)},
-           {"peaking_hz", number(a.peakingHz)},
-           {"feedthrough_db", number(a.feedthroughDb)},
-           {"feedthrough_hz", number(a.feedthroughHz)},
-           {"poles", poles},
-           {"step",
-            {{"rise_time_s", number(a.step.riseTimeS)},
-             {"overshoot_pct", number(a.step.overshootPct)},
-             {"settling_time_s", number(a.step.settlingTimeS)},
-             {"settling_band", number(a.step.settlingBand)},
-             {"final_value",
-              a.step.response.empty() ? Json(nullptr) : number(a.step.response.back())}}}};
+    j["closed_loop"] = {
+        {"stable", a.stable},
+        {"rhp_poles", a.rhpPoles},
+        {"reason", a.closedLoopReason.empty() ? Json(nullptr) : Json(a.closedLoopReason)},
+        {"bandwidth_hz", number(a.bandwidthHz)},
+        {"peaking_db", number(a.peakingDb)},
+        {"peaking_hz", number(a.peakingHz)},
+        {"feedthrough_db", number(a.feedthroughDb)},
+        {"feedthrough_hz", number(a.feedthroughHz)},
+        {"poles", poles},
+        {"step",
+         {{"rise_time_s", number(a.step.riseTimeS)},
+          {"overshoot_pct", number(a.step.overshootPct)},
+          {"settling_time_s", number(a.step.settlingTimeS)},
+          {"settling_band", number(a.step.settlingBand)},
+          {"final_value", a.step.response.empty() ? Json(nullptr) : number(a.step.response.back())},
+          {"reason", a.step.problem.empty() ? Json(nullptr) : Json(a.step.problem)}}}};
     j["desensitivity_db"] = number(a.desensitivityDb);
     Json sens = Json::object();
     for (const auto &[id, v] : a.sensitivity)
@@ -522,6 +523,8 @@ std::string analysisToText(const Analysis &a, const Design *design)
         std::ostringstream band;
         band << "step settling (" << a.step.settlingBand * 100 << " %)";
         show(band.str(), a.step.settlingTimeS, "s");
+        if (!a.step.problem.empty())
+            row("step response", "— (" + a.step.problem + ")");
     }
     if (a.noise && !a.noise->frequenciesHz.empty()) {
         const NoiseAnalysis &n = *a.noise;
@@ -529,7 +532,10 @@ std::string analysisToText(const Analysis &a, const Design *design)
         os << "\nNoise (" << formatPlain(n.temperatureK, 6) << " K)\n";
         if (a.stable) {
             show("output, rms", n.outputRms, outUnit);
-            show("input-referred, rms", n.inputRms, inUnit);
+            if (n.inputProblem.empty())
+                show("input-referred, rms", n.inputRms, inUnit);
+            else
+                row("input-referred, rms", "— (" + n.inputProblem + ")");
         } else {
             row("output, rms", absent);
             row("input-referred, rms", absent);

@@ -72,6 +72,9 @@ struct StepResult
     std::vector<double> timeS;
     std::vector<double> response; ///< output per unit source step
     double finalValue = 0;
+    /// Why there is no step response although the loop is stable (a higher-index mode, a
+    /// response that cannot be computed to the accuracy the metrics need); empty otherwise.
+    std::string problem;
 };
 
 /// One spec's verdict as the analysis JSON (`specs`), the Readout and the review sheet show

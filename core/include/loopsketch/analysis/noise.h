@@ -101,8 +101,11 @@ struct NoiseAnalysis
     /// Total output density per frequency, V/sqrt(Hz) (A/sqrt(Hz) for a current output).
     std::vector<double> outputDensity;
     /// Output density over |gain|: V/sqrt(Hz) for a voltage source, A/sqrt(Hz) for a current
-    /// source. NaN where the gain is zero.
+    /// source. NaN at every frequency when the gain is zero (inputProblem says so).
     std::vector<double> inputDensity;
+    /// Why there are no input-referred figures (inputDensity, inputRms); empty when there
+    /// are.
+    std::string inputProblem;
     /// |output per unit en| of the gain block, V/V (A/V for a current output).
     std::vector<double> noiseGain;
     /// The closed-loop gain from the same solves (output per unit source value).

@@ -75,4 +75,11 @@ struct Netlist
     int addOutput(NetlistOutput output);
 };
 
+/// Nodes with no path to ground through the elements that carry current between their
+/// terminals (resistors, nonzero capacitors, inductors, voltage sources, a controlled
+/// source's output), sorted. Such a node's voltage is not determined at any frequency: its
+/// subnetwork meets the rest only through current sources and controlled-source inputs,
+/// which carry no current between them, so the circuit has no solution anywhere.
+std::vector<std::string> nodesWithoutGround(const Netlist &netlist);
+
 } // namespace loopsketch

@@ -3,8 +3,10 @@
 // The unit-step response of one transfer entry of a ReducedSystem as a proper state space
 //   w' = A w + b u,  y = c w + d u,
 // with the algebraic (index-1) part of the pencil eliminated. Every value is exact for the
-// linear model at any time (matrix exponential with scaling and squaring), so rise,
-// overshoot and settling are located by root finding on it rather than read off a grid.
+// linear model at any time, so rise, overshoot and settling are located by root finding on
+// it rather than read off a grid: from the modes and their residues where the eigenvectors
+// are well conditioned (a stiff loop: each mode decays on its own), else by the matrix
+// exponential with scaling and squaring. The states are balanced first.
 
 #include "loopsketch/base/result.h"
 #include "loopsketch/circuit/reducedsystem.h"
@@ -45,10 +47,19 @@ public:
     double finalValue() const;
 
 private:
+    /// Chooses the modal form when the modes' eigenvectors are well conditioned.
+    void prepareModes();
+
     Eigen::MatrixXd m_a;
     Eigen::VectorXd m_b;
     Eigen::RowVectorXd m_c;
     double m_d = 0.0;
+    // Modal form y(t) = final + Re sum_i w_i exp(lambda_i t), used where it is accurate:
+    // each mode decays on its own, with no squaring of a stiff propagator over long times.
+    bool m_modal = false;
+    double m_final = 0.0;
+    std::vector<std::complex<double>> m_lambda; ///< rad/s
+    std::vector<std::complex<double>> m_weight; ///< output units
 };
 
 } // namespace loopsketch
