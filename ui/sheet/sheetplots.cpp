@@ -1,0 +1,631 @@
+#include "sheet/sheetplots.h"
+
+#include "panels/noisepanel.h"
+#include "sheet/sheetwriter.h"
+
+#include "loopsketch/feedback/metrics.h"
+
+#include <QFontMetricsF>
+#include <QPolygonF>
+
+#include <algorithm>
+#include <cmath>
+#include <numbers>
+#include <vector>
+
+namespace loopsketch::ui {
+
+using namespace sheet;
+
+namespace {
+
+// ---------------------------------------------------------------------------------------
+// Plots
+
+struct Series
+{
+    QString name;
+    std::vector<double> x, y; // x in Hz (log axes) or s; NaN breaks the line
+    QColor colour;
+    Qt::PenStyle style = Qt::SolidLine;
+};
+
+double niceStep(double span, int maxTicks, std::initializer_list<double> steps)
+{
+    for (double s : steps)
+        if (span / s <= maxTicks)
+            return s;
+    return *(steps.end() - 1) * std::ceil(span / (maxTicks * *(steps.end() - 1)));
+}
+
+struct Axis
+{
+    double lo = 0, hi = 1;
+    bool log = false;
+    double step = 1; // linear axes
+};
+
+double mapAxis(const Axis &a, double v, double from, double to)
+{
+    const double t = a.log ? (std::log10(v) - a.lo) / (a.hi - a.lo) : (v - a.lo) / (a.hi - a.lo);
+    return from + t * (to - from);
+}
+
+void finiteRange(const std::vector<Series> &series, bool useX, double &lo, double &hi)
+{
+    lo = INFINITY;
+    hi = -INFINITY;
+    for (const auto &s : series)
+        for (double v : useX ? s.x : s.y)
+            if (std::isfinite(v)) {
+                lo = std::min(lo, v);
+                hi = std::max(hi, v);
+            }
+}
+
+/// One panel: frame, grid, tick labels, curves. `yFormat` gives a tick label.
+void drawPanel(QPainter &p, const QRectF &area, double k, const Axis &xa, const Axis &ya,
+               const std::vector<Series> &series, const QString &yTitle, bool xLabels,
+               const QString &xTitle, bool yLogOhm)
+{
+    const QFont tick = sheetFont(6.5);
+    p.setFont(tick);
+    const QFontMetricsF fm(tick, p.device());
+    const double pad = 1.2 * k;
+
+    p.setPen(QPen(kGrid, 0.15 * k));
+    // x grid and labels
+    std::vector<std::pair<double, QString>> xt;
+    if (xa.log) {
+        for (int d = static_cast<int>(std::ceil(xa.lo - 1e-9));
+             d <= static_cast<int>(std::floor(xa.hi + 1e-9)); ++d)
+            xt.emplace_back(std::pow(10.0, d),
+                            QString::fromStdString(formatEngineering(std::pow(10.0, d), 3)));
+        for (int d = static_cast<int>(std::floor(xa.lo)); d < static_cast<int>(std::ceil(xa.hi));
+             ++d)
+            for (int m = 2; m <= 9; ++m) {
+                const double v = m * std::pow(10.0, d);
+                if (std::log10(v) <= xa.lo || std::log10(v) >= xa.hi)
+                    continue;
+                const double x = mapAxis(xa, v, area.left(), area.right());
+                p.setPen(QPen(QColor(235, 235, 235), 0.1 * k));
+                p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+            }
+    } else {
+        for (double v = std::ceil(xa.lo / xa.step) * xa.step; v <= xa.hi + 1e-12 * std::abs(xa.hi);
+             v += xa.step)
+            xt.emplace_back(v, QString::fromStdString(formatEngineering(v, 3, "s")));
+    }
+    for (const auto &[v, label] : xt) {
+        const double x = mapAxis(xa, v, area.left(), area.right());
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+        if (xLabels) {
+            p.setPen(kInk);
+            const double w = fm.horizontalAdvance(label);
+            p.drawText(QPointF(x - w / 2, area.bottom() + pad + fm.ascent()), label);
+        }
+    }
+    if (xLabels && !xTitle.isEmpty()) {
+        p.setPen(kInk);
+        const double w = fm.horizontalAdvance(xTitle);
+        p.drawText(QPointF(area.right() - w, area.bottom() + pad + fm.ascent() + fm.height()),
+                   xTitle);
+    }
+    // y grid and labels
+    double maxLabel = 0;
+    for (double v = std::ceil(ya.lo / ya.step - 1e-9) * ya.step; v <= ya.hi + 1e-9 * ya.step;
+         v += ya.step) {
+        const double y = mapAxis(ya, v, area.bottom(), area.top());
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(area.left(), y), QPointF(area.right(), y));
+        const QString label = yLogOhm
+            ? QString::fromStdString(formatEngineering(std::pow(10.0, v), 3))
+            : QString::fromStdString(formatEngineering(std::abs(v) < 1e-9 * ya.step ? 0.0 : v, 3));
+        const double w = fm.horizontalAdvance(label);
+        maxLabel = std::max(maxLabel, w);
+        p.setPen(kInk);
+        p.drawText(QPointF(area.left() - pad - w, y + fm.ascent() / 2 - fm.descent() / 2), label);
+    }
+    if (!yTitle.isEmpty()) {
+        p.save();
+        p.translate(area.left() - pad * 2 - maxLabel - fm.descent(), area.center().y());
+        p.rotate(-90);
+        p.setPen(kInk);
+        p.drawText(QPointF(-fm.horizontalAdvance(yTitle) / 2, 0), yTitle);
+        p.restore();
+    }
+    // curves
+    p.save();
+    p.setClipRect(area);
+    p.setRenderHint(QPainter::Antialiasing);
+    for (const auto &s : series) {
+        QPen pen(s.colour, 0.35 * k, s.style);
+        pen.setJoinStyle(Qt::RoundJoin);
+        p.setPen(pen);
+        QPolygonF line;
+        const auto flush = [&] {
+            if (line.size() > 1)
+                p.drawPolyline(line);
+            line.clear();
+        };
+        for (std::size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
+            if (!std::isfinite(s.x[i]) || !std::isfinite(s.y[i]) || (xa.log && s.x[i] <= 0)) {
+                flush();
+                continue;
+            }
+            const double yv
+                = std::clamp(s.y[i], ya.lo - 10 * (ya.hi - ya.lo), ya.hi + 10 * (ya.hi - ya.lo));
+            line << QPointF(mapAxis(xa, s.x[i], area.left(), area.right()),
+                            mapAxis(ya, yv, area.bottom(), area.top()));
+        }
+        flush();
+    }
+    p.restore();
+    p.setPen(QPen(kRule, 0.25 * k));
+    p.setBrush(Qt::NoBrush);
+    p.drawRect(area);
+}
+
+Axis linearAxis(const std::vector<Series> &series, std::initializer_list<double> steps,
+                double minSpan, int maxTicks = 6)
+{
+    Axis a;
+    double lo, hi;
+    finiteRange(series, false, lo, hi);
+    if (!std::isfinite(lo)) {
+        lo = 0;
+        hi = 1;
+    }
+    if (hi - lo < minSpan) {
+        const double mid = (hi + lo) / 2;
+        lo = mid - minSpan / 2;
+        hi = mid + minSpan / 2;
+    }
+    a.step = niceStep(hi - lo, maxTicks, steps);
+    a.lo = std::floor(lo / a.step) * a.step;
+    a.hi = std::ceil(hi / a.step) * a.step;
+    if (a.hi <= a.lo)
+        a.hi = a.lo + a.step;
+    return a;
+}
+
+Axis frequencyAxis(const Analysis &a)
+{
+    Axis x;
+    x.log = true;
+    if (a.frequenciesHz.empty() || !(a.frequenciesHz.front() > 0)) {
+        x.lo = 0;
+        x.hi = 9;
+        return x;
+    }
+    x.lo = std::log10(a.frequenciesHz.front());
+    x.hi = std::log10(a.frequenciesHz.back());
+    if (x.hi <= x.lo)
+        x.hi = x.lo + 1;
+    return x;
+}
+
+Series dbSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour,
+                Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, a.frequenciesHz, {}, colour, style};
+    s.y.reserve(c.size());
+    for (const auto &v : c)
+        s.y.push_back(std::isfinite(std::abs(v)) ? toDecibels(std::abs(v)) : NAN);
+    s.x.resize(s.y.size());
+    return s;
+}
+
+Series logOhmSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour,
+                    Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, a.frequenciesHz, {}, colour, style};
+    for (const auto &v : c)
+        s.y.push_back(std::abs(v) > 0 && std::isfinite(std::abs(v)) ? std::log10(std::abs(v))
+                                                                    : NAN);
+    s.x.resize(s.y.size());
+    return s;
+}
+
+Series phaseSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour)
+{
+    Series s{name, a.frequenciesHz, {}, colour, Qt::SolidLine};
+    if (c.empty())
+        return s;
+    const std::vector<double> ph = unwrapPhase(c, std::arg(c.front()));
+    for (std::size_t i = 0; i < ph.size(); ++i)
+        s.y.push_back(std::isfinite(std::abs(c[i])) ? ph[i] * 180.0 / std::numbers::pi : NAN);
+    s.x.resize(s.y.size());
+    return s;
+}
+
+bool hasFinite(const Curve &c)
+{
+    return std::any_of(c.begin(), c.end(),
+                       [](const auto &v) { return std::isfinite(std::abs(v)); });
+}
+
+void drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Series> &series)
+{
+    const QFont f = sheetFont(6.5);
+    p.setFont(f);
+    const QFontMetricsF fm(f, p.device());
+    double x = area.left();
+    const double y = area.center().y();
+    for (const auto &s : series) {
+        p.setPen(QPen(s.colour, 0.5 * k, s.style));
+        p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+        x += 7 * k;
+        p.setPen(kInk);
+        p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), s.name);
+        x += fm.horizontalAdvance(s.name) + 4 * k;
+    }
+}
+
+const QColor kBlue(25, 80, 160), kOrange(205, 110, 20), kGreen(40, 130, 70), kPurple(120, 60, 150);
+
+/// log10 of a density per sweep frequency; NaN where there is none (breaks the line).
+Series logDensitySeries(const QString &name, const std::vector<double> &hz,
+                        const std::vector<double> &density, QColor colour,
+                        Qt::PenStyle style = Qt::SolidLine)
+{
+    Series s{name, hz, {}, colour, style};
+    s.y.reserve(hz.size());
+    for (std::size_t i = 0; i < hz.size(); ++i) {
+        const double v = i < density.size() ? density[i] : NAN;
+        s.y.push_back(std::isfinite(v) && v > 0 ? std::log10(v) : NAN);
+    }
+    return s;
+}
+
+/// Decades from the first series' peak down to at most `decades` below it.
+Axis decadeAxis(const std::vector<Series> &series, int decades)
+{
+    Axis a;
+    double lo = INFINITY, hi = -INFINITY;
+    finiteRange(series, false, lo, hi);
+    double peak = -INFINITY;
+    for (double v : series.front().y)
+        if (std::isfinite(v))
+            peak = std::max(peak, v);
+    if (!std::isfinite(peak)) {
+        a.lo = -9;
+        a.hi = -6;
+        return a;
+    }
+    a.hi = std::ceil(std::max(peak, hi) + 0.05);
+    a.lo = std::max(std::floor(lo), a.hi - decades);
+    if (a.hi - a.lo < 2)
+        a.lo = a.hi - 2;
+    a.step = a.hi - a.lo > 5 ? 2 : 1;
+    return a;
+}
+
+} // namespace
+
+namespace sheet {
+
+std::size_t noiseReferenceIndex(const NoiseAnalysis &n)
+{
+    const double want
+        = n.bandLowHz <= 1e3 && n.bandHighHz >= 1e3 ? 1e3 : std::sqrt(n.bandLowHz * n.bandHighHz);
+    std::size_t best = 0;
+    for (std::size_t i = 0; i < n.frequenciesHz.size(); ++i) {
+        if (std::abs(std::log(n.frequenciesHz[i] / want))
+            < std::abs(std::log(n.frequenciesHz[best] / want)))
+            best = i;
+    }
+    return best;
+}
+
+void drawGainHistogram(QPainter &p, const QRectF &rect, double k, const MetricStats &s,
+                       const Specs &specs, const OptionalNumber &nominal, const std::string &unit)
+{
+    p.save();
+    const QFont tick = sheetFont(6.5), titleFont = sheetFont(8.5, true);
+    const QFontMetricsF fm(tick, p.device()), tfm(titleFont, p.device());
+    double lo = s.histogramLow, hi = s.histogramHigh;
+    if (!(hi > lo)) {
+        const double pad = std::max(std::abs(lo) * 1e-3, 1e-12);
+        lo -= pad;
+        hi += pad;
+    }
+    const double span = hi - lo;
+    std::vector<double> limits;
+    for (const auto &v : {specs.gainMin, specs.gainMax})
+        if (v && v->si >= lo - 3 * span && v->si <= hi + 3 * span)
+            limits.push_back(v->si);
+    double plotLo = lo, plotHi = hi;
+    for (double v : limits) {
+        plotLo = std::min(plotLo, v);
+        plotHi = std::max(plotHi, v);
+    }
+    const double pad = (plotHi - plotLo) * 0.04;
+    plotLo -= pad;
+    plotHi += pad;
+    // tick labels with one prefix for the whole axis (e.g. MV/A)
+    const double mag = std::max(std::abs(plotLo), std::abs(plotHi));
+    static const std::pair<double, const char *> prefixes[]
+        = {{1e12, "T"}, {1e9, "G"},  {1e6, "M"},  {1e3, "k"},  {1, ""},
+           {1e-3, "m"}, {1e-6, "µ"}, {1e-9, "n"}, {1e-12, "p"}};
+    double factor = 1;
+    QString prefix;
+    for (const auto &[f, name] : prefixes) {
+        if (mag >= f) {
+            factor = 1 / f;
+            prefix = QString::fromUtf8(name);
+            break;
+        }
+    }
+    const double rawStep = (plotHi - plotLo) * factor / 6;
+    const double decade = std::pow(10.0, std::floor(std::log10(rawStep)));
+    double step = decade;
+    for (double m : {1.0, 2.0, 2.5, 5.0, 10.0}) {
+        step = m * decade;
+        if (step >= rawStep)
+            break;
+    }
+    const double xLo = std::floor(plotLo * factor / step) * step;
+    const double xHi = std::ceil(plotHi * factor / step) * step;
+    std::size_t top = 1;
+    for (std::size_t c : s.histogram)
+        top = std::max(top, c);
+    const double yStep = niceStep(
+        double(top) * 1.1, 4, {1,   2,    5,    10,   20,   25,    50,    100,   200,   250,
+                               500, 1000, 2000, 2500, 5000, 10000, 20000, 25000, 50000, 100000});
+    const double yHi = std::ceil(double(top) * 1.1 / yStep) * yStep;
+
+    const QRectF area(rect.left() + 17 * k, rect.top() + tfm.height() + 3 * k,
+                      rect.width() - 19 * k, rect.height() - tfm.height() - 12 * k);
+    const auto X = [&](double v) {
+        return area.left() + (v * factor - xLo) / (xHi - xLo) * area.width();
+    };
+    const auto Y = [&](double c) {
+        return area.bottom() - c / yHi * area.height();
+    };
+    p.setFont(tick);
+    const int decimals = std::max(0, -static_cast<int>(std::floor(std::log10(step) + 1e-9)));
+    for (double v = xLo; v <= xHi + step * 1e-6; v += step) {
+        const double x = area.left() + (v - xLo) / (xHi - xLo) * area.width();
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
+        const QString label = QString::number(std::abs(v) < step * 1e-6 ? 0.0 : v, 'f', decimals);
+        p.setPen(kInk);
+        p.drawText(
+            QPointF(x - fm.horizontalAdvance(label) / 2, area.bottom() + 1.2 * k + fm.ascent()),
+            label);
+    }
+    double maxLabel = 0;
+    for (double c = 0; c <= yHi + yStep * 1e-6; c += yStep) {
+        const double y = Y(c);
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.drawLine(QPointF(area.left(), y), QPointF(area.right(), y));
+        const QString label = QString::number(c, 'f', 0);
+        maxLabel = std::max(maxLabel, fm.horizontalAdvance(label));
+        p.setPen(kInk);
+        p.drawText(QPointF(area.left() - 1.2 * k - fm.horizontalAdvance(label),
+                           y + fm.ascent() / 2 - fm.descent() / 2),
+                   label);
+    }
+    const QString xTitle = QStringLiteral("closed-loop gain (%1%2)").arg(prefix, q(unit));
+    p.drawText(QPointF(area.right() - fm.horizontalAdvance(xTitle),
+                       area.bottom() + 1.2 * k + fm.ascent() + fm.height()),
+               xTitle);
+    p.save();
+    p.translate(area.left() - 2.4 * k - maxLabel - fm.descent(), area.center().y());
+    p.rotate(-90);
+    const QString yTitle = QStringLiteral("trials");
+    p.drawText(QPointF(-fm.horizontalAdvance(yTitle) / 2, 0), yTitle);
+    p.restore();
+
+    p.save();
+    p.setClipRect(area);
+    QPolygonF outline;
+    const std::size_t bins = s.histogram.size();
+    const double width = bins ? (s.histogramHigh - s.histogramLow) / double(bins) : 0;
+    const double base = width > 0 ? s.histogramLow : lo;
+    const double binWidth = width > 0 ? width : (hi - lo) / double(std::max<std::size_t>(bins, 1));
+    outline << QPointF(X(base), Y(0));
+    for (std::size_t b = 0; b < bins; ++b) {
+        const double c = double(s.histogram[b]);
+        outline << QPointF(X(base + double(b) * binWidth), Y(c))
+                << QPointF(X(base + double(b + 1) * binWidth), Y(c));
+    }
+    outline << QPointF(X(base + double(bins) * binWidth), Y(0));
+    p.setPen(QPen(kBlue, 0.3 * k));
+    p.setBrush(QColor(kBlue.red(), kBlue.green(), kBlue.blue(), 60));
+    p.drawPolygon(outline);
+    p.setBrush(Qt::NoBrush);
+    p.setPen(QPen(kFail, 0.35 * k, Qt::DashLine));
+    for (double v : limits)
+        p.drawLine(QPointF(X(v), area.top()), QPointF(X(v), area.bottom()));
+    if (nominal && std::isfinite(*nominal)) {
+        p.setPen(QPen(kInk, 0.3 * k, Qt::DotLine));
+        p.drawLine(QPointF(X(*nominal), area.top()), QPointF(X(*nominal), area.bottom()));
+    }
+    p.restore();
+    p.setPen(QPen(kRule, 0.25 * k));
+    p.drawRect(area);
+
+    p.setFont(titleFont);
+    p.setPen(kInk);
+    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()),
+               QStringLiteral("Monte Carlo: closed-loop gain"));
+    // legend beside the title
+    p.setFont(tick);
+    double x = rect.left() + tfm.horizontalAdvance(QStringLiteral("Monte Carlo: closed-loop gain"))
+        + 6 * k;
+    const double y = rect.top() + tfm.ascent() - fm.ascent() / 2 + fm.descent() / 2;
+    const auto legend = [&](const QPen &pen, const QString &text) {
+        p.setPen(pen);
+        p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+        x += 7 * k;
+        p.setPen(kInk);
+        p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), text);
+        x += fm.horizontalAdvance(text) + 4 * k;
+    };
+    legend(QPen(kBlue, 0.5 * k), QStringLiteral("trials per bin"));
+    if (!limits.empty())
+        legend(QPen(kFail, 0.35 * k, Qt::DashLine), QStringLiteral("spec window"));
+    legend(QPen(kInk, 0.3 * k, Qt::DotLine), QStringLiteral("nominal"));
+    p.restore();
+}
+
+} // namespace sheet
+
+QString sheetPlotFileStem(SheetPlot plot)
+{
+    switch (plot) {
+    case SheetPlot::LoopGain:
+        return QStringLiteral("loop-gain");
+    case SheetPlot::Impedance:
+        return QStringLiteral("impedance");
+    case SheetPlot::Desensitivity:
+        return QStringLiteral("desensitivity");
+    case SheetPlot::Step:
+        return QStringLiteral("step");
+    case SheetPlot::Noise:
+        return QStringLiteral("noise");
+    }
+    return {};
+}
+
+void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, const Analysis &a)
+{
+    p.save();
+    const QFont titleFont = sheetFont(8.5, true);
+    p.setFont(titleFont);
+    const QFontMetricsF tfm(titleFont, p.device());
+    const double left = rect.left() + 17 * k, right = rect.right() - 2 * k;
+    const double top = rect.top() + tfm.height() + 6 * k, bottom = rect.bottom() - 9 * k;
+    const QRectF legendRect(left, rect.top() + tfm.height() + 0.5 * k, right - left, 4 * k);
+    const Axis fx = frequencyAxis(a);
+    const QString unit = q(a.gainUnit);
+    QString title;
+    std::vector<Series> legend;
+    switch (plot) {
+    case SheetPlot::LoopGain: {
+        title = QStringLiteral("Loop gain and closed-loop gain");
+        std::vector<Series> mag;
+        mag.push_back(dbSeries(QStringLiteral("|T| (return ratio)"), a, a.curves.loopGain, kBlue));
+        mag.push_back(dbSeries(QStringLiteral("closed loop, exact (dB %1)").arg(unit), a,
+                               a.curves.gainExact, kOrange));
+        if (hasFinite(a.curves.gainTwoPort))
+            mag.push_back(dbSeries(QStringLiteral("closed loop, two-port"), a, a.curves.gainTwoPort,
+                                   kGreen, Qt::DashLine));
+        std::vector<Series> ph{
+            phaseSeries(QStringLiteral("phase of T"), a, a.curves.loopGain, kBlue)};
+        legend = mag;
+        const double mid = top + (bottom - top) * 0.58;
+        Axis ym = linearAxis(mag, {10, 20, 40, 50, 100}, 20, 6);
+        Axis yp = linearAxis(ph, {45, 90, 180, 360}, 90, 5);
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx, ym, mag,
+                  QStringLiteral("dB"), false, {}, false);
+        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx, yp, ph,
+                  QStringLiteral("phase of T (°)"), true, QStringLiteral("Hz"), false);
+        break;
+    }
+    case SheetPlot::Impedance: {
+        title = QStringLiteral("Impedance (exact)");
+        std::vector<Series> z{
+            logOhmSeries(QStringLiteral("|z_in|"), a, a.curves.zInExact, kBlue),
+            logOhmSeries(QStringLiteral("|z_out|"), a, a.curves.zOutExact, kOrange)};
+        legend = z;
+        Axis y = linearAxis(z, {1, 2, 3, 4, 5}, 1, 6);
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, fx, y, z,
+                  QStringLiteral("Ω"), true, QStringLiteral("Hz"), true);
+        break;
+    }
+    case SheetPlot::Desensitivity: {
+        title = QStringLiteral("Desensitivity |1 + T|");
+        std::vector<Series> d{
+            dbSeries(QStringLiteral("|1 + T|"), a, a.curves.desensitivity, kPurple)};
+        legend = d;
+        Axis y = linearAxis(d, {10, 20, 40, 50, 100}, 20, 6);
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, fx, y, d,
+                  QStringLiteral("dB"), true, QStringLiteral("Hz"), false);
+        break;
+    }
+    case SheetPlot::Step: {
+        title = a.stable ? QStringLiteral("Step response (per unit source step, %1)").arg(unit)
+                         : QStringLiteral("Step response: none, the loop is unstable");
+        Series s{QStringLiteral("output"), a.step.timeS, a.step.response, kBlue, Qt::SolidLine};
+        std::vector<Series> st{s};
+        legend = st;
+        Axis x;
+        double lo, hi;
+        finiteRange(st, true, lo, hi);
+        if (!std::isfinite(lo) || hi <= lo) {
+            lo = 0;
+            hi = 1;
+        }
+        x.lo = lo;
+        x.hi = hi;
+        const double mag = std::pow(10.0, std::floor(std::log10(hi - lo)));
+        x.step = mag * niceStep((hi - lo) / mag, 6, {0.5, 1, 2, 2.5, 5, 10});
+        finiteRange(st, false, lo, hi);
+        if (!std::isfinite(lo)) {
+            lo = 0;
+            hi = 1;
+        }
+        lo = std::min(lo, 0.0);
+        hi = std::max(hi, 0.0);
+        if (hi - lo <= 0)
+            hi = lo + 1;
+        Axis y;
+        const double ymag = std::pow(10.0, std::floor(std::log10(hi - lo)));
+        y.step = ymag * niceStep((hi - lo) / ymag, 6, {0.2, 0.25, 0.5, 1, 2, 2.5, 5, 10});
+        y.lo = std::floor(lo / y.step) * y.step;
+        y.hi = std::ceil(hi / y.step) * y.step;
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, x, y, st, unit, true,
+                  QStringLiteral("time"), false);
+        break;
+    }
+    case SheetPlot::Noise: {
+        const NoiseUnitText u = noiseUnits(a);
+        title = QStringLiteral("Noise density, output and input-referred");
+        if (!a.noise || a.noise->frequenciesHz.empty()) {
+            p.setFont(sheetFont(kBodyPt));
+            p.setPen(kInk);
+            p.drawText(QRectF(QPointF(left, top), QPointF(right, bottom)),
+                       Qt::AlignCenter | Qt::TextWordWrap,
+                       QStringLiteral("No noise analysis: %1")
+                           .arg(a.noiseProblem.empty() ? QStringLiteral("not computed")
+                                                       : q(a.noiseProblem)));
+            break;
+        }
+        const NoiseAnalysis &n = *a.noise;
+        // The total and the three largest sources' own densities at the output.
+        std::vector<Series> out{logDensitySeries(QStringLiteral("total output"), n.frequenciesHz,
+                                                 n.outputDensity, kBlue)};
+        const QColor colours[] = {kOrange, kGreen, kPurple};
+        const auto order = noiseSourcesByShare(n);
+        for (std::size_t i = 0; i < order.size() && i < 3; ++i) {
+            std::vector<double> own(order[i]->outputPsd.size());
+            for (std::size_t j = 0; j < own.size(); ++j)
+                own[j] = std::sqrt(order[i]->outputPsd[j]);
+            out.push_back(logDensitySeries(noiseSourceName(*order[i]), n.frequenciesHz, own,
+                                           colours[i], Qt::DashLine));
+        }
+        std::vector<Series> in{logDensitySeries(QStringLiteral("input-referred"), n.frequenciesHz,
+                                                n.inputDensity, kBlue)};
+        legend = out;
+        const double mid = top + (bottom - top) * 0.58;
+        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx,
+                  decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false,
+                  {}, true);
+        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx,
+                  decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
+                  QStringLiteral("Hz"), true);
+        break;
+    }
+    }
+    p.setFont(titleFont);
+    p.setPen(kInk);
+    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()), title);
+    drawLegend(p, legendRect, k, legend);
+    p.restore();
+}
+
+} // namespace loopsketch::ui
