@@ -101,7 +101,7 @@ QIcon styleIcon(int index)
     QPixmap pixmap(28, 12);
     pixmap.fill(Qt::transparent);
     QPainter p(&pixmap);
-    QPen pen(PlotPanel::overlayColour(index), 2.0, PlotPanel::overlayStyle(index));
+    QPen pen(overlayColour(index), 2.0, overlayStyle(index));
     pen.setCapStyle(Qt::FlatCap);
     p.setPen(pen);
     p.drawLine(1, 6, 27, 6);
