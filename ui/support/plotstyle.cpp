@@ -15,45 +15,52 @@ using P = PlotCurve;
 using U = CurveUnit;
 
 // Own curves are solid, or dashed for the curves without feedback and for the
-// input-referred noise (drawn against its own axis).
-const std::array<CurveStyle, 14> kCurves{{
-    {P::A, QStringLiteral("A"), QStringLiteral("A"), U::Gain, palette::kOrange, Qt::SolidLine},
-    {P::LoopGain, QStringLiteral("T (return ratio)"), QStringLiteral("T"), U::Ratio, palette::kBlue,
-     Qt::SolidLine},
-    {P::GainTwoPort, QStringLiteral("gain, two-port"), QStringLiteral("gain, two-port"), U::Gain,
-     palette::kPurple, Qt::SolidLine},
-    {P::GainExact, QStringLiteral("gain, exact"), QStringLiteral("gain"), U::Gain, palette::kBlack,
-     Qt::SolidLine},
-    {P::ZIn, QStringLiteral("z_in"), QStringLiteral("z_in"), U::Ohm, palette::kBlue, Qt::SolidLine},
-    {P::ZInNoFeedback, QStringLiteral("z_in, no feedback"), QStringLiteral("z_in, no feedback"),
-     U::Ohm, palette::kSkyBlue, Qt::DashLine},
-    {P::ZOut, QStringLiteral("z_out"), QStringLiteral("z_out"), U::Ohm, palette::kVermillion,
-     Qt::SolidLine},
-    {P::ZOutNoFeedback, QStringLiteral("z_out, no feedback"), QStringLiteral("z_out, no feedback"),
-     U::Ohm, palette::kOrange, Qt::DashLine},
-    {P::Desensitivity, QStringLiteral("|1 + T|"), QStringLiteral("|1 + T|"), U::Ratio,
-     palette::kBlue, Qt::SolidLine},
-    {P::Step, QStringLiteral("step response"), QStringLiteral("step"), U::Gain, palette::kBlue,
-     Qt::SolidLine},
-    {P::StepFinal, QStringLiteral("final value"), QStringLiteral("final value"), U::Gain,
-     palette::kBlack, Qt::DotLine},
-    {P::Poles, QStringLiteral("closed-loop poles"), QStringLiteral("poles"), U::RadPerSecond,
-     palette::kVermillion, Qt::SolidLine},
-    {P::NoiseOutput, QStringLiteral("total output noise"), QStringLiteral("output noise"),
-     U::OutputDensity, palette::kBlack, Qt::SolidLine},
-    {P::NoiseInput, QStringLiteral("input-referred noise"), QStringLiteral("input noise"),
-     U::InputDensity, palette::kVermillion, Qt::DashLine},
-}};
+// input-referred noise (drawn against its own axis). Built on first use: names are read
+// during the dynamic initialisation of other files (static members such as
+// LoopGainPanel::kT).
+const std::array<CurveStyle, 14> &curves()
+{
+    static const std::array<CurveStyle, 14> table{{
+        {P::A, QStringLiteral("A"), QStringLiteral("A"), U::Gain, palette::kOrange, Qt::SolidLine},
+        {P::LoopGain, QStringLiteral("T (return ratio)"), QStringLiteral("T"), U::Ratio,
+         palette::kBlue, Qt::SolidLine},
+        {P::GainTwoPort, QStringLiteral("gain, two-port"), QStringLiteral("gain, two-port"),
+         U::Gain, palette::kPurple, Qt::SolidLine},
+        {P::GainExact, QStringLiteral("gain, exact"), QStringLiteral("gain"), U::Gain,
+         palette::kBlack, Qt::SolidLine},
+        {P::ZIn, QStringLiteral("z_in"), QStringLiteral("z_in"), U::Ohm, palette::kBlue,
+         Qt::SolidLine},
+        {P::ZInNoFeedback, QStringLiteral("z_in, no feedback"), QStringLiteral("z_in, no feedback"),
+         U::Ohm, palette::kSkyBlue, Qt::DashLine},
+        {P::ZOut, QStringLiteral("z_out"), QStringLiteral("z_out"), U::Ohm, palette::kVermillion,
+         Qt::SolidLine},
+        {P::ZOutNoFeedback, QStringLiteral("z_out, no feedback"),
+         QStringLiteral("z_out, no feedback"), U::Ohm, palette::kOrange, Qt::DashLine},
+        {P::Desensitivity, QStringLiteral("|1 + T|"), QStringLiteral("|1 + T|"), U::Ratio,
+         palette::kBlue, Qt::SolidLine},
+        {P::Step, QStringLiteral("step response"), QStringLiteral("step"), U::Gain, palette::kBlue,
+         Qt::SolidLine},
+        {P::StepFinal, QStringLiteral("final value"), QStringLiteral("final value"), U::Gain,
+         palette::kBlack, Qt::DotLine},
+        {P::Poles, QStringLiteral("closed-loop poles"), QStringLiteral("poles"), U::RadPerSecond,
+         palette::kVermillion, Qt::SolidLine},
+        {P::NoiseOutput, QStringLiteral("total output noise"), QStringLiteral("output noise"),
+         U::OutputDensity, palette::kBlack, Qt::SolidLine},
+        {P::NoiseInput, QStringLiteral("input-referred noise"), QStringLiteral("input noise"),
+         U::InputDensity, palette::kVermillion, Qt::DashLine},
+    }};
+    return table;
+}
 
 } // namespace
 
 const CurveStyle &curveStyle(PlotCurve curve)
 {
-    for (const CurveStyle &s : kCurves) {
+    for (const CurveStyle &s : curves()) {
         if (s.curve == curve)
             return s;
     }
-    return kCurves.front();
+    return curves().front();
 }
 
 QString curveName(PlotCurve curve)
