@@ -7,9 +7,13 @@
 // candidate's values written into the parts' primary fields (the rule of
 // `loopsketch analyze --candidate`, applied here independently of the ui's helper).
 
+#include "clirun.h"
 #include "demowindowtest.h"
 #include "panels/candidatespanel.h"
+#include "panels/noisepanel.h"
 #include "panels/panels.h"
+#include "sheet/reviewsheet.h"
+#include "support/plotstyle.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
@@ -47,6 +51,7 @@
 using namespace loopsketch;
 using namespace loopsketch::ui;
 using ::testing::HasSubstr;
+using ::testing::Not;
 
 namespace {
 
@@ -645,3 +650,69 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
 }
 
 } // namespace
+
+TEST_F(CandidatesTest, SheetAndScreenNameEveryCurveAndOverlayAlike)
+{
+    // Every panel's overlays on, as the Design menu's toggle does.
+    for (PlotPanel *p : window->panels()) {
+        if (p->hasOverlays())
+            p->overlayAction()->setChecked(true);
+    }
+    QApplication::processEvents();
+    QTemporaryDir dir;
+    ASSERT_TRUE(dir.isValid());
+    const QString pdf = dir.filePath(QStringLiteral("sheet.pdf"));
+    QString error;
+    ASSERT_TRUE(renderReviewSheet(doc()->design(), *doc()->analysis(), pdf, SheetPageSize::A4,
+                                  QStringLiteral("demo"), &error))
+        << error.toStdString();
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
+    const std::string sheet = text.out.toStdString();
+
+    // The sheet's own curves carry the names the panels' legends carry (one table).
+    const PlotCurve drawnOnBoth[]
+        = {PlotCurve::LoopGain, PlotCurve::GainExact,   PlotCurve::GainTwoPort,
+           PlotCurve::ZIn,      PlotCurve::ZOut,        PlotCurve::Desensitivity,
+           PlotCurve::Step,     PlotCurve::NoiseOutput, PlotCurve::NoiseInput};
+    for (PlotCurve curve : drawnOnBoth) {
+        const QString name = curveName(curve);
+        EXPECT_THAT(sheet, HasSubstr(name.toStdString()));
+        bool onScreen = false;
+        for (PlotPanel *p : window->panels())
+            onScreen = onScreen || p->legendLabels().contains(name);
+        EXPECT_TRUE(onScreen) << name.toStdString();
+    }
+    EXPECT_EQ(LoopGainPanel::kT, QStringLiteral("T (return ratio)"));
+    EXPECT_THAT(sheet, Not(HasSubstr("|T| (return ratio)")));
+
+    // Every overlay legend entry of the screen's frequency and step panels is on the sheet
+    // (the Poles panel's markers have no plot on the sheet), and the sheet has each
+    // candidate's entries for its plots.
+    int overlays = 0;
+    for (PlotPanel *p : window->panels()) {
+        if (qobject_cast<PolesPanel *>(p))
+            continue;
+        for (const QString &name : p->overlaySeriesNames()) {
+            EXPECT_TRUE(p->legendLabels().contains(name)) << name.toStdString();
+            EXPECT_THAT(sheet, HasSubstr(name.toStdString())) << p->objectName().toStdString();
+            ++overlays;
+        }
+    }
+    // Two candidates: T, gain, z_in, z_out, |1 + T|, step, output noise each.
+    EXPECT_EQ(overlays, 2 * 7);
+    for (const Candidate &c : doc()->design().candidates) {
+        for (PlotCurve curve :
+             {PlotCurve::LoopGain, PlotCurve::GainExact, PlotCurve::ZIn, PlotCurve::ZOut,
+              PlotCurve::Desensitivity, PlotCurve::Step, PlotCurve::NoiseOutput})
+            EXPECT_THAT(sheet, HasSubstr(overlayName(toQString(c.name), curve).toStdString()));
+    }
+
+    // The comparison on paper is the panel's: every row title and every cell's text.
+    for (const QString &row : panel()->rowNames()) {
+        EXPECT_THAT(sheet, HasSubstr(row.toStdString()));
+        for (const QString &column : panel()->columnNames())
+            EXPECT_THAT(sheet, HasSubstr(panel()->cellText(row, column).toStdString()))
+                << row.toStdString() << " / " << column.toStdString();
+    }
+}

@@ -1,5 +1,6 @@
 #include "sheet/reviewsheet.h"
 
+#include "sheet/sheetcandidates.h"
 #include "sheet/sheetsections.h"
 #include "sheet/sheetwriter.h"
 #include "support/outputfile.h"
@@ -39,7 +40,7 @@ namespace {
 
 int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm, double k,
                int totalPages, const Design &d, const Analysis &a, const QString &fileName,
-               const SheetSpread *spread)
+               const SheetSpread *spread, const std::vector<SheetCandidate> &candidates)
 {
     SheetWriter w(p, device, pdf, pageMm, k, totalPages);
     titleBlock(w, d, a, fileName, spread);
@@ -50,9 +51,9 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     methodSection(w, a);
     metricsSection(w, d, a);
     noiseSection(w, a);
-    candidatesSection(w, d, a);
+    candidatesSection(w, d, candidates);
     spreadSection(w, d, a, spread);
-    plotsSection(w, a);
+    plotsSection(w, a, sheetOverlays(candidates));
     cautionsSection(w);
     w.finish();
     return w.page();
@@ -69,6 +70,15 @@ void setUpWriter(QPdfWriter &pdf, SheetPageSize size, const QString &title)
 QSizeF paintSizeMm(const QPdfWriter &pdf)
 {
     return pdf.pageLayout().paintRect(QPageLayout::Millimeter).size();
+}
+
+int pageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
+              const SheetSpread *spread, const std::vector<SheetCandidate> &candidates)
+{
+    QPdfWriter pdf(QString{});
+    setUpWriter(pdf, pageSize, {});
+    return paintSheet(nullptr, &pdf, nullptr, paintSizeMm(pdf), pdf.resolution() / 25.4, 0, design,
+                      analysis, {}, spread, candidates);
 }
 
 } // namespace
@@ -103,17 +113,16 @@ bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
 int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
                          const SheetSpread *spread)
 {
-    QPdfWriter pdf(QString{});
-    setUpWriter(pdf, pageSize, {});
-    return paintSheet(nullptr, &pdf, nullptr, paintSizeMm(pdf), pdf.resolution() / 25.4, 0, design,
-                      analysis, {}, spread);
+    return pageCount(design, analysis, pageSize, spread, sheetCandidates(design, analysis));
 }
 
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
                        SheetPageSize pageSize, const QString &fileName, QString *error,
                        const SheetSpread *spread)
 {
-    const int pages = reviewSheetPageCount(design, analysis, pageSize, spread);
+    // The candidates are analysed once, for the measuring pass and the drawing alike.
+    const std::vector<SheetCandidate> candidates = sheetCandidates(design, analysis);
+    const int pages = pageCount(design, analysis, pageSize, spread, candidates);
     // Rendered whole into memory first: QPdfWriter reports no write errors, so the bytes go to
     // disk through the checked writer, and only a finished document (trailer written) does.
     QBuffer buffer;
@@ -129,7 +138,7 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
             return false;
         }
         paintSheet(&painter, &pdf, &pdf, paintSizeMm(pdf), pdf.resolution() / 25.4, pages, design,
-                   analysis, fileName, spread);
+                   analysis, fileName, spread, candidates);
         if (!painter.end()) {
             if (error)
                 *error = QStringLiteral("%1: cannot write the review sheet: the PDF could not be "

@@ -2,10 +2,12 @@
 
 #include "panels/noisepanel.h"
 #include "sheet/sheetwriter.h"
+#include "support/plotstyle.h"
 
 #include "loopsketch/feedback/metrics.h"
 
 #include <QFontMetricsF>
+#include <QImage>
 #include <QPolygonF>
 
 #include <algorithm>
@@ -206,10 +208,19 @@ Axis frequencyAxis(const Analysis &a)
     return x;
 }
 
-Series dbSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour,
-                Qt::PenStyle style = Qt::SolidLine)
+/// A curve's name, colour and style from the one curve table, or an overlay's (candidate
+/// `overlay` >= 0: its colour and dash, "candidate: quantity").
+Series styled(PlotCurve curve, int overlay = -1, const QString &candidate = {})
 {
-    Series s{name, a.frequenciesHz, {}, colour, style};
+    const CurveStyle &c = curveStyle(curve);
+    if (overlay < 0)
+        return {c.name, {}, {}, c.colour, c.style};
+    return {overlayName(candidate, curve), {}, {}, overlayColour(overlay), overlayStyle(overlay)};
+}
+
+Series dbSeries(Series s, const Analysis &a, const Curve &c)
+{
+    s.x = a.frequenciesHz;
     s.y.reserve(c.size());
     for (const auto &v : c)
         s.y.push_back(std::isfinite(std::abs(v)) ? toDecibels(std::abs(v)) : NAN);
@@ -217,10 +228,9 @@ Series dbSeries(const QString &name, const Analysis &a, const Curve &c, QColor c
     return s;
 }
 
-Series logOhmSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour,
-                    Qt::PenStyle style = Qt::SolidLine)
+Series logOhmSeries(Series s, const Analysis &a, const Curve &c)
 {
-    Series s{name, a.frequenciesHz, {}, colour, style};
+    s.x = a.frequenciesHz;
     for (const auto &v : c)
         s.y.push_back(std::abs(v) > 0 && std::isfinite(std::abs(v)) ? std::log10(std::abs(v))
                                                                     : NAN);
@@ -228,9 +238,9 @@ Series logOhmSeries(const QString &name, const Analysis &a, const Curve &c, QCol
     return s;
 }
 
-Series phaseSeries(const QString &name, const Analysis &a, const Curve &c, QColor colour)
+Series phaseSeries(Series s, const Analysis &a, const Curve &c)
 {
-    Series s{name, a.frequenciesHz, {}, colour, Qt::SolidLine};
+    s.x = a.frequenciesHz;
     if (c.empty())
         return s;
     const std::vector<double> ph = unwrapPhase(c, std::arg(c.front()));
@@ -246,31 +256,54 @@ bool hasFinite(const Curve &c)
                        [](const auto &v) { return std::isfinite(std::abs(v)); });
 }
 
-void drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Series> &series)
+/// Lays the legend out in rows within `width`; returns the rows' entries (indices).
+std::vector<std::vector<std::size_t>> legendRows(const QFontMetricsF &fm, double width, double k,
+                                                 const std::vector<Series> &series)
+{
+    std::vector<std::vector<std::size_t>> rows(1);
+    double x = 0;
+    for (std::size_t i = 0; i < series.size(); ++i) {
+        const double w = 7 * k + fm.horizontalAdvance(series[i].name) + 4 * k;
+        if (x > 0 && x + w > width) {
+            rows.emplace_back();
+            x = 0;
+        }
+        rows.back().push_back(i);
+        x += w;
+    }
+    return rows;
+}
+
+constexpr double kLegendRowMm = 3.6;
+
+/// The legend's rows at `area`'s top; returns the height used (device units).
+double drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Series> &series)
 {
     const QFont f = sheetFont(6.5);
     p.setFont(f);
     const QFontMetricsF fm(f, p.device());
-    double x = area.left();
-    const double y = area.center().y();
-    for (const auto &s : series) {
-        p.setPen(QPen(s.colour, 0.5 * k, s.style));
-        p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
-        x += 7 * k;
-        p.setPen(kInk);
-        p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), s.name);
-        x += fm.horizontalAdvance(s.name) + 4 * k;
+    const auto rows = legendRows(fm, area.width(), k, series);
+    double y = area.top() + kLegendRowMm * k / 2;
+    for (const auto &row : rows) {
+        double x = area.left();
+        for (std::size_t i : row) {
+            const Series &s = series[i];
+            p.setPen(QPen(s.colour, 0.5 * k, s.style));
+            p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+            x += 7 * k;
+            p.setPen(kInk);
+            p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), s.name);
+            x += fm.horizontalAdvance(s.name) + 4 * k;
+        }
+        y += kLegendRowMm * k;
     }
+    return double(rows.size()) * kLegendRowMm * k;
 }
 
-const QColor kBlue(25, 80, 160), kOrange(205, 110, 20), kGreen(40, 130, 70), kPurple(120, 60, 150);
-
 /// log10 of a density per sweep frequency; NaN where there is none (breaks the line).
-Series logDensitySeries(const QString &name, const std::vector<double> &hz,
-                        const std::vector<double> &density, QColor colour,
-                        Qt::PenStyle style = Qt::SolidLine)
+Series logDensitySeries(Series s, const std::vector<double> &hz, const std::vector<double> &density)
 {
-    Series s{name, hz, {}, colour, style};
+    s.x = hz;
     s.y.reserve(hz.size());
     for (std::size_t i = 0; i < hz.size(); ++i) {
         const double v = i < density.size() ? density[i] : NAN;
@@ -433,8 +466,8 @@ void drawGainHistogram(QPainter &p, const QRectF &rect, double k, const MetricSt
                 << QPointF(X(base + double(b + 1) * binWidth), Y(c));
     }
     outline << QPointF(X(base + double(bins) * binWidth), Y(0));
-    p.setPen(QPen(kBlue, 0.3 * k));
-    p.setBrush(QColor(kBlue.red(), kBlue.green(), kBlue.blue(), 60));
+    p.setPen(QPen(palette::kBlue, 0.3 * k));
+    p.setBrush(QColor(palette::kBlue.red(), palette::kBlue.green(), palette::kBlue.blue(), 60));
     p.drawPolygon(outline);
     p.setBrush(Qt::NoBrush);
     p.setPen(QPen(kFail, 0.35 * k, Qt::DashLine));
@@ -465,7 +498,7 @@ void drawGainHistogram(QPainter &p, const QRectF &rect, double k, const MetricSt
         p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), text);
         x += fm.horizontalAdvance(text) + 4 * k;
     };
-    legend(QPen(kBlue, 0.5 * k), QStringLiteral("trials per bin"));
+    legend(QPen(palette::kBlue, 0.5 * k), QStringLiteral("trials per bin"));
     if (!limits.empty())
         legend(QPen(kFail, 0.35 * k, Qt::DashLine), QStringLiteral("spec window"));
     legend(QPen(kInk, 0.3 * k, Qt::DotLine), QStringLiteral("nominal"));
@@ -491,139 +524,240 @@ QString sheetPlotFileStem(SheetPlot plot)
     return {};
 }
 
-void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, const Analysis &a)
+namespace {
+
+/// Where a plot draws: the panels' frame below the title and the legend.
+struct PlotFrame
+{
+    double left, right, top, bottom, k;
+    Axis frequency;
+};
+
+/// Loop gain and closed-loop gain in dB over frequency, the phase of T below.
+std::vector<Series> loopGainPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
+                                 const std::vector<SheetOverlay> &overlays)
+{
+    std::vector<Series> mag{dbSeries(styled(PlotCurve::LoopGain), a, a.curves.loopGain),
+                            dbSeries(styled(PlotCurve::GainExact), a, a.curves.gainExact)};
+    if (hasFinite(a.curves.gainTwoPort))
+        mag.push_back(dbSeries(styled(PlotCurve::GainTwoPort), a, a.curves.gainTwoPort));
+    Series phase = phaseSeries(styled(PlotCurve::LoopGain), a, a.curves.loopGain);
+    phase.name = QStringLiteral("phase of ") + phase.name;
+    std::vector<Series> ph{phase};
+    for (std::size_t i = 0; i < overlays.size(); ++i) {
+        const Analysis &o = *overlays[i].analysis;
+        mag.push_back(
+            dbSeries(styled(PlotCurve::LoopGain, int(i), overlays[i].name), o, o.curves.loopGain));
+        mag.push_back(dbSeries(styled(PlotCurve::GainExact, int(i), overlays[i].name), o,
+                               o.curves.gainExact));
+    }
+    const double k = f.k, mid = f.top + (f.bottom - f.top) * 0.58;
+    Axis ym = linearAxis(mag, {10, 20, 40, 50, 100}, 20, 6);
+    Axis yp = linearAxis(ph, {45, 90, 180, 360}, 90, 5);
+    drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, mid - 3 * k)), k, f.frequency, ym,
+              mag, QStringLiteral("dB"), false, {}, false);
+    drawPanel(p, QRectF(QPointF(f.left, mid + 3 * k), QPointF(f.right, f.bottom)), k, f.frequency,
+              yp, ph, QStringLiteral("phase of T (°)"), true, QStringLiteral("Hz"), false);
+    return mag;
+}
+
+/// One panel of curves over frequency: the design's, then each candidate's.
+std::vector<Series> frequencyPlot(
+    QPainter &p, const PlotFrame &f, const Analysis &a, const std::vector<SheetOverlay> &overlays,
+    const std::vector<std::pair<PlotCurve, const Curve AnalysisCurves::*>> &curves, bool logOhm)
+{
+    std::vector<Series> series;
+    const auto add = [&](const Analysis &from, PlotCurve curve, const Curve &c, int overlay,
+                         const QString &candidate) {
+        Series s = styled(curve, overlay, candidate);
+        series.push_back(logOhm ? logOhmSeries(std::move(s), from, c)
+                                : dbSeries(std::move(s), from, c));
+    };
+    for (const auto &[curve, member] : curves)
+        add(a, curve, a.curves.*member, -1, {});
+    for (std::size_t i = 0; i < overlays.size(); ++i) {
+        for (const auto &[curve, member] : curves)
+            add(*overlays[i].analysis, curve, overlays[i].analysis->curves.*member, int(i),
+                overlays[i].name);
+    }
+    const Axis y = logOhm ? linearAxis(series, {1, 2, 3, 4, 5}, 1, 6)
+                          : linearAxis(series, {10, 20, 40, 50, 100}, 20, 6);
+    drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, f.bottom)), f.k, f.frequency, y,
+              series, logOhm ? QStringLiteral("Ω") : QStringLiteral("dB"), true,
+              QStringLiteral("Hz"), logOhm);
+    return series;
+}
+
+/// The unit-step response over time, the candidates' beside it.
+std::vector<Series> stepPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
+                             const std::vector<SheetOverlay> &overlays)
+{
+    std::vector<Series> st;
+    const auto add = [&](const Analysis &from, int overlay, const QString &candidate) {
+        Series s = styled(PlotCurve::Step, overlay, candidate);
+        s.x = from.step.timeS;
+        s.y = from.step.response;
+        st.push_back(std::move(s));
+    };
+    add(a, -1, {});
+    for (std::size_t i = 0; i < overlays.size(); ++i) {
+        if (overlays[i].analysis->stable)
+            add(*overlays[i].analysis, int(i), overlays[i].name);
+    }
+    Axis x;
+    double lo, hi;
+    finiteRange({st.front()}, true, lo, hi);
+    if (!std::isfinite(lo) || hi <= lo) {
+        lo = 0;
+        hi = 1;
+    }
+    x.lo = lo;
+    x.hi = hi;
+    const double mag = std::pow(10.0, std::floor(std::log10(hi - lo)));
+    x.step = mag * niceStep((hi - lo) / mag, 6, {0.5, 1, 2, 2.5, 5, 10});
+    finiteRange(st, false, lo, hi);
+    if (!std::isfinite(lo)) {
+        lo = 0;
+        hi = 1;
+    }
+    lo = std::min(lo, 0.0);
+    hi = std::max(hi, 0.0);
+    if (hi - lo <= 0)
+        hi = lo + 1;
+    Axis y;
+    const double ymag = std::pow(10.0, std::floor(std::log10(hi - lo)));
+    y.step = ymag * niceStep((hi - lo) / ymag, 6, {0.2, 0.25, 0.5, 1, 2, 2.5, 5, 10});
+    y.lo = std::floor(lo / y.step) * y.step;
+    y.hi = std::ceil(hi / y.step) * y.step;
+    drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, f.bottom)), f.k, x, y, st,
+              q(a.gainUnit), true, QStringLiteral("time"), false);
+    return st;
+}
+
+/// Output density with the three largest sources' own, the input-referred density below.
+std::vector<Series> noisePlot(QPainter &p, const PlotFrame &f, const Analysis &a,
+                              const std::vector<SheetOverlay> &overlays)
+{
+    const NoiseUnitText u = noiseUnits(a);
+    if (!a.noise || a.noise->frequenciesHz.empty()) {
+        p.setFont(sheetFont(kBodyPt));
+        p.setPen(kInk);
+        p.drawText(
+            QRectF(QPointF(f.left, f.top), QPointF(f.right, f.bottom)),
+            Qt::AlignCenter | Qt::TextWordWrap,
+            QStringLiteral("No noise analysis: %1")
+                .arg(a.noiseProblem.empty() ? QStringLiteral("not computed") : q(a.noiseProblem)));
+        return {};
+    }
+    const NoiseAnalysis &n = *a.noise;
+    std::vector<Series> out{
+        logDensitySeries(styled(PlotCurve::NoiseOutput), n.frequenciesHz, n.outputDensity)};
+    // The three largest sources' own densities at the output, dashed (not stacked as on
+    // screen: on paper a reviewer reads each source's slope).
+    // Blues and purple: orange and vermillion read alike, and vermillion is the input's.
+    const QColor colours[] = {palette::kBlue, palette::kSkyBlue, palette::kPurple};
+    const auto order = noiseSourcesByShare(n);
+    for (std::size_t i = 0; i < order.size() && i < 3; ++i) {
+        std::vector<double> own(order[i]->outputPsd.size());
+        for (std::size_t j = 0; j < own.size(); ++j)
+            own[j] = std::sqrt(order[i]->outputPsd[j]);
+        out.push_back(logDensitySeries(
+            {noiseSourceName(*order[i]), {}, {}, colours[i], Qt::DashLine}, n.frequenciesHz, own));
+    }
+    for (std::size_t i = 0; i < overlays.size(); ++i) {
+        const auto &o = overlays[i].analysis->noise;
+        if (o)
+            out.push_back(logDensitySeries(styled(PlotCurve::NoiseOutput, int(i), overlays[i].name),
+                                           o->frequenciesHz, o->outputDensity));
+    }
+    std::vector<Series> in{
+        logDensitySeries(styled(PlotCurve::NoiseInput), n.frequenciesHz, n.inputDensity)};
+    const double k = f.k, mid = f.top + (f.bottom - f.top) * 0.58;
+    drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, mid - 3 * k)), k, f.frequency,
+              decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false, {},
+              true);
+    drawPanel(p, QRectF(QPointF(f.left, mid + 3 * k), QPointF(f.right, f.bottom)), k, f.frequency,
+              decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
+              QStringLiteral("Hz"), true);
+    std::vector<Series> legend = out;
+    legend.insert(legend.begin() + 1, in.front());
+    return legend;
+}
+
+QString plotTitle(SheetPlot plot, const Analysis &a)
+{
+    switch (plot) {
+    case SheetPlot::LoopGain:
+        return QStringLiteral("Loop gain and closed-loop gain (gains in dB re 1 %1)")
+            .arg(q(a.gainUnit));
+    case SheetPlot::Impedance:
+        return QStringLiteral("Impedance (exact)");
+    case SheetPlot::Desensitivity:
+        return QStringLiteral("Desensitivity |1 + T|");
+    case SheetPlot::Step:
+        return a.stable
+            ? QStringLiteral("Step response (per unit source step, %1)").arg(q(a.gainUnit))
+            : QStringLiteral("Step response: none, the loop is unstable");
+    case SheetPlot::Noise:
+        return QStringLiteral("Noise density, output and input-referred");
+    }
+    return {};
+}
+
+/// The legend entries of a plot, without drawing it (to know the legend's height first).
+std::vector<Series> plotSeries(QPainter &p, const PlotFrame &f, SheetPlot plot, const Analysis &a,
+                               const std::vector<SheetOverlay> &overlays)
+{
+    switch (plot) {
+    case SheetPlot::LoopGain:
+        return loopGainPlot(p, f, a, overlays);
+    case SheetPlot::Impedance:
+        return frequencyPlot(p, f, a, overlays,
+                             {{PlotCurve::ZIn, &AnalysisCurves::zInExact},
+                              {PlotCurve::ZOut, &AnalysisCurves::zOutExact}},
+                             true);
+    case SheetPlot::Desensitivity:
+        return frequencyPlot(p, f, a, overlays,
+                             {{PlotCurve::Desensitivity, &AnalysisCurves::desensitivity}}, false);
+    case SheetPlot::Step:
+        return stepPlot(p, f, a, overlays);
+    case SheetPlot::Noise:
+        return noisePlot(p, f, a, overlays);
+    }
+    return {};
+}
+
+} // namespace
+
+void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, const Analysis &a,
+                   const std::vector<SheetOverlay> &overlays)
 {
     p.save();
     const QFont titleFont = sheetFont(8.5, true);
-    p.setFont(titleFont);
     const QFontMetricsF tfm(titleFont, p.device());
     const double left = rect.left() + 17 * k, right = rect.right() - 2 * k;
-    const double top = rect.top() + tfm.height() + 6 * k, bottom = rect.bottom() - 9 * k;
-    const QRectF legendRect(left, rect.top() + tfm.height() + 0.5 * k, right - left, 4 * k);
-    const Axis fx = frequencyAxis(a);
-    const QString unit = q(a.gainUnit);
-    QString title;
-    std::vector<Series> legend;
-    switch (plot) {
-    case SheetPlot::LoopGain: {
-        title = QStringLiteral("Loop gain and closed-loop gain");
-        std::vector<Series> mag;
-        mag.push_back(dbSeries(QStringLiteral("|T| (return ratio)"), a, a.curves.loopGain, kBlue));
-        mag.push_back(dbSeries(QStringLiteral("closed loop, exact (dB %1)").arg(unit), a,
-                               a.curves.gainExact, kOrange));
-        if (hasFinite(a.curves.gainTwoPort))
-            mag.push_back(dbSeries(QStringLiteral("closed loop, two-port"), a, a.curves.gainTwoPort,
-                                   kGreen, Qt::DashLine));
-        std::vector<Series> ph{
-            phaseSeries(QStringLiteral("phase of T"), a, a.curves.loopGain, kBlue)};
-        legend = mag;
-        const double mid = top + (bottom - top) * 0.58;
-        Axis ym = linearAxis(mag, {10, 20, 40, 50, 100}, 20, 6);
-        Axis yp = linearAxis(ph, {45, 90, 180, 360}, 90, 5);
-        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx, ym, mag,
-                  QStringLiteral("dB"), false, {}, false);
-        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx, yp, ph,
-                  QStringLiteral("phase of T (°)"), true, QStringLiteral("Hz"), false);
-        break;
-    }
-    case SheetPlot::Impedance: {
-        title = QStringLiteral("Impedance (exact)");
-        std::vector<Series> z{
-            logOhmSeries(QStringLiteral("|z_in|"), a, a.curves.zInExact, kBlue),
-            logOhmSeries(QStringLiteral("|z_out|"), a, a.curves.zOutExact, kOrange)};
-        legend = z;
-        Axis y = linearAxis(z, {1, 2, 3, 4, 5}, 1, 6);
-        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, fx, y, z,
-                  QStringLiteral("Ω"), true, QStringLiteral("Hz"), true);
-        break;
-    }
-    case SheetPlot::Desensitivity: {
-        title = QStringLiteral("Desensitivity |1 + T|");
-        std::vector<Series> d{
-            dbSeries(QStringLiteral("|1 + T|"), a, a.curves.desensitivity, kPurple)};
-        legend = d;
-        Axis y = linearAxis(d, {10, 20, 40, 50, 100}, 20, 6);
-        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, fx, y, d,
-                  QStringLiteral("dB"), true, QStringLiteral("Hz"), false);
-        break;
-    }
-    case SheetPlot::Step: {
-        title = a.stable ? QStringLiteral("Step response (per unit source step, %1)").arg(unit)
-                         : QStringLiteral("Step response: none, the loop is unstable");
-        Series s{QStringLiteral("output"), a.step.timeS, a.step.response, kBlue, Qt::SolidLine};
-        std::vector<Series> st{s};
-        legend = st;
-        Axis x;
-        double lo, hi;
-        finiteRange(st, true, lo, hi);
-        if (!std::isfinite(lo) || hi <= lo) {
-            lo = 0;
-            hi = 1;
-        }
-        x.lo = lo;
-        x.hi = hi;
-        const double mag = std::pow(10.0, std::floor(std::log10(hi - lo)));
-        x.step = mag * niceStep((hi - lo) / mag, 6, {0.5, 1, 2, 2.5, 5, 10});
-        finiteRange(st, false, lo, hi);
-        if (!std::isfinite(lo)) {
-            lo = 0;
-            hi = 1;
-        }
-        lo = std::min(lo, 0.0);
-        hi = std::max(hi, 0.0);
-        if (hi - lo <= 0)
-            hi = lo + 1;
-        Axis y;
-        const double ymag = std::pow(10.0, std::floor(std::log10(hi - lo)));
-        y.step = ymag * niceStep((hi - lo) / ymag, 6, {0.2, 0.25, 0.5, 1, 2, 2.5, 5, 10});
-        y.lo = std::floor(lo / y.step) * y.step;
-        y.hi = std::ceil(hi / y.step) * y.step;
-        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, bottom)), k, x, y, st, unit, true,
-                  QStringLiteral("time"), false);
-        break;
-    }
-    case SheetPlot::Noise: {
-        const NoiseUnitText u = noiseUnits(a);
-        title = QStringLiteral("Noise density, output and input-referred");
-        if (!a.noise || a.noise->frequenciesHz.empty()) {
-            p.setFont(sheetFont(kBodyPt));
-            p.setPen(kInk);
-            p.drawText(QRectF(QPointF(left, top), QPointF(right, bottom)),
-                       Qt::AlignCenter | Qt::TextWordWrap,
-                       QStringLiteral("No noise analysis: %1")
-                           .arg(a.noiseProblem.empty() ? QStringLiteral("not computed")
-                                                       : q(a.noiseProblem)));
-            break;
-        }
-        const NoiseAnalysis &n = *a.noise;
-        // The total and the three largest sources' own densities at the output.
-        std::vector<Series> out{logDensitySeries(QStringLiteral("total output"), n.frequenciesHz,
-                                                 n.outputDensity, kBlue)};
-        const QColor colours[] = {kOrange, kGreen, kPurple};
-        const auto order = noiseSourcesByShare(n);
-        for (std::size_t i = 0; i < order.size() && i < 3; ++i) {
-            std::vector<double> own(order[i]->outputPsd.size());
-            for (std::size_t j = 0; j < own.size(); ++j)
-                own[j] = std::sqrt(order[i]->outputPsd[j]);
-            out.push_back(logDensitySeries(noiseSourceName(*order[i]), n.frequenciesHz, own,
-                                           colours[i], Qt::DashLine));
-        }
-        std::vector<Series> in{logDensitySeries(QStringLiteral("input-referred"), n.frequenciesHz,
-                                                n.inputDensity, kBlue)};
-        legend = out;
-        const double mid = top + (bottom - top) * 0.58;
-        drawPanel(p, QRectF(QPointF(left, top), QPointF(right, mid - 3 * k)), k, fx,
-                  decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false,
-                  {}, true);
-        drawPanel(p, QRectF(QPointF(left, mid + 3 * k), QPointF(right, bottom)), k, fx,
-                  decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
-                  QStringLiteral("Hz"), true);
-        break;
-    }
-    }
+    const QRectF legendRect(left, rect.top() + tfm.height() + 0.5 * k, right - left,
+                            kLegendRowMm * k);
+    // Drawn once into nothing to learn the legend (its height sets the plot's top).
+    QImage scratch(1, 1, QImage::Format_RGB32);
+    QPainter measure(&scratch);
+    measure.setClipRect(QRectF(0, 0, 0, 0));
+    const PlotFrame probe{left, right, rect.top(), rect.bottom(), k, frequencyAxis(a)};
+    std::vector<Series> legend = plotSeries(measure, probe, plot, a, overlays);
+    measure.end();
+    const QFontMetricsF lfm(sheetFont(6.5), p.device());
+    const double legendHeight
+        = double(legendRows(lfm, legendRect.width(), k, legend).size()) * kLegendRowMm * k;
+    const PlotFrame frame{left,
+                          right,
+                          rect.top() + tfm.height() + legendHeight + 2.5 * k,
+                          rect.bottom() - 9 * k,
+                          k,
+                          frequencyAxis(a)};
+    plotSeries(p, frame, plot, a, overlays);
     p.setFont(titleFont);
     p.setPen(kInk);
-    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()), title);
+    p.drawText(QPointF(rect.left(), rect.top() + tfm.ascent()), plotTitle(plot, a));
     drawLegend(p, legendRect, k, legend);
     p.restore();
 }

@@ -386,137 +386,6 @@ void noiseSection(SheetWriter &w, const Analysis &a)
                 sheetFont(7.5), 0, QColor(90, 90, 90));
 }
 
-/// One column of the candidates comparison: the current design or a candidate.
-struct CandidateColumn
-{
-    QString name;
-    Design design;
-    std::optional<Analysis> analysis;
-    QString problem; ///< why there is no analysis
-};
-
-std::vector<CandidateColumn> candidateColumns(const Design &d, const Analysis &current)
-{
-    std::vector<CandidateColumn> columns{{QStringLiteral("current design"), d, current, {}}};
-    AnalysisOptions lean; // the comparison shows no sensitivity or noise figures
-    lean.sensitivity = false;
-    lean.noise = false;
-    for (const Candidate &c : d.candidates) {
-        CandidateColumn col{q(c.name), d, std::nullopt, {}};
-        auto applied = applyCandidate(d, c);
-        if (applied) {
-            col.design = *applied;
-            auto analysis = analyze(col.design, {}, lean);
-            if (analysis)
-                col.analysis = std::move(analysis).value();
-            else
-                col.problem = q(analysis.errorText());
-        } else {
-            col.problem = q(applied.errorText());
-        }
-        columns.push_back(std::move(col));
-    }
-    return columns;
-}
-
-QString specVerdict(const Design &d, const std::optional<Analysis> &a)
-{
-    if (!a || !hasSpecs(d.specs))
-        return QStringLiteral("—");
-    const SpecCheck check = checkSpecs(d.specs, d.sweep, trialMetricsOf(*a));
-    if (!check.stable)
-        return QStringLiteral("fail: unstable");
-    QStringList failed;
-    if (!check.gain)
-        failed << QStringLiteral("gain");
-    if (!check.bandwidth)
-        failed << QStringLiteral("bandwidth");
-    if (!check.phaseMargin)
-        failed << QStringLiteral("margin");
-    return failed.isEmpty() ? QStringLiteral("pass") : QStringLiteral("fail: ") + failed.join(", ");
-}
-
-/// A part's primary value as the parts table writes it ("1 MΩ"), or "—".
-QString primaryValueText(const Design &d, const std::string &partId)
-{
-    const Part *part = d.findPart(partId);
-    if (!part)
-        return QStringLiteral("—");
-    const auto it = part->fields.find(std::string(part->primaryField()));
-    if (it == part->fields.end())
-        return QStringLiteral("—");
-    const FieldSpec *spec = findFieldSpec(part->type, part->primaryField());
-    return q(formatValue(it->second.si, spec ? spec->kind : ValueKind::Plain, 3));
-}
-
-/// The current design and every candidate side by side, four columns to a table.
-void candidatesSection(SheetWriter &w, const Design &d, const Analysis &current)
-{
-    if (d.candidates.empty())
-        return;
-    w.heading(QStringLiteral("Candidates"));
-    const std::vector<CandidateColumn> columns = candidateColumns(d, current);
-    const std::string &gu = current.gainUnit;
-
-    // Rows for the parts some candidate changes, in the design's part order.
-    std::vector<const Part *> changed;
-    for (const Part &p : d.parts) {
-        if (std::any_of(d.candidates.begin(), d.candidates.end(),
-                        [&](const Candidate &c) { return c.values.count(p.id) > 0; }))
-            changed.push_back(&p);
-    }
-    using Metric = std::function<QString(const CandidateColumn &)>;
-    const auto analysed = [](auto f) -> Metric {
-        return [f](const CandidateColumn &c) {
-            return c.analysis ? f(*c.analysis) : QStringLiteral("—");
-        };
-    };
-    std::vector<std::pair<QString, Metric>> rows;
-    for (const Part *p : changed) {
-        rows.push_back({q(p->id), [p](const CandidateColumn &c) {
-                            return primaryValueText(c.design, p->id);
-                        }});
-    }
-    rows.push_back({QStringLiteral("DC gain (exact)"),
-                    analysed([&](const Analysis &a) { return eng(a.exact.gain, gu); })});
-    rows.push_back({QStringLiteral("bandwidth (−3 dB)"),
-                    analysed([](const Analysis &a) { return eng(a.bandwidthHz, "Hz"); })});
-    rows.push_back({QStringLiteral("phase margin"),
-                    analysed([](const Analysis &a) { return degrees(a.margins.phaseMarginDeg); })});
-    rows.push_back({QStringLiteral("peaking"),
-                    analysed([](const Analysis &a) { return decibels(a.peakingDb); })});
-    rows.push_back({QStringLiteral("desensitivity at DC"),
-                    analysed([](const Analysis &a) { return decibels(a.desensitivityDb); })});
-    rows.push_back({QStringLiteral("z_in"),
-                    analysed([](const Analysis &a) { return eng(a.exact.zIn, "Ω"); })});
-    rows.push_back({QStringLiteral("z_out"),
-                    analysed([](const Analysis &a) { return eng(a.exact.zOut, "Ω"); })});
-    rows.push_back({QStringLiteral("specs"), [](const CandidateColumn &c) {
-                        return specVerdict(c.design, c.analysis);
-                    }});
-
-    constexpr std::size_t kPerTable = 4;
-    for (std::size_t first = 0; first < columns.size(); first += kPerTable) {
-        const std::size_t last = std::min(columns.size(), first + kPerTable);
-        std::vector<SheetWriter::Column> header{{QStringLiteral(""), 40}};
-        for (std::size_t c = first; c < last; ++c)
-            header.push_back({columns[c].name, 35, Qt::AlignRight});
-        std::vector<SheetWriter::Row> tableRows;
-        for (const auto &[label, metric] : rows) {
-            SheetWriter::Row row{{label}};
-            for (std::size_t c = first; c < last; ++c)
-                row.cells << metric(columns[c]);
-            tableRows.push_back(std::move(row));
-        }
-        w.table(header, tableRows);
-        w.advance(2);
-    }
-    for (const CandidateColumn &c : columns) {
-        if (!c.problem.isEmpty())
-            w.paragraph(c.name + QStringLiteral(": ") + c.problem, sheetFont(kBodyPt));
-    }
-}
-
 QString spreadNumber(const OptionalNumber &v, int metric, const std::string &gainUnit)
 {
     if (!v || !std::isfinite(*v))
@@ -613,7 +482,7 @@ void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const She
     w.advance(h + 2);
 }
 
-void plotsSection(SheetWriter &w, const Analysis &a)
+void plotsSection(SheetWriter &w, const Analysis &a, const std::vector<SheetOverlay> &overlays)
 {
     constexpr double kTallMm = 120, kOtherMm = 95, gap = 5;
     const auto height = [&](SheetPlot plot) {
@@ -624,7 +493,8 @@ void plotsSection(SheetWriter &w, const Analysis &a)
         const double ph = height(plot);
         w.ensure(ph);
         if (QPainter *p = w.painter())
-            drawSheetPlot(*p, w.toDevice(QRectF(0, w.y(), w.width(), ph)), w.k(), plot, a);
+            drawSheetPlot(*p, w.toDevice(QRectF(0, w.y(), w.width(), ph)), w.k(), plot, a,
+                          overlays);
         w.advance(ph + gap);
     }
 }

@@ -18,10 +18,9 @@ void topologySection(SheetWriter &w, const Analysis &a);
 void methodSection(SheetWriter &w, const Analysis &a);
 void metricsSection(SheetWriter &w, const Design &d, const Analysis &a);
 void noiseSection(SheetWriter &w, const Analysis &a);
-/// The current design and every candidate side by side, four columns to a table.
-void candidatesSection(SheetWriter &w, const Design &d, const Analysis &current);
 void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const SheetSpread *spread);
-void plotsSection(SheetWriter &w, const Analysis &a);
+/// The plots, each candidate overlaid.
+void plotsSection(SheetWriter &w, const Analysis &a, const std::vector<SheetOverlay> &overlays);
 void cautionsSection(SheetWriter &w);
 
 } // namespace loopsketch::ui::sheet
