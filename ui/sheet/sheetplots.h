@@ -12,6 +12,7 @@
 #include <QRectF>
 
 #include <cstddef>
+#include <initializer_list>
 #include <string>
 
 namespace loopsketch::ui::sheet {
@@ -20,6 +21,9 @@ namespace loopsketch::ui::sheet {
 /// (a common reference point of noise data, common practice), else the band's centre on
 /// a log scale.
 std::size_t noiseReferenceIndex(const NoiseAnalysis &n);
+
+/// The first of `steps` that divides `span` into at most `maxTicks` intervals.
+double niceStep(double span, int maxTicks, std::initializer_list<double> steps);
 
 /// The gain histogram of a Monte Carlo run, with the spec window and the nominal gain.
 void drawGainHistogram(QPainter &p, const QRectF &rect, double k, const MetricStats &s,
