@@ -464,13 +464,12 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     EXPECT_EQ(loop->overlaySeriesNames(),
               QStringList({"Fast: T", "Fast: gain", "High gain: T", "High gain: gain"}));
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore + 4);
-    // One legend entry per overlay curve, candidate and quantity, after the panel's own
-    // curves (once the legend's posted layout has run).
+    // One legend entry per candidate naming it and each quantity it overlays, after the
+    // panel's own curves (once the legend's posted layout has run).
     QApplication::processEvents();
     EXPECT_EQ(loop->legendLabels(),
               QStringList({LoopGainPanel::kA, LoopGainPanel::kT, LoopGainPanel::kTwoPort,
-                           LoopGainPanel::kExact, "Fast: T", "Fast: gain", "High gain: T",
-                           "High gain: gain"}));
+                           LoopGainPanel::kExact, "Fast: T, gain", "High gain: T, gain"}));
 
     // The overlay holds every point of core's loop gain for that candidate.
     const Design design = doc()->design();
@@ -621,7 +620,9 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
     window->showCandidates();
     window->loopGainPanel()->overlayAction()->setChecked(true);
     for (PlotPanel *p : window->panels()) {
-        if (p->objectName() == QStringLiteral("Desensitivity"))
+        if (p->objectName() == QStringLiteral("Desensitivity")
+            || p->objectName() == QStringLiteral("Step")
+            || p->objectName() == QStringLiteral("Poles"))
             p->overlayAction()->setChecked(true);
     }
     QTest::qWait(400);
@@ -630,6 +631,13 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
     ASSERT_TRUE(panel()->grab().save(dirName + "/loopsketch-candidates-panel.png"));
     ASSERT_TRUE(
         window->loopGainPanel()->grab().save(dirName + "/loopsketch-candidates-overlay.png"));
+    for (PlotPanel *p : window->panels()) {
+        if (p->objectName() == QStringLiteral("Step")
+            || p->objectName() == QStringLiteral("Poles")) {
+            ASSERT_TRUE(p->grab().save(dirName + "/loopsketch-candidates-"
+                                       + p->objectName().toLower() + ".png"));
+        }
+    }
     auto *impedanceDock = window->findChild<QDockWidget *>(QStringLiteral("ImpedanceDock"));
     ASSERT_NE(impedanceDock, nullptr);
     impedanceDock->raise();
@@ -686,26 +694,43 @@ TEST_F(CandidatesTest, SheetAndScreenNameEveryCurveAndOverlayAlike)
     EXPECT_EQ(LoopGainPanel::kT, QStringLiteral("T (return ratio)"));
     EXPECT_THAT(sheet, Not(HasSubstr("|T| (return ratio)")));
 
-    // Every overlay legend entry of the screen's frequency and step panels is on the sheet
-    // (the Poles panel's markers have no plot on the sheet), and the sheet has each
-    // candidate's entries for its plots.
-    int overlays = 0;
+    // Every overlay legend entry of the screen's frequency and step panels ("Fast: T, gain")
+    // is on the sheet too (the Poles panel's markers have no plot on the sheet), and each
+    // names every overlay curve's quantity.
+    QStringList candidates;
+    for (const Candidate &c : doc()->design().candidates)
+        candidates << toQString(c.name);
+    int overlays = 0, entries = 0;
     for (PlotPanel *p : window->panels()) {
         if (qobject_cast<PolesPanel *>(p))
             continue;
-        for (const QString &name : p->overlaySeriesNames()) {
-            EXPECT_TRUE(p->legendLabels().contains(name)) << name.toStdString();
-            EXPECT_THAT(sheet, HasSubstr(name.toStdString())) << p->objectName().toStdString();
-            ++overlays;
+        overlays += int(p->overlaySeriesNames().size());
+        for (const QString &label : p->legendLabels()) {
+            const qsizetype colon = label.indexOf(QStringLiteral(": "));
+            if (colon < 0 || !candidates.contains(label.left(colon)))
+                continue;
+            ++entries;
+            EXPECT_THAT(sheet, HasSubstr(label.toStdString())) << p->objectName().toStdString();
+            const QString prefix = label.left(colon + 2);
+            const QStringList quantities = label.mid(colon + 2).split(QStringLiteral(", "));
+            for (const QString &name : p->overlaySeriesNames()) {
+                if (name.startsWith(prefix)) {
+                    EXPECT_TRUE(quantities.contains(name.mid(prefix.size())))
+                        << label.toStdString() << " / " << name.toStdString();
+                }
+            }
         }
     }
-    // Two candidates: T, gain, z_in, z_out, |1 + T|, step, output noise each.
+    // Two candidates: T, gain, z_in, z_out, |1 + T|, step, output noise each; one legend
+    // entry per candidate on each of the five plots.
     EXPECT_EQ(overlays, 2 * 7);
-    for (const Candidate &c : doc()->design().candidates) {
-        for (PlotCurve curve :
-             {PlotCurve::LoopGain, PlotCurve::GainExact, PlotCurve::ZIn, PlotCurve::ZOut,
-              PlotCurve::Desensitivity, PlotCurve::Step, PlotCurve::NoiseOutput})
-            EXPECT_THAT(sheet, HasSubstr(overlayName(toQString(c.name), curve).toStdString()));
+    EXPECT_EQ(entries, 2 * 5);
+    for (const QString &c : candidates) {
+        EXPECT_THAT(
+            sheet,
+            HasSubstr(
+                overlayLegendText(c, {PlotCurve::LoopGain, PlotCurve::GainExact}).toStdString()));
+        EXPECT_THAT(sheet, HasSubstr(overlayName(c, PlotCurve::Step).toStdString()));
     }
 
     // The comparison on paper is the panel's: every row title and every cell's text.

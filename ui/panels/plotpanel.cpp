@@ -17,6 +17,7 @@
 #include <QMouseEvent>
 #include <QRegularExpression>
 #include <QScatterSeries>
+#include <QTimer>
 #include <QToolButton>
 #include <QValueAxis>
 
@@ -183,6 +184,8 @@ void PlotPanel::resizeEvent(QResizeEvent *event)
 {
     QChartView::resizeEvent(event);
     placeSummary();
+    if (!m_overlaySeries.empty())
+        placeLegend();
 }
 
 void PlotPanel::plotAreaChanged()
@@ -409,7 +412,13 @@ void PlotPanel::rebuildOverlays()
             const OverlaySource &source = m_overlaySources[i];
             if (!source.analysis || source.analysis->frequenciesHz.empty())
                 continue;
-            for (OverlayLine &line : overlayLines(*source.analysis)) {
+            const std::vector<OverlayLine> lines = overlayLines(*source.analysis);
+            std::vector<PlotCurve> quantities;
+            for (const OverlayLine &line : lines)
+                quantities.push_back(line.curve);
+            const QString legend = overlayLegendText(source.name, quantities);
+            for (std::size_t k = 0; k < lines.size(); ++k) {
+                const OverlayLine &line = lines[k];
                 const QString name = overlayName(source.name, line.curve);
                 QXYSeries *s = overlaySeries(used, line, name);
                 if (line.markers) {
@@ -428,11 +437,14 @@ void PlotPanel::rebuildOverlays()
                     const double xMax = line.points.isEmpty() ? 1.0 : line.points.back().x();
                     replaceThinned(s, line.points, xMin, xMax, line.format);
                 }
-                // Each overlay's own legend entry: candidate and quantity ("Fast: T").
+                // One legend entry per candidate naming it and each of its quantities ("Fast:
+                // T, gain"): its curves share one colour and dash, and one entry per curve
+                // is elided past reading in a panel's width. The series keep their own
+                // "candidate: quantity" names for the cursor text.
                 for (QLegendMarker *m : chart()->legend()->markers(s)) {
-                    m->setVisible(true);
-                    if (m->label() != name)
-                        m->setLabel(name);
+                    m->setVisible(k == 0);
+                    if (k == 0 && m->label() != legend)
+                        m->setLabel(legend);
                 }
                 ++used;
             }
@@ -443,8 +455,27 @@ void PlotPanel::rebuildOverlays()
         m_overlaySeries.pop_back();
         removeOverlaySeries(s);
     }
+    // New series' legend entries show only once the legend has laid out (posted).
+    QTimer::singleShot(0, this, [this] { placeLegend(); });
     if (std::isfinite(m_cursorAt))
         showFrequencyCursor(m_cursorAt);
+}
+
+void PlotPanel::placeLegend()
+{
+    // Below the plot while the entries fit in one row; beside it, one entry a line, when they
+    // would be cut short there (Qt's legend elides rather than wraps).
+    QLegend *legend = chart()->legend();
+    const QFontMetricsF fm(legend->font());
+    double needed = 0;
+    for (const QLegendMarker *m : legend->markers()) {
+        if (m->isVisible())
+            needed += fm.horizontalAdvance(m->label()) + 2.4 * fm.height();
+    }
+    const Qt::Alignment want
+        = needed > chart()->size().width() - 12.0 ? Qt::AlignRight : Qt::AlignBottom;
+    if (legend->alignment() != want)
+        legend->setAlignment(want);
 }
 
 void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax,

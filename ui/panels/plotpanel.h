@@ -76,7 +76,8 @@ public:
     QAction *overlayAction() const { return m_overlayAction; }
     /// The candidates to overlay, in column order; drawn while the toggle is on.
     void setOverlaySources(std::vector<OverlaySource> sources);
-    /// Names of the overlay curves drawn now ("Fast: T"); each is its legend entry too.
+    /// Names of the overlay curves drawn now ("Fast: T"); the legend has one entry per
+    /// candidate naming its quantities ("Fast: T, gain").
     QStringList overlaySeriesNames() const;
     /// The visible legend labels, in legend order (as of the legend's last layout, which
     /// runs from the event loop).
@@ -164,6 +165,8 @@ private:
     /// The overlay series in `slot`, made or remade to suit `line`.
     QXYSeries *overlaySeries(std::size_t slot, const OverlayLine &line, const QString &name);
     void removeOverlaySeries(QXYSeries *series);
+    /// Puts the legend below the plot, or beside it when one row would cut its labels.
+    void placeLegend();
     QGraphicsSimpleTextItem *m_summary = nullptr;
     QGraphicsTextItem *m_unavailable = nullptr;
     QAction *m_overlayAction = nullptr;

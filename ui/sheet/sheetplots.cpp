@@ -30,6 +30,8 @@ struct Series
     std::vector<double> x, y; // x in Hz (log axes) or s; NaN breaks the line
     QColor colour;
     Qt::PenStyle style = Qt::SolidLine;
+    int overlay = -1; ///< the candidate's index for an overlay curve
+    PlotCurve curve = PlotCurve::A; ///< the table's curve (overlays)
 };
 
 struct Axis
@@ -207,7 +209,32 @@ Series styled(PlotCurve curve, int overlay = -1, const QString &candidate = {})
     const CurveStyle &c = curveStyle(curve);
     if (overlay < 0)
         return {c.name, {}, {}, c.colour, c.style};
-    return {overlayName(candidate, curve), {}, {}, overlayColour(overlay), overlayStyle(overlay)};
+    return {overlayName(candidate, curve), {},      {},   overlayColour(overlay),
+            overlayStyle(overlay),         overlay, curve};
+}
+
+/// The legend's entries: the own curves, then one per candidate naming its quantities
+/// ("Fast: T, gain"), as the panels' legends do.
+std::vector<Series> legendEntries(const std::vector<Series> &series,
+                                  const std::vector<SheetOverlay> &overlays)
+{
+    std::vector<Series> entries;
+    std::vector<std::vector<PlotCurve>> quantities(overlays.size());
+    std::vector<std::size_t> at(overlays.size(), std::size_t(-1));
+    for (const Series &s : series) {
+        if (s.overlay < 0 || std::size_t(s.overlay) >= overlays.size()) {
+            entries.push_back(s);
+            continue;
+        }
+        const auto i = std::size_t(s.overlay);
+        quantities[i].push_back(s.curve);
+        if (at[i] == std::size_t(-1)) {
+            at[i] = entries.size();
+            entries.push_back(s);
+        }
+        entries[at[i]].name = overlayLegendText(overlays[i].name, quantities[i]);
+    }
+    return entries;
 }
 
 Series dbSeries(Series s, const Analysis &a, const Curve &c)
@@ -590,7 +617,8 @@ void drawSheetPlot(QPainter &p, const QRectF &rect, double k, SheetPlot plot, co
     QPainter measure(&scratch);
     measure.setClipRect(QRectF(0, 0, 0, 0));
     const PlotFrame probe{left, right, rect.top(), rect.bottom(), k, frequencyAxis(a)};
-    std::vector<Series> legend = plotSeries(measure, probe, plot, a, overlays);
+    const std::vector<Series> legend
+        = legendEntries(plotSeries(measure, probe, plot, a, overlays), overlays);
     measure.end();
     const QFontMetricsF lfm(sheetFont(6.5), p.device());
     const double legendHeight

@@ -4,6 +4,8 @@
 
 #include "loopsketch/report/noisenames.h"
 
+#include <QStringList>
+
 #include <array>
 #include <iterator>
 
@@ -90,6 +92,14 @@ QString curveUnitText(PlotCurve curve, const Analysis &a)
 QString overlayName(const QString &candidate, PlotCurve curve)
 {
     return candidate + QStringLiteral(": ") + curveStyle(curve).quantity;
+}
+
+QString overlayLegendText(const QString &candidate, const std::vector<PlotCurve> &curves)
+{
+    QStringList quantities;
+    for (PlotCurve c : curves)
+        quantities << curveStyle(c).quantity;
+    return candidate + QStringLiteral(": ") + quantities.join(QStringLiteral(", "));
 }
 
 QColor overlayColour(int index)

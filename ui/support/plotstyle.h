@@ -9,6 +9,8 @@
 #include <QColor>
 #include <QString>
 
+#include <vector>
+
 namespace loopsketch::ui {
 
 /// Okabe-Ito colours, safe for the common colour-vision deficiencies.
@@ -63,6 +65,9 @@ QString curveName(PlotCurve curve);
 QString curveUnitText(PlotCurve curve, const Analysis &analysis);
 /// An overlay's legend text: the candidate's name and the curve's quantity ("Fast: T").
 QString overlayName(const QString &candidate, PlotCurve curve);
+/// A candidate's one legend entry for all its overlay curves on a plot (they share its colour
+/// and dash): the candidate's name and the curves' quantities, "Fast: T, gain".
+QString overlayLegendText(const QString &candidate, const std::vector<PlotCurve> &curves);
 /// The colour and dash of candidate `index`'s overlays (the Candidates panel uses the same in
 /// its column headers, the sheet on paper).
 QColor overlayColour(int index);
