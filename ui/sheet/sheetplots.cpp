@@ -4,7 +4,7 @@
 #include "sheet/sheetwriter.h"
 #include "support/plotstyle.h"
 
-#include "loopsketch/feedback/metrics.h"
+#include "loopsketch/analysis/metrics.h"
 
 #include <QFontMetricsF>
 #include <QImage>

@@ -5,9 +5,9 @@
 #include "sketch/sketchlayout.h"
 #include "sketch/sketchscene.h"
 
+#include "loopsketch/analysis/metrics.h"
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/design/candidate.h"
-#include "loopsketch/feedback/metrics.h"
 
 #include <QBuffer>
 #include <QDate>
