@@ -7,9 +7,13 @@
 // candidate's values written into the parts' primary fields (the rule of
 // `loopsketch analyze --candidate`, applied here independently of the ui's helper).
 
+#include "clirun.h"
 #include "demowindowtest.h"
 #include "panels/candidatespanel.h"
+#include "panels/noisepanel.h"
 #include "panels/panels.h"
+#include "sheet/reviewsheet.h"
+#include "support/plotstyle.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
@@ -18,6 +22,7 @@
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/base/value.h"
 #include "loopsketch/design/designfile.h"
+#include "loopsketch/report/noisenames.h"
 
 #include <QAction>
 #include <QApplication>
@@ -28,6 +33,7 @@
 #include <QLabel>
 #include <QLineEdit>
 #include <QMenu>
+#include <QScatterSeries>
 #include <QSignalSpy>
 #include <QStandardPaths>
 #include <QTableWidget>
@@ -45,6 +51,7 @@
 using namespace loopsketch;
 using namespace loopsketch::ui;
 using ::testing::HasSubstr;
+using ::testing::Not;
 
 namespace {
 
@@ -370,8 +377,6 @@ TEST_F(CandidatesTest, BestMarksTheRightCell)
         {CandidatesPanel::kGainErrorRow,
          bestColumns([&](const Analysis &a) { return -std::abs(*a.exact.gain - centre); }),
          "smallest gain error"},
-        {CandidatesPanel::kPeakingRow, bestColumns([](const Analysis &a) { return -*a.peakingDb; }),
-         "least peaking"},
     };
     for (const Expectation &e : rows) {
         ASSERT_LT(std::count(e.columns.begin(), e.columns.end(), true), qsizetype(analyses.size()))
@@ -396,6 +401,33 @@ TEST_F(CandidatesTest, BestMarksTheRightCell)
     EXPECT_TRUE(item->font().bold());
     // "High gain" misses the gain window, so it meets fewer specs than the design does.
     EXPECT_FALSE(panel()->isBest(CandidatesPanel::kSpecsMetRow, "High gain"));
+    // No spec says which way is better for peaking, impedance or noise: never marked, though
+    // the columns differ there.
+    EXPECT_NE(panel()->cellText(CandidatesPanel::kPeakingRow, columns[0]),
+              panel()->cellText(CandidatesPanel::kPeakingRow, columns[1]));
+    for (const QString &row : {CandidatesPanel::kPeakingRow, CandidatesPanel::kDesensitivityRow,
+                               CandidatesPanel::kZInRow, CandidatesPanel::kZOutRow,
+                               CandidatesPanel::kOutputNoiseRow, CandidatesPanel::kInputNoiseRow}) {
+        for (const QString &column : columns)
+            EXPECT_FALSE(panel()->isBest(row, column)) << row.toStdString();
+    }
+}
+
+TEST_F(CandidatesTest, NoiseRowsShowCoreRmsOfEachColumn)
+{
+    const Design design = doc()->design();
+    const QStringList columns = panel()->columnNames();
+    std::vector<Analysis> analyses{coreAnalysis(design)};
+    for (const Candidate &c : design.candidates)
+        analyses.push_back(coreAnalysis(applied(design, c)));
+    const NoiseUnits units = noiseUnits(analyses[0].gainUnit);
+    for (std::size_t i = 0; i < analyses.size(); ++i) {
+        ASSERT_TRUE(analyses[i].noise && analyses[i].noise->outputRms);
+        EXPECT_EQ(panel()->cellText(CandidatesPanel::kOutputNoiseRow, columns[qsizetype(i)]),
+                  toQString(formatEngineering(*analyses[i].noise->outputRms, 3, units.output)));
+        EXPECT_EQ(panel()->cellText(CandidatesPanel::kInputNoiseRow, columns[qsizetype(i)]),
+                  toQString(formatEngineering(*analyses[i].noise->inputRms, 3, units.input)));
+    }
 }
 
 TEST_F(CandidatesTest, NoNumberIsNaNAndMissingOnesSayWhy)
@@ -430,22 +462,21 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
     loop->overlayAction()->setChecked(true);
     EXPECT_EQ(loop->overlaySeriesNames(),
-              QStringList({"Fast: loop gain T", "Fast: gain, exact", "High gain: loop gain T",
-                           "High gain: gain, exact"}));
+              QStringList({"Fast: T", "Fast: gain", "High gain: T", "High gain: gain"}));
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore + 4);
-    // One legend entry per candidate, named after it, after the panel's own curves (once the
-    // legend's posted layout has run).
+    // One legend entry per candidate naming it and each quantity it overlays, after the
+    // panel's own curves (once the legend's posted layout has run).
     QApplication::processEvents();
     EXPECT_EQ(loop->legendLabels(),
               QStringList({LoopGainPanel::kA, LoopGainPanel::kT, LoopGainPanel::kTwoPort,
-                           LoopGainPanel::kExact, "Fast", "High gain"}));
+                           LoopGainPanel::kExact, "Fast: T, gain", "High gain: T, gain"}));
 
     // The overlay holds every point of core's loop gain for that candidate.
     const Design design = doc()->design();
     const Analysis fast = coreAnalysis(applied(design, candidateNamed(design, "Fast")));
     const QList<QPointF> want
         = curvePoints(fast.frequenciesHz, fast.curves.loopGain, CurvePart::MagnitudeDb);
-    QXYSeries *s = loop->series(QStringLiteral("Fast: loop gain T"));
+    QXYSeries *s = loop->series(QStringLiteral("Fast: T"));
     ASSERT_NE(s, nullptr);
     const QList<QPointF> full = loop->fullPoints(s);
     ASSERT_EQ(full.size(), want.size());
@@ -459,18 +490,18 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     QString error;
     ASSERT_TRUE(doc()->pinCandidate(QStringLiteral("Wide"), &error));
     settle();
-    EXPECT_TRUE(loop->overlaySeriesNames().contains(QStringLiteral("Wide: loop gain T")));
+    EXPECT_TRUE(loop->overlaySeriesNames().contains(QStringLiteral("Wide: T")));
     ASSERT_TRUE(doc()->deleteCandidate(QStringLiteral("Fast")));
     settle();
-    EXPECT_FALSE(loop->overlaySeriesNames().contains(QStringLiteral("Fast: loop gain T")));
-    EXPECT_EQ(loop->series(QStringLiteral("Fast: loop gain T")), nullptr);
+    EXPECT_FALSE(loop->overlaySeriesNames().contains(QStringLiteral("Fast: T")));
+    EXPECT_EQ(loop->series(QStringLiteral("Fast: T")), nullptr);
 
     loop->overlayAction()->setChecked(false);
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
     QApplication::processEvents();
     EXPECT_EQ(loop->legendLabels().size(), 4);
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore);
-    EXPECT_EQ(loop->series(QStringLiteral("Wide: loop gain T")), nullptr);
+    EXPECT_EQ(loop->series(QStringLiteral("Wide: T")), nullptr);
 
     // The Design menu's toggle turns on every frequency panel's overlays.
     QAction *all = nullptr;
@@ -489,7 +520,57 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
         for (const QString &n : p->overlaySeriesNames())
             EXPECT_TRUE(n.startsWith("High gain: ") || n.startsWith("Wide: ")) << n.toStdString();
     }
-    EXPECT_EQ(withOverlays, 3); // Loop gain, Impedance, Desensitivity
+    // Loop gain, Impedance, Desensitivity, Step, Poles, Noise
+    EXPECT_EQ(withOverlays, 6);
+}
+
+TEST_F(CandidatesTest, StepAndPolesOverlayEachCandidate)
+{
+    const auto panelOf = [this]<class T>() -> T * {
+        for (PlotPanel *p : window->panels()) {
+            if (auto *t = qobject_cast<T *>(p))
+                return t;
+        }
+        return nullptr;
+    };
+    const Design design = doc()->design();
+    const Analysis fast = coreAnalysis(applied(design, candidateNamed(design, "Fast")));
+    const Analysis current = coreAnalysis(design);
+
+    // Step: the candidate's own response, in the current design's time and output scale.
+    StepPanel *step = panelOf.template operator()<StepPanel>();
+    ASSERT_NE(step, nullptr);
+    ASSERT_TRUE(step->hasOverlays());
+    step->overlayAction()->setChecked(true);
+    QXYSeries *s = step->series(QStringLiteral("Fast: step"));
+    ASSERT_NE(s, nullptr);
+    double tMax = 0, yMax = 0;
+    for (double t : current.step.timeS)
+        tMax = std::max(tMax, std::abs(t));
+    for (double y : current.step.response)
+        yMax = std::max(yMax, std::abs(y));
+    const QList<QPointF> want
+        = realPoints(fast.step.timeS, fast.step.response, scalePrefixFor(tMax).factor,
+                     scalePrefixFor(yMax).factor);
+    const QList<QPointF> full = step->fullPoints(s);
+    ASSERT_EQ(full.size(), want.size());
+    for (qsizetype i = 0; i < full.size(); i += 23) {
+        EXPECT_NEAR(full[i].x(), want[i].x(), 1e-12 * std::abs(want[i].x()) + 1e-15) << i;
+        EXPECT_NEAR(full[i].y(), want[i].y(), 1e-12 * std::abs(want[i].y()) + 1e-15) << i;
+    }
+
+    // Poles: hollow markers, one per finite pole of the candidate.
+    PolesPanel *poles = panelOf.template operator()<PolesPanel>();
+    ASSERT_NE(poles, nullptr);
+    ASSERT_TRUE(poles->hasOverlays());
+    poles->overlayAction()->setChecked(true);
+    auto *markers = qobject_cast<QScatterSeries *>(poles->series(QStringLiteral("Fast: poles")));
+    ASSERT_NE(markers, nullptr);
+    EXPECT_EQ(markers->count(), qsizetype(fast.poles.size()));
+    EXPECT_EQ(markers->brush().style(), Qt::NoBrush);
+    EXPECT_EQ(markers->pen().color(), overlayColour(0));
+    QApplication::processEvents();
+    EXPECT_TRUE(poles->legendLabels().contains(QStringLiteral("High gain: poles")));
 }
 
 TEST_F(CandidatesTest, SavingAndReloadingKeepsCandidates)
@@ -539,7 +620,9 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
     window->showCandidates();
     window->loopGainPanel()->overlayAction()->setChecked(true);
     for (PlotPanel *p : window->panels()) {
-        if (p->objectName() == QStringLiteral("Desensitivity"))
+        if (p->objectName() == QStringLiteral("Desensitivity")
+            || p->objectName() == QStringLiteral("Step")
+            || p->objectName() == QStringLiteral("Poles"))
             p->overlayAction()->setChecked(true);
     }
     QTest::qWait(400);
@@ -548,6 +631,13 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
     ASSERT_TRUE(panel()->grab().save(dirName + "/loopsketch-candidates-panel.png"));
     ASSERT_TRUE(
         window->loopGainPanel()->grab().save(dirName + "/loopsketch-candidates-overlay.png"));
+    for (PlotPanel *p : window->panels()) {
+        if (p->objectName() == QStringLiteral("Step")
+            || p->objectName() == QStringLiteral("Poles")) {
+            ASSERT_TRUE(p->grab().save(dirName + "/loopsketch-candidates-"
+                                       + p->objectName().toLower() + ".png"));
+        }
+    }
     auto *impedanceDock = window->findChild<QDockWidget *>(QStringLiteral("ImpedanceDock"));
     ASSERT_NE(impedanceDock, nullptr);
     impedanceDock->raise();
@@ -568,3 +658,86 @@ TEST_F(CandidatesTest, WritesACandidatesScreenshot)
 }
 
 } // namespace
+
+TEST_F(CandidatesTest, SheetAndScreenNameEveryCurveAndOverlayAlike)
+{
+    // Every panel's overlays on, as the Design menu's toggle does.
+    for (PlotPanel *p : window->panels()) {
+        if (p->hasOverlays())
+            p->overlayAction()->setChecked(true);
+    }
+    QApplication::processEvents();
+    QTemporaryDir dir;
+    ASSERT_TRUE(dir.isValid());
+    const QString pdf = dir.filePath(QStringLiteral("sheet.pdf"));
+    QString error;
+    ASSERT_TRUE(renderReviewSheet(doc()->design(), *doc()->analysis(), pdf, SheetPageSize::A4,
+                                  QStringLiteral("demo"), &error))
+        << error.toStdString();
+    const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
+    const std::string sheet = text.out.toStdString();
+
+    // The sheet's own curves carry the names the panels' legends carry (one table).
+    const PlotCurve drawnOnBoth[]
+        = {PlotCurve::LoopGain, PlotCurve::GainExact,   PlotCurve::GainTwoPort,
+           PlotCurve::ZIn,      PlotCurve::ZOut,        PlotCurve::Desensitivity,
+           PlotCurve::Step,     PlotCurve::NoiseOutput, PlotCurve::NoiseInput};
+    for (PlotCurve curve : drawnOnBoth) {
+        const QString name = curveName(curve);
+        EXPECT_THAT(sheet, HasSubstr(name.toStdString()));
+        bool onScreen = false;
+        for (PlotPanel *p : window->panels())
+            onScreen = onScreen || p->legendLabels().contains(name);
+        EXPECT_TRUE(onScreen) << name.toStdString();
+    }
+    EXPECT_EQ(LoopGainPanel::kT, QStringLiteral("T (return ratio)"));
+    EXPECT_THAT(sheet, Not(HasSubstr("|T| (return ratio)")));
+
+    // Every overlay legend entry of the screen's frequency and step panels ("Fast: T, gain")
+    // is on the sheet too (the Poles panel's markers have no plot on the sheet), and each
+    // names every overlay curve's quantity.
+    QStringList candidates;
+    for (const Candidate &c : doc()->design().candidates)
+        candidates << toQString(c.name);
+    int overlays = 0, entries = 0;
+    for (PlotPanel *p : window->panels()) {
+        if (qobject_cast<PolesPanel *>(p))
+            continue;
+        overlays += int(p->overlaySeriesNames().size());
+        for (const QString &label : p->legendLabels()) {
+            const qsizetype colon = label.indexOf(QStringLiteral(": "));
+            if (colon < 0 || !candidates.contains(label.left(colon)))
+                continue;
+            ++entries;
+            EXPECT_THAT(sheet, HasSubstr(label.toStdString())) << p->objectName().toStdString();
+            const QString prefix = label.left(colon + 2);
+            const QStringList quantities = label.mid(colon + 2).split(QStringLiteral(", "));
+            for (const QString &name : p->overlaySeriesNames()) {
+                if (name.startsWith(prefix)) {
+                    EXPECT_TRUE(quantities.contains(name.mid(prefix.size())))
+                        << label.toStdString() << " / " << name.toStdString();
+                }
+            }
+        }
+    }
+    // Two candidates: T, gain, z_in, z_out, |1 + T|, step, output noise each; one legend
+    // entry per candidate on each of the five plots.
+    EXPECT_EQ(overlays, 2 * 7);
+    EXPECT_EQ(entries, 2 * 5);
+    for (const QString &c : candidates) {
+        EXPECT_THAT(
+            sheet,
+            HasSubstr(
+                overlayLegendText(c, {PlotCurve::LoopGain, PlotCurve::GainExact}).toStdString()));
+        EXPECT_THAT(sheet, HasSubstr(overlayName(c, PlotCurve::Step).toStdString()));
+    }
+
+    // The comparison on paper is the panel's: every row title and every cell's text.
+    for (const QString &row : panel()->rowNames()) {
+        EXPECT_THAT(sheet, HasSubstr(row.toStdString()));
+        for (const QString &column : panel()->columnNames())
+            EXPECT_THAT(sheet, HasSubstr(panel()->cellText(row, column).toStdString()))
+                << row.toStdString() << " / " << column.toStdString();
+    }
+}

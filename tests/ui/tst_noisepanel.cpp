@@ -278,9 +278,13 @@ TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
     const NoiseAnalysis &n = noise();
     const std::size_t i = indexNear(n.frequenciesHz, std::pow(10.0, log10Hz));
     const std::string values = panel->valuesText().toStdString();
-    EXPECT_THAT(values, HasSubstr("total: " + formatEngineering(n.outputDensity[i], 3, "V/√Hz")));
+    // Named as the legend names the curves (the curve table).
     EXPECT_THAT(values,
-                HasSubstr("input-referred: " + formatEngineering(n.inputDensity[i], 3, "A/√Hz")));
+                HasSubstr(NoisePanel::kTotal.toStdString() + ": "
+                          + formatEngineering(n.outputDensity[i], 3, "V/√Hz")));
+    EXPECT_THAT(values,
+                HasSubstr(NoisePanel::kInput.toStdString() + ": "
+                          + formatEngineering(n.inputDensity[i], 3, "A/√Hz")));
     EXPECT_THAT(values, HasSubstr("RF thermal: "));
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-noise-cursor.png");
 

@@ -484,10 +484,17 @@ TEST(ReviewSheetCandidates, ComparisonShowsEachCandidatesAnalysis)
         auto a = loopsketch::analyze(*applied);
         ASSERT_TRUE(a) << a.errorText();
         EXPECT_THAT(sheet, HasSubstr(c.name)) << c.name;
+        // As core's comparison writes them (report/candidatecomparison.h), the Candidates
+        // panel alike.
         ASSERT_TRUE(a->bandwidthHz) << c.name;
-        EXPECT_THAT(sheet, HasSubstr(sheetNumber(*a->bandwidthHz, "Hz").toStdString())) << c.name;
+        EXPECT_THAT(sheet, HasSubstr(loopsketch::formatEngineering(*a->bandwidthHz, 3, "Hz")))
+            << c.name;
         ASSERT_TRUE(a->exact.zIn) << c.name;
-        EXPECT_THAT(sheet, HasSubstr(sheetNumber(*a->exact.zIn, "Ω").toStdString())) << c.name;
+        EXPECT_THAT(sheet, HasSubstr(loopsketch::formatEngineering(*a->exact.zIn, 3, "Ω")))
+            << c.name;
+        ASSERT_TRUE(a->noise && a->noise->outputRms) << c.name;
+        EXPECT_THAT(sheet, HasSubstr(loopsketch::formatEngineering(*a->noise->outputRms, 3, "V")))
+            << c.name;
     }
 }
 

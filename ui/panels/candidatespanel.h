@@ -10,6 +10,7 @@
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/design.h"
+#include "loopsketch/report/candidatecomparison.h"
 
 #include <QThreadPool>
 #include <QTimer>
@@ -40,17 +41,21 @@ public:
     /// Title of the first column.
     static inline const QString kCurrentColumn = QStringLiteral("current design");
 
-    // Row titles (the table's vertical header), for tests and the review of a cell.
-    static inline const QString kGainRow = QStringLiteral("closed-loop gain");
-    static inline const QString kGainErrorRow = QStringLiteral("gain error vs spec");
-    static inline const QString kBandwidthRow = QStringLiteral("bandwidth −3 dB");
-    static inline const QString kPhaseMarginRow = QStringLiteral("phase margin");
-    static inline const QString kPeakingRow = QStringLiteral("peaking");
-    static inline const QString kDesensitivityRow = QStringLiteral("desensitivity at DC");
-    static inline const QString kZInRow = QStringLiteral("z_in at DC");
-    static inline const QString kZOutRow = QStringLiteral("z_out at DC");
-    static inline const QString kWorstCaseRow = QStringLiteral("worst-case gain");
-    static inline const QString kSpecsMetRow = QStringLiteral("specs met");
+    // Row titles (the table's vertical header) of core's comparison, for tests and the
+    // review of a cell.
+    static inline const QString kGainRow = QString::fromUtf8(comparisonrow::kGain);
+    static inline const QString kGainErrorRow = QString::fromUtf8(comparisonrow::kGainError);
+    static inline const QString kBandwidthRow = QString::fromUtf8(comparisonrow::kBandwidth);
+    static inline const QString kPhaseMarginRow = QString::fromUtf8(comparisonrow::kPhaseMargin);
+    static inline const QString kPeakingRow = QString::fromUtf8(comparisonrow::kPeaking);
+    static inline const QString kDesensitivityRow
+        = QString::fromUtf8(comparisonrow::kDesensitivity);
+    static inline const QString kZInRow = QString::fromUtf8(comparisonrow::kZIn);
+    static inline const QString kZOutRow = QString::fromUtf8(comparisonrow::kZOut);
+    static inline const QString kOutputNoiseRow = QString::fromUtf8(comparisonrow::kOutputNoise);
+    static inline const QString kInputNoiseRow = QString::fromUtf8(comparisonrow::kInputNoise);
+    static inline const QString kWorstCaseRow = QString::fromUtf8(comparisonrow::kWorstCase);
+    static inline const QString kSpecsMetRow = QString::fromUtf8(comparisonrow::kSpecsMet);
 
     /// The glyph in front of a row's best value.
     static inline const QString kBestMarker = QStringLiteral("★");
@@ -103,11 +108,7 @@ private:
         Design key; ///< the applied design, without candidates, sketch, title or notes
         std::shared_ptr<const Analysis> analysis; ///< nullptr when the analysis failed
         QString problem; ///< why there is no analysis
-        bool hasTolerances = false;
-        OptionalNumber worstMin, worstMax;
-        bool worstExhaustive = true;
-        std::size_t corners = 0;
-        QString worstProblem;
+        ComparisonWorstCase worst; ///< the applied design's worst-case gain
     };
     using ComputedPtr = std::shared_ptr<const Computed>;
 
@@ -120,6 +121,12 @@ private:
     void startWorker();
     void workerFinished(std::vector<ComputedPtr> results, double ms);
     void fillTable();
+    /// The columns for core's comparison; `stale` per column: the numbers are from before
+    /// the last edit.
+    std::vector<ComparisonInput> comparisonInputs(std::vector<bool> *stale) const;
+    void setRowHeader(int row, const ComparisonRow &data);
+    void setColumnHeader(int column, const QString &name, const Candidate *candidate, bool stale);
+    void setCell(int row, int column, const ComparisonRow &data, bool stale);
     /// Fills the table now when a refresh left it for later.
     void flush() const;
     void updateActions();

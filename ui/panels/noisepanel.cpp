@@ -123,10 +123,12 @@ NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
     m_yInput = addLogAxis(tr("input (A/√Hz)"), Qt::AlignRight);
     m_yInput->setGridLineVisible(false);
     // The right axis reads in the input-referred curve's colour.
-    m_yInput->setTitleBrush(palette::kVermillion.darker(115));
-    m_yInput->setLabelsColor(palette::kVermillion.darker(115));
-    m_total = addLine(kTotal, palette::kBlack, Qt::SolidLine, m_x, m_y);
-    m_input = addLine(kInput, palette::kVermillion, Qt::DashLine, m_x, m_yInput);
+    m_yInput->setTitleBrush(curveStyle(PlotCurve::NoiseInput).colour.darker(115));
+    m_yInput->setLabelsColor(curveStyle(PlotCurve::NoiseInput).colour.darker(115));
+    const CurveStyle &total = curveStyle(PlotCurve::NoiseOutput);
+    const CurveStyle &input = curveStyle(PlotCurve::NoiseInput);
+    m_total = addLine(total.name, total.colour, total.style, m_x, m_y);
+    m_input = addLine(input.name, input.colour, input.style, m_x, m_yInput);
     m_bandEdge = addLine(tr("band"), QColor(0x77, 0x7d, 0x88), Qt::DotLine, m_x, m_y, false);
 
     QFont f = font();
@@ -155,6 +157,16 @@ NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
     m_valuesText->setZValue(22);
     m_valuesText->setVisible(false);
     connect(chart(), &QChart::plotAreaChanged, this, [this] { placeOverlays(); });
+    enableOverlays(m_x);
+}
+
+std::vector<PlotPanel::OverlayLine> NoisePanel::overlayLines(const Analysis &a) const
+{
+    if (!a.noise)
+        return {};
+    QList<QPointF> total, input;
+    densityPoints(*a.noise, &total, &input);
+    return {{PlotCurve::NoiseOutput, total, m_y, CursorFormat::None}};
 }
 
 void NoisePanel::setBandCount(std::size_t count)
@@ -244,25 +256,7 @@ void NoisePanel::draw(Pending in)
         && std::any_of(in.noise->outputDensity.begin(), in.noise->outputDensity.end(),
                        [](double v) { return std::isfinite(v) && v > 0; });
     if (!drawable) {
-        m_noise.reset();
-        setBandCount(0);
-        replaceThinned(m_total, {}, xLo, xHi);
-        replaceThinned(m_input, {}, xLo, xHi);
-        m_bandEdge->replace(QList<QPointF>{});
-        m_bandEdgeAt = std::nan("");
-        QString why = !in.noise ? in.problem : tr("no noise source reaches the output");
-        if (why.startsWith(QStringLiteral("noise: ")))
-            why.remove(0, 7);
-        m_problem->setPlainText(
-            tr("No noise analysis: %1").arg(why.isEmpty() ? tr("not computed") : why));
-        m_problem->setVisible(true);
-        // Without curves the density axes and the legend would only show stale ranges.
-        m_y->setVisible(false);
-        m_yInput->setVisible(false);
-        chart()->legend()->setVisible(false);
-        setTitle(tr("noise not available"));
-        placeOverlays();
-        showValuesAt(std::nan(""));
+        showNoNoise(in);
         return;
     }
     m_problem->setVisible(false);
@@ -276,16 +270,67 @@ void NoisePanel::draw(Pending in)
     const std::vector<double> &hz = n.frequenciesHz;
 
     QList<QPointF> total, input;
-    total.reserve(qsizetype(hz.size()));
-    input.reserve(qsizetype(hz.size()));
+    densityPoints(n, &total, &input);
+    const auto [bottom, top] = setDensityAxes(total, input);
+
+    const std::vector<const NoiseContribution *> order = noiseSourcesByShare(n);
+    drawBands(n, order, bottom, xLo, xHi);
+    replaceThinned(m_total, total, xLo, xHi);
+    replaceThinned(m_input, input, xLo, xHi);
+
+    QList<QPointF> edge;
+    if (n.bandHighHz > 0 && n.bandHighHz < hz.back() * (1 - 1e-9)) {
+        const double x = std::log10(n.bandHighHz);
+        edge = {QPointF(x, bottom), QPointF(x, top)};
+    }
+    m_bandEdge->replace(edge);
+    m_bandEdgeAt = edge.isEmpty() ? std::nan("") : edge.front().x();
+
+    showSummary(n, order);
+    placeOverlays();
+    showValuesAt(m_cursorAt);
+}
+
+void NoisePanel::showNoNoise(const Pending &in)
+{
+    m_noise.reset();
+    setBandCount(0);
+    replaceThinned(m_total, {}, in.xLo, in.xHi);
+    replaceThinned(m_input, {}, in.xLo, in.xHi);
+    m_bandEdge->replace(QList<QPointF>{});
+    m_bandEdgeAt = std::nan("");
+    QString why = !in.noise ? in.problem : tr("no noise source reaches the output");
+    if (why.startsWith(QStringLiteral("noise: ")))
+        why.remove(0, 7);
+    m_problem->setPlainText(
+        tr("No noise analysis: %1").arg(why.isEmpty() ? tr("not computed") : why));
+    m_problem->setVisible(true);
+    // Without curves the density axes and the legend would only show stale ranges.
+    m_y->setVisible(false);
+    m_yInput->setVisible(false);
+    chart()->legend()->setVisible(false);
+    setTitle(tr("noise not available"));
+    placeOverlays();
+    showValuesAt(std::nan(""));
+}
+
+void NoisePanel::densityPoints(const NoiseAnalysis &n, QList<QPointF> *total, QList<QPointF> *input)
+{
+    const std::vector<double> &hz = n.frequenciesHz;
+    total->reserve(qsizetype(hz.size()));
+    input->reserve(qsizetype(hz.size()));
     for (std::size_t i = 0; i < hz.size(); ++i) {
         const double x = std::log10(hz[i]);
         if (std::isfinite(n.outputDensity[i]) && n.outputDensity[i] > 0)
-            total.append(QPointF(x, std::log10(n.outputDensity[i])));
+            total->append(QPointF(x, std::log10(n.outputDensity[i])));
         if (i < n.inputDensity.size() && std::isfinite(n.inputDensity[i]) && n.inputDensity[i] > 0)
-            input.append(QPointF(x, std::log10(n.inputDensity[i])));
+            input->append(QPointF(x, std::log10(n.inputDensity[i])));
     }
+}
 
+std::pair<double, double> NoisePanel::setDensityAxes(const QList<QPointF> &total,
+                                                     const QList<QPointF> &input)
+{
     // Decades shown: from the total's peak to a decade under its minimum (so the stack
     // keeps some height everywhere), 2 to 7 decades; the input-referred axis spans as many
     // decades from its own minimum, so slopes compare.
@@ -300,18 +345,16 @@ void NoisePanel::draw(Pending in)
         const double inBottom = std::floor(inLo - 0.05);
         setDecadeRange(m_yInput, inBottom, inBottom + span, {});
     }
+    return {bottom, top};
+}
 
-    // Stack, in power: under the total density, the height from the plot's bottom up to the
-    // total is split among the sources in proportion to their share of the power at that
-    // frequency (on a log axis, cumulative densities would give the lowest band most of the
-    // height whatever its share). The top of the stack is the total; the largest source
-    // over the band sits at the bottom.
-    const std::vector<const NoiseContribution *> order = noiseSourcesByShare(n);
-    setBandCount(order.size());
-
+std::vector<char> NoisePanel::drawnSources(const NoiseAnalysis &n,
+                                           const std::vector<const NoiseContribution *> &order)
+{
     // A band that never reaches 3 % of the power anywhere in the sweep is a few pixels at
     // most: it is not drawn (its share still lifts the bands above it) and leaves the
     // legend with it. The tooltip lists every source.
+    const std::vector<double> &hz = n.frequenciesHz;
     std::vector<char> drawn(order.size());
     QStringList all;
     int quiet = 0;
@@ -336,6 +379,22 @@ void NoisePanel::draw(Pending in)
                + (quiet > 0 ? tr("\n(%n source(s) below 3 % everywhere not drawn)", nullptr, quiet)
                             : QString())
                + tr("\nBand heights: each source's share of the power at that frequency."));
+    return drawn;
+}
+
+void NoisePanel::drawBands(const NoiseAnalysis &n,
+                           const std::vector<const NoiseContribution *> &order, double bottom,
+                           double xLo, double xHi)
+{
+    const std::vector<double> &hz = n.frequenciesHz;
+    // Stack, in power: under the total density, the height from the plot's bottom up to the
+    // total is split among the sources in proportion to their share of the power at that
+    // frequency (on a log axis, cumulative densities would give the lowest band most of the
+    // height whatever its share). The top of the stack is the total; the largest source
+    // over the band sits at the bottom.
+    setBandCount(order.size());
+
+    const std::vector<char> drawn = drawnSources(n, order);
     std::vector<double> totalPsd(hz.size(), 0.0), cumulative(hz.size(), 0.0);
     for (const NoiseContribution *c : order) {
         for (std::size_t i = 0; i < hz.size() && i < c->outputPsd.size(); ++i) {
@@ -387,17 +446,11 @@ void NoisePanel::draw(Pending in)
         }
         lower = std::move(upper);
     }
-    replaceThinned(m_total, total, xLo, xHi);
-    replaceThinned(m_input, input, xLo, xHi);
+}
 
-    QList<QPointF> edge;
-    if (n.bandHighHz > 0 && n.bandHighHz < hz.back() * (1 - 1e-9)) {
-        const double x = std::log10(n.bandHighHz);
-        edge = {QPointF(x, bottom), QPointF(x, top)};
-    }
-    m_bandEdge->replace(edge);
-    m_bandEdgeAt = edge.isEmpty() ? std::nan("") : edge.front().x();
-
+void NoisePanel::showSummary(const NoiseAnalysis &n,
+                             const std::vector<const NoiseContribution *> &order)
+{
     const QString out = n.outputRms
         ? toQString(formatEngineering(*n.outputRms, 3, toStdString(m_units.output)))
         : QStringLiteral("—");
@@ -415,8 +468,6 @@ void NoisePanel::draw(Pending in)
                  .arg(out, inRms, noiseBandText(n), noiseBandKindText(n), lead));
     setToolTip(tr("rms: the output density integrated over the band on the circuit model\n%1")
                    .arg(toQString(n.bandMethod)));
-    placeOverlays();
-    showValuesAt(m_cursorAt);
 }
 
 QStringList NoisePanel::bandNames() const

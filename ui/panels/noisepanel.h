@@ -52,8 +52,9 @@ public:
     explicit NoisePanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
-    static inline const QString kTotal = QStringLiteral("total");
-    static inline const QString kInput = QStringLiteral("input-referred");
+    // Legend names, from the one curve table (support/plotstyle.h).
+    static inline const QString kTotal = curveName(PlotCurve::NoiseOutput);
+    static inline const QString kInput = curveName(PlotCurve::NoiseInput);
 
     /// Source names of the stacked bands, bottom of the stack first.
     QStringList bandNames() const;
@@ -65,6 +66,9 @@ public:
     QString valuesText() const;
     /// The summary line above the plot.
     QString summaryText() const { return summary(); }
+
+protected:
+    std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
 
 public slots:
     /// Off screen (a tab behind another; QDockWidget::visibilityChanged), analyses are kept
@@ -84,6 +88,20 @@ private:
         QString problem;
     };
     void draw(Pending in);
+    void showNoNoise(const Pending &in);
+    /// log10 of the output and input-referred densities over log10(f / Hz); non-finite and
+    /// zero densities left out.
+    static void densityPoints(const NoiseAnalysis &n, QList<QPointF> *total, QList<QPointF> *input);
+    /// Sets the density axes; returns the output axis' bottom and top (log10 units).
+    std::pair<double, double> setDensityAxes(const QList<QPointF> &total,
+                                             const QList<QPointF> &input);
+    /// Per source in `order`: drawn (it reaches 3 % of the power somewhere); sets the tooltip.
+    std::vector<char> drawnSources(const NoiseAnalysis &n,
+                                   const std::vector<const NoiseContribution *> &order);
+    /// The sources' shares stacked in power under the total.
+    void drawBands(const NoiseAnalysis &n, const std::vector<const NoiseContribution *> &order,
+                   double bottom, double xLo, double xHi);
+    void showSummary(const NoiseAnalysis &n, const std::vector<const NoiseContribution *> &order);
     void setBandCount(std::size_t count);
     void placeOverlays();
 

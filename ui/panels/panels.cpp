@@ -36,12 +36,12 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
     m_mag = addValueAxis(tr("magnitude (dB)"), Qt::AlignLeft);
     m_phase = addValueAxis(tr("phase (°), dashed"), Qt::AlignRight, false);
-    const QString names[4] = {kA, kT, kTwoPort, kExact};
-    const QColor colours[4] = {palette::kOrange, palette::kBlue, palette::kPurple, palette::kBlack};
+    const PlotCurve curves[4]
+        = {PlotCurve::A, PlotCurve::LoopGain, PlotCurve::GainTwoPort, PlotCurve::GainExact};
     for (int i = 0; i < 4; ++i) {
-        m_magSeries[i] = addLine(names[i], colours[i], Qt::SolidLine, m_x, m_mag);
-        m_phaseSeries[i]
-            = addLine(kPhase + names[i], colours[i], Qt::DashLine, m_x, m_phase, false);
+        const CurveStyle &c = curveStyle(curves[i]);
+        m_magSeries[i] = addLine(c.name, c.colour, c.style, m_x, m_mag);
+        m_phaseSeries[i] = addLine(kPhase + c.name, c.colour, Qt::DashLine, m_x, m_phase, false);
     }
     m_crossover = addMarker(QStringLiteral("crossover"), palette::kVermillion, m_x, m_mag);
     m_gainMargin = addMarker(QStringLiteral("gain margin"), palette::kGreen, m_x, m_mag);
@@ -50,15 +50,15 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
          {static_cast<QXYSeries *>(m_crossover), static_cast<QXYSeries *>(m_gainMargin),
           static_cast<QXYSeries *>(m_phaseMargin)})
         hideFromLegend(s);
-    enableOverlays();
+    enableOverlays(m_x);
 }
 
 std::vector<PlotPanel::OverlayLine> LoopGainPanel::overlayLines(const Analysis &a) const
 {
-    return {{QStringLiteral("loop gain T"),
+    return {{PlotCurve::LoopGain,
              curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb), m_mag,
              CursorFormat::Decibels},
-            {QStringLiteral("gain, exact"),
+            {PlotCurve::GainExact,
              curvePoints(a.frequenciesHz, a.curves.gainExact, CurvePart::MagnitudeDb), m_mag,
              CursorFormat::Decibels}};
 }
@@ -119,19 +119,21 @@ ImpedancePanel::ImpedancePanel(QWidget *parent) : PlotPanel(tr("Impedance"), par
 {
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
     m_y = addLogAxis(tr("|z| (Ω)"), Qt::AlignLeft);
-    m_lines[0] = addLine(tr("z_in"), palette::kBlue, Qt::SolidLine, m_x, m_y);
-    m_lines[1] = addLine(tr("z_in, no feedback"), palette::kSkyBlue, Qt::DashLine, m_x, m_y);
-    m_lines[2] = addLine(tr("z_out"), palette::kVermillion, Qt::SolidLine, m_x, m_y);
-    m_lines[3] = addLine(tr("z_out, no feedback"), palette::kOrange, Qt::DashLine, m_x, m_y);
-    enableOverlays();
+    const PlotCurve curves[4]
+        = {PlotCurve::ZIn, PlotCurve::ZInNoFeedback, PlotCurve::ZOut, PlotCurve::ZOutNoFeedback};
+    for (int i = 0; i < 4; ++i) {
+        const CurveStyle &c = curveStyle(curves[i]);
+        m_lines[i] = addLine(c.name, c.colour, c.style, m_x, m_y);
+    }
+    enableOverlays(m_x);
 }
 
 std::vector<PlotPanel::OverlayLine> ImpedancePanel::overlayLines(const Analysis &a) const
 {
-    return {{QStringLiteral("z_in"),
+    return {{PlotCurve::ZIn,
              curvePoints(a.frequenciesHz, a.curves.zInExact, CurvePart::Log10Magnitude), m_y,
              CursorFormat::Log10Ohms},
-            {QStringLiteral("z_out"),
+            {PlotCurve::ZOut,
              curvePoints(a.frequenciesHz, a.curves.zOutExact, CurvePart::Log10Magnitude), m_y,
              CursorFormat::Log10Ohms}};
 }
@@ -158,13 +160,14 @@ DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensit
 {
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("|1 + T| (dB)"), Qt::AlignLeft);
-    m_line = addLine(tr("|1 + T|"), palette::kBlue, Qt::SolidLine, m_x, m_y);
-    enableOverlays();
+    const CurveStyle &c = curveStyle(PlotCurve::Desensitivity);
+    m_line = addLine(c.name, c.colour, c.style, m_x, m_y);
+    enableOverlays(m_x);
 }
 
 std::vector<PlotPanel::OverlayLine> DesensitivityPanel::overlayLines(const Analysis &a) const
 {
-    return {{QStringLiteral("|1 + T|"),
+    return {{PlotCurve::Desensitivity,
              curvePoints(a.frequenciesHz, a.curves.desensitivity, CurvePart::MagnitudeDb), m_y,
              CursorFormat::Decibels}};
 }
@@ -204,11 +207,24 @@ StepPanel::StepPanel(QWidget *parent) : PlotPanel(tr("Step"), parent)
 {
     m_x = addValueAxis(tr("time (s)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("output per unit step"), Qt::AlignLeft);
-    m_line = addLine(tr("response"), palette::kBlue, Qt::SolidLine, m_x, m_y);
-    m_final = addLine(tr("final"), palette::kBlack, Qt::DotLine, m_x, m_y);
-    m_settling = addLine(tr("settled (1 %)"), palette::kGreen, Qt::DashLine, m_x, m_y);
+    const CurveStyle &step = curveStyle(PlotCurve::Step);
+    const CurveStyle &final = curveStyle(PlotCurve::StepFinal);
+    m_line = addLine(step.name, step.colour, step.style, m_x, m_y);
+    m_final = addLine(final.name, final.colour, final.style, m_x, m_y);
+    m_settling = addLine(tr("settled (1 %)"), palette::kSkyBlue, Qt::DashLine, m_x, m_y);
     m_peak = addMarker(tr("peak"), palette::kVermillion, m_x, m_y);
     hideFromLegend(m_peak);
+    enableOverlays(m_x);
+}
+
+std::vector<PlotPanel::OverlayLine> StepPanel::overlayLines(const Analysis &a) const
+{
+    // In the current design's time and output scale; an unstable candidate has no response.
+    if (!a.stable)
+        return {};
+    return {{PlotCurve::Step,
+             realPoints(a.step.timeS, a.step.response, m_timeFactor, m_valueFactor), m_y,
+             CursorFormat::None}};
 }
 
 void StepPanel::showAnalysis(const Analysis &a)
@@ -237,6 +253,11 @@ void StepPanel::showAnalysis(const Analysis &a)
     m_x->setTitleText(tr("time (%1s)").arg(tp.prefix));
     m_y->setTitleText(tr("output (%1%2)").arg(yp.prefix, toQString(a.gainUnit)));
     replaceThinned(m_line, points, 0.0, tMax * tp.factor);
+    if (tp.factor != m_timeFactor || yp.factor != m_valueFactor) {
+        m_timeFactor = tp.factor;
+        m_valueFactor = yp.factor;
+        refreshOverlays();
+    }
 
     QList<QPointF> finalLine;
     if (std::isfinite(s.finalValue))
@@ -279,8 +300,10 @@ PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
     m_x = addValueAxis(tr("Re s (rad/s)"), Qt::AlignBottom);
     m_y = addValueAxis(tr("Im s (rad/s)"), Qt::AlignLeft);
     m_axis = addLine(tr("jω axis"), QColor(0x99, 0x99, 0x99), Qt::DotLine, m_x, m_y, false);
-    m_poles = addMarker(tr("closed-loop poles"), palette::kVermillion, m_x, m_y, 10);
+    const CurveStyle &poles = curveStyle(PlotCurve::Poles);
+    m_poles = addMarker(poles.name, poles.colour, m_x, m_y, 10);
     m_poles->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+    enableOverlays(m_x);
     connect(m_poles, &QScatterSeries::hovered, this, [this](const QPointF &point, bool state) {
         if (!state) {
             QToolTip::hideText();
@@ -312,6 +335,17 @@ PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
     });
 }
 
+std::vector<PlotPanel::OverlayLine> PolesPanel::overlayLines(const Analysis &a) const
+{
+    // Hollow markers in the current design's scale, one set per candidate.
+    QList<QPointF> points;
+    for (const ClosedLoopPole &p : a.poles) {
+        if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag()))
+            points.append(QPointF(p.s.real() * m_scale, p.s.imag() * m_scale));
+    }
+    return {{PlotCurve::Poles, points, m_y, CursorFormat::None, true}};
+}
+
 void PolesPanel::showAnalysis(const Analysis &a)
 {
     double reMax = 0, imMax = 0, rightMost = 0;
@@ -336,7 +370,10 @@ void PolesPanel::showAnalysis(const Analysis &a)
     m_axis->replace({QPointF(0, -r), QPointF(0, r)});
     m_poles->replace(points);
     m_shown = a.poles;
-    m_scale = sp.factor;
+    if (sp.factor != m_scale) {
+        m_scale = sp.factor;
+        refreshOverlays();
+    }
     m_x->setTitleText(tr("Re s (%1rad/s)").arg(sp.prefix));
     m_y->setTitleText(tr("Im s (%1rad/s)").arg(sp.prefix));
     rename(m_poles, tr("closed-loop poles (%1)").arg(points.size()));

@@ -17,10 +17,11 @@ public:
     explicit LoopGainPanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
-    static inline const QString kA = QStringLiteral("A");
-    static inline const QString kT = QStringLiteral("T (return ratio)");
-    static inline const QString kTwoPort = QStringLiteral("gain, two-port");
-    static inline const QString kExact = QStringLiteral("gain, exact");
+    // Legend names, from the one curve table (support/plotstyle.h).
+    static inline const QString kA = curveName(PlotCurve::A);
+    static inline const QString kT = curveName(PlotCurve::LoopGain);
+    static inline const QString kTwoPort = curveName(PlotCurve::GainTwoPort);
+    static inline const QString kExact = curveName(PlotCurve::GainExact);
     static inline const QString kPhase = QStringLiteral("phase ");
 
 protected:
@@ -77,8 +78,12 @@ public:
     explicit StepPanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
+protected:
+    std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
+
 private:
     QValueAxis *m_x, *m_y;
+    double m_timeFactor = 1.0, m_valueFactor = 1.0; ///< axis units per s and per gain unit
     QLineSeries *m_line, *m_final, *m_settling;
     QScatterSeries *m_peak;
 };
@@ -91,6 +96,9 @@ class PolesPanel : public PlotPanel
 public:
     explicit PolesPanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
+
+protected:
+    std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
 
 private:
     QValueAxis *m_x, *m_y;

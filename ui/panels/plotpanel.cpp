@@ -17,6 +17,7 @@
 #include <QMouseEvent>
 #include <QRegularExpression>
 #include <QScatterSeries>
+#include <QTimer>
 #include <QToolButton>
 #include <QValueAxis>
 
@@ -183,6 +184,8 @@ void PlotPanel::resizeEvent(QResizeEvent *event)
 {
     QChartView::resizeEvent(event);
     placeSummary();
+    if (!m_overlaySeries.empty())
+        placeLegend();
 }
 
 void PlotPanel::plotAreaChanged()
@@ -249,7 +252,7 @@ void PlotPanel::showUnavailable(const QString &reason)
         rename(series, name);
     for (auto &[series, curve] : m_fullCurves)
         curve.points.clear();
-    for (QLineSeries *s : m_overlaySeries)
+    for (QXYSeries *s : m_overlaySeries)
         s->replace(QList<QPointF>());
     setTitle(tr("not analysed"));
     showFrequencyCursor(std::nan(""));
@@ -306,14 +309,15 @@ void PlotPanel::placeSummary()
     m_summary->setPos(std::max(4.0, (room - w) / 2.0), chart()->margins().top() + 3.0);
 }
 
-void PlotPanel::enableOverlays()
+void PlotPanel::enableOverlays(QAbstractAxis *x)
 {
+    m_overlayX = x;
     if (m_overlayAction)
         return;
     m_overlayAction = new QAction(tr("Overlay candidates"), this);
     m_overlayAction->setCheckable(true);
     m_overlayAction->setToolTip(
-        tr("Overlay the pinned candidates' curves (thin, dashed, named in the legend)"));
+        tr("Overlay the pinned candidates' curves (thin, dashed, each named in the legend)"));
     addAction(m_overlayAction);
     setContextMenuPolicy(Qt::ActionsContextMenu);
     m_overlayButton = new QToolButton(this);
@@ -338,7 +342,7 @@ void PlotPanel::setOverlaySources(std::vector<OverlaySource> sources)
 QStringList PlotPanel::overlaySeriesNames() const
 {
     QStringList names;
-    for (const QLineSeries *s : m_overlaySeries)
+    for (const QXYSeries *s : m_overlaySeries)
         names << s->name();
     return names;
 }
@@ -353,90 +357,125 @@ QStringList PlotPanel::legendLabels() const
     return labels;
 }
 
-QColor PlotPanel::overlayColour(int index)
+void PlotPanel::refreshOverlays()
 {
-    // Green first (no panel draws a curve in it), then colour-blind-safe tones that the
-    // panels' own curves do not use (wine, indigo, olive, teal and rose of Paul Tol's
-    // "muted" scheme, hex values from memory).
-    static const QColor colours[]
-        = {palette::kGreen,          QColor(0x88, 0x22, 0x55), QColor(0x33, 0x22, 0x88),
-           QColor(0x99, 0x99, 0x33), QColor(0x44, 0xAA, 0x99), QColor(0xCC, 0x66, 0x77)};
-    return colours[std::size_t(index) % std::size(colours)];
+    if (m_overlayAction && (m_overlayAction->isChecked() || !m_overlaySeries.empty()))
+        rebuildOverlays();
 }
 
-Qt::PenStyle PlotPanel::overlayStyle(int index)
+void PlotPanel::removeOverlaySeries(QXYSeries *s)
 {
-    // The panels' own curves are solid, or dashed for the curves without feedback.
-    static const Qt::PenStyle styles[]
-        = {Qt::DotLine, Qt::DashDotLine, Qt::DashDotDotLine, Qt::DashLine};
-    return styles[std::size_t(index) % std::size(styles)];
+    chart()->removeSeries(s);
+    m_fullCurves.erase(s);
+    std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
+    delete s;
+}
+
+QXYSeries *PlotPanel::overlaySeries(std::size_t slot, const OverlayLine &line, const QString &name)
+{
+    QXYSeries *s = slot < m_overlaySeries.size() ? m_overlaySeries[slot] : nullptr;
+    const bool isMarkers = s && s->type() == QAbstractSeries::SeriesTypeScatter;
+    if (s && (!s->attachedAxes().contains(line.y) || isMarkers != line.markers)) {
+        // Same slot, other axis or kind: replaced by a fresh series.
+        removeOverlaySeries(s);
+        s = nullptr;
+    }
+    if (!s) {
+        if (line.markers) {
+            auto *markers = new QScatterSeries;
+            markers->setMarkerShape(QScatterSeries::MarkerShapeCircle);
+            markers->setMarkerSize(9.0);
+            s = markers;
+        } else {
+            s = new QLineSeries;
+        }
+        s->setName(name);
+        chart()->addSeries(s);
+        s->attachAxis(m_overlayX);
+        s->attachAxis(line.y);
+        if (slot < m_overlaySeries.size())
+            m_overlaySeries[slot] = s;
+        else
+            m_overlaySeries.push_back(s);
+        m_series[name] = s;
+    } else if (s->name() != name) {
+        rename(s, name);
+    }
+    return s;
 }
 
 void PlotPanel::rebuildOverlays()
 {
     std::size_t used = 0;
-    if (m_overlayAction && m_overlayAction->isChecked() && m_frequencyAxis) {
+    if (m_overlayAction && m_overlayAction->isChecked() && m_overlayX) {
         for (std::size_t i = 0; i < m_overlaySources.size(); ++i) {
             const OverlaySource &source = m_overlaySources[i];
             if (!source.analysis || source.analysis->frequenciesHz.empty())
                 continue;
-            const auto &f = source.analysis->frequenciesHz;
-            bool firstOfSource = true;
-            for (OverlayLine &line : overlayLines(*source.analysis)) {
-                const QString name = source.name + QStringLiteral(": ") + line.quantity;
-                QLineSeries *s = used < m_overlaySeries.size() ? m_overlaySeries[used] : nullptr;
-                if (s && !s->attachedAxes().contains(line.y)) {
-                    // Same slot, other axis: replaced below by a fresh series.
-                    chart()->removeSeries(s);
-                    m_fullCurves.erase(s);
-                    std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
-                    delete s;
-                    s = nullptr;
+            const std::vector<OverlayLine> lines = overlayLines(*source.analysis);
+            std::vector<PlotCurve> quantities;
+            for (const OverlayLine &line : lines)
+                quantities.push_back(line.curve);
+            const QString legend = overlayLegendText(source.name, quantities);
+            for (std::size_t k = 0; k < lines.size(); ++k) {
+                const OverlayLine &line = lines[k];
+                const QString name = overlayName(source.name, line.curve);
+                QXYSeries *s = overlaySeries(used, line, name);
+                if (line.markers) {
+                    // Hollow: the candidate's colour as the ring, the own poles stay filled.
+                    auto *markers = static_cast<QScatterSeries *>(s);
+                    markers->setBrush(Qt::NoBrush);
+                    markers->setPen(QPen(overlayColour(int(i)), 1.6));
+                    s->replace(line.points);
+                } else {
+                    QPen pen(overlayColour(int(i)), 1.0, overlayStyle(int(i)));
+                    pen.setCosmetic(true);
+                    pen.setCapStyle(Qt::FlatCap);
+                    if (s->pen() != pen)
+                        s->setPen(pen);
+                    const double xMin = line.points.isEmpty() ? 0.0 : line.points.front().x();
+                    const double xMax = line.points.isEmpty() ? 1.0 : line.points.back().x();
+                    replaceThinned(s, line.points, xMin, xMax, line.format);
                 }
-                if (!s) {
-                    s = new QLineSeries;
-                    s->setName(name);
-                    chart()->addSeries(s);
-                    s->attachAxis(m_frequencyAxis);
-                    s->attachAxis(line.y);
-                    if (used < m_overlaySeries.size())
-                        m_overlaySeries[used] = s;
-                    else
-                        m_overlaySeries.push_back(s);
-                    m_series[name] = s;
-                } else if (s->name() != name) {
-                    rename(s, name);
-                }
-                QPen pen(overlayColour(int(i)), 1.0, overlayStyle(int(i)));
-                pen.setCosmetic(true);
-                pen.setCapStyle(Qt::FlatCap);
-                if (s->pen() != pen)
-                    s->setPen(pen);
-                replaceThinned(s, line.points, std::log10(f.front()), std::log10(f.back()),
-                               line.format);
-                // One legend entry per candidate, its name in its colour (one entry per curve
-                // is elided past reading in the panel's width); the series keep their full
+                // One legend entry per candidate naming it and each of its quantities ("Fast:
+                // T, gain"): its curves share one colour and dash, and one entry per curve
+                // is elided past reading in a panel's width. The series keep their own
                 // "candidate: quantity" names for the cursor text.
                 for (QLegendMarker *m : chart()->legend()->markers(s)) {
-                    m->setVisible(firstOfSource);
-                    if (firstOfSource && m->label() != source.name)
-                        m->setLabel(source.name);
+                    m->setVisible(k == 0);
+                    if (k == 0 && m->label() != legend)
+                        m->setLabel(legend);
                 }
-                firstOfSource = false;
                 ++used;
             }
         }
     }
     while (m_overlaySeries.size() > used) {
-        QLineSeries *s = m_overlaySeries.back();
+        QXYSeries *s = m_overlaySeries.back();
         m_overlaySeries.pop_back();
-        chart()->removeSeries(s);
-        m_fullCurves.erase(s);
-        std::erase_if(m_series, [s](const auto &kv) { return kv.second == s; });
-        delete s;
+        removeOverlaySeries(s);
     }
+    // New series' legend entries show only once the legend has laid out (posted).
+    QTimer::singleShot(0, this, [this] { placeLegend(); });
     if (std::isfinite(m_cursorAt))
         showFrequencyCursor(m_cursorAt);
+}
+
+void PlotPanel::placeLegend()
+{
+    // Below the plot while the entries fit in one row; beside it, one entry a line, when they
+    // would be cut short there (Qt's legend elides rather than wraps).
+    QLegend *legend = chart()->legend();
+    const QFontMetricsF fm(legend->font());
+    double needed = 0;
+    for (const QLegendMarker *m : legend->markers()) {
+        if (m->isVisible())
+            needed += fm.horizontalAdvance(m->label()) + 2.4 * fm.height();
+    }
+    const Qt::Alignment want
+        = needed > chart()->size().width() - 12.0 ? Qt::AlignRight : Qt::AlignBottom;
+    if (legend->alignment() != want)
+        legend->setAlignment(want);
 }
 
 void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax,

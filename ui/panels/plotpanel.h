@@ -3,6 +3,8 @@
 // Base of the linked plot panels: a chart view with our palette, a log frequency axis
 // labelled 1, 10, 100, 1k ... 1G, and helpers that push whole curves with replace().
 
+#include "support/plotstyle.h"
+
 #include "loopsketch/analysis/analysis.h"
 
 #include <QChartView>
@@ -29,18 +31,6 @@ class QValueAxis;
 class QXYSeries;
 
 namespace loopsketch::ui {
-
-/// Okabe-Ito colours, safe for the common colour-vision deficiencies.
-namespace palette {
-inline const QColor kOrange{0xE6, 0x9F, 0x00};
-inline const QColor kSkyBlue{0x56, 0xB4, 0xE9};
-inline const QColor kGreen{0x00, 0x9E, 0x73};
-inline const QColor kYellow{0xF0, 0xE4, 0x42};
-inline const QColor kBlue{0x00, 0x72, 0xB2};
-inline const QColor kVermillion{0xD5, 0x5E, 0x00};
-inline const QColor kPurple{0xCC, 0x79, 0xA7};
-inline const QColor kBlack{0x22, 0x22, 0x22};
-} // namespace palette
 
 /// One candidate's analysis for the overlays of the frequency panels.
 struct OverlaySource
@@ -78,8 +68,8 @@ public:
     /// The cursor's text (empty when hidden).
     QString cursorText() const;
 
-    // Candidate overlays: thin dashed curves, one set per candidate, for panels whose
-    // overlayLines() names any.
+    // Candidate overlays: thin dashed curves (or hollow markers), one set per candidate, for
+    // panels whose overlayLines() names any.
     /// True when the panel draws candidate overlays (it has a toggle).
     bool hasOverlays() const { return m_overlayAction != nullptr; }
     /// The checkable "Overlay candidates" toggle; nullptr for panels without overlays.
@@ -87,15 +77,11 @@ public:
     /// The candidates to overlay, in column order; drawn while the toggle is on.
     void setOverlaySources(std::vector<OverlaySource> sources);
     /// Names of the overlay curves drawn now ("Fast: T"); the legend has one entry per
-    /// candidate, labelled with its name.
+    /// candidate naming its quantities ("Fast: T, gain").
     QStringList overlaySeriesNames() const;
     /// The visible legend labels, in legend order (as of the legend's last layout, which
     /// runs from the event loop).
     QStringList legendLabels() const;
-    /// The colour and dash of candidate `index`'s overlays (the Candidates panel uses the
-    /// same in its column headers).
-    static QColor overlayColour(int index);
-    static Qt::PenStyle overlayStyle(int index);
 
 signals:
     /// The mouse hovers the plot at log10(f / Hz); NaN when it left.
@@ -108,16 +94,20 @@ protected:
     /// One curve a panel overlays for each candidate.
     struct OverlayLine
     {
-        QString quantity; ///< legend text after the candidate's name, e.g. "T"
-        QList<QPointF> points; ///< x = log10(f / Hz), as the panel's own curves
+        PlotCurve curve; ///< its quantity follows the candidate's name in the legend
+        QList<QPointF> points; ///< in the units of the panel's own curves
         QAbstractAxis *y = nullptr;
         CursorFormat format = CursorFormat::None;
+        bool markers = false; ///< hollow markers (poles) instead of a line
     };
     /// The curves to overlay from a candidate's analysis; a panel returning any calls
     /// enableOverlays() in its constructor.
     virtual std::vector<OverlayLine> overlayLines(const Analysis &) const { return {}; }
-    /// Creates the "Overlay candidates" toggle (a corner button and a context-menu entry).
-    void enableOverlays();
+    /// Creates the "Overlay candidates" toggle (a corner button and a context-menu entry);
+    /// overlays share the x axis `x` with the panel's own curves.
+    void enableOverlays(QAbstractAxis *x);
+    /// Draws the overlays again (a panel whose scale changed calls it).
+    void refreshOverlays();
 
     QLineSeries *addLine(const QString &name, const QColor &colour, Qt::PenStyle style,
                          QAbstractAxis *x, QAbstractAxis *y, bool inLegend = true);
@@ -172,12 +162,18 @@ private:
     std::map<QValueAxis *, RoundAxis> m_roundAxes;
     void plotAreaChanged();
     void rebuildOverlays();
+    /// The overlay series in `slot`, made or remade to suit `line`.
+    QXYSeries *overlaySeries(std::size_t slot, const OverlayLine &line, const QString &name);
+    void removeOverlaySeries(QXYSeries *series);
+    /// Puts the legend below the plot, or beside it when one row would cut its labels.
+    void placeLegend();
     QGraphicsSimpleTextItem *m_summary = nullptr;
     QGraphicsTextItem *m_unavailable = nullptr;
     QAction *m_overlayAction = nullptr;
     QToolButton *m_overlayButton = nullptr;
     std::vector<OverlaySource> m_overlaySources;
-    std::vector<QLineSeries *> m_overlaySeries;
+    QAbstractAxis *m_overlayX = nullptr;
+    std::vector<QXYSeries *> m_overlaySeries;
     void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
     struct FullCurve
     {

@@ -170,6 +170,58 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
       m_progressTimer(new QTimer(this))
 {
     setObjectName(QStringLiteral("Spread"));
+    setUpInputs();
+    setUpTable();
+    auto *plots = new QHBoxLayout;
+    plots->setSpacing(4);
+    for (int i = 0; i < 3; ++i) {
+        plots->addWidget(makeHistogram(i), 1);
+        showHistogram(static_cast<Metric>(i));
+    }
+
+    auto *legend = new QLabel(
+        tr("<span style='color:%1'>▬</span> Monte Carlo trials &nbsp; "
+           "<span style='color:%2'>╌</span> spec limit &nbsp; "
+           "<span style='color:%3'>┄</span> nominal")
+            .arg(palette::kBlue.name(), palette::kVermillion.name(), palette::kBlack.name()),
+        this);
+    QFont small = legend->font();
+    small.setPointSizeF(small.pointSizeF() * 0.9);
+    legend->setFont(small);
+
+    auto *layout = new QVBoxLayout(this);
+    layout->setContentsMargins(6, 6, 6, 6);
+    layout->setSpacing(5);
+    layout->addLayout(controlsLayout());
+    layout->addWidget(m_message);
+    layout->addWidget(m_table);
+    layout->addWidget(m_yield);
+    layout->addWidget(m_method);
+    layout->addLayout(plots, 1);
+    layout->addWidget(legend);
+
+    m_progressTimer->setInterval(50);
+    connect(m_progressTimer, &QTimer::timeout, this, [this] {
+        if (m_state)
+            m_progress->setValue(static_cast<int>(std::min(m_state->done.load(), m_state->total)));
+    });
+    connect(m_run, &QPushButton::clicked, this, &SpreadPanel::run);
+    connect(m_cancel, &QPushButton::clicked, this, &SpreadPanel::cancel);
+    connect(m_gainSpread, &QDoubleSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
+    connect(m_gbwSpread, &QDoubleSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
+    connect(m_trials, &QSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
+    connect(m_document, &DesignDocument::partChanged, this, &SpreadPanel::designChanged);
+    connect(m_document, &DesignDocument::structureChanged, this, &SpreadPanel::designChanged);
+    connect(m_document, &DesignDocument::designReset, this, [this] {
+        designChanged();
+        m_result.reset();
+        showResult();
+    });
+    updatePreview();
+}
+
+void SpreadPanel::setUpInputs()
+{
     m_trials->setRange(1, kMaxTrials);
     m_trials->setValue(kDefaultTrials);
     m_trials->setSingleStep(1000);
@@ -202,7 +254,10 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
     QFont bold = m_yield->font();
     bold.setBold(true);
     m_yield->setFont(bold);
+}
 
+QGridLayout *SpreadPanel::controlsLayout()
+{
     auto *controls = new QGridLayout;
     controls->setHorizontalSpacing(8);
     controls->setVerticalSpacing(4);
@@ -223,7 +278,11 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
     buttons->addWidget(m_progress, 1);
     controls->addLayout(buttons, 1, 4, 1, 2);
     controls->setColumnStretch(5, 1);
+    return controls;
+}
 
+void SpreadPanel::setUpTable()
+{
     const QStringList columns{tr("nominal"), tr("worst min"), tr("worst max"), tr("MC min"),
                               tr("MC mean"), tr("MC max"),    tr("MC σ")};
     m_table->setHorizontalHeaderLabels(columns);
@@ -257,108 +316,66 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
     for (int r = 0; r < 3; ++r)
         tableHeight += m_table->rowHeight(r);
     m_table->setFixedHeight(tableHeight);
+}
 
-    auto *plots = new QHBoxLayout;
-    plots->setSpacing(4);
-    for (int i = 0; i < 3; ++i) {
-        Histogram &h = m_histograms[i];
-        auto *chart = new QChart;
-        chart->setBackgroundRoundness(0);
-        chart->setMargins(QMargins(2, 2, 6, 2));
-        chart->setAnimationOptions(QChart::NoAnimation);
-        chart->legend()->hide();
-        chart->setTitle(QStringLiteral(" "));
-        QFont titleFont = chart->titleFont();
-        titleFont.setPointSizeF(7.5);
-        chart->setTitleFont(titleFont);
-        chart->setTitleBrush(palette::kVermillion);
-        h.x = new QValueAxis;
-        h.y = new QValueAxis;
-        QFont axisFont = h.x->labelsFont();
-        axisFont.setPointSizeF(7.5);
-        for (QValueAxis *a : {h.x, h.y}) {
-            a->setLabelsFont(axisFont);
-            QFont t = a->titleFont();
-            t.setPointSizeF(8);
-            t.setBold(false);
-            a->setTitleFont(t);
-            a->setTickType(QValueAxis::TicksDynamic);
-            a->setTickAnchor(0);
-            a->setMinorTickCount(0);
-        }
-        h.y->setTitleText(tr("trials"));
-        h.y->setLabelFormat(QStringLiteral("%.0f"));
-        chart->addAxis(h.x, Qt::AlignBottom);
-        chart->addAxis(h.y, Qt::AlignLeft);
-        h.outline = new QLineSeries;
-        auto *area = new QAreaSeries(h.outline);
-        QColor fill = palette::kSkyBlue;
-        fill.setAlpha(150);
-        area->setBrush(fill);
-        area->setPen(QPen(palette::kBlue, 1.2));
-        chart->addSeries(area);
-        area->attachAxis(h.x);
-        area->attachAxis(h.y);
-        const auto addLine = [&](const QColor &colour, Qt::PenStyle style) {
-            auto *s = new QLineSeries;
-            QPen pen(colour, 1.6, style);
-            pen.setCosmetic(true);
-            s->setPen(pen);
-            chart->addSeries(s);
-            s->attachAxis(h.x);
-            s->attachAxis(h.y);
-            return s;
-        };
-        h.specLow = addLine(palette::kVermillion, Qt::DashLine);
-        h.specHigh = addLine(palette::kVermillion, Qt::DashLine);
-        h.nominal = addLine(palette::kBlack, Qt::DotLine);
-        h.view = new QChartView(chart, this);
-        h.view->setRenderHint(QPainter::Antialiasing);
-        h.view->setMinimumSize(170, 150);
-        h.view->setObjectName(QStringLiteral("SpreadHistogram%1").arg(i));
-        plots->addWidget(h.view, 1);
-        showHistogram(static_cast<Metric>(i));
+QChartView *SpreadPanel::makeHistogram(int i)
+{
+    Histogram &h = m_histograms[i];
+    auto *chart = new QChart;
+    chart->setBackgroundRoundness(0);
+    chart->setMargins(QMargins(2, 2, 6, 2));
+    chart->setAnimationOptions(QChart::NoAnimation);
+    chart->legend()->hide();
+    chart->setTitle(QStringLiteral(" "));
+    QFont titleFont = chart->titleFont();
+    titleFont.setPointSizeF(7.5);
+    chart->setTitleFont(titleFont);
+    chart->setTitleBrush(palette::kVermillion);
+    h.x = new QValueAxis;
+    h.y = new QValueAxis;
+    QFont axisFont = h.x->labelsFont();
+    axisFont.setPointSizeF(7.5);
+    for (QValueAxis *a : {h.x, h.y}) {
+        a->setLabelsFont(axisFont);
+        QFont t = a->titleFont();
+        t.setPointSizeF(8);
+        t.setBold(false);
+        a->setTitleFont(t);
+        a->setTickType(QValueAxis::TicksDynamic);
+        a->setTickAnchor(0);
+        a->setMinorTickCount(0);
     }
-
-    auto *legend = new QLabel(
-        tr("<span style='color:%1'>▬</span> Monte Carlo trials &nbsp; "
-           "<span style='color:%2'>╌</span> spec limit &nbsp; "
-           "<span style='color:%3'>┄</span> nominal")
-            .arg(palette::kBlue.name(), palette::kVermillion.name(), palette::kBlack.name()),
-        this);
-    QFont small = legend->font();
-    small.setPointSizeF(small.pointSizeF() * 0.9);
-    legend->setFont(small);
-
-    auto *layout = new QVBoxLayout(this);
-    layout->setContentsMargins(6, 6, 6, 6);
-    layout->setSpacing(5);
-    layout->addLayout(controls);
-    layout->addWidget(m_message);
-    layout->addWidget(m_table);
-    layout->addWidget(m_yield);
-    layout->addWidget(m_method);
-    layout->addLayout(plots, 1);
-    layout->addWidget(legend);
-
-    m_progressTimer->setInterval(50);
-    connect(m_progressTimer, &QTimer::timeout, this, [this] {
-        if (m_state)
-            m_progress->setValue(static_cast<int>(std::min(m_state->done.load(), m_state->total)));
-    });
-    connect(m_run, &QPushButton::clicked, this, &SpreadPanel::run);
-    connect(m_cancel, &QPushButton::clicked, this, &SpreadPanel::cancel);
-    connect(m_gainSpread, &QDoubleSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
-    connect(m_gbwSpread, &QDoubleSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
-    connect(m_trials, &QSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
-    connect(m_document, &DesignDocument::partChanged, this, &SpreadPanel::designChanged);
-    connect(m_document, &DesignDocument::structureChanged, this, &SpreadPanel::designChanged);
-    connect(m_document, &DesignDocument::designReset, this, [this] {
-        designChanged();
-        m_result.reset();
-        showResult();
-    });
-    updatePreview();
+    h.y->setTitleText(tr("trials"));
+    h.y->setLabelFormat(QStringLiteral("%.0f"));
+    chart->addAxis(h.x, Qt::AlignBottom);
+    chart->addAxis(h.y, Qt::AlignLeft);
+    h.outline = new QLineSeries;
+    auto *area = new QAreaSeries(h.outline);
+    QColor fill = palette::kSkyBlue;
+    fill.setAlpha(150);
+    area->setBrush(fill);
+    area->setPen(QPen(palette::kBlue, 1.2));
+    chart->addSeries(area);
+    area->attachAxis(h.x);
+    area->attachAxis(h.y);
+    const auto addLine = [&](const QColor &colour, Qt::PenStyle style) {
+        auto *s = new QLineSeries;
+        QPen pen(colour, 1.6, style);
+        pen.setCosmetic(true);
+        s->setPen(pen);
+        chart->addSeries(s);
+        s->attachAxis(h.x);
+        s->attachAxis(h.y);
+        return s;
+    };
+    h.specLow = addLine(palette::kVermillion, Qt::DashLine);
+    h.specHigh = addLine(palette::kVermillion, Qt::DashLine);
+    h.nominal = addLine(palette::kBlack, Qt::DotLine);
+    h.view = new QChartView(chart, this);
+    h.view->setRenderHint(QPainter::Antialiasing);
+    h.view->setMinimumSize(170, 150);
+    h.view->setObjectName(QStringLiteral("SpreadHistogram%1").arg(i));
+    return h.view;
 }
 
 SpreadPanel::~SpreadPanel()

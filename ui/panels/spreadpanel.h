@@ -24,6 +24,7 @@ class QChart;
 class QChartView;
 class QComboBox;
 class QDoubleSpinBox;
+class QGridLayout;
 class QLabel;
 class QLineSeries;
 class QProgressBar;
@@ -105,6 +106,12 @@ signals:
     void runDiscarded(qulonglong completedTrials);
 
 private:
+    // Parts of the constructor.
+    void setUpInputs();
+    QGridLayout *controlsLayout();
+    void setUpTable();
+    /// The histogram chart of metric `i` (its view, for the layout).
+    QChartView *makeHistogram(int i);
     struct RunState
     {
         std::atomic<bool> cancel{false};

@@ -13,6 +13,7 @@
 #include <cstdint>
 #include <optional>
 #include <string>
+#include <vector>
 
 class QPainter;
 
@@ -49,10 +50,19 @@ inline constexpr SheetPlot kSheetPlots[]
 /// File name stem of a plot's SVG ("loop-gain", "impedance" ...).
 QString sheetPlotFileStem(SheetPlot plot);
 
+/// A candidate's curves drawn over a plot, in the candidate's overlay colour and dash.
+struct SheetOverlay
+{
+    QString name; ///< the candidate's name, in the legend before the quantity
+    const Analysis *analysis = nullptr;
+};
+
 /// Draws one plot (title, legend, axes, curves) into `rect` (device units); `unitsPerMm`
-/// converts the sheet's millimetre sizes to device units.
+/// converts the sheet's millimetre sizes to device units. Curves are named, coloured and
+/// dashed from the one curve table (support/plotstyle.h), as on screen; each overlay adds the
+/// candidate's curves, labelled "candidate: quantity".
 void drawSheetPlot(QPainter &painter, const QRectF &rect, double unitsPerMm, SheetPlot plot,
-                   const Analysis &analysis);
+                   const Analysis &analysis, const std::vector<SheetOverlay> &overlays = {});
 
 /// The text of the first revision mention in the notes (e.g. "rev B"), else in the title;
 /// empty when neither has one.
