@@ -161,6 +161,7 @@ TEST_F(SketchEditTest, WireLightsUpUnderThePointerIsSelectedAndDeleted)
     EXPECT_EQ(scene()->selectedWires().front().from, from);
     EXPECT_TRUE(scene()->selectedPartIds().empty());
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/wire-selected.png"));
+    view()->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/wire-selected-sketch.png"));
 
     const int steps = doc()->undoStack()->index();
     QTest::keyClick(view(), Qt::Key_Delete);
@@ -271,6 +272,8 @@ TEST_F(SketchEditTest, WiresRerouteAndLabelsKeepOffThemAsPartsTurnAndMirror)
             settle();
             window->grab().save(
                 QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/turned-and-mirrored.png"));
+            view()->grab().save(
+                QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/turned-and-mirrored-sketch.png"));
         }
     }
 }

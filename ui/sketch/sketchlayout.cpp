@@ -251,13 +251,44 @@ QPolygonF route(const Pin &p, const Pin &q, const std::vector<QRectF> &bodies,
     }
     int bestScore = std::numeric_limits<int>::max();
     QPolygonF best;
-    for (const QPolygonF &r : candidates) {
-        const int score = scoreRoute(r, p, q, bodies, pins);
-        if (score < bestScore) {
-            bestScore = score;
-            best = r;
+    auto pickBest = [&] {
+        for (const QPolygonF &r : candidates) {
+            const int score = scoreRoute(r, p, q, bodies, pins);
+            if (score < bestScore) {
+                bestScore = score;
+                best = r;
+            }
+        }
+        candidates.clear();
+    };
+    pickBest();
+    if (bestScore < 8)
+        return best;
+    // Every simple route crosses a symbol or a pin: try going around the symbols near the
+    // two pins, along a line one grid step clear of their edges.
+    const QRectF span = QRectF(p.at, q.at).normalized().adjusted(-80, -80, 80, 80);
+    std::set<double> xs, ys;
+    for (const QRectF &b : bodies) {
+        if (!b.intersects(span))
+            continue;
+        xs.insert(snapToGrid(b.left() - kGrid));
+        xs.insert(snapToGrid(b.right() + kGrid));
+        ys.insert(snapToGrid(b.top() - kGrid));
+        ys.insert(snapToGrid(b.bottom() + kGrid));
+    }
+    for (int stub = 1; stub < 3; ++stub) {
+        const QPointF a = p.at + p.direction * (kGrid * stub);
+        const QPointF b = q.at + q.direction * (kGrid * stub);
+        for (double y : ys) {
+            candidates.push_back(
+                QPolygonF({p.at, a, QPointF(a.x(), y), QPointF(b.x(), y), b, q.at}));
+        }
+        for (double x : xs) {
+            candidates.push_back(
+                QPolygonF({p.at, a, QPointF(x, a.y()), QPointF(x, b.y()), b, q.at}));
         }
     }
+    pickBest();
     return best;
 }
 
