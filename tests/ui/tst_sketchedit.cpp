@@ -24,6 +24,7 @@
 #include <gtest/gtest.h>
 
 #include <algorithm>
+#include <cmath>
 #include <set>
 
 using namespace loopsketch;
@@ -354,8 +355,23 @@ TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUn
         const SketchPlacement &p = doc()->layout().parts.at(id);
         return QPointF(p.x, p.y);
     };
-    EXPECT_EQ(at("R3"), at("R1") + QPointF(40, 40));
-    EXPECT_EQ(at("C2"), at("C1") + QPointF(40, 40));
+    // Moved by one diagonal step of two grid units or more, the same for both, clear of
+    // every other part.
+    const QPointF shift = at("R3") - at("R1");
+    EXPECT_EQ(at("C2") - at("C1"), shift);
+    EXPECT_GE(shift.x(), 40.0);
+    EXPECT_EQ(shift.x(), shift.y());
+    EXPECT_EQ(std::fmod(shift.x(), 40.0), 0.0);
+    auto clearOfOthers = [&](const std::string &id, const std::set<std::string> &group) {
+        for (const auto &[other, p] : doc()->layout().parts) {
+            if (group.count(other))
+                continue;
+            EXPECT_FALSE(std::abs(p.x - at(id).x()) < 80 && std::abs(p.y - at(id).y()) < 60)
+                << id << " pasted beside " << other;
+        }
+    };
+    clearOfOthers("R3", {"R3", "C2"});
+    clearOfOthers("C2", {"R3", "C2"});
     // Connections among the copies are kept, on a node of their own; ground stays ground.
     EXPECT_EQ(node("R3", "b"), node("C2", "a"));
     EXPECT_NE(node("R3", "b"), node("R1", "b"));
@@ -368,7 +384,8 @@ TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUn
     // Pasting again lands further off, never on the first copies.
     action("PasteAction")->trigger();
     ASSERT_NE(doc()->design().findPart("R4"), nullptr);
-    EXPECT_EQ(at("R4"), at("R1") + QPointF(80, 80));
+    clearOfOthers("R4", {"R4", "C3"});
+    clearOfOthers("C3", {"R4", "C3"});
     stack->undo();
     stack->undo();
     EXPECT_EQ(doc()->design(), start);
@@ -381,7 +398,7 @@ TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUn
     action("DuplicateAction")->trigger();
     EXPECT_EQ(stack->index(), steps + 1);
     ASSERT_NE(doc()->design().findPart("R3"), nullptr);
-    EXPECT_EQ(at("R3"), at("R2") + QPointF(40, 40));
+    clearOfOthers("R3", {"R3"});
     EXPECT_EQ(doc()->design().findPart("R3")->number("value"),
               doc()->design().findPart("R2")->number("value"));
     EXPECT_EQ(QGuiApplication::clipboard()->mimeData()->data(QString::fromLatin1(kPartsMimeType)),

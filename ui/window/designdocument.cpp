@@ -856,16 +856,17 @@ std::vector<std::string> DesignDocument::pasteParts(const Design &fragment, cons
         }
         return SketchPlacement{};
     };
-    // Two grid steps down and right, further while that lands on an occupied place.
+    // Two grid steps down and right, further while a copy would land on or beside a part
+    // (the free-place rule of addPart()), so a whole circuit pasted lands clear of itself.
     double offset = 2 * kGrid;
-    for (int tries = 0; tries < 100; ++tries) {
+    for (int tries = 0; tries < 200; ++tries) {
         bool taken = false;
         for (const Part &p : fragment.parts) {
             const SketchPlacement at = placed(p.id);
             for (const auto &[other, placement] : layout.parts)
                 taken = taken
-                    || (std::abs(placement.x - (at.x + offset)) < 1
-                        && std::abs(placement.y - (at.y + offset)) < 1);
+                    || (std::abs(placement.x - (at.x + offset)) < 80
+                        && std::abs(placement.y - (at.y + offset)) < 60);
         }
         if (!taken)
             break;

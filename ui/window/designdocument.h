@@ -111,8 +111,9 @@ public:
     /// empty), as one undo step.
     bool movePin(const PinRef &pin, const PinRef &target);
     /// Adds copies of `fragment`'s parts (copyParts()) with fresh ids (the next free R3,
-    /// C2 ...) and fresh nodes (connections among them kept, ground kept), placed a few grid
-    /// steps off their copied places so they never land on an occupied one. One undo step
+    /// C2 ...) and fresh nodes (connections among them kept, ground kept), moved down and
+    /// right from their copied places by two grid steps or as many more as it takes to keep
+    /// clear of every part (80 x 60 scene units). One undo step
     /// named `text`; returns the new ids.
     std::vector<std::string> pasteParts(const Design &fragment, const QString &text);
     /// Places a free-standing ground symbol at (x, y) (scene units, snapped to the grid).
