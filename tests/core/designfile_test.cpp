@@ -445,6 +445,32 @@ TEST(DesignFile, GroundSymbolsRoundTripAndAreCheckedWhereTheyStand)
     EXPECT_THAT(bad.errorText(), HasSubstr("sketch.grounds[1]"));
 }
 
+TEST(DesignFile, MirroredPlacementsRoundTripAndOthersKeepTheirText)
+{
+    auto base = parseDesign(kBase, "b");
+    ASSERT_TRUE(base.ok()) << base.errorText();
+    Design d = *base;
+    d.sketch = SketchLayout{};
+    d.sketch->parts["RF"] = {40, -80, 90, true};
+    d.sketch->parts["CF"] = {40, -140, 0, false};
+    const std::string text = serializeDesign(d);
+    EXPECT_THAT(text,
+                HasSubstr("\"RF\": {\"x\": 40, \"y\": -80, \"rotation\": 90, \"mirror\": true}"));
+    // An unmirrored part is written as before mirroring existed.
+    EXPECT_THAT(text, HasSubstr("\"CF\": {\"x\": 40, \"y\": -140, \"rotation\": 0}"));
+    const auto back = parseDesign(text, "m");
+    ASSERT_TRUE(back.ok()) << back.errorText();
+    EXPECT_TRUE(back->sketch->parts.at("RF").mirror);
+    EXPECT_FALSE(back->sketch->parts.at("CF").mirror);
+    EXPECT_TRUE(*back == d);
+    EXPECT_EQ(serializeDesign(*back), text);
+
+    const auto bad
+        = parseDesign(replaced(text, "\"mirror\": true", "\"mirror\": 1"), "m.loopsketch");
+    ASSERT_FALSE(bad.ok());
+    EXPECT_THAT(bad.errorText(), HasSubstr("part RF, field sketch.mirror: expected true or false"));
+}
+
 TEST(DesignFile, DraftRulesAcceptAnUnfinishedCircuitButNotBrokenReferences)
 {
     // A design being drawn: no gain block, no load, a dangling node, a shorted part.

@@ -3,6 +3,8 @@
 // everything that names a part across deletions and renames (files that always reopen); and
 // views that never show the last good numbers once the design cannot be analysed.
 
+#include "blankdesigntest.h"
+
 #include "panels/panels.h"
 #include "panels/plotpanel.h"
 #include "panels/readout.h"
@@ -17,6 +19,7 @@
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
+#include "window/partclipboard.h"
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/candidate.h"
@@ -45,135 +48,11 @@
 
 using namespace loopsketch;
 using namespace loopsketch::ui;
+using loopsketch::ui::test::BlankDesignTest;
+using loopsketch::ui::test::kDesigns;
 using ::testing::HasSubstr;
 
 namespace {
-
-const QString kDesigns = QStringLiteral(LOOPSKETCH_DESIGNS_DIR);
-
-class BlankDesignTest : public ::testing::Test
-{
-protected:
-    void SetUp() override
-    {
-        window = std::make_unique<MainWindow>();
-        window->setAskBeforeDiscarding(false);
-        window->resize(1500, 940);
-        window->show();
-        ASSERT_TRUE(QTest::qWaitForWindowExposed(window.get()));
-    }
-
-    DesignDocument *doc() const { return window->document(); }
-    SketchView *view() const { return window->sketchView(); }
-    SketchScene *scene() const { return window->sketchScene(); }
-
-    void openExample(const QString &name)
-    {
-        QString error;
-        ASSERT_TRUE(window->openFile(kDesigns + QLatin1Char('/') + name, &error))
-            << error.toStdString();
-        QApplication::processEvents();
-    }
-
-    /// Drags the palette symbol `label` onto the Sketch and drops it at viewport point `at`
-    /// (the drag data is the palette's own).
-    void dropSymbol(const QString &label, QPoint at)
-    {
-        std::unique_ptr<QMimeData> data(window->partsPalette()->dragData(label));
-        ASSERT_NE(data, nullptr) << label.toStdString();
-        QWidget *vp = view()->viewport();
-        QDragEnterEvent enter(at, Qt::CopyAction, data.get(), Qt::LeftButton, Qt::NoModifier);
-        QApplication::sendEvent(vp, &enter);
-        ASSERT_TRUE(enter.isAccepted());
-        QDragMoveEvent move(at, Qt::CopyAction, data.get(), Qt::LeftButton, Qt::NoModifier);
-        QApplication::sendEvent(vp, &move);
-        QDropEvent drop(QPointF(at), Qt::CopyAction, data.get(), Qt::LeftButton, Qt::NoModifier);
-        QApplication::sendEvent(vp, &drop);
-        QApplication::processEvents();
-    }
-
-    QPointF pinPos(const std::string &part, const std::string &terminal) const
-    {
-        PartItem *item = scene()->partItem(part);
-        EXPECT_NE(item, nullptr) << part;
-        if (!item)
-            return {};
-        const SketchPlacement placement{item->pos().x(), item->pos().y(), item->symbolRotation()};
-        for (const PinGeometry &pin : pinGeometry(item->partType())) {
-            if (pin.terminal == terminal)
-                return toScene(placement, pin.position);
-        }
-        ADD_FAILURE() << part << " has no pin " << terminal;
-        return {};
-    }
-
-    /// A mouse drag on the Sketch from one scene point to another.
-    void dragOnSketch(QPointF from, QPointF to)
-    {
-        QWidget *vp = view()->viewport();
-        const QPoint a = view()->mapFromScene(from), b = view()->mapFromScene(to);
-        QTest::mousePress(vp, Qt::LeftButton, {}, a);
-        QTest::mouseMove(vp, (a + b) / 2);
-        QTest::mouseMove(vp, b);
-        QTest::mouseRelease(vp, Qt::LeftButton, {}, b);
-    }
-
-    void wire(const std::string &pa, const std::string &ta, const std::string &pb,
-              const std::string &tb)
-    {
-        dragOnSketch(pinPos(pa, ta), pinPos(pb, tb));
-        EXPECT_EQ(doc()->design().findPart(pa)->node(ta), doc()->design().findPart(pb)->node(tb))
-            << pa << "." << ta << " to " << pb << "." << tb;
-    }
-
-    void wireToGround(const std::string &part, const std::string &terminal)
-    {
-        ASSERT_FALSE(doc()->layout().grounds.empty());
-        const SketchGround g = doc()->layout().grounds.front();
-        dragOnSketch(pinPos(part, terminal), QPointF(g.x, g.y));
-        EXPECT_EQ(doc()->design().findPart(part)->node(terminal), "0") << part << "." << terminal;
-    }
-
-    /// Types `text` into a line edit and presses Return, as a user would.
-    static void type(QLineEdit *edit, const QString &text)
-    {
-        ASSERT_NE(edit, nullptr);
-        edit->setFocus();
-        edit->selectAll();
-        QTest::keyClick(edit, Qt::Key_Delete);
-        QTest::keyClicks(edit, text);
-        QTest::keyClick(edit, Qt::Key_Return);
-    }
-
-    void settle()
-    {
-        QApplication::processEvents();
-        doc()->recomputeNow();
-        QApplication::processEvents();
-    }
-
-    /// The window shows nothing of an analysis: Readout values "—", every plot empty with its
-    /// notice, the badge says so.
-    void expectNotAnalysed() const
-    {
-        EXPECT_EQ(doc()->analysis(), nullptr);
-        const QStringList lines = window->readout()->plainText().split(QLatin1Char('\n'));
-        ASSERT_FALSE(lines.isEmpty());
-        for (const QString &line : lines)
-            EXPECT_TRUE(line.endsWith(QStringLiteral(": —"))) << line.toStdString();
-        for (PlotPanel *panel : window->panels()) {
-            EXPECT_THAT(panel->unavailableText().toStdString(), HasSubstr("Not analysed"));
-            for (QAbstractSeries *s : panel->chart()->series()) {
-                if (auto *xy = qobject_cast<QXYSeries *>(s)) {
-                    EXPECT_EQ(xy->count(), 0) << xy->name().toStdString();
-                }
-            }
-        }
-        EXPECT_EQ(view()->badgeText(), QStringLiteral("not analysed"));
-    }
-
-    std::unique_ptr<MainWindow> window;
-};
 
 // ---- From a blank page ----
 
@@ -412,7 +291,15 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
         return true;
     };
     QString error;
-    switch (pick(11)) {
+    auto randomParts = [&] {
+        std::vector<std::string> ids;
+        for (const Part &p : d.parts) {
+            if (pick(3) == 0)
+                ids.push_back(p.id);
+        }
+        return ids;
+    };
+    switch (pick(18)) {
     case 0: {
         const auto specs = allPartSpecs();
         doc->addPart(specs[pick(specs.size())].type, double(pick(600)) - 300,
@@ -462,6 +349,53 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
         if (!d.candidates.empty())
             doc->deleteCandidate(toQString(d.candidates[pick(d.candidates.size())].name));
         break;
+    case 10: // mirror
+        if (!d.parts.empty())
+            doc->mirrorPart(d.parts[pick(d.parts.size())].id);
+        break;
+    case 11: { // unwire: delete one of the Sketch's wires
+        const SketchWiring wiring = routeWires(d, doc->layout());
+        if (!wiring.edges.empty()) {
+            const RoutedWire &w = wiring.edges[pick(wiring.edges.size())];
+            doc->removeWires({{w.from, w.to}});
+        }
+        break;
+    }
+    case 12: { // a wire's end dragged to another pin, or to ground
+        const SketchWiring wiring = routeWires(d, doc->layout());
+        std::string p, t;
+        if (!wiring.edges.empty() && randomPin(&p, &t)) {
+            const RoutedWire &w = wiring.edges[pick(wiring.edges.size())];
+            doc->reattachWire(w.from, w.to, pick(4) == 0 ? PinRef{} : PinRef{p, t});
+        }
+        break;
+    }
+    case 13: { // a pin disconnected, or moved to another pin
+        std::string p, t, q, u;
+        if (randomPin(&p, &t)) {
+            if (pick(2) && randomPin(&q, &u))
+                doc->movePin({p, t}, {q, u});
+            else
+                doc->disconnectPin(p, t);
+        }
+        break;
+    }
+    case 14: // copy and paste (a duplicate)
+        doc->pasteParts(copyParts(d, doc->layout(), randomParts()), QStringLiteral("paste"));
+        break;
+    case 15: // cut
+        doc->removeParts(randomParts());
+        break;
+    case 16: { // a field typed into the Inspector, valid or not
+        if (!d.parts.empty()) {
+            const Part &p = d.parts[pick(d.parts.size())];
+            const auto &fields = partSpec(p.type).fields;
+            const char *texts[] = {"4k7", "2.2p", "1e3", "", "-5", "12kk", "100dB", "10M"};
+            doc->setFieldText(p.id, std::string(fields[pick(fields.size())].name),
+                              QString::fromLatin1(texts[pick(std::size(texts))]), &error);
+        }
+        break;
+    }
     default:
         if (!d.parts.empty()) {
             const Part &p = d.parts[pick(d.parts.size())];
@@ -487,7 +421,9 @@ TEST_F(BlankDesignTest, ReopenAfterRandomEditSequencesOnEveryExampleAndABlankDes
                 openExample(start);
             const Design original = doc()->design();
             std::mt19937 rng(seed * 7919u + unsigned(start.size()));
-            for (int step = 0; step < int(3 * seed - 2); ++step)
+            // Short sequences (which often leave a complete circuit) and long ones.
+            constexpr int kLengths[] = {1, 2, 3, 5, 8, 12, 18, 26};
+            for (int step = 0; step < kLengths[seed - 1]; ++step)
                 randomEdit(doc(), rng);
             const QString path = dir.filePath(QStringLiteral("edited.loopsketch"));
             QString error;

@@ -11,7 +11,9 @@
 #include <QPainter>
 #include <QStyleOptionGraphicsItem>
 
+#include <algorithm>
 #include <cmath>
+#include <limits>
 
 namespace loopsketch::ui {
 
@@ -43,11 +45,30 @@ bool isVertical(int rotation)
 
 } // namespace
 
-PartItem::PartItem(const Part &part, int rotation) : m_id(part.id), m_type(part.type)
+PartItem::PartItem(const Part &part, int rotation, bool mirror) : m_id(part.id), m_type(part.type)
 {
     setFlags(ItemIsMovable | ItemIsSelectable | ItemIsFocusable | ItemSendsGeometryChanges);
     setToolTip(toQString(part.id));
-    update(part, rotation);
+    update(part, rotation, mirror);
+}
+
+QTransform PartItem::symbolTransform() const
+{
+    QTransform t;
+    t.rotate(m_rotation);
+    if (m_mirror)
+        t.scale(-1, 1);
+    return t;
+}
+
+SketchPlacement PartItem::placement() const
+{
+    return {pos().x(), pos().y(), m_rotation, m_mirror};
+}
+
+QRectF PartItem::sceneBodyRect() const
+{
+    return symbolTransform().mapRect(bodyRect(m_type)).translated(pos());
 }
 
 QString PartItem::valueText(const Part &part)
@@ -86,10 +107,11 @@ QString PartItem::valueText(const Part &part)
     return {};
 }
 
-void PartItem::update(const Part &part, int rotation)
+void PartItem::update(const Part &part, int rotation, bool mirror)
 {
     prepareGeometryChange();
     m_rotation = ((rotation % 360) + 360) % 360;
+    m_mirror = mirror;
     m_label = toQString(part.id);
     m_value = valueText(part);
     m_hasValue = !part.primaryField().empty();
@@ -104,6 +126,7 @@ void PartItem::layoutLabel()
     const double w
         = std::max(idMetrics.horizontalAdvance(m_label), valueMetrics.horizontalAdvance(m_value));
     const double h = idMetrics.height() + valueMetrics.height();
+    m_labelSize = QSizeF(w, h);
     if (m_type == PartType::GainBlock)
         m_labelRect = QRectF(-w / 2, 44, w, h);
     else if (isVertical(m_rotation))
@@ -112,10 +135,65 @@ void PartItem::layoutLabel()
         m_labelRect = QRectF(-w / 2, -16 - h, w, h);
 }
 
+void PartItem::placeLabel(const std::vector<QRectF> &obstacles)
+{
+    const double w = m_labelSize.width(), h = m_labelSize.height();
+    const QRectF body = symbolTransform().mapRect(bodyRect(m_type));
+    // The usual side first: under a gain block, beside a vertical part, above a horizontal one.
+    const QRectF above(-w / 2, std::min(-16.0, body.top() - 4) - h, w, h);
+    const QRectF below(-w / 2, std::max(16.0, body.bottom() + 4), w, h);
+    const QRectF right(std::max(28.0, body.right() + 6), -h / 2, w, h);
+    const QRectF left(std::min(-28.0, body.left() - 6) - w, -h / 2, w, h);
+    std::vector<QRectF> sides;
+    if (m_type == PartType::GainBlock)
+        sides = {QRectF(-w / 2, 44, w, h), QRectF(-w / 2, -44 - h, w, h),
+                 right.translated(0, 30 + h / 2), left.translated(0, 30 + h / 2)};
+    else if (isVertical(m_rotation))
+        sides = {right, left, above, below};
+    else
+        sides = {above, below, right, left};
+    // Further out as a last resort, in the same order, then at the corners.
+    const std::size_t near = sides.size();
+    for (double step : {24.0, 48.0}) {
+        for (std::size_t i = 0; i < near; ++i) {
+            const QPointF out = sides[i].center();
+            const double len = std::max(1.0, std::hypot(out.x(), out.y()));
+            sides.push_back(sides[i].translated(out.x() / len * step, out.y() / len * step));
+        }
+    }
+    for (double sx : {1.0, -1.0}) {
+        for (double sy : {-1.0, 1.0}) {
+            const double cx
+                = sx > 0 ? std::max(28.0, body.right() + 6) : std::min(-28.0, body.left() - 6) - w;
+            const double cy
+                = sy < 0 ? std::min(-16.0, body.top() - 4) - h : std::max(16.0, body.bottom() + 4);
+            sides.push_back(QRectF(cx, cy, w, h));
+        }
+    }
+    std::size_t best = 0;
+    int bestHits = std::numeric_limits<int>::max();
+    for (std::size_t i = 0; i < sides.size(); ++i) {
+        const QRectF r = sides[i].translated(pos());
+        int hits = 0;
+        for (const QRectF &o : obstacles)
+            hits += r.intersects(o) ? 1 : 0;
+        if (hits < bestHits) {
+            bestHits = hits;
+            best = i;
+            if (hits == 0)
+                break;
+        }
+    }
+    if (sides[best] != m_labelRect) {
+        prepareGeometryChange();
+        m_labelRect = sides[best];
+        QGraphicsItem::update();
+    }
+}
+
 QRectF PartItem::boundingRect() const
 {
-    QTransform t;
-    t.rotate(m_rotation);
+    const QTransform t = symbolTransform();
     const QRectF symbol = t.mapRect(QRectF(-62, -44, 124, 88));
     const QRectF body
         = m_type == PartType::GainBlock ? symbol : t.mapRect(QRectF(-42, -26, 84, 52));
@@ -124,10 +202,8 @@ QRectF PartItem::boundingRect() const
 
 QPainterPath PartItem::shape() const
 {
-    QTransform t;
-    t.rotate(m_rotation);
     QPainterPath path;
-    path.addRect(t.mapRect(bodyRect(m_type).adjusted(-6, -6, 6, 6)));
+    path.addRect(symbolTransform().mapRect(bodyRect(m_type).adjusted(-6, -6, 6, 6)));
     path.addRect(m_labelRect);
     return path;
 }
@@ -137,7 +213,7 @@ void PartItem::paint(QPainter *painter, const QStyleOptionGraphicsItem *, QWidge
     painter->setRenderHint(QPainter::Antialiasing, true);
     const QColor ink = isSelected() ? kSelected : kInk;
     painter->save();
-    painter->rotate(m_rotation);
+    painter->setTransform(symbolTransform(), true);
     painter->setPen(QPen(ink, 1.6, Qt::SolidLine, Qt::RoundCap, Qt::RoundJoin));
     painter->setBrush(Qt::NoBrush);
     paintSymbol(painter);
@@ -146,9 +222,10 @@ void PartItem::paint(QPainter *painter, const QStyleOptionGraphicsItem *, QWidge
     const QFontMetricsF idMetrics(labelFont());
     painter->setPen(isSelected() ? kSelected : kLabel);
     painter->setFont(labelFont());
-    const Qt::Alignment align = isVertical(m_rotation) && m_type != PartType::GainBlock
-        ? Qt::AlignLeft
-        : Qt::AlignHCenter;
+    // Beside the symbol the text keeps to the side that faces it.
+    const Qt::Alignment align = m_labelRect.left() > 0 ? Qt::AlignLeft
+        : m_labelRect.right() < 0                      ? Qt::AlignRight
+                                                       : Qt::AlignHCenter;
     QRectF idRect(m_labelRect.left(), m_labelRect.top(), m_labelRect.width(), idMetrics.height());
     painter->drawText(idRect, int(align | Qt::AlignVCenter), m_label);
     painter->setFont(valueFont());
@@ -164,7 +241,7 @@ void PartItem::paintSymbol(QPainter *p) const
     auto upright = [&](QPointF at, const QString &text, double pointSize) {
         p->save();
         p->translate(at);
-        p->rotate(-m_rotation);
+        p->setTransform(symbolTransform().inverted(), true);
         QFont f;
         f.setPointSizeF(pointSize);
         f.setBold(true);
@@ -220,7 +297,7 @@ void PartItem::paintSymbol(QPainter *p) const
         p->drawRoundedRect(QRectF(-20, -14, 40, 28), 3, 3);
         p->setBrush(Qt::NoBrush);
         p->save();
-        p->rotate(-m_rotation);
+        p->setTransform(symbolTransform().inverted(), true);
         QFont f;
         f.setPointSizeF(7.5);
         p->setFont(f);

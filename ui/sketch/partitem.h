@@ -15,7 +15,7 @@ class PartItem : public QGraphicsItem
 public:
     enum { Type = UserType + 1 };
 
-    explicit PartItem(const Part &part, int rotation);
+    explicit PartItem(const Part &part, int rotation, bool mirror = false);
 
     int type() const override { return Type; }
     QRectF boundingRect() const override;
@@ -25,8 +25,17 @@ public:
     const std::string &partId() const { return m_id; }
     PartType partType() const { return m_type; }
     int symbolRotation() const { return m_rotation; }
+    bool symbolMirrored() const { return m_mirror; }
+    /// The placement the item shows now (its position, rotation and mirroring).
+    SketchPlacement placement() const;
     /// Updates the label and orientation from the part.
-    void update(const Part &part, int rotation);
+    void update(const Part &part, int rotation, bool mirror);
+    /// Puts the label on the first side of the symbol (the usual one first) where it covers
+    /// none of `obstacles` (scene rectangles: wires, other symbols); the least covered side
+    /// when every side is.
+    void placeLabel(const std::vector<QRectF> &obstacles);
+    /// The symbol's body in scene coordinates (what labels and wires keep clear of).
+    QRectF sceneBodyRect() const;
 
     /// The value label's area, in item coordinates.
     QRectF labelRect() const { return m_labelRect; }
@@ -44,11 +53,14 @@ protected:
 
 private:
     void layoutLabel();
+    QTransform symbolTransform() const;
     void paintSymbol(QPainter *painter) const;
 
     std::string m_id;
     PartType m_type;
     int m_rotation = 0;
+    bool m_mirror = false;
+    QSizeF m_labelSize;
     QString m_label;
     QString m_value;
     QRectF m_labelRect; ///< in item coordinates (the item is not rotated; the symbol is)

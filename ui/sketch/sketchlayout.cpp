@@ -10,15 +10,17 @@
 
 namespace loopsketch::ui {
 
-namespace {
-
 QTransform placementTransform(const SketchPlacement &placement)
 {
     QTransform t;
     t.translate(placement.x, placement.y);
     t.rotate(placement.rotation);
+    if (placement.mirror)
+        t.scale(-1, 1);
     return t;
 }
+
+namespace {
 
 SketchPlacement placementOf(const SketchLayout &layout, const std::string &id)
 {
@@ -165,6 +167,7 @@ struct Pin
 {
     QPointF at;
     QPointF direction;
+    PinRef ref;
 };
 
 int crossings(const QLineF &segment, const std::vector<QRectF> &bodies)
@@ -222,32 +225,70 @@ int scoreRoute(const QPolygonF &route, const Pin &p, const Pin &q,
 QPolygonF route(const Pin &p, const Pin &q, const std::vector<QRectF> &bodies,
                 const std::vector<QPointF> &pins)
 {
-    // Candidates: one bend either way, and the same after a one-grid stub out of each pin.
+    // Candidates: one bend either way, or two bends through the middle (a Z), each straight
+    // out of the pins or after a stub of one or two grid steps out of each pin.
     std::vector<QPolygonF> candidates;
-    for (int stub = 0; stub < 2; ++stub) {
+    for (int stub = 0; stub < 3; ++stub) {
         const QPointF a = p.at + p.direction * (kGrid * stub);
         const QPointF b = q.at + q.direction * (kGrid * stub);
-        for (const QPointF &corner : {QPointF(b.x(), a.y()), QPointF(a.x(), b.y())}) {
+        auto add = [&](std::initializer_list<QPointF> middle) {
             QPolygonF r;
             r << p.at;
             if (stub)
                 r << a;
-            r << corner;
+            for (const QPointF &m : middle)
+                r << m;
             if (stub)
                 r << b;
             r << q.at;
             candidates.push_back(r);
-        }
+        };
+        add({QPointF(b.x(), a.y())});
+        add({QPointF(a.x(), b.y())});
+        const double mx = snapToGrid((a.x() + b.x()) / 2), my = snapToGrid((a.y() + b.y()) / 2);
+        add({QPointF(mx, a.y()), QPointF(mx, b.y())});
+        add({QPointF(a.x(), my), QPointF(b.x(), my)});
     }
     int bestScore = std::numeric_limits<int>::max();
     QPolygonF best;
-    for (const QPolygonF &r : candidates) {
-        const int score = scoreRoute(r, p, q, bodies, pins);
-        if (score < bestScore) {
-            bestScore = score;
-            best = r;
+    auto pickBest = [&] {
+        for (const QPolygonF &r : candidates) {
+            const int score = scoreRoute(r, p, q, bodies, pins);
+            if (score < bestScore) {
+                bestScore = score;
+                best = r;
+            }
+        }
+        candidates.clear();
+    };
+    pickBest();
+    if (bestScore < 8)
+        return best;
+    // Every simple route crosses a symbol or a pin: try going around the symbols near the
+    // two pins, along a line one grid step clear of their edges.
+    const QRectF span = QRectF(p.at, q.at).normalized().adjusted(-80, -80, 80, 80);
+    std::set<double> xs, ys;
+    for (const QRectF &b : bodies) {
+        if (!b.intersects(span))
+            continue;
+        xs.insert(snapToGrid(b.left() - kGrid));
+        xs.insert(snapToGrid(b.right() + kGrid));
+        ys.insert(snapToGrid(b.top() - kGrid));
+        ys.insert(snapToGrid(b.bottom() + kGrid));
+    }
+    for (int stub = 1; stub < 3; ++stub) {
+        const QPointF a = p.at + p.direction * (kGrid * stub);
+        const QPointF b = q.at + q.direction * (kGrid * stub);
+        for (double y : ys) {
+            candidates.push_back(
+                QPolygonF({p.at, a, QPointF(a.x(), y), QPointF(b.x(), y), b, q.at}));
+        }
+        for (double x : xs) {
+            candidates.push_back(
+                QPolygonF({p.at, a, QPointF(x, a.y()), QPointF(x, b.y()), b, q.at}));
         }
     }
+    pickBest();
     return best;
 }
 
@@ -269,7 +310,7 @@ SketchWiring routeWires(const Design &design, const SketchLayout &layout)
             if (p.nodes[i] == kGroundNode)
                 wiring.grounds.push_back({at, dir});
             else
-                nodes[p.nodes[i]].push_back({at, dir});
+                nodes[p.nodes[i]].push_back({at, dir, {p.id, pins[i].terminal}});
         }
     }
     std::vector<QPointF> allPins;
@@ -307,7 +348,9 @@ SketchWiring routeWires(const Design &design, const SketchLayout &layout)
             inTree[to] = true;
             ++degree[from];
             ++degree[to];
-            wiring.wires.push_back(route(pins[from], pins[to], bodies, allPins));
+            QPolygonF path = route(pins[from], pins[to], bodies, allPins);
+            wiring.wires.push_back(path);
+            wiring.edges.push_back({name, pins[from].ref, pins[to].ref, std::move(path)});
         }
         for (std::size_t i = 0; i < pins.size(); ++i) {
             if (degree[i] >= 2)

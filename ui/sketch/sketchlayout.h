@@ -9,6 +9,7 @@
 #include <QPointF>
 #include <QPolygonF>
 #include <QRectF>
+#include <QTransform>
 
 #include <string>
 #include <vector>
@@ -30,6 +31,10 @@ std::vector<PinGeometry> pinGeometry(PartType type);
 /// The symbol's body in its own coordinates (what wires should not cross).
 QRectF bodyRect(PartType type);
 
+/// A placement's transform: mirrored left to right first when `mirror` is set, then
+/// turned by `rotation`, then moved to (x, y).
+QTransform placementTransform(const SketchPlacement &placement);
+
 /// A placement's transform applied to a local point.
 QPointF toScene(const SketchPlacement &placement, QPointF local);
 
@@ -37,9 +42,27 @@ QPointF toScene(const SketchPlacement &placement, QPointF local);
 /// network above, parts to ground below their node; positions on the grid.
 SketchLayout automaticLayout(const Design &design);
 
+/// One pin of one part.
+struct PinRef
+{
+    std::string part;
+    std::string terminal;
+    bool operator==(const PinRef &) const = default;
+    auto operator<=>(const PinRef &) const = default;
+};
+
+/// One wire on the Sketch: an edge of its node's tree, from one pin to another.
+struct RoutedWire
+{
+    std::string node;
+    PinRef from, to;
+    QPolygonF path; ///< orthogonal polyline in scene coordinates, from `from` to `to`
+};
+
 struct SketchWiring
 {
     std::vector<QPolygonF> wires; ///< orthogonal polylines in scene coordinates
+    std::vector<RoutedWire> edges; ///< the same wires with the pins they join
     std::vector<QPointF> junctions; ///< where three or more wire ends meet
     std::vector<std::pair<QPointF, QPointF>> grounds; ///< ground pin and its direction
 };

@@ -3,6 +3,7 @@
 #include "sketch/groundsymbolitem.h"
 #include "sketch/partitem.h"
 #include "sketch/sketchlayout.h"
+#include "sketch/wireitem.h"
 #include "support/qtadapter.h"
 
 #include <QGraphicsPathItem>
@@ -28,6 +29,7 @@ void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
     clear();
     m_items.clear();
     m_grounds.clear();
+    m_wireItems.clear();
     m_hint = nullptr;
     m_problemMark = nullptr;
     m_design = design;
@@ -43,7 +45,7 @@ void SketchScene::rebuild(const Design *design, const SketchLayout &layout)
     for (const Part &p : design->parts) {
         const auto it = layout.parts.find(p.id);
         const SketchPlacement placement = it != layout.parts.end() ? it->second : SketchPlacement{};
-        auto *item = new PartItem(p, placement.rotation);
+        auto *item = new PartItem(p, placement.rotation, placement.mirror);
         item->setPos(placement.x, placement.y);
         addItem(item);
         m_items[p.id] = item;
@@ -125,8 +127,10 @@ void SketchScene::updatePart(const std::string &partId)
 {
     PartItem *item = partItem(partId);
     const Part *part = m_design ? m_design->findPart(partId) : nullptr;
-    if (item && part)
-        item->update(*part, item->symbolRotation());
+    if (item && part) {
+        item->update(*part, item->symbolRotation(), item->symbolMirrored());
+        reroute(); // the label's size may have changed
+    }
 }
 
 void SketchScene::applyLayout(const SketchLayout &layout)
@@ -138,9 +142,11 @@ void SketchScene::applyLayout(const SketchLayout &layout)
         if (it == layout.parts.end())
             continue;
         item->setPos(it->second.x, it->second.y);
-        if (item->symbolRotation() != it->second.rotation && m_design) {
+        if ((item->symbolRotation() != it->second.rotation
+             || item->symbolMirrored() != it->second.mirror)
+            && m_design) {
             if (const Part *part = m_design->findPart(id))
-                item->update(*part, it->second.rotation);
+                item->update(*part, it->second.rotation, it->second.mirror);
         }
     }
     if (m_design && layout.grounds.size() != m_grounds.size()) {
@@ -176,7 +182,7 @@ bool SketchScene::pinAt(QPointF scenePos, double radius, std::string *partId, st
     double best = radius;
     bool found = false;
     for (const auto &[id, item] : m_items) {
-        const SketchPlacement placement{item->pos().x(), item->pos().y(), item->symbolRotation()};
+        const SketchPlacement placement = item->placement();
         for (const PinGeometry &pin : pinGeometry(item->partType())) {
             const QPointF p = toScene(placement, pin.position);
             const double d = QLineF(p, scenePos).length();
@@ -200,6 +206,71 @@ std::vector<std::string> SketchScene::selectedPartIds() const
             ids.push_back(part->partId());
     }
     return ids;
+}
+
+void SketchScene::selectParts(const std::vector<std::string> &partIds)
+{
+    clearSelection();
+    for (const std::string &id : partIds) {
+        if (PartItem *item = partItem(id))
+            item->setSelected(true);
+    }
+}
+
+void SketchScene::selectAllSymbols()
+{
+    clearSelection();
+    for (const auto &[id, item] : m_items)
+        item->setSelected(true);
+    for (QGraphicsItem *g : m_grounds)
+        g->setSelected(true);
+}
+
+WireItem *SketchScene::wireBetween(const PinRef &a, const PinRef &b) const
+{
+    for (WireItem *w : m_wireItems) {
+        const RoutedWire &r = w->wire();
+        if ((r.from == a && r.to == b) || (r.from == b && r.to == a))
+            return w;
+    }
+    return nullptr;
+}
+
+std::vector<RoutedWire> SketchScene::selectedWires() const
+{
+    std::vector<RoutedWire> wires;
+    for (WireItem *w : m_wireItems) {
+        if (w->isSelected())
+            wires.push_back(w->wire());
+    }
+    return wires;
+}
+
+WireItem *SketchScene::selectedWireEndAt(QPointF scenePos, double radius, int *end) const
+{
+    WireItem *found = nullptr;
+    double best = radius;
+    for (WireItem *w : m_wireItems) {
+        if (!w->isSelected())
+            continue;
+        for (int e = 0; e < 2; ++e) {
+            const double d = QLineF(w->endPoint(e), scenePos).length();
+            if (d <= best) {
+                best = d;
+                found = w;
+                *end = e;
+            }
+        }
+    }
+    return found;
+}
+
+std::map<std::string, QRectF> SketchScene::labelRects() const
+{
+    std::map<std::string, QRectF> rects;
+    for (const auto &[id, item] : m_items)
+        rects[id] = item->labelRect().translated(item->pos());
+    return rects;
 }
 
 void SketchScene::selectPart(const std::string &partId)
@@ -236,51 +307,93 @@ void SketchScene::reroute()
     if (!m_design || !m_wires)
         return;
     SketchLayout current = m_layout;
-    for (const auto &[id, item] : m_items) {
-        SketchPlacement &p = current.parts[id];
-        p.x = item->pos().x();
-        p.y = item->pos().y();
-        p.rotation = item->symbolRotation();
-    }
+    for (const auto &[id, item] : m_items)
+        current.parts[id] = item->placement();
     const SketchWiring wiring = routeWires(*m_design, current);
+    // Wire items are made afresh; the selected ones stay selected.
+    std::vector<std::pair<PinRef, PinRef>> selected;
+    for (WireItem *w : m_wireItems) {
+        if (w->isSelected())
+            selected.emplace_back(w->wire().from, w->wire().to);
+        removeItem(w);
+        delete w;
+    }
+    m_wireItems.clear();
+    for (const RoutedWire &r : wiring.edges) {
+        auto *item = new WireItem(r);
+        addItem(item);
+        m_wireItems.push_back(item);
+        for (const auto &[from, to] : selected) {
+            if (r.from == from && r.to == to)
+                item->setSelected(true);
+        }
+    }
     QPainterPath wires;
-    for (const QPolygonF &w : wiring.wires)
-        wires.addPolygon(w);
+    std::vector<QRectF> marks;
     for (const auto &[at, dir] : wiring.grounds) {
+        QPainterPath mark;
         // A short lead along the pin, then down to three bars.
         const bool horizontal = std::abs(dir.x()) > 0.5;
         QPointF p = at;
         if (horizontal) {
             const QPointF q = p + dir * 12.0;
-            wires.moveTo(p);
-            wires.lineTo(q);
+            mark.moveTo(p);
+            mark.lineTo(q);
             p = q;
         } else if (dir.y() < 0) {
             // A ground on a pin that points up is drawn above it, bars facing up.
             const QPointF q = p + QPointF(0, -12);
-            wires.moveTo(p);
-            wires.lineTo(q);
+            mark.moveTo(p);
+            mark.lineTo(q);
             for (int i = 0; i < 3; ++i) {
                 const double half = 10.0 - 3.5 * i;
-                wires.moveTo(q + QPointF(-half, -4.0 * i));
-                wires.lineTo(q + QPointF(half, -4.0 * i));
+                mark.moveTo(q + QPointF(-half, -4.0 * i));
+                mark.lineTo(q + QPointF(half, -4.0 * i));
             }
+            wires.addPath(mark);
+            marks.push_back(mark.boundingRect());
             continue;
         }
         const QPointF q = p + QPointF(0, 12);
-        wires.moveTo(p);
-        wires.lineTo(q);
+        mark.moveTo(p);
+        mark.lineTo(q);
         for (int i = 0; i < 3; ++i) {
             const double half = 10.0 - 3.5 * i;
-            wires.moveTo(q + QPointF(-half, 4.0 * i));
-            wires.lineTo(q + QPointF(half, 4.0 * i));
+            mark.moveTo(q + QPointF(-half, 4.0 * i));
+            mark.lineTo(q + QPointF(half, 4.0 * i));
         }
+        wires.addPath(mark);
+        marks.push_back(mark.boundingRect());
     }
     m_wires->setPath(wires);
+    placeLabels(wiring, marks);
     QPainterPath dots;
     for (const QPointF &j : wiring.junctions)
         dots.addEllipse(j, 3.0, 3.0);
     m_dots->setPath(dots);
+}
+
+void SketchScene::placeLabels(const SketchWiring &wiring, const std::vector<QRectF> &groundMarks)
+{
+    // Past a few hundred parts a drawing is not read label by label; keep dragging fast.
+    if (m_items.size() > 400)
+        return;
+    std::vector<QRectF> obstacles = groundMarks;
+    for (const QPolygonF &w : wiring.wires) {
+        for (qsizetype i = 0; i + 1 < w.size(); ++i)
+            obstacles.push_back(QRectF(w[i], w[i + 1]).normalized().adjusted(-2, -2, 2, 2));
+    }
+    for (QGraphicsItem *g : m_grounds)
+        obstacles.push_back(g->sceneBoundingRect());
+    const std::size_t shared = obstacles.size();
+    for (const auto &[id, item] : m_items) {
+        obstacles.resize(shared);
+        for (const auto &[other, otherItem] : m_items) {
+            if (otherItem != item)
+                obstacles.push_back(otherItem->sceneBodyRect());
+        }
+        item->placeLabel(obstacles);
+    }
 }
 
 } // namespace loopsketch::ui

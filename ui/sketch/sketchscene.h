@@ -19,6 +19,10 @@ class QGraphicsSimpleTextItem;
 namespace loopsketch::ui {
 
 class PartItem;
+class WireItem;
+struct PinRef;
+struct RoutedWire;
+struct SketchWiring;
 
 class SketchScene : public QGraphicsScene
 {
@@ -42,6 +46,21 @@ public:
                QPointF *at) const;
     /// Ids of all selected parts.
     std::vector<std::string> selectedPartIds() const;
+    /// Selects exactly these parts.
+    void selectParts(const std::vector<std::string> &partIds);
+    /// Selects every part and ground symbol (wires go with their parts).
+    void selectAllSymbols();
+    /// The wires shown now, each an edge of its node's tree.
+    std::vector<WireItem *> wireItems() const { return m_wireItems; }
+    /// The wire joining two pins (either way round), nullptr when none.
+    WireItem *wireBetween(const PinRef &a, const PinRef &b) const;
+    /// The selected wires.
+    std::vector<RoutedWire> selectedWires() const;
+    /// The end of a selected wire within `radius` of `scenePos`: the wire, and `end` 0 for
+    /// its `from` pin, 1 for its `to` pin; nullptr when there is none.
+    WireItem *selectedWireEndAt(QPointF scenePos, double radius, int *end) const;
+    /// The value labels' rectangles in scene coordinates, by part id.
+    std::map<std::string, QRectF> labelRects() const;
     /// The free-standing ground symbol whose pin is nearest `scenePos` within `radius`
     /// (its index in the layout), -1 when there is none.
     int groundAt(QPointF scenePos, double radius, QPointF *at = nullptr) const;
@@ -68,11 +87,13 @@ signals:
 
 private:
     void reroute();
+    void placeLabels(const SketchWiring &wiring, const std::vector<QRectF> &groundMarks);
 
     const Design *m_design = nullptr;
     SketchLayout m_layout;
     std::map<std::string, PartItem *> m_items;
-    QGraphicsPathItem *m_wires = nullptr;
+    QGraphicsPathItem *m_wires = nullptr; ///< leads of the ground marks on grounded pins
+    std::vector<WireItem *> m_wireItems;
     QGraphicsPathItem *m_dots = nullptr;
     std::vector<QGraphicsItem *> m_grounds;
     QGraphicsSimpleTextItem *m_hint = nullptr;

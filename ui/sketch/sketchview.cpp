@@ -3,6 +3,7 @@
 #include "sketch/partitem.h"
 #include "sketch/partspalette.h"
 #include "sketch/sketchscene.h"
+#include "sketch/wireitem.h"
 
 #include <QContextMenuEvent>
 #include <QDragEnterEvent>
@@ -116,19 +117,17 @@ void SketchView::keyPressEvent(QKeyEvent *event)
         case Qt::Key_R:
             emit rotateRequested(id);
             return;
+        case Qt::Key_H:
+            emit mirrorRequested(id);
+            return;
         default:
             break;
         }
     }
-    if (sketch && (event->key() == Qt::Key_Delete || event->key() == Qt::Key_Backspace)) {
-        const auto ids = sketch->selectedPartIds();
-        const auto grounds = sketch->selectedGrounds();
-        if (!grounds.empty())
-            emit deleteGroundsRequested(grounds);
-        if (!ids.empty())
-            emit deleteRequested(ids);
-        if (!ids.empty() || !grounds.empty())
-            return;
+    if (sketch && (event->key() == Qt::Key_Delete || event->key() == Qt::Key_Backspace)
+        && !sketch->selectedItems().isEmpty()) {
+        emit deleteSelectionRequested();
+        return;
     }
     if (event->key() == Qt::Key_Plus || event->key() == Qt::Key_Equal) {
         m_autoFit = false;
@@ -149,7 +148,27 @@ void SketchView::mousePressEvent(QMouseEvent *event)
     QPointF at;
     const QPointF scenePos = mapToScene(event->position().toPoint());
     bool fromPin = false;
+    m_reattach = false;
     if (event->button() == Qt::LeftButton && sketch) {
+        int end = 0;
+        if (WireItem *w = sketch->selectedWireEndAt(scenePos, 7.0, &end)) {
+            // A selected wire's end: drag it to another pin.
+            const RoutedWire &r = w->wire();
+            const PinRef &keep = end == 0 ? r.to : r.from;
+            const PinRef &leave = end == 0 ? r.from : r.to;
+            m_keepPart = keep.part;
+            m_keepTerminal = keep.terminal;
+            m_leavePart = leave.part;
+            m_leaveTerminal = leave.terminal;
+            m_reattach = true;
+            const QPointF fixed = w->endPoint(1 - end);
+            m_wire = sketch->addLine(QLineF(fixed, scenePos),
+                                     QPen(QColor(0x00, 0x72, 0xb2), 1.5, Qt::DashLine));
+            m_wire->setZValue(50);
+            event->accept();
+            return;
+        }
+        m_movePin = event->modifiers() & Qt::ShiftModifier;
         fromPin = sketch->pinAt(scenePos, 7.0, &m_wirePart, &m_wireTerminal, &at);
         if (!fromPin && sketch->groundAt(scenePos, 7.0, &at) >= 0) {
             fromPin = true;
@@ -205,7 +224,21 @@ void SketchView::mouseReleaseEvent(QMouseEvent *event)
         const QPointF end = mapToScene(event->position().toPoint());
         const bool onPin = sketch && sketch->pinAt(end, 9.0, &part, &terminal, &at);
         const bool onGround = !onPin && sketch && sketch->groundAt(end, 9.0) >= 0;
-        if (m_wirePart.empty()) {
+        if (m_reattach) {
+            m_reattach = false;
+            const bool same = onPin
+                && ((part == m_leavePart && terminal == m_leaveTerminal)
+                    || (part == m_keepPart && terminal == m_keepTerminal));
+            if ((onPin && !same) || onGround)
+                emit reattachRequested(m_keepPart, m_keepTerminal, m_leavePart, m_leaveTerminal,
+                                       onPin ? part : std::string(),
+                                       onPin ? terminal : std::string());
+        } else if (m_movePin && !m_wirePart.empty()) {
+            if (onGround)
+                emit movePinRequested(m_wirePart, m_wireTerminal, {}, {});
+            else if (onPin && !(part == m_wirePart && terminal == m_wireTerminal))
+                emit movePinRequested(m_wirePart, m_wireTerminal, part, terminal);
+        } else if (m_wirePart.empty()) {
             if (onPin)
                 emit groundRequested(part, terminal);
         } else if (onGround) {
@@ -234,14 +267,29 @@ void SketchView::contextMenuEvent(QContextMenuEvent *event)
     std::string part, terminal;
     QPointF at;
     QMenu menu(this);
+    QGraphicsItem *under = itemAt(event->pos());
     if (sketch->pinAt(scenePos, 7.0, &part, &terminal, &at)) {
-        menu.addAction(tr("Connect %1.%2 to ground")
-                           .arg(QString::fromStdString(part), QString::fromStdString(terminal)),
-                       this, [this, part, terminal] { emit groundRequested(part, terminal); });
-    } else if (auto *item = qgraphicsitem_cast<PartItem *>(itemAt(event->pos()))) {
+        const QString pin = QStringLiteral("%1.%2").arg(QString::fromStdString(part),
+                                                        QString::fromStdString(terminal));
+        menu.addAction(tr("Connect %1 to ground").arg(pin), this,
+                       [this, part, terminal] { emit groundRequested(part, terminal); });
+        menu.addAction(tr("Disconnect %1").arg(pin), this,
+                       [this, part, terminal] { emit disconnectRequested(part, terminal); });
+    } else if (auto *wire = qgraphicsitem_cast<WireItem *>(under)) {
+        const RoutedWire r = wire->wire();
+        menu.addAction(
+            tr("Delete wire %1.%2 – %3.%4")
+                .arg(QString::fromStdString(r.from.part), QString::fromStdString(r.from.terminal),
+                     QString::fromStdString(r.to.part), QString::fromStdString(r.to.terminal)),
+            this, [this, r] {
+                emit wireDeleteRequested(r.from.part, r.from.terminal, r.to.part, r.to.terminal);
+            });
+    } else if (auto *item = qgraphicsitem_cast<PartItem *>(under)) {
         const std::string id = item->partId();
         menu.addAction(tr("Rotate %1").arg(QString::fromStdString(id)), this,
                        [this, id] { emit rotateRequested(id); });
+        menu.addAction(tr("Mirror %1 left to right").arg(QString::fromStdString(id)), this,
+                       [this, id] { emit mirrorRequested(id); });
         menu.addAction(tr("Delete %1").arg(QString::fromStdString(id)), this,
                        [this, id] { emit deleteRequested({id}); });
     } else {

@@ -3,7 +3,9 @@
 // The Sketch's view: Ctrl+wheel zooms, wheel over a part steps its value through its
 // E-series (Shift: a decade), arrow keys step the selected part, R turns it; a drag on the
 // background selects with a rubber band, a middle-button drag pans, a drag from a pin to
-// another pin draws a wire (joins their nodes), Delete removes the selection.
+// another pin draws a wire (joins their nodes), with Shift it moves the pin's connection
+// there; a selected wire's end dragged to another pin re-attaches the wire; H mirrors the
+// selected part; Delete removes the selection (parts, ground symbols, wires).
 
 #include <QGraphicsView>
 
@@ -43,6 +45,23 @@ signals:
     /// -1 for a ground symbol.
     void placeRequested(int symbol, QPointF scenePos);
     void deleteGroundsRequested(const std::vector<int> &indices);
+    /// Delete or Backspace on the Sketch: remove whatever is selected.
+    void deleteSelectionRequested();
+    void mirrorRequested(const std::string &partId);
+    /// Take one pin off its node (context menu).
+    void disconnectRequested(const std::string &partId, const std::string &terminal);
+    /// Remove the wire between two pins (context menu).
+    void wireDeleteRequested(const std::string &partA, const std::string &terminalA,
+                             const std::string &partB, const std::string &terminalB);
+    /// The wire between `keep` and `moved` was dragged by its `moved` end onto another pin
+    /// (`targetPart` empty: onto a ground symbol).
+    void reattachRequested(const std::string &keepPart, const std::string &keepTerminal,
+                           const std::string &movedPart, const std::string &movedTerminal,
+                           const std::string &targetPart, const std::string &targetTerminal);
+    /// Shift-drag from a pin: the pin leaves its node and joins the target's
+    /// (`targetPart` empty: ground).
+    void movePinRequested(const std::string &partId, const std::string &terminal,
+                          const std::string &targetPart, const std::string &targetTerminal);
 
 protected:
     void wheelEvent(QWheelEvent *event) override;
@@ -64,6 +83,10 @@ private:
     // A wire being drawn from a pin.
     QGraphicsLineItem *m_wire = nullptr;
     std::string m_wirePart, m_wireTerminal; ///< empty part: the wire starts at a ground symbol
+    bool m_movePin = false; ///< Shift held: the pin's connection moves instead of a new wire
+    /// A selected wire's end being dragged: the pin that stays and the pin that is left.
+    std::string m_keepPart, m_keepTerminal, m_leavePart, m_leaveTerminal;
+    bool m_reattach = false;
     int m_badgeForm = -1; ///< style last applied: 1 two-port form, 0 none, -1 never
     QPoint m_panFrom;
 };

@@ -4,6 +4,8 @@
 // QUndoStack and the latest Analysis. Every edit goes through an undoable command; every
 // change schedules exactly one recomputation on a coalescing timer.
 
+#include "sketch/sketchlayout.h"
+
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/design.h"
 
@@ -79,6 +81,8 @@ public:
     void moveParts(const std::map<std::string, std::pair<double, double>> &positions);
     /// Turns a part's symbol by 90 degrees clockwise.
     void rotatePart(const std::string &partId);
+    /// Mirrors a part's symbol left to right (or back), kept in the sketch section.
+    void mirrorPart(const std::string &partId);
 
     // Structural edits (parts and connections), each one undoable step.
     /// Adds a part of `type` with fresh, unconnected nodes at a free place near (x, y);
@@ -93,6 +97,25 @@ public:
                      const std::string &partB, const std::string &terminalB);
     /// Puts one pin on the ground node.
     bool groundPin(const std::string &partId, const std::string &terminal);
+    /// Takes one pin off its node onto a fresh node of its own. False when it shares its
+    /// node with no other pin and is not on ground.
+    bool disconnectPin(const std::string &partId, const std::string &terminal);
+    /// Removes wires, each given by the two pins it joins (an edge of the Sketch's wiring,
+    /// routeWires()): the pins on either side of a removed wire end up on separate nodes,
+    /// the larger side keeping the node's name. One undo step; false when none was a wire.
+    bool removeWires(const std::vector<std::pair<PinRef, PinRef>> &wires);
+    /// Moves the `leave` end of the wire between `keep` and `leave` to `target` (a part's
+    /// pin, or ground when target.part is empty), as one undo step.
+    bool reattachWire(const PinRef &keep, const PinRef &leave, const PinRef &target);
+    /// Takes a pin off its node and joins it to `target`'s (ground when target.part is
+    /// empty), as one undo step.
+    bool movePin(const PinRef &pin, const PinRef &target);
+    /// Adds copies of `fragment`'s parts (copyParts()) with fresh ids (the next free R3,
+    /// C2 ...) and fresh nodes (connections among them kept, ground kept), moved down and
+    /// right from their copied places by two grid steps or as many more as it takes to keep
+    /// clear of every part (80 x 60 scene units). One undo step
+    /// named `text`; returns the new ids.
+    std::vector<std::string> pasteParts(const Design &fragment, const QString &text);
     /// Places a free-standing ground symbol at (x, y) (scene units, snapped to the grid).
     void addGround(double x, double y);
     /// Moves ground symbol `index` of the layout; false when there is no such symbol.
@@ -175,6 +198,8 @@ private:
     /// Keeps what names parts consistent with the parts (candidates, input) after a
     /// structural edit; returns notices for the user.
     QStringList tidy(Design &design) const;
+    /// The first free id for a new part of `type` in `design` ("R3", "C2" ...).
+    static std::string nextFreeId(PartType type, const Design &design);
 
     Design m_design;
     std::optional<Analysis> m_analysis;

@@ -16,11 +16,13 @@
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/exportactions.h"
+#include "window/partclipboard.h"
 
 #include "loopsketch/design/designfile.h"
 
 #include <QAction>
 #include <QApplication>
+#include <QClipboard>
 #include <QCloseEvent>
 #include <QDateTime>
 #include <QDir>
@@ -30,6 +32,7 @@
 #include <QFileDialog>
 #include <QFileInfo>
 #include <QLabel>
+#include <QListWidget>
 #include <QMenuBar>
 #include <QMessageBox>
 #include <QMimeData>
@@ -218,6 +221,24 @@ MainWindow::MainWindow(QWidget *parent)
     connect(m_view, &SketchView::placeRequested, this, &MainWindow::placeSymbol);
     connect(m_view, &SketchView::deleteGroundsRequested, m_document,
             &DesignDocument::removeGrounds);
+    connect(m_view, &SketchView::deleteSelectionRequested, this, &MainWindow::deleteSelection);
+    connect(m_view, &SketchView::mirrorRequested, m_document, &DesignDocument::mirrorPart);
+    connect(m_view, &SketchView::disconnectRequested, m_document, &DesignDocument::disconnectPin);
+    connect(m_view, &SketchView::wireDeleteRequested, this,
+            [this](const std::string &pa, const std::string &ta, const std::string &pb,
+                   const std::string &tb) {
+                m_document->removeWires({{{pa, ta}, {pb, tb}}});
+            });
+    connect(m_view, &SketchView::reattachRequested, this,
+            [this](const std::string &kp, const std::string &kt, const std::string &lp,
+                   const std::string &lt, const std::string &tp, const std::string &tt) {
+                m_document->reattachWire({kp, kt}, {lp, lt}, {tp, tt});
+            });
+    connect(m_view, &SketchView::movePinRequested, this,
+            [this](const std::string &p, const std::string &t, const std::string &tp,
+                   const std::string &tt) {
+                m_document->movePin({p, t}, {tp, tt});
+            });
     connect(m_scene, &SketchScene::groundMoved, this,
             [this](int index, QPointF at) { m_document->moveGround(index, at.x(), at.y()); });
     connect(m_palette, &PartsPalette::placeRequested, this, [this](int symbol) {
@@ -418,6 +439,8 @@ void MainWindow::createActions()
     redo->setShortcut(QKeySequence::Redo);
     edit->addAction(undo);
     edit->addAction(redo);
+    edit->addSeparator();
+    createEditActions(edit);
 
     // Candidates, spread and value suggestions add their actions here.
     m_designMenu = menuBar()->addMenu(tr("&Design"));
@@ -467,6 +490,132 @@ void MainWindow::createActions()
 
     QMenu *help = menuBar()->addMenu(tr("&Help"));
     help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
+}
+
+void MainWindow::createEditActions(QMenu *edit)
+{
+    auto add
+        = [&](const QString &text, const char *name, QKeySequence key, void (MainWindow::*slot)()) {
+              QAction *a = edit->addAction(text, this, slot);
+              a->setObjectName(QString::fromLatin1(name));
+              a->setShortcut(key);
+              return a;
+          };
+    add(tr("Cu&t"), "CutAction", QKeySequence::Cut, &MainWindow::cutSelection);
+    add(tr("&Copy"), "CopyAction", QKeySequence::Copy, &MainWindow::copySelection);
+    add(tr("&Paste"), "PasteAction", QKeySequence::Paste, &MainWindow::pasteParts);
+    // No standard key exists for duplicating; Ctrl+D is the common one.
+    add(tr("D&uplicate"), "DuplicateAction", QKeySequence(Qt::CTRL | Qt::Key_D),
+        &MainWindow::duplicateSelection);
+    QAction *remove
+        = add(tr("&Delete"), "DeleteAction", QKeySequence::Delete, &MainWindow::deleteSelection);
+    edit->addSeparator();
+    QAction *all = edit->addAction(tr("Select &all"), this, [this] {
+        m_view->setFocus();
+        m_scene->selectAllSymbols();
+    });
+    all->setObjectName(QStringLiteral("SelectAllAction"));
+    all->setShortcut(QKeySequence::SelectAll);
+    // Delete and Select all act on the Sketch while it has the focus; in the parts list, the
+    // Candidates table and the text fields the keys keep their own meaning there.
+    for (QAction *a : {remove, all}) {
+        a->setShortcutContext(Qt::WidgetWithChildrenShortcut);
+        m_view->addAction(a);
+    }
+}
+
+std::vector<std::string> MainWindow::partsToEdit() const
+{
+    if (m_palette->partList()->hasFocus()) {
+        std::vector<std::string> ids;
+        for (QListWidgetItem *item : m_palette->partList()->selectedItems())
+            ids.push_back(toStdString(item->data(Qt::UserRole).toString()));
+        return ids;
+    }
+    return m_scene->selectedPartIds();
+}
+
+void MainWindow::copySelection()
+{
+    const std::vector<std::string> ids = partsToEdit();
+    if (ids.empty())
+        return;
+    QGuiApplication::clipboard()->setMimeData(
+        partsMimeData(copyParts(m_document->design(), m_document->layout(), ids)));
+    statusBar()->showMessage(ids.size() == 1 ? tr("Copied %1").arg(toQString(ids.front()))
+                                             : tr("Copied %1 parts").arg(ids.size()),
+                             5000);
+}
+
+void MainWindow::cutSelection()
+{
+    const std::vector<std::string> ids = partsToEdit();
+    if (ids.empty())
+        return;
+    QGuiApplication::clipboard()->setMimeData(
+        partsMimeData(copyParts(m_document->design(), m_document->layout(), ids)));
+    m_document->removeParts(ids);
+}
+
+void MainWindow::pasteParts()
+{
+    const auto fragment = partsFromMimeData(QGuiApplication::clipboard()->mimeData());
+    if (!fragment) {
+        statusBar()->showMessage(tr("The clipboard holds no Loopsketch parts."), 5000);
+        return;
+    }
+    const auto ids = m_document->pasteParts(
+        *fragment,
+        fragment->parts.size() == 1 ? tr("Paste %1").arg(toQString(fragment->parts[0].id))
+                                    : tr("Paste %1 parts").arg(fragment->parts.size()));
+    m_scene->selectParts(ids);
+}
+
+void MainWindow::duplicateSelection()
+{
+    const std::vector<std::string> ids = partsToEdit();
+    if (ids.empty())
+        return;
+    const auto copies
+        = m_document->pasteParts(copyParts(m_document->design(), m_document->layout(), ids),
+                                 ids.size() == 1 ? tr("Duplicate %1").arg(toQString(ids.front()))
+                                                 : tr("Duplicate %1 parts").arg(ids.size()));
+    m_scene->selectParts(copies);
+}
+
+void MainWindow::deleteSelection()
+{
+    if (m_palette->partList()->hasFocus()) {
+        const std::vector<std::string> ids = partsToEdit();
+        if (!ids.empty())
+            m_document->removeParts(ids);
+        return;
+    }
+    const std::vector<std::string> ids = m_scene->selectedPartIds();
+    const std::vector<int> grounds = m_scene->selectedGrounds();
+    std::vector<std::pair<PinRef, PinRef>> wires;
+    for (const RoutedWire &w : m_scene->selectedWires()) {
+        // A wire to a part that goes anyway needs no step of its own.
+        const auto going = [&](const PinRef &pin) {
+            return std::find(ids.begin(), ids.end(), pin.part) != ids.end();
+        };
+        if (!going(w.from) && !going(w.to))
+            wires.emplace_back(w.from, w.to);
+    }
+    const int kinds = int(!ids.empty()) + int(!grounds.empty()) + int(!wires.empty());
+    if (kinds == 0)
+        return;
+    QUndoStack *stack = m_document->undoStack();
+    if (kinds > 1)
+        stack->beginMacro(tr("Delete selection"));
+    if (!wires.empty())
+        m_document->removeWires(wires);
+    if (!grounds.empty())
+        m_document->removeGrounds(grounds);
+    if (!ids.empty())
+        m_document->removeParts(ids);
+    if (kinds > 1)
+        stack->endMacro();
 }
 
 SuggestDialog *MainWindow::suggestDialog()

@@ -105,6 +105,16 @@ private:
     bool save();
     bool saveAs();
     void about();
+    void createEditActions(QMenu *edit);
+    /// The parts an Edit action works on: the selection of the "In this design" list while
+    /// it has the focus, else the Sketch's.
+    std::vector<std::string> partsToEdit() const;
+    void copySelection();
+    void cutSelection();
+    void pasteParts();
+    void duplicateSelection();
+    /// Removes the selected parts, ground symbols and wires as one undo step.
+    void deleteSelection();
     /// Writes unsaved work to recoveryFile(); false when there was nothing to write or the
     /// write failed.
     bool writeRecovery();

@@ -731,7 +731,7 @@ public:
                         typeError(id, "sketch", p, "a placement {x, y, rotation}");
                         continue;
                     }
-                    checkKeys(p, {"x", "y", "rotation"}, id, "sketch");
+                    checkKeys(p, {"x", "y", "rotation", "mirror"}, id, "sketch");
                     SketchPlacement placement;
                     for (auto [key, target] :
                          {std::pair{"x", &placement.x}, std::pair{"y", &placement.y}}) {
@@ -750,6 +750,12 @@ public:
                             error(id, "sketch.rotation", "rotation must be within +-3600 degrees");
                         else
                             placement.rotation = r->get<int>();
+                    }
+                    if (auto m = p.find("mirror"); m != p.end()) {
+                        if (!m->is_boolean())
+                            typeError(id, "sketch.mirror", *m, "true or false");
+                        else
+                            placement.mirror = m->get<bool>();
                     }
                     sketch.parts[id] = placement;
                 }
@@ -1101,7 +1107,8 @@ std::string serializeDesign(const Design &d)
             std::size_t i = 0;
             for (const auto &[id, p] : d.sketch->parts) {
                 s += "      " + jsonString(id) + ": {\"x\": " + jsonNumber(p.x) + ", \"y\": "
-                    + jsonNumber(p.y) + ", \"rotation\": " + std::to_string(p.rotation) + "}"
+                    + jsonNumber(p.y) + ", \"rotation\": " + std::to_string(p.rotation)
+                    + (p.mirror ? ", \"mirror\": true}" : "}")
                     + (++i < d.sketch->parts.size() ? ",\n" : "\n");
             }
             s += "    },\n";

@@ -165,6 +165,9 @@ struct SketchPlacement
     double x = 0;
     double y = 0;
     int rotation = 0; ///< degrees, multiple of 90
+    /// Mirrored left to right in the symbol's own coordinates, before the rotation
+    /// (design-file key `mirror`, written only when true).
+    bool mirror = false;
     bool operator==(const SketchPlacement &) const = default;
 };
 
