@@ -10,7 +10,7 @@
 // The expected behaviour is Loopsketch's own output contract (DEVELOPERS.md, "Outputs");
 // errno texts are glibc's strerror wording; /dev/full's ENOSPC is Linux's full(4).
 
-#include "../core/faultinjection.h"
+#include "faultinjection.h"
 
 #include "sheet/reviewsheet.h"
 
