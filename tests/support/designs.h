@@ -65,6 +65,19 @@ inline Analysis analyzeOrFail(const Design &design)
     return a.ok() ? *a : Analysis{};
 }
 
+/// `d` with the candidate's values written by hand onto the parts' primary fields: a path
+/// independent of applyCandidate(), for checking what the program did with a candidate.
+inline Design withCandidateByHand(Design d, const Candidate &c)
+{
+    for (const auto &[id, value] : c.values) {
+        Part *p = d.findPart(id);
+        EXPECT_NE(p, nullptr) << id;
+        if (p)
+            p->fields[std::string(p->primaryField())] = value;
+    }
+    return d;
+}
+
 /// The number in `x`; NaN and a test failure when the quantity is missing.
 inline double valueOf(const OptionalNumber &x)
 {

@@ -3,8 +3,11 @@
 // Files for tests: a temporary directory removed with everything in it, whole-file reads and
 // writes, a directory's listing.
 
+#include <cctype>
+#include <cstddef>
 #include <filesystem>
 #include <fstream>
+#include <iterator>
 #include <set>
 #include <sstream>
 #include <string>
@@ -29,12 +32,21 @@ public:
     ~TempDir()
     {
         std::error_code ec;
-        if (!m_path.empty())
-            std::filesystem::remove_all(m_path, ec);
+        if (m_path.empty())
+            return;
+        // a test may have taken the write permission away
+        std::filesystem::permissions(m_path, std::filesystem::perms::owner_all,
+                                     std::filesystem::perm_options::add, ec);
+        std::filesystem::remove_all(m_path, ec);
     }
     TempDir(const TempDir &) = delete;
     TempDir &operator=(const TempDir &) = delete;
     const std::filesystem::path &path() const { return m_path; }
+    std::size_t entryCount() const
+    {
+        return static_cast<std::size_t>(std::distance(std::filesystem::directory_iterator(m_path),
+                                                      std::filesystem::directory_iterator()));
+    }
 
 private:
     std::filesystem::path m_path;
@@ -67,6 +79,16 @@ inline std::string entriesOf(const std::filesystem::path &dir)
     for (const auto &n : names)
         joined.append(joined.empty() ? "" : " ").append(n);
     return joined;
+}
+
+/// A name GoogleTest accepts for a test about `file`: the part before the first dot, every
+/// character that is not a letter or digit made an X.
+inline std::string caseName(const std::string &file)
+{
+    std::string name = file.substr(0, file.find('.'));
+    for (char &ch : name)
+        ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
+    return name;
 }
 
 } // namespace loopsketch::test

@@ -28,11 +28,7 @@
 #include <vector>
 
 using namespace loopsketch;
-using test::analyzeOrFail;
-using test::loadReference;
-using test::parseOrFail;
-using test::relErr;
-using test::valueOf;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
 
 namespace {
@@ -573,7 +569,8 @@ IdentityErrors checkIdentities(const Design &design, const std::string &label)
     return e;
 }
 
-std::vector<std::string> exampleDesigns()
+/// Full paths of every example and reference design.
+std::vector<std::string> exampleAndReferenceDesigns()
 {
     std::vector<std::string> files;
     for (const auto &entry : std::filesystem::directory_iterator(LOOPSKETCH_DESIGNS_DIR))
@@ -591,7 +588,7 @@ std::vector<std::string> exampleDesigns()
 
 TEST(FeedbackIdentities, HoldOnEveryExampleAndReferenceDesign)
 {
-    const auto files = exampleDesigns();
+    const auto files = exampleAndReferenceDesigns();
     ASSERT_GE(files.size(), 4u);
     IdentityErrors worst;
     for (const auto &f : files) {

@@ -23,11 +23,7 @@
 #include <vector>
 
 using namespace loopsketch;
-using test::analyzeOrFail;
-using test::loadReference;
-using test::parseOrFail;
-using test::relErr;
-using test::valueOf;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
 
 namespace {
