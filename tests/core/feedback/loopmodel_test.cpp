@@ -2,7 +2,7 @@
 // checked against textbook worked examples, handbook relations, the identities of the
 // asymptotic gain model and Blackman's formula, and cases the analysis fuzzer found. The
 // source of every expected value is named beside its check. Two-port conversions:
-// twoport_test.cpp; margins and second-order relations: metrics_test.cpp.
+// twoport_test.cpp; margins and second-order relations: analysis/metrics_test.cpp.
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/designfile.h"
