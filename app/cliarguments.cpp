@@ -2,52 +2,24 @@
 
 #include "cli.h"
 
+#include <CLI/CLI.hpp>
+
+#include <algorithm>
 #include <charconv>
 #include <cmath>
+#include <cstdint>
 #include <exception>
+#include <functional>
+#include <limits>
+#include <memory>
 #include <optional>
 #include <ostream>
 
 namespace loopsketch::app {
 
-std::string usage()
-{
-    return "Usage:\n"
-           "  loopsketch [FILE]                        open the GUI (the demo design when no "
-           "FILE)\n"
-           "  loopsketch analyze FILE [--json] [--candidate NAME] [--out OUT]\n"
-           "                                           analyse a design and print the results\n"
-           "  loopsketch sweep FILE --csv OUT          write the frequency sweep as CSV\n"
-           "  loopsketch spread FILE --trials N --seed S [--normal] [--gain-spread PCT]\n"
-           "                    [--gbw-spread PCT] [--json] [--out OUT]\n"
-           "                                           worst case and Monte Carlo over the "
-           "tolerances\n"
-           "  loopsketch suggest FILE --parts RF,CF [--decades D] [--best N] [--json]\n"
-           "                    [--out OUT]\n"
-           "                                           E-series values that best meet the "
-           "specs\n"
-#ifdef LOOPSKETCH_HAVE_GUI
-           "  loopsketch export FILE --pdf OUT [--letter] [--csv OUT] [--svg DIR] [--png DIR]\n"
-           "                    [--spread-trials N] [--spread-seed S]\n"
-           "                                           write the review sheet (PDF), the "
-           "sweep\n"
-           "                                           (CSV) and one SVG or PNG per plot; the\n"
-           "                                           sheet's spread section runs N Monte "
-           "Carlo\n"
-           "                                           trials (default 2000, 0: none) with "
-           "seed S\n"
-           "                                           (default 1)\n"
-#endif
-           "  loopsketch --help | --version\n"
-           "\n"
-           "FILE may be \"demo\" for the embedded demo design. --out writes the text or JSON\n"
-           "to OUT instead of standard output; OUT \"-\" for --csv or --out is standard output.\n"
-           "An output that is the design file or another output of the command is refused.\n"
-           "Exit codes: 0 ok, 2 bad input (the message names file, part and field),\n"
-           "1 internal error.\n";
-}
-
 namespace {
+
+// ----- values ---------------------------------------------------------------------------------
 
 std::optional<long long> parseInteger(const std::string &text)
 {
@@ -86,6 +58,329 @@ std::vector<std::string> splitList(const std::string &text)
     return out;
 }
 
+// ----- checks: each returns "" or what the value needs (CLI11 puts the option's name before it)
+
+CLI::Validator wholeNumber(long long lowest, long long highest, const std::string &needs)
+{
+    return CLI::Validator(
+        [=](std::string &text) -> std::string {
+            const auto n = parseInteger(text);
+            return n && *n >= lowest && *n <= highest ? std::string()
+                                                      : needs + ", not \"" + text + "\"";
+        },
+        "");
+}
+
+CLI::Validator number(const std::function<bool(double)> &inRange, const std::string &needs)
+{
+    return CLI::Validator(
+        [=](std::string &text) -> std::string {
+            const auto v = parseNumber(text);
+            return v && inRange(*v) ? std::string() : needs + ", not \"" + text + "\"";
+        },
+        "");
+}
+
+CLI::Validator nonEmpty(const std::string &needs)
+{
+    return CLI::Validator([=](std::string &text) { return text.empty() ? needs : std::string(); },
+                          "");
+}
+
+CLI::Validator partList()
+{
+    return CLI::Validator(
+        [](std::string &text) {
+            return splitList(text).empty()
+                ? std::string("needs part ids separated by commas, e.g. RF,CF")
+                : std::string();
+        },
+        "");
+}
+
+const char *const kWholeNumberAtLeastZero = "needs a whole number >= 0";
+constexpr long long kLargestSeed = std::numeric_limits<long long>::max();
+
+/// Adds an option taking a whole number from `lowest` to `highest` into `target`; the value is
+/// read by the same rule that checked it (CLI11's own conversion would read "010" as octal).
+template<typename T>
+CLI::Option *addWholeNumber(CLI::App &command, const std::string &name, T &target, long long lowest,
+                            long long highest, const std::string &needs,
+                            const std::string &description)
+{
+    return command
+        .add_option_function<std::string>(
+            name,
+            [&target](const std::string &text) { target = static_cast<T>(*parseInteger(text)); },
+            description)
+        ->check(wholeNumber(lowest, highest, needs));
+}
+
+/// Adds an option taking a finite number that `inRange` accepts, stored through `store`.
+CLI::Option *addNumber(CLI::App &command, const std::string &name,
+                       const std::function<void(double)> &store,
+                       const std::function<bool(double)> &inRange, const std::string &needs,
+                       const std::string &description)
+{
+    return command
+        .add_option_function<std::string>(
+            name, [store](const std::string &text) { store(*parseNumber(text)); }, description)
+        ->check(number(inRange, needs));
+}
+
+// ----- the one definition -------------------------------------------------------------------
+
+/// Adds the design FILE every command reads.
+void addDesignFile(CLI::App &command, CliOptions &o)
+{
+    command.add_option("FILE", o.file, "the design file, or \"demo\" for the embedded demo")
+        ->required()
+        ->type_name("")
+        ->check(nonEmpty("needs a design file name"));
+}
+
+/// Adds --out: the printed text or JSON to a file.
+void addTextOut(CLI::App &command, CliOptions &o)
+{
+    command
+        .add_option("--out", o.textOut, "write the text or JSON to OUT (\"-\": standard output)")
+        ->type_name("OUT")
+        ->check(nonEmpty("needs an output file name (\"-\": standard output)"));
+}
+
+void addAnalyze(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand("analyze", "analyse a design and print the results");
+    addDesignFile(*c, o);
+    c->add_flag("--json", o.json, "print schema loopsketch.analysis/1 instead of text");
+    c->add_option("--candidate", o.candidate, "apply the named candidate's values first")
+        ->type_name("NAME")
+        ->check(nonEmpty("needs a candidate name"));
+    addTextOut(*c, o);
+}
+
+void addSweep(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand("sweep", "write the frequency sweep as CSV");
+    addDesignFile(*c, o);
+    c->add_option("--csv", o.csvOut, "the CSV file, one row per frequency (\"-\": standard output)")
+        ->type_name("OUT")
+        ->required()
+        ->check(nonEmpty("needs an output file name"));
+}
+
+void addSpread(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand("spread", "worst case and Monte Carlo over the tolerances");
+    addDesignFile(*c, o);
+    addWholeNumber(*c, "--trials", o.spread.trials, 1, kMaxTrials,
+                   "needs a whole number from 1 to " + std::to_string(kMaxTrials),
+                   "Monte Carlo trials (default 1000)")
+        ->type_name("N");
+    addWholeNumber(*c, "--seed", o.spread.seed, 0, kLargestSeed, kWholeNumberAtLeastZero,
+                   "random seed (default 1)")
+        ->type_name("S");
+    c->add_flag_function(
+        "--normal", [&o](std::int64_t) { o.spread.distribution = SpreadDistribution::Normal; },
+        "normal instead of uniform over each tolerance");
+    const auto percentage = [c](const std::string &name, std::optional<double> &fraction,
+                                const std::string &description) {
+        addNumber(
+            *c, name, [&fraction](double pct) { fraction = pct / 100.0; },
+            [](double pct) { return pct > 0 && pct < 100; },
+            "needs a percentage between 0 and 100 (excluded)", description)
+            ->type_name("PCT");
+    };
+    percentage("--gain-spread", o.spread.gainSpread, "spread of the gain block's gain, %");
+    percentage("--gbw-spread", o.spread.gbwSpread, "spread of the gain block's gbw, %");
+    c->add_flag("--json", o.json, "print JSON instead of text");
+    addTextOut(*c, o);
+}
+
+void addSuggest(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand("suggest", "E-series values that best meet the specs");
+    addDesignFile(*c, o);
+    c->add_option_function<std::string>(
+         "--parts", [&o](const std::string &text) { o.suggest.parts = splitList(text); },
+         "the parts whose values are searched")
+        ->type_name("RF,CF")
+        ->required()
+        ->check(partList());
+    addNumber(
+        *c, "--decades", [&o](double d) { o.suggest.decades = d; },
+        [](double d) { return d > 0 && d <= 12; }, "needs a number above 0 and at most 12",
+        "width of each part's search, decades (default 2)")
+        ->type_name("D");
+    addWholeNumber(*c, "--best", o.suggest.best, 1, 1000, "needs a whole number from 1 to 1000",
+                   "suggestions listed (default 5)")
+        ->type_name("N");
+    c->add_flag("--json", o.json, "print JSON instead of text");
+    addTextOut(*c, o);
+}
+
+#ifdef LOOPSKETCH_HAVE_GUI
+void addExport(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand(
+        "export",
+        "write the review sheet (PDF), the sweep (CSV) and one SVG or PNG per plot; the sheet's "
+        "spread section runs N Monte Carlo trials (default 2000, 0: none) with seed S (default "
+        "1)");
+    addDesignFile(*c, o);
+    c->add_option("--pdf", o.pdfOut, "the review sheet")
+        ->type_name("OUT")
+        ->required()
+        ->check(nonEmpty("needs an output file name"));
+    c->add_flag("--letter", o.letter, "US Letter instead of A4");
+    c->add_option("--csv", o.csvOut, "the sweep as CSV (\"-\": standard output)")
+        ->type_name("OUT")
+        ->check(nonEmpty("needs an output file name"));
+    c->add_option("--svg", o.svgDir, "one SVG per plot into DIR")
+        ->type_name("DIR")
+        ->check(nonEmpty("needs an output directory"));
+    c->add_option("--png", o.pngDir, "one PNG per plot into DIR")
+        ->type_name("DIR")
+        ->check(nonEmpty("needs an output directory"));
+    addWholeNumber(*c, "--spread-trials", o.spreadTrials, 0, kMaxTrials,
+                   "needs a whole number from 0 (no spread) to " + std::to_string(kMaxTrials),
+                   "Monte Carlo trials on the sheet")
+        ->type_name("N");
+    addWholeNumber(*c, "--spread-seed", o.spreadSeed, 0, kLargestSeed, kWholeNumberAtLeastZero,
+                   "seed of the sheet's Monte Carlo run")
+        ->type_name("S");
+}
+#endif
+
+// ----- --help: the synopsis of every command, generated from the definition --------------------
+
+constexpr std::size_t kDescriptionColumn = 43;
+constexpr std::size_t kWidth = 92;
+constexpr std::size_t kContinuationIndent = 20;
+
+/// `words` filled into lines of at most kWidth columns, the first starting at `first` columns
+/// (its indentation included by the caller), the rest indented by `indent`.
+std::vector<std::string> fill(const std::vector<std::string> &words, std::size_t first,
+                              std::size_t indent)
+{
+    std::vector<std::string> lines(1);
+    std::size_t used = first;
+    for (const auto &w : words) {
+        if (!lines.back().empty() && used + 1 + w.size() > kWidth) {
+            lines.emplace_back();
+            used = indent;
+        }
+        if (!lines.back().empty()) {
+            lines.back() += ' ';
+            ++used;
+        }
+        lines.back() += w;
+        used += w.size();
+    }
+    return lines;
+}
+
+std::vector<std::string> wordsOf(const std::string &text)
+{
+    std::vector<std::string> words;
+    std::size_t start = 0;
+    while ((start = text.find_first_not_of(' ', start)) != std::string::npos) {
+        const std::size_t end = text.find(' ', start);
+        words.push_back(text.substr(start, end - start));
+        start = end;
+    }
+    return words;
+}
+
+/// How an option stands in a synopsis: "FILE", "--csv OUT", "[--json]", "[--out OUT]".
+std::string synopsisItem(const CLI::Option &option)
+{
+    std::string item = option.get_positional() ? option.get_name() : option.get_name(false, false);
+    if (!option.get_positional() && !option.get_type_name().empty())
+        item += " " + option.get_type_name();
+    return option.get_required() ? item : "[" + item + "]";
+}
+
+/// One usage entry: the synopsis, wrapped, and the description beside or below it.
+void writeEntry(std::string &text, const std::vector<std::string> &synopsis,
+                const std::string &description)
+{
+    std::vector<std::string> lines = fill(synopsis, 2, kContinuationIndent);
+    for (std::size_t i = 1; i < lines.size(); ++i)
+        lines[i] = std::string(kContinuationIndent - 2, ' ') + lines[i];
+    std::vector<std::string> said
+        = fill(wordsOf(description), kDescriptionColumn, kDescriptionColumn);
+    std::size_t next = 0;
+    if (lines.back().size() + 2 + 2 <= kDescriptionColumn) {
+        lines.back().resize(kDescriptionColumn - 2, ' ');
+        lines.back() += said[next++];
+    }
+    for (; next < said.size(); ++next)
+        lines.push_back(std::string(kDescriptionColumn - 2, ' ') + said[next]);
+    for (const auto &line : lines)
+        text += "  " + line + "\n";
+}
+
+std::string synopsisHelp(const CLI::App &app)
+{
+    std::string text = "Usage:\n";
+    std::vector<std::string> gui = {"loopsketch"};
+    for (const CLI::Option *opt : app.get_options())
+        if (opt->get_positional())
+            gui.push_back(synopsisItem(*opt));
+    writeEntry(text, gui, "open the GUI (the demo design when no FILE)");
+    for (const CLI::App *command : app.get_subcommands({})) {
+        std::vector<std::string> synopsis = {"loopsketch", command->get_name()};
+        for (const CLI::Option *opt : command->get_options())
+            if (opt != command->get_help_ptr())
+                synopsis.push_back(synopsisItem(*opt));
+        writeEntry(text, synopsis, command->get_description());
+    }
+    text += "  loopsketch --help | --version\n\n";
+    text += "\"loopsketch COMMAND --help\" describes each option of a command.\n";
+    text += app.get_footer();
+    return text;
+}
+
+/// The top level's help is the synopsis of every command; a command's own help is CLI11's.
+class UsageFormatter : public CLI::Formatter
+{
+public:
+    std::string make_help(const CLI::App *app, std::string name,
+                          CLI::AppFormatMode mode) const override
+    {
+        if (app->get_parent() == nullptr)
+            return synopsisHelp(*app);
+        return CLI::Formatter::make_help(app, std::move(name), mode);
+    }
+};
+
+/// The command line, its options bound to `o` and `guiFile`.
+std::unique_ptr<CLI::App> makeCommandLine(CliOptions &o, std::string &guiFile)
+{
+    auto app = std::make_unique<CLI::App>("", "loopsketch");
+    app->formatter(std::make_shared<UsageFormatter>());
+    app->set_version_flag("--version", std::string("loopsketch ") + LOOPSKETCH_VERSION);
+    app->add_option("FILE", guiFile, "the design to open in the GUI");
+    app->require_subcommand(0, 1);
+    // an option given twice keeps the last value, as it always has
+    app->option_defaults()->multi_option_policy(CLI::MultiOptionPolicy::TakeLast);
+    app->footer("FILE may be \"demo\" for the embedded demo design. --out writes the text or JSON\n"
+                "to OUT instead of standard output; OUT \"-\" for --csv or --out is standard "
+                "output.\n"
+                "An output that is the design file or another output of the command is refused.\n"
+                "Exit codes: 0 ok, 2 bad input (the message names file, part and field),\n"
+                "1 internal error.\n");
+    addAnalyze(*app, o);
+    addSweep(*app, o);
+    addSpread(*app, o);
+    addSuggest(*app, o);
+#ifdef LOOPSKETCH_HAVE_GUI
+    addExport(*app, o);
+#endif
+    return app;
+}
+
 ParsedArguments exitWith(int code)
 {
     return {ParsedArguments::Action::Exit, code, {}};
@@ -97,139 +392,80 @@ ParsedArguments refuse(std::ostream &err, const std::string &message)
     return exitWith(kExitBadInput);
 }
 
+/// The arguments no option or command took, each named: "unknown option "--x"" or "unexpected
+/// argument "y"", in the order given.
+std::string leftOvers(const std::vector<std::string> &args, std::vector<std::string> unused)
+{
+    std::string said;
+    for (const auto &a : args) {
+        const auto at = std::find(unused.begin(), unused.end(), a);
+        if (at == unused.end())
+            continue;
+        unused.erase(at);
+        said += (said.empty() ? "" : "; ")
+            + std::string(a.rfind('-', 0) == 0 ? "unknown option \"" : "unexpected argument \"") + a
+            + "\"";
+    }
+    return said;
+}
+
+std::string commandNames(const CLI::App &app)
+{
+    std::string names;
+    for (const CLI::App *command : app.get_subcommands({}))
+        names += (names.empty() ? "" : ", ") + command->get_name();
+    return names;
+}
+
 } // namespace
+
+std::string usage()
+{
+    CliOptions unused;
+    std::string guiFile;
+    return makeCommandLine(unused, guiFile)->help();
+}
 
 ParsedArguments parseArguments(const std::vector<std::string> &args, std::ostream &out,
                                std::ostream &err)
 {
-    if (args.empty())
-        return {ParsedArguments::Action::Gui, kExitOk, {}};
-    const std::string &first = args.front();
-    if (first == "--help" || first == "-h") {
-        out << usage();
-        return exitWith(kExitOk);
-    }
-    if (first == "--version") {
-        out << "loopsketch " << LOOPSKETCH_VERSION << "\n";
-        return exitWith(kExitOk);
-    }
-    bool known = first == "analyze" || first == "sweep" || first == "spread" || first == "suggest";
-#ifdef LOOPSKETCH_HAVE_GUI
-    known = known || first == "export";
-#endif
-    if (!known) {
-        if (first.rfind("-", 0) == 0)
-            return refuse(err, "unknown option \"" + first + "\"\n" + usage());
-        if (args.size() == 1)
-            return {ParsedArguments::Action::Gui, kExitOk, {}}; // a design file for the GUI
-        return refuse(err, "unknown command \"" + first + "\"\n" + usage());
-    }
     CliOptions o;
-    o.command = first;
-    for (std::size_t i = 1; i < args.size(); ++i) {
-        const std::string &a = args[i];
-        const auto value = [&](const char *flag) -> std::optional<std::string> {
-            if (i + 1 >= args.size())
-                return std::nullopt;
-            (void)flag;
-            return args[++i];
-        };
-        const bool spread = o.command == "spread", suggest = o.command == "suggest";
-        if (a == "--json" && (o.command == "analyze" || spread || suggest)) {
-            o.json = true;
-        } else if (a == "--trials" && spread) {
-            auto v = value("--trials");
-            const auto n = v ? parseInteger(*v) : std::nullopt;
-            if (!n || *n < 1 || *n > kMaxTrials)
-                return refuse(
-                    err, "--trials needs a whole number from 1 to " + std::to_string(kMaxTrials));
-            o.spread.trials = static_cast<int>(*n);
-        } else if (a == "--seed" && spread) {
-            auto v = value("--seed");
-            const auto n = v ? parseInteger(*v) : std::nullopt;
-            if (!n || *n < 0)
-                return refuse(err, "--seed needs a whole number >= 0");
-            o.spread.seed = static_cast<std::uint64_t>(*n);
-        } else if (a == "--normal" && spread) {
-            o.spread.distribution = SpreadDistribution::Normal;
-        } else if ((a == "--gain-spread" || a == "--gbw-spread") && spread) {
-            auto v = value(a.c_str());
-            const auto pct = v ? parseNumber(*v) : std::nullopt;
-            if (!pct || !(*pct > 0 && *pct < 100))
-                return refuse(err, a + " needs a percentage between 0 and 100 (excluded)");
-            (a == "--gain-spread" ? o.spread.gainSpread : o.spread.gbwSpread) = *pct / 100.0;
-        } else if (a == "--parts" && suggest) {
-            auto v = value("--parts");
-            if (!v || splitList(*v).empty())
-                return refuse(err, "--parts needs part ids separated by commas, e.g. RF,CF");
-            o.suggest.parts = splitList(*v);
-        } else if (a == "--decades" && suggest) {
-            auto v = value("--decades");
-            const auto d = v ? parseNumber(*v) : std::nullopt;
-            if (!d || !(*d > 0 && *d <= 12))
-                return refuse(err, "--decades needs a number above 0 and at most 12");
-            o.suggest.decades = *d;
-        } else if (a == "--best" && suggest) {
-            auto v = value("--best");
-            const auto n = v ? parseInteger(*v) : std::nullopt;
-            if (!n || *n < 1 || *n > 1000)
-                return refuse(err, "--best needs a whole number from 1 to 1000");
-            o.suggest.best = static_cast<int>(*n);
-        } else if (a == "--out" && (o.command == "analyze" || spread || suggest)) {
-            auto v = value("--out");
-            if (!v || v->empty())
-                return refuse(err, "--out needs an output file name (\"-\": standard output)");
-            o.textOut = *v;
-        } else if (a == "--candidate" && o.command == "analyze") {
-            auto v = value("--candidate");
-            if (!v)
-                return refuse(err, "--candidate needs a candidate name");
-            o.candidate = *v;
-        } else if ((a == "--pdf" || a == "--svg" || a == "--png") && o.command == "export") {
-            auto v = value(a.c_str());
-            if (!v)
-                return refuse(err,
-                              a
-                                  + (a == "--pdf" ? " needs an output file name"
-                                                  : " needs an output directory"));
-            (a == "--pdf" ? o.pdfOut : a == "--svg" ? o.svgDir : o.pngDir) = *v;
-        } else if (a == "--letter" && o.command == "export") {
-            o.letter = true;
-        } else if (a == "--spread-trials" && o.command == "export") {
-            auto v = value("--spread-trials");
-            const auto n = v ? parseInteger(*v) : std::nullopt;
-            if (!n || *n < 0 || *n > kMaxTrials)
-                return refuse(err,
-                              "--spread-trials needs a whole number from 0 (no spread) to "
-                                  + std::to_string(kMaxTrials));
-            o.spreadTrials = static_cast<int>(*n);
-        } else if (a == "--spread-seed" && o.command == "export") {
-            auto v = value("--spread-seed");
-            const auto n = v ? parseInteger(*v) : std::nullopt;
-            if (!n || *n < 0)
-                return refuse(err, "--spread-seed needs a whole number >= 0");
-            o.spreadSeed = static_cast<std::uint64_t>(*n);
-        } else if (a == "--csv" && (o.command == "sweep" || o.command == "export")) {
-            auto v = value("--csv");
-            if (!v)
-                return refuse(err, "--csv needs an output file name");
-            o.csvOut = *v;
-        } else if (a.rfind("-", 0) == 0) {
-            return refuse(err, "unknown option \"" + a + "\" for " + o.command);
-        } else if (o.file.empty()) {
-            o.file = a;
-        } else {
-            return refuse(err, "unexpected argument \"" + a + "\"");
-        }
+    std::string guiFile;
+    const auto app = makeCommandLine(o, guiFile);
+    std::vector<std::string> reversed(args.rbegin(), args.rend()); // CLI11 pops from the back
+    try {
+        app->parse(reversed);
+    } catch (const CLI::CallForHelp &) {
+        out << app->help();
+        return exitWith(kExitOk);
+    } catch (const CLI::CallForAllHelp &) {
+        out << app->help();
+        return exitWith(kExitOk);
+    } catch (const CLI::CallForVersion &version) {
+        out << version.what() << "\n";
+        return exitWith(kExitOk);
+    } catch (const CLI::ParseError &e) {
+        // CLI11's own exit codes are 100 and above: every refusal of the arguments is bad
+        // input, exit 2, with the message naming the option or value.
+        const auto chosen = app->get_subcommands();
+        if (chosen.empty() && !guiFile.empty() && dynamic_cast<const CLI::ExtrasError *>(&e))
+            return refuse(err,
+                          "unknown command \"" + guiFile + "\" (the commands: " + commandNames(*app)
+                              + "; see loopsketch --help)");
+        const std::string where = chosen.empty() ? "" : chosen.front()->get_name() + ": ";
+        // an argument nothing took is the first thing to fix, even where a required one is
+        // also missing (`sweep demo --json`)
+        if (const std::string extra = leftOvers(args, app->remaining(true)); !extra.empty())
+            return refuse(err, where + extra);
+        return refuse(err, where + e.what());
     }
-    if (o.file.empty())
-        return refuse(err, o.command + " needs a design FILE");
-    if (o.command == "sweep" && o.csvOut.empty())
-        return refuse(err, "sweep needs --csv OUT");
-    if (o.command == "export" && o.pdfOut.empty())
-        return refuse(err, "export needs --pdf OUT");
-    if (o.command == "suggest" && o.suggest.parts.empty())
-        return refuse(err, "suggest needs --parts, e.g. --parts RF,CF");
+    const auto chosen = app->get_subcommands();
+    if (chosen.empty())
+        return {ParsedArguments::Action::Gui, kExitOk, {}};
+    if (!guiFile.empty())
+        return refuse(
+            err, "unexpected argument \"" + guiFile + "\" before " + chosen.front()->get_name());
+    o.command = chosen.front()->get_name();
     return {ParsedArguments::Action::Run, kExitOk, std::move(o)};
 }
 

@@ -4,7 +4,7 @@
 
 #include "loopsketch/design/designfile.h"
 
-#include "../core/hostilecorpus.h"
+#include "hostilecorpus.h"
 
 #include <benchmark/benchmark.h>
 

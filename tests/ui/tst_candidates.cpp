@@ -18,6 +18,7 @@
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
+#include "designs.h"
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/base/value.h"
@@ -53,22 +54,11 @@ using namespace loopsketch::ui;
 using ::testing::HasSubstr;
 using ::testing::Not;
 
+using loopsketch::test::withCandidateByHand;
+
 namespace {
 
 const std::string kDesigns = LOOPSKETCH_DESIGNS_DIR;
-
-/// The candidate's values on the parts' primary fields, written out here on purpose rather
-/// than through designWithCandidate(), so the table is checked against an independent path.
-Design applied(Design d, const Candidate &c)
-{
-    for (const auto &[id, value] : c.values) {
-        Part *p = d.findPart(id);
-        EXPECT_NE(p, nullptr) << id;
-        if (p)
-            p->fields[std::string(p->primaryField())] = value;
-    }
-    return d;
-}
 
 Analysis coreAnalysis(const Design &d)
 {
@@ -282,7 +272,7 @@ TEST_F(CandidatesTest, TableShowsCoreAnalysisOfEachCandidate)
               engineering(current.exact.gain, unit, 4));
     for (const Candidate &c : design.candidates) {
         const QString name = toQString(c.name);
-        const Analysis a = coreAnalysis(applied(design, c));
+        const Analysis a = coreAnalysis(withCandidateByHand(design, c));
         ASSERT_TRUE(a.exact.gain);
         EXPECT_EQ(panel()->cellText(CandidatesPanel::kGainRow, name),
                   engineering(a.exact.gain, unit, 4))
@@ -294,7 +284,7 @@ TEST_F(CandidatesTest, TableShowsCoreAnalysisOfEachCandidate)
                   engineering(a.exact.zOut, "Ω"))
             << c.name;
         // Worst case: core's vertex enumeration over RF 1 % and CF 10 % of this candidate.
-        auto worst = worstCase(applied(design, c), SpreadOptions{});
+        auto worst = worstCase(withCandidateByHand(design, c), SpreadOptions{});
         ASSERT_TRUE(worst.ok()) << worst.errorText();
         EXPECT_THAT(panel()->cellText(CandidatesPanel::kWorstCaseRow, name).toStdString(),
                     HasSubstr(formatEngineering(*worst->gain.min, 4) + " … "
@@ -309,8 +299,8 @@ TEST_F(CandidatesTest, TableShowsCoreAnalysisOfEachCandidate)
     QString error;
     ASSERT_TRUE(doc()->setFieldText("RL", "r", QStringLiteral("1k"), &error));
     settle();
-    const Analysis fastAfter
-        = coreAnalysis(applied(doc()->design(), candidateNamed(doc()->design(), "Fast")));
+    const Analysis fastAfter = coreAnalysis(
+        withCandidateByHand(doc()->design(), candidateNamed(doc()->design(), "Fast")));
     EXPECT_EQ(panel()->cellText(CandidatesPanel::kZOutRow, "Fast"),
               engineering(fastAfter.exact.zOut, "Ω"));
 }
@@ -349,7 +339,7 @@ TEST_F(CandidatesTest, BestMarksTheRightCell)
     const QStringList columns = panel()->columnNames();
     std::vector<Analysis> analyses{coreAnalysis(design)};
     for (const Candidate &c : design.candidates)
-        analyses.push_back(coreAnalysis(applied(design, c)));
+        analyses.push_back(coreAnalysis(withCandidateByHand(design, c)));
     ASSERT_EQ(std::size_t(columns.size()), analyses.size());
     const double centre = 0.5 * (design.specs.gainMin->si + design.specs.gainMax->si);
     // The columns with the highest score; ties are all marked.
@@ -473,7 +463,7 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
 
     // The overlay holds every point of core's loop gain for that candidate.
     const Design design = doc()->design();
-    const Analysis fast = coreAnalysis(applied(design, candidateNamed(design, "Fast")));
+    const Analysis fast = coreAnalysis(withCandidateByHand(design, candidateNamed(design, "Fast")));
     const QList<QPointF> want
         = curvePoints(fast.frequenciesHz, fast.curves.loopGain, CurvePart::MagnitudeDb);
     QXYSeries *s = loop->series(QStringLiteral("Fast: T"));

@@ -13,6 +13,7 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"
 #include "loopsketch/design/designfile.h"
+#include "numeric.h"
 
 #include <QApplication>
 #include <QAreaSeries>
@@ -37,14 +38,11 @@ using namespace loopsketch;
 using namespace loopsketch::ui;
 using ::testing::HasSubstr;
 
+using loopsketch::test::relErr;
+
 namespace {
 
 const QString kDemo = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch");
-
-double relErr(double value, double expected)
-{
-    return std::abs(value - expected) / std::abs(expected);
-}
 
 /// The demo with the gain block's voltage and current noise given (invented values).
 std::string demoWithGainBlockNoise()

@@ -10,8 +10,9 @@
 // The expected behaviour is Loopsketch's own output contract (DEVELOPERS.md, "Outputs");
 // errno texts are glibc's strerror wording; /dev/full's ENOSPC is Linux's full(4).
 
-#include "../core/faultinjection.h"
+#include "faultinjection.h"
 
+#include "clirunner.h"
 #include "sheet/reviewsheet.h"
 
 #include <gmock/gmock.h>
@@ -34,6 +35,8 @@ using namespace loopsketch;
 using ::testing::HasSubstr;
 namespace fs = std::filesystem;
 
+using namespace loopsketch::test;
+
 namespace {
 
 const std::string kCli = LOOPSKETCH_BIN;
@@ -46,107 +49,10 @@ const std::string kPrevious = "previous output, must survive\n";
 /// replace the machine's device nodes.
 std::string g_devicesUnprotected = "not set up";
 
-std::string readBytes(const fs::path &path)
-{
-    std::ifstream in(path, std::ios::binary);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
-}
-
-bool writeBytes(const fs::path &path, const std::string &text)
-{
-    std::ofstream out(path, std::ios::binary);
-    out << text;
-    return bool(out.flush());
-}
-
-std::string entriesOf(const fs::path &dir)
-{
-    std::set<std::string> names;
-    for (const auto &e : fs::directory_iterator(dir))
-        names.insert(e.path().filename().string());
-    std::string joined;
-    for (const auto &n : names)
-        joined += (joined.empty() ? "" : " ") + n;
-    return joined;
-}
-
-class TempDir
-{
-public:
-    TempDir()
-    {
-        std::string pattern = (fs::temp_directory_path() / "loopsketch-outputs-XXXXXX").string();
-        m_path = ::mkdtemp(pattern.data());
-    }
-    ~TempDir()
-    {
-        std::error_code ec;
-        fs::remove_all(m_path, ec);
-    }
-    const fs::path &path() const { return m_path; }
-
-private:
-    fs::path m_path;
-};
-
-std::string shellQuoted(const std::string &s)
-{
-    std::string q = "'";
-    for (char c : s)
-        q += c == '\'' ? std::string("'\\''") : std::string(1, c);
-    return q + "'";
-}
-
-struct CliRun
-{
-    int exitCode = -1; ///< 128 + signal when killed
-    std::string out, err;
-};
-
 /// Runs the program with `args`; its standard output and error go to files in `scratch`.
 CliRun runCli(const std::vector<std::string> &args, const fs::path &scratch)
 {
-    std::string cmd = shellQuoted(kCli);
-    for (const auto &a : args)
-        cmd.append(" ").append(shellQuoted(a));
-    const fs::path out = scratch / "stdout", err = scratch / "stderr";
-    cmd.append(" >").append(shellQuoted(out.string()));
-    cmd.append(" 2>").append(shellQuoted(err.string()));
-    cmd.append(" </dev/null");
-    // exec, so a signal that ends the program shows as the shell's 128 + signal
-    cmd = "exec " + cmd;
-    const int status = std::system(cmd.c_str());
-    CliRun r;
-    if (status != -1 && WIFEXITED(status))
-        r.exitCode = WEXITSTATUS(status);
-    else if (status != -1 && WIFSIGNALED(status))
-        r.exitCode = 128 + WTERMSIG(status);
-    r.out = readBytes(out);
-    r.err = readBytes(err);
-    return r;
-}
-
-std::string field(const std::string &key, const std::string &value)
-{
-    return key + " " + std::to_string(value.size()) + "\n" + value + "\n";
-}
-
-std::string fieldOf(const std::string &report, const std::string &key)
-{
-    std::istringstream in(report);
-    std::string name;
-    std::size_t size = 0;
-    while (in >> name >> size) {
-        in.get();
-        std::string value(size, '\0');
-        in.read(value.data(), static_cast<std::streamsize>(size));
-        in.get();
-        if (name == key)
-            return value;
-    }
-    return "<no field " + key + ">";
+    return test::runProgram(kCli, args, scratch);
 }
 
 // ----- every output kind under a full disk and a file-size limit ---------------------------
@@ -220,32 +126,16 @@ TEST_P(OutputFaults, FullDiskGivesExitTwoAndKeepsThePreviousFile)
     const fs::path target = mount / targetOf(c);
 
     const auto outcome = test::runInChild([&](std::string &out) {
-        if (auto why = test::enterPrivateMountNamespace(); !why.empty()) {
-            out = why;
-            return test::kChildCannotInject;
-        }
         // room for every output once the filler is gone (the sweep CSV is about 200 KB)
-        if (auto why = test::mountSmallTmpfs(mount.string(), 4 * 1024 * 1024); !why.empty()) {
-            out = why;
-            return test::kChildCannotInject;
-        }
-        if (!writeBytes(target, kPrevious)) {
-            out = "cannot write the previous file";
-            return 3;
-        }
-        // Fill the file system, then give one page back: the first write() of any output
-        // longer than a page is short, the next one fails with ENOSPC.
+        if (const int failed = test::prepareSmallMount(mount.string(), 4 * 1024 * 1024,
+                                                       target.string(), kPrevious, out))
+            return failed;
+        // the first write() of any output longer than a page is short, the next one fails
         const fs::path filler = mount / "filler";
-        const int fd = ::open(filler.c_str(), O_WRONLY | O_CREAT, 0644);
-        const std::string page(4096, 'f');
-        off_t size = 0;
-        for (ssize_t n; (n = ::write(fd, page.data(), page.size())) > 0;)
-            size += n;
-        if (errno != ENOSPC || ::ftruncate(fd, size - 4096) != 0) {
-            out = test::osFailure("filling the tmpfs");
+        if (auto why = test::fillAllButOnePage(filler.string()); !why.empty()) {
+            out = why;
             return 3;
         }
-        ::close(fd);
         const CliRun r = runCli(c.args(mount.string()), dir.path());
         out += field("exit", std::to_string(r.exitCode));
         out += field("err", r.err);

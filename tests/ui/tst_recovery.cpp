@@ -11,7 +11,7 @@
 // The expected behaviour is Loopsketch's own (ui/README.md §5: atomic saves, recovery offer);
 // the one value checked is RF's next E24 step after 1.0 MOhm, 1.1 MOhm (IEC 60063, E24).
 
-#include "../core/faultinjection.h"
+#include "faultinjection.h"
 
 #include "window/designdocument.h"
 #include "window/mainwindow.h"

@@ -4,7 +4,7 @@
 #ifndef LOOPSKETCH_TEST_DATA_DIR
 #define LOOPSKETCH_TEST_DATA_DIR ""
 #endif
-#include "../core/hostilecorpus.h"
+#include "hostilecorpus.h"
 
 #include "support/qtadapter.h"
 #include "window/designdocument.h"

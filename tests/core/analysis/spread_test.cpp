@@ -2,6 +2,8 @@
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/design/designfile.h"
 
+#include "designs.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -9,6 +11,7 @@
 #include <string>
 
 using namespace loopsketch;
+using test::parseOrFail;
 using ::testing::HasSubstr;
 
 namespace {
@@ -33,13 +36,6 @@ std::string nonInverting(const std::string &r1Extra, const std::string &r2Extra,
         + specs + "}";
 }
 
-Design parse(const std::string &text)
-{
-    auto d = parseDesign(text, "test.loopsketch");
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return d ? *d : Design{};
-}
-
 constexpr double kRatio = 10.0 / 4.7;
 
 } // namespace
@@ -48,7 +44,7 @@ TEST(WorstCase, NonInvertingGainMatchesClosedForm)
 {
     // Common practice (worst-case analysis of 1 + R2/R1): the maximum takes R2 high and R1
     // low, the minimum the opposite.
-    const Design d = parse(nonInverting(R"(, "tolerance": "1%")", R"(, "tolerance": "5%")"));
+    const Design d = parseOrFail(nonInverting(R"(, "tolerance": "1%")", R"(, "tolerance": "5%")"));
     auto r = worstCase(d, {});
     ASSERT_TRUE(r.ok()) << r.errorText();
     EXPECT_TRUE(r->exhaustive);
@@ -77,7 +73,7 @@ TEST(WorstCase, SensitivityCornersBeyondTwelveQuantities)
     }
     text.replace(text.find(r2.substr(0, 20)),
                  text.find("{\"id\": \"R1\"") - text.find(r2.substr(0, 20)), parts);
-    const Design d = parse(text);
+    const Design d = parseOrFail(text);
     auto r = worstCase(d, {});
     ASSERT_TRUE(r.ok()) << r.errorText();
     EXPECT_FALSE(r->exhaustive);
@@ -94,7 +90,7 @@ TEST(MonteCarlo, UniformLinearCaseMatchesAnalyticMeanAndStd)
     // std kRatio * 0.05 / sqrt(3) (uniform variance (b - a)^2 / 12, common practice).
     // Bounds: 5 standard errors; se(mean) = sigma / sqrt(N), se(std) = sigma
     // sqrt((kurtosis - 1) / (4 N)) with kurtosis 1.8 for the uniform law (common practice).
-    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    const Design d = parseOrFail(nonInverting("", R"(, "tolerance": "5%")"));
     SpreadOptions o;
     o.trials = 10000;
     o.seed = 11;
@@ -112,7 +108,7 @@ TEST(MonteCarlo, NormalLinearCaseMatchesAnalyticMeanAndStd)
 {
     // Tolerance = 3 sigma: std kRatio * 0.05 / 3; se(std) = sigma / sqrt(2 N) for the normal
     // law (common practice). Bounds: 5 standard errors.
-    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    const Design d = parseOrFail(nonInverting("", R"(, "tolerance": "5%")"));
     SpreadOptions o;
     o.trials = 10000;
     o.seed = 5;
@@ -128,7 +124,7 @@ TEST(MonteCarlo, YieldAgainstGainWindow)
 {
     // Window [1 + kRatio, +inf) catches half of a symmetric uniform spread; bound: 5 binomial
     // standard errors sqrt(p (1 - p) / N) (common practice).
-    const Design d = parse(
+    const Design d = parseOrFail(
         nonInverting("", R"(, "tolerance": "5%")", R"(, "specs": {"gain": ["3.12766", "100"]})"));
     SpreadOptions o;
     o.trials = 10000;
@@ -141,7 +137,7 @@ TEST(MonteCarlo, YieldAgainstGainWindow)
 
 TEST(MonteCarlo, SameSeedSameNumbersForAnyThreadCount)
 {
-    const Design d = parse(nonInverting(R"(, "tolerance": "1%")", R"(, "tolerance": "5%")"));
+    const Design d = parseOrFail(nonInverting(R"(, "tolerance": "1%")", R"(, "tolerance": "5%")"));
     SpreadOptions o;
     o.trials = 3000;
     o.seed = 42;
@@ -177,7 +173,7 @@ TEST(MonteCarlo, TrialMetricsAgreeWithFullAnalysis)
 
 TEST(MonteCarlo, CancelAndProgress)
 {
-    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    const Design d = parseOrFail(nonInverting("", R"(, "tolerance": "5%")"));
     SpreadOptions o;
     o.trials = 500;
     std::size_t last = 0, total = 0;
@@ -200,14 +196,14 @@ TEST(MonteCarlo, CancelAndProgress)
 
 TEST(Spread, ClearErrors)
 {
-    const Design plain = parse(nonInverting("", ""));
+    const Design plain = parseOrFail(nonInverting("", ""));
     auto none = monteCarlo(plain, {}, "plain.loopsketch");
     ASSERT_FALSE(none.ok());
     EXPECT_THAT(none.errorText(), HasSubstr("nothing to spread: no part has a tolerance"));
     EXPECT_THAT(none.errorText(), HasSubstr("plain.loopsketch"));
     EXPECT_FALSE(worstCase(plain, {}).ok());
 
-    const Design d = parse(nonInverting("", R"(, "tolerance": "5%")"));
+    const Design d = parseOrFail(nonInverting("", R"(, "tolerance": "5%")"));
     SpreadOptions o;
     o.trials = 0;
     EXPECT_THAT(monteCarlo(d, o).errorText(), HasSubstr("trials must be between 1 and 1000000"));
@@ -239,7 +235,8 @@ TEST(Spread, TextNamesTolerancesAsPercent)
 {
     // A 0.1 % resistor is written "0.1%" as on the part (common practice), never with an
     // SI prefix on the percentage.
-    const Design d = parse(nonInverting(R"(, "tolerance": "0.1%")", R"(, "tolerance": "5%")"));
+    const Design d
+        = parseOrFail(nonInverting(R"(, "tolerance": "0.1%")", R"(, "tolerance": "5%")"));
     SpreadOptions options;
     options.trials = 10;
     auto worst = worstCase(d, options);

@@ -11,24 +11,21 @@
 
 #include "hostilecorpus.h"
 
+#include "designs.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
 using ::testing::HasSubstr;
 
 namespace loopsketch {
-namespace {
+using test::parseOrFail;
 
-Design designOf(const std::string &text)
-{
-    auto d = parseDesign(text, "generated.loopsketch");
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return d.ok() ? *d : Design{};
-}
+namespace {
 
 Design chain(std::size_t resistors)
 {
-    return designOf(test::hostileDesign(test::resistorNetwork(resistors, true)));
+    return parseOrFail(test::hostileDesign(test::resistorNetwork(resistors, true)));
 }
 
 class CircuitSizeOfChain : public ::testing::TestWithParam<std::size_t>

@@ -7,7 +7,9 @@
 
 #include <cerrno>
 #include <cstring>
+#include <fstream>
 #include <functional>
+#include <sstream>
 #include <string>
 
 #include <fcntl.h>
@@ -149,6 +151,76 @@ inline ChildOutcome runInChild(const std::function<int(std::string &out)> &body)
     while (::waitpid(pid, &status, 0) < 0 && errno == EINTR) { }
     outcome.exitCode = WIFEXITED(status) ? WEXITSTATUS(status) : 128 + WTERMSIG(status);
     return outcome;
+}
+
+/// One finding of a child for its report: "<key> <length>\n<bytes>\n", so any bytes survive.
+inline std::string field(const std::string &key, const std::string &value)
+{
+    return key + " " + std::to_string(value.size()) + "\n" + value + "\n";
+}
+
+/// The finding `key` of a child's report made with field().
+inline std::string fieldOf(const std::string &report, const std::string &key)
+{
+    std::istringstream in(report);
+    std::string name;
+    std::size_t size = 0;
+    while (in >> name >> size) {
+        in.get();
+        std::string value(size, '\0');
+        in.read(value.data(), static_cast<std::streamsize>(size));
+        in.get();
+        if (name == key)
+            return value;
+    }
+    return "<no field " + key + ">";
+}
+
+/// In a child: a private mount namespace with a tmpfs of `bytes` at `mount`, holding
+/// `previous` as the file `target`. 0 when ready, else the child's exit code with the reason
+/// in `out` (kChildCannotInject: no fault can be made on this machine, the test skips).
+inline int prepareSmallMount(const std::string &mount, std::size_t bytes, const std::string &target,
+                             const std::string &previous, std::string &out)
+{
+    if (auto why = enterPrivateMountNamespace(); !why.empty()) {
+        out = why;
+        return kChildCannotInject;
+    }
+    if (auto why = mountSmallTmpfs(mount, bytes); !why.empty()) {
+        out = why;
+        return kChildCannotInject;
+    }
+    std::ofstream file(target, std::ios::binary);
+    file << previous;
+    if (!file.flush()) {
+        out = "cannot write the previous file";
+        return 3;
+    }
+    return 0;
+}
+
+/// Fills the file system of `filler` (a new file) to its last byte, then gives one page back:
+/// a write of more than a page is then short, and the one after it fails with ENOSPC. Empty
+/// on success, else why not.
+inline std::string fillAllButOnePage(const std::string &filler)
+{
+    const int fd = ::open(filler.c_str(), O_WRONLY | O_CREAT, 0644);
+    if (fd < 0)
+        return osFailure("creating the filler");
+    const std::string page(4096, 'f');
+    off_t size = 0;
+    for (ssize_t n; (n = ::write(fd, page.data(), page.size())) > 0;)
+        size += n;
+    if (errno != ENOSPC) {
+        ::close(fd);
+        return osFailure("filling the tmpfs ended without ENOSPC");
+    }
+    if (::ftruncate(fd, size - 4096) != 0) {
+        ::close(fd);
+        return osFailure("ftruncate");
+    }
+    ::close(fd);
+    return {};
 }
 
 } // namespace loopsketch::test

@@ -12,6 +12,10 @@
 
 #include "malformedcorpus.h"
 
+#include "clirunner.h"
+#include "designs.h"
+#include "numeric.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 #include <nlohmann/json.hpp>
@@ -39,124 +43,20 @@ using ::testing::HasSubstr;
 using ::testing::Not;
 namespace fs = std::filesystem;
 using Json = nlohmann::json;
+using namespace loopsketch::test;
 
 namespace {
 
 const fs::path kCli = LOOPSKETCH_CLI;
-const fs::path kDesignsDir = LOOPSKETCH_DESIGNS_DIR;
-using test::kMalformedDir;
 
-class TempDir
+Analysis analyzeFileOrFail(const fs::path &path)
 {
-public:
-    TempDir()
-    {
-        static std::atomic<int> counter{0};
-        m_path = fs::temp_directory_path()
-            / ("loopsketch-cli-test-" + std::to_string(::getpid()) + "-"
-               + std::to_string(counter++));
-        fs::create_directories(m_path);
-    }
-    ~TempDir()
-    {
-        std::error_code ec;
-        fs::remove_all(m_path, ec);
-    }
-    TempDir(const TempDir &) = delete;
-    TempDir &operator=(const TempDir &) = delete;
-    const fs::path &path() const { return m_path; }
-
-private:
-    fs::path m_path;
-};
-
-std::string readText(const fs::path &path)
-{
-    std::ifstream in(path, std::ios::binary);
-    std::ostringstream os;
-    os << in.rdbuf();
-    return os.str();
+    return analyzeOrFail(test::loadOrFail(path));
 }
-
-/// The names in `dir`, sorted, separated by spaces.
-std::string entriesOf(const fs::path &dir)
-{
-    std::vector<std::string> names;
-    for (const auto &e : fs::directory_iterator(dir))
-        names.push_back(e.path().filename().string());
-    std::sort(names.begin(), names.end());
-    std::string joined;
-    for (const auto &n : names)
-        joined.append(joined.empty() ? "" : " ").append(n);
-    return joined;
-}
-
-std::string shellQuoted(const std::string &s)
-{
-    std::string q = "'";
-    for (char c : s)
-        q += c == '\'' ? std::string("'\\''") : std::string(1, c);
-    return q + "'";
-}
-
-struct CliRun
-{
-    bool exited = false; ///< false: killed by a signal (a crash)
-    int exitCode = -1;
-    std::string out;
-    std::string err;
-};
 
 CliRun runCli(const std::vector<std::string> &args)
 {
-    TempDir dir;
-    const fs::path out = dir.path() / "stdout";
-    const fs::path err = dir.path() / "stderr";
-    // Appended piece by piece: `" " + string` trips GCC 12's false -Wrestrict (bug 105329).
-    std::string cmd = shellQuoted(kCli.string());
-    for (const auto &a : args)
-        cmd.append(" ").append(shellQuoted(a));
-    cmd.append(" >").append(shellQuoted(out.string()));
-    cmd.append(" 2>").append(shellQuoted(err.string()));
-    cmd.append(" </dev/null");
-    const int status = std::system(cmd.c_str());
-    CliRun r;
-    if (status != -1 && WIFEXITED(status)) {
-        r.exited = true;
-        r.exitCode = WEXITSTATUS(status);
-    }
-    r.out = readText(out);
-    r.err = readText(err);
-    return r;
-}
-
-std::vector<std::string> exampleDesigns()
-{
-    std::vector<std::string> files;
-    for (const auto &e : fs::directory_iterator(kDesignsDir))
-        if (e.path().extension() == ".loopsketch")
-            files.push_back(e.path().filename().string());
-    std::sort(files.begin(), files.end());
-    return files;
-}
-
-Analysis coreAnalysis(const Design &d)
-{
-    auto a = analyze(d);
-    EXPECT_TRUE(a.ok()) << a.errorText();
-    return a.ok() ? *a : Analysis{};
-}
-
-Analysis coreAnalysisOfFile(const fs::path &path)
-{
-    auto d = loadDesign(path.string());
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return d.ok() ? coreAnalysis(*d) : Analysis{};
-}
-
-double relErr(double value, double expected)
-{
-    return std::abs(value - expected) / std::abs(expected);
+    return test::runProgram(kCli.string(), args);
 }
 
 std::vector<std::string> splitCsvLine(const std::string &line)
@@ -171,18 +71,7 @@ std::vector<std::string> splitCsvLine(const std::string &line)
     return cells;
 }
 
-std::string testName(const std::string &file)
-{
-    std::string name = file.substr(0, file.find('.'));
-    for (char &ch : name)
-        ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
-    return name;
-}
-
 // ----- malformed files --------------------------------------------------------------------
-
-using test::MalformedCase;
-using test::malformedCases;
 
 class CliMalformed : public ::testing::TestWithParam<MalformedCase>
 {
@@ -215,7 +104,7 @@ TEST_P(CliMalformed, ExitsTwoNamingFileAndField)
 }
 
 INSTANTIATE_TEST_SUITE_P(Files, CliMalformed, ::testing::ValuesIn(malformedCases()),
-                         [](const auto &row) { return testName(row.param.file); });
+                         [](const auto &row) { return caseName(row.param.file); });
 
 TEST(Cli, MalformedListCoversTheDirectory)
 {
@@ -233,7 +122,7 @@ TEST(Cli, TwentyMebibyteFileIsBadInput)
 {
     TempDir dir;
     const fs::path big = dir.path() / "twenty-mib.loopsketch";
-    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    std::string text = readBytes(kDesignsDir / "demo.loopsketch");
     ASSERT_FALSE(text.empty());
     const auto close = text.rfind('}');
     ASSERT_NE(close, std::string::npos);
@@ -253,7 +142,7 @@ TEST(Cli, TwentyMebibyteFileIsBadInput)
 TEST(Cli, MorePartsThanTheLimitIsBadInput)
 {
     // demo has 5 parts; extra resistors from "out" to ground keep every node grounded
-    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    std::string text = readBytes(kDesignsDir / "demo.loopsketch");
     const std::string anchor = "\"parts\": [";
     const auto at = text.find(anchor);
     ASSERT_NE(at, std::string::npos);
@@ -287,7 +176,7 @@ protected:
 
 TEST_P(CliExample, AnalyzePrintsTheExactSolution)
 {
-    const Analysis a = coreAnalysisOfFile(path());
+    const Analysis a = analyzeFileOrFail(path());
     ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
     const CliRun r = runCli({"analyze", path().string()});
     ASSERT_TRUE(r.exited);
@@ -366,7 +255,7 @@ void expectAnalysisSchema(const Json &j)
 
 TEST_P(CliExample, AnalyzeJsonHasTheSchemaAndTheCoreValues)
 {
-    const Analysis a = coreAnalysisOfFile(path());
+    const Analysis a = analyzeFileOrFail(path());
     ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
     const CliRun r = runCli({"analyze", path().string(), "--json"});
     ASSERT_TRUE(r.exited);
@@ -389,7 +278,7 @@ TEST_P(CliExample, AnalyzeJsonHasTheSchemaAndTheCoreValues)
 
 TEST_P(CliExample, SweepCsvHasOneRowPerFrequencyAndTheExactGain)
 {
-    const Analysis a = coreAnalysisOfFile(path());
+    const Analysis a = analyzeFileOrFail(path());
     ASSERT_FALSE(a.frequenciesHz.empty());
     ASSERT_EQ(a.curves.gainExact.size(), a.frequenciesHz.size());
     TempDir dir;
@@ -398,7 +287,7 @@ TEST_P(CliExample, SweepCsvHasOneRowPerFrequencyAndTheExactGain)
     ASSERT_TRUE(r.exited);
     ASSERT_EQ(r.exitCode, 0) << r.err;
     ASSERT_TRUE(fs::exists(csv));
-    std::istringstream lines(readText(csv));
+    std::istringstream lines(readBytes(csv));
     std::string line;
     ASSERT_TRUE(std::getline(lines, line));
     const auto header = splitCsvLine(line);
@@ -685,7 +574,7 @@ TEST_P(CliExample, JsonSpecsMatchCheckSpecs)
 {
     auto loaded = loadDesign(path().string());
     ASSERT_TRUE(loaded.ok()) << loaded.errorText();
-    const Analysis base = coreAnalysis(*loaded);
+    const Analysis base = analyzeOrFail(*loaded);
     ASSERT_TRUE(base.exact.gain && base.bandwidthHz && base.margins.phaseMarginDeg);
     std::vector<Design> variants{*loaded};
     Design gainOff = *loaded;
@@ -697,7 +586,7 @@ TEST_P(CliExample, JsonSpecsMatchCheckSpecs)
     slow.specs.phaseMarginMinDeg = *base.margins.phaseMarginDeg + 5;
     variants.push_back(slow);
     for (const Design &d : variants) {
-        const Analysis a = coreAnalysis(d);
+        const Analysis a = analyzeOrFail(d);
         const SpecCheck check = checkSpecs(d.specs, d.sweep, trialMetricsOf(a));
         const Json specs = Json::parse(analysisToJson(a))["specs"];
         ASSERT_TRUE(specs.is_array());
@@ -722,35 +611,24 @@ TEST_P(CliExample, JsonSpecsMatchCheckSpecs)
         }
     }
     // the moved specs fail, and the text names them
-    const std::string text = analysisToText(coreAnalysis(slow), &slow);
+    const std::string text = analysisToText(analyzeOrFail(slow), &slow);
     EXPECT_THAT(text, HasSubstr("fails: bandwidth, phase margin"));
 }
 
 INSTANTIATE_TEST_SUITE_P(Resources, CliExample, ::testing::ValuesIn(exampleDesigns()),
-                         [](const auto &row) { return testName(row.param); });
+                         [](const auto &row) { return caseName(row.param); });
 
 // ----- candidates -------------------------------------------------------------------------
-
-Design withCandidate(Design d, const Candidate &c)
-{
-    for (const auto &[id, value] : c.values) {
-        Part *p = d.findPart(id);
-        EXPECT_NE(p, nullptr) << id;
-        if (p)
-            p->fields[std::string(p->primaryField())] = value;
-    }
-    return d;
-}
 
 TEST(Cli, CandidatesOfTheDemoChangeTheAnalysis)
 {
     auto demo = loadDesign((kDesignsDir / "demo.loopsketch").string());
     ASSERT_TRUE(demo.ok()) << demo.errorText();
     ASSERT_GE(demo->candidates.size(), 2u);
-    const Analysis base = coreAnalysis(*demo);
+    const Analysis base = analyzeOrFail(*demo);
     ASSERT_TRUE(base.exact.gain);
     for (const Candidate &c : demo->candidates) {
-        const Analysis expected = coreAnalysis(withCandidate(*demo, c));
+        const Analysis expected = analyzeOrFail(withCandidateByHand(*demo, c));
         ASSERT_TRUE(expected.exact.gain);
         for (const std::string &file :
              {std::string("demo"), (kDesignsDir / "demo.loopsketch").string()}) {
@@ -873,7 +751,7 @@ TEST(CliSynopsis, ReadmeCommandLineBlockMatchesHelp)
     ASSERT_TRUE(help.exited);
     ASSERT_EQ(help.exitCode, 0);
     std::vector<std::string> fromHelp = commandSynopses(help.out);
-    const std::string block = readmeCommandBlock(readText(LOOPSKETCH_README));
+    const std::string block = readmeCommandBlock(readBytes(LOOPSKETCH_README));
     ASSERT_FALSE(block.empty()) << "README.md has no fenced block under \"## Command line\"";
     std::vector<std::string> fromReadme = commandSynopses(block);
     // A build without the GUI (the asan preset) has no `export` command and leaves it out
@@ -941,7 +819,7 @@ TEST(Cli, AnalyzeDemoWorks)
 {
     const auto demo = loadDesign((kDesignsDir / "demo.loopsketch").string());
     ASSERT_TRUE(demo.ok()) << demo.errorText();
-    const Analysis a = coreAnalysis(*demo);
+    const Analysis a = analyzeOrFail(*demo);
     ASSERT_TRUE(a.exact.gain);
     const CliRun r = runCli({"analyze", "demo"});
     ASSERT_TRUE(r.exited);
@@ -980,7 +858,7 @@ TEST(CliOutputs, SweepOntoItsOwnDesignIsRefusedInEverySpelling)
     TempDir dir;
     const fs::path design = dir.path() / "a.loopsketch";
     fs::copy_file(kDesignsDir / "demo.loopsketch", design);
-    const std::string before = readText(design);
+    const std::string before = readBytes(design);
     fs::create_directory(dir.path() / "sub");
     fs::create_hard_link(design, dir.path() / "hard.csv");
     fs::create_symlink(design, dir.path() / "soft.csv");
@@ -991,17 +869,17 @@ TEST(CliOutputs, SweepOntoItsOwnDesignIsRefusedInEverySpelling)
         EXPECT_EQ(r.exitCode, 2) << csv << ": " << r.err;
         EXPECT_THAT(r.err, HasSubstr("refused"));
         EXPECT_THAT(r.err, HasSubstr(csv.string()));
-        EXPECT_EQ(readText(design), before) << csv;
+        EXPECT_EQ(readBytes(design), before) << csv;
     }
     // the design read through the hard link, written through its first name
     const CliRun viaLink
         = runCli({"sweep", (dir.path() / "hard.csv").string(), "--csv", design.string()});
     EXPECT_EQ(viaLink.exitCode, 2) << viaLink.err;
-    EXPECT_EQ(readText(design), before);
+    EXPECT_EQ(readBytes(design), before);
     // the JSON of analyze onto the design, through --out
     const CliRun json = runCli({"analyze", design.string(), "--json", "--out", design.string()});
     EXPECT_EQ(json.exitCode, 2) << json.err;
-    EXPECT_EQ(readText(design), before);
+    EXPECT_EQ(readBytes(design), before);
     EXPECT_EQ(entriesOf(dir.path()), "a.loopsketch hard.csv soft.csv sub");
 }
 
@@ -1037,7 +915,7 @@ TEST(CliOutputs, FifoGetsTheWholeSweep)
     const fs::path fifo = dir.path() / "sweep.fifo";
     ASSERT_EQ(::mkfifo(fifo.c_str(), 0600), 0);
     std::string received;
-    std::thread reader([&] { received = readText(fifo); });
+    std::thread reader([&] { received = readBytes(fifo); });
     const CliRun r = runCli({"sweep", "demo", "--csv", fifo.string()});
     // should the program have failed before opening the FIFO, release the waiting reader
     if (const int fd = ::open(fifo.c_str(), O_WRONLY | O_NONBLOCK); fd >= 0)
@@ -1045,7 +923,7 @@ TEST(CliOutputs, FifoGetsTheWholeSweep)
     reader.join();
     ASSERT_TRUE(r.exited);
     EXPECT_EQ(r.exitCode, 0) << r.err;
-    const Analysis a = coreAnalysis(*parseDesign(readText(kDesignsDir / "demo.loopsketch")));
+    const Analysis a = analyzeOrFail(*parseDesign(readBytes(kDesignsDir / "demo.loopsketch")));
     EXPECT_TRUE(received == sweepToCsv(a)) << received.size() << " bytes received";
     EXPECT_TRUE(fs::is_fifo(fs::symlink_status(fifo)));
     EXPECT_EQ(entriesOf(dir.path()), "sweep.fifo");
@@ -1056,7 +934,7 @@ TEST(CliOutputs, DashIsStandardOutputForCsvAndJson)
     const CliRun csv = runCli({"sweep", "demo", "--csv", "-"});
     ASSERT_TRUE(csv.exited);
     EXPECT_EQ(csv.exitCode, 0) << csv.err;
-    const Analysis a = coreAnalysis(*parseDesign(readText(kDesignsDir / "demo.loopsketch")));
+    const Analysis a = analyzeOrFail(*parseDesign(readBytes(kDesignsDir / "demo.loopsketch")));
     EXPECT_TRUE(csv.out == sweepToCsv(a));
     const CliRun json = runCli({"analyze", "demo", "--json", "--out", "-"});
     const CliRun plain = runCli({"analyze", "demo", "--json"});
@@ -1070,7 +948,7 @@ TEST(CliOutputs, StandardOutputAppendingToTheDesignIsRefused)
     TempDir dir;
     const fs::path design = dir.path() / "a.loopsketch";
     fs::copy_file(kDesignsDir / "demo.loopsketch", design);
-    const std::string before = readText(design);
+    const std::string before = readBytes(design);
     for (const std::string &args : {" sweep " + shellQuoted(design.string()) + " --csv - >>",
                                     " analyze " + shellQuoted(design.string()) + " --json >>"}) {
         const std::string cmd
@@ -1078,7 +956,7 @@ TEST(CliOutputs, StandardOutputAppendingToTheDesignIsRefused)
         const int status = std::system(cmd.c_str());
         ASSERT_TRUE(WIFEXITED(status));
         EXPECT_EQ(WEXITSTATUS(status), 2) << args;
-        EXPECT_EQ(readText(design), before) << args;
+        EXPECT_EQ(readBytes(design), before) << args;
     }
 }
 
@@ -1092,9 +970,9 @@ TEST(CliOutputs, DevStdoutIntoAPipeIsWrittenNotReplaced)
         + " sweep demo --csv /dev/stdout; echo $? >" + shellQuoted(rc.string()) + "; } | cat >"
         + shellQuoted(piped.string());
     ASSERT_EQ(std::system(cmd.c_str()), 0);
-    EXPECT_EQ(readText(rc), "0\n");
-    const Analysis a = coreAnalysis(*parseDesign(readText(kDesignsDir / "demo.loopsketch")));
-    EXPECT_TRUE(readText(piped) == sweepToCsv(a)) << readText(piped).size() << " bytes";
+    EXPECT_EQ(readBytes(rc), "0\n");
+    const Analysis a = analyzeOrFail(*parseDesign(readBytes(kDesignsDir / "demo.loopsketch")));
+    EXPECT_TRUE(readBytes(piped) == sweepToCsv(a)) << readBytes(piped).size() << " bytes";
 
     const fs::path redirected = dir.path() / "redirected.csv";
     const std::string header = "written by the shell first\n";
@@ -1105,7 +983,7 @@ TEST(CliOutputs, DevStdoutIntoAPipeIsWrittenNotReplaced)
     const std::string append = shellQuoted(kCli.string()) + " sweep demo --csv /dev/stdout >>"
         + shellQuoted(redirected.string());
     ASSERT_EQ(std::system(append.c_str()), 0);
-    EXPECT_TRUE(readText(redirected) == header + sweepToCsv(a));
+    EXPECT_TRUE(readBytes(redirected) == header + sweepToCsv(a));
     EXPECT_EQ(entriesOf(dir.path()), "piped.csv rc redirected.csv");
 }
 
@@ -1116,7 +994,7 @@ TEST(CliOutputs, JsonOutWritesTheFileAndNothingOnStandardOutput)
     const CliRun r = runCli({"analyze", "demo", "--json", "--out", file.string()});
     EXPECT_EQ(r.exitCode, 0) << r.err;
     EXPECT_TRUE(r.out.empty());
-    EXPECT_EQ(readText(file), runCli({"analyze", "demo", "--json"}).out);
+    EXPECT_EQ(readBytes(file), runCli({"analyze", "demo", "--json"}).out);
 }
 
 TEST(CliOutputs, FullStandardOutputIsExitTwo)
@@ -1135,7 +1013,7 @@ TEST(CliOutputs, FullStandardOutputIsExitTwo)
 /// The demo design with its tolerances removed, written to `dir`.
 fs::path demoWithoutTolerances(const TempDir &dir)
 {
-    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    std::string text = readBytes(kDesignsDir / "demo.loopsketch");
     for (const std::string t : {", \"tolerance\": \"1%\"", ", \"tolerance\": \"10%\""}) {
         const auto at = text.find(t);
         EXPECT_NE(at, std::string::npos) << t;
@@ -1222,7 +1100,7 @@ TEST(CliSpread, DesignWithoutTolerancesIsBadInputNamingTheFile)
 TEST(CliMessages, EveryCommandNamesTheFileOfAnUnsolvableCircuit)
 {
     TempDir dir;
-    std::string text = readText(kDesignsDir / "demo.loopsketch");
+    std::string text = readBytes(kDesignsDir / "demo.loopsketch");
     const std::string source
         = R"({"id": "PD1", "type": "isource", "to": "in", "from": "0", "r_parallel": "500M", "c_parallel": "20p"})";
     const std::string rOut = R"("r_out": "50")";
@@ -1323,7 +1201,7 @@ TEST(CliUnits, InfiniteInputImpedanceIsShownAsInfinity)
     ASSERT_NE(u1, nullptr);
     ASSERT_TRUE(u1->has("r_in"));
     u1->fields.erase("r_in");
-    const Analysis a = coreAnalysis(*d);
+    const Analysis a = analyzeOrFail(*d);
     ASSERT_TRUE(a.exact.zIn);
     EXPECT_TRUE(std::isinf(*a.exact.zIn) && *a.exact.zIn > 0);
     ASSERT_TRUE(a.exact.zOut && std::isfinite(*a.exact.zOut));

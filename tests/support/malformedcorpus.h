@@ -4,6 +4,8 @@
 // code the command line must give (0 or 2) and a fragment of its message (stderr for 2,
 // stdout for 0). Rows of two columns (file, fragment) mean exit code 2.
 
+#include "files.h"
+
 #include <filesystem>
 #include <fstream>
 #include <string>
@@ -48,15 +50,6 @@ inline std::vector<MalformedCase> malformedCases(bool rejectedOnly = true)
             cases.push_back(std::move(c));
     }
     return cases;
-}
-
-/// A gtest-safe name for a corpus file.
-inline std::string caseName(const std::string &file)
-{
-    std::string name = file.substr(0, file.find('.'));
-    for (char &ch : name)
-        ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
-    return name;
 }
 
 } // namespace loopsketch::test

@@ -9,6 +9,9 @@
 #include "loopsketch/design/partlimits.h"
 #include "loopsketch/feedback/loopmodel.h"
 
+#include "designs.h"
+#include "numeric.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -20,6 +23,7 @@
 #include <sstream>
 
 using namespace loopsketch;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
 using ::testing::Not;
 
@@ -28,38 +32,6 @@ namespace {
 namespace fs = std::filesystem;
 using cd = std::complex<double>;
 constexpr double kPi = std::numbers::pi;
-const fs::path kDesignsDir = LOOPSKETCH_DESIGNS_DIR;
-
-double relErr(double a, double b)
-{
-    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
-}
-
-double relErr(cd a, cd b)
-{
-    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
-}
-
-Design loadOrDie(const fs::path &path)
-{
-    auto d = loadDesign(path.string());
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return *d;
-}
-
-Design parseOrDie(const std::string &text)
-{
-    auto d = parseDesign(text);
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return *d;
-}
-
-Analysis analyzeOrDie(const Design &d)
-{
-    auto a = analyze(d);
-    EXPECT_TRUE(a.ok()) << a.errorText();
-    return *a;
-}
 
 Part &part(Design &d, const std::string &id)
 {
@@ -71,7 +43,7 @@ Part &part(Design &d, const std::string &id)
 /// The demo with a resistor RX of `ohms` in series with RF (RF now ends on a new node).
 Design demoWithSeriesResistor(double ohms)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     Part &rf = part(d, "RF");
     const std::string end = rf.nodes[1];
     rf.nodes[1] = "rf_end";
@@ -120,8 +92,8 @@ TEST(Accuracy, OrdinaryDesignsCarryNoWarnings)
         if (entry.path().extension() != ".loopsketch")
             continue;
         ++seen;
-        const Design d = loadOrDie(entry.path());
-        const Analysis a = analyzeOrDie(d);
+        const Design d = loadOrFail(entry.path());
+        const Analysis a = analyzeOrFail(d);
         EXPECT_TRUE(a.warnings.empty()) << entry.path() << ": " << toString(a.warnings);
         auto model = LoopModel::build(d);
         ASSERT_TRUE(model.ok()) << model.errorText();
@@ -136,11 +108,11 @@ TEST(Accuracy, OrdinaryDesignsCarryNoWarnings)
 // near-short is named as a value no real resistor has.
 TEST(Accuracy, NearShortInSeriesWithTheFeedbackResistorGivesTheDemosNumbers)
 {
-    const Analysis demo = analyzeOrDie(loadOrDie(kDesignsDir / "demo.loopsketch"));
+    const Analysis demo = analyzeOrFail(loadOrFail(kDesignsDir / "demo.loopsketch"));
     ASSERT_TRUE(demo.exact.gain && demo.exact.zIn && demo.exact.zOut);
     ASSERT_TRUE(demo.margins.phaseMarginDeg);
     for (double ohms : {1e-15, 1e-12}) {
-        const Analysis a = analyzeOrDie(demoWithSeriesResistor(ohms));
+        const Analysis a = analyzeOrFail(demoWithSeriesResistor(ohms));
         ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut) << ohms;
         EXPECT_LT(relErr(*a.exact.gain, *demo.exact.gain), 1e-9) << ohms;
         EXPECT_LT(relErr(*a.exact.zIn, *demo.exact.zIn), 1e-9) << ohms;
@@ -162,9 +134,9 @@ TEST(Accuracy, NearShortInSeriesWithTheFeedbackResistorGivesTheDemosNumbers)
 // pole; passive short at the output of a stable loop, common practice) and RL's r is named.
 TEST(Accuracy, NearShortLoadInventsNoUnstablePole)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     part(d, "RL").fields["r"] = Value{1e-15, {}};
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     ASSERT_FALSE(a.poles.empty());
     for (const ClosedLoopPole &p : a.poles)
         EXPECT_LT(p.s.real(), 0.0) << p.s;
@@ -175,7 +147,7 @@ TEST(Accuracy, NearShortLoadInventsNoUnstablePole)
 // RF = 1e-300 ohm is a short, not a floating node: the analysis runs and names RF's value.
 TEST(Accuracy, FeedbackResistorOfTenToTheMinus300IsAShortNamedByItsValue)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     part(d, "RF").fields["value"] = Value{1e-300, {}};
     auto a = analyze(d);
     ASSERT_TRUE(a.ok()) << a.errorText();
@@ -191,8 +163,8 @@ TEST(Accuracy, FeedbackResistorOfTenToTheMinus300IsAShortNamedByItsValue)
 // from this test's circuit; common practice).
 TEST(Accuracy, TwoHundredFortyDecibelGainKeepsDcAccuracyAndEveryPole)
 {
-    const Design d = parseOrDie(invertingDesign("240dB"));
-    const Analysis a = analyzeOrDie(d);
+    const Design d = parseOrFail(invertingDesign("240dB"));
+    const Analysis a = analyzeOrFail(d);
     using ld = long double;
     const ld a0 = 1e12L, g1 = 1 / 10e3L, g2 = 1 / 100e3L, gl = 1 / 2e3L, go = 1 / 50.0L;
     const ld det = (g1 + g2) * (g2 + gl + go) + g2 * (a0 * go - g2);
@@ -224,7 +196,7 @@ TEST(Accuracy, TwoHundredFortyDecibelGainKeepsDcAccuracyAndEveryPole)
 // load removed (the output resistance divided by the return difference; common practice).
 TEST(Accuracy, DemoAtTwoHundredFortyDecibelsKeepsEveryPole)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     part(d, "U1").fields["gain"] = Value{1e12, "240dB"};
     auto model = LoopModel::build(d);
     ASSERT_TRUE(model.ok()) << model.errorText();
@@ -245,7 +217,7 @@ TEST(Accuracy, DemoAtTwoHundredFortyDecibelsKeepsEveryPole)
     const long double rest = 1e6L + rsh;
     const long double zOpen = 50.0L * rest / (50.0L + rest);
     const long double t = 1e12L * rsh / (50.0L + rest);
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     ASSERT_TRUE(a.exact.zOut);
     EXPECT_LT(relErr(*a.exact.zOut, static_cast<double>(zOpen / (1 + t))), 1e-8);
     // Correct numbers or a warning from the solve's own check (not from a value limit:
@@ -377,7 +349,7 @@ TEST(Accuracy, CheckWarnsWhereTheOutputIsATinyDifference)
 // and infinity meaning "ideal" are not (limits: PartLimits, common practice).
 TEST(Accuracy, ValuesNoRealPartHasAreNamed)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     EXPECT_TRUE(partLimitWarnings(d).empty());
     part(d, "CF").fields["value"] = Value{1e-16, {}};
     part(d, "RF").fields["value"] = Value{1e14, {}};
@@ -396,7 +368,7 @@ TEST(Accuracy, ValuesNoRealPartHasAreNamed)
 // The warnings reach the JSON (an array of {part, field, message}) and the text output.
 TEST(Accuracy, WarningsAppearInJsonAndText)
 {
-    const Analysis a = analyzeOrDie(demoWithSeriesResistor(1e-15));
+    const Analysis a = analyzeOrFail(demoWithSeriesResistor(1e-15));
     const std::string json = analysisToJson(a);
     EXPECT_THAT(json, HasSubstr("\"warnings\": ["));
     EXPECT_THAT(json, HasSubstr("\"part\": \"RX\""));
@@ -404,7 +376,7 @@ TEST(Accuracy, WarningsAppearInJsonAndText)
     const std::string text = analysisToText(a);
     EXPECT_THAT(text, HasSubstr("Warnings"));
     EXPECT_THAT(text, HasSubstr("part RX, field value"));
-    const Analysis demo = analyzeOrDie(loadOrDie(kDesignsDir / "demo.loopsketch"));
+    const Analysis demo = analyzeOrFail(loadOrFail(kDesignsDir / "demo.loopsketch"));
     EXPECT_THAT(analysisToJson(demo), HasSubstr("\"warnings\": []"));
     EXPECT_THAT(analysisToText(demo), Not(HasSubstr("Warnings")));
 }
@@ -412,7 +384,7 @@ TEST(Accuracy, WarningsAppearInJsonAndText)
 // Messages speak of the user's parts and fields, never of internal names such as U1:e.
 TEST(Accuracy, MessagesNameTheUsersPartAndField)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     Netlist n = buildLoopNetlist(d);
     n.controlled.front().polesHz.front() = -5.0;
     auto sys = assembleSystem(n);

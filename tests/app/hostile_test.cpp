@@ -6,6 +6,8 @@
 #include "hostilecorpus.h"
 #include "malformedcorpus.h"
 
+#include "clirunner.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 #include <nlohmann/json.hpp>
@@ -31,69 +33,12 @@ namespace {
 
 const fs::path kCli = LOOPSKETCH_CLI;
 
-class TempDir
-{
-public:
-    TempDir()
-    {
-        std::string pattern = (fs::temp_directory_path() / "loopsketch-hostile-XXXXXX").string();
-        m_path = ::mkdtemp(pattern.data());
-    }
-    ~TempDir()
-    {
-        std::error_code ec;
-        fs::remove_all(m_path, ec);
-    }
-    const fs::path &path() const { return m_path; }
+using Run = CliRun;
 
-private:
-    fs::path m_path;
-};
-
-std::string readText(const fs::path &path)
-{
-    std::ifstream in(path, std::ios::binary);
-    std::ostringstream os;
-    os << in.rdbuf();
-    return os.str();
-}
-
-std::string shellQuoted(const std::string &s)
-{
-    std::string q = "'";
-    for (char c : s)
-        q += c == '\'' ? std::string("'\\''") : std::string(1, c);
-    return q + "'";
-}
-
-struct Run
-{
-    std::string command; ///< for messages
-    bool exited = false; ///< false: ended by a signal (a crash, or the 300 s watchdog)
-    int exitCode = -1;
-    std::string out, err;
-};
-
+/// Runs the program with a 300 s watchdog, its output caught in `dir`.
 Run runCli(const std::vector<std::string> &args, const fs::path &dir)
 {
-    const fs::path out = dir / "stdout", err = dir / "stderr";
-    std::string cmd = "timeout -s KILL 300 " + shellQuoted(kCli.string());
-    Run r;
-    for (const auto &a : args) {
-        cmd.append(" ").append(shellQuoted(a));
-        r.command.append(" ").append(a.size() > 80 ? a.substr(0, 80) + "..." : a);
-    }
-    cmd.append(" >").append(shellQuoted(out.string()));
-    cmd.append(" 2>").append(shellQuoted(err.string()));
-    cmd.append(" </dev/null");
-    const int status = std::system(cmd.c_str());
-    if (status != -1 && WIFEXITED(status)) {
-        r.exited = WEXITSTATUS(status) != 128 + SIGKILL; // timeout's way of saying so
-        r.exitCode = WEXITSTATUS(status);
-    }
-    r.out = readText(out);
-    r.err = readText(err);
-    return r;
+    return runProgram(kCli.string(), args, dir, 300);
 }
 
 // Text outside double-quoted strings (quotes hold the user's own text, echoed in messages,
@@ -260,7 +205,7 @@ void runEveryCommand(const fs::path &file, const MalformedCase &c)
                 std::size_t plots = 0;
                 for (const auto &e : fs::directory_iterator(svg)) {
                     ++plots;
-                    EXPECT_EQ(badToken(readText(e.path())), "") << what << ": " << e.path();
+                    EXPECT_EQ(badToken(readBytes(e.path())), "") << what << ": " << e.path();
                 }
                 EXPECT_GT(plots, 0u) << what;
             }

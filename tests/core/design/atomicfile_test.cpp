@@ -6,6 +6,7 @@
 // (core/README.md §1, atomic replace); errno texts are glibc's strerror wording.
 
 #include "faultinjection.h"
+#include "files.h"
 
 #include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/design.h"
@@ -17,6 +18,7 @@
 #include <csignal>
 #include <filesystem>
 #include <fstream>
+#include <initializer_list>
 #include <set>
 #include <sstream>
 #include <thread>
@@ -30,93 +32,40 @@ using ::testing::HasSubstr;
 
 namespace fs = std::filesystem;
 
+using namespace loopsketch::test;
+
 namespace {
 
 const fs::path kDemo = fs::path(LOOPSKETCH_DESIGNS_DIR) / "demo.loopsketch";
 const std::string kOriginal = "previous contents, must survive\n";
 
-std::string readBytes(const fs::path &path)
+/// In the child: `target` holding the previous contents on a 64 KiB tmpfs at `mount` filled by
+/// `filler` to all but one page. 0 when ready, else the child's exit code (see
+/// prepareSmallMount).
+int prepareFullDisk(const fs::path &mount, const fs::path &target, const fs::path &filler,
+                    std::string &out)
 {
-    std::ifstream in(path, std::ios::binary);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
-}
-
-std::string entriesOf(const fs::path &dir)
-{
-    std::set<std::string> names;
-    for (const auto &e : fs::directory_iterator(dir))
-        names.insert(e.path().filename().string());
-    std::string joined;
-    for (const auto &n : names)
-        joined += (joined.empty() ? "" : " ") + n;
-    return joined;
-}
-
-class TempDir
-{
-public:
-    TempDir()
-    {
-        std::string pattern = (fs::temp_directory_path() / "loopsketch-fault-XXXXXX").string();
-        m_path = ::mkdtemp(pattern.data());
-    }
-    ~TempDir() { fs::remove_all(m_path); }
-    const fs::path &path() const { return m_path; }
-
-private:
-    fs::path m_path;
-};
-
-/// The child's findings, one field per line group: "<key> <length>\n<bytes>\n".
-std::string field(const std::string &key, const std::string &value)
-{
-    return key + " " + std::to_string(value.size()) + "\n" + value + "\n";
-}
-
-std::string fieldOf(const std::string &report, const std::string &key)
-{
-    std::istringstream in(report);
-    std::string name;
-    std::size_t size = 0;
-    while (in >> name >> size) {
-        in.get();
-        std::string value(size, '\0');
-        in.read(value.data(), static_cast<std::streamsize>(size));
-        in.get();
-        if (name == key)
-            return value;
-    }
-    return "<no field " + key + ">";
-}
-
-/// Writes the previous version of the file inside the child's mount.
-bool writePrevious(const fs::path &path)
-{
-    std::ofstream out(path, std::ios::binary);
-    out << kOriginal;
-    return bool(out.flush());
-}
-
-/// In the child: a private mount namespace with a 64 KiB tmpfs at `mount` holding the
-/// previous version of `target`. 0 when ready, else the child's exit code with the reason in
-/// `out` (test::kChildCannotInject: no fault can be made here, the test skips).
-int prepareSmallMount(const fs::path &mount, const fs::path &target, std::string &out)
-{
-    if (auto why = test::enterPrivateMountNamespace(); !why.empty()) {
+    if (const int failed
+        = prepareSmallMount(mount.string(), 64 * 1024, target.string(), kOriginal, out))
+        return failed;
+    if (auto why = fillAllButOnePage(filler.string()); !why.empty()) {
         out = why;
-        return test::kChildCannotInject;
-    }
-    if (auto why = test::mountSmallTmpfs(mount.string(), 64 * 1024); !why.empty()) {
-        out = why;
-        return test::kChildCannotInject;
-    }
-    if (!writePrevious(target)) {
-        out = "cannot write the previous file";
         return 3;
     }
     return 0;
+}
+
+/// The child's save failed naming `target` and every one of `reasons`, the previous file is
+/// byte-identical and the folder holds `entries` (no temporary file left behind).
+void expectRefusedAndKept(const std::string &report, const fs::path &target,
+                          std::initializer_list<const char *> reasons, const std::string &entries)
+{
+    const std::string error = fieldOf(report, "error");
+    EXPECT_THAT(error, HasSubstr(target.string()));
+    for (const char *reason : reasons)
+        EXPECT_THAT(error, HasSubstr(reason));
+    EXPECT_EQ(fieldOf(report, "content"), kOriginal);
+    EXPECT_EQ(fieldOf(report, "entries"), entries) << "the temporary file must be removed";
 }
 
 TEST(AtomicSaveFaults, FullDiskMidFileKeepsThePreviousFileAndLeavesNoTemporary)
@@ -129,29 +78,9 @@ TEST(AtomicSaveFaults, FullDiskMidFileKeepsThePreviousFileAndLeavesNoTemporary)
     const std::string text(5 * 4096 + 321, 'x');
 
     const auto outcome = test::runInChild([&](std::string &out) {
-        if (const int failed = prepareSmallMount(mount, target, out))
-            return failed;
-        // Fill the file system to the last byte, then give one page back.
         const fs::path filler = mount / "filler";
-        const int fd = ::open(filler.c_str(), O_WRONLY | O_CREAT, 0644);
-        const std::string page(4096, 'f');
-        off_t size = 0;
-        while (true) {
-            const ssize_t n = ::write(fd, page.data(), page.size());
-            if (n <= 0)
-                break;
-            size += n;
-        }
-        const int fillErrno = errno;
-        if (fillErrno != ENOSPC) {
-            out = test::osFailure("filling the tmpfs ended without ENOSPC");
-            return 3;
-        }
-        if (::ftruncate(fd, size - 4096) != 0) {
-            out = test::osFailure("ftruncate");
-            return 3;
-        }
-        ::close(fd);
+        if (const int failed = prepareFullDisk(mount, target, filler, out))
+            return failed;
         struct statvfs info
         {
         };
@@ -175,13 +104,8 @@ TEST(AtomicSaveFaults, FullDiskMidFileKeepsThePreviousFileAndLeavesNoTemporary)
     ASSERT_EQ(outcome.exitCode, 0) << outcome.output;
 
     EXPECT_EQ(fieldOf(outcome.output, "freeBytes"), "4096");
-    const std::string error = fieldOf(outcome.output, "error");
-    EXPECT_THAT(error, HasSubstr(target.string()));
-    EXPECT_THAT(error, HasSubstr("write failed"));
-    EXPECT_THAT(error, HasSubstr("No space left on device"));
-    EXPECT_EQ(fieldOf(outcome.output, "content"), kOriginal);
-    EXPECT_EQ(fieldOf(outcome.output, "entries"), "filler keep.loopsketch")
-        << "the temporary file must be removed";
+    expectRefusedAndKept(outcome.output, target, {"write failed", "No space left on device"},
+                         "filler keep.loopsketch");
     EXPECT_EQ(fieldOf(outcome.output, "retry"), "ok");
     EXPECT_EQ(fieldOf(outcome.output, "retryContentMatches"), "yes");
 }
@@ -196,7 +120,8 @@ TEST(AtomicSaveFaults, ReadOnlyFileSystemRefusesEvenRootAndKeepsTheFile)
     ASSERT_TRUE(design.ok()) << design.errorText();
 
     const auto outcome = test::runInChild([&](std::string &out) {
-        if (const int failed = prepareSmallMount(mount, target, out))
+        if (const int failed
+            = prepareSmallMount(mount.string(), 64 * 1024, target.string(), kOriginal, out))
             return failed;
         if (auto why = test::remountReadOnly(mount.string()); !why.empty()) {
             out = why;
@@ -215,12 +140,9 @@ TEST(AtomicSaveFaults, ReadOnlyFileSystemRefusesEvenRootAndKeepsTheFile)
 
     // inside the namespace the writer is root (real root, or root of a user namespace)
     EXPECT_EQ(fieldOf(outcome.output, "euid"), "0");
-    const std::string error = fieldOf(outcome.output, "error");
-    EXPECT_THAT(error, HasSubstr(target.string()));
-    EXPECT_THAT(error, HasSubstr("cannot create a temporary file"));
-    EXPECT_THAT(error, HasSubstr("Read-only file system"));
-    EXPECT_EQ(fieldOf(outcome.output, "content"), kOriginal);
-    EXPECT_EQ(fieldOf(outcome.output, "entries"), "keep.loopsketch");
+    expectRefusedAndKept(outcome.output, target,
+                         {"cannot create a temporary file", "Read-only file system"},
+                         "keep.loopsketch");
 }
 
 TEST(AtomicSaveFaults, ProcIsUnwritableForRootTooAndItsFilesStay)
@@ -546,19 +468,9 @@ TEST(AtomicSaveFaults, FullDiskDesignSaveKeepsThePreviousDesign)
     big.notes = std::string(8192, 'n');
 
     const auto outcome = test::runInChild([&](std::string &out) {
-        if (const int failed = prepareSmallMount(mount, target, out))
-            return failed;
         const fs::path filler = mount / "filler";
-        const int fd = ::open(filler.c_str(), O_WRONLY | O_CREAT, 0644);
-        const std::string page(4096, 'f');
-        off_t size = 0;
-        for (ssize_t n; (n = ::write(fd, page.data(), page.size())) > 0;)
-            size += n;
-        if (errno != ENOSPC || ::ftruncate(fd, size - 4096) != 0) {
-            out = test::osFailure("filling the tmpfs");
-            return 3;
-        }
-        ::close(fd);
+        if (const int failed = prepareFullDisk(mount, target, filler, out))
+            return failed;
         const auto failed = saveDesign(big, target.string());
         out += field("error", failed.ok() ? "" : failed.errorText());
         out += field("content", readBytes(target));
@@ -568,9 +480,6 @@ TEST(AtomicSaveFaults, FullDiskDesignSaveKeepsThePreviousDesign)
     if (outcome.exitCode == test::kChildCannotInject)
         GTEST_SKIP() << "no private small file system on this machine: " << outcome.output;
     ASSERT_EQ(outcome.exitCode, 0) << outcome.output;
-    const std::string error = fieldOf(outcome.output, "error");
-    EXPECT_THAT(error, HasSubstr(target.string()));
-    EXPECT_THAT(error, HasSubstr("No space left on device"));
-    EXPECT_EQ(fieldOf(outcome.output, "content"), kOriginal);
-    EXPECT_EQ(fieldOf(outcome.output, "entries"), "filler keep.loopsketch");
+    expectRefusedAndKept(outcome.output, target, {"No space left on device"},
+                         "filler keep.loopsketch");
 }

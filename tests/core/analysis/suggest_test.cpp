@@ -1,6 +1,8 @@
 #include "loopsketch/analysis/suggest.h"
 #include "loopsketch/design/designfile.h"
 
+#include "designs.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -8,6 +10,7 @@
 #include <string>
 
 using namespace loopsketch;
+using test::parseOrFail;
 using ::testing::HasSubstr;
 
 namespace {
@@ -27,13 +30,6 @@ std::string nonInverting(const std::string &specs)
       "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20},
       "specs": )"
         + specs + "}";
-}
-
-Design parse(const std::string &text)
-{
-    auto d = parseDesign(text, "test.loopsketch");
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return d ? *d : Design{};
 }
 
 double valueOf(const Suggestion &s, const std::string &id)
@@ -58,7 +54,7 @@ TEST(Suggest, FindsExactSeriesRatio)
 {
     // 10 / 4.7: both values are in the IEC 60063 E12 table, so 1 + 10k/4.7k hits the
     // window centre 1 + 10/4.7 = 3.12766 exactly (up to the loop gain error).
-    const Design d = parse(nonInverting(R"({"gain": ["3.11202", "3.14330"]})"));
+    const Design d = parseOrFail(nonInverting(R"({"gain": ["3.11202", "3.14330"]})"));
     auto r = suggestValues(d, twoResistors());
     ASSERT_TRUE(r.ok()) << r.errorText();
     EXPECT_TRUE(r->targetsMet);
@@ -77,7 +73,7 @@ TEST(Suggest, BestPairWhenNoRatioIsExact)
     // ratios four steps apart are 2.2, 2.25, 2.2, 2.167, 2.136, 2.074, 2.061 (6.8/3.3),
     // 2.103, 2.128, 2.143, 2.206, 2.195 and three steps apart at most 1.833: the nearest is
     // 6.8/3.3 = 2.0606 (derived by hand from the IEC 60063 table), a gain error of +2.02 %.
-    const Design d = parse(nonInverting(R"({"gain": ["2.9", "3.1"]})"));
+    const Design d = parseOrFail(nonInverting(R"({"gain": ["2.9", "3.1"]})"));
     auto r = suggestValues(d, twoResistors());
     ASSERT_TRUE(r.ok()) << r.errorText();
     ASSERT_FALSE(r->suggestions.empty());
@@ -89,7 +85,7 @@ TEST(Suggest, BestPairWhenNoRatioIsExact)
 
 TEST(Suggest, UnreachableTargetsAreFlagged)
 {
-    const Design far = parse(nonInverting(R"({"gain": ["999", "1001"]})"));
+    const Design far = parseOrFail(nonInverting(R"({"gain": ["999", "1001"]})"));
     auto r = suggestValues(far, twoResistors());
     ASSERT_TRUE(r.ok()) << r.errorText();
     EXPECT_FALSE(r->targetsMet);
@@ -100,7 +96,7 @@ TEST(Suggest, UnreachableTargetsAreFlagged)
 
     // A one-pole loop has about 90 degrees of phase margin: 120 is out of reach.
     const Design margin
-        = parse(nonInverting(R"({"gain": ["2.9", "3.2"], "phase_margin_min_deg": 120})"));
+        = parseOrFail(nonInverting(R"({"gain": ["2.9", "3.2"], "phase_margin_min_deg": 120})"));
     auto m = suggestValues(margin, twoResistors());
     ASSERT_TRUE(m.ok()) << m.errorText();
     EXPECT_FALSE(m->targetsMet);
@@ -110,7 +106,7 @@ TEST(Suggest, UnreachableTargetsAreFlagged)
 
 TEST(Suggest, ClearErrors)
 {
-    const Design d = parse(nonInverting(R"({"gain": ["2.9", "3.1"]})"));
+    const Design d = parseOrFail(nonInverting(R"({"gain": ["2.9", "3.1"]})"));
     SuggestOptions o = twoResistors();
     o.parts = {"R9"};
     auto unknown = suggestValues(d, o, "t.loopsketch");
@@ -134,7 +130,7 @@ TEST(Suggest, ClearErrors)
     o.parts = {};
     EXPECT_THAT(suggestValues(d, o).errorText(), HasSubstr("at least one part"));
 
-    const Design noWindow = parse(nonInverting(R"({"bandwidth_min": "1k"})"));
+    const Design noWindow = parseOrFail(nonInverting(R"({"bandwidth_min": "1k"})"));
     EXPECT_THAT(suggestValues(noWindow, twoResistors()).errorText(),
                 HasSubstr("needs the specs' gain window"));
 }

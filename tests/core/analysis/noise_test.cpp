@@ -10,6 +10,9 @@
 #include "loopsketch/design/designfile.h"
 #include "loopsketch/report/noisenames.h"
 
+#include "designs.h"
+#include "numeric.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -20,23 +23,12 @@
 #include <vector>
 
 using namespace loopsketch;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
 
 namespace {
 
 constexpr double kPi = std::numbers::pi;
-
-double relErr(double value, double expected)
-{
-    return std::abs(value - expected) / std::abs(expected);
-}
-
-Design parse(const std::string &text)
-{
-    auto d = parseDesign(text, "test.loopsketch");
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return d.ok() ? *d : Design{};
-}
 
 std::string designText(const std::string &parts, const std::string &input,
                        const std::string &extra = {},
@@ -81,7 +73,7 @@ TEST(Noise, ThermalNoiseOfOneKiloOhmAtRoomTemperature)
 // nV/sqrt(Hz), derived from Wikipedia's formula.
 TEST(Noise, TransimpedanceFeedbackResistorAtLowFrequency)
 {
-    const Design d = parse(designText(
+    const Design d = parseOrFail(designText(
         R"({"id": "I1", "type": "isource", "to": "n", "from": "0"},
            {"id": "U1", "type": "gain_block", "in_p": "0", "in_n": "n", "out": "out",
             "gain": "1e7", "gbw": "100M"},
@@ -121,7 +113,7 @@ TEST(Noise, VoltageNoiseTimesNoiseGain)
                    {"id": "RG", "type": "resistor", "a": "in", "b": "m", "value": "1k"},
                    {"id": "RB", "type": "resistor", "a": "P", "b": "0", "value": "1"})";
     for (const std::string &parts : {nonInverting, inverting}) {
-        const Design d = parse(designText(parts, "V1"));
+        const Design d = parseOrFail(designText(parts, "V1"));
         auto n = analyzeNoise(d);
         ASSERT_TRUE(n.ok()) << n.errorText();
         const NoiseContribution *en = find(*n, "U1:en");
@@ -143,7 +135,7 @@ TEST(Noise, SinglePoleEquivalentNoiseBandwidth)
 {
     const double r = 10e3, c = 1.6e-9;
     const double fc = 1.0 / (2 * kPi * r * c);
-    const Design d = parse(designText(
+    const Design d = parseOrFail(designText(
         R"({"id": "V1", "type": "vsource", "pos": "P", "neg": "0", "r_series": "10k"},
            {"id": "C1", "type": "capacitor", "a": "P", "b": "0", "value": "1.6n"},
            {"id": "U1", "type": "gain_block", "in_p": "P", "in_n": "out", "out": "out",
@@ -228,7 +220,7 @@ TEST(Noise, AdjointMatchesOneForwardSolvePerSource)
 // Uncorrelated sources add in power (the basic rule of noise analysis, common practice).
 TEST(Noise, ContributionsAddInPower)
 {
-    const Design d = parse(designText(
+    const Design d = parseOrFail(designText(
         R"({"id": "V1", "type": "vsource", "pos": "in", "neg": "0", "r_series": "600"},
            {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "m", "out": "out",
             "gain": "100dB", "gbw": "10M", "r_in": "10M", "r_out": "75",
@@ -269,7 +261,7 @@ TEST(Noise, DesignFileTemperatureAndNoiseFields)
              {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "out", "out": "out",
               "gain": "1e5", "en": "4n5", "in_corner_hz": "1k", "in": "0.5p"},
              {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1k"})";
-    const Design plain = parse(designText(parts, "V1"));
+    const Design plain = parseOrFail(designText(parts, "V1"));
     EXPECT_FALSE(plain.temperature);
     EXPECT_NEAR(plain.temperatureK(), 298.15, 1e-12);
     const Part *u1 = plain.findPart("U1");
@@ -278,7 +270,7 @@ TEST(Noise, DesignFileTemperatureAndNoiseFields)
     EXPECT_NEAR(u1->number("in"), 0.5e-12, 1e-24);
     EXPECT_NEAR(u1->number("en_corner_hz"), 0.0, 1e-300);
 
-    const Design celsius = parse(designText(parts, "V1", R"(, "temperature": "25 °C")"));
+    const Design celsius = parseOrFail(designText(parts, "V1", R"(, "temperature": "25 °C")"));
     EXPECT_NEAR(celsius.temperatureK(), 298.15, 1e-12);
     const std::string saved = serializeDesign(celsius);
     EXPECT_THAT(saved, HasSubstr(R"("temperature": "25 °C")"));
@@ -286,8 +278,8 @@ TEST(Noise, DesignFileTemperatureAndNoiseFields)
     auto again = parseDesign(saved);
     ASSERT_TRUE(again.ok()) << again.errorText();
     EXPECT_EQ(serializeDesign(*again), saved);
-    EXPECT_NEAR(parse(designText(parts, "V1", R"(, "temperature": "77K")")).temperatureK(), 77.0,
-                1e-12);
+    EXPECT_NEAR(parseOrFail(designText(parts, "V1", R"(, "temperature": "77K")")).temperatureK(),
+                77.0, 1e-12);
     // the old files carry no temperature line
     EXPECT_THAT(serializeDesign(plain), ::testing::Not(HasSubstr("temperature")));
 
@@ -428,7 +420,7 @@ TEST(Noise, GainBlockResistancesAreNoiseless)
     const double expected = std::sqrt(4 * k * t * rf + 4 * k * t * rf * rf / rsh);
     for (const char *rIn : {"1M", "1T"}) {
         const Design d
-            = parse(designText(tiaParts(std::string(R"(, "r_in": ")") + rIn + "\""), "PD1"));
+            = parseOrFail(designText(tiaParts(std::string(R"(, "r_in": ")") + rIn + "\""), "PD1"));
         auto n = analyzeNoise(d);
         ASSERT_TRUE(n.ok()) << n.errorText();
         for (const NoiseContribution &c : n->contributions) {
@@ -454,7 +446,7 @@ TEST(Noise, ShotNoiseOfADirectCurrent)
 
     // In the TIA the shot noise current flows through RF: 1.2658 pA x 200 kOhm at low
     // frequency (the ideal transimpedance relation, common practice), named "PD1 shot".
-    const Design d = parse(designText(tiaParts("", R"(, "i_dc": "5u")"), "PD1"));
+    const Design d = parseOrFail(designText(tiaParts("", R"(, "i_dc": "5u")"), "PD1"));
     auto n = analyzeNoise(d);
     ASSERT_TRUE(n.ok()) << n.errorText();
     const NoiseContribution *shot = find(*n, "PD1:shot");
@@ -472,7 +464,7 @@ TEST(Noise, TransimpedanceDensityAgainstTheClosedForm)
 {
     const double k = 1.380649e-23, q = 1.602176634e-19, t = 298.15;
     const double rf = 200e3, rsh = 1e9, en = 6e-9, fc = 100, in = 1e-15, idc = 2e-9;
-    const Design d = parse(
+    const Design d = parseOrFail(
         designText(tiaParts(R"(, "c_in": "5p", "en": "6n", "en_corner_hz": "100", "in": "1f")",
                             R"(, "i_dc": "2n")"),
                    "PD1"));
@@ -507,7 +499,7 @@ TEST(Noise, InputCapacitancesCountInTheVoltageNoiseGain)
                           Case{5e-12, 3e-12, R"("c_in": "5p", "c_cm": "3p")"}}) {
         const double cin = c.cin, ccm = c.ccm;
         const std::string extra = std::string(R"(, "en": "6n", )") + c.text;
-        const Design d = parse(designText(tiaParts(extra, {}, "0"), "PD1"));
+        const Design d = parseOrFail(designText(tiaParts(extra, {}, "0"), "PD1"));
         auto n = analyzeNoise(d);
         ASSERT_TRUE(n.ok()) << n.errorText();
         for (std::size_t i = 0; i < n->frequenciesHz.size(); i += 20) {
@@ -529,7 +521,7 @@ TEST(Noise, InputCapacitancesCountInTheVoltageNoiseGain)
 // follower with c_cm = 1 nF: the input pin's node is a single pole at 1 / (2 pi 10k 1n).
 TEST(Noise, CommonModeCapacitanceLoadsTheCircuit)
 {
-    const Design d = parse(designText(
+    const Design d = parseOrFail(designText(
         R"({"id": "V1", "type": "vsource", "pos": "P", "neg": "0", "r_series": "10k"},
            {"id": "U1", "type": "gain_block", "in_p": "P", "in_n": "out", "out": "out",
             "gain": "1e7", "c_cm": "1n"},
@@ -572,7 +564,7 @@ TEST(Noise, DefaultBandDoesNotMoveWithTheSweepStop)
 // not converge; the band then ends at the sweep stop and says so (issue 12).
 TEST(Noise, FlatDensityEndsTheBandAtTheSweepStop)
 {
-    const Design d = parse(designText(
+    const Design d = parseOrFail(designText(
         R"({"id": "V1", "type": "vsource", "pos": "P", "neg": "0", "r_series": "1k"},
            {"id": "U1", "type": "gain_block", "in_p": "P", "in_n": "out", "out": "out",
             "gain": "1e5", "gbw": "1M", "r_out": "100"},
@@ -597,7 +589,7 @@ TEST(Noise, DesignFileNoiseBandCommonModeCapacitanceAndDcCurrent)
 {
     const std::string text = designText(tiaParts(R"(, "c_cm": "2p")", R"(, "i_dc": "5.002uA")"),
                                         "PD1", R"(, "noise_band": ["1", "1M"])");
-    const Design d = parse(text);
+    const Design d = parseOrFail(text);
     ASSERT_TRUE(d.noiseBand);
     EXPECT_NEAR(d.noiseBand->low.si, 1.0, 1e-12);
     EXPECT_NEAR(d.noiseBand->high.si, 1e6, 1e-6);
@@ -630,8 +622,8 @@ TEST(Noise, DesignFileNoiseBandCommonModeCapacitanceAndDcCurrent)
 TEST(Noise, CommonModeCapacitanceAtAGroundedInputActsLikeInputCapacitance)
 {
     const Design cm
-        = parse(designText(tiaParts(R"(, "en": "6n", "c_in": "5p", "c_cm": "3p")"), "PD1"));
-    const Design diff = parse(designText(tiaParts(R"(, "en": "6n", "c_in": "8p")"), "PD1"));
+        = parseOrFail(designText(tiaParts(R"(, "en": "6n", "c_in": "5p", "c_cm": "3p")"), "PD1"));
+    const Design diff = parseOrFail(designText(tiaParts(R"(, "en": "6n", "c_in": "8p")"), "PD1"));
     auto a = analyze(cm);
     auto b = analyze(diff);
     ASSERT_TRUE(a.ok()) << a.errorText();
@@ -650,7 +642,7 @@ TEST(Noise, CommonModeCapacitanceAtAGroundedInputActsLikeInputCapacitance)
             << a->frequenciesHz[i];
     }
     // and 3 pF more does change the loading at high frequency (the check can fail)
-    const Design less = parse(designText(tiaParts(R"(, "en": "6n", "c_in": "5p")"), "PD1"));
+    const Design less = parseOrFail(designText(tiaParts(R"(, "en": "6n", "c_in": "5p")"), "PD1"));
     auto c = analyze(less);
     ASSERT_TRUE(c.ok()) << c.errorText();
     const std::size_t top = c->frequenciesHz.size() - 1;

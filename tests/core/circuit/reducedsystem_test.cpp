@@ -4,6 +4,8 @@
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "numeric.h"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -12,16 +14,12 @@
 #include <string>
 
 using namespace loopsketch;
+using test::relErr;
 
 namespace {
 
 using cd = std::complex<double>;
 constexpr double kPi = std::numbers::pi;
-
-double relErr(cd a, cd b)
-{
-    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
-}
 
 std::vector<cd> logPoints(double startHz, double stopHz, int count)
 {

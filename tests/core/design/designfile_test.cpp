@@ -8,6 +8,9 @@
 
 #include "malformedcorpus.h"
 
+#include "designs.h"
+#include "files.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -21,23 +24,13 @@
 #include <unistd.h>
 
 using namespace loopsketch;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
 using ::testing::Not;
 
 namespace fs = std::filesystem;
 
 namespace {
-
-using test::kMalformedDir;
-const fs::path kDesignsDir = fs::path(LOOPSKETCH_DESIGNS_DIR);
-
-std::string readBytes(const fs::path &p)
-{
-    std::ifstream in(p, std::ios::binary);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
-}
 
 // The valid design every malformed file was derived from (one change per file).
 constexpr std::string_view kBase = R"({
@@ -64,45 +57,6 @@ std::string replaced(std::string text, std::string_view from, std::string_view t
         text.replace(at, from.size(), to);
     return text;
 }
-
-using test::MalformedCase;
-using test::malformedCases;
-
-std::vector<std::string> exampleDesigns()
-{
-    std::vector<std::string> files;
-    for (const auto &e : fs::directory_iterator(kDesignsDir)) {
-        if (e.path().extension() == ".loopsketch")
-            files.push_back(e.path().filename().string());
-    }
-    std::sort(files.begin(), files.end());
-    return files;
-}
-
-class TempDir
-{
-public:
-    TempDir()
-    {
-        std::string pattern = (fs::temp_directory_path() / "loopsketch-test-XXXXXX").string();
-        m_path = ::mkdtemp(pattern.data());
-    }
-    ~TempDir()
-    {
-        std::error_code ec;
-        fs::permissions(m_path, fs::perms::owner_all, fs::perm_options::add, ec);
-        fs::remove_all(m_path, ec);
-    }
-    const fs::path &path() const { return m_path; }
-    std::size_t entryCount() const
-    {
-        return static_cast<std::size_t>(
-            std::distance(fs::directory_iterator(m_path), fs::directory_iterator()));
-    }
-
-private:
-    fs::path m_path;
-};
 
 } // namespace
 
@@ -208,12 +162,7 @@ TEST_P(ExampleDesign, RoundTripsEqualAndByteIdentical)
 }
 
 INSTANTIATE_TEST_SUITE_P(Resources, ExampleDesign, ::testing::ValuesIn(exampleDesigns()),
-                         [](const auto &row) {
-                             std::string name = row.param.substr(0, row.param.find('.'));
-                             for (char &ch : name)
-                                 ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
-                             return name;
-                         });
+                         [](const auto &row) { return caseName(row.param); });
 
 TEST(DesignFile, FourExamplesIncludingDemo)
 {

@@ -7,6 +7,10 @@
 #include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/design/designfile.h"
 
+#include "designs.h"
+#include "files.h"
+#include "numeric.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -26,6 +30,7 @@
 #include <vector>
 
 using namespace loopsketch;
+using namespace loopsketch::test;
 namespace fs = std::filesystem;
 
 namespace {
@@ -35,17 +40,6 @@ using Matrix3 = std::array<std::array<double, 3>, 3>;
 using Vector3 = std::array<double, 3>;
 
 constexpr double kPi = std::numbers::pi;
-const fs::path kDesignsDir = LOOPSKETCH_DESIGNS_DIR;
-
-double relErr(double value, double expected)
-{
-    return std::abs(value - expected) / std::abs(expected);
-}
-
-double relErr(cd value, cd expected)
-{
-    return std::abs(value - expected) / std::abs(expected);
-}
 
 double det2(double a, double b, double c, double d)
 {
@@ -82,20 +76,6 @@ void printMeasured(const std::string &what, double value, double expected)
 {
     std::cout << "[ measured ] " << what << std::setprecision(12) << ": " << value << " vs "
               << expected << ", rel err " << relErr(value, expected) << "\n";
-}
-
-Design designFrom(std::string_view json)
-{
-    auto d = parseDesign(json, "inline");
-    EXPECT_TRUE(d.ok()) << d.errorText();
-    return d.ok() ? *d : Design{};
-}
-
-Analysis analyzed(const Design &design)
-{
-    auto a = analyze(design);
-    EXPECT_TRUE(a.ok()) << a.errorText();
-    return a.ok() ? *a : Analysis{};
 }
 
 std::string gainBlock(const std::string &inP, const std::string &inN, const std::string &extra)
@@ -168,7 +148,7 @@ struct InvertingStage
 TEST(ExactSolution, InvertingStageWithFiniteGainRinRout)
 {
     const InvertingStage st{600, 10e3, 100e3, 1e6, 100, 2e3, 1e4};
-    const Analysis a = analyzed(designFrom(st.json()));
+    const Analysis a = analyzeOrFail(parseOrFail(st.json()));
     ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
     EXPECT_LT(relErr(*a.exact.gain, st.gain()), 1e-9) << *a.exact.gain << " vs " << st.gain();
     EXPECT_LT(relErr(*a.exact.zIn, st.zIn()), 1e-9) << *a.exact.zIn << " vs " << st.zIn();
@@ -194,14 +174,14 @@ TEST(ExactSolution, InvertingStageWithFiniteGainRinRout)
 TEST(ExactSolution, InvertingStageTextbookLimit)
 {
     const double r1 = 4.7e3, r2 = 47e3, a = 5e3;
-    const Design d = designFrom(
+    const Design d = parseOrFail(
         designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"})",
                     gainBlock("0", "n", R"("gain": 5000)"),
                     R"({"id": "R1", "type": "resistor", "a": "in", "b": "n", "value": "4k7"})",
                     R"({"id": "R2", "type": "resistor", "a": "n", "b": "out", "value": "47k"})",
                     R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1k"})"},
                    "VS"));
-    const Analysis an = analyzed(d);
+    const Analysis an = analyzeOrFail(d);
     ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
     const double gain = -(r2 / r1) / (1 + (1 + r2 / r1) / a);
     const double zIn = r1 + r2 / (1 + a);
@@ -301,7 +281,7 @@ TEST(ExactSolution, NonInvertingStageWithFiniteGainFrancoExample12)
     } cases[] = {{1e2, 9.0909, 1e-4}, {1e4, 9.9900, 1e-4}, {1e6, 9.99990, 1e-5}};
     for (const auto &c : cases) {
         const NonInvertingStage st{0, INFINITY, 0, 2e3, 18e3, 10e3, c.a};
-        const Analysis an = analyzed(designFrom(st.json()));
+        const Analysis an = analyzeOrFail(parseOrFail(st.json()));
         ASSERT_TRUE(an.exact.gain) << "a = " << c.a;
         // Textbook formula A = (1 + R2/R1) / (1 + (1 + R2/R1)/a), exact for this circuit.
         const double closed = 10.0 / (1.0 + 10.0 / c.a);
@@ -323,7 +303,7 @@ TEST(ExactSolution, NonInvertingStageWithFiniteGainFrancoExample12)
 TEST(ExactSolution, NonInvertingStageFrancoExample19a)
 {
     const NonInvertingStage st{0, 2e6, 75, 1e3, 999e3, 1e12, 2e5};
-    const Analysis an = analyzed(designFrom(st.json()));
+    const Analysis an = analyzeOrFail(parseOrFail(st.json()));
     ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
     EXPECT_LT(relErr(*an.exact.gain, st.gainDirect()), 1e-9);
     EXPECT_LT(relErr(*an.exact.zIn, st.zInDirect()), 1e-9);
@@ -344,7 +324,7 @@ TEST(ExactSolution, NonInvertingStageFrancoExample19a)
 TEST(ExactSolution, SeriesShuntSedraSmithExample)
 {
     const NonInvertingStage st{10e3, 100e3, 1e3, 1e3, 1e6, 2e3, 1e4};
-    const Analysis an = analyzed(designFrom(st.json()));
+    const Analysis an = analyzeOrFail(parseOrFail(st.json()));
     ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
     EXPECT_LT(relErr(*an.exact.gain, st.gain()), 1e-9) << *an.exact.gain << " vs " << st.gain();
     EXPECT_LT(relErr(*an.exact.zIn, st.zIn()), 1e-9) << *an.exact.zIn << " vs " << st.zIn();
@@ -366,7 +346,7 @@ TEST(ExactSolution, RcLowPassPoleInsideADesign)
 {
     const double r = 1.5e3, c = 10e-9, a = 1e6;
     const double fp = 1 / (2 * kPi * r * c);
-    Design d = designFrom(
+    Design d = parseOrFail(
         designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"})",
                     R"({"id": "RA", "type": "resistor", "a": "in", "b": "p", "value": "1k5"})",
                     R"({"id": "CA", "type": "capacitor", "a": "p", "b": "0", "value": "10n"})",
@@ -377,7 +357,7 @@ TEST(ExactSolution, RcLowPassPoleInsideADesign)
     d.sweep.start = {fp / 1e3, ""};
     d.sweep.stop = {fp * 1e3, ""};
     d.sweep.pointsPerDecade = 10;
-    const Analysis an = analyzed(d);
+    const Analysis an = analyzeOrFail(d);
     ASSERT_EQ(an.curves.gainExact.size(), an.frequenciesHz.size());
     ASSERT_EQ(an.frequenciesHz.size(), 61u);
     const double g0 = a / (1 + a);
@@ -401,7 +381,7 @@ TEST(ExactSolution, RcLowPassPoleInsideADesign)
 TEST(ExactSolution, SinglePoleGainBlockThreeDbFrequency)
 {
     const double a0 = 2e3, fp = 1.6e3;
-    Design d = designFrom(
+    Design d = parseOrFail(
         designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"})",
                     gainBlock("in", "0", R"("gain": 2000, "poles_hz": ["1.6k"])"),
                     R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"})"},
@@ -409,7 +389,7 @@ TEST(ExactSolution, SinglePoleGainBlockThreeDbFrequency)
     d.sweep.start = {16.0, "16"};
     d.sweep.stop = {160e3, "160k"};
     d.sweep.pointsPerDecade = 25;
-    const Analysis an = analyzed(d);
+    const Analysis an = analyzeOrFail(d);
     ASSERT_EQ(an.curves.gainExact.size(), an.frequenciesHz.size());
     ASSERT_EQ(an.frequenciesHz.size(), 101u);
     for (std::size_t k = 0; k < an.frequenciesHz.size(); ++k) {
@@ -430,13 +410,13 @@ TEST(ExactSolution, SinglePoleGainBlockThreeDbFrequency)
 TEST(ExactSolution, SinglePoleFollowerBandwidthIsPoleTimesOnePlusGain)
 {
     const double a0 = 1e4, fp = 100;
-    Design d = designFrom(
+    Design d = parseOrFail(
         designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"})",
                     gainBlock("in", "out", R"("gain": "80dB", "poles_hz": ["100"])"),
                     R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"})"},
                    "VS"));
     d.sweep.stop = {100e6, "100M"}; // the closed-loop corner lies near 1 MHz
-    const Analysis an = analyzed(d);
+    const Analysis an = analyzeOrFail(d);
     ASSERT_EQ(an.curves.gainExact.size(), an.frequenciesHz.size());
     for (std::size_t k = 0; k < an.frequenciesHz.size(); ++k) {
         const cd ak = a0 / cd(1, an.frequenciesHz[k] / fp);
@@ -458,9 +438,9 @@ TEST(ExactSolution, ImpedancesExcludeSourceResistanceAndLoad)
     otherSource.rs = 50e3;
     InvertingStage otherLoad = base;
     otherLoad.rl = 150;
-    const Analysis a0 = analyzed(designFrom(base.json()));
-    const Analysis aS = analyzed(designFrom(otherSource.json()));
-    const Analysis aL = analyzed(designFrom(otherLoad.json()));
+    const Analysis a0 = analyzeOrFail(parseOrFail(base.json()));
+    const Analysis aS = analyzeOrFail(parseOrFail(otherSource.json()));
+    const Analysis aL = analyzeOrFail(parseOrFail(otherLoad.json()));
     ASSERT_TRUE(a0.exact.zIn && aS.exact.zIn && aL.exact.zIn);
     ASSERT_TRUE(a0.exact.zOut && aS.exact.zOut && aL.exact.zOut);
     // z_in closed form without Rs: R1 + (node n seen through R1) -- the same for any Rs.
@@ -493,14 +473,14 @@ TEST(ExactSolution, CurrentSourceParallelResistanceIsExcludedFromZin)
         std::ostringstream os;
         os.precision(17);
         os << rp;
-        const Design d = designFrom(designJson(
+        const Design d = parseOrFail(designJson(
             {R"({"id": "IS", "type": "isource", "to": "in", "from": "0", "r_parallel": )" + os.str()
                  + "}",
              gainBlock("0", "in", R"("gain": 30000, "r_in": "1M", "r_out": "50")"),
              R"({"id": "RF", "type": "resistor", "a": "in", "b": "out", "value": "100k"})",
              R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "5k"})"},
             "IS"));
-        const Analysis an = analyzed(d);
+        const Analysis an = analyzeOrFail(d);
         ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
         EXPECT_EQ(an.gainUnit, "V/A");
         const double g12 = -1 / rf, g21 = -1 / rf + a / rout;
@@ -626,16 +606,6 @@ const std::map<std::string, std::function<DcValues()>> &exampleClosedForms()
     return forms;
 }
 
-std::vector<std::string> exampleDesigns()
-{
-    std::vector<std::string> files;
-    for (const auto &e : fs::directory_iterator(kDesignsDir))
-        if (e.path().extension() == ".loopsketch")
-            files.push_back(e.path().filename().string());
-    std::sort(files.begin(), files.end());
-    return files;
-}
-
 class ExampleExact : public ::testing::TestWithParam<std::string>
 {
 };
@@ -648,7 +618,7 @@ TEST_P(ExampleExact, DcValuesMatchHandDerivedClosedForm)
     const DcValues expected = it->second();
     const auto d = loadDesign((kDesignsDir / GetParam()).string());
     ASSERT_TRUE(d.ok()) << d.errorText();
-    const Analysis an = analyzed(*d);
+    const Analysis an = analyzeOrFail(*d);
     ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
     EXPECT_LT(relErr(*an.exact.gain, expected.gain), 1e-9)
         << std::setprecision(15) << *an.exact.gain << " vs " << expected.gain;
@@ -671,7 +641,7 @@ TEST_P(ExampleExact, FastSweepAgreesWithDenseReference)
 {
     const auto d = loadDesign((kDesignsDir / GetParam()).string());
     ASSERT_TRUE(d.ok()) << d.errorText();
-    const Analysis an = analyzed(*d);
+    const Analysis an = analyzeOrFail(*d);
     const std::vector<double> &f = an.frequenciesHz;
     ASSERT_FALSE(f.empty());
     ASSERT_EQ(an.curves.gainExact.size(), f.size());
@@ -716,12 +686,7 @@ TEST_P(ExampleExact, FastSweepAgreesWithDenseReference)
 }
 
 INSTANTIATE_TEST_SUITE_P(Resources, ExampleExact, ::testing::ValuesIn(exampleDesigns()),
-                         [](const auto &row) {
-                             std::string name = row.param.substr(0, row.param.find('.'));
-                             for (char &ch : name)
-                                 ch = std::isalnum(static_cast<unsigned char>(ch)) ? ch : 'X';
-                             return name;
-                         });
+                         [](const auto &row) { return caseName(row.param); });
 
 TEST(ExactSolution, EveryExampleHasAClosedForm)
 {

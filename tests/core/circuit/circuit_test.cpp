@@ -4,6 +4,8 @@
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "numeric.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
@@ -14,17 +16,13 @@
 #include <random>
 
 using namespace loopsketch;
+using test::relErr;
 using ::testing::HasSubstr;
 
 namespace {
 
 constexpr double kPi = std::numbers::pi;
 using cd = std::complex<double>;
-
-double relErr(cd a, cd b)
-{
-    return std::abs(a - b) / std::max(std::abs(b), 1e-300);
-}
 
 DescriptorSystem assembleOrDie(const Netlist &n)
 {

@@ -1,0 +1,23 @@
+#pragma once
+
+// Numeric comparisons the tests share: relative errors of real and complex values.
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+
+namespace loopsketch::test {
+
+/// |value - expected| / |expected|; an exact zero expected is compared against 1e-300, so a
+/// zero found for a zero expected is no error and anything else a huge one.
+inline double relErr(double value, double expected)
+{
+    return std::abs(value - expected) / std::max(std::abs(expected), 1e-300);
+}
+
+inline double relErr(std::complex<double> value, std::complex<double> expected)
+{
+    return std::abs(value - expected) / std::max(std::abs(expected), 1e-300);
+}
+
+} // namespace loopsketch::test
