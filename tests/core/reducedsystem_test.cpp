@@ -4,6 +4,8 @@
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "detail/pencilsweep.h"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -116,7 +118,7 @@ void expectEveryWidthMatchesDenseLu(const Netlist &netlist, int expectedOrder,
     const auto reference = dense->sweepEntries(s, entries);
     int widthsRun = 0;
     for (SweepWidth width : {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
-        if (!sweepWidthAvailable(width))
+        if (!detail::sweepWidthAvailable(width))
             continue;
         ++widthsRun;
         const TransferEntry row[] = {{0, 0}, {0, 1}};

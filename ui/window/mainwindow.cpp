@@ -17,6 +17,7 @@
 #include "window/designdocument.h"
 #include "window/exportactions.h"
 
+#include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/designfile.h"
 
 #include <QAction>

@@ -4,6 +4,7 @@
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/designvalidation.h"
 #include "loopsketch/design/partlimits.h"
 #include "loopsketch/feedback/metrics.h"
 
@@ -20,6 +21,14 @@ namespace loopsketch {
 namespace {
 
 constexpr double kSensitivityStep = 1e-6; // relative, central difference
+
+/// A DC value that exists only when finite.
+OptionalNumber finiteOrNone(double value)
+{
+    if (!std::isfinite(value))
+        return std::nullopt;
+    return value;
+}
 
 OptionalNumber realPart(std::complex<double> v)
 {

@@ -2,7 +2,9 @@
 
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/base/value.h"
+#include "loopsketch/design/designvalidation.h"
 
+#include "detail/parallel.h"
 #include "report/jsonnumber.h"
 
 #include <nlohmann/json.hpp>

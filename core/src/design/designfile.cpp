@@ -5,6 +5,7 @@
 // last of two equal keys), then a walk over the DOM that checks every key and type.
 
 #include "loopsketch/design/designfile.h"
+#include "loopsketch/design/atomicfile.h"
 
 #include "base/utf8text.h"
 

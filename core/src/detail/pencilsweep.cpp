@@ -536,10 +536,6 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
     sweepAnyOrder<Baseline>(pencil, k, points, entries, plan, out);
 }
 
-} // namespace loopsketch::detail
-
-namespace loopsketch {
-
 bool sweepWidthAvailable(SweepWidth width)
 {
 #ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
@@ -558,4 +554,4 @@ bool sweepWidthAvailable(SweepWidth width)
 #endif
 }
 
-} // namespace loopsketch
+} // namespace loopsketch::detail

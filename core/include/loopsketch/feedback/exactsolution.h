@@ -3,18 +3,11 @@
 // The exact solution: the full circuit solved as it stands (core/README.md §4). LoopModel
 // computes it; this holds its DC values and curves.
 
-#include "loopsketch/base/result.h"
-#include "loopsketch/design/design.h"
-
 #include <complex>
 #include <optional>
-#include <string>
 #include <vector>
 
 namespace loopsketch {
-
-/// "V/V", "V/A", "A/A" or "A/V": output over the signal source's value.
-std::string gainUnit(const Design &design);
 
 struct ExactSolution
 {
@@ -26,8 +19,5 @@ struct ExactSolution
     std::vector<std::complex<double>> zInSweep;
     std::vector<std::complex<double>> zOutSweep;
 };
-
-/// A DC value that exists only when finite.
-std::optional<double> finiteOrNone(double value);
 
 } // namespace loopsketch
