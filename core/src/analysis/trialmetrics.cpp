@@ -5,46 +5,19 @@
 #include "loopsketch/circuit/reducedsystem.h"
 #include "loopsketch/feedback/metrics.h"
 
+#include "detail/phase.h"
+#include "detail/rootfinder.h"
+
 #include <algorithm>
 #include <cmath>
-#include <numbers>
 
 namespace loopsketch {
 
 namespace {
 
-constexpr double kPi = std::numbers::pi;
-constexpr int kBisectionSteps = 60;
-constexpr double kBisectionTolerance = 1e-10; // relative, in frequency
-
-std::complex<double> jw(double hz)
-{
-    return {0.0, 2.0 * kPi * hz};
-}
-
-template<typename F> double bisectLog(F f, double lo, double hi)
-{
-    double flo = f(lo);
-    for (int i = 0; i < kBisectionSteps && hi / lo - 1.0 > kBisectionTolerance; ++i) {
-        const double mid = std::sqrt(lo * hi);
-        const double fm = f(mid);
-        if (!std::isfinite(fm))
-            break;
-        if ((fm < 0) == (flo < 0)) {
-            lo = mid;
-            flo = fm;
-        } else {
-            hi = mid;
-        }
-    }
-    return std::sqrt(lo * hi);
-}
-
-double phaseNear(std::complex<double> v, double reference)
-{
-    const double p = std::arg(v);
-    return p + 2.0 * kPi * std::round((reference - p) / (2.0 * kPi));
-}
+using detail::jw;
+using detail::logRoot;
+using detail::phaseNear;
 
 Result<ReducedSystem> reduce(const Design &design, const LoopCircuitOptions &options)
 {
@@ -116,8 +89,8 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         const double level = std::abs(g0) / std::sqrt(2.0);
         for (std::size_t i = 0; i + 1 < f.size(); ++i) {
             if (std::abs(gain[i]) >= level && std::abs(gain[i + 1]) < level) {
-                m.bandwidthHz = bisectLog([&](double hz) { return std::abs(gainAt(hz)) - level; },
-                                          f[i], f[i + 1]);
+                m.bandwidthHz = logRoot([&](double hz) { return std::abs(gainAt(hz)) - level; },
+                                        f[i], f[i + 1]);
                 break;
             }
         }
@@ -133,8 +106,8 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
             continue;
         const double fc
-            = bisectLog([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
-        const double pm = 180.0 + phaseNear(loopAt(fc), phase[i]) * 180.0 / kPi;
+            = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
+        const double pm = 180.0 + detail::degrees(phaseNear(loopAt(fc), phase[i]));
         if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
             m.phaseMarginDeg = pm;
     }
