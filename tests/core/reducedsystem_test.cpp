@@ -4,7 +4,7 @@
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
-#include "detail/pencilsweep.h"
+#include "circuit/pencilsweep.h"
 
 #include <gtest/gtest.h>
 

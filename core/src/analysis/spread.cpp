@@ -4,8 +4,8 @@
 #include "loopsketch/base/value.h"
 #include "loopsketch/design/designvalidation.h"
 
+#include "base/jsonnumber.h"
 #include "detail/parallel.h"
-#include "report/jsonnumber.h"
 
 #include <nlohmann/json.hpp>
 

@@ -1,9 +1,9 @@
 #include "loopsketch/circuit/reducedsystem.h"
 
-#include "loopsketch/feedback/stepmodel.h"
+#include "loopsketch/circuit/stepmodel.h"
 
+#include "circuit/pencilsweep.h"
 #include "circuit/refinedsolve.h"
-#include "detail/pencilsweep.h"
 
 #include "loopsketch/base/value.h"
 

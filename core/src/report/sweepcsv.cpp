@@ -3,8 +3,8 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/report/noisenames.h"
 
+#include "base/jsonnumber.h"
 #include "detail/phase.h"
-#include "report/jsonnumber.h"
 
 #include <cctype>
 #include <cmath>

@@ -1,4 +1,4 @@
-#include "detail/pencilsweep.h"
+#include "circuit/pencilsweep.h"
 
 #include <algorithm>
 #include <cmath>
