@@ -184,7 +184,7 @@ TEST(ReducedSweep, RowsInDifferentUnitsKeepFullAccuracyAtEveryWidth)
     const TransferEntry entry[] = {{0, 0}};
     for (SweepWidth width :
          {SweepWidth::Automatic, SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
-        if (!sweepWidthAvailable(width))
+        if (!detail::sweepWidthAvailable(width))
             continue;
         const std::vector<cd> x = reduced->sweepEntries(s, entry, width);
         for (std::size_t i = 0; i < s.size(); ++i) {
