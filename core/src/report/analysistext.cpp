@@ -47,8 +47,7 @@ public:
         if (!v || std::isnan(*v)) {
             m_os << "\u2014\n"; // the quantity does not exist
         } else if (std::isinf(*v)) {
-            m_os << (*v > 0 ? "\u221E" : "-\u221E") << (unit == "ratio" ? "" : " " + unit)
-                 << "\n";
+            m_os << (*v > 0 ? "\u221E" : "-\u221E") << (unit == "ratio" ? "" : " " + unit) << "\n";
         } else if (unit == "ratio") {
             // A pure ratio (loop gain): no unit, named as such, with its decibels.
             std::ostringstream db;
@@ -165,8 +164,7 @@ void writeStabilityAndMargins(std::ostringstream &os, TextLines &out, const Anal
         pole << formatEngineering(p.s.real(), 5, "") << (p.s.imag() < 0 ? " - j" : " + j")
              << formatEngineering(std::abs(p.s.imag()), 5, "") << " rad/s ("
              << formatEngineering(p.naturalHz, 5, "Hz") << ")";
-        out.row(p.s.real() > 0 ? "  right-half-plane pole" : "  pole on the jw axis",
-                pole.str());
+        out.row(p.s.real() > 0 ? "  right-half-plane pole" : "  pole on the jw axis", pole.str());
     }
     out.show("desensitivity 1+T", a.desensitivityDb, "dB");
     out.frequency("loop crossover", a.margins.crossoverHz);
