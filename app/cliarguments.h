@@ -25,7 +25,8 @@ struct CliOptions
     std::string svgDir;
     std::string pngDir;
     bool letter = false;
-    int spreadTrials = 2000; ///< export: Monte Carlo trials on the sheet, 0 = no spread section
+    int spreadTrials = kDefaultMonteCarloTrials; ///< export: Monte Carlo trials on the sheet, 0 =
+                                                 ///< no spread section
     std::uint64_t spreadSeed = 1;
     SpreadOptions spread;
     SuggestOptions suggest;

@@ -4,6 +4,7 @@
 // display. Built only with the GUI (LOOPSKETCH_HAVE_GUI).
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/spread.h"
 #include "loopsketch/base/result.h"
 #include "loopsketch/design/design.h"
 
@@ -24,7 +25,7 @@ struct ExportRequest
     bool letter = false; ///< US Letter instead of A4
     /// Monte Carlo trials of the sheet's spread section, run when the design has toleranced
     /// parts; 0 leaves the section out.
-    int spreadTrials = 2000; ///< ui::kSheetSpreadTrials
+    int spreadTrials = kDefaultMonteCarloTrials;
     std::uint64_t spreadSeed = 1; ///< ui::kSheetSpreadSeed
 };
 

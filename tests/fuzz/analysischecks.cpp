@@ -276,7 +276,7 @@ void checkScalars(const Analysis &a, Checker &c)
 void checkCurves(const Analysis &a, Checker &c)
 {
     const auto &f = a.frequenciesHz;
-    const AnalysisCurves &k = a.curves;
+    const LoopCurves &k = a.curves;
     // Always there: the full circuit and its return ratio exist at every frequency off the
     // circuit's natural frequencies, which a random design never puts on the grid.
     c.curve("gain_exact", k.gainExact, f, false);
@@ -445,7 +445,7 @@ void checkIdentities(const Design &design, const Analysis &a, SolverPath path, C
     for (std::size_t i = 0; i < n; ++i)
         s[i + 1] = {0.0, 2.0 * std::numbers::pi * a.frequenciesHz[i]};
     const LoopCurves m = model->sweep(s);
-    const AnalysisCurves &k = a.curves;
+    const LoopCurves &k = a.curves;
     const auto pick = [&](const Curve &curve, std::size_t j, const std::optional<double> &dc) {
         if (j == 0)
             return dc ? Complex(*dc) : Complex(NAN, NAN);

@@ -13,6 +13,7 @@
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
+#include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/designfile.h"
 
 #include <QApplication>

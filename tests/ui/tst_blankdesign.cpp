@@ -24,6 +24,7 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/candidate.h"
 #include "loopsketch/design/designfile.h"
+#include "loopsketch/design/designvalidation.h"
 
 #include <QAction>
 #include <QApplication>

@@ -409,7 +409,7 @@ TEST_F(CandidatesTest, NoiseRowsShowCoreRmsOfEachColumn)
     const QStringList columns = panel()->columnNames();
     std::vector<Analysis> analyses{coreAnalysis(design)};
     for (const Candidate &c : design.candidates)
-        analyses.push_back(coreAnalysis(applied(design, c)));
+        analyses.push_back(coreAnalysis(withCandidateByHand(design, c)));
     const NoiseUnits units = noiseUnits(analyses[0].gainUnit);
     for (std::size_t i = 0; i < analyses.size(); ++i) {
         ASSERT_TRUE(analyses[i].noise && analyses[i].noise->outputRms);
@@ -524,7 +524,7 @@ TEST_F(CandidatesTest, StepAndPolesOverlayEachCandidate)
         return nullptr;
     };
     const Design design = doc()->design();
-    const Analysis fast = coreAnalysis(applied(design, candidateNamed(design, "Fast")));
+    const Analysis fast = coreAnalysis(withCandidateByHand(design, candidateNamed(design, "Fast")));
     const Analysis current = coreAnalysis(design);
 
     // Step: the candidate's own response, in the current design's time and output scale.

@@ -48,7 +48,7 @@ public:
     /// The table's columns.
     enum class Column { Nominal, WorstMin, WorstMax, Min, Mean, Max, Std };
 
-    static constexpr int kDefaultTrials = 2000;
+    static constexpr int kDefaultTrials = kDefaultMonteCarloTrials;
     static constexpr std::uint64_t kDefaultSeed = 1;
 
     explicit SpreadPanel(DesignDocument *document, QWidget *parent = nullptr);

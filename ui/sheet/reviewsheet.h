@@ -30,7 +30,7 @@ struct SheetSpread
 
 /// The spread a sheet carries when no run is given: Monte Carlo trials and seed (uniform over
 /// each part's tolerance, no gain block spread), the defaults of `loopsketch export`.
-inline constexpr int kSheetSpreadTrials = 2000;
+inline constexpr int kSheetSpreadTrials = kDefaultMonteCarloTrials;
 inline constexpr std::uint64_t kSheetSpreadSeed = 1;
 
 /// Worst case and Monte Carlo of `design` for the sheet with `trials` and `seed`. Sets `out`

@@ -438,7 +438,7 @@ std::vector<Series> loopGainPlot(QPainter &p, const PlotFrame &f, const Analysis
 /// One panel of curves over frequency: the design's, then each candidate's.
 std::vector<Series> frequencyPlot(
     QPainter &p, const PlotFrame &f, const Analysis &a, const std::vector<SheetOverlay> &overlays,
-    const std::vector<std::pair<PlotCurve, const Curve AnalysisCurves::*>> &curves, bool logOhm)
+    const std::vector<std::pair<PlotCurve, const Curve LoopCurves::*>> &curves, bool logOhm)
 {
     std::vector<Series> series;
     const auto add = [&](const Analysis &from, PlotCurve curve, const Curve &c, int overlay,
@@ -587,12 +587,12 @@ std::vector<Series> plotSeries(QPainter &p, const PlotFrame &f, SheetPlot plot, 
         return loopGainPlot(p, f, a, overlays);
     case SheetPlot::Impedance:
         return frequencyPlot(p, f, a, overlays,
-                             {{PlotCurve::ZIn, &AnalysisCurves::zInExact},
-                              {PlotCurve::ZOut, &AnalysisCurves::zOutExact}},
+                             {{PlotCurve::ZIn, &LoopCurves::zInExact},
+                              {PlotCurve::ZOut, &LoopCurves::zOutExact}},
                              true);
     case SheetPlot::Desensitivity:
         return frequencyPlot(p, f, a, overlays,
-                             {{PlotCurve::Desensitivity, &AnalysisCurves::desensitivity}}, false);
+                             {{PlotCurve::Desensitivity, &LoopCurves::desensitivity}}, false);
     case SheetPlot::Step:
         return stepPlot(p, f, a, overlays);
     case SheetPlot::Noise:

@@ -18,6 +18,7 @@
 #include "window/exportactions.h"
 #include "window/partclipboard.h"
 
+#include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/designfile.h"
 
 #include <QAction>

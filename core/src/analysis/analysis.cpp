@@ -5,6 +5,7 @@
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/loopcircuit.h"
+#include "loopsketch/design/designvalidation.h"
 #include "loopsketch/design/partlimits.h"
 
 #include "analysis/noisesweep.h"
@@ -20,6 +21,14 @@ namespace loopsketch {
 namespace {
 
 constexpr double kSensitivityStep = 1e-6; // relative, central difference
+
+/// A DC value that exists only when finite.
+OptionalNumber finiteOrNone(double value)
+{
+    if (!std::isfinite(value))
+        return std::nullopt;
+    return value;
+}
 
 OptionalNumber realPart(std::complex<double> v)
 {
@@ -118,6 +127,50 @@ std::map<std::string, double> computeSensitivity(const Design &design, double ga
     return out;
 }
 
+/// The DC summaries of the three methods (exact, return ratio, two-port) and the
+/// desensitivity into `a`; returns every quantity at DC.
+LoopPoint summariseDc(const LoopModel &model, Analysis &a)
+{
+    const LoopPoint dc = model.at(0.0);
+    a.exact.gain = realPart(dc.gainExact);
+    // Only when an impedance has no finite DC value: is it infinite (an open node) or absent?
+    const bool openAtDc = !std::isfinite(dc.zInExact.real()) || !std::isfinite(dc.zOutExact.real())
+        || !std::isfinite(dc.zInReturnRatio.real()) || !std::isfinite(dc.zOutReturnRatio.real())
+        || !std::isfinite(dc.zInTwoPort.real()) || !std::isfinite(dc.zOutTwoPort.real());
+    const std::complex<double> twoPi(0.0, 2.0 * std::numbers::pi);
+    const LoopPoint low = openAtDc ? model.at(twoPi * 1e-6) : dc;
+    const LoopPoint lower = openAtDc ? model.at(twoPi * 1e-9) : dc;
+    const auto z = [&](std::complex<double> LoopPoint::*m) {
+        return dcImpedance(dc.*m, low.*m, lower.*m);
+    };
+    a.exact.zIn = z(&LoopPoint::zInExact);
+    a.exact.zOut = z(&LoopPoint::zOutExact);
+    a.returnRatio = {realPart(dc.loopGain),         realPart(dc.gainInf),
+                     realPart(dc.feedthrough),      realPart(dc.gainReturnRatio),
+                     z(&LoopPoint::zInReturnRatio), z(&LoopPoint::zOutReturnRatio)};
+    if (model.hasTwoPort()) {
+        TwoPortSummary t;
+        t.a = realPart(dc.a);
+        t.beta = realPart(dc.beta);
+        t.loopGain = realPart(dc.loopGainTwoPort);
+        t.closedLoop = realPart(dc.closedLoop);
+        t.gain = realPart(dc.gainTwoPort);
+        t.zIn = z(&LoopPoint::zInTwoPort);
+        t.zOut = z(&LoopPoint::zOutTwoPort);
+        t.gainErrorPct = errorPct(t.gain, a.exact.gain);
+        t.zInErrorPct = errorPct(t.zIn, a.exact.zIn);
+        t.zOutErrorPct = errorPct(t.zOut, a.exact.zOut);
+        t.inputLoading = realPart(dc.inputLoading);
+        t.outputLoading = realPart(dc.outputLoading);
+        t.inputLoadingDb = decibels(t.inputLoading);
+        t.outputLoadingDb = decibels(t.outputLoading);
+        a.twoPort = t;
+    }
+    if (a.returnRatio.loopGain)
+        a.desensitivityDb = decibels(1.0 + *a.returnRatio.loopGain);
+    return dc;
+}
+
 } // namespace
 
 Result<Analysis> analyze(const Design &design, std::string_view file,
@@ -146,73 +199,14 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     a.topologyReason = model.topology().reason;
     a.twoPortProblem = model.twoPortProblem();
 
-    const LoopPoint dc = model.at(0.0);
-    a.exact.gain = realPart(dc.gain);
-    // Only when an impedance has no finite DC value: is it infinite (an open node) or absent?
-    const bool openAtDc = !std::isfinite(dc.zIn.real()) || !std::isfinite(dc.zOut.real())
-        || !std::isfinite(dc.rrZIn.real()) || !std::isfinite(dc.rrZOut.real())
-        || !std::isfinite(dc.tpZIn.real()) || !std::isfinite(dc.tpZOut.real());
-    const std::complex<double> twoPi(0.0, 2.0 * std::numbers::pi);
-    const LoopPoint low = openAtDc ? model.at(twoPi * 1e-6) : dc;
-    const LoopPoint lower = openAtDc ? model.at(twoPi * 1e-9) : dc;
-    const auto z = [&](std::complex<double> LoopPoint::*m) {
-        return dcImpedance(dc.*m, low.*m, lower.*m);
-    };
-    a.exact.zIn = z(&LoopPoint::zIn);
-    a.exact.zOut = z(&LoopPoint::zOut);
-    a.returnRatio = {realPart(dc.loopGain), realPart(dc.gainInf), realPart(dc.feedthrough),
-                     realPart(dc.rrGain),   z(&LoopPoint::rrZIn), z(&LoopPoint::rrZOut)};
-    if (model.hasTwoPort()) {
-        TwoPortSummary t;
-        t.a = realPart(dc.a);
-        t.beta = realPart(dc.beta);
-        t.loopGain = realPart(dc.tpLoopGain);
-        t.closedLoop = realPart(dc.closedLoop);
-        t.gain = realPart(dc.tpGain);
-        t.zIn = z(&LoopPoint::tpZIn);
-        t.zOut = z(&LoopPoint::tpZOut);
-        t.gainErrorPct = errorPct(t.gain, a.exact.gain);
-        t.zInErrorPct = errorPct(t.zIn, a.exact.zIn);
-        t.zOutErrorPct = errorPct(t.zOut, a.exact.zOut);
-        t.inputLoading = realPart(dc.inputLoading);
-        t.outputLoading = realPart(dc.outputLoading);
-        t.inputLoadingDb = decibels(t.inputLoading);
-        t.outputLoadingDb = decibels(t.outputLoading);
-        a.twoPort = t;
-    }
-    if (a.returnRatio.loopGain)
-        a.desensitivityDb = decibels(1.0 + *a.returnRatio.loopGain);
+    const LoopPoint dc = summariseDc(model, a);
 
-    AnalysisCurves &c = a.curves;
+    LoopCurves &c = a.curves;
     const std::size_t n = a.frequenciesHz.size();
     std::vector<Complex> points(n);
     for (std::size_t i = 0; i < n; ++i)
         points[i] = {0.0, 2.0 * std::numbers::pi * a.frequenciesHz[i]};
-    LoopCurves sweep = model.sweep(points);
-    c.gainExact = std::move(sweep.gain);
-    c.zInExact = std::move(sweep.zIn);
-    c.zOutExact = std::move(sweep.zOut);
-    c.loopGain = std::move(sweep.loopGain);
-    c.gainReturnRatio = std::move(sweep.rrGain);
-    c.zInReturnRatio = std::move(sweep.rrZIn);
-    c.zOutReturnRatio = std::move(sweep.rrZOut);
-    c.zInOpenLoop = std::move(sweep.zInOpenLoop);
-    c.zOutOpenLoop = std::move(sweep.zOutOpenLoop);
-    c.a = std::move(sweep.a);
-    c.beta = std::move(sweep.beta);
-    c.loopGainTwoPort = std::move(sweep.tpLoopGain);
-    c.closedLoop = std::move(sweep.closedLoop);
-    c.gainTwoPort = std::move(sweep.tpGain);
-    c.zInTwoPort = std::move(sweep.tpZIn);
-    c.zOutTwoPort = std::move(sweep.tpZOut);
-    c.inputLoading = std::move(sweep.inputLoading);
-    c.outputLoading = std::move(sweep.outputLoading);
-    c.desensitivity.resize(n);
-    for (std::size_t i = 0; i < n; ++i)
-        c.desensitivity[i] = 1.0 + c.loopGain[i];
-    a.exact.gainSweep = c.gainExact;
-    a.exact.zInSweep = c.zInExact;
-    a.exact.zOutSweep = c.zOutExact;
+    c = model.sweep(points);
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
     if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())

@@ -1,5 +1,8 @@
 #include "loopsketch/analysis/metrics.h"
 
+#include "detail/phase.h"
+#include "detail/rootfinder.h"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -11,69 +14,11 @@ namespace loopsketch {
 
 namespace {
 
+using detail::jw;
+using detail::logRoot;
+using detail::phaseNear;
+
 constexpr double kPi = std::numbers::pi;
-constexpr int kBisectionSteps = 60;
-
-std::complex<double> jw(double hz)
-{
-    return {0.0, 2.0 * kPi * hz};
-}
-
-/// Root of f on [lo, hi] (Hz, f(lo) and f(hi) of opposite signs), in log f, to a relative
-/// width of 1e-13. Regula falsi with the Illinois modification: on the smooth curves of one
-/// sweep interval it needs about ten evaluations where halving needs some forty; where four
-/// steps fail to halve the bracket the next one halves it, so it is never much slower.
-template<typename F> double bisectLog(F f, double lo, double hi)
-{
-    double a = std::log(lo), b = std::log(hi);
-    double fa = f(lo), fb = f(hi);
-    if (!std::isfinite(fa) || !std::isfinite(fb) || fa == 0.0 || fb == 0.0
-        || (fa < 0) == (fb < 0)) {
-        // Not a clean bracket: plain halving on the sign of f(lo), as the sweep saw it.
-        for (int i = 0; i < kBisectionSteps && std::exp(b - a) - 1.0 >= 1e-13; ++i) {
-            const double mid = 0.5 * (a + b);
-            const double fm = f(std::exp(mid));
-            if (!std::isfinite(fm))
-                break;
-            if ((fm < 0) == (fa < 0)) {
-                a = mid;
-                fa = fm;
-            } else {
-                b = mid;
-            }
-        }
-        return std::exp(0.5 * (a + b));
-    }
-    int kept = 0; // +1: the lower end moved last time, -1: the upper end
-    double checkpoint = b - a; // bracket width four steps ago
-    for (int i = 0; i < 2 * kBisectionSteps && std::exp(b - a) - 1.0 >= 1e-13; ++i) {
-        const bool halve = i % 4 == 3 && b - a > 0.5 * checkpoint;
-        if (i % 4 == 3)
-            checkpoint = b - a;
-        double x = halve ? 0.5 * (a + b) : (a * fb - b * fa) / (fb - fa);
-        if (!(x > a && x < b))
-            x = 0.5 * (a + b);
-        const double fx = f(std::exp(x));
-        if (!std::isfinite(fx))
-            break;
-        if (fx == 0.0)
-            return std::exp(x);
-        if ((fx < 0) == (fa < 0)) {
-            a = x;
-            fa = fx;
-            if (kept == 1)
-                fb *= 0.5;
-            kept = 1;
-        } else {
-            b = x;
-            fb = fx;
-            if (kept == -1)
-                fa *= 0.5;
-            kept = -1;
-        }
-    }
-    return std::exp(0.5 * (a + b));
-}
 
 /// The frequency (Hz) in [lo, hi] where f is largest, by golden-section search in log f to
 /// a relative width of 1e-12 (f unimodal there: the grid maximum and its neighbours).
@@ -101,13 +46,6 @@ template<typename F> double maximiseLog(F f, double lo, double hi)
     return std::exp(0.5 * (a + b));
 }
 
-/// The phase of v nearest to `reference` (rad), i.e. arg(v) + 2 pi k.
-double phaseNear(std::complex<double> v, double reference)
-{
-    const double p = std::arg(v);
-    return p + 2.0 * kPi * std::round((reference - p) / (2.0 * kPi));
-}
-
 /// unwrapPhase() with each value's magnitude given.
 std::vector<double> unwrapPhaseWith(const Curve &values, const std::vector<double> &magnitudes,
                                     double start)
@@ -133,6 +71,20 @@ std::vector<double> magnitudesOf(const Curve &values)
     for (std::size_t i = 0; i < values.size(); ++i)
         m[i] = std::abs(values[i]);
     return m;
+}
+
+/// A sign change of f(t) between lo and hi (s), refined on the model by illinoisRoot() (about
+/// ten evaluations of the exact response where halving needs fifty) to a relative width of
+/// 1e-14. The middle when f does not change sign there.
+template<typename F> double crossingIn(const F &f, double lo, double hi)
+{
+    const double flo = f(lo), fhi = f(hi);
+    if (!((flo < 0) != (fhi < 0)))
+        return 0.5 * (lo + hi);
+    const auto narrow = [](double a, double b) {
+        return !(b - a > 1e-14 * b);
+    };
+    return detail::illinoisRoot(f, lo, hi, flo, fhi, narrow, 100);
 }
 
 } // namespace
@@ -199,9 +151,9 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
         const double a = magnitude[i], b = magnitude[i + 1];
         if (!usable(a) || !usable(b) || (a < 1.0) == (b < 1.0))
             continue;
-        const double fc = bisectLog(logMag, f[i], f[i + 1]);
+        const double fc = logRoot(logMag, f[i], f[i + 1]);
         const double ph = phaseNear(model.loopGainAt(jw(fc)), phase[i]);
-        const double pm = 180.0 + ph * 180.0 / kPi;
+        const double pm = 180.0 + detail::degrees(ph);
         if (!m.phaseMarginDeg || pm < *m.phaseMarginDeg) {
             m.phaseMarginDeg = pm;
             m.crossoverHz = fc;
@@ -223,7 +175,7 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
             const auto offset = [&](double hz) {
                 return phaseNear(model.loopGainAt(jw(hz)), reference) - target;
             };
-            const double fp = bisectLog(offset, f[i], f[i + 1]);
+            const double fp = logRoot(offset, f[i], f[i + 1]);
             const double gm = -20.0 * std::log10(std::abs(model.loopGainAt(jw(fp))));
             if (std::isfinite(gm))
                 m.gainMargins.push_back({gm, fp});
@@ -271,8 +223,8 @@ OptionalNumber computeBandwidth(const LoopModel &model, const std::vector<double
     for (std::size_t i = 0; i + 1 < f.size(); ++i) {
         const double next = std::abs(gain[i + 1]);
         if (here >= level && next < level) {
-            return bisectLog([&](double hz) { return std::abs(model.gainAt(jw(hz))) - level; },
-                             f[i], f[i + 1]);
+            return logRoot([&](double hz) { return std::abs(model.gainAt(jw(hz))) - level; }, f[i],
+                           f[i + 1]);
         }
         here = next;
     }
@@ -423,39 +375,8 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
     const auto at = [&](std::size_t i) {
         return y[i] / finalValue;
     };
-    // Refines a level crossing of the normalised response between t[i] and t[i + 1] by
-    // bisection on the model.
-    // Refines a level crossing between t[i] and t[i + 1] on the model: regula falsi with
-    // the Illinois modification (about ten evaluations of the exact response where
-    // halving needs fifty), falling back to halving when it stalls.
     const auto cross = [&](std::size_t i, const auto &offset) {
-        double lo = t[i], hi = t[i + 1];
-        double flo = offset(lo), fhi = offset(hi);
-        if (!((flo < 0) != (fhi < 0)))
-            return 0.5 * (lo + hi);
-        int kept = 0;
-        for (int k = 0; k < 100 && hi - lo > 1e-14 * hi; ++k) {
-            double x = (lo * fhi - hi * flo) / (fhi - flo);
-            if (k % 4 == 3 || !(x > lo && x < hi))
-                x = 0.5 * (lo + hi);
-            const double fx = offset(x);
-            if (fx == 0.0)
-                return x;
-            if ((fx < 0) == (flo < 0)) {
-                lo = x;
-                flo = fx;
-                if (kept == 1)
-                    fhi *= 0.5;
-                kept = 1;
-            } else {
-                hi = x;
-                fhi = fx;
-                if (kept == -1)
-                    flo *= 0.5;
-                kept = -1;
-            }
-        }
-        return 0.5 * (lo + hi);
+        return crossingIn(offset, t[i], t[i + 1]);
     };
     const auto firstCrossing = [&](double level) -> OptionalNumber {
         for (std::size_t i = 0; i + 1 < y.size(); ++i)

@@ -2,8 +2,10 @@
 
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/base/value.h"
+#include "loopsketch/design/designvalidation.h"
 
 #include "base/jsonnumber.h"
+#include "detail/parallel.h"
 
 #include <nlohmann/json.hpp>
 
@@ -71,6 +73,23 @@ struct Workspace
         return m ? *m : TrialMetrics{};
     }
 };
+
+/// Runs job(index, workspace) for index 0 .. count-1 on the options' worker threads, each
+/// with its own Workspace; returns the number of jobs run (fewer when cancelled).
+template<typename Job>
+std::size_t runOnWorkspaces(const Design &design, const std::vector<SpreadQuantity> &quantities,
+                            std::size_t count, const SpreadOptions &options,
+                            const ProgressCallback &progress, const Job &job)
+{
+    const int workers = detail::workerCount(options.threads, count);
+    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
+    spaces.reserve(static_cast<std::size_t>(workers));
+    for (int w = 0; w < workers; ++w)
+        spaces.emplace_back(design, quantities);
+    return detail::runParallel(
+        count, workers, [&](std::size_t i, int w) { job(i, spaces[static_cast<std::size_t>(w)]); },
+        progress, options.cancel);
+}
 
 /// The per-trial generator: a function of (seed, trial) only.
 std::mt19937_64 trialGenerator(std::uint64_t seed, std::uint64_t trial)
@@ -325,21 +344,14 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
         }
     } else {
         std::vector<TrialMetrics> probes(2 * n);
-        const int workers = detail::workerCount(options.threads, 2 * n);
-        std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
-        spaces.reserve(static_cast<std::size_t>(workers));
-        for (int w = 0; w < workers; ++w)
-            spaces.emplace_back(design, q);
-        const std::size_t ran = detail::runParallel(
-            2 * n, workers,
-            [&](std::size_t i, int w) {
-                std::vector<double> f(n, 1.0);
-                const std::size_t k = i / 2;
-                f[k] += (i % 2 ? 1.0 : -1.0) * kSensitivityFraction * q[k].tolerance;
-                bool failed = false;
-                probes[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
-            },
-            {}, options.cancel);
+        const std::size_t ran
+            = runOnWorkspaces(design, q, 2 * n, options, {}, [&](std::size_t i, Workspace &space) {
+                  std::vector<double> f(n, 1.0);
+                  const std::size_t k = i / 2;
+                  f[k] += (i % 2 ? 1.0 : -1.0) * kSensitivityFraction * q[k].tolerance;
+                  bool failed = false;
+                  probes[i] = space.evaluate(q, f, grid, failed);
+              });
         if (ran < 2 * n) {
             r.cancelled = true;
             return r;
@@ -368,22 +380,15 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
 
     std::vector<TrialMetrics> results(corners.size());
     std::vector<char> ran(corners.size(), 0);
-    const int workers = detail::workerCount(options.threads, corners.size());
-    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
-    spaces.reserve(static_cast<std::size_t>(workers));
-    for (int w = 0; w < workers; ++w)
-        spaces.emplace_back(design, q);
-    detail::runParallel(
-        corners.size(), workers,
-        [&](std::size_t c, int w) {
-            std::vector<double> f(n);
-            for (std::size_t k = 0; k < n; ++k)
-                f[k] = 1.0 + corners[c][k] * q[k].tolerance;
-            bool failed = false;
-            results[c] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
-            ran[c] = 1;
-        },
-        options.progress, options.cancel);
+    runOnWorkspaces(design, q, corners.size(), options, options.progress,
+                    [&](std::size_t c, Workspace &space) {
+                        std::vector<double> f(n);
+                        for (std::size_t k = 0; k < n; ++k)
+                            f[k] = 1.0 + corners[c][k] * q[k].tolerance;
+                        bool failed = false;
+                        results[c] = space.evaluate(q, f, grid, failed);
+                        ran[c] = 1;
+                    });
     for (std::size_t c = 0; c < corners.size(); ++c) {
         if (!ran[c]) {
             r.cancelled = true;
@@ -421,24 +426,17 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
 
     std::vector<TrialMetrics> results(r.trials);
     std::vector<char> state(r.trials, 0); // 0 not run, 1 ok, 2 no solution
-    const int workers = detail::workerCount(options.threads, r.trials);
-    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
-    spaces.reserve(static_cast<std::size_t>(workers));
-    for (int w = 0; w < workers; ++w)
-        spaces.emplace_back(design, q);
-    detail::runParallel(
-        r.trials, workers,
-        [&](std::size_t i, int w) {
-            std::mt19937_64 g = trialGenerator(options.seed, i);
-            thread_local std::vector<double> f;
-            f.resize(q.size());
-            for (std::size_t k = 0; k < q.size(); ++k)
-                f[k] = drawFactor(g, options.distribution, q[k].tolerance);
-            bool failed = false;
-            results[i] = spaces[static_cast<std::size_t>(w)].evaluate(q, f, grid, failed);
-            state[i] = failed ? 2 : 1;
-        },
-        options.progress, options.cancel);
+    runOnWorkspaces(design, q, r.trials, options, options.progress,
+                    [&](std::size_t i, Workspace &space) {
+                        std::mt19937_64 g = trialGenerator(options.seed, i);
+                        thread_local std::vector<double> f;
+                        f.resize(q.size());
+                        for (std::size_t k = 0; k < q.size(); ++k)
+                            f[k] = drawFactor(g, options.distribution, q[k].tolerance);
+                        bool failed = false;
+                        results[i] = space.evaluate(q, f, grid, failed);
+                        state[i] = failed ? 2 : 1;
+                    });
 
     // Statistics in trial order, so that they do not depend on the thread count.
     std::vector<double> gain, bandwidth, margin;

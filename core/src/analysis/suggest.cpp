@@ -2,8 +2,10 @@
 
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/base/value.h"
+#include "loopsketch/design/designvalidation.h"
 
 #include "base/jsonnumber.h"
+#include "detail/parallel.h"
 
 #include <nlohmann/json.hpp>
 
@@ -133,10 +135,50 @@ std::string unmetText(const Specs &specs, bool gain, bool bandwidth, bool margin
     return s + "; the best attempts are shown";
 }
 
-} // namespace
+/// The suggestions of the combinations `chosen` whose trial ran (`done` 1), with their
+/// metrics; the first `inWindow` lie inside the gain window. Keeps the `best` best in
+/// `r.suggestions` and says in `r.unmet` why no combination meets every spec.
+void rankSuggestions(const Design &design, const std::vector<std::size_t> &chosen,
+                     std::size_t inWindow, const std::vector<TrialMetrics> &metrics,
+                     const std::vector<char> &done, int best, SuggestResult &r)
+{
+    std::vector<Suggestion> all;
+    bool anyBandwidth = false, anyMargin = false;
+    for (std::size_t i = 0; i < chosen.size(); ++i) {
+        if (done[i] != 1)
+            continue;
+        Suggestion s;
+        std::size_t left = chosen[i];
+        for (const auto &range : r.ranges) {
+            s.values.emplace_back(range.part, range.values[left % range.values.size()]);
+            left /= range.values.size();
+        }
+        s.metrics = metrics[i];
+        if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
+            s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
+        s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
+        s.meetsSpecs = s.specs.all();
+        if (i < inWindow) {
+            anyBandwidth = anyBandwidth || s.specs.bandwidth;
+            anyMargin = anyMargin || s.specs.phaseMargin;
+        }
+        r.targetsMet = r.targetsMet || s.meetsSpecs;
+        all.push_back(std::move(s));
+    }
+    const bool anyGain = inWindow > 0;
+    const std::size_t keep = std::min(all.size(), static_cast<std::size_t>(best));
+    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(keep), all.end(),
+                      better);
+    all.resize(keep);
+    r.suggestions = std::move(all);
+    if (!r.targetsMet)
+        r.unmet = unmetText(design.specs, anyGain, anyBandwidth, anyMargin);
+}
 
-Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &o,
-                                    std::string_view file)
+/// What suggestValues() needs before any work: a valid design with a gain window, sane
+/// options and the ranges to search; every problem found.
+Result<std::vector<SuggestRange>> checkRequest(const Design &design, const SuggestOptions &o,
+                                               std::string_view file)
 {
     if (auto problems = validateDesign(design, file); !problems.empty())
         return problems;
@@ -155,7 +197,17 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
         problems.insert(problems.end(), ranges.diagnostics().begin(), ranges.diagnostics().end());
     if (!problems.empty())
         return problems;
+    return ranges;
+}
 
+} // namespace
+
+Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &o,
+                                    std::string_view file)
+{
+    auto ranges = checkRequest(design, o, file);
+    if (!ranges)
+        return ranges.diagnostics();
     SuggestResult r;
     r.ranges = std::move(ranges).value();
     // halves first: a window near the largest double must not overflow to infinity
@@ -265,38 +317,8 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
         },
         {}, o.cancel);
 
-    std::vector<Suggestion> all;
-    bool anyBandwidth = false, anyMargin = false;
-    for (std::size_t i = 0; i < chosen.size(); ++i) {
-        if (done[i] != 1)
-            continue;
-        Suggestion s;
-        std::size_t left = chosen[i];
-        for (const auto &range : r.ranges) {
-            s.values.emplace_back(range.part, range.values[left % range.values.size()]);
-            left /= range.values.size();
-        }
-        s.metrics = metrics[i];
-        if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
-            s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
-        s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
-        s.meetsSpecs = s.specs.all();
-        if (i < inWindow) {
-            anyBandwidth = anyBandwidth || s.specs.bandwidth;
-            anyMargin = anyMargin || s.specs.phaseMargin;
-        }
-        r.targetsMet = r.targetsMet || s.meetsSpecs;
-        all.push_back(std::move(s));
-    }
-    const bool anyGain = inWindow > 0;
+    rankSuggestions(design, chosen, inWindow, metrics, done, o.best, r);
     r.cancelled = r.evaluated < r.combinations;
-    const std::size_t keep = std::min(all.size(), static_cast<std::size_t>(o.best));
-    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(keep), all.end(),
-                      better);
-    all.resize(keep);
-    r.suggestions = std::move(all);
-    if (!r.targetsMet)
-        r.unmet = unmetText(design.specs, anyGain, anyBandwidth, anyMargin);
     return r;
 }
 

@@ -5,48 +5,19 @@
 #include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "detail/phase.h"
+#include "detail/rootfinder.h"
+
 #include <algorithm>
 #include <cmath>
-#include <mutex>
-#include <numbers>
-#include <thread>
 
 namespace loopsketch {
 
 namespace {
 
-constexpr double kPi = std::numbers::pi;
-constexpr int kBisectionSteps = 60;
-constexpr double kBisectionTolerance = 1e-10; // relative, in frequency
-
-std::complex<double> jw(double hz)
-{
-    return {0.0, 2.0 * kPi * hz};
-}
-
-template<typename F> double bisectLog(F f, double lo, double hi)
-{
-    double flo = f(lo);
-    for (int i = 0; i < kBisectionSteps && hi / lo - 1.0 > kBisectionTolerance; ++i) {
-        const double mid = std::sqrt(lo * hi);
-        const double fm = f(mid);
-        if (!std::isfinite(fm))
-            break;
-        if ((fm < 0) == (flo < 0)) {
-            lo = mid;
-            flo = fm;
-        } else {
-            hi = mid;
-        }
-    }
-    return std::sqrt(lo * hi);
-}
-
-double phaseNear(std::complex<double> v, double reference)
-{
-    const double p = std::arg(v);
-    return p + 2.0 * kPi * std::round((reference - p) / (2.0 * kPi));
-}
+using detail::jw;
+using detail::logRoot;
+using detail::phaseNear;
 
 Result<ReducedSystem> reduce(const Design &design, const LoopCircuitOptions &options)
 {
@@ -118,8 +89,8 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         const double level = std::abs(g0) / std::sqrt(2.0);
         for (std::size_t i = 0; i + 1 < f.size(); ++i) {
             if (std::abs(gain[i]) >= level && std::abs(gain[i + 1]) < level) {
-                m.bandwidthHz = bisectLog([&](double hz) { return std::abs(gainAt(hz)) - level; },
-                                          f[i], f[i + 1]);
+                m.bandwidthHz = logRoot([&](double hz) { return std::abs(gainAt(hz)) - level; },
+                                        f[i], f[i + 1]);
                 break;
             }
         }
@@ -135,8 +106,8 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
             continue;
         const double fc
-            = bisectLog([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
-        const double pm = 180.0 + phaseNear(loopAt(fc), phase[i]) * 180.0 / kPi;
+            = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
+        const double pm = 180.0 + detail::degrees(phaseNear(loopAt(fc), phase[i]));
         if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
             m.phaseMarginDeg = pm;
     }
@@ -263,59 +234,5 @@ std::string failingSpecLabels(const std::vector<SpecVerdict> &verdicts)
     }
     return text;
 }
-
-namespace detail {
-
-int workerCount(int threads, std::size_t count)
-{
-    int n = threads > 0 ? threads : static_cast<int>(std::thread::hardware_concurrency());
-    n = std::max(1, n);
-    if (count < static_cast<std::size_t>(n))
-        n = static_cast<int>(std::max<std::size_t>(1, count));
-    return n;
-}
-
-std::size_t runParallel(std::size_t count, int threads,
-                        const std::function<void(std::size_t, int)> &job,
-                        const ProgressCallback &progress, const std::atomic<bool> *cancel)
-{
-    const int workers = workerCount(threads, count);
-    std::atomic<std::size_t> next{0}, done{0};
-    std::mutex progressMutex;
-    // Small chunks keep the workers balanced while keeping the shared counter cold.
-    const std::size_t chunk = std::clamp<std::size_t>(count / (64 * workers), 1, 64);
-    const std::size_t reportEvery = std::max<std::size_t>(1, count / 100);
-    const auto work = [&](int worker) {
-        for (;;) {
-            if (cancel && cancel->load(std::memory_order_relaxed))
-                return;
-            const std::size_t begin = next.fetch_add(chunk);
-            if (begin >= count)
-                return;
-            const std::size_t end = std::min(count, begin + chunk);
-            for (std::size_t i = begin; i < end; ++i)
-                job(i, worker);
-            const std::size_t before = done.fetch_add(end - begin);
-            const std::size_t after = before + (end - begin);
-            if (progress && (after / reportEvery != before / reportEvery || after == count)) {
-                std::lock_guard lock(progressMutex);
-                progress(after, count);
-            }
-        }
-    };
-    if (workers == 1) {
-        work(0);
-    } else {
-        std::vector<std::thread> pool;
-        pool.reserve(static_cast<std::size_t>(workers));
-        for (int w = 0; w < workers; ++w)
-            pool.emplace_back(work, w);
-        for (auto &t : pool)
-            t.join();
-    }
-    return done.load();
-}
-
-} // namespace detail
 
 } // namespace loopsketch

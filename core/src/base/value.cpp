@@ -248,15 +248,67 @@ int clampDigits(int significantDigits)
     return std::clamp(significantDigits, 1, 17);
 }
 
+/// `text` without the spaces around it.
+std::string_view trimmed(std::string_view text)
+{
+    while (!text.empty() && isSpace(text.front()))
+        text.remove_prefix(1);
+    while (!text.empty() && isSpace(text.back()))
+        text.remove_suffix(1);
+    return text;
+}
+
+/// An exponent ("e-12", "E+3") at s[pos]: its value, capped at 10^6 either way (any
+/// exponent beyond overflows or underflows anyway), with `pos` moved past it; 0 with `pos`
+/// unchanged when no exponent with digits stands there.
+long readExponent(std::string_view s, std::size_t &pos)
+{
+    const auto at = [&s](std::size_t i) {
+        return i < s.size() ? s[i] : '\0';
+    };
+    if (at(pos) != 'e' && at(pos) != 'E')
+        return 0;
+    std::size_t i = pos + 1;
+    bool negative = false;
+    if (at(i) == '+' || at(i) == '-') {
+        negative = at(i) == '-';
+        ++i;
+    }
+    if (!isDigit(at(i)))
+        return 0;
+    long exponent = 0;
+    while (isDigit(at(i))) {
+        exponent = std::min(exponent * 10 + (s[i] - '0'), 1000000L);
+        ++i;
+    }
+    pos = i;
+    return negative ? -exponent : exponent;
+}
+
+/// `value` when `range` allows it, else a diagnostic quoting `text`.
+Result<double> inRange(double value, std::string_view text, ValueRange range)
+{
+    switch (range) {
+    case ValueRange::Positive:
+        if (!(value > 0.0))
+            return failure(quoted(text)
+                           + " is not allowed here: the value must be greater than zero");
+        break;
+    case ValueRange::NonNegative:
+        if (value < 0.0)
+            return failure(quoted(text) + " is not allowed here: the value must not be negative");
+        break;
+    case ValueRange::Any:
+        break;
+    }
+    return value;
+}
+
 } // namespace
 
 Result<double> parseValue(std::string_view text, ValueKind kind, ValueRange range)
 {
-    std::string_view s = text;
-    while (!s.empty() && isSpace(s.front()))
-        s.remove_prefix(1);
-    while (!s.empty() && isSpace(s.back()))
-        s.remove_suffix(1);
+    const std::string_view s = trimmed(text);
     if (s.empty())
         return notAValue(text, "the text is empty");
 
@@ -320,25 +372,7 @@ Result<double> parseValue(std::string_view text, ValueKind kind, ValueRange rang
             fractionDigits += s[pos++];
     }
 
-    long exponent = 0;
-    if (!isRkm && (at(pos) == 'e' || at(pos) == 'E')) {
-        std::size_t i = pos + 1;
-        bool negativeExponent = false;
-        if (at(i) == '+' || at(i) == '-') {
-            negativeExponent = at(i) == '-';
-            ++i;
-        }
-        if (isDigit(at(i))) {
-            while (isDigit(at(i))) {
-                // Any exponent beyond this overflows or underflows anyway; cap it.
-                exponent = std::min(exponent * 10 + (s[i] - '0'), 1000000L);
-                ++i;
-            }
-            if (negativeExponent)
-                exponent = -exponent;
-            pos = i;
-        }
-    }
+    const long exponent = isRkm ? 0 : readExponent(s, pos);
 
     skipSpaces();
     if (!isRkm) {
@@ -390,20 +424,7 @@ Result<double> parseValue(std::string_view text, ValueKind kind, ValueRange rang
     if (value == 0.0)
         value = 0.0; // no "-0"
 
-    switch (range) {
-    case ValueRange::Positive:
-        if (!(value > 0.0))
-            return failure(quoted(text)
-                           + " is not allowed here: the value must be greater than zero");
-        break;
-    case ValueRange::NonNegative:
-        if (value < 0.0)
-            return failure(quoted(text) + " is not allowed here: the value must not be negative");
-        break;
-    case ValueRange::Any:
-        break;
-    }
-    return value;
+    return inRange(value, text, range);
 }
 
 std::string unitSymbol(ValueKind kind)

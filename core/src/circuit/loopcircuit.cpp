@@ -199,8 +199,8 @@ Netlist buildLoopNetlist(const Design &design, const LoopCircuitOptions &options
     }
 
     const auto [ip, im] = inputPortNodes(design);
-    n.addCurrentSource("port:in", ip, im, loopio::kInputPort);
-    n.addCurrentSource("port:load", la, lb, loopio::kLoadPort);
+    n.addCurrentSource("port:in", ip, im, loopio::kInputPort).role = NetlistElement::Role::Port;
+    n.addCurrentSource("port:load", la, lb, loopio::kLoadPort).role = NetlistElement::Role::Port;
 
     const NetlistOutput noCurrent{NetlistOutput::Kind::VoltageBetween, la, la}; // zero row
     const NetlistOutput loadCurrent

@@ -69,7 +69,6 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
                          Index stride)
 {
     const Index k = p.g.rows();
-    const Index outputs = p.l.rows();
     const cd nan(std::numeric_limits<double>::quiet_NaN(),
                  std::numeric_limits<double>::quiet_NaN());
     std::vector<cd> a(static_cast<std::size_t>(k * k)), y(static_cast<std::size_t>(k));
@@ -135,7 +134,6 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
         const bool finite = std::isfinite(acc.real()) && std::isfinite(acc.imag());
         out[static_cast<Index>(e) * stride] = finite ? acc : nan;
     }
-    (void)outputs;
 }
 
 /// Points side by side (GCC/Clang vector extension): one value per point. Two fill an SSE2
@@ -546,7 +544,7 @@ void sweepAnyOrder(const PencilView &pencil, int k, std::span<const cd> points,
 
 void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>> points,
                  std::span<const TransferEntry> entries, std::complex<double> *out,
-                 SweepWidth width)
+                 [[maybe_unused]] SweepWidth width)
 {
     const auto k = static_cast<int>(pencil.g.rows());
     const auto nPoints = static_cast<Index>(points.size());
@@ -569,13 +567,8 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
     if (width != SweepWidth::Two && sweepWidthAvailable(SweepWidth::Four))
         return sweepAnyOrder<WithAvx2>(pencil, k, points, entries, plan, out);
 #endif
-    (void)width;
     sweepAnyOrder<Baseline>(pencil, k, points, entries, plan, out);
 }
-
-} // namespace loopsketch::detail
-
-namespace loopsketch {
 
 bool sweepWidthAvailable(SweepWidth width)
 {
@@ -595,4 +588,4 @@ bool sweepWidthAvailable(SweepWidth width)
 #endif
 }
 
-} // namespace loopsketch
+} // namespace loopsketch::detail

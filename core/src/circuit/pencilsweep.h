@@ -29,4 +29,7 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
                  std::span<const TransferEntry> entries, std::complex<double> *out,
                  SweepWidth width = SweepWidth::Automatic);
 
+/// True when the processor can run the sweep at `width`.
+bool sweepWidthAvailable(SweepWidth width);
+
 } // namespace loopsketch::detail

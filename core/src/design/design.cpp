@@ -320,4 +320,12 @@ const Part *Design::signalSource() const
     return p && partSpec(p->type).isSignalSource ? p : nullptr;
 }
 
+std::string gainUnit(const Design &design)
+{
+    const Part *src = design.signalSource();
+    const bool currentIn = src && src->type == PartType::ISource;
+    const bool currentOut = design.output == OutputKind::Current;
+    return std::string(currentOut ? "A" : "V") + "/" + (currentIn ? "A" : "V");
+}
+
 } // namespace loopsketch

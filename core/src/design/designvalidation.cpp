@@ -1,7 +1,8 @@
 // validateDesign: the rules every design obeys, whether it came from a file or the Sketch.
 
-#include "loopsketch/design/design.h"
-#include "loopsketch/design/designfile.h"
+#include "loopsketch/design/designvalidation.h"
+
+#include "loopsketch/base/limits.h"
 
 #include "base/utf8text.h"
 

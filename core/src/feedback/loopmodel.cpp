@@ -127,6 +127,27 @@ struct LoopModel::TwoPortSystems
     double rSeries = 0, gParallel = 0, cParallel = 0; // the source's own impedance
     double loadR = 1, loadC = 0;
     double gIn = 0, cIn = 0, cCm = 0, rOut = 0; // the gain block's
+
+    /// The source's, the load's and the gain block's values the estimate reads directly.
+    void readPartValues(const Design &design)
+    {
+        const Part *src = design.signalSource();
+        voltageSource = src->type == PartType::VSource;
+        if (voltageSource) {
+            rSeries = src->number("r_series");
+        } else {
+            gParallel = src->has("r_parallel") ? 1.0 / src->number("r_parallel") : 0.0;
+            cParallel = src->number("c_parallel");
+        }
+        const Part *load = design.uniquePart(PartType::Load);
+        loadR = load->number("r");
+        loadC = load->number("c");
+        const Part *gb = design.uniquePart(PartType::GainBlock);
+        gIn = gb->has("r_in") ? 1.0 / gb->number("r_in") : 0.0;
+        cIn = gb->number("c_in");
+        cCm = gb->number("c_cm");
+        rOut = gb->number("r_out");
+    }
 };
 
 Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
@@ -164,9 +185,18 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         m.checkAccuracy(design);
 
     m.m_topology = identifyTopology(design);
-    if (!m.m_topology.topology)
-        return m;
-    const Topology &t = *m.m_topology.topology;
+    if (m.m_topology.topology)
+        m.buildTwoPort(design, path);
+    return m;
+}
+
+void LoopModel::buildTwoPort(const Design &design, SolverPath path)
+{
+    const auto reduce = [path](const auto &...args) {
+        return reduceWith(path, args...);
+    };
+    using Source = LoopCircuitOptions::Source;
+    const Topology &t = *m_topology.topology;
 
     std::vector<Part> networkParts;
     std::set<std::string> networkIds(t.networkParts.begin(), t.networkParts.end());
@@ -180,8 +210,8 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     }
     auto network = TwoPortNetwork::build(networkParts, t.port1Node, t.port2Node, t.parameters());
     if (!network) {
-        m.m_twoPortProblem = network.errorText();
-        return m;
+        m_twoPortProblem = network.errorText();
+        return;
     }
 
     const bool split = t.port1Node == t.port2Node;
@@ -215,9 +245,9 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     sys->topology = t;
     sys->network = std::move(network).value();
     sys->testP1 = aNet.addInput();
-    aNet.addCurrentSource("test:p1", p1, "0", sys->testP1);
+    aNet.addCurrentSource("test:p1", p1, "0", sys->testP1).role = NetlistElement::Role::Test;
     sys->testP2 = aNet.addInput();
-    aNet.addCurrentSource("test:p2", p2, "0", sys->testP2);
+    aNet.addCurrentSource("test:p2", p2, "0", sys->testP2).role = NetlistElement::Role::Test;
     sys->outP1 = aNet.addOutput({NetlistOutput::Kind::VoltageBetween, p1, "0"});
     sys->outP2 = aNet.addOutput({NetlistOutput::Kind::VoltageBetween, p2, "0"});
     const Part *load = design.uniquePart(PartType::Load);
@@ -229,8 +259,8 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     }
     auto aFull = reduce(aNet);
     if (!aFull) {
-        m.m_twoPortProblem = "the A circuit has no solution: " + aFull.errorText();
-        return m;
+        m_twoPortProblem = "the A circuit has no solution: " + aFull.errorText();
+        return;
     }
     sys->aFull = std::move(aFull).value();
 
@@ -242,16 +272,17 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         std::erase_if(n.elements, [&](const NetlistElement &e) { return sourceIds.count(e.name); });
         n.inputCount = 0;
         n.outputs.clear();
-        n.addCurrentSource("test:q", t.sourceInput, "0", n.addInput());
+        n.addCurrentSource("test:q", t.sourceInput, "0", n.addInput()).role
+            = NetlistElement::Role::Test;
         n.addOutput({NetlistOutput::Kind::VoltageBetween, t.sourceInput, "0"});
-        std::erase_if(n.elements, [](const NetlistElement &e) {
-            return e.kind == NetlistElement::Kind::CurrentSource && e.name.rfind("port:", 0) == 0;
-        });
+        std::erase_if(n.elements,
+                      [](const NetlistElement &e) { return e.role == NetlistElement::Role::Port; });
         // With the legs at the input counted on the source's side, an input with an ideal
         // r_in and no c_in has nothing left on it but the test source: it draws no current.
         sys->inputDrawsNoCurrent
             = std::none_of(n.elements.begin(), n.elements.end(), [&](const NetlistElement &e) {
-                  return e.name != "test:q" && (e.a == t.sourceInput || e.b == t.sourceInput);
+                  return e.role != NetlistElement::Role::Test
+                      && (e.a == t.sourceInput || e.b == t.sourceInput);
               });
         if (!sys->inputDrawsNoCurrent)
             sys->aSeriesInput = optionalOf(reduce(n));
@@ -263,14 +294,6 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         sys->aSeriesOutput = optionalOf(reduce(withCopies(so)));
     }
 
-    const Part *src = design.signalSource();
-    sys->voltageSource = src->type == PartType::VSource;
-    if (sys->voltageSource) {
-        sys->rSeries = src->number("r_series");
-    } else {
-        sys->gParallel = src->has("r_parallel") ? 1.0 / src->number("r_parallel") : 0.0;
-        sys->cParallel = src->number("c_parallel");
-    }
     {
         // h parameters of what lies between the source's terminals (port 1) and the
         // gain-block input it drives (port 2); with no parts there it is a plain wire.
@@ -278,22 +301,15 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
         const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
         auto side = TwoPortNetwork::build(sourceParts, srcHot, t.sourceInput, ParameterSet::H);
         if (!side) {
-            m.m_twoPortProblem = "the parts between the source and the gain block have no "
-                                 "two-port form: "
+            m_twoPortProblem = "the parts between the source and the gain block have no "
+                               "two-port form: "
                 + side.errorText();
-            return m;
+            return;
         }
         sys->sourceSide = std::move(side).value();
     }
-    sys->loadR = load->number("r");
-    sys->loadC = load->number("c");
-    const Part *gb = design.uniquePart(PartType::GainBlock);
-    sys->gIn = gb->has("r_in") ? 1.0 / gb->number("r_in") : 0.0;
-    sys->cIn = gb->number("c_in");
-    sys->cCm = gb->number("c_cm");
-    sys->rOut = gb->number("r_out");
-    m.m_twoPort = sys;
-    return m;
+    sys->readPartValues(design);
+    m_twoPort = sys;
 }
 
 namespace {
@@ -423,29 +439,9 @@ Complex LoopModel::gainAt(Complex s) const
 
 LoopPoint LoopModel::at(Complex s) const
 {
-    const LoopCurves c = sweep({&s, 1});
+    LoopCurves c = sweep({&s, 1});
     LoopPoint p;
-    p.gain = c.gain[0];
-    p.zIn = c.zIn[0];
-    p.zOut = c.zOut[0];
-    p.loopGain = c.loopGain[0];
-    p.gainInf = c.gainInf[0];
-    p.feedthrough = c.feedthrough[0];
-    p.rrGain = c.rrGain[0];
-    p.rrZIn = c.rrZIn[0];
-    p.rrZOut = c.rrZOut[0];
-    p.zInOpenLoop = c.zInOpenLoop[0];
-    p.zOutOpenLoop = c.zOutOpenLoop[0];
-    p.a = c.a[0];
-    p.beta = c.beta[0];
-    p.tpLoopGain = c.tpLoopGain[0];
-    p.closedLoop = c.closedLoop[0];
-    p.tpGain = c.tpGain[0];
-    p.tpZIn = c.tpZIn[0];
-    p.tpZOut = c.tpZOut[0];
-    p.inputLoading = c.inputLoading[0];
-    p.outputLoading = c.outputLoading[0];
-    p.network = c.network[0];
+    LoopPoint::forEachPair(p, c, [](auto &value, auto &curve) { value = curve[0]; });
     return p;
 }
 
@@ -453,11 +449,11 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
 {
     const std::size_t n = s.size();
     LoopCurves c;
-    c.gain = entryCurve(*m_full, s, loopio::kOutput, loopio::kSource);
-    c.zIn = m_input ? entryCurve(*m_input, s, loopio::kInputVoltage, loopio::kInputPort)
-                    : nanCurve(n);
-    c.zOut = m_output ? entryCurve(*m_output, s, loopio::kLoadVoltage, loopio::kLoadPort)
-                      : nanCurve(n);
+    c.gainExact = entryCurve(*m_full, s, loopio::kOutput, loopio::kSource);
+    c.zInExact = m_input ? entryCurve(*m_input, s, loopio::kInputVoltage, loopio::kInputPort)
+                         : nanCurve(n);
+    c.zOutExact = m_output ? entryCurve(*m_output, s, loopio::kLoadVoltage, loopio::kLoadPort)
+                           : nanCurve(n);
 
     {
         const TransferEntry e[] = {{loopio::kReturned, loopio::kTest},
@@ -468,7 +464,8 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         c.loopGain.resize(n);
         c.feedthrough.resize(n);
         c.gainInf.resize(n);
-        c.rrGain.resize(n);
+        c.gainReturnRatio.resize(n);
+        c.desensitivity.resize(n);
         for (std::size_t i = 0; i < n; ++i) {
             const Complex t = -rr[i];
             const Complex g0 = rr[n + i];
@@ -479,19 +476,20 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
             // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
             // where G_inf is not.
-            c.rrGain[i] = g0 + through / (1.0 + t);
+            c.gainReturnRatio[i] = g0 + through / (1.0 + t);
+            c.desensitivity[i] = 1.0 + t;
         }
     }
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
-    c.rrZIn = m_rrInput
+    c.zInReturnRatio = m_rrInput
         ? blackman(*m_rrInput, s, loopio::kInputVoltage, loopio::kInputPort, c.zInOpenLoop)
         : nanCurve(n);
-    c.rrZOut = m_rrOutput
+    c.zOutReturnRatio = m_rrOutput
         ? blackman(*m_rrOutput, s, loopio::kLoadVoltage, loopio::kLoadPort, c.zOutOpenLoop)
         : nanCurve(n);
 
-    for (Curve *curve : {&c.a, &c.beta, &c.tpLoopGain, &c.closedLoop, &c.tpGain, &c.tpZIn,
-                         &c.tpZOut, &c.inputLoading, &c.outputLoading})
+    for (Curve *curve : {&c.a, &c.beta, &c.loopGainTwoPort, &c.closedLoop, &c.gainTwoPort,
+                         &c.zInTwoPort, &c.zOutTwoPort, &c.inputLoading, &c.outputLoading})
         *curve = nanCurve(n);
     if (!m_twoPort) {
         TwoPortMatrix none;
@@ -499,6 +497,13 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         c.network.assign(n, none);
         return c;
     }
+    sweepTwoPort(s, c);
+    return c;
+}
+
+void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
+{
+    const std::size_t n = s.size();
     const TwoPortSystems &x = *m_twoPort;
     const Topology &top = x.topology;
     const bool seriesMix = top.mixing == Connection::Series;
@@ -549,31 +554,31 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
         c.a[i] = sampled / kSrc;
         const TwoPortMatrix &network = c.network[i];
         c.beta[i] = network(0, 1);
-        c.tpLoopGain[i] = c.a[i] * c.beta[i];
-        const Complex desens = 1.0 + c.tpLoopGain[i];
+        c.loopGainTwoPort[i] = c.a[i] * c.beta[i];
+        const Complex desens = 1.0 + c.loopGainTwoPort[i];
         c.closedLoop[i] = c.a[i] / desens;
-        c.tpGain[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
+        c.gainTwoPort[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
 
         if (seriesMix && x.inputDrawsNoCurrent) {
             // The node's impedance (zs + zq) desens - zs is infinite: the limit.
-            c.tpZIn[i] = h11 - h12 * h21 / h22;
+            c.zInTwoPort[i] = h11 - h12 * h21 / h22;
         } else if (seriesMix) {
             const Complex zNode = (zs + zq[i]) * desens - zs;
-            c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
+            c.zInTwoPort[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
         } else {
             // 1 / (desens / ri - ys) with one quotient.
             const Complex ri = aEntry(2, i);
             const Complex zNode = ri / (desens - ys * ri);
-            c.tpZIn[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
+            c.zInTwoPort[i] = h11 - h12 * h21 * zNode / (1.0 + h22 * zNode);
         }
 
         const Complex yl = 1.0 / x.loadR + s[i] * x.loadC;
         const Complex zl = seriesSample ? 1.0 / yl : Complex(0.0);
         if (seriesSample) {
-            c.tpZOut[i] = (zl + zRest[i]) * desens - zl;
+            c.zOutTwoPort[i] = (zl + zRest[i]) * desens - zl;
         } else {
             const Complex ro = aEntry(seriesMix ? 2 : 3, i);
-            c.tpZOut[i] = ro / (desens - yl * ro);
+            c.zOutTwoPort[i] = ro / (desens - yl * ro);
         }
 
         // Loading budget: what the network's port loading costs against an unloaded input
@@ -611,7 +616,6 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             c.outputLoading[i] = (1.0 + x.rOut * yl) / (1.0 + x.rOut * (yl + yn2));
         }
     }
-    return c;
 }
 
 std::vector<Complex> LoopModel::closedLoopPoles() const

@@ -103,6 +103,67 @@ std::vector<const Part *> explore(const Design &d, const std::set<std::string> &
     return parts;
 }
 
+/// The input side of topology `t` (network and ports found): the source-side parts, the
+/// mixing and the gain-block input the source drives. Returns why there is no single mixing
+/// port, or empty when `t` is complete.
+std::string findInputSide(const Design &d, const Part &source, const std::string &srcHot,
+                          const std::string &otherInput, const std::string &out, Topology &t)
+{
+    const Part *src = &source;
+    // Input side: where the source arrives, through passive parts outside the network.
+    std::set<std::string> srcSeen;
+    std::set<std::string> netIds(t.networkParts.begin(), t.networkParts.end());
+    std::vector<std::string> queue{srcHot};
+    srcSeen.insert(srcHot);
+    while (!queue.empty()) {
+        const std::string node = queue.back();
+        queue.pop_back();
+        // Stop at the network's input; go on through the other input, so that parts
+        // hanging there (to ground, under series mixing) count as the source's: they sit
+        // across the source, outside the loop that the feedback closes.
+        if (node == t.port1Node)
+            continue;
+        for (const Part &p : d.parts) {
+            if (!isPassive(p) || netIds.count(p.id))
+                continue;
+            const std::string a = p.node("a"), b = p.node("b");
+            if (a != node && b != node)
+                continue;
+            if (std::find(t.sourceSideParts.begin(), t.sourceSideParts.end(), p.id)
+                == t.sourceSideParts.end())
+                t.sourceSideParts.push_back(p.id);
+            for (const std::string &other : {a, b})
+                if (!isGround(other) && srcSeen.insert(other).second)
+                    queue.push_back(other);
+        }
+    }
+    if (srcSeen.count(t.port1Node) && srcSeen.count(otherInput) && !isGround(otherInput))
+        return "the signal source drives both gain-block inputs (a differential drive), so "
+               "the input has no single mixing port";
+    if (srcSeen.count(t.port1Node)) {
+        t.mixing = Connection::Shunt;
+        t.sourceInput = t.port1Node;
+    } else if (srcSeen.count(otherInput)) {
+        t.mixing = Connection::Series;
+        t.sourceInput = otherInput;
+    } else {
+        return "the signal source reaches neither gain-block input except "
+               "through the feedback network";
+    }
+    if (srcSeen.count(out) || srcSeen.count(t.port2Node))
+        return "the signal source also reaches the output side outside the "
+               "feedback network";
+    if (t.mixing == Connection::Shunt && src->type == PartType::VSource
+        && !(src->number("r_series") > 0) && srcHot == t.port1Node)
+        return "an ideal voltage source (r_series 0) at a shunt-mixing input "
+               "holds the input node and leaves no loop";
+    if (t.mixing == Connection::Series && src->type == PartType::ISource && !src->has("r_parallel")
+        && srcHot == t.sourceInput)
+        return "an ideal current source (no r_parallel) in a series-mixing "
+               "input loop has no Thevenin form";
+    return {};
+}
+
 } // namespace
 
 TopologyResult identifyTopology(const Design &d)
@@ -209,62 +270,8 @@ TopologyResult identifyTopology(const Design &d)
     for (const Part *p : network)
         t.networkParts.push_back(p->id);
 
-    // Input side: where the source arrives, through passive parts outside the network.
-    std::set<std::string> srcSeen;
-    std::set<std::string> netIds(t.networkParts.begin(), t.networkParts.end());
-    std::vector<std::string> queue{srcHot};
-    srcSeen.insert(srcHot);
-    while (!queue.empty()) {
-        const std::string node = queue.back();
-        queue.pop_back();
-        // Stop at the network's input; go on through the other input, so that parts
-        // hanging there (to ground, under series mixing) count as the source's: they sit
-        // across the source, outside the loop that the feedback closes.
-        if (node == t.port1Node)
-            continue;
-        for (const Part &p : d.parts) {
-            if (!isPassive(p) || netIds.count(p.id))
-                continue;
-            const std::string a = p.node("a"), b = p.node("b");
-            if (a != node && b != node)
-                continue;
-            if (std::find(t.sourceSideParts.begin(), t.sourceSideParts.end(), p.id)
-                == t.sourceSideParts.end())
-                t.sourceSideParts.push_back(p.id);
-            for (const std::string &other : {a, b})
-                if (!isGround(other) && srcSeen.insert(other).second)
-                    queue.push_back(other);
-        }
-    }
-    if (srcSeen.count(t.port1Node) && srcSeen.count(otherInput) && !isGround(otherInput))
-        return {std::nullopt,
-                "the signal source drives both gain-block inputs (a differential drive), so "
-                "the input has no single mixing port"};
-    if (srcSeen.count(t.port1Node)) {
-        t.mixing = Connection::Shunt;
-        t.sourceInput = t.port1Node;
-    } else if (srcSeen.count(otherInput)) {
-        t.mixing = Connection::Series;
-        t.sourceInput = otherInput;
-    } else {
-        return {std::nullopt,
-                "the signal source reaches neither gain-block input except "
-                "through the feedback network"};
-    }
-    if (srcSeen.count(out) || srcSeen.count(t.port2Node))
-        return {std::nullopt,
-                "the signal source also reaches the output side outside the "
-                "feedback network"};
-    if (t.mixing == Connection::Shunt && src->type == PartType::VSource
-        && !(src->number("r_series") > 0) && srcHot == t.port1Node)
-        return {std::nullopt,
-                "an ideal voltage source (r_series 0) at a shunt-mixing input "
-                "holds the input node and leaves no loop"};
-    if (t.mixing == Connection::Series && src->type == PartType::ISource && !src->has("r_parallel")
-        && srcHot == t.sourceInput)
-        return {std::nullopt,
-                "an ideal current source (no r_parallel) in a series-mixing "
-                "input loop has no Thevenin form"};
+    if (std::string reason = findInputSide(d, *src, srcHot, otherInput, out, t); !reason.empty())
+        return {std::nullopt, reason};
     return {t, {}};
 }
 

@@ -6,6 +6,7 @@
 
 #include <cmath>
 #include <limits>
+#include <vector>
 
 namespace loopsketch {
 
@@ -142,38 +143,43 @@ std::optional<TwoPortMatrix> partialInverse22(const TwoPortMatrix &m)
     return r;
 }
 
+using Conversion = std::optional<TwoPortMatrix> (*)(const TwoPortMatrix &);
+
+/// The steps from z to a parameter set: y = inverse(z), h = partialInverse22(z), g =
+/// inverse(h). Each step is its own inverse, so the way back to z takes them in reverse.
+std::vector<Conversion> stepsFromZ(ParameterSet set)
+{
+    switch (set) {
+    case ParameterSet::Z:
+        return {};
+    case ParameterSet::Y:
+        return {inverse};
+    case ParameterSet::H:
+        return {partialInverse22};
+    case ParameterSet::G:
+        return {partialInverse22, inverse};
+    }
+    return {};
+}
+
 std::optional<TwoPortMatrix> toZ(const TwoPortMatrix &m, ParameterSet from)
 {
-    switch (from) {
-    case ParameterSet::Z:
-        return m;
-    case ParameterSet::Y:
-        return inverse(m);
-    case ParameterSet::H:
-        return partialInverse22(m);
-    case ParameterSet::G: {
-        auto h = inverse(m);
-        return h ? partialInverse22(*h) : std::nullopt;
-    }
-    }
-    return std::nullopt;
+    std::optional<TwoPortMatrix> r = m;
+    const std::vector<Conversion> steps = stepsFromZ(from);
+    for (auto step = steps.rbegin(); step != steps.rend() && r; ++step)
+        r = (*step)(*r);
+    return r;
 }
 
 std::optional<TwoPortMatrix> fromZ(const TwoPortMatrix &z, ParameterSet to)
 {
-    switch (to) {
-    case ParameterSet::Z:
-        return z;
-    case ParameterSet::Y:
-        return inverse(z);
-    case ParameterSet::H:
-        return partialInverse22(z);
-    case ParameterSet::G: {
-        auto h = partialInverse22(z);
-        return h ? inverse(*h) : std::nullopt;
+    std::optional<TwoPortMatrix> r = z;
+    for (Conversion step : stepsFromZ(to)) {
+        if (!r)
+            break;
+        r = step(*r);
     }
-    }
-    return std::nullopt;
+    return r;
 }
 
 } // namespace
@@ -183,8 +189,8 @@ std::optional<TwoPortMatrix> convertTwoPort(const TwoPortMatrix &m, ParameterSet
 {
     if (from == to)
         return m;
-    // y <-> z, h <-> g are plain inversions; the others go through z, and where z itself
-    // does not exist (a network with a direct short), through y.
+    // y <-> z, h <-> g are plain inversions; the others go through z, so they fail (nullopt)
+    // where z does not exist (a network with a direct short), even where the target would.
     if ((from == ParameterSet::Y && to == ParameterSet::Z)
         || (from == ParameterSet::Z && to == ParameterSet::Y)
         || (from == ParameterSet::H && to == ParameterSet::G)

@@ -238,7 +238,7 @@ TEST(Accuracy, DemoAtTwoHundredFortyDecibelsKeepsEveryPole)
 TEST(Accuracy, DemoKeepsEveryPoleFromOneHundredTwentyToFourHundredDecibels)
 {
     for (int db = 120; db <= 400; db += 20) {
-        Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+        Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
         part(d, "U1").fields["gain"] = Value{std::pow(10.0, db / 20.0), {}};
         auto reduced = ReducedSystem::build(*assembleSystem(buildLoopNetlist(d)));
         ASSERT_TRUE(reduced.ok()) << reduced.errorText();
@@ -262,9 +262,9 @@ TEST(Accuracy, DemoKeepsEveryPoleFromOneHundredTwentyToFourHundredDecibels)
 // fewer poles silently (common practice: a solve that cannot check itself says so).
 TEST(Accuracy, PolesThatCannotBeLocatedAreNamedInAWarning)
 {
-    Design d = loadOrDie(kDesignsDir / "demo.loopsketch");
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
     part(d, "U1").fields["gain"] = Value{1e50, {}};
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     ASSERT_LT(a.poles.size(), 4u) << "the case no longer exercises the warning";
     bool named = false;
     for (const Diagnostic &w : a.warnings)
@@ -281,7 +281,7 @@ TEST(Accuracy, PolesThatCannotBeLocatedAreNamedInAWarning)
 // back; common practice). The former stamping of the zeros gave T = 122.35 here.
 TEST(Accuracy, FollowerWithZerosFarBelowPolesKeepsItsLoopGain)
 {
-    const Design d = parseOrDie(R"({"schema": "loopsketch.design/1", "title": "follower",
+    const Design d = parseOrFail(R"({"schema": "loopsketch.design/1", "title": "follower",
       "parts": [
         {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
         {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "out", "out": "out",
@@ -293,7 +293,7 @@ TEST(Accuracy, FollowerWithZerosFarBelowPolesKeepsItsLoopGain)
     ASSERT_TRUE(model.ok()) << model.errorText();
     const double t = 13.0 * 1e6 / (1e6 + 31.0);
     EXPECT_LT(relErr(model->loopGainAt(0.0), cd(t)), 1e-12);
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     ASSERT_TRUE(a.exact.gain);
     EXPECT_LT(relErr(*a.exact.gain, t / (1 + t)), 1e-12);
     EXPECT_TRUE(a.warnings.empty()) << toString(a.warnings);
@@ -418,7 +418,7 @@ TEST(Accuracy, MessagesNameTheUsersPartAndField)
 // are absent, while the sweep, which never touches DC, keeps its values.
 TEST(Accuracy, CircuitWithoutSolutionAtDcHasNoDcValues)
 {
-    const Design d = parseOrDie(R"({"schema": "loopsketch.design/1",
+    const Design d = parseOrFail(R"({"schema": "loopsketch.design/1",
       "title": "inductor loop across the source",
       "parts": [
         {"id": "VS", "type": "vsource", "pos": "s", "neg": "0"},
@@ -434,7 +434,7 @@ TEST(Accuracy, CircuitWithoutSolutionAtDcHasNoDcValues)
         {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k", "c": "10p"}],
       "input": "VS", "output": "voltage",
       "sweep": {"start": "10", "stop": "100M", "points_per_decade": 20}})");
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     EXPECT_FALSE(a.exact.gain.has_value()) << *a.exact.gain;
     EXPECT_FALSE(a.returnRatio.gain.has_value()) << *a.returnRatio.gain;
     EXPECT_FALSE(a.returnRatio.loopGain.has_value()) << *a.returnRatio.loopGain;
@@ -454,7 +454,7 @@ TEST(Accuracy, CircuitWithoutSolutionAtDcHasNoDcValues)
 // feedback on impedance", Bell System Technical Journal 22, 1943).
 TEST(Accuracy, SweepStartIsCheckedWhereDcIsSingular)
 {
-    const Design d = parseOrDie(R"({"schema": "loopsketch.design/1",
+    const Design d = parseOrFail(R"({"schema": "loopsketch.design/1",
       "title": "Generated series-shunt design",
       "parts": [
         {"id": "SIG", "type": "isource", "to": "inp", "from": "0",
@@ -470,7 +470,7 @@ TEST(Accuracy, SweepStartIsCheckedWhereDcIsSingular)
       "input": "SIG", "output": "voltage",
       "sweep": {"start": 0.073412777968807144, "stop": 722.98449532608743,
                 "points_per_decade": 10}})");
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     // No accuracy warning: the only one is C2's, below what real parts offer.
     EXPECT_EQ(a.warnings.size(), partLimitWarnings(d).size());
     const cd s(0.0, 2.0 * kPi * a.frequenciesHz.front());
@@ -487,9 +487,9 @@ TEST(Accuracy, SweepStartIsCheckedWhereDcIsSingular)
 // and the asymptotic gain model -0.547, both rounding of a singular matrix.
 TEST(Accuracy, GeneratedDesignWithoutDcSolutionHasNoDcValues)
 {
-    const Design d = loadOrDie(fs::path(LOOPSKETCH_TEST_DATA_DIR)
+    const Design d = loadOrFail(fs::path(LOOPSKETCH_TEST_DATA_DIR)
                                / "accuracy/no-dc-solution-seed-221.loopsketch");
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     EXPECT_FALSE(a.exact.gain.has_value()) << *a.exact.gain;
     EXPECT_FALSE(a.returnRatio.gain.has_value()) << *a.returnRatio.gain;
 }
@@ -501,9 +501,9 @@ TEST(Accuracy, GeneratedDesignWithoutDcSolutionHasNoDcValues)
 // transfers the model combines with it.
 TEST(Accuracy, AsymptoticGainModelEqualsExactGainWhereItsEntriesAreIllConditioned)
 {
-    const Design d = loadOrDie(fs::path(LOOPSKETCH_TEST_DATA_DIR)
+    const Design d = loadOrFail(fs::path(LOOPSKETCH_TEST_DATA_DIR)
                                / "accuracy/return-ratio-entries-seed-139.loopsketch");
-    const Analysis a = analyzeOrDie(d);
+    const Analysis a = analyzeOrFail(d);
     ASSERT_EQ(a.warnings.size(), partLimitWarnings(d).size()) << a.warnings.front().toString();
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i)
         EXPECT_LT(relErr(a.curves.gainReturnRatio[i], a.curves.gainExact[i]), 1e-8)

@@ -4,6 +4,7 @@
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "circuit/pencilsweep.h"
 #include "numeric.h"
 
 #include <gmock/gmock.h>
@@ -450,7 +451,7 @@ TEST(ReducedSystem, SweepAgreesWithDenseLuAtEveryWidth)
         const auto two = reduced->sweepEntries(s, transposed, SweepWidth::Two);
         for (SweepWidth width :
              {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight, SweepWidth::Automatic}) {
-            if (!sweepWidthAvailable(width))
+            if (!detail::sweepWidthAvailable(width))
                 continue;
             const auto t = reduced->sweepEntries(s, transposed, width);
             const auto d = reduced->sweepEntries(s, direct, width);
@@ -488,7 +489,7 @@ TEST(ReducedSystem, SweepMarksOnlyTheSingularPoint)
         s.push_back({0.0, 2.0 * kPi * std::pow(10.0, i)});
     const TransferEntry e[] = {{0, 0}};
     for (SweepWidth width : {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
-        if (!sweepWidthAvailable(width))
+        if (!detail::sweepWidthAvailable(width))
             continue;
         const auto h = reduced->sweepEntries(s, e, width);
         EXPECT_TRUE(std::isnan(h[0].real()) && std::isnan(h[0].imag()));

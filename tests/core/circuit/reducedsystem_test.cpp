@@ -4,6 +4,7 @@
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "circuit/pencilsweep.h"
 #include "numeric.h"
 
 #include <gtest/gtest.h>
@@ -114,7 +115,7 @@ void expectEveryWidthMatchesDenseLu(const Netlist &netlist, int expectedOrder,
     const auto reference = dense->sweepEntries(s, entries);
     int widthsRun = 0;
     for (SweepWidth width : {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
-        if (!sweepWidthAvailable(width))
+        if (!detail::sweepWidthAvailable(width))
             continue;
         ++widthsRun;
         const TransferEntry row[] = {{0, 0}, {0, 1}};
@@ -180,7 +181,7 @@ TEST(ReducedSweep, RowsInDifferentUnitsKeepFullAccuracyAtEveryWidth)
     const TransferEntry entry[] = {{0, 0}};
     for (SweepWidth width :
          {SweepWidth::Automatic, SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
-        if (!sweepWidthAvailable(width))
+        if (!detail::sweepWidthAvailable(width))
             continue;
         const std::vector<cd> x = reduced->sweepEntries(s, entry, width);
         for (std::size_t i = 0; i < s.size(); ++i) {

@@ -3,8 +3,10 @@
 // The rules checked here are Loopsketch's own file format (core/README.md §6), so the expected
 // texts come from that format's definition, not from an outside source.
 
+#include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/design.h"
 #include "loopsketch/design/designfile.h"
+#include "loopsketch/design/designvalidation.h"
 
 #include "malformedcorpus.h"
 

@@ -94,18 +94,6 @@ struct SpecVerdict
     std::string reason;
 };
 
-/// The curves every panel draws, one value per frequency of the sweep.
-struct AnalysisCurves
-{
-    Curve gainExact, zInExact, zOutExact;
-    Curve loopGain; ///< T_rr
-    Curve gainReturnRatio, zInReturnRatio, zOutReturnRatio;
-    Curve zInOpenLoop, zOutOpenLoop; ///< gain block's gain at 0 ("without feedback")
-    Curve a, beta, loopGainTwoPort, closedLoop, gainTwoPort, zInTwoPort, zOutTwoPort;
-    Curve inputLoading, outputLoading;
-    Curve desensitivity; ///< 1 + T_rr
-};
-
 struct Analysis
 {
     std::string title;
@@ -114,7 +102,7 @@ struct Analysis
     std::optional<Topology> topology;
     std::string topologyReason; ///< why there is no two-port form (topology empty)
     std::string twoPortProblem; ///< why the estimate is missing despite a topology
-    ExactSolution exact; ///< DC values and exact curves
+    ExactSolution exact; ///< DC values (the curves: curves.gainExact, zInExact, zOutExact)
     std::optional<TwoPortSummary> twoPort;
     ReturnRatioSummary returnRatio;
     Margins margins;
@@ -133,7 +121,7 @@ struct Analysis
     StepResult step;
     OptionalNumber desensitivityDb; ///< 20 log10 |1 + T| at DC
     std::map<std::string, double> sensitivity; ///< part id -> %/% of the DC gain
-    AnalysisCurves curves;
+    LoopCurves curves; ///< every quantity over `frequenciesHz`
     std::optional<NoiseAnalysis> noise; ///< absent when noiseProblem says why
     std::string noiseProblem;
     std::vector<SpecVerdict> specs; ///< one per spec of the design (specVerdicts())

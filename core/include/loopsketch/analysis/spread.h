@@ -31,6 +31,10 @@ struct SpreadQuantity
     double tolerance = 0; ///< fraction, 0 < tolerance < 1
 };
 
+/// The Monte Carlo trials of a run the user does not size: the review sheet's spread section
+/// (`loopsketch export`, File > Export) and the Spread panel's starting value.
+inline constexpr int kDefaultMonteCarloTrials = 2000;
+
 struct SpreadOptions
 {
     int trials = 1000; ///< Monte Carlo trials, 1 .. kMaxTrials

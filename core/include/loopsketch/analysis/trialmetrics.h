@@ -70,17 +70,4 @@ std::string failingSpecLabels(const std::vector<SpecVerdict> &verdicts);
 /// True when the design has at least one spec.
 bool hasSpecs(const Specs &specs);
 
-namespace detail {
-
-/// Runs job(index, worker) for index 0 .. count-1 on `threads` std::threads (0: all hardware
-/// threads). Stops early when `cancel` becomes true; returns the number of jobs run.
-std::size_t runParallel(std::size_t count, int threads,
-                        const std::function<void(std::size_t index, int worker)> &job,
-                        const ProgressCallback &progress, const std::atomic<bool> *cancel);
-
-/// The worker count runParallel uses for `threads` and `count`.
-int workerCount(int threads, std::size_t count);
-
-} // namespace detail
-
 } // namespace loopsketch

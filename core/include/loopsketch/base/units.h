@@ -1,7 +1,10 @@
 #pragma once
 
-// Typed quantities at core's public boundary. Inside hot loops core works on plain doubles
-// in SI base units; these types guard the API against ohm/farad and Hz/(rad/s) mix-ups.
+// Typed quantities (Boost.Units, SI) for values that cross core's boundary. A sum of unlike
+// quantities (ohms plus farads) does not compile; tests/core/units_mixup checks that it
+// stays so. Core's API passes plain doubles in SI base units, each documented in its `///`
+// comment; core/README.md ("Units at the boundary") says where typed quantities serve and
+// where they would not.
 
 #include <boost/units/quantity.hpp>
 #include <boost/units/systems/si/capacitance.hpp>

@@ -11,6 +11,16 @@
 
 namespace loopsketch {
 
+/// A number with the text it was written as. `text` empty means it was written as a plain
+/// JSON number; saving writes back whichever form was read, so files round-trip unchanged.
+struct Value
+{
+    double si = 0.0; ///< SI base units (ohm, farad, henry, hertz, V/V, fraction)
+    std::string text;
+
+    bool operator==(const Value &) const = default;
+};
+
 /// What a value means; decides which unit symbols are accepted and how it is formatted.
 enum class ValueKind {
     Resistance, ///< ohm; "Ω", "ohm", "R" accepted

@@ -98,8 +98,9 @@ bool isSingular(const Eigen::MatrixXd &a);
 std::string unknownLabel(const DescriptorSystem &system, std::size_t index);
 
 /// Names, in the user's words, the unknowns and parts that take part in a singularity of
-/// (G + sC) at s, e.g. "node mid, node x not determined (...); parts involved: R5, R6".
-/// Empty when the matrix is regular.
+/// (G + sC) at s, e.g. "the circuit has no unique solution at DC: node mid, node x not
+/// determined (a floating node or subnetwork, ...); parts involved: R5, R6" (" at DC" only
+/// for s = 0). Empty when the matrix is regular.
 std::string describeSingularity(const DescriptorSystem &system, std::complex<double> s);
 
 /// The same as a diagnostic; when a single part is involved, it is named in `part`.

@@ -41,6 +41,11 @@ struct NetlistElement
     std::string b; ///< resistor/capacitor/inductor: b; voltage source: -; current source: out of
     double value = 0; ///< ohm, farad, henry; ignored for sources
     int input = -1; ///< sources: input column (unit value), -1 = zero value (short / open)
+    /// Why the element is there: a part of the circuit (a user's part, one of its fields, a
+    /// wire), an impedance port's drive (buildLoopNetlist()'s input and load ports), or a
+    /// method's test source (the two-port estimate's port drives).
+    enum class Role { Circuit, Port, Test };
+    Role role = Role::Circuit;
 };
 
 /// What an output row measures.

@@ -32,11 +32,9 @@ enum class SolverPath { Reduced, DenseLu };
 
 /// How many frequencies the reduced sweep solves side by side in vector registers. Automatic
 /// takes the widest the processor runs (eight with AVX-512, four with AVX2, else two); the
-/// others exist so tests can check that every width gives the same numbers.
+/// others exist so tests can check that every width gives the same numbers
+/// (detail::sweepWidthAvailable() in core/src/circuit/pencilsweep.h says which run here).
 enum class SweepWidth { Automatic, Two, Four, Eight };
-
-/// True when the processor can run the sweep at `width`.
-bool sweepWidthAvailable(SweepWidth width);
 
 /// Output row and input column of one transfer-matrix entry.
 struct TransferEntry

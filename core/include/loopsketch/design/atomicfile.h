@@ -57,8 +57,8 @@ Result<bool> checkOutputsApart(const std::vector<std::string> &inputs,
 /// does) so that a file-size limit is a failed write rather than the end of the process.
 Result<bool> writeOutput(const OutputTarget &target, std::string_view contents);
 
-/// resolveOutput() (no standard output) then writeOutput(): the one call for a single file.
-/// Also declared in designfile.h, where saveDesign() uses it.
+/// resolveOutput() (no standard output) then writeOutput(): the one call for a single file
+/// (saveDesign() writes through it).
 Result<bool> writeFileAtomically(const std::string &path, std::string_view contents);
 
 } // namespace loopsketch

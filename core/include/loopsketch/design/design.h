@@ -24,16 +24,6 @@ inline constexpr double kDefaultSettlingBand = 0.01;
 
 enum class PartType { Resistor, Capacitor, Inductor, VSource, ISource, GainBlock, Load };
 
-/// A number with the text it was written as. `text` empty means it was written as a plain
-/// JSON number; saving writes back whichever form was read, so files round-trip unchanged.
-struct Value
-{
-    double si = 0.0; ///< SI base units (ohm, farad, henry, hertz, V/V, fraction)
-    std::string text;
-
-    bool operator==(const Value &) const = default;
-};
-
 /// Static description of one numeric field of a part type.
 struct FieldSpec
 {
@@ -234,23 +224,8 @@ struct Design
     bool operator==(const Design &) const = default;
 };
 
-/// Checks a design in memory: the same rules the loader applies (ids, nodes, ground,
-/// floating subnetworks, value ranges, exactly one gain block / source / load, sweep).
-/// Empty when the design is valid. `file` is copied into each diagnostic.
-Diagnostics validateDesign(const Design &design, std::string_view file = {});
-
-/// Which rules a check applies.
-enum class DesignRules {
-    /// Everything an analysis needs (the default of the loader and of every analysis).
-    Complete,
-    /// A design being drawn: what a file must hold to mean something (ids, values, sweep,
-    /// specs, candidates and the input naming existing parts, the layout), without the
-    /// rules of a finished circuit (one gain block, source and load; ground; no dangling or
-    /// floating node; no shorted part). The Sketch saves and opens drafts.
-    Draft,
-};
-
-/// validateDesign() with a choice of rules.
-Diagnostics validateDesign(const Design &design, DesignRules rules, std::string_view file = {});
+/// The unit of every closed-loop gain of a design, output over the signal source's value:
+/// "V/V", "V/A", "A/A" or "A/V".
+std::string gainUnit(const Design &design);
 
 } // namespace loopsketch

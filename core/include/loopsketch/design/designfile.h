@@ -5,6 +5,7 @@
 #include "loopsketch/base/limits.h"
 #include "loopsketch/base/result.h"
 #include "loopsketch/design/design.h"
+#include "loopsketch/design/designvalidation.h"
 
 #include <cstddef>
 #include <string>
@@ -32,8 +33,5 @@ std::string serializeDesign(const Design &design);
 /// Writes atomically: the text goes to a temporary file in the same directory, is flushed,
 /// then renamed over `path`. On failure nothing at `path` changes and no temp file remains.
 Result<bool> saveDesign(const Design &design, const std::string &path);
-
-/// Atomic write of arbitrary text (used for designs, CSV and reports).
-Result<bool> writeFileAtomically(const std::string &path, std::string_view contents);
 
 } // namespace loopsketch

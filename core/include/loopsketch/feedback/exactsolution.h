@@ -1,33 +1,18 @@
 #pragma once
 
 // The exact solution: the full circuit solved as it stands (core/README.md §4). LoopModel
-// computes it; this holds its DC values and curves.
+// computes it; this holds its DC values (its curves are LoopCurves::gainExact, zInExact and
+// zOutExact).
 
-#include "loopsketch/base/result.h"
-#include "loopsketch/design/design.h"
-
-#include <complex>
 #include <optional>
-#include <string>
-#include <vector>
 
 namespace loopsketch {
-
-/// "V/V", "V/A", "A/A" or "A/V": output over the signal source's value.
-std::string gainUnit(const Design &design);
 
 struct ExactSolution
 {
     std::optional<double> gain; ///< DC, output / source value (gainUnit); nullopt if none
     std::optional<double> zIn; ///< DC, ohm, seen by the source without its own impedance
     std::optional<double> zOut; ///< DC, ohm, seen by the load with the source zeroed
-    /// Over the sweep; NaN marks a frequency where the quantity does not exist.
-    std::vector<std::complex<double>> gainSweep;
-    std::vector<std::complex<double>> zInSweep;
-    std::vector<std::complex<double>> zOutSweep;
 };
-
-/// A DC value that exists only when finite.
-std::optional<double> finiteOrNone(double value);
 
 } // namespace loopsketch

@@ -22,35 +22,62 @@ namespace loopsketch {
 
 using Complex = std::complex<double>;
 
-/// Every quantity of one frequency. NaN marks a quantity that does not exist there.
-struct LoopPoint
+/// Every quantity of the three methods, with one name each: `Quantity` is a Complex for one
+/// frequency (LoopPoint) or a vector of them over a list of frequencies (LoopCurves, index i
+/// for the i-th frequency; the Analysis keeps these curves). NaN marks a quantity that does
+/// not exist at a frequency. Impedances in ohm, gains in the design's gain unit.
+template<class Quantity, class NetworkMatrix> struct LoopQuantities
 {
     // Exact solution.
-    Complex gain, zIn, zOut;
+    Quantity gainExact, zInExact, zOutExact;
     // Return ratio of the gain block's controlled source.
-    Complex loopGain; ///< T_rr
-    Complex gainInf; ///< G_inf of the asymptotic gain model
-    Complex feedthrough; ///< G_0
-    Complex rrGain; ///< G_inf T/(1+T) + G_0/(1+T)
-    Complex rrZIn, rrZOut; ///< Blackman
-    Complex zInOpenLoop, zOutOpenLoop; ///< Z_D: the impedances with the gain block's gain at 0
+    Quantity loopGain; ///< T_rr
+    Quantity gainInf; ///< G_inf of the asymptotic gain model
+    Quantity feedthrough; ///< G_0
+    Quantity gainReturnRatio; ///< G_inf T/(1+T) + G_0/(1+T)
+    Quantity zInReturnRatio, zOutReturnRatio; ///< Blackman
+    /// Z_D: the impedances with the gain block's gain at 0 ("without feedback").
+    Quantity zInOpenLoop, zOutOpenLoop;
+    Quantity desensitivity; ///< 1 + T_rr
     // Two-port estimate (NaN without a topology).
-    Complex a, beta, tpLoopGain, closedLoop, tpGain, tpZIn, tpZOut;
-    Complex inputLoading, outputLoading; ///< factors, 1 = no loading
-    TwoPortMatrix network; ///< the network's parameters of the topology's set
+    Quantity a, beta, loopGainTwoPort, closedLoop, gainTwoPort, zInTwoPort, zOutTwoPort;
+    Quantity inputLoading, outputLoading; ///< factors, 1 = no loading
+    NetworkMatrix network; ///< the network's parameters of the topology's set
+
+    /// Calls `fn(x.q, y.q)` for every quantity q of two LoopQuantities, `network` last: the
+    /// one list of the quantities for code that treats them all alike.
+    template<class X, class Y, class Fn> static void forEachPair(X &x, Y &y, Fn &&fn)
+    {
+        fn(x.gainExact, y.gainExact);
+        fn(x.zInExact, y.zInExact);
+        fn(x.zOutExact, y.zOutExact);
+        fn(x.loopGain, y.loopGain);
+        fn(x.gainInf, y.gainInf);
+        fn(x.feedthrough, y.feedthrough);
+        fn(x.gainReturnRatio, y.gainReturnRatio);
+        fn(x.zInReturnRatio, y.zInReturnRatio);
+        fn(x.zOutReturnRatio, y.zOutReturnRatio);
+        fn(x.zInOpenLoop, y.zInOpenLoop);
+        fn(x.zOutOpenLoop, y.zOutOpenLoop);
+        fn(x.desensitivity, y.desensitivity);
+        fn(x.a, y.a);
+        fn(x.beta, y.beta);
+        fn(x.loopGainTwoPort, y.loopGainTwoPort);
+        fn(x.closedLoop, y.closedLoop);
+        fn(x.gainTwoPort, y.gainTwoPort);
+        fn(x.zInTwoPort, y.zInTwoPort);
+        fn(x.zOutTwoPort, y.zOutTwoPort);
+        fn(x.inputLoading, y.inputLoading);
+        fn(x.outputLoading, y.outputLoading);
+        fn(x.network, y.network);
+    }
 };
 
-/// LoopPoint's quantities over a list of frequencies, one vector per quantity (same
-/// meanings and NaN rule), index i for the i-th frequency.
-struct LoopCurves
-{
-    std::vector<Complex> gain, zIn, zOut;
-    std::vector<Complex> loopGain, gainInf, feedthrough, rrGain, rrZIn, rrZOut;
-    std::vector<Complex> zInOpenLoop, zOutOpenLoop;
-    std::vector<Complex> a, beta, tpLoopGain, closedLoop, tpGain, tpZIn, tpZOut;
-    std::vector<Complex> inputLoading, outputLoading;
-    std::vector<TwoPortMatrix> network;
-};
+/// Every quantity at one complex frequency.
+using LoopPoint = LoopQuantities<Complex, TwoPortMatrix>;
+/// Every quantity over a list of frequencies: the curves every panel, the review sheet and
+/// the sweep CSV draw (Analysis::curves).
+using LoopCurves = LoopQuantities<std::vector<Complex>, std::vector<TwoPortMatrix>>;
 
 class LoopModel
 {
@@ -113,6 +140,11 @@ private:
     struct TwoPortSystems;
 
     void checkAccuracy(const Design &design);
+    /// The two-port estimate's systems for the topology found; on failure it stays absent
+    /// and m_twoPortProblem says why.
+    void buildTwoPort(const Design &design, SolverPath path);
+    /// sweep()'s two-port estimate: fills `c`'s two-port curves, which arrive as NaN.
+    void sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const;
 
     std::optional<ReducedSystem> m_full, m_input, m_output; // exact
     std::optional<ReducedSystem> m_rrFull, m_rrInput, m_rrOutput; // return ratio
