@@ -459,6 +459,12 @@ void MainWindow::createActions()
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
     m_viewMenu->addAction(tr("Restore panel arrangement"), this,
                           [this] { restoreState(m_defaultState); });
+    QAction *resetZoom = m_viewMenu->addAction(tr("Reset plot zoom"), this, [this] {
+        for (PlotPanel *p : m_panels)
+            p->resetZoom();
+    });
+    resetZoom->setShortcut(Qt::CTRL | Qt::Key_0);
+    resetZoom->setToolTip(tr("Every plot back to its whole range"));
     m_viewMenu->addSeparator();
     for (QDockWidget *dock : m_docks) {
         if (dock->features() != QDockWidget::NoDockWidgetFeatures)
