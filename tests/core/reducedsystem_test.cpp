@@ -157,3 +157,40 @@ TEST(ReducedSweep, GainBlocksWithUpToTwelvePolesAndZerosMatchDenseLu)
                                            std::to_string(poles) + " poles, "
                                                + std::to_string(zeros) + " zeros");
 }
+
+// Rows in different units: the first row of the pencil is a million million times larger
+// than the second only because of its units. Plain partial pivoting takes its entry 10 as
+// the pivot (larger than the 1 below it) and leaves x to a difference of two nearly equal
+// numbers (about 1e-5 of x lost); pivoting on each row's entry relative to that row's
+// largest takes the second row and keeps x to rounding. Reference: Cramer's rule on
+//   s (10 x + 1e12 y) = 1e12,  s (x + y) = 2   =>   x = 1e12 / (s (1e12 - 10)).
+TEST(ReducedSweep, RowsInDifferentUnitsKeepFullAccuracyAtEveryWidth)
+{
+    DescriptorSystem sys;
+    sys.G = Eigen::MatrixXd::Zero(2, 2);
+    sys.C.resize(2, 2);
+    sys.C << 10.0, 1e12, 1.0, 1.0;
+    sys.B.resize(2, 1);
+    sys.B << 1e12, 2.0;
+    sys.L.resize(1, 2);
+    sys.L << 1.0, 0.0;
+    sys.unknowns = {"x", "y"};
+    auto reduced = ReducedSystem::build(sys);
+    ASSERT_TRUE(reduced.ok()) << reduced.errorText();
+    ASSERT_EQ(reduced->order(), 2);
+    const std::vector<cd> s = logPoints(1e-3, 1e3, 13);
+    const TransferEntry entry[] = {{0, 0}};
+    for (SweepWidth width :
+         {SweepWidth::Automatic, SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
+        if (!sweepWidthAvailable(width))
+            continue;
+        const std::vector<cd> x = reduced->sweepEntries(s, entry, width);
+        for (std::size_t i = 0; i < s.size(); ++i) {
+            const cd want = 1e12 / (s[i] * (1e12 - 10.0)); // Cramer's rule
+            EXPECT_LT(relErr(x[i], want), 1e-13)
+                << "width " << static_cast<int>(width) << ", point " << i;
+        }
+    }
+    // The one-point path (root finding) and the careful fallback take the same pivots.
+    EXPECT_LT(relErr(reduced->entry(s[6], 0, 0), 1e12 / (s[6] * (1e12 - 10.0))), 1e-13);
+}

@@ -264,6 +264,9 @@ int main(int argc, char **argv)
                                             : "refused: ",
                         r.failures.empty() && !r.analyzed ? r.refusal.c_str() : "",
                         r.hadTopology ? " [topology]" : "");
+        if (o.verbose)
+            for (const auto &w : r.warnings)
+                std::printf("  warning %s\n", w.c_str());
         if (r.failures.empty())
             continue;
         ++failed;

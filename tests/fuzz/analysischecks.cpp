@@ -1,20 +1,28 @@
 #include "analysischecks.h"
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/circuit/circuit.h"
+#include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/design/designfile.h"
 #include "loopsketch/feedback/loopmodel.h"
 
+#include "circuit/refinedsolve.h"
+
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
 #include <cstdio>
+#include <limits>
+#include <map>
+#include <memory>
 #include <numbers>
 #include <regex>
 #include <set>
 
 // The part-limit warnings (values outside what real parts offer) come with the accuracy
 // warnings in Analysis::warnings but exempt nothing: only a solve's own accuracy check does.
-#if __has_include("loopsketch/partlimits.h")
+#if __has_include("loopsketch/design/partlimits.h")
 #include "loopsketch/design/partlimits.h"
 #define LOOPSKETCH_FUZZ_PART_LIMITS 1
 #endif
@@ -121,7 +129,21 @@ public:
                  + std::to_string(bad) + " of " + std::to_string(c.size()) + " points not finite)");
     }
 
-    /// |got - want| <= tol * scale; records the worst ratio. Returns false on failure.
+    /// |got - want| <= allowed, where `allowed` is tol * scale plus, when that alone is
+    /// exceeded, the rounding floor `floor()` (see RoundingFloor); records the worst ratio.
+    /// Returns false on failure.
+    template<typename Floor>
+    bool identity(const std::string &kind, const std::string &where, Complex got, Complex want,
+                  double allowed, double &worst, Floor floor)
+    {
+        if (!finite(got) || !finite(want))
+            return true; // the NaN checks report these
+        if (std::abs(got - want) > allowed)
+            allowed += floor();
+        return identity(kind, where, got, want, allowed, worst);
+    }
+
+    /// |got - want| <= allowed; records the worst ratio. Returns false on failure.
     bool identity(const std::string &kind, const std::string &where, Complex got, Complex want,
                   double allowed, double &worst)
     {
@@ -281,6 +303,126 @@ void checkCurves(const Analysis &a, Checker &c)
     c.curve("z_out_two_port", k.zOutTwoPort, f, noTwoPort || !a.exact.zOut);
 }
 
+/// The absolute rounding floor of the identities, for quantities whose true value is zero or
+/// far below the circuit's other values (an output behind an ideal source, a port shorted
+/// by a zeroed ideal source, a feedthrough that does not exist): there the relative
+/// tolerance kIdentityTolerance has nothing to be relative to, and both sides of an
+/// identity are rounding of the same size as their difference.
+///
+/// Derivation. The product's careful solve (core/src/circuit/refinedsolve.*) bounds the absolute
+/// error of an entry h = l^T A^-1 b of a system A = G + sC to first order by
+///   beta(h) = |z|^T |r| + eps * (sum over stamps |z_row| |stamp value (times |s| if
+///             reactive)| |x_col| + sum_i |z_i| |b_i|),   z = A^-T l,
+/// the residual r of its solution plus one rounding of every value as stored (the
+/// first-order componentwise bound; Higham, Accuracy and Stability of Numerical Algorithms,
+/// 2nd ed., sections 7.1-7.2, from memory). It is absolute, so it stays finite where h = 0.
+/// The product's accuracy check (ReducedSystem::checkAccuracy) accepts the fast path where
+/// it is within max(1e-8 |h|, 4 beta) of the careful solve, and the careful solve is within
+/// beta of the truth: every entry the analysis combines is within 1e-8 |h| + 5 beta. The
+/// relative part is kIdentityTolerance's; the floor adds 5 beta per entry, propagated to
+/// first order through the identity's formula:
+///   asymptotic gain  G0 + a b/(1 + T):  beta(G0) + |b/(1+T)| beta(a) + |a/(1+T)| beta(b)
+///                                        + |a b/(1+T)^2| beta(T), plus beta of the exact gain;
+///   Blackman  Z_D + h2 h3/(1 - h1):     beta(Z_D) + |h3/(1-h1)| beta(h2) + |h2/(1-h1)| beta(h3)
+///                                        + |h2 h3/(1-h1)^2| beta(h1), plus beta of the exact Z.
+/// The systems are those of LoopModel::build (loopcircuit.h's variants); the floor is
+/// computed only where the relative check fails.
+class RoundingFloor
+{
+public:
+    explicit RoundingFloor(const Design &design) : m_design(design) { }
+
+    double asymptoticGain(Complex s)
+    {
+        using namespace loopio;
+        const Entry g = entry(Variant::Full, s, kOutput, kSource);
+        const Entry t = entry(Variant::RrFull, s, kReturned, kTest); // -T
+        const Entry g0 = entry(Variant::RrFull, s, kOutput, kSource);
+        const Entry a = entry(Variant::RrFull, s, kOutput, kTest);
+        const Entry b = entry(Variant::RrFull, s, kReturned, kSource);
+        const Complex d = 1.0 - t.value; // 1 + T
+        const double beta = g.beta + g0.beta + std::abs(b.value / d) * a.beta
+            + std::abs(a.value / d) * b.beta + std::abs(a.value * b.value / (d * d)) * t.beta;
+        return kAcceptedBetas * beta;
+    }
+
+    double blackman(bool input, Complex s)
+    {
+        using namespace loopio;
+        const int v = input ? kInputVoltage : kLoadVoltage;
+        const int port = input ? kInputPort : kLoadPort;
+        const Entry ze = entry(input ? Variant::Input : Variant::Output, s, v, port);
+        const Variant rr = input ? Variant::RrInput : Variant::RrOutput;
+        const Entry zd = entry(rr, s, v, port);
+        const Entry h1 = entry(rr, s, kReturned, kTest);
+        const Entry h2 = entry(rr, s, kReturned, port);
+        const Entry h3 = entry(rr, s, v, kTest);
+        const Complex d = 1.0 - h1.value;
+        const double beta = ze.beta + zd.beta + std::abs(h3.value / d) * h2.beta
+            + std::abs(h2.value / d) * h3.beta + std::abs(h2.value * h3.value / (d * d)) * h1.beta;
+        return kAcceptedBetas * beta;
+    }
+
+private:
+    /// beta per entry the product may be off by: 4 accepted by its check, 1 of the careful
+    /// solve it is checked against.
+    static constexpr double kAcceptedBetas = 5.0;
+
+    enum class Variant { Full, Input, Output, RrFull, RrInput, RrOutput, Count };
+
+    struct Entry
+    {
+        Complex value = 0;
+        double beta = std::numeric_limits<double>::infinity();
+    };
+
+    const DescriptorSystem *system(Variant v)
+    {
+        auto &slot = m_systems[static_cast<std::size_t>(v)];
+        if (!slot) {
+            using Source = LoopCircuitOptions::Source;
+            LoopCircuitOptions o;
+            o.testDriven = v == Variant::RrFull || v == Variant::RrInput || v == Variant::RrOutput;
+            if (v == Variant::Input || v == Variant::RrInput)
+                o.source = Source::Removed;
+            if (v == Variant::Output || v == Variant::RrOutput) {
+                o.source = Source::Zeroed;
+                o.load = false;
+            }
+            auto assembled = assembleSystem(buildLoopNetlist(m_design, o));
+            slot = assembled ? std::make_shared<DescriptorSystem>(std::move(assembled).value())
+                             : std::make_shared<DescriptorSystem>();
+        }
+        return slot->size() > 0 ? slot.get() : nullptr;
+    }
+
+    Entry entry(Variant v, Complex s, int output, int input)
+    {
+        const DescriptorSystem *sys = system(v);
+        if (!sys)
+            return {};
+        const auto key = std::pair{static_cast<int>(v), std::pair{s.real(), s.imag()}};
+        auto it = m_solvers.find(key);
+        if (it == m_solvers.end()) {
+            auto solver = std::make_unique<detail::RefinedSolver>(*sys);
+            if (!solver->factor(s))
+                solver.reset();
+            it = m_solvers.emplace(key, std::move(solver)).first;
+        }
+        if (!it->second)
+            return {};
+        Eigen::VectorXcd r;
+        const Eigen::VectorXcd x = it->second->solve(input, &r);
+        return {it->second->output(output, x), it->second->errorBound(output, input, x, r)};
+    }
+
+    const Design &m_design;
+    std::array<std::shared_ptr<DescriptorSystem>, static_cast<std::size_t>(Variant::Count)>
+        m_systems;
+    std::map<std::pair<int, std::pair<double, double>>, std::unique_ptr<detail::RefinedSolver>>
+        m_solvers;
+};
+
 void checkIdentities(const Design &design, const Analysis &a, SolverPath path, Checker &c,
                      CheckReport &report)
 {
@@ -305,6 +447,7 @@ void checkIdentities(const Design &design, const Analysis &a, SolverPath path, C
         return j == 0 ? std::string("DC") : fmt(a.frequenciesHz[j - 1]) + " Hz";
     };
     const std::optional<TwoPortSummary> tp = a.twoPort;
+    RoundingFloor floor(design);
     const Part *gb = design.uniquePart(PartType::GainBlock);
     const bool pinsDrawCurrent = gb && gb->number("c_cm") > 0;
     for (std::size_t j = 0; j <= n; ++j) {
@@ -318,24 +461,26 @@ void checkIdentities(const Design &design, const Analysis &a, SolverPath path, C
             const double scale
                 = std::abs(gInf * t / (1.0 + t)) + std::abs(g0 / (1.0 + t)) + std::abs(exact);
             c.identity("identity-asymptotic-gain", "gain at " + where(j), rr, exact,
-                       kIdentityTolerance * scale, report.worstAgm);
+                       kIdentityTolerance * scale, report.worstAgm,
+                       [&] { return floor.asymptoticGain(s[j]); });
         }
         // Blackman: Z_D (1 + T_sc)/(1 + T_oc) = Z_D + (its feedback term); relative to both
         // terms and the exact value.
-        const auto blackman
-            = [&](const char *name, const Curve &rrCurve, const std::optional<double> &rrDc,
-                  const Curve &exactCurve, const std::optional<double> &exactDc,
-                  const Curve &zdCurve, const std::vector<Complex> &zdModel) {
-                  const Complex z = pick(rrCurve, j, rrDc);
-                  const Complex ze = pick(exactCurve, j, exactDc);
-                  const Complex zd = j == 0 ? zdModel[0] : zdCurve[j - 1];
-                  const double scale = std::abs(zd) + std::abs(z - zd) + std::abs(ze);
-                  c.identity("identity-blackman", std::string(name) + " at " + where(j), z, ze,
-                             kIdentityTolerance * scale, report.worstBlackman);
-              };
-        blackman("z_in", k.zInReturnRatio, a.returnRatio.zIn, k.zInExact, a.exact.zIn,
+        const auto blackman = [&](bool input, const char *name, const Curve &rrCurve,
+                                  const std::optional<double> &rrDc, const Curve &exactCurve,
+                                  const std::optional<double> &exactDc, const Curve &zdCurve,
+                                  const std::vector<Complex> &zdModel) {
+            const Complex z = pick(rrCurve, j, rrDc);
+            const Complex ze = pick(exactCurve, j, exactDc);
+            const Complex zd = j == 0 ? zdModel[0] : zdCurve[j - 1];
+            const double scale = std::abs(zd) + std::abs(z - zd) + std::abs(ze);
+            c.identity("identity-blackman", std::string(name) + " at " + where(j), z, ze,
+                       kIdentityTolerance * scale, report.worstBlackman,
+                       [&] { return floor.blackman(input, s[j]); });
+        };
+        blackman(true, "z_in", k.zInReturnRatio, a.returnRatio.zIn, k.zInExact, a.exact.zIn,
                  k.zInOpenLoop, m.zInOpenLoop);
-        blackman("z_out", k.zOutReturnRatio, a.returnRatio.zOut, k.zOutExact, a.exact.zOut,
+        blackman(false, "z_out", k.zOutReturnRatio, a.returnRatio.zOut, k.zOutExact, a.exact.zOut,
                  k.zOutOpenLoop, m.zOutOpenLoop);
 
         // Two-port = exact when T is large. With the gain block's gain taken to infinity

@@ -6,11 +6,11 @@
 #include "support/outputfile.h"
 #include "support/qtadapter.h"
 
+#include "loopsketch/analysis/metrics.h"
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/base/value.h"
 #include "loopsketch/design/candidate.h"
 #include "loopsketch/design/designfile.h"
-#include "loopsketch/feedback/metrics.h"
 
 #include <QBuffer>
 #include <QDate>

@@ -1,13 +1,13 @@
 #include "loopsketch/analysis/analysis.h"
 
+#include "loopsketch/analysis/metrics.h"
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/design/partlimits.h"
-#include "loopsketch/feedback/metrics.h"
 
-#include "detail/noisesweep.h"
+#include "analysis/noisesweep.h"
 
 #include <Eigen/LU>
 

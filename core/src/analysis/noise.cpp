@@ -1,8 +1,8 @@
 #include "loopsketch/analysis/noise.h"
 
 #include "analysis/noisemodel.h"
+#include "analysis/noisesweep.h"
 #include "detail/bandintegral.h"
-#include "detail/noisesweep.h"
 
 #include "loopsketch/circuit/reducedsystem.h"
 

@@ -3,7 +3,7 @@
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/base/value.h"
 
-#include "report/jsonnumber.h"
+#include "base/jsonnumber.h"
 
 #include <nlohmann/json.hpp>
 

@@ -1,9 +1,9 @@
 #include "loopsketch/analysis/trialmetrics.h"
 
+#include "loopsketch/analysis/metrics.h"
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
-#include "loopsketch/feedback/metrics.h"
 
 #include <algorithm>
 #include <cmath>

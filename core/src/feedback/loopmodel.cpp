@@ -325,17 +325,20 @@ void LoopModel::checkAccuracy(const Design &design)
     std::vector<Complex> probes = {Complex(0.0)};
     const std::vector<double> hz = design.sweep.frequencies();
     if (!hz.empty()) {
-        // DC stands for the low end; the middle and the top of the sweep for the rest.
+        // DC, and the start, middle and top of the sweep: the start on its own, since DC
+        // stands for nothing where the circuit is singular there (a capacitive port), and
+        // the sweep's low end may then be as ill-conditioned as DC is singular.
         const double mid = std::sqrt(hz.front() * hz.back());
-        for (double f : {mid, hz.back()})
+        for (double f : {hz.front(), mid, hz.back()})
             probes.push_back({0.0, 2.0 * std::numbers::pi * f});
     }
     const auto run
-        = [&](std::optional<ReducedSystem> &system, int output, int input, const char *quantity) {
+        = [&](std::optional<ReducedSystem> &system, std::initializer_list<CheckedEntry> entries) {
               if (!system)
                   return;
-              const CheckedEntry entries[] = {{{output, input}, quantity}};
-              AccuracyCheck c = system->checkAccuracy(probes, entries, kAssuredRelativeError);
+              AccuracyCheck c = system->checkAccuracy(
+                  probes, std::span<const CheckedEntry>(entries.begin(), entries.size()),
+                  kAssuredRelativeError);
               m_worstRelativeError = std::max(m_worstRelativeError, c.worstRelativeError);
               m_refinedSystems += c.refined ? 1 : 0;
               for (Diagnostic &d : c.warnings) {
@@ -347,10 +350,30 @@ void LoopModel::checkAccuracy(const Design &design)
                       m_warnings.push_back(std::move(d));
               }
           };
-    run(m_full, loopio::kOutput, loopio::kSource, "the gain");
-    run(m_input, loopio::kInputVoltage, loopio::kInputPort, "z_in");
-    run(m_output, loopio::kLoadVoltage, loopio::kLoadPort, "z_out");
-    run(m_rrFull, loopio::kReturned, loopio::kTest, "the loop gain");
+    using namespace loopio;
+    run(m_full, {{{kOutput, kSource}, "the gain"}});
+    run(m_input, {{{kInputVoltage, kInputPort}, "z_in"}});
+    run(m_output, {{{kLoadVoltage, kLoadPort}, "z_out"}});
+    // The return ratio's gain and impedances are combined from several entries (sweep(),
+    // blackman()): each is checked against the careful solve, so a fast path that misses
+    // any of them hands the system to the careful solve; only the loop gain, a quantity of
+    // its own, warns. (The impedance with the gain at zero is an exact zero behind an ideal
+    // output, whose rounding has no relative accuracy to assure.)
+    run(m_rrFull,
+        {{{kReturned, kTest}, "the loop gain"},
+         {{kOutput, kSource}, "the feedthrough", false},
+         {{kOutput, kTest}, "the loop gain", false},
+         {{kReturned, kSource}, "the loop gain", false}});
+    run(m_rrInput,
+        {{{kInputVoltage, kInputPort}, "z_in", false},
+         {{kReturned, kTest}, "z_in", false},
+         {{kReturned, kInputPort}, "z_in", false},
+         {{kInputVoltage, kTest}, "z_in", false}});
+    run(m_rrOutput,
+        {{{kLoadVoltage, kLoadPort}, "z_out", false},
+         {{kReturned, kTest}, "z_out", false},
+         {{kReturned, kLoadPort}, "z_out", false},
+         {{kLoadVoltage, kTest}, "z_out", false}});
 }
 
 std::vector<Complex> LoopModel::loopGainOver(std::span<const Complex> s) const

@@ -4,7 +4,7 @@
 
 #include "loopsketch/base/value.h"
 
-#include "report/jsonnumber.h"
+#include "base/jsonnumber.h"
 
 #include <nlohmann/json.hpp>
 

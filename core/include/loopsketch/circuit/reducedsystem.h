@@ -49,6 +49,12 @@ struct CheckedEntry
 {
     TransferEntry entry;
     std::string quantity; ///< "gain", "z_in", "loop gain" ...
+    /// False for a term a quantity is combined from (the feedthrough of the asymptotic gain
+    /// model, a return ratio of Blackman's formula): a miss of the fast path still switches
+    /// the system to the careful solve, but the entry's own error bound warns of nothing,
+    /// since the term may be negligible in the quantity it enters (an exact zero, such as the
+    /// feedthrough past an ideal output, has no relative accuracy at all).
+    bool warns = true;
 };
 
 /// What ReducedSystem::checkAccuracy() found.
@@ -140,12 +146,20 @@ public:
     /// `tolerance` (relative) and the careful solve is better, the system switches to the
     /// careful solve everywhere; where the careful solve's own error bound (componentwise
     /// backward error times the condition of the entry) exceeds `tolerance`, a warning names
-    /// the part and field whose rounding dominates.
+    /// the part and field whose rounding dominates (entries with `warns`). A probe s = 0
+    /// where the full system is singular makes every later value at s = 0 NaN
+    /// (singularAtDc()).
     AccuracyCheck checkAccuracy(std::span<const std::complex<double>> probes,
                                 std::span<const CheckedEntry> entries, double tolerance = 1e-8);
 
     /// True when the system solves the full matrix with refinement (see checkAccuracy()).
     bool refined() const { return m_refined; }
+
+    /// True when checkAccuracy() was given s = 0 among its probes and found the full system
+    /// singular there (an inductor loop across an ideal source, a node held by capacitors
+    /// only): every entry at s = 0 is then NaN, on every path, instead of what the rounding
+    /// of the reduced pencil leaves of a singular matrix.
+    bool singularAtDc() const { return m_singularAtDc; }
 
     const Eigen::MatrixXd &gr() const { return m_gr; }
     const Eigen::MatrixXd &cr() const { return m_cr; }
@@ -163,6 +177,7 @@ private:
     SolverPath m_path = SolverPath::Reduced;
     std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
     bool m_refined = false;
+    bool m_singularAtDc = false;
 };
 
 } // namespace loopsketch

@@ -6,8 +6,8 @@
 
 #include "loopsketch/base/result.h"
 #include "loopsketch/circuit/reducedsystem.h"
+#include "loopsketch/circuit/stepmodel.h"
 #include "loopsketch/design/design.h"
-#include "loopsketch/feedback/stepmodel.h"
 #include "loopsketch/feedback/topology.h"
 #include "loopsketch/feedback/twoport.h"
 

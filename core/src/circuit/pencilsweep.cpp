@@ -1,4 +1,4 @@
-#include "detail/pencilsweep.h"
+#include "circuit/pencilsweep.h"
 
 #include <algorithm>
 #include <cmath>
@@ -74,17 +74,28 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
                  std::numeric_limits<double>::quiet_NaN());
     std::vector<cd> a(static_cast<std::size_t>(k * k)), y(static_cast<std::size_t>(k));
     std::vector<Index> piv(static_cast<std::size_t>(k));
+    std::vector<double> weight(static_cast<std::size_t>(k));
     for (Index col = 0; col < k; ++col)
         for (Index r = 0; r < k; ++r)
             a[r * k + col] = cd(p.g(r, col), 0.0) + s * p.c(r, col);
+    // Scaled partial pivoting, as sweepLanes() (there the reason).
+    for (Index r = 0; r < k; ++r) {
+        double largest = 0.0;
+        for (Index col = 0; col < k; ++col)
+            largest = std::max(largest,
+                               std::abs(a[r * k + col].real()) + std::abs(a[r * k + col].imag()));
+        weight[r] = largest > 1e-290 && largest < 1e290 ? 1.0 / largest : 1.0;
+    }
     for (Index j = 0; j < k; ++j) {
         Index best = j;
         double bestMag = std::abs(a[j * k + j].real()) + std::abs(a[j * k + j].imag());
+        double bestScore = bestMag * weight[j];
         for (Index r = j + 1; r < k; ++r) {
             const double m = std::abs(a[r * k + j].real()) + std::abs(a[r * k + j].imag());
-            if (m > bestMag) {
+            if (m * weight[r] > bestScore) {
                 best = r;
                 bestMag = m;
+                bestScore = m * weight[r];
             }
         }
         piv[j] = best;
@@ -95,6 +106,7 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
         }
         for (Index cc = 0; cc < k; ++cc)
             std::swap(a[j * k + cc], a[best * k + cc]);
+        std::swap(weight[j], weight[best]);
         for (Index r = j + 1; r < k; ++r) {
             const cd f = a[r * k + j] / a[j * k + j];
             a[r * k + j] = f;
@@ -229,22 +241,24 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
     constexpr Index cap = K > 0 ? K : 1;
     alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap];
-    alignas(kLaneAlignment) L pivStack[cap];
+    alignas(kLaneAlignment) L pivStack[cap], weightStack[cap];
     Index uniformStack[cap];
     LC *a = aStack, *invDiag = invStack, *y = yStack;
     L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
+    L *weight = weightStack; // 1 / the largest squared modulus of each row, per lane
     Index *uniform = uniformStack; // that row when every lane chose it, else -1
     if constexpr (K == 0) {
         thread_local LaneVector<LC> work;
         thread_local LaneVector<L> pivots;
         thread_local std::vector<Index> same;
         work.resize(static_cast<std::size_t>(k * k + 2 * k));
-        pivots.resize(static_cast<std::size_t>(k));
+        pivots.resize(static_cast<std::size_t>(2 * k));
         same.resize(static_cast<std::size_t>(k));
         a = work.data();
         invDiag = a + k * k;
         y = invDiag + k;
         piv = pivots.data();
+        weight = piv + k;
         uniform = same.data();
     }
     const double *g = p.g.data(), *c = p.c.data(), *b = p.b.data(), *l = p.l.data();
@@ -310,14 +324,32 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 const double gv = g[col * k + r], cv = c[col * k + r];
                 a[r * k + col] = {gv + sr * cv, si * cv};
             }
+        // Scaled partial pivoting: each row's candidate weighed against that row's largest
+        // entry (implicit row equilibration). The rows of the pencil are in different units
+        // (siemens, farads times s, dimensionless) and the plain largest modulus may pick a
+        // row that is large only in its units; with 1e-3..1e12 ohm beside picofarads the
+        // plain choice lost up to 1e-5 of a gain whose system is conditioned to 1e3. The
+        // weights follow their rows through the swaps.
+        for (Index r = 0; r < k; ++r) {
+            L largest = magnitude2(a[r * k]);
+            for (Index col = 1; col < k; ++col) {
+                const L m = magnitude2(a[r * k + col]);
+                largest = m > largest ? m : largest;
+            }
+            const auto usable = (largest > 1e-290) & (largest < 1e290);
+            weight[r] = usable ? 1.0 / largest : L{} + 1.0;
+        }
         L retry = {}; // non-zero in a lane that needs the careful solve
         for (Index j = 0; j < k; ++j) {
-            // Pivot by squared modulus, which the reciprocal needs anyway.
+            // Pivot by squared modulus (which the reciprocal needs anyway) times the weight.
             L bestMag = magnitude2(a[j * k + j]);
+            L bestScore = bestMag * weight[j];
             L best = L{} + static_cast<double>(j);
             for (Index r = j + 1; r < k; ++r) {
                 const L m = magnitude2(a[r * k + j]);
-                const auto better = m > bestMag;
+                const L score = m * weight[r];
+                const auto better = score > bestScore;
+                bestScore = better ? score : bestScore;
                 bestMag = better ? m : bestMag;
                 best = better ? L{} + static_cast<double>(r) : best;
             }
@@ -329,11 +361,16 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                     for (Index cc = 0; cc < k; ++cc)
                         std::swap(a[j * k + cc], a[row * k + cc]);
                     std::swap(nz[j], nz[row]);
+                    std::swap(weight[j], weight[row]);
                 }
             } else {
                 uniform[j] = -1;
                 for (Index r = j + 1; r < k; ++r) {
-                    swapLanes<L>(best == static_cast<double>(r), a + j * k, a + r * k, k);
+                    const auto take = best == static_cast<double>(r);
+                    swapLanes<L>(take, a + j * k, a + r * k, k);
+                    const L top = weight[j];
+                    weight[j] = take ? weight[r] : top;
+                    weight[r] = take ? top : weight[r];
                     nz[j] = nz[r] = nz[j] | nz[r]; // either row's entries, lane by lane
                 }
             }

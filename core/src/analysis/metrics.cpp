@@ -1,4 +1,4 @@
-#include "loopsketch/feedback/metrics.h"
+#include "loopsketch/analysis/metrics.h"
 
 #include <algorithm>
 #include <cmath>

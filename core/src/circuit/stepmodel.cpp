@@ -1,4 +1,4 @@
-#include "loopsketch/feedback/stepmodel.h"
+#include "loopsketch/circuit/stepmodel.h"
 
 #include "loopsketch/circuit/circuit.h"
 
