@@ -3,6 +3,7 @@
 // View > Reset layout brings the default back.
 
 #include "panels/panels.h"
+#include "window/designdocument.h"
 #include "window/mainwindow.h"
 
 #include <QAction>
@@ -100,6 +101,19 @@ TEST_F(WindowLayoutTest, ArrangementPersistsAndResetLayoutRestoresIt)
     EXPECT_TRUE(dock(*window, "StepDock")->isVisible());
     EXPECT_FALSE(dock(*window, "PolesDock")->isFloating());
     EXPECT_EQ(window->dockWidgetArea(dock(*window, "PolesDock")), Qt::BottomDockWidgetArea);
+}
+
+/// Teardown with unsaved work: the undo stack, destroyed with the document after the
+/// window's own members, emits cleanChanged as it goes; nothing may reach the half-destroyed
+/// window. Under the asan-ui preset a use after free here fails the test.
+TEST_F(WindowLayoutTest, ClosingWithUnsavedWorkTouchesNoFreedMember)
+{
+    auto window = openWindow(1500, 940);
+    ASSERT_TRUE(window->document()->stepPart("RF", 1, false));
+    ASSERT_TRUE(window->document()->isModified());
+    QApplication::processEvents();
+    window.reset();
+    SUCCEED();
 }
 
 } // namespace
