@@ -25,7 +25,14 @@ namespace {
 class WindowLayoutTest : public ::testing::Test
 {
 protected:
-    void SetUp() override { QSettings().clear(); }
+    void SetUp() override
+    {
+        // ctest runs the cases of this program side by side: one settings file per case.
+        QCoreApplication::setApplicationName(
+            QStringLiteral("tst_windowlayout-")
+            + QString::fromLatin1(::testing::UnitTest::GetInstance()->current_test_info()->name()));
+        QSettings().clear();
+    }
     void TearDown() override { QSettings().clear(); }
 
     static std::unique_ptr<MainWindow> openWindow(int w, int h)
