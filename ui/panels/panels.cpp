@@ -7,6 +7,7 @@
 #include <QCategoryAxis>
 #include <QChart>
 #include <QCursor>
+#include <QGraphicsSimpleTextItem>
 #include <QLineSeries>
 #include <QScatterSeries>
 #include <QToolTip>
@@ -297,13 +298,32 @@ void StepPanel::showAnalysis(const Analysis &a)
 
 PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
 {
-    m_x = addValueAxis(tr("Re s (rad/s)"), Qt::AlignBottom);
-    m_y = addValueAxis(tr("Im s (rad/s)"), Qt::AlignLeft);
+    m_x = addValueAxis(tr("Re s"), Qt::AlignBottom, false);
+    m_y = addValueAxis(tr("Im s"), Qt::AlignLeft, false);
+    // The radial scale is logarithmic: linear ticks would mislead and the circles carry the
+    // values, so the axes only place the points and their room goes to the plot; the real
+    // and jω axes are drawn as lines and named at their ends.
+    m_x->setVisible(false);
+    m_y->setVisible(false);
+    for (const QString &name : {tr("Re s"), tr("jω")}) {
+        auto *label = new QGraphicsSimpleTextItem(name, chart());
+        QFont f = label->font();
+        f.setPointSizeF(7.5);
+        f.setItalic(true);
+        label->setFont(f);
+        label->setBrush(QColor(0x6b, 0x72, 0x7d));
+        m_axisNames.push_back(label);
+    }
     m_axis = addLine(tr("jω axis"), QColor(0x99, 0x99, 0x99), Qt::DotLine, m_x, m_y, false);
+    m_realAxis = addLine(tr("real axis"), QColor(0xbb, 0xbb, 0xbb), Qt::DotLine, m_x, m_y, false);
     const CurveStyle &poles = curveStyle(PlotCurve::Poles);
-    m_poles = addMarker(poles.name, poles.colour, m_x, m_y, 10);
+    m_poles = addMarker(poles.name, poles.colour, m_x, m_y, 9);
     m_poles->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+    setEqualAspect(true);
     enableOverlays(m_x);
+    setToolTip(tr("Log-magnitude radial scale: each pole keeps its angle (damping ζ is the "
+                  "cosine of the angle from the negative real axis) and its distance from the "
+                  "centre grows by one circle per decade of |s|."));
     connect(m_poles, &QScatterSeries::hovered, this, [this](const QPointF &point, bool state) {
         if (!state) {
             QToolTip::hideText();
@@ -312,11 +332,10 @@ PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
         // The pole under the mouse: core's numbers for it.
         const ClosedLoopPole *nearest = nullptr;
         double best = 0;
-        for (const ClosedLoopPole &p : m_shown) {
-            const double d
-                = std::hypot(p.s.real() * m_scale - point.x(), p.s.imag() * m_scale - point.y());
+        for (qsizetype i = 0; i < m_points.size(); ++i) {
+            const double d = std::hypot(m_points[i].x() - point.x(), m_points[i].y() - point.y());
             if (!nearest || d < best) {
-                nearest = &p;
+                nearest = &m_shown[std::size_t(i)];
                 best = d;
             }
         }
@@ -337,46 +356,128 @@ PolesPanel::PolesPanel(QWidget *parent) : PlotPanel(tr("Poles"), parent)
 
 std::vector<PlotPanel::OverlayLine> PolesPanel::overlayLines(const Analysis &a) const
 {
-    // Hollow markers in the current design's scale, one set per candidate.
+    // Hollow markers on the current design's radial scale, one set per candidate.
     QList<QPointF> points;
     for (const ClosedLoopPole &p : a.poles) {
         if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag()))
-            points.append(QPointF(p.s.real() * m_scale, p.s.imag() * m_scale));
+            points.append(plotted(p.s));
     }
     return {{PlotCurve::Poles, points, m_y, CursorFormat::None, true}};
 }
 
+QPointF PolesPanel::plotted(std::complex<double> s) const
+{
+    const double magnitude = std::abs(s);
+    if (!(magnitude > 0))
+        return {0.0, 0.0};
+    const double radius = kInnerRadius + std::log10(magnitude / m_r0);
+    return {radius * s.real() / magnitude, radius * s.imag() / magnitude};
+}
+
+namespace {
+
+/// "−860k" with a true minus sign.
+QString signedEngineering(double value)
+{
+    QString text = toQString(formatEngineering(value, 3));
+    if (text.startsWith(QLatin1Char('-')))
+        text.replace(0, 1, QStringLiteral("−"));
+    return text;
+}
+
+} // namespace
+
 void PolesPanel::showAnalysis(const Analysis &a)
 {
-    double reMax = 0, imMax = 0, rightMost = 0;
+    m_shown.clear();
+    double smallest = 0;
     for (const ClosedLoopPole &p : a.poles) {
-        if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag())) {
-            reMax = std::max(reMax, std::abs(p.s.real()));
-            imMax = std::max(imMax, std::abs(p.s.imag()));
-            rightMost = std::max(rightMost, p.s.real());
+        if (!std::isfinite(p.s.real()) || !std::isfinite(p.s.imag()))
+            continue;
+        m_shown.push_back(p);
+        const double magnitude = std::abs(p.s);
+        if (magnitude > 0 && (smallest == 0 || magnitude < smallest))
+            smallest = magnitude;
+    }
+    m_r0 = smallest > 0 ? std::pow(10.0, std::floor(std::log10(smallest))) : 1.0;
+    m_points.clear();
+    double outer = kInnerRadius;
+    m_rightMost = 0;
+    for (const ClosedLoopPole &p : m_shown) {
+        const QPointF at = plotted(p.s);
+        m_points.append(at);
+        outer = std::max(outer, std::hypot(at.x(), at.y()));
+        m_rightMost = std::max(m_rightMost, at.x());
+    }
+    // Circles from r0 out to the last decade inside the outermost pole (or r0 alone).
+    m_ringCount = smallest > 0 ? std::min(40, int(std::floor(outer - kInnerRadius + 1e-9)) + 1) : 0;
+    m_outer = outer;
+    // One circle a decade, 1 (r0) to the outermost pole's.
+    constexpr int kSegments = 144;
+    while (int(m_rings.size()) < m_ringCount) {
+        QLineSeries *ring = addLine(QStringLiteral("ring %1").arg(m_rings.size()),
+                                    QColor(0xc8, 0xcd, 0xd4), Qt::SolidLine, m_x, m_y, false);
+        QPen pen(QColor(0xd4, 0xd8, 0xde), 1.0);
+        pen.setCosmetic(true);
+        ring->setPen(pen);
+        m_rings.push_back(ring);
+        auto *label = new QGraphicsSimpleTextItem(chart());
+        QFont f = label->font();
+        f.setPointSizeF(7.5);
+        label->setFont(f);
+        label->setBrush(QColor(0x6b, 0x72, 0x7d));
+        label->setZValue(5);
+        m_ringLabels.push_back(label);
+    }
+    for (std::size_t k = 0; k < m_rings.size(); ++k) {
+        QList<QPointF> circle;
+        if (int(k) < m_ringCount) {
+            const double radius = kInnerRadius + double(k);
+            for (int i = 0; i <= kSegments; ++i) {
+                const double angle = 2.0 * M_PI * i / kSegments;
+                circle.append(QPointF(radius * std::cos(angle), radius * std::sin(angle)));
+            }
+            m_ringLabels[k]->setText(
+                toQString(formatEngineering(m_r0 * std::pow(10.0, double(k)), 3, "rad/s")));
         }
+        m_rings[k]->replace(circle);
     }
-    const double span = std::max(reMax, imMax);
-    const ScalePrefix sp = scalePrefixFor(span);
-    QList<QPointF> points;
-    for (const ClosedLoopPole &p : a.poles) {
-        if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag()))
-            points.append(QPointF(p.s.real() * sp.factor, p.s.imag() * sp.factor));
+    const double reach = m_outer + 0.4;
+    m_axis->replace({QPointF(0, -reach), QPointF(0, reach)});
+    m_realAxis->replace({QPointF(-reach, 0), QPointF(std::max(0.3 * reach, m_rightMost + 0.3), 0)});
+    m_poles->replace(m_points);
+
+    // One text per pole or conjugate pair (upper half-plane and real axis); coincident
+    // poles say how many they are, so the legend's count is always found on the plot.
+    m_labelEntries.clear();
+    std::vector<bool> done(m_shown.size(), false);
+    for (std::size_t i = 0; i < m_shown.size(); ++i) {
+        if (done[i] || m_shown[i].s.imag() < 0)
+            continue;
+        int same = 0;
+        for (std::size_t j = i; j < m_shown.size(); ++j) {
+            if (!done[j]
+                && std::abs(m_shown[j].s - m_shown[i].s) <= 1e-9 * std::abs(m_shown[i].s)) {
+                done[j] = true;
+                ++same;
+            }
+        }
+        const std::complex<double> s = m_shown[i].s;
+        QString text = signedEngineering(s.real());
+        if (s.imag() > 0)
+            text += QStringLiteral(" ± j") + toQString(formatEngineering(s.imag(), 3));
+        if (same > 1)
+            text += QStringLiteral(" (×%1)").arg(same);
+        m_labelEntries.push_back({m_points[qsizetype(i)], text, std::abs(s)});
     }
-    const double r = span > 0 ? span * sp.factor * 1.1 : 1.0;
-    // Right half-plane poles stay on the plot: they are what the designer must move.
-    setNiceRange(m_x, -r, std::max(r * 0.2, rightMost * sp.factor * 1.1), 4);
-    setNiceRange(m_y, -r, r, 4);
-    m_axis->replace({QPointF(0, -r), QPointF(0, r)});
-    m_poles->replace(points);
-    m_shown = a.poles;
-    if (sp.factor != m_scale) {
-        m_scale = sp.factor;
-        refreshOverlays();
-    }
-    m_x->setTitleText(tr("Re s (%1rad/s)").arg(sp.prefix));
-    m_y->setTitleText(tr("Im s (%1rad/s)").arg(sp.prefix));
-    rename(m_poles, tr("closed-loop poles (%1)").arg(points.size()));
+    // The dominant poles are labelled first: where labels would collide, theirs stays.
+    std::stable_sort(m_labelEntries.begin(), m_labelEntries.end(),
+                     [](const LabelEntry &l, const LabelEntry &r) { return l.size < r.size; });
+
+    rename(m_poles, tr("closed-loop poles (%1)").arg(m_points.size()));
+    fitHome();
+    placeLabels();
+    refreshOverlays(); // the radial scale follows the current design
     // The dominant pole (lowest natural frequency) is what a designer reads first.
     const ClosedLoopPole *dominant = nullptr;
     for (const ClosedLoopPole &p : a.poles) {
@@ -392,6 +493,159 @@ void PolesPanel::showAnalysis(const Analysis &a)
                                 .arg(engineering(dominant->naturalHz, "Hz"))
                                 .arg(dominant->damping, 0, 'f', 2)
                           : tr("no finite poles"));
+}
+
+QStringList PolesPanel::poleLabels() const
+{
+    QStringList texts;
+    for (const QGraphicsSimpleTextItem *label : m_poleLabels) {
+        if (label->isVisible())
+            texts << label->text();
+    }
+    return texts;
+}
+
+void PolesPanel::fitHome()
+{
+    const QRectF plot = chart()->plotArea();
+    if (m_fitting || !(plot.width() > 0) || !(plot.height() > 0))
+        return;
+    m_fitting = true;
+    // Room for every circle and pole, the right half-plane at least a third of the radius
+    // wide; then one unit gets as many pixels across as up, so circles stay round and
+    // angles true.
+    const double reach = m_outer + 0.4;
+    const double left = -reach;
+    const double right = std::max(0.35 * reach, m_rightMost + 0.4);
+    const double perPixel = std::max((right - left) / plot.width(), 2.0 * reach / plot.height());
+    const double centre = (left + right) / 2.0;
+    const double halfWidth = perPixel * plot.width() / 2.0;
+    const double halfHeight = perPixel * plot.height() / 2.0;
+    // Tick marks are not labelled (the scale is not linear): one per radius unit.
+    setHomeRange(m_x, centre - halfWidth, centre + halfWidth, 1.0);
+    setHomeRange(m_y, -halfHeight, halfHeight, 1.0);
+    m_fitting = false;
+}
+
+void PolesPanel::plotGeometryChanged()
+{
+    fitHome();
+    placeLabels();
+}
+
+void PolesPanel::placeLabels()
+{
+    const QRectF plot = chart()->plotArea();
+    const bool any = m_poles->count() > 0;
+    for (QGraphicsSimpleTextItem *name : m_axisNames)
+        name->setVisible(any);
+    if (!any) {
+        // Not analysed (or nothing to show): no values stand without their poles.
+        for (QGraphicsSimpleTextItem *label : m_ringLabels)
+            label->hide();
+        for (QGraphicsSimpleTextItem *label : m_poleLabels)
+            label->hide();
+        return;
+    }
+    // What is placed first wins a spot: the markers themselves, the pole values (dominant
+    // poles first), the axis names, then the circles' values. A label that finds no free
+    // spot inside the plot is left out.
+    std::vector<QRectF> taken;
+    for (const QPointF &p : m_points) {
+        const QPointF at = chart()->mapToPosition(p, m_poles);
+        taken.emplace_back(at.x() - 5, at.y() - 5, 10, 10);
+    }
+    auto place = [&](QGraphicsSimpleTextItem *label, std::initializer_list<QPointF> corners) {
+        const QSizeF size = label->boundingRect().size();
+        for (const QPointF &corner : corners) {
+            const QRectF spot(corner, size);
+            bool free = plot.contains(spot);
+            for (const QRectF &r : taken)
+                free = free && !r.intersects(spot);
+            if (free) {
+                label->setPos(corner);
+                label->show();
+                taken.push_back(spot.adjusted(-2, -1, 2, 1));
+                return;
+            }
+        }
+        label->hide();
+    };
+
+    // Pole values beside their marker; poles drawn within a marker's width of each other
+    // share one label, so none hides another.
+    struct Group
+    {
+        QPointF at; ///< the first member's marker
+        QRectF box; ///< around every member's marker
+        QStringList texts;
+    };
+    std::vector<Group> groups;
+    for (const LabelEntry &entry : m_labelEntries) {
+        const QPointF at = chart()->mapToPosition(entry.at, m_poles);
+        if (!plot.contains(at))
+            continue;
+        auto near = std::find_if(groups.begin(), groups.end(), [&](const Group &g) {
+            return std::hypot(g.at.x() - at.x(), g.at.y() - at.y()) < 12.0;
+        });
+        const QRectF marker(at.x() - 5, at.y() - 5, 10, 10);
+        if (near == groups.end()) {
+            groups.push_back({at, marker, {entry.text}});
+        } else {
+            near->box |= marker;
+            near->texts << entry.text;
+        }
+    }
+    while (m_poleLabels.size() < groups.size()) {
+        auto *label = new QGraphicsSimpleTextItem(chart());
+        QFont f = label->font();
+        f.setPointSizeF(7.5);
+        label->setFont(f);
+        label->setBrush(palette::kVermillion.darker(140));
+        label->setZValue(6);
+        m_poleLabels.push_back(label);
+    }
+    for (std::size_t k = 0; k < m_poleLabels.size(); ++k) {
+        QGraphicsSimpleTextItem *label = m_poleLabels[k];
+        if (k >= groups.size()) {
+            label->hide();
+            continue;
+        }
+        label->setText(groups[k].texts.join(QStringLiteral(", ")));
+        const QRectF b = groups[k].box;
+        const QSizeF size = label->boundingRect().size();
+        const double w = size.width(), h = size.height();
+        place(label,
+              {QPointF(b.right() + 2, b.top() - h + 2), QPointF(b.left() - 2 - w, b.top() - h + 2),
+               QPointF(b.center().x() - w / 2, b.top() - h - 1),
+               QPointF(b.right() + 2, b.bottom() - 2), QPointF(b.left() - 2 - w, b.bottom() - 2),
+               QPointF(b.center().x() - w / 2, b.bottom() + 1)});
+    }
+
+    // "Re s" at the right end of the real axis, "jω" at the top of the jω axis.
+    const QPointF realEnd = chart()->mapToPosition(m_realAxis->points().value(1), m_poles);
+    const QPointF jwTop = chart()->mapToPosition(m_axis->points().value(1), m_poles);
+    const QSizeF re = m_axisNames[0]->boundingRect().size();
+    place(m_axisNames[0],
+          {QPointF(realEnd.x() - re.width(), realEnd.y() + 2),
+           QPointF(realEnd.x() - re.width(), realEnd.y() - re.height() - 2)});
+    place(m_axisNames[1],
+          {QPointF(jwTop.x() + 4, jwTop.y()),
+           QPointF(jwTop.x() - 4 - m_axisNames[1]->boundingRect().width(), jwTop.y())});
+
+    // Circle values on the lower half of the jω axis, just right of it (or left).
+    for (std::size_t k = 0; k < m_ringLabels.size(); ++k) {
+        QGraphicsSimpleTextItem *label = m_ringLabels[k];
+        if (int(k) >= m_ringCount) {
+            label->hide();
+            continue;
+        }
+        const QPointF at = chart()->mapToPosition(QPointF(0, -(kInnerRadius + double(k))), m_poles);
+        const QSizeF size = label->boundingRect().size();
+        place(label,
+              {QPointF(at.x() + 3, at.y() - size.height()),
+               QPointF(at.x() - 3 - size.width(), at.y() - size.height())});
+    }
 }
 
 } // namespace loopsketch::ui

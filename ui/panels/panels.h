@@ -5,6 +5,10 @@
 
 #include "panels/plotpanel.h"
 
+#include <complex>
+
+class QGraphicsSimpleTextItem;
+
 namespace loopsketch::ui {
 
 /// Magnitude and phase of A, T (return ratio), the closed loop by the two-port estimate
@@ -88,7 +92,11 @@ private:
     QScatterSeries *m_peak;
 };
 
-/// Closed-loop natural frequencies on the s-plane.
+/// Closed-loop natural frequencies on the s-plane, on a log-magnitude radial scale: each pole
+/// keeps its angle (so the left half-plane, the jω axis and the damping ζ = cos of the angle
+/// from the negative real axis read as usual) and sits at radius 2 + log10(|s| / r0), r0 the
+/// decade below the smallest |s|; circles mark every decade of |s|. Poles a thousand times
+/// apart are thus both readable; a pole at s = 0 sits at the centre.
 class PolesPanel : public PlotPanel
 {
     Q_OBJECT
@@ -97,15 +105,45 @@ public:
     explicit PolesPanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
+    /// Where a pole s (rad/s) is drawn, in the plot's units.
+    QPointF plotted(std::complex<double> s) const;
+    /// The pole values shown beside their markers, upper half-plane and real axis
+    /// ("−856k ± j174k"); poles drawn close together share one label.
+    QStringList poleLabels() const;
+
 protected:
+    void plotGeometryChanged() override;
     std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
 
 private:
+    /// The panel's own ranges: every pole and ring inside, one unit as long on both axes.
+    void fitHome();
+    void placeLabels();
+
     QValueAxis *m_x, *m_y;
     QScatterSeries *m_poles;
-    QLineSeries *m_axis;
-    std::vector<ClosedLoopPole> m_shown; ///< for the hover text
-    double m_scale = 1.0; ///< chart units per rad/s
+    QLineSeries *m_axis, *m_realAxis;
+    std::vector<QLineSeries *> m_rings;
+    std::vector<QGraphicsSimpleTextItem *> m_ringLabels;
+    std::vector<QGraphicsSimpleTextItem *> m_axisNames; ///< "Re s", "jω"
+    std::vector<QGraphicsSimpleTextItem *> m_poleLabels;
+    struct LabelEntry
+    {
+        QPointF at; ///< in the plot's units
+        QString text;
+        double size = 0; ///< |s|, rad/s
+    };
+    std::vector<LabelEntry> m_labelEntries;
+    std::vector<ClosedLoopPole> m_shown; ///< finite poles, in the order of m_points
+    QList<QPointF> m_points;
+    /// Radius of the circle at r0: the empty disc inside it keeps the smallest poles clear
+    /// of the centre and of their conjugates.
+    static constexpr double kInnerRadius = 2.0;
+    double m_r0 = 1.0; ///< rad/s at radius kInnerRadius
+    double m_outer = kInnerRadius; ///< radius of the outermost pole
+    int m_ringCount = 0;
+    double m_rightMost = 0; ///< largest x drawn
+    bool m_fitting = false;
 };
 
 } // namespace loopsketch::ui

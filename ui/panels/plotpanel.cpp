@@ -16,15 +16,40 @@
 #include <QLineSeries>
 #include <QMouseEvent>
 #include <QRegularExpression>
+#include <QRubberBand>
 #include <QScatterSeries>
 #include <QTimer>
 #include <QToolButton>
 #include <QValueAxis>
+#include <QWheelEvent>
 
 #include <algorithm>
 #include <cmath>
+#include <span>
 
 namespace loopsketch::ui {
+
+namespace {
+
+/// 1, 2 or 5 times a power of ten, so that `span` holds at most about `ticks` steps.
+double niceStep(double span, double ticks)
+{
+    const double raw = span / std::max(1.0, ticks);
+    const double decade = std::pow(10.0, std::floor(std::log10(raw)));
+    for (double m : {1.0, 2.0, 5.0}) {
+        if (m * decade >= raw)
+            return m * decade;
+    }
+    return 10.0 * decade;
+}
+
+/// A zoomed view narrower than this share of the panel's own range says nothing more (the
+/// labels would repeat); wider than kMaxZoomOut times it, nothing is left to see.
+constexpr double kMinZoomShare = 1e-6;
+constexpr double kMaxZoomOut = 4.0;
+constexpr int kMinBandPixels = 6;
+
+} // namespace
 
 PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
 {
@@ -49,6 +74,21 @@ PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
     connect(c, &QChart::plotAreaChanged, this, &PlotPanel::plotAreaChanged);
     setRenderHint(QPainter::Antialiasing, true);
     setMinimumSize(240, 190);
+
+    m_resetZoomAction = new QAction(tr("Reset zoom"), this);
+    m_resetZoomAction->setToolTip(tr("Back to the whole plot (or double-click the plot)"));
+    m_resetZoomAction->setEnabled(false);
+    connect(m_resetZoomAction, &QAction::triggered, this, &PlotPanel::resetZoom);
+    addAction(m_resetZoomAction);
+    setContextMenuPolicy(Qt::ActionsContextMenu);
+    m_resetZoomButton = new QToolButton(this);
+    m_resetZoomButton->setDefaultAction(m_resetZoomAction);
+    m_resetZoomButton->setToolButtonStyle(Qt::ToolButtonTextOnly);
+    QFont bf = m_resetZoomButton->font();
+    bf.setPointSizeF(7.5);
+    m_resetZoomButton->setFont(bf);
+    m_resetZoomButton->adjustSize();
+    m_resetZoomButton->hide();
 }
 
 QXYSeries *PlotPanel::series(const QString &name) const
@@ -143,6 +183,7 @@ void PlotPanel::setDecadeRange(QCategoryAxis *axis, double lo, double hi, std::s
     DecadeAxis &state = m_decadeAxes[axis];
     state.lo = lo;
     state.hi = hi;
+    m_home[axis] = {lo, hi, 1.0};
     state.unit = std::string(unit);
     applyDecades(axis, state);
 }
@@ -152,31 +193,53 @@ void PlotPanel::applyDecades(QCategoryAxis *axis, DecadeAxis &state)
     const QRectF plot = chart()->plotArea();
     const bool vertical = axis->orientation() == Qt::Vertical;
     const double pixels = vertical ? plot.height() : plot.width();
-    const double span = state.hi - state.lo;
+    double lo = state.lo, hi = state.hi;
+    if (const auto view = m_view.find(axis); view != m_view.end()) {
+        lo = view->second.lo;
+        hi = view->second.hi;
+    }
+    const double span = hi - lo;
     // Room for a label such as "100k" (horizontal) or one text line (vertical).
     const double room = vertical ? 22.0 : 40.0;
     int step = 1;
+    int fine = 0;
     if (pixels > 0) {
         while (step < 6 && pixels * step / span < room)
             ++step;
+        // Zoomed into a decade or two: labels at 2 and 5 (their closest pair is 0.3 decade
+        // apart), or at every digit (2 to 9: 0.046 decade).
+        const double perDecade = pixels / span;
+        fine = perDecade >= room / 0.0458 ? 2 : perDecade >= room / 0.301 ? 1 : 0;
     }
-    if (step == state.step && state.lo == state.drawnLo && state.hi == state.drawnHi
+    if (step == state.step && fine == state.fine && lo == state.drawnLo && hi == state.drawnHi
         && state.unit == state.drawnUnit)
         return;
     // Rebuilding the categories relayouts the chart, so it happens only when they change.
     const QStringList old = axis->categoriesLabels();
     for (const QString &label : old)
         axis->remove(label);
-    axis->setStartValue(state.lo);
-    const int first = int(std::ceil(state.lo - 1e-9));
-    for (int k = first; k <= int(std::floor(state.hi + 1e-9)); ++k) {
-        if ((k - first) % step == 0 || step == 1)
+    axis->setStartValue(lo);
+    const int first = int(std::ceil(lo - 1e-9));
+    static const double kFine[] = {2, 5};
+    static const double kDigits[] = {2, 3, 4, 5, 6, 7, 8, 9};
+    for (int k = int(std::floor(lo)); k <= int(std::floor(hi + 1e-9)); ++k) {
+        if (k >= first && ((k - first) % step == 0 || step == 1))
             axis->append(toQString(formatEngineering(std::pow(10.0, k), 3, state.unit)), k);
+        if (fine == 0)
+            continue;
+        for (double m :
+             fine == 1 ? std::span<const double>(kFine) : std::span<const double>(kDigits)) {
+            const double at = k + std::log10(m);
+            if (at > lo + 1e-9 && at <= hi + 1e-9)
+                axis->append(toQString(formatEngineering(m * std::pow(10.0, k), 3, state.unit)),
+                             at);
+        }
     }
-    axis->setRange(state.lo, state.hi);
+    axis->setRange(lo, hi);
     state.step = step;
-    state.drawnLo = state.lo;
-    state.drawnHi = state.hi;
+    state.fine = fine;
+    state.drawnLo = lo;
+    state.drawnHi = hi;
     state.drawnUnit = state.unit;
 }
 
@@ -198,7 +261,13 @@ void PlotPanel::plotAreaChanged()
         thin(s, full.points, full.xMin, full.xMax);
     for (const auto &[axis, r] : m_roundAxes)
         applyRound(axis, r);
+    // A zoomed value axis spaces its ticks for the plot's pixels too.
+    for (const auto &[axis, view] : m_view) {
+        if (!qobject_cast<QCategoryAxis *>(axis))
+            applyAxis(axis);
+    }
     placeSummary();
+    plotGeometryChanged();
     if (std::isfinite(m_cursorAt))
         showFrequencyCursor(m_cursorAt);
 }
@@ -217,7 +286,243 @@ void PlotPanel::setNiceRange(QValueAxis *axis, double lo, double hi, int ticks)
         if (step >= raw)
             break;
     }
-    applyRange(axis, std::floor(lo / step) * step, std::ceil(hi / step) * step, step);
+    setHomeRange(axis, std::floor(lo / step) * step, std::ceil(hi / step) * step, step);
+}
+
+void PlotPanel::setHomeRange(QValueAxis *axis, double lo, double hi, double step)
+{
+    m_home[axis] = {lo, hi, step};
+    applyAxis(axis);
+}
+
+void PlotPanel::applyAxis(QValueAxis *axis)
+{
+    if (auto *decades = qobject_cast<QCategoryAxis *>(axis)) {
+        if (const auto state = m_decadeAxes.find(decades); state != m_decadeAxes.end())
+            applyDecades(decades, state->second);
+        return;
+    }
+    if (const auto view = m_view.find(axis); view != m_view.end()) {
+        const QRectF plot = chart()->plotArea();
+        const bool vertical = axis->orientation() == Qt::Vertical;
+        // About 30 px a label vertically, 70 px horizontally ("-0.125").
+        const double ticks = vertical ? plot.height() / 30.0 : plot.width() / 70.0;
+        const auto [lo, hi, unused] = view->second;
+        applyRange(axis, lo, hi, niceStep(hi - lo, std::max(2.0, ticks)));
+        return;
+    }
+    if (const auto home = m_home.find(axis); home != m_home.end())
+        applyRange(axis, home->second.lo, home->second.hi, home->second.step);
+}
+
+std::pair<double, double> PlotPanel::axisRange(const QAbstractAxis *axis)
+{
+    if (const auto *v = qobject_cast<const QValueAxis *>(axis))
+        return {v->min(), v->max()};
+    return {0.0, 0.0};
+}
+
+QPointF PlotPanel::toChart(QPoint viewportPos) const
+{
+    return chart()->mapFromScene(mapToScene(viewportPos));
+}
+
+std::vector<QValueAxis *> PlotPanel::zoomAxes(Qt::Orientations which) const
+{
+    std::vector<QValueAxis *> axes;
+    for (QAbstractAxis *a : chart()->axes()) {
+        auto *v = qobject_cast<QValueAxis *>(a);
+        if (v && (which & a->orientation()) && m_home.count(v))
+            axes.push_back(v);
+    }
+    return axes;
+}
+
+void PlotPanel::setView(QValueAxis *axis, double lo, double hi)
+{
+    const auto home = m_home.find(axis);
+    if (home == m_home.end() || !std::isfinite(lo) || !std::isfinite(hi) || !(hi > lo))
+        return;
+    const double homeSpan = home->second.hi - home->second.lo;
+    const double span = hi - lo;
+    if (span < homeSpan * kMinZoomShare)
+        return;
+    if (span > homeSpan * kMaxZoomOut) {
+        const double mid = (lo + hi) / 2;
+        lo = mid - homeSpan * kMaxZoomOut / 2;
+        hi = mid + homeSpan * kMaxZoomOut / 2;
+    }
+    const double tolerance = homeSpan * 1e-9;
+    if (std::abs(lo - home->second.lo) <= tolerance && std::abs(hi - home->second.hi) <= tolerance)
+        m_view.erase(axis);
+    else
+        m_view[axis] = {lo, hi, 0.0};
+    applyAxis(axis);
+}
+
+void PlotPanel::zoomAt(QPoint at, double factor, Qt::Orientations which)
+{
+    const QRectF plot = chart()->plotArea();
+    if (!(factor > 0) || plot.isEmpty())
+        return;
+    if (m_equalAspect)
+        which = Qt::Horizontal | Qt::Vertical;
+    const QPointF c = toChart(at);
+    for (QValueAxis *axis : zoomAxes(which)) {
+        const auto [lo, hi] = axisRange(axis);
+        const double share = axis->orientation() == Qt::Horizontal
+            ? (c.x() - plot.left()) / plot.width()
+            : (plot.bottom() - c.y()) / plot.height();
+        const double fixed = lo + std::clamp(share, 0.0, 1.0) * (hi - lo);
+        setView(axis, fixed - (fixed - lo) * factor, fixed + (hi - fixed) * factor);
+    }
+    viewUpdated();
+}
+
+void PlotPanel::zoomToRect(const QRect &rect)
+{
+    const QRectF plot = chart()->plotArea();
+    if (plot.isEmpty())
+        return;
+    QRectF r = QRectF(toChart(rect.topLeft()), toChart(rect.bottomRight())).normalized();
+    const bool wide = rect.width() >= kMinBandPixels;
+    const bool tall = rect.height() >= kMinBandPixels;
+    if (!wide && !tall)
+        return;
+    if (m_equalAspect) {
+        // The rectangle grows to the plot's proportions, so a unit keeps its length.
+        const double aspect = plot.width() / plot.height();
+        if (!tall || r.width() / std::max(1.0, r.height()) > aspect)
+            r.setHeight(r.width() / aspect);
+        else
+            r.setWidth(r.height() * aspect);
+        r.moveCenter(QRectF(toChart(rect.topLeft()), toChart(rect.bottomRight())).center());
+    }
+    Qt::Orientations which;
+    if (wide || m_equalAspect)
+        which |= Qt::Horizontal;
+    if (tall || m_equalAspect)
+        which |= Qt::Vertical;
+    for (QValueAxis *axis : zoomAxes(which)) {
+        const auto [lo, hi] = axisRange(axis);
+        if (axis->orientation() == Qt::Horizontal)
+            setView(axis, lo + (r.left() - plot.left()) / plot.width() * (hi - lo),
+                    lo + (r.right() - plot.left()) / plot.width() * (hi - lo));
+        else
+            setView(axis, lo + (plot.bottom() - r.bottom()) / plot.height() * (hi - lo),
+                    lo + (plot.bottom() - r.top()) / plot.height() * (hi - lo));
+    }
+    viewUpdated();
+}
+
+void PlotPanel::panBy(QPoint pixels)
+{
+    const QRectF plot = chart()->plotArea();
+    if (plot.isEmpty() || pixels.isNull())
+        return;
+    for (QValueAxis *axis : zoomAxes(Qt::Horizontal | Qt::Vertical)) {
+        const auto [lo, hi] = axisRange(axis);
+        const double shift = axis->orientation() == Qt::Horizontal
+            ? -pixels.x() / plot.width() * (hi - lo)
+            : pixels.y() / plot.height() * (hi - lo);
+        setView(axis, lo + shift, hi + shift);
+    }
+    viewUpdated();
+}
+
+void PlotPanel::resetZoom()
+{
+    if (m_view.empty())
+        return;
+    std::vector<QValueAxis *> zoomed;
+    for (const auto &[axis, view] : m_view)
+        zoomed.push_back(axis);
+    m_view.clear();
+    for (QValueAxis *axis : zoomed)
+        applyAxis(axis);
+    viewUpdated();
+}
+
+void PlotPanel::viewUpdated()
+{
+    for (auto &[s, full] : m_fullCurves)
+        thin(s, full.points, full.xMin, full.xMax);
+    if (std::isfinite(m_cursorAt))
+        showFrequencyCursor(m_cursorAt);
+    m_resetZoomAction->setEnabled(isZoomed());
+    m_resetZoomButton->setVisible(isZoomed());
+    placeSummary();
+    plotGeometryChanged();
+    emit viewChanged(isZoomed());
+}
+
+void PlotPanel::mousePressEvent(QMouseEvent *event)
+{
+    const bool inPlot = chart()->plotArea().contains(toChart(event->pos()));
+    const bool pan = event->button() == Qt::MiddleButton
+        || (event->button() == Qt::LeftButton && (event->modifiers() & Qt::ShiftModifier));
+    if (inPlot && (pan || event->button() == Qt::LeftButton)) {
+        m_drag = pan ? Drag::Pan : Drag::Band;
+        m_dragFrom = event->pos();
+        if (pan) {
+            viewport()->setCursor(Qt::ClosedHandCursor);
+        } else {
+            if (!m_band)
+                m_band = new QRubberBand(QRubberBand::Rectangle, viewport());
+            m_band->setGeometry(QRect(m_dragFrom, QSize()));
+            m_band->show();
+        }
+        event->accept();
+        return;
+    }
+    QChartView::mousePressEvent(event);
+}
+
+void PlotPanel::mouseReleaseEvent(QMouseEvent *event)
+{
+    if (m_drag == Drag::None) {
+        QChartView::mouseReleaseEvent(event);
+        return;
+    }
+    const Drag drag = m_drag;
+    m_drag = Drag::None;
+    viewport()->unsetCursor();
+    if (drag == Drag::Band) {
+        m_band->hide();
+        zoomToRect(QRect(m_dragFrom, event->pos()).normalized());
+    }
+    event->accept();
+}
+
+void PlotPanel::mouseDoubleClickEvent(QMouseEvent *event)
+{
+    if (event->button() == Qt::LeftButton) {
+        resetZoom();
+        event->accept();
+        return;
+    }
+    QChartView::mouseDoubleClickEvent(event);
+}
+
+void PlotPanel::wheelEvent(QWheelEvent *event)
+{
+    const int notches = event->angleDelta().y();
+    const QRectF plot = chart()->plotArea();
+    const QPointF c = toChart(event->position().toPoint());
+    Qt::Orientations which;
+    if (plot.contains(c))
+        which = Qt::Horizontal | Qt::Vertical;
+    else if (c.x() >= plot.left() && c.x() <= plot.right())
+        which = Qt::Horizontal; // over the axis below (or above) the plot
+    else if (c.y() >= plot.top() && c.y() <= plot.bottom())
+        which = Qt::Vertical; // over an axis beside the plot
+    if (notches == 0 || !which) {
+        event->ignore();
+        return;
+    }
+    // One notch (120) zooms in to 80 % of the range; turning back zooms out as far.
+    zoomAt(event->position().toPoint(), std::pow(0.8, notches / 120.0), which);
+    event->accept();
 }
 
 void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
@@ -256,6 +561,7 @@ void PlotPanel::showUnavailable(const QString &reason)
         s->replace(QList<QPointF>());
     setTitle(tr("not analysed"));
     showFrequencyCursor(std::nan(""));
+    plotGeometryChanged();
     if (!m_unavailable) {
         m_unavailable = new QGraphicsTextItem(chart());
         m_unavailable->setDefaultTextColor(QColor(0x8a, 0x1c, 0x14));
@@ -307,6 +613,8 @@ void PlotPanel::placeSummary()
         }
     }
     m_summary->setPos(std::max(4.0, (room - w) / 2.0), chart()->margins().top() + 3.0);
+    // Bottom left, beside the legend, under the vertical axis' labels.
+    m_resetZoomButton->move(4, height() - m_resetZoomButton->height() - 2);
 }
 
 void PlotPanel::enableOverlays(QAbstractAxis *x)
@@ -491,6 +799,12 @@ void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, doubl
 
 void PlotPanel::mouseMoveEvent(QMouseEvent *event)
 {
+    if (m_drag == Drag::Pan) {
+        panBy(event->pos() - m_dragFrom);
+        m_dragFrom = event->pos();
+    } else if (m_drag == Drag::Band) {
+        m_band->setGeometry(QRect(m_dragFrom, event->pos()).normalized());
+    }
     QChartView::mouseMoveEvent(event);
     if (!m_frequencyAxis || m_series.empty())
         return;
@@ -597,12 +911,25 @@ QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const
 void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
 {
     // Columns three pixels wide; each keeps its lowest and highest point, in sweep order.
+    // Zoomed in, the columns are those of the range shown.
     const double columns = chart()->plotArea().width() / 3.0;
-    if (!(columns > 0) || !(xMax > xMin) || points.size() < qsizetype(2 * columns)) {
+    double shownMin = xMin, shownMax = xMax;
+    for (const QAbstractAxis *axis : s->attachedAxes()) {
+        if (axis->orientation() == Qt::Horizontal) {
+            const auto [lo, hi] = axisRange(axis);
+            if (hi > lo) {
+                shownMin = lo;
+                shownMax = hi;
+            }
+        }
+    }
+    const double shown = std::min(shownMax, xMax) - std::max(shownMin, xMin);
+    if (!(columns > 0) || !(xMax > xMin) || !(shown > 0)
+        || double(points.size()) * shown / (xMax - xMin) < 2 * columns) {
         s->replace(points);
         return;
     }
-    const double perColumn = (xMax - xMin) / columns;
+    const double perColumn = (shownMax - shownMin) / columns;
     QList<QPointF> kept;
     kept.reserve(qsizetype(2 * columns) + 4);
     const qsizetype n = points.size();
@@ -659,7 +986,7 @@ void PlotPanel::applyRound(QValueAxis *axis, const RoundAxis &r)
             break;
         step *= 2;
     }
-    applyRange(axis, a, b, step);
+    setHomeRange(axis, a, b, step);
 }
 
 void PlotPanel::rename(QXYSeries *s, const QString &name)

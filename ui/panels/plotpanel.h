@@ -1,7 +1,8 @@
 #pragma once
 
 // Base of the linked plot panels: a chart view with our palette, a log frequency axis
-// labelled 1, 10, 100, 1k ... 1G, and helpers that push whole curves with replace().
+// labelled 1, 10, 100, 1k ... 1G, helpers that push whole curves with replace(), and zoom
+// and pan for every panel.
 
 #include "support/plotstyle.h"
 
@@ -20,6 +21,7 @@
 
 class QAbstractAxis;
 class QAction;
+class QRubberBand;
 class QToolButton;
 class QGraphicsSimpleTextItem;
 class QGraphicsLineItem;
@@ -83,9 +85,31 @@ public:
     /// runs from the event loop).
     QStringList legendLabels() const;
 
+    // Zoom and pan. The wheel zooms about the pointer (over an axis, that axis alone), a left
+    // drag zooms to the rectangle drawn (a flat one: that direction alone), a middle drag or
+    // Shift+left drag pans, a double-click returns to the panel's own ranges. While zoomed the
+    // view stays where the user put it and the panel's own ranges keep following the
+    // analysis underneath, for the reset. Positions are in viewport pixels.
+    /// True while any axis shows a range of the user's choosing.
+    bool isZoomed() const { return !m_view.empty(); }
+    /// Zooms about `at` by `factor` (below 1: in) on the axes of the given orientations.
+    void zoomAt(QPoint at, double factor, Qt::Orientations which = Qt::Horizontal | Qt::Vertical);
+    /// Zooms to the rectangle; a side under 6 px leaves that direction as it is.
+    void zoomToRect(const QRect &rect);
+    /// Moves the view with the pointer by `pixels`.
+    void panBy(QPoint pixels);
+    /// The panel's own ranges again.
+    void resetZoom();
+    /// "Reset zoom" (context menu, the button shown while zoomed).
+    QAction *resetZoomAction() const { return m_resetZoomAction; }
+    /// The shown range of an axis of this panel.
+    static std::pair<double, double> axisRange(const QAbstractAxis *axis);
+
 signals:
     /// The mouse hovers the plot at log10(f / Hz); NaN when it left.
     void frequencyHovered(double log10Hz);
+    /// The user zoomed, panned or reset the view.
+    void viewChanged(bool zoomed);
 
 protected:
     /// How a curve's value reads in the cursor text; None leaves it out.
@@ -123,7 +147,14 @@ protected:
     /// Steps double while the labels would crowd the axis.
     void setRoundRange(QValueAxis *axis, double lo, double hi, double step);
     /// Sets a value axis to [lo, hi] with about `ticks` ticks at 1, 2 or 5 times a power of 10.
-    static void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
+    void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
+    /// Sets the panel's own range of a value axis as it is (no rounding), ticks `step` apart.
+    void setHomeRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Rubber-band zooms keep one unit the same length on both axes (the s-plane).
+    void setEqualAspect(bool on) { m_equalAspect = on; }
+    /// Called after the plot area or the shown ranges changed (zoom, pan, resize), for items
+    /// a panel places over the plot.
+    virtual void plotGeometryChanged() { }
     /// Replaces a frequency curve's points, thinned to the points that matter on screen: in
     /// each three-pixel column its lowest and highest point survive, so peaks stay exact.
     /// Every point kept is one of core's, unchanged. `format` puts it in the cursor text.
@@ -137,6 +168,10 @@ protected:
     void hideFromLegend(QXYSeries *series);
     void resizeEvent(QResizeEvent *event) override;
     void mouseMoveEvent(QMouseEvent *event) override;
+    void mousePressEvent(QMouseEvent *event) override;
+    void mouseReleaseEvent(QMouseEvent *event) override;
+    void mouseDoubleClickEvent(QMouseEvent *event) override;
+    void wheelEvent(QWheelEvent *event) override;
     void leaveEvent(QEvent *event) override;
     /// Sets a series' name, keeping the lookup table in step.
     void rename(QXYSeries *series, const QString &name);
@@ -149,9 +184,31 @@ private:
         double lo = 0, hi = 0;
         std::string unit;
         int step = 0; ///< decades between labels as last drawn; 0 = never drawn
+        int fine = 0; ///< labels inside a decade as last drawn: 0 none, 1 at 2 and 5, 2 at 2..9
         double drawnLo = 0, drawnHi = 0;
         std::string drawnUnit;
     };
+    struct AxisRange
+    {
+        double lo = 0, hi = 0, step = 0;
+    };
+    /// Applies the shown range of an axis: the user's view when zoomed, else the panel's own.
+    void applyAxis(QValueAxis *axis);
+    /// Sets (or, when it equals the panel's own, drops) the user's view of one axis.
+    void setView(QValueAxis *axis, double lo, double hi);
+    /// After a zoom, pan or reset: curves thinned for the new range, cursor, button, signal.
+    void viewUpdated();
+    std::vector<QValueAxis *> zoomAxes(Qt::Orientations which) const;
+    QPointF toChart(QPoint viewportPos) const;
+    std::map<QValueAxis *, AxisRange> m_home; ///< the ranges the panel chose
+    std::map<QValueAxis *, AxisRange> m_view; ///< the user's zoom; absent: the panel's own
+    enum class Drag { None, Band, Pan };
+    Drag m_drag = Drag::None;
+    QPoint m_dragFrom;
+    QRubberBand *m_band = nullptr;
+    QAction *m_resetZoomAction = nullptr;
+    QToolButton *m_resetZoomButton = nullptr;
+    bool m_equalAspect = false;
     void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
     void placeSummary();
     struct RoundAxis

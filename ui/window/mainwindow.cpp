@@ -33,15 +33,18 @@
 #include <QFileDialog>
 #include <QFileInfo>
 #include <QLabel>
+#include <QLayout>
 #include <QListWidget>
 #include <QMenuBar>
 #include <QMessageBox>
 #include <QMimeData>
 #include <QRegularExpression>
+#include <QScreen>
 #include <QScrollArea>
 #include <QSettings>
 #include <QStandardPaths>
 #include <QStatusBar>
+#include <QTabBar>
 #include <QTimer>
 
 #include <cerrno>
@@ -55,6 +58,14 @@ namespace {
 constexpr int kMaxRecent = 8;
 const char *kStateKey = "window/state";
 const char *kGeometryKey = "window/geometry";
+/// The version of the saved dock arrangement: a state saved by an older arrangement (other
+/// docks, other places) is not restored; the default one is laid out instead.
+constexpr int kLayoutVersion = 2;
+/// Below this window width the plots share two tab groups beside the Sketch (compact
+/// arrangement), so the Sketch keeps half the width; at and above it they sit right and
+/// below it side by side.
+constexpr int kCompactWidth = 1400;
+constexpr int kLeftDockWidth = 230;
 const char *kRecentKey = "recentFiles";
 
 } // namespace
@@ -278,10 +289,21 @@ MainWindow::MainWindow(QWidget *parent)
     recovery->start();
 
     resize(1500, 940);
-    m_defaultState = saveState();
+    // A first start on a smaller screen: the window fits it. (The offscreen platform's
+    // nominal 800 x 600 screen is no display; tests size their windows themselves.)
+    if (QGuiApplication::platformName() != QStringLiteral("offscreen")) {
+        if (const QScreen *s = screen()) {
+            const QRect available = s->availableGeometry();
+            resize(std::min(width(), available.width() - 16),
+                   std::min(height(), available.height() - 48));
+            move(available.topLeft() + QPoint(8, 8));
+        }
+    }
     QSettings settings;
     restoreGeometry(settings.value(kGeometryKey).toByteArray());
-    m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray());
+    m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
+    if (!m_sizedDocks)
+        arrangeDocks(width() < kCompactWidth);
     updateTitle();
 }
 
@@ -379,8 +401,13 @@ void MainWindow::createDocks()
 
     // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
     m_candidates = new CandidatesPanel(m_document, this);
-    m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"), m_candidates,
-                                Qt::RightDockWidgetArea);
+    // Its table scrolls too, so a narrow window can still give the Sketch half its width.
+    auto *candidatesScroll = new QScrollArea(this);
+    candidatesScroll->setWidget(m_candidates);
+    candidatesScroll->setWidgetResizable(true);
+    candidatesScroll->setFrameShape(QFrame::NoFrame);
+    m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"),
+                                candidatesScroll, Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, m_candidatesDock);
     tabifyDockWidget(impDock, spreadDock);
     impDock->raise();
@@ -481,8 +508,16 @@ void MainWindow::createActions()
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
-    m_viewMenu->addAction(tr("Restore panel arrangement"), this,
-                          [this] { restoreState(m_defaultState); });
+    QAction *resetLayout
+        = m_viewMenu->addAction(tr("Reset layout"), this, &MainWindow::resetLayout);
+    resetLayout->setObjectName(QStringLiteral("ResetLayoutAction"));
+    resetLayout->setToolTip(tr("Every panel back in its place for this window's size"));
+    QAction *resetZoom = m_viewMenu->addAction(tr("Reset plot zoom"), this, [this] {
+        for (PlotPanel *p : m_panels)
+            p->resetZoom();
+    });
+    resetZoom->setShortcut(Qt::CTRL | Qt::Key_0);
+    resetZoom->setToolTip(tr("Every plot back to its whole range"));
     m_viewMenu->addSeparator();
     for (QDockWidget *dock : m_docks) {
         if (dock->features() != QDockWidget::NoDockWidgetFeatures)
@@ -868,7 +903,7 @@ void MainWindow::closeEvent(QCloseEvent *event)
     }
     QSettings settings;
     settings.setValue(kGeometryKey, saveGeometry());
-    settings.setValue(kStateKey, saveState());
+    settings.setValue(kStateKey, saveState(kLayoutVersion));
     const QString recovery = recoveryFile();
     if (!recovery.isEmpty())
         QFile::remove(recovery);
@@ -882,20 +917,119 @@ void MainWindow::showEvent(QShowEvent *event)
         return;
     m_sizedDocks = true;
     // Dock sizes only take once the window has its size and its layout ran.
-    QTimer::singleShot(0, this, [this] {
-        auto dock = [this](const char *name) {
-            return findChild<QDockWidget *>(name);
-        };
-        resizeDocks({dock("PartsDock")}, {230}, Qt::Horizontal);
-        resizeDocks({dock("LoopGainDock")}, {width() * 9 / 20}, Qt::Horizontal);
-        resizeDocks({dock("LoopGainDock"), dock("ImpedanceDock")}, {height() / 2, height() / 2},
-                    Qt::Vertical);
-        resizeDocks({dock("DesensitivityDock")}, {height() * 7 / 25}, Qt::Vertical);
-        resizeDocks({dock("DesensitivityDock"), dock("StepDock"), dock("PolesDock")},
-                    {width() / 3, width() / 3, width() / 3}, Qt::Horizontal);
-        resizeDocks({dock("PartsDock"), dock("InspectorDock")}, {height() / 3, height() / 2},
-                    Qt::Vertical);
+    QTimer::singleShot(0, this, [this] { resetLayout(); });
+}
+
+void MainWindow::resetLayout()
+{
+    const bool compact = width() < kCompactWidth;
+    arrangeDocks(compact);
+    // Sizes take once the layout has placed the docks, and the Sketch fits its new size
+    // once they took.
+    // A first arrangement may still be settling on the first pass (the docks moved from the
+    // constructor's places), so the sizes are given twice.
+    QTimer::singleShot(0, this, [this, compact] {
+        sizeDocks(compact);
+        QTimer::singleShot(0, this, [this, compact] {
+            // Docks that asked for more room than the screen has on the way give it back.
+            if (QGuiApplication::platformName() != QStringLiteral("offscreen") && screen()) {
+                const QRect available = screen()->availableGeometry();
+                if (height() > available.height() - 48 || width() > available.width() - 16)
+                    resize(std::min(width(), available.width() - 16),
+                           std::min(height(), available.height() - 48));
+            }
+            sizeDocks(compact);
+            m_view->fitDesign();
+        });
     });
+}
+
+bool MainWindow::isCompactLayout() const
+{
+    auto *loop = findChild<QDockWidget *>(QStringLiteral("LoopGainDock"));
+    auto *step = findChild<QDockWidget *>(QStringLiteral("StepDock"));
+    return loop && step && dockWidgetArea(step) == dockWidgetArea(loop);
+}
+
+void MainWindow::arrangeDocks(bool compact)
+{
+    auto dock = [this](const char *name) {
+        return findChild<QDockWidget *>(QLatin1String(name));
+    };
+    QDockWidget *parts = dock("PartsDock"), *inspector = dock("InspectorDock"),
+                *properties = dock("DesignPropertiesDock"), *loop = dock("LoopGainDock"),
+                *impedance = dock("ImpedanceDock"), *noise = dock("NoiseDock"),
+                *spread = dock("SpreadDock"), *desens = dock("DesensitivityDock"),
+                *step = dock("StepDock"), *poles = dock("PolesDock");
+    for (QDockWidget *d : m_docks) {
+        d->setFloating(false);
+        if (d->features() != QDockWidget::NoDockWidgetFeatures)
+            d->show();
+    }
+    addDockWidget(Qt::LeftDockWidgetArea, parts);
+    splitDockWidget(parts, inspector, Qt::Vertical);
+    tabifyDockWidget(inspector, properties);
+    addDockWidget(Qt::RightDockWidgetArea, loop);
+    if (compact) {
+        // Two tab groups beside the Sketch: the frequency panels above, the time and
+        // s-plane panels below.
+        splitDockWidget(loop, step, Qt::Vertical);
+        for (QDockWidget *d : {impedance, noise, m_candidatesDock, spread})
+            tabifyDockWidget(loop, d);
+        for (QDockWidget *d : {poles, desens})
+            tabifyDockWidget(step, d);
+        step->raise();
+        loop->raise();
+    } else {
+        splitDockWidget(loop, impedance, Qt::Vertical);
+        for (QDockWidget *d : {noise, m_candidatesDock, spread})
+            tabifyDockWidget(impedance, d);
+        impedance->raise();
+        addDockWidget(Qt::BottomDockWidgetArea, desens);
+        splitDockWidget(desens, step, Qt::Horizontal);
+        splitDockWidget(step, poles, Qt::Horizontal);
+    }
+    inspector->raise();
+    // Tab titles are read whole ("Impedance", not "Impedan…"); a crowded group scrolls.
+    for (QTabBar *tabs : findChildren<QTabBar *>(QString(), Qt::FindDirectChildrenOnly)) {
+        tabs->setElideMode(Qt::ElideNone);
+        tabs->setUsesScrollButtons(true);
+    }
+}
+
+void MainWindow::sizeDocks(bool compact)
+{
+    auto dock = [this](const char *name) {
+        return findChild<QDockWidget *>(QLatin1String(name));
+    };
+    QDockWidget *parts = dock("PartsDock"), *inspector = dock("InspectorDock"),
+                *loop = dock("LoopGainDock"), *impedance = dock("ImpedanceDock"),
+                *desens = dock("DesensitivityDock"), *step = dock("StepDock"),
+                *poles = dock("PolesDock");
+    // The docks' new places first, so that the sizes apply to them.
+    layout()->activate();
+    const int w = width(), h = height();
+    resizeDocks({parts}, {kLeftDockWidth}, Qt::Horizontal);
+    resizeDocks({parts, inspector}, {h / 3, h / 2}, Qt::Vertical);
+    if (compact) {
+        // The Sketch keeps half the window; the plots take what is left beside it.
+        // resizeDocks() leaves a column of tab groups as it is (Qt 6.4): its width is set by
+        // holding the groups at the width wanted for one layout pass.
+        const int right = std::max(320, w / 2 - kLeftDockWidth - 16);
+        for (QDockWidget *d : {loop, step})
+            d->setFixedWidth(right);
+        layout()->activate();
+        for (QDockWidget *d : {loop, step}) {
+            d->setMinimumWidth(0);
+            d->setMaximumWidth(QWIDGETSIZE_MAX);
+        }
+        resizeDocks({loop, step}, {h * 11 / 20, h * 9 / 20}, Qt::Vertical);
+    } else {
+        resizeDocks({loop}, {w * 9 / 20}, Qt::Horizontal);
+        resizeDocks({loop, impedance}, {h / 2, h / 2}, Qt::Vertical);
+        resizeDocks({desens}, {h * 7 / 25}, Qt::Vertical);
+        resizeDocks({desens, step, poles}, {w / 3, w / 3, w / 3}, Qt::Horizontal);
+    }
 }
 
 void MainWindow::dragEnterEvent(QDragEnterEvent *event)

@@ -63,6 +63,11 @@ public:
     CandidatesPanel *candidatesPanel() const { return m_candidates; }
     /// Brings the Candidates dock forward with room for its table (after a pin).
     void showCandidates();
+    /// View > Reset layout: every dock back in the default arrangement for the window's
+    /// width (compact below 1400 px: the plots in two tab groups beside the Sketch).
+    void resetLayout();
+    /// True when the plots share the tab groups beside the Sketch.
+    bool isCompactLayout() const;
     SpreadPanel *spreadPanel() const { return m_spread; }
     /// The Suggest values dialog, created on first use.
     SuggestDialog *suggestDialog();
@@ -92,6 +97,10 @@ protected:
 
 private:
     void createDocks();
+    /// Puts every dock in its default place (compact: the plots in two tab groups right of
+    /// the Sketch); sizeDocks() then gives them their default sizes.
+    void arrangeDocks(bool compact);
+    void sizeDocks(bool compact);
     void createActions();
     void updateTitle();
     void rebuildSketch();
@@ -141,7 +150,6 @@ private:
     QMenu *m_viewMenu = nullptr;
     QMenu *m_designMenu = nullptr;
     QString m_displayName;
-    QByteArray m_defaultState;
     bool m_ask = true;
     bool m_sizedDocks = false;
     QTimer *m_settleTimer = nullptr; ///< antialiasing back on once a burst of edits settles

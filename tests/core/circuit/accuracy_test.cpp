@@ -488,7 +488,7 @@ TEST(Accuracy, SweepStartIsCheckedWhereDcIsSingular)
 TEST(Accuracy, GeneratedDesignWithoutDcSolutionHasNoDcValues)
 {
     const Design d = loadOrFail(fs::path(LOOPSKETCH_TEST_DATA_DIR)
-                               / "accuracy/no-dc-solution-seed-221.loopsketch");
+                                / "accuracy/no-dc-solution-seed-221.loopsketch");
     const Analysis a = analyzeOrFail(d);
     EXPECT_FALSE(a.exact.gain.has_value()) << *a.exact.gain;
     EXPECT_FALSE(a.returnRatio.gain.has_value()) << *a.returnRatio.gain;
@@ -502,7 +502,7 @@ TEST(Accuracy, GeneratedDesignWithoutDcSolutionHasNoDcValues)
 TEST(Accuracy, AsymptoticGainModelEqualsExactGainWhereItsEntriesAreIllConditioned)
 {
     const Design d = loadOrFail(fs::path(LOOPSKETCH_TEST_DATA_DIR)
-                               / "accuracy/return-ratio-entries-seed-139.loopsketch");
+                                / "accuracy/return-ratio-entries-seed-139.loopsketch");
     const Analysis a = analyzeOrFail(d);
     ASSERT_EQ(a.warnings.size(), partLimitWarnings(d).size()) << a.warnings.front().toString();
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i)

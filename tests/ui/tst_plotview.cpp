@@ -1,0 +1,306 @@
+// Plots you can read: zoom, pan and reset on every frequency and time plot, and the Poles
+// panel's log-magnitude radial scale with the demo's poles, all through the real mouse and
+// wheel event paths.
+
+#include "demowindowtest.h"
+#include "panels/panels.h"
+#include "window/designdocument.h"
+#include "window/mainwindow.h"
+
+#include <QAction>
+#include <QApplication>
+#include <QCategoryAxis>
+#include <QChart>
+#include <QDockWidget>
+#include <QLegendMarker>
+#include <QMenu>
+#include <QMenuBar>
+#include <QRegularExpression>
+#include <QSignalSpy>
+#include <QTest>
+#include <QValueAxis>
+#include <QWheelEvent>
+#include <QXYSeries>
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <complex>
+
+using namespace loopsketch;
+using namespace loopsketch::ui;
+
+namespace {
+
+class PlotViewTest : public DemoWindowTest
+{
+protected:
+    /// The panels over frequency or time (every panel but Poles); the Noise panel's dock is
+    /// raised first so that it has a size.
+    std::vector<PlotPanel *> curvePanels() const
+    {
+        std::vector<PlotPanel *> out;
+        for (PlotPanel *p : window->panels()) {
+            if (!qobject_cast<PolesPanel *>(p))
+                out.push_back(p);
+        }
+        return out;
+    }
+
+    static QValueAxis *axisOf(PlotPanel *panel, Qt::Orientation orientation)
+    {
+        const auto axes = panel->chart()->axes(orientation);
+        return axes.isEmpty() ? nullptr : qobject_cast<QValueAxis *>(axes.front());
+    }
+
+    static QPoint plotCentre(PlotPanel *panel)
+    {
+        const QPointF c = panel->chart()->plotArea().center();
+        return panel->mapFromScene(panel->chart()->mapToScene(c));
+    }
+
+    static void wheel(PlotPanel *panel, QPoint at, int notches)
+    {
+        QWheelEvent event(QPointF(at), QPointF(panel->viewport()->mapToGlobal(at)), QPoint(),
+                          QPoint(0, 120 * notches), Qt::NoButton, Qt::NoModifier, Qt::NoScrollPhase,
+                          false);
+        QApplication::sendEvent(panel->viewport(), &event);
+    }
+
+    /// The frequency (or time) value at a viewport pixel column.
+    static double xValueAt(PlotPanel *panel, int x)
+    {
+        const QRectF plot = panel->chart()->plotArea();
+        QValueAxis *axis = axisOf(panel, Qt::Horizontal);
+        const QPointF at = panel->chart()->mapFromScene(panel->mapToScene(QPoint(x, 0)));
+        return axis->min() + (at.x() - plot.left()) / plot.width() * (axis->max() - axis->min());
+    }
+
+    void raise(const char *dock)
+    {
+        window->findChild<QDockWidget *>(dock)->raise();
+        QApplication::processEvents();
+    }
+};
+
+TEST_F(PlotViewTest, WheelZoomsEveryCurvePanelAboutThePointerAndDoubleClickResets)
+{
+    raise("NoiseDock");
+    for (PlotPanel *panel : curvePanels()) {
+        if (panel->objectName() == QStringLiteral("Impedance"))
+            raise("ImpedanceDock");
+        SCOPED_TRACE(panel->objectName().toStdString());
+        QValueAxis *x = axisOf(panel, Qt::Horizontal);
+        QValueAxis *y = axisOf(panel, Qt::Vertical);
+        ASSERT_NE(x, nullptr);
+        ASSERT_NE(y, nullptr);
+        const double x0 = x->min(), x1 = x->max(), y0 = y->min(), y1 = y->max();
+        ASSERT_GT(x1, x0);
+        const QPoint centre = plotCentre(panel);
+        const double fixed = xValueAt(panel, centre.x());
+        wheel(panel, centre, 2); // two notches in: 0.8^2 of each range
+        EXPECT_TRUE(panel->isZoomed());
+        EXPECT_NEAR(x->max() - x->min(), 0.64 * (x1 - x0), 1e-9 * (x1 - x0));
+        EXPECT_NEAR(y->max() - y->min(), 0.64 * (y1 - y0), 1e-9 * (y1 - y0));
+        // The value under the pointer stays under it.
+        EXPECT_NEAR(xValueAt(panel, centre.x()), fixed, 1e-6 * (x1 - x0));
+        EXPECT_TRUE(panel->resetZoomAction()->isEnabled());
+
+        QTest::mouseDClick(panel->viewport(), Qt::LeftButton, {}, centre);
+        EXPECT_FALSE(panel->isZoomed());
+        EXPECT_DOUBLE_EQ(x->min(), x0);
+        EXPECT_DOUBLE_EQ(x->max(), x1);
+        EXPECT_DOUBLE_EQ(y->min(), y0);
+        EXPECT_DOUBLE_EQ(y->max(), y1);
+        EXPECT_FALSE(panel->resetZoomAction()->isEnabled());
+    }
+}
+
+TEST_F(PlotViewTest, WheelOverTheFrequencyAxisZoomsFrequencyOnly)
+{
+    PlotPanel *panel = window->loopGainPanel();
+    QValueAxis *x = axisOf(panel, Qt::Horizontal);
+    QValueAxis *y = axisOf(panel, Qt::Vertical);
+    const double xSpan = x->max() - x->min(), y0 = y->min(), y1 = y->max();
+    const QRectF plot = panel->chart()->plotArea();
+    const QPoint below = panel->mapFromScene(
+        panel->chart()->mapToScene(QPointF(plot.center().x(), plot.bottom() + 8)));
+    wheel(panel, below, 1);
+    EXPECT_NEAR(x->max() - x->min(), 0.8 * xSpan, 1e-9 * xSpan);
+    EXPECT_DOUBLE_EQ(y->min(), y0);
+    EXPECT_DOUBLE_EQ(y->max(), y1);
+}
+
+TEST_F(PlotViewTest, RubberBandZoomsToTheRectangleAndShowsTheCurveInFullDetail)
+{
+    PlotPanel *panel = window->loopGainPanel();
+    QValueAxis *x = axisOf(panel, Qt::Horizontal);
+    const QRectF plot = panel->chart()->plotArea();
+    const QPoint from = panel->mapFromScene(panel->chart()->mapToScene(
+        QPointF(plot.left() + 0.40 * plot.width(), plot.top() + 0.2 * plot.height())));
+    const QPoint to = panel->mapFromScene(panel->chart()->mapToScene(
+        QPointF(plot.left() + 0.55 * plot.width(), plot.top() + 0.6 * plot.height())));
+    const double wantLo = xValueAt(panel, from.x()), wantHi = xValueAt(panel, to.x());
+    QTest::mousePress(panel->viewport(), Qt::LeftButton, {}, from);
+    QTest::mouseMove(panel->viewport(), (from + to) / 2);
+    QTest::mouseMove(panel->viewport(), to);
+    QTest::mouseRelease(panel->viewport(), Qt::LeftButton, {}, to);
+    ASSERT_TRUE(panel->isZoomed());
+    // Pixel-exact ends: within one pixel's worth of the old range.
+    const double pixel = (wantHi - wantLo) / (to.x() - from.x());
+    EXPECT_NEAR(x->min(), wantLo, pixel);
+    EXPECT_NEAR(x->max(), wantHi, pixel);
+
+    // Zoomed in, the curve is thinned for the range shown: there are fewer sweep points in
+    // it than pixel columns, so every one of them is drawn.
+    QXYSeries *t = panel->series(LoopGainPanel::kT);
+    ASSERT_NE(t, nullptr);
+    int full = 0, drawn = 0;
+    for (const QPointF &p : panel->fullPoints(t))
+        full += p.x() >= x->min() && p.x() <= x->max();
+    for (const QPointF &p : t->points())
+        drawn += p.x() >= x->min() && p.x() <= x->max();
+    ASSERT_GT(full, 20);
+    EXPECT_EQ(drawn, full);
+
+    // Decade labels alone would leave a zoomed axis bare: 2 and 5 times a decade appear.
+    auto *decades = qobject_cast<QCategoryAxis *>(x);
+    ASSERT_NE(decades, nullptr);
+    const QStringList labels = decades->categoriesLabels();
+    bool inside = false;
+    for (const QString &l : labels)
+        inside = inside || l.startsWith(QLatin1Char('2')) || l.startsWith(QLatin1Char('5'));
+    EXPECT_TRUE(inside) << labels.join(QLatin1Char(' ')).toStdString();
+}
+
+TEST_F(PlotViewTest, MiddleDragPansAndTheViewOutlivesAnEdit)
+{
+    PlotPanel *panel = window->loopGainPanel();
+    QValueAxis *x = axisOf(panel, Qt::Horizontal);
+    const QPoint centre = plotCentre(panel);
+    wheel(panel, centre, 3);
+    const double lo = x->min(), hi = x->max();
+    const double perPixel = (hi - lo) / panel->chart()->plotArea().width();
+    QTest::mousePress(panel->viewport(), Qt::MiddleButton, {}, centre);
+    QTest::mouseMove(panel->viewport(), centre + QPoint(40, 0));
+    QTest::mouseRelease(panel->viewport(), Qt::MiddleButton, {}, centre + QPoint(40, 0));
+    // Dragging right brings lower frequencies into view.
+    EXPECT_NEAR(x->min(), lo - 40 * perPixel, 1e-9);
+    EXPECT_NEAR(x->max(), hi - 40 * perPixel, 1e-9);
+
+    // An edit re-analyses; the user's view stays where it was.
+    const double panLo = x->min(), panHi = x->max();
+    doc()->stepPart("RF", 1, false);
+    QSignalSpy spy(doc(), &DesignDocument::analysisChanged);
+    ASSERT_TRUE(spy.wait(5000));
+    EXPECT_DOUBLE_EQ(x->min(), panLo);
+    EXPECT_DOUBLE_EQ(x->max(), panHi);
+    EXPECT_TRUE(panel->isZoomed());
+}
+
+TEST_F(PlotViewTest, ViewMenuResetsEveryPlot)
+{
+    for (PlotPanel *panel : window->panels())
+        wheel(panel, plotCentre(panel), 1);
+    QAction *reset = nullptr;
+    for (QAction *menu : window->menuBar()->actions()) {
+        if (menu->menu() && menu->text().remove(QLatin1Char('&')) == QStringLiteral("View")) {
+            for (QAction *a : menu->menu()->actions()) {
+                if (a->text() == QStringLiteral("Reset plot zoom"))
+                    reset = a;
+            }
+        }
+    }
+    ASSERT_NE(reset, nullptr);
+    EXPECT_FALSE(reset->shortcut().isEmpty());
+    reset->trigger();
+    for (PlotPanel *panel : window->panels())
+        EXPECT_FALSE(panel->isZoomed()) << panel->objectName().toStdString();
+}
+
+/// The demo's closed-loop poles (core's analysis: a well-damped pair at about
+/// -0.86 ± j0.17 Mrad/s and two real poles near -250 and -410 Mrad/s) are all on the plot,
+/// the dominant pair clear of the origin and of each other, one marker per pole counted in
+/// the legend.
+TEST_F(PlotViewTest, PolesPanelShowsTheDemoDominantPairApartFromTheOrigin)
+{
+    auto *poles = qobject_cast<PolesPanel *>(window->panels()[4]);
+    ASSERT_NE(poles, nullptr);
+    QApplication::processEvents();
+    const Analysis &a = *doc()->analysis();
+    ASSERT_EQ(a.poles.size(), 4u);
+
+    QXYSeries *markers = nullptr;
+    for (QAbstractSeries *s : poles->chart()->series()) {
+        if (s->name().startsWith(QStringLiteral("closed-loop poles")))
+            markers = qobject_cast<QXYSeries *>(s);
+    }
+    ASSERT_NE(markers, nullptr);
+    ASSERT_EQ(markers->count(), 4);
+    // The legend's count is the markers' count.
+    const QStringList legend = poles->legendLabels();
+    ASSERT_EQ(legend.size(), 1);
+    const auto count = QRegularExpression(QStringLiteral("\\((\\d+)\\)")).match(legend.front());
+    ASSERT_TRUE(count.hasMatch()) << legend.front().toStdString();
+    EXPECT_EQ(count.captured(1).toInt(), markers->count());
+
+    const QRectF plot = poles->chart()->plotArea();
+    auto pixel = [&](QPointF value) {
+        return poles->chart()->mapToPosition(value, markers);
+    };
+    for (const QPointF &p : markers->points())
+        EXPECT_TRUE(plot.contains(pixel(p))) << p.x() << ", " << p.y();
+
+    // The dominant pair: the two poles of smallest |s|.
+    std::vector<ClosedLoopPole> sorted = a.poles;
+    std::sort(sorted.begin(), sorted.end(),
+              [](const auto &l, const auto &r) { return std::abs(l.s) < std::abs(r.s); });
+    EXPECT_NEAR(sorted[0].s.real(), -0.856e6, 0.01e6);
+    EXPECT_NEAR(std::abs(sorted[0].s.imag()), 0.174e6, 0.01e6);
+    const QPointF origin = pixel(QPointF(0, 0));
+    const QPointF upper = pixel(poles->plotted(sorted[0].s));
+    const QPointF lower = pixel(poles->plotted(sorted[1].s));
+    const double markerSize = 10;
+    EXPECT_GT(std::hypot(upper.x() - origin.x(), upper.y() - origin.y()), 3 * markerSize);
+    EXPECT_GT(std::abs(upper.y() - lower.y()), markerSize);
+    EXPECT_LT(upper.x(), origin.x()); // left half-plane, as on a linear plot
+    // Each pole keeps its angle, so the damping reads off the plot: cos(angle) = zeta.
+    const double angle = std::atan2(std::abs(upper.y() - origin.y()), origin.x() - upper.x());
+    EXPECT_NEAR(std::cos(angle), sorted[0].damping, 0.01);
+    // The far poles are farther out, in the order of their |s|.
+    const QPointF far = pixel(poles->plotted(sorted[3].s));
+    EXPECT_GT(origin.x() - far.x(), origin.x() - upper.x());
+
+    // The pair's value is written beside it.
+    const QStringList labels = poles->poleLabels();
+    EXPECT_THAT(labels.join(QLatin1Char('|')).toStdString(), ::testing::HasSubstr("± j174k"));
+    EXPECT_TRUE(
+        poles->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-poles.png"));
+}
+
+TEST_F(PlotViewTest, PolesPanelKeepsCirclesRoundWhenZoomed)
+{
+    auto *poles = qobject_cast<PolesPanel *>(window->panels()[4]);
+    ASSERT_NE(poles, nullptr);
+    auto unitsPerPixel = [&] {
+        const QRectF plot = poles->chart()->plotArea();
+        auto *x = axisOf(poles, Qt::Horizontal);
+        auto *y = axisOf(poles, Qt::Vertical);
+        return std::pair((x->max() - x->min()) / plot.width(),
+                         (y->max() - y->min()) / plot.height());
+    };
+    const auto [ux, uy] = unitsPerPixel();
+    EXPECT_NEAR(ux, uy, 1e-9 * ux);
+    // A flat rubber band on the s-plane grows to the plot's proportions.
+    const QPoint c = plotCentre(poles);
+    QTest::mousePress(poles->viewport(), Qt::LeftButton, {}, c - QPoint(40, 5));
+    QTest::mouseMove(poles->viewport(), c + QPoint(40, 5));
+    QTest::mouseRelease(poles->viewport(), Qt::LeftButton, {}, c + QPoint(40, 5));
+    ASSERT_TRUE(poles->isZoomed());
+    const auto [zx, zy] = unitsPerPixel();
+    EXPECT_LT(zx, ux);
+    EXPECT_NEAR(zx, zy, 1e-6 * zx);
+}
+
+} // namespace
