@@ -586,10 +586,10 @@ std::vector<Series> plotSeries(QPainter &p, const PlotFrame &f, SheetPlot plot, 
     case SheetPlot::LoopGain:
         return loopGainPlot(p, f, a, overlays);
     case SheetPlot::Impedance:
-        return frequencyPlot(p, f, a, overlays,
-                             {{PlotCurve::ZIn, &LoopCurves::zInExact},
-                              {PlotCurve::ZOut, &LoopCurves::zOutExact}},
-                             true);
+        return frequencyPlot(
+            p, f, a, overlays,
+            {{PlotCurve::ZIn, &LoopCurves::zInExact}, {PlotCurve::ZOut, &LoopCurves::zOutExact}},
+            true);
     case SheetPlot::Desensitivity:
         return frequencyPlot(p, f, a, overlays,
                              {{PlotCurve::Desensitivity, &LoopCurves::desensitivity}}, false);
