@@ -101,6 +101,10 @@ private:
     /// the Sketch); sizeDocks() then gives them their default sizes.
     void arrangeDocks(bool compact);
     void sizeDocks(bool compact);
+    /// The window's geometry and dock arrangement as the last session left them, or the
+    /// default arrangement where none (or an older one) was saved.
+    void restoreLayout();
+    void saveLayout();
     void createActions();
     void updateTitle();
     void rebuildSketch();
