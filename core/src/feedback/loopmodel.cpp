@@ -110,6 +110,16 @@ void addNetworkCopy(Netlist &n, const std::vector<Part> &parts, const std::strin
         addPassivePart(n, *p, prefix, map);
 }
 
+/// The h parameters of what lies between the source's terminals (port 1) and the gain-block
+/// input it drives (port 2, node `sourceInput`); with no parts there it is a plain wire.
+Result<TwoPortNetwork> sourceSideNetwork(const Design &design, const std::vector<Part> &sourceParts,
+                                         const std::string &sourceInput)
+{
+    const auto [hot, cold] = inputPortNodes(design);
+    const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
+    return TwoPortNetwork::build(sourceParts, srcHot, sourceInput, ParameterSet::H);
+}
+
 } // namespace
 
 struct LoopModel::TwoPortSystems
@@ -294,20 +304,14 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
         sys->aSeriesOutput = optionalOf(reduce(withCopies(so)));
     }
 
-    {
-        // h parameters of what lies between the source's terminals (port 1) and the
-        // gain-block input it drives (port 2); with no parts there it is a plain wire.
-        const auto [hot, cold] = inputPortNodes(design);
-        const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
-        auto side = TwoPortNetwork::build(sourceParts, srcHot, t.sourceInput, ParameterSet::H);
-        if (!side) {
-            m_twoPortProblem = "the parts between the source and the gain block have no "
-                               "two-port form: "
-                + side.errorText();
-            return;
-        }
-        sys->sourceSide = std::move(side).value();
+    auto side = sourceSideNetwork(design, sourceParts, t.sourceInput);
+    if (!side) {
+        m_twoPortProblem = "the parts between the source and the gain block have no "
+                           "two-port form: "
+            + side.errorText();
+        return;
     }
+    sys->sourceSide = std::move(side).value();
     sys->readPartValues(design);
     m_twoPort = sys;
 }
