@@ -128,19 +128,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     const Specs &specs = design.specs;
     // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
     const SpecCheck check = checkSpecs(specs, design.sweep, trialMetricsOf(a));
-    if (a.stable) {
-        m_banner->hide();
-        m_banner->clear();
-    } else {
-        const QString poles = unstablePolesText(a, 1);
-        m_banner->setText(
-            QStringLiteral("<b style=\"font-size: 11pt\">UNSTABLE</b><br>")
-            + (a.rhpPoles == 1 ? tr("1 RHP pole: %1") : tr("%1 RHP poles: %2").arg(a.rhpPoles))
-                  .arg(poles.toHtmlEscaped()));
-        m_banner->setToolTip(toQString(a.closedLoopReason) + QStringLiteral("\n")
-                             + unstablePolesText(a, 20));
-        m_banner->show();
-    }
+    showStability(a);
     const QString unstable = tr("— (unstable)");
     const QString unstableTip = tr("no closed-loop value: the loop is unstable");
 
@@ -220,7 +208,30 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                     : QString());
     else
         setCell(7, tr("peaking"), unstable, unstableTip);
+    showSpecVerdicts(a);
+    showNoise(a);
+    showWarnings(a);
+}
 
+void Readout::showStability(const Analysis &a)
+{
+    if (a.stable) {
+        m_banner->hide();
+        m_banner->clear();
+    } else {
+        const QString poles = unstablePolesText(a, 1);
+        m_banner->setText(
+            QStringLiteral("<b style=\"font-size: 11pt\">UNSTABLE</b><br>")
+            + (a.rhpPoles == 1 ? tr("1 RHP pole: %1") : tr("%1 RHP poles: %2").arg(a.rhpPoles))
+                  .arg(poles.toHtmlEscaped()));
+        m_banner->setToolTip(toQString(a.closedLoopReason) + QStringLiteral("\n")
+                             + unstablePolesText(a, 20));
+        m_banner->show();
+    }
+}
+
+void Readout::showSpecVerdicts(const Analysis &a)
+{
     // The failing specs by name, their reasons in the tooltip (core's specVerdicts(), the
     // same verdicts as checkSpecs(): an unstable loop fails every spec, reason "unstable").
     if (!a.stable) {
@@ -243,7 +254,12 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
         else
             setCell(8, tr("specs"), tr("fails: %1").arg(toQString(failing)), reasons, kFail);
     }
+}
 
+void Readout::showNoise(const Analysis &a)
+{
+    const QString unstable = tr("— (unstable)");
+    const QString unstableTip = tr("no closed-loop value: the loop is unstable");
     // Integrated noise over core's band, referred to the output and to the input.
     if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {
         const NoiseAnalysis &n = *a.noise;
@@ -264,7 +280,10 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                     : a.noise ? tr("no integrated noise: the gain is zero within the sweep")
                               : toQString(a.noiseProblem));
     }
+}
 
+void Readout::showWarnings(const Analysis &a)
+{
     // Numbers whose accuracy the solver could not assure, or values no real part has.
     if (a.warnings.empty()) {
         m_warnings->hide();

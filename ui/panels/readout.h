@@ -42,6 +42,12 @@ private:
     Cell &cell(int index);
     void setCell(int index, const QString &title, const QString &value, const QString &tooltip = {},
                  int verdict = 0);
+    // The steps of showAnalysis(): the banner, the spec verdicts' cell, the noise cell and
+    // the warnings line.
+    void showStability(const Analysis &a);
+    void showSpecVerdicts(const Analysis &a);
+    void showNoise(const Analysis &a);
+    void showWarnings(const Analysis &a);
 
     std::vector<Cell> m_cells;
     QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns
