@@ -277,62 +277,14 @@ void DesignPropertiesPanel::commit(const std::string &key)
         }
         label = tr("Sweep");
     } else if (key == "temperature") {
-        if (text.empty()) {
-            after.temperature.reset();
-        } else {
-            // The loader's own reading of the text, so what is stored is what a file holds.
-            QJsonObject probe{
-                {"schema",
-                 QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
-                {"parts", QJsonArray()},
-                {"input", QString()},
-                {"output", QStringLiteral("voltage")},
-                {"temperature", raw}};
-            auto parsed
-                = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
-            if (!parsed) {
-                Diagnostic d = parsed.diagnostics().front();
-                showError(key, toQString(d.toString()));
-                return;
-            }
-            after.temperature = parsed->temperature;
-        }
+        if (!readTemperature(raw, after))
+            return;
         label = tr("Temperature");
     } else if (key == "noise_band_low" || key == "noise_band_high") {
-        const bool low = key == "noise_band_low";
-        const QString other
-            = m_edits.at(low ? "noise_band_high" : "noise_band_low")->text().trimmed();
         std::optional<Value> v;
-        if (!parse(ValueKind::Frequency, ValueRange::Positive, &v, true))
+        if (!parse(ValueKind::Frequency, ValueRange::Positive, &v, true)
+            || !readNoiseBand(key, v, after))
             return;
-        if (!v && other.isEmpty()) {
-            after.noiseBand.reset();
-        } else if (!v || other.isEmpty()) {
-            showError(key,
-                      tr("%1: give both ends of the noise band, or neither")
-                          .arg(QString::fromStdString(key)));
-            return;
-        } else {
-            std::optional<Value> o;
-            auto parsed
-                = parseValue(toStdString(other), ValueKind::Frequency, ValueRange::Positive);
-            if (!parsed) {
-                showError(key,
-                          tr("%1: the other end is not a frequency yet")
-                              .arg(QString::fromStdString(key)));
-                return;
-            }
-            o = Value{*parsed, toStdString(other)};
-            NoiseBand band{low ? *v : *o, low ? *o : *v};
-            if (!(band.low.si < band.high.si)) {
-                showError(key,
-                          tr("%1: the band must start below where it ends")
-                              .arg(QString::fromStdString(key)));
-                return;
-            }
-            after.noiseBand = band;
-        }
-        showError(low ? "noise_band_high" : "noise_band_low", QString());
         label = tr("Noise band");
     } else if (key == "gain_min" || key == "gain_max") {
         if (!parse(ValueKind::Gain, ValueRange::Any,
@@ -365,6 +317,64 @@ void DesignPropertiesPanel::commit(const std::string &key)
     }
     showError(key, QString());
     m_document->setProperties(after, label);
+}
+
+bool DesignPropertiesPanel::readTemperature(const QString &raw, Design &after)
+{
+    if (raw.isEmpty()) {
+        after.temperature.reset();
+        return true;
+    }
+    // The loader's own reading of the text, so what is stored is what a file holds.
+    QJsonObject probe{
+        {"schema", QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
+        {"parts", QJsonArray()},
+        {"input", QString()},
+        {"output", QStringLiteral("voltage")},
+        {"temperature", raw}};
+    auto parsed = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
+    if (!parsed) {
+        Diagnostic d = parsed.diagnostics().front();
+        showError("temperature", toQString(d.toString()));
+        return false;
+    }
+    after.temperature = parsed->temperature;
+    return true;
+}
+
+bool DesignPropertiesPanel::readNoiseBand(const std::string &key, const std::optional<Value> &end,
+                                          Design &after)
+{
+    const bool low = key == "noise_band_low";
+    const QString other = m_edits.at(low ? "noise_band_high" : "noise_band_low")->text().trimmed();
+    if (!end && other.isEmpty()) {
+        after.noiseBand.reset();
+    } else if (!end || other.isEmpty()) {
+        showError(key,
+                  tr("%1: give both ends of the noise band, or neither")
+                      .arg(QString::fromStdString(key)));
+        return false;
+    } else {
+        std::optional<Value> o;
+        auto parsed = parseValue(toStdString(other), ValueKind::Frequency, ValueRange::Positive);
+        if (!parsed) {
+            showError(
+                key,
+                tr("%1: the other end is not a frequency yet").arg(QString::fromStdString(key)));
+            return false;
+        }
+        o = Value{*parsed, toStdString(other)};
+        NoiseBand band{low ? *end : *o, low ? *o : *end};
+        if (!(band.low.si < band.high.si)) {
+            showError(
+                key,
+                tr("%1: the band must start below where it ends").arg(QString::fromStdString(key)));
+            return false;
+        }
+        after.noiseBand = band;
+    }
+    showError(low ? "noise_band_high" : "noise_band_low", QString());
+    return true;
 }
 
 void DesignPropertiesPanel::commitNotes()

@@ -9,6 +9,7 @@
 #include <QWidget>
 
 #include <map>
+#include <optional>
 #include <string>
 
 class QComboBox;
@@ -19,7 +20,8 @@ class QSpinBox;
 
 namespace loopsketch {
 struct Design;
-}
+struct Value;
+} // namespace loopsketch
 
 namespace loopsketch::ui {
 
@@ -51,6 +53,10 @@ protected:
 
 private:
     void commit(const std::string &key);
+    // Steps of commit() for the fields read together with another: each writes `after` and
+    // returns true, or shows the error and returns false.
+    bool readTemperature(const QString &raw, Design &after);
+    bool readNoiseBand(const std::string &key, const std::optional<Value> &end, Design &after);
     void commitNotes();
     void showError(const std::string &key, const QString &message);
 
