@@ -32,6 +32,45 @@ double niceStep(double span, int ticks)
     return 10.0 * decade;
 }
 
+/// The spec limits that apply to `metric` (gain in the design's gain unit, bandwidth in Hz,
+/// phase margin in degrees): low before high.
+std::vector<double> specLimits(const Specs &specs, SpreadPanel::Metric metric)
+{
+    std::vector<double> limits;
+    if (metric == SpreadPanel::Metric::Gain) {
+        if (specs.gainMin)
+            limits.push_back(specs.gainMin->si);
+        if (specs.gainMax)
+            limits.push_back(specs.gainMax->si);
+    } else if (metric == SpreadPanel::Metric::Bandwidth && specs.bandwidthMin) {
+        limits.push_back(specs.bandwidthMin->si);
+    } else if (metric == SpreadPanel::Metric::PhaseMargin && specs.phaseMarginMinDeg) {
+        limits.push_back(*specs.phaseMarginMinDeg);
+    }
+    return limits;
+}
+
+/// The histogram's outline in plot units (the metric's value times `k`, the count); one bin,
+/// or bins of no width, span `lo` to `hi`. `top` rises to the largest count.
+QList<QPointF> outlinePoints(const MetricStats &s, double lo, double hi, double k, std::size_t &top)
+{
+    QList<QPointF> points;
+    const std::size_t bins = s.histogram.size();
+    const double width = (s.histogramHigh - s.histogramLow) / double(bins);
+    points.reserve(qsizetype(2 * bins + 2));
+    const double base = bins == 1 || !(width > 0) ? lo : s.histogramLow;
+    const double binWidth = bins == 1 || !(width > 0) ? (hi - lo) : width;
+    points << QPointF(base * k, 0);
+    for (std::size_t b = 0; b < bins; ++b) {
+        const double c = double(s.histogram[b]);
+        top = std::max(top, s.histogram[b]);
+        points << QPointF((base + double(b) * binWidth) * k, c)
+               << QPointF((base + double(b + 1) * binWidth) * k, c);
+    }
+    points << QPointF((base + double(bins) * binWidth) * k, 0);
+    return points;
+}
+
 } // namespace
 
 QChartView *SpreadPanel::makeHistogram(int i)
@@ -117,18 +156,7 @@ void SpreadPanel::showHistogram(Metric metric)
         h.y->setTickInterval(5);
         return;
     }
-    // Specs that apply to this metric.
-    std::vector<double> specs;
-    if (metric == Metric::Gain) {
-        if (m_resultSpecs.gainMin)
-            specs.push_back(m_resultSpecs.gainMin->si);
-        if (m_resultSpecs.gainMax)
-            specs.push_back(m_resultSpecs.gainMax->si);
-    } else if (metric == Metric::Bandwidth && m_resultSpecs.bandwidthMin) {
-        specs.push_back(m_resultSpecs.bandwidthMin->si);
-    } else if (metric == Metric::PhaseMargin && m_resultSpecs.phaseMarginMinDeg) {
-        specs.push_back(*m_resultSpecs.phaseMarginMinDeg);
-    }
+    const std::vector<double> specs = specLimits(m_resultSpecs, metric);
     double lo = s->histogramLow, hi = s->histogramHigh;
     if (!(hi > lo)) {
         const double pad = std::max(std::abs(lo) * 1e-3, 1e-12);
@@ -173,22 +201,8 @@ void SpreadPanel::showHistogram(Metric metric)
     h.x->setLabelFormat(QStringLiteral("%.%1f").arg(decimals));
     h.x->setTitleText(QStringLiteral("%1 (%2)").arg(axisName(metric), unitText));
 
-    QList<QPointF> points;
-    const std::size_t bins = s->histogram.size();
-    const double width = (s->histogramHigh - s->histogramLow) / double(bins);
     std::size_t top = 1;
-    points.reserve(qsizetype(2 * bins + 2));
-    const double base = bins == 1 || !(width > 0) ? lo : s->histogramLow;
-    const double binWidth = bins == 1 || !(width > 0) ? (hi - lo) : width;
-    points << QPointF(base * k, 0);
-    for (std::size_t b = 0; b < bins; ++b) {
-        const double c = double(s->histogram[b]);
-        top = std::max(top, s->histogram[b]);
-        points << QPointF((base + double(b) * binWidth) * k, c)
-               << QPointF((base + double(b + 1) * binWidth) * k, c);
-    }
-    points << QPointF((base + double(bins) * binWidth) * k, 0);
-    h.outline->replace(points);
+    h.outline->replace(outlinePoints(*s, lo, hi, k, top));
     const double yStep = niceStep(double(top) * 1.1, 4);
     h.y->setRange(0, std::ceil(double(top) * 1.1 / yStep) * yStep);
     h.y->setTickInterval(yStep);
