@@ -63,6 +63,38 @@ MainWindow::MainWindow(QWidget *parent)
     m_diagnostics->setWordWrap(false);
     m_diagnostics->setTextInteractionFlags(Qt::TextSelectableByMouse);
 
+    connectDocument();
+    connectSketch();
+
+    m_settleTimer = new QTimer(this);
+    m_settleTimer->setSingleShot(true);
+    m_settleTimer->setInterval(250);
+    connect(m_settleTimer, &QTimer::timeout, this, [this] {
+        for (PlotPanel *panel : m_panels) {
+            panel->setRenderHint(QPainter::Antialiasing, true);
+            panel->viewport()->update();
+        }
+    });
+
+    startAutosave();
+
+    resize(1500, 940);
+    // A first start on a smaller screen: the window fits it. (The offscreen platform's
+    // nominal 800 x 600 screen is no display; tests size their windows themselves.)
+    if (QGuiApplication::platformName() != QStringLiteral("offscreen")) {
+        if (const QScreen *s = screen()) {
+            const QRect available = s->availableGeometry();
+            resize(std::min(width(), available.width() - 16),
+                   std::min(height(), available.height() - 48));
+            move(available.topLeft() + QPoint(8, 8));
+        }
+    }
+    restoreLayout();
+    updateTitle();
+}
+
+void MainWindow::connectDocument()
+{
     connect(m_document, &DesignDocument::designReset, this, &MainWindow::rebuildSketch);
     connect(m_document, &DesignDocument::analysisChanged, this, &MainWindow::showAnalysis);
     connect(m_document, &DesignDocument::analysisUnavailable, this, &MainWindow::showUnavailable);
@@ -83,6 +115,21 @@ MainWindow::MainWindow(QWidget *parent)
             [this] { m_scene->applyLayout(m_document->layout()); });
     connect(m_document, &DesignDocument::filePathChanged, this, &MainWindow::updateTitle);
     connect(m_document->undoStack(), &QUndoStack::cleanChanged, this, &MainWindow::updateTitle);
+    connect(m_document, &DesignDocument::structureChanged, this, [this] {
+        const std::string selected = m_scene->selectedPartId();
+        m_scene->rebuild(&m_document->design(), m_document->layout());
+        m_palette->showDesign(m_document->design());
+        if (m_document->design().findPart(m_inspector->partId()))
+            m_inspector->showPart(m_inspector->partId());
+        else
+            m_inspector->showPart({});
+        if (!selected.empty())
+            m_scene->selectPart(selected);
+    });
+}
+
+void MainWindow::connectSketch()
+{
     connect(m_scene, &QGraphicsScene::selectionChanged, this, &MainWindow::selectionChanged);
     connect(m_scene, &SketchScene::partsMoved, this,
             [this](const QHash<QString, QPointF> &positions) {
@@ -124,50 +171,8 @@ MainWindow::MainWindow(QWidget *parent)
         placeSymbol(symbol, m_view->mapToScene(m_view->viewport()->rect().center()));
     });
     connect(m_palette, &PartsPalette::deleteRequested, m_document, &DesignDocument::removeParts);
-    connect(m_document, &DesignDocument::structureChanged, this, [this] {
-        const std::string selected = m_scene->selectedPartId();
-        m_scene->rebuild(&m_document->design(), m_document->layout());
-        m_palette->showDesign(m_document->design());
-        if (m_document->design().findPart(m_inspector->partId()))
-            m_inspector->showPart(m_inspector->partId());
-        else
-            m_inspector->showPart({});
-        if (!selected.empty())
-            m_scene->selectPart(selected);
-    });
     connect(m_palette, &PartsPalette::partActivated, this,
             [this](const std::string &id) { m_scene->selectPart(id); });
-
-    m_settleTimer = new QTimer(this);
-    m_settleTimer->setSingleShot(true);
-    m_settleTimer->setInterval(250);
-    connect(m_settleTimer, &QTimer::timeout, this, [this] {
-        for (PlotPanel *panel : m_panels) {
-            panel->setRenderHint(QPainter::Antialiasing, true);
-            panel->viewport()->update();
-        }
-    });
-
-    auto *recovery = new QTimer(this);
-    // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
-    const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
-    recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);
-    connect(recovery, &QTimer::timeout, this, &MainWindow::writeRecovery);
-    recovery->start();
-
-    resize(1500, 940);
-    // A first start on a smaller screen: the window fits it. (The offscreen platform's
-    // nominal 800 x 600 screen is no display; tests size their windows themselves.)
-    if (QGuiApplication::platformName() != QStringLiteral("offscreen")) {
-        if (const QScreen *s = screen()) {
-            const QRect available = s->availableGeometry();
-            resize(std::min(width(), available.width() - 16),
-                   std::min(height(), available.height() - 48));
-            move(available.topLeft() + QPoint(8, 8));
-        }
-    }
-    restoreLayout();
-    updateTitle();
 }
 
 MainWindow::~MainWindow()

@@ -17,6 +17,7 @@
 #include <QRegularExpression>
 #include <QStandardPaths>
 #include <QStatusBar>
+#include <QTimer>
 
 #include <cerrno>
 
@@ -126,6 +127,16 @@ bool MainWindow::offerRecoveryFrom(const QString &path)
     if (writeRecovery())
         QFile::remove(path);
     return true;
+}
+
+void MainWindow::startAutosave()
+{
+    auto *recovery = new QTimer(this);
+    // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
+    const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
+    recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);
+    connect(recovery, &QTimer::timeout, this, &MainWindow::writeRecovery);
+    recovery->start();
 }
 
 bool MainWindow::writeRecovery()
