@@ -54,6 +54,125 @@ struct SheetCase
     int pages;
 };
 
+// Parts: every field of every part (partSpec() lists them) on one line of the sheet with
+// its quantity, its value in engineering notation with the unit, and the RKM code where
+// the value has one; a field left out or cut short ("…") fails. Common practice.
+void expectEveryPartField(const QString &design, const QString &sheetText)
+{
+    auto parts = loopsketch::loadDesign(design.toStdString());
+    ASSERT_TRUE(parts) << parts.errorText();
+    const QStringList sheetLines = sheetText.split('\n');
+    const std::string sheet = sheetText.toStdString();
+    for (const loopsketch::Part &part : parts->parts) {
+        EXPECT_THAT(sheet, HasSubstr(part.id));
+        const auto rows = loopsketch::partFieldTexts(part);
+        for (const loopsketch::FieldSpec &spec : loopsketch::partSpec(part.type).fields)
+            EXPECT_TRUE(std::any_of(rows.begin(), rows.end(),
+                                    [&](const auto &r) { return r.field == spec.name; }))
+                << part.id << "." << spec.name;
+        for (const loopsketch::PartFieldText &row : rows) {
+            // compared without spaces: pdftotext drops the narrow one in "0 F"
+            const auto squeezed = [](QString t) {
+                return t.remove(QLatin1Char(' '));
+            };
+            const auto has = [&](const QString &line) {
+                return line.contains(QString::fromStdString(" " + row.field + " "))
+                    && line.contains(QString::fromStdString(row.label))
+                    && squeezed(line).contains(squeezed(QString::fromStdString(row.value)))
+                    && line.contains(QString::fromStdString(row.rkm))
+                    && !line.contains(QStringLiteral("…"));
+            };
+            EXPECT_TRUE(std::any_of(sheetLines.begin(), sheetLines.end(), has))
+                << part.id << "." << row.field << ": " << row.label << " " << row.value << " "
+                << row.rkm;
+        }
+    }
+}
+
+// Provenance on the first page: version, design hash, sweep, temperature, noise band,
+// Monte Carlo trials and seed.
+void expectProvenance(const std::string &sheet)
+{
+    const std::string first = sheet.substr(0, sheet.find('\f'));
+    EXPECT_THAT(first, HasSubstr("Loopsketch " LOOPSKETCH_PROJECT_VERSION));
+    EXPECT_THAT(first, HasSubstr("Design hash"));
+    EXPECT_THAT(first, HasSubstr("points per decade"));
+    EXPECT_THAT(first, HasSubstr(" K ("));
+    EXPECT_THAT(first, HasSubstr("noise band"));
+    EXPECT_THAT(first, HasSubstr("2000 trials"));
+    EXPECT_THAT(first, HasSubstr("seed 1"));
+}
+
+// No heading at the foot of a page without its first lines: the last line of each page
+// above the footer is never a section heading.
+void expectNoHeadingAtPageFoot(const QString &sheetText)
+{
+    const QStringList headings{"Sketch",
+                               "Parts",
+                               "Topology",
+                               "Methods side by side (DC)",
+                               "Key metrics against the specs",
+                               "Noise",
+                               "Candidates",
+                               "Spread over tolerances",
+                               "Plots",
+                               "What the model does not cover"};
+    const QStringList pageTexts = sheetText.split('\f');
+    for (qsizetype p = 0; p < pageTexts.size(); ++p) {
+        QStringList lines = pageTexts[p].split('\n');
+        lines.removeIf([](const QString &l) {
+            return l.trimmed().isEmpty() || l.contains(QStringLiteral("Loopsketch review sheet"));
+        });
+        if (!lines.isEmpty()) {
+            EXPECT_FALSE(headings.contains(lines.last().trimmed()))
+                << "page " << p + 1 << " ends with the heading " << lines.last().toStdString();
+        }
+    }
+}
+
+// CSV: the exact gain column against the sweep of the same design, the noise densities'
+// columns named with their units.
+void expectCsvMatchesSweep(const QString &csv, const QString &designFile,
+                           const std::string &outUnit, const std::string &inUnit)
+{
+    auto design = loopsketch::loadDesign(designFile.toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto analysis = loopsketch::analyze(*design);
+    ASSERT_TRUE(analysis) << analysis.errorText();
+    QFile csvFile(csv);
+    ASSERT_TRUE(csvFile.open(QIODevice::ReadOnly | QIODevice::Text));
+    const QStringList lines = QString::fromUtf8(csvFile.readAll()).split('\n', Qt::SkipEmptyParts);
+    ASSERT_EQ(lines.size(), static_cast<qsizetype>(analysis->frequenciesHz.size() + 1));
+    const QStringList header = lines.front().split(',');
+    const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
+    ASSERT_GE(fCol, 0);
+    ASSERT_GE(gCol, 0);
+    // The noise densities' columns carry their units as the other columns do.
+    const QString outCol
+        = QStringLiteral("output_noise_%1_per_rthz").arg(QString::fromStdString(outUnit).toLower());
+    const QString inCol
+        = QStringLiteral("input_noise_%1_per_rthz").arg(QString::fromStdString(inUnit).toLower());
+    const qsizetype nCol = header.indexOf(outCol);
+    EXPECT_GE(nCol, 0) << lines.front().toStdString();
+    EXPECT_GE(header.indexOf(inCol), 0) << lines.front().toStdString();
+    for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
+        const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
+        ASSERT_EQ(cells.size(), header.size()) << "row " << i;
+        bool okF = false, okG = false;
+        const double f = cells[fCol].toDouble(&okF), g = cells[gCol].toDouble(&okG);
+        ASSERT_TRUE(okF && okG) << "row " << i;
+        const double fExpected = analysis->frequenciesHz[i];
+        EXPECT_NEAR(f, fExpected, 1e-6 * fExpected) << "row " << i;
+        // 20 log10 |G| (common practice); the CSV has 10 significant digits
+        const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
+        EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
+        if (nCol >= 0 && analysis->noise) {
+            const double want = analysis->noise->outputDensity[i];
+            EXPECT_NEAR(cells[nCol].toDouble(), want, 1e-8 * want) << "row " << i;
+        }
+    }
+}
+
 class ReviewSheetExport : public testing::TestWithParam<SheetCase>
 {
 };
@@ -93,76 +212,9 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(pageCount).toStdString()));
     EXPECT_THAT(sheet, HasSubstr("What the model does not cover"));
 
-    // Parts: every field of every part (partSpec() lists them) on one line of the sheet with
-    // its quantity, its value in engineering notation with the unit, and the RKM code where
-    // the value has one; a field left out or cut short ("…") fails. Common practice.
-    {
-        auto parts = loopsketch::loadDesign(designPath(c.design).toStdString());
-        ASSERT_TRUE(parts) << parts.errorText();
-        const QStringList sheetLines = text.out.split('\n');
-        for (const loopsketch::Part &part : parts->parts) {
-            EXPECT_THAT(sheet, HasSubstr(part.id));
-            const auto rows = loopsketch::partFieldTexts(part);
-            for (const loopsketch::FieldSpec &spec : loopsketch::partSpec(part.type).fields)
-                EXPECT_TRUE(std::any_of(rows.begin(), rows.end(),
-                                        [&](const auto &r) { return r.field == spec.name; }))
-                    << part.id << "." << spec.name;
-            for (const loopsketch::PartFieldText &row : rows) {
-                // compared without spaces: pdftotext drops the narrow one in "0 F"
-                const auto squeezed = [](QString t) {
-                    return t.remove(QLatin1Char(' '));
-                };
-                const auto has = [&](const QString &line) {
-                    return line.contains(QString::fromStdString(" " + row.field + " "))
-                        && line.contains(QString::fromStdString(row.label))
-                        && squeezed(line).contains(squeezed(QString::fromStdString(row.value)))
-                        && line.contains(QString::fromStdString(row.rkm))
-                        && !line.contains(QStringLiteral("…"));
-                };
-                EXPECT_TRUE(std::any_of(sheetLines.begin(), sheetLines.end(), has))
-                    << part.id << "." << row.field << ": " << row.label << " " << row.value << " "
-                    << row.rkm;
-            }
-        }
-    }
-    // Provenance on the first page: version, design hash, sweep, temperature, noise band,
-    // Monte Carlo trials and seed.
-    {
-        const std::string first = sheet.substr(0, sheet.find('\f'));
-        EXPECT_THAT(first, HasSubstr("Loopsketch " LOOPSKETCH_PROJECT_VERSION));
-        EXPECT_THAT(first, HasSubstr("Design hash"));
-        EXPECT_THAT(first, HasSubstr("points per decade"));
-        EXPECT_THAT(first, HasSubstr(" K ("));
-        EXPECT_THAT(first, HasSubstr("noise band"));
-        EXPECT_THAT(first, HasSubstr("2000 trials"));
-        EXPECT_THAT(first, HasSubstr("seed 1"));
-    }
-    // No heading at the foot of a page without its first lines: the last line of each page
-    // above the footer is never a section heading.
-    {
-        const QStringList headings{"Sketch",
-                                   "Parts",
-                                   "Topology",
-                                   "Methods side by side (DC)",
-                                   "Key metrics against the specs",
-                                   "Noise",
-                                   "Candidates",
-                                   "Spread over tolerances",
-                                   "Plots",
-                                   "What the model does not cover"};
-        const QStringList pageTexts = text.out.split('\f');
-        for (qsizetype p = 0; p < pageTexts.size(); ++p) {
-            QStringList lines = pageTexts[p].split('\n');
-            lines.removeIf([](const QString &l) {
-                return l.trimmed().isEmpty()
-                    || l.contains(QStringLiteral("Loopsketch review sheet"));
-            });
-            if (!lines.isEmpty()) {
-                EXPECT_FALSE(headings.contains(lines.last().trimmed()))
-                    << "page " << p + 1 << " ends with the heading " << lines.last().toStdString();
-            }
-        }
-    }
+    ASSERT_NO_FATAL_FAILURE(expectEveryPartField(designPath(c.design), text.out));
+    expectProvenance(sheet);
+    expectNoHeadingAtPageFoot(text.out);
 
     const CliRun json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
@@ -206,43 +258,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     EXPECT_THAT(sheet, HasSubstr(QString::number(topShare, 'f', 2).toStdString() + " %"));
     EXPECT_THAT(sheet, HasSubstr("Noise density, output and input-referred"));
 
-    // CSV: the exact gain column against the sweep of the same design.
-    auto design = loopsketch::loadDesign(designPath(c.design).toStdString());
-    ASSERT_TRUE(design) << design.errorText();
-    auto analysis = loopsketch::analyze(*design);
-    ASSERT_TRUE(analysis) << analysis.errorText();
-    QFile csvFile(csv);
-    ASSERT_TRUE(csvFile.open(QIODevice::ReadOnly | QIODevice::Text));
-    const QStringList lines = QString::fromUtf8(csvFile.readAll()).split('\n', Qt::SkipEmptyParts);
-    ASSERT_EQ(lines.size(), static_cast<qsizetype>(analysis->frequenciesHz.size() + 1));
-    const QStringList header = lines.front().split(',');
-    const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
-    ASSERT_GE(fCol, 0);
-    ASSERT_GE(gCol, 0);
-    // The noise densities' columns carry their units as the other columns do.
-    const QString outCol
-        = QStringLiteral("output_noise_%1_per_rthz").arg(QString::fromStdString(outUnit).toLower());
-    const QString inCol
-        = QStringLiteral("input_noise_%1_per_rthz").arg(QString::fromStdString(inUnit).toLower());
-    const qsizetype nCol = header.indexOf(outCol);
-    EXPECT_GE(nCol, 0) << lines.front().toStdString();
-    EXPECT_GE(header.indexOf(inCol), 0) << lines.front().toStdString();
-    for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
-        const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
-        ASSERT_EQ(cells.size(), header.size()) << "row " << i;
-        bool okF = false, okG = false;
-        const double f = cells[fCol].toDouble(&okF), g = cells[gCol].toDouble(&okG);
-        ASSERT_TRUE(okF && okG) << "row " << i;
-        const double fExpected = analysis->frequenciesHz[i];
-        EXPECT_NEAR(f, fExpected, 1e-6 * fExpected) << "row " << i;
-        // 20 log10 |G| (common practice); the CSV has 10 significant digits
-        const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
-        EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
-        if (nCol >= 0 && analysis->noise) {
-            const double want = analysis->noise->outputDensity[i];
-            EXPECT_NEAR(cells[nCol].toDouble(), want, 1e-8 * want) << "row " << i;
-        }
-    }
+    expectCsvMatchesSweep(csv, designPath(c.design), outUnit, inUnit);
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
