@@ -55,6 +55,29 @@ using ::testing::HasSubstr;
 
 namespace {
 
+/// The Readout's gain and bandwidth cells and the Loop gain panel's T curve are core's
+/// analysis `a`, point for point, and no panel is left unavailable.
+void expectWindowShows(const MainWindow &window, const Analysis &a)
+{
+    const Readout *readout = window.readout();
+    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
+              engineering(a.exact.gain, a.gainUnit, 4));
+    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"));
+    QXYSeries *t = window.loopGainPanel()->series(LoopGainPanel::kT);
+    ASSERT_NE(t, nullptr);
+    const QList<QPointF> want
+        = curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb);
+    const QList<QPointF> full = window.loopGainPanel()->fullPoints(t);
+    ASSERT_GT(want.size(), 100);
+    ASSERT_EQ(full.size(), want.size());
+    for (qsizetype i = 0; i < full.size(); ++i) {
+        ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
+        ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
+    }
+    for (PlotPanel *panel : window.panels())
+        EXPECT_TRUE(panel->unavailableText().isEmpty());
+}
+
 // ---- From a blank page ----
 
 TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
@@ -164,23 +187,7 @@ TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
     ASSERT_TRUE(a.margins.crossoverHz.has_value());
     EXPECT_NEAR(*a.margins.crossoverHz, 10e6 / 11.0, 0.03 * 10e6 / 11.0);
 
-    const Readout *readout = window->readout();
-    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
-              engineering(a.exact.gain, a.gainUnit, 4));
-    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"));
-    QXYSeries *t = window->loopGainPanel()->series(LoopGainPanel::kT);
-    ASSERT_NE(t, nullptr);
-    const QList<QPointF> want
-        = curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb);
-    const QList<QPointF> full = window->loopGainPanel()->fullPoints(t);
-    ASSERT_GT(want.size(), 100);
-    ASSERT_EQ(full.size(), want.size());
-    for (qsizetype i = 0; i < full.size(); ++i) {
-        ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
-        ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
-    }
-    for (PlotPanel *panel : window->panels())
-        EXPECT_TRUE(panel->unavailableText().isEmpty());
+    ASSERT_NO_FATAL_FAILURE(expectWindowShows(*window, a));
 
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/from-blank.png"));
 
@@ -275,14 +282,18 @@ TEST_F(BlankDesignTest, ReopenAfterRenamingAndDeletingTheSource)
     EXPECT_EQ(second.document()->design(), doc()->design());
 }
 
-/// One random edit of the kinds a user makes; the document decides what is allowed.
-void randomEdit(DesignDocument *doc, std::mt19937 &rng)
+/// The random choices of randomEdit(): one index below n, a pin, a selection of parts.
+struct RandomPicks
 {
-    const Design &d = doc->design();
-    auto pick = [&](std::size_t n) {
+    const Design &d;
+    std::mt19937 &rng;
+
+    std::size_t pick(std::size_t n)
+    {
         return std::uniform_int_distribution<std::size_t>(0, n - 1)(rng);
-    };
-    auto randomPin = [&](std::string *part, std::string *terminal) {
+    }
+    bool pin(std::string *part, std::string *terminal)
+    {
         if (d.parts.empty())
             return false;
         const Part &p = d.parts[pick(d.parts.size())];
@@ -290,74 +301,92 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
         *part = p.id;
         *terminal = std::string(terminals[pick(terminals.size())]);
         return true;
-    };
-    QString error;
-    auto randomParts = [&] {
+    }
+    std::vector<std::string> parts()
+    {
         std::vector<std::string> ids;
         for (const Part &p : d.parts) {
             if (pick(3) == 0)
                 ids.push_back(p.id);
         }
         return ids;
-    };
-    switch (pick(18)) {
+    }
+};
+
+/// Edits 0 to 10 of randomEdit(): parts, names, candidates, properties, grounds, mirroring.
+void randomPartEdit(DesignDocument *doc, RandomPicks &r, std::size_t kind)
+{
+    const Design &d = r.d;
+    QString error;
+    switch (kind) {
     case 0: {
         const auto specs = allPartSpecs();
-        doc->addPart(specs[pick(specs.size())].type, double(pick(600)) - 300,
-                     double(pick(400)) - 200);
+        doc->addPart(specs[r.pick(specs.size())].type, double(r.pick(600)) - 300,
+                     double(r.pick(400)) - 200);
         break;
     }
     case 1: {
         std::string pa, ta, pb, tb;
-        if (randomPin(&pa, &ta) && randomPin(&pb, &tb))
+        if (r.pin(&pa, &ta) && r.pin(&pb, &tb))
             doc->connectPins(pa, ta, pb, tb);
         break;
     }
     case 2:
         if (!d.parts.empty())
-            doc->removeParts({d.parts[pick(d.parts.size())].id});
+            doc->removeParts({d.parts[r.pick(d.parts.size())].id});
         break;
     case 3:
         if (!d.parts.empty())
-            doc->renamePart(d.parts[pick(d.parts.size())].id, "X" + std::to_string(pick(50)),
+            doc->renamePart(d.parts[r.pick(d.parts.size())].id, "X" + std::to_string(r.pick(50)),
                             &error);
         break;
     case 4:
         if (!d.parts.empty())
-            doc->rotatePart(d.parts[pick(d.parts.size())].id);
+            doc->rotatePart(d.parts[r.pick(d.parts.size())].id);
         break;
     case 5:
         doc->pinCandidate(doc->nextCandidateName(), &error);
         break;
     case 6: {
         Design after = d;
-        after.title = "edit " + std::to_string(pick(1000));
-        after.output = pick(2) ? OutputKind::Current : OutputKind::Voltage;
-        after.sweep.pointsPerDecade = int(10 + pick(90));
+        after.title = "edit " + std::to_string(r.pick(1000));
+        after.output = r.pick(2) ? OutputKind::Current : OutputKind::Voltage;
+        after.sweep.pointsPerDecade = int(10 + r.pick(90));
         doc->setProperties(after, QStringLiteral("properties"));
         break;
     }
     case 7: {
         std::string p, t;
-        if (randomPin(&p, &t))
+        if (r.pin(&p, &t))
             doc->groundPin(p, t);
         break;
     }
     case 8:
-        doc->addGround(double(pick(400)) - 200, double(pick(400)));
+        doc->addGround(double(r.pick(400)) - 200, double(r.pick(400)));
         break;
     case 9:
         if (!d.candidates.empty())
-            doc->deleteCandidate(toQString(d.candidates[pick(d.candidates.size())].name));
+            doc->deleteCandidate(toQString(d.candidates[r.pick(d.candidates.size())].name));
         break;
     case 10: // mirror
         if (!d.parts.empty())
-            doc->mirrorPart(d.parts[pick(d.parts.size())].id);
+            doc->mirrorPart(d.parts[r.pick(d.parts.size())].id);
         break;
+    default:
+        break;
+    }
+}
+
+/// Edits 11 and up of randomEdit(): wires, pins, the clipboard, typed fields, stepping.
+void randomWiringEdit(DesignDocument *doc, RandomPicks &r, std::size_t kind)
+{
+    const Design &d = r.d;
+    QString error;
+    switch (kind) {
     case 11: { // unwire: delete one of the Sketch's wires
         const SketchWiring wiring = routeWires(d, doc->layout());
         if (!wiring.edges.empty()) {
-            const RoutedWire &w = wiring.edges[pick(wiring.edges.size())];
+            const RoutedWire &w = wiring.edges[r.pick(wiring.edges.size())];
             doc->removeWires({{w.from, w.to}});
         }
         break;
@@ -365,16 +394,16 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
     case 12: { // a wire's end dragged to another pin, or to ground
         const SketchWiring wiring = routeWires(d, doc->layout());
         std::string p, t;
-        if (!wiring.edges.empty() && randomPin(&p, &t)) {
-            const RoutedWire &w = wiring.edges[pick(wiring.edges.size())];
-            doc->reattachWire(w.from, w.to, pick(4) == 0 ? PinRef{} : PinRef{p, t});
+        if (!wiring.edges.empty() && r.pin(&p, &t)) {
+            const RoutedWire &w = wiring.edges[r.pick(wiring.edges.size())];
+            doc->reattachWire(w.from, w.to, r.pick(4) == 0 ? PinRef{} : PinRef{p, t});
         }
         break;
     }
     case 13: { // a pin disconnected, or moved to another pin
         std::string p, t, q, u;
-        if (randomPin(&p, &t)) {
-            if (pick(2) && randomPin(&q, &u))
+        if (r.pin(&p, &t)) {
+            if (r.pick(2) && r.pin(&q, &u))
                 doc->movePin({p, t}, {q, u});
             else
                 doc->disconnectPin(p, t);
@@ -382,29 +411,40 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
         break;
     }
     case 14: // copy and paste (a duplicate)
-        doc->pasteParts(copyParts(d, doc->layout(), randomParts()), QStringLiteral("paste"));
+        doc->pasteParts(copyParts(d, doc->layout(), r.parts()), QStringLiteral("paste"));
         break;
     case 15: // cut
-        doc->removeParts(randomParts());
+        doc->removeParts(r.parts());
         break;
     case 16: { // a field typed into the Inspector, valid or not
         if (!d.parts.empty()) {
-            const Part &p = d.parts[pick(d.parts.size())];
+            const Part &p = d.parts[r.pick(d.parts.size())];
             const auto &fields = partSpec(p.type).fields;
             const char *texts[] = {"4k7", "2.2p", "1e3", "", "-5", "12kk", "100dB", "10M"};
-            doc->setFieldText(p.id, std::string(fields[pick(fields.size())].name),
-                              QString::fromLatin1(texts[pick(std::size(texts))]), &error);
+            doc->setFieldText(p.id, std::string(fields[r.pick(fields.size())].name),
+                              QString::fromLatin1(texts[r.pick(std::size(texts))]), &error);
         }
         break;
     }
     default:
         if (!d.parts.empty()) {
-            const Part &p = d.parts[pick(d.parts.size())];
+            const Part &p = d.parts[r.pick(d.parts.size())];
             if (!p.primaryField().empty())
-                doc->stepPart(p.id, int(pick(5)) - 2, false);
+                doc->stepPart(p.id, int(r.pick(5)) - 2, false);
         }
         break;
     }
+}
+
+/// One random edit of the kinds a user makes; the document decides what is allowed.
+void randomEdit(DesignDocument *doc, std::mt19937 &rng)
+{
+    RandomPicks r{doc->design(), rng};
+    const std::size_t kind = r.pick(18);
+    if (kind <= 10)
+        randomPartEdit(doc, r, kind);
+    else
+        randomWiringEdit(doc, r, kind);
 }
 
 TEST_F(BlankDesignTest, ReopenAfterRandomEditSequencesOnEveryExampleAndABlankDesign)
