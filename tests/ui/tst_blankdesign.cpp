@@ -4,6 +4,7 @@
 // views that never show the last good numbers once the design cannot be analysed.
 
 #include "blankdesigntest.h"
+#include "windowchecks.h"
 
 #include "panels/panels.h"
 #include "panels/plotpanel.h"
@@ -54,29 +55,6 @@ using loopsketch::ui::test::kDesigns;
 using ::testing::HasSubstr;
 
 namespace {
-
-/// The Readout's gain and bandwidth cells and the Loop gain panel's T curve are core's
-/// analysis `a`, point for point, and no panel is left unavailable.
-void expectWindowShows(const MainWindow &window, const Analysis &a)
-{
-    const Readout *readout = window.readout();
-    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
-              engineering(a.exact.gain, a.gainUnit, 4));
-    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"));
-    QXYSeries *t = window.loopGainPanel()->series(LoopGainPanel::kT);
-    ASSERT_NE(t, nullptr);
-    const QList<QPointF> want
-        = curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb);
-    const QList<QPointF> full = window.loopGainPanel()->fullPoints(t);
-    ASSERT_GT(want.size(), 100);
-    ASSERT_EQ(full.size(), want.size());
-    for (qsizetype i = 0; i < full.size(); ++i) {
-        ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
-        ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
-    }
-    for (PlotPanel *panel : window.panels())
-        EXPECT_TRUE(panel->unavailableText().isEmpty());
-}
 
 // ---- From a blank page ----
 
@@ -187,7 +165,9 @@ TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
     ASSERT_TRUE(a.margins.crossoverHz.has_value());
     EXPECT_NEAR(*a.margins.crossoverHz, 10e6 / 11.0, 0.03 * 10e6 / 11.0);
 
-    ASSERT_NO_FATAL_FAILURE(expectWindowShows(*window, a));
+    ASSERT_NO_FATAL_FAILURE(loopsketch::ui::test::expectWindowShows(*window, a));
+    for (PlotPanel *panel : window->panels())
+        EXPECT_TRUE(panel->unavailableText().isEmpty());
 
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/from-blank.png"));
 

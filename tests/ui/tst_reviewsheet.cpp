@@ -40,7 +40,8 @@ QString designPath(const char *name)
     return QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(QLatin1String(name));
 }
 
-// Formatted the way the review sheet formats them (reviewsheet.cpp: eng() and degrees()).
+// Formatted the way the review sheet formats them (sheetwriter.cpp's eng(), support/qtadapter's
+// degrees()).
 QString sheetNumber(double v, std::string_view unit)
 {
     return QString::fromStdString(loopsketch::formatEngineering(v, 4, unit));

@@ -101,9 +101,7 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
     m_crossover->replace(crossover);
     m_phaseMargin->replace(phaseMargin);
     m_gainMargin->replace(gainMargin);
-    const QString pm = a.margins.phaseMarginDeg
-        ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + QStringLiteral("°")
-        : QStringLiteral("—");
+    const QString pm = degrees(a.margins.phaseMarginDeg);
     const QString gm = a.margins.gainMarginDb
         ? QString::number(*a.margins.gainMarginDb, 'f', 1) + QStringLiteral(" dB")
         : QStringLiteral("—");

@@ -190,12 +190,9 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     QString pmSpec;
     if (specs.phaseMarginMinDeg) {
         pmVerdict = check.phaseMargin ? kPass : kFail;
-        pmSpec = tr("spec ≥ %1°").arg(toQString(formatEngineering(*specs.phaseMarginMinDeg, 3)));
+        pmSpec = tr("spec ≥ %1").arg(degrees(specs.phaseMarginMinDeg));
     }
-    setCell(6, tr("phase margin"),
-            a.margins.phaseMarginDeg
-                ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + QStringLiteral("°")
-                : QStringLiteral("—"),
+    setCell(6, tr("phase margin"), degrees(a.margins.phaseMarginDeg),
             pmSpec
                 + (a.margins.crossoverHz
                        ? tr("  crossover %1").arg(engineering(a.margins.crossoverHz, "Hz"))

@@ -56,11 +56,6 @@ QString valueText(const Part *p, double v)
     return eng;
 }
 
-QString degrees(const OptionalNumber &v)
-{
-    return v && std::isfinite(*v) ? QString::number(*v, 'f', 1) + QStringLiteral("°") : kDash;
-}
-
 } // namespace
 
 struct SuggestDialog::Delivery
