@@ -64,6 +64,12 @@ struct NoiseContribution
     /// Output RMS of this source over the band, V (A for a current output); empty where a
     /// noise power does not exist (an unstable loop).
     std::optional<double> rms;
+    /// Where in its part the noise arises: the field of a resistance inside a part
+    /// ("r_series", "r_parallel"), "en" for the gain block's voltage noise; empty where the
+    /// source is the whole part (a resistor, the load) or its shot noise.
+    std::string field;
+    /// The gain-block pin a current noise flows at ("in_p", "in_n"); empty otherwise.
+    std::string pin;
 };
 
 /// How the band of the rms figures was set.
