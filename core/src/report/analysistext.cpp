@@ -217,14 +217,14 @@ void writeClosedLoop(TextLines &out, const Analysis &a)
         out.row("step response", "— (" + a.step.problem + ")");
 }
 
-/// The noise section. Returns false where the text ends with it: an unstable loop has no
-/// band and no shares of a power that does not exist, and the summary stops there.
-bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
+/// The noise section. An unstable loop has no band and no shares of a power that does not
+/// exist: its section ends with the rms figures' absence.
+void writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
 {
     if (!a.noise || a.noise->frequenciesHz.empty()) {
         if (!a.noiseProblem.empty())
             os << "\nNoise: " << a.noiseProblem << "\n";
-        return true;
+        return;
     }
     const NoiseAnalysis &n = *a.noise;
     const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
@@ -232,7 +232,7 @@ bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
     if (!a.stable) {
         out.row("output, rms", "none (unstable)");
         out.row("input-referred, rms", "none (unstable)");
-        return false;
+        return;
     }
     out.show("output, rms", n.outputRms, outUnit);
     if (n.inputProblem.empty())
@@ -264,7 +264,6 @@ bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
                 noiseSourceLabel(*order[i]) + ": " + formatPlain(pct, pct < 1e-3 ? 2 : 4)
                     + " % of the power, " + formatEngineering(rms, 5, outUnit) + " rms");
     }
-    return true;
 }
 
 void writeSpecs(std::ostringstream &os, const Analysis &a)
@@ -319,8 +318,8 @@ std::string analysisToText(const Analysis &a, const Design *design)
     writeDc(os, out, a);
     writeStabilityAndMargins(os, out, a);
     writeClosedLoop(out, a);
-    if (writeNoise(os, out, a))
-        writeSpecs(os, a);
+    writeNoise(os, out, a);
+    writeSpecs(os, a);
     return os.str();
 }
 
