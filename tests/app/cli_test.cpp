@@ -26,9 +26,6 @@
 #include <vector>
 
 using namespace loopsketch;
-using ::testing::HasSubstr;
-using ::testing::Not;
-namespace fs = std::filesystem;
 using namespace loopsketch::test;
 
 namespace {

@@ -2,14 +2,12 @@
 // "-" standard output, and a failed write leaves nothing behind.
 
 #include "loopsketch/analysis/analysis.h"
-#include "loopsketch/base/value.h"
 #include "loopsketch/design/designfile.h"
 
 #include "clitest.h"
 #include "designs.h"
 #include "faultinjection.h"
 #include "files.h"
-#include "numeric.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
@@ -27,9 +25,6 @@
 #include <vector>
 
 using namespace loopsketch;
-using ::testing::HasSubstr;
-using ::testing::Not;
-namespace fs = std::filesystem;
 using namespace loopsketch::test;
 
 namespace {

@@ -23,9 +23,6 @@
 #include <vector>
 
 using namespace loopsketch;
-using ::testing::HasSubstr;
-using ::testing::Not;
-namespace fs = std::filesystem;
 using namespace loopsketch::test;
 
 namespace {

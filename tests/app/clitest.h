@@ -5,6 +5,7 @@
 
 #include "clirunner.h"
 
+#include <gmock/gmock.h>
 #include <gtest/gtest.h>
 #include <nlohmann/json.hpp>
 
@@ -15,6 +16,10 @@
 
 namespace loopsketch::test {
 
+// What every command-line test file uses, brought in with `using namespace loopsketch::test`.
+using ::testing::HasSubstr;
+using ::testing::Not;
+namespace fs = std::filesystem;
 using Json = nlohmann::json;
 
 /// The command-line program under test (LOOPSKETCH_CLI, set by tests/CMakeLists.txt).

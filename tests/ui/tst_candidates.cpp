@@ -34,12 +34,10 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
-#include <memory>
 
 using namespace loopsketch;
 using namespace loopsketch::ui;
 using ::testing::HasSubstr;
-using ::testing::Not;
 
 using loopsketch::test::analyzeOrFail;
 using loopsketch::test::withCandidateByHand;

@@ -37,6 +37,20 @@ double niceStep(double span, double ticks)
     return 10.0 * decade;
 }
 
+/// The panels' axis look: the title in 8.5 pt, the labels in 8 pt, light grid lines.
+void styleAxis(QAbstractAxis *axis, const QString &title)
+{
+    axis->setTitleText(title);
+    QFont f = axis->titleFont();
+    f.setPointSizeF(8.5);
+    f.setBold(false);
+    axis->setTitleFont(f);
+    QFont lf = axis->labelsFont();
+    lf.setPointSizeF(8);
+    axis->setLabelsFont(lf);
+    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
+}
+
 } // namespace
 
 PlotPanel::PlotPanel(const QString &title, QWidget *parent) : QChartView(parent)
@@ -125,16 +139,8 @@ QScatterSeries *PlotPanel::addMarker(const QString &name, const QColor &colour, 
 QValueAxis *PlotPanel::addValueAxis(const QString &title, Qt::Alignment alignment, bool grid)
 {
     auto *axis = new QValueAxis;
-    axis->setTitleText(title);
-    QFont f = axis->titleFont();
-    f.setPointSizeF(8.5);
-    f.setBold(false);
-    axis->setTitleFont(f);
-    QFont lf = axis->labelsFont();
-    lf.setPointSizeF(8);
-    axis->setLabelsFont(lf);
+    styleAxis(axis, title);
     axis->setGridLineVisible(grid);
-    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
     axis->setTickType(QValueAxis::TicksDynamic);
     axis->setLabelFormat(QStringLiteral("%g"));
     chart()->addAxis(axis, alignment);
@@ -144,16 +150,8 @@ QValueAxis *PlotPanel::addValueAxis(const QString &title, Qt::Alignment alignmen
 QCategoryAxis *PlotPanel::addLogAxis(const QString &title, Qt::Alignment alignment)
 {
     auto *axis = new QCategoryAxis;
-    axis->setTitleText(title);
-    QFont f = axis->titleFont();
-    f.setPointSizeF(8.5);
-    f.setBold(false);
-    axis->setTitleFont(f);
-    QFont lf = axis->labelsFont();
-    lf.setPointSizeF(8);
-    axis->setLabelsFont(lf);
+    styleAxis(axis, title);
     axis->setLabelsPosition(QCategoryAxis::AxisLabelsPositionOnValue);
-    axis->setGridLineColor(QColor(0xdd, 0xe1, 0xe6));
     chart()->addAxis(axis, alignment);
     if (alignment == Qt::AlignBottom) {
         m_frequencyAxis = axis;

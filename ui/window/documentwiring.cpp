@@ -52,6 +52,14 @@ void DesignDocument::removeGrounds(const std::vector<int> &indices)
 
 namespace {
 
+/// A pin as an edit's text names it: "R1.a", or "ground" for the empty pin.
+QString pinText(const PinRef &pin)
+{
+    return pin.part.empty()
+        ? DesignDocument::tr("ground")
+        : QStringLiteral("%1.%2").arg(toQString(pin.part), toQString(pin.terminal));
+}
+
 std::set<std::string> nodeNames(const Design &design)
 {
     std::set<std::string> names;
@@ -351,12 +359,9 @@ bool DesignDocument::reattachWire(const PinRef &keep, const PinRef &leave, const
     joinNodes(after, *from, to ? *to : std::string(kGroundNode));
     if (!after.sketch)
         after.sketch = m_layout;
-    const QString where = target.part.empty()
-        ? tr("ground")
-        : QStringLiteral("%1.%2").arg(toQString(target.part), toQString(target.terminal));
     pushDesign(std::move(after),
                tr("Move wire end from %1.%2 to %3")
-                   .arg(toQString(leave.part), toQString(leave.terminal), where));
+                   .arg(toQString(leave.part), toQString(leave.terminal), pinText(target)));
     return true;
 }
 
@@ -376,11 +381,9 @@ bool DesignDocument::movePin(const PinRef &pin, const PinRef &target)
         return false;
     if (!after.sketch)
         after.sketch = m_layout;
-    const QString where = target.part.empty()
-        ? tr("ground")
-        : QStringLiteral("%1.%2").arg(toQString(target.part), toQString(target.terminal));
-    pushDesign(std::move(after),
-               tr("Move %1.%2 to %3").arg(toQString(pin.part), toQString(pin.terminal), where));
+    pushDesign(
+        std::move(after),
+        tr("Move %1.%2 to %3").arg(toQString(pin.part), toQString(pin.terminal), pinText(target)));
     return true;
 }
 

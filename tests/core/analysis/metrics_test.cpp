@@ -28,9 +28,6 @@ using ::testing::HasSubstr;
 
 namespace {
 
-constexpr double kPi = std::numbers::pi;
-using cd = std::complex<double>;
-
 /// A follower (in_n tied to the output) around a gain block with the given poles and
 /// zeros (Hz); `positive` ties in_p to the output instead (positive feedback). With the
 /// defaults (no r_in, r_out = 0, resistive load) the loop gain is the gain block's own

@@ -28,8 +28,6 @@ using ::testing::HasSubstr;
 
 namespace {
 
-constexpr double kPi = std::numbers::pi;
-
 std::string designText(const std::string &parts, const std::string &input,
                        const std::string &extra = {},
                        const std::string &sweep = R"({"start": "1", "stop": "1M",

@@ -15,12 +15,9 @@
 #include <string>
 
 using namespace loopsketch;
-using test::relErr;
+using namespace loopsketch::test;
 
 namespace {
-
-using cd = std::complex<double>;
-constexpr double kPi = std::numbers::pi;
 
 std::vector<cd> logPoints(double startHz, double stopHz, int count)
 {

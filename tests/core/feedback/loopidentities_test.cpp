@@ -30,8 +30,6 @@ using ::testing::HasSubstr;
 
 namespace {
 
-using cd = std::complex<double>;
-
 const Part &gainBlock(const Design &d)
 {
     const Part *p = d.uniquePart(PartType::GainBlock);

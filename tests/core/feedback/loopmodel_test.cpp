@@ -34,9 +34,6 @@ using ::testing::HasSubstr;
 
 namespace {
 
-constexpr double kPi = std::numbers::pi;
-using cd = std::complex<double>;
-
 void setField(Design &d, const std::string &part, const std::string &field, double si)
 {
     Part *p = d.findPart(part);

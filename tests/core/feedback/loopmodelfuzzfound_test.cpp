@@ -20,12 +20,6 @@ using namespace loopsketch;
 using namespace loopsketch::test;
 using ::testing::HasSubstr;
 
-namespace {
-
-using cd = std::complex<double>;
-
-} // namespace
-
 // ---------------------------------------------------------------------------------------
 // Cases the analysis fuzzer found (tests/fuzz/): each failed before its fix
 // ---------------------------------------------------------------------------------------
