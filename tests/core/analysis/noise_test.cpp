@@ -454,26 +454,6 @@ TEST(Noise, ShotNoiseOfADirectCurrent)
     EXPECT_LT(relErr(std::sqrt(shot->outputPsd[kAt1Hz]), 1.2657712e-12 * 200e3), 1e-3);
 }
 
-// Every source is named by its part and where in the part the noise arises (the names the
-// Noise panel, the review sheet and the analysis text show; core/README.md's vocabulary): a
-// resistor and the load as themselves, a source's r_parallel as a field of it, its shot
-// noise, the gain block's e_n, and its i_n at in_n only: in_p sits on ground, which shorts
-// the current noise there (common practice).
-TEST(Noise, LabelsNameThePartAndWhereInItTheNoiseArises)
-{
-    const Design d = parseOrFail(
-        designText(tiaParts(R"(, "en": "5n", "in": "2f")", R"(, "i_dc": "5u")"), "PD1"));
-    auto n = analyzeNoise(d);
-    ASSERT_TRUE(n.ok()) << n.errorText();
-    std::vector<std::string> labels;
-    for (const NoiseContribution &c : n->contributions)
-        labels.push_back(noiseSourceLabel(c));
-    EXPECT_THAT(labels,
-                ::testing::UnorderedElementsAre("PD1 r_parallel thermal", "RF thermal",
-                                                "RL thermal", "PD1 shot", "U1 e_n",
-                                                "U1 i_n at in_n"));
-}
-
 // Issue 18: the TIA's density at low frequency against the closed form
 //   sqrt(4kT RF + 4kT RF^2/R_sh + (i_n RF)^2 + 2q i_dc RF^2 + (e_n,f (1 + RF/R_sh))^2),
 // e_n,f = e_n sqrt(1 + f_c/f) (common practice: RF's and the shunt's thermal noise, the
