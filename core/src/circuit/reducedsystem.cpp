@@ -5,6 +5,7 @@
 #include "circuit/pencilsweep.h"
 #include "circuit/refinedsolve.h"
 #include "circuit/rowscales.h"
+#include "circuit/structuralzeros.h"
 
 #include "loopsketch/base/value.h"
 
@@ -139,6 +140,7 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
 
     r.m_path = path;
     r.m_system = std::move(shared);
+    r.m_structuralZero = detail::findStructuralZeros(system).zero;
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
     if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
@@ -159,18 +161,24 @@ Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
 
 std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, int input) const
 {
+    // An entry zero for every value of the parts is an exact 0 where the point is regular.
+    const auto exact = [&](std::complex<double> v) {
+        return structuralZero(output, input) && std::isfinite(v.real()) && std::isfinite(v.imag())
+            ? std::complex<double>(0.0)
+            : v;
+    };
     if (m_path == SolverPath::DenseLu || m_refined) {
         thread_local Eigen::MatrixXcd h;
         const int in[] = {input}, out[] = {output};
         evaluateInto(s, in, out, h);
-        return h(output, input);
+        return h(output, input); // masked there
     }
     if (m_singularAtDc && s == std::complex<double>(0.0))
         return {std::numeric_limits<double>::quiet_NaN(), std::numeric_limits<double>::quiet_NaN()};
     const TransferEntry e[] = {{output, input}};
     std::complex<double> h;
     detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h);
-    return h;
+    return exact(h);
 }
 
 void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> inputs,
@@ -192,6 +200,24 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
             allOutputs[static_cast<std::size_t>(o)] = o;
         outputs = allOutputs;
     }
+    // Entries zero for every value of the parts are an exact 0 wherever the point is
+    // regular, on every path (run as this function returns).
+    struct ExactZeros
+    {
+        const ReducedSystem &r;
+        std::span<const int> inputs, outputs;
+        Eigen::MatrixXcd &h;
+        ~ExactZeros()
+        {
+            if (r.m_structuralZero.empty())
+                return;
+            for (int c : inputs)
+                for (int o : outputs)
+                    if (r.structuralZero(o, c) && std::isfinite(h(o, c).real())
+                        && std::isfinite(h(o, c).imag()))
+                        h(o, c) = 0.0;
+        }
+    } exactZeros{*this, inputs, outputs, h};
     if (m_singularAtDc && s == cd(0.0)) {
         const cd nan(std::numeric_limits<double>::quiet_NaN(),
                      std::numeric_limits<double>::quiet_NaN());
@@ -247,6 +273,16 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
     std::vector<std::complex<double>> out(entries.size() * s.size());
     if (m_path == SolverPath::Reduced && !m_refined) {
         detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
+        // Entries zero for every value of the parts: an exact 0 where the point is regular.
+        for (std::size_t e = 0; e < entries.size(); ++e) {
+            if (!structuralZero(entries[e].output, entries[e].input))
+                continue;
+            for (std::size_t i = 0; i < s.size(); ++i) {
+                std::complex<double> &v = out[e * s.size() + i];
+                if (std::isfinite(v.real()) && std::isfinite(v.imag()))
+                    v = 0.0;
+            }
+        }
         if (m_singularAtDc) {
             for (std::size_t i = 0; i < s.size(); ++i)
                 if (s[i] == std::complex<double>(0.0))
@@ -326,9 +362,14 @@ std::vector<std::complex<double>> finiteEigenvalues(Eigen::MatrixXd g, Eigen::Ma
     std::vector<std::complex<double>> poles;
     g /= w0;
     balance(g, c);
-    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
+    // Eigen's info() asserts (in builds with assertions) where QZ did not converge, instead
+    // of saying so; the solver's own flags say it either way.
+    struct Solver : Eigen::GeneralizedEigenSolver<Eigen::MatrixXd>
+    {
+        bool converged() const { return m_valuesOkay && m_realQZ.info() == Eigen::Success; }
+    } ges;
     ges.compute(g, c, false);
-    if (ges.info() != Eigen::Success)
+    if (!ges.converged())
         return poles;
     const Eigen::VectorXcd alphas = ges.alphas();
     const Eigen::VectorXd betas = ges.betas();
