@@ -141,6 +141,10 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
     r.m_path = path;
     r.m_system = std::move(shared);
     r.m_structuralZero = detail::findStructuralZeros(system).zero;
+    // No solution at DC (an inductor across an ideal source or port, a node held by
+    // capacitors only): what a pencil makes of s = 0 is then rounding of a singular matrix,
+    // finite more often than not, so every value at DC is NaN on every path instead.
+    r.m_singularAtDc = isSingular(system.G);
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
     if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
