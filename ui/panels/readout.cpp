@@ -131,6 +131,11 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     if (a.stable) {
         m_banner->hide();
         m_banner->clear();
+    } else if (!a.stabilityKnown) {
+        m_banner->setText(QStringLiteral("<b style=\"font-size: 11pt\">STABILITY UNKNOWN</b><br>")
+                          + toQString(a.closedLoopReason).toHtmlEscaped());
+        m_banner->setToolTip(toQString(a.closedLoopReason));
+        m_banner->show();
     } else {
         const QString poles = unstablePolesText(a, 1);
         m_banner->setText(
@@ -141,8 +146,10 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                              + unstablePolesText(a, 20));
         m_banner->show();
     }
-    const QString unstable = tr("— (unstable)");
-    const QString unstableTip = tr("no closed-loop value: the loop is unstable");
+    const QString unstable = a.stabilityKnown ? tr("— (unstable)") : tr("— (stability unknown)");
+    const QString unstableTip = a.stabilityKnown
+        ? tr("no closed-loop value: the loop is unstable")
+        : tr("no closed-loop value: the loop's stability is unknown");
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;
@@ -226,8 +233,11 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     if (!a.stable) {
         const std::string failing = failingSpecLabels(a.specs);
         setCell(8, tr("specs"),
-                failing.empty() ? tr("fail: unstable")
-                                : tr("fails: %1 (unstable)").arg(toQString(failing)),
+                failing.empty()
+                    ? (a.stabilityKnown ? tr("fail: unstable") : tr("fail: stability unknown"))
+                    : (a.stabilityKnown ? tr("fails: %1 (unstable)")
+                                        : tr("fails: %1 (stability unknown)"))
+                          .arg(toQString(failing)),
                 toQString(a.closedLoopReason), kFail);
     } else if (a.specs.empty()) {
         setCell(8, tr("specs"), tr("none set"));

@@ -216,6 +216,19 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     a.stable = verdict.stable;
     a.rhpPoles = verdict.rhpPoles;
     a.closedLoopReason = verdict.reason;
+    if (const int unlocated = model.unlocatedClosedLoopPoles(); unlocated > 0 && a.stable) {
+        // Poles that were not found may lie anywhere: no verdict, and nothing that needs one.
+        const Part *gainBlock = design.uniquePart(PartType::GainBlock);
+        a.stable = false;
+        a.stabilityKnown = false;
+        a.closedLoopReason = "stability unknown: " + std::to_string(unlocated)
+            + (unlocated == 1 ? " closed-loop pole" : " closed-loop poles")
+            + " could not be located"
+            + (gainBlock ? " (rounding in the circuit equations; the largest entry comes from "
+                           "the gain of "
+                       + gainBlock->id + ")"
+                         : std::string(" (rounding in the circuit equations)"));
+    }
 
     // The loop beyond the sweep, where crossings may lie: as far as its poles and the
     // closed loop's reach.
