@@ -97,6 +97,13 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
         }
         std::sort(sRows.begin(), sRows.end());
         std::sort(sCols.begin(), sCols.end());
+        // The rank test and the regularity test read the block differently (relative pivot
+        // against equilibrated condition): where they disagree, eliminate nothing and keep
+        // the whole system in the pencil, which is exact, instead of refusing the circuit.
+        if (!sRows.empty() && isSingular(Eigen::MatrixXd(select(system.G, sRows, sCols)))) {
+            sRows.clear();
+            sCols.clear();
+        }
     }
     const std::vector<Index> kRows = complement(n, sRows);
     const std::vector<Index> kCols = complement(n, sCols);
@@ -116,9 +123,7 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
         r.m_dr = Eigen::MatrixXd::Zero(system.L.rows(), system.B.cols());
     } else {
         const Eigen::MatrixXd gss = select(system.G, sRows, sCols);
-        Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss);
-        if (isSingular(gss))
-            return Diagnostic{{}, {}, {}, describeSingularity(system, 0.0)};
+        Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss); // regular: tested above
         const Eigen::MatrixXd gks = select(system.G, kRows, sCols);
         const Eigen::MatrixXd gsk = select(system.G, sRows, kCols);
         // Eigen's triangular solve touches element (0,0) even of an empty right-hand side,
@@ -148,10 +153,22 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
     if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
-        std::string why = describeSingularity(system, probe);
-        if (why.empty())
-            why = "the circuit equations are too ill-conditioned to solve";
-        return Diagnostic{{}, {}, {}, why};
+        Diagnostic d = singularityDiagnostic(system, probe);
+        if (d.message.empty()) {
+            // Singular only in rounding: name the value that stretches the equations most.
+            d.message = "the circuit equations are too ill-conditioned to solve (the largest "
+                        "entry comes from this value)";
+            const StampEntry *largest = nullptr;
+            for (const StampEntry &e : system.stamps)
+                if (!system.origins[static_cast<std::size_t>(e.origin)].part.empty()
+                    && (!largest || std::abs(e.value) > std::abs(largest->value)))
+                    largest = &e;
+            if (largest) {
+                d.part = system.origins[static_cast<std::size_t>(largest->origin)].part;
+                d.field = system.origins[static_cast<std::size_t>(largest->origin)].field;
+            }
+        }
+        return d;
     }
     return r;
 }
@@ -248,7 +265,10 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
         const cd nan(std::numeric_limits<double>::quiet_NaN(),
                      std::numeric_limits<double>::quiet_NaN());
         Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m_gr.cast<cd>() + s * m_cr);
-        const bool regular = lu.rcond() > kMinReciprocalCondition;
+        // Eigen's estimate reads an exactly zero pivot as well conditioned (rcond 1): test
+        // the pivots first, so a singular point is NaN by decision, not by luck of the solve.
+        const bool regular = (lu.matrixLU().diagonal().array() != cd(0.0)).all()
+            && lu.rcond() > kMinReciprocalCondition;
         for (int c : inputs) {
             const Eigen::VectorXcd z = lu.solve(m_br.col(c).cast<cd>());
             if (regular && z.allFinite())
