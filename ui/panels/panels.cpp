@@ -284,7 +284,9 @@ void StepPanel::showAnalysis(const Analysis &a)
     const QString band = QString::number(s.settlingBand * 100, 'g', 3) + QStringLiteral(" %");
     rename(m_settling, tr("settled (%1)").arg(band));
     if (!a.stable) {
-        setTitle(tr("UNSTABLE: no step response (the output grows without bound)"));
+        setTitle(a.stabilityKnown
+                     ? tr("UNSTABLE: no step response (the output grows without bound)")
+                     : tr("STABILITY UNKNOWN: no step response (closed-loop poles not located)"));
         return;
     }
     setTitle(tr("overshoot %1  ·  settling (%2) %3  ·  rise %4")
@@ -482,7 +484,9 @@ void PolesPanel::showAnalysis(const Analysis &a)
         if (!dominant || p.naturalHz < dominant->naturalHz)
             dominant = &p;
     }
-    if (!a.stable)
+    if (!a.stable && !a.stabilityKnown)
+        setTitle(tr("STABILITY UNKNOWN  ·  %1").arg(toQString(a.closedLoopReason)));
+    else if (!a.stable)
         setTitle(tr("UNSTABLE  ·  %1 in the right half-plane: %2")
                      .arg(a.rhpPoles)
                      .arg(unstablePolesText(a, 2)));

@@ -129,8 +129,10 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
     const SpecCheck check = checkSpecs(specs, design.sweep, trialMetricsOf(a));
     showStability(a);
-    const QString unstable = tr("— (unstable)");
-    const QString unstableTip = tr("no closed-loop value: the loop is unstable");
+    const QString unstable = a.stabilityKnown ? tr("— (unstable)") : tr("— (stability unknown)");
+    const QString unstableTip = a.stabilityKnown
+        ? tr("no closed-loop value: the loop is unstable")
+        : tr("no closed-loop value: the loop's stability is unknown");
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;
@@ -215,6 +217,11 @@ void Readout::showStability(const Analysis &a)
     if (a.stable) {
         m_banner->hide();
         m_banner->clear();
+    } else if (!a.stabilityKnown) {
+        m_banner->setText(QStringLiteral("<b style=\"font-size: 11pt\">STABILITY UNKNOWN</b><br>")
+                          + toQString(a.closedLoopReason).toHtmlEscaped());
+        m_banner->setToolTip(toQString(a.closedLoopReason));
+        m_banner->show();
     } else {
         const QString poles = unstablePolesText(a, 1);
         m_banner->setText(
@@ -234,8 +241,11 @@ void Readout::showSpecVerdicts(const Analysis &a)
     if (!a.stable) {
         const std::string failing = failingSpecLabels(a.specs);
         setCell(8, tr("specs"),
-                failing.empty() ? tr("fail: unstable")
-                                : tr("fails: %1 (unstable)").arg(toQString(failing)),
+                failing.empty()
+                    ? (a.stabilityKnown ? tr("fail: unstable") : tr("fail: stability unknown"))
+                    : (a.stabilityKnown ? tr("fails: %1 (unstable)")
+                                        : tr("fails: %1 (stability unknown)"))
+                          .arg(toQString(failing)),
                 toQString(a.closedLoopReason), kFail);
     } else if (a.specs.empty()) {
         setCell(8, tr("specs"), tr("none set"));

@@ -39,7 +39,16 @@ void titleBlock(SheetWriter &w, const Design &d, const Analysis &a, const QStrin
 {
     w.paragraph(d.title.empty() ? QStringLiteral("Untitled design") : q(d.title),
                 sheetFont(15, true));
-    if (!a.stable) {
+    if (!a.stable && !a.stabilityKnown) {
+        // First thing on the sheet: no verdict on stability, and why.
+        w.advance(1);
+        w.paragraph(QStringLiteral("STABILITY UNKNOWN"), sheetFont(14, true), 0, kFail);
+        w.paragraph(q(a.closedLoopReason)
+                        + QStringLiteral(". Bandwidth, peaking, step response and noise rms are "
+                                         "not given; every spec fails."),
+                    sheetFont(kBodyPt, true), 0, kFail);
+        w.advance(1);
+    } else if (!a.stable) {
         // First thing on the sheet: the loop does not work, and why.
         w.advance(1);
         w.paragraph(QStringLiteral("UNSTABLE"), sheetFont(14, true), 0, kFail);

@@ -70,6 +70,10 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
     for (const auto &s : full->naturalFrequencies())
         if (s.real() >= -1e-9 * std::abs(s))
             m.stable = false; // as assessStability(): right half-plane or jw axis
+    if (m.stable && full->unconfirmedPoles() > 0) { // as analyze(): poles not all located
+        m.stable = false;
+        m.stabilityKnown = false;
+    }
     const double g0 = full->entry(0.0, loopio::kOutput, loopio::kSource).real();
     m.gain = finite(g0);
     const std::complex<double> t0 = -rr->entry(0.0, loopio::kReturned, loopio::kTest);
@@ -129,7 +133,7 @@ bool hasSpecs(const Specs &specs)
 
 TrialMetrics trialMetricsOf(const Analysis &a)
 {
-    return {a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, a.stable};
+    return {a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, a.stable, a.stabilityKnown};
 }
 
 SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &m)
@@ -137,7 +141,7 @@ SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics 
     SpecCheck c;
     if (!m.stable) {
         c.stable = false;
-        c.reason = "unstable";
+        c.reason = m.stabilityKnown ? "unstable" : "stability unknown";
         c.gain = !(specs.gainMin || specs.gainMax);
         c.bandwidth = !specs.bandwidthMin;
         c.phaseMargin = !specs.phaseMarginMinDeg;

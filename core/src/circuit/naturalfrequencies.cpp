@@ -58,9 +58,14 @@ std::vector<std::complex<double>> finiteEigenvalues(Eigen::MatrixXd g, Eigen::Ma
     std::vector<std::complex<double>> poles;
     g /= w0;
     balance(g, c);
-    Eigen::GeneralizedEigenSolver<Eigen::MatrixXd> ges;
+    // Eigen's info() asserts (in builds with assertions) where QZ did not converge, instead
+    // of saying so; the solver's own flags say it either way.
+    struct Solver : Eigen::GeneralizedEigenSolver<Eigen::MatrixXd>
+    {
+        bool converged() const { return m_valuesOkay && m_realQZ.info() == Eigen::Success; }
+    } ges;
     ges.compute(g, c, false);
-    if (ges.info() != Eigen::Success)
+    if (!ges.converged())
         return poles;
     const Eigen::VectorXcd alphas = ges.alphas();
     const Eigen::VectorXd betas = ges.betas();

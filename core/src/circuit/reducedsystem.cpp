@@ -5,6 +5,7 @@
 #include "circuit/pencilsweep.h"
 #include "circuit/refinedsolve.h"
 #include "circuit/rowscales.h"
+#include "circuit/structuralzeros.h"
 
 #include "loopsketch/base/value.h"
 
@@ -95,6 +96,13 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
         }
         std::sort(sRows.begin(), sRows.end());
         std::sort(sCols.begin(), sCols.end());
+        // The rank test and the regularity test read the block differently (relative pivot
+        // against equilibrated condition): where they disagree, eliminate nothing and keep
+        // the whole system in the pencil, which is exact, instead of refusing the circuit.
+        if (!sRows.empty() && isSingular(Eigen::MatrixXd(select(system.G, sRows, sCols)))) {
+            sRows.clear();
+            sCols.clear();
+        }
     }
     const std::vector<Index> kRows = complement(n, sRows);
     const std::vector<Index> kCols = complement(n, sCols);
@@ -114,9 +122,7 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
         r.m_dr = Eigen::MatrixXd::Zero(system.L.rows(), system.B.cols());
     } else {
         const Eigen::MatrixXd gss = select(system.G, sRows, sCols);
-        Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss);
-        if (isSingular(gss))
-            return Diagnostic{{}, {}, {}, describeSingularity(system, 0.0)};
+        Eigen::PartialPivLU<Eigen::MatrixXd> lu(gss); // regular: tested above
         const Eigen::MatrixXd gks = select(system.G, kRows, sCols);
         const Eigen::MatrixXd gsk = select(system.G, sRows, kCols);
         // Eigen's triangular solve touches element (0,0) even of an empty right-hand side,
@@ -138,13 +144,30 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
 
     r.m_path = path;
     r.m_system = std::move(shared);
+    r.m_structuralZero = detail::findStructuralZeros(system).zero;
+    // No solution at DC (an inductor across an ideal source or port, a node held by
+    // capacitors only): what a pencil makes of s = 0 is then rounding of a singular matrix,
+    // finite more often than not, so every value at DC is NaN on every path instead.
+    r.m_singularAtDc = isSingular(system.G);
     // A pencil singular at every frequency has no solution anywhere: report it now.
     const std::complex<double> probe(0.0, 2.0 * std::numbers::pi * 1234.5);
     if (isSingular(Eigen::MatrixXcd(r.m_gr.cast<std::complex<double>>() + probe * r.m_cr))) {
-        std::string why = describeSingularity(system, probe);
-        if (why.empty())
-            why = "the circuit equations are too ill-conditioned to solve";
-        return Diagnostic{{}, {}, {}, why};
+        Diagnostic d = singularityDiagnostic(system, probe);
+        if (d.message.empty()) {
+            // Singular only in rounding: name the value that stretches the equations most.
+            d.message = "the circuit equations are too ill-conditioned to solve (the largest "
+                        "entry comes from this value)";
+            const StampEntry *largest = nullptr;
+            for (const StampEntry &e : system.stamps)
+                if (!system.origins[static_cast<std::size_t>(e.origin)].part.empty()
+                    && (!largest || std::abs(e.value) > std::abs(largest->value)))
+                    largest = &e;
+            if (largest) {
+                d.part = system.origins[static_cast<std::size_t>(largest->origin)].part;
+                d.field = system.origins[static_cast<std::size_t>(largest->origin)].field;
+            }
+        }
+        return d;
     }
     return r;
 }
@@ -158,18 +181,24 @@ Eigen::MatrixXcd ReducedSystem::evaluate(std::complex<double> s) const
 
 std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, int input) const
 {
+    // An entry zero for every value of the parts is an exact 0 where the point is regular.
+    const auto exact = [&](std::complex<double> v) {
+        return structuralZero(output, input) && std::isfinite(v.real()) && std::isfinite(v.imag())
+            ? std::complex<double>(0.0)
+            : v;
+    };
     if (m_path == SolverPath::DenseLu || m_refined) {
         thread_local Eigen::MatrixXcd h;
         const int in[] = {input}, out[] = {output};
         evaluateInto(s, in, out, h);
-        return h(output, input);
+        return h(output, input); // masked there
     }
     if (m_singularAtDc && s == std::complex<double>(0.0))
         return {std::numeric_limits<double>::quiet_NaN(), std::numeric_limits<double>::quiet_NaN()};
     const TransferEntry e[] = {{output, input}};
     std::complex<double> h;
     detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h);
-    return h;
+    return exact(h);
 }
 
 void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> inputs,
@@ -191,6 +220,24 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
             allOutputs[static_cast<std::size_t>(o)] = o;
         outputs = allOutputs;
     }
+    // Entries zero for every value of the parts are an exact 0 wherever the point is
+    // regular, on every path (run as this function returns).
+    struct ExactZeros
+    {
+        const ReducedSystem &r;
+        std::span<const int> inputs, outputs;
+        Eigen::MatrixXcd &h;
+        ~ExactZeros()
+        {
+            if (r.m_structuralZero.empty())
+                return;
+            for (int c : inputs)
+                for (int o : outputs)
+                    if (r.structuralZero(o, c) && std::isfinite(h(o, c).real())
+                        && std::isfinite(h(o, c).imag()))
+                        h(o, c) = 0.0;
+        }
+    } exactZeros{*this, inputs, outputs, h};
     if (m_singularAtDc && s == cd(0.0)) {
         const cd nan(std::numeric_limits<double>::quiet_NaN(),
                      std::numeric_limits<double>::quiet_NaN());
@@ -217,7 +264,10 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
         const cd nan(std::numeric_limits<double>::quiet_NaN(),
                      std::numeric_limits<double>::quiet_NaN());
         Eigen::PartialPivLU<Eigen::MatrixXcd> lu(m_gr.cast<cd>() + s * m_cr);
-        const bool regular = lu.rcond() > kMinReciprocalCondition;
+        // Eigen's estimate reads an exactly zero pivot as well conditioned (rcond 1): test
+        // the pivots first, so a singular point is NaN by decision, not by luck of the solve.
+        const bool regular = (lu.matrixLU().diagonal().array() != cd(0.0)).all()
+            && lu.rcond() > kMinReciprocalCondition;
         for (int c : inputs) {
             const Eigen::VectorXcd z = lu.solve(m_br.col(c).cast<cd>());
             if (regular && z.allFinite())
@@ -246,6 +296,16 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
     std::vector<std::complex<double>> out(entries.size() * s.size());
     if (m_path == SolverPath::Reduced && !m_refined) {
         detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
+        // Entries zero for every value of the parts: an exact 0 where the point is regular.
+        for (std::size_t e = 0; e < entries.size(); ++e) {
+            if (!structuralZero(entries[e].output, entries[e].input))
+                continue;
+            for (std::size_t i = 0; i < s.size(); ++i) {
+                std::complex<double> &v = out[e * s.size() + i];
+                if (std::isfinite(v.real()) && std::isfinite(v.imag()))
+                    v = 0.0;
+            }
+        }
         if (m_singularAtDc) {
             for (std::size_t i = 0; i < s.size(); ++i)
                 if (s[i] == std::complex<double>(0.0))

@@ -620,6 +620,16 @@ void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
             c.outputLoading[i] = (1.0 + x.rOut * yl) / (1.0 + x.rOut * (yl + yn2));
         }
     }
+    // A port the exact solution has no solution at (a test current with no path back, as
+    // into an ideal input through series capacitors) has an infinite impedance; the
+    // estimate's formula then divides rounding by rounding (a port admittance that is zero
+    // at some frequencies and 1e-20 at others), so it is missing as a whole too.
+    const Complex nan(std::numeric_limits<double>::quiet_NaN(),
+                      std::numeric_limits<double>::quiet_NaN());
+    if (!m_input)
+        std::fill(c.zInTwoPort.begin(), c.zInTwoPort.end(), nan);
+    if (!m_output)
+        std::fill(c.zOutTwoPort.begin(), c.zOutTwoPort.end(), nan);
 }
 
 std::vector<Complex> LoopModel::closedLoopPoles() const

@@ -282,7 +282,7 @@ std::string analysisToJson(const Analysis &a)
                          {"damping", number(p.damping)},
                          {"q", number(p.q)}});
     j["closed_loop"] = {
-        {"stable", a.stable},
+        {"stable", a.stabilityKnown ? Json(a.stable) : Json(nullptr)},
         {"rhp_poles", a.rhpPoles},
         {"reason", a.closedLoopReason.empty() ? Json(nullptr) : Json(a.closedLoopReason)},
         {"bandwidth_hz", number(a.bandwidthHz)},

@@ -103,7 +103,11 @@ private:
 void writeHeading(std::ostringstream &os, const Analysis &a, const Design *design)
 {
     os << a.title << "\n\n";
-    if (!a.stable)
+    if (!a.stable && !a.stabilityKnown)
+        os << "STABILITY UNKNOWN: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
+           << ".\nNo bandwidth, peaking, step response or noise rms: they are not given for a "
+              "loop whose stability is unknown.\n\n";
+    else if (!a.stable)
         os << "UNSTABLE: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
            << ".\nNo bandwidth, peaking, step response or noise rms: they do not exist for an "
               "unstable loop.\n\n";
@@ -156,7 +160,10 @@ void writeDc(std::ostringstream &os, TextLines &out, const Analysis &a)
 void writeStabilityAndMargins(std::ostringstream &os, TextLines &out, const Analysis &a)
 {
     os << "\nStability and response\n";
-    out.row("closed loop", a.stable ? "stable" : "UNSTABLE");
+    out.row("closed loop",
+            a.stable               ? "stable"
+                : a.stabilityKnown ? "UNSTABLE"
+                                   : "stability unknown");
     for (const ClosedLoopPole &p : a.poles) {
         if (p.s.real() < 0)
             continue;
@@ -186,7 +193,7 @@ void writeClosedLoop(TextLines &out, const Analysis &a)
     if (!a.stable) {
         for (const char *label : {"closed-loop bandwidth", "peaking", "step rise time",
                                   "step overshoot", "step settling"})
-            out.row(label, "none (unstable)");
+            out.row(label, a.stabilityKnown ? "none (unstable)" : "none (stability unknown)");
         return;
     }
     if (!a.bandwidthHz && !a.curves.gainExact.empty() && a.exact.gain
@@ -230,8 +237,9 @@ void writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
     const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
     os << "\nNoise (" << formatPlain(n.temperatureK, 6) << " K)\n";
     if (!a.stable) {
-        out.row("output, rms", "none (unstable)");
-        out.row("input-referred, rms", "none (unstable)");
+        const char *why = a.stabilityKnown ? "none (unstable)" : "none (stability unknown)";
+        out.row("output, rms", why);
+        out.row("input-referred, rms", why);
         return;
     }
     out.show("output, rms", n.outputRms, outUnit);

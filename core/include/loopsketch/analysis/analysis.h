@@ -109,6 +109,12 @@ struct Analysis
     /// False when a closed-loop pole lies in the right half-plane or on the imaginary
     /// axis; bandwidth, peaking, step metrics and noise rms are then absent.
     bool stable = true;
+    /// False when the closed-loop poles could not all be located (a gain near the largest
+    /// double, rounding the pole search cannot get past) and none of those found is
+    /// unstable: `stable` is then false as well, so nothing that needs a stable loop is
+    /// computed or passes, but the outputs say the stability is unknown (JSON `stable`:
+    /// null), and `closedLoopReason` says why.
+    bool stabilityKnown = true;
     int rhpPoles = 0; ///< closed-loop poles with Re s > 0
     std::string closedLoopReason; ///< why the closed-loop quantities are absent
     OptionalNumber bandwidthHz; ///< closed-loop (exact) -3 dB

@@ -26,6 +26,9 @@ struct TrialMetrics
     OptionalNumber bandwidthHz; ///< closed-loop -3 dB frequency, Hz
     OptionalNumber phaseMarginDeg; ///< worst phase margin over all loop crossovers, degrees
     bool stable = true; ///< no closed-loop pole in the right half-plane or on the jw axis
+    /// False when some closed-loop poles could not be located and none found is unstable:
+    /// `stable` is false too, and the specs fail with the reason "stability unknown".
+    bool stabilityKnown = true;
 };
 
 /// The metrics of a full analysis, for the spec check.
@@ -54,7 +57,8 @@ struct SpecCheck
 {
     bool gain = true, bandwidth = true, phaseMargin = true;
     bool stable = true;
-    std::string reason; ///< "unstable" when every spec fails for that; else empty
+    /// "unstable" (or "stability unknown") when every spec fails for that; else empty
+    std::string reason;
     bool all() const { return stable && gain && bandwidth && phaseMargin; }
 };
 SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &metrics);
