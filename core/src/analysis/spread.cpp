@@ -244,14 +244,13 @@ spreadQuantities(const Design &design, const SpreadOptions &options, std::string
             if (t == 0)
                 continue;
             if (!(t > 0 && t < 1)) {
-                problems.push_back(error(file, p.id, key,
-                                         key + " must be between 0 % and 100 % (excluded)"));
+                problems.push_back(
+                    error(file, p.id, key, key + " must be between 0 % and 100 % (excluded)"));
                 continue;
             }
             if (!p.has(field) || !std::isfinite(p.number(field))) {
-                problems.push_back(error(file, p.id, key,
-                                         key + " needs a finite " + std::string(field)
-                                             + " to spread"));
+                problems.push_back(error(
+                    file, p.id, key, key + " needs a finite " + std::string(field) + " to spread"));
                 continue;
             }
             out.push_back({p.id, field, p.number(field), t});

@@ -102,8 +102,9 @@ Result<std::vector<SuggestRange>> searchRanges(const Design &design, const Sugge
 
 bool roughlyLess(double a, double b)
 {
-    // objectives within 1e-9 relative are one value: round-off must not order rows
-    return a < b && !(std::abs(a - b) <= 1e-9 * std::max(std::abs(a), std::abs(b)));
+    // objectives within 1e-9 relative or 1e-12 absolute are one value: round-off must not
+    // order rows
+    return a < b && !(std::abs(a - b) <= 1e-9 * std::max(std::abs(a), std::abs(b)) + 1e-12);
 }
 
 bool valuesBefore(const Suggestion &a, const Suggestion &b)
@@ -213,7 +214,9 @@ void rankSuggestions(const Design &design, const SuggestOptions &o,
         if (r.noiseObjective)
             s.objective = s.metrics.outputNoiseRms.value_or(HUGE_VAL);
         else
-            s.objective = s.metrics.gain ? std::abs(*s.metrics.gain - r.targetGain) : HUGE_VAL;
+            s.objective = s.metrics.gain && r.targetGain != 0
+                ? std::abs(*s.metrics.gain - r.targetGain) / std::abs(r.targetGain)
+                : HUGE_VAL;
         if (!std::isfinite(s.decadesFromCurrent))
             s.decadesFromCurrent = HUGE_VAL;
         s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
@@ -228,10 +231,10 @@ void rankSuggestions(const Design &design, const SuggestOptions &o,
     const bool anyGain = inWindow > 0;
     const std::size_t best = static_cast<std::size_t>(o.best);
     const std::size_t shortlist = std::min(
-        all.size(), o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist))
-                                    : 4 * best);
-    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(shortlist),
-                      all.end(), [&](const Suggestion &a, const Suggestion &b) {
+        all.size(),
+        o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist)) : 4 * best);
+    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(shortlist), all.end(),
+                      [&](const Suggestion &a, const Suggestion &b) {
                           return nominallyBefore(a, b, design.specs);
                       });
     all.resize(shortlist);
@@ -270,9 +273,9 @@ Result<std::vector<SuggestRange>> checkRequest(const Design &design, const Sugge
         problems.push_back(
             error(file, {}, "points_per_decade", "points per decade must be between 1 and 1000"));
     if (o.yieldTrials < 1 || o.yieldTrials > kMaxTrials)
-        problems.push_back(error(file, {}, "trials",
-                                 "yield trials must be between 1 and "
-                                     + std::to_string(kMaxTrials)));
+        problems.push_back(
+            error(file, {}, "trials",
+                  "yield trials must be between 1 and " + std::to_string(kMaxTrials)));
     auto ranges = searchRanges(design, o, file);
     if (!ranges)
         problems.insert(problems.end(), ranges.diagnostics().begin(), ranges.diagnostics().end());
@@ -510,8 +513,8 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
         os << r.unmet << "\n";
     os << "Ranked by " << kRankingText << "; objective: "
        << (r.noiseObjective ? "output noise rms" : "distance of the gain from the window centre")
-       << "\nWorst case and yield of the best " << r.shortlisted << " by nominal: "
-       << r.yieldTrials << " Monte Carlo trials each (uniform, seed " << r.seed << ")\n";
+       << "\nWorst case and yield of the best " << r.shortlisted << " by nominal: " << r.yieldTrials
+       << " Monte Carlo trials each (uniform, seed " << r.seed << ")\n";
     if (r.targetsMet && !r.worstCaseMet)
         os << "No row meets every spec at the worst case over the tolerances\n";
     os << "\n";
@@ -538,9 +541,9 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
             os << ", output noise " << formatEngineering(*s.metrics.outputNoiseRms, 4) << " rms";
         if (s.metrics.snrDb)
             os << ", SNR " << formatFixed(*s.metrics.snrDb, 1) << " dB";
-        os << (s.worstCasePass ? ", meets the specs at the worst case"
-                               : s.meetsSpecs ? ", meets the specs at nominal only"
-                                              : ", misses a spec");
+        os << (s.worstCasePass    ? ", meets the specs at the worst case"
+                   : s.meetsSpecs ? ", meets the specs at nominal only"
+                                  : ", misses a spec");
         os << "; yield " << formatFixed(100.0 * s.yield, 1) << " %"
            << (s.toleranced ? "" : " (no tolerances)") << "\n";
     }

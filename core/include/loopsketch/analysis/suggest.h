@@ -71,7 +71,7 @@ struct Suggestion
     /// verdict.
     bool toleranced = true;
     /// The ranking's objective: output noise rms (V or A) with a noise spec, else |gain -
-    /// window centre| (gain unit).
+    /// window centre| / |centre| (a fraction).
     double objective = 0;
     double decadesFromCurrent = 0; ///< sum over the parts of |log10(value / current)|
 };
@@ -104,12 +104,12 @@ struct SuggestResult
 /// nominal (specs met, objective, decades from the current values) form a shortlist whose
 /// worst case over the tolerance box and Monte Carlo yield are computed, and the shortlist is
 /// ranked by: specs met at the worst case (more first), yield (higher first), the objective
-/// (output noise rms with a noise spec, else |gain - window centre|; lower first, values
-/// within 1e-9 relative count as equal), decades from the current values (fewer first), and
-/// last the values themselves in the order of the parts (smaller first), so the order is
-/// never arbitrary. Fails, naming part and field, for unknown
-/// parts, parts without a value, parts without a series, empty ranges, a design without a
-/// gain window or more than kMaxCombinations combinations.
+/// (output noise rms with a noise spec, else |gain - window centre| / |centre|; lower
+/// first, values within 1e-9 relative or 1e-12 absolute count as equal), decades from the current
+/// values (fewer first), and last the values themselves in the order of the parts (smaller first),
+/// so the order is never arbitrary. Fails, naming part and field, for unknown parts, parts without
+/// a value, parts without a series, empty ranges, a design without a gain window or more than
+/// kMaxCombinations combinations.
 Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &options,
                                     std::string_view file = {});
 
