@@ -538,7 +538,10 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
             os << "none";
         }
         if (s.metrics.outputNoiseRms)
-            os << ", output noise " << formatEngineering(*s.metrics.outputNoiseRms, 4) << " rms";
+            os << ", output noise "
+               << formatEngineering(*s.metrics.outputNoiseRms, 4,
+                                    gainUnit.substr(0, gainUnit.find('/')))
+               << " rms";
         if (s.metrics.snrDb)
             os << ", SNR " << formatFixed(*s.metrics.snrDb, 1) << " dB";
         os << (s.worstCasePass    ? ", meets the specs at the worst case"
