@@ -572,7 +572,8 @@ TEST_F(BlankDesignTest, NoiseSpecsSignalLevelAndSpotFrequencyAreUndoable)
     EXPECT_THAT(props->error("snr_min_db").toStdString(), HasSubstr("full-scale signal"));
     EXPECT_FALSE(doc()->design().specs.snrMinDb.has_value());
     type(props->edit("signal_level"), QStringLiteral("5uA"));
-    ASSERT_TRUE(doc()->design().signalLevel.has_value());
+    ASSERT_TRUE(doc()->design().signalLevel.has_value())
+        << props->error("signal_level").toStdString();
     EXPECT_NEAR(doc()->design().signalLevel->si, 5e-6, 1e-18);
     type(props->edit("snr_min_db"), QStringLiteral("60"));
     EXPECT_TRUE(props->error("snr_min_db").isEmpty());

@@ -172,6 +172,10 @@ NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
     m_figures->setBrush(QColor(0x3a, 0x40, 0x4a));
     m_figures->setZValue(12);
     m_figures->setVisible(false);
+    // The figures line sits under the legend, in a margin of its own: never over the bands.
+    QMargins margins = chart()->margins();
+    margins.setBottom(margins.bottom() + int(std::ceil(QFontMetricsF(ff).height())) + 2);
+    chart()->setMargins(margins);
     connect(chart(), &QChart::plotAreaChanged, this, [this] { placeOverlays(); });
     enableOverlays(m_x);
 }
@@ -496,9 +500,8 @@ void NoisePanel::showSummary(const NoiseAnalysis &n,
     }
     setTitle(tr("%1 rms out, %2 rms in  ·  %3 (%4)%5")
                  .arg(out, inRms, noiseBandText(n), noiseBandKindText(n), lead));
-    const QStringList figures = figureLines(n);
-    m_figures->setText(figures.join(QLatin1Char('\n')));
-    m_figures->setVisible(!figures.isEmpty());
+    m_figureLines = figureLines(n);
+    m_figures->setVisible(!m_figureLines.isEmpty());
     setToolTip(tr("rms: the output density integrated over the band on the circuit model\n%1")
                    .arg(toQString(n.bandMethod)));
 }
@@ -536,7 +539,7 @@ QStringList NoisePanel::figureLines(const NoiseAnalysis &n) const
 
 QString NoisePanel::figuresText() const
 {
-    return m_figures->isVisible() ? m_figures->text() : QString();
+    return m_figures->isVisible() ? m_figureLines.join(QStringLiteral("  ·  ")) : QString();
 }
 
 QStringList NoisePanel::bandNames() const
@@ -621,8 +624,23 @@ void NoisePanel::placeOverlays()
     const QString cumulativeTitle = tr("cumulative rms (%1)").arg(m_units.output);
     if (m_yCumulative->titleText() != cumulativeTitle)
         m_yCumulative->setTitleText(cumulativeTitle);
-    if (m_figures->isVisible()) // bottom left of the plot, above the lowest densities
-        m_figures->setPos(plot.left() + 6, plot.bottom() - m_figures->boundingRect().height() - 4);
+    if (m_figures->isVisible()) {
+        // As many of the figures as fit the width, most important first, at the bottom.
+        const QFontMetricsF metrics(m_figures->font());
+        // left-aligned, clear of the "Overlay candidates" button at the bottom right
+        const double room = chart()->size().width() - 150;
+        QString text;
+        for (const QString &line : m_figureLines) {
+            const QString longer = text.isEmpty() ? line : text + QStringLiteral("  ·  ") + line;
+            if (!text.isEmpty() && metrics.horizontalAdvance(longer) > room)
+                break;
+            text = longer;
+        }
+        if (m_figures->text() != text)
+            m_figures->setText(text);
+        m_figures->setToolTip(m_figureLines.join(QLatin1Char('\n')));
+        m_figures->setPos(8.0, chart()->size().height() - metrics.height() - 3);
+    }
     if (m_problem->isVisible()) {
         m_problem->setTextWidth(std::max(120.0, plot.width() - 40));
         QTextOption option = m_problem->document()->defaultTextOption();

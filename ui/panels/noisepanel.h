@@ -67,8 +67,9 @@ public:
     QString valuesText() const;
     /// The summary line above the plot.
     QString summaryText() const { return summary(); }
-    /// The figures box in the plot: spot noise, SNR, output peak and slew rate, noise figure,
-    /// 0.1-10 Hz peak-to-peak (empty while there is no noise plot).
+    /// The figures line under the legend: spot noise, SNR, output peak and slew rate, noise
+    /// figure, 0.1-10 Hz peak-to-peak (all of them, joined; the line shows as many as fit;
+    /// empty while there is no noise plot).
     QString figuresText() const;
     /// The cumulative output rms curve (right-hand axis).
     QLineSeries *cumulativeSeries() const { return m_cumulative; }
@@ -117,6 +118,7 @@ private:
     QCategoryAxis *m_x, *m_y, *m_yInput, *m_yCumulative;
     QLineSeries *m_total, *m_input, *m_bandEdge, *m_cumulative;
     QGraphicsSimpleTextItem *m_figures = nullptr;
+    QStringList m_figureLines; ///< what figuresText() says, most important first
     struct Band
     {
         QAreaSeries *area = nullptr;

@@ -20,9 +20,9 @@ using U = CurveUnit;
 // input-referred noise (drawn against its own axis). Built on first use: names are read
 // during the dynamic initialisation of other files (static members such as
 // LoopGainPanel::kT).
-const std::array<CurveStyle, 14> &curves()
+const std::array<CurveStyle, 15> &curves()
 {
-    static const std::array<CurveStyle, 14> table{{
+    static const std::array<CurveStyle, 15> table{{
         {P::A, QStringLiteral("A"), QStringLiteral("A"), U::Gain, palette::kOrange, Qt::SolidLine},
         {P::LoopGain, QStringLiteral("T (return ratio)"), QStringLiteral("T"), U::Ratio,
          palette::kBlue, Qt::SolidLine},
