@@ -143,9 +143,9 @@ void partsSection(SheetWriter &w, const Design &d)
         }
     }
     w.table({{QStringLiteral("Part"), 19},
-             {QStringLiteral("Field"), 22},
-             {QStringLiteral("Quantity"), 46},
-             {QStringLiteral("Value"), 41, Qt::AlignRight},
+             {QStringLiteral("Field"), 33}, // "r_parallel_tolerance" whole
+             {QStringLiteral("Quantity"), 41},
+             {QStringLiteral("Value"), 34, Qt::AlignRight},
              {QStringLiteral("RKM"), 11, Qt::AlignRight},
              {QStringLiteral("Note"), 41}},
             rows);

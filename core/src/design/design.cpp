@@ -171,8 +171,6 @@ std::string defaultNote(const FieldSpec &spec)
         return "not given: noiseless";
     if (spec.name == "en_corner_hz" || spec.name == "in_corner_hz")
         return "not given: white only";
-    if (spec.kind == ValueKind::Tolerance)
-        return "not given: exact";
     return "not given";
 }
 
@@ -187,6 +185,8 @@ std::vector<PartFieldText> partFieldTexts(const Part &part)
         row.label = std::string(spec.label);
         row.given = part.has(spec.name);
         const double v = part.number(spec.name);
+        if (spec.kind == ValueKind::Tolerance && !row.given)
+            continue; // a tolerance does not enter the analysis: listed only when given
         if (spec.name == "gbw" && !row.given) {
             row.value = "\u2014"; // no pole from a gain-bandwidth
             row.note = "not given";

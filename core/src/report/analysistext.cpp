@@ -247,9 +247,8 @@ bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
     out.show("spot output" + spotAt, n.spot.outputDensity, outUnit + "/\u221AHz");
     out.show("spot input" + spotAt, n.spot.inputDensity, inUnit + "/\u221AHz");
     if (n.lowFrequency)
-        out.row("0.1-10 Hz peak-to-peak",
-                formatEngineering(n.lowFrequency->outputPeakToPeak, 4, outUnit)
-                    + " at the output (6.6 x rms)"
+        out.row("p-p, 0.1 Hz to 10 Hz",
+                formatEngineering(n.lowFrequency->outputPeakToPeak, 4, outUnit) + " at the output"
                     + (n.lowFrequency->inputPeakToPeak
                            ? ", " + formatEngineering(*n.lowFrequency->inputPeakToPeak, 4, inUnit)
                                + " input-referred"

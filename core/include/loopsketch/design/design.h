@@ -111,9 +111,9 @@ struct Part
 };
 
 /// Every field of `part` that enters the analysis, in partSpec() order (absent fields with
-/// the default the analysis uses), then the gain block's poles and zeros, then the E-series
-/// and tolerance when given. Values in engineering notation with units (4 significant
-/// digits), infinite values as "∞ <unit>".
+/// the default the analysis uses; the tolerance fields only when given), then the gain block's
+/// poles and zeros, then the E-series and tolerance when given. Values in engineering notation with
+/// units (4 significant digits), infinite values as "∞ <unit>".
 std::vector<PartFieldText> partFieldTexts(const Part &part);
 
 enum class OutputKind { Voltage, Current };
