@@ -194,6 +194,8 @@ TEST_P(CliExample, AnalyzeTextListsEveryFieldOfEveryPartWithItsUnit)
         const std::vector<std::string> block = partBlock(r.out, part);
         ASSERT_FALSE(block.empty()) << part.id << " missing from\n" << r.out;
         for (const FieldSpec &spec : partSpec(part.type).fields) {
+            if (spec.kind == ValueKind::Tolerance && !part.has(spec.name))
+                continue; // listed only when given
             const auto line = std::find_if(block.begin(), block.end(), [&](const auto &l) {
                 return l.rfind("    " + std::string(spec.name) + " ", 0) == 0;
             });
@@ -206,7 +208,9 @@ TEST_P(CliExample, AnalyzeTextListsEveryFieldOfEveryPartWithItsUnit)
                                                    + std::string(spec.label).size());
             const std::string trimmed = value.substr(value.find_first_not_of(' '));
             const double shown = leadingNumber(trimmed);
-            const double expected = part.number(spec.name);
+            // a tolerance field reads in percent ("10%")
+            const double expected
+                = part.number(spec.name) * (spec.kind == ValueKind::Tolerance ? 100.0 : 1.0);
             if (std::isinf(expected)) {
                 EXPECT_TRUE(std::isinf(shown)) << *line;
             } else if (expected == 0.0) {
@@ -407,7 +411,8 @@ TEST_P(CliExample, JsonSpecsMatchCheckSpecs)
         const Json specs = Json::parse(analysisToJson(a))["specs"];
         ASSERT_TRUE(specs.is_array());
         const std::size_t expected = (d.specs.gainMin || d.specs.gainMax ? 1 : 0)
-            + (d.specs.bandwidthMin ? 1 : 0) + (d.specs.phaseMarginMinDeg ? 1 : 0);
+            + (d.specs.bandwidthMin ? 1 : 0) + (d.specs.phaseMarginMinDeg ? 1 : 0)
+            + (d.specs.outputNoiseMax ? 1 : 0) + (d.specs.snrMinDb ? 1 : 0);
         ASSERT_EQ(specs.size(), expected) << specs.dump();
         for (const Json &s : specs) {
             expectKeys(s, {"name", "limit", "value", "pass", "reason"}, "specs[]");
@@ -420,6 +425,11 @@ TEST_P(CliExample, JsonSpecsMatchCheckSpecs)
                 EXPECT_EQ(pass, check.bandwidth);
             } else if (name == "phase_margin_min_deg") {
                 EXPECT_EQ(pass, check.phaseMargin);
+            } else if (name == "output_noise_max") {
+                EXPECT_EQ(pass, check.outputNoise);
+                EXPECT_LT(relErr(s["limit"].get<double>(), d.specs.outputNoiseMax->si), 1e-12);
+            } else if (name == "snr_min_db") {
+                EXPECT_EQ(pass, check.snr);
             } else {
                 ADD_FAILURE() << "unknown spec " << name;
             }

@@ -580,3 +580,48 @@ TEST_F(BlankDesignTest, DeleteKeyInThePartsListRemovesTheSelectedParts)
 }
 
 } // namespace
+
+// Issue 18: the spot frequency, the full-scale signal and the noise specs are design
+// properties, each one undoable step; the SNR spec asks for the signal first.
+TEST_F(BlankDesignTest, NoiseSpecsSignalLevelAndSpotFrequencyAreUndoable)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    DesignPropertiesPanel *props = window->designProperties();
+    const int before = doc()->undoStack()->count();
+    type(props->edit("snr_min_db"), QStringLiteral("60"));
+    EXPECT_THAT(props->error("snr_min_db").toStdString(), HasSubstr("full-scale signal"));
+    EXPECT_FALSE(doc()->design().specs.snrMinDb.has_value());
+    type(props->edit("signal_level"), QStringLiteral("5uA"));
+    ASSERT_TRUE(doc()->design().signalLevel.has_value())
+        << props->error("signal_level").toStdString();
+    EXPECT_NEAR(doc()->design().signalLevel->si, 5e-6, 1e-18);
+    type(props->edit("snr_min_db"), QStringLiteral("60"));
+    EXPECT_TRUE(props->error("snr_min_db").isEmpty());
+    ASSERT_TRUE(doc()->design().specs.snrMinDb.has_value());
+    EXPECT_NEAR(*doc()->design().specs.snrMinDb, 60.0, 1e-12);
+    type(props->edit("output_noise_max"), QStringLiteral("150u"));
+    ASSERT_TRUE(doc()->design().specs.outputNoiseMax.has_value());
+    EXPECT_NEAR(doc()->design().specs.outputNoiseMax->si, 150e-6, 1e-15);
+    type(props->edit("noise_spot_hz"), QStringLiteral("10k"));
+    ASSERT_TRUE(doc()->design().noiseSpotHz.has_value());
+    EXPECT_NEAR(doc()->design().noiseSpotHz->si, 1e4, 1e-9);
+    type(props->edit("signal_level"), QString());
+    EXPECT_THAT(props->error("signal_level").toStdString(), HasSubstr("clear it first"));
+    EXPECT_EQ(doc()->undoStack()->count(), before + 4);
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr) << doc()->lastDiagnostics().toStdString();
+    const Analysis &a = *doc()->analysis();
+    ASSERT_GE(a.specs.size(), 2u);
+    EXPECT_EQ(a.specs[a.specs.size() - 2].name, "output_noise_max");
+    EXPECT_EQ(a.specs.back().name, "snr_min_db");
+    ASSERT_TRUE(a.noise);
+    EXPECT_NEAR(a.noise->spot.atHz, 1e4, 1e-9);
+
+    doc()->undoStack()->undo();
+    EXPECT_FALSE(doc()->design().noiseSpotHz.has_value());
+    EXPECT_TRUE(props->edit("noise_spot_hz")->text().isEmpty());
+    doc()->undoStack()->undo();
+    EXPECT_FALSE(doc()->design().specs.outputNoiseMax.has_value());
+    doc()->undoStack()->redo();
+    EXPECT_EQ(props->edit("output_noise_max")->text(), QStringLiteral("150u"));
+}

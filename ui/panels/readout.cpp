@@ -276,11 +276,34 @@ void Readout::showNoise(const Analysis &a)
                                           : QStringLiteral("—");
         };
         // Short title and value: the strip sets the window's minimum width (under 1280 px).
-        setCell(9, tr("rms noise, %1").arg(noiseBandText(n)),
-                rms(n.outputRms, u.output) + QStringLiteral(" / ") + rms(n.inputRms, u.input),
-                tr("integrated noise: at the output / referred to the input, at %1 K\nband: %2")
-                    .arg(n.temperatureK, 0, 'f', 2)
-                    .arg(toQString(n.bandMethod)));
+        QString value
+            = rms(n.outputRms, u.output) + QStringLiteral(" / ") + rms(n.inputRms, u.input);
+        if (n.snrDb)
+            value += tr(", SNR %1 dB").arg(*n.snrDb, 0, 'f', 1);
+        QString tip
+            = tr("integrated noise: at the output / referred to the input, at %1 K\nband: %2")
+                  .arg(n.temperatureK, 0, 'f', 2)
+                  .arg(toQString(n.bandMethod));
+        tip += tr("\nspot noise at %1: %2 / %3")
+                   .arg(toQString(formatEngineering(n.spot.atHz, 4, "Hz")),
+                        rms(n.spot.outputDensity, u.output + QStringLiteral("/√Hz")),
+                        rms(n.spot.inputDensity, u.input + QStringLiteral("/√Hz")));
+        if (n.snrDb && n.signalLevel)
+            tip += tr("\nSNR of a full-scale sine of %1 peak: %2 dB")
+                       .arg(rms(n.signalLevel, u.input))
+                       .arg(*n.snrDb, 0, 'f', 2);
+        if (n.outputPeak && n.slewRate)
+            tip += tr("\noutput peak %1, slew rate needed %2")
+                       .arg(rms(n.outputPeak, u.output),
+                            rms(n.slewRate, u.output + QStringLiteral("/s")));
+        if (n.noiseFigureDb)
+            tip += tr("\nnoise figure %1 dB over the band (IEEE, T0 = 290 K)")
+                       .arg(*n.noiseFigureDb, 0, 'f', 2);
+        const bool noiseSpec = specs.outputNoiseMax || specs.snrMinDb;
+        setCell(9, tr("rms noise, %1").arg(noiseBandText(n)), value, tip,
+                !noiseSpec                           ? kNoVerdict
+                    : check.outputNoise && check.snr ? kPass
+                                                     : kFail);
     } else {
         setCell(9, tr("rms noise"), a.stable ? QStringLiteral("—") : unstable,
                 !a.stable     ? unstableTip

@@ -144,6 +144,14 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
              "sweep start"});
     addEdit({"noise_band_high", "noise band to (Hz)",
              "Upper end of the band the output noise rms is integrated over.", "until settled"});
+    addEdit({"noise_spot_hz", "spot noise at (Hz)",
+             "Frequency of the spot noise densities (output and input-referred) and the spot "
+             "noise figure. Empty: 1 kHz.",
+             "1 kHz"});
+    addEdit({"signal_level", "full-scale signal (peak, V or A)",
+             "Peak of a full-scale sine at the signal source: the signal of the SNR, the output "
+             "peak and the slew rate it needs. Empty: no SNR.",
+             "—"});
 
     auto *specsTitle = new QLabel(tr("<b>Specs</b> (empty: not checked)"), this);
     form->addRow(specsTitle);
@@ -153,6 +161,14 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
              "Least acceptable closed-loop -3 dB bandwidth.", "—"});
     addEdit({"phase_margin_min_deg", "phase margin, least (°)",
              "Least acceptable phase margin of the loop, in degrees.", "—"});
+    addEdit({"output_noise_max", "output noise, most (rms)",
+             "Largest acceptable output noise rms over the noise band (V, or A for a current "
+             "output).",
+             "—"});
+    addEdit({"snr_min_db", "SNR, least (dB)",
+             "Least acceptable signal-to-noise ratio of the full-scale sine over the noise band, "
+             "in dB. Needs the full-scale signal.",
+             "—"});
     outer->addStretch(1);
 
     connect(m_document, &DesignDocument::designReset, this, &DesignPropertiesPanel::refresh);
@@ -197,6 +213,10 @@ void DesignPropertiesPanel::refresh()
     set("bandwidth_min", valueText(d.specs.bandwidthMin));
     set("phase_margin_min_deg",
         d.specs.phaseMarginMinDeg ? QString::number(*d.specs.phaseMarginMinDeg) : QString());
+    set("noise_spot_hz", valueText(d.noiseSpotHz));
+    set("signal_level", valueText(d.signalLevel));
+    set("output_noise_max", valueText(d.specs.outputNoiseMax));
+    set("snr_min_db", d.specs.snrMinDb ? QString::number(*d.specs.snrMinDb) : QString());
     m_output->setCurrentIndex(d.output == OutputKind::Current ? 1 : 0);
 
     m_input->clear();
@@ -314,6 +334,59 @@ void DesignPropertiesPanel::commit(const std::string &key)
         }
         after.specs.phaseMarginMinDeg = v ? std::optional<double>(v->si) : std::nullopt;
         label = tr("Phase margin spec");
+    } else if (key == "noise_spot_hz") {
+        if (!parse(ValueKind::Frequency, ValueRange::Positive, &after.noiseSpotHz, true))
+            return;
+        label = tr("Spot noise frequency");
+    } else if (key == "signal_level" || key == "output_noise_max") {
+        // A voltage or a current: the loader's own reading of the text.
+        std::optional<Value> v;
+        if (!text.empty()) {
+            QJsonObject probe{
+                {"schema",
+                 QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
+                {"parts", QJsonArray()},
+                {"input", QString()},
+                {"output", QStringLiteral("voltage")}};
+            if (key == "signal_level")
+                probe.insert(QStringLiteral("signal_level"), raw);
+            else
+                probe.insert(QStringLiteral("specs"),
+                             QJsonObject{{QStringLiteral("output_noise_max"), raw}});
+            auto parsed
+                = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
+            if (!parsed) {
+                Diagnostic d = parsed.diagnostics().front();
+                d.field = key;
+                showError(key, toQString(d.toString()));
+                return;
+            }
+            v = key == "signal_level" ? parsed->signalLevel : parsed->specs.outputNoiseMax;
+        }
+        if (key == "signal_level") {
+            if (!v && after.specs.snrMinDb) {
+                showError(key,
+                          tr("%1: the SNR spec needs the full-scale signal; clear it first")
+                              .arg(QString::fromStdString(key)));
+                return;
+            }
+            after.signalLevel = v;
+            label = tr("Full-scale signal");
+        } else {
+            after.specs.outputNoiseMax = v;
+            label = tr("Output noise spec");
+        }
+    } else if (key == "snr_min_db") {
+        std::optional<Value> v;
+        if (!parse(ValueKind::Plain, ValueRange::Any, &v, true))
+            return;
+        if (v && !after.signalLevel) {
+            showError(key,
+                      tr("%1: give the full-scale signal first").arg(QString::fromStdString(key)));
+            return;
+        }
+        after.specs.snrMinDb = v ? std::optional<double>(v->si) : std::nullopt;
+        label = tr("SNR spec");
     }
     showError(key, QString());
     m_document->setProperties(after, label);

@@ -20,9 +20,9 @@ using U = CurveUnit;
 // input-referred noise (drawn against its own axis). Built on first use: names are read
 // during the dynamic initialisation of other files (static members such as
 // LoopGainPanel::kT).
-const std::array<CurveStyle, 14> &curves()
+const std::array<CurveStyle, 15> &curves()
 {
-    static const std::array<CurveStyle, 14> table{{
+    static const std::array<CurveStyle, 15> table{{
         {P::A, QStringLiteral("A"), QStringLiteral("A"), U::Gain, palette::kOrange, Qt::SolidLine},
         {P::LoopGain, QStringLiteral("T (return ratio)"), QStringLiteral("T"), U::Ratio,
          palette::kBlue, Qt::SolidLine},
@@ -50,6 +50,8 @@ const std::array<CurveStyle, 14> &curves()
          U::OutputDensity, palette::kBlack, Qt::SolidLine},
         {P::NoiseInput, QStringLiteral("input-referred noise"), QStringLiteral("input noise"),
          U::InputDensity, palette::kVermillion, Qt::DashLine},
+        {P::NoiseCumulative, QStringLiteral("cumulative output rms"),
+         QStringLiteral("cumulative rms"), U::OutputRms, palette::kBlue, Qt::DashDotLine},
     }};
     return table;
 }
@@ -83,6 +85,8 @@ QString curveUnitText(PlotCurve curve, const Analysis &a)
         return toQString(noiseUnits(a.gainUnit).output) + QStringLiteral("/√Hz");
     case CurveUnit::InputDensity:
         return toQString(noiseUnits(a.gainUnit).input) + QStringLiteral("/√Hz");
+    case CurveUnit::OutputRms:
+        return toQString(noiseUnits(a.gainUnit).output) + QStringLiteral(" rms");
     case CurveUnit::RadPerSecond:
         return QStringLiteral("rad/s");
     }

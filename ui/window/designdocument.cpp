@@ -417,6 +417,8 @@ void DesignDocument::setProperties(const Design &properties, const QString &text
     after.specs = properties.specs;
     after.temperature = properties.temperature;
     after.noiseBand = properties.noiseBand;
+    after.noiseSpotHz = properties.noiseSpotHz;
+    after.signalLevel = properties.signalLevel;
     if (after == m_design)
         return;
     if (!after.sketch)

@@ -8,6 +8,7 @@
 #include "loopsketch/design/designvalidation.h"
 #include "loopsketch/design/partlimits.h"
 
+#include "analysis/noisefigures.h"
 #include "analysis/noisesweep.h"
 
 #include <Eigen/LU>
@@ -361,6 +362,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
                 for (NoiseContribution &contribution : a.noise->contributions)
                     contribution.rms.reset();
             }
+            detail::addNoiseFigures(design, *a.noise, a.stable);
         } else
             a.noiseProblem = noise.diagnostics().front().message;
     }

@@ -1,5 +1,6 @@
 #include "loopsketch/analysis/noise.h"
 
+#include "analysis/noisefigures.h"
 #include "analysis/noisemodel.h"
 #include "analysis/noisesweep.h"
 #include "detail/bandintegral.h"
@@ -315,7 +316,12 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
     std::vector<std::complex<double>> points(hz.size());
     for (std::size_t i = 0; i < hz.size(); ++i)
         points[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
-    return detail::analyzeNoiseOver(design, options, hz, points);
+    auto noise = detail::analyzeNoiseOver(design, options, hz, points);
+    if (!noise)
+        return noise;
+    NoiseAnalysis result = std::move(noise).value();
+    detail::addNoiseFigures(design, result);
+    return result;
 }
 
 Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const NoiseOptions &options,

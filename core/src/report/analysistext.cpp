@@ -251,6 +251,29 @@ void writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
             formatEngineering(n.bandLowHz, 5, "Hz") + " – "
                 + formatEngineering(n.bandHighHz, 5, "Hz"));
     out.row("band method", n.bandMethod);
+    const std::string spotAt = " at " + formatEngineering(n.spot.atHz, 4, "Hz");
+    out.show("spot output" + spotAt, n.spot.outputDensity, outUnit + "/\u221AHz");
+    out.show("spot input" + spotAt, n.spot.inputDensity, inUnit + "/\u221AHz");
+    if (n.lowFrequency)
+        out.row("p-p, 0.1 Hz to 10 Hz",
+                formatEngineering(n.lowFrequency->outputPeakToPeak, 4, outUnit) + " at the output"
+                    + (n.lowFrequency->inputPeakToPeak
+                           ? ", " + formatEngineering(*n.lowFrequency->inputPeakToPeak, 4, inUnit)
+                               + " input-referred"
+                           : std::string()));
+    if (n.signalLevel) {
+        out.show("full-scale signal (peak)", n.signalLevel, inUnit);
+        out.show("SNR", n.snrDb, "dB");
+        out.show("output peak", n.outputPeak, outUnit);
+        if (n.slewRate)
+            out.row("slew rate needed",
+                    formatEngineering(*n.slewRate, 4, outUnit + "/s") + " (full-scale sine at "
+                        + formatEngineering(n.bandHighHz, 4, "Hz") + ")");
+    }
+    if (n.noiseFigureDb || n.spot.noiseFigureDb) {
+        out.show("noise figure (band)", n.noiseFigureDb, "dB");
+        out.show("noise figure" + spotAt, n.spot.noiseFigureDb, "dB");
+    }
     if (n.brickWall && n.brickWall->outputRms)
         out.row("brick-wall equivalent",
                 formatEngineering(*n.brickWall->outputRms, 5, outUnit)
@@ -285,7 +308,8 @@ void writeSpecs(std::ostringstream &os, const Analysis &a)
         };
         std::string text = v.isWindow
             ? limit(v.low, "-\u221E") + " \u2026 " + limit(v.high, "+\u221E")
-            : "\u2265 " + limit(v.low, "\u2014");
+            : v.low ? "\u2265 " + limit(v.low, "\u2014")
+                    : "\u2264 " + limit(v.high, "\u2014");
         text += ", value "
             + (v.value ? formatEngineering(*v.value, 5, v.unit) : std::string("\u2014"));
         text += v.pass ? ": pass" : ": FAIL";

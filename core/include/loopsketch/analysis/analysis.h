@@ -84,8 +84,9 @@ struct SpecVerdict
     std::string name; ///< design-file key: "gain", "bandwidth_min", "phase_margin_min_deg"
     std::string label; ///< what a reviewer reads: "gain", "bandwidth", "phase margin"
     std::string unit; ///< of the limits and the value: the gain unit, "Hz" or "°"
-    OptionalNumber low; ///< lower limit (gain minimum, bandwidth_min, phase_margin_min_deg)
-    OptionalNumber high; ///< upper limit (gain maximum only)
+    OptionalNumber
+        low; ///< lower limit (gain minimum, bandwidth_min, phase_margin_min_deg, snr_min_db)
+    OptionalNumber high; ///< upper limit (gain maximum, output_noise_max)
     bool isWindow = false; ///< the limit is a [low, high] window (gain)
     OptionalNumber value; ///< the design's value; nullopt where it does not exist
     bool pass = true;
