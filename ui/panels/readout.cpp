@@ -208,7 +208,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     else
         setCell(7, tr("peaking"), unstable, unstableTip);
     showSpecVerdicts(a);
-    showNoise(a);
+    showNoise(a, specs, check);
     showWarnings(a);
 }
 
@@ -263,10 +263,12 @@ void Readout::showSpecVerdicts(const Analysis &a)
     }
 }
 
-void Readout::showNoise(const Analysis &a)
+void Readout::showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check)
 {
-    const QString unstable = tr("— (unstable)");
-    const QString unstableTip = tr("no closed-loop value: the loop is unstable");
+    const QString unstable = a.stabilityKnown ? tr("— (unstable)") : tr("— (stability unknown)");
+    const QString unstableTip = a.stabilityKnown
+        ? tr("no closed-loop value: the loop is unstable")
+        : tr("no closed-loop value: the loop's stability is unknown");
     // Integrated noise over core's band, referred to the output and to the input.
     if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {
         const NoiseAnalysis &n = *a.noise;

@@ -4,6 +4,7 @@
 // core's Analysis in engineering notation with its unit.
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/trialmetrics.h"
 
 #include <QWidget>
 
@@ -46,7 +47,7 @@ private:
     // the warnings line.
     void showStability(const Analysis &a);
     void showSpecVerdicts(const Analysis &a);
-    void showNoise(const Analysis &a);
+    void showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check);
     void showWarnings(const Analysis &a);
 
     std::vector<Cell> m_cells;

@@ -190,7 +190,8 @@ SpecCheck &SpecCheck::operator&=(const SpecCheck &o)
 
 TrialMetrics trialMetricsOf(const Analysis &a)
 {
-    TrialMetrics m{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, {}, {}, {}, a.stable, a.stabilityKnown};
+    TrialMetrics m{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, {}, {},
+                   {},           a.stable,      a.stabilityKnown};
     if (a.noise) {
         m.outputNoiseRms = a.noise->outputRms;
         m.inputNoiseRms = a.noise->inputRms;
