@@ -31,6 +31,9 @@ namespace loopsketch::ui {
 
 namespace {
 
+/// The axis property holding the title an axis was made with (no analysis's unit in it).
+const char *const kHomeTitle = "loopsketchHomeTitle";
+
 /// 1, 2 or 5 times a power of ten, so that `span` holds at most about `ticks` steps.
 double niceStep(double span, double ticks)
 {
@@ -138,6 +141,7 @@ QValueAxis *PlotPanel::addValueAxis(const QString &title, Qt::Alignment alignmen
 {
     auto *axis = new QValueAxis;
     axis->setTitleText(title);
+    axis->setProperty(kHomeTitle, title);
     QFont f = axis->titleFont();
     f.setPointSizeF(8.5);
     f.setBold(false);
@@ -157,6 +161,7 @@ QCategoryAxis *PlotPanel::addLogAxis(const QString &title, Qt::Alignment alignme
 {
     auto *axis = new QCategoryAxis;
     axis->setTitleText(title);
+    axis->setProperty(kHomeTitle, title);
     QFont f = axis->titleFont();
     f.setPointSizeF(8.5);
     f.setBold(false);
@@ -540,11 +545,27 @@ void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
 
 void PlotPanel::showUnavailable(const QString &reason)
 {
+    // What an analysis writes into the axes and the tooltip (units, ranges, sensitivities) is
+    // taken back to what the panel had before any analysis.
+    if (!m_homeCaptured) {
+        m_homeToolTip = toolTip();
+        m_homeCaptured = true;
+    }
     if (reason.isEmpty()) {
-        if (m_unavailable)
+        if (m_unavailable && m_unavailable->isVisible()) {
             m_unavailable->hide();
+            for (QAbstractAxis *axis : chart()->axes())
+                axis->setLabelsVisible(true);
+            refreshOverlays();
+        }
         return;
     }
+    for (QAbstractAxis *axis : chart()->axes()) {
+        if (const QVariant home = axis->property(kHomeTitle); home.isValid())
+            axis->setTitleText(home.toString());
+        axis->setLabelsVisible(false);
+    }
+    setToolTip(m_homeToolTip);
     static const QRegularExpression count(QStringLiteral(" \\(\\d+\\)$"));
     std::vector<std::pair<QXYSeries *, QString>> counted;
     for (auto &[name, series] : m_series) {
@@ -715,7 +736,9 @@ QXYSeries *PlotPanel::overlaySeries(std::size_t slot, const OverlayLine &line, c
 void PlotPanel::rebuildOverlays()
 {
     std::size_t used = 0;
-    if (m_overlayAction && m_overlayAction->isChecked() && m_overlayX) {
+    // A design that cannot be analysed has no candidates to show either.
+    const bool unavailable = m_unavailable && m_unavailable->isVisible();
+    if (m_overlayAction && m_overlayAction->isChecked() && m_overlayX && !unavailable) {
         for (std::size_t i = 0; i < m_overlaySources.size(); ++i) {
             const OverlaySource &source = m_overlaySources[i];
             if (!source.analysis || source.analysis->frequenciesHz.empty())
