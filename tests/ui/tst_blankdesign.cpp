@@ -517,6 +517,10 @@ TEST_F(BlankDesignTest, StaleAxisUnitsNeverSurviveFileNew)
     window->newDesign();
     settle();
     QApplication::processEvents();
+    // The reason over the plots tells a user of a blank page how to begin.
+    EXPECT_EQ(window->panels().front()->unavailableText().toStdString(),
+              "Not analysed: no parts yet: place a signal source, a gain block, a load and a "
+              "ground to start");
     ASSERT_EQ(window->panels().size(), fresh.panels().size());
     for (std::size_t i = 0; i < window->panels().size(); ++i) {
         const QList<QAbstractAxis *> used = window->panels()[i]->chart()->axes();
