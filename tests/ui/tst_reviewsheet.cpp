@@ -70,7 +70,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                       QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
     ASSERT_TRUE(QFileInfo::exists(pdf));
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "noise"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles", "noise"}) {
         QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
         ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
         EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
@@ -451,7 +451,7 @@ TEST(ReviewSheetPlots, PngFilesAreWholeImages)
     const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
     const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles"}) {
         const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
         ASSERT_FALSE(image.isNull()) << stem;
         // 170 mm x 110 mm at 150 dpi (reviewsheet.cpp), 25.4 mm per inch
