@@ -577,8 +577,12 @@ std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a
     // one unit as long across as up so circles stay round and angles true.
     const double reach = scale.outer + 0.4;
     const double left = -reach, right = std::max(0.35 * reach, scale.rightMost + 0.4);
-    const QRectF area(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
-    const double perUnit = std::min(area.width() / (right - left), area.height() / (2 * reach));
+    const QRectF frame(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
+    const double perUnit = std::min(frame.width() / (right - left), frame.height() / (2 * reach));
+    // The frame hugs the picture (with room for the values beside the outer poles), so the
+    // scale reads at the plot's size rather than floating in an empty box.
+    const double width = std::min(frame.width(), (right - left) * perUnit + 36 * f.k);
+    const QRectF area(frame.center().x() - width / 2, frame.top(), width, frame.height());
     const QPointF origin(area.center().x() - (left + right) / 2 * perUnit, area.center().y());
     const auto at = [&](QPointF u) {
         return QPointF(origin.x() + u.x() * perUnit, origin.y() - u.y() * perUnit);
