@@ -283,6 +283,7 @@ MainWindow::MainWindow(QWidget *parent)
     });
 
     auto *recovery = new QTimer(this);
+    recovery->setObjectName(QStringLiteral("RecoveryTimer"));
     // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
     const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
     recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);
@@ -908,6 +909,9 @@ void MainWindow::closeEvent(QCloseEvent *event)
     QSettings settings;
     settings.setValue(kGeometryKey, saveGeometry());
     settings.setValue(kStateKey, saveState(kLayoutVersion));
+    // No autosave may write the file again between the close and the end of the process.
+    if (auto *timer = findChild<QTimer *>(QStringLiteral("RecoveryTimer")))
+        timer->stop();
     const QString recovery = recoveryFile();
     if (!recovery.isEmpty())
         QFile::remove(recovery);
@@ -917,6 +921,9 @@ void MainWindow::closeEvent(QCloseEvent *event)
 void MainWindow::showEvent(QShowEvent *event)
 {
     QMainWindow::showEvent(event);
+    if (auto *timer = findChild<QTimer *>(QStringLiteral("RecoveryTimer"));
+        timer && !timer->isActive())
+        timer->start(); // shown again after a close
     if (m_sizedDocks)
         return;
     m_sizedDocks = true;
