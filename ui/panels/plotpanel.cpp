@@ -33,6 +33,8 @@ namespace {
 
 /// The axis property holding the title an axis was made with (no analysis's unit in it).
 const char *const kHomeTitle = "loopsketchHomeTitle";
+/// The axis property holding the label colour while an analysis is shown.
+const char *const kShownLabelColour = "loopsketchShownLabelColour";
 
 /// 1, 2 or 5 times a power of ten, so that `span` holds at most about `ticks` steps.
 double niceStep(double span, double ticks)
@@ -554,8 +556,10 @@ void PlotPanel::showUnavailable(const QString &reason)
     if (reason.isEmpty()) {
         if (m_unavailable && m_unavailable->isVisible()) {
             m_unavailable->hide();
-            for (QAbstractAxis *axis : chart()->axes())
-                axis->setLabelsVisible(true);
+            for (QAbstractAxis *axis : chart()->axes()) {
+                if (const QVariant colour = axis->property(kShownLabelColour); colour.isValid())
+                    axis->setLabelsColor(colour.value<QColor>());
+            }
             refreshOverlays();
         }
         return;
@@ -563,7 +567,12 @@ void PlotPanel::showUnavailable(const QString &reason)
     for (QAbstractAxis *axis : chart()->axes()) {
         if (const QVariant home = axis->property(kHomeTitle); home.isValid())
             axis->setTitleText(home.toString());
-        axis->setLabelsVisible(false);
+        // Transparent rather than hidden: Qt Charts 6.4 lays a title out from its labels, and
+        // hidden labels squeeze the title to an ellipsis.
+        if (axis->labelsColor().alpha() != 0) {
+            axis->setProperty(kShownLabelColour, axis->labelsColor());
+            axis->setLabelsColor(Qt::transparent);
+        }
     }
     setToolTip(m_homeToolTip);
     static const QRegularExpression count(QStringLiteral(" \\(\\d+\\)$"));
