@@ -4,6 +4,7 @@
 
 #include <QAction>
 #include <QDialogButtonBox>
+#include <QDockWidget>
 #include <QFile>
 #include <QHeaderView>
 #include <QMainWindow>
@@ -91,8 +92,17 @@ std::vector<ShortcutEntry> collectShortcuts(const QMainWindow *window)
         if (seen.contains(action) || action->menu())
             continue;
         const QString keys = keysOf(action);
-        if (!keys.isEmpty())
-            out.push_back({QObject::tr("Window"), plainText(action), keys});
+        if (keys.isEmpty())
+            continue;
+        // Named after the panel it works in (the dock's title), else the window.
+        QString place = QObject::tr("Window");
+        for (QObject *o = action->parent(); o; o = o->parent()) {
+            if (auto *dock = qobject_cast<QDockWidget *>(o)) {
+                place = dock->windowTitle();
+                break;
+            }
+        }
+        out.push_back({place, plainText(action), keys});
     }
     for (const auto &[keys, what] : SketchView::keyHelp())
         out.push_back({QObject::tr("Sketch"), what, keys});

@@ -31,7 +31,7 @@ private:
 /// One row of the shortcut list: where the action lives, what it is called, its keys.
 struct ShortcutEntry
 {
-    QString place; ///< menu path ("Edit"), "Sketch" for the canvas keys, or "Window"
+    QString place; ///< menu path ("Edit"), the panel ("Candidates"), "Sketch" or "Window"
     QString action; ///< the action's text without mnemonics or ellipsis
     QString keys; ///< every shortcut of the action, in the platform's text, "; " apart
 };
