@@ -247,7 +247,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
                          testing::Values(SheetCase{"demo", 6}, SheetCase{"contact-mic-preamp", 6},
-                                         SheetCase{"excitation-current-driver", 6},
+                                         SheetCase{"excitation-current-driver", 5},
                                          SheetCase{"gas-cell-current-amplifier", 6},
                                          SheetCase{"turbidity-probe-front-end", 6}),
                          [](const testing::TestParamInfo<SheetCase> &param) {

@@ -502,6 +502,24 @@ std::vector<Series> stepPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
         st.push_back(std::move(s));
     };
     add(a, -1, {});
+    if (!a.stable || !std::any_of(a.step.response.begin(), a.step.response.end(), [](double v) {
+            return std::isfinite(v);
+        })) {
+        // No axes for a response that does not exist: they would read as a flat one.
+        const QRectF area(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
+        p.setPen(QPen(kRule, 0.25 * f.k));
+        p.setBrush(Qt::NoBrush);
+        p.drawRect(area);
+        p.setFont(sheetFont(kBodyPt));
+        p.setPen(kInk);
+        p.drawText(area, Qt::AlignCenter | Qt::TextWordWrap,
+                   a.stable ? QStringLiteral("No step response: %1")
+                                  .arg(a.step.problem.empty() ? QStringLiteral("not computed")
+                                                              : q(a.step.problem))
+                            : QStringLiteral("No step response: the loop is unstable (its "
+                                             "closed-loop poles are on the Poles plot)"));
+        return {};
+    }
     for (std::size_t i = 0; i < overlays.size(); ++i) {
         if (overlays[i].analysis->stable)
             add(*overlays[i].analysis, int(i), overlays[i].name);
@@ -757,7 +775,7 @@ std::vector<Series> noisePlot(QPainter &p, const PlotFrame &f, const Analysis &a
               decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false, {},
               true);
     drawPanel(p, QRectF(QPointF(f.left, mid + 3 * k), QPointF(f.right, f.bottom)), k, f.frequency,
-              decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
+              decadeAxis(in, 6), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
               QStringLiteral("Hz"), true);
     std::vector<Series> legend = out;
     legend.insert(legend.begin() + 1, in.front());

@@ -486,9 +486,7 @@ void plotsSection(SheetWriter &w, const Analysis &a, const std::vector<SheetOver
 {
     constexpr double kTallMm = 120, kOtherMm = 95, gap = 5;
     const auto height = [&](SheetPlot plot) {
-        return plot == SheetPlot::LoopGain || plot == SheetPlot::Noise || plot == SheetPlot::Poles
-            ? kTallMm
-            : kOtherMm;
+        return plot == SheetPlot::LoopGain || plot == SheetPlot::Noise ? kTallMm : kOtherMm;
     };
     w.heading(QStringLiteral("Plots"), height(kSheetPlots[0]));
     for (SheetPlot plot : kSheetPlots) {
