@@ -100,8 +100,10 @@ void MainWindow::createDocks()
     readoutDock->setTitleBarWidget(new QWidget(readoutDock));
     auto *partsDock
         = makeDock(tr("Parts"), QStringLiteral("PartsDock"), m_palette, Qt::LeftDockWidgetArea);
+    QScrollArea *inspectorScroll = scrolling(m_inspector, this);
+    inspectorScroll->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
     auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"),
-                                   scrolling(m_inspector, this), Qt::LeftDockWidgetArea);
+                                   inspectorScroll, Qt::LeftDockWidgetArea);
     splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
     m_properties = new DesignPropertiesPanel(m_document, this);
     auto *propertiesDock = makeDock(tr("Design"), QStringLiteral("DesignPropertiesDock"),
