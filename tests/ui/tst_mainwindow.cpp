@@ -584,8 +584,19 @@ TEST(UnstableDesign, ReadoutWrapsInsteadOfWideningTheWindow)
     ASSERT_TRUE(window.openFile(
         QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error))
         << error.toStdString();
-    QTest::qWait(100);
     ASSERT_FALSE(window.readout()->bannerText().isEmpty());
+    // The main window lays the dock out again on its next turn of the event loop; waited for
+    // (up to 5 s on a loaded machine), not assumed.
+    const auto everyReadingFits = [&] {
+        for (QLabel *label : window.readout()->findChildren<QLabel *>())
+            if (label->isVisible() && label->width() < label->sizeHint().width())
+                return false;
+        return true;
+    };
+    for (int i = 0;
+         i < 250 && (window.readout()->height() <= oneLine + oneLine / 2 || !everyReadingFits());
+         ++i)
+        QTest::qWait(20);
     EXPECT_LE(window.minimumSizeHint().width(), 1264);
     EXPECT_LE(window.width(), 1264);
     EXPECT_GT(window.readout()->height(), oneLine + oneLine / 2) << "a second line of readings";

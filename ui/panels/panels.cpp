@@ -151,8 +151,15 @@ void ImpedancePanel::showAnalysis(const Analysis &a)
     for (int i = 0; i < 4; ++i)
         replaceThinned(m_lines[i], points[i], frequencyLo(a), frequencyHi(a),
                        CursorFormat::Log10Ohms);
-    setTitle(tr("at DC: z_in %1  ·  z_out %2")
-                 .arg(engineering(a.exact.zIn, "Ω"), engineering(a.exact.zOut, "Ω")));
+    // Each impedance at DC, or, where the log scale cannot draw it (an ideal input or output),
+    // what it is in words, as on the sheet, so an empty plot does not read as a fault.
+    const auto reading = [&](PlotCurve curve, const Curve &values, const OptionalNumber &dc) {
+        const QString text = undrawableCurveText(values);
+        return text.isEmpty() ? tr("%1 at DC %2").arg(curveName(curve), engineering(dc, "Ω"))
+                              : tr("%1 %2").arg(curveName(curve), text);
+    };
+    setTitle(reading(PlotCurve::ZIn, a.curves.zInExact, a.exact.zIn) + QStringLiteral("  ·  ")
+             + reading(PlotCurve::ZOut, a.curves.zOutExact, a.exact.zOut));
 }
 
 DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensitivity"), parent)

@@ -492,21 +492,8 @@ std::vector<Series> frequencyPlot(
     // ideal output's zero) is said in words, or the reviewer reads an empty plot.
     QStringList notes;
     for (const auto &[curve, member] : curves) {
-        const Curve &c = a.curves.*member;
-        const auto drawable = [](Complex z) {
-            return std::isfinite(std::abs(z)) && std::abs(z) > 0;
-        };
-        if (c.empty() || std::any_of(c.begin(), c.end(), drawable))
-            continue;
-        const bool zero
-            = std::all_of(c.begin(), c.end(), [](Complex z) { return std::abs(z) == 0.0; });
-        const bool infinite
-            = std::all_of(c.begin(), c.end(), [](Complex z) { return std::isinf(std::abs(z)); });
-        notes << QStringLiteral("%1: %2").arg(curveName(curve),
-                                              zero ? QStringLiteral("zero at every frequency")
-                                                  : infinite
-                                                  ? QStringLiteral("infinite at every frequency")
-                                                  : QStringLiteral("no finite value to draw"));
+        if (const QString text = undrawableCurveText(a.curves.*member); !text.isEmpty())
+            notes << QStringLiteral("%1: %2").arg(curveName(curve), text);
     }
     if (!notes.isEmpty()) {
         p.setFont(sheetFont(kBodyPt));

@@ -5,6 +5,8 @@
 #include "loopsketch/report/noisenames.h"
 
 #include <QStringList>
+#include <algorithm>
+#include <cmath>
 
 #include <array>
 #include <iterator>
@@ -123,6 +125,20 @@ Qt::PenStyle overlayStyle(int index)
     static const Qt::PenStyle styles[]
         = {Qt::DotLine, Qt::DashDotLine, Qt::DashDotDotLine, Qt::DashLine};
     return styles[std::size_t(index) % std::size(styles)];
+}
+
+QString undrawableCurveText(const std::vector<Complex> &curve)
+{
+    const auto drawable = [](Complex z) {
+        return std::isfinite(std::abs(z)) && std::abs(z) > 0;
+    };
+    if (curve.empty() || std::any_of(curve.begin(), curve.end(), drawable))
+        return {};
+    if (std::all_of(curve.begin(), curve.end(), [](Complex z) { return std::abs(z) == 0.0; }))
+        return QStringLiteral("zero at every frequency");
+    if (std::all_of(curve.begin(), curve.end(), [](Complex z) { return std::isinf(std::abs(z)); }))
+        return QStringLiteral("infinite at every frequency");
+    return QStringLiteral("no finite value to draw");
 }
 
 } // namespace loopsketch::ui
