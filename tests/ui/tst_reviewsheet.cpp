@@ -235,6 +235,16 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
         EXPECT_THAT(sheet, HasSubstr(sheetNumber(bw.toDouble(), "Hz").toStdString()));
     }
     EXPECT_THAT(sheet, HasSubstr(a["title"].toString().toStdString()));
+    // The A circuit's gain a and β are both on the sheet, so a reviewer can recompute the loop
+    // gain T = a·β (handbook relation of the two-port method); a·β is checked against the
+    // loop gain `analyze --json` prints, to 1e-9.
+    const QJsonObject tp = a["dc"].toObject()["two_port"].toObject();
+    if (tp["a"].isDouble() && tp["beta"].isDouble() && tp["loop_gain"].isDouble()) {
+        EXPECT_THAT(sheet, HasSubstr("A circuit gain a"));
+        EXPECT_THAT(sheet, HasSubstr(sheetNumber(tp["a"].toDouble(), unit).toStdString()));
+        const double t = tp["a"].toDouble() * tp["beta"].toDouble();
+        EXPECT_NEAR(t, tp["loop_gain"].toDouble(), 1e-9 * std::abs(t));
+    }
 
     // Noise totals and band as the sheet formats them (4 digits, as eng()), from the same
     // numbers `analyze --json` prints; the largest source's share of the power with it.
