@@ -354,7 +354,11 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         NoiseOptions noiseOptions = options.noiseOptions;
         if (!noiseOptions.closedLoopBandwidthHz)
             noiseOptions.closedLoopBandwidthHz = a.bandwidthHz;
-        if (auto noise = detail::analyzeNoiseOver(design, noiseOptions, a.frequenciesHz, points)) {
+        auto noiseModel = detail::NoiseModel::build(design);
+        auto noise = noiseModel
+            ? detail::analyzeNoiseOver(*noiseModel, design, noiseOptions, a.frequenciesHz, points)
+            : Result<NoiseAnalysis>(noiseModel.diagnostics());
+        if (noise) {
             a.noise = std::move(noise).value();
             if (!a.stable) { // the densities exist; a noise power over a band does not
                 a.noise->outputRms.reset();
@@ -362,7 +366,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
                 for (NoiseContribution &contribution : a.noise->contributions)
                     contribution.rms.reset();
             }
-            detail::addNoiseFigures(design, *a.noise, a.stable);
+            detail::addNoiseFigures(*noiseModel, design, *a.noise, a.stable);
         } else
             a.noiseProblem = noise.diagnostics().front().message;
     }

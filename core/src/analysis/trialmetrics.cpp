@@ -129,7 +129,9 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         const std::complex<double> points[] = {jw(ends[0]), jw(ends[1])};
         NoiseOptions options;
         options.closedLoopBandwidthHz = 0.0;
-        auto noise = detail::analyzeNoiseOver(design, options, ends, points);
+        auto model = detail::NoiseModel::build(design);
+        auto noise = model ? detail::analyzeNoiseOver(*model, design, options, ends, points)
+                           : Result<NoiseAnalysis>(model.diagnostics());
         if (noise) {
             NoiseAnalysis n = std::move(noise).value();
             detail::addSignalFigures(design, n);
