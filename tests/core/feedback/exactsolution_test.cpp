@@ -66,7 +66,28 @@ struct Nodal3
     Vector3 rhs;
     Matrix3 sourceRemoved; ///< z_in: the source and its r_series taken out
     Matrix3 loadRemoved; ///< z_out: source zeroed (r_series kept), load taken out
+
+    double gain() const { return cramer3(active, rhs, 2); } ///< v3 with the source at 1 V
+    double zIn() const { return cramer3(sourceRemoved, {1, 0, 0}, 0); } ///< v1 per 1 A into 1
+    double zOut() const { return cramer3(loadRemoved, {0, 0, 1}, 2); } ///< v3 per 1 A into 3
 };
+
+/// `v` as JSON text with every digit a double holds.
+std::string jsonNumber(double v)
+{
+    std::ostringstream os;
+    os.precision(17);
+    os << v;
+    return os.str();
+}
+
+/// A two-terminal part's JSON object: `type` "resistor" (field `value`) or "load" (field `r`).
+std::string twoTerminal(const std::string &id, const std::string &type, const std::string &a,
+                        const std::string &b, double ohms)
+{
+    return R"({"id": ")" + id + R"(", "type": ")" + type + R"(", "a": ")" + a + R"(", "b": ")" + b
+        + (type == "load" ? R"(", "r": )" : R"(", "value": )") + jsonNumber(ohms) + "}";
+}
 
 /// Prints a measured value beside its closed form, for the issue's closing note.
 void printMeasured(const std::string &what, double value, double expected)
@@ -99,23 +120,16 @@ struct InvertingStage
 
     std::string json() const
     {
-        const auto n = [](double v) {
-            std::ostringstream os;
-            os.precision(17);
-            os << v;
-            return os.str();
-        };
-        return designJson(
-            {R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", )"
-             R"("r_series": )"
-                 + n(rs) + "}",
-             gainBlock("0", "n",
-                       R"("gain": )" + n(a) + R"(, "r_in": )" + n(rin) + R"(, "r_out": )"
-                           + n(rout)),
-             R"({"id": "R1", "type": "resistor", "a": "in", "b": "n", "value": )" + n(r1) + "}",
-             R"({"id": "R2", "type": "resistor", "a": "n", "b": "out", "value": )" + n(r2) + "}",
-             R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": )" + n(rl) + "}"},
-            "VS");
+        return designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", )"
+                           R"("r_series": )"
+                               + jsonNumber(rs) + "}",
+                           gainBlock("0", "n",
+                                     R"("gain": )" + jsonNumber(a) + R"(, "r_in": )"
+                                         + jsonNumber(rin) + R"(, "r_out": )" + jsonNumber(rout)),
+                           twoTerminal("R1", "resistor", "in", "n", r1),
+                           twoTerminal("R2", "resistor", "n", "out", r2),
+                           twoTerminal("RL", "load", "out", "0", rl)},
+                          "VS");
     }
 
     // Nodal analysis (textbook KCL), unknowns (v_in, v_n, v_o), e = -a v_n behind r_out:
@@ -135,9 +149,9 @@ struct InvertingStage
         s.loadRemoved[2][2] = 1 / r2 + 1 / rout;
         return s;
     }
-    double gain() const { return cramer3(nodal().active, nodal().rhs, 2); }
-    double zIn() const { return cramer3(nodal().sourceRemoved, {1, 0, 0}, 0); }
-    double zOut() const { return cramer3(nodal().loadRemoved, {0, 0, 1}, 2); }
+    double gain() const { return nodal().gain(); }
+    double zIn() const { return nodal().zIn(); }
+    double zOut() const { return nodal().zOut(); }
 };
 
 // Closed form by nodal analysis of the three nodes (in, n, out), solved by Cramer's rule;
@@ -195,26 +209,19 @@ struct NonInvertingStage
 
     std::string json() const
     {
-        const auto n = [](double v) {
-            std::ostringstream os;
-            os.precision(17);
-            os << v;
-            return os.str();
-        };
-        std::string gb = R"("gain": )" + n(a);
+        std::string gb = R"("gain": )" + jsonNumber(a);
         if (std::isfinite(rd))
-            gb += R"(, "r_in": )" + n(rd);
+            gb += R"(, "r_in": )" + jsonNumber(rd);
         if (ro > 0)
-            gb += R"(, "r_out": )" + n(ro);
+            gb += R"(, "r_out": )" + jsonNumber(ro);
         std::string vs = R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0")";
         if (rs > 0)
-            vs += R"(, "r_series": )" + n(rs);
-        return designJson(
-            {vs + "}", gainBlock("in", "fb", gb),
-             R"({"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": )" + n(r2) + "}",
-             R"({"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": )" + n(r1) + "}",
-             R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": )" + n(rl) + "}"},
-            "VS");
+            vs += R"(, "r_series": )" + jsonNumber(rs);
+        return designJson({vs + "}", gainBlock("in", "fb", gb),
+                           twoTerminal("R2", "resistor", "out", "fb", r2),
+                           twoTerminal("R1", "resistor", "fb", "0", r1),
+                           twoTerminal("RL", "load", "out", "0", rl)},
+                          "VS");
     }
 
     // Nodal analysis, unknowns (v_p, v_n, v_o), e = a (v_p - v_n) behind r_out (= ro):
@@ -235,9 +242,9 @@ struct NonInvertingStage
         s.loadRemoved[2][2] = 1 / r2 + 1 / ro;
         return s;
     }
-    double gain() const { return cramer3(nodal().active, nodal().rhs, 2); }
-    double zIn() const { return cramer3(nodal().sourceRemoved, {1, 0, 0}, 0); }
-    double zOut() const { return cramer3(nodal().loadRemoved, {0, 0, 1}, 2); }
+    double gain() const { return nodal().gain(); }
+    double zIn() const { return nodal().zIn(); }
+    double zOut() const { return nodal().zOut(); }
 
     // Rs = 0: v_p = vs, two equations in (v_n, v_o):
     //   [1/rd + 1/R1 + 1/R2      -1/R2               ] [v_n]   [vs/rd  ]
@@ -467,12 +474,9 @@ TEST(ExactSolution, CurrentSourceParallelResistanceIsExcludedFromZin)
 {
     const double rf = 100e3, rin = 1e6, rout = 50, rl = 5e3, a = 3e4;
     for (const double rp : {1e5, 1e8}) {
-        std::ostringstream os;
-        os.precision(17);
-        os << rp;
         const Design d = parseOrFail(designJson(
-            {R"({"id": "IS", "type": "isource", "to": "in", "from": "0", "r_parallel": )" + os.str()
-                 + "}",
+            {R"({"id": "IS", "type": "isource", "to": "in", "from": "0", "r_parallel": )"
+                 + jsonNumber(rp) + "}",
              gainBlock("0", "in", R"("gain": 30000, "r_in": "1M", "r_out": "50")"),
              R"({"id": "RF", "type": "resistor", "a": "in", "b": "out", "value": "100k"})",
              R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "5k"})"},
