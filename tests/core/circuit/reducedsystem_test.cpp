@@ -5,6 +5,7 @@
 #include "loopsketch/circuit/reducedsystem.h"
 
 #include "circuit/pencilsweep.h"
+#include "gainblockelement.h"
 #include "numeric.h"
 
 #include <gtest/gtest.h>
@@ -69,11 +70,7 @@ Netlist gainBlockLoop(int poles, int zeros, std::mt19937 &rng)
     Netlist n;
     n.addVoltageSource("V1", "s", "0", n.addInput());
     n.addResistor("RS", "s", "m", pick(1e3, 1e4));
-    ControlledSourceElement cs;
-    cs.inP = "0";
-    cs.inN = "m";
-    cs.out = "e";
-    cs.gain = pick(1e3, 1e6);
+    ControlledSourceElement cs = gainBlockElement("0", "m", "e", pick(1e3, 1e6));
     cs.polesHz.push_back(pick(1, 100));
     for (int p = 1; p < poles; ++p)
         cs.polesHz.push_back(pick(1e6, 1e9));
