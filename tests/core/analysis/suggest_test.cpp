@@ -2,6 +2,7 @@
 #include "loopsketch/design/designfile.h"
 
 #include "designs.h"
+#include "ratiostage.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
@@ -19,17 +20,7 @@ namespace {
 // pole at 1 Hz (loop gain error about 3e-9), both resistors in E12, starting off target.
 std::string nonInverting(const std::string &specs)
 {
-    return R"({"schema": "loopsketch.design/1", "title": "x", "parts": [
-      {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
-      {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out",
-       "gain": "180dB", "poles_hz": ["1"]},
-      {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "12k", "series": "E12"},
-      {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "3.9k", "series": "E12"},
-      {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1M"}],
-      "input": "VS", "output": "voltage",
-      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20},
-      "specs": )"
-        + specs + "}";
+    return test::nonInvertingStageText("x", R"("value": "12k")", "3.9k", specs);
 }
 
 double valueOf(const Suggestion &s, const std::string &id)
