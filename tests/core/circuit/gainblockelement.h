@@ -16,14 +16,9 @@ inline ControlledSourceElement gainBlockElement(std::string inP, std::string inN
                                                 double gain, std::vector<double> polesHz = {},
                                                 std::vector<double> zerosHz = {})
 {
-    ControlledSourceElement cs;
-    cs.inP = std::move(inP);
-    cs.inN = std::move(inN);
-    cs.out = std::move(out);
-    cs.gain = gain;
-    cs.polesHz = std::move(polesHz);
-    cs.zerosHz = std::move(zerosHz);
-    return cs;
+    return {{},   std::move(inP),     std::move(inN),     std::move(out),
+            gain, std::move(polesHz), std::move(zerosHz), ControlledSourceElement::Mode::Normal,
+            -1};
 }
 
 } // namespace loopsketch::test
