@@ -72,6 +72,17 @@ struct Nodal3
     double zOut() const { return cramer3(loadRemoved, {0, 0, 1}, 2); } ///< v3 per 1 A into 3
 };
 
+/// The three-node system of a stage driven at node 1 from 1 V behind `rs`: `active` its
+/// conductance matrix; with the source taken out node 1's own conductance is `g11NoSource`,
+/// with the load taken out node 3's is `g33NoLoad`.
+Nodal3 drivenAtNode1(const Matrix3 &active, double rs, double g11NoSource, double g33NoLoad)
+{
+    Nodal3 s{active, {1 / rs, 0, 0}, active, active};
+    s.sourceRemoved[0][0] = g11NoSource;
+    s.loadRemoved[2][2] = g33NoLoad;
+    return s;
+}
+
 /// `v` as JSON text with every digit a double holds.
 std::string jsonNumber(double v)
 {
@@ -138,16 +149,10 @@ struct InvertingStage
     //   o:   (v_o - v_n)/R2 + (v_o + a v_n)/r_out + v_o/RL            = 0
     Nodal3 nodal() const
     {
-        Nodal3 s;
-        s.active = {{{1 / rs + 1 / r1, -1 / r1, 0},
-                     {-1 / r1, 1 / r1 + 1 / rin + 1 / r2, -1 / r2},
-                     {0, -1 / r2 + a / rout, 1 / r2 + 1 / rout + 1 / rl}}};
-        s.rhs = {1 / rs, 0, 0};
-        s.sourceRemoved = s.active;
-        s.sourceRemoved[0][0] = 1 / r1;
-        s.loadRemoved = s.active;
-        s.loadRemoved[2][2] = 1 / r2 + 1 / rout;
-        return s;
+        return drivenAtNode1({{{1 / rs + 1 / r1, -1 / r1, 0},
+                               {-1 / r1, 1 / r1 + 1 / rin + 1 / r2, -1 / r2},
+                               {0, -1 / r2 + a / rout, 1 / r2 + 1 / rout + 1 / rl}}},
+                             rs, 1 / r1, 1 / r2 + 1 / rout);
     }
     double gain() const { return nodal().gain(); }
     double zIn() const { return nodal().zIn(); }
@@ -231,16 +236,10 @@ struct NonInvertingStage
     // Needs Rs > 0 and ro > 0; the Rs = 0 cases use the two-node form below.
     Nodal3 nodal() const
     {
-        Nodal3 s;
-        s.active = {{{1 / rs + 1 / rd, -1 / rd, 0},
-                     {-1 / rd, 1 / rd + 1 / r1 + 1 / r2, -1 / r2},
-                     {-a / ro, -1 / r2 + a / ro, 1 / r2 + 1 / ro + 1 / rl}}};
-        s.rhs = {1 / rs, 0, 0};
-        s.sourceRemoved = s.active;
-        s.sourceRemoved[0][0] = 1 / rd;
-        s.loadRemoved = s.active;
-        s.loadRemoved[2][2] = 1 / r2 + 1 / ro;
-        return s;
+        return drivenAtNode1({{{1 / rs + 1 / rd, -1 / rd, 0},
+                               {-1 / rd, 1 / rd + 1 / r1 + 1 / r2, -1 / r2},
+                               {-a / ro, -1 / r2 + a / ro, 1 / r2 + 1 / ro + 1 / rl}}},
+                             rs, 1 / rd, 1 / r2 + 1 / ro);
     }
     double gain() const { return nodal().gain(); }
     double zIn() const { return nodal().zIn(); }
