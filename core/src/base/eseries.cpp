@@ -1,5 +1,7 @@
 #include "loopsketch/base/eseries.h"
 
+#include "loopsketch/base/lookup.h"
+
 #include <array>
 #include <cmath>
 #include <cstdint>
@@ -65,10 +67,8 @@ constexpr std::array<SeriesFacts, 7> kFacts{{{ESeries::E3, kE3, 0.40},
 const SeriesFacts &facts(ESeries series)
 {
     static constexpr SeriesFacts kNone{ESeries::E3, {}, 0.0};
-    for (const SeriesFacts &f : kFacts)
-        if (f.series == series)
-            return f;
-    return kNone;
+    const SeriesFacts *found = findRow(kFacts, &SeriesFacts::series, series);
+    return found ? *found : kNone;
 }
 
 // Membership and range ends: a value within this relative distance of a series value is
