@@ -167,12 +167,10 @@ TEST(Peaking, TwoPoleLoopMatchesTheResonantPeakOnACoarseGrid)
 // property of the passband).
 TEST(Peaking, CurrentDriverPeakingDoesNotDependOnTheSweepStop)
 {
-    auto loaded
-        = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/excitation-current-driver.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
+    Design loaded = loadOrFail(kDesignsDir / "excitation-current-driver.loopsketch");
     std::vector<double> peaking, feedthrough;
     for (double stop : {1e7, 1e8, 1e9, 3e9}) {
-        Design d = *loaded;
+        Design d = loaded;
         d.sweep.stop = Value{stop, {}};
         const Analysis a = analyzeOrFail(d);
         peaking.push_back(valueOf(a.peakingDb));

@@ -168,9 +168,8 @@ TEST(Noise, SinglePoleEquivalentNoiseBandwidth)
 // one forward solve of the loop netlist (solveDense), |H|^2 4kT/R at the output.
 TEST(Noise, AdjointMatchesOneForwardSolvePerSource)
 {
-    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
-    const Design &d = *loaded;
+    Design loaded = loadOrFail(kDesignsDir / "demo.loopsketch");
+    const Design &d = loaded;
     auto n = analyzeNoise(d);
     ASSERT_TRUE(n.ok()) << n.errorText();
     Netlist base = buildLoopNetlist(d);
@@ -295,9 +294,8 @@ TEST(Noise, DesignFileTemperatureAndNoiseFields)
 
 TEST(Noise, AnalysisJsonAndCsvCarryNoise)
 {
-    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
-    auto a = analyze(*loaded);
+    Design loaded = loadOrFail(kDesignsDir / "demo.loopsketch");
+    auto a = analyze(loaded);
     ASSERT_TRUE(a.ok()) << a.errorText();
     const std::string json = analysisToJson(*a);
     EXPECT_THAT(json, HasSubstr("\"noise\": {"));
@@ -321,14 +319,13 @@ TEST(Noise, AnalysisJsonAndCsvCarryNoise)
 // sweep that covers it (common practice: one computation reached two ways must agree).
 TEST(Noise, BandBeyondTheSweepIsIntegratedOnTheModel)
 {
-    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
+    Design loaded = loadOrFail(kDesignsDir / "demo.loopsketch");
     NoiseOptions o;
     o.bandLowHz = 0.01;
     o.bandHighHz = 1e3;
-    auto n = analyzeNoise(*loaded, o);
+    auto n = analyzeNoise(loaded, o);
     ASSERT_TRUE(n.ok()) << n.errorText();
-    Design wide = *loaded;
+    Design wide = loaded;
     wide.sweep.start = {0.001, "1m"};
     wide.sweep.stop = {1e4, "10k"};
     auto w = analyzeNoise(wide, o);
@@ -339,7 +336,7 @@ TEST(Noise, BandBeyondTheSweepIsIntegratedOnTheModel)
 
     o.bandLowHz = 1e3;
     o.bandHighHz = 10.0;
-    auto bad = analyzeNoise(*loaded, o);
+    auto bad = analyzeNoise(loaded, o);
     ASSERT_FALSE(bad.ok());
     EXPECT_THAT(bad.errorText(), HasSubstr("noise band must be two frequencies above zero"));
 }
@@ -350,14 +347,13 @@ TEST(Noise, BandBeyondTheSweepIsIntegratedOnTheModel)
 // computation reached two ways must agree).
 TEST(Noise, AnalysisNoiseMatchesTheStandaloneNoiseAnalysis)
 {
-    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
-    auto a = analyze(*loaded);
+    Design loaded = loadOrFail(kDesignsDir / "demo.loopsketch");
+    auto a = analyze(loaded);
     ASSERT_TRUE(a.ok()) << a.errorText();
     ASSERT_TRUE(a->noise.has_value()) << a->noiseProblem;
     NoiseOptions o;
     o.closedLoopBandwidthHz = a->bandwidthHz;
-    auto alone = analyzeNoise(*loaded, o);
+    auto alone = analyzeNoise(loaded, o);
     ASSERT_TRUE(alone.ok()) << alone.errorText();
     const NoiseAnalysis &inside = *a->noise;
     ASSERT_EQ(inside.frequenciesHz.size(), alone->frequenciesHz.size());
@@ -514,9 +510,8 @@ TEST(Noise, CommonModeCapacitanceLoadsTheCircuit)
 // a figure of the circuit cannot depend on how far the plot is drawn).
 TEST(Noise, DefaultBandDoesNotMoveWithTheSweepStop)
 {
-    auto loaded = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
-    Design d = *loaded;
+    Design loaded = loadOrFail(kDesignsDir / "demo.loopsketch");
+    Design d = loaded;
     d.findPart("U1")->fields["en"] = {50e-9, "50n"};
     std::vector<double> rms;
     for (const auto &[stop, text] : {std::pair{1e8, "100M"}, std::pair{1e10, "10G"},
@@ -660,9 +655,8 @@ TEST(NoiseFuzzFound, ZeroGainHasNoInputReferredNoise)
 // against them.
 TEST(NoiseFuzzFound, OrdinaryLoopKeepsItsInputReferredNoise)
 {
-    auto d = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(d.ok()) << d.errorText();
-    auto a = analyze(*d);
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
+    auto a = analyze(d);
     ASSERT_TRUE(a.ok() && a->noise) << a.errorText();
     EXPECT_TRUE(a->noise->inputProblem.empty()) << a->noise->inputProblem;
     EXPECT_TRUE(a->noise->inputRms.has_value());

@@ -170,10 +170,8 @@ TEST(NoiseFigures, DesignFileRoundTripAndRefusals)
 // decade. k and q CODATA 2018.
 TEST(NoiseFigures, PhotodiodeFrontEndRmsAgainstTheHandModel)
 {
-    auto loaded
-        = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/turbidity-probe-front-end.loopsketch");
-    ASSERT_TRUE(loaded.ok()) << loaded.errorText();
-    auto a = analyze(*loaded);
+    Design loaded = loadOrFail(kDesignsDir / "turbidity-probe-front-end.loopsketch");
+    auto a = analyze(loaded);
     ASSERT_TRUE(a.ok()) << a.errorText();
     ASSERT_TRUE(a->noise && a->noise->outputRms);
     const double k = 1.380649e-23, q = 1.602176634e-19, t = 298.15;

@@ -450,9 +450,8 @@ TEST(FeedbackTrade, SinglePoleBandwidthIsOpenLoopBandwidthTimesOnePlusT)
 // cancellation, so they hold to ~1e-15; the exact solution must match them to 1e-9.
 TEST(FeedbackAccuracy, DemoDcValuesMatchNodalAnalysisByHand)
 {
-    auto d = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(d.ok()) << d.errorText();
-    const Analysis a = analyzeOrFail(*d);
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
+    const Analysis a = analyzeOrFail(d);
     const double gain = std::pow(10.0, 110.0 / 20.0), ro = 50, rf = 1e6, rl = 10e3, rin = 1e12,
                  rpar = 500e6;
     const double k = (1 / rf - gain / ro) / (1 / ro + 1 / rf + 1 / rl);
