@@ -384,17 +384,8 @@ TEST_F(MainWindowTest, HoveringOnePanelShowsTheFrequencyInAllFrequencyPanels)
 {
     QTest::qWait(200);
     LoopGainPanel *loop = window->loopGainPanel();
-    QChart *chart = loop->chart();
-    const QPointF centre = chart->plotArea().center();
-    const QPoint pos = loop->mapFromScene(chart->mapToScene(centre));
-    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
-                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
-    QApplication::sendEvent(loop->viewport(), &move);
-
-    // The frequency under the pixel the event was sent to: `pos` is whole pixels, and half a
-    // pixel is about one sweep point here, so the plot's exact centre may pick its neighbour.
-    const QPointF hovered = chart->mapFromScene(loop->mapToScene(pos));
-    const double log10Hz = chart->mapToValue(hovered, loop->series(LoopGainPanel::kT)).x();
+    // The frequency under the pixel the event was sent to (windowchecks.h).
+    const double log10Hz = loopsketch::ui::test::hoverLoopGainCentre(loop);
     const Analysis &a = *doc()->analysis();
     std::size_t nearest = 0;
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {

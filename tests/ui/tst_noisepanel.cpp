@@ -9,6 +9,7 @@
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
+#include "windowchecks.h"
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"
@@ -259,15 +260,8 @@ TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
 {
     QTest::qWait(200); // the dock layout settles (tab bars take their room)
     LoopGainPanel *loop = window->loopGainPanel();
-    QChart *chart = loop->chart();
-    const QPointF at = chart->plotArea().center();
-    const QPoint pos = loop->mapFromScene(chart->mapToScene(at));
-    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
-                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
-    QApplication::sendEvent(loop->viewport(), &move);
     // The frequency of the pixel the event carries (the plot's centre rounded to it).
-    const QPointF hit = chart->mapFromScene(loop->mapToScene(pos));
-    const double log10Hz = chart->mapToValue(hit, loop->series(LoopGainPanel::kT)).x();
+    const double log10Hz = loopsketch::ui::test::hoverLoopGainCentre(loop);
     const QString fText
         = QStringLiteral("f = ") + toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz"));
     EXPECT_EQ(panel->cursorText(), fText);
