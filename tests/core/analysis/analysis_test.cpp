@@ -10,6 +10,7 @@
 #include "designs.h"
 #include "followerdesign.h"
 #include "numeric.h"
+#include "textchecks.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
@@ -79,11 +80,9 @@ void expectNoClosedLoopQuantities(const Analysis &a)
     EXPECT_FALSE(a.noise->inputRms.has_value());
     EXPECT_THAT(a.closedLoopReason, HasSubstr("right half-plane"));
     const std::string json = analysisToJson(a);
-    EXPECT_THAT(json, HasSubstr("\"stable\": false"));
-    EXPECT_THAT(json, HasSubstr("\"bandwidth_hz\": null"));
-    EXPECT_THAT(json, HasSubstr("\"peaking_db\": null"));
-    EXPECT_THAT(json, HasSubstr("\"settling_time_s\": null"));
-    EXPECT_THAT(json, HasSubstr("\"output_rms\": null"));
+    expectContainsEach(json,
+                       {"\"stable\": false", "\"bandwidth_hz\": null", "\"peaking_db\": null",
+                        "\"settling_time_s\": null", "\"output_rms\": null"});
     EXPECT_THAT(json, HasSubstr("\"rhp_poles\": " + std::to_string(a.rhpPoles)));
     const std::string text = analysisToText(a);
     EXPECT_THAT(text, HasSubstr("UNSTABLE"));
@@ -214,9 +213,8 @@ TEST(Stability, PolesThatCannotBeLocatedLeaveTheStabilityUnknown)
     EXPECT_FALSE(a.noise->outputRms.has_value());
     EXPECT_FALSE(a.noise->inputRms.has_value());
     const std::string json = analysisToJson(a);
-    EXPECT_THAT(json, HasSubstr("\"stable\": null"));
-    EXPECT_THAT(json, HasSubstr("\"bandwidth_hz\": null"));
-    EXPECT_THAT(json, HasSubstr("\"output_rms\": null"));
+    expectContainsEach(json,
+                       {"\"stable\": null", "\"bandwidth_hz\": null", "\"output_rms\": null"});
     const std::string text = analysisToText(a);
     EXPECT_THAT(text, HasSubstr("STABILITY UNKNOWN"));
     EXPECT_THAT(text, ::testing::Not(HasSubstr("  closed loop               stable")));
