@@ -1,5 +1,6 @@
 #include "sketch/inspector.h"
 
+#include "support/partlabels.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -50,27 +51,6 @@ QString defaultHint(const FieldSpec &spec)
     if (spec.defaultValue == 0.0)
         return QObject::tr("0 (not given)");
     return toQString(formatValue(spec.defaultValue, spec.kind));
-}
-
-QString typeLabel(PartType type)
-{
-    switch (type) {
-    case PartType::Resistor:
-        return QObject::tr("resistor");
-    case PartType::Capacitor:
-        return QObject::tr("capacitor");
-    case PartType::Inductor:
-        return QObject::tr("inductor");
-    case PartType::VSource:
-        return QObject::tr("signal source (voltage)");
-    case PartType::ISource:
-        return QObject::tr("signal source (current)");
-    case PartType::GainBlock:
-        return QObject::tr("gain block");
-    case PartType::Load:
-        return QObject::tr("load");
-    }
-    return {};
 }
 
 /// A field in the designer's words, with its unit, and a tooltip that also names the file key.
@@ -174,7 +154,7 @@ void Inspector::showPart(const std::string &partId)
     m_header->setText(
         QStringLiteral("<b style='font-size:11pt'>%1</b> &nbsp;%2<br>"
                        "<span style='color:#5a6270'>%3</span>")
-            .arg(toQString(part->id), typeLabel(part->type), nodes.join(QStringLiteral(", "))));
+            .arg(toQString(part->id), partTypeLabel(part->type), nodes.join(QStringLiteral(", "))));
 
     m_form = new QWidget(this);
     auto *form = new QFormLayout(m_form);
