@@ -295,20 +295,18 @@ TEST(Noise, DesignFileTemperatureAndNoiseFields)
 
 TEST(Noise, AnalysisJsonAndCsvCarryNoise)
 {
-    Design loaded = loadOrFail(kDesignsDir / "demo.loopsketch");
-    auto a = analyze(loaded);
-    ASSERT_TRUE(a.ok()) << a.errorText();
-    const std::string json = analysisToJson(*a);
+    const Analysis a = analyzeFileOrFail(kDesignsDir / "demo.loopsketch");
+    const std::string json = analysisToJson(a);
     expectContainsEach(json,
                        {"\"noise\": {", "\"output_rms\"", "\"contributions\"",
                         // the band and the method stated (issue 12): the demo has no noise_band
                         "\"kind\": \"converged\"",
                         "until the power left above is under 0.1 % of the total",
                         "\"input_rms_gain_at_hz\"", "\"brick_wall_equivalent\": {"});
-    const std::string text = analysisToText(*a);
+    const std::string text = analysisToText(a);
     EXPECT_THAT(text, HasSubstr("band method"));
     EXPECT_THAT(text, HasSubstr("brick-wall equivalent"));
-    const std::string csv = sweepToCsv(*a);
+    const std::string csv = sweepToCsv(a);
     const std::string header = csv.substr(0, csv.find('\n'));
     // units in the names as the other columns: the demo is V out per A in
     EXPECT_THAT(header, HasSubstr(",output_noise_v_per_rthz,input_noise_a_per_rthz"));

@@ -170,10 +170,8 @@ TEST(NoiseFigures, DesignFileRoundTripAndRefusals)
 // decade. k and q CODATA 2018.
 TEST(NoiseFigures, PhotodiodeFrontEndRmsAgainstTheHandModel)
 {
-    Design loaded = loadOrFail(kDesignsDir / "turbidity-probe-front-end.loopsketch");
-    auto a = analyze(loaded);
-    ASSERT_TRUE(a.ok()) << a.errorText();
-    ASSERT_TRUE(a->noise && a->noise->outputRms);
+    const Analysis a = analyzeFileOrFail(kDesignsDir / "turbidity-probe-front-end.loopsketch");
+    ASSERT_TRUE(a.noise && a.noise->outputRms);
     const double k = 1.380649e-23, q = 1.602176634e-19, t = 298.15;
     const double rf = 200e3, cf = 4.7e-12, rsh = 1e9, cd = 15e-12, cin = 5e-12;
     const double idc = 5.002e-6, en = 6e-9, fc = 100, in = 1e-15, a0 = 1e6;
@@ -197,8 +195,8 @@ TEST(NoiseFigures, PhotodiodeFrontEndRmsAgainstTheHandModel)
     }
     const double hand = std::sqrt(power);
     EXPECT_NEAR(hand, 133e-6, 1.5e-6); // the "about 133 uV"
-    EXPECT_LT(relErr(*a->noise->outputRms, hand), 0.01)
-        << "loopsketch " << *a->noise->outputRms << " V, hand model " << hand << " V";
+    EXPECT_LT(relErr(*a.noise->outputRms, hand), 0.01)
+        << "loopsketch " << *a.noise->outputRms << " V, hand model " << hand << " V";
     std::printf("front end: loopsketch %.4g uV rms, hand model %.4g uV rms\n",
-                *a->noise->outputRms * 1e6, hand * 1e6);
+                *a.noise->outputRms * 1e6, hand * 1e6);
 }
