@@ -10,6 +10,7 @@
 #include "sketch/sketchscene.h"
 #include "sketch/sketchview.h"
 #include "support/qtadapter.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 #include "windowchecks.h"
@@ -482,9 +483,7 @@ class ExampleDesign : public ::testing::TestWithParam<const char *>
 TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     const std::string name = GetParam();
     ASSERT_TRUE(
@@ -504,9 +503,7 @@ TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
 TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(
         QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error))

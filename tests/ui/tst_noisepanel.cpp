@@ -7,6 +7,7 @@
 #include "panels/panels.h"
 #include "panels/readout.h"
 #include "support/qtadapter.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 #include "windowchecks.h"
@@ -330,9 +331,7 @@ class NoiseExample : public ::testing::TestWithParam<const char *>
 TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     const QString path = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(GetParam());
     ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
@@ -387,9 +386,7 @@ INSTANTIATE_TEST_SUITE_P(Examples, NoiseExample,
 TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(kDemo, &error)) << error.toStdString();
     QApplication::processEvents();

@@ -3,6 +3,7 @@
 // text exactly.
 
 #include "panels/suggestdialog.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
@@ -235,9 +236,7 @@ TEST(SuggestDialogErrors, NoGainWindowAndUnreachableTargets)
 TEST(SuggestDialogWindow, OpensFromTheDesignMenuWithAScreenshot)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"), &error))
         << error.toStdString();
