@@ -1,5 +1,6 @@
 #include "sketch/designpropertiespanel.h"
 
+#include "support/errorline.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -53,14 +54,8 @@ std::pair<QLineEdit *, QLabel *> addEditRow(DesignPropertiesPanel *panel, QFormL
     edit->setObjectName(QString::fromLatin1(row.key));
     edit->setPlaceholderText(DesignPropertiesPanel::tr(row.placeholder));
     edit->setToolTip(DesignPropertiesPanel::tr(row.tip));
-    auto *error = new QLabel(panel);
-    error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-    error->setWordWrap(true);
-    error->hide();
-    auto *box = new QVBoxLayout;
-    box->setSpacing(1);
-    box->addWidget(edit);
-    box->addWidget(error);
+    QLabel *error = nullptr;
+    QVBoxLayout *box = withErrorLine(edit, error);
     auto *label = new QLabel(DesignPropertiesPanel::tr(row.label), panel);
     label->setToolTip(DesignPropertiesPanel::tr(row.tip));
     form->addRow(label, box);

@@ -1,5 +1,6 @@
 #include "sketch/inspector.h"
 
+#include "support/errorline.h"
 #include "support/partlabels.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
@@ -22,15 +23,8 @@ namespace {
 /// Adds a form row holding `editor` with a hidden error line under it; returns the line.
 QLabel *addRowWithError(QFormLayout *form, const QString &label, QWidget *editor)
 {
-    auto *error = new QLabel(editor->parentWidget());
-    error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-    error->setWordWrap(true);
-    error->hide();
-    auto *box = new QVBoxLayout;
-    box->setSpacing(1);
-    box->addWidget(editor);
-    box->addWidget(error);
-    form->addRow(label, box);
+    QLabel *error = nullptr;
+    form->addRow(label, withErrorLine(editor, error));
     return error;
 }
 
