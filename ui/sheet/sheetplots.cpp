@@ -4,6 +4,7 @@
 
 #include "panels/noisepanel.h"
 #include "sheet/sheetwriter.h"
+#include "support/freespot.h"
 #include "support/plotstyle.h"
 #include "support/polescale.h"
 
@@ -194,15 +195,6 @@ std::vector<Series> stepPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
     return st;
 }
 
-/// "−860k" with a true minus sign.
-QString signedEngineering(double value)
-{
-    QString text = QString::fromStdString(formatEngineering(value, 3));
-    if (text.startsWith(QLatin1Char('-')))
-        text.replace(0, 1, QStringLiteral("−"));
-    return text;
-}
-
 /// The poles of `poles` at a finite s.
 std::vector<ClosedLoopPole> finitePoles(const std::vector<ClosedLoopPole> &poles)
 {
@@ -228,17 +220,10 @@ public:
     void place(const QString &text, std::initializer_list<QPointF> corners, const QColor &colour)
     {
         const QSizeF size(m_fm.horizontalAdvance(text), m_fm.height());
-        for (const QPointF &corner : corners) {
-            const QRectF spot(corner, size);
-            bool free = m_area.contains(spot);
-            for (const QRectF &r : m_taken)
-                free = free && !r.intersects(spot);
-            if (free) {
-                m_p.setPen(colour);
-                m_p.drawText(QPointF(spot.left(), spot.top() + m_fm.ascent()), text);
-                m_taken.push_back(spot);
-                return;
-            }
+        if (const auto spot = firstFreeSpot(corners, size, m_area, m_taken)) {
+            m_p.setPen(colour);
+            m_p.drawText(QPointF(spot->left(), spot->top() + m_fm.ascent()), text);
+            m_taken.push_back(*spot);
         }
     }
 
@@ -248,43 +233,6 @@ private:
     QRectF m_area;
     std::vector<QRectF> m_taken;
 };
-
-/// A pole's value to write beside it: where (on the pole scale), the text and |s| (rad/s).
-struct PoleLabel
-{
-    QPointF at;
-    QString text;
-    double size;
-};
-
-/// The values of `shown`, upper half-plane and real axis, the dominant (smallest |s|) first;
-/// coincident poles say how many they are.
-std::vector<PoleLabel> poleLabels(const std::vector<ClosedLoopPole> &shown, const PoleScale &scale)
-{
-    std::vector<PoleLabel> labels;
-    std::vector<bool> done(shown.size(), false);
-    for (std::size_t i = 0; i < shown.size(); ++i) {
-        if (done[i] || shown[i].s.imag() < 0)
-            continue;
-        int same = 0;
-        for (std::size_t j = i; j < shown.size(); ++j) {
-            if (!done[j] && std::abs(shown[j].s - shown[i].s) <= 1e-9 * std::abs(shown[i].s)) {
-                done[j] = true;
-                ++same;
-            }
-        }
-        const std::complex<double> s = shown[i].s;
-        QString text = signedEngineering(s.real());
-        if (s.imag() > 0)
-            text += QStringLiteral(" ± j") + QString::fromStdString(formatEngineering(s.imag(), 3));
-        if (same > 1)
-            text += QStringLiteral(" (×%1)").arg(same);
-        labels.push_back({scale.map(s), text, std::abs(s)});
-    }
-    std::stable_sort(labels.begin(), labels.end(),
-                     [](const PoleLabel &l, const PoleLabel &r) { return l.size < r.size; });
-    return labels;
-}
 
 /// The closed-loop poles on the Poles panel's log-magnitude radial scale (support/polescale.h):
 /// one circle a decade labelled in rad/s, the jω and real axes, the design's poles as filled
@@ -346,8 +294,8 @@ std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a
         labels.take(QRectF(m.x() - 1.2 * k, m.y() - 1.2 * k, 2.4 * k, 2.4 * k));
     }
     const QColor valueColour = palette::kVermillion.darker(140);
-    for (const PoleLabel &l : poleLabels(shown, scale)) {
-        const QPointF c = at(l.at);
+    for (const PoleValueLabel &l : poleValueLabels(shown)) {
+        const QPointF c = at(scale.map(shown[l.index].s));
         const double w = fm.horizontalAdvance(l.text), h = fm.height(), g = 1.4 * k;
         labels.place(l.text,
                      {QPointF(c.x() + g, c.y() - h - 0.2 * k),
