@@ -56,6 +56,26 @@ protected:
         return doc()->design().findPart(id)->number("value");
     }
 
+    /// Selects `part` on the Sketch and gives the Inspector's editor of `field`; nullptr, and
+    /// a failure, when the Inspector does not show the part.
+    QLineEdit *inspectorEdit(const std::string &part, const std::string &field) const
+    {
+        window->sketchScene()->selectPart(part);
+        if (window->inspector()->partId() != part) {
+            ADD_FAILURE() << "the Inspector does not show " << part;
+            return nullptr;
+        }
+        return window->inspector()->fieldEdit(field);
+    }
+
+    /// Types `text` over what `edit` holds and presses Return, as a user would.
+    static void typeAndReturn(QLineEdit *edit, const char *text)
+    {
+        edit->selectAll();
+        QTest::keyClicks(edit, text);
+        QTest::keyClick(edit, Qt::Key_Return);
+    }
+
     /// Sends a wheel notch (120 units per notch) to the Sketch's viewport over a part.
     void wheelOver(const std::string &id, int notches, Qt::KeyboardModifiers modifiers = {})
     {
@@ -229,15 +249,11 @@ TEST_F(MainWindowTest, ArrowKeysStepTheSelectedPart)
 
 TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
 {
-    window->sketchScene()->selectPart("RF");
-    Inspector *inspector = window->inspector();
-    ASSERT_EQ(inspector->partId(), "RF");
-    QLineEdit *edit = inspector->fieldEdit("value");
+    QLineEdit *edit = inspectorEdit("RF", "value");
     ASSERT_NE(edit, nullptr);
+    Inspector *inspector = window->inspector();
     const Design before = doc()->design();
-    edit->selectAll();
-    QTest::keyClicks(edit, "12kk");
-    QTest::keyClick(edit, Qt::Key_Return);
+    typeAndReturn(edit, "12kk");
     QApplication::processEvents();
     EXPECT_EQ(doc()->design(), before);
     EXPECT_EQ(doc()->undoStack()->count(), 0);
@@ -245,9 +261,7 @@ TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
     EXPECT_THAT(inspector->fieldError("value").toStdString(), HasSubstr("RF"));
 
     // Valid RKM text then goes through (IEC 60062: 2M2 = 2.2 MΩ) and clears the mark.
-    edit->selectAll();
-    QTest::keyClicks(edit, "2M2");
-    QTest::keyClick(edit, Qt::Key_Return);
+    typeAndReturn(edit, "2M2");
     waitForRecompute();
     EXPECT_NEAR(valueOf("RF"), 2.2e6, 1e-3);
     EXPECT_TRUE(inspector->fieldError("value").isEmpty());
@@ -256,22 +270,16 @@ TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
 
 TEST_F(MainWindowTest, GainBlockPolesPresetsAndClearedFieldsAreUndoable)
 {
-    window->sketchScene()->selectPart("U1");
-    Inspector *inspector = window->inspector();
-    ASSERT_EQ(inspector->partId(), "U1");
-    QLineEdit *poles = inspector->fieldEdit("poles_hz");
+    QLineEdit *poles = inspectorEdit("U1", "poles_hz");
     ASSERT_NE(poles, nullptr);
+    Inspector *inspector = window->inspector();
     const Design before = doc()->design();
 
-    poles->selectAll();
-    QTest::keyClicks(poles, "10, 2xM");
-    QTest::keyClick(poles, Qt::Key_Return);
+    typeAndReturn(poles, "10, 2xM");
     EXPECT_EQ(doc()->design(), before);
     EXPECT_THAT(inspector->fieldError("poles_hz").toStdString(), HasSubstr("poles_hz[1]"));
 
-    poles->selectAll();
-    QTest::keyClicks(poles, "10, 20M");
-    QTest::keyClick(poles, Qt::Key_Return);
+    typeAndReturn(poles, "10, 20M");
     waitForRecompute();
     const Part *u1 = doc()->design().findPart("U1");
     ASSERT_EQ(u1->polesHz.size(), 2u);
