@@ -10,6 +10,7 @@
 #include "sketch/sketchscene.h"
 #include "sketch/sketchview.h"
 #include "support/qtadapter.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 #include "windowchecks.h"
@@ -55,6 +56,26 @@ protected:
     double valueOf(const std::string &id) const
     {
         return doc()->design().findPart(id)->number("value");
+    }
+
+    /// Selects `part` on the Sketch and gives the Inspector's editor of `field`; nullptr, and
+    /// a failure, when the Inspector does not show the part.
+    QLineEdit *inspectorEdit(const std::string &part, const std::string &field) const
+    {
+        window->sketchScene()->selectPart(part);
+        if (window->inspector()->partId() != part) {
+            ADD_FAILURE() << "the Inspector does not show " << part;
+            return nullptr;
+        }
+        return window->inspector()->fieldEdit(field);
+    }
+
+    /// Types `text` over what `edit` holds and presses Return, as a user would.
+    static void typeAndReturn(QLineEdit *edit, const char *text)
+    {
+        edit->selectAll();
+        QTest::keyClicks(edit, text);
+        QTest::keyClick(edit, Qt::Key_Return);
     }
 
     /// Sends a wheel notch (120 units per notch) to the Sketch's viewport over a part.
@@ -230,15 +251,11 @@ TEST_F(MainWindowTest, ArrowKeysStepTheSelectedPart)
 
 TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
 {
-    window->sketchScene()->selectPart("RF");
-    Inspector *inspector = window->inspector();
-    ASSERT_EQ(inspector->partId(), "RF");
-    QLineEdit *edit = inspector->fieldEdit("value");
+    QLineEdit *edit = inspectorEdit("RF", "value");
     ASSERT_NE(edit, nullptr);
+    Inspector *inspector = window->inspector();
     const Design before = doc()->design();
-    edit->selectAll();
-    QTest::keyClicks(edit, "12kk");
-    QTest::keyClick(edit, Qt::Key_Return);
+    typeAndReturn(edit, "12kk");
     QApplication::processEvents();
     EXPECT_EQ(doc()->design(), before);
     EXPECT_EQ(doc()->undoStack()->count(), 0);
@@ -246,9 +263,7 @@ TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
     EXPECT_THAT(inspector->fieldError("value").toStdString(), HasSubstr("RF"));
 
     // Valid RKM text then goes through (IEC 60062: 2M2 = 2.2 MΩ) and clears the mark.
-    edit->selectAll();
-    QTest::keyClicks(edit, "2M2");
-    QTest::keyClick(edit, Qt::Key_Return);
+    typeAndReturn(edit, "2M2");
     waitForRecompute();
     EXPECT_NEAR(valueOf("RF"), 2.2e6, 1e-3);
     EXPECT_TRUE(inspector->fieldError("value").isEmpty());
@@ -257,22 +272,16 @@ TEST_F(MainWindowTest, InvalidInspectorTextLeavesTheDesignUnchanged)
 
 TEST_F(MainWindowTest, GainBlockPolesPresetsAndClearedFieldsAreUndoable)
 {
-    window->sketchScene()->selectPart("U1");
-    Inspector *inspector = window->inspector();
-    ASSERT_EQ(inspector->partId(), "U1");
-    QLineEdit *poles = inspector->fieldEdit("poles_hz");
+    QLineEdit *poles = inspectorEdit("U1", "poles_hz");
     ASSERT_NE(poles, nullptr);
+    Inspector *inspector = window->inspector();
     const Design before = doc()->design();
 
-    poles->selectAll();
-    QTest::keyClicks(poles, "10, 2xM");
-    QTest::keyClick(poles, Qt::Key_Return);
+    typeAndReturn(poles, "10, 2xM");
     EXPECT_EQ(doc()->design(), before);
     EXPECT_THAT(inspector->fieldError("poles_hz").toStdString(), HasSubstr("poles_hz[1]"));
 
-    poles->selectAll();
-    QTest::keyClicks(poles, "10, 20M");
-    QTest::keyClick(poles, Qt::Key_Return);
+    typeAndReturn(poles, "10, 20M");
     waitForRecompute();
     const Part *u1 = doc()->design().findPart("U1");
     ASSERT_EQ(u1->polesHz.size(), 2u);
@@ -386,17 +395,8 @@ TEST_F(MainWindowTest, HoveringOnePanelShowsTheFrequencyInAllFrequencyPanels)
 {
     QTest::qWait(200);
     LoopGainPanel *loop = window->loopGainPanel();
-    QChart *chart = loop->chart();
-    const QPointF centre = chart->plotArea().center();
-    const QPoint pos = loop->mapFromScene(chart->mapToScene(centre));
-    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
-                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
-    QApplication::sendEvent(loop->viewport(), &move);
-
-    // The frequency under the pixel the event was sent to: `pos` is whole pixels, and half a
-    // pixel is about one sweep point here, so the plot's exact centre may pick its neighbour.
-    const QPointF hovered = chart->mapFromScene(loop->mapToScene(pos));
-    const double log10Hz = chart->mapToValue(hovered, loop->series(LoopGainPanel::kT)).x();
+    // The frequency under the pixel the event was sent to (windowchecks.h).
+    const double log10Hz = loopsketch::ui::test::hoverLoopGainCentre(loop);
     const Analysis &a = *doc()->analysis();
     std::size_t nearest = 0;
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
@@ -493,9 +493,7 @@ class ExampleDesign : public ::testing::TestWithParam<const char *>
 TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     const std::string name = GetParam();
     ASSERT_TRUE(
@@ -515,9 +513,7 @@ TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
 TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(
         QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error))

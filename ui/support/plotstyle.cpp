@@ -2,6 +2,7 @@
 
 #include "support/qtadapter.h"
 
+#include "loopsketch/base/lookup.h"
 #include "loopsketch/report/noisenames.h"
 
 #include <QStringList>
@@ -62,11 +63,8 @@ const std::array<CurveStyle, 15> &curves()
 
 const CurveStyle &curveStyle(PlotCurve curve)
 {
-    for (const CurveStyle &s : curves()) {
-        if (s.curve == curve)
-            return s;
-    }
-    return curves().front();
+    const CurveStyle *style = findRow(curves(), &CurveStyle::curve, curve);
+    return style ? *style : curves().front();
 }
 
 QString curveName(PlotCurve curve)
