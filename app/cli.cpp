@@ -8,6 +8,7 @@
 #endif
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/scan.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/analysis/suggest.h"
 #include "loopsketch/design/atomicfile.h"
@@ -105,7 +106,7 @@ Result<Outputs> planOutputs(const Options &o)
     if (o.command == "analyze" || o.command == "spread" || o.command == "suggest")
         planned.text = resolve(o.textOut, true, textOutputName(o.command));
     if (!o.csvOut.empty())
-        planned.csv = resolve(o.csvOut, true, "sweep");
+        planned.csv = resolve(o.csvOut, true, o.command == "scan" ? "scan" : "sweep");
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export") {
         resolve(o.pdfOut, false, "review sheet");
@@ -194,6 +195,24 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
         const std::string unit = gainUnit(design);
         return emit(*outputs->text, textOutputName(o.command),
                     o.json ? suggestToJson(*found, unit) : suggestToText(*found, unit), out, err);
+    }
+    if (o.command == "scan") {
+        std::vector<ScanAxis> axes;
+        Diagnostics problems;
+        for (const ScanTarget &target : o.scanTargets) {
+            auto axis = resolveScanAxis(design, target, o.scanSeries, o.file);
+            if (axis)
+                axes.push_back(std::move(axis).value());
+            else
+                problems.insert(problems.end(), axis.diagnostics().begin(),
+                                axis.diagnostics().end());
+        }
+        if (!problems.empty())
+            return reportDiagnostics(err, problems, o.file);
+        auto scan = runScan(design, axes, {}, o.file);
+        if (!scan)
+            return reportDiagnostics(err, scan.diagnostics(), o.file);
+        return emit(*outputs->csv, "scan", scanToCsv(*scan), out, err);
     }
     auto analysis = analyze(design, o.file);
     if (!analysis)

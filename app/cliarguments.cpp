@@ -219,6 +219,48 @@ void addSuggest(CLI::App &app, CliOptions &o)
     addTextOut(*c, o);
 }
 
+void addScan(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand(
+        "scan", "analyse the design at every E-series value of one part, or every pair of two "
+                "(a map), one CSV row each");
+    addDesignFile(*c, o);
+    c->add_option_function<std::vector<std::string>>(
+         "--part",
+         [&o](const std::vector<std::string> &texts) {
+             o.scanTargets.clear();
+             for (const std::string &text : texts)
+                 o.scanTargets.push_back(*parseScanTarget(text));
+         },
+         "the part's value, or ID.FIELD another numeric field, over FROM:TO (default: a tenth "
+         "to ten times its value); given twice: a map of two parts")
+        ->type_name("ID[.FIELD][:FROM:TO]")
+        ->required()
+        ->multi_option_policy(CLI::MultiOptionPolicy::TakeAll)
+        ->expected(1, 2)
+        ->check(CLI::Validator(
+            [](std::string &text) {
+                auto t = parseScanTarget(text);
+                return t ? std::string() : t.diagnostics().front().message;
+            },
+            ""));
+    c->add_option_function<std::string>(
+         "--series", [&o](const std::string &text) { o.scanSeries = parseESeries(text); },
+         "the series of the values (default: the part's own, else E24)")
+        ->type_name("E24")
+        ->check(CLI::Validator(
+            [](std::string &text) {
+                return parseESeries(text) ? std::string()
+                                          : "needs one of E3, E6, E12, E24, E48, E96, E192, not \""
+                        + text + "\"";
+            },
+            ""));
+    c->add_option("--csv", o.csvOut, "the CSV file, one row per value or pair (\"-\": standard output)")
+        ->type_name("OUT")
+        ->required()
+        ->check(nonEmpty("needs an output file name"));
+}
+
 #ifdef LOOPSKETCH_HAVE_GUI
 void addExport(CLI::App &app, CliOptions &o)
 {
@@ -375,6 +417,7 @@ std::unique_ptr<CLI::App> makeCommandLine(CliOptions &o, std::string &guiFile)
     addSweep(*app, o);
     addSpread(*app, o);
     addSuggest(*app, o);
+    addScan(*app, o);
 #ifdef LOOPSKETCH_HAVE_GUI
     addExport(*app, o);
 #endif

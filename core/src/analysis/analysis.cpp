@@ -1,6 +1,7 @@
 #include "loopsketch/analysis/analysis.h"
 
 #include "loopsketch/analysis/metrics.h"
+#include "loopsketch/analysis/nyquist.h"
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/circuit/circuit.h"
@@ -219,7 +220,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 
     // The loop beyond the sweep, where crossings may lie: as far as its poles and the
     // closed loop's reach.
-    std::vector<Complex> loopPoles = model.loopGainPoles();
+    const std::vector<Complex> loopGainPoles = model.loopGainPoles();
+    std::vector<Complex> loopPoles = loopGainPoles;
     loopPoles.insert(loopPoles.end(), closedLoopPoles.begin(), closedLoopPoles.end());
     const BeyondSweep beyond = frequenciesBeyondSweep(a.frequenciesHz, loopPoles);
     const auto pointsAt = [](const std::vector<double> &hz) {
@@ -239,6 +241,10 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         t.insert(t.end(), tAbove.begin(), tAbove.end());
         a.margins = computeMargins(model, f, t, dc.loopGain);
     }
+    a.margins.rateOfClosureDbPerDecade = rateOfClosure(model, a.margins.crossoverHz);
+    a.margins.steepClosure = a.margins.rateOfClosureDbPerDecade
+        && *a.margins.rateOfClosureDbPerDecade >= kSteepClosureDbPerDecade;
+    a.nyquist = countEncirclements(model, loopGainPoles, closedLoopPoles);
     a.step.settlingBand = design.settlingBandFraction();
     if (a.exact.gain && a.stable) {
         a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);

@@ -184,6 +184,13 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     if (path == SolverPath::Reduced)
         m.checkAccuracy(design);
 
+    if (const Part *gainBlock = design.uniquePart(PartType::GainBlock)) {
+        m.m_openLoopDcGain = gainBlockGain(*gainBlock);
+        m.m_openLoopPolesHz = gainBlockPolesHz(*gainBlock);
+        for (const Value &z : gainBlock->zerosHz)
+            m.m_openLoopZerosHz.push_back(z.si);
+    }
+
     m.m_topology = identifyTopology(design);
     if (m.m_topology.topology)
         m.buildTwoPort(design, path);
@@ -437,6 +444,17 @@ Complex LoopModel::gainAt(Complex s) const
     return m_full->entry(s, loopio::kOutput, loopio::kSource);
 }
 
+Complex LoopModel::openLoopGainAt(Complex s) const
+{
+    Complex a = m_openLoopDcGain;
+    const double twoPi = 2.0 * std::numbers::pi;
+    for (double z : m_openLoopZerosHz)
+        a *= 1.0 + s / (twoPi * z);
+    for (double p : m_openLoopPolesHz)
+        a /= 1.0 + s / (twoPi * p);
+    return a;
+}
+
 LoopPoint LoopModel::at(Complex s) const
 {
     LoopCurves c = sweep({&s, 1});
@@ -478,6 +496,13 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
             // where G_inf is not.
             c.gainReturnRatio[i] = g0 + through / (1.0 + t);
             c.desensitivity[i] = 1.0 + t;
+        }
+        c.openLoopGain.resize(n);
+        c.invBeta.resize(n);
+        for (std::size_t i = 0; i < n; ++i) {
+            c.openLoopGain[i] = openLoopGainAt(s[i]);
+            // Where T is 0 (no loop at that frequency) 1/beta is infinite: absent.
+            c.invBeta[i] = c.loopGain[i] != 0.0 ? c.openLoopGain[i] / c.loopGain[i] : kNaN;
         }
     }
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
