@@ -222,8 +222,9 @@ void addSuggest(CLI::App &app, CliOptions &o)
 void addScan(CLI::App &app, CliOptions &o)
 {
     CLI::App *c = app.add_subcommand(
-        "scan", "analyse the design at every E-series value of one part, or every pair of two "
-                "(a map), one CSV row each");
+        "scan",
+        "analyse the design at every E-series value of one part, or every pair of two "
+        "(a map), one CSV row each");
     addDesignFile(*c, o);
     c->add_option_function<std::vector<std::string>>(
          "--part",
@@ -250,12 +251,13 @@ void addScan(CLI::App &app, CliOptions &o)
         ->type_name("E24")
         ->check(CLI::Validator(
             [](std::string &text) {
-                return parseESeries(text) ? std::string()
-                                          : "needs one of E3, E6, E12, E24, E48, E96, E192, not \""
-                        + text + "\"";
+                return parseESeries(text)
+                    ? std::string()
+                    : "needs one of E3, E6, E12, E24, E48, E96, E192, not \"" + text + "\"";
             },
             ""));
-    c->add_option("--csv", o.csvOut, "the CSV file, one row per value or pair (\"-\": standard output)")
+    c->add_option("--csv", o.csvOut,
+                  "the CSV file, one row per value or pair (\"-\": standard output)")
         ->type_name("OUT")
         ->required()
         ->check(nonEmpty("needs an output file name"));

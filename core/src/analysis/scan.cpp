@@ -28,7 +28,9 @@ std::string fieldList(PartType type)
 Result<ScanTarget> parseScanTarget(std::string_view text, std::string_view option)
 {
     const auto fail = [&](const std::string &why) {
-        return Diagnostic{{}, {}, std::string(option),
+        return Diagnostic{{},
+                          {},
+                          std::string(option),
                           "\"" + std::string(text) + "\" is not a scan target: " + why};
     };
     std::vector<std::string> pieces;
@@ -73,7 +75,9 @@ Result<ScanAxis> resolveScanAxis(const Design &design, const ScanTarget &target,
     axis.part = part->id;
     axis.field = target.field.empty() ? std::string(part->primaryField()) : target.field;
     if (axis.field.empty())
-        return Diagnostic{f, part->id, {},
+        return Diagnostic{f,
+                          part->id,
+                          {},
                           "a " + std::string(partSpec(part->type).typeName)
                               + " has no value to scan; name one of its fields (" + part->id
                               + ".FIELD): " + fieldList(part->type)};
@@ -86,8 +90,7 @@ Result<ScanAxis> resolveScanAxis(const Design &design, const ScanTarget &target,
     axis.primary = axis.field == part->primaryField();
     axis.unit = std::string(spec->unit);
     axis.current = part->number(axis.field);
-    axis.series = series ? *series
-                         : (axis.primary && part->series ? *part->series : ESeries::E24);
+    axis.series = series ? *series : (axis.primary && part->series ? *part->series : ESeries::E24);
     const std::string rangeHint
         = " give a range: " + axis.part + (axis.primary ? "" : "." + axis.field) + ":FROM:TO";
     double from = 0, to = 0;
@@ -116,8 +119,7 @@ Result<ScanAxis> resolveScanAxis(const Design &design, const ScanTarget &target,
                                   + " must have two different ends of one sign, neither 0"};
         if (spec->range != ValueRange::Any && from < 0)
             return Diagnostic{f, part->id, axis.field,
-                              "the range " + *target.from + ":" + *target.to
-                                  + " must be positive"};
+                              "the range " + *target.from + ":" + *target.to + " must be positive"};
     } else {
         if (!std::isfinite(axis.current) || axis.current == 0)
             return Diagnostic{f, part->id, axis.field,
@@ -128,7 +130,8 @@ Result<ScanAxis> resolveScanAxis(const Design &design, const ScanTarget &target,
         to = axis.current * 10;
     }
     const double sign = from < 0 ? -1.0 : 1.0;
-    const double lo = std::min(std::abs(from), std::abs(to)), hi = std::max(std::abs(from), std::abs(to));
+    const double lo = std::min(std::abs(from), std::abs(to)),
+                 hi = std::max(std::abs(from), std::abs(to));
     axis.from = sign * lo;
     axis.to = sign * hi;
     for (double v : valuesInRange(axis.series, lo, hi))
@@ -172,7 +175,9 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
 {
     const std::string f(file);
     if (axes.empty() || axes.size() > 2)
-        return Diagnostic{f, {}, {},
+        return Diagnostic{f,
+                          {},
+                          {},
                           "a scan takes one part (a scan) or two (a map), not "
                               + std::to_string(axes.size())};
     if (axes.size() == 2 && axes[0].part == axes[1].part && axes[0].field == axes[1].field)
@@ -189,12 +194,12 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
         count *= axis.values.size();
     if (count > kMaxScanRows)
         return Diagnostic{f, axes.back().part, axes.back().field,
-                          "the scan would analyse " + std::to_string(count)
-                              + " designs, more than " + std::to_string(kMaxScanRows)
+                          "the scan would analyse " + std::to_string(count) + " designs, more than "
+                              + std::to_string(kMaxScanRows)
                               + "; narrow the ranges or choose a sparser series"};
-    if (Diagnostics over = checkRepeatedBudget(design, file, count,
-                                               analysisOperations(circuitSize(design), false),
-                                               "the scan", "narrow the ranges", "--part", false);
+    if (Diagnostics over
+        = checkRepeatedBudget(design, file, count, analysisOperations(circuitSize(design), false),
+                              "the scan", "narrow the ranges", "--part", false);
         !over.empty())
         return over;
 

@@ -36,10 +36,9 @@ std::string scanToCsv(const ScanResult &scan)
             os << detail::csvNumber(v) << ',';
         const ScanMetrics &m = row.metrics;
         os << cell(m.gain) << ',' << cell(m.bandwidthHz) << ',' << cell(m.phaseMarginDeg) << ','
-           << cell(m.gainMarginDb) << ',' << cell(m.peakingDb) << ',' << cell(m.overshootPct)
-           << ',' << cell(m.settlingTimeS) << ',' << cell(m.outputNoiseRms) << ','
-           << cell(m.zIn) << ',' << cell(m.zOut) << ',' << cell(m.stable) << ','
-           << cell(m.specsPass) << '\n';
+           << cell(m.gainMarginDb) << ',' << cell(m.peakingDb) << ',' << cell(m.overshootPct) << ','
+           << cell(m.settlingTimeS) << ',' << cell(m.outputNoiseRms) << ',' << cell(m.zIn) << ','
+           << cell(m.zOut) << ',' << cell(m.stable) << ',' << cell(m.specsPass) << '\n';
     }
     return os.str();
 }
