@@ -2,6 +2,7 @@
 
 #include "panels/candidatespanel.h"
 #include "panels/noisepanel.h"
+#include "panels/nyquistpanel.h"
 #include "panels/panels.h"
 #include "panels/readout.h"
 #include "panels/spreadpanel.h"
@@ -17,6 +18,7 @@
 #include "window/designdocument.h"
 #include "window/exportactions.h"
 #include "window/partclipboard.h"
+#include "window/stabilitydocks.h"
 
 #include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/designfile.h"
@@ -410,6 +412,14 @@ void MainWindow::createDocks()
                                 candidatesScroll, Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, m_candidatesDock);
     tabifyDockWidget(impDock, spreadDock);
+    // Nyquist, Scan and Map (window/stabilitydocks.cpp), tabbed with the others.
+    const StabilityDocks stability = makeStabilityDocks(m_document, this);
+    m_panels.push_back(stability.nyquist);
+    for (QDockWidget *d : stability.docks) {
+        addDockWidget(Qt::RightDockWidgetArea, d);
+        m_docks.push_back(d);
+        tabifyDockWidget(impDock, d);
+    }
     impDock->raise();
     connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
         const std::vector<OverlaySource> sources = m_candidates->overlaySources();
@@ -505,6 +515,7 @@ void MainWindow::createActions()
         dialog->raise();
         dialog->activateWindow();
     });
+    addStabilityActions(m_designMenu, m_view, this);
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
@@ -961,6 +972,8 @@ void MainWindow::arrangeDocks(bool compact)
                 *impedance = dock("ImpedanceDock"), *noise = dock("NoiseDock"),
                 *spread = dock("SpreadDock"), *desens = dock("DesensitivityDock"),
                 *step = dock("StepDock"), *poles = dock("PolesDock");
+    const std::vector<QDockWidget *> stability
+        = {dock("NyquistDock"), dock("ScanDock"), dock("MapDock")};
     for (QDockWidget *d : m_docks) {
         d->setFloating(false);
         if (d->features() != QDockWidget::NoDockWidgetFeatures)
@@ -976,6 +989,8 @@ void MainWindow::arrangeDocks(bool compact)
         splitDockWidget(loop, step, Qt::Vertical);
         for (QDockWidget *d : {impedance, noise, m_candidatesDock, spread})
             tabifyDockWidget(loop, d);
+        for (QDockWidget *d : stability)
+            tabifyDockWidget(loop, d);
         for (QDockWidget *d : {poles, desens})
             tabifyDockWidget(step, d);
         step->raise();
@@ -983,6 +998,8 @@ void MainWindow::arrangeDocks(bool compact)
     } else {
         splitDockWidget(loop, impedance, Qt::Vertical);
         for (QDockWidget *d : {noise, m_candidatesDock, spread})
+            tabifyDockWidget(impedance, d);
+        for (QDockWidget *d : stability)
             tabifyDockWidget(impedance, d);
         impedance->raise();
         addDockWidget(Qt::BottomDockWidgetArea, desens);

@@ -242,6 +242,13 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         a.margins = computeMargins(model, f, t, dc.loopGain);
     }
     a.margins.rateOfClosureDbPerDecade = rateOfClosure(model, a.margins.crossoverHz);
+    if (a.margins.crossoverHz) {
+        const double level = 20.0
+            * std::log10(std::abs(
+                model.openLoopGainAt({0.0, 2.0 * std::numbers::pi * *a.margins.crossoverHz})));
+        if (std::isfinite(level))
+            a.margins.closureLevelDb = level;
+    }
     a.margins.steepClosure = a.margins.rateOfClosureDbPerDecade
         && *a.margins.rateOfClosureDbPerDecade >= kSteepClosureDbPerDecade;
     a.nyquist = countEncirclements(model, loopGainPoles, closedLoopPoles);

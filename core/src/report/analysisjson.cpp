@@ -199,6 +199,7 @@ std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a
               {"margins.gain_margins_db[].db", "dB"},
               {"margins.gain_margins_db[].frequency_hz", "Hz"},
               {"margins.rate_of_closure_db_per_decade", "dB/decade"},
+              {"margins.closure_level_db", "dB"},
               {"closed_loop.bandwidth_hz", "Hz"},
               {"closed_loop.peaking_db", "dB"},
               {"closed_loop.poles[].re", "rad/s"},
@@ -276,6 +277,7 @@ std::string analysisToJson(const Analysis &a)
                     {"phase_crossover_hz", number(a.margins.phaseCrossoverHz)},
                     {"gain_margins_db", gainMargins},
                     {"rate_of_closure_db_per_decade", number(a.margins.rateOfClosureDbPerDecade)},
+                    {"closure_level_db", number(a.margins.closureLevelDb)},
                     {"steep_closure", a.margins.steepClosure}};
     Json poles = Json::array();
     for (const auto &p : a.poles)

@@ -58,6 +58,8 @@ struct Margins
     /// i.e. |T| = 1): the slope of |inv_beta| minus the slope of |A_ol| there, dB/decade,
     /// found on the model (minus the slope of |T|). The trade's 20 or 40.
     OptionalNumber rateOfClosureDbPerDecade;
+    /// Where they meet: 20 log10 |A_ol| (= 20 log10 |inv_beta|) at the crossover, dB.
+    OptionalNumber closureLevelDb;
     /// True when the rate of closure is the trade's 40 dB/decade or more (a local rate of
     /// kSteepClosureDbPerDecade or more: nearer 40 than 20).
     bool steepClosure = false;
