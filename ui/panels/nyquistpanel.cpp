@@ -48,6 +48,9 @@ NyquistPanel::NyquistPanel(QWidget *parent) : PlotPanel(tr("Nyquist"), parent)
 {
     m_x = addValueAxis(tr("Re T (compressed)"), Qt::AlignBottom, false);
     m_y = addValueAxis(tr("Im T (compressed)"), Qt::AlignLeft, false);
+    // The scale is not linear: the rings carry the magnitudes, the axes only their names.
+    m_x->setLabelsVisible(false);
+    m_y->setLabelsVisible(false);
     m_rings
         = addLine(tr("|T| = 10, 100, …"), QColor(0xcc, 0xcc, 0xcc), Qt::DotLine, m_x, m_y, false);
     m_unitCircle = addLine(tr("unit circle"), QColor(0x88, 0x88, 0x88), Qt::DashLine, m_x, m_y);
