@@ -10,10 +10,22 @@
 #include <QDockWidget>
 #include <QMainWindow>
 #include <QMenu>
+#include <QScrollArea>
 
 namespace loopsketch::ui {
 
 namespace {
+
+/// The panel in a scroll area, as the Spread panel is: its row of controls must not force
+/// its width on the whole right-hand side (the Sketch keeps half a narrow window).
+QWidget *scrolled(QWidget *panel, QWidget *parent)
+{
+    auto *scroll = new QScrollArea(parent);
+    scroll->setWidget(panel);
+    scroll->setWidgetResizable(true);
+    scroll->setFrameShape(QFrame::NoFrame);
+    return scroll;
+}
 
 QDockWidget *dockOf(QMainWindow *window, const QString &title, const QString &name, QWidget *widget)
 {
@@ -41,9 +53,10 @@ StabilityDocks makeStabilityDocks(DesignDocument *document, QMainWindow *window)
     s.nyquist = new NyquistPanel(window);
     s.scan = new ScanPanel(document, window);
     s.map = new MapPanel(document, window);
-    s.docks = {dockOf(window, QObject::tr("Nyquist"), QStringLiteral("NyquistDock"), s.nyquist),
-               dockOf(window, QObject::tr("Scan"), QStringLiteral("ScanDock"), s.scan),
-               dockOf(window, QObject::tr("Map"), QStringLiteral("MapDock"), s.map)};
+    s.docks = {
+        dockOf(window, QObject::tr("Nyquist"), QStringLiteral("NyquistDock"), s.nyquist),
+        dockOf(window, QObject::tr("Scan"), QStringLiteral("ScanDock"), scrolled(s.scan, window)),
+        dockOf(window, QObject::tr("Map"), QStringLiteral("MapDock"), scrolled(s.map, window))};
     return s;
 }
 
