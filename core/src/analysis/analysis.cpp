@@ -207,7 +207,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     std::vector<Complex> points(n);
     for (std::size_t i = 0; i < n; ++i)
         points[i] = {0.0, 2.0 * std::numbers::pi * a.frequenciesHz[i]};
-    c = model.sweep(points);
+    c = options.allCurves ? model.sweep(points) : model.sweepLoop(points);
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
     if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())

@@ -218,6 +218,7 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
     std::vector<Design> copies(static_cast<std::size_t>(workers), design);
     AnalysisOptions analysisOptions;
     analysisOptions.sensitivity = false;
+    analysisOptions.allCurves = false;
     const auto job = [&](std::size_t index, int worker) {
         ScanRow &row = result.rows[index];
         Design &d = copies[static_cast<std::size_t>(worker)];

@@ -463,6 +463,49 @@ LoopPoint LoopModel::at(Complex s) const
     return p;
 }
 
+LoopCurves LoopModel::sweepLoop(std::span<const Complex> s) const
+{
+    LoopCurves c;
+    c.gainExact = entryCurve(*m_full, s, loopio::kOutput, loopio::kSource);
+    sweepReturnRatio(s, c);
+    return c;
+}
+
+void LoopModel::sweepReturnRatio(std::span<const Complex> s, LoopCurves &c) const
+{
+    const std::size_t n = s.size();
+    const TransferEntry e[] = {{loopio::kReturned, loopio::kTest},
+                               {loopio::kOutput, loopio::kSource},
+                               {loopio::kOutput, loopio::kTest},
+                               {loopio::kReturned, loopio::kSource}};
+    const Curve rr = m_rrFull->sweepEntries(s, e);
+    c.loopGain.resize(n);
+    c.feedthrough.resize(n);
+    c.gainInf.resize(n);
+    c.gainReturnRatio.resize(n);
+    c.desensitivity.resize(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        const Complex t = -rr[i];
+        const Complex g0 = rr[n + i];
+        const Complex through = rr[2 * n + i] * rr[3 * n + i];
+        c.loopGain[i] = t;
+        c.feedthrough[i] = g0;
+        c.gainInf[i] = g0 + through / t;
+        // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
+        // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
+        // where G_inf is not.
+        c.gainReturnRatio[i] = g0 + through / (1.0 + t);
+        c.desensitivity[i] = 1.0 + t;
+    }
+    c.openLoopGain.resize(n);
+    c.invBeta.resize(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        c.openLoopGain[i] = openLoopGainAt(s[i]);
+        // Where T is 0 (no loop at that frequency) 1/beta is infinite: absent.
+        c.invBeta[i] = c.loopGain[i] != 0.0 ? c.openLoopGain[i] / c.loopGain[i] : kNaN;
+    }
+}
+
 LoopCurves LoopModel::sweep(std::span<const Complex> s) const
 {
     const std::size_t n = s.size();
@@ -473,38 +516,7 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
     c.zOutExact = m_output ? entryCurve(*m_output, s, loopio::kLoadVoltage, loopio::kLoadPort)
                            : nanCurve(n);
 
-    {
-        const TransferEntry e[] = {{loopio::kReturned, loopio::kTest},
-                                   {loopio::kOutput, loopio::kSource},
-                                   {loopio::kOutput, loopio::kTest},
-                                   {loopio::kReturned, loopio::kSource}};
-        const Curve rr = m_rrFull->sweepEntries(s, e);
-        c.loopGain.resize(n);
-        c.feedthrough.resize(n);
-        c.gainInf.resize(n);
-        c.gainReturnRatio.resize(n);
-        c.desensitivity.resize(n);
-        for (std::size_t i = 0; i < n; ++i) {
-            const Complex t = -rr[i];
-            const Complex g0 = rr[n + i];
-            const Complex through = rr[2 * n + i] * rr[3 * n + i];
-            c.loopGain[i] = t;
-            c.feedthrough[i] = g0;
-            c.gainInf[i] = g0 + through / t;
-            // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
-            // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
-            // where G_inf is not.
-            c.gainReturnRatio[i] = g0 + through / (1.0 + t);
-            c.desensitivity[i] = 1.0 + t;
-        }
-        c.openLoopGain.resize(n);
-        c.invBeta.resize(n);
-        for (std::size_t i = 0; i < n; ++i) {
-            c.openLoopGain[i] = openLoopGainAt(s[i]);
-            // Where T is 0 (no loop at that frequency) 1/beta is infinite: absent.
-            c.invBeta[i] = c.loopGain[i] != 0.0 ? c.openLoopGain[i] / c.loopGain[i] : kNaN;
-        }
-    }
+    sweepReturnRatio(s, c);
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
     c.zInReturnRatio = m_rrInput
         ? blackman(*m_rrInput, s, loopio::kInputVoltage, loopio::kInputPort, c.zInOpenLoop)

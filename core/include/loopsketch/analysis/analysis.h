@@ -152,6 +152,9 @@ struct AnalysisOptions
     SolverPath solver = SolverPath::Reduced;
     bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
     bool noise = true; ///< the noise analysis (one reduced solve per frequency)
+    /// Every curve over the sweep; false: only those the metrics read (LoopModel::sweepLoop),
+    /// the same metrics at less cost, for scans. Impedance and two-port curves stay empty.
+    bool allCurves = true;
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
 

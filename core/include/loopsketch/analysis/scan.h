@@ -111,7 +111,8 @@ struct ScanOptions
 Design withScanValue(Design design, const ScanAxis &axis, double value);
 
 /// Analyses `design` at every value of one axis or every pair of two, through analyze()
-/// (sensitivities left out: no metric here reads them), on background threads. Fails before
+/// (sensitivities, impedance and two-port curves left out: no metric here reads them), on
+/// background threads. Fails before
 /// any work when an axis does not resolve, there are no axes or more than two, the two name
 /// the same field, or the run is over the work budget.
 Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &axes,

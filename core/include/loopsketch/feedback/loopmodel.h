@@ -105,6 +105,10 @@ public:
     /// Each system is solved over the whole list in one pass (see
     /// ReducedSystem::sweepEntries), so this is much faster than at() per frequency.
     LoopCurves sweep(std::span<const Complex> s) const;
+    /// sweep()'s exact gain and return-ratio curves alone (gainExact, loopGain, feedthrough,
+    /// gainInf, gainReturnRatio, desensitivity, openLoopGain, invBeta), the same values; the
+    /// other curves are left empty. What the metrics read, for scans.
+    LoopCurves sweepLoop(std::span<const Complex> s) const;
 
     /// T_rr alone and the exact gain alone at each complex frequency of `s` (rad/s): the
     /// loop and the closed loop beyond the sweep.
@@ -154,6 +158,8 @@ private:
     /// The two-port estimate's systems for the topology found; on failure it stays absent
     /// and m_twoPortProblem says why.
     void buildTwoPort(const Design &design, SolverPath path);
+    /// The return ratio's curves and A_ol, 1/beta into `c`.
+    void sweepReturnRatio(std::span<const Complex> s, LoopCurves &c) const;
     /// sweep()'s two-port estimate: fills `c`'s two-port curves, which arrive as NaN.
     void sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const;
 
