@@ -95,8 +95,8 @@ TEST_F(Stability, NyquistPanelStatesCoresEncirclementsAndMarksTheMargins)
     EXPECT_THAT(panel->encirclementText().toStdString(), HasSubstr("N = 0"));
     EXPECT_EQ(panel->summary(), panel->encirclementText());
     EXPECT_GE(panel->frequencyLabels().size(), 3);
-    // The compressed scale keeps -1 and the unit circle; 1e5 sits at radius 6.
-    EXPECT_NEAR(NyquistPanel::radius(1e5), 6.0, 1e-12);
+    // The compressed scale keeps -1 and the unit circle; 1e5 sits at radius 3.5.
+    EXPECT_NEAR(NyquistPanel::radius(1e5), 3.5, 1e-12);
     EXPECT_NEAR(NyquistPanel::radius(0.5), 0.5, 1e-12);
     auto *pm = qobject_cast<QScatterSeries *>(panel->series(QStringLiteral("phase margin")));
     ASSERT_TRUE(pm && pm->count() == 1);

@@ -19,6 +19,9 @@ namespace {
 
 constexpr double kPi = std::numbers::pi;
 constexpr int kMostLabels = 6;
+/// Radius per decade of |T| beyond the unit circle: half the unit circle's, so a loop gain of
+/// 1e5 sits at 3.5 and the unit circle keeps more than a quarter of the plot.
+constexpr double kRingStep = 0.5;
 
 /// A circle of radius r as chart points (closed).
 QList<QPointF> circle(double r, int points = 180)
@@ -35,7 +38,7 @@ QList<QPointF> circle(double r, int points = 180)
 
 double NyquistPanel::radius(double magnitude)
 {
-    return magnitude <= 1.0 ? magnitude : 1.0 + std::log10(magnitude);
+    return magnitude <= 1.0 ? magnitude : 1.0 + kRingStep * std::log10(magnitude);
 }
 
 QPointF NyquistPanel::plotted(std::complex<double> t)
@@ -71,7 +74,7 @@ NyquistPanel::NyquistPanel(QWidget *parent) : PlotPanel(tr("Nyquist"), parent)
     m_minusOne->replace({QPointF(-1.0, 0.0)});
     m_unitCircle->replace(circle(1.0));
     setEqualAspect(true);
-    setToolTip(tr("Compressed radial scale: |T| as it is up to 1, 1 + log10 |T| beyond (one "
+    setToolTip(tr("Compressed radial scale: |T| as it is up to 1, 1 + ½ log10 |T| beyond (one "
                   "dotted ring per decade), angles true. The unit circle and −1 keep their "
                   "places; each clockwise turn of T around −1 is one encirclement."));
 }
@@ -93,7 +96,7 @@ void NyquistPanel::showAnalysis(const Analysis &a)
     m_mirror->replace(mirror);
     QList<QPointF> rings;
     // One line through all rings: each joins the next along the positive real axis.
-    for (double r = 2; r <= reach + 1e-9; ++r)
+    for (double r = 1 + kRingStep; r <= reach + 1e-9; r += kRingStep)
         rings.append(circle(r));
     m_rings->replace(rings);
 

@@ -22,8 +22,8 @@ public:
     explicit NyquistPanel(QWidget *parent = nullptr);
     void showAnalysis(const Analysis &analysis) override;
 
-    /// The compressed radius of a magnitude: |T| itself up to 1, 1 + log10 |T| beyond, so
-    /// the unit circle and -1 stay where they are and a loop gain of 1e5 sits at radius 6.
+    /// The compressed radius of a magnitude: |T| itself up to 1, 1 + log10 |T| / 2 beyond, so
+    /// the unit circle and -1 stay where they are and a loop gain of 1e5 sits at radius 3.5.
     static double radius(double magnitude);
     /// Where T is drawn.
     static QPointF plotted(std::complex<double> t);
