@@ -215,6 +215,13 @@ void addSuggest(CLI::App &app, CliOptions &o)
     addWholeNumber(*c, "--best", o.suggest.best, 1, 1000, "needs a whole number from 1 to 1000",
                    "suggestions listed (default 5)")
         ->type_name("N");
+    addWholeNumber(*c, "--trials", o.suggest.yieldTrials, 1, kMaxTrials,
+                   "needs a whole number from 1 to " + std::to_string(kMaxTrials),
+                   "Monte Carlo trials of each row's yield (default 200)")
+        ->type_name("N");
+    addWholeNumber(*c, "--seed", o.suggest.seed, 0, kLargestSeed, kWholeNumberAtLeastZero,
+                   "random seed of the yield (default 1)")
+        ->type_name("S");
     c->add_flag("--json", o.json, "print JSON instead of text");
     addTextOut(*c, o);
 }

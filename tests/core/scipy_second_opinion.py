@@ -269,6 +269,7 @@ class NoiseNodal:
                     self.sources.append((p["id"], "current", (a, b), four_kt / v, 0.0))
             elif t == "isource" and p["id"] == src_id:
                 a, b = node(p["to"]), node(p["from"])
+                self.signal = ("current", (a, b))
                 if "r_parallel" in p:
                     rp = num("r_parallel")
                     self.twoterm.append(("resistor", a, b, rp))
@@ -280,6 +281,7 @@ class NoiseNodal:
                     self.sources.append((p["id"] + ":shot", "current", (a, b),
                                          2.0 * constants.e * abs(num("i_dc")), 0.0))
             elif t == "vsource" and p["id"] == src_id:
+                self.signal = ("voltage", len(self.vsources))
                 rs = num("r_series", 0.0)
                 if rs > 0:
                     inner = node(p["id"] + ":int")
@@ -326,6 +328,10 @@ class NoiseNodal:
 
     def psd(self, f):
         """Output power density of every source at frequency f (Hz), V^2/Hz."""
+        return self._solve(f)[0]
+
+    def _solve(self, f):
+        """Every source's output power density at f (Hz) and the closed-loop gain."""
         s = 2j * math.pi * f
         n = len(self.nodes)
         size = n + len(self.vsources) + 1
@@ -359,7 +365,15 @@ class NoiseNodal:
             y[row, ip] -= gain
         if inn >= 0:
             y[row, inn] += gain
-        rhs = np.zeros((size, len(self.sources)), dtype=complex)
+        rhs = np.zeros((size, len(self.sources) + 1), dtype=complex)
+        kind, where = self.signal
+        if kind == "current":
+            if where[0] >= 0:
+                rhs[where[0], -1] += 1.0
+            if where[1] >= 0:
+                rhs[where[1], -1] -= 1.0
+        else:
+            rhs[n + where, -1] = 1.0
         weights = np.zeros(len(self.sources))
         for k, (name, kind, where, white, corner) in enumerate(self.sources):
             if kind == "en":
@@ -374,7 +388,12 @@ class NoiseNodal:
         x = np.linalg.solve(y, rhs)
         a, b = self.out
         vout = (x[a] if a >= 0 else 0.0) - (x[b] if b >= 0 else 0.0)
-        return np.abs(vout) ** 2 * weights
+        return np.abs(vout[:-1]) ** 2 * weights, vout[-1]
+
+    def gain(self, f):
+        """Closed-loop gain at f (Hz): output per unit source value, from the script's own
+        solve with the source driven (a unit current into `to`, or a unit voltage)."""
+        return self._solve(f)[1]
 
     def total(self, f):
         return float(np.sum(self.psd(f)))
@@ -450,6 +469,17 @@ def noise_main(cli, design_path):
                     print(f"FAIL {label}: band {noise['band']} is not the design's noise_band")
                 check(f"{label}: output rms over the noise_band", noise["output_rms"],
                       math.sqrt(model.integral(low, high)), TOL_RMS)
+            # spot noise at the design's noise_spot_hz (issue 18), and the SNR of the
+            # full-scale sine against the script's own rms and |gain| at the band's low end
+            spot = noise["spot"]
+            check(f"{label}: spot output density at {spot['at_hz']:.6g} Hz",
+                  spot["output_density"], math.sqrt(model.total(spot["at_hz"])), TOL_DENSITY)
+            if "signal_level" in design and "noise_band" in design:
+                level = parse_number(design["signal_level"])
+                gain_low = abs(model.gain(noise["input_rms_gain_at_hz"]))
+                rms = math.sqrt(model.integral(low, high))
+                check(f"{label}: SNR (dB)", noise["snr_db"],
+                      20 * math.log10(level / math.sqrt(2) * gain_low / rms), 1e-5)
         # the default band: Loopsketch's converged band, checked on the same band, and the
         # power above it (to 10 THz) under 0.1 % of the whole
         design = copy.deepcopy(base)

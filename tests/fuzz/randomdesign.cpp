@@ -235,15 +235,11 @@ const char *shapeName(Shape shape)
     return "?";
 }
 
-GeneratedDesign generateDesign(RandomSource &r)
-{
-    GeneratedDesign out;
-    out.shape = static_cast<Shape>(r.range(0, 4));
-    const int total = r.range(3, 60);
-    Builder b(r);
+namespace {
 
-    // The signal source, between "src" and ground (the free shape may float it).
-    const bool voltage = r.chance(0.5);
+/// The signal source, a voltage or a current source with random source impedance.
+GenPart signalSource(RandomSource &r, bool voltage)
+{
     GenPart source{"SIG", voltage ? "vsource" : "isource", {}, {}};
     if (voltage) {
         if (r.chance(0.6))
@@ -255,8 +251,13 @@ GeneratedDesign generateDesign(RandomSource &r)
         if (r.chance(0.5))
             source.fields.push_back({"c_parallel", number(r.logUniform(kCMin, kCMax))});
     }
+    return source;
+}
 
-    // The gain block: 0..12 poles and zeros in all, a gbw pole counted among them.
+/// The gain block: 0..12 poles and zeros in all, a gbw pole counted among them;
+/// `dynamicsOut` gets how many.
+GenPart gainBlock(RandomSource &r, int &dynamicsOut)
+{
     GenPart gb{"U1", "gain_block", {}, {}};
     const double gainMagnitude = r.logUniform(1.0, 1e8);
     gb.fields.push_back({"gain", number(r.chance(0.9) ? gainMagnitude : -gainMagnitude)});
@@ -277,7 +278,7 @@ GeneratedDesign generateDesign(RandomSource &r)
     };
     gb.fields.push_back({"poles_hz", frequencies(poles)});
     gb.fields.push_back({"zeros_hz", frequencies(zeros)});
-    out.poles = dynamics;
+    dynamicsOut = dynamics;
     if (r.chance(0.5))
         gb.fields.push_back({"r_in", number(r.logUniform(kRMin, kRMax))});
     if (r.chance(0.5))
@@ -286,6 +287,47 @@ GeneratedDesign generateDesign(RandomSource &r)
         gb.fields.push_back({"r_out", number(r.logUniform(kRMin, 1e5))});
     if (r.chance(0.2))
         gb.fields.push_back({"c_cm", number(r.logUniform(kCMin, 1e-9))});
+
+    return gb;
+}
+
+/// The design file's text for `parts`, with a random output kind and sweep.
+std::string designText(const std::vector<GenPart> &parts, Shape shape, RandomSource &r)
+{
+    std::string text = "{\n  \"schema\": \"loopsketch.design/1\",\n";
+    text += "  \"title\": \"Generated " + std::string(shapeName(shape)) + " design\",\n";
+    text += "  \"parts\": [\n";
+    for (std::size_t i = 0; i < parts.size(); ++i) {
+        const GenPart &p = parts[i];
+        text += "    {\"id\": " + quoted(p.id) + ", \"type\": " + quoted(p.type);
+        for (const auto &[terminal, node] : p.nodes)
+            text += ", " + quoted(terminal) + ": " + quoted(node);
+        for (const auto &[key, value] : p.fields)
+            text += ", " + quoted(key) + ": " + value;
+        text += i + 1 < parts.size() ? "},\n" : "}\n";
+    }
+    text += "  ],\n  \"input\": \"SIG\",\n";
+    text += std::string("  \"output\": ") + (r.chance(0.7) ? "\"voltage\"" : "\"current\"") + ",\n";
+    const double start = r.logUniform(1e-2, 1e3);
+    const double stop = start * r.logUniform(1e2, 1e9);
+    text += "  \"sweep\": {\"start\": " + number(start) + ", \"stop\": " + number(stop)
+        + ", \"points_per_decade\": " + std::to_string(r.range(1, 40)) + "}\n}\n";
+    return text;
+}
+} // namespace
+
+GeneratedDesign generateDesign(RandomSource &r)
+{
+    GeneratedDesign out;
+    out.shape = static_cast<Shape>(r.range(0, 4));
+    const int total = r.range(3, 60);
+    Builder b(r);
+
+    // The signal source, between "src" and ground (the free shape may float it).
+    const bool voltage = r.chance(0.5);
+    GenPart source = signalSource(r, voltage);
+
+    GenPart gb = gainBlock(r, out.poles);
 
     GenPart load{"LD", "load", {}, {}};
     load.fields.push_back({"r", number(r.logUniform(kRMin, kRMax))});
@@ -365,25 +407,7 @@ GeneratedDesign generateDesign(RandomSource &r)
     }
     tieDown(b);
 
-    std::string text = "{\n  \"schema\": \"loopsketch.design/1\",\n";
-    text += "  \"title\": \"Generated " + std::string(shapeName(out.shape)) + " design\",\n";
-    text += "  \"parts\": [\n";
-    for (std::size_t i = 0; i < b.parts.size(); ++i) {
-        const GenPart &p = b.parts[i];
-        text += "    {\"id\": " + quoted(p.id) + ", \"type\": " + quoted(p.type);
-        for (const auto &[terminal, node] : p.nodes)
-            text += ", " + quoted(terminal) + ": " + quoted(node);
-        for (const auto &[key, value] : p.fields)
-            text += ", " + quoted(key) + ": " + value;
-        text += i + 1 < b.parts.size() ? "},\n" : "}\n";
-    }
-    text += "  ],\n  \"input\": \"SIG\",\n";
-    text += std::string("  \"output\": ") + (r.chance(0.7) ? "\"voltage\"" : "\"current\"") + ",\n";
-    const double start = r.logUniform(1e-2, 1e3);
-    const double stop = start * r.logUniform(1e2, 1e9);
-    text += "  \"sweep\": {\"start\": " + number(start) + ", \"stop\": " + number(stop)
-        + ", \"points_per_decade\": " + std::to_string(r.range(1, 40)) + "}\n}\n";
-    out.text = std::move(text);
+    out.text = designText(b.parts, out.shape, r);
     out.parts = static_cast<int>(b.parts.size());
     return out;
 }

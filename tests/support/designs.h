@@ -65,6 +65,13 @@ inline Analysis analyzeOrFail(const Design &design)
     return a.ok() ? *a : Analysis{};
 }
 
+/// The analysis of the design file at `path`, with a test failure where it does not load or
+/// cannot be analysed.
+inline Analysis analyzeFileOrFail(const std::filesystem::path &path)
+{
+    return analyzeOrFail(loadOrFail(path));
+}
+
 /// `d` with the candidate's values written by hand onto the parts' primary fields: a path
 /// independent of applyCandidate(), for checking what the program did with a candidate.
 inline Design withCandidateByHand(Design d, const Candidate &c)

@@ -6,6 +6,7 @@
 // mounts vanish with the child.
 
 #include <cerrno>
+#include <csignal>
 #include <cstring>
 #include <fstream>
 #include <functional>
@@ -15,6 +16,7 @@
 #include <fcntl.h>
 #include <sched.h>
 #include <sys/mount.h>
+#include <sys/resource.h>
 #include <sys/statvfs.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -25,6 +27,44 @@ inline std::string osFailure(const std::string &what)
 {
     return what + ": " + std::strerror(errno);
 }
+
+/// A file-size limit for this process while it lives (RLIMIT_FSIZE, setrlimit(2)): a write
+/// past `bytes` fails part-way with EFBIG, SIGXFSZ ignored, as on a disk that fills up during
+/// a save. lift() or the destructor brings the previous limit and handler back.
+class FileSizeLimit
+{
+public:
+    explicit FileSizeLimit(rlim_t bytes)
+    {
+        m_haveOld = ::getrlimit(RLIMIT_FSIZE, &m_old) == 0;
+        m_oldHandler = std::signal(SIGXFSZ, SIG_IGN);
+        rlimit small = m_old;
+        small.rlim_cur = bytes;
+        m_ok = m_haveOld && ::setrlimit(RLIMIT_FSIZE, &small) == 0;
+    }
+    ~FileSizeLimit() { lift(); }
+    FileSizeLimit(const FileSizeLimit &) = delete;
+    FileSizeLimit &operator=(const FileSizeLimit &) = delete;
+
+    /// Whether the limit is in force.
+    bool ok() const { return m_ok; }
+    void lift()
+    {
+        if (m_lifted)
+            return;
+        m_lifted = true;
+        if (m_haveOld)
+            ::setrlimit(RLIMIT_FSIZE, &m_old);
+        std::signal(SIGXFSZ, m_oldHandler);
+    }
+
+private:
+    rlimit m_old{};
+    bool m_haveOld = false;
+    bool m_ok = false;
+    bool m_lifted = false;
+    void (*m_oldHandler)(int) = nullptr;
+};
 
 inline bool writeWholeFile(const char *path, const std::string &text)
 {

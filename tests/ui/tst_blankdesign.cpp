@@ -4,7 +4,9 @@
 // views that never show the last good numbers once the design cannot be analysed.
 
 #include "blankdesigntest.h"
+#include "windowchecks.h"
 
+#include "panels/candidatespanel.h"
 #include "panels/panels.h"
 #include "panels/plotpanel.h"
 #include "panels/readout.h"
@@ -33,6 +35,7 @@
 #include <QDropEvent>
 #include <QLineEdit>
 #include <QListWidget>
+#include <QMenu>
 #include <QMimeData>
 #include <QSignalSpy>
 #include <QTemporaryDir>
@@ -164,21 +167,7 @@ TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
     ASSERT_TRUE(a.margins.crossoverHz.has_value());
     EXPECT_NEAR(*a.margins.crossoverHz, 10e6 / 11.0, 0.03 * 10e6 / 11.0);
 
-    const Readout *readout = window->readout();
-    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
-              engineering(a.exact.gain, a.gainUnit, 4));
-    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(a.bandwidthHz, "Hz"));
-    QXYSeries *t = window->loopGainPanel()->series(LoopGainPanel::kT);
-    ASSERT_NE(t, nullptr);
-    const QList<QPointF> want
-        = curvePoints(a.frequenciesHz, a.curves.loopGain, CurvePart::MagnitudeDb);
-    const QList<QPointF> full = window->loopGainPanel()->fullPoints(t);
-    ASSERT_GT(want.size(), 100);
-    ASSERT_EQ(full.size(), want.size());
-    for (qsizetype i = 0; i < full.size(); ++i) {
-        ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
-        ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
-    }
+    ASSERT_NO_FATAL_FAILURE(loopsketch::ui::test::expectWindowShows(*window, a));
     for (PlotPanel *panel : window->panels())
         EXPECT_TRUE(panel->unavailableText().isEmpty());
 
@@ -275,14 +264,18 @@ TEST_F(BlankDesignTest, ReopenAfterRenamingAndDeletingTheSource)
     EXPECT_EQ(second.document()->design(), doc()->design());
 }
 
-/// One random edit of the kinds a user makes; the document decides what is allowed.
-void randomEdit(DesignDocument *doc, std::mt19937 &rng)
+/// The random choices of randomEdit(): one index below n, a pin, a selection of parts.
+struct RandomPicks
 {
-    const Design &d = doc->design();
-    auto pick = [&](std::size_t n) {
+    const Design &d;
+    std::mt19937 &rng;
+
+    std::size_t pick(std::size_t n)
+    {
         return std::uniform_int_distribution<std::size_t>(0, n - 1)(rng);
-    };
-    auto randomPin = [&](std::string *part, std::string *terminal) {
+    }
+    bool pin(std::string *part, std::string *terminal)
+    {
         if (d.parts.empty())
             return false;
         const Part &p = d.parts[pick(d.parts.size())];
@@ -290,74 +283,92 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
         *part = p.id;
         *terminal = std::string(terminals[pick(terminals.size())]);
         return true;
-    };
-    QString error;
-    auto randomParts = [&] {
+    }
+    std::vector<std::string> parts()
+    {
         std::vector<std::string> ids;
         for (const Part &p : d.parts) {
             if (pick(3) == 0)
                 ids.push_back(p.id);
         }
         return ids;
-    };
-    switch (pick(18)) {
+    }
+};
+
+/// Edits 0 to 10 of randomEdit(): parts, names, candidates, properties, grounds, mirroring.
+void randomPartEdit(DesignDocument *doc, RandomPicks &r, std::size_t kind)
+{
+    const Design &d = r.d;
+    QString error;
+    switch (kind) {
     case 0: {
         const auto specs = allPartSpecs();
-        doc->addPart(specs[pick(specs.size())].type, double(pick(600)) - 300,
-                     double(pick(400)) - 200);
+        doc->addPart(specs[r.pick(specs.size())].type, double(r.pick(600)) - 300,
+                     double(r.pick(400)) - 200);
         break;
     }
     case 1: {
         std::string pa, ta, pb, tb;
-        if (randomPin(&pa, &ta) && randomPin(&pb, &tb))
+        if (r.pin(&pa, &ta) && r.pin(&pb, &tb))
             doc->connectPins(pa, ta, pb, tb);
         break;
     }
     case 2:
         if (!d.parts.empty())
-            doc->removeParts({d.parts[pick(d.parts.size())].id});
+            doc->removeParts({d.parts[r.pick(d.parts.size())].id});
         break;
     case 3:
         if (!d.parts.empty())
-            doc->renamePart(d.parts[pick(d.parts.size())].id, "X" + std::to_string(pick(50)),
+            doc->renamePart(d.parts[r.pick(d.parts.size())].id, "X" + std::to_string(r.pick(50)),
                             &error);
         break;
     case 4:
         if (!d.parts.empty())
-            doc->rotatePart(d.parts[pick(d.parts.size())].id);
+            doc->rotatePart(d.parts[r.pick(d.parts.size())].id);
         break;
     case 5:
         doc->pinCandidate(doc->nextCandidateName(), &error);
         break;
     case 6: {
         Design after = d;
-        after.title = "edit " + std::to_string(pick(1000));
-        after.output = pick(2) ? OutputKind::Current : OutputKind::Voltage;
-        after.sweep.pointsPerDecade = int(10 + pick(90));
+        after.title = "edit " + std::to_string(r.pick(1000));
+        after.output = r.pick(2) ? OutputKind::Current : OutputKind::Voltage;
+        after.sweep.pointsPerDecade = int(10 + r.pick(90));
         doc->setProperties(after, QStringLiteral("properties"));
         break;
     }
     case 7: {
         std::string p, t;
-        if (randomPin(&p, &t))
+        if (r.pin(&p, &t))
             doc->groundPin(p, t);
         break;
     }
     case 8:
-        doc->addGround(double(pick(400)) - 200, double(pick(400)));
+        doc->addGround(double(r.pick(400)) - 200, double(r.pick(400)));
         break;
     case 9:
         if (!d.candidates.empty())
-            doc->deleteCandidate(toQString(d.candidates[pick(d.candidates.size())].name));
+            doc->deleteCandidate(toQString(d.candidates[r.pick(d.candidates.size())].name));
         break;
     case 10: // mirror
         if (!d.parts.empty())
-            doc->mirrorPart(d.parts[pick(d.parts.size())].id);
+            doc->mirrorPart(d.parts[r.pick(d.parts.size())].id);
         break;
+    default:
+        break;
+    }
+}
+
+/// Edits 11 and up of randomEdit(): wires, pins, the clipboard, typed fields, stepping.
+void randomWiringEdit(DesignDocument *doc, RandomPicks &r, std::size_t kind)
+{
+    const Design &d = r.d;
+    QString error;
+    switch (kind) {
     case 11: { // unwire: delete one of the Sketch's wires
         const SketchWiring wiring = routeWires(d, doc->layout());
         if (!wiring.edges.empty()) {
-            const RoutedWire &w = wiring.edges[pick(wiring.edges.size())];
+            const RoutedWire &w = wiring.edges[r.pick(wiring.edges.size())];
             doc->removeWires({{w.from, w.to}});
         }
         break;
@@ -365,16 +376,16 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
     case 12: { // a wire's end dragged to another pin, or to ground
         const SketchWiring wiring = routeWires(d, doc->layout());
         std::string p, t;
-        if (!wiring.edges.empty() && randomPin(&p, &t)) {
-            const RoutedWire &w = wiring.edges[pick(wiring.edges.size())];
-            doc->reattachWire(w.from, w.to, pick(4) == 0 ? PinRef{} : PinRef{p, t});
+        if (!wiring.edges.empty() && r.pin(&p, &t)) {
+            const RoutedWire &w = wiring.edges[r.pick(wiring.edges.size())];
+            doc->reattachWire(w.from, w.to, r.pick(4) == 0 ? PinRef{} : PinRef{p, t});
         }
         break;
     }
     case 13: { // a pin disconnected, or moved to another pin
         std::string p, t, q, u;
-        if (randomPin(&p, &t)) {
-            if (pick(2) && randomPin(&q, &u))
+        if (r.pin(&p, &t)) {
+            if (r.pick(2) && r.pin(&q, &u))
                 doc->movePin({p, t}, {q, u});
             else
                 doc->disconnectPin(p, t);
@@ -382,29 +393,40 @@ void randomEdit(DesignDocument *doc, std::mt19937 &rng)
         break;
     }
     case 14: // copy and paste (a duplicate)
-        doc->pasteParts(copyParts(d, doc->layout(), randomParts()), QStringLiteral("paste"));
+        doc->pasteParts(copyParts(d, doc->layout(), r.parts()), QStringLiteral("paste"));
         break;
     case 15: // cut
-        doc->removeParts(randomParts());
+        doc->removeParts(r.parts());
         break;
     case 16: { // a field typed into the Inspector, valid or not
         if (!d.parts.empty()) {
-            const Part &p = d.parts[pick(d.parts.size())];
+            const Part &p = d.parts[r.pick(d.parts.size())];
             const auto &fields = partSpec(p.type).fields;
             const char *texts[] = {"4k7", "2.2p", "1e3", "", "-5", "12kk", "100dB", "10M"};
-            doc->setFieldText(p.id, std::string(fields[pick(fields.size())].name),
-                              QString::fromLatin1(texts[pick(std::size(texts))]), &error);
+            doc->setFieldText(p.id, std::string(fields[r.pick(fields.size())].name),
+                              QString::fromLatin1(texts[r.pick(std::size(texts))]), &error);
         }
         break;
     }
     default:
         if (!d.parts.empty()) {
-            const Part &p = d.parts[pick(d.parts.size())];
+            const Part &p = d.parts[r.pick(d.parts.size())];
             if (!p.primaryField().empty())
-                doc->stepPart(p.id, int(pick(5)) - 2, false);
+                doc->stepPart(p.id, int(r.pick(5)) - 2, false);
         }
         break;
     }
+}
+
+/// One random edit of the kinds a user makes; the document decides what is allowed.
+void randomEdit(DesignDocument *doc, std::mt19937 &rng)
+{
+    RandomPicks r{doc->design(), rng};
+    const std::size_t kind = r.pick(18);
+    if (kind <= 10)
+        randomPartEdit(doc, r, kind);
+    else
+        randomWiringEdit(doc, r, kind);
 }
 
 TEST_F(BlankDesignTest, ReopenAfterRandomEditSequencesOnEveryExampleAndABlankDesign)
@@ -499,6 +521,83 @@ TEST_F(BlankDesignTest, StaleNeverWithAFloatingNode)
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/stale-floating.png"));
 }
 
+TEST_F(BlankDesignTest, StaleAxisUnitsNeverSurviveFileNew)
+{
+    // The demo is a transimpedance stage: its Step axis reads in V/A. A blank design has no
+    // gain unit, so after File > New every axis must read as in a window that never held a
+    // design.
+    MainWindow fresh;
+    fresh.setAskBeforeDiscarding(false);
+    fresh.resize(1500, 940);
+    fresh.show();
+    fresh.newDesign();
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr);
+    window->newDesign();
+    settle();
+    QApplication::processEvents();
+    // The reason over the plots tells a user of a blank page how to begin.
+    EXPECT_EQ(window->panels().front()->unavailableText().toStdString(),
+              "Not analysed: no parts yet: place a signal source, a gain block, a load and a "
+              "ground to start");
+    ASSERT_EQ(window->panels().size(), fresh.panels().size());
+    for (std::size_t i = 0; i < window->panels().size(); ++i) {
+        const QList<QAbstractAxis *> used = window->panels()[i]->chart()->axes();
+        const QList<QAbstractAxis *> blank = fresh.panels()[i]->chart()->axes();
+        ASSERT_EQ(used.size(), blank.size());
+        for (qsizetype k = 0; k < used.size(); ++k) {
+            EXPECT_EQ(used[k]->titleText(), blank[k]->titleText())
+                << window->panels()[i]->chart()->title().toStdString();
+            EXPECT_FALSE(used[k]->titleText().contains(QStringLiteral("V/A")))
+                << used[k]->titleText().toStdString();
+        }
+    }
+}
+
+TEST_F(BlankDesignTest, StaleCandidateOverlaysNeverOutliveAPasteThatBreaksTheDesign)
+{
+    // With the candidates overlaid on every plot, pasting a copy of the whole demo (a second
+    // source, gain block and load) leaves a design that cannot be analysed: no curve of the
+    // design or of its candidates may stay, not even once the candidates have been redone.
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    QAction *overlayAll = nullptr;
+    for (QAction *a : window->designMenu()->actions())
+        if (a->text() == QStringLiteral("Overlay candidates on every plot"))
+            overlayAll = a;
+    ASSERT_NE(overlayAll, nullptr);
+    overlayAll->trigger();
+    CandidatesPanel *candidates = window->candidatesPanel();
+    ASSERT_TRUE(QTest::qWaitFor(
+        [&] {
+            for (PlotPanel *p : window->panels())
+                if (p->hasOverlays() && p->overlaySeriesNames().isEmpty())
+                    return false;
+            return candidates->isUpToDate();
+        },
+        15000));
+    window->findChild<QAction *>(QStringLiteral("SelectAllAction"))->trigger();
+    window->findChild<QAction *>(QStringLiteral("CopyAction"))->trigger();
+    window->findChild<QAction *>(QStringLiteral("PasteAction"))->trigger();
+    settle();
+    expectNotAnalysed();
+    // The candidate columns are worked out again for the broken design; then too nothing
+    // may be drawn.
+    ASSERT_TRUE(QTest::qWaitFor(
+        [&] {
+            QApplication::processEvents();
+            return candidates->isUpToDate();
+        },
+        15000));
+    QApplication::processEvents();
+    expectNotAnalysed();
+    // Nor the gain sensitivities of the parts in the Desensitivity panel's tooltip.
+    for (PlotPanel *p : window->panels())
+        EXPECT_FALSE(p->toolTip().contains(QStringLiteral("RF"))) << p->toolTip().toStdString();
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/stale-paste.png"));
+}
+
 } // namespace
 
 namespace {
@@ -560,3 +659,48 @@ TEST_F(BlankDesignTest, DeleteKeyInThePartsListRemovesTheSelectedParts)
 }
 
 } // namespace
+
+// Issue 18: the spot frequency, the full-scale signal and the noise specs are design
+// properties, each one undoable step; the SNR spec asks for the signal first.
+TEST_F(BlankDesignTest, NoiseSpecsSignalLevelAndSpotFrequencyAreUndoable)
+{
+    openExample(QStringLiteral("demo.loopsketch"));
+    DesignPropertiesPanel *props = window->designProperties();
+    const int before = doc()->undoStack()->count();
+    type(props->edit("snr_min_db"), QStringLiteral("60"));
+    EXPECT_THAT(props->error("snr_min_db").toStdString(), HasSubstr("full-scale signal"));
+    EXPECT_FALSE(doc()->design().specs.snrMinDb.has_value());
+    type(props->edit("signal_level"), QStringLiteral("5uA"));
+    ASSERT_TRUE(doc()->design().signalLevel.has_value())
+        << props->error("signal_level").toStdString();
+    EXPECT_NEAR(doc()->design().signalLevel->si, 5e-6, 1e-18);
+    type(props->edit("snr_min_db"), QStringLiteral("60"));
+    EXPECT_TRUE(props->error("snr_min_db").isEmpty());
+    ASSERT_TRUE(doc()->design().specs.snrMinDb.has_value());
+    EXPECT_NEAR(*doc()->design().specs.snrMinDb, 60.0, 1e-12);
+    type(props->edit("output_noise_max"), QStringLiteral("150u"));
+    ASSERT_TRUE(doc()->design().specs.outputNoiseMax.has_value());
+    EXPECT_NEAR(doc()->design().specs.outputNoiseMax->si, 150e-6, 1e-15);
+    type(props->edit("noise_spot_hz"), QStringLiteral("10k"));
+    ASSERT_TRUE(doc()->design().noiseSpotHz.has_value());
+    EXPECT_NEAR(doc()->design().noiseSpotHz->si, 1e4, 1e-9);
+    type(props->edit("signal_level"), QString());
+    EXPECT_THAT(props->error("signal_level").toStdString(), HasSubstr("clear it first"));
+    EXPECT_EQ(doc()->undoStack()->count(), before + 4);
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr) << doc()->lastDiagnostics().toStdString();
+    const Analysis &a = *doc()->analysis();
+    ASSERT_GE(a.specs.size(), 2u);
+    EXPECT_EQ(a.specs[a.specs.size() - 2].name, "output_noise_max");
+    EXPECT_EQ(a.specs.back().name, "snr_min_db");
+    ASSERT_TRUE(a.noise);
+    EXPECT_NEAR(a.noise->spot.atHz, 1e4, 1e-9);
+
+    doc()->undoStack()->undo();
+    EXPECT_FALSE(doc()->design().noiseSpotHz.has_value());
+    EXPECT_TRUE(props->edit("noise_spot_hz")->text().isEmpty());
+    doc()->undoStack()->undo();
+    EXPECT_FALSE(doc()->design().specs.outputNoiseMax.has_value());
+    doc()->undoStack()->redo();
+    EXPECT_EQ(props->edit("output_noise_max")->text(), QStringLiteral("150u"));
+}

@@ -3,6 +3,7 @@
 // failed export leaves nothing behind. pdftotext and pdfinfo are Debian's poppler-utils.
 
 #include "clirun.h"
+#include "faultinjection.h"
 
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
@@ -202,18 +203,13 @@ TEST_F(GuiExport, SizeLimitDuringExportKeepsThePreviousFiles)
     const QStringList entries
         = QDir(tmp.path()).entryList(QDir::NoDotAndDotDot | QDir::AllEntries | QDir::Hidden);
 
-    rlimit old{};
-    ASSERT_EQ(::getrlimit(RLIMIT_FSIZE, &old), 0);
-    auto oldHandler = std::signal(SIGXFSZ, SIG_IGN);
-    rlimit small = old;
-    small.rlim_cur = 4096;
-    ASSERT_EQ(::setrlimit(RLIMIT_FSIZE, &small), 0);
+    loopsketch::test::FileSizeLimit limit(4096);
+    ASSERT_TRUE(limit.ok());
     QString pdfError, csvError, pngError;
     const bool pdfOk = exportReviewSheet(document, pdf, SheetPageSize::A4, "demo", &pdfError);
     const bool csvOk = exportSweepCsv(document, csv, &csvError);
     const bool pngOk = exportPlots(document, plots, PlotFormat::Png, &pngError);
-    ::setrlimit(RLIMIT_FSIZE, &old);
-    std::signal(SIGXFSZ, oldHandler);
+    limit.lift();
 
     EXPECT_FALSE(pdfOk);
     EXPECT_FALSE(csvOk);

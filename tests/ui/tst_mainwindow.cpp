@@ -12,6 +12,7 @@
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
+#include "windowchecks.h"
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/analysis/trialmetrics.h"
@@ -84,36 +85,10 @@ protected:
         return *a;
     }
 
-    /// The window shows `expected`: Readout texts and every point of the |T| curve.
+    /// The window shows `expected` (windowchecks.h).
     void expectShows(const Analysis &expected) const
     {
-        const Readout *readout = window->readout();
-        EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
-                  engineering(expected.exact.gain, expected.gainUnit, 4));
-        EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(expected.bandwidthHz, "Hz"));
-        QXYSeries *t = window->loopGainPanel()->series(LoopGainPanel::kT);
-        ASSERT_NE(t, nullptr);
-        const QList<QPointF> want
-            = curvePoints(expected.frequenciesHz, expected.curves.loopGain, CurvePart::MagnitudeDb);
-        ASSERT_GT(want.size(), 100);
-        // Before thinning for the screen, the panel holds every point of core's curve.
-        const QList<QPointF> full = window->loopGainPanel()->fullPoints(t);
-        ASSERT_EQ(full.size(), want.size());
-        for (qsizetype i = 0; i < full.size(); ++i) {
-            ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
-            ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
-        }
-        // What is drawn is a subset of those points, each at its own frequency, unchanged.
-        const QList<QPointF> drawn = t->points();
-        ASSERT_GT(drawn.size(), 50);
-        qsizetype j = 0;
-        for (const QPointF &p : drawn) {
-            while (j < want.size() && want[j].x() < p.x() - 1e-12)
-                ++j;
-            ASSERT_LT(j, want.size());
-            ASSERT_NEAR(p.x(), want[j].x(), 1e-12);
-            ASSERT_NEAR(p.y(), want[j].y(), 1e-9);
-        }
+        loopsketch::ui::test::expectWindowShows(*window, expected);
     }
 };
 

@@ -358,8 +358,9 @@ TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
     QStringList titles;
     for (const QAbstractAxis *axis : panel->chart()->axes(Qt::Vertical))
         titles << axis->titleText();
-    // "output (V/√Hz)", or the unit alone where the plot is short
-    ASSERT_EQ(titles.size(), 2);
+    // "output (V/√Hz)", or the unit alone where the plot is short; then the cumulative rms
+    ASSERT_EQ(titles.size(), 3);
+    EXPECT_EQ(titles[2], QStringLiteral("cumulative rms (%1)").arg(out));
     EXPECT_TRUE(QRegularExpression(QStringLiteral("^(output \\()?%1/√Hz(\\))?$").arg(out))
                     .match(titles[0])
                     .hasMatch())
@@ -460,3 +461,38 @@ TEST(NoisePanelAlone, SaysWhyWhenThereIsNoNoise)
 }
 
 } // namespace
+
+// Issue 18: the cumulative output rms is core's, drawn on its own axis, and climbs to the rms
+// over the sweep; the figures box shows the spot noise at the design's noise_spot_hz, the SNR
+// and the slew rate; the Readout adds the SNR and colours the noise cell by the noise specs.
+TEST(NoisePanelAlone, CumulativeRmsSpotNoiseAndSnr)
+{
+    auto design
+        = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/turbidity-probe-front-end.loopsketch");
+    ASSERT_TRUE(design) << design.errorText();
+    auto a = analyze(*design);
+    ASSERT_TRUE(a) << a.errorText();
+    ASSERT_TRUE(a->noise && a->noise->snrDb);
+    const NoiseAnalysis &n = *a->noise;
+    NoisePanel panel;
+    panel.resize(700, 420);
+    panel.show();
+    panel.showAnalysis(*a);
+    const QList<QPointF> cumulative = panel.fullPoints(panel.cumulativeSeries());
+    ASSERT_EQ(cumulative.size(), qsizetype(n.frequenciesHz.size() - 1)); // the first is 0
+    EXPECT_LT(relErr(std::pow(10.0, cumulative.back().y()), n.cumulativeRms.back()), 1e-12);
+    for (qsizetype i = 1; i < cumulative.size(); ++i)
+        EXPECT_GE(cumulative[i].y(), cumulative[i - 1].y());
+    const std::string figures = panel.figuresText().toStdString();
+    EXPECT_THAT(figures, HasSubstr("spot at 1 MHz"));
+    EXPECT_THAT(figures,
+                HasSubstr(QStringLiteral("SNR %1 dB").arg(*n.snrDb, 0, 'f', 1).toStdString()));
+    EXPECT_THAT(figures, HasSubstr("slew rate"));
+    EXPECT_THAT(figures, HasSubstr("peak-to-peak"));
+    EXPECT_TRUE(panel.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                  + "/loopsketch-noise-cumulative.png"));
+    Readout readout;
+    readout.showAnalysis(*a, *design);
+    EXPECT_THAT(readout.plainText().toStdString(),
+                HasSubstr(QStringLiteral("SNR %1 dB").arg(*n.snrDb, 0, 'f', 1).toStdString()));
+}

@@ -369,15 +369,10 @@ TEST_F(FailedSaveTest, FullDiskShowsThePathKeepsTheFileAndTheDocumentModified)
 
     // A file-size limit far below the design's length: write() fails part-way with EFBIG,
     // as on a disk that fills up during the save.
-    rlimit old{};
-    ASSERT_EQ(::getrlimit(RLIMIT_FSIZE, &old), 0);
-    auto oldHandler = std::signal(SIGXFSZ, SIG_IGN);
-    rlimit small = old;
-    small.rlim_cur = 256;
-    ASSERT_EQ(::setrlimit(RLIMIT_FSIZE, &small), 0);
+    loopsketch::test::FileSizeLimit limit(256);
+    ASSERT_TRUE(limit.ok());
     const SeenBox box = saveThroughTheMenu();
-    ::setrlimit(RLIMIT_FSIZE, &old);
-    std::signal(SIGXFSZ, oldHandler);
+    limit.lift();
 
     ASSERT_TRUE(box.seen) << "a failed save must be reported";
     EXPECT_EQ(box.title, QStringLiteral("Save design"));

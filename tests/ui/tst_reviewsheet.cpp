@@ -40,7 +40,8 @@ QString designPath(const char *name)
     return QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(QLatin1String(name));
 }
 
-// Formatted the way the review sheet formats them (reviewsheet.cpp: eng() and degrees()).
+// Formatted the way the review sheet formats them (sheetwriter.cpp's eng(), support/qtadapter's
+// degrees()).
 QString sheetNumber(double v, std::string_view unit)
 {
     return QString::fromStdString(loopsketch::formatEngineering(v, 4, unit));
@@ -53,6 +54,127 @@ struct SheetCase
     // following pages, cautions last
     int pages;
 };
+
+// Parts: every field of every part (partSpec() lists them) on one line of the sheet with
+// its quantity, its value in engineering notation with the unit, and the RKM code where
+// the value has one; a field left out or cut short ("…") fails. Common practice.
+void expectEveryPartField(const QString &design, const QString &sheetText)
+{
+    auto parts = loopsketch::loadDesign(design.toStdString());
+    ASSERT_TRUE(parts) << parts.errorText();
+    const QStringList sheetLines = sheetText.split('\n');
+    const std::string sheet = sheetText.toStdString();
+    for (const loopsketch::Part &part : parts->parts) {
+        EXPECT_THAT(sheet, HasSubstr(part.id));
+        const auto rows = loopsketch::partFieldTexts(part);
+        for (const loopsketch::FieldSpec &spec : loopsketch::partSpec(part.type).fields)
+            if (spec.kind != loopsketch::ValueKind::Tolerance || part.has(spec.name)) {
+                EXPECT_TRUE(std::any_of(rows.begin(), rows.end(),
+                                        [&](const auto &r) { return r.field == spec.name; }))
+                    << part.id << "." << spec.name;
+            }
+        for (const loopsketch::PartFieldText &row : rows) {
+            // compared without spaces: pdftotext drops the narrow one in "0 F"
+            const auto squeezed = [](QString t) {
+                return t.remove(QLatin1Char(' '));
+            };
+            const auto has = [&](const QString &line) {
+                return line.contains(QString::fromStdString(" " + row.field + " "))
+                    && line.contains(QString::fromStdString(row.label))
+                    && squeezed(line).contains(squeezed(QString::fromStdString(row.value)))
+                    && line.contains(QString::fromStdString(row.rkm))
+                    && !line.contains(QStringLiteral("…"));
+            };
+            EXPECT_TRUE(std::any_of(sheetLines.begin(), sheetLines.end(), has))
+                << part.id << "." << row.field << ": " << row.label << " " << row.value << " "
+                << row.rkm;
+        }
+    }
+}
+
+// Provenance on the first page: version, design hash, sweep, temperature, noise band,
+// Monte Carlo trials and seed.
+void expectProvenance(const std::string &sheet)
+{
+    const std::string first = sheet.substr(0, sheet.find('\f'));
+    EXPECT_THAT(first, HasSubstr("Loopsketch " LOOPSKETCH_PROJECT_VERSION));
+    EXPECT_THAT(first, HasSubstr("Design hash"));
+    EXPECT_THAT(first, HasSubstr("points per decade"));
+    EXPECT_THAT(first, HasSubstr(" K ("));
+    EXPECT_THAT(first, HasSubstr("noise band"));
+    EXPECT_THAT(first, HasSubstr("2000 trials"));
+    EXPECT_THAT(first, HasSubstr("seed 1"));
+}
+
+// No heading at the foot of a page without its first lines: the last line of each page
+// above the footer is never a section heading.
+void expectNoHeadingAtPageFoot(const QString &sheetText)
+{
+    const QStringList headings{"Sketch",
+                               "Parts",
+                               "Topology",
+                               "Methods side by side (DC)",
+                               "Key metrics against the specs",
+                               "Noise",
+                               "Candidates",
+                               "Spread over tolerances",
+                               "Plots",
+                               "What the model does not cover"};
+    const QStringList pageTexts = sheetText.split('\f');
+    for (qsizetype p = 0; p < pageTexts.size(); ++p) {
+        QStringList lines = pageTexts[p].split('\n');
+        lines.removeIf([](const QString &l) {
+            return l.trimmed().isEmpty() || l.contains(QStringLiteral("Loopsketch review sheet"));
+        });
+        if (!lines.isEmpty()) {
+            EXPECT_FALSE(headings.contains(lines.last().trimmed()))
+                << "page " << p + 1 << " ends with the heading " << lines.last().toStdString();
+        }
+    }
+}
+
+// CSV: the exact gain column against the sweep of the same design, the noise densities'
+// columns named with their units.
+void expectCsvMatchesSweep(const QString &csv, const QString &designFile,
+                           const std::string &outUnit, const std::string &inUnit)
+{
+    auto design = loopsketch::loadDesign(designFile.toStdString());
+    ASSERT_TRUE(design) << design.errorText();
+    auto analysis = loopsketch::analyze(*design);
+    ASSERT_TRUE(analysis) << analysis.errorText();
+    QFile csvFile(csv);
+    ASSERT_TRUE(csvFile.open(QIODevice::ReadOnly | QIODevice::Text));
+    const QStringList lines = QString::fromUtf8(csvFile.readAll()).split('\n', Qt::SkipEmptyParts);
+    ASSERT_EQ(lines.size(), static_cast<qsizetype>(analysis->frequenciesHz.size() + 1));
+    const QStringList header = lines.front().split(',');
+    const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
+    ASSERT_GE(fCol, 0);
+    ASSERT_GE(gCol, 0);
+    // The noise densities' columns carry their units as the other columns do.
+    const QString outCol
+        = QStringLiteral("output_noise_%1_per_rthz").arg(QString::fromStdString(outUnit).toLower());
+    const QString inCol
+        = QStringLiteral("input_noise_%1_per_rthz").arg(QString::fromStdString(inUnit).toLower());
+    const qsizetype nCol = header.indexOf(outCol);
+    EXPECT_GE(nCol, 0) << lines.front().toStdString();
+    EXPECT_GE(header.indexOf(inCol), 0) << lines.front().toStdString();
+    for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
+        const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
+        ASSERT_EQ(cells.size(), header.size()) << "row " << i;
+        bool okF = false, okG = false;
+        const double f = cells[fCol].toDouble(&okF), g = cells[gCol].toDouble(&okG);
+        ASSERT_TRUE(okF && okG) << "row " << i;
+        const double fExpected = analysis->frequenciesHz[i];
+        EXPECT_NEAR(f, fExpected, 1e-6 * fExpected) << "row " << i;
+        // 20 log10 |G| (common practice); the CSV has 10 significant digits
+        const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
+        EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
+        if (nCol >= 0 && analysis->noise) {
+            const double want = analysis->noise->outputDensity[i];
+            EXPECT_NEAR(cells[nCol].toDouble(), want, 1e-8 * want) << "row " << i;
+        }
+    }
+}
 
 class ReviewSheetExport : public testing::TestWithParam<SheetCase>
 {
@@ -70,7 +192,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                       QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
     ASSERT_TRUE(QFileInfo::exists(pdf));
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "noise"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles", "noise"}) {
         QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
         ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
         EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
@@ -93,76 +215,9 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                     HasSubstr(QStringLiteral("page %1 of %2").arg(i).arg(pageCount).toStdString()));
     EXPECT_THAT(sheet, HasSubstr("What the model does not cover"));
 
-    // Parts: every field of every part (partSpec() lists them) on one line of the sheet with
-    // its quantity, its value in engineering notation with the unit, and the RKM code where
-    // the value has one; a field left out or cut short ("…") fails. Common practice.
-    {
-        auto parts = loopsketch::loadDesign(designPath(c.design).toStdString());
-        ASSERT_TRUE(parts) << parts.errorText();
-        const QStringList sheetLines = text.out.split('\n');
-        for (const loopsketch::Part &part : parts->parts) {
-            EXPECT_THAT(sheet, HasSubstr(part.id));
-            const auto rows = loopsketch::partFieldTexts(part);
-            for (const loopsketch::FieldSpec &spec : loopsketch::partSpec(part.type).fields)
-                EXPECT_TRUE(std::any_of(rows.begin(), rows.end(),
-                                        [&](const auto &r) { return r.field == spec.name; }))
-                    << part.id << "." << spec.name;
-            for (const loopsketch::PartFieldText &row : rows) {
-                // compared without spaces: pdftotext drops the narrow one in "0 F"
-                const auto squeezed = [](QString t) {
-                    return t.remove(QLatin1Char(' '));
-                };
-                const auto has = [&](const QString &line) {
-                    return line.contains(QString::fromStdString(" " + row.field + " "))
-                        && line.contains(QString::fromStdString(row.label))
-                        && squeezed(line).contains(squeezed(QString::fromStdString(row.value)))
-                        && line.contains(QString::fromStdString(row.rkm))
-                        && !line.contains(QStringLiteral("…"));
-                };
-                EXPECT_TRUE(std::any_of(sheetLines.begin(), sheetLines.end(), has))
-                    << part.id << "." << row.field << ": " << row.label << " " << row.value << " "
-                    << row.rkm;
-            }
-        }
-    }
-    // Provenance on the first page: version, design hash, sweep, temperature, noise band,
-    // Monte Carlo trials and seed.
-    {
-        const std::string first = sheet.substr(0, sheet.find('\f'));
-        EXPECT_THAT(first, HasSubstr("Loopsketch " LOOPSKETCH_PROJECT_VERSION));
-        EXPECT_THAT(first, HasSubstr("Design hash"));
-        EXPECT_THAT(first, HasSubstr("points per decade"));
-        EXPECT_THAT(first, HasSubstr(" K ("));
-        EXPECT_THAT(first, HasSubstr("noise band"));
-        EXPECT_THAT(first, HasSubstr("2000 trials"));
-        EXPECT_THAT(first, HasSubstr("seed 1"));
-    }
-    // No heading at the foot of a page without its first lines: the last line of each page
-    // above the footer is never a section heading.
-    {
-        const QStringList headings{"Sketch",
-                                   "Parts",
-                                   "Topology",
-                                   "Methods side by side (DC)",
-                                   "Key metrics against the specs",
-                                   "Noise",
-                                   "Candidates",
-                                   "Spread over tolerances",
-                                   "Plots",
-                                   "What the model does not cover"};
-        const QStringList pageTexts = text.out.split('\f');
-        for (qsizetype p = 0; p < pageTexts.size(); ++p) {
-            QStringList lines = pageTexts[p].split('\n');
-            lines.removeIf([](const QString &l) {
-                return l.trimmed().isEmpty()
-                    || l.contains(QStringLiteral("Loopsketch review sheet"));
-            });
-            if (!lines.isEmpty()) {
-                EXPECT_FALSE(headings.contains(lines.last().trimmed()))
-                    << "page " << p + 1 << " ends with the heading " << lines.last().toStdString();
-            }
-        }
-    }
+    ASSERT_NO_FATAL_FAILURE(expectEveryPartField(designPath(c.design), text.out));
+    expectProvenance(sheet);
+    expectNoHeadingAtPageFoot(text.out);
 
     const CliRun json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
@@ -206,50 +261,14 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     EXPECT_THAT(sheet, HasSubstr(QString::number(topShare, 'f', 2).toStdString() + " %"));
     EXPECT_THAT(sheet, HasSubstr("Noise density, output and input-referred"));
 
-    // CSV: the exact gain column against the sweep of the same design.
-    auto design = loopsketch::loadDesign(designPath(c.design).toStdString());
-    ASSERT_TRUE(design) << design.errorText();
-    auto analysis = loopsketch::analyze(*design);
-    ASSERT_TRUE(analysis) << analysis.errorText();
-    QFile csvFile(csv);
-    ASSERT_TRUE(csvFile.open(QIODevice::ReadOnly | QIODevice::Text));
-    const QStringList lines = QString::fromUtf8(csvFile.readAll()).split('\n', Qt::SkipEmptyParts);
-    ASSERT_EQ(lines.size(), static_cast<qsizetype>(analysis->frequenciesHz.size() + 1));
-    const QStringList header = lines.front().split(',');
-    const qsizetype fCol = header.indexOf("f_hz"), gCol = header.indexOf("gain_exact_db");
-    ASSERT_GE(fCol, 0);
-    ASSERT_GE(gCol, 0);
-    // The noise densities' columns carry their units as the other columns do.
-    const QString outCol
-        = QStringLiteral("output_noise_%1_per_rthz").arg(QString::fromStdString(outUnit).toLower());
-    const QString inCol
-        = QStringLiteral("input_noise_%1_per_rthz").arg(QString::fromStdString(inUnit).toLower());
-    const qsizetype nCol = header.indexOf(outCol);
-    EXPECT_GE(nCol, 0) << lines.front().toStdString();
-    EXPECT_GE(header.indexOf(inCol), 0) << lines.front().toStdString();
-    for (std::size_t i = 0; i < analysis->frequenciesHz.size(); ++i) {
-        const QStringList cells = lines[static_cast<qsizetype>(i + 1)].split(',');
-        ASSERT_EQ(cells.size(), header.size()) << "row " << i;
-        bool okF = false, okG = false;
-        const double f = cells[fCol].toDouble(&okF), g = cells[gCol].toDouble(&okG);
-        ASSERT_TRUE(okF && okG) << "row " << i;
-        const double fExpected = analysis->frequenciesHz[i];
-        EXPECT_NEAR(f, fExpected, 1e-6 * fExpected) << "row " << i;
-        // 20 log10 |G| (common practice); the CSV has 10 significant digits
-        const double gExpected = 20.0 * std::log10(std::abs(analysis->curves.gainExact[i]));
-        EXPECT_NEAR(g, gExpected, 1e-6 * std::max(1.0, std::abs(gExpected))) << "row " << i;
-        if (nCol >= 0 && analysis->noise) {
-            const double want = analysis->noise->outputDensity[i];
-            EXPECT_NEAR(cells[nCol].toDouble(), want, 1e-8 * want) << "row " << i;
-        }
-    }
+    expectCsvMatchesSweep(csv, designPath(c.design), outUnit, inUnit);
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
-                         testing::Values(SheetCase{"demo", 5}, SheetCase{"contact-mic-preamp", 5},
+                         testing::Values(SheetCase{"demo", 6}, SheetCase{"contact-mic-preamp", 6},
                                          SheetCase{"excitation-current-driver", 5},
-                                         SheetCase{"gas-cell-current-amplifier", 5},
-                                         SheetCase{"turbidity-probe-front-end", 5}),
+                                         SheetCase{"gas-cell-current-amplifier", 6},
+                                         SheetCase{"turbidity-probe-front-end", 6}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');
@@ -389,7 +408,7 @@ TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
     ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
                   .exitCode,
               0);
-    EXPECT_EQ(pageCount(withSpread), 5);
+    EXPECT_EQ(pageCount(withSpread), 6); // the noise figures (issue 18) take the demo to 6
     EXPECT_LE(pageCount(without), pageCount(withSpread));
     const CliRun text = run(QStringLiteral("pdftotext"), {without, "-"});
     EXPECT_THAT(text.out.toStdString(), testing::Not(HasSubstr("Spread over tolerances")));
@@ -451,7 +470,7 @@ TEST(ReviewSheetPlots, PngFilesAreWholeImages)
     const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
     const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles"}) {
         const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
         ASSERT_FALSE(image.isNull()) << stem;
         // 170 mm x 110 mm at 150 dpi (reviewsheet.cpp), 25.4 mm per inch
@@ -464,6 +483,58 @@ TEST(ReviewSheetPlots, PngFilesAreWholeImages)
                 inked += image.pixel(x, y) != qRgb(255, 255, 255);
         EXPECT_GT(inked, 500) << stem;
     }
+}
+
+TEST(ReviewSheetPlots, PlotFilesCarryTheCandidatesAsTheSheetDoes)
+{
+    // The demo's two candidates (resources/designs/demo.loopsketch) are drawn on every plot
+    // file, SVG and PNG alike, with the legend entries the sheet and the panels give them.
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf"), svg = tmp.filePath("svg"),
+                  png = tmp.filePath("png");
+    const CliRun r
+        = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--svg", svg, "--png", png});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const std::pair<const char *, const char *> expected[] = {
+        {"loop-gain", ": T, gain"}, {"impedance", ": z_in, z_out"}, {"desensitivity", ": |1 + T|"},
+        {"step", ": step"},         {"poles", ": poles"},           {"noise", ": output noise"}};
+    for (const auto &[stem, quantities] : expected) {
+        QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
+        ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
+        const QString text = QString::fromUtf8(f.readAll());
+        for (const char *candidate : {"Fast", "High gain"}) {
+            EXPECT_TRUE(text.contains(QLatin1String(candidate) + QLatin1String(quantities)))
+                << stem << ": no legend entry for " << candidate;
+        }
+    }
+    // The PNG of the poles shows the candidates' rings: more coloured pixels than the same
+    // design without candidates gives.
+    auto loaded = loopsketch::loadDesign(designPath("demo").toStdString());
+    ASSERT_TRUE(loaded) << loaded.errorText();
+    loopsketch::Design bare = *loaded;
+    bare.candidates.clear();
+    const QString barePath = tmp.filePath("bare.loopsketch"), barePng = tmp.filePath("bare");
+    {
+        QFile f(barePath);
+        ASSERT_TRUE(f.open(QIODevice::WriteOnly));
+        f.write(QByteArray::fromStdString(loopsketch::serializeDesign(bare)));
+    }
+    const CliRun b
+        = loopsketch({"export", barePath, "--pdf", tmp.filePath("bare.pdf"), "--png", barePng});
+    ASSERT_EQ(b.exitCode, 0) << b.err.toStdString();
+    const auto coloured = [](const QString &path) {
+        const QImage image(path);
+        int n = 0;
+        for (int y = 0; y < image.height(); ++y)
+            for (int x = 0; x < image.width(); ++x)
+                n += image.pixelColor(x, y).hsvSaturation() > 100;
+        return n;
+    };
+    const int with = coloured(QDir(png).filePath(QStringLiteral("poles.png")));
+    const int without = coloured(QDir(barePng).filePath(QStringLiteral("poles.png")));
+    EXPECT_GT(with, without + 100)
+        << with << " coloured pixels with candidates, " << without << " without";
 }
 
 TEST(ReviewSheetCandidates, ComparisonShowsEachCandidatesAnalysis)

@@ -321,7 +321,8 @@ TEST_F(SketchEditTest, MirroredPartIsSavedAndReopened)
 
 // ---- The Edit menu ----
 
-TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUndoStep)
+// The platform's standard keys for the standard edits (Qt's QKeySequence::StandardKey).
+TEST_F(SketchEditTest, EditActionsCarryTheStandardShortcuts)
 {
     EXPECT_EQ(action("CutAction")->shortcut(), QKeySequence(QKeySequence::Cut));
     EXPECT_EQ(action("CopyAction")->shortcut(), QKeySequence(QKeySequence::Copy));
@@ -329,7 +330,10 @@ TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUn
     EXPECT_EQ(action("DeleteAction")->shortcut(), QKeySequence(QKeySequence::Delete));
     EXPECT_EQ(action("SelectAllAction")->shortcut(), QKeySequence(QKeySequence::SelectAll));
     EXPECT_FALSE(action("DuplicateAction")->shortcut().isEmpty());
+}
 
+TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUndoStep)
+{
     window->newDesign();
     ASSERT_EQ(doc()->addPart(PartType::Resistor, -120, 0), "R1");
     ASSERT_EQ(doc()->addPart(PartType::Resistor, -120, -120), "R2");

@@ -119,16 +119,25 @@ std::optional<double> noiseSharePct(const NoiseAnalysis &n, const NoiseContribut
 NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
 {
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
-    m_y = addLogAxis(tr("output (V/√Hz)"), Qt::AlignLeft);
-    m_yInput = addLogAxis(tr("input (A/√Hz)"), Qt::AlignRight);
+    m_y = addLogAxis(tr("output"), Qt::AlignLeft);
+    m_yInput = addLogAxis(tr("input"), Qt::AlignRight);
     m_yInput->setGridLineVisible(false);
     // The right axis reads in the input-referred curve's colour.
     m_yInput->setTitleBrush(curveStyle(PlotCurve::NoiseInput).colour.darker(115));
     m_yInput->setLabelsColor(curveStyle(PlotCurve::NoiseInput).colour.darker(115));
     const CurveStyle &total = curveStyle(PlotCurve::NoiseOutput);
     const CurveStyle &input = curveStyle(PlotCurve::NoiseInput);
+    // The cumulative output rms on a second right-hand axis, in its curve's colour: where the
+    // curve climbs is where the noise comes from.
+    const CurveStyle &cumulative = curveStyle(PlotCurve::NoiseCumulative);
+    m_yCumulative = addLogAxis(tr("cumulative rms (V)"), Qt::AlignRight);
+    m_yCumulative->setGridLineVisible(false);
+    m_yCumulative->setTitleBrush(cumulative.colour.darker(110));
+    m_yCumulative->setLabelsColor(cumulative.colour.darker(110));
     m_total = addLine(total.name, total.colour, total.style, m_x, m_y);
     m_input = addLine(input.name, input.colour, input.style, m_x, m_yInput);
+    m_cumulative
+        = addLine(cumulative.name, cumulative.colour, cumulative.style, m_x, m_yCumulative);
     m_bandEdge = addLine(tr("band"), QColor(0x77, 0x7d, 0x88), Qt::DotLine, m_x, m_y, false);
 
     QFont f = font();
@@ -156,6 +165,17 @@ NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
     m_valuesText->setFont(vf);
     m_valuesText->setZValue(22);
     m_valuesText->setVisible(false);
+    m_figures = new QGraphicsSimpleTextItem(chart());
+    QFont ff = m_figures->font();
+    ff.setPointSizeF(7.5);
+    m_figures->setFont(ff);
+    m_figures->setBrush(QColor(0x3a, 0x40, 0x4a));
+    m_figures->setZValue(12);
+    m_figures->setVisible(false);
+    // The figures line sits under the legend, in a margin of its own: never over the bands.
+    QMargins margins = chart()->margins();
+    margins.setBottom(margins.bottom() + int(std::ceil(QFontMetricsF(ff).height())) + 2);
+    chart()->setMargins(margins);
     connect(chart(), &QChart::plotAreaChanged, this, [this] { placeOverlays(); });
     enableOverlays(m_x);
 }
@@ -204,8 +224,8 @@ void NoisePanel::setBandCount(std::size_t count)
     if (!added)
         return;
     // Series paint in the order they were added: the curves go back on top of the bands.
-    for (QLineSeries *line : {m_bandEdge, m_total, m_input}) {
-        QAbstractAxis *y = line == m_input ? m_yInput : m_y;
+    for (QLineSeries *line : {m_bandEdge, m_total, m_input, m_cumulative}) {
+        QAbstractAxis *y = line == m_input ? m_yInput : line == m_cumulative ? m_yCumulative : m_y;
         chart()->removeSeries(line);
         line->setParent(this);
         chart()->addSeries(line);
@@ -277,6 +297,17 @@ void NoisePanel::draw(Pending in)
     drawBands(n, order, bottom, xLo, xHi);
     replaceThinned(m_total, total, xLo, xHi);
     replaceThinned(m_input, input, xLo, xHi);
+    QList<QPointF> cumulative;
+    for (std::size_t i = 0; i < n.cumulativeRms.size() && i < hz.size(); ++i)
+        if (std::isfinite(n.cumulativeRms[i]) && n.cumulativeRms[i] > 0)
+            cumulative.append(QPointF(std::log10(hz[i]), std::log10(n.cumulativeRms[i])));
+    double cLo = 0, cHi = 0;
+    m_yCumulative->setVisible(yRange({&cumulative}, &cLo, &cHi));
+    if (m_yCumulative->isVisible()) {
+        const double cTop = std::ceil(cHi + 0.05);
+        setDecadeRange(m_yCumulative, cTop - (top - bottom), cTop, {});
+    }
+    replaceThinned(m_cumulative, cumulative, xLo, xHi);
 
     QList<QPointF> edge;
     if (n.bandHighHz > 0 && n.bandHighHz < hz.back() * (1 - 1e-9)) {
@@ -297,6 +328,9 @@ void NoisePanel::showNoNoise(const Pending &in)
     setBandCount(0);
     replaceThinned(m_total, {}, in.xLo, in.xHi);
     replaceThinned(m_input, {}, in.xLo, in.xHi);
+    replaceThinned(m_cumulative, {}, in.xLo, in.xHi);
+    m_yCumulative->setVisible(false);
+    m_figures->setVisible(false);
     m_bandEdge->replace(QList<QPointF>{});
     m_bandEdgeAt = std::nan("");
     QString why = !in.noise ? in.problem : tr("no noise source reaches the output");
@@ -466,8 +500,46 @@ void NoisePanel::showSummary(const NoiseAnalysis &n,
     }
     setTitle(tr("%1 rms out, %2 rms in  ·  %3 (%4)%5")
                  .arg(out, inRms, noiseBandText(n), noiseBandKindText(n), lead));
+    m_figureLines = figureLines(n);
+    m_figures->setVisible(!m_figureLines.isEmpty());
     setToolTip(tr("rms: the output density integrated over the band on the circuit model\n%1")
                    .arg(toQString(n.bandMethod)));
+}
+
+QStringList NoisePanel::figureLines(const NoiseAnalysis &n) const
+{
+    const auto text = [](const std::optional<double> &v, const QString &unit, int digits = 3) {
+        return v && std::isfinite(*v) ? toQString(formatEngineering(*v, digits, toStdString(unit)))
+                                      : QStringLiteral("—");
+    };
+    QStringList lines;
+    lines << tr("spot at %1: %2 out, %3 in")
+                 .arg(toQString(formatEngineering(n.spot.atHz, 3, "Hz")),
+                      text(n.spot.outputDensity, m_units.output + QStringLiteral("/√Hz")),
+                      text(n.spot.inputDensity, m_units.input + QStringLiteral("/√Hz")));
+    if (n.snrDb)
+        lines << tr("SNR %1 dB (full scale %2 peak)")
+                     .arg(*n.snrDb, 0, 'f', 1)
+                     .arg(text(n.signalLevel, m_units.input));
+    if (n.outputPeak && n.slewRate)
+        lines << tr("output peak %1, slew rate %2")
+                     .arg(text(n.outputPeak, m_units.output),
+                          text(n.slewRate, m_units.output + QStringLiteral("/s")));
+    if (n.noiseFigureDb || n.spot.noiseFigureDb)
+        lines << tr("NF %1 dB over the band, %2 dB at the spot")
+                     .arg(n.noiseFigureDb ? QString::number(*n.noiseFigureDb, 'f', 2)
+                                          : QStringLiteral("—"),
+                          n.spot.noiseFigureDb ? QString::number(*n.spot.noiseFigureDb, 'f', 2)
+                                               : QStringLiteral("—"));
+    if (n.lowFrequency)
+        lines << tr("0.1–10 Hz: %1 peak-to-peak out")
+                     .arg(text(n.lowFrequency->outputPeakToPeak, m_units.output));
+    return lines;
+}
+
+QString NoisePanel::figuresText() const
+{
+    return m_figures->isVisible() ? m_figureLines.join(QStringLiteral("  ·  ")) : QString();
 }
 
 QStringList NoisePanel::bandNames() const
@@ -538,10 +610,12 @@ void NoisePanel::placeOverlays()
     const QRectF plot = chart()->plotArea();
     // Axis titles with their quantity where the plot is tall enough, else the unit alone
     // (the right axis keeps the input-referred curve's colour either way).
+    // Without an analysis there is no unit to state: the quantity alone.
+    const bool analysed = unavailableText().isEmpty();
     const auto title = [&](QCategoryAxis *axis, const QString &quantity, const QString &unit) {
         const QString full = tr("%1 (%2/√Hz)").arg(quantity, unit);
-        const QString text
-            = QFontMetricsF(axis->titleFont()).horizontalAdvance(full) + 8 < plot.height()
+        const QString text = !analysed || unit.isEmpty() ? quantity
+            : QFontMetricsF(axis->titleFont()).horizontalAdvance(full) + 8 < plot.height()
             ? full
             : tr("%1/√Hz").arg(unit);
         if (axis->titleText() != text)
@@ -549,6 +623,26 @@ void NoisePanel::placeOverlays()
     };
     title(m_y, tr("output"), m_units.output);
     title(m_yInput, tr("input"), m_units.input);
+    const QString cumulativeTitle = tr("cumulative rms (%1)").arg(m_units.output);
+    if (m_yCumulative->titleText() != cumulativeTitle)
+        m_yCumulative->setTitleText(cumulativeTitle);
+    if (m_figures->isVisible()) {
+        // As many of the figures as fit the width, most important first, at the bottom.
+        const QFontMetricsF metrics(m_figures->font());
+        // left-aligned, clear of the "Overlay candidates" button at the bottom right
+        const double room = chart()->size().width() - 150;
+        QString text;
+        for (const QString &line : m_figureLines) {
+            const QString longer = text.isEmpty() ? line : text + QStringLiteral("  ·  ") + line;
+            if (!text.isEmpty() && metrics.horizontalAdvance(longer) > room)
+                break;
+            text = longer;
+        }
+        if (m_figures->text() != text)
+            m_figures->setText(text);
+        m_figures->setToolTip(m_figureLines.join(QLatin1Char('\n')));
+        m_figures->setPos(8.0, chart()->size().height() - metrics.height() - 3);
+    }
     if (m_problem->isVisible()) {
         m_problem->setTextWidth(std::max(120.0, plot.width() - 40));
         QTextOption option = m_problem->document()->defaultTextOption();

@@ -55,6 +55,7 @@ public:
     // Legend names, from the one curve table (support/plotstyle.h).
     static inline const QString kTotal = curveName(PlotCurve::NoiseOutput);
     static inline const QString kInput = curveName(PlotCurve::NoiseInput);
+    static inline const QString kCumulative = curveName(PlotCurve::NoiseCumulative);
 
     /// Source names of the stacked bands, bottom of the stack first.
     QStringList bandNames() const;
@@ -66,6 +67,12 @@ public:
     QString valuesText() const;
     /// The summary line above the plot.
     QString summaryText() const { return summary(); }
+    /// The figures line under the legend: spot noise, SNR, output peak and slew rate, noise
+    /// figure, 0.1-10 Hz peak-to-peak (all of them, joined; the line shows as many as fit;
+    /// empty while there is no noise plot).
+    QString figuresText() const;
+    /// The cumulative output rms curve (right-hand axis).
+    QLineSeries *cumulativeSeries() const { return m_cumulative; }
 
 protected:
     std::vector<OverlayLine> overlayLines(const Analysis &analysis) const override;
@@ -105,8 +112,13 @@ private:
     void setBandCount(std::size_t count);
     void placeOverlays();
 
-    QCategoryAxis *m_x, *m_y, *m_yInput;
-    QLineSeries *m_total, *m_input, *m_bandEdge;
+    /// The figures box's lines for `n`.
+    QStringList figureLines(const NoiseAnalysis &n) const;
+
+    QCategoryAxis *m_x, *m_y, *m_yInput, *m_yCumulative;
+    QLineSeries *m_total, *m_input, *m_bandEdge, *m_cumulative;
+    QGraphicsSimpleTextItem *m_figures = nullptr;
+    QStringList m_figureLines; ///< what figuresText() says, most important first
     struct Band
     {
         QAreaSeries *area = nullptr;

@@ -128,21 +128,11 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     const Specs &specs = design.specs;
     // Core's spec check, the one the sheet, the Candidates panel and the spread yield use.
     const SpecCheck check = checkSpecs(specs, design.sweep, trialMetricsOf(a));
-    if (a.stable) {
-        m_banner->hide();
-        m_banner->clear();
-    } else {
-        const QString poles = unstablePolesText(a, 1);
-        m_banner->setText(
-            QStringLiteral("<b style=\"font-size: 11pt\">UNSTABLE</b><br>")
-            + (a.rhpPoles == 1 ? tr("1 RHP pole: %1") : tr("%1 RHP poles: %2").arg(a.rhpPoles))
-                  .arg(poles.toHtmlEscaped()));
-        m_banner->setToolTip(toQString(a.closedLoopReason) + QStringLiteral("\n")
-                             + unstablePolesText(a, 20));
-        m_banner->show();
-    }
-    const QString unstable = tr("— (unstable)");
-    const QString unstableTip = tr("no closed-loop value: the loop is unstable");
+    showStability(a);
+    const QString unstable = a.stabilityKnown ? tr("— (unstable)") : tr("— (stability unknown)");
+    const QString unstableTip = a.stabilityKnown
+        ? tr("no closed-loop value: the loop is unstable")
+        : tr("no closed-loop value: the loop's stability is unknown");
 
     // Closed-loop gain (exact), checked against the spec window.
     int gainVerdict = kNoVerdict;
@@ -202,12 +192,9 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     QString pmSpec;
     if (specs.phaseMarginMinDeg) {
         pmVerdict = check.phaseMargin ? kPass : kFail;
-        pmSpec = tr("spec ≥ %1°").arg(toQString(formatEngineering(*specs.phaseMarginMinDeg, 3)));
+        pmSpec = tr("spec ≥ %1").arg(degrees(specs.phaseMarginMinDeg));
     }
-    setCell(6, tr("phase margin"),
-            a.margins.phaseMarginDeg
-                ? toQString(formatEngineering(*a.margins.phaseMarginDeg, 3)) + QStringLiteral("°")
-                : QStringLiteral("—"),
+    setCell(6, tr("phase margin"), degrees(a.margins.phaseMarginDeg),
             pmSpec
                 + (a.margins.crossoverHz
                        ? tr("  crossover %1").arg(engineering(a.margins.crossoverHz, "Hz"))
@@ -220,14 +207,45 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                     : QString());
     else
         setCell(7, tr("peaking"), unstable, unstableTip);
+    showSpecVerdicts(a);
+    showNoise(a, specs, check);
+    showWarnings(a);
+}
 
+void Readout::showStability(const Analysis &a)
+{
+    if (a.stable) {
+        m_banner->hide();
+        m_banner->clear();
+    } else if (!a.stabilityKnown) {
+        m_banner->setText(QStringLiteral("<b style=\"font-size: 11pt\">STABILITY UNKNOWN</b><br>")
+                          + toQString(a.closedLoopReason).toHtmlEscaped());
+        m_banner->setToolTip(toQString(a.closedLoopReason));
+        m_banner->show();
+    } else {
+        const QString poles = unstablePolesText(a, 1);
+        m_banner->setText(
+            QStringLiteral("<b style=\"font-size: 11pt\">UNSTABLE</b><br>")
+            + (a.rhpPoles == 1 ? tr("1 RHP pole: %1") : tr("%1 RHP poles: %2").arg(a.rhpPoles))
+                  .arg(poles.toHtmlEscaped()));
+        m_banner->setToolTip(toQString(a.closedLoopReason) + QStringLiteral("\n")
+                             + unstablePolesText(a, 20));
+        m_banner->show();
+    }
+}
+
+void Readout::showSpecVerdicts(const Analysis &a)
+{
     // The failing specs by name, their reasons in the tooltip (core's specVerdicts(), the
     // same verdicts as checkSpecs(): an unstable loop fails every spec, reason "unstable").
     if (!a.stable) {
         const std::string failing = failingSpecLabels(a.specs);
         setCell(8, tr("specs"),
-                failing.empty() ? tr("fail: unstable")
-                                : tr("fails: %1 (unstable)").arg(toQString(failing)),
+                failing.empty()
+                    ? (a.stabilityKnown ? tr("fail: unstable") : tr("fail: stability unknown"))
+                    : (a.stabilityKnown ? tr("fails: %1 (unstable)")
+                                        : tr("fails: %1 (stability unknown)"))
+                          .arg(toQString(failing)),
                 toQString(a.closedLoopReason), kFail);
     } else if (a.specs.empty()) {
         setCell(8, tr("specs"), tr("none set"));
@@ -243,7 +261,14 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
         else
             setCell(8, tr("specs"), tr("fails: %1").arg(toQString(failing)), reasons, kFail);
     }
+}
 
+void Readout::showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check)
+{
+    const QString unstable = a.stabilityKnown ? tr("— (unstable)") : tr("— (stability unknown)");
+    const QString unstableTip = a.stabilityKnown
+        ? tr("no closed-loop value: the loop is unstable")
+        : tr("no closed-loop value: the loop's stability is unknown");
     // Integrated noise over core's band, referred to the output and to the input.
     if (a.noise && (a.noise->outputRms || a.noise->inputRms)) {
         const NoiseAnalysis &n = *a.noise;
@@ -253,18 +278,44 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
                                           : QStringLiteral("—");
         };
         // Short title and value: the strip sets the window's minimum width (under 1280 px).
-        setCell(9, tr("rms noise, %1").arg(noiseBandText(n)),
-                rms(n.outputRms, u.output) + QStringLiteral(" / ") + rms(n.inputRms, u.input),
-                tr("integrated noise: at the output / referred to the input, at %1 K\nband: %2")
-                    .arg(n.temperatureK, 0, 'f', 2)
-                    .arg(toQString(n.bandMethod)));
+        QString value
+            = rms(n.outputRms, u.output) + QStringLiteral(" / ") + rms(n.inputRms, u.input);
+        if (n.snrDb)
+            value += tr(", SNR %1 dB").arg(*n.snrDb, 0, 'f', 1);
+        QString tip
+            = tr("integrated noise: at the output / referred to the input, at %1 K\nband: %2")
+                  .arg(n.temperatureK, 0, 'f', 2)
+                  .arg(toQString(n.bandMethod));
+        tip += tr("\nspot noise at %1: %2 / %3")
+                   .arg(toQString(formatEngineering(n.spot.atHz, 4, "Hz")),
+                        rms(n.spot.outputDensity, u.output + QStringLiteral("/√Hz")),
+                        rms(n.spot.inputDensity, u.input + QStringLiteral("/√Hz")));
+        if (n.snrDb && n.signalLevel)
+            tip += tr("\nSNR of a full-scale sine of %1 peak: %2 dB")
+                       .arg(rms(n.signalLevel, u.input))
+                       .arg(*n.snrDb, 0, 'f', 2);
+        if (n.outputPeak && n.slewRate)
+            tip += tr("\noutput peak %1, slew rate needed %2")
+                       .arg(rms(n.outputPeak, u.output),
+                            rms(n.slewRate, u.output + QStringLiteral("/s")));
+        if (n.noiseFigureDb)
+            tip += tr("\nnoise figure %1 dB over the band (IEEE, T0 = 290 K)")
+                       .arg(*n.noiseFigureDb, 0, 'f', 2);
+        const bool noiseSpec = specs.outputNoiseMax || specs.snrMinDb;
+        setCell(9, tr("rms noise, %1").arg(noiseBandText(n)), value, tip,
+                !noiseSpec                           ? kNoVerdict
+                    : check.outputNoise && check.snr ? kPass
+                                                     : kFail);
     } else {
         setCell(9, tr("rms noise"), a.stable ? QStringLiteral("—") : unstable,
                 !a.stable     ? unstableTip
                     : a.noise ? tr("no integrated noise: the gain is zero within the sweep")
                               : toQString(a.noiseProblem));
     }
+}
 
+void Readout::showWarnings(const Analysis &a)
+{
     // Numbers whose accuracy the solver could not assure, or values no real part has.
     if (a.warnings.empty()) {
         m_warnings->hide();

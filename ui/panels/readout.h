@@ -4,6 +4,7 @@
 // core's Analysis in engineering notation with its unit.
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/trialmetrics.h"
 
 #include <QWidget>
 
@@ -42,6 +43,12 @@ private:
     Cell &cell(int index);
     void setCell(int index, const QString &title, const QString &value, const QString &tooltip = {},
                  int verdict = 0);
+    // The steps of showAnalysis(): the banner, the spec verdicts' cell, the noise cell and
+    // the warnings line.
+    void showStability(const Analysis &a);
+    void showSpecVerdicts(const Analysis &a);
+    void showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check);
+    void showWarnings(const Analysis &a);
 
     std::vector<Cell> m_cells;
     QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns

@@ -56,11 +56,6 @@ QString valueText(const Part *p, double v)
     return eng;
 }
 
-QString degrees(const OptionalNumber &v)
-{
-    return v && std::isfinite(*v) ? QString::number(*v, 'f', 1) + QStringLiteral("°") : kDash;
-}
-
 } // namespace
 
 struct SuggestDialog::Delivery
@@ -423,6 +418,13 @@ void SuggestDialog::deliver(const std::shared_ptr<Delivery> &delivery)
     const bool unmet = !r.targetsMet;
     if (unmet)
         text += QStringLiteral(" ") + toQString(r.unmet) + QStringLiteral(".");
+    else if (!r.worstCaseMet)
+        text += QStringLiteral(" ")
+            + tr("No row meets every spec at the worst case over the tolerances.");
+    text += QStringLiteral(" ")
+        + tr("Ranked by specs met at the worst case, then yield, then %1, then closeness to the "
+             "current values.")
+              .arg(r.noiseObjective ? tr("output noise") : tr("gain error"));
     setStatus(text, unmet);
     showResult();
     emit searchFinished();
@@ -438,7 +440,7 @@ void SuggestDialog::showResult()
             headers << toQString(range.part);
     }
     headers << tr("gain") << tr("gain error") << tr("bandwidth") << tr("phase margin")
-            << tr("specs") << QString();
+            << tr("output noise") << tr("specs") << tr("worst case") << tr("yield") << QString();
     m_table->setColumnCount(int(headers.size()));
     m_table->setHorizontalHeaderLabels(headers);
     m_table->setRowCount(r ? int(r->suggestions.size()) : 0);
@@ -470,6 +472,10 @@ void SuggestDialog::showResult()
                     ? toQString(formatEngineering(*s.metrics.bandwidthHz, 3, "Hz"))
                     : tr("above the sweep"));
         setCell(row, col++, degrees(s.metrics.phaseMarginDeg));
+        setCell(row, col++,
+                s.metrics.outputNoiseRms ? toQString(formatEngineering(
+                    *s.metrics.outputNoiseRms, 3, m_resultUnit.substr(0, m_resultUnit.find('/'))))
+                                         : kDash);
         QStringList missed;
         if (!s.specs.gain)
             missed << tr("gain");
@@ -477,9 +483,26 @@ void SuggestDialog::showResult()
             missed << tr("bandwidth");
         if (!s.specs.phaseMargin)
             missed << tr("margin");
+        if (!s.specs.outputNoise)
+            missed << tr("noise");
+        if (!s.specs.snr)
+            missed << tr("SNR");
         setCell(row, col++,
                 s.meetsSpecs ? tr("pass") : tr("fail: %1").arg(missed.join(QStringLiteral(", "))),
                 Qt::AlignLeft | Qt::AlignVCenter, s.meetsSpecs ? kPass : kFail);
+        // Over the tolerance box (core's worstCase() on this row) and its Monte Carlo yield.
+        setCell(row, col++,
+                s.worstCasePass    ? tr("pass")
+                    : s.meetsSpecs ? tr("nominal only")
+                                   : tr("fail"),
+                Qt::AlignLeft | Qt::AlignVCenter, s.worstCasePass ? kPass : kFail);
+        setCell(row, col++,
+                QString::number(100.0 * s.yield, 'f', 1) + QStringLiteral(" %")
+                    + (s.toleranced ? QString() : tr(" (no tolerances)")));
+        m_table->item(row, col - 1)
+            ->setToolTip(tr("%1 Monte Carlo trials, uniform over the tolerances, seed %2")
+                             .arg(r->yieldTrials)
+                             .arg(r->seed));
         auto *apply = new QPushButton(tr("Apply"), m_table);
         apply->setObjectName(QStringLiteral("ApplySuggestion%1").arg(row));
         apply->setToolTip(tr("Set these values in the design (one undo step)"));

@@ -39,7 +39,16 @@ void titleBlock(SheetWriter &w, const Design &d, const Analysis &a, const QStrin
 {
     w.paragraph(d.title.empty() ? QStringLiteral("Untitled design") : q(d.title),
                 sheetFont(15, true));
-    if (!a.stable) {
+    if (!a.stable && !a.stabilityKnown) {
+        // First thing on the sheet: no verdict on stability, and why.
+        w.advance(1);
+        w.paragraph(QStringLiteral("STABILITY UNKNOWN"), sheetFont(14, true), 0, kFail);
+        w.paragraph(q(a.closedLoopReason)
+                        + QStringLiteral(". Bandwidth, peaking, step response and noise rms are "
+                                         "not given; every spec fails."),
+                    sheetFont(kBodyPt, true), 0, kFail);
+        w.advance(1);
+    } else if (!a.stable) {
         // First thing on the sheet: the loop does not work, and why.
         w.advance(1);
         w.paragraph(QStringLiteral("UNSTABLE"), sheetFont(14, true), 0, kFail);
@@ -143,9 +152,9 @@ void partsSection(SheetWriter &w, const Design &d)
         }
     }
     w.table({{QStringLiteral("Part"), 19},
-             {QStringLiteral("Field"), 22},
-             {QStringLiteral("Quantity"), 46},
-             {QStringLiteral("Value"), 41, Qt::AlignRight},
+             {QStringLiteral("Field"), 33}, // "r_parallel_tolerance" whole
+             {QStringLiteral("Quantity"), 41},
+             {QStringLiteral("Value"), 34, Qt::AlignRight},
              {QStringLiteral("RKM"), 11, Qt::AlignRight},
              {QStringLiteral("Note"), 41}},
             rows);
@@ -324,6 +333,22 @@ void noiseSection(SheetWriter &w, const Analysis &a)
                          eng(n.bandHighHz, "Hz"), QString::number(n.temperatureK, 'f', 2),
                          QString::number(n.temperatureK - 273.15, 'g', 5)),
                 f);
+    QString figures = QStringLiteral("Spot noise at %1: %2 at the output, %3 input-referred.")
+                          .arg(eng(n.spot.atHz, "Hz"), eng(n.spot.outputDensity, out + "/√Hz"),
+                               eng(n.spot.inputDensity, in + "/√Hz"));
+    if (n.snrDb && n.signalLevel)
+        figures += QStringLiteral(" SNR %1 dB for a full-scale sine of %2 peak; output peak %3, "
+                                  "slew rate needed %4 at %5.")
+                       .arg(QString::number(*n.snrDb, 'f', 1), eng(n.signalLevel, in),
+                            eng(n.outputPeak, out), eng(n.slewRate, out + "/s"),
+                            eng(n.bandHighHz, "Hz"));
+    if (n.noiseFigureDb)
+        figures += QStringLiteral(" Noise figure %1 dB over the band (IEEE, T0 = 290 K).")
+                       .arg(QString::number(*n.noiseFigureDb, 'f', 2));
+    if (n.lowFrequency)
+        figures += QStringLiteral(" 0.1–10 Hz: %1 peak-to-peak at the output (6.6 × rms).")
+                       .arg(eng(n.lowFrequency->outputPeakToPeak, out));
+    w.paragraph(figures, f);
     QString method = QStringLiteral("Band (%1): %2.").arg(noiseBandKindText(n), q(n.bandMethod));
     if (n.brickWall && n.brickWall->outputRms)
         method += QStringLiteral(" Brick-wall equivalent for comparison: %1 rms (input-referred "

@@ -28,13 +28,6 @@ QString eng(const OptionalNumber &v, std::string_view unit, int digits)
     return q(formatEngineering(*v, digits, unit));
 }
 
-QString degrees(const OptionalNumber &v)
-{
-    if (!v)
-        return QStringLiteral("—");
-    return q(formatEngineering(*v, 3)) + QStringLiteral("°");
-}
-
 QString decibels(const OptionalNumber &v)
 {
     if (!v)

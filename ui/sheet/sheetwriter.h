@@ -38,7 +38,6 @@ QFont sheetFont(double pt, bool bold = false);
 QString q(const std::string &s);
 /// Engineering notation with the unit; "—" where absent, "∞" where infinite.
 QString eng(const OptionalNumber &v, std::string_view unit, int digits = 4);
-QString degrees(const OptionalNumber &v);
 QString decibels(const OptionalNumber &v);
 QString percent(const OptionalNumber &v);
 

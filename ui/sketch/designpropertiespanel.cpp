@@ -144,6 +144,14 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
              "sweep start"});
     addEdit({"noise_band_high", "noise band to (Hz)",
              "Upper end of the band the output noise rms is integrated over.", "until settled"});
+    addEdit({"noise_spot_hz", "spot noise at (Hz)",
+             "Frequency of the spot noise densities (output and input-referred) and the spot "
+             "noise figure. Empty: 1 kHz.",
+             "1 kHz"});
+    addEdit({"signal_level", "full-scale signal (peak, V or A)",
+             "Peak of a full-scale sine at the signal source: the signal of the SNR, the output "
+             "peak and the slew rate it needs. Empty: no SNR.",
+             "—"});
 
     auto *specsTitle = new QLabel(tr("<b>Specs</b> (empty: not checked)"), this);
     form->addRow(specsTitle);
@@ -153,6 +161,14 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
              "Least acceptable closed-loop -3 dB bandwidth.", "—"});
     addEdit({"phase_margin_min_deg", "phase margin, least (°)",
              "Least acceptable phase margin of the loop, in degrees.", "—"});
+    addEdit({"output_noise_max", "output noise, most (rms)",
+             "Largest acceptable output noise rms over the noise band (V, or A for a current "
+             "output).",
+             "—"});
+    addEdit({"snr_min_db", "SNR, least (dB)",
+             "Least acceptable signal-to-noise ratio of the full-scale sine over the noise band, "
+             "in dB. Needs the full-scale signal.",
+             "—"});
     outer->addStretch(1);
 
     connect(m_document, &DesignDocument::designReset, this, &DesignPropertiesPanel::refresh);
@@ -197,6 +213,10 @@ void DesignPropertiesPanel::refresh()
     set("bandwidth_min", valueText(d.specs.bandwidthMin));
     set("phase_margin_min_deg",
         d.specs.phaseMarginMinDeg ? QString::number(*d.specs.phaseMarginMinDeg) : QString());
+    set("noise_spot_hz", valueText(d.noiseSpotHz));
+    set("signal_level", valueText(d.signalLevel));
+    set("output_noise_max", valueText(d.specs.outputNoiseMax));
+    set("snr_min_db", d.specs.snrMinDb ? QString::number(*d.specs.snrMinDb) : QString());
     m_output->setCurrentIndex(d.output == OutputKind::Current ? 1 : 0);
 
     m_input->clear();
@@ -277,62 +297,14 @@ void DesignPropertiesPanel::commit(const std::string &key)
         }
         label = tr("Sweep");
     } else if (key == "temperature") {
-        if (text.empty()) {
-            after.temperature.reset();
-        } else {
-            // The loader's own reading of the text, so what is stored is what a file holds.
-            QJsonObject probe{
-                {"schema",
-                 QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
-                {"parts", QJsonArray()},
-                {"input", QString()},
-                {"output", QStringLiteral("voltage")},
-                {"temperature", raw}};
-            auto parsed
-                = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
-            if (!parsed) {
-                Diagnostic d = parsed.diagnostics().front();
-                showError(key, toQString(d.toString()));
-                return;
-            }
-            after.temperature = parsed->temperature;
-        }
+        if (!readTemperature(raw, after))
+            return;
         label = tr("Temperature");
     } else if (key == "noise_band_low" || key == "noise_band_high") {
-        const bool low = key == "noise_band_low";
-        const QString other
-            = m_edits.at(low ? "noise_band_high" : "noise_band_low")->text().trimmed();
         std::optional<Value> v;
-        if (!parse(ValueKind::Frequency, ValueRange::Positive, &v, true))
+        if (!parse(ValueKind::Frequency, ValueRange::Positive, &v, true)
+            || !readNoiseBand(key, v, after))
             return;
-        if (!v && other.isEmpty()) {
-            after.noiseBand.reset();
-        } else if (!v || other.isEmpty()) {
-            showError(key,
-                      tr("%1: give both ends of the noise band, or neither")
-                          .arg(QString::fromStdString(key)));
-            return;
-        } else {
-            std::optional<Value> o;
-            auto parsed
-                = parseValue(toStdString(other), ValueKind::Frequency, ValueRange::Positive);
-            if (!parsed) {
-                showError(key,
-                          tr("%1: the other end is not a frequency yet")
-                              .arg(QString::fromStdString(key)));
-                return;
-            }
-            o = Value{*parsed, toStdString(other)};
-            NoiseBand band{low ? *v : *o, low ? *o : *v};
-            if (!(band.low.si < band.high.si)) {
-                showError(key,
-                          tr("%1: the band must start below where it ends")
-                              .arg(QString::fromStdString(key)));
-                return;
-            }
-            after.noiseBand = band;
-        }
-        showError(low ? "noise_band_high" : "noise_band_low", QString());
         label = tr("Noise band");
     } else if (key == "gain_min" || key == "gain_max") {
         if (!parse(ValueKind::Gain, ValueRange::Any,
@@ -362,9 +334,120 @@ void DesignPropertiesPanel::commit(const std::string &key)
         }
         after.specs.phaseMarginMinDeg = v ? std::optional<double>(v->si) : std::nullopt;
         label = tr("Phase margin spec");
+    } else if (key == "noise_spot_hz") {
+        if (!parse(ValueKind::Frequency, ValueRange::Positive, &after.noiseSpotHz, true))
+            return;
+        label = tr("Spot noise frequency");
+    } else if (key == "signal_level" || key == "output_noise_max") {
+        // A voltage or a current: the loader's own reading of the text.
+        std::optional<Value> v;
+        if (!text.empty()) {
+            QJsonObject probe{
+                {"schema",
+                 QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
+                {"parts", QJsonArray()},
+                {"input", QString()},
+                {"output", QStringLiteral("voltage")}};
+            if (key == "signal_level")
+                probe.insert(QStringLiteral("signal_level"), raw);
+            else
+                probe.insert(QStringLiteral("specs"),
+                             QJsonObject{{QStringLiteral("output_noise_max"), raw}});
+            auto parsed
+                = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
+            if (!parsed) {
+                Diagnostic d = parsed.diagnostics().front();
+                d.field = key;
+                showError(key, toQString(d.toString()));
+                return;
+            }
+            v = key == "signal_level" ? parsed->signalLevel : parsed->specs.outputNoiseMax;
+        }
+        if (key == "signal_level") {
+            if (!v && after.specs.snrMinDb) {
+                showError(key,
+                          tr("%1: the SNR spec needs the full-scale signal; clear it first")
+                              .arg(QString::fromStdString(key)));
+                return;
+            }
+            after.signalLevel = v;
+            label = tr("Full-scale signal");
+        } else {
+            after.specs.outputNoiseMax = v;
+            label = tr("Output noise spec");
+        }
+    } else if (key == "snr_min_db") {
+        std::optional<Value> v;
+        if (!parse(ValueKind::Plain, ValueRange::Any, &v, true))
+            return;
+        if (v && !after.signalLevel) {
+            showError(key,
+                      tr("%1: give the full-scale signal first").arg(QString::fromStdString(key)));
+            return;
+        }
+        after.specs.snrMinDb = v ? std::optional<double>(v->si) : std::nullopt;
+        label = tr("SNR spec");
     }
     showError(key, QString());
     m_document->setProperties(after, label);
+}
+
+bool DesignPropertiesPanel::readTemperature(const QString &raw, Design &after)
+{
+    if (raw.isEmpty()) {
+        after.temperature.reset();
+        return true;
+    }
+    // The loader's own reading of the text, so what is stored is what a file holds.
+    QJsonObject probe{
+        {"schema", QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
+        {"parts", QJsonArray()},
+        {"input", QString()},
+        {"output", QStringLiteral("voltage")},
+        {"temperature", raw}};
+    auto parsed = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
+    if (!parsed) {
+        Diagnostic d = parsed.diagnostics().front();
+        showError("temperature", toQString(d.toString()));
+        return false;
+    }
+    after.temperature = parsed->temperature;
+    return true;
+}
+
+bool DesignPropertiesPanel::readNoiseBand(const std::string &key, const std::optional<Value> &end,
+                                          Design &after)
+{
+    const bool low = key == "noise_band_low";
+    const QString other = m_edits.at(low ? "noise_band_high" : "noise_band_low")->text().trimmed();
+    if (!end && other.isEmpty()) {
+        after.noiseBand.reset();
+    } else if (!end || other.isEmpty()) {
+        showError(key,
+                  tr("%1: give both ends of the noise band, or neither")
+                      .arg(QString::fromStdString(key)));
+        return false;
+    } else {
+        std::optional<Value> o;
+        auto parsed = parseValue(toStdString(other), ValueKind::Frequency, ValueRange::Positive);
+        if (!parsed) {
+            showError(
+                key,
+                tr("%1: the other end is not a frequency yet").arg(QString::fromStdString(key)));
+            return false;
+        }
+        o = Value{*parsed, toStdString(other)};
+        NoiseBand band{low ? *end : *o, low ? *o : *end};
+        if (!(band.low.si < band.high.si)) {
+            showError(
+                key,
+                tr("%1: the band must start below where it ends").arg(QString::fromStdString(key)));
+            return false;
+        }
+        after.noiseBand = band;
+    }
+    showError(low ? "noise_band_high" : "noise_band_low", QString());
+    return true;
 }
 
 void DesignPropertiesPanel::commitNotes()

@@ -1,7 +1,8 @@
 #pragma once
 
 // Design properties: what belongs to the whole design rather than to one part (title,
-// notes, the signal source, the output, the sweep, the temperature and the specs). Every
+// notes, the signal source, the output, the sweep, the temperature, the noise band, spot
+// frequency and full-scale signal, and the specs). Every
 // change is one undoable step; text is parsed by core and invalid text is marked red with
 // the reason, leaving the design as it was (the Inspector's rule).
 
@@ -9,6 +10,7 @@
 #include <QWidget>
 
 #include <map>
+#include <optional>
 #include <string>
 
 class QComboBox;
@@ -19,7 +21,8 @@ class QSpinBox;
 
 namespace loopsketch {
 struct Design;
-}
+struct Value;
+} // namespace loopsketch
 
 namespace loopsketch::ui {
 
@@ -37,7 +40,8 @@ public:
 
     /// The editor of a property: "title", "sweep_start", "sweep_stop", "temperature",
     /// "noise_band_low", "noise_band_high",
-    /// "gain_min", "gain_max", "bandwidth_min", "phase_margin_min_deg"; nullptr otherwise.
+    /// "gain_min", "gain_max", "bandwidth_min", "phase_margin_min_deg", "noise_spot_hz",
+    /// "signal_level", "output_noise_max", "snr_min_db"; nullptr otherwise.
     QLineEdit *edit(const std::string &key) const;
     QPlainTextEdit *notesEdit() const { return m_notes; }
     QComboBox *inputChooser() const { return m_input; }
@@ -51,6 +55,10 @@ protected:
 
 private:
     void commit(const std::string &key);
+    // Steps of commit() for the fields read together with another: each writes `after` and
+    // returns true, or shows the error and returns false.
+    bool readTemperature(const QString &raw, Design &after);
+    bool readNoiseBand(const std::string &key, const std::optional<Value> &end, Design &after);
     void commitNotes();
     void showError(const std::string &key, const QString &message);
 

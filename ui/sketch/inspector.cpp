@@ -208,80 +208,84 @@ void Inspector::showPart(const std::string &partId)
         m_errors[field] = error;
         connect(edit, &QLineEdit::editingFinished, this, [this, field] { commitField(field); });
     }
-    if (!part->primaryField().empty()) {
-        m_series = new QComboBox(m_form);
-        m_series->addItem(tr("none (E24 for stepping)"));
-        for (ESeries s : allESeries())
-            m_series->addItem(toQString(toString(s)));
-        m_series->setCurrentIndex(part->series ? int(*part->series) + 1 : 0);
-        form->addRow(tr("series"), m_series);
-        connect(m_series, &QComboBox::activated, this, [this](int index) {
-            std::optional<ESeries> s;
-            if (index > 0)
-                s = allESeries()[std::size_t(index - 1)];
-            m_document->setSeries(m_partId, s);
-        });
-
-        m_tolerance = new QComboBox(m_form);
-        m_tolerance->setEditable(true);
-        m_tolerance->addItems({QString(), QStringLiteral("0.1%"), QStringLiteral("0.5%"),
-                               QStringLiteral("1%"), QStringLiteral("2%"), QStringLiteral("5%"),
-                               QStringLiteral("10%"), QStringLiteral("20%")});
-        m_tolerance->setCurrentText(part->tolerance ? toQString(part->tolerance->text) : QString());
-        m_toleranceError = addRowWithError(form, tr("tolerance"), m_tolerance);
-        connect(m_tolerance, &QComboBox::activated, this, [this](int) { commitTolerance(); });
-        connect(m_tolerance->lineEdit(), &QLineEdit::editingFinished, this,
-                [this] { commitTolerance(); });
-    }
-    if (part->type == PartType::GainBlock) {
-        for (const char *list : {"poles_hz", "zeros_hz"}) {
-            const std::vector<Value> &values
-                = std::string(list) == "poles_hz" ? part->polesHz : part->zerosHz;
-            QStringList texts;
-            for (const Value &v : values)
-                texts << (v.text.empty() ? toQString(formatEngineering(v.si, 4))
-                                         : toQString(v.text));
-            auto *edit = new QLineEdit(texts.join(QStringLiteral(", ")), m_form);
-            edit->setPlaceholderText(tr("none"));
-            const bool poles = std::string(list) == "poles_hz";
-            edit->setToolTip(
-                tr("%1 of the open-loop gain: frequencies in Hz, separated by "
-                   "commas (file key \"%2\")")
-                    .arg(poles ? tr("Poles") : tr("Zeros"), QString::fromLatin1(list)));
-            QLabel *error
-                = addRowWithError(form, poles ? tr("poles (Hz)") : tr("zeros (Hz)"), edit);
-            m_edits[list] = edit;
-            m_errors[list] = error;
-            const std::string name(list);
-            connect(edit, &QLineEdit::editingFinished, this, [this, name] {
-                QLineEdit *e = fieldEdit(name);
-                QString message;
-                const bool ok
-                    = m_document->setFrequencyListText(m_partId, name, e->text(), &message);
-                markError(e, m_errors[name], ok ? QString() : message);
-            });
-        }
-        m_presets = new QComboBox(m_form);
-        m_presets->addItem(tr("custom"));
-        m_presets->addItems(DesignDocument::gainBlockPresets());
-        m_presets->setToolTip(tr("Generic gain blocks with round numbers; no real device is "
-                                 "modelled. \"custom\": the values are the block's own."));
-        m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
-        form->addRow(tr("preset"), m_presets);
-        connect(m_presets, &QComboBox::activated, this, [this](int index) {
-            if (index > 0)
-                m_document->applyGainBlockPreset(m_partId, index - 1);
-            m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
-        });
-        auto *hint = new QLabel(tr("Gain in V/V or dB (\"110dB\"); the gain-bandwidth sets the "
-                                   "first pole at gain-bandwidth / gain, and the poles listed "
-                                   "come after it."),
-                                m_form);
-        hint->setWordWrap(true);
-        hint->setStyleSheet(QStringLiteral("color: #5a6270; font-size: 8pt;"));
-        form->addRow(hint);
-    }
+    if (!part->primaryField().empty())
+        addSeriesRows(form, *part);
+    if (part->type == PartType::GainBlock)
+        addGainBlockRows(form, *part);
     static_cast<QVBoxLayout *>(layout())->insertWidget(1, m_form);
+}
+
+void Inspector::addSeriesRows(QFormLayout *form, const Part &part)
+{
+    m_series = new QComboBox(m_form);
+    m_series->addItem(tr("none (E24 for stepping)"));
+    for (ESeries s : allESeries())
+        m_series->addItem(toQString(toString(s)));
+    m_series->setCurrentIndex(part.series ? int(*part.series) + 1 : 0);
+    form->addRow(tr("series"), m_series);
+    connect(m_series, &QComboBox::activated, this, [this](int index) {
+        std::optional<ESeries> s;
+        if (index > 0)
+            s = allESeries()[std::size_t(index - 1)];
+        m_document->setSeries(m_partId, s);
+    });
+
+    m_tolerance = new QComboBox(m_form);
+    m_tolerance->setEditable(true);
+    m_tolerance->addItems({QString(), QStringLiteral("0.1%"), QStringLiteral("0.5%"),
+                           QStringLiteral("1%"), QStringLiteral("2%"), QStringLiteral("5%"),
+                           QStringLiteral("10%"), QStringLiteral("20%")});
+    m_tolerance->setCurrentText(part.tolerance ? toQString(part.tolerance->text) : QString());
+    m_toleranceError = addRowWithError(form, tr("tolerance"), m_tolerance);
+    connect(m_tolerance, &QComboBox::activated, this, [this](int) { commitTolerance(); });
+    connect(m_tolerance->lineEdit(), &QLineEdit::editingFinished, this,
+            [this] { commitTolerance(); });
+}
+
+void Inspector::addGainBlockRows(QFormLayout *form, const Part &part)
+{
+    for (const char *list : {"poles_hz", "zeros_hz"}) {
+        const std::vector<Value> &values
+            = std::string(list) == "poles_hz" ? part.polesHz : part.zerosHz;
+        QStringList texts;
+        for (const Value &v : values)
+            texts << (v.text.empty() ? toQString(formatEngineering(v.si, 4)) : toQString(v.text));
+        auto *edit = new QLineEdit(texts.join(QStringLiteral(", ")), m_form);
+        edit->setPlaceholderText(tr("none"));
+        const bool poles = std::string(list) == "poles_hz";
+        edit->setToolTip(tr("%1 of the open-loop gain: frequencies in Hz, separated by "
+                            "commas (file key \"%2\")")
+                             .arg(poles ? tr("Poles") : tr("Zeros"), QString::fromLatin1(list)));
+        QLabel *error = addRowWithError(form, poles ? tr("poles (Hz)") : tr("zeros (Hz)"), edit);
+        m_edits[list] = edit;
+        m_errors[list] = error;
+        const std::string name(list);
+        connect(edit, &QLineEdit::editingFinished, this, [this, name] {
+            QLineEdit *e = fieldEdit(name);
+            QString message;
+            const bool ok = m_document->setFrequencyListText(m_partId, name, e->text(), &message);
+            markError(e, m_errors[name], ok ? QString() : message);
+        });
+    }
+    m_presets = new QComboBox(m_form);
+    m_presets->addItem(tr("custom"));
+    m_presets->addItems(DesignDocument::gainBlockPresets());
+    m_presets->setToolTip(tr("Generic gain blocks with round numbers; no real device is "
+                             "modelled. \"custom\": the values are the block's own."));
+    m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
+    form->addRow(tr("preset"), m_presets);
+    connect(m_presets, &QComboBox::activated, this, [this](int index) {
+        if (index > 0)
+            m_document->applyGainBlockPreset(m_partId, index - 1);
+        m_presets->setCurrentIndex(m_document->gainBlockPresetInEffect(m_partId) + 1);
+    });
+    auto *hint = new QLabel(tr("Gain in V/V or dB (\"110dB\"); the gain-bandwidth sets the "
+                               "first pole at gain-bandwidth / gain, and the poles listed "
+                               "come after it."),
+                            m_form);
+    hint->setWordWrap(true);
+    hint->setStyleSheet(QStringLiteral("color: #5a6270; font-size: 8pt;"));
+    form->addRow(hint);
 }
 
 void Inspector::refresh()

@@ -14,6 +14,10 @@ class QLabel;
 class QLineEdit;
 class QFormLayout;
 
+namespace loopsketch {
+struct Part;
+}
+
 namespace loopsketch::ui {
 
 class DesignDocument;
@@ -45,6 +49,10 @@ public:
 private:
     void commitField(const std::string &field);
     void commitTolerance();
+    // The rows of showPart() beyond the part's own fields: the E-series and tolerance of a
+    // part with a primary value, the gain block's pole and zero lists and presets.
+    void addSeriesRows(QFormLayout *form, const Part &part);
+    void addGainBlockRows(QFormLayout *form, const Part &part);
     void markError(QWidget *widget, QLabel *label, const QString &message);
 
     DesignDocument *m_document;

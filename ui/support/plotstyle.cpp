@@ -22,9 +22,9 @@ using U = CurveUnit;
 // input-referred noise (drawn against its own axis). Built on first use: names are read
 // during the dynamic initialisation of other files (static members such as
 // LoopGainPanel::kT).
-const std::array<CurveStyle, 17> &curves()
+const std::array<CurveStyle, 18> &curves()
 {
-    static const std::array<CurveStyle, 17> table{{
+    static const std::array<CurveStyle, 18> table{{
         {P::A, QStringLiteral("A"), QStringLiteral("A"), U::Gain, palette::kOrange, Qt::SolidLine},
         {P::LoopGain, QStringLiteral("T (return ratio)"), QStringLiteral("T"), U::Ratio,
          palette::kBlue, Qt::SolidLine},
@@ -52,6 +52,8 @@ const std::array<CurveStyle, 17> &curves()
          U::OutputDensity, palette::kBlack, Qt::SolidLine},
         {P::NoiseInput, QStringLiteral("input-referred noise"), QStringLiteral("input noise"),
          U::InputDensity, palette::kVermillion, Qt::DashLine},
+        {P::NoiseCumulative, QStringLiteral("cumulative output rms"),
+         QStringLiteral("cumulative rms"), U::OutputRms, palette::kBlue, Qt::DashDotLine},
         {P::OpenLoopGain, QStringLiteral("|A_ol| (gain block)"), QStringLiteral("A_ol"), U::Ratio,
          palette::kGreen, Qt::DashDotLine},
         {P::InvBeta, QStringLiteral("1/β (closure)"), QStringLiteral("1/β"), U::Ratio,
@@ -106,6 +108,8 @@ QString curveUnitText(PlotCurve curve, const Analysis &a)
         return toQString(noiseUnits(a.gainUnit).output) + QStringLiteral("/√Hz");
     case CurveUnit::InputDensity:
         return toQString(noiseUnits(a.gainUnit).input) + QStringLiteral("/√Hz");
+    case CurveUnit::OutputRms:
+        return toQString(noiseUnits(a.gainUnit).output) + QStringLiteral(" rms");
     case CurveUnit::RadPerSecond:
         return QStringLiteral("rad/s");
     }

@@ -45,13 +45,14 @@ enum class PlotCurve {
     Poles, ///< closed-loop natural frequencies
     NoiseOutput, ///< total output noise density
     NoiseInput, ///< input-referred noise density
+    NoiseCumulative, ///< output rms from the sweep start up to each frequency
     OpenLoopGain, ///< A_ol: the gain block's own open-loop gain
     InvBeta, ///< the closure curve 1/beta = A_ol / T
     Nyquist, ///< T(jw) on the Nyquist plane
 };
 
 /// The unit a curve's values are in; Gain and the noise units depend on the design.
-enum class CurveUnit { Ratio, Gain, Ohm, OutputDensity, InputDensity, RadPerSecond };
+enum class CurveUnit { Ratio, Gain, Ohm, OutputDensity, InputDensity, OutputRms, RadPerSecond };
 
 struct CurveStyle
 {

@@ -79,6 +79,13 @@ QString engineering(const OptionalNumber &value, std::string_view unit, int digi
     return toQString(formatEngineering(*value, digits, unit));
 }
 
+QString degrees(const OptionalNumber &valueDeg)
+{
+    if (!valueDeg || !std::isfinite(*valueDeg))
+        return QStringLiteral("—");
+    return toQString(formatEngineering(*valueDeg, 3)) + QStringLiteral("°");
+}
+
 ScalePrefix scalePrefixFor(double magnitude)
 {
     static const struct

@@ -40,6 +40,10 @@ QList<QPointF> realPoints(const std::vector<double> &x, const std::vector<double
 /// Engineering text with unit for an optional number, "—" when absent.
 QString engineering(const OptionalNumber &value, std::string_view unit, int digits = 3);
 
+/// An angle in degrees with three significant digits ("63.4°"), "—" when absent or not
+/// finite: the one way the window and the review sheet write phase and phase margin.
+QString degrees(const OptionalNumber &valueDeg);
+
 /// The prefix letter and factor that show `magnitude` with 1 to 3 digits before the point
 /// (1.2e-6 -> {"µ", 1e6}).
 struct ScalePrefix

@@ -126,7 +126,8 @@ public:
     /// one undo step. False with `error` set when the new id is invalid or taken.
     bool renamePart(const std::string &from, const std::string &to, QString *error);
     /// Replaces the design-wide properties (title, notes, input, output, sweep, specs,
-    /// temperature) of `after`, one undo step named `text`; the parts are not touched.
+    /// temperature, noise band, spot frequency, full-scale signal) of `after`, one undo step
+    /// named `text`; the parts are not touched.
     void setProperties(const Design &after, const QString &text);
 
     // Candidates (design file key `candidates`), each edit one undo step.

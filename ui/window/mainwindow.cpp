@@ -2,7 +2,6 @@
 
 #include "panels/candidatespanel.h"
 #include "panels/noisepanel.h"
-#include "panels/nyquistpanel.h"
 #include "panels/panels.h"
 #include "panels/readout.h"
 #include "panels/spreadpanel.h"
@@ -18,17 +17,14 @@
 #include "window/designdocument.h"
 #include "window/exportactions.h"
 #include "window/partclipboard.h"
-#include "window/stabilitydocks.h"
 
 #include "loopsketch/design/atomicfile.h"
 #include "loopsketch/design/designfile.h"
 
 #include <QAction>
 #include <QApplication>
-#include <QClipboard>
 #include <QCloseEvent>
 #include <QDateTime>
-#include <QDir>
 #include <QDockWidget>
 #include <QElapsedTimer>
 #include <QFile>
@@ -36,145 +32,14 @@
 #include <QFileInfo>
 #include <QLabel>
 #include <QLayout>
-#include <QListWidget>
 #include <QMenuBar>
 #include <QMessageBox>
 #include <QMimeData>
-#include <QRegularExpression>
 #include <QScreen>
-#include <QScrollArea>
-#include <QSettings>
-#include <QStandardPaths>
 #include <QStatusBar>
-#include <QTabBar>
 #include <QTimer>
 
-#include <cerrno>
-
-#include <signal.h>
-
 namespace loopsketch::ui {
-
-namespace {
-
-constexpr int kMaxRecent = 8;
-const char *kStateKey = "window/state";
-const char *kGeometryKey = "window/geometry";
-/// The version of the saved dock arrangement: a state saved by an older arrangement (other
-/// docks, other places) is not restored; the default one is laid out instead.
-constexpr int kLayoutVersion = 2;
-/// Below this window width the plots share two tab groups beside the Sketch (compact
-/// arrangement), so the Sketch keeps half the width; at and above it they sit right and
-/// below it side by side.
-constexpr int kCompactWidth = 1400;
-constexpr int kLeftDockWidth = 230;
-const char *kRecentKey = "recentFiles";
-
-} // namespace
-
-QString MainWindow::recoveryFile()
-{
-    return recoveryFileOf(QCoreApplication::applicationPid());
-}
-
-QString MainWindow::recoveryFileOf(qint64 pid)
-{
-    const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
-    return dir.isEmpty() ? QString() : dir + QStringLiteral("/recovery-%1.loopsketch").arg(pid);
-}
-
-namespace {
-
-/// Recovery files whose process has ended, newest first; the name of versions before one
-/// file per process ("recovery.loopsketch") counts as ended too.
-QStringList orphanedRecoveryFiles()
-{
-    const QString dir = QStandardPaths::writableLocation(QStandardPaths::AppDataLocation);
-    if (dir.isEmpty())
-        return {};
-    static const QRegularExpression name(QStringLiteral("^recovery(?:-(\\d+))?\\.loopsketch$"));
-    QStringList orphans;
-    const QFileInfoList files = QDir(dir).entryInfoList({QStringLiteral("recovery*.loopsketch")},
-                                                        QDir::Files, QDir::Time);
-    for (const QFileInfo &f : files) {
-        const auto m = name.match(f.fileName());
-        if (!m.hasMatch())
-            continue; // e.g. a kept-aside unreadable file
-        if (!m.captured(1).isEmpty()) {
-            const qint64 pid = m.captured(1).toLongLong();
-            // kill(pid, 0) probes without signalling; only "no such process" means gone.
-            if (pid == QCoreApplication::applicationPid() || ::kill(static_cast<pid_t>(pid), 0) == 0
-                || errno != ESRCH)
-                continue;
-        }
-        orphans << f.absoluteFilePath();
-    }
-    return orphans;
-}
-
-} // namespace
-
-bool MainWindow::offerRecovery()
-{
-    for (const QString &path : orphanedRecoveryFiles()) {
-        if (offerRecoveryFrom(path))
-            return true;
-    }
-    return false;
-}
-
-bool MainWindow::offerRecoveryFrom(const QString &path)
-{
-    QFile file(path);
-    if (!file.exists())
-        return false;
-    QString problem;
-    QByteArray text;
-    if (file.open(QIODevice::ReadOnly))
-        text = file.readAll();
-    else
-        problem = tr("%1: %2").arg(path, file.errorString());
-    file.close();
-    if (problem.isEmpty()) {
-        if (auto parsed = parseDesign(text.toStdString(), DesignRules::Draft, toStdString(path));
-            !parsed)
-            problem = toQString(parsed.errorText());
-    }
-    if (!problem.isEmpty()) {
-        // Kept under another name, so it is neither offered at every start nor lost.
-        const QString kept = QFileInfo(path).absolutePath() + QStringLiteral("/recovery-")
-            + QDateTime::currentDateTime().toString(QStringLiteral("yyyyMMdd-hhmmss"))
-            + QStringLiteral(".unreadable.loopsketch");
-        const bool moved = QFile::rename(path, kept);
-        QMessageBox::warning(
-            this, tr("Restore unsaved work"),
-            tr("The unsaved work from the last session cannot be restored:\n%1\n\n%2")
-                .arg(problem,
-                     moved ? tr("The file was kept as %1.").arg(kept)
-                           : tr("It could not be moved aside and stays at %1.").arg(path)));
-        return false;
-    }
-    const auto answer = QMessageBox::question(
-        this, tr("Restore unsaved work"),
-        tr("Loopsketch did not close normally last time. Restore the design that was being "
-           "edited?"),
-        QMessageBox::Yes | QMessageBox::No, QMessageBox::Yes);
-    if (answer != QMessageBox::Yes) {
-        QFile::remove(path);
-        return false;
-    }
-    QString error;
-    if (!openText(text.toStdString(), tr("recovered design"), &error)) {
-        QMessageBox::warning(this, tr("Restore unsaved work"), error);
-        return false;
-    }
-    m_document->undoStack()->resetClean();
-    updateTitle();
-    // The work now lives in this process's recovery file; only then the old one goes.
-    if (writeRecovery())
-        QFile::remove(path);
-    return true;
-}
 
 MainWindow::MainWindow(QWidget *parent)
     : QMainWindow(parent), m_document(new DesignDocument(this)), m_scene(new SketchScene(this)),
@@ -198,6 +63,38 @@ MainWindow::MainWindow(QWidget *parent)
     m_diagnostics->setWordWrap(false);
     m_diagnostics->setTextInteractionFlags(Qt::TextSelectableByMouse);
 
+    connectDocument();
+    connectSketch();
+
+    m_settleTimer = new QTimer(this);
+    m_settleTimer->setSingleShot(true);
+    m_settleTimer->setInterval(250);
+    connect(m_settleTimer, &QTimer::timeout, this, [this] {
+        for (PlotPanel *panel : m_panels) {
+            panel->setRenderHint(QPainter::Antialiasing, true);
+            panel->viewport()->update();
+        }
+    });
+
+    startAutosave();
+
+    resize(1500, 940);
+    // A first start on a smaller screen: the window fits it. (The offscreen platform's
+    // nominal 800 x 600 screen is no display; tests size their windows themselves.)
+    if (QGuiApplication::platformName() != QStringLiteral("offscreen")) {
+        if (const QScreen *s = screen()) {
+            const QRect available = s->availableGeometry();
+            resize(std::min(width(), available.width() - 16),
+                   std::min(height(), available.height() - 48));
+            move(available.topLeft() + QPoint(8, 8));
+        }
+    }
+    restoreLayout();
+    updateTitle();
+}
+
+void MainWindow::connectDocument()
+{
     connect(m_document, &DesignDocument::designReset, this, &MainWindow::rebuildSketch);
     connect(m_document, &DesignDocument::analysisChanged, this, &MainWindow::showAnalysis);
     connect(m_document, &DesignDocument::analysisUnavailable, this, &MainWindow::showUnavailable);
@@ -218,6 +115,21 @@ MainWindow::MainWindow(QWidget *parent)
             [this] { m_scene->applyLayout(m_document->layout()); });
     connect(m_document, &DesignDocument::filePathChanged, this, &MainWindow::updateTitle);
     connect(m_document->undoStack(), &QUndoStack::cleanChanged, this, &MainWindow::updateTitle);
+    connect(m_document, &DesignDocument::structureChanged, this, [this] {
+        const std::string selected = m_scene->selectedPartId();
+        m_scene->rebuild(&m_document->design(), m_document->layout());
+        m_palette->showDesign(m_document->design());
+        if (m_document->design().findPart(m_inspector->partId()))
+            m_inspector->showPart(m_inspector->partId());
+        else
+            m_inspector->showPart({});
+        if (!selected.empty())
+            m_scene->selectPart(selected);
+    });
+}
+
+void MainWindow::connectSketch()
+{
     connect(m_scene, &QGraphicsScene::selectionChanged, this, &MainWindow::selectionChanged);
     connect(m_scene, &SketchScene::partsMoved, this,
             [this](const QHash<QString, QPointF> &positions) {
@@ -259,54 +171,8 @@ MainWindow::MainWindow(QWidget *parent)
         placeSymbol(symbol, m_view->mapToScene(m_view->viewport()->rect().center()));
     });
     connect(m_palette, &PartsPalette::deleteRequested, m_document, &DesignDocument::removeParts);
-    connect(m_document, &DesignDocument::structureChanged, this, [this] {
-        const std::string selected = m_scene->selectedPartId();
-        m_scene->rebuild(&m_document->design(), m_document->layout());
-        m_palette->showDesign(m_document->design());
-        if (m_document->design().findPart(m_inspector->partId()))
-            m_inspector->showPart(m_inspector->partId());
-        else
-            m_inspector->showPart({});
-        if (!selected.empty())
-            m_scene->selectPart(selected);
-    });
     connect(m_palette, &PartsPalette::partActivated, this,
             [this](const std::string &id) { m_scene->selectPart(id); });
-
-    m_settleTimer = new QTimer(this);
-    m_settleTimer->setSingleShot(true);
-    m_settleTimer->setInterval(250);
-    connect(m_settleTimer, &QTimer::timeout, this, [this] {
-        for (PlotPanel *panel : m_panels) {
-            panel->setRenderHint(QPainter::Antialiasing, true);
-            panel->viewport()->update();
-        }
-    });
-
-    auto *recovery = new QTimer(this);
-    // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
-    const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
-    recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);
-    connect(recovery, &QTimer::timeout, this, &MainWindow::writeRecovery);
-    recovery->start();
-
-    resize(1500, 940);
-    // A first start on a smaller screen: the window fits it. (The offscreen platform's
-    // nominal 800 x 600 screen is no display; tests size their windows themselves.)
-    if (QGuiApplication::platformName() != QStringLiteral("offscreen")) {
-        if (const QScreen *s = screen()) {
-            const QRect available = s->availableGeometry();
-            resize(std::min(width(), available.width() - 16),
-                   std::min(height(), available.height() - 48));
-            move(available.topLeft() + QPoint(8, 8));
-        }
-    }
-    QSettings settings;
-    restoreGeometry(settings.value(kGeometryKey).toByteArray());
-    m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
-    if (!m_sizedDocks)
-        arrangeDocks(width() < kCompactWidth);
-    updateTitle();
 }
 
 MainWindow::~MainWindow()
@@ -320,349 +186,12 @@ MainWindow::~MainWindow()
     QObject::disconnect(m_scene, nullptr, nullptr, nullptr);
 }
 
-void MainWindow::createDocks()
-{
-    setCorner(Qt::TopLeftCorner, Qt::TopDockWidgetArea);
-    setCorner(Qt::TopRightCorner, Qt::TopDockWidgetArea);
-    setCorner(Qt::BottomLeftCorner, Qt::LeftDockWidgetArea);
-    setCorner(Qt::BottomRightCorner, Qt::BottomDockWidgetArea);
-
-    auto makeDock = [this](const QString &title, const QString &name, QWidget *widget,
-                           Qt::DockWidgetArea area) {
-        auto *dock = new QDockWidget(title, this);
-        dock->setObjectName(name);
-        dock->setWidget(widget);
-        addDockWidget(area, dock);
-        m_docks.push_back(dock);
-        return dock;
-    };
-    auto *readoutDock
-        = makeDock(tr("Readout"), QStringLiteral("ReadoutDock"), m_readout, Qt::TopDockWidgetArea);
-    readoutDock->setFeatures(QDockWidget::NoDockWidgetFeatures);
-    readoutDock->setTitleBarWidget(new QWidget(readoutDock));
-    auto *partsDock
-        = makeDock(tr("Parts"), QStringLiteral("PartsDock"), m_palette, Qt::LeftDockWidgetArea);
-    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"), m_inspector,
-                                   Qt::LeftDockWidgetArea);
-    splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
-    m_properties = new DesignPropertiesPanel(m_document, this);
-    auto *propertiesScroll = new QScrollArea(this);
-    propertiesScroll->setWidget(m_properties);
-    propertiesScroll->setWidgetResizable(true);
-    propertiesScroll->setFrameShape(QFrame::NoFrame);
-    auto *propertiesDock = makeDock(tr("Design"), QStringLiteral("DesignPropertiesDock"),
-                                    propertiesScroll, Qt::LeftDockWidgetArea);
-    tabifyDockWidget(inspectorDock, propertiesDock);
-    inspectorDock->raise();
-
-    m_loopGain = new LoopGainPanel(this);
-    auto *impedance = new ImpedancePanel(this);
-    auto *desens = new DesensitivityPanel(this);
-    auto *step = new StepPanel(this);
-    auto *poles = new PolesPanel(this);
-    m_panels = {m_loopGain, impedance, desens, step, poles};
-    auto *noise = new NoisePanel(this);
-    m_panels.push_back(noise);
-    // The linked frequency cursor: hovering one frequency panel marks the same frequency
-    // in all of them.
-    for (PlotPanel *source : m_panels) {
-        connect(source, &PlotPanel::frequencyHovered, this, [this](double log10Hz) {
-            for (PlotPanel *p : m_panels)
-                p->showFrequencyCursor(log10Hz);
-        });
-        connect(source, &PlotPanel::frequencyHovered, noise, &NoisePanel::showValuesAt);
-    }
-    auto *loopDock = makeDock(tr("Loop gain"), QStringLiteral("LoopGainDock"), m_loopGain,
-                              Qt::RightDockWidgetArea);
-    auto *impDock = makeDock(tr("Impedance"), QStringLiteral("ImpedanceDock"), impedance,
-                             Qt::RightDockWidgetArea);
-    splitDockWidget(loopDock, impDock, Qt::Vertical);
-    auto *noiseDock
-        = makeDock(tr("Noise"), QStringLiteral("NoiseDock"), noise, Qt::RightDockWidgetArea);
-    tabifyDockWidget(impDock, noiseDock);
-    impDock->raise();
-    connect(noiseDock, &QDockWidget::visibilityChanged, noise, &NoisePanel::setOnScreen);
-    auto *desDock = makeDock(tr("Desensitivity"), QStringLiteral("DesensitivityDock"), desens,
-                             Qt::BottomDockWidgetArea);
-    auto *stepDock
-        = makeDock(tr("Step"), QStringLiteral("StepDock"), step, Qt::BottomDockWidgetArea);
-    auto *polesDock
-        = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
-    splitDockWidget(desDock, stepDock, Qt::Horizontal);
-    splitDockWidget(stepDock, polesDock, Qt::Horizontal);
-
-    // The Spread panel holds controls, a table and three histograms: it scrolls rather than
-    // forcing its height on the whole window.
-    m_spread = new SpreadPanel(m_document, this);
-    auto *spreadScroll = new QScrollArea(this);
-    spreadScroll->setWidget(m_spread);
-    spreadScroll->setWidgetResizable(true);
-    spreadScroll->setFrameShape(QFrame::NoFrame);
-    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), spreadScroll,
-                                Qt::RightDockWidgetArea);
-
-    // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
-    m_candidates = new CandidatesPanel(m_document, this);
-    // Its table scrolls too, so a narrow window can still give the Sketch half its width.
-    auto *candidatesScroll = new QScrollArea(this);
-    candidatesScroll->setWidget(m_candidates);
-    candidatesScroll->setWidgetResizable(true);
-    candidatesScroll->setFrameShape(QFrame::NoFrame);
-    m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"),
-                                candidatesScroll, Qt::RightDockWidgetArea);
-    tabifyDockWidget(impDock, m_candidatesDock);
-    tabifyDockWidget(impDock, spreadDock);
-    // Nyquist, Scan and Map (window/stabilitydocks.cpp), tabbed with the others.
-    const StabilityDocks stability = makeStabilityDocks(m_document, this);
-    m_panels.push_back(stability.nyquist);
-    for (QDockWidget *d : stability.docks) {
-        addDockWidget(Qt::RightDockWidgetArea, d);
-        m_docks.push_back(d);
-        tabifyDockWidget(impDock, d);
-    }
-    impDock->raise();
-    connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
-        const std::vector<OverlaySource> sources = m_candidates->overlaySources();
-        for (PlotPanel *p : m_panels) {
-            if (p->hasOverlays())
-                p->setOverlaySources(sources);
-        }
-    });
-    connect(m_candidates->pinAction(), &QAction::triggered, this, &MainWindow::showCandidates);
-}
-
 void MainWindow::showCandidates()
 {
     m_candidatesDock->show();
     m_candidatesDock->raise();
     if (auto *loop = findChild<QDockWidget *>(QStringLiteral("LoopGainDock")))
         resizeDocks({loop, m_candidatesDock}, {height() / 2, height() / 2}, Qt::Vertical);
-}
-
-void MainWindow::createActions()
-{
-    QMenu *file = menuBar()->addMenu(tr("&File"));
-    QAction *newAction = file->addAction(tr("&New"), this, &MainWindow::newDesign);
-    newAction->setShortcut(QKeySequence::New);
-    newAction->setObjectName(QStringLiteral("NewDesignAction"));
-    QMenu *newMenu = file->addMenu(tr("&New from example"));
-    const QStringList examples = QDir(QStringLiteral(":/designs")).entryList({"*.loopsketch"});
-    for (const QString &name : examples) {
-        QString label = name;
-        label.chop(int(QStringLiteral(".loopsketch").size()));
-        newMenu->addAction(label, this,
-                           [this, name] { newFromExample(QStringLiteral(":/designs/") + name); });
-    }
-    QAction *open = file->addAction(tr("&Open…"), this, &MainWindow::openDialog);
-    open->setShortcut(QKeySequence::Open);
-    m_recentMenu = file->addMenu(tr("Open &recent"));
-    updateRecentMenu();
-    file->addSeparator();
-    QAction *saveAction = file->addAction(tr("&Save"), this, [this] { save(); });
-    saveAction->setShortcut(QKeySequence::Save);
-    QAction *saveAsAction = file->addAction(tr("Save &as…"), this, [this] { saveAs(); });
-    saveAsAction->setShortcut(QKeySequence::SaveAs);
-    addExportMenu(
-        file, this, m_document,
-        [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; },
-        [this] { return m_spread->completedResult(); });
-    file->addSeparator();
-    QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
-    quit->setShortcut(QKeySequence::Quit);
-
-    QMenu *edit = menuBar()->addMenu(tr("&Edit"));
-    QAction *undo = m_document->undoStack()->createUndoAction(this, tr("&Undo"));
-    undo->setShortcut(QKeySequence::Undo);
-    QAction *redo = m_document->undoStack()->createRedoAction(this, tr("&Redo"));
-    redo->setShortcut(QKeySequence::Redo);
-    edit->addAction(undo);
-    edit->addAction(redo);
-    edit->addSeparator();
-    createEditActions(edit);
-
-    // Candidates, spread and value suggestions add their actions here.
-    m_designMenu = menuBar()->addMenu(tr("&Design"));
-    QAction *pin = m_candidates->pinAction();
-    pin->setShortcut(Qt::CTRL | Qt::SHIFT | Qt::Key_P);
-    m_designMenu->addAction(pin);
-    QAction *overlayAll = m_designMenu->addAction(tr("Overlay candidates on every plot"));
-    overlayAll->setCheckable(true);
-    connect(overlayAll, &QAction::triggered, this, [this](bool on) {
-        for (PlotPanel *p : m_panels) {
-            if (p->hasOverlays())
-                p->overlayAction()->setChecked(on);
-        }
-    });
-    for (PlotPanel *p : m_panels) {
-        if (!p->hasOverlays())
-            continue;
-        connect(p->overlayAction(), &QAction::toggled, overlayAll, [this, overlayAll] {
-            bool all = true;
-            for (PlotPanel *q : m_panels)
-                all = all && (!q->hasOverlays() || q->overlayAction()->isChecked());
-            overlayAll->setChecked(all);
-        });
-    }
-    m_designMenu->addSeparator();
-    m_designMenu->addAction(tr("&Spread over tolerances"), this, [this] {
-        auto *dock = findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
-        dock->show();
-        dock->raise();
-    });
-    m_designMenu->addAction(tr("Suggest &values…"), this, [this] {
-        SuggestDialog *dialog = suggestDialog();
-        dialog->show();
-        dialog->raise();
-        dialog->activateWindow();
-    });
-    addStabilityActions(m_designMenu, m_view, this);
-
-    m_viewMenu = menuBar()->addMenu(tr("&View"));
-    m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });
-    QAction *resetLayout
-        = m_viewMenu->addAction(tr("Reset layout"), this, &MainWindow::resetLayout);
-    resetLayout->setObjectName(QStringLiteral("ResetLayoutAction"));
-    resetLayout->setToolTip(tr("Every panel back in its place for this window's size"));
-    QAction *resetZoom = m_viewMenu->addAction(tr("Reset plot zoom"), this, [this] {
-        for (PlotPanel *p : m_panels)
-            p->resetZoom();
-    });
-    resetZoom->setShortcut(Qt::CTRL | Qt::Key_0);
-    resetZoom->setToolTip(tr("Every plot back to its whole range"));
-    m_viewMenu->addSeparator();
-    for (QDockWidget *dock : m_docks) {
-        if (dock->features() != QDockWidget::NoDockWidgetFeatures)
-            m_viewMenu->addAction(dock->toggleViewAction());
-    }
-
-    QMenu *help = menuBar()->addMenu(tr("&Help"));
-    help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
-}
-
-void MainWindow::createEditActions(QMenu *edit)
-{
-    auto add
-        = [&](const QString &text, const char *name, QKeySequence key, void (MainWindow::*slot)()) {
-              QAction *a = edit->addAction(text, this, slot);
-              a->setObjectName(QString::fromLatin1(name));
-              a->setShortcut(key);
-              return a;
-          };
-    add(tr("Cu&t"), "CutAction", QKeySequence::Cut, &MainWindow::cutSelection);
-    add(tr("&Copy"), "CopyAction", QKeySequence::Copy, &MainWindow::copySelection);
-    add(tr("&Paste"), "PasteAction", QKeySequence::Paste, &MainWindow::pasteParts);
-    // No standard key exists for duplicating; Ctrl+D is the common one.
-    add(tr("D&uplicate"), "DuplicateAction", QKeySequence(Qt::CTRL | Qt::Key_D),
-        &MainWindow::duplicateSelection);
-    QAction *remove
-        = add(tr("&Delete"), "DeleteAction", QKeySequence::Delete, &MainWindow::deleteSelection);
-    edit->addSeparator();
-    QAction *all = edit->addAction(tr("Select &all"), this, [this] {
-        m_view->setFocus();
-        m_scene->selectAllSymbols();
-    });
-    all->setObjectName(QStringLiteral("SelectAllAction"));
-    all->setShortcut(QKeySequence::SelectAll);
-    // Delete and Select all act on the Sketch while it has the focus; in the parts list, the
-    // Candidates table and the text fields the keys keep their own meaning there.
-    for (QAction *a : {remove, all}) {
-        a->setShortcutContext(Qt::WidgetWithChildrenShortcut);
-        m_view->addAction(a);
-    }
-}
-
-std::vector<std::string> MainWindow::partsToEdit() const
-{
-    if (m_palette->partList()->hasFocus()) {
-        std::vector<std::string> ids;
-        for (QListWidgetItem *item : m_palette->partList()->selectedItems())
-            ids.push_back(toStdString(item->data(Qt::UserRole).toString()));
-        return ids;
-    }
-    return m_scene->selectedPartIds();
-}
-
-void MainWindow::copySelection()
-{
-    const std::vector<std::string> ids = partsToEdit();
-    if (ids.empty())
-        return;
-    QGuiApplication::clipboard()->setMimeData(
-        partsMimeData(copyParts(m_document->design(), m_document->layout(), ids)));
-    statusBar()->showMessage(ids.size() == 1 ? tr("Copied %1").arg(toQString(ids.front()))
-                                             : tr("Copied %1 parts").arg(ids.size()),
-                             5000);
-}
-
-void MainWindow::cutSelection()
-{
-    const std::vector<std::string> ids = partsToEdit();
-    if (ids.empty())
-        return;
-    QGuiApplication::clipboard()->setMimeData(
-        partsMimeData(copyParts(m_document->design(), m_document->layout(), ids)));
-    m_document->removeParts(ids);
-}
-
-void MainWindow::pasteParts()
-{
-    const auto fragment = partsFromMimeData(QGuiApplication::clipboard()->mimeData());
-    if (!fragment) {
-        statusBar()->showMessage(tr("The clipboard holds no Loopsketch parts."), 5000);
-        return;
-    }
-    const auto ids = m_document->pasteParts(
-        *fragment,
-        fragment->parts.size() == 1 ? tr("Paste %1").arg(toQString(fragment->parts[0].id))
-                                    : tr("Paste %1 parts").arg(fragment->parts.size()));
-    m_scene->selectParts(ids);
-}
-
-void MainWindow::duplicateSelection()
-{
-    const std::vector<std::string> ids = partsToEdit();
-    if (ids.empty())
-        return;
-    const auto copies
-        = m_document->pasteParts(copyParts(m_document->design(), m_document->layout(), ids),
-                                 ids.size() == 1 ? tr("Duplicate %1").arg(toQString(ids.front()))
-                                                 : tr("Duplicate %1 parts").arg(ids.size()));
-    m_scene->selectParts(copies);
-}
-
-void MainWindow::deleteSelection()
-{
-    if (m_palette->partList()->hasFocus()) {
-        const std::vector<std::string> ids = partsToEdit();
-        if (!ids.empty())
-            m_document->removeParts(ids);
-        return;
-    }
-    const std::vector<std::string> ids = m_scene->selectedPartIds();
-    const std::vector<int> grounds = m_scene->selectedGrounds();
-    std::vector<std::pair<PinRef, PinRef>> wires;
-    for (const RoutedWire &w : m_scene->selectedWires()) {
-        // A wire to a part that goes anyway needs no step of its own.
-        const auto going = [&](const PinRef &pin) {
-            return std::find(ids.begin(), ids.end(), pin.part) != ids.end();
-        };
-        if (!going(w.from) && !going(w.to))
-            wires.emplace_back(w.from, w.to);
-    }
-    const int kinds = int(!ids.empty()) + int(!grounds.empty()) + int(!wires.empty());
-    if (kinds == 0)
-        return;
-    QUndoStack *stack = m_document->undoStack();
-    if (kinds > 1)
-        stack->beginMacro(tr("Delete selection"));
-    if (!wires.empty())
-        m_document->removeWires(wires);
-    if (!grounds.empty())
-        m_document->removeGrounds(grounds);
-    if (!ids.empty())
-        m_document->removeParts(ids);
-    if (kinds > 1)
-        stack->endMacro();
 }
 
 SuggestDialog *MainWindow::suggestDialog()
@@ -764,40 +293,6 @@ void MainWindow::selectionChanged()
     if (id != m_inspector->partId())
         m_inspector->showPart(id);
     m_palette->selectPart(id);
-}
-
-void MainWindow::addRecentFile(const QString &path)
-{
-    QSettings settings;
-    QStringList files = settings.value(kRecentKey).toStringList();
-    const QString absolute = QFileInfo(path).absoluteFilePath();
-    files.removeAll(absolute);
-    files.prepend(absolute);
-    while (files.size() > kMaxRecent)
-        files.removeLast();
-    settings.setValue(kRecentKey, files);
-    updateRecentMenu();
-}
-
-void MainWindow::updateRecentMenu()
-{
-    if (!m_recentMenu)
-        return;
-    m_recentMenu->clear();
-    const QStringList files = QSettings().value(kRecentKey).toStringList();
-    for (const QString &f : files) {
-        m_recentMenu
-            ->addAction(QFileInfo(f).fileName(), this,
-                        [this, f] {
-                            if (!maybeSave())
-                                return;
-                            QString error;
-                            if (!openFile(f, &error))
-                                QMessageBox::warning(this, tr("Open design"), error);
-                        })
-            ->setToolTip(f);
-    }
-    m_recentMenu->setEnabled(!files.isEmpty());
 }
 
 void MainWindow::newDesign()
@@ -912,9 +407,10 @@ void MainWindow::closeEvent(QCloseEvent *event)
         event->ignore();
         return;
     }
-    QSettings settings;
-    settings.setValue(kGeometryKey, saveGeometry());
-    settings.setValue(kStateKey, saveState(kLayoutVersion));
+    saveLayout();
+    // No autosave may write the file again between the close and the end of the process.
+    if (auto *timer = findChild<QTimer *>(QStringLiteral("RecoveryTimer")))
+        timer->stop();
     const QString recovery = recoveryFile();
     if (!recovery.isEmpty())
         QFile::remove(recovery);
@@ -924,129 +420,14 @@ void MainWindow::closeEvent(QCloseEvent *event)
 void MainWindow::showEvent(QShowEvent *event)
 {
     QMainWindow::showEvent(event);
+    if (auto *timer = findChild<QTimer *>(QStringLiteral("RecoveryTimer"));
+        timer && !timer->isActive())
+        timer->start(); // shown again after a close
     if (m_sizedDocks)
         return;
     m_sizedDocks = true;
     // Dock sizes only take once the window has its size and its layout ran.
     QTimer::singleShot(0, this, [this] { resetLayout(); });
-}
-
-void MainWindow::resetLayout()
-{
-    const bool compact = width() < kCompactWidth;
-    arrangeDocks(compact);
-    // Sizes take once the layout has placed the docks, and the Sketch fits its new size
-    // once they took.
-    // A first arrangement may still be settling on the first pass (the docks moved from the
-    // constructor's places), so the sizes are given twice.
-    QTimer::singleShot(0, this, [this, compact] {
-        sizeDocks(compact);
-        QTimer::singleShot(0, this, [this, compact] {
-            // Docks that asked for more room than the screen has on the way give it back.
-            if (QGuiApplication::platformName() != QStringLiteral("offscreen") && screen()) {
-                const QRect available = screen()->availableGeometry();
-                if (height() > available.height() - 48 || width() > available.width() - 16)
-                    resize(std::min(width(), available.width() - 16),
-                           std::min(height(), available.height() - 48));
-            }
-            sizeDocks(compact);
-            m_view->fitDesign();
-        });
-    });
-}
-
-bool MainWindow::isCompactLayout() const
-{
-    auto *loop = findChild<QDockWidget *>(QStringLiteral("LoopGainDock"));
-    auto *step = findChild<QDockWidget *>(QStringLiteral("StepDock"));
-    return loop && step && dockWidgetArea(step) == dockWidgetArea(loop);
-}
-
-void MainWindow::arrangeDocks(bool compact)
-{
-    auto dock = [this](const char *name) {
-        return findChild<QDockWidget *>(QLatin1String(name));
-    };
-    QDockWidget *parts = dock("PartsDock"), *inspector = dock("InspectorDock"),
-                *properties = dock("DesignPropertiesDock"), *loop = dock("LoopGainDock"),
-                *impedance = dock("ImpedanceDock"), *noise = dock("NoiseDock"),
-                *spread = dock("SpreadDock"), *desens = dock("DesensitivityDock"),
-                *step = dock("StepDock"), *poles = dock("PolesDock");
-    const std::vector<QDockWidget *> stability
-        = {dock("NyquistDock"), dock("ScanDock"), dock("MapDock")};
-    for (QDockWidget *d : m_docks) {
-        d->setFloating(false);
-        if (d->features() != QDockWidget::NoDockWidgetFeatures)
-            d->show();
-    }
-    addDockWidget(Qt::LeftDockWidgetArea, parts);
-    splitDockWidget(parts, inspector, Qt::Vertical);
-    tabifyDockWidget(inspector, properties);
-    addDockWidget(Qt::RightDockWidgetArea, loop);
-    if (compact) {
-        // Two tab groups beside the Sketch: the frequency panels above, the time and
-        // s-plane panels below.
-        splitDockWidget(loop, step, Qt::Vertical);
-        for (QDockWidget *d : {impedance, noise, m_candidatesDock, spread})
-            tabifyDockWidget(loop, d);
-        for (QDockWidget *d : stability)
-            tabifyDockWidget(loop, d);
-        for (QDockWidget *d : {poles, desens})
-            tabifyDockWidget(step, d);
-        step->raise();
-        loop->raise();
-    } else {
-        splitDockWidget(loop, impedance, Qt::Vertical);
-        for (QDockWidget *d : {noise, m_candidatesDock, spread})
-            tabifyDockWidget(impedance, d);
-        for (QDockWidget *d : stability)
-            tabifyDockWidget(impedance, d);
-        impedance->raise();
-        addDockWidget(Qt::BottomDockWidgetArea, desens);
-        splitDockWidget(desens, step, Qt::Horizontal);
-        splitDockWidget(step, poles, Qt::Horizontal);
-    }
-    inspector->raise();
-    // Tab titles are read whole ("Impedance", not "Impedan…"); a crowded group scrolls.
-    for (QTabBar *tabs : findChildren<QTabBar *>(QString(), Qt::FindDirectChildrenOnly)) {
-        tabs->setElideMode(Qt::ElideNone);
-        tabs->setUsesScrollButtons(true);
-    }
-}
-
-void MainWindow::sizeDocks(bool compact)
-{
-    auto dock = [this](const char *name) {
-        return findChild<QDockWidget *>(QLatin1String(name));
-    };
-    QDockWidget *parts = dock("PartsDock"), *inspector = dock("InspectorDock"),
-                *loop = dock("LoopGainDock"), *impedance = dock("ImpedanceDock"),
-                *desens = dock("DesensitivityDock"), *step = dock("StepDock"),
-                *poles = dock("PolesDock");
-    // The docks' new places first, so that the sizes apply to them.
-    layout()->activate();
-    const int w = width(), h = height();
-    resizeDocks({parts}, {kLeftDockWidth}, Qt::Horizontal);
-    resizeDocks({parts, inspector}, {h / 3, h / 2}, Qt::Vertical);
-    if (compact) {
-        // The Sketch keeps half the window; the plots take what is left beside it.
-        // resizeDocks() leaves a column of tab groups as it is (Qt 6.4): its width is set by
-        // holding the groups at the width wanted for one layout pass.
-        const int right = std::max(320, w / 2 - kLeftDockWidth - 16);
-        for (QDockWidget *d : {loop, step})
-            d->setFixedWidth(right);
-        layout()->activate();
-        for (QDockWidget *d : {loop, step}) {
-            d->setMinimumWidth(0);
-            d->setMaximumWidth(QWIDGETSIZE_MAX);
-        }
-        resizeDocks({loop, step}, {h * 11 / 20, h * 9 / 20}, Qt::Vertical);
-    } else {
-        resizeDocks({loop}, {w * 9 / 20}, Qt::Horizontal);
-        resizeDocks({loop, impedance}, {h / 2, h / 2}, Qt::Vertical);
-        resizeDocks({desens}, {h * 7 / 25}, Qt::Vertical);
-        resizeDocks({desens, step, poles}, {w / 3, w / 3, w / 3}, Qt::Horizontal);
-    }
 }
 
 void MainWindow::dragEnterEvent(QDragEnterEvent *event)
@@ -1063,24 +444,6 @@ void MainWindow::dropEvent(QDropEvent *event)
     QString error;
     if (!openFile(urls.front().toLocalFile(), &error))
         QMessageBox::warning(this, tr("Open design"), error);
-}
-
-bool MainWindow::writeRecovery()
-{
-    const QString path = recoveryFile();
-    if (path.isEmpty() || !m_document->isModified())
-        return false;
-    QDir().mkpath(QFileInfo(path).absolutePath());
-    auto written = writeFileAtomically(toStdString(path), serializeDesign(m_document->design()));
-    if (!written) {
-        // Not a dialog every 30 s: a note in the status bar, so the user knows to save.
-        statusBar()->showMessage(tr("Autosave of the unsaved work failed (%1); save the design "
-                                    "to keep it.")
-                                     .arg(toQString(written.errorText())),
-                                 20000);
-        return false;
-    }
-    return true;
 }
 
 void MainWindow::about()

@@ -97,10 +97,20 @@ protected:
 
 private:
     void createDocks();
+    /// The document's signals to the window's widgets.
+    void connectDocument();
+    /// The Sketch's and the Parts palette's requests to the document's edits.
+    void connectSketch();
+    /// Writes the recovery file at an interval while the design has unsaved changes.
+    void startAutosave();
     /// Puts every dock in its default place (compact: the plots in two tab groups right of
     /// the Sketch); sizeDocks() then gives them their default sizes.
     void arrangeDocks(bool compact);
     void sizeDocks(bool compact);
+    /// The window's geometry and dock arrangement as the last session left them, or the
+    /// default arrangement where none (or an older one) was saved.
+    void restoreLayout();
+    void saveLayout();
     void createActions();
     void updateTitle();
     void rebuildSketch();

@@ -9,6 +9,7 @@
 #include "loopsketch/design/designvalidation.h"
 #include "loopsketch/design/partlimits.h"
 
+#include "analysis/noisefigures.h"
 #include "analysis/noisesweep.h"
 
 #include <Eigen/LU>
@@ -16,10 +17,86 @@
 #include <cmath>
 #include <limits>
 #include <numbers>
+#include <set>
 
 namespace loopsketch {
 
 namespace {
+
+/// The capacitances that sit straight across ideal voltage sources: both ends on nodes whose
+/// voltage an ideal source fixes (ground; a voltage source without r_series from such a
+/// node; the gain block's output with r_out 0). A step drives an unbounded current into
+/// them, the higher-index mode the step model refuses. "RF value", "U1 c_in" ...
+std::vector<std::string> capacitancesAcrossIdealSources(const Design &design)
+{
+    std::set<std::string> held{std::string(kGroundNode)};
+    const Part *gainBlock = design.uniquePart(PartType::GainBlock);
+    if (gainBlock && !(gainBlock->number("r_out") > 0))
+        held.insert(gainBlock->node("out"));
+    for (bool grew = true; grew;) {
+        grew = false;
+        for (const Part &p : design.parts) {
+            if (p.type != PartType::VSource || p.number("r_series") > 0)
+                continue;
+            const std::string a = p.node("pos"), b = p.node("neg");
+            if (held.count(a) != held.count(b)) {
+                held.insert(held.count(a) ? b : a);
+                grew = true;
+            }
+        }
+    }
+    std::vector<std::string> found;
+    const auto across = [&](const std::string &a, const std::string &b, const Part &p,
+                            const char *field, double farads) {
+        if (farads > 0 && a != b && held.count(a) && held.count(b))
+            found.push_back(p.id + " " + field);
+    };
+    const std::string ground(kGroundNode);
+    for (const Part &p : design.parts) {
+        switch (p.type) {
+        case PartType::Capacitor:
+            across(p.node("a"), p.node("b"), p, "value", p.number("value"));
+            break;
+        case PartType::Load:
+            across(p.node("a"), p.node("b"), p, "c", p.number("c"));
+            break;
+        case PartType::ISource:
+            across(p.node("to"), p.node("from"), p, "c_parallel", p.number("c_parallel"));
+            break;
+        case PartType::GainBlock:
+            across(p.node("in_p"), p.node("in_n"), p, "c_in", p.number("c_in"));
+            across(p.node("in_p"), ground, p, "c_cm", p.number("c_cm"));
+            if (found.empty() || found.back() != p.id + " c_cm")
+                across(p.node("in_n"), ground, p, "c_cm", p.number("c_cm"));
+            break;
+        default:
+            break;
+        }
+    }
+    return found;
+}
+
+/// The step model's refusal in the designer's words, naming the parts where they are found.
+std::string stepProblem(const Design &design, const std::string &message)
+{
+    if (message.find("higher-index") == std::string::npos)
+        return message;
+    const std::vector<std::string> parts = capacitancesAcrossIdealSources(design);
+    std::string text = "no step response: ";
+    if (parts.empty()) {
+        text += "a capacitance sits straight across an ideal voltage source, so a step would "
+                "drive an unbounded current spike into it, which the time-domain model cannot "
+                "follow; a series resistance (r_series, r_out) in the source removes that mode";
+    } else {
+        for (std::size_t i = 0; i < parts.size(); ++i)
+            text += (i == 0 ? "" : i + 1 == parts.size() ? " and " : ", ") + parts[i];
+        text += parts.size() == 1 ? " sits" : " sit";
+        text += " straight across an ideal voltage source, so a step would drive an unbounded "
+                "current spike into it, which the time-domain model cannot follow; a series "
+                "resistance (r_series, r_out) in the source removes that mode";
+    }
+    return text;
+}
 
 constexpr double kSensitivityStep = 1e-6; // relative, central difference
 
@@ -217,6 +294,19 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     a.stable = verdict.stable;
     a.rhpPoles = verdict.rhpPoles;
     a.closedLoopReason = verdict.reason;
+    if (const int unlocated = model.unlocatedClosedLoopPoles(); unlocated > 0 && a.stable) {
+        // Poles that were not found may lie anywhere: no verdict, and nothing that needs one.
+        const Part *gainBlock = design.uniquePart(PartType::GainBlock);
+        a.stable = false;
+        a.stabilityKnown = false;
+        a.closedLoopReason = "stability unknown: " + std::to_string(unlocated)
+            + (unlocated == 1 ? " closed-loop pole" : " closed-loop poles")
+            + " could not be located"
+            + (gainBlock ? " (rounding in the circuit equations; the largest entry comes from "
+                           "the gain of "
+                       + gainBlock->id + ")"
+                         : std::string(" (rounding in the circuit equations)"));
+    }
 
     // The loop beyond the sweep, where crossings may lie: as far as its poles and the
     // closed loop's reach.
@@ -269,7 +359,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
             a.step = computeStep(*step, a.poles, a.bandwidthHz, *a.exact.gain,
                                  design.settlingBandFraction());
         else
-            a.step.problem = step.diagnostics().front().message;
+            a.step.problem = stepProblem(design, step.diagnostics().front().message);
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = computeSensitivity(design, *a.exact.gain);
@@ -285,6 +375,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
                 for (NoiseContribution &contribution : a.noise->contributions)
                     contribution.rms.reset();
             }
+            detail::addNoiseFigures(design, *a.noise, a.stable);
         } else
             a.noiseProblem = noise.diagnostics().front().message;
     }

@@ -315,14 +315,21 @@ std::vector<ClosedLoopPole> describePoles(const std::vector<std::complex<double>
     return out;
 }
 
-StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole> &poles,
-                       OptionalNumber bandwidthHz, double finalValue, double band)
+namespace {
+
+/// Uniform steps over the display span in the step response's scan grid.
+constexpr int kStepPoints = 2000;
+
+/// The times the step response is sampled at (s), and the display span among them.
+struct StepGrid
 {
-    StepResult r;
-    r.finalValue = finalValue;
-    r.settlingBand = band;
-    if (!std::isfinite(finalValue) || finalValue == 0.0)
-        return r;
+    double span = 0.0; ///< the display span (s)
+    std::vector<double> t; ///< the scan grid (s), from 0
+};
+
+StepGrid stepGrid(const StepModel &model, const std::vector<ClosedLoopPole> &poles,
+                  OptionalNumber bandwidthHz)
+{
     // Display span: 20 closed-loop time constants, stretched for slow, lightly damped poles
     // that sit below the bandwidth, capped so that one stray slow pole cannot flatten the
     // plot (the settling time stretches it again below).
@@ -341,47 +348,71 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
         if (p.s.real() < 0 && -p.s.real() < fast)
             span = std::max(span, 7.0 / -p.s.real());
     span = std::min(span, 2e3 / fast);
-    // Scan grid: 2000 uniform steps over the span, then runs of 16 steps whose length
+    // Scan grid: kStepPoints uniform steps over the span, then runs of 16 steps whose length
     // doubles from run to run, until the slowest mode has decayed by e^-30 (1e-13):
     // exact at each point (sample() squares the propagator as the step doubles).
-    constexpr int kPoints = 2000;
-    std::vector<double> t(kPoints + 1);
-    for (int i = 0; i <= kPoints; ++i)
-        t[i] = span * i / kPoints;
+    StepGrid g;
+    g.span = span;
+    std::vector<double> &t = g.t;
+    t.resize(kStepPoints + 1);
+    for (int i = 0; i <= kStepPoints; ++i)
+        t[i] = span * i / kStepPoints;
     const double end = std::isfinite(slowest) ? 30.0 / slowest : span;
-    double dt = span / kPoints;
+    double dt = span / kStepPoints;
     while (t.back() < end && t.size() < 100000) {
         for (int i = 0; i < 16; ++i)
             t.push_back(t.back() + dt);
         dt *= 2.0;
     }
-    const std::vector<double> y = model.sample(t);
+    return g;
+}
+
+/// Why the sampled response `y` cannot carry the step metrics, or nothing where it can.
+std::optional<std::string> stepUnresolved(const std::vector<double> &y, double finalValue,
+                                          double band)
+{
     // The grid runs on until every mode has decayed, so its last value is the final value
     // up to round-off of the largest swing; anything else (a stiff propagator that lost its
     // accuracy over long times) makes every metric untrustworthy: none is reported.
-    {
-        double swing = std::abs(finalValue);
-        bool finite = true;
-        for (double v : y) {
-            finite = finite && std::isfinite(v);
-            swing = std::max(swing, std::abs(v));
-        }
-        if (!finite || !(std::abs(y.back() - finalValue) <= 1e-6 * swing)) {
-            r.problem = "the step response could not be computed accurately on this stiff "
-                        "loop (its time-domain model does not settle to the DC gain)";
-            return r;
-        }
-        // Round-off of the largest swing (about 1e-10 of it, with the cancellation between
-        // modes) must stay well inside the settling band, or rise, overshoot and settling
-        // would be read off round-off.
-        if (!(1e-10 * swing <= 0.1 * band * std::abs(finalValue))) {
-            char ratio[32];
-            std::snprintf(ratio, sizeof ratio, "%.2g", swing / std::abs(finalValue));
-            r.problem = std::string("the step response swings to ") + ratio
-                + " times its final value: the metrics cannot be resolved within the "
-                  "settling band";
-            return r;
-        }
+    double swing = std::abs(finalValue);
+    bool finite = true;
+    for (double v : y) {
+        finite = finite && std::isfinite(v);
+        swing = std::max(swing, std::abs(v));
+    }
+    if (!finite || !(std::abs(y.back() - finalValue) <= 1e-6 * swing))
+        return "the step response could not be computed accurately on this stiff "
+               "loop (its time-domain model does not settle to the DC gain)";
+    // Round-off of the largest swing (about 1e-10 of it, with the cancellation between
+    // modes) must stay well inside the settling band, or rise, overshoot and settling
+    // would be read off round-off.
+    if (!(1e-10 * swing <= 0.1 * band * std::abs(finalValue))) {
+        char ratio[32];
+        std::snprintf(ratio, sizeof ratio, "%.2g", swing / std::abs(finalValue));
+        return std::string("the step response swings to ") + ratio
+            + " times its final value: the metrics cannot be resolved within the "
+              "settling band";
+    }
+    return std::nullopt;
+}
+
+} // namespace
+
+StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole> &poles,
+                       OptionalNumber bandwidthHz, double finalValue, double band)
+{
+    StepResult r;
+    r.finalValue = finalValue;
+    r.settlingBand = band;
+    if (!std::isfinite(finalValue) || finalValue == 0.0)
+        return r;
+    const StepGrid grid = stepGrid(model, poles, bandwidthHz);
+    const double span = grid.span;
+    const std::vector<double> &t = grid.t;
+    const std::vector<double> y = model.sample(t);
+    if (auto problem = stepUnresolved(y, finalValue, band)) {
+        r.problem = std::move(*problem);
+        return r;
     }
     const auto normalised = [&](double time) {
         return model.valueAt(time) / finalValue;
@@ -443,7 +474,7 @@ StepResult computeStep(const StepModel &model, const std::vector<ClosedLoopPole>
     }
     double shown = std::max(span, r.settlingTimeS ? 1.25 * *r.settlingTimeS : 0.0);
     shown = std::max(shown, std::min(t[lastAway], 100.0 * span));
-    for (std::size_t i = 0; i < y.size() && (i <= kPoints || t[i] <= shown); ++i) {
+    for (std::size_t i = 0; i < y.size() && (i <= kStepPoints || t[i] <= shown); ++i) {
         r.timeS.push_back(t[i]);
         r.response.push_back(y[i]);
     }

@@ -1,5 +1,6 @@
 #include "loopsketch/analysis/noise.h"
 
+#include "analysis/noisefigures.h"
 #include "analysis/noisemodel.h"
 #include "analysis/noisesweep.h"
 #include "detail/bandintegral.h"
@@ -23,6 +24,8 @@ namespace loopsketch {
 using detail::BandIntegral;
 using detail::ConvergedBand;
 using detail::DensityColumns;
+using detail::integrateBand;
+using detail::integrateUntilConverged;
 using detail::NoiseSamples;
 
 double thermalNoiseVoltage(double ohms, double kelvin)
@@ -143,34 +146,14 @@ Diagnostic noSolution(const detail::NoiseModel &model, double hz)
 
 } // namespace
 
-Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &options)
-{
-    const std::vector<double> hz = design.sweep.frequencies();
-    std::vector<std::complex<double>> points(hz.size());
-    for (std::size_t i = 0; i < hz.size(); ++i)
-        points[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
-    return detail::analyzeNoiseOver(design, options, hz, points);
-}
+namespace {
 
-Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const NoiseOptions &options,
-                                               const std::vector<double> &frequenciesHz,
-                                               std::span<const std::complex<double>> points)
+/// Each source's output density from `grid`, the gain and noise gain, and the total output
+/// and input-referred densities, into `result`. Returns whether the closed-loop gain is
+/// exactly zero somewhere on the sweep (then nothing is referred to the input).
+bool storeDensities(const detail::NoiseModel &model, NoiseSamples &grid, NoiseAnalysis &result)
 {
-    auto built = NoiseModel::build(design);
-    if (!built)
-        return built.diagnostics();
-    const NoiseModel &model = *built;
-    const std::vector<double> &hz = frequenciesHz;
-    if (hz.size() < 2)
-        return Diagnostic{{}, {}, "sweep", "noise: the sweep needs at least two frequencies"};
-
-    NoiseAnalysis result;
-    result.temperatureK = design.temperatureK();
-    result.frequenciesHz = frequenciesHz;
-    const std::size_t count = hz.size();
-    NoiseSamples grid = model.evaluate(hz, points);
-    if (!grid.ok)
-        return noSolution(model, grid.failedAtHz);
+    const std::size_t count = result.frequenciesHz.size();
     const std::size_t sources = model.sources().size();
     for (std::size_t k = 0; k < sources; ++k) {
         NoiseContribution c = model.sources()[k];
@@ -200,8 +183,169 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
         result.inputDensity[i]
             = gainIsZero ? std::numeric_limits<double>::quiet_NaN() : result.outputDensity[i] / g;
     }
+    return gainIsZero;
+}
+
+/// The band integral of every source over the band the options or the design give, into
+/// `result`'s band fields; a diagnostic where the band is malformed.
+Result<BandIntegral> integrateGivenBand(const DensityColumns &perSource, std::size_t sources,
+                                        double low, double high, bool fromDesign,
+                                        NoiseAnalysis &result)
+{
+    if (!(std::isfinite(low) && std::isfinite(high) && low > 0 && low < high)) {
+        return Diagnostic{{},
+                          {},
+                          "noise_band",
+                          "noise band must be two frequencies above zero with the low end "
+                          "below the high end"};
+    }
+    result.bandKind = NoiseBandKind::Given;
+    result.bandLowHz = low;
+    result.bandHighHz = high;
+    result.bandMethod = std::string("output density integrated over ")
+        + (fromDesign ? "the design's noise_band" : "the given band");
+    return integrateBand(perSource, sources, low, high, kIntegralTolerance, 2.0 /*per decade*/);
+}
+
+/// The default band: marched up from the sweep start until the power left above is under
+/// kRemainingShare, or, where it does not converge, up to the sweep stop.
+Result<BandIntegral> integrateDefaultBand(const detail::NoiseModel &model,
+                                          const DensityColumns &perSource,
+                                          const std::vector<double> &hz, NoiseAnalysis &result)
+{
+    const std::size_t sources = model.sources().size();
+    result.bandLowHz = hz.front();
+    // Not before the circuit's last natural frequency below the cap: above it every
+    // density is a plain power law, so the estimate of the power left above is sound.
+    double lastPoleHz = 0;
+    for (const std::complex<double> &p : model.naturalFrequencies()) {
+        const double f = std::abs(p) / (2.0 * std::numbers::pi);
+        if (std::isfinite(f) && f < kConvergenceCapHz)
+            lastPoleHz = std::max(lastPoleHz, f);
+    }
+    const double cap = std::max(kConvergenceCapHz, 10.0 * hz.back());
+    ConvergedBand march = integrateUntilConverged(
+        perSource, sources, hz.front(), cap, 2.0 * lastPoleHz, kRemainingShare, kIntegralTolerance);
+    if (!march.ok)
+        return noSolution(model, march.failedAtHz);
+    if (march.converged) {
+        result.bandKind = NoiseBandKind::Converged;
+        result.bandHighHz = march.highHz;
+        result.bandMethod
+            = "output density integrated on the circuit model from the sweep start until "
+              "the power left above is under 0.1 % of the total"
+            + std::string(march.highHz > hz.back() ? " (beyond the sweep stop)" : "");
+        return std::move(march.integral);
+    }
+    result.bandKind = NoiseBandKind::SweepStop;
+    result.bandHighHz = hz.back();
+    result.bandMethod
+        = "output density integrated from the sweep start to the sweep stop: above the "
+          "sweep the density does not fall fast enough for the integral to converge "
+          "(flat noise at high frequency, e.g. feedthrough), so the figure depends on "
+          "the sweep stop";
+    return integrateBand(perSource, sources, hz.front(), hz.back(), kIntegralTolerance, 2.0);
+}
+
+/// The input-referred rms: the output figure over the gain at the band's low end.
+std::optional<Diagnostic> referToInput(const detail::NoiseModel &model, bool gainIsZero,
+                                       NoiseAnalysis &result)
+{
+    result.inputGainHz = result.bandLowHz;
+    const double f[] = {result.inputGainHz};
+    NoiseSamples at = model.evaluate(f);
+    if (!at.ok)
+        return noSolution(model, at.failedAtHz);
+    const double g = std::abs(at.gain.front());
+    if (g > 0 && !gainIsZero)
+        result.inputRms = *result.outputRms / g;
+    else if (result.inputProblem.empty())
+        result.inputProblem = "the closed-loop gain is zero at " + frequencyText(result.inputGainHz)
+            + ", so there is no input-referred noise";
+    if (result.inputProblem.empty())
+        result.bandMethod
+            += "; input-referred rms = output rms / |gain| at " + frequencyText(result.inputGainHz);
+    return std::nullopt;
+}
+
+/// The brick-wall equivalent, for comparison with the older figure: the input-referred
+/// density integrated up to pi/2 times the closed-loop bandwidth (Hz).
+std::optional<BrickWallNoise> brickWallEquivalent(const detail::NoiseModel &model,
+                                                  std::optional<double> bw,
+                                                  const std::vector<double> &hz,
+                                                  const NoiseAnalysis &result)
+{
+    const std::size_t sources = model.sources().size();
+    if (!bw)
+        bw = bandwidthFromGain(hz, result.gain);
+    const double gain0 = std::abs(result.gain.front());
+    if (!(bw && *bw > 0 && gain0 > 0))
+        return std::nullopt;
+    BrickWallNoise brick;
+    brick.highHz = std::numbers::pi / 2.0 * *bw;
+    const DensityColumns inputReferred
+        = [&](std::span<const double> f, std::vector<double> &values) {
+              NoiseSamples s = model.evaluate(f);
+              if (!s.ok)
+                  return false;
+              values.assign(f.size(), 0.0);
+              for (std::size_t i = 0; i < f.size(); ++i) {
+                  double total = 0;
+                  for (std::size_t k = 0; k < sources; ++k)
+                      total += s.psd[k * f.size() + i];
+                  values[i] = total / std::norm(s.gain[i]);
+              }
+              return true;
+          };
+    if (brick.highHz > hz.front()) {
+        BandIntegral b
+            = integrateBand(inputReferred, 1, hz.front(), brick.highHz, kIntegralTolerance, 2.0);
+        if (b.ok && std::isfinite(b.total)) {
+            brick.inputRms = std::sqrt(std::max(b.total, 0.0));
+            brick.outputRms = *brick.inputRms * gain0;
+        }
+    }
+    return brick;
+}
+
+} // namespace
+
+Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &options)
+{
+    const std::vector<double> hz = design.sweep.frequencies();
+    std::vector<std::complex<double>> points(hz.size());
+    for (std::size_t i = 0; i < hz.size(); ++i)
+        points[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
+    auto noise = detail::analyzeNoiseOver(design, options, hz, points);
+    if (!noise)
+        return noise;
+    NoiseAnalysis result = std::move(noise).value();
+    detail::addNoiseFigures(design, result);
+    return result;
+}
+
+Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const NoiseOptions &options,
+                                               const std::vector<double> &frequenciesHz,
+                                               std::span<const std::complex<double>> points)
+{
+    auto built = NoiseModel::build(design);
+    if (!built)
+        return built.diagnostics();
+    const NoiseModel &model = *built;
+    const std::vector<double> &hz = frequenciesHz;
+    if (hz.size() < 2)
+        return Diagnostic{{}, {}, "sweep", "noise: the sweep needs at least two frequencies"};
+
+    NoiseAnalysis result;
+    result.temperatureK = design.temperatureK();
+    result.frequenciesHz = frequenciesHz;
+    NoiseSamples grid = model.evaluate(hz, points);
+    if (!grid.ok)
+        return noSolution(model, grid.failedAtHz);
+    const bool gainIsZero = storeDensities(model, grid, result);
 
     // The densities of every source on the model, for the band integrals.
+    const std::size_t sources = model.sources().size();
     const DensityColumns perSource = [&](std::span<const double> f, std::vector<double> &values) {
         NoiseSamples s = model.evaluate(f);
         if (!s.ok)
@@ -209,126 +353,28 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
         values = std::move(s.psd);
         return true;
     };
-
-    // The band.
-    std::optional<double> low, high;
-    bool fromDesign = false;
-    if (options.bandLowHz || options.bandHighHz) {
-        low = options.bandLowHz.value_or(hz.front());
-        high = options.bandHighHz.value_or(hz.back());
-    } else if (design.noiseBand) {
-        low = design.noiseBand->low.si;
-        high = design.noiseBand->high.si;
-        fromDesign = true;
-    }
-    BandIntegral integral;
-    if (low) {
-        if (!(std::isfinite(*low) && std::isfinite(*high) && *low > 0 && *low < *high)) {
-            return Diagnostic{{},
-                              {},
-                              "noise_band",
-                              "noise band must be two frequencies above zero with the low end "
-                              "below the high end"};
-        }
-        result.bandKind = NoiseBandKind::Given;
-        result.bandLowHz = *low;
-        result.bandHighHz = *high;
-        integral = integrateBand(perSource, sources, *low, *high, kIntegralTolerance,
-                                 2.0 /*per decade*/);
-        result.bandMethod = std::string("output density integrated over ")
-            + (fromDesign ? "the design's noise_band" : "the given band");
-    } else {
-        result.bandLowHz = hz.front();
-        // Not before the circuit's last natural frequency below the cap: above it every
-        // density is a plain power law, so the estimate of the power left above is sound.
-        double lastPoleHz = 0;
-        for (const std::complex<double> &p : model.naturalFrequencies()) {
-            const double f = std::abs(p) / (2.0 * std::numbers::pi);
-            if (std::isfinite(f) && f < kConvergenceCapHz)
-                lastPoleHz = std::max(lastPoleHz, f);
-        }
-        const double cap = std::max(kConvergenceCapHz, 10.0 * hz.back());
-        ConvergedBand march
-            = integrateUntilConverged(perSource, sources, hz.front(), cap, 2.0 * lastPoleHz,
-                                      kRemainingShare, kIntegralTolerance);
-        if (!march.ok)
-            return noSolution(model, march.failedAtHz);
-        if (march.converged) {
-            result.bandKind = NoiseBandKind::Converged;
-            result.bandHighHz = march.highHz;
-            integral = std::move(march.integral);
-            result.bandMethod
-                = "output density integrated on the circuit model from the sweep start until "
-                  "the power left above is under 0.1 % of the total"
-                + std::string(march.highHz > hz.back() ? " (beyond the sweep stop)" : "");
-        } else {
-            result.bandKind = NoiseBandKind::SweepStop;
-            result.bandHighHz = hz.back();
-            integral
-                = integrateBand(perSource, sources, hz.front(), hz.back(), kIntegralTolerance, 2.0);
-            result.bandMethod
-                = "output density integrated from the sweep start to the sweep stop: above the "
-                  "sweep the density does not fall fast enough for the integral to converge "
-                  "(flat noise at high frequency, e.g. feedthrough), so the figure depends on "
-                  "the sweep stop";
-        }
-    }
+    Result<BandIntegral> band = [&]() -> Result<BandIntegral> {
+        if (options.bandLowHz || options.bandHighHz)
+            return integrateGivenBand(perSource, sources, options.bandLowHz.value_or(hz.front()),
+                                      options.bandHighHz.value_or(hz.back()), false, result);
+        if (design.noiseBand)
+            return integrateGivenBand(perSource, sources, design.noiseBand->low.si,
+                                      design.noiseBand->high.si, true, result);
+        return integrateDefaultBand(model, perSource, hz, result);
+    }();
+    if (!band)
+        return band.diagnostics();
+    const BandIntegral &integral = *band;
     if (!integral.ok)
         return noSolution(model, integral.failedAtHz);
     for (std::size_t k = 0; k < sources; ++k)
         result.contributions[k].rms = std::sqrt(std::max(integral.columns[k], 0.0));
     result.outputRms = std::sqrt(std::max(integral.total, 0.0));
 
-    // Input-referred: the output figure over the gain at the band's low end.
-    result.inputGainHz = result.bandLowHz;
-    {
-        const double f[] = {result.inputGainHz};
-        NoiseSamples at = model.evaluate(f);
-        if (!at.ok)
-            return noSolution(model, at.failedAtHz);
-        const double g = std::abs(at.gain.front());
-        if (g > 0 && !gainIsZero)
-            result.inputRms = *result.outputRms / g;
-        else if (result.inputProblem.empty())
-            result.inputProblem = "the closed-loop gain is zero at "
-                + frequencyText(result.inputGainHz) + ", so there is no input-referred noise";
-    }
-    if (result.inputProblem.empty())
-        result.bandMethod
-            += "; input-referred rms = output rms / |gain| at " + frequencyText(result.inputGainHz);
-
-    // The brick-wall equivalent, for comparison with the older figure.
-    std::optional<double> bw = options.closedLoopBandwidthHz;
-    if (!bw)
-        bw = bandwidthFromGain(hz, result.gain);
-    const double gain0 = std::abs(result.gain.front());
-    if (bw && *bw > 0 && gain0 > 0 && !gainIsZero) {
-        BrickWallNoise brick;
-        brick.highHz = std::numbers::pi / 2.0 * *bw;
-        const DensityColumns inputReferred
-            = [&](std::span<const double> f, std::vector<double> &values) {
-                  NoiseSamples s = model.evaluate(f);
-                  if (!s.ok)
-                      return false;
-                  values.assign(f.size(), 0.0);
-                  for (std::size_t i = 0; i < f.size(); ++i) {
-                      double total = 0;
-                      for (std::size_t k = 0; k < sources; ++k)
-                          total += s.psd[k * f.size() + i];
-                      values[i] = total / std::norm(s.gain[i]);
-                  }
-                  return true;
-              };
-        if (brick.highHz > hz.front()) {
-            BandIntegral b = integrateBand(inputReferred, 1, hz.front(), brick.highHz,
-                                           kIntegralTolerance, 2.0);
-            if (b.ok && std::isfinite(b.total)) {
-                brick.inputRms = std::sqrt(std::max(b.total, 0.0));
-                brick.outputRms = *brick.inputRms * gain0;
-            }
-        }
-        result.brickWall = brick;
-    }
+    if (auto failed = referToInput(model, gainIsZero, result))
+        return *failed;
+    if (!gainIsZero)
+        result.brickWall = brickWallEquivalent(model, options.closedLoopBandwidthHz, hz, result);
     return result;
 }
 

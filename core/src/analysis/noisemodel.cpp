@@ -10,9 +10,18 @@ namespace loopsketch::detail {
 
 namespace {
 
-std::string partIdOf(const std::string &elementName)
+/// A noise source of part `partId`, named `name`; `field` and `pin` as NoiseContribution has
+/// them.
+NoiseContribution contribution(std::string name, std::string partId, NoiseSourceKind kind,
+                               std::string field = {}, std::string pin = {})
 {
-    return elementName.substr(0, elementName.find(':'));
+    NoiseContribution c;
+    c.name = std::move(name);
+    c.partId = std::move(partId);
+    c.kind = kind;
+    c.field = std::move(field);
+    c.pin = std::move(pin);
+    return c;
 }
 
 } // namespace
@@ -67,28 +76,35 @@ Result<NoiseModel> NoiseModel::build(const Design &design)
     // Thermal noise of every physical resistance: resistors, the source's own resistance and
     // the load. The gain block's r_in and r_out are small-signal model values, not resistors:
     // its noise is what its en and in say (common practice, as datasheets give it).
-    const std::string rIn = gb->id + ":r_in", rOut = gb->id + ":r_out";
     for (const NetlistElement &e : netlist.elements) {
-        if (e.kind != NetlistElement::Kind::Resistor || e.name == rIn || e.name == rOut)
+        if (e.kind != NetlistElement::Kind::Resistor
+            || (e.part == gb->id && (e.field == "r_in" || e.field == "r_out")))
             continue;
-        add({e.name, partIdOf(e.name), NoiseSourceKind::Resistor, {}, 0},
+        // A resistor or the load is a resistance as a whole; a source's r_series or
+        // r_parallel is one field of its part.
+        const Part *owner = design.findPart(e.part);
+        const bool whole
+            = owner && (owner->type == PartType::Resistor || owner->type == PartType::Load);
+        add(contribution(e.name, e.part, NoiseSourceKind::Resistor,
+                         whole ? std::string() : e.field),
             {indexOf(e.a), indexOf(e.b), std::sqrt(fourKT / e.value), 0.0});
     }
     // Shot noise of the DC current through a current source: 2 q |i_dc|, across the source.
     if (src->type == PartType::ISource && src->number("i_dc") != 0.0) {
-        add({src->id + ":shot", src->id, NoiseSourceKind::Shot, {}, 0},
+        add(contribution(src->id + ":shot", src->id, NoiseSourceKind::Shot),
             {indexOf(src->node("to")), indexOf(src->node("from")),
              shotNoiseCurrent(src->number("i_dc")), 0.0});
     }
     if (gb->number("en") > 0) {
-        add({enName, gb->id, NoiseSourceKind::VoltageNoise, {}, 0},
+        add(contribution(enName, gb->id, NoiseSourceKind::VoltageNoise, "en"),
             {enRow, -1, gb->number("en"), gb->number("en_corner_hz")});
     }
     if (gb->number("in") > 0) {
         for (const auto &[terminal, pin] : {std::pair{"in_p", pinP}, std::pair{"in_n", pinN}}) {
             if (pin == kGroundNode)
                 continue; // a pin on ground shorts its current noise
-            add({gb->id + ":in(" + terminal + ")", gb->id, NoiseSourceKind::CurrentNoise, {}, 0},
+            add(contribution(gb->id + ":in(" + terminal + ")", gb->id,
+                             NoiseSourceKind::CurrentNoise, "in", terminal),
                 {indexOf(pin), -1, gb->number("in"), gb->number("in_corner_hz")});
         }
     }

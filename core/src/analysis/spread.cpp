@@ -232,6 +232,30 @@ spreadQuantities(const Design &design, const SpreadOptions &options, std::string
         }
         out.push_back({p.id, field, p.number(field), t});
     }
+    // Tolerances on fields other than a part's primary value, named "<field>_tolerance".
+    for (const Part &p : design.parts) {
+        for (const char *field : {"r_parallel", "c_parallel", "gbw"}) {
+            const std::string key = std::string(field) + "_tolerance";
+            if (!p.has(key) || !findFieldSpec(p.type, key))
+                continue;
+            if (std::string_view(field) == "gbw" && options.gbwSpread)
+                continue; // the options' spread wins
+            const double t = p.number(key);
+            if (t == 0)
+                continue;
+            if (!(t > 0 && t < 1)) {
+                problems.push_back(
+                    error(file, p.id, key, key + " must be between 0 % and 100 % (excluded)"));
+                continue;
+            }
+            if (!p.has(field) || !std::isfinite(p.number(field))) {
+                problems.push_back(error(
+                    file, p.id, key, key + " needs a finite " + std::string(field) + " to spread"));
+                continue;
+            }
+            out.push_back({p.id, field, p.number(field), t});
+        }
+    }
     const auto addGainBlock = [&](const std::optional<double> &spread, const char *field) {
         if (!spread)
             return;
@@ -324,7 +348,7 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
     const std::size_t n = q.size();
     r.exhaustive = n <= static_cast<std::size_t>(kMaxVertexQuantities);
     // every vertex, or two probes per quantity and a corner pair per metric
-    const std::size_t evaluations = r.exhaustive ? std::size_t{1} << n : 2 * n + 6;
+    const std::size_t evaluations = r.exhaustive ? std::size_t{1} << n : 2 * n + 10;
     if (auto over = checkRepeatedBudget(
             design, file, evaluations, trialOperations(circuitSize(design), grid.size()),
             "the worst case", "reduce the toleranced parts", "tolerance");
@@ -370,9 +394,15 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
                 x = -x;
             return s;
         };
-        for (const auto &s : {signsOf([](const TrialMetrics &m) { return m.gain; }),
-                              signsOf([](const TrialMetrics &m) { return m.bandwidthHz; }),
-                              signsOf([](const TrialMetrics &m) { return m.phaseMarginDeg; })}) {
+        std::vector<std::vector<int>> signs{
+            signsOf([](const TrialMetrics &m) { return m.gain; }),
+            signsOf([](const TrialMetrics &m) { return m.bandwidthHz; }),
+            signsOf([](const TrialMetrics &m) { return m.phaseMarginDeg; })};
+        if (hasNoiseSpec(design.specs)) {
+            signs.push_back(signsOf([](const TrialMetrics &m) { return m.outputNoiseRms; }));
+            signs.push_back(signsOf([](const TrialMetrics &m) { return m.snrDb; }));
+        }
+        for (const auto &s : signs) {
             corners.push_back(s);
             corners.push_back(negated(s));
         }
@@ -398,6 +428,9 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
         updateRange(r.gain, results[c].gain, corners[c]);
         updateRange(r.bandwidthHz, results[c].bandwidthHz, corners[c]);
         updateRange(r.phaseMarginDeg, results[c].phaseMarginDeg, corners[c]);
+        updateRange(r.outputNoiseRms, results[c].outputNoiseRms, corners[c]);
+        updateRange(r.snrDb, results[c].snrDb, corners[c]);
+        r.specsAtCorners &= checkSpecs(design.specs, design.sweep, results[c]);
     }
     return r;
 }
@@ -539,7 +572,10 @@ std::string spreadToJson(const WorstCaseResult &w, const MonteCarloResult &mc,
                        {"cancelled", w.cancelled},
                        {"gain", rangeJson(w.gain, w.nominal.gain)},
                        {"bandwidth_hz", rangeJson(w.bandwidthHz, w.nominal.bandwidthHz)},
-                       {"phase_margin_deg", rangeJson(w.phaseMarginDeg, w.nominal.phaseMarginDeg)}};
+                       {"phase_margin_deg", rangeJson(w.phaseMarginDeg, w.nominal.phaseMarginDeg)},
+                       {"output_noise_rms", rangeJson(w.outputNoiseRms, w.nominal.outputNoiseRms)},
+                       {"snr_db", rangeJson(w.snrDb, w.nominal.snrDb)},
+                       {"specs_pass", w.specsAtCorners.all()}};
     j["monte_carlo"] = {{"distribution", toString(mc.distribution)},
                         {"seed", mc.seed},
                         {"trials", mc.trials},
@@ -579,6 +615,16 @@ std::string spreadToText(const WorstCaseResult &w, const MonteCarloResult &mc,
     rangeLine("gain          ", w.gain, w.nominal.gain, gainFmt);
     rangeLine("bandwidth     ", w.bandwidthHz, w.nominal.bandwidthHz, hzFmt);
     rangeLine("phase margin  ", w.phaseMarginDeg, w.nominal.phaseMarginDeg, degreesText);
+    if (w.nominal.outputNoiseRms || w.outputNoiseRms.max) {
+        const std::string out = gainUnit.substr(0, gainUnit.find('/'));
+        rangeLine("output noise  ", w.outputNoiseRms, w.nominal.outputNoiseRms,
+                  [&](const OptionalNumber &v) { return numberText(v, out + " rms"); });
+    }
+    if (w.nominal.snrDb || w.snrDb.min)
+        rangeLine("SNR           ", w.snrDb, w.nominal.snrDb,
+                  [](const OptionalNumber &v) { return numberText(v, "dB"); });
+    os << "  specs         "
+       << (w.specsAtCorners.all() ? "met at every corner" : "missed at some corner") << "\n";
 
     os << "\nMonte Carlo (" << mc.completed << " of " << mc.trials << " trials, "
        << toString(mc.distribution) << ", seed " << mc.seed << "):\n";

@@ -1,5 +1,6 @@
 #include "loopsketch/analysis/suggest.h"
 
+#include "loopsketch/analysis/spread.h"
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/base/value.h"
 #include "loopsketch/design/designvalidation.h"
@@ -99,18 +100,33 @@ Result<std::vector<SuggestRange>> searchRanges(const Design &design, const Sugge
     return out;
 }
 
-/// Ordering key: meets every spec, then |gain error|, then larger phase margin.
-bool better(const Suggestion &a, const Suggestion &b)
+bool roughlyLess(double a, double b)
 {
-    if (a.meetsSpecs != b.meetsSpecs)
-        return a.meetsSpecs;
-    const double ea = a.gainErrorPct ? std::abs(*a.gainErrorPct) : HUGE_VAL;
-    const double eb = b.gainErrorPct ? std::abs(*b.gainErrorPct) : HUGE_VAL;
-    if (ea != eb)
-        return ea < eb;
-    const double pa = a.metrics.phaseMarginDeg.value_or(-HUGE_VAL);
-    const double pb = b.metrics.phaseMarginDeg.value_or(-HUGE_VAL);
-    return pa > pb;
+    // objectives within 1e-9 relative or 1e-12 absolute are one value: round-off must not
+    // order rows
+    return a < b && !(std::abs(a - b) <= 1e-9 * std::max(std::abs(a), std::abs(b)) + 1e-12);
+}
+
+bool valuesBefore(const Suggestion &a, const Suggestion &b)
+{
+    for (std::size_t k = 0; k < a.values.size() && k < b.values.size(); ++k)
+        if (a.values[k].second != b.values[k].second)
+            return a.values[k].second < b.values[k].second;
+    return false;
+}
+
+/// The nominal order of the shortlist: specs met at nominal, objective, decades, values.
+bool nominallyBefore(const Suggestion &a, const Suggestion &b, const Specs &specs)
+{
+    const int ma = a.specs.met(specs), mb = b.specs.met(specs);
+    if (ma != mb)
+        return ma > mb;
+    if (roughlyLess(a.objective, b.objective) || roughlyLess(b.objective, a.objective))
+        return a.objective < b.objective;
+    if (roughlyLess(a.decadesFromCurrent, b.decadesFromCurrent)
+        || roughlyLess(b.decadesFromCurrent, a.decadesFromCurrent))
+        return a.decadesFromCurrent < b.decadesFromCurrent;
+    return valuesBefore(a, b);
 }
 
 std::string unmetText(const Specs &specs, bool gain, bool bandwidth, bool margin)
@@ -135,27 +151,74 @@ std::string unmetText(const Specs &specs, bool gain, bool bandwidth, bool margin
     return s + "; the best attempts are shown";
 }
 
+/// The worst case and yield of one row: worstCase() and monteCarlo() on the design with the
+/// row's values; a row without any toleranced quantity takes its nominal verdict.
+void addSpread(const Design &design, const SuggestOptions &o, Suggestion &s)
+{
+    Design d = design;
+    for (const auto &[id, v] : s.values) {
+        Part *p = d.findPart(id);
+        p->fields[std::string(p->primaryField())] = Value{v, {}};
+    }
+    SpreadOptions spread;
+    spread.trials = o.yieldTrials;
+    spread.seed = o.seed;
+    spread.threads = o.threads;
+    spread.pointsPerDecade = o.pointsPerDecade;
+    spread.cancel = o.cancel;
+    if (auto quantities = spreadQuantities(d, spread); !quantities) {
+        s.toleranced = false;
+        s.worstSpecs = s.specs;
+        s.yield = s.meetsSpecs ? 1.0 : 0.0;
+    } else {
+        auto worst = worstCase(d, spread);
+        auto mc = monteCarlo(d, spread);
+        if (worst && !worst->cancelled) {
+            s.worstSpecs = worst->specsAtCorners;
+            s.worstSpecs &= s.specs;
+        } else {
+            s.worstSpecs = SpecCheck{false, false, false, false, false, false, "no worst case"};
+        }
+        s.yield = mc ? mc->yield : 0.0;
+    }
+    s.worstCasePass = s.worstSpecs.all();
+    s.specsMetWorstCase = s.worstSpecs.met(design.specs);
+}
+
 /// The suggestions of the combinations `chosen` whose trial ran (`done` 1), with their
-/// metrics; the first `inWindow` lie inside the gain window. Keeps the `best` best in
-/// `r.suggestions` and says in `r.unmet` why no combination meets every spec.
-void rankSuggestions(const Design &design, const std::vector<std::size_t> &chosen,
-                     std::size_t inWindow, const std::vector<TrialMetrics> &metrics,
-                     const std::vector<char> &done, int best, SuggestResult &r)
+/// metrics; the first `inWindow` lie inside the gain window. Shortlists the best by nominal,
+/// computes their worst case and yield, keeps the `best` best in `r.suggestions` and says in
+/// `r.unmet` why no combination meets every spec.
+void rankSuggestions(const Design &design, const SuggestOptions &o,
+                     const std::vector<std::size_t> &chosen, std::size_t inWindow,
+                     const std::vector<TrialMetrics> &metrics, const std::vector<char> &done,
+                     SuggestResult &r)
 {
     std::vector<Suggestion> all;
     bool anyBandwidth = false, anyMargin = false;
+    r.noiseObjective = hasNoiseSpec(design.specs);
     for (std::size_t i = 0; i < chosen.size(); ++i) {
         if (done[i] != 1)
             continue;
         Suggestion s;
         std::size_t left = chosen[i];
         for (const auto &range : r.ranges) {
-            s.values.emplace_back(range.part, range.values[left % range.values.size()]);
+            const double v = range.values[left % range.values.size()];
+            s.values.emplace_back(range.part, v);
+            s.decadesFromCurrent += std::abs(std::log10(v / range.current));
             left /= range.values.size();
         }
         s.metrics = metrics[i];
         if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
             s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
+        if (r.noiseObjective)
+            s.objective = s.metrics.outputNoiseRms.value_or(HUGE_VAL);
+        else
+            s.objective = s.metrics.gain && r.targetGain != 0
+                ? std::abs(*s.metrics.gain - r.targetGain) / std::abs(r.targetGain)
+                : HUGE_VAL;
+        if (!std::isfinite(s.decadesFromCurrent))
+            s.decadesFromCurrent = HUGE_VAL;
         s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
         s.meetsSpecs = s.specs.all();
         if (i < inWindow) {
@@ -166,10 +229,27 @@ void rankSuggestions(const Design &design, const std::vector<std::size_t> &chose
         all.push_back(std::move(s));
     }
     const bool anyGain = inWindow > 0;
-    const std::size_t keep = std::min(all.size(), static_cast<std::size_t>(best));
-    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(keep), all.end(),
-                      better);
-    all.resize(keep);
+    const std::size_t best = static_cast<std::size_t>(o.best);
+    const std::size_t shortlist = std::min(
+        all.size(),
+        o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist)) : 4 * best);
+    std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(shortlist), all.end(),
+                      [&](const Suggestion &a, const Suggestion &b) {
+                          return nominallyBefore(a, b, design.specs);
+                      });
+    all.resize(shortlist);
+    for (Suggestion &s : all) {
+        if (o.cancel && o.cancel->load())
+            break;
+        addSpread(design, o, s);
+    }
+    std::sort(all.begin(), all.end(), ranksBefore);
+    all.resize(std::min(all.size(), best));
+    r.shortlisted = shortlist;
+    r.yieldTrials = o.yieldTrials;
+    r.seed = o.seed;
+    for (const Suggestion &s : all)
+        r.worstCaseMet = r.worstCaseMet || s.worstCasePass;
     r.suggestions = std::move(all);
     if (!r.targetsMet)
         r.unmet = unmetText(design.specs, anyGain, anyBandwidth, anyMargin);
@@ -192,6 +272,10 @@ Result<std::vector<SuggestRange>> checkRequest(const Design &design, const Sugge
     if (o.pointsPerDecade < 1 || o.pointsPerDecade > 1000)
         problems.push_back(
             error(file, {}, "points_per_decade", "points per decade must be between 1 and 1000"));
+    if (o.yieldTrials < 1 || o.yieldTrials > kMaxTrials)
+        problems.push_back(
+            error(file, {}, "trials",
+                  "yield trials must be between 1 and " + std::to_string(kMaxTrials)));
     auto ranges = searchRanges(design, o, file);
     if (!ranges)
         problems.insert(problems.end(), ranges.diagnostics().begin(), ranges.diagnostics().end());
@@ -201,6 +285,20 @@ Result<std::vector<SuggestRange>> checkRequest(const Design &design, const Sugge
 }
 
 } // namespace
+
+bool ranksBefore(const Suggestion &a, const Suggestion &b)
+{
+    if (a.specsMetWorstCase != b.specsMetWorstCase)
+        return a.specsMetWorstCase > b.specsMetWorstCase;
+    if (a.yield != b.yield)
+        return a.yield > b.yield;
+    if (roughlyLess(a.objective, b.objective) || roughlyLess(b.objective, a.objective))
+        return a.objective < b.objective;
+    if (roughlyLess(a.decadesFromCurrent, b.decadesFromCurrent)
+        || roughlyLess(b.decadesFromCurrent, a.decadesFromCurrent))
+        return a.decadesFromCurrent < b.decadesFromCurrent;
+    return valuesBefore(a, b);
+}
 
 Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &o,
                                     std::string_view file)
@@ -317,7 +415,7 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
         },
         {}, o.cancel);
 
-    rankSuggestions(design, chosen, inWindow, metrics, done, o.best, r);
+    rankSuggestions(design, o, chosen, inWindow, metrics, done, r);
     r.cancelled = r.evaluated < r.combinations;
     return r;
 }
@@ -330,6 +428,11 @@ Json number(const OptionalNumber &v)
 }
 
 } // namespace
+
+constexpr const char *kRankingText
+    = "specs met at the worst case over the tolerance box (more first), then Monte Carlo yield "
+      "(higher first), then the objective (lower first), then decades from the current values "
+      "(fewer first), then the values in the order of the parts (smaller first)";
 
 std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
 {
@@ -353,6 +456,13 @@ std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
     j["cancelled"] = r.cancelled;
     j["targets_met"] = r.targetsMet;
     j["unmet"] = r.unmet.empty() ? Json(nullptr) : Json(r.unmet);
+    j["worst_case_met"] = r.worstCaseMet;
+    j["ranking"] = kRankingText;
+    j["objective"] = r.noiseObjective ? "output_noise_rms" : "gain_distance_from_centre";
+    j["spread"] = {{"shortlisted", r.shortlisted},
+                   {"yield_trials", r.yieldTrials},
+                   {"seed", r.seed},
+                   {"distribution", "uniform"}};
     Json list = Json::array();
     for (const auto &s : r.suggestions) {
         Json values = Json::object();
@@ -363,11 +473,22 @@ std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
                         {"gain_error_pct", number(s.gainErrorPct)},
                         {"bandwidth_hz", number(s.metrics.bandwidthHz)},
                         {"phase_margin_deg", number(s.metrics.phaseMarginDeg)},
+                        {"output_noise_rms", number(s.metrics.outputNoiseRms)},
+                        {"input_noise_rms", number(s.metrics.inputNoiseRms)},
+                        {"snr_db", number(s.metrics.snrDb)},
                         {"meets_specs", s.meetsSpecs},
                         {"meets",
                          {{"gain", s.specs.gain},
                           {"bandwidth", s.specs.bandwidth},
-                          {"phase_margin", s.specs.phaseMargin}}}});
+                          {"phase_margin", s.specs.phaseMargin},
+                          {"output_noise", s.specs.outputNoise},
+                          {"snr", s.specs.snr}}},
+                        {"worst_case_pass", s.worstCasePass},
+                        {"specs_met_worst_case", s.specsMetWorstCase},
+                        {"yield", s.yield},
+                        {"toleranced", s.toleranced},
+                        {"objective", number(s.objective)},
+                        {"decades_from_current", number(s.decadesFromCurrent)}});
     }
     j["suggestions"] = list;
     return j.dump(2) + "\n";
@@ -390,6 +511,12 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
     os << "; target gain " << formatEngineering(r.targetGain, 4, gainUnit) << "\n";
     if (!r.targetsMet)
         os << r.unmet << "\n";
+    os << "Ranked by " << kRankingText << "; objective: "
+       << (r.noiseObjective ? "output noise rms" : "distance of the gain from the window centre")
+       << "\nWorst case and yield of the best " << r.shortlisted << " by nominal: " << r.yieldTrials
+       << " Monte Carlo trials each (uniform, seed " << r.seed << ")\n";
+    if (r.targetsMet && !r.worstCaseMet)
+        os << "No row meets every spec at the worst case over the tolerances\n";
     os << "\n";
     int rank = 1;
     for (const auto &s : r.suggestions) {
@@ -410,7 +537,18 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
         } else {
             os << "none";
         }
-        os << (s.meetsSpecs ? ", meets the specs" : ", misses a spec") << "\n";
+        if (s.metrics.outputNoiseRms)
+            os << ", output noise "
+               << formatEngineering(*s.metrics.outputNoiseRms, 4,
+                                    gainUnit.substr(0, gainUnit.find('/')))
+               << " rms";
+        if (s.metrics.snrDb)
+            os << ", SNR " << formatFixed(*s.metrics.snrDb, 1) << " dB";
+        os << (s.worstCasePass    ? ", meets the specs at the worst case"
+                   : s.meetsSpecs ? ", meets the specs at nominal only"
+                                  : ", misses a spec");
+        os << "; yield " << formatFixed(100.0 * s.yield, 1) << " %"
+           << (s.toleranced ? "" : " (no tolerances)") << "\n";
     }
     return os.str();
 }

@@ -5,6 +5,8 @@
 #include "loopsketch/circuit/loopcircuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
 
+#include "analysis/noisefigures.h"
+#include "analysis/noisesweep.h"
 #include "detail/phase.h"
 #include "detail/rootfinder.h"
 
@@ -25,6 +27,12 @@ Result<ReducedSystem> reduce(const Design &design, const LoopCircuitOptions &opt
     if (!system)
         return system.diagnostics();
     return ReducedSystem::build(*system);
+}
+
+/// "V" or "A": the output's unit, the numerator of the gain unit ("V/A" -> "V").
+std::string outputUnit(std::string_view gainUnit)
+{
+    return std::string(gainUnit.substr(0, gainUnit.find('/')));
 }
 
 OptionalNumber finite(double v)
@@ -70,6 +78,10 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
     for (const auto &s : full->naturalFrequencies())
         if (s.real() >= -1e-9 * std::abs(s))
             m.stable = false; // as assessStability(): right half-plane or jw axis
+    if (m.stable && full->unconfirmedPoles() > 0) { // as analyze(): poles not all located
+        m.stable = false;
+        m.stabilityKnown = false;
+    }
     const double g0 = full->entry(0.0, loopio::kOutput, loopio::kSource).real();
     m.gain = finite(g0);
     const std::complex<double> t0 = -rr->entry(0.0, loopio::kReturned, loopio::kTest);
@@ -111,6 +123,21 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
             m.phaseMarginDeg = pm;
     }
+    if (hasNoiseSpec(design.specs) && m.stable) {
+        // the band rms on the model; two grid points only, no brick-wall figure
+        const std::vector<double> ends{f.front(), f.back()};
+        const std::complex<double> points[] = {jw(ends[0]), jw(ends[1])};
+        NoiseOptions options;
+        options.closedLoopBandwidthHz = 0.0;
+        auto noise = detail::analyzeNoiseOver(design, options, ends, points);
+        if (noise) {
+            NoiseAnalysis n = std::move(noise).value();
+            detail::addSignalFigures(design, n);
+            m.outputNoiseRms = n.outputRms;
+            m.inputNoiseRms = n.inputRms;
+            m.snrDb = n.snrDb;
+        }
+    }
     return m;
 }
 
@@ -124,12 +151,53 @@ Result<double> evaluateDcGain(const Design &design)
 
 bool hasSpecs(const Specs &specs)
 {
-    return specs.gainMin || specs.gainMax || specs.bandwidthMin || specs.phaseMarginMinDeg;
+    return specCount(specs) > 0;
+}
+
+bool hasNoiseSpec(const Specs &specs)
+{
+    return specs.outputNoiseMax || specs.snrMinDb;
+}
+
+int specCount(const Specs &specs)
+{
+    return (specs.gainMin || specs.gainMax ? 1 : 0) + (specs.bandwidthMin ? 1 : 0)
+        + (specs.phaseMarginMinDeg ? 1 : 0) + (specs.outputNoiseMax ? 1 : 0)
+        + (specs.snrMinDb ? 1 : 0);
+}
+
+int SpecCheck::met(const Specs &specs) const
+{
+    if (!stable)
+        return 0;
+    return (specs.gainMin || specs.gainMax ? gain : 0) + (specs.bandwidthMin ? bandwidth : 0)
+        + (specs.phaseMarginMinDeg ? phaseMargin : 0) + (specs.outputNoiseMax ? outputNoise : 0)
+        + (specs.snrMinDb ? snr : 0);
+}
+
+SpecCheck &SpecCheck::operator&=(const SpecCheck &o)
+{
+    gain = gain && o.gain;
+    bandwidth = bandwidth && o.bandwidth;
+    phaseMargin = phaseMargin && o.phaseMargin;
+    outputNoise = outputNoise && o.outputNoise;
+    snr = snr && o.snr;
+    if (stable && !o.stable)
+        reason = o.reason;
+    stable = stable && o.stable;
+    return *this;
 }
 
 TrialMetrics trialMetricsOf(const Analysis &a)
 {
-    return {a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, a.stable};
+    TrialMetrics m{a.exact.gain, a.bandwidthHz, a.margins.phaseMarginDeg, {}, {},
+                   {},           a.stable,      a.stabilityKnown};
+    if (a.noise) {
+        m.outputNoiseRms = a.noise->outputRms;
+        m.inputNoiseRms = a.noise->inputRms;
+        m.snrDb = a.noise->snrDb;
+    }
+    return m;
 }
 
 SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics &m)
@@ -137,10 +205,12 @@ SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics 
     SpecCheck c;
     if (!m.stable) {
         c.stable = false;
-        c.reason = "unstable";
+        c.reason = m.stabilityKnown ? "unstable" : "stability unknown";
         c.gain = !(specs.gainMin || specs.gainMax);
         c.bandwidth = !specs.bandwidthMin;
         c.phaseMargin = !specs.phaseMarginMinDeg;
+        c.outputNoise = !specs.outputNoiseMax;
+        c.snr = !specs.snrMinDb;
         return c;
     }
     if (specs.gainMin || specs.gainMax) {
@@ -158,6 +228,10 @@ SpecCheck checkSpecs(const Specs &specs, const Sweep &sweep, const TrialMetrics 
     }
     if (specs.phaseMarginMinDeg)
         c.phaseMargin = m.phaseMarginDeg && *m.phaseMarginDeg >= *specs.phaseMarginMinDeg;
+    if (specs.outputNoiseMax)
+        c.outputNoise = m.outputNoiseRms && *m.outputNoiseRms <= specs.outputNoiseMax->si;
+    if (specs.snrMinDb)
+        c.snr = m.snrDb && *m.snrDb >= *specs.snrMinDb;
     return c;
 }
 
@@ -211,6 +285,28 @@ std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep, co
         v.pass = check.phaseMargin;
         if (!m.phaseMarginDeg)
             v.reason = "no loop crossover";
+        else if (!v.pass)
+            v.reason = "below the minimum";
+        out.push_back(std::move(v));
+    }
+    if (specs.outputNoiseMax) {
+        SpecVerdict v = verdict("output_noise_max", "output noise", outputUnit(gainUnit));
+        v.high = specs.outputNoiseMax->si;
+        v.value = m.outputNoiseRms;
+        v.pass = check.outputNoise;
+        if (!m.outputNoiseRms)
+            v.reason = "no output noise rms";
+        else if (!v.pass)
+            v.reason = "above the maximum";
+        out.push_back(std::move(v));
+    }
+    if (specs.snrMinDb) {
+        SpecVerdict v = verdict("snr_min_db", "SNR", "dB");
+        v.low = *specs.snrMinDb;
+        v.value = m.snrDb;
+        v.pass = check.snr;
+        if (!m.snrDb)
+            v.reason = "no SNR (no signal_level or no input-referred noise)";
         else if (!v.pass)
             v.reason = "below the minimum";
         out.push_back(std::move(v));

@@ -390,9 +390,12 @@ Result<DescriptorSystem> assembleSystem(const Netlist &netlist)
     return Stamper(netlist).run();
 }
 
-Eigen::MatrixXcd equilibrated(const Eigen::MatrixXcd &a)
+namespace {
+
+/// Every row, then every column, divided by its largest magnitude (rows and columns of
+/// zeros kept).
+template<typename Matrix> Matrix equilibratedCopy(Matrix m)
 {
-    Eigen::MatrixXcd m = a;
     for (Eigen::Index i = 0; i < m.rows(); ++i) {
         const double r = m.row(i).cwiseAbs().maxCoeff();
         if (r > 0)
@@ -406,11 +409,12 @@ Eigen::MatrixXcd equilibrated(const Eigen::MatrixXcd &a)
     return m;
 }
 
-bool isSingular(const Eigen::MatrixXcd &a)
+/// isSingular() in the matrix's own arithmetic (real is several times cheaper).
+template<typename Matrix> bool isSingularMatrix(const Matrix &a)
 {
     if (a.rows() == 0)
         return false;
-    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(equilibrated(a));
+    Eigen::PartialPivLU<Matrix> lu(equilibratedCopy<Matrix>(a));
     // Eigen's estimate reads an exactly zero pivot as well conditioned (rcond 1 for
     // diag(1, 0)): look at the pivots first.
     const auto pivots = lu.matrixLU().diagonal().cwiseAbs();
@@ -419,27 +423,21 @@ bool isSingular(const Eigen::MatrixXcd &a)
     return !(lu.rcond() > kMinReciprocalCondition);
 }
 
+} // namespace
+
+Eigen::MatrixXcd equilibrated(const Eigen::MatrixXcd &a)
+{
+    return equilibratedCopy<Eigen::MatrixXcd>(a);
+}
+
+bool isSingular(const Eigen::MatrixXcd &a)
+{
+    return isSingularMatrix(a);
+}
+
 bool isSingular(const Eigen::MatrixXd &a)
 {
-    if (a.rows() == 0)
-        return false;
-    // The same equilibration and test in real arithmetic, several times cheaper.
-    Eigen::MatrixXd m = a;
-    for (Eigen::Index i = 0; i < m.rows(); ++i) {
-        const double r = m.row(i).cwiseAbs().maxCoeff();
-        if (r > 0)
-            m.row(i) /= r;
-    }
-    for (Eigen::Index j = 0; j < m.cols(); ++j) {
-        const double c = m.col(j).cwiseAbs().maxCoeff();
-        if (c > 0)
-            m.col(j) /= c;
-    }
-    Eigen::PartialPivLU<Eigen::MatrixXd> lu(m);
-    const auto pivots = lu.matrixLU().diagonal().cwiseAbs();
-    if (!(pivots.minCoeff() > 0) || !pivots.allFinite())
-        return true;
-    return !(lu.rcond() > kMinReciprocalCondition);
+    return isSingularMatrix(a);
 }
 
 std::string unknownLabel(const DescriptorSystem &system, std::size_t index)

@@ -51,8 +51,13 @@ const std::array<PartSpec, 7> &specTable()
            "parallel capacitance", "F"},
           // the DC current through the source (dark current plus mean photocurrent), A: its
           // shot noise 2q|i_dc| is a noise source of its own (absent: no shot noise)
-          {"i_dc", ValueKind::Current, ValueRange::Any, false, 0.0, "DC current (shot noise)",
-           "A"}},
+          {"i_dc", ValueKind::Current, ValueRange::Any, false, 0.0, "DC current (shot noise)", "A"},
+          // relative tolerances of r_parallel and c_parallel (a photodiode's spread), used by
+          // spread and suggest like a part's `tolerance` (absent: exact)
+          {"r_parallel_tolerance", ValueKind::Tolerance, ValueRange::NonNegative, false, 0.0,
+           "r_parallel tolerance", "%"},
+          {"c_parallel_tolerance", ValueKind::Tolerance, ValueRange::NonNegative, false, 0.0,
+           "c_parallel tolerance", "%"}},
          false,
          true},
         {PartType::GainBlock,
@@ -61,6 +66,9 @@ const std::array<PartSpec, 7> &specTable()
          {{"gain", ValueKind::Gain, ValueRange::Any, true, 0.0, "DC gain", "V/V"},
           // absent gbw: no pole from gbw (default 0 means "not given")
           {"gbw", ValueKind::Frequency, ValueRange::Positive, false, 0.0, "gain-bandwidth", "Hz"},
+          // relative tolerance of gbw, used by spread and suggest (absent: exact)
+          {"gbw_tolerance", ValueKind::Tolerance, ValueRange::NonNegative, false, 0.0,
+           "gbw tolerance", "%"},
           // absent r_in: infinite input resistance
           {"r_in", ValueKind::Resistance, ValueRange::Positive, false, kInfinity,
            "diff. input resistance", "Ω"},
@@ -177,13 +185,16 @@ std::vector<PartFieldText> partFieldTexts(const Part &part)
         row.label = std::string(spec.label);
         row.given = part.has(spec.name);
         const double v = part.number(spec.name);
+        if (spec.kind == ValueKind::Tolerance && !row.given)
+            continue; // a tolerance does not enter the analysis: listed only when given
         if (spec.name == "gbw" && !row.given) {
             row.value = "\u2014"; // no pole from a gain-bandwidth
             row.note = "not given";
             rows.push_back(std::move(row));
             continue;
         }
-        row.value = withUnit(v, spec.unit);
+        row.value = spec.kind == ValueKind::Tolerance ? formatValue(v, ValueKind::Tolerance, 3)
+                                                      : withUnit(v, spec.unit);
         if (spec.kind == ValueKind::Gain)
             row.value += " (" + decibelText(v) + ")";
         if ((spec.kind == ValueKind::Resistance || spec.kind == ValueKind::Capacitance)
@@ -307,6 +318,11 @@ const Part *Design::uniquePart(PartType type) const
 double Design::temperatureK() const
 {
     return temperature ? temperature->si : kDefaultTemperatureK;
+}
+
+double Design::noiseSpotFrequencyHz() const
+{
+    return noiseSpotHz ? noiseSpotHz->si : kDefaultNoiseSpotHz;
 }
 
 double Design::settlingBandFraction() const

@@ -324,7 +324,9 @@ public:
             typeError("", "specs", j, "an object");
             return;
         }
-        checkKeys(j, {"gain", "bandwidth_min", "phase_margin_min_deg"}, "", "specs");
+        checkKeys(
+            j, {"gain", "bandwidth_min", "phase_margin_min_deg", "output_noise_max", "snr_min_db"},
+            "", "specs");
         if (auto it = j.find("gain"); it != j.end()) {
             if (!it->is_array() || it->size() != 2) {
                 error("", "specs.gain",
@@ -347,6 +349,37 @@ public:
             else
                 typeError("", "specs.phase_margin_min_deg", *it, "a number of degrees");
         }
+        if (auto it = j.find("output_noise_max"); it != j.end())
+            specs.outputNoiseMax = readSignalValue(*it, "specs.output_noise_max");
+        if (auto it = j.find("snr_min_db"); it != j.end()) {
+            if (it->is_number())
+                specs.snrMinDb = it->get<double>();
+            else
+                typeError("", "specs.snr_min_db", *it, "a number of decibels");
+        }
+    }
+
+    static std::string trimmedUnit(std::string text)
+    {
+        text.pop_back(); // the 'V'
+        while (!text.empty() && text.back() == ' ')
+            text.pop_back();
+        return text;
+    }
+
+    // A voltage or a current ("5u", "5uA", "2 mV"): the unit follows the design's source and
+    // output, so either symbol is accepted and the text kept as written.
+    std::optional<Value> readSignalValue(const Json &j, const std::string &field)
+    {
+        if (j.is_string()) {
+            std::string text = j.get<std::string>();
+            if (!text.empty() && text.back() == 'V') {
+                Result<double> v = parseValue(trimmedUnit(text), ValueKind::Plain, ValueRange::Any);
+                if (v.ok())
+                    return Value{*v, text};
+            }
+        }
+        return readValue(j, ValueKind::Current, "", field);
     }
 
     void readCandidates(const Json &j, const Design &d, std::vector<Candidate> &out)
@@ -513,7 +546,8 @@ public:
         }
         checkKeys(root,
                   {"schema", "title", "revision", "notes", "parts", "input", "output", "sweep",
-                   "specs", "candidates", "sketch", "temperature", "noise_band", "settling_band"},
+                   "specs", "candidates", "sketch", "temperature", "noise_band", "settling_band",
+                   "signal_level", "noise_spot_hz"},
                   "", "");
         if (auto it = root.find("schema"); it == root.end()) {
             error("", "schema",
@@ -577,6 +611,10 @@ public:
             d.settlingBand = readValue(*it, ValueKind::Tolerance, "", "settling_band");
         if (auto it = root.find("noise_band"); it != root.end())
             d.noiseBand = readNoiseBand(*it);
+        if (auto it = root.find("signal_level"); it != root.end())
+            d.signalLevel = readSignalValue(*it, "signal_level");
+        if (auto it = root.find("noise_spot_hz"); it != root.end())
+            d.noiseSpotHz = readValue(*it, ValueKind::Frequency, "", "noise_spot_hz");
         if (auto it = root.find("specs"); it != root.end())
             readSpecs(*it, d.specs);
         if (auto it = root.find("candidates"); it != root.end())

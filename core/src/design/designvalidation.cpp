@@ -139,8 +139,12 @@ void checkParts(const Design &d, Checker &c, bool wiring)
             c.checkNumber(label, std::string(f.name), it->second.si, f.range, it->second.text);
         }
         for (const auto &[name, value] : p.fields) {
-            if (!findFieldSpec(p.type, name))
+            const FieldSpec *field = findFieldSpec(p.type, name);
+            if (!field)
                 c.add(label, name, "a " + typeName(p.type) + " has no field " + inQuotes(name));
+            else if (field->kind == ValueKind::Tolerance && std::isfinite(value.si)
+                     && value.si >= 1)
+                c.add(label, name, name + " must be below 100 %");
         }
         if (p.type == PartType::GainBlock) {
             if (auto it = p.fields.find("gain"); it != p.fields.end() && it->second.si == 0.0)
@@ -182,6 +186,12 @@ void checkConnectivity(const Design &d, Checker &c)
             else
                 groups.join(first, n);
         }
+    }
+    if (d.parts.empty()) {
+        // A blank page: say how to begin rather than what a finished circuit lacks.
+        c.add("", "",
+              "no parts yet: place a signal source, a gain block, a load and a ground to start");
+        return;
     }
     if (!groundUsed) {
         c.add("", "", "no part connects to ground node \"0\"");
@@ -323,6 +333,23 @@ void checkSpecs(const Specs &s, Checker &c)
         c.add("", "specs.phase_margin_min_deg",
               "phase_margin_min_deg must be from 0 to 180 degrees (excluded)");
     }
+    if (s.outputNoiseMax && !(std::isfinite(s.outputNoiseMax->si) && s.outputNoiseMax->si > 0))
+        c.add("", "specs.output_noise_max",
+              "output_noise_max must be an rms value greater than zero");
+    if (s.snrMinDb && !std::isfinite(*s.snrMinDb))
+        c.add("", "specs.snr_min_db", "snr_min_db must be a finite number of decibels");
+}
+
+void checkSignal(const Design &d, Checker &c)
+{
+    if (d.signalLevel && !(std::isfinite(d.signalLevel->si) && d.signalLevel->si > 0))
+        c.add("", "signal_level", "signal_level must be a peak value greater than zero");
+    if (d.specs.snrMinDb && !d.signalLevel)
+        c.add("", "specs.snr_min_db",
+              "snr_min_db needs the design's signal_level (the peak of a full-scale sine at the "
+              "source)");
+    if (d.noiseSpotHz && !(std::isfinite(d.noiseSpotHz->si) && d.noiseSpotHz->si > 0))
+        c.add("", "noise_spot_hz", "noise_spot_hz must be a frequency greater than zero");
 }
 
 void checkTemperature(const Design &d, Checker &c)
@@ -487,6 +514,7 @@ Diagnostics validateDesign(const Design &design, DesignRules rules, std::string_
     checkTemperature(design, c);
     checkSettlingBand(design, c);
     checkNoiseBand(design, c);
+    checkSignal(design, c);
     checkCandidates(design, c);
     checkSketch(design, c);
     return c.take();

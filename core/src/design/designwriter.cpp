@@ -103,6 +103,10 @@ std::string serializeDesign(const Design &d)
     if (d.noiseBand)
         s += ",\n  \"noise_band\": [" + jsonValue(d.noiseBand->low) + ", "
             + jsonValue(d.noiseBand->high) + "]";
+    if (d.noiseSpotHz)
+        s += ",\n  \"noise_spot_hz\": " + jsonValue(*d.noiseSpotHz);
+    if (d.signalLevel)
+        s += ",\n  \"signal_level\": " + jsonValue(*d.signalLevel);
 
     std::vector<std::string> specs;
     if (d.specs.gainMin || d.specs.gainMax) {
@@ -113,6 +117,10 @@ std::string serializeDesign(const Design &d)
         specs.push_back("\"bandwidth_min\": " + jsonValue(*d.specs.bandwidthMin));
     if (d.specs.phaseMarginMinDeg)
         specs.push_back("\"phase_margin_min_deg\": " + jsonNumber(*d.specs.phaseMarginMinDeg));
+    if (d.specs.outputNoiseMax)
+        specs.push_back("\"output_noise_max\": " + jsonValue(*d.specs.outputNoiseMax));
+    if (d.specs.snrMinDb)
+        specs.push_back("\"snr_min_db\": " + jsonNumber(*d.specs.snrMinDb));
     if (!specs.empty()) {
         s += ",\n  \"specs\": {";
         for (std::size_t i = 0; i < specs.size(); ++i)

@@ -110,6 +110,16 @@ void addNetworkCopy(Netlist &n, const std::vector<Part> &parts, const std::strin
         addPassivePart(n, *p, prefix, map);
 }
 
+/// The h parameters of what lies between the source's terminals (port 1) and the gain-block
+/// input it drives (port 2, node `sourceInput`); with no parts there it is a plain wire.
+Result<TwoPortNetwork> sourceSideNetwork(const Design &design, const std::vector<Part> &sourceParts,
+                                         const std::string &sourceInput)
+{
+    const auto [hot, cold] = inputPortNodes(design);
+    const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
+    return TwoPortNetwork::build(sourceParts, srcHot, sourceInput, ParameterSet::H);
+}
+
 } // namespace
 
 struct LoopModel::TwoPortSystems
@@ -301,20 +311,14 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
         sys->aSeriesOutput = optionalOf(reduce(withCopies(so)));
     }
 
-    {
-        // h parameters of what lies between the source's terminals (port 1) and the
-        // gain-block input it drives (port 2); with no parts there it is a plain wire.
-        const auto [hot, cold] = inputPortNodes(design);
-        const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
-        auto side = TwoPortNetwork::build(sourceParts, srcHot, t.sourceInput, ParameterSet::H);
-        if (!side) {
-            m_twoPortProblem = "the parts between the source and the gain block have no "
-                               "two-port form: "
-                + side.errorText();
-            return;
-        }
-        sys->sourceSide = std::move(side).value();
+    auto side = sourceSideNetwork(design, sourceParts, t.sourceInput);
+    if (!side) {
+        m_twoPortProblem = "the parts between the source and the gain block have no "
+                           "two-port form: "
+            + side.errorText();
+        return;
     }
+    sys->sourceSide = std::move(side).value();
     sys->readPartValues(design);
     m_twoPort = sys;
 }
@@ -653,6 +657,16 @@ void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
             c.outputLoading[i] = (1.0 + x.rOut * yl) / (1.0 + x.rOut * (yl + yn2));
         }
     }
+    // A port the exact solution has no solution at (a test current with no path back, as
+    // into an ideal input through series capacitors) has an infinite impedance; the
+    // estimate's formula then divides rounding by rounding (a port admittance that is zero
+    // at some frequencies and 1e-20 at others), so it is missing as a whole too.
+    const Complex nan(std::numeric_limits<double>::quiet_NaN(),
+                      std::numeric_limits<double>::quiet_NaN());
+    if (!m_input)
+        std::fill(c.zInTwoPort.begin(), c.zInTwoPort.end(), nan);
+    if (!m_output)
+        std::fill(c.zOutTwoPort.begin(), c.zOutTwoPort.end(), nan);
 }
 
 std::vector<Complex> LoopModel::closedLoopPoles() const

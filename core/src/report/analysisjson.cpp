@@ -98,6 +98,10 @@ constexpr const char *kBrickWallMethod
       "-3 dB bandwidth (single-pole equivalent noise bandwidth), times the gain at the sweep "
       "start";
 
+constexpr const char *kLowFrequencyMethod
+    = "output density integrated on the circuit model over 0.1 Hz to 10 Hz; peak-to-peak = "
+      "6.6 x rms (Gaussian noise, exceeded 0.1 % of the time)";
+
 Json noiseJson(const Analysis &a)
 {
     if (!a.noise || a.noise->frequenciesHz.empty())
@@ -127,6 +131,24 @@ Json noiseJson(const Analysis &a)
     j["output_density"] = number(n.outputDensity.front());
     j["input_density"] = number(n.inputDensity.front());
     j["noise_gain"] = number(n.noiseGain.front());
+    j["spot"] = {{"at_hz", number(n.spot.atHz)},
+                 {"output_density", number(n.spot.outputDensity)},
+                 {"input_density", number(n.spot.inputDensity)},
+                 {"noise_figure_db", number(n.spot.noiseFigureDb)}};
+    if (n.lowFrequency)
+        j["low_frequency"] = {{"low_hz", number(n.lowFrequency->lowHz)},
+                              {"high_hz", number(n.lowFrequency->highHz)},
+                              {"output_rms", number(n.lowFrequency->outputRms)},
+                              {"output_peak_to_peak", number(n.lowFrequency->outputPeakToPeak)},
+                              {"input_peak_to_peak", number(n.lowFrequency->inputPeakToPeak)},
+                              {"method", kLowFrequencyMethod}};
+    else
+        j["low_frequency"] = nullptr;
+    j["signal_level"] = number(n.signalLevel);
+    j["output_peak"] = number(n.outputPeak);
+    j["slew_rate"] = number(n.slewRate);
+    j["snr_db"] = number(n.snrDb);
+    j["noise_figure_db"] = number(n.noiseFigureDb);
     const double total = n.outputRms ? *n.outputRms * *n.outputRms : 0.0;
     Json sources = Json::array();
     for (const NoiseContribution &c : n.contributions) {
@@ -147,7 +169,8 @@ Json specsJson(const Analysis &a)
 {
     Json list = Json::array();
     for (const SpecVerdict &v : a.specs) {
-        Json limit = v.isWindow ? Json::array({number(v.low), number(v.high)}) : number(v.low);
+        Json limit = v.isWindow ? Json::array({number(v.low), number(v.high)})
+                                : number(v.low ? v.low : v.high);
         list.push_back({{"name", v.name},
                         {"limit", limit},
                         {"value", number(v.value)},
@@ -234,7 +257,21 @@ std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a
                   {"noise.noise_gain", out + "/V"},
                   {"noise.contributions[].output_density", outDensity},
                   {"noise.contributions[].rms", out},
-                  {"noise.contributions[].share_pct", "%"}});
+                  {"noise.contributions[].share_pct", "%"},
+                  {"noise.spot.at_hz", "Hz"},
+                  {"noise.spot.output_density", outDensity},
+                  {"noise.spot.input_density", inDensity},
+                  {"noise.spot.noise_figure_db", "dB"},
+                  {"noise.low_frequency.low_hz", "Hz"},
+                  {"noise.low_frequency.high_hz", "Hz"},
+                  {"noise.low_frequency.output_rms", out},
+                  {"noise.low_frequency.output_peak_to_peak", out},
+                  {"noise.low_frequency.input_peak_to_peak", in},
+                  {"noise.signal_level", in},
+                  {"noise.output_peak", out},
+                  {"noise.slew_rate", out + "/s"},
+                  {"noise.snr_db", "dB"},
+                  {"noise.noise_figure_db", "dB"}});
     }
     for (std::size_t i = 0; i < a.specs.size(); ++i) {
         const std::string key = "specs[" + std::to_string(i) + "]";
@@ -287,7 +324,7 @@ std::string analysisToJson(const Analysis &a)
                          {"damping", number(p.damping)},
                          {"q", number(p.q)}});
     j["closed_loop"] = {
-        {"stable", a.stable},
+        {"stable", a.stabilityKnown ? Json(a.stable) : Json(nullptr)},
         {"rhp_poles", a.rhpPoles},
         {"nyquist",
          {{"encirclements",

@@ -103,7 +103,11 @@ private:
 void writeHeading(std::ostringstream &os, const Analysis &a, const Design *design)
 {
     os << a.title << "\n\n";
-    if (!a.stable)
+    if (!a.stable && !a.stabilityKnown)
+        os << "STABILITY UNKNOWN: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
+           << ".\nNo bandwidth, peaking, step response or noise rms: they are not given for a "
+              "loop whose stability is unknown.\n\n";
+    else if (!a.stable)
         os << "UNSTABLE: " << a.closedLoopReason.substr(a.closedLoopReason.find(':') + 2)
            << ".\nNo bandwidth, peaking, step response or noise rms: they do not exist for an "
               "unstable loop.\n\n";
@@ -156,7 +160,10 @@ void writeDc(std::ostringstream &os, TextLines &out, const Analysis &a)
 void writeStabilityAndMargins(std::ostringstream &os, TextLines &out, const Analysis &a)
 {
     os << "\nStability and response\n";
-    out.row("closed loop", a.stable ? "stable" : "UNSTABLE");
+    out.row("closed loop",
+            a.stable               ? "stable"
+                : a.stabilityKnown ? "UNSTABLE"
+                                   : "stability unknown");
     for (const ClosedLoopPole &p : a.poles) {
         if (p.s.real() < 0)
             continue;
@@ -186,7 +193,7 @@ void writeClosedLoop(TextLines &out, const Analysis &a)
     if (!a.stable) {
         for (const char *label : {"closed-loop bandwidth", "peaking", "step rise time",
                                   "step overshoot", "step settling"})
-            out.row(label, "none (unstable)");
+            out.row(label, a.stabilityKnown ? "none (unstable)" : "none (stability unknown)");
         return;
     }
     if (!a.bandwidthHz && !a.curves.gainExact.empty() && a.exact.gain
@@ -217,22 +224,23 @@ void writeClosedLoop(TextLines &out, const Analysis &a)
         out.row("step response", "— (" + a.step.problem + ")");
 }
 
-/// The noise section. Returns false where the text ends with it: an unstable loop has no
-/// band and no shares of a power that does not exist, and the summary stops there.
-bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
+/// The noise section. An unstable loop has no band and no shares of a power that does not
+/// exist: its section ends with the rms figures' absence.
+void writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
 {
     if (!a.noise || a.noise->frequenciesHz.empty()) {
         if (!a.noiseProblem.empty())
             os << "\nNoise: " << a.noiseProblem << "\n";
-        return true;
+        return;
     }
     const NoiseAnalysis &n = *a.noise;
     const auto [outUnit, inUnit] = noiseUnits(a.gainUnit);
     os << "\nNoise (" << formatPlain(n.temperatureK, 6) << " K)\n";
     if (!a.stable) {
-        out.row("output, rms", "none (unstable)");
-        out.row("input-referred, rms", "none (unstable)");
-        return false;
+        const char *why = a.stabilityKnown ? "none (unstable)" : "none (stability unknown)";
+        out.row("output, rms", why);
+        out.row("input-referred, rms", why);
+        return;
     }
     out.show("output, rms", n.outputRms, outUnit);
     if (n.inputProblem.empty())
@@ -243,6 +251,29 @@ bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
             formatEngineering(n.bandLowHz, 5, "Hz") + " – "
                 + formatEngineering(n.bandHighHz, 5, "Hz"));
     out.row("band method", n.bandMethod);
+    const std::string spotAt = " at " + formatEngineering(n.spot.atHz, 4, "Hz");
+    out.show("spot output" + spotAt, n.spot.outputDensity, outUnit + "/\u221AHz");
+    out.show("spot input" + spotAt, n.spot.inputDensity, inUnit + "/\u221AHz");
+    if (n.lowFrequency)
+        out.row("p-p, 0.1 Hz to 10 Hz",
+                formatEngineering(n.lowFrequency->outputPeakToPeak, 4, outUnit) + " at the output"
+                    + (n.lowFrequency->inputPeakToPeak
+                           ? ", " + formatEngineering(*n.lowFrequency->inputPeakToPeak, 4, inUnit)
+                               + " input-referred"
+                           : std::string()));
+    if (n.signalLevel) {
+        out.show("full-scale signal (peak)", n.signalLevel, inUnit);
+        out.show("SNR", n.snrDb, "dB");
+        out.show("output peak", n.outputPeak, outUnit);
+        if (n.slewRate)
+            out.row("slew rate needed",
+                    formatEngineering(*n.slewRate, 4, outUnit + "/s") + " (full-scale sine at "
+                        + formatEngineering(n.bandHighHz, 4, "Hz") + ")");
+    }
+    if (n.noiseFigureDb || n.spot.noiseFigureDb) {
+        out.show("noise figure (band)", n.noiseFigureDb, "dB");
+        out.show("noise figure" + spotAt, n.spot.noiseFigureDb, "dB");
+    }
     if (n.brickWall && n.brickWall->outputRms)
         out.row("brick-wall equivalent",
                 formatEngineering(*n.brickWall->outputRms, 5, outUnit)
@@ -264,7 +295,6 @@ bool writeNoise(std::ostringstream &os, TextLines &out, const Analysis &a)
                 noiseSourceLabel(*order[i]) + ": " + formatPlain(pct, pct < 1e-3 ? 2 : 4)
                     + " % of the power, " + formatEngineering(rms, 5, outUnit) + " rms");
     }
-    return true;
 }
 
 void writeSpecs(std::ostringstream &os, const Analysis &a)
@@ -278,7 +308,8 @@ void writeSpecs(std::ostringstream &os, const Analysis &a)
         };
         std::string text = v.isWindow
             ? limit(v.low, "-\u221E") + " \u2026 " + limit(v.high, "+\u221E")
-            : "\u2265 " + limit(v.low, "\u2014");
+            : v.low ? "\u2265 " + limit(v.low, "\u2014")
+                    : "\u2264 " + limit(v.high, "\u2014");
         text += ", value "
             + (v.value ? formatEngineering(*v.value, 5, v.unit) : std::string("\u2014"));
         text += v.pass ? ": pass" : ": FAIL";
@@ -319,8 +350,8 @@ std::string analysisToText(const Analysis &a, const Design *design)
     writeDc(os, out, a);
     writeStabilityAndMargins(os, out, a);
     writeClosedLoop(out, a);
-    if (writeNoise(os, out, a))
-        writeSpecs(os, a);
+    writeNoise(os, out, a);
+    writeSpecs(os, a);
     return os.str();
 }
 

@@ -150,11 +150,15 @@ private:
         case ComparisonRowKind::OutputNoise:
         case ComparisonRowKind::InputNoise:
             return noise(row.kind == ComparisonRowKind::OutputNoise, cell);
+        case ComparisonRowKind::Snr:
+            return snr(cell);
         case ComparisonRowKind::WorstCaseGain:
             return worstCase(cell);
         case ComparisonRowKind::SpecGain:
         case ComparisonRowKind::SpecBandwidth:
         case ComparisonRowKind::SpecPhaseMargin:
+        case ComparisonRowKind::SpecOutputNoise:
+        case ComparisonRowKind::SpecSnr:
         case ComparisonRowKind::SpecsMet:
             return spec(row.kind, cell);
         }
@@ -228,6 +232,22 @@ private:
             -*rms);
     }
 
+    void snr(ComparisonCell &cell)
+    {
+        const Analysis &a = *m_a;
+        if (!m_d.signalLevel)
+            return missing(cell, "the design gives no signal_level");
+        if (!a.noise || !finite(a.noise->snrDb))
+            return missing(cell,
+                           a.stable ? "no input-referred noise rms"
+                                    : "no noise rms: the loop is unstable");
+        set(cell, fixed(*a.noise->snrDb, 1, " dB"),
+            "full-scale sine of "
+                + formatEngineering(m_d.signalLevel->si, 3, noiseUnits(a.gainUnit).input)
+                + " peak against the noise over the band",
+            *a.noise->snrDb);
+    }
+
     void worstCase(ComparisonCell &cell)
     {
         if (!m_in.worstCase) {
@@ -279,17 +299,17 @@ private:
                            "a bandwidth beyond the sweep counts as a pass");
         case ComparisonRowKind::SpecPhaseMargin:
             return verdict(check.stable && check.phaseMargin, "no loop crossover counts as a fail");
+        case ComparisonRowKind::SpecOutputNoise:
+            return verdict(check.stable && check.outputNoise, "output rms over the noise band");
+        case ComparisonRowKind::SpecSnr:
+            return verdict(check.stable && check.snr, "full-scale sine against the noise rms");
         default:
             break;
         }
-        const int checked = int(bool(s.gainMin || s.gainMax)) + int(bool(s.bandwidthMin))
-            + int(bool(s.phaseMarginMinDeg));
+        const int checked = specCount(s);
         if (checked == 0)
             return missing(cell, "the design has no specs");
-        const int met = check.stable
-            ? int((s.gainMin || s.gainMax) && check.gain) + int(s.bandwidthMin && check.bandwidth)
-                + int(s.phaseMarginMinDeg && check.phaseMargin)
-            : 0;
+        const int met = check.met(s);
         cell.text = std::to_string(met) + " of " + std::to_string(checked);
         cell.verdict = met == checked ? ComparisonVerdict::Pass : ComparisonVerdict::Fail;
         cell.score = met;
@@ -331,8 +351,17 @@ std::vector<ComparisonRow> layOutRows(const Design &d)
     rows.push_back({K::Desensitivity, t::kDesensitivity, {}, {}});
     rows.push_back({K::ZIn, t::kZIn, {}, {}});
     rows.push_back({K::ZOut, t::kZOut, {}, {}});
-    rows.push_back({K::OutputNoise, t::kOutputNoise, {}, {}});
-    rows.push_back({K::InputNoise, t::kInputNoise, {}, {}});
+    rows.push_back({K::OutputNoise,
+                    t::kOutputNoise,
+                    s.outputNoiseMax ? "lowest output noise (the spec sets a maximum)" : "",
+                    {}});
+    rows.push_back({K::InputNoise,
+                    t::kInputNoise,
+                    s.snrMinDb ? "lowest input-referred noise (the SNR spec sets a minimum)" : "",
+                    {}});
+    if (d.signalLevel)
+        rows.push_back(
+            {K::Snr, t::kSnr, s.snrMinDb ? "highest SNR (the spec sets a minimum)" : "", {}});
     rows.push_back({K::WorstCaseGain, t::kWorstCase, {}, {}});
     if (gainSpec)
         rows.push_back({K::SpecGain, "spec: gain window", {}, {}});
@@ -346,6 +375,15 @@ std::vector<ComparisonRow> layOutRows(const Design &d)
                         "spec: phase margin ≥ " + formatEngineering(*s.phaseMarginMinDeg, 3) + "°",
                         {},
                         {}});
+    if (s.outputNoiseMax)
+        rows.push_back(
+            {K::SpecOutputNoise,
+             "spec: output noise ≤ "
+                 + formatEngineering(s.outputNoiseMax->si, 3, noiseUnits(gainUnit(d)).output),
+             {},
+             {}});
+    if (s.snrMinDb)
+        rows.push_back({K::SpecSnr, "spec: SNR ≥ " + fixed(*s.snrMinDb, 1, " dB"), {}, {}});
     rows.push_back({K::SpecsMet, t::kSpecsMet, hasSpecs(s) ? "most specs met" : "", {}});
     return rows;
 }

@@ -49,6 +49,8 @@ std::string sweepToCsv(const Analysis &a)
     for (const auto &[name, curve] : columns)
         os << ',' << name << "_db," << name << "_deg";
     const bool noise = a.noise && a.noise->outputDensity.size() == a.frequenciesHz.size();
+    // the cumulative rms from the sweep start (absent for an unstable loop)
+    const bool cumulative = noise && a.noise->cumulativeRms.size() == a.frequenciesHz.size();
     // Densities per sqrt(Hz) in the output's and the signal source's unit, named with
     // that unit as the other columns are (f_hz, _db, _deg): output_noise_v_per_rthz,
     // input_noise_a_per_rthz for a transimpedance stage.
@@ -61,6 +63,8 @@ std::string sweepToCsv(const Analysis &a)
         };
         os << ",output_noise_" << lower(outUnit) << "_per_rthz,input_noise_" << lower(inUnit)
            << "_per_rthz";
+        if (cumulative)
+            os << ",output_noise_cumulative_" << lower(outUnit) << "_rms";
     }
     os << '\n';
     for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
@@ -71,6 +75,8 @@ std::string sweepToCsv(const Analysis &a)
         if (noise)
             os << ',' << csvNumber(a.noise->outputDensity[i]) << ','
                << csvNumber(a.noise->inputDensity[i]);
+        if (cumulative)
+            os << ',' << csvNumber(a.noise->cumulativeRms[i]);
         os << '\n';
     }
     return os.str();

@@ -30,8 +30,6 @@ using ::testing::Not;
 namespace {
 
 namespace fs = std::filesystem;
-using cd = std::complex<double>;
-constexpr double kPi = std::numbers::pi;
 
 Part &part(Design &d, const std::string &id)
 {

@@ -17,13 +17,10 @@
 #include <random>
 
 using namespace loopsketch;
-using test::relErr;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
 
 namespace {
-
-constexpr double kPi = std::numbers::pi;
-using cd = std::complex<double>;
 
 DescriptorSystem assembleOrDie(const Netlist &n)
 {

@@ -15,12 +15,9 @@
 #include <string>
 
 using namespace loopsketch;
-using test::relErr;
+using namespace loopsketch::test;
 
 namespace {
-
-using cd = std::complex<double>;
-constexpr double kPi = std::numbers::pi;
 
 std::vector<cd> logPoints(double startHz, double stopHz, int count)
 {
@@ -192,4 +189,70 @@ TEST(ReducedSweep, RowsInDifferentUnitsKeepFullAccuracyAtEveryWidth)
     }
     // The one-point path (root finding) and the careful fallback take the same pivots.
     EXPECT_LT(relErr(reduced->entry(s[6], 0, 0), 1e12 / (s[6] * (1e12 - 10.0))), 1e-13);
+}
+
+// An exactly zero pivot: the lossless pair x' = y, y' = -x + u (G = [[0, -1], [1, 0]],
+// C = I) has det(G + sC) = s^2 + 1, so at s = j the elimination's second pivot is
+// j + 1/j = 0 exactly. There the entry does not exist (a natural frequency on the jw axis):
+// NaN on every path and at every width, never a number made of the division by zero; one
+// step away it is y = s / (s^2 + 1) (Cramer's rule, common practice) to 1e-13.
+TEST(ReducedSweep, ExactlyZeroPivotGivesNoValueOnEveryPath)
+{
+    DescriptorSystem sys;
+    sys.G.resize(2, 2);
+    sys.G << 0.0, -1.0, 1.0, 0.0;
+    sys.C = Eigen::MatrixXd::Identity(2, 2);
+    sys.B.resize(2, 1);
+    sys.B << 0.0, 1.0;
+    sys.L.resize(1, 2);
+    sys.L << 0.0, 1.0;
+    sys.unknowns = {"x", "y"};
+    const std::vector<cd> s = {cd(0.0, 0.5), cd(0.0, 1.0), cd(0.0, 2.0)};
+    const TransferEntry entry[] = {{0, 0}};
+    for (SolverPath path : {SolverPath::Reduced, SolverPath::DenseLu}) {
+        auto reduced = ReducedSystem::build(sys, path);
+        ASSERT_TRUE(reduced.ok()) << reduced.errorText();
+        for (SweepWidth width :
+             {SweepWidth::Automatic, SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
+            if (!detail::sweepWidthAvailable(width))
+                continue;
+            const std::vector<cd> x = reduced->sweepEntries(s, entry, width);
+            const std::string where = "path " + std::to_string(static_cast<int>(path)) + ", width "
+                + std::to_string(static_cast<int>(width));
+            EXPECT_TRUE(std::isnan(x[1].real()) && std::isnan(x[1].imag())) << where;
+            for (std::size_t i : {0u, 2u})
+                EXPECT_LT(relErr(x[i], s[i] / (s[i] * s[i] + 1.0)), 1e-13) << where;
+        }
+        const cd one = reduced->entry(s[1], 0, 0);
+        EXPECT_TRUE(std::isnan(one.real()) && std::isnan(one.imag()));
+        const Eigen::MatrixXcd h = reduced->evaluate(s[1]);
+        EXPECT_TRUE(std::isnan(h(0, 0).real()));
+    }
+}
+
+// A circuit whose equations are singular at every frequency (two unknowns held by one
+// equation twice over) is refused with a diagnostic that names the user's part, not with
+// numbers: the static block's rank leaves a pencil that is zero, and the refusal names the
+// part whose entries touch what is not determined.
+TEST(ReducedSweep, SingularAtEveryFrequencyIsRefusedNamingThePart)
+{
+    DescriptorSystem sys;
+    sys.G.resize(2, 2);
+    sys.G << 1.0, -1.0, -1.0, 1.0; // one resistor between two nodes, nothing to ground
+    sys.C = Eigen::MatrixXd::Zero(2, 2);
+    sys.B.resize(2, 1);
+    sys.B << 1.0, 0.0;
+    sys.L.resize(1, 2);
+    sys.L << 1.0, 0.0;
+    sys.unknowns = {"v(a)", "v(b)"};
+    sys.origins = {{"RX", "value"}};
+    for (int r = 0; r < 2; ++r)
+        for (int c = 0; c < 2; ++c)
+            sys.stamps.push_back({0, r, c, sys.G(r, c), false});
+    auto reduced = ReducedSystem::build(sys);
+    ASSERT_FALSE(reduced.ok());
+    ASSERT_FALSE(reduced.diagnostics().empty());
+    EXPECT_EQ(reduced.diagnostics().front().part, "RX");
+    EXPECT_NE(reduced.diagnostics().front().message.find("no unique solution"), std::string::npos)
+        << reduced.errorText();
 }

@@ -11,18 +11,17 @@
 #include "malformedcorpus.h"
 
 #include "designs.h"
+#include "faultinjection.h"
 #include "files.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
 #include <cmath>
-#include <csignal>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
 
-#include <sys/resource.h>
 #include <unistd.h>
 
 using namespace loopsketch;
@@ -582,15 +581,10 @@ TEST(AtomicSave, FailedWriteKeepsExistingFile)
     ASSERT_TRUE(d.ok());
 
     // a file-size limit below the design's length makes write() fail part-way (EFBIG)
-    rlimit old{};
-    ASSERT_EQ(::getrlimit(RLIMIT_FSIZE, &old), 0);
-    auto oldHandler = std::signal(SIGXFSZ, SIG_IGN);
-    rlimit small = old;
-    small.rlim_cur = 64;
-    ASSERT_EQ(::setrlimit(RLIMIT_FSIZE, &small), 0);
+    test::FileSizeLimit limit(64);
+    ASSERT_TRUE(limit.ok());
     const auto r = saveDesign(*d, path.string());
-    ::setrlimit(RLIMIT_FSIZE, &old);
-    std::signal(SIGXFSZ, oldHandler);
+    limit.lift();
 
     ASSERT_FALSE(r.ok());
     EXPECT_THAT(r.errorText(), HasSubstr(path.string()));

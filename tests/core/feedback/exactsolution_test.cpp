@@ -35,11 +35,8 @@ namespace fs = std::filesystem;
 
 namespace {
 
-using cd = std::complex<double>;
 using Matrix3 = std::array<std::array<double, 3>, 3>;
 using Vector3 = std::array<double, 3>;
-
-constexpr double kPi = std::numbers::pi;
 
 double det2(double a, double b, double c, double d)
 {

@@ -17,15 +17,8 @@
 #include <vector>
 
 using namespace loopsketch;
-using test::relErr;
+using namespace loopsketch::test;
 using ::testing::HasSubstr;
-
-namespace {
-
-constexpr double kPi = std::numbers::pi;
-using cd = std::complex<double>;
-
-} // namespace
 
 // ---------------------------------------------------------------------------------------
 // Two-port parameter sets

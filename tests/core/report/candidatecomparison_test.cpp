@@ -202,3 +202,38 @@ TEST(CandidateComparison, MissingAnalysisSaysWhy)
     // The current design's worst case is still being computed.
     EXPECT_EQ(t.row(ComparisonRowKind::WorstCaseGain)->cells[0].text, "…");
 }
+
+// Issue 18: with output_noise_max and snr_min_db the noise rows are ranked (lower output and
+// input-referred noise, higher SNR) and the noise specs get verdict rows; without them the noise
+// rows carry no best mark. The SNR is 20 log10((peak / sqrt 2) / input-referred rms) (common
+// practice). R2 = 1k: gain 2, the smallest output noise, and R1 || R2 = 500 Ohm the smallest
+// thermal term, so the "low" column is best in all three.
+TEST(CandidateComparison, NoiseSpecsRankTheNoiseRows)
+{
+    const Compared c = compare(R"(, "signal_level": "10m",
+        "specs": {"output_noise_max": "100u", "snr_min_db": 60})");
+    const ComparisonRow *out = c.table.row(ComparisonRowKind::OutputNoise);
+    const ComparisonRow *in = c.table.row(ComparisonRowKind::InputNoise);
+    const ComparisonRow *snr = c.table.row(ComparisonRowKind::Snr);
+    ASSERT_TRUE(out && in && snr);
+    EXPECT_EQ(bestMarks(*out), (std::vector<bool>{false, true, false}));
+    EXPECT_EQ(bestMarks(*in), (std::vector<bool>{false, true, false}));
+    EXPECT_EQ(bestMarks(*snr), (std::vector<bool>{false, true, false}));
+    for (std::size_t i = 0; i < 3; ++i) {
+        const double expected
+            = 20 * std::log10(10e-3 / std::sqrt(2.0) / *c.analyses[i].noise->inputRms);
+        EXPECT_NEAR(*c.analyses[i].noise->snrDb, expected, 1e-9);
+    }
+    const ComparisonRow *noiseSpec = c.table.row(ComparisonRowKind::SpecOutputNoise);
+    const ComparisonRow *snrSpec = c.table.row(ComparisonRowKind::SpecSnr);
+    ASSERT_TRUE(noiseSpec && snrSpec);
+    EXPECT_THAT(noiseSpec->title, HasSubstr("100 µV"));
+    EXPECT_EQ(c.table.row(ComparisonRowKind::SpecsMet)->cells[0].text.substr(1, 5), " of 2");
+
+    const Compared free = compare(R"(, "signal_level": "10m")");
+    EXPECT_EQ(bestMarks(*free.table.row(ComparisonRowKind::OutputNoise)),
+              (std::vector<bool>{false, false, false}));
+    EXPECT_EQ(bestMarks(*free.table.row(ComparisonRowKind::Snr)),
+              (std::vector<bool>{false, false, false}));
+    EXPECT_EQ(free.table.row(ComparisonRowKind::SpecOutputNoise), nullptr);
+}

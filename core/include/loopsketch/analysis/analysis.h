@@ -99,8 +99,9 @@ struct SpecVerdict
     std::string name; ///< design-file key: "gain", "bandwidth_min", "phase_margin_min_deg"
     std::string label; ///< what a reviewer reads: "gain", "bandwidth", "phase margin"
     std::string unit; ///< of the limits and the value: the gain unit, "Hz" or "°"
-    OptionalNumber low; ///< lower limit (gain minimum, bandwidth_min, phase_margin_min_deg)
-    OptionalNumber high; ///< upper limit (gain maximum only)
+    OptionalNumber
+        low; ///< lower limit (gain minimum, bandwidth_min, phase_margin_min_deg, snr_min_db)
+    OptionalNumber high; ///< upper limit (gain maximum, output_noise_max)
     bool isWindow = false; ///< the limit is a [low, high] window (gain)
     OptionalNumber value; ///< the design's value; nullopt where it does not exist
     bool pass = true;
@@ -125,6 +126,12 @@ struct Analysis
     /// False when a closed-loop pole lies in the right half-plane or on the imaginary
     /// axis; bandwidth, peaking, step metrics and noise rms are then absent.
     bool stable = true;
+    /// False when the closed-loop poles could not all be located (a gain near the largest
+    /// double, rounding the pole search cannot get past) and none of those found is
+    /// unstable: `stable` is then false as well, so nothing that needs a stable loop is
+    /// computed or passes, but the outputs say the stability is unknown (JSON `stable`:
+    /// null), and `closedLoopReason` says why.
+    bool stabilityKnown = true;
     int rhpPoles = 0; ///< closed-loop poles with Re s > 0
     std::string closedLoopReason; ///< why the closed-loop quantities are absent
     OptionalNumber bandwidthHz; ///< closed-loop (exact) -3 dB

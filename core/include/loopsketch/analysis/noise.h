@@ -64,6 +64,12 @@ struct NoiseContribution
     /// Output RMS of this source over the band, V (A for a current output); empty where a
     /// noise power does not exist (an unstable loop).
     std::optional<double> rms;
+    /// Where in its part the noise arises: the field of a resistance inside a part
+    /// ("r_series", "r_parallel"), "en" for the gain block's voltage noise; empty where the
+    /// source is the whole part (a resistor, the load) or its shot noise.
+    std::string field;
+    /// The gain-block pin a current noise flows at ("in_p", "in_n"); empty otherwise.
+    std::string pin;
 };
 
 /// How the band of the rms figures was set.
@@ -82,6 +88,47 @@ struct BrickWallNoise
     std::optional<double> outputRms; ///< V (A for a current output)
     std::optional<double> inputRms; ///< V or A, as the input-referred density
 };
+
+/// Spot noise: the densities at one frequency (the design's noise_spot_hz).
+struct SpotNoise
+{
+    double atHz = kDefaultNoiseSpotHz; ///< Hz
+    /// Total output density at atHz, V/sqrt(Hz) (A/sqrt(Hz) for a current output); NaN where
+    /// the circuit has no solution there.
+    double outputDensity = 0;
+    /// Output density over |gain| at atHz, V/sqrt(Hz) or A/sqrt(Hz) as the source; absent
+    /// where the gain is zero.
+    std::optional<double> inputDensity;
+    /// Spot noise figure at atHz (IEEE, T0 = 290 K), dB: voltage source with r_series only.
+    std::optional<double> noiseFigureDb;
+};
+
+/// The 0.1 Hz to 10 Hz noise of precision stages: the rms over that band and the
+/// peak-to-peak figure 6.6 x rms (the value exceeded 0.1 % of the time by Gaussian noise,
+/// common practice).
+struct LowFrequencyNoise
+{
+    double lowHz = 0.1; ///< Hz
+    double highHz = 10; ///< Hz
+    double outputRms = 0; ///< V (A for a current output)
+    double outputPeakToPeak = 0; ///< 6.6 x outputRms
+    std::optional<double> inputPeakToPeak; ///< outputPeakToPeak / |gain| at lowHz
+};
+
+/// Peak-to-peak over rms of Gaussian noise for the 0.1-10 Hz figure (common practice).
+inline constexpr double kPeakToPeakPerRms = 6.6;
+
+/// Absolute temperature of the noise figure's source, K (IEEE definition).
+inline constexpr double kNoiseFigureT0 = 290.0;
+
+/// Noise factor as a figure in dB (IEEE: total output noise power with the source at T0 over
+/// the part due to the source): 10 log10(1 + (total - source) / (source T0 / T)). `total`
+/// and `source` are powers (or power densities) at the design temperature `kelvin`.
+double noiseFigureDb(double total, double source, double kelvin);
+
+/// Signal-to-noise ratio of a full-scale sine of peak `signalPeak` against an input-referred
+/// rms noise `inputRms` (same unit), dB: 20 log10((peak / sqrt 2) / rms).
+double signalToNoiseDb(double signalPeak, double inputRms);
 
 struct NoiseOptions
 {
@@ -121,12 +168,34 @@ struct NoiseAnalysis
     std::optional<double> inputRms;
     double inputGainHz = 0; ///< Hz, the band's low end
     std::optional<BrickWallNoise> brickWall; ///< absent without a closed-loop bandwidth
+
+    /// Output rms from the first sweep frequency up to each sweep frequency (trapezoidal in
+    /// ln f on the sampled density): V (A for a current output). Empty for an unstable loop.
+    std::vector<double> cumulativeRms;
+    SpotNoise spot; ///< at the design's noise_spot_hz
+    std::optional<LowFrequencyNoise> lowFrequency; ///< absent for an unstable loop
+    /// Peak of the full-scale sine at the source (the design's signal_level): V or A.
+    std::optional<double> signalLevel;
+    /// signalLevel x |gain| at inputGainHz, V (A for a current output).
+    std::optional<double> outputPeak;
+    /// 2 pi bandHighHz outputPeak: the slew rate a full-scale sine at the band's upper edge
+    /// needs, V/s (A/s for a current output).
+    std::optional<double> slewRate;
+    /// signalToNoiseDb(signalLevel, inputRms), dB.
+    std::optional<double> snrDb;
+    /// noiseFigureDb() over the band, from the source's r_series contribution, dB: voltage
+    /// source with r_series only.
+    std::optional<double> noiseFigureDb;
 };
 
 /// Noise of the design: densities over its sweep, rms over the band (see NoiseBandKind). The
 /// design must be valid. Fails with a diagnostic when the circuit has no solution at a
 /// frequency or the band is not a positive [low, high] pair.
 Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &options = {});
+
+/// The source's own thermal noise contribution: the signal source's r_series (a voltage
+/// source) or r_parallel (a current source); nullptr when it has none.
+const NoiseContribution *sourceContribution(const NoiseAnalysis &noise, const Design &design);
 
 /// Integral of a power density sampled at ascending frequencies `hz` over [low, high]:
 /// trapezoidal rule in ln f on psd * f, which is linear in the density (contributions add

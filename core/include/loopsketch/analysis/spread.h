@@ -94,10 +94,18 @@ struct WorstCaseResult
     bool cancelled = false;
     TrialMetrics nominal;
     MetricRange gain, bandwidthHz, phaseMarginDeg;
+    /// Output noise rms (V or A) and SNR (dB) over the corners: only with a noise spec.
+    MetricRange outputNoiseRms, snrDb;
+    /// Each spec's verdict at every corner evaluated: a spec passes only where it passes at
+    /// all of them (checkSpecs() per corner, combined).
+    SpecCheck specsAtCorners;
 };
 
 /// The toleranced quantities of a design: every part with a tolerance on its primary value,
-/// plus the gain block's gain and gbw when the options give their spreads. Fails, naming
+/// the signal source's r_parallel and c_parallel with r_parallel_tolerance and
+/// c_parallel_tolerance, the gain block's gbw with gbw_tolerance, plus the gain block's gain
+/// and gbw when the options give their spreads (the options' gbw spread wins over the
+/// file's gbw_tolerance). Fails, naming
 /// part and field, when there are none or a spread is out of range.
 Result<std::vector<SpreadQuantity>>
 spreadQuantities(const Design &design, const SpreadOptions &options, std::string_view file = {});

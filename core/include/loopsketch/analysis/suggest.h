@@ -10,6 +10,7 @@
 #include "loopsketch/design/design.h"
 
 #include <atomic>
+#include <cstdint>
 #include <map>
 #include <optional>
 #include <string>
@@ -32,6 +33,13 @@ struct SuggestOptions
     int best = 5; ///< suggestions returned, >= 1
     int pointsPerDecade = 10; ///< coarse grid for the metrics, 1 .. 1000
     int threads = 0; ///< 0: std::thread::hardware_concurrency()
+    /// Monte Carlo trials of each shortlisted row's yield (uniform over the tolerances),
+    /// 1 .. kMaxTrials, and their seed.
+    int yieldTrials = 200;
+    std::uint64_t seed = 1;
+    /// Rows whose worst case and yield are computed, best by nominal first; 0: four times
+    /// `best`.
+    int shortlist = 0;
     ProgressCallback progress; ///< optional, from worker threads
     const std::atomic<bool> *cancel = nullptr; ///< optional; true stops the search early
 };
@@ -53,6 +61,19 @@ struct Suggestion
     OptionalNumber gainErrorPct; ///< (gain - window centre) / |centre| * 100
     SpecCheck specs; ///< which specs this combination meets
     bool meetsSpecs = false;
+    /// Which specs hold at every corner of the tolerance box (worstCase() on this row).
+    SpecCheck worstSpecs;
+    bool worstCasePass = false; ///< every spec at every corner
+    int specsMetWorstCase = 0; ///< specs held at every corner
+    /// Share of the Monte Carlo trials meeting every spec, 0 .. 1.
+    double yield = 0;
+    /// False: the row has no toleranced quantity, so worst case and yield are its nominal
+    /// verdict.
+    bool toleranced = true;
+    /// The ranking's objective: output noise rms (V or A) with a noise spec, else |gain -
+    /// window centre| / |centre| (a fraction).
+    double objective = 0;
+    double decadesFromCurrent = 0; ///< sum over the parts of |log10(value / current)|
 };
 
 struct SuggestResult
@@ -71,18 +92,31 @@ struct SuggestResult
     /// ...").
     bool targetsMet = false;
     std::string unmet;
+    bool worstCaseMet = false; ///< some ranked row meets every spec at the worst case
+    std::size_t shortlisted = 0; ///< rows whose worst case and yield were computed
+    int yieldTrials = 0; ///< Monte Carlo trials per row
+    std::uint64_t seed = 0;
+    bool noiseObjective = false; ///< the objective is the output noise rms
     std::vector<Suggestion> suggestions; ///< best first
 };
 
-/// Evaluates every combination of the parts' series values in their ranges and ranks them:
-/// combinations meeting every spec first, then by |gain error| against the centre of the
-/// specs' gain window, then by larger phase margin. Fails, naming part and field, for unknown
-/// parts, parts without a value, parts without a series, empty ranges, a design without a
-/// gain window or more than kMaxCombinations combinations.
+/// Evaluates every combination of the parts' series values in their ranges; the best by
+/// nominal (specs met, objective, decades from the current values) form a shortlist whose
+/// worst case over the tolerance box and Monte Carlo yield are computed, and the shortlist is
+/// ranked by: specs met at the worst case (more first), yield (higher first), the objective
+/// (output noise rms with a noise spec, else |gain - window centre| / |centre|; lower
+/// first, values within 1e-9 relative or 1e-12 absolute count as equal), decades from the current
+/// values (fewer first), and last the values themselves in the order of the parts (smaller first),
+/// so the order is never arbitrary. Fails, naming part and field, for unknown parts, parts without
+/// a value, parts without a series, empty ranges, a design without a gain window or more than
+/// kMaxCombinations combinations.
 Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &options,
                                     std::string_view file = {});
 
 /// JSON (schema loopsketch.suggest/1) and terminal text of a search.
+/// The ranking's order: true when `a` ranks before `b` (see suggestValues()).
+bool ranksBefore(const Suggestion &a, const Suggestion &b);
+
 std::string suggestToJson(const SuggestResult &result, const std::string &gainUnit);
 std::string suggestToText(const SuggestResult &result, const std::string &gainUnit);
 

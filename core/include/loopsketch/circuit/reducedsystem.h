@@ -185,6 +185,14 @@ private:
     std::vector<std::string> m_unknowns; ///< names of the kept unknowns
     SolverPath m_path = SolverPath::Reduced;
     std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
+    /// outputs x inputs (row-major), true where the entry is zero for every value of the
+    /// parts (core/src/circuit/structuralzeros.h); every path returns an exact 0 there.
+    std::vector<bool> m_structuralZero;
+    bool structuralZero(int output, int input) const
+    {
+        return !m_structuralZero.empty()
+            && m_structuralZero[static_cast<std::size_t>(output * inputs() + input)];
+    }
     bool m_refined = false;
     bool m_singularAtDc = false;
     mutable int m_unconfirmedPoles = 0; ///< of the last naturalFrequencies()

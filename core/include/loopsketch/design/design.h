@@ -21,6 +21,9 @@ inline constexpr std::string_view kGroundNode = "0";
 inline constexpr double kDefaultTemperatureK = 298.15;
 /// The step-settling band (fraction of the final value) when the design gives none.
 inline constexpr double kDefaultSettlingBand = 0.01;
+/// Spot-noise frequency when the design gives no `noise_spot_hz`, Hz: 1 kHz, where amplifier
+/// data quote their white noise (common practice).
+inline constexpr double kDefaultNoiseSpotHz = 1e3;
 
 enum class PartType { Resistor, Capacitor, Inductor, VSource, ISource, GainBlock, Load };
 
@@ -108,9 +111,9 @@ struct Part
 };
 
 /// Every field of `part` that enters the analysis, in partSpec() order (absent fields with
-/// the default the analysis uses), then the gain block's poles and zeros, then the E-series
-/// and tolerance when given. Values in engineering notation with units (4 significant
-/// digits), infinite values as "∞ <unit>".
+/// the default the analysis uses; the tolerance fields only when given), then the gain block's
+/// poles and zeros, then the E-series and tolerance when given. Values in engineering notation with
+/// units (4 significant digits), infinite values as "∞ <unit>".
 std::vector<PartFieldText> partFieldTexts(const Part &part);
 
 enum class OutputKind { Voltage, Current };
@@ -132,6 +135,12 @@ struct Specs
     std::optional<Value> gainMax;
     std::optional<Value> bandwidthMin; ///< Hz
     std::optional<double> phaseMarginMinDeg;
+    /// Largest output noise rms over the noise band, V (A for a current output); design-file
+    /// key `output_noise_max`.
+    std::optional<Value> outputNoiseMax;
+    /// Smallest signal-to-noise ratio, dB, of a full-scale sine (the design's signal_level)
+    /// against the output noise rms; design-file key `snr_min_db`.
+    std::optional<double> snrMinDb;
     bool operator==(const Specs &) const = default;
 };
 
@@ -207,6 +216,16 @@ struct Design
     /// The band the noise rms is integrated over, [f1, f2] Hz. Absent: from the sweep start
     /// until the integral has converged (see analyzeNoise()).
     std::optional<NoiseBand> noiseBand;
+    /// Peak of a full-scale sine at the signal source, V for a voltage source, A for a current
+    /// source (design-file key `signal_level`): the signal of the SNR, the output peak and the
+    /// slew rate. Absent: no SNR.
+    std::optional<Value> signalLevel;
+    /// Frequency of the spot noise figures, Hz (design-file key `noise_spot_hz`). Absent:
+    /// kDefaultNoiseSpotHz.
+    std::optional<Value> noiseSpotHz;
+
+    /// The spot-noise frequency in Hz (the default when the file gives none).
+    double noiseSpotFrequencyHz() const;
 
     /// The resistors' temperature in kelvin (the default when the file gives none).
     double temperatureK() const;

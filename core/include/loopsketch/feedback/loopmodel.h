@@ -130,6 +130,8 @@ public:
     {
         return m_full->unconfirmedPolesWarning();
     }
+    /// After closedLoopPoles(): how many closed-loop poles were counted but not located.
+    int unlocatedClosedLoopPoles() const { return m_full->unconfirmedPoles(); }
     /// Where the solves' own checks (ReducedSystem::checkAccuracy, at DC and at the start,
     /// middle and end of the design's sweep) could not assure the accuracy of the exact
     /// solution and the return ratio, each naming a part and field. Empty for ordinary

@@ -5,9 +5,11 @@
 // and drawn alike by the window's Candidates panel and the review sheet.
 //
 // A row's best value is marked only where a spec of the design says which way is better: the
-// gain window (closest to its centre), bandwidth_min (wider), phase_margin_min_deg (larger)
+// gain window (closest to its centre), bandwidth_min (wider), phase_margin_min_deg (larger),
+// output_noise_max (lower output noise), snr_min_db (higher SNR, lower input-referred noise)
 // and the count of specs met. Rows no spec speaks to (peaking, desensitivity, impedances,
-// noise, worst-case gain) are shown unranked: "better" there depends on the application.
+// noise without a noise spec, worst-case gain) are shown unranked: "better" there depends on
+// the application.
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/design.h"
@@ -52,10 +54,13 @@ enum class ComparisonRowKind {
     ZOut,
     OutputNoise,
     InputNoise,
+    Snr,
     WorstCaseGain,
     SpecGain,
     SpecBandwidth,
     SpecPhaseMargin,
+    SpecOutputNoise,
+    SpecSnr,
     SpecsMet,
 };
 
@@ -100,6 +105,7 @@ inline constexpr const char *kZIn = "z_in at DC";
 inline constexpr const char *kZOut = "z_out at DC";
 inline constexpr const char *kOutputNoise = "output noise rms";
 inline constexpr const char *kInputNoise = "input-referred noise rms";
+inline constexpr const char *kSnr = "SNR (full-scale sine)";
 inline constexpr const char *kWorstCase = "worst-case gain";
 inline constexpr const char *kSpecsMet = "specs met";
 } // namespace comparisonrow

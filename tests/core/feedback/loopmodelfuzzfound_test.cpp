@@ -1,0 +1,219 @@
+// Cases the analysis fuzzer found in the loop model (tests/fuzz/): each failed before its fix.
+// The source of every expected value is named beside its check.
+
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/design/designfile.h"
+#include "loopsketch/feedback/loopmodel.h"
+
+#include "designs.h"
+#include "numeric.h"
+
+#include <gmock/gmock.h>
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <complex>
+#include <limits>
+#include <string>
+
+using namespace loopsketch;
+using namespace loopsketch::test;
+using ::testing::HasSubstr;
+
+// ---------------------------------------------------------------------------------------
+// Cases the analysis fuzzer found (tests/fuzz/): each failed before its fix
+// ---------------------------------------------------------------------------------------
+
+namespace {
+
+std::string designText(const std::string &parts, const std::string &input = "VS")
+{
+    return R"({"schema": "loopsketch.design/1", "title": "case", "parts": [)" + parts
+        + R"(], "input": ")" + input
+        + R"(", "output": "voltage", "sweep": {"start": "1", "stop": "1M", "points_per_decade": 10}})";
+}
+
+} // namespace
+
+// Derived from Franco (3rd ed.), example 1.9(b)'s circuit (the follower: a = 2e5, rd = 2M,
+// ro = 75, the 1 TOhm stand-in load): the network is a bare wire, beta = 1. By hand, the A
+// circuit holds in_n at ground, so A = a RL/(RL + ro), gain A/(1 + A), z_in = rd (1 + A),
+// z_out = ro/(1 + A): 0.999995, 400.0 GOhm, 375 uOhm as in the book. Before the fix A was 0
+// (the split input floated) and the estimate NaN.
+TEST(FeedbackFuzzFound, FollowerTwoPortEstimateWithABareWireNetwork)
+{
+    const Analysis a = analyzeOrFail(loadReference("franco-1-9b-follower.loopsketch"));
+    ASSERT_TRUE(a.twoPort.has_value()) << a.twoPortProblem << a.topologyReason;
+    const double bigA = 2e5 * 1e12 / (1e12 + 75.0);
+    EXPECT_LT(relErr(valueOf(a.twoPort->a), bigA), 1e-9);
+    EXPECT_LT(relErr(valueOf(a.twoPort->beta), 1.0), 1e-12);
+    EXPECT_LT(relErr(valueOf(a.twoPort->gain), bigA / (1.0 + bigA)), 1e-12);
+    EXPECT_LT(relErr(valueOf(a.twoPort->zIn), 2e6 * (1.0 + bigA)), 1e-6);
+    EXPECT_LT(relErr(valueOf(a.twoPort->zOut), 75.0 / (1.0 + bigA)), 1e-6);
+    for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i)
+        ASSERT_TRUE(std::isfinite(std::abs(a.curves.gainTwoPort[i]))) << a.frequenciesHz[i];
+}
+
+// Common practice: a series output resistor between the gain block and the load, with the
+// feedback taken at the load, belongs to the amplifier, not to the network; the
+// transimpedance tends to -RF. Before the fix RO was counted in the network, which cut the
+// gain block off from the load in the A circuit (A = 0, estimate NaN).
+TEST(FeedbackFuzzFound, SeriesOutputResistorStaysInTheAmplifier)
+{
+    const Design d = parseOrFail(designText(
+        R"({"id": "IS", "type": "isource", "to": "in", "from": "0", "r_parallel": "10M"},
+           {"id": "U1", "type": "gain_block", "in_p": "0", "in_n": "in", "out": "out", "gain": 1e7, "r_out": "50"},
+           {"id": "RO", "type": "resistor", "a": "out", "b": "hot", "value": "100"},
+           {"id": "RF", "type": "resistor", "a": "hot", "b": "in", "value": "10k"},
+           {"id": "RL", "type": "load", "a": "hot", "b": "0", "r": "1k"})",
+        "IS"));
+    const Analysis a = analyzeOrFail(d);
+    ASSERT_TRUE(a.topology.has_value()) << a.topologyReason;
+    EXPECT_EQ(a.topology->name(), "shunt-shunt");
+    EXPECT_EQ(a.topology->networkParts, std::vector<std::string>{"RF"});
+    ASSERT_TRUE(a.twoPort.has_value()) << a.twoPortProblem;
+    // |T| ~ 1e7 * 1k/(1k + 150) ~ 8.7e6: both methods are within ~1e-6 of -RF.
+    EXPECT_LT(relErr(valueOf(a.twoPort->gain), -10e3), 1e-5);
+    EXPECT_LT(relErr(valueOf(a.twoPort->gain), valueOf(a.exact.gain)), 1e-5);
+}
+
+// Common practice: a bias resistor from the non-inverting input to ground sits across the
+// source (a divider RB/(RS + RB) = 1/2 ahead of the gain 1 + R2/R1 = 11), outside the loop.
+// Before the fix the two-port estimate left it out of the source and tended to 11, not 5.5.
+TEST(FeedbackFuzzFound, BiasResistorAtSeriesMixingInputCountsOnTheSourceSide)
+{
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", "r_series": "1k"},
+           {"id": "RB", "type": "resistor", "a": "in", "b": "0", "value": "1k"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": 1e7},
+           {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "10k"},
+           {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "1k"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"})"));
+    const Analysis a = analyzeOrFail(d);
+    ASSERT_TRUE(a.topology.has_value()) << a.topologyReason;
+    EXPECT_EQ(a.topology->name(), "series-shunt");
+    ASSERT_TRUE(a.twoPort.has_value()) << a.twoPortProblem;
+    EXPECT_LT(relErr(valueOf(a.exact.gain), 5.5), 1e-5);
+    EXPECT_LT(relErr(valueOf(a.twoPort->gain), 5.5), 1e-5);
+    // The input draws no current (no r_in, no c_in): the source sees RB alone.
+    EXPECT_LT(relErr(valueOf(a.exact.zIn), 1e3), 1e-9);
+    EXPECT_LT(relErr(valueOf(a.twoPort->zIn), 1e3), 1e-9);
+}
+
+// Common practice: with no loop (nothing from the output back to an input) T = 0 and the
+// asymptotic gain model reduces to its direct term, G_0 = the open-loop gain 1000 * RL/(RL +
+// r_out). Before the fix G_inf (infinite at T = 0) made that curve NaN everywhere.
+TEST(FeedbackFuzzFound, AsymptoticGainModelWithoutALoopIsTheDirectGain)
+{
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "0", "out": "out", "gain": 1000, "r_out": "100"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "900"})"));
+    const Analysis a = analyzeOrFail(d);
+    EXPECT_NEAR(valueOf(a.exact.gain), 900.0, 1e-9);
+    for (std::size_t i = 0; i < a.frequenciesHz.size(); ++i) {
+        EXPECT_EQ(std::abs(a.curves.loopGain[i]), 0.0);
+        EXPECT_LT(relErr(a.curves.gainReturnRatio[i], a.curves.gainExact[i]), 1e-12)
+            << a.frequenciesHz[i];
+    }
+}
+
+// Common practice: a network that is one resistor from the output to the inverting input,
+// with nothing from there to ground, draws no current at port 2 (h22 = 0): no output
+// loading, 0 dB. Before the fix h22 = 0 was inverted (infinity / infinity, NaN).
+TEST(FeedbackFuzzFound, OpenPortTwoGivesNoOutputLoading)
+{
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", "r_series": "1k"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": 1e5, "r_in": "1M", "r_out": "100"},
+           {"id": "RF", "type": "resistor", "a": "out", "b": "fb", "value": "10k"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1k"})"));
+    const Analysis a = analyzeOrFail(d);
+    ASSERT_TRUE(a.twoPort.has_value()) << a.twoPortProblem << a.topologyReason;
+    EXPECT_NEAR(valueOf(a.twoPort->outputLoadingDb), 0.0, 1e-12);
+    for (const cd v : a.curves.outputLoading)
+        EXPECT_LT(std::abs(v - 1.0), 1e-12);
+}
+
+// Common practice: a source that drives both gain-block inputs (here through RA to the
+// inverting input and RB to the non-inverting one) is a differential drive, not one mixing
+// port. Before the fix it was taken as shunt mixing, with a two-port loop gain of the wrong
+// sign.
+TEST(FeedbackFuzzFound, SourceDrivingBothInputsHasNoTwoPortForm)
+{
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", "r_series": "100"},
+           {"id": "RA", "type": "resistor", "a": "in", "b": "inn", "value": "10k"},
+           {"id": "RB", "type": "resistor", "a": "in", "b": "inp", "value": "10k"},
+           {"id": "RG", "type": "resistor", "a": "inp", "b": "0", "value": "10k"},
+           {"id": "U1", "type": "gain_block", "in_p": "inp", "in_n": "inn", "out": "out", "gain": 1e5},
+           {"id": "RF", "type": "resistor", "a": "out", "b": "inn", "value": "100k"},
+           {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"})"));
+    const Analysis a = analyzeOrFail(d);
+    EXPECT_FALSE(a.topology.has_value());
+    EXPECT_NE(a.topologyReason.find("both gain-block inputs"), std::string::npos)
+        << a.topologyReason;
+    EXPECT_FALSE(a.twoPort.has_value());
+}
+
+// Kirchhoff's current law (common practice): a feedback network that touches ground nowhere
+// (here RF alone, from the load's return to the inverting input) cannot return a port
+// current, so its z parameters are infinite and the two-port estimate does not exist. Before
+// the fix the parameters came out of a nearly singular solve as round-off (about -2.7e20 Ω
+// for such a network), and every curve of the estimate was NaN beside a DC summary.
+TEST(FeedbackFuzzFound, NetworkWithoutGroundHasNoTwoPortEstimate)
+{
+    const Part rf = [] {
+        auto d = parseDesign(designText(
+                                 R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": 1e4, "r_out": "100"},
+           {"id": "LD", "type": "load", "a": "out", "b": "ret", "r": "1k"},
+           {"id": "RF", "type": "resistor", "a": "ret", "b": "fb", "value": "100G"})"),
+                             "generated");
+        EXPECT_TRUE(d.ok()) << d.errorText();
+        return d.ok() ? *d->findPart("RF") : Part{};
+    }();
+    auto network = TwoPortNetwork::build({rf}, "fb", "ret", ParameterSet::Z);
+    ASSERT_FALSE(network.ok());
+    EXPECT_THAT(network.errorText(), HasSubstr("no path to ground"));
+
+    const Design d = parseOrFail(designText(
+        R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
+           {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": 1e4, "r_out": "100"},
+           {"id": "LD", "type": "load", "a": "out", "b": "ret", "r": "1k"},
+           {"id": "RF", "type": "resistor", "a": "ret", "b": "fb", "value": "100G"})"));
+    const Analysis a = analyzeOrFail(d);
+    ASSERT_TRUE(a.topology.has_value()) << a.topologyReason;
+    EXPECT_EQ(a.topology->name(), "series-series");
+    EXPECT_FALSE(a.twoPort.has_value());
+    EXPECT_THAT(a.twoPortProblem, HasSubstr("no path to ground"));
+    for (const cd v : a.curves.a)
+        EXPECT_TRUE(std::isnan(v.real()));
+}
+
+// Kirchhoff's current law (common practice): a current source that reaches the gain block
+// only through a chain of series capacitors and resistors into an ideal input (no r_in, c_in
+// or c_cm) drives no current into the chain: z_in is infinite at every frequency. The design
+// is the fuzzer's seed 91 (tests/data/fuzz-found). Before the fix the input's system, singular
+// at every frequency, was solved anyway: z_in read about 1e20 Ω at some frequencies and NaN
+// at 47 of 124.
+TEST(FeedbackFuzzFound, InputLeadingOnlyIntoAnIdealInputHasNoFiniteImpedance)
+{
+    auto d = loadDesign(std::string(LOOPSKETCH_TEST_DATA_DIR)
+                        + "/fuzz-found/z-in-round-off-for-open-input.loopsketch");
+    ASSERT_TRUE(d.ok()) << d.errorText();
+    const Analysis a = analyzeOrFail(*d);
+    EXPECT_TRUE(!a.exact.zIn || (std::isinf(*a.exact.zIn) && *a.exact.zIn > 0));
+    const auto infinite = [](cd v) {
+        return std::isinf(v.real()) && v.real() > 0;
+    };
+    const auto missing = [](cd v) {
+        return std::isnan(v.real());
+    };
+    const auto &z = a.curves.zInExact;
+    EXPECT_TRUE(std::all_of(z.begin(), z.end(), infinite)
+                || std::all_of(z.begin(), z.end(), missing));
+    const auto &zr = a.curves.zInReturnRatio;
+    EXPECT_TRUE(std::all_of(zr.begin(), zr.end(), infinite)
+                || std::all_of(zr.begin(), zr.end(), missing));
+}

@@ -1,0 +1,60 @@
+#pragma once
+
+// Checks that the window shows core's analysis: the Readout's numbers and every point of the
+// Loop gain panel's |T| curve, shared by the window tests.
+
+#include "panels/panels.h"
+#include "panels/readout.h"
+#include "support/qtadapter.h"
+#include "window/mainwindow.h"
+
+#include "loopsketch/analysis/analysis.h"
+#include "loopsketch/base/value.h"
+
+#include <QList>
+#include <QPointF>
+#include <QXYSeries>
+
+#include <gtest/gtest.h>
+
+namespace loopsketch::ui::test {
+
+/// The window shows `expected`: the Readout's gain, bandwidth and phase margin texts, and the
+/// |T| curve, every point of core's curve held and a subset of them drawn, unchanged.
+inline void expectWindowShows(const MainWindow &window, const Analysis &expected)
+{
+    const Readout *readout = window.readout();
+    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
+              engineering(expected.exact.gain, expected.gainUnit, 4));
+    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(expected.bandwidthHz, "Hz"));
+    // Three significant digits and the degree sign (common practice for angles on a display).
+    const OptionalNumber pm = expected.margins.phaseMarginDeg;
+    EXPECT_EQ(readout->cellText("phase margin"),
+              pm ? QString::fromStdString(formatEngineering(*pm, 3)) + QStringLiteral("°")
+                 : QStringLiteral("—"));
+    QXYSeries *t = window.loopGainPanel()->series(LoopGainPanel::kT);
+    ASSERT_NE(t, nullptr);
+    const QList<QPointF> want
+        = curvePoints(expected.frequenciesHz, expected.curves.loopGain, CurvePart::MagnitudeDb);
+    ASSERT_GT(want.size(), 100);
+    // Before thinning for the screen, the panel holds every point of core's curve.
+    const QList<QPointF> full = window.loopGainPanel()->fullPoints(t);
+    ASSERT_EQ(full.size(), want.size());
+    for (qsizetype i = 0; i < full.size(); ++i) {
+        ASSERT_NEAR(full[i].x(), want[i].x(), 1e-12) << "point " << i;
+        ASSERT_NEAR(full[i].y(), want[i].y(), 1e-9) << "point " << i;
+    }
+    // What is drawn is a subset of those points, each at its own frequency, unchanged.
+    const QList<QPointF> drawn = t->points();
+    ASSERT_GT(drawn.size(), 50);
+    qsizetype j = 0;
+    for (const QPointF &p : drawn) {
+        while (j < want.size() && want[j].x() < p.x() - 1e-12)
+            ++j;
+        ASSERT_LT(j, want.size());
+        ASSERT_NEAR(p.x(), want[j].x(), 1e-12);
+        ASSERT_NEAR(p.y(), want[j].y(), 1e-9);
+    }
+}
+
+} // namespace loopsketch::ui::test

@@ -1,0 +1,293 @@
+// The window's docks: which panel sits where, the wide and the compact arrangement, their
+// default sizes, and the arrangement kept between sessions.
+#include "window/mainwindow.h"
+
+#include "panels/candidatespanel.h"
+#include "panels/noisepanel.h"
+#include "panels/nyquistpanel.h"
+#include "panels/panels.h"
+#include "panels/readout.h"
+#include "panels/spreadpanel.h"
+#include "sketch/designpropertiespanel.h"
+#include "sketch/inspector.h"
+#include "sketch/partspalette.h"
+#include "sketch/sketchview.h"
+#include "window/designdocument.h"
+#include "window/stabilitydocks.h"
+
+#include <QAction>
+#include <QDockWidget>
+#include <QFrame>
+#include <QGuiApplication>
+#include <QLayout>
+#include <QScreen>
+#include <QScrollArea>
+#include <QSettings>
+#include <QTabBar>
+#include <QTimer>
+
+#include <algorithm>
+
+namespace loopsketch::ui {
+
+namespace {
+
+const char *kStateKey = "window/state";
+const char *kGeometryKey = "window/geometry";
+/// The version of the saved dock arrangement: a state saved by an older arrangement (other
+/// docks, other places) is not restored; the default one is laid out instead.
+constexpr int kLayoutVersion = 2;
+/// Below this window width the plots share two tab groups beside the Sketch (compact
+/// arrangement), so the Sketch keeps half the width; at and above it they sit right and
+/// below it side by side.
+constexpr int kCompactWidth = 1400;
+constexpr int kLeftDockWidth = 230;
+
+} // namespace
+
+void MainWindow::restoreLayout()
+{
+    QSettings settings;
+    restoreGeometry(settings.value(kGeometryKey).toByteArray());
+    m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
+    if (!m_sizedDocks)
+        arrangeDocks(width() < kCompactWidth);
+}
+
+void MainWindow::saveLayout()
+{
+    QSettings settings;
+    settings.setValue(kGeometryKey, saveGeometry());
+    settings.setValue(kStateKey, saveState(kLayoutVersion));
+}
+
+void MainWindow::createDocks()
+{
+    setCorner(Qt::TopLeftCorner, Qt::TopDockWidgetArea);
+    setCorner(Qt::TopRightCorner, Qt::TopDockWidgetArea);
+    setCorner(Qt::BottomLeftCorner, Qt::LeftDockWidgetArea);
+    setCorner(Qt::BottomRightCorner, Qt::BottomDockWidgetArea);
+
+    auto makeDock = [this](const QString &title, const QString &name, QWidget *widget,
+                           Qt::DockWidgetArea area) {
+        auto *dock = new QDockWidget(title, this);
+        dock->setObjectName(name);
+        dock->setWidget(widget);
+        addDockWidget(area, dock);
+        m_docks.push_back(dock);
+        return dock;
+    };
+    auto *readoutDock
+        = makeDock(tr("Readout"), QStringLiteral("ReadoutDock"), m_readout, Qt::TopDockWidgetArea);
+    readoutDock->setFeatures(QDockWidget::NoDockWidgetFeatures);
+    readoutDock->setTitleBarWidget(new QWidget(readoutDock));
+    auto *partsDock
+        = makeDock(tr("Parts"), QStringLiteral("PartsDock"), m_palette, Qt::LeftDockWidgetArea);
+    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"), m_inspector,
+                                   Qt::LeftDockWidgetArea);
+    splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
+    m_properties = new DesignPropertiesPanel(m_document, this);
+    auto *propertiesScroll = new QScrollArea(this);
+    propertiesScroll->setWidget(m_properties);
+    propertiesScroll->setWidgetResizable(true);
+    propertiesScroll->setFrameShape(QFrame::NoFrame);
+    auto *propertiesDock = makeDock(tr("Design"), QStringLiteral("DesignPropertiesDock"),
+                                    propertiesScroll, Qt::LeftDockWidgetArea);
+    tabifyDockWidget(inspectorDock, propertiesDock);
+    inspectorDock->raise();
+
+    m_loopGain = new LoopGainPanel(this);
+    auto *impedance = new ImpedancePanel(this);
+    auto *desens = new DesensitivityPanel(this);
+    auto *step = new StepPanel(this);
+    auto *poles = new PolesPanel(this);
+    m_panels = {m_loopGain, impedance, desens, step, poles};
+    auto *noise = new NoisePanel(this);
+    m_panels.push_back(noise);
+    // The linked frequency cursor: hovering one frequency panel marks the same frequency
+    // in all of them.
+    for (PlotPanel *source : m_panels) {
+        connect(source, &PlotPanel::frequencyHovered, this, [this](double log10Hz) {
+            for (PlotPanel *p : m_panels)
+                p->showFrequencyCursor(log10Hz);
+        });
+        connect(source, &PlotPanel::frequencyHovered, noise, &NoisePanel::showValuesAt);
+    }
+    auto *loopDock = makeDock(tr("Loop gain"), QStringLiteral("LoopGainDock"), m_loopGain,
+                              Qt::RightDockWidgetArea);
+    auto *impDock = makeDock(tr("Impedance"), QStringLiteral("ImpedanceDock"), impedance,
+                             Qt::RightDockWidgetArea);
+    splitDockWidget(loopDock, impDock, Qt::Vertical);
+    auto *noiseDock
+        = makeDock(tr("Noise"), QStringLiteral("NoiseDock"), noise, Qt::RightDockWidgetArea);
+    tabifyDockWidget(impDock, noiseDock);
+    impDock->raise();
+    connect(noiseDock, &QDockWidget::visibilityChanged, noise, &NoisePanel::setOnScreen);
+    auto *desDock = makeDock(tr("Desensitivity"), QStringLiteral("DesensitivityDock"), desens,
+                             Qt::BottomDockWidgetArea);
+    auto *stepDock
+        = makeDock(tr("Step"), QStringLiteral("StepDock"), step, Qt::BottomDockWidgetArea);
+    auto *polesDock
+        = makeDock(tr("Poles"), QStringLiteral("PolesDock"), poles, Qt::BottomDockWidgetArea);
+    splitDockWidget(desDock, stepDock, Qt::Horizontal);
+    splitDockWidget(stepDock, polesDock, Qt::Horizontal);
+
+    // The Spread panel holds controls, a table and three histograms: it scrolls rather than
+    // forcing its height on the whole window.
+    m_spread = new SpreadPanel(m_document, this);
+    auto *spreadScroll = new QScrollArea(this);
+    spreadScroll->setWidget(m_spread);
+    spreadScroll->setWidgetResizable(true);
+    spreadScroll->setFrameShape(QFrame::NoFrame);
+    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), spreadScroll,
+                                Qt::RightDockWidgetArea);
+
+    // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
+    m_candidates = new CandidatesPanel(m_document, this);
+    // Its table scrolls too, so a narrow window can still give the Sketch half its width.
+    auto *candidatesScroll = new QScrollArea(this);
+    candidatesScroll->setWidget(m_candidates);
+    candidatesScroll->setWidgetResizable(true);
+    candidatesScroll->setFrameShape(QFrame::NoFrame);
+    m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"),
+                                candidatesScroll, Qt::RightDockWidgetArea);
+    tabifyDockWidget(impDock, m_candidatesDock);
+    tabifyDockWidget(impDock, spreadDock);
+    // Nyquist, Scan and Map (window/stabilitydocks.cpp), tabbed with the others.
+    const StabilityDocks stability = makeStabilityDocks(m_document, this);
+    m_panels.push_back(stability.nyquist);
+    for (QDockWidget *d : stability.docks) {
+        addDockWidget(Qt::RightDockWidgetArea, d);
+        m_docks.push_back(d);
+        tabifyDockWidget(impDock, d);
+    }
+    impDock->raise();
+    connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
+        const std::vector<OverlaySource> sources = m_candidates->overlaySources();
+        for (PlotPanel *p : m_panels) {
+            if (p->hasOverlays())
+                p->setOverlaySources(sources);
+        }
+    });
+    connect(m_candidates->pinAction(), &QAction::triggered, this, &MainWindow::showCandidates);
+}
+
+void MainWindow::resetLayout()
+{
+    const bool compact = width() < kCompactWidth;
+    arrangeDocks(compact);
+    // Sizes take once the layout has placed the docks, and the Sketch fits its new size
+    // once they took.
+    // A first arrangement may still be settling on the first pass (the docks moved from the
+    // constructor's places), so the sizes are given twice.
+    QTimer::singleShot(0, this, [this, compact] {
+        sizeDocks(compact);
+        QTimer::singleShot(0, this, [this, compact] {
+            // Docks that asked for more room than the screen has on the way give it back.
+            if (QGuiApplication::platformName() != QStringLiteral("offscreen") && screen()) {
+                const QRect available = screen()->availableGeometry();
+                if (height() > available.height() - 48 || width() > available.width() - 16)
+                    resize(std::min(width(), available.width() - 16),
+                           std::min(height(), available.height() - 48));
+            }
+            sizeDocks(compact);
+            m_view->fitDesign();
+        });
+    });
+}
+
+bool MainWindow::isCompactLayout() const
+{
+    auto *loop = findChild<QDockWidget *>(QStringLiteral("LoopGainDock"));
+    auto *step = findChild<QDockWidget *>(QStringLiteral("StepDock"));
+    return loop && step && dockWidgetArea(step) == dockWidgetArea(loop);
+}
+
+void MainWindow::arrangeDocks(bool compact)
+{
+    auto dock = [this](const char *name) {
+        return findChild<QDockWidget *>(QLatin1String(name));
+    };
+    QDockWidget *parts = dock("PartsDock"), *inspector = dock("InspectorDock"),
+                *properties = dock("DesignPropertiesDock"), *loop = dock("LoopGainDock"),
+                *impedance = dock("ImpedanceDock"), *noise = dock("NoiseDock"),
+                *spread = dock("SpreadDock"), *desens = dock("DesensitivityDock"),
+                *step = dock("StepDock"), *poles = dock("PolesDock");
+    const std::vector<QDockWidget *> stability
+        = {dock("NyquistDock"), dock("ScanDock"), dock("MapDock")};
+    for (QDockWidget *d : m_docks) {
+        d->setFloating(false);
+        if (d->features() != QDockWidget::NoDockWidgetFeatures)
+            d->show();
+    }
+    addDockWidget(Qt::LeftDockWidgetArea, parts);
+    splitDockWidget(parts, inspector, Qt::Vertical);
+    tabifyDockWidget(inspector, properties);
+    addDockWidget(Qt::RightDockWidgetArea, loop);
+    if (compact) {
+        // Two tab groups beside the Sketch: the frequency panels above, the time and
+        // s-plane panels below.
+        splitDockWidget(loop, step, Qt::Vertical);
+        for (QDockWidget *d : {impedance, noise, m_candidatesDock, spread})
+            tabifyDockWidget(loop, d);
+        for (QDockWidget *d : stability)
+            tabifyDockWidget(loop, d);
+        for (QDockWidget *d : {poles, desens})
+            tabifyDockWidget(step, d);
+        step->raise();
+        loop->raise();
+    } else {
+        splitDockWidget(loop, impedance, Qt::Vertical);
+        for (QDockWidget *d : {noise, m_candidatesDock, spread})
+            tabifyDockWidget(impedance, d);
+        for (QDockWidget *d : stability)
+            tabifyDockWidget(impedance, d);
+        impedance->raise();
+        addDockWidget(Qt::BottomDockWidgetArea, desens);
+        splitDockWidget(desens, step, Qt::Horizontal);
+        splitDockWidget(step, poles, Qt::Horizontal);
+    }
+    inspector->raise();
+    // Tab titles are read whole ("Impedance", not "Impedan…"); a crowded group scrolls.
+    for (QTabBar *tabs : findChildren<QTabBar *>(QString(), Qt::FindDirectChildrenOnly)) {
+        tabs->setElideMode(Qt::ElideNone);
+        tabs->setUsesScrollButtons(true);
+    }
+}
+
+void MainWindow::sizeDocks(bool compact)
+{
+    auto dock = [this](const char *name) {
+        return findChild<QDockWidget *>(QLatin1String(name));
+    };
+    QDockWidget *parts = dock("PartsDock"), *inspector = dock("InspectorDock"),
+                *loop = dock("LoopGainDock"), *impedance = dock("ImpedanceDock"),
+                *desens = dock("DesensitivityDock"), *step = dock("StepDock"),
+                *poles = dock("PolesDock");
+    // The docks' new places first, so that the sizes apply to them.
+    layout()->activate();
+    const int w = width(), h = height();
+    resizeDocks({parts}, {kLeftDockWidth}, Qt::Horizontal);
+    resizeDocks({parts, inspector}, {h / 3, h / 2}, Qt::Vertical);
+    if (compact) {
+        // The Sketch keeps half the window; the plots take what is left beside it.
+        // resizeDocks() leaves a column of tab groups as it is (Qt 6.4): its width is set by
+        // holding the groups at the width wanted for one layout pass.
+        const int right = std::max(320, w / 2 - kLeftDockWidth - 16);
+        for (QDockWidget *d : {loop, step})
+            d->setFixedWidth(right);
+        layout()->activate();
+        for (QDockWidget *d : {loop, step}) {
+            d->setMinimumWidth(0);
+            d->setMaximumWidth(QWIDGETSIZE_MAX);
+        }
+        resizeDocks({loop, step}, {h * 11 / 20, h * 9 / 20}, Qt::Vertical);
+    } else {
+        resizeDocks({loop}, {w * 9 / 20}, Qt::Horizontal);
+        resizeDocks({loop, impedance}, {h / 2, h / 2}, Qt::Vertical);
+        resizeDocks({desens}, {h * 7 / 25}, Qt::Vertical);
+        resizeDocks({desens, step, poles}, {w / 3, w / 3, w / 3}, Qt::Horizontal);
+    }
+}
+
+} // namespace loopsketch::ui
