@@ -12,6 +12,8 @@
 #include "panels/scanpanel.h"
 #include "sketch/sketchview.h"
 #include "support/plotstyle.h"
+#include "window/exportactions.h"
+#include "window/stabilitydocks.h"
 
 #include "loopsketch/analysis/scan.h"
 
@@ -19,6 +21,7 @@
 #include <QElapsedTimer>
 #include <QScatterSeries>
 #include <QSignalSpy>
+#include <QTemporaryDir>
 #include <QTest>
 #include <QUndoStack>
 #include <QXYSeries>
@@ -234,6 +237,60 @@ TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
     doc()->undoStack()->undo();
     EXPECT_NEAR(doc()->design().findPart("RF")->number("value"), 1e6, 1e-6);
     EXPECT_NEAR(doc()->design().findPart("CF")->number("value"), 2.2e-12, 1e-24);
+}
+
+// The review sheet carries a scan made for the design as it is, with its parameters (issue 16
+// item 6), and leaves it out once a value has changed. The numbers stated are core's: the
+// series (IEC 60063 E12), the range and the count of values meeting every spec.
+TEST_F(Stability, ScanOfCfGoesOnTheReviewSheetWhileTheDesignIsAsScanned)
+{
+    raise(window.get(), "ScanDock");
+    auto *panel = window->findChild<ScanPanel *>();
+    ASSERT_NE(panel, nullptr);
+    EXPECT_TRUE(sheetScans(window.get()).empty()); // nothing scanned yet
+    QSignalSpy done(panel, &ScanPanel::scanFinished);
+    panel->scanPart(QStringLiteral("CF"));
+    ASSERT_TRUE(done.wait(60000));
+    const ScanResult *scan = panel->result();
+    ASSERT_NE(scan, nullptr);
+    std::vector<SheetScan> scans = sheetScans(window.get());
+    ASSERT_EQ(scans.size(), 1U);
+    EXPECT_EQ(scans[0].scan, scan);
+    int passing = 0;
+    for (const ScanRow &r : scan->rows)
+        passing += r.metrics.specsPass.value_or(false);
+
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath(QStringLiteral("sheet.pdf"));
+    QString error;
+    ASSERT_TRUE(exportReviewSheet(*doc(), pdf, SheetPageSize::A4, QStringLiteral("demo"), &error,
+                                  nullptr, scans))
+        << error.toStdString();
+    const CliRun text
+        = run(QStringLiteral("pdftotext"), {QStringLiteral("-raw"), pdf, QStringLiteral("-")});
+    ASSERT_EQ(text.exitCode, 0);
+    const QString sheet = text.out.simplified();
+    EXPECT_TRUE(sheet.contains(QStringLiteral("Scan of CF"))) << sheet.toStdString();
+    EXPECT_TRUE(sheet.contains(
+        QStringLiteral("CF (value): 25 values of E12 from 220 fF to 22 pF; the design has 2.2 pF")))
+        << sheet.toStdString();
+    EXPECT_TRUE(sheet.contains(
+        QStringLiteral("Shown: phase margin. %1 of 25 values meet every spec").arg(passing)))
+        << sheet.toStdString();
+
+    // A value applied from the scan: the design is no longer the one scanned, so the sheet
+    // leaves the scan out; undone, it is that design again and the scan is back.
+    ASSERT_TRUE(panel->applyRow(0));
+    EXPECT_TRUE(sheetScans(window.get()).empty());
+    const QString changed = tmp.filePath(QStringLiteral("changed.pdf"));
+    ASSERT_TRUE(exportReviewSheet(*doc(), changed, SheetPageSize::A4, QStringLiteral("demo"),
+                                  &error, nullptr, sheetScans(window.get())))
+        << error.toStdString();
+    EXPECT_FALSE(run(QStringLiteral("pdftotext"), {changed, QStringLiteral("-")})
+                     .out.contains(QStringLiteral("Scan of CF")));
+    doc()->undoStack()->undo();
+    EXPECT_EQ(sheetScans(window.get()).size(), 1U);
 }
 
 TEST_F(Stability, CancelledMapLeavesTheWindowWorking)

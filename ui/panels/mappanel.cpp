@@ -5,6 +5,7 @@
 #include "window/designdocument.h"
 
 #include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QComboBox>
 #include <QHBoxLayout>
@@ -269,6 +270,7 @@ MapPanel::MapPanel(DesignDocument *document, QWidget *parent)
     });
     connect(m_runner, &ScanRunner::finished, this, [this](std::shared_ptr<const ScanResult> scan) {
         m_scan = std::move(scan);
+        m_scanText = m_pendingText;
         m_cancel->setEnabled(false);
         m_progress->setValue(m_progress->maximum());
         m_status->setText(m_scan->cancelled ? tr("cancelled after %1 of %2 cells")
@@ -344,6 +346,7 @@ void MapPanel::run()
         tr("mapping %1 × %2 cells …").arg(axes[0].values.size()).arg(axes[1].values.size()));
     m_progress->setValue(0);
     m_cancel->setEnabled(true);
+    m_pendingText = serializeDesign(m_document->design());
     m_runner->start(m_document->design(), std::move(axes));
 }
 
@@ -360,6 +363,13 @@ bool MapPanel::isRunning() const
 QString MapPanel::statusText() const
 {
     return m_status->text();
+}
+
+std::optional<SheetScan> MapPanel::sheetScan() const
+{
+    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
+        return std::nullopt;
+    return SheetScan{m_scan.get(), std::max(0, m_metric->currentIndex())};
 }
 
 void MapPanel::setMetric(int index)

@@ -6,6 +6,7 @@
 // both values as one undo step.
 
 #include "panels/scanrunner.h"
+#include "sheet/reviewsheet.h"
 
 #include <QWidget>
 
@@ -78,6 +79,10 @@ public:
     QString cellText(int i, int j) const;
     HeatMap *heatMap() const { return m_map; }
     QString statusText() const;
+    /// The latest finished run with the metric shown, when it was made for the document's
+    /// design as it is (complete, and no field changed since): what the review sheet
+    /// carries; nullopt otherwise.
+    std::optional<SheetScan> sheetScan() const;
 
 signals:
     void mapFinished();
@@ -94,6 +99,7 @@ private:
     QLabel *m_status, *m_hover;
     HeatMap *m_map;
     std::shared_ptr<const ScanResult> m_scan;
+    std::string m_pendingText, m_scanText; ///< the design text of the run started, finished
 };
 
 } // namespace loopsketch::ui

@@ -5,6 +5,7 @@
 
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
 
 #include <QAreaSeries>
 #include <QCategoryAxis>
@@ -207,6 +208,7 @@ ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent)
     });
     connect(m_runner, &ScanRunner::finished, this, [this](std::shared_ptr<const ScanResult> scan) {
         m_scan = std::move(scan);
+        m_scanText = m_pendingText;
         m_cancel->setEnabled(false);
         m_run->setEnabled(true);
         m_progress->setValue(m_progress->maximum());
@@ -278,6 +280,7 @@ void ScanPanel::run()
         tr("scanning %1 values of %2 …").arg(axis->values.size()).arg(toQString(axis->name())));
     m_progress->setValue(0);
     m_cancel->setEnabled(true);
+    m_pendingText = serializeDesign(m_document->design());
     m_runner->start(m_document->design(), {*axis});
 }
 
@@ -294,6 +297,13 @@ bool ScanPanel::isRunning() const
 QString ScanPanel::statusText() const
 {
     return m_status->text();
+}
+
+std::optional<SheetScan> ScanPanel::sheetScan() const
+{
+    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
+        return std::nullopt;
+    return SheetScan{m_scan.get(), std::max(0, m_metric->currentIndex())};
 }
 
 void ScanPanel::setMetric(int index)

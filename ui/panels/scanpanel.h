@@ -7,6 +7,7 @@
 
 #include "panels/plotpanel.h"
 #include "panels/scanrunner.h"
+#include "sheet/reviewsheet.h"
 
 #include <QWidget>
 
@@ -74,6 +75,10 @@ public:
     int rowNear(double x) const;
     ScanChart *chart() const { return m_chart; }
     QString statusText() const;
+    /// The latest finished run with the metric shown, when it was made for the document's
+    /// design as it is (complete, and no field changed since): what the review sheet
+    /// carries; nullopt otherwise.
+    std::optional<SheetScan> sheetScan() const;
 
 signals:
     /// A scan finished (or was cancelled).
@@ -92,6 +97,7 @@ private:
     QLabel *m_status, *m_hover;
     ScanChart *m_chart;
     std::shared_ptr<const ScanResult> m_scan;
+    std::string m_pendingText, m_scanText; ///< the design text of the run started, finished
 };
 
 } // namespace loopsketch::ui

@@ -60,6 +60,18 @@ StabilityDocks makeStabilityDocks(DesignDocument *document, QMainWindow *window)
     return s;
 }
 
+std::vector<SheetScan> sheetScans(const QMainWindow *window)
+{
+    std::vector<SheetScan> scans;
+    if (auto *scan = window->findChild<ScanPanel *>())
+        if (auto s = scan->sheetScan())
+            scans.push_back(*s);
+    if (auto *map = window->findChild<MapPanel *>())
+        if (auto s = map->sheetScan())
+            scans.push_back(*s);
+    return scans;
+}
+
 void addStabilityActions(QMenu *designMenu, SketchView *view, QMainWindow *window)
 {
     auto *scan = window->findChild<ScanPanel *>();

@@ -66,7 +66,7 @@ void MainWindow::createActions()
     addExportMenu(
         file, this, m_document,
         [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; },
-        [this] { return m_spread->completedResult(); });
+        [this] { return m_spread->completedResult(); }, [this] { return sheetScans(this); });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
