@@ -81,6 +81,17 @@ CLI::Validator number(const std::function<bool(double)> &inRange, const std::str
         "");
 }
 
+/// "RF,CF" as {"RF", "CF"}; every piece kept, empty ones too, so that they are refused.
+std::vector<std::string> splitScanList(const std::string &text)
+{
+    std::vector<std::string> parts;
+    std::size_t start = 0;
+    for (std::size_t comma; (comma = text.find(',', start)) != std::string::npos; start = comma + 1)
+        parts.push_back(text.substr(start, comma - start));
+    parts.push_back(text.substr(start));
+    return parts;
+}
+
 CLI::Validator nonEmpty(const std::string &needs)
 {
     return CLI::Validator([=](std::string &text) { return text.empty() ? needs : std::string(); },
@@ -300,6 +311,33 @@ void addExport(CLI::App &app, CliOptions &o)
     addWholeNumber(*c, "--spread-seed", o.spreadSeed, 0, kLargestSeed, kWholeNumberAtLeastZero,
                    "seed of the sheet's Monte Carlo run")
         ->type_name("S");
+    c->add_option_function<std::vector<std::string>>(
+         "--scan",
+         [&o](const std::vector<std::string> &texts) {
+             o.exportScans.clear();
+             for (const std::string &text : texts) {
+                 std::vector<ScanTarget> targets;
+                 for (const std::string &one : splitScanList(text))
+                     targets.push_back(*parseScanTarget(one, "--scan"));
+                 o.exportScans.push_back(std::move(targets));
+             }
+         },
+         "a figure on the sheet: the scan of one part, or with two a map (as `scan --part`); "
+         "may be given again")
+        ->type_name("ID[,ID2]")
+        ->multi_option_policy(CLI::MultiOptionPolicy::TakeAll)
+        ->check(CLI::Validator(
+            [](std::string &text) {
+                const std::vector<std::string> parts = splitScanList(text);
+                if (parts.empty() || parts.size() > 2)
+                    return "needs one part (a scan) or two separated by a comma (a map), not \""
+                        + text + "\"";
+                for (const std::string &one : parts)
+                    if (auto t = parseScanTarget(one, "--scan"); !t)
+                        return t.diagnostics().front().message;
+                return std::string();
+            },
+            ""));
 }
 #endif
 

@@ -34,6 +34,8 @@ struct CliOptions
     SuggestOptions suggest;
     std::vector<ScanTarget> scanTargets; ///< scan: --part, one or two
     std::optional<ESeries> scanSeries; ///< scan: --series
+    /// export: --scan, each one part (a scan) or two (a map) for the review sheet
+    std::vector<std::vector<ScanTarget>> exportScans;
 };
 
 /// What the arguments ask for.
