@@ -8,6 +8,7 @@
 #endif
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/scan.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/analysis/suggest.h"
 #include "loopsketch/design/atomicfile.h"
@@ -105,7 +106,7 @@ Result<Outputs> planOutputs(const Options &o)
     if (o.command == "analyze" || o.command == "spread" || o.command == "suggest")
         planned.text = resolve(o.textOut, true, textOutputName(o.command));
     if (!o.csvOut.empty())
-        planned.csv = resolve(o.csvOut, true, "sweep");
+        planned.csv = resolve(o.csvOut, true, o.command == "scan" ? "scan" : "sweep");
 #ifdef LOOPSKETCH_HAVE_GUI
     if (o.command == "export") {
         resolve(o.pdfOut, false, "review sheet");
@@ -160,6 +161,25 @@ int emit(const OutputTarget &target, const std::string &what, const std::string 
     return kExitOk;
 }
 
+/// The scan (one target) or map (two) of `design`, every target resolved first and every
+/// problem reported.
+Result<ScanResult> scanOf(const Design &design, const std::vector<ScanTarget> &targets,
+                          std::optional<ESeries> series, const std::string &file)
+{
+    std::vector<ScanAxis> axes;
+    Diagnostics problems;
+    for (const ScanTarget &target : targets) {
+        auto axis = resolveScanAxis(design, target, series, file);
+        if (axis)
+            axes.push_back(std::move(axis).value());
+        else
+            problems.insert(problems.end(), axis.diagnostics().begin(), axis.diagnostics().end());
+    }
+    if (!problems.empty())
+        return problems;
+    return runScan(design, axes, {}, file);
+}
+
 int run(const Options &o, std::ostream &out, std::ostream &err)
 {
     auto outputs = planOutputs(o);
@@ -195,6 +215,22 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
         return emit(*outputs->text, textOutputName(o.command),
                     o.json ? suggestToJson(*found, unit) : suggestToText(*found, unit), out, err);
     }
+    if (o.command == "scan") {
+        auto scan = scanOf(design, o.scanTargets, o.scanSeries, o.file);
+        if (!scan)
+            return reportDiagnostics(err, scan.diagnostics(), o.file);
+        return emit(*outputs->csv, "scan", scanToCsv(*scan), out, err);
+    }
+#ifdef LOOPSKETCH_HAVE_GUI
+    // The sheet's scans and maps, run before anything is written: a bad target writes nothing.
+    std::vector<ScanResult> sheetScans;
+    for (const std::vector<ScanTarget> &targets : o.exportScans) {
+        auto scan = scanOf(design, targets, std::nullopt, o.file);
+        if (!scan)
+            return reportDiagnostics(err, scan.diagnostics(), o.file);
+        sheetScans.push_back(std::move(scan).value());
+    }
+#endif
     auto analysis = analyze(design, o.file);
     if (!analysis)
         return reportDiagnostics(err, analysis.diagnostics(), o.file);
@@ -208,7 +244,7 @@ int run(const Options &o, std::ostream &out, std::ostream &err)
     if (o.command == "export")
         return runExport(design, *analysis,
                          {o.file, o.pdfOut, o.csvOut, o.svgDir, o.pngDir, o.letter, o.spreadTrials,
-                          o.spreadSeed},
+                          o.spreadSeed, std::move(sheetScans)},
                          err);
 #endif
     return badInput(err, "unknown command \"" + o.command + "\"");

@@ -81,6 +81,17 @@ CLI::Validator number(const std::function<bool(double)> &inRange, const std::str
         "");
 }
 
+/// "RF,CF" as {"RF", "CF"}; every piece kept, empty ones too, so that they are refused.
+std::vector<std::string> splitScanList(const std::string &text)
+{
+    std::vector<std::string> parts;
+    std::size_t start = 0;
+    for (std::size_t comma; (comma = text.find(',', start)) != std::string::npos; start = comma + 1)
+        parts.push_back(text.substr(start, comma - start));
+    parts.push_back(text.substr(start));
+    return parts;
+}
+
 CLI::Validator nonEmpty(const std::string &needs)
 {
     return CLI::Validator([=](std::string &text) { return text.empty() ? needs : std::string(); },
@@ -229,6 +240,50 @@ void addSuggest(CLI::App &app, CliOptions &o)
     addTextOut(*c, o);
 }
 
+void addScan(CLI::App &app, CliOptions &o)
+{
+    CLI::App *c = app.add_subcommand(
+        "scan",
+        "analyse the design at every E-series value of one part, or every pair of two "
+        "(a map), one CSV row each");
+    addDesignFile(*c, o);
+    c->add_option_function<std::vector<std::string>>(
+         "--part",
+         [&o](const std::vector<std::string> &texts) {
+             o.scanTargets.clear();
+             for (const std::string &text : texts)
+                 o.scanTargets.push_back(*parseScanTarget(text));
+         },
+         "the part's value, or ID.FIELD another numeric field, over FROM:TO (default: a tenth "
+         "to ten times its value); given twice: a map of two parts")
+        ->type_name("ID[.FIELD][:FROM:TO]")
+        ->required()
+        ->multi_option_policy(CLI::MultiOptionPolicy::TakeAll)
+        ->expected(1, 2)
+        ->check(CLI::Validator(
+            [](std::string &text) {
+                auto t = parseScanTarget(text);
+                return t ? std::string() : t.diagnostics().front().message;
+            },
+            ""));
+    c->add_option_function<std::string>(
+         "--series", [&o](const std::string &text) { o.scanSeries = parseESeries(text); },
+         "the series of the values (default: the part's own, else E24)")
+        ->type_name("E24")
+        ->check(CLI::Validator(
+            [](std::string &text) {
+                return parseESeries(text)
+                    ? std::string()
+                    : "needs one of E3, E6, E12, E24, E48, E96, E192, not \"" + text + "\"";
+            },
+            ""));
+    c->add_option("--csv", o.csvOut,
+                  "the CSV file, one row per value or pair (\"-\": standard output)")
+        ->type_name("OUT")
+        ->required()
+        ->check(nonEmpty("needs an output file name"));
+}
+
 #ifdef LOOPSKETCH_HAVE_GUI
 void addExport(CLI::App &app, CliOptions &o)
 {
@@ -259,6 +314,33 @@ void addExport(CLI::App &app, CliOptions &o)
     addWholeNumber(*c, "--spread-seed", o.spreadSeed, 0, kLargestSeed, kWholeNumberAtLeastZero,
                    "seed of the sheet's Monte Carlo run")
         ->type_name("S");
+    c->add_option_function<std::vector<std::string>>(
+         "--scan",
+         [&o](const std::vector<std::string> &texts) {
+             o.exportScans.clear();
+             for (const std::string &text : texts) {
+                 std::vector<ScanTarget> targets;
+                 for (const std::string &one : splitScanList(text))
+                     targets.push_back(*parseScanTarget(one, "--scan"));
+                 o.exportScans.push_back(std::move(targets));
+             }
+         },
+         "a figure on the sheet: the scan of one part, or with two a map (as `scan --part`); "
+         "may be given again")
+        ->type_name("ID[,ID2]")
+        ->multi_option_policy(CLI::MultiOptionPolicy::TakeAll)
+        ->check(CLI::Validator(
+            [](std::string &text) {
+                const std::vector<std::string> parts = splitScanList(text);
+                if (parts.empty() || parts.size() > 2)
+                    return "needs one part (a scan) or two separated by a comma (a map), not \""
+                        + text + "\"";
+                for (const std::string &one : parts)
+                    if (auto t = parseScanTarget(one, "--scan"); !t)
+                        return t.diagnostics().front().message;
+                return std::string();
+            },
+            ""));
 }
 #endif
 
@@ -385,6 +467,7 @@ std::unique_ptr<CLI::App> makeCommandLine(CliOptions &o, std::string &guiFile)
     addSweep(*app, o);
     addSpread(*app, o);
     addSuggest(*app, o);
+    addScan(*app, o);
 #ifdef LOOPSKETCH_HAVE_GUI
     addExport(*app, o);
 #endif

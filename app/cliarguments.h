@@ -3,11 +3,13 @@
 // The command line's arguments: commands, options and their values, checked before any file
 // is read. Kept apart from running the commands so that a fuzzer can drive it alone.
 
+#include "loopsketch/analysis/scan.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/analysis/suggest.h"
 
 #include <cstdint>
 #include <iosfwd>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -30,6 +32,10 @@ struct CliOptions
     std::uint64_t spreadSeed = 1;
     SpreadOptions spread;
     SuggestOptions suggest;
+    std::vector<ScanTarget> scanTargets; ///< scan: --part, one or two
+    std::optional<ESeries> scanSeries; ///< scan: --series
+    /// export: --scan, each one part (a scan) or two (a map) for the review sheet
+    std::vector<std::vector<ScanTarget>> exportScans;
 };
 
 /// What the arguments ask for.

@@ -55,12 +55,15 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         err << "loopsketch: " << error.toStdString() << "\n";
         return kExitBadInput;
     }
+    std::vector<ui::SheetScan> scans;
+    for (const ScanResult &scan : request.scans)
+        scans.push_back({&scan});
     const QString shownName = request.file == "demo"
         ? QStringLiteral("demo")
         : QFileInfo(QString::fromStdString(request.file)).fileName();
     if (!ui::renderReviewSheet(design, analysis, QString::fromStdString(request.pdfOut),
                                request.letter ? ui::SheetPageSize::Letter : ui::SheetPageSize::A4,
-                               shownName, &error, spread ? &*spread : nullptr)) {
+                               shownName, &error, spread ? &*spread : nullptr, scans)) {
         err << "loopsketch: " << error.toStdString() << "\n";
         return kExitBadInput;
     }

@@ -4,6 +4,7 @@
 // display. Built only with the GUI (LOOPSKETCH_HAVE_GUI).
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/scan.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/base/result.h"
 #include "loopsketch/design/design.h"
@@ -27,6 +28,9 @@ struct ExportRequest
     /// parts; 0 leaves the section out.
     int spreadTrials = kDefaultMonteCarloTrials;
     std::uint64_t spreadSeed = 1; ///< ui::kSheetSpreadSeed
+    /// Scans and maps of the design (export --scan), each a figure on the sheet showing the
+    /// phase margin.
+    std::vector<ScanResult> scans;
 };
 
 /// The files `export --svg DIR` (svg) or `--png DIR` writes, for the output check before any

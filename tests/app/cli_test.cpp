@@ -1,7 +1,8 @@
 // The built command-line program, run as a user runs it: exit codes and messages on stderr
 // for malformed and oversized files, candidates, options and errors, and the README's
 // synopsis against --help. Its reports are checked in clireport_test.cpp, its outputs in
-// clioutputs_test.cpp, spread and suggest in clispreadsuggest_test.cpp.
+// clioutputs_test.cpp, spread and suggest in clispreadsuggest_test.cpp, scan in
+// cliscan_test.cpp.
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"

@@ -57,7 +57,8 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     QApplication::processEvents();
     EXPECT_EQ(loop->legendLabels(),
               QStringList({LoopGainPanel::kA, LoopGainPanel::kT, LoopGainPanel::kTwoPort,
-                           LoopGainPanel::kExact, "Fast: T, gain", "High gain: T, gain"}));
+                           LoopGainPanel::kExact, curveName(PlotCurve::OpenLoopGain),
+                           curveName(PlotCurve::InvBeta), "Fast: T, gain", "High gain: T, gain"}));
 
     // The overlay holds every point of core's loop gain for that candidate.
     const Design design = doc()->design();
@@ -88,7 +89,7 @@ TEST_F(CandidatesTest, OverlaysAppearPerCandidateAndGoWhenToggledOff)
     loop->overlayAction()->setChecked(false);
     EXPECT_TRUE(loop->overlaySeriesNames().isEmpty());
     QApplication::processEvents();
-    EXPECT_EQ(loop->legendLabels().size(), 4);
+    EXPECT_EQ(loop->legendLabels().size(), 6); // A, T, two gains, |A_ol|, 1/β
     EXPECT_EQ(loop->chart()->series().size(), seriesBefore);
     EXPECT_EQ(loop->series(QStringLiteral("Wide: T")), nullptr);
 

@@ -52,6 +52,7 @@ LoopGainPanel::LoopGainPanel(QWidget *parent) : PlotPanel(tr("Loop gain"), paren
          {static_cast<QXYSeries *>(m_crossover), static_cast<QXYSeries *>(m_gainMargin),
           static_cast<QXYSeries *>(m_phaseMargin)})
         hideFromLegend(s);
+    addClosureCurves();
     enableOverlays(m_x);
 }
 
@@ -75,8 +76,10 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
         mags[i] = curvePoints(f, *curves[i], CurvePart::MagnitudeDb);
         phases[i] = curvePoints(f, *curves[i], CurvePart::PhaseDeg);
     }
+    QList<QPointF> closure[2];
+    showClosure(a, frequencyLo(a), frequencyHi(a), closure);
     double lo = 0, hi = 0;
-    if (yRange({&mags[0], &mags[1], &mags[2], &mags[3]}, &lo, &hi))
+    if (yRange({&mags[0], &mags[1], &mags[2], &mags[3], &closure[0], &closure[1]}, &lo, &hi))
         setRoundRange(m_mag, std::max(lo, hi - 300.0), std::max(hi, 0.0), 40);
     if (yRange({&phases[0], &phases[1], &phases[2], &phases[3]}, &lo, &hi))
         setRoundRange(m_phase, lo, hi, 90);

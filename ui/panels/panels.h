@@ -37,6 +37,12 @@ private:
     QValueAxis *m_mag, *m_phase;
     QLineSeries *m_magSeries[4], *m_phaseSeries[4];
     QScatterSeries *m_crossover, *m_phaseMargin, *m_gainMargin;
+    // |A_ol| and 1/β meeting at the crossover, the rate of closure beside the mark
+    // (closurecurves.cpp).
+    QLineSeries *m_openLoop, *m_invBeta;
+    QScatterSeries *m_closure;
+    void addClosureCurves();
+    void showClosure(const Analysis &analysis, double xLo, double xHi, QList<QPointF> *mags);
 };
 
 /// z_in and z_out with feedback (exact) and without (gain block's gain at 0).

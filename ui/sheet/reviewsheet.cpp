@@ -1,6 +1,7 @@
 #include "sheet/reviewsheet.h"
 
 #include "sheet/sheetcandidates.h"
+#include "sheet/sheetscans.h"
 #include "sheet/sheetsections.h"
 #include "sheet/sheetwriter.h"
 #include "support/outputfile.h"
@@ -40,7 +41,8 @@ namespace {
 
 int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm, double k,
                int totalPages, const Design &d, const Analysis &a, const QString &fileName,
-               const SheetSpread *spread, const std::vector<SheetCandidate> &candidates)
+               const SheetSpread *spread, const std::vector<SheetCandidate> &candidates,
+               const std::vector<SheetScan> &scans)
 {
     SheetWriter w(p, device, pdf, pageMm, k, totalPages);
     titleBlock(w, d, a, fileName, spread);
@@ -54,6 +56,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     candidatesSection(w, d, candidates);
     spreadSection(w, d, a, spread);
     plotsSection(w, a, sheetOverlays(candidates));
+    scansSection(w, scans);
     cautionsSection(w);
     w.finish();
     return w.page();
@@ -73,12 +76,13 @@ QSizeF paintSizeMm(const QPdfWriter &pdf)
 }
 
 int pageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
-              const SheetSpread *spread, const std::vector<SheetCandidate> &candidates)
+              const SheetSpread *spread, const std::vector<SheetCandidate> &candidates,
+              const std::vector<SheetScan> &scans)
 {
     QPdfWriter pdf(QString{});
     setUpWriter(pdf, pageSize, {});
     return paintSheet(nullptr, &pdf, nullptr, paintSizeMm(pdf), pdf.resolution() / 25.4, 0, design,
-                      analysis, {}, spread, candidates);
+                      analysis, {}, spread, candidates, scans);
 }
 
 } // namespace
@@ -111,18 +115,18 @@ bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
 }
 
 int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
-                         const SheetSpread *spread)
+                         const SheetSpread *spread, const std::vector<SheetScan> &scans)
 {
-    return pageCount(design, analysis, pageSize, spread, sheetCandidates(design, analysis));
+    return pageCount(design, analysis, pageSize, spread, sheetCandidates(design, analysis), scans);
 }
 
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
                        SheetPageSize pageSize, const QString &fileName, QString *error,
-                       const SheetSpread *spread)
+                       const SheetSpread *spread, const std::vector<SheetScan> &scans)
 {
     // The candidates are analysed once, for the measuring pass and the drawing alike.
     const std::vector<SheetCandidate> candidates = sheetCandidates(design, analysis);
-    const int pages = pageCount(design, analysis, pageSize, spread, candidates);
+    const int pages = pageCount(design, analysis, pageSize, spread, candidates, scans);
     // Rendered whole into memory first: QPdfWriter reports no write errors, so the bytes go to
     // disk through the checked writer, and only a finished document (trailer written) does.
     QBuffer buffer;
@@ -138,7 +142,7 @@ bool renderReviewSheet(const Design &design, const Analysis &analysis, const QSt
             return false;
         }
         paintSheet(&painter, &pdf, &pdf, paintSizeMm(pdf), pdf.resolution() / 25.4, pages, design,
-                   analysis, fileName, spread, candidates);
+                   analysis, fileName, spread, candidates, scans);
         if (!painter.end()) {
             if (error)
                 *error = QStringLiteral("%1: cannot write the review sheet: the PDF could not be "

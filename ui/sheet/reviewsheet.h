@@ -4,6 +4,7 @@
 // the same plots as SVG files. Every number comes from core's Analysis; this only lays out.
 
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/scan.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/design/design.h"
 
@@ -38,6 +39,15 @@ inline constexpr std::uint64_t kSheetSpreadSeed = 1;
 /// failure of core returns false with its diagnostics in `error`.
 bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
                         const std::string &file, std::optional<SheetSpread> *out, QString *error);
+
+/// A scan (one axis) or map (two) made for the sheet's design as it is: the sheet draws it as
+/// a figure of one metric with its parameters stated (part, field, series, range, values,
+/// the design's value, how many values meet every spec).
+struct SheetScan
+{
+    const ScanResult *scan = nullptr;
+    int metric = 2; ///< index into scanMetricInfos() (panels/scanrunner.h); 2: phase margin
+};
 
 /// The plots of the sheet, in sheet order.
 enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step, Poles, Noise };
@@ -78,11 +88,13 @@ QString designContentHash(const Design &design);
 /// `error` to a message naming the path. Needs a QApplication (the sketch is a scene).
 bool renderReviewSheet(const Design &design, const Analysis &analysis, const QString &path,
                        SheetPageSize pageSize, const QString &fileName, QString *error,
-                       const SheetSpread *spread = nullptr);
+                       const SheetSpread *spread = nullptr,
+                       const std::vector<SheetScan> &scans = {});
 
-/// The number of pages renderReviewSheet writes for this design, page size and spread.
+/// The number of pages renderReviewSheet writes for this design, page size, spread and scans.
 int reviewSheetPageCount(const Design &design, const Analysis &analysis, SheetPageSize pageSize,
-                         const SheetSpread *spread = nullptr);
+                         const SheetSpread *spread = nullptr,
+                         const std::vector<SheetScan> &scans = {});
 
 /// File formats of the plot export.
 enum class PlotFormat { Svg, Png };

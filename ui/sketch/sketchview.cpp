@@ -307,6 +307,9 @@ void SketchView::contextMenuEvent(QContextMenuEvent *event)
                        [this, id] { emit mirrorRequested(id); });
         menu.addAction(tr("Delete %1").arg(QString::fromStdString(id)), this,
                        [this, id] { emit deleteRequested({id}); });
+        menu.addSeparator();
+        menu.addAction(tr("Scan %1's values").arg(QString::fromStdString(id)), this,
+                       [this, id] { emit scanRequested(id); });
     } else {
         return;
     }

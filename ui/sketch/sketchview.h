@@ -53,6 +53,8 @@ signals:
     /// Delete or Backspace on the Sketch: remove whatever is selected.
     void deleteSelectionRequested();
     void mirrorRequested(const std::string &partId);
+    /// Scan a part's values (context menu; the Scan panel).
+    void scanRequested(const std::string &partId);
     /// Take one pin off its node (context menu).
     void disconnectRequested(const std::string &partId, const std::string &terminal);
     /// Remove the wire between two pins (context menu).

@@ -9,7 +9,9 @@
 #include <algorithm>
 #include <cmath>
 
+#include <algorithm>
 #include <array>
+#include <cmath>
 #include <iterator>
 
 namespace loopsketch::ui {
@@ -23,9 +25,9 @@ using U = CurveUnit;
 // input-referred noise (drawn against its own axis). Built on first use: names are read
 // during the dynamic initialisation of other files (static members such as
 // LoopGainPanel::kT).
-const std::array<CurveStyle, 15> &curves()
+const std::array<CurveStyle, 18> &curves()
 {
-    static const std::array<CurveStyle, 15> table{{
+    static const std::array<CurveStyle, 18> table{{
         {P::A, QStringLiteral("A"), QStringLiteral("A"), U::Gain, palette::kOrange, Qt::SolidLine},
         {P::LoopGain, QStringLiteral("T (return ratio)"), QStringLiteral("T"), U::Ratio,
          palette::kBlue, Qt::SolidLine},
@@ -55,11 +57,32 @@ const std::array<CurveStyle, 15> &curves()
          U::InputDensity, palette::kVermillion, Qt::DashLine},
         {P::NoiseCumulative, QStringLiteral("cumulative output rms"),
          QStringLiteral("cumulative rms"), U::OutputRms, palette::kBlue, Qt::DashDotLine},
+        {P::OpenLoopGain, QStringLiteral("|A_ol| (gain block)"), QStringLiteral("A_ol"), U::Ratio,
+         palette::kGreen, Qt::DashDotLine},
+        {P::InvBeta, QStringLiteral("1/β (closure)"), QStringLiteral("1/β"), U::Ratio,
+         palette::kPurple, Qt::DashDotLine},
+        {P::Nyquist, QStringLiteral("T(jω)"), QStringLiteral("T"), U::Ratio, palette::kBlue,
+         Qt::SolidLine},
     }};
     return table;
 }
 
 } // namespace
+
+QColor sequentialColour(double t)
+{
+    static const QColor stops[] = {{0x44, 0x01, 0x54}, {0x41, 0x44, 0x87}, {0x2A, 0x78, 0x8E},
+                                   {0x22, 0xA8, 0x84}, {0x7A, 0xD1, 0x51}, {0xFD, 0xE7, 0x25}};
+    const double x = std::clamp(std::isfinite(t) ? t : 0.0, 0.0, 1.0) * 5.0;
+    const int i = std::min(4, static_cast<int>(x));
+    const double f = x - i;
+    const auto mix = [f](int a, int b) {
+        return static_cast<int>(std::lround(a + (b - a) * f));
+    };
+    return QColor(mix(stops[i].red(), stops[i + 1].red()),
+                  mix(stops[i].green(), stops[i + 1].green()),
+                  mix(stops[i].blue(), stops[i + 1].blue()));
+}
 
 const CurveStyle &curveStyle(PlotCurve curve)
 {

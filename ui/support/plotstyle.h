@@ -25,6 +25,10 @@ inline const QColor kPurple{0xCC, 0x79, 0xA7};
 inline const QColor kBlack{0x22, 0x22, 0x22};
 } // namespace palette
 
+/// A sequential colour for t in [0, 1] (dark blue-violet to yellow, the perceptually even,
+/// colour-blind-safe "viridis" ramp): the Map panel's heat scale.
+QColor sequentialColour(double t);
+
 /// Every curve a panel or the sheet draws.
 enum class PlotCurve {
     A, ///< the two-port estimate's A circuit gain
@@ -42,6 +46,9 @@ enum class PlotCurve {
     NoiseOutput, ///< total output noise density
     NoiseInput, ///< input-referred noise density
     NoiseCumulative, ///< output rms from the sweep start up to each frequency
+    OpenLoopGain, ///< A_ol: the gain block's own open-loop gain
+    InvBeta, ///< the closure curve 1/beta = A_ol / T
+    Nyquist, ///< T(jw) on the Nyquist plane
 };
 
 /// The unit a curve's values are in; Gain and the noise units depend on the design.

@@ -4,6 +4,7 @@
 
 #include "panels/candidatespanel.h"
 #include "panels/noisepanel.h"
+#include "panels/nyquistpanel.h"
 #include "panels/panels.h"
 #include "panels/readout.h"
 #include "panels/spreadpanel.h"
@@ -12,6 +13,7 @@
 #include "sketch/partspalette.h"
 #include "sketch/sketchview.h"
 #include "window/designdocument.h"
+#include "window/stabilitydocks.h"
 
 #include <QAction>
 #include <QDockWidget>
@@ -162,6 +164,14 @@ void MainWindow::createDocks()
                                 scrolling(m_candidates, this), Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, m_candidatesDock);
     tabifyDockWidget(impDock, spreadDock);
+    // Nyquist, Scan and Map (window/stabilitydocks.cpp), tabbed with the others.
+    const StabilityDocks stability = makeStabilityDocks(m_document, this);
+    m_panels.push_back(stability.nyquist);
+    for (QDockWidget *d : stability.docks) {
+        addDockWidget(Qt::RightDockWidgetArea, d);
+        m_docks.push_back(d);
+        tabifyDockWidget(impDock, d);
+    }
     impDock->raise();
     connect(m_candidates, &CandidatesPanel::resultsChanged, this, [this] {
         const std::vector<OverlaySource> sources = m_candidates->overlaySources();
@@ -224,6 +234,8 @@ void MainWindow::arrangeDocks(bool compact)
                 *impedance = dock("ImpedanceDock"), *noise = dock("NoiseDock"),
                 *spread = dock("SpreadDock"), *desens = dock("DesensitivityDock"),
                 *step = dock("StepDock"), *poles = dock("PolesDock");
+    const std::vector<QDockWidget *> stability
+        = {dock("NyquistDock"), dock("ScanDock"), dock("MapDock")};
     for (QDockWidget *d : m_docks) {
         d->setFloating(false);
         if (d->features() != QDockWidget::NoDockWidgetFeatures)
@@ -239,6 +251,8 @@ void MainWindow::arrangeDocks(bool compact)
         splitDockWidget(loop, step, Qt::Vertical);
         for (QDockWidget *d : {impedance, noise, m_candidatesDock, spread})
             tabifyDockWidget(loop, d);
+        for (QDockWidget *d : stability)
+            tabifyDockWidget(loop, d);
         for (QDockWidget *d : {poles, desens})
             tabifyDockWidget(step, d);
         step->raise();
@@ -246,6 +260,8 @@ void MainWindow::arrangeDocks(bool compact)
     } else {
         splitDockWidget(loop, impedance, Qt::Vertical);
         for (QDockWidget *d : {noise, m_candidatesDock, spread})
+            tabifyDockWidget(impedance, d);
+        for (QDockWidget *d : stability)
             tabifyDockWidget(impedance, d);
         impedance->raise();
         addDockWidget(Qt::BottomDockWidgetArea, desens);

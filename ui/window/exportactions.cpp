@@ -38,7 +38,8 @@ void reportFailure(QWidget *parent, const QString &what, const QString &error)
 } // namespace
 
 bool exportReviewSheet(const DesignDocument &document, const QString &path, SheetPageSize pageSize,
-                       const QString &shownName, QString *error, const SheetSpread *spread)
+                       const QString &shownName, QString *error, const SheetSpread *spread,
+                       const std::vector<SheetScan> &scans)
 {
     if (!checkOutputPath(path, QStringLiteral("review sheet"), error, document.filePath()))
         return false;
@@ -52,8 +53,8 @@ bool exportReviewSheet(const DesignDocument &document, const QString &path, Shee
             return false;
         spread = defaultSpread ? &*defaultSpread : nullptr;
     }
-    return renderReviewSheet(document.design(), *analysis, path, pageSize, shownName, error,
-                             spread);
+    return renderReviewSheet(document.design(), *analysis, path, pageSize, shownName, error, spread,
+                             scans);
 }
 
 bool exportSweepCsv(const DesignDocument &document, const QString &path, QString *error)
@@ -85,7 +86,8 @@ bool exportPlots(const DesignDocument &document, const QString &dir, PlotFormat 
 }
 
 void addExportMenu(QMenu *menu, QWidget *parent, const DesignDocument *document,
-                   std::function<QString()> shownName, std::function<const SheetSpread *()> spread)
+                   std::function<QString()> shownName, std::function<const SheetSpread *()> spread,
+                   std::function<std::vector<SheetScan>()> scans)
 {
     QMenu *exportMenu = menu->addMenu(QObject::tr("E&xport"));
     exportMenu->addAction(QObject::tr("Review sheet (PDF)…"), parent, [=] {
@@ -101,7 +103,8 @@ void addExportMenu(QMenu *menu, QWidget *parent, const DesignDocument *document,
         QString error;
         if (!exportReviewSheet(*document, path,
                                filter == letter ? SheetPageSize::Letter : SheetPageSize::A4,
-                               shownName(), &error, spread ? spread() : nullptr))
+                               shownName(), &error, spread ? spread() : nullptr,
+                               scans ? scans() : std::vector<SheetScan>{}))
             reportFailure(parent, QObject::tr("review sheet"), error);
     });
     exportMenu->addAction(QObject::tr("Sweep (CSV)…"), parent, [=] {

@@ -14,6 +14,7 @@
 #include "window/exportactions.h"
 #include "window/helpdialogs.h"
 #include "window/partclipboard.h"
+#include "window/stabilitydocks.h"
 
 #include <QAction>
 #include <QApplication>
@@ -65,7 +66,7 @@ void MainWindow::createActions()
     addExportMenu(
         file, this, m_document,
         [this] { return m_displayName.isEmpty() ? tr("untitled") : m_displayName; },
-        [this] { return m_spread->completedResult(); });
+        [this] { return m_spread->completedResult(); }, [this] { return sheetScans(this); });
     file->addSeparator();
     QAction *quit = file->addAction(tr("&Quit"), this, &QWidget::close);
     quit->setShortcut(QKeySequence::Quit);
@@ -115,6 +116,7 @@ void MainWindow::createActions()
         dialog->raise();
         dialog->activateWindow();
     });
+    addStabilityActions(m_designMenu, m_view, this);
 
     m_viewMenu = menuBar()->addMenu(tr("&View"));
     m_viewMenu->addAction(tr("Fit sketch"), this, [this] { m_view->fitDesign(); });

@@ -1,6 +1,7 @@
 #include "loopsketch/analysis/analysis.h"
 
 #include "loopsketch/analysis/metrics.h"
+#include "loopsketch/analysis/nyquist.h"
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/circuit/circuit.h"
@@ -314,7 +315,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 
     LoopCurves &c = a.curves;
     const std::vector<Complex> points = pointsAt(a.frequenciesHz);
-    c = model.sweep(points);
+    c = options.allCurves ? model.sweep(points) : model.sweepLoop(points);
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
     if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())
@@ -340,7 +341,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 
     // The loop beyond the sweep, where crossings may lie: as far as its poles and the
     // closed loop's reach.
-    std::vector<Complex> loopPoles = model.loopGainPoles();
+    const std::vector<Complex> loopGainPoles = model.loopGainPoles();
+    std::vector<Complex> loopPoles = loopGainPoles;
     loopPoles.insert(loopPoles.end(), closedLoopPoles.begin(), closedLoopPoles.end());
     const BeyondSweep beyond = frequenciesBeyondSweep(a.frequenciesHz, loopPoles);
     const std::vector<Complex> below = pointsAt(beyond.below), above = pointsAt(beyond.above);
@@ -354,6 +356,17 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         t.insert(t.end(), tAbove.begin(), tAbove.end());
         a.margins = computeMargins(model, f, t, dc.loopGain);
     }
+    a.margins.rateOfClosureDbPerDecade = rateOfClosure(model, a.margins.crossoverHz);
+    if (a.margins.crossoverHz) {
+        const double level = 20.0
+            * std::log10(std::abs(
+                model.openLoopGainAt({0.0, 2.0 * std::numbers::pi * *a.margins.crossoverHz})));
+        if (std::isfinite(level))
+            a.margins.closureLevelDb = level;
+    }
+    a.margins.steepClosure = a.margins.rateOfClosureDbPerDecade
+        && *a.margins.rateOfClosureDbPerDecade >= kSteepClosureDbPerDecade;
+    a.nyquist = countEncirclements(model, loopGainPoles, closedLoopPoles);
     a.step.settlingBand = design.settlingBandFraction();
     if (a.exact.gain && a.stable) {
         a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);

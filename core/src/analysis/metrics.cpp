@@ -190,6 +190,20 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
     return m;
 }
 
+OptionalNumber rateOfClosure(const LoopModel &model, OptionalNumber crossoverHz)
+{
+    if (!crossoverHz || !(*crossoverHz > 0))
+        return std::nullopt;
+    constexpr double kHalfStepDecades = 1e-4;
+    const double step = std::pow(10.0, kHalfStepDecades);
+    const double up = std::abs(model.loopGainAt(jw(*crossoverHz * step)));
+    const double down = std::abs(model.loopGainAt(jw(*crossoverHz / step)));
+    const double rate = -20.0 * (std::log10(up) - std::log10(down)) / (2 * kHalfStepDecades);
+    if (!std::isfinite(rate))
+        return std::nullopt;
+    return rate;
+}
+
 Stability assessStability(const std::vector<ClosedLoopPole> &poles)
 {
     Stability v;

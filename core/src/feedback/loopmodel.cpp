@@ -194,6 +194,13 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     if (path == SolverPath::Reduced)
         m.checkAccuracy(design);
 
+    if (const Part *gainBlock = design.uniquePart(PartType::GainBlock)) {
+        m.m_openLoopDcGain = gainBlockGain(*gainBlock);
+        m.m_openLoopPolesHz = gainBlockPolesHz(*gainBlock);
+        for (const Value &z : gainBlock->zerosHz)
+            m.m_openLoopZerosHz.push_back(z.si);
+    }
+
     m.m_topology = identifyTopology(design);
     if (m.m_topology.topology)
         m.buildTwoPort(design, path);
@@ -493,12 +500,66 @@ Complex LoopModel::gainAt(Complex s) const
     return m_full->entry(s, loopio::kOutput, loopio::kSource);
 }
 
+Complex LoopModel::openLoopGainAt(Complex s) const
+{
+    Complex a = m_openLoopDcGain;
+    const double twoPi = 2.0 * std::numbers::pi;
+    for (double z : m_openLoopZerosHz)
+        a *= 1.0 + s / (twoPi * z);
+    for (double p : m_openLoopPolesHz)
+        a /= 1.0 + s / (twoPi * p);
+    return a;
+}
+
 LoopPoint LoopModel::at(Complex s) const
 {
     LoopCurves c = sweep({&s, 1});
     LoopPoint p;
     LoopPoint::forEachPair(p, c, [](auto &value, auto &curve) { value = curve[0]; });
     return p;
+}
+
+LoopCurves LoopModel::sweepLoop(std::span<const Complex> s) const
+{
+    LoopCurves c;
+    c.gainExact = entryCurve(*m_full, s, loopio::kOutput, loopio::kSource);
+    sweepReturnRatio(s, c);
+    return c;
+}
+
+void LoopModel::sweepReturnRatio(std::span<const Complex> s, LoopCurves &c) const
+{
+    const std::size_t n = s.size();
+    const TransferEntry e[] = {{loopio::kReturned, loopio::kTest},
+                               {loopio::kOutput, loopio::kSource},
+                               {loopio::kOutput, loopio::kTest},
+                               {loopio::kReturned, loopio::kSource}};
+    const Curve rr = m_rrFull->sweepEntries(s, e);
+    c.loopGain.resize(n);
+    c.feedthrough.resize(n);
+    c.gainInf.resize(n);
+    c.gainReturnRatio.resize(n);
+    c.desensitivity.resize(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        const Complex t = -rr[i];
+        const Complex g0 = rr[n + i];
+        const Complex through = rr[2 * n + i] * rr[3 * n + i];
+        c.loopGain[i] = t;
+        c.feedthrough[i] = g0;
+        c.gainInf[i] = g0 + through / t;
+        // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
+        // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
+        // where G_inf is not.
+        c.gainReturnRatio[i] = g0 + through / (1.0 + t);
+        c.desensitivity[i] = 1.0 + t;
+    }
+    c.openLoopGain.resize(n);
+    c.invBeta.resize(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        c.openLoopGain[i] = openLoopGainAt(s[i]);
+        // Where T is 0 (no loop at that frequency) 1/beta is infinite: absent.
+        c.invBeta[i] = c.loopGain[i] != 0.0 ? c.openLoopGain[i] / c.loopGain[i] : kNaN;
+    }
 }
 
 LoopCurves LoopModel::sweep(std::span<const Complex> s) const
@@ -511,31 +572,7 @@ LoopCurves LoopModel::sweep(std::span<const Complex> s) const
     c.zOutExact = m_output ? entryCurve(*m_output, s, loopio::kLoadVoltage, loopio::kLoadPort)
                            : nanCurve(n);
 
-    {
-        const TransferEntry e[] = {{loopio::kReturned, loopio::kTest},
-                                   {loopio::kOutput, loopio::kSource},
-                                   {loopio::kOutput, loopio::kTest},
-                                   {loopio::kReturned, loopio::kSource}};
-        const Curve rr = m_rrFull->sweepEntries(s, e);
-        c.loopGain.resize(n);
-        c.feedthrough.resize(n);
-        c.gainInf.resize(n);
-        c.gainReturnRatio.resize(n);
-        c.desensitivity.resize(n);
-        for (std::size_t i = 0; i < n; ++i) {
-            const Complex t = -rr[i];
-            const Complex g0 = rr[n + i];
-            const Complex through = rr[2 * n + i] * rr[3 * n + i];
-            c.loopGain[i] = t;
-            c.feedthrough[i] = g0;
-            c.gainInf[i] = g0 + through / t;
-            // G_inf T/(1+T) + G_0/(1+T) with G_inf = G_0 + through/T, written without
-            // G_inf: the same value, and finite where T is 0 (no loop at that frequency),
-            // where G_inf is not.
-            c.gainReturnRatio[i] = g0 + through / (1.0 + t);
-            c.desensitivity[i] = 1.0 + t;
-        }
-    }
+    sweepReturnRatio(s, c);
     c.zInOpenLoop = c.zOutOpenLoop = nanCurve(n);
     c.zInReturnRatio = m_rrInput
         ? blackman(*m_rrInput, s, loopio::kInputVoltage, loopio::kInputPort, c.zInOpenLoop)

@@ -213,6 +213,8 @@ std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a
               {"margins.phase_crossover_hz", "Hz"},
               {"margins.gain_margins_db[].db", "dB"},
               {"margins.gain_margins_db[].frequency_hz", "Hz"},
+              {"margins.rate_of_closure_db_per_decade", "dB/decade"},
+              {"margins.closure_level_db", "dB"},
               {"closed_loop.bandwidth_hz", "Hz"},
               {"closed_loop.peaking_db", "dB"},
               {"closed_loop.poles[].re", "rad/s"},
@@ -302,7 +304,10 @@ std::string analysisToJson(const Analysis &a)
                     {"phase_margin_deg", number(a.margins.phaseMarginDeg)},
                     {"gain_margin_db", number(a.margins.gainMarginDb)},
                     {"phase_crossover_hz", number(a.margins.phaseCrossoverHz)},
-                    {"gain_margins_db", gainMargins}};
+                    {"gain_margins_db", gainMargins},
+                    {"rate_of_closure_db_per_decade", number(a.margins.rateOfClosureDbPerDecade)},
+                    {"closure_level_db", number(a.margins.closureLevelDb)},
+                    {"steep_closure", a.margins.steepClosure}};
     Json poles = Json::array();
     for (const auto &p : a.poles)
         poles.push_back({{"re", number(p.s.real())},
@@ -313,6 +318,11 @@ std::string analysisToJson(const Analysis &a)
     j["closed_loop"] = {
         {"stable", a.stabilityKnown ? Json(a.stable) : Json(nullptr)},
         {"rhp_poles", a.rhpPoles},
+        {"nyquist",
+         {{"encirclements",
+           a.nyquist.encirclements ? Json(*a.nyquist.encirclements) : Json(nullptr)},
+          {"open_loop_rhp_poles", a.nyquist.openLoopRhpPoles},
+          {"reason", a.nyquist.reason.empty() ? Json(nullptr) : Json(a.nyquist.reason)}}},
         {"reason", a.closedLoopReason.empty() ? Json(nullptr) : Json(a.closedLoopReason)},
         {"bandwidth_hz", number(a.bandwidthHz)},
         {"peaking_db", number(a.peakingDb)},

@@ -41,6 +41,8 @@ std::string sweepToCsv(const Analysis &a)
         {"z_in", &c.zInExact},
         {"z_out", &c.zOutExact},
         {"desensitivity", &c.desensitivity},
+        {"a_ol", &c.openLoopGain},
+        {"inv_beta", &c.invBeta},
     };
     std::ostringstream os;
     os << "f_hz";

@@ -477,3 +477,123 @@ TEST(StepFuzzFound, StiffStepModelKeepsTheClosedLoopPoles)
         EXPECT_LT(nearest, 1e-6) << p;
     }
 }
+
+// ---- closure: A_ol, inv_beta and the rate of closure ----------------------------------------
+
+namespace {
+
+/// A non-inverting stage: R1 from the output to the feedback node, R2 from there to ground,
+/// so beta = R2 / (R1 + R2) exactly (no r_in, r_out = 0).
+Design nonInverting(const std::string &poles, const std::string &r1, const std::string &r2)
+{
+    return parseOrFail(R"({"schema": "loopsketch.design/1", "parts": [
+  {"id": "SIG", "type": "vsource", "pos": "in", "neg": "0"},
+  {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out", "gain": "1e5",
+   "poles_hz": )" + poles
+                       + R"(},
+  {"id": "R1", "type": "resistor", "a": "out", "b": "fb", "value": ")"
+                       + r1 + R"("},
+  {"id": "R2", "type": "resistor", "a": "fb", "b": "0", "value": ")"
+                       + r2 + R"("},
+  {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"}],
+ "input": "SIG", "output": "voltage", "sweep": {"start": "1", "stop": "100M"}})");
+}
+
+} // namespace
+
+TEST(Closure, InvBetaIsOneOverBetaAndItsDistanceToAolIsT)
+{
+    // beta = R2/(R1 + R2) = 0.1 for an ideal divider (voltage-divider rule, common practice):
+    // 1/beta = 10 at every frequency, and |A_ol| / |inv_beta| = |T| by definition.
+    const Analysis a = analyzeOrFail(nonInverting(R"(["10"])", "9k", "1k"));
+    const LoopCurves &c = a.curves;
+    ASSERT_EQ(c.invBeta.size(), a.frequenciesHz.size());
+    for (std::size_t i = 0; i < a.frequenciesHz.size(); i += 37) {
+        EXPECT_LT(relErr(std::abs(c.invBeta[i]), 10.0), 1e-9) << a.frequenciesHz[i];
+        EXPECT_LT(
+            relErr(std::abs(c.openLoopGain[i]) / std::abs(c.invBeta[i]), std::abs(c.loopGain[i])),
+            1e-12);
+        // A_ol of a single pole: 1e5 / (1 + j f / 10 Hz) (the gain block's definition).
+        const cd expected = 1e5 / (1.0 + cd(0, a.frequenciesHz[i] / 10.0));
+        EXPECT_LT(relErr(c.openLoopGain[i], expected), 1e-12);
+    }
+}
+
+TEST(Closure, SinglePoleWithResistiveFeedbackClosesAt20dBPerDecade)
+{
+    // |A_ol| falls at 20 dB/decade above its pole, 1/beta is flat: the closure is 20 dB/decade
+    // (rate-of-closure rule, common practice). At 100 kHz, four decades above the 10 Hz pole,
+    // the local slope is 20 f^2/(f^2 + fp^2) = 20 within 1e-7.
+    const Analysis a = analyzeOrFail(nonInverting(R"(["10"])", "9k", "1k"));
+    ASSERT_TRUE(a.margins.crossoverHz && a.margins.rateOfClosureDbPerDecade);
+    EXPECT_NEAR(*a.margins.crossoverHz, 1e5, 1e3);
+    EXPECT_NEAR(*a.margins.rateOfClosureDbPerDecade, 20.0, 0.01);
+    EXPECT_FALSE(a.margins.steepClosure);
+}
+
+TEST(Closure, TwoPoleBlockPastItsSecondPoleClosesAt40dBPerDecade)
+{
+    // Poles at 10 Hz and 10 kHz, 1/beta = 2: |A_ol| meets 1/beta near 70 kHz, seven times the
+    // second pole, where A_ol falls at nearly 40 dB/decade (rate-of-closure rule, common
+    // practice). The local slope there is 20 + 20 f^2/(f^2 + (10 kHz)^2), about 39.6.
+    const Analysis a = analyzeOrFail(nonInverting(R"(["10", "10k"])", "1k", "1k"));
+    ASSERT_TRUE(a.margins.crossoverHz && a.margins.rateOfClosureDbPerDecade);
+    EXPECT_GT(*a.margins.crossoverHz, 5e4);
+    const double f = *a.margins.crossoverHz, fp = 1e4;
+    const double expected = 20.0 * (f * f / (f * f + 100.0)) + 20.0 * (f * f / (f * f + fp * fp));
+    EXPECT_NEAR(*a.margins.rateOfClosureDbPerDecade, expected, 1e-3);
+    EXPECT_NEAR(*a.margins.rateOfClosureDbPerDecade, 40.0, 1.0);
+    EXPECT_TRUE(a.margins.steepClosure);
+}
+
+namespace {
+
+/// A transimpedance stage: an ideal current source with Cd across it into the inverting
+/// input, RF || CF feedback, a gain block of 1e5 with one pole at 10 Hz, r_out = 0.
+Design twoPoleTia(double cf)
+{
+    std::ostringstream s;
+    s.precision(17);
+    s << R"({"schema": "loopsketch.design/1", "parts": [
+  {"id": "PD", "type": "isource", "to": "in", "from": "0", "c_parallel": "20p"},
+  {"id": "U1", "type": "gain_block", "in_p": "0", "in_n": "in", "out": "out", "gain": "1e5",
+   "poles_hz": ["10"]},
+  {"id": "RF", "type": "resistor", "a": "in", "b": "out", "value": "1M"},
+  {"id": "CF", "type": "capacitor", "a": "in", "b": "out", "value": )"
+      << cf << R"(},
+  {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"}],
+ "input": "PD", "output": "voltage", "sweep": {"start": "1", "stop": "1G"}})";
+    return parseOrFail(s.str());
+}
+
+} // namespace
+
+class TiaPhaseMargin : public ::testing::TestWithParam<double>
+{
+};
+
+TEST_P(TiaPhaseMargin, MatchesTheClosedFormOfTheTwoPoleLoop)
+{
+    // The loop of a transimpedance stage is T(s) = A0/(1 + s/wa) * (1 + s a)/(1 + s b), with
+    // a = RF CF and b = RF (CF + Cd): two poles and the zero of the feedback capacitor
+    // (Franco, Design with Operational Amplifiers and Analog Integrated Circuits, 3rd ed.,
+    // ch. 8, stability of the transimpedance loop; from memory). |T(jw)| = 1 is a quadratic
+    // in x = w^2: (b^2/wa^2) x^2 + (1/wa^2 + b^2 - A0^2 a^2) x + 1 - A0^2 = 0, and
+    // PM = 180 - atan(wc/wa) - atan(wc b) + atan(wc a).
+    const double cf = GetParam(), cd = 20e-12, rf = 1e6, a0 = 1e5, wa = 2 * kPi * 10.0;
+    const double a = rf * cf, b = rf * (cf + cd);
+    const double qa = b * b / (wa * wa), qb = 1 / (wa * wa) + b * b - a0 * a0 * a * a,
+                 qc = 1 - a0 * a0;
+    const double x = (-qb + std::sqrt(qb * qb - 4 * qa * qc)) / (2 * qa);
+    const double wc = std::sqrt(x);
+    const double pm
+        = 180.0 - (std::atan(wc / wa) + std::atan(wc * b) - std::atan(wc * a)) * 180.0 / kPi;
+
+    const Analysis an = analyzeOrFail(twoPoleTia(cf));
+    ASSERT_TRUE(an.margins.phaseMarginDeg && an.margins.crossoverHz);
+    EXPECT_LT(relErr(*an.margins.crossoverHz, wc / (2 * kPi)), 1e-9);
+    EXPECT_NEAR(*an.margins.phaseMarginDeg, pm, 1e-6) << "CF = " << cf;
+}
+
+INSTANTIATE_TEST_SUITE_P(CfFrom0p1To4p7, TiaPhaseMargin,
+                         ::testing::Values(0.1e-12, 0.47e-12, 1e-12, 2.2e-12, 4.7e-12));

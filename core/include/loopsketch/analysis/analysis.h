@@ -6,6 +6,7 @@
 // not exist.
 
 #include "loopsketch/analysis/noise.h"
+#include "loopsketch/analysis/nyquist.h"
 #include "loopsketch/base/result.h"
 #include "loopsketch/design/design.h"
 #include "loopsketch/feedback/exactsolution.h"
@@ -53,7 +54,21 @@ struct Margins
     OptionalNumber gainMarginDb; ///< of gainMargins, the one nearest 0 dB (least margin)
     OptionalNumber phaseCrossoverHz; ///< its frequency
     std::vector<GainMargin> gainMargins; ///< every phase crossing, ascending in frequency
+    /// Rate of closure at the crossover (where |A_ol| meets the closure curve |inv_beta|,
+    /// i.e. |T| = 1): the slope of |inv_beta| minus the slope of |A_ol| there, dB/decade,
+    /// found on the model (minus the slope of |T|). The trade's 20 or 40.
+    OptionalNumber rateOfClosureDbPerDecade;
+    /// Where they meet: 20 log10 |A_ol| (= 20 log10 |inv_beta|) at the crossover, dB.
+    OptionalNumber closureLevelDb;
+    /// True when the rate of closure is the trade's 40 dB/decade or more (a local rate of
+    /// kSteepClosureDbPerDecade or more: nearer 40 than 20).
+    bool steepClosure = false;
 };
+
+/// From this rate of closure (dB/decade) on, a closure counts as the trade's 40 dB/decade
+/// one: the local slope difference is nearer 40 than 20 (a second pole at the crossover
+/// already gives 30).
+inline constexpr double kSteepClosureDbPerDecade = 30.0;
 
 struct ClosedLoopPole
 {
@@ -107,6 +122,7 @@ struct Analysis
     std::optional<TwoPortSummary> twoPort;
     ReturnRatioSummary returnRatio;
     Margins margins;
+    NyquistCount nyquist; ///< encirclements of -1 by T, consistent with `rhpPoles`
     /// False when a closed-loop pole lies in the right half-plane or on the imaginary
     /// axis; bandwidth, peaking, step metrics and noise rms are then absent.
     bool stable = true;
@@ -143,6 +159,9 @@ struct AnalysisOptions
     SolverPath solver = SolverPath::Reduced;
     bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
     bool noise = true; ///< the noise analysis (one reduced solve per frequency)
+    /// Every curve over the sweep; false: only those the metrics read (LoopModel::sweepLoop),
+    /// the same metrics at less cost, for scans. Impedance and two-port curves stay empty.
+    bool allCurves = true;
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
 

@@ -31,6 +31,11 @@ BeyondSweep frequenciesBeyondSweep(const std::vector<double> &sweepHz,
 Margins computeMargins(const LoopModel &model, const std::vector<double> &frequenciesHz,
                        const Curve &loopGain, std::complex<double> loopGainDc);
 
+/// The rate of closure (dB/decade) at the crossover `crossoverHz`: minus the slope of
+/// 20 log10 |T| over log10 f there, from the model by a central difference of 1e-4 decade.
+/// nullopt without a crossover or where T is not finite there.
+OptionalNumber rateOfClosure(const LoopModel &model, OptionalNumber crossoverHz);
+
 /// The closed-loop verdict from the poles: unstable with a pole in the right half-plane or
 /// on the imaginary axis.
 struct Stability

@@ -42,6 +42,8 @@ inline constexpr std::size_t kMaxUnknowns = 2000;
 inline constexpr int kMaxVertexQuantities = 12;
 /// Most Monte Carlo trials of one spread run.
 inline constexpr int kMaxTrials = 1'000'000;
+/// Most rows of one scan or map (values of one part, or pairs of two): 200 x 200.
+inline constexpr std::size_t kMaxScanRows = 40'000;
 /// Most combinations one suggest run evaluates, after pruning.
 inline constexpr std::size_t kMaxCombinations = 1'000'000;
 /// Most elementary operations (about one complex multiply-add each) one run may take:

@@ -39,6 +39,12 @@ template<class Quantity, class NetworkMatrix> struct LoopQuantities
     /// Z_D: the impedances with the gain block's gain at 0 ("without feedback").
     Quantity zInOpenLoop, zOutOpenLoop;
     Quantity desensitivity; ///< 1 + T_rr
+    /// The gain block's own open-loop gain A_ol(s) = gain * prod(1 + s/2 pi z) / prod(1 + s/2 pi
+    /// p), V/V, as the design gives it (no loading).
+    Quantity openLoopGain;
+    /// The closure curve 1/beta, defined as A_ol / T_rr for any topology, loading included:
+    /// |A_ol| / |invBeta| is exactly |T| (core/README.md §4, "Closure").
+    Quantity invBeta;
     // Two-port estimate (NaN without a topology).
     Quantity a, beta, loopGainTwoPort, closedLoop, gainTwoPort, zInTwoPort, zOutTwoPort;
     Quantity inputLoading, outputLoading; ///< factors, 1 = no loading
@@ -60,6 +66,8 @@ template<class Quantity, class NetworkMatrix> struct LoopQuantities
         fn(x.zInOpenLoop, y.zInOpenLoop);
         fn(x.zOutOpenLoop, y.zOutOpenLoop);
         fn(x.desensitivity, y.desensitivity);
+        fn(x.openLoopGain, y.openLoopGain);
+        fn(x.invBeta, y.invBeta);
         fn(x.a, y.a);
         fn(x.beta, y.beta);
         fn(x.loopGainTwoPort, y.loopGainTwoPort);
@@ -97,6 +105,10 @@ public:
     /// Each system is solved over the whole list in one pass (see
     /// ReducedSystem::sweepEntries), so this is much faster than at() per frequency.
     LoopCurves sweep(std::span<const Complex> s) const;
+    /// sweep()'s exact gain and return-ratio curves alone (gainExact, loopGain, feedthrough,
+    /// gainInf, gainReturnRatio, desensitivity, openLoopGain, invBeta), the same values; the
+    /// other curves are left empty. What the metrics read, for scans.
+    LoopCurves sweepLoop(std::span<const Complex> s) const;
 
     /// T_rr alone and the exact gain alone at each complex frequency of `s` (rad/s): the
     /// loop and the closed loop beyond the sweep.
@@ -105,6 +117,9 @@ public:
 
     /// Fast single quantities for root finding.
     Complex loopGainAt(Complex s) const;
+    /// The gain block's open-loop gain A_ol at `s` (rad/s), V/V: a rational function of the
+    /// gain block's fields alone.
+    Complex openLoopGainAt(Complex s) const;
     Complex gainAt(Complex s) const;
 
     /// Closed-loop natural frequencies (rad/s) of the exact circuit.
@@ -145,6 +160,8 @@ private:
     /// The two-port estimate's systems for the topology found; on failure it stays absent
     /// and m_twoPortProblem says why.
     void buildTwoPort(const Design &design, SolverPath path);
+    /// The return ratio's curves and A_ol, 1/beta into `c`.
+    void sweepReturnRatio(std::span<const Complex> s, LoopCurves &c) const;
     /// sweep()'s two-port estimate: fills `c`'s two-port curves, which arrive as NaN.
     void sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const;
 
@@ -153,6 +170,8 @@ private:
     std::shared_ptr<const TwoPortSystems> m_twoPort;
     TopologyResult m_topology;
     std::string m_twoPortProblem;
+    double m_openLoopDcGain = 1; // the gain block's gain, V/V
+    std::vector<double> m_openLoopPolesHz, m_openLoopZerosHz;
     Diagnostics m_warnings;
     double m_worstRelativeError = 0;
     int m_refinedSystems = 0;

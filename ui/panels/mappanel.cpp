@@ -1,0 +1,436 @@
+#include "panels/mappanel.h"
+
+#include "support/plotstyle.h"
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
+
+#include <QComboBox>
+#include <QHBoxLayout>
+#include <QLabel>
+#include <QMouseEvent>
+#include <QPainter>
+#include <QProgressBar>
+#include <QPushButton>
+#include <QVBoxLayout>
+
+#include <cmath>
+#include <limits>
+
+namespace loopsketch::ui {
+
+namespace {
+
+constexpr int kMargin = 46; // room for the axis names and end values
+
+} // namespace
+
+HeatMap::HeatMap(QWidget *parent) : QWidget(parent)
+{
+    setMouseTracking(true);
+    setMinimumSize(260, 220);
+}
+
+void HeatMap::setScan(std::shared_ptr<const ScanResult> scan, int metric, double currentA,
+                      double currentB)
+{
+    m_scan = std::move(scan);
+    m_metric = metric;
+    m_currentA = currentA;
+    m_currentB = currentB;
+    m_lo = std::numeric_limits<double>::infinity();
+    m_hi = -m_lo;
+    if (m_scan)
+        for (const ScanRow &r : m_scan->rows)
+            if (const OptionalNumber v = r.metrics.*scanMetricInfos()[std::size_t(m_metric)].member;
+                r.done && v && std::isfinite(*v)) {
+                m_lo = std::min(m_lo, *v);
+                m_hi = std::max(m_hi, *v);
+            }
+    if (!(m_lo <= m_hi)) {
+        m_lo = 0;
+        m_hi = 1;
+    }
+    update();
+}
+
+QRect HeatMap::gridRect() const
+{
+    return rect().adjusted(kMargin + 10, 8, -70, -kMargin);
+}
+
+const ScanRow *HeatMap::row(int i, int j) const
+{
+    if (!m_scan || m_scan->axes.size() != 2)
+        return nullptr;
+    const int n1 = int(m_scan->axes[0].values.size()), n2 = int(m_scan->axes[1].values.size());
+    if (i < 0 || j < 0 || i >= n1 || j >= n2)
+        return nullptr;
+    return &m_scan->rows[std::size_t(i * n2 + j)];
+}
+
+std::pair<int, int> HeatMap::cellAt(QPoint position) const
+{
+    if (!m_scan || m_scan->axes.size() != 2)
+        return {-1, -1};
+    const QRect g = gridRect();
+    if (!g.contains(position))
+        return {-1, -1};
+    const int n1 = int(m_scan->axes[0].values.size()), n2 = int(m_scan->axes[1].values.size());
+    const int i = std::min(n1 - 1, int((position.x() - g.left()) * n1 / double(g.width())));
+    const int j = std::min(n2 - 1, int((g.bottom() - position.y()) * n2 / double(g.height())));
+    return {i, j};
+}
+
+QPoint HeatMap::cellCentre(int i, int j) const
+{
+    const QRect g = gridRect();
+    const int n1 = int(m_scan->axes[0].values.size()), n2 = int(m_scan->axes[1].values.size());
+    return QPoint(g.left() + int((i + 0.5) * g.width() / n1),
+                  g.bottom() - int((j + 0.5) * g.height() / n2));
+}
+
+QColor HeatMap::cellColour(int i, int j) const
+{
+    const ScanRow *r = row(i, j);
+    if (!r || !r->done)
+        return QColor(0xee, 0xee, 0xee);
+    const OptionalNumber v = r->metrics.*scanMetricInfos()[std::size_t(m_metric)].member;
+    if (!v || !std::isfinite(*v))
+        return QColor(0xbb, 0xbb, 0xbb);
+    return sequentialColour(m_hi > m_lo ? (*v - m_lo) / (m_hi - m_lo) : 0.5);
+}
+
+void HeatMap::paintEvent(QPaintEvent *)
+{
+    QPainter p(this);
+    p.fillRect(rect(), palette().window());
+    if (!m_scan || m_scan->axes.size() != 2)
+        return;
+    const QRect g = gridRect();
+    const ScanAxis &a = m_scan->axes[0], &b = m_scan->axes[1];
+    const int n1 = int(a.values.size()), n2 = int(b.values.size());
+    const auto cell = [&](int i, int j) {
+        const int x0 = g.left() + i * g.width() / n1, x1 = g.left() + (i + 1) * g.width() / n1;
+        const int y0 = g.bottom() - (j + 1) * g.height() / n2,
+                  y1 = g.bottom() - j * g.height() / n2;
+        return QRect(QPoint(x0, y0), QPoint(x1, y1));
+    };
+    const auto passes = [&](int i, int j) {
+        const ScanRow *r = row(i, j);
+        return r && r->done && r->metrics.specsPass.value_or(false);
+    };
+    for (int i = 0; i < n1; ++i)
+        for (int j = 0; j < n2; ++j) {
+            const QRect c = cell(i, j);
+            p.fillRect(c, cellColour(i, j));
+            const ScanRow *r = row(i, j);
+            if (r && r->done && r->metrics.stable && !*r->metrics.stable) {
+                p.setPen(QPen(Qt::white, 1.2));
+                p.drawLine(c.topLeft(), c.bottomRight());
+                p.drawLine(c.topRight(), c.bottomLeft());
+            }
+        }
+    // The feasible region's outline: an edge wherever a passing cell meets one that is not.
+    p.setPen(QPen(palette::kBlack, 2.5));
+    for (int i = 0; i < n1; ++i)
+        for (int j = 0; j < n2; ++j) {
+            if (!passes(i, j))
+                continue;
+            const QRect c = cell(i, j);
+            if (!passes(i - 1, j))
+                p.drawLine(c.topLeft(), c.bottomLeft());
+            if (!passes(i + 1, j))
+                p.drawLine(c.topRight(), c.bottomRight());
+            if (!passes(i, j - 1))
+                p.drawLine(c.bottomLeft(), c.bottomRight());
+            if (!passes(i, j + 1))
+                p.drawLine(c.topLeft(), c.topRight());
+        }
+    // The current design: a ring where its values fall on the log scales.
+    const auto at = [](const ScanAxis &axis, double v, int n, int length) {
+        const double lo = std::log10(std::abs(axis.values.front())),
+                     hi = std::log10(std::abs(axis.values.back()));
+        const double t = hi > lo ? (std::log10(std::abs(v)) - lo) / (hi - lo) : 0.5;
+        return (0.5 + t * (n - 1)) * length / n;
+    };
+    if (std::isfinite(std::log10(std::abs(m_currentA)))
+        && std::isfinite(std::log10(std::abs(m_currentB)))) {
+        const QPointF c(g.left() + at(a, m_currentA, n1, g.width()),
+                        g.bottom() - at(b, m_currentB, n2, g.height()));
+        p.setPen(QPen(palette::kOrange, 3));
+        p.setBrush(Qt::NoBrush);
+        p.drawEllipse(c, 7, 7);
+        p.setPen(QPen(Qt::white, 1));
+        p.drawEllipse(c, 9, 9);
+    }
+    // Axis names and end values, and the colour scale.
+    p.setPen(palette::kBlack);
+    const auto val = [](const ScanAxis &axis, double v) {
+        return toQString(formatEngineering(v, 3, axis.unit));
+    };
+    p.drawText(QRect(g.left(), g.bottom() + 4, g.width(), 18), Qt::AlignLeft,
+               val(a, a.values.front()));
+    p.drawText(QRect(g.left(), g.bottom() + 4, g.width(), 18), Qt::AlignRight,
+               val(a, a.values.back()));
+    p.drawText(QRect(g.left(), g.bottom() + 22, g.width(), 18), Qt::AlignHCenter,
+               toQString(a.name()) + QStringLiteral(" →"));
+    p.save();
+    p.translate(12, g.bottom());
+    p.rotate(-90);
+    p.drawText(QRect(0, 0, g.height(), 18), Qt::AlignLeft, val(b, b.values.front()));
+    p.drawText(QRect(0, 0, g.height(), 18), Qt::AlignRight, val(b, b.values.back()));
+    p.drawText(QRect(0, 18, g.height(), 18), Qt::AlignHCenter,
+               toQString(b.name()) + QStringLiteral(" →"));
+    p.restore();
+    const QRect scale(g.right() + 12, g.top(), 12, g.height());
+    for (int y = 0; y < scale.height(); ++y)
+        p.fillRect(QRect(scale.left(), scale.bottom() - y, scale.width(), 1),
+                   sequentialColour(double(y) / std::max(1, scale.height() - 1)));
+    p.drawText(QRect(scale.right() + 3, scale.top(), 60, 16), Qt::AlignLeft,
+               QString::number(m_hi, 'g', 3));
+    p.drawText(QRect(scale.right() + 3, scale.bottom() - 16, 60, 16), Qt::AlignLeft,
+               QString::number(m_lo, 'g', 3));
+}
+
+void HeatMap::mouseMoveEvent(QMouseEvent *event)
+{
+    const auto [i, j] = cellAt(event->position().toPoint());
+    emit cellHovered(i, j);
+}
+
+void HeatMap::mousePressEvent(QMouseEvent *event)
+{
+    if (event->button() != Qt::LeftButton)
+        return;
+    const auto [i, j] = cellAt(event->position().toPoint());
+    if (i >= 0)
+        emit cellClicked(i, j);
+}
+
+void HeatMap::leaveEvent(QEvent *)
+{
+    emit cellHovered(-1, -1);
+}
+
+MapPanel::MapPanel(DesignDocument *document, QWidget *parent)
+    : QWidget(parent), m_document(document), m_runner(new ScanRunner(this))
+{
+    m_first = new QComboBox(this);
+    m_second = new QComboBox(this);
+    m_series = new QComboBox(this);
+    m_series->addItem(tr("their series"));
+    for (ESeries s : allESeries())
+        m_series->addItem(toQString(toString(s)));
+    m_metric = new QComboBox(this);
+    for (const ScanMetricInfo &m : scanMetricInfos())
+        m_metric->addItem(m.name);
+    m_metric->setCurrentIndex(2); // phase margin
+    m_run = new QPushButton(tr("Map"), this);
+    m_cancel = new QPushButton(tr("Cancel"), this);
+    m_cancel->setEnabled(false);
+    m_progress = new QProgressBar(this);
+    m_progress->setMaximumWidth(140);
+    m_status = new QLabel(this);
+    m_status->setWordWrap(true);
+    m_hover = new QLabel(this);
+    m_map = new HeatMap(this);
+    auto *controls = new QHBoxLayout;
+    controls->addWidget(new QLabel(tr("Across"), this));
+    controls->addWidget(m_first);
+    controls->addWidget(new QLabel(tr("up"), this));
+    controls->addWidget(m_second);
+    controls->addWidget(m_series);
+    controls->addWidget(m_run);
+    controls->addWidget(m_cancel);
+    controls->addWidget(m_progress);
+    auto *show = new QHBoxLayout;
+    show->addWidget(new QLabel(tr("Colour"), this));
+    show->addWidget(m_metric);
+    show->addWidget(m_status, 1);
+    auto *layout = new QVBoxLayout(this);
+    layout->addLayout(controls);
+    layout->addLayout(show);
+    layout->addWidget(m_map, 1);
+    layout->addWidget(m_hover);
+    m_hover->setText(tr("outlined: meets every spec · crossed: unstable · ring: the design now"));
+
+    connect(m_run, &QPushButton::clicked, this, &MapPanel::run);
+    connect(m_cancel, &QPushButton::clicked, this, &MapPanel::cancel);
+    connect(m_metric, &QComboBox::currentIndexChanged, this, [this] { redraw(); });
+    connect(m_runner, &ScanRunner::progressed, this, [this](int done, int total) {
+        m_progress->setMaximum(total);
+        m_progress->setValue(done);
+    });
+    connect(m_runner, &ScanRunner::failed, this, [this](const QString &message) {
+        m_status->setText(message);
+        m_cancel->setEnabled(false);
+    });
+    connect(m_runner, &ScanRunner::finished, this, [this](std::shared_ptr<const ScanResult> scan) {
+        m_scan = std::move(scan);
+        m_scanText = m_pendingText;
+        m_cancel->setEnabled(false);
+        m_progress->setValue(m_progress->maximum());
+        m_status->setText(m_scan->cancelled ? tr("cancelled after %1 of %2 cells")
+                                                  .arg(m_scan->completed)
+                                                  .arg(m_scan->rows.size())
+                                            : tr("%1 × %2 cells")
+                                                  .arg(m_scan->axes[0].values.size())
+                                                  .arg(m_scan->axes[1].values.size()));
+        redraw();
+        emit mapFinished();
+    });
+    connect(m_map, &HeatMap::cellHovered, this, [this](int i, int j) {
+        m_hover->setText(i < 0 ? tr("outlined: meets every spec · crossed: unstable · ring: the "
+                                    "design now")
+                               : cellText(i, j));
+    });
+    connect(m_map, &HeatMap::cellClicked, this, [this](int i, int j) { applyCell(i, j); });
+    connect(m_document, &DesignDocument::structureChanged, this, &MapPanel::refreshTargets);
+    connect(m_document, &DesignDocument::designReset, this, &MapPanel::refreshTargets);
+    connect(m_document, &DesignDocument::analysisChanged, this, [this] { redraw(); });
+    refreshTargets();
+}
+
+void MapPanel::refreshTargets()
+{
+    const QStringList names = scanTargetNames(m_document->design());
+    for (QComboBox *box : {m_first, m_second}) {
+        const QString was = box->currentText();
+        const QSignalBlocker block(box);
+        box->clear();
+        box->addItems(names);
+        if (const int at = box->findText(was); at >= 0)
+            box->setCurrentIndex(at);
+    }
+    if (m_first->currentIndex() == m_second->currentIndex() && m_second->count() > 1)
+        m_second->setCurrentIndex(m_first->currentIndex() == 0 ? 1 : 0);
+}
+
+void MapPanel::mapParts(const QString &first, const QString &second)
+{
+    refreshTargets();
+    for (auto [box, text] : {std::pair{m_first, first}, std::pair{m_second, second}}) {
+        int at = box->findText(text);
+        if (at < 0) {
+            box->addItem(text);
+            at = box->count() - 1;
+        }
+        box->setCurrentIndex(at);
+    }
+    run();
+}
+
+void MapPanel::run()
+{
+    std::optional<ESeries> series;
+    if (m_series->currentIndex() > 0)
+        series = allESeries()[std::size_t(m_series->currentIndex() - 1)];
+    std::vector<ScanAxis> axes;
+    for (QComboBox *box : {m_first, m_second}) {
+        auto target = parseScanTarget(toStdString(box->currentText()), "Map");
+        if (!target) {
+            m_status->setText(toQString(target.errorText()));
+            return;
+        }
+        auto axis = resolveScanAxis(m_document->design(), *target, series);
+        if (!axis) {
+            m_status->setText(toQString(axis.errorText()));
+            return;
+        }
+        axes.push_back(*axis);
+    }
+    m_status->setText(
+        tr("mapping %1 × %2 cells …").arg(axes[0].values.size()).arg(axes[1].values.size()));
+    m_progress->setValue(0);
+    m_cancel->setEnabled(true);
+    m_pendingText = serializeDesign(m_document->design());
+    m_runner->start(m_document->design(), std::move(axes));
+}
+
+void MapPanel::cancel()
+{
+    m_runner->cancel();
+}
+
+bool MapPanel::isRunning() const
+{
+    return m_runner->isRunning();
+}
+
+QString MapPanel::statusText() const
+{
+    return m_status->text();
+}
+
+std::optional<SheetScan> MapPanel::sheetScan() const
+{
+    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
+        return std::nullopt;
+    return SheetScan{m_scan.get(), std::max(0, m_metric->currentIndex())};
+}
+
+void MapPanel::setMetric(int index)
+{
+    m_metric->setCurrentIndex(index);
+}
+
+QString MapPanel::cellText(int i, int j) const
+{
+    if (!m_scan || m_scan->axes.size() != 2)
+        return {};
+    const std::size_t n2 = m_scan->axes[1].values.size();
+    if (i < 0 || j < 0 || std::size_t(i) >= m_scan->axes[0].values.size() || std::size_t(j) >= n2)
+        return {};
+    const ScanRow &r = m_scan->rows[std::size_t(i) * n2 + std::size_t(j)];
+    QStringList parts;
+    for (std::size_t k = 0; k < 2; ++k)
+        parts.append(toQString(m_scan->axes[k].name()) + QStringLiteral(" = ")
+                     + toQString(formatEngineering(r.values[k], 3, m_scan->axes[k].unit)));
+    if (!r.done)
+        return parts.join(QStringLiteral(", ")) + tr(": not computed");
+    if (!r.metrics.problem.empty())
+        return parts.join(QStringLiteral(", ")) + QStringLiteral(": ")
+            + toQString(r.metrics.problem);
+    const ScanMetricInfo &m = scanMetricInfos()[std::size_t(std::max(0, m_metric->currentIndex()))];
+    const OptionalNumber v = r.metrics.*m.member;
+    parts.append(m.name + QLatin1Char(' ')
+                 + (v ? toQString(formatEngineering(*v, 4)) + QLatin1Char(' ') + m.unit
+                      : QStringLiteral("—")));
+    parts.append(r.metrics.stable.value_or(false) ? tr("stable") : tr("UNSTABLE"));
+    parts.append(r.metrics.specsPass.value_or(false) ? tr("meets every spec") : tr("fails a spec"));
+    return parts.join(QStringLiteral(" · "));
+}
+
+bool MapPanel::applyCell(int i, int j)
+{
+    if (!m_scan || m_scan->axes.size() != 2 || i < 0 || j < 0)
+        return false;
+    const std::size_t n2 = m_scan->axes[1].values.size();
+    if (std::size_t(i) >= m_scan->axes[0].values.size() || std::size_t(j) >= n2)
+        return false;
+    QString error;
+    const bool ok
+        = applyScanValues(m_document, m_scan->axes,
+                          m_scan->rows[std::size_t(i) * n2 + std::size_t(j)].values, &error);
+    if (!ok)
+        m_status->setText(error);
+    return ok;
+}
+
+void MapPanel::redraw()
+{
+    if (!m_scan || m_scan->axes.size() != 2)
+        return;
+    const Design &d = m_document->design();
+    double a = std::nan(""), b = std::nan("");
+    if (const Part *p = d.findPart(m_scan->axes[0].part))
+        a = p->number(m_scan->axes[0].field);
+    if (const Part *p = d.findPart(m_scan->axes[1].part))
+        b = p->number(m_scan->axes[1].field);
+    m_map->setScan(m_scan, std::max(0, m_metric->currentIndex()), a, b);
+}
+
+} // namespace loopsketch::ui

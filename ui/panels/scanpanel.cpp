@@ -1,0 +1,389 @@
+#include "panels/scanpanel.h"
+
+#include "support/qtadapter.h"
+#include "window/designdocument.h"
+
+#include "loopsketch/analysis/trialmetrics.h"
+#include "loopsketch/base/value.h"
+#include "loopsketch/design/designfile.h"
+
+#include <QAreaSeries>
+#include <QCategoryAxis>
+#include <QComboBox>
+#include <QHBoxLayout>
+#include <QLabel>
+#include <QLineEdit>
+#include <QLineSeries>
+#include <QProgressBar>
+#include <QPushButton>
+#include <QScatterSeries>
+#include <QVBoxLayout>
+#include <QValueAxis>
+
+#include <cmath>
+#include <limits>
+
+namespace loopsketch::ui {
+
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+/// The metric's unit as shown: the gain unit for gain, the output's for noise.
+QString unitOf(const ScanMetricInfo &m, const QString &gainUnit)
+{
+    if (m.member == &ScanMetrics::gain)
+        return gainUnit;
+    if (m.member == &ScanMetrics::outputNoiseRms)
+        return gainUnit.startsWith(QLatin1Char('A')) ? QStringLiteral("A") : QStringLiteral("V");
+    return m.unit;
+}
+
+QString valueText(const OptionalNumber &v, const QString &unit)
+{
+    if (!v)
+        return QStringLiteral("—");
+    if (unit == QStringLiteral("°") || unit == QStringLiteral("dB") || unit == QStringLiteral("%"))
+        return QString::number(*v, 'f', 1) + (unit == QStringLiteral("°") ? "" : " ") + unit;
+    return toQString(formatEngineering(*v, 3, toStdString(unit)));
+}
+
+} // namespace
+
+ScanChart::ScanChart(QWidget *parent) : PlotPanel(tr("Scan"), parent)
+{
+    m_x = addLogAxis(tr("value"), Qt::AlignBottom);
+    m_y = addValueAxis(tr("metric"), Qt::AlignLeft);
+    m_bandLo = new QLineSeries(this);
+    m_bandHi = new QLineSeries(this);
+    m_band = new QAreaSeries(m_bandHi, m_bandLo);
+    m_band->setName(tr("spec"));
+    QColor fill = palette::kGreen;
+    fill.setAlphaF(0.15f);
+    m_band->setBrush(fill);
+    m_band->setPen(QPen(palette::kGreen, 1, Qt::DotLine));
+    chart()->addSeries(m_band);
+    m_band->attachAxis(m_x);
+    m_band->attachAxis(m_y);
+    m_line = addLine(tr("metric"), QColor(0x88, 0x88, 0x88), Qt::SolidLine, m_x, m_y, false);
+    m_current = addLine(tr("current value"), palette::kOrange, Qt::DashLine, m_x, m_y);
+    m_pass = addMarker(tr("meets every spec"), palette::kGreen, m_x, m_y, 9);
+    m_fail = addMarker(tr("fails a spec"), palette::kVermillion, m_x, m_y, 9);
+    m_fail->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+    m_unstable = addMarker(tr("unstable"), palette::kBlack, m_x, m_y, 9);
+    m_unstable->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+}
+
+void ScanChart::showScan(const ScanResult &scan, const ScanMetricInfo &metric, double current,
+                         double bandLo, double bandHi, const QString &gainUnit)
+{
+    QList<QPointF> line, pass, fail, unstable;
+    double yLo = std::numeric_limits<double>::infinity(), yHi = -yLo;
+    for (const ScanRow &row : scan.rows) {
+        if (!row.done || row.values.empty())
+            continue;
+        const OptionalNumber v = row.metrics.*metric.member;
+        const double x = std::log10(std::abs(row.values[0]));
+        if (!v || !std::isfinite(*v)) {
+            // An unstable design has no bandwidth: marked on the axis, not left out silently.
+            if (row.metrics.stable && !*row.metrics.stable)
+                unstable.append(QPointF(x, kNaN));
+            continue;
+        }
+        const QPointF p(x, *v);
+        line.append(p);
+        (row.metrics.specsPass.value_or(false) ? pass : fail).append(p);
+        if (row.metrics.stable && !*row.metrics.stable)
+            unstable.append(p);
+        yLo = std::min(yLo, *v);
+        yHi = std::max(yHi, *v);
+    }
+    if (!(yLo <= yHi)) {
+        yLo = 0;
+        yHi = 1;
+    }
+    for (double b : {bandLo, bandHi})
+        if (std::isfinite(b)) {
+            yLo = std::min(yLo, b);
+            yHi = std::max(yHi, b);
+        }
+    const double pad = std::max(1e-12, 0.08 * (yHi - yLo));
+    yLo -= pad;
+    yHi += pad;
+    for (QPointF &p : unstable)
+        if (!std::isfinite(p.y()))
+            p.setY(yLo + pad / 2);
+    const auto &axis = scan.axes.front();
+    const double xLo = std::log10(std::abs(axis.values.front())),
+                 xHi = std::log10(std::abs(axis.values.back()));
+    setDecadeRange(m_x, std::floor(xLo), std::ceil(xHi), toStdString(toQString(axis.unit)));
+    setNiceRange(m_y, yLo, yHi, 6);
+    m_line->replace(line);
+    m_pass->replace(pass);
+    m_fail->replace(fail);
+    m_unstable->replace(unstable);
+    const double cx = std::log10(std::abs(current));
+    m_current->replace(std::isfinite(cx) ? QList<QPointF>{{cx, yLo}, {cx, yHi}} : QList<QPointF>{});
+    const double lo = std::isfinite(bandLo) ? bandLo : yLo,
+                 hi = std::isfinite(bandHi) ? bandHi : yHi;
+    const bool band = std::isfinite(bandLo) || std::isfinite(bandHi);
+    m_bandLo->replace(band ? QList<QPointF>{{std::floor(xLo), lo}, {std::ceil(xHi), lo}}
+                           : QList<QPointF>{});
+    m_bandHi->replace(band ? QList<QPointF>{{std::floor(xLo), hi}, {std::ceil(xHi), hi}}
+                           : QList<QPointF>{});
+    m_band->setVisible(band);
+    const QString unit = unitOf(metric, gainUnit);
+    m_y->setTitleText(unit.isEmpty() ? metric.name : metric.name + " (" + unit + ")");
+    m_x->setTitleText(toQString(axis.name()) + " ("
+                      + toQString(axis.series == ESeries::E24 ? "E24" : toString(axis.series))
+                      + ")");
+    setTitle(tr("%1 against %2 · %3 values · click a point to use its value")
+                 .arg(metric.name, toQString(axis.name()))
+                 .arg(scan.rows.size()));
+}
+
+ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent)
+    : QWidget(parent), m_document(document), m_runner(new ScanRunner(this))
+{
+    m_target = new QComboBox(this);
+    m_target->setObjectName(QStringLiteral("scanTarget"));
+    m_from = new QLineEdit(this);
+    m_to = new QLineEdit(this);
+    m_from->setPlaceholderText(tr("a tenth"));
+    m_to->setPlaceholderText(tr("ten times"));
+    m_series = new QComboBox(this);
+    m_series->addItem(tr("its series"));
+    for (ESeries s : allESeries())
+        m_series->addItem(toQString(toString(s)));
+    m_metric = new QComboBox(this);
+    for (const ScanMetricInfo &m : scanMetricInfos())
+        m_metric->addItem(m.name);
+    m_metric->setCurrentIndex(2); // phase margin
+    m_run = new QPushButton(tr("Scan"), this);
+    m_cancel = new QPushButton(tr("Cancel"), this);
+    m_cancel->setEnabled(false);
+    m_progress = new QProgressBar(this);
+    m_progress->setMaximumWidth(140);
+    m_status = new QLabel(this);
+    m_hover = new QLabel(this);
+    m_hover->setTextInteractionFlags(Qt::TextSelectableByMouse);
+    m_chart = new ScanChart(this);
+
+    auto *controls = new QHBoxLayout;
+    controls->addWidget(new QLabel(tr("Part"), this));
+    controls->addWidget(m_target);
+    controls->addWidget(new QLabel(tr("from"), this));
+    controls->addWidget(m_from);
+    controls->addWidget(new QLabel(tr("to"), this));
+    controls->addWidget(m_to);
+    controls->addWidget(m_series);
+    controls->addWidget(m_run);
+    controls->addWidget(m_cancel);
+    controls->addWidget(m_progress);
+    auto *show = new QHBoxLayout;
+    show->addWidget(new QLabel(tr("Show"), this));
+    show->addWidget(m_metric);
+    show->addWidget(m_status, 1);
+    auto *layout = new QVBoxLayout(this);
+    layout->addLayout(controls);
+    layout->addLayout(show);
+    layout->addWidget(m_chart, 1);
+    layout->addWidget(m_hover);
+
+    connect(m_run, &QPushButton::clicked, this, &ScanPanel::run);
+    connect(m_cancel, &QPushButton::clicked, this, &ScanPanel::cancel);
+    connect(m_metric, &QComboBox::currentIndexChanged, this, [this] { redraw(); });
+    connect(m_target, &QComboBox::currentIndexChanged, this, [this] {
+        m_from->clear();
+        m_to->clear();
+    });
+    connect(m_runner, &ScanRunner::progressed, this, [this](int done, int total) {
+        m_progress->setMaximum(total);
+        m_progress->setValue(done);
+    });
+    connect(m_runner, &ScanRunner::failed, this, [this](const QString &message) {
+        m_status->setText(message);
+        m_cancel->setEnabled(false);
+        m_run->setEnabled(true);
+    });
+    connect(m_runner, &ScanRunner::finished, this, [this](std::shared_ptr<const ScanResult> scan) {
+        m_scan = std::move(scan);
+        m_scanText = m_pendingText;
+        m_cancel->setEnabled(false);
+        m_run->setEnabled(true);
+        m_progress->setValue(m_progress->maximum());
+        m_status->setText(m_scan->cancelled ? tr("cancelled after %1 of %2 values")
+                                                  .arg(m_scan->completed)
+                                                  .arg(m_scan->rows.size())
+                                            : QString());
+        redraw();
+        emit scanFinished();
+    });
+    for (QScatterSeries *s : {m_chart->passSeries(), m_chart->failSeries()}) {
+        connect(s, &QScatterSeries::clicked, this,
+                [this](const QPointF &p) { applyRow(rowNear(p.x())); });
+        connect(s, &QScatterSeries::hovered, this, [this](const QPointF &p, bool state) {
+            m_hover->setText(state ? rowText(rowNear(p.x())) : QString());
+        });
+    }
+    connect(m_document, &DesignDocument::structureChanged, this, &ScanPanel::refreshTargets);
+    connect(m_document, &DesignDocument::designReset, this, &ScanPanel::refreshTargets);
+    connect(m_document, &DesignDocument::analysisChanged, this, [this] { redraw(); });
+    refreshTargets();
+}
+
+void ScanPanel::refreshTargets()
+{
+    const QString was = m_target->currentText();
+    const QSignalBlocker block(m_target);
+    m_target->clear();
+    m_target->addItems(scanTargetNames(m_document->design()));
+    const int at = m_target->findText(was);
+    if (at >= 0)
+        m_target->setCurrentIndex(at);
+}
+
+void ScanPanel::scanPart(const QString &target)
+{
+    refreshTargets();
+    int at = m_target->findText(target);
+    if (at < 0) {
+        m_target->addItem(target);
+        at = m_target->count() - 1;
+    }
+    m_target->setCurrentIndex(at);
+    m_from->clear();
+    m_to->clear();
+    run();
+}
+
+void ScanPanel::run()
+{
+    QString text = m_target->currentText();
+    if (!m_from->text().trimmed().isEmpty() || !m_to->text().trimmed().isEmpty())
+        text += QLatin1Char(':') + m_from->text().trimmed() + QLatin1Char(':')
+            + m_to->text().trimmed();
+    auto target = parseScanTarget(toStdString(text), "Part");
+    std::optional<ESeries> series;
+    if (m_series->currentIndex() > 0)
+        series = allESeries()[std::size_t(m_series->currentIndex() - 1)];
+    if (!target) {
+        m_status->setText(toQString(target.errorText()));
+        return;
+    }
+    auto axis = resolveScanAxis(m_document->design(), *target, series);
+    if (!axis) {
+        m_status->setText(toQString(axis.errorText()));
+        return;
+    }
+    m_status->setText(
+        tr("scanning %1 values of %2 …").arg(axis->values.size()).arg(toQString(axis->name())));
+    m_progress->setValue(0);
+    m_cancel->setEnabled(true);
+    m_pendingText = serializeDesign(m_document->design());
+    m_runner->start(m_document->design(), {*axis});
+}
+
+void ScanPanel::cancel()
+{
+    m_runner->cancel();
+}
+
+bool ScanPanel::isRunning() const
+{
+    return m_runner->isRunning();
+}
+
+QString ScanPanel::statusText() const
+{
+    return m_status->text();
+}
+
+std::optional<SheetScan> ScanPanel::sheetScan() const
+{
+    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
+        return std::nullopt;
+    return SheetScan{m_scan.get(), std::max(0, m_metric->currentIndex())};
+}
+
+void ScanPanel::setMetric(int index)
+{
+    m_metric->setCurrentIndex(index);
+}
+
+int ScanPanel::rowNear(double x) const
+{
+    if (!m_scan)
+        return -1;
+    int best = -1;
+    double distance = 0;
+    for (std::size_t i = 0; i < m_scan->rows.size(); ++i) {
+        const double d = std::abs(std::log10(std::abs(m_scan->rows[i].values[0])) - x);
+        if (best < 0 || d < distance) {
+            best = int(i);
+            distance = d;
+        }
+    }
+    return best;
+}
+
+QString ScanPanel::rowText(int index) const
+{
+    if (!m_scan || index < 0 || std::size_t(index) >= m_scan->rows.size())
+        return {};
+    const ScanRow &row = m_scan->rows[std::size_t(index)];
+    const ScanAxis &axis = m_scan->axes.front();
+    const QString gainUnit = toQString(m_scan->gainUnit);
+    QStringList parts{toQString(axis.name()) + QStringLiteral(" = ")
+                      + toQString(formatEngineering(row.values[0], 3, axis.unit))};
+    if (!row.metrics.problem.empty())
+        return parts.front() + QStringLiteral(": ") + toQString(row.metrics.problem);
+    for (const ScanMetricInfo &m : scanMetricInfos())
+        parts.append(m.name + QLatin1Char(' ')
+                     + valueText(row.metrics.*m.member, unitOf(m, gainUnit)));
+    parts.append(row.metrics.stable.value_or(false) ? tr("stable") : tr("UNSTABLE"));
+    parts.append(row.metrics.specsPass.value_or(false) ? tr("meets every spec")
+                                                       : tr("fails a spec"));
+    return parts.join(QStringLiteral(" · "));
+}
+
+bool ScanPanel::applyRow(int index)
+{
+    if (!m_scan || index < 0 || std::size_t(index) >= m_scan->rows.size())
+        return false;
+    QString error;
+    const bool ok = applyScanValues(m_document, m_scan->axes,
+                                    m_scan->rows[std::size_t(index)].values, &error);
+    if (!ok)
+        m_status->setText(error);
+    return ok;
+}
+
+void ScanPanel::redraw()
+{
+    if (!m_scan || m_scan->axes.empty())
+        return;
+    const ScanMetricInfo &metric
+        = scanMetricInfos()[std::size_t(std::max(0, m_metric->currentIndex()))];
+    const Design &d = m_document->design();
+    const ScanAxis &axis = m_scan->axes.front();
+    double current = kNaN;
+    if (const Part *p = d.findPart(axis.part))
+        current = p->number(axis.field);
+    // The spec as a band: the gain window, the bandwidth and phase-margin minimums.
+    double lo = kNaN, hi = kNaN;
+    const Specs &s = d.specs;
+    if (metric.member == &ScanMetrics::gain) {
+        if (s.gainMin)
+            lo = s.gainMin->si;
+        if (s.gainMax)
+            hi = s.gainMax->si;
+    } else if (metric.member == &ScanMetrics::bandwidthHz && s.bandwidthMin) {
+        lo = s.bandwidthMin->si;
+    } else if (metric.member == &ScanMetrics::phaseMarginDeg && s.phaseMarginMinDeg) {
+        lo = *s.phaseMarginMinDeg;
+    }
+    m_chart->showScan(*m_scan, metric, current, lo, hi, toQString(m_scan->gainUnit));
+}
+
+} // namespace loopsketch::ui
