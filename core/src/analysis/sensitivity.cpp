@@ -7,6 +7,8 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <string_view>
+#include <utility>
 
 namespace loopsketch::detail {
 
@@ -175,6 +177,9 @@ std::map<std::string, double> adjointSensitivity(const Design &design, double ga
         return out;
     if (!obeysScalingInvariant(design, *system, *s))
         return finiteDifferenceSensitivity(design, gain);
+    std::map<std::pair<std::string_view, std::string_view>, std::size_t> origin;
+    for (std::size_t o = 0; o < system->origins.size(); ++o)
+        origin[{system->origins[o].part, system->origins[o].field}] = o;
     std::optional<Design> copy; // for the parts whose adjoint terms cancelled
     for (std::size_t i = 0; i < design.parts.size(); ++i) {
         const Part &p = design.parts[i];
@@ -182,10 +187,8 @@ std::map<std::string, double> adjointSensitivity(const Design &design, double ga
         if (field.empty())
             continue;
         // A field with no entry in G (a capacitance) does not act at DC: 0.
-        OriginSensitivity found;
-        for (std::size_t o = 0; o < system->origins.size(); ++o)
-            if (system->origins[o].part == p.id && system->origins[o].field == field)
-                found = (*s)[o];
+        const auto at = origin.find({p.id, field});
+        const OriginSensitivity found = at == origin.end() ? OriginSensitivity{} : (*s)[at->second];
         if (!found.cancelled()) {
             out[p.id] = found.value;
             continue;
