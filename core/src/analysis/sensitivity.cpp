@@ -1,5 +1,6 @@
 #include "analysis/sensitivity.h"
 
+#include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/circuit/loopcircuit.h"
 
 #include <Eigen/LU>
@@ -175,8 +176,14 @@ std::map<std::string, double> adjointSensitivity(const Design &design, double ga
     const auto s = dcSensitivities(*system, loopio::kOutput, loopio::kSource);
     if (!s)
         return out;
+    // The finite differences that take over cost two DC gains each; never more of them than
+    // the work budget holds (beyond it those parts have no sensitivity rather than a wrong one).
+    const double each = 2.0 * dcGainOperations(circuitSize(design));
+    std::size_t differences = static_cast<std::size_t>(kMaxWorkOperations / std::max(each, 1.0));
     if (!obeysScalingInvariant(design, *system, *s))
-        return finiteDifferenceSensitivity(design, gain);
+        return circuitSize(design).sensitivities <= differences
+            ? finiteDifferenceSensitivity(design, gain)
+            : out;
     std::map<std::pair<std::string_view, std::string_view>, std::size_t> origin;
     for (std::size_t o = 0; o < system->origins.size(); ++o)
         origin[{system->origins[o].part, system->origins[o].field}] = o;
@@ -193,6 +200,9 @@ std::map<std::string, double> adjointSensitivity(const Design &design, double ga
             out[p.id] = found.value;
             continue;
         }
+        if (differences == 0)
+            continue;
+        --differences;
         if (!copy)
             copy = design;
         if (const auto d = centralDifference(*copy, i, field, gain))

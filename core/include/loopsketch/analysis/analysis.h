@@ -141,7 +141,7 @@ struct Analysis
 struct AnalysisOptions
 {
     SolverPath solver = SolverPath::Reduced;
-    bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
+    bool sensitivity = true; ///< the per-part sensitivities (adjoint: one extra DC solve)
     bool noise = true; ///< the noise analysis (one reduced solve per frequency)
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
