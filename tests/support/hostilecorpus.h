@@ -1,8 +1,8 @@
 #pragma once
 
 // The hostile files too large to commit, written at test time: many unknown keys, a
-// 100,000-character part id, 14 MiB of candidates, 10,000-part designs, a long RC ladder. Each comes with the
-// exit code the command line must give and a fragment of its message.
+// 100,000-character part id, 14 MiB of candidates, 10,000-part designs, a long RC ladder. Each
+// comes with the exit code the command line must give and a fragment of its message.
 
 #include "malformedcorpus.h"
 
