@@ -41,12 +41,31 @@ constexpr int kLayoutVersion = 2;
 constexpr int kCompactWidth = 1400;
 constexpr int kLeftDockWidth = 230;
 
+/// `content` in a frameless scroll area: a panel whose fields outgrow the dock scrolls rather
+/// than forcing its height on the whole window (the Inspector of a gain block with many poles
+/// pushed the window past a 800-pixel screen).
+QScrollArea *scrolling(QWidget *content, QWidget *parent)
+{
+    auto *scroll = new QScrollArea(parent);
+    scroll->setWidget(content);
+    scroll->setWidgetResizable(true);
+    scroll->setFrameShape(QFrame::NoFrame);
+    return scroll;
+}
+
 } // namespace
 
 void MainWindow::restoreLayout()
 {
     QSettings settings;
     restoreGeometry(settings.value(kGeometryKey).toByteArray());
+    // A geometry saved on a larger screen (or grown past this one) is fitted to the screen,
+    // so the status line and the dock tabs at the bottom stay reachable.
+    if (const QScreen *screen = this->screen()) {
+        const QRect room = screen->availableGeometry();
+        if (width() > room.width() || height() > room.height())
+            resize(std::min(width(), room.width()), std::min(height(), room.height()));
+    }
     m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
     if (!m_sizedDocks)
         arrangeDocks(width() < kCompactWidth);
@@ -81,16 +100,14 @@ void MainWindow::createDocks()
     readoutDock->setTitleBarWidget(new QWidget(readoutDock));
     auto *partsDock
         = makeDock(tr("Parts"), QStringLiteral("PartsDock"), m_palette, Qt::LeftDockWidgetArea);
-    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"), m_inspector,
-                                   Qt::LeftDockWidgetArea);
+    QScrollArea *inspectorScroll = scrolling(m_inspector, this);
+    inspectorScroll->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
+    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"),
+                                   inspectorScroll, Qt::LeftDockWidgetArea);
     splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
     m_properties = new DesignPropertiesPanel(m_document, this);
-    auto *propertiesScroll = new QScrollArea(this);
-    propertiesScroll->setWidget(m_properties);
-    propertiesScroll->setWidgetResizable(true);
-    propertiesScroll->setFrameShape(QFrame::NoFrame);
     auto *propertiesDock = makeDock(tr("Design"), QStringLiteral("DesignPropertiesDock"),
-                                    propertiesScroll, Qt::LeftDockWidgetArea);
+                                    scrolling(m_properties, this), Qt::LeftDockWidgetArea);
     tabifyDockWidget(inspectorDock, propertiesDock);
     inspectorDock->raise();
 
@@ -133,22 +150,14 @@ void MainWindow::createDocks()
     // The Spread panel holds controls, a table and three histograms: it scrolls rather than
     // forcing its height on the whole window.
     m_spread = new SpreadPanel(m_document, this);
-    auto *spreadScroll = new QScrollArea(this);
-    spreadScroll->setWidget(m_spread);
-    spreadScroll->setWidgetResizable(true);
-    spreadScroll->setFrameShape(QFrame::NoFrame);
-    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), spreadScroll,
-                                Qt::RightDockWidgetArea);
+    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"),
+                                scrolling(m_spread, this), Qt::RightDockWidgetArea);
 
     // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
     m_candidates = new CandidatesPanel(m_document, this);
     // Its table scrolls too, so a narrow window can still give the Sketch half its width.
-    auto *candidatesScroll = new QScrollArea(this);
-    candidatesScroll->setWidget(m_candidates);
-    candidatesScroll->setWidgetResizable(true);
-    candidatesScroll->setFrameShape(QFrame::NoFrame);
     m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"),
-                                candidatesScroll, Qt::RightDockWidgetArea);
+                                scrolling(m_candidates, this), Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, m_candidatesDock);
     tabifyDockWidget(impDock, spreadDock);
     impDock->raise();
