@@ -116,6 +116,18 @@ CLI::Option *addWholeNumber(CLI::App &command, const std::string &name, T &targe
         ->check(wholeNumber(lowest, highest, needs));
 }
 
+/// Adds a Monte Carlo run's --trials N (1 to kMaxTrials) and --seed S (>= 0).
+template<typename Trials, typename Seed>
+void addTrialsAndSeed(CLI::App &command, Trials &trials, const std::string &trialsHelp, Seed &seed,
+                      const std::string &seedHelp)
+{
+    addWholeNumber(command, "--trials", trials, 1, kMaxTrials,
+                   "needs a whole number from 1 to " + std::to_string(kMaxTrials), trialsHelp)
+        ->type_name("N");
+    addWholeNumber(command, "--seed", seed, 0, kLargestSeed, kWholeNumberAtLeastZero, seedHelp)
+        ->type_name("S");
+}
+
 /// Adds an option taking a finite number that `inRange` accepts, stored through `store`.
 CLI::Option *addNumber(CLI::App &command, const std::string &name,
                        const std::function<void(double)> &store,
@@ -173,13 +185,8 @@ void addSpread(CLI::App &app, CliOptions &o)
 {
     CLI::App *c = app.add_subcommand("spread", "worst case and Monte Carlo over the tolerances");
     addDesignFile(*c, o);
-    addWholeNumber(*c, "--trials", o.spread.trials, 1, kMaxTrials,
-                   "needs a whole number from 1 to " + std::to_string(kMaxTrials),
-                   "Monte Carlo trials (default 1000)")
-        ->type_name("N");
-    addWholeNumber(*c, "--seed", o.spread.seed, 0, kLargestSeed, kWholeNumberAtLeastZero,
-                   "random seed (default 1)")
-        ->type_name("S");
+    addTrialsAndSeed(*c, o.spread.trials, "Monte Carlo trials (default 1000)", o.spread.seed,
+                     "random seed (default 1)");
     c->add_flag_function(
         "--normal", [&o](std::int64_t) { o.spread.distribution = SpreadDistribution::Normal; },
         "normal instead of uniform over each tolerance");
@@ -215,13 +222,9 @@ void addSuggest(CLI::App &app, CliOptions &o)
     addWholeNumber(*c, "--best", o.suggest.best, 1, 1000, "needs a whole number from 1 to 1000",
                    "suggestions listed (default 5)")
         ->type_name("N");
-    addWholeNumber(*c, "--trials", o.suggest.yieldTrials, 1, kMaxTrials,
-                   "needs a whole number from 1 to " + std::to_string(kMaxTrials),
-                   "Monte Carlo trials of each row's yield (default 200)")
-        ->type_name("N");
-    addWholeNumber(*c, "--seed", o.suggest.seed, 0, kLargestSeed, kWholeNumberAtLeastZero,
-                   "random seed of the yield (default 1)")
-        ->type_name("S");
+    addTrialsAndSeed(*c, o.suggest.yieldTrials,
+                     "Monte Carlo trials of each row's yield (default 200)", o.suggest.seed,
+                     "random seed of the yield (default 1)");
     c->add_flag("--json", o.json, "print JSON instead of text");
     addTextOut(*c, o);
 }

@@ -11,6 +11,7 @@
 #include "sketch/sketchlayout.h"
 #include "sketch/sketchscene.h"
 #include "sketch/sketchview.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
@@ -37,9 +38,7 @@ protected:
     void SetUp() override
     {
         window = std::make_unique<MainWindow>();
-        window->setAskBeforeDiscarding(false);
-        window->resize(1500, 940);
-        window->show();
+        showTestWindow(*window);
         ASSERT_TRUE(QTest::qWaitForWindowExposed(window.get()));
     }
 

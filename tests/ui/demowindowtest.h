@@ -3,6 +3,7 @@
 // The fixture of the window tests: a shown main window at the screenshots' size (1500 x 940)
 // with the demo design open and analysed.
 
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
@@ -19,9 +20,7 @@ protected:
     void SetUp() override
     {
         window = std::make_unique<loopsketch::ui::MainWindow>();
-        window->setAskBeforeDiscarding(false);
-        window->resize(1500, 940);
-        window->show();
+        loopsketch::ui::test::showTestWindow(*window);
         QString error;
         ASSERT_TRUE(
             window->openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"), &error))

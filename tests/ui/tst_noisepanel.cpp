@@ -7,8 +7,10 @@
 #include "panels/panels.h"
 #include "panels/readout.h"
 #include "support/qtadapter.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
+#include "windowchecks.h"
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"
@@ -259,15 +261,8 @@ TEST_F(NoisePanelTest, CursorMovesWithTheOtherPanels)
 {
     QTest::qWait(200); // the dock layout settles (tab bars take their room)
     LoopGainPanel *loop = window->loopGainPanel();
-    QChart *chart = loop->chart();
-    const QPointF at = chart->plotArea().center();
-    const QPoint pos = loop->mapFromScene(chart->mapToScene(at));
-    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
-                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
-    QApplication::sendEvent(loop->viewport(), &move);
     // The frequency of the pixel the event carries (the plot's centre rounded to it).
-    const QPointF hit = chart->mapFromScene(loop->mapToScene(pos));
-    const double log10Hz = chart->mapToValue(hit, loop->series(LoopGainPanel::kT)).x();
+    const double log10Hz = loopsketch::ui::test::hoverLoopGainCentre(loop);
     const QString fText
         = QStringLiteral("f = ") + toQString(formatEngineering(std::pow(10.0, log10Hz), 3, "Hz"));
     EXPECT_EQ(panel->cursorText(), fText);
@@ -336,9 +331,7 @@ class NoiseExample : public ::testing::TestWithParam<const char *>
 TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     const QString path = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(GetParam());
     ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
@@ -393,9 +386,7 @@ INSTANTIATE_TEST_SUITE_P(Examples, NoiseExample,
 TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(kDemo, &error)) << error.toStdString();
     QApplication::processEvents();

@@ -177,14 +177,12 @@ TEST_P(OutputFaults, FileSizeLimitGivesExitTwoNotASignalAndLeavesNoTemporary)
 
     const auto outcome = test::runInChild([&](std::string &report) {
         // what `ulimit -f 4` does in a shell, with the signal at its default action
-        std::signal(SIGXFSZ, SIG_DFL);
-        rlimit small{};
-        ::getrlimit(RLIMIT_FSIZE, &small);
-        small.rlim_cur = 4096;
-        if (::setrlimit(RLIMIT_FSIZE, &small) != 0) {
+        test::FileSizeLimit limit(4096);
+        if (!limit.ok()) {
             report = test::osFailure("setrlimit");
             return test::kChildCannotInject;
         }
+        std::signal(SIGXFSZ, SIG_DFL);
         const CliRun r = runCli(c.args(out.string()), dir.path());
         report += field("exit", std::to_string(r.exitCode));
         report += field("err", r.err);

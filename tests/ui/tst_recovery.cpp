@@ -106,6 +106,18 @@ private:
     SeenBox m_seen;
 };
 
+/// A new window offers no recovery at its start and shows no message box within 100 ms
+/// (`answer` the button a box would get); `why` names the case.
+void expectNothingOffered(QMessageBox::StandardButton answer, const char *why)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    BoxWatcher box(answer);
+    EXPECT_FALSE(window.offerRecovery()) << why;
+    QTest::qWait(100);
+    EXPECT_FALSE(box.seen().seen) << why;
+}
+
 QAction *saveAction(MainWindow &window)
 {
     for (QAction *a : window.findChildren<QAction *>()) {
@@ -248,12 +260,7 @@ TEST_F(RecoveryTest, NormalCloseOfTheEditorRemovesItsRecoveryFile)
     EXPECT_TRUE(said.contains("autosaved\n")) << "the recovery file existed before the close";
     EXPECT_FALSE(QFile::exists(MainWindow::recoveryFileOf(editorPid)));
 
-    MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    BoxWatcher box(QMessageBox::Yes);
-    EXPECT_FALSE(window.offerRecovery());
-    QTest::qWait(100);
-    EXPECT_FALSE(box.seen().seen) << "nothing to offer after a normal close";
+    expectNothingOffered(QMessageBox::Yes, "nothing to offer after a normal close");
 }
 
 TEST_F(RecoveryTest, CorruptRecoveryFileIsReportedAndKeptAside)
@@ -291,12 +298,7 @@ TEST_F(RecoveryTest, CorruptRecoveryFileIsReportedAndKeptAside)
         EXPECT_TRUE(QFile::exists(keptPath)) << "a normal close must not remove the kept file";
     }
 
-    MainWindow again;
-    again.setAskBeforeDiscarding(false);
-    BoxWatcher box(QMessageBox::Ok);
-    EXPECT_FALSE(again.offerRecovery());
-    QTest::qWait(100);
-    EXPECT_FALSE(box.seen().seen) << "the kept file is not offered again at every start";
+    expectNothingOffered(QMessageBox::Ok, "the kept file is not offered again at every start");
 }
 
 // Autosave that cannot write its recovery file (here under /proc, which takes no new files

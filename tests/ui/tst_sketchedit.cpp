@@ -74,6 +74,14 @@ protected:
         return nullptr;
     }
 
+    /// Opens the demo and gives its wire on node "in" (nullptr, a failure added, if none).
+    WireItem *openDemoAtWireOnIn()
+    {
+        openExample(QStringLiteral("demo.loopsketch"));
+        settle();
+        return wireOn("in");
+    }
+
     void clickWire(WireItem *wire)
     {
         QTest::mouseClick(view()->viewport(), Qt::LeftButton, {}, pointOn(wire));
@@ -143,11 +151,9 @@ protected:
 
 TEST_F(SketchEditTest, WireLightsUpUnderThePointerIsSelectedAndDeleted)
 {
-    openExample(QStringLiteral("demo.loopsketch"));
-    settle();
-    const Design before = doc()->design();
-    WireItem *wire = wireOn("in");
+    WireItem *wire = openDemoAtWireOnIn();
     ASSERT_NE(wire, nullptr);
+    const Design before = doc()->design();
     const PinRef from = wire->wire().from, to = wire->wire().to;
     const QPoint at = pointOn(wire);
 
@@ -449,11 +455,9 @@ TEST_F(SketchEditTest, ClipboardCutCopyPasteDuplicateDeleteAndSelectAllEachOneUn
 
 TEST_F(SketchEditTest, DeleteRemovesSelectedPartsGroundsAndWiresTogether)
 {
-    openExample(QStringLiteral("demo.loopsketch"));
-    settle();
-    const Design before = doc()->design();
-    WireItem *wire = wireOn("in");
+    WireItem *wire = openDemoAtWireOnIn();
     ASSERT_NE(wire, nullptr);
+    const Design before = doc()->design();
     const PinRef from = wire->wire().from, to = wire->wire().to;
     // A wire whose parts both stay, and a part.
     std::string other;

@@ -3,6 +3,7 @@
 // destruction during a run must stop the worker without a crash.
 
 #include "panels/spreadpanel.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/exportactions.h"
 #include "window/mainwindow.h"
@@ -333,9 +334,7 @@ TEST(SpreadPanelNoTolerance, ShowsCoresMessage)
 TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
         << error.toStdString();

@@ -3,12 +3,15 @@
 // text exactly.
 
 #include "panels/suggestdialog.h"
+#include "testwindow.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
 #include "loopsketch/analysis/suggest.h"
 #include "loopsketch/base/eseries.h"
 #include "loopsketch/design/designfile.h"
+
+#include "ratiostage.h"
 
 #include <QApplication>
 #include <QMenu>
@@ -35,18 +38,8 @@ namespace {
 // E12 table.
 std::string nonInverting(const std::string &specs)
 {
-    return R"({"schema": "loopsketch.design/1", "title": "Ratio test stage", "parts": [
-      {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
-      {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out",
-       "gain": "180dB", "poles_hz": ["1"]},
-      {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "15k", "series": "E12",
-       "tolerance": "1%"},
-      {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "3.3k", "series": "E12"},
-      {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1M"}],
-      "input": "VS", "output": "voltage",
-      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20},
-      "specs": )"
-        + specs + "}";
+    return loopsketch::test::nonInvertingStageText(
+        "Ratio test stage", R"("value": "15k", "tolerance": "1%")", "3.3k", specs);
 }
 
 const char *kWindow = R"({"gain": ["3.11202", "3.14330"]})";
@@ -243,9 +236,7 @@ TEST(SuggestDialogErrors, NoGainWindowAndUnreachableTargets)
 TEST(SuggestDialogWindow, OpensFromTheDesignMenuWithAScreenshot)
 {
     MainWindow window;
-    window.setAskBeforeDiscarding(false);
-    window.resize(1500, 940);
-    window.show();
+    loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"), &error))
         << error.toStdString();

@@ -11,7 +11,10 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"
 
+#include <QApplication>
+#include <QChart>
 #include <QList>
+#include <QMouseEvent>
 #include <QPointF>
 #include <QXYSeries>
 
@@ -55,6 +58,21 @@ inline void expectWindowShows(const MainWindow &window, const Analysis &expected
         ASSERT_NEAR(p.x(), want[j].x(), 1e-12);
         ASSERT_NEAR(p.y(), want[j].y(), 1e-9);
     }
+}
+
+/// Moves the pointer (no button held) onto the centre of the Loop gain panel's plot and gives
+/// log10 of the frequency (Hz) under the pixel the event went to: the event carries whole
+/// pixels, and half a pixel is about one sweep point, so the exact centre may pick a neighbour.
+inline double hoverLoopGainCentre(LoopGainPanel *loop)
+{
+    QChart *chart = loop->chart();
+    const QPointF centre = chart->plotArea().center();
+    const QPoint pos = loop->mapFromScene(chart->mapToScene(centre));
+    QMouseEvent move(QEvent::MouseMove, QPointF(pos), QPointF(loop->viewport()->mapToGlobal(pos)),
+                     Qt::NoButton, Qt::NoButton, Qt::NoModifier);
+    QApplication::sendEvent(loop->viewport(), &move);
+    const QPointF hovered = chart->mapFromScene(loop->mapToScene(pos));
+    return chart->mapToValue(hovered, loop->series(LoopGainPanel::kT)).x();
 }
 
 } // namespace loopsketch::ui::test

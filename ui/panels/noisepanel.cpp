@@ -28,6 +28,19 @@ namespace loopsketch::ui {
 
 namespace {
 
+/// A text item on `chart` in its default font at `pointSize` pt, stacked at `z`, hidden until
+/// placed.
+QGraphicsSimpleTextItem *chartNote(QChart *chart, const QString &text, double pointSize, qreal z)
+{
+    auto *note = new QGraphicsSimpleTextItem(text, chart);
+    QFont font = note->font();
+    font.setPointSizeF(pointSize);
+    note->setFont(font);
+    note->setZValue(z);
+    note->setVisible(false);
+    return note;
+}
+
 /// Sources that never reach this share of the power at any frequency are not drawn.
 constexpr double kDrawnShare = 0.03;
 
@@ -142,13 +155,8 @@ NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
 
     QFont f = font();
     f.setPointSizeF(8.5);
-    m_bandLabel = new QGraphicsSimpleTextItem(tr("band"), chart());
-    QFont bf = m_bandLabel->font();
-    bf.setPointSizeF(7.5);
-    m_bandLabel->setFont(bf);
+    m_bandLabel = chartNote(chart(), tr("band"), 7.5, 10);
     m_bandLabel->setBrush(QColor(0x5a, 0x62, 0x70));
-    m_bandLabel->setZValue(10);
-    m_bandLabel->setVisible(false);
     m_problem = new QGraphicsTextItem(chart());
     m_problem->setFont(f);
     m_problem->setDefaultTextColor(QColor(0x5a, 0x62, 0x70));
@@ -159,19 +167,10 @@ NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
     m_valuesBox->setPen(QPen(QColor(0xc8, 0xcd, 0xd4), 1.0));
     m_valuesBox->setZValue(21);
     m_valuesBox->setVisible(false);
-    m_valuesText = new QGraphicsSimpleTextItem(chart());
-    QFont vf = m_valuesText->font();
-    vf.setPointSizeF(8);
-    m_valuesText->setFont(vf);
-    m_valuesText->setZValue(22);
-    m_valuesText->setVisible(false);
-    m_figures = new QGraphicsSimpleTextItem(chart());
-    QFont ff = m_figures->font();
-    ff.setPointSizeF(7.5);
-    m_figures->setFont(ff);
+    m_valuesText = chartNote(chart(), QString(), 8, 22);
+    m_figures = chartNote(chart(), QString(), 7.5, 12);
     m_figures->setBrush(QColor(0x3a, 0x40, 0x4a));
-    m_figures->setZValue(12);
-    m_figures->setVisible(false);
+    const QFont ff = m_figures->font();
     // The figures line sits under the legend, in a margin of its own: never over the bands.
     QMargins margins = chart()->margins();
     margins.setBottom(margins.bottom() + int(std::ceil(QFontMetricsF(ff).height())) + 2);

@@ -1,5 +1,6 @@
 #include "panels/panels.h"
 
+#include "support/freespot.h"
 #include "support/qtadapter.h"
 
 #include "loopsketch/base/value.h"
@@ -151,8 +152,15 @@ void ImpedancePanel::showAnalysis(const Analysis &a)
     for (int i = 0; i < 4; ++i)
         replaceThinned(m_lines[i], points[i], frequencyLo(a), frequencyHi(a),
                        CursorFormat::Log10Ohms);
-    setTitle(tr("at DC: z_in %1  ·  z_out %2")
-                 .arg(engineering(a.exact.zIn, "Ω"), engineering(a.exact.zOut, "Ω")));
+    // Each impedance at DC, or, where the log scale cannot draw it (an ideal input or output),
+    // what it is in words, as on the sheet, so an empty plot does not read as a fault.
+    const auto reading = [&](PlotCurve curve, const Curve &values, const OptionalNumber &dc) {
+        const QString text = undrawableCurveText(values);
+        return text.isEmpty() ? tr("%1 at DC %2").arg(curveName(curve), engineering(dc, "Ω"))
+                              : tr("%1 %2").arg(curveName(curve), text);
+    };
+    setTitle(reading(PlotCurve::ZIn, a.curves.zInExact, a.exact.zIn) + QStringLiteral("  ·  ")
+             + reading(PlotCurve::ZOut, a.curves.zOutExact, a.exact.zOut));
 }
 
 DesensitivityPanel::DesensitivityPanel(QWidget *parent) : PlotPanel(tr("Desensitivity"), parent)
@@ -372,18 +380,7 @@ QPointF PolesPanel::plotted(std::complex<double> s) const
     return scale.map(s);
 }
 
-namespace {
-
-/// "−860k" with a true minus sign.
-QString signedEngineering(double value)
-{
-    QString text = toQString(formatEngineering(value, 3));
-    if (text.startsWith(QLatin1Char('-')))
-        text.replace(0, 1, QStringLiteral("−"));
-    return text;
-}
-
-} // namespace
+namespace { } // namespace
 
 void PolesPanel::showAnalysis(const Analysis &a)
 {
@@ -439,29 +436,8 @@ void PolesPanel::showAnalysis(const Analysis &a)
     // One text per pole or conjugate pair (upper half-plane and real axis); coincident
     // poles say how many they are, so the legend's count is always found on the plot.
     m_labelEntries.clear();
-    std::vector<bool> done(m_shown.size(), false);
-    for (std::size_t i = 0; i < m_shown.size(); ++i) {
-        if (done[i] || m_shown[i].s.imag() < 0)
-            continue;
-        int same = 0;
-        for (std::size_t j = i; j < m_shown.size(); ++j) {
-            if (!done[j]
-                && std::abs(m_shown[j].s - m_shown[i].s) <= 1e-9 * std::abs(m_shown[i].s)) {
-                done[j] = true;
-                ++same;
-            }
-        }
-        const std::complex<double> s = m_shown[i].s;
-        QString text = signedEngineering(s.real());
-        if (s.imag() > 0)
-            text += QStringLiteral(" ± j") + toQString(formatEngineering(s.imag(), 3));
-        if (same > 1)
-            text += QStringLiteral(" (×%1)").arg(same);
-        m_labelEntries.push_back({m_points[qsizetype(i)], text, std::abs(s)});
-    }
-    // The dominant poles are labelled first: where labels would collide, theirs stays.
-    std::stable_sort(m_labelEntries.begin(), m_labelEntries.end(),
-                     [](const LabelEntry &l, const LabelEntry &r) { return l.size < r.size; });
+    for (const PoleValueLabel &l : poleValueLabels(m_shown))
+        m_labelEntries.push_back({m_points[qsizetype(l.index)], l.text, l.size});
 
     rename(m_poles, tr("closed-loop poles (%1)").arg(m_points.size()));
     fitHome();
@@ -547,20 +523,12 @@ void PolesPanel::placeLabels()
         taken.emplace_back(at.x() - 5, at.y() - 5, 10, 10);
     }
     auto place = [&](QGraphicsSimpleTextItem *label, std::initializer_list<QPointF> corners) {
-        const QSizeF size = label->boundingRect().size();
-        for (const QPointF &corner : corners) {
-            const QRectF spot(corner, size);
-            bool free = plot.contains(spot);
-            for (const QRectF &r : taken)
-                free = free && !r.intersects(spot);
-            if (free) {
-                label->setPos(corner);
-                label->show();
-                taken.push_back(spot.adjusted(-2, -1, 2, 1));
-                return;
-            }
+        const auto spot = firstFreeSpot(corners, label->boundingRect().size(), plot, taken);
+        if (spot) {
+            label->setPos(spot->topLeft());
+            taken.push_back(spot->adjusted(-2, -1, 2, 1));
         }
-        label->hide();
+        label->setVisible(spot.has_value());
     };
 
     // Pole values beside their marker; poles drawn within a marker's width of each other

@@ -1,72 +1,67 @@
 #include "panels/spreadmetric.h"
 
+#include "loopsketch/base/lookup.h"
+
 #include <QObject>
+
+#include <array>
 
 namespace loopsketch::ui {
 
+namespace {
+
+/// Where each result keeps a metric's numbers, and the metric's names.
+struct MetricFacts
+{
+    SpreadPanel::Metric metric;
+    MetricStats MonteCarloResult::*stats;
+    MetricRange WorstCaseResult::*range;
+    OptionalNumber TrialMetrics::*nominal;
+    const char *name;
+    const char *axis;
+};
+
+constexpr std::array<MetricFacts, 3> kMetrics{
+    {{SpreadPanel::Metric::Gain, &MonteCarloResult::gain, &WorstCaseResult::gain,
+      &TrialMetrics::gain, QT_TR_NOOP("closed-loop gain"), QT_TR_NOOP("gain")},
+     {SpreadPanel::Metric::Bandwidth, &MonteCarloResult::bandwidthHz, &WorstCaseResult::bandwidthHz,
+      &TrialMetrics::bandwidthHz, QT_TR_NOOP("−3 dB bandwidth"), QT_TR_NOOP("bandwidth")},
+     {SpreadPanel::Metric::PhaseMargin, &MonteCarloResult::phaseMarginDeg,
+      &WorstCaseResult::phaseMarginDeg, &TrialMetrics::phaseMarginDeg, QT_TR_NOOP("phase margin"),
+      QT_TR_NOOP("phase margin")}}};
+
+/// The facts of `m`; phase margin's for a value outside the enum.
+const MetricFacts &factsOf(SpreadPanel::Metric m)
+{
+    const MetricFacts *facts = findRow(kMetrics, &MetricFacts::metric, m);
+    return facts ? *facts : kMetrics.back();
+}
+
+} // namespace
+
 const MetricStats &statsOf(const MonteCarloResult &mc, SpreadPanel::Metric m)
 {
-    switch (m) {
-    case SpreadPanel::Metric::Gain:
-        return mc.gain;
-    case SpreadPanel::Metric::Bandwidth:
-        return mc.bandwidthHz;
-    case SpreadPanel::Metric::PhaseMargin:
-        break;
-    }
-    return mc.phaseMarginDeg;
+    return mc.*factsOf(m).stats;
 }
 
 const MetricRange &rangeOf(const WorstCaseResult &w, SpreadPanel::Metric m)
 {
-    switch (m) {
-    case SpreadPanel::Metric::Gain:
-        return w.gain;
-    case SpreadPanel::Metric::Bandwidth:
-        return w.bandwidthHz;
-    case SpreadPanel::Metric::PhaseMargin:
-        break;
-    }
-    return w.phaseMarginDeg;
+    return w.*factsOf(m).range;
 }
 
 OptionalNumber nominalOf(const TrialMetrics &t, SpreadPanel::Metric m)
 {
-    switch (m) {
-    case SpreadPanel::Metric::Gain:
-        return t.gain;
-    case SpreadPanel::Metric::Bandwidth:
-        return t.bandwidthHz;
-    case SpreadPanel::Metric::PhaseMargin:
-        break;
-    }
-    return t.phaseMarginDeg;
+    return t.*factsOf(m).nominal;
 }
 
 QString metricName(SpreadPanel::Metric m)
 {
-    switch (m) {
-    case SpreadPanel::Metric::Gain:
-        return QObject::tr("closed-loop gain");
-    case SpreadPanel::Metric::Bandwidth:
-        return QObject::tr("−3 dB bandwidth");
-    case SpreadPanel::Metric::PhaseMargin:
-        break;
-    }
-    return QObject::tr("phase margin");
+    return QObject::tr(factsOf(m).name);
 }
 
 QString axisName(SpreadPanel::Metric m)
 {
-    switch (m) {
-    case SpreadPanel::Metric::Gain:
-        return QObject::tr("gain");
-    case SpreadPanel::Metric::Bandwidth:
-        return QObject::tr("bandwidth");
-    case SpreadPanel::Metric::PhaseMargin:
-        break;
-    }
-    return QObject::tr("phase margin");
+    return QObject::tr(factsOf(m).axis);
 }
 
 } // namespace loopsketch::ui

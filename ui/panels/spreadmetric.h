@@ -1,7 +1,7 @@
 #pragma once
 
 // Which number of a spread result belongs to which of the Spread panel's metrics (closed-loop
-// gain, -3 dB bandwidth, phase margin), and the metrics' names: one switch per question, shared
+// gain, -3 dB bandwidth, phase margin), and the metrics' names: one table of them, shared
 // by the panel's table, its run controller and its histograms.
 
 #include "panels/spreadpanel.h"

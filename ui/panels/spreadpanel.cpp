@@ -2,6 +2,7 @@
 
 #include "panels/plotpanel.h"
 #include "panels/spreadmetric.h"
+#include "support/errorline.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -228,8 +229,7 @@ void SpreadPanel::setBusy(bool busy)
 
 void SpreadPanel::setMessage(const QString &text, bool error)
 {
-    m_message->setText(text);
-    m_message->setStyleSheet(error ? QStringLiteral("color: #b3261e;") : QString());
+    showStatus(m_message, text, error);
 }
 
 QString SpreadPanel::messageText() const

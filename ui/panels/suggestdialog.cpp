@@ -1,5 +1,6 @@
 #include "panels/suggestdialog.h"
 
+#include "support/errorline.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -569,8 +570,7 @@ void SuggestDialog::setBusy(bool busy)
 
 void SuggestDialog::setStatus(const QString &text, bool error)
 {
-    m_status->setText(text);
-    m_status->setStyleSheet(error ? QStringLiteral("color: #b3261e;") : QString());
+    showStatus(m_status, text, error);
 }
 
 QString SuggestDialog::targetsText() const

@@ -1,7 +1,10 @@
 #include "sheet/sheetplots.h"
 
+#include "sheet/sheetplotengine.h"
+
 #include "panels/noisepanel.h"
 #include "sheet/sheetwriter.h"
+#include "support/freespot.h"
 #include "support/plotstyle.h"
 #include "support/polescale.h"
 
@@ -19,368 +22,6 @@
 namespace loopsketch::ui {
 
 using namespace sheet;
-
-namespace {
-
-// ---------------------------------------------------------------------------------------
-// Plots
-
-struct Series
-{
-    QString name;
-    std::vector<double> x, y; // x in Hz (log axes) or s; NaN breaks the line
-    QColor colour;
-    Qt::PenStyle style = Qt::SolidLine;
-    int overlay = -1; ///< the candidate's index for an overlay curve
-    PlotCurve curve = PlotCurve::A; ///< the table's curve (overlays)
-    enum class Marker { None, Filled, Hollow };
-    Marker marker = Marker::None; ///< drawn as markers (poles), not as a line
-};
-
-struct Axis
-{
-    double lo = 0, hi = 1;
-    bool log = false;
-    double step = 1; // linear axes
-};
-
-double mapAxis(const Axis &a, double v, double from, double to)
-{
-    const double t = a.log ? (std::log10(v) - a.lo) / (a.hi - a.lo) : (v - a.lo) / (a.hi - a.lo);
-    return from + t * (to - from);
-}
-
-void finiteRange(const std::vector<Series> &series, bool useX, double &lo, double &hi)
-{
-    lo = INFINITY;
-    hi = -INFINITY;
-    for (const auto &s : series)
-        for (double v : useX ? s.x : s.y)
-            if (std::isfinite(v)) {
-                lo = std::min(lo, v);
-                hi = std::max(hi, v);
-            }
-}
-
-/// One panel: frame, grid, tick labels, curves. `yFormat` gives a tick label.
-void drawPanel(QPainter &p, const QRectF &area, double k, const Axis &xa, const Axis &ya,
-               const std::vector<Series> &series, const QString &yTitle, bool xLabels,
-               const QString &xTitle, bool yLogOhm)
-{
-    const QFont tick = sheetFont(6.5);
-    p.setFont(tick);
-    const QFontMetricsF fm(tick, p.device());
-    const double pad = 1.2 * k;
-
-    p.setPen(QPen(kGrid, 0.15 * k));
-    // x grid and labels
-    std::vector<std::pair<double, QString>> xt;
-    if (xa.log) {
-        for (int d = static_cast<int>(std::ceil(xa.lo - 1e-9));
-             d <= static_cast<int>(std::floor(xa.hi + 1e-9)); ++d)
-            xt.emplace_back(std::pow(10.0, d),
-                            QString::fromStdString(formatEngineering(std::pow(10.0, d), 3)));
-        for (int d = static_cast<int>(std::floor(xa.lo)); d < static_cast<int>(std::ceil(xa.hi));
-             ++d)
-            for (int m = 2; m <= 9; ++m) {
-                const double v = m * std::pow(10.0, d);
-                if (std::log10(v) <= xa.lo || std::log10(v) >= xa.hi)
-                    continue;
-                const double x = mapAxis(xa, v, area.left(), area.right());
-                p.setPen(QPen(QColor(235, 235, 235), 0.1 * k));
-                p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
-            }
-    } else {
-        for (double v = std::ceil(xa.lo / xa.step) * xa.step; v <= xa.hi + 1e-12 * std::abs(xa.hi);
-             v += xa.step)
-            xt.emplace_back(v, QString::fromStdString(formatEngineering(v, 3, "s")));
-    }
-    for (const auto &[v, label] : xt) {
-        const double x = mapAxis(xa, v, area.left(), area.right());
-        p.setPen(QPen(kGrid, 0.15 * k));
-        p.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()));
-        if (xLabels) {
-            p.setPen(kInk);
-            const double w = fm.horizontalAdvance(label);
-            p.drawText(QPointF(x - w / 2, area.bottom() + pad + fm.ascent()), label);
-        }
-    }
-    if (xLabels && !xTitle.isEmpty()) {
-        p.setPen(kInk);
-        const double w = fm.horizontalAdvance(xTitle);
-        p.drawText(QPointF(area.right() - w, area.bottom() + pad + fm.ascent() + fm.height()),
-                   xTitle);
-    }
-    // y grid and labels
-    double maxLabel = 0;
-    for (double v = std::ceil(ya.lo / ya.step - 1e-9) * ya.step; v <= ya.hi + 1e-9 * ya.step;
-         v += ya.step) {
-        const double y = mapAxis(ya, v, area.bottom(), area.top());
-        p.setPen(QPen(kGrid, 0.15 * k));
-        p.drawLine(QPointF(area.left(), y), QPointF(area.right(), y));
-        const QString label = yLogOhm
-            ? QString::fromStdString(formatEngineering(std::pow(10.0, v), 3))
-            : QString::fromStdString(formatEngineering(std::abs(v) < 1e-9 * ya.step ? 0.0 : v, 3));
-        const double w = fm.horizontalAdvance(label);
-        maxLabel = std::max(maxLabel, w);
-        p.setPen(kInk);
-        p.drawText(QPointF(area.left() - pad - w, y + fm.ascent() / 2 - fm.descent() / 2), label);
-    }
-    if (!yTitle.isEmpty()) {
-        p.save();
-        p.translate(area.left() - pad * 2 - maxLabel - fm.descent(), area.center().y());
-        p.rotate(-90);
-        p.setPen(kInk);
-        p.drawText(QPointF(-fm.horizontalAdvance(yTitle) / 2, 0), yTitle);
-        p.restore();
-    }
-    // curves
-    p.save();
-    p.setClipRect(area);
-    p.setRenderHint(QPainter::Antialiasing);
-    for (const auto &s : series) {
-        QPen pen(s.colour, 0.35 * k, s.style);
-        pen.setJoinStyle(Qt::RoundJoin);
-        p.setPen(pen);
-        QPolygonF line;
-        const auto flush = [&] {
-            if (line.size() > 1)
-                p.drawPolyline(line);
-            line.clear();
-        };
-        for (std::size_t i = 0; i < s.x.size() && i < s.y.size(); ++i) {
-            if (!std::isfinite(s.x[i]) || !std::isfinite(s.y[i]) || (xa.log && s.x[i] <= 0)) {
-                flush();
-                continue;
-            }
-            const double yv
-                = std::clamp(s.y[i], ya.lo - 10 * (ya.hi - ya.lo), ya.hi + 10 * (ya.hi - ya.lo));
-            line << QPointF(mapAxis(xa, s.x[i], area.left(), area.right()),
-                            mapAxis(ya, yv, area.bottom(), area.top()));
-        }
-        flush();
-    }
-    p.restore();
-    p.setPen(QPen(kRule, 0.25 * k));
-    p.setBrush(Qt::NoBrush);
-    p.drawRect(area);
-}
-
-Axis linearAxis(const std::vector<Series> &series, std::initializer_list<double> steps,
-                double minSpan, int maxTicks = 6)
-{
-    Axis a;
-    double lo, hi;
-    finiteRange(series, false, lo, hi);
-    if (!std::isfinite(lo)) {
-        lo = 0;
-        hi = 1;
-    }
-    if (hi - lo < minSpan) {
-        const double mid = (hi + lo) / 2;
-        lo = mid - minSpan / 2;
-        hi = mid + minSpan / 2;
-    }
-    a.step = niceStep(hi - lo, maxTicks, steps);
-    a.lo = std::floor(lo / a.step) * a.step;
-    a.hi = std::ceil(hi / a.step) * a.step;
-    if (a.hi <= a.lo)
-        a.hi = a.lo + a.step;
-    return a;
-}
-
-Axis frequencyAxis(const Analysis &a)
-{
-    Axis x;
-    x.log = true;
-    if (a.frequenciesHz.empty() || !(a.frequenciesHz.front() > 0)) {
-        x.lo = 0;
-        x.hi = 9;
-        return x;
-    }
-    x.lo = std::log10(a.frequenciesHz.front());
-    x.hi = std::log10(a.frequenciesHz.back());
-    if (x.hi <= x.lo)
-        x.hi = x.lo + 1;
-    return x;
-}
-
-/// A curve's name, colour and style from the one curve table, or an overlay's (candidate
-/// `overlay` >= 0: its colour and dash, "candidate: quantity").
-Series styled(PlotCurve curve, int overlay = -1, const QString &candidate = {})
-{
-    const CurveStyle &c = curveStyle(curve);
-    if (overlay < 0)
-        return {c.name, {}, {}, c.colour, c.style};
-    return {overlayName(candidate, curve), {},      {},   overlayColour(overlay),
-            overlayStyle(overlay),         overlay, curve};
-}
-
-/// The legend's entries: the own curves, then one per candidate naming its quantities
-/// ("Fast: T, gain"), as the panels' legends do.
-std::vector<Series> legendEntries(const std::vector<Series> &series,
-                                  const std::vector<SheetOverlay> &overlays)
-{
-    std::vector<Series> entries;
-    std::vector<std::vector<PlotCurve>> quantities(overlays.size());
-    std::vector<std::size_t> at(overlays.size(), std::size_t(-1));
-    for (const Series &s : series) {
-        if (s.overlay < 0 || std::size_t(s.overlay) >= overlays.size()) {
-            entries.push_back(s);
-            continue;
-        }
-        const auto i = std::size_t(s.overlay);
-        quantities[i].push_back(s.curve);
-        if (at[i] == std::size_t(-1)) {
-            at[i] = entries.size();
-            entries.push_back(s);
-        }
-        entries[at[i]].name = overlayLegendText(overlays[i].name, quantities[i]);
-    }
-    return entries;
-}
-
-Series dbSeries(Series s, const Analysis &a, const Curve &c)
-{
-    s.x = a.frequenciesHz;
-    s.y.reserve(c.size());
-    for (const auto &v : c)
-        s.y.push_back(std::isfinite(std::abs(v)) ? toDecibels(std::abs(v)) : NAN);
-    s.x.resize(s.y.size());
-    return s;
-}
-
-Series logOhmSeries(Series s, const Analysis &a, const Curve &c)
-{
-    s.x = a.frequenciesHz;
-    for (const auto &v : c)
-        s.y.push_back(std::abs(v) > 0 && std::isfinite(std::abs(v)) ? std::log10(std::abs(v))
-                                                                    : NAN);
-    s.x.resize(s.y.size());
-    return s;
-}
-
-Series phaseSeries(Series s, const Analysis &a, const Curve &c)
-{
-    s.x = a.frequenciesHz;
-    if (c.empty())
-        return s;
-    const std::vector<double> ph = unwrapPhase(c, std::arg(c.front()));
-    for (std::size_t i = 0; i < ph.size(); ++i)
-        s.y.push_back(std::isfinite(std::abs(c[i])) ? ph[i] * 180.0 / std::numbers::pi : NAN);
-    s.x.resize(s.y.size());
-    return s;
-}
-
-bool hasFinite(const Curve &c)
-{
-    return std::any_of(c.begin(), c.end(),
-                       [](const auto &v) { return std::isfinite(std::abs(v)); });
-}
-
-/// A pole's marker as the Poles panel draws it: the design's a filled square, a candidate's
-/// a ring in its colour.
-void drawPoleMarker(QPainter &p, QPointF at, double k, const Series &s)
-{
-    const double r = 0.9 * k;
-    p.save();
-    p.setRenderHint(QPainter::Antialiasing);
-    if (s.marker == Series::Marker::Filled) {
-        p.setPen(QPen(s.colour.darker(130), 0.12 * k));
-        p.setBrush(s.colour);
-        p.drawRect(QRectF(at.x() - r, at.y() - r, 2 * r, 2 * r));
-    } else {
-        p.setPen(QPen(s.colour, 0.3 * k));
-        p.setBrush(Qt::NoBrush);
-        p.drawEllipse(at, 1.15 * r, 1.15 * r);
-    }
-    p.restore();
-}
-
-/// Lays the legend out in rows within `width`; returns the rows' entries (indices).
-std::vector<std::vector<std::size_t>> legendRows(const QFontMetricsF &fm, double width, double k,
-                                                 const std::vector<Series> &series)
-{
-    std::vector<std::vector<std::size_t>> rows(1);
-    double x = 0;
-    for (std::size_t i = 0; i < series.size(); ++i) {
-        const double w = 7 * k + fm.horizontalAdvance(series[i].name) + 4 * k;
-        if (x > 0 && x + w > width) {
-            rows.emplace_back();
-            x = 0;
-        }
-        rows.back().push_back(i);
-        x += w;
-    }
-    return rows;
-}
-
-constexpr double kLegendRowMm = 3.6;
-
-/// The legend's rows at `area`'s top; returns the height used (device units).
-double drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<Series> &series)
-{
-    const QFont f = sheetFont(6.5);
-    p.setFont(f);
-    const QFontMetricsF fm(f, p.device());
-    const auto rows = legendRows(fm, area.width(), k, series);
-    double y = area.top() + kLegendRowMm * k / 2;
-    for (const auto &row : rows) {
-        double x = area.left();
-        for (std::size_t i : row) {
-            const Series &s = series[i];
-            if (s.marker == Series::Marker::None) {
-                p.setPen(QPen(s.colour, 0.5 * k, s.style));
-                p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
-            } else {
-                drawPoleMarker(p, QPointF(x + 3 * k, y), k, s);
-            }
-            x += 7 * k;
-            p.setPen(kInk);
-            p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), s.name);
-            x += fm.horizontalAdvance(s.name) + 4 * k;
-        }
-        y += kLegendRowMm * k;
-    }
-    return double(rows.size()) * kLegendRowMm * k;
-}
-
-/// log10 of a density per sweep frequency; NaN where there is none (breaks the line).
-Series logDensitySeries(Series s, const std::vector<double> &hz, const std::vector<double> &density)
-{
-    s.x = hz;
-    s.y.reserve(hz.size());
-    for (std::size_t i = 0; i < hz.size(); ++i) {
-        const double v = i < density.size() ? density[i] : NAN;
-        s.y.push_back(std::isfinite(v) && v > 0 ? std::log10(v) : NAN);
-    }
-    return s;
-}
-
-/// Decades from the first series' peak down to at most `decades` below it.
-Axis decadeAxis(const std::vector<Series> &series, int decades)
-{
-    Axis a;
-    double lo = INFINITY, hi = -INFINITY;
-    finiteRange(series, false, lo, hi);
-    double peak = -INFINITY;
-    for (double v : series.front().y)
-        if (std::isfinite(v))
-            peak = std::max(peak, v);
-    if (!std::isfinite(peak)) {
-        a.lo = -9;
-        a.hi = -6;
-        return a;
-    }
-    a.hi = std::ceil(std::max(peak, hi) + 0.05);
-    a.lo = std::max(std::floor(lo), a.hi - decades);
-    if (a.hi - a.lo < 2)
-        a.lo = a.hi - 2;
-    a.step = a.hi - a.lo > 5 ? 2 : 1;
-    return a;
-}
-
-} // namespace
 
 namespace sheet {
 
@@ -484,9 +125,22 @@ std::vector<Series> frequencyPlot(
     }
     const Axis y = logOhm ? linearAxis(series, {1, 2, 3, 4, 5}, 1, 6)
                           : linearAxis(series, {10, 20, 40, 50, 100}, 20, 6);
-    drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, f.bottom)), f.k, f.frequency, y,
-              series, logOhm ? QStringLiteral("Ω") : QStringLiteral("dB"), true,
-              QStringLiteral("Hz"), logOhm);
+    const QRectF area(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
+    drawPanel(p, area, f.k, f.frequency, y, series,
+              logOhm ? QStringLiteral("Ω") : QStringLiteral("dB"), true, QStringLiteral("Hz"),
+              logOhm);
+    // A curve with nothing to draw on a log scale (an ideal input's infinite impedance, an
+    // ideal output's zero) is said in words, or the reviewer reads an empty plot.
+    QStringList notes;
+    for (const auto &[curve, member] : curves) {
+        if (const QString text = undrawableCurveText(a.curves.*member); !text.isEmpty())
+            notes << QStringLiteral("%1: %2").arg(curveName(curve), text);
+    }
+    if (!notes.isEmpty()) {
+        p.setFont(sheetFont(kBodyPt));
+        p.setPen(kInk);
+        p.drawText(area, Qt::AlignCenter | Qt::TextWordWrap, notes.join(QLatin1Char('\n')));
+    }
     return series;
 }
 
@@ -554,14 +208,44 @@ std::vector<Series> stepPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
     return st;
 }
 
-/// "−860k" with a true minus sign.
-QString signedEngineering(double value)
+/// The poles of `poles` at a finite s.
+std::vector<ClosedLoopPole> finitePoles(const std::vector<ClosedLoopPole> &poles)
 {
-    QString text = QString::fromStdString(formatEngineering(value, 3));
-    if (text.startsWith(QLatin1Char('-')))
-        text.replace(0, 1, QStringLiteral("−"));
-    return text;
+    std::vector<ClosedLoopPole> finite;
+    for (const ClosedLoopPole &pole : poles) {
+        if (std::isfinite(pole.s.real()) && std::isfinite(pole.s.imag()))
+            finite.push_back(pole);
+    }
+    return finite;
 }
+
+/// Labels set on a plot without covering one another or what is taken: each goes to the first
+/// of its corners (top-left of the text) where it lies inside the area and over nothing taken.
+class LabelPlacer
+{
+public:
+    LabelPlacer(QPainter &p, const QFontMetricsF &fm, const QRectF &area)
+        : m_p(p), m_fm(fm), m_area(area)
+    { }
+
+    void take(const QRectF &r) { m_taken.push_back(r); }
+
+    void place(const QString &text, std::initializer_list<QPointF> corners, const QColor &colour)
+    {
+        const QSizeF size(m_fm.horizontalAdvance(text), m_fm.height());
+        if (const auto spot = firstFreeSpot(corners, size, m_area, m_taken)) {
+            m_p.setPen(colour);
+            m_p.drawText(QPointF(spot->left(), spot->top() + m_fm.ascent()), text);
+            m_taken.push_back(*spot);
+        }
+    }
+
+private:
+    QPainter &m_p;
+    const QFontMetricsF &m_fm;
+    QRectF m_area;
+    std::vector<QRectF> m_taken;
+};
 
 /// The closed-loop poles on the Poles panel's log-magnitude radial scale (support/polescale.h):
 /// one circle a decade labelled in rad/s, the jω and real axes, the design's poles as filled
@@ -569,11 +253,7 @@ QString signedEngineering(double value)
 std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
                               const std::vector<SheetOverlay> &overlays)
 {
-    std::vector<ClosedLoopPole> shown;
-    for (const ClosedLoopPole &pole : a.poles) {
-        if (std::isfinite(pole.s.real()) && std::isfinite(pole.s.imag()))
-            shown.push_back(pole);
-    }
+    const std::vector<ClosedLoopPole> shown = finitePoles(a.poles);
     const PoleScale scale = PoleScale::fit(shown);
     Series own = styled(PlotCurve::Poles);
     own.name = QStringLiteral("%1 (%2)").arg(own.name).arg(shown.size());
@@ -585,10 +265,8 @@ std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a
         s.marker = Series::Marker::Hollow;
         legend.push_back(s);
         std::vector<QPointF> points;
-        for (const ClosedLoopPole &pole : overlays[i].analysis->poles) {
-            if (std::isfinite(pole.s.real()) && std::isfinite(pole.s.imag()))
-                points.push_back(scale.map(pole.s));
-        }
+        for (const ClosedLoopPole &pole : finitePoles(overlays[i].analysis->poles))
+            points.push_back(scale.map(pole.s));
         candidatePoints.push_back(std::move(points));
     }
     // Every circle and pole inside, the right half-plane at least a third of the radius wide,
@@ -612,7 +290,7 @@ std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a
     p.setClipRect(area);
     p.setRenderHint(QPainter::Antialiasing);
     p.setFont(small);
-    std::vector<QRectF> taken;
+    LabelPlacer labels(p, fm, area);
     // Decade circles and their values on the lower jω axis.
     for (int ring = 0; ring < scale.rings; ++ring) {
         const double radius = PoleScale::ringRadius(ring) * perUnit;
@@ -626,92 +304,42 @@ std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a
     // The markers first, so no label covers one.
     for (const ClosedLoopPole &pole : shown) {
         const QPointF m = at(scale.map(pole.s));
-        taken.emplace_back(m.x() - 1.2 * k, m.y() - 1.2 * k, 2.4 * k, 2.4 * k);
+        labels.take(QRectF(m.x() - 1.2 * k, m.y() - 1.2 * k, 2.4 * k, 2.4 * k));
     }
-    const auto place
-        = [&](const QString &text, std::initializer_list<QPointF> corners, const QColor &colour) {
-              const QSizeF size(fm.horizontalAdvance(text), fm.height());
-              for (const QPointF &corner : corners) {
-                  const QRectF spot(corner, size);
-                  bool free = area.contains(spot);
-                  for (const QRectF &r : taken)
-                      free = free && !r.intersects(spot);
-                  if (free) {
-                      p.setPen(colour);
-                      p.drawText(QPointF(spot.left(), spot.top() + fm.ascent()), text);
-                      taken.push_back(spot);
-                      return;
-                  }
-              }
-          };
-    // Pole values, upper half-plane and real axis, the dominant (smallest |s|) first;
-    // coincident poles say how many they are.
-    struct Label
-    {
-        QPointF at;
-        QString text;
-        double size;
-    };
-    std::vector<Label> labels;
-    std::vector<bool> done(shown.size(), false);
-    for (std::size_t i = 0; i < shown.size(); ++i) {
-        if (done[i] || shown[i].s.imag() < 0)
-            continue;
-        int same = 0;
-        for (std::size_t j = i; j < shown.size(); ++j) {
-            if (!done[j] && std::abs(shown[j].s - shown[i].s) <= 1e-9 * std::abs(shown[i].s)) {
-                done[j] = true;
-                ++same;
-            }
-        }
-        const std::complex<double> s = shown[i].s;
-        QString text = signedEngineering(s.real());
-        if (s.imag() > 0)
-            text += QStringLiteral(" ± j") + QString::fromStdString(formatEngineering(s.imag(), 3));
-        if (same > 1)
-            text += QStringLiteral(" (×%1)").arg(same);
-        labels.push_back({at(scale.map(s)), text, std::abs(s)});
-    }
-    std::stable_sort(labels.begin(), labels.end(),
-                     [](const Label &l, const Label &r) { return l.size < r.size; });
     const QColor valueColour = palette::kVermillion.darker(140);
-    for (const Label &l : labels) {
+    for (const PoleValueLabel &l : poleValueLabels(shown)) {
+        const QPointF c = at(scale.map(shown[l.index].s));
         const double w = fm.horizontalAdvance(l.text), h = fm.height(), g = 1.4 * k;
-        place(l.text,
-              {QPointF(l.at.x() + g, l.at.y() - h - 0.2 * k),
-               QPointF(l.at.x() - g - w, l.at.y() - h - 0.2 * k),
-               QPointF(l.at.x() + g, l.at.y() + 0.2 * k),
-               QPointF(l.at.x() - g - w, l.at.y() + 0.2 * k),
-               QPointF(l.at.x() - w / 2, l.at.y() - h - g),
-               QPointF(l.at.x() - w / 2, l.at.y() + g)},
-              valueColour);
+        labels.place(l.text,
+                     {QPointF(c.x() + g, c.y() - h - 0.2 * k),
+                      QPointF(c.x() - g - w, c.y() - h - 0.2 * k),
+                      QPointF(c.x() + g, c.y() + 0.2 * k), QPointF(c.x() - g - w, c.y() + 0.2 * k),
+                      QPointF(c.x() - w / 2, c.y() - h - g), QPointF(c.x() - w / 2, c.y() + g)},
+                     valueColour);
     }
     // Axis names and circle values.
-    const QFont italic = [&] {
-        QFont font = small;
-        font.setItalic(true);
-        return font;
-    }();
+    QFont italic = small;
+    italic.setItalic(true);
     p.setFont(italic);
     const QPointF realEnd = at(QPointF(right - 0.1, 0)), jwTop = at(QPointF(0, reach));
-    place(
+    labels.place(
         QStringLiteral("Re s"),
         {QPointF(realEnd.x() - fm.horizontalAdvance(QStringLiteral("Re s")), realEnd.y() + 0.5 * k),
          QPointF(realEnd.x() - fm.horizontalAdvance(QStringLiteral("Re s")),
                  realEnd.y() - fm.height() - 0.5 * k)},
         kRule.darker(130));
-    place(QStringLiteral("jω"), {QPointF(jwTop.x() + 1 * k, jwTop.y() + 0.5 * k)},
-          kRule.darker(130));
+    labels.place(QStringLiteral("jω"), {QPointF(jwTop.x() + 1 * k, jwTop.y() + 0.5 * k)},
+                 kRule.darker(130));
     p.setFont(small);
     for (int ring = 0; ring < scale.rings; ++ring) {
         const QPointF c = at(QPointF(0, -PoleScale::ringRadius(ring)));
         const QString text
             = QString::fromStdString(formatEngineering(scale.ringValue(ring), 3, "rad/s"));
         const double w = fm.horizontalAdvance(text);
-        place(text,
-              {QPointF(c.x() + 0.8 * k, c.y() - fm.height()),
-               QPointF(c.x() - 0.8 * k - w, c.y() - fm.height())},
-              kRule.darker(150));
+        labels.place(text,
+                     {QPointF(c.x() + 0.8 * k, c.y() - fm.height()),
+                      QPointF(c.x() - 0.8 * k - w, c.y() - fm.height())},
+                     kRule.darker(150));
     }
     // Candidates' rings under the design's squares.
     for (std::size_t i = 0; i < candidatePoints.size(); ++i) {

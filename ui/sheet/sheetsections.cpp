@@ -196,6 +196,8 @@ void methodSection(SheetWriter &w, const Analysis &a)
           eng(rr.gain, gu), percent(tpv(&TwoPortSummary::gainErrorPct))}},
         {{QStringLiteral("loop gain (ratio)"), eng(tpv(&TwoPortSummary::loopGain), ""),
           QStringLiteral("—"), eng(rr.loopGain, ""), QStringLiteral("—")}},
+        {{QStringLiteral("A circuit gain a"), eng(tpv(&TwoPortSummary::a), gu), QStringLiteral("—"),
+          QStringLiteral("—"), QStringLiteral("—")}},
         {{QStringLiteral("feedback factor β"),
           a.topology ? eng(tpv(&TwoPortSummary::beta), a.topology->feedbackUnit())
                      : QStringLiteral("—"),
@@ -211,8 +213,10 @@ void methodSection(SheetWriter &w, const Analysis &a)
              {QStringLiteral("Return ratio"), 40, Qt::AlignRight},
              {QStringLiteral("Estimate error"), 30, Qt::AlignRight}},
             rows);
-    w.paragraph(QStringLiteral("Error = (two-port estimate − exact) / exact."), sheetFont(7.5), 0,
-                QColor(90, 90, 90));
+    w.paragraph(QStringLiteral("Two-port estimate: loop gain T = a·β, gain = a / (1 + a·β), the "
+                               "A circuit loaded by the feedback network. Error = (two-port "
+                               "estimate − exact) / exact."),
+                sheetFont(7.5), 0, QColor(90, 90, 90));
 }
 
 void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)

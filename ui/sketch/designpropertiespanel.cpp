@@ -1,5 +1,6 @@
 #include "sketch/designpropertiespanel.h"
 
+#include "support/errorline.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -19,6 +20,7 @@
 #include <QVBoxLayout>
 
 #include <cmath>
+#include <utility>
 
 namespace loopsketch::ui {
 
@@ -44,6 +46,22 @@ struct Row
     const char *placeholder;
 };
 
+/// Adds `row` to `form` of `panel`: its label and a line edit above a hidden error label.
+std::pair<QLineEdit *, QLabel *> addEditRow(DesignPropertiesPanel *panel, QFormLayout *form,
+                                            const Row &row)
+{
+    auto *edit = new QLineEdit(panel);
+    edit->setObjectName(QString::fromLatin1(row.key));
+    edit->setPlaceholderText(DesignPropertiesPanel::tr(row.placeholder));
+    edit->setToolTip(DesignPropertiesPanel::tr(row.tip));
+    QLabel *error = nullptr;
+    QVBoxLayout *box = withErrorLine(edit, error);
+    auto *label = new QLabel(DesignPropertiesPanel::tr(row.label), panel);
+    label->setToolTip(DesignPropertiesPanel::tr(row.tip));
+    form->addRow(label, box);
+    return {edit, error};
+}
+
 } // namespace
 
 DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *parent)
@@ -57,21 +75,7 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
     outer->addLayout(form);
 
     auto addEdit = [&](const Row &row) {
-        auto *edit = new QLineEdit(this);
-        edit->setObjectName(QString::fromLatin1(row.key));
-        edit->setPlaceholderText(tr(row.placeholder));
-        edit->setToolTip(tr(row.tip));
-        auto *error = new QLabel(this);
-        error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-        error->setWordWrap(true);
-        error->hide();
-        auto *box = new QVBoxLayout;
-        box->setSpacing(1);
-        box->addWidget(edit);
-        box->addWidget(error);
-        auto *label = new QLabel(tr(row.label), this);
-        label->setToolTip(tr(row.tip));
-        form->addRow(label, box);
+        auto [edit, error] = addEditRow(this, form, row);
         m_edits[row.key] = edit;
         m_errors[row.key] = error;
         const std::string key = row.key;
@@ -339,30 +343,9 @@ void DesignPropertiesPanel::commit(const std::string &key)
             return;
         label = tr("Spot noise frequency");
     } else if (key == "signal_level" || key == "output_noise_max") {
-        // A voltage or a current: the loader's own reading of the text.
         std::optional<Value> v;
-        if (!text.empty()) {
-            QJsonObject probe{
-                {"schema",
-                 QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
-                {"parts", QJsonArray()},
-                {"input", QString()},
-                {"output", QStringLiteral("voltage")}};
-            if (key == "signal_level")
-                probe.insert(QStringLiteral("signal_level"), raw);
-            else
-                probe.insert(QStringLiteral("specs"),
-                             QJsonObject{{QStringLiteral("output_noise_max"), raw}});
-            auto parsed
-                = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
-            if (!parsed) {
-                Diagnostic d = parsed.diagnostics().front();
-                d.field = key;
-                showError(key, toQString(d.toString()));
-                return;
-            }
-            v = key == "signal_level" ? parsed->signalLevel : parsed->specs.outputNoiseMax;
-        }
+        if (!readVoltageOrCurrent(key, raw, v))
+            return;
         if (key == "signal_level") {
             if (!v && after.specs.snrMinDb) {
                 showError(key,
@@ -390,6 +373,34 @@ void DesignPropertiesPanel::commit(const std::string &key)
     }
     showError(key, QString());
     m_document->setProperties(after, label);
+}
+
+bool DesignPropertiesPanel::readVoltageOrCurrent(const std::string &key, const QString &raw,
+                                                 std::optional<Value> &value)
+{
+    // A voltage or a current: the loader's own reading of the text.
+    value.reset();
+    if (raw.isEmpty())
+        return true;
+    QJsonObject probe{
+        {"schema", QString::fromUtf8(kDesignSchema.data(), qsizetype(kDesignSchema.size()))},
+        {"parts", QJsonArray()},
+        {"input", QString()},
+        {"output", QStringLiteral("voltage")}};
+    if (key == "signal_level")
+        probe.insert(QStringLiteral("signal_level"), raw);
+    else
+        probe.insert(QStringLiteral("specs"),
+                     QJsonObject{{QStringLiteral("output_noise_max"), raw}});
+    auto parsed = parseDesign(QJsonDocument(probe).toJson().toStdString(), DesignRules::Draft);
+    if (!parsed) {
+        Diagnostic d = parsed.diagnostics().front();
+        d.field = key;
+        showError(key, toQString(d.toString()));
+        return false;
+    }
+    value = key == "signal_level" ? parsed->signalLevel : parsed->specs.outputNoiseMax;
+    return true;
 }
 
 bool DesignPropertiesPanel::readTemperature(const QString &raw, Design &after)

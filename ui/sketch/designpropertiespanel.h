@@ -58,6 +58,10 @@ private:
     // Steps of commit() for the fields read together with another: each writes `after` and
     // returns true, or shows the error and returns false.
     bool readTemperature(const QString &raw, Design &after);
+    /// The loader's reading of a voltage or current property ("signal_level",
+    /// "output_noise_max") into `value` (empty text: none); false, the error shown, when bad.
+    bool readVoltageOrCurrent(const std::string &key, const QString &raw,
+                              std::optional<Value> &value);
     bool readNoiseBand(const std::string &key, const std::optional<Value> &end, Design &after);
     void commitNotes();
     void showError(const std::string &key, const QString &message);

@@ -1,5 +1,7 @@
 #include "sketch/inspector.h"
 
+#include "support/errorline.h"
+#include "support/partlabels.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -21,15 +23,8 @@ namespace {
 /// Adds a form row holding `editor` with a hidden error line under it; returns the line.
 QLabel *addRowWithError(QFormLayout *form, const QString &label, QWidget *editor)
 {
-    auto *error = new QLabel(editor->parentWidget());
-    error->setStyleSheet(QStringLiteral("color: #b3261e; font-size: 8pt;"));
-    error->setWordWrap(true);
-    error->hide();
-    auto *box = new QVBoxLayout;
-    box->setSpacing(1);
-    box->addWidget(editor);
-    box->addWidget(error);
-    form->addRow(label, box);
+    QLabel *error = nullptr;
+    form->addRow(label, withErrorLine(editor, error));
     return error;
 }
 
@@ -50,27 +45,6 @@ QString defaultHint(const FieldSpec &spec)
     if (spec.defaultValue == 0.0)
         return QObject::tr("0 (not given)");
     return toQString(formatValue(spec.defaultValue, spec.kind));
-}
-
-QString typeLabel(PartType type)
-{
-    switch (type) {
-    case PartType::Resistor:
-        return QObject::tr("resistor");
-    case PartType::Capacitor:
-        return QObject::tr("capacitor");
-    case PartType::Inductor:
-        return QObject::tr("inductor");
-    case PartType::VSource:
-        return QObject::tr("signal source (voltage)");
-    case PartType::ISource:
-        return QObject::tr("signal source (current)");
-    case PartType::GainBlock:
-        return QObject::tr("gain block");
-    case PartType::Load:
-        return QObject::tr("load");
-    }
-    return {};
 }
 
 /// A field in the designer's words, with its unit, and a tooltip that also names the file key.
@@ -181,7 +155,7 @@ void Inspector::showPart(const std::string &partId)
     m_header->setText(
         QStringLiteral("<b style='font-size:11pt'>%1</b> &nbsp;%2<br>"
                        "<span style='color:#5a6270'>%3</span>")
-            .arg(toQString(part->id), typeLabel(part->type), nodes.join(QStringLiteral(", "))));
+            .arg(toQString(part->id), partTypeLabel(part->type), nodes.join(QStringLiteral(", "))));
 
     m_form = new QWidget(this);
     auto *form = new QFormLayout(m_form);

@@ -1,6 +1,7 @@
 #include "sketch/partspalette.h"
 
 #include "sketch/partitem.h"
+#include "support/partlabels.h"
 #include "support/qtadapter.h"
 
 #include <QAction>
@@ -46,24 +47,22 @@ PartsPalette::PartsPalette(QWidget *parent)
     layout->addWidget(kindsTitle);
     struct Kind
     {
-        const char *label;
         const char *tip;
         int type; ///< PartType, or -1 for ground (a node, not a part)
     };
     const Kind kinds[] = {
-        {"signal source (voltage)", "pos, neg, optional r_series", int(PartType::VSource)},
-        {"signal source (current)", "current into 'to'; optional r_parallel, c_parallel",
-         int(PartType::ISource)},
-        {"gain block", "in_p, in_n, out; gain, poles, zeros, r_in, c_in, r_out",
-         int(PartType::GainBlock)},
-        {"resistor", "a, b, value", int(PartType::Resistor)},
-        {"capacitor", "a, b, value", int(PartType::Capacitor)},
-        {"inductor", "a, b, value", int(PartType::Inductor)},
-        {"load", "a, b, r, optional c", int(PartType::Load)},
-        {"ground", "wire a pin to it to connect the pin to ground", -1},
+        {"pos, neg, optional r_series", int(PartType::VSource)},
+        {"current into 'to'; optional r_parallel, c_parallel", int(PartType::ISource)},
+        {"in_p, in_n, out; gain, poles, zeros, r_in, c_in, r_out", int(PartType::GainBlock)},
+        {"a, b, value", int(PartType::Resistor)},
+        {"a, b, value", int(PartType::Capacitor)},
+        {"a, b, value", int(PartType::Inductor)},
+        {"a, b, r, optional c", int(PartType::Load)},
+        {"wire a pin to it to connect the pin to ground", -1},
     };
     for (const Kind &k : kinds) {
-        auto *item = new QListWidgetItem(tr(k.label), m_kinds);
+        const QString label = k.type < 0 ? tr("ground") : partTypeLabel(PartType(k.type));
+        auto *item = new QListWidgetItem(label, m_kinds);
         item->setData(Qt::UserRole, k.type);
         item->setToolTip(
             tr("Drag onto the Sketch, or double-click to place at its centre. "

@@ -2,9 +2,12 @@
 
 #include "support/qtadapter.h"
 
+#include "loopsketch/base/lookup.h"
 #include "loopsketch/report/noisenames.h"
 
 #include <QStringList>
+#include <algorithm>
+#include <cmath>
 
 #include <array>
 #include <iterator>
@@ -60,11 +63,8 @@ const std::array<CurveStyle, 15> &curves()
 
 const CurveStyle &curveStyle(PlotCurve curve)
 {
-    for (const CurveStyle &s : curves()) {
-        if (s.curve == curve)
-            return s;
-    }
-    return curves().front();
+    const CurveStyle *style = findRow(curves(), &CurveStyle::curve, curve);
+    return style ? *style : curves().front();
 }
 
 QString curveName(PlotCurve curve)
@@ -123,6 +123,20 @@ Qt::PenStyle overlayStyle(int index)
     static const Qt::PenStyle styles[]
         = {Qt::DotLine, Qt::DashDotLine, Qt::DashDotDotLine, Qt::DashLine};
     return styles[std::size_t(index) % std::size(styles)];
+}
+
+QString undrawableCurveText(const std::vector<Complex> &curve)
+{
+    const auto drawable = [](Complex z) {
+        return std::isfinite(std::abs(z)) && std::abs(z) > 0;
+    };
+    if (curve.empty() || std::any_of(curve.begin(), curve.end(), drawable))
+        return {};
+    if (std::all_of(curve.begin(), curve.end(), [](Complex z) { return std::abs(z) == 0.0; }))
+        return QStringLiteral("zero at every frequency");
+    if (std::all_of(curve.begin(), curve.end(), [](Complex z) { return std::isinf(std::abs(z)); }))
+        return QStringLiteral("infinite at every frequency");
+    return QStringLiteral("no finite value to draw");
 }
 
 } // namespace loopsketch::ui

@@ -61,6 +61,11 @@ struct CurveStyle
 const CurveStyle &curveStyle(PlotCurve curve);
 /// Legend name of `curve` (curveStyle(curve).name).
 QString curveName(PlotCurve curve);
+
+/// What a curve of magnitudes with nothing to draw on a log scale is, in words: "zero at
+/// every frequency" (an ideal output's impedance), "infinite at every frequency", "no finite
+/// value to draw"; empty when some point can be drawn. Panel and sheet say it alike.
+QString undrawableCurveText(const std::vector<Complex> &curve);
 /// The unit of `curve`'s values for this analysis: "1" for a pure ratio, "V/A", "Ω",
 /// "V/√Hz" ...
 QString curveUnitText(PlotCurve curve, const Analysis &analysis);

@@ -1,5 +1,9 @@
 #include "support/polescale.h"
 
+#include "support/qtadapter.h"
+
+#include "loopsketch/base/value.h"
+
 #include <algorithm>
 #include <cmath>
 
@@ -41,6 +45,47 @@ QPointF PoleScale::map(std::complex<double> s) const
 double PoleScale::ringValue(int k) const
 {
     return r0 * std::pow(10.0, double(k));
+}
+
+namespace {
+
+/// "−860k" with a true minus sign.
+QString signedEngineering(double value)
+{
+    QString text = toQString(formatEngineering(value, 3));
+    if (text.startsWith(QLatin1Char('-')))
+        text.replace(0, 1, QStringLiteral("−"));
+    return text;
+}
+
+} // namespace
+
+std::vector<PoleValueLabel> poleValueLabels(const std::vector<ClosedLoopPole> &poles)
+{
+    std::vector<PoleValueLabel> labels;
+    std::vector<bool> done(poles.size(), false);
+    for (std::size_t i = 0; i < poles.size(); ++i) {
+        if (done[i] || poles[i].s.imag() < 0)
+            continue;
+        int same = 0;
+        for (std::size_t j = i; j < poles.size(); ++j) {
+            if (!done[j] && std::abs(poles[j].s - poles[i].s) <= 1e-9 * std::abs(poles[i].s)) {
+                done[j] = true;
+                ++same;
+            }
+        }
+        const std::complex<double> s = poles[i].s;
+        QString text = signedEngineering(s.real());
+        if (s.imag() > 0)
+            text += QStringLiteral(" ± j") + toQString(formatEngineering(s.imag(), 3));
+        if (same > 1)
+            text += QStringLiteral(" (×%1)").arg(same);
+        labels.push_back({i, text, std::abs(s)});
+    }
+    std::stable_sort(
+        labels.begin(), labels.end(),
+        [](const PoleValueLabel &l, const PoleValueLabel &r) { return l.size < r.size; });
+    return labels;
 }
 
 } // namespace loopsketch::ui

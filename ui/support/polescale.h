@@ -8,8 +8,10 @@
 #include "loopsketch/analysis/analysis.h"
 
 #include <QPointF>
+#include <QString>
 
 #include <complex>
+#include <cstddef>
 #include <vector>
 
 namespace loopsketch::ui {
@@ -30,5 +32,19 @@ struct PoleScale
     static double ringRadius(int k) { return kInnerRadius + double(k); }
     double ringValue(int k) const;
 };
+
+/// The value written beside a pole or conjugate pair: `index` into the poles it was made from,
+/// the text ("−860k ± j1.2M", "(×2)" for coincident poles) and |s| (rad/s).
+struct PoleValueLabel
+{
+    std::size_t index;
+    QString text;
+    double size;
+};
+
+/// One label per pole or conjugate pair of `poles` (upper half-plane and real axis),
+/// coincident poles counted once with how many they are, the dominant (smallest |s|) first:
+/// where labels collide, theirs stays. The Poles panel and the review sheet write the same.
+std::vector<PoleValueLabel> poleValueLabels(const std::vector<ClosedLoopPole> &poles);
 
 } // namespace loopsketch::ui

@@ -35,10 +35,12 @@ const char *kGeometryKey = "window/geometry";
 /// The version of the saved dock arrangement: a state saved by an older arrangement (other
 /// docks, other places) is not restored; the default one is laid out instead.
 constexpr int kLayoutVersion = 2;
-/// Below this window width the plots share two tab groups beside the Sketch (compact
-/// arrangement), so the Sketch keeps half the width; at and above it they sit right and
-/// below it side by side.
+/// Below this window width or height the plots share two tab groups beside the Sketch
+/// (compact arrangement), so the Sketch keeps half the width; at and above both they sit right
+/// and below it side by side. The side-by-side arrangement needs about 1,000 pixels of height
+/// (two plots right, three below), more than a 1440 x 900 screen has.
 constexpr int kCompactWidth = 1400;
+constexpr int kCompactHeight = 1000;
 constexpr int kLeftDockWidth = 230;
 
 /// `content` in a frameless scroll area: a panel whose fields outgrow the dock scrolls rather
@@ -68,7 +70,7 @@ void MainWindow::restoreLayout()
     }
     m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
     if (!m_sizedDocks)
-        arrangeDocks(width() < kCompactWidth);
+        arrangeDocks(wantsCompactLayout());
 }
 
 void MainWindow::saveLayout()
@@ -173,7 +175,7 @@ void MainWindow::createDocks()
 
 void MainWindow::resetLayout()
 {
-    const bool compact = width() < kCompactWidth;
+    const bool compact = wantsCompactLayout();
     arrangeDocks(compact);
     // Sizes take once the layout has placed the docks, and the Sketch fits its new size
     // once they took.
@@ -193,6 +195,16 @@ void MainWindow::resetLayout()
             m_view->fitDesign();
         });
     });
+}
+
+bool MainWindow::wantsCompactLayout() const
+{
+    // The screen's height, not the window's (a first window is smaller than its screen); the
+    // offscreen platform of the tests has a nominal screen, so there only the width counts.
+    const bool realScreen
+        = QGuiApplication::platformName() != QStringLiteral("offscreen") && screen();
+    return width() < kCompactWidth
+        || (realScreen && screen()->availableGeometry().height() < kCompactHeight);
 }
 
 bool MainWindow::isCompactLayout() const

@@ -18,6 +18,7 @@
 #include <limits>
 #include <numbers>
 #include <set>
+#include <span>
 
 namespace loopsketch {
 
@@ -186,6 +187,39 @@ LoopPoint summariseDc(const LoopModel &model, Analysis &a)
     return dc;
 }
 
+/// s = j 2 pi f (rad/s) for each of `hz` (Hz).
+std::vector<Complex> pointsAt(const std::vector<double> &hz)
+{
+    std::vector<Complex> s(hz.size());
+    for (std::size_t i = 0; i < hz.size(); ++i)
+        s[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
+    return s;
+}
+
+/// The noise analysis of `design` over the sweep (`points` its s = j 2 pi f) into `a`, or why
+/// there is none; the band figures only for a stable loop.
+void addNoise(const Design &design, NoiseOptions options, std::span<const Complex> points,
+              Analysis &a)
+{
+    if (!options.closedLoopBandwidthHz)
+        options.closedLoopBandwidthHz = a.bandwidthHz;
+    auto model = detail::NoiseModel::build(design);
+    auto noise = model ? detail::analyzeNoiseOver(*model, design, options, a.frequenciesHz, points)
+                       : Result<NoiseAnalysis>(model.diagnostics());
+    if (!noise) {
+        a.noiseProblem = noise.diagnostics().front().message;
+        return;
+    }
+    a.noise = std::move(noise).value();
+    if (!a.stable) { // the densities exist; a noise power over a band does not
+        a.noise->outputRms.reset();
+        a.noise->inputRms.reset();
+        for (NoiseContribution &contribution : a.noise->contributions)
+            contribution.rms.reset();
+    }
+    detail::addNoiseFigures(*model, design, *a.noise, a.stable);
+}
+
 } // namespace
 
 Result<Analysis> analyze(const Design &design, std::string_view file,
@@ -217,10 +251,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     const LoopPoint dc = summariseDc(model, a);
 
     LoopCurves &c = a.curves;
-    const std::size_t n = a.frequenciesHz.size();
-    std::vector<Complex> points(n);
-    for (std::size_t i = 0; i < n; ++i)
-        points[i] = {0.0, 2.0 * std::numbers::pi * a.frequenciesHz[i]};
+    const std::vector<Complex> points = pointsAt(a.frequenciesHz);
     c = model.sweep(points);
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
@@ -250,12 +281,6 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     std::vector<Complex> loopPoles = model.loopGainPoles();
     loopPoles.insert(loopPoles.end(), closedLoopPoles.begin(), closedLoopPoles.end());
     const BeyondSweep beyond = frequenciesBeyondSweep(a.frequenciesHz, loopPoles);
-    const auto pointsAt = [](const std::vector<double> &hz) {
-        std::vector<Complex> s(hz.size());
-        for (std::size_t i = 0; i < hz.size(); ++i)
-            s[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
-        return s;
-    };
     const std::vector<Complex> below = pointsAt(beyond.below), above = pointsAt(beyond.above);
     {
         std::vector<double> f = beyond.below;
@@ -288,22 +313,8 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = detail::gainSensitivity(design, *a.exact.gain, options.solver);
-    if (options.noise) {
-        NoiseOptions noiseOptions = options.noiseOptions;
-        if (!noiseOptions.closedLoopBandwidthHz)
-            noiseOptions.closedLoopBandwidthHz = a.bandwidthHz;
-        if (auto noise = detail::analyzeNoiseOver(design, noiseOptions, a.frequenciesHz, points)) {
-            a.noise = std::move(noise).value();
-            if (!a.stable) { // the densities exist; a noise power over a band does not
-                a.noise->outputRms.reset();
-                a.noise->inputRms.reset();
-                for (NoiseContribution &contribution : a.noise->contributions)
-                    contribution.rms.reset();
-            }
-            detail::addNoiseFigures(design, *a.noise, a.stable);
-        } else
-            a.noiseProblem = noise.diagnostics().front().message;
-    }
+    if (options.noise)
+        addNoise(design, options.noiseOptions, points, a);
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;

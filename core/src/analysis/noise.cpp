@@ -316,22 +316,22 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
     std::vector<std::complex<double>> points(hz.size());
     for (std::size_t i = 0; i < hz.size(); ++i)
         points[i] = {0.0, 2.0 * std::numbers::pi * hz[i]};
-    auto noise = detail::analyzeNoiseOver(design, options, hz, points);
+    auto model = detail::NoiseModel::build(design);
+    if (!model)
+        return model.diagnostics();
+    auto noise = detail::analyzeNoiseOver(*model, design, options, hz, points);
     if (!noise)
         return noise;
     NoiseAnalysis result = std::move(noise).value();
-    detail::addNoiseFigures(design, result);
+    detail::addNoiseFigures(*model, design, result);
     return result;
 }
 
-Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const NoiseOptions &options,
+Result<NoiseAnalysis> detail::analyzeNoiseOver(const NoiseModel &model, const Design &design,
+                                               const NoiseOptions &options,
                                                const std::vector<double> &frequenciesHz,
                                                std::span<const std::complex<double>> points)
 {
-    auto built = NoiseModel::build(design);
-    if (!built)
-        return built.diagnostics();
-    const NoiseModel &model = *built;
     const std::vector<double> &hz = frequenciesHz;
     if (hz.size() < 2)
         return Diagnostic{{}, {}, "sweep", "noise: the sweep needs at least two frequencies"};
@@ -346,13 +346,7 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const Design &design, const Noise
 
     // The densities of every source on the model, for the band integrals.
     const std::size_t sources = model.sources().size();
-    const DensityColumns perSource = [&](std::span<const double> f, std::vector<double> &values) {
-        NoiseSamples s = model.evaluate(f);
-        if (!s.ok)
-            return false;
-        values = std::move(s.psd);
-        return true;
-    };
+    const DensityColumns perSource = model.densityColumns();
     Result<BandIntegral> band = [&]() -> Result<BandIntegral> {
         if (options.bandLowHz || options.bandHighHz)
             return integrateGivenBand(perSource, sources, options.bandLowHz.value_or(hz.front()),

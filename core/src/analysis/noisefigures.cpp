@@ -64,12 +64,8 @@ void addSignalFigures(const Design &design, NoiseAnalysis &n)
         n.snrDb = signalToNoiseDb(*n.signalLevel, *n.inputRms);
 }
 
-void addNoiseFigures(const Design &design, NoiseAnalysis &n, bool stable)
+void addNoiseFigures(const NoiseModel &model, const Design &design, NoiseAnalysis &n, bool stable)
 {
-    auto built = NoiseModel::build(design);
-    if (!built)
-        return;
-    const NoiseModel &model = *built;
     const std::size_t sources = model.sources().size();
     const auto total = [&](const NoiseSamples &s, std::size_t i, std::size_t count) {
         double sum = 0;
@@ -114,13 +110,7 @@ void addNoiseFigures(const Design &design, NoiseAnalysis &n, bool stable)
     n.cumulativeRms = cumulative(n.frequenciesHz, n.outputDensity);
 
     // 0.1 Hz to 10 Hz.
-    const DensityColumns perSource = [&](std::span<const double> f, std::vector<double> &values) {
-        NoiseSamples s = model.evaluate(f);
-        if (!s.ok)
-            return false;
-        values = std::move(s.psd);
-        return true;
-    };
+    const DensityColumns perSource = model.densityColumns();
     LowFrequencyNoise low;
     const BandIntegral lf = integrateBand(perSource, sources, low.lowHz, low.highHz, 1e-6, 2.0);
     if (lf.ok && std::isfinite(lf.total)) {

@@ -145,6 +145,17 @@ NoiseSamples NoiseModel::evaluate(std::span<const double> hz) const
     return evaluate(hz, points);
 }
 
+DensityColumns NoiseModel::densityColumns() const
+{
+    return [this](std::span<const double> f, std::vector<double> &values) {
+        NoiseSamples s = evaluate(f);
+        if (!s.ok)
+            return false;
+        values = std::move(s.psd);
+        return true;
+    };
+}
+
 NoiseSamples NoiseModel::evaluate(std::span<const double> hz,
                                   std::span<const std::complex<double>> points) const
 {

@@ -5,6 +5,7 @@
 // reduced once and evaluated at any frequencies (the sweep's, and those the band integral
 // asks for beyond it).
 
+#include "detail/bandintegral.h"
 #include "loopsketch/analysis/noise.h"
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
@@ -43,6 +44,10 @@ public:
                           std::span<const std::complex<double>> points) const;
     /// The same, computing the points.
     NoiseSamples evaluate(std::span<const double> hz) const;
+    /// The output power density of every source as band-integral columns (source-major, as
+    /// NoiseSamples::psd, V^2/Hz or A^2/Hz); false where the circuit has no solution. The
+    /// model must outlive the function.
+    DensityColumns densityColumns() const;
 
     /// The circuit's natural frequencies, rad/s (those of the loop: en is a zero source).
     std::vector<std::complex<double>> naturalFrequencies() const

@@ -3,6 +3,7 @@
 // The noise analysis over a frequency grid its caller already holds: analyze() computes the
 // design's sweep and its points s = j 2 pi f once for the loop model and passes them here.
 
+#include "analysis/noisemodel.h"
 #include "loopsketch/analysis/noise.h"
 
 #include <complex>
@@ -11,9 +12,10 @@
 
 namespace loopsketch::detail {
 
-/// analyzeNoise() over `frequenciesHz` (the design's sweep, Hz) with `points` the matching
-/// s = j 2 pi f, rad/s.
-Result<NoiseAnalysis> analyzeNoiseOver(const Design &design, const NoiseOptions &options,
+/// analyzeNoise() on `model` (built from `design`) over `frequenciesHz` (the design's sweep,
+/// Hz) with `points` the matching s = j 2 pi f, rad/s.
+Result<NoiseAnalysis> analyzeNoiseOver(const NoiseModel &model, const Design &design,
+                                       const NoiseOptions &options,
                                        const std::vector<double> &frequenciesHz,
                                        std::span<const std::complex<double>> points);
 

@@ -115,18 +115,25 @@ bool valuesBefore(const Suggestion &a, const Suggestion &b)
     return false;
 }
 
-/// The nominal order of the shortlist: specs met at nominal, objective, decades, values.
-bool nominallyBefore(const Suggestion &a, const Suggestion &b, const Specs &specs)
+/// The tail of both orders: objective, then decades from the current values (each compared
+/// up to round-off), then the values themselves.
+bool objectiveThenValuesBefore(const Suggestion &a, const Suggestion &b)
 {
-    const int ma = a.specs.met(specs), mb = b.specs.met(specs);
-    if (ma != mb)
-        return ma > mb;
     if (roughlyLess(a.objective, b.objective) || roughlyLess(b.objective, a.objective))
         return a.objective < b.objective;
     if (roughlyLess(a.decadesFromCurrent, b.decadesFromCurrent)
         || roughlyLess(b.decadesFromCurrent, a.decadesFromCurrent))
         return a.decadesFromCurrent < b.decadesFromCurrent;
     return valuesBefore(a, b);
+}
+
+/// The nominal order of the shortlist: specs met at nominal, objective, decades, values.
+bool nominallyBefore(const Suggestion &a, const Suggestion &b, const Specs &specs)
+{
+    const int ma = a.specs.met(specs), mb = b.specs.met(specs);
+    if (ma != mb)
+        return ma > mb;
+    return objectiveThenValuesBefore(a, b);
 }
 
 std::string unmetText(const Specs &specs, bool gain, bool bandwidth, bool margin)
@@ -292,12 +299,7 @@ bool ranksBefore(const Suggestion &a, const Suggestion &b)
         return a.specsMetWorstCase > b.specsMetWorstCase;
     if (a.yield != b.yield)
         return a.yield > b.yield;
-    if (roughlyLess(a.objective, b.objective) || roughlyLess(b.objective, a.objective))
-        return a.objective < b.objective;
-    if (roughlyLess(a.decadesFromCurrent, b.decadesFromCurrent)
-        || roughlyLess(b.decadesFromCurrent, a.decadesFromCurrent))
-        return a.decadesFromCurrent < b.decadesFromCurrent;
-    return valuesBefore(a, b);
+    return objectiveThenValuesBefore(a, b);
 }
 
 Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &o,

@@ -129,7 +129,9 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
         const std::complex<double> points[] = {jw(ends[0]), jw(ends[1])};
         NoiseOptions options;
         options.closedLoopBandwidthHz = 0.0;
-        auto noise = detail::analyzeNoiseOver(design, options, ends, points);
+        auto model = detail::NoiseModel::build(design);
+        auto noise = model ? detail::analyzeNoiseOver(*model, design, options, ends, points)
+                           : Result<NoiseAnalysis>(model.diagnostics());
         if (noise) {
             NoiseAnalysis n = std::move(noise).value();
             detail::addSignalFigures(design, n);
@@ -278,37 +280,41 @@ std::vector<SpecVerdict> specVerdicts(const Specs &specs, const Sweep &sweep, co
                               : "no -3 dB point inside the sweep, which ends below the minimum";
         out.push_back(std::move(v));
     }
-    if (specs.phaseMarginMinDeg) {
-        SpecVerdict v = verdict("phase_margin_min_deg", "phase margin", "\u00B0");
-        v.low = *specs.phaseMarginMinDeg;
-        v.value = m.phaseMarginDeg;
-        v.pass = check.phaseMargin;
-        if (!m.phaseMarginDeg)
-            v.reason = "no loop crossover";
+    // The specs with one bound: name, label, unit, the bound (a minimum or a maximum), the
+    // design's value, the check's verdict and why a missing value fails.
+    struct OneBound
+    {
+        const char *name;
+        const char *label;
+        std::string unit;
+        std::optional<double> limit;
+        bool isMinimum;
+        OptionalNumber value;
+        bool pass;
+        const char *missing;
+    };
+    const auto si = [](const std::optional<Value> &v) {
+        return v ? std::optional<double>(v->si) : std::nullopt;
+    };
+    const OneBound oneBound[] = {
+        {"phase_margin_min_deg", "phase margin", "\u00B0", specs.phaseMarginMinDeg, true,
+         m.phaseMarginDeg, check.phaseMargin, "no loop crossover"},
+        {"output_noise_max", "output noise", outputUnit(gainUnit), si(specs.outputNoiseMax), false,
+         m.outputNoiseRms, check.outputNoise, "no output noise rms"},
+        {"snr_min_db", "SNR", "dB", specs.snrMinDb, true, m.snrDb, check.snr,
+         "no SNR (no signal_level or no input-referred noise)"},
+    };
+    for (const OneBound &spec : oneBound) {
+        if (!spec.limit)
+            continue;
+        SpecVerdict v = verdict(spec.name, spec.label, spec.unit);
+        (spec.isMinimum ? v.low : v.high) = *spec.limit;
+        v.value = spec.value;
+        v.pass = spec.pass;
+        if (!spec.value)
+            v.reason = spec.missing;
         else if (!v.pass)
-            v.reason = "below the minimum";
-        out.push_back(std::move(v));
-    }
-    if (specs.outputNoiseMax) {
-        SpecVerdict v = verdict("output_noise_max", "output noise", outputUnit(gainUnit));
-        v.high = specs.outputNoiseMax->si;
-        v.value = m.outputNoiseRms;
-        v.pass = check.outputNoise;
-        if (!m.outputNoiseRms)
-            v.reason = "no output noise rms";
-        else if (!v.pass)
-            v.reason = "above the maximum";
-        out.push_back(std::move(v));
-    }
-    if (specs.snrMinDb) {
-        SpecVerdict v = verdict("snr_min_db", "SNR", "dB");
-        v.low = *specs.snrMinDb;
-        v.value = m.snrDb;
-        v.pass = check.snr;
-        if (!m.snrDb)
-            v.reason = "no SNR (no signal_level or no input-referred noise)";
-        else if (!v.pass)
-            v.reason = "below the minimum";
+            v.reason = spec.isMinimum ? "below the minimum" : "above the maximum";
         out.push_back(std::move(v));
     }
     if (!check.stable) {

@@ -1,5 +1,7 @@
 #include "loopsketch/base/eseries.h"
 
+#include "loopsketch/base/lookup.h"
+
 #include <array>
 #include <cmath>
 #include <cstdint>
@@ -43,6 +45,31 @@ constexpr std::array<double, 192> kE192{
 
 constexpr std::array<ESeries, 7> kAllSeries{ESeries::E3,  ESeries::E6,  ESeries::E12, ESeries::E24,
                                             ESeries::E48, ESeries::E96, ESeries::E192};
+
+/// What each series is: its table and the tolerance its parts conventionally have.
+struct SeriesFacts
+{
+    ESeries series;
+    std::span<const double> mantissas;
+    double tolerance; ///< fraction
+};
+
+// E3: 40 % as in the eseries library; zh-Wikipedia only says "more than 20 %".
+constexpr std::array<SeriesFacts, 7> kFacts{{{ESeries::E3, kE3, 0.40},
+                                             {ESeries::E6, kE6, 0.20},
+                                             {ESeries::E12, kE12, 0.10},
+                                             {ESeries::E24, kE24, 0.05},
+                                             {ESeries::E48, kE48, 0.02},
+                                             {ESeries::E96, kE96, 0.01},
+                                             {ESeries::E192, kE192, 0.005}}};
+
+/// The facts of `series`; none (an empty table, tolerance 0) for a value outside the enum.
+const SeriesFacts &facts(ESeries series)
+{
+    static constexpr SeriesFacts kNone{ESeries::E3, {}, 0.0};
+    const SeriesFacts *found = findRow(kFacts, &SeriesFacts::series, series);
+    return found ? *found : kNone;
+}
 
 // Membership and range ends: a value within this relative distance of a series value is
 // that value (4.7 * 1000 is 4700.000000000001).
@@ -158,66 +185,17 @@ std::optional<ESeries> parseESeries(std::string_view text)
 
 int valuesPerDecade(ESeries series)
 {
-    switch (series) {
-    case ESeries::E3:
-        return 3;
-    case ESeries::E6:
-        return 6;
-    case ESeries::E12:
-        return 12;
-    case ESeries::E24:
-        return 24;
-    case ESeries::E48:
-        return 48;
-    case ESeries::E96:
-        return 96;
-    case ESeries::E192:
-        return 192;
-    }
-    return 0;
+    return static_cast<int>(facts(series).mantissas.size());
 }
 
 std::span<const double> mantissas(ESeries series)
 {
-    switch (series) {
-    case ESeries::E3:
-        return kE3;
-    case ESeries::E6:
-        return kE6;
-    case ESeries::E12:
-        return kE12;
-    case ESeries::E24:
-        return kE24;
-    case ESeries::E48:
-        return kE48;
-    case ESeries::E96:
-        return kE96;
-    case ESeries::E192:
-        return kE192;
-    }
-    return {};
+    return facts(series).mantissas;
 }
 
 double conventionalTolerance(ESeries series)
 {
-    // E3: 40 % as in the eseries library; zh-Wikipedia only says "more than 20 %".
-    switch (series) {
-    case ESeries::E3:
-        return 0.40;
-    case ESeries::E6:
-        return 0.20;
-    case ESeries::E12:
-        return 0.10;
-    case ESeries::E24:
-        return 0.05;
-    case ESeries::E48:
-        return 0.02;
-    case ESeries::E96:
-        return 0.01;
-    case ESeries::E192:
-        return 0.005;
-    }
-    return 0.0;
+    return facts(series).tolerance;
 }
 
 double nearestValue(ESeries series, double value)

@@ -1,5 +1,7 @@
 #include "loopsketch/base/value.h"
 
+#include "loopsketch/base/lookup.h"
+
 #include <algorithm>
 #include <array>
 #include <charconv>
@@ -429,25 +431,16 @@ Result<double> parseValue(std::string_view text, ValueKind kind, ValueRange rang
 
 std::string unitSymbol(ValueKind kind)
 {
-    switch (kind) {
-    case ValueKind::Resistance:
-        return std::string(kOmega);
-    case ValueKind::Capacitance:
-        return "F";
-    case ValueKind::Inductance:
-        return "H";
-    case ValueKind::Frequency:
-        return "Hz";
-    case ValueKind::Gain:
-        return "V/V";
-    case ValueKind::Tolerance:
-        return "%";
-    case ValueKind::Current:
-        return "A";
-    case ValueKind::Plain:
-        return "";
-    }
-    return "";
+    static constexpr std::array<EnumName<ValueKind, std::string_view>, 8> kSymbols{
+        {{ValueKind::Resistance, kOmega},
+         {ValueKind::Capacitance, "F"},
+         {ValueKind::Inductance, "H"},
+         {ValueKind::Frequency, "Hz"},
+         {ValueKind::Gain, "V/V"},
+         {ValueKind::Tolerance, "%"},
+         {ValueKind::Current, "A"},
+         {ValueKind::Plain, ""}}};
+    return std::string(nameOf(kSymbols, kind, std::string_view()));
 }
 
 std::string nonFiniteText(double value)

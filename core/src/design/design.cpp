@@ -1,5 +1,7 @@
 #include "loopsketch/design/design.h"
 
+#include "loopsketch/base/lookup.h"
+
 #include <algorithm>
 #include <array>
 #include <cassert>
@@ -106,10 +108,8 @@ const std::array<PartSpec, 7> &specTable()
 
 const PartSpec &partSpec(PartType type)
 {
-    for (const PartSpec &spec : specTable()) {
-        if (spec.type == type)
-            return spec;
-    }
+    if (const PartSpec *spec = findRow(specTable(), &PartSpec::type, type))
+        return *spec;
     assert(false && "every PartType has a spec");
     return specTable().front();
 }

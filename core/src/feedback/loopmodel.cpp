@@ -374,6 +374,38 @@ Curve blackman(const ReducedSystem &r, std::span<const Complex> s, int portVolta
     return z;
 }
 
+/// The signal source as the gain-block input it drives sees it.
+struct SourceAtInput
+{
+    Complex ys; ///< admittance with the source zeroed, S
+    Complex zs; ///< 1 / ys under series mixing (0 otherwise), ohms
+    Complex drive; ///< the open-circuit voltage (series mixing) or the short-circuit current
+};
+
+/// The source (1 V behind `rSeries`, or 1 A beside `ySrc`) through the source-side two-port
+/// `h`: V_S = h11 I_S + h12 V_P, I_P = h21 I_S + h22 V_P (currents into it).
+SourceAtInput sourceAtInput(const TwoPortMatrix &h, bool voltageSource, double rSeries,
+                            Complex ySrc, bool seriesMix)
+{
+    const Complex h11 = h(0, 0), h12 = h(0, 1), h21 = h(1, 0), h22 = h(1, 1);
+    // Source equation  u11 I_S + u12 V_S = 1.
+    const Complex u11 = voltageSource ? Complex(rSeries) : Complex(1.0);
+    const Complex u12 = voltageSource ? Complex(1.0) : ySrc;
+    // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
+    const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
+    const Complex invC1 = 1.0 / c1;
+    const Complex iShort = -h21 * invC1; // Norton current into the input
+    SourceAtInput source;
+    source.ys = h22 - h21 * c2 * invC1;
+    // Only series mixing reads the source as an impedance.
+    // 1 / ys over one quotient: 0 for an ideal voltage source right at the input (c1 = 0),
+    // where ys itself is infinite.
+    source.zs = seriesMix ? c1 / (c1 * h22 - c2 * h21) : Complex(0.0);
+    // Series mixing drives with the open-circuit voltage V_P, shunt with the current.
+    source.drive = seriesMix ? -h21 / (c1 * h22 - c2 * h21) : iShort;
+    return source;
+}
+
 } // namespace
 
 void LoopModel::checkAccuracy(const Design &design)
@@ -558,21 +590,9 @@ void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
         // two-port h: V_S = h11 I_S + h12 V_P, I_P = h21 I_S + h22 V_P (currents into it).
         const TwoPortMatrix &h = sourceSide[i];
         const Complex h11 = h(0, 0), h12 = h(0, 1), h21 = h(1, 0), h22 = h(1, 1);
-        const Complex ySrc = x.gParallel + s[i] * x.cParallel;
-        // Source equation  u11 I_S + u12 V_S = 1  (1 V behind r_series, or 1 A beside ySrc).
-        const Complex u11 = x.voltageSource ? Complex(x.rSeries) : Complex(1.0);
-        const Complex u12 = x.voltageSource ? Complex(1.0) : ySrc;
-        // With V_S = h11 I_S + h12 V_P:  (u11 + u12 h11) I_S + u12 h12 V_P = 1.
-        const Complex c1 = u11 + u12 * h11, c2 = u12 * h12;
-        const Complex invC1 = 1.0 / c1;
-        const Complex iShort = -h21 * invC1; // Norton current into the input
-        const Complex ys = h22 - h21 * c2 * invC1; // admittance with the source zeroed
-        // Only series mixing reads the source as an impedance.
-        // 1 / ys over one quotient: 0 for an ideal voltage source right at the input (c1 = 0),
-        // where ys itself is infinite.
-        const Complex zs = seriesMix ? c1 / (c1 * h22 - c2 * h21) : Complex(0.0);
-        // Series mixing drives with the open-circuit voltage V_P, shunt with the current.
-        const Complex kSrc = seriesMix ? -h21 / (c1 * h22 - c2 * h21) : iShort;
+        const SourceAtInput source = sourceAtInput(h, x.voltageSource, x.rSeries,
+                                                   x.gParallel + s[i] * x.cParallel, seriesMix);
+        const Complex ys = source.ys, zs = source.zs, kSrc = source.drive;
 
         const Complex sampled = x.sampledSign * aEntry(0, i);
         c.a[i] = sampled / kSrc;

@@ -1,5 +1,9 @@
 #include "loopsketch/feedback/topology.h"
 
+#include "loopsketch/base/lookup.h"
+
+#include <array>
+
 #include <algorithm>
 #include <set>
 
@@ -19,17 +23,11 @@ std::string toString(Connection c)
 
 std::string toString(ParameterSet p)
 {
-    switch (p) {
-    case ParameterSet::H:
-        return "h";
-    case ParameterSet::Y:
-        return "y";
-    case ParameterSet::Z:
-        return "z";
-    case ParameterSet::G:
-        return "g";
-    }
-    return {};
+    static constexpr std::array<EnumName<ParameterSet>, 4> kNames{{{ParameterSet::H, "h"},
+                                                                   {ParameterSet::Y, "y"},
+                                                                   {ParameterSet::Z, "z"},
+                                                                   {ParameterSet::G, "g"}}};
+    return nameOf(kNames, p, "");
 }
 
 std::string Topology::name() const

@@ -2,6 +2,7 @@
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/report/noisenames.h"
 
+#include "loopsketch/base/lookup.h"
 #include "loopsketch/base/value.h"
 
 #include "base/jsonnumber.h"
@@ -67,30 +68,21 @@ Json twoPortJson(const Analysis &a)
 
 const char *noiseKindName(NoiseSourceKind kind)
 {
-    switch (kind) {
-    case NoiseSourceKind::Resistor:
-        return "resistor";
-    case NoiseSourceKind::VoltageNoise:
-        return "voltage_noise";
-    case NoiseSourceKind::CurrentNoise:
-        return "current_noise";
-    case NoiseSourceKind::Shot:
-        return "shot";
-    }
-    return "";
+    static constexpr std::array<EnumName<NoiseSourceKind>, 4> kNames{
+        {{NoiseSourceKind::Resistor, "resistor"},
+         {NoiseSourceKind::VoltageNoise, "voltage_noise"},
+         {NoiseSourceKind::CurrentNoise, "current_noise"},
+         {NoiseSourceKind::Shot, "shot"}}};
+    return nameOf(kNames, kind, "");
 }
 
 const char *noiseBandKindName(NoiseBandKind kind)
 {
-    switch (kind) {
-    case NoiseBandKind::Given:
-        return "noise_band";
-    case NoiseBandKind::Converged:
-        return "converged";
-    case NoiseBandKind::SweepStop:
-        return "sweep_stop";
-    }
-    return "";
+    static constexpr std::array<EnumName<NoiseBandKind>, 3> kNames{
+        {{NoiseBandKind::Given, "noise_band"},
+         {NoiseBandKind::Converged, "converged"},
+         {NoiseBandKind::SweepStop, "sweep_stop"}}};
+    return nameOf(kNames, kind, "");
 }
 
 constexpr const char *kBrickWallMethod

@@ -332,59 +332,45 @@ std::vector<ComparisonRow> layOutRows(const Design &d)
     const Specs &s = d.specs;
     const bool gainSpec = s.gainMin || s.gainMax;
     std::vector<ComparisonRow> rows;
+    // A row titled `title`, ranked by `best` where `ranked` (a spec says which way is better).
+    const auto row
+        = [&rows](K kind, std::string title, bool ranked = false, const char *best = "") {
+              rows.push_back({kind, std::move(title), ranked ? best : "", {}});
+          };
     for (const std::string &id : comparedParts(d))
-        rows.push_back({K::PartValue, id, {}, {}});
-    // Ranked only where a spec says which way is better.
-    rows.push_back(
-        {K::Gain, t::kGain, gainSpec ? "closest to the centre of the spec's gain window" : "", {}});
-    rows.push_back(
-        {K::GainError, t::kGainError, gainSpec ? "smallest gain error against the spec" : "", {}});
-    rows.push_back({K::Bandwidth,
-                    t::kBandwidth,
-                    s.bandwidthMin ? "widest bandwidth (the spec sets a minimum)" : "",
-                    {}});
-    rows.push_back({K::PhaseMargin,
-                    t::kPhaseMargin,
-                    s.phaseMarginMinDeg ? "largest phase margin (the spec sets a minimum)" : "",
-                    {}});
-    rows.push_back({K::Peaking, t::kPeaking, {}, {}});
-    rows.push_back({K::Desensitivity, t::kDesensitivity, {}, {}});
-    rows.push_back({K::ZIn, t::kZIn, {}, {}});
-    rows.push_back({K::ZOut, t::kZOut, {}, {}});
-    rows.push_back({K::OutputNoise,
-                    t::kOutputNoise,
-                    s.outputNoiseMax ? "lowest output noise (the spec sets a maximum)" : "",
-                    {}});
-    rows.push_back({K::InputNoise,
-                    t::kInputNoise,
-                    s.snrMinDb ? "lowest input-referred noise (the SNR spec sets a minimum)" : "",
-                    {}});
+        row(K::PartValue, id);
+    row(K::Gain, t::kGain, gainSpec, "closest to the centre of the spec's gain window");
+    row(K::GainError, t::kGainError, gainSpec, "smallest gain error against the spec");
+    row(K::Bandwidth, t::kBandwidth, s.bandwidthMin.has_value(),
+        "widest bandwidth (the spec sets a minimum)");
+    row(K::PhaseMargin, t::kPhaseMargin, s.phaseMarginMinDeg.has_value(),
+        "largest phase margin (the spec sets a minimum)");
+    row(K::Peaking, t::kPeaking);
+    row(K::Desensitivity, t::kDesensitivity);
+    row(K::ZIn, t::kZIn);
+    row(K::ZOut, t::kZOut);
+    row(K::OutputNoise, t::kOutputNoise, s.outputNoiseMax.has_value(),
+        "lowest output noise (the spec sets a maximum)");
+    row(K::InputNoise, t::kInputNoise, s.snrMinDb.has_value(),
+        "lowest input-referred noise (the SNR spec sets a minimum)");
     if (d.signalLevel)
-        rows.push_back(
-            {K::Snr, t::kSnr, s.snrMinDb ? "highest SNR (the spec sets a minimum)" : "", {}});
-    rows.push_back({K::WorstCaseGain, t::kWorstCase, {}, {}});
+        row(K::Snr, t::kSnr, s.snrMinDb.has_value(), "highest SNR (the spec sets a minimum)");
+    row(K::WorstCaseGain, t::kWorstCase);
     if (gainSpec)
-        rows.push_back({K::SpecGain, "spec: gain window", {}, {}});
+        row(K::SpecGain, "spec: gain window");
     if (s.bandwidthMin)
-        rows.push_back({K::SpecBandwidth,
-                        "spec: bandwidth ≥ " + formatEngineering(s.bandwidthMin->si, 3, "Hz"),
-                        {},
-                        {}});
+        row(K::SpecBandwidth,
+            "spec: bandwidth ≥ " + formatEngineering(s.bandwidthMin->si, 3, "Hz"));
     if (s.phaseMarginMinDeg)
-        rows.push_back({K::SpecPhaseMargin,
-                        "spec: phase margin ≥ " + formatEngineering(*s.phaseMarginMinDeg, 3) + "°",
-                        {},
-                        {}});
+        row(K::SpecPhaseMargin,
+            "spec: phase margin ≥ " + formatEngineering(*s.phaseMarginMinDeg, 3) + "°");
     if (s.outputNoiseMax)
-        rows.push_back(
-            {K::SpecOutputNoise,
-             "spec: output noise ≤ "
-                 + formatEngineering(s.outputNoiseMax->si, 3, noiseUnits(gainUnit(d)).output),
-             {},
-             {}});
+        row(K::SpecOutputNoise,
+            "spec: output noise ≤ "
+                + formatEngineering(s.outputNoiseMax->si, 3, noiseUnits(gainUnit(d)).output));
     if (s.snrMinDb)
-        rows.push_back({K::SpecSnr, "spec: SNR ≥ " + fixed(*s.snrMinDb, 1, " dB"), {}, {}});
-    rows.push_back({K::SpecsMet, t::kSpecsMet, hasSpecs(s) ? "most specs met" : "", {}});
+        row(K::SpecSnr, "spec: SNR ≥ " + fixed(*s.snrMinDb, 1, " dB"));
+    row(K::SpecsMet, t::kSpecsMet, hasSpecs(s), "most specs met");
     return rows;
 }
 

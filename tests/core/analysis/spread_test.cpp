@@ -159,11 +159,10 @@ TEST(MonteCarlo, SameSeedSameNumbersForAnyThreadCount)
 TEST(MonteCarlo, TrialMetricsAgreeWithFullAnalysis)
 {
     // The lean per-trial evaluation against analyze() on the demo design (same model).
-    auto d = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(d.ok()) << d.errorText();
-    auto full = analyze(*d);
+    Design d = test::loadOrFail(test::kDesignsDir / "demo.loopsketch");
+    auto full = analyze(d);
     ASSERT_TRUE(full.ok());
-    auto lean = evaluateTrial(*d, coarseGrid(d->sweep, 10));
+    auto lean = evaluateTrial(d, coarseGrid(d.sweep, 10));
     ASSERT_TRUE(lean.ok());
     ASSERT_TRUE(lean->gain && lean->bandwidthHz && lean->phaseMarginDeg);
     EXPECT_NEAR(*lean->gain, *full->exact.gain, 1e-9 * std::abs(*full->exact.gain));

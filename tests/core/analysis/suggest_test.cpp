@@ -2,6 +2,7 @@
 #include "loopsketch/design/designfile.h"
 
 #include "designs.h"
+#include "ratiostage.h"
 
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
@@ -19,17 +20,7 @@ namespace {
 // pole at 1 Hz (loop gain error about 3e-9), both resistors in E12, starting off target.
 std::string nonInverting(const std::string &specs)
 {
-    return R"({"schema": "loopsketch.design/1", "title": "x", "parts": [
-      {"id": "VS", "type": "vsource", "pos": "in", "neg": "0"},
-      {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out",
-       "gain": "180dB", "poles_hz": ["1"]},
-      {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "12k", "series": "E12"},
-      {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "3.9k", "series": "E12"},
-      {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1M"}],
-      "input": "VS", "output": "voltage",
-      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20},
-      "specs": )"
-        + specs + "}";
+    return test::nonInvertingStageText("x", R"("value": "12k")", "3.9k", specs);
 }
 
 double valueOf(const Suggestion &s, const std::string &id)
@@ -156,13 +147,16 @@ std::string preamp(const std::string &tolerance, const std::string &r1 = "1k",
       "specs": {"gain": ["99.99", "102.01"]}})";
 }
 
-SuggestOptions preampSearch()
+/// A search of the preamp's R2 and R1 with R1 from `r1Lo` to `r1Hi` ohms and R2 over a range
+/// 100 times that, listing `best` rows with `yieldTrials` trials each.
+SuggestOptions preampSearch(double r1Lo = 900, double r1Hi = 1100, int best = 5,
+                            int yieldTrials = 100)
 {
     SuggestOptions o;
     o.parts = {"R2", "R1"};
-    o.ranges = {{"R1", {900, 1100}}, {"R2", {90e3, 110e3}}};
-    o.best = 5;
-    o.yieldTrials = 100;
+    o.ranges = {{"R1", {r1Lo, r1Hi}}, {"R2", {100 * r1Lo, 100 * r1Hi}}};
+    o.best = best;
+    o.yieldTrials = yieldTrials;
     return o;
 }
 
@@ -229,15 +223,8 @@ TEST(Suggest, RankingOrderAndTieBreak)
     // On the preamp with 0.1 % parts, every exact 100:1 pair has the same metrics, yield and
     // objective: between the two pairs as far from the current values at their geometric
     // mean (E96 1.07k and 1.10k, IEC 60063), the smaller comes first.
-    auto r
-        = suggestValues(parseOrFail(preamp("0.1%", "1.08489630840924k", "108.489630840924k")), [] {
-              SuggestOptions o;
-              o.parts = {"R2", "R1"};
-              o.ranges = {{"R1", {800, 1500}}, {"R2", {80e3, 150e3}}};
-              o.best = 2;
-              o.yieldTrials = 20;
-              return o;
-          }());
+    auto r = suggestValues(parseOrFail(preamp("0.1%", "1.08489630840924k", "108.489630840924k")),
+                           preampSearch(800, 1500, 2, 20));
     ASSERT_TRUE(r.ok()) << r.errorText();
     ASSERT_EQ(r->suggestions.size(), 2u);
     EXPECT_NEAR(valueOf(r->suggestions[0], "R2"), 107e3, 1e-6);

@@ -3,7 +3,10 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <fstream>
+#include <map>
 #include <set>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -11,57 +14,28 @@ using namespace loopsketch;
 
 namespace {
 
-// IEC 60063, table values as listed in /work/shared/reference-values.md §1.1
-// (rob-smallshire/eseries, zh-Wikipedia). Typed separately from core/src/base/eseries.cpp.
-const std::vector<double> kE3Standard{1.0, 2.2, 4.7};
-const std::vector<double> kE6Standard{1.0, 1.5, 2.2, 3.3, 4.7, 6.8};
-const std::vector<double> kE12Standard{1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2};
-const std::vector<double> kE24Standard{1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0,
-                                       3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1};
-const std::vector<double> kE48Standard{
-    1.00, 1.05, 1.10, 1.15, 1.21, 1.27, 1.33, 1.40, 1.47, 1.54, 1.62, 1.69, 1.78, 1.87, 1.96, 2.05,
-    2.15, 2.26, 2.37, 2.49, 2.61, 2.74, 2.87, 3.01, 3.16, 3.32, 3.48, 3.65, 3.83, 4.02, 4.22, 4.42,
-    4.64, 4.87, 5.11, 5.36, 5.62, 5.90, 6.19, 6.49, 6.81, 7.15, 7.50, 7.87, 8.25, 8.66, 9.09, 9.53};
-const std::vector<double> kE96Standard{
-    1.00, 1.02, 1.05, 1.07, 1.10, 1.13, 1.15, 1.18, 1.21, 1.24, 1.27, 1.30, 1.33, 1.37, 1.40, 1.43,
-    1.47, 1.50, 1.54, 1.58, 1.62, 1.65, 1.69, 1.74, 1.78, 1.82, 1.87, 1.91, 1.96, 2.00, 2.05, 2.10,
-    2.15, 2.21, 2.26, 2.32, 2.37, 2.43, 2.49, 2.55, 2.61, 2.67, 2.74, 2.80, 2.87, 2.94, 3.01, 3.09,
-    3.16, 3.24, 3.32, 3.40, 3.48, 3.57, 3.65, 3.74, 3.83, 3.92, 4.02, 4.12, 4.22, 4.32, 4.42, 4.53,
-    4.64, 4.75, 4.87, 4.99, 5.11, 5.23, 5.36, 5.49, 5.62, 5.76, 5.90, 6.04, 6.19, 6.34, 6.49, 6.65,
-    6.81, 6.98, 7.15, 7.32, 7.50, 7.68, 7.87, 8.06, 8.25, 8.45, 8.66, 8.87, 9.09, 9.31, 9.53, 9.76};
-const std::vector<double> kE192Standard{
-    1.00, 1.01, 1.02, 1.04, 1.05, 1.06, 1.07, 1.09, 1.10, 1.11, 1.13, 1.14, 1.15, 1.17, 1.18, 1.20,
-    1.21, 1.23, 1.24, 1.26, 1.27, 1.29, 1.30, 1.32, 1.33, 1.35, 1.37, 1.38, 1.40, 1.42, 1.43, 1.45,
-    1.47, 1.49, 1.50, 1.52, 1.54, 1.56, 1.58, 1.60, 1.62, 1.64, 1.65, 1.67, 1.69, 1.72, 1.74, 1.76,
-    1.78, 1.80, 1.82, 1.84, 1.87, 1.89, 1.91, 1.93, 1.96, 1.98, 2.00, 2.03, 2.05, 2.08, 2.10, 2.13,
-    2.15, 2.18, 2.21, 2.23, 2.26, 2.29, 2.32, 2.34, 2.37, 2.40, 2.43, 2.46, 2.49, 2.52, 2.55, 2.58,
-    2.61, 2.64, 2.67, 2.71, 2.74, 2.77, 2.80, 2.84, 2.87, 2.91, 2.94, 2.98, 3.01, 3.05, 3.09, 3.12,
-    3.16, 3.20, 3.24, 3.28, 3.32, 3.36, 3.40, 3.44, 3.48, 3.52, 3.57, 3.61, 3.65, 3.70, 3.74, 3.79,
-    3.83, 3.88, 3.92, 3.97, 4.02, 4.07, 4.12, 4.17, 4.22, 4.27, 4.32, 4.37, 4.42, 4.48, 4.53, 4.59,
-    4.64, 4.70, 4.75, 4.81, 4.87, 4.93, 4.99, 5.05, 5.11, 5.17, 5.23, 5.30, 5.36, 5.42, 5.49, 5.56,
-    5.62, 5.69, 5.76, 5.83, 5.90, 5.97, 6.04, 6.12, 6.19, 6.26, 6.34, 6.42, 6.49, 6.57, 6.65, 6.73,
-    6.81, 6.90, 6.98, 7.06, 7.15, 7.23, 7.32, 7.41, 7.50, 7.59, 7.68, 7.77, 7.87, 7.96, 8.06, 8.16,
-    8.25, 8.35, 8.45, 8.56, 8.66, 8.76, 8.87, 8.98, 9.09, 9.20, 9.31, 9.42, 9.53, 9.65, 9.76, 9.88};
-
+/// The IEC 60063 table of `series` (one decade, as printed), read from
+/// tests/data/standards/iec60063.txt (sources named there).
 const std::vector<double> &standardTable(ESeries series)
 {
-    switch (series) {
-    case ESeries::E3:
-        return kE3Standard;
-    case ESeries::E6:
-        return kE6Standard;
-    case ESeries::E12:
-        return kE12Standard;
-    case ESeries::E24:
-        return kE24Standard;
-    case ESeries::E48:
-        return kE48Standard;
-    case ESeries::E96:
-        return kE96Standard;
-    case ESeries::E192:
-        return kE192Standard;
-    }
-    return kE3Standard;
+    static const std::map<std::string, std::vector<double>> tables = [] {
+        std::map<std::string, std::vector<double>> read;
+        std::ifstream in(std::string(LOOPSKETCH_TEST_DATA_DIR) + "/standards/iec60063.txt");
+        std::string line;
+        while (std::getline(in, line)) {
+            if (line.empty() || line[0] == '#')
+                continue;
+            std::istringstream fields(line);
+            std::string name;
+            fields >> name;
+            for (double v; fields >> v;)
+                read[name].push_back(v);
+        }
+        return read;
+    }();
+    static const std::vector<double> none;
+    const auto found = tables.find(toString(series));
+    return found == tables.end() ? none : found->second;
 }
 
 // Relative tolerance for values that should be the same double up to rounding.
@@ -99,6 +73,13 @@ std::set<double> valuesAt(const std::vector<double> &table, const std::set<int> 
     for (int i : indices)
         values.insert(table[i]);
     return values;
+}
+
+/// The entries of the standard's two-digit table of `series` that differ from the rounded
+/// geometric series.
+std::set<double> standardDeviatingValues(ESeries series)
+{
+    return valuesAt(standardTable(series), deviationsFromGeometric(standardTable(series), 2));
 }
 
 } // namespace
@@ -215,18 +196,15 @@ TEST(ESeries, E24DeviatesFromRoundedGeometricSeriesExactlyAtDocumentedEntries)
     const std::set<double> deviating = valuesAt(table, deviationsFromGeometric(table, 2));
     const std::set<double> documented{2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2};
     EXPECT_EQ(deviating, documented);
-    EXPECT_EQ(valuesAt(kE24Standard, deviationsFromGeometric(kE24Standard, 2)), documented);
+    EXPECT_EQ(standardDeviatingValues(ESeries::E24), documented);
 }
 
 // reference-values.md §1.1: the coarser series inherit the E24 deviations.
 TEST(ESeries, CoarserSeriesInheritTheE24Deviations)
 {
-    EXPECT_EQ(valuesAt(kE12Standard, deviationsFromGeometric(kE12Standard, 2)),
-              (std::set<double>{2.7, 3.3, 3.9, 4.7, 8.2}));
-    EXPECT_EQ(valuesAt(kE6Standard, deviationsFromGeometric(kE6Standard, 2)),
-              (std::set<double>{3.3, 4.7}));
-    EXPECT_EQ(valuesAt(kE3Standard, deviationsFromGeometric(kE3Standard, 2)),
-              (std::set<double>{4.7}));
+    EXPECT_EQ(standardDeviatingValues(ESeries::E12), (std::set<double>{2.7, 3.3, 3.9, 4.7, 8.2}));
+    EXPECT_EQ(standardDeviatingValues(ESeries::E6), (std::set<double>{3.3, 4.7}));
+    EXPECT_EQ(standardDeviatingValues(ESeries::E3), (std::set<double>{4.7}));
 }
 
 // reference-values.md §1.1: E48 and E96 are the rounded geometric series; E192 differs only
@@ -239,7 +217,7 @@ TEST(ESeries, ThreeDigitSeriesDeviateOnlyAtE192Index185)
     EXPECT_TRUE(deviationsFromGeometric(library(ESeries::E48), 3).empty());
     EXPECT_TRUE(deviationsFromGeometric(library(ESeries::E96), 3).empty());
     EXPECT_EQ(deviationsFromGeometric(library(ESeries::E192), 3), (std::set<int>{185}));
-    EXPECT_EQ(deviationsFromGeometric(kE192Standard, 3), (std::set<int>{185}));
+    EXPECT_EQ(deviationsFromGeometric(standardTable(ESeries::E192), 3), (std::set<int>{185}));
     EXPECT_NEAR(mantissas(ESeries::E192)[185], 9.20, 1e-12);
     EXPECT_NEAR(roundedGeometric(185, 192, 3), 9.19, 1e-12);
 }

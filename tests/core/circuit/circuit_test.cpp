@@ -5,6 +5,7 @@
 #include "loopsketch/circuit/reducedsystem.h"
 
 #include "circuit/pencilsweep.h"
+#include "gainblockelement.h"
 #include "numeric.h"
 
 #include <gmock/gmock.h>
@@ -93,13 +94,7 @@ TEST(Circuit, SinglePoleGainBlockIsThreeDbDownAtItsPole)
     Netlist n;
     const int in = n.addInput();
     n.addVoltageSource("V1", "p", "0", in);
-    ControlledSourceElement cs;
-    cs.inP = "p";
-    cs.inN = "0";
-    cs.out = "e";
-    cs.gain = 2e5;
-    cs.polesHz = {10.0};
-    n.controlled.push_back(cs);
+    n.controlled.push_back(gainBlockElement("p", "0", "e", 2e5, {10.0}));
     n.addResistor("RL", "e", "0", 1e3);
     n.addOutput({NetlistOutput::Kind::VoltageBetween, "e", "0"});
     auto reduced = ReducedSystem::build(assembleOrDie(n));
@@ -222,12 +217,7 @@ TEST(Circuit, InvertingStageMatchesNodalClosedForm)
     n.addResistor("R1", "s", "n", r1);
     n.addResistor("R2", "n", "o", r2);
     n.addResistor("RIN", "n", "0", rin);
-    ControlledSourceElement cs;
-    cs.inP = "0";
-    cs.inN = "n";
-    cs.out = "e";
-    cs.gain = a;
-    n.controlled.push_back(cs);
+    n.controlled.push_back(gainBlockElement("0", "n", "e", a));
     n.addResistor("ROUT", "e", "o", rout);
     n.addResistor("RL", "o", "0", rl);
     n.addOutput({NetlistOutput::Kind::VoltageBetween, "o", "0"});
@@ -353,37 +343,56 @@ TEST(Circuit, NonFiniteValueIsRejectedWithTheElementNamed)
     EXPECT_THAT(s.errorText(), HasSubstr("R7"));
 }
 
+namespace {
+
+/// Values spread evenly in log between two ends, from a fixed seed.
+class LogUniform
+{
+public:
+    explicit LogUniform(unsigned seed) : m_rng(seed) { }
+    double operator()(double lo, double hi) { return lo * std::pow(hi / lo, m_unit(m_rng)); }
+
+private:
+    std::mt19937 m_rng;
+    std::uniform_real_distribution<double> m_unit{0.0, 1.0};
+};
+
+/// A non-inverting stage with random values: a two-pole gain block (and, with
+/// `zeroAndLoad`, a zero and a resistive load) behind a source resistor, R2 || C2 feedback
+/// to R1, r_in || c_in between the inputs and a capacitive load. Nodes "p", "m", "o".
+Netlist randomNonInvertingLoop(LogUniform &pick, bool zeroAndLoad)
+{
+    Netlist n;
+    const int in = n.addInput();
+    n.addVoltageSource("VS", "s0", "0", in);
+    n.addResistor("RS", "s0", "p", pick(10, 10e3));
+    ControlledSourceElement cs = gainBlockElement("p", "m", "e", pick(1e3, 1e6));
+    cs.polesHz = {pick(1, 100), pick(1e6, 1e8)};
+    if (zeroAndLoad)
+        cs.zerosHz = {pick(1e7, 1e9)};
+    n.controlled.push_back(cs);
+    n.addResistor("RO", "e", "o", pick(1, 200));
+    n.addResistor("RIN", "p", "m", pick(1e5, 1e9));
+    n.addCapacitor("CIN", "p", "m", pick(1e-12, 10e-12));
+    n.addResistor("R2", "o", "m", pick(1e3, 1e6));
+    n.addCapacitor("C2", "o", "m", pick(1e-13, 1e-11));
+    n.addResistor("R1", "m", "0", pick(100, 1e5));
+    if (zeroAndLoad)
+        n.addResistor("RL", "o", "0", pick(100, 1e5));
+    n.addCapacitor("CL", "o", "0", pick(1e-12, 1e-9));
+    return n;
+}
+
+} // namespace
+
 // The reduced fast path must agree with the dense LU to 1e-9 relative over a wide sweep,
 // on randomised RC ladders around a two-pole gain block with feedback.
 TEST(ReducedSystem, AgreesWithDenseLuOnRandomLoops)
 {
-    std::mt19937 rng(20261201);
-    std::uniform_real_distribution<double> decade(0.0, 1.0);
-    const auto pick = [&](double lo, double hi) {
-        return lo * std::pow(hi / lo, decade(rng));
-    };
+    LogUniform pick(20261201);
     const auto f = logGrid(1.0, 1e9, 50);
     for (int trial = 0; trial < 20; ++trial) {
-        Netlist n;
-        const int in = n.addInput();
-        n.addVoltageSource("VS", "s0", "0", in);
-        n.addResistor("RS", "s0", "p", pick(10, 10e3));
-        ControlledSourceElement cs;
-        cs.inP = "p";
-        cs.inN = "m";
-        cs.out = "e";
-        cs.gain = pick(1e3, 1e6);
-        cs.polesHz = {pick(1, 100), pick(1e6, 1e8)};
-        cs.zerosHz = {pick(1e7, 1e9)};
-        n.controlled.push_back(cs);
-        n.addResistor("RO", "e", "o", pick(1, 200));
-        n.addResistor("RIN", "p", "m", pick(1e5, 1e9));
-        n.addCapacitor("CIN", "p", "m", pick(1e-12, 10e-12));
-        n.addResistor("R2", "o", "m", pick(1e3, 1e6));
-        n.addCapacitor("C2", "o", "m", pick(1e-13, 1e-11));
-        n.addResistor("R1", "m", "0", pick(100, 1e5));
-        n.addResistor("RL", "o", "0", pick(100, 1e5));
-        n.addCapacitor("CL", "o", "0", pick(1e-12, 1e-9));
+        Netlist n = randomNonInvertingLoop(pick, true);
         n.addOutput({NetlistOutput::Kind::VoltageBetween, "o", "0"});
         n.addOutput({NetlistOutput::Kind::VoltageBetween, "p", "m"});
         const auto sys = assembleOrDie(n);
@@ -407,34 +416,13 @@ TEST(ReducedSystem, AgreesWithDenseLuOnRandomLoops)
 // direct one. Check against the dense LU: the straightforward reference (common practice).
 TEST(ReducedSystem, SweepAgreesWithDenseLuAtEveryWidth)
 {
-    std::mt19937 rng(20261202);
-    std::uniform_real_distribution<double> decade(0.0, 1.0);
-    const auto pick = [&](double lo, double hi) {
-        return lo * std::pow(hi / lo, decade(rng));
-    };
+    LogUniform pick(20261202);
     const auto f = logGrid(1.0, 1e9, 37); // 334 points: a short last group at every width
     std::vector<cd> s;
     for (double hz : f)
         s.push_back({0.0, 2.0 * kPi * hz});
     for (int trial = 0; trial < 10; ++trial) {
-        Netlist n;
-        const int in = n.addInput();
-        n.addVoltageSource("VS", "s0", "0", in);
-        n.addResistor("RS", "s0", "p", pick(10, 10e3));
-        ControlledSourceElement cs;
-        cs.inP = "p";
-        cs.inN = "m";
-        cs.out = "e";
-        cs.gain = pick(1e3, 1e6);
-        cs.polesHz = {pick(1, 100), pick(1e6, 1e8)};
-        n.controlled.push_back(cs);
-        n.addResistor("RO", "e", "o", pick(1, 200));
-        n.addResistor("RIN", "p", "m", pick(1e5, 1e9));
-        n.addCapacitor("CIN", "p", "m", pick(1e-12, 10e-12));
-        n.addResistor("R2", "o", "m", pick(1e3, 1e6));
-        n.addCapacitor("C2", "o", "m", pick(1e-13, 1e-11));
-        n.addResistor("R1", "m", "0", pick(100, 1e5));
-        n.addCapacitor("CL", "o", "0", pick(1e-12, 1e-9));
+        Netlist n = randomNonInvertingLoop(pick, false);
         n.addCurrentSource("IM", "m", "0", n.addInput());
         n.addOutput({NetlistOutput::Kind::VoltageBetween, "o", "0"});
         n.addOutput({NetlistOutput::Kind::VoltageBetween, "p", "m"});

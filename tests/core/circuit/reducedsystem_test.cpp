@@ -5,6 +5,7 @@
 #include "loopsketch/circuit/reducedsystem.h"
 
 #include "circuit/pencilsweep.h"
+#include "gainblockelement.h"
 #include "numeric.h"
 
 #include <gtest/gtest.h>
@@ -13,6 +14,8 @@
 #include <numbers>
 #include <random>
 #include <string>
+#include <utility>
+#include <vector>
 
 using namespace loopsketch;
 using namespace loopsketch::test;
@@ -58,6 +61,20 @@ Netlist ladder(int sections, std::mt19937 &rng)
     return n;
 }
 
+/// A system of two unknowns named `names`: G x + C dx/dt = b u, y = l^T x.
+DescriptorSystem twoUnknowns(const Eigen::Matrix2d &g, const Eigen::Matrix2d &c,
+                             const Eigen::Vector2d &b, const Eigen::Vector2d &l,
+                             std::vector<std::string> names)
+{
+    DescriptorSystem sys;
+    sys.G = g;
+    sys.C = c;
+    sys.B = b;
+    sys.L = l.transpose();
+    sys.unknowns = std::move(names);
+    return sys;
+}
+
 /// An inverting stage around a gain block with `poles` poles and `zeros` zeros, feedback
 /// R || C, a source resistor and an RC load: order poles + 2 (input and output nodes).
 Netlist gainBlockLoop(int poles, int zeros, std::mt19937 &rng)
@@ -69,11 +86,7 @@ Netlist gainBlockLoop(int poles, int zeros, std::mt19937 &rng)
     Netlist n;
     n.addVoltageSource("V1", "s", "0", n.addInput());
     n.addResistor("RS", "s", "m", pick(1e3, 1e4));
-    ControlledSourceElement cs;
-    cs.inP = "0";
-    cs.inN = "m";
-    cs.out = "e";
-    cs.gain = pick(1e3, 1e6);
+    ControlledSourceElement cs = gainBlockElement("0", "m", "e", pick(1e3, 1e6));
     cs.polesHz.push_back(pick(1, 100));
     for (int p = 1; p < poles; ++p)
         cs.polesHz.push_back(pick(1e6, 1e9));
@@ -198,15 +211,9 @@ TEST(ReducedSweep, RowsInDifferentUnitsKeepFullAccuracyAtEveryWidth)
 // step away it is y = s / (s^2 + 1) (Cramer's rule, common practice) to 1e-13.
 TEST(ReducedSweep, ExactlyZeroPivotGivesNoValueOnEveryPath)
 {
-    DescriptorSystem sys;
-    sys.G.resize(2, 2);
-    sys.G << 0.0, -1.0, 1.0, 0.0;
-    sys.C = Eigen::MatrixXd::Identity(2, 2);
-    sys.B.resize(2, 1);
-    sys.B << 0.0, 1.0;
-    sys.L.resize(1, 2);
-    sys.L << 0.0, 1.0;
-    sys.unknowns = {"x", "y"};
+    const DescriptorSystem sys = twoUnknowns((Eigen::Matrix2d() << 0.0, -1.0, 1.0, 0.0).finished(),
+                                             Eigen::Matrix2d::Identity(), Eigen::Vector2d(0.0, 1.0),
+                                             Eigen::Vector2d(0.0, 1.0), {"x", "y"});
     const std::vector<cd> s = {cd(0.0, 0.5), cd(0.0, 1.0), cd(0.0, 2.0)};
     const TransferEntry entry[] = {{0, 0}};
     for (SolverPath path : {SolverPath::Reduced, SolverPath::DenseLu}) {
@@ -236,15 +243,10 @@ TEST(ReducedSweep, ExactlyZeroPivotGivesNoValueOnEveryPath)
 // part whose entries touch what is not determined.
 TEST(ReducedSweep, SingularAtEveryFrequencyIsRefusedNamingThePart)
 {
-    DescriptorSystem sys;
-    sys.G.resize(2, 2);
-    sys.G << 1.0, -1.0, -1.0, 1.0; // one resistor between two nodes, nothing to ground
-    sys.C = Eigen::MatrixXd::Zero(2, 2);
-    sys.B.resize(2, 1);
-    sys.B << 1.0, 0.0;
-    sys.L.resize(1, 2);
-    sys.L << 1.0, 0.0;
-    sys.unknowns = {"v(a)", "v(b)"};
+    // one resistor between two nodes, nothing to ground
+    DescriptorSystem sys = twoUnknowns((Eigen::Matrix2d() << 1.0, -1.0, -1.0, 1.0).finished(),
+                                       Eigen::Matrix2d::Zero(), Eigen::Vector2d(1.0, 0.0),
+                                       Eigen::Vector2d(1.0, 0.0), {"v(a)", "v(b)"});
     sys.origins = {{"RX", "value"}};
     for (int r = 0; r < 2; ++r)
         for (int c = 0; c < 2; ++c)

@@ -433,11 +433,8 @@ TEST(AtomicSaveFaults, FileSizeLimitGivesAnErrorAndLeavesNoTemporary)
     const auto design = loadDesign(kDemo.string());
     ASSERT_TRUE(design.ok()) << design.errorText();
     const auto outcome = test::runInChild([&](std::string &out) {
-        std::signal(SIGXFSZ, SIG_IGN);
-        rlimit small{};
-        ::getrlimit(RLIMIT_FSIZE, &small);
-        small.rlim_cur = 512;
-        if (::setrlimit(RLIMIT_FSIZE, &small) != 0) {
+        test::FileSizeLimit limit(512);
+        if (!limit.ok()) {
             out = test::osFailure("setrlimit");
             return test::kChildCannotInject;
         }

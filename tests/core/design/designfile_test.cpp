@@ -180,41 +180,40 @@ TEST(DesignFile, FourExamplesIncludingDemo)
     EXPECT_EQ(demo->uniquePart(PartType::GainBlock)->node("in_p"), "0");
 }
 
+namespace {
+
+/// The message refusing kBase with `from` replaced by `to`, read as the file `file`; empty
+/// (and a test failure) when the changed text is accepted.
+std::string refusalOf(const std::string &from, const std::string &to, const std::string &file)
+{
+    auto r = parseDesign(replaced(std::string(kBase), from, to), file);
+    EXPECT_FALSE(r.ok()) << from << " -> " << to;
+    return r.ok() ? std::string() : r.errorText();
+}
+
+} // namespace
+
 TEST(DesignFile, UnknownKeysAreNamedWithTheirPlace)
 {
-    auto r = parseDesign(replaced(std::string(kBase), "\"points_per_decade\": 100",
-                                  "\"points_per_decade\": 100, \"step\": 2"),
-                         "k.loopsketch");
-    ASSERT_FALSE(r.ok());
-    EXPECT_THAT(r.errorText(),
+    EXPECT_THAT(refusalOf("\"points_per_decade\": 100", "\"points_per_decade\": 100, \"step\": 2",
+                          "k.loopsketch"),
                 HasSubstr("k.loopsketch: field sweep: unknown key \"step\" in sweep"));
 
-    r = parseDesign(replaced(std::string(kBase), "\"r\": \"10k\"", "\"r\": \"10k\", \"rr\": 1"),
-                    "k");
-    ASSERT_FALSE(r.ok());
-    EXPECT_THAT(r.errorText(), HasSubstr("k: part RL: unknown key \"rr\""));
+    EXPECT_THAT(refusalOf("\"r\": \"10k\"", "\"r\": \"10k\", \"rr\": 1", "k"),
+                HasSubstr("k: part RL: unknown key \"rr\""));
 
     // a key that belongs to another part type is unknown here
-    r = parseDesign(
-        replaced(std::string(kBase), "\"value\": \"2.2p\"", "\"value\": \"2.2p\", \"gain\": 1"),
-        "k");
-    ASSERT_FALSE(r.ok());
-    EXPECT_THAT(r.errorText(), HasSubstr("part CF: unknown key \"gain\""));
+    EXPECT_THAT(refusalOf("\"value\": \"2.2p\"", "\"value\": \"2.2p\", \"gain\": 1", "k"),
+                HasSubstr("part CF: unknown key \"gain\""));
 }
 
 TEST(DesignFile, DuplicateKeysAreNamedAtAnyDepth)
 {
-    auto r = parseDesign(
-        replaced(std::string(kBase), "\"start\": \"1\"", "\"start\": \"1\", \"start\": \"2\""),
-        "d");
-    ASSERT_FALSE(r.ok());
-    EXPECT_THAT(r.errorText(), HasSubstr("field sweep.start: duplicate key \"start\" in sweep"));
+    EXPECT_THAT(refusalOf("\"start\": \"1\"", "\"start\": \"1\", \"start\": \"2\"", "d"),
+                HasSubstr("field sweep.start: duplicate key \"start\" in sweep"));
 
-    r = parseDesign(
-        replaced(std::string(kBase), "\"input\": \"SIG\"", "\"input\": \"SIG\", \"input\": \"RF\""),
-        "d");
-    ASSERT_FALSE(r.ok());
-    EXPECT_THAT(r.errorText(), HasSubstr("field input: duplicate key \"input\""));
+    EXPECT_THAT(refusalOf("\"input\": \"SIG\"", "\"input\": \"SIG\", \"input\": \"RF\"", "d"),
+                HasSubstr("field input: duplicate key \"input\""));
 }
 
 TEST(DesignFile, InvalidUtf8GivesByteOffset)

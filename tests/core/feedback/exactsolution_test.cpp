@@ -66,7 +66,39 @@ struct Nodal3
     Vector3 rhs;
     Matrix3 sourceRemoved; ///< z_in: the source and its r_series taken out
     Matrix3 loadRemoved; ///< z_out: source zeroed (r_series kept), load taken out
+
+    double gain() const { return cramer3(active, rhs, 2); } ///< v3 with the source at 1 V
+    double zIn() const { return cramer3(sourceRemoved, {1, 0, 0}, 0); } ///< v1 per 1 A into 1
+    double zOut() const { return cramer3(loadRemoved, {0, 0, 1}, 2); } ///< v3 per 1 A into 3
 };
+
+/// The three-node system of a stage driven at node 1 from 1 V behind `rs`: `active` its
+/// conductance matrix; with the source taken out node 1's own conductance is `g11NoSource`,
+/// with the load taken out node 3's is `g33NoLoad`.
+Nodal3 drivenAtNode1(const Matrix3 &active, double rs, double g11NoSource, double g33NoLoad)
+{
+    Nodal3 s{active, {1 / rs, 0, 0}, active, active};
+    s.sourceRemoved[0][0] = g11NoSource;
+    s.loadRemoved[2][2] = g33NoLoad;
+    return s;
+}
+
+/// `v` as JSON text with every digit a double holds.
+std::string jsonNumber(double v)
+{
+    std::ostringstream os;
+    os.precision(17);
+    os << v;
+    return os.str();
+}
+
+/// A two-terminal part's JSON object: `type` "resistor" (field `value`) or "load" (field `r`).
+std::string twoTerminal(const std::string &id, const std::string &type, const std::string &a,
+                        const std::string &b, double ohms)
+{
+    return R"({"id": ")" + id + R"(", "type": ")" + type + R"(", "a": ")" + a + R"(", "b": ")" + b
+        + (type == "load" ? R"(", "r": )" : R"(", "value": )") + jsonNumber(ohms) + "}";
+}
 
 /// Prints a measured value beside its closed form, for the issue's closing note.
 void printMeasured(const std::string &what, double value, double expected)
@@ -99,23 +131,16 @@ struct InvertingStage
 
     std::string json() const
     {
-        const auto n = [](double v) {
-            std::ostringstream os;
-            os.precision(17);
-            os << v;
-            return os.str();
-        };
-        return designJson(
-            {R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", )"
-             R"("r_series": )"
-                 + n(rs) + "}",
-             gainBlock("0", "n",
-                       R"("gain": )" + n(a) + R"(, "r_in": )" + n(rin) + R"(, "r_out": )"
-                           + n(rout)),
-             R"({"id": "R1", "type": "resistor", "a": "in", "b": "n", "value": )" + n(r1) + "}",
-             R"({"id": "R2", "type": "resistor", "a": "n", "b": "out", "value": )" + n(r2) + "}",
-             R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": )" + n(rl) + "}"},
-            "VS");
+        return designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", )"
+                           R"("r_series": )"
+                               + jsonNumber(rs) + "}",
+                           gainBlock("0", "n",
+                                     R"("gain": )" + jsonNumber(a) + R"(, "r_in": )"
+                                         + jsonNumber(rin) + R"(, "r_out": )" + jsonNumber(rout)),
+                           twoTerminal("R1", "resistor", "in", "n", r1),
+                           twoTerminal("R2", "resistor", "n", "out", r2),
+                           twoTerminal("RL", "load", "out", "0", rl)},
+                          "VS");
     }
 
     // Nodal analysis (textbook KCL), unknowns (v_in, v_n, v_o), e = -a v_n behind r_out:
@@ -124,20 +149,14 @@ struct InvertingStage
     //   o:   (v_o - v_n)/R2 + (v_o + a v_n)/r_out + v_o/RL            = 0
     Nodal3 nodal() const
     {
-        Nodal3 s;
-        s.active = {{{1 / rs + 1 / r1, -1 / r1, 0},
-                     {-1 / r1, 1 / r1 + 1 / rin + 1 / r2, -1 / r2},
-                     {0, -1 / r2 + a / rout, 1 / r2 + 1 / rout + 1 / rl}}};
-        s.rhs = {1 / rs, 0, 0};
-        s.sourceRemoved = s.active;
-        s.sourceRemoved[0][0] = 1 / r1;
-        s.loadRemoved = s.active;
-        s.loadRemoved[2][2] = 1 / r2 + 1 / rout;
-        return s;
+        return drivenAtNode1({{{1 / rs + 1 / r1, -1 / r1, 0},
+                               {-1 / r1, 1 / r1 + 1 / rin + 1 / r2, -1 / r2},
+                               {0, -1 / r2 + a / rout, 1 / r2 + 1 / rout + 1 / rl}}},
+                             rs, 1 / r1, 1 / r2 + 1 / rout);
     }
-    double gain() const { return cramer3(nodal().active, nodal().rhs, 2); }
-    double zIn() const { return cramer3(nodal().sourceRemoved, {1, 0, 0}, 0); }
-    double zOut() const { return cramer3(nodal().loadRemoved, {0, 0, 1}, 2); }
+    double gain() const { return nodal().gain(); }
+    double zIn() const { return nodal().zIn(); }
+    double zOut() const { return nodal().zOut(); }
 };
 
 // Closed form by nodal analysis of the three nodes (in, n, out), solved by Cramer's rule;
@@ -195,26 +214,19 @@ struct NonInvertingStage
 
     std::string json() const
     {
-        const auto n = [](double v) {
-            std::ostringstream os;
-            os.precision(17);
-            os << v;
-            return os.str();
-        };
-        std::string gb = R"("gain": )" + n(a);
+        std::string gb = R"("gain": )" + jsonNumber(a);
         if (std::isfinite(rd))
-            gb += R"(, "r_in": )" + n(rd);
+            gb += R"(, "r_in": )" + jsonNumber(rd);
         if (ro > 0)
-            gb += R"(, "r_out": )" + n(ro);
+            gb += R"(, "r_out": )" + jsonNumber(ro);
         std::string vs = R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0")";
         if (rs > 0)
-            vs += R"(, "r_series": )" + n(rs);
-        return designJson(
-            {vs + "}", gainBlock("in", "fb", gb),
-             R"({"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": )" + n(r2) + "}",
-             R"({"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": )" + n(r1) + "}",
-             R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": )" + n(rl) + "}"},
-            "VS");
+            vs += R"(, "r_series": )" + jsonNumber(rs);
+        return designJson({vs + "}", gainBlock("in", "fb", gb),
+                           twoTerminal("R2", "resistor", "out", "fb", r2),
+                           twoTerminal("R1", "resistor", "fb", "0", r1),
+                           twoTerminal("RL", "load", "out", "0", rl)},
+                          "VS");
     }
 
     // Nodal analysis, unknowns (v_p, v_n, v_o), e = a (v_p - v_n) behind r_out (= ro):
@@ -224,20 +236,14 @@ struct NonInvertingStage
     // Needs Rs > 0 and ro > 0; the Rs = 0 cases use the two-node form below.
     Nodal3 nodal() const
     {
-        Nodal3 s;
-        s.active = {{{1 / rs + 1 / rd, -1 / rd, 0},
-                     {-1 / rd, 1 / rd + 1 / r1 + 1 / r2, -1 / r2},
-                     {-a / ro, -1 / r2 + a / ro, 1 / r2 + 1 / ro + 1 / rl}}};
-        s.rhs = {1 / rs, 0, 0};
-        s.sourceRemoved = s.active;
-        s.sourceRemoved[0][0] = 1 / rd;
-        s.loadRemoved = s.active;
-        s.loadRemoved[2][2] = 1 / r2 + 1 / ro;
-        return s;
+        return drivenAtNode1({{{1 / rs + 1 / rd, -1 / rd, 0},
+                               {-1 / rd, 1 / rd + 1 / r1 + 1 / r2, -1 / r2},
+                               {-a / ro, -1 / r2 + a / ro, 1 / r2 + 1 / ro + 1 / rl}}},
+                             rs, 1 / rd, 1 / r2 + 1 / ro);
     }
-    double gain() const { return cramer3(nodal().active, nodal().rhs, 2); }
-    double zIn() const { return cramer3(nodal().sourceRemoved, {1, 0, 0}, 0); }
-    double zOut() const { return cramer3(nodal().loadRemoved, {0, 0, 1}, 2); }
+    double gain() const { return nodal().gain(); }
+    double zIn() const { return nodal().zIn(); }
+    double zOut() const { return nodal().zOut(); }
 
     // Rs = 0: v_p = vs, two equations in (v_n, v_o):
     //   [1/rd + 1/R1 + 1/R2      -1/R2               ] [v_n]   [vs/rd  ]
@@ -467,12 +473,9 @@ TEST(ExactSolution, CurrentSourceParallelResistanceIsExcludedFromZin)
 {
     const double rf = 100e3, rin = 1e6, rout = 50, rl = 5e3, a = 3e4;
     for (const double rp : {1e5, 1e8}) {
-        std::ostringstream os;
-        os.precision(17);
-        os << rp;
         const Design d = parseOrFail(designJson(
-            {R"({"id": "IS", "type": "isource", "to": "in", "from": "0", "r_parallel": )" + os.str()
-                 + "}",
+            {R"({"id": "IS", "type": "isource", "to": "in", "from": "0", "r_parallel": )"
+                 + jsonNumber(rp) + "}",
              gainBlock("0", "in", R"("gain": 30000, "r_in": "1M", "r_out": "50")"),
              R"({"id": "RF", "type": "resistor", "a": "in", "b": "out", "value": "100k"})",
              R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "5k"})"},

@@ -80,6 +80,29 @@ struct IdentityErrors
 {
     double gainDc = 0, zInDc = 0, zOutDc = 0, gainSweep = 0, zInSweep = 0, zOutSweep = 0,
            sensitivity = 0;
+
+    /// Each error the larger of this one's and `e`'s.
+    void keepWorst(const IdentityErrors &e)
+    {
+        gainDc = std::max(gainDc, e.gainDc);
+        zInDc = std::max(zInDc, e.zInDc);
+        zOutDc = std::max(zOutDc, e.zOutDc);
+        gainSweep = std::max(gainSweep, e.gainSweep);
+        zInSweep = std::max(zInSweep, e.zInSweep);
+        zOutSweep = std::max(zOutSweep, e.zOutSweep);
+        sensitivity = std::max(sensitivity, e.sensitivity);
+    }
+
+    /// One line: "gain dc .. sweep ..; z_in ...; z_out ...; sensitivity ...".
+    std::string text() const
+    {
+        char line[200];
+        std::snprintf(line, sizeof line,
+                      "gain dc %.2e sweep %.2e; z_in dc %.2e sweep %.2e; z_out dc %.2e sweep "
+                      "%.2e; sensitivity %.2e",
+                      gainDc, gainSweep, zInDc, zInSweep, zOutDc, zOutSweep, sensitivity);
+        return line;
+    }
 };
 
 /// Relative difference of two DC values that may be absent: both absent (the quantity
@@ -164,13 +187,7 @@ TEST(FeedbackIdentities, HoldOnEveryExampleAndReferenceDesign)
         auto d = loadDesign(f);
         ASSERT_TRUE(d.ok()) << d.errorText();
         const IdentityErrors e = checkIdentities(*d, f);
-        worst.gainDc = std::max(worst.gainDc, e.gainDc);
-        worst.zInDc = std::max(worst.zInDc, e.zInDc);
-        worst.zOutDc = std::max(worst.zOutDc, e.zOutDc);
-        worst.gainSweep = std::max(worst.gainSweep, e.gainSweep);
-        worst.zInSweep = std::max(worst.zInSweep, e.zInSweep);
-        worst.zOutSweep = std::max(worst.zOutSweep, e.zOutSweep);
-        worst.sensitivity = std::max(worst.sensitivity, e.sensitivity);
+        worst.keepWorst(e);
         // Every candidate of an example design too.
         for (const Candidate &c : d->candidates) {
             Design v = *d;
@@ -179,10 +196,7 @@ TEST(FeedbackIdentities, HoldOnEveryExampleAndReferenceDesign)
             checkIdentities(v, f + " candidate " + c.name);
         }
     }
-    std::printf("worst relative: gain dc %.2e sweep %.2e; z_in dc %.2e sweep %.2e; z_out dc %.2e "
-                "sweep %.2e; sensitivity %.2e\n",
-                worst.gainDc, worst.gainSweep, worst.zInDc, worst.zInSweep, worst.zOutDc,
-                worst.zOutSweep, worst.sensitivity);
+    std::printf("worst relative: %s\n", worst.text().c_str());
 }
 
 // Canonical forms (ideal terminals: no r_in, r_out = 0) have no feed-through, so the
@@ -379,21 +393,12 @@ TEST(FeedbackIdentities, HoldOnRandomisedCircuitsOfAllFourTopologies)
             }
             ++handCount;
         }
-        worst.gainDc = std::max(worst.gainDc, e.gainDc);
-        worst.zInDc = std::max(worst.zInDc, e.zInDc);
-        worst.zOutDc = std::max(worst.zOutDc, e.zOutDc);
-        worst.gainSweep = std::max(worst.gainSweep, e.gainSweep);
-        worst.zInSweep = std::max(worst.zInSweep, e.zInSweep);
-        worst.zOutSweep = std::max(worst.zOutSweep, e.zOutSweep);
-        worst.sensitivity = std::max(worst.sensitivity, e.sensitivity);
+        worst.keepWorst(e);
         ++count;
     }
     EXPECT_EQ(count, 60);
     std::printf("exact DC against nodal analysis by hand on %d transimpedance circuits: gain "
                 "%.2e, z_in %.2e, z_out %.2e\n",
                 handCount, worstHand[0], worstHand[1], worstHand[2]);
-    std::printf("worst relative over %d random circuits: gain dc %.2e sweep %.2e; z_in dc %.2e "
-                "sweep %.2e; z_out dc %.2e sweep %.2e; sensitivity %.2e\n",
-                count, worst.gainDc, worst.gainSweep, worst.zInDc, worst.zInSweep, worst.zOutDc,
-                worst.zOutSweep, worst.sensitivity);
+    std::printf("worst relative over %d random circuits: %s\n", count, worst.text().c_str());
 }

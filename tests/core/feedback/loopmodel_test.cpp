@@ -26,6 +26,7 @@
 #include <random>
 #include <sstream>
 #include <string>
+#include <utility>
 #include <vector>
 
 using namespace loopsketch;
@@ -39,6 +40,26 @@ void setField(Design &d, const std::string &part, const std::string &field, doub
     Part *p = d.findPart(part);
     ASSERT_NE(p, nullptr) << part;
     p->fields[field] = Value{si, {}};
+}
+
+/// `d` analysed with its gain block's gain at 1e2 ... 1e7 V/V, each analysis checked to
+/// have the `topology` of `gainType` (the pairs: gain, analysis).
+std::vector<std::pair<double, Analysis>> overRisingGain(Design d, const std::string &topology,
+                                                        const std::string &gainType)
+{
+    std::vector<std::pair<double, Analysis>> out;
+    for (double g : {1e2, 1e3, 1e4, 1e5, 1e6, 1e7}) {
+        setField(d, "U1", "gain", g);
+        Analysis a = analyzeOrFail(d);
+        if (!a.topology) {
+            ADD_FAILURE() << "gain " << g << ": " << a.topologyReason;
+            continue;
+        }
+        EXPECT_EQ(a.topology->name(), topology);
+        EXPECT_EQ(a.topology->gainType(), gainType);
+        out.emplace_back(g, std::move(a));
+    }
+    return out;
 }
 
 } // namespace
@@ -245,15 +266,10 @@ TEST(FeedbackTextbook, SedraShuntShuntDerivedValues)
 // departure being 1/(1 + T).
 TEST(FeedbackHandbook, SeriesSeriesTransconductanceTendsToOneOverSenseResistor)
 {
-    Design d = loadReference("series-series-sense-resistor.loopsketch");
+    const Design d = loadReference("series-series-sense-resistor.loopsketch");
     const double rs = 1e3;
     double previous = 1.0;
-    for (double g : {1e2, 1e3, 1e4, 1e5, 1e6, 1e7}) {
-        setField(d, "U1", "gain", g);
-        const Analysis a = analyzeOrFail(d);
-        ASSERT_TRUE(a.topology.has_value()) << a.topologyReason;
-        EXPECT_EQ(a.topology->name(), "series-series");
-        EXPECT_EQ(a.topology->gainType(), "transconductance");
+    for (const auto &[g, a] : overRisingGain(d, "series-series", "transconductance")) {
         const double departure = std::abs(valueOf(a.exact.gain) * rs - 1.0);
         const double t = valueOf(a.returnRatio.loopGain);
         EXPECT_LT(departure, 2.0 / (1.0 + t)) << "gain " << g;
@@ -273,15 +289,10 @@ TEST(FeedbackHandbook, SeriesSeriesTransconductanceTendsToOneOverSenseResistor)
 // -(1 + R1/R2) as the gain grows.
 TEST(FeedbackHandbook, ShuntSeriesCurrentGainTendsToOnePlusR1OverR2)
 {
-    Design d = loadReference("shunt-series-current-amplifier.loopsketch");
+    const Design d = loadReference("shunt-series-current-amplifier.loopsketch");
     const double ideal = -(1.0 + 10e3 / 1e3);
     double previous = 1.0;
-    for (double g : {1e2, 1e3, 1e4, 1e5, 1e6, 1e7}) {
-        setField(d, "U1", "gain", g);
-        const Analysis a = analyzeOrFail(d);
-        ASSERT_TRUE(a.topology.has_value()) << a.topologyReason;
-        EXPECT_EQ(a.topology->name(), "shunt-series");
-        EXPECT_EQ(a.topology->gainType(), "current");
+    for (const auto &[g, a] : overRisingGain(d, "shunt-series", "current")) {
         const double departure = relErr(valueOf(a.exact.gain), ideal);
         const double t = valueOf(a.returnRatio.loopGain);
         // 1/(1+T) plus the share of the source current lost in its 100k r_parallel.
@@ -439,9 +450,8 @@ TEST(FeedbackTrade, SinglePoleBandwidthIsOpenLoopBandwidthTimesOnePlusT)
 // cancellation, so they hold to ~1e-15; the exact solution must match them to 1e-9.
 TEST(FeedbackAccuracy, DemoDcValuesMatchNodalAnalysisByHand)
 {
-    auto d = loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    ASSERT_TRUE(d.ok()) << d.errorText();
-    const Analysis a = analyzeOrFail(*d);
+    Design d = loadOrFail(kDesignsDir / "demo.loopsketch");
+    const Analysis a = analyzeOrFail(d);
     const double gain = std::pow(10.0, 110.0 / 20.0), ro = 50, rf = 1e6, rl = 10e3, rin = 1e12,
                  rpar = 500e6;
     const double k = (1 / rf - gain / ro) / (1 / ro + 1 / rf + 1 / rl);

@@ -135,21 +135,22 @@ TEST(FeedbackTwoPort, ConversionsAgreeWithDirectlyComputedSets)
 // ports on one node, so the two port voltages cannot be set independently).
 TEST(FeedbackTwoPort, MissingSetsFailWithAClearMessage)
 {
+    const auto expectMissing
+        = [](const std::vector<Part> &parts, const std::string &port2, ParameterSet set) {
+              auto missing = TwoPortNetwork::build(parts, "p1", port2, set);
+              ASSERT_FALSE(missing.ok());
+              EXPECT_THAT(missing.errorText(), HasSubstr(toString(set) + " parameters"));
+              EXPECT_THAT(missing.errorText(), HasSubstr("do not exist"));
+          };
     const std::vector<Part> series = {resistor("RA", "p1", "p2", 10e3)};
-    auto z = TwoPortNetwork::build(series, "p1", "p2", ParameterSet::Z);
-    ASSERT_FALSE(z.ok());
-    EXPECT_THAT(z.errorText(), HasSubstr("z parameters"));
-    EXPECT_THAT(z.errorText(), HasSubstr("do not exist"));
+    expectMissing(series, "p2", ParameterSet::Z);
     // The y set of the same network exists and cannot be converted to z.
     auto y = TwoPortNetwork::build(series, "p1", "p2", ParameterSet::Y);
     ASSERT_TRUE(y.ok()) << y.errorText();
     EXPECT_FALSE(convertTwoPort(y->at(0.0), ParameterSet::Y, ParameterSet::Z).has_value());
 
     const std::vector<Part> shorted = {resistor("RA", "p1", "0", 10e3)};
-    auto ys = TwoPortNetwork::build(shorted, "p1", "p1", ParameterSet::Y);
-    ASSERT_FALSE(ys.ok());
-    EXPECT_THAT(ys.errorText(), HasSubstr("y parameters"));
-    EXPECT_THAT(ys.errorText(), HasSubstr("do not exist"));
+    expectMissing(shorted, "p1", ParameterSet::Y);
     auto zs = TwoPortNetwork::build(shorted, "p1", "p1", ParameterSet::Z);
     ASSERT_TRUE(zs.ok()) << zs.errorText();
     EXPECT_NEAR(std::abs(zs->at(0.0)(0, 1)), 10e3, 1e-9);
