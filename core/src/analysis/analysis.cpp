@@ -11,6 +11,7 @@
 
 #include "analysis/noisefigures.h"
 #include "analysis/noisesweep.h"
+#include "analysis/sensitivity.h"
 
 #include <Eigen/LU>
 
@@ -99,8 +100,6 @@ std::string stepProblem(const Design &design, const std::string &message)
     return text;
 }
 
-constexpr double kSensitivityStep = 1e-6; // relative, central difference
-
 /// A DC value that exists only when finite.
 OptionalNumber finiteOrNone(double value)
 {
@@ -143,67 +142,6 @@ OptionalNumber decibels(const OptionalNumber &factor)
     if (!factor || !(std::abs(*factor) > 0))
         return std::nullopt;
     return finiteOrNone(20.0 * std::log10(std::abs(*factor)));
-}
-
-/// DC gain of the full circuit by one dense real solve (cheap enough for finite
-/// differences, and independent of the reduced path).
-OptionalNumber dcGain(const Design &design)
-{
-    auto system = assembleSystem(buildLoopNetlist(design));
-    if (!system)
-        return std::nullopt;
-    Eigen::PartialPivLU<Eigen::MatrixXd> lu(system->G);
-    const Eigen::VectorXd x = lu.solve(system->B.col(loopio::kSource));
-    if (!x.allFinite() || isSingular(system->G))
-        return std::nullopt;
-    return finiteOrNone(system->L.row(loopio::kOutput).dot(x));
-}
-
-/// The field whose sensitivity is reported for a part: its value, the gain block's gain,
-/// the source's own resistance. Empty when the part has none that acts at DC.
-std::string sensitivityField(const Part &p)
-{
-    switch (p.type) {
-    case PartType::GainBlock:
-        return "gain";
-    case PartType::VSource:
-        return p.number("r_series") > 0 ? "r_series" : "";
-    case PartType::ISource:
-        return p.has("r_parallel") ? "r_parallel" : "";
-    default:
-        return std::string(p.primaryField());
-    }
-}
-
-std::map<std::string, double> computeSensitivity(const Design &design, double gain)
-{
-    std::map<std::string, double> out;
-    if (!(std::abs(gain) > 0))
-        return out;
-    // One copy of the design, each field nudged and put back in turn: copying the whole
-    // design per nudge cost more than the solves.
-    Design d = design;
-    for (std::size_t i = 0; i < design.parts.size(); ++i) {
-        const std::string field = sensitivityField(design.parts[i]);
-        if (field.empty())
-            continue;
-        const double base = design.parts[i].number(field);
-        OptionalNumber g[2];
-        auto &fields = d.parts[i].fields;
-        const bool given = fields.count(field) != 0;
-        const auto original = given ? fields.at(field) : Value{};
-        for (int k = 0; k < 2; ++k) {
-            fields[field].si = base * (1.0 + (k ? kSensitivityStep : -kSensitivityStep));
-            g[k] = dcGain(d);
-        }
-        if (given)
-            fields[field] = original;
-        else
-            fields.erase(field);
-        if (g[0] && g[1])
-            out[design.parts[i].id] = (*g[1] - *g[0]) / (2 * kSensitivityStep * gain);
-    }
-    return out;
 }
 
 /// The DC summaries of the three methods (exact, return ratio, two-port) and the
@@ -387,7 +325,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
             a.step.problem = stepProblem(design, step.diagnostics().front().message);
     }
     if (a.exact.gain && options.sensitivity)
-        a.sensitivity = computeSensitivity(design, *a.exact.gain);
+        a.sensitivity = detail::gainSensitivity(design, *a.exact.gain, options.solver);
     if (options.noise)
         addNoise(design, options.noiseOptions, points, a);
     // The same check as the Candidates panel and the spread yield (checkSpecs()).

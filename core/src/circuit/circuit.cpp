@@ -195,21 +195,22 @@ private:
         return it == m_nodeIndex.end() ? -1 : it->second;
     }
 
-    void add(Eigen::MatrixXd &m, int r, int c, double v)
+    /// Adds v at (r, c); `power` as StampEntry::power.
+    void add(Eigen::MatrixXd &m, int r, int c, double v, int power = 0)
     {
         if (r < 0 || c < 0)
             return;
         m(r, c) += v;
         if (v != 0.0 && (&m == &m_sys.G || &m == &m_sys.C))
-            m_sys.stamps.push_back({m_origin, r, c, v, &m == &m_sys.C});
+            m_sys.stamps.push_back({m_origin, r, c, v, &m == &m_sys.C, power});
     }
 
-    void stampAdmittance(Eigen::MatrixXd &m, int a, int b, double y)
+    void stampAdmittance(Eigen::MatrixXd &m, int a, int b, double y, int power)
     {
-        add(m, a, a, y);
-        add(m, b, b, y);
-        add(m, a, b, -y);
-        add(m, b, a, -y);
+        add(m, a, a, y, power);
+        add(m, b, b, y, power);
+        add(m, a, b, -y, power);
+        add(m, b, a, -y, power);
     }
 
     std::string stampElement(const NetlistElement &e)
@@ -226,15 +227,15 @@ private:
                 add(m_sys.G, b, j, -1.0);
                 add(m_sys.G, j, a, 1.0);
                 add(m_sys.G, j, b, -1.0);
-                add(m_sys.G, j, j, -e.value);
+                add(m_sys.G, j, j, -e.value, 1);
             } else {
-                stampAdmittance(m_sys.G, a, b, 1.0 / e.value);
+                stampAdmittance(m_sys.G, a, b, 1.0 / e.value, -1);
             }
             break;
         case NetlistElement::Kind::Capacitor:
             if (e.value < 0)
                 return "capacitance must not be negative";
-            stampAdmittance(m_sys.C, a, b, e.value);
+            stampAdmittance(m_sys.C, a, b, e.value, 1);
             break;
         case NetlistElement::Kind::Inductor:
         case NetlistElement::Kind::VoltageSource: {
@@ -246,7 +247,7 @@ private:
             if (e.kind == NetlistElement::Kind::Inductor) {
                 if (!(e.value > 0))
                     return "inductance must be greater than zero";
-                add(m_sys.C, j, j, -e.value);
+                add(m_sys.C, j, j, -e.value, 1);
             } else if (e.input >= 0) {
                 m_sys.B(j, e.input) = 1.0;
             }
@@ -322,14 +323,14 @@ private:
             if (zeroIn[k] > 0) {
                 m_origin = zeroOrigin;
                 for (auto [i, coeff] : u)
-                    add(m_sys.C, row, i, -coeff / zeroIn[k]);
+                    add(m_sys.C, row, i, -coeff / zeroIn[k], -1);
             }
         };
         for (std::size_t k = 0; k < n; ++k) {
             const int w = states[k];
             m_origin = poleOrigin;
             add(m_sys.G, w, w, 1.0);
-            add(m_sys.C, w, w, 1.0 / wp[k]);
+            add(m_sys.C, w, w, 1.0 / wp[k], -1);
             link(w, k);
             u = {{w, 1.0}};
         }
@@ -351,7 +352,7 @@ private:
         if (cs.mode == ControlledSourceElement::Mode::Normal) {
             m_origin = gainOrigin;
             for (auto [i, coeff] : ret)
-                add(m_sys.G, branch, i, -coeff);
+                add(m_sys.G, branch, i, -coeff, 1);
         } else if (cs.testInput >= 0) {
             m_sys.B(branch, cs.testInput) = 1.0;
         }

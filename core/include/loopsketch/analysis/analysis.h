@@ -157,7 +157,7 @@ struct Analysis
 struct AnalysisOptions
 {
     SolverPath solver = SolverPath::Reduced;
-    bool sensitivity = true; ///< the per-part sensitivities (a few extra DC solves per part)
+    bool sensitivity = true; ///< the per-part sensitivities (adjoint: one extra DC solve)
     bool noise = true; ///< the noise analysis (one reduced solve per frequency)
     /// Every curve over the sweep; false: only those the metrics read (LoopModel::sweepLoop),
     /// the same metrics at less cost, for scans. Impedance and two-port curves stay empty.

@@ -33,6 +33,11 @@ struct StampEntry
     int col = 0;
     double value = 0;
     bool reactive = false;
+    /// The entry is proportional to its origin's field value raised to this power: 1 for a
+    /// gain, a capacitance, an inductance or a resistance stamped in impedance form, -1 for
+    /// a conductance or a 1/wp, 0 for the fixed +-1 of an element's connections. So
+    /// p * d(value)/dp = power * value, what the adjoint sensitivity needs.
+    int power = 0;
 };
 
 /// What an unknown is, for naming it in the user's words (see unknownLabel()).
