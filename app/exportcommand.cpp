@@ -79,7 +79,8 @@ int runExport(const Design &design, const Analysis &analysis, const ExportReques
         = {{request.svgDir, ui::PlotFormat::Svg}, {request.pngDir, ui::PlotFormat::Png}};
     for (const auto &[dir, format] : plotDirs) {
         if (!dir.empty()
-            && !ui::writeSheetPlots(analysis, QString::fromStdString(dir), format, &error)) {
+            && !ui::writeSheetPlots(design, analysis, QString::fromStdString(dir), format,
+                                    &error)) {
             err << "loopsketch: " << error.toStdString() << "\n";
             return kExitBadInput;
         }

@@ -144,6 +144,9 @@ protected:
         for (PlotPanel *panel : window->panels()) {
             EXPECT_THAT(panel->unavailableText().toStdString(),
                         ::testing::HasSubstr("Not analysed"));
+            // No tick values of the last analysis's ranges either.
+            for (const QAbstractAxis *axis : panel->chart()->axes())
+                EXPECT_EQ(axis->labelsColor().alpha(), 0) << axis->titleText().toStdString();
             for (QAbstractSeries *s : panel->chart()->series()) {
                 if (auto *xy = qobject_cast<QXYSeries *>(s)) {
                     EXPECT_EQ(xy->count(), 0) << xy->name().toStdString();

@@ -6,6 +6,7 @@
 #include "blankdesigntest.h"
 #include "windowchecks.h"
 
+#include "panels/candidatespanel.h"
 #include "panels/panels.h"
 #include "panels/plotpanel.h"
 #include "panels/readout.h"
@@ -34,6 +35,7 @@
 #include <QDropEvent>
 #include <QLineEdit>
 #include <QListWidget>
+#include <QMenu>
 #include <QMimeData>
 #include <QSignalSpy>
 #include <QTemporaryDir>
@@ -517,6 +519,83 @@ TEST_F(BlankDesignTest, StaleNeverWithAFloatingNode)
     expectNotAnalysed();
     EXPECT_FALSE(scene()->problemPart().empty());
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/stale-floating.png"));
+}
+
+TEST_F(BlankDesignTest, StaleAxisUnitsNeverSurviveFileNew)
+{
+    // The demo is a transimpedance stage: its Step axis reads in V/A. A blank design has no
+    // gain unit, so after File > New every axis must read as in a window that never held a
+    // design.
+    MainWindow fresh;
+    fresh.setAskBeforeDiscarding(false);
+    fresh.resize(1500, 940);
+    fresh.show();
+    fresh.newDesign();
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    ASSERT_NE(doc()->analysis(), nullptr);
+    window->newDesign();
+    settle();
+    QApplication::processEvents();
+    // The reason over the plots tells a user of a blank page how to begin.
+    EXPECT_EQ(window->panels().front()->unavailableText().toStdString(),
+              "Not analysed: no parts yet: place a signal source, a gain block, a load and a "
+              "ground to start");
+    ASSERT_EQ(window->panels().size(), fresh.panels().size());
+    for (std::size_t i = 0; i < window->panels().size(); ++i) {
+        const QList<QAbstractAxis *> used = window->panels()[i]->chart()->axes();
+        const QList<QAbstractAxis *> blank = fresh.panels()[i]->chart()->axes();
+        ASSERT_EQ(used.size(), blank.size());
+        for (qsizetype k = 0; k < used.size(); ++k) {
+            EXPECT_EQ(used[k]->titleText(), blank[k]->titleText())
+                << window->panels()[i]->chart()->title().toStdString();
+            EXPECT_FALSE(used[k]->titleText().contains(QStringLiteral("V/A")))
+                << used[k]->titleText().toStdString();
+        }
+    }
+}
+
+TEST_F(BlankDesignTest, StaleCandidateOverlaysNeverOutliveAPasteThatBreaksTheDesign)
+{
+    // With the candidates overlaid on every plot, pasting a copy of the whole demo (a second
+    // source, gain block and load) leaves a design that cannot be analysed: no curve of the
+    // design or of its candidates may stay, not even once the candidates have been redone.
+    openExample(QStringLiteral("demo.loopsketch"));
+    settle();
+    QAction *overlayAll = nullptr;
+    for (QAction *a : window->designMenu()->actions())
+        if (a->text() == QStringLiteral("Overlay candidates on every plot"))
+            overlayAll = a;
+    ASSERT_NE(overlayAll, nullptr);
+    overlayAll->trigger();
+    CandidatesPanel *candidates = window->candidatesPanel();
+    ASSERT_TRUE(QTest::qWaitFor(
+        [&] {
+            for (PlotPanel *p : window->panels())
+                if (p->hasOverlays() && p->overlaySeriesNames().isEmpty())
+                    return false;
+            return candidates->isUpToDate();
+        },
+        15000));
+    window->findChild<QAction *>(QStringLiteral("SelectAllAction"))->trigger();
+    window->findChild<QAction *>(QStringLiteral("CopyAction"))->trigger();
+    window->findChild<QAction *>(QStringLiteral("PasteAction"))->trigger();
+    settle();
+    expectNotAnalysed();
+    // The candidate columns are worked out again for the broken design; then too nothing
+    // may be drawn.
+    ASSERT_TRUE(QTest::qWaitFor(
+        [&] {
+            QApplication::processEvents();
+            return candidates->isUpToDate();
+        },
+        15000));
+    QApplication::processEvents();
+    expectNotAnalysed();
+    // Nor the gain sensitivities of the parts in the Desensitivity panel's tooltip.
+    for (PlotPanel *p : window->panels())
+        EXPECT_FALSE(p->toolTip().contains(QStringLiteral("RF"))) << p->toolTip().toStdString();
+    window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/stale-paste.png"));
 }
 
 } // namespace

@@ -198,16 +198,13 @@ TEST_F(CandidatesTest, SheetAndScreenNameEveryCurveAndOverlayAlike)
     EXPECT_EQ(LoopGainPanel::kT, QStringLiteral("T (return ratio)"));
     EXPECT_THAT(sheet, Not(HasSubstr("|T| (return ratio)")));
 
-    // Every overlay legend entry of the screen's frequency and step panels ("Fast: T, gain")
-    // is on the sheet too (the Poles panel's markers have no plot on the sheet), and each
-    // names every overlay curve's quantity.
+    // Every overlay legend entry of the screen's panels ("Fast: T, gain", "Fast: poles") is
+    // on the sheet too, and each names every overlay curve's quantity.
     QStringList candidates;
     for (const Candidate &c : doc()->design().candidates)
         candidates << toQString(c.name);
     int overlays = 0, entries = 0;
     for (PlotPanel *p : window->panels()) {
-        if (qobject_cast<PolesPanel *>(p))
-            continue;
         overlays += int(p->overlaySeriesNames().size());
         for (const QString &label : p->legendLabels()) {
             const qsizetype colon = label.indexOf(QStringLiteral(": "));
@@ -225,10 +222,10 @@ TEST_F(CandidatesTest, SheetAndScreenNameEveryCurveAndOverlayAlike)
             }
         }
     }
-    // Two candidates: T, gain, z_in, z_out, |1 + T|, step, output noise each; one legend
-    // entry per candidate on each of the five plots.
-    EXPECT_EQ(overlays, 2 * 7);
-    EXPECT_EQ(entries, 2 * 5);
+    // Two candidates: T, gain, z_in, z_out, |1 + T|, step, poles, output noise each; one
+    // legend entry per candidate on each of the six plots.
+    EXPECT_EQ(overlays, 2 * 8);
+    EXPECT_EQ(entries, 2 * 6);
     for (const QString &c : candidates) {
         EXPECT_THAT(
             sheet,

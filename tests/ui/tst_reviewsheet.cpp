@@ -192,7 +192,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
                       QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
     ASSERT_TRUE(QFileInfo::exists(pdf));
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "noise"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles", "noise"}) {
         QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
         ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
         EXPECT_THAT(f.readAll().toStdString(), HasSubstr("<polyline")) << stem;
@@ -265,10 +265,10 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 }
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
-                         testing::Values(SheetCase{"demo", 6}, SheetCase{"contact-mic-preamp", 5},
+                         testing::Values(SheetCase{"demo", 6}, SheetCase{"contact-mic-preamp", 6},
                                          SheetCase{"excitation-current-driver", 5},
                                          SheetCase{"gas-cell-current-amplifier", 6},
-                                         SheetCase{"turbidity-probe-front-end", 5}),
+                                         SheetCase{"turbidity-probe-front-end", 6}),
                          [](const testing::TestParamInfo<SheetCase> &param) {
                              std::string name = param.param.design;
                              std::erase(name, '-');
@@ -470,7 +470,7 @@ TEST(ReviewSheetPlots, PngFilesAreWholeImages)
     const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
     const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
-    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step"}) {
+    for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles"}) {
         const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
         ASSERT_FALSE(image.isNull()) << stem;
         // 170 mm x 110 mm at 150 dpi (reviewsheet.cpp), 25.4 mm per inch
@@ -483,6 +483,58 @@ TEST(ReviewSheetPlots, PngFilesAreWholeImages)
                 inked += image.pixel(x, y) != qRgb(255, 255, 255);
         EXPECT_GT(inked, 500) << stem;
     }
+}
+
+TEST(ReviewSheetPlots, PlotFilesCarryTheCandidatesAsTheSheetDoes)
+{
+    // The demo's two candidates (resources/designs/demo.loopsketch) are drawn on every plot
+    // file, SVG and PNG alike, with the legend entries the sheet and the panels give them.
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString pdf = tmp.filePath("sheet.pdf"), svg = tmp.filePath("svg"),
+                  png = tmp.filePath("png");
+    const CliRun r
+        = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--svg", svg, "--png", png});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const std::pair<const char *, const char *> expected[] = {
+        {"loop-gain", ": T, gain"}, {"impedance", ": z_in, z_out"}, {"desensitivity", ": |1 + T|"},
+        {"step", ": step"},         {"poles", ": poles"},           {"noise", ": output noise"}};
+    for (const auto &[stem, quantities] : expected) {
+        QFile f(QDir(svg).filePath(QLatin1String(stem) + ".svg"));
+        ASSERT_TRUE(f.open(QIODevice::ReadOnly)) << stem;
+        const QString text = QString::fromUtf8(f.readAll());
+        for (const char *candidate : {"Fast", "High gain"}) {
+            EXPECT_TRUE(text.contains(QLatin1String(candidate) + QLatin1String(quantities)))
+                << stem << ": no legend entry for " << candidate;
+        }
+    }
+    // The PNG of the poles shows the candidates' rings: more coloured pixels than the same
+    // design without candidates gives.
+    auto loaded = loopsketch::loadDesign(designPath("demo").toStdString());
+    ASSERT_TRUE(loaded) << loaded.errorText();
+    loopsketch::Design bare = *loaded;
+    bare.candidates.clear();
+    const QString barePath = tmp.filePath("bare.loopsketch"), barePng = tmp.filePath("bare");
+    {
+        QFile f(barePath);
+        ASSERT_TRUE(f.open(QIODevice::WriteOnly));
+        f.write(QByteArray::fromStdString(loopsketch::serializeDesign(bare)));
+    }
+    const CliRun b
+        = loopsketch({"export", barePath, "--pdf", tmp.filePath("bare.pdf"), "--png", barePng});
+    ASSERT_EQ(b.exitCode, 0) << b.err.toStdString();
+    const auto coloured = [](const QString &path) {
+        const QImage image(path);
+        int n = 0;
+        for (int y = 0; y < image.height(); ++y)
+            for (int x = 0; x < image.width(); ++x)
+                n += image.pixelColor(x, y).hsvSaturation() > 100;
+        return n;
+    };
+    const int with = coloured(QDir(png).filePath(QStringLiteral("poles.png")));
+    const int without = coloured(QDir(barePng).filePath(QStringLiteral("poles.png")));
+    EXPECT_GT(with, without + 100)
+        << with << " coloured pixels with candidates, " << without << " without";
 }
 
 TEST(ReviewSheetCandidates, ComparisonShowsEachCandidatesAnalysis)

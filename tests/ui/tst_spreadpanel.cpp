@@ -140,7 +140,7 @@ TEST_F(SpreadPanelTest, RunShowsCoreMonteCarloAndWorstCaseForTheSameSeed)
 {
     panel->setTrials(3000);
     panel->setSeed(5);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     const SpreadOptions options = panel->options();
     EXPECT_EQ(options.trials, 3000);
     EXPECT_EQ(options.seed, 5u);
@@ -199,7 +199,7 @@ TEST_F(SpreadPanelTest, NormalDistributionAndGainBlockSpreadReachCore)
     panel->setSeed(11);
     panel->setDistribution(SpreadDistribution::Normal);
     panel->setGainSpreadPct(50);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     const SpreadOptions options = panel->options();
     EXPECT_EQ(options.distribution, SpreadDistribution::Normal);
     ASSERT_TRUE(options.gainSpread);
@@ -213,7 +213,7 @@ TEST_F(SpreadPanelTest, NormalDistributionAndGainBlockSpreadReachCore)
 TEST_F(SpreadPanelTest, HistogramsHoldEveryTrialAndNameTheirUnits)
 {
     panel->setTrials(2000);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     const MonteCarloResult &mc = panel->lastResult()->monteCarlo;
     const MetricStats *stats[] = {&mc.gain, &mc.bandwidthHz, &mc.phaseMarginDeg};
     // demo: about -1 MV/A, about 90 kHz, about 76 degrees
@@ -271,12 +271,12 @@ TEST_F(SpreadPanelTest, SameSeedTwiceGivesTheSameTexts)
 {
     panel->setTrials(800);
     panel->setSeed(3);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     const QString first = panel->cellText(Metric::Bandwidth, Column::Mean);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     EXPECT_EQ(panel->cellText(Metric::Bandwidth, Column::Mean), first);
     panel->setSeed(4);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     EXPECT_NE(panel->cellText(Metric::Bandwidth, Column::Mean), first);
 }
 
@@ -325,14 +325,14 @@ TEST_F(SpreadPanelTest, DesignChangeDuringARunCancelsIt)
     EXPECT_EQ(panel->lastResult(), nullptr);
     // The next run is for the design as it is now.
     panel->setTrials(500);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     expectPanelShowsCore(*panel, document->design(), panel->options());
 }
 
 TEST_F(SpreadPanelTest, EditAfterARunMarksTheResultOutOfDate)
 {
     panel->setTrials(500);
-    runAndWait();
+    ASSERT_NO_FATAL_FAILURE(runAndWait());
     ASSERT_NE(panel->completedResult(), nullptr);
     ASSERT_TRUE(document->stepPart("CF", 1, false));
     EXPECT_EQ(panel->completedResult(), nullptr);

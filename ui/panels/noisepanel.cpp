@@ -119,8 +119,8 @@ std::optional<double> noiseSharePct(const NoiseAnalysis &n, const NoiseContribut
 NoisePanel::NoisePanel(QWidget *parent) : PlotPanel(tr("Noise"), parent)
 {
     m_x = addLogAxis(tr("frequency (Hz)"), Qt::AlignBottom);
-    m_y = addLogAxis(tr("output (V/√Hz)"), Qt::AlignLeft);
-    m_yInput = addLogAxis(tr("input (A/√Hz)"), Qt::AlignRight);
+    m_y = addLogAxis(tr("output"), Qt::AlignLeft);
+    m_yInput = addLogAxis(tr("input"), Qt::AlignRight);
     m_yInput->setGridLineVisible(false);
     // The right axis reads in the input-referred curve's colour.
     m_yInput->setTitleBrush(curveStyle(PlotCurve::NoiseInput).colour.darker(115));
@@ -610,10 +610,12 @@ void NoisePanel::placeOverlays()
     const QRectF plot = chart()->plotArea();
     // Axis titles with their quantity where the plot is tall enough, else the unit alone
     // (the right axis keeps the input-referred curve's colour either way).
+    // Without an analysis there is no unit to state: the quantity alone.
+    const bool analysed = unavailableText().isEmpty();
     const auto title = [&](QCategoryAxis *axis, const QString &quantity, const QString &unit) {
         const QString full = tr("%1 (%2/√Hz)").arg(quantity, unit);
-        const QString text
-            = QFontMetricsF(axis->titleFont()).horizontalAdvance(full) + 8 < plot.height()
+        const QString text = !analysed || unit.isEmpty() ? quantity
+            : QFontMetricsF(axis->titleFont()).horizontalAdvance(full) + 8 < plot.height()
             ? full
             : tr("%1/√Hz").arg(unit);
         if (axis->titleText() != text)

@@ -367,11 +367,9 @@ std::vector<PlotPanel::OverlayLine> PolesPanel::overlayLines(const Analysis &a) 
 
 QPointF PolesPanel::plotted(std::complex<double> s) const
 {
-    const double magnitude = std::abs(s);
-    if (!(magnitude > 0))
-        return {0.0, 0.0};
-    const double radius = kInnerRadius + std::log10(magnitude / m_r0);
-    return {radius * s.real() / magnitude, radius * s.imag() / magnitude};
+    PoleScale scale;
+    scale.r0 = m_r0;
+    return scale.map(s);
 }
 
 namespace {
@@ -390,28 +388,19 @@ QString signedEngineering(double value)
 void PolesPanel::showAnalysis(const Analysis &a)
 {
     m_shown.clear();
-    double smallest = 0;
     for (const ClosedLoopPole &p : a.poles) {
-        if (!std::isfinite(p.s.real()) || !std::isfinite(p.s.imag()))
-            continue;
-        m_shown.push_back(p);
-        const double magnitude = std::abs(p.s);
-        if (magnitude > 0 && (smallest == 0 || magnitude < smallest))
-            smallest = magnitude;
+        if (std::isfinite(p.s.real()) && std::isfinite(p.s.imag()))
+            m_shown.push_back(p);
     }
-    m_r0 = smallest > 0 ? std::pow(10.0, std::floor(std::log10(smallest))) : 1.0;
+    // The scale the review sheet draws too (support/polescale.h).
+    const PoleScale scale = PoleScale::fit(m_shown);
+    m_r0 = scale.r0;
     m_points.clear();
-    double outer = kInnerRadius;
-    m_rightMost = 0;
-    for (const ClosedLoopPole &p : m_shown) {
-        const QPointF at = plotted(p.s);
-        m_points.append(at);
-        outer = std::max(outer, std::hypot(at.x(), at.y()));
-        m_rightMost = std::max(m_rightMost, at.x());
-    }
-    // Circles from r0 out to the last decade inside the outermost pole (or r0 alone).
-    m_ringCount = smallest > 0 ? std::min(40, int(std::floor(outer - kInnerRadius + 1e-9)) + 1) : 0;
-    m_outer = outer;
+    for (const ClosedLoopPole &p : m_shown)
+        m_points.append(plotted(p.s));
+    m_rightMost = scale.rightMost;
+    m_ringCount = scale.rings;
+    m_outer = scale.outer;
     // One circle a decade, 1 (r0) to the outermost pole's.
     constexpr int kSegments = 144;
     while (int(m_rings.size()) < m_ringCount) {
@@ -432,13 +421,13 @@ void PolesPanel::showAnalysis(const Analysis &a)
     for (std::size_t k = 0; k < m_rings.size(); ++k) {
         QList<QPointF> circle;
         if (int(k) < m_ringCount) {
-            const double radius = kInnerRadius + double(k);
+            const double radius = PoleScale::ringRadius(int(k));
             for (int i = 0; i <= kSegments; ++i) {
                 const double angle = 2.0 * M_PI * i / kSegments;
                 circle.append(QPointF(radius * std::cos(angle), radius * std::sin(angle)));
             }
             m_ringLabels[k]->setText(
-                toQString(formatEngineering(m_r0 * std::pow(10.0, double(k)), 3, "rad/s")));
+                toQString(formatEngineering(scale.ringValue(int(k)), 3, "rad/s")));
         }
         m_rings[k]->replace(circle);
     }

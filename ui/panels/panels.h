@@ -4,6 +4,7 @@
 // beyond turning complex values into dB and degrees for display.
 
 #include "panels/plotpanel.h"
+#include "support/polescale.h"
 
 #include <complex>
 
@@ -138,7 +139,7 @@ private:
     QList<QPointF> m_points;
     /// Radius of the circle at r0: the empty disc inside it keeps the smallest poles clear
     /// of the centre and of their conjugates.
-    static constexpr double kInnerRadius = 2.0;
+    static constexpr double kInnerRadius = PoleScale::kInnerRadius;
     double m_r0 = 1.0; ///< rad/s at radius kInnerRadius
     double m_outer = kInnerRadius; ///< radius of the outermost pole
     int m_ringCount = 0;

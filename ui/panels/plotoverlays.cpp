@@ -112,7 +112,9 @@ QXYSeries *PlotPanel::overlaySeries(std::size_t slot, const OverlayLine &line, c
 void PlotPanel::rebuildOverlays()
 {
     std::size_t used = 0;
-    if (m_overlayAction && m_overlayAction->isChecked() && m_overlayX) {
+    // A design that cannot be analysed has no candidates to show either.
+    const bool unavailable = m_unavailable && m_unavailable->isVisible();
+    if (m_overlayAction && m_overlayAction->isChecked() && m_overlayX && !unavailable) {
         for (std::size_t i = 0; i < m_overlaySources.size(); ++i) {
             const OverlaySource &source = m_overlaySources[i];
             if (!source.analysis || source.analysis->frequenciesHz.empty())

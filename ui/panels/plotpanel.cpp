@@ -25,6 +25,11 @@ namespace loopsketch::ui {
 
 namespace {
 
+/// The axis property holding the title an axis was made with (no analysis's unit in it).
+const char *const kHomeTitle = "loopsketchHomeTitle";
+/// The axis property holding the label colour while an analysis is shown.
+const char *const kShownLabelColour = "loopsketchShownLabelColour";
+
 /// 1, 2 or 5 times a power of ten, so that `span` holds at most about `ticks` steps.
 double niceStep(double span, double ticks)
 {
@@ -37,10 +42,12 @@ double niceStep(double span, double ticks)
     return 10.0 * decade;
 }
 
-/// The panels' axis look: the title in 8.5 pt, the labels in 8 pt, light grid lines.
+/// The panels' axis look (and the title it was made with, for showUnavailable()): the title in 8.5
+/// pt, the labels in 8 pt, light grid lines.
 void styleAxis(QAbstractAxis *axis, const QString &title)
 {
     axis->setTitleText(title);
+    axis->setProperty(kHomeTitle, title);
     QFont f = axis->titleFont();
     f.setPointSizeF(8.5);
     f.setBold(false);
@@ -323,11 +330,34 @@ void PlotPanel::applyRange(QValueAxis *axis, double lo, double hi, double step)
 
 void PlotPanel::showUnavailable(const QString &reason)
 {
+    // What an analysis writes into the axes and the tooltip (units, ranges, sensitivities) is
+    // taken back to what the panel had before any analysis.
+    if (!m_homeCaptured) {
+        m_homeToolTip = toolTip();
+        m_homeCaptured = true;
+    }
     if (reason.isEmpty()) {
-        if (m_unavailable)
+        if (m_unavailable && m_unavailable->isVisible()) {
             m_unavailable->hide();
+            for (QAbstractAxis *axis : chart()->axes()) {
+                if (const QVariant colour = axis->property(kShownLabelColour); colour.isValid())
+                    axis->setLabelsColor(colour.value<QColor>());
+            }
+            refreshOverlays();
+        }
         return;
     }
+    for (QAbstractAxis *axis : chart()->axes()) {
+        if (const QVariant home = axis->property(kHomeTitle); home.isValid())
+            axis->setTitleText(home.toString());
+        // Transparent rather than hidden: Qt Charts 6.4 lays a title out from its labels, and
+        // hidden labels squeeze the title to an ellipsis.
+        if (axis->labelsColor().alpha() != 0) {
+            axis->setProperty(kShownLabelColour, axis->labelsColor());
+            axis->setLabelsColor(Qt::transparent);
+        }
+    }
+    setToolTip(m_homeToolTip);
     static const QRegularExpression count(QStringLiteral(" \\(\\d+\\)$"));
     std::vector<std::pair<QXYSeries *, QString>> counted;
     for (auto &[name, series] : m_series) {

@@ -226,6 +226,8 @@ private:
     void placeLegend();
     QGraphicsSimpleTextItem *m_summary = nullptr;
     QGraphicsTextItem *m_unavailable = nullptr;
+    QString m_homeToolTip; ///< the tooltip before any analysis, shown while unavailable
+    bool m_homeCaptured = false;
     QAction *m_overlayAction = nullptr;
     QToolButton *m_overlayButton = nullptr;
     std::vector<OverlaySource> m_overlaySources;

@@ -164,9 +164,11 @@ QString plotFileSuffix(PlotFormat format)
     return format == PlotFormat::Svg ? QStringLiteral(".svg") : QStringLiteral(".png");
 }
 
-bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
-                     QString *error)
+bool writeSheetPlots(const Design &design, const Analysis &analysis, const QString &dir,
+                     PlotFormat format, QString *error)
 {
+    const std::vector<SheetCandidate> candidates = sheetCandidates(design, analysis);
+    const std::vector<SheetOverlay> overlays = sheetOverlays(candidates);
     if (!QDir().mkpath(dir)) {
         if (error)
             *error = QStringLiteral("%1: cannot create the directory").arg(dir);
@@ -196,7 +198,7 @@ bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat fo
             QPainter painter;
             if (painter.begin(&svg)) {
                 painter.fillRect(QRectF(QPointF(0, 0), QSizeF(px)), Qt::white);
-                drawSheetPlot(painter, plotRect, k, plot, analysis);
+                drawSheetPlot(painter, plotRect, k, plot, analysis, overlays);
                 rendered = painter.end() && buffer.data().trimmed().endsWith("</svg>");
             }
         } else {
@@ -209,7 +211,7 @@ bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat fo
             if (painter.begin(&image)) {
                 painter.setRenderHint(QPainter::Antialiasing);
                 painter.setRenderHint(QPainter::TextAntialiasing);
-                drawSheetPlot(painter, plotRect, k, plot, analysis);
+                drawSheetPlot(painter, plotRect, k, plot, analysis, overlays);
                 if (painter.end()) {
                     image.setText(QStringLiteral("Title"),
                                   q(analysis.title) + QStringLiteral(" — ")

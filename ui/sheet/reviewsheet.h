@@ -40,12 +40,12 @@ bool computeSheetSpread(const Design &design, int trials, std::uint64_t seed,
                         const std::string &file, std::optional<SheetSpread> *out, QString *error);
 
 /// The plots of the sheet, in sheet order.
-enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step, Noise };
+enum class SheetPlot { LoopGain, Impedance, Desensitivity, Step, Poles, Noise };
 
 /// All plots, in sheet order.
 inline constexpr SheetPlot kSheetPlots[]
-    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity, SheetPlot::Step,
-       SheetPlot::Noise};
+    = {SheetPlot::LoopGain, SheetPlot::Impedance, SheetPlot::Desensitivity,
+       SheetPlot::Step,     SheetPlot::Poles,     SheetPlot::Noise};
 
 /// File name stem of a plot's SVG ("loop-gain", "impedance" ...).
 QString sheetPlotFileStem(SheetPlot plot);
@@ -91,9 +91,11 @@ enum class PlotFormat { Svg, Png };
 QString plotFileSuffix(PlotFormat format);
 
 /// Writes one file per plot (vector SVG, or PNG at 150 dpi) into directory `dir` (created
-/// when missing), each rendered into memory and written by core's output writer. On failure
-/// returns false and sets `error` to a message naming the file and the reason.
-bool writeSheetPlots(const Analysis &analysis, const QString &dir, PlotFormat format,
-                     QString *error);
+/// when missing), each rendered into memory and written by core's output writer. The plots
+/// carry the design's candidates as the review sheet's do (each analysed with core's
+/// applyCandidate() rule). On failure returns false and sets `error` to a message naming the
+/// file and the reason.
+bool writeSheetPlots(const Design &design, const Analysis &analysis, const QString &dir,
+                     PlotFormat format, QString *error);
 
 } // namespace loopsketch::ui

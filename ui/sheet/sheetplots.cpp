@@ -3,6 +3,7 @@
 #include "panels/noisepanel.h"
 #include "sheet/sheetwriter.h"
 #include "support/plotstyle.h"
+#include "support/polescale.h"
 
 #include "loopsketch/analysis/metrics.h"
 
@@ -32,6 +33,8 @@ struct Series
     Qt::PenStyle style = Qt::SolidLine;
     int overlay = -1; ///< the candidate's index for an overlay curve
     PlotCurve curve = PlotCurve::A; ///< the table's curve (overlays)
+    enum class Marker { None, Filled, Hollow };
+    Marker marker = Marker::None; ///< drawn as markers (poles), not as a line
 };
 
 struct Axis
@@ -275,6 +278,25 @@ bool hasFinite(const Curve &c)
                        [](const auto &v) { return std::isfinite(std::abs(v)); });
 }
 
+/// A pole's marker as the Poles panel draws it: the design's a filled square, a candidate's
+/// a ring in its colour.
+void drawPoleMarker(QPainter &p, QPointF at, double k, const Series &s)
+{
+    const double r = 0.9 * k;
+    p.save();
+    p.setRenderHint(QPainter::Antialiasing);
+    if (s.marker == Series::Marker::Filled) {
+        p.setPen(QPen(s.colour.darker(130), 0.12 * k));
+        p.setBrush(s.colour);
+        p.drawRect(QRectF(at.x() - r, at.y() - r, 2 * r, 2 * r));
+    } else {
+        p.setPen(QPen(s.colour, 0.3 * k));
+        p.setBrush(Qt::NoBrush);
+        p.drawEllipse(at, 1.15 * r, 1.15 * r);
+    }
+    p.restore();
+}
+
 /// Lays the legend out in rows within `width`; returns the rows' entries (indices).
 std::vector<std::vector<std::size_t>> legendRows(const QFontMetricsF &fm, double width, double k,
                                                  const std::vector<Series> &series)
@@ -307,8 +329,12 @@ double drawLegend(QPainter &p, const QRectF &area, double k, const std::vector<S
         double x = area.left();
         for (std::size_t i : row) {
             const Series &s = series[i];
-            p.setPen(QPen(s.colour, 0.5 * k, s.style));
-            p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+            if (s.marker == Series::Marker::None) {
+                p.setPen(QPen(s.colour, 0.5 * k, s.style));
+                p.drawLine(QPointF(x, y), QPointF(x + 6 * k, y));
+            } else {
+                drawPoleMarker(p, QPointF(x + 3 * k, y), k, s);
+            }
             x += 7 * k;
             p.setPen(kInk);
             p.drawText(QPointF(x, y + fm.ascent() / 2 - fm.descent() / 2), s.name);
@@ -392,6 +418,8 @@ QString sheetPlotFileStem(SheetPlot plot)
         return QStringLiteral("desensitivity");
     case SheetPlot::Step:
         return QStringLiteral("step");
+    case SheetPlot::Poles:
+        return QStringLiteral("poles");
     case SheetPlot::Noise:
         return QStringLiteral("noise");
     }
@@ -474,6 +502,24 @@ std::vector<Series> stepPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
         st.push_back(std::move(s));
     };
     add(a, -1, {});
+    if (!a.stable || !std::any_of(a.step.response.begin(), a.step.response.end(), [](double v) {
+            return std::isfinite(v);
+        })) {
+        // No axes for a response that does not exist: they would read as a flat one.
+        const QRectF area(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
+        p.setPen(QPen(kRule, 0.25 * f.k));
+        p.setBrush(Qt::NoBrush);
+        p.drawRect(area);
+        p.setFont(sheetFont(kBodyPt));
+        p.setPen(kInk);
+        p.drawText(area, Qt::AlignCenter | Qt::TextWordWrap,
+                   a.stable ? QStringLiteral("No step response: %1")
+                                  .arg(a.step.problem.empty() ? QStringLiteral("not computed")
+                                                              : q(a.step.problem))
+                            : QStringLiteral("No step response: the loop is unstable (its "
+                                             "closed-loop poles are on the Poles plot)"));
+        return {};
+    }
     for (std::size_t i = 0; i < overlays.size(); ++i) {
         if (overlays[i].analysis->stable)
             add(*overlays[i].analysis, int(i), overlays[i].name);
@@ -506,6 +552,184 @@ std::vector<Series> stepPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
     drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, f.bottom)), f.k, x, y, st,
               q(a.gainUnit), true, QStringLiteral("time"), false);
     return st;
+}
+
+/// "−860k" with a true minus sign.
+QString signedEngineering(double value)
+{
+    QString text = QString::fromStdString(formatEngineering(value, 3));
+    if (text.startsWith(QLatin1Char('-')))
+        text.replace(0, 1, QStringLiteral("−"));
+    return text;
+}
+
+/// The closed-loop poles on the Poles panel's log-magnitude radial scale (support/polescale.h):
+/// one circle a decade labelled in rad/s, the jω and real axes, the design's poles as filled
+/// squares with their values beside them (the dominant ones first), each candidate's as rings.
+std::vector<Series> polesPlot(QPainter &p, const PlotFrame &f, const Analysis &a,
+                              const std::vector<SheetOverlay> &overlays)
+{
+    std::vector<ClosedLoopPole> shown;
+    for (const ClosedLoopPole &pole : a.poles) {
+        if (std::isfinite(pole.s.real()) && std::isfinite(pole.s.imag()))
+            shown.push_back(pole);
+    }
+    const PoleScale scale = PoleScale::fit(shown);
+    Series own = styled(PlotCurve::Poles);
+    own.name = QStringLiteral("%1 (%2)").arg(own.name).arg(shown.size());
+    own.marker = Series::Marker::Filled;
+    std::vector<Series> legend{own};
+    std::vector<std::vector<QPointF>> candidatePoints;
+    for (std::size_t i = 0; i < overlays.size(); ++i) {
+        Series s = styled(PlotCurve::Poles, int(i), overlays[i].name);
+        s.marker = Series::Marker::Hollow;
+        legend.push_back(s);
+        std::vector<QPointF> points;
+        for (const ClosedLoopPole &pole : overlays[i].analysis->poles) {
+            if (std::isfinite(pole.s.real()) && std::isfinite(pole.s.imag()))
+                points.push_back(scale.map(pole.s));
+        }
+        candidatePoints.push_back(std::move(points));
+    }
+    // Every circle and pole inside, the right half-plane at least a third of the radius wide,
+    // one unit as long across as up so circles stay round and angles true.
+    const double reach = scale.outer + 0.4;
+    const double left = -reach, right = std::max(0.35 * reach, scale.rightMost + 0.4);
+    const QRectF frame(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
+    const double perUnit = std::min(frame.width() / (right - left), frame.height() / (2 * reach));
+    // The frame hugs the picture (with room for the values beside the outer poles), so the
+    // scale reads at the plot's size rather than floating in an empty box.
+    const double width = std::min(frame.width(), (right - left) * perUnit + 36 * f.k);
+    const QRectF area(frame.center().x() - width / 2, frame.top(), width, frame.height());
+    const QPointF origin(area.center().x() - (left + right) / 2 * perUnit, area.center().y());
+    const auto at = [&](QPointF u) {
+        return QPointF(origin.x() + u.x() * perUnit, origin.y() - u.y() * perUnit);
+    };
+    const double k = f.k;
+    const QFont small = sheetFont(6.5);
+    const QFontMetricsF fm(small, p.device());
+    p.save();
+    p.setClipRect(area);
+    p.setRenderHint(QPainter::Antialiasing);
+    p.setFont(small);
+    std::vector<QRectF> taken;
+    // Decade circles and their values on the lower jω axis.
+    for (int ring = 0; ring < scale.rings; ++ring) {
+        const double radius = PoleScale::ringRadius(ring) * perUnit;
+        p.setPen(QPen(kGrid, 0.15 * k));
+        p.setBrush(Qt::NoBrush);
+        p.drawEllipse(origin, radius, radius);
+    }
+    p.setPen(QPen(kRule, 0.15 * k, Qt::DotLine));
+    p.drawLine(at(QPointF(0, -reach)), at(QPointF(0, reach)));
+    p.drawLine(at(QPointF(-reach, 0)), at(QPointF(right - 0.1, 0)));
+    // The markers first, so no label covers one.
+    for (const ClosedLoopPole &pole : shown) {
+        const QPointF m = at(scale.map(pole.s));
+        taken.emplace_back(m.x() - 1.2 * k, m.y() - 1.2 * k, 2.4 * k, 2.4 * k);
+    }
+    const auto place
+        = [&](const QString &text, std::initializer_list<QPointF> corners, const QColor &colour) {
+              const QSizeF size(fm.horizontalAdvance(text), fm.height());
+              for (const QPointF &corner : corners) {
+                  const QRectF spot(corner, size);
+                  bool free = area.contains(spot);
+                  for (const QRectF &r : taken)
+                      free = free && !r.intersects(spot);
+                  if (free) {
+                      p.setPen(colour);
+                      p.drawText(QPointF(spot.left(), spot.top() + fm.ascent()), text);
+                      taken.push_back(spot);
+                      return;
+                  }
+              }
+          };
+    // Pole values, upper half-plane and real axis, the dominant (smallest |s|) first;
+    // coincident poles say how many they are.
+    struct Label
+    {
+        QPointF at;
+        QString text;
+        double size;
+    };
+    std::vector<Label> labels;
+    std::vector<bool> done(shown.size(), false);
+    for (std::size_t i = 0; i < shown.size(); ++i) {
+        if (done[i] || shown[i].s.imag() < 0)
+            continue;
+        int same = 0;
+        for (std::size_t j = i; j < shown.size(); ++j) {
+            if (!done[j] && std::abs(shown[j].s - shown[i].s) <= 1e-9 * std::abs(shown[i].s)) {
+                done[j] = true;
+                ++same;
+            }
+        }
+        const std::complex<double> s = shown[i].s;
+        QString text = signedEngineering(s.real());
+        if (s.imag() > 0)
+            text += QStringLiteral(" ± j") + QString::fromStdString(formatEngineering(s.imag(), 3));
+        if (same > 1)
+            text += QStringLiteral(" (×%1)").arg(same);
+        labels.push_back({at(scale.map(s)), text, std::abs(s)});
+    }
+    std::stable_sort(labels.begin(), labels.end(),
+                     [](const Label &l, const Label &r) { return l.size < r.size; });
+    const QColor valueColour = palette::kVermillion.darker(140);
+    for (const Label &l : labels) {
+        const double w = fm.horizontalAdvance(l.text), h = fm.height(), g = 1.4 * k;
+        place(l.text,
+              {QPointF(l.at.x() + g, l.at.y() - h - 0.2 * k),
+               QPointF(l.at.x() - g - w, l.at.y() - h - 0.2 * k),
+               QPointF(l.at.x() + g, l.at.y() + 0.2 * k),
+               QPointF(l.at.x() - g - w, l.at.y() + 0.2 * k),
+               QPointF(l.at.x() - w / 2, l.at.y() - h - g),
+               QPointF(l.at.x() - w / 2, l.at.y() + g)},
+              valueColour);
+    }
+    // Axis names and circle values.
+    const QFont italic = [&] {
+        QFont font = small;
+        font.setItalic(true);
+        return font;
+    }();
+    p.setFont(italic);
+    const QPointF realEnd = at(QPointF(right - 0.1, 0)), jwTop = at(QPointF(0, reach));
+    place(
+        QStringLiteral("Re s"),
+        {QPointF(realEnd.x() - fm.horizontalAdvance(QStringLiteral("Re s")), realEnd.y() + 0.5 * k),
+         QPointF(realEnd.x() - fm.horizontalAdvance(QStringLiteral("Re s")),
+                 realEnd.y() - fm.height() - 0.5 * k)},
+        kRule.darker(130));
+    place(QStringLiteral("jω"), {QPointF(jwTop.x() + 1 * k, jwTop.y() + 0.5 * k)},
+          kRule.darker(130));
+    p.setFont(small);
+    for (int ring = 0; ring < scale.rings; ++ring) {
+        const QPointF c = at(QPointF(0, -PoleScale::ringRadius(ring)));
+        const QString text
+            = QString::fromStdString(formatEngineering(scale.ringValue(ring), 3, "rad/s"));
+        const double w = fm.horizontalAdvance(text);
+        place(text,
+              {QPointF(c.x() + 0.8 * k, c.y() - fm.height()),
+               QPointF(c.x() - 0.8 * k - w, c.y() - fm.height())},
+              kRule.darker(150));
+    }
+    // Candidates' rings under the design's squares.
+    for (std::size_t i = 0; i < candidatePoints.size(); ++i) {
+        for (const QPointF &u : candidatePoints[i])
+            drawPoleMarker(p, at(u), k, legend[i + 1]);
+    }
+    for (const ClosedLoopPole &pole : shown)
+        drawPoleMarker(p, at(scale.map(pole.s)), k, own);
+    p.restore();
+    p.setPen(QPen(kRule, 0.25 * k));
+    p.setBrush(Qt::NoBrush);
+    p.drawRect(area);
+    if (shown.empty()) {
+        p.setFont(sheetFont(kBodyPt));
+        p.setPen(kInk);
+        p.drawText(area, Qt::AlignCenter, QStringLiteral("No finite closed-loop poles"));
+    }
+    return legend;
 }
 
 /// Output density with the three largest sources' own, the input-referred density below.
@@ -551,7 +775,7 @@ std::vector<Series> noisePlot(QPainter &p, const PlotFrame &f, const Analysis &a
               decadeAxis(out, 6), out, QStringLiteral("output (%1/√Hz)").arg(u.output), false, {},
               true);
     drawPanel(p, QRectF(QPointF(f.left, mid + 3 * k), QPointF(f.right, f.bottom)), k, f.frequency,
-              decadeAxis(in, 4), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
+              decadeAxis(in, 6), in, QStringLiteral("input (%1/√Hz)").arg(u.input), true,
               QStringLiteral("Hz"), true);
     std::vector<Series> legend = out;
     legend.insert(legend.begin() + 1, in.front());
@@ -572,6 +796,10 @@ QString plotTitle(SheetPlot plot, const Analysis &a)
         return a.stable
             ? QStringLiteral("Step response (per unit source step, %1)").arg(q(a.gainUnit))
             : QStringLiteral("Step response: none, the loop is unstable");
+    case SheetPlot::Poles:
+        return a.stable ? QStringLiteral("Closed-loop poles (log-magnitude radial scale, rad/s)")
+                        : QStringLiteral("Closed-loop poles: UNSTABLE, %1 in the right half-plane")
+                              .arg(a.rhpPoles);
     case SheetPlot::Noise:
         return QStringLiteral("Noise density, output and input-referred");
     }
@@ -595,6 +823,8 @@ std::vector<Series> plotSeries(QPainter &p, const PlotFrame &f, SheetPlot plot, 
                              {{PlotCurve::Desensitivity, &LoopCurves::desensitivity}}, false);
     case SheetPlot::Step:
         return stepPlot(p, f, a, overlays);
+    case SheetPlot::Poles:
+        return polesPlot(p, f, a, overlays);
     case SheetPlot::Noise:
         return noisePlot(p, f, a, overlays);
     }

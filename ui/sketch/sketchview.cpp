@@ -101,6 +101,21 @@ void SketchView::wheelEvent(QWheelEvent *event)
     event->accept();
 }
 
+std::vector<std::pair<QString, QString>> SketchView::keyHelp()
+{
+    return {
+        {tr("Wheel over a part; Up, Down"), tr("Step the value through its E-series")},
+        {tr("Shift+wheel; Shift+Up, Shift+Down"), tr("Step the value by a decade")},
+        {tr("R"), tr("Rotate the selected part")},
+        {tr("H"), tr("Mirror the selected part left to right")},
+        {tr("Delete; Backspace"), tr("Delete the selected parts, grounds and wires")},
+        {tr("+; -; Ctrl+wheel"), tr("Zoom the Sketch")},
+        {tr("Middle drag"), tr("Pan the Sketch")},
+        {tr("Drag from pin to pin"),
+         tr("Wire the pins (with Shift the first pin leaves its node)")},
+    };
+}
+
 void SketchView::keyPressEvent(QKeyEvent *event)
 {
     auto *sketch = qobject_cast<SketchScene *>(scene());

@@ -8,8 +8,10 @@
 // selected part; Delete removes the selection (parts, ground symbols, wires).
 
 #include <QGraphicsView>
+#include <QString>
 
 #include <string>
+#include <utility>
 #include <vector>
 
 class QLabel;
@@ -31,6 +33,9 @@ public:
     QString badgeText() const;
     void zoomBy(double factor);
     void fitDesign();
+    /// The keys and pointer gestures the view handles itself ({keys, what they do}), for
+    /// Help > Keyboard shortcuts; kept beside keyPressEvent() and wheelEvent().
+    static std::vector<std::pair<QString, QString>> keyHelp();
 
 signals:
     /// The user asked to step a part's value by `steps` positions (decade: whole decades).

@@ -81,7 +81,7 @@ bool exportPlots(const DesignDocument &document, const QString &dir, PlotFormat 
         }
     }
     const auto analysis = analyseForExport(document, error);
-    return analysis && writeSheetPlots(*analysis, dir, format, error);
+    return analysis && writeSheetPlots(document.design(), *analysis, dir, format, error);
 }
 
 void addExportMenu(QMenu *menu, QWidget *parent, const DesignDocument *document,

@@ -408,6 +408,9 @@ void MainWindow::closeEvent(QCloseEvent *event)
         return;
     }
     saveLayout();
+    // No autosave may write the file again between the close and the end of the process.
+    if (auto *timer = findChild<QTimer *>(QStringLiteral("RecoveryTimer")))
+        timer->stop();
     const QString recovery = recoveryFile();
     if (!recovery.isEmpty())
         QFile::remove(recovery);
@@ -417,6 +420,9 @@ void MainWindow::closeEvent(QCloseEvent *event)
 void MainWindow::showEvent(QShowEvent *event)
 {
     QMainWindow::showEvent(event);
+    if (auto *timer = findChild<QTimer *>(QStringLiteral("RecoveryTimer"));
+        timer && !timer->isActive())
+        timer->start(); // shown again after a close
     if (m_sizedDocks)
         return;
     m_sizedDocks = true;

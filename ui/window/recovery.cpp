@@ -132,6 +132,7 @@ bool MainWindow::offerRecoveryFrom(const QString &path)
 void MainWindow::startAutosave()
 {
     auto *recovery = new QTimer(this);
+    recovery->setObjectName(QStringLiteral("RecoveryTimer"));
     // LOOPSKETCH_AUTOSAVE_MS shortens the interval for tests/ui/tst_recovery.cpp only.
     const int autosaveMs = qEnvironmentVariableIntValue("LOOPSKETCH_AUTOSAVE_MS");
     recovery->setInterval(autosaveMs > 0 ? autosaveMs : 30000);

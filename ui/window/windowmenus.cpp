@@ -12,6 +12,7 @@
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 #include "window/exportactions.h"
+#include "window/helpdialogs.h"
 #include "window/partclipboard.h"
 
 #include <QAction>
@@ -134,6 +135,9 @@ void MainWindow::createActions()
     }
 
     QMenu *help = menuBar()->addMenu(tr("&Help"));
+    help->addAction(tr("&Guide"), this, [this] { showGuide(this); })->setObjectName("GuideAction");
+    help->addAction(tr("&Keyboard shortcuts"), this, [this] { showShortcuts(this); })
+        ->setObjectName("ShortcutsAction");
     help->addAction(tr("&About Loopsketch"), this, &MainWindow::about);
 }
 

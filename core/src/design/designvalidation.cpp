@@ -187,6 +187,12 @@ void checkConnectivity(const Design &d, Checker &c)
                 groups.join(first, n);
         }
     }
+    if (d.parts.empty()) {
+        // A blank page: say how to begin rather than what a finished circuit lacks.
+        c.add("", "",
+              "no parts yet: place a signal source, a gain block, a load and a ground to start");
+        return;
+    }
     if (!groundUsed) {
         c.add("", "", "no part connects to ground node \"0\"");
         return;
