@@ -525,17 +525,19 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
             solveInPlace(y);
             // Partial pivoting is backward stable normwise only (kRefineBackwardError): where
             // a lane's componentwise backward error is too large, one step of refinement
-            // with the same factors, in every lane of the group (a small correction to a good
-            // lane is harmless). One step is what componentwise stability needs; a row whose
-            // terms are all rounding (an unknown that is zero in exact arithmetic) keeps a
-            // backward error near 1 however often it is refined, so no more are taken.
+            // with the same factors, applied in that lane only, so that a point's value does
+            // not depend on the points beside it (every width gives the same numbers). One
+            // step is what componentwise stability needs; a row whose terms are all rounding
+            // (an unknown that is zero in exact arithmetic) keeps a backward error near 1
+            // however often it is refined, so no more are taken.
             L worse;
             backwardErrorTooLarge(which, worse);
             if (anyLane(worse)) {
                 solveInPlace(res);
+                const auto refine = worse != 0.0;
                 for (Index r = 0; r < k; ++r) {
-                    y[r].re += res[r].re;
-                    y[r].im += res[r].im;
+                    y[r].re = refine ? y[r].re + res[r].re : y[r].re;
+                    y[r].im = refine ? y[r].im + res[r].im : y[r].im;
                 }
             }
             for (std::size_t e = 0; e < entries.size(); ++e) {
