@@ -319,6 +319,42 @@ int pageCount(const QString &pdf)
 
 // An unstable design's sheet says UNSTABLE on its first page, above the sketch, with the
 // poles of analyze --json; the closed-loop metrics read unstable and every spec fails.
+// A non-inverting amplifier around an ideal gain block (no input or output resistance, as one
+// places it on a blank page): z_in has no finite value and z_out is zero at every frequency
+// (handbook relation z_out = r_out / (1 + T), r_out = 0), so the log-ohm plot has nothing to
+// draw; the sheet says so in words instead of showing an empty plot.
+TEST(ReviewSheetImpedance, CurvesWithNothingToDrawAreSaidInWords)
+{
+    QTemporaryDir tmp;
+    ASSERT_TRUE(tmp.isValid());
+    const QString design = tmp.filePath("ideal.loopsketch");
+    QFile file(design);
+    ASSERT_TRUE(file.open(QIODevice::WriteOnly));
+    file.write(R"({"schema": "loopsketch.design/1", "title": "ideal gain block",
+      "parts": [
+        {"id": "VS1", "type": "vsource", "pos": "n1", "neg": "0"},
+        {"id": "U1", "type": "gain_block", "in_p": "n1", "in_n": "n6", "out": "n5",
+         "gain": "100dB", "gbw": "10M"},
+        {"id": "R1", "type": "resistor", "a": "n6", "b": "n5", "value": "10k"},
+        {"id": "R2", "type": "resistor", "a": "0", "b": "n6", "value": "1k"},
+        {"id": "RL1", "type": "load", "a": "n5", "b": "0", "r": "1k"}],
+      "input": "VS1", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20}})");
+    file.close();
+    const QString pdf = tmp.filePath("sheet.pdf");
+    const CliRun r = loopsketch({"export", design, "--pdf", pdf});
+    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
+    const CliRun text = run(QStringLiteral("pdftotext"), {pdf, "-"});
+    ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
+    EXPECT_THAT(text.out.toStdString(), HasSubstr("z_out: zero at every frequency"));
+    EXPECT_THAT(text.out.toStdString(), HasSubstr("z_in: no finite value to draw"));
+    // The demo draws both curves and has no such line.
+    const QString demoPdf = tmp.filePath("demo.pdf");
+    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", demoPdf}).exitCode, 0);
+    const CliRun demo = run(QStringLiteral("pdftotext"), {demoPdf, "-"});
+    EXPECT_THAT(demo.out.toStdString(), testing::Not(HasSubstr("at every frequency")));
+}
+
 TEST(ReviewSheetUnstable, FirstPageSaysUnstableWithThePoles)
 {
     QTemporaryDir tmp;

@@ -1,12 +1,13 @@
 #include "panels/readout.h"
 
 #include "panels/noisepanel.h"
+#include "support/flowlayout.h"
 #include "support/qtadapter.h"
 
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/base/value.h"
 
-#include <QHBoxLayout>
+#include <QFontMetrics>
 #include <QLabel>
 #include <QRegularExpression>
 #include <QVBoxLayout>
@@ -37,6 +38,15 @@ QString signedPct(const OptionalNumber &v)
         + QString::number(*v, 'f', std::abs(*v) < 10 ? 2 : 1) + QStringLiteral(" %");
 }
 
+/// The height of one line of the application font at `points` and `weight`.
+int lineHeight(double points, QFont::Weight weight)
+{
+    QFont font;
+    font.setPointSizeF(points);
+    font.setWeight(weight);
+    return QFontMetrics(font).height();
+}
+
 } // namespace
 
 Readout::Readout(QWidget *parent) : QWidget(parent)
@@ -44,32 +54,38 @@ Readout::Readout(QWidget *parent) : QWidget(parent)
     auto *column = new QVBoxLayout(this);
     column->setContentsMargins(0, 0, 0, 0);
     column->setSpacing(0);
-    auto *row = new QHBoxLayout;
-    column->addLayout(row);
-    row->setContentsMargins(10, 6, 10, 6);
-    row->setSpacing(18);
+    // The readings flow onto a second line where the window is too narrow for one.
+    m_strip = new QWidget(this);
+    m_flow = new FlowLayout(m_strip, 18, 4);
+    m_flow->setContentsMargins(10, 6, 10, 6);
+    column->addWidget(m_strip);
     // An unstable loop is the first thing the strip says: white on red, the poles below.
     m_banner = new QLabel(this);
     m_banner->setStyleSheet(QStringLiteral("background: #b3261e; color: white; font-size: 9pt; "
                                            "padding: 2px 8px; border-radius: 3px;"));
     m_banner->setTextFormat(Qt::RichText);
     m_banner->hide();
-    row->addWidget(m_banner);
+    m_flow->addWidget(m_banner);
     for (int i = 0; i < 10; ++i) {
-        auto *box = new QVBoxLayout;
+        auto *holder = new QWidget(m_strip);
+        auto *box = new QVBoxLayout(holder);
+        box->setContentsMargins(0, 0, 0, 0);
         box->setSpacing(1);
-        auto *title = new QLabel(this);
-        auto *value = new QLabel(this);
+        auto *title = new QLabel(holder);
+        auto *value = new QLabel(holder);
         title->setStyleSheet(QStringLiteral("color: #5a6270; font-size: 8pt;"));
         value->setStyleSheet(
             QStringLiteral("color: #1d2127; font-size: 10.5pt; font-weight: 600;"));
         value->setTextInteractionFlags(Qt::TextSelectableByMouse);
+        // Heights fixed by the fonts, not by the text: a glyph from a fallback font ("—",
+        // "√") would otherwise change the strip's height by a pixel and move the Sketch.
+        title->setFixedHeight(lineHeight(8.0, QFont::Normal));
+        value->setFixedHeight(lineHeight(10.5, QFont::DemiBold));
         box->addWidget(title);
         box->addWidget(value);
-        row->addLayout(box);
+        m_flow->addWidget(holder);
         m_cells.push_back({title, value});
     }
-    row->addStretch(1);
     m_warnings = new QLabel(this);
     m_warnings->setStyleSheet(QStringLiteral("color: #b3261e; padding: 0 10px 6px 10px;"));
     m_warnings->setWordWrap(true);
@@ -80,6 +96,20 @@ Readout::Readout(QWidget *parent) : QWidget(parent)
     QPalette p = palette();
     p.setColor(QPalette::Window, QColor(0xf3, 0xf5, 0xf8));
     setPalette(p);
+}
+
+void Readout::resizeEvent(QResizeEvent *event)
+{
+    QWidget::resizeEvent(event);
+    fitStripHeight();
+}
+
+void Readout::fitStripHeight()
+{
+    // The main window's dock area does not ask for a height for a width: say it instead.
+    const int height = m_flow->heightForWidth(width());
+    if (m_strip->minimumHeight() != height)
+        m_strip->setMinimumHeight(height);
 }
 
 Readout::Cell &Readout::cell(int index)
@@ -120,6 +150,7 @@ void Readout::showUnavailable(const QString &reason)
             title = title.section(QStringLiteral(", "), 0, 0);
         setCell(i, title, QStringLiteral("—"), tr("Not analysed: %1").arg(reason), kNoVerdict);
     }
+    fitStripHeight();
 }
 
 void Readout::showAnalysis(const Analysis &a, const Design &design)
@@ -210,6 +241,7 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     showSpecVerdicts(a);
     showNoise(a, specs, check);
     showWarnings(a);
+    fitStripHeight();
 }
 
 void Readout::showStability(const Analysis &a)

@@ -14,6 +14,8 @@ class QLabel;
 
 namespace loopsketch::ui {
 
+class FlowLayout;
+
 class Readout : public QWidget
 {
     Q_OBJECT
@@ -34,7 +36,12 @@ public:
     /// The instability banner's text; empty when the loop is stable.
     QString bannerText() const;
 
+protected:
+    void resizeEvent(QResizeEvent *event) override;
+
 private:
+    /// Gives the strip the height its readings need at the present width (one or more lines).
+    void fitStripHeight();
     struct Cell
     {
         QLabel *title;
@@ -50,6 +57,8 @@ private:
     void showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check);
     void showWarnings(const Analysis &a);
 
+    QWidget *m_strip = nullptr; ///< the banner and the cells, in m_flow
+    FlowLayout *m_flow = nullptr;
     std::vector<Cell> m_cells;
     QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns
     QLabel *m_banner = nullptr; ///< "UNSTABLE" and the poles that make it so

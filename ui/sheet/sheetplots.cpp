@@ -484,9 +484,35 @@ std::vector<Series> frequencyPlot(
     }
     const Axis y = logOhm ? linearAxis(series, {1, 2, 3, 4, 5}, 1, 6)
                           : linearAxis(series, {10, 20, 40, 50, 100}, 20, 6);
-    drawPanel(p, QRectF(QPointF(f.left, f.top), QPointF(f.right, f.bottom)), f.k, f.frequency, y,
-              series, logOhm ? QStringLiteral("Ω") : QStringLiteral("dB"), true,
-              QStringLiteral("Hz"), logOhm);
+    const QRectF area(QPointF(f.left, f.top), QPointF(f.right, f.bottom));
+    drawPanel(p, area, f.k, f.frequency, y, series,
+              logOhm ? QStringLiteral("Ω") : QStringLiteral("dB"), true, QStringLiteral("Hz"),
+              logOhm);
+    // A curve with nothing to draw on a log scale (an ideal input's infinite impedance, an
+    // ideal output's zero) is said in words, or the reviewer reads an empty plot.
+    QStringList notes;
+    for (const auto &[curve, member] : curves) {
+        const Curve &c = a.curves.*member;
+        const auto drawable = [](Complex z) {
+            return std::isfinite(std::abs(z)) && std::abs(z) > 0;
+        };
+        if (c.empty() || std::any_of(c.begin(), c.end(), drawable))
+            continue;
+        const bool zero
+            = std::all_of(c.begin(), c.end(), [](Complex z) { return std::abs(z) == 0.0; });
+        const bool infinite
+            = std::all_of(c.begin(), c.end(), [](Complex z) { return std::isinf(std::abs(z)); });
+        notes << QStringLiteral("%1: %2").arg(curveName(curve),
+                                              zero ? QStringLiteral("zero at every frequency")
+                                                  : infinite
+                                                  ? QStringLiteral("infinite at every frequency")
+                                                  : QStringLiteral("no finite value to draw"));
+    }
+    if (!notes.isEmpty()) {
+        p.setFont(sheetFont(kBodyPt));
+        p.setPen(kInk);
+        p.drawText(area, Qt::AlignCenter | Qt::TextWordWrap, notes.join(QLatin1Char('\n')));
+    }
     return series;
 }
 

@@ -124,6 +124,13 @@ FieldWords fieldWords(PartType type, std::string_view field)
         return {QObject::tr("load resistance (Ω)"), QObject::tr("Resistance of the load.")};
     if (type == PartType::Load && field == "c")
         return {QObject::tr("load capacitance (F)"), QObject::tr("Capacitance across the load.")};
+    // Any other field in core's words (one label per field: the sheet and `analyze` use them).
+    if (const FieldSpec *spec = findFieldSpec(type, field)) {
+        const QString label = toQString(spec->label);
+        return {spec->unit.empty() ? label
+                                   : QStringLiteral("%1 (%2)").arg(label, toQString(spec->unit)),
+                QObject::tr("%1 (file key \"%2\")").arg(label, key)};
+    }
     return {key, key};
 }
 
@@ -180,7 +187,9 @@ void Inspector::showPart(const std::string &partId)
     auto *form = new QFormLayout(m_form);
     form->setContentsMargins(0, 4, 0, 0);
     form->setFieldGrowthPolicy(QFormLayout::AllNonFixedFieldsGrow);
-    form->setRowWrapPolicy(QFormLayout::WrapLongRows);
+    // Each label above its field: the dock is narrow and the gain block's labels are long,
+    // so side by side the fields were squeezed to a few characters.
+    form->setRowWrapPolicy(QFormLayout::WrapAllRows);
     m_name = new QLineEdit(toQString(part->id), m_form);
     m_name->setToolTip(tr("The part's name; candidates and the input follow a new name."));
     m_nameError = addRowWithError(form, tr("name"), m_name);

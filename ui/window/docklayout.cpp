@@ -35,11 +35,25 @@ const char *kGeometryKey = "window/geometry";
 /// The version of the saved dock arrangement: a state saved by an older arrangement (other
 /// docks, other places) is not restored; the default one is laid out instead.
 constexpr int kLayoutVersion = 2;
-/// Below this window width the plots share two tab groups beside the Sketch (compact
-/// arrangement), so the Sketch keeps half the width; at and above it they sit right and
-/// below it side by side.
+/// Below this window width or height the plots share two tab groups beside the Sketch
+/// (compact arrangement), so the Sketch keeps half the width; at and above both they sit right
+/// and below it side by side. The side-by-side arrangement needs about 1,000 pixels of height
+/// (two plots right, three below), more than a 1440 x 900 screen has.
 constexpr int kCompactWidth = 1400;
+constexpr int kCompactHeight = 1000;
 constexpr int kLeftDockWidth = 230;
+
+/// `content` in a frameless scroll area: a panel whose fields outgrow the dock scrolls rather
+/// than forcing its height on the whole window (the Inspector of a gain block with many poles
+/// pushed the window past a 800-pixel screen).
+QScrollArea *scrolling(QWidget *content, QWidget *parent)
+{
+    auto *scroll = new QScrollArea(parent);
+    scroll->setWidget(content);
+    scroll->setWidgetResizable(true);
+    scroll->setFrameShape(QFrame::NoFrame);
+    return scroll;
+}
 
 } // namespace
 
@@ -47,9 +61,16 @@ void MainWindow::restoreLayout()
 {
     QSettings settings;
     restoreGeometry(settings.value(kGeometryKey).toByteArray());
+    // A geometry saved on a larger screen (or grown past this one) is fitted to the screen,
+    // so the status line and the dock tabs at the bottom stay reachable.
+    if (const QScreen *screen = this->screen()) {
+        const QRect room = screen->availableGeometry();
+        if (width() > room.width() || height() > room.height())
+            resize(std::min(width(), room.width()), std::min(height(), room.height()));
+    }
     m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
     if (!m_sizedDocks)
-        arrangeDocks(width() < kCompactWidth);
+        arrangeDocks(wantsCompactLayout());
 }
 
 void MainWindow::saveLayout()
@@ -81,16 +102,14 @@ void MainWindow::createDocks()
     readoutDock->setTitleBarWidget(new QWidget(readoutDock));
     auto *partsDock
         = makeDock(tr("Parts"), QStringLiteral("PartsDock"), m_palette, Qt::LeftDockWidgetArea);
-    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"), m_inspector,
-                                   Qt::LeftDockWidgetArea);
+    QScrollArea *inspectorScroll = scrolling(m_inspector, this);
+    inspectorScroll->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
+    auto *inspectorDock = makeDock(tr("Inspector"), QStringLiteral("InspectorDock"),
+                                   inspectorScroll, Qt::LeftDockWidgetArea);
     splitDockWidget(partsDock, inspectorDock, Qt::Vertical);
     m_properties = new DesignPropertiesPanel(m_document, this);
-    auto *propertiesScroll = new QScrollArea(this);
-    propertiesScroll->setWidget(m_properties);
-    propertiesScroll->setWidgetResizable(true);
-    propertiesScroll->setFrameShape(QFrame::NoFrame);
     auto *propertiesDock = makeDock(tr("Design"), QStringLiteral("DesignPropertiesDock"),
-                                    propertiesScroll, Qt::LeftDockWidgetArea);
+                                    scrolling(m_properties, this), Qt::LeftDockWidgetArea);
     tabifyDockWidget(inspectorDock, propertiesDock);
     inspectorDock->raise();
 
@@ -133,22 +152,14 @@ void MainWindow::createDocks()
     // The Spread panel holds controls, a table and three histograms: it scrolls rather than
     // forcing its height on the whole window.
     m_spread = new SpreadPanel(m_document, this);
-    auto *spreadScroll = new QScrollArea(this);
-    spreadScroll->setWidget(m_spread);
-    spreadScroll->setWidgetResizable(true);
-    spreadScroll->setFrameShape(QFrame::NoFrame);
-    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"), spreadScroll,
-                                Qt::RightDockWidgetArea);
+    auto *spreadDock = makeDock(tr("Spread"), QStringLiteral("SpreadDock"),
+                                scrolling(m_spread, this), Qt::RightDockWidgetArea);
 
     // Candidates side by side, tabbed with the Impedance panel; pinning brings it forward.
     m_candidates = new CandidatesPanel(m_document, this);
     // Its table scrolls too, so a narrow window can still give the Sketch half its width.
-    auto *candidatesScroll = new QScrollArea(this);
-    candidatesScroll->setWidget(m_candidates);
-    candidatesScroll->setWidgetResizable(true);
-    candidatesScroll->setFrameShape(QFrame::NoFrame);
     m_candidatesDock = makeDock(tr("Candidates"), QStringLiteral("CandidatesDock"),
-                                candidatesScroll, Qt::RightDockWidgetArea);
+                                scrolling(m_candidates, this), Qt::RightDockWidgetArea);
     tabifyDockWidget(impDock, m_candidatesDock);
     tabifyDockWidget(impDock, spreadDock);
     impDock->raise();
@@ -164,7 +175,7 @@ void MainWindow::createDocks()
 
 void MainWindow::resetLayout()
 {
-    const bool compact = width() < kCompactWidth;
+    const bool compact = wantsCompactLayout();
     arrangeDocks(compact);
     // Sizes take once the layout has placed the docks, and the Sketch fits its new size
     // once they took.
@@ -184,6 +195,16 @@ void MainWindow::resetLayout()
             m_view->fitDesign();
         });
     });
+}
+
+bool MainWindow::wantsCompactLayout() const
+{
+    // The screen's height, not the window's (a first window is smaller than its screen); the
+    // offscreen platform of the tests has a nominal screen, so there only the width counts.
+    const bool realScreen
+        = QGuiApplication::platformName() != QStringLiteral("offscreen") && screen();
+    return width() < kCompactWidth
+        || (realScreen && screen()->availableGeometry().height() < kCompactHeight);
 }
 
 bool MainWindow::isCompactLayout() const

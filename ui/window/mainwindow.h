@@ -64,10 +64,13 @@ public:
     /// Brings the Candidates dock forward with room for its table (after a pin).
     void showCandidates();
     /// View > Reset layout: every dock back in the default arrangement for the window's
-    /// width (compact below 1400 px: the plots in two tab groups beside the Sketch).
+    /// size (compact below 1400 px wide or on a screen under 1000 px high: the plots in two tab
+    /// groups beside the Sketch).
     void resetLayout();
     /// True when the plots share the tab groups beside the Sketch.
     bool isCompactLayout() const;
+    /// True when the window or its screen is too small for the side-by-side arrangement.
+    bool wantsCompactLayout() const;
     SpreadPanel *spreadPanel() const { return m_spread; }
     /// The Suggest values dialog, created on first use.
     SuggestDialog *suggestDialog();

@@ -364,6 +364,7 @@ AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>>
     {
         double relative = 0;
         std::size_t entry = 0;
+        bool belowFloor = false; ///< measured against the entry's floor, not its size
         std::complex<double> s;
         std::vector<double> shares;
     } worst;
@@ -404,11 +405,12 @@ AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>>
             // rounding that the reduced pencil leaves in place of a zero is a miss as well.
             if (!(std::abs(got - careful) <= std::max(tolerance * size, 4.0 * bound)))
                 missed = true;
-            if (!(size > 0))
+            const double scale = std::max(size, entries[e].floor);
+            if (!(scale > 0))
                 continue; // no relative accuracy to assure
-            const double relative = bound / size;
+            const double relative = bound / scale;
             if (entries[e].warns && relative > worst.relative)
-                worst = {relative, e, probes[p], shares};
+                worst = {relative, e, size < entries[e].floor, probes[p], shares};
         }
     }
     check.worstRelativeError = worst.relative;
@@ -435,8 +437,8 @@ AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>>
         d.message = "accuracy cannot be assured: " + entries[worst.entry].quantity + " at "
             + (hz == 0.0 ? std::string("DC") : formatEngineering(hz, 3, "Hz")) + " may be off by "
             + bound.str()
-            + " of its value (rounding in the circuit equations, largest share from this "
-              "value)";
+            + (worst.belowFloor ? " of the level below which it counts as zero" : " of its value")
+            + " (rounding in the circuit equations, largest share from this value)";
         check.warnings.push_back(d);
     }
     return check;

@@ -318,6 +318,22 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
 
 namespace {
 
+/// The smallest positive resistance any part gives, in ohms (a resistor, a load, a gain
+/// block's input or output resistance, a source's series resistance, given or by default);
+/// 0 when there is none (then nothing counts as zero but zero itself).
+double smallestResistance(const Design &design)
+{
+    double smallest = std::numeric_limits<double>::infinity();
+    for (const Part &part : design.parts)
+        for (const FieldSpec &field : partSpec(part.type).fields)
+            if (field.kind == ValueKind::Resistance) {
+                const double r = part.number(field.name);
+                if (r > 0 && std::isfinite(r))
+                    smallest = std::min(smallest, r);
+            }
+    return std::isfinite(smallest) ? smallest : 0.0;
+}
+
 using Curve = std::vector<Complex>;
 
 Curve nanCurve(std::size_t n)
@@ -392,8 +408,12 @@ void LoopModel::checkAccuracy(const Design &design)
           };
     using namespace loopio;
     run(m_full, {{{kOutput, kSource}, "the gain"}});
-    run(m_input, {{{kInputVoltage, kInputPort}, "z_in"}});
-    run(m_output, {{{kLoadVoltage, kLoadPort}, "z_out"}});
+    // An impedance below a millionth of the circuit's smallest resistance counts as zero: its
+    // rounding is checked against that level, not against itself (common practice: no
+    // designer reads an impedance six decades below every resistor in the loop).
+    const double zeroLevel = 1e-6 * smallestResistance(design);
+    run(m_input, {{{kInputVoltage, kInputPort}, "z_in", true, zeroLevel}});
+    run(m_output, {{{kLoadVoltage, kLoadPort}, "z_out", true, zeroLevel}});
     // The return ratio's gain and impedances are combined from several entries (sweep(),
     // blackman()): each is checked against the careful solve, so a fast path that misses
     // any of them hands the system to the careful solve; only the loop gain, a quantity of

@@ -101,6 +101,35 @@ TEST(Accuracy, OrdinaryDesignsCarryNoWarnings)
     EXPECT_GE(seen, 4);
 }
 
+// The first design of a blank page: a non-inverting amplifier of 1k and 1k around a gain
+// block with its defaults (100 dB, 10 MHz gain-bandwidth, no output resistance). The output is
+// held by an ideal source, so z_out is zero at every frequency in theory (handbook relation:
+// z_out = r_out / (1 + T) with r_out = 0); what a solve gives there is rounding, which must
+// neither warn nor read as an impedance. The gain is 1 + R1/R2 = 2 reduced by the loop gain
+// (handbook relation G = (1 + R1/R2) / (1 + (1 + R1/R2) / A)).
+TEST(Accuracy, IdealOutputStageGivesZeroOutputImpedanceWithoutAWarning)
+{
+    const Design d = parseOrFail(R"({"schema": "loopsketch.design/1", "title": "from blank",
+      "parts": [
+        {"id": "VS1", "type": "vsource", "pos": "n1", "neg": "0"},
+        {"id": "U1", "type": "gain_block", "in_p": "n1", "in_n": "n6", "out": "n5",
+         "gain": "100dB", "gbw": "10M"},
+        {"id": "R1", "type": "resistor", "a": "n6", "b": "n5", "value": "1k"},
+        {"id": "R2", "type": "resistor", "a": "0", "b": "n6", "value": "1k"},
+        {"id": "RL1", "type": "load", "a": "n5", "b": "0", "r": "1k"}],
+      "input": "VS1", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20}})");
+    const Analysis a = analyzeOrFail(d);
+    EXPECT_TRUE(a.warnings.empty()) << toString(a.warnings);
+    ASSERT_TRUE(a.exact.gain);
+    EXPECT_NEAR(*a.exact.gain, 2.0 / (1.0 + 2.0 / 1e5), 1e-12);
+    ASSERT_TRUE(a.exact.zOut);
+    EXPECT_LT(std::abs(*a.exact.zOut), 1e-9);
+    ASSERT_FALSE(a.curves.zOutExact.empty());
+    for (std::size_t i = 0; i < a.curves.zOutExact.size(); ++i)
+        EXPECT_LT(std::abs(a.curves.zOutExact[i]), 1e-6 * 1e3) << a.frequenciesHz[i] << " Hz";
+}
+
 // 1e-15 ohm (and 1e-12 ohm) in series with RF: the circuit is the demo's to within 1e-21
 // relative, so the numbers must be the demo's (derived from the demo's own circuit); the
 // near-short is named as a value no real resistor has.

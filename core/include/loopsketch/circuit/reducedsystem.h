@@ -54,6 +54,12 @@ struct CheckedEntry
     /// since the term may be negligible in the quantity it enters (an exact zero, such as the
     /// feedthrough past an ideal output, has no relative accuracy at all).
     bool warns = true;
+    /// The magnitude below which an error of this quantity is immaterial, in its own unit
+    /// (0: none). An impedance that is zero in theory (an output held by an ideal source)
+    /// comes out of any solve as rounding, with no relative accuracy at all; measured against
+    /// this level instead (for an impedance, a millionth of the circuit's smallest
+    /// resistance), that rounding is what it is: nothing.
+    double floor = 0.0;
 };
 
 /// What ReducedSystem::checkAccuracy() found.
