@@ -205,4 +205,112 @@ TEST(CliSuggest, UnknownPartIsBadInputNamingIt)
     EXPECT_THAT(none.err, HasSubstr("--parts"));
 }
 
+// An invented x101 preamp, R2 / R1 = 100k / 1k with 1 % parts and a gain window of 101 +- 1 %:
+// the worst case of 1 + R2 (1 + t) / (R1 (1 - t)) is about +-2 % (common practice), so the
+// rows' Monte Carlo yields lie strictly between 0 and 1 and move with the seed.
+fs::path preampFile(const TempDir &dir)
+{
+    const fs::path path = dir.path() / "preamp.loopsketch";
+    writeBytes(path, R"({"schema": "loopsketch.design/1", "title": "x101 preamp", "parts": [
+  {"id": "VS", "type": "vsource", "pos": "in", "neg": "0", "r_series": "10k"},
+  {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "fb", "out": "out",
+   "gain": "160dB", "gbw": "100M"},
+  {"id": "R2", "type": "resistor", "a": "out", "b": "fb", "value": "100k", "series": "E96",
+   "tolerance": "1%"},
+  {"id": "R1", "type": "resistor", "a": "fb", "b": "0", "value": "1k", "series": "E96",
+   "tolerance": "1%"},
+  {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"}],
+  "input": "VS", "output": "voltage",
+  "sweep": {"start": "1", "stop": "100M", "points_per_decade": 10},
+  "specs": {"gain": ["99.99", "102.01"]}}
+)");
+    return path;
+}
+
+std::vector<double> yieldsOf(const std::string &json)
+{
+    std::vector<double> out;
+    const Json j = Json::parse(json);
+    for (const Json &row : at(j, "suggestions"))
+        out.push_back(jsonNumber(at(row, "yield")));
+    return out;
+}
+
+// Issue 18: --trials and --seed size and seed the rows' Monte Carlo yield. The same seed
+// gives the same output byte for byte; another seed other yields (each row's trials are drawn
+// afresh), equal to core's suggestValues() with that seed; the JSON states both.
+TEST(CliSuggest, SeedAndTrialsSetTheYieldReproducibly)
+{
+    TempDir dir;
+    const std::string file = preampFile(dir).string();
+    const auto run = [&](const std::string &seed) {
+        return runCli({"suggest", file, "--parts", "R2,R1", "--decades", "0.1", "--best", "3",
+                       "--trials", "60", "--seed", seed, "--json"});
+    };
+    const CliRun a = run("5"), b = run("5"), c = run("6");
+    for (const CliRun *r : {&a, &b, &c}) {
+        ASSERT_TRUE(r->exited);
+        ASSERT_EQ(r->exitCode, 0) << r->err;
+    }
+    EXPECT_EQ(a.out, b.out);
+    const Json j = Json::parse(a.out);
+    EXPECT_EQ(at(at(j, "spread"), "seed"), 5);
+    EXPECT_EQ(at(at(j, "spread"), "yield_trials"), 60);
+    const std::vector<double> ya = yieldsOf(a.out), yc = yieldsOf(c.out);
+    ASSERT_FALSE(ya.empty());
+    bool between = false;
+    for (double y : ya)
+        between = between || (y > 0 && y < 1);
+    EXPECT_TRUE(between) << "no row with a yield strictly between 0 and 1";
+    EXPECT_NE(ya, yc);
+
+    // The same search in-process through core, seed 6.
+    auto design = loadDesign(file);
+    ASSERT_TRUE(design.ok()) << design.errorText();
+    SuggestOptions options;
+    options.parts = {"R2", "R1"};
+    options.decades = 0.1;
+    options.best = 3;
+    options.yieldTrials = 60;
+    options.seed = 6;
+    auto expected = suggestValues(*design, options);
+    ASSERT_TRUE(expected.ok()) << expected.errorText();
+    ASSERT_EQ(yc.size(), expected->suggestions.size());
+    for (std::size_t i = 0; i < yc.size(); ++i)
+        EXPECT_NEAR(yc[i], expected->suggestions[i].yield, 1e-12) << i;
+
+    // The text states trials and seed too.
+    const CliRun text = runCli({"suggest", file, "--parts", "R2,R1", "--decades", "0.1", "--best",
+                                "3", "--trials", "60", "--seed", "5"});
+    ASSERT_TRUE(text.exited);
+    EXPECT_EQ(text.exitCode, 0) << text.err;
+    EXPECT_THAT(text.out, HasSubstr("60 Monte Carlo trials each (uniform, seed 5)"));
+}
+
+// Out-of-range counts are bad input naming the option, before any work; nothing on stdout.
+TEST(CliSuggest, TrialsAndSeedOutOfRangeAreRefusedNamingTheOption)
+{
+    const std::string demo = (kDesignsDir / "demo.loopsketch").string();
+    for (const auto &[option, value] :
+         std::vector<std::pair<std::string, std::string>>{{"--trials", "0"},
+                                                          {"--trials", "-5"},
+                                                          {"--trials", "1000001"},
+                                                          {"--trials", "2.5"},
+                                                          {"--trials", "many"},
+                                                          {"--seed", "-1"},
+                                                          {"--seed", "x"}}) {
+        const CliRun r = runCli({"suggest", demo, "--parts", "RF,CF", option, value});
+        ASSERT_TRUE(r.exited);
+        EXPECT_EQ(r.exitCode, 2) << option << " " << value << ": " << r.err;
+        EXPECT_THAT(r.err, HasSubstr(option)) << value;
+        EXPECT_TRUE(r.out.empty()) << option << " " << value;
+    }
+    // The largest count is accepted as a count (the work budget then says what fits).
+    const CliRun most = runCli({"suggest", demo, "--parts", "CF", "--decades", "0.2", "--best", "1",
+                                "--trials", "1000000", "--json"});
+    ASSERT_TRUE(most.exited);
+    EXPECT_EQ(most.exitCode, 0) << most.err;
+    EXPECT_THAT(most.out, HasSubstr(R"("yield_note": "no yield computed)"));
+}
+
 } // namespace

@@ -154,6 +154,46 @@ TEST_F(SpreadPanelTest, RunShowsCoreMonteCarloAndWorstCaseForTheSameSeed)
     EXPECT_THAT(panel->messageText().toStdString(), HasSubstr("seed 5"));
 }
 
+// Issue 18: with a noise spec the trials compute the output noise, and the panel shows its
+// range: nominal, over the worst-case corners and over the trials, as core's worstCase() and
+// monteCarlo() give them for the same options and seed. Without one (the demo as shipped) the
+// line is hidden and empty, not a row of dashes.
+TEST_F(SpreadPanelTest, NoiseRangesShownWhenTheRunComputedThem)
+{
+    panel->setTrials(400);
+    panel->setSeed(3);
+    runAndWait();
+    EXPECT_TRUE(panel->noiseText().isEmpty()) << panel->noiseText().toStdString();
+
+    Design d = demo();
+    d.specs.outputNoiseMax = Value{1e-3, {}};
+    document->reset(d, QString::fromStdString(kDesigns + "/demo.loopsketch"));
+    runAndWait();
+    const SpreadOptions options = panel->options();
+    auto mc = monteCarlo(document->design(), options);
+    ASSERT_TRUE(mc.ok()) << mc.errorText();
+    auto wc = worstCase(document->design(), options);
+    ASSERT_TRUE(wc.ok()) << wc.errorText();
+    ASSERT_TRUE(mc->hasNoise);
+    ASSERT_EQ(mc->outputNoiseRms.count, 400u);
+    ASSERT_TRUE(wc->outputNoiseRms.min && wc->outputNoiseRms.max);
+    const auto v = [](double x) {
+        return formatEngineering(x, 4, "V rms");
+    };
+    const std::string text = panel->noiseText().toStdString();
+    EXPECT_THAT(text, HasSubstr("Output noise: nominal " + v(*mc->nominal.outputNoiseRms)));
+    EXPECT_THAT(
+        text,
+        HasSubstr("worst case " + v(*wc->outputNoiseRms.min) + " … " + v(*wc->outputNoiseRms.max)));
+    EXPECT_THAT(text,
+                HasSubstr("Monte Carlo min " + v(mc->outputNoiseRms.min) + ", mean "
+                          + v(mc->outputNoiseRms.mean) + ", max " + v(mc->outputNoiseRms.max)));
+    // The trials lie inside the corners' range: the worst case evaluates every vertex of the
+    // box (RF and CF), which bounds a quantity monotonic in each toleranced value.
+    EXPECT_GE(mc->outputNoiseRms.min, *wc->outputNoiseRms.min * (1 - 1e-9));
+    EXPECT_LE(mc->outputNoiseRms.max, *wc->outputNoiseRms.max * (1 + 1e-9));
+}
+
 TEST_F(SpreadPanelTest, NormalDistributionAndGainBlockSpreadReachCore)
 {
     panel->setTrials(1500);

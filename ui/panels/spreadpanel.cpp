@@ -28,6 +28,7 @@
 #include <algorithm>
 #include <climits>
 #include <cmath>
+#include <functional>
 #include <limits>
 
 namespace loopsketch::ui {
@@ -61,7 +62,7 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
       m_gainSpread(new QDoubleSpinBox(this)), m_gbwSpread(new QDoubleSpinBox(this)),
       m_run(new QPushButton(tr("Run"), this)), m_cancel(new QPushButton(tr("Cancel"), this)),
       m_progress(new QProgressBar(this)), m_message(new QLabel(this)), m_method(new QLabel(this)),
-      m_yield(new QLabel(this)), m_table(new QTableWidget(3, 7, this)),
+      m_yield(new QLabel(this)), m_noise(new QLabel(this)), m_table(new QTableWidget(3, 7, this)),
       m_progressTimer(new QTimer(this))
 {
     setObjectName(QStringLiteral("Spread"));
@@ -91,6 +92,7 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
     layout->addWidget(m_message);
     layout->addWidget(m_table);
     layout->addWidget(m_yield);
+    layout->addWidget(m_noise);
     layout->addWidget(m_method);
     layout->addLayout(plots, 1);
     layout->addWidget(legend);
@@ -146,6 +148,9 @@ void SpreadPanel::setUpInputs()
     m_message->setTextInteractionFlags(Qt::TextSelectableByMouse);
     m_method->setWordWrap(true);
     m_yield->setWordWrap(true);
+    m_noise->setWordWrap(true);
+    m_noise->setTextInteractionFlags(Qt::TextSelectableByMouse);
+    m_noise->hide();
     QFont bold = m_yield->font();
     bold.setBold(true);
     m_yield->setFont(bold);
@@ -247,6 +252,11 @@ QString SpreadPanel::yieldText() const
     return m_yield->text();
 }
 
+QString SpreadPanel::noiseText() const
+{
+    return m_noise->text();
+}
+
 QString SpreadPanel::cellText(Metric metric, Column column) const
 {
     const QTableWidgetItem *item = m_table->item(int(metric), int(column));
@@ -280,6 +290,7 @@ void SpreadPanel::showResult()
             m_table->item(r, c)->setText(cells[c]);
         showHistogram(metric);
     }
+    showNoise();
     if (!m_result) {
         m_method->clear();
         m_yield->clear();
@@ -303,6 +314,47 @@ void SpreadPanel::showResult()
                                   QLocale().toString(qulonglong(mc.completed))));
     else
         m_yield->setText(tr("Yield: the design has no specs"));
+}
+
+void SpreadPanel::showNoise()
+{
+    // Only a run whose trials computed the noise (core's MonteCarloResult::hasNoise: the
+    // design has a noise spec) has noise figures; otherwise the line is hidden, not "—".
+    if (!m_result || !m_result->monteCarlo.hasNoise) {
+        m_noise->clear();
+        m_noise->hide();
+        return;
+    }
+    const MonteCarloResult &mc = m_result->monteCarlo;
+    const WorstCaseResult &wc = m_result->worstCase;
+    const auto line
+        = [&](const QString &name, const OptionalNumber &nominal, const MetricRange &corners,
+              const MetricStats &trials, const std::function<QString(double)> &fmt) {
+              const auto opt = [&](const OptionalNumber &v) {
+                  return v ? fmt(*v) : kDash;
+              };
+              QString text = tr("%1: nominal %2; worst case %3 … %4")
+                                 .arg(name, opt(nominal), opt(corners.min), opt(corners.max));
+              if (trials.count > 0)
+                  text += tr("; Monte Carlo min %1, mean %2, max %3")
+                              .arg(fmt(trials.min), fmt(trials.mean), fmt(trials.max));
+              else
+                  text += tr("; no trial has a figure");
+              if (trials.missing > 0)
+                  text += tr(" (%1 trials without one)")
+                              .arg(QLocale().toString(qulonglong(trials.missing)));
+              return text;
+          };
+    const std::string out = m_resultUnit.substr(0, m_resultUnit.find('/')) + " rms";
+    QString text
+        = line(tr("Output noise"), mc.nominal.outputNoiseRms, wc.outputNoiseRms, mc.outputNoiseRms,
+               [&](double v) { return toQString(formatEngineering(v, 4, out)); });
+    if (mc.snrDb.count > 0 || mc.nominal.snrDb)
+        text += QStringLiteral("\n")
+            + line(tr("SNR"), mc.nominal.snrDb, wc.snrDb, mc.snrDb,
+                   [](double v) { return QString::number(v, 'f', 1) + QStringLiteral(" dB"); });
+    m_noise->setText(text);
+    m_noise->show();
 }
 
 } // namespace loopsketch::ui

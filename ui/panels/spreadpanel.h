@@ -92,6 +92,10 @@ public:
     /// The worst-case method line ("all 4 corners evaluated" / sensitivity corners).
     QString methodText() const;
     QString yieldText() const;
+    /// The output noise line: the noise rms (and SNR) nominal, over the worst-case corners and
+    /// over the trials, when the run computed the noise (a design with a noise spec); empty
+    /// and hidden otherwise.
+    QString noiseText() const;
     /// The histogram's chart of a metric (tests, screenshots).
     QChart *histogramChart(Metric metric) const;
 
@@ -128,6 +132,7 @@ private:
     void stopWorker(bool wait);
     void deliver(const std::shared_ptr<Delivery> &delivery);
     void showResult();
+    void showNoise();
     void showHistogram(Metric metric);
     void setBusy(bool busy);
     void setMessage(const QString &text, bool error);
@@ -144,6 +149,7 @@ private:
     QLabel *m_message;
     QLabel *m_method;
     QLabel *m_yield;
+    QLabel *m_noise;
     QTableWidget *m_table;
     struct Histogram
     {

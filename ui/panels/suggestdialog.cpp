@@ -422,6 +422,11 @@ void SuggestDialog::deliver(const std::shared_ptr<Delivery> &delivery)
     else if (!r.worstCaseMet)
         text += QStringLiteral(" ")
             + tr("No row meets every spec at the worst case over the tolerances.");
+    if (!r.yieldNote.empty()) {
+        QString note = toQString(r.yieldNote);
+        note[0] = note[0].toUpper();
+        text += QStringLiteral(" ") + note + QStringLiteral(".");
+    }
     text += QStringLiteral(" ")
         + tr("Ranked by specs met at the worst case, then yield, then %1, then closeness to the "
              "current values.")
@@ -497,13 +502,18 @@ void SuggestDialog::showResult()
                     : s.meetsSpecs ? tr("nominal only")
                                    : tr("fail"),
                 Qt::AlignLeft | Qt::AlignVCenter, s.worstCasePass ? kPass : kFail);
+        // A yield that could not be computed is a dash with the reason, never "0.0 %".
         setCell(row, col++,
-                QString::number(100.0 * s.yield, 'f', 1) + QStringLiteral(" %")
-                    + (s.toleranced ? QString() : tr(" (no tolerances)")));
+                !s.yieldProblem.empty()
+                    ? QStringLiteral("—")
+                    : QString::number(100.0 * s.yield, 'f', 1) + QStringLiteral(" %")
+                        + (s.toleranced ? QString() : tr(" (no tolerances)")));
         m_table->item(row, col - 1)
-            ->setToolTip(tr("%1 Monte Carlo trials, uniform over the tolerances, seed %2")
-                             .arg(r->yieldTrials)
-                             .arg(r->seed));
+            ->setToolTip(!s.yieldProblem.empty()
+                             ? tr("No yield: %1").arg(toQString(s.yieldProblem))
+                             : tr("%1 Monte Carlo trials, uniform over the tolerances, seed %2")
+                                   .arg(r->yieldTrials)
+                                   .arg(r->seed));
         auto *apply = new QPushButton(tr("Apply"), m_table);
         apply->setObjectName(QStringLiteral("ApplySuggestion%1").arg(row));
         apply->setToolTip(tr("Set these values in the design (one undo step)"));

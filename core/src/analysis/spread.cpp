@@ -472,11 +472,12 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
                     });
 
     // Statistics in trial order, so that they do not depend on the thread count.
-    std::vector<double> gain, bandwidth, margin;
+    std::vector<double> gain, bandwidth, margin, noise, snr;
     gain.reserve(r.trials);
     bandwidth.reserve(r.trials);
     margin.reserve(r.trials);
     r.hasSpecs = hasSpecs(design.specs);
+    r.hasNoise = hasNoiseSpec(design.specs);
     for (std::size_t i = 0; i < r.trials; ++i) {
         if (state[i] == 0)
             continue;
@@ -488,6 +489,10 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
         gain.push_back(orNaN(results[i].gain));
         bandwidth.push_back(orNaN(results[i].bandwidthHz));
         margin.push_back(orNaN(results[i].phaseMarginDeg));
+        if (r.hasNoise) {
+            noise.push_back(orNaN(results[i].outputNoiseRms));
+            snr.push_back(orNaN(results[i].snrDb));
+        }
         if (checkSpecs(design.specs, design.sweep, results[i]).all())
             ++r.passed;
     }
@@ -495,6 +500,8 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
     r.gain = metricStats(gain, options.histogramBins);
     r.bandwidthHz = metricStats(bandwidth, options.histogramBins);
     r.phaseMarginDeg = metricStats(margin, options.histogramBins);
+    r.outputNoiseRms = metricStats(noise, options.histogramBins);
+    r.snrDb = metricStats(snr, options.histogramBins);
     r.yield = r.completed ? static_cast<double>(r.passed) / static_cast<double>(r.completed) : 0.0;
     return r;
 }
@@ -576,17 +583,20 @@ std::string spreadToJson(const WorstCaseResult &w, const MonteCarloResult &mc,
                        {"output_noise_rms", rangeJson(w.outputNoiseRms, w.nominal.outputNoiseRms)},
                        {"snr_db", rangeJson(w.snrDb, w.nominal.snrDb)},
                        {"specs_pass", w.specsAtCorners.all()}};
-    j["monte_carlo"] = {{"distribution", toString(mc.distribution)},
-                        {"seed", mc.seed},
-                        {"trials", mc.trials},
-                        {"completed", mc.completed},
-                        {"failed", mc.failed},
-                        {"cancelled", mc.cancelled},
-                        {"gain", statsJson(mc.gain)},
-                        {"bandwidth_hz", statsJson(mc.bandwidthHz)},
-                        {"phase_margin_deg", statsJson(mc.phaseMarginDeg)},
-                        {"yield", mc.hasSpecs ? Json(mc.yield) : Json(nullptr)},
-                        {"passed", mc.passed}};
+    j["monte_carlo"]
+        = {{"distribution", toString(mc.distribution)},
+           {"seed", mc.seed},
+           {"trials", mc.trials},
+           {"completed", mc.completed},
+           {"failed", mc.failed},
+           {"cancelled", mc.cancelled},
+           {"gain", statsJson(mc.gain)},
+           {"bandwidth_hz", statsJson(mc.bandwidthHz)},
+           {"phase_margin_deg", statsJson(mc.phaseMarginDeg)},
+           {"output_noise_rms", mc.hasNoise ? statsJson(mc.outputNoiseRms) : Json(nullptr)},
+           {"snr_db", mc.hasNoise ? statsJson(mc.snrDb) : Json(nullptr)},
+           {"yield", mc.hasSpecs ? Json(mc.yield) : Json(nullptr)},
+           {"passed", mc.passed}};
     return j.dump(2) + "\n";
 }
 
@@ -643,6 +653,14 @@ std::string spreadToText(const WorstCaseResult &w, const MonteCarloResult &mc,
     statsLine("gain          ", mc.gain, gainFmt);
     statsLine("bandwidth     ", mc.bandwidthHz, hzFmt);
     statsLine("phase margin  ", mc.phaseMarginDeg, degreesText);
+    if (mc.hasNoise) {
+        const std::string out = gainUnit.substr(0, gainUnit.find('/'));
+        statsLine("output noise  ", mc.outputNoiseRms,
+                  [&](double v) { return formatEngineering(v, 4, out + " rms"); });
+        if (mc.snrDb.count > 0 || w.nominal.snrDb)
+            statsLine("SNR           ", mc.snrDb,
+                      [](double v) { return formatFixed(v, 2) + " dB"; });
+    }
     if (mc.failed)
         os << "  " << mc.failed << " trials had no circuit solution\n";
     if (mc.hasSpecs) {

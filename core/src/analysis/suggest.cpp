@@ -186,10 +186,34 @@ void addSpread(const Design &design, const SuggestOptions &o, Suggestion &s)
         } else {
             s.worstSpecs = SpecCheck{false, false, false, false, false, false, "no worst case"};
         }
-        s.yield = mc ? mc->yield : 0.0;
+        if (!mc) {
+            s.yield = 0.0;
+            s.yieldProblem = mc.diagnostics().empty() ? std::string("no Monte Carlo run")
+                                                      : mc.diagnostics().front().message;
+        } else if (mc->completed == 0) {
+            s.yield = 0.0;
+            s.yieldProblem = "cancelled before any trial";
+        } else {
+            s.yield = mc->yield;
+        }
     }
     s.worstCasePass = s.worstSpecs.all();
     s.specsMetWorstCase = s.worstSpecs.met(design.specs);
+}
+
+/// SuggestResult::yieldNote of the ranked rows `rows`.
+std::string yieldNoteOf(const std::vector<Suggestion> &rows, int trials)
+{
+    if (rows.empty()
+        || std::any_of(rows.begin(), rows.end(), [](const Suggestion &s) { return s.yield > 0.0; }))
+        return {};
+    const auto missing = std::find_if(rows.begin(), rows.end(),
+                                      [](const Suggestion &s) { return !s.yieldProblem.empty(); });
+    if (missing != rows.end())
+        return "no yield computed" + std::string(rows.size() > 1 ? " for any row" : "") + ": "
+            + missing->yieldProblem + "; the rows are ranked by the worst case and the objective";
+    return "yield 0 % on every row: no row meets every spec in any of its " + std::to_string(trials)
+        + " Monte Carlo trials";
 }
 
 /// The suggestions of the combinations `chosen` whose trial ran (`done` 1), with their
@@ -257,6 +281,7 @@ void rankSuggestions(const Design &design, const SuggestOptions &o,
     r.seed = o.seed;
     for (const Suggestion &s : all)
         r.worstCaseMet = r.worstCaseMet || s.worstCasePass;
+    r.yieldNote = yieldNoteOf(all, o.yieldTrials);
     r.suggestions = std::move(all);
     if (!r.targetsMet)
         r.unmet = unmetText(design.specs, anyGain, anyBandwidth, anyMargin);
@@ -459,6 +484,7 @@ std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
     j["targets_met"] = r.targetsMet;
     j["unmet"] = r.unmet.empty() ? Json(nullptr) : Json(r.unmet);
     j["worst_case_met"] = r.worstCaseMet;
+    j["yield_note"] = r.yieldNote.empty() ? Json(nullptr) : Json(r.yieldNote);
     j["ranking"] = kRankingText;
     j["objective"] = r.noiseObjective ? "output_noise_rms" : "gain_distance_from_centre";
     j["spread"] = {{"shortlisted", r.shortlisted},
@@ -470,27 +496,29 @@ std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
         Json values = Json::object();
         for (const auto &[id, v] : s.values)
             values[id] = v;
-        list.push_back({{"values", values},
-                        {"gain", number(s.metrics.gain)},
-                        {"gain_error_pct", number(s.gainErrorPct)},
-                        {"bandwidth_hz", number(s.metrics.bandwidthHz)},
-                        {"phase_margin_deg", number(s.metrics.phaseMarginDeg)},
-                        {"output_noise_rms", number(s.metrics.outputNoiseRms)},
-                        {"input_noise_rms", number(s.metrics.inputNoiseRms)},
-                        {"snr_db", number(s.metrics.snrDb)},
-                        {"meets_specs", s.meetsSpecs},
-                        {"meets",
-                         {{"gain", s.specs.gain},
-                          {"bandwidth", s.specs.bandwidth},
-                          {"phase_margin", s.specs.phaseMargin},
-                          {"output_noise", s.specs.outputNoise},
-                          {"snr", s.specs.snr}}},
-                        {"worst_case_pass", s.worstCasePass},
-                        {"specs_met_worst_case", s.specsMetWorstCase},
-                        {"yield", s.yield},
-                        {"toleranced", s.toleranced},
-                        {"objective", number(s.objective)},
-                        {"decades_from_current", number(s.decadesFromCurrent)}});
+        list.push_back(
+            {{"values", values},
+             {"gain", number(s.metrics.gain)},
+             {"gain_error_pct", number(s.gainErrorPct)},
+             {"bandwidth_hz", number(s.metrics.bandwidthHz)},
+             {"phase_margin_deg", number(s.metrics.phaseMarginDeg)},
+             {"output_noise_rms", number(s.metrics.outputNoiseRms)},
+             {"input_noise_rms", number(s.metrics.inputNoiseRms)},
+             {"snr_db", number(s.metrics.snrDb)},
+             {"meets_specs", s.meetsSpecs},
+             {"meets",
+              {{"gain", s.specs.gain},
+               {"bandwidth", s.specs.bandwidth},
+               {"phase_margin", s.specs.phaseMargin},
+               {"output_noise", s.specs.outputNoise},
+               {"snr", s.specs.snr}}},
+             {"worst_case_pass", s.worstCasePass},
+             {"specs_met_worst_case", s.specsMetWorstCase},
+             {"yield", s.yieldProblem.empty() ? Json(s.yield) : Json(nullptr)},
+             {"yield_problem", s.yieldProblem.empty() ? Json(nullptr) : Json(s.yieldProblem)},
+             {"toleranced", s.toleranced},
+             {"objective", number(s.objective)},
+             {"decades_from_current", number(s.decadesFromCurrent)}});
     }
     j["suggestions"] = list;
     return j.dump(2) + "\n";
@@ -519,6 +547,8 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
        << " Monte Carlo trials each (uniform, seed " << r.seed << ")\n";
     if (r.targetsMet && !r.worstCaseMet)
         os << "No row meets every spec at the worst case over the tolerances\n";
+    if (!r.yieldNote.empty())
+        os << "Note: " << r.yieldNote << "\n";
     os << "\n";
     int rank = 1;
     for (const auto &s : r.suggestions) {
@@ -549,8 +579,11 @@ std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
         os << (s.worstCasePass    ? ", meets the specs at the worst case"
                    : s.meetsSpecs ? ", meets the specs at nominal only"
                                   : ", misses a spec");
-        os << "; yield " << formatFixed(100.0 * s.yield, 1) << " %"
-           << (s.toleranced ? "" : " (no tolerances)") << "\n";
+        if (!s.yieldProblem.empty())
+            os << "; yield not computed\n";
+        else
+            os << "; yield " << formatFixed(100.0 * s.yield, 1) << " %"
+               << (s.toleranced ? "" : " (no tolerances)") << "\n";
     }
     return os.str();
 }

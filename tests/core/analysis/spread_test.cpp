@@ -1,4 +1,5 @@
 #include "loopsketch/analysis/analysis.h"
+#include "loopsketch/analysis/noise.h"
 #include "loopsketch/analysis/spread.h"
 #include "loopsketch/design/designfile.h"
 
@@ -245,4 +246,53 @@ TEST(Spread, TextNamesTolerancesAsPercent)
     EXPECT_THAT(text, HasSubstr("R1 value +-0.1%"));
     EXPECT_THAT(text, HasSubstr("R2 value +-5%"));
     EXPECT_THAT(text, ::testing::Not(HasSubstr("m %")));
+}
+
+// The Monte Carlo run's noise figures (issue 18: the Spread panel shows them). With a noiseless
+// gain block of 180 dB the stage's output noise density over 1 Hz .. 1 kHz (far below its
+// closed-loop bandwidth of about 300 MHz) is that of the resistors alone:
+// e_out^2 = 4 k T R2 (1 + R2 / R1) (common practice: R2's own noise plus R1's at the gain
+// -R2/R1; k from CODATA 2018), so the rms over the band is e_out sqrt(999 Hz). Both resistors
+// +-5 % uniform: every trial lies between the corners (R2 high, R1 low) and (R2 low, R1 high),
+// and 2000 trials come within 2 % of each; the nominal trial to 1e-3.
+TEST(MonteCarlo, OutputNoiseRangeWithANoiseSpec)
+{
+    const Design d = parseOrFail(nonInverting(
+        R"(, "tolerance": "5%")", R"(, "tolerance": "5%")",
+        R"(, "noise_band": ["1", "1k"], "specs": {"gain": ["2", "4"], "output_noise_max": "1m"})"));
+    const double kT4 = 4.0 * kBoltzmann * d.temperatureK();
+    const auto rms = [&](double r1, double r2) {
+        return std::sqrt(kT4 * r2 * (1.0 + r2 / r1) * 999.0);
+    };
+    SpreadOptions o;
+    o.trials = 2000;
+    auto r = monteCarlo(d, o);
+    ASSERT_TRUE(r.ok()) << r.errorText();
+    EXPECT_TRUE(r->hasNoise);
+    ASSERT_EQ(r->outputNoiseRms.count, 2000u);
+    ASSERT_TRUE(r->nominal.outputNoiseRms);
+    EXPECT_NEAR(*r->nominal.outputNoiseRms / rms(4.7e3, 10e3), 1.0, 1e-3);
+    const double low = rms(4.7e3 * 1.05, 10e3 * 0.95), high = rms(4.7e3 * 0.95, 10e3 * 1.05);
+    EXPECT_GE(r->outputNoiseRms.min, low * (1 - 1e-3));
+    EXPECT_LE(r->outputNoiseRms.max, high * (1 + 1e-3));
+    EXPECT_LT(r->outputNoiseRms.min, low * 1.02);
+    EXPECT_GT(r->outputNoiseRms.max, high * 0.98);
+    EXPECT_GT(r->outputNoiseRms.mean, low);
+    EXPECT_LT(r->outputNoiseRms.mean, high);
+    auto w = worstCase(d, o);
+    ASSERT_TRUE(w.ok()) << w.errorText();
+    const std::string json = spreadToJson(*w, *r, "V/V");
+    EXPECT_THAT(json, HasSubstr(R"("output_noise_rms": {
+      "count": 2000,)"));
+    EXPECT_THAT(spreadToText(*w, *r, "V/V"), HasSubstr("output noise  min "));
+
+    // Without a noise spec the trials compute no noise, and the run says so by null.
+    const Design plain = parseOrFail(nonInverting(R"(, "tolerance": "5%")", ""));
+    auto p = monteCarlo(plain, o);
+    ASSERT_TRUE(p.ok()) << p.errorText();
+    EXPECT_FALSE(p->hasNoise);
+    EXPECT_EQ(p->outputNoiseRms.count, 0u);
+    auto pw = worstCase(plain, o);
+    ASSERT_TRUE(pw.ok()) << pw.errorText();
+    EXPECT_THAT(spreadToJson(*pw, *p, "V/V"), HasSubstr(R"("output_noise_rms": null)"));
 }

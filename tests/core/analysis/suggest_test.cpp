@@ -13,6 +13,7 @@
 using namespace loopsketch;
 using test::parseOrFail;
 using ::testing::HasSubstr;
+using ::testing::Not;
 
 namespace {
 
@@ -232,4 +233,59 @@ TEST(Suggest, RankingOrderAndTieBreak)
     EXPECT_NEAR(valueOf(r->suggestions[1], "R2"), 110e3, 1e-6);
     EXPECT_NEAR(valueOf(r->suggestions[1], "R1"), 1.10e3, 1e-9);
     EXPECT_NEAR(r->suggestions[0].decadesFromCurrent, r->suggestions[1].decadesFromCurrent, 1e-4);
+}
+
+// A yield of 0 % on every row is said, never left to read as a figure (issue 18). Two ways
+// to it: the Monte Carlo run refused by the work budget (kMaxWorkOperations; a million trials
+// of each row of the demo, about 1e11 operations), where the rows have no yield at all and
+// each says why; and a target no trial can meet (a bandwidth of 1 THz from a gain block of
+// 100 MHz gbw), where every trial was run.
+TEST(Suggest, YieldZeroOnEveryRowIsSaid)
+{
+    SuggestOptions o;
+    o.parts = {"RF", "CF"};
+    o.decades = 0.5;
+    o.best = 2;
+    o.shortlist = 2;
+    o.yieldTrials = kMaxTrials;
+    auto refused = suggestValues(test::loadOrFail(test::kDesignsDir / "demo.loopsketch"), o);
+    ASSERT_TRUE(refused.ok()) << refused.errorText();
+    ASSERT_FALSE(refused->suggestions.empty());
+    for (const Suggestion &s : refused->suggestions)
+        EXPECT_THAT(s.yieldProblem, HasSubstr("over the budget"));
+    EXPECT_THAT(refused->yieldNote, HasSubstr("no yield computed"));
+    EXPECT_THAT(refused->yieldNote, HasSubstr("reduce the trials"));
+    const std::string text = suggestToText(*refused, "V/A");
+    EXPECT_THAT(text, HasSubstr("Note: no yield computed"));
+    EXPECT_THAT(text, HasSubstr("yield not computed"));
+    EXPECT_THAT(text, Not(HasSubstr("yield 0.0 %")));
+    const std::string json = suggestToJson(*refused, "V/A");
+    EXPECT_THAT(json, HasSubstr(R"("yield": null)"));
+    EXPECT_THAT(json, HasSubstr(R"("yield_problem": "the Monte Carlo run)"));
+    EXPECT_THAT(json, HasSubstr(R"("yield_note": "no yield computed)"));
+
+    o = preampSearch();
+    o.best = 2;
+    o.shortlist = 2;
+    std::string unreachable = preamp("1%");
+    const std::string window = R"("specs": {"gain": ["99.99", "102.01"]})";
+    unreachable.replace(unreachable.find(window), window.size(),
+                        R"("specs": {"gain": ["99.99", "102.01"], "bandwidth_min": "1T"})");
+    o.yieldTrials = 20;
+    auto none = suggestValues(parseOrFail(unreachable), o);
+    ASSERT_TRUE(none.ok()) << none.errorText();
+    ASSERT_FALSE(none->suggestions.empty());
+    for (const Suggestion &s : none->suggestions) {
+        EXPECT_TRUE(s.yieldProblem.empty()) << s.yieldProblem;
+        EXPECT_LT(s.yield, 1e-12);
+    }
+    EXPECT_THAT(none->yieldNote, HasSubstr("yield 0 % on every row"));
+    EXPECT_THAT(suggestToJson(*none, "V/V"), HasSubstr(R"("yield": 0.0)"));
+    EXPECT_THAT(suggestToText(*none, "V/V"), HasSubstr("Note: yield 0 % on every row"));
+
+    // Rows with some yield carry no note.
+    auto some = suggestValues(parseOrFail(preamp("1%")), preampSearch());
+    ASSERT_TRUE(some.ok()) << some.errorText();
+    EXPECT_TRUE(some->yieldNote.empty()) << some->yieldNote;
+    EXPECT_THAT(suggestToJson(*some, "V/V"), HasSubstr(R"("yield_note": null)"));
 }

@@ -71,6 +71,12 @@ struct MonteCarloResult
     bool cancelled = false;
     TrialMetrics nominal;
     MetricStats gain, bandwidthHz, phaseMarginDeg; ///< gain unit, Hz, degrees
+    /// True when the trials computed the noise (the design has a noise spec: the trials
+    /// evaluate it only then, see evaluateTrial()); the two statistics below are empty else.
+    bool hasNoise = false;
+    /// Output noise rms over the noise band (V, or A for a current output) and SNR (dB)
+    /// over the trials; a trial without a figure (unstable, no solution) counts as missing.
+    MetricStats outputNoiseRms, snrDb;
     bool hasSpecs = false;
     std::size_t passed = 0; ///< completed trials meeting every spec
     double yield = 0; ///< passed / completed, 0 .. 1 (meaningful when hasSpecs)

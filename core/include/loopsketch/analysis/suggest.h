@@ -65,8 +65,12 @@ struct Suggestion
     SpecCheck worstSpecs;
     bool worstCasePass = false; ///< every spec at every corner
     int specsMetWorstCase = 0; ///< specs held at every corner
-    /// Share of the Monte Carlo trials meeting every spec, 0 .. 1.
+    /// Share of the Monte Carlo trials meeting every spec, 0 .. 1; 0 for ranking when the
+    /// yield could not be computed, and then `yieldProblem` says why.
     double yield = 0;
+    /// Why the row has no yield (the Monte Carlo run refused by the work budget, cancelled
+    /// before any trial ...); empty when `yield` was computed.
+    std::string yieldProblem;
     /// False: the row has no toleranced quantity, so worst case and yield are its nominal
     /// verdict.
     bool toleranced = true;
@@ -97,6 +101,10 @@ struct SuggestResult
     int yieldTrials = 0; ///< Monte Carlo trials per row
     std::uint64_t seed = 0;
     bool noiseObjective = false; ///< the objective is the output noise rms
+    /// Said when every ranked row has a yield of 0, so the rows are not read as comparable
+    /// figures: why no yield was computed (the first row's problem), or that no trial of any
+    /// row met every spec. Empty otherwise.
+    std::string yieldNote;
     std::vector<Suggestion> suggestions; ///< best first
 };
 
