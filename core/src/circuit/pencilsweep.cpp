@@ -61,23 +61,8 @@ void makePlan(std::span<const TransferEntry> entries, Plan &plan)
     }
 }
 
-/// Componentwise backward error (Oettli-Prager: max_i |r_i| / (|A| |z| + |b|)_i, moduli
-/// taken as |re| + |im|) above which a point's solve is refined. Partial pivoting, scaled or
-/// not, is backward stable only normwise: on a 22-state pencil whose output is 1e-20 of the
-/// solution's largest component (a notch of the gain, fuzz seed 2928) it left a backward
-/// error of 1e-5 in the rows that make that output, and the output off by 1e-5 of its
-/// value, between the accuracy check's probes. One step of iterative refinement with the
-/// same factors brings it to round-off (Higham, Accuracy and Stability of Numerical
-/// Algorithms, 2nd ed., section 12.2, from memory: one step of fixed-precision refinement
-/// makes the solve componentwise backward stable). A stable solve stays at a few eps.
-inline constexpr double kRefineBackwardError = 64 * std::numeric_limits<double>::epsilon();
-
-/// Refinement steps of the careful solve at most; each must lower the backward error.
-inline constexpr int kMaxRefinements = 3;
-
 /// One point by the textbook elimination in std::complex arithmetic (pivots by |re| + |im|,
-/// the library's scaled division), refined while its componentwise backward error is above
-/// kRefineBackwardError and falling: the fallback for a point where the fast lanes met a
+/// the library's scaled division): the fallback for a point where the fast lanes met a
 /// pivot too small or too large to square, or a result that is not finite. Writes entry e
 /// to out[e * stride]; every entry NaN when the pencil is singular at s.
 void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntry> entries, cd *out,
@@ -87,7 +72,6 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
     const cd nan(std::numeric_limits<double>::quiet_NaN(),
                  std::numeric_limits<double>::quiet_NaN());
     std::vector<cd> a(static_cast<std::size_t>(k * k)), y(static_cast<std::size_t>(k));
-    std::vector<cd> x(static_cast<std::size_t>(k)), res(static_cast<std::size_t>(k));
     std::vector<Index> piv(static_cast<std::size_t>(k));
     std::vector<double> weight(static_cast<std::size_t>(k));
     for (Index col = 0; col < k; ++col)
@@ -129,62 +113,24 @@ void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntr
                 a[r * k + cc] -= f * a[j * k + cc];
         }
     }
-    // y = A^-1 y in place, from the factors.
-    const auto solveInPlace = [&] {
+    for (std::size_t e = 0; e < entries.size(); ++e) {
+        const int col = entries[e].input, row = entries[e].output;
+        for (Index r = 0; r < k; ++r)
+            y[r] = p.b(r, col);
         for (Index j = 0; j < k; ++j)
             std::swap(y[j], y[piv[j]]);
         for (Index j = 0; j < k; ++j)
-            for (Index i = j + 1; i < k; ++i)
-                y[i] -= a[i * k + j] * y[j];
-        for (Index i = k - 1; i >= 0; --i) {
-            cd acc = y[i];
-            for (Index cc = i + 1; cc < k; ++cc)
-                acc -= a[i * k + cc] * y[cc];
-            y[i] = acc / a[i * k + i];
-        }
-    };
-    const auto l1 = [](cd v) {
-        return std::abs(v.real()) + std::abs(v.imag());
-    };
-    // r = b - A x for column `col` of B, and the componentwise backward error of x.
-    const auto residual = [&](int col) {
-        double omega = 0.0;
-        for (Index i = 0; i < k; ++i) {
-            cd acc = p.b(i, col);
-            double size = std::abs(p.b(i, col));
-            for (Index j = 0; j < k; ++j) {
-                const cd entry = cd(p.g(i, j), 0.0) + s * p.c(i, j);
-                acc -= entry * x[j];
-                size += l1(entry) * l1(x[j]);
-            }
-            res[i] = acc;
-            omega = std::max(omega, size > 0.0 ? l1(acc) / size : (l1(acc) > 0.0 ? 1.0 : 0.0));
-        }
-        return omega;
-    };
-    for (std::size_t e = 0; e < entries.size(); ++e) {
-        const int col = entries[e].input, row = entries[e].output;
-        for (Index i = 0; i < k; ++i)
-            y[i] = p.b(i, col);
-        solveInPlace();
-        x = y;
-        double omega = residual(col);
-        for (int step = 0; step < kMaxRefinements && omega > kRefineBackwardError; ++step) {
-            const std::vector<cd> previous = x;
-            y = res;
-            solveInPlace();
-            for (Index i = 0; i < k; ++i)
-                x[i] += y[i];
-            const double refined = residual(col);
-            if (!(refined < omega)) {
-                x = previous; // no better: keep what was
-                break;
-            }
-            omega = refined;
+            for (Index r = j + 1; r < k; ++r)
+                y[r] -= a[r * k + j] * y[j];
+        for (Index r = k - 1; r >= 0; --r) {
+            cd acc = y[r];
+            for (Index cc = r + 1; cc < k; ++cc)
+                acc -= a[r * k + cc] * y[cc];
+            y[r] = acc / a[r * k + r];
         }
         cd acc = p.d(row, col);
         for (Index m = 0; m < k; ++m)
-            acc += p.l(row, m) * x[m];
+            acc += p.l(row, m) * y[m];
         const bool finite = std::isfinite(acc.real()) && std::isfinite(acc.imag());
         out[static_cast<Index>(e) * stride] = finite ? acc : nan;
     }
@@ -252,12 +198,6 @@ template<typename L, typename M>
     return {take ? x.re : y.re, take ? x.im : y.im};
 }
 
-/// |x| per lane.
-template<typename L> [[gnu::always_inline]] inline L absLanes(L x)
-{
-    return x < 0.0 ? -x : x;
-}
-
 /// 1 / x from its squared magnitude: one real division per lane. Lanes whose squared
 /// magnitude over- or underflows are flagged by the caller and solved again carefully.
 template<typename L>
@@ -298,10 +238,10 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     const auto nVectors = static_cast<Index>(plan.vectors.size());
     // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
     constexpr Index cap = K > 0 ? K : 1;
-    alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap], resStack[cap];
+    alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap];
     alignas(kLaneAlignment) L pivStack[cap], weightStack[cap];
     Index uniformStack[cap];
-    LC *a = aStack, *invDiag = invStack, *y = yStack, *res = resStack;
+    LC *a = aStack, *invDiag = invStack, *y = yStack;
     L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
     L *weight = weightStack; // 1 / the largest squared modulus of each row, per lane
     Index *uniform = uniformStack; // that row when every lane chose it, else -1
@@ -309,13 +249,12 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
         thread_local LaneVector<LC> work;
         thread_local LaneVector<L> pivots;
         thread_local std::vector<Index> same;
-        work.resize(static_cast<std::size_t>(k * k + 3 * k));
+        work.resize(static_cast<std::size_t>(k * k + 2 * k));
         pivots.resize(static_cast<std::size_t>(2 * k));
         same.resize(static_cast<std::size_t>(k));
         a = work.data();
         invDiag = a + k * k;
         y = invDiag + k;
-        res = y + k;
         piv = pivots.data();
         weight = piv + k;
         uniform = same.data();
@@ -331,21 +270,14 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
         return true;
     };
     // Row swaps of the right-hand side, in the order of the factorisation or reversed.
-    const auto swapRhs = [&](LC *x, Index j) {
+    const auto swapRhs = [&](Index j) {
         if (uniform[j] >= 0) {
             if (uniform[j] != j)
-                std::swap(x[j], x[uniform[j]]);
+                std::swap(y[j], y[uniform[j]]);
             return;
         }
         for (Index r = j + 1; r < k; ++r)
-            swapLanes<L>(piv[j] == static_cast<double>(r), x + j, x + r, 1);
-    };
-    const auto anyLane = [](const L &v) __attribute__((always_inline))
-    {
-        for (int w = 0; w < W; ++w)
-            if (v[w] != 0.0)
-                return true;
-        return false;
+            swapLanes<L>(piv[j] == static_cast<double>(r), y + j, y + r, 1);
     };
 
     // Which entries of each row can be non-zero (bit c for column c), from G and C, then
@@ -456,89 +388,40 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 nz[r] |= right;
             }
         }
-        // y = A^-1 y (direct) or A^-T y (transposed) in place, from the factors.
-        const auto solveInPlace = [&](LC * x) __attribute__((always_inline))
-        {
+        for (Index v = 0; v < nVectors; ++v) {
+            const int which = plan.vectors[static_cast<std::size_t>(v)];
             if (!plan.transposed) {
                 // P A = L U with whole rows swapped (multipliers included): swaps first.
+                for (Index r = 0; r < k; ++r)
+                    y[r] = {L{} + b[which * k + r], L{}};
                 for (Index j = 0; j < k; ++j)
-                    swapRhs(x, j);
+                    swapRhs(j);
                 for (Index j = 0; j < k; ++j)
                     for (Index r = j + 1; r < k; ++r)
                         if (has(r, j))
-                            subMul(x[r], a[r * k + j], x[j]);
+                            subMul(y[r], a[r * k + j], y[j]);
                 for (Index r = k - 1; r >= 0; --r) {
-                    LC acc = x[r];
+                    LC acc = y[r];
                     for (Index cc = r + 1; cc < k; ++cc)
                         if (has(r, cc))
-                            subMul(acc, a[r * k + cc], x[cc]);
-                    x[r] = mul(acc, invDiag[r]);
+                            subMul(acc, a[r * k + cc], y[cc]);
+                    y[r] = mul(acc, invDiag[r]);
                 }
             } else {
-                // A^T = U^T L^T P: solve U^T w = x, then L^T v = w, then undo the swaps.
+                // A^T = U^T L^T P: solve U^T x = l, then L^T y = x, then undo the swaps.
                 for (Index r = 0; r < k; ++r) {
-                    LC acc = x[r];
+                    LC acc{L{} + l[r * outputs + which], L{}};
                     for (Index m = 0; m < r; ++m)
                         if (has(m, r))
-                            subMul(acc, a[m * k + r], x[m]);
-                    x[r] = mul(acc, invDiag[r]);
+                            subMul(acc, a[m * k + r], y[m]);
+                    y[r] = mul(acc, invDiag[r]);
                 }
                 for (Index r = k - 2; r >= 0; --r)
                     for (Index m = r + 1; m < k; ++m)
                         if (has(m, r))
-                            subMul(x[r], a[m * k + r], x[m]);
+                            subMul(y[r], a[m * k + r], y[m]);
                 for (Index j = k - 1; j >= 0; --j)
-                    swapRhs(x, j);
-            }
-        };
-        // The residual of y against the pencil itself (the factors overwrote it; G + sC is
-        // rebuilt row by row) into `res`; true in the lanes whose componentwise backward
-        // error exceeds kRefineBackwardError.
-        const auto backwardErrorTooLarge = [&](int which, L &worse) __attribute__((always_inline))
-        {
-            worse = L{};
-            for (Index r = 0; r < k; ++r) {
-                const double rhs = plan.transposed ? l[r * outputs + which] : b[which * k + r];
-                LC acc{L{} + rhs, L{}};
-                L size = L{} + std::abs(rhs);
-                for (Index cc = 0; cc < k; ++cc) {
-                    // Row r of A (direct) or of A^T (transposed); g and c are column-major.
-                    const Index at = plan.transposed ? r * k + cc : cc * k + r;
-                    const double gv = g[at], cv = c[at];
-                    if (gv == 0.0 && cv == 0.0)
-                        continue;
-                    const L re = gv + sr * cv, im = si * cv;
-                    acc.re -= re * y[cc].re - im * y[cc].im;
-                    acc.im -= re * y[cc].im + im * y[cc].re;
-                    size += (absLanes(re) + absLanes(im))
-                        * (absLanes(y[cc].re) + absLanes(y[cc].im));
-                }
-                res[r] = acc;
-                const L miss = absLanes(acc.re) + absLanes(acc.im);
-                worse = miss > kRefineBackwardError * size ? L{} + 1.0 : worse;
-            }
-        };
-        for (Index v = 0; v < nVectors; ++v) {
-            const int which = plan.vectors[static_cast<std::size_t>(v)];
-            for (Index r = 0; r < k; ++r)
-                y[r] = {L{} + (plan.transposed ? l[r * outputs + which] : b[which * k + r]), L{}};
-            solveInPlace(y);
-            // Partial pivoting is backward stable normwise only (kRefineBackwardError): where
-            // a lane's componentwise backward error is too large, one step of refinement
-            // with the same factors, applied in that lane only, so that a point's value does
-            // not depend on the points beside it (every width gives the same numbers). One
-            // step is what componentwise stability needs; a row whose terms are all rounding
-            // (an unknown that is zero in exact arithmetic) keeps a backward error near 1
-            // however often it is refined, so no more are taken.
-            L worse;
-            backwardErrorTooLarge(which, worse);
-            if (anyLane(worse)) {
-                solveInPlace(res);
-                const auto refine = worse != 0.0;
-                for (Index r = 0; r < k; ++r) {
-                    y[r].re = refine ? y[r].re + res[r].re : y[r].re;
-                    y[r].im = refine ? y[r].im + res[r].im : y[r].im;
-                }
+                    swapRhs(j);
             }
             for (std::size_t e = 0; e < entries.size(); ++e) {
                 if (plan.slot[e] != v)

@@ -3,12 +3,10 @@
 // The per-frequency solves of a small reduced pencil, done for a whole list of complex
 // frequencies in one tight loop: (G + sC) z = B u, y = L z + D u, only the entries asked for.
 // Gaussian elimination with partial pivoting, unrolled for the usual orders (k = 1..8) and
-// allocation-free per point. Every solve's componentwise backward error is checked against
-// the pencil, and a point where it is too large is refined with the same factors (partial
-// pivoting is backward stable normwise only; see kRefineBackwardError). With fewer output
-// rows than input columns asked for, each point solves the transposed system once per row
-// (y_r = D_r + (A^-T L_r^T)^T B) from the same factors, instead of once per column: the noise
-// system's one output row against a column per noise source is then a single solve.
+// allocation-free per point. With fewer output rows than input columns asked for, each point
+// solves the transposed system once per row (y_r = D_r + (A^-T L_r^T)^T B) from the same
+// factors, instead of once per column: the noise system's one output row against a column
+// per noise source is then a single solve.
 
 #include "loopsketch/circuit/reducedsystem.h"
 
