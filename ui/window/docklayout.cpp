@@ -45,6 +45,27 @@ constexpr int kCompactWidth = 1400;
 constexpr int kCompactHeight = 1000;
 constexpr int kLeftDockWidth = 230;
 
+/// The screen `window` is on, or nullptr on the offscreen platform of the tests, whose screen
+/// is nominal and lets docks grow a window past it.
+const QScreen *realScreen(const QWidget *window)
+{
+    return QGuiApplication::platformName() != QStringLiteral("offscreen") ? window->screen()
+                                                                          : nullptr;
+}
+
+/// Shrinks `window` to its screen's available room (less a margin for the frame) where it is
+/// larger: a geometry saved on a larger screen, or docks that asked for more room on the way.
+void fitToScreen(QWidget *window)
+{
+    const QScreen *screen = realScreen(window);
+    if (!screen)
+        return;
+    const QRect available = screen->availableGeometry();
+    if (window->height() > available.height() - 48 || window->width() > available.width() - 16)
+        window->resize(std::min(window->width(), available.width() - 16),
+                       std::min(window->height(), available.height() - 48));
+}
+
 /// `content` in a frameless scroll area: a panel whose fields outgrow the dock scrolls rather
 /// than forcing its height on the whole window (the Inspector of a gain block with many poles
 /// pushed the window past a 800-pixel screen).
@@ -63,13 +84,8 @@ void MainWindow::restoreLayout()
 {
     QSettings settings;
     restoreGeometry(settings.value(kGeometryKey).toByteArray());
-    // A geometry saved on a larger screen (or grown past this one) is fitted to the screen,
-    // so the status line and the dock tabs at the bottom stay reachable.
-    if (const QScreen *screen = this->screen()) {
-        const QRect room = screen->availableGeometry();
-        if (width() > room.width() || height() > room.height())
-            resize(std::min(width(), room.width()), std::min(height(), room.height()));
-    }
+    // So the status line and the dock tabs at the bottom stay reachable.
+    fitToScreen(this);
     m_sizedDocks = restoreState(settings.value(kStateKey).toByteArray(), kLayoutVersion);
     if (!m_sizedDocks)
         arrangeDocks(wantsCompactLayout());
@@ -194,13 +210,7 @@ void MainWindow::resetLayout()
     QTimer::singleShot(0, this, [this, compact] {
         sizeDocks(compact);
         QTimer::singleShot(0, this, [this, compact] {
-            // Docks that asked for more room than the screen has on the way give it back.
-            if (QGuiApplication::platformName() != QStringLiteral("offscreen") && screen()) {
-                const QRect available = screen()->availableGeometry();
-                if (height() > available.height() - 48 || width() > available.width() - 16)
-                    resize(std::min(width(), available.width() - 16),
-                           std::min(height(), available.height() - 48));
-            }
+            fitToScreen(this);
             sizeDocks(compact);
             m_view->fitDesign();
         });
@@ -209,12 +219,11 @@ void MainWindow::resetLayout()
 
 bool MainWindow::wantsCompactLayout() const
 {
-    // The screen's height, not the window's (a first window is smaller than its screen); the
-    // offscreen platform of the tests has a nominal screen, so there only the width counts.
-    const bool realScreen
-        = QGuiApplication::platformName() != QStringLiteral("offscreen") && screen();
+    // The screen's height, not the window's (a first window is smaller than its screen); on
+    // the tests' nominal screen only the width counts.
+    const QScreen *screen = realScreen(this);
     return width() < kCompactWidth
-        || (realScreen && screen()->availableGeometry().height() < kCompactHeight);
+        || (screen && screen->availableGeometry().height() < kCompactHeight);
 }
 
 bool MainWindow::isCompactLayout() const
