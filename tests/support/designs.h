@@ -50,6 +50,24 @@ inline Design loadReference(const std::string &name)
 
 /// `text` parsed as the design file `name`; an empty design and a test failure showing the
 /// text when it does not parse.
+/// A non-inverting amplifier as one first builds it on a blank page: RF from the output to the
+/// inverting input, 1k from there to ground, a 1k load, around a gain block with its defaults
+/// (100 dB, 10 MHz gain-bandwidth, no input or output resistance); the design file's text.
+inline std::string idealNonInvertingDesign(const std::string &rf)
+{
+    return R"({"schema": "loopsketch.design/1", "title": "ideal gain block",
+      "parts": [
+        {"id": "VS1", "type": "vsource", "pos": "n1", "neg": "0"},
+        {"id": "U1", "type": "gain_block", "in_p": "n1", "in_n": "n6", "out": "n5",
+         "gain": "100dB", "gbw": "10M"},
+        {"id": "R1", "type": "resistor", "a": "n6", "b": "n5", "value": ")"
+        + rf + R"("},
+        {"id": "R2", "type": "resistor", "a": "0", "b": "n6", "value": "1k"},
+        {"id": "RL1", "type": "load", "a": "n5", "b": "0", "r": "1k"}],
+      "input": "VS1", "output": "voltage",
+      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20}})";
+}
+
 inline Design parseOrFail(const std::string &text, const std::string &name = "test.loopsketch")
 {
     auto d = parseDesign(text, name);

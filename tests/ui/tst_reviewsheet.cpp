@@ -3,6 +3,7 @@
 // pdfinfo and pdftotext are Debian's poppler-utils (packaging/build-deps.txt).
 
 #include "clirun.h"
+#include "designs.h"
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"
@@ -340,16 +341,7 @@ TEST(ReviewSheetImpedance, CurvesWithNothingToDrawAreSaidInWords)
     const QString design = tmp.filePath("ideal.loopsketch");
     QFile file(design);
     ASSERT_TRUE(file.open(QIODevice::WriteOnly));
-    file.write(R"({"schema": "loopsketch.design/1", "title": "ideal gain block",
-      "parts": [
-        {"id": "VS1", "type": "vsource", "pos": "n1", "neg": "0"},
-        {"id": "U1", "type": "gain_block", "in_p": "n1", "in_n": "n6", "out": "n5",
-         "gain": "100dB", "gbw": "10M"},
-        {"id": "R1", "type": "resistor", "a": "n6", "b": "n5", "value": "10k"},
-        {"id": "R2", "type": "resistor", "a": "0", "b": "n6", "value": "1k"},
-        {"id": "RL1", "type": "load", "a": "n5", "b": "0", "r": "1k"}],
-      "input": "VS1", "output": "voltage",
-      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20}})");
+    file.write(loopsketch::test::idealNonInvertingDesign("10k").c_str());
     file.close();
     const QString pdf = tmp.filePath("sheet.pdf");
     const CliRun r = loopsketch({"export", design, "--pdf", pdf});

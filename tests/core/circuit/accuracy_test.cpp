@@ -110,16 +110,7 @@ TEST(Accuracy, OrdinaryDesignsCarryNoWarnings)
 // (handbook relation G = (1 + R1/R2) / (1 + (1 + R1/R2) / A)).
 TEST(Accuracy, IdealOutputStageGivesZeroOutputImpedanceWithoutAWarning)
 {
-    const Design d = parseOrFail(R"({"schema": "loopsketch.design/1", "title": "from blank",
-      "parts": [
-        {"id": "VS1", "type": "vsource", "pos": "n1", "neg": "0"},
-        {"id": "U1", "type": "gain_block", "in_p": "n1", "in_n": "n6", "out": "n5",
-         "gain": "100dB", "gbw": "10M"},
-        {"id": "R1", "type": "resistor", "a": "n6", "b": "n5", "value": "1k"},
-        {"id": "R2", "type": "resistor", "a": "0", "b": "n6", "value": "1k"},
-        {"id": "RL1", "type": "load", "a": "n5", "b": "0", "r": "1k"}],
-      "input": "VS1", "output": "voltage",
-      "sweep": {"start": "1", "stop": "1G", "points_per_decade": 20}})");
+    const Design d = parseOrFail(idealNonInvertingDesign("1k"));
     const Analysis a = analyzeOrFail(d);
     EXPECT_TRUE(a.warnings.empty()) << toString(a.warnings);
     ASSERT_TRUE(a.exact.gain);
