@@ -4,6 +4,7 @@
 
 #include "clirun.h"
 #include "designs.h"
+#include "sheetcli.h"
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/value.h"
@@ -30,16 +31,6 @@
 using testing::HasSubstr;
 
 namespace {
-
-CliRun loopsketch(const QStringList &args)
-{
-    return run(QStringLiteral(LOOPSKETCH_BIN), args);
-}
-
-QString designPath(const char *name)
-{
-    return QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(QLatin1String(name));
-}
 
 // Formatted the way the review sheet formats them (sheetwriter.cpp's eng(), support/qtadapter's
 // degrees()).
@@ -189,8 +180,8 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     const QString pdf = tmp.filePath("sheet.pdf"), csv = tmp.filePath("sweep.csv"),
                   svg = tmp.filePath("plots");
     const CliRun exported
-        = loopsketch({QStringLiteral("export"), designPath(c.design), QStringLiteral("--pdf"), pdf,
-                      QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
+        = loopsketchCli({QStringLiteral("export"), designPath(c.design), QStringLiteral("--pdf"),
+                         pdf, QStringLiteral("--csv"), csv, QStringLiteral("--svg"), svg});
     ASSERT_EQ(exported.exitCode, 0) << exported.err.toStdString();
     ASSERT_TRUE(QFileInfo::exists(pdf));
     for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles", "noise"}) {
@@ -220,7 +211,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
     expectProvenance(sheet);
     expectNoHeadingAtPageFoot(text.out);
 
-    const CliRun json = loopsketch({QStringLiteral("analyze"), designPath(c.design), "--json"});
+    const CliRun json = loopsketchCli({QStringLiteral("analyze"), designPath(c.design), "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
     const QJsonObject a = QJsonDocument::fromJson(json.out.toUtf8()).object();
     const std::string unit = a["gain_unit"].toString().toStdString();
@@ -290,9 +281,9 @@ INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
 // sources, formatted as the text form formats every value (5 digits).
 TEST(AnalyzeText, NoiseTotalsBandAndLargestSources)
 {
-    const CliRun text = loopsketch({QStringLiteral("analyze"), designPath("demo")});
+    const CliRun text = loopsketchCli({QStringLiteral("analyze"), designPath("demo")});
     ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
-    const CliRun json = loopsketch({QStringLiteral("analyze"), designPath("demo"), "--json"});
+    const CliRun json = loopsketchCli({QStringLiteral("analyze"), designPath("demo"), "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
     const QJsonObject noise
         = QJsonDocument::fromJson(json.out.toUtf8()).object()["noise"].toObject();
@@ -321,13 +312,6 @@ TEST(AnalyzeText, NoiseTotalsBandAndLargestSources)
     EXPECT_THAT(out, testing::Not(HasSubstr("nan")));
 }
 
-int pageCount(const QString &pdf)
-{
-    const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
-    const auto m = QRegularExpression(QStringLiteral("Pages:\\s+(\\d+)")).match(info.out);
-    return m.hasMatch() ? m.captured(1).toInt() : -1;
-}
-
 // An unstable design's sheet says UNSTABLE on its first page, above the sketch, with the
 // poles of analyze --json; the closed-loop metrics read unstable and every spec fails.
 // A non-inverting amplifier around an ideal gain block (no input or output resistance, as one
@@ -344,7 +328,7 @@ TEST(ReviewSheetImpedance, CurvesWithNothingToDrawAreSaidInWords)
     file.write(loopsketch::test::idealNonInvertingDesign("10k").c_str());
     file.close();
     const QString pdf = tmp.filePath("sheet.pdf");
-    const CliRun r = loopsketch({"export", design, "--pdf", pdf});
+    const CliRun r = loopsketchCli({"export", design, "--pdf", pdf});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     const CliRun text = run(QStringLiteral("pdftotext"), {pdf, "-"});
     ASSERT_EQ(text.exitCode, 0) << text.err.toStdString();
@@ -352,7 +336,7 @@ TEST(ReviewSheetImpedance, CurvesWithNothingToDrawAreSaidInWords)
     EXPECT_THAT(text.out.toStdString(), HasSubstr("z_in: no finite value to draw"));
     // The demo draws both curves and has no such line.
     const QString demoPdf = tmp.filePath("demo.pdf");
-    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", demoPdf}).exitCode, 0);
+    ASSERT_EQ(loopsketchCli({"export", designPath("demo"), "--pdf", demoPdf}).exitCode, 0);
     const CliRun demo = run(QStringLiteral("pdftotext"), {demoPdf, "-"});
     EXPECT_THAT(demo.out.toStdString(), testing::Not(HasSubstr("at every frequency")));
 }
@@ -364,7 +348,7 @@ TEST(ReviewSheetUnstable, FirstPageSaysUnstableWithThePoles)
     const QString design
         = QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch");
     const QString pdf = tmp.filePath("sheet.pdf");
-    const CliRun r = loopsketch({"export", design, "--pdf", pdf});
+    const CliRun r = loopsketchCli({"export", design, "--pdf", pdf});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     const CliRun first
         = run(QStringLiteral("pdftotext"),
@@ -403,8 +387,8 @@ TEST(ReviewSheetSpread, StatesTrialsSeedAndTheNumbersOfSpreadJson)
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("sheet.pdf");
-    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--spread-trials",
-                                 "700", "--spread-seed", "42"});
+    const CliRun r = loopsketchCli({"export", designPath("demo"), "--pdf", pdf, "--spread-trials",
+                                    "700", "--spread-seed", "42"});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     const CliRun text = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"});
     ASSERT_EQ(text.exitCode, 0);
@@ -414,8 +398,8 @@ TEST(ReviewSheetSpread, StatesTrialsSeedAndTheNumbersOfSpreadJson)
     EXPECT_THAT(sheet, HasSubstr("all 4 corners")); // RF and CF toleranced: 2^2 vertices
 
     // The same run by the spread command (same defaults: uniform, no gain block spread).
-    const CliRun json
-        = loopsketch({"spread", designPath("demo"), "--trials", "700", "--seed", "42", "--json"});
+    const CliRun json = loopsketchCli(
+        {"spread", designPath("demo"), "--trials", "700", "--seed", "42", "--json"});
     ASSERT_EQ(json.exitCode, 0) << json.err.toStdString();
     const QJsonObject j = QJsonDocument::fromJson(json.out.toUtf8()).object();
     const std::string unit = j["gain_unit"].toString().toStdString();
@@ -442,10 +426,11 @@ TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString withSpread = tmp.filePath("with.pdf"), without = tmp.filePath("without.pdf");
-    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", withSpread}).exitCode, 0);
-    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
-                  .exitCode,
-              0);
+    ASSERT_EQ(loopsketchCli({"export", designPath("demo"), "--pdf", withSpread}).exitCode, 0);
+    ASSERT_EQ(
+        loopsketchCli({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
+            .exitCode,
+        0);
     EXPECT_EQ(pageCount(withSpread), 6); // the noise figures (issue 18) take the demo to 6
     EXPECT_LE(pageCount(without), pageCount(withSpread));
     const CliRun text = run(QStringLiteral("pdftotext"), {without, "-"});
@@ -463,7 +448,7 @@ TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
     out.write(design);
     out.close();
     const QString plainPdf = tmp.filePath("plain.pdf");
-    const CliRun r = loopsketch({"export", plain, "--pdf", plainPdf});
+    const CliRun r = loopsketchCli({"export", plain, "--pdf", plainPdf});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     EXPECT_LE(pageCount(plainPdf), pageCount(withSpread));
     EXPECT_THAT(run(QStringLiteral("pdftotext"), {plainPdf, "-"}).out.toStdString(),
@@ -473,7 +458,7 @@ TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
 TEST(ReviewSheetSpread, BadSpreadTrialsIsBadInput)
 {
     for (const char *n : {"-1", "x", "1000001"}) {
-        const CliRun r = loopsketch(
+        const CliRun r = loopsketchCli(
             {"export", designPath("demo"), "--pdf", "/tmp/unused.pdf", "--spread-trials", n});
         EXPECT_EQ(r.exitCode, 2) << n;
         EXPECT_THAT(r.err.toStdString(), HasSubstr("--spread-trials")) << n;
@@ -485,7 +470,7 @@ TEST(ReviewSheetLetter, PagesAreLetterAndNumbered)
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("letter.pdf");
-    const CliRun r = loopsketch({"export", designPath("demo"), "--letter", "--pdf", pdf});
+    const CliRun r = loopsketchCli({"export", designPath("demo"), "--letter", "--pdf", pdf});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     const CliRun info = run(QStringLiteral("pdfinfo"), {pdf});
     // US Letter is 8.5 in x 11 in = 612 pt x 792 pt (ANSI/ASME Y14.1)
@@ -506,7 +491,7 @@ TEST(ReviewSheetPlots, PngFilesAreWholeImages)
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("sheet.pdf"), png = tmp.filePath("png");
-    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--png", png});
+    const CliRun r = loopsketchCli({"export", designPath("demo"), "--pdf", pdf, "--png", png});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     for (const char *stem : {"loop-gain", "impedance", "desensitivity", "step", "poles"}) {
         const QImage image(QDir(png).filePath(QLatin1String(stem) + ".png"));
@@ -532,7 +517,7 @@ TEST(ReviewSheetPlots, PlotFilesCarryTheCandidatesAsTheSheetDoes)
     const QString pdf = tmp.filePath("sheet.pdf"), svg = tmp.filePath("svg"),
                   png = tmp.filePath("png");
     const CliRun r
-        = loopsketch({"export", designPath("demo"), "--pdf", pdf, "--svg", svg, "--png", png});
+        = loopsketchCli({"export", designPath("demo"), "--pdf", pdf, "--svg", svg, "--png", png});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     const std::pair<const char *, const char *> expected[] = {
         {"loop-gain", ": T, gain"}, {"impedance", ": z_in, z_out"}, {"desensitivity", ": |1 + T|"},
@@ -559,7 +544,7 @@ TEST(ReviewSheetPlots, PlotFilesCarryTheCandidatesAsTheSheetDoes)
         f.write(QByteArray::fromStdString(loopsketch::serializeDesign(bare)));
     }
     const CliRun b
-        = loopsketch({"export", barePath, "--pdf", tmp.filePath("bare.pdf"), "--png", barePng});
+        = loopsketchCli({"export", barePath, "--pdf", tmp.filePath("bare.pdf"), "--png", barePng});
     ASSERT_EQ(b.exitCode, 0) << b.err.toStdString();
     const auto coloured = [](const QString &path) {
         const QImage image(path);
@@ -580,7 +565,7 @@ TEST(ReviewSheetCandidates, ComparisonShowsEachCandidatesAnalysis)
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("sheet.pdf");
-    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf});
+    const CliRun r = loopsketchCli({"export", designPath("demo"), "--pdf", pdf});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
     const std::string sheet
         = run(QStringLiteral("pdftotext"), {QStringLiteral("-layout"), pdf, "-"}).out.toStdString();
@@ -612,7 +597,7 @@ TEST(ReviewSheetErrors, UnwritablePathLeavesNothing)
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
     const QString pdf = tmp.filePath("missing-dir/sheet.pdf");
-    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", pdf});
+    const CliRun r = loopsketchCli({"export", designPath("demo"), "--pdf", pdf});
     EXPECT_EQ(r.exitCode, 2);
     EXPECT_THAT(r.err.toStdString(), HasSubstr("cannot write the review sheet"));
     EXPECT_THAT(r.err.toStdString(), HasSubstr(pdf.toStdString()));
@@ -636,7 +621,7 @@ TEST(ReviewSheetErrors, DesignWithDiagnosticsWritesNoFile)
     out.write(text);
     out.close();
     const QString pdf = tmp.filePath("sheet.pdf");
-    const CliRun r = loopsketch({"export", bad, "--pdf", pdf});
+    const CliRun r = loopsketchCli({"export", bad, "--pdf", pdf});
     EXPECT_EQ(r.exitCode, 2);
     EXPECT_THAT(r.err.toStdString(), HasSubstr("RF"));
     EXPECT_THAT(r.err.toStdString(), HasSubstr("12kk"));
@@ -645,7 +630,7 @@ TEST(ReviewSheetErrors, DesignWithDiagnosticsWritesNoFile)
 
 TEST(ReviewSheetErrors, ExportNeedsPdf)
 {
-    const CliRun r = loopsketch({"export", designPath("demo")});
+    const CliRun r = loopsketchCli({"export", designPath("demo")});
     EXPECT_EQ(r.exitCode, 2);
     EXPECT_THAT(r.err.toStdString(), HasSubstr("--pdf"));
 }
@@ -684,96 +669,3 @@ TEST(ReviewSheetRevision, AsWrittenOrLeftOut)
     EXPECT_THAT(with, HasSubstr("Revision"));
     EXPECT_THAT(with, HasSubstr("B.7 (bench)"));
 }
-
-namespace {
-
-// export --scan (issue 16 item 6): each figure's paragraph states the parameters and counts
-// that `loopsketch scan` computes for the same targets (IEC 60063 series for the values).
-struct ScanCounts
-{
-    int rows = 0, passing = 0, unstable = 0;
-};
-
-ScanCounts countScanCsv(const QString &csv)
-{
-    ScanCounts c;
-    QStringList lines = csv.split(QLatin1Char('\n'), Qt::SkipEmptyParts);
-    if (lines.isEmpty() || !lines.front().endsWith(QStringLiteral("stable,specs_pass"))) {
-        ADD_FAILURE() << "not a scan CSV: " << csv.left(200).toStdString();
-        return c;
-    }
-    lines.removeFirst();
-    for (const QString &line : lines) {
-        const QStringList cells = line.split(QLatin1Char(','));
-        ++c.rows;
-        c.passing += cells.back() == QStringLiteral("1");
-        c.unstable += cells[cells.size() - 2] == QStringLiteral("0");
-    }
-    return c;
-}
-
-TEST(ReviewSheetScans, ScanAndMapFiguresStateWhatTheScanCommandComputes)
-{
-    QTemporaryDir tmp;
-    ASSERT_TRUE(tmp.isValid());
-    const QString with = tmp.filePath("with.pdf"), without = tmp.filePath("without.pdf");
-    const CliRun r = loopsketch({"export", designPath("demo"), "--pdf", with, "--spread-trials",
-                                 "0", "--scan", "CF:1p:10p", "--scan", "RF,CF"});
-    ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
-    ASSERT_EQ(loopsketch({"export", designPath("demo"), "--pdf", without, "--spread-trials", "0"})
-                  .exitCode,
-              0);
-    EXPECT_GT(pageCount(with), pageCount(without));
-
-    const CliRun scan
-        = loopsketch({"scan", designPath("demo"), "--part", "CF:1p:10p", "--csv", "-"});
-    const CliRun map
-        = loopsketch({"scan", designPath("demo"), "--part", "RF", "--part", "CF", "--csv", "-"});
-    ASSERT_EQ(scan.exitCode, 0) << scan.err.toStdString();
-    ASSERT_EQ(map.exitCode, 0) << map.err.toStdString();
-    const ScanCounts s = countScanCsv(scan.out), m = countScanCsv(map.out);
-    ASSERT_EQ(s.rows, 13); // E12 from 1 pF to 10 pF, both ends included
-    ASSERT_EQ(m.rows, 49 * 25); // RF 100 kΩ..10 MΩ in E24, CF 220 fF..22 pF in E12
-    EXPECT_GT(s.passing, 0);
-
-    const QString sheet
-        = run(QStringLiteral("pdftotext"), {QStringLiteral("-raw"), with, "-"}).out.simplified();
-    const auto says = [&](const QString &text) {
-        EXPECT_TRUE(sheet.contains(text)) << text.toStdString();
-    };
-    says(QStringLiteral("Scan of CF"));
-    says(QStringLiteral("CF (value): 13 values of E12 from 1 pF to 10 pF; the design has 2.2 pF"));
-    says(QStringLiteral("Shown: phase margin. %1 of 13 values meet every spec; %2 unstable.")
-             .arg(s.passing)
-             .arg(s.unstable));
-    says(QStringLiteral("Map of RF and CF"));
-    says(QStringLiteral("RF (value): 49 values of E24 from 100 kΩ to 10 MΩ; the design has 1 MΩ"));
-    says(QStringLiteral("Shown: phase margin. %1 of 1225 pairs meet every spec; %2 unstable.")
-             .arg(m.passing)
-             .arg(m.unstable));
-    EXPECT_FALSE(
-        run(QStringLiteral("pdftotext"), {without, "-"}).out.contains(QStringLiteral("Scan of")));
-}
-
-TEST(ReviewSheetScans, BadScanTargetIsBadInputAndWritesNothing)
-{
-    QTemporaryDir tmp;
-    ASSERT_TRUE(tmp.isValid());
-    const QString pdf = tmp.filePath("sheet.pdf");
-    const std::pair<const char *, const char *> cases[] = {
-        {"CX", "demo: part CX"},
-        {"RL.q", "part RL, field q"},
-        {"CF:1x:2p", "part CF, field value"},
-        {"CF,CF", "named twice"},
-        {"CF,RF,RL", "--scan"},
-        {"CF,", "--scan"},
-    };
-    for (const auto &[target, says] : cases) {
-        const CliRun r = loopsketch({"export", "demo", "--pdf", pdf, "--scan", target});
-        EXPECT_EQ(r.exitCode, 2) << target;
-        EXPECT_THAT(r.err.toStdString(), HasSubstr(says)) << target;
-        EXPECT_FALSE(QFileInfo::exists(pdf)) << target;
-    }
-}
-
-} // namespace

@@ -325,22 +325,6 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
 
 namespace {
 
-/// The smallest positive resistance any part gives, in ohms (a resistor, a load, a gain
-/// block's input or output resistance, a source's series resistance, given or by default);
-/// 0 when there is none (then nothing counts as zero but zero itself).
-double smallestResistance(const Design &design)
-{
-    double smallest = std::numeric_limits<double>::infinity();
-    for (const Part &part : design.parts)
-        for (const FieldSpec &field : partSpec(part.type).fields)
-            if (field.kind == ValueKind::Resistance) {
-                const double r = part.number(field.name);
-                if (r > 0 && std::isfinite(r))
-                    smallest = std::min(smallest, r);
-            }
-    return std::isfinite(smallest) ? smallest : 0.0;
-}
-
 using Curve = std::vector<Complex>;
 
 Curve nanCurve(std::size_t n)
@@ -414,66 +398,6 @@ SourceAtInput sourceAtInput(const TwoPortMatrix &h, bool voltageSource, double r
 }
 
 } // namespace
-
-void LoopModel::checkAccuracy(const Design &design)
-{
-    std::vector<Complex> probes = {Complex(0.0)};
-    const std::vector<double> hz = design.sweep.frequencies();
-    if (!hz.empty()) {
-        // DC, and the start, middle and top of the sweep: the start on its own, since DC
-        // stands for nothing where the circuit is singular there (a capacitive port), and
-        // the sweep's low end may then be as ill-conditioned as DC is singular.
-        const double mid = std::sqrt(hz.front() * hz.back());
-        for (double f : {hz.front(), mid, hz.back()})
-            probes.push_back({0.0, 2.0 * std::numbers::pi * f});
-    }
-    const auto run
-        = [&](std::optional<ReducedSystem> &system, std::initializer_list<CheckedEntry> entries) {
-              if (!system)
-                  return;
-              AccuracyCheck c = system->checkAccuracy(
-                  probes, std::span<const CheckedEntry>(entries.begin(), entries.size()),
-                  kAssuredRelativeError);
-              m_worstRelativeError = std::max(m_worstRelativeError, c.worstRelativeError);
-              m_refinedSystems += c.refined ? 1 : 0;
-              for (Diagnostic &d : c.warnings) {
-                  const bool known
-                      = std::any_of(m_warnings.begin(), m_warnings.end(), [&](const Diagnostic &w) {
-                            return w.part == d.part && w.field == d.field;
-                        });
-                  if (!known)
-                      m_warnings.push_back(std::move(d));
-              }
-          };
-    using namespace loopio;
-    run(m_full, {{{kOutput, kSource}, "the gain"}});
-    // An impedance below a millionth of the circuit's smallest resistance counts as zero: its
-    // rounding is checked against that level, not against itself (common practice: no
-    // designer reads an impedance six decades below every resistor in the loop).
-    const double zeroLevel = 1e-6 * smallestResistance(design);
-    run(m_input, {{{kInputVoltage, kInputPort}, "z_in", true, zeroLevel}});
-    run(m_output, {{{kLoadVoltage, kLoadPort}, "z_out", true, zeroLevel}});
-    // The return ratio's gain and impedances are combined from several entries (sweep(),
-    // blackman()): each is checked against the careful solve, so a fast path that misses
-    // any of them hands the system to the careful solve; only the loop gain, a quantity of
-    // its own, warns. (The impedance with the gain at zero is an exact zero behind an ideal
-    // output, whose rounding has no relative accuracy to assure.)
-    run(m_rrFull,
-        {{{kReturned, kTest}, "the loop gain"},
-         {{kOutput, kSource}, "the feedthrough", false},
-         {{kOutput, kTest}, "the loop gain", false},
-         {{kReturned, kSource}, "the loop gain", false}});
-    run(m_rrInput,
-        {{{kInputVoltage, kInputPort}, "z_in", false},
-         {{kReturned, kTest}, "z_in", false},
-         {{kReturned, kInputPort}, "z_in", false},
-         {{kInputVoltage, kTest}, "z_in", false}});
-    run(m_rrOutput,
-        {{{kLoadVoltage, kLoadPort}, "z_out", false},
-         {{kReturned, kTest}, "z_out", false},
-         {{kReturned, kLoadPort}, "z_out", false},
-         {{kLoadVoltage, kTest}, "z_out", false}});
-}
 
 std::vector<Complex> LoopModel::loopGainOver(std::span<const Complex> s) const
 {
