@@ -145,15 +145,18 @@ OptionalNumber decibels(const OptionalNumber &factor)
 }
 
 /// The DC summaries of the three methods (exact, return ratio, two-port) and the
-/// desensitivity into `a`; returns every quantity at DC.
-LoopPoint summariseDc(const LoopModel &model, Analysis &a)
+/// desensitivity into `a`; returns every quantity at DC. `exactOnly`: the model has no
+/// Blackman or two-port impedances (LoopModelScope::Metrics), so only the exact ones count.
+LoopPoint summariseDc(const LoopModel &model, Analysis &a, bool exactOnly)
 {
     const LoopPoint dc = model.at(0.0);
     a.exact.gain = realPart(dc.gainExact);
     // Only when an impedance has no finite DC value: is it infinite (an open node) or absent?
     const bool openAtDc = !std::isfinite(dc.zInExact.real()) || !std::isfinite(dc.zOutExact.real())
-        || !std::isfinite(dc.zInReturnRatio.real()) || !std::isfinite(dc.zOutReturnRatio.real())
-        || !std::isfinite(dc.zInTwoPort.real()) || !std::isfinite(dc.zOutTwoPort.real());
+        || (!exactOnly
+            && (!std::isfinite(dc.zInReturnRatio.real())
+                || !std::isfinite(dc.zOutReturnRatio.real()) || !std::isfinite(dc.zInTwoPort.real())
+                || !std::isfinite(dc.zOutTwoPort.real())));
     const std::complex<double> twoPi(0.0, 2.0 * std::numbers::pi);
     const LoopPoint low = openAtDc ? model.at(twoPi * 1e-6) : dc;
     const LoopPoint lower = openAtDc ? model.at(twoPi * 1e-9) : dc;
@@ -202,6 +205,7 @@ std::vector<Complex> pointsAt(const std::vector<double> &hz)
 void addNoise(const Design &design, NoiseOptions options, std::span<const Complex> points,
               Analysis &a)
 {
+    const bool rmsOnly = options.rmsOnly;
     if (!options.closedLoopBandwidthHz)
         options.closedLoopBandwidthHz = a.bandwidthHz;
     auto model = detail::NoiseModel::build(design);
@@ -218,7 +222,26 @@ void addNoise(const Design &design, NoiseOptions options, std::span<const Comple
         for (NoiseContribution &contribution : a.noise->contributions)
             contribution.rms.reset();
     }
-    detail::addNoiseFigures(*model, design, *a.noise, a.stable);
+    if (rmsOnly)
+        detail::addSignalFigures(design, *a.noise); // the SNR, for the spec check
+    else
+        detail::addNoiseFigures(*model, design, *a.noise, a.stable);
+}
+
+/// The rate of closure at the crossover, the level where |A_ol| meets the closure curve and
+/// whether the closure is steep, into `m` (whose crossover is known).
+void addClosure(const LoopModel &model, Margins &m)
+{
+    m.rateOfClosureDbPerDecade = rateOfClosure(model, m.crossoverHz);
+    if (m.crossoverHz) {
+        const double level = 20.0
+            * std::log10(std::abs(
+                model.openLoopGainAt({0.0, 2.0 * std::numbers::pi * *m.crossoverHz})));
+        if (std::isfinite(level))
+            m.closureLevelDb = level;
+    }
+    m.steepClosure
+        = m.rateOfClosureDbPerDecade && *m.rateOfClosureDbPerDecade >= kSteepClosureDbPerDecade;
 }
 
 } // namespace
@@ -230,7 +253,9 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         return problems;
     if (auto over = checkAnalysisBudget(design, file, options.sensitivity); !over.empty())
         return over;
-    auto built = LoopModel::build(design, options.solver);
+    auto built
+        = LoopModel::build(design, options.solver,
+                           options.metricsOnly ? LoopModelScope::Metrics : LoopModelScope::Full);
     if (!built) {
         Diagnostics d = built.diagnostics();
         for (auto &x : d)
@@ -249,7 +274,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     a.topologyReason = model.topology().reason;
     a.twoPortProblem = model.twoPortProblem();
 
-    const LoopPoint dc = summariseDc(model, a);
+    const LoopPoint dc = summariseDc(model, a, options.metricsOnly);
 
     LoopCurves &c = a.curves;
     const std::vector<Complex> points = pointsAt(a.frequenciesHz);
@@ -294,17 +319,10 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         t.insert(t.end(), tAbove.begin(), tAbove.end());
         a.margins = computeMargins(model, f, t, dc.loopGain);
     }
-    a.margins.rateOfClosureDbPerDecade = rateOfClosure(model, a.margins.crossoverHz);
-    if (a.margins.crossoverHz) {
-        const double level = 20.0
-            * std::log10(std::abs(
-                model.openLoopGainAt({0.0, 2.0 * std::numbers::pi * *a.margins.crossoverHz})));
-        if (std::isfinite(level))
-            a.margins.closureLevelDb = level;
-    }
-    a.margins.steepClosure = a.margins.rateOfClosureDbPerDecade
-        && *a.margins.rateOfClosureDbPerDecade >= kSteepClosureDbPerDecade;
-    a.nyquist = countEncirclements(model, loopGainPoles, closedLoopPoles);
+    if (!options.metricsOnly)
+        addClosure(model, a.margins);
+    if (!options.metricsOnly)
+        a.nyquist = countEncirclements(model, loopGainPoles, closedLoopPoles);
     a.step.settlingBand = design.settlingBandFraction();
     if (a.exact.gain && a.stable) {
         a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);
@@ -326,8 +344,11 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = detail::gainSensitivity(design, *a.exact.gain, options.solver);
-    if (options.noise)
-        addNoise(design, options.noiseOptions, points, a);
+    if (options.noise) {
+        NoiseOptions noiseOptions = options.noiseOptions;
+        noiseOptions.rmsOnly = noiseOptions.rmsOnly || options.metricsOnly;
+        addNoise(design, noiseOptions, points, a);
+    }
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;

@@ -367,7 +367,7 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const NoiseModel &model, const De
 
     if (auto failed = referToInput(model, gainIsZero, result))
         return *failed;
-    if (!gainIsZero)
+    if (!gainIsZero && !options.rmsOnly)
         result.brickWall = brickWallEquivalent(model, options.closedLoopBandwidthHz, hz, result);
     return result;
 }

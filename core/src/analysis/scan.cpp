@@ -219,6 +219,7 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
     AnalysisOptions analysisOptions;
     analysisOptions.sensitivity = false;
     analysisOptions.allCurves = false;
+    analysisOptions.metricsOnly = true;
     const auto job = [&](std::size_t index, int worker) {
         ScanRow &row = result.rows[index];
         Design &d = copies[static_cast<std::size_t>(worker)];

@@ -160,7 +160,7 @@ struct LoopModel::TwoPortSystems
     }
 };
 
-Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
+Result<LoopModel> LoopModel::build(const Design &design, SolverPath path, LoopModelScope scope)
 {
     const auto reduce = [path](const auto &...args) {
         return reduceWith(path, args...);
@@ -185,11 +185,13 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
     if (!rr)
         return rr.diagnostics();
     m.m_rrFull = std::move(rr).value();
-    o.source = Source::Removed;
-    m.m_rrInput = optionalOf(reduce(design, o));
-    o.source = Source::Zeroed;
-    o.load = false;
-    m.m_rrOutput = optionalOf(reduce(design, o));
+    if (scope == LoopModelScope::Full) {
+        o.source = Source::Removed;
+        m.m_rrInput = optionalOf(reduce(design, o));
+        o.source = Source::Zeroed;
+        o.load = false;
+        m.m_rrOutput = optionalOf(reduce(design, o));
+    }
 
     if (path == SolverPath::Reduced)
         m.checkAccuracy(design);
@@ -201,6 +203,8 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path)
             m.m_openLoopZerosHz.push_back(z.si);
     }
 
+    if (scope == LoopModelScope::Metrics)
+        return m;
     m.m_topology = identifyTopology(design);
     if (m.m_topology.topology)
         m.buildTwoPort(design, path);

@@ -162,6 +162,12 @@ struct AnalysisOptions
     /// Every curve over the sweep; false: only those the metrics read (LoopModel::sweepLoop),
     /// the same metrics at less cost, for scans. Impedance and two-port curves stay empty.
     bool allCurves = true;
+    /// Only what a scan row reads (scanMetricsOf(): DC gain and exact impedances, margins,
+    /// bandwidth, peaking, poles and stability, step metrics, noise rms and the spec check),
+    /// each the same number as a full analysis gives: the loop model without topology,
+    /// two-port estimate and Blackman impedances (LoopModelScope::Metrics), no Nyquist count
+    /// or rate of closure, noise without the brick-wall, spot and low-frequency figures.
+    bool metricsOnly = false;
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
 

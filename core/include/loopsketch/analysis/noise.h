@@ -138,6 +138,9 @@ struct NoiseOptions
     /// Closed-loop -3 dB bandwidth, Hz, for the brick-wall equivalent; found from the gain
     /// over the sweep when absent.
     std::optional<double> closedLoopBandwidthHz;
+    /// The band rms figures alone (output and input-referred), without the brick-wall
+    /// equivalent: what a scan row reads.
+    bool rmsOnly = false;
 };
 
 struct NoiseAnalysis

@@ -87,11 +87,19 @@ using LoopPoint = LoopQuantities<Complex, TwoPortMatrix>;
 /// the sweep CSV draw (Analysis::curves).
 using LoopCurves = LoopQuantities<std::vector<Complex>, std::vector<TwoPortMatrix>>;
 
+/// Which systems LoopModel::build() makes. Metrics: only the exact solution (gain, z_in,
+/// z_out) and the return ratio's loop gain, what the margins, bandwidth, peaking, poles,
+/// step and spec check read (a scan row): no topology, no two-port estimate and no
+/// Blackman impedances (their curves are NaN). The systems it does make are built and
+/// checked exactly as under Full, so their numbers are the same.
+enum class LoopModelScope { Full, Metrics };
+
 class LoopModel
 {
 public:
     /// Builds every system of a valid design. Fails when the circuit has no solution.
-    static Result<LoopModel> build(const Design &design, SolverPath path = SolverPath::Reduced);
+    static Result<LoopModel> build(const Design &design, SolverPath path = SolverPath::Reduced,
+                                   LoopModelScope scope = LoopModelScope::Full);
 
     const TopologyResult &topology() const { return m_topology; }
     /// Why the two-port estimate is missing although a topology was found (e.g. the
