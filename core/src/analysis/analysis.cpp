@@ -262,7 +262,11 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
             x.file = std::string(file);
         return d;
     }
-    const LoopModel &model = *built;
+    return analyzeModel(*built, design, options);
+}
+
+Analysis analyzeModel(const LoopModel &model, const Design &design, const AnalysisOptions &options)
+{
     Analysis a;
     a.warnings = partLimitWarnings(design);
     for (const Diagnostic &w : model.warnings())

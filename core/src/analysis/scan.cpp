@@ -3,7 +3,9 @@
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/analysis/workbudget.h"
 #include "loopsketch/base/limits.h"
+#include "loopsketch/circuit/restamp.h"
 #include "loopsketch/design/designvalidation.h"
+#include "loopsketch/feedback/loopmodel.h"
 
 #include "detail/parallel.h"
 
@@ -163,6 +165,41 @@ ScanMetrics scanMetricsOf(const Analysis &a, const Design &design)
     return m;
 }
 
+namespace {
+
+/// The metrics of one row: analyze() of `design` in steps, the loop model re-stamped from
+/// the worker's last one where only restampable values changed (`changes`, whose `from` is
+/// what `model` holds; both follow the row on success). The checks analyze() makes come
+/// first, as there: validation, then the work budget, which re-stamping cannot change (the
+/// circuit keeps its elements).
+ScanMetrics scanRow(const Design &design, std::optional<LoopModel> &model,
+                    std::vector<FieldChange> &changes, const AnalysisOptions &options,
+                    std::string_view file)
+{
+    ScanMetrics m;
+    const bool restamp = model && std::all_of(changes.begin(), changes.end(), [&](auto &c) {
+                             return restampable(design, c);
+                         });
+    Diagnostics problems = validateDesign(design, file);
+    if (problems.empty() && !restamp)
+        problems = checkAnalysisBudget(design, file, options.sensitivity);
+    if (problems.empty()) {
+        auto built = restamp ? model->rebuilt(design, changes)
+                             : LoopModel::build(design, options.solver, LoopModelScope::Metrics);
+        if (built) {
+            model = std::move(built).value();
+            for (FieldChange &c : changes)
+                c.from = c.to;
+            return scanMetricsOf(analyzeModel(*model, design, options), design);
+        }
+        problems = built.diagnostics();
+    }
+    m.problem = problems.front().message;
+    return m;
+}
+
+} // namespace
+
 Design withScanValue(Design design, const ScanAxis &axis, double value)
 {
     if (Part *p = design.findPart(axis.part))
@@ -213,24 +250,32 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
         if (axes.size() == 2)
             result.rows[i].values.push_back(axes[1].values[i % inner]);
     }
-    // One copy of the design per worker, its scanned fields overwritten for each row.
+    // One copy of the design per worker, its scanned fields overwritten for each row, and the
+    // loop model of its last row, re-stamped for the next (LoopModel::rebuilt()).
+    struct Worker
+    {
+        Design design;
+        std::optional<LoopModel> model;
+        std::vector<FieldChange> changes; // `from`: the values `model` holds
+    };
     const int workers = detail::workerCount(options.threads, count);
-    std::vector<Design> copies(static_cast<std::size_t>(workers), design);
+    std::vector<Worker> state(static_cast<std::size_t>(workers), Worker{design, {}, {}});
+    for (Worker &w : state)
+        for (const ScanAxis &axis : axes)
+            w.changes.push_back({axis.part, axis.field, 0.0, 0.0});
     AnalysisOptions analysisOptions;
     analysisOptions.sensitivity = false;
     analysisOptions.allCurves = false;
     analysisOptions.metricsOnly = true;
     const auto job = [&](std::size_t index, int worker) {
         ScanRow &row = result.rows[index];
-        Design &d = copies[static_cast<std::size_t>(worker)];
-        for (std::size_t k = 0; k < axes.size(); ++k)
-            d.findPart(axes[k].part)->fields[axes[k].field]
+        Worker &w = state[static_cast<std::size_t>(worker)];
+        for (std::size_t k = 0; k < axes.size(); ++k) {
+            w.design.findPart(axes[k].part)->fields[axes[k].field]
                 = Value{row.values[k], formatEngineering(row.values[k], 3)};
-        auto analysis = analyze(d, file, analysisOptions);
-        if (analysis)
-            row.metrics = scanMetricsOf(*analysis, d);
-        else
-            row.metrics.problem = analysis.diagnostics().front().message;
+            w.changes[k].to = row.values[k];
+        }
+        row.metrics = scanRow(w.design, w.model, w.changes, analysisOptions, file);
         row.done = true;
     };
     result.completed

@@ -232,8 +232,17 @@ double StepModel::valueAt(double t) const
         return m_d;
     if (m_modal) {
         double y = m_final;
-        for (std::size_t i = 0; i < m_lambda.size(); ++i)
-            y += (m_weight[i] * std::exp(m_lambda[i] * t)).real();
+        for (std::size_t i = 0; i < m_lambda.size(); ++i) {
+            const std::complex<double> x = m_lambda[i] * t;
+            if (x.imag() == 0.0 && x.real() < 708.0) {
+                // A real mode: the complex exponential's own arithmetic (exp(re) times
+                // cos 0 = 1 and sin 0 = im) without its sine and cosine, the same value.
+                const double e = std::exp(x.real());
+                y += m_weight[i].real() * e - m_weight[i].imag() * (e * x.imag());
+            } else {
+                y += (m_weight[i] * std::exp(x)).real();
+            }
+        }
         return y;
     }
     // exp([[A, b], [0, 0]] t) = [[Phi, Gamma], [0, 1]]: Gamma is the state at t.

@@ -275,6 +275,19 @@ std::vector<double> Sweep::frequencies() const
     const double f1 = stop.si;
     if (!(std::isfinite(f0) && std::isfinite(f1) && f0 > 0 && f1 >= f0) || pointsPerDecade < 1)
         return {};
+    // The last grid of this thread, kept: one analysis asks for it several times (the work
+    // budget, the accuracy check, the curves), and a scan or a spread asks again for every
+    // design it analyses, with the same sweep; a copy costs far less than a power per point.
+    struct Last
+    {
+        double f0 = 0, f1 = 0;
+        int pointsPerDecade = 0;
+        std::vector<double> grid;
+    };
+    thread_local Last last;
+    if (last.f0 == f0 && last.f1 == f1 && last.pointsPerDecade == pointsPerDecade
+        && !last.grid.empty())
+        return last.grid;
     const double decades = std::log10(f1 / f0);
     const long intervals = std::lround(decades * pointsPerDecade);
     if (intervals <= 0)
@@ -287,6 +300,7 @@ std::vector<double> Sweep::frequencies() const
     // the ends exactly as written, not as the power reproduces them
     f.front() = f0;
     f.back() = f1;
+    last = {f0, f1, pointsPerDecade, f};
     return f;
 }
 

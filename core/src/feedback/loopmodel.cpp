@@ -167,6 +167,8 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path, LoopMo
     };
     using Source = LoopCircuitOptions::Source;
     LoopModel m;
+    m.m_path = path;
+    m.m_scope = scope;
     auto full = reduce(design, LoopCircuitOptions{});
     if (!full)
         return full.diagnostics();

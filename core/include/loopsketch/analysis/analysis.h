@@ -176,6 +176,13 @@ struct AnalysisOptions
 Result<Analysis> analyze(const Design &design, std::string_view file = {},
                          const AnalysisOptions &options = {});
 
+/// What analyze() does once the model is built: `model` is LoopModel::build() of `design`
+/// (valid, within the work budget) with `options.solver` and, under `options.metricsOnly`,
+/// LoopModelScope::Metrics, or LoopModel::rebuilt() of it; the result is then analyze()'s.
+/// For runs over many values of a few parts (scans), which re-stamp one model.
+Analysis analyzeModel(const LoopModel &model, const Design &design,
+                      const AnalysisOptions &options = {});
+
 /// The `loopsketch.analysis/1` JSON text (two-space indent, trailing newline).
 std::string analysisToJson(const Analysis &analysis);
 

@@ -176,6 +176,10 @@ public:
     /// of the reduced pencil leaves of a singular matrix.
     bool singularAtDc() const { return m_singularAtDc; }
 
+    /// The full system it was reduced from (for re-stamping, see restamp.h).
+    const DescriptorSystem &system() const { return *m_system; }
+    SolverPath path() const { return m_path; }
+
     const Eigen::MatrixXd &gr() const { return m_gr; }
     const Eigen::MatrixXd &cr() const { return m_cr; }
     const Eigen::MatrixXd &br() const { return m_br; }

@@ -6,6 +6,7 @@
 
 #include "loopsketch/base/result.h"
 #include "loopsketch/circuit/reducedsystem.h"
+#include "loopsketch/circuit/restamp.h"
 #include "loopsketch/circuit/stepmodel.h"
 #include "loopsketch/design/design.h"
 #include "loopsketch/feedback/topology.h"
@@ -101,6 +102,16 @@ public:
     static Result<LoopModel> build(const Design &design, SolverPath path = SolverPath::Reduced,
                                    LoopModelScope scope = LoopModelScope::Full);
 
+    /// The same as build(`design`, path and scope of this model), for a design that differs
+    /// from the one this model was built from only in the values `changes` name (`from`: the
+    /// value this model holds). Where every change is restampable() and the scope is
+    /// Metrics, each system is re-stamped in place of building its netlist afresh (restamp.h),
+    /// then reduced and checked as build() does, so the numbers are build()'s; otherwise it
+    /// builds afresh.
+    Result<LoopModel> rebuilt(const Design &design, std::span<const FieldChange> changes) const;
+    /// True for a model rebuilt() made by re-stamping (false: built afresh).
+    bool restamped() const { return m_restamped; }
+
     const TopologyResult &topology() const { return m_topology; }
     /// Why the two-port estimate is missing although a topology was found (e.g. the
     /// network's parameter set does not exist); empty otherwise.
@@ -173,6 +184,12 @@ private:
     /// sweep()'s two-port estimate: fills `c`'s two-port curves, which arrive as NaN.
     void sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const;
 
+    /// The systems rebuilt() re-stamps: those of the Metrics scope.
+    bool restampSystems(const Design &design, std::span<const FieldChange> changes);
+
+    SolverPath m_path = SolverPath::Reduced;
+    LoopModelScope m_scope = LoopModelScope::Full;
+    bool m_restamped = false;
     std::optional<ReducedSystem> m_full, m_input, m_output; // exact
     std::optional<ReducedSystem> m_rrFull, m_rrInput, m_rrOutput; // return ratio
     std::shared_ptr<const TwoPortSystems> m_twoPort;
