@@ -165,6 +165,44 @@ TEST(Scan, EveryRowEqualsAnalyzeOfTheDesignWithThatValue)
     EXPECT_FALSE(*scan->rows.front().metrics.specsPass);
 }
 
+TEST(Scan, EveryMapCellEqualsAnalyzeOfTheDesignWithThosePairOfValues)
+{
+    // A map re-stamps one loop model per worker from cell to cell (LoopModel::rebuilt()):
+    // still the same numbers as analyze() of each design built afresh (1e-12 relative), on
+    // one worker (every cell after the first re-stamped) and on two.
+    const Design d = demo();
+    const ScanAxis rf = axisOrFail(d, "RF:470k:2M2", ESeries::E6),
+                   cf = axisOrFail(d, "CF:1p:10p", ESeries::E6);
+    ASSERT_GE(rf.values.size() * cf.values.size(), 9u);
+    for (const int threads : {1, 2}) {
+        ScanOptions o;
+        o.threads = threads;
+        auto map = runScan(d, {rf, cf}, o);
+        ASSERT_TRUE(map.ok()) << map.errorText();
+        for (const ScanRow &row : map->rows) {
+            ASSERT_TRUE(row.done);
+            const Design with
+                = withScanValue(withScanValue(d, rf, row.values[0]), cf, row.values[1]);
+            const Analysis a = analyzeOrFail(with);
+            const ScanMetrics &m = row.metrics;
+            const double v = row.values[0] * 1e6 + row.values[1] * 1e12; // for messages
+            expectSame(m.gain, a.exact.gain, "gain", v);
+            expectSame(m.bandwidthHz, a.bandwidthHz, "bandwidth", v);
+            expectSame(m.phaseMarginDeg, a.margins.phaseMarginDeg, "phase margin", v);
+            expectSame(m.gainMarginDb, a.margins.gainMarginDb, "gain margin", v);
+            expectSame(m.peakingDb, a.peakingDb, "peaking", v);
+            expectSame(m.overshootPct, a.step.overshootPct, "overshoot", v);
+            expectSame(m.settlingTimeS, a.step.settlingTimeS, "settling", v);
+            expectSame(m.outputNoiseRms, a.noise ? a.noise->outputRms : std::nullopt, "noise", v);
+            expectSame(m.zIn, a.exact.zIn, "z_in", v);
+            expectSame(m.zOut, a.exact.zOut, "z_out", v);
+            ASSERT_TRUE(m.stable && m.specsPass);
+            EXPECT_EQ(*m.stable, a.stable);
+            EXPECT_EQ(*m.specsPass, checkSpecs(with.specs, with.sweep, trialMetricsOf(a)).all());
+        }
+    }
+}
+
 TEST(Scan, MapFeasibilityAndStabilityMatchTheCheckCellByCell)
 {
     // R1 x R2 over E6 takes the stage from a noise gain of about 2 (unstable: three poles, a
