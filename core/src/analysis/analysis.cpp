@@ -203,13 +203,14 @@ std::vector<Complex> pointsAt(const std::vector<double> &hz)
 /// The noise analysis of `design` over the sweep (`points` its s = j 2 pi f) into `a`, or why
 /// there is none; the band figures only for a stable loop.
 void addNoise(const Design &design, NoiseOptions options, std::span<const Complex> points,
-              Analysis &a)
+              const std::vector<Complex> &closedLoopPoles, Analysis &a)
 {
     const bool rmsOnly = options.rmsOnly;
     if (!options.closedLoopBandwidthHz)
         options.closedLoopBandwidthHz = a.bandwidthHz;
     auto model = detail::NoiseModel::build(design);
-    auto noise = model ? detail::analyzeNoiseOver(*model, design, options, a.frequenciesHz, points)
+    auto noise = model ? detail::analyzeNoiseOver(*model, design, options, a.frequenciesHz, points,
+                                                  &closedLoopPoles)
                        : Result<NoiseAnalysis>(model.diagnostics());
     if (!noise) {
         a.noiseProblem = noise.diagnostics().front().message;
@@ -351,7 +352,7 @@ Analysis analyzeModel(const LoopModel &model, const Design &design, const Analys
     if (options.noise) {
         NoiseOptions noiseOptions = options.noiseOptions;
         noiseOptions.rmsOnly = noiseOptions.rmsOnly || options.metricsOnly;
-        addNoise(design, noiseOptions, points, a);
+        addNoise(design, noiseOptions, points, closedLoopPoles, a);
     }
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);

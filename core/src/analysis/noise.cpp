@@ -211,14 +211,16 @@ Result<BandIntegral> integrateGivenBand(const DensityColumns &perSource, std::si
 /// kRemainingShare, or, where it does not converge, up to the sweep stop.
 Result<BandIntegral> integrateDefaultBand(const detail::NoiseModel &model,
                                           const DensityColumns &perSource,
-                                          const std::vector<double> &hz, NoiseAnalysis &result)
+                                          const std::vector<double> &hz,
+                                          const std::vector<std::complex<double>> &poles,
+                                          NoiseAnalysis &result)
 {
     const std::size_t sources = model.sources().size();
     result.bandLowHz = hz.front();
     // Not before the circuit's last natural frequency below the cap: above it every
     // density is a plain power law, so the estimate of the power left above is sound.
     double lastPoleHz = 0;
-    for (const std::complex<double> &p : model.naturalFrequencies()) {
+    for (const std::complex<double> &p : poles) {
         const double f = std::abs(p) / (2.0 * std::numbers::pi);
         if (std::isfinite(f) && f < kConvergenceCapHz)
             lastPoleHz = std::max(lastPoleHz, f);
@@ -327,10 +329,11 @@ Result<NoiseAnalysis> analyzeNoise(const Design &design, const NoiseOptions &opt
     return result;
 }
 
-Result<NoiseAnalysis> detail::analyzeNoiseOver(const NoiseModel &model, const Design &design,
-                                               const NoiseOptions &options,
-                                               const std::vector<double> &frequenciesHz,
-                                               std::span<const std::complex<double>> points)
+Result<NoiseAnalysis>
+detail::analyzeNoiseOver(const NoiseModel &model, const Design &design, const NoiseOptions &options,
+                         const std::vector<double> &frequenciesHz,
+                         std::span<const std::complex<double>> points,
+                         const std::vector<std::complex<double>> *naturalFrequencies)
 {
     const std::vector<double> &hz = frequenciesHz;
     if (hz.size() < 2)
@@ -354,7 +357,9 @@ Result<NoiseAnalysis> detail::analyzeNoiseOver(const NoiseModel &model, const De
         if (design.noiseBand)
             return integrateGivenBand(perSource, sources, design.noiseBand->low.si,
                                       design.noiseBand->high.si, true, result);
-        return integrateDefaultBand(model, perSource, hz, result);
+        return integrateDefaultBand(
+            model, perSource, hz,
+            naturalFrequencies ? *naturalFrequencies : model.naturalFrequencies(), result);
     }();
     if (!band)
         return band.diagnostics();

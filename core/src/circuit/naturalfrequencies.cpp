@@ -89,7 +89,38 @@ struct ScaledPencil
 {
     Eigen::MatrixXd g, c;
     double w0 = 1.0;
+    Eigen::MatrixXcd cComplex; ///< c as complex numbers, the right-hand side of every solve
 };
+
+/// The matrices of one pencil solve, kept per thread: the Newton steps and the contour of
+/// the argument principle solve the same small pencil hundreds of times per call, and
+/// allocating a matrix, a factorisation and a solution for each would cost more than the
+/// arithmetic.
+struct PencilSolve
+{
+    Eigen::MatrixXcd a, x;
+    Eigen::PartialPivLU<Eigen::MatrixXcd> lu;
+
+    /// Factors g + sp c (sp = s / w0); false when a pivot is exactly zero.
+    bool factor(const ScaledPencil &p, std::complex<double> sp)
+    {
+        a = p.g.cast<std::complex<double>>() + sp * p.c.cast<std::complex<double>>();
+        lu.compute(a);
+        return !(lu.matrixLU().diagonal().array() == std::complex<double>(0.0)).any();
+    }
+    /// (g + sp c)^-1 c after factor().
+    const Eigen::MatrixXcd &solveC(const ScaledPencil &p)
+    {
+        x = lu.solve(p.cComplex);
+        return x;
+    }
+};
+
+PencilSolve &pencilSolve()
+{
+    thread_local PencilSolve solve;
+    return solve;
+}
 
 ScaledPencil scaledPencil(const Eigen::MatrixXd &gr, const Eigen::MatrixXd &cr)
 {
@@ -121,6 +152,7 @@ ScaledPencil scaledPencil(const Eigen::MatrixXd &gr, const Eigen::MatrixXd &cr)
         if (!changed)
             break;
     }
+    p.cComplex = p.c.cast<std::complex<double>>();
     return p;
 }
 
@@ -131,12 +163,10 @@ std::complex<double> newtonStep(const ScaledPencil &p, std::complex<double> s)
 {
     using cd = std::complex<double>;
     const cd sp = s / p.w0;
-    const Eigen::MatrixXcd a = p.g.cast<cd>() + sp * p.c.cast<cd>();
-    Eigen::PartialPivLU<Eigen::MatrixXcd> lu(a);
-    if ((lu.matrixLU().diagonal().array() == cd(0.0)).any())
+    PencilSolve &solve = pencilSolve();
+    if (!solve.factor(p, sp))
         return 0.0;
-    const Eigen::MatrixXcd x = lu.solve(p.c.cast<cd>());
-    const cd trace = x.trace();
+    const cd trace = solve.solveC(p).trace();
     if (!(std::abs(trace) > 0) || !std::isfinite(std::abs(trace)))
         return {std::numeric_limits<double>::quiet_NaN(), 0.0}; // overflow: no verdict
     return p.w0 / trace;
@@ -186,8 +216,9 @@ int rootsInside(const ScaledPencil &p, double radius)
     for (int i = 0; i < kPoints; ++i) {
         const cd s = std::polar(radius, 2.0 * std::numbers::pi * (i + 0.5) / kPoints);
         const cd sp = s / p.w0;
-        Eigen::PartialPivLU<Eigen::MatrixXcd> lu(p.g.cast<cd>() + sp * p.c.cast<cd>());
-        const Eigen::MatrixXcd x = lu.solve(p.c.cast<cd>());
+        PencilSolve &solve = pencilSolve();
+        solve.factor(p, sp);
+        const Eigen::MatrixXcd &x = solve.solveC(p);
         if (!x.allFinite())
             return -1;
         sum += sp * x.trace();
