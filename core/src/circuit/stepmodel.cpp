@@ -232,6 +232,8 @@ double StepModel::valueAt(double t) const
         return m_d;
     if (m_modal) {
         double y = m_final;
+        std::complex<double> last; // the exponential of mode i - 1, when `pairable`
+        bool pairable = false;
         for (std::size_t i = 0; i < m_lambda.size(); ++i) {
             const std::complex<double> x = m_lambda[i] * t;
             if (x.imag() == 0.0 && x.real() < 708.0) {
@@ -239,8 +241,16 @@ double StepModel::valueAt(double t) const
                 // cos 0 = 1 and sin 0 = im) without its sine and cosine, the same value.
                 const double e = std::exp(x.real());
                 y += m_weight[i].real() * e - m_weight[i].imag() * (e * x.imag());
+                pairable = false;
+            } else if (pairable && m_lambda[i] == std::conj(m_lambda[i - 1])) {
+                // The second of a conjugate pair: exp(conj z) is conj(exp(z)), bit for bit
+                // (the sine is odd, the cosine even), so one exponential serves both.
+                y += (m_weight[i] * std::conj(last)).real();
+                pairable = false;
             } else {
-                y += (m_weight[i] * std::exp(x)).real();
+                last = std::exp(x);
+                y += (m_weight[i] * last).real();
+                pairable = true;
             }
         }
         return y;
