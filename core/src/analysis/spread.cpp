@@ -50,6 +50,7 @@ struct Workspace
 {
     Design design;
     std::vector<double *> targets;
+    TrialCache cache; // the last trial's systems, re-stamped for the next
 
     Workspace(const Design &d, const std::vector<SpreadQuantity> &quantities) : design(d)
     {
@@ -58,6 +59,7 @@ struct Workspace
             Value &v = p->fields[q.field];
             v.si = q.nominal;
             targets.push_back(&v.si);
+            cache.fields.push_back({q.part, q.field, 0.0, 0.0});
         }
     }
 
@@ -68,7 +70,7 @@ struct Workspace
     {
         for (std::size_t k = 0; k < quantities.size(); ++k)
             *targets[k] = quantities[k].nominal * factors[k];
-        auto m = evaluateTrial(design, grid);
+        auto m = evaluateTrial(design, grid, cache);
         failed = !m.ok();
         return m ? *m : TrialMetrics{};
     }

@@ -57,6 +57,57 @@ std::vector<double> coarseGrid(const Sweep &sweep, int pointsPerDecade)
     return f;
 }
 
+namespace {
+
+Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
+                             const ReducedSystem &full, const ReducedSystem &rr);
+
+/// The systems of a trial: re-stamped from the cache's where only its fields changed (and
+/// restampable()), else assembled; the cache then holds them.
+Result<TrialMetrics> cachedTrial(const Design &design, const std::vector<double> &f,
+                                 TrialCache &cache)
+{
+    bool reuse = cache.full && cache.returnRatio;
+    for (FieldChange &c : cache.fields) {
+        const Part *p = design.findPart(c.part);
+        c.to = p ? p->number(c.field) : 0.0;
+        reuse = reuse && restampable(design, c);
+    }
+    // Both or neither: a refusal of the second leaves the first re-stamped, so both are
+    // assembled afresh then.
+    reuse
+        = reuse && restamp(*cache.full, cache.fields) && restamp(*cache.returnRatio, cache.fields);
+    if (!reuse) {
+        LoopCircuitOptions rrOptions;
+        rrOptions.testDriven = true;
+        auto full = assembleSystem(buildLoopNetlist(design, {}));
+        auto rr = assembleSystem(buildLoopNetlist(design, rrOptions));
+        if (!full || !rr) {
+            cache.full.reset();
+            return full ? rr.diagnostics() : full.diagnostics();
+        }
+        cache.full = std::move(full).value();
+        cache.returnRatio = std::move(rr).value();
+    }
+    for (FieldChange &c : cache.fields)
+        c.from = c.to;
+    auto full = ReducedSystem::build(*cache.full);
+    if (!full)
+        return full.diagnostics();
+    auto rr = ReducedSystem::build(*cache.returnRatio);
+    if (!rr)
+        return rr.diagnostics();
+    return trialOn(design, f, *full, *rr);
+}
+
+} // namespace
+
+Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &f,
+                                   TrialCache &cache)
+{
+    return cachedTrial(design, f, cache);
+}
+
 Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &f)
 {
     auto full = reduce(design, {});
@@ -67,6 +118,15 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
     auto rr = reduce(design, rrOptions);
     if (!rr)
         return rr.diagnostics();
+    return trialOn(design, f, *full, *rr);
+}
+
+namespace {
+
+Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
+                             const ReducedSystem &fullSystem, const ReducedSystem &rrSystem)
+{
+    const ReducedSystem *full = &fullSystem, *rr = &rrSystem;
     const auto gainAt = [&](double hz) {
         return full->entry(jw(hz), loopio::kOutput, loopio::kSource);
     };
@@ -142,6 +202,8 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
     }
     return m;
 }
+
+} // namespace
 
 Result<double> evaluateDcGain(const Design &design)
 {

@@ -60,10 +60,12 @@ std::vector<std::complex<double>> finiteEigenvalues(Eigen::MatrixXd g, Eigen::Ma
     balance(g, c);
     // Eigen's info() asserts (in builds with assertions) where QZ did not converge, instead
     // of saying so; the solver's own flags say it either way.
+    // One solver per thread: compute() starts afresh from (g, c) and keeps only the storage.
     struct Solver : Eigen::GeneralizedEigenSolver<Eigen::MatrixXd>
     {
         bool converged() const { return m_valuesOkay && m_realQZ.info() == Eigen::Success; }
-    } ges;
+    };
+    thread_local Solver ges;
     ges.compute(g, c, false);
     if (!ges.converged())
         return poles;

@@ -7,11 +7,13 @@
 
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/base/result.h"
+#include "loopsketch/circuit/restamp.h"
 #include "loopsketch/design/design.h"
 
 #include <atomic>
 #include <cstddef>
 #include <functional>
+#include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -47,6 +49,20 @@ std::vector<double> coarseGrid(const Sweep &sweep, int pointsPerDecade);
 /// and the noise rms and SNR when the design has a noise spec. Fails when the circuit has no
 /// solution. Crossings are refined to 1e-10 relative in frequency.
 Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &gridHz);
+
+/// What evaluateTrial() keeps between the trials of one worker: the two circuit systems of
+/// its last trial and the values of `fields` they hold, re-stamped (restamp.h) for the next
+/// trial's values instead of assembled anew where only those values changed.
+struct TrialCache
+{
+    std::vector<FieldChange> fields; ///< part and field of each varied value; `from`: held
+    std::optional<DescriptorSystem> full, returnRatio;
+};
+
+/// evaluateTrial() with `cache` (the same metrics, bit for bit: a re-stamped system is the
+/// assembled one).
+Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<double> &gridHz,
+                                   TrialCache &cache);
 
 /// Only the closed-loop DC gain (the cheap first stage of a search).
 Result<double> evaluateDcGain(const Design &design);
