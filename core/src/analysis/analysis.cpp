@@ -283,7 +283,13 @@ Analysis analyzeModel(const LoopModel &model, const Design &design, const Analys
 
     LoopCurves &c = a.curves;
     const std::vector<Complex> points = pointsAt(a.frequenciesHz);
-    c = options.allCurves ? model.sweep(points) : model.sweepLoop(points);
+    if (options.metricsOnly) {
+        // The two curves the metrics read, each the same values as in the full sweep.
+        c.gainExact = model.gainOver(points);
+        c.loopGain = model.loopGainOver(points);
+    } else {
+        c = options.allCurves ? model.sweep(points) : model.sweepLoop(points);
+    }
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
     if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())

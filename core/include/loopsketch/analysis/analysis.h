@@ -166,7 +166,8 @@ struct AnalysisOptions
     /// bandwidth, peaking, poles and stability, step metrics, noise rms and the spec check),
     /// each the same number as a full analysis gives: the loop model without topology,
     /// two-port estimate and Blackman impedances (LoopModelScope::Metrics), no Nyquist count
-    /// or rate of closure, noise without the brick-wall, spot and low-frequency figures.
+    /// or rate of closure, noise without the brick-wall, spot and low-frequency figures; of
+    /// the curves only the exact gain and the loop gain.
     bool metricsOnly = false;
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
