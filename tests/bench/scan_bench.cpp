@@ -2,14 +2,18 @@
 // analysed with the scan's analysis options) within 1 s on the 2-core machine. The
 // one-thread run gives the cost of one cell.
 //
-// Measured on the CI preset with the machine shared (load about 10 on 2 cores, so the wall
-// times are not the figure): 3.1 to 3.4 s of CPU for the 3600 cells on one thread, 0.9 ms a
-// cell, so about 1.6 s on 2 idle cores: the 1 s target is not met. Where a cell's time goes
-// (perf, one thread): noise 24 % (band integrals, densities, figures), building the loop
-// model 20 % (its accuracy check 7 %, the two-port 4 %), natural frequencies 20 % (closed
-// loop and return ratio), the step response 17 % (2000-point grid, complex exponentials),
-// the loop sweep 15 %. No one part dominates: meeting 1 s needs the model kept between
-// cells and only the scanned values re-stamped.
+// Before the re-stamping (measured on the CI preset with the machine shared, load about 10
+// on 2 cores, so CPU time is the figure, not the wall time): 3.1 to 3.6 s of CPU for the 3600
+// cells on one thread, 0.9 ms a cell. Then a cell built every netlist and reduction afresh and
+// computed everything analyze() does: noise 24 %, model build 20 %, natural frequencies 20 %,
+// step 17 %, sweep 15 %. Now (issue 15 item 5, the same load; base and new run back to back):
+// 1.9 to 2.2 s of CPU on one thread against 3.4 to 3.6 s for the old code, 0.55 to 0.6 ms a
+// cell, about 1 s on 2 idle cores: each worker re-stamps its loop model from row to row
+// (LoopModel::rebuilt()), a row computes only what it reads (AnalysisOptions::metricsOnly) and
+// the noise band starts from the closed-loop poles already found, every number the same bits
+// as analyze(). What remains (perf, one thread): natural frequencies about 24 % (QZ, Newton
+// confirmation, the 64-point contour count), step response 18 %, noise 19 % (band integral),
+// re-stamp with its reduction and accuracy check 11 %, sweeps 8 %.
 
 #include "loopsketch/analysis/scan.h"
 #include "loopsketch/design/designfile.h"
