@@ -53,6 +53,26 @@ void expectSame(const OptionalNumber &scanned, const OptionalNumber &analysed, c
     EXPECT_LT(relErr(*scanned, *analysed), 1e-12) << what << " at " << value;
 }
 
+/// Every metric of a scan row `m` equals analyze() of `with`, the design with the row's
+/// values (1e-12 relative: the same core path); `v` names the row in messages.
+void expectRowIsAnalysis(const ScanMetrics &m, const Design &with, double v)
+{
+    const Analysis a = analyzeOrFail(with);
+    expectSame(m.gain, a.exact.gain, "gain", v);
+    expectSame(m.bandwidthHz, a.bandwidthHz, "bandwidth", v);
+    expectSame(m.phaseMarginDeg, a.margins.phaseMarginDeg, "phase margin", v);
+    expectSame(m.gainMarginDb, a.margins.gainMarginDb, "gain margin", v);
+    expectSame(m.peakingDb, a.peakingDb, "peaking", v);
+    expectSame(m.overshootPct, a.step.overshootPct, "overshoot", v);
+    expectSame(m.settlingTimeS, a.step.settlingTimeS, "settling", v);
+    expectSame(m.outputNoiseRms, a.noise ? a.noise->outputRms : std::nullopt, "noise", v);
+    expectSame(m.zIn, a.exact.zIn, "z_in", v);
+    expectSame(m.zOut, a.exact.zOut, "z_out", v);
+    ASSERT_TRUE(m.stable && m.specsPass);
+    EXPECT_EQ(*m.stable, a.stable);
+    EXPECT_EQ(*m.specsPass, checkSpecs(with.specs, with.sweep, trialMetricsOf(a)).all());
+}
+
 /// A non-inverting stage around a gain block with poles at 10 Hz and twice at 100 kHz:
 /// stable at small loop gains (large R1/R2), unstable at large ones.
 Design threePoleStage()
@@ -144,21 +164,7 @@ TEST(Scan, EveryRowEqualsAnalyzeOfTheDesignWithThatValue)
         const double v = row.values[0];
         const Design with = withScanValue(d, axis, v);
         EXPECT_EQ(with.findPart("CF")->number("value"), v);
-        const Analysis a = analyzeOrFail(with);
-        const ScanMetrics &m = row.metrics;
-        expectSame(m.gain, a.exact.gain, "gain", v);
-        expectSame(m.bandwidthHz, a.bandwidthHz, "bandwidth", v);
-        expectSame(m.phaseMarginDeg, a.margins.phaseMarginDeg, "phase margin", v);
-        expectSame(m.gainMarginDb, a.margins.gainMarginDb, "gain margin", v);
-        expectSame(m.peakingDb, a.peakingDb, "peaking", v);
-        expectSame(m.overshootPct, a.step.overshootPct, "overshoot", v);
-        expectSame(m.settlingTimeS, a.step.settlingTimeS, "settling", v);
-        expectSame(m.outputNoiseRms, a.noise ? a.noise->outputRms : std::nullopt, "noise", v);
-        expectSame(m.zIn, a.exact.zIn, "z_in", v);
-        expectSame(m.zOut, a.exact.zOut, "z_out", v);
-        ASSERT_TRUE(m.stable && m.specsPass);
-        EXPECT_EQ(*m.stable, a.stable);
-        EXPECT_EQ(*m.specsPass, checkSpecs(with.specs, with.sweep, trialMetricsOf(a)).all());
+        expectRowIsAnalysis(row.metrics, with, v);
     }
     // The demo's own CF (2.2 pF, a row of the scan) passes every spec; 0.22 pF rings too much
     // for the 50 degree phase-margin spec: the scan shows both.
@@ -183,22 +189,8 @@ TEST(Scan, EveryMapCellEqualsAnalyzeOfTheDesignWithThosePairOfValues)
             ASSERT_TRUE(row.done);
             const Design with
                 = withScanValue(withScanValue(d, rf, row.values[0]), cf, row.values[1]);
-            const Analysis a = analyzeOrFail(with);
-            const ScanMetrics &m = row.metrics;
-            const double v = row.values[0] * 1e6 + row.values[1] * 1e12; // for messages
-            expectSame(m.gain, a.exact.gain, "gain", v);
-            expectSame(m.bandwidthHz, a.bandwidthHz, "bandwidth", v);
-            expectSame(m.phaseMarginDeg, a.margins.phaseMarginDeg, "phase margin", v);
-            expectSame(m.gainMarginDb, a.margins.gainMarginDb, "gain margin", v);
-            expectSame(m.peakingDb, a.peakingDb, "peaking", v);
-            expectSame(m.overshootPct, a.step.overshootPct, "overshoot", v);
-            expectSame(m.settlingTimeS, a.step.settlingTimeS, "settling", v);
-            expectSame(m.outputNoiseRms, a.noise ? a.noise->outputRms : std::nullopt, "noise", v);
-            expectSame(m.zIn, a.exact.zIn, "z_in", v);
-            expectSame(m.zOut, a.exact.zOut, "z_out", v);
-            ASSERT_TRUE(m.stable && m.specsPass);
-            EXPECT_EQ(*m.stable, a.stable);
-            EXPECT_EQ(*m.specsPass, checkSpecs(with.specs, with.sweep, trialMetricsOf(a)).all());
+            // RF in megohms plus CF in picofarads, to name the cell in a message.
+            expectRowIsAnalysis(row.metrics, with, row.values[0] * 1e-6 + row.values[1] * 1e12);
         }
     }
 }
