@@ -142,7 +142,7 @@ TEST_F(Stability, ScanOfCfMatchesTheCommandLineAndAClickAppliesOneValue)
     raise(window.get(), "ScanDock");
     auto *panel = window->findChild<ScanPanel *>();
     ASSERT_NE(panel, nullptr);
-    QSignalSpy done(panel, &ScanPanel::scanFinished);
+    QSignalSpy done(panel, &ScanPanel::runFinished);
     QElapsedTimer clock;
     clock.start();
     // The Sketch's context-menu entry emits this.
@@ -186,7 +186,7 @@ TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
     raise(window.get(), "MapDock");
     auto *panel = window->findChild<MapPanel *>();
     ASSERT_NE(panel, nullptr);
-    QSignalSpy done(panel, &MapPanel::mapFinished);
+    QSignalSpy done(panel, &MapPanel::runFinished);
     QElapsedTimer clock;
     clock.start();
     panel->mapParts(QStringLiteral("RF"), QStringLiteral("CF"));
@@ -248,7 +248,7 @@ TEST_F(Stability, ScanOfCfGoesOnTheReviewSheetWhileTheDesignIsAsScanned)
     auto *panel = window->findChild<ScanPanel *>();
     ASSERT_NE(panel, nullptr);
     EXPECT_TRUE(sheetScans(window.get()).empty()); // nothing scanned yet
-    QSignalSpy done(panel, &ScanPanel::scanFinished);
+    QSignalSpy done(panel, &ScanPanel::runFinished);
     panel->scanPart(QStringLiteral("CF"));
     ASSERT_TRUE(done.wait(60000));
     const ScanResult *scan = panel->result();
@@ -296,7 +296,7 @@ TEST_F(Stability, ScanOfCfGoesOnTheReviewSheetWhileTheDesignIsAsScanned)
 TEST_F(Stability, CancelledMapLeavesTheWindowWorking)
 {
     auto *panel = window->findChild<MapPanel *>();
-    QSignalSpy done(panel, &MapPanel::mapFinished);
+    QSignalSpy done(panel, &MapPanel::runFinished);
     panel->mapParts(QStringLiteral("RF"), QStringLiteral("CF"));
     panel->cancel();
     ASSERT_TRUE(done.wait(60000));
