@@ -50,12 +50,11 @@
 #include <memory>
 #include <random>
 
-using namespace loopsketch;
-using namespace loopsketch::ui;
-using loopsketch::ui::test::BlankDesignTest;
-using loopsketch::ui::test::kDesigns;
 using ::testing::HasSubstr;
 
+// Inside the fixture's namespace: BlankDesignTest, kDesigns, and core's and the window's
+// names without qualification.
+namespace loopsketch::ui::test {
 namespace {
 
 // ---- From a blank page ----
@@ -599,3 +598,4 @@ TEST_F(BlankDesignTest, StaleCandidateOverlaysNeverOutliveAPasteThatBreaksTheDes
 }
 
 } // namespace
+} // namespace loopsketch::ui::test

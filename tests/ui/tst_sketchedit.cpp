@@ -27,12 +27,11 @@
 #include <cmath>
 #include <set>
 
-using namespace loopsketch;
-using namespace loopsketch::ui;
-using loopsketch::ui::test::BlankDesignTest;
-using loopsketch::ui::test::kDesigns;
 using ::testing::HasSubstr;
 
+// Inside the fixture's namespace: BlankDesignTest, kDesigns, and core's and the window's
+// names without qualification.
+namespace loopsketch::ui::test {
 namespace {
 
 class SketchEditTest : public BlankDesignTest
@@ -478,3 +477,4 @@ TEST_F(SketchEditTest, DeleteRemovesSelectedPartsGroundsAndWiresTogether)
 }
 
 } // namespace
+} // namespace loopsketch::ui::test
