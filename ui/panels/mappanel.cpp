@@ -1,5 +1,6 @@
 #include "panels/mappanel.h"
 
+#include "support/cellgrid.h"
 #include "support/plotstyle.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
@@ -124,26 +125,12 @@ void HeatMap::paintEvent(QPaintEvent *)
             const ScanRow *r = row(i, j);
             if (r && r->done && r->metrics.stable && !*r->metrics.stable) {
                 p.setPen(QPen(Qt::white, 1.2));
-                p.drawLine(c.topLeft(), c.bottomRight());
-                p.drawLine(c.topRight(), c.bottomLeft());
+                drawCellCross(p, c);
             }
         }
     // The feasible region's outline: an edge wherever a passing cell meets one that is not.
     p.setPen(QPen(palette::kBlack, 2.5));
-    for (int i = 0; i < n1; ++i)
-        for (int j = 0; j < n2; ++j) {
-            if (!passes(i, j))
-                continue;
-            const QRect c = cell(i, j);
-            if (!passes(i - 1, j))
-                p.drawLine(c.topLeft(), c.bottomLeft());
-            if (!passes(i + 1, j))
-                p.drawLine(c.topRight(), c.bottomRight());
-            if (!passes(i, j - 1))
-                p.drawLine(c.bottomLeft(), c.bottomRight());
-            if (!passes(i, j + 1))
-                p.drawLine(c.topLeft(), c.topRight());
-        }
+    drawRegionOutline(p, n1, n2, passes, cell);
     // The current design: a ring where its values fall on the log scales.
     const auto at = [](const ScanAxis &axis, double v, int n, int length) {
         const double lo = std::log10(std::abs(axis.values.front())),
