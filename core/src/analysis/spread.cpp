@@ -339,17 +339,16 @@ namespace {
 /// when it cannot be prepared.
 template<class Run>
 auto onSpreadSetup(const Design &design, const SpreadOptions &options, std::string_view file,
-                   Run run) -> decltype(run(design, options, file, std::declval<SpreadSetup &>()))
+                   Run run) -> decltype(run(design, options, file, std::declval<SpreadSetup>()))
 {
     auto prepared = prepareSpread(design, options, file);
     if (!prepared)
         return prepared.diagnostics();
-    SpreadSetup setup = std::move(prepared).value();
-    return run(design, options, file, setup);
+    return run(design, options, file, std::move(prepared).value());
 }
 
 Result<WorstCaseResult> worstCaseOf(const Design &design, const SpreadOptions &options,
-                                    std::string_view file, SpreadSetup &setup)
+                                    std::string_view file, SpreadSetup setup)
 {
     const std::vector<double> &grid = setup.grid;
 
@@ -448,7 +447,7 @@ Result<WorstCaseResult> worstCaseOf(const Design &design, const SpreadOptions &o
 }
 
 Result<MonteCarloResult> monteCarloOf(const Design &design, const SpreadOptions &options,
-                                      std::string_view file, SpreadSetup &setup)
+                                      std::string_view file, SpreadSetup setup)
 {
     const std::vector<double> &grid = setup.grid;
     if (auto over = checkRepeatedBudget(design, file, static_cast<std::size_t>(options.trials),
