@@ -46,20 +46,18 @@ Diagnostics checkOptions(const SpreadOptions &o, std::string_view file)
     return d;
 }
 
-/// A worker's own copy of the design and where each quantity lives in it.
+/// A worker's own copy of the design, where each quantity lives in it, its trial systems.
 struct Workspace
 {
     Design design;
     std::vector<double *> targets;
-    TrialCache cache; // the last trial's systems, re-stamped for the next
+    TrialCache cache;
 
     Workspace(const Design &d, const std::vector<SpreadQuantity> &quantities) : design(d)
     {
         for (const auto &q : quantities) {
-            Part *p = design.findPart(q.part);
-            Value &v = p->fields[q.field];
-            v.si = q.nominal;
-            targets.push_back(&v.si);
+            Value &v = design.findPart(q.part)->fields[q.field];
+            targets.push_back(&(v.si = q.nominal)); // each starts at its nominal value
             cache.fields.push_back({q.part, q.field, 0.0, 0.0});
         }
     }
