@@ -253,7 +253,7 @@ TEST_F(CandidatesTest, ABurstOfEditsLeavesTheTableUntilItSettles)
     // itself.
     for (int i = 0; i < 3; ++i) {
         ASSERT_TRUE(doc()->stepPart("CF", 1, false));
-        doc()->recomputeNow();
+        EXPECT_TRUE(doc()->waitForAnalysis());
         EXPECT_FALSE(panel()->isUpToDate()) << "step " << i;
         EXPECT_EQ(cell->text(), drawn) << "step " << i;
     }

@@ -622,7 +622,7 @@ TEST_F(MainWindowTest, WarningReachesTheStatusLineAndTheReadout)
     Design d = doc()->design();
     d.findPart("RF")->fields["value"] = Value{1e-300, {}};
     doc()->reset(d, QString());
-    doc()->recomputeNow();
+    EXPECT_TRUE(doc()->waitForAnalysis());
     QApplication::processEvents();
     EXPECT_THAT(window->statusText().toStdString(), HasSubstr("Warning: part RF, field value"));
     EXPECT_THAT(window->readout()->warningText().toStdString(), HasSubstr("part RF, field value"));

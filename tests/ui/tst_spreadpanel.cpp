@@ -410,7 +410,7 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
     EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
     EXPECT_THAT(sheet, HasSubstr("10000 trials (10000 completed), uniform distribution, seed 1"));
     ASSERT_TRUE(window.document()->stepPart("CF", 1, false));
-    window.document()->recomputeNow();
+    EXPECT_TRUE(window.document()->waitForAnalysis());
     ASSERT_EQ(panel->completedResult(), nullptr);
     ASSERT_TRUE(exportReviewSheet(*window.document(), afterEdit, SheetPageSize::A4,
                                   QStringLiteral("demo.loopsketch"), &error,

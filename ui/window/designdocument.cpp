@@ -9,6 +9,9 @@
 #include "loopsketch/design/candidate.h"
 #include "loopsketch/design/designfile.h"
 
+#include <QCoreApplication>
+#include <QDeadlineTimer>
+
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -16,11 +19,43 @@
 
 namespace loopsketch::ui {
 
+namespace {
+/// Changes closer together than this are a burst (wheel notches, arrow keys, a drag).
+constexpr int kBurstGapMs = 250;
+/// A burst's full analysis runs once the edits have paused this long.
+constexpr int kSettleMs = 200;
+/// Designs whose full analysis takes longer than this show a coarse sweep during a burst; a
+/// faster one (the demo: about 1 ms) keeps up at full resolution.
+constexpr double kCoarseAboveMs = 4.0;
+} // namespace
+
+struct DesignDocument::Run
+{
+    quint64 generation = 0;
+    bool coarse = false;
+    std::optional<Result<Analysis>> result;
+    double ms = 0.0;
+};
+
 DesignDocument::DesignDocument(QObject *parent) : QObject(parent)
 {
     m_recomputeTimer.setSingleShot(true);
     m_recomputeTimer.setInterval(0);
-    connect(&m_recomputeTimer, &QTimer::timeout, this, &DesignDocument::recompute);
+    connect(&m_recomputeTimer, &QTimer::timeout, this, &DesignDocument::dispatch);
+    m_settleTimer.setSingleShot(true);
+    m_settleTimer.setInterval(kSettleMs);
+    connect(&m_settleTimer, &QTimer::timeout, this, [this] {
+        m_wantCoarse = false;
+        dispatch();
+    });
+}
+
+DesignDocument::~DesignDocument()
+{
+    // The worker posts its result to this object; joining here means nothing is posted to a
+    // destroyed document (what it already posted goes with it).
+    if (m_worker.joinable())
+        m_worker.join();
 }
 
 void DesignDocument::reset(Design design, const QString &filePath)
@@ -33,8 +68,13 @@ void DesignDocument::reset(Design design, const QString &filePath)
     m_undoStack.setClean();
     emit designReset();
     emit filePathChanged(m_filePath);
+    // A new design is no burst: its full analysis starts at once.
+    scheduleRecompute();
+    m_sinceChange.invalidate();
+    m_wantCoarse = false;
+    m_settleTimer.stop();
     m_recomputeTimer.stop();
-    recompute();
+    dispatch();
 }
 
 Design DesignDocument::blankDesign()
@@ -537,25 +577,85 @@ void DesignDocument::rebuildLayout()
 
 void DesignDocument::scheduleRecompute()
 {
+    ++m_generation;
+    emit analysisPending();
+    // Several changes in one event-loop turn (a macro, a structural edit) are one request.
+    if (m_recomputeTimer.isActive())
+        return;
+    // A burst on a design whose full analysis is slow: coarse sweeps until it settles.
+    const bool burst = m_sinceChange.isValid() && m_sinceChange.elapsed() < kBurstGapMs;
+    m_sinceChange.start();
+    if (burst && m_lastFullMs > kCoarseAboveMs) {
+        m_wantCoarse = true;
+        m_settleTimer.start();
+    }
     m_recomputeTimer.start();
 }
 
-void DesignDocument::recomputeNow()
+bool DesignDocument::waitForAnalysis(int timeoutMs)
 {
-    m_recomputeTimer.stop();
-    recompute();
+    const QDeadlineTimer deadline(timeoutMs);
+    while (isAnalysisPending()) {
+        if (deadline.hasExpired())
+            return false;
+        QCoreApplication::processEvents(QEventLoop::AllEvents | QEventLoop::WaitForMoreEvents,
+                                        int(std::clamp<qint64>(deadline.remainingTime(), 1, 50)));
+    }
+    return true;
 }
 
-void DesignDocument::recompute()
+void DesignDocument::dispatch()
 {
-    const auto start = std::chrono::steady_clock::now();
-    // Everything the window shows, the Noise panel's analysis included.
-    AnalysisOptions options;
-    options.noise = true;
-    auto result = analyze(m_design, toStdString(m_filePath), options);
-    m_lastAnalysisMs
-        = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
-              .count();
+    if (m_running || !isAnalysisPending())
+        return;
+    // A coarse result for this design is shown: the full one waits for the burst to settle.
+    if (m_shownGeneration == m_generation && m_shownCoarse && m_wantCoarse)
+        return;
+    m_running = true;
+    if (m_worker.joinable())
+        m_worker.join();
+    auto run = std::make_shared<Run>();
+    run->generation = m_generation;
+    run->coarse = m_wantCoarse;
+    Design design = m_design;
+    if (run->coarse)
+        design.sweep.pointsPerDecade
+            = std::min(design.sweep.pointsPerDecade, kCoarsePointsPerDecade);
+    m_worker = std::thread([this, run, design = std::move(design), file = toStdString(m_filePath)] {
+        const auto start = std::chrono::steady_clock::now();
+        // Everything the window shows, the Noise panel's analysis included.
+        AnalysisOptions options;
+        options.noise = true;
+        run->result.emplace(analyze(design, file, options));
+        run->ms
+            = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
+                  .count();
+        QMetaObject::invokeMethod(
+            this, [this, run] { finishRun(run); }, Qt::QueuedConnection);
+    });
+    emit analysisStarted(run->generation, run->coarse);
+}
+
+void DesignDocument::finishRun(const std::shared_ptr<Run> &run)
+{
+    m_running = false;
+    if (m_worker.joinable())
+        m_worker.join();
+    if (run->generation == m_generation)
+        applyRun(*run);
+    else
+        ++m_droppedResults; // made for a design that has changed since: never shown
+    dispatch();
+}
+
+void DesignDocument::applyRun(Run &run)
+{
+    m_shownGeneration = run.generation;
+    m_shownCoarse = run.coarse;
+    m_lastAnalysisMs = run.ms;
+    if (!run.coarse)
+        m_lastFullMs = run.ms;
+    Result<Analysis> &result = *run.result;
     if (!result) {
         // Never leave the last good numbers standing as if they were current.
         m_analysis.reset();
