@@ -1,5 +1,9 @@
 // One E-series wheel step on the feedback resistor, through the real event path, to every
-// panel and the Readout repainted: ui/README.md §3 asks for under one 60 Hz frame (16 ms).
+// panel and the Readout repainted: ui/README.md §3 asks for under one 60 Hz frame (16 ms),
+// issue 15 for a median of 8 ms on the demo. And on the 50-part RC ladder (a full analysis of
+// tens of ms, run on the document's worker thread) the longest the UI thread goes without
+// turning its event loop during a burst of 20 wheel steps: issue 15 asks for no stall over
+// 16 ms.
 
 #include "panels/plotpanel.h"
 #include "panels/readout.h"
@@ -9,13 +13,19 @@
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
+#include "chaindesigns.h"
+
 #include <QApplication>
 #include <QDockWidget>
+#include <QElapsedTimer>
+#include <QTimer>
 #include <QWheelEvent>
 
 #include <benchmark/benchmark.h>
 
+#include <algorithm>
 #include <chrono>
+#include <vector>
 
 using namespace loopsketch::ui;
 
@@ -57,29 +67,43 @@ void BM_WheelStepToAllPanelsRepainted(benchmark::State &state)
     MainWindow window;
     if (!openDemo(window, state, state.range(0) == 1))
         return;
+    if (!window.document()->waitForAnalysis()) {
+        state.SkipWithError("the demo's analysis did not arrive");
+        return;
+    }
     QApplication::processEvents();
     window.repaint();
     int direction = 1;
     double analysisMs = 0, updateMs = 0;
+    std::vector<double> stepMs;
     for (auto _ : state) {
         const auto start = std::chrono::steady_clock::now();
         wheelOver(window, "RF", direction);
         direction = -direction;
-        // The coalescing timer would fire on the next event-loop turn; run it now, let the
-        // charts handle their posted layout requests, then paint the whole window (Readout,
-        // Sketch and every panel) synchronously.
-        window.document()->recomputeNow();
-        updateMs
-            += std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
-                   .count();
+        // The analysis runs on the document's worker; the event loop turns until its result
+        // has reached every panel, then the whole window (Readout, Sketch and every panel) is
+        // painted synchronously.
+        if (!window.document()->waitForAnalysis()) {
+            state.SkipWithError("no result within the time allowed");
+            return;
+        }
+        const auto updated = std::chrono::steady_clock::now();
+        updateMs += std::chrono::duration<double, std::milli>(updated - start).count();
+        window.repaint();
+        stepMs.push_back(
+            std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
+                .count());
         QApplication::processEvents();
         analysisMs += window.document()->lastAnalysisMs();
     }
-    // analysis: core analyze(); update: wheel event to every panel's series replaced
-    // (includes analysis); the rest of the time is layout and painting.
+    // analysis: core analyze() on the worker; update: wheel event to every panel's series
+    // replaced (includes the analysis and the hand-over); step: to the window repainted.
     state.counters["analysis_ms"]
         = benchmark::Counter(analysisMs, benchmark::Counter::kAvgIterations);
     state.counters["update_ms"] = benchmark::Counter(updateMs, benchmark::Counter::kAvgIterations);
+    std::nth_element(stepMs.begin(), stepMs.begin() + std::ptrdiff_t(stepMs.size() / 2),
+                     stepMs.end());
+    state.counters["median_step_ms"] = stepMs[stepMs.size() / 2];
 }
 BENCHMARK(BM_WheelStepToAllPanelsRepainted)
     ->Arg(0)
@@ -118,7 +142,10 @@ void BM_UpdateOnePanel(benchmark::State &state)
     QApplication::processEvents();
     const loopsketch::Analysis first = *window.document()->analysis();
     wheelOver(window, "RF", 1);
-    window.document()->recomputeNow();
+    if (!window.document()->waitForAnalysis()) {
+        state.SkipWithError("no result within the time allowed");
+        return;
+    }
     const loopsketch::Analysis second = *window.document()->analysis();
     PlotPanel *panel = window.panels().at(std::size_t(state.range(0)));
     bool flip = false;
@@ -128,6 +155,80 @@ void BM_UpdateOnePanel(benchmark::State &state)
     }
 }
 BENCHMARK(BM_UpdateOnePanel)->DenseRange(0, 5)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+/// The 50-part RC ladder (tests/support/chaindesigns.h) in a shown window with every dock;
+/// per iteration a burst of 20 wheel steps on RS5, one every 16 ms (a fast scroll), and then
+/// the wait for the final full result. A 1 ms timer on the UI thread records the longest gap
+/// between its ticks: the longest stall of the event loop. Also: the time from the last step
+/// to the final result on screen, and how many results were shown and dropped.
+void BM_LadderBurstLongestStall(benchmark::State &state)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    if (!window.openText(loopsketch::test::rcLadderText(), QStringLiteral("ladder"), &error)
+        || !window.document()->waitForAnalysis()) {
+        state.SkipWithError("the ladder did not open and analyse");
+        return;
+    }
+    QApplication::processEvents();
+    QElapsedTimer clock;
+    qint64 lastTick = 0, longestGap = 0;
+    QTimer ticker;
+    ticker.setTimerType(Qt::PreciseTimer);
+    ticker.setInterval(1);
+    QObject::connect(&ticker, &QTimer::timeout, [&] {
+        const qint64 now = clock.nsecsElapsed();
+        longestGap = std::max(longestGap, now - lastTick);
+        lastTick = now;
+    });
+    int shown = 0;
+    QObject::connect(window.document(), &DesignDocument::analysisChanged, [&] { ++shown; });
+    int steps = 0;
+    QObject::connect(window.document(), &DesignDocument::partChanged,
+                     [&](const QString &id) { steps += id == QStringLiteral("RS5"); });
+    double worstMs = 0, settleMs = 0;
+    const int droppedBefore = window.document()->droppedResults();
+    int direction = 1;
+    for (auto _ : state) {
+        clock.start();
+        lastTick = 0;
+        longestGap = 0;
+        ticker.start();
+        for (int step = 0; step < 20; ++step) {
+            wheelOver(window, "RS5", direction);
+            QElapsedTimer gap;
+            gap.start();
+            while (gap.elapsed() < 16)
+                QApplication::processEvents(QEventLoop::AllEvents | QEventLoop::WaitForMoreEvents,
+                                            1);
+        }
+        QElapsedTimer settle;
+        settle.start();
+        if (!window.document()->waitForAnalysis()) {
+            state.SkipWithError("no result within the time allowed");
+            return;
+        }
+        window.repaint();
+        settleMs += double(settle.nsecsElapsed()) / 1e6;
+        ticker.stop();
+        worstMs = std::max(worstMs, double(longestGap) / 1e6);
+        direction = -direction;
+    }
+    if (steps < 20 * int(state.iterations())) {
+        state.SkipWithError("the wheel steps did not reach RS5");
+        return;
+    }
+    state.counters["longest_stall_ms"] = worstMs;
+    state.counters["settle_ms"] = benchmark::Counter(settleMs, benchmark::Counter::kAvgIterations);
+    state.counters["shown"] = benchmark::Counter(double(shown), benchmark::Counter::kAvgIterations);
+    state.counters["dropped"]
+        = benchmark::Counter(double(window.document()->droppedResults() - droppedBefore),
+                             benchmark::Counter::kAvgIterations);
+}
+BENCHMARK(BM_LadderBurstLongestStall)->Iterations(3)->Unit(benchmark::kMillisecond)->UseRealTime();
 
 } // namespace
 

@@ -168,8 +168,10 @@ TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
     EXPECT_NEAR(*a.margins.crossoverHz, 10e6 / 11.0, 0.03 * 10e6 / 11.0);
 
     ASSERT_NO_FATAL_FAILURE(loopsketch::ui::test::expectWindowShows(*window, a));
-    for (PlotPanel *panel : window->panels())
+    for (PlotPanel *panel : window->panels()) {
+        loopsketch::ui::test::bringForward(panel);
         EXPECT_TRUE(panel->unavailableText().isEmpty());
+    }
 
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/from-blank.png"));
 
@@ -229,6 +231,7 @@ TEST_F(BlankDesignTest, ReopenAfterDeletingAPartNamedByACandidate)
     MainWindow second;
     second.setAskBeforeDiscarding(false);
     ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(second.document()->waitForAnalysis());
 
     // One undo step brings the part and every candidate entry back.
     doc()->undoStack()->undo();
@@ -261,6 +264,7 @@ TEST_F(BlankDesignTest, ReopenAfterRenamingAndDeletingTheSource)
     MainWindow second;
     second.setAskBeforeDiscarding(false);
     ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(second.document()->waitForAnalysis());
     EXPECT_EQ(second.document()->design(), doc()->design());
 }
 
@@ -488,8 +492,10 @@ TEST_F(BlankDesignTest, StaleNeverAfterDeletingTheSource)
     doc()->undoStack()->undo();
     settle();
     ASSERT_NE(doc()->analysis(), nullptr);
-    for (PlotPanel *panel : window->panels())
+    for (PlotPanel *panel : window->panels()) {
+        loopsketch::ui::test::bringForward(panel);
         EXPECT_TRUE(panel->unavailableText().isEmpty());
+    }
     EXPECT_NE(window->readout()->cellText("closed-loop gain, exact"), QStringLiteral("—"));
 }
 

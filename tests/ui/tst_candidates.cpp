@@ -397,6 +397,7 @@ TEST_F(CandidatesTest, SavingAndReloadingKeepsCandidates)
     MainWindow other;
     other.setAskBeforeDiscarding(false);
     ASSERT_TRUE(other.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(other.document()->waitForAnalysis());
     ASSERT_TRUE(QTest::qWaitFor(
         [&] {
             QApplication::processEvents();

@@ -92,11 +92,7 @@ protected:
     }
 
     /// Waits for the coalesced recomputation that follows an edit.
-    void waitForRecompute()
-    {
-        QSignalSpy spy(doc(), &DesignDocument::analysisChanged);
-        ASSERT_TRUE(spy.wait(5000));
-    }
+    void waitForRecompute() { ASSERT_TRUE(doc()->waitForAnalysis()); }
 
     /// core's own result for the document's design with one value changed.
     Analysis expectedWith(const std::string &id, double value) const
@@ -158,6 +154,7 @@ TEST_F(MainWindowTest, BandwidthBeyondTheSweepReadsAsSuchAndMeetsItsSpec)
     QString error;
     ASSERT_TRUE(window->openText(text.toStdString(), QStringLiteral("short sweep"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window->document()->waitForAnalysis());
     QApplication::processEvents();
     const Analysis *a = doc()->analysis();
     ASSERT_NE(a, nullptr);
@@ -367,6 +364,7 @@ TEST_F(MainWindowTest, SaveReloadGivesTheSameDesign)
     MainWindow second;
     second.setAskBeforeDiscarding(false);
     ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(second.document()->waitForAnalysis());
     EXPECT_EQ(second.document()->design(), doc()->design());
 }
 
@@ -413,6 +411,7 @@ TEST_F(MainWindowTest, HoveringOnePanelShowsTheFrequencyInAllFrequencyPanels)
             continue;
         }
         ++frequencyPanels;
+        loopsketch::ui::test::bringForward(panel);
         EXPECT_THAT(panel->cursorText().toStdString(), HasSubstr(fText.toStdString()));
     }
     EXPECT_EQ(frequencyPanels, 4); // loop gain, impedance, desensitivity, noise
@@ -435,6 +434,7 @@ TEST(MainWindowLayout, DesignWithoutSketchGetsAReadableLayout)
     ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/contact-mic-preamp.loopsketch"),
                                 &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     const Design &d = window.document()->design();
     ASSERT_FALSE(d.sketch.has_value());
     std::vector<QRectF> bodies;
@@ -499,6 +499,7 @@ TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
     ASSERT_TRUE(
         window.openFile(QString::fromStdString(kDesigns + "/" + name + ".loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     ASSERT_NE(window.document()->analysis(), nullptr);
     EXPECT_EQ(window.sketchView()->badgeText(), topologyBadge(*window.document()->analysis()));
     QTest::qWait(200);
@@ -518,6 +519,7 @@ TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
     ASSERT_TRUE(window.openFile(
         QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     const Analysis *a = window.document()->analysis();
     ASSERT_NE(a, nullptr);
     ASSERT_FALSE(a->stable);
@@ -551,10 +553,12 @@ TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
     ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/contact-mic-preamp.loopsketch"),
                                 &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     QTest::qWait(50);
     EXPECT_TRUE(window.readout()->bannerText().isEmpty());
     ASSERT_TRUE(window.openFile(
         QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error));
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     QTest::qWait(200);
     EXPECT_TRUE(
         window.grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR) + "/loopsketch-unstable.png"));
@@ -575,11 +579,13 @@ TEST(UnstableDesign, ReadoutWrapsInsteadOfWideningTheWindow)
     QString error;
     ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     QTest::qWait(100);
     const int oneLine = window.readout()->height();
     ASSERT_TRUE(window.openFile(
         QStringLiteral(LOOPSKETCH_TEST_DATA_DIR "/stability/unstable-preamp.loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     ASSERT_FALSE(window.readout()->bannerText().isEmpty());
     // The main window lays the dock out again on its next turn of the event loop; waited for
     // (up to 5 s on a loaded machine), not assumed.

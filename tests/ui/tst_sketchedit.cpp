@@ -317,6 +317,7 @@ TEST_F(SketchEditTest, MirroredPartIsSavedAndReopened)
     MainWindow second;
     second.setAskBeforeDiscarding(false);
     ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(second.document()->waitForAnalysis());
     EXPECT_TRUE(second.document()->layout().parts.at("RF").mirror);
     EXPECT_TRUE(second.sketchScene()->partItem("RF")->symbolMirrored());
 

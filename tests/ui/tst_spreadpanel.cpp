@@ -378,6 +378,7 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
     QString error;
     ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     auto *dock = window.findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
     ASSERT_NE(dock, nullptr);
     EXPECT_EQ(dock->windowTitle(), QStringLiteral("Spread")); // ui/README.md §4 (panel names)

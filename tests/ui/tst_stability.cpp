@@ -3,6 +3,7 @@
 // what the window shows is what core computed, and a click applies a value as one undo step.
 
 #include "demowindowtest.h"
+#include "windowchecks.h"
 
 #include "clirun.h"
 
@@ -130,6 +131,7 @@ TEST_F(Stability, NyquistPanelOfAnUnstableLoopCountsItsRhpPoles)
     ASSERT_FALSE(a.stable);
     ASSERT_TRUE(a.nyquist.encirclements);
     auto *panel = window->findChild<NyquistPanel *>();
+    loopsketch::ui::test::bringForward(panel);
     EXPECT_THAT(panel->encirclementText().toStdString(),
                 HasSubstr("Z = N + P = " + std::to_string(a.rhpPoles)));
     EXPECT_EQ(*a.nyquist.encirclements, a.rhpPoles);

@@ -13,6 +13,7 @@
 
 #include <QApplication>
 #include <QChart>
+#include <QDockWidget>
 #include <QList>
 #include <QMouseEvent>
 #include <QPointF>
@@ -21,6 +22,20 @@
 #include <gtest/gtest.h>
 
 namespace loopsketch::ui::test {
+
+/// Brings `panel`'s dock to the front of its tab group: a panel out of sight is drawn when it
+/// comes on screen (ui/README.md §3), so what it shows is checked there.
+inline void bringForward(PlotPanel *panel)
+{
+    for (QWidget *w = panel->parentWidget(); w; w = w->parentWidget()) {
+        if (auto *dock = qobject_cast<QDockWidget *>(w)) {
+            dock->show();
+            dock->raise();
+            break;
+        }
+    }
+    QApplication::processEvents();
+}
 
 /// The Loop gain panel shows `expected`'s |T| curve: every point of core's curve held and a
 /// subset of them drawn, unchanged.
