@@ -9,8 +9,7 @@
 #include "loopsketch/design/candidate.h"
 #include "loopsketch/design/designfile.h"
 
-#include <QCoreApplication>
-#include <QDeadlineTimer>
+#include <QEventLoop>
 
 #include <algorithm>
 #include <chrono>
@@ -594,14 +593,23 @@ void DesignDocument::scheduleRecompute()
 
 bool DesignDocument::waitForAnalysis(int timeoutMs)
 {
-    const QDeadlineTimer deadline(timeoutMs);
-    while (isAnalysisPending()) {
-        if (deadline.hasExpired())
-            return false;
-        QCoreApplication::processEvents(QEventLoop::AllEvents | QEventLoop::WaitForMoreEvents,
-                                        int(std::clamp<qint64>(deadline.remainingTime(), 1, 50)));
-    }
-    return true;
+    if (!isAnalysisPending())
+        return true;
+    // A nested event loop that sleeps until the result (or the timeout) arrives; a loop of
+    // processEvents() calls would spin and take the CPU from the worker.
+    QEventLoop loop;
+    QTimer timeout;
+    timeout.setSingleShot(true);
+    connect(&timeout, &QTimer::timeout, &loop, &QEventLoop::quit);
+    const auto quitWhenCurrent = [this, &loop] {
+        if (!isAnalysisPending())
+            loop.quit();
+    };
+    connect(this, &DesignDocument::analysisChanged, &loop, quitWhenCurrent);
+    connect(this, &DesignDocument::analysisUnavailable, &loop, quitWhenCurrent);
+    timeout.start(timeoutMs);
+    loop.exec();
+    return !isAnalysisPending();
 }
 
 void DesignDocument::dispatch()
