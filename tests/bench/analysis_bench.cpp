@@ -9,6 +9,8 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/designfile.h"
 
+#include "benchdesign.h"
+
 #include <benchmark/benchmark.h>
 
 #include <algorithm>
@@ -20,18 +22,7 @@
 
 namespace {
 
-const loopsketch::Design &demo()
-{
-    static const loopsketch::Design design = [] {
-        auto d = loopsketch::loadDesign(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch");
-        if (!d) {
-            std::cerr << d.errorText() << "\n";
-            std::exit(1);
-        }
-        return *d;
-    }();
-    return design;
-}
+using loopsketch::bench::demo;
 
 void fullAnalysis(benchmark::State &state, loopsketch::SolverPath path)
 {

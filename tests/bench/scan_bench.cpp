@@ -14,6 +14,8 @@
 #include "loopsketch/analysis/scan.h"
 #include "loopsketch/design/designfile.h"
 
+#include "benchdesign.h"
+
 #include <benchmark/benchmark.h>
 
 #include <stdexcept>
@@ -22,13 +24,7 @@
 
 namespace {
 
-loopsketch::Design demo()
-{
-    auto d = loopsketch::loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    if (!d)
-        throw std::runtime_error(d.errorText());
-    return *d;
-}
+using loopsketch::bench::demo;
 
 /// 60 E96 values of `target` from its range's start (IEC 60063: 96 to the decade).
 loopsketch::ScanAxis axis60(const loopsketch::Design &design, const char *target)

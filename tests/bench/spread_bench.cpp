@@ -6,19 +6,15 @@
 #include "loopsketch/analysis/suggest.h"
 #include "loopsketch/design/designfile.h"
 
+#include "benchdesign.h"
+
 #include <benchmark/benchmark.h>
 
 #include <string>
 
 namespace {
 
-loopsketch::Design demo()
-{
-    auto d = loopsketch::loadDesign(std::string(LOOPSKETCH_DESIGNS_DIR) + "/demo.loopsketch");
-    if (!d)
-        throw std::runtime_error(d.errorText());
-    return *d;
-}
+using loopsketch::bench::demo;
 
 void monteCarloDemo(benchmark::State &state)
 {

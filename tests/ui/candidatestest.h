@@ -4,6 +4,7 @@
 // panel settled, and the checks of an undo step they share.
 
 #include "demowindowtest.h"
+#include "designs.h"
 #include "panels/candidatespanel.h"
 
 #include "loopsketch/design/designfile.h"
@@ -15,6 +16,7 @@
 #include <gtest/gtest.h>
 
 #include <string>
+#include <vector>
 
 /// The candidate of `d` named `name`, with a test failure where there is none.
 inline const loopsketch::Candidate &candidateNamed(const loopsketch::Design &d,
@@ -43,6 +45,17 @@ protected:
 
     loopsketch::ui::CandidatesPanel *panel() const { return window->candidatesPanel(); }
     std::string text() const { return loopsketch::serializeDesign(doc()->design()); }
+
+    /// Core's analyses of the panel's columns, worked out here: `design` itself, then each of
+    /// its candidates applied by hand.
+    static std::vector<loopsketch::Analysis> columnAnalyses(const loopsketch::Design &design)
+    {
+        std::vector<loopsketch::Analysis> analyses{loopsketch::test::analyzeOrFail(design)};
+        for (const loopsketch::Candidate &c : design.candidates)
+            analyses.push_back(
+                loopsketch::test::analyzeOrFail(loopsketch::test::withCandidateByHand(design, c)));
+        return analyses;
+    }
 
     /// Waits until the document's analysis and every candidate column are current.
     void settle()

@@ -50,12 +50,11 @@
 #include <memory>
 #include <random>
 
-using namespace loopsketch;
-using namespace loopsketch::ui;
-using loopsketch::ui::test::BlankDesignTest;
-using loopsketch::ui::test::kDesigns;
 using ::testing::HasSubstr;
 
+// Inside the fixture's namespace: BlankDesignTest, kDesigns, and core's and the window's
+// names without qualification.
+namespace loopsketch::ui::test {
 namespace {
 
 // ---- From a blank page ----
@@ -222,16 +221,7 @@ TEST_F(BlankDesignTest, ReopenAfterDeletingAPartNamedByACandidate)
     EXPECT_EQ(notices.count(), 1);
 
     QTemporaryDir dir;
-    const QString path = dir.filePath(QStringLiteral("no-cf.loopsketch"));
-    QString error;
-    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
-    auto reloaded = loadDesign(path.toStdString());
-    ASSERT_TRUE(reloaded.ok()) << reloaded.errorText();
-    EXPECT_EQ(*reloaded, doc()->design());
-    MainWindow second;
-    second.setAskBeforeDiscarding(false);
-    ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
-    ASSERT_TRUE(second.document()->waitForAnalysis());
+    ASSERT_NE(saveAndReopen(*window, dir.filePath(QStringLiteral("no-cf.loopsketch"))), nullptr);
 
     // One undo step brings the part and every candidate entry back.
     doc()->undoStack()->undo();
@@ -254,18 +244,10 @@ TEST_F(BlankDesignTest, ReopenAfterRenamingAndDeletingTheSource)
     const QString path = dir.filePath(QStringLiteral("no-source.loopsketch"));
     // A design without a source is a draft: it saves and opens again, and the command
     // line's strict loader says what is missing.
-    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
-    auto reloaded = loadDesign(path.toStdString(), DesignRules::Draft);
-    ASSERT_TRUE(reloaded.ok()) << reloaded.errorText();
-    EXPECT_EQ(*reloaded, doc()->design());
+    ASSERT_NE(saveAndReopen(*window, path, DesignRules::Draft), nullptr);
     auto strict = loadDesign(path.toStdString());
     ASSERT_FALSE(strict.ok());
     EXPECT_THAT(strict.errorText(), HasSubstr("no signal source"));
-    MainWindow second;
-    second.setAskBeforeDiscarding(false);
-    ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
-    ASSERT_TRUE(second.document()->waitForAnalysis());
-    EXPECT_EQ(second.document()->design(), doc()->design());
 }
 
 /// The random choices of randomEdit(): one index below n, a pin, a selection of parts.
@@ -605,3 +587,4 @@ TEST_F(BlankDesignTest, StaleCandidateOverlaysNeverOutliveAPasteThatBreaksTheDes
 }
 
 } // namespace
+} // namespace loopsketch::ui::test

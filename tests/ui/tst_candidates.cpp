@@ -270,9 +270,7 @@ TEST_F(CandidatesTest, BestMarksTheRightCell)
 {
     const Design design = doc()->design();
     const QStringList columns = panel()->columnNames();
-    std::vector<Analysis> analyses{analyzeOrFail(design)};
-    for (const Candidate &c : design.candidates)
-        analyses.push_back(analyzeOrFail(withCandidateByHand(design, c)));
+    const std::vector<Analysis> analyses = columnAnalyses(design);
     ASSERT_EQ(std::size_t(columns.size()), analyses.size());
     const double centre = 0.5 * (design.specs.gainMin->si + design.specs.gainMax->si);
     // The columns with the highest score; ties are all marked.
@@ -340,9 +338,7 @@ TEST_F(CandidatesTest, NoiseRowsShowCoreRmsOfEachColumn)
 {
     const Design design = doc()->design();
     const QStringList columns = panel()->columnNames();
-    std::vector<Analysis> analyses{analyzeOrFail(design)};
-    for (const Candidate &c : design.candidates)
-        analyses.push_back(analyzeOrFail(withCandidateByHand(design, c)));
+    const std::vector<Analysis> analyses = columnAnalyses(design);
     const NoiseUnits units = noiseUnits(analyses[0].gainUnit);
     for (std::size_t i = 0; i < analyses.size(); ++i) {
         ASSERT_TRUE(analyses[i].noise && analyses[i].noise->outputRms);

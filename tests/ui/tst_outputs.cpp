@@ -113,16 +113,28 @@ std::string targetOf(const OutputCase &c)
 
 class OutputFaults : public ::testing::TestWithParam<OutputCase>
 {
+protected:
+    void SetUp() override
+    {
+        if (!GetParam().target && !g_devicesUnprotected.empty())
+            GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
+    }
+
+    /// A new folder `name` in the test's directory.
+    fs::path makeFolder(const char *name) const
+    {
+        const fs::path folder = dir.path() / name;
+        fs::create_directory(folder);
+        return folder;
+    }
+
+    TempDir dir;
 };
 
 TEST_P(OutputFaults, FullDiskGivesExitTwoAndKeepsThePreviousFile)
 {
     const OutputCase &c = GetParam();
-    if (!c.target && !g_devicesUnprotected.empty())
-        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
-    TempDir dir;
-    const fs::path mount = dir.path() / "small";
-    fs::create_directory(mount);
+    const fs::path mount = makeFolder("small");
     const fs::path target = mount / targetOf(c);
 
     const auto outcome = test::runInChild([&](std::string &out) {
@@ -167,11 +179,7 @@ TEST_P(OutputFaults, FullDiskGivesExitTwoAndKeepsThePreviousFile)
 TEST_P(OutputFaults, FileSizeLimitGivesExitTwoNotASignalAndLeavesNoTemporary)
 {
     const OutputCase &c = GetParam();
-    if (!c.target && !g_devicesUnprotected.empty())
-        GTEST_SKIP() << "cannot protect the device nodes here: " << g_devicesUnprotected;
-    TempDir dir;
-    const fs::path out = dir.path() / "out";
-    fs::create_directory(out);
+    const fs::path out = makeFolder("out");
     const fs::path target = out / targetOf(c);
     ASSERT_TRUE(writeBytes(target, kPrevious));
 

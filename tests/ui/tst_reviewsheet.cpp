@@ -452,16 +452,12 @@ TEST(ReviewSheetSpread, ZeroTrialsOrNoTolerancesLeaveTheSectionOut)
     EXPECT_THAT(text.out.toStdString(), testing::Not(HasSubstr("Spread over tolerances")));
 
     // The demo with every tolerance removed: nothing to spread, so no section and no error.
-    QFile in(designPath("demo"));
-    ASSERT_TRUE(in.open(QIODevice::ReadOnly));
-    QByteArray design = in.readAll();
-    design.replace(", \"tolerance\": \"1%\"", "").replace(", \"tolerance\": \"10%\"", "");
-    ASSERT_FALSE(design.contains("tolerance"));
     const QString plain = tmp.filePath("plain.loopsketch");
-    QFile out(plain);
-    ASSERT_TRUE(out.open(QIODevice::WriteOnly));
-    out.write(design);
-    out.close();
+    ASSERT_TRUE(writeEditedDesign(
+        "demo", plain, {{", \"tolerance\": \"1%\"", ""}, {", \"tolerance\": \"10%\"", ""}}));
+    QFile written(plain);
+    ASSERT_TRUE(written.open(QIODevice::ReadOnly));
+    ASSERT_FALSE(written.readAll().contains("tolerance"));
     const QString plainPdf = tmp.filePath("plain.pdf");
     const CliRun r = loopsketchCli({"export", plain, "--pdf", plainPdf});
     ASSERT_EQ(r.exitCode, 0) << r.err.toStdString();
@@ -624,17 +620,8 @@ TEST(ReviewSheetErrors, DesignWithDiagnosticsWritesNoFile)
 {
     QTemporaryDir tmp;
     ASSERT_TRUE(tmp.isValid());
-    QFile in(designPath("demo"));
-    ASSERT_TRUE(in.open(QIODevice::ReadOnly));
-    QByteArray text = in.readAll();
-    const QByteArray good = "\"value\": \"1M\"";
-    ASSERT_TRUE(text.contains(good));
-    text.replace(good, "\"value\": \"12kk\"");
     const QString bad = tmp.filePath("bad.loopsketch");
-    QFile out(bad);
-    ASSERT_TRUE(out.open(QIODevice::WriteOnly));
-    out.write(text);
-    out.close();
+    ASSERT_TRUE(writeEditedDesign("demo", bad, {{"\"value\": \"1M\"", "\"value\": \"12kk\""}}));
     const QString pdf = tmp.filePath("sheet.pdf");
     const CliRun r = loopsketchCli({"export", bad, "--pdf", pdf});
     EXPECT_EQ(r.exitCode, 2);

@@ -27,12 +27,11 @@
 #include <cmath>
 #include <set>
 
-using namespace loopsketch;
-using namespace loopsketch::ui;
-using loopsketch::ui::test::BlankDesignTest;
-using loopsketch::ui::test::kDesigns;
 using ::testing::HasSubstr;
 
+// Inside the fixture's namespace: BlankDesignTest, kDesigns, and core's and the window's
+// names without qualification.
+namespace loopsketch::ui::test {
 namespace {
 
 class SketchEditTest : public BlankDesignTest
@@ -305,21 +304,13 @@ TEST_F(SketchEditTest, MirroredPartIsSavedAndReopened)
 
     QTemporaryDir dir;
     const QString path = dir.filePath(QStringLiteral("mirrored.loopsketch"));
-    QString error;
-    ASSERT_TRUE(window->saveTo(path, &error)) << error.toStdString();
+    const std::unique_ptr<MainWindow> second = saveAndReopen(*window, path);
+    ASSERT_NE(second, nullptr);
     QFile file(path);
     ASSERT_TRUE(file.open(QIODevice::ReadOnly));
     EXPECT_THAT(file.readAll().toStdString(), HasSubstr("\"mirror\": true"));
-    auto reloaded = loadDesign(path.toStdString());
-    ASSERT_TRUE(reloaded.ok()) << reloaded.errorText();
-    EXPECT_EQ(*reloaded, doc()->design());
-
-    MainWindow second;
-    second.setAskBeforeDiscarding(false);
-    ASSERT_TRUE(second.openFile(path, &error)) << error.toStdString();
-    ASSERT_TRUE(second.document()->waitForAnalysis());
-    EXPECT_TRUE(second.document()->layout().parts.at("RF").mirror);
-    EXPECT_TRUE(second.sketchScene()->partItem("RF")->symbolMirrored());
+    EXPECT_TRUE(second->document()->layout().parts.at("RF").mirror);
+    EXPECT_TRUE(second->sketchScene()->partItem("RF")->symbolMirrored());
 
     doc()->undoStack()->undo();
     EXPECT_FALSE(doc()->layout().parts.at("RF").mirror);
@@ -479,3 +470,4 @@ TEST_F(SketchEditTest, DeleteRemovesSelectedPartsGroundsAndWiresTogether)
 }
 
 } // namespace
+} // namespace loopsketch::ui::test

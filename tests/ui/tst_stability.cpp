@@ -30,6 +30,8 @@
 #include <gmock/gmock.h>
 
 #include <cmath>
+#include <cstdio>
+#include <functional>
 
 using namespace loopsketch;
 using namespace loopsketch::ui;
@@ -57,6 +59,32 @@ void raise(MainWindow *window, const char *dock)
 
 class Stability : public DemoWindowTest
 {
+protected:
+    /// The panel `P` of the dock `dock`, raised; nullptr (and a failure) when there is none.
+    template<class P> P *raisedPanel(const char *dock)
+    {
+        raise(window.get(), dock);
+        auto *panel = window->findChild<P *>();
+        EXPECT_NE(panel, nullptr) << dock;
+        return panel;
+    }
+
+    /// Starts a run of `panel` with `start` and waits for its end, at most `timeoutMs`; its
+    /// result, or nullptr (and a failure) when it did not end. With `what`, prints how long
+    /// the run took to be shown.
+    static const ScanResult *runAndWait(ScanRunPanel *panel, const std::function<void()> &start,
+                                        int timeoutMs, const char *what = nullptr)
+    {
+        QSignalSpy done(panel, &ScanRunPanel::runFinished);
+        QElapsedTimer clock;
+        clock.start();
+        start();
+        const bool ended = done.wait(timeoutMs);
+        EXPECT_TRUE(ended) << "no run ended within " << timeoutMs << " ms";
+        if (ended && what)
+            std::printf("%s shown after %lld ms\n", what, clock.elapsed());
+        return ended ? panel->result() : nullptr;
+    }
 };
 
 TEST_F(Stability, LoopGainPanelDrawsAolAndInvBetaMeetingAtTheCrossover)
@@ -141,17 +169,12 @@ TEST_F(Stability, NyquistPanelOfAnUnstableLoopCountsItsRhpPoles)
 
 TEST_F(Stability, ScanOfCfMatchesTheCommandLineAndAClickAppliesOneValue)
 {
-    raise(window.get(), "ScanDock");
-    auto *panel = window->findChild<ScanPanel *>();
+    auto *panel = raisedPanel<ScanPanel>("ScanDock");
     ASSERT_NE(panel, nullptr);
-    QSignalSpy done(panel, &ScanPanel::scanFinished);
-    QElapsedTimer clock;
-    clock.start();
     // The Sketch's context-menu entry emits this.
-    emit window->findChild<SketchView *>()->scanRequested("CF");
-    ASSERT_TRUE(done.wait(60000));
-    std::printf("scan of CF (25 values) shown after %lld ms\n", clock.elapsed());
-    const ScanResult *scan = panel->result();
+    const ScanResult *scan = runAndWait(
+        panel, [this] { emit window->findChild<SketchView *>()->scanRequested("CF"); }, 60000,
+        "scan of CF (25 values)");
     ASSERT_NE(scan, nullptr);
     ASSERT_EQ(scan->rows.size(), 25U); // 0.22 pF .. 22 pF in E12 (IEC 60063)
     const CliRun cli = run(QStringLiteral(LOOPSKETCH_BIN),
@@ -185,16 +208,11 @@ TEST_F(Stability, ScanOfCfMatchesTheCommandLineAndAClickAppliesOneValue)
 
 TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
 {
-    raise(window.get(), "MapDock");
-    auto *panel = window->findChild<MapPanel *>();
+    auto *panel = raisedPanel<MapPanel>("MapDock");
     ASSERT_NE(panel, nullptr);
-    QSignalSpy done(panel, &MapPanel::mapFinished);
-    QElapsedTimer clock;
-    clock.start();
-    panel->mapParts(QStringLiteral("RF"), QStringLiteral("CF"));
-    ASSERT_TRUE(done.wait(120000));
-    std::printf("map of RF x CF (49 x 25 cells) shown after %lld ms\n", clock.elapsed());
-    const ScanResult *map = panel->result();
+    const ScanResult *map = runAndWait(
+        panel, [panel] { panel->mapParts(QStringLiteral("RF"), QStringLiteral("CF")); }, 120000,
+        "map of RF x CF (49 x 25 cells)");
     ASSERT_NE(map, nullptr);
     ASSERT_EQ(map->axes.size(), 2U);
     ASSERT_EQ(map->rows.size(), 49U * 25U); // RF 100k..10M in E24, CF 0.22p..22p in E12
@@ -246,14 +264,11 @@ TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
 // series (IEC 60063 E12), the range and the count of values meeting every spec.
 TEST_F(Stability, ScanOfCfGoesOnTheReviewSheetWhileTheDesignIsAsScanned)
 {
-    raise(window.get(), "ScanDock");
-    auto *panel = window->findChild<ScanPanel *>();
+    auto *panel = raisedPanel<ScanPanel>("ScanDock");
     ASSERT_NE(panel, nullptr);
     EXPECT_TRUE(sheetScans(window.get()).empty()); // nothing scanned yet
-    QSignalSpy done(panel, &ScanPanel::scanFinished);
-    panel->scanPart(QStringLiteral("CF"));
-    ASSERT_TRUE(done.wait(60000));
-    const ScanResult *scan = panel->result();
+    const ScanResult *scan = runAndWait(
+        panel, [panel] { panel->scanPart(QStringLiteral("CF")); }, 60000);
     ASSERT_NE(scan, nullptr);
     std::vector<SheetScan> scans = sheetScans(window.get());
     ASSERT_EQ(scans.size(), 1U);
@@ -298,11 +313,15 @@ TEST_F(Stability, ScanOfCfGoesOnTheReviewSheetWhileTheDesignIsAsScanned)
 TEST_F(Stability, CancelledMapLeavesTheWindowWorking)
 {
     auto *panel = window->findChild<MapPanel *>();
-    QSignalSpy done(panel, &MapPanel::mapFinished);
-    panel->mapParts(QStringLiteral("RF"), QStringLiteral("CF"));
-    panel->cancel();
-    ASSERT_TRUE(done.wait(60000));
-    ASSERT_NE(panel->result(), nullptr);
+    ASSERT_NE(panel, nullptr);
+    ASSERT_NE(runAndWait(
+                  panel,
+                  [panel] {
+                      panel->mapParts(QStringLiteral("RF"), QStringLiteral("CF"));
+                      panel->cancel();
+                  },
+                  60000),
+              nullptr);
     EXPECT_LE(panel->result()->completed, panel->result()->rows.size());
     EXPECT_FALSE(panel->isRunning());
 }

@@ -570,19 +570,17 @@ void CandidatesPanel::updateActions()
     m_makeCurrent->setEnabled(any);
 }
 
-void CandidatesPanel::pinWithDialog()
+void CandidatesPanel::askForName(const QString &title, const QString &prompt, QString name,
+                                 const std::function<bool(const QString &, QString *)> &accept)
 {
-    QString name = m_document->nextCandidateName();
     QString reason;
     for (;;) {
         bool ok = false;
-        name = QInputDialog::getText(this, tr("Pin as candidate"),
-                                     reason + tr("Name for the current part values:"),
-                                     QLineEdit::Normal, name, &ok);
+        name = QInputDialog::getText(this, title, reason + prompt, QLineEdit::Normal, name, &ok);
         if (!ok)
             return;
         QString error;
-        if (m_document->pinCandidate(name, &error)) {
+        if (accept(name, &error)) {
             m_table->setFocus();
             selectCandidate(name.trimmed());
             return;
@@ -591,28 +589,23 @@ void CandidatesPanel::pinWithDialog()
     }
 }
 
+void CandidatesPanel::pinWithDialog()
+{
+    askForName(tr("Pin as candidate"), tr("Name for the current part values:"),
+               m_document->nextCandidateName(), [this](const QString &name, QString *error) {
+                   return m_document->pinCandidate(name, error);
+               });
+}
+
 void CandidatesPanel::renameWithDialog()
 {
     const QString from = selectedCandidate();
     if (from.isEmpty())
         return;
-    QString name = from;
-    QString reason;
-    for (;;) {
-        bool ok = false;
-        name = QInputDialog::getText(this, tr("Rename candidate"),
-                                     reason + tr("New name for \"%1\":").arg(from),
-                                     QLineEdit::Normal, name, &ok);
-        if (!ok)
-            return;
-        QString error;
-        if (m_document->renameCandidate(from, name, &error)) {
-            m_table->setFocus();
-            selectCandidate(name.trimmed());
-            return;
-        }
-        reason = error + QStringLiteral("\n\n");
-    }
+    askForName(tr("Rename candidate"), tr("New name for \"%1\":").arg(from), from,
+               [this, from](const QString &name, QString *error) {
+                   return m_document->renameCandidate(from, name, error);
+               });
 }
 
 void CandidatesPanel::deleteSelected()

@@ -16,6 +16,7 @@
 #include <QTimer>
 #include <QWidget>
 
+#include <functional>
 #include <map>
 #include <memory>
 #include <string>
@@ -103,6 +104,11 @@ protected:
     void showEvent(QShowEvent *event) override;
 
 private:
+    /// Asks for a candidate name (starting from `name`) until `accept` takes one, saying why
+    /// the last was refused above `prompt`; the accepted candidate is then selected.
+    void askForName(const QString &title, const QString &prompt, QString name,
+                    const std::function<bool(const QString &, QString *)> &accept);
+
     struct Computed
     {
         Design key; ///< the applied design, without candidates, sketch, title or notes

@@ -1,20 +1,16 @@
 #include "panels/mappanel.h"
 
+#include "support/cellgrid.h"
 #include "support/plotstyle.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
 #include "loopsketch/base/value.h"
-#include "loopsketch/design/designfile.h"
 
 #include <QComboBox>
-#include <QHBoxLayout>
 #include <QLabel>
 #include <QMouseEvent>
 #include <QPainter>
-#include <QProgressBar>
-#include <QPushButton>
-#include <QVBoxLayout>
 
 #include <cmath>
 #include <limits>
@@ -129,26 +125,12 @@ void HeatMap::paintEvent(QPaintEvent *)
             const ScanRow *r = row(i, j);
             if (r && r->done && r->metrics.stable && !*r->metrics.stable) {
                 p.setPen(QPen(Qt::white, 1.2));
-                p.drawLine(c.topLeft(), c.bottomRight());
-                p.drawLine(c.topRight(), c.bottomLeft());
+                drawCellCross(p, c);
             }
         }
     // The feasible region's outline: an edge wherever a passing cell meets one that is not.
     p.setPen(QPen(palette::kBlack, 2.5));
-    for (int i = 0; i < n1; ++i)
-        for (int j = 0; j < n2; ++j) {
-            if (!passes(i, j))
-                continue;
-            const QRect c = cell(i, j);
-            if (!passes(i - 1, j))
-                p.drawLine(c.topLeft(), c.bottomLeft());
-            if (!passes(i + 1, j))
-                p.drawLine(c.topRight(), c.bottomRight());
-            if (!passes(i, j - 1))
-                p.drawLine(c.bottomLeft(), c.bottomRight());
-            if (!passes(i, j + 1))
-                p.drawLine(c.topLeft(), c.topRight());
-        }
+    drawRegionOutline(p, n1, n2, passes, cell);
     // The current design: a ring where its values fall on the log scales.
     const auto at = [](const ScanAxis &axis, double v, int n, int length) {
         const double lo = std::log10(std::abs(axis.values.front())),
@@ -215,83 +197,31 @@ void HeatMap::leaveEvent(QEvent *)
     emit cellHovered(-1, -1);
 }
 
-MapPanel::MapPanel(DesignDocument *document, QWidget *parent)
-    : QWidget(parent), m_document(document), m_runner(new ScanRunner(this))
+MapPanel::MapPanel(DesignDocument *document, QWidget *parent) : ScanRunPanel(document, parent)
 {
     m_first = new QComboBox(this);
     m_second = new QComboBox(this);
-    m_series = new QComboBox(this);
-    m_series->addItem(tr("their series"));
-    for (ESeries s : allESeries())
-        m_series->addItem(toQString(toString(s)));
-    m_metric = new QComboBox(this);
-    for (const ScanMetricInfo &m : scanMetricInfos())
-        m_metric->addItem(m.name);
-    m_metric->setCurrentIndex(2); // phase margin
-    m_run = new QPushButton(tr("Map"), this);
-    m_cancel = new QPushButton(tr("Cancel"), this);
-    m_cancel->setEnabled(false);
-    m_progress = new QProgressBar(this);
-    m_progress->setMaximumWidth(140);
-    m_status = new QLabel(this);
+    makeRunControls(tr("their series"), tr("Map"));
     m_status->setWordWrap(true);
-    m_hover = new QLabel(this);
     m_map = new HeatMap(this);
-    auto *controls = new QHBoxLayout;
-    controls->addWidget(new QLabel(tr("Across"), this));
-    controls->addWidget(m_first);
-    controls->addWidget(new QLabel(tr("up"), this));
-    controls->addWidget(m_second);
-    controls->addWidget(m_series);
-    controls->addWidget(m_run);
-    controls->addWidget(m_cancel);
-    controls->addWidget(m_progress);
-    auto *show = new QHBoxLayout;
-    show->addWidget(new QLabel(tr("Colour"), this));
-    show->addWidget(m_metric);
-    show->addWidget(m_status, 1);
-    auto *layout = new QVBoxLayout(this);
-    layout->addLayout(controls);
-    layout->addLayout(show);
-    layout->addWidget(m_map, 1);
-    layout->addWidget(m_hover);
+    layOut({new QLabel(tr("Across"), this), m_first, new QLabel(tr("up"), this), m_second},
+           tr("Colour"), m_map);
     m_hover->setText(tr("outlined: meets every spec · crossed: unstable · ring: the design now"));
 
-    connect(m_run, &QPushButton::clicked, this, &MapPanel::run);
-    connect(m_cancel, &QPushButton::clicked, this, &MapPanel::cancel);
-    connect(m_metric, &QComboBox::currentIndexChanged, this, [this] { redraw(); });
-    connect(m_runner, &ScanRunner::progressed, this, [this](int done, int total) {
-        m_progress->setMaximum(total);
-        m_progress->setValue(done);
-    });
-    connect(m_runner, &ScanRunner::failed, this, [this](const QString &message) {
-        m_status->setText(message);
-        m_cancel->setEnabled(false);
-    });
-    connect(m_runner, &ScanRunner::finished, this, [this](std::shared_ptr<const ScanResult> scan) {
-        m_scan = std::move(scan);
-        m_scanText = m_pendingText;
-        m_cancel->setEnabled(false);
-        m_progress->setValue(m_progress->maximum());
-        m_status->setText(m_scan->cancelled ? tr("cancelled after %1 of %2 cells")
-                                                  .arg(m_scan->completed)
-                                                  .arg(m_scan->rows.size())
-                                            : tr("%1 × %2 cells")
-                                                  .arg(m_scan->axes[0].values.size())
-                                                  .arg(m_scan->axes[1].values.size()));
-        redraw();
-        emit mapFinished();
-    });
     connect(m_map, &HeatMap::cellHovered, this, [this](int i, int j) {
         m_hover->setText(i < 0 ? tr("outlined: meets every spec · crossed: unstable · ring: the "
                                     "design now")
                                : cellText(i, j));
     });
     connect(m_map, &HeatMap::cellClicked, this, [this](int i, int j) { applyCell(i, j); });
-    connect(m_document, &DesignDocument::structureChanged, this, &MapPanel::refreshTargets);
-    connect(m_document, &DesignDocument::designReset, this, &MapPanel::refreshTargets);
-    connect(m_document, &DesignDocument::analysisChanged, this, [this] { redraw(); });
     refreshTargets();
+}
+
+QString MapPanel::finishedText(const ScanResult &scan) const
+{
+    return scan.cancelled
+        ? tr("cancelled after %1 of %2 cells").arg(scan.completed).arg(scan.rows.size())
+        : tr("%1 × %2 cells").arg(scan.axes[0].values.size()).arg(scan.axes[1].values.size());
 }
 
 void MapPanel::refreshTargets()
@@ -325,9 +255,7 @@ void MapPanel::mapParts(const QString &first, const QString &second)
 
 void MapPanel::run()
 {
-    std::optional<ESeries> series;
-    if (m_series->currentIndex() > 0)
-        series = allESeries()[std::size_t(m_series->currentIndex() - 1)];
+    const std::optional<ESeries> series = chosenSeries();
     std::vector<ScanAxis> axes;
     for (QComboBox *box : {m_first, m_second}) {
         auto target = parseScanTarget(toStdString(box->currentText()), "Map");
@@ -342,39 +270,9 @@ void MapPanel::run()
         }
         axes.push_back(*axis);
     }
-    m_status->setText(
-        tr("mapping %1 × %2 cells …").arg(axes[0].values.size()).arg(axes[1].values.size()));
-    m_progress->setValue(0);
-    m_cancel->setEnabled(true);
-    m_pendingText = serializeDesign(m_document->design());
-    m_runner->start(m_document->design(), std::move(axes));
-}
-
-void MapPanel::cancel()
-{
-    m_runner->cancel();
-}
-
-bool MapPanel::isRunning() const
-{
-    return m_runner->isRunning();
-}
-
-QString MapPanel::statusText() const
-{
-    return m_status->text();
-}
-
-std::optional<SheetScan> MapPanel::sheetScan() const
-{
-    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
-        return std::nullopt;
-    return SheetScan{m_scan.get(), std::max(0, m_metric->currentIndex())};
-}
-
-void MapPanel::setMetric(int index)
-{
-    m_metric->setCurrentIndex(index);
+    const QString status
+        = tr("mapping %1 × %2 cells …").arg(axes[0].values.size()).arg(axes[1].values.size());
+    startRun(std::move(axes), status);
 }
 
 QString MapPanel::cellText(int i, int j) const
@@ -394,7 +292,7 @@ QString MapPanel::cellText(int i, int j) const
     if (!r.metrics.problem.empty())
         return parts.join(QStringLiteral(", ")) + QStringLiteral(": ")
             + toQString(r.metrics.problem);
-    const ScanMetricInfo &m = scanMetricInfos()[std::size_t(std::max(0, m_metric->currentIndex()))];
+    const ScanMetricInfo &m = scanMetricInfos()[std::size_t(metricIndex())];
     const OptionalNumber v = r.metrics.*m.member;
     parts.append(m.name + QLatin1Char(' ')
                  + (v ? toQString(formatEngineering(*v, 4)) + QLatin1Char(' ') + m.unit
@@ -411,26 +309,15 @@ bool MapPanel::applyCell(int i, int j)
     const std::size_t n2 = m_scan->axes[1].values.size();
     if (std::size_t(i) >= m_scan->axes[0].values.size() || std::size_t(j) >= n2)
         return false;
-    QString error;
-    const bool ok
-        = applyScanValues(m_document, m_scan->axes,
-                          m_scan->rows[std::size_t(i) * n2 + std::size_t(j)].values, &error);
-    if (!ok)
-        m_status->setText(error);
-    return ok;
+    return applyValues(m_scan->rows[std::size_t(i) * n2 + std::size_t(j)].values);
 }
 
 void MapPanel::redraw()
 {
     if (!m_scan || m_scan->axes.size() != 2)
         return;
-    const Design &d = m_document->design();
-    double a = std::nan(""), b = std::nan("");
-    if (const Part *p = d.findPart(m_scan->axes[0].part))
-        a = p->number(m_scan->axes[0].field);
-    if (const Part *p = d.findPart(m_scan->axes[1].part))
-        b = p->number(m_scan->axes[1].field);
-    m_map->setScan(m_scan, std::max(0, m_metric->currentIndex()), a, b);
+    m_map->setScan(m_scan, metricIndex(), designValue(m_scan->axes[0]),
+                   designValue(m_scan->axes[1]));
 }
 
 } // namespace loopsketch::ui

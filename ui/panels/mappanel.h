@@ -5,21 +5,13 @@
 // unstable cells crossed, the current design ringed; hover reads a cell, a click applies
 // both values as one undo step.
 
-#include "panels/scanrunner.h"
-#include "sheet/reviewsheet.h"
-
-#include <QWidget>
+#include "panels/scanrunpanel.h"
 
 #include <memory>
 
 class QComboBox;
-class QLabel;
-class QProgressBar;
-class QPushButton;
 
 namespace loopsketch::ui {
-
-class DesignDocument;
 
 /// The painted grid: first part across, second part up.
 class HeatMap : public QWidget
@@ -59,7 +51,7 @@ private:
     double m_currentA = 0, m_currentB = 0, m_lo = 0, m_hi = 1;
 };
 
-class MapPanel : public QWidget
+class MapPanel : public ScanRunPanel
 {
     Q_OBJECT
 
@@ -68,38 +60,20 @@ public:
 
     /// Chooses the two targets ("RF", "CF") with their default ranges and starts the map.
     void mapParts(const QString &first, const QString &second);
-    void run();
-    void cancel();
-    bool isRunning() const;
-    const ScanResult *result() const { return m_scan.get(); }
-    void setMetric(int index);
+    void run() override;
     /// Applies cell (i, j) of the latest map (one undo step).
     bool applyCell(int i, int j);
     /// What hovering cell (i, j) shows.
     QString cellText(int i, int j) const;
     HeatMap *heatMap() const { return m_map; }
-    QString statusText() const;
-    /// The latest finished run with the metric shown, when it was made for the document's
-    /// design as it is (complete, and no field changed since): what the review sheet
-    /// carries; nullopt otherwise.
-    std::optional<SheetScan> sheetScan() const;
-
-signals:
-    void mapFinished();
 
 private:
-    void refreshTargets();
-    void redraw();
+    QString finishedText(const ScanResult &scan) const override;
+    void refreshTargets() override;
+    void redraw() override;
 
-    DesignDocument *m_document;
-    ScanRunner *m_runner;
-    QComboBox *m_first, *m_second, *m_series, *m_metric;
-    QPushButton *m_run, *m_cancel;
-    QProgressBar *m_progress;
-    QLabel *m_status, *m_hover;
+    QComboBox *m_first, *m_second;
     HeatMap *m_map;
-    std::shared_ptr<const ScanResult> m_scan;
-    std::string m_pendingText, m_scanText; ///< the design text of the run started, finished
 };
 
 } // namespace loopsketch::ui

@@ -156,15 +156,8 @@ QStringList NyquistPanel::frequencyLabels() const
 
 void NyquistPanel::fitHome()
 {
-    const QRectF plot = chart()->plotArea();
-    if (m_fitting || !(plot.width() > 0) || !(plot.height() > 0))
-        return;
-    m_fitting = true;
     const double reach = m_reach + 0.3;
-    const double perPixel = std::max(2 * reach / plot.width(), 2 * reach / plot.height());
-    setHomeRange(m_x, -perPixel * plot.width() / 2, perPixel * plot.width() / 2, 1.0);
-    setHomeRange(m_y, -perPixel * plot.height() / 2, perPixel * plot.height() / 2, 1.0);
-    m_fitting = false;
+    fitEqualScales(m_x, m_y, -reach, reach, reach, 1.0);
 }
 
 void NyquistPanel::plotGeometryChanged()

@@ -43,7 +43,6 @@ private:
     QScatterSeries *m_minusOne, *m_phaseMargin, *m_gainMargin;
     std::vector<QScatterSeries *> m_labels;
     double m_reach = 2;
-    bool m_fitting = false;
     QString m_encirclementText;
 };
 

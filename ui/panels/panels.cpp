@@ -477,24 +477,11 @@ QStringList PolesPanel::poleLabels() const
 
 void PolesPanel::fitHome()
 {
-    const QRectF plot = chart()->plotArea();
-    if (m_fitting || !(plot.width() > 0) || !(plot.height() > 0))
-        return;
-    m_fitting = true;
     // Room for every circle and pole, the right half-plane at least a third of the radius
-    // wide; then one unit gets as many pixels across as up, so circles stay round and
-    // angles true.
+    // wide; one unit as long across as up, so circles stay round and angles true. Tick marks
+    // are not labelled (the scale is not linear): one per radius unit.
     const double reach = m_outer + 0.4;
-    const double left = -reach;
-    const double right = std::max(0.35 * reach, m_rightMost + 0.4);
-    const double perPixel = std::max((right - left) / plot.width(), 2.0 * reach / plot.height());
-    const double centre = (left + right) / 2.0;
-    const double halfWidth = perPixel * plot.width() / 2.0;
-    const double halfHeight = perPixel * plot.height() / 2.0;
-    // Tick marks are not labelled (the scale is not linear): one per radius unit.
-    setHomeRange(m_x, centre - halfWidth, centre + halfWidth, 1.0);
-    setHomeRange(m_y, -halfHeight, halfHeight, 1.0);
-    m_fitting = false;
+    fitEqualScales(m_x, m_y, -reach, std::max(0.35 * reach, m_rightMost + 0.4), reach, 1.0);
 }
 
 void PolesPanel::plotGeometryChanged()

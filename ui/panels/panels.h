@@ -150,7 +150,6 @@ private:
     double m_outer = kInnerRadius; ///< radius of the outermost pole
     int m_ringCount = 0;
     double m_rightMost = 0; ///< largest x drawn
-    bool m_fitting = false;
 };
 
 } // namespace loopsketch::ui

@@ -288,6 +288,22 @@ void PlotPanel::setHomeRange(QValueAxis *axis, double lo, double hi, double step
     applyAxis(axis);
 }
 
+void PlotPanel::fitEqualScales(QValueAxis *x, QValueAxis *y, double left, double right,
+                               double reach, double step)
+{
+    const QRectF plot = chart()->plotArea();
+    if (m_fitting || !(plot.width() > 0) || !(plot.height() > 0))
+        return;
+    m_fitting = true;
+    const double perPixel = std::max((right - left) / plot.width(), 2.0 * reach / plot.height());
+    const double centre = (left + right) / 2.0;
+    const double halfWidth = perPixel * plot.width() / 2.0;
+    const double halfHeight = perPixel * plot.height() / 2.0;
+    setHomeRange(x, centre - halfWidth, centre + halfWidth, step);
+    setHomeRange(y, -halfHeight, halfHeight, step);
+    m_fitting = false;
+}
+
 void PlotPanel::applyAxis(QValueAxis *axis)
 {
     if (auto *decades = qobject_cast<QCategoryAxis *>(axis)) {

@@ -150,6 +150,12 @@ protected:
     void setNiceRange(QValueAxis *axis, double lo, double hi, int ticks);
     /// Sets the panel's own range of a value axis as it is (no rounding), ticks `step` apart.
     void setHomeRange(QValueAxis *axis, double lo, double hi, double step);
+    /// Sets the home ranges of `x` and `y` to hold [left, right] across and [-reach, reach]
+    /// up with one unit as long across as up on the plot area as it is (circles stay round),
+    /// ticks `step` apart. Does nothing while the plot area is empty, nor when called again
+    /// from the geometry change its own ranges cause.
+    void fitEqualScales(QValueAxis *x, QValueAxis *y, double left, double right, double reach,
+                        double step);
     /// Rubber-band zooms keep one unit the same length on both axes (the s-plane).
     void setEqualAspect(bool on) { m_equalAspect = on; }
     /// Called after the plot area or the shown ranges changed (zoom, pan, resize), for items
@@ -209,6 +215,7 @@ private:
     QAction *m_resetZoomAction = nullptr;
     QToolButton *m_resetZoomButton = nullptr;
     bool m_equalAspect = false;
+    bool m_fitting = false; ///< inside fitEqualScales()
     void applyDecades(QCategoryAxis *axis, DecadeAxis &state);
     void placeSummary();
     struct RoundAxis

@@ -5,19 +5,14 @@
 
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/base/value.h"
-#include "loopsketch/design/designfile.h"
 
 #include <QAreaSeries>
 #include <QCategoryAxis>
 #include <QComboBox>
-#include <QHBoxLayout>
 #include <QLabel>
 #include <QLineEdit>
 #include <QLineSeries>
-#include <QProgressBar>
-#include <QPushButton>
 #include <QScatterSeries>
-#include <QVBoxLayout>
 #include <QValueAxis>
 
 #include <cmath>
@@ -142,8 +137,7 @@ void ScanChart::showScan(const ScanResult &scan, const ScanMetricInfo &metric, d
                  .arg(scan.rows.size()));
 }
 
-ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent)
-    : QWidget(parent), m_document(document), m_runner(new ScanRunner(this))
+ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent) : ScanRunPanel(document, parent)
 {
     m_target = new QComboBox(this);
     m_target->setObjectName(QStringLiteral("scanTarget"));
@@ -151,73 +145,16 @@ ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent)
     m_to = new QLineEdit(this);
     m_from->setPlaceholderText(tr("a tenth"));
     m_to->setPlaceholderText(tr("ten times"));
-    m_series = new QComboBox(this);
-    m_series->addItem(tr("its series"));
-    for (ESeries s : allESeries())
-        m_series->addItem(toQString(toString(s)));
-    m_metric = new QComboBox(this);
-    for (const ScanMetricInfo &m : scanMetricInfos())
-        m_metric->addItem(m.name);
-    m_metric->setCurrentIndex(2); // phase margin
-    m_run = new QPushButton(tr("Scan"), this);
-    m_cancel = new QPushButton(tr("Cancel"), this);
-    m_cancel->setEnabled(false);
-    m_progress = new QProgressBar(this);
-    m_progress->setMaximumWidth(140);
-    m_status = new QLabel(this);
-    m_hover = new QLabel(this);
+    makeRunControls(tr("its series"), tr("Scan"));
     m_hover->setTextInteractionFlags(Qt::TextSelectableByMouse);
     m_chart = new ScanChart(this);
+    layOut({new QLabel(tr("Part"), this), m_target, new QLabel(tr("from"), this), m_from,
+            new QLabel(tr("to"), this), m_to},
+           tr("Show"), m_chart);
 
-    auto *controls = new QHBoxLayout;
-    controls->addWidget(new QLabel(tr("Part"), this));
-    controls->addWidget(m_target);
-    controls->addWidget(new QLabel(tr("from"), this));
-    controls->addWidget(m_from);
-    controls->addWidget(new QLabel(tr("to"), this));
-    controls->addWidget(m_to);
-    controls->addWidget(m_series);
-    controls->addWidget(m_run);
-    controls->addWidget(m_cancel);
-    controls->addWidget(m_progress);
-    auto *show = new QHBoxLayout;
-    show->addWidget(new QLabel(tr("Show"), this));
-    show->addWidget(m_metric);
-    show->addWidget(m_status, 1);
-    auto *layout = new QVBoxLayout(this);
-    layout->addLayout(controls);
-    layout->addLayout(show);
-    layout->addWidget(m_chart, 1);
-    layout->addWidget(m_hover);
-
-    connect(m_run, &QPushButton::clicked, this, &ScanPanel::run);
-    connect(m_cancel, &QPushButton::clicked, this, &ScanPanel::cancel);
-    connect(m_metric, &QComboBox::currentIndexChanged, this, [this] { redraw(); });
     connect(m_target, &QComboBox::currentIndexChanged, this, [this] {
         m_from->clear();
         m_to->clear();
-    });
-    connect(m_runner, &ScanRunner::progressed, this, [this](int done, int total) {
-        m_progress->setMaximum(total);
-        m_progress->setValue(done);
-    });
-    connect(m_runner, &ScanRunner::failed, this, [this](const QString &message) {
-        m_status->setText(message);
-        m_cancel->setEnabled(false);
-        m_run->setEnabled(true);
-    });
-    connect(m_runner, &ScanRunner::finished, this, [this](std::shared_ptr<const ScanResult> scan) {
-        m_scan = std::move(scan);
-        m_scanText = m_pendingText;
-        m_cancel->setEnabled(false);
-        m_run->setEnabled(true);
-        m_progress->setValue(m_progress->maximum());
-        m_status->setText(m_scan->cancelled ? tr("cancelled after %1 of %2 values")
-                                                  .arg(m_scan->completed)
-                                                  .arg(m_scan->rows.size())
-                                            : QString());
-        redraw();
-        emit scanFinished();
     });
     for (QScatterSeries *s : {m_chart->passSeries(), m_chart->failSeries()}) {
         connect(s, &QScatterSeries::clicked, this,
@@ -226,10 +163,14 @@ ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent)
             m_hover->setText(state ? rowText(rowNear(p.x())) : QString());
         });
     }
-    connect(m_document, &DesignDocument::structureChanged, this, &ScanPanel::refreshTargets);
-    connect(m_document, &DesignDocument::designReset, this, &ScanPanel::refreshTargets);
-    connect(m_document, &DesignDocument::analysisChanged, this, [this] { redraw(); });
     refreshTargets();
+}
+
+QString ScanPanel::finishedText(const ScanResult &scan) const
+{
+    return scan.cancelled
+        ? tr("cancelled after %1 of %2 values").arg(scan.completed).arg(scan.rows.size())
+        : QString();
 }
 
 void ScanPanel::refreshTargets()
@@ -264,51 +205,18 @@ void ScanPanel::run()
         text += QLatin1Char(':') + m_from->text().trimmed() + QLatin1Char(':')
             + m_to->text().trimmed();
     auto target = parseScanTarget(toStdString(text), "Part");
-    std::optional<ESeries> series;
-    if (m_series->currentIndex() > 0)
-        series = allESeries()[std::size_t(m_series->currentIndex() - 1)];
     if (!target) {
         m_status->setText(toQString(target.errorText()));
         return;
     }
-    auto axis = resolveScanAxis(m_document->design(), *target, series);
+    auto axis = resolveScanAxis(m_document->design(), *target, chosenSeries());
     if (!axis) {
         m_status->setText(toQString(axis.errorText()));
         return;
     }
-    m_status->setText(
+    startRun(
+        {*axis},
         tr("scanning %1 values of %2 …").arg(axis->values.size()).arg(toQString(axis->name())));
-    m_progress->setValue(0);
-    m_cancel->setEnabled(true);
-    m_pendingText = serializeDesign(m_document->design());
-    m_runner->start(m_document->design(), {*axis});
-}
-
-void ScanPanel::cancel()
-{
-    m_runner->cancel();
-}
-
-bool ScanPanel::isRunning() const
-{
-    return m_runner->isRunning();
-}
-
-QString ScanPanel::statusText() const
-{
-    return m_status->text();
-}
-
-std::optional<SheetScan> ScanPanel::sheetScan() const
-{
-    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
-        return std::nullopt;
-    return SheetScan{m_scan.get(), std::max(0, m_metric->currentIndex())};
-}
-
-void ScanPanel::setMetric(int index)
-{
-    m_metric->setCurrentIndex(index);
 }
 
 int ScanPanel::rowNear(double x) const
@@ -351,25 +259,16 @@ bool ScanPanel::applyRow(int index)
 {
     if (!m_scan || index < 0 || std::size_t(index) >= m_scan->rows.size())
         return false;
-    QString error;
-    const bool ok = applyScanValues(m_document, m_scan->axes,
-                                    m_scan->rows[std::size_t(index)].values, &error);
-    if (!ok)
-        m_status->setText(error);
-    return ok;
+    return applyValues(m_scan->rows[std::size_t(index)].values);
 }
 
 void ScanPanel::redraw()
 {
     if (!m_scan || m_scan->axes.empty())
         return;
-    const ScanMetricInfo &metric
-        = scanMetricInfos()[std::size_t(std::max(0, m_metric->currentIndex()))];
+    const ScanMetricInfo &metric = scanMetricInfos()[std::size_t(metricIndex())];
     const Design &d = m_document->design();
-    const ScanAxis &axis = m_scan->axes.front();
-    double current = kNaN;
-    if (const Part *p = d.findPart(axis.part))
-        current = p->number(axis.field);
+    const double current = designValue(m_scan->axes.front());
     // The spec as a band: the gain window, the bandwidth and phase-margin minimums.
     double lo = kNaN, hi = kNaN;
     const Specs &s = d.specs;

@@ -6,25 +6,15 @@
 // click that applies a value as one undo step.
 
 #include "panels/plotpanel.h"
-#include "panels/scanrunner.h"
-#include "sheet/reviewsheet.h"
-
-#include <QWidget>
-
-#include <memory>
+#include "panels/scanrunpanel.h"
 
 class QComboBox;
-class QLabel;
 class QLineEdit;
-class QProgressBar;
-class QPushButton;
 class QScatterSeries;
 class QLineSeries;
 class QAreaSeries;
 
 namespace loopsketch::ui {
-
-class DesignDocument;
 
 /// The chart of the Scan panel: x = log10 of the scanned value.
 class ScanChart : public PlotPanel
@@ -50,7 +40,7 @@ private:
     QScatterSeries *m_pass, *m_fail, *m_unstable;
 };
 
-class ScanPanel : public QWidget
+class ScanPanel : public ScanRunPanel
 {
     Q_OBJECT
 
@@ -60,13 +50,7 @@ public:
     /// Chooses the target ("CF", "RL.c") with its default range and starts the scan.
     void scanPart(const QString &target);
     /// Starts a scan of the target, range and series chosen in the controls.
-    void run();
-    void cancel();
-    bool isRunning() const;
-    /// The latest finished scan, nullptr before the first.
-    const ScanResult *result() const { return m_scan.get(); }
-    /// Shows metric `index` of scanMetricInfos().
-    void setMetric(int index);
+    void run() override;
     /// Applies row `index` of the latest scan to the design (one undo step).
     bool applyRow(int index);
     /// What hovering row `index` shows.
@@ -74,30 +58,15 @@ public:
     /// The row whose value is nearest to x = log10 |value|.
     int rowNear(double x) const;
     ScanChart *chart() const { return m_chart; }
-    QString statusText() const;
-    /// The latest finished run with the metric shown, when it was made for the document's
-    /// design as it is (complete, and no field changed since): what the review sheet
-    /// carries; nullopt otherwise.
-    std::optional<SheetScan> sheetScan() const;
-
-signals:
-    /// A scan finished (or was cancelled).
-    void scanFinished();
 
 private:
-    void refreshTargets();
-    void redraw();
+    QString finishedText(const ScanResult &scan) const override;
+    void refreshTargets() override;
+    void redraw() override;
 
-    DesignDocument *m_document;
-    ScanRunner *m_runner;
-    QComboBox *m_target, *m_series, *m_metric;
+    QComboBox *m_target;
     QLineEdit *m_from, *m_to;
-    QPushButton *m_run, *m_cancel;
-    QProgressBar *m_progress;
-    QLabel *m_status, *m_hover;
     ScanChart *m_chart;
-    std::shared_ptr<const ScanResult> m_scan;
-    std::string m_pendingText, m_scanText; ///< the design text of the run started, finished
 };
 
 } // namespace loopsketch::ui

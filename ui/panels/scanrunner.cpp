@@ -1,10 +1,9 @@
 #include "panels/scanrunner.h"
 
+#include "support/backgroundrun.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
-#include <QMetaObject>
-#include <QPointer>
 #include <QUndoStack>
 
 #include <cmath>
@@ -62,68 +61,42 @@ const std::vector<ScanMetricInfo> &scanMetricInfos()
     return infos;
 }
 
-ScanRunner::ScanRunner(QObject *parent) : QObject(parent) { }
-
-ScanRunner::~ScanRunner()
+ScanRunner::ScanRunner(QObject *parent) : QObject(parent), m_run(new BackgroundRun(this))
 {
-    stop();
+    connect(m_run, &BackgroundRun::progressed, this, [this](std::size_t done, std::size_t total) {
+        if (total > 0)
+            emit progressed(int(done), int(total));
+    });
 }
 
-void ScanRunner::stop()
+bool ScanRunner::isRunning() const
 {
-    if (m_cancel)
-        m_cancel->store(true);
-    if (m_thread.joinable())
-        m_thread.join();
-    m_running = false;
+    return m_run->isRunning();
 }
 
 void ScanRunner::cancel()
 {
-    if (m_cancel)
-        m_cancel->store(true);
+    m_run->cancel();
 }
 
 void ScanRunner::start(const Design &design, std::vector<ScanAxis> axes)
 {
-    stop();
-    const int generation = ++m_generation;
-    m_cancel = std::make_shared<std::atomic<bool>>(false);
-    m_running = true;
-    QPointer<ScanRunner> self(this);
-    auto cancel = m_cancel;
-    m_thread = std::thread([self, cancel, generation, design, axes = std::move(axes)] {
-        ScanOptions options;
-        options.cancel = cancel.get();
-        options.progress = [self, generation](std::size_t done, std::size_t total) {
-            QMetaObject::invokeMethod(
-                self.data(),
-                [self, generation, done, total] {
-                    if (self && self->m_generation == generation)
-                        emit self->progressed(int(done), int(total));
-                },
-                Qt::QueuedConnection);
-        };
-        auto result = runScan(design, axes, options);
-        std::shared_ptr<const ScanResult> scan;
-        QString message;
-        if (result)
-            scan = std::make_shared<const ScanResult>(std::move(result).value());
-        else
-            message = toQString(result.errorText());
-        QMetaObject::invokeMethod(
-            self.data(),
-            [self, generation, scan, message] {
-                if (!self || self->m_generation != generation)
-                    return;
-                self->m_running = false;
-                if (scan)
-                    emit self->finished(scan);
-                else
-                    emit self->failed(message);
-            },
-            Qt::QueuedConnection);
-    });
+    m_run->start(
+        [design, axes = std::move(axes)](BackgroundRun::State &state) {
+            ScanOptions options;
+            options.cancel = &state.cancel;
+            options.progress = [&state](std::size_t done, std::size_t total) {
+                state.total = total;
+                state.done = done;
+            };
+            return runScan(design, axes, options);
+        },
+        [this](Result<ScanResult> result) {
+            if (result)
+                emit finished(std::make_shared<const ScanResult>(std::move(result).value()));
+            else
+                emit failed(toQString(result.errorText()));
+        });
 }
 
 } // namespace loopsketch::ui

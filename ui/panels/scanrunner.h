@@ -1,17 +1,15 @@
 #pragma once
 
-// Runs core's runScan() on a background thread for the Scan and Map panels: progress and
-// the result come back on the GUI thread; a new run or cancel() stops the one in progress,
-// and a result of a run that was superseded is dropped.
+// Runs core's runScan() for the Scan and Map panels on a BackgroundRun
+// (support/backgroundrun.h): progress and the result come back on the GUI thread; a new run
+// or cancel() stops the one in progress, and a result of a run that was superseded is dropped.
 
 #include "loopsketch/analysis/scan.h"
 
 #include <QObject>
 #include <QStringList>
 
-#include <atomic>
 #include <memory>
-#include <thread>
 
 namespace loopsketch::ui {
 
@@ -19,6 +17,7 @@ namespace loopsketch::ui {
 /// numeric field with a finite, non-zero value ("RL.c", "U1.gbw"), in part order.
 QStringList scanTargetNames(const Design &design);
 
+class BackgroundRun;
 class DesignDocument;
 
 /// Writes the values of a scan row into the document's design as one undo step (a macro of
@@ -42,12 +41,11 @@ class ScanRunner : public QObject
 
 public:
     explicit ScanRunner(QObject *parent = nullptr);
-    ~ScanRunner() override;
 
     /// Starts a scan (one axis) or map (two) of `design`; a run in progress is cancelled.
     void start(const Design &design, std::vector<ScanAxis> axes);
     void cancel();
-    bool isRunning() const { return m_running; }
+    bool isRunning() const;
 
 signals:
     void progressed(int done, int total);
@@ -57,12 +55,7 @@ signals:
     void failed(const QString &message);
 
 private:
-    void stop();
-
-    std::thread m_thread;
-    std::shared_ptr<std::atomic<bool>> m_cancel;
-    int m_generation = 0;
-    bool m_running = false;
+    BackgroundRun *m_run;
 };
 
 } // namespace loopsketch::ui

@@ -2,6 +2,7 @@
 
 #include "panels/plotpanel.h"
 #include "panels/spreadmetric.h"
+#include "support/backgroundrun.h"
 #include "support/errorline.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
@@ -63,7 +64,7 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
       m_run(new QPushButton(tr("Run"), this)), m_cancel(new QPushButton(tr("Cancel"), this)),
       m_progress(new QProgressBar(this)), m_message(new QLabel(this)), m_method(new QLabel(this)),
       m_yield(new QLabel(this)), m_noise(new QLabel(this)), m_table(new QTableWidget(3, 7, this)),
-      m_progressTimer(new QTimer(this))
+      m_background(new BackgroundRun(this))
 {
     setObjectName(QStringLiteral("Spread"));
     setUpInputs();
@@ -97,11 +98,10 @@ SpreadPanel::SpreadPanel(DesignDocument *document, QWidget *parent)
     layout->addLayout(plots, 1);
     layout->addWidget(legend);
 
-    m_progressTimer->setInterval(50);
-    connect(m_progressTimer, &QTimer::timeout, this, [this] {
-        if (m_state)
-            m_progress->setValue(static_cast<int>(std::min(m_state->done.load(), m_state->total)));
-    });
+    connect(m_background, &BackgroundRun::progressed, this,
+            [this](std::size_t done, std::size_t total) {
+                m_progress->setValue(static_cast<int>(std::min(done, total)));
+            });
     connect(m_run, &QPushButton::clicked, this, &SpreadPanel::run);
     connect(m_cancel, &QPushButton::clicked, this, &SpreadPanel::cancel);
     connect(m_gainSpread, &QDoubleSpinBox::valueChanged, this, &SpreadPanel::optionsChanged);
@@ -220,7 +220,7 @@ void SpreadPanel::setUpTable()
 
 SpreadPanel::~SpreadPanel()
 {
-    stopWorker(true);
+    m_background->stop();
 }
 
 void SpreadPanel::setBusy(bool busy)

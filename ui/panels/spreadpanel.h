@@ -9,16 +9,13 @@
 
 #include "loopsketch/analysis/spread.h"
 
-#include <QElapsedTimer>
 #include <QString>
 #include <QWidget>
 
-#include <atomic>
 #include <cstddef>
 #include <memory>
 #include <optional>
 #include <string>
-#include <thread>
 
 class QChart;
 class QChartView;
@@ -31,11 +28,11 @@ class QProgressBar;
 class QPushButton;
 class QSpinBox;
 class QTableWidget;
-class QTimer;
 class QValueAxis;
 
 namespace loopsketch::ui {
 
+class BackgroundRun;
 class DesignDocument;
 
 class SpreadPanel : public QWidget
@@ -69,9 +66,9 @@ public:
     void run();
     /// Cancels the run in progress; its partial result is shown, marked as cancelled.
     void cancel();
-    bool isRunning() const { return m_running; }
+    bool isRunning() const;
     /// Corners and trials done so far in the running run (worst-case corners first).
-    std::size_t progressDone() const { return m_state ? m_state->done.load() : 0; }
+    std::size_t progressDone() const;
     /// The progress bar as shown: its text, value and maximum.
     QString progressText() const;
     int progressValue() const;
@@ -83,7 +80,7 @@ public:
     /// sheet; nullptr when there is none or the design changed since.
     const SheetSpread *completedResult() const;
     /// Wall-clock time of the last delivered run, ms.
-    double lastRunMs() const { return m_lastRunMs; }
+    double lastRunMs() const;
 
     /// The text of one table cell as shown.
     QString cellText(Metric metric, Column column) const;
@@ -116,21 +113,12 @@ private:
     void setUpTable();
     /// The histogram chart of metric `i` (its view, for the layout).
     QChartView *makeHistogram(int i);
-    struct RunState
-    {
-        std::atomic<bool> cancel{false};
-        std::atomic<std::size_t> done{0};
-        std::size_t total = 0;
-        int generation = 0;
-        bool userCancelled = false;
-    };
     struct Delivery;
 
     void designChanged();
     void optionsChanged();
     void updatePreview();
-    void stopWorker(bool wait);
-    void deliver(const std::shared_ptr<Delivery> &delivery);
+    void deliver(Delivery delivery);
     void showResult();
     void showNoise();
     void showHistogram(Metric metric);
@@ -159,18 +147,13 @@ private:
         QValueAxis *x = nullptr, *y = nullptr;
     };
     Histogram m_histograms[3];
-    QTimer *m_progressTimer;
+    BackgroundRun *m_background;
+    bool m_userCancelled = false; ///< the run in progress was cancelled with Cancel
 
-    std::thread m_worker;
-    std::shared_ptr<RunState> m_state;
-    int m_generation = 0;
-    bool m_running = false;
     std::optional<SheetSpread> m_result;
     std::string m_resultUnit;
     Specs m_resultSpecs;
     bool m_resultCurrent = false; ///< the design has not changed since the result's run
-    QElapsedTimer m_clock;
-    double m_lastRunMs = 0;
 };
 
 } // namespace loopsketch::ui

@@ -3,6 +3,7 @@
 // thread (a run a newer one or a design change superseded is dropped).
 #include "panels/spreadpanel.h"
 
+#include "support/backgroundrun.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
@@ -12,11 +13,9 @@
 #include <QProgressBar>
 #include <QPushButton>
 #include <QSpinBox>
-#include <QTimer>
 
 #include <algorithm>
-#include <memory>
-#include <thread>
+#include <climits>
 
 namespace loopsketch::ui {
 
@@ -41,8 +40,6 @@ std::size_t cornerCount(std::size_t n)
 /// What a worker hands back to the GUI thread.
 struct SpreadPanel::Delivery
 {
-    int generation = 0;
-    std::thread::id thread;
     QString error;
     std::optional<WorstCaseResult> worst;
     std::optional<MonteCarloResult> monteCarlo;
@@ -97,18 +94,8 @@ const SheetSpread *SpreadPanel::completedResult() const
     return &*m_result;
 }
 
-void SpreadPanel::stopWorker(bool wait)
-{
-    if (m_state)
-        m_state->cancel = true;
-    if (wait && m_worker.joinable())
-        m_worker.join();
-}
-
 void SpreadPanel::run()
 {
-    // The old worker stops within one chunk of trials once its flag is set.
-    stopWorker(true);
     const Design design = m_document->design();
     const SpreadOptions base = options();
     const std::string file = toStdString(m_document->filePath());
@@ -117,52 +104,50 @@ void SpreadPanel::run()
         setMessage(toQString(quantities.errorText()), true);
         return;
     }
-    auto state = std::make_shared<RunState>();
-    state->generation = ++m_generation;
     const std::size_t corners = cornerCount(quantities->size());
-    state->total = corners + static_cast<std::size_t>(base.trials);
-    m_state = state;
-    m_running = true;
+    const std::size_t total = corners + static_cast<std::size_t>(base.trials);
+    m_userCancelled = false;
+    m_background->start(
+        [design, base, file, corners](BackgroundRun::State &state) {
+            Delivery delivery;
+            delivery.gainUnit = gainUnit(design);
+            delivery.specs = design.specs;
+            SpreadOptions o = base;
+            o.cancel = &state.cancel;
+            o.progress = [&state](std::size_t done, std::size_t) {
+                state.done = done;
+            };
+            auto worst = worstCase(design, o, file);
+            if (!worst) {
+                delivery.error = toQString(worst.errorText());
+                return delivery;
+            }
+            delivery.worst = std::move(worst).value();
+            if (delivery.worst->cancelled)
+                return delivery;
+            o.progress = [&state, corners](std::size_t done, std::size_t) {
+                state.done = corners + done;
+            };
+            auto mc = monteCarlo(design, o, file);
+            if (!mc)
+                delivery.error = toQString(mc.errorText());
+            else
+                delivery.monteCarlo = std::move(mc).value();
+            return delivery;
+        },
+        [this](Delivery delivery) { deliver(std::move(delivery)); },
+        [this](const Delivery &delivery) {
+            emit runDiscarded(delivery.monteCarlo ? delivery.monteCarlo->completed : 0);
+        },
+        total);
     setBusy(true);
-    m_progress->setRange(0, static_cast<int>(std::min<std::size_t>(state->total, INT_MAX)));
+    m_progress->setRange(0, static_cast<int>(std::min<std::size_t>(total, INT_MAX)));
     m_progress->setValue(0);
     m_progress->setFormat(QStringLiteral("%p %"));
     setMessage(tr("Running %1 worst-case corners and %2 Monte Carlo trials…")
                    .arg(corners)
                    .arg(QLocale().toString(base.trials)),
                false);
-    m_clock.start();
-    m_worker = std::thread([this, design, base, file, state, corners] {
-        auto delivery = std::make_shared<Delivery>();
-        delivery->generation = state->generation;
-        delivery->thread = std::this_thread::get_id();
-        delivery->gainUnit = gainUnit(design);
-        delivery->specs = design.specs;
-        SpreadOptions o = base;
-        o.cancel = &state->cancel;
-        o.progress = [state](std::size_t done, std::size_t) {
-            state->done = done;
-        };
-        auto worst = worstCase(design, o, file);
-        if (!worst) {
-            delivery->error = toQString(worst.errorText());
-        } else {
-            delivery->worst = std::move(worst).value();
-            if (!delivery->worst->cancelled) {
-                o.progress = [state, corners](std::size_t done, std::size_t) {
-                    state->done = corners + done;
-                };
-                auto mc = monteCarlo(design, o, file);
-                if (!mc)
-                    delivery->error = toQString(mc.errorText());
-                else
-                    delivery->monteCarlo = std::move(mc).value();
-            }
-        }
-        QMetaObject::invokeMethod(
-            this, [this, delivery] { deliver(delivery); }, Qt::QueuedConnection);
-    });
-    m_progressTimer->start();
 }
 
 QString SpreadPanel::progressText() const
@@ -180,35 +165,41 @@ int SpreadPanel::progressMaximum() const
     return m_progress->maximum();
 }
 
+bool SpreadPanel::isRunning() const
+{
+    return m_background->isRunning();
+}
+
+std::size_t SpreadPanel::progressDone() const
+{
+    return m_background->done();
+}
+
+double SpreadPanel::lastRunMs() const
+{
+    return m_background->lastRunMs();
+}
+
 void SpreadPanel::cancel()
 {
-    if (!m_running || !m_state)
+    if (!m_background->isRunning())
         return;
-    m_state->userCancelled = true;
-    m_state->cancel = true;
+    m_userCancelled = true;
+    m_background->cancel();
     m_cancel->setEnabled(false);
     setMessage(tr("Cancelling…"), false);
 }
 
-void SpreadPanel::deliver(const std::shared_ptr<Delivery> &delivery)
+void SpreadPanel::deliver(Delivery delivery)
 {
-    if (m_worker.joinable() && m_worker.get_id() == delivery->thread)
-        m_worker.join();
-    if (delivery->generation != m_generation || !m_running) {
-        emit runDiscarded(delivery->monteCarlo ? delivery->monteCarlo->completed : 0);
-        return;
-    }
-    m_lastRunMs = double(m_clock.nsecsElapsed()) / 1e6;
-    m_running = false;
-    m_progressTimer->stop();
     setBusy(false);
-    const bool userCancelled = m_state && m_state->userCancelled;
-    if (!delivery->error.isEmpty()) {
-        setMessage(delivery->error, true);
+    const bool userCancelled = m_userCancelled;
+    if (!delivery.error.isEmpty()) {
+        setMessage(delivery.error, true);
         emit runFinished();
         return;
     }
-    if (!delivery->monteCarlo) {
+    if (!delivery.monteCarlo) {
         m_progress->setValue(0);
         setMessage(tr("Cancelled during the worst case; nothing to show. Press Run to start "
                       "again."),
@@ -216,9 +207,9 @@ void SpreadPanel::deliver(const std::shared_ptr<Delivery> &delivery)
         emit runFinished();
         return;
     }
-    m_result = SheetSpread{std::move(*delivery->worst), std::move(*delivery->monteCarlo)};
-    m_resultUnit = delivery->gainUnit;
-    m_resultSpecs = delivery->specs;
+    m_result = SheetSpread{std::move(*delivery.worst), std::move(*delivery.monteCarlo)};
+    m_resultUnit = delivery.gainUnit;
+    m_resultSpecs = delivery.specs;
     m_resultCurrent = true;
     const MonteCarloResult &mc = m_result->monteCarlo;
     if (mc.cancelled || userCancelled) {
@@ -238,7 +229,7 @@ void SpreadPanel::deliver(const std::shared_ptr<Delivery> &delivery)
         : tr("%1 trials, %2, seed %3, in %4 s.")
               .arg(QLocale().toString(qulonglong(mc.trials)), toQString(toString(mc.distribution)))
               .arg(mc.seed)
-              .arg(m_lastRunMs / 1000.0, 0, 'f', 2);
+              .arg(lastRunMs() / 1000.0, 0, 'f', 2);
     QStringList spread;
     for (const SpreadQuantity &q : mc.quantities)
         spread << quantityText(q);
@@ -258,12 +249,9 @@ void SpreadPanel::deliver(const std::shared_ptr<Delivery> &delivery)
 
 void SpreadPanel::designChanged()
 {
-    if (m_running) {
+    if (m_background->isRunning()) {
         // The result would describe a design that no longer exists: drop it.
-        stopWorker(false);
-        ++m_generation;
-        m_running = false;
-        m_progressTimer->stop();
+        m_background->drop();
         m_progress->setValue(0);
         setBusy(false);
     }
@@ -273,7 +261,7 @@ void SpreadPanel::designChanged()
 
 void SpreadPanel::optionsChanged()
 {
-    if (!m_running)
+    if (!m_background->isRunning())
         updatePreview();
 }
 
@@ -286,7 +274,7 @@ void SpreadPanel::updatePreview()
         m_run->setEnabled(false);
         return;
     }
-    m_run->setEnabled(!m_running);
+    m_run->setEnabled(!m_background->isRunning());
     QStringList spread;
     for (const SpreadQuantity &q : *quantities)
         spread << quantityText(q);

@@ -1,5 +1,6 @@
 #include "panels/suggestdialog.h"
 
+#include "support/backgroundrun.h"
 #include "support/errorline.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
@@ -20,7 +21,6 @@
 #include <QPushButton>
 #include <QSet>
 #include <QTableWidget>
-#include <QTimer>
 #include <QVBoxLayout>
 
 #include <algorithm>
@@ -61,8 +61,6 @@ QString valueText(const Part *p, double v)
 
 struct SuggestDialog::Delivery
 {
-    int generation = 0;
-    std::thread::id thread;
     QString error;
     std::optional<SuggestResult> result;
     std::string gainUnit;
@@ -74,7 +72,7 @@ SuggestDialog::SuggestDialog(DesignDocument *document, QWidget *parent)
       m_targets(new QLabel(this)), m_preview(new QLabel(this)),
       m_run(new QPushButton(tr("Search"), this)), m_cancel(new QPushButton(tr("Cancel"), this)),
       m_progress(new QProgressBar(this)), m_status(new QLabel(this)),
-      m_table(new QTableWidget(this)), m_progressTimer(new QTimer(this))
+      m_table(new QTableWidget(this)), m_background(new BackgroundRun(this))
 {
     setObjectName(QStringLiteral("SuggestDialog"));
     setWindowTitle(tr("Suggest values"));
@@ -150,16 +148,13 @@ SuggestDialog::SuggestDialog(DesignDocument *document, QWidget *parent)
     layout->addWidget(close);
     resize(860, 560);
 
-    m_progressTimer->setInterval(50);
-    connect(m_progressTimer, &QTimer::timeout, this, [this] {
-        if (!m_state)
-            return;
-        const std::size_t total = m_state->total.load();
-        if (total > 0) {
-            m_progress->setRange(0, int(std::min<std::size_t>(total, INT_MAX)));
-            m_progress->setValue(int(std::min(m_state->done.load(), total)));
-        }
-    });
+    connect(m_background, &BackgroundRun::progressed, this,
+            [this](std::size_t done, std::size_t total) {
+                if (total > 0) {
+                    m_progress->setRange(0, int(std::min<std::size_t>(total, INT_MAX)));
+                    m_progress->setValue(int(std::min(done, total)));
+                }
+            });
     connect(m_run, &QPushButton::clicked, this, &SuggestDialog::run);
     connect(m_cancel, &QPushButton::clicked, this, &SuggestDialog::cancel);
     connect(m_parts, &QListWidget::itemChanged, this, &SuggestDialog::updatePreview);
@@ -179,7 +174,17 @@ SuggestDialog::SuggestDialog(DesignDocument *document, QWidget *parent)
 
 SuggestDialog::~SuggestDialog()
 {
-    stopWorker(true);
+    m_background->stop();
+}
+
+bool SuggestDialog::isRunning() const
+{
+    return m_background->isRunning();
+}
+
+double SuggestDialog::lastRunMs() const
+{
+    return m_background->lastRunMs();
 }
 
 QStringList SuggestDialog::offeredParts() const
@@ -289,7 +294,7 @@ void SuggestDialog::updatePreview()
 {
     const Design &d = m_document->design();
     const QStringList ids = checkedParts();
-    bool ok = d.specs.gainMin && d.specs.gainMax && !ids.isEmpty() && !m_running;
+    bool ok = d.specs.gainMin && d.specs.gainMax && !ids.isEmpty() && !m_background->isRunning();
     QString text;
     if (ids.isEmpty()) {
         text = tr("Tick the parts whose values are searched.");
@@ -321,17 +326,8 @@ void SuggestDialog::updatePreview()
     m_run->setEnabled(ok);
 }
 
-void SuggestDialog::stopWorker(bool wait)
-{
-    if (m_state)
-        m_state->cancel = true;
-    if (wait && m_worker.joinable())
-        m_worker.join();
-}
-
 void SuggestDialog::run()
 {
-    stopWorker(true);
     Design design = m_document->design();
     SuggestOptions options;
     for (const QString &id : checkedParts())
@@ -345,67 +341,53 @@ void SuggestDialog::run()
     options.decades = m_decades->value();
     options.best = kBest;
     const std::string file = toStdString(m_document->filePath());
-    auto state = std::make_shared<RunState>();
-    state->generation = ++m_generation;
-    m_state = state;
-    m_running = true;
+    m_background->start(
+        [design = std::move(design), options, file](BackgroundRun::State &state) {
+            Delivery delivery;
+            delivery.gainUnit = gainUnit(design);
+            SuggestOptions o = options;
+            o.cancel = &state.cancel;
+            o.progress = [&state](std::size_t done, std::size_t total) {
+                state.total = total;
+                state.done = done;
+            };
+            auto found = suggestValues(design, o, file);
+            if (found)
+                delivery.result = std::move(found).value();
+            else
+                delivery.error = toQString(found.errorText());
+            return delivery;
+        },
+        [this](Delivery delivery) { deliver(std::move(delivery)); });
     m_result.reset();
     m_resultSeries = chosen;
     showResult();
     setBusy(true);
     m_progress->setRange(0, 0);
     setStatus(tr("Searching…"), false);
-    m_clock.start();
-    m_worker = std::thread([this, design = std::move(design), options, file, state] {
-        auto delivery = std::make_shared<Delivery>();
-        delivery->generation = state->generation;
-        delivery->thread = std::this_thread::get_id();
-        delivery->gainUnit = gainUnit(design);
-        SuggestOptions o = options;
-        o.cancel = &state->cancel;
-        o.progress = [state](std::size_t done, std::size_t total) {
-            state->total = total;
-            state->done = done;
-        };
-        auto found = suggestValues(design, o, file);
-        if (found)
-            delivery->result = std::move(found).value();
-        else
-            delivery->error = toQString(found.errorText());
-        QMetaObject::invokeMethod(
-            this, [this, delivery] { deliver(delivery); }, Qt::QueuedConnection);
-    });
-    m_progressTimer->start();
 }
 
 void SuggestDialog::cancel()
 {
-    if (!m_running || !m_state)
+    if (!m_background->isRunning())
         return;
-    m_state->cancel = true;
+    m_background->cancel();
     m_cancel->setEnabled(false);
     setStatus(tr("Cancelling…"), false);
 }
 
-void SuggestDialog::deliver(const std::shared_ptr<Delivery> &delivery)
+void SuggestDialog::deliver(Delivery delivery)
 {
-    if (m_worker.joinable() && m_worker.get_id() == delivery->thread)
-        m_worker.join();
-    if (delivery->generation != m_generation || !m_running)
-        return;
-    m_lastRunMs = double(m_clock.nsecsElapsed()) / 1e6;
-    m_running = false;
-    m_progressTimer->stop();
     setBusy(false);
     m_progress->setRange(0, 1);
-    m_progress->setValue(delivery->result ? 1 : 0);
-    if (!delivery->result) {
-        setStatus(delivery->error, true);
+    m_progress->setValue(delivery.result ? 1 : 0);
+    if (!delivery.result) {
+        setStatus(delivery.error, true);
         emit searchFinished();
         return;
     }
-    m_result = std::move(delivery->result);
-    m_resultUnit = delivery->gainUnit;
+    m_result = std::move(delivery.result);
+    m_resultUnit = delivery.gainUnit;
     const SuggestResult &r = *m_result;
     QString text = r.cancelled
         ? tr("Cancelled after %1 of %2 combinations; the best of those are listed.")
@@ -413,7 +395,7 @@ void SuggestDialog::deliver(const std::shared_ptr<Delivery> &delivery)
                    QLocale().toString(qulonglong(r.combinations)))
         : tr("%1 combinations searched in %2 s.")
               .arg(QLocale().toString(qulonglong(r.combinations)))
-              .arg(m_lastRunMs / 1000.0, 0, 'f', 2);
+              .arg(lastRunMs() / 1000.0, 0, 'f', 2);
     if (r.failed)
         text += QStringLiteral(" ") + tr("%1 had no circuit solution.").arg(r.failed);
     const bool unmet = !r.targetsMet;
@@ -547,11 +529,8 @@ bool SuggestDialog::applySuggestion(int row)
 
 void SuggestDialog::designChanged()
 {
-    if (m_running) {
-        stopWorker(false);
-        ++m_generation;
-        m_running = false;
-        m_progressTimer->stop();
+    if (m_background->isRunning()) {
+        m_background->drop();
         m_progress->setRange(0, 1);
         m_progress->setValue(0);
         setBusy(false);

@@ -8,15 +8,12 @@
 #include "loopsketch/base/eseries.h"
 
 #include <QDialog>
-#include <QElapsedTimer>
 #include <QString>
 #include <QStringList>
 
-#include <atomic>
 #include <memory>
 #include <optional>
 #include <string>
-#include <thread>
 #include <vector>
 
 class QComboBox;
@@ -26,10 +23,10 @@ class QListWidget;
 class QProgressBar;
 class QPushButton;
 class QTableWidget;
-class QTimer;
 
 namespace loopsketch::ui {
 
+class BackgroundRun;
 class DesignDocument;
 
 class SuggestDialog : public QDialog
@@ -56,7 +53,7 @@ public:
     /// Starts the search on a copy of the design (the chosen series on the chosen parts).
     void run();
     void cancel();
-    bool isRunning() const { return m_running; }
+    bool isRunning() const;
 
     /// The last search's result; nullptr before one or after the design changed.
     const SuggestResult *result() const { return m_result ? &*m_result : nullptr; }
@@ -68,27 +65,20 @@ public:
     /// The text of a result-table cell.
     QString cellText(int row, int column) const;
     int resultRows() const;
-    double lastRunMs() const { return m_lastRunMs; }
+    double lastRunMs() const;
 
 signals:
     /// A search ended (complete, cancelled or failed) and what it found is shown.
     void searchFinished();
 
 private:
-    struct RunState
-    {
-        std::atomic<bool> cancel{false};
-        std::atomic<std::size_t> done{0}, total{0};
-        int generation = 0;
-    };
     struct Delivery;
 
     void designChanged();
     void rebuildParts();
     void updateTargets();
     void updatePreview();
-    void stopWorker(bool wait);
-    void deliver(const std::shared_ptr<Delivery> &delivery);
+    void deliver(Delivery delivery);
     void showResult();
     void setBusy(bool busy);
     void setStatus(const QString &text, bool error);
@@ -104,18 +94,12 @@ private:
     QProgressBar *m_progress;
     QLabel *m_status;
     QTableWidget *m_table;
-    QTimer *m_progressTimer;
+    BackgroundRun *m_background;
 
-    std::thread m_worker;
-    std::shared_ptr<RunState> m_state;
-    int m_generation = 0;
-    bool m_running = false;
     bool m_applying = false;
     std::optional<SuggestResult> m_result;
     std::optional<ESeries> m_resultSeries;
     std::string m_resultUnit;
-    QElapsedTimer m_clock;
-    double m_lastRunMs = 0;
 };
 
 } // namespace loopsketch::ui

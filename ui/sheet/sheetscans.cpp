@@ -1,6 +1,7 @@
 #include "sheet/sheetscans.h"
 
 #include "panels/scanrunner.h"
+#include "support/cellgrid.h"
 #include "support/plotstyle.h"
 
 #include "loopsketch/base/value.h"
@@ -222,31 +223,18 @@ void drawMap(QPainter &p, const QRectF &rect, double k, const ScanResult &scan, 
             // a hair wider than the cell, so no seams show between cells in viewers
             p.fillRect(cell(i, j).adjusted(0, 0, 0.05 * k, 0.05 * k), c);
             if (unstable(r)) {
-                const QRectF x = cell(i, j);
                 p.setPen(QPen(Qt::white, 0.15 * k));
-                p.drawLine(x.topLeft(), x.bottomRight());
-                p.drawLine(x.topRight(), x.bottomLeft());
+                drawCellCross(p, cell(i, j));
             }
         }
-    const auto ok = [&](int i, int j) {
-        const ScanRow *r = rowAt(i, j);
-        return r && passes(*r);
-    };
     p.setPen(QPen(palette::kBlack, 0.45 * k));
-    for (int i = 0; i < n1; ++i)
-        for (int j = 0; j < n2; ++j) {
-            if (!ok(i, j))
-                continue;
-            const QRectF c = cell(i, j);
-            if (!ok(i - 1, j))
-                p.drawLine(c.topLeft(), c.bottomLeft());
-            if (!ok(i + 1, j))
-                p.drawLine(c.topRight(), c.bottomRight());
-            if (!ok(i, j - 1))
-                p.drawLine(c.bottomLeft(), c.bottomRight());
-            if (!ok(i, j + 1))
-                p.drawLine(c.topLeft(), c.topRight());
-        }
+    drawRegionOutline(
+        p, n1, n2,
+        [&](int i, int j) {
+            const ScanRow *r = rowAt(i, j);
+            return r && passes(*r);
+        },
+        cell);
     if (std::isfinite(std::log10(std::abs(a.current)))
         && std::isfinite(std::log10(std::abs(b.current)))) {
         const QPointF c(onAxis(a, a.current, g.left(), g.right()),

@@ -101,13 +101,8 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
     inputBox->addWidget(m_input);
     inputBox->addWidget(m_inputHint);
     form->addRow(tr("signal source"), inputBox);
-    connect(m_input, &QComboBox::activated, this, [this] {
-        if (m_refreshing)
-            return;
-        Design after = m_document->design();
-        after.input = toStdString(m_input->currentData().toString());
-        m_document->setProperties(after, tr("Signal source: %1").arg(m_input->currentText()));
-    });
+    onChoice(m_input, tr("Signal source"),
+             [](Design &d, const QVariant &choice) { d.input = toStdString(choice.toString()); });
 
     m_output = new QComboBox(this);
     m_output->setObjectName(QStringLiteral("output"));
@@ -115,13 +110,8 @@ DesignPropertiesPanel::DesignPropertiesPanel(DesignDocument *document, QWidget *
     m_output->addItem(tr("current through the load"), int(OutputKind::Current));
     m_output->setToolTip(tr("What the closed-loop gain delivers at the load."));
     form->addRow(tr("output"), m_output);
-    connect(m_output, &QComboBox::activated, this, [this] {
-        if (m_refreshing)
-            return;
-        Design after = m_document->design();
-        after.output = OutputKind(m_output->currentData().toInt());
-        m_document->setProperties(after, tr("Output: %1").arg(m_output->currentText()));
-    });
+    onChoice(m_output, tr("Output"),
+             [](Design &d, const QVariant &choice) { d.output = OutputKind(choice.toInt()); });
 
     addEdit({"sweep_start", "sweep start (Hz)", "Lowest frequency of every plot.", "1"});
     addEdit({"sweep_stop", "sweep stop (Hz)", "Highest frequency of every plot.", "1G"});
@@ -473,6 +463,18 @@ bool DesignPropertiesPanel::eventFilter(QObject *watched, QEvent *event)
     if (watched == m_notes && event->type() == QEvent::FocusOut && !m_refreshing)
         commitNotes();
     return QWidget::eventFilter(watched, event);
+}
+
+void DesignPropertiesPanel::onChoice(QComboBox *box, const QString &what,
+                                     std::function<void(Design &, const QVariant &)> set)
+{
+    connect(box, &QComboBox::activated, this, [this, box, what, set = std::move(set)] {
+        if (m_refreshing)
+            return;
+        Design after = m_document->design();
+        set(after, box->currentData());
+        m_document->setProperties(after, what + QStringLiteral(": ") + box->currentText());
+    });
 }
 
 } // namespace loopsketch::ui

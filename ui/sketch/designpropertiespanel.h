@@ -9,6 +9,7 @@
 #include <QString>
 #include <QWidget>
 
+#include <functional>
 #include <map>
 #include <optional>
 #include <string>
@@ -18,6 +19,7 @@ class QLabel;
 class QLineEdit;
 class QPlainTextEdit;
 class QSpinBox;
+class QVariant;
 
 namespace loopsketch {
 struct Design;
@@ -54,6 +56,10 @@ protected:
     bool eventFilter(QObject *watched, QEvent *event) override;
 
 private:
+    /// On a choice in `box`, `set` writes it into a copy of the design, applied as one undo
+    /// step named "<what>: <the choice's text>".
+    void onChoice(QComboBox *box, const QString &what,
+                  std::function<void(Design &, const QVariant &)> set);
     void commit(const std::string &key);
     // Steps of commit() for the fields read together with another: each writes `after` and
     // returns true, or shows the error and returns false.

@@ -15,6 +15,7 @@
 #include <numbers>
 #include <random>
 #include <sstream>
+#include <utility>
 
 namespace loopsketch {
 
@@ -332,13 +333,23 @@ MetricStats metricStats(const std::vector<double> &values, int bins)
     return s;
 }
 
-Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &options,
-                                  std::string_view file)
+namespace {
+
+/// Runs `run(design, options, file, setup)` on the spread prepared for `design`; the reasons
+/// when it cannot be prepared.
+template<class Run>
+auto onSpreadSetup(const Design &design, const SpreadOptions &options, std::string_view file,
+                   Run run) -> decltype(run(design, options, file, std::declval<SpreadSetup>()))
 {
     auto prepared = prepareSpread(design, options, file);
     if (!prepared)
         return prepared.diagnostics();
-    SpreadSetup setup = std::move(prepared).value();
+    return run(design, options, file, std::move(prepared).value());
+}
+
+Result<WorstCaseResult> worstCaseOf(const Design &design, const SpreadOptions &options,
+                                    std::string_view file, SpreadSetup setup)
+{
     const std::vector<double> &grid = setup.grid;
 
     WorstCaseResult r;
@@ -435,13 +446,9 @@ Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &opt
     return r;
 }
 
-Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &options,
-                                    std::string_view file)
+Result<MonteCarloResult> monteCarloOf(const Design &design, const SpreadOptions &options,
+                                      std::string_view file, SpreadSetup setup)
 {
-    auto prepared = prepareSpread(design, options, file);
-    if (!prepared)
-        return prepared.diagnostics();
-    SpreadSetup setup = std::move(prepared).value();
     const std::vector<double> &grid = setup.grid;
     if (auto over = checkRepeatedBudget(design, file, static_cast<std::size_t>(options.trials),
                                         trialOperations(circuitSize(design), grid.size()),
@@ -504,6 +511,20 @@ Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &o
     r.snrDb = metricStats(snr, options.histogramBins);
     r.yield = r.completed ? static_cast<double>(r.passed) / static_cast<double>(r.completed) : 0.0;
     return r;
+}
+
+} // namespace
+
+Result<WorstCaseResult> worstCase(const Design &design, const SpreadOptions &options,
+                                  std::string_view file)
+{
+    return onSpreadSetup(design, options, file, worstCaseOf);
+}
+
+Result<MonteCarloResult> monteCarlo(const Design &design, const SpreadOptions &options,
+                                    std::string_view file)
+{
+    return onSpreadSetup(design, options, file, monteCarloOf);
 }
 
 namespace {

@@ -13,22 +13,21 @@ namespace {
 // IEC 60063 tables, one decade each, exactly as printed (E24 and below with two counting
 // digits, E48 and above with three). Not the rounded geometric series: E24 keeps 2.7, 3.0,
 // 3.3, 3.6, 3.9, 4.3, 4.7 and 8.2, and E192 has 9.20 where 10^(185/192) rounds to 9.19.
-constexpr std::array<double, 3> kE3{1.0, 2.2, 4.7};
-constexpr std::array<double, 6> kE6{1.0, 1.5, 2.2, 3.3, 4.7, 6.8};
-constexpr std::array<double, 12> kE12{1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2};
+// Each smaller series is every other value of the next larger one in its group (E12 of
+// E24, ..., E96 of E192), so only E24 and E192 are written out.
 constexpr std::array<double, 24> kE24{1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0,
                                       3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1};
-constexpr std::array<double, 48> kE48{
-    1.00, 1.05, 1.10, 1.15, 1.21, 1.27, 1.33, 1.40, 1.47, 1.54, 1.62, 1.69, 1.78, 1.87, 1.96, 2.05,
-    2.15, 2.26, 2.37, 2.49, 2.61, 2.74, 2.87, 3.01, 3.16, 3.32, 3.48, 3.65, 3.83, 4.02, 4.22, 4.42,
-    4.64, 4.87, 5.11, 5.36, 5.62, 5.90, 6.19, 6.49, 6.81, 7.15, 7.50, 7.87, 8.25, 8.66, 9.09, 9.53};
-constexpr std::array<double, 96> kE96{
-    1.00, 1.02, 1.05, 1.07, 1.10, 1.13, 1.15, 1.18, 1.21, 1.24, 1.27, 1.30, 1.33, 1.37, 1.40, 1.43,
-    1.47, 1.50, 1.54, 1.58, 1.62, 1.65, 1.69, 1.74, 1.78, 1.82, 1.87, 1.91, 1.96, 2.00, 2.05, 2.10,
-    2.15, 2.21, 2.26, 2.32, 2.37, 2.43, 2.49, 2.55, 2.61, 2.67, 2.74, 2.80, 2.87, 2.94, 3.01, 3.09,
-    3.16, 3.24, 3.32, 3.40, 3.48, 3.57, 3.65, 3.74, 3.83, 3.92, 4.02, 4.12, 4.22, 4.32, 4.42, 4.53,
-    4.64, 4.75, 4.87, 4.99, 5.11, 5.23, 5.36, 5.49, 5.62, 5.76, 5.90, 6.04, 6.19, 6.34, 6.49, 6.65,
-    6.81, 6.98, 7.15, 7.32, 7.50, 7.68, 7.87, 8.06, 8.25, 8.45, 8.66, 8.87, 9.09, 9.31, 9.53, 9.76};
+
+/// Every other value of `table`, from the first: the next smaller series of its group.
+template<std::size_t N>
+constexpr std::array<double, N / 2> everyOther(const std::array<double, N> &table)
+{
+    std::array<double, N / 2> half{};
+    for (std::size_t i = 0; i < N / 2; ++i)
+        half[i] = table[2 * i];
+    return half;
+}
+
 constexpr std::array<double, 192> kE192{
     1.00, 1.01, 1.02, 1.04, 1.05, 1.06, 1.07, 1.09, 1.10, 1.11, 1.13, 1.14, 1.15, 1.17, 1.18, 1.20,
     1.21, 1.23, 1.24, 1.26, 1.27, 1.29, 1.30, 1.32, 1.33, 1.35, 1.37, 1.38, 1.40, 1.42, 1.43, 1.45,
@@ -42,6 +41,11 @@ constexpr std::array<double, 192> kE192{
     5.62, 5.69, 5.76, 5.83, 5.90, 5.97, 6.04, 6.12, 6.19, 6.26, 6.34, 6.42, 6.49, 6.57, 6.65, 6.73,
     6.81, 6.90, 6.98, 7.06, 7.15, 7.23, 7.32, 7.41, 7.50, 7.59, 7.68, 7.77, 7.87, 7.96, 8.06, 8.16,
     8.25, 8.35, 8.45, 8.56, 8.66, 8.76, 8.87, 8.98, 9.09, 9.20, 9.31, 9.42, 9.53, 9.65, 9.76, 9.88};
+constexpr std::array<double, 96> kE96 = everyOther(kE192);
+constexpr std::array<double, 48> kE48 = everyOther(kE96);
+constexpr std::array<double, 12> kE12 = everyOther(kE24);
+constexpr std::array<double, 6> kE6 = everyOther(kE12);
+constexpr std::array<double, 3> kE3 = everyOther(kE6);
 
 constexpr std::array<ESeries, 7> kAllSeries{ESeries::E3,  ESeries::E6,  ESeries::E12, ESeries::E24,
                                             ESeries::E48, ESeries::E96, ESeries::E192};

@@ -10,6 +10,7 @@
 
 #include "base/utf8text.h"
 #include "design/jsondocument.h"
+#include "design/jsonreader.h"
 
 #include <charconv>
 #include <cmath>
@@ -29,78 +30,21 @@ using detail::shownId;
 using detail::shownKey;
 using detail::utf8Length;
 
-// " in sweep", " at the top level", or nothing inside a part (the part is named already).
-std::string placeOf(const std::string &part, const std::string &where)
+// A file over the size limit: `bytes` long.
+Diagnostic tooLarge(const std::string &file, std::uintmax_t bytes)
 {
-    if (!where.empty())
-        return " in " + where;
-    return part.empty() ? " at the top level" : "";
+    return Diagnostic{file, "", "",
+                      "the file is " + std::to_string(bytes)
+                          + " bytes; design files are limited to "
+                          + std::to_string(kMaxDesignFileBytes) + " bytes (16 MiB)"};
 }
 
 // DOM pass: keys, types and values into a Design.
-class Reader
+
+class Reader : public detail::JsonReader
 {
 public:
-    explicit Reader(std::string_view file) : m_file(file) { }
-
-    Diagnostics take() { return std::move(m_diagnostics); }
-    bool failed() const { return !m_diagnostics.empty(); }
-
-    void error(std::string part, std::string field, std::string message)
-    {
-        m_diagnostics.push_back({m_file, std::move(part), std::move(field), std::move(message)});
-    }
-
-    void typeError(const std::string &part, const std::string &field, const Json &j,
-                   std::string_view expected)
-    {
-        std::string found = j.type_name();
-        if (j.is_number() || j.is_boolean())
-            found += " " + j.dump();
-        error(part, field, "expected " + std::string(expected) + ", found " + found);
-    }
-
-    // Reports the keys of `obj` not in `allowed` in one message: the first kUnknownKeysNamed
-    // of them by name, then their count. `where` names the object for keys outside a part
-    // ("sweep", "specs" ...).
-    void checkKeys(const Json &obj, std::initializer_list<std::string_view> allowed,
-                   const std::string &part, const std::string &where,
-                   const std::vector<std::string_view> &more = {})
-    {
-        std::size_t unknown = 0;
-        std::string named;
-        for (auto it = obj.begin(); it != obj.end(); ++it) {
-            const std::string &k = it.key();
-            bool known = false;
-            for (std::string_view a : allowed)
-                known = known || a == k;
-            for (std::string_view a : more)
-                known = known || a == k;
-            if (known)
-                continue;
-            if (++unknown <= kUnknownKeysNamed)
-                named += (named.empty() ? "" : ", ") + inQuotes(shownKey(k));
-        }
-        if (unknown == 1) {
-            error(part, where, "unknown key " + named + placeOf(part, where));
-        } else if (unknown > 1) {
-            error(part, where,
-                  std::to_string(unknown) + " unknown keys" + placeOf(part, where) + ": " + named
-                      + (unknown > kUnknownKeysNamed
-                             ? " and " + std::to_string(unknown - kUnknownKeysNamed) + " more"
-                             : std::string()));
-        }
-    }
-
-    std::optional<std::string> readString(const Json &j, const std::string &part,
-                                          const std::string &field)
-    {
-        if (!j.is_string()) {
-            typeError(part, field, j, "a string");
-            return std::nullopt;
-        }
-        return j.get<std::string>();
-    }
+    using JsonReader::JsonReader;
 
     std::optional<Value> readValue(const Json &j, ValueKind kind, const std::string &part,
                                    const std::string &field)
@@ -243,11 +187,8 @@ public:
 
     void readSweep(const Json &j, Sweep &sweep)
     {
-        if (!j.is_object()) {
-            typeError("", "sweep", j, "an object");
+        if (!isObjectWithKeys(j, {"start", "stop", "points_per_decade"}, "", "sweep"))
             return;
-        }
-        checkKeys(j, {"start", "stop", "points_per_decade"}, "", "sweep");
         if (auto it = j.find("start"); it != j.end()) {
             if (auto v = readValue(*it, ValueKind::Frequency, "", "sweep.start"))
                 sweep.start = *v;
@@ -304,13 +245,8 @@ public:
     // [f1, f2]: two frequencies.
     std::optional<NoiseBand> readNoiseBand(const Json &j)
     {
-        if (!j.is_array() || j.size() != 2) {
-            error("", "noise_band",
-                  std::string("expected a [low, high] pair of frequencies, found ")
-                      + (j.is_array() ? "a list of " + std::to_string(j.size())
-                                      : std::string(j.type_name())));
+        if (!isPair(j, "noise_band", "[low, high] pair of frequencies"))
             return std::nullopt;
-        }
         auto low = readValue(j[0], ValueKind::Frequency, "", "noise_band");
         auto high = readValue(j[1], ValueKind::Frequency, "", "noise_band");
         if (!low || !high)
@@ -320,20 +256,13 @@ public:
 
     void readSpecs(const Json &j, Specs &specs)
     {
-        if (!j.is_object()) {
-            typeError("", "specs", j, "an object");
+        if (!isObjectWithKeys(
+                j,
+                {"gain", "bandwidth_min", "phase_margin_min_deg", "output_noise_max", "snr_min_db"},
+                "", "specs"))
             return;
-        }
-        checkKeys(
-            j, {"gain", "bandwidth_min", "phase_margin_min_deg", "output_noise_max", "snr_min_db"},
-            "", "specs");
         if (auto it = j.find("gain"); it != j.end()) {
-            if (!it->is_array() || it->size() != 2) {
-                error("", "specs.gain",
-                      std::string("expected a [min, max] pair of gains, found ")
-                          + (it->is_array() ? "a list of " + std::to_string(it->size())
-                                            : std::string(it->type_name())));
-            } else {
+            if (isPair(*it, "specs.gain", "[min, max] pair of gains")) {
                 // null leaves that side of the window open
                 if (!(*it)[0].is_null())
                     specs.gainMin = readValue((*it)[0], ValueKind::Gain, "", "specs.gain");
@@ -397,11 +326,8 @@ public:
         for (std::size_t i = 0; i < j.size(); ++i) {
             const Json &c = j[i];
             const std::string where = "candidates[" + std::to_string(i) + "]";
-            if (!c.is_object()) {
-                typeError("", where, c, "a candidate object");
+            if (!isObjectWithKeys(c, {"name", "values"}, "", where, "a candidate object"))
                 continue;
-            }
-            checkKeys(c, {"name", "values"}, "", where);
             Candidate cand;
             if (auto it = c.find("name"); it == c.end())
                 error("", where + ".name", "candidate has no name");
@@ -445,11 +371,8 @@ public:
 
     void readSketch(const Json &j, SketchLayout &sketch)
     {
-        if (!j.is_object()) {
-            typeError("", "sketch", j, "an object");
+        if (!isObjectWithKeys(j, {"parts", "wires", "grounds"}, "", "sketch"))
             return;
-        }
-        checkKeys(j, {"parts", "wires", "grounds"}, "", "sketch");
         if (auto parts = j.find("parts"); parts != j.end()) {
             if (!parts->is_object()) {
                 typeError("", "sketch.parts", *parts, "an object of part id: placement");
@@ -457,11 +380,9 @@ public:
                 for (auto it = parts->begin(); it != parts->end(); ++it) {
                     const std::string &id = it.key();
                     const Json &p = it.value();
-                    if (!p.is_object()) {
-                        typeError(id, "sketch", p, "a placement {x, y, rotation}");
+                    if (!isObjectWithKeys(p, {"x", "y", "rotation", "mirror"}, id, "sketch",
+                                          "a placement {x, y, rotation}"))
                         continue;
-                    }
-                    checkKeys(p, {"x", "y", "rotation", "mirror"}, id, "sketch");
                     SketchPlacement placement;
                     for (auto [key, target] :
                          {std::pair{"x", &placement.x}, std::pair{"y", &placement.y}}) {
@@ -491,51 +412,37 @@ public:
                 }
             }
         }
-        if (auto wires = j.find("wires"); wires != j.end()) {
-            if (!wires->is_array()) {
-                typeError("", "sketch.wires", *wires, "a list of wires");
-                return;
-            }
-            for (std::size_t i = 0; i < wires->size(); ++i) {
-                const Json &w = (*wires)[i];
+        const bool wiresRead = readList(
+            j, "wires", "sketch.wires", "a list of wires", [&](std::size_t i, const Json &w) {
                 const std::string where = "sketch.wires[" + std::to_string(i) + "]";
-                if (!w.is_object()) {
-                    typeError("", where, w, "a wire {points}");
-                    continue;
-                }
-                checkKeys(w, {"points"}, "", where);
+                if (!isObjectWithKeys(w, {"points"}, "", where, "a wire {points}"))
+                    return;
                 SketchWire wire;
                 auto pts = w.find("points");
                 if (pts == w.end() || !pts->is_array()) {
                     error("", where + ".points", "expected a list of [x, y] points");
-                    continue;
+                    return;
                 }
                 for (const Json &pt : *pts) {
-                    if (!pt.is_array() || pt.size() != 2 || !pt[0].is_number()
-                        || !pt[1].is_number()) {
+                    if (!isPoint(pt)) {
                         error("", where + ".points", "expected a list of [x, y] points");
                         break;
                     }
                     wire.points.emplace_back(pt[0].get<double>(), pt[1].get<double>());
                 }
                 sketch.wires.push_back(std::move(wire));
-            }
-        }
-        if (auto grounds = j.find("grounds"); grounds != j.end()) {
-            if (!grounds->is_array()) {
-                typeError("", "sketch.grounds", *grounds, "a list of [x, y] points");
-                return;
-            }
-            for (std::size_t i = 0; i < grounds->size(); ++i) {
-                const Json &pt = (*grounds)[i];
-                if (!pt.is_array() || pt.size() != 2 || !pt[0].is_number() || !pt[1].is_number()) {
-                    error("", "sketch.grounds[" + std::to_string(i) + "]",
-                          "expected an [x, y] point");
-                    continue;
-                }
-                sketch.grounds.push_back({pt[0].get<double>(), pt[1].get<double>()});
-            }
-        }
+            });
+        if (!wiresRead)
+            return;
+        readList(j, "grounds", "sketch.grounds", "a list of [x, y] points",
+                 [&](std::size_t i, const Json &pt) {
+                     if (!isPoint(pt)) {
+                         error("", "sketch.grounds[" + std::to_string(i) + "]",
+                               "expected an [x, y] point");
+                         return;
+                     }
+                     sketch.grounds.push_back({pt[0].get<double>(), pt[1].get<double>()});
+                 });
     }
 
     std::optional<Design> readDesign(const Json &root)
@@ -625,10 +532,6 @@ public:
         }
         return d;
     }
-
-private:
-    std::string m_file;
-    Diagnostics m_diagnostics;
 };
 
 } // namespace
@@ -641,12 +544,8 @@ Result<Design> parseDesign(std::string_view text, std::string_view file)
 Result<Design> parseDesign(std::string_view text, DesignRules rules, std::string_view file)
 {
     const std::string fileName(file);
-    if (text.size() > kMaxDesignFileBytes) {
-        return Diagnostic{fileName, "", "",
-                          "the file is " + std::to_string(text.size())
-                              + " bytes; design files are limited to "
-                              + std::to_string(kMaxDesignFileBytes) + " bytes (16 MiB)"};
-    }
+    if (text.size() > kMaxDesignFileBytes)
+        return tooLarge(fileName, text.size());
     Json root;
     if (Diagnostics problems = detail::parseJsonDocument(text, file, root); !problems.empty())
         return problems;
@@ -677,12 +576,8 @@ Result<Design> loadDesign(const std::string &path, DesignRules rules)
     if (fs::is_directory(status))
         return Diagnostic{path, "", "", "cannot open the file: it is a directory"};
     const std::uintmax_t size = fs::file_size(path, ec);
-    if (!ec && size > kMaxDesignFileBytes) {
-        return Diagnostic{path, "", "",
-                          "the file is " + std::to_string(size)
-                              + " bytes; design files are limited to "
-                              + std::to_string(kMaxDesignFileBytes) + " bytes (16 MiB)"};
-    }
+    if (!ec && size > kMaxDesignFileBytes)
+        return tooLarge(path, size);
     std::ifstream in(path, std::ios::binary);
     if (!in)
         return Diagnostic{path, "", "", "cannot open the file for reading"};

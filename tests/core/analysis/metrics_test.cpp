@@ -51,12 +51,22 @@ template<typename F> double bisect(F fn, double lo, double hi)
     return std::sqrt(lo * hi);
 }
 
-} // namespace
-
 // A conditionally stable loop, constructed: three low poles (10, 20, 50 Hz) whose lag two
 // zeros (200, 500 Hz) take back before the crossover near 49 kHz, and two high poles
 // (200 kHz, 1 MHz). The phase passes -180 deg three times: twice below the crossover
 // (|T| > 1 there: the gain may fall that far) and once above it.
+Follower conditionallyStableFollower()
+{
+    Follower f;
+    f.gain = 5e5;
+    f.polesHz = {10.0, 20.0, 50.0, 200e3, 1e6};
+    f.zerosHz = {200.0, 500.0};
+    return f;
+}
+
+} // namespace
+
+// The conditionally stable loop (conditionallyStableFollower()) reports every gain margin.
 // Checked against the definition of gain margin (Ogata, Modern Control Engineering,
 // frequency-response chapter, from memory): GM = -20 log10 |T(j w180)| at each frequency
 // where arg T = -180 deg, those frequencies found here by bisection on the rational
@@ -64,10 +74,7 @@ template<typename F> double bisect(F fn, double lo, double hi)
 // puts a closed-loop pole on the imaginary axis at j w180.
 TEST(GainMargins, ConditionallyStableLoopReportsEveryGainMargin)
 {
-    Follower f;
-    f.gain = 5e5;
-    f.polesHz = {10.0, 20.0, 50.0, 200e3, 1e6};
-    f.zerosHz = {200.0, 500.0};
+    const Follower f = conditionallyStableFollower();
     const Analysis a = analyzeOrFail(f.design());
     EXPECT_TRUE(a.stable) << a.closedLoopReason;
     EXPECT_EQ(a.rhpPoles, 0);
@@ -126,10 +133,7 @@ TEST(GainMargins, ConditionallyStableLoopReportsEveryGainMargin)
 // chapter, from memory) applied to the table give the reported margins back.
 TEST(GainMargins, LoopGainTableRecomputesTheMargins)
 {
-    Follower f;
-    f.gain = 5e5;
-    f.polesHz = {10.0, 20.0, 50.0, 200e3, 1e6};
-    f.zerosHz = {200.0, 500.0};
+    const Follower f = conditionallyStableFollower();
     const Analysis a = analyzeOrFail(f.design());
     const std::vector<LoopGainSample> &table = a.margins.nearCrossover;
     ASSERT_EQ(table.size(), 5u + a.margins.gainMargins.size());

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <fstream>
 #include <map>
+#include <ostream>
 #include <set>
 #include <sstream>
 #include <string>
@@ -255,74 +256,105 @@ TEST(ESeries, NamesRoundTrip)
     EXPECT_FALSE(parseESeries("F24").has_value());
 }
 
-// rob-smallshire/eseries README (reference-values.md §1.3): find_nearest(E24, 319) = 330.
-TEST(ESeries, NearestFromEseriesReadme)
+// Single look-ups: the series, the value looked up, the steps for stepValue, and the value
+// each must give, with where that value comes from.
+struct Lookup
 {
-    expectRelativeNear(nearestValue(ESeries::E24, 319.0), 330.0, kTight);
+    enum class Rule { Nearest, Next, Previous, Step };
+    const char *source;
+    Rule rule;
+    ESeries series;
+    double x;
+    double expected;
+    int steps = 0;
+};
+
+using Rule = Lookup::Rule;
+
+void PrintTo(const Lookup &l, std::ostream *os)
+{
+    *os << l.source << " (" << toString(l.series) << ", " << l.x << ")";
 }
 
-// rob-smallshire/eseries README: find_greater_than_or_equal(E96, 184) = 187.
-TEST(ESeries, SmallestE96AtLeast184Is187)
+// Sources: the rob-smallshire/eseries README (reference-values.md §1.3: find_nearest,
+// find_greater_than_or_equal, find_nearest_few); IEC 60063 (the tables repeat every decade);
+// our documented rules (nearest by logarithmic distance, since common practice has no
+// standard definition and linear distance would give 1.0 k for E12 1097; a tie at the
+// geometric mean goes to the larger; a value between entries steps to its neighbours; a step
+// snaps to the nearest value first).
+const Lookup kLookups[] = {
+    {"eseries README: find_nearest(E24, 319) = 330", Rule::Nearest, ESeries::E24, 319.0, 330.0},
+    {"eseries README: find_greater_than_or_equal(E96, 184) = 187", Rule::Next, ESeries::E96, 184.0,
+     187.0},
+    {"eseries README: find_nearest_few(E24, 5000), below", Rule::Previous, ESeries::E24, 5000.0,
+     4700.0},
+    {"eseries README: find_nearest_few(E24, 5000), above", Rule::Next, ESeries::E24, 5000.0,
+     5100.0},
+    {"eseries README: find_nearest_few(E24, 5000), the one after", Rule::Next, ESeries::E24, 5100.0,
+     5600.0},
+    {"eseries README: find_nearest_few(E24, 5000), nearest", Rule::Nearest, ESeries::E24, 5000.0,
+     5100.0},
+    {"rule: logarithmic distance, above", Rule::Nearest, ESeries::E12, 1097.0, 1200.0},
+    {"rule: logarithmic distance, below", Rule::Nearest, ESeries::E12, 1094.0, 1000.0},
+    {"rule: a tie goes to the larger", Rule::Nearest, ESeries::E12, std::sqrt(1000.0 * 1200.0),
+     1200.0},
+    {"rule: just under the tie", Rule::Nearest, ESeries::E12,
+     std::sqrt(1000.0 * 1200.0) * (1.0 - 1e-9), 1000.0},
+    {"IEC 60063: E12 8.2 is followed by 10", Rule::Next, ESeries::E12, 8200.0, 10000.0},
+    {"IEC 60063: E12 1.0 is preceded by 0.82", Rule::Previous, ESeries::E12, 1000.0, 820.0},
+    {"IEC 60063: E24 9.1 is followed by 10", Rule::Next, ESeries::E24, 9.1e-12, 10e-12},
+    {"IEC 60063: E192 1.00 is preceded by 9.88", Rule::Previous, ESeries::E192, 1e6, 988e3},
+    {"IEC 60063: E12 nearest across a decade, up", Rule::Nearest, ESeries::E12, 9.5, 10.0},
+    {"IEC 60063: E12 nearest across a decade, down", Rule::Nearest, ESeries::E12, 0.00088, 0.00082},
+    {"rule: between entries, next", Rule::Next, ESeries::E12, 4800.0, 5600.0},
+    {"rule: between entries, previous", Rule::Previous, ESeries::E12, 4800.0, 4700.0},
+    {"rule: just above a member, next is the following one", Rule::Next, ESeries::E12, 4700.001,
+     5600.0},
+    {"rule: just above a member, previous is the member", Rule::Previous, ESeries::E12, 4700.001,
+     4700.0},
+    {"rule: a step snaps to 4.7 k first, up", Rule::Step, ESeries::E24, 4650.0, 5100.0, 1},
+    {"rule: a step snaps to 4.7 k first, down", Rule::Step, ESeries::E24, 4650.0, 4300.0, -1},
+    {"rule: no step only snaps", Rule::Step, ESeries::E24, 4650.0, 4700.0, 0},
+    {"rule: twelve E12 steps are a decade", Rule::Step, ESeries::E12, 1000.0, 10000.0, 12},
+    {"rule: thirteen E12 steps down cross a decade", Rule::Step, ESeries::E12, 1000.0, 82.0, -13},
+    {"rule: three E3 steps are a decade", Rule::Step, ESeries::E3, 2.2e-12, 22e-12, 3},
+};
+
+class ESeriesLookup : public testing::TestWithParam<Lookup>
 {
-    expectRelativeNear(nextValue(ESeries::E96, 184.0), 187.0, kTight);
+};
+
+TEST_P(ESeriesLookup, GivesTheExpectedValue)
+{
+    const Lookup &l = GetParam();
+    double found = 0;
+    switch (l.rule) {
+    case Rule::Nearest:
+        found = nearestValue(l.series, l.x);
+        break;
+    case Rule::Next:
+        found = nextValue(l.series, l.x);
+        break;
+    case Rule::Previous:
+        found = previousValue(l.series, l.x);
+        break;
+    case Rule::Step:
+        found = stepValue(l.series, l.x, l.steps);
+        break;
+    }
+    SCOPED_TRACE(l.source);
+    expectRelativeNear(found, l.expected, kTight);
+}
+
+INSTANTIATE_TEST_SUITE_P(Rules, ESeriesLookup, testing::ValuesIn(kLookups));
+
+// rob-smallshire/eseries README: find_greater_than_or_equal(E96, 184) = 187, as the first
+// value of a range too.
+TEST(ESeries, RangeFrom184InE96StartsAt187)
+{
     const std::vector<double> values = valuesInRange(ESeries::E96, 184.0, 200.0);
     ASSERT_FALSE(values.empty());
     expectRelativeNear(values.front(), 187.0, kTight);
-}
-
-// rob-smallshire/eseries README: find_nearest_few(E24, 5000) = (4700, 5100, 5600).
-TEST(ESeries, NeighboursOf5000InE24)
-{
-    expectRelativeNear(previousValue(ESeries::E24, 5000.0), 4700.0, kTight);
-    expectRelativeNear(nextValue(ESeries::E24, 5000.0), 5100.0, kTight);
-    expectRelativeNear(nextValue(ESeries::E24, 5100.0), 5600.0, kTight);
-    expectRelativeNear(nearestValue(ESeries::E24, 5000.0), 5100.0, kTight);
-}
-
-// Our documented rule (logarithmic distance); common practice has no standard definition
-// (reference-values.md §1.3: linear distance would give 1.0 k for E12, 1097).
-TEST(ESeries, NearestUsesLogarithmicDistance)
-{
-    expectRelativeNear(nearestValue(ESeries::E12, 1097.0), 1200.0, kTight);
-    expectRelativeNear(nearestValue(ESeries::E12, 1094.0), 1000.0, kTight);
-}
-
-// Our documented rule: at the geometric mean of two neighbours the larger one wins.
-TEST(ESeries, NearestTieGoesToLarger)
-{
-    const double mean = std::sqrt(1000.0 * 1200.0);
-    expectRelativeNear(nearestValue(ESeries::E12, mean), 1200.0, kTight);
-    expectRelativeNear(nearestValue(ESeries::E12, mean * (1.0 - 1e-9)), 1000.0, kTight);
-}
-
-// IEC 60063 tables repeat every decade: E12 8.2 is followed by 10, 1.0 preceded by 0.82.
-TEST(ESeries, NextAndPreviousCrossDecades)
-{
-    expectRelativeNear(nextValue(ESeries::E12, 8200.0), 10000.0, kTight);
-    expectRelativeNear(previousValue(ESeries::E12, 1000.0), 820.0, kTight);
-    expectRelativeNear(nextValue(ESeries::E24, 9.1e-12), 10e-12, kTight);
-    expectRelativeNear(previousValue(ESeries::E192, 1e6), 988e3, kTight);
-    expectRelativeNear(nearestValue(ESeries::E12, 9.5), 10.0, kTight);
-    expectRelativeNear(nearestValue(ESeries::E12, 0.00088), 0.00082, kTight);
-}
-
-TEST(ESeries, ValueBetweenEntriesStepsToNeighbours)
-{
-    expectRelativeNear(nextValue(ESeries::E12, 4800.0), 5600.0, kTight);
-    expectRelativeNear(previousValue(ESeries::E12, 4800.0), 4700.0, kTight);
-    // Just above a member: next is the following member, previous the member itself.
-    expectRelativeNear(nextValue(ESeries::E12, 4700.001), 5600.0, kTight);
-    expectRelativeNear(previousValue(ESeries::E12, 4700.001), 4700.0, kTight);
-}
-
-TEST(ESeries, StepSnapsFirstThenSteps)
-{
-    expectRelativeNear(stepValue(ESeries::E24, 4650.0, 1), 5100.0, kTight); // snaps to 4.7 k
-    expectRelativeNear(stepValue(ESeries::E24, 4650.0, -1), 4300.0, kTight);
-    expectRelativeNear(stepValue(ESeries::E24, 4650.0, 0), 4700.0, kTight);
-    expectRelativeNear(stepValue(ESeries::E12, 1000.0, 12), 10000.0, kTight);
-    expectRelativeNear(stepValue(ESeries::E12, 1000.0, -13), 82.0, kTight);
-    expectRelativeNear(stepValue(ESeries::E3, 2.2e-12, 3), 22e-12, kTight);
 }
 
 TEST(ESeries, ValuesInRangeIsInclusiveWithRelativeTolerance)

@@ -103,29 +103,69 @@ INSTANTIATE_TEST_SUITE_P(
 
 // ---- Engineering notation, units, prefixes ---------------------------------------------
 
-TEST(Value, ParsesEngineeringNotation)
+struct ParseCase
 {
-    // SI prefixes (BIPM SI Brochure, from memory): f 1e-15 ... T 1e12.
-    expectRelativeNear(parsed("10k", ValueKind::Resistance), 10e3, kTight);
-    expectRelativeNear(parsed("2.2p", ValueKind::Capacitance), 2.2e-12, kTight);
-    expectRelativeNear(parsed("1f", ValueKind::Capacitance), 1e-15, kTight);
-    expectRelativeNear(parsed("3n", ValueKind::Capacitance), 3e-9, kTight);
-    expectRelativeNear(parsed("1m", ValueKind::Inductance), 1e-3, kTight);
-    expectRelativeNear(parsed("1M", ValueKind::Resistance), 1e6, kTight);
-    expectRelativeNear(parsed("1G", ValueKind::Frequency), 1e9, kTight);
-    expectRelativeNear(parsed("1T", ValueKind::Plain), 1e12, kTight);
-    expectRelativeNear(parsed("4.7K", ValueKind::Resistance), 4.7e3, kTight);
-    expectRelativeNear(parsed("1e3", ValueKind::Resistance), 1e3, kTight);
-    expectRelativeNear(parsed("2.2e-12", ValueKind::Capacitance), 2.2e-12, kTight);
-    expectRelativeNear(parsed("1E+3", ValueKind::Resistance), 1e3, kTight);
-    expectRelativeNear(parsed("1.5e3k", ValueKind::Resistance), 1.5e6, kTight);
-    expectRelativeNear(parsed(".5", ValueKind::Plain), 0.5, kTight);
-    expectRelativeNear(parsed("5.", ValueKind::Plain), 5.0, kTight);
-    expectRelativeNear(parsed("+220k", ValueKind::Resistance), 220e3, kTight);
-    expectRelativeNear(parsed("-230k", ValueKind::Gain, ValueRange::Any), -230e3, kTight);
-    expectRelativeNear(parsed("-4k7", ValueKind::Gain, ValueRange::Any), -4.7e3, kTight);
-    expectRelativeNear(parsed("  47k  ", ValueKind::Resistance), 47e3, kTight);
+    const char *text;
+    double value;
+    ValueKind kind;
+    ValueRange range = ValueRange::Positive;
+};
+
+void PrintTo(const ParseCase &c, std::ostream *os)
+{
+    *os << '"' << c.text << '"';
 }
+
+class ValueText : public testing::TestWithParam<ParseCase>
+{
+};
+
+TEST_P(ValueText, ParsesToValue)
+{
+    const ParseCase &c = GetParam();
+    expectRelativeNear(parsed(c.text, c.kind, c.range), c.value, kTight);
+}
+
+INSTANTIATE_TEST_SUITE_P(
+    EngineeringNotationAndUnits, ValueText,
+    testing::Values(
+        // SI prefixes (BIPM SI Brochure, from memory): f 1e-15 ... T 1e12; engineering and
+        // plain notation, signs and surrounding space (common practice)
+        ParseCase{"10k", 10e3, ValueKind::Resistance},
+        ParseCase{"2.2p", 2.2e-12, ValueKind::Capacitance},
+        ParseCase{"1f", 1e-15, ValueKind::Capacitance},
+        ParseCase{"3n", 3e-9, ValueKind::Capacitance}, ParseCase{"1m", 1e-3, ValueKind::Inductance},
+        ParseCase{"1M", 1e6, ValueKind::Resistance}, ParseCase{"1G", 1e9, ValueKind::Frequency},
+        ParseCase{"1T", 1e12, ValueKind::Plain}, ParseCase{"4.7K", 4.7e3, ValueKind::Resistance},
+        ParseCase{"1e3", 1e3, ValueKind::Resistance},
+        ParseCase{"2.2e-12", 2.2e-12, ValueKind::Capacitance},
+        ParseCase{"1E+3", 1e3, ValueKind::Resistance},
+        ParseCase{"1.5e3k", 1.5e6, ValueKind::Resistance}, ParseCase{".5", 0.5, ValueKind::Plain},
+        ParseCase{"5.", 5.0, ValueKind::Plain}, ParseCase{"+220k", 220e3, ValueKind::Resistance},
+        ParseCase{"-230k", -230e3, ValueKind::Gain, ValueRange::Any},
+        ParseCase{"-4k7", -4.7e3, ValueKind::Gain, ValueRange::Any},
+        ParseCase{"  47k  ", 47e3, ValueKind::Resistance},
+        // a space between number, prefix and unit (common practice)
+        ParseCase{"10 k\u03A9", 10e3, ValueKind::Resistance},
+        ParseCase{"10 k \u03A9", 10e3, ValueKind::Resistance},
+        ParseCase{"1.5 MHz", 1.5e6, ValueKind::Frequency},
+        ParseCase{"4.7 \u00B5F", 4.7e-6, ValueKind::Capacitance},
+        ParseCase{"100 Hz", 100.0, ValueKind::Frequency},
+        ParseCase{"-220k V/V", -220e3, ValueKind::Gain, ValueRange::Any},
+        // the unit symbols of each kind (SI Brochure, from memory; Ω as Greek Omega U+03A9 and as
+        // OHM SIGN U+2126, ohm spelt out, R as in RKM)
+        ParseCase{"10k\u03A9", 10e3, ValueKind::Resistance},
+        ParseCase{"10k\u2126", 10e3, ValueKind::Resistance},
+        ParseCase{"10kohm", 10e3, ValueKind::Resistance},
+        ParseCase{"10 kohms", 10e3, ValueKind::Resistance},
+        ParseCase{"10 Ohm", 10.0, ValueKind::Resistance},
+        ParseCase{"100R", 100.0, ValueKind::Resistance},
+        ParseCase{"1.5pF", 1.5e-12, ValueKind::Capacitance},
+        ParseCase{"1 F", 1.0, ValueKind::Capacitance},
+        ParseCase{"10mH", 10e-3, ValueKind::Inductance},
+        ParseCase{"30MHz", 30e6, ValueKind::Frequency},
+        ParseCase{"1kHz", 1e3, ValueKind::Frequency}, ParseCase{"100V/V", 100.0, ValueKind::Gain},
+        ParseCase{"4.7k\u03A9", 4.7e3, ValueKind::Resistance}));
 
 TEST(Value, KeepsDecimalValuesExact)
 {
@@ -135,32 +175,8 @@ TEST(Value, KeepsDecimalValuesExact)
     EXPECT_DOUBLE_EQ(parsed("1%", ValueKind::Tolerance), 0.01);
 }
 
-TEST(Value, AcceptsSpaceBetweenNumberPrefixAndUnit)
+TEST(Value, UnitBelongsToItsKindOnly)
 {
-    expectRelativeNear(parsed("10 k\u03A9", ValueKind::Resistance), 10e3, kTight);
-    expectRelativeNear(parsed("10 k \u03A9", ValueKind::Resistance), 10e3, kTight);
-    expectRelativeNear(parsed("1.5 MHz", ValueKind::Frequency), 1.5e6, kTight);
-    expectRelativeNear(parsed("4.7 \u00B5F", ValueKind::Capacitance), 4.7e-6, kTight);
-    expectRelativeNear(parsed("100 Hz", ValueKind::Frequency), 100.0, kTight);
-    expectRelativeNear(parsed("-220k V/V", ValueKind::Gain, ValueRange::Any), -220e3, kTight);
-}
-
-TEST(Value, AcceptsUnitSymbolsOfEachKind)
-{
-    expectRelativeNear(parsed("10k\u03A9", ValueKind::Resistance), 10e3, kTight); // Greek Omega
-    expectRelativeNear(parsed("10k\u2126", ValueKind::Resistance), 10e3, kTight); // OHM SIGN
-    expectRelativeNear(parsed("10kohm", ValueKind::Resistance), 10e3, kTight);
-    expectRelativeNear(parsed("10 kohms", ValueKind::Resistance), 10e3, kTight);
-    expectRelativeNear(parsed("10 Ohm", ValueKind::Resistance), 10.0, kTight);
-    expectRelativeNear(parsed("100R", ValueKind::Resistance), 100.0, kTight);
-    expectRelativeNear(parsed("1.5pF", ValueKind::Capacitance), 1.5e-12, kTight);
-    expectRelativeNear(parsed("1 F", ValueKind::Capacitance), 1.0, kTight);
-    expectRelativeNear(parsed("10mH", ValueKind::Inductance), 10e-3, kTight);
-    expectRelativeNear(parsed("30MHz", ValueKind::Frequency), 30e6, kTight);
-    expectRelativeNear(parsed("1kHz", ValueKind::Frequency), 1e3, kTight);
-    expectRelativeNear(parsed("100V/V", ValueKind::Gain), 100.0, kTight);
-    expectRelativeNear(parsed("4.7k\u03A9", ValueKind::Resistance), 4.7e3, kTight);
-
     // A unit belongs to its kind only.
     EXPECT_THAT(errorOf("1F", ValueKind::Resistance), HasSubstr("unexpected text \"F\""));
     EXPECT_THAT(errorOf("1Hz", ValueKind::Capacitance), HasSubstr("unexpected text \"Hz\""));

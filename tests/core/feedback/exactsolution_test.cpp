@@ -59,6 +59,12 @@ double cramer3(const Matrix3 &m, const Vector3 &b, int k)
     return det3(mk) / det3(m);
 }
 
+/// A stage's closed-loop gain, z_in and z_out at DC.
+struct DcValues
+{
+    double gain, zIn, zOut;
+};
+
 /// The voltage-source stages below written as three node equations in (v1, v2, v3).
 struct Nodal3
 {
@@ -70,6 +76,7 @@ struct Nodal3
     double gain() const { return cramer3(active, rhs, 2); } ///< v3 with the source at 1 V
     double zIn() const { return cramer3(sourceRemoved, {1, 0, 0}, 0); } ///< v1 per 1 A into 1
     double zOut() const { return cramer3(loadRemoved, {0, 0, 1}, 2); } ///< v3 per 1 A into 3
+    DcValues dc() const { return {gain(), zIn(), zOut()}; }
 };
 
 /// The three-node system of a stage driven at node 1 from 1 V behind `rs`: `active` its
@@ -107,6 +114,22 @@ void printMeasured(const std::string &what, double value, double expected)
               << expected << ", rel err " << relErr(value, expected) << "\n";
 }
 
+/// Checks the exact DC gain, z_in and z_out of `an` against `expected` within 1e-9 relative
+/// and prints each beside its closed form (`what` names the circuit).
+void expectExactDc(const Analysis &an, const DcValues &expected, const std::string &what)
+{
+    ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut) << what;
+    const std::pair<const char *, std::pair<double, double>> figures[]
+        = {{"gain", {*an.exact.gain, expected.gain}},
+           {"z_in", {*an.exact.zIn, expected.zIn}},
+           {"z_out", {*an.exact.zOut, expected.zOut}}};
+    for (const auto &[name, values] : figures) {
+        EXPECT_LT(relErr(values.first, values.second), 1e-9)
+            << what << " " << name << ": " << values.first << " vs " << values.second;
+        printMeasured(what + " " + name, values.first, values.second);
+    }
+}
+
 std::string gainBlock(const std::string &inP, const std::string &inN, const std::string &extra)
 {
     return R"({"id": "U1", "type": "gain_block", "in_p": ")" + inP + R"(", "in_n": ")" + inN
@@ -123,6 +146,27 @@ std::string designJson(const std::vector<std::string> &parts, const std::string 
     return j;
 }
 
+/// A stage driven by the voltage source VS at "in" (behind `rs` when it is positive): VS, the
+/// gain block U1 from `inP`, `inN` with gain `a` (`rin` where finite, `rout` where positive),
+/// the `network` and the load RL from "out" to ground, as design file text.
+std::string voltageDrivenStage(double rs, const std::string &inP, const std::string &inN, double a,
+                               double rin, double rout, const std::vector<std::string> &network,
+                               double rl)
+{
+    std::string vs = R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0")";
+    if (rs > 0)
+        vs += R"(, "r_series": )" + jsonNumber(rs);
+    std::string gb = R"("gain": )" + jsonNumber(a);
+    if (std::isfinite(rin))
+        gb += R"(, "r_in": )" + jsonNumber(rin);
+    if (rout > 0)
+        gb += R"(, "r_out": )" + jsonNumber(rout);
+    std::vector<std::string> parts{vs + "}", gainBlock(inP, inN, gb)};
+    parts.insert(parts.end(), network.begin(), network.end());
+    parts.push_back(twoTerminal("RL", "load", "out", "0", rl));
+    return designJson(parts, "VS");
+}
+
 // ----- inverting stage --------------------------------------------------------------------
 
 struct InvertingStage
@@ -131,16 +175,10 @@ struct InvertingStage
 
     std::string json() const
     {
-        return designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0", )"
-                           R"("r_series": )"
-                               + jsonNumber(rs) + "}",
-                           gainBlock("0", "n",
-                                     R"("gain": )" + jsonNumber(a) + R"(, "r_in": )"
-                                         + jsonNumber(rin) + R"(, "r_out": )" + jsonNumber(rout)),
-                           twoTerminal("R1", "resistor", "in", "n", r1),
-                           twoTerminal("R2", "resistor", "n", "out", r2),
-                           twoTerminal("RL", "load", "out", "0", rl)},
-                          "VS");
+        return voltageDrivenStage(rs, "0", "n", a, rin, rout,
+                                  {twoTerminal("R1", "resistor", "in", "n", r1),
+                                   twoTerminal("R2", "resistor", "n", "out", r2)},
+                                  rl);
     }
 
     // Nodal analysis (textbook KCL), unknowns (v_in, v_n, v_o), e = -a v_n behind r_out:
@@ -154,9 +192,7 @@ struct InvertingStage
                                {0, -1 / r2 + a / rout, 1 / r2 + 1 / rout + 1 / rl}}},
                              rs, 1 / r1, 1 / r2 + 1 / rout);
     }
-    double gain() const { return nodal().gain(); }
-    double zIn() const { return nodal().zIn(); }
-    double zOut() const { return nodal().zOut(); }
+    DcValues dc() const { return nodal().dc(); }
 };
 
 // Closed form by nodal analysis of the three nodes (in, n, out), solved by Cramer's rule;
@@ -165,21 +201,15 @@ TEST(ExactSolution, InvertingStageWithFiniteGainRinRout)
 {
     const InvertingStage st{600, 10e3, 100e3, 1e6, 100, 2e3, 1e4};
     const Analysis a = analyzeOrFail(parseOrFail(st.json()));
-    ASSERT_TRUE(a.exact.gain && a.exact.zIn && a.exact.zOut);
-    EXPECT_LT(relErr(*a.exact.gain, st.gain()), 1e-9) << *a.exact.gain << " vs " << st.gain();
-    EXPECT_LT(relErr(*a.exact.zIn, st.zIn()), 1e-9) << *a.exact.zIn << " vs " << st.zIn();
-    EXPECT_LT(relErr(*a.exact.zOut, st.zOut()), 1e-9) << *a.exact.zOut << " vs " << st.zOut();
-    printMeasured("inverting gain", *a.exact.gain, st.gain());
-    printMeasured("inverting z_in", *a.exact.zIn, st.zIn());
-    printMeasured("inverting z_out", *a.exact.zOut, st.zOut());
+    expectExactDc(a, st.dc(), "inverting");
     // Without reactive parts the sweep is flat at the DC values.
     ASSERT_EQ(a.curves.gainExact.size(), a.frequenciesHz.size());
     ASSERT_EQ(a.curves.zInExact.size(), a.frequenciesHz.size());
     ASSERT_EQ(a.curves.zOutExact.size(), a.frequenciesHz.size());
     for (std::size_t k = 0; k < a.frequenciesHz.size(); ++k) {
-        EXPECT_LT(relErr(a.curves.gainExact[k], cd(st.gain())), 1e-9);
-        EXPECT_LT(relErr(a.curves.zInExact[k], cd(st.zIn())), 1e-9);
-        EXPECT_LT(relErr(a.curves.zOutExact[k], cd(st.zOut())), 1e-9);
+        EXPECT_LT(relErr(a.curves.gainExact[k], cd(st.dc().gain)), 1e-9);
+        EXPECT_LT(relErr(a.curves.zInExact[k], cd(st.dc().zIn)), 1e-9);
+        EXPECT_LT(relErr(a.curves.zOutExact[k], cd(st.dc().zOut)), 1e-9);
     }
 }
 
@@ -190,13 +220,10 @@ TEST(ExactSolution, InvertingStageWithFiniteGainRinRout)
 TEST(ExactSolution, InvertingStageTextbookLimit)
 {
     const double r1 = 4.7e3, r2 = 47e3, a = 5e3;
-    const Design d = parseOrFail(
-        designJson({R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0"})",
-                    gainBlock("0", "n", R"("gain": 5000)"),
-                    R"({"id": "R1", "type": "resistor", "a": "in", "b": "n", "value": "4k7"})",
-                    R"({"id": "R2", "type": "resistor", "a": "n", "b": "out", "value": "47k"})",
-                    R"({"id": "RL", "type": "load", "a": "out", "b": "0", "r": "1k"})"},
-                   "VS"));
+    const Design d = parseOrFail(voltageDrivenStage(0, "0", "n", a, INFINITY, 0,
+                                                    {twoTerminal("R1", "resistor", "in", "n", r1),
+                                                     twoTerminal("R2", "resistor", "n", "out", r2)},
+                                                    1e3));
     const Analysis an = analyzeOrFail(d);
     ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
     const double gain = -(r2 / r1) / (1 + (1 + r2 / r1) / a);
@@ -214,19 +241,10 @@ struct NonInvertingStage
 
     std::string json() const
     {
-        std::string gb = R"("gain": )" + jsonNumber(a);
-        if (std::isfinite(rd))
-            gb += R"(, "r_in": )" + jsonNumber(rd);
-        if (ro > 0)
-            gb += R"(, "r_out": )" + jsonNumber(ro);
-        std::string vs = R"({"id": "VS", "type": "vsource", "pos": "in", "neg": "0")";
-        if (rs > 0)
-            vs += R"(, "r_series": )" + jsonNumber(rs);
-        return designJson({vs + "}", gainBlock("in", "fb", gb),
-                           twoTerminal("R2", "resistor", "out", "fb", r2),
-                           twoTerminal("R1", "resistor", "fb", "0", r1),
-                           twoTerminal("RL", "load", "out", "0", rl)},
-                          "VS");
+        return voltageDrivenStage(rs, "in", "fb", a, rd, ro,
+                                  {twoTerminal("R2", "resistor", "out", "fb", r2),
+                                   twoTerminal("R1", "resistor", "fb", "0", r1)},
+                                  rl);
     }
 
     // Nodal analysis, unknowns (v_p, v_n, v_o), e = a (v_p - v_n) behind r_out (= ro):
@@ -241,9 +259,7 @@ struct NonInvertingStage
                                {-a / ro, -1 / r2 + a / ro, 1 / r2 + 1 / ro + 1 / rl}}},
                              rs, 1 / rd, 1 / r2 + 1 / ro);
     }
-    double gain() const { return nodal().gain(); }
-    double zIn() const { return nodal().zIn(); }
-    double zOut() const { return nodal().zOut(); }
+    DcValues dc() const { return nodal().dc(); }
 
     // Rs = 0: v_p = vs, two equations in (v_n, v_o):
     //   [1/rd + 1/R1 + 1/R2      -1/R2               ] [v_n]   [vs/rd  ]
@@ -307,16 +323,10 @@ TEST(ExactSolution, NonInvertingStageFrancoExample19a)
 {
     const NonInvertingStage st{0, 2e6, 75, 1e3, 999e3, 1e12, 2e5};
     const Analysis an = analyzeOrFail(parseOrFail(st.json()));
-    ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
-    EXPECT_LT(relErr(*an.exact.gain, st.gainDirect()), 1e-9);
-    EXPECT_LT(relErr(*an.exact.zIn, st.zInDirect()), 1e-9);
-    EXPECT_LT(relErr(*an.exact.zOut, st.zOutDirect()), 1e-9);
-    printMeasured("Franco 1.9a gain", *an.exact.gain, st.gainDirect());
-    printMeasured("Franco 1.9a z_in", *an.exact.zIn, st.zInDirect());
-    printMeasured("Franco 1.9a z_out", *an.exact.zOut, st.zOutDirect());
-    EXPECT_NEAR(*an.exact.gain, 995.0220, 0.5e-4);
-    EXPECT_NEAR(*an.exact.zIn, 401.971e6, 0.5e3);
-    EXPECT_NEAR(*an.exact.zOut, 373.320e-3, 0.5e-6);
+    expectExactDc(an, {st.gainDirect(), st.zInDirect(), st.zOutDirect()}, "Franco 1.9a");
+    EXPECT_NEAR(valueOf(an.exact.gain), 995.0220, 0.5e-4);
+    EXPECT_NEAR(valueOf(an.exact.zIn), 401.971e6, 0.5e3);
+    EXPECT_NEAR(valueOf(an.exact.zOut), 373.320e-3, 0.5e-6);
 }
 
 // Sedra & Smith, Microelectronic Circuits, feedback chapter, series-shunt example of the
@@ -328,16 +338,10 @@ TEST(ExactSolution, SeriesShuntSedraSmithExample)
 {
     const NonInvertingStage st{10e3, 100e3, 1e3, 1e3, 1e6, 2e3, 1e4};
     const Analysis an = analyzeOrFail(parseOrFail(st.json()));
-    ASSERT_TRUE(an.exact.gain && an.exact.zIn && an.exact.zOut);
-    EXPECT_LT(relErr(*an.exact.gain, st.gain()), 1e-9) << *an.exact.gain << " vs " << st.gain();
-    EXPECT_LT(relErr(*an.exact.zIn, st.zIn()), 1e-9) << *an.exact.zIn << " vs " << st.zIn();
-    EXPECT_LT(relErr(*an.exact.zOut, st.zOut()), 1e-9) << *an.exact.zOut << " vs " << st.zOut();
-    printMeasured("Sedra-Smith gain", *an.exact.gain, st.gain());
-    printMeasured("Sedra-Smith z_in", *an.exact.zIn, st.zIn());
-    printMeasured("Sedra-Smith z_out", *an.exact.zOut, st.zOut());
-    EXPECT_NEAR(*an.exact.gain, 857.919602, 0.5e-6);
-    EXPECT_NEAR(*an.exact.zIn, 766556.0, 0.5);
-    EXPECT_NEAR(*an.exact.zOut, 99.989, 0.5e-3);
+    expectExactDc(an, st.dc(), "Sedra-Smith");
+    EXPECT_NEAR(valueOf(an.exact.gain), 857.919602, 0.5e-6);
+    EXPECT_NEAR(valueOf(an.exact.zIn), 766556.0, 0.5);
+    EXPECT_NEAR(valueOf(an.exact.zOut), 99.989, 0.5e-3);
 }
 
 // ----- frequency response -----------------------------------------------------------------
@@ -455,12 +459,12 @@ TEST(ExactSolution, ImpedancesExcludeSourceResistanceAndLoad)
     EXPECT_LT(relErr(*aS.exact.zIn, zIn), 1e-9);
     EXPECT_LT(relErr(*aS.exact.zIn, *a0.exact.zIn), 1e-12);
     // z_in does depend on RL (the load stays in while the source is measured).
-    EXPECT_LT(relErr(*aL.exact.zIn, otherLoad.zIn()), 1e-9);
+    EXPECT_LT(relErr(*aL.exact.zIn, otherLoad.dc().zIn), 1e-9);
     EXPECT_GT(relErr(*aL.exact.zIn, *a0.exact.zIn), 1e-6);
     // z_out: the load does not count, the source's r_series does.
     EXPECT_LT(relErr(*aL.exact.zOut, *a0.exact.zOut), 1e-12);
-    EXPECT_LT(relErr(*a0.exact.zOut, base.zOut()), 1e-9);
-    EXPECT_LT(relErr(*aS.exact.zOut, otherSource.zOut()), 1e-9);
+    EXPECT_LT(relErr(*a0.exact.zOut, base.dc().zOut), 1e-9);
+    EXPECT_LT(relErr(*aS.exact.zOut, otherSource.dc().zOut), 1e-9);
     EXPECT_GT(relErr(*aS.exact.zOut, *a0.exact.zOut), 1e-6);
 }
 
@@ -498,11 +502,6 @@ TEST(ExactSolution, CurrentSourceParallelResistanceIsExcludedFromZin)
 
 // ----- the example designs ----------------------------------------------------------------
 
-struct DcValues
-{
-    double gain, zIn, zOut;
-};
-
 // Each example's DC closed form, derived by hand from the values in its file (gain blocks'
 // poles are 1 at DC; capacitors are open). Textbook nodal analysis (common practice),
 // solved by Cramer's rule.
@@ -514,7 +513,7 @@ const std::map<std::string, std::function<DcValues()>> &exampleClosedForms()
         {"contact-mic-preamp.loopsketch",
          [] {
              const NonInvertingStage st{1e3, 2e6, 75, 1e3, 20e3, 2e3, 1e5};
-             return DcValues{st.gain(), st.zIn(), st.zOut()};
+             return st.dc();
          }},
         // Shunt-shunt transimpedance: Is into "in", Rp = 500 M, r_in = 1 T, r_out = 50,
         // a = 110 dB, RF = 1 M (in-out), RL = 10 k. Nodes (in, out), e = -a v_in:

@@ -1,0 +1,91 @@
+#pragma once
+
+// What the Scan and Map panels share: the series and metric choices, run and cancel, the
+// progress bar, the status and hover lines, the background run (ScanRunner) and its latest
+// result, and the rule for what the review sheet may carry. Each panel adds its own target
+// controls, its view and what a row or cell means.
+
+#include "panels/scanrunner.h"
+#include "sheet/reviewsheet.h"
+
+#include <QWidget>
+
+#include <memory>
+#include <optional>
+#include <string>
+
+class QComboBox;
+class QLabel;
+class QProgressBar;
+class QPushButton;
+
+namespace loopsketch::ui {
+
+class DesignDocument;
+
+class ScanRunPanel : public QWidget
+{
+    Q_OBJECT
+
+public:
+    /// Starts a run of the targets, range and series chosen in the controls.
+    virtual void run() = 0;
+    void cancel();
+    bool isRunning() const;
+    /// The latest finished run, nullptr before the first.
+    const ScanResult *result() const { return m_scan.get(); }
+    /// Shows metric `index` of scanMetricInfos().
+    void setMetric(int index);
+    QString statusText() const;
+    /// The latest finished run with the metric shown, when it was made for the document's
+    /// design as it is (complete, and no field changed since): what the review sheet
+    /// carries; nullopt otherwise.
+    std::optional<SheetScan> sheetScan() const;
+
+signals:
+    /// A run finished (or was cancelled).
+    void runFinished();
+
+protected:
+    ScanRunPanel(DesignDocument *document, QWidget *parent);
+
+    /// Makes the shared controls (after the panel's own target controls, so the focus
+    /// order follows the row): the series choice headed `allSeries` ("its series"), the
+    /// metric choice (phase margin first), the run button `runLabel`, cancel, progress,
+    /// status and hover lines; and connects them, the runner and the document.
+    void makeRunControls(const QString &allSeries, const QString &runLabel);
+    /// Lays the panel out: `targets` then series, run, cancel and progress in one row;
+    /// `metricLabel`, the metric and the status below; the view; the hover line.
+    void layOut(const QList<QWidget *> &targets, const QString &metricLabel, QWidget *view);
+    /// The series chosen, nullopt for each part's own.
+    std::optional<ESeries> chosenSeries() const;
+    /// The metric shown, as an index of scanMetricInfos().
+    int metricIndex() const;
+    /// Starts the runner on `axes` of the design as it is, `status` in the status line.
+    void startRun(std::vector<ScanAxis> axes, const QString &status);
+    /// The design's present value of what `axis` scans (SI), NaN when the part is gone.
+    double designValue(const ScanAxis &axis) const;
+    /// Writes `values` of a row into the design (one undo step); a refusal goes to the
+    /// status line.
+    bool applyValues(const std::vector<double> &values);
+
+    /// What the status line says when a run ends (cancelled or complete).
+    virtual QString finishedText(const ScanResult &scan) const = 0;
+    /// Fills the target choices from the design (its structure changed).
+    virtual void refreshTargets() = 0;
+    /// Draws the latest run with the metric shown.
+    virtual void redraw() = 0;
+
+    DesignDocument *m_document;
+    ScanRunner *m_runner;
+    QComboBox *m_series = nullptr, *m_metric = nullptr;
+    QPushButton *m_run = nullptr, *m_cancel = nullptr;
+    QProgressBar *m_progress = nullptr;
+    QLabel *m_status = nullptr, *m_hover = nullptr;
+    std::shared_ptr<const ScanResult> m_scan;
+
+private:
+    std::string m_pendingText, m_scanText; ///< the design text of the run started, finished
+};
+
+} // namespace loopsketch::ui
