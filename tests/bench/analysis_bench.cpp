@@ -4,6 +4,8 @@
 //   build/<preset>/tests/bench/analysis_bench --benchmark_repetitions=5
 // The ratio of the two medians is the speed-up the design asks for (>= 20x).
 
+#include "chaindesigns.h"
+
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/design/designfile.h"
 
@@ -51,36 +53,9 @@ BENCHMARK(BM_FullAnalysisDenseLu)->Unit(benchmark::kMillisecond);
 
 namespace {
 
-/// A transimpedance loop (current source into the inverting input, gain block of 100 dB
-/// with poles at 10 Hz, 1 MHz and 30 MHz, 10 kOhm || 20 pF load) whose feedback network is a
-/// chain from the output to the input: `sections` series parts `series` (value `seriesValue`)
-/// with a shunt part `shunt` (value `shuntValue`) from every node between them to ground.
-/// Invented for the benchmark; 2 sections - 1 + 3 parts in all.
-loopsketch::Design chainDesign(int sections, const char *shunt, const char *shuntValue,
-                               const char *seriesValue)
+/// `text` parsed; the benchmark stops with the diagnostics when it does not parse.
+loopsketch::Design parsed(const std::string &text)
 {
-    std::string text = R"({"schema": "loopsketch.design/1", "title": "Generated chain",
-  "parts": [
-    {"id": "SIG", "type": "isource", "to": "in", "from": "0", "r_parallel": "100M", "c_parallel": "10p"},
-    {"id": "U1", "type": "gain_block", "in_p": "0", "in_n": "in", "out": "out", "gain": "100dB",
-     "poles_hz": ["10", "1M", "30M"], "r_out": "50"},
-    {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k", "c": "20p"})";
-    const auto node = [&](int i) {
-        return i == 0       ? std::string("out")
-            : i == sections ? std::string("in")
-                            : "n" + std::to_string(i);
-    };
-    for (int i = 0; i < sections; ++i) {
-        text += ",\n    {\"id\": \"RS" + std::to_string(i) + "\", \"type\": \"resistor\", \"a\": \""
-            + node(i) + "\", \"b\": \"" + node(i + 1) + "\", \"value\": \"" + seriesValue + "\"}";
-        if (i > 0)
-            text += ",\n    {\"id\": \"SH" + std::to_string(i) + "\", \"type\": \"" + shunt
-                + "\", \"a\": \"" + node(i) + "\", \"b\": \"0\", \"value\": \"" + shuntValue
-                + "\"}";
-    }
-    text += R"(],
-  "input": "SIG", "output": "voltage",
-  "sweep": {"start": "1", "stop": "1G", "points_per_decade": 100}})";
     auto d = loopsketch::parseDesign(text, "generated.loopsketch");
     if (!d) {
         std::cerr << d.errorText() << "\n";
@@ -92,14 +67,14 @@ loopsketch::Design chainDesign(int sections, const char *shunt, const char *shun
 /// 200 parts: 99 series resistors of 1 kOhm with 98 shunts of 1 MOhm.
 const loopsketch::Design &resistorChain()
 {
-    static const loopsketch::Design d = chainDesign(99, "resistor", "1M", "1k");
+    static const loopsketch::Design d = parsed(loopsketch::test::resistorChainText());
     return d;
 }
 
 /// 50 parts: 24 series resistors of 4.7 kOhm with 23 shunt capacitors of 1 pF.
 const loopsketch::Design &rcLadder()
 {
-    static const loopsketch::Design d = chainDesign(24, "capacitor", "1p", "4k7");
+    static const loopsketch::Design d = parsed(loopsketch::test::rcLadderText());
     return d;
 }
 

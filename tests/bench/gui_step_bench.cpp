@@ -1,5 +1,9 @@
 // One E-series wheel step on the feedback resistor, through the real event path, to every
-// panel and the Readout repainted: ui/README.md §3 asks for under one 60 Hz frame (16 ms).
+// panel and the Readout repainted: ui/README.md §3 asks for under one 60 Hz frame (16 ms),
+// issue 15 for a median of 8 ms on the demo. And on the 50-part RC ladder (a full analysis of
+// tens of ms, run on the document's worker thread) the longest the UI thread goes without
+// turning its event loop during a burst of 20 wheel steps: issue 15 asks for no stall over
+// 16 ms.
 
 #include "panels/plotpanel.h"
 #include "panels/readout.h"
@@ -9,13 +13,21 @@
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
+#include "chaindesigns.h"
+
 #include <QApplication>
 #include <QDockWidget>
+#include <QElapsedTimer>
+#include <QEventLoop>
+#include <QTimer>
 #include <QWheelEvent>
 
 #include <benchmark/benchmark.h>
 
+#include <algorithm>
 #include <chrono>
+#include <ctime>
+#include <vector>
 
 using namespace loopsketch::ui;
 
@@ -30,6 +42,21 @@ void wheelOver(MainWindow &window, const std::string &id, int notches)
                       QPoint(0, 120 * notches), Qt::NoButton, Qt::NoModifier, Qt::NoScrollPhase,
                       false);
     QApplication::sendEvent(view->viewport(), &event);
+}
+
+/// CPU time of the calling thread in ms: the UI thread's own work, which the machine's load
+/// does not stretch the way it stretches wall-clock time.
+double threadCpuMs()
+{
+    timespec t{};
+    clock_gettime(CLOCK_THREAD_CPUTIME_ID, &t);
+    return double(t.tv_sec) * 1e3 + double(t.tv_nsec) / 1e6;
+}
+
+double median(std::vector<double> v)
+{
+    std::nth_element(v.begin(), v.begin() + std::ptrdiff_t(v.size() / 2), v.end());
+    return v[v.size() / 2];
 }
 
 /// Shows `window` at the screenshots' size with the demo open; `raiseNoise` brings the Noise
@@ -57,29 +84,45 @@ void BM_WheelStepToAllPanelsRepainted(benchmark::State &state)
     MainWindow window;
     if (!openDemo(window, state, state.range(0) == 1))
         return;
+    if (!window.document()->waitForAnalysis()) {
+        state.SkipWithError("the demo's analysis did not arrive");
+        return;
+    }
     QApplication::processEvents();
     window.repaint();
     int direction = 1;
     double analysisMs = 0, updateMs = 0;
+    std::vector<double> stepMs, uiCpuMs;
     for (auto _ : state) {
+        const double cpuStart = threadCpuMs();
         const auto start = std::chrono::steady_clock::now();
         wheelOver(window, "RF", direction);
         direction = -direction;
-        // The coalescing timer would fire on the next event-loop turn; run it now, let the
-        // charts handle their posted layout requests, then paint the whole window (Readout,
-        // Sketch and every panel) synchronously.
-        window.document()->recomputeNow();
-        updateMs
-            += std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
-                   .count();
+        // The analysis runs on the document's worker; the event loop turns until its result
+        // has reached every panel, then the whole window (Readout, Sketch and every panel) is
+        // painted synchronously.
+        if (!window.document()->waitForAnalysis()) {
+            state.SkipWithError("no result within the time allowed");
+            return;
+        }
+        const auto updated = std::chrono::steady_clock::now();
+        updateMs += std::chrono::duration<double, std::milli>(updated - start).count();
+        window.repaint();
+        stepMs.push_back(
+            std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
+                .count());
+        uiCpuMs.push_back(threadCpuMs() - cpuStart);
         QApplication::processEvents();
         analysisMs += window.document()->lastAnalysisMs();
     }
-    // analysis: core analyze(); update: wheel event to every panel's series replaced
-    // (includes analysis); the rest of the time is layout and painting.
+    // analysis: core analyze() on the worker; update: wheel event to every panel's series
+    // replaced (includes the analysis and the hand-over); step: to the window repainted;
+    // ui_cpu: the UI thread's CPU time in that step (event handling, panels, painting).
     state.counters["analysis_ms"]
         = benchmark::Counter(analysisMs, benchmark::Counter::kAvgIterations);
     state.counters["update_ms"] = benchmark::Counter(updateMs, benchmark::Counter::kAvgIterations);
+    state.counters["median_step_ms"] = median(stepMs);
+    state.counters["median_ui_cpu_ms"] = median(uiCpuMs);
 }
 BENCHMARK(BM_WheelStepToAllPanelsRepainted)
     ->Arg(0)
@@ -118,7 +161,10 @@ void BM_UpdateOnePanel(benchmark::State &state)
     QApplication::processEvents();
     const loopsketch::Analysis first = *window.document()->analysis();
     wheelOver(window, "RF", 1);
-    window.document()->recomputeNow();
+    if (!window.document()->waitForAnalysis()) {
+        state.SkipWithError("no result within the time allowed");
+        return;
+    }
     const loopsketch::Analysis second = *window.document()->analysis();
     PlotPanel *panel = window.panels().at(std::size_t(state.range(0)));
     bool flip = false;
@@ -128,6 +174,96 @@ void BM_UpdateOnePanel(benchmark::State &state)
     }
 }
 BENCHMARK(BM_UpdateOnePanel)->DenseRange(0, 5)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+/// Runs the event loop for `ms` milliseconds, sleeping while there is nothing to do.
+void pumpFor(int ms)
+{
+    QEventLoop loop;
+    QTimer::singleShot(ms, Qt::PreciseTimer, &loop, &QEventLoop::quit);
+    loop.exec();
+}
+
+/// The 50-part RC ladder (tests/support/chaindesigns.h) in a shown window with every dock;
+/// per iteration a burst of 20 wheel steps on RS5, one every 16 ms (a fast scroll), and then
+/// the wait for the final full result. A 1 ms timer on the UI thread records the longest gap
+/// between its ticks: the longest stall of the event loop (longest_stall_ms). For scale, the
+/// same 1 ms timer over 320 ms without any edit (idle_stall_ms: what the machine's load alone
+/// does to it), the longest wheel event's handling (wheel_max_ms), the time from the last step
+/// to the final result on screen, and how many results were shown and dropped.
+void BM_LadderBurstLongestStall(benchmark::State &state)
+{
+    MainWindow window;
+    window.setAskBeforeDiscarding(false);
+    window.resize(1500, 940);
+    window.show();
+    QString error;
+    if (!window.openText(loopsketch::test::rcLadderText(), QStringLiteral("ladder"), &error)
+        || !window.document()->waitForAnalysis()) {
+        state.SkipWithError("the ladder did not open and analyse");
+        return;
+    }
+    QApplication::processEvents();
+    QElapsedTimer clock;
+    qint64 lastTick = 0, longestGap = 0;
+    QTimer ticker;
+    ticker.setTimerType(Qt::PreciseTimer);
+    ticker.setInterval(1);
+    QObject::connect(&ticker, &QTimer::timeout, [&] {
+        const qint64 now = clock.nsecsElapsed();
+        longestGap = std::max(longestGap, now - lastTick);
+        lastTick = now;
+    });
+    const auto startTicking = [&] {
+        clock.start();
+        lastTick = 0;
+        longestGap = 0;
+        ticker.start();
+    };
+    int shown = 0, steps = 0;
+    QObject::connect(window.document(), &DesignDocument::analysisChanged, [&] { ++shown; });
+    QObject::connect(window.document(), &DesignDocument::partChanged,
+                     [&](const QString &id) { steps += id == QStringLiteral("RS5"); });
+    double worstMs = 0, idleMs = 0, wheelMs = 0, settleMs = 0;
+    const int droppedBefore = window.document()->droppedResults();
+    int direction = 1;
+    for (auto _ : state) {
+        startTicking();
+        pumpFor(320);
+        idleMs = std::max(idleMs, double(longestGap) / 1e6);
+        startTicking();
+        for (int step = 0; step < 20; ++step) {
+            QElapsedTimer wheel;
+            wheel.start();
+            wheelOver(window, "RS5", direction);
+            wheelMs = std::max(wheelMs, double(wheel.nsecsElapsed()) / 1e6);
+            pumpFor(16);
+        }
+        QElapsedTimer settle;
+        settle.start();
+        if (!window.document()->waitForAnalysis()) {
+            state.SkipWithError("no result within the time allowed");
+            return;
+        }
+        window.repaint();
+        settleMs += double(settle.nsecsElapsed()) / 1e6;
+        ticker.stop();
+        worstMs = std::max(worstMs, double(longestGap) / 1e6);
+        direction = -direction;
+    }
+    if (steps < 20 * int(state.iterations())) {
+        state.SkipWithError("the wheel steps did not reach RS5");
+        return;
+    }
+    state.counters["longest_stall_ms"] = worstMs;
+    state.counters["idle_stall_ms"] = idleMs;
+    state.counters["wheel_max_ms"] = wheelMs;
+    state.counters["settle_ms"] = benchmark::Counter(settleMs, benchmark::Counter::kAvgIterations);
+    state.counters["shown"] = benchmark::Counter(double(shown), benchmark::Counter::kAvgIterations);
+    state.counters["dropped"]
+        = benchmark::Counter(double(window.document()->droppedResults() - droppedBefore),
+                             benchmark::Counter::kAvgIterations);
+}
+BENCHMARK(BM_LadderBurstLongestStall)->Iterations(3)->Unit(benchmark::kMillisecond)->UseRealTime();
 
 } // namespace
 

@@ -51,7 +51,7 @@ protected:
         QString error;
         ASSERT_TRUE(window->openFile(kDesigns + QLatin1Char('/') + name, &error))
             << error.toStdString();
-        QApplication::processEvents();
+        ASSERT_TRUE(doc()->waitForAnalysis());
     }
 
     /// Drags the palette symbol `label` onto the Sketch and drops it at viewport point `at`
@@ -127,7 +127,7 @@ protected:
     void settle()
     {
         QApplication::processEvents();
-        doc()->recomputeNow();
+        EXPECT_TRUE(doc()->waitForAnalysis());
         QApplication::processEvents();
     }
 

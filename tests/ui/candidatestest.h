@@ -60,6 +60,7 @@ protected:
     /// Waits until the document's analysis and every candidate column are current.
     void settle()
     {
+        ASSERT_TRUE(doc()->waitForAnalysis());
         ASSERT_TRUE(QTest::qWaitFor(
             [this] {
                 QApplication::processEvents();

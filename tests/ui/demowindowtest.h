@@ -25,7 +25,7 @@ protected:
         ASSERT_TRUE(
             window->openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"), &error))
             << error.toStdString();
-        QApplication::processEvents();
+        ASSERT_TRUE(doc()->waitForAnalysis());
         ASSERT_NE(doc()->analysis(), nullptr);
     }
 

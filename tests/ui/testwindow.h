@@ -26,8 +26,8 @@ inline void showTestWindow(MainWindow &window)
 
 /// Saves `window`'s design to `path` (File > Save as), checks that core's loader reads it
 /// back (under `rules`) equal to the document's design and that a second window opens it
-/// showing the same design; that second window, to look at, or nullptr (with the failure
-/// added) when a step failed.
+/// showing the same design (its analysis in place); that second window, to look at, or nullptr
+/// (with the failure added) when a step failed.
 inline std::unique_ptr<MainWindow> saveAndReopen(MainWindow &window, const QString &path,
                                                  DesignRules rules = DesignRules::Complete)
 {
@@ -48,6 +48,7 @@ inline std::unique_ptr<MainWindow> saveAndReopen(MainWindow &window, const QStri
         ADD_FAILURE() << "opening " << path.toStdString() << ": " << error.toStdString();
         return nullptr;
     }
+    EXPECT_TRUE(second->document()->waitForAnalysis());
     EXPECT_EQ(second->document()->design(), window.document()->design());
     return second;
 }

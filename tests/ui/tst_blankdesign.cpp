@@ -167,8 +167,10 @@ TEST_F(BlankDesignTest, FromBlankNonInvertingGainOfElevenMatchesCore)
     EXPECT_NEAR(*a.margins.crossoverHz, 10e6 / 11.0, 0.03 * 10e6 / 11.0);
 
     ASSERT_NO_FATAL_FAILURE(loopsketch::ui::test::expectWindowShows(*window, a));
-    for (PlotPanel *panel : window->panels())
+    for (PlotPanel *panel : window->panels()) {
+        loopsketch::ui::test::bringForward(panel);
         EXPECT_TRUE(panel->unavailableText().isEmpty());
+    }
 
     window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR "/from-blank.png"));
 
@@ -472,8 +474,10 @@ TEST_F(BlankDesignTest, StaleNeverAfterDeletingTheSource)
     doc()->undoStack()->undo();
     settle();
     ASSERT_NE(doc()->analysis(), nullptr);
-    for (PlotPanel *panel : window->panels())
+    for (PlotPanel *panel : window->panels()) {
+        loopsketch::ui::test::bringForward(panel);
         EXPECT_TRUE(panel->unavailableText().isEmpty());
+    }
     EXPECT_NE(window->readout()->cellText("closed-loop gain, exact"), QStringLiteral("—"));
 }
 

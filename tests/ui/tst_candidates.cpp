@@ -246,16 +246,13 @@ TEST_F(CandidatesTest, ABurstOfEditsLeavesTheTableUntilItSettles)
     const QString drawn = cell->text();
     const QString before
         = panel()->cellText(CandidatesPanel::kBandwidthRow, CandidatesPanel::kCurrentColumn);
-    // Three E12 steps of CF as a wheel burst would send them, each recomputed at once: the
-    // visible table is not touched while they come. The event loop does not turn between the
-    // steps and the check, so no settle timer can fire however slow the machine is: what is
-    // checked is that a recomputation only (re)starts the wait and never fills the table
-    // itself.
+    // Three E12 steps of CF as a wheel burst would send them: the visible table is not touched
+    // by an edit or its pending analysis. (The analysis now runs on the document's worker and
+    // waiting for it turns the event loop, so the check is made before each wait.)
     for (int i = 0; i < 3; ++i) {
         ASSERT_TRUE(doc()->stepPart("CF", 1, false));
-        doc()->recomputeNow();
-        EXPECT_FALSE(panel()->isUpToDate()) << "step " << i;
         EXPECT_EQ(cell->text(), drawn) << "step " << i;
+        EXPECT_TRUE(doc()->waitForAnalysis());
     }
     // Once the edits stop, the table follows: waited for on the panel's own state.
     settle();
@@ -393,6 +390,7 @@ TEST_F(CandidatesTest, SavingAndReloadingKeepsCandidates)
     MainWindow other;
     other.setAskBeforeDiscarding(false);
     ASSERT_TRUE(other.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(other.document()->waitForAnalysis());
     ASSERT_TRUE(QTest::qWaitFor(
         [&] {
             QApplication::processEvents();

@@ -63,7 +63,7 @@ protected:
         auto design = loadDesign(toStdString(kDemo));
         ASSERT_TRUE(design) << design.errorText();
         document.reset(*design, kDemo);
-        document.recomputeNow();
+        EXPECT_TRUE(document.waitForAnalysis());
         ASSERT_NE(document.analysis(), nullptr);
     }
 
@@ -115,7 +115,7 @@ TEST_F(GuiExport, PlotsInBothFormats)
 TEST_F(GuiExport, DesignWithDiagnosticsWritesNothing)
 {
     document.removeParts({"PD1"}); // no signal source: the design cannot be analysed
-    document.recomputeNow();
+    EXPECT_TRUE(document.waitForAnalysis());
     ASSERT_FALSE(document.lastDiagnostics().isEmpty());
     const QString pdf = tmp.filePath("sheet.pdf"), csv = tmp.filePath("sweep.csv");
     QString error;
@@ -168,7 +168,7 @@ TEST_F(GuiExport, ExportOntoTheOpenDesignIsRefused)
     auto loaded = loadDesign(toStdString(design));
     ASSERT_TRUE(loaded) << loaded.errorText();
     document.reset(*loaded, design);
-    document.recomputeNow();
+    EXPECT_TRUE(document.waitForAnalysis());
     const QByteArray before = readAll(design);
     ASSERT_TRUE(QFile::link(design, tmp.filePath("link.pdf")));
     QString error;

@@ -203,6 +203,7 @@ TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
     QString error;
     ASSERT_TRUE(window->openText(demoWithGainBlockNoise(), QStringLiteral("noisy"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window->document()->waitForAnalysis());
     QApplication::processEvents();
     const NoiseAnalysis &n = noise();
     const QStringList names = panel->bandNames();
@@ -248,6 +249,7 @@ TEST_F(NoisePanelTest, GainBlockNoiseSourcesGetTheirOwnBands)
     }
     // Back to the demo: the extra bands leave the chart and the legend.
     ASSERT_TRUE(window->openFile(kDemo, &error)) << error.toStdString();
+    ASSERT_TRUE(window->document()->waitForAnalysis());
     QApplication::processEvents();
     EXPECT_EQ(panel->bandNames().size(), qsizetype(noise().contributions.size()));
     int inChart = 0;
@@ -335,6 +337,7 @@ TEST_P(NoiseExample, UnitsAndStackTopFollowTheDesign)
     QString error;
     const QString path = QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/%1.loopsketch").arg(GetParam());
     ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     window.findChild<QDockWidget *>(QStringLiteral("NoiseDock"))->raise();
     QTest::qWait(150);
     NoisePanel *panel = nullptr;
@@ -389,6 +392,7 @@ TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
     loopsketch::ui::test::showTestWindow(window);
     QString error;
     ASSERT_TRUE(window.openFile(kDemo, &error)) << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     QApplication::processEvents();
     NoisePanel *panel = nullptr;
     for (PlotPanel *p : window.panels()) {
@@ -407,6 +411,7 @@ TEST(NoisePanelTab, DrawsTheLatestAnalysisWhenItsTabIsRaised)
     // A new analysis while hidden is kept, not drawn: the bands are still the demo's.
     ASSERT_TRUE(window.openText(demoWithGainBlockNoise(), QStringLiteral("noisy"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     QApplication::processEvents();
     const NoiseAnalysis &n = *window.document()->analysis()->noise;
     ASSERT_GT(n.contributions.size(), 4u); // PD1 r_parallel, RF, RL, e_n, i_n at in_n

@@ -318,6 +318,7 @@ TEST(FailedAutosave, IsShownInTheStatusBar)
         window.setAskBeforeDiscarding(false);
         QString error;
         ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
+        ASSERT_TRUE(window.document()->waitForAnalysis());
         ASSERT_TRUE(window.document()->stepPart("RF", 1, false));
         for (int i = 0; i < 100 && message.isEmpty(); ++i) {
             QTest::qWait(20);
@@ -340,6 +341,7 @@ protected:
         window.setAskBeforeDiscarding(false);
         QString error;
         ASSERT_TRUE(window.openFile(path, &error)) << error.toStdString();
+        ASSERT_TRUE(window.document()->waitForAnalysis());
         ASSERT_TRUE(window.document()->stepPart("RF", 1, false));
         ASSERT_TRUE(window.document()->isModified());
         ASSERT_TRUE(window.isWindowModified());

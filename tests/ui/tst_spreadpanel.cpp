@@ -378,6 +378,7 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
     QString error;
     ASSERT_TRUE(window.openFile(QString::fromStdString(kDesigns + "/demo.loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     auto *dock = window.findChild<QDockWidget *>(QStringLiteral("SpreadDock"));
     ASSERT_NE(dock, nullptr);
     EXPECT_EQ(dock->windowTitle(), QStringLiteral("Spread")); // ui/README.md §4 (panel names)
@@ -410,7 +411,7 @@ TEST(SpreadPanelWindow, DockIsNamedSpreadAndAScreenshotAfterARun)
     EXPECT_THAT(sheet, HasSubstr("Spread over tolerances"));
     EXPECT_THAT(sheet, HasSubstr("10000 trials (10000 completed), uniform distribution, seed 1"));
     ASSERT_TRUE(window.document()->stepPart("CF", 1, false));
-    window.document()->recomputeNow();
+    EXPECT_TRUE(window.document()->waitForAnalysis());
     ASSERT_EQ(panel->completedResult(), nullptr);
     ASSERT_TRUE(exportReviewSheet(*window.document(), afterEdit, SheetPageSize::A4,
                                   QStringLiteral("demo.loopsketch"), &error,

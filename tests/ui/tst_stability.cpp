@@ -3,6 +3,7 @@
 // what the window shows is what core computed, and a click applies a value as one undo step.
 
 #include "demowindowtest.h"
+#include "windowchecks.h"
 
 #include "clirun.h"
 
@@ -150,14 +151,15 @@ TEST_F(Stability, NyquistPanelOfAnUnstableLoopCountsItsRhpPoles)
     // CF removed and the gain block's second pole brought down to 100 kHz: the demo's loop
     // then rings out (two closed-loop poles in the right half-plane).
     ASSERT_TRUE(doc()->setFieldText("CF", "value", QStringLiteral("1f"), nullptr));
-    doc()->recomputeNow();
+    EXPECT_TRUE(doc()->waitForAnalysis());
     ASSERT_TRUE(doc()->setFrequencyListText("U1", "poles_hz", QStringLiteral("10, 100k"), nullptr));
-    doc()->recomputeNow();
+    EXPECT_TRUE(doc()->waitForAnalysis());
     QApplication::processEvents();
     const Analysis &a = *doc()->analysis();
     ASSERT_FALSE(a.stable);
     ASSERT_TRUE(a.nyquist.encirclements);
     auto *panel = window->findChild<NyquistPanel *>();
+    loopsketch::ui::test::bringForward(panel);
     EXPECT_THAT(panel->encirclementText().toStdString(),
                 HasSubstr("Z = N + P = " + std::to_string(a.rhpPoles)));
     EXPECT_EQ(*a.nyquist.encirclements, a.rhpPoles);
@@ -248,7 +250,7 @@ TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
     const ScanRow &r = map->rows[std::size_t(pi * 25 + pj)];
     EXPECT_NEAR(doc()->design().findPart("RF")->number("value") / r.values[0], 1.0, 1e-12);
     EXPECT_NEAR(doc()->design().findPart("CF")->number("value") / r.values[1], 1.0, 1e-12);
-    doc()->recomputeNow();
+    EXPECT_TRUE(doc()->waitForAnalysis());
     EXPECT_TRUE(doc()->analysis()->specs.empty()
                 || std::all_of(doc()->analysis()->specs.begin(), doc()->analysis()->specs.end(),
                                [](const SpecVerdict &v) { return v.pass; }));

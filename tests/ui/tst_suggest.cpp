@@ -240,6 +240,7 @@ TEST(SuggestDialogWindow, OpensFromTheDesignMenuWithAScreenshot)
     QString error;
     ASSERT_TRUE(window.openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch"), &error))
         << error.toStdString();
+    ASSERT_TRUE(window.document()->waitForAnalysis());
     QAction *open = nullptr;
     for (QAction *a : window.designMenu()->actions())
         if (a->text().startsWith(QStringLiteral("Suggest")))

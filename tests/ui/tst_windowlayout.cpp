@@ -42,6 +42,7 @@ protected:
         window->resize(w, h);
         window->show();
         EXPECT_TRUE(window->openFile(QStringLiteral(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch")));
+        EXPECT_TRUE(window->document()->waitForAnalysis());
         // The arrangement and its sizes settle over a few event-loop turns.
         for (int i = 0; i < 5; ++i)
             QTest::qWait(20);

@@ -34,7 +34,7 @@ void expectSameRefusal(const std::string &feedbackParts, const std::string &expe
     DesignDocument document;
     QSignalSpy spy(&document, &DesignDocument::diagnosticsChanged);
     document.reset(*design, QStringLiteral("chain.loopsketch"));
-    document.recomputeNow();
+    EXPECT_TRUE(document.waitForAnalysis());
     ASSERT_GE(spy.count(), 1);
     const QString shown = spy.last().at(0).toString();
     EXPECT_EQ(toStdString(shown), cli.errorText());

@@ -13,6 +13,7 @@
 
 #include <QApplication>
 #include <QChart>
+#include <QDockWidget>
 #include <QList>
 #include <QMouseEvent>
 #include <QPointF>
@@ -22,19 +23,24 @@
 
 namespace loopsketch::ui::test {
 
-/// The window shows `expected`: the Readout's gain, bandwidth and phase margin texts, and the
-/// |T| curve, every point of core's curve held and a subset of them drawn, unchanged.
-inline void expectWindowShows(const MainWindow &window, const Analysis &expected)
+/// Brings `panel`'s dock to the front of its tab group: a panel out of sight is drawn when it
+/// comes on screen (ui/README.md §3), so what it shows is checked there.
+inline void bringForward(PlotPanel *panel)
 {
-    const Readout *readout = window.readout();
-    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
-              engineering(expected.exact.gain, expected.gainUnit, 4));
-    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(expected.bandwidthHz, "Hz"));
-    // Three significant digits and the degree sign (common practice for angles on a display).
-    const OptionalNumber pm = expected.margins.phaseMarginDeg;
-    EXPECT_EQ(readout->cellText("phase margin"),
-              pm ? QString::fromStdString(formatEngineering(*pm, 3)) + QStringLiteral("°")
-                 : QStringLiteral("—"));
+    for (QWidget *w = panel->parentWidget(); w; w = w->parentWidget()) {
+        if (auto *dock = qobject_cast<QDockWidget *>(w)) {
+            dock->show();
+            dock->raise();
+            break;
+        }
+    }
+    QApplication::processEvents();
+}
+
+/// The Loop gain panel shows `expected`'s |T| curve: every point of core's curve held and a
+/// subset of them drawn, unchanged.
+inline void expectLoopGainCurveShows(const MainWindow &window, const Analysis &expected)
+{
     QXYSeries *t = window.loopGainPanel()->series(LoopGainPanel::kT);
     ASSERT_NE(t, nullptr);
     const QList<QPointF> want
@@ -58,6 +64,22 @@ inline void expectWindowShows(const MainWindow &window, const Analysis &expected
         ASSERT_NEAR(p.x(), want[j].x(), 1e-12);
         ASSERT_NEAR(p.y(), want[j].y(), 1e-9);
     }
+}
+
+/// The window shows `expected`: the Readout's gain, bandwidth and phase margin texts, and the
+/// |T| curve (expectLoopGainCurveShows).
+inline void expectWindowShows(const MainWindow &window, const Analysis &expected)
+{
+    const Readout *readout = window.readout();
+    EXPECT_EQ(readout->cellText("closed-loop gain, exact"),
+              engineering(expected.exact.gain, expected.gainUnit, 4));
+    EXPECT_EQ(readout->cellText("bandwidth −3 dB"), engineering(expected.bandwidthHz, "Hz"));
+    // Three significant digits and the degree sign (common practice for angles on a display).
+    const OptionalNumber pm = expected.margins.phaseMarginDeg;
+    EXPECT_EQ(readout->cellText("phase margin"),
+              pm ? QString::fromStdString(formatEngineering(*pm, 3)) + QStringLiteral("°")
+                 : QStringLiteral("—"));
+    expectLoopGainCurveShows(window, expected);
 }
 
 /// Moves the pointer (no button held) onto the centre of the Loop gain panel's plot and gives

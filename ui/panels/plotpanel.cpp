@@ -450,11 +450,24 @@ void PlotPanel::replaceThinned(QXYSeries *s, const QList<QPointF> &points, doubl
                                CursorFormat format)
 {
     const auto known = m_fullCurves.find(s);
+    // The same data (an edit that left this quantity alone): the series keeps its drawing.
+    if (known != m_fullCurves.end() && known->second.xMin == xMin && known->second.xMax == xMax
+        && known->second.format == format && samePoints(known->second.points, points))
+        return;
     const int order = known != m_fullCurves.end() ? known->second.order : int(m_fullCurves.size());
     m_fullCurves[s] = {points, xMin, xMax, format, order};
     thin(s, points, xMin, xMax);
     if (std::isfinite(m_cursorAt))
         showFrequencyCursor(m_cursorAt);
+}
+
+bool PlotPanel::samePoints(const QList<QPointF> &a, const QList<QPointF> &b)
+{
+    // Exact equality (QPointF's operator== is fuzzy): a change in the last digit redraws.
+    return a.size() == b.size()
+        && std::equal(a.begin(), a.end(), b.begin(), [](const QPointF &p, const QPointF &q) {
+               return p.x() == q.x() && p.y() == q.y();
+           });
 }
 
 QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const

@@ -241,6 +241,7 @@ private:
     QAbstractAxis *m_overlayX = nullptr;
     std::vector<QXYSeries *> m_overlaySeries;
     void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
+    static bool samePoints(const QList<QPointF> &a, const QList<QPointF> &b);
     struct FullCurve
     {
         QList<QPointF> points;

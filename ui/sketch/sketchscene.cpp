@@ -129,7 +129,11 @@ void SketchScene::updatePart(const std::string &partId)
     const Part *part = m_design ? m_design->findPart(partId) : nullptr;
     if (item && part) {
         item->update(*part, item->symbolRotation(), item->symbolMirrored());
-        reroute(); // the label's size may have changed
+        // The label's size may have changed; the wires, which join pins, have not.
+        if (m_wiring)
+            placeLabels(*m_wiring, m_groundMarks);
+        else
+            reroute();
     }
 }
 
@@ -367,6 +371,8 @@ void SketchScene::reroute()
     }
     m_wires->setPath(wires);
     placeLabels(wiring, marks);
+    m_wiring = std::make_shared<const SketchWiring>(wiring);
+    m_groundMarks = std::move(marks);
     QPainterPath dots;
     for (const QPointF &j : wiring.junctions)
         dots.addEllipse(j, 3.0, 3.0);

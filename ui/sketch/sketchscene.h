@@ -10,6 +10,7 @@
 #include <QPointF>
 
 #include <map>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -100,6 +101,10 @@ private:
     QGraphicsPathItem *m_problemMark = nullptr;
     std::string m_problem;
     bool m_applying = false;
+    /// The last routing and its ground marks: a value change places the labels again on them
+    /// instead of routing every wire anew (on a 50-part design that is most of a wheel step).
+    std::shared_ptr<const SketchWiring> m_wiring;
+    std::vector<QRectF> m_groundMarks;
 };
 
 } // namespace loopsketch::ui

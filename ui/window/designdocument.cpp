@@ -16,13 +16,6 @@
 
 namespace loopsketch::ui {
 
-DesignDocument::DesignDocument(QObject *parent) : QObject(parent)
-{
-    m_recomputeTimer.setSingleShot(true);
-    m_recomputeTimer.setInterval(0);
-    connect(&m_recomputeTimer, &QTimer::timeout, this, &DesignDocument::recompute);
-}
-
 void DesignDocument::reset(Design design, const QString &filePath)
 {
     m_undoStack.clear();
@@ -33,8 +26,13 @@ void DesignDocument::reset(Design design, const QString &filePath)
     m_undoStack.setClean();
     emit designReset();
     emit filePathChanged(m_filePath);
+    // A new design is no burst: its full analysis starts at once.
+    scheduleRecompute();
+    m_sinceChange.invalidate();
+    m_wantCoarse = false;
+    m_settleTimer.stop();
     m_recomputeTimer.stop();
-    recompute();
+    dispatch();
 }
 
 Design DesignDocument::blankDesign()
@@ -533,53 +531,6 @@ void DesignDocument::rebuildLayout()
         for (const auto &[id, placement] : automatic.parts)
             m_layout.parts.emplace(id, placement);
     }
-}
-
-void DesignDocument::scheduleRecompute()
-{
-    m_recomputeTimer.start();
-}
-
-void DesignDocument::recomputeNow()
-{
-    m_recomputeTimer.stop();
-    recompute();
-}
-
-void DesignDocument::recompute()
-{
-    const auto start = std::chrono::steady_clock::now();
-    // Everything the window shows, the Noise panel's analysis included.
-    AnalysisOptions options;
-    options.noise = true;
-    auto result = analyze(m_design, toStdString(m_filePath), options);
-    m_lastAnalysisMs
-        = std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start)
-              .count();
-    if (!result) {
-        // Never leave the last good numbers standing as if they were current.
-        m_analysis.reset();
-        m_diagnostics = toQString(result.errorText());
-        QString partId, reason = m_diagnostics;
-        if (!result.diagnostics().empty()) {
-            // Over the plots, the first problem without the file's path.
-            Diagnostic first = result.diagnostics().front();
-            partId = toQString(first.part);
-            first.file.clear();
-            reason = toQString(first.toString());
-        }
-        emit diagnosticsChanged(m_diagnostics);
-        emit analysisUnavailable(reason, partId);
-        return;
-    }
-    m_analysis = std::move(result).value();
-    // Where the numbers cannot be trusted to full accuracy, the status line says so.
-    QStringList warnings;
-    for (const Diagnostic &w : m_analysis->warnings)
-        warnings << tr("Warning: %1").arg(toQString(w.toString()));
-    m_diagnostics = warnings.join(QLatin1Char('\n'));
-    emit diagnosticsChanged(m_diagnostics);
-    emit analysisChanged(*m_analysis);
 }
 
 } // namespace loopsketch::ui

@@ -2,7 +2,9 @@
 
 // The document/controller: owns the one Design (the single source of truth), the one
 // QUndoStack and the latest Analysis. Every edit goes through an undoable command; every
-// change schedules exactly one recomputation on a coalescing timer.
+// change schedules one recomputation, which runs on a worker thread on a copy of the design
+// (ui/README.md §3): the latest request wins, a result for an older state of the design is
+// dropped, and during a burst of edits on a slow design a coarse sweep shows first.
 
 #include "sketch/sketchlayout.h"
 
@@ -15,8 +17,12 @@
 #include <QTimer>
 #include <QUndoStack>
 
+#include <QElapsedTimer>
+
 #include <map>
+#include <memory>
 #include <optional>
+#include <thread>
 #include <utility>
 
 namespace loopsketch::ui {
@@ -32,10 +38,37 @@ class DesignDocument : public QObject
 
 public:
     explicit DesignDocument(QObject *parent = nullptr);
+    /// Waits for a run in progress (its result is dropped).
+    ~DesignDocument() override;
+
+    /// Points per decade of the coarse sweep shown first during a burst of edits.
+    static constexpr int kCoarsePointsPerDecade = 20;
 
     const Design &design() const { return m_design; }
-    /// The latest successful analysis; nullptr before the first one.
-    const Analysis *analysis() const { return m_analysis ? &*m_analysis : nullptr; }
+    /// The full analysis of the design as it is now; nullptr while its recomputation is
+    /// pending (the views then still show an older or a coarse result), or when it cannot be
+    /// analysed. What saves, exports or compares numbers reads this one.
+    const Analysis *analysis() const
+    {
+        return m_analysis && !isAnalysisPending() ? &*m_analysis : nullptr;
+    }
+    /// The analysis the views show: possibly coarse, or for an earlier state of the design
+    /// while a recomputation is pending; nullptr when the latest one failed.
+    const Analysis *shownAnalysis() const { return m_analysis ? &*m_analysis : nullptr; }
+    /// True until the full result (or the diagnostics) for the design as it is now has been
+    /// applied.
+    bool isAnalysisPending() const { return m_shownGeneration != m_generation || m_shownCoarse; }
+    /// True when the views show the coarse sweep of a burst (the full one follows).
+    bool isShownCoarse() const { return m_shownCoarse; }
+    /// Runs the event loop until the full result for the design as it is now has been
+    /// applied (or its diagnostics); false when `timeoutMs` passed first.
+    bool waitForAnalysis(int timeoutMs = 60000);
+    /// Changes of the design so far; every result is tagged with the one it was made for.
+    quint64 generation() const { return m_generation; }
+    /// The generation whose result the views show.
+    quint64 shownGeneration() const { return m_shownGeneration; }
+    /// Results that arrived for an older state of the design and were dropped.
+    int droppedResults() const { return m_droppedResults; }
     QUndoStack *undoStack() { return &m_undoStack; }
 
     /// Replaces the design (open, new): clears the undo history and recomputes at once.
@@ -147,11 +180,9 @@ public:
     /// when there is no such candidate or the design already has its values.
     bool makeCandidateCurrent(const QString &name, QString *error);
 
-    /// Runs the pending recomputation now (tests, benchmarks).
-    void recomputeNow();
     /// Why the design cannot be analysed now; empty when the analysis is current.
     QString unavailableReason() const { return m_analysis ? QString() : m_diagnostics; }
-    /// Milliseconds of the last core analyze() call.
+    /// Milliseconds of the core analyze() call whose result is shown (on the worker).
     double lastAnalysisMs() const { return m_lastAnalysisMs; }
     QString lastDiagnostics() const { return m_diagnostics; }
 
@@ -177,7 +208,15 @@ signals:
     void layoutChanged();
     /// Parts were added, removed or reconnected: the Sketch rebuilds (the history stays).
     void structureChanged();
+    /// A result for the design as it is now, to every view at once; isShownCoarse() tells a
+    /// burst's coarse sweep from the full one.
     void analysisChanged(const loopsketch::Analysis &analysis);
+    /// The design changed: what the views show is for an earlier state until the next
+    /// analysisChanged or analysisUnavailable.
+    void analysisPending();
+    /// A run for design generation `generation` has started on the worker (`coarse`: the
+    /// burst's coarse sweep).
+    void analysisStarted(quint64 generation, bool coarse);
     /// The design cannot be analysed: every view drops its numbers and shows `reason`.
     /// `partId` names the offending part when the reason names one.
     void analysisUnavailable(const QString &reason, const QString &partId);
@@ -192,8 +231,14 @@ signals:
     void candidatesChanged();
 
 private:
+    /// One analysis run's outcome, made on the worker for design generation `generation`.
+    struct Run;
     void scheduleRecompute();
-    void recompute();
+    /// Starts a run for the design as it is now unless one is in flight or nothing is needed.
+    void dispatch();
+    /// On the UI thread: applies `run` when it is for the current design, else drops it.
+    void finishRun(const std::shared_ptr<Run> &run);
+    void applyRun(Run &run);
     void rebuildLayout();
     void pushDesign(Design after, const QString &text);
     /// Keeps what names parts consistent with the parts (candidates, input) after a
@@ -206,10 +251,20 @@ private:
     std::optional<Analysis> m_analysis;
     SketchLayout m_layout;
     QUndoStack m_undoStack;
-    QTimer m_recomputeTimer;
+    QTimer m_recomputeTimer; ///< 0 ms: the changes of one event-loop turn cost one run
+    QTimer m_settleTimer; ///< a burst's full run once the edits pause
+    QElapsedTimer m_sinceChange;
     QString m_filePath;
     QString m_diagnostics;
     double m_lastAnalysisMs = 0.0;
+    double m_lastFullMs = 0.0;
+    quint64 m_generation = 0;
+    quint64 m_shownGeneration = 0;
+    bool m_shownCoarse = false;
+    bool m_wantCoarse = false;
+    bool m_running = false;
+    int m_droppedResults = 0;
+    std::thread m_worker;
 };
 
 } // namespace loopsketch::ui

@@ -63,6 +63,11 @@ MainWindow::MainWindow(QWidget *parent)
     m_diagnostics->setWordWrap(false);
     m_diagnostics->setTextInteractionFlags(Qt::TextSelectableByMouse);
 
+    m_pendingTimer = new QTimer(this);
+    m_pendingTimer->setSingleShot(true);
+    m_pendingTimer->setInterval(150);
+    connect(m_pendingTimer, &QTimer::timeout, this, [this] { m_readout->setEnabled(false); });
+
     connectDocument();
     connectSketch();
 
@@ -98,6 +103,18 @@ void MainWindow::connectDocument()
     connect(m_document, &DesignDocument::designReset, this, &MainWindow::rebuildSketch);
     connect(m_document, &DesignDocument::analysisChanged, this, &MainWindow::showAnalysis);
     connect(m_document, &DesignDocument::analysisUnavailable, this, &MainWindow::showUnavailable);
+    connect(m_document, &DesignDocument::analysisPending, this, &MainWindow::showPending);
+    for (PlotPanel *panel : m_panels) {
+        for (QWidget *w = panel->parentWidget(); w; w = w->parentWidget()) {
+            if (auto *dock = qobject_cast<QDockWidget *>(w)) {
+                connect(dock, &QDockWidget::visibilityChanged, this, [this, panel](bool visible) {
+                    if (visible)
+                        catchUpPanel(panel);
+                });
+                break;
+            }
+        }
+    }
     connect(m_document, &DesignDocument::noticeIssued, this,
             [this](const QString &text) { statusBar()->showMessage(text, 15000); });
     connect(m_document, &DesignDocument::diagnosticsChanged, this, [this](const QString &text) {
@@ -263,6 +280,8 @@ void MainWindow::showAnalysis(const Analysis &analysis)
 {
     QElapsedTimer timer;
     timer.start();
+    m_pendingTimer->stop();
+    m_readout->setEnabled(true);
     // Inside a burst of edits (wheel, arrow keys) the panels draw without antialiasing,
     // which saves a few ms a frame; the settled frame is drawn smooth again.
     const qint64 now = QDateTime::currentMSecsSinceEpoch();
@@ -275,16 +294,49 @@ void MainWindow::showAnalysis(const Analysis &analysis)
     }
     m_readout->showAnalysis(analysis, m_document->design());
     m_scene->markProblem({});
+    // A panel in a dock out of sight (a tab behind another, a closed dock) catches up when
+    // its dock comes on screen (catchUpPanel).
     for (PlotPanel *panel : m_panels) {
+        // (A dock behind another tab stays "visible", moved out of the window.)
+        if (!panel->isVisible() || panel->viewport()->visibleRegion().isEmpty()) {
+            m_panelsBehind.insert(panel);
+            continue;
+        }
+        m_panelsBehind.erase(panel);
         panel->showUnavailable(QString());
         panel->showAnalysis(analysis);
     }
     m_view->setBadge(topologyBadge(analysis), analysis.topology.has_value());
     const double panelsMs = double(timer.nsecsElapsed()) / 1e6;
-    m_timing->setText(tr("recomputed in %1 ms (analysis %2 ms, panels %3 ms)")
-                          .arg(m_document->lastAnalysisMs() + panelsMs, 0, 'f', 1)
-                          .arg(m_document->lastAnalysisMs(), 0, 'f', 1)
-                          .arg(panelsMs, 0, 'f', 1));
+    if (m_document->isShownCoarse())
+        m_timing->setText(tr("coarse sweep (%1 points per decade), the full one follows "
+                             "(analysis %2 ms, panels %3 ms)")
+                              .arg(DesignDocument::kCoarsePointsPerDecade)
+                              .arg(m_document->lastAnalysisMs(), 0, 'f', 1)
+                              .arg(panelsMs, 0, 'f', 1));
+    else
+        m_timing->setText(tr("recomputed in %1 ms (analysis %2 ms, panels %3 ms)")
+                              .arg(m_document->lastAnalysisMs() + panelsMs, 0, 'f', 1)
+                              .arg(m_document->lastAnalysisMs(), 0, 'f', 1)
+                              .arg(panelsMs, 0, 'f', 1));
+}
+
+void MainWindow::catchUpPanel(PlotPanel *panel)
+{
+    if (!m_panelsBehind.erase(panel))
+        return;
+    if (const Analysis *shown = m_document->shownAnalysis()) {
+        panel->showUnavailable(QString());
+        panel->showAnalysis(*shown);
+    }
+}
+
+void MainWindow::showPending()
+{
+    m_timing->setText(tr("analysing the change…"));
+    // A slow design: the Readout greys while its numbers are those of the previous values.
+    if (!m_pendingTimer->isActive() && m_readout->isEnabled())
+        m_pendingTimer->start();
 }
 
 void MainWindow::selectionChanged()
@@ -322,9 +374,12 @@ void MainWindow::placeSymbol(int symbol, QPointF scenePos)
 
 void MainWindow::showUnavailable(const QString &reason, const QString &partId)
 {
+    m_pendingTimer->stop();
+    m_readout->setEnabled(true);
     m_readout->showUnavailable(reason);
     for (PlotPanel *panel : m_panels)
         panel->showUnavailable(reason);
+    m_panelsBehind.clear();
     m_view->setBadge(tr("not analysed"), false);
     m_timing->clear();
     if (!partId.isEmpty())

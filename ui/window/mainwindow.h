@@ -6,6 +6,7 @@
 #include <QMainWindow>
 #include <QPointF>
 
+#include <set>
 #include <string>
 #include <vector>
 
@@ -119,6 +120,11 @@ private:
     void rebuildSketch();
     void showAnalysis(const Analysis &analysis);
     void showUnavailable(const QString &reason, const QString &partId);
+    /// The design changed and its result is on the way: the status line says so at once,
+    /// the Readout greys if it takes long.
+    void showPending();
+    /// Brings a panel that missed results while out of sight up to the shown analysis.
+    void catchUpPanel(PlotPanel *panel);
     void selectionChanged();
     void addRecentFile(const QString &path);
     void updateRecentMenu();
@@ -167,6 +173,8 @@ private:
     bool m_sizedDocks = false;
     QTimer *m_settleTimer = nullptr; ///< antialiasing back on once a burst of edits settles
     qint64 m_lastAnalysisAt = 0;
+    QTimer *m_pendingTimer = nullptr; ///< greys the Readout while a slow result is on the way
+    std::set<PlotPanel *> m_panelsBehind; ///< out of sight when the last result came
 };
 
 } // namespace loopsketch::ui
