@@ -5,6 +5,7 @@
 #include "demowindowtest.h"
 #include "windowchecks.h"
 
+#include "chaindesigns.h"
 #include "clirun.h"
 
 #include "panels/mappanel.h"
@@ -25,6 +26,7 @@
 #include <QTemporaryDir>
 #include <QTest>
 #include <QUndoStack>
+#include <QValueAxis>
 #include <QXYSeries>
 
 #include <gmock/gmock.h>
@@ -116,6 +118,39 @@ TEST_F(Stability, LoopGainPanelDrawsAolAndInvBetaMeetingAtTheCrossover)
               QStringLiteral("closure %1 dB/decade")
                   .arg(std::lround(*a.margins.rateOfClosureDbPerDecade)));
     screenshot(panel, "stability-loopgain.png");
+}
+
+// On the 50-part RC ladder, 1/β climbs past 700 dB where T falls far below one at high
+// frequency; the magnitude axis still shows T from DC to the crossover (it follows T and the
+// gains; the closure curves and a may widen it by at most 120 dB; common practice: the loop
+// gain is the curve a designer reads on this plot).
+TEST_F(Stability, LoopGainAxisKeepsTInSightWhenInvBetaSoars)
+{
+    QString error;
+    ASSERT_TRUE(
+        window->openText(loopsketch::test::rcLadderText(), QStringLiteral("ladder"), &error))
+        << error.toStdString();
+    ASSERT_TRUE(doc()->waitForAnalysis());
+    ASSERT_NE(doc()->analysis(), nullptr);
+    const Analysis &a = *doc()->analysis();
+    double invBetaDb = -1e300;
+    for (const auto &v : a.curves.invBeta)
+        invBetaDb = std::max(invBetaDb, 20 * std::log10(std::abs(v)));
+    ASSERT_GT(invBetaDb, 500.0);
+    auto *panel = window->findChild<LoopGainPanel *>();
+    ASSERT_NE(panel, nullptr);
+    QXYSeries *t = panel->series(curveName(PlotCurve::LoopGain));
+    ASSERT_NE(t, nullptr);
+    QValueAxis *magnitude = nullptr;
+    for (QAbstractAxis *axis : t->attachedAxes())
+        if (axis->orientation() == Qt::Vertical)
+            magnitude = qobject_cast<QValueAxis *>(axis);
+    ASSERT_NE(magnitude, nullptr);
+    const double tDc = 20 * std::log10(std::abs(a.curves.loopGain.front()));
+    EXPECT_LE(magnitude->min(), tDc);
+    EXPECT_GE(magnitude->max(), tDc);
+    EXPECT_LE(magnitude->min(), 0.0); // the crossover, |T| = 1
+    EXPECT_LE(magnitude->max(), tDc + 300.0);
 }
 
 TEST_F(Stability, NyquistPanelStatesCoresEncirclementsAndMarksTheMargins)

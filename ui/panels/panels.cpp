@@ -79,8 +79,17 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
     QList<QPointF> closure[2];
     showClosure(a, frequencyLo(a), frequencyHi(a), closure);
     double lo = 0, hi = 0;
-    if (yRange({&mags[0], &mags[1], &mags[2], &mags[3], &closure[0], &closure[1]}, &lo, &hi))
+    // T and the gains set the range; the A circuit's gain a (in the gain's unit, which can
+    // reach hundreds of dB) and the closure curves (1/β grows without bound where T falls far
+    // below one) may widen it by at most 120 dB, so that they never push T out of sight.
+    if (yRange({&mags[1], &mags[2], &mags[3]}, &lo, &hi)) {
+        double wideLo = 0, wideHi = 0;
+        if (yRange({&mags[0], &closure[0], &closure[1]}, &wideLo, &wideHi)) {
+            lo = std::max(std::min(lo, wideLo), lo - 120.0);
+            hi = std::min(std::max(hi, wideHi), hi + 120.0);
+        }
         setRoundRange(m_mag, std::max(lo, hi - 300.0), std::max(hi, 0.0), 40);
+    }
     if (yRange({&phases[0], &phases[1], &phases[2], &phases[3]}, &lo, &hi))
         setRoundRange(m_phase, lo, hi, 90);
     setDecadeRange(m_x, frequencyLo(a), frequencyHi(a), {});
