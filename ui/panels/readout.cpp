@@ -7,6 +7,7 @@
 #include "loopsketch/analysis/trialmetrics.h"
 #include "loopsketch/base/value.h"
 
+#include <QEvent>
 #include <QFontMetrics>
 #include <QLabel>
 #include <QRegularExpression>
@@ -58,6 +59,7 @@ Readout::Readout(QWidget *parent) : QWidget(parent)
     m_strip = new QWidget(this);
     m_flow = new FlowLayout(m_strip, 18, 4);
     m_flow->setContentsMargins(10, 6, 10, 6);
+    m_strip->installEventFilter(this);
     column->addWidget(m_strip);
     // An unstable loop is the first thing the strip says: white on red, the poles below.
     m_banner = new QLabel(this);
@@ -102,6 +104,16 @@ void Readout::resizeEvent(QResizeEvent *event)
 {
     QWidget::resizeEvent(event);
     fitStripHeight();
+}
+
+bool Readout::eventFilter(QObject *watched, QEvent *event)
+{
+    // A reading that changes its size (a longer number, the banner's style applied when first
+    // shown) re-lays the strip out: its height follows at once, not at the next analysis, so
+    // the strip never hides a line and the Sketch below does not jump on the first edit.
+    if (watched == m_strip && event->type() == QEvent::LayoutRequest)
+        fitStripHeight();
+    return QWidget::eventFilter(watched, event);
 }
 
 void Readout::fitStripHeight()
