@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Are the accuracy warnings true? A by-hand measurement, not a ctest case.
 
-Usage: accuracy_truth.py LOOPSKETCH_CLI ANALYSIS_FUZZ_DRIVER FIRST_SEED COUNT [POINTS]
+Usage: accuracy_truth.py LOOPSKETCH_CLI ANALYSIS_FUZZ_DRIVER FIRST_SEED COUNT [POINTS] [--unwarned]
 
 Needs mpmath (any Python 3 with it; Debian's python3-mpmath or pip). For each of COUNT
 generated designs from FIRST_SEED that the CLI analyzes with an accuracy warning ("accuracy
@@ -11,7 +11,8 @@ ends included) with its own modified nodal analysis in 50-digit arithmetic (mpma
 the part values are the file's doubles taken exactly, the gain block its rational function,
 the conventions of DESIGN.md sections 4 and 5, as tests/fuzz/scipy_cross_check.py), and
 prints per design the error the warnings state beside the largest error the CLI's numbers
-actually have. The CLI's numbers are read from `sweep --csv` (10 significant digits of dB
+actually have. With --unwarned it takes the designs without such a warning instead: any
+error above 1e-8 there is a silent wrong number. The CLI's numbers are read from `sweep --csv` (10 significant digits of dB
 and degrees); what that rounding can explain (half a unit in the last digit, per value) is
 taken off each difference before it counts.
 """
@@ -190,10 +191,12 @@ def cli_value(row, column):
 
 
 def main():
-    if len(sys.argv) not in (5, 6):
+    args = [a for a in sys.argv[1:] if a != "--unwarned"]
+    unwarned = len(args) + 1 != len(sys.argv)
+    if len(args) not in (4, 5):
         raise SystemExit(__doc__)
-    cli, driver, first, count = sys.argv[1], sys.argv[2], int(sys.argv[3]), int(sys.argv[4])
-    points = int(sys.argv[5]) if len(sys.argv) == 6 else 9
+    cli, driver, first, count = args[0], args[1], int(args[2]), int(args[3])
+    points = int(args[4]) if len(args) == 5 else 9
     stated_re = re.compile(r"accuracy cannot be assured: (.*?) at .*? may be off by ([0-9.e+-]+)")
     true_warnings = false_warnings = designs = 0
     seed = first - 1
@@ -212,7 +215,7 @@ def main():
             stated = [stated_re.search(w.get("message", ""))
                       for w in json.loads(run.stdout).get("warnings", [])]
             stated = [(m.group(1), float(m.group(2))) for m in stated if m]
-            if not stated:
+            if bool(stated) == unwarned:
                 continue
             out = os.path.join(tmp, "d.csv")
             subprocess.run([cli, "sweep", path, "--csv", out], check=True, capture_output=True)
@@ -233,7 +236,7 @@ def main():
                     err = max(0.0, float(abs(got - want) / abs(want)) - resolution)
                     actual[column] = max(actual.get(column, 0.0), err)
             designs += 1
-            worst_stated = max(e for _, e in stated)
+            worst_stated = max((e for _, e in stated), default=0.0)
             worst_actual = max(actual.values(), default=0.0)
             true = worst_actual > 1e-8
             true_warnings += true
