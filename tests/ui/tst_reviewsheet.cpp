@@ -238,6 +238,21 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
         EXPECT_NEAR(t, tp["loop_gain"].toDouble(), 1e-9 * std::abs(t));
     }
 
+    // T near the crossover as `analyze --json` lists it, row by row; 180° plus the phase in the
+    // |T| = 1 row is the phase margin (definition of phase margin, common practice).
+    const QJsonArray nearCrossover = a["margins"].toObject()["loop_gain_near_crossover"].toArray();
+    if (pm.isDouble()) {
+        EXPECT_FALSE(nearCrossover.isEmpty());
+        EXPECT_THAT(sheet, HasSubstr("Loop gain T near the crossings"));
+    }
+    for (const QJsonValue &v : nearCrossover) {
+        const QJsonObject t = v.toObject();
+        EXPECT_THAT(sheet, HasSubstr(loopsketch::formatFixed(t["phase_deg"].toDouble(), 2) + "°"));
+        if (std::abs(t["magnitude"].toDouble() - 1.0) < 1e-9 && pm.isDouble()) {
+            EXPECT_NEAR(180.0 + t["phase_deg"].toDouble(), pm.toDouble(), 1e-9);
+        }
+    }
+
     // Noise totals and band as the sheet formats them (4 digits, as eng()), from the same
     // numbers `analyze --json` prints; the largest source's share of the power with it.
     const QJsonObject noise = a["noise"].toObject();
@@ -268,7 +283,7 @@ TEST_P(ReviewSheetExport, MatchesAnalyzeJsonAndSweep)
 
 INSTANTIATE_TEST_SUITE_P(ExampleDesigns, ReviewSheetExport,
                          testing::Values(SheetCase{"demo", 6}, SheetCase{"contact-mic-preamp", 6},
-                                         SheetCase{"excitation-current-driver", 5},
+                                         SheetCase{"excitation-current-driver", 6},
                                          SheetCase{"gas-cell-current-amplifier", 6},
                                          SheetCase{"turbidity-probe-front-end", 6}),
                          [](const testing::TestParamInfo<SheetCase> &param) {

@@ -52,6 +52,7 @@ int paintSheet(QPainter *p, QPaintDevice *device, QPdfWriter *pdf, QSizeF pageMm
     topologySection(w, a);
     methodSection(w, a);
     metricsSection(w, d, a);
+    loopGainSection(w, a);
     noiseSection(w, a);
     candidatesSection(w, d, candidates);
     spreadSection(w, d, a, spread);

@@ -311,6 +311,37 @@ void metricsSection(SheetWriter &w, const Design &d, const Analysis &a)
                     sheetFont(kBodyPt, true), 0, kFail);
 }
 
+void loopGainSection(SheetWriter &w, const Analysis &a)
+{
+    const Margins &m = a.margins;
+    if (m.nearCrossover.empty())
+        return;
+    w.heading(QStringLiteral("Loop gain T near the crossings"));
+    std::vector<SheetWriter::Row> rows;
+    for (const LoopGainSample &t : m.nearCrossover) {
+        const double db = toDecibels(t.magnitude);
+        rows.push_back({{eng(t.frequencyHz, "Hz", 4), q(formatPlain(t.magnitude, 5)),
+                         q(formatFixed(std::abs(db) < 5e-3 ? 0.0 : db, 2)) + QStringLiteral(" dB"),
+                         q(formatFixed(t.phaseDeg, 2)) + QStringLiteral("°")}});
+    }
+    w.table({{QStringLiteral("Frequency"), 40},
+             {QStringLiteral("|T| (ratio)"), 40, Qt::AlignRight},
+             {QStringLiteral("|T| in dB"), 40, Qt::AlignRight},
+             {QStringLiteral("phase of T"), 40, Qt::AlignRight}},
+            rows);
+    QString how = QStringLiteral("T evaluated on the circuit model at ¼, ½, 1, 2 and 4 times the "
+                                 "crossover and at each phase crossing. Phase margin = 180° + "
+                                 "phase of T where |T| = 1");
+    if (m.phaseMarginDeg && m.crossoverHz)
+        how += QStringLiteral(" (%1 at %2)")
+                   .arg(degrees(m.phaseMarginDeg), eng(m.crossoverHz, "Hz", 4));
+    how += QStringLiteral("; gain margin = −20·log10 |T| where the phase of T is −180°");
+    if (m.gainMarginDb && m.phaseCrossoverHz)
+        how += QStringLiteral(" (%1 at %2)")
+                   .arg(decibels(m.gainMarginDb), eng(m.phaseCrossoverHz, "Hz", 4));
+    w.paragraph(how + QLatin1Char('.'), sheetFont(7.5), 0, QColor(90, 90, 90));
+}
+
 void noiseSection(SheetWriter &w, const Analysis &a)
 {
     w.heading(QStringLiteral("Noise"));

@@ -17,6 +17,8 @@ void partsSection(SheetWriter &w, const Design &d);
 void topologySection(SheetWriter &w, const Analysis &a);
 void methodSection(SheetWriter &w, const Analysis &a);
 void metricsSection(SheetWriter &w, const Design &d, const Analysis &a);
+/// T near the loop crossover and at the phase crossings: the margins, recomputable by hand.
+void loopGainSection(SheetWriter &w, const Analysis &a);
 void noiseSection(SheetWriter &w, const Analysis &a);
 void spreadSection(SheetWriter &w, const Design &d, const Analysis &a, const SheetSpread *spread);
 /// The plots, each candidate overlaid.

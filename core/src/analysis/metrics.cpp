@@ -125,6 +125,33 @@ BeyondSweep frequenciesBeyondSweep(const std::vector<double> &f,
     return out;
 }
 
+namespace {
+
+/// T at the samples Margins::nearCrossover lists, each phase unwrapped next to the one the
+/// margin it belongs to was read with (the crossover's, or -180 deg at a phase crossing).
+std::vector<LoopGainSample> loopGainNearCrossings(const LoopModel &model, const Margins &m)
+{
+    std::vector<LoopGainSample> samples;
+    const auto sample = [&](double hz, double referenceRad) {
+        const std::complex<double> t = model.loopGainAt(jw(hz));
+        const double magnitude = std::abs(t);
+        if (std::isfinite(magnitude))
+            samples.push_back({hz, magnitude, detail::degrees(phaseNear(t, referenceRad))});
+    };
+    if (m.crossoverHz && m.phaseMarginDeg) {
+        const double atCrossover = (*m.phaseMarginDeg - 180.0) * kPi / 180.0;
+        for (double factor : {0.25, 0.5, 1.0, 2.0, 4.0})
+            sample(*m.crossoverHz * factor, atCrossover);
+    }
+    for (const GainMargin &g : m.gainMargins)
+        sample(g.frequencyHz, -kPi);
+    std::sort(samples.begin(), samples.end(),
+              [](const auto &a, const auto &b) { return a.frequencyHz < b.frequencyHz; });
+    return samples;
+}
+
+} // namespace
+
 Margins computeMargins(const LoopModel &model, const std::vector<double> &f, const Curve &t,
                        std::complex<double> tDc)
 {
@@ -187,6 +214,7 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
             m.phaseCrossoverHz = g.frequencyHz;
         }
     }
+    m.nearCrossover = loopGainNearCrossings(model, m);
     return m;
 }
 

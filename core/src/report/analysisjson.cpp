@@ -215,6 +215,10 @@ std::vector<std::pair<std::string, std::string>> analysisUnits(const Analysis &a
               {"margins.gain_margins_db[].frequency_hz", "Hz"},
               {"margins.rate_of_closure_db_per_decade", "dB/decade"},
               {"margins.closure_level_db", "dB"},
+              {"margins.loop_gain_near_crossover[].frequency_hz", "Hz"},
+              {"margins.loop_gain_near_crossover[].magnitude", ratio},
+              {"margins.loop_gain_near_crossover[].magnitude_db", "dB"},
+              {"margins.loop_gain_near_crossover[].phase_deg", "\u00B0"},
               {"closed_loop.bandwidth_hz", "Hz"},
               {"closed_loop.peaking_db", "dB"},
               {"closed_loop.poles[].re", "rad/s"},
@@ -300,6 +304,12 @@ std::string analysisToJson(const Analysis &a)
     Json gainMargins = Json::array();
     for (const GainMargin &g : a.margins.gainMargins)
         gainMargins.push_back({{"db", number(g.db)}, {"frequency_hz", number(g.frequencyHz)}});
+    Json nearCrossover = Json::array();
+    for (const LoopGainSample &t : a.margins.nearCrossover)
+        nearCrossover.push_back({{"frequency_hz", number(t.frequencyHz)},
+                                 {"magnitude", number(t.magnitude)},
+                                 {"magnitude_db", number(20.0 * std::log10(t.magnitude))},
+                                 {"phase_deg", number(t.phaseDeg)}});
     j["margins"] = {{"crossover_hz", number(a.margins.crossoverHz)},
                     {"phase_margin_deg", number(a.margins.phaseMarginDeg)},
                     {"gain_margin_db", number(a.margins.gainMarginDb)},
@@ -307,7 +317,8 @@ std::string analysisToJson(const Analysis &a)
                     {"gain_margins_db", gainMargins},
                     {"rate_of_closure_db_per_decade", number(a.margins.rateOfClosureDbPerDecade)},
                     {"closure_level_db", number(a.margins.closureLevelDb)},
-                    {"steep_closure", a.margins.steepClosure}};
+                    {"steep_closure", a.margins.steepClosure},
+                    {"loop_gain_near_crossover", nearCrossover}};
     Json poles = Json::array();
     for (const auto &p : a.poles)
         poles.push_back({{"re", number(p.s.real())},

@@ -157,6 +157,15 @@ void writeDc(std::ostringstream &os, TextLines &out, const Analysis &a)
     out.show("z_out (Blackman)", a.returnRatio.zOut, "Ω");
 }
 
+/// "|T| 2.1861 (6.79 dB), phase -115.66°": a pure ratio, its level and its phase.
+std::string loopGainSampleText(const LoopGainSample &t)
+{
+    const double db = toDecibels(t.magnitude);
+    return "|T| " + formatPlain(t.magnitude, 5) + " ("
+        + formatFixed(std::abs(db) < 5e-3 ? 0.0 : db, 2) + " dB), phase "
+        + formatFixed(t.phaseDeg, 2) + "°";
+}
+
 void writeStabilityAndMargins(std::ostringstream &os, TextLines &out, const Analysis &a)
 {
     os << "\nStability and response\n";
@@ -186,6 +195,9 @@ void writeStabilityAndMargins(std::ostringstream &os, TextLines &out, const Anal
     } else {
         out.frequency("phase crossover", a.margins.phaseCrossoverHz);
     }
+    // T itself near the crossings, so that a reviewer can recompute the margins by hand.
+    for (const LoopGainSample &t : a.margins.nearCrossover)
+        out.row("  T at " + formatEngineering(t.frequencyHz, 4, "Hz"), loopGainSampleText(t));
 }
 
 void writeClosedLoop(TextLines &out, const Analysis &a)

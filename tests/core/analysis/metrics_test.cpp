@@ -120,6 +120,50 @@ TEST(GainMargins, ConditionallyStableLoopReportsEveryGainMargin)
     }
 }
 
+// The table a reviewer recomputes the margins from: T at 1/4 .. 4 times the crossover and at
+// each phase crossing equals the follower's loop gain by hand (the rational function, 1e-9),
+// and the definitions of the margins (Ogata, Modern Control Engineering, frequency-response
+// chapter, from memory) applied to the table give the reported margins back.
+TEST(GainMargins, LoopGainTableRecomputesTheMargins)
+{
+    Follower f;
+    f.gain = 5e5;
+    f.polesHz = {10.0, 20.0, 50.0, 200e3, 1e6};
+    f.zerosHz = {200.0, 500.0};
+    const Analysis a = analyzeOrFail(f.design());
+    const std::vector<LoopGainSample> &table = a.margins.nearCrossover;
+    ASSERT_EQ(table.size(), 5u + a.margins.gainMargins.size());
+    const double fc = valueOf(a.margins.crossoverHz);
+    int crossoverRows = 0, phaseCrossingRows = 0;
+    for (std::size_t i = 0; i < table.size(); ++i) {
+        const LoopGainSample &t = table[i];
+        if (i > 0) {
+            EXPECT_GT(t.frequencyHz, table[i - 1].frequencyHz);
+        }
+        const std::complex<double> byHand = followerLoop(f, t.frequencyHz);
+        EXPECT_LT(relErr(t.magnitude, std::abs(byHand)), 1e-9) << t.frequencyHz;
+        EXPECT_LT(std::abs(std::polar(1.0, t.phaseDeg * kPi / 180.0) - byHand / std::abs(byHand)),
+                  1e-9)
+            << t.frequencyHz;
+        if (std::abs(t.frequencyHz / fc - 1.0) < 1e-12) {
+            ++crossoverRows;
+            EXPECT_NEAR(t.magnitude, 1.0, 1e-9);
+            EXPECT_NEAR(180.0 + t.phaseDeg, valueOf(a.margins.phaseMarginDeg), 1e-9);
+        }
+        for (const GainMargin &g : a.margins.gainMargins) {
+            if (std::abs(t.frequencyHz / g.frequencyHz - 1.0) < 1e-12) {
+                ++phaseCrossingRows;
+                EXPECT_NEAR(t.phaseDeg, -180.0, 1e-6);
+                EXPECT_NEAR(-20.0 * std::log10(t.magnitude), g.db, 1e-9);
+            }
+        }
+    }
+    EXPECT_EQ(crossoverRows, 1);
+    EXPECT_EQ(phaseCrossingRows, static_cast<int>(a.margins.gainMargins.size()));
+    EXPECT_THAT(analysisToJson(a), HasSubstr("\"loop_gain_near_crossover\""));
+    EXPECT_THAT(analysisToText(a), HasSubstr("T at "));
+}
+
 // Crossover and phase crossover lie above a sweep that stops at 100 kHz: they are found on
 // the model all the same, equal to those of a sweep that covers them (the loop does not
 // depend on the sweep), and the text says where they are.

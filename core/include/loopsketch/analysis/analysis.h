@@ -47,6 +47,14 @@ struct GainMargin
     double frequencyHz = 0;
 };
 
+/// The loop gain T at one frequency, as a reviewer recomputes the margins from it.
+struct LoopGainSample
+{
+    double frequencyHz = 0;
+    double magnitude = 0; ///< |T|, a pure ratio
+    double phaseDeg = 0; ///< unwrapped as the phase margin reads it: 180 + phaseDeg at |T| = 1
+};
+
 struct Margins
 {
     OptionalNumber crossoverHz; ///< |T| = 1 (the one with the worst phase margin)
@@ -63,6 +71,10 @@ struct Margins
     /// True when the rate of closure is the trade's 40 dB/decade or more (a local rate of
     /// kSteepClosureDbPerDecade or more: nearer 40 than 20).
     bool steepClosure = false;
+    /// T on the model at 1/4, 1/2, 1, 2 and 4 times the crossover, then at each phase
+    /// crossing, ascending in frequency: the table from which a reviewer recomputes the
+    /// phase margin (180 + phase at |T| = 1) and the gain margins (-20 log10 |T| at -180).
+    std::vector<LoopGainSample> nearCrossover;
 };
 
 /// From this rate of closure (dB/decade) on, a closure counts as the trade's 40 dB/decade
