@@ -157,11 +157,12 @@ void writeDc(std::ostringstream &os, TextLines &out, const Analysis &a)
     out.show("z_out (Blackman)", a.returnRatio.zOut, "Ω");
 }
 
-/// "|T| 2.1861 (6.79 dB), phase -115.66°": a pure ratio, its level and its phase.
+/// "|T| 2.1861 (ratio, 6.79 dB), phase -115.66°": a pure ratio named as such (as every
+/// unitless number of the text), its level and its phase.
 std::string loopGainSampleText(const LoopGainSample &t)
 {
     const double db = toDecibels(t.magnitude);
-    return "|T| " + formatPlain(t.magnitude, 5) + " ("
+    return "|T| " + formatPlain(t.magnitude, 5) + " (ratio, "
         + formatFixed(std::abs(db) < 5e-3 ? 0.0 : db, 2) + " dB), phase "
         + formatFixed(t.phaseDeg, 2) + "°";
 }
