@@ -120,6 +120,23 @@ Result<TwoPortNetwork> sourceSideNetwork(const Design &design, const std::vector
     return TwoPortNetwork::build(sourceParts, srcHot, sourceInput, ParameterSet::H);
 }
 
+/// True when the source-side parts join `node` (the gain-block input the source drives) to
+/// ground by some path of their own; false with no parts there (a plain wire).
+bool sourceSideGrounds(const std::vector<Part> &sourceParts, const std::string &node)
+{
+    Netlist n;
+    const auto identity = [](const std::string &name) {
+        return name;
+    };
+    for (const Part &p : sourceParts)
+        addPassivePart(n, p, {}, identity);
+    const bool present
+        = std::any_of(n.elements.begin(), n.elements.end(),
+                      [&](const NetlistElement &e) { return e.a == node || e.b == node; });
+    const std::vector<std::string> floating = nodesWithoutGround(n);
+    return present && std::find(floating.begin(), floating.end(), node) == floating.end();
+}
+
 } // namespace
 
 struct LoopModel::TwoPortSystems
@@ -326,6 +343,28 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
     }
     sys->sourceSide = std::move(side).value();
     sys->readPartValues(design);
+    // Series mixing drives the A circuit with the source's open-circuit voltage behind its
+    // impedance, both infinite for an ideal current source with nothing to ground on its side:
+    // the estimate would divide rounding by rounding, so it is missing as a whole.
+    if (t.mixing == Connection::Series && !sys->voltageSource && sys->gParallel == 0.0
+        && sys->cParallel == 0.0 && !sourceSideGrounds(sourceParts, t.sourceInput)) {
+        const Part *src = design.signalSource();
+        m_twoPortProblem = "series mixing needs the source as a voltage behind an impedance, and "
+            + src->id + " is a current source with no r_parallel or c_parallel and nothing from "
+            + "node " + t.sourceInput + " to ground on its side of the gain block: that "
+            + "impedance is infinite at every frequency";
+        return;
+    }
+    if (path == SolverPath::Reduced) {
+        std::vector<TransferEntry> aEntries
+            = {{sys->sampled, loopio::kSource}, {loopio::kOutput, loopio::kSource}};
+        for (int out : {sys->outP1, sys->outP2})
+            for (int in : {sys->testP1, sys->testP2})
+                aEntries.push_back({out, in});
+        checkEstimateAccuracy(design,
+                              {sys->network, sys->sourceSide, sys->aFull, aEntries,
+                               sys->aSeriesInput, sys->aSeriesOutput});
+    }
     m_twoPort = sys;
 }
 
@@ -568,7 +607,10 @@ void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
         c.loopGainTwoPort[i] = c.a[i] * c.beta[i];
         const Complex desens = 1.0 + c.loopGainTwoPort[i];
         c.closedLoop[i] = c.a[i] / desens;
-        c.gainTwoPort[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
+        // a / (1 + a beta) times the drive per unit of source and the output per unit
+        // sampled, with the drive and the sampled signal cancelled: neither is divided by, so
+        // a point where one of them is zero (a notch, or rounding of one) is no 0/0.
+        c.gainTwoPort[i] = aEntry(1, i) / desens;
 
         if (seriesMix && x.inputDrawsNoCurrent) {
             // The node's impedance (zs + zq) desens - zs is infinite: the limit.
