@@ -199,14 +199,21 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     const double *d = p.d.data();
     const cd nan(std::numeric_limits<double>::quiet_NaN(),
                  std::numeric_limits<double>::quiet_NaN());
-    const auto isUniform = [](L v) {
+    // Every lambda below is inlined always and takes lanes by reference: without
+    // optimisation a lambda is a function of its own, compiled for the baseline processor,
+    // and lanes passed by value from the AVX-2 or AVX-512 caller arrive by another calling
+    // convention (in the -O0 sanitizer build isUniform() saw garbage, so lanes 1 to 3 took
+    // lane 0's pivot rows and gave wrong numbers with no warning: fuzz seeds 7, 8 and 19).
+    const auto isUniform = [](const L &v) __attribute__((always_inline))
+    {
         for (int w = 1; w < W; ++w)
             if (v[w] != v[0])
                 return false;
         return true;
     };
     // Row swaps of the right-hand side, in the order of the factorisation or reversed.
-    const auto swapRhs = [&](LC *x, Index j) {
+    const auto swapRhs = [&](LC * x, Index j) __attribute__((always_inline))
+    {
         if (uniform[j] >= 0) {
             if (uniform[j] != j)
                 std::swap(x[j], x[uniform[j]]);
@@ -245,7 +252,8 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
         if (!sparse)
             start[r] = ~Pattern(0);
     }
-    const auto has = [&](Index r, Index col) {
+    const auto has = [&](Index r, Index col) __attribute__((always_inline))
+    {
         return !sparse || ((nz[r] >> col) & 1u) != 0;
     };
 

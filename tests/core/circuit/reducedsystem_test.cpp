@@ -254,6 +254,64 @@ TEST(ReducedSweep, TinyOutputOfALargeSolutionIsRefinedToFullAccuracy)
             << "one point, " << std::abs(s[i]) / (2 * kPi) << " Hz";
 }
 
+// Neighbouring lanes that choose different pivot rows. Rows 0 and 1 of G + sC start
+// [s, 1] and [1, 2]: the scaled pivot choice takes row 0 in column 0 where |s| > 0.5 and
+// row 1 below, so points alternating across |s| = 0.5 make every group of lanes disagree
+// and take the lane-wise swaps. A kernel whose lanes saw another lane's pivot rows (at -O0,
+// a helper compiled for the baseline processor received the AVX lanes by another calling
+// convention: fuzz seeds 7, 8 and 19 off by up to 5 % with no warning) fails here in the
+// sanitizer build. Reference: Eigen's full-pivoting LU of the same matrix, point by point.
+TEST(ReducedSweep, LanesWithDifferentPivotRowsMatchFullPivotingLu)
+{
+    for (int k : {3, 12}) { // an unrolled order and the general one
+        Eigen::MatrixXd g = Eigen::MatrixXd::Zero(k, k), c = Eigen::MatrixXd::Zero(k, k);
+        c(0, 0) = 1.0;
+        g(0, 1) = 1.0;
+        g(1, 0) = 1.0;
+        g(1, 1) = 2.0;
+        for (int i = 2; i < k; ++i) {
+            g(i, i) = 1.0 + i;
+            g(i, i - 1) = 0.5;
+            g(i - 1, i) = 0.25;
+            c(i, i) = 1e-3 * i;
+        }
+        Eigen::MatrixXd b = Eigen::MatrixXd::Zero(k, 2), l = Eigen::MatrixXd::Zero(2, k);
+        const Eigen::MatrixXd d = Eigen::MatrixXd::Zero(2, 2);
+        for (int i = 0; i < k; ++i) {
+            b(i, 0) = 1.0 + 0.1 * i;
+            b(i, 1) = i % 2 == 0 ? 1.0 : -0.5;
+            l(0, i) = 1.0;
+            l(1, i) = 0.5 * i - 1.0;
+        }
+        std::vector<cd> s;
+        for (int i = 0; i < 37; ++i) // a short last group at every width
+            s.push_back({0.0, (i % 2 == 0 ? 0.1 : 10.0) * (1.0 + 0.01 * i)});
+        const detail::PencilView pencil{g, c, b, l, d};
+        for (SweepWidth width : {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
+            if (!detail::sweepWidthAvailable(width))
+                continue;
+            // Two outputs of one input (direct solves), one output of two inputs (transposed).
+            const TransferEntry column[] = {{0, 0}, {1, 0}}, row[] = {{1, 0}, {1, 1}};
+            for (const auto &entries :
+                 {std::span<const TransferEntry>(column), std::span<const TransferEntry>(row)}) {
+                std::vector<cd> got(entries.size() * s.size());
+                detail::sweepPencil(pencil, s, entries, got.data(), width);
+                for (std::size_t i = 0; i < s.size(); ++i) {
+                    const Eigen::MatrixXcd a = g.cast<cd>() + s[i] * c.cast<cd>();
+                    const Eigen::MatrixXcd z = a.fullPivLu().solve(b.cast<cd>());
+                    const Eigen::MatrixXcd y = l.cast<cd>() * z;
+                    for (std::size_t e = 0; e < entries.size(); ++e)
+                        ASSERT_LT(
+                            relErr(got[e * s.size() + i], y(entries[e].output, entries[e].input)),
+                            1e-12)
+                            << "order " << k << ", width " << static_cast<int>(width) << ", point "
+                            << i << ", entry " << e;
+                }
+            }
+        }
+    }
+}
+
 // An exactly zero pivot: the lossless pair x' = y, y' = -x + u (G = [[0, -1], [1, 0]],
 // C = I) has det(G + sC) = s^2 + 1, so at s = j the elimination's second pivot is
 // j + 1/j = 0 exactly. There the entry does not exist (a natural frequency on the jw axis):
