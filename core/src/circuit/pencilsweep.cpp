@@ -32,6 +32,10 @@ struct Plan
     std::vector<int> slot; ///< per entry: index into `vectors`
     std::vector<int> other; ///< per entry: its row (direct) or column (transposed)
     std::vector<int> rows, cols; ///< scratch, kept to avoid allocating per call
+    /// Per point, set to 1 where the point's error estimate is above
+    /// kDoubtfulRelativeError (or it took the careful solve), else 0; null: no estimate.
+    std::uint8_t *doubtful = nullptr;
+    double doubtfulFloor = 0.0; ///< the level a value below it is held to
 };
 
 void makePlan(std::span<const TransferEntry> entries, Plan &plan)
@@ -163,6 +167,7 @@ template<int K, typename L>
 sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
            std::span<const TransferEntry> entries, const Plan &plan, cd *out)
 {
+    std::uint8_t *const doubtful = plan.doubtful;
     using LC = LaneComplex<L>;
     constexpr int W = laneCount<L>;
     const Index k = K > 0 ? K : kAny;
@@ -172,10 +177,12 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
     constexpr Index cap = K > 0 ? K : 1;
     alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap], resStack[cap],
-        keptStack[cap];
-    alignas(kLaneAlignment) L pivStack[cap], weightStack[cap];
+        keptStack[cap], dualStack[cap];
+    alignas(kLaneAlignment) L pivStack[cap], weightStack[cap], sizeStack[cap];
     Index uniformStack[cap];
     LC *a = aStack, *invDiag = invStack, *y = yStack, *res = resStack, *kept = keptStack;
+    LC *dual = dualStack; // the adjoint of an output (see forwardError)
+    L *rowSize = sizeStack; // (|A| |y| + |b|) per row, from backwardError
     L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
     L *weight = weightStack; // 1 / the largest squared modulus of each row, per lane
     Index *uniform = uniformStack; // that row when every lane chose it, else -1
@@ -183,16 +190,18 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
         thread_local LaneVector<LC> work;
         thread_local LaneVector<L> pivots;
         thread_local std::vector<Index> same;
-        work.resize(static_cast<std::size_t>(k * k + 4 * k));
-        pivots.resize(static_cast<std::size_t>(2 * k));
+        work.resize(static_cast<std::size_t>(k * k + 5 * k));
+        pivots.resize(static_cast<std::size_t>(3 * k));
         same.resize(static_cast<std::size_t>(k));
         a = work.data();
         invDiag = a + k * k;
         y = invDiag + k;
         res = y + k;
         kept = res + k;
+        dual = kept + k;
         piv = pivots.data();
         weight = piv + k;
+        rowSize = weight + k;
         uniform = same.data();
     }
     const double *g = p.g.data(), *c = p.c.data(), *b = p.b.data(), *l = p.l.data();
@@ -289,6 +298,7 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
             weight[r] = usable ? 1.0 / largest : L{} + 1.0;
         }
         L retry = {}; // non-zero in a lane that needs the careful solve
+        L unsure = {}; // non-zero in a lane whose forward error estimate is too large
         for (Index j = 0; j < k; ++j) {
             // Pivot by squared modulus (which the reciprocal needs anyway) times the weight.
             L bestMag = magnitude2(a[j * k + j]);
@@ -339,10 +349,10 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 nz[r] |= right;
             }
         }
-        // y = A^-1 y (direct) or A^-T y (transposed) in place, from the factors.
-        const auto solveInPlace = [&](LC * x) __attribute__((always_inline))
+        // x = A^-1 x (direct) or A^-T x (transposed) in place, from the factors.
+        const auto solveWith = [&](LC * x, bool transposed) __attribute__((always_inline))
         {
-            if (!plan.transposed) {
+            if (!transposed) {
                 // P A = L U with whole rows swapped (multipliers included): swaps first.
                 for (Index j = 0; j < k; ++j)
                     swapRhs(x, j);
@@ -374,6 +384,10 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                     swapRhs(x, j);
             }
         };
+        const auto solveInPlace = [&](LC * x) __attribute__((always_inline))
+        {
+            solveWith(x, plan.transposed);
+        };
         // The residual of y against the pencil itself (the factors overwrote it; G + sC is
         // rebuilt row by row) into `res`, and the componentwise backward error of y per lane
         // (Oettli-Prager: the largest |r_i| / (|A| |y| + |b|)_i; a row whose sizes are all
@@ -398,6 +412,7 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                         * (absLanes(y[cc].re) + absLanes(y[cc].im));
                 }
                 res[r] = acc;
+                rowSize[r] = size;
                 const L miss = absLanes(acc.re) + absLanes(acc.im);
                 const L positive = size > 0.0 ? size : L{} + 1.0;
                 const L row = size > 0.0 ? miss / positive : (miss > 0.0 ? L{} + 1.0 : L{});
@@ -405,6 +420,37 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 omega = row > omega || row != row ? row : omega;
             }
             return omega;
+        };
+        // First-order error of the entry that pairs the solved vector `which` with `other`,
+        // acc its value: a small backward error bounds the error of y only as far as the
+        // pencil is well conditioned, and the reduced pencil can be far worse conditioned
+        // than the circuit (fuzz seed 14: backward error 5e-16, the gain off by 2.6e-7 at
+        // some points, 1e-11 at their neighbours). With w the adjoint of the entry (the
+        // output's row of L solved with A^T for a direct solve; B's column solved with A for
+        // a transposed one), the error is w^T r for the residual r, plus one rounding of every
+        // term of A y and b weighed by |w|, plus one rounding of every term of the output's
+        // sum (as RefinedSolver::errorBound() for the full system). Needs the residual and
+        // row sizes of the solution in hand (backwardError()).
+        const auto forwardError = [&](int which, int other) __attribute__((always_inline))
+        {
+            constexpr double u = std::numeric_limits<double>::epsilon() / 2;
+            L sum = absLanes(
+                L{} + (plan.transposed ? d[other * outputs + which] : d[which * outputs + other]));
+            for (Index m = 0; m < k; ++m) {
+                const double q = plan.transposed ? b[other * k + m] : l[m * outputs + other];
+                dual[m] = {L{} + q, L{}};
+                sum += std::abs(q) * (absLanes(y[m].re) + absLanes(y[m].im));
+            }
+            solveWith(dual, !plan.transposed);
+            LC wr{};
+            L weighed = L{};
+            for (Index m = 0; m < k; ++m) {
+                wr.re += dual[m].re * res[m].re - dual[m].im * res[m].im;
+                wr.im += dual[m].re * res[m].im + dual[m].im * res[m].re;
+                weighed += (absLanes(dual[m].re) + absLanes(dual[m].im)) * rowSize[m];
+            }
+            const L bound = absLanes(wr.re) + absLanes(wr.im) + u * (weighed + sum);
+            return bound;
         };
         for (Index v = 0; v < nVectors; ++v) {
             const int which = plan.vectors[static_cast<std::size_t>(v)];
@@ -441,6 +487,8 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                     y[r].re = back ? kept[r].re : y[r].re;
                     y[r].im = back ? kept[r].im : y[r].im;
                 }
+                if (doubtful && anyLane(back ? L{} + 1.0 : L{}))
+                    backwardError(which); // the residual of the solution kept
             }
             for (std::size_t e = 0; e < entries.size(); ++e) {
                 if (plan.slot[e] != v)
@@ -463,15 +511,24 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 // Non-finite results go the careful way too (x * 0 is NaN for inf and NaN).
                 const L probe = acc.re * 0.0 + acc.im * 0.0;
                 retry = probe != 0.0 ? L{} + 1.0 : retry;
+                if (doubtful) {
+                    const L size = absLanes(acc.re) + absLanes(acc.im);
+                    const L level = size > plan.doubtfulFloor ? size : L{} + plan.doubtfulFloor;
+                    unsure = forwardError(which, other) > kDoubtfulRelativeError * level ? L{} + 1.0
+                                                                                         : unsure;
+                }
                 cd *dst = out + static_cast<Index>(e) * nPoints + i0;
                 for (Index w = 0; w < lanes; ++w)
                     dst[w] = cd(acc.re[w], acc.im[w]);
             }
         }
-        for (Index w = 0; w < lanes; ++w)
+        for (Index w = 0; w < lanes; ++w) {
             if (retry[w] != 0.0)
                 solvePointCarefully(p, points[static_cast<std::size_t>(i0 + w)], entries,
                                     out + i0 + w, nPoints);
+            if (doubtful)
+                doubtful[i0 + w] = retry[w] != 0.0 || unsure[w] != 0.0 ? 1 : 0;
+        }
     }
 }
 
@@ -563,7 +620,8 @@ void sweepAnyOrder(const PencilView &pencil, int k, std::span<const cd> points,
 
 void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>> points,
                  std::span<const TransferEntry> entries, std::complex<double> *out,
-                 [[maybe_unused]] SweepWidth width)
+                 [[maybe_unused]] SweepWidth width, std::span<std::uint8_t> doubtful,
+                 double doubtfulFloor)
 {
     const auto k = static_cast<int>(pencil.g.rows());
     const auto nPoints = static_cast<Index>(points.size());
@@ -572,10 +630,13 @@ void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>>
             for (Index i = 0; i < nPoints; ++i)
                 out[static_cast<Index>(e) * nPoints + i]
                     = pencil.d(entries[e].output, entries[e].input);
+        std::fill(doubtful.begin(), doubtful.end(), std::uint8_t(0));
         return;
     }
     thread_local Plan plan;
     makePlan(entries, plan);
+    plan.doubtful = doubtful.empty() ? nullptr : doubtful.data();
+    plan.doubtfulFloor = doubtfulFloor;
 #ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
     if (width == SweepWidth::Automatic) // a single point (root finding) costs a whole group
         width = sweepWidthAvailable(SweepWidth::Eight) && points.size() > 4 ? SweepWidth::Eight

@@ -16,6 +16,7 @@
 #include <Eigen/Core>
 
 #include <complex>
+#include <cstdint>
 #include <span>
 
 namespace loopsketch::detail {
@@ -26,11 +27,21 @@ struct PencilView
     const Eigen::MatrixXd &g, &c, &b, &l, &d;
 };
 
+/// Relative first-order error of an entry above which its point is doubtful: the pencil
+/// is too ill-conditioned there for the fast solve, and the caller solves the point again
+/// from the full system (ReducedSystem). A tenth of the accuracy the outputs assure (1e-8).
+inline constexpr double kDoubtfulRelativeError = 1e-9;
+
 /// out[e * points.size() + i] = entry e at points[i] (s in rad/s). Every entry of a point is
-/// NaN where the pencil is singular there; an entry that overflows is NaN.
+/// NaN where the pencil is singular there; an entry that overflows is NaN. With `doubtful`
+/// (one per point), each entry's error is estimated from its adjoint (one more solve with
+/// the same factors) and doubtful[i] is 1 where an entry of point i may be off by more
+/// than kDoubtfulRelativeError of its value (of `doubtfulFloor`, an absolute level, where
+/// the value is below it), or the point took the careful solve, else 0.
 void sweepPencil(const PencilView &pencil, std::span<const std::complex<double>> points,
                  std::span<const TransferEntry> entries, std::complex<double> *out,
-                 SweepWidth width = SweepWidth::Automatic);
+                 SweepWidth width = SweepWidth::Automatic, std::span<std::uint8_t> doubtful = {},
+                 double doubtfulFloor = 0.0);
 
 /// True when the processor can run the sweep at `width`.
 bool sweepWidthAvailable(SweepWidth width);

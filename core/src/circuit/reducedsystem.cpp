@@ -197,7 +197,16 @@ std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, in
         return {std::numeric_limits<double>::quiet_NaN(), std::numeric_limits<double>::quiet_NaN()};
     const TransferEntry e[] = {{output, input}};
     std::complex<double> h;
-    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h);
+    std::uint8_t doubtful = 0;
+    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h, SweepWidth::Automatic,
+                        checkedPoints({&doubtful, 1}), m_checkFloor);
+    if (doubtful) {
+        thread_local Eigen::MatrixXcd full;
+        const int in[] = {input}, out[] = {output};
+        full.resize(outputs(), inputs());
+        solveFullInto(s, in, out, full);
+        h = full(output, input);
+    }
     return exact(h);
 }
 
@@ -247,17 +256,7 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
         return;
     }
     if (m_refined) {
-        const cd nan(std::numeric_limits<double>::quiet_NaN(),
-                     std::numeric_limits<double>::quiet_NaN());
-        detail::RefinedSolver solver(*m_system);
-        const bool regular = solver.factor(s);
-        for (int c : inputs) {
-            const Eigen::VectorXcd x = regular ? solver.solve(c) : Eigen::VectorXcd();
-            for (int o : outputs) {
-                const cd v = regular ? solver.output(o, x) : nan;
-                h(o, c) = std::isfinite(v.real()) && std::isfinite(v.imag()) ? v : nan;
-            }
-        }
+        solveFullInto(s, inputs, outputs, h);
         return;
     }
     if (m_path == SolverPath::DenseLu && order() > 0) {
@@ -284,9 +283,38 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
         for (int o : outputs)
             entries.push_back({o, c});
     values.resize(entries.size());
-    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, entries, values.data());
+    std::uint8_t doubtful = 0;
+    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, entries, values.data(),
+                        SweepWidth::Automatic, checkedPoints({&doubtful, 1}), m_checkFloor);
+    if (doubtful) {
+        solveFullInto(s, inputs, outputs, h);
+        return;
+    }
     for (std::size_t e = 0; e < entries.size(); ++e)
         h(entries[e].output, entries[e].input) = values[e];
+}
+
+std::span<std::uint8_t> ReducedSystem::checkedPoints(std::span<std::uint8_t> doubtful) const
+{
+    // Without the full system there is nothing better to solve a doubtful point with.
+    return m_checkEveryPoint && m_system ? doubtful : std::span<std::uint8_t>();
+}
+
+void ReducedSystem::solveFullInto(std::complex<double> s, std::span<const int> inputs,
+                                  std::span<const int> outputs, Eigen::MatrixXcd &h) const
+{
+    using cd = std::complex<double>;
+    const cd nan(std::numeric_limits<double>::quiet_NaN(),
+                 std::numeric_limits<double>::quiet_NaN());
+    detail::RefinedSolver solver(*m_system);
+    const bool regular = solver.factor(s);
+    for (int c : inputs) {
+        const Eigen::VectorXcd x = regular ? solver.solve(c) : Eigen::VectorXcd();
+        for (int o : outputs) {
+            const cd v = regular ? solver.output(o, x) : nan;
+            h(o, c) = std::isfinite(v.real()) && std::isfinite(v.imag()) ? v : nan;
+        }
+    }
 }
 
 std::vector<std::complex<double>>
@@ -295,7 +323,11 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
 {
     std::vector<std::complex<double>> out(entries.size() * s.size());
     if (m_path == SolverPath::Reduced && !m_refined) {
-        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
+        thread_local std::vector<std::uint8_t> doubtful;
+        doubtful.assign(s.size(), 0);
+        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width,
+                            checkedPoints(doubtful), m_checkFloor);
+        resolveDoubtful(s, entries, doubtful, out);
         // Entries zero for every value of the parts: an exact 0 where the point is regular.
         for (std::size_t e = 0; e < entries.size(); ++e) {
             if (!structuralZero(entries[e].output, entries[e].input))
@@ -331,6 +363,30 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
             out[e * s.size() + i] = h(entries[e].output, entries[e].input);
     }
     return out;
+}
+
+void ReducedSystem::resolveDoubtful(std::span<const std::complex<double>> s,
+                                    std::span<const TransferEntry> entries,
+                                    std::span<const std::uint8_t> doubtful,
+                                    std::vector<std::complex<double>> &out) const
+{
+    if (std::find(doubtful.begin(), doubtful.end(), std::uint8_t(1)) == doubtful.end())
+        return;
+    std::vector<int> inputs, outputs;
+    for (const TransferEntry &e : entries) {
+        if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
+            inputs.push_back(e.input);
+        if (std::find(outputs.begin(), outputs.end(), e.output) == outputs.end())
+            outputs.push_back(e.output);
+    }
+    Eigen::MatrixXcd h(this->outputs(), this->inputs());
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        if (!doubtful[i])
+            continue;
+        solveFullInto(s[i], inputs, outputs, h);
+        for (std::size_t e = 0; e < entries.size(); ++e)
+            out[e * s.size() + i] = h(entries[e].output, entries[e].input);
+    }
 }
 
 std::vector<Eigen::MatrixXcd> ReducedSystem::sweep(const std::vector<double> &frequenciesHz) const

@@ -67,12 +67,19 @@ void LoopModel::checkAccuracy(const Design &design)
                       m_warnings.push_back(std::move(d));
               }
           };
-    using namespace loopio;
-    run(m_full, {{{kOutput, kSource}, "the gain"}});
+    // The exact gain and impedances are shown as solved: each of their points checks
+    // itself as well (the probes below cannot see between them).
     // An impedance below a millionth of the circuit's smallest resistance counts as zero: its
     // rounding is checked against that level, not against itself (common practice: no
     // designer reads an impedance six decades below every resistor in the loop).
     const double zeroLevel = 1e-6 * smallestResistance(design);
+    if (m_full)
+        m_full->checkEveryPoint();
+    for (std::optional<ReducedSystem> *impedance : {&m_input, &m_output})
+        if (*impedance)
+            (*impedance)->checkEveryPoint(zeroLevel);
+    using namespace loopio;
+    run(m_full, {{{kOutput, kSource}, "the gain"}});
     run(m_input, {{{kInputVoltage, kInputPort}, "z_in", true, zeroLevel}});
     run(m_output, {{{kLoadVoltage, kLoadPort}, "z_out", true, zeroLevel}});
     // The return ratio's gain and impedances are combined from several entries (sweep(),

@@ -254,6 +254,59 @@ TEST(ReducedSweep, TinyOutputOfALargeSolutionIsRefinedToFullAccuracy)
             << "one point, " << std::abs(s[i]) / (2 * kPi) << " Hz";
 }
 
+// A reduced pencil far worse conditioned than the circuit (fuzz seed 14: a -480 dB
+// series-series gain through gigaohms beside ohms). Each solve's backward error is a few
+// eps, yet the gain was off by up to 2.6e-7 at some points of 100-500 kHz and by 1e-11 at
+// their neighbours, between the accuracy check's probes and with no warning. With
+// checkEveryPoint() each point's adjoint error estimate sends such points to the full
+// system. Reference: the careful solve of the full system (extended-precision residuals),
+// whose own first-order bound is asked to be small first; and the 50-digit nodal model
+// of tests/fuzz/scipy_cross_check.py's conventions, run by hand, agreed to 1.1e-10.
+TEST(ReducedSweep, IllConditionedPencilBetweenProbesIsSolvedFromTheFullSystem)
+{
+    auto design
+        = loadDesign(std::string(LOOPSKETCH_TEST_DATA_DIR)
+                     + "/fuzz-found/reduced-pencil-ill-conditioned-between-probes.loopsketch");
+    ASSERT_TRUE(design.ok()) << design.errorText();
+    auto assembled = assembleSystem(buildLoopNetlist(*design));
+    ASSERT_TRUE(assembled.ok()) << assembled.errorText();
+    const DescriptorSystem full = *assembled;
+    auto unchecked = ReducedSystem::build(full);
+    ASSERT_TRUE(unchecked.ok()) << unchecked.errorText();
+    ReducedSystem checked = *unchecked;
+    checked.checkEveryPoint();
+    const std::vector<cd> s = logPoints(1e5, 5e5, 29);
+    std::vector<cd> want(s.size());
+    detail::RefinedSolver careful(full);
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        ASSERT_TRUE(careful.factor(s[i]));
+        Eigen::VectorXcd r;
+        const Eigen::VectorXcd x = careful.solve(loopio::kSource, &r);
+        want[i] = careful.output(loopio::kOutput, x);
+        ASSERT_LT(careful.errorBound(loopio::kOutput, loopio::kSource, x, r) / std::abs(want[i]),
+                  1e-8)
+            << "the reference itself at point " << i;
+    }
+    const TransferEntry entry[] = {{loopio::kOutput, loopio::kSource}};
+    double worstUnchecked = 0;
+    const std::vector<cd> fast = unchecked->sweepEntries(s, entry);
+    for (std::size_t i = 0; i < s.size(); ++i)
+        worstUnchecked = std::max(worstUnchecked, relErr(fast[i], want[i]));
+    ASSERT_GT(worstUnchecked, 1e-8) << "the design no longer shows the ill-conditioned pencil";
+    for (SweepWidth width :
+         {SweepWidth::Automatic, SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight}) {
+        if (!detail::sweepWidthAvailable(width))
+            continue;
+        const std::vector<cd> got = checked.sweepEntries(s, entry, width);
+        for (std::size_t i = 0; i < s.size(); ++i)
+            EXPECT_LT(relErr(got[i], want[i]), 1e-9) << "width " << static_cast<int>(width) << ", "
+                                                     << std::abs(s[i]) / (2 * kPi) << " Hz";
+    }
+    for (std::size_t i = 0; i < s.size(); ++i)
+        EXPECT_LT(relErr(checked.entry(s[i], loopio::kOutput, loopio::kSource), want[i]), 1e-9)
+            << "one point, " << std::abs(s[i]) / (2 * kPi) << " Hz";
+}
+
 // Neighbouring lanes that choose different pivot rows. Rows 0 and 1 of G + sC start
 // [s, 1] and [1, 2]: the scaled pivot choice takes row 0 in column 0 where |s| > 0.5 and
 // row 1 below, so points alternating across |s| = 0.5 make every group of lanes disagree

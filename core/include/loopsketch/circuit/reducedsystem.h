@@ -16,6 +16,7 @@
 #include <Eigen/Core>
 
 #include <complex>
+#include <cstdint>
 #include <initializer_list>
 #include <memory>
 #include <optional>
@@ -172,6 +173,20 @@ public:
     AccuracyCheck checkAccuracy(std::span<const std::complex<double>> probes,
                                 std::span<const CheckedEntry> entries, double tolerance = 1e-8);
 
+    /// From now on every point the reduced pencil solves gets a first-order error estimate
+    /// (an adjoint solve more), and a point whose estimate is above
+    /// detail::kDoubtfulRelativeError of its value is solved again from the full system
+    /// with refinement; a value below `floor` (absolute) is held to that level instead of
+    /// its own size (an impedance that counts as zero). For the systems whose entries are
+    /// shown as they are (the exact gain and impedances): checkAccuracy() probes a few
+    /// points, and the reduced pencil can be ill-conditioned between them where the
+    /// circuit is not.
+    void checkEveryPoint(double floor = 0.0)
+    {
+        m_checkEveryPoint = true;
+        m_checkFloor = floor;
+    }
+
     /// True when the system solves the full matrix with refinement (see checkAccuracy()).
     bool refined() const { return m_refined; }
 
@@ -192,6 +207,19 @@ public:
     const Eigen::MatrixXd &dr() const { return m_dr; }
 
 private:
+    /// `doubtful` where the full system is at hand to solve a doubtful point again, else
+    /// empty (no estimate asked of the sweep kernel).
+    std::span<std::uint8_t> checkedPoints(std::span<std::uint8_t> doubtful) const;
+    /// The full system solved carefully at s (RefinedSolver), for the inputs and outputs
+    /// asked for; NaN where it is singular or a value is not finite.
+    void solveFullInto(std::complex<double> s, std::span<const int> inputs,
+                       std::span<const int> outputs, Eigen::MatrixXcd &h) const;
+    /// The points the sweep kernel found doubtful, solved again from the full system.
+    void resolveDoubtful(std::span<const std::complex<double>> s,
+                         std::span<const TransferEntry> entries,
+                         std::span<const std::uint8_t> doubtful,
+                         std::vector<std::complex<double>> &out) const;
+
     Eigen::MatrixXd m_gr; ///< k x k
     Eigen::MatrixXd m_cr; ///< k x k
     Eigen::MatrixXd m_br; ///< k x inputs
@@ -200,6 +228,8 @@ private:
     std::vector<std::string> m_unknowns; ///< names of the kept unknowns
     SolverPath m_path = SolverPath::Reduced;
     std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
+    bool m_checkEveryPoint = false; ///< see checkEveryPoint()
+    double m_checkFloor = 0.0; ///< see checkEveryPoint()
     /// outputs x inputs (row-major), true where the entry is zero for every value of the
     /// parts (core/src/circuit/structuralzeros.h); every path returns an exact 0 there.
     std::vector<bool> m_structuralZero;
