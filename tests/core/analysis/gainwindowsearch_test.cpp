@@ -29,13 +29,15 @@ namespace {
 // non-inverting input through RF, the source reaching that input through RS. The node
 // equation at in_p gives G = A RF / (RF - (A - 1) RS) (derived by hand from the circuit):
 // a pole at RF = 9 RS, so the gain is not monotone over an RF range holding 9 RS, and at
-// RS = 2k, RF = 18k (both in the IEC 60063 E24 table) the circuit has no DC solution.
+// RS = 2k, RF = 18k (both in the IEC 60063 E24 table) the circuit has no DC solution. CP
+// across RF is open at DC.
 const char *kPositiveFeedback = R"({"schema": "loopsketch.design/1", "title": "x", "parts": [
   {"id": "VS", "type": "vsource", "pos": "src", "neg": "0"},
   {"id": "RS", "type": "resistor", "a": "src", "b": "p", "value": "1k", "series": "E24"},
   {"id": "U1", "type": "gain_block", "in_p": "p", "in_n": "0", "out": "out", "gain": "20dB",
    "poles_hz": ["1k"]},
   {"id": "RF", "type": "resistor", "a": "out", "b": "p", "value": "27k", "series": "E24"},
+  {"id": "CP", "type": "capacitor", "a": "out", "b": "p", "value": "10p", "series": "E6"},
   {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"}],
   "input": "VS", "output": "voltage",
   "sweep": {"start": "1", "stop": "10M", "points_per_decade": 10},
@@ -92,13 +94,19 @@ std::vector<Case> cases()
         // a window no combination reaches: only the nearest outside it are ranked
         {"BridgeUnreachable", test::bridgeStageText(R"({"gain": ["999", "1001"]})"),
          {"RF", "RG", "CF"}, kBridgeRanges, ESeries::E12},
+        // and without CF, whose values would fill the nearest rows from one gain
+        {"BridgeTwoResistorsAboveReach", test::bridgeStageText(R"({"gain": ["999", "1001"]})"),
+         {"RG", "RF"}, kBridgeRanges, ESeries::E48},
+        {"BridgeTwoResistorsBelowReach", test::bridgeStageText(R"({"gain": ["1", "1.01"]})"),
+         {"RG", "RF"}, kBridgeRanges, ESeries::E48},
         // a bandwidth no row reaches: no row meets every spec, every row in the window runs
         {"BridgeBandwidthOutOfReach",
          test::bridgeStageText(R"({"gain": ["10.5", "11.5"], "bandwidth_min": "100M"})"),
          {"RF", "RG", "CF"}, kBridgeRanges, ESeries::E12},
-        // a wide window and a tight phase margin: few rows meet every spec
+        // a wide window and a phase margin few rows reach: the rows meeting every spec are
+        // scattered far down the order of the gain's distance from the centre
         {"BridgeWideWindowTightMargin",
-         test::bridgeStageText(R"({"gain": ["8", "14"], "phase_margin_min_deg": 88})"),
+         test::bridgeStageText(R"({"gain": ["8", "14"], "phase_margin_min_deg": 128})"),
          {"RF", "RG", "CF"}, kBridgeRanges, ESeries::E12},
         // a noise spec: the objective is the noise rms, so every row in the window runs
         {"BridgeNoiseObjective",
@@ -110,8 +118,9 @@ std::vector<Case> cases()
          {{"R1", {3e3, 30e3}}, {"R2", {30, 300}}, {"RL", {300, 3e3}}}, ESeries::E24},
         {"DemoFeedbackPair", serializeDesign(test::loadOrFail(test::kDesignsDir / "demo.loopsketch")),
          {"RF", "CF"}, {{"RF", {1e5, 1e7}}, {"CF", {1e-13, 1e-11}}}, ESeries::E24},
-        {"PositiveFeedback", kPositiveFeedback, {"RF", "RS"},
-         {{"RF", {1e3, 100e3}}, {"RS", {100, 10e3}}}, std::nullopt},
+        // with CP searched too: the combinations without a solution counted for all its values
+        {"PositiveFeedback", kPositiveFeedback, {"RF", "RS", "CP"},
+         {{"RF", {1e3, 100e3}}, {"RS", {100, 10e3}}, {"CP", {1e-12, 10e-12}}}, std::nullopt},
     };
 }
 
