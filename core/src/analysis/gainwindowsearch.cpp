@@ -62,7 +62,9 @@ Plan makePlan(const Design &design, const std::vector<SearchedValue> &parts, boo
             dependent.push_back(k);
     }
     // Along the lines: the bilinear part with the most values, else the largest part.
-    const auto size = [&](int k) { return parts[static_cast<std::size_t>(k)].values.size(); };
+    const auto size = [&](int k) {
+        return parts[static_cast<std::size_t>(k)].values.size();
+    };
     for (int k : dependent) {
         const bool bilinear = prune
             && dependenceOf(design, parts[static_cast<std::size_t>(k)]) == Dependence::Bilinear
@@ -122,8 +124,7 @@ public:
                LineResult &out, std::atomic<std::size_t> &computed, std::atomic<bool> &overCap)
         : m_request(request), m_plan(plan), m_space(space), m_out(out), m_computed(computed),
           m_overCap(overCap), m_gain(plan.lineLength, 0.0), m_state(plan.lineLength, 0)
-    {
-    }
+    { }
 
     /// False when stopped by the cap.
     bool run()
@@ -301,8 +302,8 @@ std::size_t plannedEvaluations(const Design &design, const std::vector<SearchedV
     for (std::size_t k = 0; k < parts.size(); ++k)
         shared[k] = prune && dependenceOf(design, parts[k]) == Dependence::None;
     const Plan plan = makePlan(design, parts, prune, shared);
-    const double total = static_cast<double>(plan.lines)
-        * static_cast<double>(lineEvaluations(plan, nearest));
+    const double total
+        = static_cast<double>(plan.lines) * static_cast<double>(lineEvaluations(plan, nearest));
     return total >= static_cast<double>(std::numeric_limits<std::size_t>::max() / 2)
         ? std::numeric_limits<std::size_t>::max() / 2
         : plan.lines * lineEvaluations(plan, nearest);

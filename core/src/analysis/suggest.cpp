@@ -242,9 +242,8 @@ Suggestion rowOf(const SuggestResult &r, std::size_t c, const TrialMetrics &metr
 std::size_t shortlistSize(const SuggestOptions &o, std::size_t rows)
 {
     const std::size_t best = static_cast<std::size_t>(o.best);
-    return std::min(rows,
-                    o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist))
-                                    : 4 * best);
+    return std::min(
+        rows, o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist)) : 4 * best);
 }
 
 /// The suggestions of the combinations `chosen` whose trial ran (`done` 1), with their
@@ -422,7 +421,55 @@ void evaluateRows(const Design &design, const SuggestOptions &o, const SuggestRe
     }
 }
 
+std::string overCapText()
+{
+    return "more than " + std::to_string(kMaxCombinations)
+        + " combinations to evaluate: narrow the ranges or pick fewer parts";
+}
+
+const SuggestRange &largestRange(const std::vector<SuggestRange> &ranges)
+{
+    return *std::max_element(ranges.begin(), ranges.end(),
+                             [](const SuggestRange &a, const SuggestRange &b) {
+                                 return a.values.size() < b.values.size();
+                             });
+}
+
+/// The plan of a checked request; `parts` receives the searched values. The cap counts the
+/// DC gains the search computes, not the combinations it covers.
+Result<SuggestPlan> planOf(const Design &design, const SuggestOptions &o,
+                           const std::vector<SuggestRange> &ranges,
+                           std::vector<detail::SearchedValue> &parts, std::string_view file)
+{
+    SuggestPlan plan;
+    plan.combinations = 1;
+    for (const auto &range : ranges) {
+        if (static_cast<double>(plan.combinations) * static_cast<double>(range.values.size())
+            > static_cast<double>(kMaxSearchedCombinations))
+            return error(file, range.part, "series",
+                         "more than " + std::to_string(kMaxSearchedCombinations)
+                             + " combinations to search: narrow the ranges or pick fewer parts");
+        plan.combinations *= range.values.size();
+        parts.push_back({range.part, range.field, range.values});
+    }
+    plan.evaluations
+        = detail::plannedEvaluations(design, parts, static_cast<std::size_t>(o.best), o.prune);
+    if (plan.evaluations > kMaxCombinations)
+        return error(file, largestRange(ranges).part, "series", overCapText());
+    return plan;
+}
+
 } // namespace
+
+Result<SuggestPlan> planSuggest(const Design &design, const SuggestOptions &o,
+                                std::string_view file)
+{
+    auto ranges = checkRequest(design, o, file);
+    if (!ranges)
+        return ranges.diagnostics();
+    std::vector<detail::SearchedValue> parts;
+    return planOf(design, o, *ranges, parts, file);
+}
 
 bool ranksBefore(const Suggestion &a, const Suggestion &b)
 {
@@ -444,30 +491,17 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
     r.noiseObjective = hasNoiseSpec(design.specs);
     // halves first: a window near the largest double must not overflow to infinity
     r.targetGain = design.specs.gainMin->si / 2.0 + design.specs.gainMax->si / 2.0;
-    r.combinations = 1;
     detail::GainWindowRequest request;
-    const SuggestRange *largest = &r.ranges.front();
-    for (const auto &range : r.ranges) {
-        if (static_cast<double>(r.combinations) * static_cast<double>(range.values.size())
-            > static_cast<double>(kMaxSearchedCombinations))
-            return error(file, range.part, "series",
-                         "more than " + std::to_string(kMaxSearchedCombinations)
-                             + " combinations to search: narrow the ranges or pick fewer parts");
-        r.combinations *= range.values.size();
-        request.parts.push_back({range.part, range.field, range.values});
-        if (range.values.size() > largest->values.size())
-            largest = &range;
-    }
+    auto plan = planOf(design, o, r.ranges, request.parts, file);
+    if (!plan)
+        return plan.diagnostics();
+    r.combinations = plan->combinations;
+    const std::size_t planned = plan->evaluations;
+    const SuggestRange &largest = largestRange(r.ranges);
     const std::vector<double> grid = coarseGrid(design.sweep, o.pointsPerDecade);
     if (grid.size() < 2)
         return error(file, {}, "sweep", "the sweep has no frequency range to evaluate");
     const auto best = static_cast<std::size_t>(o.best);
-    // The cap counts the DC gains the search computes, not the combinations it covers.
-    const std::string overCap = "more than " + std::to_string(kMaxCombinations)
-        + " combinations to evaluate: narrow the ranges or pick fewer parts";
-    const std::size_t planned = detail::plannedEvaluations(design, request.parts, best, o.prune);
-    if (planned > kMaxCombinations)
-        return error(file, largest->part, "series", overCap);
     // Up front: the planned DC gains, then at least `best` full trials.
     const CircuitSize size = circuitSize(design);
     const double dcOps = dcGainOperations(size), trialOps = trialOperations(size, grid.size());
@@ -495,8 +529,8 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
     detail::GainWindowResult window = detail::searchGainWindow(request);
     r.computed = window.computed;
     if (window.overCap)
-        return error(file, largest->part, "series",
-                     overCap + " (the gain is not monotone in the parts over the whole range)");
+        return error(file, largest.part, "series",
+                     overCapText() + " (the gain is not monotone in the parts over the ranges)");
     r.evaluated = window.decided;
     r.failed = window.failed;
     std::vector<std::size_t> chosen;

@@ -137,6 +137,20 @@ struct SuggestResult
 Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &options,
                                     std::string_view file = {});
 
+/// What a search would cover, known before it runs.
+struct SuggestPlan
+{
+    std::size_t combinations = 0; ///< product of the range sizes
+    /// DC gains the search computes at least (every bisection succeeding); more where the
+    /// gain is not monotone in a part. Checked against kMaxCombinations.
+    std::size_t evaluations = 0;
+};
+
+/// The plan of suggestValues(design, options): fails as suggestValues() does before any work
+/// (bad request, too many combinations or DC gains to compute), naming part and field.
+Result<SuggestPlan> planSuggest(const Design &design, const SuggestOptions &options,
+                                std::string_view file = {});
+
 /// JSON (schema loopsketch.suggest/1) and terminal text of a search.
 /// The ranking's order: true when `a` ranks before `b` (see suggestValues()).
 bool ranksBefore(const Suggestion &a, const Suggestion &b);
