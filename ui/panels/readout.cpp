@@ -325,6 +325,11 @@ void Readout::showSpecVerdicts(const Analysis &a)
     }
 }
 
+void Readout::showNoise(const Analysis &a, const Design &design)
+{
+    showNoise(a, design.specs, checkSpecs(design.specs, design.sweep, trialMetricsOf(a)));
+}
+
 void Readout::showNoiseFollows()
 {
     // The noise of these values follows in a moment (the noise pass is a fraction of the

@@ -27,6 +27,9 @@ public:
     /// `noiseFollows`: `analysis` has no noise yet (it follows in a moment): the noise cell
     /// keeps its reading, greyed, and says so.
     void showAnalysis(const Analysis &analysis, const Design &design, bool noiseFollows = false);
+    /// The noise cell alone, from `analysis` (the same numbers otherwise: the noise that
+    /// followed the result shown, DesignDocument::noiseChanged).
+    void showNoise(const Analysis &analysis, const Design &design);
     /// The design cannot be analysed: every value reads "—", `reason` in the tooltips.
     void showUnavailable(const QString &reason);
     /// All cells as "title: value" lines, then the warnings line when shown (for tests and

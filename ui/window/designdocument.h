@@ -67,10 +67,11 @@ public:
     /// main curves came first because no view on screen drew the noise.
     bool isNoiseFollowing() const { return m_shownNoiseFollows; }
     /// Tells the document whether a view on screen draws the noise curves (the Noise panel);
-    /// asked at every run. While it says no, and the design has no noise spec (whose verdict
-    /// the Readout shows with the rest), a run computes the main curves and metrics first
-    /// and the noise after them, on the same worker (ui/README.md §3). Without a probe every
-    /// run computes everything at once.
+    /// asked at every run. While it says no, on a design whose last full analysis took over
+    /// 4 ms (as for the coarse sweep) and that has no noise spec (whose verdict the Readout
+    /// shows with the rest), a run computes the main curves and metrics first and the noise
+    /// after them, on the same worker (ui/README.md §3). Without a probe every run computes
+    /// everything at once.
     void setNoiseOnScreenProbe(std::function<bool()> probe) { m_noiseOnScreen = std::move(probe); }
     /// Whether the result shown was made with the noise in one run (false: it followed, or
     /// the run had no noise to compute because it failed). For tests.

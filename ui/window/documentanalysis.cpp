@@ -111,10 +111,12 @@ void DesignDocument::dispatch()
     auto run = std::make_shared<Run>();
     run->generation = m_generation;
     run->coarse = m_wantCoarse;
-    // The noise waits for the main curves when no view on screen draws it and no spec
-    // verdict (shown with the rest in the Readout) reads it.
-    run->noiseFollows = m_noiseOnScreen && !m_noiseOnScreen() && !m_design.specs.outputNoiseMax
-        && !m_design.specs.snrMinDb;
+    // On a slow design the noise waits for the main curves when no view on screen draws it
+    // and no spec verdict (shown with the rest in the Readout) reads it. On a fast one (the
+    // demo: about 1 ms, the noise a sixth of it) a second hand-over and Readout update would
+    // cost the UI thread more than the wait it saves.
+    run->noiseFollows = m_lastFullMs > kCoarseAboveMs && m_noiseOnScreen && !m_noiseOnScreen()
+        && !m_design.specs.outputNoiseMax && !m_design.specs.snrMinDb;
     Design design = m_design;
     if (run->coarse)
         design.sweep.pointsPerDecade

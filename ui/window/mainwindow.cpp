@@ -344,7 +344,8 @@ void MainWindow::showNoise(const Analysis &analysis)
 {
     QElapsedTimer timer;
     timer.start();
-    m_readout->showAnalysis(analysis, m_document->design());
+    // Only the noise cell: the noise follows only where no spec reads it.
+    m_readout->showNoise(analysis, m_document->design());
     if (m_noise->isVisible() && !m_noise->viewport()->visibleRegion().isEmpty()) {
         m_panelsBehind.erase(m_noise);
         m_noise->showUnavailable(QString());
