@@ -551,6 +551,9 @@ void PlotPanel::applyRound(QValueAxis *axis, const RoundAxis &r)
 
 void PlotPanel::rename(QXYSeries *s, const QString &name)
 {
+    if (s->name() == name)
+        return; // a new name re-lays the legend out
+
     for (auto it = m_series.begin(); it != m_series.end(); ++it) {
         if (it->second == s) {
             m_series.erase(it);
