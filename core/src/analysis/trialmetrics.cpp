@@ -148,13 +148,18 @@ Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
     if (f.size() < 2)
         return m;
 
-    thread_local Curve gain, loop;
-    gain.resize(f.size());
-    loop.resize(f.size());
-    for (std::size_t i = 0; i < f.size(); ++i) {
-        gain[i] = gainAt(f[i]);
-        loop[i] = loopAt(f[i]);
-    }
+    // The grid in one sweep per system (the same values as one point at a time: the lanes of
+    // the sweep kernel do not mix), the root finding below one point at a time.
+    thread_local std::vector<std::complex<double>> grid;
+    grid.resize(f.size());
+    for (std::size_t i = 0; i < f.size(); ++i)
+        grid[i] = jw(f[i]);
+    const TransferEntry gainEntry[] = {{loopio::kOutput, loopio::kSource}};
+    const TransferEntry loopEntry[] = {{loopio::kReturned, loopio::kTest}};
+    const Curve gain = full->sweepEntries(grid, gainEntry);
+    Curve loop = rr->sweepEntries(grid, loopEntry);
+    for (std::complex<double> &t : loop)
+        t = -t;
 
     // Bandwidth: the first fall through |G(0)|/sqrt(2), as computeBandwidth() finds it.
     if (m.gain && std::abs(g0) > 0) {
