@@ -166,8 +166,9 @@ Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
         const double level = std::abs(g0) / std::sqrt(2.0);
         for (std::size_t i = 0; i + 1 < f.size(); ++i) {
             if (std::abs(gain[i]) >= level && std::abs(gain[i + 1]) < level) {
-                m.bandwidthHz = logRoot([&](double hz) { return std::abs(gainAt(hz)) - level; },
-                                        f[i], f[i + 1]);
+                m.bandwidthHz
+                    = logRoot([&](double hz) { return std::abs(gainAt(hz)) - level; }, f[i],
+                              f[i + 1], std::abs(gain[i]) - level, std::abs(gain[i + 1]) - level);
                 break;
             }
         }
@@ -182,8 +183,8 @@ Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
         const double a = std::log(std::abs(loop[i])), b = std::log(std::abs(loop[i + 1]));
         if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
             continue;
-        const double fc
-            = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
+        const double fc = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i],
+                                  f[i + 1], a, b);
         const double pm = 180.0 + detail::degrees(phaseNear(loopAt(fc), phase[i]));
         if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
             m.phaseMarginDeg = pm;
