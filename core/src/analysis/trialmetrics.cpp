@@ -86,15 +86,15 @@ Result<TrialMetrics> cachedTrial(const Design &design, const std::vector<double>
             cache.full.reset();
             return full ? rr.diagnostics() : full.diagnostics();
         }
-        cache.full = std::move(full).value();
-        cache.returnRatio = std::move(rr).value();
+        cache.full = std::make_shared<DescriptorSystem>(std::move(full).value());
+        cache.returnRatio = std::make_shared<DescriptorSystem>(std::move(rr).value());
     }
     for (FieldChange &c : cache.fields)
         c.from = c.to;
-    auto full = ReducedSystem::build(*cache.full);
+    auto full = ReducedSystem::build(std::shared_ptr<const DescriptorSystem>(cache.full));
     if (!full)
         return full.diagnostics();
-    auto rr = ReducedSystem::build(*cache.returnRatio);
+    auto rr = ReducedSystem::build(std::shared_ptr<const DescriptorSystem>(cache.returnRatio));
     if (!rr)
         return rr.diagnostics();
     return trialOn(design, f, *full, *rr);
