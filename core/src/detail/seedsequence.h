@@ -60,13 +60,16 @@ private:
         const auto mix = [](std::uint32_t x) {
             return x ^ (x >> 27);
         };
-        // Indices k mod n, (k + p) mod n, (k + q) mod n and (k - 1) mod n, advanced together.
-        std::size_t ik = 0, ip = p % n, iq = q % n, iprev = n - 1;
+        // Indices k mod n, (k + p) mod n and (k + q) mod n, advanced together. b[(k - 1) mod n]
+        // is always the word written last (each step ends writing b[k mod n]), so it stays in
+        // a register instead of making every step wait for a store.
+        std::size_t ik = 0, ip = p % n, iq = q % n;
+        std::uint32_t last = b[n - 1];
         const auto advance = [n](std::size_t &i) {
             i = i + 1 == n ? 0 : i + 1;
         };
         for (std::size_t k = 0; k < m; ++k) {
-            const std::uint32_t r1 = 1664525u * mix(b[ik] ^ b[ip] ^ b[iprev]);
+            const std::uint32_t r1 = 1664525u * mix(b[ik] ^ b[ip] ^ last);
             const std::uint32_t extra = k == 0 ? static_cast<std::uint32_t>(s)
                 : k <= s                       ? static_cast<std::uint32_t>(ik) + m_words[k - 1]
                                                : static_cast<std::uint32_t>(ik);
@@ -74,21 +77,21 @@ private:
             b[ip] += r1;
             b[iq] += r2;
             b[ik] = r2;
+            last = r2;
             advance(ik);
             advance(ip);
             advance(iq);
-            advance(iprev);
         }
         for (std::size_t k = m; k < m + n; ++k) {
-            const std::uint32_t r3 = 1566083941u * mix(b[ik] + b[ip] + b[iprev]);
+            const std::uint32_t r3 = 1566083941u * mix(b[ik] + b[ip] + last);
             const std::uint32_t r4 = r3 - static_cast<std::uint32_t>(ik);
             b[ip] ^= r3;
             b[iq] ^= r4;
             b[ik] = r4;
+            last = r4;
             advance(ik);
             advance(ip);
             advance(iq);
-            advance(iprev);
         }
     }
 
