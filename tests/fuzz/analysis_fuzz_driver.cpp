@@ -19,6 +19,7 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <chrono>
 #include <csignal>
 #include <cstdio>
@@ -26,6 +27,7 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <iterator>
 #include <map>
 #include <sstream>
 #include <string>
@@ -103,6 +105,53 @@ CheckReport decode(const std::string &text)
     }
     return r;
 }
+
+/// The largest relative error an exempting design's accuracy warnings state ("may be off by
+/// X of ..."), or -1 when none states one (only "poles counted but not located" warnings).
+double statedError(const CheckReport &r)
+{
+    const std::string marker = "may be off by ";
+    double worst = -1;
+    for (const std::string &w : r.warnings)
+        if (const auto at = w.find(marker); at != std::string::npos)
+            worst = std::max(worst, std::atof(w.c_str() + at + marker.size()));
+    return worst;
+}
+
+/// The share of exempted designs by the error their warnings state, one decade a bin.
+struct ExemptionHistogram
+{
+    static constexpr double kEdges[] = {1e-8, 1e-7, 1e-6, 1e-5, 1e-4, 1e-2, 1.0};
+    long bins[std::size(kEdges) + 1] = {};
+    long unstated = 0;
+
+    void add(const CheckReport &r)
+    {
+        const double e = statedError(r);
+        if (e < 0) {
+            ++unstated;
+            return;
+        }
+        std::size_t i = 0;
+        while (i < std::size(kEdges) && e >= kEdges[i])
+            ++i;
+        ++bins[i];
+    }
+
+    void print() const
+    {
+        std::printf("  exempted by stated error:");
+        for (std::size_t i = 0; i <= std::size(kEdges); ++i) {
+            if (i == 0)
+                std::printf(" <%g: %ld", kEdges[0], bins[0]);
+            else if (i == std::size(kEdges))
+                std::printf(", >=%g: %ld", kEdges[i - 1], bins[i]);
+            else
+                std::printf(", %g..%g: %ld", kEdges[i - 1], kEdges[i], bins[i]);
+        }
+        std::printf("; poles-only warnings: %ld\n", unstated);
+    }
+};
 
 /// Runs the checks in a child process; a signal, a timeout or a lost report is a failure.
 CheckReport runForked(const std::string &text, const std::string &file, bool dense)
@@ -231,6 +280,7 @@ int main(int argc, char **argv)
     double worstAgm = 0, worstBlackman = 0, worstTwoPort = 0;
     std::map<std::string, long> kinds;
     std::map<std::string, long> shapes;
+    ExemptionHistogram histogram;
     for (std::uint64_t seed = o.seed;; ++seed) {
         if (o.count > 0 && executions >= o.count)
             break;
@@ -249,6 +299,8 @@ int main(int argc, char **argv)
         ++executions;
         ++shapes[shapeName(g.shape)];
         exempt += r.exempt;
+        if (r.exempt)
+            histogram.add(r);
         withLimitWarnings += r.limitWarnings > 0;
         refused += r.loaded && !r.analyzed && r.failures.empty();
         topology += r.hadTopology;
@@ -307,6 +359,7 @@ int main(int argc, char **argv)
                 exempt, analyzed,
                 analyzed > 0 ? 100.0 * static_cast<double>(exempt) / static_cast<double>(analyzed)
                              : 0.0);
+    histogram.print();
     std::printf("  designs with part-limit warnings (exempting nothing): %ld\n", withLimitWarnings);
     std::printf("  worst error/allowed: asymptotic gain %.3g, Blackman %.3g, two-port %.3g\n",
                 worstAgm, worstBlackman, worstTwoPort);

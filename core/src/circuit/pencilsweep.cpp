@@ -1,5 +1,7 @@
 #include "circuit/pencilsweep.h"
 
+#include "circuit/pencilpoint.h"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
@@ -58,81 +60,6 @@ void makePlan(std::span<const TransferEntry> entries, Plan &plan)
             if (plan.vectors[v] == key)
                 plan.slot[e] = static_cast<int>(v);
         plan.other[e] = plan.transposed ? entries[e].input : entries[e].output;
-    }
-}
-
-/// One point by the textbook elimination in std::complex arithmetic (pivots by |re| + |im|,
-/// the library's scaled division): the fallback for a point where the fast lanes met a
-/// pivot too small or too large to square, or a result that is not finite. Writes entry e
-/// to out[e * stride]; every entry NaN when the pencil is singular at s.
-void solvePointCarefully(const PencilView &p, cd s, std::span<const TransferEntry> entries, cd *out,
-                         Index stride)
-{
-    const Index k = p.g.rows();
-    const cd nan(std::numeric_limits<double>::quiet_NaN(),
-                 std::numeric_limits<double>::quiet_NaN());
-    std::vector<cd> a(static_cast<std::size_t>(k * k)), y(static_cast<std::size_t>(k));
-    std::vector<Index> piv(static_cast<std::size_t>(k));
-    std::vector<double> weight(static_cast<std::size_t>(k));
-    for (Index col = 0; col < k; ++col)
-        for (Index r = 0; r < k; ++r)
-            a[r * k + col] = cd(p.g(r, col), 0.0) + s * p.c(r, col);
-    // Scaled partial pivoting, as sweepLanes() (there the reason).
-    for (Index r = 0; r < k; ++r) {
-        double largest = 0.0;
-        for (Index col = 0; col < k; ++col)
-            largest = std::max(largest,
-                               std::abs(a[r * k + col].real()) + std::abs(a[r * k + col].imag()));
-        weight[r] = largest > 1e-290 && largest < 1e290 ? 1.0 / largest : 1.0;
-    }
-    for (Index j = 0; j < k; ++j) {
-        Index best = j;
-        double bestMag = std::abs(a[j * k + j].real()) + std::abs(a[j * k + j].imag());
-        double bestScore = bestMag * weight[j];
-        for (Index r = j + 1; r < k; ++r) {
-            const double m = std::abs(a[r * k + j].real()) + std::abs(a[r * k + j].imag());
-            if (m * weight[r] > bestScore) {
-                best = r;
-                bestMag = m;
-                bestScore = m * weight[r];
-            }
-        }
-        piv[j] = best;
-        if (!(bestMag > 0.0)) {
-            for (std::size_t e = 0; e < entries.size(); ++e)
-                out[static_cast<Index>(e) * stride] = nan;
-            return;
-        }
-        for (Index cc = 0; cc < k; ++cc)
-            std::swap(a[j * k + cc], a[best * k + cc]);
-        std::swap(weight[j], weight[best]);
-        for (Index r = j + 1; r < k; ++r) {
-            const cd f = a[r * k + j] / a[j * k + j];
-            a[r * k + j] = f;
-            for (Index cc = j + 1; cc < k; ++cc)
-                a[r * k + cc] -= f * a[j * k + cc];
-        }
-    }
-    for (std::size_t e = 0; e < entries.size(); ++e) {
-        const int col = entries[e].input, row = entries[e].output;
-        for (Index r = 0; r < k; ++r)
-            y[r] = p.b(r, col);
-        for (Index j = 0; j < k; ++j)
-            std::swap(y[j], y[piv[j]]);
-        for (Index j = 0; j < k; ++j)
-            for (Index r = j + 1; r < k; ++r)
-                y[r] -= a[r * k + j] * y[j];
-        for (Index r = k - 1; r >= 0; --r) {
-            cd acc = y[r];
-            for (Index cc = r + 1; cc < k; ++cc)
-                acc -= a[r * k + cc] * y[cc];
-            y[r] = acc / a[r * k + r];
-        }
-        cd acc = p.d(row, col);
-        for (Index m = 0; m < k; ++m)
-            acc += p.l(row, m) * y[m];
-        const bool finite = std::isfinite(acc.real()) && std::isfinite(acc.imag());
-        out[static_cast<Index>(e) * stride] = finite ? acc : nan;
     }
 }
 
@@ -198,6 +125,12 @@ template<typename L, typename M>
     return {take ? x.re : y.re, take ? x.im : y.im};
 }
 
+/// |x| per lane.
+template<typename L> [[gnu::always_inline]] inline L absLanes(L x)
+{
+    return x < 0.0 ? -x : x;
+}
+
 /// 1 / x from its squared magnitude: one real division per lane. Lanes whose squared
 /// magnitude over- or underflows are flagged by the caller and solved again carefully.
 template<typename L>
@@ -238,10 +171,11 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     const auto nVectors = static_cast<Index>(plan.vectors.size());
     // Element (r, c) at [r k + c], overwritten by the factors; fixed orders on the stack.
     constexpr Index cap = K > 0 ? K : 1;
-    alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap];
+    alignas(kLaneAlignment) LC aStack[cap * cap], invStack[cap], yStack[cap], resStack[cap],
+        keptStack[cap];
     alignas(kLaneAlignment) L pivStack[cap], weightStack[cap];
     Index uniformStack[cap];
-    LC *a = aStack, *invDiag = invStack, *y = yStack;
+    LC *a = aStack, *invDiag = invStack, *y = yStack, *res = resStack, *kept = keptStack;
     L *piv = pivStack; // row swapped with row j, per lane (a small integer as a double)
     L *weight = weightStack; // 1 / the largest squared modulus of each row, per lane
     Index *uniform = uniformStack; // that row when every lane chose it, else -1
@@ -249,12 +183,14 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
         thread_local LaneVector<LC> work;
         thread_local LaneVector<L> pivots;
         thread_local std::vector<Index> same;
-        work.resize(static_cast<std::size_t>(k * k + 2 * k));
+        work.resize(static_cast<std::size_t>(k * k + 4 * k));
         pivots.resize(static_cast<std::size_t>(2 * k));
         same.resize(static_cast<std::size_t>(k));
         a = work.data();
         invDiag = a + k * k;
         y = invDiag + k;
+        res = y + k;
+        kept = res + k;
         piv = pivots.data();
         weight = piv + k;
         uniform = same.data();
@@ -263,21 +199,35 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
     const double *d = p.d.data();
     const cd nan(std::numeric_limits<double>::quiet_NaN(),
                  std::numeric_limits<double>::quiet_NaN());
-    const auto isUniform = [](L v) {
+    // Every lambda below is inlined always and takes lanes by reference: without
+    // optimisation a lambda is a function of its own, compiled for the baseline processor,
+    // and lanes passed by value from the AVX-2 or AVX-512 caller arrive by another calling
+    // convention (in the -O0 sanitizer build isUniform() saw garbage, so lanes 1 to 3 took
+    // lane 0's pivot rows and gave wrong numbers with no warning: fuzz seeds 7, 8 and 19).
+    const auto isUniform = [](const L &v) __attribute__((always_inline))
+    {
         for (int w = 1; w < W; ++w)
             if (v[w] != v[0])
                 return false;
         return true;
     };
     // Row swaps of the right-hand side, in the order of the factorisation or reversed.
-    const auto swapRhs = [&](Index j) {
+    const auto swapRhs = [&](LC * x, Index j) __attribute__((always_inline))
+    {
         if (uniform[j] >= 0) {
             if (uniform[j] != j)
-                std::swap(y[j], y[uniform[j]]);
+                std::swap(x[j], x[uniform[j]]);
             return;
         }
         for (Index r = j + 1; r < k; ++r)
-            swapLanes<L>(piv[j] == static_cast<double>(r), y + j, y + r, 1);
+            swapLanes<L>(piv[j] == static_cast<double>(r), x + j, x + r, 1);
+    };
+    const auto anyLane = [](const L &v) __attribute__((always_inline))
+    {
+        for (int w = 0; w < W; ++w)
+            if (v[w] != 0.0)
+                return true;
+        return false;
     };
 
     // Which entries of each row can be non-zero (bit c for column c), from G and C, then
@@ -302,7 +252,8 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
         if (!sparse)
             start[r] = ~Pattern(0);
     }
-    const auto has = [&](Index r, Index col) {
+    const auto has = [&](Index r, Index col) __attribute__((always_inline))
+    {
         return !sparse || ((nz[r] >> col) & 1u) != 0;
     };
 
@@ -388,40 +339,108 @@ sweepLanes(const PencilView &p, int kAny, std::span<const cd> points,
                 nz[r] |= right;
             }
         }
-        for (Index v = 0; v < nVectors; ++v) {
-            const int which = plan.vectors[static_cast<std::size_t>(v)];
+        // y = A^-1 y (direct) or A^-T y (transposed) in place, from the factors.
+        const auto solveInPlace = [&](LC * x) __attribute__((always_inline))
+        {
             if (!plan.transposed) {
                 // P A = L U with whole rows swapped (multipliers included): swaps first.
-                for (Index r = 0; r < k; ++r)
-                    y[r] = {L{} + b[which * k + r], L{}};
                 for (Index j = 0; j < k; ++j)
-                    swapRhs(j);
+                    swapRhs(x, j);
                 for (Index j = 0; j < k; ++j)
                     for (Index r = j + 1; r < k; ++r)
                         if (has(r, j))
-                            subMul(y[r], a[r * k + j], y[j]);
+                            subMul(x[r], a[r * k + j], x[j]);
                 for (Index r = k - 1; r >= 0; --r) {
-                    LC acc = y[r];
+                    LC acc = x[r];
                     for (Index cc = r + 1; cc < k; ++cc)
                         if (has(r, cc))
-                            subMul(acc, a[r * k + cc], y[cc]);
-                    y[r] = mul(acc, invDiag[r]);
+                            subMul(acc, a[r * k + cc], x[cc]);
+                    x[r] = mul(acc, invDiag[r]);
                 }
             } else {
-                // A^T = U^T L^T P: solve U^T x = l, then L^T y = x, then undo the swaps.
+                // A^T = U^T L^T P: solve U^T w = x, then L^T v = w, then undo the swaps.
                 for (Index r = 0; r < k; ++r) {
-                    LC acc{L{} + l[r * outputs + which], L{}};
+                    LC acc = x[r];
                     for (Index m = 0; m < r; ++m)
                         if (has(m, r))
-                            subMul(acc, a[m * k + r], y[m]);
-                    y[r] = mul(acc, invDiag[r]);
+                            subMul(acc, a[m * k + r], x[m]);
+                    x[r] = mul(acc, invDiag[r]);
                 }
                 for (Index r = k - 2; r >= 0; --r)
                     for (Index m = r + 1; m < k; ++m)
                         if (has(m, r))
-                            subMul(y[r], a[m * k + r], y[m]);
+                            subMul(x[r], a[m * k + r], x[m]);
                 for (Index j = k - 1; j >= 0; --j)
-                    swapRhs(j);
+                    swapRhs(x, j);
+            }
+        };
+        // The residual of y against the pencil itself (the factors overwrote it; G + sC is
+        // rebuilt row by row) into `res`, and the componentwise backward error of y per lane
+        // (Oettli-Prager: the largest |r_i| / (|A| |y| + |b|)_i; a row whose sizes are all
+        // zero counts 1 if it misses at all).
+        const auto backwardError = [&](int which) __attribute__((always_inline))
+        {
+            L omega = L{};
+            for (Index r = 0; r < k; ++r) {
+                const double rhs = plan.transposed ? l[r * outputs + which] : b[which * k + r];
+                LC acc{L{} + rhs, L{}};
+                L size = L{} + std::abs(rhs);
+                for (Index cc = 0; cc < k; ++cc) {
+                    // Row r of A (direct) or of A^T (transposed); g and c are column-major.
+                    const Index at = plan.transposed ? r * k + cc : cc * k + r;
+                    const double gv = g[at], cv = c[at];
+                    if (gv == 0.0 && cv == 0.0)
+                        continue;
+                    const L re = gv + sr * cv, im = si * cv;
+                    acc.re -= re * y[cc].re - im * y[cc].im;
+                    acc.im -= re * y[cc].im + im * y[cc].re;
+                    size += (absLanes(re) + absLanes(im))
+                        * (absLanes(y[cc].re) + absLanes(y[cc].im));
+                }
+                res[r] = acc;
+                const L miss = absLanes(acc.re) + absLanes(acc.im);
+                const L positive = size > 0.0 ? size : L{} + 1.0;
+                const L row = size > 0.0 ? miss / positive : (miss > 0.0 ? L{} + 1.0 : L{});
+                // Not finite (an overflow) counts as too large, so the lane is tried again.
+                omega = row > omega || row != row ? row : omega;
+            }
+            return omega;
+        };
+        for (Index v = 0; v < nVectors; ++v) {
+            const int which = plan.vectors[static_cast<std::size_t>(v)];
+            for (Index r = 0; r < k; ++r)
+                y[r] = {L{} + (plan.transposed ? l[r * outputs + which] : b[which * k + r]), L{}};
+            solveInPlace(y);
+            // Partial pivoting is backward stable normwise only (kRefineBackwardError): where
+            // a lane's componentwise backward error is too large, one step of refinement
+            // with the same factors, applied in that lane only, so that a point's value does
+            // not depend on the points beside it (every width gives the same numbers). One
+            // step is what componentwise stability needs; a row whose terms are all rounding
+            // (an unknown that is zero in exact arithmetic) keeps a backward error near 1
+            // however often it is refined, so no more are taken. Where the factors are too
+            // unstable for the correction to help (it can make a solution worse, as on a
+            // 6e11-ohm series inductor beside ohms: fuzz seed 487), a lane keeps the solution
+            // with the smaller backward error.
+            const L before = backwardError(which);
+            const L worse = before > kRefineBackwardError || before != before ? L{} + 1.0 : L{};
+            if (anyLane(worse)) {
+                const auto refine = worse != 0.0;
+                for (Index r = 0; r < k; ++r)
+                    kept[r] = y[r];
+                solveInPlace(res);
+                for (Index r = 0; r < k; ++r) {
+                    y[r].re = refine ? y[r].re + res[r].re : y[r].re;
+                    y[r].im = refine ? y[r].im + res[r].im : y[r].im;
+                }
+                const L after = backwardError(which);
+                // Back to the first solution where the step did not lower the error (a lane
+                // whose first error was not finite keeps the step).
+                const auto improved = (after < before) | (before != before);
+                const auto back = refine & ~improved;
+                for (Index r = 0; r < k; ++r) {
+                    y[r].re = back ? kept[r].re : y[r].re;
+                    y[r].im = back ? kept[r].im : y[r].im;
+                }
             }
             for (std::size_t e = 0; e < entries.size(); ++e) {
                 if (plan.slot[e] != v)

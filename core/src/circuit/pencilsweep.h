@@ -3,10 +3,13 @@
 // The per-frequency solves of a small reduced pencil, done for a whole list of complex
 // frequencies in one tight loop: (G + sC) z = B u, y = L z + D u, only the entries asked for.
 // Gaussian elimination with partial pivoting, unrolled for the usual orders (k = 1..8) and
-// allocation-free per point. With fewer output rows than input columns asked for, each point
-// solves the transposed system once per row (y_r = D_r + (A^-T L_r^T)^T B) from the same
-// factors, instead of once per column: the noise system's one output row against a column
-// per noise source is then a single solve.
+// allocation-free per point. Every solve's componentwise backward error is checked against
+// the pencil, and a point where it is too large is refined once with the same factors, kept
+// where that lowers it (partial pivoting is backward stable normwise only; see
+// kRefineBackwardError in pencilpoint.h). With fewer output
+// rows than input columns asked for, each point solves the transposed system once per row
+// (y_r = D_r + (A^-T L_r^T)^T B) from the same factors, instead of once per column: the noise
+// system's one output row against a column per noise source is then a single solve.
 
 #include "loopsketch/circuit/reducedsystem.h"
 

@@ -403,7 +403,8 @@ AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>>
                 = solver.errorBound(te.output, te.input, x, residuals[which], &shares);
             // Absolute, so that an exact zero (an output behind an ideal source) counts too:
             // rounding that the reduced pencil leaves in place of a zero is a miss as well.
-            if (!(std::abs(got - careful) <= std::max(tolerance * size, 4.0 * bound)))
+            const double allowed = entries[e].strict ? 0.0 : 4.0 * bound;
+            if (!(std::abs(got - careful) <= std::max(tolerance * size, allowed)))
                 missed = true;
             const double scale = std::max(size, entries[e].floor);
             if (!(scale > 0))

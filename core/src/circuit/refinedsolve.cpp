@@ -2,6 +2,9 @@
 
 #include <cmath>
 #include <limits>
+#include <map>
+#include <tuple>
+#include <utility>
 
 namespace loopsketch::detail {
 
@@ -104,23 +107,66 @@ double RefinedSolver::errorBound(int output, int input, const Eigen::VectorXcd &
     v = lu.triangularView<Eigen::UnitLower>().transpose().solve(v);
     const Eigen::VectorXcd z = m_rowScale.asDiagonal() * (m_lu.permutationP().transpose() * v);
     // The error left by the residual (x is off by A^-1 r, the output by z^T r), plus one
-    // rounding of every entry and every right-hand side term: the uncertainty of the
-    // residual itself and of the values as stored.
+    // rounding of every value as stored. A part's value is rounded once (1/R, s C) and every
+    // entry it stamps carries that same rounding: a perturbation of the part itself, which
+    // moves the output by eps |z^T A_p x| (the adjoint sensitivity, Director and Rohrer,
+    // IEEE Trans. Circuit Theory 16 (1969), from memory), with the signs of its entries kept
+    // (a conductance's four entries cancel as Kirchhoff's current law does). Entries where
+    // several stamps add up round once more, each on its own: eps |z_i| sum |a_ij| |x_j|
+    // (on the jw axis only stamps of one kind, both conductances or both susceptances).
+    // The fixed +-1 of a connection is exact. Summing every stamp's entry on its own instead
+    // (each a perturbation no part makes, a current leaking from a node) over-stated the
+    // error of fuzz designs with a series chain of teraohms by up to 1e5.
     const double eps = std::numeric_limits<double>::epsilon();
     if (originShares)
         originShares->assign(m_system.origins.size(), 0.0);
-    double bound = 0.0;
+    std::map<std::pair<int, int>, cd> byPart; // (origin, power): sum of z_r a_rc x_c
+    // How many stamps add up in entry (r, c). On the jw axis (and at DC) the conductances
+    // make the real part and the susceptances the imaginary one: they never round together.
+    const bool apart = m_s.real() == 0.0;
+    std::map<std::tuple<int, int, bool>, int> stampsAt;
+    const auto at = [&](const StampEntry &e) {
+        return std::tuple<int, int, bool>{e.row, e.col, apart && e.reactive};
+    };
     for (const StampEntry &e : m_system.stamps) {
+        const cd entry = e.reactive ? e.value * m_s : cd(e.value);
+        if (e.power != 0)
+            byPart[{e.origin, e.power}] += z(e.row) * entry * x(e.col);
+        ++stampsAt[at(e)];
+    }
+    double bound = 0.0;
+    for (const auto &[key, sum] : byPart) {
+        const double term = eps * std::abs(sum);
+        bound += term;
+        if (originShares)
+            (*originShares)[static_cast<std::size_t>(key.first)] += term;
+    }
+    for (const StampEntry &e : m_system.stamps) {
+        if (stampsAt[at(e)] < 2)
+            continue;
         const double entry = e.reactive ? std::abs(e.value * m_s) : std::abs(e.value);
         const double term = eps * std::abs(z(e.row)) * entry * std::abs(x(e.col));
         bound += term;
         if (originShares)
             (*originShares)[static_cast<std::size_t>(e.origin)] += term;
     }
-    for (Index i = 0; i < z.size(); ++i)
-        bound += eps * std::abs(z(i)) * std::abs(m_system.B(i, input))
-            + std::abs(z(i)) * std::abs(residual(i));
-    return bound;
+    // What the residual leaves is z^T r itself, signs kept: the change one more refinement
+    // step would make to the output (the residual is exact to the rounding of its extended-
+    // precision sums, eps_ld (|A| |x| + |b|) per row, and of its store to double). Summing
+    // |z_i| |r_i| instead over-stated it where the refinement stopped at the residual's own
+    // rounding, eps |A| |x|, whose signs cancel in z^T r as the true error's do.
+    const double epsExtended = std::numeric_limits<long double>::epsilon();
+    cd zr = 0.0;
+    for (Index i = 0; i < z.size(); ++i) {
+        double terms = std::abs(m_system.B(i, input));
+        for (Index j = 0; j < x.size(); ++j)
+            terms += std::abs(m_a(i, j)) * std::abs(x(j));
+        zr += z(i) * residual(i);
+        bound += (eps * std::abs(m_system.B(i, input)) + epsExtended * terms
+                  + eps * std::abs(residual(i)))
+            * std::abs(z(i));
+    }
+    return bound + std::abs(zr);
 }
 
 } // namespace loopsketch::detail

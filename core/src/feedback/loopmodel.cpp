@@ -2,6 +2,8 @@
 
 #include "loopsketch/circuit/loopcircuit.h"
 
+#include "feedback/acircuit.h"
+
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -54,70 +56,6 @@ std::optional<ReducedSystem> optionalOf(Result<ReducedSystem> r)
     if (!r)
         return std::nullopt;
     return std::move(r).value();
-}
-
-/// How a copy of the feedback network is attached in the A circuit.
-enum class PortEnd { Attached, Shorted, Open };
-
-/// Appends a copy of the network. Port nodes are attached to `port1At` / `port2At`,
-/// shorted to ground, or left open on a private node; internal nodes are private. Parts
-/// left dangling on an open node carry no current and are dropped.
-void addNetworkCopy(Netlist &n, const std::vector<Part> &parts, const std::string &prefix,
-                    const std::string &port1, PortEnd end1, const std::string &port1At,
-                    const std::string &port2, PortEnd end2, const std::string &port2At)
-{
-    const auto map = [&](const std::string &node) -> std::string {
-        if (node == kGroundNode)
-            return std::string(kGroundNode);
-        const auto place = [&](PortEnd end, const std::string &at) {
-            if (end == PortEnd::Attached)
-                return at;
-            if (end == PortEnd::Shorted)
-                return std::string(kGroundNode);
-            return prefix + node;
-        };
-        // A network whose ports share one node (a lone sense resistor) attaches that node
-        // at whichever port this copy is attached by.
-        if (node == port1 && node == port2)
-            return end2 == PortEnd::Attached ? place(end2, port2At) : place(end1, port1At);
-        if (node == port1)
-            return place(end1, port1At);
-        if (node == port2)
-            return place(end2, port2At);
-        return prefix + node;
-    };
-    std::vector<const Part *> kept;
-    for (const Part &p : parts)
-        kept.push_back(&p);
-    for (bool pruned = true; pruned;) {
-        pruned = false;
-        std::map<std::string, int> degree;
-        for (const Part *p : kept)
-            for (const auto &t : {map(p->node("a")), map(p->node("b"))})
-                ++degree[t];
-        for (auto it = kept.begin(); it != kept.end(); ++it) {
-            const std::string a = map((*it)->node("a")), b = map((*it)->node("b"));
-            const bool danglingA = a.rfind(prefix, 0) == 0 && degree[a] == 1;
-            const bool danglingB = b.rfind(prefix, 0) == 0 && degree[b] == 1;
-            if (danglingA || danglingB) {
-                kept.erase(it);
-                pruned = true;
-                break;
-            }
-        }
-    }
-    for (const Part *p : kept)
-        addPassivePart(n, *p, prefix, map);
-}
-
-/// The h parameters of what lies between the source's terminals (port 1) and the gain-block
-/// input it drives (port 2, node `sourceInput`); with no parts there it is a plain wire.
-Result<TwoPortNetwork> sourceSideNetwork(const Design &design, const std::vector<Part> &sourceParts,
-                                         const std::string &sourceInput)
-{
-    const auto [hot, cold] = inputPortNodes(design);
-    const std::string srcHot = hot == std::string(kGroundNode) ? cold : hot;
-    return TwoPortNetwork::build(sourceParts, srcHot, sourceInput, ParameterSet::H);
 }
 
 } // namespace
@@ -290,23 +228,10 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
     if (t.mixing == Connection::Series) {
         LoopCircuitOptions so;
         so.source = Source::Removed;
-        Netlist n = withCopies(so);
-        // The source-side parts go too: what is left is the loop the source drives.
-        std::erase_if(n.elements, [&](const NetlistElement &e) { return sourceIds.count(e.name); });
-        n.inputCount = 0;
-        n.outputs.clear();
-        n.addCurrentSource("test:q", t.sourceInput, "0", n.addInput()).role
-            = NetlistElement::Role::Test;
-        n.addOutput({NetlistOutput::Kind::VoltageBetween, t.sourceInput, "0"});
-        std::erase_if(n.elements,
-                      [](const NetlistElement &e) { return e.role == NetlistElement::Role::Port; });
+        Netlist n = sourceLoopNetlist(withCopies(so), sourceIds, t.sourceInput);
         // With the legs at the input counted on the source's side, an input with an ideal
         // r_in and no c_in has nothing left on it but the test source: it draws no current.
-        sys->inputDrawsNoCurrent
-            = std::none_of(n.elements.begin(), n.elements.end(), [&](const NetlistElement &e) {
-                  return e.role != NetlistElement::Role::Test
-                      && (e.a == t.sourceInput || e.b == t.sourceInput);
-              });
+        sys->inputDrawsNoCurrent = onlyTestSourceAt(n, t.sourceInput);
         if (!sys->inputDrawsNoCurrent)
             sys->aSeriesInput = optionalOf(reduce(n));
     }
@@ -326,6 +251,24 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
     }
     sys->sourceSide = std::move(side).value();
     sys->readPartValues(design);
+    // Series mixing drives the A circuit with the source's open-circuit voltage behind its
+    // impedance, both infinite for an ideal current source with nothing to ground on its side:
+    // the estimate would divide rounding by rounding, so it is missing as a whole.
+    if (t.mixing == Connection::Series && !sys->voltageSource && sys->gParallel == 0.0
+        && sys->cParallel == 0.0 && !sourceSideGrounds(sourceParts, t.sourceInput)) {
+        m_twoPortProblem = floatingCurrentSourceProblem(design.signalSource()->id, t.sourceInput);
+        return;
+    }
+    if (path == SolverPath::Reduced) {
+        std::vector<TransferEntry> aEntries
+            = {{sys->sampled, loopio::kSource}, {loopio::kOutput, loopio::kSource}};
+        for (int out : {sys->outP1, sys->outP2})
+            for (int in : {sys->testP1, sys->testP2})
+                aEntries.push_back({out, in});
+        checkEstimateAccuracy(design,
+                              {sys->network, sys->sourceSide, sys->aFull, aEntries,
+                               sys->aSeriesInput, sys->aSeriesOutput});
+    }
     m_twoPort = sys;
 }
 
@@ -568,7 +511,10 @@ void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
         c.loopGainTwoPort[i] = c.a[i] * c.beta[i];
         const Complex desens = 1.0 + c.loopGainTwoPort[i];
         c.closedLoop[i] = c.a[i] / desens;
-        c.gainTwoPort[i] = c.closedLoop[i] * kSrc * (aEntry(1, i) / sampled);
+        // a / (1 + a beta) times the drive per unit of source and the output per unit
+        // sampled, with the drive and the sampled signal cancelled: neither is divided by, so
+        // a point where one of them is zero (a notch, or rounding of one) is no 0/0.
+        c.gainTwoPort[i] = aEntry(1, i) / desens;
 
         if (seriesMix && x.inputDrawsNoCurrent) {
             // The node's impedance (zs + zq) desens - zs is infinite: the limit.

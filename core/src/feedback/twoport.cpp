@@ -119,6 +119,18 @@ std::vector<TwoPortMatrix> TwoPortNetwork::sweep(std::span<const std::complex<do
     return out;
 }
 
+bool TwoPortNetwork::checkAccuracy(std::span<const std::complex<double>> probes, double tolerance)
+{
+    if (!m_system)
+        return false;
+    const std::string name = toString(m_set) + " parameters";
+    const CheckedEntry entries[] = {{{0, 0}, name, false, 0.0, true},
+                                    {{1, 0}, name, false, 0.0, true},
+                                    {{0, 1}, name, false, 0.0, true},
+                                    {{1, 1}, name, false, 0.0, true}};
+    return m_system->checkAccuracy(probes, entries, tolerance).refined;
+}
+
 namespace {
 
 std::optional<TwoPortMatrix> inverse(const TwoPortMatrix &m)

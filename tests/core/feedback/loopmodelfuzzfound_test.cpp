@@ -217,3 +217,40 @@ TEST(FeedbackFuzzFound, InputLeadingOnlyIntoAnIdealInputHasNoFiniteImpedance)
     EXPECT_TRUE(std::all_of(zr.begin(), zr.end(), infinite)
                 || std::all_of(zr.begin(), zr.end(), missing));
 }
+
+// Thevenin's theorem (common practice): series mixing reads the source as a voltage behind
+// an impedance, and an ideal current source with nothing to ground on its side (fuzz seed
+// 17012: SIG into in_p through C1 alone) has no such form, its impedance being infinite at
+// every frequency. Before the fix the estimate divided rounding by rounding: `a` and every
+// two-port curve after it were NaN at 14 of 20 points and finite at 6, with no reason. Now
+// the family is missing as a whole with the reason naming the source and its fields; with
+// r_parallel given (1 MOhm) the same circuit has the estimate at every point.
+TEST(FeedbackFuzzFound, IdealCurrentSourceThroughSeriesPartsHasNoSeriesMixingEstimate)
+{
+    const std::string path = std::string(LOOPSKETCH_TEST_DATA_DIR)
+        + "/fuzz-found/two-port-a-partly-missing-source-through-capacitor.loopsketch";
+    const Design ideal = loadOrFail(path);
+    const Analysis a = analyzeOrFail(ideal);
+    ASSERT_TRUE(a.topology.has_value());
+    EXPECT_FALSE(a.twoPort.has_value());
+    EXPECT_THAT(a.twoPortProblem, HasSubstr("SIG is a current source with no r_parallel"));
+    const auto missing = [](cd v) {
+        return std::isnan(v.real()) && std::isnan(v.imag());
+    };
+    for (const auto *curve : {&a.curves.a, &a.curves.loopGainTwoPort, &a.curves.gainTwoPort,
+                              &a.curves.zInTwoPort, &a.curves.zOutTwoPort})
+        EXPECT_TRUE(std::all_of(curve->begin(), curve->end(), missing));
+
+    Design shunted = ideal;
+    for (Part &p : shunted.parts)
+        if (p.id == "SIG")
+            p.fields["r_parallel"] = Value{1e6, "1M"};
+    const Analysis b = analyzeOrFail(shunted);
+    ASSERT_TRUE(b.twoPort.has_value()) << b.twoPortProblem;
+    const auto finite = [](cd v) {
+        return std::isfinite(v.real()) && std::isfinite(v.imag());
+    };
+    for (const auto *curve : {&b.curves.a, &b.curves.loopGainTwoPort, &b.curves.gainTwoPort,
+                              &b.curves.zInTwoPort, &b.curves.zOutTwoPort})
+        EXPECT_TRUE(std::all_of(curve->begin(), curve->end(), finite));
+}

@@ -156,3 +156,61 @@ TEST(FeedbackTwoPort, MissingSetsFailWithAClearMessage)
     EXPECT_NEAR(std::abs(zs->at(0.0)(0, 1)), 10e3, 1e-9);
     EXPECT_FALSE(convertTwoPort(zs->at(0.0), ParameterSet::Z, ParameterSet::Y).has_value());
 }
+
+// A series chain from port 1 to port 2 (C, a 992 H inductor, R, L, R) with ten parts from
+// port 2 to ground: the source side of fuzz seed 487. By Kirchhoff's laws (common practice),
+// with port 2 shorted all of I1 flows through the chain into the short (h11 = the chain's
+// impedance, h21 = -1), and with port 1 open no current flows in the chain (h12 = 1,
+// h22 = the shunt admittance). Above 10 MHz the inductor is 1e11..2e13 ohm beside shunts
+// of ohms; there the sweep's elimination once gave h21 = +0.28 and h11 off by a factor 3,
+// inside the careful solve's own error bound, so the check switched nothing. h12 is left out:
+// with port 1 open the chain's current is an exact 0 whose rounding the nodal equations
+// multiply by s L3 (the careful solve's h12 is off by 3e-5 at 10 MHz and more above it), a
+// limit of the formulation that this change does not lift.
+TEST(FeedbackTwoPort, SeriesChainOfTeraohmsBesideOhmsKeepsItsHybridParameters)
+{
+    const auto part = [](const std::string &id, PartType type, const std::string &a,
+                         const std::string &b, double v) {
+        return passive(id, type, a, b, v);
+    };
+    using T = PartType;
+    const std::vector<Part> parts = {part("C5", T::Capacitor, "p1", "s10", 0.00036733323869322899),
+                                     part("L3", T::Inductor, "s10", "s11", 991.98566133453721),
+                                     part("R7", T::Resistor, "s11", "s12", 2696784.6554503059),
+                                     part("L4", T::Inductor, "s12", "s13", 1.7278819308167455e-09),
+                                     part("R8", T::Resistor, "s13", "p2", 2.7960185869564493),
+                                     part("R9", T::Resistor, "p2", "0", 40881273996.706528),
+                                     part("R10", T::Resistor, "p2", "0", 36648073180.986137),
+                                     part("L5", T::Inductor, "p2", "0", 9.3558425535805388e-09),
+                                     part("L6", T::Inductor, "p2", "0", 2.1006427988440746e-06),
+                                     part("C6", T::Capacitor, "p2", "0", 7.5642242565817872e-12),
+                                     part("R11", T::Resistor, "p2", "0", 209.1751414375718),
+                                     part("C7", T::Capacitor, "p2", "0", 6.4892959910315554e-08),
+                                     part("R12", T::Resistor, "p2", "0", 0.80030843879089519),
+                                     part("C8", T::Capacitor, "p2", "0", 1.48873909358289e-12),
+                                     part("R13", T::Resistor, "p2", "0", 19202.449994564704)};
+    auto built = TwoPortNetwork::build(parts, "p1", "p2", ParameterSet::H);
+    ASSERT_TRUE(built.ok()) << built.errorText();
+    TwoPortNetwork network = std::move(built).value();
+    std::vector<cd> s;
+    for (int i = 0; i <= 60; ++i)
+        s.push_back({0.0, 2.0 * kPi * 1e7 * std::pow(10.0, i / 25.0)});
+    // As the loop model does: checked at DC and the sweep's ends and middle first.
+    const cd probes[] = {0.0, s.front(), s[30], s.back()};
+    EXPECT_TRUE(network.checkAccuracy(probes, 1e-8)) << "the fast path met no miss";
+    const std::vector<TwoPortMatrix> h = network.sweep(s);
+    for (std::size_t i = 0; i < s.size(); ++i) {
+        cd chain = 0.0, shunt = 0.0;
+        for (const Part &p : parts) {
+            const double v = p.fields.at("value").si;
+            const cd z = p.type == T::Resistor ? cd(v)
+                : p.type == T::Inductor        ? s[i] * v
+                                               : 1.0 / (s[i] * v);
+            (p.nodes[1] == "0" ? shunt : chain) += p.nodes[1] == "0" ? 1.0 / z : z;
+        }
+        const double hz = s[i].imag() / (2.0 * kPi);
+        EXPECT_LT(relErr(h[i](0, 0), chain), 1e-9) << "h11 at " << hz << " Hz";
+        EXPECT_LT(std::abs(h[i](1, 0) + 1.0), 1e-9) << "h21 at " << hz << " Hz";
+        EXPECT_LT(relErr(h[i](1, 1), shunt), 1e-9) << "h22 at " << hz << " Hz";
+    }
+}

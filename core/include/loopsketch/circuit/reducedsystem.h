@@ -60,6 +60,11 @@ struct CheckedEntry
     /// this level instead (for an impedance, a millionth of the circuit's smallest
     /// resistance), that rounding is what it is: nothing.
     double floor = 0.0;
+    /// True: any departure of the fast path from the careful solve beyond the tolerance is a
+    /// miss, even within the careful solve's own error bound (which can be far above its
+    /// actual error: a series chain of teraohms beside ohms gives a bound of 150 % on a
+    /// value that is exact). For an estimate's terms, which warn of nothing.
+    bool strict = false;
 };
 
 /// What ReducedSystem::checkAccuracy() found.

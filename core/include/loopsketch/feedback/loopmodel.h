@@ -176,6 +176,19 @@ private:
     struct TwoPortSystems;
 
     void checkAccuracy(const Design &design);
+    /// Where checkAccuracy() probes: DC and the start, middle and top of the sweep (rad/s).
+    static std::vector<Complex> accuracyProbes(const Design &design);
+    /// The two-port estimate's systems, as checkEstimateAccuracy() reads them.
+    struct EstimateSystems
+    {
+        TwoPortNetwork &network, &sourceSide;
+        ReducedSystem &aFull;
+        std::span<const TransferEntry> aEntries; ///< the A circuit's entries the estimate reads
+        std::optional<ReducedSystem> &seriesInput, &seriesOutput;
+    };
+    /// checkAccuracy() for the estimate's systems: each switches to the careful solve where
+    /// it departs from it by more than kAssuredRelativeError; none warns.
+    void checkEstimateAccuracy(const Design &design, const EstimateSystems &systems);
     /// The two-port estimate's systems for the topology found; on failure it stays absent
     /// and m_twoPortProblem says why.
     void buildTwoPort(const Design &design, SolverPath path);

@@ -40,6 +40,12 @@ public:
     /// at() for every s of a list (rad/s), in one sweep of the network's system.
     std::vector<TwoPortMatrix> sweep(std::span<const std::complex<double>> s) const;
 
+    /// Checks the four parameters at `probes` (rad/s) against a careful solve of the whole
+    /// network (ReducedSystem::checkAccuracy, to `tolerance`, relative); where the fast path
+    /// misses, the network is solved carefully at every frequency from then on. Warns of
+    /// nothing: the parameters feed an estimate. True when it switched.
+    bool checkAccuracy(std::span<const std::complex<double>> probes, double tolerance);
+
 private:
     ParameterSet m_set = ParameterSet::Z;
     std::optional<ReducedSystem> m_system;
