@@ -3,9 +3,12 @@
 // wheel event paths.
 
 #include "demowindowtest.h"
+#include "panels/nyquistpanel.h"
 #include "panels/panels.h"
+#include "support/columnthinning.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
+#include "windowchecks.h"
 
 #include <QAction>
 #include <QApplication>
@@ -22,9 +25,12 @@
 #include <QWheelEvent>
 #include <QXYSeries>
 
+#include "loopsketch/design/designfile.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <complex>
 
@@ -304,3 +310,98 @@ TEST_F(PlotViewTest, PolesPanelKeepsCirclesRoundWhenZoomed)
 }
 
 } // namespace
+
+namespace {
+
+/// A smooth curve over nine decades at 1,000 points per decade (log10 f across, dB up) with one
+/// sample far above its neighbours at `peak` and one far below at `notch`.
+QList<QPointF> curveWithSpikes(qsizetype peak, qsizetype notch)
+{
+    QList<QPointF> points;
+    for (int i = 0; i <= 9000; ++i) {
+        const double x = i / 1000.0;
+        points.append({x, 60.0 - 20.0 * x + 0.5 * std::sin(40.0 * x)});
+    }
+    points[peak].ry() += 30.0;
+    points[notch].ry() -= 30.0;
+    return points;
+}
+
+} // namespace
+
+// Min/max decimation for drawing (common practice: each pixel column keeps its extremes, so
+// what the eye sees of a dense curve is unchanged): a one-sample peak and notch survive, the
+// points stay in order and unchanged, and no more than two per column remain.
+TEST(ColumnThinning, OneSamplePeakAndNotchSurviveWithinTwoPointsPerColumn)
+{
+    const QList<QPointF> points = curveWithSpikes(4321, 7007);
+    const double plotWidthPx = 600.0, columnPx = 3.0;
+    const double columns = plotWidthPx / columnPx;
+    const QList<QPointF> kept = thinToColumns(points, 0.0, 9.0 / columns);
+    EXPECT_LE(kept.size(), qsizetype(2 * (columns + 1) + 2));
+    EXPECT_LE(kept.size(), qsizetype(2 * plotWidthPx));
+    EXPECT_GE(kept.size(), qsizetype(columns)) << "thinned past one point per column";
+    const auto has = [&](const QPointF &p) {
+        return std::any_of(kept.begin(), kept.end(),
+                           [&](const QPointF &q) { return q.x() == p.x() && q.y() == p.y(); });
+    };
+    EXPECT_TRUE(has(points[4321])) << "the peak was lost";
+    EXPECT_TRUE(has(points[7007])) << "the notch was lost";
+    EXPECT_TRUE(has(points.front()));
+    EXPECT_TRUE(has(points.back()));
+    for (qsizetype i = 0; i < kept.size(); ++i) {
+        // Every point kept is one of the curve's (x = index / 1000), unchanged, in order.
+        const auto index = qsizetype(std::lround(kept[i].x() * 1000.0));
+        ASSERT_EQ(kept[i].x(), points[index].x());
+        ASSERT_EQ(kept[i].y(), points[index].y());
+        if (i > 0) {
+            ASSERT_GT(kept[i].x(), kept[i - 1].x());
+        }
+    }
+    // At most one point per column: every point stays.
+    QList<QPointF> sparse;
+    for (qsizetype i = 0; i < points.size(); i += 100)
+        sparse.append(points[i]);
+    EXPECT_EQ(thinToColumns(sparse, 0.0, 9.0 / columns).size(), sparse.size());
+}
+
+// Through the window: the demo at 1,000 points per decade (an invented design of ours). On
+// every curve panel each curve with more points than the plot has pixel columns is drawn with
+// at most two points per pixel column, and its highest and lowest points are among those drawn
+// (the curve's peak and the step response's overshoot exact on screen). Common practice, as
+// above. (The Nyquist plane's curve is not a function of x and is drawn whole.)
+TEST_F(PlotViewTest, DenseCurvesAreDrawnWithinTwoPointsPerPixelColumnKeepingTheirExtremes)
+{
+    Design design = loadDesign(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch").value();
+    design.sweep.pointsPerDecade = 1000;
+    QString error;
+    ASSERT_TRUE(window->openText(serializeDesign(design), QStringLiteral("dense"), &error))
+        << error.toStdString();
+    ASSERT_TRUE(doc()->waitForAnalysis());
+    int dense = 0;
+    for (PlotPanel *panel : curvePanels()) {
+        if (qobject_cast<NyquistPanel *>(panel))
+            continue;
+        ui::test::bringForward(panel);
+        const double width = panel->chart()->plotArea().width();
+        ASSERT_GT(width, 100.0) << panel->chart()->title().toStdString();
+        for (QAbstractSeries *a : panel->chart()->series()) {
+            auto *s = qobject_cast<QXYSeries *>(a);
+            const QList<QPointF> full = s ? panel->fullPoints(s) : QList<QPointF>();
+            if (full.size() <= qsizetype(2 * width))
+                continue;
+            ++dense;
+            SCOPED_TRACE(panel->chart()->title().toStdString() + ": " + s->name().toStdString());
+            const QList<QPointF> drawn = s->points();
+            EXPECT_LE(drawn.size(), qsizetype(2 * width));
+            const auto byY = [](const QPointF &p, const QPointF &q) {
+                return p.y() < q.y();
+            };
+            EXPECT_EQ(std::max_element(drawn.begin(), drawn.end(), byY)->y(),
+                      std::max_element(full.begin(), full.end(), byY)->y());
+            EXPECT_EQ(std::min_element(drawn.begin(), drawn.end(), byY)->y(),
+                      std::min_element(full.begin(), full.end(), byY)->y());
+        }
+    }
+    EXPECT_GE(dense, 10) << "the 9,001-point curves were not found";
+}

@@ -177,10 +177,16 @@ TEST_F(SuggestDialogTest, CancelStopsTheSearch)
     dialog->setPartChecked("R2", true);
     dialog->setPartChecked("R1", true);
     dialog->setSeries(ESeries::E192);
-    dialog->setDecades(4); // 769 values each: about 591,000 combinations
+    // IEC 60063 E192 over six decades: 1153 values about R2's 15k, 1152 about R1's 3.3k (not
+    // an E192 value): 1.33 million combinations, over the 1 million cap, but bisecting the
+    // gain over one resistor's series computes under 50,000 DC gains: the search runs, for a
+    // tenth of a second or more, so a cancel 10 ms after the start lands inside it
+    dialog->setDecades(6);
+    EXPECT_THAT(dialog->previewText().toStdString(), HasSubstr("1,328,256 combinations"));
+    EXPECT_THAT(dialog->previewText().toStdString(), HasSubstr("DC gains computed"));
     QSignalSpy finished(dialog.get(), &SuggestDialog::searchFinished);
     dialog->run();
-    QTest::qWait(50);
+    QTest::qWait(10);
     dialog->cancel();
     ASSERT_TRUE(finished.wait(20000));
     ASSERT_NE(dialog->result(), nullptr) << dialog->statusText().toStdString();

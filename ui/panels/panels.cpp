@@ -428,9 +428,20 @@ void PolesPanel::showAnalysis(const Analysis &a)
         m_ringLabels.push_back(label);
     }
     for (std::size_t k = 0; k < m_rings.size(); ++k) {
+        // A ring of the same radius keeps its drawing (most edits leave the scale alone).
+        const double radius = int(k) < m_ringCount ? PoleScale::ringRadius(int(k)) : 0.0;
+        // (A cleared plot, showUnavailable(), has emptied it.)
+        if (k < m_ringRadii.size() && m_ringRadii[k] == radius
+            && m_rings[k]->count() == (int(k) < m_ringCount ? kSegments + 1 : 0)) {
+            if (int(k) < m_ringCount)
+                m_ringLabels[k]->setText(
+                    toQString(formatEngineering(scale.ringValue(int(k)), 3, "rad/s")));
+            continue;
+        }
+        m_ringRadii.resize(m_rings.size(), -1.0);
+        m_ringRadii[k] = radius;
         QList<QPointF> circle;
         if (int(k) < m_ringCount) {
-            const double radius = PoleScale::ringRadius(int(k));
             for (int i = 0; i <= kSegments; ++i) {
                 const double angle = 2.0 * M_PI * i / kSegments;
                 circle.append(QPointF(radius * std::cos(angle), radius * std::sin(angle)));
@@ -441,9 +452,14 @@ void PolesPanel::showAnalysis(const Analysis &a)
         m_rings[k]->replace(circle);
     }
     const double reach = m_outer + 0.4;
-    m_axis->replace({QPointF(0, -reach), QPointF(0, reach)});
-    m_realAxis->replace({QPointF(-reach, 0), QPointF(std::max(0.3 * reach, m_rightMost + 0.3), 0)});
-    m_poles->replace(m_points);
+    const auto replaceChanged = [](QXYSeries *s, const QList<QPointF> &points) {
+        if (!samePoints(s->points(), points))
+            s->replace(points);
+    };
+    replaceChanged(m_axis, {QPointF(0, -reach), QPointF(0, reach)});
+    replaceChanged(m_realAxis,
+                   {QPointF(-reach, 0), QPointF(std::max(0.3 * reach, m_rightMost + 0.3), 0)});
+    replaceChanged(m_poles, m_points);
 
     // One text per pole or conjugate pair (upper half-plane and real axis); coincident
     // poles say how many they are, so the legend's count is always found on the plot.

@@ -132,6 +132,7 @@ private:
     QLineSeries *m_axis, *m_realAxis;
     std::vector<QLineSeries *> m_rings;
     std::vector<QGraphicsSimpleTextItem *> m_ringLabels;
+    std::vector<double> m_ringRadii; ///< each ring's radius as drawn (0: hidden)
     std::vector<QGraphicsSimpleTextItem *> m_axisNames; ///< "Re s", "jω"
     std::vector<QGraphicsSimpleTextItem *> m_poleLabels;
     struct LabelEntry

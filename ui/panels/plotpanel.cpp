@@ -1,5 +1,6 @@
 #include "panels/plotpanel.h"
 
+#include "support/columnthinning.h"
 #include "support/qtadapter.h"
 
 #include "loopsketch/base/value.h"
@@ -478,8 +479,8 @@ QList<QPointF> PlotPanel::fullPoints(QXYSeries *s) const
 
 void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, double xMax)
 {
-    // Columns three pixels wide; each keeps its lowest and highest point, in sweep order.
-    // Zoomed in, the columns are those of the range shown.
+    // Columns three pixels wide; each keeps its lowest and highest point, in sweep order
+    // (thinToColumns()). Zoomed in, the columns are those of the range shown.
     const double columns = chart()->plotArea().width() / 3.0;
     double shownMin = xMin, shownMax = xMax;
     for (const QAbstractAxis *axis : s->attachedAxes()) {
@@ -497,29 +498,20 @@ void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, do
         s->replace(points);
         return;
     }
-    const double perColumn = (shownMax - shownMin) / columns;
-    QList<QPointF> kept;
-    kept.reserve(qsizetype(2 * columns) + 4);
-    const qsizetype n = points.size();
-    qsizetype i = 0;
-    while (i < n) {
-        const double column = std::floor((points[i].x() - xMin) / perColumn);
-        qsizetype j = i, lowest = i, highest = i;
-        while (j < n && std::floor((points[j].x() - xMin) / perColumn) == column) {
-            if (points[j].y() < points[lowest].y())
-                lowest = j;
-            if (points[j].y() > points[highest].y())
-                highest = j;
-            ++j;
-        }
-        kept.append(points[std::min(lowest, highest)]);
-        if (lowest != highest)
-            kept.append(points[std::max(lowest, highest)]);
-        i = j;
-    }
-    if (kept.back() != points.back())
-        kept.append(points.back());
-    s->replace(kept);
+    // Zoomed in, what lies off the plot is left out but for the one point on each side
+    // that carries the line to the edge (the view is thinned again on every pan and zoom).
+    const auto byX = [](const QPointF &p, double x) {
+        return p.x() < x;
+    };
+    auto from = std::lower_bound(points.begin(), points.end(), shownMin, byX);
+    auto to = std::lower_bound(from, points.end(), shownMax, byX);
+    if (from != points.begin())
+        --from;
+    if (to != points.end())
+        ++to;
+    const QList<QPointF> onPlot
+        = from == points.begin() && to == points.end() ? points : QList<QPointF>(from, to);
+    s->replace(thinToColumns(onPlot, xMin, (shownMax - shownMin) / columns));
 }
 
 void PlotPanel::hideFromLegend(QXYSeries *s)
@@ -559,6 +551,9 @@ void PlotPanel::applyRound(QValueAxis *axis, const RoundAxis &r)
 
 void PlotPanel::rename(QXYSeries *s, const QString &name)
 {
+    if (s->name() == name)
+        return; // a new name re-lays the legend out
+
     for (auto it = m_series.begin(); it != m_series.end(); ++it) {
         if (it->second == s) {
             m_series.erase(it);

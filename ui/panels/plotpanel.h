@@ -166,6 +166,9 @@ protected:
     /// Every point kept is one of core's, unchanged. `format` puts it in the cursor text.
     void replaceThinned(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax,
                         CursorFormat format = CursorFormat::None);
+    /// Exactly the same points (QPointF's == is fuzzy): a series that would get them again
+    /// keeps its drawing.
+    static bool samePoints(const QList<QPointF> &a, const QList<QPointF> &b);
     /// Sets the axis only where it differs (each change relayouts the chart).
     static void applyRange(QValueAxis *axis, double lo, double hi, double step);
     /// Sets the summary line above the plot.
@@ -241,7 +244,6 @@ private:
     QAbstractAxis *m_overlayX = nullptr;
     std::vector<QXYSeries *> m_overlaySeries;
     void thin(QXYSeries *series, const QList<QPointF> &points, double xMin, double xMax);
-    static bool samePoints(const QList<QPointF> &a, const QList<QPointF> &b);
     struct FullCurve
     {
         QList<QPointF> points;

@@ -19,7 +19,12 @@ namespace loopsketch::ui {
 
 namespace {
 
-enum Verdict { kNoVerdict = 0, kPass = 1, kFail = -1 };
+/// kFollows: a reading kept for a moment while the one for these values follows (grey).
+/// The noise cell greys when the noise of the values shown takes longer than this (the
+/// window greys the whole strip after the same time).
+constexpr int kNoiseGreysAfterMs = 150;
+
+enum Verdict { kNoVerdict = 0, kPass = 1, kFail = -1, kFollows = 2 };
 
 QString dB(const OptionalNumber &v)
 {
@@ -52,6 +57,13 @@ int lineHeight(double points, QFont::Weight weight)
 
 Readout::Readout(QWidget *parent) : QWidget(parent)
 {
+    m_noiseFollows = new QTimer(this);
+    m_noiseFollows->setSingleShot(true);
+    m_noiseFollows->setInterval(kNoiseGreysAfterMs);
+    connect(m_noiseFollows, &QTimer::timeout, this, [this] {
+        Cell &c = cell(9);
+        setCell(9, c.title->text(), c.value->text(), c.value->toolTip(), kFollows);
+    });
     auto *column = new QVBoxLayout(this);
     column->setContentsMargins(0, 0, 0, 0);
     column->setSpacing(0);
@@ -144,6 +156,8 @@ void Readout::setCell(int index, const QString &title, const QString &value, con
         colour = QStringLiteral("#00734f");
     else if (verdict == kFail)
         colour = QStringLiteral("#b3261e");
+    else if (verdict == kFollows)
+        colour = QStringLiteral("#8a9099");
     // Restyling re-polishes the label, which costs more than the whole text update.
     const QString style
         = QStringLiteral("color: %1; font-size: 10.5pt; font-weight: 600;").arg(colour);
@@ -153,6 +167,7 @@ void Readout::setCell(int index, const QString &title, const QString &value, con
 
 void Readout::showUnavailable(const QString &reason)
 {
+    m_noiseFollows->stop();
     if (m_cells.empty())
         setCell(0, tr("closed-loop gain, exact"), QStringLiteral("—"));
     for (int i = 0; i < int(m_cells.size()); ++i) {
@@ -165,7 +180,7 @@ void Readout::showUnavailable(const QString &reason)
     fitStripHeight();
 }
 
-void Readout::showAnalysis(const Analysis &a, const Design &design)
+void Readout::showAnalysis(const Analysis &a, const Design &design, bool noiseFollows)
 {
     const std::string &unit = a.gainUnit;
     const Specs &specs = design.specs;
@@ -251,7 +266,10 @@ void Readout::showAnalysis(const Analysis &a, const Design &design)
     else
         setCell(7, tr("peaking"), unstable, unstableTip);
     showSpecVerdicts(a);
-    showNoise(a, specs, check);
+    if (noiseFollows)
+        showNoiseFollows();
+    else
+        showNoise(a, specs, check);
     showWarnings(a);
     fitStripHeight();
 }
@@ -307,8 +325,32 @@ void Readout::showSpecVerdicts(const Analysis &a)
     }
 }
 
+void Readout::showNoise(const Analysis &a, const Design &design)
+{
+    showNoise(a, design.specs, checkSpecs(design.specs, design.sweep, trialMetricsOf(a)));
+}
+
+void Readout::showNoiseFollows()
+{
+    // The noise of these values follows in a moment (the noise pass is a fraction of the
+    // analysis): the last reading stays, so the strip does not flicker, and its tooltip says
+    // whose it is; if the noise takes longer than the window's pending delay, it greys.
+    Cell &c = cell(9);
+    const bool shown = !c.value->text().isEmpty() && c.value->text() != QStringLiteral("—");
+    const QString tip = tr("the noise for these values follows (the reading is that of the "
+                           "previous values)");
+    if (!shown) {
+        setCell(9, tr("rms noise"), QStringLiteral("…"), tip, kFollows);
+        return;
+    }
+    c.value->setToolTip(tip);
+    c.title->setToolTip(tip);
+    m_noiseFollows->start();
+}
+
 void Readout::showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check)
 {
+    m_noiseFollows->stop();
     const QString unstable = a.stabilityKnown ? tr("— (unstable)") : tr("— (stability unknown)");
     const QString unstableTip = a.stabilityKnown
         ? tr("no closed-loop value: the loop is unstable")

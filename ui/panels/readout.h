@@ -6,6 +6,7 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/analysis/trialmetrics.h"
 
+#include <QTimer>
 #include <QWidget>
 
 #include <vector>
@@ -23,7 +24,12 @@ class Readout : public QWidget
 public:
     explicit Readout(QWidget *parent = nullptr);
 
-    void showAnalysis(const Analysis &analysis, const Design &design);
+    /// `noiseFollows`: `analysis` has no noise yet (it follows in a moment): the noise cell
+    /// keeps its reading, greyed, and says so.
+    void showAnalysis(const Analysis &analysis, const Design &design, bool noiseFollows = false);
+    /// The noise cell alone, from `analysis` (the same numbers otherwise: the noise that
+    /// followed the result shown, DesignDocument::noiseChanged).
+    void showNoise(const Analysis &analysis, const Design &design);
     /// The design cannot be analysed: every value reads "—", `reason` in the tooltips.
     void showUnavailable(const QString &reason);
     /// All cells as "title: value" lines, then the warnings line when shown (for tests and
@@ -56,10 +62,12 @@ private:
     void showStability(const Analysis &a);
     void showSpecVerdicts(const Analysis &a);
     void showNoise(const Analysis &a, const Specs &specs, const SpecCheck &check);
+    void showNoiseFollows();
     void showWarnings(const Analysis &a);
 
     QWidget *m_strip = nullptr; ///< the banner and the cells, in m_flow
     FlowLayout *m_flow = nullptr;
+    QTimer *m_noiseFollows = nullptr; ///< greys the noise cell kept while its noise follows
     std::vector<Cell> m_cells;
     QLabel *m_warnings = nullptr; ///< below the cells, shown only when the analysis warns
     QLabel *m_banner = nullptr; ///< "UNSTABLE" and the poles that make it so

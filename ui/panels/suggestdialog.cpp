@@ -290,6 +290,11 @@ void SuggestDialog::updateTargets()
     m_targets->setText(parts.join(QStringLiteral("; ")));
 }
 
+QString SuggestDialog::previewText() const
+{
+    return m_preview->text();
+}
+
 void SuggestDialog::updatePreview()
 {
     const Design &d = m_document->design();
@@ -312,13 +317,20 @@ void SuggestDialog::updatePreview()
             combinations *= double(n);
             counts << tr("%1: %2 %3 values").arg(id).arg(n).arg(toQString(toString(s)));
         }
+        const auto [design, options] = searchRequest();
+        const auto plan = planSuggest(design, options);
         text
             = tr("Searches %1; %2 combinations.")
                   .arg(counts.join(QStringLiteral(", ")), QLocale().toString(combinations, 'f', 0));
-        if (combinations > double(kMaxCombinations)) {
-            text += QStringLiteral(" ")
-                + tr("That is more than %1: narrow the range or tick fewer parts.")
-                      .arg(QLocale().toString(qulonglong(kMaxCombinations)));
+        if (plan) {
+            // combinations the DC gain decides together (a capacitor's values) or by bisection
+            // (a resistor's series) are not computed one by one
+            if (plan->evaluations < plan->combinations)
+                text += QStringLiteral(" ")
+                    + tr("At least %1 DC gains computed.")
+                          .arg(QLocale().toString(qulonglong(plan->evaluations)));
+        } else if (d.specs.gainMin && d.specs.gainMax) {
+            text += QStringLiteral(" ") + toQString(plan.diagnostics().front().message);
             ok = false;
         }
     }
@@ -326,20 +338,26 @@ void SuggestDialog::updatePreview()
     m_run->setEnabled(ok);
 }
 
-void SuggestDialog::run()
+std::pair<Design, SuggestOptions> SuggestDialog::searchRequest() const
 {
     Design design = m_document->design();
     SuggestOptions options;
     for (const QString &id : checkedParts())
         options.parts.push_back(toStdString(id));
-    const std::optional<ESeries> chosen = series();
-    for (const std::string &id : options.parts) {
-        if (Part *p = design.findPart(id); p && chosen)
-            p->series = chosen;
-    }
+    if (const std::optional<ESeries> chosen = series())
+        for (const std::string &id : options.parts)
+            if (Part *p = design.findPart(id))
+                p->series = chosen;
     options.series = ESeries::E24; // for parts that give none
     options.decades = m_decades->value();
     options.best = kBest;
+    return {std::move(design), std::move(options)};
+}
+
+void SuggestDialog::run()
+{
+    auto [design, options] = searchRequest();
+    const std::optional<ESeries> chosen = series();
     const std::string file = toStdString(m_document->filePath());
     m_background->start(
         [design = std::move(design), options, file](BackgroundRun::State &state) {

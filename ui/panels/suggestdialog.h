@@ -61,6 +61,8 @@ public:
     bool applySuggestion(int row);
 
     QString targetsText() const;
+    /// What the search would cover: the values, combinations and DC gains to compute.
+    QString previewText() const;
     QString statusText() const;
     /// The text of a result-table cell.
     QString cellText(int row, int column) const;
@@ -78,6 +80,8 @@ private:
     void rebuildParts();
     void updateTargets();
     void updatePreview();
+    /// The design (the chosen series on the chosen parts) and options a search runs on.
+    std::pair<Design, SuggestOptions> searchRequest() const;
     void deliver(Delivery delivery);
     void showResult();
     void setBusy(bool busy);

@@ -19,6 +19,8 @@
 
 #include <QElapsedTimer>
 
+#include <atomic>
+#include <functional>
 #include <map>
 #include <memory>
 #include <optional>
@@ -57,7 +59,23 @@ public:
     const Analysis *shownAnalysis() const { return m_analysis ? &*m_analysis : nullptr; }
     /// True until the full result (or the diagnostics) for the design as it is now has been
     /// applied.
-    bool isAnalysisPending() const { return m_shownGeneration != m_generation || m_shownCoarse; }
+    bool isAnalysisPending() const
+    {
+        return m_shownGeneration != m_generation || m_shownCoarse || m_shownNoiseFollows;
+    }
+    /// True when the views show a result whose noise analysis follows (noiseChanged): the
+    /// main curves came first because no view on screen drew the noise.
+    bool isNoiseFollowing() const { return m_shownNoiseFollows; }
+    /// Tells the document whether a view on screen draws the noise curves (the Noise panel);
+    /// asked at every run. While it says no, on a design whose last full analysis took over
+    /// 4 ms (as for the coarse sweep) and that has no noise spec (whose verdict the Readout
+    /// shows with the rest), a run computes the main curves and metrics first and the noise
+    /// after them, on the same worker (ui/README.md §3). Without a probe every run computes
+    /// everything at once.
+    void setNoiseOnScreenProbe(std::function<bool()> probe) { m_noiseOnScreen = std::move(probe); }
+    /// Whether the result shown was made with the noise in one run (false: it followed, or
+    /// the run had no noise to compute because it failed). For tests.
+    bool lastRunDeferredNoise() const { return m_lastRunDeferredNoise; }
     /// True when the views show the coarse sweep of a burst (the full one follows).
     bool isShownCoarse() const { return m_shownCoarse; }
     /// Runs the event loop until the full result for the design as it is now has been
@@ -184,6 +202,8 @@ public:
     QString unavailableReason() const { return m_analysis ? QString() : m_diagnostics; }
     /// Milliseconds of the core analyze() call whose result is shown (on the worker).
     double lastAnalysisMs() const { return m_lastAnalysisMs; }
+    /// Core's time for the last noise pass that followed a main result, ms.
+    double lastNoiseMs() const { return m_lastNoiseMs; }
     QString lastDiagnostics() const { return m_diagnostics; }
 
     // Used by the commands only.
@@ -211,6 +231,9 @@ signals:
     /// A result for the design as it is now, to every view at once; isShownCoarse() tells a
     /// burst's coarse sweep from the full one.
     void analysisChanged(const loopsketch::Analysis &analysis);
+    /// The noise analysis of the result shown, which followed analysisChanged: `analysis` is
+    /// that result with its noise (and the spec verdicts recomputed with it).
+    void noiseChanged(const loopsketch::Analysis &analysis);
     /// The design changed: what the views show is for an earlier state until the next
     /// analysisChanged or analysisUnavailable.
     void analysisPending();
@@ -236,9 +259,14 @@ private:
     void scheduleRecompute();
     /// Starts a run for the design as it is now unless one is in flight or nothing is needed.
     void dispatch();
+    /// On the UI thread: the main result of a run whose noise follows, applied when it is
+    /// for the current design, else dropped.
+    void showMainResult(const std::shared_ptr<Run> &run);
     /// On the UI thread: applies `run` when it is for the current design, else drops it.
     void finishRun(const std::shared_ptr<Run> &run);
     void applyRun(Run &run);
+    /// On the UI thread: the noise pass that followed `run`'s main result.
+    void applyNoise(Run &run);
     void rebuildLayout();
     void pushDesign(Design after, const QString &text);
     /// Keeps what names parts consistent with the parts (candidates, input) after a
@@ -258,11 +286,17 @@ private:
     QString m_diagnostics;
     double m_lastAnalysisMs = 0.0;
     double m_lastFullMs = 0.0;
+    double m_lastNoiseMs = 0.0;
     quint64 m_generation = 0;
     quint64 m_shownGeneration = 0;
     bool m_shownCoarse = false;
     bool m_wantCoarse = false;
+    bool m_shownNoiseFollows = false;
+    bool m_lastRunDeferredNoise = false;
     bool m_running = false;
+    std::function<bool()> m_noiseOnScreen;
+    /// m_generation for the worker, which skips a noise pass already superseded.
+    std::atomic<quint64> m_latestGeneration{0};
     int m_droppedResults = 0;
     std::thread m_worker;
 };

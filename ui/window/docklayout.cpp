@@ -138,7 +138,11 @@ void MainWindow::createDocks()
     auto *poles = new PolesPanel(this);
     m_panels = {m_loopGain, impedance, desens, step, poles};
     auto *noise = new NoisePanel(this);
+    m_noise = noise;
     m_panels.push_back(noise);
+    // Off screen (a tab behind another, a closed dock) the noise follows the main curves.
+    m_document->setNoiseOnScreenProbe(
+        [noise] { return noise->isVisible() && !noise->viewport()->visibleRegion().isEmpty(); });
     // The linked frequency cursor: hovering one frequency panel marks the same frequency
     // in all of them.
     for (PlotPanel *source : m_panels) {

@@ -102,6 +102,7 @@ void MainWindow::connectDocument()
 {
     connect(m_document, &DesignDocument::designReset, this, &MainWindow::rebuildSketch);
     connect(m_document, &DesignDocument::analysisChanged, this, &MainWindow::showAnalysis);
+    connect(m_document, &DesignDocument::noiseChanged, this, &MainWindow::showNoise);
     connect(m_document, &DesignDocument::analysisUnavailable, this, &MainWindow::showUnavailable);
     connect(m_document, &DesignDocument::analysisPending, this, &MainWindow::showPending);
     for (PlotPanel *panel : m_panels) {
@@ -292,13 +293,16 @@ void MainWindow::showAnalysis(const Analysis &analysis)
             panel->setRenderHint(QPainter::Antialiasing, false);
         m_settleTimer->start();
     }
-    m_readout->showAnalysis(analysis, m_document->design());
+    const bool noiseFollows = m_document->isNoiseFollowing();
+    m_readout->showAnalysis(analysis, m_document->design(), noiseFollows);
     m_scene->markProblem({});
     // A panel in a dock out of sight (a tab behind another, a closed dock) catches up when
     // its dock comes on screen (catchUpPanel).
     for (PlotPanel *panel : m_panels) {
         // (A dock behind another tab stays "visible", moved out of the window.)
-        if (!panel->isVisible() || panel->viewport()->visibleRegion().isEmpty()) {
+        // The noise panel, when its noise follows, draws it from showNoise().
+        if (!panel->isVisible() || panel->viewport()->visibleRegion().isEmpty()
+            || (noiseFollows && panel == m_noise)) {
             m_panelsBehind.insert(panel);
             continue;
         }
@@ -319,16 +323,41 @@ void MainWindow::showAnalysis(const Analysis &analysis)
                               .arg(m_document->lastAnalysisMs() + panelsMs, 0, 'f', 1)
                               .arg(m_document->lastAnalysisMs(), 0, 'f', 1)
                               .arg(panelsMs, 0, 'f', 1));
+    if (noiseFollows)
+        m_timing->setText(m_timing->text() + tr("; the noise follows"));
 }
 
 void MainWindow::catchUpPanel(PlotPanel *panel)
 {
+    // Shown now without its noise, the noise panel waits for showNoise().
+    if (panel == m_noise && m_document->isNoiseFollowing())
+        return;
     if (!m_panelsBehind.erase(panel))
         return;
     if (const Analysis *shown = m_document->shownAnalysis()) {
         panel->showUnavailable(QString());
         panel->showAnalysis(*shown);
     }
+}
+
+void MainWindow::showNoise(const Analysis &analysis)
+{
+    QElapsedTimer timer;
+    timer.start();
+    // Only the noise cell: the noise follows only where no spec reads it.
+    m_readout->showNoise(analysis, m_document->design());
+    if (m_noise->isVisible() && !m_noise->viewport()->visibleRegion().isEmpty()) {
+        m_panelsBehind.erase(m_noise);
+        m_noise->showUnavailable(QString());
+        m_noise->showAnalysis(analysis);
+    } else {
+        m_panelsBehind.insert(m_noise);
+    }
+    if (!m_document->isShownCoarse())
+        m_timing->setText(tr("%1; the noise followed in %2 ms (panels %3 ms)")
+                              .arg(m_timing->text().section(QStringLiteral(";"), 0, 0))
+                              .arg(m_document->lastNoiseMs(), 0, 'f', 1)
+                              .arg(double(timer.nsecsElapsed()) / 1e6, 0, 'f', 1));
 }
 
 void MainWindow::showPending()

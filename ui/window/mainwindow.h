@@ -31,6 +31,7 @@ class Readout;
 class SketchScene;
 class SketchView;
 class LoopGainPanel;
+class NoisePanel;
 class SpreadPanel;
 class SuggestDialog;
 
@@ -125,6 +126,8 @@ private:
     void showPending();
     /// Brings a panel that missed results while out of sight up to the shown analysis.
     void catchUpPanel(PlotPanel *panel);
+    /// The noise that followed the result shown: the Readout's noise cell and the Noise panel.
+    void showNoise(const Analysis &analysis);
     void selectionChanged();
     void addRecentFile(const QString &path);
     void updateRecentMenu();
@@ -157,6 +160,7 @@ private:
     PartsPalette *m_palette;
     DesignPropertiesPanel *m_properties = nullptr;
     LoopGainPanel *m_loopGain = nullptr;
+    NoisePanel *m_noise = nullptr;
     CandidatesPanel *m_candidates = nullptr;
     QDockWidget *m_candidatesDock = nullptr;
     SpreadPanel *m_spread = nullptr;

@@ -229,6 +229,14 @@ void addNoise(const Design &design, NoiseOptions options, std::span<const Comple
         detail::addNoiseFigures(*model, design, *a.noise, a.stable);
 }
 
+/// The noise options of a run: a scan's (metricsOnly) reads the band rms figures alone.
+NoiseOptions noiseOptionsOf(const AnalysisOptions &options)
+{
+    NoiseOptions noiseOptions = options.noiseOptions;
+    noiseOptions.rmsOnly = noiseOptions.rmsOnly || options.metricsOnly;
+    return noiseOptions;
+}
+
 /// The rate of closure at the crossover, the level where |A_ol| meets the closure curve and
 /// whether the closure is steep, into `m` (whose crossover is known).
 void addClosure(const LoopModel &model, Margins &m)
@@ -355,14 +363,24 @@ Analysis analyzeModel(const LoopModel &model, const Design &design, const Analys
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = detail::gainSensitivity(design, *a.exact.gain, options.solver);
-    if (options.noise) {
-        NoiseOptions noiseOptions = options.noiseOptions;
-        noiseOptions.rmsOnly = noiseOptions.rmsOnly || options.metricsOnly;
-        addNoise(design, noiseOptions, points, closedLoopPoles, a);
-    }
+    if (options.noise)
+        addNoise(design, noiseOptionsOf(options), points, closedLoopPoles, a);
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;
+}
+
+void addNoiseAnalysis(const Design &design, Analysis &a, const AnalysisOptions &options)
+{
+    // The inputs analyzeModel() hands addNoise(): describePoles() keeps each pole's s as found.
+    std::vector<Complex> closedLoopPoles;
+    closedLoopPoles.reserve(a.poles.size());
+    for (const ClosedLoopPole &p : a.poles)
+        closedLoopPoles.push_back(p.s);
+    a.noise.reset();
+    a.noiseProblem.clear();
+    addNoise(design, noiseOptionsOf(options), pointsAt(a.frequenciesHz), closedLoopPoles, a);
+    a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
 }
 
 } // namespace loopsketch

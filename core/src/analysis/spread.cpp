@@ -6,6 +6,7 @@
 
 #include "base/jsonnumber.h"
 #include "detail/parallel.h"
+#include "detail/seedsequence.h"
 
 #include <nlohmann/json.hpp>
 
@@ -95,8 +96,10 @@ std::size_t runOnWorkspaces(const Design &design, const std::vector<SpreadQuanti
 /// The per-trial generator: a function of (seed, trial) only.
 std::mt19937_64 trialGenerator(std::uint64_t seed, std::uint64_t trial)
 {
-    std::seed_seq seq{static_cast<std::uint32_t>(seed), static_cast<std::uint32_t>(seed >> 32),
-                      static_cast<std::uint32_t>(trial), static_cast<std::uint32_t>(trial >> 32)};
+    // The words of std::seed_seq{...} with these four values, computed without its cost.
+    detail::SeedSequence seq(
+        {static_cast<std::uint32_t>(seed), static_cast<std::uint32_t>(seed >> 32),
+         static_cast<std::uint32_t>(trial), static_cast<std::uint32_t>(trial >> 32)});
     return std::mt19937_64(seq);
 }
 

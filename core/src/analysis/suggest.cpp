@@ -5,10 +5,8 @@
 #include "loopsketch/base/value.h"
 #include "loopsketch/design/designvalidation.h"
 
-#include "base/jsonnumber.h"
+#include "analysis/gainwindowsearch.h"
 #include "detail/parallel.h"
-
-#include <nlohmann/json.hpp>
 
 #include <algorithm>
 #include <cmath>
@@ -19,8 +17,6 @@
 namespace loopsketch {
 
 namespace {
-
-using Json = nlohmann::ordered_json;
 
 Diagnostic error(std::string_view file, std::string part, std::string field, std::string message)
 {
@@ -216,6 +212,40 @@ std::string yieldNoteOf(const std::vector<Suggestion> &rows, int trials)
         + " Monte Carlo trials";
 }
 
+/// The row of combination `c` with `metrics`: values, gain error, objective and decades from
+/// the current values (without the spec check).
+Suggestion rowOf(const SuggestResult &r, std::size_t c, const TrialMetrics &metrics)
+{
+    Suggestion s;
+    std::size_t left = c;
+    for (const auto &range : r.ranges) {
+        const double v = range.values[left % range.values.size()];
+        s.values.emplace_back(range.part, v);
+        s.decadesFromCurrent += std::abs(std::log10(v / range.current));
+        left /= range.values.size();
+    }
+    s.metrics = metrics;
+    if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
+        s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
+    if (r.noiseObjective)
+        s.objective = s.metrics.outputNoiseRms.value_or(HUGE_VAL);
+    else
+        s.objective = s.metrics.gain && r.targetGain != 0
+            ? std::abs(*s.metrics.gain - r.targetGain) / std::abs(r.targetGain)
+            : HUGE_VAL;
+    if (!std::isfinite(s.decadesFromCurrent))
+        s.decadesFromCurrent = HUGE_VAL;
+    return s;
+}
+
+/// The rows whose worst case and yield are computed, of `rows` evaluated ones.
+std::size_t shortlistSize(const SuggestOptions &o, std::size_t rows)
+{
+    const std::size_t best = static_cast<std::size_t>(o.best);
+    return std::min(
+        rows, o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist)) : 4 * best);
+}
+
 /// The suggestions of the combinations `chosen` whose trial ran (`done` 1), with their
 /// metrics; the first `inWindow` lie inside the gain window. Shortlists the best by nominal,
 /// computes their worst case and yield, keeps the `best` best in `r.suggestions` and says in
@@ -227,29 +257,10 @@ void rankSuggestions(const Design &design, const SuggestOptions &o,
 {
     std::vector<Suggestion> all;
     bool anyBandwidth = false, anyMargin = false;
-    r.noiseObjective = hasNoiseSpec(design.specs);
     for (std::size_t i = 0; i < chosen.size(); ++i) {
         if (done[i] != 1)
             continue;
-        Suggestion s;
-        std::size_t left = chosen[i];
-        for (const auto &range : r.ranges) {
-            const double v = range.values[left % range.values.size()];
-            s.values.emplace_back(range.part, v);
-            s.decadesFromCurrent += std::abs(std::log10(v / range.current));
-            left /= range.values.size();
-        }
-        s.metrics = metrics[i];
-        if (s.metrics.gain && std::isfinite(r.targetGain) && r.targetGain != 0)
-            s.gainErrorPct = (*s.metrics.gain - r.targetGain) / std::abs(r.targetGain) * 100.0;
-        if (r.noiseObjective)
-            s.objective = s.metrics.outputNoiseRms.value_or(HUGE_VAL);
-        else
-            s.objective = s.metrics.gain && r.targetGain != 0
-                ? std::abs(*s.metrics.gain - r.targetGain) / std::abs(r.targetGain)
-                : HUGE_VAL;
-        if (!std::isfinite(s.decadesFromCurrent))
-            s.decadesFromCurrent = HUGE_VAL;
+        Suggestion s = rowOf(r, chosen[i], metrics[i]);
         s.specs = checkSpecs(design.specs, design.sweep, s.metrics);
         s.meetsSpecs = s.specs.all();
         if (i < inWindow) {
@@ -261,9 +272,7 @@ void rankSuggestions(const Design &design, const SuggestOptions &o,
     }
     const bool anyGain = inWindow > 0;
     const std::size_t best = static_cast<std::size_t>(o.best);
-    const std::size_t shortlist = std::min(
-        all.size(),
-        o.shortlist > 0 ? std::max(best, static_cast<std::size_t>(o.shortlist)) : 4 * best);
+    const std::size_t shortlist = shortlistSize(o, all.size());
     std::partial_sort(all.begin(), all.begin() + static_cast<std::ptrdiff_t>(shortlist), all.end(),
                       [&](const Suggestion &a, const Suggestion &b) {
                           return nominallyBefore(a, b, design.specs);
@@ -316,7 +325,151 @@ Result<std::vector<SuggestRange>> checkRequest(const Design &design, const Sugge
     return ranges;
 }
 
+/// The combinations of stage 2: `combinations[i]` with DC gain `gains[i]`, the first
+/// `inWindow` inside the gain window.
+struct ChosenRows
+{
+    const std::vector<std::size_t> &combinations;
+    const std::vector<double> &gains;
+    std::size_t inWindow;
+    const std::vector<double> &grid;
+};
+
+/// Stage 2: the trial metrics of the chosen rows (`done[i]` 1, or 2 without a solution; 0 not
+/// run). Without a noise spec the objective is the gain's distance from the window centre,
+/// known from stage 1, so the rows inside the window run best objective first and stop once
+/// the shortlist holds rows meeting every spec: every row not run ranks after those. That
+/// holds while each trial's gain is stage 1's DC gain (the same solve, bit for bit); a row
+/// where it is not makes every row run.
+void evaluateRows(const Design &design, const SuggestOptions &o, const SuggestResult &r,
+                  const ChosenRows &rows, std::vector<TrialMetrics> &metrics,
+                  std::vector<char> &done)
+{
+    const std::size_t count = rows.combinations.size();
+    const int workers = detail::workerCount(o.threads, count);
+    struct Workspace
+    {
+        Design design;
+        std::vector<double *> targets;
+    };
+    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
+    spaces.reserve(static_cast<std::size_t>(workers));
+    for (int w = 0; w < workers; ++w) {
+        Workspace &s = spaces.emplace_back(Workspace{design, {}});
+        for (const auto &range : r.ranges)
+            s.targets.push_back(&s.design.findPart(range.part)->fields[range.field].si);
+    }
+    const auto runRows = [&](const std::vector<std::size_t> &which) {
+        detail::runParallel(
+            which.size(), workers,
+            [&](std::size_t j, int w) {
+                const std::size_t i = which[j];
+                Workspace &s = spaces[static_cast<std::size_t>(w)];
+                std::size_t rest = rows.combinations[i];
+                for (std::size_t k = 0; k < r.ranges.size(); ++k) {
+                    const auto &values = r.ranges[k].values;
+                    *s.targets[k] = values[rest % values.size()];
+                    rest /= values.size();
+                }
+                auto m = evaluateTrial(s.design, rows.grid);
+                done[i] = m ? 1 : 2;
+                if (m)
+                    metrics[i] = *m;
+            },
+            {}, o.cancel);
+    };
+    std::vector<std::size_t> order(count);
+    std::iota(order.begin(), order.end(), std::size_t{0});
+    if (!o.prune || r.noiseObjective) {
+        runRows(order);
+        return;
+    }
+    // outside the window: always run (a handful)
+    runRows(std::vector<std::size_t>(order.begin() + static_cast<std::ptrdiff_t>(rows.inWindow),
+                                     order.end()));
+    std::vector<Suggestion> keys;
+    keys.reserve(rows.inWindow);
+    for (std::size_t i = 0; i < rows.inWindow; ++i) {
+        TrialMetrics m;
+        m.gain = rows.gains[i];
+        keys.push_back(rowOf(r, rows.combinations[i], m));
+    }
+    order.resize(rows.inWindow);
+    std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
+        return objectiveThenValuesBefore(keys[a], keys[b]);
+    });
+    const std::size_t wanted = shortlistSize(o, count);
+    const int specs = specCount(design.specs);
+    std::size_t next = 0, meetAll = 0, batch = std::max<std::size_t>(wanted, 4 * workers);
+    bool sameGain = true;
+    while (next < order.size() && !(o.cancel && o.cancel->load())) {
+        const std::size_t end = std::min(order.size(), next + batch);
+        runRows(std::vector<std::size_t>(order.begin() + static_cast<std::ptrdiff_t>(next),
+                                         order.begin() + static_cast<std::ptrdiff_t>(end)));
+        for (; next < end; ++next) {
+            const std::size_t i = order[next];
+            if (done[i] != 1)
+                continue;
+            // bit for bit: the order above is only the trials' order if the gains are equal
+            sameGain = sameGain && metrics[i].gain && *metrics[i].gain == rows.gains[i];
+            if (checkSpecs(design.specs, design.sweep, metrics[i]).met(design.specs) == specs)
+                ++meetAll;
+        }
+        if (sameGain && meetAll >= wanted)
+            break;
+        batch *= 2;
+    }
+}
+
+std::string overCapText()
+{
+    return "more than " + std::to_string(kMaxCombinations)
+        + " combinations to evaluate: narrow the ranges or pick fewer parts";
+}
+
+const SuggestRange &largestRange(const std::vector<SuggestRange> &ranges)
+{
+    return *std::max_element(ranges.begin(), ranges.end(),
+                             [](const SuggestRange &a, const SuggestRange &b) {
+                                 return a.values.size() < b.values.size();
+                             });
+}
+
+/// The plan of a checked request; `parts` receives the searched values. The cap counts the
+/// DC gains the search computes, not the combinations it covers.
+Result<SuggestPlan> planOf(const Design &design, const SuggestOptions &o,
+                           const std::vector<SuggestRange> &ranges,
+                           std::vector<detail::SearchedValue> &parts, std::string_view file)
+{
+    SuggestPlan plan;
+    plan.combinations = 1;
+    for (const auto &range : ranges) {
+        if (static_cast<double>(plan.combinations) * static_cast<double>(range.values.size())
+            > static_cast<double>(kMaxSearchedCombinations))
+            return error(file, range.part, "series",
+                         "more than " + std::to_string(kMaxSearchedCombinations)
+                             + " combinations to search: narrow the ranges or pick fewer parts");
+        plan.combinations *= range.values.size();
+        parts.push_back({range.part, range.field, range.values});
+    }
+    plan.evaluations
+        = detail::plannedEvaluations(design, parts, static_cast<std::size_t>(o.best), o.prune);
+    if (plan.evaluations > kMaxCombinations)
+        return error(file, largestRange(ranges).part, "series", overCapText());
+    return plan;
+}
+
 } // namespace
+
+Result<SuggestPlan> planSuggest(const Design &design, const SuggestOptions &o,
+                                std::string_view file)
+{
+    auto ranges = checkRequest(design, o, file);
+    if (!ranges)
+        return ranges.diagnostics();
+    std::vector<detail::SearchedValue> parts;
+    return planOf(design, o, *ranges, parts, file);
+}
 
 bool ranksBefore(const Suggestion &a, const Suggestion &b)
 {
@@ -335,91 +488,60 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
         return ranges.diagnostics();
     SuggestResult r;
     r.ranges = std::move(ranges).value();
+    r.noiseObjective = hasNoiseSpec(design.specs);
     // halves first: a window near the largest double must not overflow to infinity
     r.targetGain = design.specs.gainMin->si / 2.0 + design.specs.gainMax->si / 2.0;
-    r.combinations = 1;
-    for (const auto &range : r.ranges) {
-        r.combinations *= range.values.size();
-        if (r.combinations > kMaxCombinations)
-            return error(file, range.part, "series",
-                         "more than " + std::to_string(kMaxCombinations)
-                             + " combinations to search: narrow the ranges or pick fewer parts");
-    }
+    detail::GainWindowRequest request;
+    auto plan = planOf(design, o, r.ranges, request.parts, file);
+    if (!plan)
+        return plan.diagnostics();
+    r.combinations = plan->combinations;
+    const std::size_t planned = plan->evaluations;
+    const SuggestRange &largest = largestRange(r.ranges);
     const std::vector<double> grid = coarseGrid(design.sweep, o.pointsPerDecade);
     if (grid.size() < 2)
         return error(file, {}, "sweep", "the sweep has no frequency range to evaluate");
-    // Up front: the DC gain of every combination, then at least `best` full trials.
+    const auto best = static_cast<std::size_t>(o.best);
+    // Up front: the planned DC gains, then at least `best` full trials.
     const CircuitSize size = circuitSize(design);
     const double dcOps = dcGainOperations(size), trialOps = trialOperations(size, grid.size());
-    const auto combinations = static_cast<double>(r.combinations);
+    const auto evaluations = static_cast<double>(std::max<std::size_t>(planned, 1));
     if (auto over = checkRepeatedBudget(
-            design, file, r.combinations,
-            dcOps + trialOps * std::min(static_cast<double>(o.best), combinations) / combinations,
+            design, file, std::max<std::size_t>(planned, 1),
+            dcOps + trialOps * std::min(static_cast<double>(o.best), evaluations) / evaluations,
             "the search", "narrow the ranges or pick fewer parts, bringing the combinations",
             "parts");
         !over.empty())
         return over;
 
-    const int workers = detail::workerCount(o.threads, r.combinations);
-    struct Workspace
-    {
-        Design design;
-        std::vector<double *> targets;
-    };
-    std::vector<Workspace> spaces; // reserved: each holds pointers into its own design
-    spaces.reserve(static_cast<std::size_t>(workers));
-    for (int w = 0; w < workers; ++w) {
-        Workspace &s = spaces.emplace_back(Workspace{design, {}});
-        for (const auto &range : r.ranges)
-            s.targets.push_back(&s.design.findPart(range.part)->fields[range.field].si);
-    }
-    const auto setValues = [&](Workspace &s, std::size_t c) {
-        std::size_t rest = c;
-        for (std::size_t k = 0; k < r.ranges.size(); ++k) {
-            const auto &values = r.ranges[k].values;
-            *s.targets[k] = values[rest % values.size()];
-            rest /= values.size();
+    // Stage 1: the combinations inside the gain window, and the best few by gain error outside
+    // it: all the ranking can pick from.
+    request.design = &design;
+    request.lo = design.specs.gainMin->si;
+    request.hi = design.specs.gainMax->si;
+    request.target = r.targetGain;
+    request.nearest = best;
+    request.prune = o.prune;
+    request.threads = o.threads;
+    request.progress = o.progress;
+    request.cancel = o.cancel;
+    request.maxEvaluations = kMaxCombinations;
+    detail::GainWindowResult window = detail::searchGainWindow(request);
+    r.computed = window.computed;
+    if (window.overCap)
+        return error(file, largest.part, "series",
+                     overCapText() + " (the gain is not monotone in the parts over the ranges)");
+    r.evaluated = window.decided;
+    r.failed = window.failed;
+    std::vector<std::size_t> chosen;
+    std::vector<double> gains;
+    for (const auto *hits : {&window.inWindow, &window.nearest})
+        for (const auto &hit : *hits) {
+            chosen.push_back(hit.combination);
+            gains.push_back(hit.gain);
         }
-    };
-    // Stage 1: the DC gain of every combination. Only those inside the gain window can meet
-    // every spec; with the best few by gain error they are all the ranking can pick from.
-    std::vector<double> gains(r.combinations, std::nan(""));
-    std::vector<char> state(r.combinations, 0); // 0 not run, 1 ok, 2 no solution
-    detail::runParallel(
-        r.combinations, workers,
-        [&](std::size_t c, int w) {
-            Workspace &s = spaces[static_cast<std::size_t>(w)];
-            setValues(s, c);
-            auto g = evaluateDcGain(s.design);
-            state[c] = g && std::isfinite(*g) ? 1 : 2;
-            if (state[c] == 1)
-                gains[c] = *g;
-        },
-        o.progress, o.cancel);
-    const double lo = design.specs.gainMin->si, hi = design.specs.gainMax->si;
-    const auto gainError = [&](std::size_t c) {
-        return std::abs(gains[c] - r.targetGain);
-    };
-    std::vector<std::size_t> chosen, rest;
-    for (std::size_t c = 0; c < r.combinations; ++c) {
-        if (state[c] == 0)
-            continue;
-        ++r.evaluated;
-        if (state[c] == 2)
-            ++r.failed;
-        else if (gains[c] >= lo && gains[c] <= hi)
-            chosen.push_back(c);
-        else
-            rest.push_back(c);
-    }
-    const std::size_t extra = std::min(rest.size(), static_cast<std::size_t>(o.best));
-    std::partial_sort(rest.begin(), rest.begin() + static_cast<std::ptrdiff_t>(extra), rest.end(),
-                      [&](std::size_t a, std::size_t b) {
-                          return gainError(a) != gainError(b) ? gainError(a) < gainError(b) : a < b;
-                      });
-    const std::size_t inWindow = chosen.size();
-    chosen.insert(chosen.end(), rest.begin(), rest.begin() + static_cast<std::ptrdiff_t>(extra));
-    // After pruning: the full trials that will actually run.
+    const std::size_t inWindow = window.inWindow.size();
+    // After pruning: the full trials that may run (fewer when the best rows are found early).
     if (auto over = checkRepeatedBudget(
             design, file, chosen.size(), trialOps,
             "evaluating the " + std::to_string(inWindow) + " combinations inside the gain window",
@@ -427,165 +549,14 @@ Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &
         !over.empty())
         return over;
 
-    // Stage 2: every metric of the chosen combinations.
+    // Stage 2: every metric of the chosen combinations that the ranking can reach.
     std::vector<TrialMetrics> metrics(chosen.size());
     std::vector<char> done(chosen.size(), 0);
-    detail::runParallel(
-        chosen.size(), workers,
-        [&](std::size_t i, int w) {
-            Workspace &s = spaces[static_cast<std::size_t>(w)];
-            setValues(s, chosen[i]);
-            auto m = evaluateTrial(s.design, grid);
-            done[i] = m ? 1 : 2;
-            if (m)
-                metrics[i] = *m;
-        },
-        {}, o.cancel);
+    evaluateRows(design, o, r, {chosen, gains, inWindow, grid}, metrics, done);
 
     rankSuggestions(design, o, chosen, inWindow, metrics, done, r);
     r.cancelled = r.evaluated < r.combinations;
     return r;
-}
-
-namespace {
-
-Json number(const OptionalNumber &v)
-{
-    return detail::jsonNumber(v);
-}
-
-} // namespace
-
-constexpr const char *kRankingText
-    = "specs met at the worst case over the tolerance box (more first), then Monte Carlo yield "
-      "(higher first), then the objective (lower first), then decades from the current values "
-      "(fewer first), then the values in the order of the parts (smaller first)";
-
-std::string suggestToJson(const SuggestResult &r, const std::string &gainUnit)
-{
-    Json j;
-    j["schema"] = "loopsketch.suggest/1";
-    j["gain_unit"] = gainUnit;
-    j["target_gain"] = number(r.targetGain);
-    Json ranges = Json::array();
-    for (const auto &range : r.ranges)
-        ranges.push_back({{"part", range.part},
-                          {"field", range.field},
-                          {"series", toString(range.series)},
-                          {"current", range.current},
-                          {"low", range.values.front()},
-                          {"high", range.values.back()},
-                          {"count", range.values.size()}});
-    j["ranges"] = ranges;
-    j["combinations"] = r.combinations;
-    j["evaluated"] = r.evaluated;
-    j["failed"] = r.failed;
-    j["cancelled"] = r.cancelled;
-    j["targets_met"] = r.targetsMet;
-    j["unmet"] = r.unmet.empty() ? Json(nullptr) : Json(r.unmet);
-    j["worst_case_met"] = r.worstCaseMet;
-    j["yield_note"] = r.yieldNote.empty() ? Json(nullptr) : Json(r.yieldNote);
-    j["ranking"] = kRankingText;
-    j["objective"] = r.noiseObjective ? "output_noise_rms" : "gain_distance_from_centre";
-    j["spread"] = {{"shortlisted", r.shortlisted},
-                   {"yield_trials", r.yieldTrials},
-                   {"seed", r.seed},
-                   {"distribution", "uniform"}};
-    Json list = Json::array();
-    for (const auto &s : r.suggestions) {
-        Json values = Json::object();
-        for (const auto &[id, v] : s.values)
-            values[id] = v;
-        list.push_back(
-            {{"values", values},
-             {"gain", number(s.metrics.gain)},
-             {"gain_error_pct", number(s.gainErrorPct)},
-             {"bandwidth_hz", number(s.metrics.bandwidthHz)},
-             {"phase_margin_deg", number(s.metrics.phaseMarginDeg)},
-             {"output_noise_rms", number(s.metrics.outputNoiseRms)},
-             {"input_noise_rms", number(s.metrics.inputNoiseRms)},
-             {"snr_db", number(s.metrics.snrDb)},
-             {"meets_specs", s.meetsSpecs},
-             {"meets",
-              {{"gain", s.specs.gain},
-               {"bandwidth", s.specs.bandwidth},
-               {"phase_margin", s.specs.phaseMargin},
-               {"output_noise", s.specs.outputNoise},
-               {"snr", s.specs.snr}}},
-             {"worst_case_pass", s.worstCasePass},
-             {"specs_met_worst_case", s.specsMetWorstCase},
-             {"yield", s.yieldProblem.empty() ? Json(s.yield) : Json(nullptr)},
-             {"yield_problem", s.yieldProblem.empty() ? Json(nullptr) : Json(s.yieldProblem)},
-             {"toleranced", s.toleranced},
-             {"objective", number(s.objective)},
-             {"decades_from_current", number(s.decadesFromCurrent)}});
-    }
-    j["suggestions"] = list;
-    return j.dump(2) + "\n";
-}
-
-std::string suggestToText(const SuggestResult &r, const std::string &gainUnit)
-{
-    std::ostringstream os;
-    os << "Searched";
-    for (std::size_t k = 0; k < r.ranges.size(); ++k) {
-        const auto &range = r.ranges[k];
-        os << (k ? "; " : " ") << range.part << " " << toString(range.series) << " "
-           << formatEngineering(range.values.front(), 3) << " .. "
-           << formatEngineering(range.values.back(), 3) << " (" << range.values.size()
-           << " values)";
-    }
-    os << "\n" << r.evaluated << " of " << r.combinations << " combinations evaluated";
-    if (r.failed)
-        os << ", " << r.failed << " without a circuit solution";
-    os << "; target gain " << formatEngineering(r.targetGain, 4, gainUnit) << "\n";
-    if (!r.targetsMet)
-        os << r.unmet << "\n";
-    os << "Ranked by " << kRankingText << "; objective: "
-       << (r.noiseObjective ? "output noise rms" : "distance of the gain from the window centre")
-       << "\nWorst case and yield of the best " << r.shortlisted << " by nominal: " << r.yieldTrials
-       << " Monte Carlo trials each (uniform, seed " << r.seed << ")\n";
-    if (r.targetsMet && !r.worstCaseMet)
-        os << "No row meets every spec at the worst case over the tolerances\n";
-    if (!r.yieldNote.empty())
-        os << "Note: " << r.yieldNote << "\n";
-    os << "\n";
-    int rank = 1;
-    for (const auto &s : r.suggestions) {
-        os << rank++ << ".";
-        for (const auto &[id, v] : s.values)
-            os << " " << id << " = " << formatEngineering(v, 3);
-        os << "\n   gain "
-           << (s.metrics.gain ? formatEngineering(*s.metrics.gain, 5, gainUnit) : "none");
-        if (s.gainErrorPct) {
-            os << " (" << formatFixed(*s.gainErrorPct, 3) << " %)";
-        }
-        os << ", bandwidth "
-           << (s.metrics.bandwidthHz ? formatEngineering(*s.metrics.bandwidthHz, 3, "Hz")
-                                     : "above the sweep");
-        os << ", phase margin ";
-        if (s.metrics.phaseMarginDeg) {
-            os << formatFixed(*s.metrics.phaseMarginDeg, 1) << " deg";
-        } else {
-            os << "none";
-        }
-        if (s.metrics.outputNoiseRms)
-            os << ", output noise "
-               << formatEngineering(*s.metrics.outputNoiseRms, 4,
-                                    gainUnit.substr(0, gainUnit.find('/')))
-               << " rms";
-        if (s.metrics.snrDb)
-            os << ", SNR " << formatFixed(*s.metrics.snrDb, 1) << " dB";
-        os << (s.worstCasePass    ? ", meets the specs at the worst case"
-                   : s.meetsSpecs ? ", meets the specs at nominal only"
-                                  : ", misses a spec");
-        if (!s.yieldProblem.empty())
-            os << "; yield not computed\n";
-        else
-            os << "; yield " << formatFixed(100.0 * s.yield, 1) << " %"
-               << (s.toleranced ? "" : " (no tolerances)") << "\n";
-    }
-    return os.str();
 }
 
 } // namespace loopsketch

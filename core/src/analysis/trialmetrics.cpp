@@ -86,15 +86,15 @@ Result<TrialMetrics> cachedTrial(const Design &design, const std::vector<double>
             cache.full.reset();
             return full ? rr.diagnostics() : full.diagnostics();
         }
-        cache.full = std::move(full).value();
-        cache.returnRatio = std::move(rr).value();
+        cache.full = std::make_shared<DescriptorSystem>(std::move(full).value());
+        cache.returnRatio = std::make_shared<DescriptorSystem>(std::move(rr).value());
     }
     for (FieldChange &c : cache.fields)
         c.from = c.to;
-    auto full = ReducedSystem::build(*cache.full);
+    auto full = ReducedSystem::build(std::shared_ptr<const DescriptorSystem>(cache.full));
     if (!full)
         return full.diagnostics();
-    auto rr = ReducedSystem::build(*cache.returnRatio);
+    auto rr = ReducedSystem::build(std::shared_ptr<const DescriptorSystem>(cache.returnRatio));
     if (!rr)
         return rr.diagnostics();
     return trialOn(design, f, *full, *rr);
@@ -148,21 +148,27 @@ Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
     if (f.size() < 2)
         return m;
 
-    thread_local Curve gain, loop;
-    gain.resize(f.size());
-    loop.resize(f.size());
-    for (std::size_t i = 0; i < f.size(); ++i) {
-        gain[i] = gainAt(f[i]);
-        loop[i] = loopAt(f[i]);
-    }
+    // The grid in one sweep per system (the same values as one point at a time: the lanes of
+    // the sweep kernel do not mix), the root finding below one point at a time.
+    thread_local std::vector<std::complex<double>> grid;
+    grid.resize(f.size());
+    for (std::size_t i = 0; i < f.size(); ++i)
+        grid[i] = jw(f[i]);
+    const TransferEntry gainEntry[] = {{loopio::kOutput, loopio::kSource}};
+    const TransferEntry loopEntry[] = {{loopio::kReturned, loopio::kTest}};
+    const Curve gain = full->sweepEntries(grid, gainEntry);
+    Curve loop = rr->sweepEntries(grid, loopEntry);
+    for (std::complex<double> &t : loop)
+        t = -t;
 
     // Bandwidth: the first fall through |G(0)|/sqrt(2), as computeBandwidth() finds it.
     if (m.gain && std::abs(g0) > 0) {
         const double level = std::abs(g0) / std::sqrt(2.0);
         for (std::size_t i = 0; i + 1 < f.size(); ++i) {
             if (std::abs(gain[i]) >= level && std::abs(gain[i + 1]) < level) {
-                m.bandwidthHz = logRoot([&](double hz) { return std::abs(gainAt(hz)) - level; },
-                                        f[i], f[i + 1]);
+                m.bandwidthHz
+                    = logRoot([&](double hz) { return std::abs(gainAt(hz)) - level; }, f[i],
+                              f[i + 1], std::abs(gain[i]) - level, std::abs(gain[i + 1]) - level);
                 break;
             }
         }
@@ -177,8 +183,8 @@ Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
         const double a = std::log(std::abs(loop[i])), b = std::log(std::abs(loop[i + 1]));
         if (!std::isfinite(a) || !std::isfinite(b) || (a < 0) == (b < 0))
             continue;
-        const double fc
-            = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i], f[i + 1]);
+        const double fc = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i],
+                                  f[i + 1], a, b);
         const double pm = 180.0 + detail::degrees(phaseNear(loopAt(fc), phase[i]));
         if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
             m.phaseMarginDeg = pm;

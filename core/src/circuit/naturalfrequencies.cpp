@@ -300,30 +300,10 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
         c = m_cr;
     }
     const ScaledPencil pencil = scaledPencil(m_gr, m_cr);
-    std::vector<std::vector<cd>> attempts;
-    attempts.push_back(finiteEigenvalues(g, c, 1.0));
-    const double wMax = g.cwiseAbs().maxCoeff();
-    if (wMax > 0 && std::isfinite(wMax) && wMax != 1.0)
-        attempts.push_back(finiteEigenvalues(g, c, wMax));
-    std::vector<cd> balanced = finiteEigenvalues(pencil.g, pencil.c, 1.0, true);
-    for (cd &s : balanced)
-        s *= pencil.w0;
-    attempts.push_back(std::move(balanced));
-    // The full pencil before the static elimination: there a very high gain sits in one
-    // entry that balancing can offset, where the Schur complement spreads it over many.
-    if (m_system && m_system->size() > order()) {
-        const ScaledPencil full = scaledPencil(m_system->G, m_system->C);
-        std::vector<cd> fromFull = finiteEigenvalues(full.g, full.c, 1.0, true);
-        for (cd &s : fromFull)
-            s *= full.w0;
-        attempts.push_back(std::move(fromFull));
-    }
-
     const auto near = [](cd a, cd b, double tolerance) {
         return std::abs(a - b) <= tolerance * std::max(std::abs(a), std::abs(b));
     };
-    std::vector<std::vector<cd>> confirmed;
-    for (const std::vector<cd> &candidates : attempts) {
+    const auto confirm = [&](const std::vector<cd> &candidates) {
         std::vector<cd> roots, from;
         for (const cd candidate : candidates) {
             const std::optional<cd> root = confirmedRoot(pencil, candidate);
@@ -340,30 +320,65 @@ std::vector<std::complex<double>> ReducedSystem::naturalFrequencies() const
                 from.push_back(candidate);
             }
         }
-        confirmed.push_back(std::move(roots));
+        return roots;
+    };
+    std::vector<std::vector<cd>> confirmed;
+    confirmed.push_back(confirm(finiteEigenvalues(g, c, 1.0)));
+    // The first scaling well conditioned: as many distinct roots, each confirmed by Newton's
+    // method, as det(G + sC) (a polynomial of degree at most the order) can have. They are
+    // all of its roots, so no other scaling can add one, the argument principle would count
+    // exactly these, and deflation would find nothing more.
+    const auto allDistinct = [&](const std::vector<cd> &roots) {
+        for (std::size_t i = 0; i < roots.size(); ++i)
+            for (std::size_t j = 0; j < i; ++j)
+                if (near(roots[i], roots[j], 1e-6))
+                    return false;
+        return true;
+    };
+    std::vector<cd> poles;
+    if (static_cast<int>(confirmed.front().size()) == order() && allDistinct(confirmed.front())) {
+        poles = confirmed.front();
+        m_unconfirmedPoles = 0;
+    } else {
+        const double wMax = g.cwiseAbs().maxCoeff();
+        if (wMax > 0 && std::isfinite(wMax) && wMax != 1.0)
+            confirmed.push_back(confirm(finiteEigenvalues(g, c, wMax)));
+        std::vector<cd> balanced = finiteEigenvalues(pencil.g, pencil.c, 1.0, true);
+        for (cd &s : balanced)
+            s *= pencil.w0;
+        confirmed.push_back(confirm(balanced));
+        // The full pencil before the static elimination: there a very high gain sits in one
+        // entry that balancing can offset, where the Schur complement spreads it over many.
+        if (m_system && m_system->size() > order()) {
+            const ScaledPencil full = scaledPencil(m_system->G, m_system->C);
+            std::vector<cd> fromFull = finiteEigenvalues(full.g, full.c, 1.0, true);
+            for (cd &s : fromFull)
+                s *= full.w0;
+            confirmed.push_back(confirm(fromFull));
+        }
+        std::stable_sort(confirmed.begin(), confirmed.end(),
+                         [](const auto &a, const auto &b) { return a.size() > b.size(); });
+        poles = confirmed.front();
+        for (std::size_t a = 1; a < confirmed.size(); ++a)
+            for (const cd root : confirmed[a])
+                if (poles.size() < static_cast<std::size_t>(order())
+                    && std::none_of(poles.begin(), poles.end(),
+                                    [&](cd p) { return near(p, root, 1e-6); }))
+                    poles.push_back(root);
+        // How many roots there are within a radius well beyond those found (argument
+        // principle); where some are missing, Newton's method with deflation looks for them.
+        double largest = pencil.w0;
+        for (const cd s : poles)
+            largest = std::max(largest, std::abs(s));
+        const double radius = 1e3 * largest;
+        const int inside = rootsInside(pencil, radius);
+        const int found = static_cast<int>(poles.size());
+        if (inside > found && inside <= order()) {
+            const std::vector<cd> more = deflatedRoots(pencil, poles, radius, inside - found);
+            poles.insert(poles.end(), more.begin(), more.end());
+        }
+        m_unconfirmedPoles = inside < 0 ? 0 : std::max(0, inside - static_cast<int>(poles.size()));
     }
-    std::stable_sort(confirmed.begin(), confirmed.end(),
-                     [](const auto &a, const auto &b) { return a.size() > b.size(); });
-    std::vector<cd> poles = confirmed.front();
-    for (std::size_t a = 1; a < confirmed.size(); ++a)
-        for (const cd root : confirmed[a])
-            if (poles.size() < static_cast<std::size_t>(order())
-                && std::none_of(poles.begin(), poles.end(),
-                                [&](cd p) { return near(p, root, 1e-6); }))
-                poles.push_back(root);
-    // How many roots there are within a radius well beyond those found (argument
-    // principle); where some are missing, Newton's method with deflation looks for them.
-    double largest = pencil.w0;
-    for (const cd s : poles)
-        largest = std::max(largest, std::abs(s));
-    const double radius = 1e3 * largest;
-    const int inside = rootsInside(pencil, radius);
-    const int found = static_cast<int>(poles.size());
-    if (inside > found && inside <= order()) {
-        const std::vector<cd> more = deflatedRoots(pencil, poles, radius, inside - found);
-        poles.insert(poles.end(), more.begin(), more.end());
-    }
-    m_unconfirmedPoles = inside < 0 ? 0 : std::max(0, inside - static_cast<int>(poles.size()));
     for (cd &s : poles)
         if (std::abs(s.imag()) < 1e-12 * std::abs(s))
             s = {s.real(), 0.0};

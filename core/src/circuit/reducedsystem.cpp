@@ -68,9 +68,9 @@ std::vector<Index> complement(Index n, const std::vector<Index> &taken)
 
 } // namespace
 
-Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, SolverPath path)
+Result<ReducedSystem> ReducedSystem::build(std::shared_ptr<const DescriptorSystem> shared,
+                                           SolverPath path)
 {
-    auto shared = std::make_shared<const DescriptorSystem>(std::move(fullSystem));
     const DescriptorSystem &system = *shared;
     const Index n = system.G.rows();
     std::vector<Index> staticSet;

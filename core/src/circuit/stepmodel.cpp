@@ -236,6 +236,13 @@ double StepModel::valueAt(double t) const
         bool pairable = false;
         for (std::size_t i = 0; i < m_lambda.size(); ++i) {
             const std::complex<double> x = m_lambda[i] * t;
+            if (x.real() < -746.0) {
+                // exp(x) underflows to exactly 0 (below half the least subnormal, e^-745.13):
+                // the mode adds a zero, and its conjugate, with the same real part, as well.
+                // Skipped, it costs nothing instead of the library's underflow path.
+                pairable = false;
+                continue;
+            }
             if (x.imag() == 0.0 && x.real() < 708.0) {
                 // A real mode: the complex exponential's own arithmetic (exp(re) times
                 // cos 0 = 1 and sin 0 = im) without its sine and cosine, the same value.

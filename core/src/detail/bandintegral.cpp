@@ -60,25 +60,52 @@ struct Panel
     double error = 0;
 };
 
-/// Evaluates the listed panels in one call of the density. False when it failed.
+/// Frequencies evaluated together with a band's first panels, and their densities.
+struct ExtraPoints
+{
+    std::vector<double> hz; ///< Hz
+    std::vector<double> values; ///< column-major, as DensityColumns: values[c * hz.size() + i]
+    bool ok = false; ///< the density was finite-valued there (no verdict on finiteness)
+};
+
+/// Evaluates the listed panels in one call of the density, and `extra`'s frequencies after
+/// them in the same call (each frequency's values do not depend on the others evaluated
+/// beside it, so they are those of a call of their own). False when it failed.
 bool evaluatePanels(const DensityColumns &density, std::size_t columns,
-                    std::vector<Panel *> &panels, BandIntegral &out)
+                    std::vector<Panel *> &panels, BandIntegral &out, ExtraPoints *extra = nullptr)
 {
     if (panels.empty())
         return true;
     const std::size_t n = panels.size() * kPoints;
-    std::vector<double> hz(n), values;
+    const std::size_t more = extra ? extra->hz.size() : 0;
+    std::vector<double> hz(n + more), values;
     for (std::size_t p = 0; p < panels.size(); ++p) {
         double u[kPoints];
         panelAbscissae(panels[p]->a, panels[p]->b, u);
         for (std::size_t k = 0; k < kPoints; ++k)
             hz[p * kPoints + k] = std::exp(u[k]);
     }
+    for (std::size_t i = 0; i < more; ++i)
+        hz[n + i] = extra->hz[i];
     out.evaluations += n;
-    if (!density(hz, values) || values.size() != columns * n) {
+    if (!density(hz, values) || values.size() != columns * (n + more)) {
+        if (more > 0) // which of them failed, and where: as if evaluated apart
+            return evaluatePanels(density, columns, panels, out);
         out.ok = false;
         out.failedAtHz = hz.front();
         return false;
+    }
+    if (more > 0) {
+        // The extra points' columns out, the panels' columns packed as for n points alone.
+        extra->values.resize(columns * more);
+        for (std::size_t c = 0; c < columns; ++c)
+            for (std::size_t i = 0; i < more; ++i)
+                extra->values[c * more + i] = values[c * (n + more) + n + i];
+        for (std::size_t c = 1; c < columns; ++c)
+            for (std::size_t i = 0; i < n; ++i)
+                values[c * n + i] = values[c * (n + more) + i];
+        values.resize(columns * n);
+        extra->ok = true;
     }
     for (std::size_t p = 0; p < panels.size(); ++p) {
         Panel &panel = *panels[p];
@@ -108,10 +135,11 @@ bool evaluatePanels(const DensityColumns &density, std::size_t columns,
     return true;
 }
 
-} // namespace
-
-BandIntegral integrateBand(const DensityColumns &density, std::size_t columns, double lowHz,
-                           double highHz, double relTol, double initialPanelsPerDecade)
+/// integrateBand(), evaluating `extra`'s frequencies with the first panels (extra->ok says
+/// whether they were).
+BandIntegral integrateBandWith(const DensityColumns &density, std::size_t columns, double lowHz,
+                               double highHz, double relTol, double initialPanelsPerDecade,
+                               ExtraPoints *extra)
 {
     BandIntegral out;
     out.columns.assign(columns, 0.0);
@@ -130,7 +158,7 @@ BandIntegral integrateBand(const DensityColumns &density, std::size_t columns, d
             : a + (b - a) * static_cast<double>(i + 1) / static_cast<double>(initial);
         pending.push_back(&panels[i]);
     }
-    if (!evaluatePanels(density, columns, pending, out))
+    if (!evaluatePanels(density, columns, pending, out, extra))
         return out;
     for (;;) {
         double total = 0, error = 0;
@@ -186,6 +214,15 @@ BandIntegral integrateBand(const DensityColumns &density, std::size_t columns, d
     return out;
 }
 
+} // namespace
+
+BandIntegral integrateBand(const DensityColumns &density, std::size_t columns, double lowHz,
+                           double highHz, double relTol, double initialPanelsPerDecade)
+{
+    return integrateBandWith(density, columns, lowHz, highHz, relTol, initialPanelsPerDecade,
+                             nullptr);
+}
+
 ConvergedBand integrateUntilConverged(const DensityColumns &density, std::size_t columns,
                                       double lowHz, double capHz, double notBeforeHz,
                                       double remainingShare, double relTol)
@@ -212,13 +249,17 @@ ConvergedBand integrateUntilConverged(const DensityColumns &density, std::size_t
         return out;
     }
     int heldAt = 0; // consecutive step ends where the tail estimate was small enough
+    ExtraPoints extra;
     for (int i = 1;; ++i) {
         // Step ends from the start frequency on a fixed grid, so that the band's end does not
         // depend on anything but the start and the circuit.
         const double upper = lowHz * std::pow(10.0, kStepDecades * i);
-        // Each step to the tolerance of what has been gathered so far and its own share.
+        // Each step to the tolerance of what has been gathered so far and its own share; the
+        // density at its end evaluated with its first panel where that succeeds.
+        extra.hz.assign(1, upper);
+        extra.ok = false;
         BandIntegral piece
-            = integrateBand(density, columns, lower, upper, relTol, 1.0 / kStepDecades);
+            = integrateBandWith(density, columns, lower, upper, relTol, 1.0 / kStepDecades, &extra);
         out.integral.evaluations += piece.evaluations;
         if (!piece.ok) {
             out.ok = false;
@@ -230,7 +271,14 @@ ConvergedBand integrateUntilConverged(const DensityColumns &density, std::size_t
         out.integral.total += piece.total;
         out.integral.errorEstimate += piece.errorEstimate;
         double psdUpper = 0;
-        if (!totalAt(upper, psdUpper)) {
+        const auto extraTotal = [&](double &psd) {
+            psd = 0;
+            for (double v : extra.values)
+                psd += v;
+            ++out.integral.evaluations;
+            return std::isfinite(psd);
+        };
+        if (!(extra.ok ? extraTotal(psdUpper) : totalAt(upper, psdUpper))) {
             out.ok = false;
             out.failedAtHz = upper;
             return out;

@@ -53,14 +53,12 @@ double illinoisRoot(F f, double a, double b, double fa, double fb, Narrow narrow
     return 0.5 * (a + b);
 }
 
-/// Root of f on [lo, hi] (Hz, f(lo) and f(hi) of opposite signs), in log f, to a relative
-/// width of kLogRootTolerance, by illinoisRoot(). Without a clean bracket (an end not finite
-/// or zero, or no sign change) it halves on the sign of f(lo), as the sweep saw it. Stops
-/// where f is not finite.
-template<typename F> double logRoot(F f, double lo, double hi)
+/// logRoot() with f(lo) and f(hi) already known (from a sweep that computed the same values),
+/// so that they are not evaluated again.
+template<typename F> double logRoot(F f, double lo, double hi, double fLo, double fHi)
 {
     double a = std::log(lo), b = std::log(hi);
-    double fa = f(lo), fb = f(hi);
+    double fa = fLo, fb = fHi;
     const auto narrow = [](double x0, double x1) {
         return std::exp(x1 - x0) - 1.0 < kLogRootTolerance;
     };
@@ -84,6 +82,15 @@ template<typename F> double logRoot(F f, double lo, double hi)
         return f(std::exp(x));
     };
     return std::exp(illinoisRoot(inLog, a, b, fa, fb, narrow, 2 * kLogRootSteps));
+}
+
+/// Root of f on [lo, hi] (Hz, f(lo) and f(hi) of opposite signs), in log f, to a relative
+/// width of kLogRootTolerance, by illinoisRoot(). Without a clean bracket (an end not finite
+/// or zero, or no sign change) it halves on the sign of f(lo), as the sweep saw it. Stops
+/// where f is not finite.
+template<typename F> double logRoot(F f, double lo, double hi)
+{
+    return logRoot(f, lo, hi, f(lo), f(hi));
 }
 
 } // namespace loopsketch::detail

@@ -17,6 +17,7 @@
 
 #include <cmath>
 #include <complex>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -250,3 +251,63 @@ TEST(Stability, TrialMetricsCarryTheVerdict)
 
 // ---------------------------------------------------------------------------------------
 // Second-order relations
+
+// The window shows the main curves first and adds the noise afterwards (ui/README.md §3):
+// addNoiseAnalysis() on a result made without noise must give what the full analyze() gives,
+// every figure of the analysis JSON and every density (the full analyze() is the reference;
+// its noise figures are checked against textbook values in noise_test.cpp).
+TEST(LazyNoise, AddedAfterwardsEqualsTheFullAnalysis)
+{
+    for (const std::string &name : exampleDesigns()) {
+        SCOPED_TRACE(name);
+        const Design design = loadOrFail(kDesignsDir / name);
+        const auto full = analyze(design);
+        ASSERT_TRUE(full) << full.errorText();
+        AnalysisOptions without;
+        without.noise = false;
+        auto first = analyze(design, {}, without);
+        ASSERT_TRUE(first) << first.errorText();
+        std::optional<Analysis> lazy = std::move(first).value();
+        EXPECT_FALSE(lazy->noise.has_value());
+        addNoiseAnalysis(design, *lazy);
+        ASSERT_EQ(full->noise.has_value(), lazy->noise.has_value()) << full->noiseProblem;
+        EXPECT_EQ(full->noiseProblem, lazy->noiseProblem);
+        if (!full->noise)
+            continue;
+        const NoiseAnalysis &a = *full->noise, &b = *lazy->noise;
+        ASSERT_EQ(a.outputDensity.size(), b.outputDensity.size());
+        for (std::size_t i = 0; i < a.outputDensity.size(); ++i)
+            EXPECT_LE(relErr(b.outputDensity[i], a.outputDensity[i]), 1e-12) << i;
+        ASSERT_EQ(a.cumulativeRms.size(), b.cumulativeRms.size());
+        for (std::size_t i = 0; i < a.cumulativeRms.size(); ++i)
+            EXPECT_LE(relErr(b.cumulativeRms[i], a.cumulativeRms[i]), 1e-12) << i;
+        ASSERT_TRUE(a.outputRms && b.outputRms);
+        EXPECT_LE(relErr(*b.outputRms, *a.outputRms), 1e-12);
+        EXPECT_EQ(a.contributions.size(), b.contributions.size());
+        EXPECT_EQ(full->specs.size(), lazy->specs.size());
+        EXPECT_EQ(analysisToJson(*full), analysisToJson(*lazy));
+    }
+}
+
+// An unstable loop's noise has densities but no band power, added afterwards as in one run
+// (the same loop as PositiveFeedbackHasOneRealRightHalfPlanePole: common practice).
+TEST(LazyNoise, UnstableLoopGetsDensitiesWithoutBandPower)
+{
+    Design design = loadOrFail(kDesignsDir / "demo.loopsketch");
+    for (Part &p : design.parts) {
+        if (p.type == PartType::GainBlock)
+            std::swap(p.nodes.at(0), p.nodes.at(1)); // in_p and in_n
+    }
+    const auto full = analyze(design);
+    ASSERT_TRUE(full) << full.errorText();
+    ASSERT_FALSE(full->stable);
+    AnalysisOptions without;
+    without.noise = false;
+    auto first = analyze(design, {}, without);
+    ASSERT_TRUE(first) << first.errorText();
+    std::optional<Analysis> lazy = std::move(first).value();
+    addNoiseAnalysis(design, *lazy);
+    ASSERT_TRUE(lazy->noise.has_value()) << lazy->noiseProblem;
+    EXPECT_FALSE(lazy->noise->outputRms.has_value());
+    EXPECT_EQ(analysisToJson(*full), analysisToJson(*lazy));
+}

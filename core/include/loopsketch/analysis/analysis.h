@@ -189,6 +189,13 @@ struct AnalysisOptions
 Result<Analysis> analyze(const Design &design, std::string_view file = {},
                          const AnalysisOptions &options = {});
 
+/// Adds the noise analysis to `a`, a result of analyze() for `design` made with `options`
+/// but `options.noise` false: afterwards `a.noise` (or `a.noiseProblem`) and `a.specs` are what
+/// analyze() with `options.noise` true gives, from the same sweep, closed-loop poles and -3 dB
+/// bandwidth (Hz) that `a` holds. For the window, which shows the main curves first and the
+/// noise a moment later when no view on screen needs its curves (ui/README.md §3).
+void addNoiseAnalysis(const Design &design, Analysis &a, const AnalysisOptions &options = {});
+
 /// What analyze() does once the model is built: `model` is LoopModel::build() of `design`
 /// (valid, within the work budget) with `options.solver` and, under `options.metricsOnly`,
 /// LoopModelScope::Metrics, or LoopModel::rebuilt() of it; the result is then analyze()'s.

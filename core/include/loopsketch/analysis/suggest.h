@@ -20,6 +20,10 @@
 
 namespace loopsketch {
 
+/// The most combinations one search may cover (the DC gains it computes are capped at
+/// kMaxCombinations, see suggestValues()).
+inline constexpr std::size_t kMaxSearchedCombinations = 1'000'000'000'000;
+
 struct SuggestOptions
 {
     std::vector<std::string> parts; ///< part ids whose primary value is searched
@@ -40,7 +44,12 @@ struct SuggestOptions
     /// Rows whose worst case and yield are computed, best by nominal first; 0: four times
     /// `best`.
     int shortlist = 0;
-    ProgressCallback progress; ///< optional, from worker threads
+    /// True: skip the DC gains and trials that cannot change the ranked rows (capacitors and
+    /// inductors do not enter the DC gain, the gain is bisected over a resistor's series where
+    /// it is monotone, trials stop once the shortlist is certain); the rows are the same as
+    /// with false, which computes every combination (kept for tests and comparison).
+    bool prune = true;
+    ProgressCallback progress; ///< optional, from worker threads (lines of the search done)
     const std::atomic<bool> *cancel = nullptr; ///< optional; true stops the search early
 };
 
@@ -90,6 +99,9 @@ struct SuggestResult
     /// all the ranking can pick from.
     std::size_t evaluated = 0;
     std::size_t failed = 0; ///< combinations whose circuit had no solution
+    /// DC gains actually computed: `evaluated` counts the combinations placed, computed or
+    /// decided by the circuit's structure (SuggestOptions::prune).
+    std::size_t computed = 0;
     bool cancelled = false;
     /// False when no evaluated combination meets every spec: the suggestions are then the
     /// best attempts, and `unmet` says which target is out of reach ("no combination meets
@@ -108,18 +120,36 @@ struct SuggestResult
     std::vector<Suggestion> suggestions; ///< best first
 };
 
-/// Evaluates every combination of the parts' series values in their ranges; the best by
-/// nominal (specs met, objective, decades from the current values) form a shortlist whose
-/// worst case over the tolerance box and Monte Carlo yield are computed, and the shortlist is
-/// ranked by: specs met at the worst case (more first), yield (higher first), the objective
-/// (output noise rms with a noise spec, else |gain - window centre| / |centre|; lower
-/// first, values within 1e-9 relative or 1e-12 absolute count as equal), decades from the current
-/// values (fewer first), and last the values themselves in the order of the parts (smaller first),
-/// so the order is never arbitrary. Fails, naming part and field, for unknown parts, parts without
-/// a value, parts without a series, empty ranges, a design without a gain window or more than
-/// kMaxCombinations combinations.
+/// Searches every combination of the parts' series values in their ranges: the DC gain
+/// places each inside or outside the gain window (computed, or decided by the circuit's
+/// structure: core/src/analysis/gainwindowsearch.h), the trial metrics of those inside and of
+/// the `best` nearest outside rank them by nominal (specs met, objective, decades from the
+/// current values), and the best by nominal form a shortlist whose worst case over the
+/// tolerance box and Monte Carlo yield are computed. The shortlist is ranked by: specs met at
+/// the worst case (more first), yield (higher first), the objective (output noise rms with a
+/// noise spec, else |gain - window centre| / |centre|; lower first, values within 1e-9
+/// relative or 1e-12 absolute count as equal), decades from the current values (fewer
+/// first), and last the values themselves in the order of the parts (smaller first), so the
+/// order is never arbitrary. Fails, naming part and field, for unknown parts, parts without a
+/// value, parts without a series, empty ranges, a design without a gain window, more than
+/// kMaxSearchedCombinations combinations or more than kMaxCombinations DC gains to compute
+/// (checked on the plan before the search and again as it runs).
 Result<SuggestResult> suggestValues(const Design &design, const SuggestOptions &options,
                                     std::string_view file = {});
+
+/// What a search would cover, known before it runs.
+struct SuggestPlan
+{
+    std::size_t combinations = 0; ///< product of the range sizes
+    /// DC gains the search computes at least (every bisection succeeding); more where the
+    /// gain is not monotone in a part. Checked against kMaxCombinations.
+    std::size_t evaluations = 0;
+};
+
+/// The plan of suggestValues(design, options): fails as suggestValues() does before any work
+/// (bad request, too many combinations or DC gains to compute), naming part and field.
+Result<SuggestPlan> planSuggest(const Design &design, const SuggestOptions &options,
+                                std::string_view file = {});
 
 /// JSON (schema loopsketch.suggest/1) and terminal text of a search.
 /// The ranking's order: true when `a` ranks before `b` (see suggestValues()).

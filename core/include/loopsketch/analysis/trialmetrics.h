@@ -13,6 +13,7 @@
 #include <atomic>
 #include <cstddef>
 #include <functional>
+#include <memory>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -56,7 +57,8 @@ Result<TrialMetrics> evaluateTrial(const Design &design, const std::vector<doubl
 struct TrialCache
 {
     std::vector<FieldChange> fields; ///< part and field of each varied value; `from`: held
-    std::optional<DescriptorSystem> full, returnRatio;
+    /// The systems of the last trial, shared with its reduced systems (no copy per trial).
+    std::shared_ptr<DescriptorSystem> full, returnRatio;
 };
 
 /// evaluateTrial() with `cache` (the same metrics, bit for bit: a re-stamped system is the

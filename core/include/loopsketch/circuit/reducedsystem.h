@@ -93,6 +93,13 @@ public:
     }
     /// The same, keeping `system` (for checkAccuracy()) without a copy.
     static Result<ReducedSystem> build(DescriptorSystem &&system,
+                                       SolverPath path = SolverPath::Reduced)
+    {
+        return build(std::make_shared<const DescriptorSystem>(std::move(system)), path);
+    }
+    /// The same, sharing `system` with the caller, who must leave it unchanged while the
+    /// result lives (a Monte Carlo trial re-stamps its systems in place between trials).
+    static Result<ReducedSystem> build(std::shared_ptr<const DescriptorSystem> system,
                                        SolverPath path = SolverPath::Reduced);
 
     int outputs() const { return static_cast<int>(m_lr.rows()); }
