@@ -2,6 +2,7 @@
 
 #include "loopsketch/circuit/stepmodel.h"
 
+#include "circuit/hessenbergpencil.h"
 #include "circuit/pencilsweep.h"
 #include "circuit/refinedsolve.h"
 #include "circuit/rowscales.h"
@@ -143,6 +144,10 @@ Result<ReducedSystem> ReducedSystem::build(DescriptorSystem &&fullSystem, Solver
     }
 
     r.m_path = path;
+    if (path == SolverPath::Reduced
+        && detail::HessenbergPencil::pays({r.m_gr, r.m_cr, r.m_br, r.m_lr, r.m_dr}))
+        r.m_hessenberg = std::make_shared<const detail::HessenbergPencil>(
+            detail::PencilView{r.m_gr, r.m_cr, r.m_br, r.m_lr, r.m_dr});
     r.m_system = std::move(shared);
     r.m_structuralZero = detail::findStructuralZeros(system).zero;
     // No solution at DC (an inductor across an ideal source or port, a node held by
@@ -197,7 +202,7 @@ std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, in
         return {std::numeric_limits<double>::quiet_NaN(), std::numeric_limits<double>::quiet_NaN()};
     const TransferEntry e[] = {{output, input}};
     std::complex<double> h;
-    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h);
+    sweepReduced({&s, 1}, e, &h);
     return exact(h);
 }
 
@@ -284,9 +289,20 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
         for (int o : outputs)
             entries.push_back({o, c});
     values.resize(entries.size());
-    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, entries, values.data());
+    sweepReduced({&s, 1}, entries, values.data());
     for (std::size_t e = 0; e < entries.size(); ++e)
         h(entries[e].output, entries[e].input) = values[e];
+}
+
+void ReducedSystem::sweepReduced(std::span<const std::complex<double>> s,
+                                 std::span<const TransferEntry> entries, std::complex<double> *out,
+                                 SweepWidth width) const
+{
+    const detail::PencilView pencil{m_gr, m_cr, m_br, m_lr, m_dr};
+    if (m_hessenberg)
+        m_hessenberg->sweep(pencil, s, entries, out, width);
+    else
+        detail::sweepPencil(pencil, s, entries, out, width);
 }
 
 std::vector<std::complex<double>>
@@ -295,7 +311,7 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
 {
     std::vector<std::complex<double>> out(entries.size() * s.size());
     if (m_path == SolverPath::Reduced && !m_refined) {
-        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width);
+        sweepReduced(s, entries, out.data(), width);
         // Entries zero for every value of the parts: an exact 0 where the point is regular.
         for (std::size_t e = 0; e < entries.size(); ++e) {
             if (!structuralZero(entries[e].output, entries[e].input))
