@@ -319,9 +319,8 @@ void loopGainSection(SheetWriter &w, const Analysis &a)
     w.heading(QStringLiteral("Loop gain T near the crossings"));
     std::vector<SheetWriter::Row> rows;
     for (const LoopGainSample &t : m.nearCrossover) {
-        const double db = toDecibels(t.magnitude);
         rows.push_back({{eng(t.frequencyHz, "Hz", 4), q(formatPlain(t.magnitude, 5)),
-                         q(formatFixed(std::abs(db) < 5e-3 ? 0.0 : db, 2)) + QStringLiteral(" dB"),
+                         q(formatFixed(toDecibels(t.magnitude), 2)) + QStringLiteral(" dB"),
                          q(formatFixed(t.phaseDeg, 2)) + QStringLiteral("°")}});
     }
     w.table({{QStringLiteral("Frequency"), 40},

@@ -470,7 +470,11 @@ std::string formatFixed(double value, int decimals)
     os.setf(std::ios::fixed);
     os.precision(decimals);
     os << value;
-    return os.str();
+    std::string text = os.str();
+    // A value that rounds to zero is "0.00", not "-0.00" (|T| of 0.9999 is 0.00 dB).
+    if (text.front() == '-' && text.find_first_not_of("-0.") == std::string::npos)
+        text.erase(0, 1);
+    return text;
 }
 
 std::string formatEngineering(double value, int significantDigits, std::string_view unit)

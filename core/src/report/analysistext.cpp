@@ -161,10 +161,9 @@ void writeDc(std::ostringstream &os, TextLines &out, const Analysis &a)
 /// ratio in the text), its level and its phase.
 std::string loopGainSampleText(const LoopGainSample &t)
 {
-    const double db = toDecibels(t.magnitude);
     return "|T| " + formatPlain(t.magnitude, 5) + " (ratio, "
-        + formatFixed(std::abs(db) < 5e-3 ? 0.0 : db, 2) + " dB), phase "
-        + formatFixed(t.phaseDeg, 2) + "°";
+        + formatFixed(toDecibels(t.magnitude), 2) + " dB), phase " + formatFixed(t.phaseDeg, 2)
+        + "°";
 }
 
 void writeStabilityAndMargins(std::ostringstream &os, TextLines &out, const Analysis &a)

@@ -347,6 +347,10 @@ TEST(Value, EngineeringNotationKeepsSignZeroAndHidesNonFinite)
     EXPECT_EQ(formatFixed(-std::nan(""), 3), kEmDash);
     EXPECT_EQ(formatFixed(HUGE_VAL, 1), "\u221E");
     EXPECT_EQ(formatFixed(-0.5, 3), "-0.500");
+    // a value that rounds to zero carries no sign (-0.0009 dB of |T| = 0.9999 is 0.00 dB)
+    EXPECT_EQ(formatFixed(-0.0009, 2), "0.00");
+    EXPECT_EQ(formatFixed(-0.0, 1), "0.0");
+    EXPECT_EQ(formatFixed(-0.006, 2), "-0.01");
 }
 
 TEST(Value, EngineeringNotationOutsidePrefixRangeFallsBackToExponent)

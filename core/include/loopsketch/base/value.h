@@ -61,8 +61,8 @@ std::string formatEngineering(double value, int significantDigits = 3, std::stri
 /// degrees): "—" for NaN, "∞" / "-∞" for infinities, never "nan" or "inf".
 std::string formatPlain(double value, int precision = 5);
 
-/// Fixed-point text with `decimals` digits after the point ("12.300"); "—", "∞" or "-∞" for
-/// non-finite values.
+/// Fixed-point text with `decimals` digits after the point ("12.300"; never a minus sign on
+/// a value that rounds to zero); "—", "∞" or "-∞" for non-finite values.
 std::string formatFixed(double value, int decimals);
 
 /// The text of a non-finite value: "—" for NaN, "∞" or "-∞"; empty for a finite value.
