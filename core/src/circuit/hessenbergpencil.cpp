@@ -379,6 +379,10 @@ int HessenbergPencil::sweep(const PencilView &p, std::span<const cd> points,
 {
     if (points.empty() || entries.empty())
         return 0;
+    if (m_handsOver.load(std::memory_order_relaxed)) {
+        sweepPencil(p, points, entries, out, width);
+        return static_cast<int>(points.size());
+    }
     const Plan plan = makePlan(entries);
     const Sparse pencilRows = sparseRows(p, plan.transposed);
     std::vector<Index> fallback;
@@ -388,15 +392,43 @@ int HessenbergPencil::sweep(const PencilView &p, std::span<const cd> points,
         run = sweepWidthAvailable(SweepWidth::Eight) && points.size() > 4 ? SweepWidth::Eight
             : sweepWidthAvailable(SweepWidth::Four)                       ? SweepWidth::Four
                                                                           : SweepWidth::Two;
-    if (run == SweepWidth::Eight && sweepWidthAvailable(SweepWidth::Eight))
-        sweepAvx512(m_form, p, points, entries, plan, pencilRows, out, fallback);
-    else if (run != SweepWidth::Two && sweepWidthAvailable(SweepWidth::Four))
-        sweepAvx2(m_form, p, points, entries, plan, pencilRows, out, fallback);
-    else
-        sweepBaseline(m_form, p, points, entries, plan, pencilRows, out, fallback);
-#else
-    sweepBaseline(m_form, p, points, entries, plan, pencilRows, out, fallback);
 #endif
+    const auto sweepSome = [&](std::span<const cd> some, cd *someOut, std::vector<Index> &missed) {
+#ifdef LOOPSKETCH_HAVE_WIDE_SWEEP
+        if (run == SweepWidth::Eight && sweepWidthAvailable(SweepWidth::Eight))
+            return sweepAvx512(m_form, p, some, entries, plan, pencilRows, someOut, missed);
+        if (run != SweepWidth::Two && sweepWidthAvailable(SweepWidth::Four))
+            return sweepAvx2(m_form, p, some, entries, plan, pencilRows, someOut, missed);
+#endif
+        sweepBaseline(m_form, p, some, entries, plan, pencilRows, someOut, missed);
+    };
+    // In chunks: where the form hands over most points (a pencil whose rows span so many
+    // decades that the orthogonal transformations lose what matters), each point would cost
+    // the form and the kernel, so once more than half of a chunk's points have gone over, the
+    // rest of this sweep and every later one go to the kernel directly.
+    constexpr Index kChunk = 64;
+    const auto nPoints = static_cast<Index>(points.size());
+    std::vector<cd> chunkOut;
+    std::vector<Index> chunkMissed;
+    Index done = 0;
+    while (done < nPoints && !m_handsOver.load(std::memory_order_relaxed)) {
+        const Index n = std::min(kChunk, nPoints - done);
+        chunkOut.resize(entries.size() * static_cast<std::size_t>(n));
+        chunkMissed.clear();
+        sweepSome(points.subspan(static_cast<std::size_t>(done), static_cast<std::size_t>(n)),
+                  chunkOut.data(), chunkMissed);
+        for (std::size_t e = 0; e < entries.size(); ++e)
+            for (Index i = 0; i < n; ++i)
+                out[static_cast<Index>(e) * nPoints + done + i]
+                    = chunkOut[e * static_cast<std::size_t>(n) + static_cast<std::size_t>(i)];
+        for (Index i : chunkMissed)
+            fallback.push_back(done + i);
+        done += n;
+        if (n == kChunk && 2 * static_cast<Index>(chunkMissed.size()) > n)
+            m_handsOver.store(true, std::memory_order_relaxed);
+    }
+    for (Index i = done; i < nPoints; ++i)
+        fallback.push_back(i);
     if (fallback.empty())
         return 0;
     // The points the form could not vouch for, through the vector kernel (its own
@@ -406,7 +438,6 @@ int HessenbergPencil::sweep(const PencilView &p, std::span<const cd> points,
         some[i] = points[static_cast<std::size_t>(fallback[i])];
     std::vector<cd> values(entries.size() * fallback.size());
     sweepPencil(p, some, entries, values.data(), width);
-    const auto nPoints = static_cast<Index>(points.size());
     for (std::size_t e = 0; e < entries.size(); ++e)
         for (std::size_t i = 0; i < fallback.size(); ++i)
             out[static_cast<Index>(e) * nPoints + fallback[i]] = values[e * fallback.size() + i];

@@ -19,6 +19,7 @@
 
 #include <Eigen/Core>
 
+#include <atomic>
 #include <complex>
 #include <span>
 #include <vector>
@@ -47,7 +48,8 @@ public:
     /// As sweepPencil(): out[e * points.size() + i] = entry e at points[i] (s in rad/s), NaN
     /// where the pencil is singular. `pencil` is the one this form was built from. Returns
     /// how many points the form could not solve within kRefineBackwardError (after one
-    /// refinement) and handed to the vector kernel at `width`.
+    /// refinement) and handed to the vector kernel at `width` (every point once a chunk of 64
+    /// handed over more than half of its points, in this sweep or an earlier one).
     int sweep(const PencilView &pencil, std::span<const std::complex<double>> points,
               std::span<const TransferEntry> entries, std::complex<double> *out,
               SweepWidth width = SweepWidth::Automatic) const;
@@ -69,6 +71,9 @@ public:
 
 private:
     Form m_form;
+    /// Set once a whole chunk of a sweep went mostly to the kernel: from then on every point
+    /// does (the form would only add its own cost to the kernel's).
+    mutable std::atomic<bool> m_handsOver{false};
 };
 
 } // namespace loopsketch::detail
