@@ -10,9 +10,10 @@
 //
 // Orthogonal transformations mix the pencil's rows, which are in different units, so the
 // form is backward stable only normwise. Every point's solution is therefore checked against
-// the pencil itself, as the vector kernel checks its own (componentwise backward error,
-// kRefineBackwardError in pencilpoint.h), refined once through the form where it is above
-// that, and a point still above it is solved by the vector kernel
+// the pencil itself, as the vector kernel checks its own (componentwise backward error),
+// refined once through the form, and kept only at one eps (kFormBackwardError in
+// hessenbergpencil.cpp, tighter than the kernel's kRefineBackwardError); any other point is
+// solved by the vector kernel
 // (core/src/circuit/pencilsweep.h), with its own refinement and careful solve.
 
 #include "circuit/pencilsweep.h"
@@ -47,7 +48,7 @@ public:
 
     /// As sweepPencil(): out[e * points.size() + i] = entry e at points[i] (s in rad/s), NaN
     /// where the pencil is singular. `pencil` is the one this form was built from. Returns
-    /// how many points the form could not solve within kRefineBackwardError (after one
+    /// how many points the form could not solve within kFormBackwardError (after one
     /// refinement) and handed to the vector kernel at `width` (every point once a chunk of 64
     /// handed over more than half of its points, in this sweep or an earlier one).
     int sweep(const PencilView &pencil, std::span<const std::complex<double>> points,
