@@ -2,6 +2,7 @@
 
 #include "loopsketch/circuit/stepmodel.h"
 
+#include "circuit/hessenbergpencil.h"
 #include "circuit/pencilsweep.h"
 #include "circuit/refinedsolve.h"
 #include "circuit/rowscales.h"
@@ -143,6 +144,10 @@ Result<ReducedSystem> ReducedSystem::build(std::shared_ptr<const DescriptorSyste
     }
 
     r.m_path = path;
+    if (path == SolverPath::Reduced
+        && detail::HessenbergPencil::pays({r.m_gr, r.m_cr, r.m_br, r.m_lr, r.m_dr}))
+        r.m_hessenberg = std::make_shared<const detail::HessenbergPencil>(
+            detail::PencilView{r.m_gr, r.m_cr, r.m_br, r.m_lr, r.m_dr});
     r.m_system = std::move(shared);
     r.m_structuralZero = detail::findStructuralZeros(system).zero;
     // No solution at DC (an inductor across an ideal source or port, a node held by
@@ -198,8 +203,7 @@ std::complex<double> ReducedSystem::entry(std::complex<double> s, int output, in
     const TransferEntry e[] = {{output, input}};
     std::complex<double> h;
     std::uint8_t doubtful = 0;
-    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, e, &h, SweepWidth::Automatic,
-                        checkedPoints({&doubtful, 1}), m_checkFloor);
+    sweepReduced({&s, 1}, e, &h, SweepWidth::Automatic, checkedPoints({&doubtful, 1}));
     if (doubtful) {
         thread_local Eigen::MatrixXcd full;
         const int in[] = {input}, out[] = {output};
@@ -284,8 +288,8 @@ void ReducedSystem::evaluateInto(std::complex<double> s, std::span<const int> in
             entries.push_back({o, c});
     values.resize(entries.size());
     std::uint8_t doubtful = 0;
-    detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, {&s, 1}, entries, values.data(),
-                        SweepWidth::Automatic, checkedPoints({&doubtful, 1}), m_checkFloor);
+    sweepReduced({&s, 1}, entries, values.data(), SweepWidth::Automatic,
+                 checkedPoints({&doubtful, 1}));
     if (doubtful) {
         solveFullInto(s, inputs, outputs, h);
         return;
@@ -317,6 +321,19 @@ void ReducedSystem::solveFullInto(std::complex<double> s, std::span<const int> i
     }
 }
 
+void ReducedSystem::sweepReduced(std::span<const std::complex<double>> s,
+                                 std::span<const TransferEntry> entries, std::complex<double> *out,
+                                 SweepWidth width, std::span<std::uint8_t> doubtful) const
+{
+    const detail::PencilView pencil{m_gr, m_cr, m_br, m_lr, m_dr};
+    // A sweep that estimates each point's error (checkEveryPoint()) stays on the kernel,
+    // which computes the estimate; the Hessenberg-triangular form checks backward errors only.
+    if (m_hessenberg && doubtful.empty())
+        m_hessenberg->sweep(pencil, s, entries, out, width);
+    else
+        detail::sweepPencil(pencil, s, entries, out, width, doubtful, m_checkFloor);
+}
+
 std::vector<std::complex<double>>
 ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
                             std::span<const TransferEntry> entries, SweepWidth width) const
@@ -325,8 +342,7 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
     if (m_path == SolverPath::Reduced && !m_refined) {
         thread_local std::vector<std::uint8_t> doubtful;
         doubtful.assign(s.size(), 0);
-        detail::sweepPencil({m_gr, m_cr, m_br, m_lr, m_dr}, s, entries, out.data(), width,
-                            checkedPoints(doubtful), m_checkFloor);
+        sweepReduced(s, entries, out.data(), width, checkedPoints(doubtful));
         resolveDoubtful(s, entries, doubtful, out);
         // Entries zero for every value of the parts: an exact 0 where the point is regular.
         for (std::size_t e = 0; e < entries.size(); ++e) {

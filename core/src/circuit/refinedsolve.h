@@ -46,6 +46,7 @@ private:
     const DescriptorSystem &m_system;
     std::complex<double> m_s;
     Eigen::MatrixXcd m_a; ///< G + sC
+    Eigen::MatrixXd m_modulus; ///< |G + sC|, entry by entry
     Eigen::VectorXd m_rowScale, m_colScale;
     Eigen::PartialPivLU<Eigen::MatrixXcd> m_lu;
 };

@@ -26,6 +26,10 @@
 
 namespace loopsketch {
 
+namespace detail {
+class HessenbergPencil;
+}
+
 /// How the per-frequency solves are done: the reduced k x k pencil (the product), or a
 /// dense LU of the whole MNA matrix at every frequency (the straightforward reference the
 /// benchmark and tests compare against).
@@ -245,6 +249,15 @@ private:
         return !m_structuralZero.empty()
             && m_structuralZero[static_cast<std::size_t>(output * inputs() + input)];
     }
+    /// The pencil in Hessenberg-triangular form, for orders where it pays
+    /// (core/src/circuit/hessenbergpencil.h); null where the vector kernel does the sweeps.
+    std::shared_ptr<const detail::HessenbergPencil> m_hessenberg;
+    /// The reduced path's sweep: through m_hessenberg where there is one and no error
+    /// estimate is asked for (`doubtful`, see detail::sweepPencil()), else the kernel.
+    void sweepReduced(std::span<const std::complex<double>> s,
+                      std::span<const TransferEntry> entries, std::complex<double> *out,
+                      SweepWidth width = SweepWidth::Automatic,
+                      std::span<std::uint8_t> doubtful = {}) const;
     bool m_refined = false;
     bool m_singularAtDc = false;
     mutable int m_unconfirmedPoles = 0; ///< of the last naturalFrequencies()
