@@ -268,11 +268,15 @@ TEST_F(LiveAnalysis, NoiseFollowsTheMainCurvesWhileItsDockIsHidden)
         ASSERT_LE(std::abs(std::pow(10.0, total[i].y()) / density[std::size_t(i)] - 1), 1e-12)
             << "at " << fresh->frequenciesHz[std::size_t(i)] << " Hz";
 
-    // On screen, the noise is part of the main run.
+    // On screen, the noise is part of the main run: every run after the dock is raised (a
+    // full sweep that follows the first step's coarse one may land while it is raised).
+    ASSERT_TRUE(doc()->waitForAnalysis());
+    mainHadNoise.clear();
     ASSERT_TRUE(doc()->stepPart("RS5", -2, false));
     ASSERT_TRUE(doc()->waitForAnalysis());
-    ASSERT_EQ(mainHadNoise.size(), 2u);
-    EXPECT_TRUE(mainHadNoise[1]);
+    ASSERT_GE(mainHadNoise.size(), 1u);
+    for (bool hadNoise : mainHadNoise)
+        EXPECT_TRUE(hadNoise);
     EXPECT_FALSE(doc()->lastRunDeferredNoise());
     EXPECT_EQ(noiseArrived, 1);
 }
