@@ -37,12 +37,7 @@ struct Plan
 Plan makePlan(std::span<const TransferEntry> entries)
 {
     std::vector<int> rows, cols;
-    for (const TransferEntry &e : entries) {
-        if (std::find(rows.begin(), rows.end(), e.output) == rows.end())
-            rows.push_back(e.output);
-        if (std::find(cols.begin(), cols.end(), e.input) == cols.end())
-            cols.push_back(e.input);
-    }
+    distinctPorts(entries, rows, cols);
     Plan plan;
     plan.transposed = rows.size() < cols.size();
     plan.vectors = plan.transposed ? rows : cols;

@@ -43,18 +43,7 @@ struct Plan
 void makePlan(std::span<const TransferEntry> entries, Plan &plan)
 {
     std::vector<int> &rows = plan.rows, &cols = plan.cols;
-    rows.clear();
-    cols.clear();
-    const auto addUnique = [](std::vector<int> &v, int x) {
-        for (int y : v)
-            if (y == x)
-                return;
-        v.push_back(x);
-    };
-    for (const TransferEntry &e : entries) {
-        addUnique(rows, e.output);
-        addUnique(cols, e.input);
-    }
+    distinctPorts(entries, rows, cols);
     plan.transposed = rows.size() < cols.size();
     plan.vectors.assign(plan.transposed ? rows.begin() : cols.begin(),
                         plan.transposed ? rows.end() : cols.end());

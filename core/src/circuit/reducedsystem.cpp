@@ -366,12 +366,7 @@ ReducedSystem::sweepEntries(std::span<const std::complex<double>> s,
     // The reference path (one dense LU of the whole matrix per point) and the refined one,
     // as evaluateInto().
     std::vector<int> inputs, outputs;
-    for (const TransferEntry &e : entries) {
-        if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
-            inputs.push_back(e.input);
-        if (std::find(outputs.begin(), outputs.end(), e.output) == outputs.end())
-            outputs.push_back(e.output);
-    }
+    distinctPorts(entries, outputs, inputs);
     Eigen::MatrixXcd h;
     for (std::size_t i = 0; i < s.size(); ++i) {
         evaluateInto(s[i], inputs, outputs, h);
@@ -389,12 +384,7 @@ void ReducedSystem::resolveDoubtful(std::span<const std::complex<double>> s,
     if (std::find(doubtful.begin(), doubtful.end(), std::uint8_t(1)) == doubtful.end())
         return;
     std::vector<int> inputs, outputs;
-    for (const TransferEntry &e : entries) {
-        if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
-            inputs.push_back(e.input);
-        if (std::find(outputs.begin(), outputs.end(), e.output) == outputs.end())
-            outputs.push_back(e.output);
-    }
+    distinctPorts(entries, outputs, inputs);
     Eigen::MatrixXcd h(this->outputs(), this->inputs());
     for (std::size_t i = 0; i < s.size(); ++i) {
         if (!doubtful[i])

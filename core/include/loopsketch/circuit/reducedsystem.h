@@ -15,6 +15,7 @@
 
 #include <Eigen/Core>
 
+#include <algorithm>
 #include <complex>
 #include <cstdint>
 #include <initializer_list>
@@ -47,6 +48,21 @@ struct TransferEntry
     int output = 0;
     int input = 0;
 };
+
+/// The distinct outputs and inputs that `entries` read, each in the order it first appears
+/// (into `outputs` and `inputs`, cleared first, so a caller that sweeps often reuses them).
+inline void distinctPorts(std::span<const TransferEntry> entries, std::vector<int> &outputs,
+                          std::vector<int> &inputs)
+{
+    outputs.clear();
+    inputs.clear();
+    for (const TransferEntry &e : entries) {
+        if (std::find(outputs.begin(), outputs.end(), e.output) == outputs.end())
+            outputs.push_back(e.output);
+        if (std::find(inputs.begin(), inputs.end(), e.input) == inputs.end())
+            inputs.push_back(e.input);
+    }
+}
 
 /// An entry whose accuracy is checked, with the quantity it gives in the user's words.
 struct CheckedEntry
