@@ -1,12 +1,13 @@
 #pragma once
 
-// Numeric comparisons the tests share: relative errors of real and complex values, and the
-// constant and complex type the numeric tests write with.
+// Numeric comparisons the tests share: relative errors of real and complex values, the
+// constant and complex type the numeric tests write with, and log-spaced sweep points.
 
 #include <algorithm>
 #include <cmath>
 #include <complex>
 #include <numbers>
+#include <vector>
 
 namespace loopsketch::test {
 
@@ -23,6 +24,17 @@ inline double relErr(double value, double expected)
 inline double relErr(std::complex<double> value, std::complex<double> expected)
 {
     return std::abs(value - expected) / std::max(std::abs(expected), 1e-300);
+}
+
+/// `count` points j 2 pi f (rad/s), f log-spaced from `startHz` to `stopHz` inclusive.
+inline std::vector<cd> logPoints(double startHz, double stopHz, int count)
+{
+    std::vector<cd> s;
+    for (int i = 0; i < count; ++i)
+        s.push_back({0.0,
+                     2.0 * kPi * startHz
+                         * std::pow(stopHz / startHz, static_cast<double>(i) / (count - 1))});
+    return s;
 }
 
 } // namespace loopsketch::test

@@ -6,6 +6,7 @@
 #include "loopsketch/circuit/reducedsystem.h"
 #include "loopsketch/design/designfile.h"
 
+#include "carefulreference.h"
 #include "circuit/pencilsweep.h"
 #include "circuit/refinedsolve.h"
 #include "gainblockelement.h"
@@ -24,16 +25,6 @@ using namespace loopsketch;
 using namespace loopsketch::test;
 
 namespace {
-
-std::vector<cd> logPoints(double startHz, double stopHz, int count)
-{
-    std::vector<cd> s;
-    for (int i = 0; i < count; ++i)
-        s.push_back({0.0,
-                     2.0 * kPi * startHz
-                         * std::pow(stopHz / startHz, static_cast<double>(i) / (count - 1))});
-    return s;
-}
 
 /// An RC ladder of `sections` nodes, each with a capacitor to ground (so the reduced order
 /// is `sections`), with random values and a few resistors skipping a node; a voltage
@@ -229,15 +220,10 @@ TEST(ReducedSweep, TinyOutputOfALargeSolutionIsRefinedToFullAccuracy)
     ASSERT_GT(reduced->order(), 8); // the general order, not an unrolled one
     const std::vector<cd> s = logPoints(500.0, 2000.0, 41);
     std::vector<cd> want(s.size());
-    detail::RefinedSolver careful(full);
+    const auto reference = carefulEntry(full, s, {loopio::kOutput, loopio::kSource});
     for (std::size_t i = 0; i < s.size(); ++i) {
-        ASSERT_TRUE(careful.factor(s[i]));
-        Eigen::VectorXcd r;
-        const Eigen::VectorXcd x = careful.solve(loopio::kSource, &r);
-        want[i] = careful.output(loopio::kOutput, x);
-        ASSERT_LT(careful.errorBound(loopio::kOutput, loopio::kSource, x, r) / std::abs(want[i]),
-                  1e-12)
-            << "the reference itself at point " << i;
+        want[i] = reference[i].value;
+        ASSERT_LT(reference[i].relativeBound, 1e-12) << "the reference itself at point " << i;
     }
     const TransferEntry entry[] = {{loopio::kOutput, loopio::kSource}};
     for (SweepWidth width :
@@ -277,15 +263,10 @@ TEST(ReducedSweep, IllConditionedPencilBetweenProbesIsSolvedFromTheFullSystem)
     checked.checkEveryPoint();
     const std::vector<cd> s = logPoints(1e5, 5e5, 29);
     std::vector<cd> want(s.size());
-    detail::RefinedSolver careful(full);
+    const auto reference = carefulEntry(full, s, {loopio::kOutput, loopio::kSource});
     for (std::size_t i = 0; i < s.size(); ++i) {
-        ASSERT_TRUE(careful.factor(s[i]));
-        Eigen::VectorXcd r;
-        const Eigen::VectorXcd x = careful.solve(loopio::kSource, &r);
-        want[i] = careful.output(loopio::kOutput, x);
-        ASSERT_LT(careful.errorBound(loopio::kOutput, loopio::kSource, x, r) / std::abs(want[i]),
-                  1e-8)
-            << "the reference itself at point " << i;
+        want[i] = reference[i].value;
+        ASSERT_LT(reference[i].relativeBound, 1e-8) << "the reference itself at point " << i;
     }
     const TransferEntry entry[] = {{loopio::kOutput, loopio::kSource}};
     double worstUnchecked = 0;
