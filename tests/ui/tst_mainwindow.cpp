@@ -507,6 +507,19 @@ TEST_P(ExampleDesign, OpensAnalysedWithAScreenshot)
 // UNSTABLE and the poles, the closed-loop cells read unstable instead of numbers, every spec
 // fails for that reason, the Poles panel says so and keeps the poles on the plot, and the
 // Step panel shows no response. Core's verdict is the reference.
+// A negative open-loop gain inverts: dB says only the magnitude, so the Sketch's label says
+// the sign in words (found driving the window: -316k read "110 dB" beside an UNSTABLE banner).
+TEST(GainBlockLabel, NegativeGainSaysInverting)
+{
+    loopsketch::Part block;
+    block.id = "U1";
+    block.type = loopsketch::PartType::GainBlock;
+    block.fields["gain"] = loopsketch::Value{316e3, "316k"};
+    EXPECT_EQ(PartItem::valueText(block).toStdString(), "110 dB");
+    block.fields["gain"] = loopsketch::Value{-316e3, "-316k"};
+    EXPECT_EQ(PartItem::valueText(block).toStdString(), "110 dB, inverting");
+}
+
 TEST(UnstableDesign, WindowSaysUnstableAndListsThePoles)
 {
     MainWindow window;

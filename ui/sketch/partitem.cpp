@@ -89,9 +89,13 @@ QString PartItem::valueText(const Part &part)
             text += QStringLiteral(" ∥ ") + eng("c", ValueKind::Capacitance);
         return text;
     }
-    case PartType::GainBlock:
-        return toQString(formatEngineering(toDecibels(std::abs(part.number("gain"))), 3))
-            + QStringLiteral(" dB");
+    case PartType::GainBlock: {
+        // A negative gain inverts: dB gives only the magnitude, so the sign is said in words
+        // (a bare "110 dB" on a block of -316k hid the positive feedback it makes).
+        const double gain = part.number("gain");
+        return toQString(formatEngineering(toDecibels(std::abs(gain)), 3))
+            + (gain < 0 ? QObject::tr(" dB, inverting") : QStringLiteral(" dB"));
+    }
     case PartType::ISource: {
         QStringList pieces;
         if (std::isfinite(part.number("r_parallel")))
