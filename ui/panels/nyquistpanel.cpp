@@ -98,7 +98,10 @@ void NyquistPanel::showAnalysis(const Analysis &a)
     // One line through all rings: each joins the next along the positive real axis.
     for (double r = 1 + kRingStep; r <= reach + 1e-9; r += kRingStep)
         rings.append(circle(r));
-    m_rings->replace(rings);
+    // The rings change only when |T|'s reach crosses a ring; a dotted line of a thousand
+    // points costs milliseconds to lay out again.
+    if (!samePoints(m_rings->points(), rings))
+        m_rings->replace(rings);
 
     // A label at every decade of the sweep (every second or third when there are many).
     std::vector<std::size_t> decades;
