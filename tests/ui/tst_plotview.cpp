@@ -365,6 +365,47 @@ TEST(ColumnThinning, OneSamplePeakAndNotchSurviveWithinTwoPointsPerColumn)
     EXPECT_EQ(thinToColumns(sparse, 0.0, 9.0 / columns).size(), sparse.size());
 }
 
+// Dropping the inner points of straight runs (Douglas-Peucker, common practice in line
+// simplification; no source consulted): on a straight asymptote with a wiggle and two
+// one-sample spikes, every point left out lies within the tolerance of the line drawn, the
+// spikes and both ends stay, the points kept are the curve's own in order, and the straight
+// stretches cost far fewer points than the column thinning leaves.
+TEST(ColumnThinning, StraightRunsShrinkWithinAQuarterPixel)
+{
+    // Columns of 600 px across 9 x units, 200 px down across 300 y units.
+    const double xPerPx = 9.0 / 600.0, yPerPx = 300.0 / 200.0, tolerance = 0.25;
+    const QList<QPointF> points = curveWithSpikes(4321, 7007);
+    const QList<QPointF> columns = thinToColumns(points, 0.0, 3 * xPerPx);
+    const QList<QPointF> kept = dropStraightRuns(columns, xPerPx, yPerPx, tolerance);
+    EXPECT_LT(kept.size(), columns.size() / 2) << "straight runs were not shortened";
+    ASSERT_GE(kept.size(), 4);
+    EXPECT_EQ(kept.front(), columns.front());
+    EXPECT_EQ(kept.back(), columns.back());
+    qsizetype k = 0; // the segment kept[k-1]..kept[k] spans the column point being checked
+    for (const QPointF &p : columns) {
+        while (k < kept.size() && kept[k].x() < p.x())
+            ++k;
+        if (k < kept.size() && kept[k].x() == p.x()) {
+            EXPECT_EQ(kept[k].y(), p.y()) << "a point kept was changed";
+            continue;
+        }
+        ASSERT_GT(k, 0);
+        ASSERT_LT(k, kept.size());
+        EXPECT_LE(ui::test::pixelDistance(p, kept[k - 1], kept[k], xPerPx, yPerPx), tolerance)
+            << "at x = " << p.x();
+    }
+    const auto has = [&](const QPointF &p) {
+        return std::any_of(kept.begin(), kept.end(),
+                           [&](const QPointF &q) { return q.x() == p.x() && q.y() == p.y(); });
+    };
+    EXPECT_TRUE(has(points[4321])) << "the peak was lost";
+    EXPECT_TRUE(has(points[7007])) << "the notch was lost";
+    // A non-finite point: the curve as it is.
+    QList<QPointF> broken = columns;
+    broken[5].ry() = std::nan("");
+    EXPECT_EQ(dropStraightRuns(broken, xPerPx, yPerPx, tolerance).size(), broken.size());
+}
+
 // Through the window: the demo at 1,000 points per decade (an invented design of ours). On
 // every curve panel each curve with more points than the plot has pixel columns is drawn with
 // at most two points per pixel column, and its highest and lowest points are among those drawn

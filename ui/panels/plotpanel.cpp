@@ -28,6 +28,9 @@ namespace {
 
 /// The axis property holding the title an axis was made with (no analysis's unit in it).
 const char *const kHomeTitle = "loopsketchHomeTitle";
+/// How far (in pixels) a curve drawn without its straight runs' inner points may lie from
+/// the line through all of them: a quarter pixel.
+constexpr double kStraightTolerancePixels = 0.25;
 /// The axis property holding the label colour while an analysis is shown.
 const char *const kShownLabelColour = "loopsketchShownLabelColour";
 
@@ -511,7 +514,22 @@ void PlotPanel::thin(QXYSeries *s, const QList<QPointF> &points, double xMin, do
         ++to;
     const QList<QPointF> onPlot
         = from == points.begin() && to == points.end() ? points : QList<QPointF>(from, to);
-    s->replace(thinToColumns(onPlot, xMin, (shownMax - shownMin) / columns));
+    const QList<QPointF> thinned = thinToColumns(onPlot, xMin, (shownMax - shownMin) / columns);
+    // The vertical scale for the straight runs: the smaller of the axis' range and the
+    // curve's own, so that an axis about to be set narrower cannot make the tolerance loose.
+    double yLo = 0, yHi = 0, ySpan = 0;
+    if (yRange({&thinned}, &yLo, &yHi))
+        ySpan = yHi - yLo;
+    for (const QAbstractAxis *axis : s->attachedAxes()) {
+        if (axis->orientation() == Qt::Vertical) {
+            const auto [lo, hi] = axisRange(axis);
+            if (hi > lo && (!(ySpan > 0) || hi - lo < ySpan))
+                ySpan = hi - lo;
+        }
+    }
+    const QRectF plot = chart()->plotArea();
+    s->replace(dropStraightRuns(thinned, (shownMax - shownMin) / plot.width(),
+                                ySpan / plot.height(), kStraightTolerancePixels));
 }
 
 void PlotPanel::hideFromLegend(QXYSeries *s)

@@ -16,4 +16,13 @@ namespace loopsketch::ui {
 /// them, unchanged. With `width` not positive, the points as they are.
 QList<QPointF> thinToColumns(const QList<QPointF> &points, double x0, double width);
 
+/// Leaves out the points of a curve whose omission moves the line drawn by at most
+/// `tolerancePixels` (the plot's scale: `xPerPixel`, `yPerPixel` data units per pixel): a
+/// Douglas-Peucker reduction. The first and last points and the highest and lowest stay;
+/// every point kept is one of `points`, unchanged. Straight runs (an asymptote, a flat band)
+/// shrink to their ends, which spares Qt Charts laying out and stroking each segment. A curve
+/// with a non-finite point, or a scale not positive, comes back as it is.
+QList<QPointF> dropStraightRuns(const QList<QPointF> &points, double xPerPixel, double yPerPixel,
+                                double tolerancePixels);
+
 } // namespace loopsketch::ui
