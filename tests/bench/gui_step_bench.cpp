@@ -4,6 +4,28 @@
 // tens of ms, run on the document's worker thread) the longest the UI thread goes without
 // turning its event loop during a burst of 20 wheel steps: issue 15 asks for no stall over
 // 16 ms.
+//
+// Measured 2026-12-03 on this 2-core machine shared with other sessions (load average 8-15
+// throughout, so wall-clock figures are stretched several times; CPU figures are the UI
+// thread's own), main 534d785 (before) against the s9-window branch (after), 3 runs each:
+// - Demo wheel step (runs interleaved), UI thread CPU (median_ui_cpu_ms), load 9: default
+// docks 19.0-22.5 ms
+//   before, 13.6-16.2 after; Noise dock raised 20.2-24.5 before, 15.3-18.6 after. Step to
+//   repainted (median_step_ms, wall): 59-72 ms before, 42-55 after (target 8 ms: missed,
+//   mostly the load: see the idle gaps below).
+// - One panel's update (BM_UpdateOnePanel, CPU ms, two runs each at load 10-15, before ->
+//   after): Loop gain 6.9-9.7 -> 0.9-4.2, Impedance 2.9-3.4 -> 0.3-1.6, Desensitivity
+//   0.6-0.8 -> 0.1-0.4, Step 0.24-0.35 -> 0.06-0.07, Poles 1.3-1.8 -> 0.4-1.4, Noise 3.9-5.0
+//   -> 0.6-2.3, Nyquist 12.3-16.3 -> 11.2-12.7 (its curve and mirror, 901 points each, are
+//   drawn whole).
+// - Ladder burst: the most UI-thread CPU between two 1 ms ticks (longest_stall_cpu_ms)
+//   18.9-19.6 ms before (load 9.3), 10.2-14.1 after (load 8.3-15.9); the wall-clock longest
+//   stall 37-78 ms before and 39-78 after, where an idle 1 ms timer alone shows gaps of
+//   15-84 ms at this load.
+// What remains on the UI thread per demo step: painting the panels (QChartView repaint,
+// 0.4-2.7 ms CPU each, BM_RepaintOneWidget before the change), the Loop gain panel's curve
+// conversions (log10, atan2 of 901 points per curve) and Qt Charts' hover-shape stroking of each
+// replaced series.
 
 #include "panels/noisepanel.h"
 #include "panels/plotpanel.h"
@@ -231,7 +253,9 @@ void pumpFor(int ms)
 /// The 50-part RC ladder (tests/support/chaindesigns.h) in a shown window with every dock;
 /// per iteration a burst of 20 wheel steps on RS5, one every 16 ms (a fast scroll), and then
 /// the wait for the final full result. A 1 ms timer on the UI thread records the longest gap
-/// between its ticks: the longest stall of the event loop (longest_stall_ms). For scale, the
+/// between its ticks: the longest stall of the event loop (longest_stall_ms), and the most
+/// CPU time the UI thread spent between two ticks (longest_stall_cpu_ms: its own work, which
+/// the machine's load does not stretch). For scale, the
 /// same 1 ms timer over 320 ms without any edit (idle_stall_ms: what the machine's load alone
 /// does to it), the longest wheel event's handling (wheel_max_ms), the time from the last step
 /// to the final result on screen, and how many results were shown and dropped.
@@ -250,6 +274,9 @@ void BM_LadderBurstLongestStall(benchmark::State &state)
     QApplication::processEvents();
     QElapsedTimer clock;
     qint64 lastTick = 0, longestGap = 0;
+    // The same gap in the UI thread's own CPU time: its work alone, without the time the
+    // machine's load takes from it.
+    double lastTickCpu = 0, longestCpuGap = 0;
     QTimer ticker;
     ticker.setTimerType(Qt::PreciseTimer);
     ticker.setInterval(1);
@@ -257,18 +284,23 @@ void BM_LadderBurstLongestStall(benchmark::State &state)
         const qint64 now = clock.nsecsElapsed();
         longestGap = std::max(longestGap, now - lastTick);
         lastTick = now;
+        const double cpu = threadCpuMs();
+        longestCpuGap = std::max(longestCpuGap, cpu - lastTickCpu);
+        lastTickCpu = cpu;
     });
     const auto startTicking = [&] {
         clock.start();
         lastTick = 0;
         longestGap = 0;
+        lastTickCpu = threadCpuMs();
+        longestCpuGap = 0;
         ticker.start();
     };
     int shown = 0, steps = 0;
     QObject::connect(window.document(), &DesignDocument::analysisChanged, [&] { ++shown; });
     QObject::connect(window.document(), &DesignDocument::partChanged,
                      [&](const QString &id) { steps += id == QStringLiteral("RS5"); });
-    double worstMs = 0, idleMs = 0, wheelMs = 0, settleMs = 0;
+    double worstMs = 0, worstCpuMs = 0, idleMs = 0, wheelMs = 0, settleMs = 0;
     const int droppedBefore = window.document()->droppedResults();
     int direction = 1;
     for (auto _ : state) {
@@ -293,6 +325,7 @@ void BM_LadderBurstLongestStall(benchmark::State &state)
         settleMs += double(settle.nsecsElapsed()) / 1e6;
         ticker.stop();
         worstMs = std::max(worstMs, double(longestGap) / 1e6);
+        worstCpuMs = std::max(worstCpuMs, longestCpuGap);
         direction = -direction;
     }
     if (steps < 20 * int(state.iterations())) {
@@ -300,6 +333,7 @@ void BM_LadderBurstLongestStall(benchmark::State &state)
         return;
     }
     state.counters["longest_stall_ms"] = worstMs;
+    state.counters["longest_stall_cpu_ms"] = worstCpuMs;
     state.counters["idle_stall_ms"] = idleMs;
     state.counters["wheel_max_ms"] = wheelMs;
     state.counters["settle_ms"] = benchmark::Counter(settleMs, benchmark::Counter::kAvgIterations);
