@@ -7,7 +7,11 @@
 //
 // Measured 2026-12-03 on this 2-core machine shared with other sessions (load average 8-15
 // throughout, so wall-clock figures are stretched several times; CPU figures are the UI
-// thread's own), main 534d785 (before) against the s9-window branch (after), 3 runs each:
+// thread's own), main 534d785 (before) against the branch with the straight-run thinning,
+// the Nyquist rings kept, and panels updated in 5 ms slices across event-loop turns (after), 3
+// runs each. The slicing was not merged: issue 15 asks for a result applied to every panel at
+// once, and slices showed panels a result apart for a frame or two; the ladder's after figure
+// below counts on it, the one-panel figures do not.
 // - Demo wheel step (runs interleaved), UI thread CPU (median_ui_cpu_ms), load 9: default
 // docks 19.0-22.5 ms
 //   before, 13.6-16.2 after; Noise dock raised 20.2-24.5 before, 15.3-18.6 after. Step to
