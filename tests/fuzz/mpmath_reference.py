@@ -35,7 +35,9 @@ when analyze --json `warnings` holds an accuracy warning naming its quantity ("t
 "z_in", "z_out", "the loop gain"), "range-warned" when the design carries only warnings of
 values outside what real parts offer; both are reported apart from the unwarned values.
 Each reported error above 1e-8 is solved again at 80 digits, and the reference is trusted
-only where both agree to 1e-20.
+only where both agree to 1e-20; where they do not, the true value is an exact 0 (or an
+infinite impedance) that both precisions only round, and the point is listed as
+"unresolved", not as a miss.
 
 Exit status: 1 when an unwarned value misses 1e-8 beyond its allowance, the CLI gives no
 value where the reference has one, or the CLI fails (other than exit 2); 0 otherwise.
@@ -94,9 +96,17 @@ def reference(design, f_hz, mode, digits=DIGITS):
         m, a, b, factor = nodal.assemble(design, s, mode, MP)
         try:
             x = mp.lu_solve(m.Y, m.b)
-        except ZeroDivisionError:
+        except (ZeroDivisionError, TypeError):
+            # TypeError: mpmath's LU_decomp finds no pivot in a column of exact zeros (its
+            # pivot index stays None), a matrix singular by structure.
             return None
         return mp.mpc(factor * (m.v(x, a) - m.v(x, b)))
+
+
+def confirmed(design, f_hz, mode, ref):
+    """Whether the reference agrees with itself at 80 digits to 1e-20."""
+    again = reference(design, f_hz, mode, CONFIRM_DIGITS)
+    return again is not None and abs(again - ref) <= 1e-20 * abs(again)
 
 
 def csv_value(db_text, deg_text):
@@ -186,7 +196,7 @@ def check_design(label, path, cli, tmp):
     if not exact_grid:
         grid = [float(r["f_hz"]) for r in rows]
     counts = {"compared": 0, "zero_level": 0, "true_zero": 0, "no_reference": 0,
-              "full_precision": 0}
+              "full_precision": 0, "unresolved": 0}
     findings = []
     worst = {}  # class -> the finding with the largest excess over its allowance
     largest = {}  # class -> the largest error, allowance aside
@@ -203,11 +213,22 @@ def check_design(label, path, cli, tmp):
             counts["zero_level"] += 1
             return
         if cli_value is None:
-            findings.append(Finding(label, column, f_hz, math.inf, 0.0, None, ref, cls))
+            finding = Finding(label, column, f_hz, math.inf, 0.0, None, ref, cls)
+            if not confirmed(design, f_hz, mode, ref):
+                finding.warned = "unresolved: the reference is rounding at 50 and 80 digits"
+                counts["unresolved"] += 1
+            findings.append(finding)
             return
-        counts["compared"] += 1
         finding = Finding(label, column, f_hz, relative_error(cli_value, ref), allowance,
                           cli_value, ref, cls)
+        if finding.excess() > PROMISE and not confirmed(design, f_hz, mode, ref):
+            # The reference moves with the precision: its value is rounding, of a true 0 or
+            # (inverted) of an infinite impedance; no relative error exists to report.
+            finding.warned = "unresolved: the reference is rounding at 50 and 80 digits"
+            counts["unresolved"] += 1
+            findings.append(finding)
+            return
+        counts["compared"] += 1
         if cls not in worst or finding.excess() > worst[cls].excess():
             worst[cls] = finding
         if cls not in largest or finding.error > largest[cls].error:
@@ -235,17 +256,12 @@ def check_design(label, path, cli, tmp):
         value = mp.mpf(t["magnitude"]) * mp.expjpi(mp.mpf(t["phase_deg"]) / 180)
         counts["full_precision"] += 1
         compare("loop_gain", "loop", f_hz, value, 0.0, reference(design, f_hz, "loop"))
-    # A miss is believed only where the reference agrees with itself at 80 digits.
-    for finding in findings:
-        mode = next(m for c, m, _ in QUANTITIES if c == finding.quantity)
-        again = reference(design, finding.f_hz, mode, CONFIRM_DIGITS)
-        if again is None or abs(again - finding.ref) > 1e-20 * abs(again):
-            finding.warned += ", reference unconfirmed at 80 digits"
     parts = [f"{len(rows)} points{'' if exact_grid else ' (grid from the CSV: f_hz rounded)'}",
              f"{counts['compared']} values compared ({counts['full_precision']} at full "
              f"precision)", f"{counts['zero_level']} impedances below the zero level",
              f"{counts['true_zero']} true zeros of gain or T",
-             f"{counts['no_reference']} with a singular reference matrix"]
+             f"{counts['no_reference']} with a singular reference matrix",
+             f"{counts['unresolved']} unresolved (reference rounding at 50 and 80 digits)"]
 
     def at(w):
         where = "DC" if w.f_hz == 0 else f"{w.f_hz:.4g} Hz"
@@ -300,7 +316,9 @@ def main():
             unwarned = [f for f in findings if f.warned.startswith("unwarned")]
             shown = unwarned if args.unwarned_only else findings
             for f in sorted(shown, key=lambda f: -f.excess())[:10]:
-                print(f"  {'MISS' if f in unwarned else 'warned miss'} {f.text()}", flush=True)
+                kind = ("MISS" if f in unwarned else
+                        "unresolved" if f.warned.startswith("unresolved") else "warned miss")
+                print(f"  {kind} {f.text()}", flush=True)
             if len(shown) > 10:
                 print(f"  ... {len(shown) - 10} more", flush=True)
             if unwarned:
