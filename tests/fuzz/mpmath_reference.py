@@ -315,10 +315,13 @@ def main():
             print(f"{label}: {summary}", flush=True)
             unwarned = [f for f in findings if f.warned.startswith("unwarned")]
             shown = unwarned if args.unwarned_only else findings
-            for f in sorted(shown, key=lambda f: -f.excess())[:10]:
-                kind = ("MISS" if f in unwarned else
+            def kind(f):
+                return ("MISS" if f in unwarned else
                         "unresolved" if f.warned.startswith("unresolved") else "warned miss")
-                print(f"  {kind} {f.text()}", flush=True)
+
+            order = {"MISS": 0, "warned miss": 1, "unresolved": 2}
+            for f in sorted(shown, key=lambda f: (order[kind(f)], -f.excess()))[:10]:
+                print(f"  {kind(f)} {f.text()}", flush=True)
             if len(shown) > 10:
                 print(f"  ... {len(shown) - 10} more", flush=True)
             if unwarned:
