@@ -10,7 +10,8 @@ nodal analysis: scipy.linalg.lu_factor/lu_solve on the complex matrix at s = j 2
 gain block as a voltage source of gain(s) (v(in_p) - v(in_n)) evaluated as the rational
 function itself (core realises its poles as internal states instead), c_in between the
 inputs and c_cm from each input to ground, following the conventions of DESIGN.md
-sections 4 and 5. A design the CLI refuses (exit 2) is skipped; any other
+sections 4 and 5. The model (assemble()) is generic over the number type: mpmath_reference.py
+builds the same one in 50 digits. A design the CLI refuses (exit 2) is skipped; any other
 failure fails the check.
 
 Tolerances: 1e-5 dB in magnitude and 1e-4 degree in phase (the CSV carries 10 significant
@@ -25,6 +26,7 @@ and reported, not compared.
 import csv
 import math
 import os
+import re
 import subprocess
 import sys
 import tempfile
@@ -38,14 +40,33 @@ TOL_DEG = 1e-4
 MAX_COND = 1e8
 
 
+class FloatArithmetic:
+    """The number type the nodal model is built in: here double-precision complex in NumPy
+    arrays (mpmath_reference.py passes its 50-digit one)."""
+
+    pi = math.pi
+
+    @staticmethod
+    def number(x):
+        return float(x)
+
+    @staticmethod
+    def matrix(n):
+        return np.zeros((n, n), dtype=complex)
+
+    @staticmethod
+    def vector(n):
+        return np.zeros(n, dtype=complex)
+
+
 class Mna:
     """Nodes and extra branch unknowns; Y x = b."""
 
-    def __init__(self, nodes, extra):
+    def __init__(self, nodes, extra, arithmetic=FloatArithmetic):
         self.index = {n: i for i, n in enumerate(nodes)}
         self.n = len(nodes) + extra
-        self.Y = np.zeros((self.n, self.n), dtype=complex)
-        self.b = np.zeros(self.n, dtype=complex)
+        self.Y = arithmetic.matrix(self.n)
+        self.b = arithmetic.vector(self.n)
 
     def idx(self, node):
         return None if node == "0" else self.index[node]
@@ -100,30 +121,97 @@ class Mna:
         return 0.0 if i is None else x[i]
 
 
+# Value text as core/README.md section 3 describes it ("10k", "4k7", "2.2 pF", "110dB", "1%"),
+# read to the same double: the digits exactly, then the power of ten, then dB as 10^(x/20).
+PREFIXES = {"f": -15, "p": -12, "n": -9, "u": -6, "\u00b5": -6, "m": -3, "k": 3, "K": 3,
+            "M": 6, "G": 9, "T": 12}
+UNITS = r"(?:\u03a9|\u2126|ohms?|Ohms?|F|H|Hz|V/V|V/A|A/V|A/A|V|A|s)"
+PLAIN = re.compile(r"([+-]?)(\d*)(?:\.(\d*))?(?:[eE]([+-]?\d+))?\s*([fpnu\u00b5mkKMGT]?)\s*"
+                   r"(dB|%|" + UNITS + r")?")
+RKM = re.compile(r"([+-]?)(\d*)([Rfpnu\u00b5mkKMGT])(\d+)\s*(" + UNITS + r")?")
+
+
+def parse_value(value):
+    if not isinstance(value, str):
+        return float(value)
+    text = value.strip()
+    m = RKM.fullmatch(text)
+    if m:
+        exponent = 0 if m.group(3) == "R" else PREFIXES[m.group(3)]
+        return float(f"{m.group(1)}{m.group(2) or 0}.{m.group(4)}e{exponent}")
+    m = PLAIN.fullmatch(text)
+    if not m or not (m.group(2) or m.group(3)):
+        raise ValueError(f"value text {value!r} not understood")
+    sign, whole, fraction, exponent, prefix, unit = m.groups()
+    exponent = int(exponent or 0) + PREFIXES.get(prefix, 0) - (2 if unit == "%" else 0)
+    number = float(f"{sign}{whole or 0}.{fraction or 0}e{exponent}")
+    return math.pow(10.0, number / 20.0) if unit == "dB" else number
+
+
 def num(part, key, default=None):
     value = part.get(key, default)
     if value is None:
         return None
-    return float(value)
+    return parse_value(value)
 
 
-def gain_of(gb, s):
+def gain_of(gb, s, arithmetic=FloatArithmetic):
+    """gain(s) as the rational function itself; the gbw pole at gbw/|gain| in double, as the
+    design file's reader computes it."""
+    number = arithmetic.number
     g = num(gb, "gain")
-    poles = [float(p) for p in gb.get("poles_hz", [])]
+    poles = [parse_value(p) for p in gb.get("poles_hz", [])]
     if "gbw" in gb:
         poles = [num(gb, "gbw") / abs(g)] + poles
-    h = complex(g)
+    h = number(g)
+    two_pi = 2 * arithmetic.pi
     for z in gb.get("zeros_hz", []):
-        h *= 1 + s / (2 * math.pi * float(z))
+        h *= 1 + s / (two_pi * number(parse_value(z)))
     for p in poles:
-        h /= 1 + s / (2 * math.pi * p)
+        h /= 1 + s / (two_pi * number(p))
     return h
 
 
-def solve(design, s, mode):
-    """mode: 'gain' (source on), 'z_in' (source removed, 1 A test at its terminals),
-    'z_out' (source zeroed, load removed, 1 A test into load a), 'loop' (source zeroed,
-    controlled source replaced by a unit test source). Returns (quantity, condition)."""
+def smallest_resistance(design):
+    """The smallest positive resistance any part gives (the resistance-valued fields of
+    core/README.md section 6.2), as core's accuracy check takes it (loopaccuracy.cpp); 0
+    when there is none."""
+    fields = {"resistor": ("value",), "load": ("r",), "gain_block": ("r_in", "r_out"),
+              "vsource": ("r_series",), "isource": ("r_parallel",)}
+    values = [num(p, f) for p in design["parts"] for f in fields.get(p["type"], ()) if f in p]
+    values = [r for r in values if 0 < r < math.inf]
+    return min(values) if values else 0.0
+
+
+def sweep_frequencies(design):
+    """The sweep grid as Sweep::frequencies() (core/src/design/design.cpp) computes it, the
+    same double operations in the same order, so that each point is the CLI's to the bit
+    (the CSV prints f_hz to 10 digits only)."""
+    sweep = design["sweep"]
+    f0, f1 = parse_value(sweep["start"]), parse_value(sweep["stop"])
+    per_decade = int(sweep["points_per_decade"])
+    decades = math.log10(f1 / f0)
+    intervals = math.floor(decades * per_decade + 0.5)  # std::lround of a positive number
+    if intervals <= 0:
+        return [f0]
+    log_start = math.log10(f0)
+    step = decades / intervals
+    f = [math.pow(10.0, log_start + step * i) for i in range(intervals + 1)]
+    f[0], f[-1] = f0, f1
+    return f
+
+
+def assemble(design, s, mode, arithmetic=FloatArithmetic):
+    """The nodal system of one mode at s, in the given number type. mode: 'gain' (source
+    on), 'z_in' (source removed, 1 A test at its terminals), 'z_out' (source zeroed, load
+    removed, 1 A test into load a), 'loop' (source zeroed, controlled source replaced by a
+    unit test source). Returns (mna, a, b, factor): the quantity is factor (v(a) - v(b))."""
+    number = arithmetic.number
+
+    def value(part, key, default=None):
+        v = num(part, key, default)
+        return None if v is None else number(v)
+
     parts = design["parts"]
     src = next(p for p in parts if p["id"] == design["input"])
     gb = next(p for p in parts if p["type"] == "gain_block")
@@ -144,32 +232,32 @@ def solve(design, s, mode):
     inductors = [p for p in parts if p["type"] == "inductor"]
     nodes = sorted(nodes)
     extra = len(inductors) + 1 + (1 if voltage and mode in ("gain", "z_out", "loop") else 0)
-    m = Mna(nodes, extra)
+    m = Mna(nodes, extra, arithmetic)
     row = len(nodes)
     for p in parts:
         if p["type"] == "resistor":
-            m.admittance(p["a"], p["b"], 1.0 / num(p, "value"))
+            m.admittance(p["a"], p["b"], 1 / value(p, "value"))
         elif p["type"] == "capacitor":
-            m.admittance(p["a"], p["b"], s * num(p, "value"))
+            m.admittance(p["a"], p["b"], s * value(p, "value"))
     for p in inductors:  # branch current I from b to a through it: v(a) - v(b) + sL I = 0
         m.voltage_source(row, p["a"], p["b"], [], 0.0)
-        m.Y[row, row] = s * num(p, "value")
+        m.Y[row, row] = s * value(p, "value")
         row += 1
     if "r_in" in gb:
-        m.admittance(gb["in_p"], gb["in_n"], 1.0 / num(gb, "r_in"))
-    m.admittance(gb["in_p"], gb["in_n"], s * num(gb, "c_in", 0.0))
+        m.admittance(gb["in_p"], gb["in_n"], 1 / value(gb, "r_in"))
+    m.admittance(gb["in_p"], gb["in_n"], s * value(gb, "c_in", 0.0))
     for pin in ("in_p", "in_n"):  # c_cm from each input pin to ground (DESIGN.md section 4)
-        m.admittance(gb[pin], "0", s * num(gb, "c_cm", 0.0))
+        m.admittance(gb[pin], "0", s * value(gb, "c_cm", 0.0))
     e_node = "#e" if r_out > 0 else gb["out"]
     if r_out > 0:
-        m.admittance("#e", gb["out"], 1.0 / r_out)
-    g = gain_of(gb, s)
+        m.admittance("#e", gb["out"], 1 / number(r_out))
+    g = gain_of(gb, s, arithmetic)
     if mode == "loop":
         m.voltage_source(row, e_node, "0", [], 1.0)
     else:
         m.voltage_source(row, e_node, "0", [(gb["in_p"], g), (gb["in_n"], -g)], 0.0)
     row += 1
-    load_y = 1.0 / num(load, "r") + s * num(load, "c", 0.0)
+    load_y = 1 / value(load, "r") + s * value(load, "c", 0.0)
     if mode != "z_out":
         m.admittance(load["a"], load["b"], load_y)
     # The source: its own impedance stays unless it is removed (z_in).
@@ -177,42 +265,42 @@ def solve(design, s, mode):
         if mode != "z_in":
             at = "#src" if r_series > 0 else hot
             if r_series > 0:
-                m.admittance("#src", hot, 1.0 / r_series)
+                m.admittance("#src", hot, 1 / number(r_series))
             m.voltage_source(row, at, cold, [], 1.0 if mode == "gain" else 0.0)
     else:
         if mode != "z_in":
             if "r_parallel" in src:
-                m.admittance(hot, cold, 1.0 / num(src, "r_parallel"))
-            m.admittance(hot, cold, s * num(src, "c_parallel", 0.0))
+                m.admittance(hot, cold, 1 / value(src, "r_parallel"))
+            m.admittance(hot, cold, s * value(src, "c_parallel", 0.0))
             if mode == "gain":
                 m.current(src["to"], src["from"], 1.0)
     if mode == "z_in":
         m.current(hot, cold, 1.0)
     if mode == "z_out":
         m.current(load["a"], load["b"], 1.0)
+    if mode == "gain":
+        current = design.get("output", "voltage") != "voltage"
+        return m, load["a"], load["b"], (load_y if current else 1)
+    if mode == "z_in":
+        return m, hot, cold, 1
+    if mode == "z_out":
+        return m, load["a"], load["b"], 1
+    return m, gb["in_p"], gb["in_n"], -g
+
+
+def solve(design, s, mode):
+    """The quantity of `mode` (see assemble()) at s and the condition it is known to."""
+    m, a, b, factor = assemble(design, s, mode)
     x, cond = m.solve()
 
-    def between(a, b):
-        """v(a) - v(b) and the condition it is known to: a backward-stable solve of the
-        scaled system y = c x errs by about eps cond max|y| in each y, so by eps cond
-        max|y| / c in v(a) and v(b); relative to |v(a) - v(b)| that is eps times the
-        returned number."""
-        va, vb = m.v(x, a), m.v(x, b)
-        d = va - vb
-        if not math.isfinite(cond) or not abs(d) > 0:
-            return d, math.inf
-        scales = [m.c[m.idx(n)] for n in (a, b) if m.idx(n) is not None]
-        return d, cond * m.ymax / (min(scales) * abs(d))
-
-    if mode == "gain":
-        vload, k = between(load["a"], load["b"])
-        return (vload if design.get("output", "voltage") == "voltage" else vload * load_y), k
-    if mode == "z_in":
-        return between(hot, cold)
-    if mode == "z_out":
-        return between(load["a"], load["b"])
-    vd, k = between(gb["in_p"], gb["in_n"])
-    return -g * vd, k
+    # v(a) - v(b) and the condition it is known to: a backward-stable solve of the scaled
+    # system y = c x errs by about eps cond max|y| in each y, so by eps cond max|y| / c in
+    # v(a) and v(b); relative to |v(a) - v(b)| that is eps times the returned number.
+    d = m.v(x, a) - m.v(x, b)
+    if not math.isfinite(cond) or not abs(d) > 0:
+        return factor * d, math.inf
+    scales = [m.c[m.idx(n)] for n in (a, b) if m.idx(n) is not None]
+    return factor * d, cond * m.ymax / (min(scales) * abs(d))
 
 
 def main():
