@@ -14,6 +14,21 @@
 // as analyze(). What remains (perf, one thread): natural frequencies about 24 % (QZ, Newton
 // confirmation, the 64-point contour count), step response 18 %, noise 19 % (band integral),
 // re-stamp with its reduction and accuracy check 11 %, sweeps 8 %.
+//
+// Issue 16 (s9, main at 534d785; the machine shared by three builds, load 4 to 13 on 2 cores,
+// so CPU times swing by 20 % from run to run and only shares and back-to-back pairs count).
+// Before: 4.2 to 4.8 s of CPU on one thread at load 4 (the "2.05 s" above was idle). perf,
+// one thread: the sweep kernel 33 % (gain 11 %, T 8 %, the noise grid 8 % and the noise band
+// integral 8 % of it), analyze's noise 31 % in all (NoiseModel::build 6.9 % of it: a netlist,
+// its assembly and reduction per cell), re-stamp 18 % (accuracy check 12 %, reductions 5 %),
+// step 12 % (the modal exponentials), margins 4 %, peaking 3.5 %, malloc/free 6 %. Now the
+// noise model is re-stamped per worker as the loop model is (NoiseModel::rebuilt(): 3.2 %
+// of the samples instead of 6.9 %) and a cell whose loop is not known stable skips the noise
+// (no rms exists there). Six back-to-back pairs at load 9 to 13: 3.49 to 4.17 s before (mean
+// 3.87 s), 3.41 to 3.81 s after (mean 3.62 s), about 6 % less CPU; from the idle 2.05 s that
+// is about 1.93 s on one thread and 0.97 s on 2 idle cores: under 1 s, with little margin.
+// What is left is in the sweep kernel, the accuracy checks, the reductions and the step model
+// (core/src/circuit, loopaccuracy.cpp), which this change does not touch.
 
 #include "loopsketch/analysis/scan.h"
 #include "loopsketch/design/designfile.h"

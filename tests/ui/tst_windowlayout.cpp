@@ -2,15 +2,21 @@
 // width and the plots share two tab groups beside it; the arrangement persists and
 // View > Reset layout brings the default back.
 
+#include "panels/mappanel.h"
 #include "panels/panels.h"
+#include "panels/scanpanel.h"
 #include "window/designdocument.h"
 #include "window/mainwindow.h"
 
 #include <QAction>
 #include <QApplication>
+#include <QComboBox>
 #include <QDockWidget>
+#include <QLabel>
 #include <QMenu>
 #include <QMenuBar>
+#include <QScrollArea>
+#include <QScrollBar>
 #include <QSettings>
 #include <QTest>
 
@@ -73,6 +79,47 @@ TEST_F(WindowLayoutTest, At1280By800TheSketchKeepsHalfTheWidthAndThePlotsAreTabb
     }
     EXPECT_TRUE(window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
                                     + "/loopsketch-1280x800.png"));
+}
+
+// The Scan and Map panels at 1280 x 800, asked for from the Design menu: their controls wrap
+// inside the dock (no scroll bar either way), the map's key and the hover line are whole.
+TEST_F(WindowLayoutTest, At1280By800TheScanAndMapPanelsFitTheirDock)
+{
+    auto window = openWindow(1280, 800);
+    for (const char *entry : {"Scan a part…", "Map two parts…"}) {
+        SCOPED_TRACE(entry);
+        QAction *action = nullptr;
+        for (QAction *a : window->findChildren<QAction *>())
+            if (a->text().remove(QLatin1Char('&')) == QString::fromUtf8(entry))
+                action = a;
+        ASSERT_NE(action, nullptr);
+        action->trigger();
+        for (int i = 0; i < 5; ++i)
+            QTest::qWait(20);
+        QApplication::processEvents();
+        QWidget *panel = QString::fromUtf8(entry).startsWith(QStringLiteral("Scan"))
+            ? static_cast<QWidget *>(window->findChild<ScanPanel *>())
+            : static_cast<QWidget *>(window->findChild<MapPanel *>());
+        ASSERT_NE(panel, nullptr);
+        if (auto *list = panel->findChild<QComboBox *>(QStringLiteral("scanTarget")))
+            list->hidePopup();
+        auto *scroll = qobject_cast<QScrollArea *>(panel->parentWidget()->parentWidget());
+        ASSERT_NE(scroll, nullptr);
+        EXPECT_FALSE(scroll->horizontalScrollBar()->isVisible());
+        EXPECT_FALSE(scroll->verticalScrollBar()->isVisible());
+        EXPECT_LE(panel->width(), 420); // the compact column, about 390 px
+        for (QLabel *label : panel->findChildren<QLabel *>()) {
+            if (label->isVisible()) {
+                EXPECT_LE(label->mapTo(panel, QPoint(label->width(), 0)).x(), panel->width())
+                    << label->text().toStdString();
+            }
+        }
+    }
+    auto *map = window->findChild<MapPanel *>()->heatMap();
+    for (const HeatMap::KeyEntry &e : map->keyEntries())
+        EXPECT_LE(e.text.right(), map->width()) << e.label.toStdString();
+    EXPECT_TRUE(window->grab().save(QStringLiteral(LOOPSKETCH_SCREENSHOT_DIR)
+                                    + "/loopsketch-1280x800-map.png"));
 }
 
 TEST_F(WindowLayoutTest, WideWindowsKeepThePanelsSideBySide)

@@ -20,13 +20,20 @@ namespace loopsketch::ui {
 namespace {
 
 constexpr int kMargin = 46; // room for the axis names and end values
+constexpr int kKeySample = 14; // a key entry's sample, px
+
+/// The hover line while no cell is under the pointer.
+QString hoverHint()
+{
+    return QObject::tr("Point at a cell to read it; click it to give both parts its values.");
+}
 
 } // namespace
 
 HeatMap::HeatMap(QWidget *parent) : QWidget(parent)
 {
     setMouseTracking(true);
-    setMinimumSize(260, 220);
+    setMinimumSize(260, 180);
 }
 
 void HeatMap::setScan(std::shared_ptr<const ScanResult> scan, int metric, double currentA,
@@ -54,7 +61,63 @@ void HeatMap::setScan(std::shared_ptr<const ScanResult> scan, int metric, double
 
 QRect HeatMap::gridRect() const
 {
-    return rect().adjusted(kMargin + 10, 8, -70, -kMargin);
+    return rect().adjusted(kMargin + 10, 8, -70, -kMargin - keyHeight());
+}
+
+std::vector<HeatMap::KeyEntry> HeatMap::keyEntries() const
+{
+    // The marks' names, each after a sample drawn as the map draws it; rows wrap at the
+    // widget's width, so a narrow dock cuts none of them.
+    const QStringList labels{tr("meets every spec"), tr("unstable"), tr("the design now")};
+    const QFontMetrics fm = fontMetrics();
+    const int line = std::max(fm.height(), kKeySample) + 4;
+    const int left = 8, right = width() - 8;
+    int x = left, y = 0;
+    std::vector<KeyEntry> entries;
+    for (const QString &label : labels) {
+        const int w = kKeySample + 5 + fm.horizontalAdvance(label);
+        if (x > left && x + w > right) {
+            x = left;
+            y += line;
+        }
+        KeyEntry e;
+        e.sample = QRect(x, y + (line - kKeySample) / 2, kKeySample, kKeySample);
+        e.text = QRect(x + kKeySample + 5, y, w - kKeySample - 5, line);
+        e.label = label;
+        entries.push_back(e);
+        x += w + 16;
+    }
+    return entries;
+}
+
+int HeatMap::keyHeight() const
+{
+    const std::vector<KeyEntry> entries = keyEntries();
+    return entries.empty() ? 0 : entries.back().text.bottom() + 4;
+}
+
+void HeatMap::drawKey(QPainter &p) const
+{
+    const int top = height() - keyHeight();
+    for (KeyEntry e : keyEntries()) {
+        e.sample.translate(0, top);
+        e.text.translate(0, top);
+        p.setBrush(Qt::NoBrush);
+        if (e.label == tr("meets every spec")) {
+            p.fillRect(e.sample, sequentialColour(0.6));
+            p.setPen(QPen(palette::kBlack, 2.5));
+            p.drawRect(e.sample.adjusted(1, 1, -1, -1));
+        } else if (e.label == tr("unstable")) {
+            p.fillRect(e.sample, sequentialColour(0.1));
+            p.setPen(QPen(Qt::white, 1.2));
+            drawCellCross(p, e.sample.adjusted(2, 2, -2, -2));
+        } else {
+            p.setPen(QPen(palette::kOrange, 3));
+            p.drawEllipse(QRectF(e.sample).center(), 5, 5);
+        }
+        p.setPen(palette::kBlack);
+        p.drawText(e.text, Qt::AlignLeft | Qt::AlignVCenter, e.label);
+    }
 }
 
 const ScanRow *HeatMap::row(int i, int j) const
@@ -171,10 +234,14 @@ void HeatMap::paintEvent(QPaintEvent *)
     for (int y = 0; y < scale.height(); ++y)
         p.fillRect(QRect(scale.left(), scale.bottom() - y, scale.width(), 1),
                    sequentialColour(double(y) / std::max(1, scale.height() - 1)));
-    p.drawText(QRect(scale.right() + 3, scale.top(), 60, 16), Qt::AlignLeft,
-               QString::number(m_hi, 'g', 3));
-    p.drawText(QRect(scale.right() + 3, scale.bottom() - 16, 60, 16), Qt::AlignLeft,
-               QString::number(m_lo, 'g', 3));
+    // The scale's ends in the metric's unit ("88.5°", "92 kHz").
+    const ScanMetricInfo &info = scanMetricInfos()[std::size_t(m_metric)];
+    const QString unit = scanMetricUnit(info, toQString(m_scan->gainUnit));
+    p.drawText(QRect(scale.right() + 3, scale.top(), 66, 16), Qt::AlignLeft,
+               scanValueText(m_hi, unit));
+    p.drawText(QRect(scale.right() + 3, scale.bottom() - 16, 66, 16), Qt::AlignLeft,
+               scanValueText(m_lo, unit));
+    drawKey(p);
 }
 
 void HeatMap::mouseMoveEvent(QMouseEvent *event)
@@ -201,18 +268,20 @@ MapPanel::MapPanel(DesignDocument *document, QWidget *parent) : ScanRunPanel(doc
 {
     m_first = new QComboBox(this);
     m_second = new QComboBox(this);
+    // As wide as a part's name, not as its longest field ("PD1.c_parallel"): with the series
+    // they take one line of a 390-pixel dock; the list opens as wide as its entries.
+    for (QComboBox *box : {m_first, m_second}) {
+        box->setSizeAdjustPolicy(QComboBox::AdjustToMinimumContentsLengthWithIcon);
+        box->setMinimumContentsLength(6);
+    }
     makeRunControls(tr("their series"), tr("Map"));
-    m_status->setWordWrap(true);
     m_map = new HeatMap(this);
     layOut({new QLabel(tr("Across"), this), m_first, new QLabel(tr("up"), this), m_second},
-           tr("Colour"), m_map);
-    m_hover->setText(tr("outlined: meets every spec · crossed: unstable · ring: the design now"));
+           tr("Colour"), m_map, 2, true);
+    m_hover->setText(hoverHint());
 
-    connect(m_map, &HeatMap::cellHovered, this, [this](int i, int j) {
-        m_hover->setText(i < 0 ? tr("outlined: meets every spec · crossed: unstable · ring: the "
-                                    "design now")
-                               : cellText(i, j));
-    });
+    connect(m_map, &HeatMap::cellHovered, this,
+            [this](int i, int j) { m_hover->setText(i < 0 ? hoverHint() : cellText(i, j)); });
     connect(m_map, &HeatMap::cellClicked, this, [this](int i, int j) { applyCell(i, j); });
     refreshTargets();
 }
@@ -253,6 +322,24 @@ void MapPanel::mapParts(const QString &first, const QString &second)
     run();
 }
 
+void MapPanel::mapSelected(const std::vector<std::string> &selected)
+{
+    refreshTargets();
+    QStringList chosen;
+    for (const std::string &id : selected)
+        if (m_first->findText(toQString(id)) >= 0)
+            chosen.append(toQString(id));
+    m_first->setFocus();
+    if (chosen.size() >= 2)
+        mapParts(chosen[0], chosen[1]);
+    else if (chosen.size() == 1)
+        mapParts(chosen[0],
+                 m_second->currentText() != chosen[0] ? m_second->currentText()
+                                                      : m_first->currentText());
+    else
+        run();
+}
+
 void MapPanel::run()
 {
     const std::optional<ESeries> series = chosenSeries();
@@ -260,12 +347,12 @@ void MapPanel::run()
     for (QComboBox *box : {m_first, m_second}) {
         auto target = parseScanTarget(toStdString(box->currentText()), "Map");
         if (!target) {
-            m_status->setText(toQString(target.errorText()));
+            setStatus(toQString(target.errorText()));
             return;
         }
         auto axis = resolveScanAxis(m_document->design(), *target, series);
         if (!axis) {
-            m_status->setText(toQString(axis.errorText()));
+            setStatus(toQString(axis.errorText()));
             return;
         }
         axes.push_back(*axis);
@@ -295,8 +382,7 @@ QString MapPanel::cellText(int i, int j) const
     const ScanMetricInfo &m = scanMetricInfos()[std::size_t(metricIndex())];
     const OptionalNumber v = r.metrics.*m.member;
     parts.append(m.name + QLatin1Char(' ')
-                 + (v ? toQString(formatEngineering(*v, 4)) + QLatin1Char(' ') + m.unit
-                      : QStringLiteral("—")));
+                 + scanValueText(v, scanMetricUnit(m, toQString(m_scan->gainUnit))));
     parts.append(r.metrics.stable.value_or(false) ? tr("stable") : tr("UNSTABLE"));
     parts.append(r.metrics.specsPass.value_or(false) ? tr("meets every spec") : tr("fails a spec"));
     return parts.join(QStringLiteral(" · "));

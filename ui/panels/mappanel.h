@@ -8,6 +8,7 @@
 #include "panels/scanrunpanel.h"
 
 #include <memory>
+#include <vector>
 
 class QComboBox;
 
@@ -29,6 +30,14 @@ public:
     QPoint cellCentre(int i, int j) const;
     /// The colour a cell is painted (its metric on the palette's sequential scale).
     QColor cellColour(int i, int j) const;
+    /// The key under the grid, one entry per mark: its sample's rectangle and its text, in
+    /// rows that wrap at the widget's width (offsets from the key's top).
+    struct KeyEntry
+    {
+        QRect sample, text;
+        QString label;
+    };
+    std::vector<KeyEntry> keyEntries() const;
     /// The metric's range on the colour scale.
     std::pair<double, double> colourRange() const { return {m_lo, m_hi}; }
 
@@ -44,6 +53,9 @@ protected:
 
 private:
     QRect gridRect() const;
+    /// The key's height for the widget's width.
+    int keyHeight() const;
+    void drawKey(QPainter &p) const;
     const ScanRow *row(int i, int j) const;
 
     std::shared_ptr<const ScanResult> m_scan;
@@ -60,6 +72,10 @@ public:
 
     /// Chooses the two targets ("RF", "CF") with their default ranges and starts the map.
     void mapParts(const QString &first, const QString &second);
+    /// Design > Map two parts…: maps the first two of `selected` (the Sketch's selected
+    /// parts) that have a value to scan, one of them against the second part chosen, or with
+    /// none the two chosen (the design's first two values unless changed).
+    void mapSelected(const std::vector<std::string> &selected);
     void run() override;
     /// Applies cell (i, j) of the latest map (one undo step).
     bool applyCell(int i, int j);

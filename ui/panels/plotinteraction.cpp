@@ -202,7 +202,11 @@ void PlotPanel::mouseReleaseEvent(QMouseEvent *event)
     viewport()->unsetCursor();
     if (drag == Drag::Band) {
         m_band->hide();
-        zoomToRect(QRect(m_dragFrom, event->pos()).normalized());
+        const QRect band = QRect(m_dragFrom, event->pos()).normalized();
+        if (band.width() < kMinBandPixels && band.height() < kMinBandPixels)
+            plotClicked(event->pos());
+        else
+            zoomToRect(band);
     }
     event->accept();
 }

@@ -161,6 +161,10 @@ protected:
     /// Called after the plot area or the shown ranges changed (zoom, pan, resize), for items
     /// a panel places over the plot.
     virtual void plotGeometryChanged() { }
+    /// A left click in the plot that drew no band (under kMinBandPixels either way), at
+    /// `position` in the view: a panel whose points act on a click takes it here (the band
+    /// zoom takes every left press, so a series' own clicked() never comes).
+    virtual void plotClicked(QPoint /*position*/) { }
     /// Replaces a frequency curve's points, thinned to the points that matter on screen: in
     /// each three-pixel column its lowest and highest point survive, so peaks stay exact.
     /// Every point kept is one of core's, unchanged. `format` puts it in the cursor text.

@@ -17,6 +17,7 @@
 
 #include <cmath>
 #include <limits>
+#include <optional>
 
 namespace loopsketch::ui {
 
@@ -24,29 +25,18 @@ namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-/// The metric's unit as shown: the gain unit for gain, the output's for noise.
-QString unitOf(const ScanMetricInfo &m, const QString &gainUnit)
+/// The hover line while no point is under the pointer.
+QString hoverHint()
 {
-    if (m.member == &ScanMetrics::gain)
-        return gainUnit;
-    if (m.member == &ScanMetrics::outputNoiseRms)
-        return gainUnit.startsWith(QLatin1Char('A')) ? QStringLiteral("A") : QStringLiteral("V");
-    return m.unit;
-}
-
-QString valueText(const OptionalNumber &v, const QString &unit)
-{
-    if (!v)
-        return QStringLiteral("—");
-    if (unit == QStringLiteral("°") || unit == QStringLiteral("dB") || unit == QStringLiteral("%"))
-        return QString::number(*v, 'f', 1) + (unit == QStringLiteral("°") ? "" : " ") + unit;
-    return toQString(formatEngineering(*v, 3, toStdString(unit)));
+    return QObject::tr("Point at a value to read every metric there; click it to use it.");
 }
 
 } // namespace
 
 ScanChart::ScanChart(QWidget *parent) : PlotPanel(tr("Scan"), parent)
 {
+    // Room on the right for the last decade's label ("100 pF").
+    chart()->setMargins(QMargins(6, 4, 18, 4));
     m_x = addLogAxis(tr("value"), Qt::AlignBottom);
     m_y = addValueAxis(tr("metric"), Qt::AlignLeft);
     m_bandLo = new QLineSeries(this);
@@ -60,13 +50,18 @@ ScanChart::ScanChart(QWidget *parent) : PlotPanel(tr("Scan"), parent)
     chart()->addSeries(m_band);
     m_band->attachAxis(m_x);
     m_band->attachAxis(m_y);
+    // Short names: the five entries fit one legend row in a 390-pixel dock (1280 x 800).
     m_line = addLine(tr("metric"), QColor(0x88, 0x88, 0x88), Qt::SolidLine, m_x, m_y, false);
-    m_current = addLine(tr("current value"), palette::kOrange, Qt::DashLine, m_x, m_y);
-    m_pass = addMarker(tr("meets every spec"), palette::kGreen, m_x, m_y, 9);
-    m_fail = addMarker(tr("fails a spec"), palette::kVermillion, m_x, m_y, 9);
+    m_current = addLine(tr("now"), palette::kOrange, Qt::DashLine, m_x, m_y);
+    m_pass = addMarker(tr("meets specs"), palette::kGreen, m_x, m_y, 9);
+    m_fail = addMarker(tr("fails"), palette::kVermillion, m_x, m_y, 9);
     m_fail->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
     m_unstable = addMarker(tr("unstable"), palette::kBlack, m_x, m_y, 9);
     m_unstable->setMarkerShape(QScatterSeries::MarkerShapeRectangle);
+    // No axes before the first scan: empty ones lay their titles over each other.
+    m_x->setVisible(false);
+    m_y->setVisible(false);
+    setTitle(tr("no scan yet: choose a part above"));
 }
 
 void ScanChart::showScan(const ScanResult &scan, const ScanMetricInfo &metric, double current,
@@ -111,6 +106,8 @@ void ScanChart::showScan(const ScanResult &scan, const ScanMetricInfo &metric, d
     const auto &axis = scan.axes.front();
     const double xLo = std::log10(std::abs(axis.values.front())),
                  xHi = std::log10(std::abs(axis.values.back()));
+    m_x->setVisible(true);
+    m_y->setVisible(true);
     setDecadeRange(m_x, std::floor(xLo), std::ceil(xHi), toStdString(toQString(axis.unit)));
     setNiceRange(m_y, yLo, yHi, 6);
     m_line->replace(line);
@@ -127,14 +124,37 @@ void ScanChart::showScan(const ScanResult &scan, const ScanMetricInfo &metric, d
     m_bandHi->replace(band ? QList<QPointF>{{std::floor(xLo), hi}, {std::ceil(xHi), hi}}
                            : QList<QPointF>{});
     m_band->setVisible(band);
-    const QString unit = unitOf(metric, gainUnit);
+    const QString unit = scanMetricUnit(metric, gainUnit);
     m_y->setTitleText(unit.isEmpty() ? metric.name : metric.name + " (" + unit + ")");
     m_x->setTitleText(toQString(axis.name()) + " ("
                       + toQString(axis.series == ESeries::E24 ? "E24" : toString(axis.series))
                       + ")");
-    setTitle(tr("%1 against %2 · %3 values · click a point to use its value")
+    setTitle(tr("%1 against %2, %3 values")
                  .arg(metric.name, toQString(axis.name()))
                  .arg(scan.rows.size()));
+}
+
+QPoint ScanChart::positionOf(QScatterSeries *series, QPointF p) const
+{
+    return mapFromScene(chart()->mapToScene(chart()->mapToPosition(p, series)));
+}
+
+void ScanChart::plotClicked(QPoint position)
+{
+    // The nearest marker within its own size and a little more.
+    constexpr int kReach = 9;
+    std::optional<QPointF> nearest;
+    int best = kReach + 1;
+    for (QScatterSeries *s : {m_pass, m_fail})
+        for (const QPointF &p : s->points()) {
+            const int d = (positionOf(s, p) - position).manhattanLength();
+            if (d < best) {
+                best = d;
+                nearest = p;
+            }
+        }
+    if (nearest)
+        emit pointClicked(*nearest);
 }
 
 ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent) : ScanRunPanel(document, parent)
@@ -147,20 +167,32 @@ ScanPanel::ScanPanel(DesignDocument *document, QWidget *parent) : ScanRunPanel(d
     m_to->setPlaceholderText(tr("ten times"));
     makeRunControls(tr("its series"), tr("Scan"));
     m_hover->setTextInteractionFlags(Qt::TextSelectableByMouse);
+    m_hover->setText(hoverHint());
     m_chart = new ScanChart(this);
+    for (QLineEdit *end : {m_from, m_to})
+        end->setMaximumWidth(end->fontMetrics().horizontalAdvance(end->placeholderText()) + 12);
     layOut({new QLabel(tr("Part"), this), m_target, new QLabel(tr("from"), this), m_from,
             new QLabel(tr("to"), this), m_to},
-           tr("Show"), m_chart);
+           tr("Show"), m_chart, 2, false);
 
     connect(m_target, &QComboBox::currentIndexChanged, this, [this] {
         m_from->clear();
         m_to->clear();
     });
+    // A part chosen from the list is scanned at once over its default range (25 values of the
+    // demo's CF take a few tens of milliseconds).
+    connect(m_target, &QComboBox::activated, this, [this] { run(); });
+    connect(m_chart, &ScanChart::pointClicked, this,
+            [this](const QPointF &p) { applyRow(rowNear(p.x())); });
     for (QScatterSeries *s : {m_chart->passSeries(), m_chart->failSeries()}) {
-        connect(s, &QScatterSeries::clicked, this,
-                [this](const QPointF &p) { applyRow(rowNear(p.x())); });
+        // The line under the chart: the value, the metric shown and the verdict; every
+        // metric, one a line, in the tooltip of the point under the pointer.
         connect(s, &QScatterSeries::hovered, this, [this](const QPointF &p, bool state) {
-            m_hover->setText(state ? rowText(rowNear(p.x())) : QString());
+            const int row = rowNear(p.x());
+            m_hover->setText(state ? rowSummary(row) : hoverHint());
+            m_chart->chart()->setToolTip(
+                state ? rowText(row).replace(QStringLiteral(" · "), QStringLiteral("\n"))
+                      : QString());
         });
     }
     refreshTargets();
@@ -198,6 +230,18 @@ void ScanPanel::scanPart(const QString &target)
     run();
 }
 
+void ScanPanel::scanSelectedOrAsk(const std::vector<std::string> &selected)
+{
+    refreshTargets();
+    for (const std::string &id : selected)
+        if (m_target->findText(toQString(id)) >= 0) {
+            scanPart(toQString(id));
+            return;
+        }
+    m_target->setFocus();
+    m_target->showPopup();
+}
+
 void ScanPanel::run()
 {
     QString text = m_target->currentText();
@@ -206,12 +250,12 @@ void ScanPanel::run()
             + m_to->text().trimmed();
     auto target = parseScanTarget(toStdString(text), "Part");
     if (!target) {
-        m_status->setText(toQString(target.errorText()));
+        setStatus(toQString(target.errorText()));
         return;
     }
     auto axis = resolveScanAxis(m_document->design(), *target, chosenSeries());
     if (!axis) {
-        m_status->setText(toQString(axis.errorText()));
+        setStatus(toQString(axis.errorText()));
         return;
     }
     startRun(
@@ -235,6 +279,27 @@ int ScanPanel::rowNear(double x) const
     return best;
 }
 
+QString ScanPanel::rowSummary(int index) const
+{
+    if (!m_scan || index < 0 || std::size_t(index) >= m_scan->rows.size())
+        return {};
+    const ScanRow &row = m_scan->rows[std::size_t(index)];
+    const ScanAxis &axis = m_scan->axes.front();
+    const QString value = toQString(axis.name()) + QStringLiteral(" = ")
+        + toQString(formatEngineering(row.values[0], 3, axis.unit));
+    if (!row.metrics.problem.empty())
+        return value + QStringLiteral(": ") + toQString(row.metrics.problem);
+    const ScanMetricInfo &m = scanMetricInfos()[std::size_t(metricIndex())];
+    return QStringList{
+        value,
+        m.name + QLatin1Char(' ')
+            + scanValueText(row.metrics.*m.member, scanMetricUnit(m, toQString(m_scan->gainUnit))),
+        row.metrics.stable.value_or(false) ? tr("stable") : tr("UNSTABLE"),
+        row.metrics.specsPass.value_or(false) ? tr("meets every spec") : tr("fails a spec"),
+        tr("click to use it")}
+        .join(QStringLiteral(" · "));
+}
+
 QString ScanPanel::rowText(int index) const
 {
     if (!m_scan || index < 0 || std::size_t(index) >= m_scan->rows.size())
@@ -248,7 +313,7 @@ QString ScanPanel::rowText(int index) const
         return parts.front() + QStringLiteral(": ") + toQString(row.metrics.problem);
     for (const ScanMetricInfo &m : scanMetricInfos())
         parts.append(m.name + QLatin1Char(' ')
-                     + valueText(row.metrics.*m.member, unitOf(m, gainUnit)));
+                     + scanValueText(row.metrics.*m.member, scanMetricUnit(m, gainUnit)));
     parts.append(row.metrics.stable.value_or(false) ? tr("stable") : tr("UNSTABLE"));
     parts.append(row.metrics.specsPass.value_or(false) ? tr("meets every spec")
                                                        : tr("fails a spec"));

@@ -31,6 +31,15 @@ public:
 
     QScatterSeries *passSeries() const { return m_pass; }
     QScatterSeries *failSeries() const { return m_fail; }
+    /// Where point `p` of `series` is drawn, in the view's coordinates.
+    QPoint positionOf(QScatterSeries *series, QPointF p) const;
+
+signals:
+    /// A click on (or within a few pixels of) a pass or fail point: that point.
+    void pointClicked(QPointF point);
+
+protected:
+    void plotClicked(QPoint position) override;
 
 private:
     QCategoryAxis *m_x;
@@ -49,12 +58,17 @@ public:
 
     /// Chooses the target ("CF", "RL.c") with its default range and starts the scan.
     void scanPart(const QString &target);
+    /// Design > Scan a part…: scans the first of `selected` (the Sketch's selected parts)
+    /// that has a value to scan; with none, opens the part list, where a choice scans.
+    void scanSelectedOrAsk(const std::vector<std::string> &selected);
     /// Starts a scan of the target, range and series chosen in the controls.
     void run() override;
     /// Applies row `index` of the latest scan to the design (one undo step).
     bool applyRow(int index);
-    /// What hovering row `index` shows.
+    /// Every metric of row `index`: the tooltip beside a point.
     QString rowText(int index) const;
+    /// The line under the chart for row `index`: value, the metric shown, the verdicts.
+    QString rowSummary(int index) const;
     /// The row whose value is nearest to x = log10 |value|.
     int rowNear(double x) const;
     ScanChart *chart() const { return m_chart; }

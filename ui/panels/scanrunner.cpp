@@ -4,6 +4,8 @@
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
 
+#include "loopsketch/base/value.h"
+
 #include <QUndoStack>
 
 #include <cmath>
@@ -59,6 +61,24 @@ const std::vector<ScanMetricInfo> &scanMetricInfos()
         {QObject::tr("z_out at DC"), QStringLiteral("Ω"), &ScanMetrics::zOut},
     };
     return infos;
+}
+
+QString scanMetricUnit(const ScanMetricInfo &m, const QString &gainUnit)
+{
+    if (m.member == &ScanMetrics::gain)
+        return gainUnit;
+    if (m.member == &ScanMetrics::outputNoiseRms)
+        return gainUnit.startsWith(QLatin1Char('A')) ? QStringLiteral("A") : QStringLiteral("V");
+    return m.unit;
+}
+
+QString scanValueText(const OptionalNumber &v, const QString &unit)
+{
+    if (!v)
+        return QStringLiteral("—");
+    if (unit == QStringLiteral("°") || unit == QStringLiteral("dB") || unit == QStringLiteral("%"))
+        return QString::number(*v, 'f', 1) + (unit == QStringLiteral("°") ? "" : " ") + unit;
+    return toQString(formatEngineering(*v, 3, toStdString(unit)));
 }
 
 ScanRunner::ScanRunner(QObject *parent) : QObject(parent), m_run(new BackgroundRun(this))

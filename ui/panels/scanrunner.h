@@ -34,6 +34,10 @@ struct ScanMetricInfo
 };
 /// The metrics in the order of the CSV columns.
 const std::vector<ScanMetricInfo> &scanMetricInfos();
+/// The metric's unit as shown: the gain unit for gain, the output's for noise.
+QString scanMetricUnit(const ScanMetricInfo &m, const QString &gainUnit);
+/// A metric's value as shown ("75.8°", "52.0 dB", "92 kHz"), "—" where it does not exist.
+QString scanValueText(const OptionalNumber &v, const QString &unit);
 
 class ScanRunner : public QObject
 {

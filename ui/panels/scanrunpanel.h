@@ -22,6 +22,7 @@ class QPushButton;
 namespace loopsketch::ui {
 
 class DesignDocument;
+class FlowLayout;
 
 class ScanRunPanel : public QWidget
 {
@@ -54,9 +55,14 @@ protected:
     /// metric choice (phase margin first), the run button `runLabel`, cancel, progress,
     /// status and hover lines; and connects them, the runner and the document.
     void makeRunControls(const QString &allSeries, const QString &runLabel);
-    /// Lays the panel out: `targets` then series, run, cancel and progress in one row;
-    /// `metricLabel`, the metric and the status below; the view; the hover line.
-    void layOut(const QList<QWidget *> &targets, const QString &metricLabel, QWidget *view);
+    /// Lays the panel out: `targets` (each QLabel kept with the field after it), the series,
+    /// `metricLabel` with the metric and the run button (or the button right after the
+    /// targets: `runAfterTargets`, where those are short), flowing onto further lines where the
+    /// dock is narrow; below, while a run goes on, its progress and cancel, and the status
+    /// (wrapped); the view; the hover line, wrapped in `hoverLines` lines kept for it, so that
+    /// the view does not jump as the text changes.
+    void layOut(const QList<QWidget *> &targets, const QString &metricLabel, QWidget *view,
+                int hoverLines, bool runAfterTargets);
     /// The series chosen, nullopt for each part's own.
     std::optional<ESeries> chosenSeries() const;
     /// The metric shown, as an index of scanMetricInfos().
@@ -84,7 +90,21 @@ protected:
     QLabel *m_status = nullptr, *m_hover = nullptr;
     std::shared_ptr<const ScanResult> m_scan;
 
+    /// The status line's text; the line takes no room while it is empty.
+    void setStatus(const QString &text);
+    bool eventFilter(QObject *watched, QEvent *event) override;
+    void resizeEvent(QResizeEvent *event) override;
+
 private:
+    /// Progress and cancel shown while a run goes on (run again starts anew: the latest wins).
+    void showRunning(bool running);
+    /// The controls' height for the panel's width (the dock does not ask for a height for a
+    /// width, as with the Readout's strip).
+    void fitControlsHeight();
+
+    QWidget *m_controls = nullptr;
+    FlowLayout *m_flow = nullptr;
+
     std::string m_pendingText, m_scanText; ///< the design text of the run started, finished
 };
 

@@ -3,6 +3,7 @@
 #include "panels/mappanel.h"
 #include "panels/nyquistpanel.h"
 #include "panels/scanpanel.h"
+#include "sketch/sketchscene.h"
 #include "sketch/sketchview.h"
 #include "support/qtadapter.h"
 #include "window/designdocument.h"
@@ -11,6 +12,8 @@
 #include <QMainWindow>
 #include <QMenu>
 #include <QScrollArea>
+
+#include <algorithm>
 
 namespace loopsketch::ui {
 
@@ -35,12 +38,20 @@ QDockWidget *dockOf(QMainWindow *window, const QString &title, const QString &na
     return dock;
 }
 
+/// Shows the panel's dock in front of its tab group; asked for from a menu, it also gets the
+/// height a chart needs (at 1280 x 800 the group above the Step panel is about 390 pixels
+/// tall: the controls and a legend leave the plot too little of it), taken from the group
+/// beside it.
 void bringForward(QWidget *panel)
 {
     for (QWidget *w = panel; w; w = w->parentWidget())
         if (auto *dock = qobject_cast<QDockWidget *>(w)) {
             dock->show();
             dock->raise();
+            auto *window = qobject_cast<QMainWindow *>(dock->parentWidget());
+            const int wanted = window ? std::min(window->height() * 3 / 5, 460) : 0;
+            if (window && !dock->isFloating() && dock->height() < wanted)
+                window->resizeDocks({dock}, {wanted}, Qt::Vertical);
             return;
         }
 }
@@ -79,16 +90,23 @@ void addStabilityActions(QMenu *designMenu, SketchView *view, QMainWindow *windo
     if (!scan || !map)
         return;
     designMenu->addSeparator();
-    QAction *scanAction = designMenu->addAction(QObject::tr("S&can a part…"), scan, [scan] {
-        bringForward(scan);
-        scan->run();
-    });
+    // The parts selected on the Sketch say what to scan or map; with none the panel asks.
+    auto *scene = qobject_cast<SketchScene *>(view->scene());
+    const auto selected = [scene] {
+        return scene ? scene->selectedPartIds() : std::vector<std::string>{};
+    };
+    QAction *scanAction
+        = designMenu->addAction(QObject::tr("S&can a part…"), scan, [scan, selected] {
+              bringForward(scan);
+              scan->scanSelectedOrAsk(selected());
+          });
     scanAction->setToolTip(QObject::tr("Every E-series value of one part: phase margin, "
                                        "bandwidth and the other metrics against it"));
-    QAction *mapAction = designMenu->addAction(QObject::tr("&Map two parts…"), map, [map] {
-        bringForward(map);
-        map->run();
-    });
+    QAction *mapAction
+        = designMenu->addAction(QObject::tr("&Map two parts…"), map, [map, selected] {
+              bringForward(map);
+              map->mapSelected(selected());
+          });
     mapAction->setToolTip(QObject::tr("A heat map over the E-series grid of two parts, the "
                                       "region that meets every spec outlined"));
     QObject::connect(view, &SketchView::scanRequested, scan, [scan](const std::string &id) {

@@ -203,12 +203,12 @@ std::vector<Complex> pointsAt(const std::vector<double> &hz)
 /// The noise analysis of `design` over the sweep (`points` its s = j 2 pi f) into `a`, or why
 /// there is none; the band figures only for a stable loop.
 void addNoise(const Design &design, NoiseOptions options, std::span<const Complex> points,
-              const std::vector<Complex> &closedLoopPoles, Analysis &a)
+              const std::vector<Complex> &closedLoopPoles, Analysis &a,
+              const Result<detail::NoiseModel> &model)
 {
     const bool rmsOnly = options.rmsOnly;
     if (!options.closedLoopBandwidthHz)
         options.closedLoopBandwidthHz = a.bandwidthHz;
-    auto model = detail::NoiseModel::build(design);
     auto noise = model ? detail::analyzeNoiseOver(*model, design, options, a.frequenciesHz, points,
                                                   &closedLoopPoles)
                        : Result<NoiseAnalysis>(model.diagnostics());
@@ -275,6 +275,17 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
 }
 
 Analysis analyzeModel(const LoopModel &model, const Design &design, const AnalysisOptions &options)
+{
+    std::optional<Result<detail::NoiseModel>> noiseModel;
+    return detail::analyzeModelWith(
+        model, design, options, [&]() -> const Result<detail::NoiseModel> & {
+            return noiseModel.emplace(detail::NoiseModel::build(design));
+        });
+}
+
+Analysis detail::analyzeModelWith(const LoopModel &model, const Design &design,
+                                  const AnalysisOptions &options,
+                                  const std::function<const Result<NoiseModel> &()> &noiseModel)
 {
     Analysis a;
     a.warnings = partLimitWarnings(design);
@@ -363,8 +374,8 @@ Analysis analyzeModel(const LoopModel &model, const Design &design, const Analys
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = detail::gainSensitivity(design, *a.exact.gain, options.solver);
-    if (options.noise)
-        addNoise(design, noiseOptionsOf(options), points, closedLoopPoles, a);
+    if (options.noise && (a.stable || !options.metricsOnly))
+        addNoise(design, noiseOptionsOf(options), points, closedLoopPoles, a, noiseModel());
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;
@@ -379,7 +390,8 @@ void addNoiseAnalysis(const Design &design, Analysis &a, const AnalysisOptions &
         closedLoopPoles.push_back(p.s);
     a.noise.reset();
     a.noiseProblem.clear();
-    addNoise(design, noiseOptionsOf(options), pointsAt(a.frequenciesHz), closedLoopPoles, a);
+    addNoise(design, noiseOptionsOf(options), pointsAt(a.frequenciesHz), closedLoopPoles, a,
+             detail::NoiseModel::build(design));
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
 }
 

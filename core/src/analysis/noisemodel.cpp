@@ -69,6 +69,7 @@ Result<NoiseModel> NoiseModel::build(const Design &design)
     }
 
     const double fourKT = 4.0 * kBoltzmann * design.temperatureK();
+    m.m_fourKT = fourKT;
     const auto add = [&](NoiseContribution c, Injection in) {
         m.m_contributions.push_back(std::move(c));
         m.m_injections.push_back(in);
@@ -87,17 +88,23 @@ Result<NoiseModel> NoiseModel::build(const Design &design)
             = owner && (owner->type == PartType::Resistor || owner->type == PartType::Load);
         add(contribution(e.name, e.part, NoiseSourceKind::Resistor,
                          whole ? std::string() : e.field),
-            {indexOf(e.a), indexOf(e.b), std::sqrt(fourKT / e.value), 0.0});
+            {indexOf(e.a), indexOf(e.b), std::sqrt(fourKT / e.value), 0.0, e.part, e.field,
+             e.value});
     }
     // Shot noise of the DC current through a current source: 2 q |i_dc|, across the source.
     if (src->type == PartType::ISource && src->number("i_dc") != 0.0) {
         add(contribution(src->id + ":shot", src->id, NoiseSourceKind::Shot),
-            {indexOf(src->node("to")), indexOf(src->node("from")),
-             shotNoiseCurrent(src->number("i_dc")), 0.0});
+            {indexOf(src->node("to")),
+             indexOf(src->node("from")),
+             shotNoiseCurrent(src->number("i_dc")),
+             0.0,
+             {},
+             {},
+             0.0});
     }
     if (gb->number("en") > 0) {
         add(contribution(enName, gb->id, NoiseSourceKind::VoltageNoise, "en"),
-            {enRow, -1, gb->number("en"), gb->number("en_corner_hz")});
+            {enRow, -1, gb->number("en"), gb->number("en_corner_hz"), {}, {}, 0.0});
     }
     if (gb->number("in") > 0) {
         for (const auto &[terminal, pin] : {std::pair{"in_p", pinP}, std::pair{"in_n", pinN}}) {
@@ -105,19 +112,27 @@ Result<NoiseModel> NoiseModel::build(const Design &design)
                 continue; // a pin on ground shorts its current noise
             add(contribution(gb->id + ":in(" + terminal + ")", gb->id,
                              NoiseSourceKind::CurrentNoise, "in", terminal),
-                {indexOf(pin), -1, gb->number("in"), gb->number("in_corner_hz")});
+                {indexOf(pin), -1, gb->number("in"), gb->number("in_corner_hz"), {}, {}, 0.0});
         }
     }
 
+    if (!m.reduce(enRow))
+        return Diagnostic{{}, {}, {}, "noise: " + m.m_problem};
+    return m;
+}
+
+bool NoiseModel::reduce(int enRow)
+{
     // One injection column per noise source, the signal source's column for the gain, and
     // a unit voltage on en's row for the noise gain; one output row. The reduced fast path
     // then gives every transfer per frequency with one small LU.
+    const DescriptorSystem &sys = m_system;
     DescriptorSystem injections = sys;
     const int n = sys.size();
-    const auto sources = static_cast<Eigen::Index>(m.m_injections.size());
+    const auto sources = static_cast<Eigen::Index>(m_injections.size());
     injections.B = Eigen::MatrixXd::Zero(n, sources + 2);
     for (Eigen::Index k = 0; k < sources; ++k) {
-        const Injection &in = m.m_injections[static_cast<std::size_t>(k)];
+        const Injection &in = m_injections[static_cast<std::size_t>(k)];
         if (in.plus >= 0)
             injections.B(in.plus, k) += 1.0;
         if (in.minus >= 0)
@@ -128,13 +143,50 @@ Result<NoiseModel> NoiseModel::build(const Design &design)
         injections.B(enRow, sources + 1) = 1.0;
     injections.L = sys.L.row(loopio::kOutput);
     auto reduced = ReducedSystem::build(injections);
-    if (!reduced)
-        return Diagnostic{{}, {}, {}, "noise: " + reduced.errorText()};
-    m.m_reduced = std::move(reduced).value();
-    m.m_gainColumn = static_cast<std::size_t>(sources);
-    m.m_enColumn = static_cast<std::size_t>(sources) + 1;
-    m.m_columns = static_cast<std::size_t>(sources) + 2;
-    return m;
+    if (!reduced) {
+        m_problem = reduced.errorText();
+        return false;
+    }
+    m_reduced = std::move(reduced).value();
+    m_enRow = enRow;
+    m_gainColumn = static_cast<std::size_t>(sources);
+    m_enColumn = static_cast<std::size_t>(sources) + 1;
+    m_columns = static_cast<std::size_t>(sources) + 2;
+    return true;
+}
+
+Result<NoiseModel> NoiseModel::rebuilt(const Design &design,
+                                       std::span<const FieldChange> changes) const
+{
+    // Each change must be one the system stamps as it is (restampable(), and stamped, as
+    // LoopModel::rebuilt() asks), and each resistance it moves must have been stamped from
+    // the value the change starts from, so that the new density is build()'s own expression
+    // of the new value.
+    bool eligible = m_reduced.has_value();
+    for (const FieldChange &c : changes) {
+        eligible = eligible && restampable(design, c) && stampsField(m_system, c);
+        for (const Injection &in : m_injections)
+            if (in.part == c.part && in.field == c.field)
+                eligible = eligible && in.ohms == c.from;
+    }
+    if (eligible) {
+        NoiseModel m; // all but the reduced system, which reduce() makes anew
+        m.m_contributions = m_contributions;
+        m.m_injections = m_injections;
+        m.m_system = m_system;
+        m.m_fourKT = m_fourKT;
+        if (restamp(m.m_system, changes)) {
+            for (Injection &in : m.m_injections)
+                for (const FieldChange &c : changes)
+                    if (in.part == c.part && in.field == c.field) {
+                        in.ohms = c.to;
+                        in.white = std::sqrt(m.m_fourKT / in.ohms);
+                    }
+            if (m.reduce(m.m_enRow))
+                return m;
+        }
+    }
+    return build(design);
 }
 
 NoiseSamples NoiseModel::evaluate(std::span<const double> hz) const

@@ -9,6 +9,7 @@
 #include "loopsketch/analysis/noise.h"
 #include "loopsketch/circuit/circuit.h"
 #include "loopsketch/circuit/reducedsystem.h"
+#include "loopsketch/circuit/restamp.h"
 
 #include <complex>
 #include <span>
@@ -34,6 +35,14 @@ class NoiseModel
 public:
     /// Builds the noise circuit of a valid design.
     static Result<NoiseModel> build(const Design &design);
+
+    /// build(`design`) for a design that differs from this model's only in the values
+    /// `changes` name (`from`: the value this model holds), as LoopModel::rebuilt(): where
+    /// every change is restampable() and each changed resistance's noise is stamped from the
+    /// field's own value, the system is re-stamped and reduced and the thermal densities
+    /// taken anew by build()'s own expression, so the numbers are build()'s; otherwise it
+    /// builds afresh. For scans, which keep one model per worker.
+    Result<NoiseModel> rebuilt(const Design &design, std::span<const FieldChange> changes) const;
 
     /// The sources in the order of NoiseSamples::psd, with their names and kinds (no
     /// densities).
@@ -65,7 +74,14 @@ private:
         int minus = -1;
         double white = 0; ///< A/sqrt(Hz) for currents, V/sqrt(Hz) for en
         double cornerHz = 0;
+        /// A resistance's thermal noise: its part, field and ohms (white = sqrt(4 k T / ohms));
+        /// empty part for the other sources.
+        std::string part, field;
+        double ohms = 0;
     };
+    /// The injection columns, the gain's and en's, on the output row, reduced: build()'s
+    /// last step, also rebuilt()'s.
+    bool reduce(int enRow);
     std::vector<NoiseContribution> m_contributions;
     std::vector<Injection> m_injections;
     DescriptorSystem m_system;
@@ -73,6 +89,9 @@ private:
     std::size_t m_gainColumn = 0;
     std::size_t m_enColumn = 0; ///< the column of en's transfer (noise gain)
     std::size_t m_columns = 0;
+    int m_enRow = -1;
+    double m_fourKT = 0; ///< 4 k T of the design's temperature
+    std::string m_problem; ///< why reduce() failed
 };
 
 } // namespace loopsketch::detail

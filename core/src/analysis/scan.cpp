@@ -7,6 +7,7 @@
 #include "loopsketch/design/designvalidation.h"
 #include "loopsketch/feedback/loopmodel.h"
 
+#include "analysis/noisesweep.h"
 #include "detail/parallel.h"
 
 #include <algorithm>
@@ -167,30 +168,59 @@ ScanMetrics scanMetricsOf(const Analysis &a, const Design &design)
 
 namespace {
 
-/// The metrics of one row: analyze() of `design` in steps, the loop model re-stamped from
-/// the worker's last one where only restampable values changed (`changes`, whose `from` is
-/// what `model` holds; both follow the row on success). The checks analyze() makes come
-/// first, as there: validation, then the work budget, which re-stamping cannot change (the
-/// circuit keeps its elements).
-ScanMetrics scanRow(const Design &design, std::optional<LoopModel> &model,
-                    std::vector<FieldChange> &changes, const AnalysisOptions &options,
-                    std::string_view file)
+/// What a worker keeps from row to row: its copy of the design, whose scanned fields each row
+/// overwrites, and the loop and noise models of the rows before, re-stamped for the next
+/// (LoopModel::rebuilt(), NoiseModel::rebuilt()), each with the values it holds (`from`).
+struct Worker
 {
+    Design design;
+    std::optional<LoopModel> model;
+    std::vector<FieldChange> changes; // `from`: the values `model` holds
+    std::optional<Result<detail::NoiseModel>> noise;
+    std::vector<FieldChange> noiseChanges; // `from`: the values `noise` holds
+};
+
+/// The worker's noise model for its design as it is now: re-stamped from the last one when
+/// that one was built, else built.
+const Result<detail::NoiseModel> &noiseModelOf(Worker &w)
+{
+    for (std::size_t k = 0; k < w.changes.size(); ++k)
+        w.noiseChanges[k].to = w.changes[k].to;
+    w.noise = w.noise && *w.noise ? (**w.noise).rebuilt(w.design, w.noiseChanges)
+                                  : detail::NoiseModel::build(w.design);
+    for (FieldChange &c : w.noiseChanges)
+        c.from = c.to;
+    return *w.noise;
+}
+
+/// The metrics of one row: analyze() of the worker's design in steps, the loop model
+/// re-stamped from the worker's last one where only restampable values changed (`changes`,
+/// whose `from` is what the model holds; both follow the row on success), and likewise the
+/// noise model when the row needs one. The checks analyze() makes come first, as there:
+/// validation, then the work budget, which re-stamping cannot change (the circuit keeps its
+/// elements).
+ScanMetrics scanRow(Worker &w, const AnalysisOptions &options, std::string_view file)
+{
+    const Design &design = w.design;
+    std::optional<LoopModel> &model = w.model;
     ScanMetrics m;
-    const bool restamp = model && std::all_of(changes.begin(), changes.end(), [&](auto &c) {
+    const bool restamp = model && std::all_of(w.changes.begin(), w.changes.end(), [&](auto &c) {
                              return restampable(design, c);
                          });
     Diagnostics problems = validateDesign(design, file);
     if (problems.empty() && !restamp)
         problems = checkAnalysisBudget(design, file, options.sensitivity);
     if (problems.empty()) {
-        auto built = restamp ? model->rebuilt(design, changes)
+        auto built = restamp ? model->rebuilt(design, w.changes)
                              : LoopModel::build(design, options.solver, LoopModelScope::Metrics);
         if (built) {
             model = std::move(built).value();
-            for (FieldChange &c : changes)
+            for (FieldChange &c : w.changes)
                 c.from = c.to;
-            return scanMetricsOf(analyzeModel(*model, design, options), design);
+            return scanMetricsOf(
+                detail::analyzeModelWith(
+                    *model, design, options, [&w]() -> const auto & { return noiseModelOf(w); }),
+                design);
         }
         problems = built.diagnostics();
     }
@@ -250,19 +280,13 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
         if (axes.size() == 2)
             result.rows[i].values.push_back(axes[1].values[i % inner]);
     }
-    // One copy of the design per worker, its scanned fields overwritten for each row, and the
-    // loop model of its last row, re-stamped for the next (LoopModel::rebuilt()).
-    struct Worker
-    {
-        Design design;
-        std::optional<LoopModel> model;
-        std::vector<FieldChange> changes; // `from`: the values `model` holds
-    };
     const int workers = detail::workerCount(options.threads, count);
-    std::vector<Worker> state(static_cast<std::size_t>(workers), Worker{design, {}, {}});
+    std::vector<Worker> state(static_cast<std::size_t>(workers), Worker{design, {}, {}, {}, {}});
     for (Worker &w : state)
-        for (const ScanAxis &axis : axes)
+        for (const ScanAxis &axis : axes) {
             w.changes.push_back({axis.part, axis.field, 0.0, 0.0});
+            w.noiseChanges.push_back(w.changes.back());
+        }
     AnalysisOptions analysisOptions;
     analysisOptions.sensitivity = false;
     analysisOptions.allCurves = false;
@@ -275,7 +299,7 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
                 = Value{row.values[k], formatEngineering(row.values[k], 3)};
             w.changes[k].to = row.values[k];
         }
-        row.metrics = scanRow(w.design, w.model, w.changes, analysisOptions, file);
+        row.metrics = scanRow(w, analysisOptions, file);
         row.done = true;
     };
     result.completed
