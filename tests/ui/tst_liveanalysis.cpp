@@ -215,12 +215,15 @@ TEST_F(LiveAnalysis, HiddenPanelCatchesUpWhenShown)
 // Readout's noise reading is that of the current design once the run is over. Raising the dock
 // fills the Noise panel with core's densities for the current design: analyze() to 1e-12 (the
 // reference is core's full analysis, whose noise noise_test.cpp checks against textbook
-// values). From then on one run computes everything. The demo (about 1 ms) never splits its run.
+// values). From then on one run computes everything. The demo (about 1 ms) keeps its run
+// whole unless the machine's load stretched its last run past the 4 ms the rule splits at.
 TEST_F(LiveAnalysis, NoiseFollowsTheMainCurvesWhileItsDockIsHidden)
 {
+    const double demoMs = doc()->lastFullAnalysisMs();
     ASSERT_TRUE(doc()->stepPart("RF", 1, false));
     ASSERT_TRUE(doc()->waitForAnalysis());
-    EXPECT_FALSE(doc()->lastRunDeferredNoise()) << "the demo's run was split";
+    EXPECT_EQ(doc()->lastRunDeferredNoise(), demoMs > 4.0)
+        << "the demo's last run took " << demoMs << " ms";
     QString error;
     ASSERT_TRUE(
         window->openText(loopsketch::test::rcLadderText(), QStringLiteral("ladder"), &error))

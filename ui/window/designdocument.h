@@ -76,6 +76,9 @@ public:
     /// Whether the result shown was made with the noise in one run (false: it followed, or
     /// the run had no noise to compute because it failed). For tests.
     bool lastRunDeferredNoise() const { return m_lastRunDeferredNoise; }
+    /// How long the last full analysis took (ms, wall clock): the figure the coarse sweep and
+    /// the deferred noise are decided on. For tests.
+    double lastFullAnalysisMs() const { return m_lastFullMs; }
     /// True when the views show the coarse sweep of a burst (the full one follows).
     bool isShownCoarse() const { return m_shownCoarse; }
     /// Runs the event loop until the full result for the design as it is now has been
