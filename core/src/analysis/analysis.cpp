@@ -9,6 +9,7 @@
 #include "loopsketch/design/designvalidation.h"
 #include "loopsketch/design/partlimits.h"
 
+#include "analysis/analyzemodelwith.h"
 #include "analysis/noisefigures.h"
 #include "analysis/noisesweep.h"
 #include "analysis/sensitivity.h"

@@ -6,10 +6,7 @@
 #include "analysis/noisemodel.h"
 #include "loopsketch/analysis/noise.h"
 
-#include "loopsketch/analysis/analysis.h"
-
 #include <complex>
-#include <functional>
 #include <span>
 #include <vector>
 
@@ -25,14 +22,5 @@ analyzeNoiseOver(const NoiseModel &model, const Design &design, const NoiseOptio
                  const std::vector<double> &frequenciesHz,
                  std::span<const std::complex<double>> points,
                  const std::vector<std::complex<double>> *naturalFrequencies = nullptr);
-
-/// analyzeModel() with the noise model from `noiseModel` (NoiseModel::build() of `design`, or
-/// a model rebuilt() for it), which is called only when the noise is computed: under
-/// `options.metricsOnly` not for a loop that is not known stable, whose noise rms does not
-/// exist (nor its SNR, nor a spec verdict that reads them). For scans, which keep one noise
-/// model per worker.
-Analysis analyzeModelWith(const LoopModel &model, const Design &design,
-                          const AnalysisOptions &options,
-                          const std::function<const Result<NoiseModel> &()> &noiseModel);
 
 } // namespace loopsketch::detail

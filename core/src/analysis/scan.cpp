@@ -7,7 +7,7 @@
 #include "loopsketch/design/designvalidation.h"
 #include "loopsketch/feedback/loopmodel.h"
 
-#include "analysis/noisesweep.h"
+#include "analysis/analyzemodelwith.h"
 #include "detail/parallel.h"
 
 #include <algorithm>
