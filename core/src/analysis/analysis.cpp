@@ -303,6 +303,9 @@ Analysis detail::analyzeModelWith(const LoopModel &model, const Design &design,
 
     LoopCurves &c = a.curves;
     const std::vector<Complex> points = pointsAt(a.frequenciesHz);
+    // A doubtful point of these sweeps that even the careful solve cannot assure warns; only
+    // the points shown count (not summariseDc()'s evaluations far below the sweep).
+    model.forgetUnassuredPoints();
     if (options.metricsOnly) {
         // The two curves the metrics read, each the same values as in the full sweep.
         c.gainExact = model.gainOver(points);
@@ -310,6 +313,8 @@ Analysis detail::analyzeModelWith(const LoopModel &model, const Design &design,
     } else {
         c = options.allCurves ? model.sweep(points) : model.sweepLoop(points);
     }
+    for (Diagnostic &w : model.unassuredPointWarnings())
+        a.warnings.push_back(std::move(w));
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
     if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())

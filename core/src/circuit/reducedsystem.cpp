@@ -23,6 +23,35 @@ namespace loopsketch {
 
 namespace {
 
+/// The warning of an entry whose careful solve cannot assure the tolerance: `quantity` at
+/// s may be off by `relative` (of its value, or of the level below which it counts as
+/// zero), naming the user's part and field with the largest share of the bound.
+Diagnostic accuracyWarning(const DescriptorSystem &system, const std::string &quantity,
+                           std::complex<double> s, double relative, bool belowFloor,
+                           const std::vector<double> &shares)
+{
+    int top = -1;
+    for (std::size_t o = 0; o < shares.size(); ++o)
+        if (!system.origins[o].part.empty()
+            && (top < 0 || shares[o] > shares[static_cast<std::size_t>(top)]))
+            top = static_cast<int>(o);
+    const double hz = std::abs(s) / (2.0 * std::numbers::pi);
+    std::ostringstream bound;
+    bound.precision(2);
+    bound << relative;
+    Diagnostic d;
+    if (top >= 0) {
+        d.part = system.origins[static_cast<std::size_t>(top)].part;
+        d.field = system.origins[static_cast<std::size_t>(top)].field;
+    }
+    d.message = "accuracy cannot be assured: " + quantity + " at "
+        + (hz == 0.0 ? std::string("DC") : formatEngineering(hz, 3, "Hz")) + " may be off by "
+        + bound.str()
+        + (belowFloor ? " of the level below which it counts as zero" : " of its value")
+        + " (rounding in the circuit equations, largest share from this value)";
+    return d;
+}
+
 constexpr double kRankThreshold = 1e-12;
 constexpr double kMinReciprocalCondition
     = 1e-30; // see circuit.cpp: loops reject only exact singularity
@@ -305,18 +334,29 @@ std::span<std::uint8_t> ReducedSystem::checkedPoints(std::span<std::uint8_t> dou
 }
 
 void ReducedSystem::solveFullInto(std::complex<double> s, std::span<const int> inputs,
-                                  std::span<const int> outputs, Eigen::MatrixXcd &h) const
+                                  std::span<const int> outputs, Eigen::MatrixXcd &h,
+                                  bool assure) const
 {
     using cd = std::complex<double>;
     const cd nan(std::numeric_limits<double>::quiet_NaN(),
                  std::numeric_limits<double>::quiet_NaN());
     detail::RefinedSolver solver(*m_system);
     const bool regular = solver.factor(s);
+    std::vector<double> shares;
     for (int c : inputs) {
-        const Eigen::VectorXcd x = regular ? solver.solve(c) : Eigen::VectorXcd();
+        Eigen::VectorXcd residual;
+        const Eigen::VectorXcd x = regular ? solver.solve(c, &residual) : Eigen::VectorXcd();
         for (int o : outputs) {
             const cd v = regular ? solver.output(o, x) : nan;
-            h(o, c) = std::isfinite(v.real()) && std::isfinite(v.imag()) ? v : nan;
+            const bool finite = std::isfinite(v.real()) && std::isfinite(v.imag());
+            h(o, c) = finite ? v : nan;
+            if (!assure || !finite || structuralZero(o, c))
+                continue;
+            const double scale = std::max(std::abs(v), m_checkFloor);
+            if (!(scale > 0))
+                continue; // no relative accuracy to assure
+            const double relative = solver.errorBound(o, c, x, residual, &shares) / scale;
+            recordUnassured({relative, {o, c}, s, std::abs(v) < m_checkFloor, shares});
         }
     }
 }
@@ -389,7 +429,7 @@ void ReducedSystem::resolveDoubtful(std::span<const std::complex<double>> s,
     for (std::size_t i = 0; i < s.size(); ++i) {
         if (!doubtful[i])
             continue;
-        solveFullInto(s[i], inputs, outputs, h);
+        solveFullInto(s[i], inputs, outputs, h, true);
         for (std::size_t e = 0; e < entries.size(); ++e)
             out[e * s.size() + i] = h(entries[e].output, entries[e].input);
     }
@@ -486,30 +526,42 @@ AccuracyCheck ReducedSystem::checkAccuracy(std::span<const std::complex<double>>
         m_refined = true;
         check.refined = true;
     }
-    if (worst.relative > tolerance) {
-        // Name the user's part and field with the largest share of the bound.
-        int top = -1;
-        for (std::size_t o = 0; o < worst.shares.size(); ++o)
-            if (!m_system->origins[o].part.empty()
-                && (top < 0 || worst.shares[o] > worst.shares[static_cast<std::size_t>(top)]))
-                top = static_cast<int>(o);
-        const double hz = std::abs(worst.s) / (2.0 * std::numbers::pi);
-        std::ostringstream bound;
-        bound.precision(2);
-        bound << worst.relative;
-        Diagnostic d;
-        if (top >= 0) {
-            d.part = m_system->origins[static_cast<std::size_t>(top)].part;
-            d.field = m_system->origins[static_cast<std::size_t>(top)].field;
-        }
-        d.message = "accuracy cannot be assured: " + entries[worst.entry].quantity + " at "
-            + (hz == 0.0 ? std::string("DC") : formatEngineering(hz, 3, "Hz")) + " may be off by "
-            + bound.str()
-            + (worst.belowFloor ? " of the level below which it counts as zero" : " of its value")
-            + " (rounding in the circuit equations, largest share from this value)";
-        check.warnings.push_back(d);
-    }
+    m_probesWarned = worst.relative > tolerance;
+    if (m_probesWarned)
+        check.warnings.push_back(accuracyWarning(*m_system, entries[worst.entry].quantity, worst.s,
+                                                 worst.relative, worst.belowFloor, worst.shares));
     return check;
+}
+
+void ReducedSystem::recordUnassured(UnassuredPoint point) const
+{
+    for (UnassuredPoint &p : m_unassured)
+        if (p.entry.output == point.entry.output && p.entry.input == point.entry.input) {
+            if (point.relative > p.relative)
+                p = std::move(point);
+            return;
+        }
+    m_unassured.push_back(std::move(point));
+}
+
+std::optional<Diagnostic>
+ReducedSystem::unassuredPointWarning(std::span<const CheckedEntry> entries, double tolerance) const
+{
+    if (m_probesWarned)
+        return std::nullopt; // the probes' warning names the quantity already
+    const UnassuredPoint *worst = nullptr;
+    const CheckedEntry *named = nullptr;
+    for (const CheckedEntry &e : entries)
+        for (const UnassuredPoint &p : m_unassured)
+            if (e.warns && p.entry.output == e.entry.output && p.entry.input == e.entry.input
+                && p.relative > tolerance && (!worst || p.relative > worst->relative)) {
+                worst = &p;
+                named = &e;
+            }
+    if (!worst)
+        return std::nullopt;
+    return accuracyWarning(*m_system, named->quantity, worst->s, worst->relative, worst->belowFloor,
+                           worst->shares);
 }
 
 Result<std::vector<double>> ReducedSystem::stepResponse(int output, int input,

@@ -29,6 +29,24 @@ double smallestResistance(const Design &design)
     return std::isfinite(smallest) ? smallest : 0.0;
 }
 
+// The entries shown as they are, each with the quantity its warnings name.
+CheckedEntry gainEntry()
+{
+    return {{loopio::kOutput, loopio::kSource}, "the gain"};
+}
+CheckedEntry zInEntry(double zeroLevel)
+{
+    return {{loopio::kInputVoltage, loopio::kInputPort}, "z_in", true, zeroLevel};
+}
+CheckedEntry zOutEntry(double zeroLevel)
+{
+    return {{loopio::kLoadVoltage, loopio::kLoadPort}, "z_out", true, zeroLevel};
+}
+CheckedEntry loopGainEntry()
+{
+    return {{loopio::kReturned, loopio::kTest}, "the loop gain"};
+}
+
 } // namespace
 
 std::vector<Complex> LoopModel::accuracyProbes(const Design &design)
@@ -80,16 +98,16 @@ void LoopModel::checkAccuracy(const Design &design)
         if (*impedance)
             (*impedance)->checkEveryPoint(zeroLevel);
     using namespace loopio;
-    run(m_full, {{{kOutput, kSource}, "the gain"}});
-    run(m_input, {{{kInputVoltage, kInputPort}, "z_in", true, zeroLevel}});
-    run(m_output, {{{kLoadVoltage, kLoadPort}, "z_out", true, zeroLevel}});
+    run(m_full, {gainEntry()});
+    run(m_input, {zInEntry(zeroLevel)});
+    run(m_output, {zOutEntry(zeroLevel)});
     // The return ratio's gain and impedances are combined from several entries (sweep(),
     // blackman()): each is checked against the careful solve, so a fast path that misses
     // any of them hands the system to the careful solve; only the loop gain, a quantity of
     // its own, warns. (The impedance with the gain at zero is an exact zero behind an ideal
     // output, whose rounding has no relative accuracy to assure.)
     run(m_rrFull,
-        {{{kReturned, kTest}, "the loop gain"},
+        {loopGainEntry(),
          {{kOutput, kSource}, "the feedthrough", false},
          {{kOutput, kTest}, "the loop gain", false},
          {{kReturned, kSource}, "the loop gain", false}});
@@ -103,6 +121,29 @@ void LoopModel::checkAccuracy(const Design &design)
          {{kReturned, kTest}, "z_out", false},
          {{kReturned, kLoadPort}, "z_out", false},
          {{kLoadVoltage, kTest}, "z_out", false}});
+}
+
+Diagnostics LoopModel::unassuredPointWarnings() const
+{
+    Diagnostics out;
+    const auto add = [&](const std::optional<ReducedSystem> &system, const CheckedEntry &entry) {
+        if (system)
+            if (std::optional<Diagnostic> w
+                = system->unassuredPointWarning({&entry, 1}, kAssuredRelativeError))
+                out.push_back(std::move(*w));
+    };
+    add(m_full, gainEntry());
+    add(m_input, zInEntry(0.0));
+    add(m_output, zOutEntry(0.0));
+    add(m_rrFull, loopGainEntry());
+    return out;
+}
+
+void LoopModel::forgetUnassuredPoints() const
+{
+    for (const std::optional<ReducedSystem> *system : {&m_full, &m_input, &m_output, &m_rrFull})
+        if (*system)
+            (*system)->forgetUnassuredPoints();
 }
 
 void LoopModel::checkEstimateAccuracy(const Design &design, const EstimateSystems &systems)

@@ -214,6 +214,18 @@ public:
         m_checkFloor = floor;
     }
 
+    /// With checkEveryPoint(), the sweeps record, per entry, the worst point the per-point
+    /// estimate found doubtful and that even the full system's careful solve could not assure
+    /// (its own bound, as checkAccuracy() reads it at its probes). forgetUnassuredPoints()
+    /// empties the record, so that only the sweeps of what the outputs show count (not an
+    /// evaluation far below the sweep that only tells an open port from a closed one).
+    void forgetUnassuredPoints() const { m_unassured.clear(); }
+    /// A warning for the worst recorded point of the `entries` that warn, beyond `tolerance`,
+    /// naming its quantity and frequency and the part and field whose rounding dominates;
+    /// std::nullopt otherwise, and where checkAccuracy() has warned already.
+    std::optional<Diagnostic> unassuredPointWarning(std::span<const CheckedEntry> entries,
+                                                    double tolerance = 1e-8) const;
+
     /// True when the system solves the full matrix with refinement (see checkAccuracy()).
     bool refined() const { return m_refined; }
 
@@ -238,9 +250,12 @@ private:
     /// empty (no estimate asked of the sweep kernel).
     std::span<std::uint8_t> checkedPoints(std::span<std::uint8_t> doubtful) const;
     /// The full system solved carefully at s (RefinedSolver), for the inputs and outputs
-    /// asked for; NaN where it is singular or a value is not finite.
+    /// asked for; NaN where it is singular or a value is not finite. With `assure` (a point
+    /// of a sweep that the per-point estimate found doubtful), each value's own error bound
+    /// is taken and recorded (recordUnassured()).
     void solveFullInto(std::complex<double> s, std::span<const int> inputs,
-                       std::span<const int> outputs, Eigen::MatrixXcd &h) const;
+                       std::span<const int> outputs, Eigen::MatrixXcd &h,
+                       bool assure = false) const;
     /// The points the sweep kernel found doubtful, solved again from the full system.
     void resolveDoubtful(std::span<const std::complex<double>> s,
                          std::span<const TransferEntry> entries,
@@ -255,6 +270,22 @@ private:
     std::vector<std::string> m_unknowns; ///< names of the kept unknowns
     SolverPath m_path = SolverPath::Reduced;
     std::shared_ptr<const DescriptorSystem> m_system; ///< the full system, for checks
+    /// The worst bound of a doubtful point of one entry solved again from the full system
+    /// (relative to the value, or to the floor below it), with what a warning names.
+    struct UnassuredPoint
+    {
+        double relative = 0;
+        TransferEntry entry;
+        std::complex<double> s;
+        bool belowFloor = false;
+        std::vector<double> shares; ///< per origin of the full system
+    };
+    /// Sweeps are const; the record of their doubtful points is not (one system is swept by
+    /// one thread at a time: each worker of a scan or a spread has its own model).
+    mutable std::vector<UnassuredPoint> m_unassured;
+    /// Keeps `point` when it is its entry's worst so far.
+    void recordUnassured(UnassuredPoint point) const;
+    bool m_probesWarned = false; ///< checkAccuracy() gave a warning
     bool m_checkEveryPoint = false; ///< see checkEveryPoint()
     double m_checkFloor = 0.0; ///< see checkEveryPoint()
     /// outputs x inputs (row-major), true where the entry is zero for every value of the

@@ -156,6 +156,13 @@ public:
     /// solution and the return ratio, each naming a part and field. Empty for ordinary
     /// designs.
     const Diagnostics &warnings() const { return m_warnings; }
+    /// Warnings of the sweeps since forgetUnassuredPoints(): a point of the exact gain, z_in,
+    /// z_out or the loop gain that the per-point estimate sent to the full system and that
+    /// even its careful solve could not assure to kAssuredRelativeError
+    /// (ReducedSystem::unassuredPointWarning()). The analysis brackets the sweep of the
+    /// points it shows with the two.
+    Diagnostics unassuredPointWarnings() const;
+    void forgetUnassuredPoints() const;
     /// The largest relative error bound those checks found (a measure for tests).
     double worstRelativeError() const { return m_worstRelativeError; }
     /// How many of the checked systems missed the careful solve and now use it throughout.
