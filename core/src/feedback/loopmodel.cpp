@@ -232,8 +232,14 @@ void LoopModel::buildTwoPort(const Design &design, SolverPath path)
         // With the legs at the input counted on the source's side, an input with an ideal
         // r_in and no c_in has nothing left on it but the test source: it draws no current.
         sys->inputDrawsNoCurrent = onlyTestSourceAt(n, t.sourceInput);
-        if (!sys->inputDrawsNoCurrent)
-            sys->aSeriesInput = optionalOf(reduce(n));
+        if (!sys->inputDrawsNoCurrent) {
+            // Nor does an input whose side, with the source removed, has no solution at any
+            // frequency (a subnetwork with no path back to ground, fuzz seed 7191): its Z
+            // is infinite at every frequency, not unknown.
+            auto input = reduce(n);
+            sys->inputDrawsNoCurrent = !input;
+            sys->aSeriesInput = optionalOf(std::move(input));
+        }
     }
     if (t.sampling == Connection::Series) {
         LoopCircuitOptions so;
@@ -487,8 +493,7 @@ void LoopModel::sweepTwoPort(std::span<const Complex> s, LoopCurves &c) const
     const auto aEntry = [&](std::size_t e, std::size_t i) {
         return aCurves[e * n + i];
     };
-    // NaN (marking the estimate missing) when the input's system has no solution, unused
-    // when the input draws no current.
+    // Unused when the input draws no current.
     const Curve zq = seriesMix && x.aSeriesInput ? entryCurve(*x.aSeriesInput, s, 0, 0)
                                                  : nanCurve(seriesMix ? n : 0);
     const Curve zRest = seriesSample && x.aSeriesOutput
