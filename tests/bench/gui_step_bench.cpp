@@ -7,29 +7,30 @@
 //
 // Measured 2026-12-03 on this 2-core machine shared with other sessions (load average 8-15
 // throughout, so wall-clock figures are stretched several times; CPU figures are the UI
-// thread's own), main 534d785 (before) against the branch with the straight-run thinning,
-// the Nyquist rings kept, and panels updated in 5 ms slices across event-loop turns (after), 3
-// runs each. The slicing was not merged: issue 15 asks for a result applied to every panel at
-// once, and slices showed panels a result apart for a frame or two; the ladder's after figure
-// below counts on it, the one-panel figures do not.
-// - Demo wheel step (runs interleaved), UI thread CPU (median_ui_cpu_ms), load 9: default
-// docks 19.0-22.5 ms
-//   before, 13.6-16.2 after; Noise dock raised 20.2-24.5 before, 15.3-18.6 after. Step to
-//   repainted (median_step_ms, wall): 59-72 ms before, 42-55 after (target 8 ms: missed,
-//   mostly the load: see the idle gaps below).
-// - One panel's update (BM_UpdateOnePanel, CPU ms, two runs each at load 10-15, before ->
-//   after): Loop gain 6.9-9.7 -> 0.9-4.2, Impedance 2.9-3.4 -> 0.3-1.6, Desensitivity
-//   0.6-0.8 -> 0.1-0.4, Step 0.24-0.35 -> 0.06-0.07, Poles 1.3-1.8 -> 0.4-1.4, Noise 3.9-5.0
-//   -> 0.6-2.3, Nyquist 12.3-16.3 -> 11.2-12.7 (its curve and mirror, 901 points each, are
-//   drawn whole).
+// thread's own). The figures of the earlier rounds (straight-run thinning, Nyquist rings
+// kept; panel updates sliced across event-loop turns, not merged because issue 15 asks for a
+// result applied to every panel at once) are in this file's history.
+//
+// Latest round: main 19387b8 (before) against the branch that clears the UI thread's dirty
+// AVX upper state (support/vectorstate.h) and thins the Nyquist curve in the plane (after),
+// the two binaries run back to back, 2 s per benchmark.
+// - Demo wheel step, UI thread CPU (median_ui_cpu_ms), load 10.1-10.4: default docks
+//   16.1 / 19.8 ms before, 13.0 / 9.9 after; Noise dock raised 14.8 / 20.6 before, 10.7 / 8.4
+//   after. Step to repainted (median_step_ms, wall): 40.8 / 51.5 -> 35.4 / 25.1 ms, Noise
+//   raised 21.0 / 40.9 -> 14.3 / 11.4 ms (target 8 ms: missed; under this load the wall
+//   clock is not the UI thread's alone, see idle_stall_ms below).
+// - One panel's update (BM_UpdateOnePanel, CPU ms, load 11-12, before -> after): Loop gain
+//   5.33 -> 1.16, Impedance 2.05 -> 0.44, Desensitivity 0.40 -> 0.07, Step 0.12 -> 0.08,
+//   Poles 1.49 -> 0.68, Noise 2.73 -> 0.72, Nyquist 12.6 -> 0.31 (its axes no longer move
+//   with every change of |T|, so its rings are not laid out again, and its 901-point curve
+//   and mirror are drawn at a quarter pixel).
 // - Ladder burst: the most UI-thread CPU between two 1 ms ticks (longest_stall_cpu_ms)
-//   18.9-19.6 ms before (load 9.3), 10.2-14.1 after (load 8.3-15.9); the wall-clock longest
-//   stall 37-78 ms before and 39-78 after, where an idle 1 ms timer alone shows gaps of
-//   15-84 ms at this load.
-// What remains on the UI thread per demo step: painting the panels (QChartView repaint,
-// 0.4-2.7 ms CPU each, BM_RepaintOneWidget before the change), the Loop gain panel's curve
-// conversions (log10, atan2 of 901 points per curve) and Qt Charts' hover-shape stroking of each
-// replaced series.
+//   17.9 / 21.5 / 21.5 / 22.0 ms before, 15.4 / 10.5 / 13.0 / 9.2 after (load 9.5-10.4);
+//   wall-clock longest stall 49 / 99 / 70 / 75 ms before, 44 / 47 / 50 / 29 ms after, where
+//   the idle 1 ms timer alone shows gaps of 9-59 ms at this load.
+// What remains on the UI thread per step: painting (BM_RepaintOneWidget, CPU ms after: Loop
+// gain 1.1, Impedance 0.9, Desensitivity 0.5, Step 0.5, Poles 0.3, Noise 1.3, Nyquist 1.1,
+// Sketch 0.9, Readout 0.3), the Readout's label and layout updates, and text shaping.
 
 #include "panels/noisepanel.h"
 #include "panels/plotpanel.h"

@@ -410,7 +410,7 @@ TEST(ColumnThinning, StraightRunsShrinkWithinAQuarterPixel)
 // every curve panel each curve with more points than the plot has pixel columns is drawn with
 // at most two points per pixel column, and its highest and lowest points are among those drawn
 // (the curve's peak and the step response's overshoot exact on screen). Common practice, as
-// above. (The Nyquist plane's curve is not a function of x and is drawn whole.)
+// above. (The Nyquist plane's curve is not a function of x and is thinned otherwise.)
 TEST_F(PlotViewTest, DenseCurvesAreDrawnWithinTwoPointsPerPixelColumnKeepingTheirExtremes)
 {
     Design design = loadDesign(LOOPSKETCH_DESIGNS_DIR "/demo.loopsketch").value();

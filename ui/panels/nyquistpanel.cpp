@@ -1,5 +1,6 @@
 #include "panels/nyquistpanel.h"
 
+#include "support/columnthinning.h"
 #include "support/qtadapter.h"
 
 #include "loopsketch/base/value.h"
@@ -22,6 +23,11 @@ constexpr int kMostLabels = 6;
 /// Radius per decade of |T| beyond the unit circle: half the unit circle's, so a loop gain of
 /// 1e5 sits at 3.5 and the unit circle keeps more than a quarter of the plot.
 constexpr double kRingStep = 0.5;
+/// The plot's reach moves in these steps, so a small change of |T| leaves the axes alone:
+/// every range change lays every series of the chart out again (milliseconds: the rings).
+constexpr double kReachStep = kRingStep / 2;
+/// How far (in pixels) the curve drawn may lie from the line through every sweep point.
+constexpr double kCurveTolerancePixels = 0.25;
 
 /// A circle of radius r as chart points (closed).
 QList<QPointF> circle(double r, int points = 180)
@@ -91,9 +97,9 @@ void NyquistPanel::showAnalysis(const Analysis &a)
         mirror.append(QPointF(p.x(), -p.y()));
         reach = std::max(reach, std::hypot(p.x(), p.y()));
     }
-    m_reach = reach;
-    m_curve->replace(curve);
-    m_mirror->replace(mirror);
+    m_reach = std::ceil(reach / kReachStep - 1e-9) * kReachStep;
+    m_fullCurve = std::move(curve);
+    m_fullMirror = std::move(mirror);
     QList<QPointF> rings;
     // One line through all rings: each joins the next along the positive real axis.
     for (double r = 1 + kRingStep; r <= reach + 1e-9; r += kRingStep)
@@ -146,6 +152,21 @@ void NyquistPanel::showAnalysis(const Analysis &a)
     }
     setTitle(m_encirclementText);
     fitHome();
+    drawCurves();
+}
+
+void NyquistPanel::drawCurves()
+{
+    const QRectF plot = chart()->plotArea();
+    const auto [xLo, xHi] = axisRange(m_x);
+    const auto [yLo, yHi] = axisRange(m_y);
+    for (auto [series, full] : {std::pair{m_curve, &m_fullCurve}, {m_mirror, &m_fullMirror}}) {
+        // Not laid out yet (a scale not positive): dropStraightRuns() keeps every point.
+        const QList<QPointF> drawn = dropStraightRuns(
+            *full, (xHi - xLo) / plot.width(), (yHi - yLo) / plot.height(), kCurveTolerancePixels);
+        if (!samePoints(series->points(), drawn))
+            series->replace(drawn);
+    }
 }
 
 QStringList NyquistPanel::frequencyLabels() const
@@ -166,6 +187,7 @@ void NyquistPanel::fitHome()
 void NyquistPanel::plotGeometryChanged()
 {
     fitHome();
+    drawCurves();
 }
 
 } // namespace loopsketch::ui

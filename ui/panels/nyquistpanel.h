@@ -37,12 +37,17 @@ protected:
 
 private:
     void fitHome();
+    /// Draws the curve and its mirror without the points a quarter pixel off the line through
+    /// their neighbours at the plot's present scale; a series whose drawn points are the same
+    /// keeps its drawing.
+    void drawCurves();
 
     QValueAxis *m_x, *m_y;
     QLineSeries *m_curve, *m_mirror, *m_unitCircle, *m_rings;
     QScatterSeries *m_minusOne, *m_phaseMargin, *m_gainMargin;
     std::vector<QScatterSeries *> m_labels;
     double m_reach = 2;
+    QList<QPointF> m_fullCurve, m_fullMirror; ///< every finite sweep point, as plotted
     QString m_encirclementText;
 };
 

@@ -2,6 +2,7 @@
 
 #include "support/columnthinning.h"
 #include "support/qtadapter.h"
+#include "support/vectorstate.h"
 
 #include "loopsketch/base/value.h"
 
@@ -246,6 +247,14 @@ void PlotPanel::resizeEvent(QResizeEvent *event)
     placeSummary();
     if (!m_overlaySeries.empty())
         placeLegend();
+}
+
+void PlotPanel::paintEvent(QPaintEvent *event)
+{
+    // Stroking and dashing the curves call libm for every segment: with the vector registers
+    // left dirty by the widget painted before, that costs several times more.
+    clearUpperVectorState();
+    QChartView::paintEvent(event);
 }
 
 void PlotPanel::plotAreaChanged()

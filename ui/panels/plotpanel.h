@@ -186,6 +186,7 @@ protected:
     void mouseDoubleClickEvent(QMouseEvent *event) override;
     void wheelEvent(QWheelEvent *event) override;
     void leaveEvent(QEvent *event) override;
+    void paintEvent(QPaintEvent *event) override;
     /// Sets a series' name, keeping the lookup table in step.
     void rename(QXYSeries *series, const QString &name);
 

@@ -14,6 +14,7 @@
 #include "sketch/sketchscene.h"
 #include "sketch/sketchview.h"
 #include "support/qtadapter.h"
+#include "support/vectorstate.h"
 #include "window/designdocument.h"
 #include "window/exportactions.h"
 #include "window/partclipboard.h"
@@ -47,6 +48,10 @@ MainWindow::MainWindow(QWidget *parent)
       m_inspector(new Inspector(m_document, this)), m_palette(new PartsPalette(this)),
       m_timing(new QLabel(this)), m_diagnostics(new QLabel(this))
 {
+    // One hook per thread's event loop (support/vectorstate.h: what dirty vector registers
+    // cost the UI thread).
+    static const bool hooked = (clearUpperVectorStateOnEveryWake(), true);
+    (void)hooked;
     setObjectName(QStringLiteral("MainWindow"));
     setCentralWidget(m_view);
     m_view->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
@@ -307,6 +312,8 @@ void MainWindow::showAnalysis(const Analysis &analysis)
             continue;
         }
         m_panelsBehind.erase(panel);
+        // The Readout's update, or the panel before, may leave the vector registers dirty.
+        clearUpperVectorState();
         panel->showUnavailable(QString());
         panel->showAnalysis(analysis);
     }
@@ -335,6 +342,7 @@ void MainWindow::catchUpPanel(PlotPanel *panel)
     if (!m_panelsBehind.erase(panel))
         return;
     if (const Analysis *shown = m_document->shownAnalysis()) {
+        clearUpperVectorState();
         panel->showUnavailable(QString());
         panel->showAnalysis(*shown);
     }
@@ -348,6 +356,7 @@ void MainWindow::showNoise(const Analysis &analysis)
     m_readout->showNoise(analysis, m_document->design());
     if (m_noise->isVisible() && !m_noise->viewport()->visibleRegion().isEmpty()) {
         m_panelsBehind.erase(m_noise);
+        clearUpperVectorState();
         m_noise->showUnavailable(QString());
         m_noise->showAnalysis(analysis);
     } else {
