@@ -59,13 +59,15 @@ loopsketch::ScanAxis axis60(const loopsketch::Design &design, const char *target
     return axis;
 }
 
-void mapDemo60x60(benchmark::State &state)
+/// The 60 x 60 map on `threads` workers computing `metrics` (empty: every one).
+void runMap60x60(benchmark::State &state, std::vector<loopsketch::ScanMetric> metrics)
 {
     const loopsketch::Design design = demo();
     const std::vector<loopsketch::ScanAxis> axes
         = {axis60(design, "RF:100k:10M"), axis60(design, "CF:1p:100p")};
     loopsketch::ScanOptions o;
     o.threads = static_cast<int>(state.range(0));
+    o.metrics = std::move(metrics);
     for (auto _ : state) {
         auto r = loopsketch::runScan(design, axes, o);
         if (!r || r->completed != 3600)
@@ -74,7 +76,21 @@ void mapDemo60x60(benchmark::State &state)
     }
     state.counters["cells"] = 3600;
 }
+
+/// Every metric, as the command line's CSV has them.
+void mapDemo60x60(benchmark::State &state)
+{
+    runMap60x60(state, {});
+}
 BENCHMARK(mapDemo60x60)->Arg(2)->Arg(1)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+/// The phase margin alone (with the stability verdict and the spec check): what the Map
+/// panel asks for as it opens.
+void mapPhaseMargin60x60(benchmark::State &state)
+{
+    runMap60x60(state, {&loopsketch::ScanMetrics::phaseMarginDeg});
+}
+BENCHMARK(mapPhaseMargin60x60)->Arg(2)->Arg(1)->Unit(benchmark::kMillisecond)->UseRealTime();
 
 } // namespace
 
