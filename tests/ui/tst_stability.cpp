@@ -70,8 +70,12 @@ void expectColumnsOfCsv(const ScanResult &map, const std::string &cliCsv)
 {
     const auto cells = [](const std::string &line) {
         std::vector<std::string> out(1);
-        for (char ch : line)
-            ch == ',' ? out.emplace_back() : out.back().push_back(ch);
+        for (char ch : line) {
+            if (ch == ',')
+                out.emplace_back();
+            else
+                out.back().push_back(ch);
+        }
         return out;
     };
     const auto lines = [](const std::string &text) {

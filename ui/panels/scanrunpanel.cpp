@@ -228,7 +228,8 @@ QString ScanRunPanel::statusText() const
 
 std::optional<SheetScan> ScanRunPanel::sheetScan() const
 {
-    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
+    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design())
+        || !m_scan->computed(scanMetricInfos()[std::size_t(metricIndex())].member))
         return std::nullopt;
     return SheetScan{m_scan.get(), metricIndex()};
 }

@@ -39,8 +39,8 @@ public:
     void setMetric(int index);
     QString statusText() const;
     /// The latest finished run with the metric shown, when it was made for the document's
-    /// design as it is (complete, and no field changed since): what the review sheet
-    /// carries; nullopt otherwise.
+    /// design as it is (complete, and no field changed since) and computed that metric: what
+    /// the review sheet carries; nullopt otherwise.
     std::optional<SheetScan> sheetScan() const;
 
 signals:
