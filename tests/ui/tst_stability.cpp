@@ -37,6 +37,9 @@
 #include <cmath>
 #include <cstdio>
 #include <functional>
+#include <sstream>
+#include <string>
+#include <vector>
 
 using namespace loopsketch;
 using namespace loopsketch::ui;
@@ -58,6 +61,54 @@ void raise(MainWindow *window, const char *dock)
     d->show();
     d->raise();
     QApplication::processEvents();
+}
+
+/// `map` (a run that computed some metrics, ScanResult::computed()) against the command
+/// line's CSV of every metric: the same header and rows, each column the map computed (the
+/// values, stable, specs_pass) the same text, every other one empty in the map's.
+void expectColumnsOfCsv(const ScanResult &map, const std::string &cliCsv)
+{
+    const auto cells = [](const std::string &line) {
+        std::vector<std::string> out(1);
+        for (char ch : line) {
+            if (ch == ',')
+                out.emplace_back();
+            else
+                out.back().push_back(ch);
+        }
+        return out;
+    };
+    const auto lines = [](const std::string &text) {
+        std::vector<std::string> out;
+        std::istringstream in(text);
+        for (std::string line; std::getline(in, line);)
+            out.push_back(line);
+        return out;
+    };
+    const std::vector<std::string> ours = lines(scanToCsv(map)), cli = lines(cliCsv);
+    ASSERT_EQ(ours.size(), cli.size());
+    ASSERT_GT(ours.size(), 1U);
+    EXPECT_EQ(ours[0], cli[0]);
+    const std::vector<std::string> header = cells(cli[0]);
+    ASSERT_EQ(header.size(), map.axes.size() + allScanMetrics().size() + 2);
+    int compared = 0;
+    for (std::size_t r = 1; r < cli.size(); ++r) {
+        const std::vector<std::string> a = cells(ours[r]), b = cells(cli[r]);
+        ASSERT_EQ(a.size(), header.size()) << ours[r];
+        ASSERT_EQ(b.size(), header.size()) << cli[r];
+        for (std::size_t k = 0; k < header.size(); ++k) {
+            const std::size_t metric = k - map.axes.size();
+            const bool shown = k < map.axes.size() || metric >= allScanMetrics().size()
+                || map.computed(allScanMetrics()[metric]);
+            if (shown) {
+                EXPECT_EQ(a[k], b[k]) << header[k] << " in row " << r;
+                compared += !b[k].empty();
+            } else {
+                EXPECT_EQ(a[k], "") << header[k] << " in row " << r;
+            }
+        }
+    }
+    EXPECT_GT(compared, 0);
 }
 
 } // namespace
@@ -299,7 +350,11 @@ TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
                             QStringLiteral("RF"), QStringLiteral("--part"), QStringLiteral("CF"),
                             QStringLiteral("--csv"), QStringLiteral("-")});
     ASSERT_EQ(cli.exitCode, 0) << cli.err.toStdString();
-    EXPECT_EQ(cli.out.toStdString(), scanToCsv(*map));
+    // The map computes the metric it shows (the phase margin), the stability and the spec
+    // check: each the command line's text.
+    EXPECT_TRUE(map->computed(&ScanMetrics::phaseMarginDeg));
+    EXPECT_FALSE(map->computed(&ScanMetrics::overshootPct));
+    expectColumnsOfCsv(*map, cli.out.toStdString());
     QApplication::processEvents();
     screenshot(panel, "stability-map.png");
 
@@ -335,6 +390,15 @@ TEST_F(Stability, MapOfRfAndCfMatchesTheCommandLineAndAClickAppliesBothValues)
     doc()->undoStack()->undo();
     EXPECT_NEAR(doc()->design().findPart("RF")->number("value"), 1e6, 1e-6);
     EXPECT_NEAR(doc()->design().findPart("CF")->number("value"), 2.2e-12, 1e-24);
+
+    // Another metric shown: the map runs again for it, and it too is the command line's.
+    const ScanResult *overshoot = runAndWait(
+        panel, [panel] { panel->setMetric(5); }, 120000, "map of RF x CF by overshoot");
+    ASSERT_NE(overshoot, nullptr);
+    EXPECT_TRUE(overshoot->computed(&ScanMetrics::overshootPct));
+    EXPECT_FALSE(overshoot->computed(&ScanMetrics::phaseMarginDeg));
+    expectColumnsOfCsv(*overshoot, cli.out.toStdString());
+    EXPECT_THAT(panel->cellText(0, 0).toStdString(), HasSubstr("overshoot"));
 }
 
 // The review sheet carries a scan made for the design as it is, with its parameters (issue 16

@@ -388,6 +388,11 @@ QString MapPanel::cellText(int i, int j) const
     return parts.join(QStringLiteral(" · "));
 }
 
+std::vector<ScanMetric> MapPanel::metricsToCompute() const
+{
+    return {scanMetricInfos()[std::size_t(metricIndex())].member};
+}
+
 bool MapPanel::applyCell(int i, int j)
 {
     if (!m_scan || m_scan->axes.size() != 2 || i < 0 || j < 0)

@@ -99,11 +99,14 @@ void ScanRunner::cancel()
     m_run->cancel();
 }
 
-void ScanRunner::start(const Design &design, std::vector<ScanAxis> axes)
+void ScanRunner::start(const Design &design, std::vector<ScanAxis> axes,
+                       std::vector<ScanMetric> metrics)
 {
     m_run->start(
-        [design, axes = std::move(axes)](BackgroundRun::State &state) {
+        [design, axes = std::move(axes),
+         metrics = std::move(metrics)](BackgroundRun::State &state) {
             ScanOptions options;
+            options.metrics = metrics;
             options.cancel = &state.cancel;
             options.progress = [&state](std::size_t done, std::size_t total) {
                 state.total = total;

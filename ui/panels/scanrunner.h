@@ -46,8 +46,10 @@ class ScanRunner : public QObject
 public:
     explicit ScanRunner(QObject *parent = nullptr);
 
-    /// Starts a scan (one axis) or map (two) of `design`; a run in progress is cancelled.
-    void start(const Design &design, std::vector<ScanAxis> axes);
+    /// Starts a scan (one axis) or map (two) of `design` computing `metrics` (empty: every
+    /// one, see ScanOptions::metrics); a run in progress is cancelled.
+    void start(const Design &design, std::vector<ScanAxis> axes,
+               std::vector<ScanMetric> metrics = {});
     void cancel();
     bool isRunning() const;
 

@@ -47,7 +47,10 @@ void ScanRunPanel::makeRunControls(const QString &allSeries, const QString &runL
 
     connect(m_run, &QPushButton::clicked, this, [this] { run(); });
     connect(m_cancel, &QPushButton::clicked, this, &ScanRunPanel::cancel);
-    connect(m_metric, &QComboBox::currentIndexChanged, this, [this] { redraw(); });
+    connect(m_metric, &QComboBox::currentIndexChanged, this, [this] {
+        redraw();
+        computeShownMetric();
+    });
     connect(m_runner, &ScanRunner::progressed, this, [this](int done, int total) {
         m_progress->setMaximum(total);
         m_progress->setValue(done);
@@ -64,6 +67,8 @@ void ScanRunPanel::makeRunControls(const QString &allSeries, const QString &runL
         setStatus(finishedText(*m_scan));
         redraw();
         emit runFinished();
+        if (!m_scan->cancelled) // the metric shown was switched while it ran
+            computeShownMetric();
     });
     connect(m_document, &DesignDocument::structureChanged, this, [this] { refreshTargets(); });
     connect(m_document, &DesignDocument::designReset, this, [this] { refreshTargets(); });
@@ -175,13 +180,19 @@ int ScanRunPanel::metricIndex() const
     return std::max(0, m_metric->currentIndex());
 }
 
+void ScanRunPanel::computeShownMetric()
+{
+    if (m_scan && !m_scan->computed(scanMetricInfos()[std::size_t(metricIndex())].member))
+        startRun(m_scan->axes, tr("computing the %1 …").arg(m_metric->currentText()));
+}
+
 void ScanRunPanel::startRun(std::vector<ScanAxis> axes, const QString &status)
 {
     setStatus(status);
     m_progress->setValue(0);
     showRunning(true);
     m_pendingText = serializeDesign(m_document->design());
-    m_runner->start(m_document->design(), std::move(axes));
+    m_runner->start(m_document->design(), std::move(axes), metricsToCompute());
 }
 
 double ScanRunPanel::designValue(const ScanAxis &axis) const
@@ -217,7 +228,8 @@ QString ScanRunPanel::statusText() const
 
 std::optional<SheetScan> ScanRunPanel::sheetScan() const
 {
-    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design()))
+    if (!m_scan || m_scan->cancelled || m_scanText != serializeDesign(m_document->design())
+        || !m_scan->computed(scanMetricInfos()[std::size_t(metricIndex())].member))
         return std::nullopt;
     return SheetScan{m_scan.get(), metricIndex()};
 }

@@ -39,8 +39,8 @@ public:
     void setMetric(int index);
     QString statusText() const;
     /// The latest finished run with the metric shown, when it was made for the document's
-    /// design as it is (complete, and no field changed since): what the review sheet
-    /// carries; nullopt otherwise.
+    /// design as it is (complete, and no field changed since) and computed that metric: what
+    /// the review sheet carries; nullopt otherwise.
     std::optional<SheetScan> sheetScan() const;
 
 signals:
@@ -63,6 +63,9 @@ protected:
     /// the view does not jump as the text changes.
     void layOut(const QList<QWidget *> &targets, const QString &metricLabel, QWidget *view,
                 int hoverLines, bool runAfterTargets);
+    /// The metrics a run computes: every one (empty), or for a view that shows one metric
+    /// at a time (the map) the one shown, each row then skipping the work of the others.
+    virtual std::vector<ScanMetric> metricsToCompute() const { return {}; }
     /// The series chosen, nullopt for each part's own.
     std::optional<ESeries> chosenSeries() const;
     /// The metric shown, as an index of scanMetricInfos().
@@ -96,6 +99,9 @@ protected:
     void resizeEvent(QResizeEvent *event) override;
 
 private:
+    /// Runs the latest run's axes again when it lacks the metric shown (it computed only the
+    /// one shown then, metricsToCompute()).
+    void computeShownMetric();
     /// Progress and cancel shown while a run goes on (run again starts anew: the latest wins).
     void showRunning(bool running);
     /// The controls' height for the panel's width (the dock does not ask for a height for a

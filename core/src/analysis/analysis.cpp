@@ -147,13 +147,16 @@ OptionalNumber decibels(const OptionalNumber &factor)
 
 /// The DC summaries of the three methods (exact, return ratio, two-port) and the
 /// desensitivity into `a`; returns every quantity at DC. `exactOnly`: the model has no
-/// Blackman or two-port impedances (LoopModelScope::Metrics), so only the exact ones count.
-LoopPoint summariseDc(const LoopModel &model, Analysis &a, bool exactOnly)
+/// Blackman or two-port impedances (LoopModelScope::Metrics), so only the exact ones count;
+/// `impedances` false: nor those (LoopModelScope::GainAndLoop), which stay absent.
+LoopPoint summariseDc(const LoopModel &model, Analysis &a, bool exactOnly, bool impedances)
 {
     const LoopPoint dc = model.at(0.0);
     a.exact.gain = realPart(dc.gainExact);
     // Only when an impedance has no finite DC value: is it infinite (an open node) or absent?
-    const bool openAtDc = !std::isfinite(dc.zInExact.real()) || !std::isfinite(dc.zOutExact.real())
+    const bool openAtDc
+        = (impedances
+           && (!std::isfinite(dc.zInExact.real()) || !std::isfinite(dc.zOutExact.real())))
         || (!exactOnly
             && (!std::isfinite(dc.zInReturnRatio.real())
                 || !std::isfinite(dc.zOutReturnRatio.real()) || !std::isfinite(dc.zInTwoPort.real())
@@ -263,9 +266,7 @@ Result<Analysis> analyze(const Design &design, std::string_view file,
         return problems;
     if (auto over = checkAnalysisBudget(design, file, options.sensitivity); !over.empty())
         return over;
-    auto built
-        = LoopModel::build(design, options.solver,
-                           options.metricsOnly ? LoopModelScope::Metrics : LoopModelScope::Full);
+    auto built = LoopModel::build(design, options.solver, detail::loopModelScope(options));
     if (!built) {
         Diagnostics d = built.diagnostics();
         for (auto &x : d)
@@ -299,22 +300,24 @@ Analysis detail::analyzeModelWith(const LoopModel &model, const Design &design,
     a.topologyReason = model.topology().reason;
     a.twoPortProblem = model.twoPortProblem();
 
-    const LoopPoint dc = summariseDc(model, a, options.metricsOnly);
+    const LoopPoint dc
+        = summariseDc(model, a, options.metricsOnly,
+                      detail::loopModelScope(options) != LoopModelScope::GainAndLoop);
 
     LoopCurves &c = a.curves;
     const std::vector<Complex> points = pointsAt(a.frequenciesHz);
-    // A doubtful point of these sweeps that even the careful solve cannot assure warns; only
-    // the points shown count (not summariseDc()'s evaluations far below the sweep).
+    // A doubtful point of the sweeps from here on that even the careful solve cannot assure
+    // warns (collected below); summariseDc()'s evaluations far below the sweep, which only
+    // tell an open port from a closed one, do not count.
     model.forgetUnassuredPoints();
-    if (options.metricsOnly) {
-        // The two curves the metrics read, each the same values as in the full sweep.
-        c.gainExact = model.gainOver(points);
-        c.loopGain = model.loopGainOver(points);
-    } else {
+    // What a scan row reads (metricsOnly): the two curves the metrics read, each the same
+    // values as in the full sweep, and only where a metric read needs them.
+    const AnalysisOptions::Reads reads
+        = options.metricsOnly ? options.reads : AnalysisOptions::Reads{};
+    if (!options.metricsOnly)
         c = options.allCurves ? model.sweep(points) : model.sweepLoop(points);
-    }
-    for (Diagnostic &w : model.unassuredPointWarnings())
-        a.warnings.push_back(std::move(w));
+    else if (reads.margins)
+        c.loopGain = model.loopGainOver(points);
 
     const std::vector<Complex> closedLoopPoles = model.closedLoopPoles();
     if (std::optional<Diagnostic> w = model.closedLoopPolesWarning())
@@ -339,13 +342,14 @@ Analysis detail::analyzeModelWith(const LoopModel &model, const Design &design,
     }
 
     // The loop beyond the sweep, where crossings may lie: as far as its poles and the
-    // closed loop's reach.
-    const std::vector<Complex> loopGainPoles = model.loopGainPoles();
+    // closed loop's reach (for the margins and the peaking alike, so both or neither).
+    const std::vector<Complex> loopGainPoles
+        = reads.margins || reads.peaking ? model.loopGainPoles() : std::vector<Complex>{};
     std::vector<Complex> loopPoles = loopGainPoles;
     loopPoles.insert(loopPoles.end(), closedLoopPoles.begin(), closedLoopPoles.end());
     const BeyondSweep beyond = frequenciesBeyondSweep(a.frequenciesHz, loopPoles);
     const std::vector<Complex> below = pointsAt(beyond.below), above = pointsAt(beyond.above);
-    {
+    if (reads.margins) {
         std::vector<double> f = beyond.below;
         f.insert(f.end(), a.frequenciesHz.begin(), a.frequenciesHz.end());
         f.insert(f.end(), beyond.above.begin(), beyond.above.end());
@@ -353,35 +357,50 @@ Analysis detail::analyzeModelWith(const LoopModel &model, const Design &design,
         t.insert(t.end(), c.loopGain.begin(), c.loopGain.end());
         const Curve tAbove = model.loopGainOver(above);
         t.insert(t.end(), tAbove.begin(), tAbove.end());
-        a.margins = computeMargins(model, f, t, dc.loopGain);
+        a.margins
+            = computeMargins(model, f, t, dc.loopGain, {reads.gainMargins, !options.metricsOnly});
     }
     if (!options.metricsOnly)
         addClosure(model, a.margins);
     if (!options.metricsOnly)
         a.nyquist = countEncirclements(model, loopGainPoles, closedLoopPoles);
     a.step.settlingBand = design.settlingBandFraction();
-    if (a.exact.gain && a.stable) {
-        a.bandwidthHz = computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain);
-        std::vector<double> f = a.frequenciesHz;
-        f.insert(f.end(), beyond.above.begin(), beyond.above.end());
-        Curve g = c.gainExact;
-        const Curve gAbove = model.gainOver(above);
-        g.insert(g.end(), gAbove.begin(), gAbove.end());
-        const Peaking peaking = computePeaking(model, f, g, *a.exact.gain);
-        a.peakingDb = peaking.db;
-        a.peakingHz = peaking.hz;
-        a.feedthroughDb = peaking.feedthroughDb;
-        a.feedthroughHz = peaking.feedthroughHz;
-        if (auto step = model.stepModel())
-            a.step = computeStep(*step, a.poles, a.bandwidthHz, *a.exact.gain,
-                                 design.settlingBandFraction());
-        else
-            a.step.problem = stepProblem(design, step.diagnostics().front().message);
+    if (a.exact.gain && a.stable && (reads.bandwidth || reads.peaking || reads.step)) {
+        // A scan sweeps the gain only here, an unstable loop having none of these metrics,
+        // and without the peaking only as far as the bandwidth.
+        const bool wholeGain = !options.metricsOnly || reads.peaking;
+        if (options.metricsOnly && wholeGain)
+            c.gainExact = model.gainOver(points);
+        if (reads.bandwidth || reads.step) // the step's time span starts from the bandwidth
+            a.bandwidthHz = wholeGain
+                ? computeBandwidth(model, a.frequenciesHz, c.gainExact, *a.exact.gain)
+                : bandwidthSweptToFall(model, a.frequenciesHz, points, *a.exact.gain);
+        if (reads.peaking) {
+            std::vector<double> f = a.frequenciesHz;
+            f.insert(f.end(), beyond.above.begin(), beyond.above.end());
+            Curve g = c.gainExact;
+            const Curve gAbove = model.gainOver(above);
+            g.insert(g.end(), gAbove.begin(), gAbove.end());
+            const Peaking peaking = computePeaking(model, f, g, *a.exact.gain);
+            a.peakingDb = peaking.db;
+            a.peakingHz = peaking.hz;
+            a.feedthroughDb = peaking.feedthroughDb;
+            a.feedthroughHz = peaking.feedthroughHz;
+        }
+        if (reads.step) {
+            if (auto step = model.stepModel())
+                a.step = computeStep(*step, a.poles, a.bandwidthHz, *a.exact.gain,
+                                     design.settlingBandFraction());
+            else
+                a.step.problem = stepProblem(design, step.diagnostics().front().message);
+        }
     }
     if (a.exact.gain && options.sensitivity)
         a.sensitivity = detail::gainSensitivity(design, *a.exact.gain, options.solver);
     if (options.noise && (a.stable || !options.metricsOnly))
         addNoise(design, noiseOptionsOf(options), points, closedLoopPoles, a, noiseModel());
+    for (Diagnostic &w : model.unassuredPointWarnings())
+        a.warnings.push_back(std::move(w));
     // The same check as the Candidates panel and the spread yield (checkSpecs()).
     a.specs = specVerdicts(design.specs, design.sweep, trialMetricsOf(a), a.gainUnit);
     return a;

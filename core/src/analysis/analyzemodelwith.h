@@ -15,6 +15,15 @@ namespace loopsketch::detail {
 /// `options.metricsOnly` not for a loop that is not known stable, whose noise rms does not
 /// exist (nor its SNR, nor a spec verdict that reads them). For scans, which keep one noise
 /// model per worker.
+/// The scope of the loop model `options` read: Full, Metrics under metricsOnly, GainAndLoop
+/// where a metricsOnly run reads no impedance either.
+inline LoopModelScope loopModelScope(const AnalysisOptions &options)
+{
+    if (!options.metricsOnly)
+        return LoopModelScope::Full;
+    return options.reads.impedances ? LoopModelScope::Metrics : LoopModelScope::GainAndLoop;
+}
+
 Analysis analyzeModelWith(const LoopModel &model, const Design &design,
                           const AnalysisOptions &options,
                           const std::function<const Result<NoiseModel> &()> &noiseModel);

@@ -153,7 +153,7 @@ std::vector<LoopGainSample> loopGainNearCrossings(const LoopModel &model, const 
 } // namespace
 
 Margins computeMargins(const LoopModel &model, const std::vector<double> &f, const Curve &t,
-                       std::complex<double> tDc)
+                       std::complex<double> tDc, MarginParts parts)
 {
     Margins m;
     if (f.size() < 2)
@@ -189,7 +189,7 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
     // Phase crossings: the unwrapped phase passes an odd multiple of -180 degrees, in
     // either direction (a conditionally stable loop's phase dips below -180 and comes back
     // before the crossover).
-    for (std::size_t i = 0; i + 1 < f.size(); ++i) {
+    for (std::size_t i = 0; parts.gainMargins && i + 1 < f.size(); ++i) {
         if (!std::isfinite(phase[i]) || !std::isfinite(phase[i + 1]))
             continue;
         const double lo = std::min(phase[i], phase[i + 1]), hi = std::max(phase[i], phase[i + 1]);
@@ -214,7 +214,8 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
             m.phaseCrossoverHz = g.frequencyHz;
         }
     }
-    m.nearCrossover = loopGainNearCrossings(model, m);
+    if (parts.nearCrossover)
+        m.nearCrossover = loopGainNearCrossings(model, m);
     return m;
 }
 
@@ -255,20 +256,70 @@ Stability assessStability(const std::vector<ClosedLoopPole> &poles)
     return v;
 }
 
-OptionalNumber computeBandwidth(const LoopModel &model, const std::vector<double> &f,
-                                const Curve &gain, double gainDc)
+namespace {
+
+/// The first i from `from` where |gain| falls from `level` or above at i to below it at i + 1
+/// (a NaN neither), or gain.size() when there is none.
+std::size_t firstFall(const Curve &gain, std::size_t from, double level)
+{
+    double here = from < gain.size() ? std::abs(gain[from]) : 0.0;
+    for (std::size_t i = from; i + 1 < gain.size(); ++i) {
+        const double next = std::abs(gain[i + 1]);
+        if (here >= level && next < level)
+            return i;
+        here = next;
+    }
+    return gain.size();
+}
+
+/// The -3 dB level of a DC gain, or nullopt where there is none.
+OptionalNumber bandwidthLevel(double gainDc)
 {
     if (!(std::abs(gainDc) > 0) || !std::isfinite(gainDc))
         return std::nullopt;
-    const double level = std::abs(gainDc) / std::sqrt(2.0);
-    double here = f.empty() ? 0.0 : std::abs(gain[0]);
-    for (std::size_t i = 0; i + 1 < f.size(); ++i) {
-        const double next = std::abs(gain[i + 1]);
-        if (here >= level && next < level) {
-            return logRoot([&](double hz) { return std::abs(model.gainAt(jw(hz))) - level; }, f[i],
-                           f[i + 1]);
-        }
-        here = next;
+    return std::abs(gainDc) / std::sqrt(2.0);
+}
+
+/// The fall between f[i] and f[i + 1], refined on the model.
+double refinedFall(const LoopModel &model, const std::vector<double> &f, std::size_t i,
+                   double level)
+{
+    return logRoot([&](double hz) { return std::abs(model.gainAt(jw(hz))) - level; }, f[i],
+                   f[i + 1]);
+}
+
+} // namespace
+
+OptionalNumber computeBandwidth(const LoopModel &model, const std::vector<double> &f,
+                                const Curve &gain, double gainDc)
+{
+    const OptionalNumber level = bandwidthLevel(gainDc);
+    if (!level)
+        return std::nullopt;
+    const std::size_t i = firstFall(gain, 0, *level);
+    if (i >= gain.size() || i + 1 >= f.size())
+        return std::nullopt;
+    return refinedFall(model, f, i, *level);
+}
+
+OptionalNumber bandwidthSweptToFall(const LoopModel &model, const std::vector<double> &f,
+                                    std::span<const std::complex<double>> points, double gainDc)
+{
+    const OptionalNumber level = bandwidthLevel(gainDc);
+    if (!level)
+        return std::nullopt;
+    // A block of the sweep at a time, up to the block where the gain first falls: each point
+    // is solved on its own (ReducedSystem::sweepEntries), so the values, and the fall found
+    // among them, are those of the whole sweep.
+    constexpr std::size_t kBlock = 128;
+    Curve gain;
+    for (std::size_t start = 0; start < points.size() && start < f.size(); start += kBlock) {
+        const Curve block
+            = model.gainOver(points.subspan(start, std::min(kBlock, points.size() - start)));
+        gain.insert(gain.end(), block.begin(), block.end());
+        if (const std::size_t i = firstFall(gain, start == 0 ? 0 : start - 1, *level);
+            i < gain.size() && i + 1 < f.size())
+            return refinedFall(model, f, i, *level);
     }
     return std::nullopt;
 }

@@ -166,7 +166,44 @@ ScanMetrics scanMetricsOf(const Analysis &a, const Design &design)
     return m;
 }
 
+const std::vector<ScanMetric> &allScanMetrics()
+{
+    static const std::vector<ScanMetric> all{
+        &ScanMetrics::gain,          &ScanMetrics::bandwidthHz,    &ScanMetrics::phaseMarginDeg,
+        &ScanMetrics::gainMarginDb,  &ScanMetrics::peakingDb,      &ScanMetrics::overshootPct,
+        &ScanMetrics::settlingTimeS, &ScanMetrics::outputNoiseRms, &ScanMetrics::zIn,
+        &ScanMetrics::zOut};
+    return all;
+}
+
+bool ScanResult::computed(ScanMetric metric) const
+{
+    return metrics.empty() || std::find(metrics.begin(), metrics.end(), metric) != metrics.end();
+}
+
 namespace {
+
+/// The analysis options of a scan's rows: only what the metrics asked for (`asked`, empty for
+/// all) and the design's specs read.
+AnalysisOptions rowOptions(const Specs &specs, const std::vector<ScanMetric> &asked)
+{
+    const auto reads = [&](ScanMetric m) {
+        return asked.empty() || std::find(asked.begin(), asked.end(), m) != asked.end();
+    };
+    AnalysisOptions o;
+    o.sensitivity = false;
+    o.allCurves = false;
+    o.metricsOnly = true;
+    o.noise = reads(&ScanMetrics::outputNoiseRms) || hasNoiseSpec(specs);
+    o.reads.margins = reads(&ScanMetrics::phaseMarginDeg) || reads(&ScanMetrics::gainMarginDb)
+        || specs.phaseMarginMinDeg.has_value();
+    o.reads.gainMargins = reads(&ScanMetrics::gainMarginDb);
+    o.reads.bandwidth = reads(&ScanMetrics::bandwidthHz) || specs.bandwidthMin.has_value();
+    o.reads.peaking = reads(&ScanMetrics::peakingDb);
+    o.reads.step = reads(&ScanMetrics::overshootPct) || reads(&ScanMetrics::settlingTimeS);
+    o.reads.impedances = reads(&ScanMetrics::zIn) || reads(&ScanMetrics::zOut);
+    return o;
+}
 
 /// What a worker keeps from row to row: its copy of the design, whose scanned fields each row
 /// overwrites, and the loop and noise models of the rows before, re-stamped for the next
@@ -199,7 +236,8 @@ const Result<detail::NoiseModel> &noiseModelOf(Worker &w)
 /// noise model when the row needs one. The checks analyze() makes come first, as there:
 /// validation, then the work budget, which re-stamping cannot change (the circuit keeps its
 /// elements).
-ScanMetrics scanRow(Worker &w, const AnalysisOptions &options, std::string_view file)
+ScanMetrics scanRow(Worker &w, const AnalysisOptions &options, const std::vector<ScanMetric> &asked,
+                    std::string_view file)
 {
     const Design &design = w.design;
     std::optional<LoopModel> &model = w.model;
@@ -211,16 +249,23 @@ ScanMetrics scanRow(Worker &w, const AnalysisOptions &options, std::string_view 
     if (problems.empty() && !restamp)
         problems = checkAnalysisBudget(design, file, options.sensitivity);
     if (problems.empty()) {
-        auto built = restamp ? model->rebuilt(design, w.changes)
-                             : LoopModel::build(design, options.solver, LoopModelScope::Metrics);
+        auto built = restamp
+            ? model->rebuilt(design, w.changes)
+            : LoopModel::build(design, options.solver, detail::loopModelScope(options));
         if (built) {
             model = std::move(built).value();
             for (FieldChange &c : w.changes)
                 c.from = c.to;
-            return scanMetricsOf(
+            m = scanMetricsOf(
                 detail::analyzeModelWith(
                     *model, design, options, [&w]() -> const auto & { return noiseModelOf(w); }),
                 design);
+            // A metric not asked for is absent, even where the spec check computed it.
+            if (!asked.empty())
+                for (ScanMetric metric : allScanMetrics())
+                    if (std::find(asked.begin(), asked.end(), metric) == asked.end())
+                        (m.*metric).reset();
+            return m;
         }
         problems = built.diagnostics();
     }
@@ -287,10 +332,8 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
             w.changes.push_back({axis.part, axis.field, 0.0, 0.0});
             w.noiseChanges.push_back(w.changes.back());
         }
-    AnalysisOptions analysisOptions;
-    analysisOptions.sensitivity = false;
-    analysisOptions.allCurves = false;
-    analysisOptions.metricsOnly = true;
+    result.metrics = options.metrics;
+    const AnalysisOptions analysisOptions = rowOptions(design.specs, options.metrics);
     const auto job = [&](std::size_t index, int worker) {
         ScanRow &row = result.rows[index];
         Worker &w = state[static_cast<std::size_t>(worker)];
@@ -299,7 +342,7 @@ Result<ScanResult> runScan(const Design &design, const std::vector<ScanAxis> &ax
                 = Value{row.values[k], formatEngineering(row.values[k], 3)};
             w.changes[k].to = row.values[k];
         }
-        row.metrics = scanRow(w, analysisOptions, file);
+        row.metrics = scanRow(w, analysisOptions, options.metrics, file);
         row.done = true;
     };
     result.completed

@@ -112,12 +112,14 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path, LoopMo
         return full.diagnostics();
     m.m_full = std::move(full).value();
     LoopCircuitOptions o;
-    o.source = Source::Removed;
-    m.m_input = optionalOf(reduce(design, o));
-    o = {};
-    o.source = Source::Zeroed;
-    o.load = false;
-    m.m_output = optionalOf(reduce(design, o));
+    if (scope != LoopModelScope::GainAndLoop) {
+        o.source = Source::Removed;
+        m.m_input = optionalOf(reduce(design, o));
+        o = {};
+        o.source = Source::Zeroed;
+        o.load = false;
+        m.m_output = optionalOf(reduce(design, o));
+    }
 
     o = {};
     o.testDriven = true;
@@ -143,7 +145,7 @@ Result<LoopModel> LoopModel::build(const Design &design, SolverPath path, LoopMo
             m.m_openLoopZerosHz.push_back(z.si);
     }
 
-    if (scope == LoopModelScope::Metrics)
+    if (scope != LoopModelScope::Full)
         return m;
     m.m_topology = identifyTopology(design);
     if (m.m_topology.topology)

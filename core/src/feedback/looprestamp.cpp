@@ -10,8 +10,9 @@ namespace loopsketch {
 Result<LoopModel> LoopModel::rebuilt(const Design &design,
                                      std::span<const FieldChange> changes) const
 {
-    const bool eligible = m_scope == LoopModelScope::Metrics && m_path == SolverPath::Reduced
-        && m_full && m_input && m_output && m_rrFull
+    // Under Metrics an impedance system that build() could not make is made afresh.
+    const bool eligible = m_scope != LoopModelScope::Full && m_path == SolverPath::Reduced && m_full
+        && m_rrFull && (m_scope == LoopModelScope::GainAndLoop || (m_input && m_output))
         && std::all_of(changes.begin(), changes.end(), [&](const FieldChange &c) {
                               // The full circuit holds every part: a field it does not stamp is
                               // absent there (an element a zero value leaves out), so the structure
@@ -40,6 +41,8 @@ Result<LoopModel> LoopModel::rebuilt(const Design &design,
 bool LoopModel::restampSystems(const Design &design, std::span<const FieldChange> changes)
 {
     for (std::optional<ReducedSystem> *system : {&m_full, &m_input, &m_output, &m_rrFull}) {
+        if (!*system) // an impedance system a GainAndLoop model does not make
+            continue;
         DescriptorSystem stamped = (*system)->system();
         if (!restamp(stamped, changes))
             return false;

@@ -230,6 +230,59 @@ TEST(Scan, ReStampedCellsHoldAnalyzesNumbersBitForBit)
     EXPECT_GT(unstable, 0);
 }
 
+TEST(Scan, AMapOfOneMetricHoldsTheNumbersOfAMapOfEveryMetric)
+{
+    // A map that shows one metric asks for it alone (ScanOptions::metrics) and skips the work
+    // of the others, but not what the design's specs read: each metric asked for, the
+    // stability verdict and the spec check must be those of the run of every metric, bit for
+    // bit, and every other metric absent. The demo with a noise spec added (the spec check
+    // then needs the noise whatever is asked) and the three-pole stage (unstable cells).
+    Design noisy = demo();
+    noisy.specs.outputNoiseMax = Value{1e-4, "100u"};
+    const Design stage = threePoleStage();
+    const std::vector<std::pair<Design, std::vector<std::string>>> maps
+        = {{demo(), {"RF:470k:2M2", "CF:1p:10p"}},
+           {noisy, {"RF:470k:2M2", "CF:1p:10p"}},
+           {stage, {"R1", "R2"}}};
+    int passing = 0, failing = 0;
+    for (const auto &[design, targets] : maps) {
+        const std::vector<ScanAxis> axes = {axisOrFail(design, targets[0], ESeries::E6),
+                                            axisOrFail(design, targets[1], ESeries::E6)};
+        ScanOptions o;
+        o.threads = 1;
+        auto every = runScan(design, axes, o);
+        ASSERT_TRUE(every.ok()) << every.errorText();
+        for (const ScanMetric asked : allScanMetrics()) {
+            o.metrics = {asked};
+            auto one = runScan(design, axes, o);
+            ASSERT_TRUE(one.ok()) << one.errorText();
+            ASSERT_EQ(one->rows.size(), every->rows.size());
+            for (const ScanMetric m : allScanMetrics())
+                EXPECT_EQ(one->computed(m), m == asked);
+            for (std::size_t i = 0; i < one->rows.size(); ++i) {
+                const ScanMetrics &a = one->rows[i].metrics, &b = every->rows[i].metrics;
+                ASSERT_TRUE(a.problem.empty()) << a.problem;
+                for (const ScanMetric m : allScanMetrics()) {
+                    if (m != asked) {
+                        EXPECT_FALSE((a.*m).has_value()) << i;
+                        continue;
+                    }
+                    ASSERT_EQ((a.*m).has_value(), (b.*m).has_value()) << i;
+                    if (b.*m) {
+                        EXPECT_EQ(*(a.*m), *(b.*m)) << i; // the same bits
+                    }
+                }
+                EXPECT_EQ(a.stable, b.stable) << i;
+                EXPECT_EQ(a.specsPass, b.specsPass) << i;
+                passing += a.specsPass.value_or(false);
+                failing += !a.specsPass.value_or(true);
+            }
+        }
+    }
+    EXPECT_GT(passing, 0);
+    EXPECT_GT(failing, 0);
+}
+
 TEST(Scan, MapFeasibilityAndStabilityMatchTheCheckCellByCell)
 {
     // R1 x R2 over E6 takes the stage from a noise gain of about 2 (unstable: three poles, a

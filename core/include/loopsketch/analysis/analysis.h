@@ -181,6 +181,21 @@ struct AnalysisOptions
     /// or rate of closure, noise without the brick-wall, spot and low-frequency figures; of
     /// the curves only the exact gain and the loop gain.
     bool metricsOnly = false;
+    /// Under metricsOnly, which of the metrics the caller reads (a map that shows one metric
+    /// and the spec check); the work of one not read is skipped and the metric left absent.
+    /// Each one computed is still the number a full analysis gives. The noise follows
+    /// `noise`; the DC gain, impedances, poles and stability are always computed.
+    struct Reads
+    {
+        bool margins = true; ///< crossover and phase margin (the loop gain over the sweep)
+        bool gainMargins = true; ///< the gain margins (with `margins`)
+        bool bandwidth = true; ///< also computed where `step` is read (its time span)
+        bool peaking = true;
+        bool step = true; ///< rise, overshoot and settling
+        /// z_in and z_out at DC: without them the model leaves out their systems
+        /// (LoopModelScope::GainAndLoop)
+        bool impedances = true;
+    } reads;
     NoiseOptions noiseOptions; ///< band; the closed-loop bandwidth is filled in by analyze()
 };
 

@@ -6,6 +6,7 @@
 #include "loopsketch/analysis/analysis.h"
 #include "loopsketch/feedback/loopmodel.h"
 
+#include <span>
 #include <vector>
 
 namespace loopsketch {
@@ -27,9 +28,16 @@ BeyondSweep frequenciesBeyondSweep(const std::vector<double> &sweepHz,
 /// Loop crossover, phase margin and every gain margin of T(s) = model.loopGainAt(s), from
 /// T sampled at `frequenciesHz` (ascending; the sweep, extended beyond it where crossings
 /// may lie) and refined on the model. The phase is unwrapped from DC (a loop gain negative
-/// at DC, positive feedback, starts at -180 deg).
+/// at DC, positive feedback, starts at -180 deg). What it finds besides the crossover and
+/// phase margin, each left out where not asked for (a scan row that reads neither):
+struct MarginParts
+{
+    bool gainMargins = true; ///< every phase crossing and its gain margin
+    bool nearCrossover = true; ///< Margins::nearCrossover, the review sheet's table
+};
 Margins computeMargins(const LoopModel &model, const std::vector<double> &frequenciesHz,
-                       const Curve &loopGain, std::complex<double> loopGainDc);
+                       const Curve &loopGain, std::complex<double> loopGainDc,
+                       MarginParts parts = {});
 
 /// The rate of closure (dB/decade) at the crossover `crossoverHz`: minus the slope of
 /// 20 log10 |T| over log10 f there, from the model by a central difference of 1e-4 decade.
@@ -50,6 +58,11 @@ Stability assessStability(const std::vector<ClosedLoopPole> &poles);
 /// Closed-loop -3 dB bandwidth (Hz) of the exact gain; nullopt when it never falls 3 dB.
 OptionalNumber computeBandwidth(const LoopModel &model, const std::vector<double> &frequenciesHz,
                                 const Curve &gain, double gainDc);
+/// The same with the gain swept on the model at `points` (s = j 2 pi f of each of
+/// `frequenciesHz`) only as far as the fall: for a scan row that reads no more of the curve.
+OptionalNumber bandwidthSweptToFall(const LoopModel &model,
+                                    const std::vector<double> &frequenciesHz,
+                                    std::span<const std::complex<double>> points, double gainDc);
 
 /// Peaking and the feedthrough rise of the closed-loop gain.
 struct Peaking

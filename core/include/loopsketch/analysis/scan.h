@@ -79,6 +79,12 @@ struct ScanMetrics
 /// The metrics of one analysis of `design` (its specs decide specsPass).
 ScanMetrics scanMetricsOf(const Analysis &analysis, const Design &design);
 
+/// One metric of ScanMetrics, named by its member (&ScanMetrics::phaseMarginDeg): what a run
+/// is asked to compute (ScanOptions::metrics).
+using ScanMetric = OptionalNumber ScanMetrics::*;
+/// Every ScanMetric, in the order of the CSV columns.
+const std::vector<ScanMetric> &allScanMetrics();
+
 /// One row: the value of each axis (SI, in axis order) and the metrics there.
 struct ScanRow
 {
@@ -96,6 +102,11 @@ struct ScanResult
     std::string gainUnit;
     std::size_t completed = 0; ///< rows computed (all of them unless cancelled)
     bool cancelled = false;
+    /// The metrics computed (ScanOptions::metrics): empty for every one. The others are
+    /// absent from every row; the stability verdict and the spec check are always there.
+    std::vector<ScanMetric> metrics;
+    /// True when the rows carry `metric` (absent in a row then means it does not exist).
+    bool computed(ScanMetric metric) const;
 };
 
 struct ScanOptions
@@ -104,6 +115,12 @@ struct ScanOptions
     /// Rows done so far and the total; from worker threads, one call at a time.
     std::function<void(std::size_t done, std::size_t total)> progress;
     const std::atomic<bool> *cancel = nullptr;
+    /// The metrics the caller reads; empty: every one (the command line's CSV). A map that
+    /// shows one metric asks for that one alone, and each row skips the work of the others
+    /// (the noise, the step response, the peaking ...) unless the design's specs read it:
+    /// stable and specsPass are always computed. Each metric computed is the number a run
+    /// of every metric gives, bit for bit.
+    std::vector<ScanMetric> metrics;
 };
 
 /// `design` with `value` (SI) written into the axis' field, its text in engineering

@@ -91,9 +91,10 @@ using LoopCurves = LoopQuantities<std::vector<Complex>, std::vector<TwoPortMatri
 /// Which systems LoopModel::build() makes. Metrics: only the exact solution (gain, z_in,
 /// z_out) and the return ratio's loop gain, what the margins, bandwidth, peaking, poles,
 /// step and spec check read (a scan row): no topology, no two-port estimate and no
-/// Blackman impedances (their curves are NaN). The systems it does make are built and
-/// checked exactly as under Full, so their numbers are the same.
-enum class LoopModelScope { Full, Metrics };
+/// Blackman impedances (their curves are NaN). GainAndLoop: Metrics without the exact
+/// impedances either (a scan row that reads neither z_in nor z_out). The systems a scope does
+/// make are built and checked exactly as under Full, so their numbers are the same.
+enum class LoopModelScope { Full, Metrics, GainAndLoop };
 
 class LoopModel
 {
@@ -105,9 +106,9 @@ public:
     /// The same as build(`design`, path and scope of this model), for a design that differs
     /// from the one this model was built from only in the values `changes` name (`from`: the
     /// value this model holds). Where every change is restampable() and the scope is
-    /// Metrics, each system is re-stamped in place of building its netlist afresh (restamp.h),
-    /// then reduced and checked as build() does, so the numbers are build()'s; otherwise it
-    /// builds afresh.
+    /// Metrics or GainAndLoop, each system is re-stamped in place of building its netlist afresh
+    /// (restamp.h), then reduced and checked as build() does, so the numbers are build()'s;
+    /// otherwise it builds afresh.
     Result<LoopModel> rebuilt(const Design &design, std::span<const FieldChange> changes) const;
     /// True for a model rebuilt() made by re-stamping (false: built afresh).
     bool restamped() const { return m_restamped; }
