@@ -88,6 +88,31 @@ Sweeps throughForm(const ReducedSystem &reduced, std::span<const cd> s, SweepWid
 
 const SweepWidth kWidths[] = {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight};
 
+/// A pencil of order k whose G is a chain of unit conductances with no path to ground
+/// (singular) and whose C holds capacitors 1, 2, ... k to ground: regular at every s != 0.
+/// One input into the first node, one output at the last.
+struct FloatingChain
+{
+    Eigen::MatrixXd g, c, b, l, d;
+    explicit FloatingChain(int k)
+        : g(Eigen::MatrixXd::Zero(k, k)), c(Eigen::MatrixXd::Zero(k, k)),
+          b(Eigen::MatrixXd::Zero(k, 1)), l(Eigen::MatrixXd::Zero(1, k)),
+          d(Eigen::MatrixXd::Zero(1, 1))
+    {
+        for (int i = 0; i < k; ++i) {
+            c(i, i) = 1.0 + i;
+            if (i + 1 < k) {
+                g(i, i) += 1.0;
+                g(i + 1, i + 1) += 1.0;
+                g(i, i + 1) -= 1.0;
+                g(i + 1, i) -= 1.0;
+            }
+        }
+        b(0, 0) = 1.0;
+        l(0, k - 1) = 1.0;
+    }
+};
+
 } // namespace
 
 // Orders 2 to 40 forced through the form (below kHessenbergMinOrder too), at every width,
@@ -184,23 +209,10 @@ TEST(HessenbergSweep, BadlyScaledNetworksMatchTheCarefulSolve)
 // enough (below).
 TEST(HessenbergSweep, PointsTheFormCannotVouchForGoToTheKernel)
 {
-    const int k = 10;
     {
-        Eigen::MatrixXd g = Eigen::MatrixXd::Zero(k, k), c = Eigen::MatrixXd::Zero(k, k);
-        for (int i = 0; i < k; ++i) {
-            c(i, i) = 1.0 + i;
-            if (i + 1 < k) {
-                g(i, i) += 1.0;
-                g(i + 1, i + 1) += 1.0;
-                g(i, i + 1) -= 1.0;
-                g(i + 1, i) -= 1.0;
-            }
-        }
         // G is a chain of conductances with no path to ground: singular at s = 0 only.
-        Eigen::MatrixXd b = Eigen::MatrixXd::Zero(k, 1), l = Eigen::MatrixXd::Zero(1, k);
-        b(0, 0) = 1.0;
-        l(0, k - 1) = 1.0;
-        const Eigen::MatrixXd d = Eigen::MatrixXd::Zero(1, 1);
+        const FloatingChain chain(10);
+        const auto &[g, c, b, l, d] = chain;
         const detail::PencilView pencil{g, c, b, l, d};
         const detail::HessenbergPencil form(pencil);
         const std::vector<cd> s = {cd(0.0), cd(0.0, 1.0), cd(0.0, 10.0)};
@@ -327,21 +339,8 @@ TEST(HessenbergSweep, ReduciblePencilIsReducedBlockByBlock)
 // practice) to 1e-12.
 TEST(HessenbergSweep, ErrorEstimateFlagsWhatTheKernelFlags)
 {
-    const int k = 12;
-    Eigen::MatrixXd g = Eigen::MatrixXd::Zero(k, k), c = Eigen::MatrixXd::Zero(k, k);
-    for (int i = 0; i < k; ++i) {
-        c(i, i) = 1.0 + i;
-        if (i + 1 < k) {
-            g(i, i) += 1.0;
-            g(i + 1, i + 1) += 1.0;
-            g(i, i + 1) -= 1.0;
-            g(i + 1, i) -= 1.0;
-        }
-    }
-    Eigen::MatrixXd b = Eigen::MatrixXd::Zero(k, 1), l = Eigen::MatrixXd::Zero(1, k);
-    b(0, 0) = 1.0;
-    l(0, k - 1) = 1.0;
-    const Eigen::MatrixXd d = Eigen::MatrixXd::Zero(1, 1);
+    const FloatingChain chain(12);
+    const auto &[g, c, b, l, d] = chain;
     const detail::PencilView pencil{g, c, b, l, d};
     const detail::HessenbergPencil form(pencil);
     const std::vector<cd> s = {cd(0.0, 1e-10), cd(0.0, 1.0), cd(0.0, 10.0)};
