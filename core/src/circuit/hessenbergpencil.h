@@ -22,6 +22,7 @@
 
 #include <atomic>
 #include <complex>
+#include <cstdint>
 #include <span>
 #include <vector>
 
@@ -50,12 +51,21 @@ public:
     /// where the pencil is singular. `pencil` is the one this form was built from. Returns
     /// how many points the form could not solve within kFormBackwardError (after one
     /// refinement) and handed to the vector kernel at `width` (every point once a chunk of 64
-    /// handed over more than half of its points, in this sweep or an earlier one).
+    /// handed over more than half of its points, in this sweep or an earlier one). With
+    /// `doubtful` (one per point), each entry's first-order error is estimated as by
+    /// sweepPencil() (the adjoint solved through the form, or by the kernel for the points it
+    /// takes) and doubtful[i] says whether point i may be off by more than
+    /// kDoubtfulRelativeError of its value (of `doubtfulFloor` below it).
     int sweep(const PencilView &pencil, std::span<const std::complex<double>> points,
               std::span<const TransferEntry> entries, std::complex<double> *out,
-              SweepWidth width = SweepWidth::Automatic) const;
+              SweepWidth width = SweepWidth::Automatic, std::span<std::uint8_t> doubtful = {},
+              double doubtfulFloor = 0.0) const;
 
     int order() const { return static_cast<int>(m_form.h.rows()); }
+
+    /// How many irreducible diagonal blocks the form has (the pencil's strongly connected
+    /// components; 1 where it is irreducible or its diagonal has a zero).
+    int blocks() const { return m_blocks; }
 
     /// The form's matrices (column-major).
     struct Form
@@ -72,6 +82,7 @@ public:
 
 private:
     Form m_form;
+    int m_blocks = 1;
     /// Set once a whole chunk of a sweep went mostly to the kernel: from then on every point
     /// does (the form would only add its own cost to the kernel's).
     mutable std::atomic<bool> m_handsOver{false};

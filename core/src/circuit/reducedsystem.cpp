@@ -366,10 +366,8 @@ void ReducedSystem::sweepReduced(std::span<const std::complex<double>> s,
                                  SweepWidth width, std::span<std::uint8_t> doubtful) const
 {
     const detail::PencilView pencil{m_gr, m_cr, m_br, m_lr, m_dr};
-    // A sweep that estimates each point's error (checkEveryPoint()) stays on the kernel,
-    // which computes the estimate; the Hessenberg-triangular form checks backward errors only.
-    if (m_hessenberg && doubtful.empty())
-        m_hessenberg->sweep(pencil, s, entries, out, width);
+    if (m_hessenberg)
+        m_hessenberg->sweep(pencil, s, entries, out, width, doubtful, m_checkFloor);
     else
         detail::sweepPencil(pencil, s, entries, out, width, doubtful, m_checkFloor);
 }

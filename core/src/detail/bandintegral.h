@@ -46,7 +46,9 @@ struct ConvergedBand
 /// Integrates from `lowHz` upward in steps of a quarter decade until the power left above
 /// the step's end is under `remainingShare` of the whole, estimated from the local slope of
 /// the columns' sum (a density falling as f^-a, a > 1, leaves p(f) f / (a - 1) above f), at
-/// two consecutive step ends at or above `notBeforeHz`. Stops unconverged at `capHz`.
+/// two consecutive step ends at or above `notBeforeHz`. Stops unconverged at `capHz`. The
+/// estimated error of the whole stays under `relTol` of the columns' sum (each step is
+/// refined to relTol of its own part plus what the steps before left of their share).
 ConvergedBand integrateUntilConverged(const DensityColumns &density, std::size_t columns,
                                       double lowHz, double capHz, double notBeforeHz,
                                       double remainingShare = 1e-3, double relTol = 1e-6);

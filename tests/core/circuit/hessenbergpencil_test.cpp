@@ -88,6 +88,31 @@ Sweeps throughForm(const ReducedSystem &reduced, std::span<const cd> s, SweepWid
 
 const SweepWidth kWidths[] = {SweepWidth::Two, SweepWidth::Four, SweepWidth::Eight};
 
+/// A pencil of order k whose G is a chain of unit conductances with no path to ground
+/// (singular) and whose C holds capacitors 1, 2, ... k to ground: regular at every s != 0.
+/// One input into the first node, one output at the last.
+struct FloatingChain
+{
+    Eigen::MatrixXd g, c, b, l, d;
+    explicit FloatingChain(int k)
+        : g(Eigen::MatrixXd::Zero(k, k)), c(Eigen::MatrixXd::Zero(k, k)),
+          b(Eigen::MatrixXd::Zero(k, 1)), l(Eigen::MatrixXd::Zero(1, k)),
+          d(Eigen::MatrixXd::Zero(1, 1))
+    {
+        for (int i = 0; i < k; ++i) {
+            c(i, i) = 1.0 + i;
+            if (i + 1 < k) {
+                g(i, i) += 1.0;
+                g(i + 1, i + 1) += 1.0;
+                g(i, i + 1) -= 1.0;
+                g(i + 1, i) -= 1.0;
+            }
+        }
+        b(0, 0) = 1.0;
+        l(0, k - 1) = 1.0;
+    }
+};
+
 } // namespace
 
 // Orders 2 to 40 forced through the form (below kHessenbergMinOrder too), at every width,
@@ -184,23 +209,10 @@ TEST(HessenbergSweep, BadlyScaledNetworksMatchTheCarefulSolve)
 // enough (below).
 TEST(HessenbergSweep, PointsTheFormCannotVouchForGoToTheKernel)
 {
-    const int k = 10;
     {
-        Eigen::MatrixXd g = Eigen::MatrixXd::Zero(k, k), c = Eigen::MatrixXd::Zero(k, k);
-        for (int i = 0; i < k; ++i) {
-            c(i, i) = 1.0 + i;
-            if (i + 1 < k) {
-                g(i, i) += 1.0;
-                g(i + 1, i + 1) += 1.0;
-                g(i, i + 1) -= 1.0;
-                g(i + 1, i) -= 1.0;
-            }
-        }
         // G is a chain of conductances with no path to ground: singular at s = 0 only.
-        Eigen::MatrixXd b = Eigen::MatrixXd::Zero(k, 1), l = Eigen::MatrixXd::Zero(1, k);
-        b(0, 0) = 1.0;
-        l(0, k - 1) = 1.0;
-        const Eigen::MatrixXd d = Eigen::MatrixXd::Zero(1, 1);
+        const FloatingChain chain(10);
+        const auto &[g, c, b, l, d] = chain;
         const detail::PencilView pencil{g, c, b, l, d};
         const detail::HessenbergPencil form(pencil);
         const std::vector<cd> s = {cd(0.0), cd(0.0, 1.0), cd(0.0, 10.0)};
@@ -257,5 +269,98 @@ TEST(HessenbergSweep, PointsTheFormCannotVouchForGoToTheKernel)
             }
         }
         EXPECT_GT(checked, 40) << "points with a reference accurate enough to check";
+    }
+}
+
+// A reducible pencil (the two-port estimate's A circuit holds a copy of the feedback network
+// at each port, one read by the other through the gain block): two RC chains of 12 nodes, the
+// second's last node reading the first's first node (far below the diagonal, so the pencil is
+// not Hessenberg as it stands). An input driving only the second chain leaves the first's
+// unknowns at an exact zero, which the orthogonal transformations of one form for the whole
+// pencil fill with rounding, so that points miss the componentwise backward error (the
+// 50-part RC ladder's A circuit handed every point to the kernel). In block triangular order
+// each chain is a form of its own: every point is vouched for, the zero stays exact, and the
+// rest matches the dense LU of the pencil (common practice) to 1e-12.
+TEST(HessenbergSweep, ReduciblePencilIsReducedBlockByBlock)
+{
+    const int n = 12, k = 2 * n;
+    Eigen::MatrixXd g = Eigen::MatrixXd::Zero(k, k), c = Eigen::MatrixXd::Zero(k, k);
+    for (int chain = 0; chain < 2; ++chain)
+        for (int i = 0; i < n; ++i) {
+            const int at = chain * n + i;
+            c(at, at) = 1e-12 * (1.0 + 0.1 * i);
+            g(at, at) += 1e-4;
+            if (i + 1 < n) {
+                const double gs = 1.0 / (4700.0 + 100.0 * i);
+                g(at, at) += gs;
+                g(at + 1, at + 1) += gs;
+                g(at, at + 1) -= gs;
+                g(at + 1, at) -= gs;
+            }
+        }
+    g(k - 1, 0) = -2e-3; // the second chain reads the first
+    Eigen::MatrixXd b = Eigen::MatrixXd::Zero(k, 2), l = Eigen::MatrixXd::Zero(2, k);
+    b(n, 0) = 1.0; // into the second chain only
+    b(0, 1) = 1.0; // into the first, which the second reads
+    l(0, k - 1) = 1.0;
+    l(1, n - 1) = 1.0;
+    const Eigen::MatrixXd d = Eigen::MatrixXd::Zero(2, 2);
+    const detail::PencilView pencil{g, c, b, l, d};
+    const detail::HessenbergPencil form(pencil);
+    EXPECT_EQ(form.blocks(), 2);
+    const std::vector<cd> s = logPoints(1.0, 1e9, 73);
+    const TransferEntry entries[] = {{0, 0}, {1, 0}, {0, 1}, {1, 1}};
+    for (SweepWidth width : kWidths) {
+        if (!detail::sweepWidthAvailable(width))
+            continue;
+        std::vector<cd> got(4 * s.size());
+        EXPECT_EQ(form.sweep(pencil, s, entries, got.data(), width), 0)
+            << "width " << static_cast<int>(width);
+        for (std::size_t i = 0; i < s.size(); ++i) {
+            const Eigen::MatrixXcd a = g.cast<cd>() + s[i] * c.cast<cd>();
+            const Eigen::MatrixXcd want = l.cast<cd>() * a.partialPivLu().solve(b.cast<cd>());
+            for (int e = 0; e < 4; ++e) {
+                const cd w = want(entries[e].output, entries[e].input);
+                const cd v = got[static_cast<std::size_t>(e) * s.size() + i];
+                if (entries[e].output == 1 && entries[e].input == 0)
+                    EXPECT_EQ(v, cd(0.0)) << "an exact zero, point " << i; // not reached
+                else
+                    EXPECT_LT(relErr(v, w), 1e-12) << "entry " << e << ", point " << i;
+            }
+        }
+    }
+}
+
+// The per-point error estimate through the form (the adjoint solved through it, as the kernel
+// solves it with its own factors: pencilsweep.h) on a pencil that is regular at every s != 0
+// but whose G is singular (a chain of conductances with no path to ground, capacitors to
+// ground): at s = 1e-10 j rad/s the pencil is conditioned to about 1e11, and both estimates
+// flag the point; at 1 and 10 rad/s neither does, and the values match the dense LU (common
+// practice) to 1e-12.
+TEST(HessenbergSweep, ErrorEstimateFlagsWhatTheKernelFlags)
+{
+    const FloatingChain chain(12);
+    const auto &[g, c, b, l, d] = chain;
+    const detail::PencilView pencil{g, c, b, l, d};
+    const detail::HessenbergPencil form(pencil);
+    const std::vector<cd> s = {cd(0.0, 1e-10), cd(0.0, 1.0), cd(0.0, 10.0)};
+    const TransferEntry entry[] = {{0, 0}};
+    for (SweepWidth width : kWidths) {
+        if (!detail::sweepWidthAvailable(width))
+            continue;
+        std::vector<cd> got(s.size()), kernel(s.size());
+        std::vector<std::uint8_t> flagged(s.size(), 7), kernelFlagged(s.size(), 7);
+        // Every point through the form itself: its own estimate, not the kernel's.
+        EXPECT_EQ(form.sweep(pencil, s, entry, got.data(), width, flagged), 0);
+        detail::sweepPencil(pencil, s, entry, kernel.data(), width, kernelFlagged);
+        for (std::size_t i = 0; i < s.size(); ++i)
+            EXPECT_EQ(flagged[i], kernelFlagged[i]) << "point " << i;
+        EXPECT_EQ(flagged[0], 1);
+        for (std::size_t i = 1; i < s.size(); ++i) {
+            EXPECT_EQ(flagged[i], 0) << "point " << i;
+            const Eigen::MatrixXcd a = g.cast<cd>() + s[i] * c.cast<cd>();
+            const cd want = (l.cast<cd>() * a.fullPivLu().solve(b.cast<cd>()))(0, 0);
+            EXPECT_LT(relErr(got[i], want), 1e-12) << "point " << i;
+        }
     }
 }

@@ -299,8 +299,8 @@ private:
     /// The pencil in Hessenberg-triangular form, for orders where it pays
     /// (core/src/circuit/hessenbergpencil.h); null where the vector kernel does the sweeps.
     std::shared_ptr<const detail::HessenbergPencil> m_hessenberg;
-    /// The reduced path's sweep: through m_hessenberg where there is one and no error
-    /// estimate is asked for (`doubtful`, see detail::sweepPencil()), else the kernel.
+    /// The reduced path's sweep: through m_hessenberg where there is one, else the kernel;
+    /// either estimates each point's error where `doubtful` is given (detail::sweepPencil()).
     void sweepReduced(std::span<const std::complex<double>> s,
                       std::span<const TransferEntry> entries, std::complex<double> *out,
                       SweepWidth width = SweepWidth::Automatic,
