@@ -13,8 +13,8 @@
 //   march refined to the total's tolerance), load 3.7: demo 2.92 ms (dense LU 25.1 ms), chain
 //   96.4 ms (its time is the model build, untouched), ladder 54.0 ms (dense LU 502 ms); at
 //   load 8.0: 2.66 / 97.8 / 62.1 ms.
-// The chain's dense LU takes about 11 s of CPU per analysis (one run, load 3-9). The targets
-// (demo 0.22 ms, chain 10 ms, ladder 5 ms) are missed: the ladder's sweeps through the form
+// The chain's dense LU takes 11.3 s of CPU per analysis (median of 3, before, load 3-9). The
+// targets (demo 0.22 ms, chain 10 ms, ladder 5 ms) are missed: the ladder's sweeps through the form
 // (two-port A circuit of order 51 in 5 blocks, exact systems of order 27-28, each point
 // refined once and its error estimated) and its natural frequencies dominate what remains.
 
