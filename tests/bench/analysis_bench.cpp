@@ -5,15 +5,16 @@
 // The ratio of the two medians is the speed-up the design asks for (>= 20x).
 //
 // Measured on the shared 2-core machine, 3 December 2026, CPU time per analysis (median of 5,
-// the CPU column), load average 8-12 throughout (CPU time itself rises with the load):
-//   before (the lead's build of main: 19387b8 plus uncommitted accuracy work), load 8.4:
-//     demo 3.12 ms (dense LU 26.1 ms), 200-part chain 85.8 ms, 50-part ladder 69.4 ms (dense
-//     LU 573 ms); at load 10-12 an hour earlier: chain 78-99 ms, ladder 74-78 ms.
+// the CPU column; CPU time itself rises with the load), before and after back to back:
+//   before (the lead's build of main: 19387b8 plus uncommitted accuracy work), load 3.8:
+//     demo 3.04 ms (dense LU 25.6 ms), 200-part chain 99.2 ms, 50-part ladder 77.8 ms (dense
+//     LU 540 ms); at load 8.4: 3.12 / 85.8 / 69.4 ms.
 //   after (the Hessenberg form block by block with its own error estimate, and the noise
-//   march refined to the total's tolerance), load 8.0: demo 2.66 ms (dense LU 24.2 ms),
-//   chain 97.8 ms (unchanged: its time is the model build), ladder 62.1 ms (dense LU 509 ms).
-// The chain's dense LU takes about 11 s of CPU per analysis (one run, load 3-9). The targets
-// (demo 0.22 ms, chain 10 ms, ladder 5 ms) are missed: the ladder's sweeps through the form
+//   march refined to the total's tolerance), load 3.7: demo 2.92 ms (dense LU 25.1 ms), chain
+//   96.4 ms (its time is the model build, untouched), ladder 54.0 ms (dense LU 502 ms); at
+//   load 8.0: 2.66 / 97.8 / 62.1 ms.
+// The chain's dense LU takes 11.3 s of CPU per analysis (median of 3, before, load 3-9). The
+// targets (demo 0.22 ms, chain 10 ms, ladder 5 ms) are missed: the ladder's sweeps through the form
 // (two-port A circuit of order 51 in 5 blocks, exact systems of order 27-28, each point
 // refined once and its error estimated) and its natural frequencies dominate what remains.
 
