@@ -131,20 +131,30 @@ namespace {
 /// margin it belongs to was read with (the crossover's, or -180 deg at a phase crossing).
 std::vector<LoopGainSample> loopGainNearCrossings(const LoopModel &model, const Margins &m)
 {
-    std::vector<LoopGainSample> samples;
-    const auto sample = [&](double hz, double referenceRad) {
-        const std::complex<double> t = model.loopGainAt(jw(hz));
-        const double magnitude = std::abs(t);
-        if (std::isfinite(magnitude))
-            samples.push_back({hz, magnitude, detail::degrees(phaseNear(t, referenceRad))});
-    };
+    // The frequencies with the phase each is unwrapped next to.
+    std::vector<std::pair<double, double>> at;
     if (m.crossoverHz && m.phaseMarginDeg) {
         const double atCrossover = (*m.phaseMarginDeg - 180.0) * kPi / 180.0;
         for (double factor : {0.25, 0.5, 1.0, 2.0, 4.0})
-            sample(*m.crossoverHz * factor, atCrossover);
+            at.push_back({*m.crossoverHz * factor, atCrossover});
     }
     for (const GainMargin &g : m.gainMargins)
-        sample(g.frequencyHz, -kPi);
+        at.push_back({g.frequencyHz, -kPi});
+    if (at.empty())
+        return {};
+    // Shown as they are: solved as a sweep, so that a point even the careful solve cannot
+    // assure warns like a sweep point (fuzz seed 102), which single evaluations do not.
+    std::vector<std::complex<double>> s;
+    for (const auto &[hz, reference] : at)
+        s.push_back(jw(hz));
+    const std::vector<std::complex<double>> t = model.loopGainOver(s);
+    std::vector<LoopGainSample> samples;
+    for (std::size_t i = 0; i < at.size(); ++i) {
+        const double magnitude = std::abs(t[i]);
+        if (std::isfinite(magnitude))
+            samples.push_back(
+                {at[i].first, magnitude, detail::degrees(phaseNear(t[i], at[i].second))});
+    }
     std::sort(samples.begin(), samples.end(),
               [](const auto &a, const auto &b) { return a.frequencyHz < b.frequencyHz; });
     return samples;

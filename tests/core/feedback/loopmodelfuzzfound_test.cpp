@@ -299,14 +299,16 @@ TEST(FeedbackFuzzFound, DoubtfulPointBeyondTheCarefulSolveWarns)
     EXPECT_TRUE(warns("the gain"));
 }
 
-// Fuzz seeds 86 and 138: a loop gain far below one (1e-26 at 26.6 MHz; below 3e-21 at every
-// point) that the 50-digit nodal reference (tests/fuzz/mpmath_reference.py, run by hand) finds
-// off by 0.55 and by 1.03e-6 of its value, with no warning before. Rounding this deep cannot be
-// assured to 1e-8, so the loop gain must carry an accuracy warning naming a part.
+// Fuzz seeds 86, 138 and 102: a loop gain far below one (1e-26 at 26.6 MHz; below 3e-21 at every
+// point; 2.7e-25 at 27.2 MHz, a value of margins.loop_gain_near_crossover) that the 50-digit
+// nodal reference (tests/fuzz/mpmath_reference.py, run by hand) finds off by 0.55, 1.03e-6 and
+// 4.8e-7 of its value, with no warning before. Rounding this deep cannot be assured to 1e-8, so
+// the loop gain must carry an accuracy warning naming a part.
 TEST(FeedbackFuzzFound, TinyLoopGainOffByRoundingWarns)
 {
     for (const char *file :
-         {"tiny-loop-gain-off-warned-seed-86", "loop-gain-off-1e-6-warned-seed-138"}) {
+         {"tiny-loop-gain-off-warned-seed-86", "loop-gain-off-1e-6-warned-seed-138",
+          "tiny-loop-gain-off-near-crossover-seed-102"}) {
         SCOPED_TRACE(file);
         const Design d = loadOrFail(std::string(LOOPSKETCH_TEST_DATA_DIR) + "/fuzz-found/" + file
                                     + ".loopsketch");
