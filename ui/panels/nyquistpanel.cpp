@@ -128,11 +128,11 @@ void NyquistPanel::showAnalysis(const Analysis &a)
     for (; used < m_labels.size(); ++used)
         m_labels[used]->replace(QList<QPointF>{});
 
-    // Margins from core: at the crossover |T| = 1 and the phase is PM - 180°; at the phase
+    // Margins from core: at the crossover |T| = 1 at the crossover's phase; at the phase
     // crossing T is real and negative, -10^(-GM/20).
     QList<QPointF> pm, gm;
-    if (a.margins.phaseMarginDeg)
-        pm.append(plotted(std::polar(1.0, (*a.margins.phaseMarginDeg - 180.0) * kPi / 180.0)));
+    if (a.margins.crossoverPhaseDeg)
+        pm.append(plotted(std::polar(1.0, *a.margins.crossoverPhaseDeg * kPi / 180.0)));
     if (a.margins.gainMarginDb)
         gm.append(
             plotted(std::complex<double>(-std::pow(10.0, -*a.margins.gainMarginDb / 20.0), 0)));

@@ -105,8 +105,8 @@ void LoopGainPanel::showAnalysis(const Analysis &a)
     if (a.margins.crossoverHz && *a.margins.crossoverHz > 0) {
         const double x = std::log10(*a.margins.crossoverHz);
         crossover.append(QPointF(x, 0.0));
-        if (a.margins.phaseMarginDeg)
-            phaseMargin.append(QPointF(x, *a.margins.phaseMarginDeg - 180.0));
+        if (a.margins.crossoverPhaseDeg)
+            phaseMargin.append(QPointF(x, *a.margins.crossoverPhaseDeg));
     }
     if (a.margins.phaseCrossoverHz && *a.margins.phaseCrossoverHz > 0 && a.margins.gainMarginDb)
         gainMargin.append(

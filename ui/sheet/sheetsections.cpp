@@ -329,8 +329,9 @@ void loopGainSection(SheetWriter &w, const Analysis &a)
              {QStringLiteral("phase of T"), 40, Qt::AlignRight}},
             rows);
     QString how = QStringLiteral("T evaluated on the circuit model at ¼, ½, 1, 2 and 4 times the "
-                                 "crossover and at each phase crossing. Phase margin = 180° + "
-                                 "phase of T where |T| = 1");
+                                 "crossover and at each phase crossing (the phase unwrapped from "
+                                 "DC). Phase margin = 180° − |phase of T| where |T| = 1, the "
+                                 "angle left to −180° (or to +180° where T leads)");
     if (m.phaseMarginDeg && m.crossoverHz)
         how += QStringLiteral(" (%1 at %2)")
                    .arg(degrees(m.phaseMarginDeg), eng(m.crossoverHz, "Hz", 4));

@@ -133,8 +133,8 @@ std::vector<LoopGainSample> loopGainNearCrossings(const LoopModel &model, const 
 {
     // The frequencies with the phase each is unwrapped next to.
     std::vector<std::pair<double, double>> at;
-    if (m.crossoverHz && m.phaseMarginDeg) {
-        const double atCrossover = (*m.phaseMarginDeg - 180.0) * kPi / 180.0;
+    if (m.crossoverHz && m.crossoverPhaseDeg) {
+        const double atCrossover = *m.crossoverPhaseDeg * kPi / 180.0;
         for (double factor : {0.25, 0.5, 1.0, 2.0, 4.0})
             at.push_back({*m.crossoverHz * factor, atCrossover});
     }
@@ -190,9 +190,10 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
             continue;
         const double fc = logRoot(logMag, f[i], f[i + 1]);
         const double ph = phaseNear(model.loopGainAt(jw(fc)), phase[i]);
-        const double pm = 180.0 + detail::degrees(ph);
+        const double pm = detail::phaseMarginDeg(detail::degrees(ph));
         if (!m.phaseMarginDeg || pm < *m.phaseMarginDeg) {
             m.phaseMarginDeg = pm;
+            m.crossoverPhaseDeg = detail::degrees(ph);
             m.crossoverHz = fc;
         }
     }

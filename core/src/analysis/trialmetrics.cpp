@@ -185,7 +185,7 @@ Result<TrialMetrics> trialOn(const Design &design, const std::vector<double> &f,
             continue;
         const double fc = logRoot([&](double hz) { return std::log(std::abs(loopAt(hz))); }, f[i],
                                   f[i + 1], a, b);
-        const double pm = 180.0 + detail::degrees(phaseNear(loopAt(fc), phase[i]));
+        const double pm = detail::phaseMarginDeg(detail::degrees(phaseNear(loopAt(fc), phase[i])));
         if (std::isfinite(pm) && (!m.phaseMarginDeg || pm < *m.phaseMarginDeg))
             m.phaseMarginDeg = pm;
     }

@@ -29,4 +29,14 @@ inline double phaseNear(std::complex<double> v, double reference)
     return p + turn * std::round((reference - p) / turn);
 }
 
+/// The phase margin (degrees) of a crossing of |T| = 1 at unwrapped phase `phaseDeg`
+/// (degrees, unwrapped from DC, where a negative-feedback loop starts at 0): the angle left
+/// to the nearer of -180 (a lagging loop, 180 + phase as usual) and +180 (a loop that leads
+/// at its crossing, as an AC-coupled loop's low crossover with zeros below it: 180 - phase,
+/// not 180 + phase beyond 180); negative once the phase has passed it.
+inline double phaseMarginDeg(double phaseDeg)
+{
+    return 180.0 - std::abs(phaseDeg);
+}
+
 } // namespace loopsketch::detail

@@ -645,3 +645,31 @@ TEST_P(TiaPhaseMargin, MatchesTheClosedFormOfTheTwoPoleLoop)
 
 INSTANTIATE_TEST_SUITE_P(CfFrom0p1To4p7, TiaPhaseMargin,
                          ::testing::Values(0.1e-12, 0.47e-12, 1e-12, 2.2e-12, 4.7e-12));
+
+// A loop that leads at its crossover: a follower (beta = 1, no loading) around a gain block
+// of 0.01 with a zero at 1 Hz and a pole at 1 MHz, so T(jf) = 0.01 (1 + jf/1)/(1 + jf/1e6)
+// rises through |T| = 1 near 100 Hz with the phase near +89.4 degrees. |T| = 1 solves
+// 1e-4 (1 + f^2) = 1 + f^2/1e12 (by hand). The margin is the angle left to the -1 point,
+// reached here by leading to +180: 180 - phase (the margin as the distance of T from -1 on
+// the unit circle; common practice). 180 + phase read 269.4 degrees (unstable fuzz designs
+// with zeros showed 241 and 269.7).
+TEST(PhaseMargin, LoopLeadingAtItsCrossoverHasTheAngleLeftToPlus180)
+{
+    const Design d = parseOrFail(R"({"schema": "loopsketch.design/1", "parts": [
+  {"id": "SIG", "type": "vsource", "pos": "in", "neg": "0"},
+  {"id": "U1", "type": "gain_block", "in_p": "in", "in_n": "out", "out": "out", "gain": "0.01",
+   "zeros_hz": ["1"], "poles_hz": ["1e6"]},
+  {"id": "RL", "type": "load", "a": "out", "b": "0", "r": "10k"}],
+ "input": "SIG", "output": "voltage", "sweep": {"start": "0.01", "stop": "100M"}})");
+    const double fc = std::sqrt((1.0 - 1e-4) / (1e-4 - 1e-12));
+    const double phase = (std::atan(fc) - std::atan(fc / 1e6)) * 180.0 / kPi;
+    const Analysis a = analyzeOrFail(d);
+    ASSERT_TRUE(a.margins.phaseMarginDeg && a.margins.crossoverHz && a.margins.crossoverPhaseDeg);
+    EXPECT_LT(relErr(*a.margins.crossoverHz, fc), 1e-9);
+    EXPECT_NEAR(*a.margins.crossoverPhaseDeg, phase, 1e-6);
+    EXPECT_NEAR(*a.margins.phaseMarginDeg, 180.0 - phase, 1e-6);
+    // The lean trial of suggest and the spread reads it alike.
+    const auto t = evaluateTrial(d, coarseGrid(d.sweep, 20));
+    ASSERT_TRUE(t.ok() && t->phaseMarginDeg) << t.errorText();
+    EXPECT_NEAR(*t->phaseMarginDeg, 180.0 - phase, 1e-6);
+}

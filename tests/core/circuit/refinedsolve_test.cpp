@@ -30,7 +30,8 @@ Netlist invertingAmplifier(double r1, double rf, double gain, std::vector<double
     n.addVoltageSource("V1", "in", "0", n.addInput());
     n.addResistor("R1", "in", "n", r1);
     n.addResistor("RF", "n", "out", rf);
-    n.controlled.push_back(gainBlockElement("0", "n", "out", gain, std::move(polesHz), std::move(zerosHz)));
+    n.controlled.push_back(
+        gainBlockElement("0", "n", "out", gain, std::move(polesHz), std::move(zerosHz)));
     n.addOutput({NetlistOutput::Kind::VoltageBetween, "out", "0"});
     return n;
 }

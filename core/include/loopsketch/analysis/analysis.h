@@ -52,13 +52,16 @@ struct LoopGainSample
 {
     double frequencyHz = 0;
     double magnitude = 0; ///< |T|, a pure ratio
-    double phaseDeg = 0; ///< unwrapped as the phase margin reads it: 180 + phaseDeg at |T| = 1
+    double phaseDeg = 0; ///< unwrapped as the phase margin reads it: 180 - |phaseDeg| at |T| = 1
 };
 
 struct Margins
 {
     OptionalNumber crossoverHz; ///< |T| = 1 (the one with the worst phase margin)
-    OptionalNumber phaseMarginDeg; ///< 180 + unwrapped phase of T at crossover, worst
+    /// 180 - |unwrapped phase of T| at the crossover (the angle to the nearer of -180 and
+    /// +180), the worst of all crossovers
+    OptionalNumber phaseMarginDeg;
+    OptionalNumber crossoverPhaseDeg; ///< the unwrapped phase of T at crossoverHz
     OptionalNumber gainMarginDb; ///< of gainMargins, the one nearest 0 dB (least margin)
     OptionalNumber phaseCrossoverHz; ///< its frequency
     std::vector<GainMargin> gainMargins; ///< every phase crossing, ascending in frequency
@@ -73,7 +76,7 @@ struct Margins
     bool steepClosure = false;
     /// T on the model at 1/4, 1/2, 1, 2 and 4 times the crossover, then at each phase
     /// crossing, ascending in frequency: the table from which a reviewer recomputes the
-    /// phase margin (180 + phase at |T| = 1) and the gain margins (-20 log10 |T| at -180).
+    /// phase margin (180 - |phase| at |T| = 1) and the gain margins (-20 log10 |T| at -180).
     std::vector<LoopGainSample> nearCrossover;
 };
 
