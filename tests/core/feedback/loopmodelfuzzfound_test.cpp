@@ -328,8 +328,9 @@ TEST(FeedbackFuzzFound, TinyLoopGainOffByRoundingWarns)
 // value off by more than 1e-8 once those points are solved.
 TEST(FeedbackFuzzFound, ExtremeGainAtGigahertzIsSolvedNotCalledSingular)
 {
-    const Design d = loadOrFail(std::string(LOOPSKETCH_TEST_DATA_DIR)
-                                + "/fuzz-found/loop-gain-nan-at-8-points-seed-9426.loopsketch");
+    const Design d
+        = loadOrFail(std::string(LOOPSKETCH_TEST_DATA_DIR)
+                     + "/fuzz-found/open/loop-gain-nan-at-8-points-seed-9426.loopsketch");
     const Analysis a = analyzeOrFail(d);
     const auto finiteEverywhere = [](const Curve &c) {
         return std::all_of(c.begin(), c.end(), [](std::complex<double> v) {
