@@ -189,11 +189,11 @@ Margins computeMargins(const LoopModel &model, const std::vector<double> &f, con
         if (!usable(a) || !usable(b) || (a < 1.0) == (b < 1.0))
             continue;
         const double fc = logRoot(logMag, f[i], f[i + 1]);
-        const double ph = phaseNear(model.loopGainAt(jw(fc)), phase[i]);
-        const double pm = detail::phaseMarginDeg(detail::degrees(ph));
+        const double ph = detail::degrees(phaseNear(model.loopGainAt(jw(fc)), phase[i]));
+        const double pm = detail::phaseMarginDeg(ph);
         if (!m.phaseMarginDeg || pm < *m.phaseMarginDeg) {
             m.phaseMarginDeg = pm;
-            m.crossoverPhaseDeg = detail::degrees(ph);
+            m.crossoverPhaseDeg = ph;
             m.crossoverHz = fc;
         }
     }

@@ -36,6 +36,13 @@ Netlist invertingAmplifier(double r1, double rf, double gain, std::vector<double
     return n;
 }
 
+/// Its closed-loop gain with open-loop gain `a`, -(RF/R1) / (1 + (1 + RF/R1) / a) (the
+/// standard op-amp relation; any analog-design textbook, from memory).
+std::complex<double> invertingGain(double r1, double rf, std::complex<double> a)
+{
+    return -(rf / r1) / (1.0 + (1.0 + rf / r1) / a);
+}
+
 } // namespace
 
 // Source: the inverting amplifier's closed-loop gain with a finite open-loop gain A,
@@ -55,7 +62,7 @@ TEST(RefinedSolve, ExtremeGainIsRegularAndSolvedToTheClosedForm)
             Eigen::VectorXcd r;
             const Eigen::VectorXcd x = solver.solve(0, &r);
             const std::complex<double> got = solver.output(0, x);
-            const double want = -(rf / r1) / (1.0 + (1.0 + rf / r1) / gain);
+            const std::complex<double> want = invertingGain(r1, rf, gain);
             EXPECT_NEAR(std::abs(got - want) / std::abs(want), 0.0, 1e-12)
                 << "gain " << gain << ", " << hz << " Hz";
             EXPECT_LE(solver.errorBound(0, 0, x, r), 1e-12 * std::abs(want))
@@ -101,7 +108,7 @@ TEST(RefinedSolve, GainBlockRisingThroughZerosIsRegularAtEveryFrequency)
         Eigen::VectorXcd r;
         const Eigen::VectorXcd x = solver.solve(0, &r);
         const std::complex<double> got = solver.output(0, x);
-        const std::complex<double> want = -(rf / r1) / (1.0 + (1.0 + rf / r1) / a);
+        const std::complex<double> want = invertingGain(r1, rf, a);
         const double bound = solver.errorBound(0, 0, x, r);
         EXPECT_LE(std::abs(got - want), std::max(4.0 * bound, 1e-12 * std::abs(want)))
             << hz << " Hz, |A| " << std::abs(a) << ", bound " << bound / std::abs(want);
